@@ -1,0 +1,48 @@
+"""The ``render`` command group.
+
+One module per subcommand; each is imported only when its command runs, so
+``render --help`` and ``render check`` start fast (no plotting or audio
+libraries at start-up).
+"""
+
+from __future__ import annotations
+
+import importlib
+
+import click
+
+from .. import __version__
+
+# command name -> (module, attribute, one-line help)
+COMMANDS = {
+    "check": ("render.cli.check", "check_command", "Validate design files and print their derived values."),
+    "response": ("render.cli.response", "response_command", "Small-signal response from string velocity to the amp input."),
+    "dry": ("render.cli.dry", "dry_command", "Preview a phrase's string velocity as a WAV."),
+}
+
+
+class LazyGroup(click.Group):
+    """A click group whose subcommands are imported on first use."""
+
+    def list_commands(self, ctx):
+        return sorted(COMMANDS)
+
+    def get_command(self, ctx, name):
+        if name not in COMMANDS:
+            return None
+        module, attr, _ = COMMANDS[name]
+        return getattr(importlib.import_module(module), attr)
+
+    def format_commands(self, ctx, formatter):
+        rows = [(name, COMMANDS[name][2]) for name in self.list_commands(ctx)]
+        with formatter.section("Commands"):
+            formatter.write_dl(rows)
+
+
+@click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="render")
+def main():
+    """Hear and measure an active humbucker voicing before it is built.
+
+    Start quiet: renders can be loud. See README.md for the safety notes.
+    """

@@ -1,0 +1,1 @@
+"""The edges: files, plots and summaries. Nothing here computes physics."""

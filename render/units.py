@@ -1,0 +1,216 @@
+"""Quantities: SI prefixes, unit symbols and IEC 60062 RKM codes.
+
+The one module that knows units. Every physical value in a TOML file is a
+number in SI base units, or a string such as ``"22k"``, ``"22kΩ"``,
+``"100nF"``, ``"30mm"`` or an RKM code such as ``"4k7"`` (4.7 kΩ),
+``"2n2"`` (2.2 nF), ``"R47"`` (0.47 Ω), ``"1M0"`` (1 MΩ).
+
+Rules (interface contract §1):
+
+- A unit symbol at the end is matched first, then the prefix, so that for a
+  length ``"6m"`` is six metres and ``"30mm"`` thirty millimetres.
+- ``M`` is always mega and ``m`` always milli; ``K`` is read as ``k``;
+  ``u`` and ``µ`` are both micro.
+- For areas the prefix applies to the metre before squaring (``"5cm2"`` is
+  5e-4 m²).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+
+# SI prefixes (SI Brochure, 9th ed., Table 7). "K" is accepted for kilo and
+# "u" for micro as the trade writes them (common practice, no source).
+# Exponents of ten, so that "2n2" becomes float("2.2e-9"), the nearest double.
+PREFIXES: dict[str, int] = {
+    "f": -15,
+    "p": -12,
+    "n": -9,
+    "u": -6,
+    "µ": -6,
+    "μ": -6,  # Greek mu, which some keyboards give instead of the micro sign
+    "m": -3,
+    "k": 3,
+    "K": 3,
+    "M": 6,
+    "G": 9,
+}
+
+# In an RKM code (IEC 60062) the letter marks the decimal point; R and E
+# stand for the unit itself (multiplier 1).
+RKM_LETTERS: dict[str, int] = {**PREFIXES, "R": 0, "E": 0}
+
+
+@dataclass(frozen=True)
+class Kind:
+    """A physical kind: its name, SI unit and the symbols accepted for it."""
+
+    name: str
+    unit: str  # the SI unit as printed
+    symbols: tuple[str, ...]  # accepted at the end of a string, longest first
+    power: int = 1  # prefix exponent: 2 for areas (cm² = (1e-2 m)²)
+    rkm: bool = False  # whether RKM codes are accepted
+
+
+RESISTANCE = Kind("resistance", "Ω", ("ohms", "ohm", "Ω", "R"), rkm=True)
+CAPACITANCE = Kind("capacitance", "F", ("F",), rkm=True)
+CAP_PER_LENGTH = Kind("capacitance per metre", "F/m", ("F/m", "F"), rkm=True)
+INDUCTANCE = Kind("inductance", "H", ("H",), rkm=True)
+VOLTAGE = Kind("voltage", "V", ("V",))
+FREQUENCY = Kind("frequency", "Hz", ("Hz",))
+LENGTH = Kind("length", "m", ("m",))
+AREA = Kind("area", "m²", ("m²", "m2", "m^2"), power=2)
+FLUX_DENSITY = Kind("flux density", "T", ("T",))
+TIME = Kind("time", "s", ("s",))
+SENSITIVITY = Kind("sensitivity", "V·s/m", ("V·s/m", "Vs/m", "V*s/m"))
+VOLTAGE_DENSITY = Kind("voltage noise density", "V/√Hz", ("V/√Hz", "V/rtHz", "V/sqrtHz"))
+CURRENT_DENSITY = Kind("current noise density", "A/√Hz", ("A/√Hz", "A/rtHz", "A/sqrtHz"))
+RATIO = Kind("number", "", ())
+
+_NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
+_NUMBER_RE = re.compile(rf"^{_NUMBER}$")
+_RKM_RE = re.compile(r"^(\d*)([A-Za-zµμ])(\d+)$")
+
+
+class QuantityError(ValueError):
+    """A value that is not a quantity of the expected kind (message: the reason)."""
+
+
+def parse_quantity(value: object, kind: Kind) -> float:
+    """Read one value of ``kind`` and return it in SI base units.
+
+    Parameters
+    ----------
+    value : int | float | str
+        A TOML number (already SI) or a string with optional prefix, unit
+        symbol or RKM code.
+    kind : Kind
+        The physical kind the field holds.
+
+    Returns
+    -------
+    float
+        The value in SI units (ohm, farad, henry, ...). Sign and range are
+        not judged here; see :mod:`render.design`.
+
+    Raises
+    ------
+    QuantityError
+        If the value cannot be read as that kind.
+    """
+    if isinstance(value, bool):
+        raise QuantityError(f"expected a {kind.name}, got a true/false value")
+    if isinstance(value, (int, float)):
+        x = float(value)
+        if not math.isfinite(x):
+            raise QuantityError(f"expected a finite {kind.name}")
+        return x
+    if not isinstance(value, str):
+        raise QuantityError(f"expected a {kind.name} as a number or a string like {example(kind)}")
+    text = value.strip().replace(" ", "").replace("\u2009", "")
+    if not text:
+        raise QuantityError(f"expected a {kind.name}, got an empty string")
+    body = text
+    for sym in sorted(kind.symbols, key=len, reverse=True):
+        if body.endswith(sym) and len(body) > len(sym):
+            body = body[: -len(sym)]
+            break
+    else:
+        # A unit symbol of another kind at the end is the wrong unit.
+        other = _foreign_unit(text, kind)
+        if other:
+            raise QuantityError(f"unit '{other}' does not fit a {kind.name} (expected {kind.unit or 'a plain number'})")
+    if _NUMBER_RE.match(body):
+        return _finite(float(body), kind)
+    # number followed by one prefix letter
+    prefixes = {**PREFIXES, "c": -2} if kind.symbols and kind.symbols[0] in ("m", "m²") else PREFIXES
+    if len(body) >= 2 and body[-1] in prefixes and _NUMBER_RE.match(body[:-1]):
+        return _finite(float(f"{body[:-1]}e{prefixes[body[-1]] * kind.power}"), kind)
+    # RKM: the letter stands for the decimal point
+    m = _RKM_RE.match(body)
+    if m and kind.rkm and m.group(2) in RKM_LETTERS and (m.group(1) or m.group(2) in "RE"):
+        whole, letter, frac = m.groups()
+        if letter in "RE" and kind is not RESISTANCE and kind.name != "resistance":
+            raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not a {kind.name}")
+        return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
+    raise QuantityError(f"cannot read {value!r} as a {kind.name}; write it like {example(kind)}")
+
+
+def _finite(x: float, kind: Kind) -> float:
+    if not math.isfinite(x):
+        raise QuantityError(f"expected a finite {kind.name}")
+    return x
+
+
+_ALL_SYMBOLS = ("ohm", "Ω", "F", "H", "V", "Hz", "T", "s", "A")
+
+
+def _foreign_unit(text: str, kind: Kind) -> str | None:
+    """Name a unit symbol at the end of ``text`` that belongs to another kind."""
+    for sym in sorted(_ALL_SYMBOLS, key=len, reverse=True):
+        if sym in kind.symbols:
+            continue
+        if text.endswith(sym) and len(text) > len(sym):
+            head = text[: -len(sym)]
+            if _NUMBER_RE.match(head) or (head[-1:] in PREFIXES and _NUMBER_RE.match(head[:-1])):
+                return sym
+    return None
+
+
+def example(kind: Kind) -> str:
+    """A short example string for error messages."""
+    return {
+        "resistance": '"22k", "4k7" or "470R"',
+        "capacitance": '"100nF", "2n2" or "470p"',
+        "capacitance per metre": '"100p" (per metre)',
+        "inductance": '"2.5H" or "180mH"',
+        "voltage": '"9V" or 9',
+        "frequency": '"60Hz" or "1MHz"',
+        "length": '"30mm" or "6m"',
+        "area": '"2.5m2" or 2.5',
+        "flux density": '"1uT"',
+        "time": '"0.2s" or "20ms"',
+    }.get(kind.name, "a number")
+
+
+# Engineering formatting (the other direction) -------------------------------
+
+_FORMAT_PREFIXES = [(1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p"), (1e-15, "f")]
+
+
+def format_si(x: float, unit: str = "", digits: int = 3) -> str:
+    """Format ``x`` with an SI prefix: ``format_si(4700, "Ω") == "4.7 kΩ"``."""
+    if x == 0 or not math.isfinite(x):
+        return f"{x:g} {unit}".strip()
+    ax = abs(x)
+    for scale, p in _FORMAT_PREFIXES:
+        if ax >= scale * 0.9995:
+            break
+    text = f"{x / scale:.{digits}g}"
+    return f"{text} {p}{unit}".strip()
+
+
+def format_rkm(x: float, unit_letter: str = "R", digits: int = 3) -> str:
+    """Write ``x`` as an IEC 60062 RKM code: ``4700 -> "4k7"``, ``0.47 -> "R47"``.
+
+    ``unit_letter`` is the letter used where no prefix applies ("R" for
+    resistors; capacitors use prefixes, so pass ``""`` to have "1n0" style
+    codes fall back to the prefix letter).
+    """
+    if x <= 0 or not math.isfinite(x):
+        raise ValueError(f"x={x!r}: an RKM code needs a positive finite value")
+    letters = [(1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, unit_letter or ""), (1e-3, "m"), (1e-6, "u"), (1e-9, "n"), (1e-12, "p"), (1e-15, "f")]
+    for scale, letter in letters:
+        if not letter:
+            continue
+        if x >= scale * 0.9995 or (scale == 1.0 and x >= 0.0995):
+            break  # R47 rather than 470m: the trade writes sub-ohm values with R
+    text = f"{x / scale:.{digits}g}"
+    if "e" in text:  # rounding carried past the prefix (e.g. 999.9 -> 1e+03)
+        text = f"{float(text):.0f}"
+    if "." in text:
+        whole, frac = text.split(".")
+        return f"{'' if whole == '0' else whole}{letter}{frac}"
+    return f"{text}{letter}0" if len(text) == 1 else f"{text}{letter}"
