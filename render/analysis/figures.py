@@ -1,0 +1,201 @@
+"""The figures a designer reads, one definition everywhere.
+
+``check``, ``response``, the clips' JSON and ``fit`` all take their numbers
+from :func:`figures`, computed from the small-signal response H(f) from
+string velocity (the same at both sensing points) to the amp input:
+
+- ``level_1k_db``: 20·log10|H(1 kHz)|, dB re 1 V per m/s.
+- ``peak_hz``, ``peak_db``: frequency and level (dB re ``level_1k_db``) of
+  the largest |H| between 1 kHz and 20 kHz; 1000 and 0 when that is 1 kHz.
+  ``resonance_hz`` and ``resonance_db`` are the same two figures.
+- ``q``: ``peak_hz`` over the width between the −3 dB points (re the peak)
+  around the peak; None when ``peak_db`` < 3 dB.
+- ``bass_corner_hz``: the highest frequency below 1 kHz where |H| is 3 dB
+  under ``level_1k_db``; ``treble_corner_hz``: the lowest above ``peak_hz``
+  where it is, None beyond 20 kHz.
+- ``gain_vs_passive_db``: ``level_1k_db`` minus the passive reference's.
+- ``hum_rejection_db``: 20·log10(max(|V_A|, |V_B|)/|V_A + V_B|) at the
+  mains fundamental, V_A and V_B the hum at the amp input from each coil's
+  hum EMF alone.
+- ``headroom_v``: the smaller of ``headroom_up_v`` and ``headroom_down_v``.
+- ``cable_loss_db``: |H(5 kHz)| without the cable minus with it, in dB.
+
+Everything is vectorised over the N designs of one
+:class:`~render.circuit.engine.Responses`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+F_LO, F_HI = 5.0, 40000.0
+GRID_POINTS = 1600
+REJECTION_CAP_DB = 200.0  # reported for a numerically exact balance (the sum is zero to rounding)  # log-spaced; 0.4 % steps, then refined by interpolation
+
+
+def grid(points: int = GRID_POINTS) -> np.ndarray:
+    return np.geomspace(F_LO, F_HI, points)
+
+
+def db(h) -> np.ndarray:
+    return 20.0 * np.log10(np.maximum(np.abs(h), 1e-300))
+
+
+def _crossing(f: np.ndarray, y: np.ndarray, i: np.ndarray, j: np.ndarray, level: np.ndarray) -> np.ndarray:
+    """Frequency where y crosses ``level`` between grid indices i and j (log-f interpolation)."""
+    rows = np.arange(y.shape[0])
+    y0, y1 = y[rows, i], y[rows, j]
+    t = np.where(y1 != y0, (level - y0) / (y1 - y0), 0.0)
+    lf = np.log(f[i]) + t * (np.log(f[j]) - np.log(f[i]))
+    return np.exp(lf)
+
+
+def _first_below(mask: np.ndarray) -> np.ndarray:
+    """Index of the first True along axis 1, or -1."""
+    idx = np.argmax(mask, axis=1)
+    return np.where(mask.any(axis=1), idx, -1)
+
+
+def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, np.ndarray]:
+    """Peak, Q and corners from sampled levels ``h_db`` (N, F) on grid ``f`` (F,)."""
+    n = h_db.shape[0]
+    rows = np.arange(n)
+    i1k = int(np.argmin(np.abs(np.log(f / 1000.0))))
+    lvl = np.array([np.interp(0.0, np.log(f[i1k - 1 : i1k + 2] / 1000.0), r[i1k - 1 : i1k + 2]) for r in h_db])
+    band = (f >= 1000.0) & (f <= 20000.0)
+    ib = np.flatnonzero(band)
+    k = ib[np.argmax(h_db[:, ib], axis=1)]
+    # parabolic refinement in log f
+    km = np.clip(k, 1, len(f) - 2)
+    ya, yb, yc = h_db[rows, km - 1], h_db[rows, km], h_db[rows, km + 1]
+    denom = ya - 2 * yb + yc
+    off = np.where(np.abs(denom) > 1e-12, 0.5 * (ya - yc) / denom, 0.0)
+    off = np.clip(off, -0.5, 0.5)
+    step = np.log(f[1] / f[0])
+    interior = (k > ib[0]) & (k < ib[-1])
+    peak_hz = np.where(interior, f[km] * np.exp(off * step), f[k])
+    peak_lvl = np.where(interior, yb - 0.25 * (ya - yc) * off, h_db[rows, k])
+    at_1k = k == ib[0]
+    peak_hz = np.where(at_1k, 1000.0, peak_hz)
+    peak_db = np.where(at_1k, 0.0, peak_lvl - lvl)
+
+    # Q from the -3 dB points around the peak
+    q = np.full(n, np.nan)
+    for r in np.flatnonzero(peak_db >= 3.0):
+        y = h_db[r] - (peak_lvl[r] - 3.0)
+        kk = k[r]
+        left = np.flatnonzero(y[:kk] < 0)
+        right = np.flatnonzero(y[kk:] < 0)
+        if left.size and right.size:
+            il, ir = left[-1], kk + right[0]
+            fl = _crossing(f, y[None], np.array([il]), np.array([il + 1]), np.zeros(1))[0]
+            fr = _crossing(f, y[None], np.array([ir - 1]), np.array([ir]), np.zeros(1))[0]
+            q[r] = peak_hz[r] / (fr - fl)
+
+    # bass corner: highest f below 1 kHz with |H| 3 dB under level_1k
+    below = h_db[:, :i1k] < (lvl[:, None] - 3.0)
+    rev = below[:, ::-1]
+    jr = _first_below(rev)
+    bass = np.full(n, np.nan)
+    ok = jr >= 0
+    jj = i1k - 1 - jr  # grid index of the first point under the level, going down
+    bass[ok] = _crossing(f, h_db[ok], jj[ok], jj[ok] + 1, lvl[ok] - 3.0)
+
+    # treble corner: lowest f above peak_hz with |H| 3 dB under level_1k, None beyond 20 kHz
+    treble = np.full(n, np.nan)
+    for r in range(n):
+        start = int(np.searchsorted(f, peak_hz[r]))
+        idx = np.flatnonzero(h_db[r, start:] < lvl[r] - 3.0)
+        if idx.size:
+            j = start + idx[0]
+            fc = _crossing(f, h_db[r : r + 1], np.array([j - 1]), np.array([j]), np.array([lvl[r] - 3.0]))[0]
+            if fc <= 20000.0:
+                treble[r] = fc
+    return {
+        "level_1k_db": lvl,
+        "peak_hz": peak_hz,
+        "peak_db": peak_db,
+        "q": q,
+        "bass_corner_hz": bass,
+        "treble_corner_hz": treble,
+    }
+
+
+def hum_rejection_db(resp, frequency_hz) -> np.ndarray:
+    """Rejection (dB) at ``frequency_hz`` (scalar or shape (N,)) for each design.
+
+    20·log10(max(|V_A|, |V_B|)/|V_A + V_B|), V_A the hum at the amp input
+    from coil_a's hum EMF alone (coil_b's set to zero, circuit unchanged).
+    """
+    f = np.broadcast_to(np.asarray(frequency_hz, float), (resp.n,))
+    out = np.empty(resp.n)
+    ha, hb = resp.from_a(), resp.from_b()
+    for fv in np.unique(f):
+        sel = f == fv
+        va = resp.hum_a * ha(fv)[:, 0]
+        vb = resp.hum_b * hb(fv)[:, 0]
+        big = np.maximum(np.abs(va), np.abs(vb))
+        r = 20 * np.log10(big / np.maximum(np.abs(va + vb), big * 10 ** (-REJECTION_CAP_DB / 20)))
+        out[sel] = r[sel]
+    return out
+
+
+def figures(designs, resp=None, resp_no_cable=None) -> list[dict]:
+    """All figures for each design (rig applied), as plain dicts (None for undefined)."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs, without_cable
+
+    designs = list(designs)
+    p = from_designs(designs)
+    resp = resp or responses(p)
+    resp_nc = resp_no_cable or responses(without_cable(p, designs))
+    f = grid()
+    h = resp.velocity()(f)
+    hp = resp.passive_velocity()(f)
+    fig = response_figures(db(h), f)
+    pfig = response_figures(db(hp), f)
+    mains = np.array([d.hum.mains for d in designs])
+    rej = hum_rejection_db(resp, mains)
+    h5 = np.abs(resp.velocity()(5000.0)[:, 0])
+    h5nc = np.abs(resp_nc.velocity()(5000.0)[:, 0])
+    hp5 = np.abs(resp.passive_velocity()(5000.0)[:, 0])
+    hp5nc = np.abs(resp_nc.passive_velocity()(5000.0)[:, 0])
+    zo = resp.z_out([1000.0, 10000.0])
+    zp = resp.z_out_passive([1000.0, 10000.0])
+    out = []
+    for i, d in enumerate(designs):
+        row = {k: _num(v[i]) for k, v in fig.items()}
+        row["resonance_hz"] = row["peak_hz"]
+        row["resonance_db"] = row["peak_db"]
+        row["gain_vs_passive_db"] = _num(fig["level_1k_db"][i] - pfig["level_1k_db"][i])
+        row["hum_rejection_db"] = _num(rej[i])
+        row["bias_v"] = d.bias_v
+        row["headroom_up_v"] = d.headroom_up_v
+        row["headroom_down_v"] = d.headroom_down_v
+        row["headroom_v"] = min(d.headroom_up_v, d.headroom_down_v)
+        row["cable_loss_db"] = _num(20 * np.log10(h5nc[i] / h5[i]))
+        row["output_impedance_1k_ohm"] = float(abs(zo[i, 0]))
+        row["output_impedance_10k_ohm"] = float(abs(zo[i, 1]))
+        row["passive"] = {k: _num(v[i]) for k, v in pfig.items()}
+        row["passive"]["cable_loss_db"] = _num(20 * np.log10(hp5nc[i] / hp5[i]))
+        row["passive"]["output_impedance_1k_ohm"] = float(abs(zp[i, 0]))
+        row["passive"]["output_impedance_10k_ohm"] = float(abs(zp[i, 1]))
+        out.append(row)
+    return out
+
+
+def _num(x):
+    x = float(x)
+    return None if not np.isfinite(x) else x
+
+
+def pole_resonance(rational, i: int = 0, f_max: float = 20000.0):
+    """The most resonant complex pole pair below ``f_max``: (f0 Hz, Q) or (None, None).
+
+    For a pole pair p, f0 = |p|/(2π) and Q = |p| / (2·|Re p|) (circuit theory).
+    """
+    _, p, _ = rational.zpk(i)
+    cand = [(abs(x) / (2 * np.pi), abs(x) / (2 * abs(x.real))) for x in p if x.imag > 0 and abs(x) / (2 * np.pi) < f_max]
+    if not cand:
+        return None, None
+    return max(cand, key=lambda c: c[1])
