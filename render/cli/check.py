@@ -1,0 +1,107 @@
+"""``render check``: validate design files and print their derived values."""
+
+from __future__ import annotations
+
+import math
+
+import click
+
+from .options import check_new, emit_json, friendly, json_option, load_designs, overwrite_option, rig_option
+
+
+def corners(d) -> dict:
+    """First-order corners of the networks taken alone: 1/(2πRC) (textbook)."""
+    tau = 2 * math.pi
+    ib = d.input_b
+    out = {
+        "input_a_hz": 1 / (tau * d.input_a.series_r * d.input_a.series_c),
+        "input_b_hz": 1 / (tau * ib.series_r * ib.series_c),
+        "feedback_hz": 1 / (tau * d.feedback.r * d.feedback.c) if d.feedback.c else None,
+    }
+    par = 1 / (1 / ib.bias_top + 1 / ib.bias_bottom)
+    out["bias_node_hz"] = 1 / (tau * par * ib.shunt_c) if ib.shunt_c else None
+    # the output coupling capacitor into the DC path the jack sees: shunt_r || volume pot
+    loads = [d.rig.volume_pot] + ([d.output.shunt_r] if d.output.shunt_r else [])
+    r_load = 1 / sum(1 / r for r in loads)
+    out["output_hz"] = 1 / (tau * (d.output.series_r + r_load) * d.output.coupling_c)
+    return out
+
+
+def describe(d, fig, pole) -> dict:
+    ib = d.input_b
+    coil = lambda c: {"inductance_h": c.inductance, "resistance_ohm": c.resistance, "capacitance_f": c.capacitance}
+    return {
+        "file": d.source,
+        "design": d.name,
+        "bias_v": d.bias_v,
+        "bias_divider_parallel_ohm": 1 / (1 / ib.bias_top + 1 / ib.bias_bottom),
+        "headroom_up_v": d.headroom_up_v,
+        "headroom_down_v": d.headroom_down_v,
+        "limit_window_v": [d.limit_low_v, d.limit_high_v],
+        "coil_a": coil(d.coil_a),
+        "coil_b": coil(d.coil_b),
+        "corners_hz": corners(d),
+        "pole_resonance_hz": pole[0],
+        "pole_q": pole[1],
+        "figures": {k: v for k, v in fig.items() if k != "passive"},
+        "passive": fig["passive"],
+    }
+
+
+def _fmt(x, spec, none="—"):
+    return none if x is None else format(x, spec)
+
+
+def print_design(rec):
+    from ..units import format_si
+
+    f = rec["figures"]
+    c = rec["corners_hz"]
+    lo, hi = rec["limit_window_v"]
+    click.echo(f"{rec['design']}  ({rec['file']})")
+    click.echo(f"  bias point        {rec['bias_v']:.3f} V  (divider parallel {format_si(rec['bias_divider_parallel_ohm'], 'Ω')})")
+    click.echo(f"  headroom          up {rec['headroom_up_v']:.3f} V, down {rec['headroom_down_v']:.3f} V  (output limits {lo:g}..{hi:g} V)")
+    click.echo(
+        f"  corners           input_a {c['input_a_hz']:.3g} Hz, input_b {c['input_b_hz']:.3g} Hz, output {c['output_hz']:.3g} Hz"
+        + (f", feedback {c['feedback_hz']:.4g} Hz" if c["feedback_hz"] else "")
+        + (f", bias node {c['bias_node_hz']:.4g} Hz" if c["bias_node_hz"] else "")
+    )
+    click.echo(
+        f"  loaded resonance  peak {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB, Q {_fmt(f['q'], '.2f')}"
+        + (f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else "")
+    )
+    click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {f['gain_vs_passive_db']:+.2f} dB against the passive reference")
+    click.echo(f"  hum rejection     {_fmt(f['hum_rejection_db'], '.1f')} dB at the mains fundamental")
+
+
+@click.command("check")
+@click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
+@rig_option
+@json_option()
+@overwrite_option
+@friendly
+def check_command(models, rig_path, json_path, overwrite):
+    """Validate design files and print the derived values.
+
+    MODELS are design files (default: every models/*.toml). Prints, per
+    design, the bias point, the headroom up and down, the input networks'
+    corners, the loaded resonance and Q, the gain at 1 kHz against the
+    passive reference, and the hum rejection.
+    """
+    from ..analysis.figures import figures, pole_resonance
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+
+    check_new([json_path], overwrite)
+    designs, _ = load_designs(models, rig_path)
+    resp = responses(from_designs(designs))
+    figs = figures(designs, resp)
+    vel = resp.velocity()
+    records = [describe(d, fig, pole_resonance(vel, i)) for i, (d, fig) in enumerate(zip(designs, figs))]
+    if json_path != "-":
+        for i, rec in enumerate(records):
+            if i:
+                click.echo()
+            print_design(rec)
+    if json_path:
+        emit_json(json_path, {"designs": records}, overwrite=overwrite)

@@ -1,0 +1,88 @@
+"""``render response``: the small-signal response from string velocity to the amp input."""
+
+from __future__ import annotations
+
+import click
+
+from .options import check_new, friendly, overwrite_option, rig_option
+
+
+def summary_lines(d, fig) -> list[str]:
+    from ..units import format_si
+
+    q = "—" if fig["q"] is None else f"{fig['q']:.2f}"
+    bass = "—" if fig["bass_corner_hz"] is None else f"{fig['bass_corner_hz']:.3g} Hz"
+    treble = "beyond 20 kHz" if fig["treble_corner_hz"] is None else f"{fig['treble_corner_hz']:.0f} Hz"
+    p = fig["passive"]
+    return [
+        f"{d.name}  ({d.source})",
+        f"  resonance peak    {fig['peak_hz']:.0f} Hz, {fig['peak_db']:+.2f} dB re 1 kHz, Q {q}",
+        f"  -3 dB corners     bass {bass}, treble {treble}",
+        f"  level at 1 kHz    {fig['level_1k_db']:+.2f} dB re 1 V per m/s ({fig['gain_vs_passive_db']:+.2f} dB against passive)",
+        f"  output impedance  {format_si(fig['output_impedance_1k_ohm'], 'Ω')} at 1 kHz, {format_si(fig['output_impedance_10k_ohm'], 'Ω')} at 10 kHz"
+        f"  (passive: {format_si(p['output_impedance_1k_ohm'], 'Ω')}, {format_si(p['output_impedance_10k_ohm'], 'Ω')})",
+        f"  cable treble loss {fig['cable_loss_db']:+.2f} dB at 5 kHz ({d.rig.cable_length:g} m; passive: {p['cable_loss_db']:+.2f} dB)",
+        f"  passive reference peak {p['peak_hz']:.0f} Hz, {p['peak_db']:+.2f} dB, level at 1 kHz {p['level_1k_db']:+.2f} dB",
+    ]
+
+
+def csv_text(f, h, hp) -> str:
+    import numpy as np
+
+    rows = ["frequency_hz,magnitude_db,phase_deg,passive_magnitude_db,passive_phase_deg"]
+    for fi, a, b in zip(f, h, hp):
+        rows.append(
+            f"{fi:.6g},{20 * np.log10(abs(a)):.6f},{np.degrees(np.angle(a)):.4f},{20 * np.log10(abs(b)):.6f},{np.degrees(np.angle(b)):.4f}"
+        )
+    return "\n".join(rows) + "\n"
+
+
+@click.command("response")
+@click.argument("model", type=click.Path(dir_okay=False))
+@rig_option
+@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), help="Write frequency_hz,magnitude_db,phase_deg,passive_magnitude_db,passive_phase_deg ('-' for standard output).")
+@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Write a magnitude and phase plot with the passive reference.")
+@click.option("--fmin", type=click.FloatRange(min=1.0, max=1e5), default=20.0, show_default=True, help="Lowest frequency (Hz).")
+@click.option("--fmax", type=click.FloatRange(min=2.0, max=2e5), default=20000.0, show_default=True, help="Highest frequency (Hz).")
+@click.option("--points", type=click.IntRange(min=2, max=100000), default=600, show_default=True, help="Log-spaced points.")
+@overwrite_option
+@friendly
+def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, overwrite):
+    """Small-signal response of MODEL from string velocity to the amp input.
+
+    The same velocity drives both sensing points; levels are dB re 1 V per
+    m/s. Prints a summary (resonance peak, Q, corners, output impedance,
+    cable treble loss) and writes --csv and --png on request.
+    """
+    import numpy as np
+
+    from ..analysis.figures import figures
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from ..errors import InputError
+    from .options import load_designs
+
+    if fmax <= fmin:
+        raise InputError(f"--fmax={fmax:g} must be above --fmin={fmin:g}")
+    check_new([csv_path, png_path], overwrite)
+    (d,), _ = load_designs([model], rig_path)
+    resp = responses(from_designs([d]))
+    fig = figures([d], resp)[0]
+    f = np.geomspace(fmin, fmax, points)
+    h = resp.velocity()(f)[0]
+    hp = resp.passive_velocity()(f)[0]
+    if csv_path != "-":
+        for line in summary_lines(d, fig):
+            click.echo(line)
+    if csv_path:
+        text = csv_text(f, h, hp)
+        if csv_path == "-":
+            click.echo(text, nl=False)
+        else:
+            from ..report.atomic import write_text
+
+            write_text(csv_path, text, overwrite=overwrite)
+    if png_path:
+        from ..report.plots import response_plot
+
+        response_plot(png_path, f, [(d.name, h)], passive=("passive reference", hp), title=f"{d.name}: string velocity to amp input", overwrite=overwrite)

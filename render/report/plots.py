@@ -1,0 +1,84 @@
+"""Plots (matplotlib, imported only here and only when a plot is asked for).
+
+The look is the project's own: a dark ink for the design, a warm clay
+dashed line for the passive reference, thin grid, frequency in Hz on a log
+axis, level in dB.
+"""
+
+from __future__ import annotations
+
+import io
+from pathlib import Path
+
+import numpy as np
+
+from .atomic import write_bytes
+
+INK = "#1d3557"
+CLAY = "#b5651d"
+PALETTE = ["#1d3557", "#2a9d8f", "#e76f51", "#6a4c93", "#8ab17d", "#e9c46a", "#264653", "#9c6644"]
+
+
+def _plt():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def _hz_axis(ax, fmin, fmax):
+    from matplotlib.ticker import FuncFormatter
+
+    ax.set_xscale("log")
+    ax.set_xlim(fmin, fmax)
+    ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v / 1000:g}k" if v >= 1000 else f"{v:g}"))
+    ax.grid(True, which="major", color="#cccccc", linewidth=0.6)
+    ax.grid(True, which="minor", color="#eeeeee", linewidth=0.4)
+
+
+def phase_deg(f, h):
+    """Unwrapped phase (degrees), shifted by whole turns so it lies in (-180, 180] at 1 kHz."""
+    ph = np.degrees(np.unwrap(np.angle(h)))
+    ref = ph[int(np.argmin(np.abs(np.log(np.asarray(f) / 1000.0))))]
+    return ph - 360.0 * np.round(ref / 360.0)
+
+
+def save(fig, path, *, overwrite):
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=110, metadata={"Software": None})
+    _plt().close(fig)
+    write_bytes(path, buf.getvalue(), overwrite=overwrite)
+    return Path(path)
+
+
+def response_plot(path, f, curves, *, passive=None, title="", overwrite=False):
+    """Magnitude (dB) and phase (degrees) against frequency (Hz).
+
+    ``curves`` is a list of (label, complex response (F,)); ``passive`` an
+    optional (label, complex response) drawn dashed.
+    """
+    plt = _plt()
+    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 6.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
+    for i, (label, h) in enumerate(curves):
+        col = PALETTE[i % len(PALETTE)]
+        ax1.plot(f, 20 * np.log10(np.abs(h)), color=col, lw=1.8, label=label)
+        ax2.plot(f, phase_deg(f, h), color=col, lw=1.4)
+    if passive is not None:
+        label, h = passive
+        ax1.plot(f, 20 * np.log10(np.abs(h)), color=CLAY, lw=1.4, ls="--", label=label)
+        ax2.plot(f, phase_deg(f, h), color=CLAY, lw=1.1, ls="--")
+    for ax in (ax1, ax2):
+        _hz_axis(ax, f[0], f[-1])
+    ax1.set_ylabel("level (dB re 1 V per m/s)")
+    ax2.set_ylabel("phase (degrees)")
+    from matplotlib.ticker import MultipleLocator
+
+    ax2.yaxis.set_major_locator(MultipleLocator(90))
+    ax2.set_xlabel("frequency (Hz)")
+    ax1.legend(loc="lower center", fontsize=8, frameon=False, ncol=min(3, len(curves) + 1))
+    if title:
+        ax1.set_title(title, fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
