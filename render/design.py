@@ -276,8 +276,9 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field) -> str:
     """Suggest the likely fix for a value outside the plausible range."""
     if isinstance(raw, str):
         t = raw.strip()
-        if spec.kind is U.RESISTANCE and t.rstrip("Ωohms").endswith("m") and value < spec.lo:
-            return f' ("m" is milli; for mega write "{t.rstrip("Ωohms")[:-1]}M")'
+        body = next((t[: -len(s)] for s in ("ohms", "ohm", "Ω") if t.endswith(s)), t)
+        if spec.kind is U.RESISTANCE and body.endswith("m") and value < spec.lo:
+            return f' ("m" is milli; for mega write "{body[:-1]}M")'
         if spec.kind is U.CAPACITANCE and value > spec.hi:
             return " (a capacitor that large is unlikely; check the prefix: p, n, u)"
     elif isinstance(raw, (int, float)) and spec.kind in (U.CAPACITANCE, U.INDUCTANCE) and value >= 1:

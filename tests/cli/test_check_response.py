@@ -1,0 +1,178 @@
+"""`render check` and `render response` through click's CliRunner: exit codes and message text."""
+
+from __future__ import annotations
+
+import json
+import re
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from render.cli import main
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+
+
+def run(*args, cwd=None):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+def variant(tmp_path, old, new, name="variant.toml"):
+    text = REF.read_text()
+    assert old in text, old
+    path = tmp_path / name
+    path.write_text(text.replace(old, new, 1))
+    return path
+
+
+def test_check_all_shipped_models():
+    res = run("check", *sorted((ROOT / "models").glob("*.toml")))
+    assert res.exit_code == 0, res.output
+    assert res.output.count("bias point") == len(list((ROOT / "models").glob("*.toml")))
+
+
+def test_check_json_has_contract_keys(tmp_path):
+    out = tmp_path / "c.json"
+    res = run("check", REF, "--json", out)
+    assert res.exit_code == 0, res.output
+    rec = json.loads(out.read_text())["designs"][0]
+    for key in ("file", "design", "bias_v", "headroom_up_v", "headroom_down_v", "coil_a", "coil_b"):
+        assert key in rec
+    assert set(rec["coil_a"]) >= {"inductance_h", "resistance_ohm", "capacitance_f"}
+    # equal bias resistors put the bias at half the battery (common practice, no source)
+    assert rec["bias_v"] == pytest.approx(4.5, abs=1e-12)
+
+
+def test_check_refuses_to_overwrite(tmp_path):
+    out = tmp_path / "c.json"
+    out.write_text("keep me")
+    res = run("check", REF, "--json", out)
+    assert res.exit_code == 1
+    assert "exists; pass --overwrite" in res.output
+    assert out.read_text() == "keep me"
+    assert run("check", REF, "--json", out, "--overwrite").exit_code == 0
+    assert json.loads(out.read_text())["designs"]
+
+
+BAD = [
+    # (old text, new text, expected message fragment)
+    ('inductance = "350mH"', 'inductance = "350mF"', "unit 'F' does not fit a inductance"),
+    ('inductance = "350mH"', 'inductance = "lots"', "cannot read 'lots' as a inductance"),
+    ('inductance = "350mH"', "inductance = -0.35", "must not be negative"),
+    ('resistance = "520R"', "resistance = 0", "expected a plausible value"),
+    ('series_r = "22k"', 'series_r = "22m"', '"m" is milli; for mega write "22M"'),
+    ('series_c = "1u"', "series_c = 3.3", "plain numbers are in SI units"),
+    ('inductance = "350mH"', 'inductanse = "350mH"', "did you mean 'inductance'?"),
+    ("[feedback]", "[fedback]", "did you mean 'feedback'?"),
+    ('r = "110k"', 'q = "110k"', "unknown key 'q'"),
+    ('bias_top = "220k"   # battery + to the non-inverting input\n', "", "missing required key 'bias_top'"),
+    ('battery = "9V"', 'battery = "3V"', "must be below battery=3 V"),
+    ('bias_top = "220k"', 'bias_top = "4M7"', "outside the output's linear window"),
+    ('eddy_resistance = "220k"', "eddy_coupling = 0.3", "eddy_coupling and eddy_corner go together"),
+    ('eddy_resistance = "220k"', "signal_polarity = 2", "a polarity must be +1 or -1"),
+    ('aperture = "8mm"', 'aperture = "8mm"\n[coil_a.winding]\nturns = 4000', "not supported yet"),
+]
+
+
+@pytest.mark.parametrize("old,new,fragment", BAD, ids=[b[2][:30] for b in BAD])
+def test_bad_design_values_give_one_line(tmp_path, old, new, fragment):
+    path = variant(tmp_path, old, new)
+    res = run("check", path)
+    assert res.exit_code == 1, res.output
+    lines = [ln for ln in res.output.splitlines() if ln.strip()]
+    assert len(lines) == 1, res.output
+    assert fragment in lines[0], lines[0]
+    assert "Traceback" not in res.output
+    assert str(path) in lines[0]
+
+
+def test_missing_table(tmp_path):
+    text = REF.read_text()
+    start = text.index("[output]")
+    end = text.index("[supply]")
+    path = tmp_path / "no-output.toml"
+    path.write_text(text[:start] + text[end:])
+    res = run("check", path)
+    assert res.exit_code == 1
+    assert "missing table [output]" in res.output
+
+
+@pytest.mark.parametrize(
+    "content,fragment",
+    [
+        (b"this is = = not toml", "not valid TOML"),
+        (b"\xff\xfe\x00binary", "not a UTF-8 text file"),
+        (b"", "missing table [coil_a]"),
+    ],
+)
+def test_unreadable_files(tmp_path, content, fragment):
+    path = tmp_path / "bad.toml"
+    path.write_bytes(content)
+    res = run("check", path)
+    assert res.exit_code == 1
+    assert fragment in res.output
+
+
+def test_missing_file_and_folder(tmp_path):
+    res = run("check", tmp_path / "nowhere.toml")
+    assert res.exit_code == 1 and "no such file" in res.output
+    res = run("check", tmp_path)
+    assert res.exit_code in (1, 2)
+
+
+def test_rig_file_overrides_design_rig(tmp_path):
+    rig = tmp_path / "rig.toml"
+    rig.write_text('[rig]\ncable_length = "12m"\n[hum]\nmains = "60Hz"\n')
+    out = tmp_path / "c.json"
+    assert run("check", REF, "--rig", rig, "--json", out).exit_code == 0
+    bad = tmp_path / "badrig.toml"
+    bad.write_text('[rig]\ncable_lenght = "12m"\n')
+    res = run("check", REF, "--rig", bad)
+    assert res.exit_code == 1 and "did you mean 'cable_length'?" in res.output
+
+
+def test_response_summary_csv_png(tmp_path):
+    csv = tmp_path / "r.csv"
+    png = tmp_path / "r.png"
+    res = run("response", REF, "--csv", csv, "--png", png, "--points", 50)
+    assert res.exit_code == 0, res.output
+    assert "resonance peak" in res.output and "output impedance" in res.output
+    lines = csv.read_text().splitlines()
+    assert lines[0] == "frequency_hz,magnitude_db,phase_deg,passive_magnitude_db,passive_phase_deg"
+    assert len(lines) == 51
+    assert float(lines[1].split(",")[0]) == pytest.approx(20.0)
+    assert float(lines[-1].split(",")[0]) == pytest.approx(20000.0)
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_response_bad_range_and_overwrite(tmp_path):
+    res = run("response", REF, "--fmin", 1000, "--fmax", 100)
+    assert res.exit_code == 1 and "--fmax=100 must be above --fmin=1000" in res.output
+    csv = tmp_path / "r.csv"
+    csv.write_text("old")
+    png = tmp_path / "r.png"
+    res = run("response", REF, "--csv", csv, "--png", png)
+    assert res.exit_code == 1 and "exists" in res.output
+    assert csv.read_text() == "old" and not png.exists()  # nothing half-written
+
+
+def test_low_impedance_output_loses_less_treble_into_cable(tmp_path):
+    # common practice, no source: a low-impedance output loses less treble
+    # into a long cable than the passive reference does; assert the direction.
+    rig = tmp_path / "rig.toml"
+    rig.write_text('[rig]\ncable_length = "10m"\n')
+    res = run("response", REF, "--rig", rig)
+    m = re.search(r"cable treble loss ([+-][\d.]+) dB at 5 kHz \(10 m; passive: ([+-][\d.]+) dB\)", res.output)
+    assert m, res.output
+    active, passive = float(m.group(1)), float(m.group(2))
+    print(f"cable loss at 5 kHz, 10 m: active {active:+.2f} dB, passive {passive:+.2f} dB")
+    assert abs(active) < abs(passive)
+
+
+def test_help_lists_commands():
+    res = run("--help")
+    assert res.exit_code == 0
+    for cmd in ("check", "response"):
+        assert cmd in res.output
