@@ -13,6 +13,7 @@ amplifier) and the room it hums in.
 from __future__ import annotations
 
 import difflib
+import functools
 import hashlib
 import math
 import tomllib
@@ -56,6 +57,16 @@ COIL = {
     "aperture": Field(U.LENGTH, default=0.0, lo=0.0, hi=0.2, lo_open=False, doc="width of the sensing window along the string"),
     "signal_polarity": Field("polarity", doc="+1 or -1 (default +1 for coil_a, -1 for coil_b)"),
     "hum_polarity": Field("polarity", default=1, doc="+1 or -1 (default +1: hum is common-mode)"),
+}
+
+WINDING = {
+    "turns": Field(U.RATIO, True, lo=1.0, hi=1e6, lo_open=False, doc="number of turns"),
+    "wire": Field("wire", True, doc='AWG gauge number (e.g. 42) or bare copper diameter ("0.0635mm")'),
+    "mean_turn": Field(U.LENGTH, True, lo=5e-3, hi=2.0, lo_open=False, doc="mean length of one turn"),
+    "height": Field(U.LENGTH, True, lo=2e-4, hi=0.3, lo_open=False, doc="winding length along the coil's axis"),
+    "depth": Field(U.LENGTH, True, lo=1e-4, hi=0.1, lo_open=False, doc="radial build of the winding"),
+    "core_factor": Field("core", True, doc='multiplies the air-core inductance: a number ≥ 1 or "air", "ceramic", "alnico", "steel"'),
+    "temperature": Field(U.RATIO, default=20.0, lo=-50.0, hi=200.0, lo_open=False, doc="copper temperature in °C"),
 }
 
 INPUT_A = {
@@ -147,6 +158,24 @@ class Coil:
     eddy_corner: float | None = None
     signal_polarity: int = 1
     hum_polarity: int = 1
+    winding: "Winding | None" = None  # when L and R were derived from a winding
+
+
+@dataclass(frozen=True)
+class Winding:
+    """A winding as given, and what was derived from it (estimates)."""
+
+    turns: float
+    wire_diameter: float  # m, bare copper
+    wire_awg: float | None
+    mean_turn: float
+    height: float
+    depth: float
+    core_factor: float
+    temperature: float
+    wire_length: float  # m, derived
+    inductance: float  # H, derived (estimate)
+    resistance: float  # Ω, derived (estimate)
 
 
 @dataclass(frozen=True)
@@ -297,6 +326,26 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
         if raw in ("audio", "linear"):
             return raw
         raise InputError(f'{where}={raw!r}: a taper must be "audio" or "linear"')
+    if spec.kind == "wire":
+        if isinstance(raw, (int, float)) and not isinstance(raw, bool):
+            if not 20 <= raw <= 60:
+                raise InputError(f"{where}={raw!r}: an AWG gauge must be from 20 to 60 (pickup wire is usually 41 to 44), or give a bare diameter like \"0.0635mm\"")
+            return ("awg", float(raw))
+        try:
+            dia = U.parse_quantity(raw, U.LENGTH)
+        except U.QuantityError as exc:
+            raise InputError(f"{where}={raw!r}: {exc}; give an AWG number like 42 or a bare diameter like \"0.0635mm\"") from None
+        if not 5e-6 <= dia <= 2e-3:
+            raise InputError(f"{where}={raw!r}: a bare wire diameter must be from 5 µm to 2 mm")
+        return ("diameter", dia)
+    if spec.kind == "core":
+        from .circuit.winding import CORE_FACTORS
+
+        if isinstance(raw, str) and raw in CORE_FACTORS:
+            return float(CORE_FACTORS[raw])
+        if isinstance(raw, (int, float)) and not isinstance(raw, bool) and 1.0 <= raw <= 20.0:
+            return float(raw)
+        raise InputError(f"{where}={raw!r}: expected a number from 1 to 20 or one of {', '.join(repr(k) for k in CORE_FACTORS)} (rough estimates)")
     if spec.kind == "list":
         if not isinstance(raw, list) or not raw or len(raw) > 64:
             raise InputError(f"{where}={raw!r}: expected a list of 1 to 64 relative amplitudes, e.g. [1.0, 0.1, 0.3]")
@@ -311,7 +360,7 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
     except U.QuantityError as exc:
         raise InputError(f"{where}={raw!r}: {exc}") from None
     unit = spec.kind.unit
-    if value < 0:
+    if value < 0 and spec.lo >= 0:
         raise InputError(f"{where}={raw!r}: must not be negative")
     too_low = value < spec.lo or (spec.lo_open and value <= spec.lo)
     too_high = value > spec.hi or (spec.hi_open and value >= spec.hi)
@@ -328,8 +377,6 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
         raise InputError(f"{_where(source, table)}: expected a table of keys, got {type(data).__name__}")
     for key in data:
         if key not in specs:
-            if isinstance(data[key], dict) and key == "winding":
-                raise InputError(f"{_where(source, table + '.winding')}: coils given by their winding are not supported yet; give inductance and resistance")
             raise InputError(f"{_where(source, table)}: unknown key '{key}'{_suggest(key, specs)}")
     out: dict[str, Any] = {}
     for key, spec in specs.items():
@@ -371,6 +418,42 @@ def _coil(d: dict, default_signal: int) -> Coil:
     return Coil(**d)
 
 
+def read_winding(data: Any, *, source: str, table: str) -> Winding:
+    """Read a [coil_x.winding] table and derive L and R from it (estimates)."""
+    from .circuit.winding import awg_diameter, from_winding
+
+    w = read_table(data, WINDING, source=source, table=table)
+    kind, value = w["wire"]
+    dia = awg_diameter(value) if kind == "awg" else value
+    L, R, length = from_winding(
+        turns=w["turns"], diameter=dia, mean_turn=w["mean_turn"], height=w["height"], depth=w["depth"],
+        core_factor=w["core_factor"], temperature_c=w["temperature"],
+    )
+    return Winding(
+        turns=w["turns"], wire_diameter=dia, wire_awg=value if kind == "awg" else None, mean_turn=w["mean_turn"],
+        height=w["height"], depth=w["depth"], core_factor=w["core_factor"], temperature=w["temperature"],
+        wire_length=length, inductance=L, resistance=R,
+    )
+
+
+def _read_coil(data: Any, *, source: str, table: str) -> dict:
+    """A coil table, with inductance and resistance given or derived from its winding."""
+    if not isinstance(data, dict) or "winding" not in data:
+        return read_table(data, COIL, source=source, table=table)
+    data = dict(data)
+    winding = read_winding(data.pop("winding"), source=source, table=f"{table}.winding")
+    both = [k for k in ("inductance", "resistance") if k in data]
+    if both:
+        raise InputError(f"{_where(source, table)}: {' and '.join(both)} given as well as [{table}.winding]; give either the values or the winding, not both")
+    data["inductance"], data["resistance"] = winding.inductance, winding.resistance
+    try:
+        out = read_table(data, COIL, source=source, table=table)
+    except InputError as exc:
+        raise InputError(f"{exc} (derived from [{table}.winding]; check turns, wire and former)") from None
+    out["winding"] = winding
+    return out
+
+
 def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "") -> Design:
     """Build a :class:`Design` from parsed TOML; every error is one line."""
     if not isinstance(data, dict):
@@ -384,7 +467,11 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     for key in TOP_KEYS:
         if key in data and not isinstance(data[key], str):
             raise InputError(f"{source}: {key}={data[key]!r}: expected a string")
-    tables = {t: read_table(data[t], DESIGN_TABLES[t], source=source, table=t) for t in DESIGN_TABLES if t in data}
+    tables = {}
+    for t in DESIGN_TABLES:
+        if t in data:
+            read = _read_coil if t in ("coil_a", "coil_b") else functools.partial(read_table, specs=DESIGN_TABLES[t])
+            tables[t] = read(data[t], source=source, table=t)
     for t in ("coil_a", "coil_b"):
         c = tables[t]
         if ("eddy_coupling" in c) != ("eddy_corner" in c):

@@ -29,7 +29,24 @@ def corners(d) -> dict:
 
 def describe(d, fig, pole) -> dict:
     ib = d.input_b
-    coil = lambda c: {"inductance_h": c.inductance, "resistance_ohm": c.resistance, "capacitance_f": c.capacitance}
+    def coil(c):
+        out = {"inductance_h": c.inductance, "resistance_ohm": c.resistance, "capacitance_f": c.capacitance}
+        if c.winding is not None:
+            w = c.winding
+            out["winding"] = {
+                "estimate": True,
+                "turns": w.turns,
+                "wire_awg": w.wire_awg,
+                "wire_diameter_m": w.wire_diameter,
+                "wire_length_m": w.wire_length,
+                "mean_turn_m": w.mean_turn,
+                "height_m": w.height,
+                "depth_m": w.depth,
+                "core_factor": w.core_factor,
+                "temperature_c": w.temperature,
+            }
+        return out
+
     return {
         "file": d.source,
         "design": d.name,
@@ -74,13 +91,36 @@ def print_design(rec):
     click.echo(f"  hum rejection     {_fmt(f['hum_rejection_db'], '.1f')} dB at the mains fundamental")
 
 
+def print_turns(rows, percent):
+    click.echo(f"  turns ±{percent:g} %      coils    L_b        R_b        peak                 1 kHz      hum rejection")
+    for r in rows:
+        click.echo(
+            f"    {r['turns_percent']:+5.1f} %  {r['coils']:>7s}  {r['inductance_b_h'] * 1e3:7.1f} mH  {r['resistance_b_ohm']:7.1f} Ω"
+            f"  {r['peak_hz']:6.0f} Hz {r['peak_db']:+6.2f} dB  {r['level_1k_db']:+6.2f} dB  {_fmt(r['hum_rejection_db'], '6.1f')} dB"
+        )
+
+
+def print_winding(name, c):
+    from ..units import format_si
+
+    w = c.winding
+    if w is None:
+        return
+    wire = f"AWG {w.wire_awg:g} ({w.wire_diameter * 1e3:.4f} mm)" if w.wire_awg else f"{w.wire_diameter * 1e3:.4f} mm"
+    click.echo(
+        f"  {name} winding    {w.turns:.0f} turns of {wire}, {w.wire_length:.1f} m of wire at {w.temperature:g} °C:"
+        f" {format_si(w.inductance, 'H')}, {format_si(w.resistance, 'Ω')} (estimates; replace with measured values)"
+    )
+
+
 @click.command("check")
 @click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
 @rig_option
+@click.option("--turns-sweep", "turns_percent", type=click.FloatRange(min=0.1, max=50), default=None, help="Also print what ±PERCENT turns on coil_b alone, and on both coils, does to L, R, resonance and hum rejection.")
 @json_option()
 @overwrite_option
 @friendly
-def check_command(models, rig_path, json_path, overwrite):
+def check_command(models, rig_path, turns_percent, json_path, overwrite):
     """Validate design files and print the derived values.
 
     MODELS are design files (default: every models/*.toml). Prints, per
@@ -98,10 +138,19 @@ def check_command(models, rig_path, json_path, overwrite):
     figs = figures(designs, resp)
     vel = resp.velocity()
     records = [describe(d, fig, pole_resonance(vel, i)) for i, (d, fig) in enumerate(zip(designs, figs))]
+    if turns_percent:
+        from ..analysis.turns import turns_table
+
+        for d, rec in zip(designs, records):
+            rec["turns_sweep"] = turns_table(d, turns_percent)
     if json_path != "-":
-        for i, rec in enumerate(records):
+        for i, (d, rec) in enumerate(zip(designs, records)):
             if i:
                 click.echo()
             print_design(rec)
+            print_winding("coil_a", d.coil_a)
+            print_winding("coil_b", d.coil_b)
+            if turns_percent:
+                print_turns(rec["turns_sweep"], turns_percent)
     if json_path:
         emit_json(json_path, {"designs": records}, overwrite=overwrite)

@@ -72,7 +72,17 @@ BAD = [
     ('bias_top = "220k"', 'bias_top = "4M7"', "outside the output's linear window"),
     ('eddy_resistance = "220k"', "eddy_coupling = 0.3", "eddy_coupling and eddy_corner go together"),
     ('eddy_resistance = "220k"', "signal_polarity = 2", "a polarity must be +1 or -1"),
-    ('aperture = "8mm"', 'aperture = "8mm"\n[coil_a.winding]\nturns = 4000', "not supported yet"),
+    ('aperture = "8mm"', 'aperture = "8mm"\n[coil_a.winding]\nturns = 4000', "missing required key 'wire'"),
+    (
+        'aperture = "8mm"',
+        'aperture = "8mm"\n[coil_a.winding]\nturns = 4000\nwire = 42\nmean_turn = "150mm"\nheight = "10mm"\ndepth = "5mm"\ncore_factor = "steel"',
+        "given as well as [coil_a.winding]",
+    ),
+    (
+        'aperture = "8mm"',
+        'aperture = "8mm"\n[coil_a.winding]\nturns = 4000\nwire = 12\nmean_turn = "150mm"\nheight = "10mm"\ndepth = "5mm"\ncore_factor = "steel"',
+        "an AWG gauge must be from 20 to 60",
+    ),
 ]
 
 
