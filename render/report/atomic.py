@@ -23,6 +23,8 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
     the folder cannot be written.
     """
     path = Path(path)
+    if path.is_dir():
+        raise InputError(f"{path}: is a folder; give a file name to write")
     if path.exists() and not overwrite:
         raise InputError(f"{path}: exists; pass --overwrite to replace it or choose another name")
     folder = path.parent if str(path.parent) else Path(".")
@@ -38,6 +40,7 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
         yield tmp
         with open(tmp, "rb+") as fh:
             os.fsync(fh.fileno())
+        os.chmod(tmp, 0o644)  # mkstemp makes 0600; give the usual rw-r--r--
         os.replace(tmp, path)
     except OSError as exc:
         raise InputError(f"{path}: could not be written ({exc.strerror}); check free space and permissions") from None

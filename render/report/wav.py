@@ -16,19 +16,36 @@ import numpy as np
 
 from .atomic import atomic_path
 
+WAVE_FORMAT_IEEE_FLOAT = 3
+
 
 def float_wav_bytes(data: np.ndarray, sample_rate: int) -> bytes:
-    """Encode ``data`` (shape (n,) or (channels, n), full scale ±1.0) as float32 WAV bytes."""
-    x = np.asarray(data, dtype=np.float32)
-    if x.ndim == 1:
-        x = x[None, :]
-    channels, frames = x.shape
-    payload = np.ascontiguousarray(x.T).astype("<f4").tobytes()
+    """A complete IEEE-float WAV file (32-bit, format tag 3) as bytes.
+
+    data : float array, shape (n,) for mono or (channels, n) with 1..8 channels
+    sample_rate : int, Hz
+    The header has a fmt chunk with cbSize = 0 and a fact chunk, as the
+    RIFF WAVE format asks of non-PCM data (Microsoft Multimedia Programming
+    Interface and Data Specifications 1.0, 1991; from memory). No other
+    chunks, so the bytes depend only on the samples and the rate.
+    """
+    a = np.asarray(data, dtype=np.float64)
+    if a.ndim == 1:
+        a = a[None, :]
+    if a.ndim != 2 or not 1 <= a.shape[0] <= 8:
+        raise ValueError(f"data shape {a.shape}: expected (n,) or (channels, n) with 1..8 channels")
+    if not np.isfinite(a).all():
+        raise ValueError("data holds NaN or infinite samples; a WAV must be finite")
+    channels, frames = a.shape
+    payload = np.ascontiguousarray(a.T).astype("<f4").tobytes()
     block = 4 * channels
-    fmt = struct.pack("<HHIIHHH", 3, channels, int(sample_rate), int(sample_rate) * block, block, 32, 0)
+    fmt = struct.pack("<HHIIHHH", WAVE_FORMAT_IEEE_FLOAT, channels, int(sample_rate), int(sample_rate) * block, block, 32, 0)
     fact = struct.pack("<I", frames)
-    body = b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"fact" + struct.pack("<I", 4) + fact
-    body += b"data" + struct.pack("<I", len(payload)) + payload
+    pad = b"\0" if len(payload) % 2 else b""
+    body = b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"fact" + struct.pack("<I", len(fact)) + fact
+    body += b"data" + struct.pack("<I", len(payload)) + payload + pad
+    if len(body) >= 2**32:
+        raise ValueError(f"{len(body)} bytes: too long for a WAV file (4 GiB at most)")
     return b"RIFF" + struct.pack("<I", len(body)) + body
 
 

@@ -1,0 +1,821 @@
+"""Phrase files: what is played on the guitar, as TOML.
+
+A phrase names the instrument (scale length, tuning, string stiffness,
+losses), optional playing defaults, and events: single ``[[note]]`` entries
+and strummed ``[[chord]]`` entries. :func:`load_phrase` reads a file and
+:func:`parse_phrase` checks an already-parsed mapping; both return a frozen
+:class:`Phrase` whose chords are expanded into one :class:`Note` per string,
+in time order.
+
+Strings are numbered as guitarists do: 1 is the highest-pitched string.
+Lists that go across the strings (``tuning``, ``inharmonicity``, a chord's
+``frets``) are written lowest string first, the way chord shapes are read
+(``[3, 2, 0, 0, 0, 3]`` is a G chord).
+
+Every bad value is refused with one line: the file, the table, ``key=value``
+as written, the constraint, and where possible the fix.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from types import MappingProxyType
+
+from render.errors import InputError
+from render.units import FREQUENCY, LENGTH, RATIO, TIME, Kind, QuantityError, parse_quantity
+
+# Six-string standard tuning, lowest string first (common practice, no source).
+STANDARD_TUNING = ("E2", "A2", "D3", "G3", "B3", "E4")
+
+# Inharmonicity B of each open string of a light 0.010-0.046 in set, lowest
+# first, estimated from B = pi^3 E d^4 / (64 T L^2) (H. Fletcher, JASA 36(1),
+# 1964) with steel E = 200 GPa, core diameters 0.48/0.41/0.36 mm (wound) and
+# 0.43/0.33/0.25 mm (plain) and tensions 78/87/82/74/68/72 N: from memory.
+STANDARD_INHARMONICITY = (1.6e-4, 7.0e-5, 4.5e-5, 1.1e-4, 4.0e-5, 1.3e-5)
+# For other string counts, one value for all strings (common practice, no source).
+FALLBACK_INHARMONICITY = 6.0e-5
+
+# Plain steel for strings given by core diameter alone (from memory).
+STEEL_MODULUS = 200e9  # Pa
+STEEL_DENSITY = 7850.0  # kg/m^3
+
+MAX_FRET = 36
+MAX_EVENTS = 20_000
+MAX_SECONDS = 600.0
+# How long the phrase goes on after its last event starts, when ``seconds``
+# is not given (common practice, no source).
+DEFAULT_TAIL = 2.0
+# Timing spread of strummed strings as a fraction of the gap between strings
+# (common practice, no source).
+STRUM_SPREAD = 0.25
+
+TOP_KEYS = ("title", "about", "seconds", "instrument", "playing", "note", "chord")
+INSTRUMENT_KEYS = (
+    "scale_length",
+    "concert_a",
+    "tuning",
+    "inharmonicity",
+    "core_diameter",
+    "tension",
+    "decay",
+    "curvature_loss",
+    "mute_decay",
+    "release",
+)
+PLAYING_KEYS = ("strength", "pluck_at", "mute", "strum", "direction")
+NOTE_KEYS = ("time", "string", "fret", "pitch", "strength", "pluck_at", "mute", "duration", "bend", "vibrato")
+CHORD_KEYS = ("time", "frets", "strum", "direction", "strength", "pluck_at", "mute", "duration")
+BEND_KEYS = ("semitones", "over", "start")
+VIBRATO_KEYS = ("depth_cents", "rate_hz", "start")
+
+# Defaults for the instrument and for playing (common practice, no source,
+# chosen by ear): they describe a solid-body electric guitar.
+DEFAULTS = MappingProxyType({
+    "scale_length": 0.648,  # m
+    "concert_a": 440.0,  # Hz
+    "decay": 6.0,  # s, T60 of the lowest modes
+    "curvature_loss": 1.0e-3,  # m^2/s, the b3 term of the loss
+    "mute_decay": 0.12,  # s, T60 added by a full palm mute at low frequencies
+    "release": 0.08,  # s, T60 of the damping when a note ends
+    "strength": 1.0e-3,  # m, initial displacement at the pluck point (from memory)
+    "pluck_at": 0.12,  # m from the bridge saddle
+    "mute": 0.0,
+    "strum": 0.03,  # s, first to last string of a chord
+    "direction": "down",
+    "bend_over": 0.12,  # s
+    "vibrato_rate": 5.5,  # Hz
+})
+
+
+@dataclass(frozen=True)
+class Bend:
+    """A bend: the pitch rises smoothly by ``semitones`` over ``over`` seconds.
+
+    semitones : float, -12..12 (negative lowers, as a vibrato bar does)
+    start : float, s after the note starts, >= 0
+    over : float, s, >= 0 (0 is a step)
+    """
+
+    semitones: float
+    start: float
+    over: float
+
+
+@dataclass(frozen=True)
+class Vibrato:
+    """A periodic pitch swing of ``depth_cents`` (peak) at ``rate_hz``.
+
+    depth_cents : float, cents, 0..200
+    rate_hz : float, Hz, 0.1..20
+    start : float, s after the note starts, >= 0
+    """
+
+    depth_cents: float
+    rate_hz: float
+    start: float
+
+
+@dataclass(frozen=True)
+class Instrument:
+    """The guitar: scale length, open strings and losses.
+
+    scale_length : float, m, bridge saddle to nut
+    concert_a : float, Hz, the pitch of A4
+    open_pitches : tuple of float, Hz, first partial of each open string, lowest string first
+    inharmonicity : tuple of float, dimensionless B of each open string, lowest first
+    decay : float, s, T60 of the lowest modes (loss b1 = 6.908 / decay)
+    curvature_loss : float, m^2/s, loss b3 in sigma_n = b1 + b3 (n pi / L)^2
+    mute_decay : float, s, T60 a full mute imposes on low modes (faster for high ones)
+    release : float, s, T60 of the damping applied when a note ends
+    """
+
+    scale_length: float
+    concert_a: float
+    open_pitches: tuple[float, ...]
+    inharmonicity: tuple[float, ...]
+    decay: float
+    curvature_loss: float
+    mute_decay: float
+    release: float
+
+    @property
+    def strings(self) -> int:
+        """Number of strings."""
+        return len(self.open_pitches)
+
+    def open_pitch(self, string: int) -> float:
+        """Open-string first partial in Hz of ``string`` (1 = highest)."""
+        return self.open_pitches[self.strings - string]
+
+    def string_inharmonicity(self, string: int) -> float:
+        """Open-string B of ``string`` (1 = highest)."""
+        return self.inharmonicity[self.strings - string]
+
+
+@dataclass(frozen=True)
+class Note:
+    """One plucked string.
+
+    time : float, s from the start of the phrase
+    string : int, 1..strings (1 = highest-pitched)
+    fret : float, semitones above the open string (fractional when given by pitch)
+    frequency : float, Hz, first partial before any bend or vibrato
+    length : float, m, vibrating length (bridge saddle to the stopping fret)
+    strength : float, m, initial displacement at the pluck point
+    pluck_at : float, m from the bridge saddle, 0 < pluck_at < length
+    mute : float, 0..1 (palm muting)
+    duration : float or None, s until the string is damped (None: rings on)
+    bend, vibrato : optional pitch movements
+    spread : float, s, largest random shift of the start (strummed strings), >= 0
+    origin : str, where it came from, for messages ("[[note]] #3")
+    """
+
+    time: float
+    string: int
+    fret: float
+    frequency: float
+    length: float
+    strength: float
+    pluck_at: float
+    mute: float
+    duration: float | None
+    bend: Bend | None
+    vibrato: Vibrato | None
+    spread: float
+    origin: str
+
+
+@dataclass(frozen=True)
+class Phrase:
+    """A parsed phrase: the instrument and its notes in time order.
+
+    source : str, the file it came from (used in messages)
+    title, about : str, free text
+    instrument : Instrument
+    notes : tuple of Note, sorted by time (chords expanded, one note per string)
+    seconds : float, s, length of the phrase
+    events : int, number of [[note]] and [[chord]] entries as written
+    """
+
+    source: str
+    title: str
+    about: str
+    instrument: Instrument
+    notes: tuple[Note, ...]
+    seconds: float
+    events: int
+
+
+# ---------------------------------------------------------------------------
+# Pitch
+
+
+_NOTE_NAME = re.compile(r"^([A-Ga-g])([#♯b♭]?)(-?\d+)$")
+_LETTER = MappingProxyType({"c": 0, "d": 2, "e": 4, "f": 5, "g": 7, "a": 9, "b": 11})
+_ACCIDENTAL = MappingProxyType({"": 0, "#": 1, "♯": 1, "b": -1, "♭": -1})
+
+
+def midi_frequency(midi: float, *, concert_a: float = 440.0) -> float:
+    """Equal-tempered frequency in Hz of MIDI note ``midi`` (69 = A4 = ``concert_a``)."""
+    return concert_a * 2.0 ** ((midi - 69.0) / 12.0)
+
+
+def pitch_frequency(value: object, *, concert_a: float = 440.0) -> float:
+    """Frequency in Hz of a pitch: a note name, a MIDI number or a frequency.
+
+    Parameters
+    ----------
+    value : str or int
+        ``"A3"``, ``"C#4"``, ``"Bb2"`` (scientific pitch notation, C4 is
+        middle C), a whole MIDI number 0..127, or a frequency string such as
+        ``"110Hz"``.
+    concert_a : float, Hz
+        The pitch of A4.
+
+    Raises
+    ------
+    ValueError
+        With the reason, if the value is none of those.
+    """
+    if isinstance(value, bool):
+        raise ValueError('expected a note name such as "A3", a MIDI number or a frequency such as "110Hz"')
+    if isinstance(value, int):
+        if not 0 <= value <= 127:
+            raise ValueError("a MIDI note number must be 0..127")
+        return midi_frequency(value, concert_a=concert_a)
+    if isinstance(value, float):
+        raise ValueError(f'a number is read as a MIDI note and must be whole; write "{value:g}Hz" for a frequency')
+    if not isinstance(value, str):
+        raise ValueError('expected a note name such as "A3", a MIDI number or a frequency such as "110Hz"')
+    m = _NOTE_NAME.match(value.strip())
+    if m:
+        letter, accidental, octave = m.groups()
+        midi = 12 * (int(octave) + 1) + _LETTER[letter.lower()] + _ACCIDENTAL[accidental]
+        if not 0 <= midi <= 127:
+            raise ValueError("the note lies outside MIDI notes 0..127 (C-1 to G9)")
+        return midi_frequency(midi, concert_a=concert_a)
+    try:
+        return parse_quantity(value, FREQUENCY)
+    except QuantityError:
+        raise ValueError('expected a note name such as "A3", "C#4" or "Bb2", a MIDI number or a frequency such as "110Hz"') from None
+
+
+# ---------------------------------------------------------------------------
+# Stiffness
+
+
+def plain_string_tension(*, diameter: float, frequency: float, length: float, density: float = STEEL_DENSITY) -> float:
+    """Tension in N of a plain string of ``diameter`` m tuned to ``frequency`` Hz over ``length`` m.
+
+    From f0 = (1 / 2L) sqrt(T / mu), mu = density * pi d^2 / 4 (Mersenne's law).
+    """
+    mu = density * math.pi * diameter**2 / 4.0
+    return mu * (2.0 * length * frequency) ** 2
+
+
+def stiffness_inharmonicity(*, diameter: float, tension: float, length: float, modulus: float = STEEL_MODULUS) -> float:
+    """Inharmonicity B = pi^3 E d^4 / (64 T L^2) of a string with a solid core of ``diameter`` m.
+
+    From H. Fletcher, JASA 36(1):203-209, 1964 (from memory). ``tension`` in N,
+    ``length`` in m, ``modulus`` (Young's modulus E) in Pa.
+    """
+    return math.pi**3 * modulus * diameter**4 / (64.0 * tension * length**2)
+
+
+# ---------------------------------------------------------------------------
+# Messages
+
+
+def _show(value: object) -> str:
+    """A value as it would be written in TOML, for messages."""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, str):
+        return '"' + value.replace("\\", "\\\\").replace('"', '\\"') + '"'
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_show(v) for v in value) + "]"
+    if isinstance(value, dict):
+        return "{" + ", ".join(f"{k} = {_show(v)}" for k, v in value.items()) + "}"
+    return str(value)
+
+
+@dataclass(frozen=True)
+class _Where:
+    """Where a value sits, to build one-line messages."""
+
+    source: str
+    table: str  # "[instrument]", "[[note]] #3" or "" for the top level
+
+    def fail(self, key: str, value: object, constraint: str, fix: str | None = None) -> InputError:
+        where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
+        text = f"{where}{key}={_show(value)}: {constraint}"
+        return InputError(f"{text}; {fix}" if fix else text)
+
+    def missing(self, key: str, fix: str) -> InputError:
+        where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
+        return InputError(f"{where}{key} is missing; {fix}")
+
+
+def _check_keys(where: _Where, table: dict, known: tuple[str, ...]) -> None:
+    for key, value in table.items():
+        if key not in known:
+            close = difflib.get_close_matches(key, known, n=1, cutoff=0.6)
+            fix = f"did you mean {close[0]}?" if close else "known keys: " + ", ".join(known)
+            raise where.fail(key, value, "unknown key", fix)
+
+
+def _table(where: _Where, key: str, value: object) -> dict:
+    if not isinstance(value, dict):
+        raise where.fail(key, value, "expected a table", f"write it as {key} = {{ ... }} or a [{key}] section")
+    return value
+
+
+def _quantity(
+    where: _Where,
+    key: str,
+    value: object,
+    kind: Kind,
+    *,
+    low: float | None = None,
+    high: float | None = None,
+    low_open: bool = False,
+    shown: str = "",
+    fix: str | None = None,
+) -> float:
+    """Parse ``value`` as ``kind`` and check low <= x <= high (x > low when low_open)."""
+    try:
+        x = parse_quantity(value, kind)
+    except QuantityError as e:
+        raise where.fail(key, value, str(e)) from None
+    unit = f" {shown}" if shown else (f" {kind.unit}" if kind.unit else "")
+    if low is not None and (x <= low if low_open else x < low):
+        bound = f"> {low:g}{unit}" if low_open else f">= {low:g}{unit}"
+        if high is not None:
+            raise where.fail(key, value, f"must be {bound} and <= {high:g}{unit}", fix)
+        raise where.fail(key, value, f"must be {bound}", fix)
+    if high is not None and x > high:
+        lower = "" if low is None else (f"> {low:g}{unit} and " if low_open else f">= {low:g}{unit} and ")
+        raise where.fail(key, value, f"must be {lower}<= {high:g}{unit}", fix)
+    return x
+
+
+# ---------------------------------------------------------------------------
+# Parsing
+
+
+def load_phrase(path: str | Path) -> Phrase:
+    """Read and check a phrase file (TOML).
+
+    Parameters
+    ----------
+    path : str or Path
+        The phrase file.
+
+    Raises
+    ------
+    InputError
+        One line naming the file, table, ``key=value`` and the constraint.
+    """
+    p = Path(path)
+    name = str(path)
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise InputError(f"{name}: no such file; give the path of a phrase file (.toml)") from None
+    except IsADirectoryError:
+        raise InputError(f"{name}: is a folder; give the path of a phrase file (.toml)") from None
+    except OSError as e:
+        raise InputError(f"{name}: cannot be read ({e.strerror}); check the path and its permissions") from None
+    try:
+        data = tomllib.loads(raw.decode("utf-8"))
+    except UnicodeDecodeError:
+        raise InputError(f"{name}: is not UTF-8 text; a phrase file is TOML text") from None
+    except tomllib.TOMLDecodeError as e:
+        raise InputError(f"{name}: is not valid TOML ({e}); fix the syntax") from None
+    return parse_phrase(data, source=name)
+
+
+def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
+    """Check a phrase already parsed from TOML and build a :class:`Phrase`.
+
+    Parameters
+    ----------
+    data : dict
+        The TOML document.
+    source : str
+        The name used in messages (normally the file name).
+
+    Raises
+    ------
+    InputError
+        One line naming the source, table, ``key=value`` and the constraint.
+    """
+    top = _Where(source, "")
+    if not isinstance(data, dict):
+        raise InputError(f"{source}: expected a TOML document with [instrument], [[note]] and [[chord]] tables")
+    _check_keys(top, data, TOP_KEYS)
+    title = data.get("title", Path(source).stem if source != "<phrase>" else "phrase")
+    about = data.get("about", "")
+    for key, value in (("title", title), ("about", about)):
+        if not isinstance(value, str):
+            raise top.fail(key, value, "expected a string", f'write it in quotes: {key} = "..."')
+
+    instrument = _parse_instrument(source, data.get("instrument", {}))
+    playing = _parse_playing(source, data.get("playing", {}), instrument)
+
+    raw_notes = _event_list(top, data, "note")
+    raw_chords = _event_list(top, data, "chord")
+    if not raw_notes and not raw_chords:
+        raise InputError(
+            f"{source}: the phrase has no [[note]] or [[chord]] events; "
+            'add one, for example [[note]] with time = 0, string = 6, fret = 0'
+        )
+    events = len(raw_notes) + len(raw_chords)
+    if events > MAX_EVENTS:
+        raise InputError(f"{source}: events={events}: at most {MAX_EVENTS} [[note]] and [[chord]] entries; split the phrase")
+
+    notes: list[Note] = []
+    for i, entry in enumerate(raw_notes, start=1):
+        notes.append(_parse_note(_Where(source, f"[[note]] #{i}"), entry, instrument, playing))
+    for i, entry in enumerate(raw_chords, start=1):
+        notes.extend(_parse_chord(_Where(source, f"[[chord]] #{i}"), entry, instrument, playing))
+    ordered = tuple(sorted(notes, key=lambda n: n.time))  # stable: ties keep the file's order
+
+    _check_same_start(source, ordered)
+
+    if "seconds" in data:
+        seconds = _quantity(top, "seconds", data["seconds"], TIME, low=0.0, high=MAX_SECONDS, low_open=True)
+    else:
+        seconds = 0.0
+        for note in ordered:
+            seconds = max(seconds, note.time + DEFAULT_TAIL)
+            if note.duration is not None:
+                seconds = max(seconds, note.time + note.duration + 3.0 * instrument.release)
+        if seconds > MAX_SECONDS:
+            raise top.fail("seconds", round(seconds, 3), f"the phrase would last longer than {MAX_SECONDS:g} s", "shorten it")
+    return Phrase(
+        source=source,
+        title=title,
+        about=about,
+        instrument=instrument,
+        notes=ordered,
+        seconds=seconds,
+        events=events,
+    )
+
+
+def _event_list(top: _Where, data: dict, key: str) -> list[dict]:
+    value = data.get(key, [])
+    if isinstance(value, dict):
+        raise top.fail(key, value, "expected an array of tables", f"write each event under its own [[{key}]] header")
+    if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
+        raise top.fail(key, value, "expected an array of tables", f"write each event under its own [[{key}]] header")
+    return value
+
+
+def _per_string(where: _Where, key: str, value: object, strings: int, kind: Kind, *, low: float, high: float, low_open: bool) -> tuple[float, ...]:
+    """One value for every string, or a list with one per string (lowest first)."""
+    if isinstance(value, list):
+        if len(value) != strings:
+            raise where.fail(key, value, f"expected {strings} values (one per string, lowest first), got {len(value)}", "match the tuning's length")
+        out = []
+        for j, item in enumerate(value):
+            try:
+                out.append(_quantity(where, key, item, kind, low=low, high=high, low_open=low_open))
+            except InputError:
+                raise where.fail(key, value, _range_text(kind, low, high, low_open) + f" (entry {j + 1} is {_show(item)})") from None
+        return tuple(out)
+    x = _quantity(where, key, value, kind, low=low, high=high, low_open=low_open)
+    return (x,) * strings
+
+
+def _range_text(kind: Kind, low: float, high: float, low_open: bool) -> str:
+    unit = f" {kind.unit}" if kind.unit else ""
+    return f"each must be a {kind.name} {'>' if low_open else '>='} {low:g}{unit} and <= {high:g}{unit}"
+
+
+def _parse_instrument(source: str, table: object) -> Instrument:
+    top = _Where(source, "")
+    table = _table(top, "instrument", table)
+    where = _Where(source, "[instrument]")
+    _check_keys(where, table, INSTRUMENT_KEYS)
+    get = table.get
+    scale = _quantity(where, "scale_length", get("scale_length", DEFAULTS["scale_length"]), LENGTH, low=0.2, high=1.5)
+    concert_a = _quantity(where, "concert_a", get("concert_a", DEFAULTS["concert_a"]), FREQUENCY, low=380.0, high=480.0)
+
+    tuning = get("tuning", list(STANDARD_TUNING))
+    if not isinstance(tuning, list) or not 1 <= len(tuning) <= 12:
+        raise where.fail("tuning", tuning, "expected a list of 1 to 12 pitches, lowest string first", 'for example ["E2", "A2", "D3", "G3", "B3", "E4"]')
+    pitches = []
+    for item in tuning:
+        try:
+            f = pitch_frequency(item, concert_a=concert_a)
+        except ValueError as e:
+            raise where.fail("tuning", tuning, f"entry {_show(item)}: {e}") from None
+        if not 20.0 <= f <= 2000.0:
+            raise where.fail("tuning", tuning, f"entry {_show(item)} is {f:.4g} Hz; open strings must lie between 20 Hz and 2 kHz")
+        pitches.append(f)
+    strings = len(pitches)
+
+    if "inharmonicity" in table and "core_diameter" in table:
+        raise where.fail("core_diameter", table["core_diameter"], "give inharmonicity or core_diameter, not both", "remove one of them")
+    if "tension" in table and "core_diameter" not in table:
+        raise where.fail("tension", table["tension"], "tension needs core_diameter beside it", "add core_diameter, or give inharmonicity instead")
+    if "inharmonicity" in table:
+        inharm = _per_string(where, "inharmonicity", table["inharmonicity"], strings, RATIO, low=0.0, high=0.01, low_open=False)
+    elif "core_diameter" in table:
+        diameters = _per_string(where, "core_diameter", table["core_diameter"], strings, LENGTH, low=5e-5, high=2e-3, low_open=False)
+        if "tension" in table:
+            tensions = _per_string(where, "tension", table["tension"], strings, RATIO, low=5.0, high=500.0, low_open=False)
+        else:
+            tensions = tuple(plain_string_tension(diameter=d, frequency=f, length=scale) for d, f in zip(diameters, pitches))
+        inharm = tuple(stiffness_inharmonicity(diameter=d, tension=t, length=scale) for d, t in zip(diameters, tensions))
+        if max(inharm) > 0.01:
+            raise where.fail("core_diameter", table["core_diameter"], f"gives inharmonicity B up to {max(inharm):.3g}, beyond 0.01", "check the diameters (metres, or strings like \"0.43mm\")")
+    elif strings == len(STANDARD_INHARMONICITY):
+        inharm = STANDARD_INHARMONICITY
+    else:
+        inharm = (FALLBACK_INHARMONICITY,) * strings
+
+    decay = _quantity(where, "decay", get("decay", DEFAULTS["decay"]), TIME, low=0.05, high=60.0)
+    curvature = _quantity(where, "curvature_loss", get("curvature_loss", DEFAULTS["curvature_loss"]), RATIO, low=0.0, high=0.1, shown="m²/s")
+    mute_decay = _quantity(where, "mute_decay", get("mute_decay", DEFAULTS["mute_decay"]), TIME, low=0.005, high=10.0)
+    release = _quantity(where, "release", get("release", DEFAULTS["release"]), TIME, low=0.005, high=2.0)
+    return Instrument(
+        scale_length=scale,
+        concert_a=concert_a,
+        open_pitches=tuple(pitches),
+        inharmonicity=tuple(inharm),
+        decay=decay,
+        curvature_loss=curvature,
+        mute_decay=mute_decay,
+        release=release,
+    )
+
+
+@dataclass(frozen=True)
+class _Playing:
+    strength: float
+    pluck_at: float
+    mute: float
+    strum: float
+    direction: str
+
+
+def _strength(where: _Where, value: object) -> float:
+    return _quantity(where, "strength", value, LENGTH, low=0.0, high=0.01, low_open=True, fix='a pick moves the string about "0.5mm" to "2mm"')
+
+
+def _mute(where: _Where, value: object) -> float:
+    return _quantity(where, "mute", value, RATIO, low=0.0, high=1.0)
+
+
+def _strum(where: _Where, value: object) -> float:
+    return _quantity(where, "strum", value, TIME, low=0.0, high=2.0)
+
+
+def _direction(where: _Where, value: object) -> str:
+    if value not in ("down", "up"):
+        raise where.fail("direction", value, 'expected "down" (lowest string first) or "up"')
+    return value
+
+
+def _pluck_at(where: _Where, value: object) -> float:
+    return _quantity(where, "pluck_at", value, LENGTH, low=0.0, high=1.5, low_open=True)
+
+
+def _parse_playing(source: str, table: object, instrument: Instrument) -> _Playing:
+    table = _table(_Where(source, ""), "playing", table)
+    where = _Where(source, "[playing]")
+    _check_keys(where, table, PLAYING_KEYS)
+    pluck = _pluck_at(where, table.get("pluck_at", DEFAULTS["pluck_at"]))
+    if pluck >= instrument.scale_length:
+        raise where.fail("pluck_at", table.get("pluck_at"), f"must be shorter than the scale length {instrument.scale_length * 1e3:g} mm", "measure it from the bridge saddle")
+    return _Playing(
+        strength=_strength(where, table.get("strength", DEFAULTS["strength"])),
+        pluck_at=pluck,
+        mute=_mute(where, table.get("mute", DEFAULTS["mute"])),
+        strum=_strum(where, table.get("strum", DEFAULTS["strum"])),
+        direction=_direction(where, table.get("direction", DEFAULTS["direction"])),
+    )
+
+
+def _time(where: _Where, table: dict) -> float:
+    if "time" not in table:
+        raise where.missing("time", 'give the start in seconds, e.g. time = 0.5 or time = "500ms"')
+    return _quantity(where, "time", table["time"], TIME, low=0.0, high=MAX_SECONDS)
+
+
+def _duration(where: _Where, table: dict) -> float | None:
+    if "duration" not in table:
+        return None
+    return _quantity(where, "duration", table["duration"], TIME, low=0.0, high=MAX_SECONDS, low_open=True)
+
+
+def _string_number(where: _Where, value: object, strings: int) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or not 1 <= value <= strings:
+        raise where.fail("string", value, f"expected a whole number 1..{strings} (1 is the highest-pitched string)")
+    return value
+
+
+def _fret(where: _Where, key: str, value: object) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or not 0 <= value <= MAX_FRET:
+        raise where.fail(key, value, f"expected a whole fret number 0..{MAX_FRET} (0 is the open string)")
+    return value
+
+
+def _check_pluck(where: _Where, key_value: object, pluck: float, length: float, what: str) -> None:
+    if pluck >= length:
+        raise where.fail(
+            "pluck_at",
+            key_value,
+            f"must be shorter than the vibrating length {length * 1e3:.1f} mm ({what})",
+            "pluck nearer the bridge",
+        )
+
+
+def _parse_note(where: _Where, table: object, instrument: Instrument, playing: _Playing) -> Note:
+    _check_keys(where, table, NOTE_KEYS)
+    time = _time(where, table)
+    strings = instrument.strings
+    if "fret" in table and "pitch" in table:
+        raise where.fail("pitch", table["pitch"], "give fret or pitch, not both", "remove one of them")
+    if "fret" in table and "string" not in table:
+        raise where.fail("fret", table["fret"], "a fret needs a string", "add string = 1..%d" % strings)
+    if "fret" not in table and "pitch" not in table:
+        raise where.missing("pitch", 'give string and fret (string = 6, fret = 3) or a pitch (pitch = "A3")')
+    if "fret" in table:
+        string = _string_number(where, table["string"], strings)
+        fret: float = _fret(where, "fret", table["fret"])
+        open_f = instrument.open_pitch(string)
+        frequency = open_f * 2.0 ** (fret / 12.0)
+    else:
+        try:
+            frequency = pitch_frequency(table["pitch"], concert_a=instrument.concert_a)
+        except ValueError as e:
+            raise where.fail("pitch", table["pitch"], str(e)) from None
+        if "string" in table:
+            string = _string_number(where, table["string"], strings)
+        else:
+            string = _string_for(where, table["pitch"], frequency, instrument)
+        open_f = instrument.open_pitch(string)
+        fret = 12.0 * math.log2(frequency / open_f)
+        if fret < -0.005 or fret > MAX_FRET:
+            raise where.fail(
+                "pitch",
+                table["pitch"],
+                f"{frequency:.2f} Hz cannot be played on string {string} (open {open_f:.2f} Hz, frets 0..{MAX_FRET})",
+                "choose another string or leave string out",
+            )
+        fret = max(fret, 0.0)
+    length = instrument.scale_length * open_f / frequency
+    pluck = _pluck_at(where, table["pluck_at"]) if "pluck_at" in table else playing.pluck_at
+    _check_pluck(where, table.get("pluck_at", playing.pluck_at), pluck, length, f"string {string}, fret {fret:g}")
+    bend = _parse_bend(where, table["bend"]) if "bend" in table else None
+    vibrato = _parse_vibrato(where, table["vibrato"]) if "vibrato" in table else None
+    return Note(
+        time=time,
+        string=string,
+        fret=fret,
+        frequency=frequency,
+        length=length,
+        strength=_strength(where, table["strength"]) if "strength" in table else playing.strength,
+        pluck_at=pluck,
+        mute=_mute(where, table["mute"]) if "mute" in table else playing.mute,
+        duration=_duration(where, table),
+        bend=bend,
+        vibrato=vibrato,
+        spread=0.0,
+        origin=where.table,
+    )
+
+
+def _string_for(where: _Where, written: object, frequency: float, instrument: Instrument) -> int:
+    """The string that plays ``frequency`` lowest on the neck (the highest open pitch at or below it)."""
+    best = None
+    for string in range(1, instrument.strings + 1):
+        open_f = instrument.open_pitch(string)
+        if open_f <= frequency * (1.0 + 3e-4) and 12.0 * math.log2(frequency / open_f) <= MAX_FRET:
+            if best is None or open_f > instrument.open_pitch(best):
+                best = string
+    if best is None:
+        low = min(instrument.open_pitches)
+        raise where.fail(
+            "pitch",
+            written,
+            f"{frequency:.2f} Hz is outside the instrument's range ({low:.2f} Hz up to {MAX_FRET} frets above the highest string)",
+            "choose a pitch the tuning can play",
+        )
+    return best
+
+
+def _parse_bend(where: _Where, value: object) -> Bend:
+    table = _table(where, "bend", value)
+    inner = _Where(where.source, f"{where.table} bend")
+    _check_keys(inner, table, BEND_KEYS)
+    if "semitones" not in table:
+        raise inner.missing("semitones", "write bend = { semitones = 1, over = \"0.12s\" }")
+    semis = _quantity(inner, "semitones", table["semitones"], RATIO, low=-12.0, high=12.0)
+    over = _quantity(inner, "over", table.get("over", DEFAULTS["bend_over"]), TIME, low=0.0, high=MAX_SECONDS)
+    start = _quantity(inner, "start", table.get("start", 0.0), TIME, low=0.0, high=MAX_SECONDS)
+    return Bend(semitones=semis, start=start, over=over)
+
+
+def _parse_vibrato(where: _Where, value: object) -> Vibrato:
+    table = _table(where, "vibrato", value)
+    inner = _Where(where.source, f"{where.table} vibrato")
+    _check_keys(inner, table, VIBRATO_KEYS)
+    if "depth_cents" not in table:
+        raise inner.missing("depth_cents", "write vibrato = { depth_cents = 20, rate_hz = 5.5 }")
+    depth = _quantity(inner, "depth_cents", table["depth_cents"], RATIO, low=0.0, high=200.0, shown="cents")
+    rate = _quantity(inner, "rate_hz", table.get("rate_hz", DEFAULTS["vibrato_rate"]), FREQUENCY, low=0.1, high=20.0)
+    start = _quantity(inner, "start", table.get("start", 0.0), TIME, low=0.0, high=MAX_SECONDS)
+    return Vibrato(depth_cents=depth, rate_hz=rate, start=start)
+
+
+def _parse_chord(where: _Where, table: object, instrument: Instrument, playing: _Playing) -> list[Note]:
+    _check_keys(where, table, CHORD_KEYS)
+    time = _time(where, table)
+    strings = instrument.strings
+    if "frets" not in table:
+        raise where.missing("frets", 'give one fret per string, lowest string first, "x" for a string not played, e.g. frets = [3, 2, 0, 0, 0, 3]')
+    frets_raw = table["frets"]
+    if not isinstance(frets_raw, list) or len(frets_raw) != strings:
+        got = len(frets_raw) if isinstance(frets_raw, list) else "not a list"
+        raise where.fail("frets", frets_raw, f"expected a list of {strings} frets, lowest string first (got {got})", 'use "x" for a string not played')
+    played: list[tuple[int, int]] = []  # (string, fret)
+    for j, item in enumerate(frets_raw):
+        string = strings - j
+        if isinstance(item, str) and item.strip().lower() == "x":
+            continue
+        if isinstance(item, bool) or not isinstance(item, int) or not 0 <= item <= MAX_FRET:
+            raise where.fail("frets", frets_raw, f"entry {j + 1} ({_show(item)}) must be a fret 0..{MAX_FRET} or \"x\" for a string not played")
+        played.append((string, item))
+    if not played:
+        raise where.fail("frets", frets_raw, "no string is played", "give at least one fret number")
+    strum = _strum(where, table["strum"]) if "strum" in table else playing.strum
+    direction = _direction(where, table["direction"]) if "direction" in table else playing.direction
+    strength = _strength(where, table["strength"]) if "strength" in table else playing.strength
+    pluck = _pluck_at(where, table["pluck_at"]) if "pluck_at" in table else playing.pluck_at
+    mute = _mute(where, table["mute"]) if "mute" in table else playing.mute
+    duration = _duration(where, table)
+    # Down strokes reach the lowest string first.
+    played.sort(key=lambda sf: -sf[0] if direction == "down" else sf[0])
+    gap = strum / (len(played) - 1) if len(played) > 1 else 0.0
+    notes = []
+    for k, (string, fret) in enumerate(played):
+        open_f = instrument.open_pitch(string)
+        frequency = open_f * 2.0 ** (fret / 12.0)
+        length = instrument.scale_length * open_f / frequency
+        _check_pluck(where, table.get("pluck_at", playing.pluck_at), pluck, length, f"string {string}, fret {fret}")
+        notes.append(
+            Note(
+                time=time + k * gap,
+                string=string,
+                fret=float(fret),
+                frequency=frequency,
+                length=length,
+                strength=strength,
+                pluck_at=pluck,
+                mute=mute,
+                duration=None if duration is None else max(duration - k * gap, 1e-3),
+                bend=None,
+                vibrato=None,
+                spread=STRUM_SPREAD * gap,
+                origin=where.table,
+            )
+        )
+    return notes
+
+
+def _check_same_start(source: str, notes: tuple[Note, ...]) -> None:
+    """Refuse two notes that start on one string at the same moment."""
+    seen: dict[tuple[int, float], Note] = {}
+    for note in notes:
+        key = (note.string, round(note.time, 9))
+        if key in seen:
+            other = seen[key]
+            raise InputError(
+                f"{source}: {note.origin} time={note.time:g}: string {note.string} already starts a note "
+                f"at that moment ({other.origin}); a string plays one note at a time, so move one of them"
+            )
+        seen[key] = note
+
+
+def describe(phrase: Phrase) -> dict:
+    """A short JSON-ready description of a phrase, for run records."""
+    return {
+        "kind": "phrase",
+        "file": phrase.source,
+        "title": phrase.title,
+        "seconds": phrase.seconds,
+        "events": phrase.events,
+        "notes": len(phrase.notes),
+        "scale_length_m": phrase.instrument.scale_length,
+        "open_pitches_hz": list(phrase.instrument.open_pitches),
+    }

@@ -1,0 +1,52 @@
+"""Speed of the string synthesis (run by hand: ``python tests/dry/bench_dry_synthesis.py``).
+
+Prints the time to synthesise a 10 s six-string phrase at 48 kHz at two
+sensing points, and the ratio to real time. Target of our own: well under
+one second. Not collected by pytest (no unit test is timed).
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT))
+
+from render.dry.modal import string_velocity  # noqa: E402
+from render.dry.phrase import load_phrase, parse_phrase  # noqa: E402
+
+TEN_SECONDS = {
+    "seconds": 10.0,
+    "chord": [
+        {"time": 0.0, "frets": [0, 2, 2, 1, 0, 0]},
+        {"time": 2.5, "frets": [3, 2, 0, 0, 0, 3]},
+        {"time": 5.0, "frets": ["x", 0, 2, 2, 2, 0], "direction": "up"},
+        {"time": 7.5, "frets": [0, 2, 2, 0, 0, 0]},
+    ],
+    "note": [{"time": 0.25 * k, "string": 6, "fret": 0, "mute": 0.7} for k in range(1, 10)]
+    + [{"time": 3.0, "string": 1, "fret": 7, "bend": {"semitones": 1, "over": 0.1}, "duration": 1.0}],
+}
+
+
+def best_of(fn, repeats=5):
+    fn()  # warm up
+    times = []
+    for _ in range(repeats):
+        t = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t)
+    return min(times)
+
+
+def main() -> None:
+    cases = [("10 s, six strings (4 chords, 9 muted notes, a bend)", parse_phrase(TEN_SECONDS, source="bench"))]
+    cases += [(f"dry_signals/{p.name}", load_phrase(p)) for p in sorted((ROOT / "dry_signals").glob("*.toml"))]
+    for label, phrase in cases:
+        seconds = best_of(lambda: string_velocity(phrase, sample_rate=48000, positions=[0.045, 0.063], apertures=[0.02, 0.02]))
+        print(f"{label:60s} {phrase.seconds:5.1f} s audio  {seconds * 1e3:7.1f} ms  ({phrase.seconds / seconds:6.0f}x real time)")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,110 @@
+"""``render dry``: the command object driven through click's test runner."""
+
+from __future__ import annotations
+
+import os
+
+import numpy as np
+import pytest
+import soundfile as sf
+from click.testing import CliRunner
+
+from render.cli.dry import dry_command
+
+PHRASE = """\
+title = "two plucks"
+seconds = 1.0
+[[note]]
+time = 0
+string = 6
+fret = 0
+[[note]]
+time = 0.5
+pitch = "A3"
+"""
+
+
+@pytest.fixture()
+def phrase(tmp_path):
+    path = tmp_path / "two.toml"
+    path.write_text(PHRASE)
+    return path
+
+
+def run(*args):
+    return CliRunner().invoke(dry_command, [str(a) for a in args])
+
+
+def test_writes_a_float_wav_and_a_spectrogram(phrase, tmp_path):
+    out = tmp_path / "two.wav"
+    result = run(phrase, "--out", out, "--position", "40mm", "--aperture", "20mm", "--sample-rate", 44100)
+    assert result.exit_code == 0, result.output
+    assert "wrote" in result.output and "peak" in result.output
+    info = sf.info(out)
+    assert (info.samplerate, info.channels, info.subtype, info.frames) == (44100, 1, "FLOAT", 44100)
+    png = tmp_path / "two-spectrogram.png"
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    v, _ = sf.read(out)
+    assert np.all(np.isfinite(v)) and np.abs(v).max() > 0.01  # m/s, full scale 1 m/s
+
+
+def test_refuses_to_overwrite_without_the_flag(phrase, tmp_path):
+    out = tmp_path / "x.wav"
+    assert run(phrase, "--out", out, "--no-spectrogram").exit_code == 0
+    before = out.read_bytes()
+    result = run(phrase, "--out", out, "--no-spectrogram", "--seed", 5)
+    assert result.exit_code == 1
+    assert result.output.strip().splitlines() == [f"Error: {out}: exists; pass --overwrite to replace it or choose another name"]
+    assert out.read_bytes() == before
+    again = run(phrase, "--out", out, "--no-spectrogram", "--seed", 5, "--overwrite")
+    assert again.exit_code == 0 and out.read_bytes() != before
+
+
+def test_an_existing_spectrogram_also_blocks(phrase, tmp_path):
+    (tmp_path / "y-spectrogram.png").write_bytes(b"old")
+    result = run(phrase, "--out", tmp_path / "y.wav")
+    assert result.exit_code == 1 and "y-spectrogram.png: exists" in result.output
+    assert not (tmp_path / "y.wav").exists()
+
+
+def test_output_is_byte_identical_for_identical_inputs(phrase, tmp_path):
+    a, b = tmp_path / "a.wav", tmp_path / "b.wav"
+    assert run(phrase, "--out", a, "--seed", 2).exit_code == 0
+    assert run(phrase, "--out", b, "--seed", 2).exit_code == 0
+    assert a.read_bytes() == b.read_bytes()
+    assert (tmp_path / "a-spectrogram.png").read_bytes() == (tmp_path / "b-spectrogram.png").read_bytes()
+
+
+def test_bad_inputs_exit_1_with_one_line_and_write_nothing(phrase, tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[[note]]\ntime = 0\nstring = 6\nfret = 0\nstrenght = "1mm"\n')
+    cases = [
+        ((bad,), "bad.toml: [[note]] #1 strenght=\"1mm\": unknown key; did you mean strength?"),
+        ((tmp_path / "none.toml",), "none.toml: no such file"),
+        ((phrase, "--position", "700mm"), "--position=700mm: must be shorter than the scale length 648 mm"),
+        ((phrase, "--position", "4 furlongs"), "--position=4 furlongs: cannot read"),
+        ((phrase, "--aperture", "-3mm"), "--aperture=-3mm: must be >= 0"),
+        ((phrase, "--sample-rate", 100), "--sample-rate=100: must be from 8000 to 384000 Hz"),
+        ((phrase, "--seconds", "-1s"), "--seconds=-1s: must be > 0 s"),
+    ]
+    for args, text in cases:
+        out = tmp_path / "z.wav"
+        result = run(*args, "--out", out)
+        assert result.exit_code == 1, (args, result.output)
+        lines = result.output.strip().splitlines()
+        assert len(lines) == 1 and text in lines[0], (args, result.output)
+        assert not out.exists() and not (tmp_path / "z-spectrogram.png").exists()
+    leftovers = [n for n in os.listdir(tmp_path) if n.endswith(".part")]
+    assert leftovers == []
+
+
+def test_usage_errors_exit_2(phrase):
+    assert run(phrase).exit_code == 2  # --out is required
+    assert run(phrase, "--out", "o.wav", "--seed", "many").exit_code == 2
+
+
+def test_seconds_option_sets_the_length(phrase, tmp_path):
+    out = tmp_path / "short.wav"
+    assert run(phrase, "--out", out, "--seconds", "250ms", "--no-spectrogram").exit_code == 0
+    assert sf.info(out).frames == 12000
+    assert not (tmp_path / "short-spectrogram.png").exists()
