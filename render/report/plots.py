@@ -82,3 +82,36 @@ def response_plot(path, f, curves, *, passive=None, title="", overwrite=False):
         ax1.set_title(title, fontsize=10, loc="left")
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)
+
+
+def rejection_plot(path, f, curves, *, marks=(), overwrite=False):
+    """Hum rejection (dB) against frequency, mains harmonics marked."""
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(8, 4.5))
+    for i, (label, r) in enumerate(curves):
+        ax.plot(f, r, color=PALETTE[i % len(PALETTE)], lw=1.8, label=label)
+    for m in marks:
+        ax.axvline(m, color=CLAY, lw=0.7, ls=":", alpha=0.8)
+    _hz_axis(ax, f[0], f[-1])
+    ax.set_xlabel("frequency (Hz); dotted: mains harmonics")
+    ax.set_ylabel("hum rejection (dB)")
+    ax.legend(fontsize=8, frameon=False)
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
+
+
+def histogram_plot(path, values, *, xlabel, title="", overwrite=False):
+    """Histogram of Monte Carlo results with the median and 5th percentile marked."""
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(7, 4))
+    ax.hist(values, bins=50, color=PALETTE[1], alpha=0.85)
+    for q, ls, name in ((50, "-", "median"), (5, "--", "5th percentile")):
+        v = np.percentile(values, q)
+        ax.axvline(v, color=INK, ls=ls, lw=1.2, label=f"{name} {v:.1f} dB")
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel("trials")
+    ax.legend(fontsize=8, frameon=False)
+    if title:
+        ax.set_title(title, fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
