@@ -365,9 +365,11 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
     too_low = value < spec.lo or (spec.lo_open and value <= spec.lo)
     too_high = value > spec.hi or (spec.hi_open and value >= spec.hi)
     if too_low or too_high:
-        lo = U.format_si(spec.lo, unit) if spec.lo else "0"
-        rng = f"{'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {U.format_si(spec.hi, unit)}"
-        raise InputError(f"{where}={raw!r} ({U.format_si(value, unit)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec)}")
+        # a plain number (k², a knob rotation) without SI prefixes: "0.95", not "950 m"
+        fmt = (lambda x: U.format_si(x, unit)) if unit else (lambda x: f"{x:g}")
+        lo = fmt(spec.lo) if spec.lo else "0"
+        rng = f"{'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {fmt(spec.hi)}"
+        raise InputError(f"{where}={raw!r} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec)}")
     return value
 
 

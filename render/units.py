@@ -103,7 +103,10 @@ def parse_quantity(value: object, kind: Kind) -> float:
     if isinstance(value, bool):
         raise QuantityError(f"expected a {kind.name}, got a true/false value")
     if isinstance(value, (int, float)):
-        x = float(value)
+        try:
+            x = float(value)
+        except OverflowError:  # a TOML integer has no size limit in tomllib
+            raise QuantityError(f"expected a finite {kind.name}, got an integer far too large") from None
         if not math.isfinite(x):
             raise QuantityError(f"expected a finite {kind.name}")
         return x
@@ -127,6 +130,8 @@ def parse_quantity(value: object, kind: Kind) -> float:
     # number followed by one prefix letter
     prefixes = {**PREFIXES, "c": -2} if kind.symbols and kind.symbols[0] in ("m", "m²") else PREFIXES
     if len(body) >= 2 and body[-1] in prefixes and _NUMBER_RE.match(body[:-1]):
+        if "e" in body[:-1].lower():  # "1e3k": float("1e3e3") would raise a bare ValueError
+            raise QuantityError(f"cannot read {value!r} as a {kind.name}: use an exponent or a prefix, not both (e.g. \"4.7e3\" or \"4.7k\")")
         return _finite(float(f"{body[:-1]}e{prefixes[body[-1]] * kind.power}"), kind)
     # RKM: the letter stands for the decimal point
     m = _RKM_RE.match(body)

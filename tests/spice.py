@@ -1,6 +1,7 @@
 """ngspice as the circuit reference: netlists written here, from the design
-file's values and the interface contract's topology, independently of the
-engine's algebra (Debian package ``ngspice``, batch mode, ``wrdata``).
+file's values and the circuit's topology (coils, input networks, difference
+amplifier, output network, controls, cable), independently of the engine's
+algebra (Debian package ``ngspice``, batch mode, ``wrdata``).
 
 Only the test suite uses this module.
 """
@@ -18,7 +19,7 @@ import numpy as np
 import pytest
 
 NGSPICE = shutil.which("ngspice")
-A0 = 1e6  # open-loop gain of the GBW op-amp (interface contract §2)
+A0 = 1e6  # open-loop DC gain of the design format's GBW-limited op-amp model
 IDEAL_GAIN = 1e10  # VCVS gain standing in for an ideal op-amp
 
 
@@ -49,10 +50,11 @@ def _coil_lines(tag, coil, hot, cold, gain_node, gain):
     if coil.eddy_coupling:
         l2 = coil.inductance
         r2 = 2 * math.pi * coil.eddy_corner * l2
+        # shorted secondary (own element and node names: "R{tag}s" is the input's series_r)
         lines += [
-            f"L{tag}s {tag}s1 0 {l2!r}",
-            f"R{tag}s {tag}s1 0 {r2!r}",
-            f"K{tag} L{tag} L{tag}s {math.sqrt(coil.eddy_coupling)!r}",
+            f"L{tag}sec {tag}sec1 0 {l2!r}",
+            f"R{tag}sec {tag}sec1 0 {r2!r}",
+            f"K{tag} L{tag} L{tag}sec {math.sqrt(coil.eddy_coupling)!r}",
         ]
     lines.append(f"C{tag}w {hot} {cold} {coil.capacitance!r}")
     return lines
@@ -82,8 +84,12 @@ def _rig_lines(jack, rig, *, passive):
     return lines
 
 
-def active_netlist(d, *, wa, wb):
-    """The active circuit, coil EMFs wa·V(drive) and wb·V(drive)."""
+def active_netlist(d, *, wa, wb, rig=True):
+    """The active circuit, coil EMFs wa·V(drive) and wb·V(drive).
+
+    ``rig=False`` leaves the jack open (no controls, cable or amp), for
+    measuring the output impedance with :func:`jack_probe`.
+    """
     a, b, ia, ib = d.coil_a, d.coil_b, d.input_a, d.input_b
     L = ["* active pickup", "Vdrive drive 0 DC 0 AC 1"]
     L += _coil_lines("a", a, "ta", "0", "drive", wa)
@@ -116,17 +122,27 @@ def active_netlist(d, *, wa, wb):
     L += [f"Cc out o1 {d.output.coupling_c!r}", f"Ro o1 jack {d.output.series_r!r}"]
     if d.output.shunt_r:
         L.append(f"Rsh jack 0 {d.output.shunt_r!r}")
-    L += _rig_lines("jack", d.rig, passive=False)
+    if rig:
+        L += _rig_lines("jack", d.rig, passive=False)
     return L
 
 
-def passive_netlist(d, *, wa, wb):
+def passive_netlist(d, *, wa, wb, rig=True):
     """Passive reference: ground - coil_b (reversed) - m - coil_a - jack."""
     L = ["* passive reference", "Vdrive drive 0 DC 0 AC 1"]
     L += _coil_lines("b", d.coil_b, "0", "m", "drive", wb)
     L += _coil_lines("a", d.coil_a, "jack", "m", "drive", wa)
-    L += _rig_lines("jack", d.rig, passive=True)
+    if rig:
+        L += _rig_lines("jack", d.rig, passive=True)
     return L
+
+
+def jack_probe(netlist_lines):
+    """Add a 1 A AC current into the jack: V(jack) is then the impedance there (ohm).
+
+    Use with both EMF weights zero and ``rig=False``.
+    """
+    return list(netlist_lines) + ["Iprobe 0 jack DC 0 AC 1"]
 
 
 def run_ac(netlist_lines, nodes, frequencies_hz):

@@ -1,0 +1,230 @@
+"""Quantities: IEC 60062 RKM codes and SI prefixes, both directions."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from render import units as U
+from render.units import (
+    AREA,
+    CAPACITANCE,
+    FLUX_DENSITY,
+    FREQUENCY,
+    INDUCTANCE,
+    LENGTH,
+    RESISTANCE,
+    TIME,
+    VOLTAGE,
+    QuantityError,
+    format_rkm,
+    format_si,
+    parse_quantity,
+)
+
+# IEC 60062:2016 (+A1:2019), RKM code: the multiplier letter stands for the decimal point.
+RKM_RESISTORS = [
+    ("R47", 0.47),
+    ("4R7", 4.7),
+    ("470R", 470.0),
+    ("4K7", 4.7e3),
+    ("47K3", 47.3e3),
+    ("1M0", 1.0e6),
+]
+RKM_CAPACITORS = [
+    ("10p", 10e-12),
+    ("2n2", 2.2e-9),
+    ("4n7", 4.7e-9),
+    ("1µ0", 1.0e-6),
+]
+
+
+@pytest.mark.parametrize("code, value", RKM_RESISTORS)
+def test_rkm_resistor_codes_read(code, value):
+    assert parse_quantity(code, RESISTANCE) == pytest.approx(value, rel=1e-15)  # IEC 60062
+    # "4k7": lowercase k is the SI kilo symbol (SI Brochure, 9th ed., 2019); read the same
+    assert parse_quantity(code.replace("K", "k"), RESISTANCE) == pytest.approx(value, rel=1e-15)
+
+
+@pytest.mark.parametrize("code, value", RKM_CAPACITORS)
+def test_rkm_capacitor_codes_read(code, value):
+    assert parse_quantity(code, CAPACITANCE) == pytest.approx(value, rel=1e-15)  # IEC 60062
+
+
+def test_rkm_ascii_micro():
+    # "4u7" for 4.7 µF: ASCII u for µ (common practice, no source)
+    assert parse_quantity("4u7", CAPACITANCE) == pytest.approx(4.7e-6, rel=1e-15)
+    assert parse_quantity("1u0", CAPACITANCE) == parse_quantity("1µ0", CAPACITANCE)
+
+
+@pytest.mark.parametrize("code, value", RKM_RESISTORS)
+def test_rkm_resistor_codes_written(code, value):
+    # IEC 60062 writes the kilo letter as "K"; the writer uses the SI "k", so compare
+    # case-insensitively (M stays M: mega, never milli)
+    assert format_rkm(value).upper() == code.upper()
+    assert format_rkm(value)[-1] != "m" and "m" not in format_rkm(value)
+
+
+@pytest.mark.parametrize("code, value", RKM_CAPACITORS + [("4u7", 4.7e-6)])
+def test_rkm_capacitor_codes_written(code, value):
+    # IEC 60062; the writer spells µ as ASCII "u" (common practice, no source)
+    assert format_rkm(value, "") == code.replace("µ", "u")
+
+
+def test_rkm_r_is_ohms_only():
+    # IEC 60062: R marks the decimal point of a resistance in ohms, not of a capacitance
+    with pytest.raises(QuantityError, match="ohms"):
+        parse_quantity("4R7", CAPACITANCE)
+
+
+# E12 series, IEC 60063:2015
+E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
+
+
+@pytest.mark.parametrize("decade", range(-1, 8))
+def test_e12_resistors_round_trip(decade):
+    # E12 (IEC 60063) from 0.1 Ω to 82 MΩ, written as RKM codes (IEC 60062) and read back
+    for m in E12:
+        x = float(f"{m}e{decade}")
+        code = format_rkm(x)
+        assert len(code) <= 4, code  # IEC 60062: two significant digits and one letter
+        assert parse_quantity(code, RESISTANCE) == pytest.approx(x, rel=1e-12), code
+
+
+@pytest.mark.parametrize("decade", range(-12, -5))
+def test_e12_capacitors_round_trip(decade):
+    # E12 from 1 pF to 8.2 µF, RKM codes (IEC 60062) and back
+    for m in E12:
+        x = float(f"{m}e{decade}")
+        code = format_rkm(x, "")
+        assert parse_quantity(code, CAPACITANCE) == pytest.approx(x, rel=1e-12), code
+
+
+# SI prefixes and unit symbols (SI Brochure, 9th ed., BIPM 2019: prefixes f p n µ m k M G)
+SI_CASES = [
+    ("22k", RESISTANCE, 22e3),
+    ("22kΩ", RESISTANCE, 22e3),
+    ("22 kΩ", RESISTANCE, 22e3),
+    ("22kohm", RESISTANCE, 22e3),
+    ("22K", RESISTANCE, 22e3),  # "K" read as kilo (common practice, no source)
+    ("100nF", CAPACITANCE, 100e-9),
+    ("100n", CAPACITANCE, 100e-9),
+    ("470pF", CAPACITANCE, 470e-12),
+    ("180mH", INDUCTANCE, 0.18),
+    ("2.5H", INDUCTANCE, 2.5),
+    ("30mm", LENGTH, 0.03),
+    ("6m", LENGTH, 6.0),  # the unit symbol is matched first: six metres
+    ("1uT", FLUX_DENSITY, 1e-6),
+    ("1µT", FLUX_DENSITY, 1e-6),
+    ("60Hz", FREQUENCY, 60.0),
+    ("3MHz", FREQUENCY, 3e6),
+    ("9V", VOLTAGE, 9.0),
+    ("20ms", TIME, 0.02),
+    ("5cm2", AREA, 5e-4),  # the prefix applies to the metre before squaring: (1e-2 m)²
+    ("4.7e3", RESISTANCE, 4.7e3),
+    (4700, RESISTANCE, 4.7e3),  # TOML numbers are SI base units
+    (2.2e-9, CAPACITANCE, 2.2e-9),
+]
+
+
+@pytest.mark.parametrize("text, kind, value", SI_CASES)
+def test_si_prefixes_and_units(text, kind, value):
+    assert parse_quantity(text, kind) == pytest.approx(value, rel=1e-15)
+
+
+@pytest.mark.parametrize(
+    "text, kind, value",
+    [
+        # SI Brochure: M is mega and m is milli, always
+        ("1M", RESISTANCE, 1e6),
+        ("1m", RESISTANCE, 1e-3),
+        ("1MΩ", RESISTANCE, 1e6),
+        ("1mΩ", RESISTANCE, 1e-3),
+        ("1MHz", FREQUENCY, 1e6),
+        ("1mHz", FREQUENCY, 1e-3),
+        ("1mm", LENGTH, 1e-3),
+        ("1Mm", LENGTH, 1e6),
+        ("1mF", CAPACITANCE, 1e-3),
+    ],
+)
+def test_mega_is_never_milli(text, kind, value):
+    assert parse_quantity(text, kind) == pytest.approx(value, rel=1e-15)
+
+
+@pytest.mark.parametrize(
+    "text, kind, unit",
+    [
+        ("100nF", RESISTANCE, "F"),
+        ("22kΩ", CAPACITANCE, "Ω"),
+        ("60Hz", LENGTH, "Hz"),
+        ("2.5H", CAPACITANCE, "H"),
+        ("9V", FREQUENCY, "V"),
+        ("1uT", CAPACITANCE, "T"),
+        ("3s", RESISTANCE, "s"),
+        ("1kHz", VOLTAGE, "Hz"),
+    ],
+)
+def test_wrong_units_refused(text, kind, unit):
+    # a unit symbol that does not belong to the field's kind (SI Brochure symbols)
+    with pytest.raises(QuantityError, match=f"unit '{unit}' does not fit a {kind.name}"):
+        parse_quantity(text, kind)
+
+
+@pytest.mark.parametrize(
+    "value",
+    ["", "   ", "abc", "4k7k", "1..2", "k7", "1.5M0", "1e3k", "22 kΩΩ", "nan", "inf", "1e999", True, None, [1], {"a": 1}, math.nan, math.inf, -math.inf, 10**400],
+)
+def test_unreadable_values_refused(value):
+    # none of these is a number, an SI-prefixed number (SI Brochure) or an RKM code (IEC 60062)
+    with pytest.raises(QuantityError):
+        parse_quantity(value, RESISTANCE)
+
+
+def test_format_si():
+    # SI Brochure, 9th ed.: prefix symbols written before the unit symbol, a space before both
+    assert format_si(4700, "Ω") == "4.7 kΩ"
+    assert format_si(22e-9, "F") == "22 nF"
+    assert format_si(0.18, "H") == "180 mH"
+    assert format_si(3e6, "Hz") == "3 MHz"
+    assert format_si(9.0, "V") == "9 V"
+
+
+KINDS = [v for v in vars(U).values() if isinstance(v, U.Kind)]
+NUMERIC_TEXT = st.from_regex(r"[+-]?\d{0,4}\.?\d{0,4}([eE][+-]?\d{1,4})?[a-zA-Zµμ]?\d{0,3}(Ω|ohms?|[FHVTsRm]|Hz|m2|m²|F/m| )?", fullmatch=True)
+UNIT_SOUP = st.text(alphabet=st.sampled_from(list("0123456789.+-eERkKMmGunpfcµμΩ FHVzsTA/√²^ohmx\u2009")), max_size=12)
+
+
+@settings(max_examples=1500, deadline=None)
+@given(value=st.one_of(st.text(), NUMERIC_TEXT, UNIT_SOUP), kind=st.sampled_from(KINDS))
+def test_parse_never_raises_anything_but_quantity_error(value, kind):
+    # property: any text is either a finite float or refused with QuantityError
+    try:
+        x = parse_quantity(value, kind)
+    except QuantityError:
+        return
+    assert isinstance(x, float) and math.isfinite(x)
+
+
+@settings(max_examples=300, deadline=None)
+@given(
+    value=st.one_of(st.integers(min_value=-(10**500), max_value=10**500), st.floats(), st.booleans(), st.none(), st.lists(st.integers(), max_size=2)),
+    kind=st.sampled_from(KINDS),
+)
+def test_parse_non_text_values(value, kind):
+    # property: TOML can give integers of any size (tomllib), floats incl. inf/nan, booleans, arrays
+    try:
+        x = parse_quantity(value, kind)
+    except QuantityError:
+        return
+    assert isinstance(x, float) and math.isfinite(x)
+
+
+@settings(max_examples=500, deadline=None)
+@given(x=st.floats(min_value=0.1, max_value=9.99e9))
+def test_rkm_round_trip_keeps_three_digits(x):
+    # property: a 3-digit RKM code (IEC 60062) is within half a unit of its third digit
+    y = parse_quantity(format_rkm(x), RESISTANCE)
+    assert abs(y - x) <= 0.5 * 10 ** (math.floor(math.log10(x)) - 2) * (1 + 1e-12)
