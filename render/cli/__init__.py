@@ -18,6 +18,7 @@ COMMANDS = {
     "check": ("render.cli.check", "check_command", "Validate design files and print their derived values."),
     "response": ("render.cli.response", "response_command", "Small-signal response from string velocity to the amp input."),
     "dry": ("render.cli.dry", "dry_command", "Preview a phrase's string velocity as a WAV."),
+    "fit": ("render.cli.fit", "fit_command", "Search buyable part values that meet stated aims."),
     "hum": ("render.cli.hum", "hum_command", "Hum cancellation per mains harmonic, with a tolerance Monte Carlo."),
 }
 

@@ -1,0 +1,484 @@
+"""Search part values that meet a voicing's stated aims.
+
+A fit file names aims on the figures of :mod:`render.analysis.figures` and
+the parts that may change, each with a range and a preferred-number series
+to snap to. The search:
+
+1. a global search over the free parts' log-scaled ranges
+   (``scipy.optimize.differential_evolution``, vectorised through the
+   engine, seeded);
+2. snapping every part to its series (IEC 60063) within its range;
+3. a discrete local search around the snapped points (one or two series
+   steps per part at a time), so every written value is one a person can buy.
+
+The score says how far the aims are missed, zero when all hold: the sum over
+aims of the miss divided by the aim's tolerance (a frequency aim given as a
+percentage is judged on a log scale). Ties go to fewer changed parts, then
+to smaller changes (sum of |log| ratios) from the start design.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .. import units as U
+from ..design import DESIGN_TABLES, Field, load_design, read_toml, read_value
+from ..eseries import SERIES, values_between
+from ..errors import InputError
+
+FIGURES = (
+    "level_1k_db", "peak_hz", "peak_db", "resonance_hz", "resonance_db", "q", "bass_corner_hz", "treble_corner_hz",
+    "gain_vs_passive_db", "hum_rejection_db", "headroom_v", "headroom_up_v", "headroom_down_v", "cable_loss_db",
+)
+# default scale of a one-sided bound's miss (a 'min' or 'max' with no tolerance): common practice, no source
+BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
+# what an undefined figure counts as when scored
+UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0}
+FREE_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
+
+
+def _unit_of(name: str) -> str:
+    if name.endswith("_hz"):
+        return "hz"
+    if name.endswith("_v"):
+        return "v"
+    if name == "q":
+        return "q"
+    return "db"
+
+
+@dataclass(frozen=True)
+class Aim:
+    figure: str
+    value: float | None = None
+    within: float | None = None  # absolute, in the figure's unit
+    within_rel: float | None = None  # relative (from "5%")
+    lo: float | None = None
+    hi: float | None = None
+
+    def describe(self) -> str:
+        if self.value is not None:
+            tol = f"{self.within_rel * 100:g} %" if self.within_rel is not None else f"{self.within:g}"
+            return f"{self.figure} = {self.value:g} ± {tol}"
+        parts = []
+        if self.lo is not None:
+            parts.append(f"≥ {self.lo:g}")
+        if self.hi is not None:
+            parts.append(f"≤ {self.hi:g}")
+        return f"{self.figure} {' and '.join(parts)}"
+
+    def miss(self, x: np.ndarray) -> np.ndarray:
+        """Normalised miss (0 when the aim holds) for figure values ``x``."""
+        x = np.asarray(x, float)
+        if self.value is not None:
+            if self.within_rel is not None:
+                if _unit_of(self.figure) == "hz":
+                    return np.maximum(0.0, np.abs(np.log(np.maximum(x, 1e-9) / self.value)) - math.log1p(self.within_rel)) / math.log1p(self.within_rel)
+                tol = abs(self.value) * self.within_rel
+            else:
+                tol = self.within
+            tol = max(tol, 1e-12)
+            return np.maximum(0.0, np.abs(x - self.value) - tol) / tol
+        out = np.zeros_like(x)
+        for bound, sign in ((self.lo, 1.0), (self.hi, -1.0)):
+            if bound is None:
+                continue
+            scale = BOUND_SCALE[_unit_of(self.figure)] or 0.05 * abs(bound)
+            out += np.maximum(0.0, sign * (bound - x)) / scale
+        return out
+
+
+@dataclass(frozen=True)
+class Free:
+    name: str  # "table.key"
+    table: str
+    key: str
+    spec: Field
+    lo: float
+    hi: float
+    series: str | None  # None: continuous
+    choices: np.ndarray | None  # the series values in range
+    tie: int | None = None  # index of the free part whose value this one copies
+
+
+@dataclass(frozen=True)
+class FitSpec:
+    source: str
+    start_path: str
+    aims: tuple[Aim, ...]
+    free: tuple[Free, ...]  # every part that changes, tied ones included
+
+    @property
+    def dims(self) -> list[int]:
+        """Indices of the parts the search moves (tied parts follow their partner)."""
+        return [i for i, f in enumerate(self.free) if f.tie is None]
+
+    def expand(self, x: np.ndarray) -> np.ndarray:
+        """Values of every free part from the searched ones (shape (..., len(dims)))."""
+        x = np.asarray(x, float)
+        out = np.empty(x.shape[:-1] + (len(self.free),))
+        out[..., self.dims] = x
+        for i, f in enumerate(self.free):
+            if f.tie is not None:
+                out[..., i] = out[..., f.tie]
+        return out
+
+
+def _suggest(word, choices):
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.5)
+    return f"; did you mean '{close[0]}'?" if close else ""
+
+
+def _number(source, where, raw, what="a number"):
+    if isinstance(raw, bool) or not isinstance(raw, (int, float)) or not math.isfinite(raw):
+        raise InputError(f"{source}: {where}={raw!r}: expected {what}")
+    return float(raw)
+
+
+def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> FitSpec:
+    """Validate a fit file's tables; every error is one line."""
+    for key in data:
+        if key not in ("from", "aim", "free", "name", "notes"):
+            raise InputError(f"{source}: unknown table or key '{key}'{_suggest(key, ['from', 'aim', 'free'])}")
+    start = start_override or data.get("from")
+    if not start:
+        raise InputError(f"{source}: no start design; add from = \"models/<design>.toml\" or pass --from")
+    if not isinstance(start, str):
+        raise InputError(f"{source}: from={start!r}: expected a path string")
+    aims_t, free_t = data.get("aim"), data.get("free")
+    if not isinstance(aims_t, dict) or not aims_t:
+        raise InputError(f"{source}: missing or empty [aim] table; add e.g. peak_hz = {{ value = 3200, within = \"5%\" }}")
+    if not isinstance(free_t, dict) or not free_t:
+        raise InputError(f"{source}: missing or empty [free] table; add e.g. \"feedback.r\" = {{ min = \"22k\", max = \"470k\", series = \"E24\" }}")
+    aims = []
+    for name, a in aims_t.items():
+        where = f"[aim] {name}"
+        if name not in FIGURES:
+            raise InputError(f"{source}: {where}: unknown figure{_suggest(name, FIGURES)} (known: {', '.join(FIGURES)})")
+        if not isinstance(a, dict):
+            raise InputError(f"{source}: {where}={a!r}: expected {{ value = …, within = … }} or {{ min = …, max = … }}")
+        for k in a:
+            if k not in ("value", "within", "min", "max"):
+                raise InputError(f"{source}: {where}: unknown key '{k}'{_suggest(k, ['value', 'within', 'min', 'max'])}")
+        if "value" in a:
+            if "min" in a or "max" in a:
+                raise InputError(f"{source}: {where}: give value and within, or min and/or max, not both")
+            value = _number(source, f"{where}.value", a["value"])
+            w = a.get("within")
+            if w is None:
+                raise InputError(f"{source}: {where}: a value needs a tolerance, e.g. within = 1.0 or within = \"5%\"")
+            if isinstance(w, str) and w.strip().endswith("%"):
+                try:
+                    rel = float(w.strip()[:-1]) / 100
+                except ValueError:
+                    raise InputError(f"{source}: {where}.within={w!r}: expected a number or a percentage like \"5%\"") from None
+                if not 0 < rel < 1:
+                    raise InputError(f"{source}: {where}.within={w!r}: a percentage must be above 0 and below 100")
+                aims.append(Aim(name, value=value, within_rel=rel))
+            else:
+                wv = _number(source, f"{where}.within", w, "a positive number or a percentage like \"5%\"")
+                if wv <= 0:
+                    raise InputError(f"{source}: {where}.within={w!r}: must be above 0")
+                aims.append(Aim(name, value=value, within=wv))
+            if _unit_of(name) == "hz" and value <= 0:
+                raise InputError(f"{source}: {where}.value={value:g}: a frequency must be above 0")
+        else:
+            if "within" in a:
+                raise InputError(f"{source}: {where}: within goes with value")
+            lo = _number(source, f"{where}.min", a["min"]) if "min" in a else None
+            hi = _number(source, f"{where}.max", a["max"]) if "max" in a else None
+            if lo is None and hi is None:
+                raise InputError(f"{source}: {where}: give value and within, or min and/or max")
+            if lo is not None and hi is not None and lo > hi:
+                raise InputError(f"{source}: {where}: min={lo:g} is above max={hi:g}; these bounds contradict each other")
+            aims.append(Aim(name, lo=lo, hi=hi))
+        if name in ("peak_hz", "resonance_hz"):
+            a0 = aims[-1]
+            for v in (a0.value, a0.lo, a0.hi):
+                if v is not None and not 1000 <= v <= 20000:
+                    raise InputError(f"{source}: {where}: {v:g} Hz is outside 1 kHz to 20 kHz, where the peak is looked for")
+    frees = []
+    known = [f"{t}.{k}" for t in FREE_TABLES for k, s in DESIGN_TABLES[t].items() if isinstance(s.kind, U.Kind)]
+    for name, f in free_t.items():
+        where = f"[free] \"{name}\""
+        if name not in known:
+            raise InputError(f"{source}: {where}: not a part that can change{_suggest(name, known)}")
+        table, key = name.split(".")
+        spec = DESIGN_TABLES[table][key]
+        if isinstance(f, dict) and "same_as" in f:
+            other = f["same_as"]
+            if set(f) != {"same_as"}:
+                raise InputError(f"{source}: {where}: same_as stands alone (the range and series are the other part's)")
+            names = [x.name for x in frees]
+            if other not in names:
+                raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{_suggest(str(other), names)}")
+            j = names.index(other)
+            if frees[j].tie is not None or frees[j].spec.kind is not spec.kind:
+                raise InputError(f"{source}: {where}: same_as={other!r} must name an untied part of the same kind")
+            src = frees[j]
+            frees.append(Free(name, table, key, spec, src.lo, src.hi, src.series, src.choices, tie=j))
+            continue
+        if not isinstance(f, dict) or "min" not in f or "max" not in f:
+            raise InputError(f"{source}: {where}={f!r}: expected {{ min = …, max = …, series = \"E24\" }}")
+        for k in f:
+            if k not in ("min", "max", "series"):
+                raise InputError(f"{source}: {where}: unknown key '{k}'{_suggest(k, ['min', 'max', 'series', 'same_as'])}")
+        lo = read_value(f["min"], spec, source=source, table="free", key=f"{name}.min")
+        hi = read_value(f["max"], spec, source=source, table="free", key=f"{name}.max")
+        if not lo < hi:
+            raise InputError(f"{source}: {where}: min={f['min']!r} must be below max={f['max']!r}")
+        series = f.get("series", "E24")
+        if series in ("none", None):
+            series, choices = None, None
+        elif series not in SERIES:
+            raise InputError(f"{source}: {where}: series={series!r}: expected one of {', '.join(SERIES)} or \"none\"")
+        else:
+            choices = values_between(series, lo, hi)
+            if choices.size == 0:
+                raise InputError(f"{source}: {where}: no {series} value lies between {f['min']} and {f['max']}; widen the range")
+        frees.append(Free(name, table, key, spec, lo, hi, series, choices))
+    return FitSpec(source=source, start_path=start, aims=tuple(aims), free=tuple(frees))
+
+
+def load_fit(path, *, start_override=None) -> FitSpec:
+    data, _ = read_toml(path)
+    return parse_fit(data, source=str(path), start_override=start_override)
+
+
+# ----------------------------------------------------------------------------
+
+
+def apply(design, frees, values):
+    """``design`` with each free part set to its value (unvalidated)."""
+    tables = {}
+    for fr, v in zip(frees, values):
+        tables.setdefault(fr.table, {})[fr.key] = float(v)
+    return replace(design, **{t: replace(getattr(design, t), **kv) for t, kv in tables.items()})
+
+
+def _valid(design) -> bool:
+    s = design.supply
+    lo, hi = design.limit_low_v + s.knee, design.limit_high_v - s.knee
+    return lo < design.bias_v < hi and s.battery - s.margin_low - s.margin_high - 2 * s.knee > 0
+
+
+class Evaluator:
+    """Scores batches of part values through the vectorised engine, and remembers them."""
+
+    def __init__(self, spec: FitSpec, start):
+        self.spec, self.start = spec, start
+        self.seen_fig: list[np.ndarray] = []  # figure matrices of every evaluation (for conflict analysis)
+
+    def figures(self, values: np.ndarray) -> np.ndarray:
+        """Figure matrix (S, n_aims) for part values (S, n_free); NaN rows for invalid designs."""
+        from .figures import figures
+
+        designs = [apply(self.start, self.spec.free, row) for row in values]
+        ok = np.array([_valid(d) for d in designs])
+        out = np.full((len(designs), len(self.spec.aims)), np.nan)
+        if ok.any():
+            figs = figures([d for d, k in zip(designs, ok) if k])
+            rows = np.flatnonzero(ok)
+            for j, aim in enumerate(self.spec.aims):
+                col = [f[aim.figure] if f[aim.figure] is not None else UNDEFINED.get(aim.figure, np.nan) for f in figs]
+                out[rows, j] = col
+        self.seen_fig.append(out)
+        return out
+
+    def misses(self, fig: np.ndarray) -> np.ndarray:
+        m = np.column_stack([a.miss(fig[:, j]) for j, a in enumerate(self.spec.aims)])
+        return np.where(np.isnan(m), 1e3, m)
+
+    def score(self, values: np.ndarray) -> np.ndarray:
+        return self.misses(self.figures(values)).sum(axis=1)
+
+
+def _start_values(spec: FitSpec, start) -> np.ndarray:
+    out = []
+    for fr in spec.free:
+        v = getattr(getattr(start, fr.table), fr.key)
+        out.append(np.nan if v is None else float(v))
+    return np.array(out)
+
+
+def _tiebreak(values, start_vals):
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = np.abs(np.log(values / start_vals))
+    changed = ~np.isclose(values, start_vals, rtol=1e-9, atol=0.0) | np.isnan(start_vals)
+    ratio = np.where(np.isnan(ratio), 1.0, ratio)
+    return changed.sum(axis=-1), ratio.sum(axis=-1)
+
+
+def snap(spec: FitSpec, x: np.ndarray) -> np.ndarray:
+    """Each value to the nearest series value in range (log distance); continuous parts clipped."""
+    out = np.array(x, float)
+    for j, fr in enumerate(spec.free):
+        if fr.choices is None:
+            out[..., j] = np.clip(out[..., j], fr.lo, fr.hi)
+        else:
+            idx = np.argmin(np.abs(np.log(out[..., j][..., None] / fr.choices)), axis=-1)
+            out[..., j] = fr.choices[idx]
+    return out
+
+
+@dataclass
+class FitResult:
+    values: np.ndarray  # (n_free,)
+    score: float
+    figures: dict
+    meets: bool
+    changed: int
+    change: float
+
+
+def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int = 60, popsize: int = 12):
+    """Search, snap and refine; returns (results best first, evaluator, start values)."""
+    from scipy.optimize import differential_evolution
+
+    ev = Evaluator(spec, start)
+    start_vals = _start_values(spec, start)
+    dims = spec.dims
+    bounds = [(math.log10(spec.free[i].lo), math.log10(spec.free[i].hi)) for i in dims]
+
+    def objective(xt):  # vectorised: xt has shape (n_dims, S)
+        return ev.score(spec.expand(10.0 ** xt.T))
+
+    de = differential_evolution(
+        objective, bounds, seed=seed, vectorized=True, updating="deferred", maxiter=maxiter, popsize=popsize,
+        tol=1e-8, polish=False, init="latinhypercube",
+    )
+    pop = 10.0 ** de.population
+    pop_scores = de.population_energies
+    order = np.argsort(pop_scores)
+    seeds = [spec.expand(10.0 ** de.x)] + [spec.expand(pop[i]) for i in order[: max(4, top)]]
+    seen: dict[tuple, float] = {}
+
+    def key_of(v):
+        return tuple(np.round(np.log10(v), 9))
+
+    def evaluate(cands):
+        cands = np.unique(np.asarray(cands), axis=0)
+        new = [c for c in cands if key_of(c) not in seen]
+        if new:
+            s = ev.score(np.array(new))
+            for c, sc in zip(new, s):
+                seen[key_of(c)] = float(sc)
+        return [(c, seen[key_of(c)]) for c in cands]
+
+    def rank(c, sc):
+        n, r = _tiebreak(c, start_vals)
+        return (round(sc, 12), n, r)
+
+    for s0 in seeds:
+        cur = snap(spec, s0)
+        cur_sc = evaluate([cur])[0][1]
+        for _ in range(60):
+            moves = []
+            def move(j, value):
+                c = cur.copy()
+                c[j] = value
+                moves.append(spec.expand(c[dims]))
+
+            for j in dims:
+                fr = spec.free[j]
+                if fr.choices is None:
+                    for k in (0.98, 1.02):
+                        move(j, np.clip(cur[j] * k, fr.lo, fr.hi))
+                    continue
+                i = int(np.argmin(np.abs(np.log(fr.choices / cur[j]))))
+                for step in (-2, -1, 1, 2):
+                    if 0 <= i + step < fr.choices.size:
+                        move(j, fr.choices[i + step])
+                # a step back to the start's own value keeps changes few
+                if not np.isnan(start_vals[j]) and fr.lo <= start_vals[j] <= fr.hi:
+                    move(j, start_vals[j])
+            if not moves:
+                break
+            scored = evaluate(moves)
+            best_c, best_s = min(scored, key=lambda cs: rank(*cs))
+            if rank(best_c, best_s) < rank(cur, cur_sc):
+                cur, cur_sc = best_c, best_s
+            else:
+                break
+    ranked = sorted(((np.array(k), v) for k, v in seen.items()), key=lambda kv: rank(10.0 ** kv[0], kv[1]))
+    results = []
+    for logv, sc in ranked[:top]:
+        v = 10.0 ** logv
+        v = snap(spec, v)  # exact series values, not their rounded logs
+        from .figures import figures
+
+        fig = figures([apply(start, spec.free, v)])[0]
+        n, r = _tiebreak(v, start_vals)
+        results.append(FitResult(values=v, score=sc, figures=fig, meets=sc <= 1e-12, changed=int(n), change=float(r)))
+    return results, ev, start_vals
+
+
+def conflicts(spec: FitSpec, ev: Evaluator) -> str:
+    """Which aims the search could not meet, alone or together, as one sentence."""
+    fig = np.vstack([f for f in ev.seen_fig if f.size])
+    ok = np.column_stack([a.miss(fig[:, j]) <= 1e-12 for j, a in enumerate(spec.aims)]) & ~np.isnan(fig)
+    alone = [spec.aims[j] for j in range(len(spec.aims)) if not ok[:, j].any()]
+    if alone:
+        parts = []
+        for a in alone:
+            j = spec.aims.index(a)
+            col = fig[:, j][~np.isnan(fig[:, j])]
+            parts.append(f"{a.describe()} (the search reached {col.min():.4g} to {col.max():.4g})")
+        return "out of reach with these free parts and ranges: " + "; ".join(parts)
+    pairs = []
+    for i in range(len(spec.aims)):
+        for j in range(i + 1, len(spec.aims)):
+            if not (ok[:, i] & ok[:, j]).any():
+                pairs.append(f"{spec.aims[i].describe()} and {spec.aims[j].describe()}")
+    if pairs:
+        return "these aims conflict as far as the search can tell: " + "; ".join(pairs)
+    return "no design met every aim together, though every pair was met somewhere; loosen a tolerance or widen a range"
+
+
+# ----------------------------------------------------------------------------
+# Writing design files
+
+
+def format_value(fr: Free, v: float) -> str:
+    """A buyable value as it would be written: RKM for resistors, prefixes otherwise."""
+    if fr.spec.kind is U.RESISTANCE:
+        return U.format_rkm(v)
+    if fr.spec.kind is U.CAPACITANCE:
+        return U.format_rkm(v, unit_letter="")
+    return U.format_si(v, fr.spec.kind.unit, digits=4).replace(" ", "")
+
+
+def rewrite(text: str, changes: list[tuple[Free, float, float | None]], header: str) -> str:
+    """The start design's text with each changed part's value replaced (or added) in its table."""
+    import re
+
+    lines = text.splitlines()
+    for fr, new, old in changes:
+        value = f'"{format_value(fr, new)}"'
+        note = f"   # fit: was {format_value(fr, old) if old is not None else 'absent'}"
+        table = None
+        header_at = None
+        done = False
+        for i, line in enumerate(lines):
+            m = re.match(r"^\s*\[([^\[\]]+)\]\s*(#.*)?$", line)
+            if m:
+                table = m.group(1).strip()
+                if table == fr.table:
+                    header_at = i
+                continue
+            if table == fr.table and re.match(rf"^\s*{re.escape(fr.key)}\s*=", line):
+                lines[i] = f"{fr.key} = {value}{note}"
+                done = True
+                break
+        if not done:
+            if header_at is None:
+                lines += ["", f"[{fr.table}]", f"{fr.key} = {value}{note}"]
+            else:
+                lines.insert(header_at + 1, f"{fr.key} = {value}{note}")
+    return header + "\n".join(lines) + "\n"

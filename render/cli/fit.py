@@ -1,0 +1,97 @@
+"""``render fit``: search buyable part values that meet a voicing's aims."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from .options import friendly, overwrite_option, rig_option
+
+
+def _fig(v, name):
+    if v is None:
+        return "—"
+    return f"{v:.0f}" if name.endswith("_hz") else f"{v:.2f}"
+
+
+@click.command("fit")
+@click.argument("fitfile", type=click.Path(dir_okay=False))
+@click.option("--from", "start_path", type=click.Path(dir_okay=False), default=None, help="Start design (overrides the fit file's 'from').")
+@rig_option
+@click.option("--top", type=click.IntRange(min=1, max=20), default=3, show_default=True, help="How many results to write.")
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Folder for the results (default: outputs/fit-<fit file stem>).")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed of the global search.")
+@overwrite_option
+@friendly
+def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, overwrite):
+    """Search part values, snapped to preferred-number series, that meet FITFILE's aims.
+
+    Writes the TOP best complete design files (<stem>-fit-1.toml, …) with
+    comments saying what changed, fit.json, and an overlay plot of the
+    start's and the results' responses.
+    """
+    import numpy as np
+
+    from ..analysis.fit import conflicts, load_fit, rewrite, run_fit
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from ..design import apply_rig, load_design, load_rig, parse_design, read_toml
+    from ..errors import InputError
+    from ..report.atomic import write_text
+    from .options import emit_json
+
+    spec = load_fit(fitfile, start_override=start_path)
+    start_file = Path(spec.start_path)
+    if not start_file.is_absolute() and not start_file.exists() and (Path(fitfile).parent / start_file).exists():
+        start_file = Path(fitfile).parent / start_file
+    rig = load_rig(rig_path) if rig_path else None
+    start = apply_rig(load_design(start_file), rig)
+    out = Path(out_dir) if out_dir else Path("outputs") / f"fit-{Path(fitfile).stem}"
+    if out.exists() and any(out.iterdir()) and not overwrite:
+        raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite or choose another folder")
+    results, ev, start_vals = run_fit(spec, start, top=top, seed=seed)
+    if not results or not results[0].meets:
+        best = f" (best score {results[0].score:.3g})" if results else ""
+        raise InputError(f"{fitfile}: no design met every aim{best}; {conflicts(spec, ev)}")
+    from ..analysis.figures import figures
+
+    start_fig = figures([start])[0]
+    out.mkdir(parents=True, exist_ok=True)
+    text = start_file.read_text(encoding="utf-8")
+    stem = start_file.stem
+    records, written = [], []
+    for rank, r in enumerate(results, 1):
+        changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]
+        from ..analysis.fit import format_value
+
+        summary = ", ".join(f"{fr.name} {format_value(fr, s) if s is not None else 'absent'} → {format_value(fr, v)}" for fr, v, s in changes) or "nothing"
+        header = (
+            f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
+            f"# changed: {summary}\n# score {r.score:.3g} ({'meets every aim' if r.meets else 'misses an aim'})\n"
+        )
+        body = rewrite(text, changes, header)
+        path = out / f"{stem}-fit-{rank}.toml"
+        data = __import__("tomllib").loads(body)
+        parse_design(data, source=str(path), name=path.stem)  # the written file must be a valid design
+        write_text(path, body, overwrite=True)
+        written.append(path)
+        records.append({"file": str(path), "score": r.score, "meets": r.meets, "changed_parts": r.changed, "figures": {k: v for k, v in r.figures.items() if k != "passive"}, "changes": {fr.name: v for fr, v, _ in changes}})
+    emit_json(str(out / "fit.json"), {"fit_file": str(fitfile), "start": str(start_file), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records}, overwrite=True)
+    # printed table: aim, start, each result
+    head = f"{'aim':34s} {'start':>10s} " + " ".join(f"{'#' + str(i):>10s}" for i in range(1, len(results) + 1))
+    click.echo(head)
+    for a in spec.aims:
+        click.echo(f"{a.describe():34s} {_fig(start_fig[a.figure], a.figure):>10s} " + " ".join(f"{_fig(r.figures[a.figure], a.figure):>10s}" for r in results))
+    for fr, s in zip(spec.free, start_vals):
+        from ..analysis.fit import format_value
+
+        j = spec.free.index(fr)
+        click.echo(f"{fr.name:34s} {format_value(fr, s) if not np.isnan(s) else '—':>10s} " + " ".join(f"{format_value(fr, r.values[j]):>10s}" for r in results))
+    designs = [start] + [apply_rig(load_design(p), rig) for p in written]
+    f = np.geomspace(20, 20000, 500)
+    h = responses(from_designs(designs)).velocity()(f)
+    from ..report.plots import response_plot
+
+    response_plot(out / "fit-responses.png", f, [("start: " + start.name, h[0])] + [(f"fit {i}", h[i]) for i in range(1, len(designs))], title=f"render fit: {Path(fitfile).name}", overwrite=True)
+    click.echo(f"wrote {len(written)} designs, fit.json and fit-responses.png to {out}/")

@@ -1,0 +1,151 @@
+"""`render fit`: preferred numbers, recovery of known figures (re-checked by ngspice), refusals."""
+
+import json
+import math
+import tomllib
+from pathlib import Path
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from render.analysis.figures import db, response_figures
+from render.cli import main
+from render.design import load_design, parse_design
+from render.eseries import E6, E12, E24, E48, E96, nearest, values_between
+from spice import active_netlist, run_ac
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+
+
+def test_e_series_tables():
+    # IEC 60063:2015 tables
+    assert E12 == (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
+    assert E24 == (1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1)
+    assert E6 == (1.0, 1.5, 2.2, 3.3, 4.7, 6.8)
+    # IEC 60063: rounding 10^(k/24) differs from the E24 table at these values
+    computed = [round(10 ** (k / 24), 1) for k in range(24)]
+    differ = sorted(t for t, c in zip(E24, computed) if t != c)
+    assert differ == [2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2]
+    # E48 and E96 (IEC 60063, from memory: first and last values of the tables)
+    assert (E48[0], E48[1], E48[-1]) == (1.0, 1.05, 9.53)
+    assert (E96[0], E96[1], E96[-1]) == (1.0, 1.02, 9.76)
+    # nearest preferred value: 319 -> 330 in E24 (the eseries package's documented example)
+    assert nearest("E24", 319.0) == 330.0
+    assert list(values_between("E12", 1e3, 4.7e3)) == [1e3, 1.2e3, 1.5e3, 1.8e3, 2.2e3, 2.7e3, 3.3e3, 3.9e3, 4.7e3]
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+def write_fit(tmp_path, text, name="aim.toml"):
+    p = tmp_path / name
+    p.write_text(text)
+    return p
+
+
+def ngspice_figures(design_path):
+    """Figures of a written design from an ngspice AC analysis (no engine involved)."""
+    d = load_design(design_path)
+    wa = d.coil_a.signal_polarity * d.coil_a.sensitivity
+    wb = d.coil_b.signal_polarity * d.coil_b.sensitivity
+    f, v = run_ac(active_netlist(d, wa=wa, wb=wb), ["amp"], [5, 40000])["amp"]
+    return response_figures(db(v)[None, :], f)
+
+
+def test_fit_recovers_a_known_voicing_checked_by_ngspice(tmp_path):
+    # figures measured on a known design (the bright demo), then a fit from the reference
+    known = ROOT / "models" / "glasswing-bright.toml"
+    fig = ngspice_figures(known)
+    peak, level = float(fig["peak_hz"][0]), float(fig["level_1k_db"][0])
+    fit = write_fit(
+        tmp_path,
+        f'''from = "{REF}"
+[aim]
+peak_hz = {{ value = {peak:.1f}, within = "3%" }}
+level_1k_db = {{ value = {level:.3f}, within = 0.5 }}
+[free]
+"input_a.load_c" = {{ min = "1n", max = "10n", series = "E12" }}
+"input_b.load_c" = {{ same_as = "input_a.load_c" }}
+"input_a.series_r" = {{ min = "4k7", max = "100k", series = "E24" }}
+"input_b.series_r" = {{ same_as = "input_a.series_r" }}
+"feedback.r" = {{ min = "47k", max = "470k", series = "E24" }}
+''',
+    )
+    out = tmp_path / "out"
+    res = run("fit", fit, "--out", out, "--top", 2)
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "fit.json").read_text())["results"]
+    assert results[0]["meets"] is True and results[0]["score"] == 0
+    # re-check the written file with ngspice, not with the tool's engine
+    check = ngspice_figures(Path(results[0]["file"]))
+    assert abs(math.log(check["peak_hz"][0] / peak)) <= math.log(1.03) + 1e-3
+    assert abs(check["level_1k_db"][0] - level) <= 0.5 + 1e-3
+    # every written value is a preferred number and the file is a valid design
+    d = parse_design(tomllib.loads(Path(results[0]["file"]).read_text()), source="fit")
+    mant = lambda x: round(x / 10 ** math.floor(math.log10(x)), 2)
+    assert mant(d.input_a.load_c) in E12 and mant(d.input_a.series_r) in E24 and mant(d.feedback.r) in E24
+    assert d.input_a.load_c == d.input_b.load_c
+
+
+def test_fit_picks_the_e12_capacitor_nearest_the_exact_one(tmp_path):
+    # closed form: a lightly loaded coil resonates at f0 = 1/(2π√(L·C)) (circuit theory);
+    # pick f0 so that the exact capacitor is 2.3 nF, whose nearest E12 value is 2.2 nF
+    L, cw = 1.0, 1e-12
+    c_exact = 2.3e-9
+    f0 = 1 / (2 * math.pi * math.sqrt(L * (c_exact + cw)))
+    text = REF.read_text()
+    design = tmp_path / "one-coil.toml"
+    design.write_text(
+        text.replace('inductance = "350mH"   # winding inductance', 'inductance = "1H"')
+        .replace('resistance = "520R"   # DC resistance', 'resistance = "10R"')
+        .replace('capacitance = "40pF"   # winding self-capacitance', 'capacitance = "1pF"')
+        .replace('eddy_resistance = "220k"   # core loss, in parallel with the inductance\n', "")
+        .replace('series_r = "22k"   # into the inverting input', 'series_r = "1M"')
+        .replace('r = "110k"   # gain ≈ 110k/22k = 5 per coil', 'r = "1M"')
+        .replace("sensitivity = 0.045\n", "sensitivity = 1e-5\n", 1)  # coil_b: heard not at all
+    )
+    fit = write_fit(
+        tmp_path,
+        f'''from = "{design}"
+[aim]
+peak_hz = {{ value = {f0:.3f}, within = "3%" }}
+[free]
+"input_a.load_c" = {{ min = "1n", max = "10n", series = "E12" }}
+''',
+    )
+    res = run("fit", fit, "--out", tmp_path / "o", "--top", 1)
+    assert res.exit_code == 0, res.output
+    chosen = load_design(json.loads((tmp_path / "o" / "fit.json").read_text())["results"][0]["file"]).input_a.load_c
+    assert chosen == pytest.approx(nearest("E12", c_exact)) == pytest.approx(2.2e-9)
+
+
+@pytest.mark.parametrize(
+    "aim,free,fragment",
+    [
+        ('peek_hz = { value = 3000, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k" }', "did you mean 'peak_hz'?"),
+        ("level_1k_db = { min = 3, max = 1 }", '"feedback.r" = { min = "22k", max = "470k" }', "these bounds contradict each other"),
+        ('peak_hz = { value = 3000, within = "5%" }', '"feedback.rr" = { min = "22k", max = "470k" }', "did you mean 'feedback.r'?"),
+        ('peak_hz = { value = 3000, within = "5%" }', '"feedback.r" = { min = "470k", max = "22k" }', "must be below max"),
+        ('peak_hz = { value = 3000, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k", series = "E7" }', "expected one of E6, E12"),
+        ('peak_hz = { value = 500, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k" }', "outside 1 kHz to 20 kHz"),
+        ("level_1k_db = { value = 3 }", '"feedback.r" = { min = "22k", max = "470k" }', "a value needs a tolerance"),
+    ],
+)
+def test_fit_refuses_bad_files(tmp_path, aim, free, fragment):
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\n{aim}\n[free]\n{free}\n')
+    res = run("fit", fit, "--out", tmp_path / "o")
+    assert res.exit_code == 1, res.output
+    assert fragment in res.output
+    assert not (tmp_path / "o").exists()
+
+
+def test_fit_refuses_unreachable_aims(tmp_path):
+    # the feedback resistor alone cannot move the resonance to 15 kHz
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\npeak_hz = {{ value = 15000, within = "1%" }}\n[free]\n"feedback.r" = {{ min = "22k", max = "470k" }}\n')
+    res = run("fit", fit, "--out", tmp_path / "o")
+    assert res.exit_code == 1
+    assert "out of reach with these free parts" in res.output and "peak_hz = 15000" in res.output
+    assert not (tmp_path / "o").exists()
