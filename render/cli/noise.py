@@ -1,0 +1,145 @@
+"""``render noise``: the noise floor at the amp input, with the passive reference beside it."""
+
+from __future__ import annotations
+
+import click
+
+from .options import check_new, emit_json, friendly, json_option, overwrite_option, rig_option
+
+
+def _uv(v: float) -> str:
+    import math
+
+    return f"{v * 1e6:.3g} µV ({20 * math.log10(v):+.1f} dBV)"
+
+
+def _short(key: str) -> str:
+    return key.removeprefix("passive_")
+
+
+def summary_lines(r, top: int) -> list[str]:
+    """The printed table for one :class:`~render.analysis.noise.NoiseReport`."""
+    from ..units import format_si
+
+    a, p = r.active, r.passive
+    w = 28
+    rows = [
+        ("density at 1 kHz", f"{a.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz", f"{p.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz"),
+        ("total, 20 Hz–20 kHz", _uv(a.total_v), _uv(p.total_v)),
+        ("A-weighted", _uv(a.a_weighted_v), _uv(p.a_weighted_v)),
+        ("reference signal", f"{a.signal_v * 1e3:.3g} mV rms", f"{p.signal_v * 1e3:.3g} mV rms"),
+        ("SNR", f"{a.snr_db:.1f} dB (A: {a.snr_a_db:.1f} dB)", f"{p.snr_db:.1f} dB (A: {p.snr_a_db:.1f} dB)"),
+    ]
+    out = [
+        f"{r.design}  ({r.source})",
+        f"  noise at the amp input, {r.temperature_k:g} K; op-amp {format_si(r.noise_voltage, 'V/√Hz')}, {format_si(r.noise_current, 'A/√Hz')}",
+        f"  reference signal: 1 kHz sine, string velocity {r.reference_velocity:g} m/s rms at both sensing points",
+        f"  {'':20s}{'active':{w}s}passive reference",
+    ]
+    out += [f"  {name:20s}{x:{w}s}{y}" for name, x, y in rows]
+    out.append("  largest contributors (share of the noise power, 20 Hz–20 kHz)")
+    ca, cp = a.contributors[:top], p.contributors[:top]
+    for i in range(max(len(ca), len(cp))):
+        x = f"{ca[i].key} {100 * ca[i].share:.1f} %" if i < len(ca) else ""
+        y = f"{_short(cp[i].key)} {100 * cp[i].share:.1f} %" if i < len(cp) else ""
+        out.append(f"  {i + 1:>4d}{'':16s}{x:{w}s}{y}")
+    return out
+
+
+def payload(r, design, rig_file) -> dict:
+    """The --json record of one report (the keys scripts rely on first)."""
+    from .. import __version__
+    from ..analysis.noise import BAND_HZ
+
+    act = r.active.as_dict()
+    pas = r.passive.as_dict()
+    pas.pop("frequency_hz")
+    return {
+        "design": r.design,
+        "file": r.source,
+        "sha256": design.sha256,
+        "rig": {"file": rig_file.source, "sha256": rig_file.sha256} if rig_file else None,
+        "software_version": __version__,
+        "temperature_k": r.temperature_k,
+        "band_hz": list(BAND_HZ),
+        "frequency_hz": act.pop("frequency_hz"),
+        "density_v_per_rthz": act.pop("density_v_per_rthz"),
+        "total_v": act.pop("total_v"),
+        "a_weighted_v": act.pop("a_weighted_v"),
+        "snr_db": act.pop("snr_db"),
+        "snr_a_db": act.pop("snr_a_db"),
+        "reference_signal": r.reference_signal(),
+        "opamp": {"noise_voltage_v_per_rthz": r.noise_voltage, "noise_current_a_per_rthz": r.noise_current},
+        **act,
+        "passive": pas,
+    }
+
+
+def noise_plot(path, r, *, top: int, overwrite: bool = False):
+    """Density (nV/√Hz, log axes) of the design, its largest contributors and the passive reference."""
+    from ..report.plots import CLAY, INK, PALETTE, _hz_axis, _plt, save
+
+    plt = _plt()
+    a, p = r.active, r.passive
+    f = a.frequency_hz
+    fig, ax = plt.subplots(figsize=(8, 5.2))
+    ax.plot(f, a.density_v_per_rthz * 1e9, color=INK, lw=2.0, label=f"{r.design}: total {a.total_v * 1e6:.3g} µV")
+    for i, c in enumerate(a.contributors[:top]):
+        ax.plot(f, a.contributor_density[c.key] * 1e9, color=PALETTE[(i + 1) % len(PALETTE)], lw=1.1, label=f"  {c.key} ({100 * c.share:.0f} %)")
+    ax.plot(f, p.density_v_per_rthz * 1e9, color=CLAY, lw=1.5, ls="--", label=f"passive reference: total {p.total_v * 1e6:.3g} µV")
+    _hz_axis(ax, f[0], f[-1])
+    ax.set_yscale("log")
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("noise density at the amp input (nV/√Hz)")
+    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {a.snr_db:.1f} dB (passive {p.snr_db:.1f} dB)", fontsize=10, loc="left")
+    ax.legend(loc="lower left", fontsize=8, frameon=False)
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
+
+
+@click.command("noise")
+@click.argument("model", type=click.Path(dir_okay=False))
+@rig_option
+@click.option("--temperature", type=float, metavar="KELVIN", default=300.0, show_default=True, help="Temperature of every resistance, in kelvin (200..400).")
+@click.option(
+    "--reference-velocity",
+    type=float,
+    metavar="M_PER_S",
+    default=0.1,
+    show_default=True,
+    help="String velocity (m/s rms) of the 1 kHz reference sine the SNR is relative to.",
+)
+@click.option("--top", type=click.IntRange(min=1, max=40), default=5, show_default=True, help="Contributors listed and plotted.")
+@json_option()
+@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Write a density plot with the largest contributors and the passive reference.")
+@overwrite_option
+@friendly
+def noise_command(model, rig_path, temperature, reference_velocity, top, json_path, png_path, overwrite):
+    """Noise floor of MODEL at the amp input, with the passive reference beside it.
+
+    Thermal noise of every resistance (the coils' DC resistance and core
+    loss included) and the op-amp's voltage and current noise
+    ([supply] noise_voltage, noise_current), 20 Hz–20 kHz: the density at
+    1 kHz, unweighted and A-weighted totals, the SNR against a 1 kHz sine
+    of --reference-velocity m/s rms string velocity, and the largest
+    contributors.
+    """
+    import math
+
+    from ..analysis.noise import check_temperature, noise_reports
+    from ..errors import InputError
+    from .options import load_designs
+
+    check_temperature(temperature, "--temperature")
+    if not (math.isfinite(reference_velocity) and 1e-4 <= reference_velocity <= 10.0):
+        raise InputError(f"--reference-velocity={reference_velocity:g} m/s: expected a string velocity from 0.0001 to 10 m/s rms")
+    check_new([json_path, png_path], overwrite)
+    (d,), rig_file = load_designs([model], rig_path)
+    (r,) = noise_reports([d], temperature=temperature, reference_velocity=reference_velocity)
+    if json_path != "-":
+        for line in summary_lines(r, top):
+            click.echo(line)
+    if json_path:
+        emit_json(json_path, payload(r, d, rig_file), overwrite=overwrite)
+    if png_path:
+        noise_plot(png_path, r, top=top, overwrite=overwrite)

@@ -1,0 +1,135 @@
+"""``render noise`` through click's CliRunner: exit codes, message text, JSON keys, overwrite rules."""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from render.cli.noise import noise_command
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+PNG_MAGIC = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), file signature
+
+
+def run(*args):
+    return CliRunner().invoke(noise_command, [str(a) for a in args], catch_exceptions=False)
+
+
+def test_table_names_both_circuits_and_the_reference():
+    res = run(REF)
+    assert res.exit_code == 0, res.output
+    for text in ("studio-reference", "active", "passive reference", "A-weighted", "SNR", "largest contributors", "300 K", "0.1 m/s rms"):
+        assert text in res.output, text
+    assert "input_a.series_r" in res.output  # the 22 kΩ input resistors are among the largest
+
+
+def test_json_has_the_documented_keys(tmp_path):
+    out = tmp_path / "n.json"
+    res = run(REF, "--json", out)
+    assert res.exit_code == 0, res.output
+    rec = json.loads(out.read_text())
+    for key in ("frequency_hz", "density_v_per_rthz", "total_v", "a_weighted_v", "snr_db", "reference_signal", "temperature_k", "passive", "contributors"):
+        assert key in rec, key
+    f, s = rec["frequency_hz"], rec["density_v_per_rthz"]
+    assert len(f) == len(s) == len(rec["passive"]["density_v_per_rthz"]) > 100
+    # the band 20 Hz–20 kHz at 300 K unless told (the command's documented defaults)
+    assert f[0] == pytest.approx(20.0) and f[-1] == pytest.approx(20000.0) and rec["temperature_k"] == 300.0
+    ref = rec["reference_signal"]
+    assert ref["frequency_hz"] == 1000.0 and ref["string_velocity_m_per_s_rms"] == 0.1
+    assert rec["snr_db"] == pytest.approx(20 * math.log10(ref["output_v_rms"] / rec["total_v"]))
+    assert rec["passive"]["snr_db"] == pytest.approx(20 * math.log10(ref["passive_output_v_rms"] / rec["passive"]["total_v"]))
+    assert rec["opamp"] == {"noise_voltage_v_per_rthz": 10e-9, "noise_current_a_per_rthz": 1e-14}
+    shares = [c["share"] for c in rec["contributors"]]
+    assert shares == sorted(shares, reverse=True) and sum(shares) == pytest.approx(1.0)
+
+
+def test_json_to_stdout_is_only_json():
+    res = run(REF, "--json", "-")
+    assert res.exit_code == 0
+    assert json.loads(res.output)["design"] == "studio-reference"
+
+
+def test_png(tmp_path):
+    png = tmp_path / "n.png"
+    res = run(REF, "--png", png, "--top", 3)
+    assert res.exit_code == 0, res.output
+    assert png.read_bytes()[:8] == PNG_MAGIC
+
+
+def test_refuses_to_overwrite_and_touches_nothing(tmp_path):
+    out, png = tmp_path / "n.json", tmp_path / "n.png"
+    out.write_text("keep me")
+    res = run(REF, "--json", out, "--png", png)
+    assert res.exit_code == 1
+    assert "exists; pass --overwrite" in res.output
+    assert out.read_text() == "keep me" and not png.exists()
+    assert run(REF, "--json", out, "--png", png, "--overwrite").exit_code == 0
+    assert json.loads(out.read_text())["total_v"] > 0 and png.exists()
+
+
+def test_warmer_is_noisier(tmp_path):
+    a, b = tmp_path / "a.json", tmp_path / "b.json"
+    assert run(REF, "--json", a).exit_code == 0
+    assert run(REF, "--json", b, "--temperature", 350).exit_code == 0
+    ra, rb = json.loads(a.read_text()), json.loads(b.read_text())
+    assert rb["temperature_k"] == 350.0
+    # 4kT·R ∝ T (Johnson–Nyquist); the passive reference has only thermal sources
+    assert rb["passive"]["total_v"] == pytest.approx(ra["passive"]["total_v"] * math.sqrt(350 / 300), rel=1e-9)
+    assert rb["total_v"] > ra["total_v"]
+
+
+def test_reference_velocity_moves_only_the_snr(tmp_path):
+    a, b = tmp_path / "a.json", tmp_path / "b.json"
+    assert run(REF, "--json", a).exit_code == 0
+    assert run(REF, "--json", b, "--reference-velocity", 1.0).exit_code == 0
+    ra, rb = json.loads(a.read_text()), json.loads(b.read_text())
+    # ten times the signal is +20 dB (definition of the dB)
+    assert rb["snr_db"] - ra["snr_db"] == pytest.approx(20.0, abs=1e-9)
+    assert rb["total_v"] == ra["total_v"]
+
+
+def test_rig_file_applies(tmp_path):
+    rig = tmp_path / "rig.toml"
+    rig.write_text('[rig]\npassive_pot = "250k"\n')
+    out = tmp_path / "n.json"
+    assert run(REF, "--rig", rig, "--json", out).exit_code == 0
+    rec = json.loads(out.read_text())
+    assert rec["rig"]["file"] == str(rig)
+    base = json.loads(run(REF, "--json", "-").output)
+    assert rec["passive"]["total_v"] != base["passive"]["total_v"]
+
+
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (["--temperature", "25"], "--temperature=25 K: expected an absolute temperature from 200 K to 400 K (kelvin, not °C: 25 °C is 298.15 K)"),
+        (["--temperature", "1000"], "--temperature=1000 K: expected an absolute temperature from 200 K to 400 K"),
+        (["--reference-velocity", "0"], "--reference-velocity=0 m/s: expected a string velocity from 0.0001 to 10 m/s rms"),
+    ],
+)
+def test_bad_options_one_line_exit_1(args, fragment):
+    res = run(REF, *args)
+    assert res.exit_code == 1
+    lines = [ln for ln in res.output.splitlines() if ln.strip()]
+    assert len(lines) == 1 and fragment in lines[0], res.output
+
+
+def test_usage_errors_exit_2():
+    assert run(REF, "--temperature", "warm").exit_code == 2
+    assert run(REF, "--top", "0").exit_code == 2
+    assert run().exit_code == 2
+
+
+def test_missing_and_bad_design(tmp_path):
+    res = run(tmp_path / "nowhere.toml")
+    assert res.exit_code == 1 and "no such file" in res.output
+    bad = tmp_path / "bad.toml"
+    bad.write_text(REF.read_text().replace('series_r = "22k"', 'series_r = "22m"', 1))
+    res = run(bad)
+    assert res.exit_code == 1 and '"m" is milli; for mega write "22M"' in res.output
+    assert "Traceback" not in res.output
