@@ -15,6 +15,7 @@ from .. import __version__
 
 # command name -> (module, attribute, one-line help)
 COMMANDS = {
+    "clips": ("render.cli.clips", "clips_command", "Render one clip per design through one dry signal and rig (the main job)."),
     "check": ("render.cli.check", "check_command", "Validate design files and print their derived values."),
     "noise": ("render.cli.noise", "noise_command", "Noise floor at the amp input: density, totals, A-weighted, SNR, with the passive reference."),
     "response": ("render.cli.response", "response_command", "Small-signal response from string velocity to the amp input."),

@@ -115,3 +115,61 @@ def histogram_plot(path, values, *, xlabel, title="", overwrite=False):
         ax.set_title(title, fontsize=10, loc="left")
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)
+
+
+def spectrum_plot(path, curves, *, title="", overwrite=False):
+    """Long-term average spectra: ``curves`` is a list of (label, f (F,), level dB (F,), dashed)."""
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(8, 4.5))
+    for i, (label, f, lv, dashed) in enumerate(curves):
+        sel = f > 0
+        ax.plot(f[sel], lv[sel], color=CLAY if dashed else PALETTE[i % len(PALETTE)], lw=1.2 if dashed else 1.5, ls="--" if dashed else "-", label=label)
+    _hz_axis(ax, 20, 20000)
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("level (dB re 1 V²/Hz)")
+    ax.legend(fontsize=8, frameon=False)
+    if title:
+        ax.set_title(title, fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
+
+
+def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrite=False):
+    """Spectrogram (dB) on a log-frequency axis, 40 Hz to 20 kHz."""
+    from scipy.signal import spectrogram
+
+    plt = _plt()
+    x = np.asarray(samples, float)
+    seg = 2048 if x.size >= 2048 else max(64, x.size)
+    f, t, s = spectrogram(x, fs=sample_rate, window="hann", nperseg=seg, noverlap=seg * 3 // 4, detrend=False)
+    level = 10 * np.log10(np.maximum(s, 1e-30))
+    top = level.max() if level.size else 0.0
+    fig, ax = plt.subplots(figsize=(8, 4.2))
+    sel = (f >= 40) & (f <= 20000)
+    mesh = ax.pcolormesh(t, f[sel], level[sel], shading="auto", cmap="magma", vmin=top - 90, vmax=top)
+    ax.set_yscale("log")
+    ax.set_ylim(40, min(20000, sample_rate / 2))
+    ax.set_xlabel("time (s)")
+    ax.set_ylabel("frequency (Hz)")
+    fig.colorbar(mesh, ax=ax, label=f"dB re 1 {unit}²/Hz")
+    if title:
+        ax.set_title(title, fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
+
+
+def overlay_plot(path, f, curves, passives, *, overwrite=False):
+    """Every design's magnitude response, the passive references dashed."""
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(9, 5))
+    for i, (label, h) in enumerate(curves):
+        ax.plot(f, 20 * np.log10(np.abs(h)), color=PALETTE[i % len(PALETTE)], lw=1.6, label=label)
+    for label, h in passives:
+        ax.plot(f, 20 * np.log10(np.abs(h)), color=CLAY, lw=1.1, ls="--", label=label)
+    _hz_axis(ax, f[0], f[-1])
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("level (dB re 1 V per m/s)")
+    ax.legend(fontsize=8, frameon=False, ncol=2)
+    ax.set_title("string velocity to amp input, every design", fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)

@@ -1,0 +1,143 @@
+"""``render clips``: one clip per candidate design, through one dry signal and one rig."""
+
+from __future__ import annotations
+
+import sys
+import time
+from pathlib import Path
+
+import click
+
+from .options import friendly, overwrite_option, rig_option
+
+CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
+
+
+def _render_one(args):
+    from ..clips import render_design
+
+    design, dry, settings = args
+    return render_design(design, dry, settings)
+
+
+def new_run_folder(root: Path, prefix: str = "clips") -> Path:
+    stamp = time.strftime("%Y%m%d-%H%M%S")
+    out = root / f"{prefix}-{stamp}"
+    k = 2
+    while out.exists():
+        out = root / f"{prefix}-{stamp}-{k}"
+        k += 1
+    return out
+
+
+def prepare_out(out_dir, overwrite, prefix="clips") -> Path:
+    """The output folder: refused if it exists and holds files, unless --overwrite."""
+    from ..errors import InputError
+
+    if out_dir is None:
+        return new_run_folder(Path("outputs"), prefix)
+    out = Path(out_dir)
+    if out.exists() and not out.is_dir():
+        raise InputError(f"--out={out}: is a file; give a folder")
+    if out.exists() and any(out.iterdir()) and not overwrite:
+        raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite to replace its files or choose another folder")
+    return out
+
+
+def render_all(designs, dry, settings, jobs, *, label="rendering"):
+    """Render every design (in ``jobs`` processes); results in the designs' order."""
+    tasks = [(d, dry, settings) for d in designs]
+    show = len(tasks) > 1
+    results = [None] * len(tasks)
+    with click.progressbar(length=len(tasks), label=label, file=sys.stderr, show_pos=True) if show else _Null() as bar:
+        if jobs > 1 and len(tasks) > 1:
+            from concurrent.futures import ProcessPoolExecutor, as_completed
+
+            with ProcessPoolExecutor(max_workers=jobs) as pool:
+                futs = {pool.submit(_render_one, t): i for i, t in enumerate(tasks)}
+                for fut in as_completed(futs):
+                    results[futs[fut]] = fut.result()
+                    bar.update(1)
+        else:
+            for i, t in enumerate(tasks):
+                results[i] = _render_one(t)
+                bar.update(1)
+    return results
+
+
+class _Null:
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *a):
+        return False
+
+    def update(self, n):
+        pass
+
+
+@click.command("clips")
+@click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
+@click.option("--dry", "dry_path", type=click.Path(dir_okay=False), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
+@rig_option
+@click.option("--out", "out_dir", type=click.Path(), default=None, help="Output folder (default: a new outputs/clips-<time> folder).")
+@overwrite_option
+@click.option("--seconds", type=click.FloatRange(min=0.01, max=3600), default=None, help="Length of every clip (default: the dry signal's own).")
+@click.option("--sample-rate", type=click.IntRange(min=8000, max=192000), default=48000, show_default=True, help="Output sample rate (Hz).")
+@click.option("--velocity-scale", type=click.FloatRange(min=1e-6, max=1e3, min_open=True), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
+@click.option("--hum/--no-hum", default=True, show_default=True, help="Add the rig's mains hum field.")
+@click.option("--passive/--no-passive", default=False, show_default=True, help="Also render each design's passive reference (S-passive.wav).")
+@click.option("--noise/--no-noise", default=False, show_default=True, help="Add the circuit's noise floor (seeded).")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed for the phrase's small variations and the noise.")
+@click.option("--volts-full-scale", type=click.FloatRange(min=1e-3, max=100, min_open=True), default=None, help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).")
+@click.option("--jobs", type=click.IntRange(min=1, max=64), default=1, show_default=True, help="Render designs in this many processes (results identical to one).")
+@click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
+@friendly
+def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, hum, passive, noise, seed, volts_full_scale, jobs, plots):
+    """Render one clip per design (default: every models/*.toml).
+
+    Every design plays the same dry signal into the same rig, and every WAV
+    uses one fixed volts-per-full-scale, so levels compare honestly. Writes
+    per design S.wav (float32), S.json, S-response.png, S-spectrum.png and
+    S-spectrogram.png, and for the run summary.md and responses.png.
+    """
+    from ..clips import DEFAULT_DRY, Settings, choose_full_scale, record
+    from ..errors import InputError
+    from ..report.clips import write_design_files, write_run_files
+    from .options import load_designs
+
+    dry = Path(dry_path) if dry_path else DEFAULT_DRY
+    if not dry.exists():
+        raise InputError(f"--dry={dry}: no such file; give a phrase (.toml) or an audio file" + ("" if dry_path else " (run from the project folder for the default phrase)"))
+    designs, rig = load_designs(models, rig_path)
+    stems = [Path(d.source).stem for d in designs]
+    if len(set(stems)) != len(stems):
+        raise InputError("two design files share a name; their clips would overwrite each other: rename one")
+    out = prepare_out(out_dir, overwrite)
+    settings = Settings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise)
+    clips = render_all(designs, dry, settings, jobs)
+    peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
+    vfs = volts_full_scale or choose_full_scale(peaks)
+    rig_record = {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
+    out.mkdir(parents=True, exist_ok=True)
+    records = []
+    for stem, clip in zip(stems, clips):
+        rec = record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": _rig_values(clip.design)}, dry_path=dry)
+        records.append(rec)
+        write_design_files(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=sample_rate, plots=plots)
+        for w in clip.warnings:
+            click.echo(f"warning: {clip.design.name}: {w}", err=True)
+        if max(peaks) > vfs:
+            pass
+    write_run_files(out, clips, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs, plots=plots)
+    over = [c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs]
+    if over:
+        click.echo(f"warning: {', '.join(over)} peak above the {vfs:g} V full scale; the float WAVs keep those samples, but many players clip them", err=True)
+    click.echo(f"{len(clips)} clip{'s' if len(clips) != 1 else ''} written to {out}/ (full scale {vfs:g} V; summary in {out / 'summary.md'})")
+    click.echo(CAUTION)
+
+
+def _rig_values(design):
+    from dataclasses import asdict
+
+    return asdict(design.rig)

@@ -1,0 +1,191 @@
+"""One clip per design: the render itself, free of file I/O.
+
+:func:`render_design` takes a validated design (its rig applied), a dry
+signal file and explicit settings, and returns the voltage at the amp input
+with every measurement the reports need. It depends on nothing else, so the
+same inputs give the same samples, and it can run in a worker process.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from . import __version__
+
+DEFAULT_DRY = Path("dry_signals") / "default.toml"
+
+
+@dataclass(frozen=True)
+class Settings:
+    """Everything a render depends on besides the design and the dry file."""
+
+    sample_rate: int = 48000
+    seconds: float | None = None
+    seed: int = 0
+    velocity_scale: float = 1.0
+    hum: bool = True
+    passive: bool = False
+    noise: bool = False
+
+    def record(self) -> dict:
+        return {
+            "sample_rate": self.sample_rate,
+            "seconds": self.seconds,
+            "seed": self.seed,
+            "velocity_scale": self.velocity_scale,
+            "hum": self.hum,
+            "passive": self.passive,
+            "noise": self.noise,
+        }
+
+
+@dataclass
+class Clip:
+    design: object
+    volts: np.ndarray  # amp input, V, shape (n,)
+    amp_out: np.ndarray  # op-amp output, V (bias included), shape (n,)
+    passive_volts: np.ndarray | None
+    dry: dict
+    clipped_fraction: float
+    warnings: tuple = ()
+    figures: dict = field(default_factory=dict)
+
+
+def dry_for(design, dry_path, settings: Settings):
+    """The dry signal at this design's two sensing points."""
+    from .dry import dry_velocity
+
+    a, b = design.coil_a, design.coil_b
+    return dry_velocity(
+        dry_path,
+        sample_rate=settings.sample_rate,
+        positions=(a.position, b.position),
+        apertures=(a.aperture, b.aperture),
+        seed=settings.seed,
+        seconds=settings.seconds,
+        velocity_scale=settings.velocity_scale,
+    )
+
+
+def render_passive(design, velocity: np.ndarray, *, sample_rate: float, hum: bool) -> np.ndarray:
+    """The passive reference's voltage at the amp input for the same string (linear, V)."""
+    from .chain import discretize as dz
+    from .chain import hum as hm
+    from .circuit.engine import responses
+    from .circuit.params import from_designs
+
+    resp = responses(from_designs([design]))
+    fa = dz.discretize_rational(resp.passive_from_a, sample_rate=sample_rate, what="passive coil_a path")
+    fb = dz.discretize_rational(resp.passive_from_b, sample_rate=sample_rate, what="passive coil_b path")
+    n = velocity.shape[1]
+    pad = np.zeros(fa.delay)
+    ya, _ = dz.apply(fa, np.concatenate([resp.sig_a[0] * velocity[0], pad]), dz.initial_state(fa))
+    yb, _ = dz.apply(fb, np.concatenate([resp.sig_b[0] * velocity[1], pad]), dz.initial_state(fb))
+    out = (ya + yb)[fa.delay : fa.delay + n]
+    if hum:
+        h = design.hum
+        freqs = hm.harmonic_frequencies(mains_hz=h.mains, harmonics=h.harmonics)
+        gains = np.where(freqs < sample_rate / 2, resp.passive_hum()(freqs)[0], 0.0)
+        out = out + hm.steady_response(gains, n, sample_rate=sample_rate, mains_hz=h.mains, field_t=h.field, harmonics=h.harmonics)
+    return out
+
+
+def render_design(design, dry_path, settings: Settings) -> Clip:
+    """Render ``design`` playing ``dry_path`` (a phrase or recorded velocity file)."""
+    from .analysis.figures import figures
+    from .chain.stream import render_signal
+
+    dry = dry_for(design, dry_path, settings)
+    r = render_signal(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum)
+    volts = r["out"]
+    passive = render_passive(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum) if settings.passive else None
+    if settings.noise:
+        from .analysis.noise import noise_waveform
+
+        n = volts.size
+        volts = volts + noise_waveform(design, n=n, sample_rate=settings.sample_rate, seed=settings.seed)
+        if passive is not None:
+            passive = passive + noise_waveform(design, n=n, sample_rate=settings.sample_rate, seed=settings.seed, passive=True)
+    warnings = tuple(dry.warnings) + tuple(r.get("warnings", ()))
+    if not np.all(np.isfinite(volts)):
+        raise FloatingPointError(f"{design.name}: the render is not finite; the design's filters may be unstable at {settings.sample_rate} Hz")
+    return Clip(
+        design=design,
+        volts=volts,
+        amp_out=r["amp_out"],
+        passive_volts=passive,
+        dry=dry.description,
+        clipped_fraction=float(r.get("clipped_fraction", 0.0)),
+        warnings=warnings,
+        figures=figures([design])[0],
+    )
+
+
+FULL_SCALE_STEPS = (0.1, 0.2, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0, 50.0)
+
+
+def choose_full_scale(peaks) -> float:
+    """The smallest step of 1-2-5 volts at or above the run's largest peak (one scale for the run)."""
+    top = max([float(p) for p in peaks] + [1e-9])
+    for s in FULL_SCALE_STEPS:
+        if top <= s:
+            return s
+    return float(np.ceil(top))
+
+
+def measurements(clip: Clip, *, volts_full_scale: float, sample_rate: int) -> dict:
+    """The measurements recorded in a clip's JSON."""
+    from .analysis.audio import integrated_loudness
+
+    f = clip.figures
+    d = clip.design
+    lufs_1v = integrated_loudness(clip.volts, sample_rate=sample_rate)
+    return {
+        "resonance_hz": f["resonance_hz"],
+        "resonance_db": f["resonance_db"],
+        "q": f["q"],
+        "level_1k_db": f["level_1k_db"],
+        "gain_vs_passive_db": f["gain_vs_passive_db"],
+        "hum_rejection_db": f["hum_rejection_db"],
+        "bias_v": d.bias_v,
+        "headroom_up_v": d.headroom_up_v,
+        "headroom_down_v": d.headroom_down_v,
+        "peak_v": float(np.max(np.abs(clip.volts))) if clip.volts.size else 0.0,
+        "rms_v": float(np.sqrt(np.mean(clip.volts**2))) if clip.volts.size else 0.0,
+        "amp_out_min_v": float(np.min(clip.amp_out)) if clip.amp_out.size else d.bias_v,
+        "amp_out_max_v": float(np.max(clip.amp_out)) if clip.amp_out.size else d.bias_v,
+        "clipped_fraction": clip.clipped_fraction,
+        # ITU-R BS.1770-4 integrated loudness of the WAV as written, and re a 1 V full scale
+        "loudness_lufs": None if lufs_1v is None else lufs_1v - 20 * np.log10(volts_full_scale),
+        "loudness_lufs_1v_full_scale": lufs_1v,
+    }
+
+
+def record(clip: Clip, *, settings: Settings, volts_full_scale: float, rig_record: dict, dry_path) -> dict:
+    """Everything a render used and measured, JSON-ready (no times, no absolute paths)."""
+    from .design import design_to_dict
+
+    d = clip.design
+    design_info = design_to_dict(d)
+    return {
+        "design": d.name,
+        "design_file": d.source,
+        "design_sha256": d.sha256,
+        "design_values": design_info,
+        "sample_rate": settings.sample_rate,
+        "volts_full_scale": volts_full_scale,
+        "seconds": clip.volts.size / settings.sample_rate,
+        "dry": {"file": str(dry_path), **clip.dry},
+        "rig": rig_record,
+        "hum": design_info["hum"] if settings.hum else None,
+        "seed": settings.seed,
+        "settings": settings.record(),
+        "software_version": __version__,
+        "measurements": measurements(clip, volts_full_scale=volts_full_scale, sample_rate=settings.sample_rate),
+        "figures": {k: v for k, v in clip.figures.items() if k != "passive"},
+        "passive_figures": clip.figures.get("passive"),
+        "warnings": list(clip.warnings),
+    }

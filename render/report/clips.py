@@ -1,0 +1,95 @@
+"""Files of a clips run: per design S.wav, S.json, plots; a summary for the run."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+
+from .atomic import write_text
+from .wav import write_float_wav
+
+
+def write_design_files(out: Path, stem: str, clip, rec: dict, *, volts_full_scale: float, sample_rate: int, plots: bool = True) -> list[Path]:
+    """S.wav, S.json (and S-passive.wav), S-response.png, S-spectrum.png, S-spectrogram.png."""
+    from ..analysis.audio import long_term_spectrum
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+
+    written = []
+    written.append(write_float_wav(out / f"{stem}.wav", clip.volts / volts_full_scale, sample_rate, overwrite=True))
+    if clip.passive_volts is not None:
+        written.append(write_float_wav(out / f"{stem}-passive.wav", clip.passive_volts / volts_full_scale, sample_rate, overwrite=True))
+    written.append(write_text(out / f"{stem}.json", json.dumps(rec, indent=2, allow_nan=False) + "\n", overwrite=True))
+    if plots:
+        from .plots import response_plot, spectrogram_plot, spectrum_plot
+
+        d = clip.design
+        f = np.geomspace(20, 20000, 600)
+        resp = responses(from_designs([d]))
+        written.append(
+            response_plot(out / f"{stem}-response.png", f, [(d.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{d.name}: string velocity to amp input", overwrite=True)
+        )
+        curves = [(d.name, *long_term_spectrum(clip.volts, sample_rate=sample_rate), False)]
+        if clip.passive_volts is not None:
+            curves.append(("passive reference", *long_term_spectrum(clip.passive_volts, sample_rate=sample_rate), True))
+        written.append(spectrum_plot(out / f"{stem}-spectrum.png", curves, title=f"{d.name}: long-term average spectrum at the amp input", overwrite=True))
+        written.append(spectrogram_plot(out / f"{stem}-spectrogram.png", clip.volts, sample_rate=sample_rate, title=f"{d.name}: amp input", overwrite=True))
+    return written
+
+
+def _cell(v, fmt):
+    return "—" if v is None else format(v, fmt)
+
+
+def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict, volts_full_scale: float) -> str:
+    lines = [
+        "# render clips",
+        "",
+        f"Dry signal: `{dry}`; rig: {rig}; sample rate {settings['sample_rate']} Hz; seed {settings['seed']};"
+        f" hum {'on' if settings['hum'] else 'off'}; noise {'on' if settings['noise'] else 'off'}; one full scale for every clip: {volts_full_scale:g} V.",
+        "",
+        "Start listening at a low volume; clips that clip stay loud.",
+        "",
+        "| design | resonance | Q | level at 1 kHz | vs passive | hum rejection | bias | headroom up / down | peak at amp input | loudness | limited |",
+        "|---|---|---|---|---|---|---|---|---|---|---|",
+    ]
+    for r in records:
+        m = r["measurements"]
+        lines.append(
+            f"| {r['design']} | {m['resonance_hz']:.0f} Hz, {m['resonance_db']:+.1f} dB | {_cell(m['q'], '.2f')} | {m['level_1k_db']:+.1f} dB | {m['gain_vs_passive_db']:+.1f} dB"
+            f" | {_cell(m['hum_rejection_db'], '.1f')} dB | {m['bias_v']:.2f} V | {m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V"
+            f" | {m['peak_v']:.3f} V | {_cell(m['loudness_lufs'], '.1f')} LUFS | {m['clipped_fraction'] * 100:.2f} % |"
+        )
+    lines += [
+        "",
+        "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the WAV as written;"
+        " \"limited\": share of the op-amp output's samples inside the soft limit's knee or beyond.",
+        "",
+    ]
+    return "\n".join(lines)
+
+
+def write_run_files(out: Path, clips, records, *, dry: str, rig: str, settings: dict, volts_full_scale: float, plots: bool = True) -> list[Path]:
+    """summary.md and the overlay of every design's response with the passive references."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+
+    written = [write_text(out / "summary.md", summary_markdown(records, dry=dry, rig=rig, settings=settings, volts_full_scale=volts_full_scale), overwrite=True)]
+    if plots:
+        from .plots import overlay_plot
+
+        designs = [c.design for c in clips]
+        f = np.geomspace(20, 20000, 600)
+        resp = responses(from_designs(designs))
+        h = resp.velocity()(f)
+        hp = resp.passive_velocity()(f)
+        passives = []
+        for i, d in enumerate(designs):  # one dashed curve per distinct passive reference
+            if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
+                passives.append((i, d.name))
+        written.append(
+            overlay_plot(out / "responses.png", f, [(d.name, h[i]) for i, d in enumerate(designs)], [(f"passive ({name})" if len(passives) > 1 else "passive reference", hp[i]) for i, name in passives], overwrite=True)
+        )
+    return written

@@ -1,0 +1,93 @@
+"""`render clips`: files, records, determinism, parallel runs, refusals."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+import soundfile as sf
+from click.testing import CliRunner
+
+from render.analysis.audio import integrated_loudness
+from render.cli import main
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+ODD = ROOT / "models" / "odd-pair.toml"
+DRY = ROOT / "dry_signals" / "default.toml"
+KEYS = {"design", "sample_rate", "volts_full_scale", "seconds", "dry", "rig", "seed", "software_version", "measurements"}
+MEASURES = {"resonance_hz", "resonance_db", "q", "bias_v", "headroom_up_v", "headroom_down_v", "peak_v", "loudness_lufs"}
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+def clips(out, *extra, models=(REF, ODD)):
+    return run("clips", *models, "--dry", DRY, "--seconds", 1.0, "--out", out, *extra)
+
+
+def test_clips_writes_every_file_with_the_recorded_keys(tmp_path):
+    out = tmp_path / "run"
+    res = clips(out, "--passive")
+    assert res.exit_code == 0, res.output
+    assert "low volume" in res.output
+    for stem in ("studio-reference", "odd-pair"):
+        for suffix in (".wav", "-passive.wav", ".json", "-response.png", "-spectrum.png", "-spectrogram.png"):
+            assert (out / f"{stem}{suffix}").exists(), suffix
+        rec = json.loads((out / f"{stem}.json").read_text())
+        assert KEYS <= set(rec) and MEASURES <= set(rec["measurements"])
+        info = sf.info(out / f"{stem}.wav")
+        assert (info.samplerate, info.subtype, info.frames) == (48000, "FLOAT", 48000)
+    a = json.loads((out / "studio-reference.json").read_text())
+    b = json.loads((out / "odd-pair.json").read_text())
+    assert a["volts_full_scale"] == b["volts_full_scale"]  # one scale for the whole run
+    # the sample is volts / volts_full_scale
+    x, _ = sf.read(out / "studio-reference.wav")
+    assert np.max(np.abs(x)) * a["volts_full_scale"] == pytest.approx(a["measurements"]["peak_v"], rel=1e-6)
+    assert (out / "summary.md").exists() and (out / "responses.png").exists()
+    assert "| odd-pair |" in (out / "summary.md").read_text()
+
+
+def test_renders_are_byte_identical_and_parallel_equals_serial(tmp_path):
+    assert clips(tmp_path / "a").exit_code == 0
+    assert clips(tmp_path / "b", "--jobs", "2").exit_code == 0
+    for name in ("studio-reference.wav", "odd-pair.wav", "studio-reference.json", "odd-pair.json", "summary.md"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name
+
+
+def test_hum_is_audible_in_a_mismatched_design_and_can_be_left_out(tmp_path):
+    assert clips(tmp_path / "h", "--seconds", 2.0, models=(ODD,)).exit_code == 0
+    assert clips(tmp_path / "n", "--seconds", 2.0, "--no-hum", models=(ODD,)).exit_code == 0
+    h, fs = sf.read(tmp_path / "h" / "odd-pair.wav")
+    n, _ = sf.read(tmp_path / "n" / "odd-pair.wav")
+    diff = h - n  # only the hum differs
+    spec = np.abs(np.fft.rfft(diff[fs // 2 :] * np.hanning(diff.size - fs // 2)))
+    f = np.fft.rfftfreq(diff.size - fs // 2, 1 / fs)
+    assert abs(f[np.argmax(spec)] - 50) <= 2 or abs(f[np.argmax(spec)] - 250) <= 2
+    assert np.sqrt(np.mean(diff**2)) > 1e-7
+
+
+def test_loudness_meter_self_check():
+    # ITU-R BS.1770-4: a 997 Hz full-scale sine in one channel reads -3.01 LKFS
+    fs = 48000
+    t = np.arange(10 * fs) / fs
+    x = np.sin(2 * np.pi * 997 * t)
+    assert integrated_loudness(x, sample_rate=fs) == pytest.approx(-3.01, abs=0.01)
+
+
+def test_refusals_touch_nothing(tmp_path):
+    out = tmp_path / "taken"
+    out.mkdir()
+    (out / "keep.txt").write_text("mine")
+    res = clips(out)
+    assert res.exit_code == 1 and "folder exists and is not empty; pass --overwrite" in res.output
+    assert sorted(p.name for p in out.iterdir()) == ["keep.txt"]
+    res = run("clips", REF, "--dry", tmp_path / "missing.toml", "--out", tmp_path / "x")
+    assert res.exit_code == 1 and "no such file" in res.output and not (tmp_path / "x").exists()
+    bad = tmp_path / "bad.toml"
+    bad.write_text(REF.read_text().replace('battery = "9V"', 'battery = "9F"'))
+    res = run("clips", bad, "--dry", DRY, "--out", tmp_path / "y")
+    assert res.exit_code == 1 and "unit 'F' does not fit a voltage" in res.output and not (tmp_path / "y").exists()
