@@ -124,16 +124,14 @@ def render_design(design, dry_path, settings: Settings) -> Clip:
     )
 
 
-FULL_SCALE_STEPS = (0.1, 0.2, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0, 50.0)
-
-
-def choose_full_scale(peaks) -> float:
-    """The smallest step of 1-2-5 volts at or above the run's largest peak (one scale for the run)."""
-    top = max([float(p) for p in peaks] + [1e-9])
-    for s in FULL_SCALE_STEPS:
-        if top <= s:
-            return s
-    return float(np.ceil(top))
+def choose_full_scale(peaks, *, floor: float = 0.1) -> float:
+    """The smallest 1-2-5 step (V) at or above the largest peak and ``floor``: one scale for a run."""
+    top = max([float(p) for p in peaks] + [floor])
+    decade = 10.0 ** np.floor(np.log10(top))
+    for m in (1.0, 2.0, 5.0, 10.0):
+        if top <= m * decade * (1 + 1e-12):
+            return float(m * decade)
+    return float(10 * decade)
 
 
 def measurements(clip: Clip, *, volts_full_scale: float, sample_rate: int) -> dict:

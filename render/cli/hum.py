@@ -22,6 +22,38 @@ def _percent(text, name):
     return v
 
 
+def write_hum_audio(out, d, table, *, seconds=4.0, sample_rate=48000):
+    """Hum-only WAVs of the design and of each coil alone, one full scale; the rejection measured from them."""
+    from pathlib import Path
+
+    import numpy as np
+
+    from ..analysis.hum import measured_rejection
+    from ..clips import choose_full_scale
+    from ..report.wav import write_float_wav
+
+    m = measured_rejection(d, seconds=seconds, settle=1.0, sample_rate=sample_rate)
+    vfs = choose_full_scale([np.abs(m[k]).max() for k in ("both", "coil_a", "coil_b")], floor=1e-6)
+    stem = Path(d.source).stem
+    files = {}
+    for k, suffix in (("both", "hum"), ("coil_a", "hum-coil_a"), ("coil_b", "hum-coil_b")):
+        path = Path(out) / f"{stem}-{suffix}.wav"
+        write_float_wav(path, m[k] / vfs, sample_rate, overwrite=True)
+        files[k] = str(path)
+    exact = [r["rejection_db"] for r in table["harmonics"]]
+    click.echo(f"  measured from a {seconds:g} s hum-only render (last {seconds - 1:g} s):")
+    for i, (f, r) in enumerate(zip(m["frequency_hz"], m["rejection_db"])):
+        if i < 5:
+            click.echo(f"    H{i + 1} {f:5.0f} Hz: {r:6.1f} dB (exact {exact[i]:.1f} dB)")
+    click.echo(f"  hum-only WAVs at {vfs:g} V full scale: {files['both']}, and each coil alone beside it")
+    return {
+        "seconds": seconds,
+        "volts_full_scale": vfs,
+        "files": files,
+        "harmonics": [{"frequency_hz": float(f), "rejection_db": float(r), "output_v": float(v)} for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"])],
+    }
+
+
 def print_table(d, t):
     click.echo(f"{d.name}  ({d.source})  mains {t['mains_hz']:g} Hz, field {t['field_t'] * 1e6:g} µT peak")
     click.echo("  harmonic  frequency   rejection   hum at amp input   coil_a alone   coil_b alone")
@@ -49,10 +81,11 @@ def print_table(d, t):
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the Monte Carlo draws.")
 @json_option("Write per-harmonic figures (and the Monte Carlo) as JSON to FILE ('-' for standard output).")
 @click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Plot rejection against frequency, mains harmonics marked (all MODELS overlaid).")
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder.")
 @click.option("--histogram", "hist_path", type=click.Path(dir_okay=False), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
 @overwrite_option
 @friendly
-def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, json_path, png_path, hist_path, overwrite):
+def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, json_path, png_path, out_dir, hist_path, overwrite):
     """Hum cancellation of each MODEL with its own coils, per mains harmonic.
 
     The rejection at a frequency is 20·log10(max(|V_A|,|V_B|)/|V_A+V_B|), V_A
@@ -76,6 +109,12 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
     if hist_path and not tol:
         raise InputError("--histogram needs a Monte Carlo: add --tolerance (e.g. --tolerance 1%)")
     designs, _ = load_designs(models, rig_path)
+    out = None
+    if out_dir:
+        from .clips import prepare_out
+
+        out = prepare_out(out_dir, overwrite)
+        out.mkdir(parents=True, exist_ok=True)
     records = []
     for i, d in enumerate(designs):
         t = hum_table(d)
@@ -84,6 +123,8 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
             if i:
                 click.echo()
             print_table(d, t)
+        if out is not None:
+            rec["measured"] = write_hum_audio(out, d, t)
         if tol:
             mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed)
             rec["monte_carlo"] = {
