@@ -16,6 +16,10 @@ from .. import __version__
 # command name -> (module, attribute, one-line help)
 COMMANDS = {
     "clips": ("render.cli.clips", "clips_command", "Render one clip per design through one dry signal and rig (the main job)."),
+    "bias": ("render.cli.bias", "bias_command", "Clipping as the bias divider is unbalanced or the battery runs down."),
+    "blind": ("render.cli.blind", "blind_command", "Build a blind ABX or preference session from two designs."),
+    "listen": ("render.cli.listen", "listen_command", "Serve a blind session to the browser on 127.0.0.1."),
+    "score": ("render.cli.score", "score_command", "Score a finished blind session: ABX p-value or preferences."),
     "check": ("render.cli.check", "check_command", "Validate design files and print their derived values."),
     "noise": ("render.cli.noise", "noise_command", "Noise floor at the amp input: density, totals, A-weighted, SNR, with the passive reference."),
     "response": ("render.cli.response", "response_command", "Small-signal response from string velocity to the amp input."),

@@ -1,0 +1,203 @@
+"""Writing a session folder from two rendered signals.
+
+The trials are drawn from ``numpy.random.default_rng(seed)``: for each trial
+an independent fair draw of which design plays as A (and, for ABX, another
+of whether X repeats A or B). Independent fair draws make the number of
+correct ABX answers exactly binomial(n, 1/2) under the null hypothesis,
+whatever strategy the listener follows.
+
+Clip names come from :func:`secrets.token_hex`, never from the seed, so
+nothing served can be used to rebuild the key. Each clip slot of each trial
+gets its own file; all are float32 WAVs of one length, written by
+:func:`render.report.wav.float_wav_bytes` (no PEAK chunk, no timestamp, no
+tags), so files differ only in their audio. All get the same modification
+time.
+
+The folder is built under a temporary name beside ``out`` and renamed into
+place at the end, so an interrupted run leaves no half-made session.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as _dt
+import hashlib
+import json
+import os
+import secrets
+import shutil
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+from .layout import KEY_FORMAT, METHODS, PLAN_FORMAT, SLOTS, VERSION, SessionPaths
+
+MAX_TRIALS = 500
+
+
+def check_out(out: str | Path, *, overwrite: bool) -> None:
+    """Refuse up front (before any work) an ``--out`` that cannot take a new session."""
+    out = Path(out)
+    if out.exists():
+        if not overwrite:
+            raise InputError(f"--out={out}: exists; pass --overwrite to replace that session or choose another folder")
+        if not out.is_dir():
+            raise InputError(f"--out={out}: exists and is not a folder; choose another folder")
+        if any(out.iterdir()) and not (SessionPaths(out).key.is_file() and SessionPaths(out).plan.is_file()):
+            raise InputError(f"--out={out}: a folder that is neither empty nor a listening session; --overwrite replaces only a session, choose another folder")
+    parent = out.parent if str(out.parent) else Path(".")
+    if not parent.is_dir():
+        raise InputError(f"--out={out}: folder {parent} does not exist; create it first")
+    if not os.access(parent, os.W_OK):
+        raise InputError(f"--out={out}: cannot write in {parent}; choose another folder")
+
+
+def draw_trials(method: str, trials: int, seed: int) -> list[dict]:
+    """Per trial: ``a`` (design playing as A: 0 or 1) and ``x`` (ABX: "A" or "B"; else None)."""
+    if method not in METHODS:
+        raise InputError(f"--method={method}: expected one of {', '.join(METHODS)}")
+    if not 1 <= trials <= MAX_TRIALS:
+        raise InputError(f"--trials={trials}: must be from 1 to {MAX_TRIALS}; 16 is usual")
+    rng = np.random.default_rng(seed)
+    a = rng.integers(0, 2, size=trials)
+    x = rng.integers(0, 2, size=trials) if method == "abx" else None
+    return [{"index": i, "a": int(a[i]), "x": None if x is None else ("A", "B")[int(x[i])]} for i in range(trials)]
+
+
+def slot_design(trial: dict, slot: str) -> int:
+    """Which design (0 or 1) plays in ``slot`` ("A", "B" or "X") of ``trial``."""
+    a = trial["a"]
+    if slot == "A":
+        return a
+    if slot == "B":
+        return 1 - a
+    return a if trial["x"] == "A" else 1 - a
+
+
+def _fsync_dir(path: Path) -> None:
+    fd = os.open(path, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def _write(path: Path, data: bytes) -> None:
+    with open(path, "xb") as fh:
+        fh.write(data)
+        fh.flush()
+        os.fsync(fh.fileno())
+
+
+def _json(obj) -> bytes:
+    return (json.dumps(obj, indent=2, allow_nan=False) + "\n").encode("utf-8")
+
+
+def build_session(
+    out: str | Path,
+    signals,
+    *,
+    sample_rate: int,
+    method: str,
+    trials: int,
+    seed: int,
+    designs: list[dict],
+    record: dict,
+    overwrite: bool = False,
+) -> SessionPaths:
+    """Write a session at ``out`` from two loudness-matched signals.
+
+    Parameters
+    ----------
+    signals : two np.ndarray of shape (n,), full scale ±1, already matched
+    designs : two JSON-ready dicts describing MODEL_A and MODEL_B (name, path, sha256, toml, ...)
+    record : anything else the key should keep (rig, dry signal, loudness, render options)
+
+    Returns
+    -------
+    SessionPaths of the finished session.
+    """
+    from ..report.wav import float_wav_bytes
+
+    out = Path(out)
+    check_out(out, overwrite=overwrite)
+    if len(signals) != 2 or len(designs) != 2:
+        raise InputError("a session compares exactly two designs")
+    n = min(np.asarray(s).shape[-1] for s in signals)
+    wavs = [float_wav_bytes(np.asarray(s, float)[:n], sample_rate) for s in signals]
+    if len(wavs[0]) != len(wavs[1]):  # same n, same format: cannot happen, but the promise is checked
+        raise InputError("the two clips differ in byte size; this is a bug, please report it")
+    draws = draw_trials(method, trials, seed)
+    session_id = secrets.token_hex(16)
+    names: set[str] = set()
+
+    def fresh() -> str:
+        while True:
+            name = secrets.token_hex(16) + ".wav"
+            if name not in names:
+                names.add(name)
+                return name
+
+    for t in draws:
+        t["clips"] = {slot: fresh() for slot in SLOTS[method]}
+    created = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0)
+    plan = {
+        "format": PLAN_FORMAT,
+        "version": VERSION,
+        "session": session_id,
+        "method": method,
+        "sample_rate": int(sample_rate),
+        "seconds": n / sample_rate,
+        "trials": [{"index": t["index"], "clips": t["clips"]} for t in draws],
+    }
+    key = {
+        "format": KEY_FORMAT,
+        "version": VERSION,
+        "session": session_id,
+        "created_utc": created.isoformat(),
+        "method": method,
+        "seed": int(seed),
+        "draws": "numpy.random.default_rng(seed): integers(0, 2, trials) for a, then (abx) integers(0, 2, trials) for x",
+        "designs": designs,
+        "clip_sha256": [hashlib.sha256(w).hexdigest() for w in wavs],
+        "clip_bytes": len(wavs[0]),
+        "sample_rate": int(sample_rate),
+        "frames": int(n),
+        **record,
+        "trials": draws,
+    }
+    parent = out.parent if str(out.parent) else Path(".")
+    tmp = parent / f".tmp-{out.name}-{secrets.token_hex(4)}"
+    old = None
+    try:
+        tmp.mkdir()
+        paths = SessionPaths(tmp)
+        paths.public.mkdir()
+        paths.private.mkdir(mode=0o700)
+        stamp = created.timestamp()
+        holder = {c: slot_design(t, s) for t in draws for s, c in t["clips"].items()}
+        for name in sorted(names):  # sorted random names: an order unrelated to the designs
+            _write(paths.public / name, wavs[holder[name]])
+        _write(paths.plan, _json(plan))
+        _write(paths.key, _json(key))
+        for p in list(paths.public.iterdir()):
+            os.utime(p, (stamp, stamp))
+        for d in (paths.public, paths.private, tmp):
+            _fsync_dir(d)
+        if out.exists():
+            old = parent / f".old-{out.name}-{secrets.token_hex(4)}"
+            os.rename(out, old)
+        os.rename(tmp, out)
+        _fsync_dir(parent)
+    except OSError as exc:
+        if old is not None and not out.exists():
+            os.rename(old, out)
+            old = None
+        raise InputError(f"--out={out}: could not write the session ({exc.strerror or exc}); check free space and permissions") from None
+    finally:
+        with contextlib.suppress(FileNotFoundError):
+            shutil.rmtree(tmp)
+        if old is not None:
+            shutil.rmtree(old, ignore_errors=True)
+    return SessionPaths(out)

@@ -1,0 +1,124 @@
+"""Where a session keeps its files, and reading the two JSON records.
+
+``public/plan.json`` (served to the page, through the server's own route)::
+
+    {"format": "render-listening-plan", "version": 1,
+     "session": "<random id>", "method": "abx" | "preference",
+     "sample_rate": 48000, "seconds": 8.5,
+     "trials": [{"index": 0, "clips": {"A": "<name>.wav", "B": ..., "X": ...}}, ...]}
+
+``private/key.json`` (never served; read by ``render score`` and by the
+server only after the last answer)::
+
+    {"format": "render-listening-key", "version": 1, "session": ..., "method": ...,
+     "seed": ..., "designs": [{"name", "path", "sha256", "toml"}, x2], "rig": ...,
+     "dry": {...}, "loudness": {...},
+     "trials": [{"index", "a": 0|1, "x": "A"|"B"|null, "clips": {...}}, ...]}
+
+``a`` is the design (0 = MODEL_A, 1 = MODEL_B) playing as clip A in that
+trial (clip B plays the other); ``x`` is which of A or B clip X repeats.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import InputError
+
+PLAN_FORMAT = "render-listening-plan"
+KEY_FORMAT = "render-listening-key"
+VERSION = 1
+METHODS = ("abx", "preference")
+CLIP_NAME = re.compile(r"^[0-9a-f]{32}\.wav$")
+SLOTS = {"abx": ("A", "B", "X"), "preference": ("A", "B")}
+ANSWERS = {"abx": ("A", "B"), "preference": ("A", "B", "none")}
+
+
+@dataclass(frozen=True)
+class SessionPaths:
+    root: Path
+
+    @property
+    def public(self) -> Path:
+        return self.root / "public"
+
+    @property
+    def private(self) -> Path:
+        return self.root / "private"
+
+    @property
+    def plan(self) -> Path:
+        return self.public / "plan.json"
+
+    @property
+    def key(self) -> Path:
+        return self.private / "key.json"
+
+    @property
+    def answers(self) -> Path:
+        return self.root / "answers.jsonl"
+
+    @property
+    def lock(self) -> Path:
+        return self.root / "listen.lock"
+
+    @property
+    def results(self) -> Path:
+        return self.root / "results"
+
+
+def session_paths(path: str | Path) -> SessionPaths:
+    """The paths of the session at ``path``; refuses a folder that is not one."""
+    root = Path(path)
+    if not root.is_dir():
+        raise InputError(f"SESSION={path}: no such folder; make a session with `render blind MODEL_A MODEL_B`")
+    paths = SessionPaths(root)
+    if not paths.plan.is_file() or not paths.key.is_file():
+        raise InputError(f"SESSION={path}: not a listening session (no public/plan.json and private/key.json); make one with `render blind MODEL_A MODEL_B`")
+    return paths
+
+
+def _read_json(path: Path, what: str, fmt: str) -> dict:
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputError(f"{path}: unreadable {what} ({exc.__class__.__name__}); the session folder is damaged, make a new one with `render blind`") from None
+    if not isinstance(data, dict) or data.get("format") != fmt or data.get("version") != VERSION:
+        raise InputError(f"{path}: format={data.get('format') if isinstance(data, dict) else None!r}: expected {fmt!r} version {VERSION}; make a new session with `render blind`")
+    return data
+
+
+def load_plan(paths: SessionPaths) -> dict:
+    """The public plan, checked: method known, trials numbered 0..n-1, clip names well formed."""
+    plan = _read_json(paths.plan, "plan", PLAN_FORMAT)
+    method = plan.get("method")
+    trials = plan.get("trials")
+    if method not in METHODS or not isinstance(trials, list) or not trials:
+        raise InputError(f"{paths.plan}: method={method!r}: expected one of {', '.join(METHODS)} with at least one trial; make a new session")
+    for i, t in enumerate(trials):
+        clips = t.get("clips") if isinstance(t, dict) else None
+        if (
+            not isinstance(clips, dict)
+            or t.get("index") != i
+            or set(clips) != set(SLOTS[method])
+            or not all(isinstance(c, str) and CLIP_NAME.match(c) for c in clips.values())
+        ):
+            raise InputError(f"{paths.plan}: trials[{i}] is malformed; make a new session with `render blind`")
+    return plan
+
+
+def load_key(paths: SessionPaths, plan: dict) -> dict:
+    """The private key, checked against the plan (same session, same trials and clips)."""
+    key = _read_json(paths.key, "key", KEY_FORMAT)
+    trials = key.get("trials")
+    if key.get("session") != plan.get("session") or key.get("method") != plan["method"] or not isinstance(trials, list) or len(trials) != len(plan["trials"]):
+        raise InputError(f"{paths.key}: session={key.get('session')!r} does not match {paths.plan}; the two files come from different sessions")
+    for t, p in zip(trials, plan["trials"]):
+        if not isinstance(t, dict) or t.get("clips") != p["clips"] or t.get("a") not in (0, 1):
+            raise InputError(f"{paths.key}: trials[{p['index']}] does not match the plan; the session folder is damaged")
+        if plan["method"] == "abx" and t.get("x") not in ("A", "B"):
+            raise InputError(f"{paths.key}: trials[{p['index']}] x={t.get('x')!r}: expected 'A' or 'B'")
+    return key

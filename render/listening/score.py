@@ -1,0 +1,186 @@
+"""Scoring a finished session.
+
+ABX: the number of trials where the listener matched X correctly, against
+chance (one half), with the one-sided exact binomial test
+(:func:`scipy.stats.binomtest`, ``alternative="greater"``): the chance that
+guessing alone scores at least that many.
+
+Preference: how often each design was preferred, and the two-sided exact
+binomial test of the decided answers against an even split; "no
+preference" answers are left out of the test, as the sign test leaves out
+ties.
+
+Nothing here is computed before every trial is answered.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ..errors import InputError
+from .answers import read_answers
+from .build import slot_design
+from .layout import SessionPaths, load_key, load_plan, session_paths
+
+ALPHA = 0.05  # the conventional threshold (common practice, no source)
+
+
+def abx_p_value(correct: int, total: int) -> float:
+    """P(at least ``correct`` of ``total`` by guessing), one-sided exact binomial, p = 1/2."""
+    from scipy.stats import binomtest
+
+    return float(binomtest(int(correct), int(total), 0.5, alternative="greater").pvalue)
+
+
+def preference_p_value(first: int, second: int) -> float:
+    """Two-sided exact binomial test of ``first`` against ``second`` (p = 1/2); 1.0 when both are zero."""
+    from scipy.stats import binomtest
+
+    n = int(first) + int(second)
+    return 1.0 if n == 0 else float(binomtest(int(first), n, 0.5, alternative="two-sided").pvalue)
+
+
+def fewest_trials_for(alpha: float = ALPHA) -> int:
+    """Smallest number of ABX trials in which a perfect score reaches p < alpha."""
+    return int(math.floor(math.log(alpha) / math.log(0.5))) + 1
+
+
+def score(plan: dict, key: dict, answers: list[dict]) -> dict:
+    """The JSON-ready score of a finished session (refuses an unfinished one)."""
+    total = len(plan["trials"])
+    if len(answers) < total:
+        raise InputError(f"SESSION: {len(answers)} of {total} trials answered; the key stays closed until the last one; finish with `render listen SESSION`")
+    names = [d["name"] for d in key["designs"]]
+    rows = []
+    correct = 0
+    counts = [0, 0]
+    none = 0
+    for t, ans in zip(key["trials"], answers):
+        row = {"trial": t["index"] + 1, **{slot: names[slot_design(t, slot)] for slot in t["clips"]}, "answer": ans["answer"], "comment": ans.get("comment", "")}
+        if key["method"] == "abx":
+            row["correct"] = ans["answer"] == t["x"]
+            correct += row["correct"]
+        else:
+            if ans["answer"] == "none":
+                row["preferred"] = None
+                none += 1
+            else:
+                d = slot_design(t, ans["answer"])
+                row["preferred"] = names[d]
+                counts[d] += 1
+        rows.append(row)
+    out = {"method": key["method"], "trials": total, "designs": names, "table": rows}
+    if key["method"] == "abx":
+        p = abx_p_value(correct, total)
+        out["abx"] = {"correct": correct, "total": total, "p_value": p, "test": "one-sided exact binomial, chance 1/2", "alpha": ALPHA, "distinguished": p < ALPHA}
+    else:
+        p = preference_p_value(*counts)
+        out["preference"] = {
+            "counts": {names[0]: counts[0], names[1]: counts[1], "no preference": none},
+            "p_value": p,
+            "test": "two-sided exact binomial of the decided answers, even split",
+            "alpha": ALPHA,
+        }
+    return out
+
+
+def summary_lines(result: dict) -> list[str]:
+    """The score as text: headline, test, and the per-trial table."""
+    names = result["designs"]
+    lines = [f"{result['method']} session, {result['trials']} trials: MODEL_A = {names[0]}, MODEL_B = {names[1]}"]
+    if "abx" in result:
+        s = result["abx"]
+        verdict = (
+            "below 0.05: these answers are unlikely to be guesses; the listener told the designs apart"
+            if s["distinguished"]
+            else "not below 0.05: these answers could be guesses; no audible difference is shown (which does not prove there is none)"
+        )
+        lines.append(f"  ABX      {s['correct']} of {s['total']} correct, p = {s['p_value']:.4f} ({s['test']})")
+        lines.append(f"           {verdict}")
+        if s["total"] < fewest_trials_for():
+            lines.append(f"           with {s['total']} trials even a perfect score cannot reach p < 0.05; use at least {fewest_trials_for()}")
+    else:
+        s = result["preference"]
+        c = s["counts"]
+        lines.append(f"  prefer   {names[0]}: {c[names[0]]}, {names[1]}: {c[names[1]]}, no preference: {c['no preference']}")
+        lean = "an even split is unlikely" if s["p_value"] < ALPHA else "could be an even split"
+        lines.append(f"           p = {s['p_value']:.4f} ({s['test']}): {lean}")
+    slots = [k for k in ("A", "B", "X") if k in result["table"][0]]
+    width = max(len(n) for n in names)
+    abx = "abx" in result
+    last = "result" if abx else "preferred"
+    last_width = 6 if abx else max(width, 9)
+    lines.append("")
+    lines.append("  trial  " + "".join(f"{k:<{width}}  " for k in slots) + f"{'answer':<6}  {last:<{last_width}}  comment")
+    for r in result["table"]:
+        cells = "".join(f"{r[k]:<{width}}  " for k in slots)
+        if abx:
+            ans, res = f"X is {r['answer']}", ("right" if r["correct"] else "wrong")
+        else:
+            ans, res = r["answer"], (r["preferred"] or "-")
+        comment = r["comment"].replace("\n", " ")
+        lines.append(f"  {r['trial']:>5}  {cells}{ans:<6}  {res:<{last_width}}  {comment}".rstrip())
+    return lines
+
+
+def designs_from_key(key: dict):
+    """The two designs, rebuilt from the TOML text kept in the key (as they were rendered)."""
+    import tomllib
+
+    from ..design import apply_rig, parse_design, parse_rig
+
+    rig = None
+    if key.get("rig"):
+        r = key["rig"]
+        rig = parse_rig(tomllib.loads(r["toml"]), source=r["path"], sha256=r["sha256"])
+    out = []
+    for d in key["designs"]:
+        out.append(apply_rig(parse_design(tomllib.loads(d["toml"]), source=d["path"], name=d["name"], sha256=d["sha256"]), rig))
+    return out
+
+
+def difference_plot(path, key: dict, *, overwrite: bool = False):
+    """Both designs' responses and their difference in dB, raw and as played after loudness matching."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from ..report.plots import PALETTE, _hz_axis, _plt, save
+
+    designs = designs_from_key(key)
+    f = np.geomspace(20.0, 20000.0, 600)
+    h = responses(from_designs(designs)).velocity()(f)
+    level = 20.0 * np.log10(np.abs(h))
+    gains = key.get("loudness", {}).get("gains_db", [0.0, 0.0])
+    raw = level[0] - level[1]
+    played = raw + (gains[0] - gains[1])
+    plt = _plt()
+    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 6.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
+    for i, d in enumerate(designs):
+        ax1.plot(f, level[i], color=PALETTE[i], lw=1.8, label=d.name)
+    ax2.axhline(0.0, color="#999999", lw=0.8)
+    ax2.plot(f, played, color=PALETTE[2], lw=1.8, label="as played (after loudness matching)")
+    ax2.plot(f, raw, color=PALETTE[2], lw=1.1, ls="--", label="before matching")
+    for ax in (ax1, ax2):
+        _hz_axis(ax, f[0], f[-1])
+    ax1.set_ylabel("level (dB re 1 V per m/s)")
+    ax2.set_ylabel(f"{designs[0].name} − {designs[1].name} (dB)")
+    ax2.set_xlabel("frequency (Hz)")
+    ax1.legend(loc="lower center", fontsize=8, frameon=False, ncol=2)
+    ax2.legend(loc="best", fontsize=8, frameon=False)
+    ax1.set_title(f"{designs[0].name} against {designs[1].name}: string velocity to amp input", fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
+
+
+def score_session(path) -> tuple[SessionPaths, dict, dict]:
+    """(paths, key, score) of the finished session at ``path``."""
+    paths = session_paths(path)
+    plan = load_plan(paths)
+    answers = read_answers(paths, plan)
+    if len(answers) < len(plan["trials"]):
+        raise InputError(
+            f"SESSION={path}: {len(answers)} of {len(plan['trials'])} trials answered; the key stays closed until the last one; finish with `render listen {path}`"
+        )
+    key = load_key(paths, plan)
+    return paths, key, score(plan, key, answers)

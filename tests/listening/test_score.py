@@ -1,0 +1,114 @@
+"""Scoring: the binomial tests against their published values, the table, the plot, the CLI."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import pytest
+from click.testing import CliRunner
+
+from render.cli.score import score_command
+from render.listening.answers import AnswerLog
+from render.listening.build import slot_design
+from render.listening.layout import load_plan
+from render.listening.score import abx_p_value, fewest_trials_for, preference_p_value
+
+
+def upper_tail(k, n):
+    """P(X >= k), X ~ binomial(n, 1/2), summed exactly (the binomial distribution)."""
+    return sum(math.comb(n, i) for i in range(k, n + 1)) / 2**n
+
+
+@pytest.mark.parametrize(
+    "correct, total, p",
+    [
+        (12, 16, 0.0384),  # scipy.stats.binomtest(12, 16, 0.5, alternative="greater"); = 2517/65536
+        (9, 10, 0.0107),  # scipy.stats.binomtest(9, 10, ...); = 11/1024
+        (14, 20, 0.0577),  # scipy.stats.binomtest(14, 20, ...); = 60460/1048576
+    ],
+)
+def test_abx_p_values(correct, total, p):
+    assert round(abx_p_value(correct, total), 4) == p
+    assert abx_p_value(correct, total) == pytest.approx(upper_tail(correct, total), rel=1e-12)  # binomial distribution, exact sum
+
+
+def test_abx_edges_and_the_shortest_useful_session():
+    assert abx_p_value(0, 16) == 1.0  # P(X >= 0) = 1 (binomial distribution)
+    assert abx_p_value(16, 16) == pytest.approx(2.0**-16, rel=1e-12)  # all correct: (1/2)^n
+    # 5 trials: a perfect score gives 1/32 = 0.03125 < 0.05, 4 trials 1/16 = 0.0625 (binomial distribution)
+    assert fewest_trials_for(0.05) == 5
+
+
+def test_preference_two_sided():
+    # two-sided exact binomial, p = 1/2, symmetric: 2 · P(X <= 1 | n = 10) = 2 · 11/1024 = 0.021484375
+    # (binomial distribution; scipy.stats.binomtest(9, 10, 0.5).pvalue)
+    assert preference_p_value(9, 1) == pytest.approx(22 / 1024, rel=1e-12)
+    assert preference_p_value(1, 9) == pytest.approx(22 / 1024, rel=1e-12)
+    assert preference_p_value(5, 5) == pytest.approx(1.0)  # an even split (binomial distribution)
+    assert preference_p_value(0, 0) == 1.0
+
+
+def _answer_all(paths, answers):
+    plan = load_plan(paths)
+    with AnswerLog(paths, plan) as log:
+        for i, (value, comment) in enumerate(answers):
+            log.record({"trial": i, "answer": value, "comment": comment})
+
+
+def test_score_refuses_an_unfinished_session_and_reveals_nothing(make_session):
+    paths = make_session(trials=4)
+    _answer_all(paths, [("A", ""), ("B", "")])
+    result = CliRunner().invoke(score_command, [str(paths.root)])
+    assert result.exit_code == 1
+    assert result.output.strip() == (
+        f"Error: SESSION={paths.root}: 2 of 4 trials answered; the key stays closed until the last one; finish with `render listen {paths.root}`"
+    )
+    assert not (paths.root / "results").exists()
+
+
+def test_abx_score_table_and_plot(make_session):
+    paths = make_session(method="abx", trials=16, seed=5)
+    key = json.loads(paths.key.read_text())
+    flip = {"A": "B", "B": "A"}
+    # right in the first 12 trials, wrong in the last 4: 12 of 16
+    given = [t["x"] if t["index"] < 12 else flip[t["x"]] for t in key["trials"]]
+    _answer_all(paths, [(g, "crisper" if i == 0 else "") for i, g in enumerate(given)])
+    result = CliRunner().invoke(score_command, [str(paths.root), "--json", str(paths.root / "score.json")])
+    assert result.exit_code == 0, result.output
+    out = result.output
+    assert "12 of 16 correct, p = 0.0384" in out  # scipy.stats.binomtest one-sided, as above
+    assert "told the designs apart" in out
+    names = [d["name"] for d in key["designs"]]
+    row1 = next(line for line in out.splitlines() if line.strip().startswith("1 "))
+    t0 = key["trials"][0]
+    assert row1.split()[1:4] == [names[slot_design(t0, s)] for s in "ABX"] and "right" in row1 and "crisper" in row1
+    png = paths.root / "results" / "response-difference.png"
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    data = json.loads((paths.root / "score.json").read_text())
+    assert data["abx"]["correct"] == 12 and len(data["table"]) == 16 and data["session"] == key["session"]
+    # a second run keeps the plot and refuses to overwrite the JSON
+    again = CliRunner().invoke(score_command, [str(paths.root)])
+    assert again.exit_code == 0 and f"kept {png}" in again.output
+    refused = CliRunner().invoke(score_command, [str(paths.root), "--json", str(paths.root / "score.json")])
+    assert refused.exit_code == 1 and "exists; pass --overwrite" in refused.output
+
+
+def test_preference_score(make_session):
+    paths = make_session(method="preference", trials=10, seed=8)
+    key = json.loads(paths.key.read_text())
+    # prefer design 0 nine times, then no preference once
+    given = [("A" if t["a"] == 0 else "B") for t in key["trials"][:9]] + ["none"]
+    _answer_all(paths, [(g, "") for g in given])
+    result = CliRunner().invoke(score_command, [str(paths.root), "--no-plot"])
+    assert result.exit_code == 0, result.output
+    names = [d["name"] for d in key["designs"]]
+    assert f"{names[0]}: 9, {names[1]}: 0, no preference: 1" in result.output
+    # two-sided exact binomial of 9 against 0: 2 · (1/2)^9 = 0.00390625 (binomial distribution)
+    assert "p = 0.0039" in result.output and "an even split is unlikely" in result.output
+    assert not (paths.root / "results").exists()
+
+
+def test_score_refuses_a_folder_that_is_not_a_session(tmp_path):
+    result = CliRunner().invoke(score_command, [str(tmp_path)])
+    assert result.exit_code == 1 and "not a listening session" in result.output
