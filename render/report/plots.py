@@ -173,3 +173,43 @@ def overlay_plot(path, f, curves, passives, *, overwrite=False):
     ax.set_title("string velocity to amp input, every design", fontsize=10, loc="left")
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)
+
+
+def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
+    """Simple line plot: ``series`` is a list of (label, y (len(x),), dashed)."""
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(7.5, 4.2))
+    for i, (label, y, dashed) in enumerate(series):
+        ax.plot(x, y, marker="o", ms=4, color=PALETTE[i % len(PALETTE)], lw=1.6, ls="--" if dashed else "-", label=label)
+    ax.grid(True, color="#dddddd", linewidth=0.6)
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel(ylabel)
+    ax.legend(fontsize=8, frameon=False)
+    if title:
+        ax.set_title(title, fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
+
+
+def transfer_plot(path, curves, *, title="", overwrite=False):
+    """The soft limit's transfer curve(s) with bias points marked.
+
+    ``curves``: list of (label, x (V), y (V), [(bias_v, point_label), …]).
+    """
+    plt = _plt()
+    fig, ax = plt.subplots(figsize=(7, 5))
+    for i, (label, x, y, points) in enumerate(curves):
+        col = PALETTE[i % len(PALETTE)]
+        ax.plot(x, y, color=col, lw=1.8, label=label)
+        for b, plabel in points:
+            ax.plot([b], [b], "o", color=col, ms=5)
+            ax.annotate(plabel, (b, b), textcoords="offset points", xytext=(6, -12), fontsize=7, color=col)
+    ax.plot([x[0], x[-1]], [x[0], x[-1]], color="#bbbbbb", lw=0.8, ls=":")
+    ax.grid(True, color="#dddddd", linewidth=0.6)
+    ax.set_xlabel("op-amp output, linear (V)")
+    ax.set_ylabel("op-amp output, limited (V)")
+    ax.legend(fontsize=8, frameon=False, loc="upper left")
+    if title:
+        ax.set_title(title, fontsize=10, loc="left")
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)

@@ -1,0 +1,150 @@
+"""Bias divider sweeps: divider arithmetic, clip onset (against an ngspice transient), harmonics, `render bias`."""
+
+import json
+import os
+import subprocess
+import tempfile
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from render.analysis.bias import divider, harmonics_of, onset, sine_distortion, velocity_to_amp_output
+from render.cli import main
+from render.design import load_design
+from spice import NGSPICE, active_netlist, require_ngspice
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+
+
+def with_divider(d, top, bottom, **supply):
+    return replace(d, input_b=replace(d.input_b, bias_top=top, bias_bottom=bottom), supply=replace(d.supply, **supply))
+
+
+def test_divider_formula():
+    # V_bias = V_B·R_bot/(R_top + R_bot); AC resistance R_top ∥ R_bot (textbook; reference sheet:
+    # 9 V, 1 MΩ top over 820 kΩ bottom -> 4.055 V, 450.5 kΩ)
+    d = with_divider(load_design(REF), 1e6, 820e3)
+    assert d.bias_v == pytest.approx(4.055, abs=5e-4)
+    assert 1 / (1 / 1e6 + 1 / 820e3) == pytest.approx(450.5e3, abs=0.05e3)  # the sheet rounds to 0.1 kΩ
+    # keeping the parallel resistance while the ratio moves: top = P/ρ, bottom = P/(1 − ρ)
+    ref = load_design(REF)
+    t, b = divider(ref, 0.3, keep_load=True)
+    assert b / (t + b) == pytest.approx(0.3, rel=1e-12)
+    assert t * b / (t + b) == pytest.approx(110e3, rel=1e-12)
+    t, b = divider(ref, 0.3, keep_load=False)
+    assert t + b == pytest.approx(440e3, rel=1e-12) and b / (t + b) == pytest.approx(0.3, rel=1e-12)
+
+
+def test_harmonic_measure_on_a_known_polynomial():
+    # algebra: x + k·x² driven by A·sin gives H2/H1 = k·A/2 (k = 0.1, A = 1 -> 0.050)
+    fs, f0 = 48000, 1000.0
+    t = np.arange(4800) / fs
+    x = np.sin(2 * np.pi * f0 * t)
+    h = harmonics_of(x + 0.1 * x**2, sample_rate=fs, f0=f0)
+    assert h[1] / h[0] == pytest.approx(0.050, rel=1e-9)
+
+
+def window_design():
+    # the reference sheet's window [1.5 V, 7.5 V]: 9 V battery, 1.5 V margins; a thin knee
+    return replace(load_design(REF), supply=replace(load_design(REF).supply, margin_low=1.5, margin_high=1.5, knee=0.05))
+
+
+def test_centred_bias_gives_no_h2_and_offset_bias_clips_low_first():
+    # reference sheet: window [1.5, 7.5] V, a 2.5 V-peak swing: bias 4.5 V -> no H2;
+    # bias 3.5 V -> the lower side clips first and H2 appears
+    d = window_design()
+    v = 2.5 / velocity_to_amp_output(d, 1000.0)  # string velocity for a 2.5 V-peak op-amp swing
+    centred = sine_distortion(with_divider(d, 220e3, 220e3), velocity_peak=v)
+    assert centred["h2_db"] < -80
+    low = with_divider(d, 220e3 * 5.5 / 3.5, 220e3 * 5.5 / 5.5)  # 9·R_b/(R_t+R_b) = 3.5 V
+    assert low.bias_v == pytest.approx(3.5, rel=1e-12)
+    assert onset(low)["first_side"] == "down"
+    assert sine_distortion(low, velocity_peak=v)["h2_db"] > -40
+
+
+def test_symmetric_window_keeps_even_harmonics_down_when_driven_hard():
+    # Fourier: an odd transfer function driven by a sine has half-wave symmetry, so no even
+    # harmonics; driven 12 dB past the onset, even harmonics stay below -80 dB
+    d = load_design(REF)
+    v = onset(d)["velocity_up_m_per_s"] * 10 ** (12 / 20)
+    s = sine_distortion(d, velocity_peak=v)
+    assert s["thd_percent"] > 5  # it really clips
+    even = 20 * np.log10(np.array(s["harmonics_v"][1::2]) / s["h1_v"])
+    assert np.all(even < -80)
+
+
+def test_h2_grows_with_the_imbalance():
+    d = load_design(REF)
+    v = 1.4 * onset(d)["velocity_up_m_per_s"]
+    h2 = []
+    for r in (0.5, 0.45, 0.4, 0.35):
+        t, b = divider(d, r)
+        h2.append(sine_distortion(with_divider(d, t, b), velocity_peak=v)["h2_db"])
+    assert h2[0] < -80 and h2[1] < h2[2] < h2[3]
+
+
+def _tran_peak(netlist, node, seconds=0.2, last=0.02):
+    with tempfile.TemporaryDirectory() as tmp:
+        cir = Path(tmp) / "t.cir"
+        dat = Path(tmp) / "t.dat"
+        cir.write_text("\n".join(netlist + [".control", "set wr_singlescale", "option numdgt=12", f"tran 2u {seconds} 0 2u", f"wrdata {dat} v({node})", "quit", ".endc", ".end"]) + "\n")
+        subprocess.run([NGSPICE, "-b", str(cir)], capture_output=True, text=True, timeout=300)
+        data = np.loadtxt(dat)
+    sel = data[:, 0] >= seconds - last
+    return data[sel, 1].max(), data[sel, 1].min()
+
+
+def test_clip_onset_against_an_ngspice_transient():
+    # ngspice transient of the same stage, the op-amp output through a rail-limited
+    # behavioural source (min/max; ngspice's limit() returns 0 in batch mode): at 0.98 of our
+    # onset velocity the output stays below the knee, at 1.02 it passes it
+    require_ngspice()
+    d = load_design(REF)
+    on = onset(d)
+    knee_top = d.limit_high_v - d.supply.knee
+    for factor, below in ((0.98, True), (1.02, False)):
+        v = on["velocity_up_m_per_s"] * factor
+        wa = d.coil_a.signal_polarity * d.coil_a.sensitivity
+        wb = d.coil_b.signal_polarity * d.coil_b.sensitivity
+        lines = active_netlist(d, wa=wa, wb=wb)
+        lines = [f"Vdrive drive 0 SIN(0 {v!r} 1000)" if ln.startswith("Vdrive") else ln for ln in lines]
+        lines.append(f"Bclip clip 0 V = max({d.limit_low_v!r}, min({d.limit_high_v!r}, V(out)))")
+        top, _ = _tran_peak(lines, "clip")
+        assert (top < knee_top) == below, (factor, top, knee_top)
+
+
+def test_bias_cli_table_clips_plots_json(tmp_path):
+    out = tmp_path / "b"
+    js = tmp_path / "b.json"
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.4,0.5", "--battery", "9,7", "--seconds", "1", "--out", str(out), "--json", str(js), "--strength", "2mm"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(js.read_text())
+    assert len(data["settings"]) == 4
+    row = data["settings"][1]
+    assert row["bias_v"] == pytest.approx(4.5) and row["battery_v"] == 9
+    names = sorted(p.name for p in out.iterdir())
+    assert sum(n.endswith("-matched.wav") for n in names) == 4
+    assert {"studio-reference-headroom.png", "studio-reference-harmonics.png", "studio-reference-transfer.png"} <= set(names)
+
+
+@pytest.mark.parametrize(
+    "args,fragment",
+    [
+        (["--ratios", "0.5,1.2"], "must be from 0.02 to 0.98"),
+        (["--top", "100k"], "--top and --bottom go together"),
+        (["--battery", "9,zero"], "cannot read 'zero'"),
+        (["--strength", "80mm"], "at most 50 mm"),
+    ],
+)
+def test_bias_cli_refusals(tmp_path, args, fragment):
+    res = CliRunner().invoke(main, ["bias", str(REF), "--no-clips", *args])
+    assert res.exit_code == 1 and fragment in res.output
+
+
+def test_far_drive_is_a_warning_not_a_refusal(tmp_path):
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.5", "--no-clips", "--sine-velocity", "60"])
+    assert res.exit_code == 0 and "far beyond realistic playing" in res.output
