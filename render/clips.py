@@ -78,13 +78,17 @@ def render_passive(design, velocity: np.ndarray, *, sample_rate: float, hum: boo
     from .circuit.params import from_designs
 
     resp = responses(from_designs([design]))
-    fa = dz.discretize_rational(resp.passive_from_a, sample_rate=sample_rate, what="passive coil_a path")
-    fb = dz.discretize_rational(resp.passive_from_b, sample_rate=sample_rate, what="passive coil_b path")
+    # the common and half-difference velocities (v_a = m + h, v_b = m − h) through the
+    # combined paths: no error from subtracting two filtered signals when the coils cancel
+    common = dz.discretize_rational(resp.passive_velocity(), sample_rate=sample_rate, what="passive path")
+    differ = dz.discretize_rational(resp.passive_mix(resp.sig_a, -resp.sig_b), sample_rate=sample_rate, what="passive difference path")
     n = velocity.shape[1]
-    pad = np.zeros(fa.delay)
-    ya, _ = dz.apply(fa, np.concatenate([resp.sig_a[0] * velocity[0], pad]), dz.initial_state(fa))
-    yb, _ = dz.apply(fb, np.concatenate([resp.sig_b[0] * velocity[1], pad]), dz.initial_state(fb))
-    out = (ya + yb)[fa.delay : fa.delay + n]
+    pad = np.zeros(common.delay)
+    m = 0.5 * (velocity[0] + velocity[1])
+    h = 0.5 * (velocity[0] - velocity[1])
+    ym, _ = dz.apply(common, np.concatenate([m, pad]), dz.initial_state(common))
+    yh, _ = dz.apply(differ, np.concatenate([h, pad]), dz.initial_state(differ)) if np.any(h) else (np.zeros(n + common.delay), None)
+    out = (ym + yh)[common.delay : common.delay + n]
     if hum:
         h = design.hum
         freqs = hm.harmonic_frequencies(mains_hz=h.mains, harmonics=h.harmonics)

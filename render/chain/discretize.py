@@ -13,11 +13,11 @@ renderer does not use it.
 
 :func:`discretize` is what the renderer uses, at the output sample rate:
 
-1. every analog pole and zero below the Nyquist frequency (and every real
-   one) is mapped to z = exp(r/fs), so each mode of the circuit keeps its
-   exact frequency and damping (no warping of resonances); complex roots
-   above Nyquist are left out, and so are mapped roots with |z| < 1e-3
-   (their in-band effect is a smooth tilt);
+1. every analog pole and zero whose frequency is below Nyquist is mapped
+   to z = exp(r/fs), so each mode of the circuit keeps its exact frequency
+   and damping (no warping of resonances); roots above Nyquist (complex,
+   or real in the right half-plane) are left out, and so are mapped roots
+   with |z| < 1e-3: their in-band effect is a smooth tilt;
 2. what remains between that pole–zero skeleton and the analog response —
    a smooth, nearly flat correction, plus the left-out roots — is fitted by
    a short FIR filter C(z) in the weighted least-squares sense, with
@@ -139,9 +139,11 @@ class Discrete:
 
 
 def _skeleton(roots, sample_rate):
-    """Map analog roots (rad/s) below Nyquist (or real) to exp(r/fs), dropping negligible ones."""
+    """Map analog roots (rad/s) to exp(r/fs): those below Nyquist in frequency and not far
+    into the right half-plane (fast right-half-plane zeros, e.g. an op-amp's feedthrough,
+    would map to huge factors); mapped roots below NEGLIGIBLE_ROOT are dropped too."""
     r = np.asarray(roots, dtype=complex)
-    keep = np.abs(r.imag) < np.pi * sample_rate
+    keep = (np.abs(r.imag) < np.pi * sample_rate) & (r.real < np.pi * sample_rate)
     z = np.exp(r[keep] / sample_rate)
     real = np.abs(r[keep].imag) <= 1e-9 * np.abs(r[keep])
     z[real] = z[real].real

@@ -28,7 +28,8 @@ from __future__ import annotations
 import numpy as np
 
 
-def _phases(n_harmonics: int, phases) -> np.ndarray:
+def check_phases(n_harmonics: int, phases) -> np.ndarray:
+    """The harmonics' phases in radians, shape (H,): zeros for None, else validated."""
     if phases is None:
         return np.zeros(n_harmonics)
     p = np.asarray(phases, dtype=float)
@@ -86,7 +87,7 @@ def field(n: int, *, sample_rate: float, mains_hz: float, field_t: float, harmon
     returns : np.ndarray, T, shape (n,)
     """
     amp = field_t * np.asarray(harmonics, dtype=float)
-    ph = _phases(amp.size, phases)
+    ph = check_phases(amp.size, phases)
     # sin(x + φ) = cos(x + φ − π/2)
     return _harmonic_sum(n, amp, ph - np.pi / 2, start=start, sample_rate=sample_rate, mains_hz=mains_hz)
 
@@ -99,7 +100,7 @@ def field_rate(n: int, *, sample_rate: float, mains_hz: float, field_t: float, h
         field_t · harmonics[h−1] · 2π·h·mains_hz
     """
     amp = field_t * np.asarray(harmonics, dtype=float) * 2.0 * np.pi * harmonic_frequencies(mains_hz=mains_hz, harmonics=harmonics)
-    ph = _phases(amp.size, phases)
+    ph = check_phases(amp.size, phases)
     return _harmonic_sum(n, amp, ph, start=start, sample_rate=sample_rate, mains_hz=mains_hz)
 
 
@@ -115,5 +116,5 @@ def steady_response(gains, n: int, *, sample_rate: float, mains_hz: float, field
     amp = field_t * np.asarray(harmonics, dtype=float) * 2.0 * np.pi * harmonic_frequencies(mains_hz=mains_hz, harmonics=harmonics)
     if g.shape != amp.shape:
         raise ValueError(f"gains: expected shape {amp.shape} (one per harmonic), got {g.shape}")
-    ph = _phases(amp.size, phases)
+    ph = check_phases(amp.size, phases)
     return _harmonic_sum(n, amp * np.abs(g), ph + np.angle(g), start=start, sample_rate=sample_rate, mains_hz=mains_hz)

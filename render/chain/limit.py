@@ -46,7 +46,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-ADAA_STEP_V = 1e-5  # V: below this input step the ADAA quotient falls back to f(mid) (Parker et al., DAFx-16)
+ADAA_STEP_V = 1e-5  # V: below this step the ADAA quotient falls back to f(mid) (the fallback: Parker et al., DAFx-16; the value: common practice, no source)
 
 
 @dataclass(frozen=True)

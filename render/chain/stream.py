@@ -4,11 +4,17 @@ Per design and output sample rate fs (48 kHz by default), with every
 filter's state carried from block to block:
 
 1. coil EMFs e_a = sig_a·v_a and e_b = sig_b·v_b (v: string velocity at
-   each coil's sensing point, m/s);
-2. each EMF through its own path to the op-amp output, H_a and H_b, as
-   digital filters *at fs* (:func:`render.chain.discretize.discretize`:
-   exact pole/zero mapping plus a fitted FIR; within 0.03 dB of the analog
-   response to 20 kHz); V_lin = H_a(e_a) + H_b(e_b);
+   each coil's sensing point, m/s), so that the op-amp's linear output is
+   V_lin = H_a(e_a) + H_b(e_b) with H_a, H_b each coil's path;
+2. computed as V_lin = M(u) + N(w) from the mean u = (v_a + v_b)/2 and the
+   half-difference w = (v_a − v_b)/2 of the two velocities, with
+   M = sig_a·H_a + sig_b·H_b (the design's response to one velocity at both
+   coils) and N = sig_a·H_a − sig_b·H_b, both digital filters *at fs*
+   (:func:`render.chain.discretize.discretize`: exact pole/zero mapping plus
+   a fitted FIR; within 0.03 dB of the analog response to 20 kHz). The two
+   coils' contributions often nearly cancel; filtering them separately would
+   turn each path's small relative error into a large one on the sum, while
+   M carries the cancellation exactly in its own zeros;
 3. hum: the field's steady-state response at the op-amp output, evaluated
    exactly from the engine's rational function at each field harmonic
    (both coils' hum EMFs together, so a balanced design's cancellation is
@@ -16,11 +22,11 @@ filter's state carried from block to block:
    explicit dB/dt signal, that signal through the discretised common path;
 4. the soft limit V_amp = limit(bias + V_lin), oversampled R× (192 kHz for
    48 kHz output) with first-order antiderivative anti-aliasing: a
-   linear-phase interpolating FIR (Kaiser, −100 dB image rejection from
-   fs − 20 kHz), ADAA-1, and a least-squares decimating FIR (−105 dB
-   alias rejection from fs − 20 kHz) whose passband also undoes ADAA's
-   two-tap droop. Only the signal *differences* V_amp − bias are filtered,
-   so the DC bias passes exactly;
+   linear-phase interpolating FIR (Kaiser window, about −100 dB image
+   rejection from fs − 20 kHz up), ADAA-1, and a least-squares decimating
+   FIR (−110 dB alias rejection from fs − 20 kHz up) whose passband also
+   undoes ADAA's two-tap droop. Only the signal *differences* V_amp − bias
+   are filtered, so the DC bias passes exactly;
 5. the output network, controls and cable (``out_stage``) applied at fs to
    V_amp − bias (it blocks DC, so leaving the bias out changes nothing but
    the start-up step);
@@ -34,12 +40,24 @@ meet 0.1 dB at 16 kHz even at 192 kHz. Only the limiter needs the high
 rate. While the signal stays inside the limiter's identity region, the
 oversampled path is a fixed linear filter (interpolator · two-tap mean ·
 decimator, sampled at the output rate: a 79-tap linear-phase FIR at fs,
-flat within ±0.002 dB to 20 kHz), so such stretches are computed with that
+flat within ±0.001 dB to 20 kHz), so such stretches are computed with that
 FIR directly. A sample takes the oversampled path when the bound
 |interpolated| ≤ G·max|V_lin| over the filters' span (G: the largest sum of
 |taps| of one polyphase branch) cannot rule out reaching the knee. The two
 paths agree to float rounding wherever the bound holds, so the choice never
 shows in the output, and never depends on the block size.
+
+Start and end: the string is at rest before the first sample and after
+the last (the chain is flushed with zero velocity to return exactly n
+samples); the hum field has always been there, so the limiter starts with
+its steady-state hum history. The output network starts at rest, which
+leaves a hum transient of a few tenths of a percent of the hum that dies
+away within about half a second.
+
+The op-amp output ``amp_out`` is band-limited like every signal at fs:
+where the limiter clips hard at high pitch its samples ring past the window
+(Gibbs; up to about 9 % of the swing for a square-like wave), although
+the limiter's own output at R·fs never leaves it (see :func:`limiter_output`).
 
 The chain has no global state: :func:`make_plan` builds the immutable
 filters of one design, :class:`Renderer` carries one render's state,
@@ -56,6 +74,7 @@ import numpy as np
 import scipy.signal as ss
 from scipy.ndimage import maximum_filter1d
 
+from ..design import Hum
 from . import discretize as dz
 from . import hum as hm
 from .limit import Window, design_window, soft_limit_adaa
@@ -73,7 +92,7 @@ MERGE_GAP = 256  # output samples: oversampled stretches closer than this are me
 class Resampler:
     """Filters of the oversampled limiter.
 
-    oversample : int R ≥ 1; the limiter runs at R·sample_rate
+    oversample : int R ≥ 2; the limiter runs at R·sample_rate
     up : np.ndarray, shape (Lu,), interpolating FIR at R·fs, DC gain R (Lu odd)
     down : np.ndarray, shape (Ld,), decimating FIR at R·fs, DC gain ≈ 1 (Ld even)
     linear : np.ndarray, shape (Lc,), the whole path at fs while the limiter is
@@ -96,18 +115,15 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     """The limiter's interpolator, decimator and their linear-region equivalent.
 
     sample_rate : Hz, the output rate fs
-    oversample : int R ≥ 1
+    oversample : int R ≥ 2 (ADAA's half-sample delay must land on the output grid)
     """
     R = int(oversample)
     fs = float(sample_rate)
-    if R < 1:
-        raise ValueError(f"oversample={oversample!r}: must be an integer ≥ 1")
+    if R < 2 or R != oversample:
+        raise ValueError(f"oversample={oversample!r}: must be an integer ≥ 2")
     fi = R * fs
     _, band = dz.band_edges(fs)
     stop = fs - band
-    if R == 1:
-        one = np.ones(1)
-        return Resampler(1, one, one, np.array([0.5, 0.5]), 0, 1.0, 3)
     lu, beta = ss.kaiserord(IMAGE_REJECTION_DB, (stop - band) / (fi / 2))
     lu |= 1
     up = ss.firwin(lu, fs / 2, window=("kaiser", beta), fs=fi) * R
@@ -116,7 +132,7 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
         ld += 2
     # decimator: zero-phase amplitude R/(A_up·cos(πf/fi)) in band (undoing the
     # interpolator's ripple and the two-tap mean's droop), 0 from fs − band up
-    f = np.concatenate([np.linspace(0.0, band, 500), np.linspace(stop, fi / 2, 3000)])
+    f = np.concatenate([np.linspace(0.0, band, 300), np.linspace(stop, fi / 2, 1200)])
     n_up = np.arange(lu) - (lu - 1) / 2
     a_up = np.cos(2 * np.pi * np.outer(f, n_up) / fi) @ up
     target = np.where(f <= band, R / (a_up * np.cos(np.pi * f / fi)), 0.0)
@@ -133,10 +149,10 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     return Resampler(R, up, down, linear, centre // R, gain_bound, span)
 
 
-def interpolate(x, up, oversample: int) -> np.ndarray:
+def interpolate(x, *, up, oversample: int) -> np.ndarray:
     """Zero-insert by R and filter with ``up`` (causal, rest before x[0]).
 
-    x : shape (n,) at fs; up : shape (L,) at R·fs
+    x : shape (n,) at fs; up : shape (L,), taps at R·fs; oversample : R
     returns : shape (R·n,), v[i] = Σ_l up[l]·u[i − l], u[R·k] = x[k], else 0
     """
     R = int(oversample)
@@ -148,10 +164,10 @@ def interpolate(x, up, oversample: int) -> np.ndarray:
     return v
 
 
-def decimate(w, down, oversample: int) -> np.ndarray:
+def decimate(w, *, down, oversample: int) -> np.ndarray:
     """Filter with ``down`` and keep every R-th sample (causal, rest before w[0]).
 
-    w : shape (R·n,) at R·fs; down : shape (L,)
+    w : shape (R·n,) at R·fs; down : shape (L,), taps at R·fs; oversample : R
     returns : shape (n,), y[k] = Σ_j down[j]·w[R·k − j]
     """
     R = int(oversample)
@@ -175,8 +191,8 @@ class Plan:
     sample_rate : Hz
     bias_v : V, the op-amp output's DC operating point
     window : the limiter's :class:`~render.chain.limit.Window`
-    sig_a, sig_b : V per m/s, signal EMF weights of coil_a and coil_b
-    path_a, path_b : coil EMF -> op-amp output, at sample_rate
+    path_mean : mean velocity (v_a + v_b)/2 -> op-amp output (V per m/s), at sample_rate
+    path_half_difference : (v_a − v_b)/2 -> op-amp output (V per m/s), at sample_rate
     path_hum : dB/dt -> op-amp output (V per T/s), or None when not built
     out_stage : op-amp output -> amp input
     resampler : the limiter's filters
@@ -190,26 +206,32 @@ class Plan:
     sample_rate: float
     bias_v: float
     window: Window
-    sig_a: float
-    sig_b: float
-    path_a: dz.Discrete
-    path_b: dz.Discrete
+    path_mean: dz.Discrete
+    path_half_difference: dz.Discrete
     path_hum: dz.Discrete | None
     out_stage: dz.Discrete
     resampler: Resampler
     hum_gains: np.ndarray
-    hum: object
+    hum: Hum
     hum_phases: np.ndarray
     latency: int
     warnings: tuple[str, ...]
 
 
 def default_oversample(sample_rate: float) -> int:
-    """R = ceil(192 kHz / fs), at least 1: 4 at 48 kHz, 5 at 44.1 kHz, 2 at 96 kHz."""
-    return max(1, math.ceil(INTERNAL_RATE_HZ / float(sample_rate) - 1e-9))
+    """R = ceil(192 kHz / fs), at least 2: 4 at 48 kHz, 5 at 44.1 kHz, 2 at 96 kHz."""
+    return max(2, math.ceil(INTERNAL_RATE_HZ / float(sample_rate) - 1e-9))
 
 
-def make_plan(design, *, sample_rate: float = 48000.0, oversample: int | None = None, hum_filter: bool = False, hum_phases=None) -> Plan:
+def make_plan(
+    design,
+    *,
+    sample_rate: float = 48000.0,
+    oversample: int | None = None,
+    hum_filter: bool = False,
+    hum_phases=None,
+    resampler: Resampler | None = None,
+) -> Plan:
     """Build the filters of one design.
 
     design : a validated :class:`render.design.Design` (its rig and hum applied)
@@ -217,14 +239,17 @@ def make_plan(design, *, sample_rate: float = 48000.0, oversample: int | None = 
     oversample : the limiter's R (default :func:`default_oversample`)
     hum_filter : also discretise the dB/dt path (needed for an explicit dB/dt signal)
     hum_phases : None (all 0) or one phase per field harmonic, radians
+    resampler : a :func:`design_resampler` result to reuse (it depends only on
+        the sample rate and R, so a batch of designs can share one)
     """
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
 
     fs = float(sample_rate)
     resp = responses(from_designs([design]))
-    path_a = dz.discretize_rational(resp.amp.from_a(), sample_rate=fs, what="coil_a path")
-    path_b = dz.discretize_rational(resp.amp.from_b(), sample_rate=fs, what="coil_b path")
+    sig_a, sig_b = resp.sig_a, resp.sig_b
+    path_m = dz.discretize_rational(resp.amp.mix(sig_a, sig_b), sample_rate=fs, what="velocity path")
+    path_n = dz.discretize_rational(resp.amp.mix(sig_a, -sig_b), sample_rate=fs, what="velocity difference path")
     out_stage = dz.discretize_rational(resp.out_stage, sample_rate=fs, what="output network")
     hum_mix = resp.amp.mix(resp.hum_a, resp.hum_b)
     path_hum = dz.discretize_rational(hum_mix, sample_rate=fs, what="hum path") if hum_filter else None
@@ -234,19 +259,20 @@ def make_plan(design, *, sample_rate: float = 48000.0, oversample: int | None = 
     gains = hum_mix(freqs)[0] if harmonics.size else np.zeros(0, complex)
     # harmonics at or above Nyquist cannot be represented: leave them out
     gains = np.where(freqs < fs / 2, gains, 0.0)
-    phases = hm._phases(harmonics.size, hum_phases)
-    res = design_resampler(sample_rate=fs, oversample=oversample or default_oversample(fs))
-    latency = path_a.delay + res.delay + out_stage.delay
-    assert path_b.delay == path_a.delay and (path_hum is None or path_hum.delay == path_a.delay)
-    warns = path_a.warnings + path_b.warnings + out_stage.warnings + (path_hum.warnings if path_hum else ())
+    phases = hm.check_phases(harmonics.size, hum_phases)
+    R = int(oversample or default_oversample(fs))
+    res = resampler if resampler is not None else design_resampler(sample_rate=fs, oversample=R)
+    if res.oversample != R:
+        raise ValueError(f"resampler built for oversample={res.oversample}, not {R}")
+    latency = path_m.delay + res.delay + out_stage.delay
+    assert path_n.delay == path_m.delay and (path_hum is None or path_hum.delay == path_m.delay)
+    warns = path_m.warnings + path_n.warnings + out_stage.warnings + (path_hum.warnings if path_hum else ())
     return Plan(
         sample_rate=fs,
         bias_v=float(design.bias_v),
         window=design_window(design),
-        sig_a=float(resp.sig_a[0]),
-        sig_b=float(resp.sig_b[0]),
-        path_a=path_a,
-        path_b=path_b,
+        path_mean=path_m,
+        path_half_difference=path_n,
         path_hum=path_hum,
         out_stage=out_stage,
         resampler=res,
@@ -285,10 +311,10 @@ def _oversampled(plan: Plan, seg: np.ndarray):
         shape (R·m,)) and y = decimated w − bias at fs, shape (m,)
     """
     res = plan.resampler
-    v = interpolate(seg, res.up, res.oversample)
+    v = interpolate(seg, up=res.up, oversample=res.oversample)
     v += plan.bias_v
     w, _ = soft_limit_adaa(v, window=plan.window, previous=None)
-    y = decimate(w - plan.bias_v, res.down, res.oversample)
+    y = decimate(w - plan.bias_v, down=res.down, oversample=res.oversample)
     return v, w, y
 
 
@@ -356,8 +382,8 @@ class Renderer:
         self.plan = plan
         self.explicit = bool(db_dt)  # blocks bring their own dB/dt (the design's hum is then not added)
         self.hum = bool(hum) and not self.explicit
-        self._sa = dz.initial_state(plan.path_a)
-        self._sb = dz.initial_state(plan.path_b)
+        self._sm = dz.initial_state(plan.path_mean)
+        self._sn = dz.initial_state(plan.path_half_difference)
         self._sh = dz.initial_state(plan.path_hum) if plan.path_hum is not None else None
         self._so = dz.initial_state(plan.out_stage)
         self._amp_delay = np.zeros(plan.out_stage.delay)
@@ -371,7 +397,7 @@ class Renderer:
         period = plan.sample_rate / plan.hum.mains
         if self.hum and abs(period - round(period)) < 1e-9 * period and round(period) <= 10**6:
             self._hum_period = self._hum_direct(0, int(round(period)))
-        self._lim_hist = self._hum_at(-plan.path_a.delay - self._history, self._history)
+        self._lim_hist = self._hum_at(-plan.path_mean.delay - self._history, self._history)
 
     def _hum_direct(self, start: int, n: int) -> np.ndarray:
         p, h = self.plan, self.plan.hum
@@ -392,19 +418,22 @@ class Renderer:
     def _step(self, velocity: np.ndarray, db_dt: np.ndarray | None) -> dict:
         p = self.plan
         n = velocity.shape[1]
-        la, self._sa = dz.apply(p.path_a, p.sig_a * velocity[0], self._sa)
-        lb, self._sb = dz.apply(p.path_b, p.sig_b * velocity[1], self._sb)
-        v_lin = la + lb
+        v_lin, self._sm = dz.apply(p.path_mean, 0.5 * (velocity[0] + velocity[1]), state=self._sm)
+        half_diff = 0.5 * (velocity[0] - velocity[1])
+        # the same velocity at both coils (a mono input) leaves the difference path at rest
+        if half_diff.any() or self._sn[0].any() or self._sn[1].any():
+            ln, self._sn = dz.apply(p.path_half_difference, half_diff, state=self._sn)
+            v_lin += ln
         if self.explicit:
-            lh, self._sh = dz.apply(p.path_hum, db_dt, self._sh)
+            lh, self._sh = dz.apply(p.path_hum, db_dt, state=self._sh)
             v_lin += lh
         elif self.hum:
-            v_lin += self._hum_at(self._n - p.path_a.delay, n)
+            v_lin += self._hum_at(self._n - p.path_mean.delay, n)
         ext = np.concatenate([self._lim_hist, v_lin])
         y, clipped = _limit_stage(p, ext, self._lim_hist.size)
         self._lim_hist = ext[ext.size - self._history :]
         self._clipped += clipped
-        out, self._so = dz.apply(p.out_stage, y, self._so)
+        out, self._so = dz.apply(p.out_stage, y, state=self._so)
         # the op-amp output skips the output network's bulk delay: hold it back by as much
         held = np.concatenate([self._amp_delay, y])
         amp = held[:n]
@@ -532,7 +561,9 @@ def render_signal(
     plan : a prebuilt :func:`make_plan` result
     returns : dict with
         ``out`` np.ndarray V shape (n,): the voltage at the amplifier input;
-        ``amp_out`` np.ndarray V shape (n,): the op-amp output, bias included;
+        ``amp_out`` np.ndarray V shape (n,): the op-amp output, bias included,
+        band-limited like ``out`` (hard clipping of high notes rings slightly
+        past the window at this rate; the limiter itself never leaves it);
         ``clipped_fraction`` float in [0, 1]: share of the oversampled limiter
         input outside the identity region;
         ``warnings`` tuple of str

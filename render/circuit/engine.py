@@ -85,18 +85,18 @@ class Responses:
         return self.amp.mix(self.hum_a, self.hum_b) * self.out_stage
 
     # --- passive reference ---------------------------------------------------
-    def _passive_mix(self, wa, wb) -> Rational:
+    def passive_mix(self, wa, wb) -> Rational:
         d_a_pb, d_b_pa, s_rig, a_tot, w = self.passive_mix_parts
         num = pmul(padd(pscale(d_a_pb, wa), pscale(d_b_pa, -np.asarray(wb, float))), s_rig)
         return Rational(num, a_tot, w)
 
     def passive_velocity(self) -> Rational:
         """String velocity -> amp input for the passive reference (V per m/s)."""
-        return self._passive_mix(self.sig_a, self.sig_b)
+        return self.passive_mix(self.sig_a, self.sig_b)
 
     def passive_hum(self) -> Rational:
         """dB/dt -> amp input for the passive reference (V per T/s)."""
-        return self._passive_mix(self.hum_a, self.hum_b)
+        return self.passive_mix(self.hum_a, self.hum_b)
 
 
 def responses(p: Params, w: float = W_NORM) -> Responses:

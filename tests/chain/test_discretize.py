@@ -65,14 +65,14 @@ def _chain_error(design, sample_rate):
     inner, band = band_edges(sample_rate)
     bands = (np.concatenate([np.geomspace(20, 200, 30), np.linspace(200, inner, 400)]), np.linspace(inner, band, 60))
     r, paths = _paths(design)
+    paths["velocity"] = r.amp.mix(r.sig_a, r.sig_b)  # what the renderer filters for one velocity at both coils
     d = {k: discretize_rational(v, sample_rate=sample_rate) for k, v in paths.items()}
     res = design_resampler(sample_rate=sample_rate, oversample=int(np.ceil(192000 / sample_rate)))
     errs = []
     for f in bands:
         w = 2 * np.pi * f / sample_rate
         lin = np.exp(-1j * np.outer(w, np.arange(res.linear.size))) @ res.linear * np.exp(1j * w * res.delay)
-        dig = (r.sig_a[0] * digital_response(d["coil_a"], f) + r.sig_b[0] * digital_response(d["coil_b"], f)) * lin
-        dig = dig * digital_response(d["out_stage"], f)
+        dig = digital_response(d["velocity"], f) * lin * digital_response(d["out_stage"], f)
         errs.append(np.max(np.abs(_db(dig / r.velocity()(f)[0]))))
     return errs, d
 
@@ -90,7 +90,7 @@ def test_shipped_designs_within_the_accuracy_budget(path):
 def test_random_designs_within_the_accuracy_budget():
     rng = np.random.default_rng(20240611)
     worst = [0.0, 0.0]
-    for i in range(16):
+    for i in range(32):
         design = parse_design(random_design_dict(rng, i), source=f"random-{i}")
         (e16, e20), _ = _chain_error(design, 48000)
         worst = [max(worst[0], e16), max(worst[1], e20)]
@@ -110,9 +110,23 @@ def test_block_by_block_filtering_equals_one_shot():
     _, paths = _paths(design)
     filt = discretize_rational(paths["coil_b"], sample_rate=48000)
     x = np.random.default_rng(3).standard_normal(10000)
-    whole, _ = apply(filt, x, initial_state(filt))
+    whole, _ = apply(filt, x, state=initial_state(filt))
     state, parts = initial_state(filt), []
     for i in range(0, x.size, 333):
-        y, state = apply(filt, x[i : i + 333], state)
+        y, state = apply(filt, x[i : i + 333], state=state)
         parts.append(y)
     assert np.allclose(np.concatenate(parts), whole, rtol=0, atol=1e-12 * np.max(np.abs(whole)))
+
+
+def test_plain_bilinear_at_four_times_oversampling_would_miss_the_budget():
+    # why the renderer fits its own filters: the bilinear transform's frequency warping
+    # f_d = (fs/π)·atan(π·f_a/fs) (Oppenheim & Schafer, from memory) on the reference design's
+    # steep treble roll-off costs about 0.47 dB at 16 kHz even at 192 kHz
+    design = load_design(ROOT / "models" / "studio-reference.toml")
+    vel = design_responses([design]).velocity()
+    z, p, k = vel.zpk(0)
+    f = np.linspace(1000, 16000, 200)
+    for rate, expect in ((192000, 0.47), (384000, 0.12)):
+        sos, _ = bilinear_sections(z, p, k, sample_rate=rate)
+        _, h = ss.sosfreqz(sos, worN=f, fs=rate)
+        assert np.max(np.abs(_db(h / vel(f)[0]))) == pytest.approx(expect, abs=0.01)

