@@ -70,31 +70,62 @@ def dry_for(design, dry_path, settings: Settings):
     )
 
 
+class PassiveStream:
+    """The passive reference playing the same string, block by block (linear, V at the amp input).
+
+    The common and half-difference velocities (v_a = m + h, v_b = m − h) go
+    through the combined paths, so nothing is lost subtracting two filtered
+    signals when the coils cancel; the hum is the exact steady state.
+    """
+
+    def __init__(self, design, *, sample_rate: float, hum: bool):
+        from .chain import discretize as dz
+        from .chain import hum as hm
+        from .circuit.engine import responses
+        from .circuit.params import from_designs
+
+        resp = responses(from_designs([design]))
+        self.dz, self.fs, self.h = dz, float(sample_rate), design.hum
+        self.common = dz.discretize_rational(resp.passive_velocity(), sample_rate=sample_rate, what="passive path")
+        self.differ = dz.discretize_rational(resp.passive_mix(resp.sig_a, -resp.sig_b), sample_rate=sample_rate, what="passive difference path")
+        self._sc, self._sd = dz.initial_state(self.common), dz.initial_state(self.differ)
+        self.delay = self.common.delay
+        freqs = hm.harmonic_frequencies(mains_hz=self.h.mains, harmonics=self.h.harmonics)
+        self.gains = np.where(freqs < sample_rate / 2, resp.passive_hum()(freqs)[0], 0.0) if hum else None
+        self._n_out = 0
+        self._to_drop = self.delay
+
+    def _hum(self, n):
+        from .chain import hum as hm
+
+        if self.gains is None or n == 0:
+            return np.zeros(n)
+        h = self.h
+        return hm.steady_response(self.gains, n, sample_rate=self.fs, mains_hz=h.mains, field_t=h.field, harmonics=h.harmonics, start=self._n_out)
+
+    def process(self, velocity: np.ndarray) -> np.ndarray:
+        """Filter one block of velocity (m/s, shape (2, n)); returns what is ready (the first blocks are shorter by the delay)."""
+        m = 0.5 * (velocity[0] + velocity[1])
+        h = 0.5 * (velocity[0] - velocity[1])
+        ym, self._sc = self.dz.apply(self.common, m, self._sc)
+        yd, self._sd = self.dz.apply(self.differ, h, self._sd)
+        y = ym + yd
+        drop = min(self._to_drop, y.size)
+        self._to_drop -= drop
+        y = y[drop:]
+        y = y + self._hum(y.size)
+        self._n_out += y.size
+        return y
+
+    def finish(self) -> np.ndarray:
+        """The samples still held by the filters' delay."""
+        return self.process(np.zeros((2, self.delay)))
+
+
 def render_passive(design, velocity: np.ndarray, *, sample_rate: float, hum: bool) -> np.ndarray:
     """The passive reference's voltage at the amp input for the same string (linear, V)."""
-    from .chain import discretize as dz
-    from .chain import hum as hm
-    from .circuit.engine import responses
-    from .circuit.params import from_designs
-
-    resp = responses(from_designs([design]))
-    # the common and half-difference velocities (v_a = m + h, v_b = m − h) through the
-    # combined paths: no error from subtracting two filtered signals when the coils cancel
-    common = dz.discretize_rational(resp.passive_velocity(), sample_rate=sample_rate, what="passive path")
-    differ = dz.discretize_rational(resp.passive_mix(resp.sig_a, -resp.sig_b), sample_rate=sample_rate, what="passive difference path")
-    n = velocity.shape[1]
-    pad = np.zeros(common.delay)
-    m = 0.5 * (velocity[0] + velocity[1])
-    h = 0.5 * (velocity[0] - velocity[1])
-    ym, _ = dz.apply(common, np.concatenate([m, pad]), dz.initial_state(common))
-    yh, _ = dz.apply(differ, np.concatenate([h, pad]), dz.initial_state(differ)) if np.any(h) else (np.zeros(n + common.delay), None)
-    out = (ym + yh)[common.delay : common.delay + n]
-    if hum:
-        h = design.hum
-        freqs = hm.harmonic_frequencies(mains_hz=h.mains, harmonics=h.harmonics)
-        gains = np.where(freqs < sample_rate / 2, resp.passive_hum()(freqs)[0], 0.0)
-        out = out + hm.steady_response(gains, n, sample_rate=sample_rate, mains_hz=h.mains, field_t=h.field, harmonics=h.harmonics)
-    return out
+    ps = PassiveStream(design, sample_rate=sample_rate, hum=hum)
+    return np.concatenate([ps.process(velocity), ps.finish()])
 
 
 def render_design(design, dry_path, settings: Settings) -> Clip:
@@ -138,13 +169,24 @@ def choose_full_scale(peaks, *, floor: float = 0.1) -> float:
     return float(10 * decade)
 
 
-def measurements(clip: Clip, *, volts_full_scale: float, sample_rate: int) -> dict:
-    """The measurements recorded in a clip's JSON."""
+def signal_stats(volts: np.ndarray, amp_out: np.ndarray, *, clipped_fraction: float, sample_rate: int, bias_v: float) -> dict:
+    """Peak, rms, op-amp output range, limiting and loudness (re 1 V full scale) of a render."""
     from .analysis.audio import integrated_loudness
 
-    f = clip.figures
-    d = clip.design
-    lufs_1v = integrated_loudness(clip.volts, sample_rate=sample_rate)
+    return {
+        "peak_v": float(np.max(np.abs(volts))) if volts.size else 0.0,
+        "rms_v": float(np.sqrt(np.mean(volts**2))) if volts.size else 0.0,
+        "amp_out_min_v": float(np.min(amp_out)) if amp_out.size else bias_v,
+        "amp_out_max_v": float(np.max(amp_out)) if amp_out.size else bias_v,
+        "clipped_fraction": float(clipped_fraction),
+        "loudness_lufs_1v_full_scale": integrated_loudness(volts, sample_rate=sample_rate),
+    }
+
+
+def measurements(design, figures: dict, stats: dict, *, volts_full_scale: float) -> dict:
+    """The measurements recorded in a clip's JSON: the design's figures and the render's."""
+    f, d = figures, design
+    lufs_1v = stats["loudness_lufs_1v_full_scale"]
     return {
         "resonance_hz": f["resonance_hz"],
         "resonance_db": f["resonance_db"],
@@ -155,11 +197,7 @@ def measurements(clip: Clip, *, volts_full_scale: float, sample_rate: int) -> di
         "bias_v": d.bias_v,
         "headroom_up_v": d.headroom_up_v,
         "headroom_down_v": d.headroom_down_v,
-        "peak_v": float(np.max(np.abs(clip.volts))) if clip.volts.size else 0.0,
-        "rms_v": float(np.sqrt(np.mean(clip.volts**2))) if clip.volts.size else 0.0,
-        "amp_out_min_v": float(np.min(clip.amp_out)) if clip.amp_out.size else d.bias_v,
-        "amp_out_max_v": float(np.max(clip.amp_out)) if clip.amp_out.size else d.bias_v,
-        "clipped_fraction": clip.clipped_fraction,
+        **{k: v for k, v in stats.items() if k != "loudness_lufs_1v_full_scale"},
         # ITU-R BS.1770-4 integrated loudness of the WAV as written, and re a 1 V full scale
         "loudness_lufs": None if lufs_1v is None else lufs_1v - 20 * np.log10(volts_full_scale),
         "loudness_lufs_1v_full_scale": lufs_1v,
@@ -168,9 +206,14 @@ def measurements(clip: Clip, *, volts_full_scale: float, sample_rate: int) -> di
 
 def record(clip: Clip, *, settings: Settings, volts_full_scale: float, rig_record: dict, dry_path) -> dict:
     """Everything a render used and measured, JSON-ready (no times, no absolute paths)."""
+    stats = signal_stats(clip.volts, clip.amp_out, clipped_fraction=clip.clipped_fraction, sample_rate=settings.sample_rate, bias_v=clip.design.bias_v)
+    return make_record(clip.design, clip.figures, stats, dry=clip.dry, samples=clip.volts.size, warnings=clip.warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
+
+
+def make_record(d, figures, stats, *, dry, samples, warnings, settings, volts_full_scale, rig_record, dry_path) -> dict:
+    """The JSON record of one render from its parts."""
     from .design import design_to_dict
 
-    d = clip.design
     design_info = design_to_dict(d)
     return {
         "design": d.name,
@@ -179,15 +222,15 @@ def record(clip: Clip, *, settings: Settings, volts_full_scale: float, rig_recor
         "design_values": design_info,
         "sample_rate": settings.sample_rate,
         "volts_full_scale": volts_full_scale,
-        "seconds": clip.volts.size / settings.sample_rate,
-        "dry": {"file": str(dry_path), **clip.dry},
+        "seconds": samples / settings.sample_rate,
+        "dry": {"file": str(dry_path), **dry},
         "rig": rig_record,
         "hum": design_info["hum"] if settings.hum else None,
         "seed": settings.seed,
         "settings": settings.record(),
         "software_version": __version__,
-        "measurements": measurements(clip, volts_full_scale=volts_full_scale, sample_rate=settings.sample_rate),
-        "figures": {k: v for k, v in clip.figures.items() if k != "passive"},
-        "passive_figures": clip.figures.get("passive"),
-        "warnings": list(clip.warnings),
+        "measurements": measurements(d, figures, stats, volts_full_scale=volts_full_scale),
+        "figures": {k: v for k, v in figures.items() if k != "passive"},
+        "passive_figures": figures.get("passive"),
+        "warnings": list(warnings),
     }
