@@ -234,3 +234,108 @@ def make_record(d, figures, stats, *, dry, samples, warnings, settings, volts_fu
         "passive_figures": figures.get("passive"),
         "warnings": list(warnings),
     }
+
+
+# ----------------------------------------------------------------------------
+# Long recordings: everything block by block
+
+LONG_SECONDS = 120.0  # a recorded dry file longer than this is rendered in bounded memory
+NOISE_PERIOD = 2**20  # samples: the noise floor loops with this period on long renders (21.8 s at 48 kHz)
+SPECTROGRAM_SECONDS = 60.0  # the spectrogram of a long render shows its first minute
+
+
+def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, volts_full_scale: float, rig_record: dict, plots: bool = True, block: int = 65536) -> dict:
+    """Render a long recorded dry file for ``design`` straight to ``out``/``stem``.wav and .json.
+
+    Memory stays bounded: the velocity is read, resampled, rendered, measured
+    and written one block at a time. Returns the JSON record (also written).
+    """
+    import json
+
+    from .analysis.figures import figures
+    from .chain.stream import Renderer, make_plan
+    from .longform import LoudnessStream, SpectrumStream, WavStream, iter_recorded
+    from .report.atomic import write_text
+
+    from pathlib import Path
+
+    out = Path(out)
+    fs = settings.sample_rate
+    plan = make_plan(design, sample_rate=fs)
+    renderer = Renderer(plan, hum=settings.hum)
+    passive = PassiveStream(design, sample_rate=fs, hum=settings.hum) if settings.passive else None
+    noise = pnoise = None
+    if settings.noise:
+        from .analysis.noise import noise_waveform
+
+        noise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed)
+        pnoise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed, passive=True) if passive else None
+    wav = WavStream(out / f"{stem}.wav", sample_rate=fs, overwrite=True)
+    pwav = WavStream(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
+    loud, spec = LoudnessStream(sample_rate=fs), SpectrumStream(sample_rate=fs)
+    head = []  # the first minute, for the spectrogram
+    stats = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf}
+    written = [0, 0]
+
+    def emit(y, amp, py):
+        if noise is not None and y.size:
+            idx = np.arange(written[0], written[0] + y.size) % NOISE_PERIOD
+            y = y + noise[idx]
+        written[0] += y.size
+        if y.size:
+            stats["peak"] = max(stats["peak"], float(np.abs(y).max()))
+            stats["sq"] += float(np.sum(y * y))
+            stats["n"] += y.size
+            stats["amp_min"] = min(stats["amp_min"], float(amp.min()))
+            stats["amp_max"] = max(stats["amp_max"], float(amp.max()))
+            have = sum(h.size for h in head)
+            if have < SPECTROGRAM_SECONDS * fs:
+                head.append(y[: int(SPECTROGRAM_SECONDS * fs) - have])
+        wav.write(y / volts_full_scale)
+        loud.write(y)
+        spec.write(y)
+        if pwav is not None and py is not None:
+            if pnoise is not None and py.size:
+                idx = np.arange(written[1], written[1] + py.size) % NOISE_PERIOD
+                py = py + pnoise[idx]
+            written[1] += py.size
+            pwav.write(py / volts_full_scale)
+
+    try:
+        for v in iter_recorded(dry_path, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block):
+            r = renderer.process(v)
+            emit(r["out"], r["amp_out"], passive.process(v) if passive else None)
+        last = renderer.finish()
+        emit(last["out"], last["amp_out"], passive.finish() if passive else None)
+        wav.close()
+        if pwav is not None:
+            pwav.close()
+    except BaseException:
+        wav.abort()
+        if pwav is not None:
+            pwav.abort()
+        raise
+    fig = figures([design])[0]
+    n = stats["n"]
+    s = {
+        "peak_v": stats["peak"],
+        "rms_v": float(np.sqrt(stats["sq"] / max(n, 1))),
+        "amp_out_min_v": stats["amp_min"] if n else design.bias_v,
+        "amp_out_max_v": stats["amp_max"] if n else design.bias_v,
+        "clipped_fraction": renderer.clipped_fraction,
+        "loudness_lufs_1v_full_scale": loud.value(),
+    }
+    dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}
+    rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
+    write_text(out / f"{stem}.json", json.dumps(rec, indent=2, allow_nan=False) + "\n", overwrite=True)
+    if plots:
+        from .circuit.engine import responses
+        from .circuit.params import from_designs
+        from .report.plots import response_plot, spectrogram_plot, spectrum_plot
+
+        f = np.geomspace(20, 20000, 600)
+        resp = responses(from_designs([design]))
+        response_plot(out / f"{stem}-response.png", f, [(design.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{design.name}: string velocity to amp input", overwrite=True)
+        spectrum_plot(out / f"{stem}-spectrum.png", [(design.name, *spec.value(), False)], title=f"{design.name}: long-term average spectrum at the amp input", overwrite=True)
+        spectrogram_plot(out / f"{stem}-spectrogram.png", np.concatenate(head) if head else np.zeros(1), sample_rate=fs, title=f"{design.name}: amp input, first {SPECTROGRAM_SECONDS:g} s", overwrite=True)
+    return rec

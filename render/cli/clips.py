@@ -20,6 +20,13 @@ def _render_one(args):
     return render_design(design, dry, settings)
 
 
+def _render_long_one(args):
+    from ..clips import render_design_long
+
+    design, dry, settings, kw = args
+    return render_design_long(design, dry, settings, **kw)
+
+
 def new_run_folder(root: Path, prefix: str = "clips") -> Path:
     stamp = time.strftime("%Y%m%d-%H%M%S")
     out = root / f"{prefix}-{stamp}"
@@ -44,9 +51,10 @@ def prepare_out(out_dir, overwrite, prefix="clips") -> Path:
     return out
 
 
-def render_all(designs, dry, settings, jobs, *, label="rendering"):
+def render_all(designs, dry, settings, jobs, *, label="rendering", work=None, extra=None):
     """Render every design (in ``jobs`` processes); results in the designs' order."""
-    tasks = [(d, dry, settings) for d in designs]
+    work = work or _render_one
+    tasks = [(d, dry, settings) + ((extra[i],) if extra else ()) for i, d in enumerate(designs)]
     show = len(tasks) > 1
     results = [None] * len(tasks)
     with click.progressbar(length=len(tasks), label=label, file=sys.stderr, show_pos=True) if show else _Null() as bar:
@@ -54,13 +62,13 @@ def render_all(designs, dry, settings, jobs, *, label="rendering"):
             from concurrent.futures import ProcessPoolExecutor, as_completed
 
             with ProcessPoolExecutor(max_workers=jobs) as pool:
-                futs = {pool.submit(_render_one, t): i for i, t in enumerate(tasks)}
+                futs = {pool.submit(work, t): i for i, t in enumerate(tasks)}
                 for fut in as_completed(futs):
                     results[futs[fut]] = fut.result()
                     bar.update(1)
         else:
             for i, t in enumerate(tasks):
-                results[i] = _render_one(t)
+                results[i] = work(t)
                 bar.update(1)
     return results
 
@@ -115,10 +123,29 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
     out = prepare_out(out_dir, overwrite)
     settings = Settings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise)
+    rig_record = {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
+    if dry.suffix.lower() != ".toml":
+        from ..clips import LONG_SECONDS
+        from ..longform import clip_seconds, window_full_scale
+
+        length = seconds if seconds is not None else clip_seconds(dry, sample_rate=sample_rate)
+        if length > LONG_SECONDS:
+            # a long recording: rendered, measured and written block by block in bounded memory,
+            # at a full scale fixed in advance from the designs' output windows
+            vfs = volts_full_scale or window_full_scale(designs)
+            out.mkdir(parents=True, exist_ok=True)
+            kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": _rig_values(d)}, plots=plots) for stem, d in zip(stems, designs)]
+            records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws)
+            from ..report.atomic import write_text
+            from ..report.clips import summary_markdown
+
+            write_text(out / "summary.md", summary_markdown(records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs), overwrite=True)
+            click.echo(f"{len(records)} clip{'s' if len(records) != 1 else ''} of {length:.0f} s rendered block by block to {out}/ (full scale {vfs:g} V, fixed from the output windows; summary in {out / 'summary.md'})")
+            click.echo(CAUTION)
+            return
     clips = render_all(designs, dry, settings, jobs)
     peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
     vfs = volts_full_scale or choose_full_scale(peaks)
-    rig_record = {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
     out.mkdir(parents=True, exist_ok=True)
     records = []
     for stem, clip in zip(stems, clips):
@@ -127,8 +154,6 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         write_design_files(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=sample_rate, plots=plots)
         for w in clip.warnings:
             click.echo(f"warning: {clip.design.name}: {w}", err=True)
-        if max(peaks) > vfs:
-            pass
     write_run_files(out, clips, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs, plots=plots)
     over = [c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs]
     if over:
