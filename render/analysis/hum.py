@@ -225,13 +225,20 @@ class MonteCarlo:
         ]
 
 
-def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500) -> MonteCarlo:
+def _mc_chunk(args):
+    design, factors, f = args
+    n = len(next(iter(factors.values())))
+    return _rejection(perturbed(design, factors, n), f)
+
+
+def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs=1) -> MonteCarlo:
     """Hum rejection over ``trials`` random draws of the part tolerances.
 
     ``tolerances`` maps part class ("resistor", "capacitor", "turns") to a
     relative half-width (0.01 = ±1 %). Draws come from
-    ``numpy.random.default_rng(seed)`` in a fixed part order, so results
-    are identical for a seed whatever ``chunk`` is.
+    ``numpy.random.default_rng(seed)`` in a fixed part order, all made before
+    any is evaluated, so results are identical for a seed whatever ``chunk``
+    or ``jobs`` (worker processes) is.
     """
     tol = {**DEFAULT_TOLERANCES, **(tolerances or {})}
     labels = part_labels(design)
@@ -239,10 +246,16 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500) -> M
     draws = {label: 1.0 + tol[cls] * rng.uniform(-1.0, 1.0, trials) for label, cls in labels}
     h = np.arange(1, len(design.hum.harmonics) + 1)
     f = h * design.hum.mains
-    out = np.empty((trials, len(f)))
-    for s in range(0, trials, chunk):
-        e = min(trials, s + chunk)
-        out[s:e] = _rejection(perturbed(design, {k: v[s:e] for k, v in draws.items()}, e - s), f)
+    spans = [(s, min(trials, s + chunk)) for s in range(0, trials, chunk)]
+    tasks = [(design, {k: v[s:e] for k, v in draws.items()}, f) for s, e in spans]
+    if jobs > 1 and len(tasks) > 1:
+        from concurrent.futures import ProcessPoolExecutor
+
+        with ProcessPoolExecutor(max_workers=jobs) as pool:
+            parts = list(pool.map(_mc_chunk, tasks))
+    else:
+        parts = [_mc_chunk(t) for t in tasks]
+    out = np.concatenate(parts, axis=0)
     return MonteCarlo(f, out, tol, trials, seed, sensitivities(design, f[:1]))
 
 

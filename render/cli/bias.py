@@ -39,6 +39,35 @@ def _phrase_at_strength(dry_path, design, settings, strength):
     return string_velocity(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds)
 
 
+def _measure(args):
+    from ..analysis.bias import onset, sine_distortion
+
+    s, ref_v = args
+    d = s.design
+    return {"setting": s.label, "ratio": s.ratio, "bias_top_ohm": s.top, "bias_bottom_ohm": s.bottom, "battery_v": s.battery,
+            "bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v,
+            "onset": onset(d), "sine": sine_distortion(d, velocity_peak=ref_v)}
+
+
+def _clip(args):
+    from ..chain.stream import render_signal
+    from ..clips import dry_for
+
+    design, dry, st, strength_m = args
+    vel = _phrase_at_strength(dry, design, st, strength_m) if strength_m is not None else dry_for(design, dry, st).velocity
+    return render_signal(design, vel, sample_rate=st.sample_rate, hum=True)["out"]
+
+
+def _parallel(fn, tasks, jobs):
+    """fn over tasks, in ``jobs`` processes when more than one; results in order."""
+    if jobs > 1 and len(tasks) > 1:
+        from concurrent.futures import ProcessPoolExecutor
+
+        with ProcessPoolExecutor(max_workers=jobs) as pool:
+            return list(pool.map(fn, tasks))
+    return [fn(t) for t in tasks]
+
+
 @click.command("bias")
 @click.argument("model", type=click.Path(dir_okay=False))
 @rig_option
@@ -55,10 +84,11 @@ def _phrase_at_strength(dry_path, design, settings, strength):
 @click.option("--target-lufs", type=click.FloatRange(min=-70, max=0), default=-23.0, show_default=True, help="Loudness of the matched copies (EBU R 128: -23 LUFS).")
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Folder for clips and plots (default: a new outputs/bias-<time> folder).")
 @click.option("--no-clips", is_flag=True, help="Measure only; write no audio.")
+@click.option("--jobs", type=click.IntRange(min=1, max=64), default=1, show_default=True, help="Settings in this many processes (results identical to one).")
 @json_option()
 @overwrite_option
 @friendly
-def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, dry_path, strength, sine_velocity, seconds, seed, target_lufs, out_dir, no_clips, json_path, overwrite):
+def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, dry_path, strength, sine_velocity, seconds, seed, target_lufs, out_dir, no_clips, jobs, json_path, overwrite):
     """Clipping of MODEL as its bias divider is unbalanced (and its battery runs down).
 
     For each setting: the bias voltage, the headroom up and down, the string
@@ -69,9 +99,8 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     import numpy as np
 
     from ..analysis.audio import integrated_loudness
-    from ..analysis.bias import onset, sine_distortion, sweep
+    from ..analysis.bias import onset, sweep
     from ..chain.limit import design_window, soft_limit
-    from ..chain.stream import render_signal
     from ..clips import DEFAULT_DRY, Settings, choose_full_scale
     from ..errors import InputError
     from ..units import LENGTH
@@ -112,13 +141,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
     if ref_v > REALISTIC_VELOCITY:
         click.echo(f"warning: a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway", err=True)
-    rows = []
-    for s in settings_list:
-        d = s.design
-        on = onset(d)
-        dist = sine_distortion(d, velocity_peak=ref_v)
-        rows.append({"setting": s.label, "ratio": s.ratio, "bias_top_ohm": s.top, "bias_bottom_ohm": s.bottom, "battery_v": s.battery,
-                     "bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v, "onset": on, "sine": dist})
+    rows = _parallel(_measure, [(s, ref_v) for s in settings_list], jobs)
     click.echo(f"{design.name}  ({design.source}); divider {'parallel resistance kept' if keep_load else 'total resistance kept'}; test sine 1 kHz, {ref_v:.3g} m/s peak")
     click.echo(f"  {'setting':22s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s}")
     for r in rows:
@@ -136,17 +159,9 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
         if not dry.exists():
             raise InputError(f"--dry={dry}: no such file")
         st = Settings(seconds=seconds, seed=seed, hum=True)
-        renders = []
-        for s in settings_list:
-            if strength_m is not None:
-                if dry.suffix.lower() != ".toml":
-                    raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
-                vel = _phrase_at_strength(dry, s.design, st, strength_m)
-            else:
-                from ..clips import dry_for
-
-                vel = dry_for(s.design, dry, st).velocity
-            renders.append(render_signal(s.design, vel, sample_rate=st.sample_rate, hum=True)["out"])
+        if strength_m is not None and dry.suffix.lower() != ".toml":
+            raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
+        renders = _parallel(_clip, [(s.design, dry, st, strength_m) for s in settings_list], jobs)
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
         from ..report.wav import write_float_wav
 

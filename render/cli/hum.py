@@ -79,13 +79,14 @@ def print_table(d, t):
 @click.option("--tolerance-turns", default=None, help="Coil turns tolerance (default 2%; L ∝ N², R, sensitivity and turns_area ∝ N).")
 @click.option("--trials", type=click.IntRange(min=10, max=1_000_000), default=2000, show_default=True, help="Monte Carlo trials.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the Monte Carlo draws.")
+@click.option("--jobs", type=click.IntRange(min=1, max=64), default=1, show_default=True, help="Monte Carlo in this many processes (results identical to one).")
 @json_option("Write per-harmonic figures (and the Monte Carlo) as JSON to FILE ('-' for standard output).")
 @click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Plot rejection against frequency, mains harmonics marked (all MODELS overlaid).")
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder.")
 @click.option("--histogram", "hist_path", type=click.Path(dir_okay=False), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
 @overwrite_option
 @friendly
-def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, json_path, png_path, out_dir, hist_path, overwrite):
+def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, jobs, json_path, png_path, out_dir, hist_path, overwrite):
     """Hum cancellation of each MODEL with its own coils, per mains harmonic.
 
     The rejection at a frequency is 20·log10(max(|V_A|,|V_B|)/|V_A+V_B|), V_A
@@ -126,7 +127,7 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
         if out is not None:
             rec["measured"] = write_hum_audio(out, d, t)
         if tol:
-            mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed)
+            mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
             rec["monte_carlo"] = {
                 "trials": trials,
                 "seed": seed,

@@ -148,3 +148,14 @@ def test_bias_cli_refusals(tmp_path, args, fragment):
 def test_far_drive_is_a_warning_not_a_refusal(tmp_path):
     res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.5", "--no-clips", "--sine-velocity", "60"])
     assert res.exit_code == 0 and "far beyond realistic playing" in res.output
+
+
+def test_bias_jobs_equal_serial(tmp_path):
+    args = ["bias", str(REF), "--ratios", "0.4,0.6", "--seconds", "1"]
+    a = CliRunner().invoke(main, args + ["--out", str(tmp_path / "a"), "--json", str(tmp_path / "a.json")])
+    b = CliRunner().invoke(main, args + ["--out", str(tmp_path / "b"), "--json", str(tmp_path / "b.json"), "--jobs", "2"])
+    assert a.exit_code == 0 and b.exit_code == 0, a.output + b.output
+    assert (tmp_path / "a.json").read_text().replace(str(tmp_path / "a"), "") == (tmp_path / "b.json").read_text().replace(str(tmp_path / "b"), "")
+    for p in (tmp_path / "a").iterdir():
+        if p.suffix == ".wav":
+            assert p.read_bytes() == (tmp_path / "b" / p.name).read_bytes()

@@ -125,3 +125,10 @@ def test_hum_cli_writes_hum_only_wavs(tmp_path):
     assert rms["hum-coil_a"] > 10 * rms["hum"] and rms["hum-coil_b"] > 10 * rms["hum"]
     data = json.loads((tmp_path / "h.json").read_text())
     assert abs(data["measured"]["harmonics"][0]["rejection_db"] - data["harmonics"][0]["rejection_db"]) < 0.5
+
+
+def test_monte_carlo_in_processes_equals_serial():
+    d = load_design(ROOT / "models" / "odd-pair.toml")
+    a = monte_carlo(d, trials=400, seed=3, chunk=100)
+    b = monte_carlo(d, trials=400, seed=3, chunk=100, jobs=2)
+    np.testing.assert_array_equal(a.rejection_db, b.rejection_db)
