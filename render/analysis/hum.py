@@ -248,14 +248,9 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     f = h * design.hum.mains
     spans = [(s, min(trials, s + chunk)) for s in range(0, trials, chunk)]
     tasks = [(design, {k: v[s:e] for k, v in draws.items()}, f) for s, e in spans]
-    if jobs > 1 and len(tasks) > 1:
-        from concurrent.futures import ProcessPoolExecutor
+    from ..parallel import pmap
 
-        with ProcessPoolExecutor(max_workers=jobs) as pool:
-            parts = list(pool.map(_mc_chunk, tasks))
-    else:
-        parts = [_mc_chunk(t) for t in tasks]
-    out = np.concatenate(parts, axis=0)
+    out = np.concatenate(pmap(_mc_chunk, tasks, jobs), axis=0)
     return MonteCarlo(f, out, tol, trials, seed, sensitivities(design, f[:1]))
 
 

@@ -58,16 +58,6 @@ def _clip(args):
     return render_signal(design, vel, sample_rate=st.sample_rate, hum=True)["out"]
 
 
-def _parallel(fn, tasks, jobs):
-    """fn over tasks, in ``jobs`` processes when more than one; results in order."""
-    if jobs > 1 and len(tasks) > 1:
-        from concurrent.futures import ProcessPoolExecutor
-
-        with ProcessPoolExecutor(max_workers=jobs) as pool:
-            return list(pool.map(fn, tasks))
-    return [fn(t) for t in tasks]
-
-
 @click.command("bias")
 @click.argument("model", type=click.Path(dir_okay=False))
 @rig_option
@@ -100,6 +90,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
 
     from ..analysis.audio import integrated_loudness
     from ..analysis.bias import onset, sweep
+    from ..parallel import pmap
     from ..chain.limit import design_window, soft_limit
     from ..clips import DEFAULT_DRY, Settings, choose_full_scale
     from ..errors import InputError
@@ -141,7 +132,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
     if ref_v > REALISTIC_VELOCITY:
         click.echo(f"warning: a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway", err=True)
-    rows = _parallel(_measure, [(s, ref_v) for s in settings_list], jobs)
+    rows = pmap(_measure, [(s, ref_v) for s in settings_list], jobs)
     click.echo(f"{design.name}  ({design.source}); divider {'parallel resistance kept' if keep_load else 'total resistance kept'}; test sine 1 kHz, {ref_v:.3g} m/s peak")
     click.echo(f"  {'setting':22s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s}")
     for r in rows:
@@ -161,7 +152,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
         st = Settings(seconds=seconds, seed=seed, hum=True)
         if strength_m is not None and dry.suffix.lower() != ".toml":
             raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
-        renders = _parallel(_clip, [(s.design, dry, st, strength_m) for s in settings_list], jobs)
+        renders = pmap(_clip, [(s.design, dry, st, strength_m) for s in settings_list], jobs)
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
         from ..report.wav import write_float_wav
 
