@@ -329,13 +329,7 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
     rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
     write_text(out / f"{stem}.json", json.dumps(rec, indent=2, allow_nan=False) + "\n", overwrite=True)
     if plots:
-        from .circuit.engine import responses
-        from .circuit.params import from_designs
-        from .report.plots import response_plot, spectrogram_plot, spectrum_plot
+        from .report.clips import write_design_plots
 
-        f = np.geomspace(20, 20000, 600)
-        resp = responses(from_designs([design]))
-        response_plot(out / f"{stem}-response.png", f, [(design.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{design.name}: string velocity to amp input", overwrite=True)
-        spectrum_plot(out / f"{stem}-spectrum.png", [(design.name, *spec.value(), False)], title=f"{design.name}: long-term average spectrum at the amp input", overwrite=True)
-        spectrogram_plot(out / f"{stem}-spectrogram.png", np.concatenate(head) if head else np.zeros(1), sample_rate=fs, title=f"{design.name}: amp input, first {SPECTROGRAM_SECONDS:g} s", overwrite=True)
+        write_design_plots(out, stem, design, spectra=[(design.name, *spec.value(), False)], spectrogram=np.concatenate(head) if head else np.zeros(1), sample_rate=fs, spectrogram_title=f"{design.name}: amp input, first {SPECTROGRAM_SECONDS:g} s")
     return rec

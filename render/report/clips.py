@@ -11,32 +11,39 @@ from .atomic import write_text
 from .wav import write_float_wav
 
 
-def write_design_files(out: Path, stem: str, clip, rec: dict, *, volts_full_scale: float, sample_rate: int, plots: bool = True) -> list[Path]:
-    """S.wav, S.json (and S-passive.wav), S-response.png, S-spectrum.png, S-spectrogram.png."""
-    from ..analysis.audio import long_term_spectrum
-    from ..circuit.engine import responses
-    from ..circuit.params import from_designs
-
-    written = []
-    written.append(write_float_wav(out / f"{stem}.wav", clip.volts / volts_full_scale, sample_rate, overwrite=True))
+def write_design_audio(out: Path, stem: str, clip, rec: dict, *, volts_full_scale: float, sample_rate: int) -> list[Path]:
+    """S.wav (and S-passive.wav) at the run's full scale, and S.json."""
+    written = [write_float_wav(out / f"{stem}.wav", clip.volts / volts_full_scale, sample_rate, overwrite=True)]
     if clip.passive_volts is not None:
         written.append(write_float_wav(out / f"{stem}-passive.wav", clip.passive_volts / volts_full_scale, sample_rate, overwrite=True))
     written.append(write_text(out / f"{stem}.json", json.dumps(rec, indent=2, allow_nan=False) + "\n", overwrite=True))
-    if plots:
-        from .plots import response_plot, spectrogram_plot, spectrum_plot
-
-        d = clip.design
-        f = np.geomspace(20, 20000, 600)
-        resp = responses(from_designs([d]))
-        written.append(
-            response_plot(out / f"{stem}-response.png", f, [(d.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{d.name}: string velocity to amp input", overwrite=True)
-        )
-        curves = [(d.name, *long_term_spectrum(clip.volts, sample_rate=sample_rate), False)]
-        if clip.passive_volts is not None:
-            curves.append(("passive reference", *long_term_spectrum(clip.passive_volts, sample_rate=sample_rate), True))
-        written.append(spectrum_plot(out / f"{stem}-spectrum.png", curves, title=f"{d.name}: long-term average spectrum at the amp input", overwrite=True))
-        written.append(spectrogram_plot(out / f"{stem}-spectrogram.png", clip.volts, sample_rate=sample_rate, title=f"{d.name}: amp input", overwrite=True))
     return written
+
+
+def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str) -> list[Path]:
+    """S-response.png, S-spectrum.png (``spectra``: list of (label, f, level_db, dashed)) and S-spectrogram.png."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from .plots import response_plot, spectrogram_plot, spectrum_plot
+
+    d = design
+    f = np.geomspace(20, 20000, 600)
+    resp = responses(from_designs([d]))
+    return [
+        response_plot(out / f"{stem}-response.png", f, [(d.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{d.name}: string velocity to amp input", overwrite=True),
+        spectrum_plot(out / f"{stem}-spectrum.png", spectra, title=f"{d.name}: long-term average spectrum at the amp input", overwrite=True),
+        spectrogram_plot(out / f"{stem}-spectrogram.png", spectrogram, sample_rate=sample_rate, title=spectrogram_title, overwrite=True),
+    ]
+
+
+def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int) -> list[Path]:
+    """The three plots of an in-memory clip."""
+    from ..analysis.audio import long_term_spectrum
+
+    spectra = [(clip.design.name, *long_term_spectrum(clip.volts, sample_rate=sample_rate), False)]
+    if clip.passive_volts is not None:
+        spectra.append(("passive reference", *long_term_spectrum(clip.passive_volts, sample_rate=sample_rate), True))
+    return write_design_plots(out, stem, clip.design, spectra=spectra, spectrogram=clip.volts, sample_rate=sample_rate, spectrogram_title=f"{clip.design.name}: amp input")
 
 
 def _cell(v, fmt):

@@ -48,7 +48,7 @@ def phase_deg(f, h):
 
 def save(fig, path, *, overwrite):
     buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=110, metadata={"Software": None})
+    fig.savefig(buf, format="png", dpi=110, metadata={"Software": None}, pil_kwargs={"compress_level": 1})
     _plt().close(fig)
     write_bytes(path, buf.getvalue(), overwrite=overwrite)
     return Path(path)
