@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 import sys
 import time
 from pathlib import Path
@@ -14,10 +15,17 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 
 
 def _render_one(args):
+    """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel)."""
     from ..clips import render_design
 
-    design, dry, settings = args
-    return render_design(design, dry, settings)
+    design, dry, settings, plot_to = args
+    clip = render_design(design, dry, settings)
+    if plot_to is not None:
+        from ..report.clips import write_clip_plots
+
+        folder, stem = plot_to
+        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate)
+    return clip
 
 
 def _render_long_one(args):
@@ -53,24 +61,13 @@ def prepare_out(out_dir, overwrite, prefix="clips") -> Path:
 
 def render_all(designs, dry, settings, jobs, *, label="rendering", work=None, extra=None):
     """Render every design (in ``jobs`` processes); results in the designs' order."""
-    work = work or _render_one
-    tasks = [(d, dry, settings) + ((extra[i],) if extra else ()) for i, d in enumerate(designs)]
-    show = len(tasks) > 1
-    results = [None] * len(tasks)
-    with click.progressbar(length=len(tasks), label=label, file=sys.stderr, show_pos=True) if show else _Null() as bar:
-        if jobs > 1 and len(tasks) > 1:
-            from concurrent.futures import ProcessPoolExecutor, as_completed
+    from ..parallel import pmap
 
-            with ProcessPoolExecutor(max_workers=jobs) as pool:
-                futs = {pool.submit(work, t): i for i, t in enumerate(tasks)}
-                for fut in as_completed(futs):
-                    results[futs[fut]] = fut.result()
-                    bar.update(1)
-        else:
-            for i, t in enumerate(tasks):
-                results[i] = work(t)
-                bar.update(1)
-    return results
+    work = work or _render_one
+    tasks = [(d, dry, settings, extra[i] if extra else None) for i, d in enumerate(designs)]
+    show = len(tasks) > 1
+    with click.progressbar(length=len(tasks), label=label, file=sys.stderr, show_pos=True) if show else _Null() as bar:
+        return pmap(work, tasks, jobs, on_done=lambda: bar.update(1))
 
 
 class _Null:
@@ -93,15 +90,16 @@ class _Null:
 @click.option("--seconds", type=click.FloatRange(min=0.01, max=3600), default=None, help="Length of every clip (default: the dry signal's own).")
 @click.option("--sample-rate", type=click.IntRange(min=8000, max=192000), default=48000, show_default=True, help="Output sample rate (Hz).")
 @click.option("--velocity-scale", type=click.FloatRange(min=1e-6, max=1e3, min_open=True), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
+@click.option("--from-di", "from_di", type=click.Path(dir_okay=False), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it into the run folder (render unvoice) and play the estimate.")
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Add the rig's mains hum field.")
 @click.option("--passive/--no-passive", default=False, show_default=True, help="Also render each design's passive reference (S-passive.wav).")
 @click.option("--noise/--no-noise", default=False, show_default=True, help="Add the circuit's noise floor (seeded).")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed for the phrase's small variations and the noise.")
 @click.option("--volts-full-scale", type=click.FloatRange(min=1e-3, max=100, min_open=True), default=None, help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).")
-@click.option("--jobs", type=click.IntRange(min=1, max=64), default=1, show_default=True, help="Render designs in this many processes (results identical to one).")
+@click.option("--jobs", type=click.IntRange(min=1, max=64), default=None, help="Render designs in this many processes (default: one per core; results identical to one).")
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
 @friendly
-def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, hum, passive, noise, seed, volts_full_scale, jobs, plots):
+def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, volts_full_scale, jobs, plots):
     """Render one clip per design (default: every models/*.toml).
 
     Every design plays the same dry signal into the same rig, and every WAV
@@ -111,7 +109,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     """
     from ..clips import DEFAULT_DRY, Settings, choose_full_scale, record
     from ..errors import InputError
-    from ..report.clips import write_design_files, write_run_files
+    from ..report.clips import write_design_audio, write_run_files
     from .options import load_designs
 
     dry = Path(dry_path) if dry_path else DEFAULT_DRY
@@ -122,7 +120,12 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     if len(set(stems)) != len(stems):
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
     out = prepare_out(out_dir, overwrite)
+    if from_di:
+        from .unvoice import dry_from_di
+
+        dry, _ = dry_from_di(dry_path, from_di, folder=out, rig_path=rig_path, overwrite=overwrite, plot=plots)
     settings = Settings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise)
+    jobs = jobs or min(len(designs), os.cpu_count() or 1)
     rig_record = {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
     if dry.suffix.lower() != ".toml":
         from ..clips import LONG_SECONDS
@@ -143,15 +146,15 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             click.echo(f"{len(records)} clip{'s' if len(records) != 1 else ''} of {length:.0f} s rendered block by block to {out}/ (full scale {vfs:g} V, fixed from the output windows; summary in {out / 'summary.md'})")
             click.echo(CAUTION)
             return
-    clips = render_all(designs, dry, settings, jobs)
+    out.mkdir(parents=True, exist_ok=True)
+    clips = render_all(designs, dry, settings, jobs, extra=[(out, stem) if plots else None for stem in stems])
     peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
     vfs = volts_full_scale or choose_full_scale(peaks)
-    out.mkdir(parents=True, exist_ok=True)
     records = []
     for stem, clip in zip(stems, clips):
         rec = record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": _rig_values(clip.design)}, dry_path=dry)
         records.append(rec)
-        write_design_files(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=sample_rate, plots=plots)
+        write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=sample_rate)
         for w in clip.warnings:
             click.echo(f"warning: {clip.design.name}: {w}", err=True)
     write_run_files(out, clips, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs, plots=plots)
