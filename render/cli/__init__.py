@@ -22,6 +22,7 @@ COMMANDS = {
     "score": ("render.cli.score", "score_command", "Score a finished blind session: ABX p-value or preferences."),
     "check": ("render.cli.check", "check_command", "Validate design files and print their derived values."),
     "noise": ("render.cli.noise", "noise_command", "Noise floor at the amp input: density, totals, A-weighted, SNR, with the passive reference."),
+    "unvoice": ("render.cli.unvoice", "unvoice_command", "Estimate the string velocity behind a passive-pickup recording (DI), to drive any design."),
     "response": ("render.cli.response", "response_command", "Small-signal response from string velocity to the amp input."),
     "dry": ("render.cli.dry", "dry_command", "Preview a phrase's string velocity as a WAV."),
     "fit": ("render.cli.fit", "fit_command", "Search buyable part values that meet stated aims."),

@@ -54,9 +54,10 @@ def _text_record(path) -> dict:
 @click.option("--seconds", default=None, help='Clip length ("8s", 4.5; default: the dry signal\'s own, at most 120 s).')
 @click.option("--sample-rate", default=48000, show_default=True, type=int, help="Sample rate in Hz.")
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Render the room's hum with the signal.")
+@click.option("--from-di", "from_di", type=click.Path(dir_okay=False), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it (render unvoice) and play the estimate.")
 @overwrite_option
 @friendly
-def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, out, target_lufs, true_peak_dbtp, seconds, sample_rate, hum, overwrite):
+def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, out, target_lufs, true_peak_dbtp, seconds, sample_rate, hum, from_di, overwrite):
     """Build a blind listening session comparing MODEL_A and MODEL_B.
 
     Writes SESSION/public (the clips under random names and the trial plan),
@@ -97,6 +98,14 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
     dry_file = Path(dry_path) if dry_path else _default_dry()
     if not dry_file.is_file():
         raise InputError(f"--dry={dry_file}: no such file; pass a phrase (.toml) or a recording")
+    from_di_record = None
+    if from_di:
+        import tempfile
+
+        from .unvoice import dry_from_di
+
+        scratch = tempfile.TemporaryDirectory(prefix="render-unvoice-")  # removed when the command ends
+        dry_file, from_di_record = dry_from_di(dry_path, from_di, folder=scratch.name, rig_path=rig_path, plot=False)
 
     from .options import load_designs
 
@@ -137,7 +146,7 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
     design_records = [{"name": name, **_text_record(p)} for name, p in zip(names, (model_a, model_b))]
     record = {
         "rig": _text_record(rig_path) if rig_path else None,
-        "dry": {**_file_record(dry_file), "seed": DRY_SEED, "seconds": length, "description": dry_info},
+        "dry": {**_file_record(dry_file), "seed": DRY_SEED, "seconds": length, "description": dry_info, "from_di": from_di_record},
         "render": {
             "function": "render.chain.stream.render_signal",
             "hum": bool(hum),

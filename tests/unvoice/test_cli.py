@@ -1,0 +1,224 @@
+"""``render unvoice`` and the ``--from-di`` shortcut of ``clips`` and ``blind``: files, records, refusals."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+
+import numpy as np
+import pytest
+import soundfile as sf
+from click.testing import CliRunner
+
+import render.cli.unvoice as cli_unvoice
+from render.analysis import unvoice as U
+from render.circuit.engine import design_responses
+from render.cli import main
+from render.cli.options import load_designs
+from render.cli.unvoice import unvoice_command
+from render.dry.modal import string_velocity
+from render.dry.phrase import load_phrase
+from render.report.wav import float_wav_bytes
+
+from .helpers import GLASS, PHRASE, REF, SAMPLE_RATE, band_levels_db, engine_di, write_wav
+
+KEYS = {"di", "design", "design_file", "design_sha256", "rig", "velocity", "trusted_band_hz", "trust_rule", "regularisation", "model_error", "bands", "warnings", "software_version"}
+REG_KEYS = {"method", "max_boost_db", "lambda_gain", "gain_limit_db", "max_inverse_gain_db", "noise_floor", "low_taper_hz", "fir_taps", "passband_cost_db"}
+
+
+@pytest.fixture(scope="module")
+def di(tmp_path_factory):
+    """A 1.2 s DI of the test phrase through the reference's passive circuit (engine response by FFT), with a little noise."""
+    (d,), _ = load_designs([REF])
+    v = string_velocity(load_phrase(PHRASE), sample_rate=SAMPLE_RATE, positions=(d.coil_a.position,), apertures=(d.coil_a.aperture,), seed=0, seconds=1.2)[0]
+    y = engine_di(d, v, sample_rate=SAMPLE_RATE) + 1e-5 * np.random.default_rng(1).standard_normal(v.size)
+    folder = tmp_path_factory.mktemp("di")
+    return write_wav(folder / "take.wav", y), y
+
+
+def run(*args, command=unvoice_command):
+    return CliRunner().invoke(command, [str(a) for a in args], catch_exceptions=False)
+
+
+def test_writes_the_velocity_json_and_plot(di, tmp_path):
+    path, y = di
+    out = tmp_path / "v.wav"
+    res = run(path, REF, "--out", out)
+    assert res.exit_code == 0, res.output
+    assert "trusted band" in res.output and "gain limit" in res.output
+    for p in (out, tmp_path / "v.json", tmp_path / "v-spectra.png"):
+        assert p.is_file(), p
+    info = sf.info(out)
+    assert (info.samplerate, info.channels, info.subtype, info.frames) == (SAMPLE_RATE, 1, "FLOAT", y.size)
+    rec = json.loads((tmp_path / "v.json").read_text())
+    assert KEYS <= set(rec) and REG_KEYS <= set(rec["regularisation"])
+    assert rec["di"]["volts_full_scale"] == 1.0 and rec["velocity"]["velocity_scale"] == 1.0
+    assert rec["design_sha256"] == hashlib.sha256(REF.read_bytes()).hexdigest()
+    assert rec["di"]["sha256"] == hashlib.sha256(path.read_bytes()).hexdigest()
+    lo, hi = rec["trusted_band_hz"]
+    assert lo < 80 and hi > 5000  # the band the round trip checks (IEC 61260-1 nominal 80 Hz … 5 kHz)
+    assert rec["regularisation"]["max_inverse_gain_db"] <= rec["regularisation"]["gain_limit_db"]  # the stated limit holds
+    assert {"coil_inductance", "coil_capacitance", "cable_capacitance"} <= set(rec["model_error"])
+    # no temporary files left beside the outputs
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["v-spectra.png", "v.json", "v.wav"]
+
+
+def test_streamed_file_equals_the_one_shot_writer_and_the_pure_function(di, tmp_path, monkeypatch):
+    path, y = di
+    out = tmp_path / "a.wav"
+    assert run(path, REF, "--out", out, "--no-plot").exit_code == 0
+    x, _ = sf.read(out, dtype="float64")  # libsndfile reads it
+    # the streamed header matches render.report.wav byte for byte
+    assert out.read_bytes() == float_wav_bytes(x, SAMPLE_RATE)
+    (d,), _ = load_designs([REF])
+    passive = design_responses([d]).passive_velocity()(U.design_grid(sample_rate=SAMPLE_RATE))[0]
+    v, _ = U.unvoice(y.astype(np.float32).astype(float), passive=passive, sample_rate=SAMPLE_RATE)
+    assert np.array_equal(x, v.astype(np.float32).astype(float))
+    # the read block size does not change a byte
+    monkeypatch.setattr(cli_unvoice, "BLOCK", 1000)
+    other = tmp_path / "b.wav"
+    assert run(path, REF, "--out", other, "--no-plot").exit_code == 0
+    assert other.read_bytes() == out.read_bytes()
+
+
+def test_volts_full_scale_scales_the_estimate(di, tmp_path):
+    path, _ = di
+    a, b = tmp_path / "a.wav", tmp_path / "b.wav"
+    assert run(path, REF, "--out", a, "--no-plot").exit_code == 0
+    assert run(path, REF, "--out", b, "--no-plot", "--volts-full-scale", "2.5").exit_code == 0
+    va, _ = sf.read(a)
+    vb, _ = sf.read(b)
+    # the inverse depends on the recording only through the ratio N/S, which a scale leaves alone: linear
+    # (closed form), up to the noise floor's 0.1 dB histogram steps, which move the Wiener term a little
+    # in the boost region (common practice, no source: 1e-4 of the peak, 0.001 dB per third octave)
+    assert np.max(np.abs(vb - 2.5 * va)) <= 1e-4 * np.max(np.abs(vb))
+    centres = 1000.0 * 10.0 ** (np.arange(-17, 14) / 10.0)  # 20 Hz … 20 kHz, IEC 61260-1 base-10 centres
+    diff = band_levels_db(vb, sample_rate=SAMPLE_RATE, centres=centres) - band_levels_db(2.5 * va, sample_rate=SAMPLE_RATE, centres=centres)
+    assert np.all(np.abs(diff) <= 0.001), diff
+    assert json.loads(b.with_suffix(".json").read_text())["di"]["volts_full_scale"] == 2.5
+
+
+def test_refuses_to_overwrite_and_touches_nothing(di, tmp_path):
+    path, _ = di
+    out = tmp_path / "v.wav"
+    assert run(path, REF, "--out", out).exit_code == 0
+    before = {p.name: p.read_bytes() for p in tmp_path.iterdir()}
+    res = run(path, REF, "--out", out)
+    assert res.exit_code == 1
+    assert "exists; pass --overwrite" in res.output and len(res.output.strip().splitlines()) == 1
+    assert {p.name: p.read_bytes() for p in tmp_path.iterdir()} == before
+    # the JSON alone existing is refused as well
+    out.unlink()
+    res = run(path, REF, "--out", out)
+    assert res.exit_code == 1 and "v.json: exists" in res.output and not out.exists()
+    assert run(path, REF, "--out", out, "--overwrite").exit_code == 0
+
+
+def _stereo(folder):
+    return write_wav(folder / "stereo.wav", np.zeros((SAMPLE_RATE, 2)) + 0.01)
+
+
+def _short(folder):
+    return write_wav(folder / "short.wav", 0.01 * np.ones(SAMPLE_RATE // 5))
+
+
+def _nan(folder):
+    x = 0.01 * np.random.default_rng(0).standard_normal(SAMPLE_RATE)
+    x[1234] = np.nan
+    return write_wav(folder / "nan.wav", x)
+
+
+def _silent(folder):
+    return write_wav(folder / "silent.wav", np.zeros(SAMPLE_RATE))
+
+
+def _text(folder):
+    p = folder / "notes.wav"
+    p.write_text("not audio")
+    return p
+
+
+@pytest.mark.parametrize(
+    "make, extra, expect",
+    [
+        (lambda f: f / "missing.wav", (), "DI="),
+        (_stereo, (), "channels=2"),
+        (_short, (), "0.200 s"),
+        (_nan, (), "sample 1234"),
+        (_silent, (), "every sample is 0"),
+        (_text, (), "cannot be read as audio"),
+        (None, ("--volts-full-scale", "0"), "--volts-full-scale=0.0"),
+        (None, ("--volts-full-scale", "nan"), "--volts-full-scale=nan"),
+        (None, ("--max-boost", "55"), "--max-boost=55.0"),
+        (None, ("--velocity-scale", "-1"), "--velocity-scale=-1.0"),
+    ],
+)
+def test_bad_input_is_one_line_exit_1_and_writes_nothing(di, tmp_path, make, extra, expect):
+    src = di[0] if make is None else make(tmp_path)
+    before = set(tmp_path.iterdir())
+    out = tmp_path / "out.wav"
+    res = run(src, REF, "--out", out, *extra)
+    assert res.exit_code == 1, res.output
+    lines = [ln for ln in res.output.splitlines() if ln.strip()]
+    assert len(lines) == 1 and lines[0].startswith("Error: ") and expect in lines[0], res.output
+    assert "Traceback" not in res.output
+    assert set(tmp_path.iterdir()) == before  # nothing written, no temporary file left
+
+
+def test_out_must_be_a_new_wav_in_a_folder_and_the_model_must_load(di, tmp_path):
+    res = run(di[0], REF, "--out", tmp_path / "v.flac")
+    assert res.exit_code == 1 and "--out=" in res.output and ".wav" in res.output
+    res = run(di[0], REF, "--out", tmp_path / "nowhere" / "v.wav")
+    assert res.exit_code == 1 and "does not exist" in res.output
+    copy = write_wav(tmp_path / "copy.wav", di[1])
+    res = run(copy, REF, "--out", copy, "--overwrite")
+    assert res.exit_code == 1 and "is the DI itself" in res.output
+    bad = tmp_path / "bad.toml"
+    bad.write_text(REF.read_text().replace('inductance = "350mH"', 'inductance = "350"', 1))
+    res = run(di[0], bad, "--out", tmp_path / "v.wav")
+    assert res.exit_code == 1 and "inductance" in res.output and len(res.output.strip().splitlines()) == 1
+    assert not (tmp_path / "v.wav").exists()
+
+
+def test_clips_from_di_unvoices_into_the_run_folder(di, tmp_path):
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", str(REF), str(GLASS), "--dry", str(di[0]), "--from-di", str(REF), "--seconds", "0.6", "--out", str(out), "--no-plots"], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    vel = out / "take-velocity.wav"
+    assert vel.is_file() and (out / "take-velocity.json").is_file()
+    for stem in ("studio-reference", "glasswing-bright"):
+        rec = json.loads((out / f"{stem}.json").read_text())
+        assert "take-velocity.wav" in json.dumps(rec["dry"])
+    assert "trusted" in res.output
+
+
+def test_clips_from_di_needs_a_recording(tmp_path):
+    res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(PHRASE), "--from-di", str(REF), "--out", str(tmp_path / "r")], catch_exceptions=False)
+    assert res.exit_code == 1 and "--from-di un-voices a recording" in res.output
+    assert len(res.output.strip().splitlines()) == 1 and not (tmp_path / "r").exists()
+    res = CliRunner().invoke(main, ["clips", str(REF), "--from-di", str(REF), "--out", str(tmp_path / "r")], catch_exceptions=False)
+    assert res.exit_code == 1 and "--from-di needs --dry" in res.output and not (tmp_path / "r").exists()
+
+
+def test_a_clipped_recording_is_flagged(di, tmp_path):
+    y = di[1] / np.max(np.abs(di[1])) * 0.9
+    y[5000:5010] = 1.0  # ten equal samples at full scale: a flat top
+    src = write_wav(tmp_path / "clipped.wav", y)
+    res = run(src, REF, "--out", tmp_path / "v.wav", "--no-plot")
+    assert res.exit_code == 0 and "flat run(s) at full scale, the first at 0.104 s" in res.output, res.output  # 5000 / 48000 s (closed form)
+    assert json.loads((tmp_path / "v.json").read_text())["warnings"]
+
+
+def test_blind_from_di_records_the_recording(di, tmp_path):
+    out = tmp_path / "session"
+    res = CliRunner().invoke(main, ["blind", str(REF), str(GLASS), "--dry", str(di[0]), "--from-di", str(REF), "--trials", "2", "--seed", "3", "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    key = json.loads((out / "private" / "key.json").read_text())
+    rec = key["dry"]["from_di"]
+    assert rec["di_sha256"] == hashlib.sha256(di[0].read_bytes()).hexdigest()
+    assert rec["model_sha256"] == hashlib.sha256(REF.read_bytes()).hexdigest()
+    assert math.isfinite(rec["gain_limit_db"]) and rec["trusted_band_hz"][0] < 80  # IEC 61260-1 nominal 80 Hz band
+    assert rec["rebuild"].startswith("render unvoice ")
+    # no velocity file inside the session: only the clips, the plan and the key
+    assert not list(out.rglob("*velocity*"))
