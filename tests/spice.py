@@ -168,3 +168,39 @@ def run_ac(netlist_lines, nodes, frequencies_hz):
             data = np.loadtxt(path, skiprows=1)
             out[node] = (data[:, 0], data[:, 1] + 1j * data[:, 2])
         return out
+
+
+def run_transient(netlist_lines, t, x, *, stop, step, node="amp", options=(".options reltol=1e-6 method=trap",), max_step=None):
+    """Transient analysis with the drive node fed from samples (XSPICE filesource, linear interpolation).
+
+    ngspice-39 refuses ``PWL file=`` ("parameter value out of range"), hence
+    the filesource model. ``t``, ``x``: the drive's sample times (s) and
+    values; returns (times (s), v(node)) as ngspice writes them.
+    """
+    require_ngspice()
+    with tempfile.TemporaryDirectory() as tmp:
+        tmp = Path(tmp)
+        np.savetxt(tmp / "drive.txt", np.column_stack([t, x]), fmt="%.12e")
+        lines = [ln for ln in netlist_lines if not ln.startswith("Vdrive")]
+        lines += [
+            "Rdrive drive 0 1e6",
+            "Adrive %v([drive]) drivesrc",
+            f'.model drivesrc filesource (file="{tmp / "drive.txt"}" amploffset=[0] amplscale=[1] '
+            "timeoffset=0 timescale=1 timerelative=false amplstep=false)",
+            *options,
+            ".control",
+            "set wr_singlescale",
+            "option numdgt=12",
+            f"tran {step!r} {stop!r} 0 {(max_step or step)!r}",
+            f"wrdata {tmp / 'out.dat'} v({node})",
+            "quit",
+            ".endc",
+            ".end",
+        ]
+        (tmp / "tran.cir").write_text("\n".join(lines) + "\n")
+        res = subprocess.run([NGSPICE, "-b", str(tmp / "tran.cir")], capture_output=True, text=True, timeout=600)
+        out = tmp / "out.dat"
+        if not out.exists():
+            raise RuntimeError(f"ngspice wrote no output:\n{res.stdout[-2000:]}\n{res.stderr[-2000:]}")
+        data = np.loadtxt(out)
+    return data[:, 0], data[:, 1]

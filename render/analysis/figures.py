@@ -29,8 +29,20 @@ from __future__ import annotations
 import numpy as np
 
 F_LO, F_HI = 5.0, 40000.0
-GRID_POINTS = 1600
-REJECTION_CAP_DB = 200.0  # reported for a numerically exact balance (the sum is zero to rounding)  # log-spaced; 0.4 % steps, then refined by interpolation
+GRID_POINTS = 1600  # log-spaced; 0.4 % steps, then refined by interpolation
+REJECTION_CAP_DB = 200.0  # reported for a numerically exact balance (the sum is zero to rounding)
+
+
+def rejection_db(va, vb) -> np.ndarray:
+    """20·log10(max(|V_A|, |V_B|) / |V_A + V_B|), capped at REJECTION_CAP_DB (any shapes, broadcast)."""
+    big = np.maximum(np.abs(va), np.abs(vb))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return 20 * np.log10(big / np.maximum(np.abs(va + vb), big * 10 ** (-REJECTION_CAP_DB / 20)))
+
+
+def coil_hum(resp, frequency_hz):
+    """(V_A, V_B): the hum at the amp input per T/s of dB/dt from each coil's hum EMF alone, shape (N, F)."""
+    return resp.hum_a[:, None] * resp.from_a()(frequency_hz), resp.hum_b[:, None] * resp.from_b()(frequency_hz)
 
 
 def grid(points: int = GRID_POINTS) -> np.ndarray:
@@ -129,14 +141,9 @@ def hum_rejection_db(resp, frequency_hz) -> np.ndarray:
     """
     f = np.broadcast_to(np.asarray(frequency_hz, float), (resp.n,))
     out = np.empty(resp.n)
-    ha, hb = resp.from_a(), resp.from_b()
     for fv in np.unique(f):
         sel = f == fv
-        va = resp.hum_a * ha(fv)[:, 0]
-        vb = resp.hum_b * hb(fv)[:, 0]
-        big = np.maximum(np.abs(va), np.abs(vb))
-        r = 20 * np.log10(big / np.maximum(np.abs(va + vb), big * 10 ** (-REJECTION_CAP_DB / 20)))
-        out[sel] = r[sel]
+        out[sel] = rejection_db(*coil_hum(resp, fv))[sel, 0]
     return out
 
 

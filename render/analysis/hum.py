@@ -52,18 +52,15 @@ def hum_table(design, resp=None) -> dict:
     coil_b_v}), ``total_v_rms``, and the signal-to-hum ratio against the
     reference string signal.
     """
-    from .figures import REJECTION_CAP_DB
+    from .figures import coil_hum, rejection_db
 
     resp = resp or responses(from_designs([design]))
     hum = design.hum
     f, dbdt = field_derivative(hum)
     h = np.arange(1, len(f) + 1)
-    va = resp.hum_a[0] * resp.from_a()(f)[0] * dbdt
-    vb = resp.hum_b[0] * resp.from_b()(f)[0] * dbdt
+    va, vb = (x[0] * dbdt for x in coil_hum(resp, f))
     total = va + vb
-    big = np.maximum(np.abs(va), np.abs(vb))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        rej = 20 * np.log10(big / np.maximum(np.abs(total), big * 10 ** (-REJECTION_CAP_DB / 20)))
+    rej = rejection_db(va, vb)
     rows = []
     for i in range(len(h)):
         rows.append(
@@ -99,13 +96,7 @@ def _ratio_db(a, b):
 
 def rejection_curve(designs, frequency_hz) -> np.ndarray:
     """Rejection (dB) of each design at each frequency: shape (N, F)."""
-    from .figures import REJECTION_CAP_DB
-
-    resp = responses(from_designs(list(designs)))
-    va = resp.hum_a[:, None] * resp.from_a()(frequency_hz)
-    vb = resp.hum_b[:, None] * resp.from_b()(frequency_hz)
-    big = np.maximum(np.abs(va), np.abs(vb))
-    return 20 * np.log10(big / np.maximum(np.abs(va + vb), big * 10 ** (-REJECTION_CAP_DB / 20)))
+    return _rejection(from_designs(list(designs)), frequency_hz)
 
 
 # ----------------------------------------------------------------------------
@@ -194,14 +185,10 @@ def part_labels(design) -> list[tuple[str, str]]:
     return out
 
 
-def _rejection(p: Params, f: np.ndarray) -> np.ndarray:
-    from .figures import REJECTION_CAP_DB
+def _rejection(p: Params, f) -> np.ndarray:
+    from .figures import coil_hum, rejection_db
 
-    resp = responses(p)
-    va = resp.hum_a[:, None] * resp.from_a()(f)
-    vb = resp.hum_b[:, None] * resp.from_b()(f)
-    big = np.maximum(np.abs(va), np.abs(vb))
-    return 20 * np.log10(big / np.maximum(np.abs(va + vb), big * 10 ** (-REJECTION_CAP_DB / 20)))
+    return rejection_db(*coil_hum(responses(p), f))
 
 
 @dataclass(frozen=True)

@@ -94,8 +94,7 @@ def bench_main_job():
 
 
 def bench_ngspice(design, seconds=1.0):
-    from chain.test_stream import _run_transient
-    from spice import NGSPICE, active_netlist
+    from spice import NGSPICE, active_netlist, run_transient
 
     from render.chain.stream import make_plan, render_signal
 
@@ -108,7 +107,7 @@ def bench_ngspice(design, seconds=1.0):
     wa = design.coil_a.signal_polarity * design.coil_a.sensitivity
     wb = design.coil_b.signal_polarity * design.coil_b.sensitivity
     t0 = time.perf_counter()
-    _run_transient(active_netlist(design, wa=wa, wb=wb), t, x, seconds)
+    run_transient(active_netlist(design, wa=wa, wb=wb), t, x, stop=seconds, step=1e-6)
     spice_s = time.perf_counter() - t0
     plan = make_plan(design, sample_rate=FS)
     v = np.interp(np.arange(int(seconds * FS)) / FS, t, x)

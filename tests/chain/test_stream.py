@@ -6,8 +6,6 @@ against ngspice AC analyses in tests/circuit.
 """
 
 import dataclasses
-import subprocess
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -28,7 +26,7 @@ from render.chain.stream import (
 )
 from render.circuit.engine import design_responses
 from render.design import load_design
-from spice import NGSPICE, active_netlist, require_ngspice
+from spice import active_netlist, run_transient
 
 ROOT = Path(__file__).resolve().parents[2]
 MODELS = sorted((ROOT / "models").glob("*.toml"))
@@ -133,38 +131,6 @@ def test_each_coil_path_matches_the_engine(coil):
     assert np.max(np.abs(err[TONES <= 16000])) < 0.1 and np.max(np.abs(err)) < 0.5
 
 
-def _run_transient(netlist, t, x, seconds):
-    """ngspice transient with the drive node fed from a file (XSPICE filesource, linear interpolation)."""
-    require_ngspice()
-    with tempfile.TemporaryDirectory() as tmp:
-        tmp = Path(tmp)
-        np.savetxt(tmp / "drive.txt", np.column_stack([t, x]), fmt="%.12e")
-        lines = [ln for ln in netlist if not ln.startswith("Vdrive")]
-        lines += [
-            "Rdrive drive 0 1e6",
-            "Adrive %v([drive]) drivesrc",
-            f'.model drivesrc filesource (file="{tmp / "drive.txt"}" amploffset=[0] amplscale=[1] '
-            "timeoffset=0 timescale=1 timerelative=false amplstep=false)",
-            ".options reltol=1e-6 method=trap",
-            ".control",
-            "set wr_singlescale",
-            "set wr_vecnames",
-            "option numdgt=12",
-            f"tran 1u {seconds} 0 1u",
-            f"wrdata {tmp / 'amp.dat'} v(amp)",
-            "quit",
-            ".endc",
-            ".end",
-        ]
-        (tmp / "tran.cir").write_text("\n".join(lines) + "\n")
-        res = subprocess.run([NGSPICE, "-b", str(tmp / "tran.cir")], capture_output=True, text=True, timeout=300)
-        out = tmp / "amp.dat"
-        if not out.exists():
-            raise RuntimeError(f"ngspice wrote no output:\n{res.stdout[-2000:]}\n{res.stderr[-2000:]}")
-        data = np.loadtxt(out, skiprows=1)
-    return data[:, 0], data[:, 1]
-
-
 def test_against_an_ngspice_transient():
     # the same circuit and input in ngspice (transient, trapezoidal, 1 µs steps; Debian package
     # ngspice): tone levels within 0.2 dB in band. ngspice reads the input at 192 kHz and
@@ -179,7 +145,7 @@ def test_against_an_ngspice_transient():
     wa = REF.coil_a.signal_polarity * REF.coil_a.sensitivity
     wb = REF.coil_b.signal_polarity * REF.coil_b.sensitivity
     t_in = np.arange(int(seconds * 192000) + 1) / 192000
-    ts, vs = _run_transient(active_netlist(REF, wa=wa, wb=wb), t_in, drive(t_in), seconds)
+    ts, vs = run_transient(active_netlist(REF, wa=wa, wb=wb), t_in, drive(t_in), stop=seconds, step=1e-6)
     t = np.arange(int(seconds * FS)) / FS
     r = render_signal(REF, drive(t), sample_rate=FS, hum=False)
     seg = slice(int(0.1 * FS), t.size)

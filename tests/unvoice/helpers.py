@@ -8,8 +8,6 @@ edges centre·10^(±1/20)), power summed over the FFT bins inside each band
 
 from __future__ import annotations
 
-import subprocess
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -59,35 +57,13 @@ def spice_transient_di(d, velocity, *, sample_rate_hi: int, decimate: int) -> np
     sample and writes every drive sample (``.options interp``); every
     ``decimate``-th output sample is returned.
     """
-    from spice import NGSPICE, passive_netlist
+    from spice import passive_netlist, run_transient
 
     wa, wb = weights(d)
-    lines = passive_netlist(d, wa=wa, wb=wb)
-    assert lines[1].startswith("Vdrive drive 0")
     step = 1.0 / sample_rate_hi
-    with tempfile.TemporaryDirectory() as tmp:
-        tmp = Path(tmp)
-        t = np.arange(velocity.size) * step
-        np.savetxt(tmp / "drive.txt", np.c_[t, velocity], fmt="%.12e")
-        lines[1] = "Adrive %v([drive]) drivefile"
-        lines += [
-            f'.model drivefile filesource (file="{tmp / "drive.txt"}" amploffset=[0] amplscale=[1] timeoffset=0 timescale=1 timerelative=false amplstep=false)',
-            ".options interp",
-            ".control",
-            "set wr_singlescale",
-            "option numdgt=12",
-            f"tran {step!r} {(velocity.size - 1) * step!r} 0 {step!r}",
-            f"wrdata {tmp / 'amp.dat'} v(amp)",
-            "quit",
-            ".endc",
-            ".end",
-        ]
-        (tmp / "c.cir").write_text("\n".join(lines) + "\n")
-        res = subprocess.run([NGSPICE, "-b", str(tmp / "c.cir")], capture_output=True, text=True, timeout=300)
-        path = tmp / "amp.dat"
-        if not path.exists():
-            raise RuntimeError(f"ngspice wrote no output:\n{res.stdout[-2000:]}\n{res.stderr[-2000:]}")
-        data = np.loadtxt(path)
+    t = np.arange(velocity.size) * step
+    times, v = run_transient(passive_netlist(d, wa=wa, wb=wb), t, velocity, stop=(velocity.size - 1) * step, step=step, options=(".options interp",))
+    data = np.column_stack([times, v])
     assert data.shape[0] == velocity.size and np.allclose(data[:, 0], t, atol=1e-9)
     return data[::decimate, 1]
 
