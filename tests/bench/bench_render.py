@@ -60,16 +60,17 @@ def bench_rtf(designs):
     from render.chain.stream import make_plan, render_signal
     from render.clips import Settings, dry_for
 
-    print("Real-time factor, 60 s of the default phrase (looped), compute only, one core:")
+    print("Real-time factor, 60 s of the default phrase (looped), compute only, one core, best of 3:")
     rtfs = []
     for d in designs:
         v = dry_for(d, ROOT / "dry_signals" / "default.toml", Settings()).velocity
         v = np.tile(v, (1, int(np.ceil(60 * FS / v.shape[1]))))[:, : 60 * FS]
         plan = make_plan(d, sample_rate=FS)
-        render_signal(d, v[:, :FS], sample_rate=FS, plan=plan)  # warm
-        t0 = time.process_time()
-        render_signal(d, v, sample_rate=FS, plan=plan)
-        dt = time.process_time() - t0
+        dt = float("inf")
+        for _ in range(3):  # best of three, as timeit does: the first run also pays for page faults
+            t0 = time.process_time()
+            render_signal(d, v, sample_rate=FS, plan=plan)
+            dt = min(dt, time.process_time() - t0)
         rtfs.append(60 / dt)
         line(d.name, f"{60 / dt:7.0f}× real time ({dt * 1000:.0f} ms for 60 s; 10 s ≈ {dt / 6 * 1000:.0f} ms)", "≥ 200×; 10 s ≤ 100 ms")
     return min(rtfs)
