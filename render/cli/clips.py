@@ -65,6 +65,15 @@ def render_all(designs, dry, settings, jobs, *, label="rendering", work=None, ex
 
     work = work or _render_one
     tasks = [(d, dry, settings, extra[i] if extra else None) for i, d in enumerate(designs)]
+    if jobs > 1 and len(tasks) > 1:
+        # import the heavy modules once here: forked workers share them instead of each importing them
+        from ..chain import stream  # noqa: F401
+        from ..dry import modal  # noqa: F401
+
+        if any(extra or ()):
+            from ..report.plots import _plt
+
+            _plt()
     show = len(tasks) > 1
     with click.progressbar(length=len(tasks), label=label, file=sys.stderr, show_pos=True) if show else _Null() as bar:
         return pmap(work, tasks, jobs, on_done=lambda: bar.update(1))

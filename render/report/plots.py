@@ -81,7 +81,7 @@ def response_plot(path, f, curves, *, passive=None, title="", overwrite=False):
     ax1.legend(loc="lower center", fontsize=8, frameon=False, ncol=min(3, len(curves) + 1))
     if title:
         ax1.set_title(title, fontsize=10, loc="left")
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.1, right=0.98, bottom=0.09, top=0.94, hspace=0.06)  # fixed margins: tight_layout costs half the plot
     return save(fig, path, overwrite=overwrite)
 
 
@@ -97,7 +97,7 @@ def rejection_plot(path, f, curves, *, marks=(), overwrite=False):
     ax.set_xlabel("frequency (Hz); dotted: mains harmonics")
     ax.set_ylabel("hum rejection (dB)")
     ax.legend(fontsize=8, frameon=False)
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
 
@@ -114,7 +114,7 @@ def histogram_plot(path, values, *, xlabel, title="", overwrite=False):
     ax.legend(fontsize=8, frameon=False)
     if title:
         ax.set_title(title, fontsize=10, loc="left")
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
 
@@ -125,13 +125,16 @@ def spectrum_plot(path, curves, *, title="", overwrite=False):
     for i, (label, f, lv, dashed) in enumerate(curves):
         sel = f > 0
         ax.plot(f[sel], lv[sel], color=CLAY if dashed else PALETTE[i % len(PALETTE)], lw=1.2 if dashed else 1.5, ls="--" if dashed else "-", label=label)
+    band = [lv[(f >= 20) & (f <= 20000)] for _, f, lv, _ in curves]
+    top = max(float(np.max(x)) for x in band if x.size) if any(x.size for x in band) else 0.0
+    ax.set_ylim(top - 100, top + 5)  # 100 dB of range below the loudest band
     _hz_axis(ax, 20, 20000)
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V²/Hz)")
     ax.legend(fontsize=8, frameon=False)
     if title:
         ax.set_title(title, fontsize=10, loc="left")
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
 
@@ -168,7 +171,7 @@ def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrit
     fig.colorbar(mesh, ax=ax, label=f"dB re 1 {unit}²/Hz")
     if title:
         ax.set_title(title, fontsize=10, loc="left")
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.1, right=1.0, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
 
@@ -185,7 +188,7 @@ def overlay_plot(path, f, curves, passives, *, overwrite=False):
     ax.set_ylabel("level (dB re 1 V per m/s)")
     ax.legend(fontsize=8, frameon=False, ncol=2)
     ax.set_title("string velocity to amp input, every design", fontsize=10, loc="left")
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
 
@@ -201,7 +204,7 @@ def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
     ax.legend(fontsize=8, frameon=False)
     if title:
         ax.set_title(title, fontsize=10, loc="left")
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
 
