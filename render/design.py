@@ -12,6 +12,7 @@ amplifier) and the room it hums in.
 
 from __future__ import annotations
 
+import codecs
 import difflib
 import functools
 import hashlib
@@ -138,6 +139,7 @@ DESIGN_TABLES = {
 REQUIRED_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 TOP_KEYS = ("name", "notes")
 MAX_FILE_BYTES = 1_000_000  # a design file is a few kB; refuse anything huge
+MAX_NAME_CHARS = 120  # a design's name heads tables, plots and messages (common practice, no source)
 
 
 # ----------------------------------------------------------------------------
@@ -297,7 +299,7 @@ def _where(source: str, table: str | None, key: str | None = None) -> str:
 
 
 def _suggest(word: str, choices) -> str:
-    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.5)
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
     return f"; did you mean '{close[0]}'?" if close else f"; known keys: {', '.join(choices)}"
 
 
@@ -321,22 +323,22 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
     if spec.kind == "polarity":
         if raw in (1, -1) and not isinstance(raw, bool):
             return int(raw)
-        raise InputError(f"{where}={raw!r}: a polarity must be +1 or -1")
+        raise InputError(f"{where}={U.shown(raw)}: a polarity must be +1 or -1")
     if spec.kind == "taper":
         if raw in ("audio", "linear"):
             return raw
-        raise InputError(f'{where}={raw!r}: a taper must be "audio" or "linear"')
+        raise InputError(f'{where}={U.shown(raw)}: a taper must be "audio" or "linear"')
     if spec.kind == "wire":
         if isinstance(raw, (int, float)) and not isinstance(raw, bool):
             if not 20 <= raw <= 60:
-                raise InputError(f"{where}={raw!r}: an AWG gauge must be from 20 to 60 (pickup wire is usually 41 to 44), or give a bare diameter like \"0.0635mm\"")
+                raise InputError(f"{where}={U.shown(raw)}: an AWG gauge must be from 20 to 60 (pickup wire is usually 41 to 44), or give a bare diameter like \"0.0635mm\"")
             return ("awg", float(raw))
         try:
             dia = U.parse_quantity(raw, U.LENGTH)
         except U.QuantityError as exc:
-            raise InputError(f"{where}={raw!r}: {exc}; give an AWG number like 42 or a bare diameter like \"0.0635mm\"") from None
+            raise InputError(f"{where}={U.shown(raw)}: {exc}; give an AWG number like 42 or a bare diameter like \"0.0635mm\"") from None
         if not 5e-6 <= dia <= 2e-3:
-            raise InputError(f"{where}={raw!r}: a bare wire diameter must be from 5 µm to 2 mm")
+            raise InputError(f"{where}={U.shown(raw)}: a bare wire diameter must be from 5 µm to 2 mm")
         return ("diameter", dia)
     if spec.kind == "core":
         from .circuit.winding import CORE_FACTORS
@@ -345,23 +347,23 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
             return float(CORE_FACTORS[raw])
         if isinstance(raw, (int, float)) and not isinstance(raw, bool) and 1.0 <= raw <= 20.0:
             return float(raw)
-        raise InputError(f"{where}={raw!r}: expected a number from 1 to 20 or one of {', '.join(repr(k) for k in CORE_FACTORS)} (rough estimates)")
+        raise InputError(f"{where}={U.shown(raw)}: expected a number from 1 to 20 or one of {', '.join(repr(k) for k in CORE_FACTORS)} (rough estimates)")
     if spec.kind == "list":
         if not isinstance(raw, list) or not raw or len(raw) > 64:
-            raise InputError(f"{where}={raw!r}: expected a list of 1 to 64 relative amplitudes, e.g. [1.0, 0.1, 0.3]")
+            raise InputError(f"{where}={U.shown(raw)}: expected a list of 1 to 64 relative amplitudes, e.g. [1.0, 0.1, 0.3]")
         out = []
         for x in raw:
-            if isinstance(x, bool) or not isinstance(x, (int, float)) or not math.isfinite(x) or x < 0 or x > 100:
-                raise InputError(f"{where}={raw!r}: each relative amplitude must be a number from 0 to 100")
+            if isinstance(x, bool) or not isinstance(x, (int, float)) or not 0 <= x <= 100:  # NaN fails the comparison; a huge int is never converted
+                raise InputError(f"{where}={U.shown(raw)}: each relative amplitude must be a number from 0 to 100")
             out.append(float(x))
         return tuple(out)
     try:
         value = U.parse_quantity(raw, spec.kind)
     except U.QuantityError as exc:
-        raise InputError(f"{where}={raw!r}: {exc}") from None
+        raise InputError(f"{where}={U.shown(raw)}: {exc}") from None
     unit = spec.kind.unit
     if value < 0 and spec.lo >= 0:
-        raise InputError(f"{where}={raw!r}: must not be negative")
+        raise InputError(f"{where}={U.shown(raw)}: must not be negative")
     too_low = value < spec.lo or (spec.lo_open and value <= spec.lo)
     too_high = value > spec.hi or (spec.hi_open and value >= spec.hi)
     if too_low or too_high:
@@ -369,17 +371,17 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
         fmt = (lambda x: U.format_si(x, unit)) if unit else (lambda x: f"{x:g}")
         lo = fmt(spec.lo) if spec.lo else "0"
         rng = f"{'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {fmt(spec.hi)}"
-        raise InputError(f"{where}={raw!r} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec)}")
+        raise InputError(f"{where}={U.shown(raw)} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec)}")
     return value
 
 
 def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -> dict[str, Any]:
     """Read one TOML table against its field specs (unknown keys refused)."""
     if not isinstance(data, dict):
-        raise InputError(f"{_where(source, table)}: expected a table of keys, got {type(data).__name__}")
+        raise InputError(f"{_where(source, table)}: expected a table of keys, got {U.shown(data)}; write a [{table}] section with its keys")
     for key in data:
         if key not in specs:
-            raise InputError(f"{_where(source, table)}: unknown key '{key}'{_suggest(key, specs)}")
+            raise InputError(f"{_where(source, table)}: unknown key {U.shown(key)}{_suggest(key, specs)}")
     out: dict[str, Any] = {}
     for key, spec in specs.items():
         if key in data:
@@ -391,27 +393,63 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
     return out
 
 
-def read_toml(path: str | Path) -> tuple[dict, bytes]:
-    """Read a TOML file with size and encoding checks; errors are one line."""
+def read_file_bytes(path: str | Path, *, limit: int, what: str) -> bytes:
+    """The bytes of a regular file of at most ``limit`` bytes; every failure is one line.
+
+    what : how the file is named in messages ("a design, rig or phrase file")
+    """
     p = Path(path)
-    if not p.exists():
-        raise InputError(f"{path}: no such file; check the path")
+    try:
+        st = p.stat()
+    except FileNotFoundError:
+        raise InputError(f"{path}: no such file; check the path") from None
+    except OSError as exc:
+        raise InputError(f"{path}: cannot be read ({exc.strerror}); check the path and its permissions") from None
     if p.is_dir():
         raise InputError(f"{path}: is a folder, expected a .toml file")
-    size = p.stat().st_size
-    if size > MAX_FILE_BYTES:
-        raise InputError(f"{path}: file is {size} bytes; a design, rig or phrase file must be under {MAX_FILE_BYTES} bytes")
-    raw = p.read_bytes()
+    if not p.is_file():
+        raise InputError(f"{path}: is not a regular file (a device or a pipe?); give {what} saved on disk")
+    if st.st_size > limit:
+        raise InputError(f"{path}: file is {st.st_size} bytes; {what} must be under {limit} bytes")
     try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        raise InputError(f"{path}: not a UTF-8 text file; save it as UTF-8 TOML") from None
+        with open(p, "rb") as fh:
+            raw = fh.read(limit + 1)  # never trust the size alone: the file may grow while read
+    except OSError as exc:
+        raise InputError(f"{path}: cannot be read ({exc.strerror}); check the path and its permissions") from None
+    if len(raw) > limit:
+        raise InputError(f"{path}: file is over {limit} bytes; {what} must be under {limit} bytes")
+    return raw
+
+
+def decode_toml_text(raw: bytes, path, *, not_utf8: str = "not a UTF-8 text file", fix: str = "save it as UTF-8 TOML") -> str:
+    """The UTF-8 text of a TOML file; InputError (one line) for any other encoding.
+
+    A UTF-8 byte-order mark is refused rather than dropped: the text is kept
+    as written in session keys and read again later, where it must parse.
+    not_utf8, fix : the message's wording for bytes that are not UTF-8
+    """
+    if raw.startswith(codecs.BOM_UTF8):
+        raise InputError(f"{path}: starts with a byte-order mark (BOM); save it as UTF-8 without BOM")
+    if raw.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+        raise InputError(f"{path}: {not_utf8} (it starts like UTF-16); {fix}")
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise InputError(f"{path}: {not_utf8} (byte {exc.start} is 0x{raw[exc.start]:02x}); {fix}") from None
+
+
+def read_toml(path: str | Path) -> tuple[dict, bytes]:
+    """Read a TOML file with size and encoding checks; errors are one line."""
+    raw = read_file_bytes(path, limit=MAX_FILE_BYTES, what="a design, rig or phrase file")
+    text = decode_toml_text(raw, path)
     if "\x00" in text:
         raise InputError(f"{path}: contains NUL bytes; expected a TOML text file")
     try:
         return tomllib.loads(text), raw
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{path}: not valid TOML ({exc}); check quotes and brackets") from None
+    except RecursionError:
+        raise InputError(f"{path}: arrays or tables nested too deeply to read; a design file needs two levels at most") from None
 
 
 def _coil(d: dict, default_signal: int) -> Coil:
@@ -462,13 +500,15 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
         raise InputError(f"{source}: expected a TOML document of tables")
     for key in data:
         if key not in DESIGN_TABLES and key not in TOP_KEYS:
-            raise InputError(f"{source}: unknown table or key '{key}'{_suggest(key, list(DESIGN_TABLES) + list(TOP_KEYS))}")
+            raise InputError(f"{source}: unknown table or key {U.shown(key)}{_suggest(key, list(DESIGN_TABLES) + list(TOP_KEYS))}")
     for t in REQUIRED_TABLES:
         if t not in data:
             raise InputError(f"{source}: missing table [{t}]; every design needs {', '.join('[' + x + ']' for x in REQUIRED_TABLES)}")
     for key in TOP_KEYS:
         if key in data and not isinstance(data[key], str):
-            raise InputError(f"{source}: {key}={data[key]!r}: expected a string")
+            raise InputError(f"{source}: {key}={U.shown(data[key])}: expected a string")
+    if "name" in data and (len(data["name"]) > MAX_NAME_CHARS or not data["name"].isprintable()):
+        raise InputError(f"{source}: name={U.shown(data['name'])}: expected one line of at most {MAX_NAME_CHARS} printable characters (it heads every report); put the rest in notes")
     tables = {}
     for t in DESIGN_TABLES:
         if t in data:
@@ -530,7 +570,10 @@ def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile
         raise InputError(f"{source}: expected a TOML document of tables")
     for key in data:
         if key not in ("rig", "hum", "name", "notes"):
-            raise InputError(f"{source}: unknown table or key '{key}'{_suggest(key, ['rig', 'hum', 'name', 'notes'])}")
+            raise InputError(f"{source}: unknown table or key {U.shown(key)}{_suggest(key, ['rig', 'hum', 'name', 'notes'])}")
+    for key in ("name", "notes"):
+        if key in data and not isinstance(data[key], str):
+            raise InputError(f"{source}: {key}={U.shown(data[key])}: expected a string")
     if "rig" not in data and "hum" not in data:
         raise InputError(f"{source}: a rig file needs a [rig] table, a [hum] table, or both")
     rig = Rig(**read_table(data.get("rig", {}), RIG, source=source, table="rig"))

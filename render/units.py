@@ -5,7 +5,7 @@ number in SI base units, or a string such as ``"22k"``, ``"22kΩ"``,
 ``"100nF"``, ``"30mm"`` or an RKM code such as ``"4k7"`` (4.7 kΩ),
 ``"2n2"`` (2.2 nF), ``"R47"`` (0.47 Ω), ``"1M0"`` (1 MΩ).
 
-Rules (interface contract §1):
+Rules:
 
 - A unit symbol at the end is matched first, then the prefix, so that for a
   length ``"6m"`` is six metres and ``"30mm"`` thirty millimetres.
@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import math
 import re
+import unicodedata
 from dataclasses import dataclass
 
 # SI prefixes (SI Brochure, 9th ed., Table 7). "K" is accepted for kilo and
@@ -78,6 +79,16 @@ class QuantityError(ValueError):
     """A value that is not a quantity of the expected kind (message: the reason)."""
 
 
+SHOWN_CHARS = 60  # how much of a bad value a message repeats
+
+
+def shown(value: object, limit: int = SHOWN_CHARS) -> str:
+    """``repr(value)`` for a one-line message: escapes line breaks and control
+    characters, and is cut to about ``limit`` characters (ending in "…")."""
+    text = repr(value)
+    return text if len(text) <= limit else text[: limit - 1] + "…"
+
+
 def parse_quantity(value: object, kind: Kind) -> float:
     """Read one value of ``kind`` and return it in SI base units.
 
@@ -112,9 +123,13 @@ def parse_quantity(value: object, kind: Kind) -> float:
         return x
     if not isinstance(value, str):
         raise QuantityError(f"expected a {kind.name} as a number or a string like {example(kind)}")
-    text = value.strip().replace(" ", "").replace("\u2009", "")
+    text = value.strip()
+    for space in _SPACES:
+        text = text.replace(space, "")
+    text = text.replace("\u2126", "Ω")  # OHM SIGN, as some keyboards give it, is the Greek capital omega
     if not text:
         raise QuantityError(f"expected a {kind.name}, got an empty string")
+    _refuse_odd_characters(text, kind)
     body = text
     for sym in sorted(kind.symbols, key=len, reverse=True):
         if body.endswith(sym) and len(body) > len(sym):
@@ -131,7 +146,7 @@ def parse_quantity(value: object, kind: Kind) -> float:
     prefixes = {**PREFIXES, "c": -2} if kind.symbols and kind.symbols[0] in ("m", "m²") else PREFIXES
     if len(body) >= 2 and body[-1] in prefixes and _NUMBER_RE.match(body[:-1]):
         if "e" in body[:-1].lower():  # "1e3k": float("1e3e3") would raise a bare ValueError
-            raise QuantityError(f"cannot read {value!r} as a {kind.name}: use an exponent or a prefix, not both (e.g. \"4.7e3\" or \"4.7k\")")
+            raise QuantityError(f"cannot read {shown(value)} as a {kind.name}: use an exponent or a prefix, not both (e.g. \"4.7e3\" or \"4.7k\")")
         return _finite(float(f"{body[:-1]}e{prefixes[body[-1]] * kind.power}"), kind)
     # RKM: the letter stands for the decimal point
     m = _RKM_RE.match(body)
@@ -140,7 +155,29 @@ def parse_quantity(value: object, kind: Kind) -> float:
         if letter in "RE" and kind is not RESISTANCE and kind.name != "resistance":
             raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not a {kind.name}")
         return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
-    raise QuantityError(f"cannot read {value!r} as a {kind.name}; write it like {example(kind)}")
+    raise QuantityError(f"cannot read {shown(value)} as a {kind.name}; write it like {example(kind)}")
+
+
+# Spaces a value may carry between number, prefix and unit: the plain space,
+# the thin space and the (narrow) no-break space typesetting puts there.
+_SPACES = (" ", "\u2009", "\u00a0", "\u202f")
+# The only characters beyond ASCII a quantity may hold: micro (sign or Greek
+# mu), ohm, superscript two, the middle dot and the root sign of the units.
+_UNIT_CHARACTERS = frozenset("µμΩ²·√")
+
+
+def _refuse_odd_characters(text: str, kind: Kind) -> None:
+    """Name the first character no quantity can hold (a fullwidth digit, an invisible mark, ...)."""
+    for c in text:
+        if c.isascii() and c.isprintable() or c in _UNIT_CHARACTERS:
+            continue
+        code = f"U+{ord(c):04X}"
+        name = unicodedata.name(c, "a control character" if unicodedata.category(c) == "Cc" else "unnamed")
+        if unicodedata.category(c) == "Nd":
+            raise QuantityError(f"{code} ({name}) is not an ASCII digit; write the number with the digits 0-9")
+        if not c.isprintable() or unicodedata.category(c) in ("Cf", "Zs", "Zl", "Zp", "Mn"):
+            raise QuantityError(f"holds the invisible character {code} ({name}); delete the value and type it again")
+        raise QuantityError(f"{code} ({name}) cannot be part of a {kind.name}; write it like {example(kind)}")
 
 
 def _finite(x: float, kind: Kind) -> float:
@@ -177,6 +214,9 @@ def example(kind: Kind) -> str:
         "area": '"2.5m2" or 2.5',
         "flux density": '"1uT"',
         "time": '"0.2s" or "20ms"',
+        "sensitivity": '0.045 or "45mV·s/m"',
+        "voltage noise density": '"10n" or "10nV/rtHz"',
+        "current noise density": '"10f" or "10fA/rtHz"',
     }.get(kind.name, "a number")
 
 

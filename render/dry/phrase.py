@@ -47,6 +47,9 @@ STEEL_DENSITY = 7850.0  # kg/m^3
 MAX_FRET = 36
 MAX_EVENTS = 20_000
 MAX_SECONDS = 600.0
+# A phrase file of MAX_EVENTS events is about 2 MB of TOML; refuse anything much larger
+# before reading it (common practice, no source).
+MAX_PHRASE_BYTES = 4_000_000
 # How long the phrase goes on after its last event starts, when ``seconds``
 # is not given (common practice, no source).
 DEFAULT_TAIL = 2.0
@@ -260,9 +263,12 @@ def pitch_frequency(value: object, *, concert_a: float = 440.0) -> float:
             raise ValueError("the note lies outside MIDI notes 0..127 (C-1 to G9)")
         return midi_frequency(midi, concert_a=concert_a)
     try:
-        return parse_quantity(value, FREQUENCY)
+        f = parse_quantity(value, FREQUENCY)
     except QuantityError:
         raise ValueError('expected a note name such as "A3", "C#4" or "Bb2", a MIDI number or a frequency such as "110Hz"') from None
+    if not f > 0:
+        raise ValueError('a frequency must be above 0 Hz; write a pitch such as "A3" or "110Hz"')
+    return f
 
 
 # ---------------------------------------------------------------------------
@@ -291,17 +297,47 @@ def stiffness_inharmonicity(*, diameter: float, tension: float, length: float, m
 # Messages
 
 
-def _show(value: object) -> str:
-    """A value as it would be written in TOML, for messages."""
+SHOWN_CHARS = 60  # how much of a bad value a message repeats
+_BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
+
+
+def _quote(text: str) -> str:
+    """A TOML basic string: quotes, backslashes, line breaks and control characters escaped."""
+    out = []
+    for c in text:
+        if c in '"\\':
+            out.append("\\" + c)
+        elif c.isprintable():
+            out.append(c)
+        elif ord(c) <= 0xFFFF:
+            out.append(f"\\u{ord(c):04X}")
+        else:
+            out.append(f"\\U{ord(c):08X}")
+    return '"' + "".join(out) + '"'
+
+
+def _key(key: object) -> str:
+    """A key as TOML writes it: bare when it can be, else quoted."""
+    key = str(key)
+    return key if _BARE_KEY.match(key) else _quote(key)
+
+
+def _show_full(value: object) -> str:
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, str):
-        return '"' + value.replace("\\", "\\\\").replace('"', '\\"') + '"'
+        return _quote(value)
     if isinstance(value, (list, tuple)):
-        return "[" + ", ".join(_show(v) for v in value) + "]"
+        return "[" + ", ".join(_show_full(v) for v in value) + "]"
     if isinstance(value, dict):
-        return "{" + ", ".join(f"{k} = {_show(v)}" for k, v in value.items()) + "}"
+        return "{" + ", ".join(f"{_key(k)} = {_show_full(v)}" for k, v in value.items()) + "}"
     return str(value)
+
+
+def _show(value: object, limit: int = SHOWN_CHARS) -> str:
+    """A value as it would be written in TOML, on one line, cut to about ``limit`` characters."""
+    text = _show_full(value)
+    return text if len(text) <= limit else text[: limit - 1] + "…"
 
 
 @dataclass(frozen=True)
@@ -313,7 +349,9 @@ class _Where:
 
     def fail(self, key: str, value: object, constraint: str, fix: str | None = None) -> InputError:
         where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
-        text = f"{where}{key}={_show(value)}: {constraint}"
+        shown_key = _key(key)
+        shown_key = shown_key if len(shown_key) <= SHOWN_CHARS else shown_key[: SHOWN_CHARS - 1] + "…"
+        text = f"{where}{shown_key}={_show(value)}: {constraint}"
         return InputError(f"{text}; {fix}" if fix else text)
 
     def missing(self, key: str, fix: str) -> InputError:
@@ -381,22 +419,22 @@ def load_phrase(path: str | Path) -> Phrase:
     InputError
         One line naming the file, table, ``key=value`` and the constraint.
     """
-    p = Path(path)
+    from render.design import decode_toml_text, read_file_bytes
+
     name = str(path)
     try:
-        raw = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{name}: no such file; give the path of a phrase file (.toml)") from None
-    except IsADirectoryError:
-        raise InputError(f"{name}: is a folder; give the path of a phrase file (.toml)") from None
-    except OSError as e:
-        raise InputError(f"{name}: cannot be read ({e.strerror}); check the path and its permissions") from None
+        raw = read_file_bytes(path, limit=MAX_PHRASE_BYTES, what="a phrase file")
+    except InputError as e:
+        raise InputError(str(e).replace("; check the path", "; give the path of a phrase file (.toml)", 1)) from None
+    text = decode_toml_text(raw, name, not_utf8="is not UTF-8 text", fix="a phrase file is TOML text saved as UTF-8")
+    if "\x00" in text:
+        raise InputError(f"{name}: contains NUL bytes; a phrase file is TOML text")
     try:
-        data = tomllib.loads(raw.decode("utf-8"))
-    except UnicodeDecodeError:
-        raise InputError(f"{name}: is not UTF-8 text; a phrase file is TOML text") from None
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
         raise InputError(f"{name}: is not valid TOML ({e}); fix the syntax") from None
+    except RecursionError:
+        raise InputError(f"{name}: arrays or tables nested too deeply to read; a phrase needs three levels at most") from None
     return parse_phrase(data, source=name)
 
 

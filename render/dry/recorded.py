@@ -13,6 +13,7 @@ temporary file beside the target, flushed to disk, then renamed over it.
 from __future__ import annotations
 
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -23,10 +24,120 @@ from render.errors import InputError
 # equal ones in a row as a clipped (flat) top (common practice, no source).
 CLIP_LEVEL = 0.999
 CLIP_RUN = 4
+# The longest recording read, as for a phrase; anything longer is refused
+# before it is read (a render holds the whole signal in memory).
+MAX_SECONDS = 600.0
+# Sample rates a file's header may declare; outside them the header is damaged.
+MIN_FILE_RATE, MAX_FILE_RATE = 1000, 768000
+# A plucked string moves at a few m/s; a peak far above this means a wrong
+# --velocity-scale or a file at the wrong level (common practice, no source).
+PLAUSIBLE_VELOCITY = 100.0
+# Declared sizes that mean "unknown" in a WAV written while recording.
+_UNKNOWN_SIZES = (0, 0xFFFFFFFF)
+
+
+def _wav_shortfall(p: Path) -> tuple[int, int] | None:
+    """(declared, present) bytes of a RIFF WAVE file's data chunk when the file is cut short; else None."""
+    size = p.stat().st_size
+    with open(p, "rb") as fh:
+        head = fh.read(12)
+        if len(head) < 12 or head[:4] != b"RIFF" or head[8:12] != b"WAVE":
+            return None
+        pos = 12
+        while pos + 8 <= size:
+            fh.seek(pos)
+            chunk = fh.read(8)
+            if len(chunk) < 8:
+                return None
+            ident, length = chunk[:4], int.from_bytes(chunk[4:], "little")
+            if ident == b"data":
+                present = size - pos - 8
+                if length not in _UNKNOWN_SIZES and length > present:
+                    return length, present
+                return None
+            pos += 8 + length + (length & 1)
+    return None
+
+
+def _looks_like_text(p: Path) -> bool:
+    with open(p, "rb") as fh:
+        head = fh.read(512)
+    if not head or b"\x00" in head:
+        return False
+    try:
+        head.decode("utf-8")
+    except UnicodeDecodeError as e:
+        return e.start >= len(head) - 3  # a character cut by the 512-byte window
+    return True
 
 
 
-def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0) -> tuple[np.ndarray, list[str]]:
+def _reason(e: Exception) -> str:
+    """libsndfile's own reason, without the file name it repeats."""
+    text = str(e).strip().splitlines()[-1] if str(e).strip() else type(e).__name__
+    return re.sub(r"^Error opening .*?: ", "", text)
+
+
+def check_recorded(path: str | Path, *, max_seconds: float | None = MAX_SECONDS) -> tuple[int, int, int]:
+    """(channels, sample_rate, frames) of a recorded file that can be used; InputError (one line) if not.
+
+    Refuses: no such file, a folder, a device or pipe, a WAV cut short (its
+    header declares more audio than the file holds), anything libsndfile
+    cannot open (with a hint when it is a text file), more than two
+    channels, a header sample rate outside 1 kHz to 768 kHz (a damaged
+    header), no frames, and with ``max_seconds`` a file longer than that.
+    """
+    import soundfile as sf
+
+    name = str(path)
+    p = Path(path)
+    if not p.exists():
+        raise InputError(f"{name}: no such file; give the path of an audio file (WAV, FLAC, ...)")
+    if p.is_dir():
+        raise InputError(f"{name}: is a folder; give the path of an audio file (WAV, FLAC, ...)")
+    if not p.is_file():
+        raise InputError(f"{name}: is not a regular file (a device or a pipe?); give an audio file saved on disk")
+    try:
+        if p.stat().st_size == 0:
+            raise InputError(f"{name}: is empty (0 bytes); record or export it again")
+        short = _wav_shortfall(p)
+        text = _looks_like_text(p)
+    except OSError as e:
+        raise InputError(f"{name}: cannot be read ({e.strerror}); check the path and its permissions") from None
+    if short:
+        raise InputError(
+            f"{name}: cut short: its header declares {short[0]} bytes of audio but the file holds {short[1]}; "
+            "the copy or export stopped early, so copy or export it again"
+        )
+    try:
+        info = sf.info(name)
+    except (sf.LibsndfileError, RuntimeError, TypeError, ValueError, OSError) as e:
+        hint = "; it holds text, and a phrase file must end in .toml" if text else ""
+        raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC{hint}") from None
+    channels, rate, frames = int(info.channels), int(info.samplerate), int(info.frames)
+    if channels > 2:
+        raise InputError(
+            f"{name}: channels={channels}: at most 2 (mono feeds both coils, two channels feed coil_a and coil_b); "
+            "mix down or split the file"
+        )
+    if not MIN_FILE_RATE <= rate <= MAX_FILE_RATE:
+        raise InputError(
+            f"{name}: samplerate={rate} in its header: expected {MIN_FILE_RATE} to {MAX_FILE_RATE} Hz; "
+            "the header is probably damaged, export the file again"
+        )
+    if frames <= 0:
+        raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
+    if max_seconds is not None and frames > max_seconds * rate:
+        raise InputError(
+            f"{name}: {frames / rate:.1f} s long: at most {max_seconds:g} s of a recording is read at once; "
+            "cut out the part you want to hear"
+        )
+    return channels, rate, frames
+
+
+def load_recorded(
+    path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None
+) -> tuple[np.ndarray, list[str]]:
     """Read a recorded string-velocity signal for both coils.
 
     Parameters
@@ -37,6 +148,10 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
         The rate to return; the file is resampled (soxr, very high quality) if it differs.
     velocity_scale : float, m/s per unit sample, > 0
         Full scale of the file.
+    seconds : float or None, s
+        Read only about this much of the file (a little more, for the
+        resampler); the caller cuts the result to length. None reads it all,
+        up to :data:`MAX_SECONDS`.
 
     Returns
     -------
@@ -46,7 +161,7 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
     Raises
     ------
     InputError
-        Unreadable, empty, more than two channels, NaN or infinite samples,
+        Everything :func:`check_recorded` refuses, NaN or infinite samples,
         or a bad ``sample_rate`` / ``velocity_scale``.
     """
     import soundfile as sf
@@ -57,26 +172,16 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
         raise InputError(f"sample_rate={sample_rate!r}: must be a whole number of Hz from 1000 to 768000; 48000 is usual")
     if isinstance(velocity_scale, bool) or not isinstance(velocity_scale, (int, float)) or not (math.isfinite(velocity_scale) and velocity_scale > 0):
         raise InputError(f"velocity_scale={velocity_scale!r}: must be a number > 0 (m/s at full scale)")
-    p = Path(path)
-    if not p.exists():
-        raise InputError(f"{name}: no such file; give the path of an audio file (WAV, FLAC, ...)")
-    if p.is_dir():
-        raise InputError(f"{name}: is a folder; give the path of an audio file (WAV, FLAC, ...)")
+    if seconds is not None and not (isinstance(seconds, (int, float)) and 0 < seconds <= MAX_SECONDS):
+        raise InputError(f"seconds={seconds!r}: the length must be > 0 s and <= {MAX_SECONDS:g} s")
+    channels, rate, frames = check_recorded(path, max_seconds=None if seconds is not None else MAX_SECONDS)
+    wanted = frames if seconds is None else min(frames, int(math.ceil(seconds * rate)) + rate // 10 + 64)  # 0.1 s more for the resampler
     try:
-        with sf.SoundFile(str(p)) as f:
-            channels, rate, frames = f.channels, f.samplerate, f.frames
-            if channels > 2:
-                raise InputError(
-                    f"{name}: channels={channels}: at most 2 (mono feeds both coils, two channels feed coil_a and coil_b); "
-                    "mix down or split the file"
-                )
-            data = f.read(dtype="float64", always_2d=True)
-    except InputError:
-        raise
-    except (sf.LibsndfileError, RuntimeError, TypeError, ValueError) as e:
-        reason = str(e).strip().splitlines()[-1] if str(e).strip() else type(e).__name__
-        raise InputError(f"{name}: cannot be read as audio ({reason}); convert it to WAV or FLAC") from None
-    if frames == 0 or data.shape[0] == 0:
+        with sf.SoundFile(name) as f:
+            data = f.read(wanted, dtype="float64", always_2d=True)
+    except (sf.LibsndfileError, RuntimeError, TypeError, ValueError, OSError) as e:
+        raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC") from None
+    if data.shape[0] == 0:
         raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
     bad = ~np.isfinite(data)
     if bad.any():
@@ -87,6 +192,12 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
         )
 
     warnings = []
+    peak = float(np.max(np.abs(data))) * float(velocity_scale)
+    if peak > PLAUSIBLE_VELOCITY:
+        warnings.append(
+            f"{name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={velocity_scale:g}) is far beyond "
+            f"a plucked string's few m/s; check --velocity-scale and the file's level"
+        )
     runs, first = _clip_runs(data)
     if runs:
         warnings.append(

@@ -2,17 +2,72 @@
 
 A file under its final name is therefore always complete: an interrupted
 or failed command leaves at most a ``.tmp-*`` file, which is removed when
-the failure is seen.
+the failure is seen (a killed process cannot remove it; the name shows
+what it was, and it is never mistaken for an output).
+
+Without ``overwrite`` the temporary file is hard-linked to the final name,
+which fails if a file of that name appeared meanwhile, so nothing is ever
+replaced unasked; where the file system has no hard links it falls back to
+a rename after a second look. After the rename the folder itself is
+fsynced, so the new name survives a power cut as well as the data.
 """
 
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import tempfile
 from pathlib import Path
 
 from ..errors import InputError
+
+# What to do about a failed write, by errno.
+_FIXES = {
+    errno.ENOSPC: "free some disk space or choose another folder",
+    errno.EDQUOT: "free some space within your disk quota or choose another folder",
+    errno.EFBIG: "the file is too large for this file system; choose another folder",
+    errno.EACCES: "check the folder's permissions or choose another folder",
+    errno.EPERM: "check the folder's permissions or choose another folder",
+    errno.EROFS: "the file system is read-only; choose another folder",
+}
+_DEFAULT_FIX = "check free space and permissions"
+
+
+def _failure(path, exc: OSError) -> InputError:
+    reason = exc.strerror or type(exc).__name__
+    return InputError(f"{path}: could not be written ({reason}); {_FIXES.get(exc.errno, _DEFAULT_FIX)}")
+
+
+def _exists(path: Path) -> InputError:
+    return InputError(f"{path}: exists; pass --overwrite to replace it or choose another name")
+
+
+def _fsync_folder(folder: Path) -> None:
+    """Make a rename in ``folder`` durable; some file systems refuse, which changes nothing here."""
+    with contextlib.suppress(OSError):
+        fd = os.open(folder, os.O_RDONLY)
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+
+
+def _publish(tmp: Path, path: Path, *, overwrite: bool) -> None:
+    """Give the complete temporary file its final name."""
+    if overwrite:
+        os.replace(tmp, path)
+        return
+    try:
+        os.link(tmp, path)  # fails with EEXIST if the name was taken meanwhile: never replaces
+    except FileExistsError:
+        raise _exists(path) from None
+    except OSError as exc:
+        if exc.errno not in (errno.EPERM, errno.ENOTSUP, errno.EOPNOTSUPP, errno.EXDEV, errno.EMLINK, errno.ENOSYS):
+            raise
+        if path.exists():  # no hard links here: look again, then rename
+            raise _exists(path) from None
+        os.replace(tmp, path)
 
 
 @contextlib.contextmanager
@@ -20,20 +75,22 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
     """Yield a temporary path beside ``path``; on success rename it to ``path``.
 
     Raises InputError if ``path`` exists and ``overwrite`` is false, or if
-    the folder cannot be written.
+    the folder cannot be written; an OSError while the body writes the
+    temporary file (a full disk, say) becomes an InputError too, and the
+    temporary file is removed in every case.
     """
     path = Path(path)
     if path.is_dir():
         raise InputError(f"{path}: is a folder; give a file name to write")
     if path.exists() and not overwrite:
-        raise InputError(f"{path}: exists; pass --overwrite to replace it or choose another name")
+        raise _exists(path)
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise InputError(f"{folder}: folder does not exist; create it first or choose another path")
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".tmp-{path.name}.", dir=folder)
     except OSError as exc:
-        raise InputError(f"{folder}: cannot write here ({exc.strerror}); choose another folder") from None
+        raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno, 'choose another folder')}") from None
     os.close(fd)
     tmp = Path(tmp)
     try:
@@ -41,11 +98,12 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
         with open(tmp, "rb+") as fh:
             os.fsync(fh.fileno())
         os.chmod(tmp, 0o644)  # mkstemp makes 0600; give the usual rw-r--r--
-        os.replace(tmp, path)
+        _publish(tmp, path, overwrite=overwrite)
+        _fsync_folder(folder)
     except OSError as exc:
-        raise InputError(f"{path}: could not be written ({exc.strerror}); check free space and permissions") from None
+        raise _failure(path, exc) from None
     finally:
-        with contextlib.suppress(FileNotFoundError):
+        with contextlib.suppress(OSError):
             tmp.unlink()
 
 
