@@ -141,12 +141,21 @@ def render_design(design, dry_path, settings: Settings) -> Clip:
         from .analysis.noise import noise_waveform
 
         n = volts.size
-        volts = volts + noise_waveform(design, n=n, sample_rate=settings.sample_rate, seed=settings.seed)
+        floor = noise_waveform(design, n=n, sample_rate=settings.sample_rate, seed=settings.seed)
+        rms = float(np.sqrt(np.mean(floor**2))) if n else 0.0
+        if rms > 0.1 * min(design.headroom_up_v, design.headroom_down_v):
+            warnings_noise = (f"the noise floor alone is {rms:.3g} V rms at the amp input, beyond a tenth of the headroom; "
+                              "this design's own noise would drive the amplifier into its limits, which the render (noise added after the limit) does not show",)
+        else:
+            warnings_noise = ()
+        volts = volts + floor
         if passive is not None:
             passive = passive + noise_waveform(design, n=n, sample_rate=settings.sample_rate, seed=settings.seed, passive=True)
-    warnings = tuple(dry.warnings) + tuple(r.get("warnings", ()))
+    warnings = tuple(dry.warnings) + tuple(r.get("warnings", ())) + (warnings_noise if settings.noise else ())
     if not np.all(np.isfinite(volts)):
-        raise FloatingPointError(f"{design.name}: the render is not finite; the design's filters may be unstable at {settings.sample_rate} Hz")
+        from .errors import InputError
+
+        raise InputError(f"{design.source}: the render of {design.name} is not finite; its filters may be unstable at {settings.sample_rate} Hz: check the part values at the ends of their ranges")
     return Clip(
         design=design,
         volts=volts,

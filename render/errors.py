@@ -9,5 +9,11 @@ class InputError(ValueError):
     """Bad input from a file or an option: the message is one complete line.
 
     Messages follow one form: what was wrong as ``name=value``, the
-    constraint it broke, and where possible how to fix it.
+    constraint it broke, and where possible how to fix it. Line breaks that
+    slip in (a file name with a newline in it, say) are shown escaped, so
+    the message stays one line whatever it quotes.
     """
+
+    def __str__(self) -> str:
+        text = super().__str__()
+        return text.replace("\r", "\\r").replace("\n", "\\n")

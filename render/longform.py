@@ -32,23 +32,10 @@ BLOCK = 65536  # frames per block
 
 
 def recorded_info(path):
-    """(channels, sample_rate, frames) of an audio file, refusing what cannot be used."""
-    import soundfile as sf
+    """(channels, sample_rate, frames) of an audio file, refusing what cannot be used (any length)."""
+    from .dry.recorded import check_recorded
 
-    name = str(path)
-    p = Path(path)
-    if not p.is_file():
-        raise InputError(f"{name}: no such file; give the path of an audio file (WAV, FLAC, ...)")
-    try:
-        info = sf.info(name)
-    except (sf.LibsndfileError, RuntimeError, TypeError, ValueError) as e:
-        reason = str(e).strip().splitlines()[-1] if str(e).strip() else type(e).__name__
-        raise InputError(f"{name}: cannot be read as audio ({reason}); convert it to WAV or FLAC") from None
-    if info.channels > 2:
-        raise InputError(f"{name}: channels={info.channels}: at most 2 (mono feeds both coils, two channels feed coil_a and coil_b); mix down or split the file")
-    if info.frames == 0:
-        raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
-    return info.channels, info.samplerate, info.frames
+    return check_recorded(path, max_seconds=None)
 
 
 def iter_recorded(path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None, block: int = BLOCK):
@@ -103,11 +90,22 @@ class WavStream:
         self.path = Path(path)
         if self.path.exists() and not overwrite:
             raise InputError(f"{self.path}: exists; pass --overwrite to replace it or choose another name")
-        fd, tmp = tempfile.mkstemp(prefix=f".tmp-{self.path.name}.", dir=self.path.parent)
+        try:
+            fd, tmp = tempfile.mkstemp(prefix=f".tmp-{self.path.name}.", dir=self.path.parent)
+        except OSError as e:
+            raise InputError(f"{self.path.parent}: cannot write here ({e.strerror}); choose another folder") from None
         self._f = os.fdopen(fd, "wb")
         self.tmp = Path(tmp)
         self.sample_rate, self.channels, self.frames = int(sample_rate), int(channels), 0
-        self._f.write(self._header(0))
+        self._guard(lambda: self._f.write(self._header(0)))
+
+    def _guard(self, step):
+        """Run one file operation; an OSError removes the temporary file and becomes one line."""
+        try:
+            return step()
+        except OSError as e:
+            self.abort()
+            raise InputError(f"{self.path}: could not be written ({e.strerror}); free some disk space or choose another folder") from None
 
     def _header(self, frames: int) -> bytes:
         block = 4 * self.channels
@@ -122,22 +120,26 @@ class WavStream:
         a = a[None, :] if a.ndim == 1 else a
         if not np.isfinite(a).all():
             raise ValueError("data holds NaN or infinite samples; a WAV must be finite")
-        self._f.write(np.ascontiguousarray(a.T).astype("<f4").tobytes())
+        self._guard(lambda: self._f.write(np.ascontiguousarray(a.T).astype("<f4").tobytes()))
         self.frames += a.shape[1]
 
     def close(self) -> Path:
-        if (self.frames * 4 * self.channels) % 2:
-            self._f.write(b"\0")
         if self.frames * 4 * self.channels >= 2**32 - 64:
             self.abort()
             raise InputError(f"{self.path}: {self.frames} frames is too long for one WAV file (4 GiB at most); render a shorter --seconds")
-        self._f.seek(0)
-        self._f.write(self._header(self.frames))
-        self._f.flush()
-        os.fsync(self._f.fileno())
-        self._f.close()
-        os.chmod(self.tmp, 0o644)
-        os.replace(self.tmp, self.path)
+
+        def finish():
+            if (self.frames * 4 * self.channels) % 2:
+                self._f.write(b"\0")
+            self._f.seek(0)
+            self._f.write(self._header(self.frames))
+            self._f.flush()
+            os.fsync(self._f.fileno())
+            self._f.close()
+            os.chmod(self.tmp, 0o644)
+            os.replace(self.tmp, self.path)
+
+        self._guard(finish)
         return self.path
 
     def abort(self) -> None:

@@ -75,6 +75,11 @@ _NUMBER_RE = re.compile(rf"^{_NUMBER}$")
 _RKM_RE = re.compile(r"^(\d*)([A-Za-zµμ])(\d+)$")
 
 
+def _a(kind: "Kind") -> str:
+    """The kind's name with its article: "a resistance", "an inductance"."""
+    return ("an " if kind.name[:1] in "aeiou" else "a ") + kind.name
+
+
 class QuantityError(ValueError):
     """A value that is not a quantity of the expected kind (message: the reason)."""
 
@@ -112,7 +117,7 @@ def parse_quantity(value: object, kind: Kind) -> float:
         If the value cannot be read as that kind.
     """
     if isinstance(value, bool):
-        raise QuantityError(f"expected a {kind.name}, got a true/false value")
+        raise QuantityError(f"expected {_a(kind)}, got a true/false value")
     if isinstance(value, (int, float)):
         try:
             x = float(value)
@@ -122,13 +127,13 @@ def parse_quantity(value: object, kind: Kind) -> float:
             raise QuantityError(f"expected a finite {kind.name}")
         return x
     if not isinstance(value, str):
-        raise QuantityError(f"expected a {kind.name} as a number or a string like {example(kind)}")
+        raise QuantityError(f"expected {_a(kind)} as a number or a string like {example(kind)}")
     text = value.strip()
     for space in _SPACES:
         text = text.replace(space, "")
     text = text.replace("\u2126", "Ω")  # OHM SIGN, as some keyboards give it, is the Greek capital omega
     if not text:
-        raise QuantityError(f"expected a {kind.name}, got an empty string")
+        raise QuantityError(f"expected {_a(kind)}, got an empty string")
     _refuse_odd_characters(text, kind)
     body = text
     for sym in sorted(kind.symbols, key=len, reverse=True):
@@ -139,23 +144,23 @@ def parse_quantity(value: object, kind: Kind) -> float:
         # A unit symbol of another kind at the end is the wrong unit.
         other = _foreign_unit(text, kind)
         if other:
-            raise QuantityError(f"unit '{other}' does not fit a {kind.name} (expected {kind.unit or 'a plain number'})")
+            raise QuantityError(f"unit '{other}' does not fit {_a(kind)} (expected {kind.unit or 'a plain number'})")
     if _NUMBER_RE.match(body):
         return _finite(float(body), kind)
     # number followed by one prefix letter
     prefixes = {**PREFIXES, "c": -2} if kind.symbols and kind.symbols[0] in ("m", "m²") else PREFIXES
     if len(body) >= 2 and body[-1] in prefixes and _NUMBER_RE.match(body[:-1]):
         if "e" in body[:-1].lower():  # "1e3k": float("1e3e3") would raise a bare ValueError
-            raise QuantityError(f"cannot read {shown(value)} as a {kind.name}: use an exponent or a prefix, not both (e.g. \"4.7e3\" or \"4.7k\")")
+            raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}: use an exponent or a prefix, not both (e.g. \"4.7e3\" or \"4.7k\")")
         return _finite(float(f"{body[:-1]}e{prefixes[body[-1]] * kind.power}"), kind)
     # RKM: the letter stands for the decimal point
     m = _RKM_RE.match(body)
     if m and kind.rkm and m.group(2) in RKM_LETTERS and (m.group(1) or m.group(2) in "RE"):
         whole, letter, frac = m.groups()
         if letter in "RE" and kind is not RESISTANCE and kind.name != "resistance":
-            raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not a {kind.name}")
+            raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not {_a(kind)}")
         return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
-    raise QuantityError(f"cannot read {shown(value)} as a {kind.name}; write it like {example(kind)}")
+    raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}; write it like {example(kind)}")
 
 
 # Spaces a value may carry between number, prefix and unit: the plain space,
@@ -177,7 +182,7 @@ def _refuse_odd_characters(text: str, kind: Kind) -> None:
             raise QuantityError(f"{code} ({name}) is not an ASCII digit; write the number with the digits 0-9")
         if not c.isprintable() or unicodedata.category(c) in ("Cf", "Zs", "Zl", "Zp", "Mn"):
             raise QuantityError(f"holds the invisible character {code} ({name}); delete the value and type it again")
-        raise QuantityError(f"{code} ({name}) cannot be part of a {kind.name}; write it like {example(kind)}")
+        raise QuantityError(f"{code} ({name}) cannot be part of {_a(kind)}; write it like {example(kind)}")
 
 
 def _finite(x: float, kind: Kind) -> float:

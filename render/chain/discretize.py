@@ -62,11 +62,17 @@ def band_edges(sample_rate: float) -> tuple[float, float]:
     return min(INNER_HZ, 0.8 * band), band
 
 
-def pole_warnings(poles_z, *, what: str = "filter") -> tuple[str, ...]:
-    """Warnings for digital poles (complex, any shape) with radius above 1 − 1e-9."""
+def pole_warnings(poles_z, *, what: str = "filter", sample_rate: float | None = None) -> tuple[str, ...]:
+    """Warnings for digital poles (complex, any shape) with radius above 1 − 1e-9.
+
+    The radius r is given as 1 − r (r itself prints as 1.000…), and with
+    ``sample_rate`` as the mode's time constant −1/(fs·ln r).
+    """
     r = np.abs(np.asarray(poles_z, dtype=complex))
     if r.size and r.max() > NEAR_UNSTABLE:
-        return (f"{what}: a digital pole has radius {r.max():.12f} > 1 − 1e-9 (close to instability; very slow mode)",)
+        top = float(r.max())
+        tau = f", a time constant of {-1.0 / (sample_rate * np.log(top)):.3g} s" if sample_rate and top < 1 else ""
+        return (f"{what}: a digital pole has radius 1 − {1 - top:.2g} (above 1 − 1e-9: close to instability, a very slow mode{tau}); check the parts that set the slowest corner",)
     return ()
 
 
@@ -95,7 +101,7 @@ def bilinear_sections(zeros, poles, gain, *, sample_rate: float, prewarp_hz: flo
         fs = np.pi * float(prewarp_hz) / np.tan(w)  # s = 2·fs'·(z − 1)/(z + 1) maps prewarp_hz onto itself
     zd, pd, kd = ss.bilinear_zpk(np.asarray(zeros, complex), np.asarray(poles, complex), float(gain), fs)
     sos = ss.zpk2sos(zd, pd, kd)
-    return sos, pole_warnings(pd, what="bilinear sections")
+    return sos, pole_warnings(pd, what="bilinear sections", sample_rate=sample_rate)
 
 
 def analog_response(zeros, poles, gain, frequency_hz) -> np.ndarray:
@@ -224,7 +230,7 @@ def discretize(zeros, poles, gain, *, sample_rate: float, delay: int = DEFAULT_D
             best = cand
             break
     err, ph, c = best
-    warns = list(pole_warnings(pd, what=what))
+    warns = list(pole_warnings(pd, what=what, sample_rate=sample_rate))
     if err[0] > CONTRACT_DB[0] or err[1] > CONTRACT_DB[1]:
         warns.append(
             f"{what}: digital response misses the analog one by {err[0]:.3f} dB to {inner / 1e3:g} kHz "

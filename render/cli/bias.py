@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from .options import emit_json, friendly, json_option, overwrite_option, rig_option
+from .options import make_folder, emit_json, friendly, json_option, overwrite_option, rig_option
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
 REALISTIC_VELOCITY = 20.0  # m/s peak string velocity (common practice, no source)
@@ -145,7 +145,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     out = None
     if not no_clips:
         out = prepare_out(out_dir, overwrite, prefix="bias")
-        out.mkdir(parents=True, exist_ok=True)
+        make_folder(out)
         dry = Path(dry_path) if dry_path else DEFAULT_DRY
         if not dry.exists():
             raise InputError(f"--dry={dry}: no such file")

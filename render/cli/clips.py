@@ -9,7 +9,7 @@ from pathlib import Path
 
 import click
 
-from .options import friendly, overwrite_option, rig_option
+from .options import friendly, make_folder, overwrite_option, rig_option
 
 CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
 
@@ -124,6 +124,16 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     dry = Path(dry_path) if dry_path else DEFAULT_DRY
     if not dry.exists():
         raise InputError(f"--dry={dry}: no such file; give a phrase (.toml) or an audio file" + ("" if dry_path else " (run from the project folder for the default phrase)"))
+    if dry.suffix.lower() == ".toml":
+        from ..dry.phrase import load_phrase
+
+        load_phrase(dry)  # refuse a bad phrase before any folder is made
+        if seconds is not None and seconds > 600:
+            raise InputError(f"--seconds={seconds:g}: a phrase renders in memory, at most 600 s; for longer takes use a recording")
+    elif not from_di:
+        from ..dry.recorded import check_recorded
+
+        check_recorded(dry, max_seconds=None)
     designs, rig = load_designs(models, rig_path)
     stems = [Path(d.source).stem for d in designs]
     if len(set(stems)) != len(stems):
@@ -145,9 +155,12 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             # a long recording: rendered, measured and written block by block in bounded memory,
             # at a full scale fixed in advance from the designs' output windows
             vfs = volts_full_scale or window_full_scale(designs)
-            out.mkdir(parents=True, exist_ok=True)
+            make_folder(out)
             kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": _rig_values(d)}, plots=plots) for stem, d in zip(stems, designs)]
             records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws)
+            for r in records:
+                for w in r["warnings"]:
+                    click.echo(f"warning: {r['design']}: {w}", err=True)
             from ..report.atomic import write_text
             from ..report.clips import summary_markdown
 
@@ -155,7 +168,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             click.echo(f"{len(records)} clip{'s' if len(records) != 1 else ''} of {length:.0f} s rendered block by block to {out}/ (full scale {vfs:g} V, fixed from the output windows; summary in {out / 'summary.md'})")
             click.echo(CAUTION)
             return
-    out.mkdir(parents=True, exist_ok=True)
+    make_folder(out)
     clips = render_all(designs, dry, settings, jobs, extra=[(out, stem) if plots else None for stem in stems])
     peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
     vfs = volts_full_scale or choose_full_scale(peaks)

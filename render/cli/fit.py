@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from .options import friendly, overwrite_option, rig_option
+from .options import make_folder, friendly, overwrite_option, rig_option
 
 
 def _fig(v, name):
@@ -57,7 +57,7 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, overwrite):
     from ..analysis.figures import figures
 
     start_fig = figures([start])[0]
-    out.mkdir(parents=True, exist_ok=True)
+    make_folder(out)
     text = start_file.read_text(encoding="utf-8")
     stem = start_file.stem
     records, written = [], []

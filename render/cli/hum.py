@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .options import check_new, emit_json, friendly, json_option, load_designs, overwrite_option, rig_option
+from .options import make_folder, check_new, emit_json, friendly, json_option, load_designs, overwrite_option, rig_option
 
 
 def _percent(text, name):
@@ -115,7 +115,7 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
         from .clips import prepare_out
 
         out = prepare_out(out_dir, overwrite)
-        out.mkdir(parents=True, exist_ok=True)
+        make_folder(out)
     records = []
     for i, d in enumerate(designs):
         t = hum_table(d)

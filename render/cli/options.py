@@ -70,3 +70,13 @@ def check_new(paths, overwrite):
     for p in paths:
         if p and p != "-" and Path(p).exists() and not overwrite:
             raise InputError(f"{p}: exists; pass --overwrite to replace it or choose another name")
+
+
+def make_folder(path) -> Path:
+    """Create an output folder (and its parents); an OSError becomes one line."""
+    p = Path(path)
+    try:
+        p.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise InputError(f"--out={p}: cannot create it ({e.strerror}); choose another folder") from None
+    return p

@@ -94,7 +94,7 @@ def dry_velocity(
             velocity = np.vstack([velocity, velocity])
         info = describe(phrase) | {"seed": int(seed)}
         return DrySignal(velocity=velocity, sample_rate=int(sample_rate), warnings=(), description=info)
-    velocity, warnings = load_recorded(p, sample_rate=sample_rate, velocity_scale=velocity_scale)
+    velocity, warnings = load_recorded(p, sample_rate=sample_rate, velocity_scale=velocity_scale, seconds=seconds)
     if seconds is not None:
         if not (isinstance(seconds, (int, float)) and 0 < seconds <= 3600):
             raise InputError(f"seconds={seconds!r}: the length must be > 0 s and <= 3600 s")

@@ -58,8 +58,8 @@ def test_check_refuses_to_overwrite(tmp_path):
 
 BAD = [
     # (old text, new text, expected message fragment)
-    ('inductance = "350mH"', 'inductance = "350mF"', "unit 'F' does not fit a inductance"),
-    ('inductance = "350mH"', 'inductance = "lots"', "cannot read 'lots' as a inductance"),
+    ('inductance = "350mH"', 'inductance = "350mF"', "unit 'F' does not fit an inductance"),
+    ('inductance = "350mH"', 'inductance = "lots"', "cannot read 'lots' as an inductance"),
     ('inductance = "350mH"', "inductance = -0.35", "must not be negative"),
     ('resistance = "520R"', "resistance = 0", "expected a plausible value"),
     ('series_r = "22k"', 'series_r = "22m"', '"m" is milli; for mega write "22M"'),

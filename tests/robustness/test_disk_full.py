@@ -153,7 +153,6 @@ def test_a_process_killed_in_the_middle_of_a_write_leaves_no_final_name(tmp_path
     assert target.read_bytes() == b"whole"
 
 
-@pytest.mark.xfail(reason="render/cli/clips.py creates --out with Path.mkdir outside any handler, so an OSError there is a traceback", strict=False)
 def test_an_output_folder_that_cannot_be_made(tmp_path, monkeypatch):
     import os
 
