@@ -107,3 +107,32 @@ def test_long_recording_renders_block_by_block(tmp_path):
     ref = render_signal(load_design(REF), np.stack([x, x]).astype(float), sample_rate=fs)["out"] / rec["volts_full_scale"]
     assert np.max(np.abs(y - ref)) < 1e-6  # float32 rounding of the WAV
     assert rec["measurements"]["loudness_lufs_1v_full_scale"] == pytest.approx(integrated_loudness(ref * rec["volts_full_scale"], sample_rate=fs), abs=1e-3)
+
+
+def test_ten_minutes_render_in_bounded_memory(tmp_path):
+    # the one-hour figure lives in tests/bench/bench_render.py; this ten-minute version checks
+    # the same bound (peak resident memory under 500 MB) in the suite
+    import subprocess
+    import sys
+
+    fs = 48000
+    flac = tmp_path / "ten.flac"
+    t = np.arange(fs * 10) / fs
+    tile = (0.3 * np.sin(2 * np.pi * 196 * t) * np.exp(-(t % 2.5))).astype(np.float32)
+    with sf.SoundFile(flac, "w", samplerate=fs, channels=1, format="FLAC", subtype="PCM_16") as f:
+        for _ in range(60):
+            f.write(tile)
+    # the child reports its own peak (RUSAGE_CHILDREN would also count earlier children of this process)
+    probe = (
+        "import resource, runpy, sys\n"
+        "sys.argv = ['render'] + sys.argv[1:]\n"
+        "try:\n    runpy.run_module('render', run_name='__main__')\n"
+        "finally:\n    print('PEAK_KB', resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, file=sys.stderr)\n"
+    )
+    args = ["clips", str(REF), "--dry", str(flac), "--velocity-scale", "4", "--no-plots", "--out", str(tmp_path / "o")]
+    res = subprocess.run([sys.executable, "-c", probe, *args], capture_output=True, text=True, cwd=ROOT)
+    assert res.returncode == 0, res.stderr
+    peak_mb = int(res.stderr.split("PEAK_KB")[-1].split()[0]) / 1024
+    print(f"ten minutes: peak resident memory of the render {peak_mb:.0f} MB")
+    assert peak_mb < 500
+    assert sf.info(tmp_path / "o" / "studio-reference.wav").frames == 600 * fs
