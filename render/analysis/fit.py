@@ -454,11 +454,20 @@ def format_value(fr: Free, v: float) -> str:
     return U.format_si(v, fr.spec.kind.unit, digits=4).replace(" ", "")
 
 
-def rewrite(text: str, changes: list[tuple[Free, float, float | None]], header: str) -> str:
-    """The start design's text with each changed part's value replaced (or added) in its table."""
+def rewrite(text: str, changes: list[tuple[Free, float, float | None]], header: str, name: str | None = None) -> str:
+    """The start design's text with each changed part's value replaced (or added) in its table,
+    and its top-level ``name`` set to ``name`` (so a result never shares the start's name)."""
     import re
 
     lines = text.splitlines()
+    if name is not None:
+        first_table = next((i for i, ln in enumerate(lines) if re.match(r"^\s*\[", ln)), len(lines))
+        at = next((i for i in range(first_table) if re.match(r"^\s*name\s*=", lines[i])), None)
+        if at is None:
+            lines.insert(0, f'name = "{name}"')
+        else:
+            lines[at] = f'name = "{name}"'
+
     for fr, new, old in changes:
         value = f'"{format_value(fr, new)}"'
         note = f"   # fit: was {format_value(fr, old) if old is not None else 'absent'}"

@@ -22,9 +22,12 @@ def _fig(v, name):
 @click.option("--top", type=click.IntRange(min=1, max=20), default=3, show_default=True, help="How many results to write.")
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Folder for the results (default: outputs/fit-<fit file stem>).")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed of the global search.")
+@click.option("--render", "render_clips", is_flag=True, help="Then render clips of the start and every result into <out>/clips (render clips).")
+@click.option("--blind", "blind_session", is_flag=True, help="Then build a blind ABX session of the start against result 1 in <out>/blind (render blind).")
 @overwrite_option
+@click.pass_context
 @friendly
-def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, overwrite):
+def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_clips, blind_session, overwrite):
     """Search part values, snapped to preferred-number series, that meet FITFILE's aims.
 
     Writes the TOP best complete design files (<stem>-fit-1.toml, …) with
@@ -70,8 +73,8 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, overwrite):
             f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
             f"# changed: {summary}\n# score {r.score:.3g} ({'meets every aim' if r.meets else 'misses an aim'})\n"
         )
-        body = rewrite(text, changes, header)
         path = out / f"{stem}-fit-{rank}.toml"
+        body = rewrite(text, changes, header, name=path.stem)
         data = __import__("tomllib").loads(body)
         parse_design(data, source=str(path), name=path.stem)  # the written file must be a valid design
         write_text(path, body, overwrite=True)
@@ -95,3 +98,11 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, overwrite):
 
     response_plot(out / "fit-responses.png", f, [("start: " + start.name, h[0])] + [(f"fit {i}", h[i]) for i in range(1, len(designs))], title=f"render fit: {Path(fitfile).name}", overwrite=True)
     click.echo(f"wrote {len(written)} designs, fit.json and fit-responses.png to {out}/")
+    if render_clips:
+        from .clips import clips_command
+
+        ctx.invoke(clips_command, models=(str(start_file), *map(str, written)), rig_path=rig_path, out_dir=str(out / "clips"), overwrite=overwrite)
+    if blind_session:
+        from .blind import blind_command
+
+        ctx.invoke(blind_command, model_a=str(start_file), model_b=str(written[0]), rig_path=rig_path, out=str(out / "blind"), overwrite=overwrite)

@@ -149,3 +149,13 @@ def test_fit_refuses_unreachable_aims(tmp_path):
     assert res.exit_code == 1
     assert "out of reach with these free parts" in res.output and "peak_hz = 15000" in res.output
     assert not (tmp_path / "o").exists()
+
+
+def test_fit_can_render_and_build_a_blind_session(tmp_path):
+    out = tmp_path / "f"
+    res = run("fit", ROOT / "models" / "fits" / "brighter-reference.toml", "--out", out, "--top", 1, "--render", "--blind")
+    assert res.exit_code == 0, res.output
+    assert (out / "clips" / "studio-reference-fit-1.wav").exists() and (out / "clips" / "studio-reference.wav").exists()
+    assert (out / "blind" / "public").is_dir() and (out / "blind" / "private").is_dir()
+    # a result carries its own name, never the start's
+    assert load_design(out / "studio-reference-fit-1.toml").name == "studio-reference-fit-1"
