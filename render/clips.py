@@ -128,12 +128,21 @@ def render_passive(design, velocity: np.ndarray, *, sample_rate: float, hum: boo
     return np.concatenate([ps.process(velocity), ps.finish()])
 
 
-def render_design(design, dry_path, settings: Settings) -> Clip:
-    """Render ``design`` playing ``dry_path`` (a phrase or recorded velocity file)."""
+def sensing_key(design) -> tuple:
+    """What the dry signal depends on in a design: its two sensing points and windows."""
+    return (design.coil_a.position, design.coil_b.position, design.coil_a.aperture, design.coil_b.aperture)
+
+
+def render_design(design, dry_path, settings: Settings, *, dry=None) -> Clip:
+    """Render ``design`` playing ``dry_path`` (a phrase or recorded velocity file).
+
+    ``dry``: the dry signal already made for this design's sensing points
+    (:func:`dry_for`), when several designs share them.
+    """
     from .analysis.figures import figures
     from .chain.stream import render_signal
 
-    dry = dry_for(design, dry_path, settings)
+    dry = dry if dry is not None else dry_for(design, dry_path, settings)
     r = render_signal(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum)
     volts = r["out"]
     passive = render_passive(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum) if settings.passive else None

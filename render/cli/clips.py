@@ -18,8 +18,8 @@ def _render_one(args):
     """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel)."""
     from ..clips import render_design
 
-    design, dry, settings, plot_to = args
-    clip = render_design(design, dry, settings)
+    design, dry, settings, (plot_to, signal) = args
+    clip = render_design(design, dry, settings, dry=signal)
     if plot_to is not None:
         from ..report.clips import write_clip_plots
 
@@ -169,7 +169,14 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             click.echo(CAUTION)
             return
     make_folder(out)
-    clips = render_all(designs, dry, settings, jobs, extra=[(out, stem) if plots else None for stem in stems])
+    # designs that sense the string at the same points share one synthesised dry signal
+    from ..clips import dry_for, sensing_key
+
+    shared = {}
+    for d in designs:
+        if sensing_key(d) not in shared:
+            shared[sensing_key(d)] = dry_for(d, dry, settings)
+    clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)])
     peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
     vfs = volts_full_scale or choose_full_scale(peaks)
     records = []
