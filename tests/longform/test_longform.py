@@ -122,12 +122,15 @@ def test_ten_minutes_render_in_bounded_memory(tmp_path):
     with sf.SoundFile(flac, "w", samplerate=fs, channels=1, format="FLAC", subtype="PCM_16") as f:
         for _ in range(60):
             f.write(tile)
-    # the child reports its own peak (RUSAGE_CHILDREN would also count earlier children of this process)
+    # the child reports its own peak from /proc (VmHWM starts afresh at exec; ru_maxrss would
+    # carry the forking parent's size across exec, and RUSAGE_CHILDREN counts earlier children)
     probe = (
-        "import resource, runpy, sys\n"
+        "import runpy, sys\n"
         "sys.argv = ['render'] + sys.argv[1:]\n"
         "try:\n    runpy.run_module('render', run_name='__main__')\n"
-        "finally:\n    print('PEAK_KB', resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, file=sys.stderr)\n"
+        "finally:\n"
+        "    hwm = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0].split()[1]\n"
+        "    print('PEAK_KB', hwm, file=sys.stderr)\n"
     )
     args = ["clips", str(REF), "--dry", str(flac), "--velocity-scale", "4", "--no-plots", "--out", str(tmp_path / "o")]
     res = subprocess.run([sys.executable, "-c", probe, *args], capture_output=True, text=True, cwd=ROOT)
