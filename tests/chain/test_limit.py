@@ -1,4 +1,9 @@
-"""The soft limit, its antiderivative and the ADAA-1 form."""
+"""The soft limit, its antiderivative and the ADAA-1 form.
+
+Sources of the check values: Parker, Zavalishin & Le Bivic, DAFx-16 (ADAA-1 and its
+two-tap mean in the linear region); Fourier series algebra for the harmonic ratios; the
+asymmetric-clip figure is the project reference sheet's recomputed value (§6).
+"""
 
 import numpy as np
 import pytest

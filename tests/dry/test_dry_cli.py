@@ -1,4 +1,8 @@
-"""``render dry``: the command object driven through click's test runner."""
+"""``render dry``: the command object driven through click's test runner.
+
+Source of the numbers: the WAV full scale of 1 m/s is this tool's own convention; the
+rest are exit codes and message text (no physical check values here).
+"""
 
 from __future__ import annotations
 

@@ -1,4 +1,8 @@
-"""``render blind`` end to end (the real renderer, small inputs) and its refusals."""
+"""``render blind`` end to end (the real renderer, small inputs) and its refusals.
+
+Sources of the check values: EBU R 128 (target −23 LUFS, −1 dBTP ceiling), ITU-R BS.1770-4
+(the loudness meter, pyloudnorm), the binomial distribution for the shortest useful session.
+"""
 
 from __future__ import annotations
 

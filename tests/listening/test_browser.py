@@ -1,5 +1,8 @@
 """A real browser runs a whole ABX session: headless Chromium driven by Playwright.
 
+Source of the check value: the one-sided binomial tail P(X ≥ 3 | n = 6, p = ½) = 42/64
+(binomial distribution, as scipy.stats.binomtest).
+
 The page is loaded, the clips of each trial are fetched and decoded, played
 and switched; every trial is answered; half-way the server is stopped while
 an answer is being recorded (the page keeps it and sends it again) and then
