@@ -1,5 +1,8 @@
 """The listening server at the HTTP level: what it serves, what it refuses, what it keeps.
 
+No check values that need a source here: loopback addresses, durations, exit codes and
+message text only.
+
 Requests go over raw sockets to 127.0.0.1 so that the exact request line
 (traversal in every spelling, absolute paths, odd methods, broken bodies)
 reaches the server unaltered. Every server started here is stopped by the

@@ -1,6 +1,9 @@
 """A full disk, a refused permission, a crash in the middle of a write: one clear
 line, exit 1, and no partial file under a final name.
 
+No check values that need a source here: loopback addresses, durations, exit codes and
+message text only.
+
 The faults are made in-process by monkeypatching the file calls, not by filling
 a disk or by chmod: tests run as root in CI, where a read-only folder is still
 writable, and a tiny file system needs mount rights.

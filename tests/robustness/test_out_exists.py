@@ -1,5 +1,9 @@
 """An output that exists: refused without --overwrite before any work, and then
-nothing in it is touched (names, contents and modification times all kept)."""
+nothing in it is touched (names, contents and modification times all kept).
+
+No check values that need a source here: loopback addresses, durations, exit codes and
+message text only.
+"""
 
 from __future__ import annotations
 
