@@ -133,6 +133,15 @@ def sensing_key(design) -> tuple:
     return (design.coil_a.position, design.coil_b.position, design.coil_a.aperture, design.coil_b.aperture)
 
 
+def noise_warning(design, floor: np.ndarray) -> tuple[str, ...]:
+    """A warning when the noise floor alone (V, added after the limit) would reach a tenth of the headroom."""
+    rms = float(np.sqrt(np.mean(floor**2))) if floor.size else 0.0
+    if rms > 0.1 * min(design.headroom_up_v, design.headroom_down_v):
+        return (f"the noise floor alone is {rms:.3g} V rms at the amp input, beyond a tenth of the headroom; "
+                "this design's own noise would drive the amplifier into its limits, which the render (noise added after the limit) does not show",)
+    return ()
+
+
 def render_design(design, dry_path, settings: Settings, *, dry=None) -> Clip:
     """Render ``design`` playing ``dry_path`` (a phrase or recorded velocity file).
 
@@ -146,21 +155,17 @@ def render_design(design, dry_path, settings: Settings, *, dry=None) -> Clip:
     r = render_signal(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum)
     volts = r["out"]
     passive = render_passive(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum) if settings.passive else None
+    warnings_noise = ()
     if settings.noise:
         from .analysis.noise import noise_waveform
 
         n = volts.size
         floor = noise_waveform(design, n=n, sample_rate=settings.sample_rate, seed=settings.seed)
-        rms = float(np.sqrt(np.mean(floor**2))) if n else 0.0
-        if rms > 0.1 * min(design.headroom_up_v, design.headroom_down_v):
-            warnings_noise = (f"the noise floor alone is {rms:.3g} V rms at the amp input, beyond a tenth of the headroom; "
-                              "this design's own noise would drive the amplifier into its limits, which the render (noise added after the limit) does not show",)
-        else:
-            warnings_noise = ()
+        warnings_noise = noise_warning(design, floor)
         volts = volts + floor
         if passive is not None:
             passive = passive + noise_waveform(design, n=n, sample_rate=settings.sample_rate, seed=settings.seed, passive=True)
-    warnings = tuple(dry.warnings) + tuple(r.get("warnings", ())) + (warnings_noise if settings.noise else ())
+    warnings = tuple(dry.warnings) + tuple(r.get("warnings", ())) + warnings_noise
     if not np.all(np.isfinite(volts)):
         from .errors import InputError
 
@@ -275,18 +280,18 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
     from .longform import LoudnessStream, SpectrumStream, WavStream, iter_recorded
     from .report.atomic import write_text
 
-    from pathlib import Path
-
     out = Path(out)
     fs = settings.sample_rate
     plan = make_plan(design, sample_rate=fs)
     renderer = Renderer(plan, hum=settings.hum)
     passive = PassiveStream(design, sample_rate=fs, hum=settings.hum) if settings.passive else None
     noise = pnoise = None
+    extra_warnings = ()
     if settings.noise:
         from .analysis.noise import noise_waveform
 
         noise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed)
+        extra_warnings = noise_warning(design, noise)
         pnoise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed, passive=True) if passive else None
     wav = WavStream(out / f"{stem}.wav", sample_rate=fs, overwrite=True)
     pwav = WavStream(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
@@ -344,7 +349,7 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
         "loudness_lufs_1v_full_scale": loud.value(),
     }
     dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}
-    rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
+    rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings + extra_warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
     write_text(out / f"{stem}.json", json.dumps(rec, indent=2, allow_nan=False) + "\n", overwrite=True)
     if plots:
         from .report.clips import write_design_plots

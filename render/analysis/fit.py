@@ -22,13 +22,11 @@ from __future__ import annotations
 import difflib
 import math
 from dataclasses import dataclass, replace
-from pathlib import Path
-from typing import Any
 
 import numpy as np
 
 from .. import units as U
-from ..design import DESIGN_TABLES, Field, load_design, read_toml, read_value
+from ..design import DESIGN_TABLES, Field, read_toml, read_value
 from ..eseries import SERIES, values_between
 from ..errors import InputError
 

@@ -231,8 +231,7 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     labels = part_labels(design)
     rng = np.random.default_rng(seed)
     draws = {label: 1.0 + tol[cls] * rng.uniform(-1.0, 1.0, trials) for label, cls in labels}
-    h = np.arange(1, len(design.hum.harmonics) + 1)
-    f = h * design.hum.mains
+    f, _ = field_derivative(design.hum)
     spans = [(s, min(trials, s + chunk)) for s in range(0, trials, chunk)]
     tasks = [(design, {k: v[s:e] for k, v in draws.items()}, f) for s, e in spans]
     from ..parallel import pmap

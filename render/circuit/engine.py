@@ -19,7 +19,7 @@ import numpy as np
 
 from .coil import coil_impedance
 from .params import Params, from_designs
-from .poly import W_NORM, Rational, cascade, lin, padd, pmul, pscale, series
+from .poly import W_NORM, Rational, lin, padd, pmul, pscale, series
 from .preamp import Amplifier, amplifier, output_chain_parts
 from .rig import rig_chain
 

@@ -47,10 +47,6 @@ def padd(p: np.ndarray, q: np.ndarray) -> np.ndarray:
     return out
 
 
-def psub(p: np.ndarray, q: np.ndarray) -> np.ndarray:
-    return padd(p, -q)
-
-
 def pmul(p: np.ndarray, q: np.ndarray) -> np.ndarray:
     """p · q (batched convolution)."""
     a, b = p.shape[-1], q.shape[-1]

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from .options import make_folder, emit_json, friendly, json_option, overwrite_option, rig_option
+from .options import check_new, emit_json, friendly, json_option, load_designs, make_folder, overwrite_option, prepare_out, rig_option
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
 REALISTIC_VELOCITY = 20.0  # m/s peak string velocity (common practice, no source)
@@ -95,8 +95,6 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     from ..clips import DEFAULT_DRY, Settings, choose_full_scale
     from ..errors import InputError
     from ..units import LENGTH
-    from .clips import prepare_out
-    from .options import check_new, load_designs
 
     check_new([json_path], overwrite)
     if (tops is None) != (bottoms is None):
@@ -122,6 +120,14 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
             raise InputError(f"--strength={strength!r}: must be above 0 and at most 50 mm")
         if strength_m > REALISTIC_STRENGTH_M:
             click.echo(f"warning: --strength={strength} is far beyond realistic playing; rendering it anyway", err=True)
+    out = dry = None
+    if not no_clips:  # refuse before any work, so a refused run touches nothing
+        out = prepare_out(out_dir, overwrite, prefix="bias")
+        dry = Path(dry_path) if dry_path else DEFAULT_DRY
+        if not dry.exists():
+            raise InputError(f"--dry={dry}: no such file")
+        if strength_m is not None and dry.suffix.lower() != ".toml":
+            raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
     (design,), _ = load_designs([model], rig_path)
     settings_list = sweep(design, ratios=ratio_list, tops=tops_list, bottoms=bottoms_list, batteries=battery_list, keep_load=keep_load)
     for s in settings_list:
@@ -142,16 +148,9 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
             f" {o['velocity_up_m_per_s']:13.3f} / {o['velocity_down_m_per_s']:7.3f}      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB"
         )
     payload = {"design": design.name, "file": design.source, "keep_load": keep_load, "sine_velocity_m_per_s": ref_v, "settings": rows}
-    out = None
     if not no_clips:
-        out = prepare_out(out_dir, overwrite, prefix="bias")
         make_folder(out)
-        dry = Path(dry_path) if dry_path else DEFAULT_DRY
-        if not dry.exists():
-            raise InputError(f"--dry={dry}: no such file")
         st = Settings(seconds=seconds, seed=seed, hum=True)
-        if strength_m is not None and dry.suffix.lower() != ".toml":
-            raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
         renders = pmap(_clip, [(s.design, dry, st, strength_m) for s in settings_list], jobs)
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
         from ..report.wav import write_float_wav
@@ -178,7 +177,6 @@ def _plots(out, design, settings_list, rows, soft_limit, design_window):
 
     from ..report.plots import lines_plot, transfer_plot
 
-    x = [r["ratio"] for r in rows]
     stem = Path(design.source).stem
     batteries = sorted({r["battery_v"] for r in rows})
     series_h, series_d = [], []

@@ -4,12 +4,11 @@ from __future__ import annotations
 
 import os
 import sys
-import time
 from pathlib import Path
 
 import click
 
-from .options import friendly, make_folder, overwrite_option, rig_option
+from .options import friendly, make_folder, overwrite_option, prepare_out, rig_option
 
 CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
 
@@ -33,30 +32,6 @@ def _render_long_one(args):
 
     design, dry, settings, kw = args
     return render_design_long(design, dry, settings, **kw)
-
-
-def new_run_folder(root: Path, prefix: str = "clips") -> Path:
-    stamp = time.strftime("%Y%m%d-%H%M%S")
-    out = root / f"{prefix}-{stamp}"
-    k = 2
-    while out.exists():
-        out = root / f"{prefix}-{stamp}-{k}"
-        k += 1
-    return out
-
-
-def prepare_out(out_dir, overwrite, prefix="clips") -> Path:
-    """The output folder: refused if it exists and holds files, unless --overwrite."""
-    from ..errors import InputError
-
-    if out_dir is None:
-        return new_run_folder(Path("outputs"), prefix)
-    out = Path(out_dir)
-    if out.exists() and not out.is_dir():
-        raise InputError(f"--out={out}: is a file; give a folder")
-    if out.exists() and any(out.iterdir()) and not overwrite:
-        raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite to replace its files or choose another folder")
-    return out
 
 
 def render_all(designs, dry, settings, jobs, *, label="rendering", work=None, extra=None):

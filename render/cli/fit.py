@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from .options import make_folder, friendly, overwrite_option, rig_option
+from .options import emit_json, friendly, make_folder, overwrite_option, prepare_out, rig_option
 
 
 def _fig(v, name):
@@ -36,13 +36,12 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
     """
     import numpy as np
 
-    from ..analysis.fit import conflicts, load_fit, rewrite, run_fit
+    from ..analysis.fit import conflicts, format_value, load_fit, rewrite, run_fit
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from ..design import apply_rig, load_design, load_rig, parse_design, read_toml
+    from ..design import apply_rig, load_design, load_rig, parse_design
     from ..errors import InputError
     from ..report.atomic import write_text
-    from .options import emit_json
 
     spec = load_fit(fitfile, start_override=start_path)
     start_file = Path(spec.start_path)
@@ -50,9 +49,7 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
         start_file = Path(fitfile).parent / start_file
     rig = load_rig(rig_path) if rig_path else None
     start = apply_rig(load_design(start_file), rig)
-    out = Path(out_dir) if out_dir else Path("outputs") / f"fit-{Path(fitfile).stem}"
-    if out.exists() and any(out.iterdir()) and not overwrite:
-        raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite or choose another folder")
+    out = prepare_out(out_dir or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite)
     results, ev, start_vals = run_fit(spec, start, top=top, seed=seed)
     if not results or not results[0].meets:
         best = f" (best score {results[0].score:.3g})" if results else ""
@@ -66,8 +63,6 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
     records, written = [], []
     for rank, r in enumerate(results, 1):
         changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]
-        from ..analysis.fit import format_value
-
         summary = ", ".join(f"{fr.name} {format_value(fr, s) if s is not None else 'absent'} → {format_value(fr, v)}" for fr, v, s in changes) or "nothing"
         header = (
             f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
@@ -86,10 +81,7 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
     click.echo(head)
     for a in spec.aims:
         click.echo(f"{a.describe():34s} {_fig(start_fig[a.figure], a.figure):>10s} " + " ".join(f"{_fig(r.figures[a.figure], a.figure):>10s}" for r in results))
-    for fr, s in zip(spec.free, start_vals):
-        from ..analysis.fit import format_value
-
-        j = spec.free.index(fr)
+    for j, (fr, s) in enumerate(zip(spec.free, start_vals)):
         click.echo(f"{fr.name:34s} {format_value(fr, s) if not np.isnan(s) else '—':>10s} " + " ".join(f"{format_value(fr, r.values[j]):>10s}" for r in results))
     designs = [start] + [apply_rig(load_design(p), rig) for p in written]
     f = np.geomspace(20, 20000, 500)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .options import make_folder, check_new, emit_json, friendly, json_option, load_designs, overwrite_option, rig_option
+from .options import check_new, emit_json, friendly, json_option, load_designs, make_folder, overwrite_option, prepare_out, rig_option
 
 
 def _percent(text, name):
@@ -112,8 +112,6 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
     designs, _ = load_designs(models, rig_path)
     out = None
     if out_dir:
-        from .clips import prepare_out
-
         out = prepare_out(out_dir, overwrite)
         make_folder(out)
     records = []

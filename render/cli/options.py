@@ -6,6 +6,7 @@ import functools
 import glob
 import json
 import sys
+import time
 from pathlib import Path
 
 import click
@@ -80,3 +81,25 @@ def make_folder(path) -> Path:
     except OSError as e:
         raise InputError(f"--out={p}: cannot create it ({e.strerror}); choose another folder") from None
     return p
+
+
+def new_run_folder(root: Path, prefix: str = "clips") -> Path:
+    stamp = time.strftime("%Y%m%d-%H%M%S")
+    out = root / f"{prefix}-{stamp}"
+    k = 2
+    while out.exists():
+        out = root / f"{prefix}-{stamp}-{k}"
+        k += 1
+    return out
+
+
+def prepare_out(out_dir, overwrite, prefix="clips") -> Path:
+    """The output folder: refused if it exists and holds files, unless --overwrite."""
+    if out_dir is None:
+        return new_run_folder(Path("outputs"), prefix)
+    out = Path(out_dir)
+    if out.exists() and not out.is_dir():
+        raise InputError(f"--out={out}: is a file; give a folder")
+    if out.exists() and any(out.iterdir()) and not overwrite:
+        raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite to replace its files or choose another folder")
+    return out
