@@ -291,6 +291,11 @@ def design_grid(*, sample_rate: int, taps: int | None = None) -> np.ndarray:
     return np.fft.rfftfreq(DESIGN_OVERSAMPLE * taps, 1.0 / sample_rate)
 
 
+def interp_complex(x, frequency_hz: np.ndarray, values: np.ndarray):
+    """Complex ``values`` on ``frequency_hz`` interpolated linearly (real and imaginary parts) at ``x``."""
+    return np.interp(x, frequency_hz, values.real) + 1j * np.interp(x, frequency_hz, values.imag)
+
+
 def low_taper(frequency_hz: np.ndarray, *, low_hz: float = LOW_HZ) -> np.ndarray:
     """|2nd-order Butterworth high-pass| f²/√(f⁴ + f_low⁴), shape of ``frequency_hz``, 0..1."""
     f = np.asarray(frequency_hz, float)
@@ -330,7 +335,7 @@ def design_inverse(
         raise ValueError(f"passive has shape {h.shape}; the design grid has {f.shape}")
     if not (0.0 <= max_boost_db <= 60.0):
         raise ValueError(f"max_boost_db={max_boost_db}: must be from 0 to 60 dB")
-    ref = float(np.abs(np.interp(REFERENCE_HZ, f, h.real) + 1j * np.interp(REFERENCE_HZ, f, h.imag)))
+    ref = float(np.abs(interp_complex(REFERENCE_HZ, f, h)))
     limit = 10.0 ** (max_boost_db / 20.0) / ref
     lam = 1.0 / (2.0 * limit) ** 2
     mag2 = np.abs(h) ** 2

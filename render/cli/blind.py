@@ -18,15 +18,15 @@ import click
 
 from .options import friendly, overwrite_option, rig_option
 
-DEFAULT_DRY = Path("dry_signals") / "default.toml"
 MAX_SECONDS = 120.0  # per clip: longer clips make ABX slow and sessions large (common practice, no source)
 DRY_SEED = 0  # the phrase's small per-note variations: the same for both designs
 
 
 def _default_dry() -> Path:
-    here = DEFAULT_DRY
-    if here.is_file():
-        return here
+    from ..clips import DEFAULT_DRY
+
+    if DEFAULT_DRY.is_file():
+        return DEFAULT_DRY
     return Path(__file__).resolve().parents[2] / DEFAULT_DRY
 
 

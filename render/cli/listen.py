@@ -20,7 +20,6 @@ from .options import friendly
 @friendly
 def listen_command(session, port, no_browser):
     """Serve the blind listening session SESSION on 127.0.0.1."""
-    from ..listening.answers import read_answers
     from ..listening.server import ListeningServer
 
     server = ListeningServer(session, port=port, notify=click.echo)
@@ -41,7 +40,6 @@ def listen_command(session, port, no_browser):
     except KeyboardInterrupt:
         pass
     finally:
-        server.server_close()
-        server.log.close()
-    answered = len(read_answers(server.paths, server.plan))
+        server.stop()
+    answered = len(server.log.answers)  # the log keeps an answer only once it is on disk
     click.echo(f"stopped; {answered} of {server.trials} trials answered")

@@ -309,7 +309,7 @@ def _record(*, di, design, rig, sample_rate, frames, vfs, vscale, peak, inv, sta
     floor_db = _db(floor * centres * (10**0.05 - 10**-0.05), 1e-300)
 
     def at(x, c):
-        return complex(np.interp(c, inv.frequency_hz, x.real) + 1j * np.interp(c, inv.frequency_hz, x.imag))
+        return complex(U.interp_complex(c, inv.frequency_hz, x))
 
     rows = []
     for c, a, n, v in zip(centres, di_db, floor_db, v_db):

@@ -22,6 +22,7 @@ import os
 import threading
 
 from ..errors import InputError
+from ..report.atomic import fsync_folder
 from .layout import ANSWERS, SessionPaths
 
 MAX_COMMENT = 2000  # characters
@@ -127,11 +128,7 @@ class AnswerLog:
             if good < len(raw):  # a torn, never-acknowledged line from a crash: cut it off
                 os.ftruncate(self._fd, good)
             os.fsync(self._fd)
-            dfd = os.open(paths.root, os.O_RDONLY)
-            try:
-                os.fsync(dfd)
-            finally:
-                os.close(dfd)
+            fsync_folder(paths.root)
         except BaseException:
             self.close()
             raise

@@ -31,6 +31,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
+from ..report.atomic import fsync_folder
 from .layout import KEY_FORMAT, METHODS, PLAN_FORMAT, SLOTS, VERSION, SessionPaths
 
 MAX_TRIALS = 500
@@ -73,14 +74,6 @@ def slot_design(trial: dict, slot: str) -> int:
     if slot == "B":
         return 1 - a
     return a if trial["x"] == "A" else 1 - a
-
-
-def _fsync_dir(path: Path) -> None:
-    fd = os.open(path, os.O_RDONLY)
-    try:
-        os.fsync(fd)
-    finally:
-        os.close(fd)
 
 
 def _write(path: Path, data: bytes) -> None:
@@ -184,12 +177,12 @@ def build_session(
         for p in list(paths.public.iterdir()):
             os.utime(p, (stamp, stamp))
         for d in (paths.public, paths.private, tmp):
-            _fsync_dir(d)
+            fsync_folder(d)
         if out.exists():
             old = parent / f".old-{out.name}-{secrets.token_hex(4)}"
             os.rename(out, old)
         os.rename(tmp, out)
-        _fsync_dir(parent)
+        fsync_folder(parent)
     except OSError as exc:
         if old is not None and not out.exists():
             os.rename(old, out)

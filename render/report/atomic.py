@@ -43,8 +43,8 @@ def _exists(path: Path) -> InputError:
     return InputError(f"{path}: exists; pass --overwrite to replace it or choose another name")
 
 
-def _fsync_folder(folder: Path) -> None:
-    """Make a rename in ``folder`` durable; some file systems refuse, which changes nothing here."""
+def fsync_folder(folder: Path) -> None:
+    """Make a new name in ``folder`` (a rename, a created file) durable; some file systems refuse, which changes nothing here."""
     with contextlib.suppress(OSError):
         fd = os.open(folder, os.O_RDONLY)
         try:
@@ -99,7 +99,7 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
             os.fsync(fh.fileno())
         os.chmod(tmp, 0o644)  # mkstemp makes 0600; give the usual rw-r--r--
         _publish(tmp, path, overwrite=overwrite)
-        _fsync_folder(folder)
+        fsync_folder(folder)
     except OSError as exc:
         raise _failure(path, exc) from None
     finally:
