@@ -18,6 +18,7 @@ from __future__ import annotations
 import datetime as _dt
 import fcntl
 import json
+import contextlib
 import os
 import threading
 
@@ -140,11 +141,15 @@ class AnswerLog:
         self.close()
 
     def close(self) -> None:
-        for name in ("_fd", "_lock_fd"):
-            fd = getattr(self, name, None)
-            if fd is not None:
-                setattr(self, name, None)
-                os.close(fd)  # closing the lock's descriptor releases the flock
+        # under the mutex, so that an answer being written while the server stops is
+        # finished before its descriptor closes (and a reused descriptor is never written)
+        mutex = getattr(self, "_mutex", None)
+        with mutex if mutex is not None else contextlib.nullcontext():
+            for name in ("_fd", "_lock_fd"):
+                fd = getattr(self, name, None)
+                if fd is not None:
+                    setattr(self, name, None)
+                    os.close(fd)  # closing the lock's descriptor releases the flock
 
     @property
     def answers(self) -> list[dict]:
