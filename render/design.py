@@ -393,16 +393,17 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
     return out
 
 
-def read_file_bytes(path: str | Path, *, limit: int, what: str) -> bytes:
+def read_file_bytes(path: str | Path, *, limit: int, what: str, missing: str = "check the path") -> bytes:
     """The bytes of a regular file of at most ``limit`` bytes; every failure is one line.
 
     what : how the file is named in messages ("a design, rig or phrase file")
+    missing : the fix offered when there is no such file
     """
     p = Path(path)
     try:
         st = p.stat()
     except FileNotFoundError:
-        raise InputError(f"{path}: no such file; check the path") from None
+        raise InputError(f"{path}: no such file; {missing}") from None
     except OSError as exc:
         raise InputError(f"{path}: cannot be read ({exc.strerror}); check the path and its permissions") from None
     if p.is_dir():
@@ -494,19 +495,24 @@ def _read_coil(data: Any, *, source: str, table: str) -> dict:
     return out
 
 
-def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "") -> Design:
-    """Build a :class:`Design` from parsed TOML; every error is one line."""
+def _check_document(data: Any, source: str, known: list[str]) -> None:
+    """A TOML document of ``known`` tables and keys, with ``name`` and ``notes`` strings when present."""
     if not isinstance(data, dict):
         raise InputError(f"{source}: expected a TOML document of tables")
     for key in data:
-        if key not in DESIGN_TABLES and key not in TOP_KEYS:
-            raise InputError(f"{source}: unknown table or key {U.shown(key)}{_suggest(key, list(DESIGN_TABLES) + list(TOP_KEYS))}")
-    for t in REQUIRED_TABLES:
-        if t not in data:
-            raise InputError(f"{source}: missing table [{t}]; every design needs {', '.join('[' + x + ']' for x in REQUIRED_TABLES)}")
+        if key not in known:
+            raise InputError(f"{source}: unknown table or key {U.shown(key)}{_suggest(key, known)}")
     for key in TOP_KEYS:
         if key in data and not isinstance(data[key], str):
             raise InputError(f"{source}: {key}={U.shown(data[key])}: expected a string")
+
+
+def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "") -> Design:
+    """Build a :class:`Design` from parsed TOML; every error is one line."""
+    _check_document(data, source, list(DESIGN_TABLES) + list(TOP_KEYS))
+    for t in REQUIRED_TABLES:
+        if t not in data:
+            raise InputError(f"{source}: missing table [{t}]; every design needs {', '.join('[' + x + ']' for x in REQUIRED_TABLES)}")
     if "name" in data and (len(data["name"]) > MAX_NAME_CHARS or not data["name"].isprintable()):
         raise InputError(f"{source}: name={U.shown(data['name'])}: expected one line of at most {MAX_NAME_CHARS} printable characters (it heads every report); put the rest in notes")
     tables = {}
@@ -566,14 +572,7 @@ class RigFile:
 
 
 def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile:
-    if not isinstance(data, dict):
-        raise InputError(f"{source}: expected a TOML document of tables")
-    for key in data:
-        if key not in ("rig", "hum", "name", "notes"):
-            raise InputError(f"{source}: unknown table or key {U.shown(key)}{_suggest(key, ['rig', 'hum', 'name', 'notes'])}")
-    for key in ("name", "notes"):
-        if key in data and not isinstance(data[key], str):
-            raise InputError(f"{source}: {key}={U.shown(data[key])}: expected a string")
+    _check_document(data, source, ["rig", "hum", *TOP_KEYS])
     if "rig" not in data and "hum" not in data:
         raise InputError(f"{source}: a rig file needs a [rig] table, a [hum] table, or both")
     rig = Rig(**read_table(data.get("rig", {}), RIG, source=source, table="rig"))

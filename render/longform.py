@@ -17,7 +17,6 @@ Everything here keeps only a block (and each filter's state) in memory:
 
 from __future__ import annotations
 
-import math
 import os
 import struct
 import tempfile
@@ -48,7 +47,9 @@ def iter_recorded(path, *, sample_rate: int, velocity_scale: float = 1.0, second
     import soundfile as sf
     import soxr
 
-    channels, rate, frames = recorded_info(path)
+    from .dry.recorded import check_finite, to_velocity
+
+    channels, rate, _ = recorded_info(path)
     total_out = None if seconds is None else int(round(seconds * sample_rate))
     resampler = soxr.ResampleStream(rate, sample_rate, channels, dtype="float64", quality="VHQ") if rate != sample_rate else None
     produced = 0
@@ -57,17 +58,11 @@ def iter_recorded(path, *, sample_rate: int, velocity_scale: float = 1.0, second
         while True:
             data = f.read(block, dtype="float64", always_2d=True)
             last = data.shape[0] < block
-            bad = ~np.isfinite(data)
-            if bad.any():
-                i, c = np.argwhere(bad)[0]
-                t = (read + int(i)) / rate
-                raise InputError(f"{path}: sample {read + int(i)} (channel {int(c) + 1}, {t:.4f} s) = {float(data[i, c])}: every sample must be finite; repair the file or export it again")
+            check_finite(str(path), data, rate, start=read)
             read += data.shape[0]
             if resampler is not None:
                 data = resampler.resample_chunk(data, last=last)
-            out = np.ascontiguousarray(data.T) * float(velocity_scale)
-            if channels == 1:
-                out = np.vstack([out, out])
+            out = to_velocity(data, channels, velocity_scale)
             if total_out is not None:
                 out = out[:, : max(0, total_out - produced)]
             if out.shape[1]:

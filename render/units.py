@@ -87,11 +87,15 @@ class QuantityError(ValueError):
 SHOWN_CHARS = 60  # how much of a bad value a message repeats
 
 
+def shorten(text: str, limit: int = SHOWN_CHARS) -> str:
+    """``text`` cut to ``limit`` characters, ending in "…" when cut."""
+    return text if len(text) <= limit else text[: limit - 1] + "…"
+
+
 def shown(value: object, limit: int = SHOWN_CHARS) -> str:
     """``repr(value)`` for a one-line message: escapes line breaks and control
     characters, and is cut to about ``limit`` characters (ending in "…")."""
-    text = repr(value)
-    return text if len(text) <= limit else text[: limit - 1] + "…"
+    return shorten(repr(value), limit)
 
 
 def parse_quantity(value: object, kind: Kind) -> float:
@@ -157,7 +161,7 @@ def parse_quantity(value: object, kind: Kind) -> float:
     m = _RKM_RE.match(body)
     if m and kind.rkm and m.group(2) in RKM_LETTERS and (m.group(1) or m.group(2) in "RE"):
         whole, letter, frac = m.groups()
-        if letter in "RE" and kind is not RESISTANCE and kind.name != "resistance":
+        if letter in "RE" and kind.name != "resistance":
             raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not {_a(kind)}")
         return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
     raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}; write it like {example(kind)}")

@@ -22,7 +22,6 @@ import numpy as np
 from render.dry.modal import string_velocity
 from render.dry.phrase import Note, Phrase, describe, load_phrase, parse_phrase
 from render.dry.recorded import load_recorded
-from render.errors import InputError
 
 __all__ = [
     "DrySignal",
@@ -95,9 +94,7 @@ def dry_velocity(
         info = describe(phrase) | {"seed": int(seed)}
         return DrySignal(velocity=velocity, sample_rate=int(sample_rate), warnings=(), description=info)
     velocity, warnings = load_recorded(p, sample_rate=sample_rate, velocity_scale=velocity_scale, seconds=seconds)
-    if seconds is not None:
-        if not (isinstance(seconds, (int, float)) and 0 < seconds <= 3600):
-            raise InputError(f"seconds={seconds!r}: the length must be > 0 s and <= 3600 s")
+    if seconds is not None:  # load_recorded has checked it
         n = int(round(seconds * sample_rate))
         velocity = velocity[:, :n] if velocity.shape[1] >= n else np.pad(velocity, ((0, 0), (0, n - velocity.shape[1])))
     info = {

@@ -151,15 +151,14 @@ def pitch_ratio(t: np.ndarray, *, note: Note) -> np.ndarray:
     return 2.0 ** (cents / 1200.0)
 
 
-def _ratio_range(note: Note) -> tuple[float, float]:
-    lo = hi = 0.0
+def _highest_ratio(note: Note) -> float:
+    """The largest value :func:`pitch_ratio` reaches for ``note``."""
+    cents = 0.0
     if note.bend is not None:
-        lo = min(lo, 100.0 * note.bend.semitones)
-        hi = max(hi, 100.0 * note.bend.semitones)
+        cents = max(cents, 100.0 * note.bend.semitones)
     if note.vibrato is not None:
-        lo -= note.vibrato.depth_cents
-        hi += note.vibrato.depth_cents
-    return 2.0 ** (lo / 1200.0), 2.0 ** (hi / 1200.0)
+        cents += note.vibrato.depth_cents
+    return 2.0 ** (cents / 1200.0)
 
 
 # ---------------------------------------------------------------------------
@@ -285,7 +284,7 @@ def _add_note(
     length = note.length
     b = inst.string_inharmonicity(note.string) * (inst.scale_length / length) ** 2  # B grows as 1/L^2
     f0 = note.frequency / math.sqrt(1.0 + b)
-    lo_ratio, hi_ratio = _ratio_range(note)
+    hi_ratio = _highest_ratio(note)
     limit = min(MAX_MODE_HZ, 0.5 * fs)
     n_max = max(1, int(limit / (f0 * hi_ratio)) + 1)
     n = np.arange(1, n_max + 1, dtype=float)
@@ -362,7 +361,7 @@ def _sum_direct(buf, amp, sigma, omega, lives, delta, fs, *, note: Note) -> None
     The amplitude follows sqrt(ratio), the adiabatic invariant E / omega of a
     slowly retuned oscillator (Landau & Lifshitz, Mechanics, section 49; from memory).
     """
-    p_count, span = buf.shape
+    span = buf.shape[1]
     t = (np.arange(span) + delta) / fs
     r = pitch_ratio(t, note=note)
     # tau(t) = integral_0^t r dt', trapezoids from the pluck (r = r[0] before the first sample)

@@ -27,7 +27,7 @@ from pathlib import Path
 from types import MappingProxyType
 
 from render.errors import InputError
-from render.units import FREQUENCY, LENGTH, RATIO, TIME, Kind, QuantityError, parse_quantity
+from render.units import FREQUENCY, LENGTH, RATIO, SHOWN_CHARS, TIME, Kind, QuantityError, parse_quantity, shorten
 
 # Six-string standard tuning, lowest string first (common practice, no source).
 STANDARD_TUNING = ("E2", "A2", "D3", "G3", "B3", "E4")
@@ -297,7 +297,6 @@ def stiffness_inharmonicity(*, diameter: float, tension: float, length: float, m
 # Messages
 
 
-SHOWN_CHARS = 60  # how much of a bad value a message repeats
 _BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
 
 
@@ -336,8 +335,7 @@ def _show_full(value: object) -> str:
 
 def _show(value: object, limit: int = SHOWN_CHARS) -> str:
     """A value as it would be written in TOML, on one line, cut to about ``limit`` characters."""
-    text = _show_full(value)
-    return text if len(text) <= limit else text[: limit - 1] + "…"
+    return shorten(_show_full(value), limit)
 
 
 @dataclass(frozen=True)
@@ -349,9 +347,7 @@ class _Where:
 
     def fail(self, key: str, value: object, constraint: str, fix: str | None = None) -> InputError:
         where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
-        shown_key = _key(key)
-        shown_key = shown_key if len(shown_key) <= SHOWN_CHARS else shown_key[: SHOWN_CHARS - 1] + "…"
-        text = f"{where}{shown_key}={_show(value)}: {constraint}"
+        text = f"{where}{shorten(_key(key))}={_show(value)}: {constraint}"
         return InputError(f"{text}; {fix}" if fix else text)
 
     def missing(self, key: str, fix: str) -> InputError:
@@ -422,10 +418,7 @@ def load_phrase(path: str | Path) -> Phrase:
     from render.design import decode_toml_text, read_file_bytes
 
     name = str(path)
-    try:
-        raw = read_file_bytes(path, limit=MAX_PHRASE_BYTES, what="a phrase file")
-    except InputError as e:
-        raise InputError(str(e).replace("; check the path", "; give the path of a phrase file (.toml)", 1)) from None
+    raw = read_file_bytes(path, limit=MAX_PHRASE_BYTES, what="a phrase file", missing="give the path of a phrase file (.toml)")
     text = decode_toml_text(raw, name, not_utf8="is not UTF-8 text", fix="a phrase file is TOML text saved as UTF-8")
     if "\x00" in text:
         raise InputError(f"{name}: contains NUL bytes; a phrase file is TOML text")
@@ -509,8 +502,6 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
 
 def _event_list(top: _Where, data: dict, key: str) -> list[dict]:
     value = data.get(key, [])
-    if isinstance(value, dict):
-        raise top.fail(key, value, "expected an array of tables", f"write each event under its own [[{key}]] header")
     if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
         raise top.fail(key, value, "expected an array of tables", f"write each event under its own [[{key}]] header")
     return value

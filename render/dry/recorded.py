@@ -183,13 +183,7 @@ def load_recorded(
         raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC") from None
     if data.shape[0] == 0:
         raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
-    bad = ~np.isfinite(data)
-    if bad.any():
-        i, c = np.argwhere(bad)[0]
-        raise InputError(
-            f"{name}: sample {int(i)} (channel {int(c) + 1}, {i / rate:.4f} s) = {float(data[i, c])}: "
-            "every sample must be finite; repair the file or export it again"
-        )
+    check_finite(name, data, rate)
 
     warnings = []
     peak = float(np.max(np.abs(data))) * float(velocity_scale)
@@ -207,11 +201,27 @@ def load_recorded(
 
     if rate != sample_rate:
         data = soxr.resample(data, rate, int(sample_rate), quality="VHQ")
-        data = np.asarray(data, dtype=np.float64).reshape(-1, channels)
-    velocity = np.ascontiguousarray(data.T) * float(velocity_scale)
+    return to_velocity(data, channels, velocity_scale), warnings
+
+
+def check_finite(name: str, data: np.ndarray, rate: int, *, start: int = 0) -> None:
+    """InputError naming the first NaN or infinite sample of ``data`` (frames, channels), frame ``start`` onwards."""
+    bad = ~np.isfinite(data)
+    if bad.any():
+        i, c = np.argwhere(bad)[0]
+        k = start + int(i)
+        raise InputError(
+            f"{name}: sample {k} (channel {int(c) + 1}, {k / rate:.4f} s) = {float(data[i, c])}: "
+            "every sample must be finite; repair the file or export it again"
+        )
+
+
+def to_velocity(data: np.ndarray, channels: int, velocity_scale: float) -> np.ndarray:
+    """Samples (frames, channels) as string velocity (2, frames) in m/s; a mono file feeds both coils."""
+    velocity = np.ascontiguousarray(np.asarray(data, dtype=np.float64).reshape(-1, channels).T) * float(velocity_scale)
     if channels == 1:
         velocity = np.vstack([velocity, velocity])
-    return velocity, warnings
+    return velocity
 
 
 def _clip_runs(data: np.ndarray) -> tuple[int, int]:
