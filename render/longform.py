@@ -18,7 +18,6 @@ Everything here keeps only a block (and each filter's state) in memory:
 from __future__ import annotations
 
 import os
-import struct
 import tempfile
 from contextlib import suppress
 from pathlib import Path
@@ -103,11 +102,9 @@ class WavStream:
             raise InputError(f"{self.path}: could not be written ({e.strerror}); free some disk space or choose another folder") from None
 
     def _header(self, frames: int) -> bytes:
-        block = 4 * self.channels
-        fmt = struct.pack("<HHIIHHH", 3, self.channels, self.sample_rate, self.sample_rate * block, block, 32, 0)
-        data_bytes = frames * block
-        body_len = 4 + (8 + len(fmt)) + (8 + 4) + (8 + data_bytes + data_bytes % 2)
-        return b"RIFF" + struct.pack("<I", body_len) + b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"fact" + struct.pack("<I", 4) + struct.pack("<I", frames) + b"data" + struct.pack("<I", data_bytes)
+        from .report.wav import float_wav_header
+
+        return float_wav_header(frames, channels=self.channels, sample_rate=self.sample_rate)
 
     def write(self, x: np.ndarray) -> None:
         """Append samples (shape (n,) or (channels, n); full scale ±1)."""
@@ -124,8 +121,6 @@ class WavStream:
             raise InputError(f"{self.path}: {self.frames} frames is too long for one WAV file (4 GiB at most); render a shorter --seconds")
 
         def finish():
-            if (self.frames * 4 * self.channels) % 2:
-                self._f.write(b"\0")
             self._f.seek(0)
             self._f.write(self._header(self.frames))
             self._f.flush()

@@ -37,16 +37,29 @@ def float_wav_bytes(data: np.ndarray, sample_rate: int) -> bytes:
     if not np.isfinite(a).all():
         raise ValueError("data holds NaN or infinite samples; a WAV must be finite")
     channels, frames = a.shape
-    payload = np.ascontiguousarray(a.T).astype("<f4").tobytes()
+    if 4 * channels * frames + 64 >= 2**32:
+        raise ValueError(f"{4 * channels * frames} bytes of audio: too long for a WAV file (4 GiB at most)")
+    return float_wav_header(frames, channels=channels, sample_rate=sample_rate) + np.ascontiguousarray(a.T).astype("<f4").tobytes()
+
+
+def float_wav_header(frames: int, *, channels: int, sample_rate: int) -> bytes:
+    """The header of a float32 WAV of ``frames`` frames: RIFF, fmt (tag 3, cbSize 0), fact, data.
+
+    The audio bytes follow it directly (4·channels·frames of them, always even,
+    so no pad byte is needed); a streamed writer writes it first with 0 frames
+    and again with the count at the end.
+    """
     block = 4 * channels
+    data_bytes = frames * block
     fmt = struct.pack("<HHIIHHH", WAVE_FORMAT_IEEE_FLOAT, channels, int(sample_rate), int(sample_rate) * block, block, 32, 0)
     fact = struct.pack("<I", frames)
-    pad = b"\0" if len(payload) % 2 else b""
-    body = b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"fact" + struct.pack("<I", len(fact)) + fact
-    body += b"data" + struct.pack("<I", len(payload)) + payload + pad
-    if len(body) >= 2**32:
-        raise ValueError(f"{len(body)} bytes: too long for a WAV file (4 GiB at most)")
-    return b"RIFF" + struct.pack("<I", len(body)) + body
+    body_len = 4 + (8 + len(fmt)) + (8 + len(fact)) + (8 + data_bytes)
+    return (
+        b"RIFF" + struct.pack("<I", body_len) + b"WAVE"
+        + b"fmt " + struct.pack("<I", len(fmt)) + fmt
+        + b"fact" + struct.pack("<I", len(fact)) + fact
+        + b"data" + struct.pack("<I", data_bytes)
+    )
 
 
 def write_float_wav(path: str | Path, data: np.ndarray, sample_rate: int, *, overwrite: bool = False) -> Path:
