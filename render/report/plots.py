@@ -30,18 +30,19 @@ def _plt():
 
 
 def _hz_axis(ax, fmin, fmax):
-    from matplotlib.ticker import FixedLocator, FuncFormatter, NullFormatter
+    from matplotlib.ticker import FixedLocator, FuncFormatter, NullLocator
 
     ax.set_xscale("log")
     ax.set_xlim(fmin, fmax)
-    ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v / 1000:g}k" if v >= 1000 else f"{v:g}"))
-    # fixed minor ticks without labels: the log axis's own minor formatter costs most of a plot's time
     decades = np.arange(np.floor(np.log10(fmin)), np.ceil(np.log10(fmax)) + 1)
     ax.xaxis.set_major_locator(FixedLocator([10**d for d in decades]))
-    ax.xaxis.set_minor_locator(FixedLocator([m * 10**d for d in decades for m in range(2, 10)]))
-    ax.xaxis.set_minor_formatter(NullFormatter())
+    ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v / 1000:g}k" if v >= 1000 else f"{v:g}"))
+    # the minor grid as one collection of lines rather than minor ticks: a tick is five
+    # artists, and on a log axis they cost most of a plot's time
+    ax.xaxis.set_minor_locator(NullLocator())
+    minors = [m * 10**d for d in decades for m in range(2, 10) if fmin < m * 10**d < fmax]
+    ax.vlines(minors, 0, 1, transform=ax.get_xaxis_transform(), colors="#eeeeee", linewidth=0.4, zorder=0)
     ax.grid(True, which="major", color="#cccccc", linewidth=0.6)
-    ax.grid(True, which="minor", color="#eeeeee", linewidth=0.4)
 
 
 def phase_deg(f, h):
