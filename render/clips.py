@@ -52,6 +52,7 @@ class Clip:
     clipped_fraction: float
     warnings: tuple = ()
     figures: dict = field(default_factory=dict)
+    stats: dict = field(default_factory=dict)  # :func:`signal_stats`, measured where the clip was rendered
 
 
 def dry_for(design, dry_path, settings: Settings):
@@ -179,6 +180,7 @@ def render_design(design, dry_path, settings: Settings, *, dry=None) -> Clip:
         clipped_fraction=float(r.get("clipped_fraction", 0.0)),
         warnings=warnings,
         figures=figures([design])[0],
+        stats=signal_stats(volts, r["amp_out"], clipped_fraction=float(r.get("clipped_fraction", 0.0)), sample_rate=settings.sample_rate, bias_v=design.bias_v),
     )
 
 
@@ -229,7 +231,7 @@ def measurements(design, figures: dict, stats: dict, *, volts_full_scale: float)
 
 def record(clip: Clip, *, settings: Settings, volts_full_scale: float, rig_record: dict, dry_path) -> dict:
     """Everything a render used and measured, JSON-ready (no times, no absolute paths)."""
-    stats = signal_stats(clip.volts, clip.amp_out, clipped_fraction=clip.clipped_fraction, sample_rate=settings.sample_rate, bias_v=clip.design.bias_v)
+    stats = clip.stats
     return make_record(clip.design, clip.figures, stats, dry=clip.dry, samples=clip.volts.size, warnings=clip.warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
 
 
