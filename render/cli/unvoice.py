@@ -75,16 +75,15 @@ def _open_di(path: Path):
     """(sample_rate, frames) of a mono audio file, or InputError."""
     import soundfile as sf
 
+    from ..dry.recorded import check_recorded
+
     name = str(path)
-    if not path.exists():
-        raise InputError(f"DI={name}: no such file; give the recording (WAV, FLAC, ...)")
-    if path.is_dir():
-        raise InputError(f"DI={name}: is a folder; give the recording (WAV, FLAC, ...)")
     try:
-        info = sf.info(name)
-    except (sf.LibsndfileError, RuntimeError, TypeError, ValueError) as e:
-        reason = str(e).strip().splitlines()[-1] if str(e).strip() else type(e).__name__
-        raise InputError(f"DI={name}: cannot be read as audio ({reason}); convert it to WAV or FLAC") from None
+        # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header
+        check_recorded(path, max_seconds=None)
+    except InputError as e:
+        raise InputError(f"DI={e}") from None
+    info = sf.info(name)
     if info.channels != 1:
         raise InputError(f"DI={name}: channels={info.channels}: a DI must be mono (one pickup output); export one channel")
     if info.frames < MIN_SECONDS * info.samplerate:
