@@ -8,6 +8,7 @@ libraries at start-up).
 from __future__ import annotations
 
 import importlib
+import sys
 
 import click
 
@@ -30,8 +31,28 @@ COMMANDS = {
 }
 
 
+def _interrupted(exc: BaseException) -> bool:
+    """Whether Ctrl-C is behind ``exc`` (an import cut short by it surfaces as an ImportError)."""
+    seen = set()
+    while exc is not None and id(exc) not in seen:
+        if isinstance(exc, KeyboardInterrupt):
+            return True
+        seen.add(id(exc))
+        exc = exc.__cause__ or exc.__context__
+    return False
+
+
 class LazyGroup(click.Group):
     """A click group whose subcommands are imported on first use."""
+
+    def main(self, *args, **kwargs):
+        try:
+            return super().main(*args, **kwargs)
+        except Exception as exc:
+            if _interrupted(exc):  # as click does for a plain Ctrl-C: one line, exit 1
+                click.echo("Aborted!", err=True)
+                sys.exit(1)
+            raise
 
     def list_commands(self, ctx):
         return sorted(COMMANDS)
