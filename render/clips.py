@@ -46,7 +46,7 @@ class Settings:
 class Clip:
     design: object
     volts: np.ndarray  # amp input, V, shape (n,)
-    amp_out: np.ndarray  # op-amp output, V (bias included), shape (n,)
+    amp_out: np.ndarray | None  # op-amp output, V (bias included), shape (n,); None once sent back from a worker (its extremes are in ``stats``)
     passive_volts: np.ndarray | None
     dry: dict
     clipped_fraction: float

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import os
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 import click
@@ -13,7 +14,7 @@ from .options import friendly, make_folder, overwrite_option, prepare_out, rig_o
 CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
 
 
-def _render_one(args):
+def _render_one(args, figures=None):
     """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel)."""
     from ..clips import render_design
 
@@ -23,8 +24,31 @@ def _render_one(args):
         from ..report.clips import write_clip_plots
 
         folder, stem = plot_to
-        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate)
-    return clip
+        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate, figures=figures, response=False)
+    # the op-amp output is not sent back: the run needs only its extremes, already in the stats
+    return replace(clip, amp_out=None)
+
+
+def _render_batch(batch):
+    """Render a few designs in turn, drawing their plots on figures kept from one design to the next."""
+    if not any(extra[0] for *_, extra in batch):
+        return [_render_one(args) for args in batch]
+    from ..report.plots import Figures
+
+    with Figures() as figures:
+        return [_render_one(args, figures) for args in batch]
+
+
+def batches(n: int, jobs: int, *, most: int = 5) -> list[range]:
+    """Split ``n`` tasks into runs of consecutive ones, at most ``most`` long, a whole number per process.
+
+    Each process takes runs of about the same length, so the load stays even;
+    within a run the plots reuse their figures.
+    """
+    jobs = max(1, min(jobs, n))
+    parts = jobs * -(-n // (jobs * most)) if n else 0
+    edges = [round(i * n / parts) for i in range(parts + 1)] if parts else [0]
+    return [range(a, b) for a, b in zip(edges, edges[1:]) if b > a]
 
 
 def _render_long_one(args):
@@ -34,24 +58,37 @@ def _render_long_one(args):
     return render_design_long(design, dry, settings, **kw)
 
 
-def render_all(designs, dry, settings, jobs, *, label="rendering", work=None, extra=None):
-    """Render every design (in ``jobs`` processes); results in the designs' order."""
+def preload(plots: bool) -> None:
+    """Import the heavy modules here, once: forked workers then share them instead of each importing them."""
+    from ..chain import stream  # noqa: F401
+    from ..dry import modal  # noqa: F401
+
+    if plots:
+        from ..report.plots import _plt
+
+        _plt()
+
+
+def render_all(designs, dry, settings, jobs, *, label="rendering", work=None, extra=None, plots=False):
+    """Render every design (in ``jobs`` processes); results in the designs' order.
+
+    ``plots``: whether the work draws plots (then matplotlib is imported once, before the workers fork).
+    """
     from ..parallel import pmap
 
-    work = work or _render_one
     tasks = [(d, dry, settings, extra[i] if extra else None) for i, d in enumerate(designs)]
+    if work is None:  # clips in memory: a few designs per task, their plots drawn on kept figures
+        runs = batches(len(tasks), jobs)
+        tasks = [[tasks[i] for i in r] for r in runs]
+        work = _render_batch
+    else:
+        runs = None
     if jobs > 1 and len(tasks) > 1:
-        # import the heavy modules once here: forked workers share them instead of each importing them
-        from ..chain import stream  # noqa: F401
-        from ..dry import modal  # noqa: F401
-
-        if any(extra or ()):
-            from ..report.plots import _plt
-
-            _plt()
-    show = len(tasks) > 1
-    with click.progressbar(length=len(tasks), label=label, file=sys.stderr, show_pos=True) if show else _Null() as bar:
-        return pmap(work, tasks, jobs, on_done=lambda: bar.update(1))
+        preload(plots)
+    show = len(designs) > 1
+    with click.progressbar(length=len(designs), label=label, file=sys.stderr, show_pos=True) if show else _Null() as bar:
+        done = pmap(work, tasks, jobs, on_done=lambda result: bar.update(len(result) if runs else 1))
+    return [clip for batch in done for clip in batch] if runs else done
 
 
 class _Null:
@@ -132,7 +169,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             vfs = volts_full_scale or window_full_scale(designs)
             make_folder(out)
             kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": _rig_values(d)}, plots=plots) for stem, d in zip(stems, designs)]
-            records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws)
+            records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots)
             for r in records:
                 for w in r["warnings"]:
                     click.echo(f"warning: {r['design']}: {w}", err=True)
@@ -144,14 +181,26 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             click.echo(CAUTION)
             return
     make_folder(out)
-    # designs that sense the string at the same points share one synthesised dry signal
     from ..clips import dry_for, sensing_key
+    from ..parallel import side_work
+    from ..report.clips import write_design_only_plots
 
-    shared = {}
+    # designs that sense the string at the same points share one synthesised dry signal; with
+    # workers, a side process makes those, then draws the plots that need no render (every
+    # S-response.png and responses.png), while this one imports the heavy modules the workers share
+    firsts = {}
     for d in designs:
-        if sensing_key(d) not in shared:
-            shared[sensing_key(d)] = dry_for(d, dry, settings)
-    clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)])
+        firsts.setdefault(sensing_key(d), d)
+    parallel = jobs > 1 and len(designs) > 1
+    with side_work(enabled=parallel) as side:
+        pending = {key: side.submit(dry_for, d, dry, settings) for key, d in firsts.items()}
+        drawing = side.submit(write_design_only_plots, out, stems, designs) if plots else None
+        if parallel:
+            preload(plots)
+        shared = {key: fut.result() for key, fut in pending.items()}
+        clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)], plots=plots)
+        if drawing is not None:
+            drawing.result()
     peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
     vfs = volts_full_scale or choose_full_scale(peaks)
     records = []
@@ -161,7 +210,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=sample_rate)
         for w in clip.warnings:
             click.echo(f"warning: {clip.design.name}: {w}", err=True)
-    write_run_files(out, clips, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs, plots=plots)
+    write_run_files(out, clips, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs, plots=False)
     over = [c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs]
     if over:
         click.echo(f"warning: {', '.join(over)} peak above the {vfs:g} V full scale; the float WAVs keep those samples, but many players clip them", err=True)

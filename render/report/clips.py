@@ -20,30 +20,56 @@ def write_design_audio(out: Path, stem: str, clip, rec: dict, *, volts_full_scal
     return written
 
 
-def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str) -> list[Path]:
-    """S-response.png, S-spectrum.png (``spectra``: list of (label, f, level_db, dashed)) and S-spectrogram.png."""
+def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, figures=None) -> list[Path]:
+    """S-response.png, S-spectrum.png (``spectra``: list of (label, f, level_db, dashed)) and S-spectrogram.png.
+
+    ``figures`` (a :class:`~render.report.plots.Figures`) draws on figures kept from earlier plots.
+    """
+    return [write_response_plot(out, stem, design, figures=figures)] + write_signal_plots(out, stem, design, spectra=spectra, spectrogram=spectrogram, sample_rate=sample_rate, spectrogram_title=spectrogram_title, figures=figures)
+
+
+def write_response_plot(out: Path, stem: str, design, *, figures=None) -> Path:
+    """S-response.png: the design's response from string velocity to the amp input, with its passive reference."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from .plots import response_plot, spectrogram_plot, spectrum_plot
+    from .plots import response_plot
 
     d = design
     f = np.geomspace(20, 20000, 600)
     resp = responses(from_designs([d]))
+    return response_plot(out / f"{stem}-response.png", f, [(d.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{d.name}: string velocity to amp input", overwrite=True, figures=figures)
+
+
+def write_signal_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, figures=None) -> list[Path]:
+    """The plots of the rendered signal: S-spectrum.png and S-spectrogram.png (arguments as for :func:`write_design_plots`)."""
+    from .plots import spectrogram_plot, spectrum_plot
+
+    d = design
     return [
-        response_plot(out / f"{stem}-response.png", f, [(d.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{d.name}: string velocity to amp input", overwrite=True),
-        spectrum_plot(out / f"{stem}-spectrum.png", spectra, title=f"{d.name}: long-term average spectrum at the amp input", overwrite=True),
-        spectrogram_plot(out / f"{stem}-spectrogram.png", spectrogram, sample_rate=sample_rate, title=spectrogram_title, overwrite=True),
+        spectrum_plot(out / f"{stem}-spectrum.png", spectra, title=f"{d.name}: long-term average spectrum at the amp input", overwrite=True, figures=figures),
+        spectrogram_plot(out / f"{stem}-spectrogram.png", spectrogram, sample_rate=sample_rate, title=spectrogram_title, overwrite=True, figures=figures),
     ]
 
 
-def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int) -> list[Path]:
-    """The three plots of an in-memory clip."""
+def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, figures=None, response: bool = True) -> list[Path]:
+    """The three plots of an in-memory clip (``figures``: as for :func:`write_design_plots`); ``response=False`` leaves out S-response.png, drawn elsewhere."""
     from ..analysis.audio import long_term_spectrum
 
     spectra = [(clip.design.name, *long_term_spectrum(clip.volts, sample_rate=sample_rate), False)]
     if clip.passive_volts is not None:
         spectra.append(("passive reference", *long_term_spectrum(clip.passive_volts, sample_rate=sample_rate), True))
-    return write_design_plots(out, stem, clip.design, spectra=spectra, spectrogram=clip.volts, sample_rate=sample_rate, spectrogram_title=f"{clip.design.name}: amp input")
+    kw = dict(spectra=spectra, spectrogram=clip.volts, sample_rate=sample_rate, spectrogram_title=f"{clip.design.name}: amp input", figures=figures)
+    return (write_design_plots if response else write_signal_plots)(out, stem, clip.design, **kw)
+
+
+def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
+    """What can be drawn before any clip is rendered: every S-response.png and responses.png, the overlay of them all."""
+    from .atomic import write_bytes
+    from .plots import Figures
+
+    with Figures() as figures:
+        written = [write_response_plot(out, stem, d, figures=figures) for stem, d in zip(stems, designs)]
+    return written + [write_bytes(out / "responses.png", overlay_png(list(designs)), overwrite=True)]
 
 
 def _cell(v, fmt):
@@ -79,24 +105,27 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
 
 
 def write_run_files(out: Path, clips, records, *, dry: str, rig: str, settings: dict, volts_full_scale: float, plots: bool = True) -> list[Path]:
-    """summary.md and the overlay of every design's response with the passive references."""
-    from ..circuit.engine import responses
-    from ..circuit.params import from_designs
+    """summary.md, and with ``plots`` responses.png, the overlay of every design's response with the passive references."""
+    from .atomic import write_bytes
 
     written = [write_text(out / "summary.md", summary_markdown(records, dry=dry, rig=rig, settings=settings, volts_full_scale=volts_full_scale), overwrite=True)]
     if plots:
-        from .plots import overlay_plot
-
-        designs = [c.design for c in clips]
-        f = np.geomspace(20, 20000, 600)
-        resp = responses(from_designs(designs))
-        h = resp.velocity()(f)
-        hp = resp.passive_velocity()(f)
-        passives = []
-        for i, d in enumerate(designs):  # one dashed curve per distinct passive reference
-            if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
-                passives.append((i, d.name))
-        written.append(
-            overlay_plot(out / "responses.png", f, [(d.name, h[i]) for i, d in enumerate(designs)], [(f"passive ({name})" if len(passives) > 1 else "passive reference", hp[i]) for i, name in passives], overwrite=True)
-        )
+        written.append(write_bytes(out / "responses.png", overlay_png([c.design for c in clips]), overwrite=True))
     return written
+
+
+def overlay_png(designs) -> bytes:
+    """The overlay plot of every design's response (string velocity to amp input), one dashed curve per distinct passive reference."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from .plots import overlay_png as draw
+
+    f = np.geomspace(20, 20000, 600)
+    resp = responses(from_designs(designs))
+    h = resp.velocity()(f)
+    hp = resp.passive_velocity()(f)
+    passives = []
+    for i, d in enumerate(designs):
+        if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
+            passives.append((i, d.name))
+    return draw(f, [(d.name, h[i]) for i, d in enumerate(designs)], [(f"passive ({name})" if len(passives) > 1 else "passive reference", hp[i]) for i, name in passives])

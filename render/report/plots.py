@@ -45,6 +45,11 @@ def _hz_axis(ax, fmin, fmax):
     ax.grid(True, which="major", color="#cccccc", linewidth=0.6)
 
 
+def _fix_title(ax, title):
+    """A left title at a fixed place: the automatic placement measures every tick label first."""
+    return ax.set_title(title, fontsize=10, loc="left", y=1.0, pad=5)
+
+
 def phase_deg(f, h):
     """Unwrapped phase (degrees), shifted by whole turns so it lies in (-180, 180] at 1 kHz."""
     ph = np.degrees(np.unwrap(np.angle(h)))
@@ -52,30 +57,43 @@ def phase_deg(f, h):
     return ph - 360.0 * np.round(ref / 360.0)
 
 
-def save(fig, path, *, overwrite):
+def png_bytes(fig, *, keep=False) -> bytes:
+    """``fig`` as PNG (no timestamp or software tag: the same plot is the same file); closed unless ``keep``."""
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=110, metadata={"Software": None}, pil_kwargs={"compress_level": 1})
-    _plt().close(fig)
-    write_bytes(path, buf.getvalue(), overwrite=overwrite)
+    if not keep:
+        _plt().close(fig)
+    return buf.getvalue()
+
+
+def save(fig, path, *, overwrite, keep=False):
+    """Write ``fig`` to ``path`` as PNG (see :func:`png_bytes`)."""
+    write_bytes(path, png_bytes(fig, keep=keep), overwrite=overwrite)
     return Path(path)
 
 
-def response_plot(path, f, curves, *, passive=None, title="", overwrite=False):
-    """Magnitude (dB) and phase (degrees) against frequency (Hz).
+def _range(values, *, pad=0.05):
+    """(low, high) of the finite values with ``pad`` of the span either side, as autoscaling would give."""
+    v = np.concatenate([np.ravel(x) for x in values])
+    v = v[np.isfinite(v)]
+    if not v.size:
+        return -1.0, 1.0
+    lo, hi = float(v.min()), float(v.max())
+    span = hi - lo if hi > lo else max(1.0, abs(hi))
+    return lo - pad * span, hi + pad * span
 
-    ``curves`` is a list of (label, complex response (F,)); ``passive`` an
-    optional (label, complex response) drawn dashed.
-    """
+
+def _response_build(f, n, passive, title):
     plt = _plt()
     fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 6.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
-    for i, (label, h) in enumerate(curves):
+    mags, phases = [], []
+    for i in range(n):
         col = PALETTE[i % len(PALETTE)]
-        ax1.plot(f, 20 * np.log10(np.abs(h)), color=col, lw=1.8, label=label)
-        ax2.plot(f, phase_deg(f, h), color=col, lw=1.4)
-    if passive is not None:
-        label, h = passive
-        ax1.plot(f, 20 * np.log10(np.abs(h)), color=CLAY, lw=1.4, ls="--", label=label)
-        ax2.plot(f, phase_deg(f, h), color=CLAY, lw=1.1, ls="--")
+        mags += ax1.plot(f, np.zeros_like(f), color=col, lw=1.8, label=" ")
+        phases += ax2.plot(f, np.zeros_like(f), color=col, lw=1.4)
+    if passive:
+        mags += ax1.plot(f, np.zeros_like(f), color=CLAY, lw=1.4, ls="--", label=" ")
+        phases += ax2.plot(f, np.zeros_like(f), color=CLAY, lw=1.1, ls="--")
     for ax in (ax1, ax2):
         _hz_axis(ax, f[0], f[-1])
     ax1.set_ylabel("level (dB re 1 V per m/s)")
@@ -84,11 +102,80 @@ def response_plot(path, f, curves, *, passive=None, title="", overwrite=False):
 
     ax2.yaxis.set_major_locator(MultipleLocator(90))
     ax2.set_xlabel("frequency (Hz)")
-    ax1.legend(loc="lower center", fontsize=8, frameon=False, ncol=min(3, len(curves) + 1))
-    if title:
-        ax1.set_title(title, fontsize=10, loc="left")
+    legend = ax1.legend(loc="lower center", fontsize=8, frameon=False, ncol=min(3, n + 1))
     fig.subplots_adjust(left=0.1, right=0.98, bottom=0.09, top=0.94, hspace=0.06)  # fixed margins: tight_layout costs half the plot
-    return save(fig, path, overwrite=overwrite)
+    return {"fig": fig, "axes": (ax1, ax2), "mags": mags, "phases": phases, "legend": legend, "title": _fix_title(ax1, " ") if title else None}
+
+
+def _response_fill(p, f, curves, passive, title):
+    """Everything that differs from one response plot to the next: data, limits, labels, title."""
+    every = list(curves) + ([passive] if passive is not None else [])
+    mags = [20 * np.log10(np.abs(h)) for _, h in every]
+    phases = [phase_deg(f, h) for _, h in every]
+    for line, y in zip(p["mags"], mags):
+        line.set_ydata(y)
+    for line, y in zip(p["phases"], phases):
+        line.set_ydata(y)
+    for text, (label, _) in zip(p["legend"].get_texts(), every):
+        text.set_text(label)
+    ax1, ax2 = p["axes"]
+    ax1.set_ylim(*_range(mags))
+    ax2.set_ylim(*_range(phases))
+    if p["title"] is not None:
+        p["title"].set_text(title)
+
+
+def response_plot(path, f, curves, *, passive=None, title="", overwrite=False, figures=None):
+    """Magnitude (dB) and phase (degrees) against frequency (Hz).
+
+    ``curves`` is a list of (label, complex response (F,)); ``passive`` an
+    optional (label, complex response) drawn dashed. ``figures`` (a
+    :class:`Figures`) reuses a figure drawn before with the same layout.
+    """
+    f = np.asarray(f, float)
+    key = ("response", len(curves), passive is not None, bool(title), f.size, float(f[0]), float(f[-1]))
+    return _draw(figures, key, lambda: _response_build(f, len(curves), passive is not None, title), lambda p: _response_fill(p, f, curves, passive, title), path, overwrite)
+
+
+class Figures:
+    """Figures kept to be drawn again: ticks, axes and text are made once per layout.
+
+    Filling a kept figure sets everything that differs from one plot to the
+    next, so a plot drawn on a kept figure is the same image as one drawn on
+    a new figure. One per batch of plots (say, a worker's share of a run);
+    :meth:`close` (or leaving its ``with`` block) frees them.
+    """
+
+    def __init__(self):
+        self._kept = {}
+
+    def get(self, key, build):
+        if key not in self._kept:
+            self._kept[key] = build()
+        return self._kept[key]
+
+    def close(self):
+        for p in self._kept.values():
+            _plt().close(p["fig"])
+        self._kept.clear()
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+        return False
+
+
+def _draw(figures, key, build, fill, path, overwrite):
+    """Build (or reuse from ``figures``) a figure, fill it, and write it to ``path`` as PNG."""
+    if figures is None:
+        p = build()
+        fill(p)
+        return save(p["fig"], path, overwrite=overwrite)
+    p = figures.get(key, build)
+    fill(p)
+    return save(p["fig"], path, overwrite=overwrite, keep=True)
 
 
 def rejection_plot(path, f, curves, *, marks=(), overwrite=False):
@@ -119,70 +206,119 @@ def histogram_plot(path, values, *, xlabel, title="", overwrite=False):
     ax.set_ylabel("trials")
     ax.legend(fontsize=8, frameon=False)
     if title:
-        ax.set_title(title, fontsize=10, loc="left")
+        _fix_title(ax, title)
     fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
 
-def spectrum_plot(path, curves, *, title="", overwrite=False):
-    """Long-term average spectra: ``curves`` is a list of (label, f (F,), level dB (F,), dashed)."""
+def _spectrum_build(dashed, title):
     plt = _plt()
     fig, ax = plt.subplots(figsize=(8, 4.5))
-    for i, (label, f, lv, dashed) in enumerate(curves):
-        sel = f > 0
-        ax.plot(f[sel], lv[sel], color=CLAY if dashed else PALETTE[i % len(PALETTE)], lw=1.2 if dashed else 1.5, ls="--" if dashed else "-", label=label)
-    band = [lv[(f >= 20) & (f <= 20000)] for _, f, lv, _ in curves]
-    top = max(float(np.max(x)) for x in band if x.size) if any(x.size for x in band) else 0.0
-    ax.set_ylim(top - 100, top + 5)  # 100 dB of range below the loudest band
+    lines = []
+    for i, d in enumerate(dashed):
+        lines += ax.plot([20.0], [0.0], color=CLAY if d else PALETTE[i % len(PALETTE)], lw=1.2 if d else 1.5, ls="--" if d else "-", label=" ")
     _hz_axis(ax, 20, 20000)
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V²/Hz)")
-    ax.legend(fontsize=8, frameon=False)
-    if title:
-        ax.set_title(title, fontsize=10, loc="left")
+    legend = ax.legend(fontsize=8, frameon=False)
     fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
-    return save(fig, path, overwrite=overwrite)
+    return {"fig": fig, "axes": (ax,), "lines": lines, "legend": legend, "title": _fix_title(ax, " ") if title else None}
 
 
-def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrite=False):
-    """Spectrogram (dB) on a log-frequency axis, 40 Hz to 20 kHz."""
-    plt = _plt()
+def _spectrum_fill(p, curves, title):
+    for line, text, (label, f, lv, _) in zip(p["lines"], p["legend"].get_texts(), curves):
+        sel = f > 0
+        line.set_data(f[sel], lv[sel])
+        text.set_text(label)
+    band = [lv[(f >= 20) & (f <= 20000)] for _, f, lv, _ in curves]
+    top = max(float(np.max(x)) for x in band if x.size) if any(x.size for x in band) else 0.0
+    p["axes"][0].set_ylim(top - 100, top + 5)  # 100 dB of range below the loudest band
+    if p["title"] is not None:
+        p["title"].set_text(title)
+
+
+def spectrum_plot(path, curves, *, title="", overwrite=False, figures=None):
+    """Long-term average spectra: ``curves`` is a list of (label, f (F,), level dB (F,), dashed).
+
+    ``figures`` (a :class:`Figures`) reuses a figure drawn before with the same layout.
+    """
+    dashed = tuple(bool(c[3]) for c in curves)
+    return _draw(figures, ("spectrum", dashed, bool(title)), lambda: _spectrum_build(dashed, title), lambda p: _spectrum_fill(p, curves, title), path, overwrite)
+
+
+def spectrogram_image(samples, *, sample_rate):
+    """Spectrogram (dB re 1 unit²/Hz) resampled onto 320 log-spaced rows from 40 Hz to min(20 kHz, Nyquist).
+
+    Returns (image (320, columns), (t0, t1) s, fmax Hz, top dB). At most
+    ``MAX_COLUMNS`` columns: a long clip stays light to draw.
+    """
     x = np.asarray(samples, float)
     seg = 2048 if x.size >= 2048 else max(64, x.size)
-    hop = max(seg // 4, -(-x.size // MAX_COLUMNS))  # at most MAX_COLUMNS columns: a long clip stays light
+    hop = max(seg // 4, -(-x.size // MAX_COLUMNS))
     starts = np.arange(0, max(x.size - seg, 0) + 1, hop)
     w = np.hanning(seg + 1)[:-1]
     f = np.fft.rfftfreq(seg, 1 / sample_rate)
-    s = np.empty((f.size, starts.size))
-    for c in range(0, starts.size, 128):  # a few columns at a time (power density, one-sided)
-        idx = starts[c : c + 128, None] + np.arange(seg)[None, :]
-        s[:, c : c + 128] = (np.abs(np.fft.rfft(x[idx] * w, axis=1)) ** 2).T * (2.0 / (sample_rate * np.sum(w * w)))
-    t = (starts + seg / 2) / sample_rate
-    level = 10 * np.log10(np.maximum(s, 1e-30))
-    top = level.max() if level.size else 0.0
-    # resample onto log-spaced rows and draw as an image: light to draw however long the clip
     fmax = min(20000.0, sample_rate / 2)
     rows = np.geomspace(40.0, fmax, 320)
-    img = np.empty((rows.size, level.shape[1]))
-    for j in range(level.shape[1]):
-        img[:, j] = np.interp(rows, f, level[:, j])
+    # each row is a linear interpolation (in dB) between two neighbouring FFT bins
+    lo = np.clip(np.searchsorted(f, rows, side="right") - 1, 0, f.size - 2)
+    frac = np.clip((rows - f[lo]) / (f[lo + 1] - f[lo]), 0.0, 1.0)[:, None]
+    need = np.unique(np.concatenate([lo, lo + 1]))
+    at = np.searchsorted(need, lo)
+    scale = 2.0 / (sample_rate * np.sum(w * w))  # one-sided power density
+    img = np.empty((rows.size, starts.size))
+    for c in range(0, starts.size, 128):  # a few columns at a time
+        idx = starts[c : c + 128, None] + np.arange(seg)[None, :]
+        spec = np.fft.rfft(x[idx] * w, axis=1)[:, need].T
+        level = 10 * np.log10(np.maximum((spec.real**2 + spec.imag**2) * scale, 1e-30))
+        img[:, c : c + 128] = level[at] * (1 - frac) + level[at + 1] * frac
+    t = (starts + seg / 2) / sample_rate
+    top = float(img.max()) if img.size else 0.0
+    span = (float(t[0]), float(t[-1])) if t.size > 1 else (0.0, x.size / sample_rate)
+    return img, span, fmax, top
+
+
+def _spectrogram_build(fmax, unit, title):
+    plt = _plt()
     fig, ax = plt.subplots(figsize=(8, 4.2))
-    t0, t1 = (t[0], t[-1]) if t.size > 1 else (0.0, x.size / sample_rate)
-    mesh = ax.imshow(img, origin="lower", aspect="auto", cmap="magma", vmin=top - 90, vmax=top, extent=[t0, t1, np.log10(40.0), np.log10(fmax)], interpolation="nearest")
+    mesh = ax.imshow(np.zeros((2, 2)), origin="lower", aspect="auto", cmap="magma", vmin=-90, vmax=0, extent=[0, 1, np.log10(40.0), np.log10(fmax)], interpolation="nearest")
     ticks = [v for v in (50, 100, 200, 500, 1000, 2000, 5000, 10000, 20000) if v <= fmax]
     ax.set_yticks(np.log10(ticks))
     ax.set_yticklabels([f"{v / 1000:g}k" if v >= 1000 else f"{v:g}" for v in ticks])
     ax.set_xlabel("time (s)")
     ax.set_ylabel("frequency (Hz)")
     fig.colorbar(mesh, ax=ax, label=f"dB re 1 {unit}²/Hz")
-    if title:
-        ax.set_title(title, fontsize=10, loc="left")
     fig.subplots_adjust(left=0.1, right=1.0, bottom=0.12, top=0.92)
-    return save(fig, path, overwrite=overwrite)
+    return {"fig": fig, "axes": (ax,), "mesh": mesh, "title": _fix_title(ax, " ") if title else None}
+
+
+def _spectrogram_fill(p, image, title):
+    img, (t0, t1), fmax, top = image
+    p["mesh"].set_data(img)
+    p["mesh"].set_extent([t0, t1, np.log10(40.0), np.log10(fmax)])
+    p["mesh"].set_clim(top - 90, top)
+    if p["title"] is not None:
+        p["title"].set_text(title)
+
+
+def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrite=False, figures=None):
+    """Spectrogram (dB) on a log-frequency axis, 40 Hz to 20 kHz (see :func:`spectrogram_image`).
+
+    ``figures`` (a :class:`Figures`) reuses a figure drawn before with the same layout.
+    """
+    image = spectrogram_image(samples, sample_rate=sample_rate)
+    fmax = image[2]
+    return _draw(figures, ("spectrogram", fmax, unit, bool(title)), lambda: _spectrogram_build(fmax, unit, title), lambda p: _spectrogram_fill(p, image, title), path, overwrite)
 
 
 def overlay_plot(path, f, curves, passives, *, overwrite=False):
-    """Every design's magnitude response, the passive references dashed."""
+    """Every design's magnitude response, the passive references dashed (see :func:`overlay_png`)."""
+    write_bytes(path, overlay_png(f, curves, passives), overwrite=overwrite)
+    return Path(path)
+
+
+def overlay_png(f, curves, passives) -> bytes:
+    """PNG of every design's magnitude response, ``curves`` and ``passives`` lists of (label, complex response (F,)), the passives dashed."""
     plt = _plt()
     fig, ax = plt.subplots(figsize=(9, 5))
     for i, (label, h) in enumerate(curves):
@@ -193,9 +329,9 @@ def overlay_plot(path, f, curves, passives, *, overwrite=False):
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V per m/s)")
     ax.legend(fontsize=8, frameon=False, ncol=2)
-    ax.set_title("string velocity to amp input, every design", fontsize=10, loc="left")
+    _fix_title(ax, "string velocity to amp input, every design")
     fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
-    return save(fig, path, overwrite=overwrite)
+    return png_bytes(fig)
 
 
 def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
@@ -209,7 +345,7 @@ def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
     ax.set_ylabel(ylabel)
     ax.legend(fontsize=8, frameon=False)
     if title:
-        ax.set_title(title, fontsize=10, loc="left")
+        _fix_title(ax, title)
     fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
     return save(fig, path, overwrite=overwrite)
 
@@ -233,6 +369,6 @@ def transfer_plot(path, curves, *, title="", overwrite=False):
     ax.set_ylabel("op-amp output, limited (V)")
     ax.legend(fontsize=8, frameon=False, loc="upper left")
     if title:
-        ax.set_title(title, fontsize=10, loc="left")
+        _fix_title(ax, title)
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)

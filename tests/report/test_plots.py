@@ -1,0 +1,88 @@
+"""Plots drawn on kept figures, the spectrogram's image, and how a run is split into batches."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from render.cli.clips import batches
+from render.parallel import side_work
+from render.report import plots
+
+F = np.geomspace(20, 20000, 600)
+
+
+def _design_like(k):
+    """Made-up responses and signals (test data only): a resonant low-pass moved about with k."""
+    h = (1 + k) / (1 + 1j * F / (3000 + 1000 * k) - (F / (4000 + 500 * k)) ** 2)
+    x = np.random.default_rng(k).standard_normal(8000 * (2 + k)) * (1 + k)
+    ff = np.fft.rfftfreq(4096, 1 / 48000)
+    lv = -60 - 10 * np.log10(1 + ff / (100 * (k + 1)))
+    return h, x, ff, lv
+
+
+def _draw_all(folder, figures):
+    folder.mkdir()
+    for k in range(3):
+        h, x, ff, lv = _design_like(k)
+        plots.response_plot(folder / f"{k}-r.png", F, [(f"design {k}" * (k + 1), h)], passive=("passive reference", 0.7 * h), title=f"design {k}", overwrite=True, figures=figures)
+        plots.spectrum_plot(folder / f"{k}-s.png", [(f"design {k}", ff, lv + 3 * k, False), ("passive reference", ff, lv - 3, True)], title=f"spectrum {k}", overwrite=True, figures=figures)
+        plots.spectrogram_plot(folder / f"{k}-g.png", x, sample_rate=16000 * (1 + k % 2), title=f"spectrogram {k}", overwrite=True, figures=figures)
+    return {p.name: p.read_bytes() for p in folder.iterdir()}
+
+
+def test_a_plot_on_a_kept_figure_is_the_same_file_as_on_a_new_one(tmp_path):
+    fresh = _draw_all(tmp_path / "fresh", None)
+    with plots.Figures() as figures:
+        kept = _draw_all(tmp_path / "kept", figures)
+    assert sorted(fresh) == sorted(kept) and len(fresh) == 9
+    for name in fresh:
+        assert fresh[name] == kept[name], name
+    # and the plots do differ from one design to the next (so the comparison means something)
+    assert fresh["0-r.png"] != fresh["1-r.png"] and fresh["0-g.png"] != fresh["2-g.png"]
+
+
+def _spectrogram_by_columns(x, sample_rate):
+    """The same image the plain way: numpy's rfft per column, np.interp of the dB levels onto the rows."""
+    seg = 2048 if x.size >= 2048 else max(64, x.size)
+    hop = max(seg // 4, -(-x.size // plots.MAX_COLUMNS))
+    starts = np.arange(0, max(x.size - seg, 0) + 1, hop)
+    w = np.hanning(seg + 1)[:-1]
+    f = np.fft.rfftfreq(seg, 1 / sample_rate)
+    rows = np.geomspace(40.0, min(20000.0, sample_rate / 2), 320)
+    cols = []
+    for s in starts:
+        p = np.abs(np.fft.rfft(x[s : s + seg] * w)) ** 2 * 2.0 / (sample_rate * np.sum(w * w))
+        cols.append(np.interp(rows, f, 10 * np.log10(np.maximum(p, 1e-30))))
+    return np.array(cols).T
+
+
+@pytest.mark.parametrize("n, fs", [(48000 * 3, 48000), (44100, 44100), (1000, 8000), (100, 8000), (96000, 96000)])
+def test_spectrogram_image_matches_the_column_by_column_computation(n, fs):
+    x = np.random.default_rng(n).standard_normal(n)
+    img, (t0, t1), fmax, top = plots.spectrogram_image(x, sample_rate=fs)
+    ref = _spectrogram_by_columns(x, fs)
+    assert img.shape == ref.shape
+    assert np.max(np.abs(img - ref)) < 1e-9
+    assert fmax == min(20000.0, fs / 2) and top == pytest.approx(ref.max()) and 0 <= t0 <= t1 <= n / fs
+
+
+@pytest.mark.parametrize("n, jobs", [(0, 2), (1, 2), (2, 2), (7, 2), (10, 1), (10, 2), (11, 2), (3, 8), (100, 2), (37, 4)])
+def test_batches_cover_every_task_once_in_order_and_evenly(n, jobs):
+    runs = batches(n, jobs)
+    assert [i for r in runs for i in r] == list(range(n))
+    if n:
+        sizes = [len(r) for r in runs]
+        assert max(sizes) <= 5 and max(sizes) - min(sizes) <= 1
+        assert len(runs) % min(jobs, n) == 0  # a whole number of runs per process
+
+
+def _square(x):
+    return x * x
+
+
+@pytest.mark.parametrize("enabled", [False, True])
+def test_side_work_gives_the_same_results_in_a_process_or_here(enabled):
+    with side_work(enabled=enabled) as side:
+        futures = [side.submit(_square, k) for k in range(5)]
+        assert [f.result() for f in futures] == [0, 1, 4, 9, 16]
