@@ -28,16 +28,28 @@ def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sa
     return [write_response_plot(out, stem, design, figures=figures)] + write_signal_plots(out, stem, design, spectra=spectra, spectrogram=spectrogram, sample_rate=sample_rate, spectrogram_title=spectrogram_title, figures=figures)
 
 
-def write_response_plot(out: Path, stem: str, design, *, figures=None) -> Path:
-    """S-response.png: the design's response from string velocity to the amp input, with its passive reference."""
+def velocity_curves(designs):
+    """(f (F,) Hz, responses (N, F), passive references (N, F)): string velocity to amp input, 20 Hz to 20 kHz."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
+
+    f = np.geomspace(20, 20000, 600)
+    resp = responses(from_designs(list(designs)))
+    return f, resp.velocity()(f), resp.passive_velocity()(f)
+
+
+def write_response_plot(out: Path, stem: str, design, *, figures=None, curves=None) -> Path:
+    """S-response.png: the design's response from string velocity to the amp input, with its passive reference.
+
+    ``curves``: this design's (f, response, passive) from :func:`velocity_curves`, if already computed.
+    """
     from .plots import response_plot
 
-    d = design
-    f = np.geomspace(20, 20000, 600)
-    resp = responses(from_designs([d]))
-    return response_plot(out / f"{stem}-response.png", f, [(d.name, resp.velocity()(f)[0])], passive=("passive reference", resp.passive_velocity()(f)[0]), title=f"{d.name}: string velocity to amp input", overwrite=True, figures=figures)
+    if curves is None:
+        f, h, hp = velocity_curves([design])
+        curves = (f, h[0], hp[0])
+    f, h, hp = curves
+    return response_plot(out / f"{stem}-response.png", f, [(design.name, h)], passive=("passive reference", hp), title=f"{design.name}: string velocity to amp input", overwrite=True, figures=figures)
 
 
 def write_signal_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, figures=None) -> list[Path]:
@@ -67,9 +79,11 @@ def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
     from .atomic import write_bytes
     from .plots import Figures
 
+    designs = list(designs)
+    f, h, hp = velocity_curves(designs)
     with Figures() as figures:
-        written = [write_response_plot(out, stem, d, figures=figures) for stem, d in zip(stems, designs)]
-    return written + [write_bytes(out / "responses.png", overlay_png(list(designs)), overwrite=True)]
+        written = [write_response_plot(out, stem, d, figures=figures, curves=(f, h[i], hp[i])) for i, (stem, d) in enumerate(zip(stems, designs))]
+    return written + [write_bytes(out / "responses.png", overlay_png(designs, curves=(f, h, hp)), overwrite=True)]
 
 
 def _cell(v, fmt):
@@ -114,16 +128,14 @@ def write_run_files(out: Path, clips, records, *, dry: str, rig: str, settings: 
     return written
 
 
-def overlay_png(designs) -> bytes:
-    """The overlay plot of every design's response (string velocity to amp input), one dashed curve per distinct passive reference."""
-    from ..circuit.engine import responses
-    from ..circuit.params import from_designs
+def overlay_png(designs, *, curves=None) -> bytes:
+    """The overlay plot of every design's response (string velocity to amp input), one dashed curve per distinct passive reference.
+
+    ``curves``: :func:`velocity_curves` of ``designs``, if already computed.
+    """
     from .plots import overlay_png as draw
 
-    f = np.geomspace(20, 20000, 600)
-    resp = responses(from_designs(designs))
-    h = resp.velocity()(f)
-    hp = resp.passive_velocity()(f)
+    f, h, hp = curves if curves is not None else velocity_curves(designs)
     passives = []
     for i, d in enumerate(designs):
         if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
