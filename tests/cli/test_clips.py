@@ -93,3 +93,24 @@ def test_refusals_touch_nothing(tmp_path):
     bad.write_text(REF.read_text().replace('battery = "9V"', 'battery = "9F"'))
     res = run("clips", bad, "--dry", DRY, "--out", tmp_path / "y")
     assert res.exit_code == 1 and "unit 'F' does not fit a voltage" in res.output and not (tmp_path / "y").exists()
+
+
+def test_a_design_failing_in_a_worker_is_one_line_and_leaves_no_process(tmp_path, monkeypatch):
+    import multiprocessing
+
+    import render.clips as clips_module
+    from render.errors import InputError
+
+    real = clips_module.render_design
+
+    def fails_for_odd(design, *args, **kwargs):
+        if design.name == "odd-pair":
+            raise InputError(f"{design.source}: the render of {design.name} is not finite (made to fail by this test)")
+        return real(design, *args, **kwargs)
+
+    monkeypatch.setattr(clips_module, "render_design", fails_for_odd)  # forked workers inherit it
+    res = CliRunner().invoke(main, ["clips", str(REF), str(ODD), "--dry", str(DRY), "--seconds", "0.5", "--out", str(tmp_path / "f"), "--jobs", "2"])
+    assert res.exit_code == 1
+    assert "odd-pair is not finite (made to fail by this test)" in res.output and "Traceback" not in res.output
+    assert multiprocessing.active_children() == []  # the workers and the side process are stopped and reaped
+    assert not [p.name for p in (tmp_path / "f").iterdir() if p.name.startswith(".tmp-")]
