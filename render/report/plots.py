@@ -17,7 +17,22 @@ from .atomic import write_bytes
 INK = "#1d3557"
 CLAY = "#b5651d"
 MAX_COLUMNS = 1200  # spectrogram time columns at most
-PALETTE = ["#1d3557", "#2a9d8f", "#e76f51", "#6a4c93", "#8ab17d", "#e9c46a", "#264653", "#9c6644"]
+PALETTE = ["#1d3557", "#2a9d8f", "#e76f51", "#6a4c93", "#8ab17d", "#e9c46a", "#c9184a", "#9c6644"]  # eight colours far enough apart to tell on a line
+
+
+# line styles for curves beyond the palette's length, and for several passive references
+STYLES = ["-", (0, (6, 1.5)), (0, (1.2, 1.2)), "-."]
+PASSIVE_STYLES = ["--", (0, (8, 2, 1.5, 2)), (0, (2, 2)), (0, (4, 1.5, 1, 1.5, 1, 1.5))]
+
+
+def curve_style(i: int) -> dict:
+    """Colour and line style of the i-th design curve: the palette, then again with another line style."""
+    return {"color": PALETTE[i % len(PALETTE)], "ls": STYLES[(i // len(PALETTE)) % len(STYLES)]}
+
+
+def passive_style(j: int) -> dict:
+    """The j-th passive reference: clay, with a dash pattern of its own."""
+    return {"color": CLAY, "ls": PASSIVE_STYLES[j % len(PASSIVE_STYLES)]}
 
 
 def _plt():
@@ -88,12 +103,11 @@ def _response_build(f, n, passive, title):
     fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 6.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
     mags, phases = [], []
     for i in range(n):
-        col = PALETTE[i % len(PALETTE)]
-        mags += ax1.plot(f, np.zeros_like(f), color=col, lw=1.8, label=" ")
-        phases += ax2.plot(f, np.zeros_like(f), color=col, lw=1.4)
+        mags += ax1.plot(f, np.zeros_like(f), lw=1.8, label=" ", **curve_style(i))
+        phases += ax2.plot(f, np.zeros_like(f), lw=1.4, **curve_style(i))
     if passive:
-        mags += ax1.plot(f, np.zeros_like(f), color=CLAY, lw=1.4, ls="--", label=" ")
-        phases += ax2.plot(f, np.zeros_like(f), color=CLAY, lw=1.1, ls="--")
+        mags += ax1.plot(f, np.zeros_like(f), lw=1.4, label=" ", **passive_style(0))
+        phases += ax2.plot(f, np.zeros_like(f), lw=1.1, **passive_style(0))
     for ax in (ax1, ax2):
         _hz_axis(ax, f[0], f[-1])
     ax1.set_ylabel("level (dB re 1 V per m/s)")
@@ -183,7 +197,7 @@ def rejection_plot(path, f, curves, *, marks=(), overwrite=False):
     plt = _plt()
     fig, ax = plt.subplots(figsize=(8, 4.5))
     for i, (label, r) in enumerate(curves):
-        ax.plot(f, r, color=PALETTE[i % len(PALETTE)], lw=1.8, label=label)
+        ax.plot(f, r, lw=1.8, label=label, **curve_style(i))
     for m in marks:
         ax.axvline(m, color=CLAY, lw=0.7, ls=":", alpha=0.8)
     _hz_axis(ax, f[0], f[-1])
@@ -216,7 +230,7 @@ def _spectrum_build(dashed, title):
     fig, ax = plt.subplots(figsize=(8, 4.5))
     lines = []
     for i, d in enumerate(dashed):
-        lines += ax.plot([20.0], [0.0], color=CLAY if d else PALETTE[i % len(PALETTE)], lw=1.2 if d else 1.5, ls="--" if d else "-", label=" ")
+        lines += ax.plot([20.0], [0.0], lw=1.2 if d else 1.5, label=" ", **(passive_style(0) if d else curve_style(i)))
     _hz_axis(ax, 20, 20000)
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V²/Hz)")
@@ -322,9 +336,9 @@ def overlay_png(f, curves, passives) -> bytes:
     plt = _plt()
     fig, ax = plt.subplots(figsize=(9, 5))
     for i, (label, h) in enumerate(curves):
-        ax.plot(f, 20 * np.log10(np.abs(h)), color=PALETTE[i % len(PALETTE)], lw=1.6, label=label)
-    for label, h in passives:
-        ax.plot(f, 20 * np.log10(np.abs(h)), color=CLAY, lw=1.1, ls="--", label=label)
+        ax.plot(f, 20 * np.log10(np.abs(h)), lw=1.6, label=label, **curve_style(i))
+    for j, (label, h) in enumerate(passives):
+        ax.plot(f, 20 * np.log10(np.abs(h)), lw=1.1, label=label, **passive_style(j))
     _hz_axis(ax, f[0], f[-1])
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V per m/s)")
@@ -339,7 +353,7 @@ def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
     plt = _plt()
     fig, ax = plt.subplots(figsize=(7.5, 4.2))
     for i, (label, y, dashed) in enumerate(series):
-        ax.plot(x, y, marker="o", ms=4, color=PALETTE[i % len(PALETTE)], lw=1.6, ls="--" if dashed else "-", label=label)
+        ax.plot(x, y, marker="o", ms=4, color=PALETTE[i % len(PALETTE)], lw=1.6, ls="--" if dashed else STYLES[(i // len(PALETTE)) % len(STYLES)], label=label)
     ax.grid(True, color="#dddddd", linewidth=0.6)
     ax.set_xlabel(xlabel)
     ax.set_ylabel(ylabel)

@@ -86,3 +86,10 @@ def test_side_work_gives_the_same_results_in_a_process_or_here(enabled):
     with side_work(enabled=enabled) as side:
         futures = [side.submit(_square, k) for k in range(5)]
         assert [f.result() for f in futures] == [0, 1, 4, 9, 16]
+
+
+def test_every_curve_of_a_crowded_plot_has_a_look_of_its_own():
+    looks = [tuple(map(str, plots.curve_style(i).values())) for i in range(len(plots.PALETTE) * len(plots.STYLES))]
+    assert len(set(looks)) == len(looks)
+    passives = [str(plots.passive_style(j)["ls"]) for j in range(len(plots.PASSIVE_STYLES))]
+    assert len(set(passives)) == len(passives)
