@@ -72,7 +72,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.signal as ss
-from scipy.ndimage import maximum_filter1d
 
 from ..design import Hum
 from . import discretize as dz
@@ -348,9 +347,10 @@ def _limit_stage(plan: Plan, ext: np.ndarray, history: int):
     mag = np.abs(ext)
     if n == 0 or mag.max() <= room:
         return y, 0
-    # sample k may need the limiter if any V_lin in ext[k − span + 1 .. k] is above the room
-    trailing = maximum_filter1d(mag, size=res.span, origin=(res.span - 1) // 2, mode="constant", cval=0.0)
-    loud = trailing[history:] > room
+    # sample k may need the limiter if any V_lin in ext[k − span + 1 .. k] is above the room: a
+    # running count of such samples (zeros in front for the span before ext) differenced over the span
+    count = np.concatenate([np.zeros(res.span, dtype=np.int64), np.cumsum(mag > room)])
+    loud = count[history + res.span : ext.size + res.span] - count[history : ext.size] > 0
     clipped = 0
     R = res.oversample
     pre = res.span + 2  # output samples of warm-up before each stretch
@@ -413,7 +413,8 @@ class Renderer:
         if self._hum_period is None:
             return self._hum_direct(start, n)
         period = self._hum_period.size
-        return self._hum_period[np.mod(np.arange(start, start + n), period)]
+        offset = start % period
+        return np.tile(self._hum_period, -(-(offset + n) // period))[offset : offset + n]
 
     def _step(self, velocity: np.ndarray, db_dt: np.ndarray | None) -> dict:
         p = self.plan
