@@ -143,17 +143,20 @@ def noise_warning(design, floor: np.ndarray) -> tuple[str, ...]:
     return ()
 
 
-def render_design(design, dry_path, settings: Settings, *, dry=None) -> Clip:
+def render_design(design, dry_path, settings: Settings, *, dry=None, resampler=None) -> Clip:
     """Render ``design`` playing ``dry_path`` (a phrase or recorded velocity file).
 
     ``dry``: the dry signal already made for this design's sensing points
-    (:func:`dry_for`), when several designs share them.
+    (:func:`dry_for`), when several designs share them. ``resampler``: the
+    limiter's :func:`~render.chain.stream.design_resampler` at this sample
+    rate, when a batch of designs shares one.
     """
     from .analysis.figures import figures
-    from .chain.stream import render_signal
+    from .chain.stream import make_plan, render_signal
 
     dry = dry if dry is not None else dry_for(design, dry_path, settings)
-    r = render_signal(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum)
+    plan = make_plan(design, sample_rate=settings.sample_rate, resampler=resampler) if resampler is not None else None
+    r = render_signal(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum, plan=plan)
     volts = r["out"]
     passive = render_passive(design, dry.velocity, sample_rate=settings.sample_rate, hum=settings.hum) if settings.passive else None
     warnings_noise = ()

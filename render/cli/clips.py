@@ -14,12 +14,12 @@ from .options import friendly, make_folder, overwrite_option, prepare_out, rig_o
 CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
 
 
-def _render_one(args, figures=None):
+def _render_one(args, figures=None, resampler=None):
     """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel)."""
     from ..clips import render_design
 
     design, dry, settings, (plot_to, signal) = args
-    clip = render_design(design, dry, settings, dry=signal)
+    clip = render_design(design, dry, settings, dry=signal, resampler=resampler)
     if plot_to is not None:
         from ..report.clips import write_clip_plots
 
@@ -30,13 +30,18 @@ def _render_one(args, figures=None):
 
 
 def _render_batch(batch):
-    """Render a few designs in turn, drawing their plots on figures kept from one design to the next."""
+    """Render a few designs in turn: one limiter resampler for them all (it depends only on the
+    sample rate), their plots drawn on figures kept from one design to the next."""
+    from ..chain.stream import default_oversample, design_resampler
+
+    fs = batch[0][2].sample_rate
+    resampler = design_resampler(sample_rate=fs, oversample=default_oversample(fs))
     if not any(extra[0] for *_, extra in batch):
-        return [_render_one(args) for args in batch]
+        return [_render_one(args, resampler=resampler) for args in batch]
     from ..report.plots import Figures
 
     with Figures() as figures:
-        return [_render_one(args, figures) for args in batch]
+        return [_render_one(args, figures, resampler) for args in batch]
 
 
 def batches(n: int, jobs: int, *, most: int = 5) -> list[range]:
@@ -192,6 +197,10 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     for d in designs:
         firsts.setdefault(sensing_key(d), d)
     parallel = jobs > 1 and len(designs) > 1
+    if parallel and plots:
+        from ..report.plots import _plt
+
+        _plt()  # matplotlib first: the side process forks with it, rather than importing it again
     with side_work(enabled=parallel) as side:
         pending = {key: side.submit(dry_for, d, dry, settings) for key, d in firsts.items()}
         drawing = side.submit(write_design_only_plots, out, stems, designs) if plots else None
