@@ -268,6 +268,8 @@ def spectrogram_image(samples, *, sample_rate):
     """
     x = np.asarray(samples, float)
     seg = 2048 if x.size >= 2048 else max(64, x.size)
+    if x.size < seg:  # a clip shorter than one frame: one frame, zero-padded
+        x = np.concatenate([x, np.zeros(seg - x.size)])
     hop = max(seg // 4, -(-x.size // MAX_COLUMNS))
     starts = np.arange(0, max(x.size - seg, 0) + 1, hop)
     w = np.hanning(seg + 1)[:-1]
