@@ -24,7 +24,7 @@ def _render_one(args, figures=None, resampler=None):
         from ..report.clips import write_clip_plots
 
         folder, stem = plot_to
-        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate, figures=figures, response=False)
+        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate, figures=figures)
     # the op-amp output is not sent back: the run needs only its extremes, already in the stats
     return replace(clip, amp_out=None)
 
@@ -178,10 +178,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             for r in records:
                 for w in r["warnings"]:
                     click.echo(f"warning: {r['design']}: {w}", err=True)
-            from ..report.atomic import write_text
-            from ..report.clips import summary_markdown
-
-            write_text(out / "summary.md", summary_markdown(records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs), overwrite=True)
+            write_run_files(out, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs)
             click.echo(f"{len(records)} clip{'s' if len(records) != 1 else ''} of {length:.0f} s rendered block by block to {out}/ (full scale {vfs:g} V, fixed from the output windows; summary in {out / 'summary.md'})")
             click.echo(CAUTION)
             return
@@ -219,7 +216,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=sample_rate)
         for w in clip.warnings:
             click.echo(f"warning: {clip.design.name}: {w}", err=True)
-    write_run_files(out, clips, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs, plots=False)
+    write_run_files(out, records, dry=str(dry), rig=rig.source if rig else "each design's own", settings=settings.record(), volts_full_scale=vfs)
     over = [c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs]
     if over:
         click.echo(f"warning: {', '.join(over)} peak above the {vfs:g} V full scale; the float WAVs keep those samples, but many players clip them", err=True)

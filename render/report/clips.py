@@ -63,15 +63,15 @@ def write_signal_plots(out: Path, stem: str, design, *, spectra, spectrogram, sa
     ]
 
 
-def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, figures=None, response: bool = True) -> list[Path]:
-    """The three plots of an in-memory clip (``figures``: as for :func:`write_design_plots`); ``response=False`` leaves out S-response.png, drawn elsewhere."""
+def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, figures=None) -> list[Path]:
+    """The plots of an in-memory clip's signal, S-spectrum.png and S-spectrogram.png (``figures``: as for
+    :func:`write_design_plots`); S-response.png needs no render and is drawn by :func:`write_design_only_plots`."""
     from ..analysis.audio import long_term_spectrum
 
     spectra = [(clip.design.name, *long_term_spectrum(clip.volts, sample_rate=sample_rate), False)]
     if clip.passive_volts is not None:
         spectra.append(("passive reference", *long_term_spectrum(clip.passive_volts, sample_rate=sample_rate), True))
-    kw = dict(spectra=spectra, spectrogram=clip.volts, sample_rate=sample_rate, spectrogram_title=f"{clip.design.name}: amp input", figures=figures)
-    return (write_design_plots if response else write_signal_plots)(out, stem, clip.design, **kw)
+    return write_signal_plots(out, stem, clip.design, spectra=spectra, spectrogram=clip.volts, sample_rate=sample_rate, spectrogram_title=f"{clip.design.name}: amp input", figures=figures)
 
 
 def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
@@ -118,14 +118,9 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
     return "\n".join(lines)
 
 
-def write_run_files(out: Path, clips, records, *, dry: str, rig: str, settings: dict, volts_full_scale: float, plots: bool = True) -> list[Path]:
-    """summary.md, and with ``plots`` responses.png, the overlay of every design's response with the passive references."""
-    from .atomic import write_bytes
-
-    written = [write_text(out / "summary.md", summary_markdown(records, dry=dry, rig=rig, settings=settings, volts_full_scale=volts_full_scale), overwrite=True)]
-    if plots:
-        written.append(write_bytes(out / "responses.png", overlay_png([c.design for c in clips]), overwrite=True))
-    return written
+def write_run_files(out: Path, records, *, dry: str, rig: str, settings: dict, volts_full_scale: float) -> list[Path]:
+    """summary.md, one table of every design's measurements (responses.png is drawn with the response plots)."""
+    return [write_text(out / "summary.md", summary_markdown(records, dry=dry, rig=rig, settings=settings, volts_full_scale=volts_full_scale), overwrite=True)]
 
 
 def overlay_png(designs, *, curves=None) -> bytes:

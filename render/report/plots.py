@@ -327,12 +327,6 @@ def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrit
     return _draw(figures, ("spectrogram", fmax, unit, bool(title)), lambda: _spectrogram_build(fmax, unit, title), lambda p: _spectrogram_fill(p, image, title), path, overwrite)
 
 
-def overlay_plot(path, f, curves, passives, *, overwrite=False):
-    """Every design's magnitude response, the passive references dashed (see :func:`overlay_png`)."""
-    write_bytes(path, overlay_png(f, curves, passives), overwrite=overwrite)
-    return Path(path)
-
-
 def overlay_png(f, curves, passives) -> bytes:
     """PNG of every design's magnitude response, ``curves`` and ``passives`` lists of (label, complex response (F,)), the passives dashed."""
     plt = _plt()

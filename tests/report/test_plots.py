@@ -1,4 +1,10 @@
-"""Plots drawn on kept figures, the spectrogram's image, and how a run is split into batches."""
+"""Plots drawn on kept figures, the spectrogram's image, and how a run is split into batches.
+
+No check values that need a source: the references are the same computation done
+plainly (new figures; numpy's rfft and np.interp column by column), with 1e-9 dB
+for float rounding; the batch length of at most five and the sizes asserted are
+this project's own choices (see render.cli.clips.batches).
+"""
 
 from __future__ import annotations
 
