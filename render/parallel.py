@@ -26,11 +26,16 @@ def pmap(fn, tasks, jobs: int = 1, *, on_done=None):
     """
     tasks = list(tasks)
     if jobs <= 1 or len(tasks) <= 1:
+        from threadpoolctl import threadpool_limits
+
+        # one BLAS thread here too: a multi-threaded BLAS sums in another order, and the
+        # results must not depend on --jobs or on the machine's core count
         out = []
-        for t in tasks:
-            out.append(fn(t))
-            if on_done:
-                on_done(out[-1])
+        with threadpool_limits(1):
+            for t in tasks:
+                out.append(fn(t))
+                if on_done:
+                    on_done(out[-1])
         return out
     import gc
 
