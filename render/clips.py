@@ -199,7 +199,7 @@ def choose_full_scale(peaks, *, floor: float = 0.1) -> float:
 
 def signal_stats(volts: np.ndarray, amp_out: np.ndarray, *, clipped_fraction: float, sample_rate: int, bias_v: float) -> dict:
     """Peak, rms, op-amp output range, limiting and loudness (re 1 V full scale) of a render."""
-    from .analysis.audio import integrated_loudness
+    from .analysis.loudness import integrated_loudness
 
     return {
         "peak_v": float(np.max(np.abs(volts))) if volts.size else 0.0,
@@ -282,8 +282,11 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
 
     from .analysis.figures import figures
     from .chain.stream import Renderer, make_plan
-    from .longform import LoudnessStream, SpectrumStream, WavStream, iter_recorded
-    from .report.atomic import write_text
+    from .analysis.loudness import LoudnessMeter
+    from .analysis.spectrum import WelchSpectrum
+    from .dry.recorded import iter_recorded
+    from .io.atomic import write_text
+    from .io.wav import FloatWavWriter
 
     out = Path(out)
     fs = settings.sample_rate
@@ -298,9 +301,9 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
         noise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed)
         extra_warnings = noise_warning(design, noise)
         pnoise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed, passive=True) if passive else None
-    wav = WavStream(out / f"{stem}.wav", sample_rate=fs, overwrite=True)
-    pwav = WavStream(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
-    loud, spec = LoudnessStream(sample_rate=fs), SpectrumStream(sample_rate=fs)
+    wav = FloatWavWriter(out / f"{stem}.wav", sample_rate=fs, overwrite=True)
+    pwav = FloatWavWriter(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
+    loud, spec = LoudnessMeter(sample_rate=fs), WelchSpectrum(sample_rate=fs)
     head = []  # the first minute, for the spectrogram
     stats = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf}
     written = [0, 0]
@@ -320,8 +323,8 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
             if have < SPECTROGRAM_SECONDS * fs:
                 head.append(y[: int(SPECTROGRAM_SECONDS * fs) - have])
         wav.write(y / volts_full_scale)
-        loud.write(y)
-        spec.write(y)
+        loud.add(y)
+        spec.add(y)
         if pwav is not None and py is not None:
             if pnoise is not None and py.size:
                 idx = np.arange(written[1], written[1] + py.size) % NOISE_PERIOD
@@ -351,7 +354,7 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
         "amp_out_min_v": stats["amp_min"] if n else design.bias_v,
         "amp_out_max_v": stats["amp_max"] if n else design.bias_v,
         "clipped_fraction": renderer.clipped_fraction,
-        "loudness_lufs_1v_full_scale": loud.value(),
+        "loudness_lufs_1v_full_scale": loud.integrated(),
     }
     dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}
     rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings + extra_warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
@@ -361,3 +364,15 @@ def render_design_long(design, dry_path, settings: Settings, *, out, stem: str, 
 
         write_design_plots(out, stem, design, spectra=[(design.name, *spec.value(), False)], spectrogram=np.concatenate(head) if head else np.zeros(1), sample_rate=fs, spectrogram_title=f"{design.name}: amp input, first {SPECTROGRAM_SECONDS:g} s")
     return rec
+
+
+def window_full_scale(designs) -> float:
+    """A full scale fixed before rendering, from the designs' output windows, rounded up 1-2-5.
+
+    The op-amp output never leaves its window and the output network and
+    controls are passive, so this scale holds every render without knowing
+    its peak in advance.
+    """
+    # an AC-coupled output can swing up to twice the window's half-width (a long excursion
+    # to one rail, then a jump to the other), and the output-rate samples ring a little past it
+    return choose_full_scale([2.2 * max(d.headroom_up_v, d.headroom_down_v) for d in designs])

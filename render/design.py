@@ -12,18 +12,17 @@ amplifier) and the room it hums in.
 
 from __future__ import annotations
 
-import codecs
 import difflib
 import functools
-import hashlib
 import math
-import tomllib
 from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
 from typing import Any
 
 from . import units as U
 from .errors import InputError
+from .io.hashing import sha256_bytes
+from .io.toml import read_toml
 
 INF = math.inf
 
@@ -138,7 +137,6 @@ DESIGN_TABLES = {
 }
 REQUIRED_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 TOP_KEYS = ("name", "notes")
-MAX_FILE_BYTES = 1_000_000  # a design file is a few kB; refuse anything huge
 MAX_NAME_CHARS = 120  # a design's name heads tables, plots and messages (common practice, no source)
 
 
@@ -393,66 +391,6 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
     return out
 
 
-def read_file_bytes(path: str | Path, *, limit: int, what: str, missing: str = "check the path") -> bytes:
-    """The bytes of a regular file of at most ``limit`` bytes; every failure is one line.
-
-    what : how the file is named in messages ("a design, rig or phrase file")
-    missing : the fix offered when there is no such file
-    """
-    p = Path(path)
-    try:
-        st = p.stat()
-    except FileNotFoundError:
-        raise InputError(f"{path}: no such file; {missing}") from None
-    except OSError as exc:
-        raise InputError(f"{path}: cannot be read ({exc.strerror}); check the path and its permissions") from None
-    if p.is_dir():
-        raise InputError(f"{path}: is a folder, expected a .toml file")
-    if not p.is_file():
-        raise InputError(f"{path}: is not a regular file (a device or a pipe?); give {what} saved on disk")
-    if st.st_size > limit:
-        raise InputError(f"{path}: file is {st.st_size} bytes; {what} must be under {limit} bytes")
-    try:
-        with open(p, "rb") as fh:
-            raw = fh.read(limit + 1)  # never trust the size alone: the file may grow while read
-    except OSError as exc:
-        raise InputError(f"{path}: cannot be read ({exc.strerror}); check the path and its permissions") from None
-    if len(raw) > limit:
-        raise InputError(f"{path}: file is over {limit} bytes; {what} must be under {limit} bytes")
-    return raw
-
-
-def decode_toml_text(raw: bytes, path, *, not_utf8: str = "not a UTF-8 text file", fix: str = "save it as UTF-8 TOML") -> str:
-    """The UTF-8 text of a TOML file; InputError (one line) for any other encoding.
-
-    A UTF-8 byte-order mark is refused rather than dropped: the text is kept
-    as written in session keys and read again later, where it must parse.
-    not_utf8, fix : the message's wording for bytes that are not UTF-8
-    """
-    if raw.startswith(codecs.BOM_UTF8):
-        raise InputError(f"{path}: starts with a byte-order mark (BOM); save it as UTF-8 without BOM")
-    if raw.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
-        raise InputError(f"{path}: {not_utf8} (it starts like UTF-16); {fix}")
-    try:
-        return raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise InputError(f"{path}: {not_utf8} (byte {exc.start} is 0x{raw[exc.start]:02x}); {fix}") from None
-
-
-def read_toml(path: str | Path) -> tuple[dict, bytes]:
-    """Read a TOML file with size and encoding checks; errors are one line."""
-    raw = read_file_bytes(path, limit=MAX_FILE_BYTES, what="a design, rig or phrase file")
-    text = decode_toml_text(raw, path)
-    if "\x00" in text:
-        raise InputError(f"{path}: contains NUL bytes; expected a TOML text file")
-    try:
-        return tomllib.loads(text), raw
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"{path}: not valid TOML ({exc}); check quotes and brackets") from None
-    except RecursionError:
-        raise InputError(f"{path}: arrays or tables nested too deeply to read; a design file needs two levels at most") from None
-
-
 def _coil(d: dict, default_signal: int) -> Coil:
     d = dict(d)
     d.setdefault("signal_polarity", default_signal)
@@ -560,7 +498,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
 def load_design(path: str | Path) -> Design:
     """Load and validate one design file."""
     data, raw = read_toml(path)
-    return parse_design(data, source=str(path), name=Path(path).stem, sha256=hashlib.sha256(raw).hexdigest())
+    return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw))
 
 
 @dataclass(frozen=True)
@@ -583,7 +521,7 @@ def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile
 def load_rig(path: str | Path) -> RigFile:
     """Load a rig file; its [rig] replaces a design's own, and so does its [hum] if present."""
     data, raw = read_toml(path)
-    return parse_rig(data, source=str(path), sha256=hashlib.sha256(raw).hexdigest())
+    return parse_rig(data, source=str(path), sha256=sha256_bytes(raw))
 
 
 def apply_rig(design: Design, rig_file: RigFile | None) -> Design:

@@ -88,7 +88,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     """
     import numpy as np
 
-    from ..analysis.audio import integrated_loudness
+    from ..analysis.loudness import integrated_loudness
     from ..analysis.bias import onset, sweep
     from ..parallel import pmap
     from ..chain.limit import design_window, soft_limit
@@ -153,7 +153,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
         st = Settings(seconds=seconds, seed=seed, hum=True)
         renders = pmap(_clip, [(s.design, dry, st, strength_m) for s in settings_list], jobs)
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
-        from ..report.wav import write_float_wav
+        from ..io.wav import write_float_wav
 
         for s, x, r in zip(settings_list, renders, rows):
             tag = f"r{s.ratio:.3f}-{s.battery:g}V".replace(".", "p")

@@ -148,9 +148,9 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         if seconds is not None and seconds > 600:
             raise InputError(f"--seconds={seconds:g}: a phrase renders in memory, at most 600 s; for longer takes use a recording")
     elif not from_di:
-        from ..dry.recorded import check_recorded
+        from ..io.audio import audio_info
 
-        check_recorded(dry, max_seconds=None)
+        audio_info(dry)
     designs, rig = load_designs(models, rig_path)
     stems = [Path(d.source).stem for d in designs]
     if len(set(stems)) != len(stems):
@@ -164,10 +164,10 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     rig_record = {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
     if dry.suffix.lower() != ".toml":
-        from ..clips import LONG_SECONDS
-        from ..longform import clip_seconds, window_full_scale
+        from ..clips import LONG_SECONDS, window_full_scale
+        from ..dry.recorded import recorded_seconds
 
-        length = seconds if seconds is not None else clip_seconds(dry, sample_rate=sample_rate)
+        length = seconds if seconds is not None else recorded_seconds(dry)
         if length > LONG_SECONDS:
             # a long recording: rendered, measured and written block by block in bounded memory,
             # at a full scale fixed in advance from the designs' output windows

@@ -65,8 +65,8 @@ def dry_command(phrase, out, position, aperture, sample_rate, seed, seconds, spe
     """Preview a phrase's string velocity at one sensing point as a WAV."""
     from render.dry.modal import string_velocity
     from render.dry.phrase import load_phrase
-    from render.report.atomic import write_bytes
-    from render.report.wav import float_wav_bytes
+    from render.io.atomic import write_bytes
+    from render.io.wav import float_wav_bytes
 
     try:
         x = _option_quantity("--position", position, LENGTH)

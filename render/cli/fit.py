@@ -41,7 +41,8 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
     from ..circuit.params import from_designs
     from ..design import apply_rig, load_design, load_rig, parse_design
     from ..errors import InputError
-    from ..report.atomic import write_text
+    from ..io.atomic import write_text
+    from ..io.toml import loads
 
     spec = load_fit(fitfile, start_override=start_path)
     start_file = Path(spec.start_path)
@@ -70,7 +71,7 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
         )
         path = out / f"{stem}-fit-{rank}.toml"
         body = rewrite(text, changes, header, name=path.stem)
-        data = __import__("tomllib").loads(body)
+        data = loads(body)
         parse_design(data, source=str(path), name=path.stem)  # the written file must be a valid design
         write_text(path, body, overwrite=True)
         written.append(path)

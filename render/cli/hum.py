@@ -30,7 +30,7 @@ def write_hum_audio(out, d, table, *, seconds=4.0, sample_rate=48000):
 
     from ..analysis.hum import measured_rejection
     from ..clips import choose_full_scale
-    from ..report.wav import write_float_wav
+    from ..io.wav import write_float_wav
 
     m = measured_rejection(d, seconds=seconds, settle=1.0, sample_rate=sample_rate)
     vfs = choose_full_scale([np.abs(m[k]).max() for k in ("both", "coil_a", "coil_b")], floor=1e-6)

@@ -57,7 +57,7 @@ def load_designs(paths, rig_path=None):
 
 def emit_json(path, payload, *, overwrite):
     """Write JSON to ``path`` atomically, or to stdout for '-'."""
-    from ..report.atomic import write_text
+    from ..io.atomic import write_text
 
     text = json.dumps(payload, indent=2, sort_keys=False, allow_nan=False) + "\n"
     if path == "-":

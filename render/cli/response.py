@@ -79,7 +79,7 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, ov
         if csv_path == "-":
             click.echo(text, nl=False)
         else:
-            from ..report.atomic import write_text
+            from ..io.atomic import write_text
 
             write_text(csv_path, text, overwrite=overwrite)
     if png_path:

@@ -37,7 +37,7 @@ VOLTS_FULL_SCALE = 1.0  # default: a DI sample of 1.0 is 1 V at the amp input
 VOLTS_RANGE = (1e-4, 100.0)  # V at full scale accepted
 BOOST_RANGE = (0.0, 40.0)  # dB accepted for --max-boost
 MODEL_ERROR = 0.10  # the model error whose effect every run reports
-WAV_HEADER = 64  # bytes, at least, of render.report.wav's float WAV header (RIFF, fmt, fact, data)
+WAV_HEADER = 64  # bytes, at least, of render.io.wav's float WAV header (RIFF, fmt, fact, data)
 
 
 @dataclass(frozen=True)
@@ -75,12 +75,12 @@ def _open_di(path: Path):
     """(sample_rate, frames) of a mono audio file, or InputError."""
     import soundfile as sf
 
-    from ..dry.recorded import check_recorded
+    from ..io.audio import audio_info
 
     name = str(path)
     try:
         # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header
-        check_recorded(path, max_seconds=None)
+        audio_info(path)
     except InputError as e:
         raise InputError(f"DI={e}") from None
     info = sf.info(name)
@@ -101,32 +101,9 @@ def _blocks(path: Path):
     yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
 
 
-class _FlatRuns:
-    """Counts flat runs at full scale (a clipped recording), across block boundaries."""
-
-    def __init__(self):
-        from ..dry.recorded import CLIP_LEVEL, CLIP_RUN
-
-        self.level, self.run_len = CLIP_LEVEL, CLIP_RUN
-        self.prev, self.length, self.runs, self.first, self.at = None, 0, 0, -1, 0
-
-    def add(self, x: np.ndarray) -> None:
-        for i in np.flatnonzero(np.abs(x) >= self.level):  # few samples in any sane recording
-            value, pos = x[i], self.at + int(i)
-            if self.prev is not None and value == self.prev[0] and pos == self.prev[1] + 1:
-                self.length += 1
-            else:
-                self.length = 1
-            if self.length == self.run_len:
-                self.runs += 1
-                self.first = pos - self.run_len + 1 if self.first < 0 else self.first
-            self.prev = (value, pos)
-        self.at += x.size
-
-
 def _wav_header(frames: int, sample_rate: int) -> bytes:
-    """The header :func:`render.report.wav.float_wav_bytes` writes for ``frames`` mono samples."""
-    from ..report.wav import float_wav_bytes
+    """The header :func:`render.io.wav.float_wav_bytes` writes for ``frames`` mono samples."""
+    from ..io.wav import float_wav_bytes
 
     head = bytearray(float_wav_bytes(np.zeros(0), sample_rate))
     payload = 4 * frames  # mono float32: always even, no pad byte
@@ -205,7 +182,7 @@ def unvoice_file(
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
     from ..design import design_to_dict
-    from ..report.atomic import atomic_path
+    from ..io.atomic import atomic_path
     from .options import check_new, load_designs
 
     boost = U.MAX_BOOST_DB if max_boost_db is None else _check_number("--max-boost", max_boost_db, *BOOST_RANGE, "dB above the inverse's 1 kHz level")
@@ -229,7 +206,9 @@ def unvoice_file(
 
     # pass 1: statistics (and every sample checked before anything is written)
     stats_acc = U.SpectrumAccumulator(sample_rate=sample_rate)
-    flats = _FlatRuns()
+    from ..io.audio import FlatRuns
+
+    flats = FlatRuns()
     peak, at = 0.0, 0
     for block in _blocks(di):
         bad = ~np.isfinite(block)

@@ -21,7 +21,6 @@ from __future__ import annotations
 import difflib
 import math
 import re
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 from types import MappingProxyType
@@ -415,19 +414,10 @@ def load_phrase(path: str | Path) -> Phrase:
     InputError
         One line naming the file, table, ``key=value`` and the constraint.
     """
-    from render.design import decode_toml_text, read_file_bytes
+    from ..io.toml import read_toml
 
     name = str(path)
-    raw = read_file_bytes(path, limit=MAX_PHRASE_BYTES, what="a phrase file", missing="give the path of a phrase file (.toml)")
-    text = decode_toml_text(raw, name, not_utf8="is not UTF-8 text", fix="a phrase file is TOML text saved as UTF-8")
-    if "\x00" in text:
-        raise InputError(f"{name}: contains NUL bytes; a phrase file is TOML text")
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as e:
-        raise InputError(f"{name}: is not valid TOML ({e}); fix the syntax") from None
-    except RecursionError:
-        raise InputError(f"{name}: arrays or tables nested too deeply to read; a phrase needs three levels at most") from None
+    data, _ = read_toml(path, limit=MAX_PHRASE_BYTES, what="a phrase file", missing="give the path of a phrase file (.toml)")
     return parse_phrase(data, source=name)
 
 

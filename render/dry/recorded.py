@@ -1,138 +1,29 @@
-"""Recorded string-velocity signals in, float WAV files out.
+"""Recorded string-velocity signals, whole or block by block.
 
-A recorded (or prepared) dry signal is any file libsndfile reads. Full
-scale (a sample of 1.0) is 1 m/s times ``velocity_scale``. A mono file
-feeds both coils; a two-channel file feeds coil_a (first channel) and
-coil_b (second).
-
-Output WAVs are IEEE float (format tag 3), written here byte by byte so that
-identical inputs give identical files (no time stamps), and atomically: a
-temporary file beside the target, flushed to disk, then renamed over it.
+A recorded (or prepared) dry signal is any file libsndfile reads
+(:mod:`render.io.audio` checks and reads it). Full scale (a sample of 1.0)
+is 1 m/s times ``velocity_scale``. A mono file feeds both coils; a
+two-channel file feeds coil_a (first channel) and coil_b (second).
 """
 
 from __future__ import annotations
 
 import math
-import re
+from collections.abc import Iterator
 from pathlib import Path
 
 import numpy as np
 
-from render.errors import InputError
+from ..errors import InputError
+from ..io.audio import CLIP_LEVEL, CLIP_RUN, FlatRuns, audio_info, iter_audio, read_audio
 
-# A sample at or above this magnitude counts as full scale, and this many
-# equal ones in a row as a clipped (flat) top (common practice, no source).
-CLIP_LEVEL = 0.999
-CLIP_RUN = 4
+BLOCK = 65536  # frames per block when a recording is streamed
 # The longest recording read, as for a phrase; anything longer is refused
 # before it is read (a render holds the whole signal in memory).
 MAX_SECONDS = 600.0
-# Sample rates a file's header may declare; outside them the header is damaged.
-MIN_FILE_RATE, MAX_FILE_RATE = 1000, 768000
 # A plucked string moves at a few m/s; a peak far above this means a wrong
 # --velocity-scale or a file at the wrong level (common practice, no source).
 PLAUSIBLE_VELOCITY = 100.0
-# Declared sizes that mean "unknown" in a WAV written while recording.
-_UNKNOWN_SIZES = (0, 0xFFFFFFFF)
-
-
-def _wav_shortfall(p: Path) -> tuple[int, int] | None:
-    """(declared, present) bytes of a RIFF WAVE file's data chunk when the file is cut short; else None."""
-    size = p.stat().st_size
-    with open(p, "rb") as fh:
-        head = fh.read(12)
-        if len(head) < 12 or head[:4] != b"RIFF" or head[8:12] != b"WAVE":
-            return None
-        pos = 12
-        while pos + 8 <= size:
-            fh.seek(pos)
-            chunk = fh.read(8)
-            if len(chunk) < 8:
-                return None
-            ident, length = chunk[:4], int.from_bytes(chunk[4:], "little")
-            if ident == b"data":
-                present = size - pos - 8
-                if length not in _UNKNOWN_SIZES and length > present:
-                    return length, present
-                return None
-            pos += 8 + length + (length & 1)
-    return None
-
-
-def _looks_like_text(p: Path) -> bool:
-    with open(p, "rb") as fh:
-        head = fh.read(512)
-    if not head or b"\x00" in head:
-        return False
-    try:
-        head.decode("utf-8")
-    except UnicodeDecodeError as e:
-        return e.start >= len(head) - 3  # a character cut by the 512-byte window
-    return True
-
-
-
-def _reason(e: Exception) -> str:
-    """libsndfile's own reason, without the file name it repeats."""
-    text = str(e).strip().splitlines()[-1] if str(e).strip() else type(e).__name__
-    return re.sub(r"^Error opening .*?: ", "", text)
-
-
-def check_recorded(path: str | Path, *, max_seconds: float | None = MAX_SECONDS) -> tuple[int, int, int]:
-    """(channels, sample_rate, frames) of a recorded file that can be used; InputError (one line) if not.
-
-    Refuses: no such file, a folder, a device or pipe, a WAV cut short (its
-    header declares more audio than the file holds), anything libsndfile
-    cannot open (with a hint when it is a text file), more than two
-    channels, a header sample rate outside 1 kHz to 768 kHz (a damaged
-    header), no frames, and with ``max_seconds`` a file longer than that.
-    """
-    import soundfile as sf
-
-    name = str(path)
-    p = Path(path)
-    if not p.exists():
-        raise InputError(f"{name}: no such file; give the path of an audio file (WAV, FLAC, ...)")
-    if p.is_dir():
-        raise InputError(f"{name}: is a folder; give the path of an audio file (WAV, FLAC, ...)")
-    if not p.is_file():
-        raise InputError(f"{name}: is not a regular file (a device or a pipe?); give an audio file saved on disk")
-    try:
-        if p.stat().st_size == 0:
-            raise InputError(f"{name}: is empty (0 bytes); record or export it again")
-        short = _wav_shortfall(p)
-        text = _looks_like_text(p)
-    except OSError as e:
-        raise InputError(f"{name}: cannot be read ({e.strerror}); check the path and its permissions") from None
-    if short:
-        raise InputError(
-            f"{name}: cut short: its header declares {short[0]} bytes of audio but the file holds {short[1]}; "
-            "the copy or export stopped early, so copy or export it again"
-        )
-    try:
-        info = sf.info(name)
-    except (sf.LibsndfileError, RuntimeError, TypeError, ValueError, OSError) as e:
-        hint = "; it holds text, and a phrase file must end in .toml" if text else ""
-        raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC{hint}") from None
-    channels, rate, frames = int(info.channels), int(info.samplerate), int(info.frames)
-    if channels > 2:
-        raise InputError(
-            f"{name}: channels={channels}: at most 2 (mono feeds both coils, two channels feed coil_a and coil_b); "
-            "mix down or split the file"
-        )
-    if not MIN_FILE_RATE <= rate <= MAX_FILE_RATE:
-        raise InputError(
-            f"{name}: samplerate={rate} in its header: expected {MIN_FILE_RATE} to {MAX_FILE_RATE} Hz; "
-            "the header is probably damaged, export the file again"
-        )
-    if frames <= 0:
-        raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
-    if max_seconds is not None and frames > max_seconds * rate:
-        raise InputError(
-            f"{name}: {frames / rate:.1f} s long: at most {max_seconds:g} s of a recording is read at once; "
-            "cut out the part you want to hear"
-        )
-    return channels, rate, frames
 
 
 def load_recorded(
@@ -161,10 +52,9 @@ def load_recorded(
     Raises
     ------
     InputError
-        Everything :func:`check_recorded` refuses, NaN or infinite samples,
+        Everything :func:`render.io.audio.audio_info` refuses, NaN or infinite samples,
         or a bad ``sample_rate`` / ``velocity_scale``.
     """
-    import soundfile as sf
     import soxr
 
     name = str(path)
@@ -174,16 +64,10 @@ def load_recorded(
         raise InputError(f"velocity_scale={velocity_scale!r}: must be a number > 0 (m/s at full scale)")
     if seconds is not None and not (isinstance(seconds, (int, float)) and 0 < seconds <= MAX_SECONDS):
         raise InputError(f"seconds={seconds!r}: the length must be > 0 s and <= {MAX_SECONDS:g} s")
-    channels, rate, frames = check_recorded(path, max_seconds=None if seconds is not None else MAX_SECONDS)
+    info = audio_info(path, max_seconds=None if seconds is not None else MAX_SECONDS)
+    channels, rate, frames = info.channels, info.sample_rate, info.frames
     wanted = frames if seconds is None else min(frames, int(math.ceil(seconds * rate)) + rate // 10 + 64)  # 0.1 s more for the resampler
-    try:
-        with sf.SoundFile(name) as f:
-            data = f.read(wanted, dtype="float64", always_2d=True)
-    except (sf.LibsndfileError, RuntimeError, TypeError, ValueError, OSError) as e:
-        raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC") from None
-    if data.shape[0] == 0:
-        raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
-    check_finite(name, data, rate)
+    data = read_audio(path, frames=wanted)
 
     warnings = []
     peak = float(np.max(np.abs(data))) * float(velocity_scale)
@@ -192,7 +76,9 @@ def load_recorded(
             f"{name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={velocity_scale:g}) is far beyond "
             f"a plucked string's few m/s; check --velocity-scale and the file's level"
         )
-    runs, first = _clip_runs(data)
+    flats = FlatRuns()
+    flats.add(data)
+    runs, first = flats.runs, flats.first
     if runs:
         warnings.append(
             f"{name}: {runs} flat run(s) of {CLIP_RUN}+ equal samples at full scale (|x| >= {CLIP_LEVEL}), the first at {first / rate:.3f} s; "
@@ -204,18 +90,6 @@ def load_recorded(
     return to_velocity(data, channels, velocity_scale), warnings
 
 
-def check_finite(name: str, data: np.ndarray, rate: int, *, start: int = 0) -> None:
-    """InputError naming the first NaN or infinite sample of ``data`` (frames, channels), frame ``start`` onwards."""
-    bad = ~np.isfinite(data)
-    if bad.any():
-        i, c = np.argwhere(bad)[0]
-        k = start + int(i)
-        raise InputError(
-            f"{name}: sample {k} (channel {int(c) + 1}, {k / rate:.4f} s) = {float(data[i, c])}: "
-            "every sample must be finite; repair the file or export it again"
-        )
-
-
 def to_velocity(data: np.ndarray, channels: int, velocity_scale: float) -> np.ndarray:
     """Samples (frames, channels) as string velocity (2, frames) in m/s; a mono file feeds both coils."""
     velocity = np.ascontiguousarray(np.asarray(data, dtype=np.float64).reshape(-1, channels).T) * float(velocity_scale)
@@ -224,24 +98,32 @@ def to_velocity(data: np.ndarray, channels: int, velocity_scale: float) -> np.nd
     return velocity
 
 
-def _clip_runs(data: np.ndarray) -> tuple[int, int]:
-    """Flat tops at full scale: runs of CLIP_RUN or more equal samples with |x| >= CLIP_LEVEL.
+def recorded_seconds(path: str | Path) -> float:
+    """Duration (s) of a recorded file (any length)."""
+    return audio_info(path).seconds
 
-    Returns the number of such runs (over all channels) and the first one's
-    start frame (-1 if none). A float file whose peaks pass 1.0 without
-    flattening is not clipped and is not counted.
+
+def iter_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None, block: int = BLOCK) -> Iterator[np.ndarray]:
+    """Blocks of string velocity, m/s, shape (2, k), at ``sample_rate``, for a recording of any length.
+
+    Mono feeds both coils; two channels feed coil_a and coil_b. Every block
+    is checked for NaN or infinite samples (InputError naming the time).
+    With ``seconds`` the stream is cut, or padded with silence, to that length.
     """
-    runs, first = 0, -1
-    for x in data.T:
-        flat = (np.abs(x[1:]) >= CLIP_LEVEL) & (x[1:] == x[:-1])  # sample i+1 repeats sample i
-        if np.count_nonzero(flat) < CLIP_RUN - 1:
-            continue
-        edges = np.diff(np.concatenate([[0], flat.astype(np.int8), [0]]))
-        starts = np.flatnonzero(edges == 1)
-        stops = np.flatnonzero(edges == -1)
-        long = (stops - starts) >= CLIP_RUN - 1
-        if long.any():
-            runs += int(long.sum())
-            s0 = int(starts[long][0])
-            first = s0 if first < 0 else min(first, s0)
-    return runs, first
+    channels = audio_info(path).channels
+    total_out = None if seconds is None else int(round(seconds * sample_rate))
+    produced = 0
+    for data in iter_audio(path, block=block, sample_rate=sample_rate):
+        out = to_velocity(data, channels, velocity_scale)
+        if total_out is not None:
+            out = out[:, : max(0, total_out - produced)]
+        if out.shape[1]:
+            produced += out.shape[1]
+            yield out
+        if total_out is not None and produced >= total_out:
+            return
+    if total_out is not None:
+        while produced < total_out:
+            k = min(block, total_out - produced)
+            produced += k
+            yield np.zeros((2, k))

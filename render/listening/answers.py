@@ -23,7 +23,7 @@ import os
 import threading
 
 from ..errors import InputError
-from ..report.atomic import fsync_folder
+from ..io.atomic import fsync_folder
 from .layout import ANSWERS, SessionPaths
 
 MAX_COMMENT = 2000  # characters

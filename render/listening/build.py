@@ -9,7 +9,7 @@ whatever strategy the listener follows.
 Clip names come from :func:`secrets.token_hex`, never from the seed, so
 nothing served can be used to rebuild the key. Each clip slot of each trial
 gets its own file; all are float32 WAVs of one length, written by
-:func:`render.report.wav.float_wav_bytes` (no PEAK chunk, no timestamp, no
+:func:`render.io.wav.float_wav_bytes` (no PEAK chunk, no timestamp, no
 tags), so files differ only in their audio. All get the same modification
 time.
 
@@ -31,7 +31,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
-from ..report.atomic import fsync_folder
+from ..io.atomic import fsync_folder
 from .layout import KEY_FORMAT, METHODS, PLAN_FORMAT, SLOTS, VERSION, SessionPaths
 
 MAX_TRIALS = 500
@@ -111,7 +111,7 @@ def build_session(
     -------
     SessionPaths of the finished session.
     """
-    from ..report.wav import float_wav_bytes
+    from ..io.wav import float_wav_bytes
 
     out = Path(out)
     check_out(out, overwrite=overwrite)

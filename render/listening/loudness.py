@@ -1,10 +1,8 @@
 """Loudness matching with a true-peak ceiling.
 
-Integrated loudness is ITU-R BS.1770-4 (pyloudnorm, through
-:func:`render.analysis.audio.integrated_loudness`); the default target is
-EBU R 128's −23 LUFS. True peak is estimated as BS.1770-4 Annex 2 describes:
-oversample by four and take the largest magnitude (here with
-:func:`scipy.signal.resample_poly`, a windowed-sinc polyphase filter).
+Integrated loudness and true peak are ITU-R BS.1770-4
+(:mod:`render.analysis.loudness`); the default target is EBU R 128's
+−23 LUFS.
 
 Every signal gets the gain that brings it to the target. If any would then
 pass the ceiling, every signal is lowered by the same amount, so they stay
@@ -13,27 +11,12 @@ matched to each other; the amount is recorded.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 
+from ..analysis.loudness import integrated_loudness, true_peak_dbtp
 from ..errors import InputError
-
-OVERSAMPLE = 4
-
-
-def true_peak_dbtp(x: np.ndarray) -> float:
-    """True peak of ``x`` (shape (n,), full scale ±1) in dBTP; −inf for silence."""
-    from scipy.signal import resample_poly
-
-    x = np.asarray(x, float)
-    if x.size == 0:
-        return -math.inf
-    up = resample_poly(x, OVERSAMPLE, 1)
-    peak = max(float(np.max(np.abs(up))), float(np.max(np.abs(x))))
-    return 20.0 * math.log10(peak) if peak > 0 else -math.inf
-
 
 @dataclass(frozen=True)
 class Match:
@@ -50,7 +33,7 @@ class Match:
 
     def record(self) -> dict:
         return {
-            "method": "ITU-R BS.1770-4 integrated loudness (pyloudnorm); true peak by 4x oversampling",
+            "method": "ITU-R BS.1770-4 integrated loudness; true peak by 4x oversampling",
             "target_lufs": self.target_lufs,
             "ceiling_dbtp": self.ceiling_dbtp,
             "lowered_db": self.lowered_db,
@@ -79,8 +62,6 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
     InputError
         A signal too short to measure (under one 400 ms block), silent, or not finite.
     """
-    from ..analysis.audio import integrated_loudness
-
     names = list(names) if names is not None else [f"signal {i}" for i in range(len(signals))]
     xs = [np.asarray(s, float) for s in signals]
     measured, peaks = [], []

@@ -127,17 +127,16 @@ def summary_lines(result: dict) -> list[str]:
 
 def designs_from_key(key: dict):
     """The two designs, rebuilt from the TOML text kept in the key (as they were rendered)."""
-    import tomllib
-
     from ..design import apply_rig, parse_design, parse_rig
+    from ..io.toml import loads
 
     rig = None
     if key.get("rig"):
         r = key["rig"]
-        rig = parse_rig(tomllib.loads(r["toml"]), source=r["path"], sha256=r["sha256"])
+        rig = parse_rig(loads(r["toml"]), source=r["path"], sha256=r["sha256"])
     out = []
     for d in key["designs"]:
-        out.append(apply_rig(parse_design(tomllib.loads(d["toml"]), source=d["path"], name=d["name"], sha256=d["sha256"]), rig))
+        out.append(apply_rig(parse_design(loads(d["toml"]), source=d["path"], name=d["name"], sha256=d["sha256"]), rig))
     return out
 
 

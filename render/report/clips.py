@@ -7,8 +7,8 @@ from pathlib import Path
 
 import numpy as np
 
-from .atomic import write_text
-from .wav import write_float_wav
+from ..io.atomic import write_text
+from ..io.wav import write_float_wav
 
 
 def write_design_audio(out: Path, stem: str, clip, rec: dict, *, volts_full_scale: float, sample_rate: int) -> list[Path]:
@@ -66,7 +66,7 @@ def write_signal_plots(out: Path, stem: str, design, *, spectra, spectrogram, sa
 def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, figures=None) -> list[Path]:
     """The plots of an in-memory clip's signal, S-spectrum.png and S-spectrogram.png (``figures``: as for
     :func:`write_design_plots`); S-response.png needs no render and is drawn by :func:`write_design_only_plots`."""
-    from ..analysis.audio import long_term_spectrum
+    from ..analysis.spectrum import long_term_spectrum
 
     spectra = [(clip.design.name, *long_term_spectrum(clip.volts, sample_rate=sample_rate), False)]
     if clip.passive_volts is not None:
@@ -76,7 +76,7 @@ def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, figures=No
 
 def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
     """What can be drawn before any clip is rendered: every S-response.png and responses.png, the overlay of them all."""
-    from .atomic import write_bytes
+    from ..io.atomic import write_bytes
     from .plots import Figures
 
     designs = list(designs)

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .atomic import write_bytes
+from ..io.atomic import write_bytes
 
 INK = "#1d3557"
 CLAY = "#b5651d"

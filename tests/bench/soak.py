@@ -45,9 +45,9 @@ def soak(renders: int = 200, *, every: int = 20, seconds: float = 0.25, out=None
     """Render ``renders`` times in this process; returns (render count, resident MB) at each report."""
     from render.clips import Settings, record, render_design
     from render.design import load_design
-    from render.report.atomic import write_text
+    from render.io.atomic import write_text
     from render.report.plots import spectrogram_plot
-    from render.report.wav import write_float_wav
+    from render.io.wav import write_float_wav
 
     designs = [load_design(p) for p in sorted(glob.glob(str(ROOT / "models" / "*.toml")))]
     dry = ROOT / "dry_signals" / "default.toml"

@@ -10,7 +10,7 @@ import pytest
 import soundfile as sf
 from click.testing import CliRunner
 
-from render.analysis.audio import integrated_loudness
+from render.analysis.loudness import integrated_loudness
 from render.cli import main
 
 ROOT = Path(__file__).resolve().parents[2]

@@ -208,11 +208,11 @@ def test_load_phrase_file_errors(tmp_path):
         load_phrase(tmp_path / "missing.toml")
     bad = tmp_path / "bad.toml"
     bad.write_text("[[note]\ntime = 0\n")
-    with pytest.raises(InputError, match=r"bad.toml: is not valid TOML \(.*\); fix the syntax"):
+    with pytest.raises(InputError, match=r"bad.toml: not valid TOML \(.*\); check quotes and brackets"):
         load_phrase(bad)
     binary = tmp_path / "bin.toml"
     binary.write_bytes(b"\xff\xfe\x00")
-    with pytest.raises(InputError, match=r"is not UTF-8 text"):
+    with pytest.raises(InputError, match=r"not a UTF-8 text file"):
         load_phrase(binary)
     good = tmp_path / "riff.toml"
     good.write_text('[[note]]\ntime = 0\npitch = "E2"\n')

@@ -11,8 +11,8 @@ import soundfile as sf
 
 from render.dry import dry_velocity
 from render.dry.recorded import load_recorded
-from render.report.atomic import atomic_path
-from render.report.wav import float_wav_bytes, write_float_wav
+from render.io.atomic import atomic_path
+from render.io.wav import float_wav_bytes, write_float_wav
 from render.errors import InputError
 
 FS = 48000

@@ -76,7 +76,7 @@ def check_outputs(folder: Path, *, frames: int | None = None, sample_rate: int =
 @pytest.fixture()
 def short_wav(tmp_path):
     """A 0.25 s mono float WAV of a 220 Hz sine at 0.1 m/s, 48 kHz."""
-    from render.report.wav import float_wav_bytes
+    from render.io.wav import float_wav_bytes
 
     fs = 48000
     x = 0.1 * np.sin(2 * np.pi * 220 * np.arange(fs // 4) / fs)

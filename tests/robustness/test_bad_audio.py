@@ -10,9 +10,10 @@ import numpy as np
 import pytest
 import soundfile as sf
 
-from render.dry.recorded import MAX_SECONDS, check_recorded, load_recorded
+from render.dry.recorded import MAX_SECONDS, load_recorded
+from render.io.audio import AudioInfo, audio_info
 from render.errors import InputError
-from render.report.wav import float_wav_bytes
+from render.io.wav import float_wav_bytes
 
 from .conftest import REF, assert_refused, check_outputs, run
 
@@ -139,7 +140,7 @@ def test_a_recording_too_long_to_read_at_once(tmp_path):
         load_recorded(path, sample_rate=FS)
     v, _ = load_recorded(path, sample_rate=FS, seconds=0.5)
     assert v.shape[0] == 2 and 0.5 * FS <= v.shape[1] <= 0.7 * FS and np.isfinite(v).all()
-    assert check_recorded(path, max_seconds=None) == (1, 1000, 601000)
+    assert audio_info(path) == AudioInfo(channels=1, sample_rate=1000, frames=601000)
     # through the command: either rendered to length, or refused with the same one line
     out = tmp_path / "out"
     res = clips(path, out, "--seconds", 0.5)

@@ -12,7 +12,8 @@ import tomllib
 
 import pytest
 
-from render.design import MAX_FILE_BYTES, load_design
+from render.design import load_design
+from render.io.toml import MAX_FILE_BYTES
 from render.dry.phrase import MAX_PHRASE_BYTES
 
 from .conftest import CORPUS, REF, assert_refused, run

@@ -19,8 +19,8 @@ import textwrap
 import pytest
 
 from render.errors import InputError
-from render.report import atomic
-from render.report.atomic import atomic_path, write_bytes
+from render.io import atomic
+from render.io.atomic import atomic_path, write_bytes
 
 from .conftest import ODD, PHRASE, REF, ROOT, assert_refused, check_outputs, run
 
@@ -136,7 +136,7 @@ def test_a_process_killed_in_the_middle_of_a_write_leaves_no_final_name(tmp_path
         """
         import os, signal, sys
         from pathlib import Path
-        from render.report import atomic
+        from render.io import atomic
 
         real = Path.write_bytes
         def half_then_die(self, data):

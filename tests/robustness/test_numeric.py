@@ -17,7 +17,7 @@ from render.chain.discretize import NEAR_UNSTABLE, pole_warnings, sos_pole_warni
 from render.clips import Settings, render_design
 from render.design import DESIGN_TABLES, parse_design
 from render.errors import InputError
-from render.report.wav import float_wav_bytes
+from render.io.wav import float_wav_bytes
 
 from .conftest import REF, assert_refused, run
 

@@ -19,7 +19,7 @@ from render.cli.options import load_designs
 from render.cli.unvoice import unvoice_command
 from render.dry.modal import string_velocity
 from render.dry.phrase import load_phrase
-from render.report.wav import float_wav_bytes
+from render.io.wav import float_wav_bytes
 
 from .helpers import GLASS, PHRASE, REF, SAMPLE_RATE, band_levels_db, engine_di, write_wav
 
@@ -69,7 +69,7 @@ def test_streamed_file_equals_the_one_shot_writer_and_the_pure_function(di, tmp_
     out = tmp_path / "a.wav"
     assert run(path, REF, "--out", out, "--no-plot").exit_code == 0
     x, _ = sf.read(out, dtype="float64")  # libsndfile reads it
-    # the streamed header matches render.report.wav byte for byte
+    # the streamed header matches render.io.wav byte for byte
     assert out.read_bytes() == float_wav_bytes(x, SAMPLE_RATE)
     (d,), _ = load_designs([REF])
     passive = design_responses([d]).passive_velocity()(U.design_grid(sample_rate=SAMPLE_RATE))[0]
