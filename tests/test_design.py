@@ -9,15 +9,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from render.errors import InputError
 from render.design import (
     DESIGN_TABLES,
-    InputError,
     load_design,
     load_rig,
     parse_design,
     parse_rig,
-    volume_fraction,
 )
+from render.circuit.rig import volume_fraction
 
 SRC = "cand.toml"
 

@@ -19,14 +19,15 @@ to smaller changes (sum of |log| ratios) from the start design.
 
 from __future__ import annotations
 
-import difflib
 import math
 from dataclasses import dataclass, replace
 
 import numpy as np
 
 from .. import units as U
-from ..design import DESIGN_TABLES, Field, read_toml, read_value
+from ..design import DESIGN_TABLES
+from ..io.toml import read_toml
+from ..validate import Field, read_value, suggest
 from ..eseries import SERIES, values_between
 from ..errors import InputError
 
@@ -129,8 +130,8 @@ class FitSpec:
 
 
 def _suggest(word, choices):
-    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.5)
-    return f"; did you mean '{close[0]}'?" if close else ""
+    close = suggest(word, choices, cutoff=0.5)
+    return f"; did you mean '{close}'?" if close else ""
 
 
 def _number(source, where, raw, what="a number"):

@@ -61,7 +61,8 @@ import numpy as np
 
 from .coil import coil_impedance, inductor_impedance
 from .engine import Responses, responses
-from .params import Params, RigParams, from_designs
+from .params import Params, from_designs
+from .rig import RigParams
 from .poly import W_NORM, Chain, Rational, cascade, const, lin, pmul, series
 from .preamp import input_chain, output_chain_parts
 from .rig import rig_parts

@@ -11,13 +11,16 @@ the algebra.
 from __future__ import annotations
 
 from dataclasses import dataclass, fields, replace
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..design import Design, volume_fraction
+from .rig import RigParams, rig_params
+
+if TYPE_CHECKING:
+    from ..design import Design
 
 A0 = 1e6  # open-loop DC gain of a GBW-limited op-amp (interface contract §2)
-MIN_R = 1e-3  # ohm: a pot section at its end stop is this, not an exact short to ground
 
 
 @dataclass(frozen=True)
@@ -41,16 +44,6 @@ class InputParams:
     Rs: np.ndarray  # ohm, series_r
     Gn: np.ndarray  # S, admittance from the amplifier input node to AC ground (bias divider; 0 for input_a)
     Cn: np.ndarray  # F, shunt_c at that node (0: none)
-
-
-@dataclass(frozen=True)
-class RigParams:
-    tone_R: np.ndarray  # ohm, tone pot section in series with the tone cap
-    tone_C: np.ndarray  # F
-    vol_Ru: np.ndarray  # ohm, volume pot from the jack to the wiper
-    vol_Rd: np.ndarray  # ohm, wiper to ground
-    amp_G: np.ndarray  # S, 1/amp_r
-    load_C: np.ndarray  # F, cable + amp input capacitance at the wiper
 
 
 @dataclass(frozen=True)
@@ -109,21 +102,6 @@ def _input(ns, with_bias: bool) -> InputParams:
     )
 
 
-def _rig(rigs, *, passive: bool) -> RigParams:
-    tone_R, tone_C, ru, rd, g, c = [], [], [], [], [], []
-    for r in rigs:
-        vpot = r.passive_pot if passive else r.volume_pot
-        tpot = r.passive_pot if passive else r.tone_pot
-        frac = volume_fraction(r.volume, r.volume_taper)
-        tone_R.append(tpot * volume_fraction(r.tone, r.tone_taper))
-        tone_C.append(r.passive_tone_cap if passive else r.tone_cap)
-        ru.append(vpot * (1.0 - frac))
-        rd.append(max(vpot * frac, MIN_R))
-        g.append(1.0 / r.amp_r)
-        c.append(r.cable_length * r.cable_capacitance + r.amp_c)
-    return RigParams(*(_arr(v) for v in (tone_R, tone_C, ru, rd, g, c)))
-
-
 def from_designs(designs: list[Design] | tuple[Design, ...]) -> Params:
     """Stack validated designs (each with its rig applied) into one :class:`Params`."""
     ds = list(designs)
@@ -139,8 +117,8 @@ def from_designs(designs: list[Design] | tuple[Design, ...]) -> Params:
         out_Cc=_arr([d.output.coupling_c for d in ds]),
         out_Ro=_arr([d.output.series_r for d in ds]),
         out_G=_arr([_inv(d.output.shunt_r) for d in ds]),
-        rig=_rig([d.rig for d in ds], passive=False),
-        passive_rig=_rig([d.rig for d in ds], passive=True),
+        rig=rig_params([d.rig for d in ds], passive=False),
+        passive_rig=rig_params([d.rig for d in ds], passive=True),
     )
 
 

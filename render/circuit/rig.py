@@ -10,10 +10,23 @@ capacitance per metre times its length).
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
-from .params import RigParams
 from .poly import W_NORM, Chain, cascade, const, lin, series, shunt
+
+MIN_R = 1e-3  # ohm: a pot section at its end stop is this, not an exact short to ground
+
+
+@dataclass(frozen=True)
+class RigParams:
+    tone_R: np.ndarray  # ohm, tone pot section in series with the tone cap
+    tone_C: np.ndarray  # F
+    vol_Ru: np.ndarray  # ohm, volume pot from the jack to the wiper
+    vol_Rd: np.ndarray  # ohm, wiper to ground
+    amp_G: np.ndarray  # S, 1/amp_r
+    load_C: np.ndarray  # F, cable + amp input capacitance at the wiper
 
 
 def rig_parts(r: RigParams, w: float = W_NORM) -> tuple[Chain, Chain, Chain]:
@@ -28,3 +41,29 @@ def rig_parts(r: RigParams, w: float = W_NORM) -> tuple[Chain, Chain, Chain]:
 def rig_chain(r: RigParams, w: float = W_NORM) -> Chain:
     """Chain matrix from the jack to the amplifier input (output port open)."""
     return cascade(*rig_parts(r, w))
+
+
+def volume_fraction(rotation: float, taper: str) -> float:
+    """Fraction of the pot's track between wiper and ground at ``rotation`` (0..1).
+
+    Audio taper: (81^r − 1)/80, 10 % at half rotation (common practice, no source).
+    """
+    if taper == "audio":
+        return (81.0**rotation - 1.0) / 80.0
+    return rotation
+
+
+def rig_params(rigs, *, passive: bool) -> RigParams:
+    """The rigs as arrays (one row per rig): the active pickup's controls, or with ``passive`` the passive reference's."""
+    tone_R, tone_C, ru, rd, g, c = [], [], [], [], [], []
+    for r in rigs:
+        vpot = r.passive_pot if passive else r.volume_pot
+        tpot = r.passive_pot if passive else r.tone_pot
+        frac = volume_fraction(r.volume, r.volume_taper)
+        tone_R.append(tpot * volume_fraction(r.tone, r.tone_taper))
+        tone_C.append(r.passive_tone_cap if passive else r.tone_cap)
+        ru.append(vpot * (1.0 - frac))
+        rd.append(max(vpot * frac, MIN_R))
+        g.append(1.0 / r.amp_r)
+        c.append(r.cable_length * r.cable_capacitance + r.amp_c)
+    return RigParams(*(np.asarray(v, dtype=float) for v in (tone_R, tone_C, ru, rd, g, c)))

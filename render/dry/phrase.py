@@ -18,15 +18,15 @@ as written, the constraint, and where possible the fix.
 
 from __future__ import annotations
 
-import difflib
 import math
 import re
 from dataclasses import dataclass
 from pathlib import Path
 from types import MappingProxyType
 
-from render.errors import InputError
-from render.units import FREQUENCY, LENGTH, RATIO, SHOWN_CHARS, TIME, Kind, QuantityError, parse_quantity, shorten
+from ..errors import InputError
+from ..units import FREQUENCY, LENGTH, RATIO, TIME, Kind, QuantityError, parse_quantity
+from ..validate import Where, as_table, check_keys, quantity, show
 
 # Six-string standard tuning, lowest string first (common practice, no source).
 STANDARD_TUNING = ("E2", "A2", "D3", "G3", "B3", "E4")
@@ -296,107 +296,6 @@ def stiffness_inharmonicity(*, diameter: float, tension: float, length: float, m
 # Messages
 
 
-_BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
-
-
-def _quote(text: str) -> str:
-    """A TOML basic string: quotes, backslashes, line breaks and control characters escaped."""
-    out = []
-    for c in text:
-        if c in '"\\':
-            out.append("\\" + c)
-        elif c.isprintable():
-            out.append(c)
-        elif ord(c) <= 0xFFFF:
-            out.append(f"\\u{ord(c):04X}")
-        else:
-            out.append(f"\\U{ord(c):08X}")
-    return '"' + "".join(out) + '"'
-
-
-def _key(key: object) -> str:
-    """A key as TOML writes it: bare when it can be, else quoted."""
-    key = str(key)
-    return key if _BARE_KEY.match(key) else _quote(key)
-
-
-def _show_full(value: object) -> str:
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, str):
-        return _quote(value)
-    if isinstance(value, (list, tuple)):
-        return "[" + ", ".join(_show_full(v) for v in value) + "]"
-    if isinstance(value, dict):
-        return "{" + ", ".join(f"{_key(k)} = {_show_full(v)}" for k, v in value.items()) + "}"
-    return str(value)
-
-
-def _show(value: object, limit: int = SHOWN_CHARS) -> str:
-    """A value as it would be written in TOML, on one line, cut to about ``limit`` characters."""
-    return shorten(_show_full(value), limit)
-
-
-@dataclass(frozen=True)
-class _Where:
-    """Where a value sits, to build one-line messages."""
-
-    source: str
-    table: str  # "[instrument]", "[[note]] #3" or "" for the top level
-
-    def fail(self, key: str, value: object, constraint: str, fix: str | None = None) -> InputError:
-        where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
-        text = f"{where}{shorten(_key(key))}={_show(value)}: {constraint}"
-        return InputError(f"{text}; {fix}" if fix else text)
-
-    def missing(self, key: str, fix: str) -> InputError:
-        where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
-        return InputError(f"{where}{key} is missing; {fix}")
-
-
-def _check_keys(where: _Where, table: dict, known: tuple[str, ...]) -> None:
-    for key, value in table.items():
-        if key not in known:
-            close = difflib.get_close_matches(key, known, n=1, cutoff=0.6)
-            fix = f"did you mean {close[0]}?" if close else "known keys: " + ", ".join(known)
-            raise where.fail(key, value, "unknown key", fix)
-
-
-def _table(where: _Where, key: str, value: object) -> dict:
-    if not isinstance(value, dict):
-        raise where.fail(key, value, "expected a table", f"write it as {key} = {{ ... }} or a [{key}] section")
-    return value
-
-
-def _quantity(
-    where: _Where,
-    key: str,
-    value: object,
-    kind: Kind,
-    *,
-    low: float | None = None,
-    high: float | None = None,
-    low_open: bool = False,
-    shown: str = "",
-    fix: str | None = None,
-) -> float:
-    """Parse ``value`` as ``kind`` and check low <= x <= high (x > low when low_open)."""
-    try:
-        x = parse_quantity(value, kind)
-    except QuantityError as e:
-        raise where.fail(key, value, str(e)) from None
-    unit = f" {shown}" if shown else (f" {kind.unit}" if kind.unit else "")
-    if low is not None and (x <= low if low_open else x < low):
-        bound = f"> {low:g}{unit}" if low_open else f">= {low:g}{unit}"
-        if high is not None:
-            raise where.fail(key, value, f"must be {bound} and <= {high:g}{unit}", fix)
-        raise where.fail(key, value, f"must be {bound}", fix)
-    if high is not None and x > high:
-        lower = "" if low is None else (f"> {low:g}{unit} and " if low_open else f">= {low:g}{unit} and ")
-        raise where.fail(key, value, f"must be {lower}<= {high:g}{unit}", fix)
-    return x
-
-
 # ---------------------------------------------------------------------------
 # Parsing
 
@@ -436,10 +335,10 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
     InputError
         One line naming the source, table, ``key=value`` and the constraint.
     """
-    top = _Where(source, "")
+    top = Where(source, "")
     if not isinstance(data, dict):
         raise InputError(f"{source}: expected a TOML document with [instrument], [[note]] and [[chord]] tables")
-    _check_keys(top, data, TOP_KEYS)
+    check_keys(top, data, TOP_KEYS)
     title = data.get("title", Path(source).stem if source != "<phrase>" else "phrase")
     about = data.get("about", "")
     for key, value in (("title", title), ("about", about)):
@@ -462,15 +361,15 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
 
     notes: list[Note] = []
     for i, entry in enumerate(raw_notes, start=1):
-        notes.append(_parse_note(_Where(source, f"[[note]] #{i}"), entry, instrument, playing))
+        notes.append(_parse_note(Where(source, f"[[note]] #{i}"), entry, instrument, playing))
     for i, entry in enumerate(raw_chords, start=1):
-        notes.extend(_parse_chord(_Where(source, f"[[chord]] #{i}"), entry, instrument, playing))
+        notes.extend(_parse_chord(Where(source, f"[[chord]] #{i}"), entry, instrument, playing))
     ordered = tuple(sorted(notes, key=lambda n: n.time))  # stable: ties keep the file's order
 
     _check_same_start(source, ordered)
 
     if "seconds" in data:
-        seconds = _quantity(top, "seconds", data["seconds"], TIME, low=0.0, high=MAX_SECONDS, low_open=True)
+        seconds = quantity(top, "seconds", data["seconds"], TIME, low=0.0, high=MAX_SECONDS, low_open=True)
     else:
         seconds = 0.0
         for note in ordered:
@@ -490,14 +389,14 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
     )
 
 
-def _event_list(top: _Where, data: dict, key: str) -> list[dict]:
+def _event_list(top: Where, data: dict, key: str) -> list[dict]:
     value = data.get(key, [])
     if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
         raise top.fail(key, value, "expected an array of tables", f"write each event under its own [[{key}]] header")
     return value
 
 
-def _per_string(where: _Where, key: str, value: object, strings: int, kind: Kind, *, low: float, high: float, low_open: bool) -> tuple[float, ...]:
+def _per_string(where: Where, key: str, value: object, strings: int, kind: Kind, *, low: float, high: float, low_open: bool) -> tuple[float, ...]:
     """One value for every string, or a list with one per string (lowest first)."""
     if isinstance(value, list):
         if len(value) != strings:
@@ -505,11 +404,11 @@ def _per_string(where: _Where, key: str, value: object, strings: int, kind: Kind
         out = []
         for j, item in enumerate(value):
             try:
-                out.append(_quantity(where, key, item, kind, low=low, high=high, low_open=low_open))
+                out.append(quantity(where, key, item, kind, low=low, high=high, low_open=low_open))
             except InputError:
-                raise where.fail(key, value, _range_text(kind, low, high, low_open) + f" (entry {j + 1} is {_show(item)})") from None
+                raise where.fail(key, value, _range_text(kind, low, high, low_open) + f" (entry {j + 1} is {show(item)})") from None
         return tuple(out)
-    x = _quantity(where, key, value, kind, low=low, high=high, low_open=low_open)
+    x = quantity(where, key, value, kind, low=low, high=high, low_open=low_open)
     return (x,) * strings
 
 
@@ -519,13 +418,13 @@ def _range_text(kind: Kind, low: float, high: float, low_open: bool) -> str:
 
 
 def _parse_instrument(source: str, table: object) -> Instrument:
-    top = _Where(source, "")
-    table = _table(top, "instrument", table)
-    where = _Where(source, "[instrument]")
-    _check_keys(where, table, INSTRUMENT_KEYS)
+    top = Where(source, "")
+    table = as_table(top, "instrument", table)
+    where = Where(source, "[instrument]")
+    check_keys(where, table, INSTRUMENT_KEYS)
     get = table.get
-    scale = _quantity(where, "scale_length", get("scale_length", DEFAULTS["scale_length"]), LENGTH, low=0.2, high=1.5)
-    concert_a = _quantity(where, "concert_a", get("concert_a", DEFAULTS["concert_a"]), FREQUENCY, low=380.0, high=480.0)
+    scale = quantity(where, "scale_length", get("scale_length", DEFAULTS["scale_length"]), LENGTH, low=0.2, high=1.5)
+    concert_a = quantity(where, "concert_a", get("concert_a", DEFAULTS["concert_a"]), FREQUENCY, low=380.0, high=480.0)
 
     tuning = get("tuning", list(STANDARD_TUNING))
     if not isinstance(tuning, list) or not 1 <= len(tuning) <= 12:
@@ -535,9 +434,9 @@ def _parse_instrument(source: str, table: object) -> Instrument:
         try:
             f = pitch_frequency(item, concert_a=concert_a)
         except ValueError as e:
-            raise where.fail("tuning", tuning, f"entry {_show(item)}: {e}") from None
+            raise where.fail("tuning", tuning, f"entry {show(item)}: {e}") from None
         if not 20.0 <= f <= 2000.0:
-            raise where.fail("tuning", tuning, f"entry {_show(item)} is {f:.4g} Hz; open strings must lie between 20 Hz and 2 kHz")
+            raise where.fail("tuning", tuning, f"entry {show(item)} is {f:.4g} Hz; open strings must lie between 20 Hz and 2 kHz")
         pitches.append(f)
     strings = len(pitches)
 
@@ -561,10 +460,10 @@ def _parse_instrument(source: str, table: object) -> Instrument:
     else:
         inharm = (FALLBACK_INHARMONICITY,) * strings
 
-    decay = _quantity(where, "decay", get("decay", DEFAULTS["decay"]), TIME, low=0.05, high=60.0)
-    curvature = _quantity(where, "curvature_loss", get("curvature_loss", DEFAULTS["curvature_loss"]), RATIO, low=0.0, high=0.1, shown="m²/s")
-    mute_decay = _quantity(where, "mute_decay", get("mute_decay", DEFAULTS["mute_decay"]), TIME, low=0.005, high=10.0)
-    release = _quantity(where, "release", get("release", DEFAULTS["release"]), TIME, low=0.005, high=2.0)
+    decay = quantity(where, "decay", get("decay", DEFAULTS["decay"]), TIME, low=0.05, high=60.0)
+    curvature = quantity(where, "curvature_loss", get("curvature_loss", DEFAULTS["curvature_loss"]), RATIO, low=0.0, high=0.1, shown="m²/s")
+    mute_decay = quantity(where, "mute_decay", get("mute_decay", DEFAULTS["mute_decay"]), TIME, low=0.005, high=10.0)
+    release = quantity(where, "release", get("release", DEFAULTS["release"]), TIME, low=0.005, high=2.0)
     return Instrument(
         scale_length=scale,
         concert_a=concert_a,
@@ -586,32 +485,32 @@ class _Playing:
     direction: str
 
 
-def _strength(where: _Where, value: object) -> float:
-    return _quantity(where, "strength", value, LENGTH, low=0.0, high=0.01, low_open=True, fix='a pick moves the string about "0.5mm" to "2mm"')
+def _strength(where: Where, value: object) -> float:
+    return quantity(where, "strength", value, LENGTH, low=0.0, high=0.01, low_open=True, fix='a pick moves the string about "0.5mm" to "2mm"')
 
 
-def _mute(where: _Where, value: object) -> float:
-    return _quantity(where, "mute", value, RATIO, low=0.0, high=1.0)
+def _mute(where: Where, value: object) -> float:
+    return quantity(where, "mute", value, RATIO, low=0.0, high=1.0)
 
 
-def _strum(where: _Where, value: object) -> float:
-    return _quantity(where, "strum", value, TIME, low=0.0, high=2.0)
+def _strum(where: Where, value: object) -> float:
+    return quantity(where, "strum", value, TIME, low=0.0, high=2.0)
 
 
-def _direction(where: _Where, value: object) -> str:
+def _direction(where: Where, value: object) -> str:
     if value not in ("down", "up"):
         raise where.fail("direction", value, 'expected "down" (lowest string first) or "up"')
     return value
 
 
-def _pluck_at(where: _Where, value: object) -> float:
-    return _quantity(where, "pluck_at", value, LENGTH, low=0.0, high=1.5, low_open=True)
+def _pluck_at(where: Where, value: object) -> float:
+    return quantity(where, "pluck_at", value, LENGTH, low=0.0, high=1.5, low_open=True)
 
 
 def _parse_playing(source: str, table: object, instrument: Instrument) -> _Playing:
-    table = _table(_Where(source, ""), "playing", table)
-    where = _Where(source, "[playing]")
-    _check_keys(where, table, PLAYING_KEYS)
+    table = as_table(Where(source, ""), "playing", table)
+    where = Where(source, "[playing]")
+    check_keys(where, table, PLAYING_KEYS)
     pluck = _pluck_at(where, table.get("pluck_at", DEFAULTS["pluck_at"]))
     if pluck >= instrument.scale_length:
         raise where.fail("pluck_at", table.get("pluck_at"), f"must be shorter than the scale length {instrument.scale_length * 1e3:g} mm", "measure it from the bridge saddle")
@@ -624,31 +523,31 @@ def _parse_playing(source: str, table: object, instrument: Instrument) -> _Playi
     )
 
 
-def _time(where: _Where, table: dict) -> float:
+def _time(where: Where, table: dict) -> float:
     if "time" not in table:
         raise where.missing("time", 'give the start in seconds, e.g. time = 0.5 or time = "500ms"')
-    return _quantity(where, "time", table["time"], TIME, low=0.0, high=MAX_SECONDS)
+    return quantity(where, "time", table["time"], TIME, low=0.0, high=MAX_SECONDS)
 
 
-def _duration(where: _Where, table: dict) -> float | None:
+def _duration(where: Where, table: dict) -> float | None:
     if "duration" not in table:
         return None
-    return _quantity(where, "duration", table["duration"], TIME, low=0.0, high=MAX_SECONDS, low_open=True)
+    return quantity(where, "duration", table["duration"], TIME, low=0.0, high=MAX_SECONDS, low_open=True)
 
 
-def _string_number(where: _Where, value: object, strings: int) -> int:
+def _string_number(where: Where, value: object, strings: int) -> int:
     if isinstance(value, bool) or not isinstance(value, int) or not 1 <= value <= strings:
         raise where.fail("string", value, f"expected a whole number 1..{strings} (1 is the highest-pitched string)")
     return value
 
 
-def _fret(where: _Where, key: str, value: object) -> int:
+def _fret(where: Where, key: str, value: object) -> int:
     if isinstance(value, bool) or not isinstance(value, int) or not 0 <= value <= MAX_FRET:
         raise where.fail(key, value, f"expected a whole fret number 0..{MAX_FRET} (0 is the open string)")
     return value
 
 
-def _check_pluck(where: _Where, key_value: object, pluck: float, length: float, what: str) -> None:
+def _check_pluck(where: Where, key_value: object, pluck: float, length: float, what: str) -> None:
     if pluck >= length:
         raise where.fail(
             "pluck_at",
@@ -658,8 +557,8 @@ def _check_pluck(where: _Where, key_value: object, pluck: float, length: float, 
         )
 
 
-def _parse_note(where: _Where, table: object, instrument: Instrument, playing: _Playing) -> Note:
-    _check_keys(where, table, NOTE_KEYS)
+def _parse_note(where: Where, table: object, instrument: Instrument, playing: _Playing) -> Note:
+    check_keys(where, table, NOTE_KEYS)
     time = _time(where, table)
     strings = instrument.strings
     if "fret" in table and "pitch" in table:
@@ -714,7 +613,7 @@ def _parse_note(where: _Where, table: object, instrument: Instrument, playing: _
     )
 
 
-def _string_for(where: _Where, written: object, frequency: float, instrument: Instrument) -> int:
+def _string_for(where: Where, written: object, frequency: float, instrument: Instrument) -> int:
     """The string that plays ``frequency`` lowest on the neck (the highest open pitch at or below it)."""
     best = None
     for string in range(1, instrument.strings + 1):
@@ -733,32 +632,32 @@ def _string_for(where: _Where, written: object, frequency: float, instrument: In
     return best
 
 
-def _parse_bend(where: _Where, value: object) -> Bend:
-    table = _table(where, "bend", value)
-    inner = _Where(where.source, f"{where.table} bend")
-    _check_keys(inner, table, BEND_KEYS)
+def _parse_bend(where: Where, value: object) -> Bend:
+    table = as_table(where, "bend", value)
+    inner = Where(where.source, f"{where.table} bend")
+    check_keys(inner, table, BEND_KEYS)
     if "semitones" not in table:
         raise inner.missing("semitones", "write bend = { semitones = 1, over = \"0.12s\" }")
-    semis = _quantity(inner, "semitones", table["semitones"], RATIO, low=-12.0, high=12.0)
-    over = _quantity(inner, "over", table.get("over", DEFAULTS["bend_over"]), TIME, low=0.0, high=MAX_SECONDS)
-    start = _quantity(inner, "start", table.get("start", 0.0), TIME, low=0.0, high=MAX_SECONDS)
+    semis = quantity(inner, "semitones", table["semitones"], RATIO, low=-12.0, high=12.0)
+    over = quantity(inner, "over", table.get("over", DEFAULTS["bend_over"]), TIME, low=0.0, high=MAX_SECONDS)
+    start = quantity(inner, "start", table.get("start", 0.0), TIME, low=0.0, high=MAX_SECONDS)
     return Bend(semitones=semis, start=start, over=over)
 
 
-def _parse_vibrato(where: _Where, value: object) -> Vibrato:
-    table = _table(where, "vibrato", value)
-    inner = _Where(where.source, f"{where.table} vibrato")
-    _check_keys(inner, table, VIBRATO_KEYS)
+def _parse_vibrato(where: Where, value: object) -> Vibrato:
+    table = as_table(where, "vibrato", value)
+    inner = Where(where.source, f"{where.table} vibrato")
+    check_keys(inner, table, VIBRATO_KEYS)
     if "depth_cents" not in table:
         raise inner.missing("depth_cents", "write vibrato = { depth_cents = 20, rate_hz = 5.5 }")
-    depth = _quantity(inner, "depth_cents", table["depth_cents"], RATIO, low=0.0, high=200.0, shown="cents")
-    rate = _quantity(inner, "rate_hz", table.get("rate_hz", DEFAULTS["vibrato_rate"]), FREQUENCY, low=0.1, high=20.0)
-    start = _quantity(inner, "start", table.get("start", 0.0), TIME, low=0.0, high=MAX_SECONDS)
+    depth = quantity(inner, "depth_cents", table["depth_cents"], RATIO, low=0.0, high=200.0, shown="cents")
+    rate = quantity(inner, "rate_hz", table.get("rate_hz", DEFAULTS["vibrato_rate"]), FREQUENCY, low=0.1, high=20.0)
+    start = quantity(inner, "start", table.get("start", 0.0), TIME, low=0.0, high=MAX_SECONDS)
     return Vibrato(depth_cents=depth, rate_hz=rate, start=start)
 
 
-def _parse_chord(where: _Where, table: object, instrument: Instrument, playing: _Playing) -> list[Note]:
-    _check_keys(where, table, CHORD_KEYS)
+def _parse_chord(where: Where, table: object, instrument: Instrument, playing: _Playing) -> list[Note]:
+    check_keys(where, table, CHORD_KEYS)
     time = _time(where, table)
     strings = instrument.strings
     if "frets" not in table:
@@ -773,7 +672,7 @@ def _parse_chord(where: _Where, table: object, instrument: Instrument, playing: 
         if isinstance(item, str) and item.strip().lower() == "x":
             continue
         if isinstance(item, bool) or not isinstance(item, int) or not 0 <= item <= MAX_FRET:
-            raise where.fail("frets", frets_raw, f"entry {j + 1} ({_show(item)}) must be a fret 0..{MAX_FRET} or \"x\" for a string not played")
+            raise where.fail("frets", frets_raw, f"entry {j + 1} ({show(item)}) must be a fret 0..{MAX_FRET} or \"x\" for a string not played")
         played.append((string, item))
     if not played:
         raise where.fail("frets", frets_raw, "no string is played", "give at least one fret number")

@@ -1,7 +1,6 @@
 """Bias divider sweeps: divider arithmetic, clip onset (against an ngspice transient), harmonics, `render bias`."""
 
 import json
-import os
 import subprocess
 import tempfile
 from dataclasses import replace

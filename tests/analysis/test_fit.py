@@ -5,7 +5,6 @@ import math
 import tomllib
 from pathlib import Path
 
-import numpy as np
 import pytest
 from click.testing import CliRunner
 

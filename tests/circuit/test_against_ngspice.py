@@ -31,7 +31,8 @@ import numpy as np
 import pytest
 
 from render.circuit.engine import design_responses
-from render.design import load_design, parse_design, volume_fraction
+from render.circuit.rig import volume_fraction
+from render.design import load_design, parse_design
 from spice import active_netlist, jack_probe, passive_netlist, require_ngspice, run_ac
 
 from .designgen import random_design_dict

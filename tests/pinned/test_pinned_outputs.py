@@ -13,7 +13,6 @@ import json
 import sys
 from pathlib import Path
 
-import pytest
 from click.testing import CliRunner
 
 ROOT = Path(__file__).resolve().parents[2]

@@ -136,7 +136,7 @@ def test_a_recording_too_long_to_read_at_once(tmp_path):
     """Longer than MAX_SECONDS: read whole it is refused; with a length only that much is read."""
     path = tmp_path / "very-long.wav"
     sf.write(path, sine(MAX_SECONDS + 1, 1000, hz=50.0).astype(np.float32), 1000, subtype="FLOAT")
-    with pytest.raises(InputError, match=rf"very-long.wav: 601.0 s long: at most 600 s of a recording is read at once; cut out the part you want to hear$"):
+    with pytest.raises(InputError, match=r"very-long.wav: 601.0 s long: at most 600 s of a recording is read at once; cut out the part you want to hear$"):
         load_recorded(path, sample_rate=FS)
     v, _ = load_recorded(path, sample_rate=FS, seconds=0.5)
     assert v.shape[0] == 2 and 0.5 * FS <= v.shape[1] <= 0.7 * FS and np.isfinite(v).all()

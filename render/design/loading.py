@@ -1,0 +1,142 @@
+"""Design and rig files: TOML in, frozen dataclasses out.
+
+A design file describes one candidate voicing (two coils, their input
+networks, the bias divider, the feedback, the output network and the
+supply); a rig file describes what the pickup plays into (controls, cable,
+amplifier) and the room it hums in. Every value is read against
+:mod:`render.design.schema`; every refusal is one line.
+"""
+
+from __future__ import annotations
+
+import functools
+from pathlib import Path
+from typing import Any
+
+from .. import units as U
+from ..errors import InputError
+from ..io.hashing import sha256_bytes
+from ..io.toml import read_toml
+from ..validate import TOP_KEYS, check_document, read_table, where
+from .model import Coil, Design, Feedback, Hum, InputNet, Output, Rig, RigFile, Supply, Winding
+from .schema import COIL, DESIGN_TABLES, HUM, MAX_NAME_CHARS, REQUIRED_TABLES, RIG, WINDING
+
+
+def _coil(d: dict, default_signal: int) -> Coil:
+    d = dict(d)
+    d.setdefault("signal_polarity", default_signal)
+    return Coil(**d)
+
+
+def read_winding(data: Any, *, source: str, table: str) -> Winding:
+    """Read a [coil_x.winding] table and derive L and R from it (estimates)."""
+    from ..circuit.winding import awg_diameter, from_winding
+
+    w = read_table(data, WINDING, source=source, table=table)
+    kind, value = w["wire"]
+    dia = awg_diameter(value) if kind == "awg" else value
+    L, R, length = from_winding(
+        turns=w["turns"], diameter=dia, mean_turn=w["mean_turn"], height=w["height"], depth=w["depth"],
+        core_factor=w["core_factor"], temperature_c=w["temperature"],
+    )
+    return Winding(
+        turns=w["turns"], wire_diameter=dia, wire_awg=value if kind == "awg" else None, mean_turn=w["mean_turn"],
+        height=w["height"], depth=w["depth"], core_factor=w["core_factor"], temperature=w["temperature"],
+        wire_length=length, inductance=L, resistance=R,
+    )
+
+
+def _read_coil(data: Any, *, source: str, table: str) -> dict:
+    """A coil table, with inductance and resistance given or derived from its winding."""
+    if not isinstance(data, dict) or "winding" not in data:
+        return read_table(data, COIL, source=source, table=table)
+    data = dict(data)
+    winding = read_winding(data.pop("winding"), source=source, table=f"{table}.winding")
+    both = [k for k in ("inductance", "resistance") if k in data]
+    if both:
+        raise InputError(f"{where(source, table)}: {' and '.join(both)} given as well as [{table}.winding]; give either the values or the winding, not both")
+    data["inductance"], data["resistance"] = winding.inductance, winding.resistance
+    try:
+        out = read_table(data, COIL, source=source, table=table)
+    except InputError as exc:
+        raise InputError(f"{exc} (derived from [{table}.winding]; check turns, wire and former)") from None
+    out["winding"] = winding
+    return out
+
+
+def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "") -> Design:
+    """Build a :class:`Design` from parsed TOML; every error is one line."""
+    check_document(data, source, list(DESIGN_TABLES) + list(TOP_KEYS))
+    for t in REQUIRED_TABLES:
+        if t not in data:
+            raise InputError(f"{source}: missing table [{t}]; every design needs {', '.join('[' + x + ']' for x in REQUIRED_TABLES)}")
+    if "name" in data and (len(data["name"]) > MAX_NAME_CHARS or not data["name"].isprintable()):
+        raise InputError(f"{source}: name={U.shown(data['name'])}: expected one line of at most {MAX_NAME_CHARS} printable characters (it heads every report); put the rest in notes")
+    tables = {}
+    for t in DESIGN_TABLES:
+        if t in data:
+            read = _read_coil if t in ("coil_a", "coil_b") else functools.partial(read_table, specs=DESIGN_TABLES[t])
+            tables[t] = read(data[t], source=source, table=t)
+    for t in ("coil_a", "coil_b"):
+        c = tables[t]
+        if ("eddy_coupling" in c) != ("eddy_corner" in c):
+            raise InputError(f"{where(source, t)}: eddy_coupling and eddy_corner go together; give both or neither")
+        if c.get("eddy_coupling") == 0.0:
+            raise InputError(f"{where(source, t, 'eddy_coupling')}=0: must be above 0 (leave both eddy_coupling and eddy_corner out for no secondary)")
+    sup = tables["supply"]
+    window = sup["battery"] - sup["margin_low"] - sup["margin_high"] - 2 * sup["knee"]
+    if window <= 0:
+        raise InputError(
+            f"{where(source, 'supply')}: margin_low + margin_high + 2·knee = "
+            f"{sup['margin_low'] + sup['margin_high'] + 2 * sup['knee']:g} V must be below battery={sup['battery']:g} V; lower the margins or the knee"
+        )
+    design = Design(
+        name=data.get("name") or name or Path(source).stem,
+        notes=data.get("notes", ""),
+        coil_a=_coil(tables["coil_a"], 1),
+        coil_b=_coil(tables["coil_b"], -1),
+        input_a=InputNet(**tables["input_a"]),
+        input_b=InputNet(**tables["input_b"]),
+        feedback=Feedback(**tables["feedback"]),
+        output=Output(**tables["output"]),
+        supply=Supply(**sup),
+        rig=Rig(**tables["rig"]) if "rig" in tables else Rig(),
+        hum=Hum(**tables["hum"]) if "hum" in tables else Hum(),
+        source=source,
+        sha256=sha256,
+    )
+    bias = design.bias_v
+    if not (design.limit_low_v + sup["knee"] < bias < design.limit_high_v - sup["knee"]):
+        raise InputError(
+            f"{where(source, 'input_b')}: bias_top={U.format_si(design.input_b.bias_top, 'Ω')}, bias_bottom={U.format_si(design.input_b.bias_bottom, 'Ω')} "
+            f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V; bring the two resistors closer to equal"
+        )
+    return design
+
+
+def load_design(path: str | Path) -> Design:
+    """Load and validate one design file."""
+    data, raw = read_toml(path)
+    return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw))
+
+
+def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile:
+    check_document(data, source, ["rig", "hum", *TOP_KEYS])
+    if "rig" not in data and "hum" not in data:
+        raise InputError(f"{source}: a rig file needs a [rig] table, a [hum] table, or both")
+    rig = Rig(**read_table(data.get("rig", {}), RIG, source=source, table="rig"))
+    hum = Hum(**read_table(data["hum"], HUM, source=source, table="hum")) if "hum" in data else None
+    return RigFile(rig=rig, hum=hum, source=source, sha256=sha256)
+
+
+def load_rig(path: str | Path) -> RigFile:
+    """Load a rig file; its [rig] replaces a design's own, and so does its [hum] if present."""
+    data, raw = read_toml(path)
+    return parse_rig(data, source=str(path), sha256=sha256_bytes(raw))
+
+
+def apply_rig(design: Design, rig_file: RigFile | None) -> Design:
+    """The design as it plays into ``rig_file`` (unchanged when None)."""
+    if rig_file is None:
+        return design
+    return design.with_rig(rig_file.rig, rig_file.hum)

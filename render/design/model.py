@@ -1,0 +1,177 @@
+"""The design model: one candidate voicing and what it plays into, validated, in SI units.
+
+Frozen dataclasses; :mod:`render.design.loading` builds them from TOML files
+(checked against :mod:`render.design.schema`), and
+:func:`render.circuit.params.from_designs` turns them into the engine's arrays.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, fields, replace
+from typing import Any
+
+# Default buzz profile: relative field amplitudes of mains harmonics 1..9.
+# Our own choice for the demo (odd harmonics stronger, as rectifier loads
+# make them); not a measurement of any room (common practice, no source).
+DEFAULT_HARMONICS = (1.0, 0.05, 0.3, 0.03, 0.2, 0.02, 0.12, 0.01, 0.06)
+
+@dataclass(frozen=True)
+class Coil:
+    inductance: float
+    resistance: float
+    capacitance: float
+    sensitivity: float
+    turns_area: float
+    position: float
+    aperture: float = 0.0
+    eddy_resistance: float | None = None
+    eddy_coupling: float | None = None
+    eddy_corner: float | None = None
+    signal_polarity: int = 1
+    hum_polarity: int = 1
+    winding: Winding | None = None  # when L and R were derived from a winding
+
+
+@dataclass(frozen=True)
+class Winding:
+    """A winding as given, and what was derived from it (estimates)."""
+
+    turns: float
+    wire_diameter: float  # m, bare copper
+    wire_awg: float | None
+    mean_turn: float
+    height: float
+    depth: float
+    core_factor: float
+    temperature: float
+    wire_length: float  # m, derived
+    inductance: float  # H, derived (estimate)
+    resistance: float  # Ω, derived (estimate)
+
+
+@dataclass(frozen=True)
+class InputNet:
+    series_c: float
+    series_r: float
+    load_r: float | None = None
+    load_c: float | None = None
+    bias_top: float | None = None  # input_b only
+    bias_bottom: float | None = None
+    shunt_c: float | None = None
+
+
+@dataclass(frozen=True)
+class Feedback:
+    r: float
+    c: float | None = None
+
+
+@dataclass(frozen=True)
+class Output:
+    coupling_c: float
+    series_r: float
+    shunt_r: float | None = None
+
+
+@dataclass(frozen=True)
+class Supply:
+    battery: float
+    margin_low: float = 1.0
+    margin_high: float = 1.0
+    knee: float = 0.5
+    gbw: float | None = None
+    noise_voltage: float = 10e-9
+    noise_current: float = 1e-14
+
+
+@dataclass(frozen=True)
+class Rig:
+    volume_pot: float = 25e3
+    volume: float = 1.0
+    volume_taper: str = "audio"
+    tone_pot: float = 25e3
+    tone: float = 1.0
+    tone_taper: str = "linear"
+    tone_cap: float = 22e-9
+    cable_length: float = 6.0
+    cable_capacitance: float = 100e-12
+    amp_r: float = 1e6
+    amp_c: float = 50e-12
+    passive_pot: float = 500e3
+    passive_tone_cap: float = 22e-9
+
+
+@dataclass(frozen=True)
+class Hum:
+    mains: float = 50.0
+    field: float = 1e-6
+    harmonics: tuple[float, ...] = DEFAULT_HARMONICS
+
+
+@dataclass(frozen=True)
+class Design:
+    """One candidate voicing, validated, in SI units."""
+
+    name: str
+    coil_a: Coil
+    coil_b: Coil
+    input_a: InputNet
+    input_b: InputNet
+    feedback: Feedback
+    output: Output
+    supply: Supply
+    rig: Rig = field(default_factory=Rig)
+    hum: Hum = field(default_factory=Hum)
+    notes: str = ""
+    source: str = ""  # the file it came from, as given
+    sha256: str = ""  # of the file's bytes, recorded in every render
+
+    @property
+    def bias_v(self) -> float:
+        """DC bias at the non-inverting input: battery · bottom / (top + bottom) (V)."""
+        b = self.input_b
+        return self.supply.battery * b.bias_bottom / (b.bias_top + b.bias_bottom)
+
+    @property
+    def limit_low_v(self) -> float:
+        return self.supply.margin_low
+
+    @property
+    def limit_high_v(self) -> float:
+        return self.supply.battery - self.supply.margin_high
+
+    @property
+    def headroom_up_v(self) -> float:
+        """From the bias point up to the upper limit of the amplifier output (V)."""
+        return self.limit_high_v - self.bias_v
+
+    @property
+    def headroom_down_v(self) -> float:
+        """From the bias point down to the lower limit of the amplifier output (V)."""
+        return self.bias_v - self.limit_low_v
+
+    def with_rig(self, rig: Rig | None = None, hum: Hum | None = None) -> "Design":
+        return replace(self, rig=rig or self.rig, hum=hum or self.hum)
+
+
+@dataclass(frozen=True)
+class RigFile:
+    """A rig file as read: its [rig] (with defaults) and its [hum], if it had one."""
+
+    rig: Rig
+    hum: Hum | None
+    source: str
+    sha256: str
+
+
+def design_to_dict(design: Design) -> dict[str, Any]:
+    """Every field in SI units, for JSON records."""
+
+    def conv(obj):
+        if hasattr(obj, "__dataclass_fields__"):
+            return {f.name: conv(getattr(obj, f.name)) for f in fields(obj)}
+        if isinstance(obj, tuple):
+            return list(obj)
+        return obj
+
+    return conv(design)

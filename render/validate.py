@@ -1,0 +1,280 @@
+"""One validation kit for every file render reads: designs, rigs, phrases and fit files.
+
+- :class:`Field` and :func:`read_table`: a table of keys read against their
+  specifications (kind of quantity, required or default, plausible range),
+  unknown keys refused with the nearest known key suggested;
+- :class:`Where`, :func:`check_keys` and :func:`quantity`: the same checks
+  for hand-written parsers (phrases, fit files), with one message form;
+- :func:`suggest`: the "did you mean" of every message;
+- :func:`sample_rate`: the one check of an output sample rate.
+
+Every refusal is an :class:`~render.errors.InputError` of one line: the file,
+the table, ``key=value`` as written, the constraint, and the fix where one is
+likely.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import re
+from collections.abc import Callable, Iterable
+from dataclasses import dataclass
+from typing import Any
+
+from . import units as U
+from .errors import InputError
+from .units import SHOWN_CHARS, Kind, QuantityError, parse_quantity, shorten
+
+INF = math.inf
+SAMPLE_RATE_RANGE = (8000, 384000)  # Hz, any output rate render writes (48000 is usual)
+TOP_KEYS = ("name", "notes")
+
+
+def suggest(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str | None:
+    """The known name closest to ``word`` (a likely typo), or None."""
+    close = difflib.get_close_matches(str(word), list(choices), n=1, cutoff=cutoff)
+    return close[0] if close else None
+
+
+def did_you_mean(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str:
+    """A message's ending for an unknown name: "; did you mean 'x'?" or the known names."""
+    choices = list(choices)
+    close = suggest(word, choices, cutoff=cutoff)
+    return f"; did you mean '{close}'?" if close else f"; known keys: {', '.join(choices)}"
+
+
+def sample_rate(value: object, *, name: str = "--sample-rate") -> int:
+    """An output sample rate (Hz), a whole number from 8000 to 384000; InputError otherwise."""
+    import operator
+
+    lo, hi = SAMPLE_RATE_RANGE
+    try:
+        rate = operator.index(value) if not isinstance(value, bool) else None  # int and numpy integers, never 48000.5
+    except TypeError:
+        rate = None
+    if rate is None or not lo <= rate <= hi:
+        raise InputError(f"{name}={value!r}: must be a whole number of Hz from {lo} to {hi}; 48000 is usual")
+    return rate
+
+
+# ----------------------------------------------------------------------------
+# Tables read against field specifications (designs, rigs, fit files)
+
+
+@dataclass(frozen=True)
+class Field:
+    """How one key is read: its kind, whether required, default, plausible range."""
+
+    kind: U.Kind | str | Callable[[Any, str], Any]  # a units.Kind; "polarity", "taper", "list"; or a reader (raw, where) -> value
+    required: bool = False
+    default: Any = None
+    lo: float = 0.0  # plausible range (inclusive unless lo_open/hi_open)
+    hi: float = INF
+    lo_open: bool = True  # zero (or lo) itself not allowed
+    hi_open: bool = False
+    doc: str = ""
+
+
+R_RANGE = dict(lo=1.0, hi=1e9, lo_open=False)  # a resistor below 1 Ω or above 1 GΩ is implausible
+C_RANGE = dict(lo=1e-14, hi=0.1, lo_open=False)  # 0.01 pF .. 0.1 F
+
+
+def where(source: str, table: str | None, key: str | None = None) -> str:
+    loc = source
+    if table:
+        loc += f": [{table}]"
+    if key:
+        loc += f" {key}"
+    return loc
+
+
+def _slip_hint(key: str, raw: Any, value: float, spec: Field) -> str:
+    """Suggest the likely fix for a value outside the plausible range."""
+    if isinstance(raw, str):
+        t = raw.strip()
+        body = next((t[: -len(s)] for s in ("ohms", "ohm", "Ω") if t.endswith(s)), t)
+        if spec.kind is U.RESISTANCE and body.endswith("m") and value < spec.lo:
+            return f' ("m" is milli; for mega write "{body[:-1]}M")'
+        if spec.kind is U.CAPACITANCE and value > spec.hi:
+            return " (a capacitor that large is unlikely; check the prefix: p, n, u)"
+    elif isinstance(raw, (int, float)) and spec.kind in (U.CAPACITANCE, U.INDUCTANCE) and value >= 1:
+        return f' (plain numbers are in SI units: {raw} means {raw} {spec.kind.unit}; write e.g. "{raw}n")'
+    return ""
+
+
+def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> Any:
+    """Read and range-check one value; raise InputError with a one-line message."""
+    loc = where(source, table, key)
+    if spec.kind == "polarity":
+        if raw in (1, -1) and not isinstance(raw, bool):
+            return int(raw)
+        raise InputError(f"{loc}={U.shown(raw)}: a polarity must be +1 or -1")
+    if spec.kind == "taper":
+        if raw in ("audio", "linear"):
+            return raw
+        raise InputError(f'{loc}={U.shown(raw)}: a taper must be "audio" or "linear"')
+    if callable(spec.kind):
+        return spec.kind(raw, loc)
+    if spec.kind == "list":
+        if not isinstance(raw, list) or not raw or len(raw) > 64:
+            raise InputError(f"{loc}={U.shown(raw)}: expected a list of 1 to 64 relative amplitudes, e.g. [1.0, 0.1, 0.3]")
+        out = []
+        for x in raw:
+            if isinstance(x, bool) or not isinstance(x, (int, float)) or not 0 <= x <= 100:  # NaN fails the comparison; a huge int is never converted
+                raise InputError(f"{loc}={U.shown(raw)}: each relative amplitude must be a number from 0 to 100")
+            out.append(float(x))
+        return tuple(out)
+    try:
+        value = U.parse_quantity(raw, spec.kind)
+    except U.QuantityError as exc:
+        raise InputError(f"{loc}={U.shown(raw)}: {exc}") from None
+    unit = spec.kind.unit
+    if value < 0 and spec.lo >= 0:
+        raise InputError(f"{loc}={U.shown(raw)}: must not be negative")
+    too_low = value < spec.lo or (spec.lo_open and value <= spec.lo)
+    too_high = value > spec.hi or (spec.hi_open and value >= spec.hi)
+    if too_low or too_high:
+        # a plain number (k², a knob rotation) without SI prefixes: "0.95", not "950 m"
+        fmt = (lambda x: U.format_si(x, unit)) if unit else (lambda x: f"{x:g}")
+        lo = fmt(spec.lo) if spec.lo else "0"
+        rng = f"{'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {fmt(spec.hi)}"
+        raise InputError(f"{loc}={U.shown(raw)} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec)}")
+    return value
+
+
+def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -> dict[str, Any]:
+    """Read one TOML table against its field specs (unknown keys refused)."""
+    if not isinstance(data, dict):
+        raise InputError(f"{where(source, table)}: expected a table of keys, got {U.shown(data)}; write a [{table}] section with its keys")
+    for key in data:
+        if key not in specs:
+            raise InputError(f"{where(source, table)}: unknown key {U.shown(key)}{did_you_mean(key, specs)}")
+    out: dict[str, Any] = {}
+    for key, spec in specs.items():
+        if key in data:
+            out[key] = read_value(data[key], spec, source=source, table=table, key=key)
+        elif spec.required:
+            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {U.example(spec.kind) if isinstance(spec.kind, U.Kind) else '1'}")
+        elif spec.default is not None:
+            out[key] = spec.default
+    return out
+
+
+def check_document(data: Any, source: str, known: list[str]) -> None:
+    """A TOML document of ``known`` tables and keys, with ``name`` and ``notes`` strings when present."""
+    if not isinstance(data, dict):
+        raise InputError(f"{source}: expected a TOML document of tables")
+    for key in data:
+        if key not in known:
+            raise InputError(f"{source}: unknown table or key {U.shown(key)}{did_you_mean(key, known)}")
+    for key in TOP_KEYS:
+        if key in data and not isinstance(data[key], str):
+            raise InputError(f"{source}: {key}={U.shown(data[key])}: expected a string")
+
+
+# ----------------------------------------------------------------------------
+# Hand-written parsers (phrases, fit files): one message form
+
+_BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
+
+
+def _quote(text: str) -> str:
+    """A TOML basic string: quotes, backslashes, line breaks and control characters escaped."""
+    out = []
+    for c in text:
+        if c in '"\\':
+            out.append("\\" + c)
+        elif c.isprintable():
+            out.append(c)
+        elif ord(c) <= 0xFFFF:
+            out.append(f"\\u{ord(c):04X}")
+        else:
+            out.append(f"\\U{ord(c):08X}")
+    return '"' + "".join(out) + '"'
+
+
+def _key(key: object) -> str:
+    """A key as TOML writes it: bare when it can be, else quoted."""
+    key = str(key)
+    return key if _BARE_KEY.match(key) else _quote(key)
+
+
+def _show_full(value: object) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, str):
+        return _quote(value)
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_show_full(v) for v in value) + "]"
+    if isinstance(value, dict):
+        return "{" + ", ".join(f"{_key(k)} = {_show_full(v)}" for k, v in value.items()) + "}"
+    return str(value)
+
+
+def show(value: object, limit: int = SHOWN_CHARS) -> str:
+    """A value as it would be written in TOML, on one line, cut to about ``limit`` characters."""
+    return shorten(_show_full(value), limit)
+
+
+@dataclass(frozen=True)
+class Where:
+    """Where a value sits, to build one-line messages."""
+
+    source: str
+    table: str  # "[instrument]", "[[note]] #3" or "" for the top level
+
+    def fail(self, key: str, value: object, constraint: str, fix: str | None = None) -> InputError:
+        where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
+        text = f"{where}{shorten(_key(key))}={show(value)}: {constraint}"
+        return InputError(f"{text}; {fix}" if fix else text)
+
+    def missing(self, key: str, fix: str) -> InputError:
+        where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
+        return InputError(f"{where}{key} is missing; {fix}")
+
+
+def check_keys(where: Where, table: dict, known: tuple[str, ...]) -> None:
+    for key, value in table.items():
+        if key not in known:
+            close = suggest(key, known)
+            fix = f"did you mean {close}?" if close else "known keys: " + ", ".join(known)
+            raise where.fail(key, value, "unknown key", fix)
+
+
+def as_table(where: Where, key: str, value: object) -> dict:
+    """``value`` if it is a TOML table, else InputError naming ``key``."""
+    if not isinstance(value, dict):
+        raise where.fail(key, value, "expected a table", f"write it as {key} = {{ ... }} or a [{key}] section")
+    return value
+
+
+def quantity(
+    where: Where,
+    key: str,
+    value: object,
+    kind: Kind,
+    *,
+    low: float | None = None,
+    high: float | None = None,
+    low_open: bool = False,
+    shown: str = "",
+    fix: str | None = None,
+) -> float:
+    """Parse ``value`` as ``kind`` and check low <= x <= high (x > low when low_open)."""
+    try:
+        x = parse_quantity(value, kind)
+    except QuantityError as e:
+        raise where.fail(key, value, str(e)) from None
+    unit = f" {shown}" if shown else (f" {kind.unit}" if kind.unit else "")
+    if low is not None and (x <= low if low_open else x < low):
+        bound = f"> {low:g}{unit}" if low_open else f">= {low:g}{unit}"
+        if high is not None:
+            raise where.fail(key, value, f"must be {bound} and <= {high:g}{unit}", fix)
+        raise where.fail(key, value, f"must be {bound}", fix)
+    if high is not None and x > high:
+        lower = "" if low is None else (f"> {low:g}{unit} and " if low_open else f">= {low:g}{unit} and ")
+        raise where.fail(key, value, f"must be {lower}<= {high:g}{unit}", fix)
+    return x
+
+
