@@ -6,7 +6,10 @@ from pathlib import Path
 
 import click
 
-from .options import check_new, emit_json, friendly, json_option, load_designs, make_folder, overwrite_option, prepare_out, rig_option
+from ..design import load_designs
+from ..io.folders import make_folder, output_folder
+from ..io.folders import refuse_existing as check_new
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
 REALISTIC_VELOCITY = 20.0  # m/s peak string velocity (common practice, no source)
@@ -88,15 +91,15 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     """
     import numpy as np
 
-    from ..analysis.loudness import integrated_loudness
     from ..analysis.bias import onset, sweep
-    from ..parallel import pmap
+    from ..analysis.loudness import integrated_loudness
     from ..chain.limit import design_window, soft_limit
     from ..clips import DEFAULT_DRY, Settings, choose_full_scale
     from ..errors import InputError
+    from ..parallel import pmap
     from ..units import LENGTH
 
-    check_new([json_path], overwrite)
+    check_new([json_path], overwrite=overwrite)
     if (tops is None) != (bottoms is None):
         raise InputError("--top and --bottom go together: give both lists, of the same length")
     ratio_list = tops_list = bottoms_list = None
@@ -122,13 +125,13 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
             click.echo(f"warning: --strength={strength} is far beyond realistic playing; rendering it anyway", err=True)
     out = dry = None
     if not no_clips:  # refuse before any work, so a refused run touches nothing
-        out = prepare_out(out_dir, overwrite, prefix="bias")
+        out = output_folder(out_dir, overwrite=overwrite, prefix="bias")
         dry = Path(dry_path) if dry_path else DEFAULT_DRY
         if not dry.exists():
             raise InputError(f"--dry={dry}: no such file")
         if strength_m is not None and dry.suffix.lower() != ".toml":
             raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
-    (design,), _ = load_designs([model], rig_path)
+    (design,), _ = load_designs([model], rig=rig_path)
     settings_list = sweep(design, ratios=ratio_list, tops=tops_list, bottoms=bottoms_list, batteries=battery_list, keep_load=keep_load)
     for s in settings_list:
         w = s.design.supply

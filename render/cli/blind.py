@@ -107,9 +107,9 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
         scratch = tempfile.TemporaryDirectory(prefix="render-unvoice-")  # removed when the command ends
         dry_file, from_di_record = dry_from_di(dry_path, from_di, folder=scratch.name, rig_path=rig_path, plot=False)
 
-    from .options import load_designs
+    from ..design import load_designs
 
-    designs, rig = load_designs([model_a, model_b], rig_path)
+    designs, rig = load_designs([model_a, model_b], rig=rig_path)
     from ..chain.stream import render_signal
     from ..dry import dry_velocity
     from ..listening.loudness import match_loudness

@@ -6,7 +6,9 @@ import math
 
 import click
 
-from .options import check_new, emit_json, friendly, json_option, load_designs, overwrite_option, rig_option
+from ..design import load_designs
+from ..io.folders import refuse_existing as check_new
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 
 def corners(d) -> dict:
@@ -132,8 +134,8 @@ def check_command(models, rig_path, turns_percent, json_path, overwrite):
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
 
-    check_new([json_path], overwrite)
-    designs, _ = load_designs(models, rig_path)
+    check_new([json_path], overwrite=overwrite)
+    designs, _ = load_designs(models, rig=rig_path)
     resp = responses(from_designs(designs))
     figs = figures(designs, resp)
     vel = resp.velocity()

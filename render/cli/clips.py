@@ -9,7 +9,8 @@ from pathlib import Path
 
 import click
 
-from .options import friendly, make_folder, overwrite_option, prepare_out, rig_option
+from ..io.folders import make_folder, output_folder
+from .options import friendly, overwrite_option, rig_option
 
 CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
 
@@ -134,9 +135,9 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     S-spectrogram.png, and for the run summary.md and responses.png.
     """
     from ..clips import DEFAULT_DRY, Settings, choose_full_scale, record
+    from ..design import load_designs
     from ..errors import InputError
     from ..report.clips import write_design_audio, write_run_files
-    from .options import load_designs
 
     dry = Path(dry_path) if dry_path else DEFAULT_DRY
     if not dry.exists():
@@ -151,11 +152,11 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         from ..io.audio import audio_info
 
         audio_info(dry)
-    designs, rig = load_designs(models, rig_path)
+    designs, rig = load_designs(models, rig=rig_path)
     stems = [Path(d.source).stem for d in designs]
     if len(set(stems)) != len(stems):
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
-    out = prepare_out(out_dir, overwrite)
+    out = output_folder(out_dir, overwrite=overwrite)
     if from_di:
         from .unvoice import dry_from_di
 

@@ -6,7 +6,8 @@ from pathlib import Path
 
 import click
 
-from .options import emit_json, friendly, make_folder, overwrite_option, prepare_out, rig_option
+from ..io.folders import make_folder, output_folder
+from .options import emit_json, friendly, overwrite_option, rig_option
 
 
 def _fig(v, name):
@@ -50,7 +51,7 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
         start_file = Path(fitfile).parent / start_file
     rig = load_rig(rig_path) if rig_path else None
     start = apply_rig(load_design(start_file), rig)
-    out = prepare_out(out_dir or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite)
+    out = output_folder(out_dir or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
     results, ev, start_vals = run_fit(spec, start, top=top, seed=seed)
     if not results or not results[0].meets:
         best = f" (best score {results[0].score:.3g})" if results else ""

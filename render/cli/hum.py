@@ -4,7 +4,10 @@ from __future__ import annotations
 
 import click
 
-from .options import check_new, emit_json, friendly, json_option, load_designs, make_folder, overwrite_option, prepare_out, rig_option
+from ..design import load_designs
+from ..io.folders import make_folder, output_folder
+from ..io.folders import refuse_existing as check_new
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 
 def _percent(text, name):
@@ -99,7 +102,7 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
     from ..analysis.hum import hum_table, monte_carlo, rejection_curve
     from ..errors import InputError
 
-    check_new([json_path, png_path, hist_path], overwrite)
+    check_new([json_path, png_path, hist_path], overwrite=overwrite)
     tol = {}
     if tolerance is not None:
         v = _percent(tolerance, "--tolerance")
@@ -109,10 +112,10 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
             tol[cls] = _percent(text, f"--tolerance-{cls}")
     if hist_path and not tol:
         raise InputError("--histogram needs a Monte Carlo: add --tolerance (e.g. --tolerance 1%)")
-    designs, _ = load_designs(models, rig_path)
+    designs, _ = load_designs(models, rig=rig_path)
     out = None
     if out_dir:
-        out = prepare_out(out_dir, overwrite)
+        out = output_folder(out_dir, overwrite=overwrite)
         make_folder(out)
     records = []
     for i, d in enumerate(designs):

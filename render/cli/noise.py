@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import click
 
-from .options import check_new, emit_json, friendly, json_option, overwrite_option, rig_option
+from ..io.folders import refuse_existing as check_new
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 
 def _uv(v: float) -> str:
@@ -127,14 +128,14 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
     import math
 
     from ..analysis.noise import check_temperature, noise_reports
+    from ..design import load_designs
     from ..errors import InputError
-    from .options import load_designs
 
     check_temperature(temperature, "--temperature")
     if not (math.isfinite(reference_velocity) and 1e-4 <= reference_velocity <= 10.0):
         raise InputError(f"--reference-velocity={reference_velocity:g} m/s: expected a string velocity from 0.0001 to 10 m/s rms")
-    check_new([json_path, png_path], overwrite)
-    (d,), rig_file = load_designs([model], rig_path)
+    check_new([json_path, png_path], overwrite=overwrite)
+    (d,), rig_file = load_designs([model], rig=rig_path)
     (r,) = noise_reports([d], temperature=temperature, reference_velocity=reference_velocity)
     if json_path != "-":
         for line in summary_lines(r, top):

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import click
 
-from .options import check_new, friendly, overwrite_option, rig_option
+from ..io.folders import refuse_existing as check_new
+from .options import friendly, overwrite_option, rig_option
 
 
 def summary_lines(d, fig) -> list[str]:
@@ -59,13 +60,13 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, ov
     from ..analysis.figures import figures
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
+    from ..design import load_designs
     from ..errors import InputError
-    from .options import load_designs
 
     if fmax <= fmin:
         raise InputError(f"--fmax={fmax:g} must be above --fmin={fmin:g}")
-    check_new([csv_path, png_path], overwrite)
-    (d,), _ = load_designs([model], rig_path)
+    check_new([csv_path, png_path], overwrite=overwrite)
+    (d,), _ = load_designs([model], rig=rig_path)
     resp = responses(from_designs([d]))
     fig = figures([d], resp)[0]
     f = np.geomspace(fmin, fmax, points)

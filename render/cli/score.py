@@ -12,7 +12,8 @@ from pathlib import Path
 
 import click
 
-from .options import check_new, emit_json, friendly, json_option, overwrite_option
+from ..io.folders import refuse_existing as check_new
+from .options import emit_json, friendly, json_option, overwrite_option
 
 
 @click.command("score")
@@ -26,7 +27,7 @@ def score_command(session, json_path, png_path, no_plot, overwrite):
     """Score the blind listening session SESSION once every trial is answered."""
     from ..listening.score import difference_plot, score_session, summary_lines
 
-    check_new([json_path, png_path], overwrite)
+    check_new([json_path, png_path], overwrite=overwrite)
     paths, key, result = score_session(session)
     if json_path != "-":
         for line in summary_lines(result):

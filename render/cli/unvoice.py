@@ -181,9 +181,9 @@ def unvoice_file(
     from ..analysis import unvoice as U
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from ..design import design_to_dict
+    from ..design import design_to_dict, load_designs
     from ..io.atomic import atomic_path
-    from .options import check_new, load_designs
+    from ..io.folders import refuse_existing as check_new
 
     boost = U.MAX_BOOST_DB if max_boost_db is None else _check_number("--max-boost", max_boost_db, *BOOST_RANGE, "dB above the inverse's 1 kHz level")
     vfs = _check_number("--volts-full-scale", volts_full_scale, *VOLTS_RANGE, "volts at the DI's full scale")
@@ -192,7 +192,7 @@ def unvoice_file(
     if out.suffix.lower() != ".wav":
         raise InputError(f"--out={out}: must end in .wav (the velocity is written as a float WAV)")
     json_path, png_path = sidecars(out)
-    check_new([out, json_path] + ([png_path] if plot else []), overwrite)
+    check_new([out, json_path] + ([png_path] if plot else []), overwrite=overwrite)
     di = Path(di_path)
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():
@@ -200,7 +200,7 @@ def unvoice_file(
     if di.exists() and out.exists() and out.resolve() == di.resolve():
         raise InputError(f"--out={out}: is the DI itself; choose another name")
     sample_rate, frames = _open_di(di)
-    designs, rig = load_designs([model_path], rig_path)
+    designs, rig = load_designs([model_path], rig=rig_path)
     design = designs[0]
     warnings: list[str] = []
 

@@ -1,6 +1,6 @@
 """Candidate designs and rigs: the model (:mod:`.model`), its schema (:mod:`.schema`) and its loading (:mod:`.loading`)."""
 
-from .loading import apply_rig, load_design, load_rig, parse_design, parse_rig, read_winding
+from .loading import apply_rig, load_design, load_designs, load_rig, parse_design, parse_rig, read_winding
 from .model import DEFAULT_HARMONICS, Coil, Design, Feedback, Hum, InputNet, Output, Rig, RigFile, Supply, Winding, design_to_dict
 from .schema import DESIGN_TABLES, REQUIRED_TABLES
 
@@ -21,6 +21,7 @@ __all__ = [
     "apply_rig",
     "design_to_dict",
     "load_design",
+    "load_designs",
     "load_rig",
     "parse_design",
     "parse_rig",

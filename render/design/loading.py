@@ -135,6 +135,23 @@ def load_rig(path: str | Path) -> RigFile:
     return parse_rig(data, source=str(path), sha256=sha256_bytes(raw))
 
 
+MODELS = Path("models")  # where designs are looked for when none are named
+
+
+def load_designs(paths=None, *, rig: str | Path | None = None, models: Path = MODELS) -> tuple[list[Design], RigFile | None]:
+    """Designs from the given files (default: every ``models/*.toml``), each with the rig file applied.
+
+    Returns the designs and the rig file as read (None without one).
+    """
+    paths = list(paths or [])
+    if not paths:
+        paths = sorted(models.glob("*.toml"))
+        if not paths:
+            raise InputError(f"{models}/: no *.toml design files here; pass design files or run from the project folder")
+    rig_file = load_rig(rig) if rig else None
+    return [apply_rig(load_design(p), rig_file) for p in paths], rig_file
+
+
 def apply_rig(design: Design, rig_file: RigFile | None) -> Design:
     """The design as it plays into ``rig_file`` (unchanged when None)."""
     if rig_file is None:

@@ -117,3 +117,15 @@ def write_bytes(path: str | Path, data: bytes, *, overwrite: bool = False) -> Pa
 def write_text(path: str | Path, text: str, *, overwrite: bool = False) -> Path:
     """Write UTF-8 ``text`` to ``path`` atomically."""
     return write_bytes(path, text.encode("utf-8"), overwrite=overwrite)
+
+
+def json_text(payload: object) -> str:
+    """The JSON form every record is written in: indented, NaN and infinity refused."""
+    import json
+
+    return json.dumps(payload, indent=2, allow_nan=False) + "\n"
+
+
+def write_json(path: str | Path, payload: object, *, overwrite: bool = False) -> Path:
+    """Write ``payload`` as JSON to ``path`` atomically."""
+    return write_text(path, json_text(payload), overwrite=overwrite)

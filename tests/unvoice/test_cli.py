@@ -15,7 +15,7 @@ import render.cli.unvoice as cli_unvoice
 from render.analysis import unvoice as U
 from render.circuit.engine import design_responses
 from render.cli import main
-from render.cli.options import load_designs
+from render.design import load_designs
 from render.cli.unvoice import unvoice_command
 from render.dry.modal import string_velocity
 from render.dry.phrase import load_phrase

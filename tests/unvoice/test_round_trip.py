@@ -19,7 +19,7 @@ import pytest
 from click.testing import CliRunner
 
 from render.analysis import unvoice as U
-from render.cli.options import load_designs
+from render.design import load_designs
 from render.cli.unvoice import unvoice_command
 from render.dry.modal import string_velocity
 from render.dry.phrase import load_phrase
@@ -110,7 +110,7 @@ def test_model_error_is_what_the_response_difference_predicts(trip, exact, part)
         model, extra = _scaled_model(tmp, 1.1), ()
     else:
         model, extra = REF, ("--rig", _cable_rig(tmp, 1.1))
-    (dm,), _ = load_designs([model], extra[1] if extra else None)
+    (dm,), _ = load_designs([model], rig=extra[1] if extra else None)
     # ngspice AC of the true circuit and of the model's
     wa, wb = weights(d)
     f_true, h_true = run_ac(passive_netlist(d, wa=wa, wb=wb), ["amp"], [10.0, 24000.0])["amp"]
