@@ -68,7 +68,7 @@ def _pool_map(fn, tasks, jobs, on_done):
     return results
 
 
-class side_work:
+class SideProcess:
     """Light work started at once in a process of its own, or, when ``enabled`` is false, done here and now.
 
     For work that needs only light imports (numpy), to run on the other core

@@ -43,7 +43,7 @@ Filtering is overlap-add with fixed segments (:class:`StreamingFIR`), so a
 long file is processed in bounded memory and the output does not depend on
 how the input is cut into chunks.
 
-Everything here is arrays in, arrays out; files live in ``render.cli.unvoice``.
+Everything here is arrays in, arrays out; files live in :mod:`render.runs.unvoice`.
 """
 
 from __future__ import annotations
@@ -511,4 +511,47 @@ def band_levels_from_psd(psd: np.ndarray, *, frequency_hz: np.ndarray, centres_h
             m[int(np.argmin(np.abs(f - c)))] = True
         p = float(np.sum(psd[m]) * df)
         out[i] = 10.0 * math.log10(p) if p > 0 else -math.inf
+    return out
+
+
+MODEL_ERROR = 0.10  # the model error whose effect every run reports
+
+
+def model_error_table(design, *, frequency_hz: np.ndarray, band_hz) -> dict:
+    """What a model 10 % off would do to the estimate: 20·log10|H_true / H_model| in the trusted band.
+
+    design : the model (a validated Design, its rig applied)
+    frequency_hz : (F,), Hz, the frequencies to look at; band_hz : (low, high) Hz or None for all of them
+    For each of the coils' inductance, the coils' winding capacitance and the
+    rig's cable capacitance, the true value is taken 10 % above the model's and
+    10 % below; returns the largest |error| (signed, dB) and its frequency (Hz).
+    """
+    from dataclasses import replace
+
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+
+    def scaled(k):
+        c = design
+        return {
+            "coil_inductance": replace(c, coil_a=replace(c.coil_a, inductance=c.coil_a.inductance * k), coil_b=replace(c.coil_b, inductance=c.coil_b.inductance * k)),
+            "coil_capacitance": replace(c, coil_a=replace(c.coil_a, capacitance=c.coil_a.capacitance * k), coil_b=replace(c.coil_b, capacitance=c.coil_b.capacitance * k)),
+            "cable_capacitance": replace(c, rig=replace(c.rig, cable_capacitance=c.rig.cable_capacitance * k)),
+        }
+
+    f = np.asarray(frequency_hz, float)
+    if band_hz is not None:
+        f = f[(f >= band_hz[0]) & (f <= band_hz[1])]
+    names = list(scaled(1.0))
+    up, down = scaled(1.0 + MODEL_ERROR), scaled(1.0 - MODEL_ERROR)
+    batch = [design] + [up[n] for n in names] + [down[n] for n in names]
+    h = np.abs(responses(from_designs(batch)).passive_velocity()(f))
+    out = {}
+    for i, n in enumerate(names):
+        rows = {}
+        for sign, j in (("plus", 1 + i), ("minus", 1 + len(names) + i)):
+            err = 20.0 * np.log10(h[j] / h[0])
+            k = int(np.argmax(np.abs(err)))
+            rows[f"true_{sign}_{int(MODEL_ERROR * 100)}_percent"] = {"max_error_db": round(float(err[k]), 3), "at_hz": round(float(f[k]), 1)}
+        out[n] = rows
     return out

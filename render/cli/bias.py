@@ -54,7 +54,7 @@ def _measure(args):
 
 def _clip(args):
     from ..chain.stream import render_signal
-    from ..clips import dry_for
+    from ..runs.clips import dry_for
 
     design, dry, st, strength_m = args
     vel = _phrase_at_strength(dry, design, st, strength_m) if strength_m is not None else dry_for(design, dry, st).velocity
@@ -94,7 +94,9 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     from ..analysis.bias import onset, sweep
     from ..analysis.loudness import integrated_loudness
     from ..chain.limit import design_window, soft_limit
-    from ..clips import DEFAULT_DRY, Settings, choose_full_scale
+    from ..clip import RenderSettings as Settings
+    from ..dry import default_dry_path
+    from ..runs.clips import choose_full_scale
     from ..errors import InputError
     from ..parallel import pmap
     from ..units import LENGTH
@@ -126,7 +128,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     out = dry = None
     if not no_clips:  # refuse before any work, so a refused run touches nothing
         out = output_folder(out_dir, overwrite=overwrite, prefix="bias")
-        dry = Path(dry_path) if dry_path else DEFAULT_DRY
+        dry = Path(dry_path) if dry_path else default_dry_path()
         if not dry.exists():
             raise InputError(f"--dry={dry}: no such file")
         if strength_m is not None and dry.suffix.lower() != ".toml":

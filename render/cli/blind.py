@@ -22,14 +22,6 @@ MAX_SECONDS = 120.0  # per clip: longer clips make ABX slow and sessions large (
 DRY_SEED = 0  # the phrase's small per-note variations: the same for both designs
 
 
-def _default_dry() -> Path:
-    from ..clips import DEFAULT_DRY
-
-    if DEFAULT_DRY.is_file():
-        return DEFAULT_DRY
-    return Path(__file__).resolve().parents[2] / DEFAULT_DRY
-
-
 def _file_record(path) -> dict:
     raw = Path(path).read_bytes()
     return {"path": str(path), "sha256": hashlib.sha256(raw).hexdigest()}
@@ -67,6 +59,7 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
     import math
     import secrets
 
+    from ..dry import default_dry_path
     from ..errors import InputError
     from ..listening.build import MAX_TRIALS, build_session, check_out
     from ..units import TIME, QuantityError, parse_quantity
@@ -95,23 +88,26 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
         out = Path("outputs") / f"blind-{stamp}"
     out = Path(out)
     check_out(out, overwrite=overwrite)
-    dry_file = Path(dry_path) if dry_path else _default_dry()
+    dry_file = Path(dry_path) if dry_path else default_dry_path()
     if not dry_file.is_file():
         raise InputError(f"--dry={dry_file}: no such file; pass a phrase (.toml) or a recording")
     from_di_record = None
     if from_di:
         import tempfile
 
-        from .unvoice import dry_from_di
+        from ..runs.unvoice import velocity_from_di
+        from .unvoice import report_from_di
 
         scratch = tempfile.TemporaryDirectory(prefix="render-unvoice-")  # removed when the command ends
-        dry_file, from_di_record = dry_from_di(dry_path, from_di, folder=scratch.name, rig_path=rig_path, plot=False)
+        made = velocity_from_di(dry_path, from_di, folder=scratch.name, rig=rig_path, plot=False)
+        report_from_di(made)
+        dry_file, from_di_record = made.wav, made.record
 
     from ..design import load_designs
 
     designs, rig = load_designs([model_a, model_b], rig=rig_path)
     from ..chain.stream import render_signal
-    from ..dry import dry_velocity
+    from ..dry import load_dry
     from ..listening.loudness import match_loudness
 
     names = [d.name for d in designs]
@@ -120,7 +116,7 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
     outs, clipped = [], []
     dry_info = None
     for d, name in zip(designs, names):
-        dry = dry_velocity(
+        dry = load_dry(
             dry_file,
             sample_rate=sample_rate,
             positions=(d.coil_a.position, d.coil_b.position),

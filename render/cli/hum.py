@@ -32,7 +32,7 @@ def write_hum_audio(out, d, table, *, seconds=4.0, sample_rate=48000):
     import numpy as np
 
     from ..analysis.hum import measured_rejection
-    from ..clips import choose_full_scale
+    from ..runs.clips import choose_full_scale
     from ..io.wav import write_float_wav
 
     m = measured_rejection(d, seconds=seconds, settle=1.0, sample_rate=sample_rate)

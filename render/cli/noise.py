@@ -78,9 +78,9 @@ def payload(r, design, rig_file) -> dict:
 
 def noise_plot(path, r, *, top: int, overwrite: bool = False):
     """Density (nV/√Hz, log axes) of the design, its largest contributors and the passive reference."""
-    from ..report.plots import CLAY, INK, PALETTE, _hz_axis, _plt, save
+    from ..report.plots import CLAY, INK, PALETTE, _hz_axis, pyplot, save
 
-    plt = _plt()
+    plt = pyplot()
     a, p = r.active, r.passive
     f = a.frequency_hz
     fig, ax = plt.subplots(figsize=(8, 5.2))

@@ -1,15 +1,14 @@
 """Dry signals: the string velocity each coil senses.
 
-Two sources, one result (an array of shape (2, n) in m/s, row 0 for coil_a
-and row 1 for coil_b):
+Two sources, one result (:class:`Dry`: velocity of shape (2, n) in m/s, row 0
+for coil_a and row 1 for coil_b):
 
-- a phrase file (TOML; :mod:`render.dry.phrase`), synthesised by
-  :func:`render.dry.modal.string_velocity` at each coil's own sensing point
-  and aperture;
+- a phrase (TOML; :mod:`render.dry.phrase`), synthesised by
+  :func:`synthesize` at each coil's own sensing point and aperture;
 - a recorded file (any format libsndfile reads; :mod:`render.dry.recorded`),
   mono feeding both coils.
 
-:func:`dry_velocity` picks the right one from the file name.
+:func:`load_dry` picks the right one from the file name.
 """
 
 from __future__ import annotations
@@ -24,28 +23,36 @@ from render.dry.phrase import Note, Phrase, describe, load_phrase, parse_phrase
 from render.dry.recorded import load_recorded
 
 __all__ = [
-    "DrySignal",
+    "Dry",
     "Note",
     "Phrase",
+    "default_dry_path",
     "describe",
-    "dry_velocity",
+    "load_dry",
     "load_phrase",
     "load_recorded",
     "parse_phrase",
     "string_velocity",
+    "synthesize",
 ]
 
 PHRASE_SUFFIXES = (".toml",)
+DEFAULT_DRY = Path("dry_signals") / "default.toml"  # the demo phrase, from the project folder
 
 
 @dataclass(frozen=True)
-class DrySignal:
-    """A dry signal ready for a design.
+class Dry:
+    """What is played, as each coil senses it.
 
-    velocity : np.ndarray, float64, shape (2, n), m/s (coil_a, coil_b)
+    Attributes
+    ----------
+    velocity : np.ndarray [shape=(2, n)], m/s
+        String velocity at coil_a's sensing point (row 0) and coil_b's (row 1).
     sample_rate : int, Hz
-    warnings : tuple of str, one line each
-    description : dict, JSON-ready record of what was played
+    warnings : tuple of str
+        One line each (a recording that clipped, an implausible level).
+    description : dict
+        JSON-ready record of what was played (the phrase or file, its seed).
     """
 
     velocity: np.ndarray
@@ -53,8 +60,68 @@ class DrySignal:
     warnings: tuple[str, ...] = ()
     description: dict = field(default_factory=dict)
 
+    @property
+    def seconds(self) -> float:
+        return self.velocity.shape[1] / self.sample_rate
 
-def dry_velocity(
+
+def default_dry_path() -> Path:
+    """The demo phrase: ``dry_signals/default.toml`` from the project folder, or beside the package."""
+    if DEFAULT_DRY.is_file():
+        return DEFAULT_DRY
+    return Path(__file__).resolve().parents[2] / DEFAULT_DRY
+
+
+def check_dry_file(path: str | Path | None, *, seconds: float | None = None, recorded: bool = True) -> Path:
+    """The dry file a render will play (default: the demo phrase), refused before any work if it cannot be used.
+
+    A phrase is read and checked whole, and ``seconds`` over :data:`~render.dry.phrase.MAX_SECONDS`
+    is refused for it; a recording is checked as audio when ``recorded`` (a DI to be un-voiced is not).
+    """
+    from ..errors import InputError
+    from ..io.audio import audio_info
+    from .phrase import MAX_SECONDS
+
+    dry = Path(path) if path else default_dry_path()
+    if not dry.exists():
+        raise InputError(f"--dry={dry}: no such file; give a phrase (.toml) or an audio file")
+    if dry.suffix.lower() in PHRASE_SUFFIXES:
+        load_phrase(dry)
+        if seconds is not None and seconds > MAX_SECONDS:
+            raise InputError(f"--seconds={seconds:g}: a phrase renders in memory, at most {MAX_SECONDS:g} s; for longer takes use a recording")
+    elif recorded:
+        audio_info(dry)
+    return dry
+
+
+def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None) -> Dry:
+    """The string velocity a phrase gives at two sensing points.
+
+    Parameters
+    ----------
+    phrase : Phrase
+        From :func:`load_phrase` or :func:`parse_phrase`.
+    positions : (float, float), m
+        coil_a's and coil_b's sensing points, from the bridge saddle.
+    apertures : (float, float) or float, m
+        The sensing windows' widths along the string.
+    sample_rate : int, Hz
+    seed : int
+        The phrase's small per-note variations.
+    seconds : float or None, s
+        Length (default: the phrase's own).
+
+    Returns
+    -------
+    Dry
+    """
+    velocity = string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
+    if velocity.shape[0] == 1:
+        velocity = np.vstack([velocity, velocity])
+    return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=(), description=describe(phrase) | {"seed": int(seed)})
+
+
+def load_dry(
     path: str | Path,
     *,
     sample_rate: int,
@@ -63,7 +130,7 @@ def dry_velocity(
     seed: int = 0,
     seconds: float | None = None,
     velocity_scale: float = 1.0,
-) -> DrySignal:
+) -> Dry:
     """String velocity at two sensing points from a phrase or a recorded file.
 
     Parameters
@@ -78,7 +145,7 @@ def dry_velocity(
 
     Returns
     -------
-    DrySignal with velocity of shape (2, n) in m/s.
+    Dry, with velocity of shape (2, n) in m/s.
 
     Raises
     ------
@@ -87,12 +154,7 @@ def dry_velocity(
     """
     p = Path(path)
     if p.suffix.lower() in PHRASE_SUFFIXES:
-        phrase = load_phrase(p)
-        velocity = string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
-        if velocity.shape[0] == 1:
-            velocity = np.vstack([velocity, velocity])
-        info = describe(phrase) | {"seed": int(seed)}
-        return DrySignal(velocity=velocity, sample_rate=int(sample_rate), warnings=(), description=info)
+        return synthesize(load_phrase(p), positions=positions, apertures=apertures, sample_rate=sample_rate, seed=seed, seconds=seconds)
     velocity, warnings = load_recorded(p, sample_rate=sample_rate, velocity_scale=velocity_scale, seconds=seconds)
     if seconds is not None:  # load_recorded has checked it
         n = int(round(seconds * sample_rate))
@@ -103,4 +165,4 @@ def dry_velocity(
         "seconds": velocity.shape[1] / sample_rate,
         "velocity_scale": float(velocity_scale),
     }
-    return DrySignal(velocity=velocity, sample_rate=int(sample_rate), warnings=tuple(warnings), description=info)
+    return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=tuple(warnings), description=info)

@@ -144,7 +144,7 @@ def difference_plot(path, key: dict, *, overwrite: bool = False):
     """Both designs' responses and their difference in dB, raw and as played after loudness matching."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from ..report.plots import PALETTE, _hz_axis, _plt, save
+    from ..report.plots import PALETTE, _hz_axis, pyplot, save
 
     designs = designs_from_key(key)
     f = np.geomspace(20.0, 20000.0, 600)
@@ -153,7 +153,7 @@ def difference_plot(path, key: dict, *, overwrite: bool = False):
     gains = key.get("loudness", {}).get("gains_db", [0.0, 0.0])
     raw = level[0] - level[1]
     played = raw + (gains[0] - gains[1])
-    plt = _plt()
+    plt = pyplot()
     fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 6.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
     for i, d in enumerate(designs):
         ax1.plot(f, level[i], color=PALETTE[i], lw=1.8, label=d.name)

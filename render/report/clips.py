@@ -23,7 +23,7 @@ def write_design_audio(out: Path, stem: str, clip, rec: dict, *, volts_full_scal
 def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, figures=None) -> list[Path]:
     """S-response.png, S-spectrum.png (``spectra``: list of (label, f, level_db, dashed)) and S-spectrogram.png.
 
-    ``figures`` (a :class:`~render.report.plots.Figures`) draws on figures kept from earlier plots.
+    ``figures`` (a :class:`~render.report.plots.KeptFigures`) draws on figures kept from earlier plots.
     """
     return [write_response_plot(out, stem, design, figures=figures)] + write_signal_plots(out, stem, design, spectra=spectra, spectrogram=spectrogram, sample_rate=sample_rate, spectrogram_title=spectrogram_title, figures=figures)
 
@@ -77,11 +77,11 @@ def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, figures=No
 def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
     """What can be drawn before any clip is rendered: every S-response.png and responses.png, the overlay of them all."""
     from ..io.atomic import write_bytes
-    from .plots import Figures
+    from .plots import KeptFigures
 
     designs = list(designs)
     f, h, hp = velocity_curves(designs)
-    with Figures() as figures:
+    with KeptFigures() as figures:
         written = [write_response_plot(out, stem, d, figures=figures, curves=(f, h[i], hp[i])) for i, (stem, d) in enumerate(zip(stems, designs))]
     return written + [write_bytes(out / "responses.png", overlay_png(designs, curves=(f, h, hp)), overwrite=True)]
 

@@ -35,7 +35,8 @@ def passive_style(j: int) -> dict:
     return {"color": CLAY, "ls": PASSIVE_STYLES[j % len(PASSIVE_STYLES)]}
 
 
-def _plt():
+def pyplot():
+    """matplotlib.pyplot with the non-interactive Agg backend (imported on first use)."""
     import matplotlib
 
     matplotlib.use("Agg")
@@ -77,7 +78,7 @@ def png_bytes(fig, *, keep=False) -> bytes:
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=110, metadata={"Software": None}, pil_kwargs={"compress_level": 1})
     if not keep:
-        _plt().close(fig)
+        pyplot().close(fig)
     return buf.getvalue()
 
 
@@ -99,7 +100,7 @@ def _range(values, *, pad=0.05):
 
 
 def _response_build(f, n, passive, title):
-    plt = _plt()
+    plt = pyplot()
     fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 6.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
     mags, phases = [], []
     for i in range(n):
@@ -144,14 +145,14 @@ def response_plot(path, f, curves, *, passive=None, title="", overwrite=False, f
 
     ``curves`` is a list of (label, complex response (F,)); ``passive`` an
     optional (label, complex response) drawn dashed. ``figures`` (a
-    :class:`Figures`) reuses a figure drawn before with the same layout.
+    :class:`KeptFigures`) reuses a figure drawn before with the same layout.
     """
     f = np.asarray(f, float)
     key = ("response", len(curves), passive is not None, bool(title), f.size, float(f[0]), float(f[-1]))
     return _draw(figures, key, lambda: _response_build(f, len(curves), passive is not None, title), lambda p: _response_fill(p, f, curves, passive, title), path, overwrite)
 
 
-class Figures:
+class KeptFigures:
     """Figures kept to be drawn again: ticks, axes and text are made once per layout.
 
     Filling a kept figure sets everything that differs from one plot to the
@@ -170,7 +171,7 @@ class Figures:
 
     def close(self):
         for p in self._kept.values():
-            _plt().close(p["fig"])
+            pyplot().close(p["fig"])
         self._kept.clear()
 
     def __enter__(self):
@@ -194,7 +195,7 @@ def _draw(figures, key, build, fill, path, overwrite):
 
 def rejection_plot(path, f, curves, *, marks=(), overwrite=False):
     """Hum rejection (dB) against frequency, mains harmonics marked."""
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(8, 4.5))
     for i, (label, r) in enumerate(curves):
         ax.plot(f, r, lw=1.8, label=label, **curve_style(i))
@@ -210,7 +211,7 @@ def rejection_plot(path, f, curves, *, marks=(), overwrite=False):
 
 def histogram_plot(path, values, *, xlabel, title="", overwrite=False):
     """Histogram of Monte Carlo results with the median and 5th percentile marked."""
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(7, 4))
     ax.hist(values, bins=50, color=PALETTE[1], alpha=0.85)
     for q, ls, name in ((50, "-", "median"), (5, "--", "5th percentile")):
@@ -226,7 +227,7 @@ def histogram_plot(path, values, *, xlabel, title="", overwrite=False):
 
 
 def _spectrum_build(dashed, title):
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(8, 4.5))
     lines = []
     for i, d in enumerate(dashed):
@@ -254,7 +255,7 @@ def _spectrum_fill(p, curves, title):
 def spectrum_plot(path, curves, *, title="", overwrite=False, figures=None):
     """Long-term average spectra: ``curves`` is a list of (label, f (F,), level dB (F,), dashed).
 
-    ``figures`` (a :class:`Figures`) reuses a figure drawn before with the same layout.
+    ``figures`` (a :class:`KeptFigures`) reuses a figure drawn before with the same layout.
     """
     dashed = tuple(bool(c[3]) for c in curves)
     return _draw(figures, ("spectrum", dashed, bool(title)), lambda: _spectrum_build(dashed, title), lambda p: _spectrum_fill(p, curves, title), path, overwrite)
@@ -295,7 +296,7 @@ def spectrogram_image(samples, *, sample_rate):
 
 
 def _spectrogram_build(fmax, unit, title):
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(8, 4.2))
     mesh = ax.imshow(np.zeros((2, 2)), origin="lower", aspect="auto", cmap="magma", vmin=-90, vmax=0, extent=[0, 1, np.log10(40.0), np.log10(fmax)], interpolation="nearest")
     ticks = [v for v in (50, 100, 200, 500, 1000, 2000, 5000, 10000, 20000) if v <= fmax]
@@ -320,7 +321,7 @@ def _spectrogram_fill(p, image, title):
 def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrite=False, figures=None):
     """Spectrogram (dB) on a log-frequency axis, 40 Hz to 20 kHz (see :func:`spectrogram_image`).
 
-    ``figures`` (a :class:`Figures`) reuses a figure drawn before with the same layout.
+    ``figures`` (a :class:`KeptFigures`) reuses a figure drawn before with the same layout.
     """
     image = spectrogram_image(samples, sample_rate=sample_rate)
     fmax = image[2]
@@ -329,7 +330,7 @@ def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrit
 
 def overlay_png(f, curves, passives) -> bytes:
     """PNG of every design's magnitude response, ``curves`` and ``passives`` lists of (label, complex response (F,)), the passives dashed."""
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(9, 5))
     for i, (label, h) in enumerate(curves):
         ax.plot(f, 20 * np.log10(np.abs(h)), lw=1.6, label=label, **curve_style(i))
@@ -346,7 +347,7 @@ def overlay_png(f, curves, passives) -> bytes:
 
 def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
     """Simple line plot: ``series`` is a list of (label, y (len(x),), dashed)."""
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(7.5, 4.2))
     for i, (label, y, dashed) in enumerate(series):
         ax.plot(x, y, marker="o", ms=4, color=PALETTE[i % len(PALETTE)], lw=1.6, ls="--" if dashed else STYLES[(i // len(PALETTE)) % len(STYLES)], label=label)
@@ -365,7 +366,7 @@ def transfer_plot(path, curves, *, title="", overwrite=False):
 
     ``curves``: list of (label, x (V), y (V), [(bias_v, point_label), …]).
     """
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(7, 5))
     for i, (label, x, y, points) in enumerate(curves):
         col = PALETTE[i % len(PALETTE)]

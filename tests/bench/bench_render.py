@@ -5,7 +5,7 @@ Run by hand from the project folder (not part of the test suite):
     python tests/bench/bench_render.py            # everything (about 2 minutes)
     python tests/bench/bench_render.py --quick    # skip the one-hour memory run
 
-Figures: real-time factor per design for a 60 s clip (compute only, one
+KeptFigures: real-time factor per design for a 60 s clip (compute only, one
 core; target ≥ 200×), a 10 s clip's compute (target ≤ 0.1 s), the wall time
 of the default main job (target ≤ 3 s for 10 designs on 2 cores, start-up
 included), the ratio against an ngspice transient of the same circuit and
@@ -58,7 +58,8 @@ def machine():
 
 def bench_rtf(designs):
     from render.chain.stream import make_plan, render_signal
-    from render.clips import Settings, dry_for
+    from render.clip import RenderSettings as Settings
+    from render.runs.clips import dry_for
 
     print("Real-time factor, 60 s of the default phrase (looped), compute only, one core, best of 3:")
     rtfs = []

@@ -43,7 +43,9 @@ def resident_mb() -> float:
 
 def soak(renders: int = 200, *, every: int = 20, seconds: float = 0.25, out=None, show=print) -> list[tuple[int, float]]:
     """Render ``renders`` times in this process; returns (render count, resident MB) at each report."""
-    from render.clips import Settings, record, render_design
+    from render.clip import RenderSettings as Settings
+    from render.report.records import clip_record as record
+    from render.runs.clips import render_design
     from render.design import load_design
     from render.io.atomic import write_text
     from render.report.plots import spectrogram_plot

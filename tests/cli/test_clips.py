@@ -98,7 +98,7 @@ def test_refusals_touch_nothing(tmp_path):
 def test_a_design_failing_in_a_worker_is_one_line_and_leaves_no_process(tmp_path, monkeypatch):
     import multiprocessing
 
-    import render.clips as clips_module
+    import render.runs.clips as clips_module
     from render.errors import InputError
 
     real = clips_module.render_design

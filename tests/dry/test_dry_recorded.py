@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 import soundfile as sf
 
-from render.dry import dry_velocity
+from render.dry import load_dry
 from render.dry.recorded import load_recorded
 from render.io.atomic import atomic_path
 from render.io.wav import float_wav_bytes, write_float_wav
@@ -129,11 +129,11 @@ def test_missing_file_and_bad_scale(tmp_path):
 def test_dry_velocity_dispatches_on_the_file(tmp_path):
     wav = tmp_path / "v.wav"
     sf.write(wav, sine(100, 0.2, FS), FS, subtype="FLOAT")
-    rec = dry_velocity(wav, sample_rate=FS, positions=(0.04, 0.06), apertures=0.0, seconds=0.3)
+    rec = load_dry(wav, sample_rate=FS, positions=(0.04, 0.06), apertures=0.0, seconds=0.3)
     assert rec.velocity.shape == (2, int(0.3 * FS)) and rec.description["kind"] == "recorded"
     toml = tmp_path / "p.toml"
     toml.write_text('seconds = 0.5\n[[note]]\ntime = 0\npitch = "A2"\n')
-    syn = dry_velocity(toml, sample_rate=FS, positions=(0.04, 0.06), apertures=0.0)
+    syn = load_dry(toml, sample_rate=FS, positions=(0.04, 0.06), apertures=0.0)
     assert syn.velocity.shape == (2, FS // 2) and syn.description["kind"] == "phrase"
     assert not np.array_equal(syn.velocity[0], syn.velocity[1])
 

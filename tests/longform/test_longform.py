@@ -12,7 +12,7 @@ from scipy.signal import welch
 from render.analysis.loudness import integrated_loudness
 from render.chain.stream import render_signal
 from render.cli import main
-from render.clips import LONG_SECONDS
+from render.runs.clips import LONG_SECONDS
 from render.design import load_design
 from render.analysis.loudness import LoudnessMeter
 from render.analysis.spectrum import WelchSpectrum

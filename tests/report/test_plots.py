@@ -3,7 +3,7 @@
 No check values that need a source: the references are the same computation done
 plainly (new figures; numpy's rfft and np.interp column by column), with 1e-9 dB
 for float rounding; the batch length of at most five and the sizes asserted are
-this project's own choices (see render.cli.clips.batches).
+this project's own choices (see render.runs.clips.split_runs).
 """
 
 from __future__ import annotations
@@ -11,8 +11,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from render.cli.clips import batches
-from render.parallel import side_work
+from render.runs.clips import split_runs
+from render.parallel import SideProcess
 from render.report import plots
 
 F = np.geomspace(20, 20000, 600)
@@ -39,7 +39,7 @@ def _draw_all(folder, figures):
 
 def test_a_plot_on_a_kept_figure_is_the_same_file_as_on_a_new_one(tmp_path):
     fresh = _draw_all(tmp_path / "fresh", None)
-    with plots.Figures() as figures:
+    with plots.KeptFigures() as figures:
         kept = _draw_all(tmp_path / "kept", figures)
     assert sorted(fresh) == sorted(kept) and len(fresh) == 9
     for name in fresh:
@@ -75,7 +75,7 @@ def test_spectrogram_image_matches_the_column_by_column_computation(n, fs):
 
 @pytest.mark.parametrize("n, jobs", [(0, 2), (1, 2), (2, 2), (7, 2), (10, 1), (10, 2), (11, 2), (3, 8), (100, 2), (37, 4)])
 def test_batches_cover_every_task_once_in_order_and_evenly(n, jobs):
-    runs = batches(n, jobs)
+    runs = split_runs(n, jobs)
     assert [i for r in runs for i in r] == list(range(n))
     if n:
         sizes = [len(r) for r in runs]
@@ -89,7 +89,7 @@ def _square(x):
 
 @pytest.mark.parametrize("enabled", [False, True])
 def test_side_work_gives_the_same_results_in_a_process_or_here(enabled):
-    with side_work(enabled=enabled) as side:
+    with SideProcess(enabled=enabled) as side:
         futures = [side.submit(_square, k) for k in range(5)]
         assert [f.result() for f in futures] == [0, 1, 4, 9, 16]
 

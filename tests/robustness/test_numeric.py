@@ -14,7 +14,8 @@ import pytest
 
 from render import units as U
 from render.chain.discretize import NEAR_UNSTABLE, pole_warnings, sos_pole_warnings
-from render.clips import Settings, render_design
+from render.clip import RenderSettings as Settings
+from render.runs.clips import render_design
 from render.design import DESIGN_TABLES, parse_design
 from render.errors import InputError
 from render.io.wav import float_wav_bytes

@@ -11,7 +11,7 @@ import pytest
 import soundfile as sf
 from click.testing import CliRunner
 
-import render.cli.unvoice as cli_unvoice
+import render.runs.unvoice as run_unvoice
 from render.analysis import unvoice as U
 from render.circuit.engine import design_responses
 from render.cli import main
@@ -76,7 +76,7 @@ def test_streamed_file_equals_the_one_shot_writer_and_the_pure_function(di, tmp_
     v, _ = U.unvoice(y.astype(np.float32).astype(float), passive=passive, sample_rate=SAMPLE_RATE)
     assert np.array_equal(x, v.astype(np.float32).astype(float))
     # the read block size does not change a byte
-    monkeypatch.setattr(cli_unvoice, "BLOCK", 1000)
+    monkeypatch.setattr(run_unvoice, "BLOCK", 1000)
     other = tmp_path / "b.wav"
     assert run(path, REF, "--out", other, "--no-plot").exit_code == 0
     assert other.read_bytes() == out.read_bytes()

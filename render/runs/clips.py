@@ -1,0 +1,382 @@
+"""``render clips`` as a run: one clip per design through one dry signal and rig, into one folder.
+
+In memory for phrases and recordings up to :data:`LONG_SECONDS`: the designs
+are rendered in worker processes (batches of a few, their plots drawn on
+figures kept within the batch), measured there, and written here at one full
+scale for the run. Longer recordings are rendered, measured and written block
+by block in bounded memory (:func:`render_long`), at a full scale fixed in
+advance from the designs' output windows.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import asdict, dataclass, replace
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..clip import Clip, RenderSettings
+from ..design import Design, RigFile
+from ..dry import Dry
+
+BATCH_MOST = 5  # designs per worker task: their plots share figures (see split_runs)
+
+
+@dataclass(frozen=True)
+class ClipsRun:
+    """What :func:`run_clips` wrote and measured.
+
+    Attributes
+    ----------
+    folder : Path
+    records : tuple of dict
+        Each design's JSON record (as written to ``S.json``), in the designs' order.
+    volts_full_scale : float, V
+        The one WAV full scale of the run.
+    streamed : bool
+        Rendered block by block (a long recording).
+    seconds : float, s
+        Length of the clips.
+    warnings : tuple of str
+        One line each, prefixed with the design's name.
+    over_full_scale : tuple of str
+        Designs whose peak passes the full scale (float WAVs keep those samples).
+    """
+
+    folder: Path
+    records: tuple[dict, ...]
+    volts_full_scale: float
+    streamed: bool
+    seconds: float
+    warnings: tuple[str, ...] = ()
+    over_full_scale: tuple[str, ...] = ()
+
+
+def choose_full_scale(peaks, *, floor: float = 0.1) -> float:
+    """The smallest 1-2-5 step (V) at or above the largest peak and ``floor``: one scale for a run."""
+    top = max([float(p) for p in peaks] + [floor])
+    decade = 10.0 ** np.floor(np.log10(top))
+    for m in (1.0, 2.0, 5.0, 10.0):
+        if top <= m * decade * (1 + 1e-12):
+            return float(m * decade)
+    return float(10 * decade)
+
+
+def window_full_scale(designs) -> float:
+    """A full scale fixed before rendering, from the designs' output windows, rounded up 1-2-5.
+
+    The op-amp output never leaves its window and the output network and
+    controls are passive, so this scale holds every render without knowing
+    its peak in advance.
+    """
+    # an AC-coupled output can swing up to twice the window's half-width (a long excursion
+    # to one rail, then a jump to the other), and the output-rate samples ring a little past it
+    return choose_full_scale([2.2 * max(d.headroom_up_v, d.headroom_down_v) for d in designs])
+
+
+def dry_for(design: Design, dry_path: Path, settings: RenderSettings) -> Dry:
+    """The dry signal at this design's two sensing points."""
+    from ..dry import load_dry
+
+    a, b = design.coil_a, design.coil_b
+    return load_dry(
+        dry_path,
+        sample_rate=settings.sample_rate,
+        positions=(a.position, b.position),
+        apertures=(a.aperture, b.aperture),
+        seed=settings.seed,
+        seconds=settings.seconds,
+        velocity_scale=settings.velocity_scale,
+    )
+
+
+def sensing_key(design: Design) -> tuple:
+    """What the dry signal depends on in a design: its two sensing points and windows."""
+    return (design.coil_a.position, design.coil_b.position, design.coil_a.aperture, design.coil_b.aperture)
+
+
+LONG_SECONDS = 120.0  # a recorded dry file longer than this is rendered in bounded memory
+NOISE_PERIOD = 2**20  # samples: the noise floor loops with this period on long renders (21.8 s at 48 kHz)
+SPECTROGRAM_SECONDS = 60.0  # the spectrogram of a long render shows its first minute
+
+
+def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out: Path, stem: str, volts_full_scale: float, rig_record: dict, plots: bool = True, block: int = 65536) -> dict:
+    """Render a long recorded dry file for ``design`` straight to ``out``/``stem``.wav and .json.
+
+    Memory stays bounded: the velocity is read, resampled, rendered, measured
+    and written one block at a time. Returns the JSON record (also written).
+    """
+    from ..analysis.figures import figures
+    from ..analysis.loudness import LoudnessMeter
+    from ..analysis.spectrum import WelchSpectrum
+    from ..chain.stream import Renderer, make_plan
+    from ..clip import PassiveStream, noise_warning
+    from ..dry.recorded import iter_recorded
+    from ..io.atomic import write_json
+    from ..io.wav import FloatWavWriter
+    from ..report.records import make_record
+
+    out = Path(out)
+    fs = settings.sample_rate
+    plan = make_plan(design, sample_rate=fs)
+    renderer = Renderer(plan, hum=settings.hum)
+    passive = PassiveStream(design, sample_rate=fs, hum=settings.hum) if settings.passive else None
+    noise = pnoise = None
+    extra_warnings = ()
+    if settings.noise:
+        from ..analysis.noise import noise_waveform
+
+        noise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed)
+        extra_warnings = noise_warning(design, noise)
+        pnoise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed, passive=True) if passive else None
+    wav = FloatWavWriter(out / f"{stem}.wav", sample_rate=fs, overwrite=True)
+    pwav = FloatWavWriter(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
+    loud, spec = LoudnessMeter(sample_rate=fs), WelchSpectrum(sample_rate=fs)
+    head = []  # the first minute, for the spectrogram
+    stats = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf}
+    written = [0, 0]
+
+    def emit(y, amp, py):
+        if noise is not None and y.size:
+            idx = np.arange(written[0], written[0] + y.size) % NOISE_PERIOD
+            y = y + noise[idx]
+        written[0] += y.size
+        if y.size:
+            stats["peak"] = max(stats["peak"], float(np.abs(y).max()))
+            stats["sq"] += float(np.sum(y * y))
+            stats["n"] += y.size
+            stats["amp_min"] = min(stats["amp_min"], float(amp.min()))
+            stats["amp_max"] = max(stats["amp_max"], float(amp.max()))
+            have = sum(h.size for h in head)
+            if have < SPECTROGRAM_SECONDS * fs:
+                head.append(y[: int(SPECTROGRAM_SECONDS * fs) - have])
+        wav.write(y / volts_full_scale)
+        loud.add(y)
+        spec.add(y)
+        if pwav is not None and py is not None:
+            if pnoise is not None and py.size:
+                idx = np.arange(written[1], written[1] + py.size) % NOISE_PERIOD
+                py = py + pnoise[idx]
+            written[1] += py.size
+            pwav.write(py / volts_full_scale)
+
+    try:
+        for v in iter_recorded(dry_path, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block):
+            r = renderer.process(v)
+            emit(r["out"], r["amp_out"], passive.process(v) if passive else None)
+        last = renderer.finish()
+        emit(last["out"], last["amp_out"], passive.finish() if passive else None)
+        wav.close()
+        if pwav is not None:
+            pwav.close()
+    except BaseException:
+        wav.abort()
+        if pwav is not None:
+            pwav.abort()
+        raise
+    fig = figures([design])[0]
+    n = stats["n"]
+    s = {
+        "peak_v": stats["peak"],
+        "rms_v": float(np.sqrt(stats["sq"] / max(n, 1))),
+        "amp_out_min_v": stats["amp_min"] if n else design.bias_v,
+        "amp_out_max_v": stats["amp_max"] if n else design.bias_v,
+        "clipped_fraction": renderer.clipped_fraction,
+        "loudness_lufs_1v_full_scale": loud.integrated(),
+    }
+    dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}
+    rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings + extra_warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
+    write_json(out / f"{stem}.json", rec, overwrite=True)
+    if plots:
+        from ..report.clips import write_design_plots
+
+        write_design_plots(out, stem, design, spectra=[(design.name, *spec.value(), False)], spectrogram=np.concatenate(head) if head else np.zeros(1), sample_rate=fs, spectrogram_title=f"{design.name}: amp input, first {SPECTROGRAM_SECONDS:g} s")
+    return rec
+
+
+
+
+# ----------------------------------------------------------------------------
+# Many designs in worker processes
+
+
+def render_design(design: Design, dry_path: Path, settings: RenderSettings, *, dry: Dry | None = None, resampler: Any = None) -> Clip:
+    """Render ``design`` playing the dry file ``dry_path`` with ``settings`` (:func:`render.clip.render_clip`).
+
+    dry : the dry signal already made for this design's sensing points (:func:`dry_for`), when several designs share it
+    resampler : the limiter's resampler at this sample rate, when a batch of designs shares one
+    """
+    from ..clip import render_clip
+
+    signal = dry if dry is not None else dry_for(design, dry_path, settings)
+    return render_clip(design, signal, hum=settings.hum, noise=settings.noise, passive=settings.passive, seed=settings.seed, resampler=resampler)
+
+
+def _render_one(args: tuple, figures: Any = None, resampler: Any = None) -> Clip:
+    """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel)."""
+    design, dry_path, settings, (plot_to, signal) = args
+    clip = render_design(design, dry_path, settings, dry=signal, resampler=resampler)
+    if plot_to is not None:
+        from ..report.clips import write_clip_plots
+
+        folder, stem = plot_to
+        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate, figures=figures)
+    # the op-amp output is not sent back: the run needs only its extremes, already in the stats
+    return replace(clip, amp_out=None)
+
+
+def _render_batch(batch: list[tuple]) -> list[Clip]:
+    """Render a few designs in turn: one limiter resampler for them all (it depends only on the
+    sample rate), their plots drawn on figures kept from one design to the next."""
+    from ..chain.stream import default_oversample, design_resampler
+
+    fs = batch[0][2].sample_rate
+    resampler = design_resampler(sample_rate=fs, oversample=default_oversample(fs))
+    if not any(extra[0] for *_, extra in batch):
+        return [_render_one(args, resampler=resampler) for args in batch]
+    from ..report.plots import KeptFigures
+
+    with KeptFigures() as figures:
+        return [_render_one(args, figures, resampler) for args in batch]
+
+
+def split_runs(n: int, jobs: int, *, most: int = BATCH_MOST) -> list[range]:
+    """Split ``n`` tasks into runs of consecutive ones, at most ``most`` long, a whole number per process.
+
+    Each process takes runs of about the same length, so the load stays even;
+    within a run the plots reuse their figures.
+    """
+    jobs = max(1, min(jobs, n))
+    parts = jobs * -(-n // (jobs * most)) if n else 0
+    edges = [round(i * n / parts) for i in range(parts + 1)] if parts else [0]
+    return [range(a, b) for a, b in zip(edges, edges[1:]) if b > a]
+
+
+def _render_long_one(args: tuple) -> dict:
+    design, dry, settings, kw = args
+    return render_long(design, dry, settings, **kw)
+
+
+def import_for_workers(plots: bool) -> None:
+    """Import the heavy modules here, once: forked workers then share them instead of each importing them."""
+    from ..chain import stream  # noqa: F401
+    from ..dry import modal  # noqa: F401
+
+    if plots:
+        from ..report.plots import pyplot
+
+        pyplot()
+
+
+def render_all(designs: Sequence[Design], dry: Path, settings: RenderSettings, jobs: int, *, work: Callable | None = None, extra: list | None = None, plots: bool = False, progress: Callable[[int], None] | None = None) -> list:
+    """Render every design (in ``jobs`` processes); results in the designs' order.
+
+    plots : whether the work draws plots (then matplotlib is imported once, before the workers fork)
+    progress : called with the number of designs each finished task rendered
+    """
+    from ..parallel import pmap
+
+    tasks: list[Any] = [(d, dry, settings, extra[i] if extra else None) for i, d in enumerate(designs)]
+    runs = None
+    if work is None:  # clips in memory: a few designs per task, their plots drawn on kept figures
+        runs = split_runs(len(tasks), jobs)
+        tasks = [[tasks[i] for i in r] for r in runs]
+        work = _render_batch
+    if jobs > 1 and len(tasks) > 1:
+        import_for_workers(plots)
+    done = pmap(work, tasks, jobs, on_done=(lambda result: progress(len(result) if runs else 1)) if progress else None)
+    return [clip for batch in done for clip in batch] if runs else done
+
+
+def _rig_record(rig: RigFile | None) -> dict:
+    return {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
+
+
+def run_clips(
+    designs: Sequence[Design],
+    dry: Path,
+    settings: RenderSettings,
+    out: Path,
+    *,
+    rig: RigFile | None = None,
+    jobs: int = 1,
+    plots: bool = True,
+    volts_full_scale: float | None = None,
+    progress: Callable[[int], None] | None = None,
+) -> ClipsRun:
+    """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png).
+
+    Parameters
+    ----------
+    designs : sequence of Design
+        Validated, each with its rig applied; their file stems name the outputs.
+    dry : Path
+        A phrase (.toml) or a recorded velocity file, already checked.
+    settings : RenderSettings
+    out : Path
+        The folder (created here; refused beforehand by the caller if it holds files).
+    rig : RigFile or None
+        The rig file applied to every design, for the records.
+    jobs : int
+        Worker processes (results are byte-identical to one).
+    plots : bool
+    volts_full_scale : float or None, V
+        One WAV full scale for the run (default: the smallest 1-2-5 step above the run's largest peak).
+    progress : callable or None
+        Called with the number of designs done, as they finish.
+    """
+    from ..io.folders import make_folder
+    from ..parallel import SideProcess
+    from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
+    from ..report.records import clip_record
+
+    stems = [Path(d.source).stem for d in designs]
+    rig_record = _rig_record(rig)
+    rig_text = rig.source if rig else "each design's own"
+    if dry.suffix.lower() != ".toml":
+        from ..dry.recorded import recorded_seconds
+
+        length = settings.seconds if settings.seconds is not None else recorded_seconds(dry)
+        if length > LONG_SECONDS:
+            vfs = volts_full_scale or window_full_scale(designs)
+            make_folder(out)
+            kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(d.rig)}, plots=plots) for stem, d in zip(stems, designs)]
+            records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots, progress=progress)
+            write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
+            warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
+            return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings)
+    make_folder(out)
+    # designs that sense the string at the same points share one synthesised dry signal; with
+    # workers, a side process makes those, then draws the plots that need no render (every
+    # S-response.png and responses.png), while this one imports the heavy modules the workers share
+    firsts: dict[tuple, Design] = {}
+    for d in designs:
+        firsts.setdefault(sensing_key(d), d)
+    parallel = jobs > 1 and len(designs) > 1
+    if parallel and plots:
+        from ..report.plots import pyplot
+
+        pyplot()  # matplotlib first: the side process forks with it, rather than importing it again
+    with SideProcess(enabled=parallel) as side:
+        pending = {key: side.submit(dry_for, d, dry, settings) for key, d in firsts.items()}
+        drawing = side.submit(write_design_only_plots, out, stems, designs) if plots else None
+        if parallel:
+            import_for_workers(plots)
+        shared = {key: fut.result() for key, fut in pending.items()}
+        clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)], plots=plots, progress=progress)
+        if drawing is not None:
+            drawing.result()
+    peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
+    vfs = volts_full_scale or choose_full_scale(peaks)
+    records = []
+    for stem, clip in zip(stems, clips):
+        rec = clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry)
+        records.append(rec)
+        write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
+    write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
+    over = tuple(c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs)
+    seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
+    warnings = tuple(f"{c.design.name}: {w}" for c in clips for w in c.warnings)
+    return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=False, seconds=seconds, warnings=warnings, over_full_scale=over)

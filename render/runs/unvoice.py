@@ -1,0 +1,257 @@
+"""``render unvoice`` as a run: the string velocity behind a passive-pickup recording, file to file.
+
+The recording (DI) is taken to be MODEL's passive reference (its two coils in
+series, into the rig's passive controls, cable and amp input) played by one
+string velocity. Two passes over the file, each block by block: the first
+reads its statistics (long-term spectrum and noise floor), the second filters
+it with one fixed regularised inverse (:mod:`render.analysis.unvoice`).
+Writes, each under a temporary name until all three are complete:
+
+- ``FILE.wav``: the velocity, mono float32 at the DI's sample rate; a sample
+  of 1.0 is ``velocity_scale`` m/s (1 m/s);
+- ``FILE.json``: the trusted band, the regularisation, the DI's
+  ``volts_full_scale``, the design file and its hash, band levels, and what a
+  10 % error in the model's coils or cable would do;
+- ``FILE-spectra.png``: the DI's spectrum, the passive response and the
+  recovered velocity's spectrum.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+
+BLOCK = 1 << 16  # samples per read and write
+MIN_SECONDS = 0.5  # shorter recordings give too few frames for a noise floor (common practice, no source)
+VOLTS_FULL_SCALE = 1.0  # default: a DI sample of 1.0 is 1 V at the amp input
+VOLTS_RANGE = (1e-4, 100.0)  # V at full scale accepted
+BOOST_RANGE = (0.0, 40.0)  # dB accepted for --max-boost
+WAV_HEADER = 64  # bytes, at least, of render.io.wav's float WAV header (RIFF, fmt, fact, data)
+
+
+@dataclass(frozen=True)
+class UnvoiceResult:
+    """What :func:`unvoice` wrote: paths, the JSON record, the warnings (one line each)."""
+
+    wav: Path
+    json: Path
+    png: Path | None
+    record: dict
+    warnings: tuple[str, ...]
+
+
+def sidecars(out: str | Path) -> tuple[Path, Path]:
+    """The JSON and plot written beside ``out`` (``FILE.json``, ``FILE-spectra.png``)."""
+    out = Path(out)
+    return out.with_suffix(".json"), out.with_name(out.stem + "-spectra.png")
+
+
+def _check_number(name: str, value, low: float, high: float, what: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) or not low <= value <= high:
+        raise InputError(f"{name}={value}: must be a number from {low:g} to {high:g} ({what})")
+    return float(value)
+
+
+def _open_di(path: Path):
+    """(sample_rate, frames) of a mono audio file, or InputError."""
+    import soundfile as sf
+
+    from ..io.audio import audio_info
+
+    name = str(path)
+    try:
+        # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header
+        audio_info(path)
+    except InputError as e:
+        raise InputError(f"DI={e}") from None
+    info = sf.info(name)
+    if info.channels != 1:
+        raise InputError(f"DI={name}: channels={info.channels}: a DI must be mono (one pickup output); export one channel")
+    if info.frames < MIN_SECONDS * info.samplerate:
+        raise InputError(f"DI={name}: {info.frames / info.samplerate:.3f} s: at least {MIN_SECONDS:g} s is needed to read its noise floor")
+    if not 8000 <= info.samplerate <= 768000:
+        raise InputError(f"DI={name}: sample_rate={info.samplerate}: must be from 8000 to 768000 Hz")
+    if WAV_HEADER + 4 * info.frames >= 2**32:
+        raise InputError(f"DI={name}: frames={info.frames}: the velocity WAV would pass 4 GiB; split the recording")
+    return int(info.samplerate), int(info.frames)
+
+
+def _blocks(path: Path):
+    import soundfile as sf
+
+    yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
+
+
+def unvoice(
+    di_path,
+    model_path,
+    *,
+    out,
+    rig_path=None,
+    volts_full_scale: float = VOLTS_FULL_SCALE,
+    velocity_scale: float = 1.0,
+    max_boost_db: float | None = None,
+    overwrite: bool = False,
+    plot: bool = True,
+) -> UnvoiceResult:
+    """Estimate the string velocity behind ``di_path`` (recorded through MODEL's passive reference) and write it.
+
+    di_path : mono audio file; a sample of 1.0 is ``volts_full_scale`` V at the amp input
+    model_path : design file whose passive reference made the recording
+    out : the velocity WAV to write (``.wav``); the JSON and plot go beside it
+    rig_path : rig file replacing the design's own [rig], or None
+    velocity_scale : m/s at the velocity WAV's full scale, > 0
+    max_boost_db : dB, 0..40, the inverse's boost bound above its 1 kHz level (default 20)
+    Raises InputError (one line) before writing anything for bad input or existing files without ``overwrite``.
+    """
+    from .. import __version__
+    from ..analysis import unvoice as U
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from ..design import design_to_dict, load_designs
+    from ..io.atomic import atomic_path, json_text
+    from ..io.folders import refuse_existing as check_new
+    from ..io.hashing import sha256_file
+    from ..io.wav import FloatWavWriter
+    from ..report.unvoice import spectra_plot, unvoice_record
+
+    boost = U.MAX_BOOST_DB if max_boost_db is None else _check_number("--max-boost", max_boost_db, *BOOST_RANGE, "dB above the inverse's 1 kHz level")
+    vfs = _check_number("--volts-full-scale", volts_full_scale, *VOLTS_RANGE, "volts at the DI's full scale")
+    vscale = _check_number("--velocity-scale", velocity_scale, 1e-6, 1e3, "m/s at the velocity WAV's full scale")
+    out = Path(out)
+    if out.suffix.lower() != ".wav":
+        raise InputError(f"--out={out}: must end in .wav (the velocity is written as a float WAV)")
+    json_path, png_path = sidecars(out)
+    check_new([out, json_path] + ([png_path] if plot else []), overwrite=overwrite)
+    di = Path(di_path)
+    folder = out.parent if str(out.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"--out={out}: folder {folder} does not exist; create it first")
+    if di.exists() and out.exists() and out.resolve() == di.resolve():
+        raise InputError(f"--out={out}: is the DI itself; choose another name")
+    sample_rate, frames = _open_di(di)
+    designs, rig = load_designs([model_path], rig=rig_path)
+    design = designs[0]
+    warnings: list[str] = []
+
+    # pass 1: statistics (and every sample checked before anything is written)
+    stats_acc = U.SpectrumAccumulator(sample_rate=sample_rate)
+    from ..io.audio import FlatRuns
+
+    flats = FlatRuns()
+    peak, at = 0.0, 0
+    for block in _blocks(di):
+        bad = ~np.isfinite(block)
+        if bad.any():
+            i = int(np.flatnonzero(bad)[0])
+            raise InputError(f"DI={di}: sample {at + i} ({(at + i) / sample_rate:.4f} s) = {float(block[i])}: every sample must be finite; repair or export the file again")
+        flats.add(block)
+        peak = max(peak, float(np.max(np.abs(block))) if block.size else 0.0)
+        stats_acc.add(block * vfs)
+        at += block.size
+    if peak == 0.0:
+        raise InputError(f"DI={di}: every sample is 0: the recording is silent; record or export it again")
+    if flats.runs:
+        warnings.append(f"DI={di}: {flats.runs} flat run(s) at full scale, the first at {flats.first / sample_rate:.3f} s; the recording clipped, and clipping is not the passive pickup's response")
+    stats = stats_acc.result()
+    if stats.frames < 4:
+        raise InputError(f"DI={di}: only {stats.frames} non-silent frames of {stats.frame} samples; at least 4 are needed for a noise floor")
+
+    # the inverse, designed once
+    grid = U.design_grid(sample_rate=sample_rate)
+    passive = responses(from_designs([design])).passive_velocity()(grid)[0]
+    inv = U.design_inverse(passive, sample_rate=sample_rate, band_hz=stats.band_hz, noise_ratio=U.noise_to_signal(stats), max_boost_db=boost)
+    if inv.trusted_band_hz is None:
+        warnings.append(f"no band around {U.REFERENCE_HZ:g} Hz is within {U.TRUST_DB:g} dB of the exact inverse: the recording is mostly noise there, or the model does not fit it")
+
+    # pass 2: filter and write, every output under a temporary name until all are done
+    fir = U.StreamingFIR(inv.taps, delay=inv.delay)
+    vel_acc = U.SpectrumAccumulator(sample_rate=sample_rate)
+    vpeak, vsum2, written = 0.0, 0.0, 0
+    with contextlib.ExitStack() as stack:
+        tmp_wav = stack.enter_context(atomic_path(out, overwrite=overwrite))
+        tmp_json = stack.enter_context(atomic_path(json_path, overwrite=overwrite))
+        tmp_png = stack.enter_context(atomic_path(png_path, overwrite=overwrite)) if plot else None
+        wav = FloatWavWriter(tmp_wav, sample_rate=sample_rate, overwrite=True)
+        try:
+
+            def put(v):
+                nonlocal vpeak, vsum2, written
+                if v.size:
+                    if not np.isfinite(v).all():
+                        raise InputError(f"DI={di}: the estimate is not finite; this is a bug, please report it")
+                    vel_acc.add(v)
+                    vpeak = max(vpeak, float(np.max(np.abs(v))))
+                    vsum2 += float(np.dot(v, v))
+                    written += v.size
+                    wav.write(v / vscale)
+
+            for block in _blocks(di):
+                put(fir.process(block * vfs))
+            put(fir.finish())
+            wav.close()
+        except BaseException:
+            wav.abort()
+            raise
+        if written != frames:
+            raise InputError(f"DI={di}: wrote {written} of {frames} samples; the file changed while it was read")
+        vstats = vel_acc.result()
+
+        record = unvoice_record(
+            di=di, di_sha256=sha256_file(di), design=design, rig=rig, sample_rate=sample_rate, frames=frames, vfs=vfs, vscale=vscale, peak=peak, inv=inv,
+            stats=stats, vstats=vstats, vpeak=vpeak, vrms=math.sqrt(vsum2 / max(frames, 1)), out=out, png=png_path if plot else None,
+            warnings=warnings, version=__version__, design_dict=design_to_dict(design),
+        )
+        tmp_json.write_text(json_text(record), encoding="utf-8")
+        if plot:
+            spectra_plot(tmp_png, stats=stats, vstats=vstats, inv=inv, title=f"{design.name}: un-voicing {di.name}")
+    return UnvoiceResult(wav=out, json=json_path, png=png_path if plot else None, record=record, warnings=tuple(warnings))
+
+
+@dataclass(frozen=True)
+class FromDi:
+    """A DI un-voiced for a render: the velocity WAV, a short JSON-ready record, the warnings."""
+
+    wav: Path
+    record: dict
+    trusted_band_hz: tuple[float, float] | None
+    warnings: tuple[str, ...]
+
+
+def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool = False, plot: bool = True) -> FromDi:
+    """The ``--from-di MODEL`` shortcut of ``clips`` and ``blind``: un-voice a DI into ``folder``.
+
+    Writes ``folder/<DI stem>-velocity.wav`` (with its JSON and, if ``plot``,
+    its plot), at 1 V DI full scale and 1 m/s velocity full scale. Returns the
+    velocity WAV's path and a short JSON-ready record of the un-voicing.
+    """
+    from ..io.folders import make_folder
+    from ..io.hashing import sha256_file
+
+    if di_path is None:
+        raise InputError("--from-di needs --dry DI: the recording made through that design's passive reference")
+    di = Path(di_path)
+    if di.suffix.lower() == ".toml":
+        raise InputError(f"--dry={di}: is a phrase; --from-di un-voices a recording (WAV, FLAC, ...)")
+    folder = make_folder(folder)
+    res = unvoice(di, model_path, out=folder / f"{di.stem}-velocity.wav", rig_path=rig, overwrite=overwrite, plot=plot)
+    r = res.record
+    band = r["trusted_band_hz"]
+    summary = {
+        "di": r["di"]["file"],
+        "di_sha256": r["di"]["sha256"],
+        "volts_full_scale": r["di"]["volts_full_scale"],
+        "model": r["design_file"],
+        "model_sha256": r["design_sha256"],
+        "trusted_band_hz": band,
+        "gain_limit_db": r["regularisation"]["gain_limit_db"],
+        "velocity_sha256": sha256_file(res.wav),
+        "rebuild": f"render unvoice {di} {model_path}" + (f" --rig {rig}" if rig else "") + " --out FILE.wav",
+    }
+    return FromDi(wav=res.wav, record=summary, trusted_band_hz=tuple(band) if band else None, warnings=res.warnings)
