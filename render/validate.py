@@ -54,7 +54,7 @@ def sample_rate(value: object, *, name: str = "--sample-rate") -> int:
     except TypeError:
         rate = None
     if rate is None or not lo <= rate <= hi:
-        raise InputError(f"{name}={value!r}: must be a whole number of Hz from {lo} to {hi}; 48000 is usual")
+        raise InputError(f"{name}={value!r}: must be from {lo} to {hi} Hz (a whole number); 48000 is usual")
     return rate
 
 

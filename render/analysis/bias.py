@@ -121,3 +121,91 @@ def sine_distortion(design, *, velocity_peak: float, frequency_hz: float = SINE_
         "thd_percent": float(100 * np.sqrt(np.sum(h[1:] ** 2)) / h[0]),
         "harmonics_v": [float(x) for x in h],
     }
+
+
+# ----------------------------------------------------------------------------
+# The library form of ``render bias``
+
+REALISTIC_VELOCITY = 20.0  # m/s peak string velocity (common practice, no source)
+RATIO_RANGE = (0.02, 0.98)
+
+
+def _measure(args: tuple) -> dict:
+    s, ref_v = args
+    d = s.design
+    return {"setting": s.label, "ratio": s.ratio, "bias_top_ohm": s.top, "bias_bottom_ohm": s.bottom, "battery_v": s.battery,
+            "bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v,
+            "onset": onset(d), "sine": sine_distortion(d, velocity_peak=ref_v)}
+
+
+@dataclass(frozen=True)
+class BiasSweep:
+    """What :func:`bias_sweep` measured.
+
+    Attributes
+    ----------
+    design : Design
+    settings : tuple of Setting
+        Each (divider, battery) setting, its design changed accordingly, in order.
+    rows : tuple of dict
+        Per setting: bias, headroom, the clip onset (string velocity and EMF
+        on each side) and the test sine's THD, H2 and H3 (the JSON layout of
+        ``render bias --json``'s ``settings``).
+    sine_velocity_m_per_s : float, m/s peak, of the 1 kHz test sine
+    keep_load : bool
+    warnings : tuple of str
+    """
+
+    design: object
+    settings: tuple[Setting, ...]
+    rows: tuple[dict, ...]
+    sine_velocity_m_per_s: float
+    keep_load: bool
+    warnings: tuple[str, ...] = ()
+
+
+def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=None, batteries=None, keep_load: bool = True, sine_velocity: float | None = None, jobs: int = 1) -> BiasSweep:
+    """Clipping of ``design`` as its bias divider is unbalanced (and its battery runs down).
+
+    Parameters
+    ----------
+    design : Design
+    ratios : sequence of float, 0.02..0.98
+        Divider ratios bottom/(top + bottom) (unless ``tops`` and ``bottoms`` are given).
+    tops, bottoms : sequences of float, Ω, or None
+        Explicit divider values, of equal length.
+    batteries : sequence of float, V, or None
+        Supply voltages (default: the design's).
+    keep_load : bool
+        Keep the divider's parallel resistance (the input loading) rather than its sum.
+    sine_velocity : float or None, m/s peak
+        The 1 kHz test sine (default: 1.4 × the design's own first onset, +3 dB past it).
+    jobs : int
+        Settings measured in this many processes (identical results).
+
+    Returns
+    -------
+    BiasSweep
+    """
+    from ..errors import InputError
+    from ..parallel import pmap
+
+    if (tops is None) != (bottoms is None):
+        raise InputError("--top and --bottom go together: give both lists, of the same length")
+    if tops is not None:
+        if len(tops) != len(bottoms) or any(x < 1 or x > 1e9 for x in [*tops, *bottoms]):
+            raise InputError(f"--top={','.join(f'{x:g}' for x in tops)}, --bottom={','.join(f'{x:g}' for x in bottoms)}: need lists of equal length of resistances from 1 Ω to 1 GΩ")
+    elif any(not RATIO_RANGE[0] <= r <= RATIO_RANGE[1] for r in ratios):
+        raise InputError(f"--ratios={','.join(f'{r:g}' for r in ratios)}: each ratio bottom/(top+bottom) must be from {RATIO_RANGE[0]:g} to {RATIO_RANGE[1]:g}")
+    if batteries and any(not 1.5 <= v <= 60 for v in batteries):
+        raise InputError(f"--battery={','.join(f'{v:g}' for v in batteries)}: each battery voltage must be from 1.5 V to 60 V")
+    settings = sweep(design, ratios=None if tops is not None else list(ratios), tops=tops, bottoms=bottoms, batteries=batteries, keep_load=keep_load)
+    for s in settings:
+        w = s.design.supply
+        if w.battery - w.margin_low - w.margin_high - 2 * w.knee <= 0:
+            raise InputError(f"--battery={s.battery:g}: leaves no room between margin_low + margin_high + 2·knee and the battery; raise it")
+    first = onset(design)
+    ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
+    warnings = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway",) if ref_v > REALISTIC_VELOCITY else ()
+    rows = pmap(_measure, [(s, ref_v) for s in settings], jobs)
+    return BiasSweep(design=design, settings=tuple(settings), rows=tuple(rows), sine_velocity_m_per_s=ref_v, keep_load=keep_load, warnings=warnings)

@@ -200,6 +200,17 @@ class MonteCarlo:
     seed: int
     sensitivity: list  # [(label, dB per +1 % at the fundamental)], largest first
 
+    def as_dict(self) -> dict:
+        """The JSON layout of ``render hum --json``'s ``monte_carlo``."""
+        return {
+            "trials": self.trials,
+            "seed": self.seed,
+            "tolerances": self.tolerances,
+            "distribution": "uniform within ± the tolerance",
+            "harmonics": self.summary(),
+            "sensitivity_db_per_percent": [{"part": k, "db": v} for k, v in self.sensitivity],
+        }
+
     def summary(self) -> list[dict]:
         return [
             {
@@ -305,3 +316,85 @@ def measured_rejection(design, *, seconds: float = 2.0, settle: float = 1.0, sam
     with np.errstate(divide="ignore", invalid="ignore"):
         rej = 20 * np.log10(big / np.abs(amp["both"]))
     return {"frequency_hz": f, "rejection_db": rej, "output_v": np.abs(amp["both"]), **waves}
+
+
+# ----------------------------------------------------------------------------
+# The library form of ``render hum``
+
+
+@dataclass(frozen=True)
+class HumHarmonic:
+    """One mains harmonic at the amp input (peak volts)."""
+
+    harmonic: int
+    frequency_hz: float
+    rejection_db: float | None  # None where the field has no such harmonic
+    output_v: float
+    coil_a_v: float
+    coil_b_v: float
+
+
+@dataclass(frozen=True)
+class HumReport:
+    """A design's hum, per mains harmonic, with its passive reference's (see :func:`hum`).
+
+    Attributes
+    ----------
+    design : str
+    mains_hz : float, Hz
+    field_t : float, T, peak flux density of the fundamental
+    harmonics : tuple of HumHarmonic
+    total_v_rms : float, V rms over the harmonics
+    signal_to_hum_db : float or None
+        The reference string signal over the total hum; None when the coils
+        cancel exactly (no hum to compare with).
+    passive_total_v_rms : float, V
+    passive_signal_to_hum_db : float or None
+    reference_signal : dict
+        What the signal-to-hum ratio is relative to.
+    """
+
+    design: str
+    mains_hz: float
+    field_t: float
+    harmonics: tuple[HumHarmonic, ...]
+    total_v_rms: float
+    signal_to_hum_db: float | None
+    passive_total_v_rms: float
+    passive_signal_to_hum_db: float | None
+    reference_signal: dict
+    table: dict  # the same figures in the JSON layout of ``render hum --json``
+
+    def as_dict(self) -> dict:
+        return dict(self.table)
+
+
+def hum(design, *, rig=None) -> HumReport:
+    """Hum cancellation of ``design`` with its own coils, per mains harmonic.
+
+    Parameters
+    ----------
+    design : Design
+    rig : RigFile or None
+        Its ``[hum]`` (mains, field, harmonics) and controls replace the design's own.
+
+    Returns
+    -------
+    HumReport
+    """
+    from ..design import apply_rig
+
+    d = apply_rig(design, rig)
+    t = hum_table(d)
+    return HumReport(
+        design=d.name,
+        mains_hz=t["mains_hz"],
+        field_t=t["field_t"],
+        harmonics=tuple(HumHarmonic(**row) for row in t["harmonics"]),
+        total_v_rms=t["total_v_rms"],
+        signal_to_hum_db=t["signal_to_hum_db"],
+        passive_total_v_rms=t["passive"]["total_v_rms"],
+        passive_signal_to_hum_db=t["passive"]["signal_to_hum_db"],
+        reference_signal=t["reference_signal"],
+        table=t,
+    )

@@ -316,3 +316,31 @@ def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature
         gain[k] = np.sqrt(np.maximum(psd, 0.0) * (float(sample_rate) / 2.0))
     white = np.random.default_rng(int(seed)).standard_normal(n)
     return np.fft.irfft(np.fft.rfft(white) * gain, n)
+
+
+def noise_record(r: NoiseReport, design, rig_file) -> dict:
+    """The --json record of one report (the keys scripts rely on first)."""
+    from .. import __version__
+
+    act = r.active.as_dict()
+    pas = r.passive.as_dict()
+    pas.pop("frequency_hz")
+    return {
+        "design": r.design,
+        "file": r.source,
+        "sha256": design.sha256,
+        "rig": {"file": rig_file.source, "sha256": rig_file.sha256} if rig_file else None,
+        "software_version": __version__,
+        "temperature_k": r.temperature_k,
+        "band_hz": list(BAND_HZ),
+        "frequency_hz": act.pop("frequency_hz"),
+        "density_v_per_rthz": act.pop("density_v_per_rthz"),
+        "total_v": act.pop("total_v"),
+        "a_weighted_v": act.pop("a_weighted_v"),
+        "snr_db": act.pop("snr_db"),
+        "snr_a_db": act.pop("snr_a_db"),
+        "reference_signal": r.reference_signal(),
+        "opamp": {"noise_voltage_v_per_rthz": r.noise_voltage, "noise_current_a_per_rthz": r.noise_current},
+        **act,
+        "passive": pas,
+    }

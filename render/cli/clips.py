@@ -45,7 +45,6 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     from ..dry import check_dry_file
     from ..errors import InputError
     from ..io.folders import output_folder
-    from ..runs.clips import run_clips
 
     dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di)
     designs, rig = load_designs(models, rig=rig_path)
@@ -60,6 +59,13 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         report_from_di(made)
         dry = made.wav
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise)
+    render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale)
+
+
+def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None) -> None:
+    """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
+    from ..runs.clips import run_clips
+
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     bar = click.progressbar(length=len(designs), label="rendering", file=sys.stderr, show_pos=True) if len(designs) > 1 else contextlib.nullcontext()
     with bar as shown:

@@ -6,14 +6,27 @@ from pathlib import Path
 
 import click
 
-from ..io.folders import make_folder, output_folder
-from .options import emit_json, friendly, overwrite_option, rig_option
+from .options import friendly, overwrite_option, rig_option
 
 
 def _fig(v, name):
     if v is None:
         return "—"
     return f"{v:.0f}" if name.endswith("_hz") else f"{v:.2f}"
+
+
+def print_table(run) -> None:
+    """Aim, start, each result; then the free parts' values."""
+    import numpy as np
+
+    from ..analysis.fit import format_value
+
+    results = run.results
+    click.echo(f"{'aim':34s} {'start':>10s} " + " ".join(f"{'#' + str(i):>10s}" for i in range(1, len(results) + 1)))
+    for a in run.spec.aims:
+        click.echo(f"{a.describe():34s} {_fig(run.start_figures[a.figure], a.figure):>10s} " + " ".join(f"{_fig(r.figures[a.figure], a.figure):>10s}" for r in results))
+    for j, (fr, s) in enumerate(zip(run.spec.free, run.start_values)):
+        click.echo(f"{fr.name:34s} {format_value(fr, s) if not np.isnan(s) else '—':>10s} " + " ".join(f"{format_value(fr, r.values[j]):>10s}" for r in results))
 
 
 @click.command("fit")
@@ -35,68 +48,23 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
     comments saying what changed, fit.json, and an overlay plot of the
     start's and the results' responses.
     """
-    import numpy as np
+    from ..io.folders import output_folder
+    from ..runs.fit import fit
 
-    from ..analysis.fit import conflicts, format_value, load_fit, rewrite, run_fit
-    from ..circuit.engine import responses
-    from ..circuit.params import from_designs
-    from ..design import apply_rig, load_design, load_rig, parse_design
-    from ..errors import InputError
-    from ..io.atomic import write_text
-    from ..io.toml import loads
-
-    spec = load_fit(fitfile, start_override=start_path)
-    start_file = Path(spec.start_path)
-    if not start_file.is_absolute() and not start_file.exists() and (Path(fitfile).parent / start_file).exists():
-        start_file = Path(fitfile).parent / start_file
-    rig = load_rig(rig_path) if rig_path else None
-    start = apply_rig(load_design(start_file), rig)
     out = output_folder(out_dir or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
-    results, ev, start_vals = run_fit(spec, start, top=top, seed=seed)
-    if not results or not results[0].meets:
-        best = f" (best score {results[0].score:.3g})" if results else ""
-        raise InputError(f"{fitfile}: no design met every aim{best}; {conflicts(spec, ev)}")
-    from ..analysis.figures import figures
-
-    start_fig = figures([start])[0]
-    make_folder(out)
-    text = start_file.read_text(encoding="utf-8")
-    stem = start_file.stem
-    records, written = [], []
-    for rank, r in enumerate(results, 1):
-        changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]
-        summary = ", ".join(f"{fr.name} {format_value(fr, s) if s is not None else 'absent'} → {format_value(fr, v)}" for fr, v, s in changes) or "nothing"
-        header = (
-            f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
-            f"# changed: {summary}\n# score {r.score:.3g} ({'meets every aim' if r.meets else 'misses an aim'})\n"
-        )
-        path = out / f"{stem}-fit-{rank}.toml"
-        body = rewrite(text, changes, header, name=path.stem)
-        data = loads(body)
-        parse_design(data, source=str(path), name=path.stem)  # the written file must be a valid design
-        write_text(path, body, overwrite=True)
-        written.append(path)
-        records.append({"file": str(path), "score": r.score, "meets": r.meets, "changed_parts": r.changed, "figures": {k: v for k, v in r.figures.items() if k != "passive"}, "changes": {fr.name: v for fr, v, _ in changes}})
-    emit_json(str(out / "fit.json"), {"fit_file": str(fitfile), "start": str(start_file), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records}, overwrite=True)
-    # printed table: aim, start, each result
-    head = f"{'aim':34s} {'start':>10s} " + " ".join(f"{'#' + str(i):>10s}" for i in range(1, len(results) + 1))
-    click.echo(head)
-    for a in spec.aims:
-        click.echo(f"{a.describe():34s} {_fig(start_fig[a.figure], a.figure):>10s} " + " ".join(f"{_fig(r.figures[a.figure], a.figure):>10s}" for r in results))
-    for j, (fr, s) in enumerate(zip(spec.free, start_vals)):
-        click.echo(f"{fr.name:34s} {format_value(fr, s) if not np.isnan(s) else '—':>10s} " + " ".join(f"{format_value(fr, r.values[j]):>10s}" for r in results))
-    designs = [start] + [apply_rig(load_design(p), rig) for p in written]
-    f = np.geomspace(20, 20000, 500)
-    h = responses(from_designs(designs)).velocity()(f)
-    from ..report.plots import response_plot
-
-    response_plot(out / "fit-responses.png", f, [("start: " + start.name, h[0])] + [(f"fit {i}", h[i]) for i in range(1, len(designs))], title=f"render fit: {Path(fitfile).name}", overwrite=True)
-    click.echo(f"wrote {len(written)} designs, fit.json and fit-responses.png to {out}/")
+    run = fit(fitfile, out=out, start_path=start_path, rig=rig_path, top=top, seed=seed)
+    print_table(run)
+    click.echo(f"wrote {len(run.files)} designs, fit.json and fit-responses.png to {out}/")
     if render_clips:
-        from .clips import clips_command
+        from ..clip import RenderSettings
+        from ..design import load_designs
+        from ..dry import check_dry_file
+        from ..io.folders import output_folder
+        from .clips import render_and_report
 
-        ctx.invoke(clips_command, models=(str(start_file), *map(str, written)), rig_path=rig_path, out_dir=str(out / "clips"), overwrite=overwrite)
+        designs, rig = load_designs([run.start_file, *run.files], rig=rig_path)
+        render_and_report(designs, check_dry_file(None), RenderSettings(), output_folder(out / "clips", overwrite=overwrite), rig=rig)
     if blind_session:
         from .blind import blind_command
 
-        ctx.invoke(blind_command, model_a=str(start_file), model_b=str(written[0]), rig_path=rig_path, out=str(out / "blind"), overwrite=overwrite)
+        ctx.invoke(blind_command, model_a=str(run.start_file), model_b=str(run.files[0]), rig_path=rig_path, out=str(out / "blind"), overwrite=overwrite)

@@ -47,57 +47,6 @@ def summary_lines(r, top: int) -> list[str]:
     return out
 
 
-def payload(r, design, rig_file) -> dict:
-    """The --json record of one report (the keys scripts rely on first)."""
-    from .. import __version__
-    from ..analysis.noise import BAND_HZ
-
-    act = r.active.as_dict()
-    pas = r.passive.as_dict()
-    pas.pop("frequency_hz")
-    return {
-        "design": r.design,
-        "file": r.source,
-        "sha256": design.sha256,
-        "rig": {"file": rig_file.source, "sha256": rig_file.sha256} if rig_file else None,
-        "software_version": __version__,
-        "temperature_k": r.temperature_k,
-        "band_hz": list(BAND_HZ),
-        "frequency_hz": act.pop("frequency_hz"),
-        "density_v_per_rthz": act.pop("density_v_per_rthz"),
-        "total_v": act.pop("total_v"),
-        "a_weighted_v": act.pop("a_weighted_v"),
-        "snr_db": act.pop("snr_db"),
-        "snr_a_db": act.pop("snr_a_db"),
-        "reference_signal": r.reference_signal(),
-        "opamp": {"noise_voltage_v_per_rthz": r.noise_voltage, "noise_current_a_per_rthz": r.noise_current},
-        **act,
-        "passive": pas,
-    }
-
-
-def noise_plot(path, r, *, top: int, overwrite: bool = False):
-    """Density (nV/√Hz, log axes) of the design, its largest contributors and the passive reference."""
-    from ..report.plots import CLAY, INK, PALETTE, _hz_axis, pyplot, save
-
-    plt = pyplot()
-    a, p = r.active, r.passive
-    f = a.frequency_hz
-    fig, ax = plt.subplots(figsize=(8, 5.2))
-    ax.plot(f, a.density_v_per_rthz * 1e9, color=INK, lw=2.0, label=f"{r.design}: total {a.total_v * 1e6:.3g} µV")
-    for i, c in enumerate(a.contributors[:top]):
-        ax.plot(f, a.contributor_density[c.key] * 1e9, color=PALETTE[(i + 1) % len(PALETTE)], lw=1.1, label=f"  {c.key} ({100 * c.share:.0f} %)")
-    ax.plot(f, p.density_v_per_rthz * 1e9, color=CLAY, lw=1.5, ls="--", label=f"passive reference: total {p.total_v * 1e6:.3g} µV")
-    _hz_axis(ax, f[0], f[-1])
-    ax.set_yscale("log")
-    ax.set_xlabel("frequency (Hz)")
-    ax.set_ylabel("noise density at the amp input (nV/√Hz)")
-    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {a.snr_db:.1f} dB (passive {p.snr_db:.1f} dB)", fontsize=10, loc="left")
-    ax.legend(loc="lower left", fontsize=8, frameon=False)
-    fig.tight_layout()
-    return save(fig, path, overwrite=overwrite)
-
-
 @click.command("noise")
 @click.argument("model", type=click.Path(dir_okay=False))
 @rig_option
@@ -127,7 +76,7 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
     """
     import math
 
-    from ..analysis.noise import check_temperature, noise_reports
+    from ..analysis.noise import check_temperature, noise_record, noise_reports
     from ..design import load_designs
     from ..errors import InputError
 
@@ -141,6 +90,8 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
         for line in summary_lines(r, top):
             click.echo(line)
     if json_path:
-        emit_json(json_path, payload(r, d, rig_file), overwrite=overwrite)
+        emit_json(json_path, noise_record(r, d, rig_file), overwrite=overwrite)
     if png_path:
+        from ..report.plots import noise_plot
+
         noise_plot(png_path, r, top=top, overwrite=overwrite)

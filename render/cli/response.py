@@ -27,17 +27,6 @@ def summary_lines(d, fig) -> list[str]:
     ]
 
 
-def csv_text(f, h, hp) -> str:
-    import numpy as np
-
-    rows = ["frequency_hz,magnitude_db,phase_deg,passive_magnitude_db,passive_phase_deg"]
-    for fi, a, b in zip(f, h, hp):
-        rows.append(
-            f"{fi:.6g},{20 * np.log10(abs(a)):.6f},{np.degrees(np.angle(a)):.4f},{20 * np.log10(abs(b)):.6f},{np.degrees(np.angle(b)):.4f}"
-        )
-    return "\n".join(rows) + "\n"
-
-
 @click.command("response")
 @click.argument("model", type=click.Path(dir_okay=False))
 @rig_option
@@ -58,20 +47,18 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, ov
     import numpy as np
 
     from ..analysis.figures import figures
-    from ..circuit.engine import responses
-    from ..circuit.params import from_designs
+    from ..analysis.response import response
     from ..design import load_designs
     from ..errors import InputError
+    from ..report.response import csv_text
 
     if fmax <= fmin:
         raise InputError(f"--fmax={fmax:g} must be above --fmin={fmin:g}")
     check_new([csv_path, png_path], overwrite=overwrite)
     (d,), _ = load_designs([model], rig=rig_path)
-    resp = responses(from_designs([d]))
-    fig = figures([d], resp)[0]
-    f = np.geomspace(fmin, fmax, points)
-    h = resp.velocity()(f)[0]
-    hp = resp.passive_velocity()(f)[0]
+    fig = figures([d])[0]
+    r = response(d, np.geomspace(fmin, fmax, points))
+    f, h, hp = r.frequency_hz, r.velocity, r.passive
     if csv_path != "-":
         for line in summary_lines(d, fig):
             click.echo(line)

@@ -383,3 +383,68 @@ def transfer_plot(path, curves, *, title="", overwrite=False):
         _fix_title(ax, title)
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)
+
+
+def noise_plot(path, r, *, top: int, overwrite: bool = False):
+    """Density (nV/√Hz, log axes) of the design, its largest contributors and the passive reference."""
+    plt = pyplot()
+    a, p = r.active, r.passive
+    f = a.frequency_hz
+    fig, ax = plt.subplots(figsize=(8, 5.2))
+    ax.plot(f, a.density_v_per_rthz * 1e9, color=INK, lw=2.0, label=f"{r.design}: total {a.total_v * 1e6:.3g} µV")
+    for i, c in enumerate(a.contributors[:top]):
+        ax.plot(f, a.contributor_density[c.key] * 1e9, color=PALETTE[(i + 1) % len(PALETTE)], lw=1.1, label=f"  {c.key} ({100 * c.share:.0f} %)")
+    ax.plot(f, p.density_v_per_rthz * 1e9, color=CLAY, lw=1.5, ls="--", label=f"passive reference: total {p.total_v * 1e6:.3g} µV")
+    _hz_axis(ax, f[0], f[-1])
+    ax.set_yscale("log")
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("noise density at the amp input (nV/√Hz)")
+    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {a.snr_db:.1f} dB (passive {p.snr_db:.1f} dB)", fontsize=10, loc="left")
+    ax.legend(loc="lower left", fontsize=8, frameon=False)
+    fig.tight_layout()
+    return save(fig, path, overwrite=overwrite)
+
+
+def hum_rejection_plot(path, designs, *, overwrite: bool = False):
+    """Rejection against frequency (20 Hz–20 kHz) of every design, its mains harmonics marked."""
+    from ..analysis.hum import rejection_curve
+
+    f = np.geomspace(20, 20000, 600)
+    curves = rejection_curve(designs, f)
+    marks = sorted({h * d.hum.mains for d in designs for h in range(1, len(d.hum.harmonics) + 1)})
+    return rejection_plot(path, f, [(d.name, c) for d, c in zip(designs, curves)], marks=marks, overwrite=overwrite)
+
+
+def bias_plots(out, design, settings_list, rows) -> None:
+    """Headroom and harmonics against the divider ratio, and the soft limit's transfer curve with each bias point marked."""
+    from pathlib import Path
+
+    from ..chain.limit import design_window, soft_limit
+
+    stem = Path(design.source).stem
+    batteries = sorted({r["battery_v"] for r in rows})
+    series_h, series_d = [], []
+    for v in batteries:
+        sel = [r for r in rows if r["battery_v"] == v]
+        xs = [r["ratio"] for r in sel]
+        series_h += [(f"up, {v:g} V", [r["headroom_up_v"] for r in sel], False), (f"down, {v:g} V", [r["headroom_down_v"] for r in sel], True)]
+        series_d += [(f"H2, {v:g} V", [r["sine"]["h2_db"] for r in sel], False), (f"H3, {v:g} V", [r["sine"]["h3_db"] for r in sel], True)]
+    lines_plot(out / f"{stem}-headroom.png", xs, series_h, xlabel="divider ratio bottom/(top+bottom)", ylabel="headroom (V)", title=f"{design.name}: headroom against the divider", overwrite=True)
+    lines_plot(out / f"{stem}-harmonics.png", xs, series_d, xlabel="divider ratio bottom/(top+bottom)", ylabel="level re fundamental (dB)", title=f"{design.name}: 1 kHz sine harmonics", overwrite=True)
+    curves = []
+    for v in batteries:
+        sel = [(s, r) for s, r in zip(settings_list, rows) if r["battery_v"] == v]
+        win = design_window(sel[0][0].design)
+        xx = np.linspace(0, v, 800)
+        curves.append((f"{v:g} V battery", xx, soft_limit(xx, window=win), [(r["bias_v"], f"{r['ratio']:.2f}") for _, r in sel]))
+    transfer_plot(out / f"{stem}-transfer.png", curves, title=f"{design.name}: the soft limit, bias points marked", overwrite=True)
+
+
+def fit_plot(path, designs, *, title: str = ""):
+    """The start's response (first design) and each fit result's, 20 Hz–20 kHz."""
+    from ..analysis.response import response
+
+    f = np.geomspace(20, 20000, 500)
+    h = [response(d, f).velocity for d in designs]
+    curves = [("start: " + designs[0].name, h[0])] + [(f"fit {i}", h[i]) for i in range(1, len(designs))]
+    return response_plot(path, f, curves, title=title, overwrite=True)

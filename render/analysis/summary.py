@@ -1,0 +1,87 @@
+"""What ``render check`` reports for a design: its bias point, headroom, corners, resonance and figures."""
+
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ..design import Coil, Design
+
+
+def corners(d: Design) -> dict:
+    """First-order corners of the networks taken alone: 1/(2πRC) (textbook)."""
+    tau = 2 * math.pi
+    ib = d.input_b
+    out = {
+        "input_a_hz": 1 / (tau * d.input_a.series_r * d.input_a.series_c),
+        "input_b_hz": 1 / (tau * ib.series_r * ib.series_c),
+        "feedback_hz": 1 / (tau * d.feedback.r * d.feedback.c) if d.feedback.c else None,
+    }
+    par = 1 / (1 / ib.bias_top + 1 / ib.bias_bottom)
+    out["bias_node_hz"] = 1 / (tau * par * ib.shunt_c) if ib.shunt_c else None
+    # the output coupling capacitor into the DC path the jack sees: shunt_r || volume pot
+    loads = [d.rig.volume_pot] + ([d.output.shunt_r] if d.output.shunt_r else [])
+    r_load = 1 / sum(1 / r for r in loads)
+    out["output_hz"] = 1 / (tau * (d.output.series_r + r_load) * d.output.coupling_c)
+    return out
+
+
+def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
+    """JSON-ready: the design's derived values, its figures and its most resonant pole pair (f0 Hz, Q)."""
+    ib = d.input_b
+
+    def coil(c: Coil) -> dict:
+        out = {"inductance_h": c.inductance, "resistance_ohm": c.resistance, "capacitance_f": c.capacitance}
+        if c.winding is not None:
+            w = c.winding
+            out["winding"] = {
+                "estimate": True,
+                "turns": w.turns,
+                "wire_awg": w.wire_awg,
+                "wire_diameter_m": w.wire_diameter,
+                "wire_length_m": w.wire_length,
+                "mean_turn_m": w.mean_turn,
+                "height_m": w.height,
+                "depth_m": w.depth,
+                "core_factor": w.core_factor,
+                "temperature_c": w.temperature,
+            }
+        return out
+
+    return {
+        "file": d.source,
+        "design": d.name,
+        "bias_v": d.bias_v,
+        "bias_divider_parallel_ohm": 1 / (1 / ib.bias_top + 1 / ib.bias_bottom),
+        "headroom_up_v": d.headroom_up_v,
+        "headroom_down_v": d.headroom_down_v,
+        "limit_window_v": [d.limit_low_v, d.limit_high_v],
+        "coil_a": coil(d.coil_a),
+        "coil_b": coil(d.coil_b),
+        "corners_hz": corners(d),
+        "pole_resonance_hz": pole[0],
+        "pole_q": pole[1],
+        "figures": {k: v for k, v in fig.items() if k != "passive"},
+        "passive": fig["passive"],
+    }
+
+
+
+
+def check_designs(designs, *, turns_percent: float | None = None) -> list[dict]:
+    """:func:`design_summary` of every design (one engine pass), with a ±``turns_percent`` turns sweep when given."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from .figures import figures, pole_resonance
+
+    resp = responses(from_designs(list(designs)))
+    figs = figures(designs, resp)
+    vel = resp.velocity()
+    records = [design_summary(d, fig, pole_resonance(vel, i)) for i, (d, fig) in enumerate(zip(designs, figs))]
+    if turns_percent:
+        from .turns import turns_table
+
+        for d, rec in zip(designs, records):
+            rec["turns_sweep"] = turns_table(d, turns_percent)
+    return records

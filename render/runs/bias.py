@@ -1,0 +1,98 @@
+"""``render bias`` clips as a run: one clip of the phrase per setting, a loudness-matched copy, and plots."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+
+REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
+
+
+@dataclass(frozen=True)
+class BiasClips:
+    """What :func:`write_bias_clips` wrote.
+
+    Attributes
+    ----------
+    folder : Path
+    clips : tuple of dict
+        Per setting, in the sweep's order: file, volts_full_scale,
+        loudness_lufs_1v_full_scale, matched_gain_db, peak_v.
+    record : dict
+        The run's settings (dry, strength_m, seed, target_lufs, volts_full_scale), for JSON.
+    """
+
+    folder: Path
+    clips: tuple[dict, ...]
+    record: dict
+
+
+def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
+    """Refuse a pluck strength outside 0..50 mm or with a recording; warn beyond realistic playing."""
+    if strength_m is None:
+        return ()
+    if not 0 < strength_m <= 0.05:
+        raise InputError(f"--strength={strength_m * 1e3:g}mm: must be above 0 and at most 50 mm")
+    if dry.suffix.lower() != ".toml":
+        raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
+    return (f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing; rendering it anyway",) if strength_m > REALISTIC_STRENGTH_M else ()
+
+
+def phrase_at_strength(dry_path: Path, design, settings, strength_m: float):
+    """The dry phrase with every note plucked at ``strength_m`` (m), synthesised at the design's sensing points."""
+    from dataclasses import replace
+
+    from ..dry import synthesize
+    from ..dry.phrase import load_phrase
+
+    p = load_phrase(dry_path)
+    p = replace(p, notes=tuple(replace(n, strength=strength_m) for n in p.notes))
+    a, b = design.coil_a, design.coil_b
+    return synthesize(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds)
+
+
+def _clip(args: tuple) -> np.ndarray:
+    from ..clip import render_clip
+    from .clips import dry_for
+
+    design, dry, st, strength_m = args
+    signal = phrase_at_strength(dry, design, st, strength_m) if strength_m is not None else dry_for(design, dry, st)
+    return render_clip(design, signal, hum=True).volts
+
+
+def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = None, seconds: float | None = None, seed: int = 0, target_lufs: float = -23.0, jobs: int = 1) -> BiasClips:
+    """A clip per setting of ``sweep`` (:func:`render.analysis.bias.bias_sweep`) and a copy matched to ``target_lufs``, plus the plots.
+
+    Writes ``S-r<ratio>-<battery>V.wav`` and ``…-matched.wav`` at one full scale,
+    ``S-headroom.png``, ``S-harmonics.png`` and ``S-transfer.png``.
+    """
+    from ..analysis.loudness import integrated_loudness
+    from ..clip import RenderSettings
+    from ..io.folders import make_folder
+    from ..io.wav import write_float_wav
+    from ..parallel import pmap
+    from .clips import choose_full_scale
+
+    make_folder(out)
+    design = sweep.design
+    st = RenderSettings(seconds=seconds, seed=seed, hum=True)
+    renders = pmap(_clip, [(s.design, dry, st, strength_m) for s in sweep.settings], jobs)
+    vfs = choose_full_scale([np.abs(x).max() for x in renders])
+    stem = Path(design.source).stem
+    clips = []
+    for s, x in zip(sweep.settings, renders):
+        tag = f"r{s.ratio:.3f}-{s.battery:g}V".replace(".", "p")
+        write_float_wav(out / f"{stem}-{tag}.wav", x / vfs, st.sample_rate, overwrite=True)
+        lufs = integrated_loudness(x, sample_rate=st.sample_rate)
+        gain_db = None if lufs is None else target_lufs - lufs
+        if gain_db is not None:
+            write_float_wav(out / f"{stem}-{tag}-matched.wav", x * 10 ** (gain_db / 20), st.sample_rate, overwrite=True)
+        clips.append({"file": f"{stem}-{tag}.wav", "volts_full_scale": vfs, "loudness_lufs_1v_full_scale": lufs, "matched_gain_db": gain_db, "peak_v": float(np.abs(x).max())})
+    from ..report.plots import bias_plots
+
+    bias_plots(out, design, sweep.settings, sweep.rows)
+    return BiasClips(folder=out, clips=tuple(clips), record={"dry": str(dry), "strength_m": strength_m, "seed": seed, "target_lufs": target_lufs, "volts_full_scale": vfs})

@@ -1,0 +1,86 @@
+"""``render dry`` as a run: a phrase's string velocity at one sensing point, as a float WAV and a spectrogram."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+
+MAX_PREVIEW_SECONDS = 3600.0
+
+
+@dataclass(frozen=True)
+class DryPreview:
+    """What :func:`preview_dry` wrote.
+
+    Attributes
+    ----------
+    wav : Path
+        32-bit float, a sample of 1.0 is 1 m/s.
+    spectrogram : Path or None
+    seconds : float, s
+    sample_rate : int, Hz
+    peak_m_per_s : float, m/s
+    """
+
+    wav: Path
+    spectrogram: Path | None
+    seconds: float
+    sample_rate: int
+    peak_m_per_s: float
+
+
+def preview_dry(phrase_path, out, *, position: float, aperture: float = 0.0, sample_rate: int = 48000, seed: int = 0, seconds: float | None = None, spectrogram: bool = True, overwrite: bool = False) -> DryPreview:
+    """Synthesise ``phrase_path`` at one sensing point and write ``out`` (and ``<out stem>-spectrogram.png``), both or neither.
+
+    Parameters
+    ----------
+    phrase_path : str or Path
+    out : str or Path
+        The WAV to write.
+    position : float, m
+        Sensing point, from the bridge saddle; > 0 and shorter than the scale length.
+    aperture : float, m, >= 0
+        Width of the sensing window along the string (0: a point).
+    sample_rate : int, Hz
+    seed : int
+    seconds : float or None, s
+        Length (default: the phrase's own).
+    """
+    from ..dry.modal import string_velocity
+    from ..dry.phrase import load_phrase
+    from ..io.atomic import write_bytes
+    from ..io.wav import float_wav_bytes
+    from ..validate import sample_rate as check_rate
+
+    out = Path(out)
+    if seconds is not None and not 0 < seconds <= MAX_PREVIEW_SECONDS:
+        raise InputError(f"--seconds={seconds:g}s: must be > 0 s and <= {MAX_PREVIEW_SECONDS:g} s")
+    if not position > 0:
+        raise InputError(f"--position={position * 1e3:g}mm: must be > 0 (distance from the bridge saddle)")
+    if not aperture >= 0:
+        raise InputError(f"--aperture={aperture * 1e3:g}mm: must be >= 0 (0 is a point)")
+    rate = check_rate(sample_rate)
+    png_path = out.with_name(f"{out.stem}-spectrogram.png")
+    for target in [out] + ([png_path] if spectrogram else []):
+        if target.exists() and not overwrite:
+            raise InputError(f"{target}: exists; pass --overwrite to replace it or choose another name")
+        if not target.parent.is_dir():
+            raise InputError(f"--out={out}: folder {target.parent} does not exist; create it first")
+    p = load_phrase(phrase_path)
+    if not position < p.instrument.scale_length:
+        raise InputError(f"--position={position * 1e3:g}mm: must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm")
+    v = string_velocity(p, sample_rate=rate, positions=[position], apertures=[aperture], seed=seed, seconds=seconds)[0]
+    write_bytes(out, float_wav_bytes(v, rate), overwrite=overwrite)
+    if spectrogram:
+        from ..report.plots import spectrogram_plot
+
+        try:
+            spectrogram_plot(png_path, v, sample_rate=rate, title=f"{p.title}: string velocity at {position * 1e3:g} mm", unit="m/s", overwrite=overwrite)
+        except BaseException:
+            out.unlink(missing_ok=True)  # both or neither
+            raise
+    return DryPreview(wav=out, spectrogram=png_path if spectrogram else None, seconds=v.size / rate, sample_rate=rate, peak_m_per_s=float(np.abs(v).max()) if v.size else 0.0)

@@ -1,0 +1,116 @@
+"""``render fit`` as a run: search part values that meet a fit file's aims, and write the results.
+
+Writes the ``top`` best complete design files (``<stem>-fit-1.toml``, …, the
+start file with the changed values replaced and marked), ``fit.json`` and an
+overlay of the start's and the results' responses; optionally renders clips of
+them all (:func:`render.runs.clips.run_clips`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+
+
+@dataclass(frozen=True)
+class FitRun:
+    """What :func:`fit` found and wrote.
+
+    Attributes
+    ----------
+    spec : FitSpec
+        The fit file as read (its aims and free parts).
+    start : Design
+    start_file : Path
+    start_figures : dict
+    start_values : np.ndarray [shape=(parts,)], SI units (NaN: absent in the start)
+    results : tuple of FitResult
+        Best first; each with its snapped part values, figures, score and whether it meets every aim.
+    files : tuple of Path
+        The design files written, in the results' order.
+    folder : Path
+    """
+
+    spec: object
+    start: object
+    start_file: Path
+    start_figures: dict
+    start_values: np.ndarray
+    results: tuple
+    files: tuple[Path, ...]
+    folder: Path
+
+
+def start_file_of(spec, fitfile: Path) -> Path:
+    """The start design's path: as written, or relative to the fit file."""
+    start = Path(spec.start_path)
+    if not start.is_absolute() and not start.exists() and (fitfile.parent / start).exists():
+        start = fitfile.parent / start
+    return start
+
+
+def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0) -> FitRun:
+    """Search part values (snapped to preferred-number series) that meet ``fitfile``'s aims, and write the results into ``out``.
+
+    Parameters
+    ----------
+    fitfile : str or Path
+        The fit file (aims, free parts, start design).
+    out : Path
+        The folder (refused beforehand by the caller if it holds files).
+    start_path : str or Path or None
+        The start design, instead of the fit file's ``from``.
+    rig : str or Path or None
+        A rig file for the start and every result.
+    top : int
+        How many results to write.
+    seed : int
+        Seed of the global search.
+
+    Raises
+    ------
+    InputError
+        For a bad fit file, or when no result meets every aim (saying which aims conflict).
+    """
+    from ..analysis.figures import figures
+    from ..analysis.fit import conflicts, format_value, load_fit, rewrite, run_fit
+    from ..design import apply_rig, load_design, load_rig, parse_design
+    from ..io.atomic import write_json, write_text
+    from ..io.folders import make_folder
+    from ..io.toml import loads
+
+    fitfile = Path(fitfile)
+    spec = load_fit(fitfile, start_override=start_path)
+    start_file = start_file_of(spec, fitfile)
+    rig_file = load_rig(rig) if rig else None
+    start = apply_rig(load_design(start_file), rig_file)
+    results, ev, start_vals = run_fit(spec, start, top=top, seed=seed)
+    if not results or not results[0].meets:
+        best = f" (best score {results[0].score:.3g})" if results else ""
+        raise InputError(f"{fitfile}: no design met every aim{best}; {conflicts(spec, ev)}")
+    start_fig = figures([start])[0]
+    make_folder(out)
+    text = start_file.read_text(encoding="utf-8")
+    records, written = [], []
+    for rank, r in enumerate(results, 1):
+        changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]
+        summary = ", ".join(f"{fr.name} {format_value(fr, s) if s is not None else 'absent'} → {format_value(fr, v)}" for fr, v, s in changes) or "nothing"
+        header = (
+            f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
+            f"# changed: {summary}\n# score {r.score:.3g} ({'meets every aim' if r.meets else 'misses an aim'})\n"
+        )
+        path = Path(out) / f"{start_file.stem}-fit-{rank}.toml"
+        body = rewrite(text, changes, header, name=path.stem)
+        parse_design(loads(body), source=str(path), name=path.stem)  # the written file must be a valid design
+        write_text(path, body, overwrite=True)
+        written.append(path)
+        records.append({"file": str(path), "score": r.score, "meets": r.meets, "changed_parts": r.changed, "figures": {k: v for k, v in r.figures.items() if k != "passive"}, "changes": {fr.name: v for fr, v, _ in changes}})
+    write_json(Path(out) / "fit.json", {"fit_file": str(fitfile), "start": str(start_file), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records}, overwrite=True)
+    from ..report.plots import fit_plot
+
+    fit_plot(Path(out) / "fit-responses.png", [start] + [apply_rig(load_design(p), rig_file) for p in written], title=f"render fit: {fitfile.name}")
+    return FitRun(spec=spec, start=start, start_file=start_file, start_figures=start_fig, start_values=start_vals, results=tuple(results), files=tuple(written), folder=Path(out))

@@ -1,0 +1,49 @@
+"""``render hum --out`` as a run: hum-only WAVs of a design and of each coil alone, and the rejection measured from them."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class HumAudio:
+    """What :func:`write_hum_audio` wrote and measured.
+
+    Attributes
+    ----------
+    seconds : float, s
+    volts_full_scale : float, V
+    files : dict
+        "both", "coil_a", "coil_b" to the WAV's path.
+    harmonics : tuple of dict
+        Per harmonic: frequency_hz, rejection_db (measured from the render), output_v (peak).
+    """
+
+    seconds: float
+    volts_full_scale: float
+    files: dict
+    harmonics: tuple[dict, ...]
+
+    def as_dict(self) -> dict:
+        return {"seconds": self.seconds, "volts_full_scale": self.volts_full_scale, "files": dict(self.files), "harmonics": list(self.harmonics)}
+
+
+def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 48000) -> HumAudio:
+    """Hum-only WAVs (``S-hum.wav``, ``S-hum-coil_a.wav``, ``S-hum-coil_b.wav``) at one full scale, measured after the first second."""
+    from ..analysis.hum import measured_rejection
+    from ..io.wav import write_float_wav
+    from .clips import choose_full_scale
+
+    m = measured_rejection(design, seconds=seconds, settle=1.0, sample_rate=sample_rate)
+    vfs = choose_full_scale([np.abs(m[k]).max() for k in ("both", "coil_a", "coil_b")], floor=1e-6)
+    stem = Path(design.source).stem
+    files = {}
+    for k, suffix in (("both", "hum"), ("coil_a", "hum-coil_a"), ("coil_b", "hum-coil_b")):
+        path = Path(out) / f"{stem}-{suffix}.wav"
+        write_float_wav(path, m[k] / vfs, sample_rate, overwrite=True)
+        files[k] = str(path)
+    rows = tuple({"frequency_hz": float(f), "rejection_db": float(r), "output_v": float(v)} for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"]))
+    return HumAudio(seconds=seconds, volts_full_scale=vfs, files=files, harmonics=rows)
