@@ -1,7 +1,79 @@
 """render: hear and measure an active humbucker voicing before it is built.
 
+The package's face. Everything a script or a notebook needs is importable from
+here (loaded on first use, so ``import render`` is quick)::
+
+    import numpy as np
+    import render
+
+    design = render.load_design("models/studio-reference.toml")
+    r = render.response(design, np.geomspace(20, 20000, 200))
+    phrase = render.load_phrase("dry_signals/default.toml")
+    dry = render.synthesize(phrase, positions=(design.coil_a.position, design.coil_b.position),
+                            apertures=(design.coil_a.aperture, design.coil_b.aperture), sample_rate=48000)
+    clip = render.render_clip(design, dry)
+
 Physics lives in pure functions (arrays in, arrays out); files, plots and the
-command line live at the edges (``render.report``, ``render.cli``).
+command line live at the edges (:mod:`render.io`, :mod:`render.report`,
+:mod:`render.runs`, :mod:`render.cli`).
 """
 
+from __future__ import annotations
+
+import importlib
+from typing import Any
+
 __version__ = "0.1.0"
+
+# public name -> the module that defines it
+_HOME = {
+    # reading
+    "load_design": "render.design",
+    "load_designs": "render.design",
+    "load_rig": "render.design",
+    "Design": "render.design",
+    "RigFile": "render.design",
+    "load_phrase": "render.dry.phrase",
+    "Phrase": "render.dry.phrase",
+    "InputError": "render.errors",
+    # what is played
+    "Dry": "render.dry",
+    "synthesize": "render.dry",
+    "load_dry": "render.dry",
+    # the small-signal engine's figures
+    "response": "render.analysis.response",
+    "Response": "render.analysis.response",
+    "figures": "render.analysis.figures",
+    "hum": "render.analysis.hum",
+    "HumReport": "render.analysis.hum",
+    "noise": "render.analysis.noise",
+    "NoiseReport": "render.analysis.noise",
+    "bias_sweep": "render.analysis.bias",
+    "BiasSweep": "render.analysis.bias",
+    # renders in time
+    "render_clip": "render.clip",
+    "Clip": "render.clip",
+    "RenderSettings": "render.clip",
+    # the commands' jobs, files included
+    "render_clips": "render.runs.clips",
+    "ClipsRun": "render.runs.clips",
+    "fit": "render.runs.fit",
+    "FitRun": "render.runs.fit",
+    "unvoice": "render.runs.unvoice",
+    "UnvoiceResult": "render.runs.unvoice",
+}
+_ALIASES = {"render_clips": "run_clips"}
+
+__all__ = sorted(_HOME) + ["__version__"]
+
+
+def __getattr__(name: str) -> Any:
+    if name not in _HOME:
+        raise AttributeError(f"module 'render' has no attribute {name!r}")
+    value = getattr(importlib.import_module(_HOME[name]), _ALIASES.get(name, name))
+    globals()[name] = value  # later look-ups skip this function
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_HOME))

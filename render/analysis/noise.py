@@ -344,3 +344,27 @@ def noise_record(r: NoiseReport, design, rig_file) -> dict:
         **act,
         "passive": pas,
     }
+
+
+def noise(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_velocity: float = REFERENCE_VELOCITY) -> NoiseReport:
+    """The noise floor of ``design`` at the amp input, with its passive reference's.
+
+    Parameters
+    ----------
+    design : Design
+    rig : RigFile or None
+        Play into this rig instead of the design's own.
+    temperature_k : float, K, 200..400
+        Temperature of every resistance.
+    reference_velocity : float, m/s rms
+        String velocity of the 1 kHz reference sine the SNR is relative to.
+
+    Returns
+    -------
+    NoiseReport
+    """
+    from ..design import apply_rig
+
+    check_temperature(temperature_k)
+    (report,) = noise_reports([apply_rig(design, rig)], temperature=temperature_k, reference_velocity=reference_velocity)
+    return report

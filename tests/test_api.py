@@ -1,0 +1,96 @@
+"""The public API (``import render``) gives the same figures as the command line.
+
+The command line is the reference here: each check runs a command and the
+library call that the README documents, and compares the numbers they give
+(no outside source: these tests hold the two faces of the package together).
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import soundfile as sf
+from click.testing import CliRunner
+
+import render
+from render.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+REF = ROOT / "models" / "studio-reference.toml"
+ODD = ROOT / "models" / "odd-pair.toml"
+PHRASE = ROOT / "dry_signals" / "default.toml"
+
+
+def run(*args):
+    res = CliRunner().invoke(main, [str(a) for a in args])
+    assert res.exit_code == 0, res.output
+    return res
+
+
+def test_import_is_light_and_lists_its_names():
+    code = "import sys, render; print('scipy.signal' in sys.modules, 'click' in sys.modules)"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
+    assert out == ["False", "False"]
+    for name in ("load_design", "load_rig", "load_phrase", "response", "render_clip", "synthesize", "hum", "noise", "bias_sweep", "fit", "unvoice", "Dry"):
+        assert name in render.__all__ and getattr(render, name) is not None
+
+
+def test_response_equals_the_csv(tmp_path):
+    csv = tmp_path / "r.csv"
+    run("response", REF, "--csv", csv, "--points", 50)
+    table = np.genfromtxt(csv, delimiter=",", names=True)
+    r = render.response(render.load_design(REF), table["frequency_hz"])
+    assert np.allclose(r.magnitude_db, table["magnitude_db"], atol=1e-6)  # the CSV keeps 6 decimals
+    wrapped = (np.degrees(np.angle(r.velocity)) - table["phase_deg"] + 180.0) % 360.0 - 180.0  # ±180° is one phase
+    assert np.max(np.abs(wrapped)) < 1e-4  # the CSV keeps 4 decimals
+    assert np.allclose(r.passive_magnitude_db, table["passive_magnitude_db"], atol=1e-6)
+    assert abs(r.output_impedance).shape == (50,)
+
+
+def test_render_clip_equals_the_main_jobs_wav(tmp_path):
+    run("clips", REF, "--out", tmp_path / "c", "--no-plots", "--seconds", 1)
+    rec = json.loads((tmp_path / "c" / "studio-reference.json").read_text())
+    wav, fs = sf.read(tmp_path / "c" / "studio-reference.wav", dtype="float32")
+    d = render.load_design(REF)
+    dry = render.synthesize(render.load_phrase(PHRASE), positions=(d.coil_a.position, d.coil_b.position), apertures=(d.coil_a.aperture, d.coil_b.aperture), sample_rate=fs, seconds=1.0)
+    clip = render.render_clip(d, dry)
+    assert clip.sample_rate == fs == rec["sample_rate"]
+    assert np.array_equal((clip.volts / rec["volts_full_scale"]).astype(np.float32), wav)
+    assert clip.stats["peak_v"] == rec["measurements"]["peak_v"]
+
+
+def test_render_clip_takes_a_bare_array():
+    d = render.load_design(REF)
+    v = 0.1 * np.sin(2 * np.pi * 220 * np.arange(4800) / 48000)
+    a = render.render_clip(d, v, sample_rate=48000, hum=False)
+    b = render.render_clip(d, np.stack([v, v]), sample_rate=48000, hum=False)
+    assert a.volts.shape == (4800,) and np.array_equal(a.volts, b.volts) and a.amp_out is not None
+
+
+def test_hum_equals_the_json(tmp_path):
+    js = tmp_path / "h.json"
+    run("hum", ODD, "--json", js)
+    data = json.loads(js.read_text())
+    h = render.hum(render.load_design(ODD))
+    assert [x.rejection_db for x in h.harmonics] == [x["rejection_db"] for x in data["harmonics"]]
+    assert h.total_v_rms == data["total_v_rms"] and h.signal_to_hum_db == data["signal_to_hum_db"]
+
+
+def test_noise_equals_the_json(tmp_path):
+    js = tmp_path / "n.json"
+    run("noise", REF, "--json", js)
+    data = json.loads(js.read_text())
+    n = render.noise(render.load_design(REF))
+    assert n.active.total_v == data["total_v"] and n.active.snr_db == data["snr_db"]
+
+
+def test_bias_sweep_equals_the_json(tmp_path):
+    js = tmp_path / "b.json"
+    run("bias", REF, "--ratios", "0.4,0.6", "--no-clips", "--json", js)
+    data = json.loads(js.read_text())
+    sw = render.bias_sweep(render.load_design(REF), ratios=(0.4, 0.6))
+    assert [dict(r) for r in sw.rows] == data["settings"]
