@@ -39,7 +39,6 @@ from typing import ClassVar
 
 import numpy as np
 
-from ..chain import hum as hm
 from ..errors import InputError
 
 COIL_NAMES = ("coil_a", "coil_b")
@@ -136,6 +135,11 @@ class UniformSource:
         return self.field
 
 
+def _frequencies(mains_hz: float, n: int) -> np.ndarray:
+    """Harmonics 1 … n of the mains (Hz), as :func:`render.chain.hum.harmonic_frequencies` gives them."""
+    return mains_hz * np.arange(1, n + 1, dtype=float)
+
+
 def room_source(hum) -> UniformSource:
     """The room's one-number field (a :class:`render.design.Hum`) as a uniform source along +z."""
     return UniformSource(field=hum.field, axis=(0.0, 0.0, 1.0))
@@ -187,7 +191,7 @@ def phases(sources, *, n_harmonics: int) -> np.ndarray:
 def rate_phasors(sources, *, mains_hz: float, harmonics) -> np.ndarray:
     """ds/dt of each source per harmonic: s·a_h·2π·h·f·e^{j·h·φ}, shape (S, H), strength units per s."""
     a = profiles(sources, harmonics=harmonics)
-    f = hm.harmonic_frequencies(mains_hz=mains_hz, harmonics=np.zeros(a.shape[1]))
+    f = _frequencies(mains_hz, a.shape[1])
     s = np.array([src.strength for src in sources]).reshape(-1, 1)
     return s * a * (2.0 * np.pi * f) * np.exp(1j * phases(sources, n_harmonics=a.shape[1]))
 
@@ -228,7 +232,7 @@ def hum_emf(coils, sources, *, mains_hz: float, harmonics, hum_polarity=(1, 1)) 
     hp = np.asarray(hum_polarity, dtype=float).reshape(-1, 1)
     per = (hp * k)[:, :, None] * rates[None, :, :]
     strength = np.array([s.strength for s in sources]).reshape(1, -1)
-    f = hm.harmonic_frequencies(mains_hz=mains_hz, harmonics=harmonics)
+    f = _frequencies(mains_hz, len(harmonics))
     return HumEmf(frequency_hz=f, per_source=per.reshape(len(coils), len(sources), f.size), linkage_wb=k * strength, sources=sources)
 
 
@@ -240,6 +244,8 @@ def emf_samples(coils, sources, n: int, *, sample_rate: float, mains_hz: float, 
     per mains period). For one uniform +z source of the room's field and
     profile this is, sample for sample, hum_polarity · turns_area · dB/dt.
     """
+    from ..chain import hum as hm  # the package's import pulls in the renderer: only when samples are asked for
+
     sources = tuple(sources)
     k = coupling(coils, sources)
     a = profiles(sources, harmonics=harmonics)
@@ -258,5 +264,7 @@ def steady_samples(phasors, n: int, *, sample_rate: float, mains_hz: float, star
     phasors : array_like complex [shape=(H,)], harmonic h = 1 … H; e.g. a
         network's complex gain times an EMF phasor, summed over the coils
     """
+    from ..chain import hum as hm
+
     p = np.asarray(phasors, dtype=complex)
     return hm._harmonic_sum(int(n), np.abs(p), np.angle(p), start=start, sample_rate=sample_rate, mains_hz=mains_hz)
