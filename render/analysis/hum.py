@@ -229,6 +229,13 @@ def _mc_chunk(args):
     return _rejection(perturbed(design, factors, n), f)
 
 
+def part_draws(design, *, tolerances=None, trials=2000, seed=0) -> tuple[dict, dict]:
+    """(tolerances in force, {part label: factor array of shape (trials,)}), drawn in a fixed part order."""
+    tol = {**DEFAULT_TOLERANCES, **(tolerances or {})}
+    rng = np.random.default_rng(seed)
+    return tol, {label: 1.0 + tol[cls] * rng.uniform(-1.0, 1.0, trials) for label, cls in part_labels(design)}
+
+
 def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs=1) -> MonteCarlo:
     """Hum rejection over ``trials`` random draws of the part tolerances.
 
@@ -238,10 +245,7 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     any is evaluated, so results are identical for a seed whatever ``chunk``
     or ``jobs`` (worker processes) is.
     """
-    tol = {**DEFAULT_TOLERANCES, **(tolerances or {})}
-    labels = part_labels(design)
-    rng = np.random.default_rng(seed)
-    draws = {label: 1.0 + tol[cls] * rng.uniform(-1.0, 1.0, trials) for label, cls in labels}
+    tol, draws = part_draws(design, tolerances=tolerances, trials=trials, seed=seed)
     f, _ = field_derivative(design.hum)
     spans = [(s, min(trials, s + chunk)) for s in range(0, trials, chunk)]
     tasks = [(design, {k: v[s:e] for k, v in draws.items()}, f) for s, e in spans]

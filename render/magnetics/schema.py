@@ -1,0 +1,129 @@
+"""Reading the coil geometry and hum source tables (not yet wired into the design reader).
+
+``[coil_x.geometry]`` (:data:`GEOMETRY`) gives a coil's turns their place;
+``[[hum.source]]`` (:data:`DIPOLE`, :data:`UNIFORM`) lists the hum sources
+of a rig. The readers use the design file's field specifications and
+one-line messages (:func:`render.design.read_table`), so the rules read as
+everywhere else.
+
+With a ``[coil_x.winding]`` table, the geometry table takes only
+``window_width``: the winding carries the turns, the height, the build
+(its ``depth``) and the mean turn (:func:`~render.magnetics.coil.geometry_from_winding`);
+turns given in both is an error.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from .. import units as U
+from ..design import Field, read_table, read_value
+from ..errors import InputError
+from .coil import CoilGeometry, geometry_from_winding
+from .hum import DipoleSource, UniformSource
+
+SIZE = dict(lo=1e-4, hi=0.3, lo_open=False)  # 0.1 mm .. 30 cm: any pickup bobbin
+GEOMETRY = {
+    "turns": Field(U.RATIO, True, lo=1.0, hi=1e6, lo_open=False, doc="number of turns"),
+    "length": Field(U.LENGTH, True, doc="outer size of the winding across the strings (along y)", **SIZE),
+    "width": Field(U.LENGTH, True, doc="outer size of the winding along the string (along x)", **SIZE),
+    "window_length": Field(U.LENGTH, True, doc="the bobbin's opening across the strings", **SIZE),
+    "window_width": Field(U.LENGTH, True, doc="the bobbin's opening along the string", **SIZE),
+    "height": Field(U.LENGTH, True, doc="winding height along the coil's axis (z)", **SIZE),
+}
+MAX_SOURCES = 64
+PLACE_M = 100.0  # a source's coordinates, ± this many metres
+COMMON = {
+    "harmonics": Field("list", doc="relative amplitudes of harmonics 1, 2, …; default the [hum] profile"),
+    "phase": Field(U.RATIO, default=0.0, lo=-360.0, hi=360.0, lo_open=False, doc="degrees of the fundamental; harmonic h is shifted by h·phase"),
+}
+DIPOLE = {
+    "moment": Field(U.RATIO, True, lo=0.0, hi=1e3, lo_open=False, doc="dipole moment, A·m², peak at the mains fundamental"),
+    **COMMON,
+}
+UNIFORM = {
+    "field": Field(U.FLUX_DENSITY, True, lo=0.0, hi=1e-2, lo_open=False, doc="peak flux density of the fundamental"),
+    **COMMON,
+}
+VECTORS = ("kind", "at", "axis")  # read here, not by read_table
+
+
+def _loc(source: str, table: str, key: str | None = None) -> str:
+    return f"{source}: [{table}]" + (f" {key}" if key else "")
+
+
+def read_geometry(data: Any, *, source: str, table: str, winding=None) -> CoilGeometry:
+    """A ``[coil_x.geometry]`` table as a :class:`CoilGeometry`.
+
+    winding : the coil's :class:`render.design.Winding`, if it has one
+    """
+    where = _loc(source, table)
+    if winding is None:
+        g = read_table(data, GEOMETRY, source=source, table=table)
+        return CoilGeometry(**g, where=where)
+    if not isinstance(data, dict):
+        raise InputError(f"{where}: expected a table of keys, got {U.shown(data)}")
+    if "turns" in data:
+        raise InputError(f"{where}: turns given here and in the coil's winding table; give the turns in one place")
+    extra = [k for k in data if k != "window_width"]
+    if extra:
+        raise InputError(
+            f"{where}: {', '.join(extra)} given with a winding table; with a winding, the geometry takes only window_width (the winding gives turns, height, depth and mean_turn)"
+        )
+    if "window_width" not in data:
+        raise InputError(f"{where}: missing window_width (the bobbin's opening along the string); the winding gives the rest, e.g. window_width = \"3mm\"")
+    ww = read_value(data["window_width"], GEOMETRY["window_width"], source=source, table=table, key="window_width")
+    return geometry_from_winding(turns=winding.turns, mean_turn=winding.mean_turn, height=winding.height, depth=winding.depth, window_width=ww, where=where)
+
+
+def _vector(raw: Any, *, kind, where: str, limit: float) -> tuple:
+    if not isinstance(raw, list) or len(raw) != 3:
+        raise InputError(f"{where}={U.shown(raw)}: expected three values [x, y, z]")
+    out = []
+    for x in raw:
+        if isinstance(x, bool):
+            raise InputError(f"{where}={U.shown(raw)}: expected three values [x, y, z]")
+        try:
+            v = U.parse_quantity(x, kind)
+        except U.QuantityError as exc:
+            raise InputError(f"{where}={U.shown(raw)}: {exc}") from None
+        if abs(v) > limit:
+            raise InputError(f"{where}={U.shown(raw)}: each value must be within ±{limit:g}")
+        out.append(v)
+    return tuple(out)
+
+
+def read_sources(items: Any, *, source: str, n_harmonics: int) -> tuple:
+    """The ``[[hum.source]]`` array of tables as dipole and uniform sources.
+
+    n_harmonics : length of the rig's ``[hum]`` profile (a source's own
+        ``harmonics`` must match it)
+    """
+    if not isinstance(items, list) or not items or not all(isinstance(t, dict) for t in items):
+        raise InputError(f"{_loc(source, 'hum')} source: expected one or more [[hum.source]] tables")
+    if len(items) > MAX_SOURCES:
+        raise InputError(f"{_loc(source, 'hum')} source: {len(items)} sources; at most {MAX_SOURCES}")
+    out = []
+    for i, t in enumerate(items):
+        table = f"hum.source {i + 1}"
+        where = _loc(source, table)
+        kind = t.get("kind")
+        if kind not in ("dipole", "uniform"):
+            raise InputError(f"{where} kind={U.shown(kind)}: expected \"dipole\" or \"uniform\"")
+        specs = DIPOLE if kind == "dipole" else UNIFORM
+        allowed = list(specs) + ["kind", "axis"] + (["at"] if kind == "dipole" else [])
+        for key in t:
+            if key not in allowed:
+                raise InputError(f"{where}: unknown key {U.shown(key)} for a {kind} source; known keys: {', '.join(allowed)}")
+        values = read_table({k: v for k, v in t.items() if k not in VECTORS}, specs, source=source, table=table)
+        if "harmonics" in values and len(values["harmonics"]) != n_harmonics:
+            raise InputError(f"{where} harmonics: {len(values['harmonics'])} values, but the [hum] profile has {n_harmonics}: give one per harmonic")
+        axis = _vector(t.get("axis", [0, 0, 1]), kind=U.RATIO, where=f"{where} axis", limit=1e6)
+        if kind == "dipole":
+            if "at" not in t:
+                raise InputError(f"{where}: missing required key 'at' (the dipole's place, m); add e.g. at = [\"0.5m\", \"0m\", \"0m\"]")
+            at = _vector(t["at"], kind=U.LENGTH, where=f"{where} at", limit=PLACE_M)
+            out.append(DipoleSource(moment=values["moment"], at=at, axis=axis, harmonics=values.get("harmonics"), phase=values["phase"], where=where))
+        else:
+            out.append(UniformSource(field=values["field"], axis=axis, harmonics=values.get("harmonics"), phase=values["phase"], where=where))
+    return tuple(out)
