@@ -15,6 +15,7 @@ from dataclasses import dataclass, fields, replace
 import numpy as np
 
 from ..design import Design, volume_fraction
+from .ladder import LadderParams  # noqa: F401  (CoilParams.ladder)
 
 A0 = 1e6  # open-loop DC gain of a GBW-limited op-amp (interface contract §2)
 MIN_R = 1e-3  # ohm: a pot section at its end stop is this, not an exact short to ground
@@ -31,6 +32,7 @@ class CoilParams:
     sec: np.ndarray  # 1.0 with a shorted secondary, 0.0 without
     sig: np.ndarray  # V·s/m: signal_polarity · sensitivity
     hum: np.ndarray  # m²: hum_polarity · turns_area
+    ladder: "LadderParams | None" = None  # RL ladder replacing L and its core loss, row by row (render.circuit.ladder)
 
 
 @dataclass(frozen=True)
@@ -155,5 +157,5 @@ def take(p, idx):
     kw = {}
     for f in fields(p):
         v = getattr(p, f.name)
-        kw[f.name] = v[idx] if isinstance(v, np.ndarray) else take(v, idx)
+        kw[f.name] = v[idx] if isinstance(v, np.ndarray) else None if v is None else take(v, idx)
     return type(p)(**kw)
