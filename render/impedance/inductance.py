@@ -12,28 +12,29 @@ its share N/(layers·slices) of the turns, and
     L = (N / (layers·slices))² · Σ_i Σ_j M_ij                       (1)
 
 (Neumann's formula M = μ0/4π ∮∮ dl1·dl2 / r, summed over filaments: the
-method of Grover, *Inductance Calculations*, 1946, ch. 2; Lyle's method of
-subdivision for coils of finite section).
+method of Grover, *Inductance Calculations*, 1946, ch. 2, for coils of
+finite section cut into filaments).
 
 The mutual inductance of two coaxial rectangular filaments is the sum over
 their parallel sides (perpendicular sides contribute nothing to dl1·dl2),
 each pair from the closed form for two parallel straight filaments on lines
 a distance d apart, spanning [a0, a1] and [b0, b1] along them
-(Grover 1946, ch. 6, unequal parallel filaments; Campbell's form):
+(Grover 1946, ch. 6, unequal parallel filaments):
 
     M = μ0/4π · [G(a1 − b0) − G(a1 − b1) − G(a0 − b0) + G(a0 − b1)],
     G(u) = u·asinh(u/d) − √(u² + d²).                                  (2)
 
-A cell's filament with itself uses, for the distance of a side from itself,
-the geometric mean distance of the cell's rectangular section from itself,
-g = 0.2235·(a + b) (Maxwell; Grover 1946, ch. 3), which turns (2) into the
-self-inductance of a straight bar of that section. Neighbouring cells use the
-distance between their centres (their GMD differs from it by under 1 %,
-Grover ch. 3), so (1) converges as the cells shrink; the default grid is
-converged to about 0.1 % (see the tests).
+Where two cells' like-directed sides run side by side (a cell with itself
+included), the distance d in (2) is the geometric mean distance (GMD) of the
+two cells' rectangular sections (Grover 1946, ch. 3): integrated numerically
+within two cells, and from its second-order expansion farther out
+(:func:`cell_gmd`). For a long straight pair this makes (2) the mutual
+inductance of two bars of those sections, so (1) converges quickly as the
+cells shrink; the default grid is converged to about 0.1 % (see the tests).
 
 Round coils use the same sum with Maxwell's mutual inductance of two coaxial
-circles (Maxwell, *Treatise* II §701; Grover ch. 11):
+circles (Maxwell, *A Treatise on Electricity and Magnetism*, 1873; Grover
+ch. 11):
 
     M = μ0·√(ab)·[(2/k − k)·K(k) − (2/k)·E(k)],  k² = 4ab / ((a + b)² + d²).
 
