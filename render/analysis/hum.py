@@ -141,7 +141,7 @@ def _tile(p, n):
     kw = {}
     for f in fields(p):
         v = getattr(p, f.name)
-        kw[f.name] = np.repeat(v, n) if isinstance(v, np.ndarray) else _tile(v, n)
+        kw[f.name] = np.repeat(v, n, axis=0) if isinstance(v, np.ndarray) else None if v is None else _tile(v, n)
     return type(p)(**kw)
 
 

@@ -8,6 +8,9 @@ models, which may be combined:
 - a shorted secondary (eddy currents): Z_L = sL1 − s²M²/(R2 + sL2) with
   M² = k²L1L2 and ω_e = R2/L2, which reduces to
   Z_L = sL1 (ω_e + s(1 − k²)) / (s + ω_e): L1 at DC, L1(1 − k²) as f → ∞.
+
+A coil with an RL ladder (``CoilParams.ladder``, :mod:`render.circuit.ladder`)
+takes the ladder for Z_L instead, in the rows where it is active.
 """
 
 from __future__ import annotations
@@ -26,6 +29,10 @@ def inductor_impedance(c: CoilParams, w: float = W_NORM):
     d = lin(np.where(c.sec > 0, wn, 1.0), c.sec)
     # in parallel with R_p: Z = n / (d + n·Gp)
     d = padd(d, pscale(n, c.Gp))
+    if c.ladder is not None:
+        from .ladder import ladder_inductor_impedance, select_rows
+
+        return select_rows(c.ladder.active, ladder_inductor_impedance(c.ladder, w), (n, d))
     return n, d
 
 

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from .ladder import LadderParams
 from .rig import RigParams, rig_params
 
 if TYPE_CHECKING:
@@ -34,6 +35,7 @@ class CoilParams:
     sec: np.ndarray  # 1.0 with a shorted secondary, 0.0 without
     sig: np.ndarray  # V·s/m: signal_polarity · sensitivity
     hum: np.ndarray  # m²: hum_polarity · turns_area
+    ladder: "LadderParams | None" = None  # RL ladder replacing L and its core loss, row by row (render.circuit.ladder)
 
 
 @dataclass(frozen=True)
@@ -133,5 +135,5 @@ def take(p, idx):
     kw = {}
     for f in fields(p):
         v = getattr(p, f.name)
-        kw[f.name] = v[idx] if isinstance(v, np.ndarray) else take(v, idx)
+        kw[f.name] = v[idx] if isinstance(v, np.ndarray) else None if v is None else take(v, idx)
     return type(p)(**kw)

@@ -17,8 +17,8 @@ from __future__ import annotations
 from typing import Any
 
 from .. import units as U
-from ..design import Field, read_table, read_value
 from ..errors import InputError
+from ..validate import Field, read_table, read_value
 from .coil import CoilGeometry, geometry_from_winding
 from .hum import DipoleSource, UniformSource
 

@@ -1,0 +1,20 @@
+"""A coil's impedance across the band, from its winding and its core, or from a measurement.
+
+- :mod:`.inductance`: air-core inductance of a rectangular multilayer winding
+  (Neumann integral over filamentary turns, Grover 1946) and of round coils
+  (Maxwell's coaxial circles, Nagaoka's solenoid).
+- :mod:`.eddy`: eddy-current (core-loss) response of conducting slabs and
+  cylinders from the 1-D diffusion solutions (Lammeraner & Štafl 1966), and
+  the coil impedance they add.
+- :mod:`.materials`: typical conductivities and permeabilities of core parts.
+- :mod:`.ladder`: an RL ladder (Foster form) fitted to such an impedance, so the
+  time-domain renderer and the small-signal engine can take it.
+- :mod:`.capacitance`: winding capacitance from the layers and the insulation
+  (Massarini & Kazimierczuk 1997).
+- :mod:`.measured`: the coil model fitted to a measured |Z| and phase.
+- :mod:`.measurement_csv`: the one module here that reads files (a measured
+  coil's CSV).
+
+Everything except :mod:`.measurement_csv` is pure: arrays and parameters in,
+arrays out, SI units.
+"""

@@ -1,0 +1,177 @@
+"""An RL ladder realising a coil's frequency-dependent inductance in the time domain.
+
+Foster form (Foster, Bell Syst. Tech. J. 3(2), 1924, "A reactance theorem",
+whose partial-fraction realisation holds for RL one-ports too): an
+inductance L0 in series with K sections, each an inductance L_k in parallel
+with a resistance R_k,
+
+    Z(s) = s·L0 + Σ_k s·L_k·R_k / (R_k + s·L_k)
+         = s·[L0 + Σ_k L_k / (1 + s·τ_k)],   τ_k = L_k/R_k.               (1)
+
+Every element is positive, so the ladder is passive; its resistors are the
+core loss's thermal-noise sources, and by Nyquist's theorem their noise at
+the terminals is 4kT·Re{Z}.
+
+This form is exact for a conducting cylinder or slab: Z_core/s is a sum of
+simple poles on the negative real axis (the Mittag-Leffler expansion
+2J1(x)/(xJ0(x)) = Σ 4/(j²_0,n − x²), with j_0,n the zeros of J0; Watson,
+*Bessel Functions*, 1944, §15.41), one section per pole. A few sections with
+fitted τ_k reproduce it over the audio band.
+
+The fit
+-------
+For fixed τ_k the weights L0, L_k ≥ 0 follow from a bounded linear least-
+squares problem on the relative complex error of Z/s (which is the error of
+|Z| in nepers and of its phase in radians together); the τ_k themselves are
+moved by a nonlinear least-squares search (variable projection). Sections are
+added one at a time until the error over the report band is within the
+asked tolerance.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.optimize import least_squares, lsq_linear
+
+from ..errors import InputError
+
+REPORT_BAND_HZ = (20.0, 20e3)
+FIT_BAND_HZ = (10.0, 100e3)
+
+
+@dataclass(frozen=True)
+class Ladder:
+    """Eq. (1): L0 in series with R_k ∥ L_k sections.
+
+    Attributes
+    ----------
+    series_inductance : float, H ≥ 0
+        L0.
+    inductances : tuple of float, H > 0
+        L_k.
+    resistances : tuple of float, Ω > 0
+        R_k.
+    """
+
+    series_inductance: float
+    inductances: tuple[float, ...] = ()
+    resistances: tuple[float, ...] = ()
+
+    def __post_init__(self):
+        if len(self.inductances) != len(self.resistances):
+            raise InputError(f"ladder: {len(self.inductances)} inductances but {len(self.resistances)} resistances; give one of each per section")
+        if self.series_inductance < 0 or any(not v > 0 for v in self.inductances) or any(not v > 0 for v in self.resistances):
+            raise InputError("ladder: every inductance and resistance must be > 0 (the series inductance ≥ 0), or the ladder is not passive")
+
+    @property
+    def time_constants(self) -> np.ndarray:
+        """τ_k = L_k/R_k in s."""
+        return np.asarray(self.inductances, float) / np.asarray(self.resistances, float)
+
+    @property
+    def dc_inductance(self) -> float:
+        """L0 + Σ L_k, H."""
+        return float(self.series_inductance + sum(self.inductances))
+
+    def impedance(self, frequency_hz) -> np.ndarray:
+        """Z(j2πf) in Ω, eq. (1), shape (F,)."""
+        s = 2j * np.pi * np.atleast_1d(np.asarray(frequency_hz, float))
+        lk, tk = np.asarray(self.inductances, float), self.time_constants
+        return s * (self.series_inductance + np.sum(lk[:, None] / (1 + s[None, :] * tk[:, None]), axis=0))
+
+
+@dataclass(frozen=True)
+class LadderFit:
+    """A fitted ladder and its error over the report band.
+
+    Attributes
+    ----------
+    ladder : Ladder
+    error_db : float
+        Largest |20·log10|Z_fit/Z|| over the report band, dB.
+    error_deg : float
+        Largest |∠Z_fit − ∠Z| over the report band, degrees.
+    band_hz : tuple of float
+        The report band.
+    """
+
+    ladder: Ladder
+    error_db: float
+    error_deg: float
+    band_hz: tuple[float, float]
+
+
+def ladder_error(z_fit, z_ref) -> tuple[float, float]:
+    """(largest dB error, largest phase error in degrees) of ``z_fit`` against ``z_ref``."""
+    ratio = np.asarray(z_fit) / np.asarray(z_ref)
+    return float(np.max(np.abs(20 * np.log10(np.abs(ratio))))), float(np.max(np.abs(np.degrees(np.angle(ratio)))))
+
+
+def _weights(s, lam, tau):
+    """Bounded linear least squares for L0, L_k ≥ 0 given τ; returns (weights, residual)."""
+    basis = np.concatenate([np.ones((1, s.size)), 1.0 / (1.0 + s[None, :] * tau[:, None])], axis=0) / lam[None, :]
+    a = np.concatenate([basis.real, basis.imag], axis=1).T
+    b = np.concatenate([np.ones(s.size), np.zeros(s.size)])
+    res = lsq_linear(a, b, bounds=(0.0, np.inf), method="bvls", tol=1e-12)
+    return res.x, a @ res.x - b
+
+
+def fit_ladder(
+    frequency_hz,
+    impedance,
+    *,
+    max_sections: int = 8,
+    tol_db: float = 0.05,
+    tol_deg: float = 0.5,
+    band_hz: tuple[float, float] = REPORT_BAND_HZ,
+) -> LadderFit:
+    """Fit eq. (1) to an inductive impedance (no DC resistance, no capacitance).
+
+    Parameters
+    ----------
+    frequency_hz : np.ndarray [shape=(F,)], Hz > 0, increasing
+        Where the target is known; should reach beyond ``band_hz`` on both
+        sides (a decade below and five times above is usual).
+    impedance : np.ndarray [shape=(F,)], complex, Ω
+        The target Z(j2πf), e.g. jω·L_air + :func:`render.impedance.eddy.core_impedance`.
+    max_sections : int
+        At most this many R ∥ L sections.
+    tol_db, tol_deg : float
+        Stop adding sections once the error over ``band_hz`` is within both.
+    band_hz : (float, float)
+        The band the error is reported over.
+
+    Returns
+    -------
+    LadderFit
+    """
+    f = np.asarray(frequency_hz, float)
+    z = np.asarray(impedance, complex)
+    if f.ndim != 1 or f.shape != z.shape or f.size < 4 or np.any(f <= 0) or np.any(np.diff(f) <= 0):
+        raise InputError("fit_ladder: need at least 4 increasing frequencies > 0 and one impedance per frequency")
+    s = 2j * np.pi * f
+    lam = z / s  # the complex inductance, H
+    in_band = (f >= band_hz[0] * (1 - 1e-9)) & (f <= band_hz[1] * (1 + 1e-9))
+    if not np.any(in_band):
+        raise InputError(f"fit_ladder: no frequency inside the report band {band_hz} Hz")
+    lo, hi = 1.0 / (2 * np.pi * f[-1]), 1.0 / (2 * np.pi * f[0])
+    best = None
+    for k in range(0, max_sections + 1):
+        if k == 0:
+            tau = np.zeros(0)
+        else:
+            # start from log-spaced time constants over the data's range, then move them
+            start = np.log(np.geomspace(lo, hi, k + 2)[1:-1])
+            fit = least_squares(lambda lt: _weights(s, lam, np.exp(lt))[1], start, bounds=(np.log(lo / 100), np.log(hi * 100)), x_scale=1.0, xtol=1e-12, ftol=1e-12)
+            tau = np.exp(fit.x)
+        w, _ = _weights(s, lam, tau)
+        keep = w[1:] > 1e-12 * max(w.sum(), 1e-300)
+        ladder = Ladder(float(w[0]), tuple(float(v) for v in w[1:][keep]), tuple(float(v) for v in (w[1:] / tau)[keep]))
+        err = ladder_error(ladder.impedance(f[in_band]), z[in_band])
+        if best is None or max(err[0] / tol_db, err[1] / tol_deg) < max(best.error_db / tol_db, best.error_deg / tol_deg):
+            best = LadderFit(ladder, err[0], err[1], tuple(band_hz))
+        if err[0] <= tol_db and err[1] <= tol_deg:
+            break
+    return best

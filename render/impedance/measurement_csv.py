@@ -1,0 +1,175 @@
+"""Reading a measured coil: a CSV file of frequency, |Z| and phase.
+
+The one module of :mod:`render.impedance` that touches files. The format is
+what LCR meters and impedance analysers export, loosely:
+
+- comma-separated text (UTF-8); lines starting with ``#`` are comments and
+  blank lines are skipped;
+- the first other line is a header naming the columns; the three needed are
+  found by name, case-insensitively, with an optional unit after ``_`` or in
+  brackets: frequency (``frequency``, ``freq``, ``f``; Hz, kHz or MHz),
+  impedance magnitude (``|z|``, ``z``, ``impedance``, ``magnitude``, ``mag``;
+  ohm, Ω, kohm, kΩ) and phase (``phase``, ``theta``, ``angle``, ``θ``; deg or
+  rad; degrees when no unit is given). Other columns are ignored;
+- one row per frequency, frequency strictly increasing.
+
+Anything else is refused with one line naming the file, the row and the fix.
+The file's SHA-256 travels with the data, for a render's record.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+
+MAX_BYTES = 16 * 1024 * 1024
+MIN_ROWS = 8
+_NAMES = {
+    "frequency": ("frequency", "freq", "f"),
+    "magnitude": ("|z|", "z", "impedance", "magnitude", "mag", "zmag", "|impedance|"),
+    "phase": ("phase", "theta", "angle", "θ", "phase_angle", "phase angle"),
+}
+_UNITS = {
+    "frequency": {"": 1.0, "hz": 1.0, "khz": 1e3, "mhz": 1e6},
+    "magnitude": {"": 1.0, "ohm": 1.0, "ohms": 1.0, "ω": 1.0, "kohm": 1e3, "kω": 1e3, "mohm": 1e6, "mω": 1e6},
+    "phase": {"": 1.0, "deg": 1.0, "degree": 1.0, "degrees": 1.0, "°": 1.0, "rad": 180.0 / math.pi, "radian": 180.0 / math.pi, "radians": 180.0 / math.pi},
+}
+_HEADER_EXAMPLE = "frequency_hz,z_ohm,phase_deg"
+
+
+@dataclass(frozen=True)
+class Measurement:
+    """A measured coil impedance.
+
+    Attributes
+    ----------
+    frequency_hz : np.ndarray [shape=(F,)], Hz, increasing
+    magnitude_ohm : np.ndarray [shape=(F,)], Ω
+    phase_deg : np.ndarray [shape=(F,)], degrees
+    source : str
+        The file it came from.
+    sha256 : str
+        Hex digest of the file's bytes.
+    """
+
+    frequency_hz: np.ndarray
+    magnitude_ohm: np.ndarray
+    phase_deg: np.ndarray
+    source: str
+    sha256: str
+
+    @property
+    def impedance(self) -> np.ndarray:
+        """|Z|·e^(j·phase), complex Ω, shape (F,)."""
+        return self.magnitude_ohm * np.exp(1j * np.radians(self.phase_deg))
+
+
+def _candidates(cell: str) -> list[tuple[str, str, bool]]:
+    """Readings of a header cell as (name, unit, unit given in brackets).
+
+    '|Z| (kOhm)' -> [('|z|', 'kohm', True)]; 'frequency_hz' -> [('frequency_hz', '', False),
+    ('frequency', 'hz', False)].
+    """
+    text = cell.strip().strip('"').strip().lower()
+    m = re.fullmatch(r"(.+?)\s*[\(\[]\s*([^\)\]]*)\s*[\)\]]", text)
+    if m:
+        return [(m.group(1).strip(), m.group(2).strip(), True)]
+    out = [(text, "", False)]
+    for sep in ("_", " "):
+        head, _, tail = text.rpartition(sep)
+        if head:
+            out.append((head.strip(), tail.strip(), False))
+    return out
+
+
+def _columns(header: list[str], where: str) -> dict[str, tuple[int, float]]:
+    found: dict[str, tuple[int, float]] = {}
+    for i, cell in enumerate(header):
+        for name, unit, explicit in _candidates(cell):
+            kind = next((k for k, names in _NAMES.items() if name in names), None)
+            if kind is None or kind in found:
+                continue
+            scale = _UNITS[kind].get(unit)
+            if scale is None:
+                if explicit:
+                    raise InputError(f"{where}: column {cell.strip()!r} has unit {unit!r}, which is not one of {sorted(u for u in _UNITS[kind] if u)}; give the column in one of those")
+                continue  # 'z_real' and the like: not this column
+            found[kind] = (i, scale)
+            break
+    for kind in _NAMES:
+        if kind not in found:
+            raise InputError(f"{where}: no {kind} column in the header {','.join(c.strip() for c in header)!r} (looked for {', '.join(_NAMES[kind])}); add a header row like {_HEADER_EXAMPLE}")
+    return found
+
+
+def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str = "") -> Measurement:
+    """Parse a measurement's text (see the module doc); raises InputError on anything malformed."""
+    rows: list[tuple[int, list[str]]] = []
+    header = None
+    for number, line in enumerate(text.splitlines(), start=1):
+        stripped = line.strip()
+        if not stripped or stripped.startswith("#"):
+            continue
+        cells = [c.strip() for c in stripped.split(",")]
+        if header is None:
+            header = cells
+            continue
+        rows.append((number, cells))
+    if header is None:
+        raise InputError(f"{source}: no header and no data; the file should start with a header row like {_HEADER_EXAMPLE}")
+    cols = _columns(header, source)
+    if len(rows) < MIN_ROWS:
+        raise InputError(f"{source}: {len(rows)} data rows, need at least {MIN_ROWS} frequencies; measure across the band (20 Hz to above the resonance)")
+    need = max(i for i, _ in cols.values())
+    values = {kind: np.empty(len(rows)) for kind in cols}
+    for r, (number, cells) in enumerate(rows):
+        if len(cells) <= need:
+            raise InputError(f"{source}: line {number} has {len(cells)} columns, the header has {len(header)}; give every row all columns")
+        for kind, (i, scale) in cols.items():
+            try:
+                v = float(cells[i])
+            except ValueError:
+                raise InputError(f"{source}: line {number}: {kind} {cells[i]!r} is not a number; write plain numbers (units go in the header)") from None
+            if not math.isfinite(v):
+                raise InputError(f"{source}: line {number}: {kind} is {cells[i]!r}; remove the row or re-measure that point")
+            values[kind][r] = v * scale
+    f, mag, ph = values["frequency"], values["magnitude"], values["phase"]
+    lines = [n for n, _ in rows]
+    bad = np.flatnonzero(f <= 0)
+    if bad.size:
+        raise InputError(f"{source}: line {lines[bad[0]]}: frequency {f[bad[0]]!r} Hz must be > 0")
+    bad = np.flatnonzero(mag <= 0)
+    if bad.size:
+        raise InputError(f"{source}: line {lines[bad[0]]}: |Z| {mag[bad[0]]!r} Ω must be > 0")
+    bad = np.flatnonzero(np.diff(f) <= 0)
+    if bad.size:
+        i = bad[0] + 1
+        raise InputError(f"{source}: line {lines[i]}: frequency {f[i]!r} Hz does not increase on line {lines[i - 1]} ({f[i - 1]!r} Hz); sort the rows by frequency and drop repeats")
+    bad = np.flatnonzero(np.abs(ph) > 180.0)
+    if bad.size:
+        raise InputError(f"{source}: line {lines[bad[0]]}: phase {ph[bad[0]]!r}° outside ±180°; check the phase column's unit (deg or rad) in the header")
+    return Measurement(f, mag, ph, source, sha256)
+
+
+def read_measurement(path: str | Path) -> Measurement:
+    """Read a measured coil's CSV file (see the module doc)."""
+    p = Path(path)
+    try:
+        size = p.stat().st_size
+    except OSError:
+        raise InputError(f"{p}: measurement file not found; check the path") from None
+    if size > MAX_BYTES:
+        raise InputError(f"{p}: {size} bytes, more than {MAX_BYTES} for a measurement; export fewer points")
+    raw = p.read_bytes()
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError(f"{p}: not a UTF-8 text file; export the measurement as CSV text") from None
+    return parse_measurement(text, source=str(p), sha256=hashlib.sha256(raw).hexdigest())
