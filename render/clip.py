@@ -209,10 +209,11 @@ def render_clip(
     from .analysis.figures import figures
     from .chain.stream import make_plan, render_signal
     from .design import apply_rig
+    from .dry import Dry
     from .validate import sample_rate as check_rate
 
     design = apply_rig(design, rig)
-    if hasattr(velocity, "velocity"):
+    if isinstance(velocity, Dry):
         dry_record, dry_warnings = dict(velocity.description), tuple(velocity.warnings)
         if sample_rate is not None and int(sample_rate) != velocity.sample_rate:
             raise InputError(f"sample_rate={sample_rate}: the dry signal is at {velocity.sample_rate} Hz; leave sample_rate out or resample it")

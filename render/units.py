@@ -75,7 +75,7 @@ _NUMBER_RE = re.compile(rf"^{_NUMBER}$")
 _RKM_RE = re.compile(r"^(\d*)([A-Za-zµμ])(\d+)$")
 
 
-def _a(kind: "Kind") -> str:
+def _a(kind: Kind) -> str:
     """The kind's name with its article: "a resistance", "an inductance"."""
     return ("an " if kind.name[:1] in "aeiou" else "a ") + kind.name
 
@@ -239,7 +239,7 @@ def format_si(x: float, unit: str = "", digits: int = 3) -> str:
     if x == 0 or not math.isfinite(x):
         return f"{x:g} {unit}".strip()
     ax = abs(x)
-    for scale, p in _FORMAT_PREFIXES:
+    for scale, p in _FORMAT_PREFIXES:  # noqa: B007 (the prefix found is used below)
         if ax >= scale * 0.9995:
             break
     text = f"{x / scale:.{digits}g}"

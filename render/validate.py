@@ -50,7 +50,7 @@ def sample_rate(value: object, *, name: str = "--sample-rate") -> int:
 
     lo, hi = SAMPLE_RATE_RANGE
     try:
-        rate = operator.index(value) if not isinstance(value, bool) else None  # int and numpy integers, never 48000.5
+        rate = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]  # int and numpy integers, never 48000.5
     except TypeError:
         rate = None
     if rate is None or not lo <= rate <= hi:
@@ -76,8 +76,8 @@ class Field:
     doc: str = ""
 
 
-R_RANGE = dict(lo=1.0, hi=1e9, lo_open=False)  # a resistor below 1 Ω or above 1 GΩ is implausible
-C_RANGE = dict(lo=1e-14, hi=0.1, lo_open=False)  # 0.01 pF .. 0.1 F
+R_RANGE: dict[str, Any] = dict(lo=1.0, hi=1e9, lo_open=False)  # a resistor below 1 Ω or above 1 GΩ is implausible
+C_RANGE: dict[str, Any] = dict(lo=1e-14, hi=0.1, lo_open=False)  # 0.01 pF .. 0.1 F
 
 
 def where(source: str, table: str | None, key: str | None = None) -> str:
@@ -125,6 +125,7 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
                 raise InputError(f"{loc}={U.shown(raw)}: each relative amplitude must be a number from 0 to 100")
             out.append(float(x))
         return tuple(out)
+    assert isinstance(spec.kind, U.Kind), spec.kind
     try:
         value = U.parse_quantity(raw, spec.kind)
     except U.QuantityError as exc:

@@ -16,6 +16,7 @@ the bias moves; keeping the sum instead changes the loading too.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 
@@ -30,7 +31,7 @@ class Setting:
     top: float
     bottom: float
     battery: float
-    design: object
+    design: Any  # the Design with this divider and battery
 
 
 def divider(design, ratio: float, *, keep_load: bool = True) -> tuple[float, float]:

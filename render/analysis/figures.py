@@ -93,7 +93,7 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, np.ndarray]:
 
     # Q from the -3 dB points around the peak
     q = np.full(n, np.nan)
-    for r in np.flatnonzero(peak_db >= 3.0):
+    for r in np.flatnonzero(peak_db >= 3.0).tolist():
         y = h_db[r] - (peak_lvl[r] - 3.0)
         kk = k[r]
         left = np.flatnonzero(y[:kk] < 0)
@@ -116,10 +116,10 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, np.ndarray]:
     # treble corner: lowest f above peak_hz with |H| 3 dB under level_1k, None beyond 20 kHz
     treble = np.full(n, np.nan)
     for r in range(n):
-        start = int(np.searchsorted(f, peak_hz[r]))
-        idx = np.flatnonzero(h_db[r, start:] < lvl[r] - 3.0)
+        first = int(np.searchsorted(f, peak_hz[r]))
+        idx = np.flatnonzero(h_db[r, first:] < lvl[r] - 3.0)
         if idx.size:
-            j = start + idx[0]
+            j = first + idx[0]
             fc = _crossing(f, h_db[r : r + 1], np.array([j - 1]), np.array([j]), np.array([lvl[r] - 3.0]))[0]
             if fc <= 20000.0:
                 treble[r] = fc

@@ -26,10 +26,10 @@ import numpy as np
 
 from .. import units as U
 from ..design import DESIGN_TABLES
+from ..errors import InputError
+from ..eseries import SERIES, values_between
 from ..io.toml import read_toml
 from ..validate import Field, read_value, suggest
-from ..eseries import SERIES, values_between
-from ..errors import InputError
 
 FIGURES = (
     "level_1k_db", "peak_hz", "peak_db", "resonance_hz", "resonance_db", "q", "bass_corner_hz", "treble_corner_hz",
@@ -81,7 +81,7 @@ class Aim:
                     return np.maximum(0.0, np.abs(np.log(np.maximum(x, 1e-9) / self.value)) - math.log1p(self.within_rel)) / math.log1p(self.within_rel)
                 tol = abs(self.value) * self.within_rel
             else:
-                tol = self.within
+                tol = self.within if self.within is not None else 0.0
             tol = max(tol, 1e-12)
             return np.maximum(0.0, np.abs(x - self.value) - tol) / tol
         out = np.zeros_like(x)
@@ -202,7 +202,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
             for v in (a0.value, a0.lo, a0.hi):
                 if v is not None and not 1000 <= v <= 20000:
                     raise InputError(f"{source}: {where}: {v:g} Hz is outside 1 kHz to 20 kHz, where the peak is looked for")
-    frees = []
+    frees: list[Free] = []
     known = [f"{t}.{k}" for t in FREE_TABLES for k, s in DESIGN_TABLES[t].items() if isinstance(s.kind, U.Kind)]
     for name, f in free_t.items():
         where = f"[free] \"{name}\""
@@ -378,8 +378,9 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
         cur = snap(spec, s0)
         cur_sc = evaluate([cur])[0][1]
         for _ in range(60):
-            moves = []
-            def move(j, value):
+            moves: list[np.ndarray] = []
+
+            def move(j, value, cur=cur, moves=moves):
                 c = cur.copy()
                 c[j] = value
                 moves.append(spec.expand(c[dims]))
@@ -450,7 +451,8 @@ def format_value(fr: Free, v: float) -> str:
         return U.format_rkm(v)
     if fr.spec.kind is U.CAPACITANCE:
         return U.format_rkm(v, unit_letter="")
-    return U.format_si(v, fr.spec.kind.unit, digits=4).replace(" ", "")
+    unit = fr.spec.kind.unit if isinstance(fr.spec.kind, U.Kind) else ""
+    return U.format_si(v, unit, digits=4).replace(" ", "")
 
 
 def rewrite(text: str, changes: list[tuple[Free, float, float | None]], header: str, name: str | None = None) -> str:

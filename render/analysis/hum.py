@@ -177,7 +177,7 @@ def perturbed(design, factors: dict[str, np.ndarray], n: int) -> Params:
 def part_labels(design) -> list[tuple[str, str]]:
     """(label, class) of every toleranced part the design has."""
     out = []
-    for path, cls, label in PARTS:
+    for _path, cls, label in PARTS:
         table, key = label.split(".")
         if getattr(getattr(design, table), key) is not None:
             out.append((label, cls))

@@ -18,6 +18,7 @@ def corners(d: Design) -> dict:
         "input_b_hz": 1 / (tau * ib.series_r * ib.series_c),
         "feedback_hz": 1 / (tau * d.feedback.r * d.feedback.c) if d.feedback.c else None,
     }
+    assert ib.bias_top is not None and ib.bias_bottom is not None  # input_b always has them
     par = 1 / (1 / ib.bias_top + 1 / ib.bias_bottom)
     out["bias_node_hz"] = 1 / (tau * par * ib.shunt_c) if ib.shunt_c else None
     # the output coupling capacitor into the DC path the jack sees: shunt_r || volume pot
@@ -30,9 +31,10 @@ def corners(d: Design) -> dict:
 def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
     """JSON-ready: the design's derived values, its figures and its most resonant pole pair (f0 Hz, Q)."""
     ib = d.input_b
+    assert ib.bias_top is not None and ib.bias_bottom is not None
 
     def coil(c: Coil) -> dict:
-        out = {"inductance_h": c.inductance, "resistance_ohm": c.resistance, "capacitance_f": c.capacitance}
+        out: dict[str, object] = {"inductance_h": c.inductance, "resistance_ohm": c.resistance, "capacitance_f": c.capacitance}
         if c.winding is not None:
             w = c.winding
             out["winding"] = {

@@ -50,6 +50,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -208,7 +209,7 @@ class SpectrumAccumulator:
 
     def result(self) -> SpectrumStats:
         """The statistics so far (the accumulator can keep going)."""
-        sums = {k: (v.copy() if isinstance(v, np.ndarray) else v) for k, v in self._sums.items()}
+        sums: dict[str, Any] = {k: (v.copy() if isinstance(v, np.ndarray) else v) for k, v in self._sums.items()}
         self._take(sums, self._pending)  # the whole frames left over, on a copy
         n, silent = sums["frames"], sums["silent"]
         if n == 0:

@@ -118,7 +118,7 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     """
     R = int(oversample)
     fs = float(sample_rate)
-    if R < 2 or R != oversample:
+    if R < 2 or oversample != R:
         raise ValueError(f"oversample={oversample!r}: must be an integer ≥ 2")
     fi = R * fs
     _, band = dz.band_edges(fs)

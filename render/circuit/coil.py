@@ -36,7 +36,7 @@ def inductor_impedance(c: CoilParams, w: float = W_NORM):
     return n, d
 
 
-def coil_impedance(c: CoilParams, w: float = W_NORM):
+def coil_impedance(c: CoilParams, w: float = W_NORM) -> tuple[np.ndarray, np.ndarray]:
     """Series impedance of the coil, R_dc + Z_L, as (num, den); winding C not included."""
     n, d = inductor_impedance(c, w)
     return padd(pscale(d, c.R), n), d

@@ -41,7 +41,7 @@ class LadderParams:
     Lk: np.ndarray
     tau: np.ndarray
 
-    def __getitem__(self, idx) -> "LadderParams":
+    def __getitem__(self, idx) -> LadderParams:
         return LadderParams(self.active[idx], self.L0[idx], self.Lk[idx], self.tau[idx])
 
 

@@ -62,10 +62,9 @@ import numpy as np
 from .coil import coil_impedance, inductor_impedance
 from .engine import Responses, responses
 from .params import Params, from_designs
-from .rig import RigParams
 from .poly import W_NORM, Chain, Rational, cascade, const, lin, pmul, series
 from .preamp import input_chain, output_chain_parts
-from .rig import rig_parts
+from .rig import RigParams, rig_parts
 
 K_BOLTZMANN = 1.380649e-23  # J/K, exact since the 2019 SI redefinition (SI Brochure, 9th ed.)
 VOLTAGE, CURRENT = "voltage", "current"
@@ -140,7 +139,7 @@ class NoiseModel:
     def output_psd(self, frequency_hz, *, passive: bool = False) -> np.ndarray:
         """Total density at the amp input, (F,) -> (N, F) in V²/Hz."""
         sources = self.passive if passive else self.active
-        return sum(s.output_psd(frequency_hz) for s in sources)
+        return np.sum([s.output_psd(frequency_hz) for s in sources], axis=0)
 
 
 # ----------------------------------------------------------------------------

@@ -35,7 +35,7 @@ class CoilParams:
     sec: np.ndarray  # 1.0 with a shorted secondary, 0.0 without
     sig: np.ndarray  # V·s/m: signal_polarity · sensitivity
     hum: np.ndarray  # m²: hum_polarity · turns_area
-    ladder: "LadderParams | None" = None  # RL ladder replacing L and its core loss, row by row (render.circuit.ladder)
+    ladder: LadderParams | None = None  # RL ladder replacing L and its core loss, row by row (render.circuit.ladder)
 
 
 @dataclass(frozen=True)

@@ -105,17 +105,17 @@ class Rational:
         x = 1j * 2 * np.pi * f / self.w_norm
         return peval(self.num, x) / peval(self.den, x)
 
-    def __getitem__(self, i) -> "Rational":
+    def __getitem__(self, i) -> Rational:
         sl = slice(i, i + 1) if isinstance(i, (int, np.integer)) else i
         return Rational(self.num[sl], self.den[sl], self.w_norm)
 
-    def __mul__(self, other: "Rational") -> "Rational":
+    def __mul__(self, other: Rational) -> Rational:
         return Rational(pmul(self.num, other.num), pmul(self.den, other.den), self.w_norm)
 
-    def __neg__(self) -> "Rational":
+    def __neg__(self) -> Rational:
         return Rational(-self.num, self.den, self.w_norm)
 
-    def scale(self, c) -> "Rational":
+    def scale(self, c) -> Rational:
         """Multiply by a real constant (scalar or shape (N,))."""
         return Rational(pscale(self.num, c), self.den, self.w_norm)
 
@@ -141,17 +141,17 @@ class Rational:
 
 def _cancel(z: np.ndarray, p: np.ndarray, tol: float):
     """Remove pole–zero pairs closer than ``tol`` relative to their size."""
-    z = list(z)
+    zs = list(z)
     keep_p = []
     for pole in p:
-        if z:
-            d = np.abs(np.asarray(z) - pole)
+        if zs:
+            d = np.abs(np.asarray(zs) - pole)
             j = int(np.argmin(d))
             if d[j] <= tol * max(abs(pole), 1e-3):
-                z.pop(j)
+                zs.pop(j)
                 continue
         keep_p.append(pole)
-    return np.asarray(z, complex), np.asarray(keep_p, complex)
+    return np.asarray(zs, complex), np.asarray(keep_p, complex)
 
 
 # ----------------------------------------------------------------------------
@@ -168,7 +168,7 @@ class Chain:
     d: np.ndarray
     scale: np.ndarray
 
-    def __matmul__(self, o: "Chain") -> "Chain":
+    def __matmul__(self, o: Chain) -> Chain:
         return Chain(
             padd(pmul(self.a, o.a), pmul(self.b, o.c)),
             padd(pmul(self.a, o.b), pmul(self.b, o.d)),

@@ -32,7 +32,7 @@ COMMANDS = {
 }
 
 
-def _interrupted(exc: BaseException) -> bool:
+def _interrupted(exc: BaseException | None) -> bool:
     """Whether Ctrl-C is behind ``exc`` (an import cut short by it surfaces as an ImportError)."""
     seen = set()
     while exc is not None and id(exc) not in seen:

@@ -108,7 +108,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     bias = design.bias_v
     if not (design.limit_low_v + sup["knee"] < bias < design.limit_high_v - sup["knee"]):
         raise InputError(
-            f"{where(source, 'input_b')}: bias_top={U.format_si(design.input_b.bias_top, 'Ω')}, bias_bottom={U.format_si(design.input_b.bias_bottom, 'Ω')} "
+            f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
             f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V; bring the two resistors closer to equal"
         )
     return design

@@ -130,6 +130,7 @@ class Design:
     def bias_v(self) -> float:
         """DC bias at the non-inverting input: battery · bottom / (top + bottom) (V)."""
         b = self.input_b
+        assert b.bias_top is not None and b.bias_bottom is not None  # input_b always has them
         return self.supply.battery * b.bias_bottom / (b.bias_top + b.bias_bottom)
 
     @property
@@ -150,7 +151,7 @@ class Design:
         """From the bias point down to the lower limit of the amplifier output (V)."""
         return self.bias_v - self.limit_low_v
 
-    def with_rig(self, rig: Rig | None = None, hum: Hum | None = None) -> "Design":
+    def with_rig(self, rig: Rig | None = None, hum: Hum | None = None) -> Design:
         return replace(self, rig=rig or self.rig, hum=hum or self.hum)
 
 

@@ -23,6 +23,7 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 from types import MappingProxyType
+from typing import Any
 
 from ..errors import InputError
 from ..units import FREQUENCY, LENGTH, RATIO, TIME, Kind, QuantityError, parse_quantity
@@ -417,7 +418,7 @@ def _range_text(kind: Kind, low: float, high: float, low_open: bool) -> str:
     return f"each must be a {kind.name} {'>' if low_open else '>='} {low:g}{unit} and <= {high:g}{unit}"
 
 
-def _parse_instrument(source: str, table: object) -> Instrument:
+def _parse_instrument(source: str, table: Any) -> Instrument:
     top = Where(source, "")
     table = as_table(top, "instrument", table)
     where = Where(source, "[instrument]")
@@ -507,7 +508,7 @@ def _pluck_at(where: Where, value: object) -> float:
     return quantity(where, "pluck_at", value, LENGTH, low=0.0, high=1.5, low_open=True)
 
 
-def _parse_playing(source: str, table: object, instrument: Instrument) -> _Playing:
+def _parse_playing(source: str, table: Any, instrument: Instrument) -> _Playing:
     table = as_table(Where(source, ""), "playing", table)
     where = Where(source, "[playing]")
     check_keys(where, table, PLAYING_KEYS)
@@ -557,14 +558,14 @@ def _check_pluck(where: Where, key_value: object, pluck: float, length: float, w
         )
 
 
-def _parse_note(where: Where, table: object, instrument: Instrument, playing: _Playing) -> Note:
+def _parse_note(where: Where, table: Any, instrument: Instrument, playing: _Playing) -> Note:
     check_keys(where, table, NOTE_KEYS)
     time = _time(where, table)
     strings = instrument.strings
     if "fret" in table and "pitch" in table:
         raise where.fail("pitch", table["pitch"], "give fret or pitch, not both", "remove one of them")
     if "fret" in table and "string" not in table:
-        raise where.fail("fret", table["fret"], "a fret needs a string", "add string = 1..%d" % strings)
+        raise where.fail("fret", table["fret"], "a fret needs a string", f"add string = 1..{strings}")
     if "fret" not in table and "pitch" not in table:
         raise where.missing("pitch", 'give string and fret (string = 6, fret = 3) or a pitch (pitch = "A3")')
     if "fret" in table:
@@ -618,9 +619,9 @@ def _string_for(where: Where, written: object, frequency: float, instrument: Ins
     best = None
     for string in range(1, instrument.strings + 1):
         open_f = instrument.open_pitch(string)
-        if open_f <= frequency * (1.0 + 3e-4) and 12.0 * math.log2(frequency / open_f) <= MAX_FRET:
-            if best is None or open_f > instrument.open_pitch(best):
-                best = string
+        playable = open_f <= frequency * (1.0 + 3e-4) and 12.0 * math.log2(frequency / open_f) <= MAX_FRET
+        if playable and (best is None or open_f > instrument.open_pitch(best)):
+            best = string
     if best is None:
         low = min(instrument.open_pitches)
         raise where.fail(
@@ -656,7 +657,7 @@ def _parse_vibrato(where: Where, value: object) -> Vibrato:
     return Vibrato(depth_cents=depth, rate_hz=rate, start=start)
 
 
-def _parse_chord(where: Where, table: object, instrument: Instrument, playing: _Playing) -> list[Note]:
+def _parse_chord(where: Where, table: Any, instrument: Instrument, playing: _Playing) -> list[Note]:
     check_keys(where, table, CHORD_KEYS)
     time = _time(where, table)
     strings = instrument.strings

@@ -171,7 +171,8 @@ def fit_ladder(
         ladder = Ladder(float(w[0]), tuple(float(v) for v in w[1:][keep]), tuple(float(v) for v in (w[1:] / tau)[keep]))
         err = ladder_error(ladder.impedance(f[in_band]), z[in_band])
         if best is None or max(err[0] / tol_db, err[1] / tol_deg) < max(best.error_db / tol_db, best.error_deg / tol_deg):
-            best = LadderFit(ladder, err[0], err[1], tuple(band_hz))
+            best = LadderFit(ladder, err[0], err[1], (float(band_hz[0]), float(band_hz[1])))
         if err[0] <= tol_db and err[1] <= tol_deg:
             break
+    assert best is not None  # the loop runs at least once
     return best

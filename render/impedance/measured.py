@@ -186,4 +186,5 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4) -> Measur
         if best is not None and rms > 0.9 * best_rms:
             break
         best, best_rms = res, rms
+    assert best is not None  # the loop runs at least once
     return best

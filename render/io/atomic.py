@@ -36,7 +36,7 @@ _DEFAULT_FIX = "check free space and permissions"
 
 def _failure(path, exc: OSError) -> InputError:
     reason = exc.strerror or type(exc).__name__
-    return InputError(f"{path}: could not be written ({reason}); {_FIXES.get(exc.errno, _DEFAULT_FIX)}")
+    return InputError(f"{path}: could not be written ({reason}); {_FIXES.get(exc.errno or 0, _DEFAULT_FIX)}")
 
 
 def _exists(path: Path) -> InputError:
@@ -88,11 +88,11 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
     if not folder.is_dir():
         raise InputError(f"{folder}: folder does not exist; create it first or choose another path")
     try:
-        fd, tmp = tempfile.mkstemp(prefix=f".tmp-{path.name}.", dir=folder)
+        fd, tmp_name = tempfile.mkstemp(prefix=f".tmp-{path.name}.", dir=folder)
     except OSError as exc:
-        raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno, 'choose another folder')}") from None
+        raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno or 0, 'choose another folder')}") from None
     os.close(fd)
-    tmp = Path(tmp)
+    tmp = Path(tmp_name)
     try:
         yield tmp
         with open(tmp, "rb+") as fh:

@@ -15,10 +15,10 @@ acknowledged; the next writer cuts it off and the page sends it again.
 
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
 import fcntl
 import json
-import contextlib
 import os
 import threading
 

@@ -18,6 +18,7 @@ import numpy as np
 from ..analysis.loudness import integrated_loudness, true_peak_dbtp
 from ..errors import InputError
 
+
 @dataclass(frozen=True)
 class Match:
     """The outcome of :func:`match_loudness` (one entry per signal in each tuple)."""

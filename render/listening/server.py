@@ -300,7 +300,7 @@ class ListeningServer(ThreadingHTTPServer):
 
     # -- life cycle --------------------------------------------------------
 
-    def start_thread(self) -> "ListeningServer":
+    def start_thread(self) -> ListeningServer:
         """Serve from a background thread (for tests and embedding); returns self."""
         self._thread = threading.Thread(target=self.serve_forever, kwargs={"poll_interval": 0.05}, name="render-listen", daemon=True)
         self._thread.start()

@@ -152,7 +152,7 @@ class CoilGeometry:
         build = (self.build_x + self.build_y) / 2.0
         return self.turns * np.pi * wire_diameter**2 / 4.0 / (self.height * build)
 
-    def filaments(self, nodes: tuple[int, int] = DEFAULT_NODES) -> "Filaments":
+    def filaments(self, nodes: tuple[int, int] = DEFAULT_NODES) -> Filaments:
         """The winding as weighted filamentary rectangles (Gauss–Legendre in u and z).
 
         nodes : (across the build, along the height), each 1 … MAX_NODES

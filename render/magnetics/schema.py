@@ -22,7 +22,7 @@ from ..validate import Field, read_table, read_value
 from .coil import CoilGeometry, geometry_from_winding
 from .hum import DipoleSource, UniformSource
 
-SIZE = dict(lo=1e-4, hi=0.3, lo_open=False)  # 0.1 mm .. 30 cm: any pickup bobbin
+SIZE: dict[str, Any] = dict(lo=1e-4, hi=0.3, lo_open=False)  # 0.1 mm .. 30 cm: any pickup bobbin
 GEOMETRY = {
     "turns": Field(U.RATIO, True, lo=1.0, hi=1e6, lo_open=False, doc="number of turns"),
     "length": Field(U.LENGTH, True, doc="outer size of the winding across the strings (along y)", **SIZE),
@@ -103,7 +103,7 @@ def read_sources(items: Any, *, source: str, n_harmonics: int) -> tuple:
         raise InputError(f"{_loc(source, 'hum')} source: expected one or more [[hum.source]] tables")
     if len(items) > MAX_SOURCES:
         raise InputError(f"{_loc(source, 'hum')} source: {len(items)} sources; at most {MAX_SOURCES}")
-    out = []
+    out: list[DipoleSource | UniformSource] = []
     for i, t in enumerate(items):
         table = f"hum.source {i + 1}"
         where = _loc(source, table)

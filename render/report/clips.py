@@ -131,7 +131,7 @@ def overlay_png(designs, *, curves=None) -> bytes:
     from .plots import overlay_png as draw
 
     f, h, hp = curves if curves is not None else velocity_curves(designs)
-    passives = []
+    passives: list[tuple[int, str]] = []
     for i, d in enumerate(designs):
         if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
             passives.append((i, d.name))

@@ -11,11 +11,6 @@ def _db(x, floor=1e-30):
     return 10.0 * np.log10(np.maximum(np.asarray(x, float), floor))
 
 
-def _round(x, nd=2):
-    x = float(x)
-    return round(x, nd) if math.isfinite(x) else None
-
-
 def unvoice_record(*, di, di_sha256, design, rig, sample_rate, frames, vfs, vscale, peak, inv, stats, vstats, vpeak, vrms, out, png, warnings, version, design_dict) -> dict:
     from ..analysis import unvoice as U
 

@@ -124,7 +124,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     renderer = Renderer(plan, hum=settings.hum)
     passive = PassiveStream(design, sample_rate=fs, hum=settings.hum) if settings.passive else None
     noise = pnoise = None
-    extra_warnings = ()
+    extra_warnings: tuple[str, ...] = ()
     if settings.noise:
         from ..analysis.noise import noise_waveform
 
@@ -134,8 +134,8 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     wav = FloatWavWriter(out / f"{stem}.wav", sample_rate=fs, overwrite=True)
     pwav = FloatWavWriter(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
     loud, spec = LoudnessMeter(sample_rate=fs), WelchSpectrum(sample_rate=fs)
-    head = []  # the first minute, for the spectrogram
-    stats = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf}
+    head: list[np.ndarray] = []  # the first minute, for the spectrogram
+    stats: dict[str, Any] = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf}
     written = [0, 0]
 
     def emit(y, amp, py):
