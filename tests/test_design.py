@@ -9,7 +9,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from render.errors import InputError
+from render.circuit.rig import volume_fraction
 from render.design import (
     DESIGN_TABLES,
     load_design,
@@ -17,7 +17,7 @@ from render.design import (
     parse_design,
     parse_rig,
 )
-from render.circuit.rig import volume_fraction
+from render.errors import InputError
 
 SRC = "cand.toml"
 

@@ -229,6 +229,7 @@ def discretize(zeros, poles, gain, *, sample_rate: float, delay: int = DEFAULT_D
         if err[0] <= TOLERANCE_DB[0] and err[1] <= TOLERANCE_DB[1] and ph <= TOLERANCE_DEG:
             best = cand
             break
+    assert best is not None  # at least one order is tried
     err, ph, c = best
     warns = list(pole_warnings(pd, what=what, sample_rate=sample_rate))
     if err[0] > CONTRACT_DB[0] or err[1] > CONTRACT_DB[1]:

@@ -45,8 +45,8 @@ def _cycles(n: int, *, start: int, sample_rate: float, mains_hz: float) -> np.nd
         m, fs = int(mains_hz), int(sample_rate)
         idx = np.arange(start, start + n, dtype=np.int64)
         return np.mod(idx * m, fs) / fs
-    idx = np.arange(start, start + n, dtype=np.float64)
-    return np.mod(idx * (mains_hz / sample_rate), 1.0)
+    pos = np.arange(start, start + n, dtype=np.float64)
+    return np.mod(pos * (mains_hz / sample_rate), 1.0)
 
 
 def _harmonic_sum(n, amplitudes, phase_shifts, *, start, sample_rate, mains_hz):

@@ -149,7 +149,7 @@ def soft_limit_adaa(x, *, window: Window, previous: float | None = None) -> tupl
     """
     x = np.asarray(x, dtype=float)
     if x.size == 0:
-        return x.copy(), previous
+        return x.copy(), previous  # type: ignore[return-value]  # nothing rendered: the state passes on as it came
     c = window.centre
     k = window.knee
     a = window.linear_high - c

@@ -426,6 +426,7 @@ class Renderer:
             ln, self._sn = dz.apply(p.path_half_difference, half_diff, state=self._sn)
             v_lin += ln
         if self.explicit:
+            assert p.path_hum is not None  # built with hum_filter=True for an explicit field
             lh, self._sh = dz.apply(p.path_hum, db_dt, state=self._sh)
             v_lin += lh
         elif self.hum:

@@ -9,11 +9,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from spice import NGSPICE, active_netlist, require_ngspice
 
 from render.analysis.bias import divider, harmonics_of, onset, sine_distortion, velocity_to_amp_output
 from render.cli import main
 from render.design import load_design
-from spice import NGSPICE, active_netlist, require_ngspice
 
 ROOT = Path(__file__).resolve().parents[2]
 REF = ROOT / "models" / "studio-reference.toml"

@@ -2,17 +2,17 @@
 
 import json
 import math
-import tomllib
 from pathlib import Path
 
 import pytest
+import tomllib
 from click.testing import CliRunner
+from spice import active_netlist, run_ac
 
 from render.analysis.figures import db, response_figures
 from render.cli import main
 from render.design import load_design, parse_design
 from render.eseries import E6, E12, E24, E48, E96, nearest, values_between
-from spice import active_netlist, run_ac
 
 ROOT = Path(__file__).resolve().parents[2]
 REF = ROOT / "models" / "studio-reference.toml"

@@ -44,12 +44,12 @@ def resident_mb() -> float:
 def soak(renders: int = 200, *, every: int = 20, seconds: float = 0.25, out=None, show=print) -> list[tuple[int, float]]:
     """Render ``renders`` times in this process; returns (render count, resident MB) at each report."""
     from render.clip import RenderSettings as Settings
-    from render.report.records import clip_record as record
-    from render.runs.clips import render_design
     from render.design import load_design
     from render.io.atomic import write_text
-    from render.report.plots import spectrogram_plot
     from render.io.wav import write_float_wav
+    from render.report.plots import spectrogram_plot
+    from render.report.records import clip_record as record
+    from render.runs.clips import render_design
 
     designs = [load_design(p) for p in sorted(glob.glob(str(ROOT / "models" / "*.toml")))]
     dry = ROOT / "dry_signals" / "default.toml"

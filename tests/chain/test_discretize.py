@@ -9,8 +9,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 import scipy.signal as ss
-
 from circuit.designgen import random_design_dict
+
 from render.chain.discretize import apply, band_edges, bilinear_sections, digital_response, discretize, discretize_rational, initial_state
 from render.chain.stream import design_resampler
 from render.circuit.engine import design_responses

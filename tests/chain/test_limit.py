@@ -7,9 +7,9 @@ asymmetric-clip figure is the project reference sheet's recomputed value (§6).
 
 import numpy as np
 import pytest
+from chain.measure import harmonic_ratios
 from scipy.integrate import quad
 
-from chain.measure import harmonic_ratios
 from render.chain.limit import ADAA_STEP_V, Window, soft_limit, soft_limit_adaa, soft_limit_integral
 
 WIN = Window(low=1.0, high=8.0, knee=0.5)  # 9 V battery, 1 V margins, 0.5 V knee (the design defaults)

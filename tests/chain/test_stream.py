@@ -11,8 +11,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 import scipy.signal as ss
-
 from chain.measure import harmonic_ratios, spectrum, tones
+from spice import active_netlist, run_transient
+
 from render.chain.hum import field_rate, harmonic_frequencies
 from render.chain.stream import (
     Renderer,
@@ -26,7 +27,6 @@ from render.chain.stream import (
 )
 from render.circuit.engine import design_responses
 from render.design import load_design
-from spice import active_netlist, run_transient
 
 ROOT = Path(__file__).resolve().parents[2]
 MODELS = sorted((ROOT / "models").glob("*.toml"))

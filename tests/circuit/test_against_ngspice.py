@@ -29,11 +29,11 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from spice import active_netlist, jack_probe, passive_netlist, require_ngspice, run_ac
 
 from render.circuit.engine import design_responses
 from render.circuit.rig import volume_fraction
 from render.design import load_design, parse_design
-from spice import active_netlist, jack_probe, passive_netlist, require_ngspice, run_ac
 
 from .designgen import random_design_dict
 

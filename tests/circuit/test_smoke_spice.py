@@ -1,10 +1,10 @@
 """The shipped reference design against an ngspice AC analysis (ngspice, Debian package)."""
 
 import numpy as np
+from spice import active_netlist, run_ac
 
 from render.circuit.engine import design_responses
 from render.design import load_design
-from spice import active_netlist, run_ac
 
 ROOT = __import__("pathlib").Path(__file__).resolve().parents[2]
 

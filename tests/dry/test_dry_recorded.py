@@ -11,9 +11,9 @@ import soundfile as sf
 
 from render.dry import load_dry
 from render.dry.recorded import load_recorded
+from render.errors import InputError
 from render.io.atomic import atomic_path
 from render.io.wav import float_wav_bytes, write_float_wav
-from render.errors import InputError
 
 FS = 48000
 

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 from scipy.constants import mu_0
 from scipy.linalg import solve_banded
-from scipy.special import ber, bei, berp, beip
+from scipy.special import bei, beip, ber, berp
 
 from render.errors import InputError
 from render.impedance.eddy import (

@@ -14,9 +14,8 @@ import pytest
 import soundfile as sf
 from click.testing import CliRunner
 
-from render.analysis.loudness import integrated_loudness
+from render.analysis.loudness import integrated_loudness, true_peak_dbtp
 from render.cli.blind import blind_command
-from render.analysis.loudness import true_peak_dbtp
 
 ROOT = Path(__file__).resolve().parents[2]
 A = ROOT / "models" / "studio-reference.toml"

@@ -11,12 +11,11 @@ import numpy as np
 import pytest
 import soundfile as sf
 
-from render.analysis.loudness import integrated_loudness
+from render.analysis.loudness import integrated_loudness, true_peak_dbtp
 from render.errors import InputError
 from render.listening import build as build_mod
 from render.listening.build import check_out, draw_trials, slot_design
 from render.listening.layout import load_key, load_plan, session_paths
-from render.analysis.loudness import true_peak_dbtp
 from render.listening.loudness import match_loudness
 
 SR = 48000

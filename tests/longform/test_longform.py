@@ -9,15 +9,14 @@ import soundfile as sf
 from click.testing import CliRunner
 from scipy.signal import welch
 
-from render.analysis.loudness import integrated_loudness
+from render.analysis.loudness import LoudnessMeter, integrated_loudness
+from render.analysis.spectrum import WelchSpectrum
 from render.chain.stream import render_signal
 from render.cli import main
-from render.runs.clips import LONG_SECONDS
 from render.design import load_design
-from render.analysis.loudness import LoudnessMeter
-from render.analysis.spectrum import WelchSpectrum
 from render.dry.recorded import iter_recorded
 from render.io.wav import FloatWavWriter
+from render.runs.clips import LONG_SECONDS
 
 ROOT = Path(__file__).resolve().parents[2]
 REF = ROOT / "models" / "studio-reference.toml"

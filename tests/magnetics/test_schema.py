@@ -1,9 +1,8 @@
 """Reading [coil_x.geometry] and [[hum.source]] tables: values, units and one-line refusals."""
 
-import tomllib
-
 import numpy as np
 import pytest
+import tomllib
 
 from render.design import Winding
 from render.errors import InputError

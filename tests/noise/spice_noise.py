@@ -27,9 +27,9 @@ import tempfile
 from pathlib import Path
 
 import numpy as np
+from spice import NGSPICE, require_ngspice
 
 from render.circuit.noise import K_BOLTZMANN
-from spice import NGSPICE, require_ngspice
 
 PROBE_R = 1e3  # ohm, the thermal source behind each current-noise stand-in
 

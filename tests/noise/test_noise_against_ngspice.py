@@ -29,10 +29,10 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from spice import active_netlist, passive_netlist, require_ngspice
 
 from render.circuit.noise import design_noise_model
 from render.design import load_design, parse_design
-from spice import active_netlist, passive_netlist, require_ngspice
 
 from ..circuit.designgen import random_design_dict
 from .spice_noise import run_noise, with_opamp_noise

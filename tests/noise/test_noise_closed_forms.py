@@ -17,9 +17,8 @@ from render.analysis.noise import (
     thermal_density,
 )
 from render.circuit.noise import K_BOLTZMANN, design_noise_model
-from render.circuit.rig import rig_parts
 from render.circuit.params import from_designs
-from render.circuit.rig import rig_chain
+from render.circuit.rig import rig_chain, rig_parts
 from render.design import load_design
 from render.errors import InputError
 

@@ -11,9 +11,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from render.runs.clips import split_runs
 from render.parallel import SideProcess
 from render.report import plots
+from render.runs.clips import split_runs
 
 F = np.geomspace(20, 20000, 600)
 

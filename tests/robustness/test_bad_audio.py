@@ -11,8 +11,8 @@ import pytest
 import soundfile as sf
 
 from render.dry.recorded import MAX_SECONDS, load_recorded
-from render.io.audio import AudioInfo, audio_info
 from render.errors import InputError
+from render.io.audio import AudioInfo, audio_info
 from render.io.wav import float_wav_bytes
 
 from .conftest import REF, assert_refused, check_outputs, run

@@ -8,13 +8,13 @@ files too large to keep (over a megabyte, or nested thousands deep) are made her
 from __future__ import annotations
 
 import os
-import tomllib
 
 import pytest
+import tomllib
 
 from render.design import load_design
-from render.io.toml import MAX_FILE_BYTES
 from render.dry.phrase import MAX_PHRASE_BYTES
+from render.io.toml import MAX_FILE_BYTES
 
 from .conftest import CORPUS, REF, assert_refused, run
 

@@ -13,9 +13,9 @@ import datetime as dt
 import math
 import os
 import tempfile
-import tomllib
 from pathlib import Path
 
+import tomllib
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 

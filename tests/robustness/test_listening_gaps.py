@@ -19,7 +19,6 @@ import threading
 import time
 
 from render.listening import answers as answers_module
-
 from tests.listening.test_server_http import answer, cli_server, lines_of, request
 
 from .conftest import ROOT

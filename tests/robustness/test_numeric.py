@@ -7,18 +7,18 @@ from __future__ import annotations
 
 import copy
 import math
-import tomllib
 
 import numpy as np
 import pytest
+import tomllib
 
 from render import units as U
 from render.chain.discretize import NEAR_UNSTABLE, pole_warnings, sos_pole_warnings
 from render.clip import RenderSettings as Settings
-from render.runs.clips import render_design
 from render.design import DESIGN_TABLES, parse_design
 from render.errors import InputError
 from render.io.wav import float_wav_bytes
+from render.runs.clips import render_design
 
 from .conftest import REF, assert_refused, run
 

@@ -15,8 +15,8 @@ import render.runs.unvoice as run_unvoice
 from render.analysis import unvoice as U
 from render.circuit.engine import design_responses
 from render.cli import main
-from render.design import load_designs
 from render.cli.unvoice import unvoice_command
+from render.design import load_designs
 from render.dry.modal import string_velocity
 from render.dry.phrase import load_phrase
 from render.io.wav import float_wav_bytes

@@ -17,13 +17,13 @@ import json
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from spice import passive_netlist, require_ngspice, run_ac
 
 from render.analysis import unvoice as U
-from render.design import load_designs
 from render.cli.unvoice import unvoice_command
+from render.design import load_designs
 from render.dry.modal import string_velocity
 from render.dry.phrase import load_phrase
-from spice import passive_netlist, require_ngspice, run_ac
 
 from .helpers import BANDS_80_5K, OVERSAMPLE, PHRASE, REF, SAMPLE_RATE, band_energy, band_levels_db, read_wav, spice_transient_di, weights, write_wav
 
