@@ -37,7 +37,7 @@ from urllib.parse import urlsplit
 from ..errors import InputError
 from .answers import MAX_BODY, AnswerLog, AnswerRefused
 from .layout import load_key, load_plan, session_paths
-from .page import PAGE_CSS, PAGE_HTML, PAGE_JS
+from .page import read_page
 
 HOST = "127.0.0.1"
 CLIP_ROUTE = re.compile(r"^/clip/([0-9a-f]{32}\.wav)$")
@@ -115,11 +115,11 @@ class _Handler(BaseHTTPRequestHandler):
             return
         srv: ListeningServer = self.server
         if path == "/":
-            return self._send(200, srv.page_html, "text/html; charset=utf-8", head=head, extra=(("Content-Security-Policy", CSP),))
+            return self._send(200, srv.page.html, "text/html; charset=utf-8", head=head, extra=(("Content-Security-Policy", CSP),))
         if path == "/page.css":
-            return self._send(200, srv.page_css, "text/css; charset=utf-8", head=head)
+            return self._send(200, srv.page.css, "text/css; charset=utf-8", head=head)
         if path == "/page.js":
-            return self._send(200, srv.page_js, "text/javascript; charset=utf-8", head=head)
+            return self._send(200, srv.page.js, "text/javascript; charset=utf-8", head=head)
         if path == "/favicon.ico":
             return self._send(204, b"", "image/x-icon", head=head)
         if path == "/api/state":
@@ -220,9 +220,7 @@ class ListeningServer(ThreadingHTTPServer):
         if len(sizes) != 1:
             raise InputError(f"SESSION={session}: the clips differ in size; the session folder is damaged, make a new one with `render blind`")
         self.notify = notify
-        self.page_html = PAGE_HTML.encode("utf-8")
-        self.page_css = PAGE_CSS.encode("utf-8")
-        self.page_js = PAGE_JS.encode("utf-8")
+        self.page = read_page()
         self._slots = threading.BoundedSemaphore(MAX_CONNECTIONS)
         self._result_lock = threading.Lock()
         self._result = None

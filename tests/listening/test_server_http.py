@@ -29,7 +29,7 @@ import pytest
 
 from render.errors import InputError
 from render.listening.answers import MAX_BODY
-from render.listening.page import PAGE_HTML, PAGE_JS
+from render.listening.page import read_page
 from render.listening.server import ListeningServer
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -86,10 +86,12 @@ def test_binds_loopback_only_and_serves_the_page(running):
     paths, server = running
     assert server.server_address[0] == "127.0.0.1" and server.url == f"http://127.0.0.1:{server.port}/"
     status, hdrs, body = request(server.port, path="/")
-    assert status == 200 and body.decode() == PAGE_HTML
+    assert status == 200 and body == read_page().html
     assert "script-src 'self'" in hdrs["content-security-policy"] and hdrs["cache-control"] == "no-store"
     status, _, body = request(server.port, path="/page.js")
-    assert status == 200 and body.decode() == PAGE_JS
+    assert status == 200 and body == read_page().js
+    status, _, body = request(server.port, path="/page.css")
+    assert status == 200 and body == read_page().css
     st = json.loads(request(server.port, path="/api/state")[2])
     assert st["method"] == "abx" and len(st["trials"]) == 4 and st["answered"] == [] and not st["complete"]
 
