@@ -19,7 +19,7 @@ from ..analysis.loudness import integrated_loudness, true_peak_dbtp
 from ..errors import InputError
 
 @dataclass(frozen=True)
-class Match:
+class LoudnessMatch:
     """The outcome of :func:`match_loudness` (one entry per signal in each tuple)."""
 
     gains_db: tuple[float, ...]  # applied gain, dB re the input's scale
@@ -55,7 +55,7 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
 
     Returns
     -------
-    (scaled signals as float64 arrays, Match)
+    (scaled signals as float64 arrays, LoudnessMatch)
 
     Raises
     ------
@@ -81,7 +81,7 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
     gains = [g - lowered for g in gains]
     out = [x * 10.0 ** (g / 20.0) for x, g in zip(xs, gains)]
     final = [integrated_loudness(y, sample_rate=sample_rate) for y in out]
-    match = Match(
+    match = LoudnessMatch(
         gains_db=tuple(gains),
         measured_lufs=tuple(measured),
         true_peak_dbtp=tuple(peaks),
