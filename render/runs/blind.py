@@ -263,7 +263,8 @@ def build_blind_session(
     design_records = [file_record(d.source, expected_sha256=d.sha256, text=True) for d in designs]
     rig_record = file_record(rig.source, expected_sha256=rig.sha256, text=True) if rig else None
     names = session_names(designs)
-    fs, length = settings.sample_rate, settings.seconds
+    fs = settings.sample_rate
+    length = float(settings.seconds) if settings.seconds is not None else None  # seconds, as BlindSettings read it
     volts, clipped, warnings = [], [], []
     dry_description = None
     for design, name in zip(designs, names):
