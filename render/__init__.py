@@ -61,6 +61,10 @@ _HOME = {
     "FitRun": "render.runs.fit",
     "unvoice": "render.runs.unvoice",
     "UnvoiceResult": "render.runs.unvoice",
+    "build_blind_session": "render.runs.blind",
+    "BlindSettings": "render.runs.blind",
+    "BlindSession": "render.runs.blind",
+    "score_blind_session": "render.runs.score",
 }
 _ALIASES = {"render_clips": "run_clips"}
 

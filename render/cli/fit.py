@@ -39,9 +39,8 @@ def print_table(run) -> None:
 @click.option("--render", "render_clips", is_flag=True, help="Then render clips of the start and every result into <out>/clips (render clips).")
 @click.option("--blind", "blind_session", is_flag=True, help="Then build a blind ABX session of the start against result 1 in <out>/blind (render blind).")
 @overwrite_option
-@click.pass_context
 @friendly
-def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_clips, blind_session, overwrite):
+def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips, blind_session, overwrite):
     """Search part values, snapped to preferred-number series, that meet FITFILE's aims.
 
     Writes the TOP best complete design files (<stem>-fit-1.toml, …) with
@@ -65,6 +64,10 @@ def fit_command(ctx, fitfile, start_path, rig_path, top, out_dir, seed, render_c
         designs, rig = load_designs([run.start_file, *run.files], rig=rig_path)
         render_and_report(designs, check_dry_file(None), RenderSettings(), output_folder(out / "clips", overwrite=overwrite), rig=rig)
     if blind_session:
-        from .blind import blind_command
+        from ..design import load_designs
+        from ..runs.blind import BlindSettings, build_blind_session, session_dry_file, session_folder
+        from .blind import print_blind_session
 
-        ctx.invoke(blind_command, model_a=str(run.start_file), model_b=str(run.files[0]), rig_path=rig_path, out=str(out / "blind"), overwrite=overwrite)
+        designs, rig = load_designs([run.start_file, run.files[0]], rig=rig_path)
+        folder = session_folder(out / "blind", overwrite=overwrite)
+        print_blind_session(build_blind_session(designs, session_dry_file(None), out=folder, rig=rig, settings=BlindSettings(), overwrite=overwrite))

@@ -4,15 +4,13 @@ ABX: correct of total with the one-sided exact binomial p-value; preference:
 counts with the two-sided test; a per-trial table; and a plot of the two
 designs' response difference (SESSION/results/response-difference.png by
 default). Before the last trial is answered it refuses and reveals nothing.
+The work is :func:`render.runs.score.score_blind_session`.
 """
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import click
 
-from ..io.folders import refuse_existing as check_new
 from .options import emit_json, friendly, json_option, overwrite_option
 
 
@@ -25,22 +23,18 @@ from .options import emit_json, friendly, json_option, overwrite_option
 @friendly
 def score_command(session, json_path, png_path, no_plot, overwrite):
     """Score the blind listening session SESSION once every trial is answered."""
-    from ..listening.score import difference_plot, score_session, summary_lines
+    from ..io.folders import refuse_existing
+    from ..listening.score import summary_lines
+    from ..runs.score import score_blind_session
 
-    check_new([json_path, png_path], overwrite=overwrite)
-    paths, key, result = score_session(session)
-    if json_path != "-":
-        for line in summary_lines(result):
+    refuse_existing([json_path, png_path], overwrite=overwrite)
+    scored = score_blind_session(session, png_path=png_path, plot=not no_plot, overwrite=overwrite)
+    if json_path != "-":  # standard output carries the JSON alone
+        for line in summary_lines(scored.result):
             click.echo(line)
-    if not no_plot:
-        target = Path(png_path) if png_path else paths.results / "response-difference.png"
-        if png_path is None and target.exists() and not overwrite:
-            if json_path != "-":
-                click.echo(f"kept {target} (pass --overwrite to draw it again)")
-        else:
-            target.parent.mkdir(exist_ok=True)
-            difference_plot(target, key, overwrite=overwrite)
-            if json_path != "-":
-                click.echo(f"wrote {target}")
+        if scored.kept_plot is not None:
+            click.echo(f"kept {scored.kept_plot} (pass --overwrite to draw it again)")
+        if scored.plot is not None:
+            click.echo(f"wrote {scored.plot}")
     if json_path:
-        emit_json(json_path, {"session": key["session"], **result}, overwrite=overwrite)
+        emit_json(json_path, {"session": scored.session_id, **scored.result}, overwrite=overwrite)

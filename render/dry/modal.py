@@ -233,7 +233,7 @@ def string_velocity(
 
 def _check_rate(sample_rate) -> float:
     if isinstance(sample_rate, bool) or not isinstance(sample_rate, (int, np.integer)) or not 8000 <= sample_rate <= 384000:
-        raise InputError(f"sample_rate={sample_rate!r}: must be a whole number of Hz from 8000 to 384000; 48000 is usual")
+        raise InputError(f"sample_rate={sample_rate!r}: must be from 8000 to 384000 Hz (a whole number); 48000 is usual")
     return float(sample_rate)
 
 

@@ -13,8 +13,13 @@ A session is a folder::
   signals, matches their loudness, draws the trials and writes the folder.
 - :mod:`render.listening.answers` is the append-only answer log.
 - :mod:`render.listening.server` is the loopback HTTP server and
-  :mod:`render.listening.page` the page it serves.
+  :mod:`render.listening.page` reads the page it serves (HTML, CSS and
+  JavaScript files in ``render/listening/static/``, package data).
 - :mod:`render.listening.score` opens the key once every trial is answered.
+
+The runs behind the commands are :func:`render.runs.blind.build_blind_session`
+(render both designs and build a session) and
+:func:`render.runs.score.score_blind_session` (score it and draw the plot).
 
 Nothing that is served (the page, the plan, the clips' names, bytes other
 than the audio, sizes and headers) depends on which design a clip holds:

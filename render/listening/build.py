@@ -37,7 +37,7 @@ from .layout import KEY_FORMAT, METHODS, PLAN_FORMAT, SLOTS, VERSION, SessionPat
 MAX_TRIALS = 500
 
 
-def check_out(out: str | Path, *, overwrite: bool) -> None:
+def check_session_folder(out: str | Path, *, overwrite: bool) -> None:
     """Refuse up front (before any work) an ``--out`` that cannot take a new session."""
     out = Path(out)
     if out.exists():
@@ -76,14 +76,14 @@ def slot_design(trial: dict, slot: str) -> int:
     return a if trial["x"] == "A" else 1 - a
 
 
-def _write(path: Path, data: bytes) -> None:
+def _write_new_file(path: Path, data: bytes) -> None:
     with open(path, "xb") as fh:
         fh.write(data)
         fh.flush()
         os.fsync(fh.fileno())
 
 
-def _json(obj) -> bytes:
+def _json_bytes(obj) -> bytes:
     return (json.dumps(obj, indent=2, allow_nan=False) + "\n").encode("utf-8")
 
 
@@ -114,7 +114,7 @@ def build_session(
     from ..io.wav import float_wav_bytes
 
     out = Path(out)
-    check_out(out, overwrite=overwrite)
+    check_session_folder(out, overwrite=overwrite)
     if len(signals) != 2 or len(designs) != 2:
         raise InputError("a session compares exactly two designs")
     n = min(np.asarray(s).shape[-1] for s in signals)
@@ -125,7 +125,7 @@ def build_session(
     session_id = secrets.token_hex(16)
     names: set[str] = set()
 
-    def fresh() -> str:
+    def new_clip_name() -> str:
         while True:
             name = secrets.token_hex(16) + ".wav"
             if name not in names:
@@ -133,7 +133,7 @@ def build_session(
                 return name
 
     for t in draws:
-        t["clips"] = {slot: fresh() for slot in SLOTS[method]}
+        t["clips"] = {slot: new_clip_name() for slot in SLOTS[method]}
     created = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0)
     plan = {
         "format": PLAN_FORMAT,
@@ -169,11 +169,11 @@ def build_session(
         paths.public.mkdir()
         paths.private.mkdir(mode=0o700)
         stamp = created.timestamp()
-        holder = {c: slot_design(t, s) for t in draws for s, c in t["clips"].items()}
+        design_of_clip = {c: slot_design(t, s) for t in draws for s, c in t["clips"].items()}
         for name in sorted(names):  # sorted random names: an order unrelated to the designs
-            _write(paths.public / name, wavs[holder[name]])
-        _write(paths.plan, _json(plan))
-        _write(paths.key, _json(key))
+            _write_new_file(paths.public / name, wavs[design_of_clip[name]])
+        _write_new_file(paths.plan, _json_bytes(plan))
+        _write_new_file(paths.key, _json_bytes(key))
         for p in list(paths.public.iterdir()):
             os.utime(p, (stamp, stamp))
         for d in (paths.public, paths.private, tmp):

@@ -20,7 +20,7 @@ from ..errors import InputError
 
 
 @dataclass(frozen=True)
-class Match:
+class LoudnessMatch:
     """The outcome of :func:`match_loudness` (one entry per signal in each tuple)."""
 
     gains_db: tuple[float, ...]  # applied gain, dB re the input's scale
@@ -56,7 +56,7 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
 
     Returns
     -------
-    (scaled signals as float64 arrays, Match)
+    (scaled signals as float64 arrays, LoudnessMatch)
 
     Raises
     ------
@@ -82,11 +82,11 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
     gains = [g - lowered for g in gains]
     out = [x * 10.0 ** (g / 20.0) for x, g in zip(xs, gains)]
     final = [integrated_loudness(y, sample_rate=sample_rate) for y in out]
-    match = Match(
+    match = LoudnessMatch(
         gains_db=tuple(gains),
         measured_lufs=tuple(measured),
         true_peak_dbtp=tuple(peaks),
-        final_lufs=tuple(float(v) for v in final),
+        final_lufs=tuple(float(v) for v in final),  # type: ignore[arg-type]  # every matched clip is loud enough to measure
         final_true_peak_dbtp=tuple(p + g for p, g in zip(peaks, gains)),
         target_lufs=float(target_lufs),
         ceiling_dbtp=float(ceiling_dbtp),

@@ -37,7 +37,7 @@ from urllib.parse import urlsplit
 from ..errors import InputError
 from .answers import MAX_BODY, AnswerLog, AnswerRefused
 from .layout import load_key, load_plan, session_paths
-from .page import PAGE_CSS, PAGE_HTML, PAGE_JS
+from .page import read_page
 
 HOST = "127.0.0.1"
 CLIP_ROUTE = re.compile(r"^/clip/([0-9a-f]{32}\.wav)$")
@@ -56,7 +56,7 @@ COMMON_HEADERS = (
 )
 
 
-class _Handler(BaseHTTPRequestHandler):
+class _SessionRequestHandler(BaseHTTPRequestHandler):
     server_version = "render-listen"
     sys_version = ""
     timeout = SOCKET_TIMEOUT_S
@@ -96,7 +96,7 @@ class _Handler(BaseHTTPRequestHandler):
 
     def _route(self) -> str | None:
         """The request's path if the Host is ours and the target is origin-form; else None (answered)."""
-        srv: ListeningServer = self.server
+        srv: ListeningServer = self.server  # type: ignore[assignment]  # the server this handler was made for
         host = self.headers.get("Host", "")
         if host not in srv.allowed_hosts:
             self._error(421, "Host: this server answers only for its own loopback address")
@@ -113,13 +113,13 @@ class _Handler(BaseHTTPRequestHandler):
         path = self._route()
         if path is None:
             return
-        srv: ListeningServer = self.server
+        srv: ListeningServer = self.server  # type: ignore[assignment]  # the server this handler was made for
         if path == "/":
-            return self._send(200, srv.page_html, "text/html; charset=utf-8", head=head, extra=(("Content-Security-Policy", CSP),))
+            return self._send(200, srv.page.html, "text/html; charset=utf-8", head=head, extra=(("Content-Security-Policy", CSP),))
         if path == "/page.css":
-            return self._send(200, srv.page_css, "text/css; charset=utf-8", head=head)
+            return self._send(200, srv.page.css, "text/css; charset=utf-8", head=head)
         if path == "/page.js":
-            return self._send(200, srv.page_js, "text/javascript; charset=utf-8", head=head)
+            return self._send(200, srv.page.js, "text/javascript; charset=utf-8", head=head)
         if path == "/favicon.ico":
             return self._send(204, b"", "image/x-icon", head=head)
         if path == "/api/state":
@@ -172,7 +172,7 @@ class _Handler(BaseHTTPRequestHandler):
         except (UnicodeDecodeError, ValueError, RecursionError):  # ValueError: bad JSON or an integer too long to convert
             return self._error(400, "body: not valid UTF-8 JSON")
         try:
-            fresh, stored = srv.log.record(data)
+            is_new, stored = srv.log.record(data)
         except AnswerRefused as exc:
             return self._error(409, str(exc))
         except ValueError as exc:
@@ -180,9 +180,9 @@ class _Handler(BaseHTTPRequestHandler):
         except OSError as exc:
             return self._error(507, f"could not save the answer ({exc.strerror or exc}); free some disk space, the page will send it again")
         answered = len(srv.log.answers)
-        if fresh and srv.notify is not None:
+        if is_new and srv.notify is not None:
             srv.notify(f"trial {stored['trial'] + 1} of {srv.trials} recorded" + ("; all answered: run `render score`" if answered == srv.trials else ""))
-        self._json(200, {"recorded": fresh, "trial": stored["trial"], "answered": answered, "complete": answered == srv.trials})
+        self._json(200, {"recorded": is_new, "trial": stored["trial"], "answered": answered, "complete": answered == srv.trials})
 
     def _not_allowed(self):
         if self._route() is not None:
@@ -220,16 +220,14 @@ class ListeningServer(ThreadingHTTPServer):
         if len(sizes) != 1:
             raise InputError(f"SESSION={session}: the clips differ in size; the session folder is damaged, make a new one with `render blind`")
         self.notify = notify
-        self.page_html = PAGE_HTML.encode("utf-8")
-        self.page_css = PAGE_CSS.encode("utf-8")
-        self.page_js = PAGE_JS.encode("utf-8")
-        self._slots = threading.BoundedSemaphore(MAX_CONNECTIONS)
+        self.page = read_page()
+        self._connections = threading.BoundedSemaphore(MAX_CONNECTIONS)
         self._result_lock = threading.Lock()
-        self._result = None
-        self._thread = None
+        self._result: dict | None = None
+        self._thread: threading.Thread | None = None
         self.log = AnswerLog(self.paths, self.plan)  # refuses a second writer before anything binds
         try:
-            super().__init__((HOST, int(port)), _Handler)
+            super().__init__((HOST, int(port)), _SessionRequestHandler)
         except OSError as exc:
             self.log.close()
             raise InputError(f"--port={port}: cannot listen on {HOST} ({exc.strerror or exc}); choose another port or 0 for a free one") from None
@@ -238,20 +236,20 @@ class ListeningServer(ThreadingHTTPServer):
         self.allowed_origins = frozenset({f"http://{HOST}:{p}", f"http://localhost:{p}"})
 
     def process_request(self, request, client_address):
-        if not self._slots.acquire(blocking=False):
+        if not self._connections.acquire(blocking=False):
             self.shutdown_request(request)
             return
         try:
             super().process_request(request, client_address)
         except BaseException:
-            self._slots.release()
+            self._connections.release()
             raise
 
     def process_request_thread(self, request, client_address):
         try:
             super().process_request_thread(request, client_address)
         finally:
-            self._slots.release()
+            self._connections.release()
 
     def server_bind(self):
         socketserver.TCPServer.server_bind(self)  # skip HTTPServer's reverse name look-up

@@ -83,7 +83,7 @@ def test_a_preference_session_from_a_phrase(tmp_path):
         (["--target-lufs", "3"], "Error: --target-lufs=3: must be from -60 to -5 LUFS; -23 is EBU R 128"),
         (["--true-peak-dbtp", "2"], "Error: --true-peak-dbtp=2: must be from -30 to 0 dBTP; -1 is usual"),
         (["--seconds", "0.1"], "Error: --seconds=0.1: must be from 0.5 s to 120 s"),
-        (["--sample-rate", "1000"], "Error: --sample-rate=1000: must be from 8000 to 192000 Hz; 48000 is usual"),
+        (["--sample-rate", "1000"], "Error: --sample-rate=1000: must be from 8000 to 384000 Hz (a whole number); 48000 is usual"),
         (["--seed", "-1"], "Error: --seed=-1: must be from 0 to 2**63-1"),
     ],
 )

@@ -14,7 +14,7 @@ import soundfile as sf
 from render.analysis.loudness import integrated_loudness, true_peak_dbtp
 from render.errors import InputError
 from render.listening import build as build_mod
-from render.listening.build import check_out, draw_trials, slot_design
+from render.listening.build import check_session_folder, draw_trials, slot_design
 from render.listening.layout import load_key, load_plan, session_paths
 from render.listening.loudness import match_loudness
 
@@ -158,9 +158,9 @@ def test_an_existing_folder_is_refused_unless_it_is_a_session_and_overwrite_is_g
     other.mkdir()
     (other / "mine.txt").write_text("keep me")
     with pytest.raises(InputError, match=r"neither empty nor a listening session"):
-        check_out(other, overwrite=True)
+        check_session_folder(other, overwrite=True)
     with pytest.raises(InputError, match=r"folder .* does not exist"):
-        check_out(tmp_path / "no" / "where", overwrite=False)
+        check_session_folder(tmp_path / "no" / "where", overwrite=False)
     from render.listening.build import build_session
 
     key = json.loads(paths.key.read_text())
@@ -169,7 +169,7 @@ def test_an_existing_folder_is_refused_unless_it_is_a_session_and_overwrite_is_g
 
 
 def test_an_interrupted_build_leaves_nothing(make_session, tmp_path, monkeypatch):
-    real = build_mod._write
+    real = build_mod._write_new_file
     calls = {"n": 0}
 
     def failing(path, data):
@@ -178,7 +178,7 @@ def test_an_interrupted_build_leaves_nothing(make_session, tmp_path, monkeypatch
             raise OSError(28, "No space left on device")
         real(path, data)
 
-    monkeypatch.setattr(build_mod, "_write", failing)
+    monkeypatch.setattr(build_mod, "_write_new_file", failing)
     out = tmp_path / "s"
     with pytest.raises(InputError, match=r"^--out=.*: could not write the session \(No space left on device\); check free space and permissions$"):
         make_session(trials=3, out=out)

@@ -29,7 +29,7 @@ import pytest
 
 from render.errors import InputError
 from render.listening.answers import MAX_BODY
-from render.listening.page import PAGE_HTML, PAGE_JS
+from render.listening.page import read_page
 from render.listening.server import ListeningServer
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -86,10 +86,12 @@ def test_binds_loopback_only_and_serves_the_page(running):
     paths, server = running
     assert server.server_address[0] == "127.0.0.1" and server.url == f"http://127.0.0.1:{server.port}/"
     status, hdrs, body = request(server.port, path="/")
-    assert status == 200 and body.decode() == PAGE_HTML
+    assert status == 200 and body == read_page().html
     assert "script-src 'self'" in hdrs["content-security-policy"] and hdrs["cache-control"] == "no-store"
     status, _, body = request(server.port, path="/page.js")
-    assert status == 200 and body.decode() == PAGE_JS
+    assert status == 200 and body == read_page().js
+    status, _, body = request(server.port, path="/page.css")
+    assert status == 200 and body == read_page().css
     st = json.loads(request(server.port, path="/api/state")[2])
     assert st["method"] == "abx" and len(st["trials"]) == 4 and st["answered"] == [] and not st["complete"]
 
@@ -273,9 +275,9 @@ def test_too_many_connections_are_shed_and_the_server_recovers(running):
     idle = [socket.create_connection(("127.0.0.1", server.port), timeout=5) for _ in range(MAX_CONNECTIONS)]
     try:
         deadline = time.monotonic() + 10  # wait until the server has taken every slot (not a fixed sleep: the machine may be loaded)
-        while server._slots._value > 0 and time.monotonic() < deadline:
+        while server._connections._value > 0 and time.monotonic() < deadline:
             time.sleep(0.01)
-        assert server._slots._value == 0
+        assert server._connections._value == 0
         with socket.create_connection(("127.0.0.1", server.port), timeout=5) as extra:
             extra.sendall(f"GET /api/state HTTP/1.1\r\nHost: 127.0.0.1:{server.port}\r\n\r\n".encode())
             try:

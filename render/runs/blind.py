@@ -1,0 +1,327 @@
+"""``render blind`` as a run: two designs, one dry signal, one rig, written as a blind session.
+
+Both designs play the same dry signal (synthesised at each design's own
+sensing points, or one recording) into the same rig, each rendered by
+:func:`render.clip.render_clip`; the two renders are matched in integrated
+loudness (ITU-R BS.1770-4) to ``target_lufs`` under a ``true_peak_dbtp``
+ceiling (:mod:`render.listening.loudness`), and the session folder is written
+whole or not at all (:func:`render.listening.build.build_session`). The key
+keeps each design's and the rig's TOML text with its SHA-256, the dry file's
+hash, the loudness figures and the seed of the trial draws.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..design import Design, RigFile
+from ..errors import InputError
+from ..listening.layout import METHODS, SessionPaths
+from ..listening.loudness import LoudnessMatch
+
+MAX_SECONDS = 120.0  # per clip: longer clips make ABX slow and sessions large (common practice, no source)
+MIN_SECONDS = 0.5  # per clip: holds at least one 400 ms gating block of ITU-R BS.1770-4, so its loudness can be measured
+DRY_SEED = 0  # the phrase's small per-note variations: the same for both designs
+TARGET_LUFS_RANGE = (-60.0, -5.0)  # LUFS accepted; EBU R 128's -23 is the default
+TRUE_PEAK_RANGE = (-30.0, 0.0)  # dBTP accepted; -1 (EBU R 128) is the default
+SEED_LIMIT = 2**63  # seeds are drawn from, and accepted in, 0 .. 2**63 - 1
+RENDER_FUNCTION = "render.clip.render_clip"  # recorded in the key
+
+
+@dataclass(frozen=True)
+class BlindSettings:
+    """Everything a blind session depends on besides the designs, the rig and the dry file.
+
+    Checked when made: a bad value raises :class:`~render.errors.InputError`
+    (one line, named as the command-line option).
+
+    Attributes
+    ----------
+    trials : int
+        1 to :data:`render.listening.build.MAX_TRIALS`.
+    method : str
+        "abx" (is X the same as A or B) or "preference" (A, B or no preference).
+    seed : int or None
+        Seed of the trial draws, 0 to 2**63 - 1; None draws a fresh one when the session is built.
+    target_lufs : float, LUFS
+        Integrated loudness both clips are matched to, -60 to -5.
+    true_peak_dbtp : float, dBTP
+        True-peak ceiling, -30 to 0; both clips are lowered together if either would pass it.
+    seconds : float or None, s
+        Clip length, 0.5 to 120 s (a number, or text such as "8s"); None plays the dry signal's own.
+    sample_rate : int, Hz
+        8000 to 384000 (:func:`render.validate.sample_rate`).
+    hum : bool
+        Render the room's hum with the signal.
+    """
+
+    trials: int = 16
+    method: str = "abx"
+    seed: int | None = None
+    target_lufs: float = -23.0
+    true_peak_dbtp: float = -1.0
+    seconds: float | str | None = None
+    sample_rate: int = 48000
+    hum: bool = True
+
+    def __post_init__(self) -> None:
+        from ..listening.build import MAX_TRIALS
+        from ..units import TIME, QuantityError, parse_quantity
+        from ..validate import sample_rate
+
+        trials = _whole(self.trials)
+        if trials is None or not 1 <= trials <= MAX_TRIALS:
+            raise InputError(f"--trials={self.trials}: must be from 1 to {MAX_TRIALS}; 16 is usual")
+        if self.method not in METHODS:
+            raise InputError(f"--method={self.method}: expected one of {', '.join(METHODS)}")
+        lo, hi = TARGET_LUFS_RANGE
+        if not (_finite(self.target_lufs) and lo <= self.target_lufs <= hi):
+            raise InputError(f"--target-lufs={_shown(self.target_lufs)}: must be from {lo:g} to {hi:g} LUFS; -23 is EBU R 128")
+        lo, hi = TRUE_PEAK_RANGE
+        if not (_finite(self.true_peak_dbtp) and lo <= self.true_peak_dbtp <= hi):
+            raise InputError(f"--true-peak-dbtp={_shown(self.true_peak_dbtp)}: must be from {lo:g} to {hi:g} dBTP; -1 is usual")
+        rate = sample_rate(self.sample_rate, name="--sample-rate")
+        seed = _whole(self.seed) if self.seed is not None else None
+        if self.seed is not None and (seed is None or not 0 <= seed < SEED_LIMIT):
+            raise InputError(f"--seed={self.seed}: must be from 0 to 2**63-1")
+        length = None
+        if self.seconds is not None:
+            try:
+                length = parse_quantity(self.seconds, TIME)
+            except QuantityError as exc:
+                raise InputError(f"--seconds={self.seconds}: {exc}") from None
+            if not MIN_SECONDS <= length <= MAX_SECONDS:
+                raise InputError(f"--seconds={self.seconds}: must be from {MIN_SECONDS:g} s to {MAX_SECONDS:g} s")
+        # the checked values, as plain Python numbers
+        for name, value in (("trials", trials), ("seed", seed), ("seconds", length), ("sample_rate", rate),
+                            ("target_lufs", float(self.target_lufs)), ("true_peak_dbtp", float(self.true_peak_dbtp)), ("hum", bool(self.hum))):
+            object.__setattr__(self, name, value)
+
+
+def _whole(value: object) -> int | None:
+    """``value`` as an int if it is a whole number (int or numpy integer, not bool), else None."""
+    import operator
+
+    if isinstance(value, bool):
+        return None
+    try:
+        return operator.index(value)  # type: ignore[arg-type]
+    except TypeError:
+        return None
+
+
+def _finite(value: object) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+
+
+def _shown(value: object) -> str:
+    return f"{value:g}" if isinstance(value, (int, float)) and not isinstance(value, bool) else repr(value)
+
+
+@dataclass(frozen=True)
+class BlindSession:
+    """What :func:`build_blind_session` wrote and measured.
+
+    Attributes
+    ----------
+    paths : SessionPaths
+        The finished session (``paths.root`` is the folder).
+    names : (str, str)
+        MODEL_A's and MODEL_B's names as the key and the score show them.
+    method : str
+    trials : int
+    seed : int
+        The seed of the trial draws (the one given, or the fresh one drawn).
+    sample_rate : int, Hz
+    seconds : float, s
+        Length of every clip.
+    loudness : LoudnessMatch
+        Measured loudness and true peak before matching, the gains, how far
+        both were lowered under the ceiling, and the figures after matching.
+    clipped_fraction : (float, float), 0..1
+        Share of each render's oversampled limiter input outside the identity region.
+    warnings : tuple of str
+        One line each: the dry signal's, then each design's prefixed with its name.
+    """
+
+    paths: SessionPaths
+    names: tuple[str, str]
+    method: str
+    trials: int
+    seed: int
+    sample_rate: int
+    seconds: float
+    loudness: LoudnessMatch
+    clipped_fraction: tuple[float, float]
+    warnings: tuple[str, ...] = ()
+
+
+def session_folder(out: str | Path | None, *, overwrite: bool) -> Path:
+    """The folder a session is written to, refused before any work if it cannot take one.
+
+    Default: a new ``outputs/blind-<date>-<time>`` (``outputs/`` is created).
+    An existing folder is replaced only with ``overwrite`` and only if it
+    is empty or a session (:func:`render.listening.build.check_session_folder`).
+    """
+    from ..io.folders import OUTPUTS, make_folder, new_run_folder
+    from ..listening.build import check_session_folder
+
+    if out is None:
+        make_folder(OUTPUTS)
+        out = new_run_folder(OUTPUTS, "blind")
+    out = Path(out)
+    check_session_folder(out, overwrite=overwrite)
+    return out
+
+
+def session_dry_file(dry_path: str | Path | None) -> Path:
+    """The dry file a session plays (default: the demo phrase), refused if it does not exist."""
+    from ..dry import default_dry_path
+
+    dry_file = Path(dry_path) if dry_path else default_dry_path()
+    if not dry_file.is_file():
+        raise InputError(f"--dry={dry_file}: no such file; pass a phrase (.toml) or a recording")
+    return dry_file
+
+
+def file_record(path: str | Path, *, expected_sha256: str = "", text: bool = False) -> dict:
+    """``{"path", "sha256"}`` of a file as read now, plus its ``"toml"`` text when ``text``.
+
+    expected_sha256 : the hash recorded when the file was loaded; a file that changed since is refused.
+    """
+    from ..io.hashing import sha256_bytes
+
+    try:
+        raw = Path(path).read_bytes()
+    except OSError as exc:
+        raise InputError(f"{path}: cannot read it again to keep it in the session ({exc.strerror or exc}); a session keeps each design's and rig's file: load them from files") from None
+    sha = sha256_bytes(raw)
+    if expected_sha256 and sha != expected_sha256:
+        raise InputError(f"{path}: changed since it was read; run again")
+    record = {"path": str(path), "sha256": sha}
+    if text:
+        record["toml"] = raw.decode("utf-8")
+    return record
+
+
+def session_names(designs: Sequence[Design]) -> tuple[str, str]:
+    """The two designs' names; when they share one, marked ``(MODEL_A)`` and ``(MODEL_B)``."""
+    a, b = designs[0].name, designs[1].name
+    return (f"{a} (MODEL_A)", f"{b} (MODEL_B)") if a == b else (a, b)
+
+
+def build_blind_session(
+    designs: Sequence[Design],
+    dry_path: str | Path | None,
+    *,
+    out: str | Path | None = None,
+    rig: RigFile | None = None,
+    settings: BlindSettings | None = None,
+    from_di: dict | None = None,
+    overwrite: bool = False,
+) -> BlindSession:
+    """Render two designs playing one dry signal and write a blind session of them at ``out``.
+
+    Parameters
+    ----------
+    designs : two Design
+        MODEL_A and MODEL_B, loaded from their files (:func:`render.design.load_designs`),
+        each with ``rig`` applied; the key keeps each file's text and hash.
+    dry_path : str, Path or None
+        A phrase (.toml) or a recording (default: the demo phrase).
+    out : str, Path or None
+        The session folder (default: a new ``outputs/blind-<date>-<time>``).
+    rig : RigFile or None
+        The rig file applied to both designs, for the key.
+    settings : BlindSettings or None
+        Trials, method, seed, loudness target and ceiling, length, sample rate, hum (default: the defaults).
+    from_di : dict or None
+        The record of the un-voicing that made ``dry_path`` from a DI
+        (:attr:`render.runs.unvoice.FromDi.record`), kept in the key.
+    overwrite : bool
+        Replace an existing session at ``out``.
+
+    Returns
+    -------
+    BlindSession
+    """
+    import secrets
+
+    from ..clip import render_clip
+    from ..dry import load_dry
+    from ..listening.build import build_session
+    from ..listening.loudness import match_loudness
+
+    settings = settings if settings is not None else BlindSettings()
+    if len(designs) != 2:
+        raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
+    folder = session_folder(out, overwrite=overwrite)
+    dry_file = session_dry_file(dry_path)
+    design_records = [file_record(d.source, expected_sha256=d.sha256, text=True) for d in designs]
+    rig_record = file_record(rig.source, expected_sha256=rig.sha256, text=True) if rig else None
+    names = session_names(designs)
+    fs = settings.sample_rate
+    length = float(settings.seconds) if settings.seconds is not None else None  # seconds, as BlindSettings read it
+    volts: list = []
+    clipped: list[float] = []
+    warnings: list[str] = []
+    dry_description = None
+    for design, name in zip(designs, names):
+        dry = load_dry(
+            dry_file,
+            sample_rate=fs,
+            positions=(design.coil_a.position, design.coil_b.position),
+            apertures=(design.coil_a.aperture, design.coil_b.aperture),
+            seed=DRY_SEED,
+            seconds=length,
+        )
+        if dry_description is None:
+            warnings.extend(dry.warnings)
+            dry_description = dry.description
+        n = dry.velocity.shape[1]
+        if n > MAX_SECONDS * fs:
+            raise InputError(f"--dry={dry_file}: plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass --seconds")
+        # the bare velocity: the clip's warnings are then the render's own (the dry signal's are kept once, above)
+        clip = render_clip(design, dry.velocity, sample_rate=fs, hum=settings.hum)
+        warnings.extend(f"{name}: {w}" for w in clip.warnings)
+        volts.append(clip.volts)
+        clipped.append(float(clip.clipped_fraction))
+    signals, match = match_loudness(volts, sample_rate=fs, target_lufs=settings.target_lufs, ceiling_dbtp=settings.true_peak_dbtp, names=names)
+    seed = settings.seed if settings.seed is not None else secrets.randbits(63)
+    record = {
+        "rig": rig_record,
+        "dry": {**file_record(dry_file), "seed": DRY_SEED, "seconds": length, "description": dry_description, "from_di": from_di},
+        "render": {
+            "function": RENDER_FUNCTION,
+            "hum": settings.hum,
+            "clipped_fraction": clipped,
+            "wav_scale": "1.0 full scale = 1 V at the amp input, times the loudness gain",
+        },
+        "loudness": match.record(),
+    }
+    paths = build_session(
+        folder,
+        signals,
+        sample_rate=fs,
+        method=settings.method,
+        trials=settings.trials,
+        seed=seed,
+        designs=[{"name": name, **rec} for name, rec in zip(names, design_records)],
+        record=record,
+        overwrite=overwrite,
+    )
+    return BlindSession(
+        paths=paths,
+        names=names,
+        method=settings.method,
+        trials=settings.trials,
+        seed=int(seed),
+        sample_rate=fs,
+        seconds=min(s.shape[-1] for s in signals) / fs,
+        loudness=match,
+        clipped_fraction=(clipped[0], clipped[1]),
+        warnings=tuple(warnings),
+    )

@@ -1,0 +1,79 @@
+"""``render score`` as a run: the score of a finished blind session and its response-difference plot.
+
+The score itself is :func:`render.listening.score.score_session` (it refuses,
+revealing nothing, before the last trial is answered); the plot is
+:func:`render.listening.score.difference_plot`, by default at
+``SESSION/results/response-difference.png``, where an earlier plot is kept
+unless ``overwrite``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import InputError
+from ..listening.layout import SessionPaths
+
+PLOT_NAME = "response-difference.png"  # in SESSION/results/
+
+
+@dataclass(frozen=True)
+class SessionScore:
+    """What :func:`score_blind_session` found and drew.
+
+    Attributes
+    ----------
+    paths : SessionPaths
+    session_id : str
+        The session's random id (as in its plan and key).
+    result : dict
+        The JSON-ready score (:func:`render.listening.score.score`): method,
+        designs, the per-trial table and the test.
+    plot : Path or None
+        The response-difference plot drawn by this run.
+    kept_plot : Path or None
+        The session's earlier plot, left as it was (no ``overwrite``).
+    """
+
+    paths: SessionPaths
+    session_id: str
+    result: dict
+    plot: Path | None = None
+    kept_plot: Path | None = None
+
+
+def score_blind_session(session: str | Path, *, png_path: str | Path | None = None, plot: bool = True, overwrite: bool = False) -> SessionScore:
+    """Score the finished session at ``session`` and draw its response difference.
+
+    Parameters
+    ----------
+    session : str or Path
+        The session folder.
+    png_path : str, Path or None
+        Where to draw the plot (default ``SESSION/results/response-difference.png``,
+        kept if it exists and ``overwrite`` is false).
+    plot : bool
+        Draw the plot at all.
+    overwrite : bool
+        Replace an existing plot (a ``png_path`` that exists is refused without it).
+
+    Returns
+    -------
+    SessionScore
+    """
+    from ..listening.score import difference_plot, score_session
+
+    paths, key, result = score_session(session)
+    drawn = kept = None
+    if plot:
+        target = Path(png_path) if png_path else paths.results / PLOT_NAME
+        if png_path is None and target.exists() and not overwrite:
+            kept = target
+        else:
+            try:
+                target.parent.mkdir(exist_ok=True)
+            except OSError as exc:
+                raise InputError(f"--png={target}: cannot create the folder {target.parent} ({exc.strerror or exc}); choose another path") from None
+            drawn = difference_plot(target, key, overwrite=overwrite)
+    return SessionScore(paths=paths, session_id=key["session"], result=result, plot=drawn, kept_plot=kept)
