@@ -20,12 +20,12 @@ def write_design_audio(out: Path, stem: str, clip, rec: dict, *, volts_full_scal
     return written
 
 
-def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, figures=None) -> list[Path]:
+def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, kept=None) -> list[Path]:
     """S-response.png, S-spectrum.png (``spectra``: list of (label, f, level_db, dashed)) and S-spectrogram.png.
 
-    ``figures`` (a :class:`~render.report.plots.KeptFigures`) draws on figures kept from earlier plots.
+    ``kept`` (a :class:`~render.report.plots.KeptFigures`) draws on figures kept from earlier plots.
     """
-    return [write_response_plot(out, stem, design, figures=figures)] + write_signal_plots(out, stem, design, spectra=spectra, spectrogram=spectrogram, sample_rate=sample_rate, spectrogram_title=spectrogram_title, figures=figures)
+    return [write_response_plot(out, stem, design, kept=kept)] + write_signal_plots(out, stem, design, spectra=spectra, spectrogram=spectrogram, sample_rate=sample_rate, spectrogram_title=spectrogram_title, kept=kept)
 
 
 def velocity_curves(designs):
@@ -38,7 +38,7 @@ def velocity_curves(designs):
     return f, resp.velocity()(f), resp.passive_velocity()(f)
 
 
-def write_response_plot(out: Path, stem: str, design, *, figures=None, curves=None) -> Path:
+def write_response_plot(out: Path, stem: str, design, *, kept=None, curves=None) -> Path:
     """S-response.png: the design's response from string velocity to the amp input, with its passive reference.
 
     ``curves``: this design's (f, response, passive) from :func:`velocity_curves`, if already computed.
@@ -49,29 +49,29 @@ def write_response_plot(out: Path, stem: str, design, *, figures=None, curves=No
         f, h, hp = velocity_curves([design])
         curves = (f, h[0], hp[0])
     f, h, hp = curves
-    return response_plot(out / f"{stem}-response.png", f, [(design.name, h)], passive=("passive reference", hp), title=f"{design.name}: string velocity to amp input", overwrite=True, figures=figures)
+    return response_plot(out / f"{stem}-response.png", f, [(design.name, h)], passive=("passive reference", hp), title=f"{design.name}: string velocity to amp input", overwrite=True, kept=kept)
 
 
-def write_signal_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, figures=None) -> list[Path]:
+def write_signal_plots(out: Path, stem: str, design, *, spectra, spectrogram, sample_rate: int, spectrogram_title: str, kept=None) -> list[Path]:
     """The plots of the rendered signal: S-spectrum.png and S-spectrogram.png (arguments as for :func:`write_design_plots`)."""
     from .plots import spectrogram_plot, spectrum_plot
 
     d = design
     return [
-        spectrum_plot(out / f"{stem}-spectrum.png", spectra, title=f"{d.name}: long-term average spectrum at the amp input", overwrite=True, figures=figures),
-        spectrogram_plot(out / f"{stem}-spectrogram.png", spectrogram, sample_rate=sample_rate, title=spectrogram_title, overwrite=True, figures=figures),
+        spectrum_plot(out / f"{stem}-spectrum.png", spectra, title=f"{d.name}: long-term average spectrum at the amp input", overwrite=True, kept=kept),
+        spectrogram_plot(out / f"{stem}-spectrogram.png", spectrogram, sample_rate=sample_rate, title=spectrogram_title, overwrite=True, kept=kept),
     ]
 
 
-def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, figures=None) -> list[Path]:
-    """The plots of an in-memory clip's signal, S-spectrum.png and S-spectrogram.png (``figures``: as for
+def write_clip_plots(out: Path, stem: str, clip, *, sample_rate: int, kept=None) -> list[Path]:
+    """The plots of an in-memory clip's signal, S-spectrum.png and S-spectrogram.png (``kept``: as for
     :func:`write_design_plots`); S-response.png needs no render and is drawn by :func:`write_design_only_plots`."""
     from ..analysis.spectrum import long_term_spectrum
 
     spectra = [(clip.design.name, *long_term_spectrum(clip.volts, sample_rate=sample_rate), False)]
     if clip.passive_volts is not None:
         spectra.append(("passive reference", *long_term_spectrum(clip.passive_volts, sample_rate=sample_rate), True))
-    return write_signal_plots(out, stem, clip.design, spectra=spectra, spectrogram=clip.volts, sample_rate=sample_rate, spectrogram_title=f"{clip.design.name}: amp input", figures=figures)
+    return write_signal_plots(out, stem, clip.design, spectra=spectra, spectrogram=clip.volts, sample_rate=sample_rate, spectrogram_title=f"{clip.design.name}: amp input", kept=kept)
 
 
 def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
@@ -81,8 +81,8 @@ def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
 
     designs = list(designs)
     f, h, hp = velocity_curves(designs)
-    with KeptFigures() as figures:
-        written = [write_response_plot(out, stem, d, figures=figures, curves=(f, h[i], hp[i])) for i, (stem, d) in enumerate(zip(stems, designs))]
+    with KeptFigures() as kept:
+        written = [write_response_plot(out, stem, d, kept=kept, curves=(f, h[i], hp[i])) for i, (stem, d) in enumerate(zip(stems, designs))]
     return written + [write_bytes(out / "responses.png", overlay_png(designs, curves=(f, h, hp)), overwrite=True)]
 
 

@@ -140,16 +140,16 @@ def _response_fill(p, f, curves, passive, title):
         p["title"].set_text(title)
 
 
-def response_plot(path, f, curves, *, passive=None, title="", overwrite=False, figures=None):
+def response_plot(path, f, curves, *, passive=None, title="", overwrite=False, kept=None):
     """Magnitude (dB) and phase (degrees) against frequency (Hz).
 
     ``curves`` is a list of (label, complex response (F,)); ``passive`` an
-    optional (label, complex response) drawn dashed. ``figures`` (a
+    optional (label, complex response) drawn dashed. ``kept`` (a
     :class:`KeptFigures`) reuses a figure drawn before with the same layout.
     """
     f = np.asarray(f, float)
     key = ("response", len(curves), passive is not None, bool(title), f.size, float(f[0]), float(f[-1]))
-    return _draw(figures, key, lambda: _response_build(f, len(curves), passive is not None, title), lambda p: _response_fill(p, f, curves, passive, title), path, overwrite)
+    return _draw(kept, key, lambda: _response_build(f, len(curves), passive is not None, title), lambda p: _response_fill(p, f, curves, passive, title), path, overwrite)
 
 
 class KeptFigures:
@@ -182,13 +182,13 @@ class KeptFigures:
         return False
 
 
-def _draw(figures, key, build, fill, path, overwrite):
-    """Build (or reuse from ``figures``) a figure, fill it, and write it to ``path`` as PNG."""
-    if figures is None:
+def _draw(kept, key, build, fill, path, overwrite):
+    """Build (or reuse from ``kept``) a figure, fill it, and write it to ``path`` as PNG."""
+    if kept is None:
         p = build()
         fill(p)
         return save(p["fig"], path, overwrite=overwrite)
-    p = figures.get(key, build)
+    p = kept.get(key, build)
     fill(p)
     return save(p["fig"], path, overwrite=overwrite, keep=True)
 
@@ -252,13 +252,13 @@ def _spectrum_fill(p, curves, title):
         p["title"].set_text(title)
 
 
-def spectrum_plot(path, curves, *, title="", overwrite=False, figures=None):
+def spectrum_plot(path, curves, *, title="", overwrite=False, kept=None):
     """Long-term average spectra: ``curves`` is a list of (label, f (F,), level dB (F,), dashed).
 
-    ``figures`` (a :class:`KeptFigures`) reuses a figure drawn before with the same layout.
+    ``kept`` (a :class:`KeptFigures`) reuses a figure drawn before with the same layout.
     """
     dashed = tuple(bool(c[3]) for c in curves)
-    return _draw(figures, ("spectrum", dashed, bool(title)), lambda: _spectrum_build(dashed, title), lambda p: _spectrum_fill(p, curves, title), path, overwrite)
+    return _draw(kept, ("spectrum", dashed, bool(title)), lambda: _spectrum_build(dashed, title), lambda p: _spectrum_fill(p, curves, title), path, overwrite)
 
 
 def spectrogram_image(samples, *, sample_rate):
@@ -318,14 +318,14 @@ def _spectrogram_fill(p, image, title):
         p["title"].set_text(title)
 
 
-def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrite=False, figures=None):
+def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrite=False, kept=None):
     """Spectrogram (dB) on a log-frequency axis, 40 Hz to 20 kHz (see :func:`spectrogram_image`).
 
-    ``figures`` (a :class:`KeptFigures`) reuses a figure drawn before with the same layout.
+    ``kept`` (a :class:`KeptFigures`) reuses a figure drawn before with the same layout.
     """
     image = spectrogram_image(samples, sample_rate=sample_rate)
     fmax = image[2]
-    return _draw(figures, ("spectrogram", fmax, unit, bool(title)), lambda: _spectrogram_build(fmax, unit, title), lambda p: _spectrogram_fill(p, image, title), path, overwrite)
+    return _draw(kept, ("spectrogram", fmax, unit, bool(title)), lambda: _spectrogram_build(fmax, unit, title), lambda p: _spectrogram_fill(p, image, title), path, overwrite)
 
 
 def overlay_png(f, curves, passives) -> bytes:

@@ -214,7 +214,7 @@ def render_design(design: Design, dry_path: Path, settings: RenderSettings, *, d
     return render_clip(design, signal, hum=settings.hum, noise=settings.noise, passive=settings.passive, seed=settings.seed, resampler=resampler)
 
 
-def _render_one(args: tuple, figures: Any = None, resampler: Any = None) -> Clip:
+def _render_one(args: tuple, kept: Any = None, resampler: Any = None) -> Clip:
     """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel)."""
     design, dry_path, settings, (plot_to, signal) = args
     clip = render_design(design, dry_path, settings, dry=signal, resampler=resampler)
@@ -222,7 +222,7 @@ def _render_one(args: tuple, figures: Any = None, resampler: Any = None) -> Clip
         from ..report.clips import write_clip_plots
 
         folder, stem = plot_to
-        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate, figures=figures)
+        write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate, kept=kept)
     # the op-amp output is not sent back: the run needs only its extremes, already in the stats
     return replace(clip, amp_out=None)
 
@@ -238,8 +238,8 @@ def _render_batch(batch: list[tuple]) -> list[Clip]:
         return [_render_one(args, resampler=resampler) for args in batch]
     from ..report.plots import KeptFigures
 
-    with KeptFigures() as figures:
-        return [_render_one(args, figures, resampler) for args in batch]
+    with KeptFigures() as kept:
+        return [_render_one(args, kept, resampler) for args in batch]
 
 
 def split_runs(n: int, jobs: int, *, most: int = BATCH_MOST) -> list[range]:

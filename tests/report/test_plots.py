@@ -27,13 +27,13 @@ def _design_like(k):
     return h, x, ff, lv
 
 
-def _draw_all(folder, figures):
+def _draw_all(folder, kept_figures):
     folder.mkdir()
     for k in range(3):
         h, x, ff, lv = _design_like(k)
-        plots.response_plot(folder / f"{k}-r.png", F, [(f"design {k}" * (k + 1), h)], passive=("passive reference", 0.7 * h), title=f"design {k}", overwrite=True, figures=figures)
-        plots.spectrum_plot(folder / f"{k}-s.png", [(f"design {k}", ff, lv + 3 * k, False), ("passive reference", ff, lv - 3, True)], title=f"spectrum {k}", overwrite=True, figures=figures)
-        plots.spectrogram_plot(folder / f"{k}-g.png", x, sample_rate=16000 * (1 + k % 2), title=f"spectrogram {k}", overwrite=True, figures=figures)
+        plots.response_plot(folder / f"{k}-r.png", F, [(f"design {k}" * (k + 1), h)], passive=("passive reference", 0.7 * h), title=f"design {k}", overwrite=True, kept=kept_figures)
+        plots.spectrum_plot(folder / f"{k}-s.png", [(f"design {k}", ff, lv + 3 * k, False), ("passive reference", ff, lv - 3, True)], title=f"spectrum {k}", overwrite=True, kept=kept_figures)
+        plots.spectrogram_plot(folder / f"{k}-g.png", x, sample_rate=16000 * (1 + k % 2), title=f"spectrogram {k}", overwrite=True, kept=kept_figures)
     return {p.name: p.read_bytes() for p in folder.iterdir()}
 
 
