@@ -33,7 +33,7 @@ def density(frames: np.ndarray, window: np.ndarray, *, sample_rate: float) -> np
     -------
     np.ndarray [shape=(k, n // 2 + 1)], units²/Hz
     """
-    p = np.abs(np.fft.rfft(frames * window, axis=-1)) ** 2 / (sample_rate * np.sum(window**2))
+    p = np.abs(np.fft.rfft(frames * window, axis=-1)) ** 2 * (1.0 / (sample_rate * np.sum(window**2)))
     p[..., 1 : (frames.shape[-1] + 1) // 2] *= 2.0  # every bin but DC (and Nyquist for an even length) counts twice
     return p
 

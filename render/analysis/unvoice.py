@@ -54,6 +54,8 @@ from typing import Any
 
 import numpy as np
 
+from .spectrum import density, periodic_hann
+
 REFERENCE_HZ = 1000.0  # the passband reference of the inverse (the same 1 kHz as level_1k_db)
 LOW_HZ = 20.0  # the high-pass taper's corner: the bottom of the audio band (common practice, no source)
 MAX_BOOST_DB = 20.0  # default: the inverse boosts at most this much above its level at 1 kHz
@@ -158,8 +160,7 @@ class SpectrumAccumulator:
         self.frame = stats_frame(self.sample_rate)
         self.hop = self.frame // 2
         self.percentile = float(percentile)
-        self.window = np.hanning(self.frame + 1)[:-1]  # periodic Hann
-        self._scale = 1.0 / (self.sample_rate * np.sum(self.window**2))
+        self.window = periodic_hann(self.frame)
         self.frequency_hz = np.fft.rfftfreq(self.frame, 1.0 / self.sample_rate)
         self.band_hz = band_centres(sample_rate=self.sample_rate)
         self._m = band_matrix(self.frequency_hz, self.band_hz, bands_per_octave=BANDS_PER_OCTAVE)
@@ -195,8 +196,7 @@ class SpectrumAccumulator:
         frames = frames[loud]
         if not frames.shape[0]:
             return
-        p = np.abs(np.fft.rfft(frames * self.window, axis=1)) ** 2 * self._scale
-        p[:, 1:-1] *= 2.0  # one-sided density
+        p = density(frames, self.window, sample_rate=self.sample_rate)
         sums["psd"] += p.sum(axis=0)
         bands = p @ self._m.T  # (frames, J)
         sums["band"] += bands.sum(axis=0)
