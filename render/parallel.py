@@ -1,33 +1,90 @@
-"""Work in several processes with results identical to one.
+"""Work in several processes with results identical to one, and no process left behind.
 
-Each worker ignores Ctrl-C (the parent stops the pool) and limits its BLAS
-to one thread: with N processes on N cores,
-BLAS threads of their own only fight over the cores (seen here: two
-processes with two OpenBLAS threads each ran ten times slower than one).
+Each worker
+- limits its BLAS to one thread: with N processes on N cores, BLAS threads of
+  their own only fight over the cores (seen here: two processes with two
+  OpenBLAS threads each ran ten times slower than one); the serial path does
+  the same, so results do not depend on ``--jobs`` or the core count;
+- ignores Ctrl-C, which a terminal sends to the whole process group: the
+  parent stops the pool;
+- dies with its parent: on Linux the kernel sends it SIGKILL when the parent
+  dies (``prctl(PR_SET_PDEATHSIG)``); elsewhere a watcher thread notices
+  within half a second. A parent killed outright (SIGKILL, a power cut)
+  therefore leaves no worker rendering on.
+
+When the parent is stopped (Ctrl-C, SIGTERM, SIGHUP: see :mod:`render.cli`)
+or a task fails, the pool is terminated at once rather than left to finish
+its running tasks. Files are written under temporary names and renamed when
+whole (:mod:`render.io.atomic`), so a worker stopped mid-file leaves at most
+a ``.tmp-*`` file, never a partial file under a final name.
 """
 
 from __future__ import annotations
 
+import os
+import signal
+import threading
+import time
+from collections.abc import Callable, Iterable
+from typing import Any
 
-def _worker_init():
-    """One BLAS thread, and Ctrl-C left to the parent (which stops the pool cleanly)."""
-    import signal
+PR_SET_PDEATHSIG = 1  # linux/prctl.h
+WATCH_SECONDS = 0.5  # how often a worker without PR_SET_PDEATHSIG looks for its parent
 
+
+def _die_with_parent(parent_pid: int) -> None:
+    """Make this process end when ``parent_pid`` does (at once on Linux, within WATCH_SECONDS elsewhere)."""
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        if libc.prctl(PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0) != 0:
+            raise OSError(ctypes.get_errno(), "prctl")
+    except (OSError, AttributeError):
+
+        def watch() -> None:
+            while os.getppid() == parent_pid:
+                time.sleep(WATCH_SECONDS)
+            os._exit(1)
+
+        threading.Thread(target=watch, name="render-parent-watch", daemon=True).start()
+    if os.getppid() != parent_pid:  # the parent died before the request took effect
+        os._exit(1)
+
+
+def _worker_init(parent_pid: int) -> None:
+    """One BLAS thread, Ctrl-C left to the parent, SIGTERM and SIGHUP fatal, death with the parent."""
     from threadpoolctl import threadpool_limits
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    signal.signal(signal.SIGHUP, signal.SIG_DFL)
+    _die_with_parent(parent_pid)
     threadpool_limits(1)
 
 
-def pmap(fn, tasks, jobs: int = 1, *, on_done=None):
+def _pool(processes: int):
+    import multiprocessing
+
+    # fork: the workers share what the parent has imported (scipy.signal, matplotlib: about a second)
+    return multiprocessing.get_context("fork").Pool(processes, initializer=_worker_init, initargs=(os.getpid(),))
+
+
+def _indexed(args: tuple) -> tuple[int, Any]:
+    fn, i, task = args
+    return i, fn(task)
+
+
+def pmap(fn: Callable[[Any], Any], tasks: Iterable[Any], jobs: int = 1, *, on_done: Callable[[Any], None] | None = None) -> list[Any]:
     """``[fn(t) for t in tasks]``, in ``jobs`` processes when more than one; results in order.
 
-    ``on_done`` (optional) is called with each finished task's result, for progress.
+    ``fn`` must be a module-level function. ``on_done`` (optional) is called
+    with each finished task's result, in the order they finish, for progress.
     """
+    from threadpoolctl import threadpool_limits
+
     tasks = list(tasks)
     if jobs <= 1 or len(tasks) <= 1:
-        from threadpoolctl import threadpool_limits
-
         # one BLAS thread here too: a multi-threaded BLAS sums in another order, and the
         # results must not depend on --jobs or on the machine's core count
         out = []
@@ -43,29 +100,45 @@ def pmap(fn, tasks, jobs: int = 1, *, on_done=None):
     # skip it and do not touch (and so copy) its pages; the parent unfreezes once the pool is done
     gc.freeze()
     try:
-        return _pool_map(fn, tasks, jobs, on_done)
+        return _pool_map(fn, tasks, min(jobs, len(tasks)), on_done)
     finally:
         gc.unfreeze()
 
 
-def _pool_map(fn, tasks, jobs, on_done):
-    from concurrent.futures import ProcessPoolExecutor, as_completed
-
-    results = [None] * len(tasks)
-    pool = ProcessPoolExecutor(max_workers=jobs, initializer=_worker_init)
+def _pool_map(fn: Callable[[Any], Any], tasks: list[Any], jobs: int, on_done: Callable[[Any], None] | None) -> list[Any]:
+    results: list[Any] = [None] * len(tasks)
+    pool = _pool(jobs)
     try:
-        futs = {pool.submit(fn, t): i for i, t in enumerate(tasks)}
-        for fut in as_completed(futs):
-            results[futs[fut]] = fut.result()
+        for i, value in pool.imap_unordered(_indexed, [(fn, i, t) for i, t in enumerate(tasks)]):
+            results[i] = value
             if on_done:
-                on_done(results[futs[fut]])
+                on_done(value)
     except BaseException:
-        # Ctrl-C or a failed task: drop what has not started, let the running tasks end
-        # (their files are written whole or not at all), and leave no worker behind
-        pool.shutdown(wait=True, cancel_futures=True)
+        # a stop (Ctrl-C, SIGTERM, SIGHUP) or a failed task: end every worker now
+        pool.terminate()
+        pool.join()
         raise
-    pool.shutdown(wait=True)
+    pool.close()
+    pool.join()
     return results
+
+
+class _Done:
+    """The result of work done here and now, with the same ``result()`` as a pool's."""
+
+    def __init__(self, value: Any):
+        self._value = value
+
+    def result(self) -> Any:
+        return self._value
+
+
+class _Pending:
+    def __init__(self, handle: Any):
+        self._handle = handle
+
+    def result(self) -> Any:
+        return self._handle.get()
 
 
 class SideProcess:
@@ -74,30 +147,26 @@ class SideProcess:
     For work that needs only light imports (numpy), to run on the other core
     while this process imports the heavy modules (scipy.signal, matplotlib:
     about a second, seen here) before it forks its workers. ``submit(fn, *args)``
-    returns a future either way. Leaving the ``with`` block stops the process,
-    dropping work not yet started.
+    returns an object whose ``result()`` gives the value either way. Leaving
+    the ``with`` block ends the process: normally after its work, at once
+    when the block is left by an exception (a stop included).
     """
 
     def __init__(self, enabled: bool = True):
-        self._pool = None
-        if enabled:
-            from concurrent.futures import ProcessPoolExecutor
+        self._pool = _pool(1) if enabled else None
 
-            self._pool = ProcessPoolExecutor(max_workers=1, initializer=_worker_init)
-
-    def submit(self, fn, *args):
+    def submit(self, fn: Callable[..., Any], *args: Any) -> _Done | _Pending:
         if self._pool is not None:
-            return self._pool.submit(fn, *args)
-        from concurrent.futures import Future
+            return _Pending(self._pool.apply_async(fn, args))
+        return _Done(fn(*args))
 
-        fut = Future()
-        fut.set_result(fn(*args))
-        return fut
-
-    def __enter__(self):
+    def __enter__(self) -> SideProcess:
         return self
 
-    def __exit__(self, *exc):
+    def __exit__(self, kind: Any, *exc: Any) -> None:
         if self._pool is not None:
-            self._pool.shutdown(wait=True, cancel_futures=True)
-        return False
+            if kind is None:
+                self._pool.close()
+            else:
+                self._pool.terminate()
+            self._pool.join()

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import importlib
 import os
+import signal
 import sys
 
 import click
@@ -30,6 +31,21 @@ COMMANDS = {
     "fit": ("render.cli.fit", "fit_command", "Search buyable part values that meet stated aims."),
     "hum": ("render.cli.hum", "hum_command", "Hum cancellation per mains harmonic, with a tolerance Monte Carlo."),
 }
+
+
+class Stopped(KeyboardInterrupt):
+    """SIGTERM (a supervisor, ``timeout``) or SIGHUP (a closed terminal): handled as Ctrl-C is."""
+
+
+_stopping = False
+
+
+def _stop(signum: int, frame: object) -> None:
+    """The first SIGTERM or SIGHUP stops the run as Ctrl-C does; more of them wait for its clean-up."""
+    global _stopping
+    if not _stopping:
+        _stopping = True
+        raise Stopped(signal.Signals(signum).name)
 
 
 def _interrupted(exc: BaseException | None) -> bool:
@@ -90,6 +106,8 @@ def run():
     """
     import gc
 
+    signal.signal(signal.SIGTERM, _stop)
+    signal.signal(signal.SIGHUP, _stop)
     try:
         main()
     except SystemExit as exc:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import contextlib
+
 import click
 
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
@@ -82,7 +84,7 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
     from ..analysis.hum import hum, monte_carlo
     from ..design import load_designs
     from ..errors import InputError
-    from ..io.folders import make_folder, output_folder, refuse_existing
+    from ..io.folders import output_folder, refuse_existing, run_folder
 
     refuse_existing([json_path, png_path, hist_path], overwrite=overwrite)
     tol = {}
@@ -95,33 +97,34 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
     if hist_path and not tol:
         raise InputError("--histogram needs a Monte Carlo: add --tolerance (e.g. --tolerance 1%)")
     designs, _ = load_designs(models, rig=rig_path)
-    out = make_folder(output_folder(out_dir, overwrite=overwrite)) if out_dir else None
-    show = json_path != "-"
-    records = []
-    for i, d in enumerate(designs):
-        r = hum(d)
-        rec = {"file": d.source, "design": d.name, **r.as_dict()}
-        if show:
-            if i:
-                click.echo()
-            print_report(d, r)
-        if out is not None:
-            from ..runs.hum import write_hum_audio
-
-            audio = write_hum_audio(out, d)
-            rec["measured"] = audio.as_dict()
+    folder = output_folder(out_dir, overwrite=overwrite) if out_dir else None
+    with run_folder(folder) if folder is not None else contextlib.nullcontext(None) as out:
+        show = json_path != "-"
+        records = []
+        for i, d in enumerate(designs):
+            r = hum(d)
+            rec = {"file": d.source, "design": d.name, **r.as_dict()}
             if show:
-                print_audio(audio, [h.rejection_db for h in r.harmonics])
-        if tol:
-            mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
-            rec["monte_carlo"] = mc.as_dict()
-            if show:
-                print_monte_carlo(mc)
-            if hist_path and i == 0:
-                from ..report.plots import histogram_plot
+                if i:
+                    click.echo()
+                print_report(d, r)
+            if out is not None:
+                from ..runs.hum import write_hum_audio
 
-                histogram_plot(hist_path, mc.rejection_db[:, 0], xlabel=f"hum rejection at {mc.frequency_hz[0]:g} Hz (dB)", title=f"{d.name}: {trials} trials", overwrite=overwrite)
-        records.append(rec)
+                audio = write_hum_audio(out, d)
+                rec["measured"] = audio.as_dict()
+                if show:
+                    print_audio(audio, [h.rejection_db for h in r.harmonics])
+            if tol:
+                mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
+                rec["monte_carlo"] = mc.as_dict()
+                if show:
+                    print_monte_carlo(mc)
+                if hist_path and i == 0:
+                    from ..report.plots import histogram_plot
+
+                    histogram_plot(hist_path, mc.rejection_db[:, 0], xlabel=f"hum rejection at {mc.frequency_hz[0]:g} Hz (dB)", title=f"{d.name}: {trials} trials", overwrite=overwrite)
+            records.append(rec)
     emit_json(json_path, records[0] if len(records) == 1 else {"designs": records}, overwrite=overwrite)
     if png_path:
         from ..report.plots import hum_rejection_plot

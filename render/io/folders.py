@@ -6,8 +6,9 @@ refused run touches nothing.
 
 from __future__ import annotations
 
+import contextlib
 import time
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 from pathlib import Path
 
 from ..errors import InputError
@@ -56,3 +57,43 @@ def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = 
     if out.exists() and any(out.iterdir()) and not overwrite:
         raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite to replace its files or choose another folder")
     return out
+
+
+INCOMPLETE = "INCOMPLETE.txt"  # marks a run folder whose run has not finished (or was stopped)
+INCOMPLETE_TEXT = (
+    "This run has not finished: it is still running, or it was stopped (Ctrl-C, SIGTERM, SIGHUP, a kill).\n"
+    "Every file in this folder is whole, but some may be missing. Run the command again with --overwrite.\n"
+)
+
+
+@contextlib.contextmanager
+def run_folder(path: str | Path) -> Iterator[Path]:
+    """Create a run's folder, marked incomplete (``INCOMPLETE.txt``) until the body finishes.
+
+    The marker is written first and removed last, so a folder without it holds
+    a finished run, whatever stopped the process (even SIGKILL). When the body
+    is left by an exception (a refusal, a stop), the ``.tmp-*`` files that
+    stopped workers left behind are removed; a folder with nothing else in it
+    goes too (the marker, and the folder if this run made it), otherwise the
+    marker stays.
+    """
+    from .atomic import fsync_folder, write_text
+
+    made = not Path(path).exists()
+    folder = make_folder(path)
+    marker = folder / INCOMPLETE
+    write_text(marker, INCOMPLETE_TEXT, overwrite=True)
+    try:
+        yield folder
+    except BaseException:
+        for leftover in folder.glob(".tmp-*"):
+            with contextlib.suppress(OSError):
+                leftover.unlink()
+        if not [p for p in folder.iterdir() if p.name != INCOMPLETE]:
+            with contextlib.suppress(OSError):
+                marker.unlink()
+                if made:
+                    folder.rmdir()
+        raise
+    marker.unlink()
+    fsync_folder(folder)

@@ -72,27 +72,27 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
     """
     from ..analysis.loudness import integrated_loudness
     from ..clip import RenderSettings
-    from ..io.folders import make_folder
+    from ..io.folders import run_folder
     from ..io.wav import write_float_wav
     from ..parallel import pmap
     from .clips import choose_full_scale
 
-    make_folder(out)
-    design = sweep.design
-    st = RenderSettings(seconds=seconds, seed=seed, hum=True)
-    renders = pmap(_clip, [(s.design, dry, st, strength_m) for s in sweep.settings], jobs)
-    vfs = choose_full_scale([np.abs(x).max() for x in renders])
-    stem = Path(design.source).stem
-    clips = []
-    for s, x in zip(sweep.settings, renders):
-        tag = f"r{s.ratio:.3f}-{s.battery:g}V".replace(".", "p")
-        write_float_wav(out / f"{stem}-{tag}.wav", x / vfs, st.sample_rate, overwrite=True)
-        lufs = integrated_loudness(x, sample_rate=st.sample_rate)
-        gain_db = None if lufs is None else target_lufs - lufs
-        if gain_db is not None:
-            write_float_wav(out / f"{stem}-{tag}-matched.wav", x * 10 ** (gain_db / 20), st.sample_rate, overwrite=True)
-        clips.append({"file": f"{stem}-{tag}.wav", "volts_full_scale": vfs, "loudness_lufs_1v_full_scale": lufs, "matched_gain_db": gain_db, "peak_v": float(np.abs(x).max())})
-    from ..report.plots import bias_plots
+    with run_folder(out):
+        design = sweep.design
+        st = RenderSettings(seconds=seconds, seed=seed, hum=True)
+        renders = pmap(_clip, [(s.design, dry, st, strength_m) for s in sweep.settings], jobs)
+        vfs = choose_full_scale([np.abs(x).max() for x in renders])
+        stem = Path(design.source).stem
+        clips = []
+        for s, x in zip(sweep.settings, renders):
+            tag = f"r{s.ratio:.3f}-{s.battery:g}V".replace(".", "p")
+            write_float_wav(out / f"{stem}-{tag}.wav", x / vfs, st.sample_rate, overwrite=True)
+            lufs = integrated_loudness(x, sample_rate=st.sample_rate)
+            gain_db = None if lufs is None else target_lufs - lufs
+            if gain_db is not None:
+                write_float_wav(out / f"{stem}-{tag}-matched.wav", x * 10 ** (gain_db / 20), st.sample_rate, overwrite=True)
+            clips.append({"file": f"{stem}-{tag}.wav", "volts_full_scale": vfs, "loudness_lufs_1v_full_scale": lufs, "matched_gain_db": gain_db, "peak_v": float(np.abs(x).max())})
+        from ..report.plots import bias_plots
 
-    bias_plots(out, design, sweep.settings, sweep.rows)
-    return BiasClips(folder=out, clips=tuple(clips), record={"dry": str(dry), "strength_m": strength_m, "seed": seed, "target_lufs": target_lufs, "volts_full_scale": vfs})
+        bias_plots(out, design, sweep.settings, sweep.rows)
+        return BiasClips(folder=out, clips=tuple(clips), record={"dry": str(dry), "strength_m": strength_m, "seed": seed, "target_lufs": target_lufs, "volts_full_scale": vfs})

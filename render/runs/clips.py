@@ -327,7 +327,7 @@ def run_clips(
     progress : callable or None
         Called with the number of designs done, as they finish.
     """
-    from ..io.folders import make_folder
+    from ..io.folders import run_folder
     from ..parallel import SideProcess
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
     from ..report.records import clip_record
@@ -335,48 +335,47 @@ def run_clips(
     stems = [Path(d.source).stem for d in designs]
     rig_record = _rig_record(rig)
     rig_text = rig.source if rig else "each design's own"
-    if dry.suffix.lower() != ".toml":
-        from ..dry.recorded import recorded_seconds
+    with run_folder(out):
+        if dry.suffix.lower() != ".toml":
+            from ..dry.recorded import recorded_seconds
 
-        length = settings.seconds if settings.seconds is not None else recorded_seconds(dry)
-        if length > LONG_SECONDS:
-            vfs = volts_full_scale or window_full_scale(designs)
-            make_folder(out)
-            kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(d.rig)}, plots=plots) for stem, d in zip(stems, designs)]
-            records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots, progress=progress)
-            write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
-            warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
-            return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings)
-    make_folder(out)
-    # designs that sense the string at the same points share one synthesised dry signal; with
-    # workers, a side process makes those, then draws the plots that need no render (every
-    # S-response.png and responses.png), while this one imports the heavy modules the workers share
-    firsts: dict[tuple, Design] = {}
-    for d in designs:
-        firsts.setdefault(sensing_key(d), d)
-    parallel = jobs > 1 and len(designs) > 1
-    if parallel and plots:
-        from ..report.plots import pyplot
+            length = settings.seconds if settings.seconds is not None else recorded_seconds(dry)
+            if length > LONG_SECONDS:
+                vfs = volts_full_scale or window_full_scale(designs)
+                kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(d.rig)}, plots=plots) for stem, d in zip(stems, designs)]
+                records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots, progress=progress)
+                write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
+                warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
+                return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings)
+        # designs that sense the string at the same points share one synthesised dry signal; with
+        # workers, a side process makes those, then draws the plots that need no render (every
+        # S-response.png and responses.png), while this one imports the heavy modules the workers share
+        firsts: dict[tuple, Design] = {}
+        for d in designs:
+            firsts.setdefault(sensing_key(d), d)
+        parallel = jobs > 1 and len(designs) > 1
+        if parallel and plots:
+            from ..report.plots import pyplot
 
-        pyplot()  # matplotlib first: the side process forks with it, rather than importing it again
-    with SideProcess(enabled=parallel) as side:
-        pending = {key: side.submit(dry_for, d, dry, settings) for key, d in firsts.items()}
-        drawing = side.submit(write_design_only_plots, out, stems, designs) if plots else None
-        if parallel:
-            import_for_workers(plots)
-        shared = {key: fut.result() for key, fut in pending.items()}
-        clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)], plots=plots, progress=progress)
-        if drawing is not None:
-            drawing.result()
-    peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
-    vfs = volts_full_scale or choose_full_scale(peaks)
-    records = []
-    for stem, clip in zip(stems, clips):
-        rec = clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry)
-        records.append(rec)
-        write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
-    write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
-    over = tuple(c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs)
-    seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
-    warnings = tuple(f"{c.design.name}: {w}" for c in clips for w in c.warnings)
-    return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=False, seconds=seconds, warnings=warnings, over_full_scale=over)
+            pyplot()  # matplotlib first: the side process forks with it, rather than importing it again
+        with SideProcess(enabled=parallel) as side:
+            pending = {key: side.submit(dry_for, d, dry, settings) for key, d in firsts.items()}
+            drawing = side.submit(write_design_only_plots, out, stems, designs) if plots else None
+            if parallel:
+                import_for_workers(plots)
+            shared = {key: fut.result() for key, fut in pending.items()}
+            clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)], plots=plots, progress=progress)
+            if drawing is not None:
+                drawing.result()
+        peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
+        vfs = volts_full_scale or choose_full_scale(peaks)
+        records = []
+        for stem, clip in zip(stems, clips):
+            rec = clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry)
+            records.append(rec)
+            write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
+        write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
+        over = tuple(c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs)
+        seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
+        warnings = tuple(f"{c.design.name}: {w}" for c in clips for w in c.warnings)
+        return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=False, seconds=seconds, warnings=warnings, over_full_scale=over)

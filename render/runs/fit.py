@@ -80,7 +80,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
     from ..analysis.fit import conflicts, format_value, load_fit, rewrite, run_fit
     from ..design import apply_rig, load_design, load_rig, parse_design
     from ..io.atomic import write_json, write_text
-    from ..io.folders import make_folder
+    from ..io.folders import run_folder
     from ..io.toml import loads
 
     fitfile = Path(fitfile)
@@ -93,24 +93,24 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
         best = f" (best score {results[0].score:.3g})" if results else ""
         raise InputError(f"{fitfile}: no design met every aim{best}; {conflicts(spec, ev)}")
     start_fig = figures([start])[0]
-    make_folder(out)
-    text = start_file.read_text(encoding="utf-8")
-    records, written = [], []
-    for rank, r in enumerate(results, 1):
-        changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]
-        summary = ", ".join(f"{fr.name} {format_value(fr, s) if s is not None else 'absent'} → {format_value(fr, v)}" for fr, v, s in changes) or "nothing"
-        header = (
-            f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
-            f"# changed: {summary}\n# score {r.score:.3g} ({'meets every aim' if r.meets else 'misses an aim'})\n"
-        )
-        path = Path(out) / f"{start_file.stem}-fit-{rank}.toml"
-        body = rewrite(text, changes, header, name=path.stem)
-        parse_design(loads(body), source=str(path), name=path.stem)  # the written file must be a valid design
-        write_text(path, body, overwrite=True)
-        written.append(path)
-        records.append({"file": str(path), "score": r.score, "meets": r.meets, "changed_parts": r.changed, "figures": {k: v for k, v in r.figures.items() if k != "passive"}, "changes": {fr.name: v for fr, v, _ in changes}})
-    write_json(Path(out) / "fit.json", {"fit_file": str(fitfile), "start": str(start_file), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records}, overwrite=True)
-    from ..report.plots import fit_plot
+    with run_folder(out):
+        text = start_file.read_text(encoding="utf-8")
+        records, written = [], []
+        for rank, r in enumerate(results, 1):
+            changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]
+            summary = ", ".join(f"{fr.name} {format_value(fr, s) if s is not None else 'absent'} → {format_value(fr, v)}" for fr, v, s in changes) or "nothing"
+            header = (
+                f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
+                f"# changed: {summary}\n# score {r.score:.3g} ({'meets every aim' if r.meets else 'misses an aim'})\n"
+            )
+            path = Path(out) / f"{start_file.stem}-fit-{rank}.toml"
+            body = rewrite(text, changes, header, name=path.stem)
+            parse_design(loads(body), source=str(path), name=path.stem)  # the written file must be a valid design
+            write_text(path, body, overwrite=True)
+            written.append(path)
+            records.append({"file": str(path), "score": r.score, "meets": r.meets, "changed_parts": r.changed, "figures": {k: v for k, v in r.figures.items() if k != "passive"}, "changes": {fr.name: v for fr, v, _ in changes}})
+        write_json(Path(out) / "fit.json", {"fit_file": str(fitfile), "start": str(start_file), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records}, overwrite=True)
+        from ..report.plots import fit_plot
 
-    fit_plot(Path(out) / "fit-responses.png", [start] + [apply_rig(load_design(p), rig_file) for p in written], title=f"render fit: {fitfile.name}")
-    return FitRun(spec=spec, start=start, start_file=start_file, start_figures=start_fig, start_values=start_vals, results=tuple(results), files=tuple(written), folder=Path(out))
+        fit_plot(Path(out) / "fit-responses.png", [start] + [apply_rig(load_design(p), rig_file) for p in written], title=f"render fit: {fitfile.name}")
+        return FitRun(spec=spec, start=start, start_file=start_file, start_figures=start_fig, start_values=start_vals, results=tuple(results), files=tuple(written), folder=Path(out))

@@ -1,0 +1,161 @@
+"""A stopped run leaves no process and no partial file: SIGTERM, SIGHUP and SIGKILL, each sent two ways.
+
+To the parent alone, as a supervisor or ``timeout`` does, and to the whole
+process group, as a closed terminal does. The runs: ``render clips`` and
+``render bias`` (worker processes and a side process), ``render hum
+--tolerance --jobs 2`` (a Monte Carlo in workers) and ``render listen`` (a
+server). Five seconds after the signal no process of the run may be left; no
+file under a final name may be partial; a folder left with final files in it
+is marked incomplete (``INCOMPLETE.txt``) unless the run finished.
+
+The contract is this project's own (README: "Stopping a run"); no outside source.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from .conftest import DARK, ODD, PHRASE, REF, ROOT, check_outputs
+
+GRACE_S = 5.0  # after the signal, every process of the run must be gone by then
+SIGNALS = (signal.SIGTERM, signal.SIGHUP, signal.SIGKILL)
+WAYS = ("parent", "group")
+
+
+def _start(args, cwd=ROOT):
+    env = {**os.environ, "MPLBACKEND": "Agg"}
+    return subprocess.Popen([sys.executable, "-m", "render", *map(str, args)], cwd=cwd, env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+
+
+def _group_alive(pgid: int) -> bool:
+    """Whether any live (not zombie) process is left in the group."""
+    for proc_dir in Path("/proc").iterdir():
+        if not proc_dir.name.isdigit():
+            continue
+        try:
+            stat = (proc_dir / "stat").read_text()
+        except OSError:
+            continue
+        fields = stat[stat.rindex(")") + 2 :].split()
+        state, group = fields[0], int(fields[2])
+        if group == pgid and state != "Z":
+            return True
+    return False
+
+
+def _kill_group(pgid: int) -> None:
+    with contextlib.suppress(ProcessLookupError):
+        os.killpg(pgid, signal.SIGKILL)
+
+
+def _stop_and_watch(proc, sig, way):
+    """Send ``sig`` (to the parent, or to the group), then wait up to GRACE_S for every process of the run to go."""
+    pgid = proc.pid
+    try:
+        if way == "parent":
+            proc.send_signal(sig)
+        else:
+            os.killpg(pgid, sig)
+        began = time.monotonic()
+        with contextlib.suppress(subprocess.TimeoutExpired):
+            proc.wait(timeout=GRACE_S)
+        while _group_alive(pgid) and time.monotonic() - began < GRACE_S:
+            time.sleep(0.05)
+        left = _group_alive(pgid)
+        out, err = proc.communicate(timeout=30) if proc.poll() is not None else ("", "")
+        return left, proc.returncode, err
+    finally:
+        _kill_group(pgid)
+        with contextlib.suppress(Exception):
+            proc.communicate(timeout=30)
+
+
+def _wait_for(cond, seconds=60.0):
+    deadline = time.monotonic() + seconds
+    while time.monotonic() < deadline:
+        if cond():
+            return True
+        time.sleep(0.01)
+    return False
+
+
+def _check_folder(out: Path, finished: bool) -> None:
+    if not out.exists():
+        return
+    names = check_outputs(out)  # every final name reads whole
+    if names and not finished:
+        assert "INCOMPLETE.txt" in names, names
+    if finished:
+        assert "INCOMPLETE.txt" not in names, names
+
+
+def _expect_code(code, sig):
+    if sig == signal.SIGKILL:
+        return code in (-signal.SIGKILL, 0)
+    return code in (1, 0)  # stopped and reported as Ctrl-C is (exit 1), or finished just before
+
+
+RUNS = {
+    "clips": lambda out: ["clips", REF, ODD, DARK, "--dry", PHRASE, "--seconds", "3", "--out", out, "--jobs", "2"],
+    "bias": lambda out: ["bias", REF, "--ratios", "0.3,0.4,0.5,0.6,0.7", "--battery", "9,7", "--seconds", "2", "--jobs", "2", "--out", out],
+    "hum": lambda out: ["hum", ODD, "--tolerance", "1%", "--trials", "1000000", "--jobs", "2", "--out", out],
+}
+
+
+@pytest.mark.parametrize("way", WAYS)
+@pytest.mark.parametrize("sig", SIGNALS, ids=[s.name for s in SIGNALS])
+@pytest.mark.parametrize("command", sorted(RUNS))
+def test_a_stopped_run_leaves_no_process_and_no_partial_file(tmp_path, command, sig, way):
+    out = tmp_path / "run"
+    proc = _start(RUNS[command](out))
+    # stop it once its folder exists and holds something (the work is under way)
+    _wait_for(lambda: proc.poll() is not None or (out.exists() and any(out.iterdir())))
+    time.sleep(0.2)
+    finished_early = proc.poll() == 0
+    left, code, err = _stop_and_watch(proc, sig, way)
+    assert not left, f"processes of `render {command}` still alive {GRACE_S} s after {sig.name} to the {way}"
+    assert _expect_code(code, sig), (code, err)
+    if sig != signal.SIGKILL and code == 1:
+        assert "Aborted!" in err and "Traceback" not in err, err
+    _check_folder(out, finished=finished_early or code == 0)
+
+
+@pytest.mark.parametrize("way", WAYS)
+@pytest.mark.parametrize("sig", SIGNALS, ids=[s.name for s in SIGNALS])
+def test_a_stopped_listening_server_leaves_no_process(make_session, sig, way):
+    paths = make_session(method="abx", trials=3)
+    proc = _start(["listen", paths.root, "--no-browser", "--port", "0"])
+    assert _wait_for(lambda: (paths.root / "public").exists()) and proc.poll() is None
+    time.sleep(0.5)  # serving
+    left, code, err = _stop_and_watch(proc, sig, way)
+    assert not left, f"`render listen` still alive {GRACE_S} s after {sig.name} to the {way}"
+    if sig == signal.SIGKILL:
+        assert code == -signal.SIGKILL
+    else:
+        assert code == 0 and "Traceback" not in err, (code, err)  # the server stops as on Ctrl-C and says so
+
+
+def test_workers_die_with_a_killed_parent(tmp_path):
+    """SIGKILL to the parent alone: its workers notice at once (PR_SET_PDEATHSIG) and publish nothing more."""
+    out = tmp_path / "run"
+    proc = _start(RUNS["clips"](out))
+    assert _wait_for(lambda: out.exists() and any(out.iterdir()))
+    pgid = proc.pid
+    try:
+        proc.kill()
+        proc.wait(timeout=10)
+        assert _wait_for(lambda: not _group_alive(pgid), seconds=2.0), "a worker outlived its killed parent by 2 s"
+        before = sorted(p.name for p in out.iterdir())
+        time.sleep(1.0)
+        assert sorted(p.name for p in out.iterdir()) == before  # nothing published after the kill
+        _check_folder(out, finished=False)
+    finally:
+        _kill_group(pgid)
