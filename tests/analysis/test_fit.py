@@ -5,7 +5,6 @@ import math
 from pathlib import Path
 
 import pytest
-import tomllib
 from click.testing import CliRunner
 from spice import active_netlist, run_ac
 
@@ -13,6 +12,7 @@ from render.analysis.figures import db, response_figures
 from render.cli import main
 from render.design import load_design, parse_design
 from render.eseries import E6, E12, E24, E48, E96, nearest, values_between
+from render.io import toml as tomllib  # the standard library parser, or tomli on Python 3.10
 
 ROOT = Path(__file__).resolve().parents[2]
 REF = ROOT / "models" / "studio-reference.toml"

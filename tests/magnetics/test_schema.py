@@ -2,10 +2,10 @@
 
 import numpy as np
 import pytest
-import tomllib
 
 from render.design import Winding
 from render.errors import InputError
+from render.io import toml as tomllib  # the standard library parser, or tomli on Python 3.10
 from render.magnetics.schema import read_geometry, read_sources
 
 GEOMETRY_TOML = """

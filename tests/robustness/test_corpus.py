@@ -10,10 +10,10 @@ from __future__ import annotations
 import os
 
 import pytest
-import tomllib
 
 from render.design import load_design
 from render.dry.phrase import MAX_PHRASE_BYTES
+from render.io import toml as tomllib  # the standard library parser, or tomli on Python 3.10
 from render.io.toml import MAX_FILE_BYTES
 
 from .conftest import CORPUS, REF, assert_refused, run

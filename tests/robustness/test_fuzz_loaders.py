@@ -15,13 +15,13 @@ import os
 import tempfile
 from pathlib import Path
 
-import tomllib
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from render.design import Design, RigFile, design_to_dict, load_design, load_rig, parse_design, parse_rig
 from render.dry.phrase import Phrase, load_phrase, parse_phrase
 from render.errors import InputError
+from render.io import toml as tomllib  # the standard library parser, or tomli on Python 3.10
 
 from .conftest import PHRASE, REF
 

@@ -10,13 +10,13 @@ import math
 
 import numpy as np
 import pytest
-import tomllib
 
 from render import units as U
 from render.chain.discretize import NEAR_UNSTABLE, pole_warnings, sos_pole_warnings
 from render.clip import RenderSettings as Settings
 from render.design import DESIGN_TABLES, parse_design
 from render.errors import InputError
+from render.io import toml as tomllib  # the standard library parser, or tomli on Python 3.10
 from render.io.wav import float_wav_bytes
 from render.runs.clips import render_design
 
