@@ -42,9 +42,15 @@ def test_five_percent_amplitude_mismatch_gives_26_db():
         assert row["rejection_db"] == pytest.approx(26.02, abs=0.01)
 
 
-def test_identical_sides_cancel_to_the_reporting_cap():
+def test_identical_sides_cancel_exactly_and_say_so():
+    # identical sides: V_A = -V_B to rounding, so the rejection max(|V_A|,|V_B|)/|V_A + V_B| is
+    # infinite (arithmetic): null with its reason, zero hum, and no signal-to-hum ratio
     t = hum_table(_symmetric())
-    assert t["harmonics"][0]["rejection_db"] > 150  # exact balance: the sum is rounding noise
+    for row in t["harmonics"]:
+        assert row["rejection_db"] is None and row["rejection_db_reason"] == "infinite: the coils' hum cancels exactly"
+        assert row["output_v"] == 0.0 and row["coil_a_v"] > 0
+    assert t["total_v_rms"] == 0.0
+    assert t["signal_to_hum_db"] is None and t["signal_to_hum_db_reason"] == "no hum: the coils cancel exactly"
 
 
 def test_monte_carlo_is_seeded_and_chunk_invariant():
