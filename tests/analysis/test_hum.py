@@ -109,14 +109,15 @@ def test_hum_cli_refusals(tmp_path, args, fragment):
 
 def test_time_domain_hum_render_agrees_with_the_exact_rejection(tmp_path):
     # the rejection measured from hum-only renders (dB/dt through the digital filters)
-    # must agree with the engine's exact figure within 0.5 dB at every harmonic
+    # must agree with the engine's exact figure within 0.01 dB at every harmonic, as the README
+    # states (measured when tightened: 0.0010 dB at most, in each of the three designs)
     from render.analysis.hum import measured_rejection
 
     for name in ("odd-pair", "split-voice", "studio-reference"):
         d = load_design(ROOT / "models" / f"{name}.toml")
         exact = np.array([r["rejection_db"] for r in hum_table(d)["harmonics"]])
         m = measured_rejection(d, seconds=2.0, settle=1.0)
-        assert np.max(np.abs(m["rejection_db"] - exact)) < 0.5, name
+        assert np.max(np.abs(m["rejection_db"] - exact)) < 0.01, name
 
 
 def test_hum_cli_writes_hum_only_wavs(tmp_path):
