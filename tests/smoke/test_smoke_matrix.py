@@ -15,7 +15,8 @@ README's refusal table documents; no exception may escape (CliRunner keeps it),
 and no numeric RuntimeWarning (a log of zero, 0/0) may reach the user. Every
 JSON file written must be strict JSON (no NaN or Infinity), and every figure
 written as null must carry its reason beside it (``<key>_reason``), the one
-convention the README documents. Printed output must not show ``nan`` or ``inf``.
+convention the README documents. Printed output and CSV files must not show
+``nan`` or ``inf``.
 
 The expectations are the README's own contract (no outside source): what a
 command refuses, and how an undefined figure is written.
@@ -159,6 +160,9 @@ def test_every_command_runs_on_the_design(design, tmp_path):
         run("score", tmp_path / "blind", "--json", tmp_path / "score.json")
     for path in sorted(tmp_path.rglob("*.json")):
         run.problems += check_json(path)
+    for path in sorted(tmp_path.rglob("*.csv")):  # an exactly zero response leaves its cells empty
+        if NUMBER_WORDS.search(path.read_text(encoding="utf-8")):
+            run.problems.append(f"{path.name}: holds nan or inf")
     assert not run.problems, "\n".join(run.problems)
 
 
