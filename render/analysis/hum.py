@@ -52,46 +52,58 @@ def hum_table(design, resp=None) -> dict:
     coil_b_v}), ``total_v_rms``, and the signal-to-hum ratio against the
     reference string signal.
     """
-    from .figures import coil_hum, rejection_db
+    from . import undefined as U
+    from .figures import REJECTION_CAP_DB, coil_hum, rejection_db, signal_cancels
 
     resp = resp or responses(from_designs([design]))
     hum = design.hum
     f, dbdt = field_derivative(hum)
     h = np.arange(1, len(f) + 1)
     va, vb = (x[0] * dbdt for x in coil_hum(resp, f))
-    total = va + vb
     rej = rejection_db(va, vb)
+    exact = rej >= REJECTION_CAP_DB  # the sum is rounding noise: the coils' hum cancels exactly
+    total = np.where(exact, 0.0, va + vb)
     rows = []
     for i in range(len(h)):
-        rows.append(
-            {
-                "harmonic": int(h[i]),
-                "frequency_hz": float(f[i]),
-                "rejection_db": None if dbdt[i] == 0 else float(rej[i]),
-                "output_v": float(abs(total[i])),
-                "coil_a_v": float(abs(va[i])),
-                "coil_b_v": float(abs(vb[i])),
-            }
-        )
+        row = {"harmonic": int(h[i]), "frequency_hz": float(f[i])}
+        if dbdt[i] == 0:
+            U.mark(row, "rejection_db", U.NO_FIELD)
+        elif exact[i]:
+            U.mark(row, "rejection_db", U.HUM_CANCELS)
+        else:
+            U.put(row, "rejection_db", rej[i], U.HUM_CANCELS)
+        row.update({"output_v": float(abs(total[i])), "coil_a_v": float(abs(va[i])), "coil_b_v": float(abs(vb[i]))})
+        rows.append(row)
     total_rms = float(np.sqrt(np.sum(np.abs(total) ** 2) / 2))
-    sig = abs(resp.velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
-    ptotal = resp.passive_hum()(f)[0] * dbdt
+    silent, passive_silent = (bool(x[0]) for x in signal_cancels(resp, [REFERENCE_NOTE_HZ]))
+    sig = 0.0 if silent else abs(resp.velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
+    zero = np.zeros(1)
+    pa, pb = (x(f)[0] * dbdt for x in (resp.passive_mix(resp.hum_a, zero), resp.passive_mix(zero, resp.hum_b)))
+    ptotal = np.where(rejection_db(pa, pb) >= REJECTION_CAP_DB, 0.0, pa + pb)
     passive_rms = float(np.sqrt(np.sum(np.abs(ptotal) ** 2) / 2))
-    psig = abs(resp.passive_velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
-    return {
+    psig = 0.0 if passive_silent else abs(resp.passive_velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
+    table = {
         "mains_hz": hum.mains,
         "field_t": hum.field,
         "harmonic_profile": list(hum.harmonics),
         "harmonics": rows,
         "total_v_rms": total_rms,
         "reference_signal": {"velocity_m_per_s_peak": REFERENCE_VELOCITY, "frequency_hz": REFERENCE_NOTE_HZ, "output_v_rms": float(sig)},
-        "signal_to_hum_db": _ratio_db(sig, total_rms),
-        "passive": {"total_v_rms": passive_rms, "signal_to_hum_db": _ratio_db(psig, passive_rms)},
     }
+    _signal_to_hum(table, sig, total_rms, U.NO_SIGNAL)
+    table["passive"] = _signal_to_hum({"total_v_rms": passive_rms}, psig, passive_rms, U.PASSIVE_NO_SIGNAL)
+    return table
 
 
-def _ratio_db(a, b):
-    return None if b <= 0 else float(20 * np.log10(a / b))
+def _signal_to_hum(record: dict, signal_v: float, hum_v: float, silent_reason: str) -> dict:
+    """``signal_to_hum_db`` = 20·log10(signal/hum), or None with its reason (no hum, or no signal)."""
+    from . import undefined as U
+
+    if hum_v <= 0:
+        return U.mark(record, "signal_to_hum_db", U.NO_HUM)
+    if signal_v <= 0:
+        return U.mark(record, "signal_to_hum_db", silent_reason)
+    return U.put(record, "signal_to_hum_db", 20 * np.log10(signal_v / hum_v), U.NO_HUM)
 
 
 def rejection_curve(designs, frequency_hz) -> np.ndarray:
@@ -198,7 +210,7 @@ class MonteCarlo:
     tolerances: dict
     trials: int
     seed: int
-    sensitivity: list  # [(label, dB per +1 % at the fundamental)], largest first
+    sensitivity: list  # [(label, dB per +1 % at the fundamental, or the reason in words)], largest first
 
     def as_dict(self) -> dict:
         """The JSON layout of ``render hum --json``'s ``monte_carlo``."""
@@ -208,19 +220,24 @@ class MonteCarlo:
             "tolerances": self.tolerances,
             "distribution": "uniform within ± the tolerance",
             "harmonics": self.summary(),
-            "sensitivity_db_per_percent": [{"part": k, "db": v} for k, v in self.sensitivity],
+            "sensitivity_db_per_percent": [sensitivity_record(k, v) for k, v in self.sensitivity],
         }
 
     def summary(self) -> list[dict]:
-        return [
-            {
-                "harmonic": i + 1,
-                "frequency_hz": float(f),
-                "median_db": float(np.median(self.rejection_db[:, i])),
-                "p5_db": float(np.percentile(self.rejection_db[:, i], 5)),
-            }
-            for i, f in enumerate(self.frequency_hz)
-        ]
+        """Per harmonic: the median and 5th-percentile rejection (None, with the reason, where infinite)."""
+        from . import undefined as U
+        from .figures import REJECTION_CAP_DB
+
+        rows = []
+        for i, f in enumerate(self.frequency_hz):
+            row: dict = {"harmonic": i + 1, "frequency_hz": float(f)}
+            for key, value in (("median_db", np.median(self.rejection_db[:, i])), ("p5_db", np.percentile(self.rejection_db[:, i], 5))):
+                if value >= REJECTION_CAP_DB:
+                    U.mark(row, key, U.HUM_CANCELS)
+                else:
+                    U.put(row, key, value, U.HUM_CANCELS)
+            rows.append(row)
+        return rows
 
 
 def _mc_chunk(args):
@@ -255,14 +272,42 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     return MonteCarlo(f, out, tol, trials, seed, sensitivities(design, f[:1]))
 
 
-def sensitivities(design, frequency_hz) -> list[tuple[str, float]]:
-    """Change of rejection (dB) at ``frequency_hz[0]`` for +1 % on each part alone, largest first."""
+def sensitivities(design, frequency_hz) -> list[tuple[str, float | str]]:
+    """Change of rejection (dB) at ``frequency_hz[0]`` for +1 % on each part alone, largest first.
+
+    Where the design or the changed one cancels its hum exactly, the change
+    has no finite size: its entry is the reason in words
+    (:data:`~render.analysis.undefined.NOMINAL_CANCELS` or ``PART_CANCELS``),
+    ordered by the rejection the change leaves when the design itself cancels,
+    else after the finite changes.
+    """
+    from . import undefined as U
+    from .figures import REJECTION_CAP_DB
+
     labels = [label for label, _ in part_labels(design)]
     n = len(labels) + 1
     factors = {label: np.where(np.arange(n) == i + 1, 1.01, 1.0) for i, label in enumerate(labels)}
     r = _rejection(perturbed(design, factors, n), np.asarray(frequency_hz, float))[:, 0]
-    rows = [(label, float(r[i + 1] - r[0])) for i, label in enumerate(labels)]
-    return sorted(rows, key=lambda x: -abs(x[1]))
+    exact = r >= REJECTION_CAP_DB
+    rows: list[tuple[str, float | str]] = []
+    for i, label in enumerate(labels):
+        if exact[0] and not exact[i + 1]:
+            rows.append((label, f"{U.NOMINAL_CANCELS}; with +1 % on this part alone it is {r[i + 1]:.1f} dB"))
+        elif exact[i + 1] and not exact[0]:
+            rows.append((label, U.PART_CANCELS))
+        else:
+            rows.append((label, 0.0 if exact[0] else float(r[i + 1] - r[0])))
+    if exact[0]:  # the parts that spoil an exact balance most come first
+        return sorted(rows, key=lambda x: r[labels.index(x[0]) + 1])
+    return sorted(rows, key=lambda x: -abs(x[1]) if isinstance(x[1], float) else 0.0)
+
+
+def sensitivity_record(part: str, change) -> dict:
+    """One entry of ``sensitivity_db_per_percent``: {"part", "db"}, or "db": null with "db_reason"."""
+    from . import undefined as U
+
+    row = {"part": part}
+    return U.mark(row, "db", change) if isinstance(change, str) else U.put(row, "db", change, "undefined")
 
 
 # ----------------------------------------------------------------------------
@@ -332,10 +377,11 @@ class HumHarmonic:
 
     harmonic: int
     frequency_hz: float
-    rejection_db: float | None  # None where the field has no such harmonic
+    rejection_db: float | None  # None where the field has no such harmonic, or where the coils' hum cancels exactly
     output_v: float
     coil_a_v: float
     coil_b_v: float
+    rejection_db_reason: str | None = None  # why rejection_db is None, in words
 
 
 @dataclass(frozen=True)
@@ -351,11 +397,14 @@ class HumReport:
     total_v_rms : float, V rms over the harmonics
     signal_to_hum_db : float or None
         The reference string signal over the total hum; None when the coils
-        cancel exactly (no hum to compare with).
+        cancel the hum exactly (no hum to compare with) or the string signal
+        (no signal), with the reason in ``signal_to_hum_reason``.
     passive_total_v_rms : float, V
     passive_signal_to_hum_db : float or None
     reference_signal : dict
         What the signal-to-hum ratio is relative to.
+    signal_to_hum_reason, passive_signal_to_hum_reason : str or None
+        Why the figure beside it is None, in words.
     """
 
     design: str
@@ -368,6 +417,8 @@ class HumReport:
     passive_signal_to_hum_db: float | None
     reference_signal: dict
     table: dict  # the same figures in the JSON layout of ``render hum --json``
+    signal_to_hum_reason: str | None = None
+    passive_signal_to_hum_reason: str | None = None
 
     def as_dict(self) -> dict:
         return dict(self.table)
@@ -401,4 +452,6 @@ def hum(design, *, rig=None) -> HumReport:
         passive_signal_to_hum_db=t["passive"]["signal_to_hum_db"],
         reference_signal=t["reference_signal"],
         table=t,
+        signal_to_hum_reason=t.get("signal_to_hum_db_reason"),
+        passive_signal_to_hum_reason=t["passive"].get("signal_to_hum_db_reason"),
     )

@@ -9,11 +9,8 @@ from ..io.folders import refuse_existing as check_new
 from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 
-def _fmt(x, spec, none="—"):
-    return none if x is None else format(x, spec)
-
-
 def print_design(rec):
+    from ..analysis.undefined import shown
     from ..units import format_si
 
     f = rec["figures"]
@@ -27,20 +24,27 @@ def print_design(rec):
         + (f", feedback {c['feedback_hz']:.4g} Hz" if c["feedback_hz"] else "")
         + (f", bias node {c['bias_node_hz']:.4g} Hz" if c["bias_node_hz"] else "")
     )
-    click.echo(
-        f"  loaded resonance  peak {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB, Q {_fmt(f['q'], '.2f')}"
-        + (f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else "")
-    )
-    click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {f['gain_vs_passive_db']:+.2f} dB against the passive reference")
-    click.echo(f"  hum rejection     {_fmt(f['hum_rejection_db'], '.1f')} dB at the mains fundamental")
+    pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else ""
+    if f["peak_hz"] is None:
+        click.echo(f"  loaded resonance  {shown(f, 'peak_hz', '')}{pole}")
+    else:
+        click.echo(f"  loaded resonance  peak {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB, Q {shown(f, 'q', '.2f')}{pole}")
+    if f["level_1k_db"] is None:
+        click.echo(f"  gain at 1 kHz     {shown(f, 'level_1k_db', '')}")
+    else:
+        click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {shown(f, 'gain_vs_passive_db', '+.2f', ' dB against the passive reference')}")
+    rejection = shown(f, "hum_rejection_db", ".1f", " dB at the mains fundamental")
+    click.echo(f"  hum rejection     {rejection}")
 
 
 def print_turns(rows, percent):
+    from ..analysis.undefined import cell
+
     click.echo(f"  turns ±{percent:g} %      coils    L_b        R_b        peak                 1 kHz      hum rejection")
     for r in rows:
         click.echo(
             f"    {r['turns_percent']:+5.1f} %  {r['coils']:>7s}  {r['inductance_b_h'] * 1e3:7.1f} mH  {r['resistance_b_ohm']:7.1f} Ω"
-            f"  {r['peak_hz']:6.0f} Hz {r['peak_db']:+6.2f} dB  {r['level_1k_db']:+6.2f} dB  {_fmt(r['hum_rejection_db'], '6.1f')} dB"
+            f"  {cell(r, 'peak_hz', '6.0f', ' Hz'):>9s} {cell(r, 'peak_db', '+6.2f', ' dB'):>9s}  {cell(r, 'level_1k_db', '+6.2f', ' dB'):>9s}  {cell(r, 'hum_rejection_db', '6.1f', ' dB'):>9s}"
         )
 
 

@@ -24,37 +24,49 @@ def _percent(text, name):
     return v
 
 
-def _ratio(db, what):
-    return f"{db:.1f} dB" if db is not None else f"none ({what} hums not at all: the coils cancel exactly)"
-
-
 def print_report(d, r):
+    from ..analysis.undefined import cell, spread
+
     click.echo(f"{d.name}  ({d.source})  mains {r.mains_hz:g} Hz, field {r.field_t * 1e6:g} µT peak")
     click.echo("  harmonic  frequency   rejection   hum at amp input   coil_a alone   coil_b alone")
     for h in r.harmonics:
-        rej = "no field" if h.rejection_db is None else f"{h.rejection_db:6.1f} dB"
+        rej = cell({"rejection_db": h.rejection_db, "rejection_db_reason": h.rejection_db_reason}, "rejection_db", "6.1f", " dB")
         click.echo(f"  {h.harmonic:>8d}  {h.frequency_hz:7.0f} Hz  {rej:>9s}   {h.output_v * 1e6:12.3f} µV   {h.coil_a_v * 1e6:9.2f} µV   {h.coil_b_v * 1e6:9.2f} µV")
     ref = r.reference_signal
     click.echo(
-        f"  total hum {r.total_v_rms * 1e6:.3f} µV rms; signal to hum {_ratio(r.signal_to_hum_db, 'the design')}"
+        f"  total hum {r.total_v_rms * 1e6:.3f} µV rms; signal to hum {spread(r.signal_to_hum_db, str(r.signal_to_hum_reason), '.1f', ' dB')}"
         f" (reference: {ref['velocity_m_per_s_peak']:g} m/s peak at {ref['frequency_hz']:g} Hz);"
-        f" passive reference {r.passive_total_v_rms * 1e6:.3f} µV rms, {_ratio(r.passive_signal_to_hum_db, 'it')}"
+        f" passive reference {r.passive_total_v_rms * 1e6:.3f} µV rms, {spread(r.passive_signal_to_hum_db, str(r.passive_signal_to_hum_reason), '.1f', ' dB')}"
     )
 
 
 def print_audio(a, exact):
+    from ..analysis.undefined import spread
+
     click.echo(f"  measured from a {a.seconds:g} s hum-only render (last {a.seconds - 1:g} s):")
-    for i, (row, ex) in enumerate(zip(a.harmonics[:5], exact)):
-        click.echo(f"    H{i + 1} {row['frequency_hz']:5.0f} Hz: {row['rejection_db']:6.1f} dB (exact {ex:.1f} dB)" if ex is not None else f"    H{i + 1} {row['frequency_hz']:5.0f} Hz: no field")
+    for i, (row, h) in enumerate(zip(a.harmonics[:5], exact)):
+        measured = spread(row["rejection_db"], str(row.get("rejection_db_reason")), "6.1f", " dB")
+        same = row["rejection_db"] is None and row.get("rejection_db_reason") == h.rejection_db_reason
+        exact_text = "as is the exact figure" if same else f"exact {spread(h.rejection_db, str(h.rejection_db_reason), '.1f', ' dB')}"
+        click.echo(f"    H{i + 1} {row['frequency_hz']:5.0f} Hz: {measured} ({exact_text})")
     click.echo(f"  hum-only WAVs at {a.volts_full_scale:g} V full scale: {a.files['both']}, and each coil alone beside it")
 
 
 def print_monte_carlo(mc):
+    from ..analysis.undefined import shown
+
     pct = ", ".join(f"{k} {v * 100:g} %" for k, v in mc.tolerances.items())
     click.echo(f"  Monte Carlo: {mc.trials} trials (seed {mc.seed}; {pct})")
     for r in mc.summary()[:3]:
-        click.echo(f"    H{r['harmonic']} {r['frequency_hz']:5.0f} Hz: median {r['median_db']:.1f} dB, 5th percentile {r['p5_db']:.1f} dB")
-    click.echo(f"    most sensitive (+1 % alone, at the fundamental): {', '.join(f'{k} {v:+.1f} dB' for k, v in mc.sensitivity[:4])}")
+        click.echo(f"    H{r['harmonic']} {r['frequency_hz']:5.0f} Hz: median {shown(r, 'median_db', '.1f', ' dB')}, 5th percentile {shown(r, 'p5_db', '.1f', ' dB')}")
+    top = mc.sensitivity[:4]
+    if top and all(isinstance(v, str) and "with +1 %" in v for _, v in top):  # the design itself cancels exactly
+        from ..analysis.undefined import NOMINAL_CANCELS
+
+        after = ", ".join(f"{k} {v.rsplit(' it is ', 1)[-1]}" for k, v in top)
+        click.echo(f"    most sensitive (+1 % alone, at the fundamental): {NOMINAL_CANCELS}; the rejection with +1 % alone: {after}")
+    else:
+        click.echo(f"    most sensitive (+1 % alone, at the fundamental): {', '.join(f'{k} {v:+.1f} dB' if isinstance(v, float) else f'{k} ({v})' for k, v in top)}")
 
 
 @click.command("hum")
@@ -114,7 +126,7 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
                 audio = write_hum_audio(out, d)
                 rec["measured"] = audio.as_dict()
                 if show:
-                    print_audio(audio, [h.rejection_db for h in r.harmonics])
+                    print_audio(audio, r.harmonics)
             if tol:
                 mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
                 rec["monte_carlo"] = mc.as_dict()

@@ -122,10 +122,17 @@ def _response_build(f, n, passive, title):
     return {"fig": fig, "axes": (ax1, ax2), "mags": mags, "phases": phases, "legend": legend, "title": _fix_title(ax1, " ") if title else None}
 
 
+def level_db(h) -> np.ndarray:
+    """20·log10|h| for plotting; NaN (a gap in the curve) where h is exactly zero (coils that cancel the signal)."""
+    a = np.abs(np.asarray(h))
+    with np.errstate(divide="ignore"):
+        return np.where(a > 0, 20 * np.log10(a), np.nan)
+
+
 def _response_fill(p, f, curves, passive, title):
     """Everything that differs from one response plot to the next: data, limits, labels, title."""
     every = list(curves) + ([passive] if passive is not None else [])
-    mags = [20 * np.log10(np.abs(h)) for _, h in every]
+    mags = [level_db(h) for _, h in every]
     phases = [phase_deg(f, h) for _, h in every]
     for line, y in zip(p["mags"], mags):
         line.set_ydata(y)
@@ -333,9 +340,9 @@ def overlay_png(f, curves, passives) -> bytes:
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(9, 5))
     for i, (label, h) in enumerate(curves):
-        ax.plot(f, 20 * np.log10(np.abs(h)), lw=1.6, label=label, **curve_style(i))
+        ax.plot(f, level_db(h), lw=1.6, label=label, **curve_style(i))
     for j, (label, h) in enumerate(passives):
-        ax.plot(f, 20 * np.log10(np.abs(h)), lw=1.1, label=label, **passive_style(j))
+        ax.plot(f, level_db(h), lw=1.1, label=label, **passive_style(j))
     _hz_axis(ax, f[0], f[-1])
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V per m/s)")
@@ -385,6 +392,10 @@ def transfer_plot(path, curves, *, title="", overwrite=False):
     return save(fig, path, overwrite=overwrite)
 
 
+def _snr_text(floor) -> str:
+    return "none (no signal)" if floor.snr_db is None else f"{floor.snr_db:.1f} dB"
+
+
 def noise_plot(path, r, *, top: int, overwrite: bool = False):
     """Density (nV/√Hz, log axes) of the design, its largest contributors and the passive reference."""
     plt = pyplot()
@@ -399,7 +410,7 @@ def noise_plot(path, r, *, top: int, overwrite: bool = False):
     ax.set_yscale("log")
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("noise density at the amp input (nV/√Hz)")
-    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {a.snr_db:.1f} dB (passive {p.snr_db:.1f} dB)", fontsize=10, loc="left")
+    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {_snr_text(a)} (passive {_snr_text(p)})", fontsize=10, loc="left")
     ax.legend(loc="lower left", fontsize=8, frameon=False)
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)
