@@ -45,5 +45,13 @@ def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 480
         path = Path(out) / f"{stem}-{suffix}.wav"
         write_float_wav(path, m[k] / vfs, sample_rate, overwrite=True)
         files[k] = str(path)
-    rows = tuple({"frequency_hz": float(f), "rejection_db": float(r), "output_v": float(v)} for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"]))
+    rows = tuple(_row(f, r, v) for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"]))
     return HumAudio(seconds=seconds, volts_full_scale=vfs, files=files, harmonics=rows)
+
+
+def _row(f, r, v) -> dict:
+    """One harmonic as measured; a rejection that does not exist (no hum in either coil's render) is None with its reason."""
+    if np.isfinite(r):
+        return {"frequency_hz": float(f), "rejection_db": float(r), "output_v": float(v)}
+    reason = "the two coils' hum cancels exactly in the render" if r == np.inf else "no hum at this harmonic in the renders"
+    return {"frequency_hz": float(f), "rejection_db": None, "rejection_reason": reason, "output_v": float(v)}
