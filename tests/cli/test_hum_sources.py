@@ -248,3 +248,34 @@ def test_check_and_figures_read_the_sources(tmp_path):
     res = run("check", BOBBIN, "--rig", NEAR)
     assert "hum rejection     19.8 dB at the mains fundamental" in res.output
     assert "turns_area 0.615 m² (entered 0.36 m²), mean turn 142 mm" in res.output
+
+
+@pytest.mark.parametrize(
+    "command",
+    [
+        "render hum models/bobbins/studio-bobbin.toml --rig rigs/near-transformer.toml",
+        "render check models/bobbins/studio-bobbin.toml",
+        "render hum models/bobbins/studio-bobbin.toml --map --map-png outputs/bobbin-map.png --positions 20000",
+    ],
+)
+def test_the_readmes_hum_source_examples_print_what_it_shows(tmp_path, monkeypatch, command):
+    # a contract between the README and the tool (no outside source): every line it shows, except "...", is printed
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    block = text[text.index("$ " + command + "\n") :].split("```")[0].splitlines()[1:]
+    monkeypatch.chdir(ROOT)
+    args = [a if not a.startswith("outputs/") else str(tmp_path / Path(a).name) for a in command.split()[1:]]
+    out = run(*args).output.splitlines()
+    shown = [line for line in block if line.strip() != "..."]
+    assert shown and all(line in out for line in shown), [line for line in shown if line not in out]
+
+
+def test_turns_sweep_moves_each_coils_flux_with_its_turns():
+    # Faraday: the flux linkage adds over the turns, so ±5 % turns on coil_b scales its linkage by 1 ± 0.05. On the
+    # in-line dipole's equator the coils link in the ratio ((r + s/2)/(r − s/2))³ (Jackson eq. 5.56), so with balanced
+    # networks the rejection is 20·log10(k/|k − 1|), k that ratio times the turns factor (coil_b is the nearer)
+    res = run("check", BOBBIN, "--rig", NEAR, "--turns-sweep", 5, "--json", "-")
+    rows = json.loads(res.stdout)["designs"][0]["turns_sweep"]
+    r, s = 0.5, SPACING
+    for row in rows:
+        k = ((r + s / 2) / (r - s / 2)) ** 3 * (1 + row["turns_percent"] / 100 if row["coils"] == "coil_b" else 1.0)
+        assert row["hum_rejection_db"] == pytest.approx(20 * math.log10(k / abs(k - 1)), abs=0.15)
