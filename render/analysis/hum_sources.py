@@ -33,7 +33,6 @@ from .figures import REJECTION_CAP_DB, rejection_db
 
 NO_HUM = "no hum at this harmonic: no source has it, or no coil links it"
 EXACT = f"the two coils' hum cancels exactly (at the {REJECTION_CAP_DB:g} dB cap)"
-NO_TOTAL = "no hum at all: the coils cancel exactly or link no source"
 
 
 def rejection_words(value: float) -> tuple[float | None, str | None]:
