@@ -1,7 +1,7 @@
 """Every ``$ render …`` example in README.md runs, in order, and prints what the README shows.
 
 The README is the contract here (no outside source): its examples are run in
-a fresh copy of the shipped ``models/`` and ``dry_signals/`` in a temporary
+a fresh copy of the shipped ``models/``, ``dry_signals/`` and ``rigs/`` in a temporary
 folder, one after another, so that later examples use earlier ones' files.
 Each must exit 0 and print, on standard output, the lines shown under it.
 
@@ -132,7 +132,7 @@ class Workspace:
 
     def __init__(self, folder: Path):
         self.folder = folder
-        for name in ("models", "dry_signals"):
+        for name in ("models", "dry_signals", "rigs"):
             shutil.copytree(ROOT / name, folder / name)
         self.results: dict[int, subprocess.CompletedProcess] = {}
 

@@ -16,7 +16,8 @@ string velocity (the same at both sensing points) to the amp input:
 - ``gain_vs_passive_db``: ``level_1k_db`` minus the passive reference's.
 - ``hum_rejection_db``: 20·log10(max(|V_A|, |V_B|)/|V_A + V_B|) at the
   mains fundamental, V_A and V_B the hum at the amp input from each coil's
-  hum EMF alone.
+  hum EMF alone (from the rig's hum sources in space when it has them,
+  :mod:`render.magnetics.pickup`).
 - ``headroom_v``: the smaller of ``headroom_up_v`` and ``headroom_down_v``.
 - ``cable_loss_db``: |H(5 kHz)| without the cable minus with it, in dB.
 
@@ -189,6 +190,12 @@ def figures(designs, resp=None, resp_no_cable=None) -> list[dict]:
         pfig = response_figures(db(pvel(f)), f)
     mains = np.array([d.hum.mains for d in designs])
     rej = hum_rejection_db(resp, mains)
+    for i, d in enumerate(designs):
+        if d.hum.sources:  # sources in space: each coil's own EMF at the fundamental
+            from ..magnetics.pickup import design_emf
+
+            e = design_emf(d).total[:, 0]
+            rej[i] = rejection_db(resp.from_a()(d.hum.mains)[i, 0] * e[0], resp.from_b()(d.hum.mains)[i, 0] * e[1])
     h5 = np.abs(vel(5000.0)[:, 0])
     h5nc = np.abs(resp_nc.velocity()(5000.0)[:, 0])
     hp5 = np.abs(pvel(5000.0)[:, 0])

@@ -62,6 +62,20 @@ def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
                 "core_factor": w.core_factor,
                 "temperature_c": w.temperature,
             }
+        if c.geometry is not None:
+            g = c.geometry
+            out["geometry"] = {
+                "turns": g.turns,
+                "length_m": g.length,
+                "width_m": g.width,
+                "window_length_m": g.window_length,
+                "window_width_m": g.window_width,
+                "height_m": g.height,
+                "from_winding": c.winding is not None,
+                "mean_turn_m": g.mean_turn,
+                "turns_area_m2": g.turns_area,
+                "entered_turns_area_m2": c.entered_turns_area,
+            }
         return out
 
     return {

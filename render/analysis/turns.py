@@ -20,6 +20,7 @@ def scale_turns(design, coil: str, factor: float):
         resistance=c.resistance * factor,
         sensitivity=c.sensitivity * factor,
         turns_area=c.turns_area * factor,
+        geometry=None if c.geometry is None else replace(c.geometry, turns=c.geometry.turns * factor),
         winding=None if c.winding is None else replace(
             c.winding,
             turns=c.winding.turns * factor,

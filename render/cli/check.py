@@ -61,6 +61,18 @@ def print_winding(name, c):
     )
 
 
+def print_geometry(name, c):
+    g = c.geometry
+    if g is None:
+        return
+    mm = lambda x: f"{x * 1e3:.3g}"  # noqa: E731
+    entered = f"entered {c.entered_turns_area:.3g} m²" if c.entered_turns_area is not None else "none entered"
+    click.echo(
+        f"  {name} geometry   {g.turns:.0f} turns, {mm(g.length)} × {mm(g.width)} mm outline, {mm(g.window_length)} × {mm(g.window_width)} mm window,"
+        f" {mm(g.height)} mm high{' (from its winding)' if c.winding is not None else ''}: turns_area {g.turns_area:.3g} m² ({entered}), mean turn {mm(g.mean_turn)} mm"
+    )
+
+
 @click.command("check")
 @click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
 @rig_option
@@ -86,8 +98,9 @@ def check_command(models, rig_path, turns_percent, json_path, overwrite):
             if i:
                 click.echo()
             print_design(rec)
-            print_winding("coil_a", d.coil_a)
-            print_winding("coil_b", d.coil_b)
+            for name in ("coil_a", "coil_b"):
+                print_winding(name, getattr(d, name))
+                print_geometry(name, getattr(d, name))
             if turns_percent:
                 print_turns(rec["turns_sweep"], turns_percent)
     if json_path:

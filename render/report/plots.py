@@ -459,3 +459,35 @@ def fit_plot(path, designs, *, title: str = ""):
     h = [response(d, f).velocity for d in designs]
     curves = [("start: " + designs[0].name, h[0])] + [(f"fit {i}", h[i]) for i in range(1, len(designs))]
     return response_plot(path, f, curves, title=title, overwrite=True)
+
+
+def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite: bool = False):
+    """A hum rejection map: one cell per distance and bearing, shaded and labelled in dB at one harmonic.
+
+    m : a :class:`render.magnetics.rejection.RejectionMap`; harmonic : 1 for the fundamental
+    Clay where the coils cancel least, ink where they cancel most; an empty cell has no hum.
+    """
+    from matplotlib.colors import LinearSegmentedColormap
+
+    plt = pyplot()
+    r = np.asarray(m.rejection_db[:, :, harmonic - 1], dtype=float)
+    r = np.where(np.isfinite(r), r, np.nan)
+    cmap = LinearSegmentedColormap.from_list("rejection", [CLAY, "#f4ecd8", INK])
+    fig, ax = plt.subplots(figsize=(9, 4.8))
+    ny, nx = r.shape
+    lo, hi = (np.nanmin(r), np.nanmax(r)) if np.isfinite(r).any() else (0.0, 1.0)
+    im = ax.imshow(r, cmap=cmap, vmin=lo, vmax=max(hi, lo + 1.0), aspect="auto", origin="lower", interpolation="nearest")
+    for i in range(ny):
+        for j in range(nx):
+            if np.isfinite(r[i, j]):
+                dark = (r[i, j] - lo) / max(hi - lo, 1e-9)
+                ax.text(j, i, f"{r[i, j]:.0f}", ha="center", va="center", fontsize=7, color="white" if dark < 0.2 or dark > 0.8 else "#222222")
+    ax.set_xticks(range(nx), [f"{b:g}°" for b in m.bearing_deg], fontsize=8)
+    ax.set_yticks(range(ny), [f"{d:g} m" for d in m.distance_m], fontsize=8)
+    where = "x–y plane (top faces): 0° neck side, 90° treble side" if m.plane == "xy" else "x–z plane (along the strings): 0° neck side, 90° straight above"
+    ax.set_xlabel(f"bearing in the {where}")
+    ax.set_ylabel("distance from the pickup's centre")
+    fig.colorbar(im, ax=ax, label="rejection (dB)", fraction=0.04, pad=0.02)
+    _fix_title(ax, title or f"rejection of a dipole source (axis z) at {m.frequency_hz[harmonic - 1]:g} Hz")
+    fig.subplots_adjust(left=0.09, right=0.92, bottom=0.13, top=0.9)
+    return save(fig, path, overwrite=overwrite)
