@@ -121,7 +121,7 @@ def design_assets(clip: PageClip) -> DesignAssets:
     """The page's copy of ``clip`` and its entry (the strip is added by :func:`finish_entry`)."""
     x = np.asarray(clip.volts, dtype=float)
     fs = int(clip.sample_rate)
-    copy = page_copy(x, sample_rate=fs, full_samples=clip.full_samples if clip.full_samples is not None else x.size)
+    copy = page_copy(x, sample_rate=fs, max_seconds=PAGE_SECONDS, full_samples=clip.full_samples if clip.full_samples is not None else x.size)
     head = x[: int(round(PAGE_SECONDS * fs))]
     f, db = spectrum_curve(head, sample_rate=fs)
     loud = clip.loudness_lufs_1v_full_scale
@@ -187,7 +187,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         "sample_rate": rates.pop(),
         "volts_full_scale": float(volts_full_scale),
         "ceiling_dbtp": -1.0,
-        "page_seconds": PAGE_SECONDS,
+        "page_seconds": float(PAGE_SECONDS),
         "bits": 16,
         "strip_top_db": top,
         "live": bool(live),

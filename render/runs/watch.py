@@ -23,8 +23,9 @@ from __future__ import annotations
 
 import time
 from collections.abc import Callable, Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
+from typing import Any
 
 from ..clip import RenderSettings
 from ..errors import InputError
@@ -67,7 +68,7 @@ class _Version:
 @dataclass
 class _Slot:
     path: Path
-    design: object = None  # the last good Design (rig applied)
+    design: Any = None  # the last good Design (rig applied)
     now: _Version | None = None
     before: _Version | None = None
     error: str | None = None
@@ -122,8 +123,8 @@ class WatchRun:
         self._notes = NoteCache()
         self._recorded: dict[tuple, object] = {}
         self._resampler = None
-        self._rig = None
-        self._phrase = None
+        self._rig: Any = None  # the last good RigFile (None: each design's own rig)
+        self._phrase: Any = None  # the last good Phrase (None: a recorded dry signal)
         self._input_sha: dict[Path, str] = {}
         self._problems: dict[str, str] = {}
         self.volts_full_scale = 0.0
@@ -226,7 +227,7 @@ class WatchRun:
         for (slot, _, page_clip, seconds), a in zip(made, assets):
             slot.now = self._version(slot, page_clip, a, seconds)
         self.publish()
-        names = tuple(s.design.name for s in self.slots)  # type: ignore[attr-defined]
+        names = tuple(s.design.name for s in self.slots)
         took = time.perf_counter() - t0
         return Refresh(rendered=names, seconds=took, lines=(f"rendered {len(names)} design{'s' if len(names) != 1 else ''} in {took:.2f} s",))
 
@@ -263,6 +264,9 @@ class WatchRun:
                 continue
             try:
                 design = self._load_design(slot)
+                if not everything and slot.error is None and replace(design, sha256="") == replace(slot.design, sha256=""):
+                    lines.append(f"{slot.path}: saved; no value changed, version {slot.now.number if slot.now else 0} plays on")
+                    continue
                 t = time.perf_counter()
                 volts, page_clip = self._render(design)
                 assets = design_assets(page_clip)
@@ -276,7 +280,7 @@ class WatchRun:
             slot.changes = [(k, old[k], v) for k, v in version.values if k in old and old[k] != v]
             slot.before, slot.now = slot.now, version
             rendered.append(design.name)
-            what = ", ".join(f"{k} {a} → {b}" for k, a, b in slot.changes[:4]) or "no value changed"
+            what = ", ".join(f"{k} {a} → {b}" for k, a, b in slot.changes[:4]) or ("the dry signal changed" if self.dry_path in changed else "no value changed")
             lines.append(f"{slot.path}: version {version.number} rendered in {version.rendered_s:.2f} s ({what})")
         self._notes.prune()
         self.publish()

@@ -716,8 +716,8 @@
 
   // ---- for checks: the page's own playback, rendered offline ---------------------------
 
-  // plan: {seconds, actions: [{at, key} | {at, click: selector} | {at, volume: dB}]}; every action
-  // goes through the page's own controls while an OfflineAudioContext stands in for the speakers.
+  // plan: {seconds, actions: [{at, key} | {at, click: selector} | {at, volume: dB} | {at, rejoin: index}]}; every
+  // action but the last goes through the page's own controls while an OfflineAudioContext stands in for the speakers.
   async function renderOffline(plan) {
     const live = S.player;
     if (live.playing) { live.stop(); drawTransport(); }
@@ -734,6 +734,12 @@
       if (a.key !== undefined) document.dispatchEvent(new KeyboardEvent("keydown", { key: a.key, bubbles: true }));
       if (a.click !== undefined) document.querySelector(a.click).click();
       if (a.volume !== undefined) { el("volume").value = String(a.volume); el("volume").dispatchEvent(new Event("input")); }
+      if (a.rejoin !== undefined) {
+        // what a new version does (render watch): design a.rejoin's clip joins as a new voice at the playhead, and is heard
+        const d = entries()[a.rejoin], id = d.clip + "#again";
+        S.player.add(id, S.buffers.get(d.clip), levels().gains.get(d.clip).db);
+        S.player.pick(id);
+      }
     };
     try {
       for (const a of plan.actions) octx.suspend(a.at).then(() => { act(a); octx.resume(); });
@@ -745,7 +751,11 @@
     } finally {
       S.player = live;
       live.span = p.span.slice();
-      live.active = p.active;
+      live.o0 = p.playing ? p.position() : p.o0;
+      if (live.voices.has(p.active)) live.pick(p.active);
+      live.setVolume(S.volumeDb);
+      refreshLevels();
+      drawHeard();
       drawTransport();
     }
   }
