@@ -37,12 +37,15 @@ def watch_command(models, dry_path, rig_path, seconds, sample_rate, hum, seed, p
     from ..compare.server import LiveServer
     from ..runs.watch import WatchRun, follow_changes
 
+    def say(line: str) -> None:
+        click.echo(line, err=line.startswith("Error: "))
+
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, hum=hum)
     run = WatchRun(models, dry=dry_path, rig=rig_path, settings=settings)
     server = LiveServer(run.board, page=run.page(), port=port)  # the port is refused before any render
     try:
         for line in run.start().lines:
-            click.echo(line)
+            say(line)
         server.start_thread()
         click.echo(f"serving the comparison page at {server.url}")
         click.echo(f"  watching {len(run.files)} files; Ctrl-C stops")
@@ -52,7 +55,7 @@ def watch_command(models, dry_path, rig_path, seconds, sample_rate, hum, seed, p
 
             if not webbrowser.open(server.url):
                 click.echo("  (no browser could be opened: open the address yourself)")
-        follow_changes(run, notify=click.echo)
+        follow_changes(run, notify=say)
     except KeyboardInterrupt:
         pass
     finally:

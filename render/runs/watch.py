@@ -204,6 +204,12 @@ class WatchRun:
 
     def start(self) -> Refresh:
         """Load and render every design (a file that does not load is refused: InputError), then publish."""
+        from threadpoolctl import threadpool_limits
+
+        with threadpool_limits(1):  # one BLAS thread, as every render: the same sums, the same bits as render clips
+            return self._start()
+
+    def _start(self) -> Refresh:
         from ..compare.page import design_assets, strip_top_db
         from .clips import choose_full_scale
 
@@ -233,6 +239,12 @@ class WatchRun:
 
     def refresh(self, paths: Iterable[str | Path]) -> Refresh | None:
         """Render again what a change of ``paths`` touches; None when none of them is watched or none changed."""
+        from threadpoolctl import threadpool_limits
+
+        with threadpool_limits(1):
+            return self._refresh(paths)
+
+    def _refresh(self, paths: Iterable[str | Path]) -> Refresh | None:
         from ..compare.page import design_assets
 
         t0 = time.perf_counter()

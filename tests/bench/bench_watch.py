@@ -15,7 +15,10 @@ sound (its ``data-swap-at``, on the same wall clock), split into:
   inotify, a 30 ms quiet step);
 - render: loading, rendering, measuring and the page's copy of the clip;
 - page: publishing until the clip is fetched, decoded and scheduled (the
-  page schedules 25 ms ahead of its audio clock).
+  page schedules 25 ms ahead of its audio clock);
+- render CPU: this process's CPU time during the render step (one BLAS
+  thread; the server and watcher threads are idle meanwhile), about what it
+  takes on an otherwise idle core.
 
 Edits: a network value (input_a load_c), the rig (cable length), the
 phrase (one note's fret), and a coil given by its winding (turns: the
@@ -68,7 +71,7 @@ def edit_note(path: Path, k: int) -> None:
     path.write_text(text[: m.start()] + f"fret = {fret}" + text[m.end() :], encoding="utf-8")
 
 
-def measure(browser, model: Path, folder: Path, kinds: dict, saves: int) -> dict[str, list[tuple[float, float, float, float]]]:
+def measure(browser, model: Path, folder: Path, kinds: dict, saves: int) -> dict[str, list[tuple[float, ...]]]:
     from render.clip import RenderSettings
     from render.compare.server import LiveServer
     from render.runs.watch import WatchRun, follow_changes
@@ -83,7 +86,9 @@ def measure(browser, model: Path, folder: Path, kinds: dict, saves: int) -> dict
 
     def timed(paths):
         marks["detected"] = time.time()
+        cpu = time.process_time()
         out = refresh(paths)
+        marks["cpu"] = time.process_time() - cpu
         marks["published"] = time.time()
         return out
 
@@ -92,7 +97,7 @@ def measure(browser, model: Path, folder: Path, kinds: dict, saves: int) -> dict
     stop = threading.Event()
     follower = threading.Thread(target=follow_changes, args=(run,), kwargs={"notify": lambda line: None, "stop": stop}, daemon=True)
     follower.start()
-    results: dict[str, list[tuple[float, float, float, float]]] = {}
+    results: dict[str, list[tuple[float, ...]]] = {}
     try:
         page = browser.new_page(viewport={"width": 1280, "height": 800})
         page.goto(server.url)
@@ -110,7 +115,7 @@ def measure(browser, model: Path, folder: Path, kinds: dict, saves: int) -> dict
                 swaps += 1
                 page.wait_for_selector(f'body[data-swaps="{swaps}"]', state="attached", timeout=30000)
                 sound = int(page.get_attribute("body", "data-swap-at")) / 1000.0
-                results[kind].append((sound - saved, marks["detected"] - saved, marks["published"] - marks["detected"], sound - marks["published"]))
+                results[kind].append((sound - saved, marks["detected"] - saved, marks["published"] - marks["detected"], sound - marks["published"], marks["cpu"]))
         page.close()
     finally:
         stop.set()
@@ -165,11 +170,12 @@ def main() -> None:
             }, args.saves)
         finally:
             browser.close()
-    print(f"  {'edit':40s} {'save to sound':>15s} {'worst':>7s}   {'detect':>7s} {'render':>7s} {'page':>7s}  (medians, s)")
+    print(f"  {'edit':40s} {'save to sound':>15s} {'worst':>7s}   {'detect':>7s} {'render':>7s} {'page':>7s}   {'render CPU':>10s}  (medians, s)")
     for kind, rows in results.items():
         total = [r[0] for r in rows]
-        med = [statistics.median(r[i] for r in rows) for i in range(4)]
-        print(f"  {kind:40s} {med[0]:13.2f} s {max(total):6.2f}s   {med[1]:7.3f} {med[2]:7.3f} {med[3]:7.3f}   (target {TARGET_S:g} s)")
+        med = [statistics.median(r[i] for r in rows) for i in range(5)]
+        print(f"  {kind:40s} {med[0]:13.2f} s {max(total):6.2f}s   {med[1]:7.3f} {med[2]:7.3f} {med[3]:7.3f}   {med[4]:10.3f}  (target {TARGET_S:g} s)")
+    print("  (render CPU: this process's CPU time during the render step, about what it takes on an idle core; wall times grow with the machine's load)")
     print(f"  a field-solved coil (derive_coil: Neumann sums, eddy currents, ladder fit), alone: {field_solve_seconds():.2f} s per coil")
 
 
