@@ -294,7 +294,8 @@ class WatchRun:
             rendered.append(design.name)
             what = ", ".join(f"{k} {a} → {b}" for k, a, b in slot.changes[:4]) or ("the dry signal changed" if self.dry_path in changed else "no value changed")
             lines.append(f"{slot.path}: version {version.number} rendered in {version.rendered_s:.2f} s ({what})")
-        self._notes.prune()
+        if everything:  # every design played the phrase just now: the terms it did not use are the old phrase's
+            self._notes.prune()
         self.publish()
         took = time.perf_counter() - t0
         return Refresh(rendered=tuple(rendered), problems=tuple(self.problems()), seconds=took, lines=tuple(lines))

@@ -703,6 +703,7 @@
         const r = await fetch("/api/changes?after=" + S.data.version, { cache: "no-store" });
         if (r.status === 200) await applyState(await r.json());
         else if (r.status !== 204) throw new Error("answered " + r.status);
+        if (body.dataset.link === "down") el("lede").textContent = S.data.lede;
         body.dataset.link = "up";
         wait = 400;
       } catch (e) {
