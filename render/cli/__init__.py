@@ -30,6 +30,7 @@ COMMANDS = {
     "dry": ("render.cli.dry", "dry_command", "Preview a phrase's string velocity as a WAV."),
     "fit": ("render.cli.fit", "fit_command", "Search buyable part values that meet stated aims."),
     "hum": ("render.cli.hum", "hum_command", "Hum cancellation per mains harmonic, with a tolerance Monte Carlo."),
+    "watch": ("render.cli.watch", "watch_command", "Render designs again as their files are saved, on a comparison page served on 127.0.0.1."),
 }
 
 
