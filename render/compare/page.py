@@ -286,8 +286,10 @@ def design_values(design) -> tuple[tuple[str, str], ...]:
     def show(spec, value) -> str:
         if value is None:
             return "absent"
+        if isinstance(value, dict):  # a nested table (a coil's geometry, a hum source)
+            return "; ".join(f"{k} {show(None, v)}" for k, v in value.items() if v is not None)
         if isinstance(value, list):
-            return ", ".join(f"{v:g}" for v in value)
+            return ", ".join(f"{v:g}" if isinstance(v, (int, float)) and not isinstance(v, bool) else show(None, v) for v in value)
         if isinstance(value, (int, float)) and not isinstance(value, bool):
             kind = getattr(spec, "kind", None)
             if isinstance(kind, Kind) and kind.unit:
