@@ -96,7 +96,9 @@ SUPPLY = {
     "margin_low": Field(U.VOLTAGE, default=1.0, lo=0.0, hi=30.0, lo_open=False, doc="closest the amplifier output gets to ground"),
     "margin_high": Field(U.VOLTAGE, default=1.0, lo=0.0, hi=30.0, lo_open=False, doc="closest it gets to the battery +"),
     "knee": Field(U.VOLTAGE, default=0.5, lo=1e-3, hi=10.0, lo_open=False, doc="width of the soft transition into each limit"),
-    "gbw": Field(U.FREQUENCY, lo=1e3, hi=1e10, lo_open=False, doc="op-amp gain-bandwidth product (absent: ideal op-amp)"),
+    "gbw": Field(U.FREQUENCY, lo=1e3, hi=1e10, lo_open=False, doc="op-amp gain-bandwidth product (absent: no bandwidth limit)"),
+    "open_loop_gain": Field(U.RATIO, default=1e5, lo=1e2, hi=1e9, lo_open=False, doc="op-amp DC open-loop gain (default 1e5, from memory: typical of general-purpose op-amps)"),
+    "slew_rate": Field(U.SLEW_RATE, lo=1e3, hi=1e11, lo_open=False, doc='op-amp output slew rate, e.g. "13MV/s" (needs gbw; absent: no limit)'),
     "noise_voltage": Field(U.VOLTAGE_DENSITY, default=10e-9, lo=1e-11, hi=1e-5, lo_open=False, doc="op-amp input voltage noise density"),
     "noise_current": Field(U.CURRENT_DENSITY, default=1e-14, lo=1e-17, hi=1e-8, lo_open=False, doc="op-amp input current noise density"),
 }
@@ -211,6 +213,8 @@ class Supply:
     margin_high: float = 1.0
     knee: float = 0.5
     gbw: float | None = None
+    open_loop_gain: float = 1e5
+    slew_rate: float | None = None
     noise_voltage: float = 10e-9
     noise_current: float = 1e-14
 
@@ -533,6 +537,8 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
             f"{_where(source, 'supply')}: margin_low + margin_high + 2·knee = "
             f"{sup['margin_low'] + sup['margin_high'] + 2 * sup['knee']:g} V must be below battery={sup['battery']:g} V; lower the margins or the knee"
         )
+    if "slew_rate" in sup and "gbw" not in sup:
+        raise InputError(f"{_where(source, 'supply', 'slew_rate')}: limits the rate of the op-amp's dominant-pole state, which needs gbw; add gbw (e.g. gbw = \"3MHz\") or leave slew_rate out")
     design = Design(
         name=data.get("name") or name or Path(source).stem,
         notes=data.get("notes", ""),

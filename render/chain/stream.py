@@ -76,12 +76,14 @@ import scipy.signal as ss
 from ..design import Hum
 from . import discretize as dz
 from . import hum as hm
-from .limit import Window, design_window, soft_limit_adaa
+from . import loop as lp
+from .limit import Window, design_window
 
 INTERNAL_RATE_HZ = 192000.0  # the limiter runs at no less than this rate
 IMAGE_REJECTION_DB = 100.0  # interpolator stopband, from fs − band edge
 ALIAS_WEIGHT = 1e3  # stopband weight of the decimator's least-squares design
-MERGE_GAP = 256  # output samples: oversampled stretches closer than this are merged
+KERNEL = np.array([1.0, 11.0, 11.0, 1.0]) / 24.0  # the loop's output kernel on a piecewise-linear signal (render.chain.loop)
+LOOP_CHUNK = 4096  # output samples: the loop runs past a loud stretch this far at a time while it decays
 
 
 # --- the limiter's resampling filters -------------------------------------------
@@ -94,8 +96,8 @@ class Resampler:
     oversample : int R ≥ 2; the limiter runs at R·sample_rate
     up : np.ndarray, shape (Lu,), interpolating FIR at R·fs, DC gain R (Lu odd)
     down : np.ndarray, shape (Ld,), decimating FIR at R·fs, DC gain ≈ 1 (Ld even)
-    linear : np.ndarray, shape (Lc,), the whole path at fs while the limiter is
-        the identity: (up ∗ two-tap mean ∗ down) sampled every R-th tap
+    linear : np.ndarray, shape (Lc,), the whole path at fs while the op-amp is
+        linear: (up ∗ [1, 11, 11, 1]/24 ∗ down) sampled every R-th tap
     delay : int, output samples of group delay of ``linear`` (and of the path)
     gain_bound : float, max over polyphase branches of Σ|up taps|
     span : int, output samples of history any output sample depends on
@@ -114,7 +116,7 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     """The limiter's interpolator, decimator and their linear-region equivalent.
 
     sample_rate : Hz, the output rate fs
-    oversample : int R ≥ 2 (ADAA's half-sample delay must land on the output grid)
+    oversample : int R ≥ 2
     """
     R = int(oversample)
     fs = float(sample_rate)
@@ -127,20 +129,21 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     lu |= 1
     up = ss.firwin(lu, fs / 2, window=("kaiser", beta), fs=fi) * R
     ld = lu - 1
-    while (lu + ld - 1) % (2 * R):
+    while (lu + ld + 1) % (2 * R):
         ld += 2
-    # decimator: zero-phase amplitude R/(A_up·cos(πf/fi)) in band (undoing the
-    # interpolator's ripple and the two-tap mean's droop), 0 from fs − band up
+    # decimator: zero-phase amplitude R/(A_up·(1 + 2·cos(2πf/fi))/3) in band (undoing the
+    # interpolator's ripple and the loop's [1, 11, 11, 1]/24 output kernel's droop), 0 from fs − band up
     f = np.concatenate([np.linspace(0.0, band, 300), np.linspace(stop, fi / 2, 1200)])
     n_up = np.arange(lu) - (lu - 1) / 2
     a_up = np.cos(2 * np.pi * np.outer(f, n_up) / fi) @ up
-    target = np.where(f <= band, R / (a_up * np.cos(np.pi * f / fi)), 0.0)
+    w = 2 * np.pi * f / fi
+    target = np.where(f <= band, R / (a_up * (11.0 * np.cos(w / 2) + np.cos(1.5 * w)) / 12.0), 0.0)
     weight = np.sqrt(np.where(f <= band, 1.0, ALIAS_WEIGHT))
     half = np.arange(ld // 2) + 0.5
     basis = 2 * np.cos(2 * np.pi * np.outer(f, half) / fi)
     coef = np.linalg.lstsq(weight[:, None] * basis, weight * target, rcond=None)[0]
     down = np.concatenate([coef[::-1], coef])
-    g = np.convolve(np.convolve(up, [0.5, 0.5]), down)
+    g = np.convolve(np.convolve(up, KERNEL), down)
     centre = (g.size - 1) // 2
     linear = np.ascontiguousarray(g[::R])
     gain_bound = max(float(np.abs(up[p::R]).sum()) for p in range(R))
@@ -189,7 +192,8 @@ class Plan:
 
     sample_rate : Hz
     bias_v : V, the op-amp output's DC operating point
-    window : the limiter's :class:`~render.chain.limit.Window`
+    window : the op-amp output stage's :class:`~render.chain.limit.Window`
+    loop : the feedback loop's nonlinear solver at the oversampled rate
     path_mean : mean velocity (v_a + v_b)/2 -> op-amp output (V per m/s), at sample_rate
     path_half_difference : (v_a − v_b)/2 -> op-amp output (V per m/s), at sample_rate
     path_hum : dB/dt -> op-amp output (V per T/s), or None when not built
@@ -205,6 +209,7 @@ class Plan:
     sample_rate: float
     bias_v: float
     window: Window
+    loop: lp.Loop
     path_mean: dz.Discrete
     path_half_difference: dz.Discrete
     path_hum: dz.Discrete | None
@@ -245,7 +250,8 @@ def make_plan(
     from ..circuit.params import from_designs
 
     fs = float(sample_rate)
-    resp = responses(from_designs([design]))
+    params = from_designs([design])
+    resp = responses(params)
     sig_a, sig_b = resp.sig_a, resp.sig_b
     path_m = dz.discretize_rational(resp.amp.mix(sig_a, sig_b), sample_rate=fs, what="velocity path")
     path_n = dz.discretize_rational(resp.amp.mix(sig_a, -sig_b), sample_rate=fs, what="velocity difference path")
@@ -268,8 +274,9 @@ def make_plan(
     warns = path_m.warnings + path_n.warnings + out_stage.warnings + (path_hum.warnings if path_hum else ())
     return Plan(
         sample_rate=fs,
-        bias_v=float(design.bias_v),
+        bias_v=lp.dc_output(design),
         window=design_window(design),
+        loop=lp.make_loop(design, sample_rate=R * fs, params=params),
         path_mean=path_m,
         path_half_difference=path_n,
         path_hum=path_hum,
@@ -283,87 +290,125 @@ def make_plan(
     )
 
 
-# --- the limiter stage -------------------------------------------------------------
+# --- the loop stage -------------------------------------------------------------------
 
 
-def _runs(mask: np.ndarray, gap: int) -> list[tuple[int, int]]:
-    """[start, stop) of the True runs of ``mask``, runs closer than ``gap`` merged."""
-    if not mask.any():
-        return []
-    m = np.concatenate([[False], mask, [False]])
-    edges = np.flatnonzero(m[1:] != m[:-1])
-    starts, stops = edges[0::2], edges[1::2]
-    out = [[int(starts[0]), int(stops[0])]]
-    for s, e in zip(starts[1:], stops[1:]):
-        if s - out[-1][1] < gap:
-            out[-1][1] = int(e)
-        else:
-            out.append([int(s), int(e)])
-    return [(s, e) for s, e in out]
+def _x_lin(plan: Plan, ext: np.ndarray, history: int, k: int, e: int) -> np.ndarray:
+    """x_lin (V, bias included) at R·fs for output samples [k, e) of the block, with the three samples before.
 
-
-def _oversampled(plan: Plan, seg: np.ndarray):
-    """The oversampled limiter on a stretch of V_lin (from rest before seg[0]).
-
-    seg : V_lin at fs, shape (m,)
-    returns : (v, w, y): the limiter input and output at R·fs (bias included,
-        shape (R·m,)) and y = decimated w − bias at fs, shape (m,)
+    ext : V_lin with ``history`` earlier samples in front; returns shape (R·(e − k) + 3,)
     """
     res = plan.resampler
-    v = interpolate(seg, up=res.up, oversample=res.oversample)
-    v += plan.bias_v
-    w, _ = soft_limit_adaa(v, window=plan.window, previous=None)
-    y = decimate(w - plan.bias_v, down=res.down, oversample=res.oversample)
-    return v, w, y
+    R = res.oversample
+    h = (res.up.size + 3) // R + 2
+    lo = history + k - h
+    seg = ext[max(lo, 0) : history + e]
+    if lo < 0:
+        seg = np.concatenate([np.zeros(-lo), seg])
+    v = interpolate(seg, up=res.up, oversample=R)
+    return v[R * h - 3 :] + plan.bias_v
 
 
-def limiter_output(plan: Plan, v_lin) -> tuple[np.ndarray, np.ndarray]:
-    """The op-amp output of a whole V_lin signal, through the oversampled limiter only.
+class _LoopCarry:
+    """The loop stage's state across blocks: the loop's own state and the decimated correction still to add."""
 
-    v_lin : array_like, V, shape (n,), the op-amp's linear output (bias excluded) at plan.sample_rate
-    returns : (internal, decimated): the limited output at R·sample_rate, V,
-        shape (R·n,), within the window; and its band-limited version at
-        sample_rate, V, shape (n,), bias included, delayed by plan.resampler.delay samples
-    """
-    seg = np.asarray(v_lin, dtype=float)
-    _, w, y = _oversampled(plan, seg)
-    return w, y + plan.bias_v
+    def __init__(self, plan: Plan):
+        self.loop = lp.LoopState(plan.loop)
+        self.pending = np.zeros(0)
 
 
-def _limit_stage(plan: Plan, ext: np.ndarray, history: int):
+def _add(y: np.ndarray, start: int, part: np.ndarray, carry: _LoopCarry) -> None:
+    """y[start:] += part, the part past the block's end kept in ``carry.pending``."""
+    inside = max(0, min(part.size, y.size - start))
+    y[start : start + inside] += part[:inside]
+    rest = part[inside:]
+    if rest.size:
+        off = start + inside - y.size  # samples past the block's end where ``rest`` begins
+        size = max(carry.pending.size, off + rest.size)
+        pend = np.zeros(size)
+        pend[: carry.pending.size] = carry.pending
+        pend[off : off + rest.size] += rest
+        carry.pending = pend
+
+
+def _loop_stage(plan: Plan, ext: np.ndarray, history: int, carry: _LoopCarry):
     """V_amp − bias (delayed by the resampler's delay) for the last len(ext) − history samples of ext.
 
     ext : V_lin with ``history`` earlier samples in front, shape (history + n,)
-    returns : (y shape (n,), number of oversampled samples outside the identity region)
+    returns : (y shape (n,), number of oversampled samples with the output stage outside its identity part)
+
+    y is the linear path (the resampler's ``linear`` FIR at fs) plus the decimated
+    correction of the loop, which runs at R·fs wherever x_lin may leave the output
+    stage's identity part (the bound below) and on until its correction has decayed.
     """
     res = plan.resampler
     win = plan.window
     bias = plan.bias_v
+    R = res.oversample
     n = ext.size - history
     y = np.convolve(ext, res.linear, mode="valid")[-n:] if n else np.zeros(0)
-    up_room = win.linear_high - bias
-    down_room = bias - win.linear_low
-    room = min(up_room, down_room) / res.gain_bound
-    mag = np.abs(ext)
-    if n == 0 or mag.max() <= room:
+    if carry.pending.size:
+        k = min(n, carry.pending.size)
+        y[:k] += carry.pending[:k]
+        carry.pending = carry.pending[k:]
+    if n == 0:
         return y, 0
-    # sample k may need the limiter if any V_lin in ext[k − span + 1 .. k] is above the room: a
+    room = min(win.linear_high - bias, bias - win.linear_low) / res.gain_bound
+    mag = np.abs(ext)
+    if not carry.loop.active and mag.max() <= room:
+        return y, 0
+    # sample k may leave the identity part if any V_lin in ext[k − span + 1 .. k] is above the room: a
     # running count of such samples (zeros in front for the span before ext) differenced over the span
     count = np.concatenate([np.zeros(res.span, dtype=np.int64), np.cumsum(mag > room)])
     loud = count[history + res.span : ext.size + res.span] - count[history : ext.size] > 0
     clipped = 0
-    R = res.oversample
-    pre = res.span + 2  # output samples of warm-up before each stretch
-    for s, e in _runs(loud, MERGE_GAP):
-        lo = history + s - pre
-        seg = ext[max(lo, 0) : history + e]
-        if lo < 0:
-            seg = np.concatenate([np.zeros(-lo), seg])
-        v, _, out = _oversampled(plan, seg)
-        y[s:e] = out[pre:]
-        tail = v[pre * R :]
-        clipped += int(np.count_nonzero((tail > win.linear_high) | (tail < win.linear_low)))
+    k = 0
+    tail = np.zeros(res.down.size + R)
+    while k < n:
+        fresh = not carry.loop.active
+        if fresh:
+            ahead = np.flatnonzero(loud[k:])
+            if not ahead.size:
+                break
+            k += int(ahead[0])
+        quiet = np.flatnonzero(~loud[k:])
+        e = min(n, k + (int(quiet[0]) if quiet.size else n - k) + LOOP_CHUNK)
+        xl = _x_lin(plan, ext, history, k, e)
+        if fresh:
+            # the bound is loose: start where x_lin actually leaves the output stage's identity part
+            out = np.flatnonzero((xl[3:] > win.linear_high) | (xl[3:] < win.linear_low))
+            if not out.size:
+                k = e
+                continue
+            skip = int(out[0]) // R
+            k += skip
+            xl = xl[R * skip :]
+            carry.loop.start(xl[:3])
+        c, _, done, cl = carry.loop.run(xl[3:], loud[k:e], oversample=R)
+        clipped += cl
+        if done:
+            _add(y, k, decimate(np.concatenate([c, tail]), down=res.down, oversample=R), carry)
+        k += done // R
     return y, clipped
+
+
+def limiter_output(plan: Plan, v_lin) -> tuple[np.ndarray, np.ndarray]:
+    """The op-amp output of a whole V_lin signal, through the oversampled loop only.
+
+    v_lin : array_like, V, shape (n,), the linear op-amp output (bias excluded) at plan.sample_rate
+    returns : (internal, decimated): the op-amp output V_o at R·sample_rate, V,
+        shape (R·n,), within the window; and the chain's band-limited op-amp output
+        at sample_rate, V, shape (n,), bias included, delayed by plan.resampler.delay samples
+    """
+    res = plan.resampler
+    R = res.oversample
+    seg = np.asarray(v_lin, dtype=float)
+    xl = interpolate(seg, up=res.up, oversample=R) + plan.bias_v
+    state = lp.LoopState(plan.loop)
+    state.start([plan.bias_v] * 3)
+    c, vo, _, _ = state.run(xl, np.ones(seg.size, dtype=bool), oversample=R)
+    w = np.convolve(xl - plan.bias_v, KERNEL)[: xl.size] + c
+    return vo, decimate(w, down=res.down, oversample=R) + plan.bias_v
 
 
 # --- one render's state --------------------------------------------------------
@@ -398,6 +443,7 @@ class Renderer:
         if self.hum and abs(period - round(period)) < 1e-9 * period and round(period) <= 10**6:
             self._hum_period = self._hum_direct(0, int(round(period)))
         self._lim_hist = self._hum_at(-plan.path_mean.delay - self._history, self._history)
+        self._loop = _LoopCarry(plan)
 
     def _hum_direct(self, start: int, n: int) -> np.ndarray:
         p, h = self.plan, self.plan.hum
@@ -431,7 +477,7 @@ class Renderer:
         elif self.hum:
             v_lin += self._hum_at(self._n - p.path_mean.delay, n)
         ext = np.concatenate([self._lim_hist, v_lin])
-        y, clipped = _limit_stage(p, ext, self._lim_hist.size)
+        y, clipped = _loop_stage(p, ext, self._lim_hist.size, self._loop)
         self._lim_hist = ext[ext.size - self._history :]
         self._clipped += clipped
         out, self._so = dz.apply(p.out_stage, y, state=self._so)
