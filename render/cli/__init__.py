@@ -29,6 +29,7 @@ COMMANDS = {
     "dry": ("render.cli.dry", "dry_command", "Preview a phrase's string velocity as a WAV."),
     "fit": ("render.cli.fit", "fit_command", "Search buyable part values that meet stated aims."),
     "hum": ("render.cli.hum", "hum_command", "Hum cancellation per mains harmonic, with a tolerance Monte Carlo."),
+    "netlist": ("render.cli.netlist", "netlist_command", "Write a design and its rig as a SPICE netlist."),
 }
 
 

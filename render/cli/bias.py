@@ -41,12 +41,15 @@ def _phrase_at_strength(dry_path, design, settings, strength):
 
 def _measure(args):
     from ..analysis.bias import onset, sine_distortion
+    from ..analysis.recovery import burst_figures
 
     s, ref_v = args
     d = s.design
+    burst = burst_figures(d, velocity_peak=ref_v)
     return {"setting": s.label, "ratio": s.ratio, "bias_top_ohm": s.top, "bias_bottom_ohm": s.bottom, "battery_v": s.battery,
             "bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v,
-            "onset": onset(d), "sine": sine_distortion(d, velocity_peak=ref_v)}
+            "onset": onset(d), "sine": sine_distortion(d, velocity_peak=ref_v),
+            "recovery_offset_v": burst["recovery_offset_v"], "recovery_tau_s": burst["recovery_tau_s"], "burst": burst}
 
 
 def _clip(args):
@@ -83,8 +86,10 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
 
     For each setting: the bias voltage, the headroom up and down, the string
     velocity and EMF at which the output first enters the soft limit on
-    each side, THD, H2 and H3 of a 1 kHz sine, and a clip of the phrase with
-    a loudness-matched copy, so the comparison is by ear and not by level.
+    each side, THD, H2 and H3 of a 1 kHz sine, the op-amp output's offset
+    after a 60 ms burst of that sine and its recovery time constant, and a
+    clip of the phrase with a loudness-matched copy, so the comparison is by
+    ear and not by level.
     """
     import numpy as np
 
@@ -140,12 +145,14 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
         click.echo(f"warning: a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway", err=True)
     rows = pmap(_measure, [(s, ref_v) for s in settings_list], jobs)
     click.echo(f"{design.name}  ({design.source}); divider {'parallel resistance kept' if keep_load else 'total resistance kept'}; test sine 1 kHz, {ref_v:.3g} m/s peak")
-    click.echo(f"  {'setting':22s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s}")
+    click.echo(f"  {'setting':22s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s} {'after a 60 ms burst':>22s}")
     for r in rows:
         o, q = r["onset"], r["sine"]
+        tau = r["recovery_tau_s"]
+        rec = f"{r['recovery_offset_v']:+7.3f} V, τ {tau * 1e3:5.1f} ms" if tau is not None else f"{r['recovery_offset_v']:+7.3f} V"
         click.echo(
             f"  {r['setting']:22s} {r['bias_v']:6.2f}V {r['headroom_up_v']:7.2f} / {r['headroom_down_v']:5.2f} V"
-            f" {o['velocity_up_m_per_s']:13.3f} / {o['velocity_down_m_per_s']:7.3f}      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB"
+            f" {o['velocity_up_m_per_s']:13.3f} / {o['velocity_down_m_per_s']:7.3f}      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB {rec:>22s}"
         )
     payload = {"design": design.name, "file": design.source, "keep_load": keep_load, "sine_velocity_m_per_s": ref_v, "settings": rows}
     if not no_clips:
