@@ -91,11 +91,14 @@ The output and its anti-aliasing
 The chain hears V_o averaged with a quadratic B-spline kernel over the last
 three steps, a continuous-time convolution of third order (Parker,
 Zavalishin & Le Bivic, "Reducing the aliasing of nonlinear waveshaping
-using continuous-time convolution", DAFx-16, 2016): on x_lin's samples that
-is the FIR [1, 11, 11, 1]/24, which the linear path applies and the
-decimator takes into account; the deviation d is integrated against the
-kernel exactly where the step is exact and piecewise-linearly between the
-short steps, which places every clip edge to within a short step.
+using continuous-time convolution", DAFx-16, 2016). Within each step x_lin
+is the cubic through its four nearest samples (so the loop runs one sample
+behind its input), for the loop's input and for its output alike: on
+x_lin's samples the kernel is a 6-tap symmetric FIR (``KERNEL_TAPS``), which
+the linear path applies and the decimator takes into account, and the loop
+adds the kernel's average of d = V_o − x_lin, exact where the step is exact
+and piecewise-linear between the short steps, which places every clip edge
+to within a short step. At a rail the output is then the rail exactly.
 """
 
 from __future__ import annotations
@@ -258,7 +261,7 @@ class Loop:
 
     On a grid θ_k = k/N (k = 0 … N, N = ``substeps``) of each step, σ the time
     within the step in steps and x_lin within it the cubic through steps
-    n−3 … n (Lagrange basis ℓ_i, values ``basis`` and derivatives ``basis_d``
+    n−2 … n+1 (Lagrange basis ℓ_i, values ``basis`` and derivatives ``basis_d``
     at the grid points, shape (N+1, 4)):
 
     lin_at, lin_rest : [shape=(N+1, K, K)], the exact identity-part step from 0 to θ_k
@@ -346,9 +349,29 @@ def correction_system(net: Network, amp: OpAmp):
     return a, b, None, None
 
 
-# cubic Lagrange basis through σ = −2, −1, 0, 1 (x_lin at steps n−3 … n: causal, so that a block's last
-# step needs nothing from the next block), as coefficients of 1, σ, σ², σ³; the step runs over σ ∈ [0, 1]
-LAGRANGE = np.array([[0.0, 1 / 6, 0.0, -1 / 6], [0.0, -1.0, 1 / 2, 1 / 2], [1.0, 1 / 2, -1.0, -1 / 2], [0.0, 1 / 3, 1 / 2, 1 / 6]])
+# cubic Lagrange basis through σ = −1, 0, 1, 2 (x_lin at steps n−2 … n+1), as coefficients of 1, σ, σ², σ³;
+# step n runs over σ ∈ [0, 1]; the loop runs one step behind its input for the look-ahead
+LAGRANGE = np.array([[0.0, -1 / 3, 1 / 2, -1 / 6], [1.0, -1 / 2, -1.0, 1 / 2], [0.0, 1.0, 1 / 2, -1 / 2], [0.0, -1 / 6, 0.0, 1 / 6]])
+# the output kernel's pieces on the last three steps (oldest first), as coefficients of 1, σ, σ²:
+# the quadratic B-spline σ²/2, (1 + 2σ − 2σ²)/2, (1 − σ)²/2
+KERNEL_PIECES = np.array([[0.0, 0.0, 0.5], [0.5, 1.0, -1.0], [0.5, -1.0, 0.5]])
+
+
+def _kernel_taps() -> np.ndarray:
+    """The output kernel applied to x_lin's cubic: an FIR on x_lin's samples, newest first.
+
+    Output n averages steps n−2, n−1, n; step m's cubic uses samples m−2 … m+1, so the taps
+    span samples n+1 … n−4 (6 taps, symmetric: the kernel and the centred cubic both are).
+    """
+    taps = np.zeros(6)
+    for s, piece in zip((-2, -1, 0), KERNEL_PIECES):
+        for i in range(4):
+            w = sum(piece[a] * LAGRANGE[i, b] / (a + b + 1) for a in range(3) for b in range(4))
+            taps[1 - (s - 2 + i)] += w  # sample n + (s − 2 + i) is (1 − (s − 2 + i)) samples back from n+1
+    return taps
+
+
+KERNEL_TAPS = _kernel_taps()
 
 
 def _phis(m, count):
@@ -684,15 +707,15 @@ def _rail_holds(side, xlin_t, dxlin_t, wz, rail, gbw, x_cl, tau, a0, d_o, beta_c
 
 
 # carried scalars in the state vector ``hist``
-H_X, H_XL1, H_XL2, H_XL3, H_VO1, H_P1, H_P2 = range(7)
-HIST = 7
+H_X, H_XL1, H_XL2, H_VO1, H_P1, H_P2 = range(6)
+HIST = 6
 
 
 @njit(cache=True, inline="always")
 def _cubic(t, x4):
-    """x_lin at σ = t within the step: the cubic through x4 at σ = −2, −1, 0, 1 (LAGRANGE)."""
-    return (-(t + 1.0) * t * (t - 1.0) / 6.0 * x4[0] + (t + 2.0) * t * (t - 1.0) / 2.0 * x4[1]
-            - (t + 2.0) * (t + 1.0) * (t - 1.0) / 2.0 * x4[2] + (t + 2.0) * (t + 1.0) * t / 6.0 * x4[3])
+    """x_lin at σ = t within the step: the cubic through x4 at σ = −1, 0, 1, 2 (LAGRANGE)."""
+    return (-t * (t - 1.0) * (t - 2.0) / 6.0 * x4[0] + (t + 1.0) * (t - 1.0) * (t - 2.0) / 2.0 * x4[1]
+            - (t + 1.0) * t * (t - 2.0) / 2.0 * x4[2] + (t + 1.0) * t * (t - 1.0) / 6.0 * x4[3])
 
 
 @njit(cache=True, inline="always")
@@ -728,19 +751,24 @@ def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4,
 
 
 @njit(cache=True)
-def run(xl, loud, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, lin_head, lin_tail,
+def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, lin_head, lin_tail,
         rail_at, rail_rest, rail_head_g, rail_tail_g, rail_head_x, rail_tail_x, scan_rows, scan_g, scan_x, rail_head_m, rail_tail_m,
         TP, Tr, Trho, GP, Gr, Grho, P2, r2, rho2, u, kc, d_row, beta_c, c_vec, d_o, a0, tau, xi_index,
         low, high, knee, clamp_lo, clamp_hi, slew_step, scale, tol, knee_step, z, hist, out_c, out_vo):
-    """Run the loop over ``xl`` from an output-sample boundary; stop early once it has decayed.
+    """Run the loop's steps over ``xl``; stop early, at an output-sample boundary, once it has decayed.
 
-    xl : x_lin, V, shape (R·m,), at the loop's rate ``rate`` (Hz); step n runs from sample n−1 to n
-    loud : bool, shape (m,): output samples where x_lin may leave f's identity part
+    xl : x_lin, V, shape (m + 1,), at the loop's rate ``rate`` (Hz): samples ``start`` … ``start`` + m;
+        step j runs from sample start + j − 1 to start + j and needs sample start + j + 1 as well, so
+        m steps are run
+    start : int, the oversampled index of xl[0] (any origin; boundaries are where it is a multiple of R)
+    loud : bool: output samples where x_lin may leave f's identity part, loud[k − loud_base] for
+        output sample k = index // R
     the rest : the fields of :class:`Loop`
     z, hist : the carried state (changed in place)
     out_c : V, shape (R·m,): written with the correction to the kernel-weighted mean of x_lin
     out_vo : V, shape (R·m,): written with the op-amp output V_o
-    returns : (samples run, samples with x outside f's identity part, steps with short steps, still active)
+    returns : (steps run, steps with x outside f's identity part, steps with short steps, still active);
+        out_c[j] is the correction for step start + j, which the chain places at sample start + j + 1
     """
     n = z.size
     N = basis.shape[0] - 1
@@ -761,9 +789,10 @@ def run(xl, loud, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, 
     mom2 = np.zeros(3)
     clipped = 0
     short = 0
-    total = xl.size
+    total = xl.size - 1
     for i in range(total):
-        if i % oversample == 0 and not loud[i // oversample]:
+        a = start + i
+        if a % oversample == 0 and not loud[a // oversample - loud_base]:
             small = abs(hist[H_VO1] - hist[H_XL1]) < tol and abs(hist[H_X] - hist[H_XL1]) < tol
             if small:
                 for j in range(n):
@@ -775,10 +804,10 @@ def run(xl, loud, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, 
                     z[j] = 0.0
                 return i, clipped, short, False
         x_lin = xl[i]
-        x4[0] = hist[H_XL3]
-        x4[1] = hist[H_XL2]
-        x4[2] = hist[H_XL1]
-        x4[3] = x_lin
+        x4[0] = hist[H_XL2]
+        x4[1] = hist[H_XL1]
+        x4[2] = x_lin
+        x4[3] = xl[i + 1]
         x_prev = hist[H_X]
         v_prev = hist[H_VO1]
         side = _region(x_prev, centre, half, knee)
@@ -969,7 +998,6 @@ def run(xl, loud, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, 
         if abs(x_a - centre) > half:
             clipped += 1
         hist[H_X] = x_a
-        hist[H_XL3] = hist[H_XL2]
         hist[H_XL2] = hist[H_XL1]
         hist[H_XL1] = x_lin
         hist[H_VO1] = v_a
@@ -987,26 +1015,29 @@ class LoopState:
         self.short_steps = 0
 
     def start(self, xl_before) -> None:
-        """Start from a zero correction, with x_lin's three samples before the start (V, [x[−3], x[−2], x[−1]])."""
+        """Start from a zero correction, with x_lin's two samples before the first step's end (V, [x[−2], x[−1]])."""
         self.z[:] = 0.0
         self.hist[:] = 0.0
-        x3, x2, x1 = (float(v) for v in xl_before)
+        x2, x1 = (float(v) for v in xl_before)
         self.hist[H_X] = self.hist[H_XL1] = self.hist[H_VO1] = x1
         self.hist[H_XL2] = x2
-        self.hist[H_XL3] = x3
         self.active = True
 
-    def run(self, xl, loud, *, oversample: int):
-        """Run over ``xl`` (V, at the loop's rate, from an output-sample boundary); see :func:`run`.
+    def run(self, xl, *, start: int, loud, loud_base: int, oversample: int):
+        """Run the steps over ``xl`` (V, at the loop's rate, samples ``start`` … ``start`` + m); see :func:`run`.
 
-        returns : (out_c, out_vo, samples run, clipped samples); ``self.active`` tells whether it is still running
+        returns : (out_c, out_vo, steps run, clipped steps); ``self.active`` tells whether it is still running
         """
         lp = self.loop
         w = lp.window
-        out_c = np.zeros(xl.size)
-        out_vo = np.empty(xl.size)
+        m = max(xl.size - 1, 0)
+        out_c = np.zeros(m)
+        out_vo = np.empty(m)
+        if m == 0:
+            return out_c, out_vo, 0, 0
         done, clipped, short, active = run(
-            np.ascontiguousarray(xl, dtype=float), np.ascontiguousarray(loud, dtype=np.bool_), int(oversample), lp.sample_rate,
+            np.ascontiguousarray(xl, dtype=float), int(start), np.ascontiguousarray(loud, dtype=np.bool_), int(loud_base),
+            int(oversample), lp.sample_rate,
             lp.basis, lp.basis_d, lp.lin_at, lp.lin_rest, lp.lin_rows, lp.lin_head, lp.lin_tail,
             lp.rail_at, lp.rail_rest, lp.rail_head_g, lp.rail_tail_g, lp.rail_head_x, lp.rail_tail_x,
             lp.scan_rows, lp.scan_g, lp.scan_x, lp.rail_head_m, lp.rail_tail_m,

@@ -82,7 +82,6 @@ from .limit import Window, design_window
 INTERNAL_RATE_HZ = 192000.0  # the limiter runs at no less than this rate
 IMAGE_REJECTION_DB = 100.0  # interpolator stopband, from fs − band edge
 ALIAS_WEIGHT = 1e3  # stopband weight of the decimator's least-squares design
-KERNEL = np.array([1.0, 11.0, 11.0, 1.0]) / 24.0  # the loop's output kernel on a piecewise-linear signal (render.chain.loop)
 LOOP_CHUNK = 4096  # output samples: the loop runs past a loud stretch this far at a time while it decays
 
 
@@ -97,7 +96,7 @@ class Resampler:
     up : np.ndarray, shape (Lu,), interpolating FIR at R·fs, DC gain R (Lu odd)
     down : np.ndarray, shape (Ld,), decimating FIR at R·fs, DC gain ≈ 1 (Ld even)
     linear : np.ndarray, shape (Lc,), the whole path at fs while the op-amp is
-        linear: (up ∗ [1, 11, 11, 1]/24 ∗ down) sampled every R-th tap
+        linear: (up ∗ the loop's output kernel ∗ down) sampled every R-th tap
     delay : int, output samples of group delay of ``linear`` (and of the path)
     gain_bound : float, max over polyphase branches of Σ|up taps|
     span : int, output samples of history any output sample depends on
@@ -129,21 +128,23 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     lu |= 1
     up = ss.firwin(lu, fs / 2, window=("kaiser", beta), fs=fi) * R
     ld = lu - 1
-    while (lu + ld + 1) % (2 * R):
+    # total delay (lu − 1)/2 + (the kernel's 6 taps: 2.5) + (ld − 1)/2 on the output grid
+    while (lu + ld + 3) % (2 * R):
         ld += 2
     # decimator: zero-phase amplitude R/(A_up·(1 + 2·cos(2πf/fi))/3) in band (undoing the
-    # interpolator's ripple and the loop's [1, 11, 11, 1]/24 output kernel's droop), 0 from fs − band up
+    # interpolator's ripple and the loop's output kernel's droop), 0 from fs − band up
     f = np.concatenate([np.linspace(0.0, band, 300), np.linspace(stop, fi / 2, 1200)])
     n_up = np.arange(lu) - (lu - 1) / 2
     a_up = np.cos(2 * np.pi * np.outer(f, n_up) / fi) @ up
     w = 2 * np.pi * f / fi
-    target = np.where(f <= band, R / (a_up * (11.0 * np.cos(w / 2) + np.cos(1.5 * w)) / 12.0), 0.0)
+    a_kernel = np.cos(np.outer(w, np.arange(6) - 2.5)) @ lp.KERNEL_TAPS  # zero-phase amplitude
+    target = np.where(f <= band, R / (a_up * a_kernel), 0.0)
     weight = np.sqrt(np.where(f <= band, 1.0, ALIAS_WEIGHT))
     half = np.arange(ld // 2) + 0.5
     basis = 2 * np.cos(2 * np.pi * np.outer(f, half) / fi)
     coef = np.linalg.lstsq(weight[:, None] * basis, weight * target, rcond=None)[0]
     down = np.concatenate([coef[::-1], coef])
-    g = np.convolve(np.convolve(up, KERNEL), down)
+    g = np.convolve(np.convolve(up, lp.KERNEL_TAPS), down)
     centre = (g.size - 1) // 2
     linear = np.ascontiguousarray(g[::R])
     gain_bound = max(float(np.abs(up[p::R]).sum()) for p in range(R))
@@ -293,27 +294,32 @@ def make_plan(
 # --- the loop stage -------------------------------------------------------------------
 
 
-def _x_lin(plan: Plan, ext: np.ndarray, history: int, k: int, e: int) -> np.ndarray:
-    """x_lin (V, bias included) at R·fs for output samples [k, e) of the block, with the three samples before.
+def _x_lin(plan: Plan, ext: np.ndarray, history: int, a: int, b: int) -> np.ndarray:
+    """x_lin (V, bias included) at R·fs, oversampled indices a … b inclusive (index R·k: the block's output sample k).
 
-    ext : V_lin with ``history`` earlier samples in front; returns shape (R·(e − k) + 3,)
+    ext : V_lin with ``history`` earlier samples in front (indices may reach back into them)
+    returns : shape (b − a + 1,)
     """
     res = plan.resampler
     R = res.oversample
-    h = (res.up.size + 3) // R + 2
-    lo = history + k - h
-    seg = ext[max(lo, 0) : history + e]
+    j0 = (a - res.up.size + 1) // R - 1  # the interpolator has settled from there on
+    j1 = b // R
+    lo = history + j0
+    seg = ext[max(lo, 0) : history + j1 + 1]
     if lo < 0:
         seg = np.concatenate([np.zeros(-lo), seg])
     v = interpolate(seg, up=res.up, oversample=R)
-    return v[R * h - 3 :] + plan.bias_v
+    return v[a - R * j0 : b - R * j0 + 1] + plan.bias_v
 
 
 class _LoopCarry:
-    """The loop stage's state across blocks: the loop's own state and the decimated correction still to add."""
+    """The loop stage's state across blocks: the loop's own state, the next step's oversampled
+    index (relative to the block's start; −1 for the step held back at the end of a block) and the
+    decimated correction still to add."""
 
     def __init__(self, plan: Plan):
         self.loop = lp.LoopState(plan.loop)
+        self.pos = 0
         self.pending = np.zeros(0)
 
 
@@ -331,15 +337,27 @@ def _add(y: np.ndarray, start: int, part: np.ndarray, carry: _LoopCarry) -> None
         carry.pending = pend
 
 
+def _add_decimated(plan: Plan, y: np.ndarray, first: int, c: np.ndarray, carry: _LoopCarry) -> None:
+    """Decimate the correction c (oversampled, its first sample at index ``first``, zero elsewhere) into y."""
+    res = plan.resampler
+    R = res.oversample
+    k0 = first // R
+    pad = first - R * k0
+    w = np.concatenate([np.zeros(pad), c, np.zeros(res.down.size + 2 * R - (pad + c.size) % R)])
+    _add(y, k0, decimate(w, down=res.down, oversample=R), carry)
+
+
 def _loop_stage(plan: Plan, ext: np.ndarray, history: int, carry: _LoopCarry):
     """V_amp − bias (delayed by the resampler's delay) for the last len(ext) − history samples of ext.
 
     ext : V_lin with ``history`` earlier samples in front, shape (history + n,)
-    returns : (y shape (n,), number of oversampled samples with the output stage outside its identity part)
+    returns : (y shape (n,), number of loop steps with the output stage outside its identity part)
 
-    y is the linear path (the resampler's ``linear`` FIR at fs) plus the decimated
-    correction of the loop, which runs at R·fs wherever x_lin may leave the output
-    stage's identity part (the bound below) and on until its correction has decayed.
+    y is the linear path (the resampler's ``linear`` FIR at fs) plus the decimated correction of
+    the loop, which runs at R·fs from wherever x_lin leaves the output stage's identity part (the
+    bound below, then the samples themselves) on until its correction has decayed. The loop's
+    step at oversampled index i needs x_lin at i + 1 and its correction belongs at i + 1: a
+    block's last oversampled sample waits for the next block.
     """
     res = plan.resampler
     win = plan.window
@@ -355,40 +373,48 @@ def _loop_stage(plan: Plan, ext: np.ndarray, history: int, carry: _LoopCarry):
         return y, 0
     room = min(win.linear_high - bias, bias - win.linear_low) / res.gain_bound
     mag = np.abs(ext)
-    if not carry.loop.active and mag.max() <= room:
+    state = carry.loop
+    if not state.active and mag.max() <= room:
+        carry.pos = 0
         return y, 0
     # sample k may leave the identity part if any V_lin in ext[k − span + 1 .. k] is above the room: a
     # running count of such samples (zeros in front for the span before ext) differenced over the span
     count = np.concatenate([np.zeros(res.span, dtype=np.int64), np.cumsum(mag > room)])
     loud = count[history + res.span : ext.size + res.span] - count[history : ext.size] > 0
+    loud_ext = np.concatenate([[True], loud])  # output sample −1 (a held-back step) counts as loud
     clipped = 0
-    k = 0
-    tail = np.zeros(res.down.size + R)
-    while k < n:
-        fresh = not carry.loop.active
-        if fresh:
-            ahead = np.flatnonzero(loud[k:])
+    i = carry.pos if state.active else max(carry.pos, 0)
+    last = R * n - 1  # steps up to last − 1 can run in this block
+    while i < last:
+        k = i // R
+        if not state.active:
+            ahead = np.flatnonzero(loud[max(k, 0) :])
             if not ahead.size:
+                i = last
                 break
-            k += int(ahead[0])
-        quiet = np.flatnonzero(~loud[k:])
-        e = min(n, k + (int(quiet[0]) if quiet.size else n - k) + LOOP_CHUNK)
-        xl = _x_lin(plan, ext, history, k, e)
-        if fresh:
+            k = max(k, 0) + int(ahead[0])
+            quiet = np.flatnonzero(~loud[k:])
+            e = min(n, k + (int(quiet[0]) if quiet.size else n - k) + LOOP_CHUNK)
+            a = max(i, R * k)
+            xl = _x_lin(plan, ext, history, a - 2, R * e - 1)
             # the bound is loose: start where x_lin actually leaves the output stage's identity part
-            out = np.flatnonzero((xl[3:] > win.linear_high) | (xl[3:] < win.linear_low))
-            if not out.size:
-                k = e
+            out = np.flatnonzero((xl[2:] > win.linear_high) | (xl[2:] < win.linear_low))
+            if not out.size or a + int(out[0]) >= last:
+                i = max(i, R * e - 1)
                 continue
-            skip = int(out[0]) // R
-            k += skip
-            xl = xl[R * skip :]
-            carry.loop.start(xl[:3])
-        c, _, done, cl = carry.loop.run(xl[3:], loud[k:e], oversample=R)
+            i = a + int(out[0])
+            state.start(xl[i - a : i - a + 2])
+            xl = xl[i - a + 2 :]
+        else:
+            quiet = np.flatnonzero(~loud[max(k, 0) :])
+            e = min(n, max(k, 0) + (int(quiet[0]) if quiet.size else n - max(k, 0)) + LOOP_CHUNK)
+            xl = _x_lin(plan, ext, history, i, R * e - 1)
+        c, _, done, cl = state.run(xl, start=i, loud=loud_ext, loud_base=-1, oversample=R)
         clipped += cl
         if done:
-            _add(y, k, decimate(np.concatenate([c, tail]), down=res.down, oversample=R), carry)
-        k += done // R
+            _add_decimated(plan, y, i + 1, c, carry)
+        i += done
+    carry.pos = i - R * n
     return y, clipped
 
 
@@ -396,18 +422,20 @@ def limiter_output(plan: Plan, v_lin) -> tuple[np.ndarray, np.ndarray]:
     """The op-amp output of a whole V_lin signal, through the oversampled loop only.
 
     v_lin : array_like, V, shape (n,), the linear op-amp output (bias excluded) at plan.sample_rate
-    returns : (internal, decimated): the op-amp output V_o at R·sample_rate, V,
-        shape (R·n,), within the window; and the chain's band-limited op-amp output
-        at sample_rate, V, shape (n,), bias included, delayed by plan.resampler.delay samples
+    returns : (internal, decimated): the op-amp output V_o at R·sample_rate, V, shape (R·n − 1,)
+        (the loop's steps ending at oversampled samples 0 … R·n − 2), within the window; and the
+        chain's band-limited op-amp output at sample_rate, V, shape (n,), bias included, delayed by
+        plan.resampler.delay samples
     """
     res = plan.resampler
     R = res.oversample
     seg = np.asarray(v_lin, dtype=float)
     xl = interpolate(seg, up=res.up, oversample=R) + plan.bias_v
     state = lp.LoopState(plan.loop)
-    state.start([plan.bias_v] * 3)
-    c, vo, _, _ = state.run(xl, np.ones(seg.size, dtype=bool), oversample=R)
-    w = np.convolve(xl - plan.bias_v, KERNEL)[: xl.size] + c
+    state.start([plan.bias_v] * 2)
+    c, vo, _, _ = state.run(xl, start=0, loud=np.ones(seg.size, dtype=bool), loud_base=0, oversample=R)
+    w = np.convolve(xl - plan.bias_v, lp.KERNEL_TAPS)[: xl.size]
+    w[1 : 1 + c.size] += c
     return vo, decimate(w, down=res.down, oversample=R) + plan.bias_v
 
 

@@ -134,10 +134,10 @@ def test_recovery_time_is_the_linear_circuits_slowest_mode():
 def _kernel_run(design, x_lin, *, rate, oversample):
     loop = lp.make_loop(design, sample_rate=rate)
     state = lp.LoopState(loop)
-    state.start(x_lin[:3])
-    _, vo, done, _ = state.run(x_lin[3:], np.ones(x_lin.size // oversample + 1, dtype=bool), oversample=oversample)
+    state.start(x_lin[:2])
+    _, vo, done, _ = state.run(x_lin[2:], start=0, loud=np.ones(x_lin.size // oversample + 1, dtype=bool), loud_base=0, oversample=oversample)
     assert done == x_lin.size - 3
-    return vo
+    return vo  # vo[j]: the step ending at x_lin sample j + 2
 
 
 @pytest.mark.parametrize("name", ["reference", "no-gbw"])
@@ -156,8 +156,8 @@ def test_no_ringing_at_the_clip_edges(name):
         t = np.arange(int(0.03 * rate)) / rate
         x_lin = dc + amp * np.sin(2 * np.pi * 1300 * t)
         out[mult] = _kernel_run(d, x_lin, rate=rate, oversample=mult)
-    # sample j of the 192 kHz run is at t = (j + 3)/(4·fs), sample 4j + 9 of the 768 kHz run too
-    coarse, fine = out[4], out[16][9::4][: out[4].size]
+    # step j of the 192 kHz run ends at t = (j + 2)/(4·fs), step 4j + 6 of the 768 kHz run too
+    coarse, fine = out[4], out[16][6::4][: out[4].size]
     assert np.max(np.abs(coarse - fine)) < 1e-3
 
 
