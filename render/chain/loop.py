@@ -118,7 +118,8 @@ RAIL_TOL_V = 1e-12  # V: the op-amp state within this of a clamp is at the rail
 NO_SLEW = 1e301  # V per step standing for no slew limit
 STAGE_1 = 1.0 / (GAMMA * (2.0 - GAMMA))  # TR-BDF2's BDF2 stage: weights of Z[γ] and Z[0]
 STAGE_0 = -((1.0 - GAMMA) ** 2) / (GAMMA * (2.0 - GAMMA))
-KNEE_FRACTION = 8  # TR-BDF2 steps on a knee are this many per step
+KNEE_FRACTION = 8  # steps along a knee are this many per step
+KNEE_BDF2 = False  # BDF2 (not TR-BDF2) along a knee after its first step: cheaper, less accurate
 
 @dataclass(frozen=True)
 class Network:
@@ -279,6 +280,7 @@ class Loop:
         (N+1, …); see :func:`_trbdf2`): the trapezoidal stage to γ, Z = P·Z[0] + r·(d[0] + d), and
         the BDF2 stage, Z = M·(STAGE_1·Z[γ] + STAGE_0·Z[0]) + r'·d
     bdf2 : (M, r, ρ) of BDF2 at 1/N, Z = M·(2·Z[n−1] − Z[n−2]/2) + r·d (see :func:`_step`)
+    bdf2_knee : the same at 1/KNEE_FRACTION of a step, for the steps along a knee
     u_vec : [shape=(K,)], ξ = u·(the short step's prediction) + ρ·d
     kc : [shape=(K,)], the settled op-amp's requested output m = x_lin + kc·Z
     d_row : [shape=(K,)], ξ = d_row·Z on the identity part
@@ -316,6 +318,7 @@ class Loop:
     rail_tail_m: np.ndarray
     trbdf2: tuple
     bdf2: tuple
+    bdf2_knee: tuple
     u_vec: np.ndarray
     kc: np.ndarray
     d_row: np.ndarray
@@ -490,6 +493,9 @@ def make_loop(design, *, sample_rate: float, params=None) -> Loop:
     tr_arrays = [np.array([t[q] for t in tr]) for q in range(4)]
     inv = np.linalg.inv(1.5 * eye - hs * a)
     bdf2 = (inv, hs * (inv @ b))  # Z = inv·(2·Z[n−1] − Z[n−2]/2) + r·d
+    hk = h * max(1, N // KNEE_FRACTION) / N
+    inv = np.linalg.inv(1.5 * eye - hk * a)
+    bdf2_knee = (inv, hk * (inv @ b))
 
     def rho(r):
         return float(r[xi]) if gbw else float(u_c @ r + u_d)
@@ -525,6 +531,7 @@ def make_loop(design, *, sample_rate: float, params=None) -> Loop:
         rail_tail_m=c(rail_tail_m),
         trbdf2=(c(tr_arrays[0]), c(tr_arrays[1]), c([rho(t[1]) for t in tr]), c(tr_arrays[2]), c(tr_arrays[3]), c([rho(t[3]) for t in tr])),
         bdf2=(c(bdf2[0]), c(bdf2[1]), rho(bdf2[1])),
+        bdf2_knee=(c(bdf2_knee[0]), c(bdf2_knee[1]), rho(bdf2_knee[1])),
         u_vec=c(u),
         kc=c(kc),
         d_row=c(d_row),
@@ -750,10 +757,20 @@ def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4,
     return xb, vb, xg, s1 or s2
 
 
+@njit(cache=True, inline="always")
+def _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2):
+    hist[H_X] = h_x
+    hist[H_XL1] = h_xl1
+    hist[H_XL2] = h_xl2
+    hist[H_VO1] = h_vo1
+    hist[H_P1] = h_p1
+    hist[H_P2] = h_p2
+
+
 @njit(cache=True)
 def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, lin_head, lin_tail,
         rail_at, rail_rest, rail_head_g, rail_tail_g, rail_head_x, rail_tail_x, scan_rows, scan_g, scan_x, rail_head_m, rail_tail_m,
-        TP, Tr, Trho, GP, Gr, Grho, P2, r2, rho2, u, kc, d_row, beta_c, c_vec, d_o, a0, tau, xi_index,
+        TP, Tr, Trho, GP, Gr, Grho, P2, r2, rho2, PK, rK, rhoK, u, kc, d_row, beta_c, c_vec, d_o, a0, tau, xi_index,
         low, high, knee, clamp_lo, clamp_hi, slew_step, scale, tol, knee_step, z, hist, out_c, out_vo):
     """Run the loop's steps over ``xl``; stop early, at an output-sample boundary, once it has decayed.
 
@@ -784,16 +801,18 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
     zb = np.empty(n)
     zc = np.empty(n)
     zg = np.empty(n)
+    zk = np.empty(n)
     x4 = np.empty(4)
     mom = np.zeros(3)
     mom2 = np.zeros(3)
     clipped = 0
     short = 0
     total = xl.size - 1
+    h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2 = hist[H_X], hist[H_XL1], hist[H_XL2], hist[H_VO1], hist[H_P1], hist[H_P2]
     for i in range(total):
         a = start + i
         if a % oversample == 0 and not loud[a // oversample - loud_base]:
-            small = abs(hist[H_VO1] - hist[H_XL1]) < tol and abs(hist[H_X] - hist[H_XL1]) < tol
+            small = abs(h_vo1 - h_xl1) < tol and abs(h_x - h_xl1) < tol
             if small:
                 for j in range(n):
                     if abs(z[j]) * scale[j] >= tol:
@@ -802,14 +821,15 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
             if small:
                 for j in range(n):
                     z[j] = 0.0
+                _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2)
                 return i, clipped, short, False
         x_lin = xl[i]
-        x4[0] = hist[H_XL2]
-        x4[1] = hist[H_XL1]
+        x4[0] = h_xl2
+        x4[1] = h_xl1
         x4[2] = x_lin
         x4[3] = xl[i + 1]
-        x_prev = hist[H_X]
-        v_prev = hist[H_VO1]
+        x_prev = h_x
+        v_prev = h_vo1
         side = _region(x_prev, centre, half, knee)
         mom[0] = 0.0
         mom[1] = 0.0
@@ -859,12 +879,17 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
             if side == 2 or side == -2:
                 rail = high if side > 0 else low
                 x_cl = clamp_hi if side > 0 else clamp_lo
-                k0 = N - 1
-                for kk in range(1, N + 1):
+                # the last grid point where the rail still holds (it fails at the end): bisection
+                lo_k = 0
+                hi_k = N
+                while hi_k - lo_k > 1:
+                    kk = (lo_k + hi_k) // 2
                     wz = _dot(scan_rows, kk, z) + rail * scan_g[kk] + _xs(scan_x, kk, x4)
-                    if not _rail_holds(side, _xs(basis, kk, x4), rate * _xs(basis_d, kk, x4), wz, rail, gbw, x_cl, tau, a0, d_o, beta_c, centre, half, knee):
-                        k0 = kk - 1
-                        break
+                    if _rail_holds(side, _xs(basis, kk, x4), rate * _xs(basis_d, kk, x4), wz, rail, gbw, x_cl, tau, a0, d_o, beta_c, centre, half, knee):
+                        lo_k = kk
+                    else:
+                        hi_k = kk
+                k0 = lo_k
                 if k0 > 0:
                     _rail_state(rail_at, rail_head_g, rail_head_x, k0, z, rail, x4, za)
                     _rail_state(rail_at, rail_head_g, rail_head_x, k0 - 1, z, rail, x4, zb)
@@ -882,14 +907,28 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                     v_a = rail
                     k = k0
             elif side == 0:
-                k0 = N - 1
                 xk = x_prev
-                for kk in range(1, N + 1):
-                    xn = _xs(basis, kk, x4) + _dot(lin_rows, kk, z)
-                    if _region(xn, centre, half, knee) != 0 or abs(xn - xk) > sub_slew:
-                        k0 = kk - 1
-                        break
-                    xk = xn
+                if slew_step >= NO_SLEW:
+                    # the last grid point still on the identity part (it is off at the end): bisection
+                    lo_k = 0
+                    hi_k = N
+                    while hi_k - lo_k > 1:
+                        kk = (lo_k + hi_k) // 2
+                        xn = _xs(basis, kk, x4) + _dot(lin_rows, kk, z)
+                        if _region(xn, centre, half, knee) == 0:
+                            lo_k = kk
+                            xk = xn
+                        else:
+                            hi_k = kk
+                    k0 = lo_k
+                else:
+                    k0 = N - 1
+                    for kk in range(1, N + 1):
+                        xn = _xs(basis, kk, x4) + _dot(lin_rows, kk, z)
+                        if _region(xn, centre, half, knee) != 0 or abs(xn - xk) > sub_slew:
+                            k0 = kk - 1
+                            break
+                        xk = xn
                 if k0 > 0:
                     _matvec(lin_at, k0, z, za)
                     _matvec(lin_at, k0 - 1, z, zb)
@@ -900,26 +939,40 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                     v_a = xk
                     k = k0
             tried = 9
+            knee_run = False  # whether za, zk are the last two knee steps' states (BDF2 history)
             va = v_a - _xs(basis, k, x4)  # d at the current grid point
             vo_end = v_a
             while k < N:
                 ta = k * dl
                 reg = _region(x_a, centre, half, knee)
                 if reg == 1 or reg == -1:
-                    # on a knee: TR-BDF2 over up to a quarter step, kept if it stays off the rails
-                    seg = min(knee_step, N - k)
+                    # on a knee: steps of knee_step grid points (TR-BDF2 for the first, BDF2 after),
+                    # kept while they stay off the rails
+                    # as long as x_lin moves less than a quarter of the knee along it, at most a whole step
+                    dxl = abs(x4[2] - x4[1])
+                    seg = N if 4.0 * dxl <= knee else max(1, int(knee * N / (4.0 * dxl)))
+                    seg = min(seg, N - k)
                     mom2[0] = 0.0
                     mom2[1] = 0.0
                     mom2[2] = 0.0
-                    x_e, v_e, x_g, sl = _trbdf2(za, va, x_a, ta, seg, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step,
-                                                clamp_lo, clamp_hi, centre, half, knee, low, high, mom2, zp, zg, zc)
+                    if KNEE_BDF2 and knee_run and seg == knee_step and False:
+                        xe_lin = _xs(basis, k + seg, x4)
+                        x_e, v_e, sl = _step(za, zk, PK, 2.0, -0.5, rK, 0.0, u, rhoK, xi_index, xe_lin, x_a, seg * sub_slew,
+                                             clamp_lo, clamp_hi, centre, half, knee, low, high, zp, zc)
+                        x_g = x_e
+                        _piece(mom2, ta, ta + seg * dl, va, v_e - xe_lin)
+                    else:
+                        x_e, v_e, x_g, sl = _trbdf2(za, va, x_a, ta, seg, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step,
+                                                    clamp_lo, clamp_hi, centre, half, knee, low, high, mom2, zp, zg, zc)
                     rg = _region(x_g, centre, half, knee)
                     re = _region(x_e, centre, half, knee)
                     if not sl and rg != 2 and rg != -2 and re != 2 and re != -2:
                         for j in range(3):
                             mom[j] += mom2[j]
                         for j in range(n):
+                            zk[j] = za[j]
                             za[j] = zc[j]
+                        knee_run = True
                         have_b = False
                         x_a = x_e
                         k += seg
@@ -927,6 +980,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                         va = v_e - _xs(basis, k, x4)
                         tried = 9
                         continue
+                knee_run = False
                 # a short step
                 xt = _xs(basis, k + 1, x4)
                 if have_b:
@@ -991,16 +1045,17 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
         m0 = mom[0]
         m1 = mom[1]
         m2 = mom[2]
-        out_c[i] = hist[H_P1] + 0.5 * (m0 - 2.0 * m1 + m2)
-        hist[H_P1] = hist[H_P2] + 0.5 * (m0 + 2.0 * m1 - 2.0 * m2)
-        hist[H_P2] = 0.5 * m2
+        out_c[i] = h_p1 + 0.5 * (m0 - 2.0 * m1 + m2)
+        h_p1 = h_p2 + 0.5 * (m0 + 2.0 * m1 - 2.0 * m2)
+        h_p2 = 0.5 * m2
         out_vo[i] = v_a
         if abs(x_a - centre) > half:
             clipped += 1
-        hist[H_X] = x_a
-        hist[H_XL2] = hist[H_XL1]
-        hist[H_XL1] = x_lin
-        hist[H_VO1] = v_a
+        h_x = x_a
+        h_xl2 = h_xl1
+        h_xl1 = x_lin
+        h_vo1 = v_a
+    _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2)
     return total, clipped, short, True
 
 
@@ -1041,7 +1096,7 @@ class LoopState:
             lp.basis, lp.basis_d, lp.lin_at, lp.lin_rest, lp.lin_rows, lp.lin_head, lp.lin_tail,
             lp.rail_at, lp.rail_rest, lp.rail_head_g, lp.rail_tail_g, lp.rail_head_x, lp.rail_tail_x,
             lp.scan_rows, lp.scan_g, lp.scan_x, lp.rail_head_m, lp.rail_tail_m,
-            *lp.trbdf2, *lp.bdf2, lp.u_vec, lp.kc, lp.d_row, lp.beta_c, lp.c_vec, lp.d_o, lp.open_loop_gain, lp.tau_s,
+            *lp.trbdf2, *lp.bdf2, *lp.bdf2_knee, lp.u_vec, lp.kc, lp.d_row, lp.beta_c, lp.c_vec, lp.d_o, lp.open_loop_gain, lp.tau_s,
             lp.xi_index, w.low, w.high, w.knee, lp.clamp[0], lp.clamp[1], lp.slew_step, lp.scale, TOLERANCE_V, max(1, lp.substeps // KNEE_FRACTION),
             self.z, self.hist, out_c, out_vo,
         )

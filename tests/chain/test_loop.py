@@ -174,3 +174,31 @@ def test_slew_rate_needs_gbw():
     data["supply"]["gbw"] = "3MHz"
     d = parse_design(data, source="x.toml")
     assert d.supply.slew_rate == pytest.approx(13e6) and d.supply.open_loop_gain == 1e5
+
+
+@pytest.mark.parametrize(
+    "sample_rate, f0, before_worst_db, before_total_db",
+    [
+        # the renderer before the loop (commit 0b0afc1: the soft limit on the linear output, 4×
+        # oversampled, first-order ADAA), measured with this test's code on the same signal
+        (48000, 3100.0, -112.8, -108.7),
+        (44100, 3000.0, -103.8, -99.9),
+    ],
+)
+def test_anti_aliasing_is_no_worse_than_before(sample_rate, f0, before_worst_db, before_total_db):
+    # a steady 3 kHz sine 10 dB past the clip onset: the non-harmonic content from 40 Hz to 20 kHz
+    # (aliases; whole periods, 1 Hz bins) no higher than the previous renderer's, worst line and
+    # total power both. At 48 kHz a 3000 Hz tone's aliases would land on its harmonics (48/3 = 16),
+    # hence 3100 Hz there; at 44.1 kHz 3000 Hz is already incommensurate.
+    fs = sample_rate
+    o = onset(REF, frequency_hz=f0)
+    vel = min(o["velocity_up_m_per_s"], o["velocity_down_m_per_s"]) * 10 ** (10 / 20)
+    t = np.arange(int(2.5 * fs)) / fs
+    r = render_signal(REF, vel * np.sin(2 * np.pi * f0 * t), sample_rate=fs, hum=False)
+    seg = r["amp_out"][int(1.4 * fs) : int(1.4 * fs) + fs]  # after the operating point has settled
+    f, a = spectrum(seg, sample_rate=fs)
+    harmonic = np.abs(f / f0 - np.round(f / f0)) < 1e-6
+    band = (f >= 40) & (f <= 20000) & ~harmonic
+    fund = a[np.argmin(np.abs(f - f0))]
+    assert 20 * np.log10(a[band].max() / fund) <= before_worst_db
+    assert 10 * np.log10(np.sum(a[band] ** 2) / fund**2) <= before_total_db
