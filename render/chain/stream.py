@@ -20,12 +20,16 @@ filter's state carried from block to block:
    (both coils' hum EMFs together, so a balanced design's cancellation is
    exact rather than the difference of two filtered signals); or, given an
    explicit dB/dt signal, that signal through the discretised common path;
-4. the soft limit V_amp = limit(bias + V_lin), oversampled R× (192 kHz for
-   48 kHz output) with first-order antiderivative anti-aliasing: a
-   linear-phase interpolating FIR (Kaiser window, about −100 dB image
-   rejection from fs − 20 kHz up), ADAA-1, and a least-squares decimating
-   FIR (−110 dB alias rejection from fs − 20 kHz up) whose passband also
-   undoes ADAA's two-tap droop. Only the signal *differences* V_amp − bias
+4. the op-amp inside its feedback loop (:mod:`render.chain.loop`): the
+   linear op-amp output x_lin = bias + V_lin, interpolated R× (192 kHz for
+   48 kHz output; a linear-phase Kaiser FIR, about −100 dB image rejection
+   from fs − 20 kHz up), drives the loop's nonlinear correction wherever
+   the output stage leaves its identity part, until that correction (the
+   circuit's memory: series_c charged while the loop was open) has
+   decayed; the loop's output is averaged with a third-order
+   continuous-time kernel, and a least-squares decimating FIR (−110 dB
+   alias rejection from fs − 20 kHz up) whose passband undoes the kernel's
+   droop brings it back to fs. Only the signal *differences* V_amp − bias
    are filtered, so the DC bias passes exactly;
 5. the output network, controls and cable (``out_stage``) applied at fs to
    V_amp − bias (it blocks DC, so leaving the bias out changes nothing but
@@ -35,29 +39,31 @@ filter's state carried from block to block:
 
 Why the linear parts run at fs and not at the oversampled rate: the
 oversampled IIR alone (7–9 second-order sections at 192 kHz) costs more
-than the whole 100× real-time budget, and plain bilinear filters would not
-meet 0.1 dB at 16 kHz even at 192 kHz. Only the limiter needs the high
-rate. While the signal stays inside the limiter's identity region, the
-oversampled path is a fixed linear filter (interpolator · two-tap mean ·
-decimator, sampled at the output rate: a 79-tap linear-phase FIR at fs,
-flat within ±0.001 dB to 20 kHz), so such stretches are computed with that
-FIR directly. A sample takes the oversampled path when the bound
-|interpolated| ≤ G·max|V_lin| over the filters' span (G: the largest sum of
-|taps| of one polyphase branch) cannot rule out reaching the knee. The two
-paths agree to float rounding wherever the bound holds, so the choice never
-shows in the output, and never depends on the block size.
+than the whole real-time budget, and plain bilinear filters would not meet
+0.1 dB at 16 kHz even at 192 kHz. Only the loop needs the high rate. While
+the output stage stays on its identity part and the loop's correction is
+zero, the oversampled path is a fixed linear filter (interpolator · the
+loop's output kernel on x_lin's samples · decimator, sampled at the output
+rate: a linear-phase FIR at fs, flat within ±0.001 dB to 20 kHz), so such
+stretches are computed with that FIR directly, and the loop's correction
+is added where it runs. The loop starts where x_lin's samples leave the
+identity part; the bound |interpolated| ≤ G·max|V_lin| over the filters'
+span (G: the largest sum of |taps| of one polyphase branch) decides which
+stretches need interpolating to look. The result never depends on the
+block size.
 
 Start and end: the string is at rest before the first sample and after
 the last (the chain is flushed with zero velocity to return exactly n
-samples); the hum field has always been there, so the limiter starts with
-its steady-state hum history. The output network starts at rest, which
+samples); the hum field has always been there, so the linear path starts
+with its steady-state hum history (and the loop with no correction). The output network starts at rest, which
 leaves a hum transient of a few tenths of a percent of the hum that dies
 away within about half a second.
 
 The op-amp output ``amp_out`` is band-limited like every signal at fs:
-where the limiter clips hard at high pitch its samples ring past the window
-(Gibbs; up to about 9 % of the swing for a square-like wave), although
-the limiter's own output at R·fs never leaves it (see :func:`limiter_output`).
+where the loop clips hard (nearly always: the feedback straightens the
+knee) its samples ring past the window (Gibbs; up to about 9 % of the swing
+for a square-like wave), although the loop's own output at R·fs never
+leaves it (see :func:`limiter_output`).
 
 The chain has no global state: :func:`make_plan` builds the immutable
 filters of one design, :class:`Renderer` carries one render's state,
@@ -558,7 +564,7 @@ class Renderer:
 
     @property
     def clipped_fraction(self) -> float:
-        """Fraction of the oversampled limiter-input samples so far outside the identity region."""
+        """Fraction of the oversampled steps so far with the op-amp's output stage outside its identity part."""
         total = max(self.samples_in, 1) * self.plan.resampler.oversample
         return min(1.0, self._clipped / total)
 
@@ -569,7 +575,7 @@ class Renderer:
 
     @property
     def clipped_count(self) -> int:
-        """Oversampled limiter-input samples so far outside the identity region."""
+        """Oversampled steps so far with the op-amp's output stage outside its identity part."""
         return self._clipped
 
 
@@ -638,9 +644,9 @@ def render_signal(
         ``out`` np.ndarray V shape (n,): the voltage at the amplifier input;
         ``amp_out`` np.ndarray V shape (n,): the op-amp output, bias included,
         band-limited like ``out`` (hard clipping of high notes rings slightly
-        past the window at this rate; the limiter itself never leaves it);
-        ``clipped_fraction`` float in [0, 1]: share of the oversampled limiter
-        input outside the identity region;
+        past the window at this rate; the loop itself never leaves it);
+        ``clipped_fraction`` float in [0, 1]: share of the oversampled steps with
+        the op-amp's output stage outside its identity part (on a knee or a rail);
         ``warnings`` tuple of str
     """
     v = np.asarray(velocity, dtype=float)
