@@ -58,13 +58,15 @@ edges excite no Nyquist ringing.
 A step in which the op-amp changes piece (or lies on a knee, or slews) is
 found by checking the end of the exact step; within it, the exact
 trajectory is followed up to the last point of a grid of ``SUBSTEPS`` where
-it still holds, then short steps of the second-order backward
-differentiation formula (BDF2, L-stable; TR-BDF2 where there is no earlier
-short step: Bank, Coughran, Fichtner, Grosse, Rose & Smith, "Transient
-simulation of silicon devices and circuits", IEEE Trans. CAD 4(4):436–451,
-1985) carry it across the change, and the exact step takes over again from
-the first grid point where it holds to the end. Each short step is the
-nodal DK method's scheme (Yeh, Abel & Smith, "Automated physical modeling
+it still holds (found by bisection); along a knee, where f is smooth,
+TR-BDF2 steps (L-stable, second order: Bank, Coughran, Fichtner, Grosse,
+Rose & Smith, "Transient simulation of silicon devices and circuits", IEEE
+Trans. CAD 4(4):436–451, 1985) span as much of the grid as x_lin takes to
+move a quarter of the knee; where a rail is reached or left, short steps of
+one grid point — the second-order backward differentiation formula (BDF2,
+L-stable), TR-BDF2 for the first — carry it across the corner; and the
+exact step takes over again from the first grid point where it holds to the
+end. Each of these steps is the nodal DK method's scheme (Yeh, Abel & Smith, "Automated physical modeling
 of nonlinear audio circuits for real-time audio effects — Part I", IEEE
 TASLP 18(4):728–737, 2010; Holters & Zölzer, "Physical modelling of a
 wah-wah effect pedal as a case study for application of the nodal DK
@@ -118,8 +120,6 @@ RAIL_TOL_V = 1e-12  # V: the op-amp state within this of a clamp is at the rail
 NO_SLEW = 1e301  # V per step standing for no slew limit
 STAGE_1 = 1.0 / (GAMMA * (2.0 - GAMMA))  # TR-BDF2's BDF2 stage: weights of Z[γ] and Z[0]
 STAGE_0 = -((1.0 - GAMMA) ** 2) / (GAMMA * (2.0 - GAMMA))
-KNEE_FRACTION = 8  # steps along a knee are this many per step
-KNEE_BDF2 = False  # BDF2 (not TR-BDF2) along a knee after its first step: cheaper, less accurate
 
 @dataclass(frozen=True)
 class Network:
@@ -280,7 +280,6 @@ class Loop:
         (N+1, …); see :func:`_trbdf2`): the trapezoidal stage to γ, Z = P·Z[0] + r·(d[0] + d), and
         the BDF2 stage, Z = M·(STAGE_1·Z[γ] + STAGE_0·Z[0]) + r'·d
     bdf2 : (M, r, ρ) of BDF2 at 1/N, Z = M·(2·Z[n−1] − Z[n−2]/2) + r·d (see :func:`_step`)
-    bdf2_knee : the same at 1/KNEE_FRACTION of a step, for the steps along a knee
     u_vec : [shape=(K,)], ξ = u·(the short step's prediction) + ρ·d
     kc : [shape=(K,)], the settled op-amp's requested output m = x_lin + kc·Z
     d_row : [shape=(K,)], ξ = d_row·Z on the identity part
@@ -318,7 +317,6 @@ class Loop:
     rail_tail_m: np.ndarray
     trbdf2: tuple
     bdf2: tuple
-    bdf2_knee: tuple
     u_vec: np.ndarray
     kc: np.ndarray
     d_row: np.ndarray
@@ -493,9 +491,6 @@ def make_loop(design, *, sample_rate: float, params=None) -> Loop:
     tr_arrays = [np.array([t[q] for t in tr]) for q in range(4)]
     inv = np.linalg.inv(1.5 * eye - hs * a)
     bdf2 = (inv, hs * (inv @ b))  # Z = inv·(2·Z[n−1] − Z[n−2]/2) + r·d
-    hk = h * max(1, N // KNEE_FRACTION) / N
-    inv = np.linalg.inv(1.5 * eye - hk * a)
-    bdf2_knee = (inv, hk * (inv @ b))
 
     def rho(r):
         return float(r[xi]) if gbw else float(u_c @ r + u_d)
@@ -531,7 +526,6 @@ def make_loop(design, *, sample_rate: float, params=None) -> Loop:
         rail_tail_m=c(rail_tail_m),
         trbdf2=(c(tr_arrays[0]), c(tr_arrays[1]), c([rho(t[1]) for t in tr]), c(tr_arrays[2]), c(tr_arrays[3]), c([rho(t[3]) for t in tr])),
         bdf2=(c(bdf2[0]), c(bdf2[1]), rho(bdf2[1])),
-        bdf2_knee=(c(bdf2_knee[0]), c(bdf2_knee[1]), rho(bdf2_knee[1])),
         u_vec=c(u),
         kc=c(kc),
         d_row=c(d_row),
@@ -770,8 +764,8 @@ def _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2):
 @njit(cache=True)
 def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, lin_head, lin_tail,
         rail_at, rail_rest, rail_head_g, rail_tail_g, rail_head_x, rail_tail_x, scan_rows, scan_g, scan_x, rail_head_m, rail_tail_m,
-        TP, Tr, Trho, GP, Gr, Grho, P2, r2, rho2, PK, rK, rhoK, u, kc, d_row, beta_c, c_vec, d_o, a0, tau, xi_index,
-        low, high, knee, clamp_lo, clamp_hi, slew_step, scale, tol, knee_step, z, hist, out_c, out_vo):
+        TP, Tr, Trho, GP, Gr, Grho, P2, r2, rho2, u, kc, d_row, beta_c, c_vec, d_o, a0, tau, xi_index,
+        low, high, knee, clamp_lo, clamp_hi, slew_step, scale, tol, z, hist, out_c, out_vo):
     """Run the loop's steps over ``xl``; stop early, at an output-sample boundary, once it has decayed.
 
     xl : x_lin, V, shape (m + 1,), at the loop's rate ``rate`` (Hz): samples ``start`` … ``start`` + m;
@@ -801,7 +795,6 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
     zb = np.empty(n)
     zc = np.empty(n)
     zg = np.empty(n)
-    zk = np.empty(n)
     x4 = np.empty(4)
     mom = np.zeros(3)
     mom2 = np.zeros(3)
@@ -939,40 +932,29 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                     v_a = xk
                     k = k0
             tried = 9
-            knee_run = False  # whether za, zk are the last two knee steps' states (BDF2 history)
             va = v_a - _xs(basis, k, x4)  # d at the current grid point
             vo_end = v_a
             while k < N:
                 ta = k * dl
                 reg = _region(x_a, centre, half, knee)
                 if reg == 1 or reg == -1:
-                    # on a knee: steps of knee_step grid points (TR-BDF2 for the first, BDF2 after),
-                    # kept while they stay off the rails
-                    # as long as x_lin moves less than a quarter of the knee along it, at most a whole step
+                    # on a knee (f smooth): TR-BDF2 over as much as x_lin takes to move a quarter of the
+                    # knee (at most the rest of the step), kept while it stays off the rails
                     dxl = abs(x4[2] - x4[1])
                     seg = N if 4.0 * dxl <= knee else max(1, int(knee * N / (4.0 * dxl)))
                     seg = min(seg, N - k)
                     mom2[0] = 0.0
                     mom2[1] = 0.0
                     mom2[2] = 0.0
-                    if KNEE_BDF2 and knee_run and seg == knee_step and False:
-                        xe_lin = _xs(basis, k + seg, x4)
-                        x_e, v_e, sl = _step(za, zk, PK, 2.0, -0.5, rK, 0.0, u, rhoK, xi_index, xe_lin, x_a, seg * sub_slew,
-                                             clamp_lo, clamp_hi, centre, half, knee, low, high, zp, zc)
-                        x_g = x_e
-                        _piece(mom2, ta, ta + seg * dl, va, v_e - xe_lin)
-                    else:
-                        x_e, v_e, x_g, sl = _trbdf2(za, va, x_a, ta, seg, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step,
-                                                    clamp_lo, clamp_hi, centre, half, knee, low, high, mom2, zp, zg, zc)
+                    x_e, v_e, x_g, sl = _trbdf2(za, va, x_a, ta, seg, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step,
+                                                clamp_lo, clamp_hi, centre, half, knee, low, high, mom2, zp, zg, zc)
                     rg = _region(x_g, centre, half, knee)
                     re = _region(x_e, centre, half, knee)
                     if not sl and rg != 2 and rg != -2 and re != 2 and re != -2:
                         for j in range(3):
                             mom[j] += mom2[j]
                         for j in range(n):
-                            zk[j] = za[j]
                             za[j] = zc[j]
-                        knee_run = True
                         have_b = False
                         x_a = x_e
                         k += seg
@@ -980,7 +962,6 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                         va = v_e - _xs(basis, k, x4)
                         tried = 9
                         continue
-                knee_run = False
                 # a short step
                 xt = _xs(basis, k + 1, x4)
                 if have_b:
@@ -1096,8 +1077,8 @@ class LoopState:
             lp.basis, lp.basis_d, lp.lin_at, lp.lin_rest, lp.lin_rows, lp.lin_head, lp.lin_tail,
             lp.rail_at, lp.rail_rest, lp.rail_head_g, lp.rail_tail_g, lp.rail_head_x, lp.rail_tail_x,
             lp.scan_rows, lp.scan_g, lp.scan_x, lp.rail_head_m, lp.rail_tail_m,
-            *lp.trbdf2, *lp.bdf2, *lp.bdf2_knee, lp.u_vec, lp.kc, lp.d_row, lp.beta_c, lp.c_vec, lp.d_o, lp.open_loop_gain, lp.tau_s,
-            lp.xi_index, w.low, w.high, w.knee, lp.clamp[0], lp.clamp[1], lp.slew_step, lp.scale, TOLERANCE_V, max(1, lp.substeps // KNEE_FRACTION),
+            *lp.trbdf2, *lp.bdf2, lp.u_vec, lp.kc, lp.d_row, lp.beta_c, lp.c_vec, lp.d_o, lp.open_loop_gain, lp.tau_s,
+            lp.xi_index, w.low, w.high, w.knee, lp.clamp[0], lp.clamp[1], lp.slew_step, lp.scale, TOLERANCE_V,
             self.z, self.hist, out_c, out_vo,
         )
         self.active = bool(active)
