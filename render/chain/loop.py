@@ -66,13 +66,13 @@ move a quarter of the knee; where a rail is reached or left, short steps of
 one grid point — the second-order backward differentiation formula (BDF2,
 L-stable), TR-BDF2 for the first — carry it across the corner; and the
 exact step takes over again from the first grid point where it holds to the
-end. Each of these steps is the nodal DK method's scheme (Yeh, Abel & Smith, "Automated physical modeling
-of nonlinear audio circuits for real-time audio effects — Part I", IEEE
-TASLP 18(4):728–737, 2010; Holters & Zölzer, "Physical modelling of a
-wah-wah effect pedal as a case study for application of the nodal DK
-method to circuits with variable parts", DAFx-11, 2011): everything known
-from the past is one prediction, and the nonlinearity is one scalar
-equation
+end. Each TR-BDF2 or BDF2 step is the nodal DK method's scheme (Yeh, Abel &
+Smith, "Automated physical modeling of nonlinear audio circuits for
+real-time audio effects — Part I", IEEE TASLP 18(4):728–737, 2010; Holters
+& Zölzer, "Physical modelling of a wah-wah effect pedal as a case study for
+application of the nodal DK method to circuits with variable parts",
+DAFx-11, 2011): everything known from the past is one prediction, and the
+nonlinearity is one scalar equation
 
     x + β·f(x) = (1 + β)·m,     β = −ρ ≥ 0,
 
@@ -83,10 +83,11 @@ converge to is taken in closed form. Then x is clamped to the state limits
 (the root of the clamped equation is the clamp of the root, the map being
 monotonic) and to the slew step.
 
-With β of order 10⁴ (the loop gain at high frequencies) V_o follows m up to
-a rail and stops there, rounded over about knee/β: the feedback straightens
-the knee, so closed-loop clipping is nearly hard, and ``knee`` is the
-output stage's softness at the rails only.
+Around the loop the gain is A0 times the feedback fraction, of order 10⁴:
+it holds V_o on its linear course until within about knee/10⁴ of a rail,
+where V_o stops. The feedback straightens the knee, so closed-loop clipping
+is nearly hard, and ``knee`` is the output stage's softness at the rails
+only.
 
 The output and its anti-aliasing
 --------------------------------

@@ -25,8 +25,8 @@ The op-amp (:mod:`render.chain.loop`, as equations):
   τ = A0/(2π·gbw), and with a slew rate that current limited to
   ±SR/(2π·gbw) amperes, so |dx/dt| ≤ SR;
 - the state's limits [low − knee, high + knee]: a current source that
-  pulls x back with 1000 S beyond them (stiff enough that x passes a limit
-  by less than a millivolt);
+  pulls x back with 1000 S beyond them (x then passes a limit by the input
+  difference over 1000, a few millivolts at most, where f is flat anyway);
 - the output ``out``: a behavioural voltage source applying the window
   f(x) = x − ψ(x − (high − knee)) + ψ((low + knee) − x), with
   ψ(u) = min(max(u, 0), 2·knee)²/(4·knee) + max(u − 2·knee, 0), the
