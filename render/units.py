@@ -69,6 +69,7 @@ SENSITIVITY = Kind("sensitivity", "V·s/m", ("V·s/m", "Vs/m", "V*s/m"))
 VOLTAGE_DENSITY = Kind("voltage noise density", "V/√Hz", ("V/√Hz", "V/rtHz", "V/sqrtHz"))
 CURRENT_DENSITY = Kind("current noise density", "A/√Hz", ("A/√Hz", "A/rtHz", "A/sqrtHz"))
 RATIO = Kind("number", "", ())
+SLEW_RATE = Kind("slew rate", "V/s", ("V/s",))
 
 _NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
 _NUMBER_RE = re.compile(rf"^{_NUMBER}$")

@@ -19,8 +19,6 @@ import numpy as np
 import pytest
 
 NGSPICE = shutil.which("ngspice")
-A0 = 1e6  # open-loop DC gain of the design format's GBW-limited op-amp model
-IDEAL_GAIN = 1e10  # VCVS gain standing in for an ideal op-amp
 
 
 def require_ngspice():
@@ -110,15 +108,16 @@ def active_netlist(d, *, wa, wb, rig=True):
     L.append(f"Rf out inv {d.feedback.r!r}")
     if d.feedback.c:
         L.append(f"Cf out inv {d.feedback.c!r}")
+    a0 = d.supply.open_loop_gain  # the design's open-loop DC gain (a VCVS of that gain without gbw)
     if d.supply.gbw:
         L += [
             "Gop 0 nint pos inv 1",
-            f"Rint nint 0 {A0!r}",
+            f"Rint nint 0 {a0!r}",
             f"Cint nint 0 {1 / (2 * math.pi * d.supply.gbw)!r}",
             "Eop out 0 nint 0 1",
         ]
     else:
-        L.append(f"Eop out 0 pos inv {IDEAL_GAIN!r}")
+        L.append(f"Eop out 0 pos inv {a0!r}")
     L += [f"Cc out o1 {d.output.coupling_c!r}", f"Ro o1 jack {d.output.series_r!r}"]
     if d.output.shunt_r:
         L.append(f"Rsh jack 0 {d.output.shunt_r!r}")

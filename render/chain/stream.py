@@ -22,12 +22,16 @@ filter's state carried from block to block:
    sources in space, the same from each coil's own EMF phasors
    (:func:`render.magnetics.pickup.amp_output_phasors`); or, given an
    explicit dB/dt signal, that signal through the discretised common path;
-4. the soft limit V_amp = limit(bias + V_lin), oversampled R× (192 kHz for
-   48 kHz output) with first-order antiderivative anti-aliasing: a
-   linear-phase interpolating FIR (Kaiser window, about −100 dB image
-   rejection from fs − 20 kHz up), ADAA-1, and a least-squares decimating
-   FIR (−110 dB alias rejection from fs − 20 kHz up) whose passband also
-   undoes ADAA's two-tap droop. Only the signal *differences* V_amp − bias
+4. the op-amp inside its feedback loop (:mod:`render.chain.loop`): the
+   linear op-amp output x_lin = bias + V_lin, interpolated R× (192 kHz for
+   48 kHz output; a linear-phase Kaiser FIR, about −100 dB image rejection
+   from fs − 20 kHz up), drives the loop's nonlinear correction wherever
+   the output stage leaves its identity part, until that correction (the
+   circuit's memory: series_c charged while the loop was open) has
+   decayed; the loop's output is averaged with a third-order
+   continuous-time kernel, and a least-squares decimating FIR (−110 dB
+   alias rejection from fs − 20 kHz up) whose passband undoes the kernel's
+   droop brings it back to fs. Only the signal *differences* V_amp − bias
    are filtered, so the DC bias passes exactly;
 5. the output network, controls and cable (``out_stage``) applied at fs to
    V_amp − bias (it blocks DC, so leaving the bias out changes nothing but
@@ -37,29 +41,31 @@ filter's state carried from block to block:
 
 Why the linear parts run at fs and not at the oversampled rate: the
 oversampled IIR alone (7–9 second-order sections at 192 kHz) costs more
-than the whole 100× real-time budget, and plain bilinear filters would not
-meet 0.1 dB at 16 kHz even at 192 kHz. Only the limiter needs the high
-rate. While the signal stays inside the limiter's identity region, the
-oversampled path is a fixed linear filter (interpolator · two-tap mean ·
-decimator, sampled at the output rate: a 79-tap linear-phase FIR at fs,
-flat within ±0.001 dB to 20 kHz), so such stretches are computed with that
-FIR directly. A sample takes the oversampled path when the bound
-|interpolated| ≤ G·max|V_lin| over the filters' span (G: the largest sum of
-|taps| of one polyphase branch) cannot rule out reaching the knee. The two
-paths agree to float rounding wherever the bound holds, so the choice never
-shows in the output, and never depends on the block size.
+than the whole real-time budget, and plain bilinear filters would not meet
+0.1 dB at 16 kHz even at 192 kHz. Only the loop needs the high rate. While
+the output stage stays on its identity part and the loop's correction is
+zero, the oversampled path is a fixed linear filter (interpolator · the
+loop's output kernel on x_lin's samples · decimator, sampled at the output
+rate: a linear-phase FIR at fs, flat within ±0.001 dB to 20 kHz), so such
+stretches are computed with that FIR directly, and the loop's correction
+is added where it runs. The loop starts where x_lin's samples leave the
+identity part; the bound |interpolated| ≤ G·max|V_lin| over the filters'
+span (G: the largest sum of |taps| of one polyphase branch) decides which
+stretches need interpolating to look. The result never depends on the
+block size.
 
 Start and end: the string is at rest before the first sample and after
 the last (the chain is flushed with zero velocity to return exactly n
-samples); the hum field has always been there, so the limiter starts with
-its steady-state hum history. The output network starts at rest, which
+samples); the hum field has always been there, so the linear path starts
+with its steady-state hum history (and the loop with no correction). The output network starts at rest, which
 leaves a hum transient of a few tenths of a percent of the hum that dies
 away within about half a second.
 
 The op-amp output ``amp_out`` is band-limited like every signal at fs:
-where the limiter clips hard at high pitch its samples ring past the window
-(Gibbs; up to about 9 % of the swing for a square-like wave), although
-the limiter's own output at R·fs never leaves it (see :func:`limiter_output`).
+where the loop clips hard (nearly always: the feedback straightens the
+knee) its samples ring past the window (Gibbs; up to about 9 % of the swing
+for a square-like wave), although the loop's own output at R·fs never
+leaves it (see :func:`limiter_output`).
 
 The chain has no global state: :func:`make_plan` builds the immutable
 filters of one design, :class:`Renderer` carries one render's state,
@@ -78,12 +84,13 @@ import scipy.signal as ss
 from ..design import Hum
 from . import discretize as dz
 from . import hum as hm
-from .limit import Window, design_window, soft_limit_adaa
+from . import loop as lp
+from .limit import Window, design_window
 
 INTERNAL_RATE_HZ = 192000.0  # the limiter runs at no less than this rate
 IMAGE_REJECTION_DB = 100.0  # interpolator stopband, from fs − band edge
 ALIAS_WEIGHT = 1e3  # stopband weight of the decimator's least-squares design
-MERGE_GAP = 256  # output samples: oversampled stretches closer than this are merged
+LOOP_CHUNK = 4096  # output samples: the loop runs past a loud stretch this far at a time while it decays
 
 
 # --- the limiter's resampling filters -------------------------------------------
@@ -96,8 +103,8 @@ class Resampler:
     oversample : int R ≥ 2; the limiter runs at R·sample_rate
     up : np.ndarray, shape (Lu,), interpolating FIR at R·fs, DC gain R (Lu odd)
     down : np.ndarray, shape (Ld,), decimating FIR at R·fs, DC gain ≈ 1 (Ld even)
-    linear : np.ndarray, shape (Lc,), the whole path at fs while the limiter is
-        the identity: (up ∗ two-tap mean ∗ down) sampled every R-th tap
+    linear : np.ndarray, shape (Lc,), the whole path at fs while the op-amp is
+        linear: (up ∗ the loop's output kernel ∗ down) sampled every R-th tap
     delay : int, output samples of group delay of ``linear`` (and of the path)
     gain_bound : float, max over polyphase branches of Σ|up taps|
     span : int, output samples of history any output sample depends on
@@ -116,7 +123,7 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     """The limiter's interpolator, decimator and their linear-region equivalent.
 
     sample_rate : Hz, the output rate fs
-    oversample : int R ≥ 2 (ADAA's half-sample delay must land on the output grid)
+    oversample : int R ≥ 2
     """
     R = int(oversample)
     fs = float(sample_rate)
@@ -129,20 +136,23 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     lu |= 1
     up = ss.firwin(lu, fs / 2, window=("kaiser", beta), fs=fi) * R
     ld = lu - 1
-    while (lu + ld - 1) % (2 * R):
+    # total delay (lu − 1)/2 + (the kernel's 6 taps: 2.5) + (ld − 1)/2 on the output grid
+    while (lu + ld + 3) % (2 * R):
         ld += 2
-    # decimator: zero-phase amplitude R/(A_up·cos(πf/fi)) in band (undoing the
-    # interpolator's ripple and the two-tap mean's droop), 0 from fs − band up
+    # decimator: zero-phase amplitude R/(A_up·(1 + 2·cos(2πf/fi))/3) in band (undoing the
+    # interpolator's ripple and the loop's output kernel's droop), 0 from fs − band up
     f = np.concatenate([np.linspace(0.0, band, 300), np.linspace(stop, fi / 2, 1200)])
     n_up = np.arange(lu) - (lu - 1) / 2
     a_up = np.cos(2 * np.pi * np.outer(f, n_up) / fi) @ up
-    target = np.where(f <= band, R / (a_up * np.cos(np.pi * f / fi)), 0.0)
+    w = 2 * np.pi * f / fi
+    a_kernel = np.cos(np.outer(w, np.arange(6) - 2.5)) @ lp.KERNEL_TAPS  # zero-phase amplitude
+    target = np.where(f <= band, R / (a_up * a_kernel), 0.0)
     weight = np.sqrt(np.where(f <= band, 1.0, ALIAS_WEIGHT))
     half = np.arange(ld // 2) + 0.5
     basis = 2 * np.cos(2 * np.pi * np.outer(f, half) / fi)
     coef = np.linalg.lstsq(weight[:, None] * basis, weight * target, rcond=None)[0]
     down = np.concatenate([coef[::-1], coef])
-    g = np.convolve(np.convolve(up, [0.5, 0.5]), down)
+    g = np.convolve(np.convolve(up, lp.KERNEL_TAPS), down)
     centre = (g.size - 1) // 2
     linear = np.ascontiguousarray(g[::R])
     gain_bound = max(float(np.abs(up[p::R]).sum()) for p in range(R))
@@ -191,7 +201,8 @@ class Plan:
 
     sample_rate : Hz
     bias_v : V, the op-amp output's DC operating point
-    window : the limiter's :class:`~render.chain.limit.Window`
+    window : the op-amp output stage's :class:`~render.chain.limit.Window`
+    loop : the feedback loop's nonlinear solver at the oversampled rate
     path_mean : mean velocity (v_a + v_b)/2 -> op-amp output (V per m/s), at sample_rate
     path_half_difference : (v_a − v_b)/2 -> op-amp output (V per m/s), at sample_rate
     path_hum : dB/dt -> op-amp output (V per T/s), or None when not built
@@ -210,6 +221,7 @@ class Plan:
     sample_rate: float
     bias_v: float
     window: Window
+    loop: lp.Loop
     path_mean: dz.Discrete
     path_half_difference: dz.Discrete
     path_hum: dz.Discrete | None
@@ -251,7 +263,8 @@ def make_plan(
     from ..circuit.params import from_designs
 
     fs = float(sample_rate)
-    resp = responses(from_designs([design]))
+    params = from_designs([design])
+    resp = responses(params)
     sig_a, sig_b = resp.sig_a, resp.sig_b
     path_m = dz.discretize_rational(resp.amp.mix(sig_a, sig_b), sample_rate=fs, what="velocity path")
     path_n = dz.discretize_rational(resp.amp.mix(sig_a, -sig_b), sample_rate=fs, what="velocity difference path")
@@ -280,8 +293,9 @@ def make_plan(
         warns += point_coil_warnings(design)
     return Plan(
         sample_rate=fs,
-        bias_v=float(design.bias_v),
+        bias_v=lp.dc_output(design),
         window=design_window(design),
+        loop=lp.make_loop(design, sample_rate=R * fs, params=params),
         path_mean=path_m,
         path_half_difference=path_n,
         path_hum=path_hum,
@@ -296,87 +310,152 @@ def make_plan(
     )
 
 
-# --- the limiter stage -------------------------------------------------------------
+# --- the loop stage -------------------------------------------------------------------
 
 
-def _runs(mask: np.ndarray, gap: int) -> list[tuple[int, int]]:
-    """[start, stop) of the True runs of ``mask``, runs closer than ``gap`` merged."""
-    if not mask.any():
-        return []
-    m = np.concatenate([[False], mask, [False]])
-    edges = np.flatnonzero(m[1:] != m[:-1])
-    starts, stops = edges[0::2], edges[1::2]
-    out = [[int(starts[0]), int(stops[0])]]
-    for s, e in zip(starts[1:], stops[1:]):
-        if s - out[-1][1] < gap:
-            out[-1][1] = int(e)
-        else:
-            out.append([int(s), int(e)])
-    return [(s, e) for s, e in out]
+def _x_lin(plan: Plan, ext: np.ndarray, history: int, a: int, b: int) -> np.ndarray:
+    """x_lin (V, bias included) at R·fs, oversampled indices a … b inclusive (index R·k: the block's output sample k).
 
-
-def _oversampled(plan: Plan, seg: np.ndarray):
-    """The oversampled limiter on a stretch of V_lin (from rest before seg[0]).
-
-    seg : V_lin at fs, shape (m,)
-    returns : (v, w, y): the limiter input and output at R·fs (bias included,
-        shape (R·m,)) and y = decimated w − bias at fs, shape (m,)
+    ext : V_lin with ``history`` earlier samples in front (indices may reach back into them)
+    returns : shape (b − a + 1,)
     """
     res = plan.resampler
-    v = interpolate(seg, up=res.up, oversample=res.oversample)
-    v += plan.bias_v
-    w, _ = soft_limit_adaa(v, window=plan.window, previous=None)
-    y = decimate(w - plan.bias_v, down=res.down, oversample=res.oversample)
-    return v, w, y
+    R = res.oversample
+    j0 = (a - res.up.size + 1) // R - 1  # the interpolator has settled from there on
+    j1 = b // R
+    lo = history + j0
+    seg = ext[max(lo, 0) : history + j1 + 1]
+    if lo < 0:
+        seg = np.concatenate([np.zeros(-lo), seg])
+    v = interpolate(seg, up=res.up, oversample=R)
+    return v[a - R * j0 : b - R * j0 + 1] + plan.bias_v
 
 
-def limiter_output(plan: Plan, v_lin) -> tuple[np.ndarray, np.ndarray]:
-    """The op-amp output of a whole V_lin signal, through the oversampled limiter only.
+class _LoopCarry:
+    """The loop stage's state across blocks: the loop's own state, the next step's oversampled
+    index (relative to the block's start; −1 for the step held back at the end of a block) and the
+    decimated correction still to add."""
 
-    v_lin : array_like, V, shape (n,), the op-amp's linear output (bias excluded) at plan.sample_rate
-    returns : (internal, decimated): the limited output at R·sample_rate, V,
-        shape (R·n,), within the window; and its band-limited version at
-        sample_rate, V, shape (n,), bias included, delayed by plan.resampler.delay samples
-    """
-    seg = np.asarray(v_lin, dtype=float)
-    _, w, y = _oversampled(plan, seg)
-    return w, y + plan.bias_v
+    def __init__(self, plan: Plan):
+        self.loop = lp.LoopState(plan.loop)
+        self.pos = 0
+        self.pending = np.zeros(0)
 
 
-def _limit_stage(plan: Plan, ext: np.ndarray, history: int):
+def _add(y: np.ndarray, start: int, part: np.ndarray, carry: _LoopCarry) -> None:
+    """y[start:] += part, the part past the block's end kept in ``carry.pending``."""
+    inside = max(0, min(part.size, y.size - start))
+    y[start : start + inside] += part[:inside]
+    rest = part[inside:]
+    if rest.size:
+        off = start + inside - y.size  # samples past the block's end where ``rest`` begins
+        size = max(carry.pending.size, off + rest.size)
+        pend = np.zeros(size)
+        pend[: carry.pending.size] = carry.pending
+        pend[off : off + rest.size] += rest
+        carry.pending = pend
+
+
+def _add_decimated(plan: Plan, y: np.ndarray, first: int, c: np.ndarray, carry: _LoopCarry) -> None:
+    """Decimate the correction c (oversampled, its first sample at index ``first``, zero elsewhere) into y."""
+    res = plan.resampler
+    R = res.oversample
+    k0 = first // R
+    pad = first - R * k0
+    w = np.concatenate([np.zeros(pad), c, np.zeros(res.down.size + 2 * R - (pad + c.size) % R)])
+    _add(y, k0, decimate(w, down=res.down, oversample=R), carry)
+
+
+def _loop_stage(plan: Plan, ext: np.ndarray, history: int, carry: _LoopCarry):
     """V_amp − bias (delayed by the resampler's delay) for the last len(ext) − history samples of ext.
 
     ext : V_lin with ``history`` earlier samples in front, shape (history + n,)
-    returns : (y shape (n,), number of oversampled samples outside the identity region)
+    returns : (y shape (n,), number of loop steps with the output stage outside its identity part)
+
+    y is the linear path (the resampler's ``linear`` FIR at fs) plus the decimated correction of
+    the loop, which runs at R·fs from wherever x_lin leaves the output stage's identity part (the
+    bound below, then the samples themselves) on until its correction has decayed. The loop's
+    step at oversampled index i needs x_lin at i + 1 and its correction belongs at i + 1: a
+    block's last oversampled sample waits for the next block.
     """
     res = plan.resampler
     win = plan.window
     bias = plan.bias_v
+    R = res.oversample
     n = ext.size - history
     y = np.convolve(ext, res.linear, mode="valid")[-n:] if n else np.zeros(0)
-    up_room = win.linear_high - bias
-    down_room = bias - win.linear_low
-    room = min(up_room, down_room) / res.gain_bound
-    mag = np.abs(ext)
-    if n == 0 or mag.max() <= room:
+    if carry.pending.size:
+        k = min(n, carry.pending.size)
+        y[:k] += carry.pending[:k]
+        carry.pending = carry.pending[k:]
+    if n == 0:
         return y, 0
-    # sample k may need the limiter if any V_lin in ext[k − span + 1 .. k] is above the room: a
+    room = min(win.linear_high - bias, bias - win.linear_low) / res.gain_bound
+    mag = np.abs(ext)
+    state = carry.loop
+    if not state.active and mag.max() <= room:
+        carry.pos = 0
+        return y, 0
+    # sample k may leave the identity part if any V_lin in ext[k − span + 1 .. k] is above the room: a
     # running count of such samples (zeros in front for the span before ext) differenced over the span
     count = np.concatenate([np.zeros(res.span, dtype=np.int64), np.cumsum(mag > room)])
     loud = count[history + res.span : ext.size + res.span] - count[history : ext.size] > 0
+    loud_ext = np.concatenate([[True], loud])  # output sample −1 (a held-back step) counts as loud
     clipped = 0
-    R = res.oversample
-    pre = res.span + 2  # output samples of warm-up before each stretch
-    for s, e in _runs(loud, MERGE_GAP):
-        lo = history + s - pre
-        seg = ext[max(lo, 0) : history + e]
-        if lo < 0:
-            seg = np.concatenate([np.zeros(-lo), seg])
-        v, _, out = _oversampled(plan, seg)
-        y[s:e] = out[pre:]
-        tail = v[pre * R :]
-        clipped += int(np.count_nonzero((tail > win.linear_high) | (tail < win.linear_low)))
+    i = carry.pos if state.active else max(carry.pos, 0)
+    last = R * n - 1  # steps up to last − 1 can run in this block
+    while i < last:
+        k = i // R
+        if not state.active:
+            ahead = np.flatnonzero(loud[max(k, 0) :])
+            if not ahead.size:
+                i = last
+                break
+            k = max(k, 0) + int(ahead[0])
+            quiet = np.flatnonzero(~loud[k:])
+            e = min(n, k + (int(quiet[0]) if quiet.size else n - k) + LOOP_CHUNK)
+            a = max(i, R * k)
+            xl = _x_lin(plan, ext, history, a - 2, R * e - 1)
+            # the bound is loose: start where x_lin actually leaves the output stage's identity part
+            out = np.flatnonzero((xl[2:] > win.linear_high) | (xl[2:] < win.linear_low))
+            if not out.size or a + int(out[0]) >= last:
+                i = max(i, R * e - 1)
+                continue
+            i = a + int(out[0])
+            state.start(xl[i - a : i - a + 2])
+            xl = xl[i - a + 2 :]
+        else:
+            quiet = np.flatnonzero(~loud[max(k, 0) :])
+            e = min(n, max(k, 0) + (int(quiet[0]) if quiet.size else n - max(k, 0)) + LOOP_CHUNK)
+            xl = _x_lin(plan, ext, history, i, R * e - 1)
+        c, _, done, cl = state.run(xl, start=i, loud=loud_ext, loud_base=-1, oversample=R)
+        clipped += cl
+        if done:
+            _add_decimated(plan, y, i + 1, c, carry)
+        i += done
+    carry.pos = i - R * n
     return y, clipped
+
+
+def limiter_output(plan: Plan, v_lin) -> tuple[np.ndarray, np.ndarray]:
+    """The op-amp output of a whole V_lin signal, through the oversampled loop only.
+
+    v_lin : array_like, V, shape (n,), the linear op-amp output (bias excluded) at plan.sample_rate
+    returns : (internal, decimated): the op-amp output V_o at R·sample_rate, V, shape (R·n − 1,)
+        (the loop's steps ending at oversampled samples 0 … R·n − 2), within the window; and the
+        chain's band-limited op-amp output at sample_rate, V, shape (n,), bias included, delayed by
+        plan.resampler.delay samples
+    """
+    res = plan.resampler
+    R = res.oversample
+    seg = np.asarray(v_lin, dtype=float)
+    xl = interpolate(seg, up=res.up, oversample=R) + plan.bias_v
+    state = lp.LoopState(plan.loop)
+    state.start([plan.bias_v] * 2)
+    c, vo, _, _ = state.run(xl, start=0, loud=np.ones(seg.size, dtype=bool), loud_base=0, oversample=R)
+    w = np.convolve(xl - plan.bias_v, lp.KERNEL_TAPS)[: xl.size]
+    w[1 : 1 + c.size] += c
+    return vo, decimate(w, down=res.down, oversample=R) + plan.bias_v
 
 
 # --- one render's state --------------------------------------------------------
@@ -411,6 +490,7 @@ class Renderer:
         if self.hum and abs(period - round(period)) < 1e-9 * period and round(period) <= 10**6:
             self._hum_period = self._hum_direct(0, int(round(period)))
         self._lim_hist = self._hum_at(-plan.path_mean.delay - self._history, self._history)
+        self._loop = _LoopCarry(plan)
 
     def _hum_direct(self, start: int, n: int) -> np.ndarray:
         p, h = self.plan, self.plan.hum
@@ -449,7 +529,7 @@ class Renderer:
         elif self.hum:
             v_lin += self._hum_at(self._n - p.path_mean.delay, n)
         ext = np.concatenate([self._lim_hist, v_lin])
-        y, clipped = _limit_stage(p, ext, self._lim_hist.size)
+        y, clipped = _loop_stage(p, ext, self._lim_hist.size, self._loop)
         self._lim_hist = ext[ext.size - self._history :]
         self._clipped += clipped
         out, self._so = dz.apply(p.out_stage, y, state=self._so)
@@ -502,7 +582,7 @@ class Renderer:
 
     @property
     def clipped_fraction(self) -> float:
-        """Fraction of the oversampled limiter-input samples so far outside the identity region."""
+        """Fraction of the oversampled steps so far with the op-amp's output stage outside its identity part."""
         total = max(self.samples_in, 1) * self.plan.resampler.oversample
         return min(1.0, self._clipped / total)
 
@@ -513,7 +593,7 @@ class Renderer:
 
     @property
     def clipped_count(self) -> int:
-        """Oversampled limiter-input samples so far outside the identity region."""
+        """Oversampled steps so far with the op-amp's output stage outside its identity part."""
         return self._clipped
 
 
@@ -582,9 +662,9 @@ def render_signal(
         ``out`` np.ndarray V shape (n,): the voltage at the amplifier input;
         ``amp_out`` np.ndarray V shape (n,): the op-amp output, bias included,
         band-limited like ``out`` (hard clipping of high notes rings slightly
-        past the window at this rate; the limiter itself never leaves it);
-        ``clipped_fraction`` float in [0, 1]: share of the oversampled limiter
-        input outside the identity region;
+        past the window at this rate; the loop itself never leaves it);
+        ``clipped_fraction`` float in [0, 1]: share of the oversampled steps with
+        the op-amp's output stage outside its identity part (on a knee or a rail);
         ``warnings`` tuple of str
     """
     v = np.asarray(velocity, dtype=float)

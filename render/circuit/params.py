@@ -21,7 +21,6 @@ from .rig import RigParams, rig_params
 if TYPE_CHECKING:
     from ..design import Design
 
-A0 = 1e6  # open-loop DC gain of a GBW-limited op-amp (interface contract §2)
 
 
 @dataclass(frozen=True)
@@ -58,8 +57,8 @@ class Params:
     input_b: InputParams
     fb_G: np.ndarray  # S, 1/feedback.r
     fb_C: np.ndarray  # F, feedback.c (0: none)
-    inv_a0: np.ndarray  # 1/A0 (0: ideal op-amp)
-    inv_gbw: np.ndarray  # s/rad, 1/(2π·gbw) (0: ideal op-amp)
+    inv_a0: np.ndarray  # 1/A0, the op-amp's open-loop DC gain
+    inv_gbw: np.ndarray  # s/rad, 1/(2π·gbw) (0: no bandwidth limit)
     out_Cc: np.ndarray  # F, output coupling_c
     out_Ro: np.ndarray  # ohm, output series_r
     out_G: np.ndarray  # S, 1/output shunt_r (0: none)
@@ -114,7 +113,7 @@ def from_designs(designs: list[Design] | tuple[Design, ...]) -> Params:
         input_b=_input([d.input_b for d in ds], with_bias=True),
         fb_G=_arr([1.0 / d.feedback.r for d in ds]),
         fb_C=_arr([d.feedback.c or 0.0 for d in ds]),
-        inv_a0=_arr([1.0 / A0 if d.supply.gbw else 0.0 for d in ds]),
+        inv_a0=_arr([1.0 / d.supply.open_loop_gain for d in ds]),
         inv_gbw=_arr([1.0 / (2 * np.pi * d.supply.gbw) if d.supply.gbw else 0.0 for d in ds]),
         out_Cc=_arr([d.output.coupling_c for d in ds]),
         out_Ro=_arr([d.output.series_r for d in ds]),

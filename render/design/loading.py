@@ -129,6 +129,8 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
             f"{where(source, 'supply')}: margin_low + margin_high + 2·knee = "
             f"{sup['margin_low'] + sup['margin_high'] + 2 * sup['knee']:g} V must be below battery={sup['battery']:g} V; lower the margins or the knee"
         )
+    if "slew_rate" in sup and "gbw" not in sup:
+        raise InputError(f"{where(source, 'supply', 'slew_rate')}: limits the rate of the op-amp's dominant-pole state, which needs gbw; add gbw (e.g. gbw = \"3MHz\") or leave slew_rate out")
     design = Design(
         name=data.get("name") or name or Path(source).stem,
         notes=data.get("notes", ""),

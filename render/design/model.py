@@ -86,6 +86,8 @@ class Supply:
     margin_high: float = 1.0
     knee: float = 0.5
     gbw: float | None = None
+    open_loop_gain: float = 1e5
+    slew_rate: float | None = None
     noise_voltage: float = 10e-9
     noise_current: float = 1e-14
 

@@ -7,6 +7,9 @@ rounding (1e-9 relative, or the size of a stated physical side effect).
 
 from __future__ import annotations
 
+import dataclasses
+import math
+
 import numpy as np
 import pytest
 from scipy.optimize import brentq, minimize_scalar
@@ -196,11 +199,12 @@ def test_parallel_loss_resistance_and_both_models_together():
 TINY_L, TINY_R, TINY_C = 1e-5, 1.0, 1e-13  # the smallest coil the loader accepts
 
 
-def diff_amp_design(R1, R2, R3, R4, *, gbw=None, series_c=0.1, battery=9.0, bias=None):
+def diff_amp_design(R1, R2, R3, R4, *, gbw=None, open_loop_gain=None, series_c=0.1, battery=9.0, bias=None):
     """A design whose coils and coupling capacitors are negligible, so the stage is the
     textbook difference amplifier: R1 = input_a.series_r, R2 = feedback.r,
     R3 = input_b.series_r, R4 = bias_top ∥ bias_bottom (equal halves, at mid-supply,
-    unless ``bias`` = (top, bottom) is given)."""
+    unless ``bias`` = (top, bottom) is given). The op-amp is ideal (infinite open-loop
+    gain, as the textbook formulas assume) unless ``open_loop_gain`` is given."""
     top, bottom = bias or (2 * R4, 2 * R4)
 
     def coil(pol):
@@ -218,7 +222,11 @@ def diff_amp_design(R1, R2, R3, R4, *, gbw=None, series_c=0.1, battery=9.0, bias
     }
     if gbw:
         d["supply"]["gbw"] = gbw
-    return parse_design(d, source="diff-amp")
+    if open_loop_gain is not None:
+        d["supply"]["open_loop_gain"] = open_loop_gain
+        return parse_design(d, source="diff-amp")
+    design = parse_design(d, source="diff-amp")
+    return dataclasses.replace(design, supply=dataclasses.replace(design.supply, open_loop_gain=math.inf))
 
 
 def textbook_gains(R1, R2, R3, R4):
@@ -337,7 +345,7 @@ def test_equal_bias_resistors_give_half_the_battery(battery, r):
 )
 def test_gbw_closed_loop_corner(gbw, f_quoted):
     R1, K = 100e3, 10.0
-    d = diff_amp_design(R1, K * R1, R1, K * R1, gbw=gbw)
+    d = diff_amp_design(R1, K * R1, R1, K * R1, gbw=gbw, open_loop_gain=1e6)
     h = design_responses([d]).amp.from_a()
     g1k = abs(h(1e3)[0, 0])
     f3 = brentq(lambda f: abs(h(f)[0, 0]) / g1k - 2**-0.5, 1e4, 1e7, xtol=1e-6)

@@ -1,0 +1,148 @@
+"""Clipping with memory, measured: a burst's harmonics and the recovery after it.
+
+When the op-amp's output sits at a rail the feedback loop is open, the
+inverting input stops following, and coil_a's series_c charges through its
+resistor: the operating point shifts while the burst lasts, and afterwards
+the output comes back to its DC point with the slowest time constant of the
+loop's network. These figures come from the nonlinear solve of the loop
+(:mod:`render.chain.loop`) through the whole chain.
+
+- :func:`recovery` fits the return of the op-amp output to its DC point
+  after the burst's end, v(t) − V_dc ≈ A·e^{−(t − t_end)/τ}, by a straight
+  line through log|v − V_dc| (least squares) over the part of the decay
+  where it has fallen from 90 % to 10 % of its value 2 ms after the end
+  (the first 2 ms are left out: the loop's faster modes settle there);
+  ``recovery_offset_v`` is A (V, signed, the offset extrapolated to the
+  burst's end) and ``recovery_tau_s`` is τ (s).
+- :func:`burst_figures` renders a sine burst of string velocity and
+  returns the harmonics over the burst's last whole periods (H2, H3, THD)
+  and the recovery after it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+SKIP_S = 2e-3  # s left out after the burst's end before fitting (common practice, no source)
+FIT_FROM, FIT_TO = 0.9, 0.1  # the fitted part of the decay, as fractions of the deviation after SKIP_S
+BURST_S = 0.06  # s: a 60 ms burst, as the reference checks of this model use
+AFTER_S = 0.25  # s rendered after the burst for the recovery
+HARMONICS = 10
+
+
+@dataclass(frozen=True)
+class Recovery:
+    """The op-amp output's return to its DC point after a burst.
+
+    offset_v : V, signed: A of A·e^{−t/τ}, the deviation extrapolated to the burst's end (0 when none)
+    tau_s : s, the fitted time constant (nan when there is nothing to fit)
+    points : int, samples used in the fit
+    """
+
+    offset_v: float
+    tau_s: float
+    points: int
+
+
+def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6) -> Recovery:
+    """Fit the decay of ``v`` − ``dc_v`` after ``end_s`` (module text).
+
+    v : array_like, V, shape (n,): the op-amp output, starting at t = 0
+    sample_rate : Hz
+    end_s : s, when the burst ended
+    dc_v : V, the op-amp output's DC operating point
+    skip_s : s left out after the end
+    floor_v : V: a deviation below this after ``skip_s`` counts as no offset
+    returns : :class:`Recovery`
+    """
+    v = np.asarray(v, dtype=float)
+    start = int(round((end_s + skip_s) * sample_rate))
+    if start >= v.size - 2:
+        raise ValueError(f"recovery: the signal ends {v.size / sample_rate:.3g} s, before {end_s + skip_s:.3g} s; render longer after the burst")
+    dev = v[start:] - dc_v
+    d0 = dev[0]
+    if abs(d0) < floor_v:
+        return Recovery(0.0, float("nan"), 0)
+    mag = np.abs(dev)
+    same = np.sign(dev) == np.sign(d0)
+    # from the first sample at or below 90 % to the first below 10 % of the starting deviation
+    below_hi = np.flatnonzero(mag <= FIT_FROM * abs(d0))
+    below_lo = np.flatnonzero((mag < FIT_TO * abs(d0)) | ~same)
+    i0 = int(below_hi[0]) if below_hi.size else 0
+    i1 = int(below_lo[0]) if below_lo.size else dev.size
+    if i1 - i0 < 3:
+        i0, i1 = 0, max(i1, 3)
+    t = (np.arange(i0, i1) + start) / sample_rate - end_s
+    slope, icept = np.polyfit(t, np.log(mag[i0:i1]), 1)
+    if slope >= 0:
+        return Recovery(float(d0), float("inf"), i1 - i0)
+    return Recovery(float(np.sign(d0) * np.exp(icept)), float(-1.0 / slope), i1 - i0)
+
+
+def harmonics_of(x, *, sample_rate: float, f0: float, n: int = HARMONICS) -> np.ndarray:
+    """Peak amplitudes of harmonics 1..n of ``x`` by projection (x spans whole periods of f0)."""
+    t = np.arange(np.size(x)) / sample_rate
+    return np.array([2.0 * abs(np.mean(x * np.exp(-2j * np.pi * k * f0 * t))) for k in range(1, n + 1)])
+
+
+def burst_velocity(velocity_peak: float, *, frequency_hz: float, sample_rate: float, burst_s: float = BURST_S, after_s: float = AFTER_S) -> np.ndarray:
+    """A sine burst of string velocity, m/s, shape (n,): a whole number of periods from t = 0, then rest."""
+    periods = max(1, int(round(burst_s * frequency_hz)))
+    n_burst = int(round(periods * sample_rate / frequency_hz))
+    n = n_burst + int(round(after_s * sample_rate))
+    t = np.arange(n) / sample_rate
+    return np.where(np.arange(n) < n_burst, velocity_peak * np.sin(2 * np.pi * frequency_hz * t), 0.0)
+
+
+def distortion_figures(x, *, sample_rate: float, frequency_hz: float) -> dict:
+    """H1 (V), H2 and H3 (dB re H1), THD (%) and the harmonics (V) of ``x`` (whole periods of f0)."""
+    h = harmonics_of(x, sample_rate=sample_rate, f0=frequency_hz)
+
+    def db(k):
+        return float(20 * np.log10(max(h[k - 1], 1e-300) / h[0]))
+
+    return {
+        "h1_v": float(h[0]),
+        "h2_db": db(2),
+        "h3_db": db(3),
+        "thd_percent": float(100 * np.sqrt(np.sum(h[1:] ** 2)) / h[0]),
+        "harmonics_v": [float(a) for a in h],
+    }
+
+
+def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0, sample_rate: int = 48000,
+                  burst_s: float = BURST_S, after_s: float = AFTER_S, settle_s: float = 0.5 * BURST_S) -> dict:
+    """Harmonics during a sine burst and the recovery after it, from the nonlinear solve.
+
+    design : a validated :class:`render.design.Design`
+    velocity_peak : m/s, the burst's peak string velocity (the same at both coils)
+    frequency_hz : Hz; sample_rate : Hz
+    burst_s, after_s : s, the burst's length (rounded to whole periods) and what is rendered after it
+    settle_s : s from the burst's start left out of the harmonics (the operating point moving)
+    returns : dict with ``h1_v``, ``h2_db``, ``h3_db``, ``thd_percent`` and ``harmonics_v`` at the
+        amp input over the burst's whole periods after ``settle_s``; ``recovery_offset_v`` (V, signed)
+        and ``recovery_tau_s`` (s, None without an offset to fit) at the op-amp output; ``burst_s``, ``dc_v``
+    """
+    from ..chain.stream import make_plan, render_signal
+
+    v = burst_velocity(velocity_peak, frequency_hz=frequency_hz, sample_rate=sample_rate, burst_s=burst_s, after_s=after_s)
+    periods = max(1, int(round(burst_s * frequency_hz)))
+    end_s = periods / frequency_hz
+    plan = make_plan(design, sample_rate=sample_rate)
+    r = render_signal(design, np.stack([v, v]), sample_rate=sample_rate, hum=False, plan=plan)
+    skip = min(int(np.ceil(settle_s * frequency_hz)), periods - 1)
+    a = int(round(skip * sample_rate / frequency_hz))
+    b = int(round(periods * sample_rate / frequency_hz))
+    figs = distortion_figures(r["out"][a:b], sample_rate=sample_rate, frequency_hz=frequency_hz)
+    rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=plan.bias_v)
+    return {
+        **figs,
+        "frequency_hz": frequency_hz,
+        "velocity_peak_m_per_s": velocity_peak,
+        "burst_s": end_s,
+        "dc_v": plan.bias_v,
+        "recovery_offset_v": rec.offset_v,
+        "recovery_tau_s": rec.tau_s if np.isfinite(rec.tau_s) else None,
+    }

@@ -1,0 +1,227 @@
+"""A design and its rig as a SPICE netlist that ngspice runs as written.
+
+The netlist is the circuit the renderer simulates, element for element:
+the two coils (EMF, DC resistance, inductance with its core loss, winding
+capacitance), the input networks, the bias divider on the battery, the
+feedback, the op-amp, the output network and the rig (tone and volume
+controls, cable and amplifier input). A designer can check any figure in
+their own simulator from it.
+
+Sources (both 0 V at DC, so the operating point is the circuit's own):
+
+- ``Vvel`` at node ``vel``: string velocity, 1 V standing for 1 m/s at both
+  coils' sensing points (AC magnitude 1: responses come out per m/s);
+- ``Vdbdt`` at node ``dbdt``: the hum field's derivative, 1 V standing for
+  1 T/s.
+
+Each coil's EMF is a behavioural source, signal_polarity · sensitivity ·
+V(vel) + hum_polarity · turns_area · V(dbdt) (Faraday).
+
+The op-amp (:mod:`render.chain.loop`, as equations):
+
+- its open-loop state x at node ``opx``: without gbw a behavioural source
+  x = A0·(V+ − V−); with gbw a transconductance of 1 S into A0 ohms in
+  parallel with 1/(2π·gbw) farads, so τ·dx/dt = A0·(V+ − V−) − x with
+  τ = A0/(2π·gbw), and with a slew rate that current limited to
+  ±SR/(2π·gbw) amperes, so |dx/dt| ≤ SR;
+- the state's limits [low − knee, high + knee]: a current source that
+  pulls x back with 1000 S beyond them (x then passes a limit by the input
+  difference over 1000, a few millivolts at most, where f is flat anyway);
+- the output ``out``: a behavioural voltage source applying the window
+  f(x) = x − ψ(x − (high − knee)) + ψ((low + knee) − x), with
+  ψ(u) = min(max(u, 0), 2·knee)²/(4·knee) + max(u − 2·knee, 0), the
+  quadratic knee of :mod:`render.chain.limit` written with min and max.
+
+Node names:
+
+    vel, dbdt         the drives (above)
+    a1, a2            coil_a inside: after the EMF, after the DC resistance
+    ta, tb            coil_a's and coil_b's terminals (cold ends at ground)
+    xa, xb            between series_c and series_r
+    inv, pos          the op-amp's inverting and non-inverting inputs
+    bat               the battery +
+    opx               the op-amp's open-loop state x
+    out               the op-amp output
+    o1                between the output's coupling_c and series_r
+    jack              the output jack
+    tn                the tone control's pot and capacitor
+    amp               the amplifier input (the volume pot's wiper, at the cable's end)
+
+One analysis runs as written (``.op``); commented ``.ac``, ``.noise`` and
+``.tran`` examples follow it. ngspice's Newton iteration does not settle
+the op-amp without gbw through a transient into clipping (an algebraic
+loop of gain A0 through the window): give gbw for such a ``.tran``.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING
+
+from .rig import volume_fraction
+
+if TYPE_CHECKING:
+    from ..design import Design
+
+MIN_R = 1e-3  # ohm: a pot section at its end stop (as render.circuit.params)
+CLAMP_S = 1e3  # siemens pulling the op-amp state back inside its limits
+NODES = ("vel", "dbdt", "a1", "a2", "b1", "b2", "ta", "tb", "xa", "xb", "inv", "pos", "bat", "opx", "out", "o1", "jack", "tn", "amp")
+
+
+def _v(x: float) -> str:
+    """A value exactly as Python holds it (shortest repr that reads back the same)."""
+    return repr(float(x))
+
+
+def _coil(tag: str, coil, hot: str) -> list[str]:
+    sig = coil.signal_polarity * coil.sensitivity
+    hum = coil.hum_polarity * coil.turns_area
+    lines = [
+        f"B{tag}emf {tag}1 0 V = {_v(sig)}*V(vel) + {_v(hum)}*V(dbdt)",
+        f"R{tag}dc {tag}1 {tag}2 {_v(coil.resistance)}",
+        f"L{tag} {tag}2 {hot} {_v(coil.inductance)}",
+    ]
+    if coil.eddy_resistance:
+        lines.append(f"R{tag}eddy {tag}2 {hot} {_v(coil.eddy_resistance)}")
+    if coil.eddy_coupling:
+        # shorted secondary (render.circuit.coil): L2 = L1, R2 = 2π·eddy_corner·L2, coupling √k²
+        l2 = coil.inductance
+        lines += [
+            f"L{tag}sec {tag}s 0 {_v(l2)}",
+            f"R{tag}sec {tag}s 0 {_v(2 * math.pi * coil.eddy_corner * l2)}",
+            f"K{tag} L{tag} L{tag}sec {_v(math.sqrt(coil.eddy_coupling))}",
+        ]
+    lines.append(f"C{tag}w {hot} 0 {_v(coil.capacitance)}")
+    return lines
+
+
+def _input(tag: str, net, node: str) -> list[str]:
+    t = f"t{tag}"
+    lines = []
+    if net.load_r:
+        lines.append(f"R{tag}load {t} 0 {_v(net.load_r)}")
+    if net.load_c:
+        lines.append(f"C{tag}load {t} 0 {_v(net.load_c)}")
+    lines += [f"C{tag}ser {t} x{tag} {_v(net.series_c)}", f"R{tag}ser x{tag} {node} {_v(net.series_r)}"]
+    return lines
+
+
+def _psi(u: str, knee: float) -> str:
+    return f"(min(max({u},0),{_v(2 * knee)})^2/{_v(4 * knee)}+max({u}-{_v(2 * knee)},0))"
+
+
+def op_amp_lines(design: Design) -> list[str]:
+    """The op-amp as SPICE elements (module text), from ``pos``, ``inv`` to ``out``."""
+    s = design.supply
+    low, high, knee = design.limit_low_v, design.limit_high_v, s.knee
+    a0 = s.open_loop_gain
+    lines = []
+    if s.gbw:
+        c = 1.0 / (2 * math.pi * s.gbw)
+        if s.slew_rate:
+            lim = s.slew_rate * c
+            lines.append(f"Bopx 0 opx I = max({_v(-lim)}, min({_v(lim)}, V(pos)-V(inv)-V(opx)/{_v(a0)}))")
+        else:
+            lines += ["Gopx 0 opx pos inv 1", f"Ropx opx 0 {_v(a0)}"]
+        lines += [
+            f"Copx opx 0 {_v(c)}",
+            f"Bclamp opx 0 I = {_v(CLAMP_S)}*(max(V(opx)-{_v(high + knee)},0)+min(V(opx)-{_v(low - knee)},0))",
+        ]
+    else:
+        lines.append(f"Bopx opx 0 V = {_v(a0)}*(V(pos)-V(inv))")
+    lines.append(f"Bout out 0 V = V(opx) - {_psi(f'V(opx)-{_v(high - knee)}', knee)} + {_psi(f'{_v(low + knee)}-V(opx)', knee)}")
+    # where the operating point lies (A0/(1 + A0) times the divider's voltage at opx and out): only a
+    # starting guess for ngspice's search, which the slew limit's min/max would otherwise stall
+    dc = design.bias_v * a0 / (1.0 + a0)
+    lines.append(f".nodeset v(pos)={_v(design.bias_v)} v(inv)={_v(dc)} v(opx)={_v(dc)} v(out)={_v(dc)}")
+    return lines
+
+
+def _rig(rig) -> list[str]:
+    frac = volume_fraction(rig.volume, rig.volume_taper)
+    rt = rig.tone_pot * volume_fraction(rig.tone, rig.tone_taper)
+    ru, rd = rig.volume_pot * (1.0 - frac), max(rig.volume_pot * frac, MIN_R)
+    lines = [f"Rtone jack tn {_v(rt)}", f"Ctone tn 0 {_v(rig.tone_cap)}"] if rt > 0 else [f"Ctone jack 0 {_v(rig.tone_cap)}"]
+    lines.append(f"Rvolup jack amp {_v(ru)}" if ru > 0 else "Vvolup jack amp DC 0")
+    lines += [
+        f"Rvoldown amp 0 {_v(rd)}",
+        f"Ccable amp 0 {_v(rig.cable_length * rig.cable_capacitance + rig.amp_c)}",
+        f"Ramp amp 0 {_v(rig.amp_r)}",
+    ]
+    return lines
+
+
+def circuit_lines(design: Design, *, rig: bool = True) -> list[str]:
+    """The element lines (no comments, analyses or .end): coils, networks, op-amp, output, rig."""
+    d = design
+    lines = ["Vvel vel 0 DC 0 AC 1", "Vdbdt dbdt 0 DC 0"]
+    lines += _coil("a", d.coil_a, "ta") + _coil("b", d.coil_b, "tb")
+    lines += _input("a", d.input_a, "inv") + _input("b", d.input_b, "pos")
+    ib = d.input_b
+    lines += [f"Vbat bat 0 DC {_v(d.supply.battery)}", f"Rbiastop bat pos {_v(ib.bias_top)}", f"Rbiasbottom pos 0 {_v(ib.bias_bottom)}"]
+    if ib.shunt_c:
+        lines.append(f"Cshunt pos 0 {_v(ib.shunt_c)}")
+    lines.append(f"Rfb out inv {_v(d.feedback.r)}")
+    if d.feedback.c:
+        lines.append(f"Cfb out inv {_v(d.feedback.c)}")
+    lines += op_amp_lines(d)
+    lines += [f"Ccouple out o1 {_v(d.output.coupling_c)}", f"Rout o1 jack {_v(d.output.series_r)}"]
+    if d.output.shunt_r:
+        lines.append(f"Rjack jack 0 {_v(d.output.shunt_r)}")
+    if rig:
+        lines += _rig(d.rig)
+    return lines
+
+
+def netlist(design: Design, *, rig_source: str | None = None) -> str:
+    """The whole netlist as text (module text): title, documentation, elements, analyses.
+
+    design : a validated design with its rig applied
+    rig_source : where the rig came from, for the title comment (None: the design's own)
+    returns : str, ending in ".end" and a newline
+    """
+    d = design
+    s = d.supply
+    head = [
+        f"* {d.name}: the active pickup and its rig (render netlist)",
+        f"* design: {d.source or d.name}" + (f"; rig: {rig_source}" if rig_source else ""),
+        "*",
+        "* drives: Vvel (node vel): string velocity, 1 V = 1 m/s at both sensing points, AC 1;",
+        "*         Vdbdt (node dbdt): hum field derivative, 1 V = 1 T/s",
+        "* nodes:  a1 a2 b1 b2 coil insides; ta tb coil terminals; xa xb series_c to series_r;",
+        "*         inv pos op-amp inputs; bat battery +; opx op-amp open-loop state; out op-amp output;",
+        "*         o1 coupling_c to series_r; jack output jack; tn tone; amp amplifier input",
+        f"* op-amp: open-loop gain {s.open_loop_gain:g}" + (f", gbw {s.gbw:g} Hz" if s.gbw else ", no bandwidth limit")
+        + (f", slew rate {s.slew_rate:g} V/s" if s.slew_rate else "")
+        + f"; output window {d.limit_low_v:g} .. {d.limit_high_v:g} V, knee {s.knee:g} V",
+        "*",
+    ]
+    tail = [
+        "*",
+        "* the operating point (the bias at pos, the op-amp output at out):",
+        ".op",
+        "*",
+        "* response from string velocity to the amp input (V per m/s), uncomment:",
+        "* .control",
+        "* ac dec 50 10 100k",
+        "* wrdata response.txt vdb(amp) vp(amp)",
+        "* .endc",
+        "*",
+        "* noise at the amp input, referred to the string velocity, uncomment:",
+        "* .control",
+        "* noise v(amp) Vvel dec 20 20 20k",
+        "* setplot noise1",
+        "* wrdata noise.txt onoise_spectrum inoise_spectrum",
+        "* .endc",
+        "*",
+        "* a transient: replace Vvel above with a string velocity, e.g. 1 kHz at 0.2 m/s peak,",
+        "* Vvel vel 0 DC 0 AC 1 SIN(0 0.2 1k)",
+        "* and uncomment:",
+        "* .options method=gear reltol=1e-6",
+        "* .control",
+        "* tran 1u 0.2 0 1u",
+        "* wrdata transient.txt v(out) v(amp)",
+        "* .endc",
+        ".end",
+    ]
+    return "\n".join(head + circuit_lines(d) + tail) + "\n"

@@ -1,0 +1,67 @@
+"""Recovery after a burst (render.analysis.recovery): the fit on known decays, the burst, and
+what ``render bias`` reports. Against ngspice: tests/chain/test_loop_against_ngspice.py."""
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from render.analysis.bias import onset, sweep
+from render.analysis.recovery import burst_figures, burst_velocity, recovery
+from render.cli import main
+from render.design import load_design
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+FS = 48000
+
+
+@pytest.mark.parametrize("offset, tau", [(-1.0, 0.022), (0.3, 0.005), (2.0, 0.1)])
+def test_fit_recovers_a_known_exponential(offset, tau):
+    # v − V_dc = A·e^{−(t − t_end)/τ} after the end, plus a fast mode (τ/20) that the first 2 ms
+    # leave out: A and τ back to 1e-6 (closed form)
+    t = np.arange(int(0.6 * FS)) / FS
+    end = 0.05
+    after = np.clip(t - end, 0, None)
+    v = 4.5 + np.where(t >= end, offset * np.exp(-after / tau) + 0.05 * offset * np.exp(-after * 20 / tau), np.sin(2 * np.pi * 1000 * t))
+    r = recovery(v, sample_rate=FS, end_s=end, dc_v=4.5, skip_s=max(2e-3, 8 * tau / 20))
+    assert r.offset_v == pytest.approx(offset, rel=1e-6)
+    assert r.tau_s == pytest.approx(tau, rel=1e-6)
+
+
+def test_no_offset_is_none_and_a_short_signal_is_refused():
+    assert recovery(np.full(FS, 4.5), sample_rate=FS, end_s=0.1, dc_v=4.5).offset_v == 0.0
+    with pytest.raises(ValueError, match="render longer"):
+        recovery(np.full(100, 4.5), sample_rate=FS, end_s=0.1, dc_v=4.5)
+
+
+def test_burst_is_whole_periods_then_rest():
+    v = burst_velocity(2.0, frequency_hz=1000.0, sample_rate=FS, burst_s=0.0604, after_s=0.1)
+    n_burst = 60 * FS // 1000
+    assert v.size == n_burst + int(0.1 * FS)
+    assert np.abs(v[:n_burst]).max() == pytest.approx(2.0, rel=1e-3) and not v[n_burst:].any()
+
+
+def test_an_unbalanced_divider_clips_one_side_and_comes_back_from_it():
+    # divider low: the low rail clips, series_c charges, the output comes back from below after the
+    # burst; divider high: from above (the mechanism in this module's text)
+    d = load_design(REF)
+    for ratio, sign in ((0.3, -1), (0.7, 1)):
+        s = sweep(d, ratios=[ratio])[0].design
+        o = onset(s)
+        f = burst_figures(s, velocity_peak=3 * min(o["velocity_up_m_per_s"], o["velocity_down_m_per_s"]))
+        assert np.sign(f["recovery_offset_v"]) == sign and abs(f["recovery_offset_v"]) > 0.1
+        assert 0.01 < f["recovery_tau_s"] < 0.05
+        assert f["h2_db"] > -30
+
+
+def test_render_bias_reports_the_recovery(tmp_path):
+    js = tmp_path / "b.json"
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.3,0.5", "--no-clips", "--sine-velocity", "8", "--json", str(js)])
+    assert res.exit_code == 0, res.output
+    assert "after a 60 ms burst" in res.output and "τ" in res.output
+    rows = json.loads(js.read_text())["settings"]
+    assert rows[0]["recovery_offset_v"] < -0.1 and 0.01 < rows[0]["recovery_tau_s"] < 0.05
+    assert abs(rows[1]["recovery_offset_v"]) < abs(rows[0]["recovery_offset_v"])

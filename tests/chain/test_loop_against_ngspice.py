@@ -1,0 +1,103 @@
+"""Clipping with memory against ngspice: sine bursts of string velocity through whole designs.
+
+The reference is an ngspice transient (Debian package ngspice; gear integration, 1 µs steps at
+most, relative tolerance 1e-6) of the same circuit with a behavioural op-amp written from the
+model's equations (render.circuit.netlist, pinned against a hand-written netlist in
+tests/circuit/test_netlist.py): the gain, the dominant-pole integrator with its limits as an RC
+stage with a clamping current, the slew rate as a limit on that stage's current, and the window's
+quadratic knee as a B-source expression. The render runs at 48 kHz.
+
+Bursts of 40 periods of 1 kHz at +0, +4, +10 and +20 dB past the clip onset (the velocity at which
+the linear op-amp output reaches a knee, render.analysis.bias.onset), then 110 ms of rest. Agreement
+required (the acceptance criteria of this model): the amp-input waveform's rms difference within
+1 % of the output window after aligning a fixed delay of at most 4 samples; H2 and H3 at the amp
+input within 0.5 dB wherever above −60 dB; the op-amp output's offset after the burst within 2 %
+of the window, and its decay time within 10 % where that offset exceeds 1 % of the window.
+"""
+
+import dataclasses
+from pathlib import Path
+
+import numpy as np
+import pytest
+from chain.spice_loop import loop_transient
+
+from render.analysis.bias import onset, sweep
+from render.analysis.recovery import distortion_figures, recovery
+from render.chain.stream import make_plan, render_signal
+from render.design import load_design
+
+ROOT = Path(__file__).resolve().parents[2]
+FS = 48000
+F0 = 1000.0
+PERIODS = 40
+AFTER_S = 0.11
+SPICE_RATE = 384000.0  # drive samples for ngspice (linear interpolation: a 1 kHz sine within 3e-5)
+
+
+def _design(name, *, ratio=None, **supply):
+    d = load_design(ROOT / "models" / f"{name}.toml")
+    if ratio is not None:
+        d = sweep(d, ratios=[ratio])[0].design
+    if supply:
+        d = dataclasses.replace(d, supply=dataclasses.replace(d.supply, **supply))
+    return d
+
+
+CASES = [
+    *[("divider low (0.3)", "studio-reference", dict(ratio=0.3), db) for db in (0, 4, 10, 20)],
+    *[("divider high (0.7)", "studio-reference", dict(ratio=0.7), db) for db in (0, 4, 10, 20)],
+    ("18 V", "high-rail-18v", dict(ratio=0.4), 10),
+    ("without gbw", "studio-reference", dict(ratio=0.3, gbw=None), 10),
+    ("slew rate 0.05 V/µs", "studio-reference", dict(ratio=0.45, slew_rate=5e4), 10),
+]
+
+
+def _burst(velocity_peak, rate):
+    n_burst = int(round(PERIODS * rate / F0))
+    n = n_burst + int(round(AFTER_S * rate))
+    t = np.arange(n) / rate
+    return t, np.where(np.arange(n) < n_burst, velocity_peak * np.sin(2 * np.pi * F0 * t), 0.0)
+
+
+def _harmonics_db(x):
+    # the burst's last 20 periods (the operating point has moved most of the way by then)
+    a, b = int(round((PERIODS - 20) * FS / F0)), int(round(PERIODS * FS / F0))
+    f = distortion_figures(x[a:b], sample_rate=FS, frequency_hz=F0)
+    return np.array([f["h2_db"], f["h3_db"]])
+
+
+@pytest.mark.parametrize("label, model, options, db", CASES, ids=[f"{c[0]}, +{c[3]} dB" for c in CASES])
+def test_burst_against_ngspice(label, model, options, db):
+    d = _design(model, **options)
+    o = onset(d, frequency_hz=F0)
+    vel = min(o["velocity_up_m_per_s"], o["velocity_down_m_per_s"]) * 10 ** (db / 20)
+    t, v = _burst(vel, FS)
+    plan = make_plan(d, sample_rate=FS)
+    ours = render_signal(d, v, sample_rate=FS, hum=False, plan=plan)
+    ts, vs = _burst(vel, SPICE_RATE)
+    tt, sp = loop_transient(d, ts, vs, stop=float(t[-1]))
+    amp_in = np.interp(t, tt, sp["amp"])
+    amp_out = np.interp(t, tt, sp["out"])
+    window = d.limit_high_v - d.limit_low_v
+
+    # the waveform at the amp input, after the best fixed delay of at most 4 samples
+    def rms(shift):
+        a = ours["out"][shift:] if shift >= 0 else ours["out"][:shift]
+        b = amp_in[: amp_in.size - shift] if shift >= 0 else amp_in[-shift:]
+        return np.sqrt(np.mean((a - b) ** 2))
+
+    assert min(rms(s) for s in range(-4, 5)) <= 0.01 * window
+
+    # H2 and H3 at the amp input where ngspice has them above −60 dB
+    h_ours, h_spice = _harmonics_db(ours["out"]), _harmonics_db(amp_in)
+    big = h_spice > -60
+    assert np.all(np.abs(h_ours - h_spice)[big] <= 0.5)
+
+    # the offset after the burst and its decay, at the op-amp output
+    end = PERIODS / F0
+    r_ours = recovery(ours["amp_out"], sample_rate=FS, end_s=end, dc_v=plan.bias_v)
+    r_spice = recovery(amp_out, sample_rate=FS, end_s=end, dc_v=plan.bias_v)
+    assert abs(r_ours.offset_v - r_spice.offset_v) <= 0.02 * window
+    if abs(r_spice.offset_v) > 0.01 * window:
+        assert r_ours.tau_s == pytest.approx(r_spice.tau_s, rel=0.10)
