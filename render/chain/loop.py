@@ -478,7 +478,7 @@ def make_loop(design, *, sample_rate: float, params=None) -> Loop:
     # --- the short steps
     hs = h / N
     eye = np.eye(k)
-    g = GAMMA
+    g = GAMMA  # type: ignore[assignment]  # the name held a table in the loop above; here TR-BDF2's stage
 
     def trbdf2(step):
         inv = np.linalg.inv(eye - 0.5 * g * step * a)
@@ -580,7 +580,7 @@ class LoopState:
             return out_c, out_vo, 0, 0
         from ._loop_kernel import run  # numba and the compiled loop, only once a loop runs
 
-        done, clipped, short, active = run(
+        done, clipped, short, active = run(  # type: ignore[call-arg]  # numba's dispatcher takes the kernel's own arguments
             np.ascontiguousarray(xl, dtype=float), int(start), np.ascontiguousarray(loud, dtype=np.bool_), int(loud_base),
             int(oversample), lp.sample_rate,
             lp.basis, lp.basis_d, lp.lin_at, lp.lin_rest, lp.lin_rows, lp.lin_head, lp.lin_tail,

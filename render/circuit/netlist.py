@@ -158,6 +158,7 @@ def circuit_lines(design: Design, *, rig: bool = True) -> list[str]:
     lines += _coil("a", d.coil_a, "ta") + _coil("b", d.coil_b, "tb")
     lines += _input("a", d.input_a, "inv") + _input("b", d.input_b, "pos")
     ib = d.input_b
+    assert ib.bias_top is not None and ib.bias_bottom is not None  # input_b always has its divider
     lines += [f"Vbat bat 0 DC {_v(d.supply.battery)}", f"Rbiastop bat pos {_v(ib.bias_top)}", f"Rbiasbottom pos 0 {_v(ib.bias_bottom)}"]
     if ib.shunt_c:
         lines.append(f"Cshunt pos 0 {_v(ib.shunt_c)}")
