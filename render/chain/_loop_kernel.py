@@ -13,7 +13,7 @@ import math
 import numpy as np
 from numba import njit
 
-from .loop import GAMMA, H_P1, H_P2, H_VO1, H_X, H_XL1, H_XL2, NO_SLEW, RAIL_TOL_V, STAGE_0, STAGE_1
+from .loop_shared import GAMMA, H_P1, H_P2, H_VO1, H_X, H_XL1, H_XL2, NO_SLEW, RAIL_TOL_V, STAGE_0, STAGE_1
 
 # --- the output stage, scalar (numba) -----------------------------------------------------
 

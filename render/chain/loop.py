@@ -112,14 +112,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from .limit import Window
+from .loop_shared import GAMMA, H_P1, H_P2, H_VO1, H_X, H_XL1, H_XL2, NO_SLEW, RAIL_TOL_V, STAGE_0, STAGE_1  # noqa: F401  (the kernel reads them from loop_shared)
 
 TOLERANCE_V = 1e-12  # V: a correction below this (every state, in volts of stored energy) is dropped as zero
-GAMMA = 2.0 - math.sqrt(2.0)  # TR-BDF2's stage: both stages then share one matrix (Bank et al. 1985)
 SUBSTEPS = 32  # grid of short steps across a change of piece
-RAIL_TOL_V = 1e-12  # V: the op-amp state within this of a clamp is at the rail
-NO_SLEW = 1e301  # V per step standing for no slew limit
-STAGE_1 = 1.0 / (GAMMA * (2.0 - GAMMA))  # TR-BDF2's BDF2 stage: weights of Z[γ] and Z[0]
-STAGE_0 = -((1.0 - GAMMA) ** 2) / (GAMMA * (2.0 - GAMMA))
 
 @dataclass(frozen=True)
 class Network:
@@ -541,9 +537,7 @@ def make_loop(design, *, sample_rate: float, params=None) -> Loop:
     )
 
 
-# carried scalars in the state vector ``hist``
-H_X, H_XL1, H_XL2, H_VO1, H_P1, H_P2 = range(6)
-HIST = 6
+HIST = 6  # carried scalars in the state vector ``hist`` (their places: loop_shared.H_*)
 
 
 class LoopState:
