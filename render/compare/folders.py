@@ -28,24 +28,11 @@ BIAS_NOTES = (
 )
 
 
-def _cell(v, fmt: str, unit: str = "") -> str:
-    return "—" if v is None else format(v, fmt) + unit
-
-
 def clips_cells(m: dict) -> tuple[str, ...]:
     """A clips record's ``measurements`` as the summary table's cells (the columns of ``summary.md``)."""
-    return (
-        f"{m['resonance_hz']:.0f} Hz, {m['resonance_db']:+.1f} dB",
-        _cell(m["q"], ".2f"),
-        f"{m['level_1k_db']:+.1f} dB",
-        f"{m['gain_vs_passive_db']:+.1f} dB",
-        _cell(m["hum_rejection_db"], ".1f", " dB"),
-        f"{m['bias_v']:.2f} V",
-        f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
-        f"{m['peak_v']:.3f} V",
-        _cell(m["loudness_lufs"], ".1f", " LUFS"),
-        f"{m['clipped_fraction'] * 100:.2f} %",
-    )
+    from ..report.clips import measurement_cells
+
+    return measurement_cells(m)
 
 
 def read_head(path: Path, *, volts_full_scale: float, seconds: float = PAGE_SECONDS) -> tuple[np.ndarray, int, int]:
@@ -92,7 +79,7 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
         f"{q['h2_db']:.1f} dB",
         f"{q['h3_db']:.1f} dB",
         f"{clip['peak_v']:.3f} V",
-        _cell(clip["loudness_lufs_1v_full_scale"], ".1f", " LUFS"),
+        "silent" if clip["loudness_lufs_1v_full_scale"] is None else f"{clip['loudness_lufs_1v_full_scale']:.1f} LUFS",
     )
 
 

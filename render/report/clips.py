@@ -98,6 +98,23 @@ def _resonance(m) -> str:
     return f"{m['resonance_hz']:.0f} Hz, {m['resonance_db']:+.1f} dB"
 
 
+def measurement_cells(m: dict) -> tuple[str, ...]:
+    """A clip record's ``measurements`` as one row of the run's table (``summary.md`` and ``index.html``):
+    resonance, Q, level at 1 kHz, vs passive, hum rejection, bias, headroom, peak, loudness, limited."""
+    return (
+        _resonance(m),
+        _cell(m, "q", ".2f"),
+        _cell(m, "level_1k_db", "+.1f", " dB"),
+        _cell(m, "gain_vs_passive_db", "+.1f", " dB"),
+        _cell(m, "hum_rejection_db", ".1f", " dB"),
+        f"{m['bias_v']:.2f} V",
+        f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
+        f"{m['peak_v']:.3f} V",
+        _cell(m, "loudness_lufs", ".1f", " LUFS"),
+        f"{m['clipped_fraction'] * 100:.2f} %",
+    )
+
+
 def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict, volts_full_scale: float) -> str:
     lines = [
         "# render clips",
@@ -111,12 +128,7 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         "|---|---|---|---|---|---|---|---|---|---|---|",
     ]
     for r in records:
-        m = r["measurements"]
-        lines.append(
-            f"| {r['design']} | {_resonance(m)} | {_cell(m, 'q', '.2f')} | {_cell(m, 'level_1k_db', '+.1f', ' dB')} | {_cell(m, 'gain_vs_passive_db', '+.1f', ' dB')}"
-            f" | {_cell(m, 'hum_rejection_db', '.1f', ' dB')} | {m['bias_v']:.2f} V | {m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V"
-            f" | {m['peak_v']:.3f} V | {_cell(m, 'loudness_lufs', '.1f', ' LUFS')} | {m['clipped_fraction'] * 100:.2f} % |"
-        )
+        lines.append(f"| {r['design']} | " + " | ".join(measurement_cells(r["measurements"])) + " |")
     lines += [
         "",
         "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the WAV as written;"
