@@ -32,6 +32,6 @@ def netlist_command(model, rig_path, out_path, overwrite):
         from ..io.atomic import write_text
 
         write_text(out_path, text, overwrite=overwrite)
-        click.echo(f"netlist written to {out_path}", err=True)
+        click.echo(f"netlist written to {out_path}")
     else:
         click.echo(text, nl=False)
