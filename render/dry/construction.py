@@ -75,6 +75,13 @@ from .modal import (
 )
 from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Phrase
 
+# The displacement that looks the flux up is summed over the modes below this
+# frequency only: a mode's displacement falls as 1/n² (a triangular pluck), so
+# above it the modes move the string by under 1e-3 of the fundamental's
+# amplitude, and the flux's curvature over that is negligible; their velocity,
+# which the EMF carries, is summed in full (our own bound, no source).
+DISPLACEMENT_MAX_HZ = 4000.0
+
 __all__ = ["Pickup", "bend_offset", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
 assert _BLOCK > 0  # the block sums of modal.py are shared as they are
 
@@ -261,12 +268,23 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
     lives = np.minimum(np.ceil(life * fs).astype(int) + 1, span)
     buf = np.zeros((8, span))
     t = (np.arange(span) + delta) / fs
+    disp, vel = np.array([0, 1, 4, 5]), np.array([2, 3, 6, 7])
+    low = np.flatnonzero(omega < 2 * np.pi * DISPLACEMENT_MAX_HZ)  # the displacement's modes (see DISPLACEMENT_MAX_HZ)
     if note.bend is None and note.vibrato is None:
-        _sum_blocks(buf, amp, sigma, omega, lives, delta, fs)
+        part = np.zeros((4, span))
+        _sum_blocks(part, amp[vel], sigma, omega, lives, delta, fs)
+        buf[vel] = part
+        part = np.zeros((4, span))
+        _sum_blocks(part, amp[disp][:, low], sigma[low], omega[low], lives[low], delta, fs)
+        buf[disp] = part
     else:
         ratio = pitch_ratio(t, note=note)
-        _direct(buf, amp, sigma, omega, lives, delta, fs, ratio=ratio)
-        buf[[0, 1, 4, 5]] /= ratio  # displacement falls as ratio^(−1/2) where velocity rises as ratio^(1/2)
+        part = np.zeros((4, span))
+        _direct(part, amp[vel], sigma, omega, lives, delta, fs, ratio=ratio)
+        buf[vel] = part
+        part = np.zeros((4, span))
+        _direct(part, amp[disp][:, low], sigma[low], omega[low], lives[low], delta, fs, ratio=ratio)
+        buf[disp] = part / ratio  # displacement falls as ratio^(−1/2) where velocity rises as ratio^(1/2)
     if math.isfinite(hold):
         buf *= np.exp(-sigma_rel * np.maximum(t - hold, 0.0))
     if note.bend is not None and note.bend.semitones > 0:

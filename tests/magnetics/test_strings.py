@@ -40,9 +40,9 @@ def test_rod_in_an_axial_field_against_cells():
         cells.append(c)
     out = apply_demag(magpy.Collection(*cells), solver="direct")
     ref = np.array([s.polarization[0] for s in out.sources_all]) / mu_0
-    assert ours.mean() == pytest.approx(ref.mean(), rel=0.05)  # the mean magnetisation within 5 %
+    assert ours.mean() == pytest.approx(ref.mean(), rel=0.01)  # the mean magnetisation within 1 % (measured 0.04 %)
     mid = slice(x.size // 4, 3 * x.size // 4)
-    assert ours[mid].mean() == pytest.approx(ref[mid].mean(), rel=0.05)
+    assert ours[mid].mean() == pytest.approx(ref[mid].mean(), rel=0.01)
     assert ours.mean() < 0.95 * chi * b0 / mu_0  # and below the undemagnetised χ·H (its ends are demagnetised)
 
 
@@ -73,11 +73,11 @@ def test_reciprocity_against_a_direct_rate_of_flux():
     direct = np.array([(direct_flux(y + h) - direct_flux(y - h)) / (2 * h) * speed for y in ys])
     f1 = g.filaments((6, 1))
     boxes = hs.winding_boxes(f1.half_x, f1.half_y, f1.turns, centre=(0.0, 0.0, 0.0), height=g.height)
-    grid = hs.plan((8 * MM, 20 * MM), (10 * MM, 40 * MM), 2 * MM)
+    grid = hs.plan((8 * MM, 20 * MM), (40 * MM, 60 * MM), 2 * MM, decay_lengths=12.0)  # the series converged further than the pickup needs
     spec = hs.spectrum(boxes, grid, z_ref=0.0)
-    grad = hs.lines(spec, grid, x=np.array([1.5 * MM]), y=ys, z=z, z_ref=0.0, d_dy=1)[:, :, 0]  # (3, ny)
+    grad = hs.lines(spec, grid, x=np.array([1.5 * MM]), y=ys, z=z, z_ref=0.0, d_dy=1, decay_lengths=12.0)[:, :, 0]  # (3, ny)
     recip = speed * (m @ grad)
-    np.testing.assert_allclose(recip, direct, atol=2e-3 * np.abs(direct).max())  # 0.2 % of the largest EMF
+    np.testing.assert_allclose(recip, direct, atol=3e-4 * np.abs(direct).max())  # 0.03 % of the largest EMF (measured 0.0075 %)
 
 
 POLE = (5 * MM, 8 * MM)  # a square pole 5 mm across and 8 mm tall, top face at z = 0
