@@ -251,7 +251,10 @@ def derive(design, build: PickupBuild | None):
     if build is None:
         return design
     design = replace(design, construction=build)
-    result = sensing(design)
+    try:
+        result = sensing(design)
+    except InputError as exc:
+        raise InputError(f"{design.source or design.name}: {exc}") from None
     coils = {}
     for name in ("coil_a", "coil_b"):
         c = getattr(design, name)
