@@ -106,6 +106,11 @@ class PassiveStream:
         self.delay = self.common.delay
         freqs = hm.harmonic_frequencies(mains_hz=self.h.mains, harmonics=self.h.harmonics)
         self.gains = np.where(freqs < sample_rate / 2, resp.passive_hum()(freqs)[0], 0.0) if hum else None
+        self.phasors = None  # with [[hum.source]] tables: the sources' hum at the amp input, V peak per harmonic
+        if hum and self.h.sources:
+            from .magnetics.pickup import passive_phasors
+
+            self.phasors = np.where(freqs < sample_rate / 2, passive_phasors(design, resp), 0.0)
         self._n_out = 0
         self._to_drop = self.delay
 
@@ -115,6 +120,10 @@ class PassiveStream:
         if self.gains is None or n == 0:
             return np.zeros(n)
         h = self.h
+        if self.phasors is not None:
+            from .magnetics.hum import steady_samples
+
+            return steady_samples(self.phasors, n, sample_rate=self.fs, mains_hz=h.mains, start=self._n_out)
         return hm.steady_response(self.gains, n, sample_rate=self.fs, mains_hz=h.mains, field_t=h.field, harmonics=h.harmonics, start=self._n_out)
 
     def process(self, velocity: np.ndarray) -> np.ndarray:

@@ -76,6 +76,21 @@ def velocity_to_amp_output(design, frequency_hz: float) -> float:
     return float(abs(responses(from_designs([design])).velocity_to_amp_output()(frequency_hz)[0, 0]))
 
 
+def _refuse_silent(design) -> None:
+    """Refuse a design whose coils cancel the string signal exactly: no string velocity reaches a limit."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from ..errors import InputError
+    from .figures import signal_cancels
+
+    silent, _ = signal_cancels(responses(from_designs([design])), [SINE_HZ])
+    if silent[0]:
+        raise InputError(
+            f"{design.source}: the two coils cancel the string signal exactly (coil_b wired in reverse? check signal_polarity),"
+            " so no string velocity drives the output into a limit: there is no clipping to measure"
+        )
+
+
 def onset(design, *, frequency_hz: float = SINE_HZ) -> dict:
     """String velocity (peak, m/s) and coil_a EMF (peak, V) of a sine at which
     the op-amp output first enters the soft limit's knee, on each side."""
@@ -205,6 +220,7 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
         w = s.design.supply
         if w.battery - w.margin_low - w.margin_high - 2 * w.knee <= 0:
             raise InputError(f"--battery={s.battery:g}: leaves no room between margin_low + margin_high + 2·knee and the battery; raise it")
+    _refuse_silent(design)
     first = onset(design)
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
     warnings = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway",) if ref_v > REALISTIC_VELOCITY else ()

@@ -16,9 +16,16 @@ string velocity (the same at both sensing points) to the amp input:
 - ``gain_vs_passive_db``: ``level_1k_db`` minus the passive reference's.
 - ``hum_rejection_db``: 20·log10(max(|V_A|, |V_B|)/|V_A + V_B|) at the
   mains fundamental, V_A and V_B the hum at the amp input from each coil's
-  hum EMF alone.
+  hum EMF alone (from the rig's hum sources in space when it has them,
+  :mod:`render.magnetics.pickup`).
 - ``headroom_v``: the smaller of ``headroom_up_v`` and ``headroom_down_v``.
 - ``cable_loss_db``: |H(5 kHz)| without the cable minus with it, in dB.
+
+A figure with no finite value is None with a sibling ``<name>_reason``
+(:mod:`render.analysis.undefined`): no Q below a 3 dB peak, no corner in
+range, an infinite rejection where the coils' hum cancels exactly (to
+rounding, :data:`REJECTION_CAP_DB`), and every response figure when the two
+coils cancel the string signal exactly (a coil wired in reverse).
 
 Everything is vectorised over the N designs of one
 :class:`~render.circuit.engine.Responses`.
@@ -27,6 +34,8 @@ Everything is vectorised over the N designs of one
 from __future__ import annotations
 
 import numpy as np
+
+from . import undefined as U
 
 F_LO, F_HI = 5.0, 40000.0
 GRID_POINTS = 1600  # log-spaced; 0.4 % steps, then refined by interpolation
@@ -43,6 +52,24 @@ def rejection_db(va, vb) -> np.ndarray:
 def coil_hum(resp, frequency_hz):
     """(V_A, V_B): the hum at the amp input per T/s of dB/dt from each coil's hum EMF alone, shape (N, F)."""
     return resp.hum_a[:, None] * resp.from_a()(frequency_hz), resp.hum_b[:, None] * resp.from_b()(frequency_hz)
+
+
+def signal_cancels(resp, frequency_hz) -> tuple[np.ndarray, np.ndarray]:
+    """(active, passive), each shape (N,): whether the two coils cancel the string signal exactly.
+
+    Exactly means to rounding, as for the hum: at every frequency the sum of
+    the two coils' parts is under 10^(-REJECTION_CAP_DB/20) of the larger part.
+    """
+    f = np.asarray(frequency_hz, float)
+    zero = np.zeros(resp.n)
+    a, b = resp.sig_a[:, None] * resp.from_a()(f), resp.sig_b[:, None] * resp.from_b()(f)
+    pa, pb = resp.passive_mix(resp.sig_a, zero)(f), resp.passive_mix(zero, resp.sig_b)(f)
+
+    def cancel(x, y):
+        big = np.maximum(np.abs(x), np.abs(y))
+        return np.all(np.abs(x + y) <= big * 10 ** (-REJECTION_CAP_DB / 20), axis=1)
+
+    return cancel(a, b), cancel(pa, pb)
 
 
 def grid(points: int = GRID_POINTS) -> np.ndarray:
@@ -158,41 +185,76 @@ def figures(designs, resp=None, resp_no_cable=None) -> list[dict]:
     resp_nc = resp_no_cable or responses(without_cable(p, designs))
     f = grid()
     vel, pvel = resp.velocity(), resp.passive_velocity()
-    fig = response_figures(db(vel(f)), f)
-    pfig = response_figures(db(pvel(f)), f)
+    with np.errstate(divide="ignore", invalid="ignore"):  # a silent response's figures are replaced by reasons below
+        fig = response_figures(db(vel(f)), f)
+        pfig = response_figures(db(pvel(f)), f)
     mains = np.array([d.hum.mains for d in designs])
     rej = hum_rejection_db(resp, mains)
+    for i, d in enumerate(designs):
+        if d.hum.sources:  # sources in space: each coil's own EMF at the fundamental
+            from ..magnetics.pickup import design_emf
+
+            e = design_emf(d).total[:, 0]
+            rej[i] = rejection_db(resp.from_a()(d.hum.mains)[i, 0] * e[0], resp.from_b()(d.hum.mains)[i, 0] * e[1])
     h5 = np.abs(vel(5000.0)[:, 0])
     h5nc = np.abs(resp_nc.velocity()(5000.0)[:, 0])
     hp5 = np.abs(pvel(5000.0)[:, 0])
     hp5nc = np.abs(resp_nc.passive_velocity()(5000.0)[:, 0])
     zo = resp.z_out([1000.0, 10000.0])
     zp = resp.z_out_passive([1000.0, 10000.0])
+    silent, passive_silent = signal_cancels(resp, f)
     out = []
     for i, d in enumerate(designs):
-        row = {k: _num(v[i]) for k, v in fig.items()}
-        row["resonance_hz"] = row["peak_hz"]
-        row["resonance_db"] = row["peak_db"]
-        row["gain_vs_passive_db"] = _num(fig["level_1k_db"][i] - pfig["level_1k_db"][i])
-        row["hum_rejection_db"] = _num(rej[i])
+        row = _response_row(fig, i, silent[i], U.NO_SIGNAL)
+        if silent[i]:
+            U.mark(row, "gain_vs_passive_db", U.NO_SIGNAL)
+        elif passive_silent[i]:
+            U.mark(row, "gain_vs_passive_db", U.PASSIVE_NO_SIGNAL)
+        else:
+            U.put(row, "gain_vs_passive_db", fig["level_1k_db"][i] - pfig["level_1k_db"][i], U.NO_SIGNAL)
+        if rej[i] >= REJECTION_CAP_DB:
+            U.mark(row, "hum_rejection_db", U.HUM_CANCELS)
+        else:
+            U.put(row, "hum_rejection_db", rej[i], U.HUM_CANCELS)
         row["bias_v"] = d.bias_v
         row["headroom_up_v"] = d.headroom_up_v
         row["headroom_down_v"] = d.headroom_down_v
         row["headroom_v"] = min(d.headroom_up_v, d.headroom_down_v)
-        row["cable_loss_db"] = _num(20 * np.log10(h5nc[i] / h5[i]))
+        _cable_loss(row, h5nc[i], h5[i], silent[i], U.NO_SIGNAL)
         row["output_impedance_1k_ohm"] = float(abs(zo[i, 0]))
         row["output_impedance_10k_ohm"] = float(abs(zo[i, 1]))
-        row["passive"] = {k: _num(v[i]) for k, v in pfig.items()}
-        row["passive"]["cable_loss_db"] = _num(20 * np.log10(hp5nc[i] / hp5[i]))
+        row["passive"] = _response_row(pfig, i, passive_silent[i], U.PASSIVE_NO_SIGNAL, resonance=False)
+        _cable_loss(row["passive"], hp5nc[i], hp5[i], passive_silent[i], U.PASSIVE_NO_SIGNAL)
         row["passive"]["output_impedance_1k_ohm"] = float(abs(zp[i, 0]))
         row["passive"]["output_impedance_10k_ohm"] = float(abs(zp[i, 1]))
         out.append(row)
     return out
 
 
-def _num(x):
-    x = float(x)
-    return None if not np.isfinite(x) else x
+RESPONSE_KEYS = ("level_1k_db", "peak_hz", "peak_db", "q", "bass_corner_hz", "treble_corner_hz")
+
+
+def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resonance: bool = True) -> dict:
+    """The response figures of design i, with a reason beside each None."""
+    row: dict = {}
+    for k in RESPONSE_KEYS:
+        if silent:
+            U.mark(row, k, silent_reason)
+        elif k == "q":
+            U.put(row, k, fig[k][i], U.NO_PEAK if fig["peak_db"][i] < 3.0 else U.PEAK_EDGES)
+        else:
+            U.put(row, k, fig[k][i], {"bass_corner_hz": U.NO_BASS_CORNER, "treble_corner_hz": U.NO_TREBLE_CORNER}.get(k, silent_reason))
+    if resonance:
+        for new, old in (("resonance_hz", "peak_hz"), ("resonance_db", "peak_db")):
+            U.put(row, new, row[old], U.reason(row, old))
+    return row
+
+
+def _cable_loss(row: dict, without_cable: float, with_cable: float, silent: bool, silent_reason: str) -> None:
+    if silent or not (with_cable > 0 and without_cable > 0):
+        U.mark(row, "cable_loss_db", silent_reason)
+    else:
+        U.put(row, "cable_loss_db", 20 * np.log10(without_cable / with_cable), silent_reason)
 
 
 def pole_resonance(rational, i: int = 0, f_max: float = 20000.0):

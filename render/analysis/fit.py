@@ -30,6 +30,7 @@ from ..errors import InputError
 from ..eseries import SERIES, values_between
 from ..io.toml import read_toml
 from ..validate import Field, read_value, suggest
+from .figures import REJECTION_CAP_DB
 
 FIGURES = (
     "level_1k_db", "peak_hz", "peak_db", "resonance_hz", "resonance_db", "q", "bass_corner_hz", "treble_corner_hz",
@@ -38,7 +39,7 @@ FIGURES = (
 # default scale of a one-sided bound's miss (a 'min' or 'max' with no tolerance): common practice, no source
 BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
 # what an undefined figure counts as when scored
-UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0}
+UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB}
 FREE_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 
 

@@ -50,53 +50,97 @@ def hum_table(design, resp=None) -> dict:
     Returns a dict with ``mains_hz``, ``field_t``, ``harmonics`` (list of
     {harmonic, frequency_hz, rejection_db, output_v (peak), coil_a_v,
     coil_b_v}), ``total_v_rms``, and the signal-to-hum ratio against the
-    reference string signal.
+    reference string signal. With ``[[hum.source]]`` tables
+    (:mod:`render.analysis.hum_sources`) ``field_t`` is None, ``sources``
+    describes them, each harmonic lists each source's share under
+    ``sources``, and ``warnings`` holds the approximations in force. A
+    figure that does not exist is None with a ``…_reason`` beside it.
     """
-    from .figures import coil_hum, rejection_db
+    from . import undefined as U
+    from .figures import REJECTION_CAP_DB, coil_hum, rejection_db, signal_cancels
 
     resp = resp or responses(from_designs([design]))
     hum = design.hum
     f, dbdt = field_derivative(hum)
     h = np.arange(1, len(f) + 1)
-    va, vb = (x[0] * dbdt for x in coil_hum(resp, f))
-    total = va + vb
+    sv = None
+    if hum.sources:
+        from .hum_sources import share_rows, source_record, source_voltages
+
+        sv = source_voltages(design, resp)
+        va, vb = sv.coil_a, sv.coil_b
+    else:
+        va, vb = (x[0] * dbdt for x in coil_hum(resp, f))
     rej = rejection_db(va, vb)
+    exact = rej >= REJECTION_CAP_DB  # the sum is rounding noise: the coils' hum cancels exactly
+    total = np.where(exact, 0.0, va + vb)
     rows = []
     for i in range(len(h)):
-        rows.append(
-            {
-                "harmonic": int(h[i]),
-                "frequency_hz": float(f[i]),
-                "rejection_db": None if dbdt[i] == 0 else float(rej[i]),
-                "output_v": float(abs(total[i])),
-                "coil_a_v": float(abs(va[i])),
-                "coil_b_v": float(abs(vb[i])),
-            }
-        )
+        row: dict = {"harmonic": int(h[i]), "frequency_hz": float(f[i])}
+        if sv is None and dbdt[i] == 0:
+            U.mark(row, "rejection_db", U.NO_FIELD)
+        elif sv is not None and va[i] == 0 and vb[i] == 0:
+            U.mark(row, "rejection_db", U.NO_LINKAGE)
+        elif exact[i]:
+            U.mark(row, "rejection_db", U.HUM_CANCELS)
+        else:
+            U.put(row, "rejection_db", rej[i], U.HUM_CANCELS)
+        row.update({"output_v": float(abs(total[i])), "coil_a_v": float(abs(va[i])), "coil_b_v": float(abs(vb[i]))})
+        if sv is not None:
+            row["sources"] = share_rows(sv, i)
+        rows.append(row)
     total_rms = float(np.sqrt(np.sum(np.abs(total) ** 2) / 2))
-    sig = abs(resp.velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
-    ptotal = resp.passive_hum()(f)[0] * dbdt
+    silent, passive_silent = (bool(x[0]) for x in signal_cancels(resp, [REFERENCE_NOTE_HZ]))
+    sig = 0.0 if silent else abs(resp.velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
+    if sv is None:
+        zero = np.zeros(1)
+        pa, pb = (x(f)[0] * dbdt for x in (resp.passive_mix(resp.hum_a, zero), resp.passive_mix(zero, resp.hum_b)))
+        ptotal = np.where(rejection_db(pa, pb) >= REJECTION_CAP_DB, 0.0, pa + pb)
+    else:
+        ptotal = sv.passive
     passive_rms = float(np.sqrt(np.sum(np.abs(ptotal) ** 2) / 2))
-    psig = abs(resp.passive_velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
-    return {
+    psig = 0.0 if passive_silent else abs(resp.passive_velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
+    table = {
         "mains_hz": hum.mains,
-        "field_t": hum.field,
+        "field_t": None if sv is not None else hum.field,
         "harmonic_profile": list(hum.harmonics),
         "harmonics": rows,
         "total_v_rms": total_rms,
         "reference_signal": {"velocity_m_per_s_peak": REFERENCE_VELOCITY, "frequency_hz": REFERENCE_NOTE_HZ, "output_v_rms": float(sig)},
-        "signal_to_hum_db": _ratio_db(sig, total_rms),
-        "passive": {"total_v_rms": passive_rms, "signal_to_hum_db": _ratio_db(psig, passive_rms)},
     }
+    _signal_to_hum(table, sig, total_rms, U.NO_SIGNAL)
+    table["passive"] = _signal_to_hum({"total_v_rms": passive_rms}, psig, passive_rms, U.PASSIVE_NO_SIGNAL)
+    if sv is not None:
+        table["sources"] = [source_record(j, s, sv.linkage_wb) for j, s in enumerate(sv.sources)]
+        table["warnings"] = list(sv.warnings)
+    return table
 
 
-def _ratio_db(a, b):
-    return None if b <= 0 else float(20 * np.log10(a / b))
+def _signal_to_hum(record: dict, signal_v: float, hum_v: float, silent_reason: str) -> dict:
+    """``signal_to_hum_db`` = 20·log10(signal/hum), or None with its reason (no hum, or no signal)."""
+    from . import undefined as U
+
+    if hum_v <= 0:
+        return U.mark(record, "signal_to_hum_db", U.NO_HUM)
+    if signal_v <= 0:
+        return U.mark(record, "signal_to_hum_db", silent_reason)
+    return U.put(record, "signal_to_hum_db", 20 * np.log10(signal_v / hum_v), U.NO_HUM)
 
 
 def rejection_curve(designs, frequency_hz) -> np.ndarray:
-    """Rejection (dB) of each design at each frequency: shape (N, F)."""
-    return _rejection(from_designs(list(designs)), frequency_hz)
+    """Rejection (dB) of each design at each frequency: shape (N, F).
+
+    A design with hum sources takes its coils' couplings to them
+    (:func:`render.analysis.hum_sources.rejection_curve`).
+    """
+    designs = list(designs)
+    out = _rejection(from_designs(designs), frequency_hz)
+    for i, d in enumerate(designs):
+        if d.hum.sources:
+            from .hum_sources import rejection_curve as source_curve
+
+            out[i] = source_curve(d, frequency_hz)
+    return out
 
 
 # ----------------------------------------------------------------------------
@@ -191,6 +235,16 @@ def _rejection(p: Params, f) -> np.ndarray:
     return rejection_db(*coil_hum(responses(p), f))
 
 
+def _design_rejection(design, factors: dict, n: int, f) -> np.ndarray:
+    """Rejection (dB) of n copies of ``design`` with the part factors applied, in its own room: shape (n, F)."""
+    p = perturbed(design, factors, n)
+    if not design.hum.sources:
+        return _rejection(p, f)
+    from .hum_sources import tolerance_rejection
+
+    return tolerance_rejection(design, responses(p), f, factors)
+
+
 @dataclass(frozen=True)
 class MonteCarlo:
     frequency_hz: np.ndarray  # (H,)
@@ -198,7 +252,7 @@ class MonteCarlo:
     tolerances: dict
     trials: int
     seed: int
-    sensitivity: list  # [(label, dB per +1 % at the fundamental)], largest first
+    sensitivity: list  # [(label, dB per +1 % at the fundamental, or the reason in words)], largest first
 
     def as_dict(self) -> dict:
         """The JSON layout of ``render hum --json``'s ``monte_carlo``."""
@@ -208,25 +262,30 @@ class MonteCarlo:
             "tolerances": self.tolerances,
             "distribution": "uniform within ± the tolerance",
             "harmonics": self.summary(),
-            "sensitivity_db_per_percent": [{"part": k, "db": v} for k, v in self.sensitivity],
+            "sensitivity_db_per_percent": [sensitivity_record(k, v) for k, v in self.sensitivity],
         }
 
     def summary(self) -> list[dict]:
-        return [
-            {
-                "harmonic": i + 1,
-                "frequency_hz": float(f),
-                "median_db": float(np.median(self.rejection_db[:, i])),
-                "p5_db": float(np.percentile(self.rejection_db[:, i], 5)),
-            }
-            for i, f in enumerate(self.frequency_hz)
-        ]
+        """Per harmonic: the median and 5th-percentile rejection (None, with the reason, where infinite)."""
+        from . import undefined as U
+        from .figures import REJECTION_CAP_DB
+
+        rows = []
+        for i, f in enumerate(self.frequency_hz):
+            row: dict = {"harmonic": i + 1, "frequency_hz": float(f)}
+            for key, value in (("median_db", np.median(self.rejection_db[:, i])), ("p5_db", np.percentile(self.rejection_db[:, i], 5))):
+                if value >= REJECTION_CAP_DB:
+                    U.mark(row, key, U.HUM_CANCELS)
+                else:
+                    U.put(row, key, value, U.HUM_CANCELS)
+            rows.append(row)
+        return rows
 
 
 def _mc_chunk(args):
     design, factors, f = args
     n = len(next(iter(factors.values())))
-    return _rejection(perturbed(design, factors, n), f)
+    return _design_rejection(design, factors, n, f)
 
 
 def part_draws(design, *, tolerances=None, trials=2000, seed=0) -> tuple[dict, dict]:
@@ -255,14 +314,42 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     return MonteCarlo(f, out, tol, trials, seed, sensitivities(design, f[:1]))
 
 
-def sensitivities(design, frequency_hz) -> list[tuple[str, float]]:
-    """Change of rejection (dB) at ``frequency_hz[0]`` for +1 % on each part alone, largest first."""
+def sensitivities(design, frequency_hz) -> list[tuple[str, float | str]]:
+    """Change of rejection (dB) at ``frequency_hz[0]`` for +1 % on each part alone, largest first.
+
+    Where the design or the changed one cancels its hum exactly, the change
+    has no finite size: its entry is the reason in words
+    (:data:`~render.analysis.undefined.NOMINAL_CANCELS` or ``PART_CANCELS``),
+    ordered by the rejection the change leaves when the design itself cancels,
+    else after the finite changes.
+    """
+    from . import undefined as U
+    from .figures import REJECTION_CAP_DB
+
     labels = [label for label, _ in part_labels(design)]
     n = len(labels) + 1
     factors = {label: np.where(np.arange(n) == i + 1, 1.01, 1.0) for i, label in enumerate(labels)}
-    r = _rejection(perturbed(design, factors, n), np.asarray(frequency_hz, float))[:, 0]
-    rows = [(label, float(r[i + 1] - r[0])) for i, label in enumerate(labels)]
-    return sorted(rows, key=lambda x: -abs(x[1]))
+    r = _design_rejection(design, factors, n, np.asarray(frequency_hz, float))[:, 0]
+    exact = r >= REJECTION_CAP_DB
+    rows: list[tuple[str, float | str]] = []
+    for i, label in enumerate(labels):
+        if exact[0] and not exact[i + 1]:
+            rows.append((label, f"{U.NOMINAL_CANCELS}; with +1 % on this part alone it is {r[i + 1]:.1f} dB"))
+        elif exact[i + 1] and not exact[0]:
+            rows.append((label, U.PART_CANCELS))
+        else:
+            rows.append((label, 0.0 if exact[0] else float(r[i + 1] - r[0])))
+    if exact[0]:  # the parts that spoil an exact balance most come first
+        return sorted(rows, key=lambda x: r[labels.index(x[0]) + 1])
+    return sorted(rows, key=lambda x: -abs(x[1]) if isinstance(x[1], float) else 0.0)
+
+
+def sensitivity_record(part: str, change) -> dict:
+    """One entry of ``sensitivity_db_per_percent``: {"part", "db"}, or "db": null with "db_reason"."""
+    from . import undefined as U
+
+    row = {"part": part}
+    return U.mark(row, "db", change) if isinstance(change, str) else U.put(row, "db", change, "undefined")
 
 
 # ----------------------------------------------------------------------------
@@ -288,6 +375,10 @@ def hum_only(design, *, coil: str | None = None, seconds: float = 2.0, sample_ra
     (not the engine's steady-state shortcut), so this is a true time-domain
     render of the hum, start-up transient included.
     """
+    if design.hum.sources:
+        from .hum_sources import hum_only as source_hum_only
+
+        return source_hum_only(design, coil=coil, seconds=seconds, sample_rate=sample_rate)
     from ..chain import hum as hm
     from ..chain.stream import make_plan, render_signal
 
@@ -332,10 +423,12 @@ class HumHarmonic:
 
     harmonic: int
     frequency_hz: float
-    rejection_db: float | None  # None where the field has no such harmonic
+    rejection_db: float | None  # None where the field has no such harmonic, or where the coils' hum cancels exactly
     output_v: float
     coil_a_v: float
     coil_b_v: float
+    rejection_db_reason: str | None = None  # why rejection_db is None, in words
+    sources: tuple[dict, ...] = ()  # with hum sources: each one's share (source, kind, rejection_db, output_v, coil_a_v, coil_b_v)
 
 
 @dataclass(frozen=True)
@@ -346,21 +439,30 @@ class HumReport:
     ----------
     design : str
     mains_hz : float, Hz
-    field_t : float, T, peak flux density of the fundamental
+    field_t : float or None, T, peak flux density of the fundamental; None
+        when hum sources replace the one-number field
     harmonics : tuple of HumHarmonic
     total_v_rms : float, V rms over the harmonics
     signal_to_hum_db : float or None
         The reference string signal over the total hum; None when the coils
-        cancel exactly (no hum to compare with).
+        cancel the hum exactly (no hum to compare with) or the string signal
+        (no signal), with the reason in ``signal_to_hum_reason``.
     passive_total_v_rms : float, V
     passive_signal_to_hum_db : float or None
     reference_signal : dict
         What the signal-to-hum ratio is relative to.
+    signal_to_hum_reason, passive_signal_to_hum_reason : str or None
+        Why the figure beside it is None, in words.
+    sources : tuple of dict
+        The hum sources (kind, strength, place, axis, profile, phase, each
+        coil's flux linkage); empty for the one-number field.
+    warnings : tuple of str
+        Approximations in force (a dipole source on a coil without geometry).
     """
 
     design: str
     mains_hz: float
-    field_t: float
+    field_t: float | None
     harmonics: tuple[HumHarmonic, ...]
     total_v_rms: float
     signal_to_hum_db: float | None
@@ -368,37 +470,54 @@ class HumReport:
     passive_signal_to_hum_db: float | None
     reference_signal: dict
     table: dict  # the same figures in the JSON layout of ``render hum --json``
+    signal_to_hum_reason: str | None = None
+    passive_signal_to_hum_reason: str | None = None
+    sources: tuple[dict, ...] = ()
+    warnings: tuple[str, ...] = ()
 
     def as_dict(self) -> dict:
         return dict(self.table)
 
 
-def hum(design, *, rig=None) -> HumReport:
+def hum(design, *, rig=None, sources=None) -> HumReport:
     """Hum cancellation of ``design`` with its own coils, per mains harmonic.
 
     Parameters
     ----------
     design : Design
     rig : RigFile or None
-        Its ``[hum]`` (mains, field, harmonics) and controls replace the design's own.
+        Its ``[hum]`` (mains, field or sources, harmonics) and controls replace the design's own.
+    sources : sequence of DipoleSource / UniformSource, or None
+        Hum sources in space (:mod:`render.magnetics.hum`) that replace the
+        room's (after ``rig``); each coil's turns are its ``geometry``
+        (:meth:`render.design.Design.with_geometry`) or, without one, a
+        point coil of its ``turns_area``.
 
     Returns
     -------
     HumReport
+        See also :func:`render.hum_map` (rejection against a dipole's place)
+        and :func:`render.hum_positions` (over random places).
     """
     from ..design import apply_rig
 
     d = apply_rig(design, rig)
+    if sources is not None:
+        d = replace(d, hum=replace(d.hum, sources=tuple(sources)))
     t = hum_table(d)
     return HumReport(
         design=d.name,
         mains_hz=t["mains_hz"],
         field_t=t["field_t"],
-        harmonics=tuple(HumHarmonic(**row) for row in t["harmonics"]),
+        harmonics=tuple(HumHarmonic(**{**row, "sources": tuple(row.get("sources", ()))}) for row in t["harmonics"]),
         total_v_rms=t["total_v_rms"],
         signal_to_hum_db=t["signal_to_hum_db"],
         passive_total_v_rms=t["passive"]["total_v_rms"],
         passive_signal_to_hum_db=t["passive"]["signal_to_hum_db"],
         reference_signal=t["reference_signal"],
         table=t,
+        signal_to_hum_reason=t.get("signal_to_hum_db_reason"),
+        passive_signal_to_hum_reason=t["passive"].get("signal_to_hum_db_reason"),
+        sources=tuple(t.get("sources", ())),
+        warnings=tuple(t.get("warnings", ())),
     )

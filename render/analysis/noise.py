@@ -144,14 +144,17 @@ class NoiseFloor:
     signal_v: float  # rms of the reference signal at the amp input
     contributors: tuple[Contributor, ...]  # largest first; absent parts left out
     contributor_density: dict = field(repr=False)
+    silent_reason: str | None = None  # set when the coils cancel the string signal exactly: no signal, no SNR
 
     @property
-    def snr_db(self) -> float:
-        return 20.0 * math.log10(self.signal_v / self.total_v)
+    def snr_db(self) -> float | None:
+        """20·log10(signal_v / total_v); None when there is no signal (see ``silent_reason``)."""
+        return None if self.silent_reason or self.signal_v <= 0 else 20.0 * math.log10(self.signal_v / self.total_v)
 
     @property
-    def snr_a_db(self) -> float:
-        return 20.0 * math.log10(self.signal_v / self.a_weighted_v)
+    def snr_a_db(self) -> float | None:
+        """20·log10(signal_v / a_weighted_v); None when there is no signal."""
+        return None if self.silent_reason or self.signal_v <= 0 else 20.0 * math.log10(self.signal_v / self.a_weighted_v)
 
     def as_dict(self) -> dict:
         return {
@@ -163,10 +166,18 @@ class NoiseFloor:
             "a_weighted_v": self.a_weighted_v,
             "a_weighted_dbv": 20.0 * math.log10(self.a_weighted_v),
             "signal_v": self.signal_v,
-            "snr_db": self.snr_db,
-            "snr_a_db": self.snr_a_db,
+            **self._snr_record(),
             "contributors": [c.as_dict() for c in self.contributors],
         }
+
+    def _snr_record(self) -> dict:
+        from . import undefined as U
+
+        rec: dict = {}
+        reason = self.silent_reason or U.NO_SIGNAL
+        U.put(rec, "snr_db", self.snr_db, reason)
+        U.put(rec, "snr_a_db", self.snr_a_db, reason)
+        return rec
 
 
 @dataclass(frozen=True)
@@ -193,7 +204,7 @@ class NoiseReport:
         }
 
 
-def _floor(sources, f_int, f_out, signal_v) -> NoiseFloor:
+def _floor(sources, f_int, f_out, signal_v, silent_reason=None) -> NoiseFloor:
     weight = a_weighting(f_int) ** 2
     psd_int = np.stack([s.output_psd(f_int)[0] for s in sources])  # (K, F_int)
     psd_out = np.stack([s.output_psd(f_out)[0] for s in sources])
@@ -217,6 +228,7 @@ def _floor(sources, f_int, f_out, signal_v) -> NoiseFloor:
         signal_v=float(signal_v),
         contributors=contributors,
         contributor_density={sources[k].key: np.sqrt(psd_out[k]) for k in order if each[k] > 0.0},
+        silent_reason=silent_reason,
     )
 
 
@@ -244,8 +256,12 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
         temperature=t,
         resp=resp,
     )
-    sig = np.abs(resp.velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity
-    sig_p = np.abs(resp.passive_velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity
+    from . import undefined as U
+    from .figures import signal_cancels
+
+    silent, passive_silent = signal_cancels(resp, [REFERENCE_HZ])
+    sig = np.where(silent, 0.0, np.abs(resp.velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
+    sig_p = np.where(passive_silent, 0.0, np.abs(resp.passive_velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
     f_int = integration_grid()
     f_out = output_grid() if frequency_hz is None else np.asarray(frequency_hz, float)
     out = []
@@ -260,8 +276,8 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
                 reference_velocity=float(reference_velocity),
                 noise_voltage=d.supply.noise_voltage,
                 noise_current=d.supply.noise_current,
-                active=_floor(act, f_int, f_out, sig[i]),
-                passive=_floor(pas, f_int, f_out, sig_p[i]),
+                active=_floor(act, f_int, f_out, sig[i], U.NO_SIGNAL if silent[i] else None),
+                passive=_floor(pas, f_int, f_out, sig_p[i], U.PASSIVE_NO_SIGNAL if passive_silent[i] else None),
             )
         )
     return out
@@ -337,8 +353,7 @@ def noise_record(r: NoiseReport, design, rig_file) -> dict:
         "density_v_per_rthz": act.pop("density_v_per_rthz"),
         "total_v": act.pop("total_v"),
         "a_weighted_v": act.pop("a_weighted_v"),
-        "snr_db": act.pop("snr_db"),
-        "snr_a_db": act.pop("snr_a_db"),
+        **{k: act.pop(k) for k in ("snr_db", "snr_db_reason", "snr_a_db", "snr_a_db_reason") if k in act},
         "reference_signal": r.reference_signal(),
         "opamp": {"noise_voltage_v_per_rthz": r.noise_voltage, "noise_current_a_per_rthz": r.noise_current},
         **act,

@@ -25,6 +25,19 @@ def corners(d: Design) -> dict:
     loads = [d.rig.volume_pot] + ([d.output.shunt_r] if d.output.shunt_r else [])
     r_load = 1 / sum(1 / r for r in loads)
     out["output_hz"] = 1 / (tau * (d.output.series_r + r_load) * d.output.coupling_c)
+    from .undefined import put
+
+    put(out, "feedback_hz", out.pop("feedback_hz"), "no feedback.c, so no feedback corner")
+    put(out, "bias_node_hz", out.pop("bias_node_hz"), "no input_b.shunt_c, so no bias-node corner")
+    return out
+
+
+def _pole(pole: tuple) -> dict:
+    from .undefined import put
+
+    out: dict = {}
+    put(out, "pole_resonance_hz", pole[0], "no complex pole pair below 20 kHz")
+    put(out, "pole_q", pole[1], "no complex pole pair below 20 kHz")
     return out
 
 
@@ -49,6 +62,20 @@ def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
                 "core_factor": w.core_factor,
                 "temperature_c": w.temperature,
             }
+        if c.geometry is not None:
+            g = c.geometry
+            out["geometry"] = {
+                "turns": g.turns,
+                "length_m": g.length,
+                "width_m": g.width,
+                "window_length_m": g.window_length,
+                "window_width_m": g.window_width,
+                "height_m": g.height,
+                "from_winding": c.winding is not None,
+                "mean_turn_m": g.mean_turn,
+                "turns_area_m2": g.turns_area,
+                "entered_turns_area_m2": c.entered_turns_area,
+            }
         return out
 
     return {
@@ -62,8 +89,7 @@ def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
         "coil_a": coil(d.coil_a),
         "coil_b": coil(d.coil_b),
         "corners_hz": corners(d),
-        "pole_resonance_hz": pole[0],
-        "pole_q": pole[1],
+        **_pole(pole),
         "figures": {k: v for k, v in fig.items() if k != "passive"},
         "passive": fig["passive"],
     }

@@ -20,6 +20,7 @@ def scale_turns(design, coil: str, factor: float):
         resistance=c.resistance * factor,
         sensitivity=c.sensitivity * factor,
         turns_area=c.turns_area * factor,
+        geometry=None if c.geometry is None else replace(c.geometry, turns=c.geometry.turns * factor),
         winding=None if c.winding is None else replace(
             c.winding,
             turns=c.winding.turns * factor,
@@ -34,6 +35,7 @@ def scale_turns(design, coil: str, factor: float):
 def turns_table(design, percent: float = 5.0) -> list[dict]:
     """Rows for −percent, 0 and +percent turns on coil_b alone and on both coils."""
     from .figures import figures
+    from .undefined import put, reason
 
     variants = []
     for who in ("coil_b", "both"):
@@ -44,16 +46,10 @@ def turns_table(design, percent: float = 5.0) -> list[dict]:
                 d = scale_turns(d, "coil_a", f)
             variants.append((who, pct, d))
     figs = figures([v[2] for v in variants])
-    return [
-        {
-            "coils": who,
-            "turns_percent": pct,
-            "inductance_b_h": d.coil_b.inductance,
-            "resistance_b_ohm": d.coil_b.resistance,
-            "peak_hz": fig["peak_hz"],
-            "peak_db": fig["peak_db"],
-            "level_1k_db": fig["level_1k_db"],
-            "hum_rejection_db": fig["hum_rejection_db"],
-        }
-        for (who, pct, d), fig in zip(variants, figs)
-    ]
+    rows = []
+    for (who, pct, d), fig in zip(variants, figs):
+        row = {"coils": who, "turns_percent": pct, "inductance_b_h": d.coil_b.inductance, "resistance_b_ohm": d.coil_b.resistance}
+        for k in ("peak_hz", "peak_db", "level_1k_db", "hum_rejection_db"):  # None with its reason where undefined
+            put(row, k, fig[k], reason(fig, k))
+        rows.append(row)
+    return rows

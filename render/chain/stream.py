@@ -18,7 +18,9 @@ filter's state carried from block to block:
 3. hum: the field's steady-state response at the op-amp output, evaluated
    exactly from the engine's rational function at each field harmonic
    (both coils' hum EMFs together, so a balanced design's cancellation is
-   exact rather than the difference of two filtered signals); or, given an
+   exact rather than the difference of two filtered signals); with hum
+   sources in space, the same from each coil's own EMF phasors
+   (:func:`render.magnetics.pickup.amp_output_phasors`); or, given an
    explicit dB/dt signal, that signal through the discretised common path;
 4. the soft limit V_amp = limit(bias + V_lin), oversampled R× (192 kHz for
    48 kHz output) with first-order antiderivative anti-aliasing: a
@@ -200,6 +202,9 @@ class Plan:
     hum_phases : radians, shape (H,)
     latency : int, samples of delay removed from the output
     warnings : tuple of str
+    hum_phasors : complex, shape (H,), V peak at the op-amp output per harmonic
+        from the design's [[hum.source]] tables (they replace ``hum_gains``
+        and the one-number field); None without sources
     """
 
     sample_rate: float
@@ -215,6 +220,7 @@ class Plan:
     hum_phases: np.ndarray
     latency: int
     warnings: tuple[str, ...]
+    hum_phasors: np.ndarray | None = None
 
 
 def default_oversample(sample_rate: float) -> int:
@@ -266,6 +272,12 @@ def make_plan(
     latency = path_m.delay + res.delay + out_stage.delay
     assert path_n.delay == path_m.delay and (path_hum is None or path_hum.delay == path_m.delay)
     warns = path_m.warnings + path_n.warnings + out_stage.warnings + (path_hum.warnings if path_hum else ())
+    phasors = None
+    if h.sources:  # sources in space: each coil's own EMF through its own path (render.magnetics.pickup)
+        from ..magnetics.pickup import amp_output_phasors, point_coil_warnings
+
+        phasors = np.where(freqs < fs / 2, amp_output_phasors(design, resp), 0.0)
+        warns += point_coil_warnings(design)
     return Plan(
         sample_rate=fs,
         bias_v=float(design.bias_v),
@@ -280,6 +292,7 @@ def make_plan(
         hum_phases=phases,
         latency=int(latency),
         warnings=tuple(warns),
+        hum_phasors=phasors,
     )
 
 
@@ -401,6 +414,10 @@ class Renderer:
 
     def _hum_direct(self, start: int, n: int) -> np.ndarray:
         p, h = self.plan, self.plan.hum
+        if p.hum_phasors is not None:
+            from ..magnetics.hum import steady_samples
+
+            return steady_samples(p.hum_phasors, n, sample_rate=p.sample_rate, mains_hz=h.mains, start=start)
         return hm.steady_response(
             p.hum_gains, n, sample_rate=p.sample_rate, mains_hz=h.mains, field_t=h.field, harmonics=h.harmonics, start=start, phases=p.hum_phases
         )

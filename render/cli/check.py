@@ -9,11 +9,8 @@ from ..io.folders import refuse_existing as check_new
 from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 
-def _fmt(x, spec, none="—"):
-    return none if x is None else format(x, spec)
-
-
 def print_design(rec):
+    from ..analysis.undefined import shown
     from ..units import format_si
 
     f = rec["figures"]
@@ -27,20 +24,27 @@ def print_design(rec):
         + (f", feedback {c['feedback_hz']:.4g} Hz" if c["feedback_hz"] else "")
         + (f", bias node {c['bias_node_hz']:.4g} Hz" if c["bias_node_hz"] else "")
     )
-    click.echo(
-        f"  loaded resonance  peak {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB, Q {_fmt(f['q'], '.2f')}"
-        + (f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else "")
-    )
-    click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {f['gain_vs_passive_db']:+.2f} dB against the passive reference")
-    click.echo(f"  hum rejection     {_fmt(f['hum_rejection_db'], '.1f')} dB at the mains fundamental")
+    pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else ""
+    if f["peak_hz"] is None:
+        click.echo(f"  loaded resonance  {shown(f, 'peak_hz', '')}{pole}")
+    else:
+        click.echo(f"  loaded resonance  peak {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB, Q {shown(f, 'q', '.2f')}{pole}")
+    if f["level_1k_db"] is None:
+        click.echo(f"  gain at 1 kHz     {shown(f, 'level_1k_db', '')}")
+    else:
+        click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {shown(f, 'gain_vs_passive_db', '+.2f', ' dB against the passive reference')}")
+    rejection = shown(f, "hum_rejection_db", ".1f", " dB at the mains fundamental")
+    click.echo(f"  hum rejection     {rejection}")
 
 
 def print_turns(rows, percent):
+    from ..analysis.undefined import cell
+
     click.echo(f"  turns ±{percent:g} %      coils    L_b        R_b        peak                 1 kHz      hum rejection")
     for r in rows:
         click.echo(
             f"    {r['turns_percent']:+5.1f} %  {r['coils']:>7s}  {r['inductance_b_h'] * 1e3:7.1f} mH  {r['resistance_b_ohm']:7.1f} Ω"
-            f"  {r['peak_hz']:6.0f} Hz {r['peak_db']:+6.2f} dB  {r['level_1k_db']:+6.2f} dB  {_fmt(r['hum_rejection_db'], '6.1f')} dB"
+            f"  {cell(r, 'peak_hz', '6.0f', ' Hz'):>9s} {cell(r, 'peak_db', '+6.2f', ' dB'):>9s}  {cell(r, 'level_1k_db', '+6.2f', ' dB'):>9s}  {cell(r, 'hum_rejection_db', '6.1f', ' dB'):>9s}"
         )
 
 
@@ -54,6 +58,18 @@ def print_winding(name, c):
     click.echo(
         f"  {name} winding    {w.turns:.0f} turns of {wire}, {w.wire_length:.1f} m of wire at {w.temperature:g} °C:"
         f" {format_si(w.inductance, 'H')}, {format_si(w.resistance, 'Ω')} (estimates; replace with measured values)"
+    )
+
+
+def print_geometry(name, c):
+    g = c.geometry
+    if g is None:
+        return
+    mm = lambda x: f"{x * 1e3:.3g}"  # noqa: E731
+    entered = f"entered {c.entered_turns_area:.3g} m²" if c.entered_turns_area is not None else "none entered"
+    click.echo(
+        f"  {name} geometry   {g.turns:.0f} turns, {mm(g.length)} × {mm(g.width)} mm outline, {mm(g.window_length)} × {mm(g.window_width)} mm window,"
+        f" {mm(g.height)} mm high{' (from its winding)' if c.winding is not None else ''}: turns_area {g.turns_area:.3g} m² ({entered}), mean turn {mm(g.mean_turn)} mm"
     )
 
 
@@ -82,8 +98,9 @@ def check_command(models, rig_path, turns_percent, json_path, overwrite):
             if i:
                 click.echo()
             print_design(rec)
-            print_winding("coil_a", d.coil_a)
-            print_winding("coil_b", d.coil_b)
+            for name in ("coil_a", "coil_b"):
+                print_winding(name, getattr(d, name))
+                print_geometry(name, getattr(d, name))
             if turns_percent:
                 print_turns(rec["turns_sweep"], turns_percent)
     if json_path:

@@ -9,10 +9,10 @@ import click
 from .options import friendly, overwrite_option, rig_option
 
 
-def _fig(v, name):
-    if v is None:
-        return "—"
-    return f"{v:.0f}" if name.endswith("_hz") else f"{v:.2f}"
+def _fig(figures, name):
+    from ..analysis.undefined import cell
+
+    return cell(figures, name, ".0f" if name.endswith("_hz") else ".2f")
 
 
 def print_table(run) -> None:
@@ -24,7 +24,7 @@ def print_table(run) -> None:
     results = run.results
     click.echo(f"{'aim':34s} {'start':>10s} " + " ".join(f"{'#' + str(i):>10s}" for i in range(1, len(results) + 1)))
     for a in run.spec.aims:
-        click.echo(f"{a.describe():34s} {_fig(run.start_figures[a.figure], a.figure):>10s} " + " ".join(f"{_fig(r.figures[a.figure], a.figure):>10s}" for r in results))
+        click.echo(f"{a.describe():34s} {_fig(run.start_figures, a.figure):>10s} " + " ".join(f"{_fig(r.figures, a.figure):>10s}" for r in results))
     for j, (fr, s) in enumerate(zip(run.spec.free, run.start_values)):
         click.echo(f"{fr.name:34s} {format_value(fr, s) if not np.isnan(s) else '—':>10s} " + " ".join(f"{format_value(fr, r.values[j]):>10s}" for r in results))
 

@@ -1,4 +1,4 @@
-"""``render hum``: hum cancellation with the design's own coils, and tolerances."""
+"""``render hum``: hum cancellation with the design's own coils, sources in space, tolerances and random places."""
 
 from __future__ import annotations
 
@@ -6,6 +6,7 @@ import contextlib
 
 import click
 
+from .hum_print import print_audio, print_monte_carlo, print_report, room, warnings
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
 
 
@@ -24,39 +25,6 @@ def _percent(text, name):
     return v
 
 
-def _ratio(db, what):
-    return f"{db:.1f} dB" if db is not None else f"none ({what} hums not at all: the coils cancel exactly)"
-
-
-def print_report(d, r):
-    click.echo(f"{d.name}  ({d.source})  mains {r.mains_hz:g} Hz, field {r.field_t * 1e6:g} µT peak")
-    click.echo("  harmonic  frequency   rejection   hum at amp input   coil_a alone   coil_b alone")
-    for h in r.harmonics:
-        rej = "no field" if h.rejection_db is None else f"{h.rejection_db:6.1f} dB"
-        click.echo(f"  {h.harmonic:>8d}  {h.frequency_hz:7.0f} Hz  {rej:>9s}   {h.output_v * 1e6:12.3f} µV   {h.coil_a_v * 1e6:9.2f} µV   {h.coil_b_v * 1e6:9.2f} µV")
-    ref = r.reference_signal
-    click.echo(
-        f"  total hum {r.total_v_rms * 1e6:.3f} µV rms; signal to hum {_ratio(r.signal_to_hum_db, 'the design')}"
-        f" (reference: {ref['velocity_m_per_s_peak']:g} m/s peak at {ref['frequency_hz']:g} Hz);"
-        f" passive reference {r.passive_total_v_rms * 1e6:.3f} µV rms, {_ratio(r.passive_signal_to_hum_db, 'it')}"
-    )
-
-
-def print_audio(a, exact):
-    click.echo(f"  measured from a {a.seconds:g} s hum-only render (last {a.seconds - 1:g} s):")
-    for i, (row, ex) in enumerate(zip(a.harmonics[:5], exact)):
-        click.echo(f"    H{i + 1} {row['frequency_hz']:5.0f} Hz: {row['rejection_db']:6.1f} dB (exact {ex:.1f} dB)" if ex is not None else f"    H{i + 1} {row['frequency_hz']:5.0f} Hz: no field")
-    click.echo(f"  hum-only WAVs at {a.volts_full_scale:g} V full scale: {a.files['both']}, and each coil alone beside it")
-
-
-def print_monte_carlo(mc):
-    pct = ", ".join(f"{k} {v * 100:g} %" for k, v in mc.tolerances.items())
-    click.echo(f"  Monte Carlo: {mc.trials} trials (seed {mc.seed}; {pct})")
-    for r in mc.summary()[:3]:
-        click.echo(f"    H{r['harmonic']} {r['frequency_hz']:5.0f} Hz: median {r['median_db']:.1f} dB, 5th percentile {r['p5_db']:.1f} dB")
-    click.echo(f"    most sensitive (+1 % alone, at the fundamental): {', '.join(f'{k} {v:+.1f} dB' for k, v in mc.sensitivity[:4])}")
-
-
 @click.command("hum")
 @click.argument("models", nargs=-1, required=True, type=click.Path(dir_okay=False))
 @rig_option
@@ -71,22 +39,34 @@ def print_monte_carlo(mc):
 @click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Plot rejection against frequency, mains harmonics marked (all MODELS overlaid).")
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder.")
 @click.option("--histogram", "hist_path", type=click.Path(dir_okay=False), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
+@click.option("--map", "map_on", is_flag=True, help="Rejection against a dipole source's distance (0.2–3 m) and bearing: a table and JSON.")
+@click.option("--map-plane", type=click.Choice(["xy", "xz"]), default="xy", show_default=True, help="xy: the top faces' plane (90° treble side); xz: the vertical plane along the strings (90° above).")
+@click.option("--map-png", type=click.Path(dir_okay=False), help="Plot the map at the fundamental (implies --map; the first MODEL).")
+@click.option("--positions", type=click.IntRange(min=10, max=1_000_000), default=None, help="Monte Carlo over N random dipole sources: places uniform in a shell, axes uniform.")
+@click.option("--shell", nargs=2, default=None, metavar="INNER OUTER", help="The random sources' shell, e.g. 0.3m 2m (the default).")
+@click.option("--joint", is_flag=True, help="With --positions: draw the part tolerances (options above, else their defaults) with each place.")
 @overwrite_option
 @friendly
-def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, jobs, json_path, png_path, out_dir, hist_path, overwrite):
+def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, jobs, json_path, png_path, out_dir, hist_path,
+                map_on, map_plane, map_png, positions, shell, joint, overwrite):
     """Hum cancellation of each MODEL with its own coils, per mains harmonic.
 
     The rejection at a frequency is 20·log10(max(|V_A|,|V_B|)/|V_A+V_B|), V_A
     the hum at the amp input from coil_a's hum EMF alone. Any tolerance
     option runs a Monte Carlo (median and 5th percentile per harmonic, and
-    the parts the rejection is most sensitive to).
+    the parts the rejection is most sensitive to). With [[hum.source]]
+    tables in the rig, each coil sees its own flux from each source.
     """
     from ..analysis.hum import hum, monte_carlo
     from ..design import load_designs
     from ..errors import InputError
     from ..io.folders import output_folder, refuse_existing, run_folder
 
-    refuse_existing([json_path, png_path, hist_path], overwrite=overwrite)
+    refuse_existing([json_path, png_path, hist_path, map_png], overwrite=overwrite)
+    map_on = map_on or bool(map_png)
+    if (shell or joint) and not positions:
+        raise InputError(f"{'--shell' if shell else '--joint'} needs random sources: add --positions N (e.g. --positions 2000)")
+    shell_m = _shell(shell)
     tol = {}
     if tolerance is not None:
         v = _percent(tolerance, "--tolerance")
@@ -104,6 +84,7 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
         for i, d in enumerate(designs):
             r = hum(d)
             rec = {"file": d.source, "design": d.name, **r.as_dict()}
+            warnings(rec, d, dipoles=bool(map_on or positions))
             if show:
                 if i:
                     click.echo()
@@ -114,7 +95,7 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
                 audio = write_hum_audio(out, d)
                 rec["measured"] = audio.as_dict()
                 if show:
-                    print_audio(audio, [h.rejection_db for h in r.harmonics])
+                    print_audio(audio, r.harmonics)
             if tol:
                 mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
                 rec["monte_carlo"] = mc.as_dict()
@@ -124,9 +105,24 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
                     from ..report.plots import histogram_plot
 
                     histogram_plot(hist_path, mc.rejection_db[:, 0], xlabel=f"hum rejection at {mc.frequency_hz[0]:g} Hz (dB)", title=f"{d.name}: {trials} trials", overwrite=overwrite)
+            room(rec, d, show=show, map_on=map_on, map_plane=map_plane, map_png=map_png if i == 0 else None, positions=positions, shell=shell_m,
+                 joint=joint, tolerances=tol, seed=seed, jobs=jobs, overwrite=overwrite)
             records.append(rec)
     emit_json(json_path, records[0] if len(records) == 1 else {"designs": records}, overwrite=overwrite)
     if png_path:
         from ..report.plots import hum_rejection_plot
 
         hum_rejection_plot(png_path, designs, overwrite=overwrite)
+
+
+def _shell(shell):
+    from .. import units as U
+    from ..errors import InputError
+
+    if not shell:
+        return None
+    try:
+        return tuple(U.parse_quantity(x, U.LENGTH) for x in shell)
+    except U.QuantityError as exc:
+        raise InputError(f"--shell {' '.join(shell)}: {exc}; give two radii such as 0.3m 2m") from None
+

@@ -14,6 +14,21 @@ def _uv(v: float) -> str:
     return f"{v * 1e6:.3g} µV ({20 * math.log10(v):+.1f} dBV)"
 
 
+def _snr(floor) -> str:
+    """'67.3 dB (A: 69.5 dB)', or the short reason where there is no signal (the line below says why)."""
+    from ..analysis.undefined import SHORT
+
+    if floor.snr_db is None:
+        return SHORT.get(str(floor.silent_reason), "none")
+    return f"{floor.snr_db:.1f} dB (A: {floor.snr_a_db:.1f} dB)"
+
+
+def _signal(floor) -> str:
+    from ..analysis.undefined import SHORT
+
+    return SHORT.get(str(floor.silent_reason), "none") if floor.silent_reason else f"{floor.signal_v * 1e3:.3g} mV rms"
+
+
 def _short(key: str) -> str:
     return key.removeprefix("passive_")
 
@@ -28,8 +43,8 @@ def summary_lines(r, top: int) -> list[str]:
         ("density at 1 kHz", f"{a.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz", f"{p.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz"),
         ("total, 20 Hz–20 kHz", _uv(a.total_v), _uv(p.total_v)),
         ("A-weighted", _uv(a.a_weighted_v), _uv(p.a_weighted_v)),
-        ("reference signal", f"{a.signal_v * 1e3:.3g} mV rms", f"{p.signal_v * 1e3:.3g} mV rms"),
-        ("SNR", f"{a.snr_db:.1f} dB (A: {a.snr_a_db:.1f} dB)", f"{p.snr_db:.1f} dB (A: {p.snr_a_db:.1f} dB)"),
+        ("reference signal", _signal(a), _signal(p)),
+        ("SNR", _snr(a), _snr(p)),
     ]
     out = [
         f"{r.design}  ({r.source})",
@@ -38,6 +53,7 @@ def summary_lines(r, top: int) -> list[str]:
         f"  {'':20s}{'active':{w}s}passive reference",
     ]
     out += [f"  {name:20s}{x:{w}s}{y}" for name, x, y in rows]
+    out += [f"  {floor.silent_reason}" for floor in (a, p) if floor.silent_reason]
     out.append("  largest contributors (share of the noise power, 20 Hz–20 kHz)")
     ca, cp = a.contributors[:top], p.contributors[:top]
     for i in range(max(len(ca), len(cp))):

@@ -9,21 +9,29 @@ from .options import friendly, overwrite_option, rig_option
 
 
 def summary_lines(d, fig) -> list[str]:
+    from ..analysis.undefined import cell, shown
     from ..units import format_si
 
-    q = "—" if fig["q"] is None else f"{fig['q']:.2f}"
-    bass = "—" if fig["bass_corner_hz"] is None else f"{fig['bass_corner_hz']:.3g} Hz"
-    treble = "beyond 20 kHz" if fig["treble_corner_hz"] is None else f"{fig['treble_corner_hz']:.0f} Hz"
     p = fig["passive"]
+    if fig["peak_hz"] is None:  # the coils cancel the string signal: one line says so
+        resonance = [f"  response          {shown(fig, 'peak_hz', '')}"]
+    else:
+        resonance = [
+            f"  resonance peak    {fig['peak_hz']:.0f} Hz, {fig['peak_db']:+.2f} dB re 1 kHz, Q {shown(fig, 'q', '.2f')}",
+            f"  -3 dB corners     bass {shown(fig, 'bass_corner_hz', '.3g', ' Hz')}, treble {shown(fig, 'treble_corner_hz', '.0f', ' Hz')}",
+            f"  level at 1 kHz    {fig['level_1k_db']:+.2f} dB re 1 V per m/s ({shown(fig, 'gain_vs_passive_db', '+.2f', ' dB against passive')})",
+        ]
+    if p["peak_hz"] is None:
+        passive = f"  passive reference {shown(p, 'peak_hz', '')}"
+    else:
+        passive = f"  passive reference peak {p['peak_hz']:.0f} Hz, {p['peak_db']:+.2f} dB, level at 1 kHz {p['level_1k_db']:+.2f} dB"
     return [
         f"{d.name}  ({d.source})",
-        f"  resonance peak    {fig['peak_hz']:.0f} Hz, {fig['peak_db']:+.2f} dB re 1 kHz, Q {q}",
-        f"  -3 dB corners     bass {bass}, treble {treble}",
-        f"  level at 1 kHz    {fig['level_1k_db']:+.2f} dB re 1 V per m/s ({fig['gain_vs_passive_db']:+.2f} dB against passive)",
+        *resonance,
         f"  output impedance  {format_si(fig['output_impedance_1k_ohm'], 'Ω')} at 1 kHz, {format_si(fig['output_impedance_10k_ohm'], 'Ω')} at 10 kHz"
         f"  (passive: {format_si(p['output_impedance_1k_ohm'], 'Ω')}, {format_si(p['output_impedance_10k_ohm'], 'Ω')})",
-        f"  cable treble loss {fig['cable_loss_db']:+.2f} dB at 5 kHz ({d.rig.cable_length:g} m; passive: {p['cable_loss_db']:+.2f} dB)",
-        f"  passive reference peak {p['peak_hz']:.0f} Hz, {p['peak_db']:+.2f} dB, level at 1 kHz {p['level_1k_db']:+.2f} dB",
+        f"  cable treble loss {cell(fig, 'cable_loss_db', '+.2f', ' dB at 5 kHz')} ({d.rig.cable_length:g} m; passive: {cell(p, 'cable_loss_db', '+.2f', ' dB')})",
+        passive,
     ]
 
 

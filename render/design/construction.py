@@ -1,8 +1,8 @@
 """A design's ``[construction]`` table: reading it, and what it derives in the coils.
 
 With ``[construction]`` given, each coil needs ``[coil_x.geometry]`` (its
-turns in space), and the coils' ``sensitivity``, ``aperture`` and
-``signal_polarity`` are derived from the field solve
+turns in space, which also derives its ``turns_area``), and the coils'
+``sensitivity``, ``aperture`` and ``signal_polarity`` are derived from the field solve
 (:func:`render.magnetics.sensing.pickup_sensing`), not typed:
 
 - ``signal_polarity`` is the sign of the coil's EMF at its input,
@@ -168,42 +168,33 @@ def read_construction(data: Any, *, source: str) -> Construction:
         raise InputError(f"{source}: {exc}") from None
 
 
-def split_tables(data: dict, *, source: str, read_winding=None) -> tuple[dict, PickupBuild | None]:
-    """Take ``[construction]`` and the coils' ``[coil_x.geometry]`` out of a design document.
+def split_tables(data: dict, *, source: str) -> tuple[dict, Construction | None]:
+    """Take ``[construction]`` out of a design document, and check the coils' tables against it.
 
     Returns the document as the coil tables' reader expects it (the derived
-    keys filled with placeholders, replaced by :func:`derive`) and the build,
-    or the document unchanged and None without ``[construction]``.
-
-    read_winding : the reader of a ``[coil_x.winding]`` table (the design
-        loader's), for a coil that gives its geometry through its winding
+    ``sensitivity`` filled with a placeholder, replaced by :func:`derive`) and
+    the construction, or the document unchanged and None without one. Each
+    coil needs its ``[coil_x.geometry]`` (read with the coil, as without a
+    construction).
     """
     if not isinstance(data, dict) or "construction" not in data:
         return data, None
-    from ..magnetics.schema import read_geometry
-
     construction = read_construction(data["construction"], source=source)
     out = {k: v for k, v in data.items() if k != "construction"}
-    geometries = []
     for name in ("coil_a", "coil_b"):
         coil = out.get(name)
         if not isinstance(coil, dict):
             return out, None  # the coil reader refuses it with its own message
-        coil = dict(coil)
         if "geometry" not in coil:
             raise InputError(f"{where(source, name)}: [construction] needs [{name}.geometry] (the coil's turns in space), e.g. turns, length, width, window_length, window_width, height")
-        typed = [k for k in (*DERIVED, "turns_area") if k in coil]
+        typed = [k for k in DERIVED if k in coil]
         if typed:
             raise InputError(
-                f"{where(source, name)}: {', '.join(typed)} given, but with [construction] {'they are' if len(typed) > 1 else 'it is'} derived "
-                "(sensitivity, aperture and signal_polarity from the field solve, turns_area from the geometry); remove them"
+                f"{where(source, name)}: {', '.join(typed)} given, but with [construction] {'they are' if len(typed) > 1 else 'it is'} derived from the field solve; remove "
+                + ("them" if len(typed) > 1 else "it")
             )
-        winding = read_winding(coil["winding"], source=source, table=f"{name}.winding") if read_winding and isinstance(coil.get("winding"), dict) else None
-        geometry = read_geometry(coil.pop("geometry"), source=source, table=f"{name}.geometry", winding=winding)
-        geometries.append(geometry)
-        coil.update(sensitivity=1.0, turns_area=geometry.turns_area)  # sensitivity: a placeholder until derive()
-        out[name] = coil
-    return out, PickupBuild(construction=construction, geometry_a=geometries[0], geometry_b=geometries[1])
+        out[name] = {**coil, "sensitivity": 1.0}  # a placeholder until derive()
+    return out, construction
 
 
 @functools.lru_cache(maxsize=16)
@@ -246,10 +237,11 @@ def derived_figures(result, hum_polarity: int, coil: str) -> dict:
     return {"sensitivity": float(np.abs(sz).mean()), "signal_polarity": int(sign), "aperture": float(np.mean(widths)) if widths else 0.0}
 
 
-def derive(design, build: PickupBuild | None):
+def derive(design, construction: Construction | None):
     """The design with its construction attached and the coils' derived figures in place (unchanged without one)."""
-    if build is None:
+    if construction is None:
         return design
+    build = PickupBuild(construction=construction, geometry_a=design.coil_a.geometry, geometry_b=design.coil_b.geometry)
     design = replace(design, construction=build)
     try:
         result = sensing(design)

@@ -20,7 +20,7 @@ from ..io.toml import read_toml
 from ..validate import TOP_KEYS, check_document, read_table, where
 from .construction import derive, split_tables
 from .model import Coil, Design, Feedback, Hum, InputNet, Output, Rig, RigFile, Supply, Winding
-from .schema import COIL, DESIGN_TABLES, HUM, MAX_NAME_CHARS, REQUIRED_TABLES, RIG, WINDING
+from .schema import COIL, COIL_WITH_GEOMETRY, DESIGN_TABLES, HUM, MAX_NAME_CHARS, REQUIRED_TABLES, RIG, WINDING
 
 
 def _coil(d: dict, default_signal: int) -> Coil:
@@ -48,9 +48,25 @@ def read_winding(data: Any, *, source: str, table: str) -> Winding:
 
 
 def _read_coil(data: Any, *, source: str, table: str) -> dict:
-    """A coil table, with inductance and resistance given or derived from its winding."""
+    """A coil table, with inductance and resistance given or derived from its winding, and its geometry if given."""
+    geometry = None
+    if isinstance(data, dict) and "geometry" in data:
+        data = dict(data)
+        geometry = data.pop("geometry")
+    out = _read_coil_values(data, source=source, table=table, specs=COIL if geometry is None else COIL_WITH_GEOMETRY)
+    if geometry is not None:
+        from ..magnetics.schema import read_geometry
+
+        g = read_geometry(geometry, source=source, table=f"{table}.geometry", winding=out.get("winding"))
+        out["entered_turns_area"] = out.get("turns_area")
+        out["turns_area"] = g.turns_area
+        out["geometry"] = g
+    return out
+
+
+def _read_coil_values(data: Any, *, source: str, table: str, specs: dict) -> dict:
     if not isinstance(data, dict) or "winding" not in data:
-        return read_table(data, COIL, source=source, table=table)
+        return read_table(data, specs, source=source, table=table)
     data = dict(data)
     winding = read_winding(data.pop("winding"), source=source, table=f"{table}.winding")
     both = [k for k in ("inductance", "resistance") if k in data]
@@ -58,11 +74,31 @@ def _read_coil(data: Any, *, source: str, table: str) -> dict:
         raise InputError(f"{where(source, table)}: {' and '.join(both)} given as well as [{table}.winding]; give either the values or the winding, not both")
     data["inductance"], data["resistance"] = winding.inductance, winding.resistance
     try:
-        out = read_table(data, COIL, source=source, table=table)
+        out = read_table(data, specs, source=source, table=table)
     except InputError as exc:
         raise InputError(f"{exc} (derived from [{table}.winding]; check turns, wire and former)") from None
     out["winding"] = winding
     return out
+
+
+def _read_hum(data: Any, *, source: str, table: str = "hum") -> Hum:
+    """A [hum] table, with its [[hum.source]] tables when given (they are then the whole field)."""
+    if not isinstance(data, dict) or ("source" not in data and "sources" not in data):
+        return Hum(**read_table(data, HUM, source=source, table=table))
+    if "sources" in data:
+        raise InputError(f"{where(source, table)}: unknown key 'sources'; write each source as its own [[hum.source]] table")
+    from ..magnetics.schema import read_sources
+
+    data = dict(data)
+    items = data.pop("source")
+    if "field" in data:
+        raise InputError(
+            f"{where(source, table, 'field')}={U.shown(data['field'])} given as well as [[hum.source]]: with sources the field is theirs alone;"
+            " remove field, or add it as a source (kind = \"uniform\", axis = [0, 0, 1])"
+        )
+    values = read_table(data, HUM, source=source, table=table)
+    values["sources"] = read_sources(items, source=source, n_harmonics=len(values["harmonics"]))
+    return Hum(**values)
 
 
 def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "") -> Design:
@@ -71,12 +107,15 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     for t in REQUIRED_TABLES:
         if t not in data:
             raise InputError(f"{source}: missing table [{t}]; every design needs {', '.join('[' + x + ']' for x in REQUIRED_TABLES)}")
-    data, build = split_tables(data, source=source, read_winding=read_winding)
+    data, construction = split_tables(data, source=source)
     if "name" in data and (len(data["name"]) > MAX_NAME_CHARS or not data["name"].isprintable()):
         raise InputError(f"{source}: name={U.shown(data['name'])}: expected one line of at most {MAX_NAME_CHARS} printable characters (it heads every report); put the rest in notes")
     tables = {}
+    hum = Hum()
     for t in DESIGN_TABLES:
-        if t in data:
+        if t == "hum" and t in data:
+            hum = _read_hum(data[t], source=source)
+        elif t in data:
             read = _read_coil if t in ("coil_a", "coil_b") else functools.partial(read_table, specs=DESIGN_TABLES[t])
             tables[t] = read(data[t], source=source, table=t)
     for t in ("coil_a", "coil_b"):
@@ -103,7 +142,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
         output=Output(**tables["output"]),
         supply=Supply(**sup),
         rig=Rig(**tables["rig"]) if "rig" in tables else Rig(),
-        hum=Hum(**tables["hum"]) if "hum" in tables else Hum(),
+        hum=hum,
         source=source,
         sha256=sha256,
     )
@@ -113,7 +152,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
             f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
             f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V; bring the two resistors closer to equal"
         )
-    return derive(design, build)
+    return derive(design, construction)
 
 
 def load_design(path: str | Path) -> Design:
@@ -127,7 +166,7 @@ def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile
     if "rig" not in data and "hum" not in data:
         raise InputError(f"{source}: a rig file needs a [rig] table, a [hum] table, or both")
     rig = Rig(**read_table(data.get("rig", {}), RIG, source=source, table="rig"))
-    hum = Hum(**read_table(data["hum"], HUM, source=source, table="hum")) if "hum" in data else None
+    hum = _read_hum(data["hum"], source=source) if "hum" in data else None
     return RigFile(rig=rig, hum=hum, source=source, sha256=sha256)
 
 

@@ -8,7 +8,11 @@ Frozen dataclasses; :mod:`render.design.loading` builds them from TOML files
 from __future__ import annotations
 
 from dataclasses import dataclass, field, fields, replace
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from ..magnetics.coil import CoilGeometry
+    from ..magnetics.hum import DipoleSource, UniformSource
 
 # Default buzz profile: relative field amplitudes of mains harmonics 1..9.
 # Our own choice for the demo (odd harmonics stronger, as rectifier loads
@@ -30,6 +34,8 @@ class Coil:
     signal_polarity: int = 1
     hum_polarity: int = 1
     winding: Winding | None = None  # when L and R were derived from a winding
+    geometry: CoilGeometry | None = None  # the turns in space; turns_area is then its derived value
+    entered_turns_area: float | None = None  # m², the file's turns_area beside a geometry (shown, not used)
 
 
 @dataclass(frozen=True)
@@ -106,6 +112,7 @@ class Hum:
     mains: float = 50.0
     field: float = 1e-6
     harmonics: tuple[float, ...] = DEFAULT_HARMONICS
+    sources: tuple[DipoleSource | UniformSource, ...] = ()  # [[hum.source]]: when given, the whole field (``field`` unused)
 
 
 @dataclass(frozen=True)
@@ -155,6 +162,16 @@ class Design:
     def with_rig(self, rig: Rig | None = None, hum: Hum | None = None) -> Design:
         return replace(self, rig=rig or self.rig, hum=hum or self.hum)
 
+    def with_geometry(self, coil_a: CoilGeometry | None = None, coil_b: CoilGeometry | None = None) -> Design:
+        """The design with these coils' turns placed in space (``turns_area`` becomes the geometry's; the entered one is kept beside it)."""
+        coils = {}
+        for name, g in (("coil_a", coil_a), ("coil_b", coil_b)):
+            if g is not None:
+                c = getattr(self, name)
+                entered = c.entered_turns_area if c.geometry is not None else c.turns_area
+                coils[name] = replace(c, geometry=g, turns_area=g.turns_area, entered_turns_area=entered)
+        return replace(self, **coils)
+
 
 @dataclass(frozen=True)
 class RigFile:
@@ -171,9 +188,10 @@ def design_to_dict(design: Design) -> dict[str, Any]:
 
     def conv(obj):
         if hasattr(obj, "__dataclass_fields__"):
-            return {f.name: conv(getattr(obj, f.name)) for f in fields(obj)}
+            kind = {"kind": obj.kind} if isinstance(getattr(type(obj), "kind", None), str) else {}  # a hum source's kind
+            return {**kind, **{f.name: conv(getattr(obj, f.name)) for f in fields(obj)}}
         if isinstance(obj, tuple):
-            return list(obj)
+            return [conv(x) for x in obj]
         return obj
 
     return conv(design)

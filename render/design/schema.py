@@ -8,6 +8,7 @@ its default and its plausible range.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any
 
 from .. import units as U
@@ -17,7 +18,7 @@ from ..validate import C_RANGE, R_RANGE, TOP_KEYS, Field
 from .construction import CONSTRUCTION
 from .model import DEFAULT_HARMONICS
 
-__all__ = ["COIL", "DESIGN_TABLES", "FEEDBACK", "HUM", "INPUT_A", "INPUT_B", "MAX_NAME_CHARS", "OUTPUT", "REQUIRED_TABLES", "RIG", "SUPPLY", "TOP_KEYS", "WINDING"]
+__all__ = ["COIL", "COIL_WITH_GEOMETRY", "DESIGN_TABLES", "FEEDBACK", "HUM", "INPUT_A", "INPUT_B", "MAX_NAME_CHARS", "OUTPUT", "REQUIRED_TABLES", "RIG", "SUPPLY", "TOP_KEYS", "WINDING"]
 
 
 def read_wire(raw: Any, loc: str) -> tuple[str, float]:
@@ -58,6 +59,9 @@ COIL = {
     "signal_polarity": Field("polarity", doc="+1 or -1 (default +1 for coil_a, -1 for coil_b)"),
     "hum_polarity": Field("polarity", default=1, doc="+1 or -1 (default +1: hum is common-mode)"),
 }
+
+# with a [coil_x.geometry] table, turns_area is derived from it (an entered one is shown beside it)
+COIL_WITH_GEOMETRY = {**COIL, "turns_area": replace(COIL["turns_area"], required=False)}
 
 WINDING = {
     "turns": Field(U.RATIO, True, lo=1.0, hi=1e6, lo_open=False, doc="number of turns"),

@@ -144,12 +144,12 @@ def difference_plot(path, key: dict, *, overwrite: bool = False):
     """Both designs' responses and their difference in dB, raw and as played after loudness matching."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from ..report.plots import PALETTE, _hz_axis, pyplot, save
+    from ..report.plots import PALETTE, _hz_axis, level_db, pyplot, save
 
     designs = designs_from_key(key)
     f = np.geomspace(20.0, 20000.0, 600)
     h = responses(from_designs(designs)).velocity()(f)
-    level = 20.0 * np.log10(np.abs(h))
+    level = level_db(h)
     gains = key.get("loudness", {}).get("gains_db", [0.0, 0.0])
     raw = level[0] - level[1]
     played = raw + (gains[0] - gains[1])

@@ -86,8 +86,16 @@ def write_design_only_plots(out: Path, stems, designs) -> list[Path]:
     return written + [write_bytes(out / "responses.png", overlay_png(designs, curves=(f, h, hp)), overwrite=True)]
 
 
-def _cell(v, fmt):
-    return "—" if v is None else format(v, fmt)
+def _cell(m, key, fmt, unit=""):
+    from ..analysis.undefined import cell
+
+    return cell(m, key, fmt, unit)
+
+
+def _resonance(m) -> str:
+    if m["resonance_hz"] is None:
+        return _cell(m, "resonance_hz", ".0f")
+    return f"{m['resonance_hz']:.0f} Hz, {m['resonance_db']:+.1f} dB"
 
 
 def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict, volts_full_scale: float) -> str:
@@ -105,14 +113,15 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
     for r in records:
         m = r["measurements"]
         lines.append(
-            f"| {r['design']} | {m['resonance_hz']:.0f} Hz, {m['resonance_db']:+.1f} dB | {_cell(m['q'], '.2f')} | {m['level_1k_db']:+.1f} dB | {m['gain_vs_passive_db']:+.1f} dB"
-            f" | {_cell(m['hum_rejection_db'], '.1f')} dB | {m['bias_v']:.2f} V | {m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V"
-            f" | {m['peak_v']:.3f} V | {_cell(m['loudness_lufs'], '.1f')} LUFS | {m['clipped_fraction'] * 100:.2f} % |"
+            f"| {r['design']} | {_resonance(m)} | {_cell(m, 'q', '.2f')} | {_cell(m, 'level_1k_db', '+.1f', ' dB')} | {_cell(m, 'gain_vs_passive_db', '+.1f', ' dB')}"
+            f" | {_cell(m, 'hum_rejection_db', '.1f', ' dB')} | {m['bias_v']:.2f} V | {m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V"
+            f" | {m['peak_v']:.3f} V | {_cell(m, 'loudness_lufs', '.1f', ' LUFS')} | {m['clipped_fraction'] * 100:.2f} % |"
         )
     lines += [
         "",
         "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the WAV as written;"
-        " \"limited\": share of the op-amp output's samples inside the soft limit's knee or beyond.",
+        " \"limited\": share of the op-amp output's samples inside the soft limit's knee or beyond;"
+        " words stand for a figure with no finite value (its reason is in the design's JSON, beside the figure).",
         "",
     ]
     return "\n".join(lines)
@@ -132,7 +141,8 @@ def overlay_png(designs, *, curves=None) -> bytes:
 
     f, h, hp = curves if curves is not None else velocity_curves(designs)
     passives: list[tuple[int, str]] = []
-    for i, d in enumerate(designs):
-        if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
-            passives.append((i, d.name))
+    with np.errstate(divide="ignore", invalid="ignore"):  # a passive reference that is exactly zero matches no other
+        for i, d in enumerate(designs):
+            if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
+                passives.append((i, d.name))
     return draw(f, [(d.name, h[i]) for i, d in enumerate(designs)], [(f"passive ({name})" if len(passives) > 1 else "passive reference", hp[i]) for i, name in passives])

@@ -122,10 +122,17 @@ def _response_build(f, n, passive, title):
     return {"fig": fig, "axes": (ax1, ax2), "mags": mags, "phases": phases, "legend": legend, "title": _fix_title(ax1, " ") if title else None}
 
 
+def level_db(h) -> np.ndarray:
+    """20·log10|h| for plotting; NaN (a gap in the curve) where h is exactly zero (coils that cancel the signal)."""
+    a = np.abs(np.asarray(h))
+    with np.errstate(divide="ignore"):
+        return np.where(a > 0, 20 * np.log10(a), np.nan)
+
+
 def _response_fill(p, f, curves, passive, title):
     """Everything that differs from one response plot to the next: data, limits, labels, title."""
     every = list(curves) + ([passive] if passive is not None else [])
-    mags = [20 * np.log10(np.abs(h)) for _, h in every]
+    mags = [level_db(h) for _, h in every]
     phases = [phase_deg(f, h) for _, h in every]
     for line, y in zip(p["mags"], mags):
         line.set_ydata(y)
@@ -333,9 +340,9 @@ def overlay_png(f, curves, passives) -> bytes:
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(9, 5))
     for i, (label, h) in enumerate(curves):
-        ax.plot(f, 20 * np.log10(np.abs(h)), lw=1.6, label=label, **curve_style(i))
+        ax.plot(f, level_db(h), lw=1.6, label=label, **curve_style(i))
     for j, (label, h) in enumerate(passives):
-        ax.plot(f, 20 * np.log10(np.abs(h)), lw=1.1, label=label, **passive_style(j))
+        ax.plot(f, level_db(h), lw=1.1, label=label, **passive_style(j))
     _hz_axis(ax, f[0], f[-1])
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V per m/s)")
@@ -385,6 +392,10 @@ def transfer_plot(path, curves, *, title="", overwrite=False):
     return save(fig, path, overwrite=overwrite)
 
 
+def _snr_text(floor) -> str:
+    return "none (no signal)" if floor.snr_db is None else f"{floor.snr_db:.1f} dB"
+
+
 def noise_plot(path, r, *, top: int, overwrite: bool = False):
     """Density (nV/√Hz, log axes) of the design, its largest contributors and the passive reference."""
     plt = pyplot()
@@ -399,7 +410,7 @@ def noise_plot(path, r, *, top: int, overwrite: bool = False):
     ax.set_yscale("log")
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("noise density at the amp input (nV/√Hz)")
-    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {a.snr_db:.1f} dB (passive {p.snr_db:.1f} dB)", fontsize=10, loc="left")
+    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {_snr_text(a)} (passive {_snr_text(p)})", fontsize=10, loc="left")
     ax.legend(loc="lower left", fontsize=8, frameon=False)
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)
@@ -448,6 +459,38 @@ def fit_plot(path, designs, *, title: str = ""):
     h = [response(d, f).velocity for d in designs]
     curves = [("start: " + designs[0].name, h[0])] + [(f"fit {i}", h[i]) for i in range(1, len(designs))]
     return response_plot(path, f, curves, title=title, overwrite=True)
+
+
+def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite: bool = False):
+    """A hum rejection map: one cell per distance and bearing, shaded and labelled in dB at one harmonic.
+
+    m : a :class:`render.magnetics.rejection.RejectionMap`; harmonic : 1 for the fundamental
+    Clay where the coils cancel least, ink where they cancel most; an empty cell has no hum.
+    """
+    from matplotlib.colors import LinearSegmentedColormap
+
+    plt = pyplot()
+    r = np.asarray(m.rejection_db[:, :, harmonic - 1], dtype=float)
+    r = np.where(np.isfinite(r), r, np.nan)
+    cmap = LinearSegmentedColormap.from_list("rejection", [CLAY, "#f4ecd8", INK])
+    fig, ax = plt.subplots(figsize=(9, 4.8))
+    ny, nx = r.shape
+    lo, hi = (np.nanmin(r), np.nanmax(r)) if np.isfinite(r).any() else (0.0, 1.0)
+    im = ax.imshow(r, cmap=cmap, vmin=lo, vmax=max(hi, lo + 1.0), aspect="auto", origin="lower", interpolation="nearest")
+    for i in range(ny):
+        for j in range(nx):
+            if np.isfinite(r[i, j]):
+                dark = (r[i, j] - lo) / max(hi - lo, 1e-9)
+                ax.text(j, i, f"{r[i, j]:.0f}", ha="center", va="center", fontsize=7, color="white" if dark < 0.2 or dark > 0.8 else "#222222")
+    ax.set_xticks(range(nx), [f"{b:g}°" for b in m.bearing_deg], fontsize=8)
+    ax.set_yticks(range(ny), [f"{d:g} m" for d in m.distance_m], fontsize=8)
+    where = "x–y plane (top faces): 0° neck side, 90° treble side" if m.plane == "xy" else "x–z plane (along the strings): 0° neck side, 90° straight above"
+    ax.set_xlabel(f"bearing in the {where}")
+    ax.set_ylabel("distance from the pickup's centre")
+    fig.colorbar(im, ax=ax, label="rejection (dB)", fraction=0.04, pad=0.02)
+    _fix_title(ax, title or f"rejection of a dipole source (axis z) at {m.frequency_hz[harmonic - 1]:g} Hz")
+    fig.subplots_adjust(left=0.09, right=0.92, bottom=0.13, top=0.9)
+    return save(fig, path, overwrite=overwrite)
 
 
 def sense_plot(path, record, *, overwrite=False):

@@ -15,24 +15,23 @@ if TYPE_CHECKING:
 
 
 def measurements(design: Design, figures: dict, stats: dict, *, volts_full_scale: float) -> dict:
-    """The measurements recorded in a clip's JSON: the design's figures and the render's."""
+    """The measurements recorded in a clip's JSON: the design's figures and the render's.
+
+    A figure with no finite value is None with a sibling ``<key>_reason`` (:mod:`render.analysis.undefined`).
+    """
+    from ..analysis import undefined as U
+
     f, d = figures, design
     lufs_1v = stats["loudness_lufs_1v_full_scale"]
-    return {
-        "resonance_hz": f["resonance_hz"],
-        "resonance_db": f["resonance_db"],
-        "q": f["q"],
-        "level_1k_db": f["level_1k_db"],
-        "gain_vs_passive_db": f["gain_vs_passive_db"],
-        "hum_rejection_db": f["hum_rejection_db"],
-        "bias_v": d.bias_v,
-        "headroom_up_v": d.headroom_up_v,
-        "headroom_down_v": d.headroom_down_v,
-        **{k: v for k, v in stats.items() if k != "loudness_lufs_1v_full_scale"},
-        # ITU-R BS.1770-4 integrated loudness of the WAV as written, and re a 1 V full scale
-        "loudness_lufs": None if lufs_1v is None else lufs_1v - 20 * np.log10(volts_full_scale),
-        "loudness_lufs_1v_full_scale": lufs_1v,
-    }
+    out: dict = {}
+    for key in ("resonance_hz", "resonance_db", "q", "level_1k_db", "gain_vs_passive_db", "hum_rejection_db"):
+        U.put(out, key, f[key], U.reason(f, key))
+    out.update({"bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v})
+    out.update({k: v for k, v in stats.items() if k != "loudness_lufs_1v_full_scale"})
+    # ITU-R BS.1770-4 integrated loudness of the WAV as written, and re a 1 V full scale
+    U.put(out, "loudness_lufs", None if lufs_1v is None else lufs_1v - 20 * np.log10(volts_full_scale), U.SILENT)
+    U.put(out, "loudness_lufs_1v_full_scale", lufs_1v, U.SILENT)
+    return out
 
 
 def clip_record(clip: Clip, *, settings: RenderSettings, volts_full_scale: float, rig_record: dict, dry_path) -> dict:

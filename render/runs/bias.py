@@ -69,7 +69,7 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
     """A clip per setting of ``sweep`` (:func:`render.analysis.bias.bias_sweep`) and a copy matched to ``target_lufs``, plus the plots.
 
     Writes ``S-r<ratio>-<battery>V.wav`` and ``…-matched.wav`` at one full scale,
-    ``S-headroom.png``, ``S-harmonics.png`` and ``S-transfer.png``.
+    ``S-headroom.png``, ``S-harmonics.png`` and ``S-transfer.png``, and the comparison page (``index.html``).
     """
     from ..analysis.loudness import integrated_loudness
     from ..clip import RenderSettings
@@ -96,4 +96,7 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
         from ..report.plots import bias_plots
 
         bias_plots(out, design, sweep.settings, sweep.rows)
+        from ..compare.folders import write_bias_page
+
+        write_bias_page(out, sweep, clips, renders, sample_rate=st.sample_rate, volts_full_scale=vfs, dry=str(dry), strength_m=strength_m, jobs=jobs)
         return BiasClips(folder=out, clips=tuple(clips), record={"dry": str(dry), "strength_m": strength_m, "seed": seed, "target_lufs": target_lufs, "volts_full_scale": vfs})

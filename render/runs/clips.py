@@ -309,7 +309,7 @@ def run_clips(
     volts_full_scale: float | None = None,
     progress: Callable[[int], None] | None = None,
 ) -> ClipsRun:
-    """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png).
+    """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png), and the comparison page (index.html).
 
     Parameters
     ----------
@@ -330,6 +330,7 @@ def run_clips(
     progress : callable or None
         Called with the number of designs done, as they finish.
     """
+    from ..compare.folders import write_clips_page
     from ..io.folders import run_folder
     from ..parallel import SideProcess
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
@@ -348,6 +349,7 @@ def run_clips(
                 kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(d.rig)}, plots=plots) for stem, d in zip(stems, designs)]
                 records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots, progress=progress)
                 write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
+                write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs)
                 warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
                 return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings)
         # designs that sense the string at the same points share one synthesised dry signal; with
@@ -378,6 +380,7 @@ def run_clips(
             records.append(rec)
             write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
         write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
+        write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs)
         over = tuple(c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs)
         seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
         warnings = tuple(f"{c.design.name}: {w}" for c in clips for w in c.warnings)

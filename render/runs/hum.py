@@ -19,7 +19,8 @@ class HumAudio:
     files : dict
         "both", "coil_a", "coil_b" to the WAV's path.
     harmonics : tuple of dict
-        Per harmonic: frequency_hz, rejection_db (measured from the render), output_v (peak).
+        Per harmonic: frequency_hz, rejection_db (measured from the render; None with
+        ``rejection_db_reason`` where infinite or undefined), output_v (peak).
     """
 
     seconds: float
@@ -29,6 +30,22 @@ class HumAudio:
 
     def as_dict(self) -> dict:
         return {"seconds": self.seconds, "volts_full_scale": self.volts_full_scale, "files": dict(self.files), "harmonics": list(self.harmonics)}
+
+
+def _measured_row(frequency_hz, rejection_db, output_v) -> dict:
+    """One measured harmonic; an infinite or undefined rejection is None with its reason."""
+    from ..analysis import undefined as U
+    from ..analysis.figures import REJECTION_CAP_DB
+
+    row = {"frequency_hz": float(frequency_hz)}
+    if np.isnan(rejection_db):  # 0/0: neither coil hums at this harmonic
+        U.mark(row, "rejection_db", U.NO_FIELD)
+    elif rejection_db >= REJECTION_CAP_DB:  # the pair's sum is rounding noise
+        U.mark(row, "rejection_db", U.HUM_CANCELS)
+    else:
+        U.put(row, "rejection_db", rejection_db, U.HUM_CANCELS)
+    row["output_v"] = float(output_v)
+    return row
 
 
 def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 48000) -> HumAudio:
@@ -45,5 +62,5 @@ def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 480
         path = Path(out) / f"{stem}-{suffix}.wav"
         write_float_wav(path, m[k] / vfs, sample_rate, overwrite=True)
         files[k] = str(path)
-    rows = tuple({"frequency_hz": float(f), "rejection_db": float(r), "output_v": float(v)} for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"]))
+    rows = tuple(_measured_row(f, r, v) for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"]))
     return HumAudio(seconds=seconds, volts_full_scale=vfs, files=files, harmonics=rows)

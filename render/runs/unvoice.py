@@ -88,6 +88,21 @@ def _blocks(path: Path):
     yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
 
 
+def _refuse_silent_passive(design, model_path) -> None:
+    """Refuse a MODEL whose passive reference has no response: there is nothing to invert."""
+    from ..analysis.figures import signal_cancels
+    from ..analysis.unvoice import REFERENCE_HZ
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+
+    _, passive_silent = signal_cancels(responses(from_designs([design])), [REFERENCE_HZ])
+    if passive_silent[0]:
+        raise InputError(
+            f"MODEL={model_path}: its passive reference gives no signal (its two coils cancel the string signal exactly: a coil wired in reverse? check signal_polarity);"
+            " a recording cannot be un-voiced through it"
+        )
+
+
 def unvoice(
     di_path,
     model_path,
@@ -138,6 +153,7 @@ def unvoice(
     sample_rate, frames = _open_di(di)
     designs, rig = load_designs([model_path], rig=rig_path)
     design = designs[0]
+    _refuse_silent_passive(design, model_path)
     warnings: list[str] = []
 
     # pass 1: statistics (and every sample checked before anything is written)

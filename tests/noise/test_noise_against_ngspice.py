@@ -9,11 +9,14 @@ models, GBW and ideal op-amps, the rig's settings), at every point of a
 200-per-decade sweep from 20 Hz to 20 kHz:
 
 - the total output density with the op-amp noiseless (ngspice's behavioural
-  op-amp has no noise) agrees within 0.2 dB, active and passive;
+  op-amp has no noise) agrees within 0.0001 dB, active and passive;
 - with the op-amp's noise added as thermal stand-ins (``spice_noise``), the
-  total agrees within 0.2 dB, and so does every source's own contribution
+  total agrees within 0.0001 dB, and so does every source's own contribution
   (ngspice reports each device's), which also shows that no noisy part of
   the netlist is missing from the model.
+
+0.0001 dB is the README's figure; measured when last tightened (Debian's
+ngspice-39), the worst density was 2.2e-5 dB off (run with -s to print it).
 
 ngspice's Boltzmann constant is CODATA 2014's (1.38064852e-23 J/K, as its
 output for a lone resistor shows), ours the exact SI 2019 value; the 3.5e-7
@@ -41,7 +44,7 @@ ROOT = Path(__file__).resolve().parents[2]
 MODELS = sorted((ROOT / "models").glob("*.toml"))
 N_RANDOM = 24
 SEED = 20250301
-TOL_DB = 0.2  # every density, dB (checked against ngspice .noise)
+TOL_DB = 1e-4  # every density, dB (checked against ngspice .noise; the README states it)
 TINY = 1e-8  # a contribution below this fraction of the total power is checked in absolute terms
 NOISE_CURRENT = 1e-12  # A/√Hz: larger than the default so the current terms show in the stand-in runs
 
@@ -137,7 +140,7 @@ def test_total_density_matches_ngspice_opamp_noiseless(reference, case, circuit)
     s = model.output_psd(f, passive=circuit == "passive")[0]
     db = _db(s, v**2)
     _note(f"{circuit} total", db, case)
-    # ngspice .noise, op-amp noiseless: within 0.2 dB from 20 Hz to 20 kHz
+    # ngspice .noise, op-amp noiseless: within 0.0001 dB from 20 Hz to 20 kHz
     assert db < TOL_DB, f"{case} {circuit}: total density off by {db:.3g} dB"
 
 
@@ -156,7 +159,7 @@ def test_each_source_matches_ngspice(reference, case, circuit):
     total = model.output_psd(f, passive=circuit == "passive")[0]
     db = _db(total, v**2)
     _note(f"{'active, op-amp noisy' if circuit == 'opamp' else 'passive'} total", db, case)
-    # ngspice .noise with the op-amp stand-ins: within 0.2 dB
+    # ngspice .noise with the op-amp stand-ins: within 0.0001 dB
     assert db < TOL_DB, f"{case} {circuit}: total off by {db:.3g} dB"
     for s in sources:
         ours = s.output_psd(f)[0]
@@ -165,20 +168,20 @@ def test_each_source_matches_ngspice(reference, case, circuit):
         if big.any():
             db = _db(ours[big], theirs[big])
             _note(s.key, db, case)
-            # ngspice's per-device .noise contribution: within 0.2 dB
+            # ngspice's per-device .noise contribution: within 0.0001 dB
             assert db < TOL_DB, f"{case} {s.key}: off by {db:.3g} dB"
         # where ngspice's part is negligible, ours must be too
         assert np.all(np.abs(ours[~big] - theirs[~big]) <= 2 * TINY * v[~big] ** 2), f"{case} {s.key}: negligible part differs"
 
 
 def test_temperature_scales_like_ngspice():
-    """One design at 350 K (``.options temp=76.85``): totals within 0.2 dB of ngspice."""
+    """One design at 350 K (``.options temp=76.85``): totals within 0.0001 dB of ngspice."""
     require_ngspice()
     d = _with_opamp(CASES["model-studio-reference"], 0.0, 0.0)
     model = design_noise_model([d], temperature=350.0)
     for passive, lines in ((False, active_netlist(d, wa=1.0, wb=0.0)), (True, passive_netlist(d, wa=1.0, wb=0.0))):
         f, v, _ = run_noise(lines, temperature=350.0)
-        # ngspice .noise at 350 K: within 0.2 dB
+        # ngspice .noise at 350 K: within 0.0001 dB
         assert _db(model.output_psd(f, passive=passive)[0], v**2) < TOL_DB
 
 

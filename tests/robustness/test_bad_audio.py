@@ -112,7 +112,7 @@ def test_384_khz_is_resampled_and_renders_like_48_khz(tmp_path):
     for path, out in ((hi, tmp_path / "o-hi"), (lo, tmp_path / "o-lo")):
         res = clips(path, out, "--seconds", 0.25, "--volts-full-scale", 1)
         assert res.exit_code == 0, res.output
-        assert check_outputs(out, frames=12000) == ["studio-reference.json", "studio-reference.wav", "summary.md"]
+        assert check_outputs(out, frames=12000) == ["index-clips.js", "index.html", "studio-reference.json", "studio-reference.wav", "summary.md"]
     a, _ = sf.read(tmp_path / "o-hi" / "studio-reference.wav")
     b, _ = sf.read(tmp_path / "o-lo" / "studio-reference.wav")
     # away from the two ends, the resampled recording renders as the native one does: within

@@ -66,7 +66,7 @@ def test_a_full_disk_gives_one_line_and_no_partial_file(tmp_path, monkeypatch, n
     monkeypatch.undo()
     res = clips(out, "--overwrite")  # space again: a rerun completes
     assert res.exit_code == 0, res.output
-    assert len(check_outputs(out, frames=FRAMES)) == 2 * 5 + 2
+    assert len(check_outputs(out, frames=FRAMES)) == 2 * 5 + 2 + 2  # per design 5, the summary and overlay, the page and its clips
 
 
 @pytest.mark.parametrize(

@@ -25,7 +25,7 @@ STEMS = [m.stem for m in MODELS]
 SECONDS = 0.5
 FRAMES = 24000  # 0.5 s at 48 kHz
 PER_DESIGN = (".wav", ".json", "-response.png", "-spectrum.png", "-spectrogram.png")
-EVERY_FILE = sorted([f"{s}{x}" for s in STEMS for x in PER_DESIGN] + ["responses.png", "summary.md"])
+EVERY_FILE = sorted([f"{s}{x}" for s in STEMS for x in PER_DESIGN] + ["index-clips.js", "index.html", "responses.png", "summary.md"])
 
 
 def start(out, *extra):

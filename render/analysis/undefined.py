@@ -1,0 +1,112 @@
+"""Figures with no finite value: ``None`` plus a reason, one way for every command.
+
+Some figures are undefined or would be infinite for a legitimate design: two
+matched coils cancel their hum exactly (infinite rejection, zero hum, no
+signal-to-hum ratio), a coil wired in reverse cancels the string signal
+(no level, no peak, no SNR), a response with no 3 dB peak has no Q. Such a
+figure is ``None`` in a result, and every JSON record writes it as
+
+    "rejection_db": null, "rejection_db_reason": "infinite: the coils' hum cancels exactly"
+
+(the figure's key with ``null``, and beside it the same key with ``_reason``
+appended, holding one line of words). A printed report shows the words (or,
+in a table cell, the short form :func:`cell` gives) where the number would
+be. No NaN or infinity is ever written: JSON is written with
+``allow_nan=False``. This module holds the reasons' wording and the helpers;
+it does no I/O.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+# The reasons, worded once (each figure's docstring says which ones it can carry).
+HUM_CANCELS = "infinite: the coils' hum cancels exactly"
+NO_HUM = "no hum: the coils cancel exactly"
+NO_FIELD = "the field has no such harmonic"
+NO_LINKAGE = "no hum: no source links either coil at this harmonic"
+NO_SIGNAL = "no signal: the coils cancel the string signal exactly (a coil wired in reverse? check signal_polarity)"
+PASSIVE_NO_SIGNAL = "no passive signal: the passive reference's coils cancel the string signal exactly"
+NO_PEAK = "no peak of 3 dB or more above the 1 kHz level"
+PEAK_EDGES = "the peak's -3 dB points lie outside 5 Hz to 40 kHz"
+NO_BASS_CORNER = "within 3 dB of the 1 kHz level down to 5 Hz"
+NO_TREBLE_CORNER = "beyond 20 kHz"
+SILENT = "silent, or shorter than one 400 ms block of ITU-R BS.1770-4"
+NOMINAL_CANCELS = "the design itself cancels its hum exactly, so a change has no finite size"
+PART_CANCELS = "with +1 % on this part the hum cancels exactly"
+ALL_CANCEL = "every trial cancels the hum exactly"
+
+# what a table cell shows instead of the number
+SHORT = {
+    HUM_CANCELS: "exact",
+    NO_HUM: "no hum",
+    NO_FIELD: "no field",
+    NO_LINKAGE: "no hum",
+    NO_SIGNAL: "no signal",
+    PASSIVE_NO_SIGNAL: "no passive signal",
+    NO_PEAK: "none",
+    PEAK_EDGES: "none",
+    NO_BASS_CORNER: "below 5 Hz",
+    NO_TREBLE_CORNER: "beyond 20 kHz",
+    SILENT: "silent",
+    ALL_CANCEL: "exact",
+}
+
+
+def finite(x: Any) -> float | None:
+    """``x`` as a float, or None when it is None, NaN or infinite."""
+    if x is None:
+        return None
+    v = float(x)
+    return v if math.isfinite(v) else None
+
+
+def put(record: dict, key: str, value: Any, reason: str) -> dict:
+    """Set ``record[key]`` to ``value`` if finite; else to None with ``record[key + "_reason"] = reason``.
+
+    A reason already in the record (set by an earlier step that knew better)
+    is kept. Returns ``record``.
+    """
+    v = finite(value)
+    record[key] = v
+    if v is None:
+        record.setdefault(f"{key}_reason", reason)
+    else:
+        record.pop(f"{key}_reason", None)
+    return record
+
+
+def mark(record: dict, key: str, reason: str) -> dict:
+    """Make ``record[key]`` None with this reason (the reason replaces any earlier one)."""
+    record[key] = None
+    record[f"{key}_reason"] = reason
+    return record
+
+
+def reason(record: dict, key: str, default: str = "undefined") -> str:
+    """The words standing for ``record[key]`` when it is None."""
+    return str(record.get(f"{key}_reason") or default)
+
+
+def shown(record: dict, key: str, spec: str, unit: str = "") -> str:
+    """``record[key]`` formatted with ``spec`` and ``unit``, or its reason in words when it is None."""
+    v = record.get(key)
+    if v is None:
+        return reason(record, key)
+    return format(v, spec) + unit
+
+
+def cell(record: dict, key: str, spec: str, unit: str = "") -> str:
+    """As :func:`shown`, with the reason's short form (for a table cell)."""
+    v = record.get(key)
+    if v is None:
+        text = reason(record, key, "")
+        return SHORT.get(text, "—")
+    return format(v, spec) + unit
+
+
+def spread(value: Any, reason_text: str, spec: str, unit: str = "") -> str:
+    """A bare value formatted, or the words when it is None (for results that are not records)."""
+    v = finite(value)
+    return reason_text if v is None else format(v, spec) + unit

@@ -1,0 +1,138 @@
+"""What ``render hum`` prints (the per-harmonic table, each source's share, the Monte Carlos), and the room's map and random sources it adds per design."""
+
+from __future__ import annotations
+
+import click
+
+from .options import warn
+
+
+def _rejection(value, reason) -> str:
+    """A table cell: the figure, or the short word for why it does not exist (render.analysis.undefined)."""
+    from ..analysis.undefined import cell
+
+    return cell({"rejection_db": value, "rejection_db_reason": reason}, "rejection_db", "6.1f", " dB")
+
+
+def _vector(v) -> str:
+    return "(" + ", ".join(f"{x:.3g}" for x in v) + ")"
+
+
+def print_source(s: dict) -> None:
+    what = f"dipole {s['moment_a_m2']:g} A·m² at {_vector(s['at_m'])} m ({s['distance_m']:.3g} m away)" if s["kind"] == "dipole" else f"uniform {s['field_t'] * 1e6:g} µT"
+    extra = ("" if s["harmonics"] is None else ", its own harmonics") + ("" if s["phase_deg"] == 0 else f", phase {s['phase_deg']:g}°")
+    link = s["linkage_wb"]
+    click.echo(f"  source {s['source']}: {what}, axis {_vector(s['axis'])}{extra}; flux linkage coil_a {link['coil_a'] * 1e9:.4g} nWb, coil_b {link['coil_b'] * 1e9:.4g} nWb peak")
+
+
+def print_report(d, r) -> None:
+    from ..analysis.undefined import spread
+
+    n = len(r.sources)
+    field = f"field {r.field_t * 1e6:g} µT peak" if r.field_t is not None else f"{n} hum source{'s' if n > 1 else ''} (they replace the field)"
+    click.echo(f"{d.name}  ({d.source})  mains {r.mains_hz:g} Hz, {field}")
+    for s in r.sources:
+        print_source(s)
+    click.echo("  harmonic  frequency   rejection   hum at amp input   coil_a alone   coil_b alone")
+    for h in r.harmonics:
+        rej = _rejection(h.rejection_db, h.rejection_db_reason)
+        click.echo(f"  {h.harmonic:>8d}  {h.frequency_hz:7.0f} Hz  {rej:>9s}   {h.output_v * 1e6:12.3f} µV   {h.coil_a_v * 1e6:9.2f} µV   {h.coil_b_v * 1e6:9.2f} µV")
+        if n > 1:  # each source's share (shares add as phasors)
+            for s in h.sources:
+                srej = _rejection(s["rejection_db"], s.get("rejection_db_reason"))
+                click.echo(f"       source {s['source']:<2d}       {srej:>9s}   {s['output_v'] * 1e6:12.3f} µV   {s['coil_a_v'] * 1e6:9.2f} µV   {s['coil_b_v'] * 1e6:9.2f} µV")
+    ref = r.reference_signal
+    click.echo(
+        f"  total hum {r.total_v_rms * 1e6:.3f} µV rms; signal to hum {spread(r.signal_to_hum_db, str(r.signal_to_hum_reason), '.1f', ' dB')}"
+        f" (reference: {ref['velocity_m_per_s_peak']:g} m/s peak at {ref['frequency_hz']:g} Hz);"
+        f" passive reference {r.passive_total_v_rms * 1e6:.3f} µV rms, {spread(r.passive_signal_to_hum_db, str(r.passive_signal_to_hum_reason), '.1f', ' dB')}"
+    )
+    if n > 1:
+        click.echo("  each source's share is its own hum alone; the shares add as phasors, not as magnitudes")
+
+
+def print_audio(a, exact):
+    """The rejection measured from the hum-only WAVs beside the exact figure (``exact``: the report's harmonics)."""
+    from ..analysis.undefined import spread
+
+    click.echo(f"  measured from a {a.seconds:g} s hum-only render (last {a.seconds - 1:g} s):")
+    for i, (row, h) in enumerate(zip(a.harmonics[:5], exact)):
+        measured = spread(row["rejection_db"], str(row.get("rejection_db_reason")), "6.1f", " dB")
+        same = row["rejection_db"] is None and row.get("rejection_db_reason") == h.rejection_db_reason
+        exact_text = "as is the exact figure" if same else f"exact {spread(h.rejection_db, str(h.rejection_db_reason), '.1f', ' dB')}"
+        click.echo(f"    H{i + 1} {row['frequency_hz']:5.0f} Hz: {measured} ({exact_text})")
+    click.echo(f"  hum-only WAVs at {a.volts_full_scale:g} V full scale: {a.files['both']}, and each coil alone beside it")
+
+
+def _quantiles(rows, count=3):
+    from ..analysis.undefined import shown
+
+    for r in rows[:count]:
+        click.echo(f"    H{r['harmonic']} {r['frequency_hz']:5.0f} Hz: median {shown(r, 'median_db', '.1f', ' dB')}, 5th percentile {shown(r, 'p5_db', '.1f', ' dB')}")
+
+
+def print_monte_carlo(mc):
+    pct = ", ".join(f"{k} {v * 100:g} %" for k, v in mc.tolerances.items())
+    click.echo(f"  Monte Carlo: {mc.trials} trials (seed {mc.seed}; {pct})")
+    _quantiles(mc.summary())
+    top = mc.sensitivity[:4]
+    if top and all(isinstance(v, str) and "with +1 %" in v for _, v in top):  # the design itself cancels exactly
+        from ..analysis.undefined import NOMINAL_CANCELS
+
+        after = ", ".join(f"{k} {v.rsplit(' it is ', 1)[-1]}" for k, v in top)
+        click.echo(f"    most sensitive (+1 % alone, at the fundamental): {NOMINAL_CANCELS}; the rejection with +1 % alone: {after}")
+    else:
+        click.echo(f"    most sensitive (+1 % alone, at the fundamental): {', '.join(f'{k} {v:+.1f} dB' if isinstance(v, float) else f'{k} ({v})' for k, v in top)}")
+
+
+def print_positions(rec: dict) -> None:
+    inner, outer = rec["shell_m"]
+    head = f"  random sources: {rec['trials']} dipoles in a {inner:g}–{outer:g} m shell, random axes (seed {rec['seed']})"
+    if "tolerances" in rec:
+        pct = ", ".join(f"{k} {v * 100:g} %" for k, v in rec["tolerances"].items())
+        head += f", drawn jointly with the part tolerances ({pct})"
+    click.echo(head)
+    _quantiles(rec["harmonics"])
+
+
+def print_map(m) -> None:
+    where = "the x–y plane (top faces; 0° neck side, 90° treble side)" if m.plane == "xy" else "the x–z plane (along the strings; 0° neck side, 90° straight above)"
+    click.echo(f"  rejection at {m.frequency_hz[0]:g} Hz of a dipole (axis z) in {where}:")
+    click.echo("    distance" + "".join(f"{b:>6.0f}°" for b in m.bearing_deg))
+    for i, dist in enumerate(m.distance_m):
+        cells = "".join("   none" if v != v else f"{v:7.1f}" for v in m.rejection_db[i, :, 0])
+        click.echo(f"    {dist:6.2f} m" + cells)
+
+
+def warnings(rec, d, *, dipoles: bool) -> None:
+    """The report's warnings, and the point-coil one when a map or random sources put dipoles near the pickup, into ``rec`` and on standard error."""
+    from ..analysis.hum_room import room_warnings
+
+    lines = list(rec.get("warnings", []))
+    if dipoles:
+        lines += [w for w in room_warnings(d) if w not in lines]
+    for w in lines:
+        warn(w)
+    if lines:
+        rec["warnings"] = lines
+
+
+def room(rec, d, *, show, map_on, map_plane, map_png, positions, shell, joint, tolerances, seed, jobs, overwrite):
+    """The map and the random sources of one design into ``rec``, printed unless the JSON goes to standard output."""
+    from ..analysis import hum_room as hr
+
+    if map_on:
+        m = hr.hum_map(d, plane=map_plane)
+        rec["map"] = hr.map_record(m)
+        if show:
+            print_map(m)
+        if map_png:
+            from ..report.plots import rejection_map_plot
+
+            rejection_map_plot(map_png, m, title=f"{d.name}: rejection of a dipole source (axis z) at {m.frequency_hz[0]:g} Hz", overwrite=overwrite)
+    if positions:
+        kw = {"shell": shell} if shell else {}
+        mc = hr.hum_positions(d, trials=positions, seed=seed, joint=joint, tolerances=tolerances or None, jobs=jobs, **kw)
+        rec["joint" if joint else "positions"] = hr.positions_record(mc)
+        if show:
+            print_positions(rec["joint" if joint else "positions"])

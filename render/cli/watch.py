@@ -1,0 +1,63 @@
+"""``render watch MODEL…``: render, serve the comparison page on 127.0.0.1, and render again on every save.
+
+Prints the address, opens the browser (unless ``--no-browser``) and a line
+per re-render or refused file. Ctrl-C, SIGTERM and SIGHUP stop the watcher
+and the server; nothing is written to disk.
+"""
+
+from __future__ import annotations
+
+import click
+
+from .options import friendly, rig_option, sample_rate_option
+
+CAUTION = "Start playback at a low volume and raise it slowly: the page starts 20 dB down, but clipped clips stay loud."
+
+
+@click.command("watch")
+@click.argument("models", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.option("--dry", "dry_path", type=click.Path(dir_okay=False), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
+@rig_option
+@click.option("--seconds", type=click.FloatRange(min=0.01, max=600), default=None, help="Length of every clip (default: the dry signal's own).")
+@sample_rate_option
+@click.option("--hum/--no-hum", default=True, show_default=True, help="Add the rig's mains hum field.")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed for the phrase's small variations.")
+@click.option("--port", default=0, show_default=True, type=int, help="Port on 127.0.0.1 (0 picks a free one).")
+@click.option("--no-browser", is_flag=True, help="Only print the address; do not open a browser.")
+@friendly
+def watch_command(models, dry_path, rig_path, seconds, sample_rate, hum, seed, port, no_browser):
+    """Render MODEL… and serve the comparison page; render a design again each time its file, the rig or the phrase is saved.
+
+    The page swaps the new clip in at the same playhead and keeps the
+    previous version as "before" (key B flips between them). A save that
+    does not load shows its one-line message on the page and here, and the
+    last good clip plays on.
+    """
+    from ..clip import RenderSettings
+    from ..compare.server import LiveServer
+    from ..runs.watch import WatchRun, follow_changes
+
+    def say(line: str) -> None:
+        click.echo(line, err=line.startswith("Error: "))
+
+    settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, hum=hum)
+    run = WatchRun(models, dry=dry_path, rig=rig_path, settings=settings)
+    server = LiveServer(run.board, page=run.page(), port=port)  # the port is refused before any render
+    try:
+        for line in run.start().lines:
+            say(line)
+        server.start_thread()
+        click.echo(f"serving the comparison page at {server.url}")
+        click.echo(f"  watching {len(run.files)} files; Ctrl-C stops")
+        click.echo(f"  {CAUTION}")
+        if not no_browser:
+            import webbrowser
+
+            if not webbrowser.open(server.url):
+                click.echo("  (no browser could be opened: open the address yourself)")
+        follow_changes(run, notify=say)
+    except KeyboardInterrupt:
+        pass
+    finally:
+        server.stop()
+    click.echo("stopped")

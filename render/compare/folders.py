@@ -1,0 +1,113 @@
+"""The comparison page of a run folder, from what the run wrote: ``render clips`` and ``render bias``.
+
+A clips run's page reads each design's WAV back from the folder (its first
+:data:`~render.compare.assets.PAGE_SECONDS`, so a long recording rendered
+block by block is read in bounded memory) and its record, so the page shows
+exactly what the files hold.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+
+from .assets import PAGE_SECONDS
+from .page import PageClip, PageText, design_values, response_curves, write_page
+
+CLIPS_COLUMNS = ("resonance", "Q", "level at 1 kHz", "vs passive", "hum rejection", "bias", "headroom up / down", "peak at amp input", "loudness", "limited")
+CLIPS_NOTES = (
+    "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the WAV as written.",
+    "Limited: share of the op-amp output's samples inside the soft limit's knee or beyond.",
+)
+BIAS_COLUMNS = ("bias", "headroom up / down", "onset up / down", "THD", "H2", "H3", "peak at amp input", "loudness")
+BIAS_NOTES = (
+    "Onset: the string velocity (m/s peak, 1 kHz) at which the output first enters the soft limit on each side; THD, H2 and H3 of the test sine.",
+    "Loudness per ITU-R BS.1770-4, in LUFS re 1 V full scale.",
+)
+
+
+def _cell(v, fmt: str, unit: str = "") -> str:
+    return "—" if v is None else format(v, fmt) + unit
+
+
+def clips_cells(m: dict) -> tuple[str, ...]:
+    """A clips record's ``measurements`` as the summary table's cells (the columns of ``summary.md``)."""
+    return (
+        f"{m['resonance_hz']:.0f} Hz, {m['resonance_db']:+.1f} dB",
+        _cell(m["q"], ".2f"),
+        f"{m['level_1k_db']:+.1f} dB",
+        f"{m['gain_vs_passive_db']:+.1f} dB",
+        _cell(m["hum_rejection_db"], ".1f", " dB"),
+        f"{m['bias_v']:.2f} V",
+        f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
+        f"{m['peak_v']:.3f} V",
+        _cell(m["loudness_lufs"], ".1f", " LUFS"),
+        f"{m['clipped_fraction'] * 100:.2f} %",
+    )
+
+
+def read_head(path: Path, *, volts_full_scale: float, seconds: float = PAGE_SECONDS) -> tuple[np.ndarray, int, int]:
+    """(the first ``seconds`` of a run's WAV in volts, its sample rate, its whole length in samples)."""
+    import soundfile as sf
+
+    info = sf.info(str(path))
+    frames = min(info.frames, int(round(seconds * info.samplerate)))
+    x, fs = sf.read(str(path), frames=frames, dtype="float64", always_2d=False)
+    return np.asarray(x, dtype=float) * volts_full_scale, int(fs), int(info.frames)
+
+
+def write_clips_page(folder: Path, records: Sequence[dict], designs: Sequence, *, volts_full_scale: float, dry: str, rig: str, settings: dict, jobs: int = 1) -> tuple[Path, Path]:
+    """``index.html`` and ``index-clips.js`` for a ``render clips`` folder holding ``S.wav`` per design (``jobs``: processes)."""
+    folder = Path(folder)
+    curves = response_curves(designs)
+    clips = []
+    for rec, design, (resp, passive) in zip(records, designs, curves):
+        stem = Path(design.source).stem
+        volts, fs, n = read_head(folder / f"{stem}.wav", volts_full_scale=volts_full_scale)
+        m = rec["measurements"]
+        clips.append(PageClip(
+            key=stem, name=rec["design"], volts=volts, sample_rate=fs, loudness_lufs_1v_full_scale=m["loudness_lufs_1v_full_scale"],
+            cells=clips_cells(m), values=design_values(design), file=str(rec["design_file"]), full_samples=n,
+            warnings=tuple(rec.get("warnings", ())), response=resp, passive=passive,
+        ))
+    lede = (
+        f"Dry signal {dry}; rig: {rig}; {settings['sample_rate']} Hz; seed {settings['seed']}; hum {'on' if settings['hum'] else 'off'};"
+        f" noise {'on' if settings['noise'] else 'off'}; one full scale for every WAV: {volts_full_scale:g} V."
+    )
+    n = len(clips)
+    text = PageText(title=f"render clips: {n} design{'s' if n != 1 else ''}", lede=lede, columns=CLIPS_COLUMNS, notes=CLIPS_NOTES)
+    return write_page(folder, text, clips, volts_full_scale=volts_full_scale, jobs=jobs)
+
+
+def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
+    """A bias setting's row and clip as the summary table's cells (:data:`BIAS_COLUMNS`)."""
+    o, q = row["onset"], row["sine"]
+    return (
+        f"{row['bias_v']:.2f} V",
+        f"{row['headroom_up_v']:.2f} / {row['headroom_down_v']:.2f} V",
+        f"{o['velocity_up_m_per_s']:.3f} / {o['velocity_down_m_per_s']:.3f} m/s",
+        f"{q['thd_percent']:.2f} %",
+        f"{q['h2_db']:.1f} dB",
+        f"{q['h3_db']:.1f} dB",
+        f"{clip['peak_v']:.3f} V",
+        _cell(clip["loudness_lufs_1v_full_scale"], ".1f", " LUFS"),
+    )
+
+
+def write_bias_page(folder: Path, sweep, clips: Sequence[dict], renders: Sequence[np.ndarray], *, sample_rate: int, volts_full_scale: float, dry: str, strength_m: float | None = None, jobs: int = 1) -> tuple[Path, Path]:
+    """``index.html`` and ``index-clips.js`` for a ``render bias`` folder: one entry per setting of ``sweep``."""
+    designs = [s.design for s in sweep.settings]
+    curves = response_curves(designs)
+    entries = []
+    for s, row, clip, x, (resp, passive) in zip(sweep.settings, sweep.rows, clips, renders, curves):
+        entries.append(PageClip(
+            key=Path(clip["file"]).stem, name=f"{s.label}, {s.battery:g} V", volts=np.asarray(x, dtype=float), sample_rate=sample_rate,
+            loudness_lufs_1v_full_scale=clip["loudness_lufs_1v_full_scale"], cells=bias_cells(row, clip), values=design_values(s.design),
+            file=str(sweep.design.source), response=resp, passive=passive,
+        ))
+    pluck = f"; every note plucked at {strength_m * 1e3:g} mm" if strength_m is not None else ""
+    lede = f"{sweep.design.name} ({sweep.design.source}) playing {dry}{pluck}; one full scale for every WAV: {volts_full_scale:g} V."
+    text = PageText(title=f"render bias: {sweep.design.name}, {len(entries)} settings", lede=lede, columns=BIAS_COLUMNS, notes=BIAS_NOTES)
+    return write_page(folder, text, entries, volts_full_scale=volts_full_scale, jobs=jobs)

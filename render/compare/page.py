@@ -1,0 +1,311 @@
+"""The comparison page's data and files: ``index.html`` and ``index-clips.js``.
+
+:func:`page_data` turns the designs of a run (:class:`PageClip`) into the
+page's JSON-ready data and each clip's 16-bit copy; :func:`page_html` puts
+that data, the page's CSS and its JavaScript (package data in
+``render/compare/static/``) into one HTML file; :func:`clips_script` writes
+the copies as base64 strings in a script the page loads beside it. Nothing
+depends on the time, the machine or the folder, so the same run gives the
+same bytes.
+
+The page matches loudness itself, from each clip's BS.1770 integrated
+loudness (``loudness_lufs_1v_full_scale``, as the run measured it) and the
+true peak of its copy: see ``compare.js``.
+"""
+
+from __future__ import annotations
+
+import base64
+import json
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+from .assets import PAGE_SECONDS, PageCopy, page_copy, png_rgb, shade, spectrogram_levels, spectrum_curve
+
+STATIC_FOLDER = "static"
+STATIC_NAMES = ("compare.html", "compare.css", "compare.js")
+PAGE_FILE = "index.html"
+CLIPS_FILE = "index-clips.js"
+RESPONSE_POINTS = 200
+MARKERS = ("<!--page:title-->", "/*page:style*/", "/*page:data*/", "<!--page:clips-->", "/*page:script*/")
+
+
+@dataclass(frozen=True)
+class PageClip:
+    """One design (or setting) as the page shows it.
+
+    Attributes
+    ----------
+    key : str
+        Unique on the page (the file stem).
+    name : str
+        Shown beside its clip.
+    volts : np.ndarray [shape=(n,)], V
+        The clip at the amp input (at least its first :data:`~render.compare.assets.PAGE_SECONDS`).
+    sample_rate : int, Hz
+    loudness_lufs_1v_full_scale : float or None, LUFS
+        BS.1770-4 integrated loudness of the clip in volts (re 1 V full scale), as its run recorded it.
+    cells : tuple of str
+        The summary table's cells for this clip, one per column of the page.
+    values : tuple of (str, str)
+        The design's values as (name, shown value), for the reference comparison.
+    file : str
+        The design file, as given.
+    full_samples : int or None
+        The clip's whole length when ``volts`` holds only its start.
+    warnings : tuple of str
+    response : (np.ndarray, np.ndarray) or None
+        (frequency Hz, level dB re 1 V per m/s), string velocity to the amp input.
+    passive : (np.ndarray, np.ndarray) or None
+        The same for its passive reference.
+    """
+
+    key: str
+    name: str
+    volts: np.ndarray
+    sample_rate: int
+    loudness_lufs_1v_full_scale: float | None
+    cells: tuple[str, ...] = ()
+    values: tuple[tuple[str, str], ...] = ()
+    file: str = ""
+    full_samples: int | None = None
+    warnings: tuple[str, ...] = ()
+    response: tuple[np.ndarray, np.ndarray] | None = None
+    passive: tuple[np.ndarray, np.ndarray] | None = None
+
+
+@dataclass(frozen=True)
+class PageText:
+    """What the page says about its run.
+
+    Attributes
+    ----------
+    title : str
+    lede : str
+        One line: what was rendered (dry signal, rig, settings).
+    columns : tuple of str
+        Headings of the summary table after the design's name.
+    notes : tuple of str
+        Lines under the table (what the columns mean).
+    """
+
+    title: str
+    lede: str = ""
+    columns: tuple[str, ...] = ()
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+
+@dataclass(frozen=True)
+class DesignAssets:
+    """One clip's entry in the page data and its copy (see :func:`design_assets`)."""
+
+    entry: dict
+    copy: PageCopy
+    levels: np.ndarray  # the strip's spectrogram levels, dB re 1 V²/Hz, before shading
+
+
+def _r(x: float, digits: int) -> float:
+    return float(round(float(x), digits))
+
+
+def _curve(f: np.ndarray, db: np.ndarray) -> list[list[float]]:
+    return [[_r(v, 2) for v in f], [_r(v, 2) for v in db]]
+
+
+def design_assets(clip: PageClip) -> DesignAssets:
+    """The page's copy of ``clip`` and its entry (the strip is added by :func:`finish_entry`)."""
+    x = np.asarray(clip.volts, dtype=float)
+    fs = int(clip.sample_rate)
+    copy = page_copy(x, sample_rate=fs, max_seconds=PAGE_SECONDS, full_samples=clip.full_samples if clip.full_samples is not None else x.size)
+    head = x[: int(round(PAGE_SECONDS * fs))]
+    f, db = spectrum_curve(head, sample_rate=fs)
+    loud = clip.loudness_lufs_1v_full_scale
+    entry = {
+        "key": clip.key,
+        "clip": clip.key,
+        "name": clip.name,
+        "file": clip.file,
+        "loudness": None if loud is None else _r(loud, 3),
+        "true_peak": None if copy.true_peak_db is None else _r(copy.true_peak_db, 3),
+        "unit_v": float(f"{copy.volts_per_unit:.9g}"),
+        "seconds": _r(copy.seconds, 4),
+        "full_seconds": _r(copy.full_seconds, 4),
+        "cells": list(clip.cells),
+        "values": [list(v) for v in clip.values],
+        "warnings": list(clip.warnings),
+        "spectrum": _curve(f, db),
+        "response": _curve(*clip.response) if clip.response is not None else None,
+        "passive": _curve(*clip.passive) if clip.passive is not None else None,
+    }
+    return DesignAssets(entry=entry, copy=copy, levels=spectrogram_levels(head, sample_rate=fs))
+
+
+def strip_top_db(levels: Sequence[np.ndarray]) -> float:
+    """The darkest level of the strips: the loudest bin of them all, to a whole dB (one shading for the page)."""
+    return float(np.ceil(max((float(np.max(v)) for v in levels), default=0.0)))
+
+
+def finish_entry(assets: DesignAssets, *, top_db: float) -> dict:
+    """The entry with its spectrogram strip as a PNG data URI, shaded against ``top_db``."""
+    png = png_rgb(shade(assets.levels, top_db=top_db))
+    return {**assets.entry, "strip": "data:image/png;base64," + base64.b64encode(png).decode("ascii")}
+
+
+def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: float, live: bool = False, jobs: int = 1) -> tuple[dict, list[PageCopy]]:
+    """The page's JSON-ready data and each clip's copy, in the clips' order.
+
+    volts_full_scale : V
+        The run's WAV full scale: the page plays at this scale (the true
+        levels), matching loudness by attenuation only, and lowers every
+        clip together when a true peak would pass −1 dBTP.
+    jobs : int
+        Clips prepared in this many processes (the same bytes as one).
+    """
+    if not clips:
+        raise InputError("the comparison page needs at least one clip")
+    if len({c.key for c in clips}) != len(clips):
+        raise InputError("two clips share a name on the comparison page; rename one of the design files")
+    rates = {int(c.sample_rate) for c in clips}
+    if len(rates) != 1:
+        raise InputError(f"the clips on one page must share a sample rate, not {sorted(rates)} Hz")
+    from ..parallel import pmap
+
+    made = pmap(design_assets, clips, jobs)
+    top = strip_top_db([m.levels for m in made])
+    designs = [finish_entry(m, top_db=top) for m in made]
+    data = {
+        "format": 1,
+        "title": text.title,
+        "lede": text.lede,
+        "columns": list(text.columns),
+        "notes": list(text.notes),
+        "sample_rate": rates.pop(),
+        "volts_full_scale": float(volts_full_scale),
+        "ceiling_dbtp": -1.0,
+        "page_seconds": float(PAGE_SECONDS),
+        "bits": 16,
+        "strip_top_db": top,
+        "live": bool(live),
+        "designs": designs,
+    }
+    return data, [m.copy for m in made]
+
+
+def static_file(name: str) -> str:
+    """One of the page's files (:data:`STATIC_NAMES`), read from the installed package."""
+    if name not in STATIC_NAMES:
+        raise ValueError(f"{name!r}: not one of the comparison page's files {STATIC_NAMES}")
+    try:
+        return resources.files(__package__).joinpath(STATIC_FOLDER).joinpath(name).read_text(encoding="utf-8")
+    except OSError as exc:
+        raise InputError(f"render/compare/{STATIC_FOLDER}/{name}: the comparison page's file is missing from the installed package ({exc.strerror or exc}); reinstall render") from None
+
+
+def _json_in_html(data: object) -> str:
+    """JSON that cannot end the script element it sits in (every '<' escaped), ASCII only."""
+    return json.dumps(data, ensure_ascii=True, separators=(",", ":"), allow_nan=False).replace("<", "\\u003c")
+
+
+def page_html(data: dict, *, clips_file: str | None = CLIPS_FILE) -> bytes:
+    """The whole page: HTML with its CSS, its data and its JavaScript inline; ``clips_file`` loaded beside it (None: none)."""
+    import html
+
+    page = static_file("compare.html")
+    parts = {
+        MARKERS[0]: html.escape(data.get("title", "render")),
+        MARKERS[1]: static_file("compare.css"),
+        MARKERS[2]: _json_in_html(data),
+        MARKERS[3]: f'<script src="{html.escape(clips_file)}"></script>' if clips_file else "",
+        MARKERS[4]: static_file("compare.js"),
+    }
+    for marker, value in parts.items():
+        if page.count(marker) != 1:
+            raise InputError(f"render/compare/{STATIC_FOLDER}/compare.html: marker {marker} must appear once; reinstall render")
+        page = page.replace(marker, value)
+    return page.encode("utf-8")
+
+
+def clips_script(keys: Sequence[str], copies: Sequence[PageCopy]) -> bytes:
+    """The clips as base64 WAVs in a classic script (a page opened from ``file://`` may load one, not fetch a file)."""
+    lines = ['"use strict";', "window.renderPageClips = window.renderPageClips || {};"]
+    for key, copy in zip(keys, copies):
+        lines.append(f"window.renderPageClips[{_json_in_html(key)}] = \"{base64.b64encode(copy.wav).decode('ascii')}\";")
+    return ("\n".join(lines) + "\n").encode("ascii")
+
+
+def write_page(folder: str | Path, text: PageText, clips: Sequence[PageClip], *, volts_full_scale: float, jobs: int = 1) -> tuple[Path, Path]:
+    """Write ``index.html`` and ``index-clips.js`` into ``folder`` (atomically, replacing them); ``jobs`` as for :func:`page_data`."""
+    from ..io.atomic import write_bytes
+
+    folder = Path(folder)
+    data, copies = page_data(text, clips, volts_full_scale=volts_full_scale, jobs=jobs)
+    clips_path = write_bytes(folder / CLIPS_FILE, clips_script([c.key for c in clips], copies), overwrite=True)
+    return write_bytes(folder / PAGE_FILE, page_html(data), overwrite=True), clips_path
+
+
+# ----------------------------------------------------------------------------
+# What the page shows of a design
+
+
+def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tuple[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]]:
+    """Per design: ((f, dB), (f, passive dB)), string velocity to the amp input (dB re 1 V per m/s), 20 Hz to 20 kHz."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+
+    designs = list(designs)
+    if not designs:
+        return []
+    f = np.geomspace(20.0, 20000.0, points)
+    resp = responses(from_designs(designs))
+    h, hp = resp.velocity()(f), resp.passive_velocity()(f)
+
+    def db(x):
+        return 20 * np.log10(np.maximum(np.abs(x), 1e-30))
+
+    return [((f, db(h[i])), (f, db(hp[i]))) for i in range(len(designs))]
+
+
+SKIPPED_VALUES = ("name", "notes", "source", "sha256")
+
+
+def design_values(design) -> tuple[tuple[str, str], ...]:
+    """A design's values as ("table.key", shown with its unit), every table in the file's order."""
+    from .. import units as U
+    from ..design import DESIGN_TABLES, design_to_dict
+    from ..design.schema import COIL, WINDING
+    from ..units import Kind, format_si
+    from ..validate import Field
+
+    derived = {"wire_diameter": U.LENGTH, "wire_length": U.LENGTH, "wire_awg": U.RATIO}  # a winding's values that its file does not give
+
+    def show(spec, value) -> str:
+        if value is None:
+            return "absent"
+        if isinstance(value, list):
+            return ", ".join(f"{v:g}" for v in value)
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            kind = getattr(spec, "kind", None)
+            if isinstance(kind, Kind) and kind.unit:
+                return format_si(float(value), kind.unit, digits=4)
+            return f"{value:.6g}"
+        return str(value)
+
+    out: list[tuple[str, str]] = []
+    values = design_to_dict(design)
+    for table, content in values.items():
+        if table in SKIPPED_VALUES or not isinstance(content, dict):
+            continue
+        specs = DESIGN_TABLES.get(table, {})
+        for key, value in content.items():
+            if isinstance(value, dict):  # a coil's winding
+                for k, v in value.items():
+                    spec = WINDING.get(k) or COIL.get(k) or (Field(derived[k]) if k in derived else None)
+                    out.append((f"{table}.{key}.{k}", show(spec, v)))
+            else:
+                out.append((f"{table}.{key}", show(specs.get(key), value)))
+    return tuple(out)

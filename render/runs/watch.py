@@ -1,0 +1,384 @@
+"""``render watch`` as a run: render the designs, then render again whatever a saved file changes.
+
+:class:`WatchRun` holds the designs' latest good renders (and the one before
+each, for A/B) and publishes them to a :class:`render.compare.server.Board`,
+which the live comparison page follows. :func:`follow_changes` watches the
+design, rig and phrase files with watchfiles (inotify on Linux, its own
+polling elsewhere) and calls :meth:`WatchRun.refresh` with each burst of
+changes:
+
+- a design file changed: that design is rendered again;
+- the rig or the dry signal changed: every design is;
+- a file that does not load (or a render that fails) gives one line, on the
+  page and in the terminal, and the last good clip stays.
+
+Everything runs in this process and thread: the render of one design of an
+8 s phrase takes a few tenths of a second, far less than starting a worker.
+The phrase's notes are kept (:class:`render.dry.cached.NoteCache`), so an
+edit of one note synthesises that note again, not the phrase; the limiter's
+resampler, which depends only on the sample rate, is made once.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+from ..clip import RenderSettings
+from ..errors import InputError
+
+WATCH_STEP_MS = 30  # a burst of file events is handed over once quiet this long (ms)
+WATCH_DEBOUNCE_MS = 500  # ... or after this long at most (ms)
+
+
+@dataclass(frozen=True)
+class Refresh:
+    """What one round of re-rendering did.
+
+    Attributes
+    ----------
+    rendered : tuple of str
+        The designs rendered again (their names).
+    problems : tuple of str
+        One line per file that did not load or render; its last good clip stays.
+    seconds : float, s
+        Time from the call to the new state being published.
+    lines : tuple of str
+        What to print, one line each.
+    """
+
+    rendered: tuple[str, ...] = ()
+    problems: tuple[str, ...] = ()
+    seconds: float = 0.0
+    lines: tuple[str, ...] = ()
+
+
+@dataclass
+class _Version:
+    entry: dict  # the page entry (compare.page.finish_entry) of this render
+    wav: bytes  # the page's copy
+    number: int
+    values: tuple[tuple[str, str], ...]
+    rendered_s: float
+
+
+@dataclass
+class _Slot:
+    path: Path
+    design: Any = None  # the last good Design (rig applied)
+    now: _Version | None = None
+    before: _Version | None = None
+    error: str | None = None
+    sha256: str = ""
+    versions: int = 0
+    changes: list = field(default_factory=list)
+
+
+def _sha(path: Path) -> str:
+    from ..io.hashing import sha256_file
+
+    try:
+        return sha256_file(path)
+    except OSError:
+        return ""
+
+
+class WatchRun:
+    """The designs of ``render watch`` and their latest renders (see the module docstring).
+
+    Parameters
+    ----------
+    models : sequence of path
+        Design files, each shown on the page in this order.
+    dry : path or None
+        A phrase (.toml) or a recorded velocity file (default: the demo phrase).
+    rig : path or None
+        A rig file applied to every design.
+    settings : RenderSettings
+    """
+
+    def __init__(self, models: Sequence[str | Path], *, dry: str | Path | None = None, rig: str | Path | None = None, settings: RenderSettings | None = None):
+        from ..compare.server import Board
+        from ..dry import check_dry_file
+        from ..dry.cached import NoteCache
+
+        if not models:
+            raise InputError("render watch needs at least one design file: render watch models/NAME.toml")
+        self.slots = [_Slot(Path(m)) for m in models]
+        for s in self.slots:
+            if not s.path.is_file():
+                raise InputError(f"{s.path}: no such design file")
+        stems = [s.path.stem for s in self.slots]
+        if len(set(stems)) != len(stems):
+            raise InputError("two design files share a name; rename one so the page can tell them apart")
+        self.settings = settings or RenderSettings()
+        self.dry_path = check_dry_file(dry, seconds=self.settings.seconds)
+        self.rig_path = Path(rig) if rig else None
+        if self.rig_path is not None and not self.rig_path.is_file():
+            raise InputError(f"--rig={self.rig_path}: no such file")
+        self.board = Board()
+        self._notes = NoteCache()
+        self._recorded: dict[tuple, object] = {}
+        self._resampler = None
+        self._rig: Any = None  # the last good RigFile (None: each design's own rig)
+        self._phrase: Any = None  # the last good Phrase (None: a recorded dry signal)
+        self._input_sha: dict[Path, str] = {}
+        self._problems: dict[str, str] = {}
+        self.volts_full_scale = 0.0
+        self._top_db = 0.0
+
+    # -- what is watched ---------------------------------------------------------
+
+    @property
+    def files(self) -> list[Path]:
+        """Every file whose saving re-renders something."""
+        out = [s.path for s in self.slots] + [self.dry_path]
+        return out + ([self.rig_path] if self.rig_path is not None else [])
+
+    @property
+    def is_phrase(self) -> bool:
+        return self.dry_path.suffix.lower() == ".toml"
+
+    # -- loading -------------------------------------------------------------------
+
+    def _load_rig(self) -> None:
+        from ..design import load_rig
+
+        self._rig = load_rig(self.rig_path) if self.rig_path is not None else None
+
+    def _load_dry(self) -> None:
+        from ..dry import load_phrase
+
+        self._phrase = load_phrase(self.dry_path) if self.is_phrase else None
+        self._recorded.clear()
+
+    def _load_design(self, slot: _Slot):
+        from ..design import apply_rig, load_design
+
+        return apply_rig(load_design(slot.path), self._rig)
+
+    def _dry_for(self, design):
+        from .clips import dry_for
+
+        st = self.settings
+        a, b = design.coil_a, design.coil_b
+        if self._phrase is not None and design.construction is not None:
+            return dry_for(design, self.dry_path, st)  # a constructed pickup senses the phrase its own way (render.dry.construction)
+        if self._phrase is not None:
+            return self._notes.synthesize(self._phrase, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), sample_rate=st.sample_rate, seed=st.seed, seconds=st.seconds)
+        key = (self._input_sha.get(self.dry_path, ""), st)
+        if key not in self._recorded:
+            self._recorded = {key: dry_for(design, self.dry_path, st)}  # a recording feeds both coils alike: one copy
+        return self._recorded[key]
+
+    # -- rendering -----------------------------------------------------------------
+
+    def _render(self, design):
+        """(volts, PageClip) of ``design`` playing the dry signal."""
+        from ..chain.stream import default_oversample, design_resampler
+        from ..compare.folders import clips_cells
+        from ..compare.page import PageClip, design_values, response_curves
+        from ..report.records import measurements
+        from .clips import render_design
+
+        st = self.settings
+        if self._resampler is None:
+            self._resampler = design_resampler(sample_rate=st.sample_rate, oversample=default_oversample(st.sample_rate))
+        clip = render_design(design, self.dry_path, st, dry=self._dry_for(design), resampler=self._resampler)
+        (resp, passive), = response_curves([design])
+        vfs = self.volts_full_scale or 1.0
+        m = measurements(design, clip.figures, clip.stats, volts_full_scale=vfs)
+        page_clip = PageClip(
+            key=Path(design.source).stem, name=design.name, volts=clip.volts, sample_rate=st.sample_rate,
+            loudness_lufs_1v_full_scale=clip.stats["loudness_lufs_1v_full_scale"], cells=clips_cells(m), values=design_values(design),
+            file=design.source, warnings=tuple(clip.warnings), response=resp, passive=passive,
+        )
+        return clip.volts, page_clip
+
+    def _version(self, slot: _Slot, page_clip, assets, seconds: float) -> _Version:
+        from ..compare.page import finish_entry
+
+        slot.versions += 1
+        return _Version(entry=finish_entry(assets, top_db=self._top_db), wav=assets.copy.wav, number=slot.versions, values=page_clip.values, rendered_s=seconds)
+
+    def start(self) -> Refresh:
+        """Load and render every design (a file that does not load is refused: InputError), then publish."""
+        from threadpoolctl import threadpool_limits
+
+        with threadpool_limits(1):  # one BLAS thread, as every render: the same sums, the same bits as render clips
+            return self._start()
+
+    def _start(self) -> Refresh:
+        from ..compare.page import design_assets, strip_top_db
+        from .clips import choose_full_scale
+
+        t0 = time.perf_counter()
+        for p in self.files:
+            self._input_sha[p] = _sha(p)
+        self._load_rig()
+        self._load_dry()
+        made = []
+        for slot in self.slots:
+            slot.sha256 = self._input_sha[slot.path]
+            slot.design = self._load_design(slot)
+            t = time.perf_counter()
+            volts, page_clip = self._render(slot.design)
+            made.append((slot, volts, page_clip, time.perf_counter() - t))
+        self._notes.prune()
+        peaks = [float(abs(v).max()) if v.size else 0.0 for _, v, _, _ in made]
+        self.volts_full_scale = choose_full_scale(peaks)
+        assets = [design_assets(pc) for _, _, pc, _ in made]
+        self._top_db = strip_top_db([a.levels for a in assets])
+        for (slot, _, page_clip, seconds), a in zip(made, assets):
+            slot.now = self._version(slot, page_clip, a, seconds)
+        self.publish()
+        names = tuple(s.design.name for s in self.slots)
+        took = time.perf_counter() - t0
+        return Refresh(rendered=names, seconds=took, lines=(f"rendered {len(names)} design{'s' if len(names) != 1 else ''} in {took:.2f} s",))
+
+    def refresh(self, paths: Iterable[str | Path]) -> Refresh | None:
+        """Render again what a change of ``paths`` touches; None when none of them is watched or none changed."""
+        from threadpoolctl import threadpool_limits
+
+        with threadpool_limits(1):
+            return self._refresh(paths)
+
+    def _refresh(self, paths: Iterable[str | Path]) -> Refresh | None:
+        from ..compare.page import design_assets
+
+        t0 = time.perf_counter()
+        watched = {p.resolve(): p for p in self.files}
+        hit = {watched[q] for q in (Path(p).resolve() for p in paths) if q in watched}
+        changed = set()
+        for p in hit:
+            sha = _sha(p)
+            if sha != self._input_sha.get(p):
+                self._input_sha[p] = sha
+                changed.add(p)
+        if not changed:
+            return None
+        lines: list[str] = []
+        everything = False
+        for path, load in ((self.rig_path, self._load_rig), (self.dry_path, self._load_dry)):
+            if path is not None and path in changed:
+                try:
+                    load()
+                except InputError as exc:
+                    self._problems[str(path)] = str(exc)
+                    lines.append(f"Error: {exc}; keeping the last good clips")
+                    continue
+                self._problems.pop(str(path), None)
+                everything = True
+        rendered = []  # a rig or phrase that did not load: its last good version plays on, with every design
+        for slot in self.slots:
+            if not (everything or slot.path in changed):
+                continue
+            try:
+                design = self._load_design(slot)
+                if not everything and slot.error is None and replace(design, sha256="") == replace(slot.design, sha256=""):
+                    lines.append(f"{slot.path}: saved; no value changed, version {slot.now.number if slot.now else 0} plays on")
+                    continue
+                t = time.perf_counter()
+                volts, page_clip = self._render(design)
+                assets = design_assets(page_clip)
+                version = self._version(slot, page_clip, assets, time.perf_counter() - t)
+            except InputError as exc:
+                slot.error = str(exc)
+                lines.append(f"Error: {exc}; keeping version {slot.now.number if slot.now else 0}")
+                continue
+            slot.design, slot.error = design, None
+            old = dict(slot.now.values) if slot.now else {}
+            slot.changes = [(k, old[k], v) for k, v in version.values if k in old and old[k] != v]
+            slot.before, slot.now = slot.now, version
+            rendered.append(design.name)
+            what = ", ".join(f"{k} {a} → {b}" for k, a, b in slot.changes[:4]) or ("the dry signal changed" if self.dry_path in changed else "no value changed")
+            lines.append(f"{slot.path}: version {version.number} rendered in {version.rendered_s:.2f} s ({what})")
+        if everything:  # every design played the phrase just now: the terms it did not use are the old phrase's
+            self._notes.prune()
+        self.publish()
+        took = time.perf_counter() - t0
+        return Refresh(rendered=tuple(rendered), problems=tuple(self.problems()), seconds=took, lines=tuple(lines))
+
+    # -- the page ------------------------------------------------------------------
+
+    def problems(self) -> list[str]:
+        """One line per file that does not load or render now (its last good clip still plays)."""
+        return list(self._problems.values()) + [s.error for s in self.slots if s.error]
+
+    def state(self) -> tuple[dict, dict[str, bytes]]:
+        """The page's state (JSON-ready, without its version) and the clips it names (name -> WAV bytes)."""
+        from ..compare.assets import PAGE_SECONDS
+        from ..compare.folders import CLIPS_COLUMNS, CLIPS_NOTES
+
+        designs, clips = [], {}
+        for i, slot in enumerate(self.slots):
+            if slot.now is None:
+                continue
+
+            def shown(v: _Version, i=i) -> dict:
+                name = f"{i}-{v.number}.wav"
+                clips[name] = v.wav
+                return {**v.entry, "clip": f"/clip/{name}", "version": v.number, "rendered_s": round(v.rendered_s, 3)}
+
+            entry = shown(slot.now)
+            entry["before"] = shown(slot.before) if slot.before is not None else None
+            entry["error"] = slot.error
+            entry["changes"] = [list(c) for c in slot.changes]
+            designs.append(entry)
+        st = self.settings
+        rig = str(self.rig_path) if self.rig_path else "each design's own"
+        n = len(self.slots)
+        state = {
+            "format": 1,
+            "live": True,
+            "title": f"render watch: {n} design{'s' if n != 1 else ''}",
+            "lede": f"Watching {', '.join(str(s.path) for s in self.slots)}, the dry signal {self.dry_path} and the rig ({rig}); save a file to hear its new version here. "
+            f"{st.sample_rate} Hz; seed {st.seed}; hum {'on' if st.hum else 'off'}.",
+            "columns": list(CLIPS_COLUMNS),
+            "notes": list(CLIPS_NOTES),
+            "sample_rate": st.sample_rate,
+            "volts_full_scale": self.volts_full_scale,
+            "ceiling_dbtp": -1.0,
+            "page_seconds": PAGE_SECONDS,
+            "bits": 16,
+            "strip_top_db": self._top_db,
+            "problems": self.problems(),
+            "designs": designs,
+        }
+        return state, clips
+
+    def publish(self) -> int:
+        state, clips = self.state()
+        return self.board.publish(state, clips)
+
+    def page(self) -> bytes:
+        """The live page's HTML (its data comes from the server's /api/state)."""
+        from ..compare.page import page_html
+
+        return page_html({"format": 1, "live": True, "title": f"render watch: {len(self.slots)} designs"}, clips_file=None)
+
+
+def follow_changes(run: WatchRun, *, notify: Callable[[str], None], stop=None, step_ms: int = WATCH_STEP_MS, debounce_ms: int = WATCH_DEBOUNCE_MS) -> None:
+    """Watch ``run``'s files and refresh it on every burst of changes, until ``stop`` is set or Ctrl-C.
+
+    ``stop``: anything with ``is_set()`` (a :class:`threading.Event`); the
+    watcher checks it every ``step_ms``. Ctrl-C (and SIGTERM or SIGHUP, which
+    the command turns into a KeyboardInterrupt) raises KeyboardInterrupt
+    here, after the watcher has closed.
+    """
+    from watchfiles import watch
+
+    folders = sorted({str(p.resolve().parent) for p in run.files})
+    targets = {str(p.resolve()) for p in run.files}
+
+    def wanted(change, path: str) -> bool:
+        return str(Path(path).resolve()) in targets
+
+    for changes in watch(*folders, watch_filter=wanted, step=step_ms, debounce=debounce_ms, stop_event=stop, recursive=False, raise_interrupt=True, rust_timeout=1000):
+        result = run.refresh(path for _, path in changes)
+        if result is not None:
+            for line in result.lines:
+                notify(line)

@@ -1,0 +1,341 @@
+"""The comparison page in a real browser: headless Chromium driven by Playwright, opened by ``file://``.
+
+What is measured is sound, not the page's variables: the page renders its
+own playback through an OfflineAudioContext while the test presses its keys
+and clicks its controls (``window.renderComparePage.renderOffline``), and the
+samples it returns are compared with the run's WAV files as written (volts =
+sample × ``volts_full_scale``), read here with libsndfile:
+
+- each stretch of output is a gain times one clip at one lag, found by
+  cross-correlation; the lag must not move by more than 10 ms across switches
+  (it moves by none);
+- the gains, in dB, differ between designs by the JSON's BS.1770-4 loudness
+  differences (``loudness_lufs_1v_full_scale``) within 0.1 dB, and no clip's
+  true peak (ITU-R BS.1770-4 Annex 2, :func:`render.analysis.loudness.true_peak_dbtp`
+  of the WAV) passes −1 dBTP by more than 0.1 dB at the page's gain;
+- with the loudness match off, every clip plays at one gain (its true level).
+
+``render watch`` is checked live: a save swaps the page's clip, and a broken
+file shows its one-line message. The layout is checked at 1280 × 800 and
+390 × 844. Needs Debian's chromium and Playwright for Python (never
+``playwright install``); without them the tests skip, under CI=true they fail.
+
+Run as a script (``python tests/compare/test_browser.py --screenshot PATH``)
+to write the README's screenshot of the demo designs' page.
+"""
+
+from __future__ import annotations
+
+import base64
+import json
+import math
+import sys
+import threading
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+import soundfile as sf
+
+ROOT = Path(__file__).resolve().parents[2]
+if __name__ == "__main__":
+    sys.path[:0] = [str(ROOT), str(ROOT / "tests")]
+
+from tests.listening.test_browser import ARGS, TIMEOUT_MS, _browser_or_skip  # noqa: E402
+
+MODELS = ["studio-reference", "ember-dark", "glasswing-bright", "high-rail-18v"]
+PHRASE = ROOT / "dry_signals" / "chug_riff.toml"
+SECONDS = 2.0  # of the clips
+BROWSER_ARGS = [*ARGS, "--autoplay-policy=no-user-gesture-required"]
+
+
+@pytest.fixture(scope="module")
+def clips_run(tmp_path_factory):
+    """A clips run of four demo designs: (folder, records by key, volts by key, page data)."""
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    out = tmp_path_factory.mktemp("compare") / "run"
+    args = ["clips", *(str(ROOT / "models" / f"{m}.toml") for m in MODELS), "--dry", str(PHRASE), "--seconds", str(SECONDS), "--no-plots", "--out", str(out)]
+    res = CliRunner().invoke(main, args, catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    records = {m: json.loads((out / f"{m}.json").read_text()) for m in MODELS}
+    volts = {m: sf.read(out / f"{m}.wav", dtype="float64")[0] * records[m]["volts_full_scale"] for m in MODELS}
+    return out, records, volts
+
+
+@pytest.fixture(scope="module")
+def chromium():
+    executable = _browser_or_skip()
+    from playwright.sync_api import sync_playwright
+
+    with sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=executable, args=BROWSER_ARGS, headless=True)
+        try:
+            yield browser
+        finally:
+            browser.close()
+
+
+def open_page(browser, url: str, *, width=1280, height=800, begin=True):
+    page = browser.new_page(viewport={"width": width, "height": height})
+    errors: list[str] = []
+    page.on("pageerror", lambda exc: errors.append(str(exc)))
+    page.goto(url)
+    page.wait_for_selector('body[data-phase="caution"]', state="attached", timeout=TIMEOUT_MS)
+    if begin:
+        page.click("#begin")
+        page.wait_for_selector('body[data-phase="ready"]', state="attached", timeout=TIMEOUT_MS)
+    return page, errors
+
+
+def render_offline(page, actions, seconds):
+    """The page's own playback of ``actions`` (its keys and controls), rendered offline: (samples, sample rate)."""
+    res = page.evaluate("plan => window.renderComparePage.renderOffline(plan)", {"seconds": seconds, "actions": actions})
+    return np.frombuffer(base64.b64decode(res["samples"]), dtype="<f4").astype(float), int(res["sampleRate"])
+
+
+def locate(y, x, a, b, lags):
+    """(lag, gain) with y[a:b] ≈ gain · x[a - lag : b - lag], the lag searched over ``lags`` (samples; x repeats)."""
+    from scipy.signal import correlate
+
+    lo, hi = min(lags), max(lags)
+    xx = np.concatenate([x, x, x])
+    n = x.size
+    seg = y[a:b]
+    ref = xx[n + a - hi : n + b - lo]
+    c = correlate(ref, seg, mode="valid")[::-1]  # c[k] = <seg, ref shifted so that the lag is lo + k>
+    energy = np.convolve(ref**2, np.ones(b - a), mode="valid")[::-1]
+    k = int(np.argmax(c / np.sqrt(np.maximum(energy, 1e-300))))
+    lag = lo + k
+    x_at = xx[n + a - lag : n + b - lag]
+    return lag, float(seg @ x_at / (x_at @ x_at))
+
+
+def test_switching_keeps_the_playhead_and_matches_loudness_from_the_json(chromium, clips_run):
+    from render.analysis.loudness import true_peak_dbtp
+
+    out, records, volts = clips_run
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    assert page.get_attribute("body", "data-decoded") == str(len(MODELS))  # every clip decoded
+    assert page.eval_on_selector_all(".row", "rows => rows.map(r => r.dataset.state)") == ["ready"] * len(MODELS)
+    assert page.get_attribute("#volume", "value") == "-20"  # the page starts 20 dB down
+    caution = page.inner_text("#caution") if page.is_visible("#caution") else page.eval_on_selector("#caution", "e => e.textContent")
+    assert "volume" in caution and "down" in caution and "loud" in caution
+
+    # play from the start, then keys 2, 3, 4 and 1, at full volume; the clip repeats after 2 s
+    switches = [(0.55, "2"), (1.05, "3"), (1.55, "4"), (2.30, "1")]
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}] + [{"at": t, "key": k} for t, k in switches], 2.8)
+    windows = [(0.10, 0.50, 0), (0.65, 1.00, 1), (1.15, 1.50, 2), (1.65, 2.25, 3), (2.40, 2.78, 0)]
+    first = None
+    gains = {}
+    for a, b, d in windows:
+        m = MODELS[d]
+        lags = range(0, int(0.2 * fs)) if first is None else range(first - int(0.02 * fs), first + int(0.02 * fs))
+        lag, g = locate(y, volts[m], int(a * fs), int(b * fs), lags)
+        if first is None:
+            first = lag
+        assert abs(lag - first) <= 0.010 * fs, (m, lag, first)  # the playhead moves by less than 10 ms on a switch
+        assert lag == first  # (in fact by no sample at all)
+        gains.setdefault(m, []).append(20 * math.log10(g))
+    assert max(gains[MODELS[0]]) - min(gains[MODELS[0]]) < 0.01  # the same gain again after the repeat
+    loud = {m: records[m]["measurements"]["loudness_lufs_1v_full_scale"] for m in MODELS}
+    ref = MODELS[0]
+    for m in MODELS:
+        # matched: the gain differences are the loudness differences the JSON records
+        assert abs((gains[m][0] - gains[ref][0]) - (loud[ref] - loud[m])) < 0.1, (m, gains[m][0] - gains[ref][0], loud[ref] - loud[m])
+        assert gains[m][0] <= -20 * math.log10(records[m]["volts_full_scale"]) + 0.1  # matching only turns down
+        assert true_peak_dbtp(volts[m]) + gains[m][0] <= -1.0 + 0.1  # no true peak above -1 dBTP
+    assert errors == []
+
+
+def test_true_levels_play_every_clip_at_one_gain_and_show_the_difference(chromium, clips_run):
+    from render.analysis.loudness import true_peak_dbtp
+
+    out, records, volts = clips_run
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    page.click("#matched")  # "same loudness" off
+    assert page.get_attribute("body", "data-matched") == "false"
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}, {"at": 0.6, "key": "4"}, {"at": 1.1, "key": "2"}], 1.6)
+    lag0, g0 = locate(y, volts[MODELS[0]], int(0.1 * fs), int(0.5 * fs), range(0, int(0.2 * fs)))
+    lag3, g3 = locate(y, volts[MODELS[3]], int(0.7 * fs), int(1.05 * fs), range(lag0 - 5, lag0 + 6))
+    lag1, g1 = locate(y, volts[MODELS[1]], int(1.2 * fs), int(1.55 * fs), range(lag0 - 5, lag0 + 6))
+    assert lag0 == lag3 == lag1
+    db = [20 * math.log10(g) for g in (g0, g3, g1)]
+    assert max(db) - min(db) < 0.1  # one gain: the true levels
+    vfs_db = 20 * math.log10(records[MODELS[0]]["volts_full_scale"])
+    top = max(true_peak_dbtp(v) for v in volts.values()) - vfs_db
+    assert abs(db[0] - (-vfs_db - max(0.0, top + 1.0))) < 0.1  # the WAVs' own scale, lowered together only below -1 dBTP
+    # the level difference is shown beside each design, from the JSON's loudness
+    loud = {m: records[m]["measurements"]["loudness_lufs_1v_full_scale"] for m in MODELS}
+    for i, m in enumerate(MODELS[1:], start=1):
+        d = loud[m] - loud[MODELS[0]]
+        text = page.inner_text(f'.row[data-index="{i}"] .level')
+        assert f"{abs(d):.1f} dB {'louder' if d > 0 else 'quieter'} than the reference" in text and "true level" in text, text
+    assert errors == []
+
+
+def test_a_dragged_stretch_repeats_at_the_same_playhead(chromium, clips_run):
+    out, records, volts = clips_run
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    page.keyboard.press("3")
+    box = page.locator("#timeline").bounding_box()
+    y_mid = box["y"] + box["height"] / 2
+    page.mouse.move(box["x"] + 0.25 * box["width"], y_mid)
+    page.mouse.down()
+    page.mouse.move(box["x"] + 0.45 * box["width"], y_mid, steps=5)
+    page.mouse.move(box["x"] + 0.70 * box["width"], y_mid, steps=5)
+    page.mouse.up()
+    a_s, b_s = (float(v) for v in page.get_attribute("body", "data-span").split("-"))
+    px = SECONDS / box["width"]
+    assert abs(a_s - 0.25 * SECONDS) < 2 * px and abs(b_s - 0.70 * SECONDS) < 2 * px
+    assert "Repeating" in page.inner_text("#span-text")
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}], 2.0)
+    x = volts[MODELS[2]]
+    # before the wrap the output is the clip from the stretch's start; after it, the clip one stretch earlier
+    lag1, _ = locate(y, x, int(0.1 * fs), int(0.8 * fs), range(-int(0.8 * fs), int(0.2 * fs)))
+    lag2, _ = locate(y, x, int(1.05 * fs), int(1.85 * fs), range(lag1 + int(0.8 * fs), lag1 + int(1.0 * fs)))
+    assert abs((lag2 - lag1) - round((b_s - a_s) * fs)) <= 1  # the stretch's length, to the sample
+    start = int(np.ceil(0.02 * fs / 128) * 128)  # the play key's render quantum
+    assert abs((start - lag1) / fs - a_s) < 0.04  # it starts at the stretch (within the scheduling lead)
+    assert errors == []
+
+
+def test_a_new_clip_joins_at_the_playhead(chromium, clips_run):
+    """What a new version does in render watch: the clip joins as a new voice mid-play and is heard at once, in step."""
+    out, records, volts = clips_run
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}, {"at": 0.7, "key": "2"}, {"at": 1.2, "rejoin": 0}], 1.8)
+    lag_a, _ = locate(y, volts[MODELS[1]], int(0.8 * fs), int(1.15 * fs), range(0, int(0.2 * fs)))
+    lag_b, g = locate(y, volts[MODELS[0]], int(1.3 * fs), int(1.75 * fs), range(lag_a - int(0.02 * fs), lag_a + int(0.02 * fs)))
+    assert lag_a == lag_b and g > 0
+    assert errors == []
+
+
+def test_keys_pick_up_to_ten_designs_and_long_clips_are_cut(chromium, tmp_path, monkeypatch):
+    import render.compare.page as page_module
+    from render.compare.page import PageClip, PageText, write_page
+
+    monkeypatch.setattr(page_module, "PAGE_SECONDS", 0.75)
+    fs = 16000
+    t = np.arange(fs) / fs
+    tones = [200.0 * (k + 1) for k in range(11)]
+    clips = [PageClip(key=f"tone-{k}", name=f"tone {f:g} Hz", volts=0.2 * np.sin(2 * np.pi * f * t), sample_rate=fs, loudness_lufs_1v_full_scale=-20.0) for k, f in enumerate(tones)]
+    write_page(tmp_path, PageText(title="eleven tones", columns=()), clips, volts_full_scale=0.5)
+    page, errors = open_page(chromium, (tmp_path / "index.html").as_uri())
+    assert page.get_attribute("body", "data-decoded") == "11" and page.get_attribute("body", "data-capped") == "11"
+    assert "cut to their first 0.75 s" in page.inner_text("#copies")
+
+    def heard(actions):
+        y, rate = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}] + actions, 0.6)
+        seg = y[int(0.2 * rate) : int(0.6 * rate)]
+        spectrum = np.abs(np.fft.rfft(seg * np.hanning(seg.size)))
+        return np.fft.rfftfreq(seg.size, 1 / rate)[int(np.argmax(spectrum))]
+
+    assert abs(heard([{"at": 0.05, "key": "0"}]) - tones[9]) < 5  # 0 picks the tenth
+    assert abs(heard([{"at": 0.05, "key": "9"}]) - tones[8]) < 5
+    assert abs(heard([{"at": 0.05, "key": "1"}]) - tones[0]) < 5
+    page.click('.row[data-index="10"] .pick')  # the eleventh by its name
+    assert page.get_attribute("body", "data-picked") == "10"
+    assert errors == []
+
+
+@pytest.mark.parametrize(("width", "height"), [(1280, 800), (390, 844)])
+def test_the_page_lays_out(chromium, clips_run, width, height):
+    out, _, _ = clips_run
+    page, errors = open_page(chromium, (out / "index.html").as_uri(), width=width, height=height)
+    assert page.evaluate("document.documentElement.scrollWidth") <= width  # nothing spills sideways
+    for sel in ("#deck", "#timeline", ".row", ".row .lane", "#responses", "section.summary", "section.values"):  # wide tables scroll inside their boxes
+        box = page.locator(sel).first.bounding_box()
+        assert box is not None and box["width"] > 100 and box["x"] >= 0 and box["x"] + box["width"] <= width + 1, (sel, box)
+    lane = page.locator(".row .lane").first.bounding_box()
+    assert lane["width"] > (0.4 * width if width < 700 else 0.3 * width)  # the strips get room
+    shot = page.screenshot(full_page=True)
+    assert len(shot) > 20000
+    assert errors == []
+
+
+def test_watch_swaps_a_saved_clip_and_shows_a_broken_file(chromium, tmp_path):
+    from render.clip import RenderSettings
+    from render.compare.server import LiveServer
+    from render.runs.watch import WatchRun, follow_changes
+
+    from .test_watch import copy_inputs, set_value
+
+    inputs = copy_inputs(tmp_path)
+    run = WatchRun([inputs["studio-reference"], inputs["ember-dark"]], dry=inputs["phrase"], settings=RenderSettings(seconds=1.0, sample_rate=16000))
+    run.start()
+    server = LiveServer(run.board, page=run.page(), port=0).start_thread()
+    stop = threading.Event()
+    follower = threading.Thread(target=follow_changes, args=(run,), kwargs={"notify": lambda line: None, "stop": stop}, daemon=True)
+    follower.start()
+    try:
+        page, errors = open_page(chromium, server.url)
+        assert page.get_attribute("body", "data-decoded") == "2" and page.get_attribute("body", "data-heard") == "/clip/0-1.wav"
+        page.click("#play")
+        time.sleep(0.3)
+        set_value(inputs["studio-reference"], "load_c", "1n5")
+        page.wait_for_selector('body[data-version="2"][data-swaps="1"]', state="attached", timeout=TIMEOUT_MS)
+        assert page.get_attribute("body", "data-heard") == "/clip/0-2.wav"
+        assert "input_a.load_c 3.9 nF \u2192 1.5 nF" in page.inner_text('.row[data-index="0"] .versions')
+        page.keyboard.press("b")  # the version before
+        assert page.get_attribute("body", "data-heard") == "/clip/0-1.wav"
+        page.keyboard.press("b")
+        assert page.get_attribute("body", "data-heard") == "/clip/0-2.wav"
+        # a broken save: its one line on the page, the last good clip still heard
+        text = inputs["ember-dark"].read_text(encoding="utf-8")
+        inputs["ember-dark"].write_text(text.replace("[output]", "[ouptut]"), encoding="utf-8")
+        page.wait_for_selector('body[data-problems="1"]', state="attached", timeout=TIMEOUT_MS)
+        line = page.inner_text("#problems").strip()
+        assert line == run.problems()[0] and "ouptut" in line and str(inputs["ember-dark"]) in line
+        assert page.inner_text('.row[data-index="1"] .row-error').strip() == line
+        page.keyboard.press("2")
+        assert page.get_attribute("body", "data-heard") == "/clip/1-1.wav"
+        inputs["ember-dark"].write_text(text, encoding="utf-8")
+        page.wait_for_selector('body[data-problems="0"]', state="attached", timeout=TIMEOUT_MS)
+        assert errors == []
+    finally:
+        stop.set()
+        follower.join(timeout=10)
+        server.stop()
+
+
+def save_screenshot(path: Path) -> None:
+    """The README's picture: the demo designs' page at 1280 × 800, a stretch set, the third design heard."""
+    import tempfile
+
+    from click.testing import CliRunner
+    from playwright.sync_api import sync_playwright
+
+    from render.cli import main
+
+    with tempfile.TemporaryDirectory() as tmp:
+        out = Path(tmp) / "run"
+        res = CliRunner().invoke(main, ["clips", "--out", str(out), "--no-plots"], catch_exceptions=False)
+        assert res.exit_code == 0, res.output
+        with sync_playwright() as pw:
+            browser = pw.chromium.launch(executable_path=_browser_or_skip(), args=BROWSER_ARGS, headless=True)
+            page, _ = open_page(browser, (out / "index.html").as_uri())
+            page.keyboard.press("3")
+            box = page.locator("#timeline").bounding_box()
+            page.mouse.move(box["x"] + 0.30 * box["width"], box["y"] + 40)
+            page.mouse.down()
+            page.mouse.move(box["x"] + 0.55 * box["width"], box["y"] + 40, steps=5)
+            page.mouse.up()
+            page.screenshot(path=str(path))
+            browser.close()
+    from PIL import Image
+
+    with Image.open(path) as im:  # fewer colours: a smaller file, the same look
+        im.convert("RGB").quantize(colors=128, method=Image.Quantize.MEDIANCUT).save(path, optimize=True)
+
+
+if __name__ == "__main__" and "--screenshot" in sys.argv:
+    import os
+
+    os.chdir(ROOT)
+    target = Path(sys.argv[sys.argv.index("--screenshot") + 1])
+    save_screenshot(target)
+    print(f"wrote {target} ({target.stat().st_size} bytes)")

@@ -1,0 +1,127 @@
+"""The comparison page a run writes: its two files, what they carry, and that they are the same bytes for the same inputs.
+
+The checks are against the run's own files, read independently: each clip on
+the page decodes (by libsndfile) to its WAV within the copy's 16-bit dither
+(1.5 LSB, as in test_assets), each loudness on the page is the JSON's
+``loudness_lufs_1v_full_scale``, and the page is the same bytes from two
+runs of the same inputs (in one process or two).
+"""
+
+from __future__ import annotations
+
+import base64
+import io
+import json
+import re
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import soundfile as sf
+from click.testing import CliRunner
+
+from render.cli import main
+from render.compare.assets import PCM_FULL_SCALE
+from render.compare.page import CLIPS_FILE, PAGE_FILE, STATIC_NAMES, PageClip, PageText, page_data, page_html
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+DARK = ROOT / "models" / "ember-dark.toml"
+BRIGHT = ROOT / "models" / "glasswing-bright.toml"
+DRY = ROOT / "dry_signals" / "chug_riff.toml"
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+def page_of(folder: Path) -> tuple[dict, dict[str, bytes]]:
+    """(the page's data, key -> WAV bytes of its clips), read from the two files as a browser would find them."""
+    html = (folder / PAGE_FILE).read_text(encoding="utf-8")
+    m = re.search(r'<script type="application/json" id="page-data">(.*?)</script>', html, re.S)
+    data = json.loads(m.group(1))
+    clips = {}
+    for line in (folder / CLIPS_FILE).read_text(encoding="ascii").splitlines():
+        c = re.match(r'window\.renderPageClips\[(".*?")\] = "([A-Za-z0-9+/=]*)";$', line)
+        if c:
+            clips[json.loads(c.group(1))] = base64.b64decode(c.group(2))
+    return data, clips
+
+
+def test_a_clips_run_writes_its_page_and_the_page_holds_every_clip(tmp_path):
+    out = tmp_path / "run"
+    res = run("clips", REF, DARK, BRIGHT, "--dry", DRY, "--seconds", 1.5, "--no-plots", "--out", out)
+    assert res.exit_code == 0, res.output
+    assert (out / PAGE_FILE).is_file() and (out / CLIPS_FILE).is_file() and not (out / "INCOMPLETE.txt").exists()
+    data, clips = page_of(out)
+    assert [d["key"] for d in data["designs"]] == ["studio-reference", "ember-dark", "glasswing-bright"]
+    for d in data["designs"]:
+        rec = json.loads((out / f"{d['key']}.json").read_text())
+        assert d["loudness"] == round(rec["measurements"]["loudness_lufs_1v_full_scale"], 3)
+        assert d["name"] == rec["design"] and d["file"] == rec["design_file"]
+        volts = sf.read(out / f"{d['key']}.wav")[0] * rec["volts_full_scale"]
+        copy, fs = sf.read(io.BytesIO(clips[d["clip"]]), dtype="float64")
+        assert fs == 48000 and copy.size == volts.size
+        assert np.max(np.abs(copy * d["unit_v"] - volts)) <= 1.5 * d["unit_v"] / PCM_FULL_SCALE
+        assert d["strip"].startswith("data:image/png;base64,")
+        assert len(d["cells"]) == len(data["columns"]) and d["values"]
+    assert data["volts_full_scale"] == rec["volts_full_scale"] and data["ceiling_dbtp"] == -1.0
+    html = (out / PAGE_FILE).read_text(encoding="utf-8")
+    assert "http://" not in html.replace("http://www.w3.org/2000/svg", "") and "https://" not in html  # nothing from the network
+    assert "volume" in html and "down" in html and 'value="-20"' in html
+
+
+def test_the_page_is_the_same_bytes_for_the_same_inputs(tmp_path):
+    a, b = tmp_path / "a", tmp_path / "b"
+    assert run("clips", REF, DARK, "--dry", DRY, "--seconds", 1.0, "--no-plots", "--out", a).exit_code == 0
+    assert run("clips", REF, DARK, "--dry", DRY, "--seconds", 1.0, "--no-plots", "--out", b, "--jobs", "2").exit_code == 0
+    for name in (PAGE_FILE, CLIPS_FILE):
+        assert (a / name).read_bytes() == (b / name).read_bytes(), name
+
+
+def test_a_bias_run_writes_a_page_of_its_settings(tmp_path):
+    out = tmp_path / "bias"
+    res = run("bias", REF, "--ratios", "0.3,0.5", "--dry", DRY, "--seconds", 1.0, "--out", out)
+    assert res.exit_code == 0, res.output
+    data, clips = page_of(out)
+    assert [d["key"] for d in data["designs"]] == ["studio-reference-r0p300-9V", "studio-reference-r0p500-9V"]
+    assert set(clips) == {d["clip"] for d in data["designs"]}
+    values = [dict(d["values"]) for d in data["designs"]]
+    assert values[0]["input_b.bias_top"] != values[1]["input_b.bias_top"]  # the setting shows in the values
+    assert not (out / "INCOMPLETE.txt").exists()
+
+
+def test_a_fit_with_render_writes_a_page_in_its_clips_folder(tmp_path):
+    out = tmp_path / "fit"
+    res = run("fit", ROOT / "models" / "fits" / "brighter-reference.toml", "--top", 1, "--render", "--out", out)
+    assert res.exit_code == 0, res.output
+    data, clips = page_of(out / "clips")
+    assert len(data["designs"]) == 2 and len(clips) == 2
+
+
+def test_a_name_cannot_break_out_of_the_page():
+    fs = 8000
+    x = 0.1 * np.sin(2 * np.pi * 440 * np.arange(fs) / fs)
+    evil = '</script><script>alert(1)</script> & "quotes"'
+    clips = [PageClip(key="a", name=evil, volts=x, sample_rate=fs, loudness_lufs_1v_full_scale=-30.0)]
+    data, _ = page_data(PageText(title=evil), clips, volts_full_scale=1.0)
+    html = page_html(data).decode("utf-8")
+    assert "<script>alert(1)" not in html and html.count("</script>") == html.count("<script")
+    m = re.search(r'<script type="application/json" id="page-data">(.*?)</script>', html, re.S)
+    assert json.loads(m.group(1))["designs"][0]["name"] == evil
+
+
+def test_the_page_files_ship_as_package_data(tmp_path):
+    """setuptools' build_py (the build backend's own copy step, as for a wheel) carries the page's files."""
+    source = tmp_path / "source"
+    source.mkdir()
+    for name in ("pyproject.toml", "README.md"):
+        shutil.copy2(ROOT / name, source / name)
+    shutil.copytree(ROOT / "render", source / "render", ignore=shutil.ignore_patterns("__pycache__", "*.pyc"))
+    lib = tmp_path / "lib"
+    build = subprocess.run([sys.executable, "-c", "from setuptools import setup; setup()", "-q", "build_py", "--build-lib", str(lib)], cwd=source, capture_output=True, text=True, timeout=300)
+    assert build.returncode == 0, build.stderr
+    for name in STATIC_NAMES:
+        assert (lib / "render" / "compare" / "static" / name).read_bytes() == (ROOT / "render" / "compare" / "static" / name).read_bytes()

@@ -1,0 +1,228 @@
+"""``render watch``: what a save re-renders, what a broken file shows, the live server, and a clean stop.
+
+The checks are of this project's own contract (README: "Hearing edits as you
+save: render watch"); the clips it serves are checked against the same
+design rendered by ``render.render_clip`` (the render the clips command
+writes), and its files are watched through watchfiles on the real file
+system. No outside numeric source is needed here.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import http.client
+import io
+import json
+import re
+import signal
+import threading
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+import soundfile as sf
+from click.testing import CliRunner
+
+from render.clip import RenderSettings
+from render.compare.server import LiveServer
+from render.runs.watch import WatchRun, follow_changes
+
+ROOT = Path(__file__).resolve().parents[2]
+SETTINGS = RenderSettings(seconds=0.6, sample_rate=16000)
+
+
+def copy_inputs(tmp_path: Path) -> dict[str, Path]:
+    """Editable copies of two demo designs, a phrase and a rig file, in one folder."""
+    paths = {}
+    for name in ("studio-reference", "ember-dark"):
+        paths[name] = tmp_path / f"{name}.toml"
+        paths[name].write_text((ROOT / "models" / f"{name}.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    paths["phrase"] = tmp_path / "phrase.toml"
+    paths["phrase"].write_text((ROOT / "dry_signals" / "chug_riff.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    paths["rig"] = tmp_path / "rig.toml"
+    paths["rig"].write_text('[rig]\ncable_length = "6m"\n', encoding="utf-8")
+    return paths
+
+
+def set_value(path: Path, key: str, value: str) -> None:
+    text = path.read_text(encoding="utf-8")
+    new, n = re.subn(rf'(?m)^{key} = "[^"]*"', f'{key} = "{value}"', text, count=1)
+    assert n == 1, key
+    path.write_text(new, encoding="utf-8")
+
+
+def versions(run: WatchRun) -> list[int]:
+    return [s.now.number for s in run.slots]
+
+
+@pytest.fixture()
+def inputs(tmp_path):
+    return copy_inputs(tmp_path)
+
+
+@pytest.fixture()
+def run(inputs):
+    r = WatchRun([inputs["studio-reference"], inputs["ember-dark"]], dry=inputs["phrase"], rig=inputs["rig"], settings=SETTINGS)
+    r.start()
+    return r
+
+
+def test_a_save_renders_what_it_touches(run, inputs):
+    assert versions(run) == [1, 1] and run.board.version == 1
+    set_value(inputs["studio-reference"], "load_c", "2.2nF")
+    done = run.refresh([inputs["studio-reference"]])
+    assert done.rendered == ("studio-reference",) and versions(run) == [2, 1]
+    slot = run.slots[0]
+    assert slot.before.number == 1 and ("input_a.load_c", "3.9 nF", "2.2 nF") in slot.changes
+    # the clip it serves is the design's render, as the clips command makes it (within the 16-bit copy)
+    from render import load_design, render_clip
+    from render.compare.assets import PCM_FULL_SCALE, decoded
+    from render.design import apply_rig, load_rig
+    from render.dry import load_dry
+
+    design = apply_rig(load_design(inputs["studio-reference"]), load_rig(inputs["rig"]))
+    dry = load_dry(inputs["phrase"], sample_rate=16000, positions=(design.coil_a.position, design.coil_b.position), apertures=(design.coil_a.aperture, design.coil_b.aperture), seconds=0.6)
+    volts = render_clip(design, dry).volts
+    unit = slot.now.entry["unit_v"]
+    assert np.max(np.abs(decoded(slot.now.wav) * unit - volts)) <= 1.5 * unit / PCM_FULL_SCALE
+    # the rig and the phrase touch every design
+    set_value(inputs["rig"], "cable_length", "3m")
+    assert run.refresh([inputs["rig"]]).rendered == ("studio-reference", "ember-dark") and versions(run) == [3, 2]
+    text = inputs["phrase"].read_text(encoding="utf-8")
+    inputs["phrase"].write_text(text.replace("fret = 0", "fret = 1", 1), encoding="utf-8")
+    assert len(run.refresh([inputs["phrase"]]).rendered) == 2 and versions(run) == [4, 3]
+    # an unwatched file, a save of the same bytes, or one that changes no value, renders nothing
+    assert run.refresh([inputs["rig"]]) is None
+    with inputs["ember-dark"].open("a", encoding="utf-8") as fh:
+        fh.write("# a comment\n")
+    done = run.refresh([inputs["ember-dark"]])
+    assert done.rendered == () and versions(run) == [4, 3] and "no value changed" in done.lines[0]
+    assert run.refresh([inputs["rig"].parent / "elsewhere.toml"]) is None
+
+
+def test_a_broken_save_shows_its_line_and_keeps_the_last_good_clip(run, inputs):
+    good = run.slots[1].now
+    text = inputs["ember-dark"].read_text(encoding="utf-8")
+    inputs["ember-dark"].write_text(text.replace("[feedback]", "[feedbak]"), encoding="utf-8")
+    done = run.refresh([inputs["ember-dark"]])
+    assert done.rendered == () and len(done.problems) == 1
+    line = done.problems[0]
+    assert line.startswith(str(inputs["ember-dark"])) and "feedbak" in line and "\n" not in line
+    assert any(x.startswith("Error: ") and "keeping version 1" in x for x in done.lines)
+    assert run.slots[1].now is good and run.slots[1].error == line
+    state = json.loads(run.board.state())
+    assert state["problems"] == [line] and state["designs"][1]["error"] == line and state["designs"][1]["clip"] == "/clip/1-1.wav"
+    # a broken phrase: every design keeps its clip; fixing it renders them all again
+    phrase = inputs["phrase"].read_text(encoding="utf-8")
+    inputs["phrase"].write_text(phrase.replace("[playing]", "[plaing]"), encoding="utf-8")
+    done = run.refresh([inputs["phrase"]])
+    assert done.rendered == () and any("plaing" in p for p in done.problems)
+    inputs["ember-dark"].write_text(text, encoding="utf-8")
+    inputs["phrase"].write_text(phrase, encoding="utf-8")
+    done = run.refresh([inputs["ember-dark"], inputs["phrase"]])
+    assert done.problems == () and set(done.rendered) == {"studio-reference", "ember-dark"}
+    assert json.loads(run.board.state())["problems"] == []
+
+
+def _get(server: LiveServer, path: str, host: str | None = None, method: str = "GET"):
+    conn = http.client.HTTPConnection("127.0.0.1", server.port, timeout=30)
+    try:
+        conn.request(method, path, headers={"Host": host or f"127.0.0.1:{server.port}"})
+        r = conn.getresponse()
+        return r.status, r.getheader("Content-Type"), r.read()
+    finally:
+        conn.close()
+
+
+def test_the_server_serves_the_state_its_clips_and_waits_for_changes(run, inputs):
+    server = LiveServer(run.board, page=run.page(), port=0, wait_s=0.3).start_thread()
+    try:
+        status, ctype, body = _get(server, "/")
+        assert status == 200 and ctype.startswith("text/html") and b'"live":true' in body
+        status, _, body = _get(server, "/api/state")
+        state = json.loads(body)
+        assert status == 200 and state["version"] == 1 and [d["clip"] for d in state["designs"]] == ["/clip/0-1.wav", "/clip/1-1.wav"]
+        status, ctype, body = _get(server, "/clip/0-1.wav")
+        assert status == 200 and ctype == "audio/wav" and sf.info(io.BytesIO(body)).frames == int(0.6 * 16000)
+        assert _get(server, "/clip/0-9.wav")[0] == 404
+        assert _get(server, "/clip/../../etc/passwd")[0] == 404
+        assert _get(server, "/", host="evil.example:80")[0] == 421
+        assert _get(server, "/api/state", method="POST")[0] == 405
+        assert _get(server, "/api/changes?after=1")[0] == 204  # nothing new within wait_s
+        assert _get(server, "/api/changes?after=x")[0] == 400
+        # a request that waits is answered the moment a save publishes
+        got = {}
+        waiter = threading.Thread(target=lambda: got.update(r=_get(server, "/api/changes?after=1")))
+        server.wait_s = 20.0
+        waiter.start()
+        time.sleep(0.2)
+        set_value(inputs["studio-reference"], "load_c", "2.2nF")
+        run.refresh([inputs["studio-reference"]])
+        waiter.join(timeout=20)
+        status, _, body = got["r"]
+        assert status == 200 and json.loads(body)["version"] == 2
+        # and a stop wakes one that is still waiting
+        late = threading.Thread(target=lambda: got.update(late=_get(server, "/api/changes?after=2")))
+        late.start()
+        time.sleep(0.2)
+    finally:
+        server.stop()
+    late.join(timeout=5)
+    assert not late.is_alive() and got["late"][0] in (204, 200)
+    assert not [t for t in threading.enumerate() if t.name.startswith("render-watch")]
+
+
+def test_the_watcher_follows_saves_on_disk(run, inputs):
+    stop = threading.Event()
+    lines: list[str] = []
+    follower = threading.Thread(target=follow_changes, args=(run,), kwargs={"notify": lines.append, "stop": stop}, daemon=True)
+    follower.start()
+    try:
+        time.sleep(0.5)  # the watcher is set up
+        set_value(inputs["ember-dark"], "load_c", "5.6nF")
+        deadline = time.monotonic() + 30
+        while run.board.version < 2 and time.monotonic() < deadline:
+            time.sleep(0.05)
+        assert versions(run) == [1, 2], lines
+        assert any("ember-dark.toml: version 2" in x for x in lines)
+        # an editor's save: write a new file and rename it over the old one
+        tmp = inputs["studio-reference"].with_suffix(".swp")
+        tmp.write_text(inputs["studio-reference"].read_text(encoding="utf-8").replace('load_c = "3n9"', 'load_c = "4n7"', 1), encoding="utf-8")
+        tmp.replace(inputs["studio-reference"])
+        while run.board.version < 3 and time.monotonic() < deadline:
+            time.sleep(0.05)
+        assert versions(run) == [2, 2], lines
+    finally:
+        stop.set()
+        follower.join(timeout=10)
+    assert not follower.is_alive()
+
+
+def test_watch_refuses_a_missing_file_in_one_line(tmp_path):
+    from render.cli import main
+
+    res = CliRunner().invoke(main, ["watch", str(tmp_path / "nope.toml"), "--no-browser"])
+    assert res.exit_code == 1 and res.output.strip().splitlines()[-1].startswith("Error: ") and "nope.toml" in res.output
+    assert CliRunner().invoke(main, ["watch"]).exit_code == 2  # a design is required
+
+
+@pytest.mark.parametrize(("sig", "way"), [(signal.SIGTERM, "parent"), (signal.SIGHUP, "group"), (signal.SIGINT, "group")], ids=["SIGTERM-parent", "SIGHUP-group", "SIGINT-group"])
+def test_a_stopped_watch_leaves_no_process(inputs, sig, way):
+    from tests.robustness.test_stops import GRACE_S, _kill_group, _start, _stop_and_watch
+
+    proc = _start(["watch", inputs["studio-reference"], "--dry", inputs["phrase"], "--seconds", "0.4", "--sample-rate", "16000", "--no-browser"])
+    try:
+        seen = []
+        for line in proc.stdout:
+            seen.append(line)
+            if "serving the comparison page at http://127.0.0.1:" in line:
+                break
+        assert any("serving" in x for x in seen), seen
+        time.sleep(0.3)  # watching
+        left, code, err = _stop_and_watch(proc, sig, way)
+    finally:
+        with contextlib.suppress(Exception):
+            _kill_group(proc.pid)
+    assert not left, f"`render watch` still alive {GRACE_S} s after {sig.name} to the {way}"
+    assert code == 0 and "Traceback" not in err, (code, err)

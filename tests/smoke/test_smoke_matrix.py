@@ -1,0 +1,211 @@
+"""Every command on every shipped design, every phrase, and designs at the edges: no traceback.
+
+A user's first runs must never end in a Python traceback. Each command runs
+here, in one process through click's CliRunner, on
+
+- every design in ``models/`` with the default phrase (``--seconds 2`` where it renders),
+- every phrase and recording in ``dry_signals/`` through ``render clips`` on one design,
+- the edge designs in ``tests/smoke/designs/`` (invented values): matched coils whose
+  hum cancels exactly, both coils at one sensing point, zero aperture, no ``gbw``
+  (an ideal op-amp), an 18 V supply, coil_b wired in reverse, and coil_b wired in
+  reverse at coil_a's point with an ideal op-amp (the string signal cancels exactly).
+
+Each run must exit 0, or 1 with one of the refusals below, whose wording the
+README's refusal table documents; no exception may escape (CliRunner keeps it),
+and no numeric RuntimeWarning (a log of zero, 0/0) may reach the user. Every
+JSON file written must be strict JSON (no NaN or Infinity), and every figure
+written as null must carry its reason beside it (``<key>_reason``), the one
+convention the README documents. Printed output and CSV files must not show
+``nan`` or ``inf``.
+
+The expectations are the README's own contract (no outside source): what a
+command refuses, and how an undefined figure is written.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import warnings
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from render.cli import main
+
+ROOT = Path(__file__).resolve().parents[2]
+SHIPPED = sorted((ROOT / "models").glob("*.toml"))
+EDGES = sorted((Path(__file__).parent / "designs").glob("*.toml"))
+PHRASES = sorted(p for p in (ROOT / "dry_signals").iterdir() if p.suffix in (".toml", ".wav"))
+REFERENCE = ROOT / "models" / "studio-reference.toml"
+FIT = ROOT / "models" / "fits" / "brighter-reference.toml"
+DI = ROOT / "dry_signals" / "last_chord_2s.wav"  # any mono recording serves as a DI here
+
+# (design stem, command) -> the refusal expected, as the README's refusal table words it
+REFUSALS = {
+    ("odd-pair", "fit"): "no design met every aim",  # its mismatch caps the hum rejection below the aim
+    ("edge-reversed-coil", "fit"): "no design met every aim",
+    ("edge-reversed-same-point", "fit"): "no design met every aim",
+    ("edge-reversed-coil", "unvoice"): "its passive reference gives no signal",
+    ("edge-reversed-same-point", "unvoice"): "its passive reference gives no signal",
+    ("edge-reversed-same-point", "bias"): "the two coils cancel the string signal exactly",
+}
+# keys whose null is an undefined figure (the rest are absent parts or unset options: "load_r", "rig", …)
+FIGURE_KEY = re.compile(r"(_db|_hz|_v|_v_rms|_lufs|_lufs_1v_full_scale|^q|^pole_q|^db)$")
+NUMBER_WORDS = re.compile(r"\b(nan|inf|-inf|infinity)\b", re.IGNORECASE)
+
+
+def _refusal_table() -> str:
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    return text[text.index("## Refusals and their fixes") :]
+
+
+def _strict(name):
+    raise ValueError(f"{name} in JSON")
+
+
+def check_json(path: Path) -> list[str]:
+    """Problems with one JSON file: NaN/Infinity, or a null figure without its reason."""
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"), parse_constant=_strict)
+    except ValueError as exc:
+        return [f"{path.name}: {exc}"]
+    problems: list[str] = []
+
+    def walk(x, where):
+        if isinstance(x, dict):
+            for k, v in x.items():
+                if v is None and FIGURE_KEY.search(k) and not isinstance(x.get(f"{k}_reason"), str):
+                    problems.append(f"{path.name}: {where}{k} is null without {k}_reason")
+                walk(v, f"{where}{k}.")
+        elif isinstance(x, list):
+            for v in x:
+                walk(v, where)
+
+    walk(data, "")
+    return problems
+
+
+class Runner:
+    """Runs commands in this process and collects every problem instead of stopping at the first."""
+
+    def __init__(self, design: str):
+        self.design = design
+        self.problems: list[str] = []
+        self.cli = CliRunner()
+
+    def __call__(self, name: str, *args) -> int:
+        argv = [name, *(str(a) for a in args)]
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", RuntimeWarning)  # a numeric warning would reach the user's terminal
+            res = self.cli.invoke(main, argv)
+        shown = f"render {' '.join(argv)}"
+        if res.exception is not None and not isinstance(res.exception, SystemExit):
+            self.problems.append(f"{shown}: raised {type(res.exception).__name__}: {res.exception}")
+            return -1
+        expected = REFUSALS.get((self.design, name))
+        if res.exit_code == 1 and expected:
+            if "Error: " not in res.output or expected not in res.output:
+                self.problems.append(f"{shown}: exit 1 without the expected refusal {expected!r}: {res.output[-300:]}")
+        elif res.exit_code != 0:
+            self.problems.append(f"{shown}: exit code {res.exit_code}: {res.output[-300:]}")
+        elif expected:
+            self.problems.append(f"{shown}: expected the refusal {expected!r}, but it ran")
+        if "Traceback" in res.output or NUMBER_WORDS.search(res.output):
+            self.problems.append(f"{shown}: printed a traceback or a non-finite number: {res.output[-300:]}")
+        return res.exit_code
+
+
+def answer_every_trial(session: Path) -> None:
+    """Answer a built session's trials through the library, as the listening page does."""
+    from render.listening.answers import AnswerLog
+    from render.listening.layout import SessionPaths, load_plan
+
+    paths = SessionPaths(session)
+    plan = load_plan(paths)
+    with AnswerLog(paths, plan) as log:
+        for i in range(len(plan["trials"])):
+            log.record({"trial": i, "answer": "A", "comment": ""})
+
+
+def coil_a_point(design: Path) -> tuple[str, str]:
+    from render.io.toml import loads
+
+    coil = loads(design.read_text(encoding="utf-8"))["coil_a"]
+    return str(coil["position"]), str(coil.get("aperture", "0mm"))
+
+
+@pytest.mark.parametrize("design", SHIPPED + EDGES, ids=lambda p: p.stem)
+def test_every_command_runs_on_the_design(design, tmp_path):
+    run = Runner(design.stem)
+    edge = design in EDGES
+    run("check", design, "--turns-sweep", 5, "--json", tmp_path / "check.json")
+    run("response", design, "--csv", tmp_path / "response.csv", *(["--png", tmp_path / "response.png"] if edge else []))
+    run("noise", design, "--json", tmp_path / "noise.json", *(["--png", tmp_path / "noise.png"] if edge else []))
+    run("hum", design, "--json", tmp_path / "hum.json")
+    run("hum", design, "--tolerance", "1%", "--json", tmp_path / "hum-tolerance.json", "--histogram", tmp_path / "hist.png")
+    if design.stem in ("edge-matched-coils", "edge-reversed-same-point"):  # hum-only renders (3 × 4 s), measured: exact and added hum
+        run("hum", design, "--out", tmp_path / "hum-audio", "--json", tmp_path / "hum-audio.json", "--png", tmp_path / "hum.png")
+    if edge:
+        run("clips", design, "--seconds", 2, "--no-plots", "--no-hum", "--out", tmp_path / "clips-no-hum")
+    run("clips", design, "--seconds", 2, "--no-plots", "--passive", "--noise", "--out", tmp_path / "clips")
+    run("bias", design, "--seconds", 2, "--ratios", "0.3,0.5", "--out", tmp_path / "bias", "--json", tmp_path / "bias.json")
+    position, aperture = coil_a_point(design)
+    run("dry", ROOT / "dry_signals" / "default.toml", "--position", position, "--aperture", aperture, "--seconds", 2, "--no-spectrogram", "--out", tmp_path / "dry.wav")
+    run("fit", FIT, "--from", design, "--top", 1, "--out", tmp_path / "fit")
+    run("unvoice", DI, design, "--no-plot", "--out", tmp_path / "velocity.wav")
+    if run("blind", design, REFERENCE, "--seconds", 2, "--trials", 5, "--out", tmp_path / "blind") == 0:
+        answer_every_trial(tmp_path / "blind")
+        run("score", tmp_path / "blind", "--json", tmp_path / "score.json")
+    for path in sorted(tmp_path.rglob("*.json")):
+        run.problems += check_json(path)
+    for path in sorted(tmp_path.rglob("*.csv")):  # an exactly zero response leaves its cells empty
+        if NUMBER_WORDS.search(path.read_text(encoding="utf-8")):
+            run.problems.append(f"{path.name}: holds nan or inf")
+    assert not run.problems, "\n".join(run.problems)
+
+
+@pytest.mark.parametrize("phrase", PHRASES, ids=lambda p: p.name)
+def test_every_phrase_plays_through_clips(phrase, tmp_path):
+    run = Runner(REFERENCE.stem)
+    run("clips", REFERENCE, "--dry", phrase, "--no-plots", "--out", tmp_path / "clips")
+    run.problems += [p for path in tmp_path.rglob("*.json") for p in check_json(path)]
+    assert not run.problems, "\n".join(run.problems)
+
+
+def test_every_design_together(tmp_path):
+    # one run over all designs, shipped and edge: the overlays, the summary and parallel workers
+    run = Runner("all")
+    every = SHIPPED + EDGES
+    run("check", *every, "--json", tmp_path / "check.json")
+    run("hum", *every, "--png", tmp_path / "hum.png", "--json", tmp_path / "hum.json")
+    run("clips", *every, "--seconds", 2, "--jobs", 2, "--out", tmp_path / "clips")
+    for path in sorted(tmp_path.rglob("*.json")):
+        run.problems += check_json(path)
+    assert not run.problems, "\n".join(run.problems)
+
+
+def test_the_expected_refusals_are_documented():
+    table = _refusal_table()
+    for fragment in set(REFUSALS.values()):
+        assert fragment in table, f"README.md's refusal table does not name {fragment!r}"
+
+
+def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
+    # matched coils: hum cancels exactly (arithmetic: V_A = -V_B); reversed coil at one point: the signal does
+    matched, silent = (Path(__file__).parent / "designs" / f"{n}.toml" for n in ("edge-matched-coils", "edge-reversed-same-point"))
+    cli = CliRunner()
+    res = cli.invoke(main, ["hum", str(matched), "--json", str(tmp_path / "m.json")])
+    assert res.exit_code == 0 and "no hum: the coils cancel exactly" in res.output
+    h = json.loads((tmp_path / "m.json").read_text())
+    assert h["signal_to_hum_db"] is None and h["signal_to_hum_db_reason"] == "no hum: the coils cancel exactly"
+    assert h["harmonics"][0]["rejection_db"] is None and h["harmonics"][0]["rejection_db_reason"].startswith("infinite")
+    res = cli.invoke(main, ["check", str(silent), "--json", str(tmp_path / "s.json")])
+    assert res.exit_code == 0 and "no signal: the coils cancel the string signal exactly" in res.output
+    fig = json.loads((tmp_path / "s.json").read_text())["designs"][0]["figures"]
+    for key in ("level_1k_db", "peak_hz", "q", "gain_vs_passive_db"):
+        assert fig[key] is None and fig[f"{key}_reason"].startswith("no signal"), key
+    res = cli.invoke(main, ["noise", str(silent), "--json", "-"])
+    n = json.loads(res.output)
+    assert n["snr_db"] is None and n["snr_db_reason"].startswith("no signal")
