@@ -30,6 +30,7 @@ COMMANDS = {
     "dry": ("render.cli.dry", "dry_command", "Preview a phrase's string velocity as a WAV."),
     "fit": ("render.cli.fit", "fit_command", "Search buyable part values that meet stated aims."),
     "hum": ("render.cli.hum", "hum_command", "Hum cancellation per mains harmonic, with a tolerance Monte Carlo."),
+    "sense": ("render.cli.sense", "sense_command", "What a design's construction senses: string balance, sensing function, bend dropout, H2/H3."),
     "watch": ("render.cli.watch", "watch_command", "Render designs again as their files are saved, on a comparison page served on 127.0.0.1."),
     "netlist": ("render.cli.netlist", "netlist_command", "Write a design and its rig as a SPICE netlist."),
 }

@@ -18,6 +18,7 @@ from ..errors import InputError
 from ..io.hashing import sha256_bytes
 from ..io.toml import read_toml
 from ..validate import TOP_KEYS, check_document, read_table, where
+from .construction import derive, split_tables
 from .model import Coil, Design, Feedback, Hum, InputNet, Output, Rig, RigFile, Supply, Winding
 from .schema import COIL, COIL_WITH_GEOMETRY, DESIGN_TABLES, HUM, MAX_NAME_CHARS, REQUIRED_TABLES, RIG, WINDING
 
@@ -106,6 +107,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     for t in REQUIRED_TABLES:
         if t not in data:
             raise InputError(f"{source}: missing table [{t}]; every design needs {', '.join('[' + x + ']' for x in REQUIRED_TABLES)}")
+    data, construction = split_tables(data, source=source)
     if "name" in data and (len(data["name"]) > MAX_NAME_CHARS or not data["name"].isprintable()):
         raise InputError(f"{source}: name={U.shown(data['name'])}: expected one line of at most {MAX_NAME_CHARS} printable characters (it heads every report); put the rest in notes")
     tables = {}
@@ -152,7 +154,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
             f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
             f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V; bring the two resistors closer to equal"
         )
-    return design
+    return derive(design, construction)
 
 
 def load_design(path: str | Path) -> Design:

@@ -134,6 +134,7 @@ class Design:
     notes: str = ""
     source: str = ""  # the file it came from, as given
     sha256: str = ""  # of the file's bytes, recorded in every render
+    construction: Any = None  # render.design.construction.PickupBuild, when [construction] is given
 
     @property
     def bias_v(self) -> float:

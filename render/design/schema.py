@@ -15,6 +15,7 @@ from .. import units as U
 from ..circuit.winding import CORE_FACTORS
 from ..errors import InputError
 from ..validate import C_RANGE, R_RANGE, TOP_KEYS, Field
+from .construction import CONSTRUCTION
 from .model import DEFAULT_HARMONICS
 
 __all__ = ["COIL", "COIL_WITH_GEOMETRY", "DESIGN_TABLES", "FEEDBACK", "HUM", "INPUT_A", "INPUT_B", "MAX_NAME_CHARS", "OUTPUT", "REQUIRED_TABLES", "RIG", "SUPPLY", "TOP_KEYS", "WINDING"]
@@ -135,6 +136,7 @@ DESIGN_TABLES = {
     "supply": SUPPLY,
     "rig": RIG,
     "hum": HUM,
+    "construction": CONSTRUCTION,
 }
 REQUIRED_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 MAX_NAME_CHARS = 120  # a design's name heads tables, plots and messages (common practice, no source)

@@ -94,7 +94,7 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
     return dry
 
 
-def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None) -> Dry:
+def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:
     """The string velocity a phrase gives at two sensing points.
 
     Parameters
@@ -110,11 +110,20 @@ def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: 
         The phrase's small per-note variations.
     seconds : float or None, s
         Length (default: the phrase's own).
+    pickup : render.dry.construction.Pickup or None
+        A design's construction (:func:`render.design.construction.pickup_for`):
+        then each coil's EMF from the field solve, in two polarisations and
+        nonlinear (:mod:`render.dry.construction`); positions and apertures are unused.
 
     Returns
     -------
     Dry
     """
+    if pickup is not None:
+        from .construction import pickup_velocity
+
+        v, warnings, info = pickup_velocity(phrase, pickup, sample_rate=sample_rate, seed=seed, seconds=seconds)
+        return Dry(velocity=v, sample_rate=int(sample_rate), warnings=warnings, description=info)
     velocity = string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
     if velocity.shape[0] == 1:
         velocity = np.vstack([velocity, velocity])
@@ -130,6 +139,7 @@ def load_dry(
     seed: int = 0,
     seconds: float | None = None,
     velocity_scale: float = 1.0,
+    pickup=None,
 ) -> Dry:
     """String velocity at two sensing points from a phrase or a recorded file.
 
@@ -142,6 +152,8 @@ def load_dry(
     seed : int, for the phrase's small per-note variations
     seconds : float or None, s; cut or pad with silence to this length (default: the file's own)
     velocity_scale : float, m/s at full scale (used for recorded files)
+    pickup : a design's construction for phrases (see :func:`synthesize`); a
+        recording stays linear: its velocity meets the derived sensitivity
 
     Returns
     -------
@@ -154,7 +166,7 @@ def load_dry(
     """
     p = Path(path)
     if p.suffix.lower() in PHRASE_SUFFIXES:
-        return synthesize(load_phrase(p), positions=positions, apertures=apertures, sample_rate=sample_rate, seed=seed, seconds=seconds)
+        return synthesize(load_phrase(p), positions=positions, apertures=apertures, sample_rate=sample_rate, seed=seed, seconds=seconds, pickup=pickup)
     velocity, warnings = load_recorded(p, sample_rate=sample_rate, velocity_scale=velocity_scale, seconds=seconds)
     if seconds is not None:  # load_recorded has checked it
         n = int(round(seconds * sample_rate))
@@ -165,4 +177,6 @@ def load_dry(
         "seconds": velocity.shape[1] / sample_rate,
         "velocity_scale": float(velocity_scale),
     }
+    if pickup is not None:
+        info["pickup"] = "recorded input: linear (one velocity at the derived sensitivity); the construction's two polarisations and nonlinearity apply to phrases only"
     return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=tuple(warnings), description=info)

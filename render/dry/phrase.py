@@ -69,12 +69,24 @@ INSTRUMENT_KEYS = (
     "curvature_loss",
     "mute_decay",
     "release",
+    "lateral_decay",
+    "polarisation_split",
+    "polarisation_angle",
 )
-PLAYING_KEYS = ("strength", "pluck_at", "mute", "strum", "direction")
-NOTE_KEYS = ("time", "string", "fret", "pitch", "strength", "pluck_at", "mute", "duration", "bend", "vibrato")
-CHORD_KEYS = ("time", "frets", "strum", "direction", "strength", "pluck_at", "mute", "duration")
+PLAYING_KEYS = ("strength", "pluck_at", "mute", "strum", "direction", "angle")
+NOTE_KEYS = ("time", "string", "fret", "pitch", "strength", "pluck_at", "mute", "duration", "bend", "vibrato", "angle")
+CHORD_KEYS = ("time", "frets", "strum", "direction", "strength", "pluck_at", "mute", "duration", "angle")
 BEND_KEYS = ("semitones", "over", "start")
 VIBRATO_KEYS = ("depth_cents", "rate_hz", "start")
+
+# The two polarisations (used with a design's [construction] only): the
+# lateral T60 as a multiple of decay, the frequency split between them, the
+# tilt of their axes from the top, and the pluck's angle from the top
+# (common practice, no source, chosen by ear).
+LATERAL_DECAY_FACTOR = 1.5
+POLARISATION_SPLIT = 1.5  # cents
+POLARISATION_ANGLE = 15.0  # degrees
+PLUCK_ANGLE = 30.0  # degrees
 
 # Defaults for the instrument and for playing (common practice, no source,
 # chosen by ear): they describe a solid-body electric guitar.
@@ -92,6 +104,9 @@ DEFAULTS = MappingProxyType({
     "direction": "down",
     "bend_over": 0.12,  # s
     "vibrato_rate": 5.5,  # Hz
+    "polarisation_split": POLARISATION_SPLIT,
+    "polarisation_angle": POLARISATION_ANGLE,
+    "angle": PLUCK_ANGLE,
 })
 
 
@@ -145,6 +160,9 @@ class Instrument:
     curvature_loss: float
     mute_decay: float
     release: float
+    lateral_decay: float | None = None  # s, T60 of the polarisation along the top (None: decay × its default factor)
+    polarisation_split: float = POLARISATION_SPLIT  # cents between the two polarisations
+    polarisation_angle: float = POLARISATION_ANGLE  # degrees from the top to the slower polarisation's axis
 
     @property
     def strings(self) -> int:
@@ -191,6 +209,7 @@ class Note:
     vibrato: Vibrato | None
     spread: float
     origin: str
+    angle: float = PLUCK_ANGLE  # degrees from the top's plane to the pluck's direction (90: straight up)
 
 
 @dataclass(frozen=True)
@@ -465,6 +484,9 @@ def _parse_instrument(source: str, table: Any) -> Instrument:
     curvature = quantity(where, "curvature_loss", get("curvature_loss", DEFAULTS["curvature_loss"]), RATIO, low=0.0, high=0.1, shown="m²/s")
     mute_decay = quantity(where, "mute_decay", get("mute_decay", DEFAULTS["mute_decay"]), TIME, low=0.005, high=10.0)
     release = quantity(where, "release", get("release", DEFAULTS["release"]), TIME, low=0.005, high=2.0)
+    lateral = quantity(where, "lateral_decay", get("lateral_decay"), TIME, low=0.05, high=60.0) if "lateral_decay" in table else None
+    split = quantity(where, "polarisation_split", get("polarisation_split", DEFAULTS["polarisation_split"]), RATIO, low=0.0, high=50.0, shown="cents")
+    tilt = quantity(where, "polarisation_angle", get("polarisation_angle", DEFAULTS["polarisation_angle"]), RATIO, low=-90.0, high=90.0, shown="degrees")
     return Instrument(
         scale_length=scale,
         concert_a=concert_a,
@@ -474,6 +496,9 @@ def _parse_instrument(source: str, table: Any) -> Instrument:
         curvature_loss=curvature,
         mute_decay=mute_decay,
         release=release,
+        lateral_decay=lateral,
+        polarisation_split=split,
+        polarisation_angle=tilt,
     )
 
 
@@ -484,6 +509,7 @@ class _Playing:
     mute: float
     strum: float
     direction: str
+    angle: float = PLUCK_ANGLE
 
 
 def _strength(where: Where, value: object) -> float:
@@ -496,6 +522,10 @@ def _mute(where: Where, value: object) -> float:
 
 def _strum(where: Where, value: object) -> float:
     return quantity(where, "strum", value, TIME, low=0.0, high=2.0)
+
+
+def _angle(where: Where, value: object) -> float:
+    return quantity(where, "angle", value, RATIO, low=-180.0, high=180.0, shown="degrees", fix="0 plucks along the top, 90 straight up from it")
 
 
 def _direction(where: Where, value: object) -> str:
@@ -521,6 +551,7 @@ def _parse_playing(source: str, table: Any, instrument: Instrument) -> _Playing:
         mute=_mute(where, table.get("mute", DEFAULTS["mute"])),
         strum=_strum(where, table.get("strum", DEFAULTS["strum"])),
         direction=_direction(where, table.get("direction", DEFAULTS["direction"])),
+        angle=_angle(where, table.get("angle", DEFAULTS["angle"])),
     )
 
 
@@ -611,6 +642,7 @@ def _parse_note(where: Where, table: Any, instrument: Instrument, playing: _Play
         vibrato=vibrato,
         spread=0.0,
         origin=where.table,
+        angle=_angle(where, table["angle"]) if "angle" in table else playing.angle,
     )
 
 
@@ -682,6 +714,7 @@ def _parse_chord(where: Where, table: Any, instrument: Instrument, playing: _Pla
     strength = _strength(where, table["strength"]) if "strength" in table else playing.strength
     pluck = _pluck_at(where, table["pluck_at"]) if "pluck_at" in table else playing.pluck_at
     mute = _mute(where, table["mute"]) if "mute" in table else playing.mute
+    angle = _angle(where, table["angle"]) if "angle" in table else playing.angle
     duration = _duration(where, table)
     # Down strokes reach the lowest string first.
     played.sort(key=lambda sf: -sf[0] if direction == "down" else sf[0])
@@ -707,6 +740,7 @@ def _parse_chord(where: Where, table: Any, instrument: Instrument, playing: _Pla
                 vibrato=None,
                 spread=STRUM_SPREAD * gap,
                 origin=where.table,
+                angle=angle,
             )
         )
     return notes

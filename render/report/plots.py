@@ -491,3 +491,44 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
     _fix_title(ax, title or f"rejection of a dipole source (axis z) at {m.frequency_hz[harmonic - 1]:g} Hz")
     fig.subplots_adjust(left=0.09, right=0.92, bottom=0.13, top=0.9)
     return save(fig, path, overwrite=overwrite)
+
+
+def sense_plot(path, record, *, overwrite=False):
+    """``render sense``: string balance, sensing functions, lateral dropout and H2/H3, per coil."""
+    from ..analysis.sense import balance_db
+
+    plt = pyplot()
+    fig, axes = plt.subplots(2, 2, figsize=(10, 7))
+    (ax_bal, ax_along), (ax_lat, ax_h) = axes
+    width = 0.38
+    for k, (name, rows) in enumerate(record["coils"].items()):
+        strings = [r["string"] for r in rows]
+        pos = np.arange(len(rows))
+        ax_bal.bar(pos + (k - 0.5) * width, balance_db(rows), width, color=PALETTE[k], label=name)
+        ax_h.plot(pos, [r["h2_db"] for r in rows], marker="o", color=PALETTE[k], label=f"{name} H2")
+        ax_h.plot(pos, [r["h3_db"] for r in rows], marker="s", ls="--", color=PALETTE[k], label=f"{name} H3")
+        for i, r in enumerate(rows):
+            ax_along.plot(np.asarray(r["along_x_m"]) * 1e3, r["along_weight"], color=PALETTE[i % len(PALETTE)], ls=STYLES[k], lw=1.2, label=f"{name} string {r['string']}" if k == 0 or i == 0 else None)
+            ax_lat.plot(np.asarray(r["lateral_offset_m"]) * 1e3, r["lateral_db"], color=PALETTE[i % len(PALETTE)], ls=STYLES[k], marker="o" if k == 0 else "s", ms=3, label=f"string {r['string']}" if k == 0 else None)
+        for ax in (ax_bal, ax_h):
+            ax.set_xticks(pos, [str(s) for s in strings])
+    ax_bal.set_title("string balance (dB re the loudest string)", fontsize=10)
+    ax_bal.set_xlabel("string")
+    ax_along.set_title("sensing function along the string", fontsize=10)
+    ax_along.set_xlabel("from the bridge saddle (mm)")
+    ax_along.set_ylabel("V·s/m per m")
+    ax_lat.set_title("string pushed towards the treble side (solid: coil_a, dashed: coil_b)", fontsize=10)
+    ax_lat.set_xlabel("offset (mm)")
+    ax_lat.set_ylabel("dB re rest")
+    ax_h.set_title("harmonics of the EMF, 0.5 mm vertical sine", fontsize=10)
+    ax_h.set_xlabel("string")
+    ax_h.set_ylabel("dB re fundamental")
+    for ax in axes.ravel():
+        ax.grid(True, color="#dddddd", linewidth=0.6)
+    ax_bal.legend(fontsize=8, frameon=False)
+    ax_along.legend(fontsize=7, frameon=False, ncol=2)
+    ax_lat.legend(fontsize=7, frameon=False, ncol=2)
+    ax_h.legend(fontsize=7, frameon=False, ncol=2)
+    fig.suptitle(f"{record['design']}: what the construction senses", fontsize=11)
+    fig.subplots_adjust(left=0.08, right=0.98, bottom=0.08, top=0.91, hspace=0.38, wspace=0.22)
+    return save(fig, path, overwrite=overwrite)

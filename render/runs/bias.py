@@ -46,13 +46,14 @@ def phrase_at_strength(dry_path: Path, design, settings, strength_m: float):
     """The dry phrase with every note plucked at ``strength_m`` (m), synthesised at the design's sensing points."""
     from dataclasses import replace
 
+    from ..design.construction import pickup_for
     from ..dry import synthesize
     from ..dry.phrase import load_phrase
 
     p = load_phrase(dry_path)
     p = replace(p, notes=tuple(replace(n, strength=strength_m) for n in p.notes))
     a, b = design.coil_a, design.coil_b
-    return synthesize(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds)
+    return synthesize(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds, pickup=pickup_for(design))
 
 
 def _clip(args: tuple) -> np.ndarray:

@@ -251,6 +251,7 @@ def build_blind_session(
     import secrets
 
     from ..clip import render_clip
+    from ..design.construction import pickup_for
     from ..dry import load_dry
     from ..listening.build import build_session
     from ..listening.loudness import match_loudness
@@ -277,6 +278,7 @@ def build_blind_session(
             apertures=(design.coil_a.aperture, design.coil_b.aperture),
             seed=DRY_SEED,
             seconds=length,
+            pickup=pickup_for(design),
         )
         if dry_description is None:
             warnings.extend(dry.warnings)

@@ -78,6 +78,7 @@ def window_full_scale(designs) -> float:
 
 def dry_for(design: Design, dry_path: Path, settings: RenderSettings) -> Dry:
     """The dry signal at this design's two sensing points."""
+    from ..design.construction import pickup_for
     from ..dry import load_dry
 
     a, b = design.coil_a, design.coil_b
@@ -89,12 +90,14 @@ def dry_for(design: Design, dry_path: Path, settings: RenderSettings) -> Dry:
         seed=settings.seed,
         seconds=settings.seconds,
         velocity_scale=settings.velocity_scale,
+        pickup=pickup_for(design),
     )
 
 
 def sensing_key(design: Design) -> tuple:
-    """What the dry signal depends on in a design: its two sensing points and windows."""
-    return (design.coil_a.position, design.coil_b.position, design.coil_a.aperture, design.coil_b.aperture)
+    """What the dry signal depends on in a design: its two sensing points and windows, and its construction."""
+    c = design.construction
+    return (design.coil_a.position, design.coil_b.position, design.coil_a.aperture, design.coil_b.aperture) + (() if c is None else (c, design.coil_a.hum_polarity, design.coil_b.hum_polarity))
 
 
 LONG_SECONDS = 120.0  # a recorded dry file longer than this is rendered in bounded memory

@@ -165,6 +165,8 @@ class WatchRun:
 
         st = self.settings
         a, b = design.coil_a, design.coil_b
+        if self._phrase is not None and design.construction is not None:
+            return dry_for(design, self.dry_path, st)  # a constructed pickup senses the phrase its own way (render.dry.construction)
         if self._phrase is not None:
             return self._notes.synthesize(self._phrase, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), sample_rate=st.sample_rate, seed=st.seed, seconds=st.seconds)
         key = (self._input_sha.get(self.dry_path, ""), st)

@@ -1,0 +1,60 @@
+"""What a design's construction senses, as a record (``render sense``).
+
+Per coil and per string, with the EMF as it drives the coil's input
+(``hum_polarity``·dΦ/dt, :mod:`render.design.construction`):
+
+- ``string``: as guitarists number them (1 the highest);
+- ``sensitivity_v_s_per_m``: the EMF per m/s when the whole sensed length
+  moves vertically (up positive);
+- ``along_x_m`` and ``along_weight``: the sensing function, at x from the
+  bridge saddle (x_saddle = x + the mean of the two coils' positions), in
+  V·s/m per metre of string;
+- ``lateral_offset_m`` and ``lateral_db``: the vertical sensitivity with
+  the string pushed towards +y (the treble side), dB re rest;
+- ``h2_db`` and ``h3_db``: the 2nd and 3rd harmonics of the EMF for a
+  0.5 mm peak vertical sine, dB re the fundamental.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import InputError
+
+KEYS = ("string", "sensitivity_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db")
+WEIGHT_STEP = 1e-3  # m, the sensing function is reported every millimetre (computed every 0.5 mm)
+
+
+def sense_record(design) -> dict:
+    """The JSON-ready record of ``design``'s construction: {"design", "file", "coils": {coil: [per string]}}."""
+    from ..design.construction import sensing
+
+    result = sensing(design)
+    if result is None:
+        raise InputError(f"{design.source or design.name}: no [construction] table; render sense needs one (see the README's construction section)")
+    coils = {}
+    for name in ("coil_a", "coil_b"):
+        pol = getattr(design, name).hum_polarity
+        rows = []
+        for s in result.coil(name):
+            step = max(1, int(round(WEIGHT_STEP / (s.x[1] - s.x[0]))))
+            rows.append(
+                {
+                    "string": int(s.string),
+                    "sensitivity_v_s_per_m": pol * s.sensitivity_z,
+                    "along_x_m": [float(v) for v in (s.x + result.x_offset)[::step]],
+                    "along_weight": [float(v) for v in (pol * s.along_z)[::step]],
+                    "lateral_offset_m": [float(v) for v in s.lateral],
+                    "lateral_db": [float(v) for v in s.lateral_db],
+                    "h2_db": float(s.h2_db),
+                    "h3_db": float(s.h3_db),
+                }
+            )
+        coils[name] = sorted(rows, key=lambda r: -r["string"])  # lowest string first
+    return {"design": design.name, "file": design.source, "coils": coils}
+
+
+def balance_db(rows: list[dict]) -> np.ndarray:
+    """Each string's output in dB re the loudest string of the coil."""
+    s = np.abs([r["sensitivity_v_s_per_m"] for r in rows])
+    return 20.0 * np.log10(s / s.max())

@@ -1,0 +1,331 @@
+"""A phrase as a constructed pickup senses it: two polarisations, bends, and the nonlinear flux.
+
+Used when a design has ``[construction]`` (:mod:`render.magnetics.sensing`);
+without one, :func:`render.dry.synthesize` is unchanged.
+
+Model, per note (the modes of :mod:`render.dry.modal`: stiff-string
+frequencies, a triangular pluck, losses b1 + b3·(nπ/L)², mutes):
+
+- **Two polarisations.** Each mode moves in two perpendicular directions
+  across the string, the eigen-axes of the bridge's support, tilted by
+  ``polarisation_angle`` from the top. The one nearer the top's plane
+  decays with ``lateral_decay`` (T60 of the lowest modes), the other with
+  ``decay``; their frequencies differ by ``polarisation_split`` cents. A
+  pluck at ``angle`` from the top starts both, each with its share of the
+  displacement; their sum shows the double decay and the beating of guitar
+  plucks (Woodhouse, "On the synthesis of guitar plucks", Acta Acustica
+  united with Acustica 90(5), 928–944, 2004; and "Plucked guitar
+  transients: comparison of measurements and synthesis", same volume,
+  945–965).
+- **What each coil sees.** A mode's coupling to a coil is its shape's
+  projection on the coil's vertical sensing function w(x) (normalised to a
+  unit integral), so the string's displacement "at the pickup" is
+  ū = Σ_n a_n(t)·∫ w(x)·sin(nπx/L) dx, in both directions.
+- **Bends.** A bend pushes the string sideways at the fret until its
+  tension gives the pitch: (f'/f)² − 1 = ΔL/(ε0·L_s), with ε0 the string's
+  strain at pitch (its tension over E·A of the core; the tension from
+  Mersenne's law with the wound string's wrap counted as mass), L_s the
+  scale length (the string slides over the frets) and ΔL ≈ D²/2·(1/L + 1/l)
+  the stretch of the two straight parts, L from the saddle to the fret and l
+  from the fret to the nut. At the pickup the offset is D·x/L. Strings 1 to
+  n/2 are pushed towards the bass side (−y), the others pulled towards the
+  treble side (+y) (common practice, no source). Open strings do not bend
+  sideways.
+- **The EMF**, per coil, as it drives its input: hum_polarity·dΦ/dt with
+  Φ(ū_y, ū_z) the flux linkage of the string displaced rigidly by ū (the
+  construction's table, a bicubic spline), so dΦ/dt = Φ_y·dū_y/dt + Φ_z·dū_z/dt,
+  summed over the strings.
+
+The result is a :class:`~render.dry.Dry` whose rows are each coil's EMF
+divided by that coil's ``signal_polarity``·``sensitivity`` (the derived
+figures of :mod:`render.design.construction`): the rest of the chain
+multiplies them back, so it renders the EMF exactly.
+
+Memory: four samples per coil and string at a time (about 260 MB for a
+10-minute phrase at 48 kHz).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+
+import numpy as np
+from scipy.interpolate import RectBivariateSpline
+
+from ..errors import InputError
+from .modal import (
+    _BLOCK,
+    _DIRECT_SPAN,
+    _FLOOR,
+    _MODE_GROUP,
+    MAX_MODE_HZ,
+    PLUCK_JITTER,
+    STRENGTH_JITTER,
+    T60_FACTOR,
+    _check_rate,
+    _highest_ratio,
+    _note_ends,
+    _sum_blocks,
+    decay_rates,
+    mode_frequencies,
+    mute_rates,
+    pitch_ratio,
+    pluck_amplitudes,
+)
+from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Phrase
+
+# The displacement that looks the flux up is summed over the modes below this
+# frequency only: a mode's displacement falls as 1/n² (a triangular pluck), so
+# above it the modes move the string by under 1e-3 of the fundamental's
+# amplitude, and the flux's curvature over that is negligible; their velocity,
+# which the EMF carries, is summed in full (our own bound, no source).
+DISPLACEMENT_MAX_HZ = 4000.0
+
+__all__ = ["Pickup", "bend_offset", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
+assert _BLOCK > 0  # the block sums of modal.py are shared as they are
+
+
+def string_strain(*, core: float, outer: float, frequency: float, scale_length: float) -> float:
+    """ε0 = T/(E·A_core): the strain of a string tuned to ``frequency`` (Hz) over ``scale_length`` (m).
+
+    The tension T = µ·(2·L·f)² (Mersenne's law) with the linear density µ of
+    the core plus, for a wound string, one layer of round wrap wire of
+    diameter w = (outer − core)/2 laid turn against turn: ρ·π²·w·(core + w)/4
+    per metre. Steel: E = 200 GPa, ρ = 7850 kg/m³ (from memory, as in
+    :mod:`render.dry.phrase`).
+    """
+    w = (outer - core) / 2.0
+    mu = STEEL_DENSITY * (math.pi / 4.0 * core**2 + math.pi**2 * w * (core + w) / 4.0)
+    tension = mu * (2.0 * scale_length * frequency) ** 2
+    return tension / (STEEL_MODULUS * math.pi / 4.0 * core**2)
+
+
+def bend_offset(ratio, *, strain: float, length: float, scale_length: float) -> np.ndarray:
+    """The sideways push D (m) at the fret that raises the pitch by ``ratio`` (≥ 1).
+
+    length : m, saddle to the fret (the vibrating length); scale_length : m
+    From (ratio² − 1) = ΔL/(ε0·L_s), ΔL ≈ D²/2·(1/L + 1/l), l = L_s − L.
+    An open string (l = 0) gives 0.
+    """
+    r = np.maximum(np.asarray(ratio, float), 1.0)
+    rest = scale_length - length
+    if rest <= 1e-6:
+        return np.zeros_like(r)
+    return np.sqrt(2.0 * (r * r - 1.0) * strain * scale_length / (1.0 / length + 1.0 / rest))
+
+
+def mode_couplings(n: np.ndarray, *, x_saddle: np.ndarray, weight: np.ndarray, length: float) -> np.ndarray:
+    """∫ w(x)·sin(nπx/L) dx over the samples (uniform spacing), w normalised to a unit integral: shape (len(n),).
+
+    x_saddle : np.ndarray [shape=(m,)], m from the bridge saddle; weight : np.ndarray [shape=(m,)]
+    Samples at or beyond the stopping fret see no motion.
+    """
+    w = np.where(x_saddle < length, weight, 0.0)
+    total = weight.sum()
+    shapes = np.sin(np.outer(n, np.pi * x_saddle / length))
+    return shapes @ w / total
+
+
+def _weight(sense) -> np.ndarray:
+    """Where a coil sees the string: its vertical sensing function with its sign taken out (the lateral one where it senses no vertical motion)."""
+    if sense.sensitivity_z != 0.0:
+        return sense.along_z * np.sign(sense.sensitivity_z)
+    if sense.sensitivity_y != 0.0:
+        return sense.along_y * np.sign(sense.sensitivity_y)
+    return np.abs(sense.along_z) + np.abs(sense.along_y) + (sense.x == sense.x[np.argmin(np.abs(sense.x))])
+
+
+def _direct(buf, amp, sigma, omega, lives, delta, fs, *, ratio) -> None:
+    """Modes whose frequency moves (a bend or vibrato): Im(A·e^{−σt + iω·τ(t)})·√ratio, τ the integral of the ratio.
+
+    The √ratio is the velocity's amplitude under the adiabatic invariant
+    E/ω of a slowly retuned oscillator, as in :mod:`render.dry.modal`.
+    """
+    span = buf.shape[1]
+    t = (np.arange(span) + delta) / fs
+    tau = np.empty(span)
+    tau[0] = ratio[0] * delta / fs
+    if span > 1:
+        tau[1:] = tau[0] + np.cumsum(0.5 * (ratio[1:] + ratio[:-1])) / fs
+    order = np.argsort(-lives, kind="stable")
+    for g in range(0, order.size, _MODE_GROUP):
+        idx = order[g : g + _MODE_GROUP]
+        for a in range(0, int(lives[idx].max()), _DIRECT_SPAN):
+            sl = slice(a, min(a + _DIRECT_SPAN, int(lives[idx].max())))
+            env = np.exp(np.maximum(-np.outer(sigma[idx], t[sl]), -700.0))
+            ph = np.outer(omega[idx], tau[sl])
+            buf[:, sl] += amp[:, idx].real @ (np.sin(ph) * env) + amp[:, idx].imag @ (np.cos(ph) * env)
+    buf *= np.sqrt(ratio)[None, :]
+
+
+def pickup_emf(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers, sample_rate: int, seed: int = 0, seconds: float | None = None) -> tuple[np.ndarray, tuple[str, ...]]:
+    """Each coil's EMF at its input (V), shape (2, n), and warnings.
+
+    sensing : :class:`render.magnetics.sensing.PickupSensing`
+    hum_polarity : each coil's wiring (+1 or −1)
+    cores, outers : m, the strings' core and outer diameters, lowest first (for bends)
+    """
+    fs = _check_rate(sample_rate)
+    inst = phrase.instrument
+    n_strings = len(sensing.coil_a)
+    if inst.strings != n_strings:
+        raise InputError(f"{phrase.source}: the phrase's instrument has {inst.strings} strings, the design's [construction] {n_strings}; give the construction one string_core per string")
+    total = phrase.seconds if seconds is None else seconds
+    if not (isinstance(total, (int, float)) and math.isfinite(total) and 0 < total <= 3600):
+        raise InputError(f"seconds={total!r}: the length must be > 0 s and <= 3600 s")
+    n_total = int(round(total * fs))
+    notes = phrase.notes
+    rng = np.random.default_rng(int(seed))
+    jitter = rng.uniform(-1.0, 1.0, size=(len(notes), 3))
+    onsets = np.array([max(0.0, n.time + n.spread * jitter[i, 0]) for i, n in enumerate(notes)])
+    ends = _note_ends(notes, onsets)
+    coils = (sensing.coil_a, sensing.coil_b)
+    emf = np.zeros((2, n_total))
+    warnings: list[str] = []
+    for j in range(n_strings):
+        string = n_strings - j
+        mine = [i for i, n in enumerate(notes) if n.string == string and ends[i] > onsets[i]]
+        if not mine:
+            continue
+        chans = np.zeros((2, 4, n_total))  # per coil: ū_y, ū_z, dū_y/dt, dū_z/dt
+        strain = string_strain(core=cores[j], outer=outers[j], frequency=inst.open_pitches[j], scale_length=inst.scale_length)
+        for i in mine:
+            note = notes[i]
+            _add_note(
+                chans, note, inst, coils=[c[j] for c in coils], x_offset=sensing.x_offset, fs=fs, onset=float(onsets[i]), end=float(ends[i]),
+                strength=note.strength * (1.0 + STRENGTH_JITTER * jitter[i, 1]),
+                pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * jitter[i, 2]), 0.999 * note.length),
+                strain=strain, side=-1.0 if string <= n_strings / 2 else 1.0,
+            )
+        for c in (0, 1):
+            s = coils[c][j]
+            spline = RectBivariateSpline(s.dy, s.dz, s.flux, kx=3, ky=3)
+            uy, uz, vy, vz = chans[c]
+            live = np.flatnonzero(np.any(chans[c] != 0.0, axis=0))
+            if live.size == 0:
+                continue
+            y = np.clip(uy[live], s.dy[0], s.dy[-1])
+            z = np.clip(uz[live], s.dz[0], s.dz[-1])
+            if (y != uy[live]).any() or (z != uz[live]).any():
+                warnings.append(
+                    f"string {string}: its displacement at the pickup left the computed range "
+                    f"({s.dy[0] * 1e3:+.1f}…{s.dy[-1] * 1e3:+.1f} mm sideways, {s.dz[0] * 1e3:+.1f}…{s.dz[-1] * 1e3:+.1f} mm vertically); the flux is held at its edge there"
+                )
+            emf[c, live] += hum_polarity[c] * (spline.ev(y, z, dx=1) * vy[live] + spline.ev(y, z, dy=1) * vz[live])
+    return emf, tuple(dict.fromkeys(warnings))
+
+
+def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, strength, pluck_at, strain, side) -> None:
+    """Add one note's displacement and velocity at the pickup, both directions, to ``chans`` (2, 4, n)."""
+    length = note.length
+    b = inst.string_inharmonicity(note.string) * (inst.scale_length / length) ** 2
+    f0 = note.frequency / math.sqrt(1.0 + b)
+    hi_ratio = _highest_ratio(note)
+    limit = min(MAX_MODE_HZ, 0.5 * fs)
+    n = np.arange(1, max(1, int(limit / (f0 * hi_ratio)) + 1) + 1, dtype=float)
+    freqs = mode_frequencies(n, f0=f0, inharmonicity=b)
+    keep = freqs * hi_ratio < limit
+    n, freqs = n[keep], freqs[keep]
+    if n.size == 0:
+        return
+    mute = mute_rates(freqs, mute=note.mute, mute_decay=inst.mute_decay)
+    sig_v = decay_rates(n, length=length, decay=inst.decay, curvature_loss=inst.curvature_loss) + mute
+    lateral = inst.lateral_decay if inst.lateral_decay is not None else inst.decay * LATERAL_DECAY_FACTOR
+    sig_l = decay_rates(n, length=length, decay=lateral, curvature_loss=inst.curvature_loss) + mute
+    split = 2.0 ** (inst.polarisation_split / 1200.0)
+    om = 2.0 * np.pi * freqs
+    om_l, om_v = om / math.sqrt(split), om * math.sqrt(split)
+    a = pluck_amplitudes(n, strength=strength, beta=pluck_at / length)
+    tilt, ang = math.radians(inst.polarisation_angle), math.radians(note.angle)
+    e_l = np.array([math.cos(tilt), math.sin(tilt)])  # (y, z): the axis nearer the top's plane
+    e_v = np.array([-math.sin(tilt), math.cos(tilt)])
+    p = np.array([math.cos(ang), math.sin(ang)])
+    sigma = np.r_[sig_l, sig_v]
+    omega = np.r_[om_l, om_v]
+    # released from rest: displacement Im((σ/ω + i)·e^{st}), velocity Im(−(ω² + σ²)/ω·e^{st})
+    disp = np.r_[a, a] * (sigma / omega + 1j)
+    vel = -np.r_[a, a] * (omega**2 + sigma**2) / omega + 0j
+    amp = np.zeros((8, 2 * n.size), complex)
+    for c, sense in enumerate(coils):
+        k = mode_couplings(n, x_saddle=sense.x + x_offset, weight=_weight(sense), length=length)
+        kk = np.r_[k, k]
+        for d in (0, 1):  # y, z
+            share = np.r_[np.full(n.size, (p @ e_l) * e_l[d]), np.full(n.size, (p @ e_v) * e_v[d])]
+            amp[4 * c + d] = disp * kk * share
+            amp[4 * c + 2 + d] = vel * kk * share
+    sigma_rel = T60_FACTOR / inst.release
+    hold = end - onset
+    life = _FLOOR / sigma
+    if math.isfinite(hold):
+        life = np.minimum(life, hold + _FLOOR / (sigma + sigma_rel))
+    n_total = chans.shape[2]
+    i0 = int(math.ceil(onset * fs - 1e-9))
+    if i0 >= n_total:
+        return
+    delta = i0 - onset * fs
+    span = min(n_total - i0, int(math.ceil(float(life.max()) * fs)) + 1)
+    lives = np.minimum(np.ceil(life * fs).astype(int) + 1, span)
+    buf = np.zeros((8, span))
+    t = (np.arange(span) + delta) / fs
+    disp, vel = np.array([0, 1, 4, 5]), np.array([2, 3, 6, 7])
+    low = np.flatnonzero(omega < 2 * np.pi * DISPLACEMENT_MAX_HZ)  # the displacement's modes (see DISPLACEMENT_MAX_HZ)
+    if note.bend is None and note.vibrato is None:
+        part = np.zeros((4, span))
+        _sum_blocks(part, amp[vel], sigma, omega, lives, delta, fs)
+        buf[vel] = part
+        part = np.zeros((4, span))
+        _sum_blocks(part, amp[disp][:, low], sigma[low], omega[low], lives[low], delta, fs)
+        buf[disp] = part
+    else:
+        ratio = pitch_ratio(t, note=note)
+        part = np.zeros((4, span))
+        _direct(part, amp[vel], sigma, omega, lives, delta, fs, ratio=ratio)
+        buf[vel] = part
+        part = np.zeros((4, span))
+        _direct(part, amp[disp][:, low], sigma[low], omega[low], lives[low], delta, fs, ratio=ratio)
+        buf[disp] = part / ratio  # displacement falls as ratio^(−1/2) where velocity rises as ratio^(1/2)
+    if math.isfinite(hold):
+        buf *= np.exp(-sigma_rel * np.maximum(t - hold, 0.0))
+    if note.bend is not None and note.bend.semitones > 0:
+        ratio = pitch_ratio(t, note=replace(note, vibrato=None))
+        d_fret = bend_offset(ratio, strain=strain, length=length, scale_length=inst.scale_length)
+        for c, sense in enumerate(coils):
+            w = np.clip(_weight(sense), 0.0, None)
+            x_p = float(((sense.x + x_offset) * w).sum() / w.sum())
+            off = side * d_fret * min(x_p / length, 1.0)
+            if math.isfinite(hold):  # the finger lets go as the note is damped
+                off = off * np.exp(-sigma_rel * np.maximum(t - hold, 0.0))
+            buf[4 * c] += off
+            buf[4 * c + 2] += np.gradient(off, 1.0 / fs)
+    chans[:, :, i0 : i0 + span] += buf.reshape(2, 4, span)
+
+
+@dataclass(frozen=True, eq=False)
+class Pickup:
+    """What the dry synthesis needs of a design with a construction.
+
+    sensing : :class:`render.magnetics.sensing.PickupSensing`
+    hum_polarity : (coil_a, coil_b), the wiring
+    gain : (coil_a, coil_b), V·s/m, each coil's signal_polarity·sensitivity (the chain multiplies by it)
+    cores, outers : m, the strings' core and outer diameters, lowest first
+    """
+
+    sensing: object
+    hum_polarity: tuple
+    gain: tuple
+    cores: tuple
+    outers: tuple
+
+
+def pickup_velocity(phrase: Phrase, pickup: Pickup, *, sample_rate: int, seed: int = 0, seconds: float | None = None) -> tuple[np.ndarray, tuple[str, ...], dict]:
+    """The phrase as the constructed pickup's coils sense it: each coil's EMF over its gain (m/s), shape (2, n); warnings; a description."""
+    from .phrase import describe
+
+    emf, warnings = pickup_emf(phrase, pickup.sensing, hum_polarity=pickup.hum_polarity, cores=pickup.cores, outers=pickup.outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    velocity = emf / np.asarray(pickup.gain, float)[:, None]
+    info = describe(phrase) | {
+        "seed": int(seed),
+        "pickup": "construction: two polarisations, the sensing function and the nonlinear flux of the field solve; rows are each coil's EMF over its signal_polarity·sensitivity",
+    }
+    return velocity, warnings, info

@@ -1,0 +1,246 @@
+"""A pickup's construction: its magnets, its steel and the strings above them.
+
+Three arrangements (the pickup's axes: :mod:`render.magnetics`):
+
+- ``magnet-blades``: a bar magnet stands inside each coil, magnetised along
+  z (coil_a's south pole up, coil_b's north pole up);
+- ``steel-blades``: a steel blade stands inside each coil, on a bar magnet
+  lying under both coils, magnetised along x with its north pole under
+  coil_b;
+- ``steel-poles``: a row of steel screws stands inside each coil, on the
+  same bar magnet.
+
+So coil_b's field is reversed, as in every humbucker. With these poles a
+string moving up raises the flux linkage of coil_a's turns (counter-clockwise
+seen from +z): with ``hum_polarity`` +1 its EMF is positive, which matches
+the default ``signal_polarity`` of +1 for coil_a and −1 for coil_b of designs
+without a construction. The pole pieces'
+(blades', screws', standing magnets') top faces sit at z = ``top`` (0 unless
+given); a bar magnet under the coils touches the steel's bottom faces, and
+is centred under the pickup. A screw is modelled as a square steel prism of
+the screw's cross-section (side d·√π/2): the cells of the solver
+(:mod:`.steel`) are boxes, and at the strings' height the shape of a 4 mm
+pole's corners changes the field by far less than the screw's thread and
+slot do (our estimate, no source).
+
+The strings run along x, their spread centred on y = 0, lowest string at
+−y (the bass side). Their magnetic cross-section is the core plus a share
+of the wrap (:data:`WRAP_SHARE`).
+
+Documented defaults:
+
+- :data:`STEEL_PERMEABILITY` µr = 100 for the blades and screws, the value
+  of :data:`render.impedance.materials.STEEL` (from memory: the incremental
+  permeability of low-carbon steel at a magnet's bias scatters from about
+  50 to several hundred);
+- :data:`STRING_PERMEABILITY` µr = 100 for the strings' steel (from memory:
+  cold-drawn high-carbon music wire; the transverse magnetisation barely
+  depends on it, see :mod:`.strings`);
+- :data:`WRAP_SHARE` 0.5 of a wound string's wrap annulus counts as
+  magnetic (our estimate, no source: round wrap wire fills π/4 of its
+  annulus, and the gaps between its turns break the magnetic path along
+  the string).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from dataclasses import asdict, dataclass
+
+import numpy as np
+
+from ..errors import InputError
+from ..impedance.materials import STEEL
+from .coil import CoilGeometry
+from .magnets import GRADES
+from .steel import Part
+
+KINDS = ("magnet-blades", "steel-blades", "steel-poles")
+STEEL_PERMEABILITY = STEEL.relative_permeability
+STRING_PERMEABILITY = 100.0
+WRAP_SHARE = 0.5
+CLEARANCE = 1.0e-3  # m, the least gap between a string at rest and the pole pieces' tops
+MODEL_VERSION = 1  # bump when the model's numbers change, so cached results are recomputed
+
+# Cell sizes of the solve (m): finer near the top faces, where the strings look.
+TOP_SLAB = 3e-3  # height of the finely cut top slab of each pole piece
+CELL_TOP = (1.25e-3, 2e-3, 0.75e-3)  # x, y, z in the top slab
+CELL_BODY = (2.5e-3, 4e-3, 2.5e-3)  # below it, and in the bar magnet
+
+
+@dataclass(frozen=True)
+class Strings:
+    """The strings over the pickup, lowest first, in SI units.
+
+    cores : m, magnetic core diameters
+    outers : m, outer diameters (equal to the core for a plain string)
+    spacing : m, centre to centre at the pickup
+    heights : m, gap between the coils' top faces (z = 0) and each string's underside at rest
+    wrap_share : 0..1, share of a wound string's wrap counted as magnetic
+    permeability : µr of the strings' steel
+    """
+
+    cores: tuple
+    outers: tuple
+    spacing: float
+    heights: tuple
+    wrap_share: float = WRAP_SHARE
+    permeability: float = STRING_PERMEABILITY
+
+    @property
+    def count(self) -> int:
+        return len(self.cores)
+
+    @property
+    def y(self) -> np.ndarray:
+        """Each string's place across the pickup (m), lowest first: the spread centred on y = 0."""
+        n = self.count
+        return (np.arange(n) - (n - 1) / 2.0) * self.spacing
+
+    def axis_z(self) -> np.ndarray:
+        """Each string's axis height (m): its gap above z = 0 plus half its outer diameter."""
+        return np.asarray(self.heights) + np.asarray(self.outers) / 2.0
+
+    def areas(self) -> np.ndarray:
+        """Magnetic cross-sections (m²): core plus ``wrap_share`` of the wrap's annulus."""
+        from .strings import magnetic_area
+
+        return np.array([magnetic_area(c, o, self.wrap_share) for c, o in zip(self.cores, self.outers)])
+
+
+@dataclass(frozen=True)
+class Construction:
+    """Magnets, steel and strings of a pickup, in SI units.
+
+    kind : one of :data:`KINDS`
+    magnet : (width along x, length along y, height along z), m
+    remanence : T, the magnets' remanent polarisation
+    magnet_permeability : the magnets' recoil µr
+    grade : the grade the remanence came from, or None
+    steel : (width along x, length along y, height along z), m, a blade; for
+        screws the first is the diameter (and the second is ignored); None for magnet-blades
+    poles : number of screws per coil (steel-poles), else 0
+    pole_spacing : m, centre to centre (steel-poles), else 0
+    steel_permeability : µr of the blades and screws
+    top : m, z of the pole pieces' top faces
+    strings : :class:`Strings`
+    """
+
+    kind: str
+    magnet: tuple
+    remanence: float
+    magnet_permeability: float
+    strings: Strings
+    grade: str | None = None
+    steel: tuple | None = None
+    poles: int = 0
+    pole_spacing: float = 0.0
+    steel_permeability: float = STEEL_PERMEABILITY
+    top: float = 0.0
+
+    def __post_init__(self):
+        if self.kind not in KINDS:
+            raise InputError(f"[construction] kind={self.kind!r}: expected one of {', '.join(repr(k) for k in KINDS)}")
+        if self.kind == "magnet-blades" and self.steel is not None:
+            raise InputError("[construction]: magnet-blades has no steel pieces; leave out steel_width, steel_length and steel_height")
+        if self.kind != "magnet-blades" and self.steel is None:
+            raise InputError(f"[construction] kind={self.kind!r}: give the steel's size (steel_width, steel_height{', steel_length' if self.kind == 'steel-blades' else ''})")
+        if self.kind == "steel-poles" and (self.poles < 1 or self.pole_spacing <= 0):
+            raise InputError("[construction]: steel-poles needs a number of poles and their spacing")
+        low = [i for i, h in enumerate(self.strings.heights) if h < max(self.top, 0.0) + CLEARANCE]
+        if low:
+            i = low[0]
+            raise InputError(
+                f"[construction] string_height: string {self.strings.count - i} sits {self.strings.heights[i] * 1e3:.3g} mm above the coils' top faces, "
+                f"less than {CLEARANCE * 1e3:g} mm above the pole pieces (top={self.top * 1e3:.3g} mm) and the coils; raise the strings or lower the poles"
+            )
+
+    # --- identity -------------------------------------------------------------
+    def digest(self, *coils) -> str:
+        """A hash of everything the field solve depends on: the construction, the coils given and the model version."""
+        record = {"construction": asdict(self), "coils": [_coil_record(c) for c in coils], "model": MODEL_VERSION}
+        return hashlib.sha256(json.dumps(record, sort_keys=True, default=float).encode()).hexdigest()
+
+    # --- the parts --------------------------------------------------------------
+    def parts(self, centre_a, centre_b, geometry_a: CoilGeometry, geometry_b: CoilGeometry, *, refine: float = 1.0) -> tuple[Part, ...]:
+        """The magnets and steel as blocks to solve, for coils centred at ``centre_a`` and ``centre_b`` (m).
+
+        refine : multiplies the number of cells along each side (convergence checks)
+        """
+        xa, xb = float(centre_a[0]), float(centre_b[0])
+        north = 1.0 if xb > xa else -1.0  # the bar magnet's north pole under coil_b
+        out: list[Part] = []
+        chi_m = self.magnet_permeability - 1.0
+        chi_s = self.steel_permeability - 1.0
+        for name, x0, geom, up in (("coil_a", xa, geometry_a, -1.0), ("coil_b", xb, geometry_b, 1.0)):
+            if self.kind == "magnet-blades":
+                w, length, h = self.magnet
+                _fits(name, geom, w, length)
+                out += _stack(f"{name} magnet", x0, 0.0, w, length, self.top, h, chi_m, (0.0, 0.0, up * self.remanence), refine)
+            elif self.kind == "steel-blades":
+                assert self.steel is not None
+                w, length, h = self.steel
+                _fits(name, geom, w, length)
+                out += _stack(f"{name} blade", x0, 0.0, w, length, self.top, h, chi_s, (0.0, 0.0, 0.0), refine)
+            else:
+                assert self.steel is not None
+                d, _, h = self.steel
+                side = d * math.sqrt(math.pi) / 2.0
+                span = (self.poles - 1) * self.pole_spacing + side
+                _fits(name, geom, side, span)
+                for i in range(self.poles):
+                    y = (i - (self.poles - 1) / 2.0) * self.pole_spacing
+                    out += _stack(f"{name} pole {i + 1}", x0, y, side, side, self.top, h, chi_s, (0.0, 0.0, 0.0), refine)
+        if self.kind != "magnet-blades":
+            assert self.steel is not None
+            w, length, h = self.magnet
+            z_top = self.top - self.steel[2]
+            cells = _count((w, length, h), CELL_BODY, refine)
+            out.append(Part("bar magnet", (-w / 2, -length / 2, z_top - h), (w / 2, length / 2, z_top), chi_m, (north * self.remanence, 0.0, 0.0), cells))
+        return tuple(out)
+
+
+def _coil_record(c) -> object:
+    if isinstance(c, CoilGeometry):
+        return {f: getattr(c, f) for f in ("turns", "length", "width", "window_length", "window_width", "height")}
+    return c
+
+
+def _fits(name: str, geom: CoilGeometry, width: float, length: float) -> None:
+    """Refuse a pole piece that does not fit in the coil's window."""
+    if width > geom.window_width * (1 + 1e-9) or length > geom.window_length * (1 + 1e-9):
+        raise InputError(
+            f"[construction]: the pole pieces ({width * 1e3:.3g} mm along the string × {length * 1e3:.3g} mm across) do not fit in "
+            f"{name}'s window ({geom.window_width * 1e3:.3g} × {geom.window_length * 1e3:.3g} mm); make them smaller or the window larger"
+        )
+
+
+def _count(size, cell, refine: float) -> tuple:
+    return tuple(max(1, int(math.ceil(s / c * refine - 1e-9))) for s, c in zip(size, cell))
+
+
+def _stack(name, x0, y0, w, length, top, h, chi, remanence, refine) -> list[Part]:
+    """A pole piece standing with its top face at ``top``: a finely cut top slab over a coarser body."""
+    slab = min(h, TOP_SLAB)
+    parts = [
+        Part(f"{name} top", (x0 - w / 2, y0 - length / 2, top - slab), (x0 + w / 2, y0 + length / 2, top), chi, remanence, _count((w, length, slab), CELL_TOP, refine)),
+    ]
+    if h > slab * (1 + 1e-9):
+        parts.append(
+            Part(f"{name} body", (x0 - w / 2, y0 - length / 2, top - h), (x0 + w / 2, y0 + length / 2, top - slab), chi, remanence, _count((w, length, h - slab), CELL_BODY, refine))
+        )
+    return parts
+
+
+def magnet_figures(grade: str | None, remanence: float | None, permeability: float | None) -> tuple[float, float]:
+    """(remanence T, recoil µr) from a grade and/or given values; the given ones win."""
+    if grade is not None and grade not in GRADES:
+        raise InputError(f"[construction] magnet_grade={grade!r}: expected one of {', '.join(repr(g) for g in GRADES)}, or give remanence")
+    g = GRADES.get(grade) if grade else None
+    if remanence is None and g is None:
+        raise InputError("[construction]: give magnet_grade (e.g. \"ceramic8\") or remanence (e.g. \"0.39T\")")
+    br = remanence if remanence is not None else g.remanence  # type: ignore[union-attr]
+    mu = permeability if permeability is not None else (g.recoil_permeability if g else 1.05)
+    return float(br), float(mu)

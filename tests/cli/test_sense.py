@@ -1,0 +1,63 @@
+"""`render sense` through click's CliRunner: the JSON's keys, the plot, the refusals."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from render.cli import main
+
+ROOT = Path(__file__).resolve().parents[2]
+POLES = ROOT / "models" / "slipway-steel-poles.toml"
+KEYS = {"string", "sensitivity_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db"}
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+@pytest.fixture(autouse=True)
+def _needs_the_solver():
+    pytest.importorskip("magpylib", reason="magpylib not installed")
+    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+
+
+def test_json_has_the_keys_per_coil_and_string(tmp_path):
+    out, png = tmp_path / "s.json", tmp_path / "s.png"
+    res = run("sense", POLES, "--json", out, "--png", png)
+    assert res.exit_code == 0, res.output
+    rec = json.loads(out.read_text())
+    assert set(rec["coils"]) == {"coil_a", "coil_b"}
+    for rows in rec["coils"].values():
+        assert [r["string"] for r in rows] == [6, 5, 4, 3, 2, 1]  # lowest first, numbered as guitarists do
+        for r in rows:
+            assert set(r) == KEYS
+            assert len(r["along_x_m"]) == len(r["along_weight"]) and len(r["lateral_offset_m"]) == len(r["lateral_db"])
+            assert r["lateral_offset_m"][0] == 0.0 and r["lateral_db"][0] == 0.0 and abs(r["lateral_offset_m"][-1] - 0.006) < 1e-12
+    # x from the bridge saddle: the coils sit at 38 and 56 mm, so the sensing runs around them
+    xs = rec["coils"]["coil_a"][0]["along_x_m"]
+    assert xs[0] < 0.038 < xs[-1]
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert "string" in res.output and "H2" in res.output
+
+
+def test_json_to_stdout_prints_nothing_else():
+    res = run("sense", POLES, "--json", "-")
+    assert res.exit_code == 0
+    assert json.loads(res.output)["design"] == "slipway-steel-poles"
+
+
+def test_a_design_without_construction_is_refused():
+    res = CliRunner().invoke(main, ["sense", str(ROOT / "models" / "studio-reference.toml")])
+    assert res.exit_code == 1
+    assert "no [construction] table" in res.output and res.output.count("\n") == 1
+
+
+def test_existing_output_is_refused_before_work(tmp_path):
+    out = tmp_path / "s.json"
+    out.write_text("{}")
+    res = CliRunner().invoke(main, ["sense", str(POLES), "--json", str(out)])
+    assert res.exit_code == 1 and "--overwrite" in res.output

@@ -1,0 +1,196 @@
+"""A phrase through a constructed pickup: two polarisations, bends, and the nonlinear flux."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+import numpy as np
+import pytest
+
+from render.dry import synthesize
+from render.dry.construction import Pickup, bend_offset, mode_couplings, pickup_emf, string_strain
+from render.dry.modal import aperture_weights, position_weights, string_velocity
+from render.dry.phrase import STEEL_DENSITY, STEEL_MODULUS, parse_phrase
+from render.magnetics.sensing import PickupSensing, StringSensing
+
+MM = 1e-3
+FS = 48000
+
+
+def _sensing(*, sz=0.03, sy=0.0, quad=0.0, x0=0.04, width=0.008, strings=6) -> PickupSensing:
+    """A made-up pickup: a rectangular sensing window at ``x0`` (m from the saddle) and a flux
+    table Φ = sz·dz + sy·dy + quad·dz², the same for every string and both coils."""
+    step = 0.05 * MM
+    x = (np.arange(-600, 600) + 0.5) * step  # the window's edges fall between samples
+    w = np.where(np.abs(x) < width / 2, 1.0, 0.0)
+    w = w / (w.sum() * step)
+    dy = np.linspace(-8 * MM, 8 * MM, 33)
+    dz = np.linspace(-1.5 * MM, 2.0 * MM, 15)
+    flux = sz * dz[None, :] + sy * dy[:, None] + quad * dz[None, :] ** 2
+
+    def one(i):
+        return StringSensing(
+            string=strings - i, y=0.0, z=3 * MM, x=x, along_z=sz * w, along_y=sy * w, sensitivity_z=sz, sensitivity_y=sy,
+            lateral=np.zeros(1), lateral_sensitivity=np.full(1, sz), dy=dy, dz=dz, flux=flux, h2_db=-99.0, h3_db=-99.0,
+        )
+
+    coil = tuple(one(i) for i in range(strings))
+    return PickupSensing(coil_a=coil, coil_b=coil, positions=(x0, x0), digest="test")
+
+
+def _phrase(extra_instrument="", note="", playing=""):
+    text = {
+        "instrument": {"scale_length": "648mm", **extra_instrument} if isinstance(extra_instrument, dict) else {"scale_length": "648mm"},
+        "playing": {"strength": "0.8mm", "pluck_at": "110mm", **(playing or {})},
+        "note": [{"time": 0.0, "string": 3, "fret": 5, **(note or {})}],
+        "seconds": 1.0,
+    }
+    return parse_phrase(text, source="<test>")
+
+
+CORES = (0.44 * MM, 0.41 * MM, 0.36 * MM, 0.43 * MM, 0.33 * MM, 0.25 * MM)
+OUTERS = (1.17 * MM, 0.91 * MM, 0.66 * MM, 0.43 * MM, 0.33 * MM, 0.25 * MM)
+
+
+def test_rectangular_window_couples_as_the_old_sinc():
+    # A rectangular sensing function of width W at x0 projects a mode sin(nπx/L) onto
+    # sin(nπx0/L)·sinc(nW/2L): the old model's window (render.dry.modal, its own closed form).
+    n = np.arange(1, 40)
+    length, x0, width, step = 0.648, 0.04, 0.008, 1e-5
+    x = np.arange(x0 - width / 2 + step / 2, x0 + width / 2, step)
+    got = mode_couplings(n, x_saddle=x, weight=np.ones_like(x), length=length)
+    ref = position_weights(n, position=x0, length=length) * aperture_weights(n, aperture=width, length=length)
+    np.testing.assert_allclose(got, ref, atol=1e-6)
+
+
+def test_plain_string_strain_is_mersenne_over_hooke():
+    # A plain steel string: T = ρ·(π/4)d²·(2Lf)² (Mersenne's law) and ε = T/(E·(π/4)d²), so
+    # ε = ρ·(2Lf)²/E whatever its diameter (steel ρ and E as in render.dry.phrase, from memory).
+    for d in (0.25 * MM, 0.43 * MM):
+        assert string_strain(core=d, outer=d, frequency=329.63, scale_length=0.648) == pytest.approx(STEEL_DENSITY * (2 * 0.648 * 329.63) ** 2 / STEEL_MODULUS, rel=1e-12)
+    # a wound string carries its wrap as mass: more strain on the same core
+    assert string_strain(core=0.44 * MM, outer=1.17 * MM, frequency=82.4, scale_length=0.648) > string_strain(core=0.44 * MM, outer=0.44 * MM, frequency=82.4, scale_length=0.648)
+
+
+def test_bend_offset_stretches_the_string_to_its_pitch():
+    # The push D found for a bend must stretch the two straight parts by ΔL with
+    # (f'/f)² − 1 = ΔL/(ε0·L_s) (tension ∝ stretch, Hooke; pitch ∝ √tension, Mersenne).
+    # Exact stretch √(L² + D²) − L + √(l² + D²) − l against the small-angle solution: within 0.1 %.
+    eps = string_strain(core=0.25 * MM, outer=0.25 * MM, frequency=329.63, scale_length=0.648)
+    length = 0.648 / 2  # fretted at the 12th fret
+    for semis in (0.5, 1.0, 2.0):
+        r = 2 ** (semis / 12)
+        d = float(bend_offset(r, strain=eps, length=length, scale_length=0.648))
+        rest = 0.648 - length
+        stretch = math.hypot(length, d) - length + math.hypot(rest, d) - rest
+        assert stretch == pytest.approx((r * r - 1) * eps * 0.648, rel=1e-3)
+    assert float(bend_offset(2 ** (2 / 12), strain=eps, length=0.648, scale_length=0.648)) == 0.0  # an open string
+
+
+def test_vertical_linear_pickup_gives_the_old_synthesis():
+    # With the pluck straight up (angle 90), the polarisations untilted and unsplit, no lateral
+    # sensitivity and a flat flux table, the EMF is sensitivity × the vertical velocity: the old
+    # one-polarisation synthesis through the same rectangular window (render.dry.modal).
+    ph = _phrase(extra_instrument={"polarisation_split": 0, "polarisation_angle": 0}, playing={"angle": 90})
+    sens = _sensing(sz=0.03)
+    emf, warnings = pickup_emf(ph, sens, cores=CORES, outers=OUTERS, sample_rate=FS)
+    old = string_velocity(ph, sample_rate=FS, positions=[0.04], apertures=[0.008], seed=0)[0]
+    assert not warnings
+    np.testing.assert_allclose(emf[0], 0.03 * old, atol=2e-3 * np.abs(0.03 * old).max())
+    np.testing.assert_allclose(emf[1], emf[0])
+
+
+def test_two_polarisations_decay_each_at_their_own_rate():
+    # Woodhouse, Acta Acustica united with Acustica 90, 2004: the polarisation along the top decays
+    # slower. Sensing only vertical motion, then only lateral motion, of a 45° pluck with untilted
+    # axes: the lateral EMF keeps more of its start after 0.6 s, by about the ratio of the decays.
+    ph = _phrase(extra_instrument={"decay": 2.0, "lateral_decay": 4.0, "polarisation_split": 0, "polarisation_angle": 0}, playing={"angle": 45})
+    vert, _ = pickup_emf(ph, _sensing(sz=0.03), cores=CORES, outers=OUTERS, sample_rate=FS)
+    lat, _ = pickup_emf(ph, _sensing(sz=0.0, sy=0.03), cores=CORES, outers=OUTERS, sample_rate=FS)
+
+    def drop_db(e):
+        a, b = e[0, 2400:7200], e[0, 31200:36000]  # 50–150 ms and 650–750 ms
+        return 20 * np.log10(np.sqrt((b**2).mean() / (a**2).mean()))
+
+    # T60 of the lowest modes 2 s and 4 s: −18 dB and −9 dB over 0.6 s for the fundamental; the
+    # higher modes fall faster in both, by the same curvature loss
+    assert drop_db(lat) > drop_db(vert) + 5.0
+    np.testing.assert_allclose(np.abs(vert[0, :2400]).max(), np.abs(lat[0, :2400]).max(), rtol=0.05)  # a 45° pluck: equal shares
+
+
+def test_tilted_axes_make_the_vertical_signal_beat():
+    # A 45° pluck, axes tilted 30°, polarisations 20 cents apart: the vertical motion is the sum of
+    # two components of nearby frequency, so its level swings (Woodhouse 2004). Without the split
+    # the two move as one and it decays smoothly; with it, its envelope over the first second
+    # rises again somewhere.
+    def envelope(split):
+        ph = _phrase(extra_instrument={"decay": 8.0, "lateral_decay": 8.0, "polarisation_split": split, "polarisation_angle": 30}, playing={"angle": 45})
+        e, _ = pickup_emf(ph, _sensing(sz=0.03), cores=CORES, outers=OUTERS, sample_rate=FS)
+        return np.sqrt((e[0, : 20 * 2400].reshape(20, 2400) ** 2).mean(axis=1))  # 50 ms frames
+
+    def rise(env):
+        return float(np.max(np.diff(env[5:]) / env[5:-1]))
+
+    smooth, beating = envelope(0.0), envelope(20.0)
+    assert rise(smooth) < 0.02  # 50 ms frames of a decaying note: never up by 2 %
+    assert rise(beating) > 0.1
+
+
+def test_emf_is_the_rate_of_the_nonlinear_flux():
+    # Φ(dz) = s·dz + q·dz²: the EMF must be dΦ/dt of the string's actual displacement (chain
+    # rule in the synthesis), so it carries a 2nd harmonic; against a numerical derivative of
+    # the chain rule written out, s·v + 2q·u·v, with v the linear case's EMF/s and u its time
+    # integral (trapezoids, started from the pluck's own offset so that the string swings about rest).
+    ph = _phrase(extra_instrument={"polarisation_split": 0, "polarisation_angle": 0}, playing={"angle": 90, "strength": "1.5mm"})
+    s, q = 0.03, 8.0
+    lin, _ = pickup_emf(ph, _sensing(sz=s), cores=CORES, outers=OUTERS, sample_rate=FS)
+    non, _ = pickup_emf(ph, _sensing(sz=s, quad=q), cores=CORES, outers=OUTERS, sample_rate=FS)
+    v = lin[0] / s
+    u = np.r_[0.0, np.cumsum((v[1:] + v[:-1]) / 2)] / FS
+    u = u - u[FS // 2 :].mean()
+    ref = s * v + 2 * q * u * v
+    assert np.abs(non[0] - ref).max() < 0.01 * np.abs(ref).max()
+    assert np.abs(non[0] - lin[0]).max() > 0.02 * np.abs(lin[0]).max()  # and the nonlinearity shows
+
+
+def test_without_a_pickup_synthesis_is_unchanged():
+    ph = _phrase()
+    a = synthesize(ph, positions=(0.038, 0.056), apertures=(0.008, 0.008), sample_rate=FS)
+    b = synthesize(ph, positions=(0.038, 0.056), apertures=(0.008, 0.008), sample_rate=FS, pickup=None)
+    assert a.velocity.tobytes() == b.velocity.tobytes()
+
+
+def test_pickup_dry_divides_by_the_coils_gain():
+    ph = _phrase()
+    sens = _sensing(sz=0.03)
+    pk = Pickup(sensing=sens, hum_polarity=(1, -1), gain=(0.02, -0.05), cores=CORES, outers=OUTERS)
+    dry = synthesize(ph, positions=(0.04, 0.04), apertures=(0.0, 0.0), sample_rate=FS, pickup=pk)
+    emf, _ = pickup_emf(ph, sens, hum_polarity=(1, -1), cores=CORES, outers=OUTERS, sample_rate=FS)
+    np.testing.assert_allclose(dry.velocity[0] * 0.02, emf[0])
+    np.testing.assert_allclose(dry.velocity[1] * -0.05, emf[1])
+    assert "pickup" in dry.description
+
+
+def test_a_phrase_with_other_string_counts_is_refused():
+    from render.errors import InputError
+
+    ph = _phrase()
+    with pytest.raises(InputError, match="strings"):
+        pickup_emf(ph, _sensing(strings=7), cores=CORES + (0.5 * MM,), outers=OUTERS + (0.5 * MM,), sample_rate=FS)
+
+
+def test_bent_string_leaves_and_returns():
+    # A held two-semitone bend on string 3 moves it sideways at the pickup by the geometry's
+    # amount (towards −y: strings 1–3 are pushed towards the bass side); with a lateral
+    # sensitivity, its EMF carries the push's rate while the note sounds.
+    ph = _phrase(note={"fret": 7, "bend": {"semitones": 2, "over": "0.2s", "start": "0.1s"}, "duration": "0.8s"})
+    e_lat, _ = pickup_emf(ph, _sensing(sz=0.0, sy=0.03), cores=CORES, outers=OUTERS, sample_rate=FS)
+    ph_flat = replace(ph, notes=tuple(replace(n, bend=None) for n in ph.notes))
+    e_flat, _ = pickup_emf(ph_flat, _sensing(sz=0.0, sy=0.03), cores=CORES, outers=OUTERS, sample_rate=FS)
+    push = np.cumsum(e_lat[0] - e_flat[0]) / FS / 0.03  # the lateral offset the bend added (m)
+    note = ph.notes[0]
+    eps = string_strain(core=CORES[3], outer=OUTERS[3], frequency=ph.instrument.open_pitches[3], scale_length=0.648)
+    at_fret = float(bend_offset(2 ** (2 / 12), strain=eps, length=note.length, scale_length=0.648))
+    expect = -at_fret * 0.04 / note.length  # x_pickup / L of the triangle
+    assert push[int(0.5 * FS)] == pytest.approx(expect, rel=0.02)

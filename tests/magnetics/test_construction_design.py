@@ -1,0 +1,82 @@
+"""The [construction] table of a design file: what it derives, and what it refuses."""
+
+from __future__ import annotations
+
+import copy
+from pathlib import Path
+
+import numpy as np
+import pytest
+from magnetics.reference import require_magpylib
+
+from render.design import load_design, parse_design
+from render.design.construction import sensing
+from render.errors import InputError
+from render.io.toml import read_toml
+
+ROOT = Path(__file__).resolve().parents[2]
+DEMO = ROOT / "models" / "slipway-steel-poles.toml"
+
+
+def _doc():
+    data, _ = read_toml(DEMO)
+    return data
+
+
+def _refused(data, match):
+    with pytest.raises(InputError, match=match) as info:
+        parse_design(data, source="x.toml")
+    assert "\n" not in str(info.value)  # one line
+
+
+def test_demo_derives_sensitivity_polarity_and_aperture():
+    require_magpylib()
+    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    d = load_design(DEMO)
+    r = sensing(d)
+    assert d.construction is not None and r is not None
+    for name in ("coil_a", "coil_b"):
+        c = getattr(d, name)
+        s = np.array([x.sensitivity_z for x in r.coil(name)])
+        assert c.sensitivity == pytest.approx(np.abs(s).mean())  # the mean over the strings (render.design.construction)
+        assert c.signal_polarity == int(np.sign(c.hum_polarity * s.sum()))
+        assert 0.0 < c.aperture < 0.05
+        # the geometry's sum of turns' areas, N·[W_w·L_w + (W_w·ΔL + L_w·ΔW)/2 + ΔW·ΔL/3] (render.magnetics.coil)
+        ww, wl, dw, dl = 4.6e-3, 58e-3, 9.4e-3, 10e-3
+        assert c.turns_area == pytest.approx(1200 * (ww * wl + (ww * dl + wl * dw) / 2 + dw * dl / 3), rel=1e-12)
+    # the demo's poles: coil_a's flux rises with an upward string (render.magnetics.construction), as the
+    # default polarities of designs without a construction have it
+    assert (d.coil_a.signal_polarity, d.coil_b.signal_polarity) == (1, -1)
+
+
+def test_designs_without_a_construction_are_unchanged():
+    d = load_design(ROOT / "models" / "studio-reference.toml")
+    assert d.construction is None and sensing(d) is None
+    assert d.coil_a.sensitivity == 0.045  # as typed in the file
+
+
+@pytest.mark.parametrize(
+    "change, match",
+    [
+        (lambda t: t["coil_a"].update(signal_polarity=1), "derived"),
+        (lambda t: t["coil_b"].update(sensitivity=0.04), "derived"),
+        (lambda t: t["coil_a"].update(aperture="8mm"), "derived"),
+        (lambda t: t["coil_a"].pop("geometry"), r"needs \[coil_a.geometry\]"),
+        (lambda t: t["construction"].update(kind="steel-rods"), "expected one of"),
+        (lambda t: t["construction"].update(magnet_grade="unobtanium"), "expected one of"),
+        (lambda t: t["construction"].pop("steel_width"), "needs steel_width"),
+        (lambda t: t["construction"].update(steel_length="50mm"), "steel_length given for steel-poles"),
+        (lambda t: t["construction"].update(string_diameters=["1mm"]), "1 values for 6 string_cores"),
+        (lambda t: t["construction"].update(string_height=["3mm", "3mm"]), "2 values for 6 strings"),
+        (lambda t: t["construction"].update(string_height="0.5mm"), "raise the strings"),
+        (lambda t: t["construction"].update(string_diameters=["0.3mm"] * 6), "smaller than its core"),
+        (lambda t: t["construction"].update(steel_width="8mm"), "do not fit"),
+        (lambda t: t["construction"].update(kind="magnet-blades"), "magnet-blades has no steel"),
+        (lambda t: (t["construction"].pop("magnet_grade"), None), "give magnet_grade"),
+        (lambda t: t["construction"].update(colour="blue"), "unknown key"),
+    ],
+)
+def test_refusals_are_one_line(change, match):
+    data = copy.deepcopy(_doc())
+    change(data)
+    _refused(data, match)
