@@ -17,3 +17,8 @@ class InputError(ValueError):
     def __str__(self) -> str:
         text = super().__str__()
         return text.replace("\r", "\\r").replace("\n", "\\n")
+
+
+class SkippedDesign(UserWarning):
+    """A design left out of a default set (every ``models/*.toml``) that this installation cannot
+    render; the CLI shows it as one ``warning:`` line. Named designs are refused instead."""

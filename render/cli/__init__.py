@@ -98,6 +98,21 @@ def main():
     """
 
 
+def _show_warnings_as_lines() -> None:
+    """The library's :class:`render.errors.SkippedDesign` warnings as one ``warning:`` line each."""
+    import warnings
+
+    from ..errors import SkippedDesign
+
+    def show(message, category, filename, lineno, file=None, line=None):
+        if issubclass(category, SkippedDesign):
+            click.echo(f"warning: {message}", err=True)
+        else:
+            sys.stderr.write(warnings.formatwarning(message, category, filename, lineno, line))
+
+    warnings.showwarning = show
+
+
 def run():
     """The ``render`` program (console script and ``python -m render``): :func:`main`, then exit.
 
@@ -111,6 +126,7 @@ def run():
 
     signal.signal(signal.SIGTERM, _stop)
     signal.signal(signal.SIGHUP, _stop)
+    _show_warnings_as_lines()
     try:
         main()
     except SystemExit as exc:

@@ -191,8 +191,26 @@ def load_designs(paths=None, *, rig: str | Path | None = None, models: Path = MO
         paths = sorted(models.glob("*.toml"))
         if not paths:
             raise InputError(f"{models}/: no *.toml design files here; pass design files or run from the project folder")
+        paths = [p for p in paths if _renderable_here(p)]
     rig_file = load_rig(rig) if rig else None
     return [apply_rig(load_design(p), rig_file) for p in paths], rig_file
+
+
+def _renderable_here(path: Path) -> bool:
+    """False, with a :class:`SkippedDesign` warning, for a design with ``[construction]`` where the
+    magnetics packages are missing (Python 3.10): the default set then renders the rest."""
+    import importlib.util
+    import warnings
+
+    from ..errors import SkippedDesign
+
+    if importlib.util.find_spec("magpylib_material_response") is not None:
+        return True
+    data, _ = read_toml(path)
+    if "construction" not in data:
+        return True
+    warnings.warn(f"{path}: skipped: [construction] needs magpylib and magpylib-material-response (Python 3.11 or later)", SkippedDesign, stacklevel=3)
+    return False
 
 
 def apply_rig(design: Design, rig_file: RigFile | None) -> Design:

@@ -80,3 +80,27 @@ def test_refusals_are_one_line(change, match):
     data = copy.deepcopy(_doc())
     change(data)
     _refused(data, match)
+
+
+def test_the_default_set_skips_constructions_where_the_magnetics_packages_are_missing(monkeypatch, tmp_path):
+    # Python 3.10 has no magpylib-material-response: `render clips` with no designs named renders
+    # the rest and says which it left out (a named design is refused instead)
+    import importlib.util
+    import shutil
+    import warnings
+
+    from render.design.loading import load_designs
+    from render.errors import SkippedDesign
+
+    models = tmp_path / "models"
+    models.mkdir()
+    root = Path(__file__).resolve().parents[2] / "models"
+    for name in ("studio-reference.toml", "slipway-steel-poles.toml"):
+        shutil.copy(root / name, models / name)
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec", lambda name, *a: None if name == "magpylib_material_response" else real(name, *a))
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        designs, _ = load_designs(models=models)
+    assert [d.name for d in designs] == ["studio-reference"]
+    assert [str(w.message) for w in caught if w.category is SkippedDesign] == [f"{models / 'slipway-steel-poles.toml'}: skipped: [construction] needs magpylib and magpylib-material-response (Python 3.11 or later)"]
