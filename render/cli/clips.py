@@ -70,7 +70,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     if compared is not None:
         from ..runs.compare_clip import compare_stem, write_compare_clip
 
-        rec = write_compare_clip(compared, dry, settings, out, volts_full_scale=run.volts_full_scale)
+        rec = write_compare_clip(compared, dry, settings, out, volts_full_scale=run.volts_full_scale, plots=plots)
         if rec["peak_v"] > run.volts_full_scale:
             warn(f"{compared.name}: peak above the {run.volts_full_scale:g} V full scale; the float WAV keeps those samples, but many players clip them")
         from ..analysis.undefined import shown

@@ -38,8 +38,11 @@ def render_compare(p: PassiveDesign, dry: Path, settings: RenderSettings) -> tup
     return volts, fs, tuple(signal.warnings)
 
 
-def write_compare_clip(p: PassiveDesign, dry: Path, settings: RenderSettings, out: Path, *, volts_full_scale: float) -> dict:
-    """Render ``p`` into ``out``/<stem>.wav (at ``volts_full_scale``) and <stem>.json; returns the record."""
+def write_compare_clip(p: PassiveDesign, dry: Path, settings: RenderSettings, out: Path, *, volts_full_scale: float, plots: bool = True) -> dict:
+    """Render ``p`` into ``out``/<stem>.wav (at ``volts_full_scale``) and <stem>.json, with plots <stem>-response.png; returns the record.
+
+    A line for it is added at the end of the run's summary.md, when there is one.
+    """
     from ..analysis.loudness import integrated_loudness
     from ..io.atomic import write_json
     from ..io.wav import write_float_wav
@@ -63,4 +66,19 @@ def write_compare_clip(p: PassiveDesign, dry: Path, settings: RenderSettings, ou
     U.put(rec, "loudness_lufs_1v_full_scale", integrated_loudness(volts, sample_rate=fs), U.SILENT)
     write_float_wav(out / f"{stem}.wav", volts / volts_full_scale, fs, overwrite=True)
     write_json(out / f"{stem}.json", rec, overwrite=True)
+    if plots:
+        from ..analysis.comparison import compare_response
+        from ..report.clips import velocity_curves
+        from ..report.plots import response_plot
+
+        f = velocity_curves([carrier(p)])[0]
+        response_plot(out / f"{stem}-response.png", f, [(f"{p.name} (passive, compared)", compare_response(p, f))], title=f"{p.name}: string velocity to amp input", overwrite=True)
+    summary = out / "summary.md"
+    if summary.exists():
+        from ..io.atomic import write_text
+
+        loud = U.shown(rec, "loudness_lufs_1v_full_scale", ".1f", " LUFS")
+        line = (f"\nComparison pickup (passive, `--compare`): **{p.name}** ({p.source}) in `{stem}.wav`, at the same full scale:"
+                f" peak {peak:.3g} V at the amp input, loudness {loud} at 1 V full scale.\n")
+        write_text(summary, summary.read_text(encoding="utf-8") + line, overwrite=True)
     return rec
