@@ -91,8 +91,7 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, co
 
             write_text(csv_path, text, overwrite=overwrite)
     if png_path:
-        from ..report.plots import response_plot
-
         from ..report.compare import compare_curves
+        from ..report.plots import response_plot
 
         response_plot(png_path, f, [(d.name, h), *compare_curves(compared.design if compared else None, f)], passive=("passive reference", hp), title=f"{d.name}: string velocity to amp input", overwrite=overwrite)
