@@ -6,6 +6,7 @@ import click
 
 from ..design import load_designs
 from ..io.folders import refuse_existing as check_new
+from .compare_print import compare_option
 from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 
@@ -77,10 +78,11 @@ def print_geometry(name, c):
 @click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
 @rig_option
 @click.option("--turns-sweep", "turns_percent", type=click.FloatRange(min=0.1, max=50), default=None, help="Also print what ±PERCENT turns on coil_b alone, and on both coils, does to L, R, resonance and hum rejection.")
+@compare_option
 @json_option()
 @overwrite_option
 @friendly
-def check_command(models, rig_path, turns_percent, json_path, overwrite):
+def check_command(models, rig_path, turns_percent, compare_path, json_path, overwrite):
     """Validate design files and print the derived values.
 
     MODELS are design files (default: every models/*.toml). Prints, per
@@ -93,6 +95,9 @@ def check_command(models, rig_path, turns_percent, json_path, overwrite):
     check_new([json_path], overwrite=overwrite)
     designs, _ = load_designs(models, rig=rig_path)
     records = check_designs(designs, turns_percent=turns_percent)
+    from .compare_print import comparison_of, echo, figure_lines, load_compare
+
+    compared = comparison_of(load_compare(compare_path, rig_path))
     if json_path != "-":
         for i, (d, rec) in enumerate(zip(designs, records)):
             if i:
@@ -103,5 +108,8 @@ def check_command(models, rig_path, turns_percent, json_path, overwrite):
                 print_geometry(name, getattr(d, name))
             if turns_percent:
                 print_turns(rec["turns_sweep"], turns_percent)
+        if compared is not None:
+            click.echo()
+            echo(figure_lines(compared, [(r["design"], r["figures"]["level_1k_db"]) for r in records]))
     if json_path:
-        emit_json(json_path, {"designs": records}, overwrite=overwrite)
+        emit_json(json_path, {"designs": records, **({"compare": compared.as_dict()} if compared is not None else {})}, overwrite=overwrite)

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import click
 
+from .compare_print import compare_option
 from .options import friendly, jobs_option, overwrite_option, rig_option, sample_rate_option, warn
 
 CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
@@ -31,8 +32,9 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 @click.option("--volts-full-scale", type=click.FloatRange(min=1e-3, max=100, min_open=True), default=None, help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).")
 @jobs_option("Render designs in this many processes (default: one per core; results identical to one).", default=None)
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
+@compare_option
 @friendly
-def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, volts_full_scale, jobs, plots):
+def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, volts_full_scale, jobs, plots, compare_path=None):
     """Render one clip per design (default: every models/*.toml).
 
     Every design plays the same dry signal into the same rig, and every WAV
@@ -50,6 +52,11 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     designs, rig = load_designs(models, rig=rig_path)
     if len({Path(d.source).stem for d in designs}) != len(designs):
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
+    from .compare_print import load_compare
+
+    compared = load_compare(compare_path, rig_path)
+    if compared is not None and Path(compared.source).stem in {Path(d.source).stem for d in designs}:
+        raise InputError(f"--compare {compare_path}: a design file has the same name; their clips would overwrite each other: rename one")
     out = output_folder(out_dir, overwrite=overwrite)
     if from_di:
         from ..runs.unvoice import velocity_from_di
@@ -59,10 +66,19 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         report_from_di(made)
         dry = made.wav
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise)
-    render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale)
+    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale)
+    if compared is not None:
+        from ..runs.compare_clip import compare_stem, write_compare_clip
+
+        rec = write_compare_clip(compared, dry, settings, out, volts_full_scale=run.volts_full_scale, plots=plots)
+        if rec["peak_v"] > run.volts_full_scale:
+            warn(f"{compared.name}: peak above the {run.volts_full_scale:g} V full scale; the float WAV keeps those samples, but many players clip them")
+        from ..analysis.undefined import shown
+
+        click.echo(f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {shown(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale")
 
 
-def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None) -> None:
+def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None):
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
 
@@ -81,3 +97,4 @@ def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots
     else:
         click.echo(f"{n} clip{plural} written to {out}/ (full scale {run.volts_full_scale:g} V; summary in {out / 'summary.md'})")
     click.echo(CAUTION)
+    return run

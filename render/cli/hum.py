@@ -6,6 +6,7 @@ import contextlib
 
 import click
 
+from .compare_print import compare_option
 from .hum_print import print_audio, print_monte_carlo, print_report, room, warnings
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
 
@@ -45,10 +46,11 @@ def _percent(text, name):
 @click.option("--positions", type=click.IntRange(min=10, max=1_000_000), default=None, help="Monte Carlo over N random dipole sources: places uniform in a shell, axes uniform.")
 @click.option("--shell", nargs=2, default=None, metavar="INNER OUTER", help="The random sources' shell, e.g. 0.3m 2m (the default).")
 @click.option("--joint", is_flag=True, help="With --positions: draw the part tolerances (options above, else their defaults) with each place.")
+@compare_option
 @overwrite_option
 @friendly
 def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, jobs, json_path, png_path, out_dir, hist_path,
-                map_on, map_plane, map_png, positions, shell, joint, overwrite):
+                map_on, map_plane, map_png, positions, shell, joint, overwrite, compare_path=None):
     """Hum cancellation of each MODEL with its own coils, per mains harmonic.
 
     The rejection at a frequency is 20·log10(max(|V_A|,|V_B|)/|V_A+V_B|), V_A
@@ -77,6 +79,10 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
     if hist_path and not tol:
         raise InputError("--histogram needs a Monte Carlo: add --tolerance (e.g. --tolerance 1%)")
     designs, _ = load_designs(models, rig=rig_path)
+    from ..analysis.one_scale import design_one_scale
+    from .compare_print import comparison_of, echo, hum_lines, load_compare, scale_lines
+
+    compared = comparison_of(load_compare(compare_path, rig_path))
     folder = output_folder(out_dir, overwrite=overwrite) if out_dir else None
     with run_folder(folder) if folder is not None else contextlib.nullcontext(None) as out:
         show = json_path != "-"
@@ -89,6 +95,10 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
                 if i:
                     click.echo()
                 print_report(d, r)
+            scales = [*design_one_scale(d), *([compared.scale] if compared else [])]
+            rec["hum_and_noise"] = [s.as_dict() for s in scales]
+            if show:
+                echo(scale_lines(scales))
             if out is not None:
                 from ..runs.hum import write_hum_audio
 
@@ -108,7 +118,13 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
             room(rec, d, show=show, map_on=map_on, map_plane=map_plane, map_png=map_png if i == 0 else None, positions=positions, shell=shell_m,
                  joint=joint, tolerances=tol, seed=seed, jobs=jobs, overwrite=overwrite)
             records.append(rec)
-    emit_json(json_path, records[0] if len(records) == 1 else {"designs": records}, overwrite=overwrite)
+        if compared is not None and show:
+            click.echo()
+            echo(hum_lines(compared))
+    payload = records[0] if len(records) == 1 else {"designs": records}
+    if compared is not None:
+        payload = {**payload, "compare": compared.as_dict()}
+    emit_json(json_path, payload, overwrite=overwrite)
     if png_path:
         from ..report.plots import hum_rejection_plot
 

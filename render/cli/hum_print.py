@@ -33,7 +33,7 @@ def print_report(d, r) -> None:
     click.echo(f"{d.name}  ({d.source})  mains {r.mains_hz:g} Hz, {field}")
     for s in r.sources:
         print_source(s)
-    click.echo("  harmonic  frequency   rejection   hum at amp input   coil_a alone   coil_b alone")
+    click.echo("  harmonic  frequency   rejection   hum at amp input   coil_a alone   coil_b alone   (amplitudes: peak)")
     for h in r.harmonics:
         rej = _rejection(h.rejection_db, h.rejection_db_reason)
         click.echo(f"  {h.harmonic:>8d}  {h.frequency_hz:7.0f} Hz  {rej:>9s}   {h.output_v * 1e6:12.3f} µV   {h.coil_a_v * 1e6:9.2f} µV   {h.coil_b_v * 1e6:9.2f} µV")

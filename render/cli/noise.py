@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from ..io.folders import refuse_existing as check_new
+from .compare_print import compare_option
 from .options import emit_json, friendly, json_option, overwrite_option, rig_option
 
 
@@ -78,9 +79,10 @@ def summary_lines(r, top: int) -> list[str]:
 @click.option("--top", type=click.IntRange(min=1, max=40), default=5, show_default=True, help="Contributors listed and plotted.")
 @json_option()
 @click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Write a density plot with the largest contributors and the passive reference.")
+@compare_option
 @overwrite_option
 @friendly
-def noise_command(model, rig_path, temperature, reference_velocity, top, json_path, png_path, overwrite):
+def noise_command(model, rig_path, temperature, reference_velocity, top, json_path, png_path, compare_path, overwrite):
     """Noise floor of MODEL at the amp input, with the passive reference beside it.
 
     Thermal noise of every resistance (the coils' DC resistance and core
@@ -102,11 +104,21 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
     check_new([json_path, png_path], overwrite=overwrite)
     (d,), rig_file = load_designs([model], rig=rig_path)
     (r,) = noise_reports([d], temperature=temperature, reference_velocity=reference_velocity)
+    from ..analysis.one_scale import design_one_scale
+    from .compare_print import comparison_of, echo, load_compare, noise_lines, scale_lines
+
+    compared = comparison_of(load_compare(compare_path, rig_path), temperature=temperature, reference_velocity=reference_velocity)
+    scales = [*design_one_scale(d, temperature=temperature, reference_velocity=reference_velocity), *([compared.scale] if compared else [])]
     if json_path != "-":
         for line in summary_lines(r, top):
             click.echo(line)
+        echo(scale_lines(scales))
+        if compared is not None:
+            click.echo()
+            echo(noise_lines(compared))
     if json_path:
-        emit_json(json_path, noise_record(r, d, rig_file), overwrite=overwrite)
+        extra = {"hum_and_noise": [s.as_dict() for s in scales], **({"compare": compared.as_dict()} if compared else {})}
+        emit_json(json_path, {**noise_record(r, d, rig_file), **extra}, overwrite=overwrite)
     if png_path:
         from ..report.plots import noise_plot
 

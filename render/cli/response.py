@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from ..io.folders import refuse_existing as check_new
+from .compare_print import compare_option
 from .options import friendly, overwrite_option, rig_option
 
 
@@ -43,9 +44,10 @@ def summary_lines(d, fig) -> list[str]:
 @click.option("--fmin", type=click.FloatRange(min=1.0, max=1e5), default=20.0, show_default=True, help="Lowest frequency (Hz).")
 @click.option("--fmax", type=click.FloatRange(min=2.0, max=2e5), default=20000.0, show_default=True, help="Highest frequency (Hz).")
 @click.option("--points", type=click.IntRange(min=2, max=100000), default=600, show_default=True, help="Log-spaced points.")
+@compare_option
 @overwrite_option
 @friendly
-def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, overwrite):
+def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, compare_path, overwrite):
     """Small-signal response of MODEL from string velocity to the amp input.
 
     The same velocity drives both sensing points; levels are dB re 1 V per
@@ -67,11 +69,21 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, ov
     fig = figures([d])[0]
     r = response(d, np.geomspace(fmin, fmax, points))
     f, h, hp = r.frequency_hz, r.velocity, r.passive
+    from .compare_print import comparison_of, echo, figure_lines, load_compare
+
+    compared = comparison_of(load_compare(compare_path, rig_path))
     if csv_path != "-":
         for line in summary_lines(d, fig):
             click.echo(line)
+        if compared is not None:
+            click.echo()
+            echo(figure_lines(compared, [(d.name, fig["level_1k_db"])]))
     if csv_path:
         text = csv_text(f, h, hp)
+        if compared is not None:
+            from ..report.compare import with_compare_columns
+
+            text = with_compare_columns(text, compared.design, f)
         if csv_path == "-":
             click.echo(text, nl=False)
         else:
@@ -79,6 +91,7 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, ov
 
             write_text(csv_path, text, overwrite=overwrite)
     if png_path:
+        from ..report.compare import compare_curves
         from ..report.plots import response_plot
 
-        response_plot(png_path, f, [(d.name, h)], passive=("passive reference", hp), title=f"{d.name}: string velocity to amp input", overwrite=overwrite)
+        response_plot(png_path, f, [(d.name, h), *compare_curves(compared.design if compared else None, f)], passive=("passive reference", hp), title=f"{d.name}: string velocity to amp input", overwrite=overwrite)

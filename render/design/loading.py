@@ -160,6 +160,8 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
 def load_design(path: str | Path) -> Design:
     """Load and validate one design file."""
     data, raw = read_toml(path)
+    if isinstance(data, dict) and data.get("kind") == "passive":  # render.design.passive
+        raise InputError(f"{path}: a passive pickup (kind = \"passive\") has no preamp to render as a design; name it with --compare {path} instead")
     return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw))
 
 

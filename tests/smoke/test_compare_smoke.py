@@ -1,0 +1,81 @@
+"""``--compare`` on every design, and passive pickups at the edges: no traceback.
+
+The passive demo (``models/compare/``) is not in ``models/*.toml`` on purpose:
+it has no preamp, so it is not a design the commands render; it is named with
+``--compare``, and named as a design it is refused with that fix. The edge
+passive pickups here (``tests/smoke/compare/``, invented values) cancel their
+hum exactly, and cancel the string's signal exactly with both knobs at zero.
+
+The expectations are the README's own contract (no outside source), as in
+test_smoke_matrix.py.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+from smoke.test_smoke_matrix import EDGES, NUMBER_WORDS, REFERENCE, ROOT, SHIPPED, Runner, check_json
+
+from render.cli import main
+
+DEMO = ROOT / "models" / "compare" / "workshop-passive.toml"
+PASSIVE_EDGES = sorted((Path(__file__).parent / "compare").glob("*.toml"))
+
+
+def _finish(run, tmp_path):
+    for path in sorted(tmp_path.rglob("*.json")):
+        run.problems += check_json(path)
+    for path in sorted(tmp_path.rglob("*.csv")):
+        if NUMBER_WORDS.search(path.read_text(encoding="utf-8")):
+            run.problems.append(f"{path.name}: holds nan or inf")
+    assert not run.problems, "\n".join(run.problems)
+
+
+@pytest.mark.parametrize("design", SHIPPED + EDGES, ids=lambda p: p.stem)
+def test_compare_beside_every_design(design, tmp_path):
+    run = Runner(design.stem)
+    run("response", design, "--compare", DEMO, "--csv", tmp_path / "response.csv")
+    run("noise", design, "--compare", DEMO, "--json", tmp_path / "noise.json")
+    _finish(run, tmp_path)
+
+
+def test_compare_with_every_design_together(tmp_path):
+    run = Runner("all")
+    every = SHIPPED + EDGES
+    run("check", *every, "--compare", DEMO, "--json", tmp_path / "check.json")
+    run("hum", *every, "--compare", DEMO, "--json", tmp_path / "hum.json")
+    run("clips", *SHIPPED, "--seconds", 1, "--no-plots", "--noise", "--jobs", 2, "--compare", DEMO, "--out", tmp_path / "clips")
+    _finish(run, tmp_path)
+
+
+@pytest.mark.parametrize("passive", PASSIVE_EDGES, ids=lambda p: p.stem)
+def test_passive_edges(passive, tmp_path):
+    run = Runner(passive.stem)
+    run("check", REFERENCE, "--compare", passive, "--json", tmp_path / "check.json")
+    run("response", REFERENCE, "--compare", passive, "--csv", tmp_path / "response.csv", "--png", tmp_path / "response.png")
+    run("noise", REFERENCE, "--compare", passive, "--json", tmp_path / "noise.json")
+    run("hum", REFERENCE, "--compare", passive, "--json", tmp_path / "hum.json")
+    run("clips", REFERENCE, "--seconds", 1, "--no-plots", "--compare", passive, "--out", tmp_path / "clips")
+    _finish(run, tmp_path)
+
+
+def test_the_passive_demo_named_as_a_design_is_refused_with_the_fix():
+    res = CliRunner().invoke(main, ["check", str(DEMO)])
+    assert res.exit_code == 1 and "Error: " in res.output and f"--compare {DEMO}" in res.output
+
+
+def test_compare_output_carries_the_pickup(tmp_path):
+    cli = CliRunner()
+    res = cli.invoke(main, ["check", str(REFERENCE), "--compare", str(DEMO), "--json", "-"])
+    rec = json.loads(res.output)
+    assert rec["compare"]["design"] == "workshop-passive" and rec["compare"]["kind"] == "passive"
+    res = cli.invoke(main, ["response", str(REFERENCE), "--compare", str(DEMO), "--csv", "-"])
+    assert res.output.splitlines()[0].endswith(",compare_magnitude_db,compare_phase_deg")
+    res = cli.invoke(main, ["hum", str(REFERENCE), "--compare", str(DEMO)])
+    assert "workshop-passive: hum by" in res.output and "(amplitudes: peak)" in res.output and "hum at amp input (peak)" in res.output
+    res = cli.invoke(main, ["clips", str(REFERENCE), "--seconds", "1", "--no-plots", "--compare", str(DEMO), "--out", str(tmp_path / "c")])
+    assert res.exit_code == 0, res.output
+    assert (tmp_path / "c" / "workshop-passive.wav").exists() and (tmp_path / "c" / "workshop-passive.json").exists()
