@@ -24,5 +24,8 @@ The runs behind the commands are :func:`render.runs.blind.build_blind_session`
 Nothing that is served (the page, the plan, the clips' names, bytes other
 than the audio, sizes and headers) depends on which design a clip holds:
 clip names come from :mod:`secrets`, not from the seed, and the server does
-not read the key until the last answer is in.
+not read the key until the last answer is in. Every clip file carries its own
+dither below the 24-bit step (:mod:`render.listening.dither`), so no two clip
+files are the same bytes; the decoded audio of X still matches A or B to
+within that dither, which a listener who analyses the files can find.
 """

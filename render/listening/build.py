@@ -10,8 +10,11 @@ Clip names come from :func:`secrets.token_hex`, never from the seed, so
 nothing served can be used to rebuild the key. Each clip slot of each trial
 gets its own file; all are float32 WAVs of one length, written by
 :func:`render.io.wav.float_wav_bytes` (no PEAK chunk, no timestamp, no
-tags), so files differ only in their audio. All get the same modification
-time.
+tags), so files differ only in their audio. Each file carries its own
+dither below the 24-bit step (:mod:`render.listening.dither`, drawn from the
+seed), so no two files are byte-identical, not even two of one design, and
+comparing files does not tell which clip X repeats. All get the same
+modification time.
 
 The folder is built under a temporary name beside ``out`` and renamed into
 place at the end, so an interrupted run leaves no half-made session.
@@ -32,6 +35,8 @@ import numpy as np
 
 from ..errors import InputError
 from ..io.atomic import fsync_folder
+from .dither import RECIPE as DITHER_RECIPE
+from .dither import STEP_24_BIT, tpdf_dither
 from .layout import KEY_FORMAT, METHODS, PLAN_FORMAT, SLOTS, VERSION, SessionPaths
 
 MAX_TRIALS = 500
@@ -118,8 +123,9 @@ def build_session(
     if len(signals) != 2 or len(designs) != 2:
         raise InputError("a session compares exactly two designs")
     n = min(np.asarray(s).shape[-1] for s in signals)
-    wavs = [float_wav_bytes(np.asarray(s, float)[:n], sample_rate) for s in signals]
-    if len(wavs[0]) != len(wavs[1]):  # same n, same format: cannot happen, but the promise is checked
+    matched = [np.asarray(s, float)[:n] for s in signals]
+    renders = [float_wav_bytes(x, sample_rate) for x in matched]  # before dither: kept in the key as hashes only
+    if len(renders[0]) != len(renders[1]):  # same n, same format: cannot happen, but the promise is checked
         raise InputError("the two clips differ in byte size; this is a bug, please report it")
     draws = draw_trials(method, trials, seed)
     session_id = secrets.token_hex(16)
@@ -153,8 +159,10 @@ def build_session(
         "seed": int(seed),
         "draws": "numpy.random.default_rng(seed): integers(0, 2, trials) for a, then (abx) integers(0, 2, trials) for x",
         "designs": designs,
-        "clip_sha256": [hashlib.sha256(w).hexdigest() for w in wavs],
-        "clip_bytes": len(wavs[0]),
+        "render_sha256": [hashlib.sha256(w).hexdigest() for w in renders],
+        "dither": {"kind": "TPDF", "peak": STEP_24_BIT, "full_scale": 1.0, "draws": DITHER_RECIPE},
+        "clip_sha256": {},  # filled as the clips are written: name -> SHA-256 of that file
+        "clip_bytes": len(renders[0]),
         "sample_rate": int(sample_rate),
         "frames": int(n),
         **record,
@@ -169,9 +177,15 @@ def build_session(
         paths.public.mkdir()
         paths.private.mkdir(mode=0o700)
         stamp = created.timestamp()
-        design_of_clip = {c: slot_design(t, s) for t in draws for s, c in t["clips"].items()}
+        where = {c: (t, s) for t in draws for s, c in t["clips"].items()}
+        clip_sha256 = key["clip_sha256"]
         for name in sorted(names):  # sorted random names: an order unrelated to the designs
-            _write_new_file(paths.public / name, wavs[design_of_clip[name]])
+            t, s = where[name]
+            data = float_wav_bytes(matched[slot_design(t, s)] + tpdf_dither(n, seed=seed, trial=t["index"], slot=s), sample_rate)
+            clip_sha256[name] = hashlib.sha256(data).hexdigest()
+            _write_new_file(paths.public / name, data)
+        if len(set(clip_sha256.values())) != len(clip_sha256):  # the dither vanished in float32 rounding
+            raise InputError("two clip files came out byte-identical: the renders must stay within full scale ±1 for the dither to show; lower --true-peak-dbtp")
         _write_new_file(paths.plan, _json_bytes(plan))
         _write_new_file(paths.key, _json_bytes(key))
         for p in list(paths.public.iterdir()):

@@ -13,6 +13,8 @@ server only after the last answer)::
     {"format": "render-listening-key", "version": 1, "session": ..., "method": ...,
      "seed": ..., "designs": [{"name", "path", "sha256", "toml"}, x2], "rig": ...,
      "dry": {...}, "loudness": {...},
+     "render_sha256": [two hashes: each matched render as a float32 WAV, before dither],
+     "dither": {"kind": "TPDF", "peak": 2**-23, ...}, "clip_sha256": {"<name>.wav": hash, ...},
      "trials": [{"index", "a": 0|1, "x": "A"|"B"|null, "clips": {...}}, ...]}
 
 ``a`` is the design (0 = MODEL_A, 1 = MODEL_B) playing as clip A in that

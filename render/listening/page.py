@@ -2,13 +2,23 @@
 
 The page is the same bytes for every session; everything about a session
 comes from ``/api/state`` as JSON and is put into the page with
-``textContent`` only. Playback uses the Web Audio API: every clip of a trial
-is fetched and decoded first, then all of them start together from the same
-offset, each through its own gain; choosing A, B or X only moves the gains
-(a 2 ms glide, so the switch is instant and click-free, at the very same
-position). An answer is sent the moment "Record answer" is pressed and is
-kept in the tab (sessionStorage) until the server confirms it, so a server
-restart or a reload loses nothing.
+``textContent`` only. A trial is laid out as three cards in a row: A on
+the left, B on the right, and between them the hidden X (ABX) or a "no
+preference" mark (preference); the answer is marked on the card itself
+("same as X", "prefer this"). The keys follow the layout: left arrow A,
+up arrow X, right arrow B; Shift with an arrow marks that side (Shift and
+down: no preference), and focus moves to "Save and go on", so Enter saves;
+P plays or pauses, Home goes back to the start.
+
+Playback uses the Web Audio API: every clip of a trial is fetched and
+decoded first, then all of them start together from the same offset, each
+through its own gain; switching cards only moves the gains (a 2 ms glide, so
+the switch is instant and click-free, at the very same position). An answer
+is sent the moment "Save and go on" is pressed and is kept in the tab
+(sessionStorage) until the server confirms it, so a server restart or a
+reload loses nothing. At the end the page shows the score (correct of
+total, or the preference counts), one cell per trial and the exact binomial
+p-value, also as a percentage.
 
 The three files live in ``render/listening/static/`` (declared as package
 data in ``pyproject.toml``) and are read with :mod:`importlib.resources`, so

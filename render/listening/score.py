@@ -112,16 +112,17 @@ def summary_lines(result: dict) -> list[str]:
     abx = "abx" in result
     last = "result" if abx else "preferred"
     last_width = 6 if abx else max(width, 9)
+    answer = "X copies" if abx else "answer"  # ABX: the clip the listener marked as the one X copies
     lines.append("")
-    lines.append("  trial  " + "".join(f"{k:<{width}}  " for k in slots) + f"{'answer':<6}  {last:<{last_width}}  comment")
+    lines.append("  trial  " + "".join(f"{k:<{width}}  " for k in slots) + f"{answer}  {last:<{last_width}}  comment")
     for r in result["table"]:
         cells = "".join(f"{r[k]:<{width}}  " for k in slots)
         if abx:
-            ans, res = f"X is {r['answer']}", ("right" if r["correct"] else "wrong")
+            res = "right" if r["correct"] else "wrong"
         else:
-            ans, res = r["answer"], (r["preferred"] or "-")
+            res = r["preferred"] or "-"
         comment = r["comment"].replace("\n", " ")
-        lines.append(f"  {r['trial']:>5}  {cells}{ans:<6}  {res:<{last_width}}  {comment}".rstrip())
+        lines.append(f"  {r['trial']:>5}  {cells}{r['answer']:<{len(answer)}}  {res:<{last_width}}  {comment}".rstrip())
     return lines
 
 

@@ -23,6 +23,7 @@ from render.errors import InputError
 from render.io.toml import loads
 from render.listening.answers import AnswerLog
 from render.listening.build import slot_design
+from render.listening.dither import tpdf_dither
 from render.listening.layout import load_plan
 from render.runs.blind import BlindSettings, build_blind_session
 from render.runs.score import score_blind_session
@@ -46,7 +47,8 @@ def test_a_session_from_loaded_designs(tmp_path):
     match = session.loudness
     assert (match.target_lufs, match.ceiling_dbtp) == (-23.0, -1.0)  # EBU R 128
     for i, design in enumerate(designs):
-        # the clip is MODEL's one-design render (render_clip) times the matching gain, rounded once to float32
+        # the clip is MODEL's one-design render (render_clip) times the matching gain, plus that slot's
+        # own dither (render.listening.dither), rounded once to float32
         dry = load_dry(DRY, sample_rate=FS, positions=(design.coil_a.position, design.coil_b.position), apertures=(design.coil_a.aperture, design.coil_b.aperture), seconds=1.5)
         volts = render_clip(design, dry.velocity, sample_rate=FS).volts
         assert integrated_loudness(volts, sample_rate=FS) == pytest.approx(match.measured_lufs[i], abs=1e-9)  # ITU-R BS.1770-4
@@ -55,7 +57,8 @@ def test_a_session_from_loaded_designs(tmp_path):
         slot = next(s for s in trial["clips"] if slot_design(trial, s) == i)
         clip, rate = sf.read(session.paths.public / trial["clips"][slot], dtype="float32")
         assert rate == FS and clip.shape == (int(1.5 * FS),)
-        np.testing.assert_array_equal(clip, (volts * 10.0 ** (match.gains_db[i] / 20.0)).astype(np.float32))
+        dither = tpdf_dither(volts.size, seed=11, trial=0, slot=slot)
+        np.testing.assert_array_equal(clip, (volts * 10.0 ** (match.gains_db[i] / 20.0) + dither).astype(np.float32))
         # matched: -23 LUFS less the recorded lowering (EBU R 128), re-measured on the written clip
         assert integrated_loudness(clip.astype(float), sample_rate=FS) == pytest.approx(-23.0 - match.lowered_db, abs=0.01)
 

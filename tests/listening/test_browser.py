@@ -7,7 +7,9 @@ The page is loaded, the clips of each trial are fetched and decoded, played
 and switched; every trial is answered; half-way the server is stopped while
 an answer is being recorded (the page keeps it and sends it again) and then
 restarted, and the page is reloaded and resumes where it left off. At the
-end the answers file and ``render score`` are checked.
+end the answers file and ``render score`` are checked. Further tests drive
+the page from the keyboard alone, check the cards' layout (A left, X between,
+B right) and run a preference session to its outcome.
 
 Needs Debian's ``chromium`` and ``pip install playwright`` (never
 ``playwright install``: the system browser is used). Without them the test
@@ -86,6 +88,7 @@ def test_a_listener_answers_every_trial_across_a_server_restart(make_session, se
             _wait_phase(page, "caution")
             caution = page.inner_text("#caution")
             assert "volume" in caution and "stays" in caution and "loud" in caution
+            assert page.inner_text("#tally") == f"0 answered \u00b7 {trials} to go"
             page.click("#begin")
 
             for i in range(trials):
@@ -93,8 +96,8 @@ def test_a_listener_answers_every_trial_across_a_server_restart(make_session, se
                 if i == 3:
                     # stop the server, record an answer while it is down, then bring it back
                     server.stop()
-                    page.click(f'.choice[data-answer="{given[i]}"]')
-                    page.click("#record")
+                    page.click(f'.pick[data-answer="{given[i]}"]')
+                    page.click("#save")
                     page.wait_for_selector('body[data-saving="retrying"]', state="attached", timeout=TIMEOUT_MS)
                     assert "Not saved yet" in page.inner_text("#status")
                     assert paths.answers.read_text().count("\n") == 3  # nothing reached the disk meanwhile
@@ -103,27 +106,36 @@ def test_a_listener_answers_every_trial_across_a_server_restart(make_session, se
                     # and a reload resumes where the listener left off
                     page.reload()
                     _wait_phase(page, "caution")
-                    assert "Welcome back" in page.inner_text("#heading")
+                    assert "where you left off" in page.inner_text("#heading")
                     assert page.get_attribute("body", "data-answered") == "4"
                     page.click("#begin")
                     continue
                 assert page.get_attribute("body", "data-decoded") == "3"  # A, B and X decoded
                 assert abs(float(page.get_attribute("body", "data-duration")) - 1.0) < 0.01  # s, as rendered
-                assert page.inner_text("#heading") == f"Trial {i + 1} of {trials}"
+                assert page.inner_text("#heading") == "Where does X belong?"
+                assert page.inner_text("#tally") == f"{i} answered \u00b7 {trials - i} to go"
+                assert page.locator("#ruler li.answered").count() == i and page.locator("#ruler li.current").count() == 1
                 if i == 0:
                     page.click("#play")
                     page.wait_for_selector('body[data-playing="true"]', state="attached", timeout=TIMEOUT_MS)
                     for slot in ("B", "X", "A"):
-                        page.click(f'.tile[data-slot="{slot}"]')
+                        page.click(f'.listen[data-slot="{slot}"]')
                         assert page.get_attribute("body", "data-active") == slot
                     page.click("#play")
                     page.wait_for_selector('body[data-playing="false"]', state="attached", timeout=TIMEOUT_MS)
                     page.fill("#comment", "brighter attack on X")
-                page.click(f'.choice[data-answer="{given[i]}"]')
-                page.click("#record")
+                page.click(f'.pick[data-answer="{given[i]}"]')
+                assert page.inner_text("#picked") == f"Marked: X copies {given[i]}."
+                page.click("#save")
             _wait_phase(page, "done")
             page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
-            assert "3 of 6" in page.inner_text("#result")
+            assert "X placed right in 3 of 6 trials" in page.inner_text("#result")
+            # one-sided binomial P(X >= 3 | n = 6, p = 1/2) = 42/64 = 0.65625 (binomial distribution); JavaScript's
+            # toFixed rounds that exact tie up (ECMA-262, Number.prototype.toFixed), Python's format to even
+            assert "66 % of the time (p = 0.6563" in page.inner_text("#result")
+            assert page.inner_text("#figure").startswith("3 / 6")
+            cells = page.locator("#outcome li")
+            assert [cells.nth(k).get_attribute("class") for k in range(trials)] == ["right" if k % 2 == 0 else "wrong" for k in range(trials)]
         finally:
             browser.close()
     server.stop()
@@ -144,3 +156,112 @@ def test_a_listener_answers_every_trial_across_a_server_restart(make_session, se
     names = [d["name"] for d in key["designs"]]
     row = next(line for line in result.output.splitlines() if line.strip().startswith("1 "))
     assert names[slot_design(first, "X")] in row
+
+
+def _open(browser, server, errors):
+    page = browser.new_page(viewport={"width": 900, "height": 900})
+    page.on("pageerror", lambda exc: errors.append(str(exc)))
+    page.goto(server.url)
+    _wait_phase(page, "caution")
+    page.click("#begin")
+    return page
+
+
+def test_the_keys_follow_the_cards_and_a_trial_is_answered_from_the_keyboard(make_session, serve):
+    executable = _browser_or_skip()
+    from playwright.sync_api import sync_playwright
+
+    paths = make_session(method="abx", trials=2, seed=5, seconds=1.0)
+    key = json.loads(paths.key.read_text())
+    server = serve(paths.root)
+    errors = []
+    with sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=executable, args=ARGS, headless=True)
+        try:
+            page = _open(browser, server, errors)
+            _wait_phase(page, "ready", trial=0)
+            # the layout: A on the left, the hidden X between, B on the right, in one row
+            boxes = {s: page.locator(f'.listen[data-slot="{s}"]').bounding_box() for s in "AXB"}
+            assert boxes["A"]["x"] + boxes["A"]["width"] <= boxes["X"]["x"] and boxes["X"]["x"] + boxes["X"]["width"] <= boxes["B"]["x"]
+            assert page.locator('.pick[data-answer="A"]').count() == 1 and page.locator('.pick[data-answer="B"]').count() == 1
+            assert page.locator('.pick[data-answer="none"]').count() == 0  # ABX has no "neither"
+            # arrows follow the cards: left A, up X, right B
+            for press, slot in (("ArrowRight", "B"), ("ArrowUp", "X"), ("ArrowLeft", "A")):
+                page.keyboard.press(press)
+                assert page.get_attribute("body", "data-active") == slot
+            for press in ("2", "3", "b", "x", " "):  # no other keys switch or play
+                page.keyboard.press(press)
+            assert page.get_attribute("body", "data-active") == "A" and page.get_attribute("body", "data-playing") == "false"
+            # Home goes back to the start
+            box = page.locator("#track").bounding_box()
+            page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)
+            assert page.inner_text("#clock") == "0.5 s of 1.0 s"
+            page.keyboard.press("Home")
+            assert page.inner_text("#clock") == "0.0 s of 1.0 s"
+            page.keyboard.press("p")
+            page.wait_for_selector('body[data-playing="true"]', state="attached", timeout=TIMEOUT_MS)
+            page.keyboard.press("P")
+            page.wait_for_selector('body[data-playing="false"]', state="attached", timeout=TIMEOUT_MS)
+            # Shift with an arrow marks that side and hands Enter to the save button
+            page.keyboard.press("Shift+ArrowRight")
+            assert page.get_attribute("body", "data-picked") == "B"
+            assert page.get_attribute('.pick[data-answer="B"]', "aria-pressed") == "true"
+            assert page.evaluate("document.activeElement.id") == "save"
+            page.keyboard.press("Shift+ArrowDown")  # no "neither" in ABX: the mark stays
+            assert page.get_attribute("body", "data-picked") == "B"
+            page.keyboard.press("Enter")
+            _wait_phase(page, "ready", trial=1)
+            assert page.get_attribute("body", "data-answered") == "1"
+            page.keyboard.press("Shift+ArrowLeft")
+            page.keyboard.press("Enter")
+            _wait_phase(page, "done")
+            page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
+            result = page.inner_text("#result")
+        finally:
+            browser.close()
+    assert errors == []
+    assert [json.loads(line)["answer"] for line in paths.answers.read_text().splitlines()] == ["B", "A"]
+    right = sum(a == t["x"] for a, t in zip("BA", key["trials"]))
+    assert f"X placed right in {right} of 2 trials" in result
+
+
+def test_a_preference_session_runs_to_its_outcome(make_session, serve):
+    executable = _browser_or_skip()
+    from playwright.sync_api import sync_playwright
+
+    paths = make_session(method="preference", trials=4, seed=12, seconds=1.0)
+    key = json.loads(paths.key.read_text())
+    names = [d["name"] for d in key["designs"]]
+    # prefer design 0 three times, then no preference
+    given = [("A" if t["a"] == 0 else "B") for t in key["trials"][:3]] + ["none"]
+    server = serve(paths.root)
+    errors = []
+    with sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=executable, args=ARGS, headless=True)
+        try:
+            page = _open(browser, server, errors)
+            for i, g in enumerate(given):
+                _wait_phase(page, "ready", trial=i)
+                assert page.get_attribute("body", "data-decoded") == "2"  # A and B only
+                assert page.inner_text("#heading") == "Which do you prefer?"
+                assert page.locator(".listen").count() == 2
+                page.keyboard.press("ArrowUp")  # no X in a preference session: nothing changes
+                assert page.get_attribute("body", "data-active") == "A"
+                if g == "none":
+                    page.keyboard.press("Shift+ArrowDown")
+                    assert page.inner_text("#picked") == "Marked: no preference."
+                else:
+                    page.click(f'.pick[data-answer="{g}"]')
+                page.click("#save")
+            _wait_phase(page, "done")
+            page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
+            text = page.inner_text("#result")
+            assert f"You preferred {names[0]} 3 times (blue) and {names[1]} 0 times (copper); no preference: once" in text
+            # two-sided exact binomial of 3 against 0: 2 · (1/2)^3 = 0.25 (binomial distribution)
+            assert "25 % of the time (p = 0.2500" in text
+            cells = page.locator("#outcome li")
+            assert [cells.nth(k).get_attribute("class") for k in range(4)] == ["first", "first", "first", ""]
+        finally:
+            browser.close()
+    assert errors == []
+    assert [json.loads(line)["answer"] for line in paths.answers.read_text().splitlines()] == given

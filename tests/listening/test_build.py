@@ -123,16 +123,20 @@ def test_the_folder_holds_identical_looking_clips_and_a_key_kept_apart(make_sess
     for n in clips[:2]:
         info = sf.info(paths.public / n)
         assert (info.format, info.subtype, info.channels, info.samplerate, info.frames) == ("WAV", "FLOAT", 1, 16000, 16000)
-    # each clip holds the design the key says
-    wanted = [d for d in key["clip_sha256"]]
+    # each clip is the file the key names, and holds the design the key says (to within the dither)
     import hashlib
 
+    audio = {n: sf.read(paths.public / n, dtype="float64")[0] for n in clips}
     for t in key["trials"]:
         for slot, name in t["clips"].items():
-            assert hashlib.sha256((paths.public / name).read_bytes()).hexdigest() == wanted[slot_design(t, slot)]
+            assert hashlib.sha256((paths.public / name).read_bytes()).hexdigest() == key["clip_sha256"][name]
+            same = t["clips"]["A"] if slot_design(t, slot) == t["a"] else t["clips"]["B"]
+            other = t["clips"]["B"] if same == t["clips"]["A"] else t["clips"]["A"]
+            assert np.max(np.abs(audio[name] - audio[same])) < 3 * 2.0**-23
+            assert np.max(np.abs(audio[name] - audio[other])) > 0.01
     # the plan says nothing about which is which
     text = paths.plan.read_text()
-    for secret in [d["name"] for d in key["designs"]] + key["clip_sha256"] + [str(key["seed"])]:
+    for secret in [d["name"] for d in key["designs"]] + key["render_sha256"] + list(key["clip_sha256"].values()) + [str(key["seed"])]:
         assert secret not in text
     assert all(set(t) == {"index", "clips"} for t in plan["trials"])
     assert '"a"' not in text and '"x"' not in text

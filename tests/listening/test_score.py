@@ -87,6 +87,10 @@ def test_abx_score_table_and_plot(make_session):
     row1 = next(line for line in out.splitlines() if line.strip().startswith("1 "))
     t0 = key["trials"][0]
     assert row1.split()[1:4] == [names[slot_design(t0, s)] for s in "ABX"] and "right" in row1 and "crisper" in row1
+    header = next(line for line in out.splitlines() if line.strip().startswith("trial "))
+    assert header.split()[4:7] == ["X", "copies", "result"]
+    assert row1.split()[4] == given[0]  # the clip the listener said X copies
+    assert row1[header.index("X copies")] == given[0]  # printed under its header
     png = paths.root / "results" / "response-difference.png"
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     data = json.loads((paths.root / "score.json").read_text())

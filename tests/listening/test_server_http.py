@@ -170,7 +170,7 @@ def test_nothing_served_before_the_end_contains_the_key(make_session, serve):
     server = serve(paths.root)
     key = json.loads(paths.key.read_text())
     served = b"".join(request(server.port, path=p)[2] for p in ("/", "/page.js", "/page.css", "/api/state", "/api/result"))
-    for secret in [d["name"] for d in key["designs"]] + [d["sha256"] for d in key["designs"]] + key["clip_sha256"] + [str(key["seed"])]:
+    for secret in [d["name"] for d in key["designs"]] + [d["sha256"] for d in key["designs"]] + key["render_sha256"] + list(key["clip_sha256"].values()) + [str(key["seed"])]:
         assert secret.encode() not in served, secret
     assert request(server.port, path="/api/result")[0] == 409
     state = json.loads(request(server.port, path="/api/state")[2])

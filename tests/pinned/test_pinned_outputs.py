@@ -37,13 +37,18 @@ def produce(tmp: Path) -> dict[str, dict[str, str]]:
         argv = [cmd, *(str(ROOT / a) if a.startswith("models/") else a for a in args), "--out", str(folder)]
         res = CliRunner().invoke(main, argv)
         assert res.exit_code == 0, f"render {' '.join(argv)}: {res.output}"
-        if cmd == "blind":  # clip names are random by design: pin each design's clip and the trials' draws
+        if cmd == "blind":  # clip names are random by design: pin each design's render, the trials' draws and the dithered clips in trial order
             key = json.loads((folder / "private" / "key.json").read_text())
             for t in key["trials"]:
-                for role, name in t["clips"].items():
-                    design = t["a"] if role == "A" else 1 - t["a"] if role == "B" else t["a"] if t["x"] == "A" else 1 - t["a"]
-                    assert hashlib.sha256((folder / "public" / name).read_bytes()).hexdigest() == key["clip_sha256"][design]
-            out[cmd] = {"design_a": key["clip_sha256"][0], "design_b": key["clip_sha256"][1], "draws": "".join(f"{t['a']}{t['x']}" for t in key["trials"])}
+                for name in t["clips"].values():
+                    assert hashlib.sha256((folder / "public" / name).read_bytes()).hexdigest() == key["clip_sha256"][name]
+            in_order = "".join(key["clip_sha256"][t["clips"][role]] for t in key["trials"] for role in ("A", "B", "X"))
+            out[cmd] = {
+                "design_a": key["render_sha256"][0],
+                "design_b": key["render_sha256"][1],
+                "draws": "".join(f"{t['a']}{t['x']}" for t in key["trials"]),
+                "clips": hashlib.sha256(in_order.encode("ascii")).hexdigest(),
+            }
         else:
             out[cmd] = {str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest() for p in sorted(folder.rglob("*.wav"))}
     return out

@@ -23,15 +23,16 @@
 
   function drawProgress() {
     const n = S.plan.trials.length;
-    const ol = el("progress");
+    const ol = el("ruler");
     ol.replaceChildren();
     for (let i = 0; i < n; i++) {
       const li = document.createElement("li");
       if (i < S.answered) li.className = "answered";
-      else if (i === S.index && S.answered < n) li.className = "now";
+      else if (i === S.index && S.answered < n) li.className = "current";
       ol.appendChild(li);
     }
-    el("progress-text").textContent = S.answered + " of " + n + " answered";
+    const left = n - S.answered;
+    el("tally").textContent = S.answered + " answered \u00b7 " + (left ? left + " to go" : "none to go");
     body.dataset.answered = String(S.answered);
   }
 
@@ -93,16 +94,15 @@
     if (!S.buffers || !slotsOf().includes(slot)) return;
     S.active = slot;
     if (S.gains) for (const k in S.gains) S.gains[k].gain.setTargetAtTime(k === slot ? 1 : 0, S.ctx.currentTime, 0.002);
-    for (const b of el("clips").children) b.setAttribute("aria-pressed", String(b.dataset.slot === slot));
+    for (const b of el("stage").querySelectorAll(".listen")) b.setAttribute("aria-pressed", String(b.dataset.slot === slot));
     body.dataset.active = slot;
   }
 
   function drawTransport() {
     const d = duration(), p = position();
     el("fill").style.width = (d ? (100 * p) / d : 0) + "%";
-    el("clock").textContent = p.toFixed(1) + " / " + d.toFixed(1) + " s";
-    el("play").innerHTML = S.playing ? "&#10074;&#10074;" : "&#9654;";
-    el("play").setAttribute("aria-label", S.playing ? "stop" : "play");
+    el("clock").textContent = p.toFixed(1) + " s of " + d.toFixed(1) + " s";
+    el("play").textContent = S.playing ? "Pause" : "Play";
     body.dataset.playing = String(S.playing);
   }
 
@@ -110,43 +110,91 @@
 
   // ---- trials --------------------------------------------------------------
 
+  const WORDS = {
+    abx: {
+      heading: "Where does X belong?",
+      task: "X is A or B played again, chosen at random. Switch between the three as often as you like, " +
+            "at the same moment in the phrase, and mark the one X copies.",
+      pick: "same as X",
+      keys: "Keys: \u2190 A \u00b7 \u2191 X \u00b7 \u2192 B \u00b7 P play or pause \u00b7 Home back to the start \u00b7 " +
+            "Shift+\u2190 or Shift+\u2192 marks the side X copies, then Enter saves",
+      marked: (v) => "Marked: X copies " + v + ".",
+    },
+    preference: {
+      heading: "Which do you prefer?",
+      task: "A and B are the two designs, in a random order. Switch between them as often as you like, " +
+            "at the same moment in the phrase, and mark the one you prefer, or neither.",
+      pick: "prefer this",
+      keys: "Keys: \u2190 A \u00b7 \u2192 B \u00b7 P play or pause \u00b7 Home back to the start \u00b7 " +
+            "Shift+\u2190 or Shift+\u2192 marks your preference, Shift+\u2193 neither, then Enter saves",
+      marked: (v) => (v === "none" ? "Marked: no preference." : "Marked: you prefer " + v + "."),
+    },
+  };
+  const words = () => WORDS[S.plan.method];
+
+  function card(slot, role, pickValue, pickLabel) {
+    const box = document.createElement("article");
+    box.className = "card";
+    if (slot) {
+      box.dataset.slot = slot;
+      const b = document.createElement("button");
+      b.type = "button"; b.className = "listen"; b.textContent = slot; b.dataset.slot = slot; b.disabled = true;
+      b.setAttribute("aria-pressed", "false");
+      b.setAttribute("aria-label", "listen to " + slot);
+      b.addEventListener("click", () => choose(slot));
+      box.appendChild(b);
+    }
+    if (role) {
+      const r = document.createElement("p");
+      r.className = "role"; r.textContent = role;
+      box.appendChild(r);
+    }
+    if (pickValue) {
+      const p = document.createElement("button");
+      p.type = "button"; p.className = "pick"; p.textContent = pickLabel; p.dataset.answer = pickValue;
+      p.setAttribute("aria-pressed", "false");
+      p.addEventListener("click", () => pick(pickValue));
+      box.appendChild(p);
+    }
+    return box;
+  }
+
   function buildTrial() {
     const abx = S.plan.method === "abx";
-    const n = S.plan.trials.length;
-    el("heading").textContent = "Trial " + (S.index + 1) + " of " + n;
-    el("question").textContent = abx
-      ? "X is the same recording as A or as B. Listen to all three, as often as you like, and say which."
-      : "Listen to A and B, as often as you like, and say which you prefer, if either.";
-    el("answer-legend").textContent = abx ? "X sounds like" : "I prefer";
-    el("keys").textContent = abx ? "Keys: 1, 2, 3 choose A, B, X; space plays and stops" : "Keys: 1, 2 choose A, B; space plays and stops";
-    const clips = el("clips");
-    clips.replaceChildren();
-    for (const slot of slotsOf()) {
-      const b = document.createElement("button");
-      b.type = "button"; b.className = "tile"; b.textContent = slot; b.dataset.slot = slot; b.disabled = true;
-      b.setAttribute("aria-pressed", "false");
-      b.addEventListener("click", () => choose(slot));
-      clips.appendChild(b);
+    const w = words();
+    el("heading").textContent = w.heading;
+    el("task").textContent = w.task;
+    el("keys").textContent = w.keys;
+    const stage = el("stage");
+    stage.replaceChildren();
+    delete stage.dataset.picked;
+    stage.appendChild(card("A", "known", "A", w.pick));
+    if (abx) {
+      const x = card("X", "hidden: A or B", null, null);
+      x.classList.add("hidden-one");
+      stage.appendChild(x);
+    } else {
+      const mid = card(null, null, "none", "no preference");
+      mid.classList.add("middle");
+      stage.appendChild(mid);
     }
-    const choices = el("choices");
-    choices.replaceChildren();
-    const options = abx ? [["A", "X is A"], ["B", "X is B"]] : [["A", "A"], ["B", "B"], ["none", "No preference"]];
-    for (const [value, label] of options) {
-      const b = document.createElement("button");
-      b.type = "button"; b.className = "choice"; b.textContent = label; b.dataset.answer = value;
-      b.setAttribute("aria-pressed", "false");
-      b.addEventListener("click", () => pick(value));
-      choices.appendChild(b);
-    }
+    stage.appendChild(card("B", "known", "B", w.pick));
+    el("picked").textContent = "Nothing marked yet.";
     el("comment").value = "";
     S.choice = null; S.active = "A"; S.offset = 0;
-    el("record").disabled = true;
+    el("save").disabled = true;
   }
 
   function pick(value) {
+    if (!S.plan || !["A", "B", "none"].includes(value) || (value === "none" && S.plan.method === "abx")) return;
     S.choice = value;
-    for (const b of el("choices").children) b.setAttribute("aria-pressed", String(b.dataset.answer === value));
-    el("record").disabled = S.busy || !S.buffers;
+    const stage = el("stage");
+    stage.dataset.picked = value;
+    for (const b of stage.querySelectorAll(".pick")) b.setAttribute("aria-pressed", String(b.dataset.answer === value));
+    for (const c of stage.querySelectorAll(".card")) c.dataset.sidePicked = String(c.dataset.slot === value);
+    el("picked").textContent = words().marked(value);
+    body.dataset.picked = value;
+    el("save").disabled = S.busy || !S.buffers;
   }
 
   async function showTrial() {
@@ -163,7 +211,7 @@
     if (i !== S.index) return;
     for (const k of Array.from(S.cache.keys())) if (k < i) S.cache.delete(k);
     S.buffers = buffers;
-    for (const b of el("clips").children) b.disabled = false;
+    for (const b of el("stage").querySelectorAll(".listen")) b.disabled = false;
     el("play").disabled = false;
     choose("A");
     drawTransport();
@@ -202,7 +250,8 @@
 
   async function deliver(answer) {
     S.busy = true;
-    el("record").disabled = true;
+    el("save").disabled = true;
+    delete body.dataset.picked;
     phase("saving");
     status("Saving\u2026");
     try { sessionStorage.setItem(pendingKey(), JSON.stringify(answer)); } catch (e) { /* storage off: the retry loop still holds it */ }
@@ -239,6 +288,17 @@
     await showTrial();
   }
 
+  function percent(p) {
+    const x = 100 * p;  // two significant figures, no trailing zeros: 66 %, 5 %, 3.5 %, 0.0015 %
+    return String(Number(x.toPrecision(2))) + " %";
+  }
+
+  function outcomeCell(text, cls, label) {
+    const li = document.createElement("li");
+    li.textContent = text; li.className = cls; li.title = label; li.setAttribute("aria-label", label);
+    return li;
+  }
+
   async function finish() {
     if (S.ctx) stop();
     S.index = S.plan.trials.length;
@@ -246,29 +306,48 @@
     el("trial").hidden = true;
     el("caution").hidden = true;
     el("done").hidden = false;
-    el("heading").textContent = "Session complete";
+    el("heading").textContent = "The outcome";
     phase("done");
     try {
       const r = await getJSON("/api/result");
       const names = r.designs;
+      const strip = el("outcome");
+      strip.replaceChildren();
+      const figure = el("figure");
+      figure.replaceChildren();
+      const small = document.createElement("small");
       let text;
       if (r.abx) {
-        text = "X was matched correctly in " + r.abx.correct + " of " + r.abx.total + " trials; p = " + r.abx.p_value.toFixed(4) +
-          " (one-sided exact binomial, chance 1/2). " +
-          (r.abx.distinguished ? "Guessing alone rarely scores this well: the two designs were told apart."
-                               : "Guessing could score this well: no audible difference was shown.");
+        const s = r.abx;
+        figure.append(s.correct + " / " + s.total);
+        small.textContent = "times X was placed with the clip it copies";
+        for (const row of r.table) {
+          strip.appendChild(outcomeCell(String(row.trial), row.correct ? "right" : "wrong", "trial " + row.trial + ": " + (row.correct ? "right" : "wrong")));
+        }
+        text = "X placed right in " + s.correct + " of " + s.total + " trials. Guessing alone does this well or better " +
+          percent(s.p_value) + " of the time (p = " + s.p_value.toFixed(4) + ", one-sided exact binomial, chance \u00bd in each trial). " +
+          (s.distinguished
+            ? "That is under " + percent(s.alpha) + ": the two designs were told apart."
+            : "That is not under " + percent(s.alpha) + ": these answers could be guesses, so no audible difference was shown (which does not prove there is none).") +
+          " The designs were " + names[0] + " and " + names[1] + ".";
       } else {
-        const c = r.preference.counts;
+        const s = r.preference, c = s.counts;
+        figure.append(c[names[0]] + " : " + c[names[1]]);
+        small.textContent = names[0] + " : " + names[1] + ", and " + c["no preference"] + " without a preference";
+        for (const row of r.table) {
+          const which = row.preferred === names[0] ? "first" : row.preferred === names[1] ? "second" : "";
+          strip.appendChild(outcomeCell(String(row.trial), which, "trial " + row.trial + ": " + (row.preferred || "no preference")));
+        }
         const times = (n) => (n === 1 ? "once" : n + " times");
-        text = "Preferred " + names[0] + " " + times(c[names[0]]) + ", " + names[1] + " " + times(c[names[1]]) +
-          "; no preference " + times(c["no preference"]) + ". p = " + r.preference.p_value.toFixed(4) +
-          " (two-sided exact binomial of the decided answers).";
+        text = "You preferred " + names[0] + " " + times(c[names[0]]) + " (blue) and " + names[1] + " " + times(c[names[1]]) +
+          " (copper); no preference: " + times(c["no preference"]) + ". An even split of the decided answers gives a lean at least this strong " +
+          percent(s.p_value) + " of the time (p = " + s.p_value.toFixed(4) + ", two-sided exact binomial).";
       }
-      if (r.abx) text += " The designs were " + names[0] + " and " + names[1] + ".";
+      figure.appendChild(small);
       el("result").textContent = text;
       body.dataset.result = "shown";
     } catch (e) {
-      el("result").textContent = "The result could not be read from the server; run render score.";
+      el("result").textContent = "The outcome could not be read from the server; run render score on the session folder.";
     }
   }
 
@@ -289,6 +368,11 @@
     await showTrial();
   }
 
+  function seek(at) {
+    if (!S.buffers) return;
+    if (S.playing) start(at); else { S.offset = at; drawTransport(); }
+  }
+
   function setLevel() {
     const db = Number(el("level").value);
     el("level-db").textContent = (db < 0 ? "\u2212" : "") + Math.abs(db) + " dB";
@@ -298,21 +382,29 @@
   function wire() {
     el("begin").addEventListener("click", begin);
     el("play").addEventListener("click", () => { if (!S.buffers) return; if (S.playing) stop(); else start(S.offset >= duration() ? 0 : S.offset); });
-    el("record").addEventListener("click", record);
+    el("save").addEventListener("click", record);
     el("level").addEventListener("input", setLevel);
     el("loop").addEventListener("change", () => { if (S.playing) start(position()); });
     el("track").addEventListener("click", (ev) => {
       if (!S.buffers) return;
       const box = el("track").getBoundingClientRect();
-      const at = Math.max(0, Math.min(1, (ev.clientX - box.left) / box.width)) * duration();
-      if (S.playing) start(at); else { S.offset = at; drawTransport(); }
+      seek(Math.max(0, Math.min(1, (ev.clientX - box.left) / box.width)) * duration());
     });
+    // keys laid out as the cards are: left A, up the hidden X, right B; Shift marks a side
     document.addEventListener("keydown", (ev) => {
       const tag = (ev.target && ev.target.tagName) || "";
       if (tag === "TEXTAREA" || tag === "INPUT" || !S.buffers || body.dataset.phase !== "ready") return;
-      const map = { "1": "A", "2": "B", "3": "X", a: "A", b: "B", x: "X" };
-      if (map[ev.key.toLowerCase()]) { choose(map[ev.key.toLowerCase()]); ev.preventDefault(); }
-      else if (ev.key === " ") { el("play").click(); ev.preventDefault(); }
+      if (ev.altKey || ev.ctrlKey || ev.metaKey) return;
+      const abx = S.plan.method === "abx";
+      if (ev.shiftKey) {
+        const mark = { ArrowLeft: "A", ArrowRight: "B", ArrowDown: abx ? null : "none" }[ev.key];
+        if (mark) { pick(mark); el("save").focus(); ev.preventDefault(); }
+        return;
+      }
+      const listen = { ArrowLeft: "A", ArrowRight: "B", ArrowUp: abx ? "X" : null }[ev.key];
+      if (listen) { choose(listen); ev.preventDefault(); }
+      else if (ev.key === "p" || ev.key === "P") { el("play").click(); ev.preventDefault(); }
+      else if (ev.key === "Home") { seek(0); ev.preventDefault(); }
     });
   }
 
@@ -323,7 +415,7 @@
     S.index = S.answered;
     drawProgress();
     if (S.plan.complete) return finish();
-    el("heading").textContent = S.answered ? "Welcome back: trial " + (S.index + 1) + " of " + S.plan.trials.length : "A blind comparison of two designs";
+    el("heading").textContent = S.answered ? "Picking up where you left off" : "Two designs, their names hidden";
     el("caution").hidden = false;
     el("begin").disabled = false;
     phase("caution");
