@@ -33,6 +33,7 @@ class RenderSettings:
     hum: bool = True
     passive: bool = False
     noise: bool = False
+    strength: float | None = None  # m: the phrase's strongest pluck, every pluck scaled alike (None: as written)
 
     def record(self) -> dict:
         return {
@@ -43,6 +44,7 @@ class RenderSettings:
             "hum": self.hum,
             "passive": self.passive,
             "noise": self.noise,
+            "strength_m": self.strength,
         }
 
 

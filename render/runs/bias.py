@@ -43,14 +43,12 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
 
 
 def phrase_at_strength(dry_path: Path, design, settings, strength_m: float):
-    """The dry phrase with every note plucked at ``strength_m`` (m), synthesised at the design's sensing points."""
-    from dataclasses import replace
-
+    """The dry phrase with every pluck scaled alike so that its strongest is ``strength_m`` (m), synthesised at the design's sensing points."""
     from ..dry import synthesize
     from ..dry.phrase import load_phrase
+    from ..dry.strength import scale_plucks
 
-    p = load_phrase(dry_path)
-    p = replace(p, notes=tuple(replace(n, strength=strength_m) for n in p.notes))
+    p = scale_plucks(load_phrase(dry_path), strength_m)
     a, b = design.coil_a, design.coil_b
     return synthesize(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds)
 

@@ -1,0 +1,37 @@
+"""Printing the headroom for what was played (:mod:`render.analysis.headroom`): one table, one line per render."""
+
+from __future__ import annotations
+
+import click
+
+from ..analysis.headroom import PlayedHeadroom, format_margin, format_share, format_strength
+
+
+def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
+    """The table's lines: per render the margin above and below, where the limit is reached, and the share limited."""
+    width = max([len(name) for name, _ in rows] + [20])
+    lines = [f"{indent}{'':{width}s}  {'margin up / down':>21s}  {'limit reached at':>24s}  {'limited':>9s}"]
+    for name, h in rows:
+        reach = format_margin(h.margin_db) + " above"
+        strength = h.strength_at_limit_m()
+        if strength is not None:
+            reach = f"{format_strength(strength)} ({format_margin(h.margin_db)})"
+        lines.append(f"{indent}{name:{width}s}  {format_margin(h.margin_up_db):>9s} / {format_margin(h.margin_down_db):>9s}  {reach:>24s}  {format_share(h.limited_fraction):>9s}")
+    return lines
+
+
+def headroom_title(rows: list[tuple[str, PlayedHeadroom]]) -> str:
+    """The line above the table: what the figures mean, with the phrase's strongest pluck when every render has the same."""
+    plucks = {h.strongest_pluck_m for _, h in rows}
+    pluck = plucks.pop() if len(plucks) == 1 else None
+    what = f"strongest pluck {format_strength(pluck)}" if pluck is not None else "a recording"
+    return f"headroom for what is played ({what}): op-amp swing against the limit's onset, and where it is reached"
+
+
+def print_headroom(rows: list[tuple[str, PlayedHeadroom]]) -> None:
+    """The title and the table on standard output (nothing for no rows)."""
+    if not rows:
+        return
+    click.echo(headroom_title(rows))
+    for line in headroom_lines(rows):
+        click.echo(line)
