@@ -45,15 +45,19 @@ def divider(design, ratio: float, *, keep_load: bool = True) -> tuple[float, flo
 
 
 def sweep(design, *, ratios=None, tops=None, bottoms=None, batteries=None, keep_load: bool = True) -> list[Setting]:
-    """Every (divider, battery) setting to render, in order."""
+    """Every (divider, battery) setting to render, in order; the design's own divider is always among them (marked "own")."""
+    from .bias_labels import with_own_divider, with_own_ratio
+
     dividers = []
     if tops is not None or bottoms is not None:
-        for t, b in zip(tops, bottoms):
-            dividers.append((f"{_r(t)}/{_r(b)}", b / (t + b), t, b))
+        pairs, own = with_own_divider(design, list(zip(tops, bottoms)))
+        for i, (t, b) in enumerate(pairs):
+            dividers.append((f"{_r(t)}/{_r(b)}" + (" (own)" if i == own else ""), b / (t + b), t, b))
     else:
-        for r in ratios:
+        rs, labels = with_own_ratio(design, list(ratios))
+        for r, label in zip(rs, labels):
             t, b = divider(design, r, keep_load=keep_load)
-            dividers.append((f"ratio {r:.2f}", r, t, b))
+            dividers.append((label, r, t, b))
     out = []
     for v in batteries or [design.supply.battery]:
         for label, r, t, b in dividers:

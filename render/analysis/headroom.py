@@ -160,12 +160,12 @@ def from_record(m: dict) -> PlayedHeadroom | None:
 def format_share(fraction: float) -> str:
     """A share of time as a percentage that never rounds a non-zero share to zero.
 
-    "none" only when exactly 0; two significant digits below 10 % ("0.35 %", "8e-06 %"); whole percents above.
+    "none" only when exactly 0; two significant digits below 10 % ("0.35 %", "2.0 %", "8.0e-06 %"); whole percents above.
     """
     if fraction <= 0:
         return "none"
     pct = 100.0 * fraction
-    return f"{pct:.0f} %" if pct >= 10 else f"{pct:.2g} %"
+    return f"{pct:.0f} %" if pct >= 10 else f"{pct:#.2g} %"
 
 
 def format_margin(db: float | None) -> str:
@@ -175,4 +175,4 @@ def format_margin(db: float | None) -> str:
 
 def format_strength(m: float | None) -> str:
     """A pluck strength in mm with three significant digits, or a dash."""
-    return "—" if m is None else f"{m * 1e3:.3g} mm"
+    return "—" if m is None else f"{m * 1e3:#.3g} mm"

@@ -35,3 +35,19 @@ def print_headroom(rows: list[tuple[str, PlayedHeadroom]]) -> None:
     click.echo(headroom_title(rows))
     for line in headroom_lines(rows):
         click.echo(line)
+
+
+def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom]) -> list[str]:
+    """``render bias``'s phrase table: per setting, the limit's onsets as the phrase's strongest pluck and as dB above the phrase, and the share limited."""
+    plucks = {h.strongest_pluck_m for h in played}
+    pluck = plucks.pop() if len(plucks) == 1 else None
+    what = f"strongest pluck {format_strength(pluck)}" if pluck is not None else "a recording"
+    lines = [
+        f"the phrase at each setting ({what}): where the op-amp output reaches the limit's onset, up / down",
+        f"  {'setting':26s} {'as strongest pluck':^19s}   {'as dB above phrase':^19s}   {'limited':>9s}",
+    ]
+    for label, h in zip(labels, played):
+        mm = f"{format_strength(h.strength_at_limit_m('up')):>8s} / {format_strength(h.strength_at_limit_m('down')):<8s}"
+        db = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
+        lines.append(f"  {label:26s} {mm:>19s}   {db:>19s}   {format_share(h.limited_fraction):>9s}")
+    return lines
