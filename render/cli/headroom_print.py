@@ -10,13 +10,12 @@ from ..analysis.headroom import PlayedHeadroom, format_margin, format_share, for
 def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
     """The table's lines: per render the margin above and below, where the limit is reached, and the share limited."""
     width = max([len(name) for name, _ in rows] + [20])
-    lines = [f"{indent}{'':{width}s}  {'margin up / down':>21s}  {'limit reached at':>24s}  {'limited':>9s}"]
+    lines = [f"{indent}{'':{width}s}  {'margin up / down':^19s}   {'limit reached at':^20s}   {'limited':>9s}"]
     for name, h in rows:
-        reach = format_margin(h.margin_db) + " above"
         strength = h.strength_at_limit_m()
-        if strength is not None:
-            reach = f"{format_strength(strength)} ({format_margin(h.margin_db)})"
-        lines.append(f"{indent}{name:{width}s}  {format_margin(h.margin_up_db):>9s} / {format_margin(h.margin_down_db):>9s}  {reach:>24s}  {format_share(h.limited_fraction):>9s}")
+        reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength)} ({format_margin(h.margin_db)})"
+        margins = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
+        lines.append(f"{indent}{name:{width}s}  {margins:19s}   {reach:^20s}   {format_share(h.limited_fraction):>9s}")
     return lines
 
 
