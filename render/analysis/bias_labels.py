@@ -4,7 +4,7 @@ A sweep of divider ratios ρ = bottom/(top + bottom) is only read against
 the design as it stands if the design's own ρ₀ is one of its points; it is
 added (in order) when missing. Each ratio is printed with the fewest decimals
 (at least two) that show it exactly to 1e-9, up to :data:`MOST_DECIMALS`, and
-then as many more as it takes for no two labels to read the same.
+labels that would still read the same get more, until they differ.
 """
 
 from __future__ import annotations
@@ -29,10 +29,15 @@ def decimals(r: float) -> int:
 
 def ratio_labels(ratios: list[float], own: int | None = None) -> list[str]:
     """``"ratio 0.50"`` labels, distinct from each other, the design's own (index ``own``) marked."""
-    d = max([decimals(r) for r in ratios] + [2])
-    while len({f"{r:.{d}f}" for r in ratios}) < len({round(r / SAME) for r in ratios}) and d < 9:
-        d += 1
-    return [f"ratio {r:.{d}f}" + (" (own)" if i == own else "") for i, r in enumerate(ratios)]
+    d = [decimals(r) for r in ratios]
+    for _ in range(7):
+        texts = [f"{r:.{k}f}" for r, k in zip(ratios, d)]
+        clash = [i for i, t in enumerate(texts) if any(float(t) == float(u) and abs(ratios[i] - ratios[j]) >= SAME for j, u in enumerate(texts) if j != i)]
+        if not clash:
+            break
+        for i in clash:
+            d[i] += 1
+    return [f"ratio {r:.{k}f}" + (" (own)" if i == own else "") for i, (r, k) in enumerate(zip(ratios, d))]
 
 
 def with_own_ratio(design, ratios: list[float]) -> tuple[list[float], list[str]]:
