@@ -272,8 +272,8 @@ def render_clip(
 def render_headroom(design: Design, rendered: dict, *, strongest_pluck_m: float | None = None):
     """:func:`render.analysis.headroom.played_headroom` of a render (``rendered``: :func:`render.chain.stream.render_signal`'s dict)."""
     from .analysis.headroom import played_headroom
-    from .chain.loop import dc_output
     from .chain.limit import design_window
+    from .chain.loop import dc_output
 
     return played_headroom(
         linear_min_v=rendered["linear_min_v"],

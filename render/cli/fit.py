@@ -59,9 +59,8 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips,
         from ..design import load_designs
         from ..dry import check_dry_file
         from ..io.folders import output_folder
-        from .clips import render_and_report
-
         from ..runs.fit_phrase import phrase_file_of
+        from .clips import render_and_report
 
         designs, rig = load_designs([run.start_file, *run.files], rig=rig_path)
         # a phrase_headroom_db aim's phrase and strength are what the clips play, so their headroom is the aim's

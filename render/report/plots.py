@@ -227,10 +227,6 @@ def histogram_plot(path, values, *, xlabel, title="", overwrite=False):
     ax.set_xlabel(xlabel)
     ax.set_ylabel("trials")
     ax.legend(fontsize=8, frameon=False)
-    low = min((float(np.nanmin(np.asarray(y, dtype=float))) for _, y, _ in series), default=None)
-    if floor is not None and low is not None and low < floor:
-        top = ax.get_ylim()[1]
-        ax.set_ylim(floor, max(top, floor + 10))
     if title:
         _fix_title(ax, title)
     fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)

@@ -250,7 +250,6 @@ def build_blind_session(
     BlindSession
     """
     import secrets
-
     from dataclasses import replace
 
     from ..analysis.headroom import from_record
