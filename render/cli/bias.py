@@ -44,8 +44,8 @@ def print_bias_phrase(sw, clips) -> None:
     from ..analysis.headroom import from_record
     from .headroom_print import bias_phrase_lines
 
-    played = [from_record(c.get("headroom", {})) for c in clips]
-    if all(h is not None for h in played):
+    played = [h for c in clips if (h := from_record(c.get("headroom", {}))) is not None]
+    if len(played) == len(clips):
         for line in bias_phrase_lines([r["setting"] for r in sw.rows], played):
             click.echo(line)
 

@@ -293,7 +293,9 @@ def build_blind_session(
         warnings.extend(f"{name}: {w}" for w in clip.warnings)
         volts.append(clip.volts)
         clipped.append(float(clip.clipped_fraction))
-        played.append(replace(from_record(clip.stats), strongest_pluck_m=dry.description.get("strongest_pluck_m")))
+        h = from_record(clip.stats)
+        if h is not None:
+            played.append(replace(h, strongest_pluck_m=dry.description.get("strongest_pluck_m")))
     signals, match = match_loudness(volts, sample_rate=fs, target_lufs=settings.target_lufs, ceiling_dbtp=settings.true_peak_dbtp, names=names)
     seed = settings.seed if settings.seed is not None else secrets.randbits(63)
     record = {
