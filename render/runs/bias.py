@@ -8,6 +8,9 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
+from .strength import phrase_at_strength
+
+__all__ = ["BiasClips", "check_strength", "phrase_at_strength", "write_bias_clips"]
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
 
@@ -41,17 +44,6 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
     if dry.suffix.lower() != ".toml":
         raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
     return (f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing; rendering it anyway",) if strength_m > REALISTIC_STRENGTH_M else ()
-
-
-def phrase_at_strength(dry_path: Path, design, settings, strength_m: float):
-    """The dry phrase with every pluck scaled alike so that its strongest is ``strength_m`` (m), synthesised at the design's sensing points."""
-    from ..dry import synthesize
-    from ..dry.phrase import load_phrase
-    from ..dry.strength import scale_plucks
-
-    p = scale_plucks(load_phrase(dry_path), strength_m)
-    a, b = design.coil_a, design.coil_b
-    return synthesize(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds)
 
 
 def _clip(args: tuple) -> tuple[np.ndarray, dict]:

@@ -81,7 +81,7 @@ def dry_for(design: Design, dry_path: Path, settings: RenderSettings) -> Dry:
     from ..dry import load_dry
 
     if settings.strength is not None:
-        from .bias import phrase_at_strength
+        from .strength import phrase_at_strength
 
         return phrase_at_strength(dry_path, design, settings, settings.strength)
 
