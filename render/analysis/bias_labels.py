@@ -40,23 +40,23 @@ def ratio_labels(ratios: list[float], own: int | None = None) -> list[str]:
     return [f"ratio {r:.{k}f}" + (" (own)" if i == own else "") for i, (r, k) in enumerate(zip(ratios, d))]
 
 
-def with_own_ratio(design, ratios: list[float]) -> tuple[list[float], list[str]]:
-    """The ratios with the design's own added in order if missing, and their labels."""
+def with_own_ratio(design, ratios: list[float], *, add: bool = True) -> tuple[list[float], list[str]]:
+    """The ratios, with the design's own added in order if missing (and ``add``), and their labels."""
     r0 = own_ratio(design)
     rs = list(ratios)
     at = next((i for i, r in enumerate(rs) if abs(r - r0) < SAME), None)
-    if at is None:
+    if at is None and add:
         rs.append(r0)
         rs.sort()
         at = rs.index(r0)
     return rs, ratio_labels(rs, at)
 
 
-def with_own_divider(design, pairs: list[tuple[float, float]]) -> tuple[list[tuple[float, float]], int]:
-    """Explicit (top, bottom) pairs with the design's own added at the end if missing, and its index."""
+def with_own_divider(design, pairs: list[tuple[float, float]], *, add: bool = True) -> tuple[list[tuple[float, float]], int | None]:
+    """Explicit (top, bottom) pairs with the design's own added at the end if missing (and ``add``), and its index (None: not among them)."""
     ib = design.input_b
     own = (ib.bias_top, ib.bias_bottom)
     for i, (t, b) in enumerate(pairs):
         if abs(t - own[0]) <= SAME * own[0] and abs(b - own[1]) <= SAME * own[1]:
             return pairs, i
-    return pairs + [own], len(pairs)
+    return (pairs + [own], len(pairs)) if add else (pairs, None)
