@@ -71,7 +71,8 @@ class Clip:
     figures : dict
         The design's small-signal figures (:func:`render.analysis.figures.figures`).
     stats : dict
-        Peak, rms, op-amp output range, limiting and loudness of this render.
+        Peak, rms, op-amp output range, limiting and loudness of this render, and its headroom
+        for what was played (:meth:`render.analysis.headroom.PlayedHeadroom.record`).
     """
 
     design: Design
