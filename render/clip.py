@@ -33,6 +33,7 @@ class RenderSettings:
     hum: bool = True
     passive: bool = False
     noise: bool = False
+    strength: float | None = None  # m: the phrase's strongest pluck, every pluck scaled alike (None: as written)
 
     def record(self) -> dict:
         return {
@@ -43,6 +44,7 @@ class RenderSettings:
             "hum": self.hum,
             "passive": self.passive,
             "noise": self.noise,
+            "strength_m": self.strength,
         }
 
 
@@ -69,7 +71,8 @@ class Clip:
     figures : dict
         The design's small-signal figures (:func:`render.analysis.figures.figures`).
     stats : dict
-        Peak, rms, op-amp output range, limiting and loudness of this render.
+        Peak, rms, op-amp output range, limiting and loudness of this render, and its headroom
+        for what was played (:meth:`render.analysis.headroom.PlayedHeadroom.record`).
     """
 
     design: Design
@@ -251,6 +254,8 @@ def render_clip(
     if not np.all(np.isfinite(volts)):
         raise InputError(f"{design.source}: the render of {design.name} is not finite; its filters may be unstable at {fs} Hz: check the part values at the ends of their ranges")
     clipped = float(r.get("clipped_fraction", 0.0))
+    stats = signal_stats(volts, r["amp_out"], clipped_fraction=clipped, sample_rate=fs, bias_v=design.bias_v)
+    stats.update(render_headroom(design, r, strongest_pluck_m=dry_record.get("strongest_pluck_m")).record())
     return Clip(
         design=design,
         volts=volts,
@@ -261,5 +266,21 @@ def render_clip(
         clipped_fraction=clipped,
         warnings=dry_warnings + tuple(r.get("warnings", ())) + warnings_noise,
         figures=figures([design])[0],
-        stats=signal_stats(volts, r["amp_out"], clipped_fraction=clipped, sample_rate=fs, bias_v=design.bias_v),
+        stats=stats,
+    )
+
+
+def render_headroom(design: Design, rendered: dict, *, strongest_pluck_m: float | None = None):
+    """:func:`render.analysis.headroom.played_headroom` of a render (``rendered``: :func:`render.chain.stream.render_signal`'s dict)."""
+    from .analysis.headroom import played_headroom
+    from .chain.limit import design_window
+    from .chain.loop import dc_output
+
+    return played_headroom(
+        linear_min_v=rendered["linear_min_v"],
+        linear_max_v=rendered["linear_max_v"],
+        bias_v=dc_output(design),
+        window=design_window(design),
+        limited_fraction=rendered["clipped_fraction"],
+        strongest_pluck_m=strongest_pluck_m,
     )

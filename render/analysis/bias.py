@@ -44,16 +44,21 @@ def divider(design, ratio: float, *, keep_load: bool = True) -> tuple[float, flo
     return (1.0 - ratio) * s, ratio * s
 
 
-def sweep(design, *, ratios=None, tops=None, bottoms=None, batteries=None, keep_load: bool = True) -> list[Setting]:
-    """Every (divider, battery) setting to render, in order."""
+def sweep(design, *, ratios=None, tops=None, bottoms=None, batteries=None, keep_load: bool = True, include_own: bool = False) -> list[Setting]:
+    """Every (divider, battery) setting to render, in order; the design's own divider marked "(own)" where it is
+    among them, and added (in order) with ``include_own``."""
+    from .bias_labels import with_own_divider, with_own_ratio
+
     dividers = []
     if tops is not None or bottoms is not None:
-        for t, b in zip(tops, bottoms):
-            dividers.append((f"{_r(t)}/{_r(b)}", b / (t + b), t, b))
+        pairs, own = with_own_divider(design, list(zip(tops, bottoms)), add=include_own)
+        for i, (t, b) in enumerate(pairs):
+            dividers.append((f"{_r(t)}/{_r(b)}" + (" (own)" if i == own else ""), b / (t + b), t, b))
     else:
-        for r in ratios:
+        rs, labels = with_own_ratio(design, list(ratios), add=include_own)
+        for r, label in zip(rs, labels):
             t, b = divider(design, r, keep_load=keep_load)
-            dividers.append((f"ratio {r:.2f}", r, t, b))
+            dividers.append((label, r, t, b))
     out = []
     for v in batteries or [design.supply.battery]:
         for label, r, t, b in dividers:
@@ -191,7 +196,8 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     ----------
     design : Design
     ratios : sequence of float, 0.02..0.98
-        Divider ratios bottom/(top + bottom) (unless ``tops`` and ``bottoms`` are given).
+        Divider ratios bottom/(top + bottom) (unless ``tops`` and ``bottoms`` are given); the
+        design's own divider is always added to them (in order) and marked "(own)".
     tops, bottoms : sequences of float, Ω, or None
         Explicit divider values, of equal length.
     batteries : sequence of float, V, or None
@@ -219,7 +225,7 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
         raise InputError(f"--ratios={','.join(f'{r:g}' for r in ratios)}: each ratio bottom/(top+bottom) must be from {RATIO_RANGE[0]:g} to {RATIO_RANGE[1]:g}")
     if batteries and any(not 1.5 <= v <= 60 for v in batteries):
         raise InputError(f"--battery={','.join(f'{v:g}' for v in batteries)}: each battery voltage must be from 1.5 V to 60 V")
-    settings = sweep(design, ratios=None if tops is not None else list(ratios), tops=tops, bottoms=bottoms, batteries=batteries, keep_load=keep_load)
+    settings = sweep(design, ratios=None if tops is not None else list(ratios), tops=tops, bottoms=bottoms, batteries=batteries, keep_load=keep_load, include_own=True)
     for s in settings:
         w = s.design.supply
         if w.battery - w.margin_low - w.margin_high - 2 * w.knee <= 0:

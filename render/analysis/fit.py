@@ -35,7 +35,10 @@ from .figures import REJECTION_CAP_DB
 FIGURES = (
     "level_1k_db", "peak_hz", "peak_db", "resonance_hz", "resonance_db", "q", "bass_corner_hz", "treble_corner_hz",
     "gain_vs_passive_db", "hum_rejection_db", "headroom_v", "headroom_up_v", "headroom_down_v", "cable_loss_db",
+    "phrase_headroom_db",
 )
+PHRASE_AIM = "phrase_headroom_db"  # dB above the phrase at which the limit is reached (render.analysis.phrase_headroom)
+NO_SWING_DB = 200.0  # what a phrase that never moves the op-amp output counts as when scored
 # default scale of a one-sided bound's miss (a 'min' or 'max' with no tolerance): common practice, no source
 BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
 # what an undefined figure counts as when scored
@@ -113,6 +116,12 @@ class FitSpec:
     start_path: str
     aims: tuple[Aim, ...]
     free: tuple[Free, ...]  # every part that changes, tied ones included
+    phrase: str | None = None  # the phrase of a phrase_headroom_db aim, as written (None: the demo phrase)
+    strength: float | None = None  # m: its strongest pluck, every pluck scaled alike (None: as written)
+
+    @property
+    def needs_phrase(self) -> bool:
+        return any(a.figure == PHRASE_AIM for a in self.aims)
 
     @property
     def dims(self) -> list[int]:
@@ -144,8 +153,8 @@ def _number(source, where, raw, what="a number"):
 def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> FitSpec:
     """Validate a fit file's tables; every error is one line."""
     for key in data:
-        if key not in ("from", "aim", "free", "name", "notes"):
-            raise InputError(f"{source}: unknown table or key '{key}'{_suggest(key, ['from', 'aim', 'free'])}")
+        if key not in ("from", "aim", "free", "name", "notes", "phrase", "strength"):
+            raise InputError(f"{source}: unknown table or key '{key}'{_suggest(key, ['from', 'aim', 'free', 'phrase', 'strength'])}")
     start = start_override or data.get("from")
     if not start:
         raise InputError(f"{source}: no start design; add from = \"models/<design>.toml\" or pass --from")
@@ -243,7 +252,28 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
             if choices.size == 0:
                 raise InputError(f"{source}: {where}: no {series} value lies between {f['min']} and {f['max']}; widen the range")
         frees.append(Free(name, table, key, spec, lo, hi, series, choices))
-    return FitSpec(source=source, start_path=start, aims=tuple(aims), free=tuple(frees))
+    phrase, strength = _phrase_keys(data, source, aims, frees)
+    return FitSpec(source=source, start_path=start, aims=tuple(aims), free=tuple(frees), phrase=phrase, strength=strength)
+
+
+def _phrase_keys(data: dict, source: str, aims, frees) -> tuple[str | None, float | None]:
+    """The fit file's ``phrase`` and ``strength``, which go with a phrase_headroom_db aim."""
+    phrase, strength = data.get("phrase"), data.get("strength")
+    if not any(a.figure == PHRASE_AIM for a in aims):
+        if phrase is not None or strength is not None:
+            raise InputError(f"{source}: phrase and strength go with a {PHRASE_AIM} aim; add one to [aim] or remove them")
+        return None, None
+    if phrase is not None and not isinstance(phrase, str):
+        raise InputError(f"{source}: phrase={phrase!r}: expected a path string to a phrase (.toml)")
+    if phrase is not None and not phrase.lower().endswith(".toml"):
+        raise InputError(f"{source}: phrase={phrase!r}: {PHRASE_AIM} needs a phrase file (.toml), whose plucks can be scaled")
+    moved = [f.name for f in frees if f.key in ("position", "aperture")]
+    if moved:
+        raise InputError(f"{source}: [free] {moved[0]}: a {PHRASE_AIM} aim plays the phrase at the start's sensing points; keep them fixed")
+    s = None
+    if strength is not None:
+        s = read_value(strength, Field(U.LENGTH, lo=0.0, hi=0.05, lo_open=True), source=source, table="", key="strength")
+    return phrase, s
 
 
 def load_fit(path, *, start_override=None) -> FitSpec:
@@ -271,9 +301,16 @@ def _valid(design) -> bool:
 class Evaluator:
     """Scores batches of part values through the vectorised engine, and remembers them."""
 
-    def __init__(self, spec: FitSpec, start):
+    def __init__(self, spec: FitSpec, start, *, phrase=None):
         self.spec, self.start = spec, start
         self.seen_fig: list[np.ndarray] = []  # figure matrices of every evaluation (for conflict analysis)
+        self.phrase = phrase  # a render.analysis.phrase_headroom.PhraseHeadroom for a phrase_headroom_db aim
+
+    def phrase_margins(self, designs) -> np.ndarray:
+        """phrase_headroom_db of each design (dB; a phrase that never moves the output counts as NO_SWING_DB)."""
+        if self.phrase is None:
+            raise InputError(f"{self.spec.source}: a {PHRASE_AIM} aim needs its phrase; give phrase = \"…toml\" in the fit file")
+        return np.nan_to_num(self.phrase.margins(designs), nan=NO_SWING_DB)
 
     def figures(self, values: np.ndarray) -> np.ndarray:
         """Figure matrix (S, n_aims) for part values (S, n_free); NaN rows for invalid designs."""
@@ -283,9 +320,13 @@ class Evaluator:
         ok = np.array([_valid(d) for d in designs])
         out = np.full((len(designs), len(self.spec.aims)), np.nan)
         if ok.any():
-            figs = figures([d for d, k in zip(designs, ok) if k])
+            valid = [d for d, k in zip(designs, ok) if k]
+            figs = figures(valid)
             rows = np.flatnonzero(ok)
             for j, aim in enumerate(self.spec.aims):
+                if aim.figure == PHRASE_AIM:
+                    out[rows, j] = self.phrase_margins(valid)
+                    continue
                 col = [f[aim.figure] if f[aim.figure] is not None else UNDEFINED.get(aim.figure, np.nan) for f in figs]
                 out[rows, j] = col
         self.seen_fig.append(out)
@@ -337,11 +378,14 @@ class FitResult:
     change: float
 
 
-def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int = 60, popsize: int = 12):
-    """Search, snap and refine; returns (results best first, evaluator, start values)."""
+def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int = 60, popsize: int = 12, phrase=None):
+    """Search, snap and refine; returns (results best first, evaluator, start values).
+
+    phrase : a :class:`render.analysis.phrase_headroom.PhraseHeadroom`, needed by a phrase_headroom_db aim
+    """
     from scipy.optimize import differential_evolution
 
-    ev = Evaluator(spec, start)
+    ev = Evaluator(spec, start, phrase=phrase)
     start_vals = _start_values(spec, start)
     dims = spec.dims
     bounds = [(math.log10(spec.free[i].lo), math.log10(spec.free[i].hi)) for i in dims]
@@ -415,6 +459,8 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
         from .figures import figures
 
         fig = figures([apply(start, spec.free, v)])[0]
+        if spec.needs_phrase:
+            fig[PHRASE_AIM] = float(ev.phrase_margins([apply(start, spec.free, v)])[0])
         n, r = _tiebreak(v, start_vals)
         results.append(FitResult(values=v, score=sc, figures=fig, meets=sc <= 1e-12, changed=int(n), change=float(r)))
     return results, ev, start_vals

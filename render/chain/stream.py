@@ -484,6 +484,7 @@ class Renderer:
         self._to_drop = plan.latency
         self._clipped = 0
         self._finished = False
+        self._linear = [np.inf, -np.inf]  # extremes of x_lin (bias included) so far, V
         # one mains period as a table when it is a whole number of samples (48 kHz / 50 Hz = 960)
         self._hum_period = None
         period = plan.sample_rate / plan.hum.mains
@@ -529,6 +530,7 @@ class Renderer:
         elif self.hum:
             v_lin += self._hum_at(self._n - p.path_mean.delay, n)
         ext = np.concatenate([self._lim_hist, v_lin])
+        self._track_linear(ext, self._lim_hist.size)
         y, clipped = _loop_stage(p, ext, self._lim_hist.size, self._loop)
         self._lim_hist = ext[ext.size - self._history :]
         self._clipped += clipped
@@ -541,6 +543,29 @@ class Renderer:
         drop = min(self._to_drop, n)
         self._to_drop -= drop
         return {"out": out[drop:], "amp_out": amp[drop:] + p.bias_v}
+
+    def _track_linear(self, ext: np.ndarray, history: int) -> None:
+        """Carry the extremes of x_lin, the op-amp's linear output (bias included), as the loop sees it:
+        the block's largest and smallest samples, and x_lin at R·fs around them (the interpolator's
+        delay included), so a peak between output samples is not missed."""
+        p = self.plan
+        v = ext[history:]
+        if not v.size:
+            return
+        R = p.resampler.oversample
+        reach = p.resampler.up.size // R + 4
+        for k in (int(np.argmax(v)), int(np.argmin(v))):
+            xl = _x_lin(p, ext, history, R * (k - 4), min(R * (k + reach), R * v.size - 1))
+            self._linear[0] = min(self._linear[0], float(xl.min()), float(v[k]) + p.bias_v)
+            self._linear[1] = max(self._linear[1], float(xl.max()), float(v[k]) + p.bias_v)
+
+    @property
+    def linear_range(self) -> tuple[float, float]:
+        """(lowest, highest) x_lin so far, V, bias included: the op-amp output the render would have
+        without its limit (string and hum); (bias, bias) before any sample."""
+        b = self.plan.bias_v
+        lo, hi = self._linear
+        return (min(lo, b), max(hi, b)) if math.isfinite(lo) else (b, b)
 
     def process(self, velocity, *, db_dt=None) -> dict:
         """Render one block.
@@ -636,6 +661,7 @@ def render_blocks(
     last = r.finish()
     last["clipped_fraction"] = min(1.0, r.clipped_count / max(n * plan.resampler.oversample, 1))
     last["warnings"] = plan.warnings
+    last["linear_min_v"], last["linear_max_v"] = r.linear_range
     yield last
 
 
@@ -665,7 +691,9 @@ def render_signal(
         past the window at this rate; the loop itself never leaves it);
         ``clipped_fraction`` float in [0, 1]: share of the oversampled steps with
         the op-amp's output stage outside its identity part (on a knee or a rail);
-        ``warnings`` tuple of str
+        ``warnings`` tuple of str;
+        ``linear_min_v``, ``linear_max_v`` float V: the extremes of the op-amp's linear
+        output x_lin (bias, string and hum; what it would swing without its limit)
     """
     v = np.asarray(velocity, dtype=float)
     if v.ndim == 1:
@@ -697,4 +725,6 @@ def render_signal(
         "amp_out": np.concatenate(amps),
         "clipped_fraction": float(last["clipped_fraction"]),
         "warnings": tuple(last["warnings"]),
+        "linear_min_v": float(last["linear_min_v"]),
+        "linear_max_v": float(last["linear_max_v"]),
     }

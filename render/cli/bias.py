@@ -28,15 +28,26 @@ def _floats(text, name, *, kind=None):
 def print_sweep(sw) -> None:
     d = sw.design
     click.echo(f"{d.name}  ({d.source}); divider {'parallel resistance kept' if sw.keep_load else 'total resistance kept'}; test sine 1 kHz, {sw.sine_velocity_m_per_s:.3g} m/s peak")
-    click.echo(f"  {'setting':22s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s} {'after a 60 ms burst':>22s}")
+    click.echo(f"  {'setting':26s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s} {'after a 60 ms burst':>22s}")
     for r in sw.rows:
         o, q = r["onset"], r["sine"]
         tau = r["recovery_tau_s"]
         rec = f"{r['recovery_offset_v']:+7.3f} V, τ {tau * 1e3:5.1f} ms" if tau is not None else f"{r['recovery_offset_v']:+7.3f} V"
         click.echo(
-            f"  {r['setting']:22s} {r['bias_v']:6.2f}V {r['headroom_up_v']:7.2f} / {r['headroom_down_v']:5.2f} V"
+            f"  {r['setting']:26s} {r['bias_v']:6.2f}V {r['headroom_up_v']:7.2f} / {r['headroom_down_v']:5.2f} V"
             f" {o['velocity_up_m_per_s']:13.3f} / {o['velocity_down_m_per_s']:7.3f}      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB {rec:>22s}"
         )
+
+
+def print_bias_phrase(sw, clips) -> None:
+    """The phrase's headroom at each setting (see :func:`render.cli.headroom_print.bias_phrase_lines`)."""
+    from ..analysis.headroom import from_record
+    from .headroom_print import bias_phrase_lines
+
+    played = [h for c in clips if (h := from_record(c.get("headroom", {}))) is not None]
+    if len(played) == len(clips):
+        for line in bias_phrase_lines([r["setting"] for r in sw.rows], played):
+            click.echo(line)
 
 
 @click.command("bias")
@@ -99,6 +110,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
         for row, clip in zip(payload["settings"], clips.clips):
             row["clip"] = clip
         payload["clips"] = clips.record
+        print_bias_phrase(sw, clips.clips)
         click.echo(f"clips, loudness-matched copies ({target_lufs:g} LUFS) and plots in {out}/")
         click.echo("Start playback at a low volume: the matched copies are level-matched, but clipped ones still sound loud.")
     emit_json(json_path, payload, overwrite=overwrite)

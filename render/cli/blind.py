@@ -32,6 +32,12 @@ def print_blind_session(session) -> None:
         )
     else:
         click.echo(f"  both play at {match.target_lufs:g} LUFS, true peak at most {max(match.final_true_peak_dbtp):+.1f} dBTP")
+    if session.headroom:
+        from .headroom_print import headroom_lines, headroom_title
+
+        click.echo("  " + headroom_title(list(zip(session.names, session.headroom))))
+        for line in headroom_lines(list(zip(session.names, session.headroom)), indent="    "):
+            click.echo(line)
     if max(session.clipped_fraction) > 0:
         click.echo("  note: at least one design clips in this render; a clipped clip stays loud and harsh even when matched")
     if session.method == "abx" and session.trials < fewest_trials_for():

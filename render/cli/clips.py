@@ -29,12 +29,13 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 @click.option("--passive/--no-passive", default=False, show_default=True, help="Also render each design's passive reference (S-passive.wav).")
 @click.option("--noise/--no-noise", default=False, show_default=True, help="Add the circuit's noise floor (seeded).")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed for the phrase's small variations and the noise.")
+@click.option("--strength", default=None, help="Pluck the phrase harder or softer: every pluck scaled alike so that its strongest is this (e.g. 2mm).")
 @click.option("--volts-full-scale", type=click.FloatRange(min=1e-3, max=100, min_open=True), default=None, help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).")
 @jobs_option("Render designs in this many processes (default: one per core; results identical to one).", default=None)
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
 @compare_option
 @friendly
-def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, volts_full_scale, jobs, plots, compare_path=None):
+def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, strength, volts_full_scale, jobs, plots, compare_path=None):
     """Render one clip per design (default: every models/*.toml).
 
     Every design plays the same dry signal into the same rig, and every WAV
@@ -49,6 +50,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     from ..io.folders import output_folder
 
     dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di)
+    strength_m = read_strength(strength, dry)
     designs, rig = load_designs(models, rig=rig_path)
     if len({Path(d.source).stem for d in designs}) != len(designs):
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
@@ -65,7 +67,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         made = velocity_from_di(dry_path, from_di, folder=out, rig=rig_path, overwrite=overwrite, plot=plots)
         report_from_di(made)
         dry = made.wav
-    settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise)
+    settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise, strength=strength_m)
     run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale)
     if compared is not None:
         from ..runs.compare_clip import compare_stem, write_compare_clip
@@ -78,6 +80,30 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         click.echo(f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {shown(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale")
 
 
+def read_strength(text, dry) -> float | None:
+    """``--strength`` in metres, checked against the dry file (a phrase only) as ``render bias`` checks it; warnings printed."""
+    from ..runs.bias import check_strength
+    from .bias import _floats
+
+    if text is None:
+        return None
+    from ..units import LENGTH
+
+    strength_m = _floats(text, "--strength", kind=LENGTH)[0]
+    for w in check_strength(strength_m, Path(dry)):
+        warn(w)
+    return strength_m
+
+
+def print_record_headroom(records) -> None:
+    """The headroom table of a run's records (those that carry it)."""
+    from ..analysis.headroom import from_record
+    from .headroom_print import print_headroom
+
+    rows = [(r["design"], h) for r in records if (h := from_record(r["measurements"])) is not None]
+    print_headroom(rows)
+
+
 def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None):
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
@@ -88,6 +114,7 @@ def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots
         run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None)
     for w in run.warnings:
         warn(w)
+    print_record_headroom(run.records)
     if run.over_full_scale:
         warn(f"{', '.join(run.over_full_scale)} peak above the {run.volts_full_scale:g} V full scale; the float WAVs keep those samples, but many players clip them")
     n = len(run.records)

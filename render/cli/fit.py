@@ -59,10 +59,13 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips,
         from ..design import load_designs
         from ..dry import check_dry_file
         from ..io.folders import output_folder
+        from ..runs.fit_phrase import phrase_file_of
         from .clips import render_and_report
 
         designs, rig = load_designs([run.start_file, *run.files], rig=rig_path)
-        render_and_report(designs, check_dry_file(None), RenderSettings(), output_folder(out / "clips", overwrite=overwrite), rig=rig)
+        # a phrase_headroom_db aim's phrase and strength are what the clips play, so their headroom is the aim's
+        phrase = phrase_file_of(run.spec, Path(fitfile)) if run.spec.needs_phrase else None
+        render_and_report(designs, check_dry_file(phrase), RenderSettings(strength=run.spec.strength), output_folder(out / "clips", overwrite=overwrite), rig=rig)
     if blind_session:
         from ..design import load_designs
         from ..runs.blind import BlindSettings, build_blind_session, session_dry_file, session_folder

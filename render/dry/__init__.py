@@ -66,10 +66,12 @@ class Dry:
 
 
 def default_dry_path() -> Path:
-    """The demo phrase: ``dry_signals/default.toml`` from the project folder, or beside the package."""
+    """The demo phrase: ``dry_signals/default.toml`` from the current folder if it has one, else the copy shipped in the package."""
     if DEFAULT_DRY.is_file():
         return DEFAULT_DRY
-    return Path(__file__).resolve().parents[2] / DEFAULT_DRY
+    from ..data import DEFAULT_PHRASE, shipped
+
+    return shipped(DEFAULT_PHRASE)
 
 
 def check_dry_file(path: str | Path | None, *, seconds: float | None = None, recorded: bool = True) -> Path:

@@ -771,4 +771,5 @@ def describe(phrase: Phrase) -> dict:
         "notes": len(phrase.notes),
         "scale_length_m": phrase.instrument.scale_length,
         "open_pitches_hz": list(phrase.instrument.open_pitches),
+        "strongest_pluck_m": max((n.strength for n in phrase.notes), default=None),
     }

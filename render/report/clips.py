@@ -101,6 +101,8 @@ def _resonance(m) -> str:
 def measurement_cells(m: dict) -> tuple[str, ...]:
     """A clip record's ``measurements`` as one row of the run's table (``summary.md`` and ``index.html``):
     resonance, Q, level at 1 kHz, vs passive, hum rejection, bias, headroom, peak, loudness, limited."""
+    from ..analysis.headroom import format_share
+
     return (
         _resonance(m),
         _cell(m, "q", ".2f"),
@@ -111,7 +113,7 @@ def measurement_cells(m: dict) -> tuple[str, ...]:
         f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
         f"{m['peak_v']:.3f} V",
         _cell(m, "loudness_lufs", ".1f", " LUFS"),
-        f"{m['clipped_fraction'] * 100:.2f} %",
+        format_share(m["clipped_fraction"]),
     )
 
 

@@ -352,8 +352,8 @@ def overlay_png(f, curves, passives) -> bytes:
     return png_bytes(fig)
 
 
-def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
-    """Simple line plot: ``series`` is a list of (label, y (len(x),), dashed)."""
+def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False, floor=None):
+    """Simple line plot: ``series`` is a list of (label, y (len(x),), dashed); ``floor``: the y axis stops there when the data go below it."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(7.5, 4.2))
     for i, (label, y, dashed) in enumerate(series):
@@ -362,6 +362,10 @@ def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False):
     ax.set_xlabel(xlabel)
     ax.set_ylabel(ylabel)
     ax.legend(fontsize=8, frameon=False)
+    low = min((float(np.nanmin(np.asarray(y, dtype=float))) for _, y, _ in series), default=None)
+    if floor is not None and low is not None and low < floor:
+        top = ax.get_ylim()[1]
+        ax.set_ylim(floor, max(top, floor + 10))
     if title:
         _fix_title(ax, title)
     fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
@@ -378,9 +382,11 @@ def transfer_plot(path, curves, *, title="", overwrite=False):
     for i, (label, x, y, points) in enumerate(curves):
         col = PALETTE[i % len(PALETTE)]
         ax.plot(x, y, color=col, lw=1.8, label=label)
+        # curves take turns: labels below right of the point, then above left, so neighbours' labels do not overlap
+        below = i % 2 == 0
         for b, plabel in points:
             ax.plot([b], [b], "o", color=col, ms=5)
-            ax.annotate(plabel, (b, b), textcoords="offset points", xytext=(6, -12), fontsize=7, color=col)
+            ax.annotate(plabel, (b, b), textcoords="offset points", xytext=(7, -11) if below else (-7, 5), ha="left" if below else "right", fontsize=7, color=col)
     ax.plot([x[0], x[-1]], [x[0], x[-1]], color="#bbbbbb", lw=0.8, ls=":")
     ax.grid(True, color="#dddddd", linewidth=0.6)
     ax.set_xlabel("op-amp output, linear (V)")
@@ -426,6 +432,9 @@ def hum_rejection_plot(path, designs, *, overwrite: bool = False):
     return rejection_plot(path, f, [(d.name, c) for d, c in zip(designs, curves)], marks=marks, overwrite=overwrite)
 
 
+HARMONICS_FLOOR_DB = -100.0  # harmonic levels below this are shown at the axis' floor (common practice, no source)
+
+
 def bias_plots(out, design, settings_list, rows) -> None:
     """Headroom and harmonics against the divider ratio, and the soft limit's transfer curve with each bias point marked."""
     from pathlib import Path
@@ -441,13 +450,13 @@ def bias_plots(out, design, settings_list, rows) -> None:
         series_h += [(f"up, {v:g} V", [r["headroom_up_v"] for r in sel], False), (f"down, {v:g} V", [r["headroom_down_v"] for r in sel], True)]
         series_d += [(f"H2, {v:g} V", [r["sine"]["h2_db"] for r in sel], False), (f"H3, {v:g} V", [r["sine"]["h3_db"] for r in sel], True)]
     lines_plot(out / f"{stem}-headroom.png", xs, series_h, xlabel="divider ratio bottom/(top+bottom)", ylabel="headroom (V)", title=f"{design.name}: headroom against the divider", overwrite=True)
-    lines_plot(out / f"{stem}-harmonics.png", xs, series_d, xlabel="divider ratio bottom/(top+bottom)", ylabel="level re fundamental (dB)", title=f"{design.name}: 1 kHz sine harmonics", overwrite=True)
+    lines_plot(out / f"{stem}-harmonics.png", xs, series_d, xlabel="divider ratio bottom/(top+bottom)", ylabel="level re fundamental (dB)", title=f"{design.name}: 1 kHz sine harmonics", overwrite=True, floor=HARMONICS_FLOOR_DB)
     curves = []
     for v in batteries:
         sel = [(s, r) for s, r in zip(settings_list, rows) if r["battery_v"] == v]
         win = design_window(sel[0][0].design)
         xx = np.linspace(0, v, 800)
-        curves.append((f"{v:g} V battery", xx, soft_limit(xx, window=win), [(r["bias_v"], f"{r['ratio']:.2f}") for _, r in sel]))
+        curves.append((f"{v:g} V battery", xx, soft_limit(xx, window=win), [(r["bias_v"], r["setting"].split(",")[0].removeprefix("ratio ")) for _, r in sel]))
     transfer_plot(out / f"{stem}-transfer.png", curves, title=f"{design.name}: the soft limit, bias points marked", overwrite=True)
 
 

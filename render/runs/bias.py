@@ -8,6 +8,9 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
+from .strength import phrase_at_strength
+
+__all__ = ["BiasClips", "check_strength", "phrase_at_strength", "write_bias_clips"]
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
 
@@ -21,7 +24,8 @@ class BiasClips:
     folder : Path
     clips : tuple of dict
         Per setting, in the sweep's order: file, volts_full_scale,
-        loudness_lufs_1v_full_scale, matched_gain_db, peak_v.
+        loudness_lufs_1v_full_scale, matched_gain_db, peak_v, and ``headroom``: the phrase's
+        headroom at that setting (:meth:`render.analysis.headroom.PlayedHeadroom.record`).
     record : dict
         The run's settings (dry, strength_m, seed, target_lufs, volts_full_scale), for JSON.
     """
@@ -42,27 +46,17 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
     return (f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing; rendering it anyway",) if strength_m > REALISTIC_STRENGTH_M else ()
 
 
-def phrase_at_strength(dry_path: Path, design, settings, strength_m: float):
-    """The dry phrase with every note plucked at ``strength_m`` (m), synthesised at the design's sensing points."""
-    from dataclasses import replace
-
-    from ..design.construction import pickup_for
-    from ..dry import synthesize
-    from ..dry.phrase import load_phrase
-
-    p = load_phrase(dry_path)
-    p = replace(p, notes=tuple(replace(n, strength=strength_m) for n in p.notes))
-    a, b = design.coil_a, design.coil_b
-    return synthesize(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds, pickup=pickup_for(design))
-
-
-def _clip(args: tuple) -> np.ndarray:
+def _clip(args: tuple) -> tuple[np.ndarray, dict]:
+    """One setting's phrase clip (V at the amp input) and its headroom (:meth:`render.analysis.headroom.PlayedHeadroom.record`)."""
+    from ..analysis.headroom import from_record
     from ..clip import render_clip
     from .clips import dry_for
 
     design, dry, st, strength_m = args
     signal = phrase_at_strength(dry, design, st, strength_m) if strength_m is not None else dry_for(design, dry, st)
-    return render_clip(design, signal, hum=True).volts
+    clip = render_clip(design, signal, hum=True)
+    played = from_record(clip.stats)
+    return clip.volts, played.record() if played is not None else {}
 
 
 def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = None, seconds: float | None = None, seed: int = 0, target_lufs: float = -23.0, jobs: int = 1) -> BiasClips:
@@ -81,7 +75,8 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
     with run_folder(out):
         design = sweep.design
         st = RenderSettings(seconds=seconds, seed=seed, hum=True)
-        renders = pmap(_clip, [(s.design, dry, st, strength_m) for s in sweep.settings], jobs)
+        rendered = pmap(_clip, [(s.design, dry, st, strength_m) for s in sweep.settings], jobs)
+        renders = [x for x, _ in rendered]
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
         stem = Path(design.source).stem
         clips = []
@@ -93,6 +88,8 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
             if gain_db is not None:
                 write_float_wav(out / f"{stem}-{tag}-matched.wav", x * 10 ** (gain_db / 20), st.sample_rate, overwrite=True)
             clips.append({"file": f"{stem}-{tag}.wav", "volts_full_scale": vfs, "loudness_lufs_1v_full_scale": lufs, "matched_gain_db": gain_db, "peak_v": float(np.abs(x).max())})
+        for c, (_, played) in zip(clips, rendered):
+            c["headroom"] = played
         from ..report.plots import bias_plots
 
         bias_plots(out, design, sweep.settings, sweep.rows)

@@ -157,6 +157,7 @@ class BlindSession:
     loudness: LoudnessMatch
     clipped_fraction: tuple[float, float]
     warnings: tuple[str, ...] = ()
+    headroom: tuple = ()  # each render's PlayedHeadroom (render.analysis.headroom), in the designs' order
 
 
 def session_folder(out: str | Path | None, *, overwrite: bool) -> Path:
@@ -249,7 +250,9 @@ def build_blind_session(
     BlindSession
     """
     import secrets
+    from dataclasses import replace
 
+    from ..analysis.headroom import from_record
     from ..clip import render_clip
     from ..design.construction import pickup_for
     from ..dry import load_dry
@@ -268,6 +271,7 @@ def build_blind_session(
     length = float(settings.seconds) if settings.seconds is not None else None  # seconds, as BlindSettings read it
     volts: list = []
     clipped: list[float] = []
+    played: list = []
     warnings: list[str] = []
     dry_description = None
     for design, name in zip(designs, names):
@@ -291,6 +295,9 @@ def build_blind_session(
         warnings.extend(f"{name}: {w}" for w in clip.warnings)
         volts.append(clip.volts)
         clipped.append(float(clip.clipped_fraction))
+        h = from_record(clip.stats)
+        if h is not None:
+            played.append(replace(h, strongest_pluck_m=dry.description.get("strongest_pluck_m")))
     signals, match = match_loudness(volts, sample_rate=fs, target_lufs=settings.target_lufs, ceiling_dbtp=settings.true_peak_dbtp, names=names)
     seed = settings.seed if settings.seed is not None else secrets.randbits(63)
     record = {
@@ -300,6 +307,7 @@ def build_blind_session(
             "function": RENDER_FUNCTION,
             "hum": settings.hum,
             "clipped_fraction": clipped,
+            "headroom": [h.record() for h in played],
             "wav_scale": "1.0 full scale = 1 V at the amp input, times the loudness gain",
         },
         "loudness": match.record(),
@@ -326,4 +334,5 @@ def build_blind_session(
         loudness=match,
         clipped_fraction=(clipped[0], clipped[1]),
         warnings=tuple(warnings),
+        headroom=tuple(played),
     )

@@ -77,9 +77,14 @@ def window_full_scale(designs) -> float:
 
 
 def dry_for(design: Design, dry_path: Path, settings: RenderSettings) -> Dry:
-    """The dry signal at this design's two sensing points."""
+    """The dry signal at this design's two sensing points (a phrase's plucks scaled to ``settings.strength`` when given)."""
     from ..design.construction import pickup_for
     from ..dry import load_dry
+
+    if settings.strength is not None:
+        from .strength import phrase_at_strength
+
+        return phrase_at_strength(dry_path, design, settings, settings.strength)
 
     a, b = design.coil_a, design.coil_b
     return load_dry(
@@ -189,6 +194,10 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
         "clipped_fraction": renderer.clipped_fraction,
         "loudness_lufs_1v_full_scale": loud.integrated(),
     }
+    from ..analysis.headroom import played_headroom
+
+    lo, hi = renderer.linear_range
+    s.update(played_headroom(linear_min_v=lo, linear_max_v=hi, bias_v=plan.bias_v, window=plan.window, limited_fraction=renderer.clipped_fraction).record())
     dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}
     rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings + extra_warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
     write_json(out / f"{stem}.json", rec, overwrite=True)

@@ -88,11 +88,16 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
     start_file = start_file_of(spec, fitfile)
     rig_file = load_rig(rig) if rig else None
     start = apply_rig(load_design(start_file), rig_file)
-    results, ev, start_vals = run_fit(spec, start, top=top, seed=seed)
+    from .fit_phrase import phrase_for_fit
+
+    phrase = phrase_for_fit(spec, fitfile, start)
+    results, ev, start_vals = run_fit(spec, start, top=top, seed=seed, phrase=phrase)
     if not results or not results[0].meets:
         best = f" (best score {results[0].score:.3g})" if results else ""
         raise InputError(f"{fitfile}: no design met every aim{best}; {conflicts(spec, ev)}")
     start_fig = figures([start])[0]
+    if spec.needs_phrase:
+        start_fig["phrase_headroom_db"] = float(ev.phrase_margins([start])[0])
     with run_folder(out):
         text = start_file.read_text(encoding="utf-8")
         records, written = [], []

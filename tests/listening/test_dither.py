@@ -72,7 +72,7 @@ def test_two_copies_of_one_design_differ_by_less_than_a_24_bit_step(tmp_path):
     for t in key["trials"]:
         for slot, name in t["clips"].items():
             copies[slot_design(t, slot)].append(sf.read(paths.public / name, dtype="float64")[0])
-    for design, found in copies.items():
+    for _design, found in copies.items():
         assert len(found) >= 2
         for one, two in itertools.combinations(found[:4], 2):
             diff = one - two
@@ -120,7 +120,7 @@ def test_the_dither_comes_from_the_seed(tmp_path):
     k1, k2, k3 = (json.loads(p.key.read_text()) for p in (one, two, other))
     b1, b2 = _by_slot(one, k1), _by_slot(two, k2)
     assert b1 == b2  # same seed: the same bytes in every slot of every trial (under new random names)
-    assert set(n for t in k1["trials"] for n in t["clips"].values()).isdisjoint(n for t in k2["trials"] for n in t["clips"].values())
+    assert {n for t in k1["trials"] for n in t["clips"].values()}.isdisjoint(n for t in k2["trials"] for n in t["clips"].values())
     assert not set(b1.values()) & set(_by_slot(other, k3).values())  # another seed: no file alike
     # the trials' own draws are untouched by the dither's streams
     assert [(t["a"], t["x"]) for t in k1["trials"]] == [(t["a"], t["x"]) for t in k2["trials"]]

@@ -1,0 +1,178 @@
+"""Headroom for what is played: how far a render's op-amp swing stays from the limit.
+
+The op-amp output is the identity on [low + knee, high − knee] (the *onset*
+of the soft limit, :mod:`render.chain.limit`); from the bias point V_b the
+room to the onset is
+
+    onset_up = (high − knee) − V_b,        onset_down = V_b − (low + knee).
+
+A render records x_lin, the op-amp's *linear* output (bias, string and hum,
+what the op-amp would swing with no limit; at the loop's own rate around
+each block's extremes, :class:`render.chain.stream.Renderer`). Its largest
+excursions from the bias are e_up = max x_lin − V_b and e_down = V_b − min x_lin,
+and the margin on each side is
+
+    margin = 20·log10(onset / e)   dB,
+
+positive while the phrase stays inside the identity part, negative by as
+much as it went past the onset. Everything before the limit is linear, so
+playing the phrase g dB louder moves every excursion up by g dB: the limit is
+reached g = min(margin_up, margin_down) dB above the phrase. A phrase's
+plucks set the string's initial displacement, and the string's velocity (so
+every coil EMF) is linear in it (modal synthesis, :mod:`render.dry.modal`):
+the phrase with every pluck scaled by 10^(g/20) reaches the limit, so its
+strongest pluck s would then be s·10^(g/20) (mm). The hum does not grow with
+the plucks; counting it as if it did errs by at most its own share of the
+excursion (a few millivolts against volts of headroom on the demo designs).
+
+The share of time limited is the render's own count (oversampled steps with
+the output stage on a knee or a rail); it is printed without rounding to
+zero (:func:`format_share`).
+
+No I/O; the numbers in, a frozen result out.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from . import undefined as U
+
+NO_EXCURSION = "the op-amp output never leaves its bias point on this side"
+NO_PLUCK = "what was played is not a phrase (no pluck strength to scale)"
+
+
+def margin_db(onset_v: float, excursion_v: float) -> float | None:
+    """20·log10(onset / excursion), dB; None when the excursion is zero (or the onset is not positive)."""
+    if excursion_v <= 0 or onset_v <= 0:
+        return None
+    return 20.0 * math.log10(onset_v / excursion_v)
+
+
+@dataclass(frozen=True)
+class PlayedHeadroom:
+    """Headroom of one render.
+
+    Attributes
+    ----------
+    onset_up_v, onset_down_v : float, V
+        From the bias point to the soft limit's onset, above and below.
+    excursion_up_v, excursion_down_v : float, V, ≥ 0
+        The largest linear excursion of the op-amp output from the bias, each side.
+    margin_up_db, margin_down_db : float or None, dB
+        20·log10(onset / excursion) each side (negative: past the onset); None with no excursion.
+    limited_fraction : float, 0..1
+        Share of the render's oversampled steps with the output stage limited.
+    strongest_pluck_m : float or None, m
+        The phrase's strongest pluck (None for a recording or a bare signal).
+    """
+
+    onset_up_v: float
+    onset_down_v: float
+    excursion_up_v: float
+    excursion_down_v: float
+    margin_up_db: float | None
+    margin_down_db: float | None
+    limited_fraction: float
+    strongest_pluck_m: float | None = None
+
+    @property
+    def margin_db(self) -> float | None:
+        """The smaller margin, dB: how far above the phrase the limit is reached (None: no excursion at all)."""
+        m = [x for x in (self.margin_up_db, self.margin_down_db) if x is not None]
+        return min(m) if m else None
+
+    def strength_at_limit_m(self, side: str | None = None) -> float | None:
+        """The strongest pluck (m) at which the limit is reached, every pluck scaled alike (``side``: "up", "down" or None for the first)."""
+        g = {"up": self.margin_up_db, "down": self.margin_down_db, None: self.margin_db}[side]
+        if g is None or self.strongest_pluck_m is None:
+            return None
+        return self.strongest_pluck_m * 10.0 ** (g / 20.0)
+
+    def record(self) -> dict:
+        """JSON-ready: every figure, None with a ``_reason`` sibling where it has no value."""
+        out: dict = {
+            "limit_onset_up_v": self.onset_up_v,
+            "limit_onset_down_v": self.onset_down_v,
+            "linear_excursion_up_v": self.excursion_up_v,
+            "linear_excursion_down_v": self.excursion_down_v,
+        }
+        U.put(out, "played_margin_up_db", self.margin_up_db, NO_EXCURSION)
+        U.put(out, "played_margin_down_db", self.margin_down_db, NO_EXCURSION)
+        U.put(out, "limit_db_above_played", self.margin_db, NO_EXCURSION)
+        U.put(out, "strongest_pluck_m", self.strongest_pluck_m, NO_PLUCK)
+        for key, side in (("limit_strength_m", None), ("limit_strength_up_m", "up"), ("limit_strength_down_m", "down")):
+            U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else NO_EXCURSION)
+        out["clipped_fraction"] = self.limited_fraction
+        out["limited"] = self.limited_fraction > 0
+        return out
+
+
+def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, window, limited_fraction: float, strongest_pluck_m: float | None = None) -> PlayedHeadroom:
+    """Headroom of a render from the extremes of its linear op-amp output.
+
+    Parameters
+    ----------
+    linear_min_v, linear_max_v : float, V
+        Extremes of x_lin, bias included (``render_signal``'s ``linear_min_v`` and ``linear_max_v``).
+    bias_v : float, V
+        The op-amp output's rest point the excursions are measured from.
+    window : render.chain.limit.Window
+        The output window (its ``linear_low`` and ``linear_high`` are the onsets).
+    limited_fraction : float, 0..1
+    strongest_pluck_m : float or None, m
+
+    Returns
+    -------
+    PlayedHeadroom
+    """
+    up, down = window.linear_high - bias_v, bias_v - window.linear_low
+    e_up, e_down = max(0.0, linear_max_v - bias_v), max(0.0, bias_v - linear_min_v)
+    return PlayedHeadroom(
+        onset_up_v=float(up),
+        onset_down_v=float(down),
+        excursion_up_v=float(e_up),
+        excursion_down_v=float(e_down),
+        margin_up_db=margin_db(up, e_up),
+        margin_down_db=margin_db(down, e_down),
+        limited_fraction=float(limited_fraction),
+        strongest_pluck_m=None if strongest_pluck_m is None else float(strongest_pluck_m),
+    )
+
+
+def from_record(m: dict) -> PlayedHeadroom | None:
+    """The :class:`PlayedHeadroom` back from a record written by :meth:`PlayedHeadroom.record` (None if it has none)."""
+    if "limit_onset_up_v" not in m:
+        return None
+    return PlayedHeadroom(
+        onset_up_v=m["limit_onset_up_v"],
+        onset_down_v=m["limit_onset_down_v"],
+        excursion_up_v=m["linear_excursion_up_v"],
+        excursion_down_v=m["linear_excursion_down_v"],
+        margin_up_db=m.get("played_margin_up_db"),
+        margin_down_db=m.get("played_margin_down_db"),
+        limited_fraction=m["clipped_fraction"],
+        strongest_pluck_m=m.get("strongest_pluck_m"),
+    )
+
+
+def format_share(fraction: float) -> str:
+    """A share of time as a percentage that never rounds a non-zero share to zero.
+
+    "none" only when exactly 0; two significant digits below 10 % ("0.35 %", "2.0 %", "8.0e-06 %"); whole percents above.
+    """
+    if fraction <= 0:
+        return "none"
+    pct = 100.0 * fraction
+    return f"{pct:.0f} %" if pct >= 10 else f"{pct:#.2g} %"
+
+
+def format_margin(db: float | None) -> str:
+    """A margin in dB with its sign ("+6.1 dB"), or "no swing"."""
+    return "no swing" if db is None else f"{db:+.1f} dB"
+
+
+def format_strength(m: float | None) -> str:
+    """A pluck strength in mm with three significant digits, or a dash."""
+    return "—" if m is None else f"{m * 1e3:#.3g} mm"

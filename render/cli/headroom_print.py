@@ -1,0 +1,52 @@
+"""Printing the headroom for what was played (:mod:`render.analysis.headroom`): one table, one line per render."""
+
+from __future__ import annotations
+
+import click
+
+from ..analysis.headroom import PlayedHeadroom, format_margin, format_share, format_strength
+
+
+def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
+    """The table's lines: per render the margin above and below, where the limit is reached, and the share limited."""
+    width = max([len(name) for name, _ in rows] + [20])
+    lines = [f"{indent}{'':{width}s}  {'margin up / down':^19s}   {'limit reached at':^20s}   {'limited':>9s}"]
+    for name, h in rows:
+        strength = h.strength_at_limit_m()
+        reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength)} ({format_margin(h.margin_db)})"
+        margins = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
+        lines.append(f"{indent}{name:{width}s}  {margins:19s}   {reach:^20s}   {format_share(h.limited_fraction):>9s}")
+    return lines
+
+
+def headroom_title(rows: list[tuple[str, PlayedHeadroom]]) -> str:
+    """The line above the table: what the figures mean, with the phrase's strongest pluck when every render has the same."""
+    plucks = {h.strongest_pluck_m for _, h in rows}
+    pluck = plucks.pop() if len(plucks) == 1 else None
+    what = f"strongest pluck {format_strength(pluck)}" if pluck is not None else "a recording"
+    return f"headroom for what is played ({what}): op-amp swing against the limit's onset, and where it is reached"
+
+
+def print_headroom(rows: list[tuple[str, PlayedHeadroom]]) -> None:
+    """The title and the table on standard output (nothing for no rows)."""
+    if not rows:
+        return
+    click.echo(headroom_title(rows))
+    for line in headroom_lines(rows):
+        click.echo(line)
+
+
+def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom]) -> list[str]:
+    """``render bias``'s phrase table: per setting, the limit's onsets as the phrase's strongest pluck and as dB above the phrase, and the share limited."""
+    plucks = {h.strongest_pluck_m for h in played}
+    pluck = plucks.pop() if len(plucks) == 1 else None
+    what = f"strongest pluck {format_strength(pluck)}" if pluck is not None else "a recording"
+    lines = [
+        f"the phrase at each setting ({what}): where the op-amp output reaches the limit's onset, up / down",
+        f"  {'setting':26s} {'as strongest pluck':^19s}   {'as dB above phrase':^19s}   {'limited':>9s}",
+    ]
+    for label, h in zip(labels, played):
+        mm = f"{format_strength(h.strength_at_limit_m('up')):>8s} / {format_strength(h.strength_at_limit_m('down')):<8s}"
+        db = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
+        lines.append(f"  {label:26s} {mm:>19s}   {db:>19s}   {format_share(h.limited_fraction):>9s}")
+    return lines

@@ -1,0 +1,139 @@
+"""Headroom for what is played, checked against first principles.
+
+- A sine of known level: a linear, time-invariant network turns a sine of
+  peak V into a sine of peak |H(f)|·V (Oppenheim & Willsky, *Signals and
+  Systems*, 2nd ed., 1997, §3.2, eigenfunction property), so the op-amp's
+  excursion is v·|H(1 kHz)| and the margin to the limit's onset is
+  20·log10(onset / (v·|H|)) dB by definition of the decibel (IEC 60027-3).
+  |H| is the engine's, itself checked against ngspice in tests/circuit.
+- Pluck strength: the string's motion is linear in the initial displacement
+  (the wave equation is linear; Fletcher & Rossing, *The Physics of Musical
+  Instruments*, 2nd ed., 1998, §2.7), so scaling every pluck by k moves every
+  excursion by 20·log10(k) dB, and a phrase scaled to the printed "limit
+  reached at" strength sits at the onset (0 dB) exactly.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from render.analysis.headroom import format_share, margin_db, played_headroom
+from render.chain.limit import Window, design_window
+from render.chain.loop import dc_output
+from render.chain.stream import render_signal
+from render.clip import RenderSettings, render_clip
+from render.design import load_design
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+PHRASE = ROOT / "dry_signals" / "default.toml"
+FS = 48000
+
+
+def _faded_sine(v_peak: float, seconds: float = 0.4, f0: float = 1000.0) -> np.ndarray:
+    """A 1 kHz sine of peak v, faded in over 50 ms (raised cosine) so no start-up transient overshoots the steady peak."""
+    n = int(seconds * FS)
+    t = np.arange(n) / FS
+    fade = np.minimum(1.0, t / 0.05)
+    return v_peak * np.sin(2 * np.pi * f0 * t) * (0.5 - 0.5 * np.cos(np.pi * fade))
+
+
+def _gain_to_amp_output(design, f0=1000.0) -> float:
+    from render.analysis.bias import velocity_to_amp_output
+
+    return velocity_to_amp_output(design, f0)
+
+
+@pytest.mark.parametrize("margin_wanted_db", [12.0, 3.0, 0.5])
+def test_a_sine_of_known_level_has_the_margin_of_its_peak(margin_wanted_db):
+    d = load_design(REF)
+    win, bias = design_window(d), dc_output(d)
+    onset = min(win.linear_high - bias, bias - win.linear_low)
+    g = _gain_to_amp_output(d)
+    v = onset / g * 10 ** (-margin_wanted_db / 20)  # the sine's peak velocity for that margin
+    r = render_signal(d, _faded_sine(v), sample_rate=FS, hum=False)
+    h = played_headroom(linear_min_v=r["linear_min_v"], linear_max_v=r["linear_max_v"], bias_v=bias, window=win, limited_fraction=r["clipped_fraction"])
+    # the excursion is v·|H| on both sides (to the discretisation's 0.03 dB and the 16-point-per-sample peak search)
+    assert h.excursion_up_v == pytest.approx(v * g, rel=4e-3)
+    assert h.excursion_down_v == pytest.approx(v * g, rel=4e-3)
+    expect_up = 20 * math.log10((win.linear_high - bias) / (v * g))
+    expect_down = 20 * math.log10((bias - win.linear_low) / (v * g))
+    assert h.margin_up_db == pytest.approx(expect_up, abs=0.035)
+    assert h.margin_down_db == pytest.approx(expect_down, abs=0.035)
+    assert h.margin_db == pytest.approx(margin_wanted_db, abs=0.035)
+    # inside the identity part the output stage never limits: exactly zero, printed "none"
+    assert r["clipped_fraction"] == 0.0 and format_share(r["clipped_fraction"]) == "none"
+
+
+def test_past_the_onset_the_margin_is_negative_and_the_share_limited_is_not_zero():
+    d = load_design(REF)
+    win, bias = design_window(d), dc_output(d)
+    g = _gain_to_amp_output(d)
+    v = (win.linear_high - bias) / g * 10 ** (1.0 / 20)  # 1 dB past the onset
+    r = render_signal(d, _faded_sine(v), sample_rate=FS, hum=False)
+    h = played_headroom(linear_min_v=r["linear_min_v"], linear_max_v=r["linear_max_v"], bias_v=bias, window=win, limited_fraction=r["clipped_fraction"])
+    # the linear excursion is the unlimited one: 1 dB past the onset, though the limited output stays inside the window
+    assert h.margin_up_db == pytest.approx(-1.0, abs=0.035)
+    assert r["clipped_fraction"] > 0 and format_share(r["clipped_fraction"]) != "none"
+
+
+def test_margin_definition():
+    # 20·log10 of an amplitude ratio (IEC 60027-3): half the onset is +6.02 dB, the onset itself 0 dB
+    assert margin_db(2.0, 1.0) == pytest.approx(20 * math.log10(2))
+    assert margin_db(1.0, 1.0) == 0.0
+    assert margin_db(1.0, 0.0) is None
+    h = played_headroom(linear_min_v=4.0, linear_max_v=4.5, bias_v=4.0, window=Window(1.0, 8.0, 0.5), limited_fraction=0.0, strongest_pluck_m=1e-3)
+    assert h.margin_up_db == pytest.approx(20 * math.log10(3.5 / 0.5))
+    assert h.margin_down_db is None and h.margin_db == h.margin_up_db
+    assert h.strength_at_limit_m() == pytest.approx(1e-3 * 3.5 / 0.5)
+    rec = h.record()
+    assert rec["played_margin_down_db"] is None and rec["played_margin_down_db_reason"]
+    assert rec["limited"] is False
+
+
+@pytest.mark.parametrize(
+    "fraction,text",
+    [(0.0, "none"), (8e-8, "8.0e-06 %"), (3.5e-3, "0.35 %"), (0.02, "2.0 %"), (0.5, "50 %"), (1.0, "100 %")],
+)
+def test_the_share_limited_never_rounds_to_zero(fraction, text):
+    assert format_share(fraction) == text
+
+
+def _phrase_dry(design, strength=None, seconds=2.0):
+    from render.runs.clips import dry_for
+
+    return dry_for(design, PHRASE, RenderSettings(seconds=seconds, strength=strength))
+
+
+def test_scaling_the_plucks_scales_the_excursion_linearly():
+    d = load_design(REF)
+    a = render_clip(d, _phrase_dry(d), hum=False).stats
+    b = render_clip(d, _phrase_dry(d, strength=0.5e-3), hum=False).stats
+    k = 0.5e-3 / a["strongest_pluck_m"]
+    assert b["strongest_pluck_m"] == pytest.approx(0.5e-3)
+    # linear in the displacement: every excursion scales by k (to float rounding of the filters)
+    assert b["linear_excursion_up_v"] == pytest.approx(k * a["linear_excursion_up_v"], rel=1e-6)
+    assert b["linear_excursion_down_v"] == pytest.approx(k * a["linear_excursion_down_v"], rel=1e-6)
+    assert b["played_margin_up_db"] == pytest.approx(a["played_margin_up_db"] - 20 * math.log10(k), abs=1e-5)
+    # so the strength at which the limit is reached does not depend on how hard the phrase was played
+    assert b["limit_strength_m"] == pytest.approx(a["limit_strength_m"], rel=1e-6)
+
+
+def test_the_phrase_at_its_limit_strength_sits_at_the_onset():
+    d = load_design(REF)
+    a = render_clip(d, _phrase_dry(d), hum=False).stats
+    at = render_clip(d, _phrase_dry(d, strength=a["limit_strength_m"]), hum=False).stats
+    assert at["limit_db_above_played"] == pytest.approx(0.0, abs=1e-5)
+    louder = render_clip(d, _phrase_dry(d, strength=a["limit_strength_m"] * 10 ** (1 / 20)), hum=False).stats
+    assert louder["clipped_fraction"] > 0 and louder["limited"] is True
+
+
+def test_a_recording_has_margins_but_no_pluck_strength():
+    d = load_design(REF)
+    c = render_clip(d, _faded_sine(0.1), sample_rate=FS, hum=False)
+    assert c.stats["played_margin_up_db"] is not None
+    assert c.stats["limit_strength_m"] is None and "not a phrase" in c.stats["limit_strength_m_reason"]
