@@ -225,7 +225,7 @@ def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resona
         if silent:
             U.mark(row, k, silent_reason)
         elif k == "q":
-            U.put(row, k, fig[k][i], U.PEAK_EDGES if fig["peak_db"][i] >= 3.0 else U.NO_PEAK)
+            U.put(row, k, fig[k][i], NO_PEAK if not np.isfinite(fig["peak_db"][i]) else U.PEAK_EDGES if fig["peak_db"][i] >= 3.0 else U.NO_PEAK)
         elif k in ("peak_hz", "peak_db"):
             U.put(row, k, fig[k][i], NO_PEAK)
         else:

@@ -131,20 +131,30 @@ def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tu
         w.append(1.0 if k == k_top else (max(0.0, 1 - (top - lk) / tie) if tie > 0 else 0.0))
     logf = np.log([c[1] for c in cands])
     w = np.array(w)
-    return peaks, float(np.exp(np.sum(w * logf) / np.sum(w))), float(top - level_1k_db)
+    blended = peaks[0]["frequency_hz"] if np.count_nonzero(w) == 1 else float(np.exp(np.sum(w * logf) / np.sum(w)))
+    return peaks, blended, float(top - level_1k_db)
 
 
-def describe_peaks(fig: dict, *, q: bool = True) -> str:
-    """The peaks of a figures record in words: "4066 Hz +4.94 dB Q 1.47", several joined by "; ", or the reason there is none."""
-    from .undefined import reason
+def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
+    """The peaks of a figures record in words, or the reason there is none.
 
+    One peak: ``"peak 4066 Hz, +4.94 dB, Q 1.47"``; several: ``"peaks 4702 Hz,
+    +5.10 dB, Q 2.10; 5301 Hz, …"`` (highest first), followed by
+    ``"; peak_hz 4990 Hz (blended)"`` when ``peak_hz`` stands apart from the
+    highest peak (humps of near-equal height). A peak with no Q says why in
+    words after its height.
+    """
     peaks = fig.get("peaks")
     if not peaks:
-        return reason(fig, "peak_hz", NO_PEAK)
+        return U.reason(fig, "peak_hz", NO_PEAK)
     parts = []
     for p in peaks:
-        text = f"{p['frequency_hz']:.0f} Hz, {p['height_db']:+.2f} dB"
+        text = f"{p['frequency_hz']:.0f} Hz, {p['height_db']:+.2f}{unit}"
         if q:
-            text += f", Q {p['q']:.2f}" if p["q"] is not None else ", Q —"
+            text += f", Q {p['q']:.2f}" if p["q"] is not None else f", no Q ({p['q_reason']})"
         parts.append(text)
-    return "; ".join(parts)
+    out = ("peak " if len(parts) == 1 else "peaks ") + "; ".join(parts)
+    top = peaks[0]["frequency_hz"]
+    if fig.get("peak_hz") is not None and abs(fig["peak_hz"] / top - 1) > 5e-4:
+        out += f"; peak_hz {fig['peak_hz']:.0f} Hz (blended with a hump of near-equal height)"
+    return out

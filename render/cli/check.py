@@ -25,10 +25,9 @@ def print_design(rec):
         + (f", bias node {c['bias_node_hz']:.4g} Hz" if c["bias_node_hz"] else "")
     )
     pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else ""
-    if f["peak_hz"] is None:
-        click.echo(f"  loaded resonance  {shown(f, 'peak_hz', '')}{pole}")
-    else:
-        click.echo(f"  loaded resonance  peak {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB, Q {shown(f, 'q', '.2f')}{pole}")
+    from ..analysis.peaks import describe_peaks
+
+    click.echo(f"  loaded resonance  {describe_peaks(f)}{pole}")
     if f["level_1k_db"] is None:
         click.echo(f"  gain at 1 kHz     {shown(f, 'level_1k_db', '')}")
     else:
