@@ -31,8 +31,9 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 @click.option("--volts-full-scale", type=click.FloatRange(min=1e-3, max=100, min_open=True), default=None, help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).")
 @jobs_option("Render designs in this many processes (default: one per core; results identical to one).", default=None)
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
+@click.option("--reference", "reference", default=None, metavar="NAME", help="The design (name or file stem) the loudness-matched brightness differences are taken against (default: the first).")
 @friendly
-def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, volts_full_scale, jobs, plots):
+def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, volts_full_scale, jobs, plots, reference):
     """Render one clip per design (default: every models/*.toml).
 
     Every design plays the same dry signal into the same rig, and every WAV
@@ -46,8 +47,11 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     from ..errors import InputError
     from ..io.folders import output_folder
 
+    from ..analysis.brightness import reference_index
+
     dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di)
     designs, rig = load_designs(models, rig=rig_path)
+    reference_index(designs, reference)  # a wrong name is refused before the folder is made
     if len({Path(d.source).stem for d in designs}) != len(designs):
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
     out = output_folder(out_dir, overwrite=overwrite)
@@ -59,17 +63,17 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         report_from_di(made)
         dry = made.wav
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise)
-    render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale)
+    render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference)
 
 
-def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None) -> None:
+def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None) -> None:
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     bar = click.progressbar(length=len(designs), label="rendering", file=sys.stderr, show_pos=True) if len(designs) > 1 else contextlib.nullcontext()
     with bar as shown:
-        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None)
+        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None, reference=reference)
     for w in run.warnings:
         warn(w)
     if run.over_full_scale:
