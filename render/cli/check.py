@@ -6,7 +6,7 @@ import click
 
 from ..design import load_designs
 from ..io.folders import refuse_existing as check_new
-from .options import emit_json, friendly, json_option, overwrite_option, rig_option
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option, warn
 
 
 def print_design(rec):
@@ -92,6 +92,9 @@ def check_command(models, rig_path, turns_percent, json_path, overwrite):
     check_new([json_path], overwrite=overwrite)
     designs, _ = load_designs(models, rig=rig_path)
     records = check_designs(designs, turns_percent=turns_percent)
+    for rec in records:
+        for w in rec["warnings"]:
+            warn(f"{rec['design']}: {w}")
     if json_path != "-":
         for i, (d, rec) in enumerate(zip(designs, records)):
             if i:
