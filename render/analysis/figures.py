@@ -38,6 +38,8 @@ Everything is vectorised over the N designs of one
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from . import undefined as U
@@ -101,7 +103,7 @@ def _first_below(mask: np.ndarray) -> np.ndarray:
     return np.where(mask.any(axis=1), idx, -1)
 
 
-def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, np.ndarray]:
+def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
     """Peak, Q and corners from sampled levels ``h_db`` (N, F) on grid ``f`` (F,)."""
     n = h_db.shape[0]
     i1k = int(np.argmin(np.abs(np.log(f / 1000.0))))

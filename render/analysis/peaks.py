@@ -124,13 +124,13 @@ def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tu
             p["q_reason"] = Q_LOW if height < Q_MIN_HEIGHT_DB else Q_EDGES
         peaks.append(p)
     k_top, _, top, _ = max(shown, key=lambda c: c[2])
-    w = []
+    weights = []
     for k, _, lk, _ in cands:
         dip = lk - float(np.min(h_db[min(k, k_top) : max(k, k_top) + 1]))  # depth of the dip between it and the highest
         tie = TIE_DB * min(dip / PROMINENCE_DB, 1.0)
-        w.append(1.0 if k == k_top else (max(0.0, 1 - (top - lk) / tie) if tie > 0 else 0.0))
+        weights.append(1.0 if k == k_top else (max(0.0, 1 - (top - lk) / tie) if tie > 0 else 0.0))
     logf = np.log([c[1] for c in cands])
-    w = np.array(w)
+    w = np.array(weights)
     blended = peaks[0]["frequency_hz"] if np.count_nonzero(w) == 1 else float(np.exp(np.sum(w * logf) / np.sum(w)))
     return peaks, blended, float(top - level_1k_db)
 

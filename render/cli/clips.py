@@ -41,13 +41,12 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     per design S.wav (float32), S.json, S-response.png, S-spectrum.png and
     S-spectrogram.png, and for the run summary.md and responses.png.
     """
+    from ..analysis.brightness import reference_index
     from ..clip import RenderSettings
     from ..design import load_designs
     from ..dry import check_dry_file
     from ..errors import InputError
     from ..io.folders import output_folder
-
-    from ..analysis.brightness import reference_index
 
     dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di)
     designs, rig = load_designs(models, rig=rig_path)

@@ -8,9 +8,9 @@ from pathlib import Path
 import numpy as np
 
 from ..io.atomic import write_text
+from ..io.wav import write_float_wav
 from .brightness import COLUMNS as BRIGHTNESS_COLUMNS
 from .brightness import NOTE as BRIGHTNESS_NOTE
-from ..io.wav import write_float_wav
 
 
 def write_design_audio(out: Path, stem: str, clip, rec: dict, *, volts_full_scale: float, sample_rate: int) -> list[Path]:

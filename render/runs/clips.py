@@ -330,14 +330,13 @@ def run_clips(
     reference : str or None
         The design (name or file stem) the loudness-matched brightness differences are taken from (default: the first).
     """
+    from ..analysis.brightness import reference_index
     from ..compare.folders import write_clips_page
     from ..io.folders import run_folder
     from ..parallel import SideProcess
+    from ..report.brightness import add_brightness
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
     from ..report.records import clip_record
-
-    from ..analysis.brightness import reference_index
-    from ..report.brightness import add_brightness
 
     ref = reference_index(designs, reference)  # refused before any work
     stems = [Path(d.source).stem for d in designs]
