@@ -14,6 +14,7 @@ The responses are computed with scipy.signal.freqs, independently of the engine.
 from __future__ import annotations
 
 from dataclasses import replace
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -146,3 +147,17 @@ def test_response_figures_keep_the_single_peak_of_a_vectorised_batch():
     out = response_figures(h, F)
     assert out["peak_hz"][1] / out["peak_hz"][0] == pytest.approx(1.5, rel=2e-3)  # the same shape scaled in frequency
     assert [len(p) for p in out["peaks"]] == [1, 1]
+
+
+def test_check_prints_no_peak_in_words(tmp_path):
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    text = (Path(__file__).resolve().parents[2] / "models" / "studio-reference.toml").read_text()
+    damped = tmp_path / "damped.toml"
+    damped.write_text(text.replace('load_c = "3n9"   # with the coil\'s 350 mH, a resonance near 4 kHz', 'load_c = "3n9"\nload_r = "5k"', 1).replace('load_c = "3n9"\nseries_c = "1u"\nseries_r = "22k"\nbias_top', 'load_c = "3n9"\nload_r = "5k"\nseries_c = "1u"\nseries_r = "22k"\nbias_top', 1))
+    res = CliRunner().invoke(main, ["check", str(damped)])
+    assert res.exit_code == 0, res.output
+    line = next(x for x in res.output.splitlines() if "loaded resonance" in x)
+    assert "no peak from 1 kHz to 20 kHz" in line and "1000 Hz" not in line
