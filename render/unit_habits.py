@@ -21,21 +21,29 @@ are read by :mod:`render.units` itself.
 from __future__ import annotations
 
 import re
+from collections.abc import Callable, Mapping
 
-from . import units as U
-
-_HABIT = re.compile(rf"^({U._NUMBER})([A-Za-zµμ]?)(fd|f|h|v|hz|ohms?)$", re.IGNORECASE)
+# (this module is imported by render.units and imports nothing of render's: the parser is passed in)
+_NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"  # as render.units reads a number
+_HABIT = re.compile(rf"^({_NUMBER})([A-Za-zµμ]?)(fd|f|h|v|hz|ohms?)$", re.IGNORECASE)
 # the unit a lower-case symbol stands for, and the kinds it fits
 _SYMBOLS = {"f": ("F", ("capacitance", "capacitance per metre")), "h": ("H", ("inductance",)), "v": ("V", ("voltage",)), "hz": ("Hz", ("frequency",)), "ohm": ("Ω", ("resistance",)), "ohms": ("Ω", ("resistance",))}
 
 
-def read_habit(text: str, kind: U.Kind) -> float | None:
+def read_habit(text: str, kind_name: str, *, parse: Callable[[str], float], prefixes: Mapping[str, int], error: type[Exception]) -> float | None:
     """``text`` (spaces removed) read by a habit above, in SI units; None when no habit applies.
 
-    Raises
-    ------
-    QuantityError
-        For an ambiguous habit, with the fix.
+    Parameters
+    ----------
+    text : str
+    kind_name : str
+        The field's kind ("capacitance", "inductance", ...).
+    parse : callable
+        Reads ``"2.2u"`` (a number and a prefix) as the field's kind.
+    prefixes : mapping
+        The SI prefix letters.
+    error : exception class
+        Raised, with the fix, for an ambiguous habit.
     """
     m = _HABIT.match(text)
     if not m:
@@ -43,19 +51,19 @@ def read_habit(text: str, kind: U.Kind) -> float | None:
     number, prefix, symbol = m.group(1), m.group(2), m.group(3)
     low = symbol.lower()
     if low == "fd":
-        if prefix in ("m", "M", "u", "U", "µ", "μ") and kind.name.startswith("capacitance"):
-            raise U.QuantityError(f'"{prefix}fd" is an old way of writing microfarads, which the SI reads as milli- or megafarads; write "{number}uF" (or "{number}mF" for millifarads)')
+        if prefix in ("m", "M", "u", "U", "µ", "μ") and kind_name.startswith("capacitance"):
+            raise error(f'"{prefix}fd" is an old way of writing microfarads, which the SI reads as milli- or megafarads; write "{number}uF" (or "{number}mF" for millifarads)')
         return None
     unit, kinds = _SYMBOLS[low]
-    if kind.name not in kinds:
+    if kind_name not in kinds:
         return None
     if low == "f" and prefix in ("m", "M"):
-        raise U.QuantityError(f'"{prefix}{symbol}" can mean millifarads or, in old catalogues, microfarads; write "{number}uF" for microfarads or "{number}mF" for millifarads')
+        raise error(f'"{prefix}{symbol}" can mean millifarads or, in old catalogues, microfarads; write "{number}uF" for microfarads or "{number}mF" for millifarads')
     if low == "hz" and prefix == "m" and symbol != "Hz":
-        raise U.QuantityError(f'"{prefix}{symbol}" can mean millihertz or megahertz; write "{number}MHz" or "{number}mHz"')
-    if prefix and prefix not in U.PREFIXES:
-        fixed = prefix.lower() if prefix.lower() in U.PREFIXES else None
+        raise error(f'"{prefix}{symbol}" can mean millihertz or megahertz; write "{number}MHz" or "{number}mHz"')
+    if prefix and prefix not in prefixes:
+        fixed = prefix.lower() if prefix.lower() in prefixes else None
         if fixed is None:
             return None
-        raise U.QuantityError(f'"{prefix}" is not an SI prefix; write "{number}{fixed}{unit}"')
-    return U.parse_quantity(f"{number}{prefix}", kind)
+        raise error(f'"{prefix}" is not an SI prefix; write "{number}{fixed}{unit}"')
+    return parse(f"{number}{prefix}")

@@ -167,7 +167,7 @@ def parse_quantity(value: object, kind: Kind) -> float:
         return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
     from .unit_habits import read_habit  # "2.2uf", "120mh": read, or refused with the fix
 
-    habit = read_habit(text, kind)
+    habit = read_habit(text, kind.name, parse=lambda t: parse_quantity(t, kind), prefixes=PREFIXES, error=QuantityError)
     if habit is not None:
         return habit
     raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}; write it like {example(kind)}")

@@ -93,7 +93,7 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field, table: str = "") -
     """Suggest the likely fix for a value outside the plausible range (the prefix from the part's usual range, :mod:`render.plausible`)."""
     bare = isinstance(raw, (int, float)) or (isinstance(raw, str) and U._NUMBER_RE.match(raw.strip()) is not None)
     if bare and spec.kind in (U.CAPACITANCE, U.INDUCTANCE, U.CAP_PER_LENGTH) and value >= 1:
-        from .plausible import likely_prefix
+        from .usual import likely_prefix
 
         part = key.split(".")[:2] if table == "free" and key.count(".") >= 2 else [table, key]  # a fit file's [free] "feedback.c".min
         guess = likely_prefix(part[0], part[1], value) or f"{value:g}n"

@@ -77,7 +77,8 @@ def level_db(response, frequency_hz: float) -> np.ndarray:
 def band_levels_re_1k(response, bands=BANDS_HZ) -> dict[str, np.ndarray]:
     """Each band's level re the level at 1 kHz (dB), keyed by :func:`band_key`; arrays of shape (N,)."""
     at_1k = level_db(response, 1000.0)
-    return {band_key(b): band_power_db(response, b) - at_1k for b in bands}
+    with np.errstate(invalid="ignore"):  # NaN for a silent response
+        return {band_key(b): band_power_db(response, b) - at_1k for b in bands}
 
 
 def loudness_matched_difference_db(level_db, reference_level_db, *, gain_db, reference_gain_db):
@@ -118,17 +119,19 @@ def brightness_records(designs, loudness_lufs, *, reference: int = 0, bands=BAND
     at_1k = level_db(vel, 1000.0)
     ref_loud = loudness_lufs[reference]
     out = []
-    for i, _ in enumerate(designs):
+    for i in range(len(designs)):
         row: dict = {"reference_design": designs[reference].name, "is_reference": i == reference, "bands_hz": [list(b) for b in bands]}
         for b in bands:
             k = band_key(b)
-            U.put(row, f"band_{k}_re_1k_db", power[k][i] - at_1k[i], U.NO_SIGNAL)
+            with np.errstate(invalid="ignore"):  # a silent response (−inf − −inf) becomes None with its reason
+                U.put(row, f"band_{k}_re_1k_db", power[k][i] - at_1k[i], U.NO_SIGNAL)
             if ref_loud is None:
                 U.mark(row, f"matched_diff_{k}_db", NO_REFERENCE_LOUDNESS)
             elif loudness_lufs[i] is None:
                 U.mark(row, f"matched_diff_{k}_db", NO_LOUDNESS)
             else:
-                d = loudness_matched_difference_db(power[k][i], power[k][reference], gain_db=-loudness_lufs[i], reference_gain_db=-ref_loud)
+                with np.errstate(invalid="ignore"):
+                    d = loudness_matched_difference_db(power[k][i], power[k][reference], gain_db=-loudness_lufs[i], reference_gain_db=-ref_loud)
                 U.put(row, f"matched_diff_{k}_db", 0.0 if i == reference else d, U.NO_SIGNAL)
         out.append(row)
     return out

@@ -106,11 +106,7 @@ def check_designs(designs, *, turns_percent: float | None = None) -> list[dict]:
     resp = responses(from_designs(list(designs)))
     figs = figures(designs, resp)
     vel = resp.velocity()
-    from ..plausible import design_warnings
-
     records = [design_summary(d, fig, pole_resonance(vel, i)) for i, (d, fig) in enumerate(zip(designs, figs))]
-    for d, rec in zip(designs, records):
-        rec["warnings"] = list(design_warnings(d))  # legal but unlikely values (render.plausible)
     if turns_percent:
         from .turns import turns_table
 

@@ -92,7 +92,10 @@ def check_command(models, rig_path, turns_percent, json_path, overwrite):
     check_new([json_path], overwrite=overwrite)
     designs, _ = load_designs(models, rig=rig_path)
     records = check_designs(designs, turns_percent=turns_percent)
-    for rec in records:
+    from ..plausible import design_warnings
+
+    for d, rec in zip(designs, records):
+        rec["warnings"] = list(design_warnings(d))  # legal but unlikely values
         for w in rec["warnings"]:
             warn(f"{rec['design']}: {w}")
     if json_path != "-":
