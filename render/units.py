@@ -165,6 +165,11 @@ def parse_quantity(value: object, kind: Kind) -> float:
         if letter in "RE" and kind.name != "resistance":
             raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not {_a(kind)}")
         return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
+    from .unit_habits import read_habit  # "2.2uf", "120mh": read, or refused with the fix
+
+    habit = read_habit(text, kind.name, parse=lambda t: parse_quantity(t, kind), prefixes=PREFIXES, error=QuantityError)
+    if habit is not None:
+        return habit
     raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}; write it like {example(kind)}")
 
 

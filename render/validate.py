@@ -89,8 +89,15 @@ def where(source: str, table: str | None, key: str | None = None) -> str:
     return loc
 
 
-def _slip_hint(key: str, raw: Any, value: float, spec: Field) -> str:
-    """Suggest the likely fix for a value outside the plausible range."""
+def _slip_hint(key: str, raw: Any, value: float, spec: Field, table: str = "") -> str:
+    """Suggest the likely fix for a value outside the plausible range (the prefix from the part's usual range, :mod:`render.plausible`)."""
+    bare = isinstance(raw, (int, float)) or (isinstance(raw, str) and U._NUMBER_RE.match(raw.strip()) is not None)
+    if bare and spec.kind in (U.CAPACITANCE, U.INDUCTANCE, U.CAP_PER_LENGTH) and value >= 1:
+        from .usual import likely_prefix
+
+        part = key.split(".")[:2] if table == "free" and key.count(".") >= 2 else [table, key]  # a fit file's [free] "feedback.c".min
+        guess = likely_prefix(part[0], part[1], value) or f"{value:g}n"
+        return f' (plain numbers are in SI units: {shorten(str(raw).strip())} means {value:g} {spec.kind.unit}; write e.g. "{guess}")'
     if isinstance(raw, str):
         t = raw.strip()
         body = next((t[: -len(s)] for s in ("ohms", "ohm", "Ω") if t.endswith(s)), t)
@@ -98,8 +105,6 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field) -> str:
             return f' ("m" is milli; for mega write "{body[:-1]}M")'
         if spec.kind is U.CAPACITANCE and value > spec.hi:
             return " (a capacitor that large is unlikely; check the prefix: p, n, u)"
-    elif isinstance(raw, (int, float)) and spec.kind in (U.CAPACITANCE, U.INDUCTANCE) and value >= 1:
-        return f' (plain numbers are in SI units: {raw} means {raw} {spec.kind.unit}; write e.g. "{raw}n")'
     return ""
 
 
@@ -140,7 +145,7 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
         fmt = (lambda x: U.format_si(x, unit)) if unit else (lambda x: f"{x:g}")
         lo = fmt(spec.lo) if spec.lo else "0"
         rng = f"{'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {fmt(spec.hi)}"
-        raise InputError(f"{loc}={U.shown(raw)} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec)}")
+        raise InputError(f"{loc}={U.shown(raw)} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec, table)}")
     return value
 
 

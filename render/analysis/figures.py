@@ -5,14 +5,19 @@ from :func:`figures`, computed from the small-signal response H(f) from
 string velocity (the same at both sensing points) to the amp input:
 
 - ``level_1k_db``: 20·log10|H(1 kHz)|, dB re 1 V per m/s.
-- ``peak_hz``, ``peak_db``: frequency and level (dB re ``level_1k_db``) of
-  the largest |H| between 1 kHz and 20 kHz; 1000 and 0 when that is 1 kHz.
-  ``resonance_hz`` and ``resonance_db`` are the same two figures.
-- ``q``: ``peak_hz`` over the width between the −3 dB points (re the peak)
-  around the peak; None when ``peak_db`` < 3 dB.
+- ``peaks``: every peak from 1 kHz to 20 kHz with a prominence of 0.5 dB or
+  more, highest first (frequency, height re ``level_1k_db``, prominence, Q:
+  :mod:`render.analysis.peaks`); an empty list when there is none.
+- ``peak_hz``, ``peak_db``: the highest peak's height (dB re ``level_1k_db``)
+  and its frequency, blended with any peak within 1 dB of it so that it does
+  not jump when two humps trade places (:mod:`render.analysis.peaks`); None
+  with a reason when there is no peak. ``resonance_hz`` and
+  ``resonance_db`` are the same two figures.
+- ``q``: the highest peak's frequency over the width between the −3 dB
+  points (re the peak) around it; None when ``peak_db`` < 3 dB.
 - ``bass_corner_hz``: the highest frequency below 1 kHz where |H| is 3 dB
   under ``level_1k_db``; ``treble_corner_hz``: the lowest above ``peak_hz``
-  where it is, None beyond 20 kHz.
+  (above 1 kHz when there is no peak) where it is, None beyond 20 kHz.
 - ``gain_vs_passive_db``: ``level_1k_db`` minus the passive reference's.
 - ``hum_rejection_db``: 20·log10(max(|V_A|, |V_B|)/|V_A + V_B|) at the
   mains fundamental, V_A and V_B the hum at the amp input from each coil's
@@ -33,9 +38,12 @@ Everything is vectorised over the N designs of one
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from . import undefined as U
+from .peaks import NO_PEAK
 
 F_LO, F_HI = 5.0, 40000.0
 GRID_POINTS = 1600  # log-spaced; 0.4 % steps, then refined by interpolation
@@ -95,41 +103,18 @@ def _first_below(mask: np.ndarray) -> np.ndarray:
     return np.where(mask.any(axis=1), idx, -1)
 
 
-def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, np.ndarray]:
+def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
     """Peak, Q and corners from sampled levels ``h_db`` (N, F) on grid ``f`` (F,)."""
     n = h_db.shape[0]
-    rows = np.arange(n)
     i1k = int(np.argmin(np.abs(np.log(f / 1000.0))))
     lvl = np.array([np.interp(0.0, np.log(f[i1k - 1 : i1k + 2] / 1000.0), r[i1k - 1 : i1k + 2]) for r in h_db])
-    band = (f >= 1000.0) & (f <= 20000.0)
-    ib = np.flatnonzero(band)
-    k = ib[np.argmax(h_db[:, ib], axis=1)]
-    # parabolic refinement in log f
-    km = np.clip(k, 1, len(f) - 2)
-    ya, yb, yc = h_db[rows, km - 1], h_db[rows, km], h_db[rows, km + 1]
-    denom = ya - 2 * yb + yc
-    off = np.where(np.abs(denom) > 1e-12, 0.5 * (ya - yc) / denom, 0.0)
-    off = np.clip(off, -0.5, 0.5)
-    step = np.log(f[1] / f[0])
-    interior = (k > ib[0]) & (k < ib[-1])
-    peak_hz = np.where(interior, f[km] * np.exp(off * step), f[k])
-    peak_lvl = np.where(interior, yb - 0.25 * (ya - yc) * off, h_db[rows, k])
-    at_1k = k == ib[0]
-    peak_hz = np.where(at_1k, 1000.0, peak_hz)
-    peak_db = np.where(at_1k, 0.0, peak_lvl - lvl)
+    # every peak above the stated prominence, the stable peak frequency and the highest peak's Q
+    from .peaks import response_peaks
 
-    # Q from the -3 dB points around the peak
-    q = np.full(n, np.nan)
-    for r in np.flatnonzero(peak_db >= 3.0).tolist():
-        y = h_db[r] - (peak_lvl[r] - 3.0)
-        kk = k[r]
-        left = np.flatnonzero(y[:kk] < 0)
-        right = np.flatnonzero(y[kk:] < 0)
-        if left.size and right.size:
-            il, ir = left[-1], kk + right[0]
-            fl = _crossing(f, y[None], np.array([il]), np.array([il + 1]), np.zeros(1))[0]
-            fr = _crossing(f, y[None], np.array([ir - 1]), np.array([ir]), np.zeros(1))[0]
-            q[r] = peak_hz[r] / (fr - fl)
+    found = [response_peaks(h_db[r], f, level_1k_db=lvl[r]) for r in range(n)]
+    peak_hz = np.array([x[1] for x in found])
+    peak_db = np.array([x[2] for x in found])
+    q = np.array([np.nan if not x[0] or x[0][0]["q"] is None else x[0][0]["q"] for x in found])
 
     # bass corner: highest f below 1 kHz with |H| 3 dB under level_1k
     below = h_db[:, :i1k] < (lvl[:, None] - 3.0)
@@ -143,7 +128,7 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, np.ndarray]:
     # treble corner: lowest f above peak_hz with |H| 3 dB under level_1k, None beyond 20 kHz
     treble = np.full(n, np.nan)
     for r in range(n):
-        first = int(np.searchsorted(f, peak_hz[r]))
+        first = int(np.searchsorted(f, peak_hz[r] if np.isfinite(peak_hz[r]) else 1000.0))
         idx = np.flatnonzero(h_db[r, first:] < lvl[r] - 3.0)
         if idx.size:
             j = first + idx[0]
@@ -157,6 +142,7 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, np.ndarray]:
         "q": q,
         "bass_corner_hz": bass,
         "treble_corner_hz": treble,
+        "peaks": [x[0] for x in found],
     }
 
 
@@ -241,9 +227,12 @@ def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resona
         if silent:
             U.mark(row, k, silent_reason)
         elif k == "q":
-            U.put(row, k, fig[k][i], U.NO_PEAK if fig["peak_db"][i] < 3.0 else U.PEAK_EDGES)
+            U.put(row, k, fig[k][i], NO_PEAK if not np.isfinite(fig["peak_db"][i]) else U.PEAK_EDGES if fig["peak_db"][i] >= 3.0 else U.NO_PEAK)
+        elif k in ("peak_hz", "peak_db"):
+            U.put(row, k, fig[k][i], NO_PEAK)
         else:
             U.put(row, k, fig[k][i], {"bass_corner_hz": U.NO_BASS_CORNER, "treble_corner_hz": U.NO_TREBLE_CORNER}.get(k, silent_reason))
+    row["peaks"] = [] if silent else fig["peaks"][i]
     if resonance:
         for new, old in (("resonance_hz", "peak_hz"), ("resonance_db", "peak_db")):
             U.put(row, new, row[old], U.reason(row, old))

@@ -42,7 +42,9 @@ NO_SWING_DB = 200.0  # what a phrase that never moves the op-amp output counts a
 # default scale of a one-sided bound's miss (a 'min' or 'max' with no tolerance): common practice, no source
 BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
 # what an undefined figure counts as when scored
-UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB}
+# (no peak scores as a peak at the band's lower edge, level with 1 kHz: a response falling from 1 kHz)
+UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB,
+             "peak_hz": 1000.0, "resonance_hz": 1000.0, "peak_db": 0.0, "resonance_db": 0.0}
 FREE_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 
 

@@ -29,6 +29,7 @@ NO_LINKAGE = "no hum: no source links either coil at this harmonic"
 NO_SIGNAL = "no signal: the coils cancel the string signal exactly (a coil wired in reverse? check signal_polarity)"
 PASSIVE_NO_SIGNAL = "no passive signal: the passive reference's coils cancel the string signal exactly"
 NO_PEAK = "no peak of 3 dB or more above the 1 kHz level"
+NO_PEAK_IN_BAND = "no peak from 1 kHz to 20 kHz (none with a prominence of 0.5 dB or more)"
 PEAK_EDGES = "the peak's -3 dB points lie outside 5 Hz to 40 kHz"
 NO_BASS_CORNER = "within 3 dB of the 1 kHz level down to 5 Hz"
 NO_TREBLE_CORNER = "beyond 20 kHz"
@@ -47,6 +48,7 @@ SHORT = {
     PASSIVE_NO_SIGNAL: "no passive signal",
     NO_PEAK: "none",
     PEAK_EDGES: "none",
+    NO_PEAK_IN_BAND: "no peak",
     NO_BASS_CORNER: "below 5 Hz",
     NO_TREBLE_CORNER: "beyond 20 kHz",
     SILENT: "silent",

@@ -7,7 +7,7 @@ import click
 from ..design import load_designs
 from ..io.folders import refuse_existing as check_new
 from .compare_print import compare_option
-from .options import emit_json, friendly, json_option, overwrite_option, rig_option
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option, warn
 
 
 def print_design(rec):
@@ -26,10 +26,9 @@ def print_design(rec):
         + (f", bias node {c['bias_node_hz']:.4g} Hz" if c["bias_node_hz"] else "")
     )
     pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else ""
-    if f["peak_hz"] is None:
-        click.echo(f"  loaded resonance  {shown(f, 'peak_hz', '')}{pole}")
-    else:
-        click.echo(f"  loaded resonance  peak {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB, Q {shown(f, 'q', '.2f')}{pole}")
+    from ..analysis.peaks import describe_peaks
+
+    click.echo(f"  loaded resonance  {describe_peaks(f)}{pole}")
     if f["level_1k_db"] is None:
         click.echo(f"  gain at 1 kHz     {shown(f, 'level_1k_db', '')}")
     else:
@@ -98,6 +97,13 @@ def check_command(models, rig_path, turns_percent, compare_path, json_path, over
     from .compare_print import comparison_of, echo, figure_lines, load_compare
 
     compared = comparison_of(load_compare(compare_path, rig_path))
+
+    from ..plausible import design_warnings
+
+    for d, rec in zip(designs, records):
+        rec["warnings"] = list(design_warnings(d))  # legal but unlikely values
+        for w in rec["warnings"]:
+            warn(f"{rec['design']}: {w}")
     if json_path != "-":
         for i, (d, rec) in enumerate(zip(designs, records)):
             if i:

@@ -34,8 +34,9 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 @jobs_option("Render designs in this many processes (default: one per core; results identical to one).", default=None)
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
 @compare_option
+@click.option("--reference", "reference", default=None, metavar="NAME", help="The design (name or file stem) the loudness-matched brightness differences are taken against (default: the first).")
 @friendly
-def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, strength, volts_full_scale, jobs, plots, compare_path=None):
+def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, strength, volts_full_scale, jobs, plots, reference=None, compare_path=None):
     """Render one clip per design (default: every models/*.toml).
 
     Every design plays the same dry signal into the same rig, and every WAV
@@ -43,6 +44,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     per design S.wav (float32), S.json, S-response.png, S-spectrum.png and
     S-spectrogram.png, and for the run summary.md and responses.png.
     """
+    from ..analysis.brightness import reference_index
     from ..clip import RenderSettings
     from ..design import load_designs
     from ..dry import check_dry_file
@@ -52,6 +54,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
     dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di)
     strength_m = read_strength(strength, dry)
     designs, rig = load_designs(models, rig=rig_path)
+    reference_index(designs, reference)  # a wrong name is refused before the folder is made
     if len({Path(d.source).stem for d in designs}) != len(designs):
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
     from .compare_print import load_compare
@@ -68,7 +71,7 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
         report_from_di(made)
         dry = made.wav
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise, strength=strength_m)
-    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale)
+    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference)
     if compared is not None:
         from ..runs.compare_clip import compare_stem, write_compare_clip
 
@@ -104,14 +107,14 @@ def print_record_headroom(records) -> None:
     print_headroom(rows)
 
 
-def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None):
+def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None):
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     bar = click.progressbar(length=len(designs), label="rendering", file=sys.stderr, show_pos=True) if len(designs) > 1 else contextlib.nullcontext()
     with bar as shown:
-        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None)
+        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None, reference=reference)
     for w in run.warnings:
         warn(w)
     print_record_headroom(run.records)

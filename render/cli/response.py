@@ -9,23 +9,33 @@ from .compare_print import compare_option
 from .options import friendly, overwrite_option, rig_option
 
 
+def _aligned(text: str) -> str:
+    """The peaks' words with the label padded as before ("peak    4066 Hz, …")."""
+    for word in ("peaks", "peak"):
+        if text.startswith(word + " "):
+            return f"{word:<8}{text[len(word) + 1 :]}"
+    return " " * 8 + text
+
+
 def summary_lines(d, fig) -> list[str]:
     from ..analysis.undefined import cell, shown
     from ..units import format_si
 
     p = fig["passive"]
-    if fig["peak_hz"] is None:  # the coils cancel the string signal: one line says so
+    from ..analysis.peaks import describe_peaks
+
+    if fig["level_1k_db"] is None:  # the coils cancel the string signal: one line says so
         resonance = [f"  response          {shown(fig, 'peak_hz', '')}"]
     else:
         resonance = [
-            f"  resonance peak    {fig['peak_hz']:.0f} Hz, {fig['peak_db']:+.2f} dB re 1 kHz, Q {shown(fig, 'q', '.2f')}",
+            "  resonance " + _aligned(describe_peaks(fig, unit=" dB re 1 kHz")),
             f"  -3 dB corners     bass {shown(fig, 'bass_corner_hz', '.3g', ' Hz')}, treble {shown(fig, 'treble_corner_hz', '.0f', ' Hz')}",
             f"  level at 1 kHz    {fig['level_1k_db']:+.2f} dB re 1 V per m/s ({shown(fig, 'gain_vs_passive_db', '+.2f', ' dB against passive')})",
         ]
-    if p["peak_hz"] is None:
+    if p["level_1k_db"] is None:
         passive = f"  passive reference {shown(p, 'peak_hz', '')}"
     else:
-        passive = f"  passive reference peak {p['peak_hz']:.0f} Hz, {p['peak_db']:+.2f} dB, level at 1 kHz {p['level_1k_db']:+.2f} dB"
+        passive = f"  passive reference {describe_peaks(p, q=False)}, level at 1 kHz {p['level_1k_db']:+.2f} dB"
     return [
         f"{d.name}  ({d.source})",
         *resonance,

@@ -152,8 +152,10 @@ def difference_plot(path, key: dict, *, overwrite: bool = False):
     h = responses(from_designs(designs)).velocity()(f)
     level = level_db(h)
     gains = key.get("loudness", {}).get("gains_db", [0.0, 0.0])
+    from ..analysis.brightness import loudness_matched_difference_db
+
     raw = level[0] - level[1]
-    played = raw + (gains[0] - gains[1])
+    played = loudness_matched_difference_db(level[0], level[1], gain_db=gains[0], reference_gain_db=gains[1])
     plt = pyplot()
     fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 6.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
     for i, d in enumerate(designs):

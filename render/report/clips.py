@@ -9,6 +9,8 @@ import numpy as np
 
 from ..io.atomic import write_text
 from ..io.wav import write_float_wav
+from .brightness import COLUMNS as BRIGHTNESS_COLUMNS
+from .brightness import NOTE as BRIGHTNESS_NOTE
 
 
 def write_design_audio(out: Path, stem: str, clip, rec: dict, *, volts_full_scale: float, sample_rate: int) -> list[Path]:
@@ -100,8 +102,10 @@ def _resonance(m) -> str:
 
 def measurement_cells(m: dict) -> tuple[str, ...]:
     """A clip record's ``measurements`` as one row of the run's table (``summary.md`` and ``index.html``):
-    resonance, Q, level at 1 kHz, vs passive, hum rejection, bias, headroom, peak, loudness, limited."""
+    resonance, Q, level at 1 kHz, vs passive, hum rejection, bias, headroom, peak, loudness (re 1 V full scale), limited,
+    and the brightness columns (:mod:`render.report.brightness`)."""
     from ..analysis.headroom import format_share
+    from .brightness import brightness_cells
 
     return (
         _resonance(m),
@@ -112,9 +116,9 @@ def measurement_cells(m: dict) -> tuple[str, ...]:
         f"{m['bias_v']:.2f} V",
         f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
         f"{m['peak_v']:.3f} V",
-        _cell(m, "loudness_lufs", ".1f", " LUFS"),
+        _cell(m, "loudness_lufs_1v_full_scale", ".1f", " LUFS"),
         format_share(m["clipped_fraction"]),
-    )
+    ) + brightness_cells(m)
 
 
 def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict, volts_full_scale: float) -> str:
@@ -126,17 +130,20 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         "",
         "Start listening at a low volume; clips that clip stay loud.",
         "",
-        "| design | resonance | Q | level at 1 kHz | vs passive | hum rejection | bias | headroom up / down | peak at amp input | loudness | limited |",
-        "|---|---|---|---|---|---|---|---|---|---|---|",
+        "| design | resonance | Q | level at 1 kHz | vs passive | hum rejection | bias | headroom up / down | peak at amp input | loudness (1 V full scale) | limited | "
+        + " | ".join(BRIGHTNESS_COLUMNS) + " |",
+        "|---|---|---|---|---|---|---|---|---|---|---|" + "---|" * len(BRIGHTNESS_COLUMNS),
     ]
     for r in records:
         lines.append(f"| {r['design']} | " + " | ".join(measurement_cells(r["measurements"])) + " |")
     lines += [
         "",
-        "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the WAV as written;"
+        "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale"
+        " (the same for a design in any run);"
         " \"limited\": share of the op-amp output's samples inside the soft limit's knee or beyond;"
         " words stand for a figure with no finite value (its reason is in the design's JSON, beside the figure).",
         "",
+        *([f"{BRIGHTNESS_NOTE} Reference: {records[0]['measurements']['reference_design']}.", ""] if records and "reference_design" in records[0]["measurements"] else []),
     ]
     return "\n".join(lines)
 

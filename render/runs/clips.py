@@ -317,6 +317,7 @@ def run_clips(
     plots: bool = True,
     volts_full_scale: float | None = None,
     progress: Callable[[int], None] | None = None,
+    reference: str | None = None,
 ) -> ClipsRun:
     """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png), and the comparison page (index.html).
 
@@ -338,13 +339,18 @@ def run_clips(
         One WAV full scale for the run (default: the smallest 1-2-5 step above the run's largest peak).
     progress : callable or None
         Called with the number of designs done, as they finish.
+    reference : str or None
+        The design (name or file stem) the loudness-matched brightness differences are taken from (default: the first).
     """
+    from ..analysis.brightness import reference_index
     from ..compare.folders import write_clips_page
     from ..io.folders import run_folder
     from ..parallel import SideProcess
+    from ..report.brightness import add_brightness
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
     from ..report.records import clip_record
 
+    ref = reference_index(designs, reference)  # refused before any work
     stems = [Path(d.source).stem for d in designs]
     rig_record = _rig_record(rig)
     rig_text = rig.source if rig else "each design's own"
@@ -357,6 +363,11 @@ def run_clips(
                 vfs = volts_full_scale or window_full_scale(designs)
                 kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(d.rig)}, plots=plots) for stem, d in zip(stems, designs)]
                 records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots, progress=progress)
+                add_brightness(records, designs, reference=ref)
+                from ..io.atomic import write_json
+
+                for stem, rec in zip(stems, records):  # each S.json again, with the run's brightness figures
+                    write_json(out / f"{stem}.json", rec, overwrite=True)
                 write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
                 write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs)
                 warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
@@ -383,10 +394,9 @@ def run_clips(
                 drawing.result()
         peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
         vfs = volts_full_scale or choose_full_scale(peaks)
-        records = []
-        for stem, clip in zip(stems, clips):
-            rec = clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry)
-            records.append(rec)
+        records = [clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry) for clip in clips]
+        add_brightness(records, designs, reference=ref)
+        for stem, clip, rec in zip(stems, clips, records):
             write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
         write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
         write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs)

@@ -1,0 +1,160 @@
+"""The peaks of a response: every one above a stated prominence, and one stable peak frequency.
+
+A peak is a local maximum of the level in dB on the fine log-frequency grid
+of :mod:`render.analysis.figures` (5 Hz to 40 kHz, 0.4 % steps) whose
+*prominence* is at least :data:`PROMINENCE_DB`, and whose frequency lies
+from 1 kHz to 20 kHz. The prominence is the height of the peak above the
+higher of the two lowest points that separate it from any higher part of
+the response (the topographic definition that ``scipy.signal.find_peaks``
+implements). Each peak is given as
+
+- ``frequency_hz``: refined by a parabola through the three grid points
+  around the maximum, in log frequency (as for the single peak before);
+- ``height_db``: its level, dB re the level at 1 kHz;
+- ``prominence_db``;
+- ``q``: its frequency over the width between the two nearest points on
+  either side where the level is 3 dB under the peak's (log-frequency
+  interpolation). None, with a reason, when the peak is less than 3 dB
+  above the 1 kHz level (the response need not fall 3 dB around it) or when
+  a -3 dB point lies outside the grid. For a second-order band-pass
+  resonance this is exactly its Q (the half-power bandwidth is f0/Q:
+  Horowitz & Hill, *The Art of Electronics*, 3rd ed., 2015, §1.7.14).
+
+Peaks are listed highest first. ``peak_hz`` (the figure ``fit`` aims at) is
+the highest peak's frequency, *blended* with any other peak close to it in
+height so that it moves continuously when two humps trade places::
+
+    peak_hz = exp( Σ w_k · ln f_k / Σ w_k ),
+    w_k = clip(1 − (H_max − H_k) / τ_k, 0, 1),   τ_k = TIE_DB · min(D_k / PROMINENCE_DB, 1)
+
+over every local maximum k in the band (H its height, H_max the highest
+peak's, D_k the depth of the dip between k and the highest peak); the
+highest peak's own weight is 1. A peak alone, or one more than
+:data:`TIE_DB` above the others, gives its own frequency exactly; two humps
+of equal height give their log-frequency midpoint; a hump growing out of a
+shoulder (D_k from 0) enters with weight 0, so nothing jumps. Both
+thresholds are our choice (common practice, no source).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from . import undefined as U
+
+PROMINENCE_DB = 0.5  # smallest prominence reported as a peak (common practice, no source)
+TIE_DB = 1.0  # peaks closer than this in height share peak_hz (common practice, no source)
+BAND_HZ = (1000.0, 20000.0)  # where peaks are looked for
+Q_MIN_HEIGHT_DB = 3.0  # a peak under this height re 1 kHz gets no Q
+
+NO_PEAK = U.NO_PEAK_IN_BAND  # worded for PROMINENCE_DB and BAND_HZ
+Q_LOW = "less than 3 dB above the 1 kHz level, so no -3 dB width around it"
+Q_EDGES = "a -3 dB point lies outside 5 Hz to 40 kHz"
+
+
+def _refine(h_db: np.ndarray, f: np.ndarray, k: int) -> tuple[float, float]:
+    """(frequency Hz, level dB) of the parabola through grid points k-1, k, k+1 in log f."""
+    if k <= 0 or k >= len(f) - 1:
+        return float(f[k]), float(h_db[k])
+    ya, yb, yc = h_db[k - 1], h_db[k], h_db[k + 1]
+    denom = ya - 2 * yb + yc
+    off = 0.5 * (ya - yc) / denom if abs(denom) > 1e-12 else 0.0
+    off = min(max(off, -0.5), 0.5)
+    step = np.log(f[1] / f[0])
+    return float(f[k] * np.exp(off * step)), float(yb - 0.25 * (ya - yc) * off)
+
+
+def _crossing(f, y, i, j) -> float:
+    """Log-frequency where y (re the level) crosses zero between grid indices i and j."""
+    t = -y[i] / (y[j] - y[i]) if y[j] != y[i] else 0.0
+    return float(np.exp(np.log(f[i]) + t * (np.log(f[j]) - np.log(f[i]))))
+
+
+def peak_q(h_db: np.ndarray, f: np.ndarray, k: int, level_db: float, frequency_hz: float) -> float | None:
+    """Q of the peak at grid index ``k`` (refined ``level_db``, ``frequency_hz``): f over its -3 dB width; None at the grid's edges."""
+    y = h_db - (level_db - 3.0)
+    left = np.flatnonzero(y[:k] < 0)
+    right = np.flatnonzero(y[k:] < 0)
+    if not (left.size and right.size):
+        return None
+    il, ir = int(left[-1]), k + int(right[0])
+    return frequency_hz / (_crossing(f, y, ir - 1, ir) - _crossing(f, y, il, il + 1))
+
+
+def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tuple[list[dict], float, float]:
+    """The peaks of one response and its stable peak frequency.
+
+    Parameters
+    ----------
+    h_db : np.ndarray [shape=(F,)], dB
+        Level on the log-spaced grid ``f``.
+    f : np.ndarray [shape=(F,)], Hz
+    level_1k_db : float, dB
+        The level at 1 kHz, which heights are given against.
+
+    Returns
+    -------
+    (peaks, peak_hz, peak_db)
+        ``peaks``: dicts (``frequency_hz``, ``height_db``, ``prominence_db``,
+        ``q`` and, when ``q`` is None, ``q_reason``), highest first;
+        ``peak_hz`` the blended frequency (Hz) and ``peak_db`` the highest
+        peak's height (dB re 1 kHz); both NaN when there is no peak.
+    """
+    from scipy.signal import find_peaks
+
+    h_db = np.asarray(h_db, float)
+    if not np.all(np.isfinite(h_db)):
+        return [], float("nan"), float("nan")
+    idx, props = find_peaks(h_db, prominence=0.0)
+    cands = []
+    for k, prom in zip(idx.tolist(), props["prominences"].tolist()):
+        fk, lk = _refine(h_db, f, k)
+        if BAND_HZ[0] <= fk <= BAND_HZ[1] and prom > 1e-6:
+            cands.append((k, fk, lk, prom))
+    shown = [c for c in cands if c[3] >= PROMINENCE_DB]
+    if not shown:
+        return [], float("nan"), float("nan")
+    peaks = []
+    for k, fk, lk, prom in sorted(shown, key=lambda c: -c[2]):
+        height = lk - level_1k_db
+        p: dict = {"frequency_hz": fk, "height_db": float(height), "prominence_db": float(prom)}
+        q = peak_q(h_db, f, k, lk, fk) if height >= Q_MIN_HEIGHT_DB else None
+        p["q"] = q
+        if q is None:
+            p["q_reason"] = Q_LOW if height < Q_MIN_HEIGHT_DB else Q_EDGES
+        peaks.append(p)
+    k_top, _, top, _ = max(shown, key=lambda c: c[2])
+    weights = []
+    for k, _, lk, _ in cands:
+        dip = lk - float(np.min(h_db[min(k, k_top) : max(k, k_top) + 1]))  # depth of the dip between it and the highest
+        tie = TIE_DB * min(dip / PROMINENCE_DB, 1.0)
+        weights.append(1.0 if k == k_top else (max(0.0, 1 - (top - lk) / tie) if tie > 0 else 0.0))
+    logf = np.log([c[1] for c in cands])
+    w = np.array(weights)
+    blended = peaks[0]["frequency_hz"] if np.count_nonzero(w) == 1 else float(np.exp(np.sum(w * logf) / np.sum(w)))
+    return peaks, blended, float(top - level_1k_db)
+
+
+def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
+    """The peaks of a figures record in words, or the reason there is none.
+
+    One peak: ``"peak 4066 Hz, +4.94 dB, Q 1.47"``; several: ``"peaks 4702 Hz,
+    +5.10 dB, Q 2.10; 5301 Hz, …"`` (highest first), followed by
+    ``"; peak_hz 4990 Hz (blended)"`` when ``peak_hz`` stands apart from the
+    highest peak (humps of near-equal height). A peak with no Q says why in
+    words after its height.
+    """
+    peaks = fig.get("peaks")
+    if not peaks:
+        return U.reason(fig, "peak_hz", NO_PEAK)
+    parts = []
+    for p in peaks:
+        text = f"{p['frequency_hz']:.0f} Hz, {p['height_db']:+.2f}{unit}"
+        if q:
+            text += f", Q {p['q']:.2f}" if p["q"] is not None else f", no Q ({p['q_reason']})"
+        parts.append(text)
+    out = ("peak " if len(parts) == 1 else "peaks ") + "; ".join(parts)
+    top = peaks[0]["frequency_hz"]
+    if fig.get("peak_hz") is not None and abs(fig["peak_hz"] / top - 1) > 5e-4:
+        out += f"; peak_hz {fig['peak_hz']:.0f} Hz (blended with a hump of near-equal height)"
+    return out

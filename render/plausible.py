@@ -1,0 +1,76 @@
+"""Values that are legal but unlikely: the usual range of each part, the likely prefix, and warnings.
+
+A design file is refused only for values no circuit can have (the ranges of
+:mod:`render.design.schema`). Within them, some values are far from what
+pickups and their preamps use and are most often a slipped prefix: a
+feedback capacitor of "22n" instead of "22p" puts the feedback corner at
+72 Hz with 100 kΩ. This module knows the usual ranges and turns them into
+
+- :func:`likely_prefix`: the prefix that puts a bare number in its part's
+  usual range (``inductance = 120`` is most likely ``"120m"``), for the hint
+  of a refusal;
+- :func:`design_warnings`: one line per unlikely value of a loaded design
+  (a network corner inside the band where it normally lies far outside it; a
+  coil inductance outside the usual range for pickups), each naming the
+  range, its origin, and the value with the likely prefix.
+
+Every range here is marked as a rule of thumb ("common practice, no source")
+or as recalled ("from memory"); none is a refusal.
+"""
+
+from __future__ import annotations
+
+import math
+
+from . import units as U
+from .usual import COUPLING_CORNER_MAX_HZ, FEEDBACK_CORNER_MIN_HZ, USUAL, Usual, likely_prefix, prefixed_alternatives, usual
+
+__all__ = ["COUPLING_CORNER_MAX_HZ", "FEEDBACK_CORNER_MIN_HZ", "USUAL", "Usual", "design_warnings", "likely_prefix", "prefixed_alternatives", "usual"]
+
+
+def _fix_for(x: float, ok) -> str:
+    """ " (did you mean "22p"?)" for the first alternative prefix of ``x`` that ``ok(value)`` accepts, else ""."""
+    for text, v in prefixed_alternatives(x):
+        if ok(v):
+            return f'; did you mean "{text}"?'
+    return ""
+
+
+def design_warnings(design) -> tuple[str, ...]:
+    """One line per legal but unlikely value of ``design`` (rig applied): corners in the band, unusual coil inductances."""
+    from .analysis.summary import corners
+
+    out: list[str] = []
+    c = corners(design)
+    tau = 2 * math.pi
+    fb = design.feedback
+    if fb.c and c["feedback_hz"] is not None and c["feedback_hz"] < FEEDBACK_CORNER_MIN_HZ:
+        rng = USUAL[("feedback", "c")]
+        fix = _fix_for(fb.c, lambda v: rng.holds(v) and 1 / (tau * fb.r * v) >= FEEDBACK_CORNER_MIN_HZ)
+        out.append(
+            f"[feedback] c={U.format_si(fb.c, 'F')}: the feedback corner 1/(2π·r·c) is {c['feedback_hz']:.3g} Hz, inside the band;"
+            f" it normally lies above {FEEDBACK_CORNER_MIN_HZ:g} Hz (common practice, no source){fix}"
+        )
+    for name in ("input_a", "input_b"):
+        net = getattr(design, name)
+        fc = c[f"{name}_hz"]
+        if fc > COUPLING_CORNER_MAX_HZ:
+            fix = _fix_for(net.series_c, lambda v, r=net.series_r: 1 / (tau * r * v) <= COUPLING_CORNER_MAX_HZ and USUAL[("input", "series_c")].holds(v))
+            out.append(
+                f"[{name}] series_c={U.format_si(net.series_c, 'F')}: the input coupling corner 1/(2π·series_r·series_c) is {fc:.3g} Hz, inside the band;"
+                f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
+            )
+    if c["output_hz"] > COUPLING_CORNER_MAX_HZ:
+        cc = design.output.coupling_c
+        fix = _fix_for(cc, lambda v: c["output_hz"] * cc / v <= COUPLING_CORNER_MAX_HZ and USUAL[("output", "coupling_c")].holds(v))
+        out.append(
+            f"[output] coupling_c={U.format_si(cc, 'F')}: the output coupling corner into the controls is {c['output_hz']:.3g} Hz, inside the band;"
+            f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
+        )
+    rng = USUAL[("coil", "inductance")]
+    for name in ("coil_a", "coil_b"):
+        ind = getattr(design, name).inductance
+        if not rng.holds(ind):
+            fix = _fix_for(ind, rng.holds)
+            out.append(f"[{name}] inductance={U.format_si(ind, 'H')}: outside the usual range for pickup coils ({rng.text('H')}){fix}")
+    return tuple(out)

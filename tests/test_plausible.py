@@ -1,0 +1,128 @@
+"""Legal but unlikely values: warnings, the likely prefix in hints, and common ways of writing units.
+
+References: the corners are first-order RC corners 1/(2πRC) (any circuit
+text, e.g. Horowitz & Hill, The Art of Electronics, 3rd ed., 2015, §1.7.1);
+SI prefixes from the SI Brochure, 9th ed., 2019, Table 7; letter codes from
+IEC 60062. The usual ranges themselves are rules of thumb (common practice,
+no source) or recalled (from memory), as render.plausible marks them.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from render import units as U
+from render.design import load_designs
+from render.errors import InputError
+from render.plausible import design_warnings, likely_prefix
+
+ROOT = Path(__file__).resolve().parents[1]
+REF = ROOT / "models" / "studio-reference.toml"
+
+
+def variant(tmp_path, old, new, name="variant.toml"):
+    text = REF.read_text()
+    assert old in text
+    path = tmp_path / name
+    path.write_text(text.replace(old, new, 1))
+    return path
+
+
+@pytest.mark.parametrize("table,key,number,want", [
+    ("coil_a", "inductance", 120, "120m"),  # 120 H is no pickup coil; 120 mH is
+    ("feedback", "c", 22, "22p"),
+    ("input_a", "load_c", 3.9, "3.9n"),
+    ("output", "coupling_c", 10, "10u"),
+    ("rig", "cable_capacitance", 100, "100p"),
+])
+def test_likely_prefix_puts_a_bare_number_in_its_parts_usual_range(table, key, number, want):
+    assert likely_prefix(table, key, number) == want
+
+
+@pytest.mark.parametrize("old,new,fix", [
+    ('inductance = "350mH"   # winding inductance', "inductance = 120", '"120m"'),
+    ('c = "47p"   # rolls off far above the band', "c = 22", '"22p"'),
+    ('c = "47p"   # rolls off far above the band', 'c = "22"', '"22p"'),
+])
+def test_a_refused_bare_number_hints_the_likely_prefix(tmp_path, old, new, fix):
+    with pytest.raises(InputError) as e:
+        load_designs([variant(tmp_path, old, new)])
+    assert f"write e.g. {fix}" in str(e.value)
+
+
+def test_a_feedback_capacitor_in_nanofarads_warns_with_the_corner_and_the_likely_prefix(tmp_path):
+    d = load_designs([variant(tmp_path, 'c = "47p"   # rolls off far above the band', 'c = "22n"')])[0][0]
+    (w,) = design_warnings(d)
+    corner = 1 / (2 * math.pi * 110e3 * 22e-9)  # 65.8 Hz
+    assert w.startswith("[feedback] c=22 nF") and f"{corner:.3g} Hz" in w and w.endswith('did you mean "22p"?')
+    assert "common practice, no source" in w
+
+
+def test_coupling_corners_inside_the_band_warn(tmp_path):
+    p = variant(tmp_path, 'series_c = "1u"   # bass cut: 1/(2π·22k·1µ) = 7 Hz', 'series_c = "10n"')
+    (w,) = design_warnings(load_designs([p])[0][0])
+    assert w.startswith("[input_a] series_c=10 nF") and f"{1 / (2 * math.pi * 22e3 * 10e-9):.3g} Hz" in w and '"10u"' in w
+    p = variant(tmp_path, 'coupling_c = "10u"   # blocks the DC bias', 'coupling_c = "100n"', "out.toml")
+    (w,) = design_warnings(load_designs([p])[0][0])
+    # into series_r + (shunt_r ‖ volume pot): 220 Ω + (100k ‖ 25k) = 20.22 kΩ
+    assert w.startswith("[output] coupling_c=100 nF") and f"{1 / (2 * math.pi * (220 + 20e3) * 100e-9):.3g} Hz" in w and '"100u"' in w
+
+
+def test_an_unusual_coil_inductance_warns(tmp_path):
+    d = load_designs([variant(tmp_path, 'inductance = "350mH"   # winding inductance', 'inductance = "50H"')])[0][0]
+    (w,) = design_warnings(d)
+    assert w.startswith("[coil_a] inductance=50 H") and "from memory" in w and '"50m"' in w
+
+
+def test_the_shipped_designs_are_plausible():
+    designs, _ = load_designs(sorted((ROOT / "models").glob("*.toml")))
+    assert {d.name: design_warnings(d) for d in designs} == {d.name: () for d in designs}
+
+
+@pytest.mark.parametrize("text,kind,value", [
+    ("2.2uf", U.CAPACITANCE, 2.2e-6),
+    ("22nf", U.CAPACITANCE, 22e-9),
+    ("100pf", U.CAPACITANCE, 100e-12),
+    ("2.2µf", U.CAPACITANCE, 2.2e-6),
+    ("120mh", U.INDUCTANCE, 0.12),
+    ("9v", U.VOLTAGE, 9.0),
+    ("1khz", U.FREQUENCY, 1000.0),
+    ("22KOhm", U.RESISTANCE, 22e3),
+    ("22K", U.RESISTANCE, 22e3),
+    ("4k7", U.RESISTANCE, 4.7e3),
+    ("4K7", U.RESISTANCE, 4.7e3),
+])
+def test_common_habits_are_read(text, kind, value):
+    assert U.parse_quantity(text, kind) == pytest.approx(value, rel=1e-15)
+
+
+@pytest.mark.parametrize("text,kind,fix", [
+    ("2.2mf", U.CAPACITANCE, '"2.2uF" for microfarads or "2.2mF"'),
+    ("10mfd", U.CAPACITANCE, '"10uF"'),
+    ("2.2UF", U.CAPACITANCE, '"2.2uF"'),
+    ("4.7NF", U.CAPACITANCE, '"4.7nF"'),
+    ("3mhz", U.FREQUENCY, '"3MHz"'),
+])
+def test_ambiguous_habits_are_refused_with_the_fix(text, kind, fix):
+    with pytest.raises(U.QuantityError) as e:
+        U.parse_quantity(text, kind)
+    assert fix in str(e.value)
+
+
+def test_warnings_reach_stderr_and_the_json_of_check_and_clips(tmp_path):
+    from render.cli import main
+
+    p = variant(tmp_path, 'c = "47p"   # rolls off far above the band', 'c = "22n"')
+    res = CliRunner().invoke(main, ["check", str(p), "--json", str(tmp_path / "c.json")])
+    assert res.exit_code == 0
+    lines = [x for x in res.stderr.splitlines() if x.startswith("warning:")]
+    assert len(lines) == 1 and '"22p"' in lines[0]
+    assert json.loads((tmp_path / "c.json").read_text())["designs"][0]["warnings"] == [lines[0].split(": ", 2)[2]]
+    res = CliRunner().invoke(main, ["clips", str(p), "--seconds", "0.5", "--no-plots", "--out", str(tmp_path / "run")])
+    assert res.exit_code == 0 and '"22p"' in res.stderr
+    assert any('"22p"' in w for w in json.loads((tmp_path / "run" / "variant.json").read_text())["warnings"])
