@@ -204,7 +204,7 @@ def _piece(mom, ta, tb, da, db):
     mom[2] += w * (da * (3.0 * ta * ta + 2.0 * ta * tb + tb * tb) + db * (ta * ta + 2.0 * ta * tb + 3.0 * tb * tb)) / 12.0
 
 
-@njit(cache=True, inline="always", error_model="numpy")
+@njit(cache=True, error_model="numpy")
 def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step, clamp_lo, clamp_hi,
             centre, half, knee, low, high, mom, zp, zg, z_out):
     """TR-BDF2 over [ta, ta + L] (L = length/N steps; matrices of index ``length``): the trapezoidal
