@@ -18,7 +18,7 @@ from .loop_shared import GAMMA, H_P1, H_P2, H_VO1, H_X, H_XL1, H_XL2, NO_SLEW, R
 # --- the output stage, scalar (numba) -----------------------------------------------------
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _f(x, centre, half, knee, low, high):
     """The window f(x) (render.chain.limit.soft_limit); half = linear_high − centre."""
     u = x - centre
@@ -35,7 +35,7 @@ def _f(x, centre, half, knee, low, high):
     return low + q * q / (4.0 * knee)
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _solve(m, beta, centre, half, knee):
     """The root x of x + β·f(x) = (1 + β)·m (f's knee in closed form)."""
     u = m - centre
@@ -54,7 +54,7 @@ def _solve(m, beta, centre, half, knee):
     return centre + s * (half + 2.0 * d0 / (b1 + math.sqrt(disc)))
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _region(x, centre, half, knee):
     """0 on f's identity part, ±1 on a knee, ±2 at a rail (within RAIL_TOL_V of the clamp)."""
     u = x - centre
@@ -65,7 +65,7 @@ def _region(x, centre, half, knee):
     return r if u > 0.0 else -r
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _step(z1, z2, M, c1, c2, r, d_start, u, rho, xi_index, x_lin, x_prev, slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, zp, z_out):
     """One short step, Z = M·(c1·z1 + c2·z2) + r·(d_start + d), with the nonlinear equation solved.
 
@@ -107,7 +107,7 @@ def _step(z1, z2, M, c1, c2, r, d_start, u, rho, xi_index, x_lin, x_prev, slew_s
     return x, vo, slewed
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _matvec(m, i, z, out):
     """out = m[i]·z (m of shape (G, n, n))."""
     n = z.size
@@ -118,16 +118,16 @@ def _matvec(m, i, z, out):
         out[j] = acc
 
 
-@njit(cache=True, inline="always")
-def _dot(a, i, z):
-    """a[i]·z (a of shape (G, n))."""
+@njit(cache=True, inline="always", error_model="numpy")
+def _dot(a, i, z, ns):
+    """a[i]·z over z's first ns entries (a of shape (G, n); a[i, ns:] zero where ns < n)."""
     acc = 0.0
-    for j in range(z.size):
+    for j in range(ns):
         acc += a[i, j] * z[j]
     return acc
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _dot3(a, i, r, z):
     """a[i, r]·z (a of shape (G, R, n))."""
     acc = 0.0
@@ -136,7 +136,7 @@ def _dot3(a, i, r, z):
     return acc
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _vdot(a, z):
     acc = 0.0
     for j in range(z.size):
@@ -144,30 +144,37 @@ def _vdot(a, z):
     return acc
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _xs(a, i, x4):
     """a[i]·x4 (a of shape (G, 4))."""
     return a[i, 0] * x4[0] + a[i, 1] * x4[1] + a[i, 2] * x4[2] + a[i, 3] * x4[3]
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _xs3(a, i, r, x4):
     """a[i, r]·x4 (a of shape (G, R, 4))."""
     return a[i, r, 0] * x4[0] + a[i, r, 1] * x4[1] + a[i, r, 2] * x4[2] + a[i, r, 3] * x4[3]
 
 
-@njit(cache=True, inline="always")
-def _rail_state(at, g, xr, k, z, rail, x4, out):
-    """Z at grid point k from Z[0] at a rail: at[k]·Z + rail·g[k] + xr[k]·x4."""
+@njit(cache=True, inline="always", error_model="numpy")
+def _rail_state(at, g, xr, k, z, rail, x4, out, ns):
+    """Z at grid point k from Z[0] at a rail: at[k]·Z + rail·g[k] + xr[k]·x4.
+
+    ns : the network's states, Z's first ns entries; with gbw the op-amp's state (Z's last entry)
+    takes no part in the network's step at a rail (its row and column of at, g and xr are zero):
+    its entry is written as 0 here and set from the clamp by the caller
+    """
     n = z.size
-    for j in range(n):
+    for j in range(ns):
         acc = rail * g[k, j] + xr[k, 0, j] * x4[0] + xr[k, 1, j] * x4[1] + xr[k, 2, j] * x4[2] + xr[k, 3, j] * x4[3]
-        for q in range(n):
+        for q in range(ns):
             acc += at[k, j, q] * z[q]
         out[j] = acc
+    for j in range(ns, n):
+        out[j] = 0.0
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _rail_holds(side, xlin_t, dxlin_t, wz, rail, gbw, x_cl, tau, a0, d_o, beta_c, centre, half, knee):
     """Whether the op-amp stays at the rail ``side`` (±1) given w·Z (module text)."""
     if gbw:
@@ -181,14 +188,14 @@ def _rail_holds(side, xlin_t, dxlin_t, wz, rail, gbw, x_cl, tau, a0, d_o, beta_c
     return m - centre >= edge if side > 0 else centre - m >= edge
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _cubic(t, x4):
     """x_lin at σ = t within the step: the cubic through x4 at σ = −1, 0, 1, 2 (LAGRANGE)."""
     return (-t * (t - 1.0) * (t - 2.0) / 6.0 * x4[0] + (t + 1.0) * (t - 1.0) * (t - 2.0) / 2.0 * x4[1]
             - (t + 1.0) * t * (t - 2.0) / 2.0 * x4[2] + (t + 1.0) * t * (t - 1.0) / 6.0 * x4[3])
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _piece(mom, ta, tb, da, db):
     """Add ∫σ^j·d dσ (j = 0, 1, 2) over [ta, tb] for d linear from da to db."""
     w = tb - ta
@@ -197,7 +204,7 @@ def _piece(mom, ta, tb, da, db):
     mom[2] += w * (da * (3.0 * ta * ta + 2.0 * ta * tb + tb * tb) + db * (ta * ta + 2.0 * ta * tb + 3.0 * tb * tb)) / 12.0
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step, clamp_lo, clamp_hi,
             centre, half, knee, low, high, mom, zp, zg, z_out):
     """TR-BDF2 over [ta, ta + L] (L = length/N steps; matrices of index ``length``): the trapezoidal
@@ -220,7 +227,7 @@ def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4,
     return xb, vb, xg, s1 or s2
 
 
-@njit(cache=True, inline="always")
+@njit(cache=True, inline="always", error_model="numpy")
 def _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2):
     hist[H_X] = h_x
     hist[H_XL1] = h_xl1
@@ -230,7 +237,7 @@ def _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2):
     hist[H_P2] = h_p2
 
 
-@njit(cache=True)
+@njit(cache=True, error_model="numpy")
 def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, lin_head, lin_tail,
         rail_at, rail_rest, rail_head_g, rail_tail_g, rail_head_x, rail_tail_x, scan_rows, scan_g, scan_x, rail_head_m, rail_tail_m,
         TP, Tr, Trho, GP, Gr, Grho, P2, r2, rho2, u, kc, d_row, beta_c, c_vec, d_o, a0, tau, xi_index,
@@ -255,6 +262,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
     centre = 0.5 * (low + high)
     half = high - knee - centre
     gbw = xi_index >= 0
+    ns = n - 1 if gbw else n  # the network's states (with gbw the op-amp's state is Z's last entry)
     dl = 1.0 / N
     sub_slew = slew_step * dl
     w_rail = c_vec if gbw else kc
@@ -271,9 +279,12 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
     short = 0
     total = xl.size - 1
     h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2 = hist[H_X], hist[H_XL1], hist[H_XL2], hist[H_VO1], hist[H_P1], hist[H_P2]
+    # the step's place among the output samples, counted rather than divided at every step:
+    # start + i = R·k_out + phase, 0 ≤ phase < R (floor division, as Python's)
+    phase = start % oversample
+    k_out = start // oversample - loud_base
     for i in range(total):
-        a = start + i
-        if a % oversample == 0 and not loud[a // oversample - loud_base]:
+        if phase == 0 and not loud[k_out]:
             small = abs(h_vo1 - h_xl1) < tol and abs(h_x - h_xl1) < tol
             if small:
                 for j in range(n):
@@ -301,7 +312,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
         v_a = v_prev
         if side == 0:
             # on f's identity part: the closed loop's exact step (no input: x_lin is in the linear solution)
-            x_end = x_lin + _dot(lin_rows, N, z)
+            x_end = x_lin + _dot(lin_rows, N, z, n)
             if _region(x_end, centre, half, knee) == 0 and abs(x_end - x_prev) <= slew_step:
                 _matvec(lin_at, N, z, zn)
                 for j in range(3):
@@ -313,9 +324,9 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
             # at a rail: the network's exact step driven by d = rail − x_lin
             rail = high if side > 0 else low
             x_cl = clamp_hi if side > 0 else clamp_lo
-            wz = _dot(scan_rows, N, z) + rail * scan_g[N] + _xs(scan_x, N, x4)
+            wz = _dot(scan_rows, N, z, ns) + rail * scan_g[N] + _xs(scan_x, N, x4)
             if _rail_holds(side, x_lin, rate * _xs(basis_d, N, x4), wz, rail, gbw, x_cl, tau, a0, d_o, beta_c, centre, half, knee):
-                _rail_state(rail_at, rail_head_g, rail_head_x, N, z, rail, x4, zn)
+                _rail_state(rail_at, rail_head_g, rail_head_x, N, z, rail, x4, zn, ns)
                 if gbw:
                     zn[xi_index] = x_cl - x_lin
                     x_a = x_cl
@@ -346,15 +357,15 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                 hi_k = N
                 while hi_k - lo_k > 1:
                     kk = (lo_k + hi_k) // 2
-                    wz = _dot(scan_rows, kk, z) + rail * scan_g[kk] + _xs(scan_x, kk, x4)
+                    wz = _dot(scan_rows, kk, z, ns) + rail * scan_g[kk] + _xs(scan_x, kk, x4)
                     if _rail_holds(side, _xs(basis, kk, x4), rate * _xs(basis_d, kk, x4), wz, rail, gbw, x_cl, tau, a0, d_o, beta_c, centre, half, knee):
                         lo_k = kk
                     else:
                         hi_k = kk
                 k0 = lo_k
                 if k0 > 0:
-                    _rail_state(rail_at, rail_head_g, rail_head_x, k0, z, rail, x4, za)
-                    _rail_state(rail_at, rail_head_g, rail_head_x, k0 - 1, z, rail, x4, zb)
+                    _rail_state(rail_at, rail_head_g, rail_head_x, k0, z, rail, x4, za, ns)
+                    _rail_state(rail_at, rail_head_g, rail_head_x, k0 - 1, z, rail, x4, zb, ns)
                     have_b = True
                     t0 = k0 * dl
                     mom[0] = rail * t0 - _xs3(rail_head_m, k0, 0, x4)
@@ -376,7 +387,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                     hi_k = N
                     while hi_k - lo_k > 1:
                         kk = (lo_k + hi_k) // 2
-                        xn = _xs(basis, kk, x4) + _dot(lin_rows, kk, z)
+                        xn = _xs(basis, kk, x4) + _dot(lin_rows, kk, z, n)
                         if _region(xn, centre, half, knee) == 0:
                             lo_k = kk
                             xk = xn
@@ -386,7 +397,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                 else:
                     k0 = N - 1
                     for kk in range(1, N + 1):
-                        xn = _xs(basis, kk, x4) + _dot(lin_rows, kk, z)
+                        xn = _xs(basis, kk, x4) + _dot(lin_rows, kk, z, n)
                         if _region(xn, centre, half, knee) != 0 or abs(xn - xk) > sub_slew:
                             k0 = kk - 1
                             break
@@ -456,7 +467,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                     continue
                 tried = reg
                 if reg == 0:
-                    x_end = x_lin + _dot(lin_rows, N - k, za)
+                    x_end = x_lin + _dot(lin_rows, N - k, za, n)
                     if _region(x_end, centre, half, knee) == 0 and abs(x_end - x_a) <= slew_step * (N - k) * dl:
                         for j in range(3):
                             mom[j] += _dot3(lin_tail, k, j, za)
@@ -469,7 +480,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                 elif reg == 2 or reg == -2:
                     rl = high if reg > 0 else low
                     xcl = clamp_hi if reg > 0 else clamp_lo
-                    _rail_state(rail_rest, rail_tail_g, rail_tail_x, k, za, rl, x4, zc)
+                    _rail_state(rail_rest, rail_tail_g, rail_tail_x, k, za, rl, x4, zc, ns)
                     if _rail_holds(reg, x_lin, rate * _xs(basis_d, N, x4), _vdot(w_rail, zc), rl, gbw, xcl, tau, a0, d_o, beta_c, centre, half, knee):
                         t0 = k * dl
                         mom[0] += rl * (1.0 - t0) - _xs3(rail_tail_m, k, 0, x4)
@@ -505,6 +516,10 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
         h_xl2 = h_xl1
         h_xl1 = x_lin
         h_vo1 = v_a
+        phase += 1
+        if phase == oversample:
+            phase = 0
+            k_out += 1
     _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2)
     return total, clipped, short, True
 
