@@ -94,6 +94,13 @@ def _physical(name: str) -> str:
     return name
 
 
+def cell_linkage(cells, field_per_amp) -> np.ndarray:
+    """Eq. (1) per cell: m_i · B₁(r_i) in H, with m_i = J_i·V_i/μ0 (``cells``: solved Boxes)."""
+    centres = (cells.lo + cells.hi) / 2.0
+    volume = np.prod(cells.hi - cells.lo, axis=1)
+    return np.einsum("ij,ij->i", cells.polarization * (volume / mu_0)[:, None], field_per_amp(centres))
+
+
 def part_rises(construction, geometry_a, geometry_b, *, position_a: float, position_b: float) -> dict[str, tuple[PartRise, ...]]:
     """Eq. (1) per coil and per part: ``{"coil_a": (PartRise, …), "coil_b": (…)}``.
 
@@ -111,9 +118,7 @@ def part_rises(construction, geometry_a, geometry_b, *, position_a: float, posit
     owner = np.repeat(np.arange(len(parts)), counts)
     out = {}
     for name, coil, cells in zip(("coil_a", "coil_b"), coils, solved):
-        centres = (cells.lo + cells.hi) / 2.0
-        volume = np.prod(cells.hi - cells.lo, axis=1)
-        linkage = np.einsum("ij,ij->i", cells.polarization * (volume / mu_0)[:, None], coil.field_per_amp(centres))
+        linkage = cell_linkage(cells, coil.field_per_amp)
         rises: dict[str, float] = {}
         extent: dict[str, list] = {}
         for k, p in enumerate(parts):

@@ -143,6 +143,7 @@ def test_every_command_runs_on_the_design(design, tmp_path):
     run("check", design, "--turns-sweep", 5, "--json", tmp_path / "check.json")
     run("response", design, "--csv", tmp_path / "response.csv", *(["--png", tmp_path / "response.png"] if edge else []))
     run("noise", design, "--json", tmp_path / "noise.json", *(["--png", tmp_path / "noise.png"] if edge else []))
+    run("coil", design, "--csv", tmp_path / "coil.csv", "--json", tmp_path / "coil.json", *(["--png", tmp_path / "coil.png"] if edge else []))
     run("hum", design, "--json", tmp_path / "hum.json")
     run("hum", design, "--tolerance", "1%", "--json", tmp_path / "hum-tolerance.json", "--histogram", tmp_path / "hist.png")
     if design.stem in ("edge-matched-coils", "edge-reversed-same-point"):  # hum-only renders (3 × 4 s), measured: exact and added hum
