@@ -181,7 +181,7 @@ def split_coil(data: Any, *, source: str, table: str) -> tuple[Any, CoilSpec | N
     how = "measured" if "measured" in spec else "wire"
     typed = [k for k in TYPED if k in rest]
     if typed:
-        what = "from the measurement" if how == "measured" else "from [%s.geometry] and wire" % table
+        what = "from the measurement" if how == "measured" else f"from [{table}.geometry] and wire"
         raise InputError(f"{loc}: {', '.join(typed)} given as well as {how}; the coil's impedance comes {what}: remove {', '.join(typed)}, or remove {how} to type the values")
     if "winding" in rest:
         raise InputError(f"{loc}: [{table}.winding] given as well as {how}; give one of them (the winding's values are rough estimates)")
@@ -292,38 +292,35 @@ def fit_file(path: Path):
     from ..impedance.measurement_csv import read_measurement
 
     m = read_measurement(path)
-    return m, _fit_cached(m.sha256, m)
+    return m, _fit_cached(str(path), m.sha256)
 
 
-_FITS: dict = {}
-
-
-def _fit_cached(sha: str, m):
+@functools.lru_cache(maxsize=32)
+def _fit_cached(path: str, sha: str):
+    """The fit of the file at ``path`` whose bytes hash to ``sha`` (in memory, and on disk by the hash)."""
     from ..impedance.ladder import Ladder
     from ..impedance.measured import MeasuredCoil, fit_measurement
+    from ..impedance.measurement_csv import read_measurement
     from ..io import cache
 
-    if sha in _FITS:
-        return _FITS[sha]
     key = f"{sha}-v{FIT_VERSION}"
     stored = cache.load("coil-fit", key)
-    fit = None
     if stored is not None:
         try:
             lad = Ladder(float(stored["l0"]), tuple(float(v) for v in stored["lk"]), tuple(float(v) for v in stored["rk"]))
-            fit = MeasuredCoil(float(stored["r"]), float(stored["c"]), lad, np.asarray(stored["f"], float), np.asarray(stored["db"], float), np.asarray(stored["deg"], float))
+            return MeasuredCoil(float(stored["r"]), float(stored["c"]), lad, np.asarray(stored["f"], float), np.asarray(stored["db"], float), np.asarray(stored["deg"], float))
         except (KeyError, ValueError, TypeError, InputError):
-            fit = None
-    if fit is None:
-        fit = fit_measurement(m.frequency_hz, m.impedance)
-        lad = fit.ladder
-        cache.store("coil-fit", key, {"l0": np.array(lad.series_inductance), "lk": np.array(lad.inductances, float), "rk": np.array(lad.resistances, float),
-                                      "r": np.array(fit.resistance), "c": np.array(fit.capacitance), "f": fit.frequency_hz, "db": fit.residual_db, "deg": fit.residual_deg})
-    _FITS[sha] = fit
+            pass
+    m = read_measurement(path)
+    fit = fit_measurement(m.frequency_hz, m.impedance)
+    lad = fit.ladder
+    cache.store("coil-fit", key, {"l0": np.array(lad.series_inductance), "lk": np.array(lad.inductances, float), "rk": np.array(lad.resistances, float),
+                                  "r": np.array(fit.resistance), "c": np.array(fit.capacitance), "f": fit.frequency_hz, "db": fit.residual_db, "deg": fit.residual_deg})
     return fit
 
 
 def _measured(coil, spec: CoilSpec, design, name: str):
+    assert spec.measured is not None  # a "measured" spec always has its file
     path = measurement_path(spec.measured, design.source)
     if not path.is_file():
         raise InputError(f"{where(design.source, name, 'measured')}={U.shown(spec.measured)}: no such file ({path}); the path is relative to the design file's folder")

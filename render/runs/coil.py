@@ -11,11 +11,16 @@ crosses zero going up in frequency (the first parallel resonance).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from .. import units as U
 from ..impedance.ladder import REPORT_BAND_HZ
+
+if TYPE_CHECKING:
+    from ..impedance.measured import MeasuredCoil
+    from ..impedance.measurement_csv import Measurement
 
 BAND_HZ = REPORT_BAND_HZ  # 20 Hz – 20 kHz
 POINTS = 301  # log-spaced over the band for --csv, --json and the plot
@@ -117,8 +122,8 @@ def csv_text(rec: dict) -> str:
 class FitResult:
     """A measurement and the coil model fitted to it (``render coil fit``)."""
 
-    measurement: object  # render.impedance.measurement_csv.Measurement
-    fit: object  # render.impedance.measured.MeasuredCoil
+    measurement: Measurement
+    fit: MeasuredCoil
     self_resonance_hz: float | None
 
     def residual_bands(self) -> list[dict]:

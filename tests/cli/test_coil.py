@@ -29,7 +29,10 @@ def run(*args):
     return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
 
 
-def _synthetic(path: Path, *, seed: int, r=4100.0, ladder=Ladder(1.3, (0.6, 0.3), (7e4, 2.5e3)), c=95e-12, points=150):
+TRUE_LADDER = Ladder(1.3, (0.6, 0.3), (7e4, 2.5e3))  # invented, for the synthetic measurement
+
+
+def _synthetic(path: Path, *, seed: int, r=4100.0, ladder=TRUE_LADDER, c=95e-12, points=150):
     """A measurement file computed from known parameters, 1 % noise on |Z| and 0.01 rad on the phase."""
     rng = np.random.default_rng(seed)
     f = np.geomspace(20.0, 50e3, points)
