@@ -41,8 +41,25 @@ def _coil_lines(tag, coil, hot, cold, gain_node, gain):
     lines = [
         f"E{tag} {tag}1 {cold} {gain_node} 0 {gain!r}",
         f"R{tag}dc {tag}1 {tag}2 {coil.resistance!r}",
-        f"L{tag} {tag}2 {hot} {coil.inductance!r}",
     ]
+    if coil.ladder is not None:
+        # the RL ladder in Foster form (as loaded, its DC inductance is the coil's inductance):
+        # L0, then each section L_k ∥ R_k, in series from {tag}2 to hot
+        lad = coil.ladder
+        assert abs(lad.dc_inductance / coil.inductance - 1) < 1e-12
+        prev = f"{tag}2"
+        n = len(lad.inductances)
+        if lad.series_inductance > 0:
+            nxt = hot if n == 0 else f"{tag}lad0"
+            lines.append(f"L{tag} {prev} {nxt} {lad.series_inductance!r}")
+            prev = nxt
+        for k, (lk, rk) in enumerate(zip(lad.inductances, lad.resistances)):
+            nxt = hot if k == n - 1 else f"{tag}lad{k + 1}"
+            lines += [f"L{tag}sec{k} {prev} {nxt} {lk!r}", f"R{tag}sec{k} {prev} {nxt} {rk!r}"]
+            prev = nxt
+        lines.append(f"C{tag}w {hot} {cold} {coil.capacitance!r}")
+        return lines
+    lines.append(f"L{tag} {tag}2 {hot} {coil.inductance!r}")
     if coil.eddy_resistance:
         lines.append(f"R{tag}p {tag}2 {hot} {coil.eddy_resistance!r}")
     if coil.eddy_coupling:

@@ -191,7 +191,11 @@ def _tile(p, n):
 
 def _scale_turns(p: Params, coil: str, k: np.ndarray) -> Params:
     c = getattr(p, coil)
-    return replace(p, **{coil: replace(c, L=c.L * k**2, R=c.R * k, sig=c.sig * k, hum=c.hum * k)})
+    lad = c.ladder
+    if lad is not None:  # an RL ladder scales as L: inductances and resistances by k², time constants kept
+        k2 = np.broadcast_to(np.asarray(k, float) ** 2, lad.L0.shape)
+        lad = replace(lad, L0=lad.L0 * k2, Lk=lad.Lk * k2[:, None])
+    return replace(p, **{coil: replace(c, L=c.L * k**2, R=c.R * k, sig=c.sig * k, hum=c.hum * k, ladder=lad)})
 
 
 def _scale_bias(p: Params, design, kt, kb) -> Params:

@@ -166,7 +166,9 @@ def network(p, index: int = 0) -> Network:
     to ground: winding C + load_c), i_1 (the coil's inductor current, from
     the terminal through the coil to ground), i_2 (the shorted secondary's
     current, when there is one), v_f (the feedback c, output to inverting
-    input, when there is one).
+    input, when there is one). A coil with an RL ladder has instead i_1, the
+    current through L0 (when L0 > 0), and i_l1, i_l2, … the sections'
+    inductor currents.
     """
     ca, na = p.coil_a, p.input_a
     L = float(ca.L[index])
@@ -179,7 +181,16 @@ def network(p, index: int = 0) -> Network:
     Rs = float(na.Rs[index])
     Rf = 1.0 / float(p.fb_G[index])
     Cf = float(p.fb_C[index])
-    names = ["v_s", "v_t", "i_1"] + (["i_2"] if sec else []) + (["v_f"] if Cf > 0 else [])
+    lad = ca.ladder if ca.ladder is not None and bool(ca.ladder.active[index]) else None
+    if lad is not None:  # an RL ladder (render.circuit.ladder) in place of L, R_p and the secondary
+        l0 = float(lad.L0[index])
+        sections = [(float(lk), float(lk) / float(tk)) for lk, tk in zip(lad.Lk[index], lad.tau[index]) if lk > 0 and tk > 0]
+        coil_states = (["i_1"] if l0 > 0 else []) + [f"i_l{k + 1}" for k in range(len(sections))]
+        sec = False
+        L = float(ca.L[index])
+    else:
+        coil_states = ["i_1"] + (["i_2"] if sec else [])
+    names = ["v_s", "v_t"] + coil_states + (["v_f"] if Cf > 0 else [])
     n = len(names)
     ix = {k: i for i, k in enumerate(names)}
     col_e, col_o = n, n + 1  # columns of the inputs e_a and V_o
@@ -192,7 +203,7 @@ def network(p, index: int = 0) -> Network:
         r[ix[name] if name in ix else {"e": col_e, "o": col_o}[name]] = 1.0
         return r
 
-    v_s, v_t, i_1, e, o = var("v_s"), var("v_t"), var("i_1"), var("e"), var("o")
+    v_s, v_t, e, o = var("v_s"), var("v_t"), var("e"), var("o")
     if Cf > 0:
         v_f = var("v_f")
         v_minus = o - v_f
@@ -200,6 +211,31 @@ def network(p, index: int = 0) -> Network:
     else:
         v_minus = (o * Rs + (v_s + v_t) * Rf) / (Rs + Rf)
         i_r = (o - v_s - v_t) / (Rs + Rf)
+    if lad is not None:
+        # the coil from its terminal to ground: L0 and the sections R_k ∥ L_k in series with R_dc and
+        # the EMF; section k's voltage is R_k·(i_c − i_lk). Without L0 the coil's current is algebraic:
+        # v_t − e = R_dc·i_c + Σ R_k·(i_c − i_lk).
+        i_k = [var(f"i_l{k + 1}") for k in range(len(sections))]
+        if l0 > 0:
+            i_c = var("i_1")
+        else:
+            i_c = (v_t - e + sum((r * ik for (_, r), ik in zip(sections, i_k)), row())) / (Ra + sum(r for _, r in sections))
+        v_k = [r * (i_c - ik) for (_, r), ik in zip(sections, i_k)]
+        rows = {"v_s": i_r / Cs, "v_t": (i_r - Gl * v_t - i_c) / Ct}
+        for k, ((lk, _), vk) in enumerate(zip(sections, v_k)):
+            rows[f"i_l{k + 1}"] = vk / lk
+        if l0 > 0:
+            rows["i_1"] = (v_t - e - Ra * i_c - sum(v_k, row())) / l0
+        if Cf > 0:
+            rows["v_f"] = (i_r - v_f / Rf) / Cf
+        m = np.array([rows[k] for k in names])
+        z0 = math.sqrt(L / Ct)
+        scale = np.array([z0 if k.startswith("i_") else 1.0 for k in names])
+        return Network(
+            a=m[:, :n].copy(), b_e=m[:, col_e].copy(), b_o=m[:, col_o].copy(), c=v_minus[:n].copy(),
+            d_e=float(v_minus[col_e]), d_o=float(v_minus[col_o]), names=tuple(names), scale=scale,
+        )
+    i_1 = var("i_1")
     # the coil from its terminal to ground: inductor (∥ R_p) in series with R_dc and the EMF
     v_l = (v_t - e - Ra * i_1) / (1.0 + Ra * Gp)
     i_c = i_1 + Gp * v_l

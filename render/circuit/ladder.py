@@ -79,6 +79,23 @@ def ladder_inductor_impedance(lp: LadderParams, w: float = W_NORM):
     return n, d
 
 
+def coil_ladder(coil):
+    """A design coil's ladder scaled to its ``inductance`` (None without a ladder).
+
+    The ladder's shape stays; its inductances and resistances scale together
+    by ``inductance`` / the ladder's DC inductance (1 as loaded), so a change of
+    ``inductance`` (a turns sweep, a sensitivity study) scales the whole
+    ladder and keeps its time constants.
+    """
+    lad = getattr(coil, "ladder", None)
+    if lad is None:
+        return None
+    k = coil.inductance / lad.dc_inductance
+    if k == 1.0:
+        return lad
+    return type(lad)(lad.series_inductance * k, tuple(v * k for v in lad.inductances), tuple(v * k for v in lad.resistances))
+
+
 def _pad(p: np.ndarray, length: int) -> np.ndarray:
     return padd(p, np.zeros(p.shape[:-1] + (length,)))
 

@@ -36,6 +36,7 @@ Node names:
 
     vel, dbdt         the drives (above)
     a1, a2            coil_a inside: after the EMF, after the DC resistance
+    al0, al1, …       inside coil_a's RL ladder, when it has one (L0, then each L_k ∥ R_k)
     ta, tb            coil_a's and coil_b's terminals (cold ends at ground)
     xa, xb            between series_c and series_r
     inv, pos          the op-amp's inverting and non-inverting inputs
@@ -58,6 +59,7 @@ from __future__ import annotations
 import math
 from typing import TYPE_CHECKING
 
+from .ladder import coil_ladder
 from .rig import volume_fraction
 
 if TYPE_CHECKING:
@@ -79,8 +81,11 @@ def _coil(tag: str, coil, hot: str) -> list[str]:
     lines = [
         f"B{tag}emf {tag}1 0 V = {_v(sig)}*V(vel) + {_v(hum)}*V(dbdt)",
         f"R{tag}dc {tag}1 {tag}2 {_v(coil.resistance)}",
-        f"L{tag} {tag}2 {hot} {_v(coil.inductance)}",
     ]
+    ladder = coil_ladder(coil)
+    if ladder is not None:
+        return lines + _ladder(tag, ladder, hot) + [f"C{tag}w {hot} 0 {_v(coil.capacitance)}"]
+    lines.append(f"L{tag} {tag}2 {hot} {_v(coil.inductance)}")
     if coil.eddy_resistance:
         lines.append(f"R{tag}eddy {tag}2 {hot} {_v(coil.eddy_resistance)}")
     if coil.eddy_coupling:
@@ -92,6 +97,21 @@ def _coil(tag: str, coil, hot: str) -> list[str]:
             f"K{tag} L{tag} L{tag}sec {_v(math.sqrt(coil.eddy_coupling))}",
         ]
     lines.append(f"C{tag}w {hot} 0 {_v(coil.capacitance)}")
+    return lines
+
+
+def _ladder(tag: str, ladder, hot: str) -> list[str]:
+    """The coil's RL ladder (render.circuit.ladder): L0, then each section L_k ∥ R_k, in series to ``hot``."""
+    nodes = [f"{tag}2"] + [f"{tag}l{k}" for k in range(len(ladder.inductances))] + [hot]
+    if ladder.series_inductance <= 0:
+        nodes = [nodes[0]] + nodes[2:]
+    lines, i = [], 0
+    if ladder.series_inductance > 0:
+        lines.append(f"L{tag} {nodes[0]} {nodes[1]} {_v(ladder.series_inductance)}")
+        i = 1
+    for k, (lk, rk) in enumerate(zip(ladder.inductances, ladder.resistances)):
+        a, b = nodes[i + k], nodes[i + k + 1]
+        lines += [f"L{tag}k{k + 1} {a} {b} {_v(lk)}", f"R{tag}k{k + 1} {a} {b} {_v(rk)}"]
     return lines
 
 

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from .ladder import LadderParams
+from .ladder import LadderParams, coil_ladder, ladder_params
 from .rig import RigParams, rig_params
 
 if TYPE_CHECKING:
@@ -89,6 +89,7 @@ def _coil(cs) -> CoilParams:
         sec=_arr([1.0 if c.eddy_coupling else 0.0 for c in cs]),
         sig=_arr([c.signal_polarity * c.sensitivity for c in cs]),
         hum=_arr([c.hum_polarity * c.turns_area for c in cs]),
+        ladder=ladder_params([coil_ladder(c) for c in cs]),
     )
 
 

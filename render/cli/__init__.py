@@ -33,6 +33,7 @@ COMMANDS = {
     "sense": ("render.cli.sense", "sense_command", "What a design's construction senses: string balance, sensing function, bend dropout, H2/H3."),
     "watch": ("render.cli.watch", "watch_command", "Render designs again as their files are saved, on a comparison page served on 127.0.0.1."),
     "netlist": ("render.cli.netlist", "netlist_command", "Write a design and its rig as a SPICE netlist."),
+    "coil": ("render.cli.coil", "coil_command", "Each coil's impedance and self-resonance (render coil MODEL), or fit a measured coil (render coil fit FILE)."),
 }
 
 

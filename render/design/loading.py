@@ -18,6 +18,7 @@ from ..errors import InputError
 from ..io.hashing import sha256_bytes
 from ..io.toml import read_toml
 from ..validate import TOP_KEYS, check_document, read_table, where
+from .coil_impedance import resolve, split_coil
 from .construction import derive, split_tables
 from .model import Coil, Design, Feedback, Hum, InputNet, Output, Rig, RigFile, Supply, Winding
 from .schema import COIL, COIL_WITH_GEOMETRY, DESIGN_TABLES, HUM, MAX_NAME_CHARS, REQUIRED_TABLES, RIG, WINDING
@@ -108,6 +109,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
         if t not in data:
             raise InputError(f"{source}: missing table [{t}]; every design needs {', '.join('[' + x + ']' for x in REQUIRED_TABLES)}")
     data, construction = split_tables(data, source=source)
+    data, impedance_specs = _split_coils(data, source=source)
     if "name" in data and (len(data["name"]) > MAX_NAME_CHARS or not data["name"].isprintable()):
         raise InputError(f"{source}: name={U.shown(data['name'])}: expected one line of at most {MAX_NAME_CHARS} printable characters (it heads every report); put the rest in notes")
     tables = {}
@@ -154,7 +156,17 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
             f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
             f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V; bring the two resistors closer to equal"
         )
-    return derive(design, construction)
+    return resolve(derive(design, construction), impedance_specs)
+
+
+def _split_coils(data: dict, *, source: str) -> tuple[dict, dict]:
+    """The coils' ``wire``/``measured`` keys taken out (:mod:`render.design.coil_impedance`)."""
+    specs = {}
+    out = dict(data)
+    for t in ("coil_a", "coil_b"):
+        if t in out:
+            out[t], specs[t] = split_coil(out[t], source=source, table=t)
+    return out, specs
 
 
 def load_design(path: str | Path) -> Design:

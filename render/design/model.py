@@ -36,6 +36,8 @@ class Coil:
     winding: Winding | None = None  # when L and R were derived from a winding
     geometry: CoilGeometry | None = None  # the turns in space; turns_area is then its derived value
     entered_turns_area: float | None = None  # m², the file's turns_area beside a geometry (shown, not used)
+    ladder: Any = None  # render.impedance.ladder.Ladder: the inductance with its core loss, replacing inductance and eddy_* (inductance is then its DC value)
+    impedance_from: Any = None  # render.design.coil_impedance.DerivedImpedance or MeasuredImpedance: where the ladder, R and C came from
 
 
 @dataclass(frozen=True)

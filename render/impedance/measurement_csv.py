@@ -144,17 +144,17 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
     lines = [n for n, _ in rows]
     bad = np.flatnonzero(f <= 0)
     if bad.size:
-        raise InputError(f"{source}: line {lines[bad[0]]}: frequency {f[bad[0]]!r} Hz must be > 0")
+        raise InputError(f"{source}: line {lines[bad[0]]}: frequency {float(f[bad[0]]):g} Hz must be > 0")
     bad = np.flatnonzero(mag <= 0)
     if bad.size:
-        raise InputError(f"{source}: line {lines[bad[0]]}: |Z| {mag[bad[0]]!r} Ω must be > 0")
+        raise InputError(f"{source}: line {lines[bad[0]]}: |Z| {float(mag[bad[0]]):g} Ω must be > 0")
     bad = np.flatnonzero(np.diff(f) <= 0)
     if bad.size:
         i = bad[0] + 1
-        raise InputError(f"{source}: line {lines[i]}: frequency {f[i]!r} Hz does not increase on line {lines[i - 1]} ({f[i - 1]!r} Hz); sort the rows by frequency and drop repeats")
+        raise InputError(f"{source}: line {lines[i]}: frequency {float(f[i]):g} Hz does not increase on line {lines[i - 1]} ({float(f[i - 1]):g} Hz); sort the rows by frequency and drop repeats")
     bad = np.flatnonzero(np.abs(ph) > 180.0)
     if bad.size:
-        raise InputError(f"{source}: line {lines[bad[0]]}: phase {ph[bad[0]]!r}° outside ±180°; check the phase column's unit (deg or rad) in the header")
+        raise InputError(f"{source}: line {lines[bad[0]]}: phase {float(ph[bad[0]]):g}° outside ±180°; check the phase column's unit (deg or rad) in the header")
     return Measurement(f, mag, ph, source, sha256)
 
 

@@ -8,6 +8,7 @@ import numpy as np
 
 from .. import __version__
 from ..design import design_to_dict
+from ..design.coil_impedance import measured_files
 
 if TYPE_CHECKING:
     from ..clip import Clip, RenderSettings
@@ -47,6 +48,7 @@ def make_record(d: Design, figures: dict, stats: dict, *, dry: dict, samples: in
         "design": d.name,
         "design_file": d.source,
         "design_sha256": d.sha256,
+        "coil_measurements": measured_files(d),
         "design_values": design_info,
         "sample_rate": settings.sample_rate,
         "volts_full_scale": volts_full_scale,

@@ -18,6 +18,7 @@ from render.chain.stream import Renderer, make_plan, render_signal
 from render.circuit.engine import design_responses
 from render.circuit.params import from_designs
 from render.design import load_design
+from render.impedance.ladder import Ladder
 
 ROOT = Path(__file__).resolve().parents[2]
 FS = 48000
@@ -40,6 +41,9 @@ VARIANTS = {
     "low-gain": _variant(REF, supply={"open_loop_gain": 300.0}),
     "shorted-secondary": _variant(REF, coil_a={"eddy_coupling": 0.3, "eddy_corner": 3000.0, "eddy_resistance": None}),
     "no-feedback-c-load-r": _variant(REF, feedback={"c": None}, input_a={"load_r": 47e3, "load_c": None}),
+    # an RL ladder (Foster form) in place of L and R_p, with and without its series inductance
+    "ladder": _variant(REF, coil_a={"ladder": Ladder(1.2, (0.6, 0.25), (7e4, 2.6e3)), "inductance": 2.05, "eddy_resistance": None}),
+    "ladder-no-series-l": _variant(REF, coil_a={"ladder": Ladder(0.0, (1.5, 0.5, 0.3), (2e5, 9e3, 800.0)), "inductance": 2.3, "eddy_resistance": None}),
 }
 
 

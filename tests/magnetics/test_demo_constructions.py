@@ -26,9 +26,32 @@ def _needs_the_solver():
 
 def test_same_networks_different_constructions():
     designs = [load_design(ROOT / "models" / f"{d}.toml") for d in DEMOS]
-    nets = {(d.input_a, d.input_b, d.feedback, d.output, d.supply, d.coil_a.inductance, d.coil_a.resistance) for d in designs}
+    nets = {(d.input_a, d.input_b, d.feedback, d.output, d.supply) for d in designs}
     assert len(nets) == 1
     assert [d.construction.construction.kind for d in designs] == ["steel-blades", "steel-poles", "magnet-blades"]
+    # the coils are derived from the same winding (wire and geometry), so the construction alone sets
+    # their inductance: the steel raises it (a fact of the trade, common practice, no source), the
+    # magnet blades (recoil μr 1.05) barely
+    blades, poles, magnets = designs
+    assert all(d.coil_a.impedance_from.kind == "derived" for d in designs)
+    assert blades.coil_a.inductance > 1.5 * magnets.coil_a.inductance and poles.coil_a.inductance > 1.5 * magnets.coil_a.inductance
+    assert magnets.coil_a.inductance < 1.02 * magnets.coil_a.impedance_from.air_inductance_h
+
+
+def test_a_steel_blade_coil_has_a_frequency_dependent_loss():
+    # Eddy currents in a 2.5 mm steel blade (Lammeraner & Štafl, Eddy Currents, 1966, the slab's
+    # diffusion solution): once the skin depth (0.65 mm at 1 kHz for σ = 6 MS/m, μr = 100) is below
+    # the half-thickness, the core's share of the inductance falls and its loss no longer looks like
+    # one parallel resistor: the equivalent parallel resistance 1/Re{1/Z_L} of a constant
+    # eddy_resistance would be the same at every frequency. Measured here: 9.4 kΩ at 200 Hz,
+    # 59 kΩ at 20 kHz; the inductance Im{Z_L}/ω falls from 82 mH at DC to 67 mH at 20 kHz.
+    c = load_design(ROOT / "models" / "slipway-steel-blades.toml").coil_a
+    f = np.array([200.0, 20e3])
+    z = c.ladder.impedance(f)
+    r_p = 1.0 / np.real(1.0 / z)
+    assert r_p[1] > 3 * r_p[0]
+    l_eff = z.imag / (2 * np.pi * f)
+    assert l_eff[1] < 0.9 * c.inductance and l_eff[0] > 0.98 * c.inductance
 
 
 def _bend_level_db(design) -> np.ndarray:

@@ -48,12 +48,15 @@ TOL_DB = 1e-4  # every density, dB (checked against ngspice .noise; the README s
 TINY = 1e-8  # a contribution below this fraction of the total power is checked in absolute terms
 NOISE_CURRENT = 1e-12  # A/√Hz: larger than the default so the current terms show in the stand-in runs
 
-# engine source -> ngspice resistors (names from tests/spice.py, lower case)
+# engine source -> ngspice resistors (names from tests/spice.py, lower case); a coil's core loss is
+# its parallel resistor, its shorted secondary's, or its RL ladder's section resistors (rasec0, …)
+LADDER_A = tuple(f"rasec{k}" for k in range(16))
+LADDER_B = tuple(f"rbsec{k}" for k in range(16))
 ACTIVE_DEVICES = {
     "coil_a.resistance": ("radc",),
-    "coil_a.core_loss": ("rap", "rasec"),
+    "coil_a.core_loss": ("rap", "rasec", *LADDER_A),
     "coil_b.resistance": ("rbdc",),
-    "coil_b.core_loss": ("rbp", "rbsec"),
+    "coil_b.core_loss": ("rbp", "rbsec", *LADDER_B),
     "input_a.load_r": ("ral",),
     "input_b.load_r": ("rbl",),
     "input_a.series_r": ("ras",),
@@ -72,9 +75,9 @@ ACTIVE_DEVICES = {
 }
 PASSIVE_DEVICES = {
     "coil_a.resistance": ("radc",),
-    "coil_a.core_loss": ("rap", "rasec"),
+    "coil_a.core_loss": ("rap", "rasec", *LADDER_A),
     "coil_b.resistance": ("rbdc",),
-    "coil_b.core_loss": ("rbp", "rbsec"),
+    "coil_b.core_loss": ("rbp", "rbsec", *LADDER_B),
     "passive_rig.tone_pot": ("rtone",),
     "passive_rig.volume_upper": ("rvu",),
     "passive_rig.volume_lower": ("rvd",),

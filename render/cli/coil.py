@@ -1,0 +1,114 @@
+"""``render coil MODEL``: each coil's impedance from whatever the design gives; ``render coil fit``: a measurement fitted."""
+
+from __future__ import annotations
+
+import click
+
+from ..io.folders import refuse_existing as check_new
+from .options import emit_json, friendly, json_option, overwrite_option
+
+SUBCOMMANDS = {"show": ("render.cli.coil", "show_command"), "fit": ("render.cli.coil_fit", "fit_command")}
+
+
+class CoilGroup(click.Group):
+    """``render coil MODEL`` runs ``show``; ``render coil fit FILE`` fits a measurement."""
+
+    def parse_args(self, ctx, args):
+        if args and args[0] not in SUBCOMMANDS and args[0] not in ("-h", "--help"):
+            args = ["show", *args]
+        return super().parse_args(ctx, args)
+
+    def list_commands(self, ctx):
+        return list(SUBCOMMANDS)
+
+    def get_command(self, ctx, name):
+        if name not in SUBCOMMANDS:
+            return None
+        import importlib
+
+        module, attr = SUBCOMMANDS[name]
+        return getattr(importlib.import_module(module), attr)
+
+
+@click.group("coil", cls=CoilGroup)
+def coil_command():
+    """Each coil's impedance (render coil MODEL), or a measured coil fitted (render coil fit FILE).
+
+    render coil MODEL is render coil show MODEL.
+    """
+
+
+def _eng(x: float, unit: str) -> str:
+    from ..units import format_si
+
+    return format_si(x, unit, 4)
+
+
+def print_record(rec: dict) -> None:
+    from ..runs.coil import SHOWN_HZ, at
+
+    click.echo(f"{rec['design']}  ({rec['file']})")
+    for name, c in rec["coils"].items():
+        src = c["from"]
+        how = {"typed": "typed values", "winding": "estimated from [winding]", "ladder": "typed ladder"}.get(c["source"], c["source"])
+        if c["source"] == "measured":
+            how = f"measured: {src['file']} (SHA-256 {src['sha256'][:12]}…), fit residual max {src['max_residual_db']:.2f} dB, {src['max_residual_deg']:.1f}°"
+        elif c["source"] == "derived":
+            parts = [p for p in src["parts"] if p["rise_h"] > 1e-3 * src["air_inductance_h"]]
+            core = ", ".join(f"{p['name']} +{_eng(p['rise_h'], 'H')}" for p in parts) or "air core"
+            how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; ladder within {src['ladder_error_db']:.2f} dB, {src['ladder_error_deg']:.2f}°"
+        click.echo(f"  {name}  {how}")
+        lad = c["ladder"]
+        loss = f"ladder L0 {_eng(lad['series_inductance_h'], 'H')} + {len(lad['inductances_h'])} R∥L sections" if lad else (
+            f"core loss {_eng(c['eddy_resistance_ohm'], 'Ω')} in parallel" if c["eddy_resistance_ohm"] else "no core loss")
+        srf = c["self_resonance_hz"]
+        click.echo(
+            f"          R {_eng(c['resistance_ohm'], 'Ω')}, L {_eng(c['inductance_h'], 'H')} at DC ({loss}), C {_eng(c['capacitance_f'], 'F')},"
+            f" self-resonance {_eng(srf, 'Hz') if srf else 'none below 10 MHz'}"
+        )
+        vals = [at(c, f) for f in SHOWN_HZ]
+        click.echo("          Hz     " + "".join(f"{_hz(f):>8}" for f in SHOWN_HZ))
+        click.echo("          |Z| Ω  " + "".join(f"{_short(m):>8}" for m, _ in vals))
+        click.echo("          phase° " + "".join(f"{p:8.1f}" for _, p in vals))
+
+
+def _hz(f: float) -> str:
+    return f"{f / 1e3:g}k" if f >= 1e3 else f"{f:g}"
+
+
+def _short(x: float) -> str:
+    return f"{x / 1e3:.3g}k" if x >= 1e3 else f"{x:.3g}"
+
+
+@click.command("show")
+@click.argument("model", type=click.Path(dir_okay=False))
+@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), help="Write frequency and each coil's |Z| and phase, 20 Hz–20 kHz, as CSV.")
+@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Plot each coil's |Z| and phase with its self-resonance.")
+@json_option("Write each coil's impedance, self-resonance and where it came from as JSON to FILE ('-' for standard output).")
+@overwrite_option
+@friendly
+def show_command(model, csv_path, png_path, json_path, overwrite):
+    """Each coil's impedance at its terminals, 20 Hz–20 kHz, and its self-resonance.
+
+    From whatever MODEL gives: typed values, the winding and core (wire and
+    [coil_x.geometry], with [construction]'s steel), a typed [coil_x.ladder],
+    or a measurement (measured = "file.csv"). Winding capacitance included,
+    nothing connected.
+    """
+    from ..design import load_design
+    from ..runs.coil import coil_record, csv_text
+
+    check_new([csv_path, png_path, json_path], overwrite=overwrite)
+    rec = coil_record(load_design(model))
+    if json_path != "-":
+        print_record(rec)
+    if csv_path:
+        from ..io.atomic import write_text
+
+        write_text(csv_path, csv_text(rec), overwrite=overwrite)
+    if png_path:
+        from ..report.coil import coil_plot
+
+        coil_plot(png_path, rec, overwrite=overwrite)
+    if json_path:
+        emit_json(json_path, rec, overwrite=overwrite)

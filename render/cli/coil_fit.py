@@ -1,0 +1,63 @@
+"""``render coil fit MEASUREMENT.csv``: the coil model, ladder included, fitted to a measured |Z| and phase."""
+
+from __future__ import annotations
+
+import click
+
+from ..io.folders import refuse_existing as check_new
+from .options import emit_json, friendly, json_option, overwrite_option
+
+
+def _eng(x: float, unit: str, digits: int = 4) -> str:
+    from ..units import format_si
+
+    return format_si(x, unit, digits)
+
+
+def print_fit(result) -> None:
+    m, fit = result.measurement, result.fit
+    lad = fit.ladder
+    click.echo(f"{m.source}  ({m.frequency_hz.size} points, {_eng(m.frequency_hz[0], 'Hz')} to {_eng(m.frequency_hz[-1], 'Hz')})")
+    click.echo(f"  R_dc            {_eng(fit.resistance, 'Ω')}")
+    click.echo(f"  inductance      {_eng(fit.inductance, 'H')} at DC: L0 {_eng(lad.series_inductance, 'H')} + {len(lad.inductances)} R∥L sections")
+    for k, (lk, rk) in enumerate(zip(lad.inductances, lad.resistances)):
+        click.echo(f"    section {k + 1}     {_eng(lk, 'H')} ∥ {_eng(rk, 'Ω')}  (corner {_eng(rk / lk / (2 * 3.141592653589793), 'Hz', 3)})")
+    click.echo(f"  capacitance     {_eng(fit.capacitance, 'F')}")
+    srf = result.self_resonance_hz
+    click.echo(f"  self-resonance  {_eng(srf, 'Hz', 3) if srf else 'none below 10 MHz'}")
+    click.echo("  residual (model − measurement)   max dB  rms dB   max °   rms °")
+    for b in result.residual_bands():
+        span = f"{_eng(b['from_hz'], 'Hz', 3)} – {_eng(b['to_hz'], 'Hz', 3)}"
+        click.echo(f"    {span:<20} {b['points']:>4} pts {b['max_db']:7.2f} {b['rms_db']:7.3f} {b['max_deg']:7.2f} {b['rms_deg']:7.2f}")
+
+
+@click.command("fit")
+@click.argument("measurement", type=click.Path(dir_okay=False))
+@click.option("--out", "out_path", type=click.Path(dir_okay=False), help="Write the coil's table for a design file (TOML) to FILE.")
+@click.option("--coil", type=click.Choice(["coil_a", "coil_b"]), default="coil_a", show_default=True, help="The table's name in the written TOML.")
+@json_option("Write the fitted values, the ladder and the residual at every frequency as JSON to FILE ('-' for standard output).")
+@overwrite_option
+@friendly
+def fit_command(measurement, out_path, coil, json_path, overwrite):
+    """Fit the coil model to MEASUREMENT (CSV of frequency, |Z| and phase).
+
+    The model is R_dc in series with the inductance and its core loss as an
+    RL ladder (L0 plus R∥L sections), the winding capacitance across both.
+    Prints the values and the residual in dB and degrees over 20 Hz–20 kHz
+    and per decade; --out writes [coil_x] with resistance, capacitance and
+    [coil_x.ladder], to paste into a design file.
+    """
+    from ..runs.coil import coil_table, fit_file
+
+    check_new([out_path, json_path], overwrite=overwrite)
+    result = fit_file(measurement)
+    if json_path != "-":
+        print_fit(result)
+    if out_path:
+        from ..io.atomic import write_text
+
+        write_text(out_path, coil_table(result, coil=coil), overwrite=overwrite)
+        if json_path != "-":
+            click.echo(f"coil table written to {out_path}")
+    if json_path:
+        emit_json(json_path, result.record(), overwrite=overwrite)

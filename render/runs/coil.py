@@ -1,0 +1,198 @@
+"""``render coil`` and ``render coil fit`` minus the printing: a coil's impedance, and a measurement fitted.
+
+The impedance at a coil's terminals is its series branch R_dc + Z_L (the
+inductance with its core loss: a parallel resistance, a shorted secondary or
+an RL ladder, :mod:`render.circuit.coil`) with the winding capacitance
+across it, whatever the design gives: typed values, the winding and core
+(derived) or a measurement (fitted). The self-resonance is where its phase
+crosses zero going up in frequency (the first parallel resonance).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from .. import units as U
+from ..impedance.ladder import REPORT_BAND_HZ
+
+if TYPE_CHECKING:
+    from ..impedance.measured import MeasuredCoil
+    from ..impedance.measurement_csv import Measurement
+
+BAND_HZ = REPORT_BAND_HZ  # 20 Hz – 20 kHz
+POINTS = 301  # log-spaced over the band for --csv, --json and the plot
+SHOWN_HZ = (20.0, 50.0, 100.0, 200.0, 500.0, 1e3, 2e3, 5e3, 10e3, 20e3)  # the printed table
+SEARCH_HZ = (10.0, 1e7, 4000)  # where the self-resonance is looked for
+RESIDUAL_BANDS = ((20.0, 200.0), (200.0, 2e3), (2e3, 20e3))  # the fit's residual, reported per decade
+
+
+def terminal_impedance(coil_params, frequency_hz) -> np.ndarray:
+    """Z at the coil's terminals, shape (N, F): (R_dc + Z_L) ∥ 1/(jωC_w)."""
+    from ..circuit.coil import impedance_at
+
+    f = np.atleast_1d(np.asarray(frequency_hz, float))
+    z = impedance_at(coil_params, f)
+    return 1.0 / (1.0 / z + 2j * np.pi * f[None, :] * coil_params.Cw[:, None])
+
+
+def self_resonance_hz(impedance_fn) -> float | None:
+    """Where ∠Z first crosses zero from inductive to capacitive (None: not within 10 Hz–10 MHz)."""
+    f = np.geomspace(*SEARCH_HZ)
+    ph = np.angle(impedance_fn(f))
+    idx = np.flatnonzero((ph[:-1] > 0) & (ph[1:] <= 0))
+    if idx.size == 0:
+        return None
+    i = int(idx[0])
+    return float(np.exp(np.interp(0.0, [ph[i + 1], ph[i]], [np.log(f[i + 1]), np.log(f[i])])))
+
+
+def _ladder_dict(lad) -> dict | None:
+    if lad is None:
+        return None
+    return {"series_inductance_h": lad.series_inductance, "inductances_h": list(lad.inductances), "resistances_ohm": list(lad.resistances)}
+
+
+def coil_source(coil) -> str:
+    """How the design gives the coil: "measured", "derived", "ladder", "winding" or "typed"."""
+    rec = coil.impedance_from
+    if rec is not None:
+        return rec.kind
+    if coil.ladder is not None:
+        return "ladder"
+    return "winding" if coil.winding is not None else "typed"
+
+
+def coil_record(design, *, points: int = POINTS) -> dict:
+    """Each coil's impedance over 20 Hz–20 kHz, its self-resonance and where it came from (JSON-ready)."""
+    from dataclasses import asdict
+
+    from ..circuit.ladder import coil_ladder
+    from ..circuit.params import from_designs
+
+    p = from_designs([design])
+    f = np.geomspace(*BAND_HZ, points)
+    coils = {}
+    for name in ("coil_a", "coil_b"):
+        c = getattr(design, name)
+        cp = getattr(p, name)
+        z = terminal_impedance(cp, f)[0]
+        srf = self_resonance_hz(lambda x, cp=cp: terminal_impedance(cp, x)[0])
+        rec = c.impedance_from
+        coils[name] = {
+            "source": coil_source(c),
+            "resistance_ohm": c.resistance,
+            "inductance_h": c.inductance,
+            "capacitance_f": c.capacitance,
+            "eddy_resistance_ohm": c.eddy_resistance,
+            "ladder": _ladder_dict(coil_ladder(c)),
+            "self_resonance_hz": srf,
+            **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if srf is None else {}),
+            "from": None if rec is None else {"kind": rec.kind, **asdict(rec)},
+            "frequency_hz": f.tolist(),
+            "magnitude_ohm": np.abs(z).tolist(),
+            "phase_deg": np.degrees(np.angle(z)).tolist(),
+        }
+    return {"design": design.name, "file": design.source, "design_sha256": design.sha256, "coils": coils}
+
+
+def at(rec_coil: dict, frequency_hz: float) -> tuple[float, float]:
+    """(|Z| Ω, phase °) of a coil record at ``frequency_hz``, interpolated in log frequency."""
+    lf = np.log(rec_coil["frequency_hz"])
+    x = np.log(frequency_hz)
+    mag = float(np.exp(np.interp(x, lf, np.log(rec_coil["magnitude_ohm"]))))
+    return mag, float(np.interp(x, lf, rec_coil["phase_deg"]))
+
+
+def csv_text(rec: dict) -> str:
+    """frequency_hz and each coil's |Z| (Ω) and phase (°), one row per frequency."""
+    a, b = rec["coils"]["coil_a"], rec["coils"]["coil_b"]
+    rows = ["frequency_hz,coil_a_z_ohm,coil_a_phase_deg,coil_b_z_ohm,coil_b_phase_deg"]
+    for i, f in enumerate(a["frequency_hz"]):
+        rows.append(f"{f:.6g},{a['magnitude_ohm'][i]:.6g},{a['phase_deg'][i]:.5g},{b['magnitude_ohm'][i]:.6g},{b['phase_deg'][i]:.5g}")
+    return "\n".join(rows) + "\n"
+
+
+# --- render coil fit -------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class FitResult:
+    """A measurement and the coil model fitted to it (``render coil fit``)."""
+
+    measurement: Measurement
+    fit: MeasuredCoil
+    self_resonance_hz: float | None
+
+    def residual_bands(self) -> list[dict]:
+        """Max and rms residual (dB, °) over 20 Hz–20 kHz and per decade within it (bands with no point left out)."""
+        f = self.fit.frequency_hz
+        out = []
+        for lo, hi in (BAND_HZ, *RESIDUAL_BANDS):
+            m = (f >= lo * (1 - 1e-9)) & (f <= hi * (1 + 1e-9))
+            if not np.any(m):
+                continue
+            db, deg = self.fit.residual_db[m], self.fit.residual_deg[m]
+            out.append({
+                "from_hz": lo, "to_hz": hi, "points": int(m.sum()),
+                "max_db": float(np.max(np.abs(db))), "rms_db": float(np.sqrt(np.mean(db**2))),
+                "max_deg": float(np.max(np.abs(deg))), "rms_deg": float(np.sqrt(np.mean(deg**2))),
+            })
+        return out
+
+    def record(self) -> dict:
+        m, fit = self.measurement, self.fit
+        return {
+            "file": m.source, "sha256": m.sha256, "points": int(m.frequency_hz.size),
+            "resistance_ohm": fit.resistance, "inductance_h": fit.inductance, "capacitance_f": fit.capacitance,
+            "ladder": _ladder_dict(fit.ladder), "self_resonance_hz": self.self_resonance_hz,
+            **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if self.self_resonance_hz is None else {}),
+            "residual": self.residual_bands(),
+            "frequency_hz": fit.frequency_hz.tolist(), "residual_db": fit.residual_db.tolist(), "residual_deg": fit.residual_deg.tolist(),
+        }
+
+
+def fit_file(path) -> FitResult:
+    """Read a measurement CSV and fit the coil model to it (the fit is cached by the file's hash)."""
+    from ..design.coil_impedance import fit_file as read_and_fit
+
+    m, fit = read_and_fit(path)
+    return FitResult(m, fit, self_resonance_hz(fit.impedance))
+
+
+def _q(x: float, unit: str) -> str:
+    return f'"{U.format_si(x, unit, digits=5).replace(" ", "")}"'
+
+
+def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | None = None) -> str:
+    """The fitted coil as a design file's table (TOML): ``resistance``, ``capacitance`` and ``[coil_x.ladder]``.
+
+    The coil's other keys (sensitivity or a construction, turns_area or a
+    geometry, position) are the design's; they are left as comments to fill in.
+    ``measured_as``: the path a design would give in ``measured`` instead.
+    """
+    m, fit = result.measurement, result.fit
+    lad = fit.ladder
+    band = result.residual_bands()[0] if result.residual_bands() else None
+    lines = [
+        f"# {coil} fitted by render coil fit to {m.source} (SHA-256 {m.sha256})",
+        f"# {m.frequency_hz.size} points, {U.format_si(m.frequency_hz[0], 'Hz')} to {U.format_si(m.frequency_hz[-1], 'Hz')}; inductance at DC {U.format_si(fit.inductance, 'H', 4)}"
+        + (f", self-resonance {U.format_si(result.self_resonance_hz, 'Hz', 3)}" if result.self_resonance_hz else ""),
+    ]
+    if band is not None:
+        lines.append(f"# residual over 20 Hz–20 kHz: max {band['max_db']:.2f} dB and {band['max_deg']:.2f}°, rms {band['rms_db']:.3f} dB and {band['rms_deg']:.2f}°")
+    lines += [
+        f"# or, to keep the measurement itself: measured = \"{measured_as or m.source}\" (in place of resistance, capacitance and [{coil}.ladder])",
+        f"[{coil}]",
+        f"resistance = {_q(fit.resistance, '')}",
+        f"capacitance = {_q(fit.capacitance, 'F')}",
+        "# sensitivity = …, turns_area = …, position = … (or [construction] and a geometry): the design's own",
+        "",
+        f"[{coil}.ladder]   # the inductance with its core loss: L0 in series with R_k ∥ L_k sections",
+        f"series_inductance = {_q(lad.series_inductance, 'H')}",
+        f"inductances = [{', '.join(_q(v, 'H') for v in lad.inductances)}]",
+        f"resistances = [{', '.join(_q(v, '') for v in lad.resistances)}]",
+    ]
+    return "\n".join(lines) + "\n"

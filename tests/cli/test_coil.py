@@ -1,0 +1,138 @@
+"""`render coil` and `render coil fit` through click's CliRunner.
+
+The fit's reference is the known model a synthetic measurement was computed
+from (eq. (1) of render.impedance.measured with chosen R_dc, ladder and C),
+with 1 % noise added: the command must give those parameters back.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from render.cli import main
+from render.design import load_design
+from render.impedance.ladder import Ladder
+from render.impedance.measured import terminal_impedance
+
+ROOT = Path(__file__).resolve().parents[2]
+REF = ROOT / "models" / "studio-reference.toml"
+MEASURED = ROOT / "models" / "measured-blade.toml"
+CSV = ROOT / "models" / "coils" / "harbour-blade-coil.synthetic.csv"
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+TRUE_LADDER = Ladder(1.3, (0.6, 0.3), (7e4, 2.5e3))  # invented, for the synthetic measurement
+
+
+def _synthetic(path: Path, *, seed: int, r=4100.0, ladder=TRUE_LADDER, c=95e-12, points=150):
+    """A measurement file computed from known parameters, 1 % noise on |Z| and 0.01 rad on the phase."""
+    rng = np.random.default_rng(seed)
+    f = np.geomspace(20.0, 50e3, points)
+    z = terminal_impedance(f, resistance=r, ladder=ladder, capacitance=c)
+    mag = np.abs(z) * (1 + 0.01 * rng.standard_normal(f.size))
+    ph = np.degrees(np.angle(z) + 0.01 * rng.standard_normal(f.size))
+    rows = ["# synthetic, for a test", "frequency_hz,z_ohm,phase_deg"] + [f"{a:.6g},{b:.6g},{p:.6g}" for a, b, p in zip(f, mag, ph)]
+    path.write_text("\n".join(rows) + "\n")
+    return r, ladder, c
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_fit_recovers_known_parameters_from_a_noisy_measurement(tmp_path, seed):
+    # the parameters the file was computed from; bounds: R_dc 1 %, inductance at DC and C 2 %, the
+    # self-resonance 1 % (the noise is 1 %; our bounds, common practice, no source)
+    path = tmp_path / "coil.csv"
+    r, lad, c = _synthetic(path, seed=seed)
+    res = run("coil", "fit", path, "--json", tmp_path / "fit.json", "--out", tmp_path / "coil.toml")
+    assert res.exit_code == 0, res.output
+    assert "20 Hz – 20 kHz" in res.output and "max dB" in res.output
+    got = json.loads((tmp_path / "fit.json").read_text())
+    assert got["resistance_ohm"] == pytest.approx(r, rel=0.01)
+    assert got["inductance_h"] == pytest.approx(lad.dc_inductance, rel=0.02)
+    assert got["capacitance_f"] == pytest.approx(c, rel=0.02)
+    f = np.geomspace(1e3, 1e6, 20001)
+    z = terminal_impedance(f, resistance=r, ladder=lad, capacitance=c)
+    true_srf = f[np.flatnonzero(np.angle(z) <= 0)[0]]
+    assert got["self_resonance_hz"] == pytest.approx(true_srf, rel=0.01)
+    # the residual is the noise: rms about 1 % (0.087 dB) and 0.57°
+    band = got["residual"][0]
+    assert band["from_hz"] == 20.0 and band["to_hz"] == 20e3
+    assert 0.04 < band["rms_db"] < 0.15 and 0.3 < band["rms_deg"] < 1.0
+
+
+def test_the_written_table_is_the_fitted_coil_in_a_design(tmp_path):
+    # render coil fit --out writes [coil_a] and [coil_a.ladder]; a design with those tables has the
+    # impedance of the design that references the measurement itself (same fit; values rounded to 5 digits)
+    res = run("coil", "fit", CSV, "--out", tmp_path / "coil.toml")
+    assert res.exit_code == 0, res.output
+    table = (tmp_path / "coil.toml").read_text()
+    ladder = "[coil_a.ladder]" + table.split("\n[coil_a.ladder]", 1)[1]
+    design = MEASURED.read_text().replace('measured = "coils/harbour-blade-coil.synthetic.csv"   # relative to this file\n', _values(table), 1)
+    doc = design.replace("[coil_b]", ladder + "\n[coil_b]", 1)
+    (tmp_path / "typed.toml").write_text(doc)
+    (tmp_path / "coils").mkdir()
+    (tmp_path / "coils" / CSV.name).write_bytes(CSV.read_bytes())  # coil_b still references it, relative to the design
+    typed, measured = load_design(tmp_path / "typed.toml"), load_design(MEASURED)
+    f = np.geomspace(20, 20e3, 30)
+    assert typed.coil_a.impedance_from is None and typed.coil_a.ladder is not None
+    np.testing.assert_allclose(typed.coil_a.ladder.impedance(f), measured.coil_a.ladder.impedance(f), rtol=1e-4)
+    assert typed.coil_a.capacitance == pytest.approx(measured.coil_a.capacitance, rel=1e-4)
+    assert typed.coil_a.resistance == pytest.approx(measured.coil_a.resistance, rel=1e-4)
+
+
+def _values(table: str) -> str:
+    lines = table.split("\n[coil_a]\n", 1)[1].split("\n[coil_a.ladder]")[0].splitlines()
+    return "".join(line + "\n" for line in lines if line.startswith(("resistance", "capacitance")))
+
+
+def test_render_coil_prints_each_coil_and_writes_csv_png_json(tmp_path):
+    res = run("coil", MEASURED, "--csv", tmp_path / "z.csv", "--png", tmp_path / "z.png", "--json", tmp_path / "z.json")
+    assert res.exit_code == 0, res.output
+    assert "measured: coils/harbour-blade-coil.synthetic.csv" in res.output and "self-resonance 11.89 kHz" in res.output
+    rec = json.loads((tmp_path / "z.json").read_text())
+    a = rec["coils"]["coil_a"]
+    assert a["source"] == "measured" and len(a["from"]["sha256"]) == 64
+    rows = (tmp_path / "z.csv").read_text().splitlines()
+    assert rows[0] == "frequency_hz,coil_a_z_ohm,coil_a_phase_deg,coil_b_z_ohm,coil_b_phase_deg" and len(rows) == 302
+    assert (tmp_path / "z.png").stat().st_size > 10_000
+
+
+def test_typed_coil_against_its_closed_form(tmp_path):
+    # studio-reference: R 520 Ω + (jωL ∥ 220 kΩ), 40 pF across: the closed form at 1 kHz
+    res = run("coil", REF, "--json", tmp_path / "z.json")
+    assert res.exit_code == 0, res.output
+    a = json.loads((tmp_path / "z.json").read_text())["coils"]["coil_a"]
+    w = 2 * np.pi * 1e3
+    zl = 1 / (1 / (1j * w * 0.35) + 1 / 220e3)
+    z = 1 / (1 / (520 + zl) + 1j * w * 40e-12)
+    i = int(np.argmin(np.abs(np.asarray(a["frequency_hz"]) - 1e3)))
+    f = a["frequency_hz"][i]
+    zl = 1 / (1 / (1j * 2 * np.pi * f * 0.35) + 1 / 220e3)
+    z = 1 / (1 / (520 + zl) + 2j * np.pi * f * 40e-12)
+    assert a["magnitude_ohm"][i] == pytest.approx(abs(z), rel=1e-9)
+    assert a["phase_deg"][i] == pytest.approx(np.degrees(np.angle(z)), abs=1e-9)
+    assert a["source"] == "typed"
+
+
+@pytest.mark.parametrize(
+    "text, fragment",
+    [
+        ("frequency_hz,z_ohm\n" + "".join(f"{i + 1},1\n" for i in range(10)), "phase"),
+        ("frequency_hz,z_ohm,phase_deg\n" + "".join(f"{10 - i},1,1\n" for i in range(10)), "does not increase"),
+        ("frequency_hz,z_ohm,phase_deg\n" + "".join(f"{i + 1},{'nan' if i == 3 else 1},1\n" for i in range(10)), "row"),
+    ],
+)
+def test_bad_files_are_refused_in_one_line(tmp_path, text, fragment):
+    path = tmp_path / "bad.csv"
+    path.write_text(text)
+    res = CliRunner().invoke(main, ["coil", "fit", str(path)])
+    assert res.exit_code == 1
+    lines = [x for x in res.output.splitlines() if x.strip()]
+    assert len(lines) == 1 and lines[0].startswith("Error: ") and fragment in lines[0].lower(), res.output
