@@ -45,8 +45,6 @@ DI = ROOT / "dry_signals" / "last_chord_2s.wav"  # any mono recording serves as 
 # (design stem, command) -> the refusal expected, as the README's refusal table words it
 REFUSALS = {
     ("odd-pair", "fit"): "no design met every aim",  # its mismatch caps the hum rejection below the aim
-    ("slipway-steel-poles", "fit"): "no design met every aim",  # steel's lower output keeps level_1k_db below the aim
-    ("slipway-steel-blades", "fit"): "no design met every aim",
     ("edge-reversed-coil", "fit"): "no design met every aim",
     ("edge-reversed-same-point", "fit"): "no design met every aim",
     ("edge-reversed-coil", "unvoice"): "its passive reference gives no signal",
