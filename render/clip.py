@@ -158,8 +158,10 @@ def noise_warning(design, floor: np.ndarray) -> tuple[str, ...]:
     """A warning when the noise floor alone (V, added after the limit) would reach a tenth of the headroom."""
     rms = float(np.sqrt(np.mean(floor**2))) if floor.size else 0.0
     if rms > 0.1 * min(design.headroom_up_v, design.headroom_down_v):
-        return (f"the noise floor alone is {rms:.3g} V rms at the amp input, beyond a tenth of the headroom; "
-                "this design's own noise would drive the amplifier into its limits, which the render (noise added after the limit) does not show",)
+        return (
+            f"the noise floor alone is {rms:.3g} V rms at the amp input, beyond a tenth of the headroom; "
+            "this design's own noise would drive the amplifier into its limits, which the render (noise added after the limit) does not show",
+        )
     return ()
 
 

@@ -27,7 +27,14 @@ from collections.abc import Callable, Mapping
 _NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"  # as render.units reads a number
 _HABIT = re.compile(rf"^({_NUMBER})([A-Za-zµμ]?)(fd|f|h|v|hz|ohms?)$", re.IGNORECASE)
 # the unit a lower-case symbol stands for, and the kinds it fits
-_SYMBOLS = {"f": ("F", ("capacitance", "capacitance per metre")), "h": ("H", ("inductance",)), "v": ("V", ("voltage",)), "hz": ("Hz", ("frequency",)), "ohm": ("Ω", ("resistance",)), "ohms": ("Ω", ("resistance",))}
+_SYMBOLS = {
+    "f": ("F", ("capacitance", "capacitance per metre")),
+    "h": ("H", ("inductance",)),
+    "v": ("V", ("voltage",)),
+    "hz": ("Hz", ("frequency",)),
+    "ohm": ("Ω", ("resistance",)),
+    "ohms": ("Ω", ("resistance",)),
+}
 
 
 def read_habit(text: str, kind_name: str, *, parse: Callable[[str], float], prefixes: Mapping[str, int], error: type[Exception]) -> float | None:

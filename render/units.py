@@ -156,7 +156,7 @@ def parse_quantity(value: object, kind: Kind) -> float:
     prefixes = {**PREFIXES, "c": -2} if kind.symbols and kind.symbols[0] in ("m", "m²") else PREFIXES
     if len(body) >= 2 and body[-1] in prefixes and _NUMBER_RE.match(body[:-1]):
         if "e" in body[:-1].lower():  # "1e3k": float("1e3e3") would raise a bare ValueError
-            raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}: use an exponent or a prefix, not both (e.g. \"4.7e3\" or \"4.7k\")")
+            raise QuantityError(f'cannot read {shown(value)} as {_a(kind)}: use an exponent or a prefix, not both (e.g. "4.7e3" or "4.7k")')
         return _finite(float(f"{body[:-1]}e{prefixes[body[-1]] * kind.power}"), kind)
     # RKM: the letter stands for the decimal point
     m = _RKM_RE.match(body)

@@ -282,5 +282,3 @@ def quantity(
         lower = "" if low is None else (f"> {low:g}{unit} and " if low_open else f">= {low:g}{unit} and ")
         raise where.fail(key, value, f"must be {lower}<= {high:g}{unit}", fix)
     return x
-
-

@@ -201,8 +201,7 @@ def run_transient(netlist_lines, t, x, *, stop, step, node="amp", options=(".opt
         lines += [
             "Rdrive drive 0 1e6",
             "Adrive %v([drive]) drivesrc",
-            f'.model drivesrc filesource (file="{tmp / "drive.txt"}" amploffset=[0] amplscale=[1] '
-            "timeoffset=0 timescale=1 timerelative=false amplstep=false)",
+            f'.model drivesrc filesource (file="{tmp / "drive.txt"}" amploffset=[0] amplscale=[1] timeoffset=0 timescale=1 timerelative=false amplstep=false)',
             *options,
             ".control",
             "set wr_singlescale",

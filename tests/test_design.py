@@ -110,11 +110,11 @@ def test_audio_taper():
 
 def test_name_defaults_to_the_file_stem(tmp_path):
     text = (
-        "[coil_a]\ninductance = \"1.2H\"\nresistance = \"1k8\"\ncapacitance = \"60p\"\nsensitivity = 0.08\nturns_area = 0.75\nposition = \"38mm\"\n"
-        "[coil_b]\ninductance = \"1.2H\"\nresistance = \"1k8\"\ncapacitance = \"60p\"\nsensitivity = 0.08\nturns_area = 0.75\nposition = \"56mm\"\n"
-        "[input_a]\nseries_c = \"100n\"\nseries_r = \"10k\"\n"
-        "[input_b]\nseries_c = \"100n\"\nseries_r = \"10k\"\nbias_top = \"100k\"\nbias_bottom = \"100k\"\n"
-        "[feedback]\nr = \"51k\"\n[output]\ncoupling_c = \"10u\"\nseries_r = \"220R\"\n[supply]\nbattery = 9\n"
+        '[coil_a]\ninductance = "1.2H"\nresistance = "1k8"\ncapacitance = "60p"\nsensitivity = 0.08\nturns_area = 0.75\nposition = "38mm"\n'
+        '[coil_b]\ninductance = "1.2H"\nresistance = "1k8"\ncapacitance = "60p"\nsensitivity = 0.08\nturns_area = 0.75\nposition = "56mm"\n'
+        '[input_a]\nseries_c = "100n"\nseries_r = "10k"\n'
+        '[input_b]\nseries_c = "100n"\nseries_r = "10k"\nbias_top = "100k"\nbias_bottom = "100k"\n'
+        '[feedback]\nr = "51k"\n[output]\ncoupling_c = "10u"\nseries_r = "220R"\n[supply]\nbattery = 9\n'
     )
     p = tmp_path / "quiet-one.toml"
     p.write_text(text, encoding="utf-8")

@@ -33,22 +33,28 @@ def variant(tmp_path, old, new, name="variant.toml"):
     return path
 
 
-@pytest.mark.parametrize("table,key,number,want", [
-    ("coil_a", "inductance", 120, "120m"),  # 120 H is no pickup coil; 120 mH is
-    ("feedback", "c", 22, "22p"),
-    ("input_a", "load_c", 3.9, "3.9n"),
-    ("output", "coupling_c", 10, "10u"),
-    ("rig", "cable_capacitance", 100, "100p"),
-])
+@pytest.mark.parametrize(
+    "table,key,number,want",
+    [
+        ("coil_a", "inductance", 120, "120m"),  # 120 H is no pickup coil; 120 mH is
+        ("feedback", "c", 22, "22p"),
+        ("input_a", "load_c", 3.9, "3.9n"),
+        ("output", "coupling_c", 10, "10u"),
+        ("rig", "cable_capacitance", 100, "100p"),
+    ],
+)
 def test_likely_prefix_puts_a_bare_number_in_its_parts_usual_range(table, key, number, want):
     assert likely_prefix(table, key, number) == want
 
 
-@pytest.mark.parametrize("old,new,fix", [
-    ('inductance = "350mH"   # winding inductance', "inductance = 120", '"120m"'),
-    ('c = "47p"   # rolls off far above the band', "c = 22", '"22p"'),
-    ('c = "47p"   # rolls off far above the band', 'c = "22"', '"22p"'),
-])
+@pytest.mark.parametrize(
+    "old,new,fix",
+    [
+        ('inductance = "350mH"   # winding inductance', "inductance = 120", '"120m"'),
+        ('c = "47p"   # rolls off far above the band', "c = 22", '"22p"'),
+        ('c = "47p"   # rolls off far above the band', 'c = "22"', '"22p"'),
+    ],
+)
 def test_a_refused_bare_number_hints_the_likely_prefix(tmp_path, old, new, fix):
     with pytest.raises(InputError) as e:
         load_designs([variant(tmp_path, old, new)])
@@ -84,30 +90,36 @@ def test_the_shipped_designs_are_plausible():
     assert {d.name: design_warnings(d) for d in designs} == {d.name: () for d in designs}
 
 
-@pytest.mark.parametrize("text,kind,value", [
-    ("2.2uf", U.CAPACITANCE, 2.2e-6),
-    ("22nf", U.CAPACITANCE, 22e-9),
-    ("100pf", U.CAPACITANCE, 100e-12),
-    ("2.2µf", U.CAPACITANCE, 2.2e-6),
-    ("120mh", U.INDUCTANCE, 0.12),
-    ("9v", U.VOLTAGE, 9.0),
-    ("1khz", U.FREQUENCY, 1000.0),
-    ("22KOhm", U.RESISTANCE, 22e3),
-    ("22K", U.RESISTANCE, 22e3),
-    ("4k7", U.RESISTANCE, 4.7e3),
-    ("4K7", U.RESISTANCE, 4.7e3),
-])
+@pytest.mark.parametrize(
+    "text,kind,value",
+    [
+        ("2.2uf", U.CAPACITANCE, 2.2e-6),
+        ("22nf", U.CAPACITANCE, 22e-9),
+        ("100pf", U.CAPACITANCE, 100e-12),
+        ("2.2µf", U.CAPACITANCE, 2.2e-6),
+        ("120mh", U.INDUCTANCE, 0.12),
+        ("9v", U.VOLTAGE, 9.0),
+        ("1khz", U.FREQUENCY, 1000.0),
+        ("22KOhm", U.RESISTANCE, 22e3),
+        ("22K", U.RESISTANCE, 22e3),
+        ("4k7", U.RESISTANCE, 4.7e3),
+        ("4K7", U.RESISTANCE, 4.7e3),
+    ],
+)
 def test_common_habits_are_read(text, kind, value):
     assert U.parse_quantity(text, kind) == pytest.approx(value, rel=1e-15)
 
 
-@pytest.mark.parametrize("text,kind,fix", [
-    ("2.2mf", U.CAPACITANCE, '"2.2uF" for microfarads or "2.2mF"'),
-    ("10mfd", U.CAPACITANCE, '"10uF"'),
-    ("2.2UF", U.CAPACITANCE, '"2.2uF"'),
-    ("4.7NF", U.CAPACITANCE, '"4.7nF"'),
-    ("3mhz", U.FREQUENCY, '"3MHz"'),
-])
+@pytest.mark.parametrize(
+    "text,kind,fix",
+    [
+        ("2.2mf", U.CAPACITANCE, '"2.2uF" for microfarads or "2.2mF"'),
+        ("10mfd", U.CAPACITANCE, '"10uF"'),
+        ("2.2UF", U.CAPACITANCE, '"2.2uF"'),
+        ("4.7NF", U.CAPACITANCE, '"4.7nF"'),
+        ("3mhz", U.FREQUENCY, '"3MHz"'),
+    ],
+)
 def test_ambiguous_habits_are_refused_with_the_fix(text, kind, fix):
     with pytest.raises(U.QuantityError) as e:
         U.parse_quantity(text, kind)

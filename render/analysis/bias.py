@@ -157,10 +157,21 @@ def _measure(args: tuple) -> dict:
     s, ref_v = args
     d = s.design
     burst = burst_figures(d, velocity_peak=ref_v)
-    return {"setting": s.label, "ratio": s.ratio, "bias_top_ohm": s.top, "bias_bottom_ohm": s.bottom, "battery_v": s.battery,
-            "bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v,
-            "onset": onset(d), "sine": sine_distortion(d, velocity_peak=ref_v),
-            "recovery_offset_v": burst["recovery_offset_v"], "recovery_tau_s": burst["recovery_tau_s"], "burst": burst}
+    return {
+        "setting": s.label,
+        "ratio": s.ratio,
+        "bias_top_ohm": s.top,
+        "bias_bottom_ohm": s.bottom,
+        "battery_v": s.battery,
+        "bias_v": d.bias_v,
+        "headroom_up_v": d.headroom_up_v,
+        "headroom_down_v": d.headroom_down_v,
+        "onset": onset(d),
+        "sine": sine_distortion(d, velocity_peak=ref_v),
+        "recovery_offset_v": burst["recovery_offset_v"],
+        "recovery_tau_s": burst["recovery_tau_s"],
+        "burst": burst,
+    }
 
 
 @dataclass(frozen=True)

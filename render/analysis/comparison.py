@@ -94,8 +94,15 @@ def comparison(p: PassiveDesign, *, temperature: float = T_DEFAULT, reference_ve
         U.put(fig, "hum_rejection_db", rej, U.HUM_CANCELS)
     (nr,) = noise_reports([d], temperature=temperature, reference_velocity=reference_velocity)
     floor = nr.passive
-    scale = one_scale(p.name, hum_frequency_hz=f, hum_peak_v=peaks, noise_v=floor.total_v, noise_a_v=floor.a_weighted_v,
-                      signal_v=0.0 if floor.silent_reason else floor.signal_v, reference_velocity=reference_velocity)
+    scale = one_scale(
+        p.name,
+        hum_frequency_hz=f,
+        hum_peak_v=peaks,
+        noise_v=floor.total_v,
+        noise_a_v=floor.a_weighted_v,
+        signal_v=0.0 if floor.silent_reason else floor.signal_v,
+        reference_velocity=reference_velocity,
+    )
     return Comparison(design=p, figures=fig, hum_frequency_hz=f, hum_peak_v=np.abs(peaks), noise=floor, scale=scale)
 
 

@@ -33,8 +33,20 @@ from ..validate import Field, read_value, suggest
 from .figures import REJECTION_CAP_DB
 
 FIGURES = (
-    "level_1k_db", "peak_hz", "peak_db", "resonance_hz", "resonance_db", "q", "bass_corner_hz", "treble_corner_hz",
-    "gain_vs_passive_db", "hum_rejection_db", "headroom_v", "headroom_up_v", "headroom_down_v", "cable_loss_db",
+    "level_1k_db",
+    "peak_hz",
+    "peak_db",
+    "resonance_hz",
+    "resonance_db",
+    "q",
+    "bass_corner_hz",
+    "treble_corner_hz",
+    "gain_vs_passive_db",
+    "hum_rejection_db",
+    "headroom_v",
+    "headroom_up_v",
+    "headroom_down_v",
+    "cable_loss_db",
     "phrase_headroom_db",
 )
 PHRASE_AIM = "phrase_headroom_db"  # dB above the phrase at which the limit is reached (render.analysis.phrase_headroom)
@@ -43,8 +55,7 @@ NO_SWING_DB = 200.0  # what a phrase that never moves the op-amp output counts a
 BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
 # what an undefined figure counts as when scored
 # (no peak scores as a peak at the band's lower edge, level with 1 kHz: a response falling from 1 kHz)
-UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB,
-             "peak_hz": 1000.0, "resonance_hz": 1000.0, "peak_db": 0.0, "resonance_db": 0.0}
+UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB, "peak_hz": 1000.0, "resonance_hz": 1000.0, "peak_db": 0.0, "resonance_db": 0.0}
 FREE_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 
 
@@ -159,14 +170,14 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
             raise InputError(f"{source}: unknown table or key '{key}'{_suggest(key, ['from', 'aim', 'free', 'phrase', 'strength'])}")
     start = start_override or data.get("from")
     if not start:
-        raise InputError(f"{source}: no start design; add from = \"models/<design>.toml\" or pass --from")
+        raise InputError(f'{source}: no start design; add from = "models/<design>.toml" or pass --from')
     if not isinstance(start, str):
         raise InputError(f"{source}: from={start!r}: expected a path string")
     aims_t, free_t = data.get("aim"), data.get("free")
     if not isinstance(aims_t, dict) or not aims_t:
-        raise InputError(f"{source}: missing or empty [aim] table; add e.g. peak_hz = {{ value = 3200, within = \"5%\" }}")
+        raise InputError(f'{source}: missing or empty [aim] table; add e.g. peak_hz = {{ value = 3200, within = "5%" }}')
     if not isinstance(free_t, dict) or not free_t:
-        raise InputError(f"{source}: missing or empty [free] table; add e.g. \"feedback.r\" = {{ min = \"22k\", max = \"470k\", series = \"E24\" }}")
+        raise InputError(f'{source}: missing or empty [free] table; add e.g. "feedback.r" = {{ min = "22k", max = "470k", series = "E24" }}')
     aims = []
     for name, a in aims_t.items():
         where = f"[aim] {name}"
@@ -183,17 +194,17 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
             value = _number(source, f"{where}.value", a["value"])
             w = a.get("within")
             if w is None:
-                raise InputError(f"{source}: {where}: a value needs a tolerance, e.g. within = 1.0 or within = \"5%\"")
+                raise InputError(f'{source}: {where}: a value needs a tolerance, e.g. within = 1.0 or within = "5%"')
             if isinstance(w, str) and w.strip().endswith("%"):
                 try:
                     rel = float(w.strip()[:-1]) / 100
                 except ValueError:
-                    raise InputError(f"{source}: {where}.within={w!r}: expected a number or a percentage like \"5%\"") from None
+                    raise InputError(f'{source}: {where}.within={w!r}: expected a number or a percentage like "5%"') from None
                 if not 0 < rel < 1:
                     raise InputError(f"{source}: {where}.within={w!r}: a percentage must be above 0 and below 100")
                 aims.append(Aim(name, value=value, within_rel=rel))
             else:
-                wv = _number(source, f"{where}.within", w, "a positive number or a percentage like \"5%\"")
+                wv = _number(source, f"{where}.within", w, 'a positive number or a percentage like "5%"')
                 if wv <= 0:
                     raise InputError(f"{source}: {where}.within={w!r}: must be above 0")
                 aims.append(Aim(name, value=value, within=wv))
@@ -217,7 +228,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
     frees: list[Free] = []
     known = [f"{t}.{k}" for t in FREE_TABLES for k, s in DESIGN_TABLES[t].items() if isinstance(s.kind, U.Kind)]
     for name, f in free_t.items():
-        where = f"[free] \"{name}\""
+        where = f'[free] "{name}"'
         if name not in known:
             raise InputError(f"{source}: {where}: not a part that can change{_suggest(name, known)}")
         table, key = name.split(".")
@@ -236,7 +247,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
             frees.append(Free(name, table, key, spec, src.lo, src.hi, src.series, src.choices, tie=j))
             continue
         if not isinstance(f, dict) or "min" not in f or "max" not in f:
-            raise InputError(f"{source}: {where}={f!r}: expected {{ min = …, max = …, series = \"E24\" }}")
+            raise InputError(f'{source}: {where}={f!r}: expected {{ min = …, max = …, series = "E24" }}')
         for k in f:
             if k not in ("min", "max", "series"):
                 raise InputError(f"{source}: {where}: unknown key '{k}'{_suggest(k, ['min', 'max', 'series', 'same_as'])}")
@@ -248,7 +259,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
         if series in ("none", None):
             series, choices = None, None
         elif series not in SERIES:
-            raise InputError(f"{source}: {where}: series={series!r}: expected one of {', '.join(SERIES)} or \"none\"")
+            raise InputError(f'{source}: {where}: series={series!r}: expected one of {", ".join(SERIES)} or "none"')
         else:
             choices = values_between(series, lo, hi)
             if choices.size == 0:
@@ -311,7 +322,7 @@ class Evaluator:
     def phrase_margins(self, designs) -> np.ndarray:
         """phrase_headroom_db of each design (dB; a phrase that never moves the output counts as NO_SWING_DB)."""
         if self.phrase is None:
-            raise InputError(f"{self.spec.source}: a {PHRASE_AIM} aim needs its phrase; give phrase = \"…toml\" in the fit file")
+            raise InputError(f'{self.spec.source}: a {PHRASE_AIM} aim needs its phrase; give phrase = "…toml" in the fit file')
         return np.nan_to_num(self.phrase.margins(designs), nan=NO_SWING_DB)
 
     def figures(self, values: np.ndarray) -> np.ndarray:
@@ -393,16 +404,24 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
     bounds = [(math.log10(spec.free[i].lo), math.log10(spec.free[i].hi)) for i in dims]
 
     def objective(xt):  # vectorised: xt has shape (n_dims, S)
-        return ev.score(spec.expand(10.0 ** xt.T))
+        return ev.score(spec.expand(10.0**xt.T))
 
     de = differential_evolution(
-        objective, bounds, seed=seed, vectorized=True, updating="deferred", maxiter=maxiter, popsize=popsize,
-        tol=1e-8, polish=False, init="latinhypercube",
+        objective,
+        bounds,
+        seed=seed,
+        vectorized=True,
+        updating="deferred",
+        maxiter=maxiter,
+        popsize=popsize,
+        tol=1e-8,
+        polish=False,
+        init="latinhypercube",
     )
-    pop = 10.0 ** de.population
+    pop = 10.0**de.population
     pop_scores = de.population_energies
     order = np.argsort(pop_scores)
-    seeds = [spec.expand(10.0 ** de.x)] + [spec.expand(pop[i]) for i in order[: max(4, top)]]
+    seeds = [spec.expand(10.0**de.x)] + [spec.expand(pop[i]) for i in order[: max(4, top)]]
     seen: dict[tuple, float] = {}
 
     def key_of(v):
@@ -456,7 +475,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
     ranked = sorted(((np.array(k), v) for k, v in seen.items()), key=lambda kv: rank(10.0 ** kv[0], kv[1]))
     results = []
     for logv, sc in ranked[:top]:
-        v = 10.0 ** logv
+        v = 10.0**logv
         v = snap(spec, v)  # exact series values, not their rounded logs
         from .figures import figures
 

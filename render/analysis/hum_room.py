@@ -64,9 +64,7 @@ def hum_map(design, *, rig=None, plane: str = "xy", distances_m=DEFAULT_DISTANCE
     return rejection_map(coils, from_a=fa, from_b=fb, frequency_hz=f, hum_polarity=hum_polarities(d), distances_m=distances_m, bearings_deg=bearings_deg, plane=plane)
 
 
-def hum_positions(
-    design, *, rig=None, trials: int = 2000, seed: int = 0, shell=DEFAULT_SHELL_M, joint: bool = False, tolerances=None, jobs: int = 1
-) -> PositionMonteCarlo:
+def hum_positions(design, *, rig=None, trials: int = 2000, seed: int = 0, shell=DEFAULT_SHELL_M, joint: bool = False, tolerances=None, jobs: int = 1) -> PositionMonteCarlo:
     """Rejection over random dipole sources: places uniform in a spherical shell, axes uniform.
 
     Parameters

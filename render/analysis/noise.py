@@ -214,11 +214,7 @@ def _floor(sources, f_int, f_out, signal_v, silent_reason=None) -> NoiseFloor:
     total = float(band_rms(psd_int.sum(axis=0), f_int))
     total_a = float(band_rms((psd_int * weight).sum(axis=0), f_int))
     order = np.argsort(-each, kind="stable")
-    contributors = tuple(
-        Contributor(sources[k].key, sources[k].label, float(each[k]), float(each_a[k]), float(each[k] ** 2 / total**2), float(np.sqrt(psd_1k[k])))
-        for k in order
-        if each[k] > 0.0
-    )
+    contributors = tuple(Contributor(sources[k].key, sources[k].label, float(each[k]), float(each_a[k]), float(each[k] ** 2 / total**2), float(np.sqrt(psd_1k[k]))) for k in order if each[k] > 0.0)
     return NoiseFloor(
         frequency_hz=f_out,
         density_v_per_rthz=np.sqrt(psd_out.sum(axis=0)),

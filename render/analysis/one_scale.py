@@ -112,8 +112,7 @@ class OneScale:
         return rec
 
 
-def one_scale(circuit: str, *, hum_frequency_hz, hum_peak_v, noise_v: float, noise_a_v: float, signal_v: float,
-              reference_velocity: float = REFERENCE_VELOCITY) -> OneScale:
+def one_scale(circuit: str, *, hum_frequency_hz, hum_peak_v, noise_v: float, noise_a_v: float, signal_v: float, reference_velocity: float = REFERENCE_VELOCITY) -> OneScale:
     """Hum (per-harmonic peaks) and noise (band totals) of one circuit on one scale.
 
     hum_frequency_hz, hum_peak_v : np.ndarray [shape=(K,)], Hz and V peak
@@ -162,8 +161,22 @@ def design_one_scale(design, *, temperature: float = 300.0, reference_velocity: 
     f = np.array([row["frequency_hz"] for row in table["harmonics"]])
     peaks = np.array([row["output_v"] for row in table["harmonics"]])
     fp, pp = passive_hum_peaks(design, resp)
-    active = one_scale("active", hum_frequency_hz=f, hum_peak_v=peaks, noise_v=nr.active.total_v, noise_a_v=nr.active.a_weighted_v,
-                       signal_v=0.0 if nr.active.silent_reason else nr.active.signal_v, reference_velocity=reference_velocity)
-    passive = one_scale("passive reference", hum_frequency_hz=fp, hum_peak_v=pp, noise_v=nr.passive.total_v, noise_a_v=nr.passive.a_weighted_v,
-                        signal_v=0.0 if nr.passive.silent_reason else nr.passive.signal_v, reference_velocity=reference_velocity)
+    active = one_scale(
+        "active",
+        hum_frequency_hz=f,
+        hum_peak_v=peaks,
+        noise_v=nr.active.total_v,
+        noise_a_v=nr.active.a_weighted_v,
+        signal_v=0.0 if nr.active.silent_reason else nr.active.signal_v,
+        reference_velocity=reference_velocity,
+    )
+    passive = one_scale(
+        "passive reference",
+        hum_frequency_hz=fp,
+        hum_peak_v=pp,
+        noise_v=nr.passive.total_v,
+        noise_a_v=nr.passive.a_weighted_v,
+        signal_v=0.0 if nr.passive.silent_reason else nr.passive.signal_v,
+        reference_velocity=reference_velocity,
+    )
     return active, passive

@@ -112,8 +112,7 @@ def distortion_figures(x, *, sample_rate: float, frequency_hz: float) -> dict:
     }
 
 
-def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0, sample_rate: int = 48000,
-                  burst_s: float = BURST_S, after_s: float = AFTER_S, settle_s: float = 0.5 * BURST_S) -> dict:
+def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0, sample_rate: int = 48000, burst_s: float = BURST_S, after_s: float = AFTER_S, settle_s: float = 0.5 * BURST_S) -> dict:
     """Harmonics during a sine burst and the recovery after it, from the nonlinear solve.
 
     design : a validated :class:`render.design.Design`

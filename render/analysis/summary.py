@@ -95,8 +95,6 @@ def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
     }
 
 
-
-
 def check_designs(designs, *, turns_percent: float | None = None) -> list[dict]:
     """:func:`design_summary` of every design (one engine pass), with a ±``turns_percent`` turns sweep when given."""
     from ..circuit.engine import responses

@@ -21,7 +21,9 @@ def scale_turns(design, coil: str, factor: float):
         sensitivity=c.sensitivity * factor,
         turns_area=c.turns_area * factor,
         geometry=None if c.geometry is None else replace(c.geometry, turns=c.geometry.turns * factor),
-        winding=None if c.winding is None else replace(
+        winding=None
+        if c.winding is None
+        else replace(
             c.winding,
             turns=c.winding.turns * factor,
             wire_length=c.winding.wire_length * factor,

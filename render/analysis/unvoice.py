@@ -506,7 +506,7 @@ def band_levels_from_psd(psd: np.ndarray, *, frequency_hz: np.ndarray, centres_h
     df = f[1] - f[0]
     out = np.empty(len(centres_hz))
     for i, c in enumerate(centres_hz):
-        m = (f >= c * 10 ** -0.05) & (f < c * 10 ** 0.05)
+        m = (f >= c * 10**-0.05) & (f < c * 10**0.05)
         if not m.any():
             m = np.zeros(f.size, bool)
             m[int(np.argmin(np.abs(f - c)))] = True

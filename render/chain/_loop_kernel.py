@@ -191,8 +191,7 @@ def _rail_holds(side, xlin_t, dxlin_t, wz, rail, gbw, x_cl, tau, a0, d_o, beta_c
 @njit(cache=True, inline="always", error_model="numpy")
 def _cubic(t, x4):
     """x_lin at σ = t within the step: the cubic through x4 at σ = −1, 0, 1, 2 (LAGRANGE)."""
-    return (-t * (t - 1.0) * (t - 2.0) / 6.0 * x4[0] + (t + 1.0) * (t - 1.0) * (t - 2.0) / 2.0 * x4[1]
-            - (t + 1.0) * t * (t - 2.0) / 2.0 * x4[2] + (t + 1.0) * t * (t - 1.0) / 6.0 * x4[3])
+    return -t * (t - 1.0) * (t - 2.0) / 6.0 * x4[0] + (t + 1.0) * (t - 1.0) * (t - 2.0) / 2.0 * x4[1] - (t + 1.0) * t * (t - 2.0) / 2.0 * x4[2] + (t + 1.0) * t * (t - 1.0) / 6.0 * x4[3]
 
 
 @njit(cache=True, inline="always", error_model="numpy")
@@ -205,8 +204,7 @@ def _piece(mom, ta, tb, da, db):
 
 
 @njit(cache=True, error_model="numpy")
-def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step, clamp_lo, clamp_hi,
-            centre, half, knee, low, high, mom, zp, zg, z_out):
+def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, mom, zp, zg, z_out):
     """TR-BDF2 over [ta, ta + L] (L = length/N steps; matrices of index ``length``): the trapezoidal
     rule to γ, then BDF2 through the start, γ and the end. Adds d's moments over the two pieces.
 
@@ -218,10 +216,10 @@ def _trbdf2(z0, d0, x0, ta, length, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4,
     tb = ta + step
     xg_lin = _cubic(tg, x4)
     xb_lin = _cubic(tb, x4)
-    xg, vg, s1 = _step(z0, z0, TP[length], 1.0, 0.0, Tr[length], d0, u, Trho[length], xi_index, xg_lin, x0,
-                       GAMMA * step * slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, zp, zg)
-    xb, vb, s2 = _step(zg, z0, GP[length], STAGE_1, STAGE_0, Gr[length], 0.0, u, Grho[length], xi_index, xb_lin, xg,
-                       (1.0 - GAMMA) * step * slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, zp, z_out)
+    xg, vg, s1 = _step(z0, z0, TP[length], 1.0, 0.0, Tr[length], d0, u, Trho[length], xi_index, xg_lin, x0, GAMMA * step * slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, zp, zg)
+    xb, vb, s2 = _step(
+        zg, z0, GP[length], STAGE_1, STAGE_0, Gr[length], 0.0, u, Grho[length], xi_index, xb_lin, xg, (1.0 - GAMMA) * step * slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, zp, z_out
+    )
     _piece(mom, ta, tg, d0, vg - xg_lin)
     _piece(mom, tg, tb, vg - xg_lin, vb - xb_lin)
     return xb, vb, xg, s1 or s2
@@ -238,10 +236,62 @@ def _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2):
 
 
 @njit(cache=True, error_model="numpy")
-def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, lin_rest, lin_rows, lin_head, lin_tail,
-        rail_at, rail_rest, rail_head_g, rail_tail_g, rail_head_x, rail_tail_x, scan_rows, scan_g, scan_x, rail_head_m, rail_tail_m,
-        TP, Tr, Trho, GP, Gr, Grho, P2, r2, rho2, u, kc, d_row, beta_c, c_vec, d_o, a0, tau, xi_index,
-        low, high, knee, clamp_lo, clamp_hi, slew_step, scale, tol, z, hist, out_c, out_vo):
+def run(
+    xl,
+    start,
+    loud,
+    loud_base,
+    oversample,
+    rate,
+    basis,
+    basis_d,
+    lin_at,
+    lin_rest,
+    lin_rows,
+    lin_head,
+    lin_tail,
+    rail_at,
+    rail_rest,
+    rail_head_g,
+    rail_tail_g,
+    rail_head_x,
+    rail_tail_x,
+    scan_rows,
+    scan_g,
+    scan_x,
+    rail_head_m,
+    rail_tail_m,
+    TP,
+    Tr,
+    Trho,
+    GP,
+    Gr,
+    Grho,
+    P2,
+    r2,
+    rho2,
+    u,
+    kc,
+    d_row,
+    beta_c,
+    c_vec,
+    d_o,
+    a0,
+    tau,
+    xi_index,
+    low,
+    high,
+    knee,
+    clamp_lo,
+    clamp_hi,
+    slew_step,
+    scale,
+    tol,
+    z,
+    hist,
+    out_c,
+    out_vo,
+):
     """Run the loop's steps over ``xl``; stop early, at an output-sample boundary, once it has decayed.
 
     xl : x_lin, V, shape (m + 1,), at the loop's rate ``rate`` (Hz): samples ``start`` … ``start`` + m;
@@ -426,8 +476,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                     mom2[0] = 0.0
                     mom2[1] = 0.0
                     mom2[2] = 0.0
-                    x_e, v_e, x_g, sl = _trbdf2(za, va, x_a, ta, seg, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step,
-                                                clamp_lo, clamp_hi, centre, half, knee, low, high, mom2, zp, zg, zc)
+                    x_e, v_e, x_g, sl = _trbdf2(za, va, x_a, ta, seg, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, mom2, zp, zg, zc)
                     rg = _region(x_g, centre, half, knee)
                     re = _region(x_e, centre, half, knee)
                     if not sl and rg != 2 and rg != -2 and re != 2 and re != -2:
@@ -450,8 +499,7 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
                     vb -= xt
                     _piece(mom, ta, ta + dl, va, vb)
                 else:
-                    x_a, vb, x_g, sl = _trbdf2(za, va, x_a, ta, 1, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step,
-                                               clamp_lo, clamp_hi, centre, half, knee, low, high, mom, zp, zg, zc)
+                    x_a, vb, x_g, sl = _trbdf2(za, va, x_a, ta, 1, TP, Tr, Trho, GP, Gr, Grho, u, xi_index, x4, slew_step, clamp_lo, clamp_hi, centre, half, knee, low, high, mom, zp, zg, zc)
                     vo_end = vb
                     vb -= xt
                 va = vb
@@ -522,5 +570,3 @@ def run(xl, start, loud, loud_base, oversample, rate, basis, basis_d, lin_at, li
             k_out += 1
     _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2)
     return total, clipped, short, True
-
-

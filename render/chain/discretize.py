@@ -233,10 +233,7 @@ def discretize(zeros, poles, gain, *, sample_rate: float, delay: int = DEFAULT_D
     err, ph, c = best
     warns = list(pole_warnings(pd, what=what, sample_rate=sample_rate))
     if err[0] > CONTRACT_DB[0] or err[1] > CONTRACT_DB[1]:
-        warns.append(
-            f"{what}: digital response misses the analog one by {err[0]:.3f} dB to {inner / 1e3:g} kHz "
-            f"and {err[1]:.3f} dB to {band / 1e3:g} kHz at {fs:g} Hz"
-        )
+        warns.append(f"{what}: digital response misses the analog one by {err[0]:.3f} dB to {inner / 1e3:g} kHz and {err[1]:.3f} dB to {band / 1e3:g} kHz at {fs:g} Hz")
     return Discrete(
         fir=np.ascontiguousarray(c),
         sos=np.ascontiguousarray(sos),

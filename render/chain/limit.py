@@ -65,10 +65,7 @@ class Window:
 
     def __post_init__(self):
         if not (self.knee > 0 and self.high > self.low and 2 * self.knee <= self.high - self.low):
-            raise ValueError(
-                f"limit window low={self.low!r} V, high={self.high!r} V, knee={self.knee!r} V: "
-                "needs knee > 0 and 2·knee ≤ high − low"
-            )
+            raise ValueError(f"limit window low={self.low!r} V, high={self.high!r} V, knee={self.knee!r} V: needs knee > 0 and 2·knee ≤ high − low")
 
     @property
     def linear_low(self) -> float:

@@ -117,6 +117,7 @@ from .loop_shared import GAMMA, H_P1, H_P2, H_VO1, H_X, H_XL1, H_XL2, NO_SLEW, R
 TOLERANCE_V = 1e-12  # V: a correction below this (every state, in volts of stored energy) is dropped as zero
 SUBSTEPS = 32  # grid of short steps across a change of piece
 
+
 @dataclass(frozen=True)
 class Network:
     """coil_a's network and the feedback as state equations (SI units).
@@ -232,8 +233,14 @@ def network(p, index: int = 0) -> Network:
         z0 = math.sqrt(L / Ct)
         scale = np.array([z0 if k.startswith("i_") else 1.0 for k in names])
         return Network(
-            a=m[:, :n].copy(), b_e=m[:, col_e].copy(), b_o=m[:, col_o].copy(), c=v_minus[:n].copy(),
-            d_e=float(v_minus[col_e]), d_o=float(v_minus[col_o]), names=tuple(names), scale=scale,
+            a=m[:, :n].copy(),
+            b_e=m[:, col_e].copy(),
+            b_o=m[:, col_o].copy(),
+            c=v_minus[:n].copy(),
+            d_e=float(v_minus[col_e]),
+            d_o=float(v_minus[col_o]),
+            names=tuple(names),
+            scale=scale,
         )
     i_1 = var("i_1")
     # the coil from its terminal to ground: inductor (∥ R_p) in series with R_dc and the EMF
@@ -257,8 +264,14 @@ def network(p, index: int = 0) -> Network:
     z0 = math.sqrt(L / Ct)
     scale = np.array([z0 if k.startswith("i_") else 1.0 for k in names])
     return Network(
-        a=m[:, :n].copy(), b_e=m[:, col_e].copy(), b_o=m[:, col_o].copy(), c=v_minus[:n].copy(),
-        d_e=float(v_minus[col_e]), d_o=float(v_minus[col_o]), names=tuple(names), scale=scale,
+        a=m[:, :n].copy(),
+        b_e=m[:, col_e].copy(),
+        b_o=m[:, col_o].copy(),
+        c=v_minus[:n].copy(),
+        d_e=float(v_minus[col_e]),
+        d_o=float(v_minus[col_o]),
+        names=tuple(names),
+        scale=scale,
     )
 
 
@@ -282,7 +295,6 @@ def dc_output(design) -> float:
 
 
 # --- the discrete loop ---------------------------------------------------------------
-
 
 
 # --- the discrete loop ---------------------------------------------------------------
@@ -611,14 +623,53 @@ class LoopState:
         from ._loop_kernel import run  # numba and the compiled loop, only once a loop runs
 
         done, clipped, short, active = run(  # type: ignore[call-arg]  # numba's dispatcher takes the kernel's own arguments
-            np.ascontiguousarray(xl, dtype=float), int(start), np.ascontiguousarray(loud, dtype=np.bool_), int(loud_base),
-            int(oversample), lp.sample_rate,
-            lp.basis, lp.basis_d, lp.lin_at, lp.lin_rest, lp.lin_rows, lp.lin_head, lp.lin_tail,
-            lp.rail_at, lp.rail_rest, lp.rail_head_g, lp.rail_tail_g, lp.rail_head_x, lp.rail_tail_x,
-            lp.scan_rows, lp.scan_g, lp.scan_x, lp.rail_head_m, lp.rail_tail_m,
-            *lp.trbdf2, *lp.bdf2, lp.u_vec, lp.kc, lp.d_row, lp.beta_c, lp.c_vec, lp.d_o, lp.open_loop_gain, lp.tau_s,
-            lp.xi_index, w.low, w.high, w.knee, lp.clamp[0], lp.clamp[1], lp.slew_step, lp.scale, TOLERANCE_V,
-            self.z, self.hist, out_c, out_vo,
+            np.ascontiguousarray(xl, dtype=float),
+            int(start),
+            np.ascontiguousarray(loud, dtype=np.bool_),
+            int(loud_base),
+            int(oversample),
+            lp.sample_rate,
+            lp.basis,
+            lp.basis_d,
+            lp.lin_at,
+            lp.lin_rest,
+            lp.lin_rows,
+            lp.lin_head,
+            lp.lin_tail,
+            lp.rail_at,
+            lp.rail_rest,
+            lp.rail_head_g,
+            lp.rail_tail_g,
+            lp.rail_head_x,
+            lp.rail_tail_x,
+            lp.scan_rows,
+            lp.scan_g,
+            lp.scan_x,
+            lp.rail_head_m,
+            lp.rail_tail_m,
+            *lp.trbdf2,
+            *lp.bdf2,
+            lp.u_vec,
+            lp.kc,
+            lp.d_row,
+            lp.beta_c,
+            lp.c_vec,
+            lp.d_o,
+            lp.open_loop_gain,
+            lp.tau_s,
+            lp.xi_index,
+            w.low,
+            w.high,
+            w.knee,
+            lp.clamp[0],
+            lp.clamp[1],
+            lp.slew_step,
+            lp.scale,
+            TOLERANCE_V,
+            self.z,
+            self.hist,
+            out_c,
+            out_vo,
         )
         self.active = bool(active)
         self.short_steps += int(short)

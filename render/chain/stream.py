@@ -502,9 +502,7 @@ class Renderer:
             from ..magnetics.hum import steady_samples
 
             return steady_samples(p.hum_phasors, n, sample_rate=p.sample_rate, mains_hz=h.mains, start=start)
-        return hm.steady_response(
-            p.hum_gains, n, sample_rate=p.sample_rate, mains_hz=h.mains, field_t=h.field, harmonics=h.harmonics, start=start, phases=p.hum_phases
-        )
+        return hm.steady_response(p.hum_gains, n, sample_rate=p.sample_rate, mains_hz=h.mains, field_t=h.field, harmonics=h.harmonics, start=start, phases=p.hum_phases)
 
     def _hum_at(self, start: int, n: int) -> np.ndarray:
         """Steady-state hum at the op-amp output for samples start … start+n−1 (V)."""

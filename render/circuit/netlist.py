@@ -212,7 +212,8 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "* nodes:  a1 a2 b1 b2 coil insides; ta tb coil terminals; xa xb series_c to series_r;",
         "*         inv pos op-amp inputs; bat battery +; opx op-amp open-loop state; out op-amp output;",
         "*         o1 coupling_c to series_r; jack output jack; tn tone; amp amplifier input",
-        f"* op-amp: open-loop gain {s.open_loop_gain:g}" + (f", gbw {s.gbw:g} Hz" if s.gbw else ", no bandwidth limit")
+        f"* op-amp: open-loop gain {s.open_loop_gain:g}"
+        + (f", gbw {s.gbw:g} Hz" if s.gbw else ", no bandwidth limit")
         + (f", slew rate {s.slew_rate:g} V/s" if s.slew_rate else "")
         + f"; output window {d.limit_low_v:g} .. {d.limit_high_v:g} V, knee {s.knee:g} V",
         "*",

@@ -275,4 +275,3 @@ def design_noise_model(designs, *, temperature=300.0) -> NoiseModel:
         noise_current=np.array([d.supply.noise_current for d in ds]),
         temperature=temperature,
     )
-

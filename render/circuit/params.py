@@ -22,7 +22,6 @@ if TYPE_CHECKING:
     from ..design import Design
 
 
-
 @dataclass(frozen=True)
 class CoilParams:
     L: np.ndarray  # H

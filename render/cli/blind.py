@@ -52,14 +52,18 @@ def print_blind_session(session) -> None:
 @rig_option
 @click.option("--trials", default=16, show_default=True, type=int, help="Number of trials.")
 @click.option("--method", default="abx", show_default=True, type=click.Choice(["abx", "preference"]), help="abx: is X the same as A or B; preference: A, B or no preference.")
-@click.option("--seed", default=None, type=int, help="Seed of the trial draws (default: a fresh random one, kept in the key). Anyone who knows the seed can redraw the key: leave it unset for a real session.")
+@click.option(
+    "--seed", default=None, type=int, help="Seed of the trial draws (default: a fresh random one, kept in the key). Anyone who knows the seed can redraw the key: leave it unset for a real session."
+)
 @click.option("--out", "out", type=click.Path(file_okay=False), default=None, help="Session folder to create (default: outputs/blind-<time>).")
 @click.option("--target-lufs", default=-23.0, show_default=True, type=float, help="Integrated loudness both clips are matched to (EBU R 128: -23).")
 @click.option("--true-peak-dbtp", default=-1.0, show_default=True, type=float, help="True-peak ceiling; both clips are lowered together if either would pass it.")
 @click.option("--seconds", default=None, help='Clip length ("8s", 4.5; default: the dry signal\'s own, at most 120 s).')
 @sample_rate_option
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Render the room's hum with the signal.")
-@click.option("--from-di", "from_di", type=click.Path(dir_okay=False), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it (render unvoice) and play the estimate.")
+@click.option(
+    "--from-di", "from_di", type=click.Path(dir_okay=False), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it (render unvoice) and play the estimate."
+)
 @overwrite_option
 @friendly
 def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, out, target_lufs, true_peak_dbtp, seconds, sample_rate, hum, from_di, overwrite):

@@ -76,7 +76,13 @@ def print_geometry(name, c):
 @click.command("check")
 @click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
 @rig_option
-@click.option("--turns-sweep", "turns_percent", type=click.FloatRange(min=0.1, max=50), default=None, help="Also print what ±PERCENT turns on coil_b alone, and on both coils, does to L, R, resonance and hum rejection.")
+@click.option(
+    "--turns-sweep",
+    "turns_percent",
+    type=click.FloatRange(min=0.1, max=50),
+    default=None,
+    help="Also print what ±PERCENT turns on coil_b alone, and on both coils, does to L, R, resonance and hum rejection.",
+)
 @compare_option
 @json_option()
 @overwrite_option

@@ -24,19 +24,32 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 @click.option("--seconds", type=click.FloatRange(min=0.01, max=3600), default=None, help="Length of every clip (default: the dry signal's own).")
 @sample_rate_option
 @click.option("--velocity-scale", type=click.FloatRange(min=1e-6, max=1e3, min_open=True), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
-@click.option("--from-di", "from_di", type=click.Path(dir_okay=False), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it into the run folder (render unvoice) and play the estimate.")
+@click.option(
+    "--from-di",
+    "from_di",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="--dry is a DI recorded through this design's passive reference: un-voice it into the run folder (render unvoice) and play the estimate.",
+)
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Add the rig's mains hum field.")
 @click.option("--passive/--no-passive", default=False, show_default=True, help="Also render each design's passive reference (S-passive.wav).")
 @click.option("--noise/--no-noise", default=False, show_default=True, help="Add the circuit's noise floor (seeded).")
 @click.option("--seed", type=int, default=0, show_default=True, help="Seed for the phrase's small variations and the noise.")
 @click.option("--strength", default=None, help="Pluck the phrase harder or softer: every pluck scaled alike so that its strongest is this (e.g. 2mm).")
-@click.option("--volts-full-scale", type=click.FloatRange(min=1e-3, max=100, min_open=True), default=None, help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).")
+@click.option(
+    "--volts-full-scale",
+    type=click.FloatRange(min=1e-3, max=100, min_open=True),
+    default=None,
+    help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).",
+)
 @jobs_option("Render designs in this many processes (default: one per core; results identical to one).", default=None)
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
 @compare_option
 @click.option("--reference", "reference", default=None, metavar="NAME", help="The design (name or file stem) the loudness-matched brightness differences are taken against (default: the first).")
 @friendly
-def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, strength, volts_full_scale, jobs, plots, reference=None, compare_path=None):
+def clips_command(
+    models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, strength, volts_full_scale, jobs, plots, reference=None, compare_path=None
+):
     """Render one clip per design (default: every models/*.toml).
 
     Every design plays the same dry signal into the same rig, and every WAV
@@ -80,7 +93,9 @@ def clips_command(models, dry_path, rig_path, out_dir, overwrite, seconds, sampl
             warn(f"{compared.name}: peak above the {run.volts_full_scale:g} V full scale; the float WAV keeps those samples, but many players clip them")
         from ..analysis.undefined import shown
 
-        click.echo(f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {shown(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale")
+        click.echo(
+            f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {shown(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale"
+        )
 
 
 def read_strength(text, dry) -> float | None:

@@ -59,8 +59,11 @@ def print_record(rec: dict) -> None:
             how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; ladder within {src['ladder_error_db']:.2f} dB, {src['ladder_error_deg']:.2f}°"
         click.echo(f"  {name}  {how}")
         lad = c["ladder"]
-        loss = f"ladder L0 {_eng(lad['series_inductance_h'], 'H')} + {len(lad['inductances_h'])} R∥L sections" if lad else (
-            f"core loss {_eng(c['eddy_resistance_ohm'], 'Ω')} in parallel" if c["eddy_resistance_ohm"] else "no core loss")
+        loss = (
+            f"ladder L0 {_eng(lad['series_inductance_h'], 'H')} + {len(lad['inductances_h'])} R∥L sections"
+            if lad
+            else (f"core loss {_eng(c['eddy_resistance_ohm'], 'Ω')} in parallel" if c["eddy_resistance_ohm"] else "no core loss")
+        )
         srf = c["self_resonance_hz"]
         click.echo(
             f"          R {_eng(c['resistance_ohm'], 'Ω')}, L {_eng(c['inductance_h'], 'H')} at DC ({loss}), C {_eng(c['capacitance_f'], 'F')},"

@@ -106,8 +106,7 @@ def hum_lines(c) -> list[str]:
     from ..analysis.one_scale import harmonics_rms
 
     p = c.design
-    out = [f"{p.name}  ({p.source}; passive comparison pickup)  mains {p.hum.mains:g} Hz",
-           "  harmonic  frequency   hum at amp input (peak)"]
+    out = [f"{p.name}  ({p.source}; passive comparison pickup)  mains {p.hum.mains:g} Hz", "  harmonic  frequency   hum at amp input (peak)"]
     for i, (f, v) in enumerate(zip(c.hum_frequency_hz, c.hum_peak_v)):
         out.append(f"  {i + 1:>8d}  {f:7.0f} Hz  {v * 1e6:12.3f} µV")
     out.append(f"  total hum {harmonics_rms(c.hum_frequency_hz, c.hum_peak_v) * 1e6:.3f} µV rms")

@@ -7,23 +7,8 @@ import contextlib
 import click
 
 from .compare_print import compare_option
-from .hum_print import print_audio, print_monte_carlo, print_report, room, warnings
+from .hum_print import print_audio, print_monte_carlo, print_report, read_shell, read_tolerances, room, warnings
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
-
-
-def _percent(text, name):
-    from ..errors import InputError
-
-    if text is None:
-        return None
-    t = str(text).strip().rstrip("%")
-    try:
-        v = float(t) / 100.0
-    except ValueError:
-        raise InputError(f"{name}={text!r}: expected a percentage such as 1% or 0.5") from None
-    if not 0 <= v <= 0.5:
-        raise InputError(f"{name}={text!r}: a tolerance must be from 0 % to 50 %")
-    return v
 
 
 @click.command("hum")
@@ -38,7 +23,9 @@ def _percent(text, name):
 @jobs_option("Monte Carlo in this many processes (results identical to one).")
 @json_option("Write per-harmonic figures (and the Monte Carlo) as JSON to FILE ('-' for standard output).")
 @click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Plot rejection against frequency, mains harmonics marked (all MODELS overlaid).")
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder.")
+@click.option(
+    "--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder."
+)
 @click.option("--histogram", "hist_path", type=click.Path(dir_okay=False), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
 @click.option("--map", "map_on", is_flag=True, help="Rejection against a dipole source's distance (0.2–3 m) and bearing: a table and JSON.")
 @click.option("--map-plane", type=click.Choice(["xy", "xz"]), default="xy", show_default=True, help="xy: the top faces' plane (90° treble side); xz: the vertical plane along the strings (90° above).")
@@ -49,8 +36,29 @@ def _percent(text, name):
 @compare_option
 @overwrite_option
 @friendly
-def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capacitor, tolerance_turns, trials, seed, jobs, json_path, png_path, out_dir, hist_path,
-                map_on, map_plane, map_png, positions, shell, joint, overwrite, compare_path=None):
+def hum_command(
+    models,
+    rig_path,
+    tolerance,
+    tolerance_resistor,
+    tolerance_capacitor,
+    tolerance_turns,
+    trials,
+    seed,
+    jobs,
+    json_path,
+    png_path,
+    out_dir,
+    hist_path,
+    map_on,
+    map_plane,
+    map_png,
+    positions,
+    shell,
+    joint,
+    overwrite,
+    compare_path=None,
+):
     """Hum cancellation of each MODEL with its own coils, per mains harmonic.
 
     The rejection at a frequency is 20·log10(max(|V_A|,|V_B|)/|V_A+V_B|), V_A
@@ -68,14 +76,8 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
     map_on = map_on or bool(map_png)
     if (shell or joint) and not positions:
         raise InputError(f"{'--shell' if shell else '--joint'} needs random sources: add --positions N (e.g. --positions 2000)")
-    shell_m = _shell(shell)
-    tol = {}
-    if tolerance is not None:
-        v = _percent(tolerance, "--tolerance")
-        tol = {"resistor": v, "capacitor": v, "turns": v}
-    for cls, text in (("resistor", tolerance_resistor), ("capacitor", tolerance_capacitor), ("turns", tolerance_turns)):
-        if text is not None:
-            tol[cls] = _percent(text, f"--tolerance-{cls}")
+    shell_m = read_shell(shell)
+    tol = read_tolerances(tolerance, resistor=tolerance_resistor, capacitor=tolerance_capacitor, turns=tolerance_turns)
     if hist_path and not tol:
         raise InputError("--histogram needs a Monte Carlo: add --tolerance (e.g. --tolerance 1%)")
     designs, _ = load_designs(models, rig=rig_path)
@@ -115,8 +117,21 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
                     from ..report.plots import histogram_plot
 
                     histogram_plot(hist_path, mc.rejection_db[:, 0], xlabel=f"hum rejection at {mc.frequency_hz[0]:g} Hz (dB)", title=f"{d.name}: {trials} trials", overwrite=overwrite)
-            room(rec, d, show=show, map_on=map_on, map_plane=map_plane, map_png=map_png if i == 0 else None, positions=positions, shell=shell_m,
-                 joint=joint, tolerances=tol, seed=seed, jobs=jobs, overwrite=overwrite)
+            room(
+                rec,
+                d,
+                show=show,
+                map_on=map_on,
+                map_plane=map_plane,
+                map_png=map_png if i == 0 else None,
+                positions=positions,
+                shell=shell_m,
+                joint=joint,
+                tolerances=tol,
+                seed=seed,
+                jobs=jobs,
+                overwrite=overwrite,
+            )
             records.append(rec)
         if compared is not None and show:
             click.echo()
@@ -129,16 +144,3 @@ def hum_command(models, rig_path, tolerance, tolerance_resistor, tolerance_capac
         from ..report.plots import hum_rejection_plot
 
         hum_rejection_plot(png_path, designs, overwrite=overwrite)
-
-
-def _shell(shell):
-    from .. import units as U
-    from ..errors import InputError
-
-    if not shell:
-        return None
-    try:
-        return tuple(U.parse_quantity(x, U.LENGTH) for x in shell)
-    except U.QuantityError as exc:
-        raise InputError(f"--shell {' '.join(shell)}: {exc}; give two radii such as 0.3m 2m") from None
-

@@ -42,9 +42,7 @@ rig_option = click.option(
     help="Rig file (TOML with [rig] and/or [hum]); replaces each design's own tables.",
 )
 overwrite_option = click.option("--overwrite", is_flag=True, help="Replace output files that already exist.")
-sample_rate_option = click.option(
-    "--sample-rate", type=int, default=48000, show_default=True, callback=_sample_rate, help="Output sample rate (Hz), 8000 to 384000."
-)
+sample_rate_option = click.option("--sample-rate", type=int, default=48000, show_default=True, callback=_sample_rate, help="Output sample rate (Hz), 8000 to 384000.")
 
 
 def json_option(help_text: str = "Write the results as JSON to FILE ('-' for standard output).") -> Callable[[Any], Any]:

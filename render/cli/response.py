@@ -104,4 +104,11 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, co
         from ..report.compare import compare_curves
         from ..report.plots import response_plot
 
-        response_plot(png_path, f, [(d.name, h), *compare_curves(compared.design if compared else None, f)], passive=("passive reference", hp), title=f"{d.name}: string velocity to amp input", overwrite=overwrite)
+        response_plot(
+            png_path,
+            f,
+            [(d.name, h), *compare_curves(compared.design if compared else None, f)],
+            passive=("passive reference", hp),
+            title=f"{d.name}: string velocity to amp input",
+            overwrite=overwrite,
+        )

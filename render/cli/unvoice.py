@@ -18,7 +18,13 @@ def report_from_di(made) -> None:
 @click.command("unvoice")
 @click.argument("di", type=click.Path(dir_okay=False))
 @click.argument("model", type=click.Path(dir_okay=False))
-@click.option("--rig", "rig_path", type=click.Path(dir_okay=False), default=None, help="Rig the DI was recorded through (cable, recorder input as amp_r and amp_c, passive_pot, passive_tone_cap); replaces MODEL's own [rig].")
+@click.option(
+    "--rig",
+    "rig_path",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="Rig the DI was recorded through (cable, recorder input as amp_r and amp_c, passive_pot, passive_tone_cap); replaces MODEL's own [rig].",
+)
 @click.option("--volts-full-scale", type=float, default=1.0, show_default=True, help="Volts at the amp input that a DI sample of 1.0 stands for (the recorder's full scale).")
 @click.option("--velocity-scale", type=float, default=1.0, show_default=True, help="m/s at full scale of the velocity WAV written.")
 @click.option("--max-boost", type=float, default=None, help="Most the inverse may boost above its 1 kHz level, dB (default 20).")
@@ -40,8 +46,13 @@ def unvoice_command(di, model, rig_path, volts_full_scale, velocity_scale, max_b
     r = res.record
     band = r["trusted_band_hz"]
     reg = r["regularisation"]
-    click.echo(f"wrote {res.wav} ({r['di']['seconds']:.2f} s at {r['di']['sample_rate']} Hz, peak {r['velocity']['peak_m_per_s']:.3g} m/s; full scale {r['velocity']['velocity_scale']:g} m/s) and {res.json}" + (f", {res.png}" if res.png else ""))
+    click.echo(
+        f"wrote {res.wav} ({r['di']['seconds']:.2f} s at {r['di']['sample_rate']} Hz, peak {r['velocity']['peak_m_per_s']:.3g} m/s; full scale {r['velocity']['velocity_scale']:g} m/s) and {res.json}"
+        + (f", {res.png}" if res.png else "")
+    )
     click.echo(f"  trusted band     {band[0]:.0f} Hz to {band[1]:.0f} Hz" if band else "  trusted band     none (see the warning)")
-    click.echo(f"  inverse          at most {reg['max_boost_db']:g} dB above its 1 kHz level; gain limit {reg['gain_limit_db']:.2f} dB re 1 m/s per V (reached {reg['max_inverse_gain_db']:.2f} dB at {reg['max_inverse_gain_hz']:.0f} Hz)")
+    click.echo(
+        f"  inverse          at most {reg['max_boost_db']:g} dB above its 1 kHz level; gain limit {reg['gain_limit_db']:.2f} dB re 1 m/s per V (reached {reg['max_inverse_gain_db']:.2f} dB at {reg['max_inverse_gain_hz']:.0f} Hz)"
+    )
     me = r["model_error"]["coil_inductance"]["true_plus_10_percent"]
     click.echo(f"  model            coils' true inductance 10 % above the model's: the estimate is off by up to {me['max_error_db']:+.2f} dB (at {me['at_hz']:.0f} Hz); more in {res.json.name}")

@@ -57,11 +57,22 @@ def write_clips_page(folder: Path, records: Sequence[dict], designs: Sequence, *
         stem = Path(design.source).stem
         volts, fs, n = read_head(folder / f"{stem}.wav", volts_full_scale=volts_full_scale)
         m = rec["measurements"]
-        clips.append(PageClip(
-            key=stem, name=rec["design"], volts=volts, sample_rate=fs, loudness_lufs_1v_full_scale=m["loudness_lufs_1v_full_scale"],
-            cells=clips_cells(m), values=design_values(design), file=str(rec["design_file"]), full_samples=n,
-            warnings=tuple(rec.get("warnings", ())), response=resp, passive=passive,
-        ))
+        clips.append(
+            PageClip(
+                key=stem,
+                name=rec["design"],
+                volts=volts,
+                sample_rate=fs,
+                loudness_lufs_1v_full_scale=m["loudness_lufs_1v_full_scale"],
+                cells=clips_cells(m),
+                values=design_values(design),
+                file=str(rec["design_file"]),
+                full_samples=n,
+                warnings=tuple(rec.get("warnings", ())),
+                response=resp,
+                passive=passive,
+            )
+        )
     lede = (
         f"Dry signal {dry}; rig: {rig}; {settings['sample_rate']} Hz; seed {settings['seed']}; hum {'on' if settings['hum'] else 'off'};"
         f" noise {'on' if settings['noise'] else 'off'}; one full scale for every WAV: {volts_full_scale:g} V."
@@ -86,17 +97,28 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
     )
 
 
-def write_bias_page(folder: Path, sweep, clips: Sequence[dict], renders: Sequence[np.ndarray], *, sample_rate: int, volts_full_scale: float, dry: str, strength_m: float | None = None, jobs: int = 1) -> tuple[Path, Path]:
+def write_bias_page(
+    folder: Path, sweep, clips: Sequence[dict], renders: Sequence[np.ndarray], *, sample_rate: int, volts_full_scale: float, dry: str, strength_m: float | None = None, jobs: int = 1
+) -> tuple[Path, Path]:
     """``index.html`` and ``index-clips.js`` for a ``render bias`` folder: one entry per setting of ``sweep``."""
     designs = [s.design for s in sweep.settings]
     curves = response_curves(designs)
     entries = []
     for s, row, clip, x, (resp, passive) in zip(sweep.settings, sweep.rows, clips, renders, curves):
-        entries.append(PageClip(
-            key=Path(clip["file"]).stem, name=f"{s.label}, {s.battery:g} V", volts=np.asarray(x, dtype=float), sample_rate=sample_rate,
-            loudness_lufs_1v_full_scale=clip["loudness_lufs_1v_full_scale"], cells=bias_cells(row, clip), values=design_values(s.design),
-            file=str(sweep.design.source), response=resp, passive=passive,
-        ))
+        entries.append(
+            PageClip(
+                key=Path(clip["file"]).stem,
+                name=f"{s.label}, {s.battery:g} V",
+                volts=np.asarray(x, dtype=float),
+                sample_rate=sample_rate,
+                loudness_lufs_1v_full_scale=clip["loudness_lufs_1v_full_scale"],
+                cells=bias_cells(row, clip),
+                values=design_values(s.design),
+                file=str(sweep.design.source),
+                response=resp,
+                passive=passive,
+            )
+        )
     pluck = f"; every note plucked at {strength_m * 1e3:g} mm" if strength_m is not None else ""
     lede = f"{sweep.design.name} ({sweep.design.source}) playing {dry}{pluck}; one full scale for every WAV: {volts_full_scale:g} V."
     text = PageText(title=f"render bias: {sweep.design.name}, {len(entries)} settings", lede=lede, columns=BIAS_COLUMNS, notes=BIAS_NOTES)

@@ -234,7 +234,7 @@ def clips_script(keys: Sequence[str], copies: Sequence[PageCopy]) -> bytes:
     """The clips as base64 WAVs in a classic script (a page opened from ``file://`` may load one, not fetch a file)."""
     lines = ['"use strict";', "window.renderPageClips = window.renderPageClips || {};"]
     for key, copy in zip(keys, copies):
-        lines.append(f"window.renderPageClips[{_json_in_html(key)}] = \"{base64.b64encode(copy.wav).decode('ascii')}\";")
+        lines.append(f'window.renderPageClips[{_json_in_html(key)}] = "{base64.b64encode(copy.wav).decode("ascii")}";')
     return ("\n".join(lines) + "\n").encode("ascii")
 
 

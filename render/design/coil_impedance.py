@@ -222,9 +222,13 @@ def _rises_cached(build, position_a, position_b):
     names = ("coil_a", "coil_b")
     if stored is not None:
         try:
-            return {n: tuple(PartRise(str(nm), float(r), str(sh), float(sz), tuple(float(v) for v in dm), bool(mg))
-                             for nm, r, sh, sz, dm, mg in zip(stored[f"{n}_name"], stored[f"{n}_rise"], stored[f"{n}_shape"], stored[f"{n}_size"], stored[f"{n}_dims"], stored[f"{n}_magnet"]))
-                    for n in names}
+            return {
+                n: tuple(
+                    PartRise(str(nm), float(r), str(sh), float(sz), tuple(float(v) for v in dm), bool(mg))
+                    for nm, r, sh, sz, dm, mg in zip(stored[f"{n}_name"], stored[f"{n}_rise"], stored[f"{n}_shape"], stored[f"{n}_size"], stored[f"{n}_dims"], stored[f"{n}_magnet"])
+                )
+                for n in names
+            }
         except (KeyError, ValueError, TypeError):
             pass
     result = part_rises(c, build.geometry_a, build.geometry_b, position_a=position_a, position_b=position_b)
@@ -271,9 +275,15 @@ def _derived(coil, spec: CoilSpec, design, name: str):
         shares = tuple(CorePartShare(r.name, (magnet if r.magnet else steel).name, float(r.rise), float(ps[0].fill) if ps else 0.0) for r, ps in pairs)
     derived = _derive(winding, bare, outer, parts)
     record = DerivedImpedance(
-        wire_diameter_m=float(bare), wire_outer_diameter_m=float(outer), wire_length_m=float(derived.wire_length),
-        air_inductance_h=float(derived.air_inductance), core="construction" if build is not None else "air", parts=shares,
-        ladder_error_db=float(derived.ladder_fit.error_db), ladder_error_deg=float(derived.ladder_fit.error_deg), layers=int(derived.capacitance.layers),
+        wire_diameter_m=float(bare),
+        wire_outer_diameter_m=float(outer),
+        wire_length_m=float(derived.wire_length),
+        air_inductance_h=float(derived.air_inductance),
+        core="construction" if build is not None else "air",
+        parts=shares,
+        ladder_error_db=float(derived.ladder_fit.error_db),
+        ladder_error_deg=float(derived.ladder_fit.error_deg),
+        layers=int(derived.capacitance.layers),
     )
     lad = derived.ladder_fit.ladder
     return replace(coil, inductance=lad.dc_inductance, resistance=float(derived.resistance), capacitance=float(derived.capacitance.capacitance), ladder=lad, impedance_from=record)
@@ -314,8 +324,20 @@ def _fit_cached(path: str, sha: str):
     m = read_measurement(path)
     fit = fit_measurement(m.frequency_hz, m.impedance)
     lad = fit.ladder
-    cache.store("coil-fit", key, {"l0": np.array(lad.series_inductance), "lk": np.array(lad.inductances, float), "rk": np.array(lad.resistances, float),
-                                  "r": np.array(fit.resistance), "c": np.array(fit.capacitance), "f": fit.frequency_hz, "db": fit.residual_db, "deg": fit.residual_deg})
+    cache.store(
+        "coil-fit",
+        key,
+        {
+            "l0": np.array(lad.series_inductance),
+            "lk": np.array(lad.inductances, float),
+            "rk": np.array(lad.resistances, float),
+            "r": np.array(fit.resistance),
+            "c": np.array(fit.capacitance),
+            "f": fit.frequency_hz,
+            "db": fit.residual_db,
+            "deg": fit.residual_deg,
+        },
+    )
     return fit
 
 
@@ -326,8 +348,15 @@ def _measured(coil, spec: CoilSpec, design, name: str):
         raise InputError(f"{where(design.source, name, 'measured')}={U.shown(spec.measured)}: no such file ({path}); the path is relative to the design file's folder")
     m, fit = fit_file(path)
     record = MeasuredImpedance(
-        file=spec.measured, path=str(path), sha256=m.sha256, points=int(m.frequency_hz.size), band_hz=(float(m.frequency_hz[0]), float(m.frequency_hz[-1])),
-        max_residual_db=fit.max_residual_db, max_residual_deg=fit.max_residual_deg, rms_residual_db=fit.rms_residual_db, rms_residual_deg=fit.rms_residual_deg,
+        file=spec.measured,
+        path=str(path),
+        sha256=m.sha256,
+        points=int(m.frequency_hz.size),
+        band_hz=(float(m.frequency_hz[0]), float(m.frequency_hz[-1])),
+        max_residual_db=fit.max_residual_db,
+        max_residual_deg=fit.max_residual_deg,
+        rms_residual_db=fit.rms_residual_db,
+        rms_residual_deg=fit.rms_residual_deg,
     )
     return replace(coil, inductance=fit.inductance, resistance=float(fit.resistance), capacitance=float(fit.capacitance), ladder=fit.ladder, impedance_from=record)
 

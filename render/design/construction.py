@@ -65,7 +65,7 @@ def _lengths(lo: float, hi: float, *, single: bool = False):
         if single and not isinstance(raw, list):
             return _length(raw, loc, lo, hi)
         if not isinstance(raw, list) or not 1 <= len(raw) <= MAX_STRINGS:
-            raise InputError(f"{loc}={U.shown(raw)}: expected a list of 1 to {MAX_STRINGS} lengths, lowest string first, e.g. [\"0.46mm\", \"0.43mm\"]")
+            raise InputError(f'{loc}={U.shown(raw)}: expected a list of 1 to {MAX_STRINGS} lengths, lowest string first, e.g. ["0.46mm", "0.43mm"]')
         return tuple(_length(x, f"{loc} (entry {i + 1})", lo, hi) for i, x in enumerate(raw))
 
     return read
@@ -142,13 +142,13 @@ def read_construction(data: Any, *, source: str) -> Construction:
         need = ["steel_width", "steel_height"] + (["steel_length"] if kind == "steel-blades" else [])
         missing = [k for k in need if k not in t]
         if missing:
-            raise InputError(f"{loc}: kind=\"{kind}\" needs {', '.join(missing)} (the steel's size)")
+            raise InputError(f'{loc}: kind="{kind}" needs {", ".join(missing)} (the steel\'s size)')
         if kind == "steel-poles" and "steel_length" in t:
             raise InputError(f"{loc}: steel_length given for steel-poles; a screw's size is its diameter (steel_width) and steel_height")
         w = t["steel_width"]
         steel = (w, t.get("steel_length", w), t["steel_height"])
     if kind != "steel-poles" and ("poles" in t or "pole_spacing" in t):
-        raise InputError(f"{loc}: poles and pole_spacing go with kind=\"steel-poles\"")
+        raise InputError(f'{loc}: poles and pole_spacing go with kind="steel-poles"')
     strings = Strings(cores=cores, outers=tuple(outers), spacing=t["string_spacing"], heights=tuple(heights), wrap_share=t["wrap_share"], permeability=t["string_permeability"])
     try:
         return Construction(

@@ -38,13 +38,26 @@ def read_winding(data: Any, *, source: str, table: str) -> Winding:
     kind, value = w["wire"]
     dia = awg_diameter(value) if kind == "awg" else value
     L, R, length = from_winding(
-        turns=w["turns"], diameter=dia, mean_turn=w["mean_turn"], height=w["height"], depth=w["depth"],
-        core_factor=w["core_factor"], temperature_c=w["temperature"],
+        turns=w["turns"],
+        diameter=dia,
+        mean_turn=w["mean_turn"],
+        height=w["height"],
+        depth=w["depth"],
+        core_factor=w["core_factor"],
+        temperature_c=w["temperature"],
     )
     return Winding(
-        turns=w["turns"], wire_diameter=dia, wire_awg=value if kind == "awg" else None, mean_turn=w["mean_turn"],
-        height=w["height"], depth=w["depth"], core_factor=w["core_factor"], temperature=w["temperature"],
-        wire_length=length, inductance=L, resistance=R,
+        turns=w["turns"],
+        wire_diameter=dia,
+        wire_awg=value if kind == "awg" else None,
+        mean_turn=w["mean_turn"],
+        height=w["height"],
+        depth=w["depth"],
+        core_factor=w["core_factor"],
+        temperature=w["temperature"],
+        wire_length=length,
+        inductance=L,
+        resistance=R,
     )
 
 
@@ -95,7 +108,7 @@ def _read_hum(data: Any, *, source: str, table: str = "hum") -> Hum:
     if "field" in data:
         raise InputError(
             f"{where(source, table, 'field')}={U.shown(data['field'])} given as well as [[hum.source]]: with sources the field is theirs alone;"
-            " remove field, or add it as a source (kind = \"uniform\", axis = [0, 0, 1])"
+            ' remove field, or add it as a source (kind = "uniform", axis = [0, 0, 1])'
         )
     values = read_table(data, HUM, source=source, table=table)
     values["sources"] = read_sources(items, source=source, n_harmonics=len(values["harmonics"]))
@@ -134,7 +147,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
             f"{sup['margin_low'] + sup['margin_high'] + 2 * sup['knee']:g} V must be below battery={sup['battery']:g} V; lower the margins or the knee"
         )
     if "slew_rate" in sup and "gbw" not in sup:
-        raise InputError(f"{where(source, 'supply', 'slew_rate')}: limits the rate of the op-amp's dominant-pole state, which needs gbw; add gbw (e.g. gbw = \"3MHz\") or leave slew_rate out")
+        raise InputError(f'{where(source, "supply", "slew_rate")}: limits the rate of the op-amp\'s dominant-pole state, which needs gbw; add gbw (e.g. gbw = "3MHz") or leave slew_rate out')
     design = Design(
         name=data.get("name") or name or Path(source).stem,
         notes=data.get("notes", ""),
@@ -173,7 +186,7 @@ def load_design(path: str | Path) -> Design:
     """Load and validate one design file."""
     data, raw = read_toml(path)
     if isinstance(data, dict) and data.get("kind") == "passive":  # render.design.passive
-        raise InputError(f"{path}: a passive pickup (kind = \"passive\") has no preamp to render as a design; name it with --compare {path} instead")
+        raise InputError(f'{path}: a passive pickup (kind = "passive") has no preamp to render as a design; name it with --compare {path} instead')
     return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw))
 
 

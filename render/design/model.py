@@ -19,6 +19,7 @@ if TYPE_CHECKING:
 # make them); not a measurement of any room (common practice, no source).
 DEFAULT_HARMONICS = (1.0, 0.05, 0.3, 0.03, 0.2, 0.02, 0.12, 0.01, 0.06)
 
+
 @dataclass(frozen=True)
 class Coil:
     inductance: float

@@ -115,7 +115,7 @@ def parse_passive(data: dict, *, source: str = "<passive>", name: str | None = N
 
     check_document(data, source, [KIND_KEY, *PASSIVE_TABLES, *TOP_KEYS])
     if data.get(KIND_KEY) != PASSIVE_KIND:
-        raise InputError(f"{source}: {KIND_KEY}={U.shown(data.get(KIND_KEY))}: a comparison pickup needs {KIND_KEY} = \"{PASSIVE_KIND}\"")
+        raise InputError(f'{source}: {KIND_KEY}={U.shown(data.get(KIND_KEY))}: a comparison pickup needs {KIND_KEY} = "{PASSIVE_KIND}"')
     for t in ("coil_a", "coil_b"):
         if t not in data:
             raise InputError(f"{source}: missing table [{t}]; a passive pickup needs [coil_a] and [coil_b] (and may have [controls], [rig], [hum])")
@@ -124,7 +124,9 @@ def parse_passive(data: dict, *, source: str = "<passive>", name: str | None = N
     if isinstance(data.get("rig"), dict):
         for key in data["rig"]:
             if key not in CABLE and key in RIG:
-                raise InputError(f"{source}: [rig] {key}: a passive pickup's pots and tone capacitor go in its [controls] table (pot, tone_cap, volume, tone, volume_taper, tone_taper); [rig] holds only {', '.join(CABLE_KEYS)}")
+                raise InputError(
+                    f"{source}: [rig] {key}: a passive pickup's pots and tone capacitor go in its [controls] table (pot, tone_cap, volume, tone, volume_taper, tone_taper); [rig] holds only {', '.join(CABLE_KEYS)}"
+                )
     coils = {}
     for t, sig, hum_pol in (("coil_a", 1, 1), ("coil_b", 1, -1)):
         values = dict(_read_coil(data[t], source=source, table=t))
@@ -154,7 +156,7 @@ def load_passive(path: str | Path, *, rig: RigFile | None = None) -> PassiveDesi
     """Load a passive pickup's file (``kind = "passive"``), playing into ``rig``'s cable and amplifier when given."""
     data, raw = read_toml(path)
     if not is_passive(data):
-        raise InputError(f"{path}: not a passive pickup; a comparison file starts with {KIND_KEY} = \"{PASSIVE_KIND}\" (an active design is compared by naming it beside the others)")
+        raise InputError(f'{path}: not a passive pickup; a comparison file starts with {KIND_KEY} = "{PASSIVE_KIND}" (an active design is compared by naming it beside the others)')
     return parse_passive(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw)).with_rig(rig)
 
 

@@ -25,12 +25,12 @@ def read_wire(raw: Any, loc: str) -> tuple[str, float]:
     """A winding's wire: ("awg", gauge) or ("diameter", m)."""
     if isinstance(raw, (int, float)) and not isinstance(raw, bool):
         if not 20 <= raw <= 60:
-            raise InputError(f"{loc}={U.shown(raw)}: an AWG gauge must be from 20 to 60 (pickup wire is usually 41 to 44), or give a bare diameter like \"0.0635mm\"")
+            raise InputError(f'{loc}={U.shown(raw)}: an AWG gauge must be from 20 to 60 (pickup wire is usually 41 to 44), or give a bare diameter like "0.0635mm"')
         return ("awg", float(raw))
     try:
         dia = U.parse_quantity(raw, U.LENGTH)
     except U.QuantityError as exc:
-        raise InputError(f"{loc}={U.shown(raw)}: {exc}; give an AWG number like 42 or a bare diameter like \"0.0635mm\"") from None
+        raise InputError(f'{loc}={U.shown(raw)}: {exc}; give an AWG number like 42 or a bare diameter like "0.0635mm"') from None
     if not 5e-6 <= dia <= 2e-3:
         raise InputError(f"{loc}={U.shown(raw)}: a bare wire diameter must be from 5 µm to 2 mm")
     return ("diameter", dia)
@@ -140,5 +140,3 @@ DESIGN_TABLES = {
 }
 REQUIRED_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 MAX_NAME_CHARS = 120  # a design's name heads tables, plots and messages (common practice, no source)
-
-

@@ -193,10 +193,18 @@ def pickup_emf(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers, s
         for i in mine:
             note = notes[i]
             _add_note(
-                chans, note, inst, coils=[c[j] for c in coils], x_offset=sensing.x_offset, fs=fs, onset=float(onsets[i]), end=float(ends[i]),
+                chans,
+                note,
+                inst,
+                coils=[c[j] for c in coils],
+                x_offset=sensing.x_offset,
+                fs=fs,
+                onset=float(onsets[i]),
+                end=float(ends[i]),
                 strength=note.strength * (1.0 + STRENGTH_JITTER * jitter[i, 1]),
                 pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * jitter[i, 2]), 0.999 * note.length),
-                strain=strain, side=-1.0 if string <= n_strings / 2 else 1.0,
+                strain=strain,
+                side=-1.0 if string <= n_strings / 2 else 1.0,
             )
         for c in (0, 1):
             s = coils[c][j]

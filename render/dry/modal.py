@@ -244,10 +244,7 @@ def _check_points(positions, apertures, scale_length: float) -> tuple[np.ndarray
     w = np.broadcast_to(np.asarray(apertures, dtype=float), x.shape).astype(float)
     for xi in x:
         if not (math.isfinite(xi) and 0.0 < xi < scale_length):
-            raise InputError(
-                f"position={xi:g} m: a sensing point must lie between the bridge saddle and the nut "
-                f"(0 < x < {scale_length:g} m); give it in metres or as \"40mm\""
-            )
+            raise InputError(f'position={xi:g} m: a sensing point must lie between the bridge saddle and the nut (0 < x < {scale_length:g} m); give it in metres or as "40mm"')
     for wi in w:
         if not (math.isfinite(wi) and 0.0 <= wi < scale_length / 2):
             raise InputError(f"aperture={wi:g} m: a sensing window must be >= 0 and < half the scale length ({scale_length / 2:g} m)")
@@ -298,9 +295,7 @@ def _add_note(
     omega = 2.0 * np.pi * freqs
     beta = pluck_at / length
     a = pluck_amplitudes(n, strength=strength, beta=beta)
-    weights = position_weights(n[None, :], position=positions[:, None], length=length) * aperture_weights(
-        n[None, :], aperture=apertures[:, None], length=length
-    )
+    weights = position_weights(n[None, :], position=positions[:, None], length=length) * aperture_weights(n[None, :], aperture=apertures[:, None], length=length)
     amp = -(a * (omega**2 + sigma**2) / omega)[None, :] * weights  # (P, N) m/s
 
     # Span: from the pluck until the note has fallen 120 dB or the phrase ends.

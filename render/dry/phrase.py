@@ -90,24 +90,26 @@ PLUCK_ANGLE = 30.0  # degrees
 
 # Defaults for the instrument and for playing (common practice, no source,
 # chosen by ear): they describe a solid-body electric guitar.
-DEFAULTS = MappingProxyType({
-    "scale_length": 0.648,  # m
-    "concert_a": 440.0,  # Hz
-    "decay": 6.0,  # s, T60 of the lowest modes
-    "curvature_loss": 1.0e-3,  # m^2/s, the b3 term of the loss
-    "mute_decay": 0.12,  # s, T60 added by a full palm mute at low frequencies
-    "release": 0.08,  # s, T60 of the damping when a note ends
-    "strength": 1.0e-3,  # m, initial displacement at the pluck point (from memory)
-    "pluck_at": 0.12,  # m from the bridge saddle
-    "mute": 0.0,
-    "strum": 0.03,  # s, first to last string of a chord
-    "direction": "down",
-    "bend_over": 0.12,  # s
-    "vibrato_rate": 5.5,  # Hz
-    "polarisation_split": POLARISATION_SPLIT,
-    "polarisation_angle": POLARISATION_ANGLE,
-    "angle": PLUCK_ANGLE,
-})
+DEFAULTS = MappingProxyType(
+    {
+        "scale_length": 0.648,  # m
+        "concert_a": 440.0,  # Hz
+        "decay": 6.0,  # s, T60 of the lowest modes
+        "curvature_loss": 1.0e-3,  # m^2/s, the b3 term of the loss
+        "mute_decay": 0.12,  # s, T60 added by a full palm mute at low frequencies
+        "release": 0.08,  # s, T60 of the damping when a note ends
+        "strength": 1.0e-3,  # m, initial displacement at the pluck point (from memory)
+        "pluck_at": 0.12,  # m from the bridge saddle
+        "mute": 0.0,
+        "strum": 0.03,  # s, first to last string of a chord
+        "direction": "down",
+        "bend_over": 0.12,  # s
+        "vibrato_rate": 5.5,  # Hz
+        "polarisation_split": POLARISATION_SPLIT,
+        "polarisation_angle": POLARISATION_ANGLE,
+        "angle": PLUCK_ANGLE,
+    }
+)
 
 
 @dataclass(frozen=True)
@@ -371,10 +373,7 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
     raw_notes = _event_list(top, data, "note")
     raw_chords = _event_list(top, data, "chord")
     if not raw_notes and not raw_chords:
-        raise InputError(
-            f"{source}: the phrase has no [[note]] or [[chord]] events; "
-            'add one, for example [[note]] with time = 0, string = 6, fret = 0'
-        )
+        raise InputError(f"{source}: the phrase has no [[note]] or [[chord]] events; add one, for example [[note]] with time = 0, string = 6, fret = 0")
     events = len(raw_notes) + len(raw_chords)
     if events > MAX_EVENTS:
         raise InputError(f"{source}: events={events}: at most {MAX_EVENTS} [[note]] and [[chord]] entries; split the phrase")
@@ -474,7 +473,7 @@ def _parse_instrument(source: str, table: Any) -> Instrument:
             tensions = tuple(plain_string_tension(diameter=d, frequency=f, length=scale) for d, f in zip(diameters, pitches))
         inharm = tuple(stiffness_inharmonicity(diameter=d, tension=t, length=scale) for d, t in zip(diameters, tensions))
         if max(inharm) > 0.01:
-            raise where.fail("core_diameter", table["core_diameter"], f"gives inharmonicity B up to {max(inharm):.3g}, beyond 0.01", "check the diameters (metres, or strings like \"0.43mm\")")
+            raise where.fail("core_diameter", table["core_diameter"], f"gives inharmonicity B up to {max(inharm):.3g}, beyond 0.01", 'check the diameters (metres, or strings like "0.43mm")')
     elif strings == len(STANDARD_INHARMONICITY):
         inharm = STANDARD_INHARMONICITY
     else:
@@ -670,7 +669,7 @@ def _parse_bend(where: Where, value: object) -> Bend:
     inner = Where(where.source, f"{where.table} bend")
     check_keys(inner, table, BEND_KEYS)
     if "semitones" not in table:
-        raise inner.missing("semitones", "write bend = { semitones = 1, over = \"0.12s\" }")
+        raise inner.missing("semitones", 'write bend = { semitones = 1, over = "0.12s" }')
     semis = quantity(inner, "semitones", table["semitones"], RATIO, low=-12.0, high=12.0)
     over = quantity(inner, "over", table.get("over", DEFAULTS["bend_over"]), TIME, low=0.0, high=MAX_SECONDS)
     start = quantity(inner, "start", table.get("start", 0.0), TIME, low=0.0, high=MAX_SECONDS)
@@ -705,7 +704,7 @@ def _parse_chord(where: Where, table: Any, instrument: Instrument, playing: _Pla
         if isinstance(item, str) and item.strip().lower() == "x":
             continue
         if isinstance(item, bool) or not isinstance(item, int) or not 0 <= item <= MAX_FRET:
-            raise where.fail("frets", frets_raw, f"entry {j + 1} ({show(item)}) must be a fret 0..{MAX_FRET} or \"x\" for a string not played")
+            raise where.fail("frets", frets_raw, f'entry {j + 1} ({show(item)}) must be a fret 0..{MAX_FRET} or "x" for a string not played')
         played.append((string, item))
     if not played:
         raise where.fail("frets", frets_raw, "no string is played", "give at least one fret number")
@@ -754,8 +753,7 @@ def _check_same_start(source: str, notes: tuple[Note, ...]) -> None:
         if key in seen:
             other = seen[key]
             raise InputError(
-                f"{source}: {note.origin} time={note.time:g}: string {note.string} already starts a note "
-                f"at that moment ({other.origin}); a string plays one note at a time, so move one of them"
+                f"{source}: {note.origin} time={note.time:g}: string {note.string} already starts a note at that moment ({other.origin}); a string plays one note at a time, so move one of them"
             )
         seen[key] = note
 

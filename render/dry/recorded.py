@@ -26,9 +26,7 @@ MAX_SECONDS = 600.0
 PLAUSIBLE_VELOCITY = 100.0
 
 
-def load_recorded(
-    path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None
-) -> tuple[np.ndarray, list[str]]:
+def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None) -> tuple[np.ndarray, list[str]]:
     """Read a recorded string-velocity signal for both coils.
 
     Parameters
@@ -73,8 +71,7 @@ def load_recorded(
     peak = float(np.max(np.abs(data))) * float(velocity_scale)
     if peak > PLAUSIBLE_VELOCITY:
         warnings.append(
-            f"{name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={velocity_scale:g}) is far beyond "
-            f"a plucked string's few m/s; check --velocity-scale and the file's level"
+            f"{name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={velocity_scale:g}) is far beyond a plucked string's few m/s; check --velocity-scale and the file's level"
         )
     flats = FlatRuns()
     flats.add(data)

@@ -116,10 +116,7 @@ def audio_info(path: str | Path, *, max_seconds: float | None = None, max_channe
     except OSError as e:
         raise InputError(f"{name}: cannot be read ({e.strerror}); check the path and its permissions") from None
     if short:
-        raise InputError(
-            f"{name}: cut short: its header declares {short[0]} bytes of audio but the file holds {short[1]}; "
-            "the copy or export stopped early, so copy or export it again"
-        )
+        raise InputError(f"{name}: cut short: its header declares {short[0]} bytes of audio but the file holds {short[1]}; the copy or export stopped early, so copy or export it again")
     try:
         info = sf.info(name)
     except (sf.LibsndfileError, *_READ_ERRORS) as e:
@@ -130,17 +127,11 @@ def audio_info(path: str | Path, *, max_seconds: float | None = None, max_channe
         what = "mono feeds both coils, two channels feed coil_a and coil_b" if max_channels == 2 else "one channel"
         raise InputError(f"{name}: channels={channels}: at most {max_channels} ({what}); mix down or split the file")
     if not MIN_FILE_RATE <= rate <= MAX_FILE_RATE:
-        raise InputError(
-            f"{name}: samplerate={rate} in its header: expected {MIN_FILE_RATE} to {MAX_FILE_RATE} Hz; "
-            "the header is probably damaged, export the file again"
-        )
+        raise InputError(f"{name}: samplerate={rate} in its header: expected {MIN_FILE_RATE} to {MAX_FILE_RATE} Hz; the header is probably damaged, export the file again")
     if frames <= 0:
         raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
     if max_seconds is not None and frames > max_seconds * rate:
-        raise InputError(
-            f"{name}: {frames / rate:.1f} s long: at most {max_seconds:g} s of a recording is read at once; "
-            "cut out the part you want to hear"
-        )
+        raise InputError(f"{name}: {frames / rate:.1f} s long: at most {max_seconds:g} s of a recording is read at once; cut out the part you want to hear")
     return AudioInfo(channels=channels, sample_rate=rate, frames=frames)
 
 
@@ -151,10 +142,7 @@ def check_finite(name: str, data: np.ndarray, rate: int, *, start: int = 0) -> N
         i, c = np.argwhere(bad.reshape(data.shape[0], -1))[0]
         k = start + int(i)
         value = float(data.reshape(data.shape[0], -1)[i, c])
-        raise InputError(
-            f"{name}: sample {k} (channel {int(c) + 1}, {k / rate:.4f} s) = {value}: "
-            "every sample must be finite; repair the file or export it again"
-        )
+        raise InputError(f"{name}: sample {k} (channel {int(c) + 1}, {k / rate:.4f} s) = {value}: every sample must be finite; repair the file or export it again")
 
 
 def read_audio(path: str | Path, *, frames: int | None = None) -> np.ndarray:

@@ -63,12 +63,7 @@ def float_wav_header(frames: int, *, channels: int, sample_rate: int) -> bytes:
     fmt = struct.pack("<HHIIHHH", WAVE_FORMAT_IEEE_FLOAT, channels, int(sample_rate), int(sample_rate) * block, block, 32, 0)
     fact = struct.pack("<I", frames)
     body_len = 4 + (8 + len(fmt)) + (8 + len(fact)) + (8 + data_bytes)
-    return (
-        b"RIFF" + struct.pack("<I", body_len) + b"WAVE"
-        + b"fmt " + struct.pack("<I", len(fmt)) + fmt
-        + b"fact" + struct.pack("<I", len(fact)) + fact
-        + b"data" + struct.pack("<I", data_bytes)
-    )
+    return b"RIFF" + struct.pack("<I", body_len) + b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"fact" + struct.pack("<I", len(fact)) + fact + b"data" + struct.pack("<I", data_bytes)
 
 
 def write_float_wav(path: str | Path, data: np.ndarray, sample_rate: int, *, overwrite: bool = False) -> Path:

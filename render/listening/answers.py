@@ -115,9 +115,7 @@ class AnswerLog:
             fcntl.flock(self._lock_fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except OSError:
             os.close(self._lock_fd)
-            raise InputError(
-                f"SESSION={paths.root}: another `render listen` is already serving this session ({paths.lock.name} is held); use that one or stop it first"
-            ) from None
+            raise InputError(f"SESSION={paths.root}: another `render listen` is already serving this session ({paths.lock.name} is held); use that one or stop it first") from None
         try:
             os.ftruncate(self._lock_fd, 0)
             os.write(self._lock_fd, f"{os.getpid()}\n".encode())

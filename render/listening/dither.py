@@ -35,10 +35,7 @@ import numpy as np
 STEP_24_BIT = 2.0**-23  # one step of a 24-bit quantiser at full scale ±1 (two's complement: 2**23 steps per side)
 DITHER_STREAM = 24  # our own tag, separating the dither's streams from the trial draws' default_rng(seed)
 SLOT_ORDER = ("A", "B", "X")
-RECIPE = (
-    "numpy.random.default_rng(numpy.random.SeedSequence([seed, 24, trial index, slot index (A 0, B 1, X 2)])): "
-    "(random(n) - random(n)) * 2**-23, added before rounding to float32"
-)
+RECIPE = "numpy.random.default_rng(numpy.random.SeedSequence([seed, 24, trial index, slot index (A 0, B 1, X 2)])): (random(n) - random(n)) * 2**-23, added before rounding to float32"
 
 
 def tpdf_dither(frames: int, *, seed: int, trial: int, slot: str) -> np.ndarray:

@@ -102,12 +102,7 @@ def load_plan(paths: SessionPaths) -> dict:
         raise InputError(f"{paths.plan}: method={method!r}: expected one of {', '.join(METHODS)} with at least one trial; make a new session")
     for i, t in enumerate(trials):
         clips = t.get("clips") if isinstance(t, dict) else None
-        if (
-            not isinstance(clips, dict)
-            or t.get("index") != i
-            or set(clips) != set(SLOTS[method])
-            or not all(isinstance(c, str) and CLIP_NAME.match(c) for c in clips.values())
-        ):
+        if not isinstance(clips, dict) or t.get("index") != i or set(clips) != set(SLOTS[method]) or not all(isinstance(c, str) and CLIP_NAME.match(c) for c in clips.values()):
             raise InputError(f"{paths.plan}: trials[{i}] is malformed; make a new session with `render blind`")
     return plan
 

@@ -52,9 +52,7 @@ def page_file(name: str) -> bytes:
     try:
         return resources.files(__package__).joinpath(STATIC_FOLDER).joinpath(name).read_bytes()
     except OSError as exc:
-        raise InputError(
-            f"render/listening/{STATIC_FOLDER}/{name}: the listening page's file is missing from the installed package ({exc.strerror or exc}); reinstall render"
-        ) from None
+        raise InputError(f"render/listening/{STATIC_FOLDER}/{name}: the listening page's file is missing from the installed package ({exc.strerror or exc}); reinstall render") from None
 
 
 def read_page() -> PageFiles:

@@ -181,8 +181,6 @@ def score_session(path) -> tuple[SessionPaths, dict, dict]:
     plan = load_plan(paths)
     answers = read_answers(paths, plan)
     if len(answers) < len(plan["trials"]):
-        raise InputError(
-            f"SESSION={path}: {len(answers)} of {len(plan['trials'])} trials answered; the key stays closed until the last one; finish with `render listen {path}`"
-        )
+        raise InputError(f"SESSION={path}: {len(answers)} of {len(plan['trials'])} trials answered; the key stays closed until the last one; finish with `render listen {path}`")
     key = load_key(paths, plan)
     return paths, key, score(plan, key, answers)

@@ -43,10 +43,7 @@ HOST = "127.0.0.1"
 CLIP_ROUTE = re.compile(r"^/clip/([0-9a-f]{32}\.wav)$")
 SOCKET_TIMEOUT_S = 15.0  # an idle or stalled client is dropped after this long
 MAX_CONNECTIONS = 32  # at once; more are closed at once (a page needs about six)
-CSP = (
-    "default-src 'none'; script-src 'self'; style-src 'self'; connect-src 'self'; "
-    "media-src 'self'; img-src 'self'; base-uri 'none'; form-action 'none'; frame-ancestors 'none'"
-)
+CSP = "default-src 'none'; script-src 'self'; style-src 'self'; connect-src 'self'; media-src 'self'; img-src 'self'; base-uri 'none'; form-action 'none'; frame-ancestors 'none'"
 COMMON_HEADERS = (
     ("Cache-Control", "no-store"),
     ("X-Content-Type-Options", "nosniff"),

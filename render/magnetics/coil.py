@@ -107,13 +107,9 @@ class CoilGeometry:
         if self.turns < 1.0:
             raise InputError(f"{where} turns={self.turns:g}: a coil needs at least one turn")
         if self.window_length >= self.length:
-            raise InputError(
-                f"{where} window_length={self.window_length * 1e3:g}mm: must be smaller than length={self.length * 1e3:g}mm (the winding lies between the two)"
-            )
+            raise InputError(f"{where} window_length={self.window_length * 1e3:g}mm: must be smaller than length={self.length * 1e3:g}mm (the winding lies between the two)")
         if self.window_width >= self.width:
-            raise InputError(
-                f"{where} window_width={self.window_width * 1e3:g}mm: must be smaller than width={self.width * 1e3:g}mm (the winding lies between the two)"
-            )
+            raise InputError(f"{where} window_width={self.window_width * 1e3:g}mm: must be smaller than width={self.width * 1e3:g}mm (the winding lies between the two)")
 
     # --- derived figures ------------------------------------------------------
     @property
@@ -194,9 +190,7 @@ def geometry_from_winding(*, turns: float, mean_turn: float, height: float, dept
     ww = _positive(where, "window_width", window_width)
     wl = mt / 2.0 - ww - 2.0 * d
     if wl <= 0.0:
-        raise InputError(
-            f"{where} mean_turn={mt * 1e3:g}mm: too short for a window {ww * 1e3:g}mm wide and a {d * 1e3:g}mm build (needs more than {2 * (ww + 2 * d) * 1e3:g}mm)"
-        )
+        raise InputError(f"{where} mean_turn={mt * 1e3:g}mm: too short for a window {ww * 1e3:g}mm wide and a {d * 1e3:g}mm build (needs more than {2 * (ww + 2 * d) * 1e3:g}mm)")
     return CoilGeometry(turns=turns, length=wl + 2.0 * d, width=ww + 2.0 * d, window_length=wl, window_width=ww, height=height, where=where)
 
 

@@ -228,9 +228,7 @@ def _stack(name, x0, y0, w, length, top, h, chi, remanence, refine) -> list[Part
         Part(f"{name} top", (x0 - w / 2, y0 - length / 2, top - slab), (x0 + w / 2, y0 + length / 2, top), chi, remanence, _count((w, length, slab), CELL_TOP, refine)),
     ]
     if h > slab * (1 + 1e-9):
-        parts.append(
-            Part(f"{name} body", (x0 - w / 2, y0 - length / 2, top - h), (x0 + w / 2, y0 + length / 2, top - slab), chi, remanence, _count((w, length, h - slab), CELL_BODY, refine))
-        )
+        parts.append(Part(f"{name} body", (x0 - w / 2, y0 - length / 2, top - h), (x0 + w / 2, y0 + length / 2, top - slab), chi, remanence, _count((w, length, h - slab), CELL_BODY, refine)))
     return parts
 
 
@@ -240,7 +238,7 @@ def magnet_figures(grade: str | None, remanence: float | None, permeability: flo
         raise InputError(f"[construction] magnet_grade={grade!r}: expected one of {', '.join(repr(g) for g in GRADES)}, or give remanence")
     g = GRADES.get(grade) if grade else None
     if remanence is None and g is None:
-        raise InputError("[construction]: give magnet_grade (e.g. \"ceramic8\") or remanence (e.g. \"0.39T\")")
+        raise InputError('[construction]: give magnet_grade (e.g. "ceramic8") or remanence (e.g. "0.39T")')
     br = remanence if remanence is not None else g.remanence  # type: ignore[union-attr]
     mu = permeability if permeability is not None else (g.recoil_permeability if g else 1.05)
     return float(br), float(mu)

@@ -157,9 +157,7 @@ def coupling(coils, sources) -> np.ndarray:
             if s.kind == "dipole":
                 if c.inside(np.asarray(s.at)):
                     name = COIL_NAMES[i] if i < 2 else f"coil {i + 1}"
-                    raise InputError(
-                        f"hum source {j + 1} (dipole) at={list(s.at)} m lies within {name}'s winding: a dipole source must sit outside the pickup"
-                    )
+                    raise InputError(f"hum source {j + 1} (dipole) at={list(s.at)} m lies within {name}'s winding: a dipole source must sit outside the pickup")
                 out[i, j] = c.dipole_linkage(np.asarray(s.at), np.asarray(s.axis))
             else:
                 out[i, j] = c.uniform_linkage(np.asarray(s.axis))
@@ -174,9 +172,7 @@ def profiles(sources, *, harmonics) -> np.ndarray:
         if s.harmonics is None:
             rows.append(base)
         elif len(s.harmonics) != base.size:
-            raise InputError(
-                f"hum source {j + 1} harmonics: {len(s.harmonics)} values, but the [hum] profile has {base.size}: give one per harmonic"
-            )
+            raise InputError(f"hum source {j + 1} harmonics: {len(s.harmonics)} values, but the [hum] profile has {base.size}: give one per harmonic")
         else:
             rows.append(np.asarray(s.harmonics, dtype=float))
     return np.array(rows).reshape(len(sources), base.size)

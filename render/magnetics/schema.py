@@ -67,11 +67,9 @@ def read_geometry(data: Any, *, source: str, table: str, winding=None) -> CoilGe
         raise InputError(f"{where}: turns given here and in the coil's winding table; give the turns in one place")
     extra = [k for k in data if k != "window_width"]
     if extra:
-        raise InputError(
-            f"{where}: {', '.join(extra)} given with a winding table; with a winding, the geometry takes only window_width (the winding gives turns, height, depth and mean_turn)"
-        )
+        raise InputError(f"{where}: {', '.join(extra)} given with a winding table; with a winding, the geometry takes only window_width (the winding gives turns, height, depth and mean_turn)")
     if "window_width" not in data:
-        raise InputError(f"{where}: missing window_width (the bobbin's opening along the string); the winding gives the rest, e.g. window_width = \"3mm\"")
+        raise InputError(f'{where}: missing window_width (the bobbin\'s opening along the string); the winding gives the rest, e.g. window_width = "3mm"')
     ww = read_value(data["window_width"], GEOMETRY["window_width"], source=source, table=table, key="window_width")
     return geometry_from_winding(turns=winding.turns, mean_turn=winding.mean_turn, height=winding.height, depth=winding.depth, window_width=ww, where=where)
 
@@ -109,7 +107,7 @@ def read_sources(items: Any, *, source: str, n_harmonics: int) -> tuple:
         where = _loc(source, table)
         kind = t.get("kind")
         if kind not in ("dipole", "uniform"):
-            raise InputError(f"{where} kind={U.shown(kind)}: expected \"dipole\" or \"uniform\"")
+            raise InputError(f'{where} kind={U.shown(kind)}: expected "dipole" or "uniform"')
         specs = DIPOLE if kind == "dipole" else UNIFORM
         allowed = list(specs) + ["kind", "axis"] + (["at"] if kind == "dipole" else [])
         for key in t:
@@ -121,7 +119,7 @@ def read_sources(items: Any, *, source: str, n_harmonics: int) -> tuple:
         axis = _vector(t.get("axis", [0, 0, 1]), kind=U.RATIO, where=f"{where} axis", limit=1e6)
         if kind == "dipole":
             if "at" not in t:
-                raise InputError(f"{where}: missing required key 'at' (the dipole's place, m); add e.g. at = [\"0.5m\", \"0m\", \"0m\"]")
+                raise InputError(f'{where}: missing required key \'at\' (the dipole\'s place, m); add e.g. at = ["0.5m", "0m", "0m"]')
             at = _vector(t["at"], kind=U.LENGTH, where=f"{where} at", limit=PLACE_M)
             out.append(DipoleSource(moment=values["moment"], at=at, axis=axis, harmonics=values.get("harmonics"), phase=values["phase"], where=where))
         else:

@@ -234,9 +234,22 @@ def settings() -> dict:
     from . import construction as C
 
     return {
-        "step_x": STEP_X, "reach_x": REACH_X, "lateral": LATERAL.tolist(), "vertical": VERTICAL, "clearance": CLEARANCE, "h_amplitude": H_AMPLITUDE,
-        "winding_nodes": WINDING_NODES, "applied_nodes": APPLIED_NODES, "decay_lengths": DECAY_LENGTHS, "period_factor": hs.PERIOD_FACTOR,
-        "image_shells": hs.IMAGE_SHELLS, "image_step": hs.IMAGE_STEP, "top_slab": C.TOP_SLAB, "cell_top": C.CELL_TOP, "cell_body": C.CELL_BODY, "model": C.MODEL_VERSION,
+        "step_x": STEP_X,
+        "reach_x": REACH_X,
+        "lateral": LATERAL.tolist(),
+        "vertical": VERTICAL,
+        "clearance": CLEARANCE,
+        "h_amplitude": H_AMPLITUDE,
+        "winding_nodes": WINDING_NODES,
+        "applied_nodes": APPLIED_NODES,
+        "decay_lengths": DECAY_LENGTHS,
+        "period_factor": hs.PERIOD_FACTOR,
+        "image_shells": hs.IMAGE_SHELLS,
+        "image_step": hs.IMAGE_STEP,
+        "top_slab": C.TOP_SLAB,
+        "cell_top": C.CELL_TOP,
+        "cell_body": C.CELL_BODY,
+        "model": C.MODEL_VERSION,
     }
 
 

@@ -90,10 +90,7 @@ def _require():
         import magpylib
         from magpylib_material_response.demag import demag_tensor
     except ImportError:
-        raise InputError(
-            "[construction] needs the packages magpylib and magpylib-material-response (Python 3.11 or later): "
-            "pip install magpylib magpylib-material-response"
-        ) from None
+        raise InputError("[construction] needs the packages magpylib and magpylib-material-response (Python 3.11 or later): pip install magpylib magpylib-material-response") from None
     return magpylib, demag_tensor
 
 

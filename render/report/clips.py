@@ -27,7 +27,9 @@ def write_design_plots(out: Path, stem: str, design, *, spectra, spectrogram, sa
 
     ``kept`` (a :class:`~render.report.plots.KeptFigures`) draws on figures kept from earlier plots.
     """
-    return [write_response_plot(out, stem, design, kept=kept)] + write_signal_plots(out, stem, design, spectra=spectra, spectrogram=spectrogram, sample_rate=sample_rate, spectrogram_title=spectrogram_title, kept=kept)
+    return [write_response_plot(out, stem, design, kept=kept)] + write_signal_plots(
+        out, stem, design, spectra=spectra, spectrogram=spectrogram, sample_rate=sample_rate, spectrogram_title=spectrogram_title, kept=kept
+    )
 
 
 def velocity_curves(designs):
@@ -131,7 +133,8 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         "Start listening at a low volume; clips that clip stay loud.",
         "",
         "| design | resonance | Q | level at 1 kHz | vs passive | hum rejection | bias | headroom up / down | peak at amp input | loudness (1 V full scale) | limited | "
-        + " | ".join(BRIGHTNESS_COLUMNS) + " |",
+        + " | ".join(BRIGHTNESS_COLUMNS)
+        + " |",
         "|---|---|---|---|---|---|---|---|---|---|---|" + "---|" * len(BRIGHTNESS_COLUMNS),
     ]
     for r in records:

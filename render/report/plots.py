@@ -450,7 +450,16 @@ def bias_plots(out, design, settings_list, rows) -> None:
         series_h += [(f"up, {v:g} V", [r["headroom_up_v"] for r in sel], False), (f"down, {v:g} V", [r["headroom_down_v"] for r in sel], True)]
         series_d += [(f"H2, {v:g} V", [r["sine"]["h2_db"] for r in sel], False), (f"H3, {v:g} V", [r["sine"]["h3_db"] for r in sel], True)]
     lines_plot(out / f"{stem}-headroom.png", xs, series_h, xlabel="divider ratio bottom/(top+bottom)", ylabel="headroom (V)", title=f"{design.name}: headroom against the divider", overwrite=True)
-    lines_plot(out / f"{stem}-harmonics.png", xs, series_d, xlabel="divider ratio bottom/(top+bottom)", ylabel="level re fundamental (dB)", title=f"{design.name}: 1 kHz sine harmonics", overwrite=True, floor=HARMONICS_FLOOR_DB)
+    lines_plot(
+        out / f"{stem}-harmonics.png",
+        xs,
+        series_d,
+        xlabel="divider ratio bottom/(top+bottom)",
+        ylabel="level re fundamental (dB)",
+        title=f"{design.name}: 1 kHz sine harmonics",
+        overwrite=True,
+        floor=HARMONICS_FLOOR_DB,
+    )
     curves = []
     for v in batteries:
         sel = [(s, r) for s, r in zip(settings_list, rows) if r["battery_v"] == v]
@@ -517,8 +526,18 @@ def sense_plot(path, record, *, overwrite=False):
         ax_h.plot(pos, [r["h2_db"] for r in rows], marker="o", color=PALETTE[k], label=f"{name} H2")
         ax_h.plot(pos, [r["h3_db"] for r in rows], marker="s", ls="--", color=PALETTE[k], label=f"{name} H3")
         for i, r in enumerate(rows):
-            ax_along.plot(np.asarray(r["along_x_m"]) * 1e3, r["along_weight"], color=PALETTE[i % len(PALETTE)], ls=STYLES[k], lw=1.2, label=f"{name} string {r['string']}" if k == 0 or i == 0 else None)
-            ax_lat.plot(np.asarray(r["lateral_offset_m"]) * 1e3, r["lateral_db"], color=PALETTE[i % len(PALETTE)], ls=STYLES[k], marker="o" if k == 0 else "s", ms=3, label=f"string {r['string']}" if k == 0 else None)
+            ax_along.plot(
+                np.asarray(r["along_x_m"]) * 1e3, r["along_weight"], color=PALETTE[i % len(PALETTE)], ls=STYLES[k], lw=1.2, label=f"{name} string {r['string']}" if k == 0 or i == 0 else None
+            )
+            ax_lat.plot(
+                np.asarray(r["lateral_offset_m"]) * 1e3,
+                r["lateral_db"],
+                color=PALETTE[i % len(PALETTE)],
+                ls=STYLES[k],
+                marker="o" if k == 0 else "s",
+                ms=3,
+                label=f"string {r['string']}" if k == 0 else None,
+            )
         for ax in (ax_bal, ax_h):
             ax.set_xticks(pos, [str(s) for s in strings])
     ax_bal.set_title("string balance (dB re the loudest string)", fontsize=10)

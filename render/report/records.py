@@ -38,7 +38,9 @@ def measurements(design: Design, figures: dict, stats: dict, *, volts_full_scale
 def clip_record(clip: Clip, *, settings: RenderSettings, volts_full_scale: float, rig_record: dict, dry_path) -> dict:
     """Everything a render used and measured, JSON-ready (no times, no absolute paths)."""
     stats = clip.stats
-    return make_record(clip.design, clip.figures, stats, dry=clip.dry, samples=clip.volts.size, warnings=clip.warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
+    return make_record(
+        clip.design, clip.figures, stats, dry=clip.dry, samples=clip.volts.size, warnings=clip.warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path
+    )
 
 
 def make_record(d: Design, figures: dict, stats: dict, *, dry: dict, samples: int, warnings, settings: RenderSettings, volts_full_scale: float, rig_record: dict, dry_path: Any) -> dict:

@@ -26,16 +26,18 @@ def unvoice_record(*, di, di_sha256, design, rig, sample_rate, frames, vfs, vsca
 
     rows = []
     for c, a, n, v in zip(centres, di_db, floor_db, v_db):
-        rows.append({
-            "centre_hz": round(float(c), 2),
-            "di_db": _round(a),
-            "noise_floor_db": _round(n),
-            "snr_db": _round(a - n),
-            "passive_db": _round(20 * math.log10(abs(at(inv.passive, c)))),
-            "inverse_db": _round(20 * math.log10(max(abs(at(inv.realised, c)), 1e-30))),
-            "velocity_db": _round(v),
-            "trusted": bool(band is not None and band[0] <= c <= band[1]),
-        })
+        rows.append(
+            {
+                "centre_hz": round(float(c), 2),
+                "di_db": _round(a),
+                "noise_floor_db": _round(n),
+                "snr_db": _round(a - n),
+                "passive_db": _round(20 * math.log10(abs(at(inv.passive, c)))),
+                "inverse_db": _round(20 * math.log10(max(abs(at(inv.realised, c)), 1e-30))),
+                "velocity_db": _round(v),
+                "trusted": bool(band is not None and band[0] <= c <= band[1]),
+            }
+        )
     ref_db = 20 * math.log10(inv.reference_level)
     return {
         "kind": "unvoice",
@@ -147,5 +149,3 @@ def spectra_plot(path, *, stats, vstats, inv, title=""):
         ax1.set_title(title, fontsize=10, loc="left")
     fig.tight_layout()
     return save(fig, path, overwrite=True)
-
-

@@ -96,8 +96,15 @@ class BlindSettings:
             if not MIN_SECONDS <= length <= MAX_SECONDS:
                 raise InputError(f"--seconds={self.seconds}: must be from {MIN_SECONDS:g} s to {MAX_SECONDS:g} s")
         # the checked values, as plain Python numbers
-        for name, value in (("trials", trials), ("seed", seed), ("seconds", length), ("sample_rate", rate),
-                            ("target_lufs", float(self.target_lufs)), ("true_peak_dbtp", float(self.true_peak_dbtp)), ("hum", bool(self.hum))):
+        for name, value in (
+            ("trials", trials),
+            ("seed", seed),
+            ("seconds", length),
+            ("sample_rate", rate),
+            ("target_lufs", float(self.target_lufs)),
+            ("true_peak_dbtp", float(self.true_peak_dbtp)),
+            ("hum", bool(self.hum)),
+        ):
             object.__setattr__(self, name, value)
 
 

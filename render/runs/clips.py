@@ -204,10 +204,16 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     if plots:
         from ..report.clips import write_design_plots
 
-        write_design_plots(out, stem, design, spectra=[(design.name, *spec.value(), False)], spectrogram=np.concatenate(head) if head else np.zeros(1), sample_rate=fs, spectrogram_title=f"{design.name}: amp input, first {SPECTROGRAM_SECONDS:g} s")
+        write_design_plots(
+            out,
+            stem,
+            design,
+            spectra=[(design.name, *spec.value(), False)],
+            spectrogram=np.concatenate(head) if head else np.zeros(1),
+            sample_rate=fs,
+            spectrogram_title=f"{design.name}: amp input, first {SPECTROGRAM_SECONDS:g} s",
+        )
     return rec
-
-
 
 
 # ----------------------------------------------------------------------------
@@ -282,7 +288,17 @@ def import_for_workers(plots: bool) -> None:
         pyplot()
 
 
-def render_all(designs: Sequence[Design], dry: Path, settings: RenderSettings, jobs: int, *, work: Callable | None = None, extra: list | None = None, plots: bool = False, progress: Callable[[int], None] | None = None) -> list:
+def render_all(
+    designs: Sequence[Design],
+    dry: Path,
+    settings: RenderSettings,
+    jobs: int,
+    *,
+    work: Callable | None = None,
+    extra: list | None = None,
+    plots: bool = False,
+    progress: Callable[[int], None] | None = None,
+) -> list:
     """Render every design (in ``jobs`` processes); results in the designs' order.
 
     plots : whether the work draws plots (then matplotlib is imported once, before the workers fork)

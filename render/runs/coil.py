@@ -135,22 +135,35 @@ class FitResult:
             if not np.any(m):
                 continue
             db, deg = self.fit.residual_db[m], self.fit.residual_deg[m]
-            out.append({
-                "from_hz": lo, "to_hz": hi, "points": int(m.sum()),
-                "max_db": float(np.max(np.abs(db))), "rms_db": float(np.sqrt(np.mean(db**2))),
-                "max_deg": float(np.max(np.abs(deg))), "rms_deg": float(np.sqrt(np.mean(deg**2))),
-            })
+            out.append(
+                {
+                    "from_hz": lo,
+                    "to_hz": hi,
+                    "points": int(m.sum()),
+                    "max_db": float(np.max(np.abs(db))),
+                    "rms_db": float(np.sqrt(np.mean(db**2))),
+                    "max_deg": float(np.max(np.abs(deg))),
+                    "rms_deg": float(np.sqrt(np.mean(deg**2))),
+                }
+            )
         return out
 
     def record(self) -> dict:
         m, fit = self.measurement, self.fit
         return {
-            "file": m.source, "sha256": m.sha256, "points": int(m.frequency_hz.size),
-            "resistance_ohm": fit.resistance, "inductance_h": fit.inductance, "capacitance_f": fit.capacitance,
-            "ladder": _ladder_dict(fit.ladder), "self_resonance_hz": self.self_resonance_hz,
+            "file": m.source,
+            "sha256": m.sha256,
+            "points": int(m.frequency_hz.size),
+            "resistance_ohm": fit.resistance,
+            "inductance_h": fit.inductance,
+            "capacitance_f": fit.capacitance,
+            "ladder": _ladder_dict(fit.ladder),
+            "self_resonance_hz": self.self_resonance_hz,
             **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if self.self_resonance_hz is None else {}),
             "residual": self.residual_bands(),
-            "frequency_hz": fit.frequency_hz.tolist(), "residual_db": fit.residual_db.tolist(), "residual_deg": fit.residual_deg.tolist(),
+            "frequency_hz": fit.frequency_hz.tolist(),
+            "residual_db": fit.residual_db.tolist(),
+            "residual_deg": fit.residual_deg.tolist(),
         }
 
 
@@ -184,7 +197,7 @@ def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | No
     if band is not None:
         lines.append(f"# residual over 20 Hz–20 kHz: max {band['max_db']:.2f} dB and {band['max_deg']:.2f}°, rms {band['rms_db']:.3f} dB and {band['rms_deg']:.2f}°")
     lines += [
-        f"# or, to keep the measurement itself: measured = \"{measured_as or m.source}\" (in place of resistance, capacitance and [{coil}.ladder])",
+        f'# or, to keep the measurement itself: measured = "{measured_as or m.source}" (in place of resistance, capacitance and [{coil}.ladder])',
         f"[{coil}]",
         f"resistance = {_q(fit.resistance, '')}",
         f"capacitance = {_q(fit.capacitance, 'F')}",

@@ -78,7 +78,8 @@ def write_compare_clip(p: PassiveDesign, dry: Path, settings: RenderSettings, ou
         from ..io.atomic import write_text
 
         loud = U.shown(rec, "loudness_lufs_1v_full_scale", ".1f", " LUFS")
-        line = (f"\nComparison pickup (passive, `--compare`): **{p.name}** ({p.source}) in `{stem}.wav`, at the same full scale:"
-                f" peak {peak:.3g} V at the amp input, loudness {loud} at 1 V full scale.\n")
+        line = (
+            f"\nComparison pickup (passive, `--compare`): **{p.name}** ({p.source}) in `{stem}.wav`, at the same full scale: peak {peak:.3g} V at the amp input, loudness {loud} at 1 V full scale.\n"
+        )
         write_text(summary, summary.read_text(encoding="utf-8") + line, overwrite=True)
     return rec

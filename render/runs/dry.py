@@ -33,7 +33,9 @@ class DryPreview:
     peak_m_per_s: float
 
 
-def preview_dry(phrase_path, out, *, position: float, aperture: float = 0.0, sample_rate: int = 48000, seed: int = 0, seconds: float | None = None, spectrogram: bool = True, overwrite: bool = False) -> DryPreview:
+def preview_dry(
+    phrase_path, out, *, position: float, aperture: float = 0.0, sample_rate: int = 48000, seed: int = 0, seconds: float | None = None, spectrogram: bool = True, overwrite: bool = False
+) -> DryPreview:
     """Synthesise ``phrase_path`` at one sensing point and write ``out`` (and ``<out stem>-spectrogram.png``), both or neither.
 
     Parameters

@@ -113,7 +113,16 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
             parse_design(loads(body), source=str(path), name=path.stem)  # the written file must be a valid design
             write_text(path, body, overwrite=True)
             written.append(path)
-            records.append({"file": str(path), "score": r.score, "meets": r.meets, "changed_parts": r.changed, "figures": {k: v for k, v in r.figures.items() if k != "passive"}, "changes": {fr.name: v for fr, v, _ in changes}})
+            records.append(
+                {
+                    "file": str(path),
+                    "score": r.score,
+                    "meets": r.meets,
+                    "changed_parts": r.changed,
+                    "figures": {k: v for k, v in r.figures.items() if k != "passive"},
+                    "changes": {fr.name: v for fr, v, _ in changes},
+                }
+            )
         write_json(Path(out) / "fit.json", {"fit_file": str(fitfile), "start": str(start_file), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records}, overwrite=True)
         from ..report.plots import fit_plot
 

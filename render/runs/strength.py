@@ -14,4 +14,6 @@ def phrase_at_strength(dry_path: Path, design, settings, strength_m: float):
 
     p = scale_plucks(load_phrase(dry_path), strength_m)
     a, b = design.coil_a, design.coil_b
-    return synthesize(p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds, pickup=pickup_for(design))
+    return synthesize(
+        p, sample_rate=settings.sample_rate, positions=(a.position, b.position), apertures=(a.aperture, b.aperture), seed=settings.seed, seconds=settings.seconds, pickup=pickup_for(design)
+    )

@@ -220,9 +220,25 @@ def unvoice(
         vstats = vel_acc.result()
 
         record = unvoice_record(
-            di=di, di_sha256=sha256_file(di), design=design, rig=rig, sample_rate=sample_rate, frames=frames, vfs=vfs, vscale=vscale, peak=peak, inv=inv,
-            stats=stats, vstats=vstats, vpeak=vpeak, vrms=math.sqrt(vsum2 / max(frames, 1)), out=out, png=png_path if plot else None,
-            warnings=warnings, version=__version__, design_dict=design_to_dict(design),
+            di=di,
+            di_sha256=sha256_file(di),
+            design=design,
+            rig=rig,
+            sample_rate=sample_rate,
+            frames=frames,
+            vfs=vfs,
+            vscale=vscale,
+            peak=peak,
+            inv=inv,
+            stats=stats,
+            vstats=vstats,
+            vpeak=vpeak,
+            vrms=math.sqrt(vsum2 / max(frames, 1)),
+            out=out,
+            png=png_path if plot else None,
+            warnings=warnings,
+            version=__version__,
+            design_dict=design_to_dict(design),
         )
         tmp_json.write_text(json_text(record), encoding="utf-8")
         if plot:

@@ -188,13 +188,21 @@ class WatchRun:
         if self._resampler is None:
             self._resampler = design_resampler(sample_rate=st.sample_rate, oversample=default_oversample(st.sample_rate))
         clip = render_design(design, self.dry_path, st, dry=self._dry_for(design), resampler=self._resampler)
-        (resp, passive), = response_curves([design])
+        ((resp, passive),) = response_curves([design])
         vfs = self.volts_full_scale or 1.0
         m = measurements(design, clip.figures, clip.stats, volts_full_scale=vfs)
         page_clip = PageClip(
-            key=Path(design.source).stem, name=design.name, volts=clip.volts, sample_rate=st.sample_rate,
-            loudness_lufs_1v_full_scale=clip.stats["loudness_lufs_1v_full_scale"], cells=clips_cells(m), values=design_values(design),
-            file=design.source, warnings=tuple(clip.warnings), response=resp, passive=passive,
+            key=Path(design.source).stem,
+            name=design.name,
+            volts=clip.volts,
+            sample_rate=st.sample_rate,
+            loudness_lufs_1v_full_scale=clip.stats["loudness_lufs_1v_full_scale"],
+            cells=clips_cells(m),
+            values=design_values(design),
+            file=design.source,
+            warnings=tuple(clip.warnings),
+            response=resp,
+            passive=passive,
         )
         return clip.volts, page_clip
 

@@ -91,6 +91,7 @@ def test_two_separate_peaks_both_listed_highest_first():
 def test_peak_hz_moves_continuously_when_two_humps_trade_places():
     """Two resonances at 4.7 and 5.3 kHz whose gains cross: the highest peak jumps from one to
     the other, peak_hz passes between them, its steps shrinking with the parameter's step."""
+
     def sweep(n):
         out_top, out_hz = [], []
         for g in np.linspace(0.94, 1.06, n):
@@ -156,7 +157,11 @@ def test_check_prints_no_peak_in_words(tmp_path):
 
     text = (Path(__file__).resolve().parents[2] / "models" / "studio-reference.toml").read_text()
     damped = tmp_path / "damped.toml"
-    damped.write_text(text.replace('load_c = "3n9"   # with the coil\'s 350 mH, a resonance near 4 kHz', 'load_c = "3n9"\nload_r = "5k"', 1).replace('load_c = "3n9"\nseries_c = "1u"\nseries_r = "22k"\nbias_top', 'load_c = "3n9"\nload_r = "5k"\nseries_c = "1u"\nseries_r = "22k"\nbias_top', 1))
+    damped.write_text(
+        text.replace('load_c = "3n9"   # with the coil\'s 350 mH, a resonance near 4 kHz', 'load_c = "3n9"\nload_r = "5k"', 1).replace(
+            'load_c = "3n9"\nseries_c = "1u"\nseries_r = "22k"\nbias_top', 'load_c = "3n9"\nload_r = "5k"\nseries_c = "1u"\nseries_r = "22k"\nbias_top', 1
+        )
+    )
     res = CliRunner().invoke(main, ["check", str(damped)])
     assert res.exit_code == 0, res.output
     line = next(x for x in res.output.splitlines() if "loaded resonance" in x)

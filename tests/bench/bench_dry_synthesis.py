@@ -25,8 +25,7 @@ TEN_SECONDS = {
         {"time": 5.0, "frets": ["x", 0, 2, 2, 2, 0], "direction": "up"},
         {"time": 7.5, "frets": [0, 2, 2, 0, 0, 0]},
     ],
-    "note": [{"time": 0.25 * k, "string": 6, "fret": 0, "mute": 0.7} for k in range(1, 10)]
-    + [{"time": 3.0, "string": 1, "fret": 7, "bend": {"semitones": 1, "over": 0.1}, "duration": 1.0}],
+    "note": [{"time": 0.25 * k, "string": 6, "fret": 0, "mute": 0.7} for k in range(1, 10)] + [{"time": 3.0, "string": 1, "fret": 7, "bend": {"semitones": 1, "over": 0.1}, "duration": 1.0}],
 }
 
 

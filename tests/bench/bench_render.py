@@ -100,7 +100,9 @@ def bench_main_job():
                     runs = []
                     for k in range(5 if jobs == 2 else 1):  # the target case five times: a shared machine wobbles
                         t0 = time.perf_counter()
-                        subprocess.run([sys.executable, "-m", "render", "clips", *files, "--out", str(Path(tmp) / f"o{jobs}{plots}{len(files)}-{k}"), "--jobs", str(jobs), plots], check=True, capture_output=True)
+                        subprocess.run(
+                            [sys.executable, "-m", "render", "clips", *files, "--out", str(Path(tmp) / f"o{jobs}{plots}{len(files)}-{k}"), "--jobs", str(jobs), plots], check=True, capture_output=True
+                        )
                         runs.append(time.perf_counter() - t0)
                     dt = float(np.median(runs))
                     out[(label, jobs, plots)] = dt
@@ -173,7 +175,11 @@ def bench_memory(hours=1.0):
             for _ in range(n // tile.size):
                 f.write(tile)
         t0 = time.perf_counter()
-        r = subprocess.run([time_bin, "-v", sys.executable, "-m", "render", "clips", "models/studio-reference.toml", "--dry", str(wav), "--velocity-scale", "4", "--out", str(Path(tmp) / "o"), "--no-plots"], capture_output=True, text=True)
+        r = subprocess.run(
+            [time_bin, "-v", sys.executable, "-m", "render", "clips", "models/studio-reference.toml", "--dry", str(wav), "--velocity-scale", "4", "--out", str(Path(tmp) / "o"), "--no-plots"],
+            capture_output=True,
+            text=True,
+        )
         dt = time.perf_counter() - t0
         rss = next((int(ln.split(":")[1]) for ln in r.stderr.splitlines() if "Maximum resident set size" in ln), None)
         if r.returncode:

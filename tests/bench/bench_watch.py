@@ -160,14 +160,26 @@ def main() -> None:
         try:
             ref, wound = folder / "studio-reference.toml", folder / "bench-wound.toml"
             print("Save to sound, one design, the default phrase (8.5 s at 48 kHz), median and worst of", args.saves, "saves:")
-            results = measure(browser, ref, folder, {
-                "network (input_a load_c)": lambda k: edit_key(ref, "load_c", ['"2n7"', '"3n9"', '"4n7"'], k),
-                "rig (cable length)": lambda k: edit_key(folder / "rig.toml", "cable_length", ['"3m"', '"6m"', '"9m"'], k),
-                "phrase (one note's fret)": lambda k: edit_note(folder / "phrase.toml", k),
-            }, args.saves)
-            results |= measure(browser, wound, folder, {
-                "winding (turns, closed-form estimate)": lambda k: edit_key(wound, "turns", ["1450", "1400", "1350"], k),
-            }, args.saves)
+            results = measure(
+                browser,
+                ref,
+                folder,
+                {
+                    "network (input_a load_c)": lambda k: edit_key(ref, "load_c", ['"2n7"', '"3n9"', '"4n7"'], k),
+                    "rig (cable length)": lambda k: edit_key(folder / "rig.toml", "cable_length", ['"3m"', '"6m"', '"9m"'], k),
+                    "phrase (one note's fret)": lambda k: edit_note(folder / "phrase.toml", k),
+                },
+                args.saves,
+            )
+            results |= measure(
+                browser,
+                wound,
+                folder,
+                {
+                    "winding (turns, closed-form estimate)": lambda k: edit_key(wound, "turns", ["1450", "1400", "1350"], k),
+                },
+                args.saves,
+            )
         finally:
             browser.close()
     print(f"  {'edit':40s} {'save to sound':>15s} {'worst':>7s}   {'detect':>7s} {'render':>7s} {'page':>7s}   {'render CPU':>10s}  (medians, s)")

@@ -38,8 +38,7 @@ def loop_transient(design, t, velocity, *, stop, max_step=1e-6, nodes=("out", "a
         lines += [
             "Rvel vel 0 1e6",
             "Avel %v([vel]) velsrc",
-            f'.model velsrc filesource (file="{tmp / "vel.txt"}" amploffset=[0] amplscale=[1] '
-            "timeoffset=0 timescale=1 timerelative=false amplstep=false)",
+            f'.model velsrc filesource (file="{tmp / "vel.txt"}" amploffset=[0] amplscale=[1] timeoffset=0 timescale=1 timerelative=false amplstep=false)',
             ".options method=gear reltol=1e-6",
             ".control",
             "set wr_singlescale",

@@ -31,8 +31,15 @@ def _arr(x):
 def coil_params(L, R, Cw, *, Rp=None, k2=0.0, f_e=None):
     """One coil as engine parameters (no validation: test values may be ideal)."""
     return CoilParams(
-        L=_arr(L), R=_arr(R), Cw=_arr(Cw), Gp=_arr(1 / Rp if Rp else 0.0), k2=_arr(k2),
-        we=_arr(TWO_PI * f_e if f_e else 1.0), sec=_arr(1.0 if f_e else 0.0), sig=_arr(1.0), hum=_arr(1.0),
+        L=_arr(L),
+        R=_arr(R),
+        Cw=_arr(Cw),
+        Gp=_arr(1 / Rp if Rp else 0.0),
+        k2=_arr(k2),
+        we=_arr(TWO_PI * f_e if f_e else 1.0),
+        sec=_arr(1.0 if f_e else 0.0),
+        sig=_arr(1.0),
+        hum=_arr(1.0),
     )
 
 
@@ -208,8 +215,7 @@ def diff_amp_design(R1, R2, R3, R4, *, gbw=None, open_loop_gain=None, series_c=0
     top, bottom = bias or (2 * R4, 2 * R4)
 
     def coil(pol):
-        return {"inductance": TINY_L, "resistance": TINY_R, "capacitance": TINY_C, "sensitivity": 1.0,
-                "turns_area": 1.0, "position": 0.05, "signal_polarity": pol}
+        return {"inductance": TINY_L, "resistance": TINY_R, "capacitance": TINY_C, "sensitivity": 1.0, "turns_area": 1.0, "position": 0.05, "signal_polarity": pol}
 
     d = {
         "coil_a": coil(1),
@@ -375,10 +381,8 @@ def test_gbw_closed_loop_corner(gbw, f_quoted):
 
 def _cable_design(length):
     d = {
-        "coil_a": {"inductance": "1.2H", "resistance": "1k8", "capacitance": "60p", "sensitivity": 0.08,
-                   "turns_area": 0.75, "position": "38mm"},
-        "coil_b": {"inductance": "1.2H", "resistance": "1k8", "capacitance": "60p", "sensitivity": 0.08,
-                   "turns_area": 0.75, "position": "56mm"},
+        "coil_a": {"inductance": "1.2H", "resistance": "1k8", "capacitance": "60p", "sensitivity": 0.08, "turns_area": 0.75, "position": "38mm"},
+        "coil_b": {"inductance": "1.2H", "resistance": "1k8", "capacitance": "60p", "sensitivity": 0.08, "turns_area": 0.75, "position": "56mm"},
         "input_a": {"load_c": "1n0", "series_c": "100n", "series_r": "10k"},
         "input_b": {"load_c": "1n0", "series_c": "100n", "series_r": "10k", "bias_top": "100k", "bias_bottom": "100k"},
         "feedback": {"r": "51k", "c": "22p"},

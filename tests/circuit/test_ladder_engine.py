@@ -60,7 +60,7 @@ def test_designs_without_ladders_are_untouched():
     n1, d1 = coil_impedance(take(q.coil_a, [0]))
     np.testing.assert_array_equal(n1[:, : n0.shape[1]], n0)
     np.testing.assert_array_equal(d1[:, : d0.shape[1]], d0)
-    assert not np.any(n1[:, n0.shape[1]:]) and not np.any(d1[:, d0.shape[1]:])
+    assert not np.any(n1[:, n0.shape[1] :]) and not np.any(d1[:, d0.shape[1] :])
     np.testing.assert_allclose(responses(q).velocity()(F)[0], responses(p).velocity()(F)[0], rtol=1e-12)
 
 

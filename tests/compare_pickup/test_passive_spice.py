@@ -34,8 +34,16 @@ def pickup_netlist(p, *, wa, wb):
     """ground – coil_b – m – coil_a – jack, EMFs wa·V(drive) and wb·V(drive) towards the jack; controls, cable, amp."""
     c = p.controls
     rig = SimpleNamespace(
-        passive_pot=c.pot, passive_tone_cap=c.tone_cap, volume=c.volume, volume_taper=c.volume_taper, tone=c.tone, tone_taper=c.tone_taper,
-        cable_length=p.rig.cable_length, cable_capacitance=p.rig.cable_capacitance, amp_r=p.rig.amp_r, amp_c=p.rig.amp_c,
+        passive_pot=c.pot,
+        passive_tone_cap=c.tone_cap,
+        volume=c.volume,
+        volume_taper=c.volume_taper,
+        tone=c.tone,
+        tone_taper=c.tone_taper,
+        cable_length=p.rig.cable_length,
+        cable_capacitance=p.rig.cable_capacitance,
+        amp_r=p.rig.amp_r,
+        amp_c=p.rig.amp_c,
     )
     lines = ["* passive comparison pickup", "Vdrive drive 0 DC 0 AC 1"]
     lines += _coil_lines("b", p.coil_b, "m", "0", "drive", wb)

@@ -31,8 +31,21 @@ def _sensing(*, sz=0.03, sy=0.0, quad=0.0, x0=0.04, width=0.008, strings=6) -> P
 
     def one(i):
         return StringSensing(
-            string=strings - i, y=0.0, z=3 * MM, x=x, along_z=sz * w, along_y=sy * w, sensitivity_z=sz, sensitivity_y=sy,
-            lateral=np.zeros(1), lateral_sensitivity=np.full(1, sz), dy=dy, dz=dz, flux=flux, h2_db=-99.0, h3_db=-99.0,
+            string=strings - i,
+            y=0.0,
+            z=3 * MM,
+            x=x,
+            along_z=sz * w,
+            along_y=sy * w,
+            sensitivity_z=sz,
+            sensitivity_y=sy,
+            lateral=np.zeros(1),
+            lateral_sensitivity=np.full(1, sz),
+            dy=dy,
+            dz=dz,
+            flux=flux,
+            h2_db=-99.0,
+            h3_db=-99.0,
         )
 
     coil = tuple(one(i) for i in range(strings))

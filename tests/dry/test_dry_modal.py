@@ -339,6 +339,7 @@ def test_bad_sensing_points_are_refused():
 
 # --- properties ---------------------------------------------------------------
 
+
 @settings(max_examples=40, deadline=None)
 @given(beta=st.floats(0.05, 0.95), x=st.floats(0.02, 0.98))
 def test_pluck_series_rebuilds_the_triangle(beta, x):

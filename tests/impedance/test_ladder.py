@@ -1,7 +1,6 @@
 """The RL ladder: its fit against the eddy-current solution, its exact form from Bessel zeros,
 Nyquist's theorem for its noise, and ngspice's AC analysis of the fitted network."""
 
-
 import numpy as np
 import pytest
 from scipy.constants import mu_0

@@ -73,7 +73,7 @@ def test_a_session_from_loaded_designs(tmp_path):
         ({"true_peak_dbtp": 1}, "--true-peak-dbtp=1: must be from -30 to 0 dBTP; -1 is usual"),
         ({"sample_rate": 1000}, "--sample-rate=1000: must be from 8000 to 384000 Hz (a whole number); 48000 is usual"),
         ({"seed": 2**63}, f"--seed={2**63}: must be from 0 to 2**63-1"),
-        ({"seconds": "2 min"}, "--seconds=2 min: cannot read '2 min' as a time; write it like \"0.2s\" or \"20ms\""),
+        ({"seconds": "2 min"}, '--seconds=2 min: cannot read \'2 min\' as a time; write it like "0.2s" or "20ms"'),
         ({"seconds": 0.25}, "--seconds=0.25: must be from 0.5 s to 120 s"),
     ],
 )

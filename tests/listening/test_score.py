@@ -65,9 +65,7 @@ def test_score_refuses_an_unfinished_session_and_reveals_nothing(make_session):
     _answer_all(paths, [("A", ""), ("B", "")])
     result = CliRunner().invoke(score_command, [str(paths.root)])
     assert result.exit_code == 1
-    assert result.output.strip() == (
-        f"Error: SESSION={paths.root}: 2 of 4 trials answered; the key stays closed until the last one; finish with `render listen {paths.root}`"
-    )
+    assert result.output.strip() == (f"Error: SESSION={paths.root}: 2 of 4 trials answered; the key stays closed until the last one; finish with `render listen {paths.root}`")
     assert not (paths.root / "results").exists()
 
 

@@ -415,9 +415,7 @@ def test_a_killed_server_loses_nothing_and_leaves_no_lock(make_session):
             timeout=30,
         )
         assert second.returncode == 1
-        assert second.stderr.strip().splitlines() == [
-            f"Error: SESSION={paths.root}: another `render listen` is already serving this session (listen.lock is held); use that one or stop it first"
-        ]
+        assert second.stderr.strip().splitlines() == [f"Error: SESSION={paths.root}: another `render listen` is already serving this session (listen.lock is held); use that one or stop it first"]
         proc.send_signal(signal.SIGINT)  # Ctrl-C: a clean stop
         out, _ = proc.communicate(timeout=10)
         assert proc.returncode == 0 and "stopped; 3 of 4 trials answered" in out

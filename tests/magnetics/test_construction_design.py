@@ -103,4 +103,6 @@ def test_the_default_set_skips_constructions_where_the_magnetics_packages_are_mi
         warnings.simplefilter("always")
         designs, _ = load_designs(models=models)
     assert [d.name for d in designs] == ["studio-reference"]
-    assert [str(w.message) for w in caught if w.category is SkippedDesign] == [f"{models / 'slipway-steel-poles.toml'}: skipped: [construction] needs magpylib and magpylib-material-response (Python 3.11 or later)"]
+    assert [str(w.message) for w in caught if w.category is SkippedDesign] == [
+        f"{models / 'slipway-steel-poles.toml'}: skipped: [construction] needs magpylib and magpylib-material-response (Python 3.11 or later)"
+    ]

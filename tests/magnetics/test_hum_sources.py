@@ -96,7 +96,11 @@ def test_phase_delays_the_whole_waveform():
 
 def test_phasors_and_samples_agree_and_sources_superpose():
     coils = coil_pair(DEMO, DEMO, position_a=0.038, position_b=0.056)
-    srcs = [DipoleSource(moment=0.05, at=[0.4, 0.1, 0.05]), UniformSource(field=0.5e-6, axis=[0.3, 0, 1], phase=-40.0), DipoleSource(moment=0.02, at=[-0.2, 0.6, -0.3], axis=[1, 1, 0], harmonics=(1, 0, 2))]
+    srcs = [
+        DipoleSource(moment=0.05, at=[0.4, 0.1, 0.05]),
+        UniformSource(field=0.5e-6, axis=[0.3, 0, 1], phase=-40.0),
+        DipoleSource(moment=0.02, at=[-0.2, 0.6, -0.3], axis=[1, 1, 0], harmonics=(1, 0, 2)),
+    ]
     kw = dict(mains_hz=60.0, harmonics=(1.0, 0.05, 0.3))
     emf = hum_emf(coils, srcs, **kw)
     e = emf_samples(coils, srcs, 3000, sample_rate=44100, start=77, **kw)

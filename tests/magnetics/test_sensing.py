@@ -42,8 +42,14 @@ def poles():
     require_magpylib()
     pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
     c = Construction(
-        kind="steel-poles", magnet=(20 * MM, 64 * MM, 3.2 * MM), remanence=0.39, magnet_permeability=1.1, strings=_strings(),
-        steel=(4.2 * MM, 4.2 * MM, 11 * MM), poles=3, pole_spacing=10.4 * MM,
+        kind="steel-poles",
+        magnet=(20 * MM, 64 * MM, 3.2 * MM),
+        remanence=0.39,
+        magnet_permeability=1.1,
+        strings=_strings(),
+        steel=(4.2 * MM, 4.2 * MM, 11 * MM),
+        poles=3,
+        pole_spacing=10.4 * MM,
     )
     g = _geometry(4.6 * MM)
     return pickup_sensing(c, g, g, position_a=0.038, position_b=0.056, refine=0.6)

@@ -23,6 +23,7 @@ def test_rod_in_an_axial_field_against_cells():
     magpy = require_magpylib()
     pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
     from magpylib_material_response.demag import apply_demag
+
     d, length, chi, b0 = 0.43 * MM, 40 * MM, 99.0, 1e-3
     area = np.pi * d * d / 4
     step = 0.25 * MM

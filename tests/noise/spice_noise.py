@@ -78,9 +78,5 @@ def run_noise(lines, *, output="amp", source="Vdrive", fmin=20.0, fmax=20e3, per
         names = data_path.read_text().splitlines()[0].split()
         data = np.loadtxt(data_path, skiprows=1, ndmin=2)
     cols = dict(zip(names, data.T))
-    devices = {
-        k[len("onoise_") :]: v
-        for k, v in cols.items()
-        if k.startswith("onoise_") and k != "onoise_spectrum" and not k.endswith(("_1overf", "_thermal"))
-    }
+    devices = {k[len("onoise_") :]: v for k, v in cols.items() if k.startswith("onoise_") and k != "onoise_spectrum" and not k.endswith(("_1overf", "_thermal"))}
     return cols["frequency"], cols["onoise_spectrum"], devices

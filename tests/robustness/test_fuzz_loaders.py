@@ -38,10 +38,60 @@ RIG_DOC = {
 # Strings a hand-edited file might hold: quantities right and wrong, RKM codes,
 # slips, odd Unicode (micro sign and mu, fullwidth digits, invisible marks, NUL).
 TOKENS = [
-    "22k", "4k7", "R47", "1M0", "2n2", "100nF", "350mH", "9V", "60Hz", "1uT", "30mm", "6m", "5cm2", "0.045",
-    "1m", "1M", "1e3k", "1e400", "-1", "0", "+0.0", "nan", "inf", "", " ", "k", "R", "..1", "1.", "1e", "e3",
-    "22kΩ", "22k\u2126", "1\u00b5F", "1\u03bcF", "\uff13\uff15\uff10mH", "22k\u200f", "\u200e9V", "22\u00a0k", "9\x00V",
-    "9V\n", "\ufeff9V", "audio", "linear", "steel", "air", "x", "E2", "C#4", "Bb2", "H2", "98Hz", "down", "up",
+    "22k",
+    "4k7",
+    "R47",
+    "1M0",
+    "2n2",
+    "100nF",
+    "350mH",
+    "9V",
+    "60Hz",
+    "1uT",
+    "30mm",
+    "6m",
+    "5cm2",
+    "0.045",
+    "1m",
+    "1M",
+    "1e3k",
+    "1e400",
+    "-1",
+    "0",
+    "+0.0",
+    "nan",
+    "inf",
+    "",
+    " ",
+    "k",
+    "R",
+    "..1",
+    "1.",
+    "1e",
+    "e3",
+    "22kΩ",
+    "22k\u2126",
+    "1\u00b5F",
+    "1\u03bcF",
+    "\uff13\uff15\uff10mH",
+    "22k\u200f",
+    "\u200e9V",
+    "22\u00a0k",
+    "9\x00V",
+    "9V\n",
+    "\ufeff9V",
+    "audio",
+    "linear",
+    "steel",
+    "air",
+    "x",
+    "E2",
+    "C#4",
+    "Bb2",
+    "H2",
+    "98Hz",
+    "down",
+    "up",
 ]
 scalars = st.one_of(
     st.none(),
@@ -193,7 +243,13 @@ def retyped(draw, original: str):
     at = [i for i, line in enumerate(lines) if "=" in line and not line.lstrip().startswith("#")]
     i = draw(st.sampled_from(at))
     key = lines[i].split("=", 1)[0]
-    token = draw(st.one_of(st.sampled_from(TOKENS).map(lambda t: '"' + t.replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n").replace("\x00", "\\u0000") + '"'), st.sampled_from(["1e400", "-0", "inf", "nan", "true", "[]", "{}", "[1, [2]]", "1979-05-27", '"""x"""', "0x1F", "1_000"]), st.text(max_size=10)))
+    token = draw(
+        st.one_of(
+            st.sampled_from(TOKENS).map(lambda t: '"' + t.replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n").replace("\x00", "\\u0000") + '"'),
+            st.sampled_from(["1e400", "-0", "inf", "nan", "true", "[]", "{}", "[1, [2]]", "1979-05-27", '"""x"""', "0x1F", "1_000"]),
+            st.text(max_size=10),
+        )
+    )
     lines[i] = f"{key}= {token}"
     return "\n".join(lines) + "\n"
 

@@ -69,9 +69,7 @@ def test_two_servers_started_at_once_one_serves_and_the_other_says_why(make_sess
         (winner,) = [p for p in procs if p.poll() is None]
         out, err = losers[0].communicate(timeout=10)
         assert losers[0].returncode == 1
-        assert err.strip().splitlines() == [
-            f"Error: SESSION={paths.root}: another `render listen` is already serving this session (listen.lock is held); use that one or stop it first"
-        ]
+        assert err.strip().splitlines() == [f"Error: SESSION={paths.root}: another `render listen` is already serving this session (listen.lock is held); use that one or stop it first"]
         line = winner.stdout.readline()
         port = int(line.rsplit(":", 1)[1].strip().rstrip("/"))
         assert answer(port, 0, "A")[0] == 200
