@@ -227,37 +227,23 @@ def network(p, index: int = 0) -> Network:
             rows[f"i_l{k + 1}"] = vk / lk
         if l0 > 0:
             rows["i_1"] = (v_t - e - Ra * i_c - sum(v_k, row())) / l0
-        if Cf > 0:
-            rows["v_f"] = (i_r - v_f / Rf) / Cf
-        m = np.array([rows[k] for k in names])
-        z0 = math.sqrt(L / Ct)
-        scale = np.array([z0 if k.startswith("i_") else 1.0 for k in names])
-        return Network(
-            a=m[:, :n].copy(),
-            b_e=m[:, col_e].copy(),
-            b_o=m[:, col_o].copy(),
-            c=v_minus[:n].copy(),
-            d_e=float(v_minus[col_e]),
-            d_o=float(v_minus[col_o]),
-            names=tuple(names),
-            scale=scale,
-        )
-    i_1 = var("i_1")
-    # the coil from its terminal to ground: inductor (∥ R_p) in series with R_dc and the EMF
-    v_l = (v_t - e - Ra * i_1) / (1.0 + Ra * Gp)
-    i_c = i_1 + Gp * v_l
-    rows = {"v_s": i_r / Cs, "v_t": (i_r - Gl * v_t - i_c) / Ct}
-    if sec:
-        # shorted secondary (coil.py): L2 = L1, R2 = ω_e·L2, M = k·L1
-        L2 = L
-        M = math.sqrt(float(ca.k2[index])) * L
-        R2 = float(ca.we[index]) * L2
-        inv = np.linalg.inv(np.array([[L, M], [M, L2]]))
-        i_2 = var("i_2")
-        rows["i_1"] = inv[0, 0] * v_l + inv[0, 1] * (-R2 * i_2)
-        rows["i_2"] = inv[1, 0] * v_l + inv[1, 1] * (-R2 * i_2)
     else:
-        rows["i_1"] = v_l / L
+        i_1 = var("i_1")
+        # the coil from its terminal to ground: inductor (∥ R_p) in series with R_dc and the EMF
+        v_l = (v_t - e - Ra * i_1) / (1.0 + Ra * Gp)
+        i_c = i_1 + Gp * v_l
+        rows = {"v_s": i_r / Cs, "v_t": (i_r - Gl * v_t - i_c) / Ct}
+        if sec:
+            # shorted secondary (coil.py): L2 = L1, R2 = ω_e·L2, M = k·L1
+            L2 = L
+            M = math.sqrt(float(ca.k2[index])) * L
+            R2 = float(ca.we[index]) * L2
+            inv = np.linalg.inv(np.array([[L, M], [M, L2]]))
+            i_2 = var("i_2")
+            rows["i_1"] = inv[0, 0] * v_l + inv[0, 1] * (-R2 * i_2)
+            rows["i_2"] = inv[1, 0] * v_l + inv[1, 1] * (-R2 * i_2)
+        else:
+            rows["i_1"] = v_l / L
     if Cf > 0:
         rows["v_f"] = (i_r - v_f / Rf) / Cf
     m = np.array([rows[k] for k in names])
