@@ -52,13 +52,25 @@ def _die_with_parent(parent_pid: int) -> None:
         os._exit(1)
 
 
+def _leave(signum: int, frame: Any) -> None:
+    raise SystemExit(128 + signum)
+
+
 def _worker_init(parent_pid: int) -> None:
-    """One BLAS thread, Ctrl-C left to the parent, SIGTERM and SIGHUP fatal, death with the parent."""
+    """One BLAS thread, Ctrl-C left to the parent, SIGTERM and SIGHUP fatal, death with the parent.
+
+    SIGTERM and SIGHUP end the worker by an exception rather than the default
+    action: an idle worker waits for its next task holding the pool's task-queue
+    lock, and a worker killed there takes the lock with it, so the parent's
+    ``Pool.terminate()`` would wait for it forever. The exception leaves through
+    the queue's ``with`` block and so releases the lock. (A signal to the whole
+    group, as from ``timeout`` or a closed terminal, reaches the workers too.)
+    """
     from threadpoolctl import threadpool_limits
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)
-    signal.signal(signal.SIGHUP, signal.SIG_DFL)
+    signal.signal(signal.SIGTERM, _leave)
+    signal.signal(signal.SIGHUP, _leave)
     _die_with_parent(parent_pid)
     threadpool_limits(1)
 
@@ -68,6 +80,40 @@ def _pool(processes: int):
 
     # fork: the workers share what the parent has imported (scipy.signal, matplotlib: about a second)
     return multiprocessing.get_context("fork").Pool(processes, initializer=_worker_init, initargs=(os.getpid(),))
+
+
+def _end_now(pool: Any) -> None:
+    """End ``pool`` at once, also when its workers got the stop signal as well.
+
+    A signal to the whole process group (``timeout``, a closed terminal)
+    reaches the workers too. The pool's own ``terminate()`` can then wait for
+    ever: it replaces workers that died, and a replacement forked at that
+    moment may hang before it can take a signal; and a worker killed while
+    waiting for a task takes the task queue's lock with it. So: no more
+    replacements, SIGKILL to every worker, the lock freed if a dead worker
+    holds it, and only then the pool's own clean-up. (This uses
+    ``multiprocessing.pool`` internals that are the same from Python 3.8 to
+    3.13.)
+    """
+    from multiprocessing.pool import TERMINATE
+
+    handler = getattr(pool, "_worker_handler", None)
+    if handler is not None:
+        handler._state = TERMINATE
+        pool._change_notifier.put(None)
+        handler.join(5.0)
+    for worker in list(pool._pool):
+        if worker.exitcode is None:
+            worker.kill()
+    for worker in list(pool._pool):
+        worker.join(5.0)
+    lock = pool._inqueue._rlock
+    if lock.acquire(block=False):
+        lock.release()
+    else:  # held by a worker that is dead now
+        lock.release()
+    pool.terminate()
+    pool.join()
 
 
 def _indexed(args: tuple) -> tuple[int, Any]:
@@ -107,16 +153,17 @@ def pmap(fn: Callable[[Any], Any], tasks: Iterable[Any], jobs: int = 1, *, on_do
 
 def _pool_map(fn: Callable[[Any], Any], tasks: list[Any], jobs: int, on_done: Callable[[Any], None] | None) -> list[Any]:
     results: list[Any] = [None] * len(tasks)
-    pool = _pool(jobs)
+    pool = None
     try:
+        pool = _pool(jobs)
         for i, value in pool.imap_unordered(_indexed, [(fn, i, t) for i, t in enumerate(tasks)]):
             results[i] = value
             if on_done:
                 on_done(value)
     except BaseException:
         # a stop (Ctrl-C, SIGTERM, SIGHUP) or a failed task: end every worker now
-        pool.terminate()
-        pool.join()
+        if pool is not None:
+            _end_now(pool)
         raise
     pool.close()
     pool.join()
@@ -167,6 +214,6 @@ class SideProcess:
         if self._pool is not None:
             if kind is None:
                 self._pool.close()
+                self._pool.join()
             else:
-                self._pool.terminate()
-            self._pool.join()
+                _end_now(self._pool)

@@ -56,8 +56,27 @@ def _kill_group(pgid: int) -> None:
         os.killpg(pgid, signal.SIGKILL)
 
 
-def _stop_and_watch(proc, sig, way):
-    """Send ``sig`` (to the parent, or to the group), then wait up to GRACE_S for every process of the run to go."""
+def _describe_group(pgid: int) -> list[str]:
+    """What is left of the group: pid, state and kernel wait channel of each live process."""
+    found = []
+    for proc_dir in Path("/proc").iterdir():
+        if proc_dir.name.isdigit():
+            try:
+                stat = (proc_dir / "stat").read_text()
+                wchan = (proc_dir / "wchan").read_text()
+            except OSError:
+                continue
+            fields = stat[stat.rindex(")") + 2 :].split()
+            if int(fields[2]) == pgid and fields[0] != "Z":
+                found.append(f"{proc_dir.name} {fields[0]} {wchan}")
+    return found
+
+
+def _stop_and_watch(proc, sig, way, survivors=None):
+    """Send ``sig`` (to the parent, or to the group), then wait up to GRACE_S for every process of the run to go.
+
+    ``survivors`` (a list, optional) receives a description of what was left, for the failure message.
+    """
     pgid = proc.pid
     try:
         if way == "parent":
@@ -70,6 +89,8 @@ def _stop_and_watch(proc, sig, way):
         while _group_alive(pgid) and time.monotonic() - began < GRACE_S:
             time.sleep(0.05)
         left = _group_alive(pgid)
+        if left and survivors is not None:
+            survivors.extend(_describe_group(pgid))
         out, err = proc.communicate(timeout=30) if proc.poll() is not None else ("", "")
         return left, proc.returncode, err
     finally:

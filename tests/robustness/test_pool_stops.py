@@ -1,0 +1,95 @@
+"""A pool whose workers got the stop signal too still ends: the case of ``timeout`` and a closed terminal.
+
+Such a signal reaches the whole process group, so the workers get it as well
+as the parent. An idle worker waits for its next task holding the task
+queue's lock; killed there by the default action it took the lock with it,
+and the parent's ``Pool.terminate()`` then waited for ever. The contract is
+this project's own (README: "Stopping a run"); no outside source.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import threading
+import time
+from pathlib import Path
+
+import pytest
+
+from render.parallel import SideProcess, _end_now, _pool
+
+from .conftest import DARK, ODD, REF
+from .test_stops import GRACE_S, _kill_group, _start, _stop_and_watch, _wait_for
+
+
+def _ends_within(action, seconds: float) -> bool:
+    done = threading.Event()
+
+    def run():
+        action()
+        done.set()
+
+    threading.Thread(target=run, daemon=True).start()
+    return done.wait(seconds)
+
+
+@pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGHUP], ids=["SIGTERM", "SIGHUP"])
+def test_an_idle_worker_stopped_by_a_signal_does_not_hang_the_pool(sig):
+    pool = _pool(2)
+    time.sleep(0.5)  # both workers idle, one of them waiting on the task queue
+    workers = list(pool._pool)
+    for w in workers:
+        os.kill(w.pid, sig)
+    for w in workers:
+        w.join(5)
+    assert all(w.exitcode == 128 + sig for w in workers), [w.exitcode for w in workers]
+
+    # the stop path (the pool's own terminate() alone can hang here: it forks replacements)
+    assert _ends_within(lambda: _end_now(pool), 20.0), "ending the pool hung after its workers were signalled"
+
+
+def test_a_side_process_stopped_by_a_signal_does_not_hang_its_exit():
+    side = SideProcess()
+    time.sleep(0.5)
+    (worker,) = side._pool._pool
+    os.kill(worker.pid, signal.SIGTERM)
+    worker.join(5)
+
+    def leave():
+        try:
+            with side:
+                raise KeyboardInterrupt  # as the parent's own stop does
+        except KeyboardInterrupt:
+            pass
+
+    assert _ends_within(leave, 10.0), "leaving a SideProcess hung after its worker was signalled"
+
+
+@pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGHUP], ids=["SIGTERM", "SIGHUP"])
+def test_clips_stopped_through_its_group_while_the_workers_render(tmp_path, sig):
+    # a longer phrase, stopped once the worker processes exist and have had a second to work
+    out = tmp_path / "run"
+    proc = _start(["clips", REF, ODD, DARK, "--seconds", "20", "--out", out, "--jobs", "2"])
+    pgid = proc.pid
+    try:
+
+        def members() -> int:
+            count = 0
+            for d in os.listdir("/proc"):
+                if d.isdigit():
+                    try:
+                        stat = Path(f"/proc/{d}/stat").read_text()
+                    except OSError:
+                        continue
+                    if int(stat[stat.rindex(")") + 2 :].split()[2]) == pgid:
+                        count += 1
+            return count
+
+        _wait_for(lambda: proc.poll() is not None or members() >= 3, seconds=120)
+        time.sleep(1.0)
+        left, code, err = _stop_and_watch(proc, sig, "group", survivors=(survivors := []))
+    finally:
+        _kill_group(pgid)
+    assert not left, f"`render clips --jobs 2` still alive {GRACE_S} s after {sig.name} to its group: {survivors}; stderr {err[-500:]!r}"
+    assert code in (0, 1) and "Traceback" not in err, (code, err)
