@@ -95,3 +95,23 @@ def test_bias_sweep_equals_the_json(tmp_path):
     data = json.loads(js.read_text())
     sw = render.bias_sweep(render.load_design(REF), ratios=(0.4, 0.6))
     assert [dict(r) for r in sw.rows] == data["settings"]
+
+
+def test_unvoice_writes_the_commands_bytes(tmp_path):
+    from scipy.signal import lfilter
+
+    di = tmp_path / "di.wav"
+    noise = lfilter([1.0], [1.0, -0.95], np.random.default_rng(3).standard_normal(48000)) * 0.01
+    sf.write(di, noise, 48000, subtype="FLOAT")
+    run("unvoice", di, REF, "--out", tmp_path / "cli.wav", "--no-plot")
+    result = render.unvoice(di, REF, out=tmp_path / "api.wav", plot=False)
+    assert (tmp_path / "cli.wav").read_bytes() == (tmp_path / "api.wav").read_bytes()
+    cli = json.loads((tmp_path / "cli.json").read_text())
+    api = json.loads((tmp_path / "api.json").read_text())
+    assert cli["trusted_band_hz"] == api["trusted_band_hz"] and result.wav == tmp_path / "api.wav"
+
+
+def test_every_public_name_is_in_the_api_reference():
+    text = (ROOT / "docs" / "api" / "index.rst").read_text(encoding="utf-8")
+    missing = [n for n in render.__all__ if n != "__version__" and f"render.{n}\n" not in text]
+    assert not missing, f"not in docs/api/index.rst: {missing}"
