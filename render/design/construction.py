@@ -244,6 +244,11 @@ def derive(design, construction: Construction | None):
     build = PickupBuild(construction=construction, geometry_a=design.coil_a.geometry, geometry_b=design.coil_b.geometry)
     design = replace(design, construction=build)
     try:
+        # refused where the solver is missing even when a cached solve exists, so that a design
+        # behaves the same on every machine with the same packages
+        from ..magnetics.steel import _require
+
+        _require()
         result = sensing(design)
     except InputError as exc:
         raise InputError(f"{design.source or design.name}: {exc}") from None
