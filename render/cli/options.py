@@ -45,8 +45,25 @@ overwrite_option = click.option("--overwrite", is_flag=True, help="Replace outpu
 sample_rate_option = click.option("--sample-rate", type=int, default=48000, show_default=True, callback=_sample_rate, help="Output sample rate (Hz), 8000 to 384000.")
 
 
+_JSON_STDOUT = "render.json_stdout"
+
+
+def _json_to_stdout(ctx: click.Context, param: click.Parameter, value: str | None) -> str | None:
+    """With ``--json -``, standard output holds the JSON alone: the human lines go to stderr until the command ends."""
+    if value == "-" and _JSON_STDOUT not in ctx.meta:
+        stdout = sys.stdout
+        ctx.meta[_JSON_STDOUT] = stdout
+        sys.stdout = sys.stderr
+
+        def restore() -> None:
+            sys.stdout = stdout
+
+        ctx.call_on_close(restore)
+    return value
+
+
 def json_option(help_text: str = "Write the results as JSON to FILE ('-' for standard output).") -> Callable[[Any], Any]:
-    return click.option("--json", "json_path", type=click.Path(dir_okay=False), default=None, help=help_text)
+    return click.option("--json", "json_path", type=click.Path(dir_okay=False), default=None, callback=_json_to_stdout, help=help_text)
 
 
 def jobs_option(help_text: str, default: int | None = 1) -> Callable[[Any], Any]:
@@ -54,11 +71,14 @@ def jobs_option(help_text: str, default: int | None = 1) -> Callable[[Any], Any]
 
 
 def emit_json(path: str | None, payload: object, *, overwrite: bool) -> None:
-    """Write JSON to ``path`` atomically, or to standard output for '-'."""
+    """Write JSON to ``path`` atomically, or to standard output for '-' (the human lines then went to stderr)."""
     from ..io.atomic import json_text, write_json
 
     if path == "-":
-        sys.stdout.write(json_text(payload))
+        ctx = click.get_current_context(silent=True)
+        stdout = ctx.meta.get(_JSON_STDOUT, sys.stdout) if ctx is not None else sys.stdout
+        stdout.write(json_text(payload))
+        stdout.flush()
     elif path:
         write_json(path, payload, overwrite=overwrite)
 
