@@ -5,7 +5,7 @@ from __future__ import annotations
 import functools
 import sys
 from collections.abc import Callable
-from typing import Any, TextIO
+from typing import Any, TextIO, cast
 
 import click
 
@@ -76,7 +76,7 @@ def emit_json(path: str | None, payload: object, *, overwrite: bool) -> None:
 
     if path == "-":
         ctx = click.get_current_context(silent=True)
-        stdout: TextIO = ctx.meta.get(_JSON_STDOUT, sys.stdout) if ctx is not None else sys.stdout
+        stdout = cast(TextIO, ctx.meta.get(_JSON_STDOUT, sys.stdout) if ctx is not None else sys.stdout)
         stdout.write(json_text(payload))
         stdout.flush()
     elif path:
