@@ -9,7 +9,7 @@ from typing import Any, TextIO, cast
 
 import click
 
-from ..errors import InputError
+from ..errors import InputError, PassiveGiven
 
 
 def friendly(fn: Callable[..., Any]) -> Callable[..., Any]:
@@ -19,10 +19,34 @@ def friendly(fn: Callable[..., Any]) -> Callable[..., Any]:
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         try:
             return fn(*args, **kwargs)
+        except PassiveGiven as exc:
+            raise click.ClickException(passive_refusal(exc, click.get_current_context())) from None
         except InputError as exc:
             raise click.ClickException(str(exc)) from None
 
     return wrapper
+
+
+def _takes_compare(cmd: click.Command) -> bool:
+    return any("--compare" in p.opts for p in cmd.params)
+
+
+def passive_refusal(exc: PassiveGiven, ctx: click.Context) -> str:
+    """The refusal of a passive file named as a design, with the fix this command offers."""
+    head = f'{exc.path}: a passive pickup (kind = "passive") has no preamp to render as a design'
+    if _takes_compare(ctx.command):
+        return f"{head}; name it with --compare {exc.path} instead"
+    from . import COMMANDS, main
+
+    root = click.Context(main)
+    others = [name for name in sorted(COMMANDS) if _takes_compare(main.get_command(root, name))]
+    names = []
+    while ctx.parent is not None:
+        names.append(ctx.info_name or "")
+        ctx = ctx.parent
+    here = " ".join(["render", *reversed(names)])
+    listed = ", ".join(others[:-1]) + f" and {others[-1]}" if len(others) > 1 else "".join(others)
+    return f"{head}, and {here} takes designs with one only; give a design with a preamp here (render {listed} take a passive pickup with --compare FILE)"
 
 
 def _sample_rate(ctx: click.Context, param: click.Parameter, value: int) -> int:

@@ -14,7 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from .. import units as U
-from ..errors import InputError
+from ..errors import InputError, PassiveGiven
 from ..io.hashing import sha256_bytes
 from ..io.toml import read_toml
 from ..validate import TOP_KEYS, check_document, read_table, where
@@ -186,7 +186,7 @@ def load_design(path: str | Path) -> Design:
     """Load and validate one design file."""
     data, raw = read_toml(path)
     if isinstance(data, dict) and data.get("kind") == "passive":  # render.design.passive
-        raise InputError(f'{path}: a passive pickup (kind = "passive") has no preamp to render as a design; name it with --compare {path} instead')
+        raise PassiveGiven(path)
     return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw))
 
 
