@@ -165,9 +165,14 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     )
     bias = design.bias_v
     if not (design.limit_low_v + sup["knee"] < bias < design.limit_high_v - sup["knee"]):
+        from ..usual import likely_prefix, usual
+
+        odd = [(k, v) for k in ("bias_top", "bias_bottom") if not usual("input_b", k).holds(v := tables["input_b"][k])]  # type: ignore[union-attr]
+        fixes = [f'{k}="{p}"' for k, v in odd if (p := likely_prefix("input_b", k, v))]
+        fix = f"; did you mean {' and '.join(fixes)}?" if fixes else "; bring the two resistors closer to equal"
         raise InputError(
             f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
-            f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V; bring the two resistors closer to equal"
+            f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V{fix}"
         )
     return resolve(derive(design, construction), impedance_specs)
 
