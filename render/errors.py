@@ -19,6 +19,21 @@ class InputError(ValueError):
         return text.replace("\r", "\\r").replace("\n", "\\n")
 
 
+class PassiveGiven(InputError):
+    """A passive pickup's file (``kind = "passive"``) named where a design with a preamp is expected.
+
+    ``path`` is the file. The message is complete as it stands; the CLI words the
+    fix with what the command at hand offers (its ``--compare``, or the commands
+    that have one).
+    """
+
+    def __init__(self, path: object) -> None:
+        self.path = str(path)
+        super().__init__(
+            f'{path}: a passive pickup (kind = "passive") has no preamp to render as a design; give a design with a preamp here (a passive pickup goes only where a comparison pickup is asked for)'
+        )
+
+
 class SkippedDesign(UserWarning):
     """A design left out of a default set (every ``models/*.toml``) that this installation cannot
     render; the CLI shows it as one ``warning:`` line. Named designs are refused instead."""

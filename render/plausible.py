@@ -11,8 +11,9 @@ feedback capacitor of "22n" instead of "22p" puts the feedback corner at
   of a refusal;
 - :func:`design_warnings`: one line per unlikely value of a loaded design
   (a network corner inside the band where it normally lies far outside it; a
-  coil inductance outside the usual range for pickups), each naming the
-  range, its origin, and the value with the likely prefix.
+  coil inductance or a resistor outside its usual range; a stage gain far
+  from an active pickup's), each naming the range, its origin, and the value
+  with the likely prefix (``series_r = "22"`` is most likely ``"22k"``).
 
 Every range here is marked as a rule of thumb ("common practice, no source")
 or as recalled ("from memory"); none is a refusal.
@@ -23,9 +24,16 @@ from __future__ import annotations
 import math
 
 from . import units as U
-from .usual import COUPLING_CORNER_MAX_HZ, FEEDBACK_CORNER_MIN_HZ, USUAL, Usual, likely_prefix, prefixed_alternatives, usual
+from .usual import COUPLING_CORNER_MAX_HZ, FEEDBACK_CORNER_MIN_HZ, STAGE_GAIN_RANGE, USUAL, Usual, likely_prefix, prefixed_alternatives, usual
 
-__all__ = ["COUPLING_CORNER_MAX_HZ", "FEEDBACK_CORNER_MIN_HZ", "USUAL", "Usual", "design_warnings", "likely_prefix", "prefixed_alternatives", "usual"]
+__all__ = ["COUPLING_CORNER_MAX_HZ", "FEEDBACK_CORNER_MIN_HZ", "STAGE_GAIN_RANGE", "USUAL", "Usual", "design_warnings", "likely_prefix", "prefixed_alternatives", "usual"]
+
+RESISTORS = (
+    ("input_a", ("series_r", "load_r")),
+    ("input_b", ("series_r", "load_r", "bias_top", "bias_bottom")),
+    ("feedback", ("r",)),
+    ("output", ("series_r", "shunt_r")),
+)
 
 
 def _fix_for(x: float, ok) -> str:
@@ -37,34 +45,65 @@ def _fix_for(x: float, ok) -> str:
 
 
 def design_warnings(design) -> tuple[str, ...]:
-    """One line per legal but unlikely value of ``design`` (rig applied): corners in the band, unusual coil inductances."""
+    """One line per legal but unlikely value of ``design`` (rig applied).
+
+    Corners in the band (blaming a resistor outside its usual range before the
+    capacitor beside it), resistors and coil inductances outside their usual
+    ranges, and a stage gain r/series_r outside :data:`STAGE_GAIN_RANGE`.
+    """
     from .analysis.summary import corners
 
     out: list[str] = []
     c = corners(design)
     tau = 2 * math.pi
     fb = design.feedback
+    odd_r = {(t, k): v for t, keys in RESISTORS for k in keys if (v := getattr(getattr(design, t), k)) is not None and not usual(t, k).holds(v)}  # type: ignore[union-attr]
+    blamed: set[tuple[str, str]] = set()
     if fb.c and c["feedback_hz"] is not None and c["feedback_hz"] < FEEDBACK_CORNER_MIN_HZ:
-        rng = USUAL[("feedback", "c")]
-        fix = _fix_for(fb.c, lambda v: rng.holds(v) and 1 / (tau * fb.r * v) >= FEEDBACK_CORNER_MIN_HZ)
-        out.append(
-            f"[feedback] c={U.format_si(fb.c, 'F')}: the feedback corner 1/(2π·r·c) is {c['feedback_hz']:.3g} Hz, inside the band;"
-            f" it normally lies above {FEEDBACK_CORNER_MIN_HZ:g} Hz (common practice, no source){fix}"
-        )
+        corner = f"the feedback corner 1/(2π·r·c) is {U.format_si(c['feedback_hz'], 'Hz')}, inside the band; it normally lies above {FEEDBACK_CORNER_MIN_HZ:g} Hz (common practice, no source)"
+        if ("feedback", "r") in odd_r:  # the resistor's slipped prefix, not the capacitor
+            rng = USUAL[("feedback", "r")]
+            fix = _fix_for(fb.r, lambda v: rng.holds(v) and 1 / (tau * v * fb.c) >= FEEDBACK_CORNER_MIN_HZ)
+            out.append(f"[feedback] r={U.format_si(fb.r, 'Ω')}: {corner}, and r is outside its usual range ({rng.text('Ω')}){fix}")
+            blamed.add(("feedback", "r"))
+        else:
+            rng = USUAL[("feedback", "c")]
+            fix = _fix_for(fb.c, lambda v: rng.holds(v) and 1 / (tau * fb.r * v) >= FEEDBACK_CORNER_MIN_HZ)
+            out.append(f"[feedback] c={U.format_si(fb.c, 'F')}: {corner}{fix}")
     for name in ("input_a", "input_b"):
         net = getattr(design, name)
         fc = c[f"{name}_hz"]
         if fc > COUPLING_CORNER_MAX_HZ:
-            fix = _fix_for(net.series_c, lambda v, r=net.series_r: 1 / (tau * r * v) <= COUPLING_CORNER_MAX_HZ and USUAL[("input", "series_c")].holds(v))
-            out.append(
-                f"[{name}] series_c={U.format_si(net.series_c, 'F')}: the input coupling corner 1/(2π·series_r·series_c) is {fc:.3g} Hz, inside the band;"
-                f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
+            corner = (
+                f"the input coupling corner 1/(2π·series_r·series_c) is {U.format_si(fc, 'Hz')}, inside the band; it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source)"
             )
+            if (name, "series_r") in odd_r:  # the resistor's slipped prefix, not the capacitor
+                rng = USUAL[("input", "series_r")]
+                fix = _fix_for(net.series_r, lambda v, cs=net.series_c, rng=rng: rng.holds(v) and 1 / (tau * v * cs) <= COUPLING_CORNER_MAX_HZ)
+                out.append(f"[{name}] series_r={U.format_si(net.series_r, 'Ω')}: {corner}, and series_r is outside its usual range ({rng.text('Ω')}){fix}")
+                blamed.add((name, "series_r"))
+            else:
+                fix = _fix_for(net.series_c, lambda v, r=net.series_r: 1 / (tau * r * v) <= COUPLING_CORNER_MAX_HZ and USUAL[("input", "series_c")].holds(v))
+                out.append(f"[{name}] series_c={U.format_si(net.series_c, 'F')}: {corner}{fix}")
+    for (table, key), v in odd_r.items():
+        if (table, key) not in blamed:
+            rng = USUAL[(table.removesuffix("_a").removesuffix("_b"), key)]
+            out.append(f"[{table}] {key}={U.format_si(v, 'Ω')}: outside the usual range ({rng.text('Ω')}){_fix_for(v, rng.holds)}")
+    gain = fb.r / design.input_a.series_r
+    lo, hi = STAGE_GAIN_RANGE
+    if not lo <= gain <= hi:
+        odd = [f"[{t}] {k}" for t, k in (("feedback", "r"), ("input_a", "series_r")) if (t, k) in odd_r]
+        why = f"; look at {' and '.join(odd)} first" if odd else ""
+        shown = f"{gain:.3g}" if gain < 1000 else f"{gain:.0f}"
+        out.append(
+            f"[feedback] r / [input_a] series_r = {U.format_si(fb.r, 'Ω')} / {U.format_si(design.input_a.series_r, 'Ω')}: a stage gain of about {shown}"
+            f" ({20 * math.log10(gain):+.0f} dB); it is normally {lo:g} to {hi:g} (0 to +40 dB, common practice, no source){why}"
+        )
     if c["output_hz"] > COUPLING_CORNER_MAX_HZ:
         cc = design.output.coupling_c
         fix = _fix_for(cc, lambda v: c["output_hz"] * cc / v <= COUPLING_CORNER_MAX_HZ and USUAL[("output", "coupling_c")].holds(v))
         out.append(
-            f"[output] coupling_c={U.format_si(cc, 'F')}: the output coupling corner into the controls is {c['output_hz']:.3g} Hz, inside the band;"
+            f"[output] coupling_c={U.format_si(cc, 'F')}: the output coupling corner into the controls is {U.format_si(c['output_hz'], 'Hz')}, inside the band;"
             f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
         )
     rng = USUAL[("coil", "inductance")]

@@ -43,7 +43,20 @@ USUAL: dict[tuple[str, str], Usual] = {
     ("rig", "passive_tone_cap"): Usual(1e-9, 220e-9, "common practice, no source"),
     ("rig", "amp_c"): Usual(1e-12, 1e-9, "common practice, no source"),
     ("rig", "cable_capacitance"): Usual(20e-12, 300e-12, "from memory"),
+    # resistors of an op-amp stage fed by a pickup: below about 1 kΩ the inputs load the coil and
+    # the op-amp's output, above about 10 MΩ bias currents and noise take over
+    ("input", "series_r"): Usual(1e3, 1e6, "common practice, no source"),
+    ("input", "load_r"): Usual(1e3, 10e6, "common practice, no source"),
+    ("input", "bias_top"): Usual(10e3, 10e6, "common practice, no source"),
+    ("input", "bias_bottom"): Usual(10e3, 10e6, "common practice, no source"),
+    ("feedback", "r"): Usual(10e3, 10e6, "common practice, no source"),
+    ("output", "series_r"): Usual(10.0, 10e3, "common practice, no source"),
+    ("output", "shunt_r"): Usual(10e3, 10e6, "common practice, no source"),
 }
+
+# the stage's nominal gain feedback.r / input_a.series_r: an active pickup's preamp raises its
+# low-impedance coils by about 0 to 40 dB (common practice, no source)
+STAGE_GAIN_RANGE = (1.0, 100.0)
 
 # where a network's corner normally lies (common practice, no source): the feedback r‖c corner
 # well above the middle of a guitar's range; the coupling corners below the low E string (82 Hz)

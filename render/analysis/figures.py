@@ -8,11 +8,10 @@ string velocity (the same at both sensing points) to the amp input:
 - ``peaks``: every peak from 1 kHz to 20 kHz with a prominence of 0.5 dB or
   more, highest first (frequency, height re ``level_1k_db``, prominence, Q:
   :mod:`render.analysis.peaks`); an empty list when there is none.
-- ``peak_hz``, ``peak_db``: the highest peak's height (dB re ``level_1k_db``)
-  and its frequency, blended with any peak within 1 dB of it so that it does
-  not jump when two humps trade places (:mod:`render.analysis.peaks`); None
-  with a reason when there is no peak. ``resonance_hz`` and
-  ``resonance_db`` are the same two figures.
+- ``peak_hz``, ``peak_db``: the highest listed peak's frequency and height
+  (dB re ``level_1k_db``), exactly as ``peaks[0]`` gives them
+  (:mod:`render.analysis.peaks`); None with a reason when there is no peak.
+  ``resonance_hz`` and ``resonance_db`` are the same two figures.
 - ``q``: the highest peak's frequency over the width between the −3 dB
   points (re the peak) around it; None when ``peak_db`` < 3 dB.
 - ``bass_corner_hz``: the highest frequency below 1 kHz where |H| is 3 dB
@@ -108,7 +107,7 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
     n = h_db.shape[0]
     i1k = int(np.argmin(np.abs(np.log(f / 1000.0))))
     lvl = np.array([np.interp(0.0, np.log(f[i1k - 1 : i1k + 2] / 1000.0), r[i1k - 1 : i1k + 2]) for r in h_db])
-    # every peak above the stated prominence, the stable peak frequency and the highest peak's Q
+    # every peak above the stated prominence; the resonance is the highest of them, with its Q
     from .peaks import response_peaks
 
     found = [response_peaks(h_db[r], f, level_1k_db=lvl[r]) for r in range(n)]

@@ -1,4 +1,4 @@
-"""The peaks of a response: every one above a stated prominence, and one stable peak frequency.
+"""The peaks of a response: every one above a stated prominence, the highest of them its resonance.
 
 A peak is a local maximum of the level in dB on the fine log-frequency grid
 of :mod:`render.analysis.figures` (5 Hz to 40 kHz, 0.4 % steps) whose
@@ -20,20 +20,12 @@ implements). Each peak is given as
   resonance this is exactly its Q (the half-power bandwidth is f0/Q:
   Horowitz & Hill, *The Art of Electronics*, 3rd ed., 2015, §1.7.14).
 
-Peaks are listed highest first. ``peak_hz`` (the figure ``fit`` aims at) is
-the highest peak's frequency, *blended* with any other peak close to it in
-height so that it moves continuously when two humps trade places::
-
-    peak_hz = exp( Σ w_k · ln f_k / Σ w_k ),
-    w_k = clip(1 − (H_max − H_k) / τ_k, 0, 1),   τ_k = TIE_DB · min(D_k / PROMINENCE_DB, 1)
-
-over every local maximum k in the band (H its height, H_max the highest
-peak's, D_k the depth of the dip between k and the highest peak); the
-highest peak's own weight is 1. A peak alone, or one more than
-:data:`TIE_DB` above the others, gives its own frequency exactly; two humps
-of equal height give their log-frequency midpoint; a hump growing out of a
-shoulder (D_k from 0) enters with weight 0, so nothing jumps. Both
-thresholds are our choice (common practice, no source).
+Peaks are listed highest first. The resonance (``peak_hz``, ``peak_db`` and
+``q``: the figures ``check``, ``summary.md``, the JSON and ``fit`` use) is the
+first listed peak, its frequency, height and Q exactly: a hump under the
+prominence cut never moves it. When two humps of near-equal height trade
+places, the resonance moves from one to the other; the list shows both.
+The threshold is our choice (common practice, no source).
 """
 
 from __future__ import annotations
@@ -43,7 +35,6 @@ import numpy as np
 from . import undefined as U
 
 PROMINENCE_DB = 0.5  # smallest prominence reported as a peak (common practice, no source)
-TIE_DB = 1.0  # peaks closer than this in height share peak_hz (common practice, no source)
 BAND_HZ = (1000.0, 20000.0)  # where peaks are looked for
 Q_MIN_HEIGHT_DB = 3.0  # a peak under this height re 1 kHz gets no Q
 
@@ -82,7 +73,7 @@ def peak_q(h_db: np.ndarray, f: np.ndarray, k: int, level_db: float, frequency_h
 
 
 def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tuple[list[dict], float, float]:
-    """The peaks of one response and its stable peak frequency.
+    """The peaks of one response and its resonance (the highest of them).
 
     Parameters
     ----------
@@ -97,8 +88,8 @@ def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tu
     (peaks, peak_hz, peak_db)
         ``peaks``: dicts (``frequency_hz``, ``height_db``, ``prominence_db``,
         ``q`` and, when ``q`` is None, ``q_reason``), highest first;
-        ``peak_hz`` the blended frequency (Hz) and ``peak_db`` the highest
-        peak's height (dB re 1 kHz); both NaN when there is no peak.
+        ``peak_hz`` (Hz) and ``peak_db`` (dB re 1 kHz): the first peak's
+        frequency and height; both NaN when there is no peak.
     """
     from scipy.signal import find_peaks
 
@@ -123,26 +114,15 @@ def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tu
         if q is None:
             p["q_reason"] = Q_LOW if height < Q_MIN_HEIGHT_DB else Q_EDGES
         peaks.append(p)
-    k_top, _, top, _ = max(shown, key=lambda c: c[2])
-    weights = []
-    for k, _, lk, _ in cands:
-        dip = lk - float(np.min(h_db[min(k, k_top) : max(k, k_top) + 1]))  # depth of the dip between it and the highest
-        tie = TIE_DB * min(dip / PROMINENCE_DB, 1.0)
-        weights.append(1.0 if k == k_top else (max(0.0, 1 - (top - lk) / tie) if tie > 0 else 0.0))
-    logf = np.log([c[1] for c in cands])
-    w = np.array(weights)
-    blended = peaks[0]["frequency_hz"] if np.count_nonzero(w) == 1 else float(np.exp(np.sum(w * logf) / np.sum(w)))
-    return peaks, blended, float(top - level_1k_db)
+    return peaks, peaks[0]["frequency_hz"], peaks[0]["height_db"]
 
 
 def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
     """The peaks of a figures record in words, or the reason there is none.
 
     One peak: ``"peak 4066 Hz, +4.94 dB, Q 1.47"``; several: ``"peaks 4702 Hz,
-    +5.10 dB, Q 2.10; 5301 Hz, …"`` (highest first), followed by
-    ``"; peak_hz 4990 Hz (blended)"`` when ``peak_hz`` stands apart from the
-    highest peak (humps of near-equal height). A peak with no Q says why in
-    words after its height.
+    +5.10 dB, Q 2.10; 5301 Hz, …"`` (highest first: the first is the
+    resonance). A peak with no Q says why in words after its height.
     """
     peaks = fig.get("peaks")
     if not peaks:
@@ -153,8 +133,4 @@ def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
         if q:
             text += f", Q {p['q']:.2f}" if p["q"] is not None else f", no Q ({p['q_reason']})"
         parts.append(text)
-    out = ("peak " if len(parts) == 1 else "peaks ") + "; ".join(parts)
-    top = peaks[0]["frequency_hz"]
-    if fig.get("peak_hz") is not None and abs(fig["peak_hz"] / top - 1) > 5e-4:
-        out += f"; peak_hz {fig['peak_hz']:.0f} Hz (blended with a hump of near-equal height)"
-    return out
+    return ("peak " if len(parts) == 1 else "peaks ") + "; ".join(parts)

@@ -63,8 +63,45 @@ def _interrupted(exc: BaseException | None) -> bool:
     return False
 
 
+class OneLineUsageError(click.ClickException):
+    """A usage error (unknown option, missing argument, bad value) as one line and exit code 1."""
+
+    exit_code = 1
+
+
+def _one_line(exc: click.UsageError) -> OneLineUsageError:
+    """``exc`` as ``…; see `render CMD --help``` on one line, the command path named from ``render``."""
+    names = []
+    ctx = exc.ctx
+    while ctx is not None:
+        names.append(ctx.info_name or "")
+        ctx = ctx.parent
+    path = " ".join(["render", *reversed(names[:-1])])
+    text = " ".join(exc.format_message().split()).replace(". (", " (").rstrip(".")
+    return OneLineUsageError(f"{text}; see `{path} --help`")
+
+
 class LazyGroup(click.Group):
-    """A click group whose subcommands are imported on first use."""
+    """A click group whose subcommands are imported on first use.
+
+    Every usage error below it, in any subcommand, is one line and exit code 1
+    (:func:`_one_line`); ``render`` alone prints the help.
+    """
+
+    def make_context(self, info_name, args, parent=None, **extra):
+        try:
+            return super().make_context(info_name, args, parent=parent, **extra)
+        except click.exceptions.NoArgsIsHelpError as exc:
+            click.echo(exc.ctx.get_help())
+            raise click.exceptions.Exit(0) from None
+        except click.UsageError as exc:
+            raise _one_line(exc) from None
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except click.UsageError as exc:
+            raise _one_line(exc) from None
 
     def main(self, *args, **kwargs):
         try:

@@ -9,7 +9,7 @@ import click
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option, warn
 
 
-def _floats(text, name, *, kind=None):
+def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
     from ..errors import InputError
     from ..units import QuantityError, parse_quantity
 
@@ -21,8 +21,39 @@ def _floats(text, name, *, kind=None):
         try:
             out.append(parse_quantity(part, kind) if kind is not None else float(part))
         except (ValueError, QuantityError):
-            raise InputError(f"{name}={text!r}: cannot read {part!r}; give a comma-separated list like 0.3,0.5,0.7") from None
+            raise InputError(f"{name}={text!r}: cannot read {part!r}; give a comma-separated list like {like}") from None
     return out
+
+
+def pluck_strength(text) -> float | None:
+    """``--strength`` in metres: one length with its unit (``2mm``).
+
+    A bare number is refused: the option is written in mm everywhere, so ``2``
+    most likely means 2 mm, while SI would read it as 2 m; the refusal names the
+    likely fix.
+    """
+    from ..errors import InputError
+    from ..units import LENGTH, QuantityError, parse_quantity
+
+    if text is None:
+        return None
+    shown = str(text).strip()
+    try:
+        bare = float(shown)
+    except ValueError:
+        bare = None
+    if bare is not None:
+        if 0 < bare <= 0.05:  # a length in metres, as SI reads it
+            fix = f"did you mean {bare * 1e3:g}mm? ({shown} read as metres)"
+        elif 0 < bare <= 50:  # mm typed without the unit: the likely habit
+            fix = f"did you mean {shown}mm? (bare, it would be {bare:g} m = {bare * 1e3:g} mm)"
+        else:
+            fix = "give it like 2mm (above 0, at most 50 mm)"
+        raise InputError(f"--strength={shown}: a pluck strength needs its unit; {fix}")
+    try:
+        return parse_quantity(shown, LENGTH)
+    except QuantityError:
+        raise InputError(f"--strength={shown!r}: cannot read it as a length; give the strongest pluck's displacement with its unit, like 2mm") from None
 
 
 def print_sweep(sw) -> None:
@@ -86,10 +117,10 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     from ..errors import InputError
     from ..io.folders import output_folder, refuse_existing
     from ..runs.bias import check_strength, write_bias_clips
-    from ..units import LENGTH, RESISTANCE
+    from ..units import RESISTANCE
 
     refuse_existing([json_path], overwrite=overwrite)
-    strength_m = _floats(strength, "--strength", kind=LENGTH)[0] if strength is not None else None
+    strength_m = pluck_strength(strength)
     out = dry = None
     if not no_clips:  # refuse before any work, so a refused run touches nothing
         out = output_folder(out_dir, overwrite=overwrite, prefix="bias")
@@ -99,8 +130,8 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     for w in check_strength(strength_m, dry if dry is not None else Path("phrase.toml")):
         warn(w)
     (design,), _ = load_designs([model], rig=rig_path)
-    kinds = {"tops": _floats(tops, "--top", kind=RESISTANCE), "bottoms": _floats(bottoms, "--bottom", kind=RESISTANCE)}
-    sw = bias_sweep(design, ratios=_floats(ratios, "--ratios"), **kinds, batteries=_floats(batteries, "--battery"), keep_load=keep_load, sine_velocity=sine_velocity, jobs=jobs)
+    kinds = {"tops": _floats(tops, "--top", kind=RESISTANCE, like="100k,220k"), "bottoms": _floats(bottoms, "--bottom", kind=RESISTANCE, like="100k,220k")}
+    sw = bias_sweep(design, ratios=_floats(ratios, "--ratios"), **kinds, batteries=_floats(batteries, "--battery", like="9,8,7"), keep_load=keep_load, sine_velocity=sine_velocity, jobs=jobs)
     for w in sw.warnings:
         warn(w)
     print_sweep(sw)

@@ -101,13 +101,11 @@ def clips_command(
 def read_strength(text, dry) -> float | None:
     """``--strength`` in metres, checked against the dry file (a phrase only) as ``render bias`` checks it; warnings printed."""
     from ..runs.bias import check_strength
-    from .bias import _floats
+    from .bias import pluck_strength
 
     if text is None:
         return None
-    from ..units import LENGTH
-
-    strength_m = _floats(text, "--strength", kind=LENGTH)[0]
+    strength_m = pluck_strength(text)
     for w in check_strength(strength_m, Path(dry)):
         warn(w)
     return strength_m

@@ -14,7 +14,7 @@ class CoilGroup(click.Group):
     """``render coil MODEL`` runs ``show``; ``render coil fit FILE`` fits a measurement."""
 
     def parse_args(self, ctx, args):
-        if args and args[0] not in SUBCOMMANDS and args[0] not in ("-h", "--help"):
+        if not args or (args[0] not in SUBCOMMANDS and args[0] not in ("-h", "--help")):
             args = ["show", *args]
         return super().parse_args(ctx, args)
 

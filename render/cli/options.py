@@ -5,11 +5,11 @@ from __future__ import annotations
 import functools
 import sys
 from collections.abc import Callable
-from typing import Any
+from typing import Any, TextIO, cast
 
 import click
 
-from ..errors import InputError
+from ..errors import InputError, PassiveGiven
 
 
 def friendly(fn: Callable[..., Any]) -> Callable[..., Any]:
@@ -19,10 +19,34 @@ def friendly(fn: Callable[..., Any]) -> Callable[..., Any]:
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         try:
             return fn(*args, **kwargs)
+        except PassiveGiven as exc:
+            raise click.ClickException(passive_refusal(exc, click.get_current_context())) from None
         except InputError as exc:
             raise click.ClickException(str(exc)) from None
 
     return wrapper
+
+
+def _takes_compare(cmd: click.Command) -> bool:
+    return any("--compare" in p.opts for p in cmd.params)
+
+
+def passive_refusal(exc: PassiveGiven, ctx: click.Context) -> str:
+    """The refusal of a passive file named as a design, with the fix this command offers."""
+    head = f'{exc.path}: a passive pickup (kind = "passive") has no preamp to render as a design'
+    if _takes_compare(ctx.command):
+        return f"{head}; name it with --compare {exc.path} instead"
+    from . import COMMANDS, main
+
+    root = click.Context(main)
+    others = [name for name in sorted(COMMANDS) if _takes_compare(main.get_command(root, name))]
+    names = []
+    while ctx.parent is not None:
+        names.append(ctx.info_name or "")
+        ctx = ctx.parent
+    here = " ".join(["render", *reversed(names)])
+    listed = ", ".join(others[:-1]) + f" and {others[-1]}" if len(others) > 1 else "".join(others)
+    return f"{head}, and {here} takes designs with one only; give a design with a preamp here (render {listed} take a passive pickup with --compare FILE)"
 
 
 def _sample_rate(ctx: click.Context, param: click.Parameter, value: int) -> int:
@@ -45,8 +69,25 @@ overwrite_option = click.option("--overwrite", is_flag=True, help="Replace outpu
 sample_rate_option = click.option("--sample-rate", type=int, default=48000, show_default=True, callback=_sample_rate, help="Output sample rate (Hz), 8000 to 384000.")
 
 
+_JSON_STDOUT = "render.json_stdout"
+
+
+def _json_to_stdout(ctx: click.Context, param: click.Parameter, value: str | None) -> str | None:
+    """With ``--json -``, standard output holds the JSON alone: the human lines go to stderr until the command ends."""
+    if value == "-" and _JSON_STDOUT not in ctx.meta:
+        stdout = sys.stdout
+        ctx.meta[_JSON_STDOUT] = stdout
+        sys.stdout = sys.stderr
+
+        def restore() -> None:
+            sys.stdout = stdout
+
+        ctx.call_on_close(restore)
+    return value
+
+
 def json_option(help_text: str = "Write the results as JSON to FILE ('-' for standard output).") -> Callable[[Any], Any]:
-    return click.option("--json", "json_path", type=click.Path(dir_okay=False), default=None, help=help_text)
+    return click.option("--json", "json_path", type=click.Path(dir_okay=False), default=None, callback=_json_to_stdout, help=help_text)
 
 
 def jobs_option(help_text: str, default: int | None = 1) -> Callable[[Any], Any]:
@@ -54,11 +95,14 @@ def jobs_option(help_text: str, default: int | None = 1) -> Callable[[Any], Any]
 
 
 def emit_json(path: str | None, payload: object, *, overwrite: bool) -> None:
-    """Write JSON to ``path`` atomically, or to standard output for '-'."""
+    """Write JSON to ``path`` atomically, or to standard output for '-' (the human lines then went to stderr)."""
     from ..io.atomic import json_text, write_json
 
     if path == "-":
-        sys.stdout.write(json_text(payload))
+        ctx = click.get_current_context(silent=True)
+        stdout = cast(TextIO, ctx.meta.get(_JSON_STDOUT, sys.stdout) if ctx is not None else sys.stdout)
+        stdout.write(json_text(payload))
+        stdout.flush()
     elif path:
         write_json(path, payload, overwrite=overwrite)
 

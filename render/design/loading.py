@@ -14,7 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from .. import units as U
-from ..errors import InputError
+from ..errors import InputError, PassiveGiven
 from ..io.hashing import sha256_bytes
 from ..io.toml import read_toml
 from ..validate import TOP_KEYS, check_document, read_table, where
@@ -165,9 +165,14 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     )
     bias = design.bias_v
     if not (design.limit_low_v + sup["knee"] < bias < design.limit_high_v - sup["knee"]):
+        from ..usual import likely_prefix, usual
+
+        odd = [(k, v) for k in ("bias_top", "bias_bottom") if not usual("input_b", k).holds(v := tables["input_b"][k])]  # type: ignore[union-attr]
+        fixes = [f'{k}="{p}"' for k, v in odd if (p := likely_prefix("input_b", k, v))]
+        fix = f"; did you mean {' and '.join(fixes)}?" if fixes else "; bring the two resistors closer to equal"
         raise InputError(
             f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
-            f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V; bring the two resistors closer to equal"
+            f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V{fix}"
         )
     return resolve(derive(design, construction), impedance_specs)
 
@@ -186,7 +191,7 @@ def load_design(path: str | Path) -> Design:
     """Load and validate one design file."""
     data, raw = read_toml(path)
     if isinstance(data, dict) and data.get("kind") == "passive":  # render.design.passive
-        raise InputError(f'{path}: a passive pickup (kind = "passive") has no preamp to render as a design; name it with --compare {path} instead')
+        raise PassiveGiven(path)
     return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw))
 
 

@@ -212,7 +212,7 @@ def test_watch_refuses_a_missing_file_in_one_line(tmp_path):
 
     res = CliRunner().invoke(main, ["watch", str(tmp_path / "nope.toml"), "--no-browser"])
     assert res.exit_code == 1 and res.output.strip().splitlines()[-1].startswith("Error: ") and "nope.toml" in res.output
-    assert CliRunner().invoke(main, ["watch"]).exit_code == 2  # a design is required
+    assert CliRunner().invoke(main, ["watch"]).exit_code == 1  # a design is required
 
 
 @pytest.mark.parametrize(("sig", "way"), [(signal.SIGTERM, "parent"), (signal.SIGHUP, "group"), (signal.SIGINT, "group")], ids=["SIGTERM-parent", "SIGHUP-group", "SIGINT-group"])

@@ -70,8 +70,11 @@ def test_refusals_are_one_line(change, words):
 
 
 def test_a_passive_file_named_as_a_design_is_refused_with_the_fix():
-    with pytest.raises(InputError, match="--compare"):
+    from render.errors import PassiveGiven
+
+    with pytest.raises(PassiveGiven, match="give a design with a preamp") as exc:  # the CLI words the fix per command
         load_design(DEMO)
+    assert exc.value.path == str(DEMO)
 
 
 def test_a_design_named_with_compare_is_refused():

@@ -102,9 +102,14 @@ def test_bad_inputs_exit_1_with_one_line_and_write_nothing(phrase, tmp_path):
     assert leftovers == []
 
 
-def test_usage_errors_exit_2(phrase):
-    assert run(phrase).exit_code == 2  # --out is required
-    assert run(phrase, "--out", "o.wav", "--seed", "many").exit_code == 2
+def test_usage_errors_exit_1(phrase):
+    from render.cli import main
+
+    def usage(*args):
+        return CliRunner().invoke(main, ["dry", *map(str, args)]).exit_code
+
+    assert usage(phrase) == 1  # --out is required
+    assert usage(phrase, "--out", "o.wav", "--seed", "many") == 1
 
 
 def test_seconds_option_sets_the_length(phrase, tmp_path):

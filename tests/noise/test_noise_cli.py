@@ -119,10 +119,12 @@ def test_bad_options_one_line_exit_1(args, fragment):
     assert len(lines) == 1 and fragment in lines[0], res.output
 
 
-def test_usage_errors_exit_2():
-    assert run(REF, "--temperature", "warm").exit_code == 2
-    assert run(REF, "--top", "0").exit_code == 2
-    assert run().exit_code == 2
+def test_usage_errors_one_line_exit_1():
+    from render.cli import main
+
+    for args in ((REF, "--temperature", "warm"), (REF, "--top", "0"), ()):
+        res = CliRunner().invoke(main, ["noise", *map(str, args)])
+        assert res.exit_code == 1 and len(res.output.strip().splitlines()) == 1, res.output
 
 
 def test_missing_and_bad_design(tmp_path):
