@@ -24,7 +24,6 @@ from __future__ import annotations
 
 import contextlib
 import datetime as _dt
-import hashlib
 import json
 import os
 import secrets
@@ -35,6 +34,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..io.atomic import fsync_folder
+from ..io.hashing import sha256_bytes
 from .dither import RECIPE as DITHER_RECIPE
 from .dither import STEP_24_BIT, tpdf_dither
 from .layout import KEY_FORMAT, METHODS, PLAN_FORMAT, SLOTS, VERSION, SessionPaths
@@ -159,7 +159,7 @@ def build_session(
         "seed": int(seed),
         "draws": "numpy.random.default_rng(seed): integers(0, 2, trials) for a, then (abx) integers(0, 2, trials) for x",
         "designs": designs,
-        "render_sha256": [hashlib.sha256(w).hexdigest() for w in renders],
+        "render_sha256": [sha256_bytes(w) for w in renders],
         "dither": {"kind": "TPDF", "peak": STEP_24_BIT, "full_scale": 1.0, "draws": DITHER_RECIPE},
         "clip_sha256": {},  # filled as the clips are written: name -> SHA-256 of that file
         "clip_bytes": len(renders[0]),
@@ -182,7 +182,7 @@ def build_session(
         for name in sorted(names):  # sorted random names: an order unrelated to the designs
             t, s = where[name]
             data = float_wav_bytes(matched[slot_design(t, s)] + tpdf_dither(n, seed=seed, trial=t["index"], slot=s), sample_rate)
-            clip_sha256[name] = hashlib.sha256(data).hexdigest()
+            clip_sha256[name] = sha256_bytes(data)
             _write_new_file(paths.public / name, data)
         if len(set(clip_sha256.values())) != len(clip_sha256):  # the dither vanished in float32 rounding
             raise InputError("two clip files came out byte-identical: the renders must stay within full scale ±1 for the dither to show; lower --true-peak-dbtp")
