@@ -158,3 +158,15 @@ def test_bias_jobs_equal_serial(tmp_path):
     for p in (tmp_path / "a").iterdir():
         if p.suffix == ".wav":
             assert p.read_bytes() == (tmp_path / "b" / p.name).read_bytes()
+
+
+def test_h2_at_the_centred_divider_falls_with_the_open_loop_gain():
+    # a finite open-loop gain A leaves the output's rest point off the window's centre by about
+    # bias / A, so the even harmonics at a centred divider scale as 1/A: H2 falls 20 dB per decade
+    # of A (first-order algebra of the loop). The README quotes these four figures, measured here at
+    # 1.4 × the upper onset: −79.6, −99.6, −119.7, −140.7 dB.
+    d = load_design(REF)
+    v = 1.4 * onset(d)["velocity_up_m_per_s"]
+    h2 = [sine_distortion(replace(d, supply=replace(d.supply, open_loop_gain=g)), velocity_peak=v)["h2_db"] for g in (1e4, 1e5, 1e6, 1e7)]
+    assert np.allclose(np.diff(h2), -20.0, atol=1.0), h2
+    assert np.allclose(h2, [-79.6, -99.6, -119.7, -140.7], atol=0.05), h2

@@ -15,6 +15,6 @@ def test_reference_design_matches_ngspice():
     wb = d.coil_b.signal_polarity * d.coil_b.sensitivity
     f, v = run_ac(active_netlist(d, wa=wa, wb=wb), ["amp"], [20, 20000])["amp"]
     h = design_responses([d]).velocity()(f)[0]
-    # tolerance from the engine's contract: 0.05 dB and 0.5 degrees against ngspice
-    assert np.max(np.abs(20 * np.log10(np.abs(h) / np.abs(v)))) < 0.05
-    assert np.max(np.abs(np.degrees(np.angle(h / v)))) < 0.5
+    # the engine's contract (README, opening paragraph): 0.001 dB and 0.01° against ngspice
+    assert np.max(np.abs(20 * np.log10(np.abs(h) / np.abs(v)))) < 0.001
+    assert np.max(np.abs(np.degrees(np.angle(h / v)))) < 0.01
