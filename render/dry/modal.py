@@ -232,9 +232,9 @@ def string_velocity(
 
 
 def _check_rate(sample_rate) -> float:
-    if isinstance(sample_rate, bool) or not isinstance(sample_rate, (int, np.integer)) or not 8000 <= sample_rate <= 384000:
-        raise InputError(f"sample_rate={sample_rate!r}: must be from 8000 to 384000 Hz (a whole number); 48000 is usual")
-    return float(sample_rate)
+    from ..validate import sample_rate as checked_rate
+
+    return float(checked_rate(sample_rate, name="sample_rate"))
 
 
 def _check_points(positions, apertures, scale_length: float) -> tuple[np.ndarray, np.ndarray]:

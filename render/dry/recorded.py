@@ -56,8 +56,9 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
     import soxr
 
     name = str(path)
-    if isinstance(sample_rate, bool) or not isinstance(sample_rate, (int, np.integer)) or not 1000 <= sample_rate <= 768000:
-        raise InputError(f"sample_rate={sample_rate!r}: must be a whole number of Hz from 1000 to 768000; 48000 is usual")
+    from ..validate import sample_rate as checked_rate
+
+    checked_rate(sample_rate, name="sample_rate")  # the render's rate: the one check of an output rate
     if isinstance(velocity_scale, bool) or not isinstance(velocity_scale, (int, float)) or not (math.isfinite(velocity_scale) and velocity_scale > 0):
         raise InputError(f"velocity_scale={velocity_scale!r}: must be a number > 0 (m/s at full scale)")
     if seconds is not None and not (isinstance(seconds, (int, float)) and 0 < seconds <= MAX_SECONDS):

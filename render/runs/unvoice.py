@@ -62,7 +62,7 @@ def _open_di(path: Path):
     """(sample_rate, frames) of a mono audio file, or InputError."""
     import soundfile as sf
 
-    from ..io.audio import audio_info
+    from ..io.audio import MAX_FILE_RATE, audio_info
 
     name = str(path)
     try:
@@ -75,8 +75,8 @@ def _open_di(path: Path):
         raise InputError(f"DI={name}: channels={info.channels}: a DI must be mono (one pickup output); export one channel")
     if info.frames < MIN_SECONDS * info.samplerate:
         raise InputError(f"DI={name}: {info.frames / info.samplerate:.3f} s: at least {MIN_SECONDS:g} s is needed to read its noise floor")
-    if not 8000 <= info.samplerate <= 768000:
-        raise InputError(f"DI={name}: sample_rate={info.samplerate}: must be from 8000 to 768000 Hz")
+    if not 8000 <= info.samplerate <= MAX_FILE_RATE:  # the velocity WAV keeps the DI's rate; below 8 kHz no pickup band is left
+        raise InputError(f"DI={name}: sample_rate={info.samplerate}: must be from 8000 to {MAX_FILE_RATE} Hz; resample the recording")
     if WAV_HEADER + 4 * info.frames >= 2**32:
         raise InputError(f"DI={name}: frames={info.frames}: the velocity WAV would pass 4 GiB; split the recording")
     return int(info.samplerate), int(info.frames)
