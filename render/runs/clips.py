@@ -430,6 +430,7 @@ def run_clips(
         peaks += [abs(cvolts).max()] if cvolts.size else []
         vfs = volts_full_scale or choose_full_scale(peaks)
         records = [clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry) for clip in clips]
+        search_limits(designs, records, dry, settings, jobs=jobs)
         add_brightness(records, designs, reference=ref)
         for stem, clip, rec in zip(stems, clips, records):
             write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
@@ -452,3 +453,29 @@ def _compare_files(compare, volts: np.ndarray, designs, records, ref: int, *, dr
     rec = compare_record(compare, volts, sample_rate=settings.sample_rate, dry=dry, settings=settings, volts_full_scale=volts_full_scale, reference=reference)
     write_compare_clip(compare, volts, rec, out, sample_rate=settings.sample_rate, volts_full_scale=volts_full_scale, plots=plots)
     return rec
+
+
+def _search_one(args: tuple):
+    from .limit_strength import search_limit_strength
+
+    design, dry, settings, strongest, margin = args
+    return search_limit_strength(design, dry, settings, strongest_m=strongest, margin_db=margin)
+
+
+def search_limits(designs: Sequence[Design], records: Sequence[dict], dry: Path, settings: RenderSettings, *, jobs: int = 1) -> None:
+    """For each design whose sensing is not linear in the pluck (a ``[construction]``), find where its limit is reached by
+    renders at scaled strength (:mod:`render.runs.limit_strength`), in ``jobs`` processes, and put it in its record's measurements."""
+    from ..analysis.headroom import from_record
+    from ..parallel import pmap
+
+    todo = []
+    for i, (d, rec) in enumerate(zip(designs, records)):
+        h = from_record(rec["measurements"])
+        if d.construction is not None and h is not None and h.strongest_pluck_m and h.margin_db is not None and Path(dry).suffix.lower() == ".toml":
+            todo.append((i, h))
+    if not todo:
+        return
+    found = pmap(_search_one, [(designs[i], Path(dry), settings, h.strongest_pluck_m, h.margin_db) for i, h in todo], jobs)
+    for (i, h), r in zip(todo, found):
+        searched = replace(h, searched=True, searched_strength_m=r.strength_m, searched_margin_db=r.margin_db, searched_renders=r.renders)
+        records[i]["measurements"].update(searched.record())
