@@ -24,9 +24,23 @@ CLIPS_NOTES = (
     "Limited: share of the op-amp output's samples inside the soft limit's knee or beyond.",
     BRIGHTNESS_NOTE,
 )
-BIAS_COLUMNS = ("bias", "headroom up / down", "onset up / down", "THD", "H2", "H3", "peak at amp input", "loudness")
+BIAS_COLUMNS = (
+    "bias",
+    "headroom up / down",
+    "onset up / down",
+    "phrase reaches the limit at, up / down",
+    "as dB above the phrase, up / down",
+    "phrase limited",
+    "THD",
+    "H2",
+    "H3",
+    "peak at amp input",
+    "loudness",
+)
 BIAS_NOTES = (
     "Onset: the string velocity (m/s peak, 1 kHz) at which the output first enters the soft limit on each side; THD, H2 and H3 of the test sine.",
+    "The phrase reaches the limit: where the op-amp output of the phrase played at this setting reaches the limit's onset on each side, as its strongest pluck"
+    " (mm, every pluck scaled alike) and as dB above the phrase as played; phrase limited: the share of its time the output stage was limited.",
     "Loudness per ITU-R BS.1770-4, in LUFS re 1 V full scale.",
 )
 
@@ -132,6 +146,20 @@ def compare_clip(folder: Path, p, rec: dict, *, volts_full_scale: float) -> Page
     )
 
 
+def played_cells(headroom: dict) -> tuple[str, str, str]:
+    """A phrase clip's headroom record (:meth:`render.analysis.headroom.PlayedHeadroom.record`) as the playing-units cells, as ``render bias`` prints them."""
+    from ..analysis.headroom import format_margin, format_share, format_strength, from_record
+
+    h = from_record(headroom)
+    if h is None:
+        return ("—", "—", "—")
+    return (
+        f"{format_strength(h.strength_at_limit_m('up'))} / {format_strength(h.strength_at_limit_m('down'))}",
+        f"{format_margin(h.margin_up_db)} / {format_margin(h.margin_down_db)}",
+        format_share(h.limited_fraction),
+    )
+
+
 def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
     """A bias setting's row and clip as the summary table's cells (:data:`BIAS_COLUMNS`)."""
     o, q = row["onset"], row["sine"]
@@ -139,6 +167,7 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
         f"{row['bias_v']:.2f} V",
         f"{row['headroom_up_v']:.2f} / {row['headroom_down_v']:.2f} V",
         f"{o['velocity_up_m_per_s']:.3f} / {o['velocity_down_m_per_s']:.3f} m/s",
+        *played_cells(clip.get("headroom") or {}),
         f"{q['thd_percent']:.2f} %",
         f"{q['h2_db']:.1f} dB",
         f"{q['h3_db']:.1f} dB",
