@@ -548,7 +548,7 @@
     for (const n of data.notes) { const li = document.createElement("li"); li.textContent = n; notes.appendChild(li); }
     const capped = entries().filter((d) => d.seconds < d.full_seconds);
     let text = "The page plays 16-bit copies of the clips (dithered); the WAV files beside it are the renders themselves, 32-bit float.";
-    if (data.live) text = "The page plays 16-bit copies of the renders (dithered), kept in memory by render watch; nothing is written to disk.";
+    if (data.live) text = "The page plays 16-bit copies of the renders (dithered), kept in memory by render watch; no clip is written to disk.";
     if (capped.length) text += " Clips longer than " + data.page_seconds + " s are cut to their first " + data.page_seconds + " s here (" + capped.map((d) => d.name).join(", ") + "); their loudness is still the whole clip's.";
     el("copies").textContent = text;
     body.dataset.capped = String(capped.length);
