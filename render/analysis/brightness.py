@@ -137,6 +137,49 @@ def brightness_records(designs, loudness_lufs, *, reference: int = 0, bands=BAND
     return out
 
 
+def other_record(response, loudness_lufs: float | None, *, reference_power_db: dict, reference_loudness_lufs: float | None, reference_name: str, bands=BANDS_HZ) -> dict:
+    """The figures of :func:`brightness_records` for a pickup outside the run's designs (a passive comparison pickup).
+
+    Parameters
+    ----------
+    response : callable
+        ``response(frequency_hz)`` -> complex array [shape=(1, F)], V per m/s.
+    loudness_lufs : float or None, LUFS
+        Its clip's loudness, on the same full scale as the reference's.
+    reference_power_db : dict
+        The reference design's :func:`band_power_db` per :func:`band_key`, dB.
+    reference_loudness_lufs : float or None, LUFS
+    reference_name : str
+    """
+    from . import undefined as U
+
+    at_1k = level_db(response, 1000.0)[0]
+    row: dict = {"reference_design": reference_name, "is_reference": False, "bands_hz": [list(b) for b in bands]}
+    for b in bands:
+        k = band_key(b)
+        power = band_power_db(response, b)[0]
+        with np.errstate(invalid="ignore"):
+            U.put(row, f"band_{k}_re_1k_db", power - at_1k, U.NO_SIGNAL)
+        if reference_loudness_lufs is None:
+            U.mark(row, f"matched_diff_{k}_db", NO_REFERENCE_LOUDNESS)
+        elif loudness_lufs is None:
+            U.mark(row, f"matched_diff_{k}_db", NO_LOUDNESS)
+        else:
+            with np.errstate(invalid="ignore"):
+                d = loudness_matched_difference_db(power, reference_power_db[k], gain_db=-loudness_lufs, reference_gain_db=-reference_loudness_lufs)
+            U.put(row, f"matched_diff_{k}_db", d, U.NO_SIGNAL)
+    return row
+
+
+def band_powers_db(designs, bands=BANDS_HZ) -> dict[str, np.ndarray]:
+    """Each design's :func:`band_power_db` per band (keyed by :func:`band_key`), arrays of shape (N,), dB re (1 V per m/s)²."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+
+    vel = responses(from_designs(list(designs))).velocity()
+    return {band_key(b): band_power_db(vel, b) for b in bands}
+
+
 def reference_index(designs, name: str | None) -> int:
     """The index of the design called ``name`` (its name or its file's stem); 0 when ``name`` is None."""
     from pathlib import Path

@@ -66,17 +66,16 @@ def compare_response(p: PassiveDesign, frequency_hz) -> np.ndarray:
     return design_responses([carrier(p)]).passive_velocity()(f)[0]
 
 
-def comparison(p: PassiveDesign, *, temperature: float = T_DEFAULT, reference_velocity: float = REFERENCE_VELOCITY) -> Comparison:
-    """Every figure of the passive pickup ``p`` (its rig already applied)."""
+def comparison_figures(p: PassiveDesign, resp=None) -> dict:
+    """The passive pickup's response figures and its hum rejection (:attr:`Comparison.figures`); ``resp``: its carrier's responses, if already computed."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
     from .figures import REJECTION_CAP_DB, figures, rejection_db
-    from .noise import noise_reports
 
     d = carrier(p)
-    resp = responses(from_designs([d]))
+    if resp is None:
+        resp = responses(from_designs([d]))
     fig = dict(figures([d], resp)[0]["passive"])
-    f, peaks = passive_hum_peaks(d, resp)
     zero = np.zeros(1)
     if d.hum.sources:
         from ..magnetics.pickup import design_emf
@@ -92,6 +91,19 @@ def comparison(p: PassiveDesign, *, temperature: float = T_DEFAULT, reference_ve
         U.mark(fig, "hum_rejection_db", U.HUM_CANCELS)
     else:
         U.put(fig, "hum_rejection_db", rej, U.HUM_CANCELS)
+    return fig
+
+
+def comparison(p: PassiveDesign, *, temperature: float = T_DEFAULT, reference_velocity: float = REFERENCE_VELOCITY) -> Comparison:
+    """Every figure of the passive pickup ``p`` (its rig already applied)."""
+    from ..circuit.engine import responses
+    from ..circuit.params import from_designs
+    from .noise import noise_reports
+
+    d = carrier(p)
+    resp = responses(from_designs([d]))
+    fig = comparison_figures(p, resp)
+    f, peaks = passive_hum_peaks(d, resp)
     (nr,) = noise_reports([d], temperature=temperature, reference_velocity=reference_velocity)
     floor = nr.passive
     scale = one_scale(

@@ -25,6 +25,11 @@ strongest pluck s would then be s·10^(g/20) (mm). The hum does not grow with
 the plucks; counting it as if it did errs by at most its own share of the
 excursion (a few millivolts against volts of headroom on the demo designs).
 
+A design with a ``[construction]`` senses the string through a field that is
+not linear in its displacement, so there the prediction above is only a
+first step: :mod:`render.runs.limit_strength` renders the phrase at scaled
+strength and finds s* where the margin is zero (``searched``).
+
 The share of time limited is the render's own count (oversampled steps with
 the output stage on a knee or a rail); it is printed without rounding to
 zero (:func:`format_share`).
@@ -35,12 +40,13 @@ No I/O; the numbers in, a frozen result out.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from . import undefined as U
 
 NO_EXCURSION = "the op-amp output never leaves its bias point on this side"
 NO_PLUCK = "what was played is not a phrase (no pluck strength to scale)"
+NOT_FOUND = "not found by rendering at scaled strength: the margin stops falling as the plucks grow (the strings leave the construction's computed flux range)"
 
 
 def margin_db(onset_v: float, excursion_v: float) -> float | None:
@@ -66,6 +72,14 @@ class PlayedHeadroom:
         Share of the render's oversampled steps with the output stage limited.
     strongest_pluck_m : float or None, m
         The phrase's strongest pluck (None for a recording or a bare signal).
+    searched : bool
+        The sensing is not linear in the pluck (a ``[construction]``), so where the limit is reached was
+        found by renders at scaled strength (:mod:`render.runs.limit_strength`), not from the margin.
+    searched_strength_m : float or None, m
+        That strongest pluck (None: not found).
+    searched_margin_db : float or None, dB
+        The smaller margin of the render at ``searched_strength_m`` (near 0).
+    searched_renders : int
     """
 
     onset_up_v: float
@@ -76,6 +90,19 @@ class PlayedHeadroom:
     margin_down_db: float | None
     limited_fraction: float
     strongest_pluck_m: float | None = None
+    searched: bool = False
+    searched_strength_m: float | None = None
+    searched_margin_db: float | None = None
+    searched_renders: int = 0
+
+    @property
+    def limit_db_above(self) -> float | None:
+        """How many dB above the phrase (its plucks scaled alike) the limit is reached: the smaller margin, or for a searched design 20·log10(s*/s)."""
+        if not self.searched:
+            return self.margin_db
+        if self.searched_strength_m is None or not self.strongest_pluck_m:
+            return None
+        return 20.0 * math.log10(self.searched_strength_m / self.strongest_pluck_m)
 
     @property
     def margin_db(self) -> float | None:
@@ -85,6 +112,8 @@ class PlayedHeadroom:
 
     def strength_at_limit_m(self, side: str | None = None) -> float | None:
         """The strongest pluck (m) at which the limit is reached, every pluck scaled alike (``side``: "up", "down" or None for the first)."""
+        if side is None and self.searched:
+            return self.searched_strength_m
         g = {"up": self.margin_up_db, "down": self.margin_down_db, None: self.margin_db}[side]
         if g is None or self.strongest_pluck_m is None:
             return None
@@ -100,10 +129,18 @@ class PlayedHeadroom:
         }
         U.put(out, "played_margin_up_db", self.margin_up_db, NO_EXCURSION)
         U.put(out, "played_margin_down_db", self.margin_down_db, NO_EXCURSION)
-        U.put(out, "limit_db_above_played", self.margin_db, NO_EXCURSION)
+        U.put(out, "limit_db_above_played", self.limit_db_above, NOT_FOUND if self.searched else NO_EXCURSION)
         U.put(out, "strongest_pluck_m", self.strongest_pluck_m, NO_PLUCK)
         for key, side in (("limit_strength_m", None), ("limit_strength_up_m", "up"), ("limit_strength_down_m", "down")):
-            U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else NO_EXCURSION)
+            U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else NOT_FOUND if self.searched and side is None else NO_EXCURSION)
+        if self.strongest_pluck_m is not None:
+            # "linear": s·10^(margin/20); "rendered": a render at limit_strength_m has the margin limit_strength_check_margin_db
+            out["limit_strength_method"] = "rendered" if self.searched else "linear"
+        if self.searched:
+            lin = replace(self, searched=False)
+            U.put(out, "limit_strength_linear_estimate_m", lin.strength_at_limit_m(), NO_EXCURSION)
+            U.put(out, "limit_strength_check_margin_db", self.searched_margin_db, NOT_FOUND)
+            out["limit_strength_renders"] = self.searched_renders
         out["clipped_fraction"] = self.limited_fraction
         out["limited"] = self.limited_fraction > 0
         return out
@@ -154,6 +191,10 @@ def from_record(m: dict) -> PlayedHeadroom | None:
         margin_down_db=m.get("played_margin_down_db"),
         limited_fraction=m["clipped_fraction"],
         strongest_pluck_m=m.get("strongest_pluck_m"),
+        searched=m.get("limit_strength_method") == "rendered",
+        searched_strength_m=m.get("limit_strength_m") if m.get("limit_strength_method") == "rendered" else None,
+        searched_margin_db=m.get("limit_strength_check_margin_db"),
+        searched_renders=int(m.get("limit_strength_renders", 0)),
     )
 
 

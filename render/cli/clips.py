@@ -84,11 +84,11 @@ def clips_command(
         report_from_di(made)
         dry = made.wav
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise, strength=strength_m)
-    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference)
-    if compared is not None:
-        from ..runs.compare_clip import compare_stem, write_compare_clip
+    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference, compare=compared)
+    if run.compare is not None:
+        from ..runs.compare_clip import compare_stem
 
-        rec = write_compare_clip(compared, dry, settings, out, volts_full_scale=run.volts_full_scale, plots=plots)
+        rec = run.compare
         if rec["peak_v"] > run.volts_full_scale:
             warn(f"{compared.name}: peak above the {run.volts_full_scale:g} V full scale; the float WAV keeps those samples, but many players clip them")
         from ..analysis.undefined import shown
@@ -120,14 +120,14 @@ def print_record_headroom(records) -> None:
     print_headroom(rows)
 
 
-def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None):
+def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None):
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     bar = click.progressbar(length=len(designs), label="rendering", file=sys.stderr, show_pos=True) if len(designs) > 1 else contextlib.nullcontext()
     with bar as shown:
-        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None, reference=reference)
+        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None, reference=reference, compare=compare)
     for w in run.warnings:
         warn(w)
     print_record_headroom(run.records)

@@ -13,7 +13,10 @@ def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  "
     lines = [f"{indent}{'':{width}s}  {'margin up / down':^19s}   {'limit reached at':^20s}   {'limited':>9s}"]
     for name, h in rows:
         strength = h.strength_at_limit_m()
-        reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength)} ({format_margin(h.margin_db)})"
+        if h.searched and strength is None:
+            reach = "not found"
+        else:
+            reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength)} ({format_margin(h.limit_db_above)})"
         margins = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
         lines.append(f"{indent}{name:{width}s}  {margins:19s}   {reach:^20s}   {format_share(h.limited_fraction):>9s}")
     return lines

@@ -2,7 +2,8 @@
 
 Prints the address, opens the browser (unless ``--no-browser``) and a line
 per re-render or refused file. Ctrl-C, SIGTERM and SIGHUP stop the watcher
-and the server; nothing is written to disk.
+and the server; no clip is written to disk (a design with a ``[construction]``
+keeps its field solve in the cache folder, :mod:`render.io.cache`).
 """
 
 from __future__ import annotations

@@ -24,9 +24,23 @@ CLIPS_NOTES = (
     "Limited: share of the op-amp output's samples inside the soft limit's knee or beyond.",
     BRIGHTNESS_NOTE,
 )
-BIAS_COLUMNS = ("bias", "headroom up / down", "onset up / down", "THD", "H2", "H3", "peak at amp input", "loudness")
+BIAS_COLUMNS = (
+    "bias",
+    "headroom up / down",
+    "onset up / down",
+    "phrase reaches the limit at, up / down",
+    "as dB above the phrase, up / down",
+    "phrase limited",
+    "THD",
+    "H2",
+    "H3",
+    "peak at amp input",
+    "loudness",
+)
 BIAS_NOTES = (
     "Onset: the string velocity (m/s peak, 1 kHz) at which the output first enters the soft limit on each side; THD, H2 and H3 of the test sine.",
+    "The phrase reaches the limit: where the op-amp output of the phrase played at this setting reaches the limit's onset on each side, as its strongest pluck"
+    " (mm, every pluck scaled alike) and as dB above the phrase as played; phrase limited: the share of its time the output stage was limited.",
     "Loudness per ITU-R BS.1770-4, in LUFS re 1 V full scale.",
 )
 
@@ -48,12 +62,21 @@ def read_head(path: Path, *, volts_full_scale: float, seconds: float = PAGE_SECO
     return np.asarray(x, dtype=float) * volts_full_scale, int(fs), int(info.frames)
 
 
-def write_clips_page(folder: Path, records: Sequence[dict], designs: Sequence, *, volts_full_scale: float, dry: str, rig: str, settings: dict, jobs: int = 1) -> tuple[Path, Path]:
-    """``index.html`` and ``index-clips.js`` for a ``render clips`` folder holding ``S.wav`` per design (``jobs``: processes)."""
+def write_clips_page(
+    folder: Path, records: Sequence[dict], designs: Sequence, *, volts_full_scale: float, dry: str, rig: str, settings: dict, jobs: int = 1, compare: tuple | None = None
+) -> tuple[Path, Path]:
+    """``index.html`` and ``index-clips.js`` for a ``render clips`` folder holding ``S.wav`` per design (``jobs``: processes).
+
+    compare : (PassiveDesign, its record) or None
+        A passive comparison pickup, whose ``S.wav`` is in the folder too: the page's last clip, labelled as such.
+    """
+    from ..analysis.brightness import BANDS_HZ, band_key, band_powers_db
+
     folder = Path(folder)
     curves = response_curves(designs)
+    power = band_powers_db(designs)
     clips = []
-    for rec, design, (resp, passive) in zip(records, designs, curves):
+    for i, (rec, design, (resp, passive)) in enumerate(zip(records, designs, curves)):
         stem = Path(design.source).stem
         volts, fs, n = read_head(folder / f"{stem}.wav", volts_full_scale=volts_full_scale)
         m = rec["measurements"]
@@ -71,15 +94,70 @@ def write_clips_page(folder: Path, records: Sequence[dict], designs: Sequence, *
                 warnings=tuple(rec.get("warnings", ())),
                 response=resp,
                 passive=passive,
+                band_power_db=tuple(float(power[band_key(b)][i]) for b in BANDS_HZ),
             )
         )
+    if compare is not None:
+        clips.append(compare_clip(folder, *compare, volts_full_scale=volts_full_scale))
     lede = (
         f"Dry signal {dry}; rig: {rig}; {settings['sample_rate']} Hz; seed {settings['seed']}; hum {'on' if settings['hum'] else 'off'};"
         f" noise {'on' if settings['noise'] else 'off'}; one full scale for every WAV: {volts_full_scale:g} V."
     )
     n = len(clips)
-    text = PageText(title=f"render clips: {n} design{'s' if n != 1 else ''}", lede=lede, columns=CLIPS_COLUMNS, notes=CLIPS_NOTES)
+    title = f"render clips: {len(designs)} design{'s' if len(designs) != 1 else ''}" + (f" and the comparison pickup {compare[0].name}" if compare is not None else "")
+    notes = CLIPS_NOTES + ((COMPARE_NOTE,) if compare is not None else ())
+    text = PageText(title=title, lede=lede, columns=CLIPS_COLUMNS, notes=notes, matched_column=len(CLIPS_COLUMNS) - 1)
     return write_page(folder, text, clips, volts_full_scale=volts_full_scale, jobs=jobs)
+
+
+COMPARE_NOTE = "The comparison pickup (--compare) is passive: no preamp, so no bias, headroom or limit, and no passive reference of its own."
+
+
+def compare_clip(folder: Path, p, rec: dict, *, volts_full_scale: float) -> PageClip:
+    """The passive comparison pickup ``p`` (its record ``rec``, its ``S.wav`` in ``folder``) as the page shows it."""
+    from ..analysis.brightness import BANDS_HZ, band_power_db
+    from ..analysis.comparison import compare_response
+    from ..design.passive import carrier
+    from ..report.clips import COMPARE_LABEL, compare_cells
+    from .page import RESPONSE_POINTS
+
+    stem = Path(p.source).stem
+    volts, fs, n = read_head(folder / f"{stem}.wav", volts_full_scale=volts_full_scale)
+    f = np.geomspace(20.0, 20000.0, RESPONSE_POINTS)
+    h = compare_response(p, f)
+
+    def response(x):
+        return compare_response(p, x)[None, :]
+
+    own = ("coil_a.", "coil_b.", "rig.", "hum.")  # the carrier's preamp is a placeholder, never shown
+    return PageClip(
+        key=stem,
+        name=f"{p.name} ({COMPARE_LABEL})",
+        volts=volts,
+        sample_rate=fs,
+        loudness_lufs_1v_full_scale=rec["loudness_lufs_1v_full_scale"],
+        cells=compare_cells(rec["measurements"]),
+        values=tuple(v for v in design_values(carrier(p)) if v[0].startswith(own)),
+        file=str(p.source),
+        full_samples=n,
+        response=(f, 20 * np.log10(np.maximum(np.abs(h), 1e-30))),
+        role="compare",
+        band_power_db=tuple(float(band_power_db(response, b)[0]) for b in BANDS_HZ),
+    )
+
+
+def played_cells(headroom: dict) -> tuple[str, str, str]:
+    """A phrase clip's headroom record (:meth:`render.analysis.headroom.PlayedHeadroom.record`) as the playing-units cells, as ``render bias`` prints them."""
+    from ..analysis.headroom import format_margin, format_share, format_strength, from_record
+
+    h = from_record(headroom)
+    if h is None:
+        return ("—", "—", "—")
+    return (
+        f"{format_strength(h.strength_at_limit_m('up'))} / {format_strength(h.strength_at_limit_m('down'))}",
+        f"{format_margin(h.margin_up_db)} / {format_margin(h.margin_down_db)}",
+        format_share(h.limited_fraction),
+    )
 
 
 def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
@@ -89,6 +167,7 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
         f"{row['bias_v']:.2f} V",
         f"{row['headroom_up_v']:.2f} / {row['headroom_down_v']:.2f} V",
         f"{o['velocity_up_m_per_s']:.3f} / {o['velocity_down_m_per_s']:.3f} m/s",
+        *played_cells(clip.get("headroom") or {}),
         f"{q['thd_percent']:.2f} %",
         f"{q['h2_db']:.1f} dB",
         f"{q['h3_db']:.1f} dB",

@@ -63,6 +63,11 @@ class PageClip:
         (frequency Hz, level dB re 1 V per m/s), string velocity to the amp input.
     passive : (np.ndarray, np.ndarray) or None
         The same for its passive reference.
+    role : str
+        ``"design"``, or ``"compare"`` for a passive comparison pickup (``--compare``), shown as such.
+    band_power_db : tuple of (float or None), dB re (1 V per m/s)²
+        The response's level in each of the page's bands (:func:`render.analysis.brightness.band_power_db`),
+        from which the page takes loudness-matched differences against whichever clip is its reference.
     """
 
     key: str
@@ -77,6 +82,8 @@ class PageClip:
     warnings: tuple[str, ...] = ()
     response: tuple[np.ndarray, np.ndarray] | None = None
     passive: tuple[np.ndarray, np.ndarray] | None = None
+    role: str = "design"
+    band_power_db: tuple[float | None, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -92,12 +99,16 @@ class PageText:
         Headings of the summary table after the design's name.
     notes : tuple of str
         Lines under the table (what the columns mean).
+    matched_column : int or None
+        The column (index into ``columns``) the page fills itself with each clip's loudness-matched band
+        differences against the reference chosen on the page (from ``band_power_db`` and the loudness).
     """
 
     title: str
     lede: str = ""
     columns: tuple[str, ...] = ()
     notes: tuple[str, ...] = field(default_factory=tuple)
+    matched_column: int | None = None
 
 
 @dataclass(frozen=True)
@@ -141,6 +152,9 @@ def design_assets(clip: PageClip) -> DesignAssets:
         "spectrum": _curve(f, db),
         "response": _curve(*clip.response) if clip.response is not None else None,
         "passive": _curve(*clip.passive) if clip.passive is not None else None,
+        "role": clip.role,
+        # band level less loudness, unrounded: the page's matched differences are then the run's to the last bit
+        "matched_level_db": [None if v is None or loud is None or not np.isfinite(v - loud) else float(v - loud) for v in clip.band_power_db],
     }
     return DesignAssets(entry=entry, copy=copy, levels=spectrogram_levels(head, sample_rate=fs))
 
@@ -184,6 +198,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         "lede": text.lede,
         "columns": list(text.columns),
         "notes": list(text.notes),
+        "matched_column": text.matched_column,
         "sample_rate": rates.pop(),
         "volts_full_scale": float(volts_full_scale),
         "ceiling_dbtp": -1.0,

@@ -123,7 +123,30 @@ def measurement_cells(m: dict) -> tuple[str, ...]:
     ) + brightness_cells(m)
 
 
-def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict, volts_full_scale: float) -> str:
+COMPARE_LABEL = "comparison pickup, passive"
+NO_PREAMP = "no preamp"
+
+
+def compare_cells(m: dict) -> tuple[str, ...]:
+    """A comparison pickup's ``measurements`` (:func:`render.runs.compare_clip.compare_record`) in the columns of
+    :func:`measurement_cells`: a passive pickup has no passive reference of its own, no bias, no headroom and nothing that limits."""
+    from .brightness import brightness_cells
+
+    return (
+        _resonance(m),
+        _cell(m, "q", ".2f"),
+        _cell(m, "level_1k_db", "+.1f", " dB"),
+        "—",
+        _cell(m, "hum_rejection_db", ".1f", " dB"),
+        NO_PREAMP,
+        NO_PREAMP,
+        f"{m['peak_v']:.3f} V",
+        _cell(m, "loudness_lufs_1v_full_scale", ".1f", " LUFS"),
+        NO_PREAMP,
+    ) + brightness_cells(m)
+
+
+def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict, volts_full_scale: float, compare: dict | None = None) -> str:
     lines = [
         "# render clips",
         "",
@@ -139,6 +162,8 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
     ]
     for r in records:
         lines.append(f"| {r['design']} | " + " | ".join(measurement_cells(r["measurements"])) + " |")
+    if compare is not None:
+        lines.append(f"| {compare['design']} ({COMPARE_LABEL}) | " + " | ".join(compare_cells(compare["measurements"])) + " |")
     lines += [
         "",
         "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale"
@@ -148,12 +173,20 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         "",
         *([f"{BRIGHTNESS_NOTE} Reference: {records[0]['measurements']['reference_design']}.", ""] if records and "reference_design" in records[0]["measurements"] else []),
     ]
+    if compare is not None:
+        stem = Path(compare["file"]).stem
+        lines += [
+            f"Comparison pickup (`--compare`): **{compare['design']}** ({compare['file']}) in `{stem}.wav`, the same dry signal at the same full scale;"
+            " passive, so it has no preamp: no bias, headroom or limit, and no passive reference of its own.",
+            "",
+        ]
     return "\n".join(lines)
 
 
-def write_run_files(out: Path, records, *, dry: str, rig: str, settings: dict, volts_full_scale: float) -> list[Path]:
-    """summary.md, one table of every design's measurements (responses.png is drawn with the response plots)."""
-    return [write_text(out / "summary.md", summary_markdown(records, dry=dry, rig=rig, settings=settings, volts_full_scale=volts_full_scale), overwrite=True)]
+def write_run_files(out: Path, records, *, dry: str, rig: str, settings: dict, volts_full_scale: float, compare: dict | None = None) -> list[Path]:
+    """summary.md, one table of every design's measurements, and the comparison pickup's row (``compare``: its record) (responses.png is drawn with the response plots)."""
+    text = summary_markdown(records, dry=dry, rig=rig, settings=settings, volts_full_scale=volts_full_scale, compare=compare)
+    return [write_text(out / "summary.md", text, overwrite=True)]
 
 
 def overlay_png(designs, *, curves=None) -> bytes:

@@ -43,6 +43,8 @@ class ClipsRun:
         One line each, prefixed with the design's name.
     over_full_scale : tuple of str
         Designs whose peak passes the full scale (float WAVs keep those samples).
+    compare : dict or None
+        The comparison pickup's JSON record (as written to its ``S.json``), when there is one.
     """
 
     folder: Path
@@ -52,6 +54,7 @@ class ClipsRun:
     seconds: float
     warnings: tuple[str, ...] = ()
     over_full_scale: tuple[str, ...] = ()
+    compare: dict | None = None
 
 
 def choose_full_scale(peaks, *, floor: float = 0.1) -> float:
@@ -334,6 +337,7 @@ def run_clips(
     volts_full_scale: float | None = None,
     progress: Callable[[int], None] | None = None,
     reference: str | None = None,
+    compare: Any = None,
 ) -> ClipsRun:
     """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png), and the comparison page (index.html).
 
@@ -357,6 +361,9 @@ def run_clips(
         Called with the number of designs done, as they finish.
     reference : str or None
         The design (name or file stem) the loudness-matched brightness differences are taken from (default: the first).
+    compare : PassiveDesign or None
+        A passive comparison pickup (``--compare``): its clip plays the same dry signal at the run's full scale,
+        with a row in summary.md and on the comparison page, beside the designs (:mod:`render.runs.compare_clip`).
     """
     from ..analysis.brightness import reference_index
     from ..compare.folders import write_clips_page
@@ -384,10 +391,16 @@ def run_clips(
 
                 for stem, rec in zip(stems, records):  # each S.json again, with the run's brightness figures
                     write_json(out / f"{stem}.json", rec, overwrite=True)
-                write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
-                write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs)
+                crec = None
+                if compare is not None:
+                    from .compare_clip import render_compare
+
+                    cvolts, _, _ = render_compare(compare, dry, settings)
+                    crec = _compare_files(compare, cvolts, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots)
+                write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs, compare=crec)
+                write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None)
                 warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
-                return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings)
+                return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings, compare=crec)
         # designs that sense the string at the same points share one synthesised dry signal; with
         # workers, a side process makes those, then draws the plots that need no render (every
         # S-response.png and responses.png), while this one imports the heavy modules the workers share
@@ -402,21 +415,67 @@ def run_clips(
         with SideProcess(enabled=parallel) as side:
             pending = {key: side.submit(dry_for, d, dry, settings) for key, d in firsts.items()}
             drawing = side.submit(write_design_only_plots, out, stems, designs) if plots else None
+            if compare is not None:
+                from .compare_clip import render_compare
+
+                compared = side.submit(render_compare, compare, dry, settings)
             if parallel:
                 import_for_workers(plots)
             shared = {key: fut.result() for key, fut in pending.items()}
             clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)], plots=plots, progress=progress)
             if drawing is not None:
                 drawing.result()
+            cvolts = compared.result()[0] if compare is not None else np.zeros(0)
         peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
+        peaks += [abs(cvolts).max()] if cvolts.size else []
         vfs = volts_full_scale or choose_full_scale(peaks)
         records = [clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry) for clip in clips]
+        search_limits(designs, records, dry, settings, jobs=jobs)
         add_brightness(records, designs, reference=ref)
         for stem, clip, rec in zip(stems, clips, records):
             write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
-        write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs)
-        write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs)
+        crec = _compare_files(compare, cvolts, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots) if compare is not None else None
+        write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs, compare=crec)
+        write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None)
         over = tuple(c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs)
         seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
         warnings = tuple(f"{c.design.name}: {w}" for c in clips for w in c.warnings)
-        return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=False, seconds=seconds, warnings=warnings, over_full_scale=over)
+        return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=False, seconds=seconds, warnings=warnings, over_full_scale=over, compare=crec)
+
+
+def _compare_files(compare, volts: np.ndarray, designs, records, ref: int, *, dry: Path, settings: RenderSettings, out: Path, volts_full_scale: float, plots: bool) -> dict:
+    """The comparison pickup's record (its brightness against the run's reference design) and files; returns the record."""
+    from ..analysis.brightness import band_powers_db
+    from .compare_clip import compare_record, write_compare_clip
+
+    power = {k: float(v[0]) for k, v in band_powers_db([designs[ref]]).items()}
+    reference = (designs[ref].name, power, records[ref]["measurements"]["loudness_lufs_1v_full_scale"])
+    rec = compare_record(compare, volts, sample_rate=settings.sample_rate, dry=dry, settings=settings, volts_full_scale=volts_full_scale, reference=reference)
+    write_compare_clip(compare, volts, rec, out, sample_rate=settings.sample_rate, volts_full_scale=volts_full_scale, plots=plots)
+    return rec
+
+
+def _search_one(args: tuple):
+    from .limit_strength import search_limit_strength
+
+    design, dry, settings, strongest, margin = args
+    return search_limit_strength(design, dry, settings, strongest_m=strongest, margin_db=margin)
+
+
+def search_limits(designs: Sequence[Design], records: Sequence[dict], dry: Path, settings: RenderSettings, *, jobs: int = 1) -> None:
+    """For each design whose sensing is not linear in the pluck (a ``[construction]``), find where its limit is reached by
+    renders at scaled strength (:mod:`render.runs.limit_strength`), in ``jobs`` processes, and put it in its record's measurements."""
+    from ..analysis.headroom import from_record
+    from ..parallel import pmap
+
+    todo = []
+    for i, (d, rec) in enumerate(zip(designs, records)):
+        h = from_record(rec["measurements"])
+        if d.construction is not None and h is not None and h.strongest_pluck_m and h.margin_db is not None and Path(dry).suffix.lower() == ".toml":
+            todo.append((i, h))
+    if not todo:
+        return
+    found = pmap(_search_one, [(designs[i], Path(dry), settings, h.strongest_pluck_m, h.margin_db) for i, h in todo], jobs)
+    for (i, h), r in zip(todo, found):
+        searched = replace(h, searched=True, searched_strength_m=r.strength_m, searched_margin_db=r.margin_db, searched_renders=r.renders)
+        records[i]["measurements"].update(searched.record())

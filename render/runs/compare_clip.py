@@ -38,17 +38,17 @@ def render_compare(p: PassiveDesign, dry: Path, settings: RenderSettings) -> tup
     return volts, fs, tuple(signal.warnings)
 
 
-def write_compare_clip(p: PassiveDesign, dry: Path, settings: RenderSettings, out: Path, *, volts_full_scale: float, plots: bool = True) -> dict:
-    """Render ``p`` into ``out``/<stem>.wav (at ``volts_full_scale``) and <stem>.json, with plots <stem>-response.png; returns the record.
+def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry: Path, settings: RenderSettings, volts_full_scale: float, reference: tuple[str, dict, float | None]) -> dict:
+    """The comparison clip's JSON record: the pickup, its render, and ``measurements`` with the designs' figures where a passive pickup has them.
 
-    A line for it is added at the end of the run's summary.md, when there is one.
+    reference : (name, band powers per band key (dB), loudness (LUFS re 1 V full scale) or None)
+        The run's reference design, for the loudness-matched brightness differences.
     """
+    from ..analysis import undefined as U
+    from ..analysis.brightness import other_record
+    from ..analysis.comparison import compare_response, comparison_figures
     from ..analysis.loudness import integrated_loudness
-    from ..io.atomic import write_json
-    from ..io.wav import write_float_wav
 
-    volts, fs, _ = render_compare(p, dry, settings)
-    stem = compare_stem(p)
     peak = float(np.max(np.abs(volts))) if volts.size else 0.0
     rec: dict = {
         "file": p.source,
@@ -61,10 +61,26 @@ def write_compare_clip(p: PassiveDesign, dry: Path, settings: RenderSettings, ou
         "peak_v": peak,
         "rms_v": float(np.sqrt(np.mean(volts**2))) if volts.size else 0.0,
     }
-    from ..analysis import undefined as U
+    U.put(rec, "loudness_lufs_1v_full_scale", integrated_loudness(volts, sample_rate=sample_rate), U.SILENT)
+    fig = comparison_figures(p)
+    m: dict = {}
+    for key, src in (("resonance_hz", "peak_hz"), ("resonance_db", "peak_db"), ("q", "q"), ("level_1k_db", "level_1k_db"), ("hum_rejection_db", "hum_rejection_db")):
+        U.put(m, key, fig.get(src), U.reason(fig, src))
+    m.update({"peak_v": peak, "rms_v": rec["rms_v"]})
+    U.put(m, "loudness_lufs_1v_full_scale", rec["loudness_lufs_1v_full_scale"], U.SILENT)
+    name, power, loud = reference
+    m.update(other_record(lambda f: compare_response(p, f)[None, :], rec["loudness_lufs_1v_full_scale"], reference_power_db=power, reference_loudness_lufs=loud, reference_name=name))
+    rec["measurements"] = m
+    return rec
 
-    U.put(rec, "loudness_lufs_1v_full_scale", integrated_loudness(volts, sample_rate=fs), U.SILENT)
-    write_float_wav(out / f"{stem}.wav", volts / volts_full_scale, fs, overwrite=True)
+
+def write_compare_clip(p: PassiveDesign, volts: np.ndarray, rec: dict, out: Path, *, sample_rate: int, volts_full_scale: float, plots: bool = True) -> None:
+    """``out``/<stem>.wav (at ``volts_full_scale``) and <stem>.json (``rec``, from :func:`compare_record`), with <stem>-response.png when ``plots``."""
+    from ..io.atomic import write_json
+    from ..io.wav import write_float_wav
+
+    stem = compare_stem(p)
+    write_float_wav(out / f"{stem}.wav", volts / volts_full_scale, sample_rate, overwrite=True)
     write_json(out / f"{stem}.json", rec, overwrite=True)
     if plots:
         from ..analysis.comparison import compare_response
@@ -73,13 +89,3 @@ def write_compare_clip(p: PassiveDesign, dry: Path, settings: RenderSettings, ou
 
         f = velocity_curves([carrier(p)])[0]
         response_plot(out / f"{stem}-response.png", f, [(f"{p.name} (passive, compared)", compare_response(p, f))], title=f"{p.name}: string velocity to amp input", overwrite=True)
-    summary = out / "summary.md"
-    if summary.exists():
-        from ..io.atomic import write_text
-
-        loud = U.shown(rec, "loudness_lufs_1v_full_scale", ".1f", " LUFS")
-        line = (
-            f"\nComparison pickup (passive, `--compare`): **{p.name}** ({p.source}) in `{stem}.wav`, at the same full scale: peak {peak:.3g} V at the amp input, loudness {loud} at 1 V full scale.\n"
-        )
-        write_text(summary, summary.read_text(encoding="utf-8") + line, overwrite=True)
-    return rec

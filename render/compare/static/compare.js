@@ -196,6 +196,23 @@
     return [diff, played].filter(Boolean).join(" \u00b7 ");
   }
 
+  // the loudness-matched band differences of d against the page's reference, as the run's table writes them
+  // (python's "+.1f"): (band level + matching gain) - (the reference's), the gain being -loudness;
+  // matched_level_db holds each band's level less the clip's loudness
+  function matchedText(d) {
+    const ref = entries()[S.reference];
+    if (d === ref) return "reference";
+    const p = d.matched_level_db || [], q = ref.matched_level_db || [];
+    if (!p.length || p.length !== q.length) return "\u2014";
+    const parts = p.map((v, k) => {
+      if (v === null || q[k] === null) return "\u2014";
+      const x = v - q[k];
+      const r = Math.abs(x).toFixed(1);
+      return (x < 0 ? "-" : "+") + r;
+    });
+    return parts.join(" / ") + (parts.every((t) => t === "\u2014") ? "" : " dB");
+  }
+
   function refreshLevels() {
     const lv = levels();
     for (const [id, g] of lv.gains) S.player.setGain(id, g.db);
@@ -210,7 +227,15 @@
       const g = lv.gains.get(d.clip);
       tr.lastChild.textContent = g ? (S.matched ? signed(g.change) : "true level") : "\u2014";
       tr.children[tr.children.length - 2].textContent = d.loudness === null || entries()[S.reference].loudness === null ? "\u2014" : signed(d.loudness - entries()[S.reference].loudness);
+      if (S.data.matched_column !== null && S.data.matched_column !== undefined) {
+        const cell = tr.children[2 + S.data.matched_column];
+        cell.textContent = matchedText(d);
+        cell.classList.add("matched");
+      }
     }
+    const th = el("summary").querySelectorAll("thead th")[2 + (S.data.matched_column === null || S.data.matched_column === undefined ? -99 : S.data.matched_column)];
+    if (th) th.title = "against " + entries()[S.reference].name + ", the reference chosen on this page";
+    body.dataset.reference = String(S.reference);
     el("heard-level").textContent = levelText(heardEntry(), lv);
     body.dataset.matched = String(S.matched);
     body.dataset.lowered = lv.lowered.toFixed(3);
@@ -331,8 +356,12 @@
     }
     const heard = heardEntry();
     for (const d of curves) {
-      if (d === entries()[S.picked]) continue;
+      if (d === entries()[S.picked] || d.role === "compare") continue;
       svg("path", { d: path(d.response[0], d.response[1], x, y), fill: "none", stroke: "#b8bcc6", "stroke-width": 1.2 }, box);
+    }
+    for (const d of curves) {  // the comparison pickup: always drawn, in its own colour and dash
+      if (d.role !== "compare" || d === entries()[S.picked]) continue;
+      svg("path", { d: path(d.response[0], d.response[1], x, y), fill: "none", stroke: "#2f7a5a", "stroke-width": 1.8, "stroke-dasharray": "2 3", class: "compare-curve" }, box);
     }
     if (heard.passive) svg("path", { d: path(heard.passive[0], heard.passive[1], x, y), fill: "none", stroke: "#a85a2f", "stroke-width": 1.6, "stroke-dasharray": "6 4" }, box);
     if (heard.response) svg("path", { d: path(heard.response[0], heard.response[1], x, y), fill: "none", stroke: "#1f2433", "stroke-width": 2.6 }, box);
@@ -437,7 +466,7 @@
     const range = spectrumRange();
     entries().forEach((d, i) => {
       const row = document.createElement("article");
-      row.className = "row";
+      row.className = d.role === "compare" ? "row compare" : "row";
       row.dataset.index = String(i);
       row.dataset.state = S.buffers.has(d.clip) ? "ready" : "waiting";
       const pick = document.createElement("button");
@@ -447,6 +476,7 @@
       const name = document.createElement("span"); name.className = "name"; name.textContent = d.name;
       const level = document.createElement("span"); level.className = "level";
       words.append(name, level);
+      if (d.role === "compare") { const tag = document.createElement("span"); tag.className = "role-tag"; tag.textContent = "passive comparison pickup: no preamp"; words.append(tag); }
       pick.append(key, words);
       pick.addEventListener("click", () => { pickDesign(i); pick.blur(); });
       const lane = document.createElement("div");
@@ -495,6 +525,7 @@
     entries().forEach((d, i) => {
       const tr = tb.insertRow();
       tr.dataset.index = String(i);
+      if (d.role === "compare") tr.className = "compare";
       for (const t of [i < 10 ? String((i + 1) % 10) : "", d.name].concat(d.cells, ["", ""])) tr.insertCell().textContent = t;
       tr.addEventListener("click", () => pickDesign(i));
     });
@@ -517,7 +548,7 @@
     for (const n of data.notes) { const li = document.createElement("li"); li.textContent = n; notes.appendChild(li); }
     const capped = entries().filter((d) => d.seconds < d.full_seconds);
     let text = "The page plays 16-bit copies of the clips (dithered); the WAV files beside it are the renders themselves, 32-bit float.";
-    if (data.live) text = "The page plays 16-bit copies of the renders (dithered), kept in memory by render watch; nothing is written to disk.";
+    if (data.live) text = "The page plays 16-bit copies of the renders (dithered), kept in memory by render watch; no clip is written to disk.";
     if (capped.length) text += " Clips longer than " + data.page_seconds + " s are cut to their first " + data.page_seconds + " s here (" + capped.map((d) => d.name).join(", ") + "); their loudness is still the whole clip's.";
     el("copies").textContent = text;
     body.dataset.capped = String(capped.length);

@@ -1,0 +1,104 @@
+"""Where the limit is reached when the sensing is not linear: renders at scaled pluck strength and a root find.
+
+:mod:`render.analysis.headroom` predicts the strongest pluck s* at which the
+op-amp output reaches the limit's onset from one render, s* = s·10^(m/20)
+(s the phrase's strongest pluck, m the smaller margin), which holds when every
+coil EMF is linear in the pluck. A design with a ``[construction]`` senses the
+string through its magnets' and steel's field (:mod:`render.magnetics.sensing`):
+the flux through a coil is not linear in the string's displacement, and a
+string that swings far enough leaves the computed flux table (its flux is then
+held at the table's edge). There the prediction is off (the demo
+slipway-steel-blades: 8.86 mm predicted, yet still +0.8 dB of margin at 8.86 mm).
+
+So for such a design the phrase is rendered again with every pluck scaled
+alike (:func:`render.runs.strength.phrase_at_strength`), and m(s), the smaller
+margin, is driven to zero by the secant method on log s (m is close to linear in
+log s, exactly so for linear sensing), starting from the phrase (s, m) and the
+linear prediction. It stops when |m| ≤ :data:`TOLERANCE_DB`; the strength found
+is then one whose own render has a margin within that tolerance of 0 dB. When
+m stops falling (the strings have left the computed flux range) or
+:data:`MOST_RENDERS` renders do not get there, no strength is claimed: the
+figure is None with its reason, and the linear prediction stays in the record
+as an estimate.
+
+Numerical method: secant iteration (e.g. Press et al., Numerical Recipes, 3rd
+ed., 2007, §9.2).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+TOLERANCE_DB = 0.1  # the margin at the strength found is within this of 0 dB
+MOST_RENDERS = 6
+STEP_MOST = math.log(2.0)  # the strength changes by at most a factor of 2 from one render to the next after the first
+
+
+@dataclass(frozen=True)
+class LimitSearch:
+    """The result of :func:`search_limit_strength`.
+
+    Attributes
+    ----------
+    strength_m : float or None, m
+        The strongest pluck at which the limit is reached (None: not found).
+    margin_db : float or None, dB
+        The smaller margin of the render at ``strength_m`` (within :data:`TOLERANCE_DB` of 0).
+    renders : int
+        Renders made.
+    trail : tuple of (float, float)
+        Every (strength m, margin dB) tried, the phrase's own first.
+    """
+
+    strength_m: float | None
+    margin_db: float | None
+    renders: int
+    trail: tuple[tuple[float, float], ...]
+
+
+def margin_at(design, dry_path: Path, settings, strength_m: float) -> float | None:
+    """The smaller played margin (dB) of ``design`` playing the phrase with its strongest pluck at ``strength_m`` (no noise: it does not move the extremes it is measured on)."""
+    from ..chain.stream import render_signal
+    from ..clip import render_headroom
+    from .clips import dry_for
+
+    s = replace(settings, strength=strength_m)
+    dry = dry_for(design, Path(dry_path), s)
+    r = render_signal(design, dry.velocity, sample_rate=dry.sample_rate, hum=settings.hum)
+    return render_headroom(design, r, strongest_pluck_m=strength_m).margin_db
+
+
+def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: float, margin_db: float, tolerance_db: float = TOLERANCE_DB, most: int = MOST_RENDERS) -> LimitSearch:
+    """The strongest pluck (m) at which ``design``'s op-amp output reaches the limit's onset, by renders at scaled strength.
+
+    Parameters
+    ----------
+    design : Design
+    dry_path : Path
+        A phrase (.toml).
+    settings : RenderSettings
+    strongest_m : float, m
+        The phrase's strongest pluck as rendered.
+    margin_db : float, dB
+        The smaller margin of that render.
+    """
+    trail = [(strongest_m, margin_db)]
+    if abs(margin_db) <= tolerance_db:
+        return LimitSearch(strongest_m, margin_db, 0, tuple(trail))
+    x0, m0 = math.log(strongest_m), margin_db
+    x1 = x0 + margin_db / 20.0 * math.log(10.0)  # the linear prediction
+    for n in range(1, most + 1):
+        m1 = margin_at(design, dry_path, settings, math.exp(x1))
+        if m1 is None:
+            break
+        trail.append((math.exp(x1), m1))
+        if abs(m1) <= tolerance_db:
+            return LimitSearch(math.exp(x1), m1, n, tuple(trail))
+        slope = (m1 - m0) / (x1 - x0)
+        if not slope < -0.5:  # dB per neper; linear sensing gives -8.7: a margin that barely falls has left the flux table
+            break
+        step = max(-STEP_MOST, min(STEP_MOST, -m1 / slope))  # no wild jumps where the margin bends
+        x0, m0, x1 = x1, m1, x1 + step
+    return LimitSearch(None, None, len(trail) - 1, tuple(trail))
