@@ -38,6 +38,25 @@ def density(frames: np.ndarray, window: np.ndarray, *, sample_rate: float) -> np
     return p
 
 
+def log_frequency_rows(frequency_hz: np.ndarray, rows_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """How a spectrogram's log-spaced rows read an FFT's bins: row r = level[lo[r]]·(1 − frac[r]) + level[lo[r] + 1]·frac[r].
+
+    Parameters
+    ----------
+    frequency_hz : np.ndarray [shape=(B,)], the bins' frequencies, ascending
+    rows_hz : np.ndarray [shape=(R,)], the rows' frequencies
+
+    Returns
+    -------
+    lo : np.ndarray [shape=(R,)], int, the bin at or below each row
+    frac : np.ndarray [shape=(R, 1)], 0..1, the row's place between ``lo`` and ``lo + 1``
+    """
+    f = np.asarray(frequency_hz, float)
+    lo = np.clip(np.searchsorted(f, rows_hz, side="right") - 1, 0, f.size - 2)
+    frac = np.clip((rows_hz - f[lo]) / (f[lo + 1] - f[lo]), 0.0, 1.0)[:, None]
+    return lo, frac
+
+
 class WelchSpectrum:
     """Welch's average of Hann periodograms with 50 % overlap, fed block by block.
 

@@ -70,11 +70,10 @@ class PageCopy:
 
 
 def pcm16_wav(codes: np.ndarray, *, sample_rate: int) -> bytes:
-    """A mono 16-bit PCM WAV of ``codes`` (int16), with no chunk but ``fmt `` and ``data``."""
-    data = np.asarray(codes, dtype="<i2").tobytes()
-    fmt = struct.pack("<HHIIHH", 1, 1, int(sample_rate), 2 * int(sample_rate), 2, 16)
-    body = b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"data" + struct.pack("<I", len(data)) + data
-    return b"RIFF" + struct.pack("<I", len(body)) + body
+    """A mono 16-bit PCM WAV of ``codes`` (int16): :func:`render.io.wav.pcm16_wav_bytes`."""
+    from ..io.wav import pcm16_wav_bytes
+
+    return pcm16_wav_bytes(codes, sample_rate=sample_rate)
 
 
 def page_copy(volts: np.ndarray, *, sample_rate: int, max_seconds: float = PAGE_SECONDS, full_samples: int | None = None) -> PageCopy:
@@ -151,14 +150,15 @@ def spectrogram_levels(volts: np.ndarray, *, sample_rate: int, columns: int = ST
     centres = ((np.arange(columns) + 0.5) * n / columns).astype(int)
     padded = np.concatenate([np.zeros(seg // 2), x, np.zeros(seg)])
     idx = centres[:, None] + np.arange(seg)[None, :]  # frame starts at centre - seg/2 in the padded signal
-    w = np.hanning(seg + 1)[:-1]
+    from ..analysis.spectrum import log_frequency_rows, periodic_hann
+
+    w = periodic_hann(seg)
     spec = np.fft.rfft(padded[idx] * w, axis=1)
     power = (spec.real**2 + spec.imag**2) * (2.0 / (sample_rate * np.sum(w * w)))
     level = 10 * np.log10(np.maximum(power, 1e-30)).T  # (bins, columns)
     f = np.fft.rfftfreq(seg, 1 / sample_rate)
     rows_hz = np.geomspace(STRIP_LOW_HZ, min(20000.0, sample_rate / 2), rows)
-    lo = np.clip(np.searchsorted(f, rows_hz, side="right") - 1, 0, f.size - 2)
-    frac = np.clip((rows_hz - f[lo]) / (f[lo + 1] - f[lo]), 0.0, 1.0)[:, None]
+    lo, frac = log_frequency_rows(f, rows_hz)
     return level[lo] * (1 - frac) + level[lo + 1] * frac
 
 

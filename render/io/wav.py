@@ -1,4 +1,4 @@
-"""WAV output: IEEE float32, no PEAK chunk and no timestamp, whole or streamed.
+"""WAV output: IEEE float32 (and the comparison page's 16-bit PCM), no PEAK chunk and no timestamp, whole or streamed.
 
 libsndfile adds a PEAK chunk with a write time to float WAVs, so two
 renders of the same thing would differ; this writer emits only the RIFF
@@ -64,6 +64,18 @@ def float_wav_header(frames: int, *, channels: int, sample_rate: int) -> bytes:
     fact = struct.pack("<I", frames)
     body_len = 4 + (8 + len(fmt)) + (8 + len(fact)) + (8 + data_bytes)
     return b"RIFF" + struct.pack("<I", body_len) + b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"fact" + struct.pack("<I", len(fact)) + fact + b"data" + struct.pack("<I", data_bytes)
+
+
+def pcm16_wav_bytes(codes: np.ndarray, *, sample_rate: int) -> bytes:
+    """A mono 16-bit PCM WAV (format tag 1) of ``codes`` (int16) as bytes, with no chunk but ``fmt `` and ``data``.
+
+    PCM needs no ``fact`` chunk (the same specification), so the bytes depend
+    only on the codes and the rate.
+    """
+    data = np.asarray(codes, dtype="<i2").tobytes()
+    fmt = struct.pack("<HHIIHH", 1, 1, int(sample_rate), 2 * int(sample_rate), 2, 16)
+    body = b"WAVE" + b"fmt " + struct.pack("<I", len(fmt)) + fmt + b"data" + struct.pack("<I", len(data)) + data
+    return b"RIFF" + struct.pack("<I", len(body)) + body
 
 
 def write_float_wav(path: str | Path, data: np.ndarray, sample_rate: int, *, overwrite: bool = False) -> Path:

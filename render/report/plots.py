@@ -280,13 +280,14 @@ def spectrogram_image(samples, *, sample_rate):
         x = np.concatenate([x, np.zeros(seg - x.size)])
     hop = max(seg // 4, -(-x.size // MAX_COLUMNS))
     starts = np.arange(0, max(x.size - seg, 0) + 1, hop)
-    w = np.hanning(seg + 1)[:-1]
+    from ..analysis.spectrum import log_frequency_rows, periodic_hann
+
+    w = periodic_hann(seg)
     f = np.fft.rfftfreq(seg, 1 / sample_rate)
     fmax = min(20000.0, sample_rate / 2)
     rows = np.geomspace(40.0, fmax, 320)
     # each row is a linear interpolation (in dB) between two neighbouring FFT bins
-    lo = np.clip(np.searchsorted(f, rows, side="right") - 1, 0, f.size - 2)
-    frac = np.clip((rows - f[lo]) / (f[lo + 1] - f[lo]), 0.0, 1.0)[:, None]
+    lo, frac = log_frequency_rows(f, rows)
     need = np.unique(np.concatenate([lo, lo + 1]))
     at = np.searchsorted(need, lo)
     scale = 2.0 / (sample_rate * np.sum(w * w))  # one-sided power density
