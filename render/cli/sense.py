@@ -34,7 +34,8 @@ def sense_command(model, json_path, png_path, overwrite):
 
     Prints each string's sensitivity (EMF per m/s of vertical motion, at the
     coil's input) and sideways (towards the treble side), its balance against the loudest string, the output with
-    the string pushed 3 and 6 mm towards the treble side (a bend), and the
+    the string pushed 3 and 6 mm towards the treble side (where a bend pushes
+    strings 4–6; strings 1–3 go towards the bass side), and the
     2nd and 3rd harmonics of the EMF for a 0.5 mm vertical vibration. The
     field solve takes seconds the first time and is cached.
     """

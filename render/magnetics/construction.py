@@ -241,8 +241,8 @@ def round_pole(name, x0, y0, diameter, top, h, chi, remanence, refine: float = 1
     # two rows of four, and one pair of columns on either side of them
     parts: list[Part] = [
         Part(f"{name} top", (x0 - side, y0 - 2 * side, top - slab), (x0 + side, y0 + 2 * side, top), chi, remanence, (2 * r, 4 * r, nz)),
-        Part(f"{name} top −x", (x0 - 2 * side, y0 - side, top - slab), (x0 - side, y0 + side, top), chi, remanence, (r, 2 * r, nz)),
-        Part(f"{name} top +x", (x0 + side, y0 - side, top - slab), (x0 + 2 * side, y0 + side, top), chi, remanence, (r, 2 * r, nz)),
+        Part(f"{name} top", (x0 - 2 * side, y0 - side, top - slab), (x0 - side, y0 + side, top), chi, remanence, (r, 2 * r, nz)),
+        Part(f"{name} top", (x0 + side, y0 - side, top - slab), (x0 + 2 * side, y0 + side, top), chi, remanence, (r, 2 * r, nz)),
     ]
     if h > slab * (1 + 1e-9):
         w = diameter * math.sqrt(math.pi) / 2.0
