@@ -12,8 +12,10 @@ feedback capacitor of "22n" instead of "22p" puts the feedback corner at
 - :func:`design_warnings`: one line per unlikely value of a loaded design
   (a network corner inside the band where it normally lies far outside it; a
   coil inductance or a resistor outside its usual range; a stage gain far
-  from an active pickup's), each naming the range, its origin, and the value
-  with the likely prefix (``series_r = "22"`` is most likely ``"22k"``).
+  from an active pickup's; a derived coil whose turns fill its winding's
+  section far from what wound coils do), each naming the range, its origin,
+  and the value with the likely prefix (``series_r = "22"`` is most likely
+  ``"22k"``).
 
 Every range here is marked as a rule of thumb ("common practice, no source")
 or as recalled ("from memory"); none is a refusal.
@@ -25,6 +27,11 @@ import math
 
 from . import units as U
 from .usual import COUPLING_CORNER_MAX_HZ, FEEDBACK_CORNER_MIN_HZ, STAGE_GAIN_RANGE, USUAL, Usual, likely_prefix, prefixed_alternatives, usual
+
+# Share of a winding's section its insulated wire takes (π·d_o²/4 per turn over height × mean
+# build): scatter-wound pickup coils to careful layer winding (common practice, no source); round
+# wire cannot pass 0.785 in square packing or 0.907 in hexagonal (geometry).
+WINDING_FILL = (0.4, 0.85)
 
 __all__ = ["COUPLING_CORNER_MAX_HZ", "FEEDBACK_CORNER_MIN_HZ", "STAGE_GAIN_RANGE", "USUAL", "Usual", "design_warnings", "likely_prefix", "prefixed_alternatives", "usual"]
 
@@ -106,6 +113,7 @@ def design_warnings(design) -> tuple[str, ...]:
             f"[output] coupling_c={U.format_si(cc, 'F')}: the output coupling corner into the controls is {U.format_si(c['output_hz'], 'Hz')}, inside the band;"
             f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
         )
+    out += fill_warnings(design)
     rng = USUAL[("coil", "inductance")]
     for name in ("coil_a", "coil_b"):
         ind = getattr(design, name).inductance
@@ -113,3 +121,25 @@ def design_warnings(design) -> tuple[str, ...]:
             fix = _fix_for(ind, rng.holds)
             out.append(f"[{name}] inductance={U.format_si(ind, 'H')}: outside the usual range for pickup coils ({rng.text('H')}){fix}")
     return tuple(out)
+
+
+def fill_warnings(design) -> list[str]:
+    """One line per derived coil whose turns fill its winding's section far more or less than wound coils do (:data:`WINDING_FILL`)."""
+    lo, hi = WINDING_FILL
+    out = []
+    for name in ("coil_a", "coil_b"):
+        c = getattr(design, name)
+        g, outer = c.geometry, getattr(getattr(c, "impedance_from", None), "wire_outer_diameter_m", None)
+        if g is None or outer is None:
+            continue
+        build = (g.build_x + g.build_y) / 2.0
+        per_turn = math.pi * outer**2 / 4.0
+        fill = g.turns * per_turn / (g.height * build)
+        if not lo <= fill <= hi:
+            n_lo, n_hi = (f * g.height * build / per_turn for f in WINDING_FILL)
+            out.append(
+                f"[{name}.geometry] turns={g.turns:g}: wire of {outer * 1e3:.3g} mm (insulated) fills {fill:.0%} of the winding's {g.height * 1e3:.3g} × {build * 1e3:.3g} mm section;"
+                f" wound coils fill {lo:.0%}–{hi:.0%} (common practice, no source), and the derived L, R and C take the turns as spread over the section;"
+                f" give {n_lo:.0f}–{n_hi:.0f} turns, another outline or another wire"
+            )
+    return out

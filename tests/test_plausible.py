@@ -138,3 +138,26 @@ def test_warnings_reach_stderr_and_the_json_of_check_and_clips(tmp_path):
     res = CliRunner().invoke(main, ["clips", str(p), "--seconds", "0.5", "--no-plots", "--out", str(tmp_path / "run")])
     assert res.exit_code == 0 and '"22p"' in res.stderr
     assert any('"22p"' in w for w in json.loads((tmp_path / "run" / "variant.json").read_text())["warnings"])
+
+
+def test_a_derived_coil_far_from_a_wound_fill_warns_once_per_coil():
+    # 1200 turns of AWG 42 (0.0635 mm bare, ASTM B258's gauge formula; insulated 1.127 × bare,
+    # render.design.coil_impedance) in a 9 mm × 5 mm section: N·π·d²/4 / (9 mm · 5 mm) = 0.107,
+    # far below the 40–85 % of wound coils (common practice, no source); AWG 35 (0.1426 mm bare)
+    # fills 0.54 and passes.
+    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    from render.design import parse_design
+    from render.io.toml import read_toml
+    from render.plausible import fill_warnings
+
+    data, _ = read_toml(Path(__file__).resolve().parents[1] / "models" / "slipway-magnet-blades.toml")
+    assert fill_warnings(parse_design(data, source="x.toml")) == []
+    for name in ("coil_a", "coil_b"):
+        data[name]["wire"] = 42
+    d = parse_design(data, source="x.toml")
+    warns = fill_warnings(d)
+    assert len(warns) == 2 and all("\n" not in w for w in warns)
+    outer = 0.0635e-3 * 1.127
+    expected = 1200 * math.pi * outer**2 / 4 / (9e-3 * 5e-3)
+    assert f"fills {expected:.0%}" in warns[0] and "40%–85%" in warns[0] and "common practice, no source" in warns[0]
+    assert any(w in design_warnings(d) for w in warns)

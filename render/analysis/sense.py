@@ -6,6 +6,8 @@ Per coil and per string, with the EMF as it drives the coil's input
 - ``string``: as guitarists number them (1 the highest);
 - ``sensitivity_v_s_per_m``: the EMF per m/s when the whole sensed length
   moves vertically (up positive);
+- ``sensitivity_lateral_v_s_per_m``: the EMF per m/s when it moves sideways
+  (towards +y, the treble side, positive);
 - ``along_x_m`` and ``along_weight``: the sensing function, at x from the
   bridge saddle (x_saddle = x + the mean of the two coils' positions), in
   V·s/m per metre of string;
@@ -21,7 +23,7 @@ import numpy as np
 
 from ..errors import InputError
 
-KEYS = ("string", "sensitivity_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db")
+KEYS = ("string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db")
 WEIGHT_STEP = 1e-3  # m, the sensing function is reported every millimetre (computed every 0.5 mm)
 
 
@@ -42,6 +44,7 @@ def sense_record(design) -> dict:
                 {
                     "string": int(s.string),
                     "sensitivity_v_s_per_m": pol * s.sensitivity_z,
+                    "sensitivity_lateral_v_s_per_m": pol * s.sensitivity_y,
                     "along_x_m": [float(v) for v in (s.x + result.x_offset)[::step]],
                     "along_weight": [float(v) for v in (pol * s.along_z)[::step]],
                     "lateral_offset_m": [float(v) for v in s.lateral],

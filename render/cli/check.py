@@ -67,6 +67,8 @@ def print_geometry(name, c):
         return
     mm = lambda x: f"{x * 1e3:.3g}"  # noqa: E731
     entered = f"entered {c.entered_turns_area:.3g} m²" if c.entered_turns_area is not None else "none entered"
+    if abs(c.turns_area - g.turns_area) > 1e-9 * g.turns_area:  # a construction's steel adds its share
+        entered += f"; with the steel {c.turns_area:.3g} m²"
     click.echo(
         f"  {name} geometry   {g.turns:.0f} turns, {mm(g.length)} × {mm(g.width)} mm outline, {mm(g.window_length)} × {mm(g.window_width)} mm window,"
         f" {mm(g.height)} mm high{' (from its winding)' if c.winding is not None else ''}: turns_area {g.turns_area:.3g} m² ({entered}), mean turn {mm(g.mean_turn)} mm"

@@ -130,6 +130,10 @@ def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots
         run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None, reference=reference, compare=compare)
     for w in run.warnings:
         warn(w)
+    from ..report.clips import pickup_notes
+
+    for note in pickup_notes(run.records):
+        click.echo(f"note: {note}")
     print_record_headroom(run.records)
     if run.over_full_scale:
         warn(f"{', '.join(run.over_full_scale)} peak above the {run.volts_full_scale:g} V full scale; the float WAVs keep those samples, but many players clip them")

@@ -14,12 +14,12 @@ def print_record(rec: dict) -> None:
     click.echo(f"{rec['design']}  ({rec['file']})")
     for name, rows in rec["coils"].items():
         bal = balance_db(rows)
-        click.echo(f"  {name}   string  V·s/m     balance  pushed 3 mm  6 mm     H2 dB   H3 dB   (0.5 mm vertical sine)")
+        click.echo(f"  {name}   string  V·s/m     sideways  balance  pushed 3 mm  6 mm     H2 dB   H3 dB   (0.5 mm vertical sine)")
         for r, b in zip(rows, bal):
             lat = dict(zip((round(x * 1e4) for x in r["lateral_offset_m"]), r["lateral_db"]))
             click.echo(
-                f"           {r['string']:>6d}  {r['sensitivity_v_s_per_m']:+.4f}  {b:+6.1f} dB  {lat.get(30, float('nan')):+6.2f} dB  {lat.get(60, float('nan')):+6.2f} dB"
-                f"  {r['h2_db']:6.1f}  {r['h3_db']:6.1f}"
+                f"           {r['string']:>6d}  {r['sensitivity_v_s_per_m']:+.4f}  {r['sensitivity_lateral_v_s_per_m']:+.4f}  {b:+6.1f} dB  {lat.get(30, float('nan')):+6.2f} dB"
+                f"  {lat.get(60, float('nan')):+6.2f} dB  {r['h2_db']:6.1f}  {r['h3_db']:6.1f}"
             )
 
 
@@ -33,8 +33,9 @@ def sense_command(model, json_path, png_path, overwrite):
     """What MODEL's [construction] senses, per coil and per string.
 
     Prints each string's sensitivity (EMF per m/s of vertical motion, at the
-    coil's input), its balance against the loudest string, the output with
-    the string pushed 3 and 6 mm towards the treble side (a bend), and the
+    coil's input) and sideways (towards the treble side), its balance against the loudest string, the output with
+    the string pushed 3 and 6 mm towards the treble side (where a bend pushes
+    strings 4–6; strings 1–3 go towards the bass side), and the
     2nd and 3rd harmonics of the EMF for a 0.5 mm vertical vibration. The
     field solve takes seconds the first time and is cached.
     """

@@ -12,7 +12,10 @@ turns in space, which also derives its ``turns_area``), and the coils'
   EMF per m/s of a string of average output moving up as a whole;
 - ``aperture`` is the RMS width of the vertical sensing function times √12
   (a rectangular window of that width has the same second moment), a
-  figure for the reader; the dry synthesis uses the sensing function itself.
+  figure for the reader; the dry synthesis uses the sensing function itself;
+- ``turns_area`` (the one-number room's flux linkage per tesla along z)
+  includes the steel's share (:mod:`render.magnetics.coil_steel`), as every
+  hum source's coupling does.
 
 The field solve takes seconds; its result is kept in memory and on disk
 (:mod:`render.io.cache`), keyed by a hash of the construction, the coils'
@@ -222,6 +225,12 @@ def sensing(design):
     return _sensing(build, float(design.coil_a.position), float(design.coil_b.position))
 
 
+def steel_responses(design) -> tuple:
+    """Each coil's :class:`~render.magnetics.coil_steel.SteelResponse` (its hum pickup with the steel), or (None, None) without a construction."""
+    result = sensing(design)
+    return (None, None) if result is None else result.steel
+
+
 def derived_figures(result, hum_polarity: int, coil: str) -> dict:
     """sensitivity (V·s/m), signal_polarity and aperture (m) of one coil from its sensing."""
     strings = result.coil(coil)
@@ -253,9 +262,10 @@ def derive(design, construction: Construction | None):
     except InputError as exc:
         raise InputError(f"{design.source or design.name}: {exc}") from None
     coils = {}
-    for name in ("coil_a", "coil_b"):
+    for name, steel in zip(("coil_a", "coil_b"), result.steel):
         c = getattr(design, name)
-        coils[name] = replace(c, **derived_figures(result, c.hum_polarity, name))
+        # the one-number room's field is along z: its flux linkage per tesla is the z part of the turns-area vector, steel included
+        coils[name] = replace(c, turns_area=float(c.geometry.turns_area + steel.turns_area[2]), **derived_figures(result, c.hum_polarity, name))
     return replace(design, **coils)
 
 

@@ -17,8 +17,7 @@ the other coil count too (they are weakly in this coil's field).
 The frequency dependence of each part's share is the 1-D diffusion solution
 of :mod:`render.impedance.eddy` (a blade or bar as a slab across its
 thinnest side, a screw as a cylinder), diluted by its demagnetising factor
-(Aharoni 1998, the screw as the square prism of equal section, as the solve
-takes it). The part's fill (eq. (2) of :mod:`.eddy`) is the one that makes
+(Aharoni 1998, the screw as the square prism of its section and height). The part's fill (eq. (2) of :mod:`.eddy`) is the one that makes
 its DC rise equal eq. (1):
 
     fill = ΔL / (L_air · (μ_app(0) − 1)),
@@ -48,7 +47,7 @@ from scipy.constants import mu_0
 from .eddy import CorePart, apparent_permeability, prism_demagnetising_factor
 from .materials import ALNICO, FERRITE, NDFEB, STEEL, Material
 
-VERSION = 1  # bump when eq. (1)'s numbers change, so cached results are recomputed
+VERSION = 2  # bump when eq. (1)'s numbers change, so cached results are recomputed
 MIN_SHARE = 1e-6  # a part adding less than this share of the air-core inductance is left out
 
 
@@ -131,8 +130,10 @@ def part_rises(construction, geometry_a, geometry_b, *, position_a: float, posit
             hi = np.max([e[1] for e in extent[key]], axis=0)
             dims = tuple(float(v) for v in hi - lo)
             magnet = "magnet" in key
-            if " pole " in key:  # a screw, solved as the square prism of equal section
-                shape, size = "cylinder", dims[0] * 2.0 / math.sqrt(math.pi)
+            if " pole " in key:  # a screw: for its eddy currents, the square prism of its section and height
+                side = math.sqrt(sum(float(np.prod(h - lo_)) for lo_, h in extent[key]) / dims[2])
+                dims = (side, side, dims[2])
+                shape, size = "cylinder", side * 2.0 / math.sqrt(math.pi)
             else:
                 shape, size = "slab", min(dims)
             items.append(PartRise(key, rise, shape, size, dims, magnet))

@@ -11,6 +11,8 @@ towards the treble side, z up towards the strings.
 - :mod:`.coil` a coil's turns in space: the rectangular winding of a
   bobbin, its quadrature by filaments, its own field at 1 A, and its flux
   linkage from a dipole (by reciprocity) or a uniform field;
+- :mod:`.coil_steel` what a construction's steel and magnets add to a
+  coil's flux linkage from outside sources (its hum pickup with the steel);
 - :mod:`.hum` hum sources (dipoles, uniform fields) and each coil's hum EMF,
   as phasors per mains harmonic and as samples;
 - :mod:`.rejection` what the design's networks make of those EMFs: the

@@ -60,6 +60,7 @@ along the string (the one shape figure the winding does not carry).
 from __future__ import annotations
 
 from dataclasses import InitVar, dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -228,12 +229,16 @@ class PlacedCoil:
     turns_area : m², the geometry's derived value or the entered one
     geometry : the winding, or None for a point coil
     nodes : quadrature nodes (across the build, along the height)
+    steel : the construction's steel and magnets answering this coil at 1 A
+        (:class:`~render.magnetics.coil_steel.SteelResponse`), added to what it
+        links from outside sources; None for a coil in air
     """
 
     centre: tuple
     turns_area: float
     geometry: CoilGeometry | None = None
     nodes: tuple = DEFAULT_NODES
+    steel: Any = None
     _vertices: np.ndarray | None = field(default=None, init=False, repr=False)
     _currents: np.ndarray | None = field(default=None, init=False, repr=False)
 
@@ -271,11 +276,23 @@ class PlacedCoil:
         axis = np.asarray(axis, float)
         if self.geometry is None:
             return self.turns_area * dipole_field(axis, at, np.asarray(self.centre))[..., 2]
-        return np.einsum("...i,...i->...", axis, self.field_per_amp(at))
+        b = self.field_per_amp(at)
+        if self.steel is not None:
+            b = b + self.steel.field(at)
+        return np.einsum("...i,...i->...", axis, b)
+
+    @property
+    def turns_area_vector(self) -> np.ndarray:
+        """Flux linkage (Wb) per tesla of a uniform field along x, y, z: (0, 0, turns_area) plus the steel's share, shape (3,), m²."""
+        v = np.array([0.0, 0.0, self.turns_area])
+        return v if self.steel is None else v + self.steel.turns_area
 
     def uniform_linkage(self, axis) -> np.ndarray:
-        """Flux linkage (Wb) along +z per tesla of a uniform field along ``axis``: turns_area·axis_z."""
-        return self.turns_area * np.asarray(axis, float)[..., 2]
+        """Flux linkage (Wb) along +z per tesla of a uniform field along ``axis``: turns_area_vector·axis (turns_area·axis_z in air)."""
+        axis = np.asarray(axis, float)
+        if self.steel is None:
+            return self.turns_area * axis[..., 2]
+        return np.einsum("...i,i->...", axis, self.turns_area_vector)
 
     def inside(self, points) -> np.ndarray:
         """True where a point lies within the coil's outline box (where a dipole cannot sit), shape (...)."""
@@ -292,17 +309,18 @@ def coil_centres(position_a: float, position_b: float) -> tuple[tuple, tuple]:
     return (float(position_a) - mean, 0.0, 0.0), (float(position_b) - mean, 0.0, 0.0)
 
 
-def placed_coil(spec, *, centre, nodes=DEFAULT_NODES) -> PlacedCoil:
-    """A :class:`PlacedCoil` from a :class:`CoilGeometry` or from a turns_area (m², a point coil)."""
+def placed_coil(spec, *, centre, nodes=DEFAULT_NODES, steel=None) -> PlacedCoil:
+    """A :class:`PlacedCoil` from a :class:`CoilGeometry` or from a turns_area (m², a point coil); ``steel`` as :class:`PlacedCoil`'s."""
     if isinstance(spec, CoilGeometry):
-        return PlacedCoil(centre=centre, turns_area=spec.turns_area, geometry=spec, nodes=tuple(nodes))
+        return PlacedCoil(centre=centre, turns_area=spec.turns_area, geometry=spec, nodes=tuple(nodes), steel=steel)
     return PlacedCoil(centre=centre, turns_area=_positive("[coil]", "turns_area", spec), geometry=None, nodes=tuple(nodes))
 
 
-def coil_pair(a, b, *, position_a: float, position_b: float, nodes=DEFAULT_NODES) -> tuple[PlacedCoil, PlacedCoil]:
+def coil_pair(a, b, *, position_a: float, position_b: float, nodes=DEFAULT_NODES, steel=(None, None)) -> tuple[PlacedCoil, PlacedCoil]:
     """Both coils placed from their positions (m from the bridge saddle).
 
     a, b : :class:`CoilGeometry`, or a turns_area in m² (a point coil)
+    steel : each coil's :class:`~render.magnetics.coil_steel.SteelResponse`, or None (in air)
     """
     ca, cb = coil_centres(position_a, position_b)
-    return placed_coil(a, centre=ca, nodes=nodes), placed_coil(b, centre=cb, nodes=nodes)
+    return placed_coil(a, centre=ca, nodes=nodes, steel=steel[0]), placed_coil(b, centre=cb, nodes=nodes, steel=steel[1])

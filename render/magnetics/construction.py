@@ -17,11 +17,13 @@ the default ``signal_polarity`` of +1 for coil_a and −1 for coil_b of designs
 without a construction. The pole pieces'
 (blades', screws', standing magnets') top faces sit at z = ``top`` (0 unless
 given); a bar magnet under the coils touches the steel's bottom faces, and
-is centred under the pickup. A screw is modelled as a square steel prism of
-the screw's cross-section (side d·√π/2): the cells of the solver
-(:mod:`.steel`) are boxes, and at the strings' height the shape of a 4 mm
-pole's corners changes the field by far less than the screw's thread and
-slot do (our estimate, no source).
+is centred under the pickup. A screw is round: the cells of the solver
+(:mod:`.steel`) are boxes, so it is cut into twelve square columns of its
+cross-section's area (:func:`round_pole`); the same cut of a cylinder magnet
+is checked against the closed form of its field on its axis (Derby & Olbert,
+Am. J. Phys. 78(3), 2010) in the tests. At the strings' height the columns'
+steps change the field by less than the screw's thread and slot do (our
+estimate, no source).
 
 The strings run along x, their spread centred on y = 0, lowest string at
 −y (the bass side). Their magnetic cross-section is the core plus a share
@@ -62,7 +64,7 @@ STEEL_PERMEABILITY = STEEL.relative_permeability
 STRING_PERMEABILITY = 100.0
 WRAP_SHARE = 0.5
 CLEARANCE = 1.0e-3  # m, the least gap between a string at rest and the pole pieces' tops
-MODEL_VERSION = 1  # bump when the model's numbers change, so cached results are recomputed
+MODEL_VERSION = 2  # bump when the model's numbers change, so cached results are recomputed
 
 # Cell sizes of the solve (m): finer near the top faces, where the strings look.
 TOP_SLAB = 3e-3  # height of the finely cut top slab of each pole piece
@@ -187,12 +189,11 @@ class Construction:
             else:
                 assert self.steel is not None
                 d, _, h = self.steel
-                side = d * math.sqrt(math.pi) / 2.0
-                span = (self.poles - 1) * self.pole_spacing + side
-                _fits(name, geom, side, span)
+                span = (self.poles - 1) * self.pole_spacing + d
+                _fits(name, geom, d, span)
                 for i in range(self.poles):
                     y = (i - (self.poles - 1) / 2.0) * self.pole_spacing
-                    out += _stack(f"{name} pole {i + 1}", x0, y, side, side, self.top, h, chi_s, (0.0, 0.0, 0.0), refine)
+                    out += round_pole(f"{name} pole {i + 1}", x0, y, d, self.top, h, chi_s, (0.0, 0.0, 0.0), refine)
         if self.kind != "magnet-blades":
             assert self.steel is not None
             w, length, h = self.magnet
@@ -219,6 +220,34 @@ def _fits(name: str, geom: CoilGeometry, width: float, length: float) -> None:
 
 def _count(size, cell, refine: float) -> tuple:
     return tuple(max(1, int(math.ceil(s / c * refine - 1e-9))) for s, c in zip(size, cell))
+
+
+def round_pole(name, x0, y0, diameter, top, h, chi, remanence, refine: float = 1.0) -> list[Part]:
+    """A round pole piece (a screw, or a cylinder magnet) standing with its top face at ``top``, as square columns.
+
+    The top slab (where the strings look; :data:`TOP_SLAB` deep) is the 4 × 4
+    grid of columns of side d·√(π/48) without its four corners: twelve
+    columns of the circle's area π·d²/4, within 2 % of its diameter, each cut
+    as :func:`_stack` cuts a slab. Below it the body is a square prism of the
+    same area (side d·√π/2), cut as a pole's body: its shape matters little
+    that far below the strings, and its cells are few.
+    x0, y0 : m, the axis; diameter, h : m; chi : χ; remanence : (Jx, Jy, Jz), T
+    """
+    slab = min(h, TOP_SLAB)
+    side = diameter * math.sqrt(math.pi / 48.0)
+    nz = _count((side, side, slab), CELL_TOP, refine)[2]
+    r = int(math.ceil(refine - 1e-9))  # columns split further when refined
+    # the twelve columns as three blocks of equal cells (fewer blocks: a faster solve): the middle
+    # two rows of four, and one pair of columns on either side of them
+    parts: list[Part] = [
+        Part(f"{name} top", (x0 - side, y0 - 2 * side, top - slab), (x0 + side, y0 + 2 * side, top), chi, remanence, (2 * r, 4 * r, nz)),
+        Part(f"{name} top", (x0 - 2 * side, y0 - side, top - slab), (x0 - side, y0 + side, top), chi, remanence, (r, 2 * r, nz)),
+        Part(f"{name} top", (x0 + side, y0 - side, top - slab), (x0 + 2 * side, y0 + side, top), chi, remanence, (r, 2 * r, nz)),
+    ]
+    if h > slab * (1 + 1e-9):
+        w = diameter * math.sqrt(math.pi) / 2.0
+        parts.append(Part(f"{name} body", (x0 - w / 2, y0 - w / 2, top - h), (x0 + w / 2, y0 + w / 2, top - slab), chi, remanence, _count((w, w, h - slab), CELL_BODY, refine)))
+    return parts
 
 
 def _stack(name, x0, y0, w, length, top, h, chi, remanence, refine) -> list[Part]:

@@ -5,7 +5,8 @@ physics of :mod:`.coil` and :mod:`.hum`:
 
 - each coil is placed from its ``position`` (:func:`.coil.coil_pair`): a
   winding in space when it has a ``[coil_x.geometry]``, else a point coil of
-  its ``turns_area`` at its centre;
+  its ``turns_area`` at its centre; with a ``[construction]``, with its
+  steel (:mod:`.coil_steel`);
 - the room's sources are the ``[[hum.source]]`` tables, or, without them,
   the one-number ``field`` as a uniform source along +z
   (:func:`.hum.room_source`), which gives exactly the single-field samples;
@@ -31,11 +32,18 @@ COILS = ("coil_a", "coil_b")
 
 
 def placed_coils(design, *, nodes=DEFAULT_NODES) -> tuple[PlacedCoil, PlacedCoil]:
-    """The design's two coils at their places: windings when they have a geometry, else point coils."""
+    """The design's two coils at their places: windings when they have a geometry, else point coils.
+
+    With a ``[construction]`` each coil carries its steel's response
+    (:mod:`.coil_steel`, from the construction's cached solve), so every
+    source's flux linkage includes the pole pieces' and magnets' share.
+    """
+    from ..design.construction import steel_responses
+
     a, b = design.coil_a, design.coil_b
     spec_a = a.geometry if a.geometry is not None else a.turns_area
     spec_b = b.geometry if b.geometry is not None else b.turns_area
-    return coil_pair(spec_a, spec_b, position_a=a.position, position_b=b.position, nodes=nodes)
+    return coil_pair(spec_a, spec_b, position_a=a.position, position_b=b.position, nodes=nodes, steel=steel_responses(design))
 
 
 def room_sources(hum) -> tuple:

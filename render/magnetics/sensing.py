@@ -12,6 +12,9 @@ The chain, each step in its own module:
 4. each string's magnetisation in B0 and its flux linkage m·B1 by
    reciprocity (:mod:`.strings`).
 
+Step 2's polarisation of the steel is also each coil's hum pickup with the
+steel (:mod:`.coil_steel`), kept with the result.
+
 What comes out, per coil and per string (:class:`StringSensing`):
 
 - the sensing function along the string: dΦ/dw per metre of string, the
@@ -39,6 +42,7 @@ import numpy as np
 
 from . import halfspace as hs
 from .coil import CoilGeometry, coil_centres, placed_coil
+from .coil_steel import SteelResponse
 from .construction import Construction
 from .steel import Excitation, solve_many
 from .strings import Rod
@@ -101,12 +105,15 @@ class PickupSensing:
     coil_a, coil_b : tuple of :class:`StringSensing`
     positions : (coil_a, coil_b), m from the bridge saddle
     digest : hash of what it was computed from
+    steel : (coil_a, coil_b), the steel and magnets answering each coil at
+        1 A (:class:`~render.magnetics.coil_steel.SteelResponse`): their hum pickup
     """
 
     coil_a: tuple
     coil_b: tuple
     positions: tuple
     digest: str
+    steel: tuple = (None, None)
 
     @property
     def x_offset(self) -> float:
@@ -119,6 +126,9 @@ class PickupSensing:
     # --- arrays for a cache -----------------------------------------------------
     def to_arrays(self) -> dict:
         out: dict = {"positions": np.asarray(self.positions, float), "digest": np.asarray(self.digest)}
+        for name, st in zip(("coil_a", "coil_b"), self.steel):
+            if st is not None:
+                out |= {f"steel/{name}/lo": st.lo, f"steel/{name}/hi": st.hi, f"steel/{name}/polarization": st.polarization}
         for name in ("coil_a", "coil_b"):
             for i, s in enumerate(self.coil(name)):
                 for f in fields(StringSensing):
@@ -139,7 +149,8 @@ class PickupSensing:
                 items.append(StringSensing(**kw))
                 i += 1
             coils[name] = tuple(items)
-        return cls(coil_a=coils["coil_a"], coil_b=coils["coil_b"], positions=tuple(float(p) for p in a["positions"]), digest=str(a["digest"]))
+        steel = tuple(SteelResponse(a[f"steel/{n}/lo"], a[f"steel/{n}/hi"], a[f"steel/{n}/polarization"]) for n in ("coil_a", "coil_b"))  # KeyError: an older entry
+        return cls(coil_a=coils["coil_a"], coil_b=coils["coil_b"], positions=tuple(float(p) for p in a["positions"]), digest=str(a["digest"]), steel=steel)
 
 
 def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometry_b: CoilGeometry, *, position_a: float, position_b: float, refine: float = 1.0) -> PickupSensing:
@@ -226,6 +237,7 @@ def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometr
         coil_b=tuple(per_coil[1]),
         positions=(float(position_a), float(position_b)),
         digest=construction.digest(geometry_a, geometry_b, float(position_a), float(position_b), float(refine), settings()),
+        steel=(SteelResponse.from_boxes(cells_a), SteelResponse.from_boxes(cells_b)),
     )
 
 

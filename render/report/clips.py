@@ -172,6 +172,7 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         " words stand for a figure with no finite value (its reason is in the design's JSON, beside the figure).",
         "",
         *([f"{BRIGHTNESS_NOTE} Reference: {records[0]['measurements']['reference_design']}.", ""] if records and "reference_design" in records[0]["measurements"] else []),
+        *(line for note in pickup_notes(records) for line in (f"Note: {note}", "")),
     ]
     if compare is not None:
         stem = Path(compare["file"]).stem
@@ -181,6 +182,12 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
             "",
         ]
     return "\n".join(lines)
+
+
+def pickup_notes(records) -> list[str]:
+    """One line, once, when designs with a construction played a recorded input: it stays linear (names the designs)."""
+    hits = [r for r in records if isinstance(r.get("dry"), dict) and r["dry"].get("kind") == "recorded" and "pickup" in r["dry"]]
+    return [f"{', '.join(r['design'] for r in hits)}: {hits[0]['dry']['pickup']}"] if hits else []
 
 
 def write_run_files(out: Path, records, *, dry: str, rig: str, settings: dict, volts_full_scale: float, compare: dict | None = None) -> list[Path]:

@@ -524,6 +524,9 @@ def sense_plot(path, record, *, overwrite=False):
         strings = [r["string"] for r in rows]
         pos = np.arange(len(rows))
         ax_bal.bar(pos + (k - 0.5) * width, balance_db(rows), width, color=PALETTE[k], label=name)
+        loudest = max(abs(r["sensitivity_v_s_per_m"]) for r in rows)
+        side = np.array([abs(r["sensitivity_lateral_v_s_per_m"]) for r in rows]) / loudest
+        ax_bal.plot(pos + (k - 0.5) * width, 20 * np.log10(np.maximum(side, 1e-3)), ls="none", marker="o", mfc="none", color="black" if k == 0 else "0.5", label=f"{name} sideways")
         ax_h.plot(pos, [r["h2_db"] for r in rows], marker="o", color=PALETTE[k], label=f"{name} H2")
         ax_h.plot(pos, [r["h3_db"] for r in rows], marker="s", ls="--", color=PALETTE[k], label=f"{name} H3")
         for i, r in enumerate(rows):
@@ -541,7 +544,7 @@ def sense_plot(path, record, *, overwrite=False):
             )
         for ax in (ax_bal, ax_h):
             ax.set_xticks(pos, [str(s) for s in strings])
-    ax_bal.set_title("string balance (dB re the loudest string)", fontsize=10)
+    ax_bal.set_title("string balance: vertical (bars), sideways (rings), dB re the loudest", fontsize=10)
     ax_bal.set_xlabel("string")
     ax_along.set_title("sensing function along the string", fontsize=10)
     ax_along.set_xlabel("from the bridge saddle (mm)")

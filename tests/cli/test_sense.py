@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -12,7 +13,7 @@ from render.cli import main
 
 ROOT = Path(__file__).resolve().parents[2]
 POLES = ROOT / "models" / "slipway-steel-poles.toml"
-KEYS = {"string", "sensitivity_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db"}
+KEYS = {"string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db"}
 
 
 def run(*args):
@@ -62,3 +63,27 @@ def test_existing_output_is_refused_before_work(tmp_path):
     out.write_text("{}")
     res = CliRunner().invoke(main, ["sense", str(POLES), "--json", str(out)])
     assert res.exit_code == 1 and "--overwrite" in res.output
+
+
+def test_the_sideways_sensitivity_matches_the_flux_table():
+    # Two computations of the same figure: the printed/JSON sideways sensitivity (the field's
+    # y-derivative along the string) against the central difference of the flux table over ±1 mm
+    # sideways (the flux recomputed with the string displaced); the difference's error is the
+    # table's curvature over 1 mm, a few % of the largest value.
+    from render.design import load_design
+    from render.design.construction import sensing
+
+    d = load_design(POLES)
+    r = sensing(d)
+    for name in ("coil_a", "coil_b"):
+        strings = r.coil(name)
+        largest = max(abs(s.sensitivity_y) for s in strings)
+        assert largest > 0
+        for s in strings:
+            i0 = int(np.flatnonzero(np.abs(s.dz) < 1e-12)[0])
+            ip, im = int(np.flatnonzero(np.abs(s.dy - 1e-3) < 1e-12)[0]), int(np.flatnonzero(np.abs(s.dy + 1e-3) < 1e-12)[0])
+            diff = (s.flux[ip, i0] - s.flux[im, i0]) / 2e-3
+            assert abs(diff - s.sensitivity_y) < 0.05 * largest
+    rec = json.loads(run("sense", POLES, "--json", "-").output)
+    pol = d.coil_a.hum_polarity
+    assert [row["sensitivity_lateral_v_s_per_m"] for row in rec["coils"]["coil_a"]] == [pol * s.sensitivity_y for s in sorted(r.coil_a, key=lambda s: -s.string)]

@@ -43,7 +43,9 @@ def test_demo_derives_sensitivity_polarity_and_aperture():
         assert 0.0 < c.aperture < 0.05
         # the geometry's sum of turns' areas, N·[W_w·L_w + (W_w·ΔL + L_w·ΔW)/2 + ΔW·ΔL/3] (render.magnetics.coil)
         ww, wl, dw, dl = 4.6e-3, 58e-3, 9.4e-3, 10e-3
-        assert c.turns_area == pytest.approx(1200 * (ww * wl + (ww * dl + wl * dw) / 2 + dw * dl / 3), rel=1e-12)
+        assert c.geometry.turns_area == pytest.approx(1200 * (ww * wl + (ww * dl + wl * dw) / 2 + dw * dl / 3), rel=1e-12)
+        # the one-number room's turns_area adds the steel's moment per ampere (render.magnetics.coil_steel)
+        assert c.turns_area == pytest.approx(c.geometry.turns_area + r.steel[0 if name == "coil_a" else 1].turns_area[2], rel=1e-12)
     # the demo's poles: coil_a's flux rises with an upward string (render.magnetics.construction), as the
     # default polarities of designs without a construction have it
     assert (d.coil_a.signal_polarity, d.coil_b.signal_polarity) == (1, -1)

@@ -77,7 +77,7 @@ def test_a_bend_dips_over_screws_and_not_over_blades():
     # A fact of the trade (common practice, no source): a bent string pushed off its pole screw
     # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves about 2 mm
     # sideways at these coils (render.dry.construction: the bend's geometry), between two screws.
-    # Measured here: −4.3 and −5.2 dB over the screws (coil_a, coil_b), within 0.1 dB over either blade.
+    # Measured here: −4.4 and −5.2 dB over the screws (coil_a, coil_b), within 0.1 dB over either blade.
     poles = _bend_level_db(load_design(ROOT / "models" / "slipway-steel-poles.toml"))
     for d in ("slipway-steel-blades", "slipway-magnet-blades"):
         blades = _bend_level_db(load_design(ROOT / "models" / f"{d}.toml"))
