@@ -155,6 +155,36 @@ def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
     assert "no hum" in text.splitlines()[3] and "signal to hum no hum:" in text
 
 
+MATCHED = ROOT / "tests" / "smoke" / "designs" / "edge-matched-coils.toml"
+SYMMETRIC_SOURCES = {
+    "uniform along z": '[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [0, 0, 1]\n',
+    "dipole broadside": dipole(["0m", "0.5m", "0m"]),
+    "dipole straight above": dipole(["0m", "0m", "0.5m"]),
+}
+
+
+@pytest.mark.parametrize("body", SYMMETRIC_SOURCES.values(), ids=SYMMETRIC_SOURCES.keys())
+def test_exact_cancellation_prints_words_for_every_source_kind(tmp_path, body):
+    # Symmetry: the mirror x → −x swaps the two coils (placed at ±s/2 on x). A uniform field, and a z-dipole on the
+    # plane x = 0 (its field is even in x, Jackson eq. 5.56), link both coils alike, so a pair whose two paths are
+    # equal (the passive reference of equal coils; a matched design) sums to zero. Quadrature leaves rounding
+    # (about 1e-17 of each coil's part): that is zero, in words and as null plus a reason, for every kind alike.
+    path = rig(tmp_path, body)
+    data, _ = hum_json(BOBBIN, "--rig", path)
+    assert data["passive"]["total_v_rms"] == 0.0
+    assert data["passive"]["signal_to_hum_db"] is None and data["passive"]["signal_to_hum_db_reason"].startswith("no hum")
+    passive = [s for s in data["hum_and_noise"] if s["circuit"] == "passive reference"][0]
+    assert passive["hum_v_rms"] == 0.0 and passive["signal_to_hum_db"] is None and passive["signal_to_hum_db_reason"].startswith("no hum")
+    text = run("hum", BOBBIN, "--rig", path).output
+    assert "passive reference 0.000 µV rms, no hum: the coils cancel exactly" in text
+    scale = {line.split("  ")[1].strip(): line for line in text.splitlines() if line.startswith("  ") and not line.startswith("   ")}
+    assert scale["hum"].rstrip().endswith("none: it cancels exactly") and scale["signal to hum"].rstrip().endswith("no hum")
+    matched, _ = hum_json(MATCHED, "--rig", path)
+    for row in matched["harmonics"]:
+        assert row["rejection_db"] is None and row["rejection_db_reason"] == "infinite: the coils' hum cancels exactly" and row["output_v"] == 0.0
+    assert matched["total_v_rms"] == 0.0 and matched["signal_to_hum_db"] is None
+
+
 # ----------------------------------------------------------------------------
 # The map and the random places
 
@@ -177,6 +207,20 @@ def test_map_table_json_and_plot(tmp_path):
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     printed = run("hum", BOBBIN, "--map").output
     assert "0.50 m   19.8" in printed and "rejection at 50 Hz of a dipole (axis z) in the x–y plane" in printed
+
+
+def test_map_of_a_matched_pair_has_words_where_it_cancels_exactly():
+    # broadside (90° in the x–y plane) both coils lie at the same distance from a z-dipole and link the same flux
+    # (mirror symmetry x → −x, Jackson eq. 5.56): a matched pair cancels exactly there, at every distance
+    data, _ = hum_json(MATCHED, "--map")
+    m = data["map"]
+    for i in range(len(m["distance_m"])):
+        assert m["rejection_db"][i][6][0] is None and m["rejection_db_reason"][i][6][0] == "infinite: the coils' hum cancels exactly"
+        assert m["rejection_db"][i][0][0] is not None and m["rejection_db_reason"][i][0][0] is None
+    printed = run("hum", MATCHED, "--map").output
+    rows = [line for line in printed.splitlines() if line.strip().endswith(tuple("0123456789")) and " m " in line]
+    assert len(rows) == 8 and all(line.split()[8] == "exact" for line in rows) and "200.0" not in printed
+    assert "exact: infinite: the coils' hum cancels exactly" in printed
 
 
 def test_map_in_the_vertical_plane_dips_where_the_dipoles_bz_changes_sign():
