@@ -120,9 +120,24 @@ def test_position_monte_carlo_is_seeded_and_far_below_the_uniform_figure():
     np.testing.assert_array_equal(a.rejection_db, b.rejection_db)
     assert not np.array_equal(a.rejection_db, c.rejection_db)
     s = a.summary()[0]
-    # the gradient estimate at the shell's radii: 20·log10(0.3/0.054) = 14.9 dB, 20·log10(2/0.054) = 31.4 dB
-    assert 14.9 - 3 < s["median_db"] < 31.4 + 6
-    assert s["p5_db"] < s["median_db"]
+    # Independently, on the same draws: each coil as a point at its centre (x = ∓s/2, half its height down),
+    # linking B_z of a point dipole there, B = µ0/(4π)·(3(m·r̂)r̂ − m)/r³ (Jackson, Classical Electrodynamics,
+    # 3rd ed., eq. 5.56), and a matched pair's rejection 20·log10(max(|B_a|, |B_b|)/|B_a − B_b|). The windings'
+    # size (at 0.3 m and more) and the networks' own 71 dB balance move the median and the 5th percentile by
+    # under 0.1 dB (measured 0.01 dB: 31.90 and 16.79 dB here): within 0.2 dB.
+    places, axes = random_sources(3000, seed=1)
+    sp = d.coil_b.position - d.coil_a.position
+
+    def bz(centre):
+        r = np.asarray(centre)[None, :] - places
+        n = np.linalg.norm(r, axis=1, keepdims=True)
+        u = r / n
+        return ((3 * np.sum(axes * u, axis=1, keepdims=True) * u - axes) / n**3)[:, 2]
+
+    ba, bb = bz([-sp / 2, 0, -DEMO.height / 2]), bz([sp / 2, 0, -DEMO.height / 2])
+    point = 20 * np.log10(np.maximum(np.abs(ba), np.abs(bb)) / np.abs(ba - bb))
+    assert s["median_db"] == pytest.approx(np.median(point), abs=0.2)
+    assert s["p5_db"] == pytest.approx(np.percentile(point, 5), abs=0.2)
     assert s["median_db"] < hum_table(d)["harmonics"][0]["rejection_db"] - 25
 
 
