@@ -179,6 +179,8 @@ def test_slew_rate_needs_gbw():
     data["supply"]["gbw"] = "3MHz"
     d = parse_design(data, source="x.toml")
     assert d.supply.slew_rate == pytest.approx(13e6) and d.supply.open_loop_gain == 1e5
+    data["supply"]["slew_rate"] = "0.05V/us"  # the datasheet unit: 1 V/µs = 1e6 V/s (SI prefixes)
+    assert parse_design(data, source="x.toml").supply.slew_rate == pytest.approx(5e4)
 
 
 @pytest.mark.parametrize(

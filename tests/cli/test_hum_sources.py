@@ -233,6 +233,8 @@ def test_map_in_the_vertical_plane_dips_where_the_dipoles_bz_changes_sign():
     assert r.min() < 0 and abs(where - math.degrees(math.atan(1 / math.sqrt(2)))) < 1.0
     printed = run("hum", BOBBIN, "--map", "--map-plane", "xz").output
     assert "x–z plane" in printed and "90° straight above" in printed
+    assert run("hum", BOBBIN, "--map-plane", "xz").output == printed  # the plane alone asks for the map
+    assert "x–y plane" in run("hum", BOBBIN, "--map-plane", "xy").output
 
 
 def test_positions_and_joint_are_reported_apart_from_the_tolerances(tmp_path):
