@@ -53,6 +53,7 @@ class Kind:
     symbols: tuple[str, ...]  # accepted at the end of a string, longest first
     power: int = 1  # prefix exponent: 2 for areas (cm² = (1e-2 m)²)
     rkm: bool = False  # whether RKM codes are accepted
+    scaled: tuple[tuple[str, float], ...] = ()  # other symbols and their factor to the SI unit ("V/µs", 1e6)
 
 
 RESISTANCE = Kind("resistance", "Ω", ("ohms", "ohm", "Ω", "R"), rkm=True)
@@ -69,7 +70,8 @@ SENSITIVITY = Kind("sensitivity", "V·s/m", ("V·s/m", "Vs/m", "V*s/m"))
 VOLTAGE_DENSITY = Kind("voltage noise density", "V/√Hz", ("V/√Hz", "V/rtHz", "V/sqrtHz"))
 CURRENT_DENSITY = Kind("current noise density", "A/√Hz", ("A/√Hz", "A/rtHz", "A/sqrtHz"))
 RATIO = Kind("number", "", ())
-SLEW_RATE = Kind("slew rate", "V/s", ("V/s",))
+# datasheets give slew rates in V/µs (1 V/µs = 1e6 V/s); "us" for µ as ASCII text writes it
+SLEW_RATE = Kind("slew rate", "V/s", ("V/s",), scaled=(("V/µs", 1e6), ("V/μs", 1e6), ("V/us", 1e6)))
 
 _NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
 _NUMBER_RE = re.compile(rf"^{_NUMBER}$")
@@ -140,6 +142,9 @@ def parse_quantity(value: object, kind: Kind) -> float:
     if not text:
         raise QuantityError(f"expected {_a(kind)}, got an empty string")
     _refuse_odd_characters(text, kind)
+    for sym, factor in kind.scaled:  # a scaled unit: read the number before it as if in the SI unit, then scale
+        if text.endswith(sym) and len(text) > len(sym):
+            return _finite(parse_quantity(text[: -len(sym)] + kind.symbols[0], kind) * factor, kind)
     body = text
     for sym in sorted(kind.symbols, key=len, reverse=True):
         if body.endswith(sym) and len(body) > len(sym):
@@ -149,7 +154,8 @@ def parse_quantity(value: object, kind: Kind) -> float:
         # A unit symbol of another kind at the end is the wrong unit.
         other = _foreign_unit(text, kind)
         if other:
-            raise QuantityError(f"unit '{other}' does not fit {_a(kind)} (expected {kind.unit or 'a plain number'})")
+            also = "".join(f" or {sym}" for sym, _ in kind.scaled[:1])
+            raise QuantityError(f"unit '{other}' does not fit {_a(kind)} (expected {kind.unit or 'a plain number'}{also})")
     if _NUMBER_RE.match(body):
         return _finite(float(body), kind)
     # number followed by one prefix letter

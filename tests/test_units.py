@@ -228,3 +228,21 @@ def test_rkm_round_trip_keeps_three_digits(x):
     # property: a 3-digit RKM code (IEC 60062) is within half a unit of its third digit
     y = parse_quantity(format_rkm(x), RESISTANCE)
     assert abs(y - x) <= 0.5 * 10 ** (math.floor(math.log10(x)) - 2) * (1 + 1e-12)
+
+
+@pytest.mark.parametrize(
+    "text, value",
+    [("13MV/s", 13e6), ("0.05V/us", 5e4), ("0.05V/µs", 5e4), ("0.05V/μs", 5e4), ("13 V/us", 13e6), ("20V/us", 2e7), ("1.3e1V/us", 13e6)],
+)
+def test_slew_rate_in_volts_per_microsecond(text, value):
+    # datasheets state slew rates in V/µs; 1 µs = 1e-6 s (SI Brochure, 9th ed., Table 7), so 1 V/µs = 1e6 V/s
+    assert parse_quantity(text, U.SLEW_RATE) == pytest.approx(value, rel=1e-12)
+
+
+@pytest.mark.parametrize("text", ["V/us", "13us", "13Hz/us", "13V/ms"])
+def test_slew_rate_refusals_name_both_units(text):
+    with pytest.raises(QuantityError):
+        parse_quantity(text, U.SLEW_RATE)
+    if text == "13us":
+        with pytest.raises(QuantityError, match=r"expected V/s or V/µs"):
+            parse_quantity(text, U.SLEW_RATE)

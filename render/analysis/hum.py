@@ -57,7 +57,7 @@ def hum_table(design, resp=None) -> dict:
     figure that does not exist is None with a ``…_reason`` beside it.
     """
     from . import undefined as U
-    from .figures import REJECTION_CAP_DB, coil_hum, rejection_db, signal_cancels
+    from .figures import cancels, coil_hum, net_hum, rejection_db, signal_cancels
 
     resp = resp or responses(from_designs([design]))
     hum = design.hum
@@ -72,8 +72,8 @@ def hum_table(design, resp=None) -> dict:
     else:
         va, vb = (x[0] * dbdt for x in coil_hum(resp, f))
     rej = rejection_db(va, vb)
-    exact = rej >= REJECTION_CAP_DB  # the sum is rounding noise: the coils' hum cancels exactly
-    total = np.where(exact, 0.0, va + vb)
+    exact = cancels(va, vb)  # the sum is rounding noise: the coils' hum cancels exactly
+    total = net_hum(va, vb)
     rows = []
     for i in range(len(h)):
         row: dict = {"harmonic": int(h[i]), "frequency_hz": float(f[i])}
@@ -95,7 +95,7 @@ def hum_table(design, resp=None) -> dict:
     if sv is None:
         zero = np.zeros(1)
         pa, pb = (x(f)[0] * dbdt for x in (resp.passive_mix(resp.hum_a, zero), resp.passive_mix(zero, resp.hum_b)))
-        ptotal = np.where(rejection_db(pa, pb) >= REJECTION_CAP_DB, 0.0, pa + pb)
+        ptotal = net_hum(pa, pb)
     else:
         ptotal = sv.passive
     passive_rms = float(np.sqrt(np.sum(np.abs(ptotal) ** 2) / 2))

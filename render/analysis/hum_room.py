@@ -27,7 +27,7 @@ from ..magnetics.rejection import (
     rejection_map,
 )
 
-NULL_MEANS = "null where there is no hum at that harmonic (neither coil links the dipole there)"
+NULL_MEANS = "null where the rejection does not exist (no hum at that harmonic, or the coils' hum cancels exactly); rejection_db_reason holds the reason at the same place"
 
 
 def _setup(design, rig):
@@ -125,9 +125,16 @@ def positions_record(mc: PositionMonteCarlo) -> dict:
 
 
 def _finite(row: dict) -> dict:
+    """A quantile that does not exist as None with ``<key>_reason`` beside it (render.analysis.undefined)."""
+    from . import undefined as U
+    from .figures import REJECTION_CAP_DB
+
     out: dict[str, str | None] = {}
     for key in ("median_db", "p5_db"):
         if not np.isfinite(row[key]):
             out[key] = None
-            out[key.replace("_db", "_reason")] = "some trials have no hum at this harmonic"
+            out[f"{key}_reason"] = "some trials have no hum at this harmonic"
+        elif row[key] >= REJECTION_CAP_DB:
+            out[key] = None
+            out[f"{key}_reason"] = U.HUM_CANCELS
     return out

@@ -29,7 +29,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..magnetics.pickup import design_emf, hum_polarities, placed_coils, point_coil_warnings, room_sources, through
-from .figures import REJECTION_CAP_DB, rejection_db
+from .figures import REJECTION_CAP_DB, net_hum, rejection_db
 
 NO_HUM = "no hum at this harmonic: no source has it, or no coil links it"
 EXACT = f"the two coils' hum cancels exactly (at the {REJECTION_CAP_DB:g} dB cap)"
@@ -121,7 +121,7 @@ def share_rows(sv: SourceVoltages, h: int) -> list[dict]:
         row = {"source": j + 1, "kind": s.kind, "rejection_db": value}
         if reason:
             row["rejection_db_reason"] = reason
-        row.update(output_v=float(abs(a[j] + b[j])), coil_a_v=float(abs(a[j])), coil_b_v=float(abs(b[j])))
+        row.update(output_v=float(abs(net_hum(a[j], b[j]))), coil_a_v=float(abs(a[j])), coil_b_v=float(abs(b[j])))
         rows.append(row)
     return rows
 

@@ -134,7 +134,7 @@ def passive_hum_peaks(design, resp=None) -> tuple[np.ndarray, np.ndarray]:
     """(frequency_hz (K,), complex peak V (K,)) of the passive reference's hum at the amp input, per mains harmonic."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from .figures import REJECTION_CAP_DB, rejection_db
+    from .figures import net_hum
     from .hum import field_derivative
 
     resp = resp or responses(from_designs([design]))
@@ -145,7 +145,7 @@ def passive_hum_peaks(design, resp=None) -> tuple[np.ndarray, np.ndarray]:
         return f, np.asarray(source_voltages(design, resp).passive)
     zero = np.zeros(1)
     pa, pb = (x(f)[0] * dbdt for x in (resp.passive_mix(resp.hum_a, zero), resp.passive_mix(zero, resp.hum_b)))
-    return f, np.where(rejection_db(pa, pb) >= REJECTION_CAP_DB, 0.0, pa + pb)
+    return f, net_hum(pa, pb)
 
 
 def design_one_scale(design, *, temperature: float = 300.0, reference_velocity: float = REFERENCE_VELOCITY) -> tuple[OneScale, OneScale]:

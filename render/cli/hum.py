@@ -28,7 +28,9 @@ from .options import emit_json, friendly, jobs_option, json_option, overwrite_op
 )
 @click.option("--histogram", "hist_path", type=click.Path(dir_okay=False), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
 @click.option("--map", "map_on", is_flag=True, help="Rejection against a dipole source's distance (0.2–3 m) and bearing: a table and JSON.")
-@click.option("--map-plane", type=click.Choice(["xy", "xz"]), default="xy", show_default=True, help="xy: the top faces' plane (90° treble side); xz: the vertical plane along the strings (90° above).")
+@click.option(
+    "--map-plane", type=click.Choice(["xy", "xz"]), default=None, help="xy (the default): the top faces' plane (90° treble side); xz: the vertical plane along the strings (90° above). Implies --map."
+)
 @click.option("--map-png", type=click.Path(dir_okay=False), help="Plot the map at the fundamental (implies --map; the first MODEL).")
 @click.option("--positions", type=click.IntRange(min=10, max=1_000_000), default=None, help="Monte Carlo over N random dipole sources: places uniform in a shell, axes uniform.")
 @click.option("--shell", nargs=2, default=None, metavar="INNER OUTER", help="The random sources' shell, e.g. 0.3m 2m (the default).")
@@ -73,7 +75,8 @@ def hum_command(
     from ..io.folders import output_folder, refuse_existing, run_folder
 
     refuse_existing([json_path, png_path, hist_path, map_png], overwrite=overwrite)
-    map_on = map_on or bool(map_png)
+    map_on = map_on or bool(map_png) or map_plane is not None
+    map_plane = map_plane or "xy"
     if (shell or joint) and not positions:
         raise InputError(f"{'--shell' if shell else '--joint'} needs random sources: add --positions N (e.g. --positions 2000)")
     shell_m = read_shell(shell)

@@ -99,9 +99,13 @@ def print_map(m) -> None:
     where = "the x–y plane (top faces; 0° neck side, 90° treble side)" if m.plane == "xy" else "the x–z plane (along the strings; 0° neck side, 90° straight above)"
     click.echo(f"  rejection at {m.frequency_hz[0]:g} Hz of a dipole (axis z) in {where}:")
     click.echo("    distance" + "".join(f"{b:>6.0f}°" for b in m.bearing_deg))
+    js = m.to_dict()  # a rejection that does not exist is its reason's short word (render.analysis.undefined)
     for i, dist in enumerate(m.distance_m):
-        cells = "".join("   none" if v != v else f"{v:7.1f}" for v in m.rejection_db[i, :, 0])
+        cells = "".join(f"{_rejection(js['rejection_db'][i][j][0], js['rejection_db_reason'][i][j][0]).replace(' dB', ''):>7s}" for j in range(len(m.bearing_deg)))
         click.echo(f"    {dist:6.2f} m" + cells)
+    words = {r for row in js["rejection_db_reason"] for cell in row for r in cell[:1] if r}
+    for r in sorted(words):
+        click.echo(f"    {_rejection(None, r).strip()}: {r}")
 
 
 def warnings(rec, d, *, dipoles: bool) -> None:

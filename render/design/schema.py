@@ -101,7 +101,7 @@ SUPPLY = {
     "knee": Field(U.VOLTAGE, default=0.5, lo=1e-3, hi=10.0, lo_open=False, doc="width of the soft transition into each limit"),
     "gbw": Field(U.FREQUENCY, lo=1e3, hi=1e10, lo_open=False, doc="op-amp gain-bandwidth product (absent: no bandwidth limit)"),
     "open_loop_gain": Field(U.RATIO, default=1e5, lo=1e2, hi=1e9, lo_open=False, doc="op-amp DC open-loop gain (default 1e5, from memory: typical of general-purpose op-amps)"),
-    "slew_rate": Field(U.SLEW_RATE, lo=1e3, hi=1e11, lo_open=False, doc='op-amp output slew rate, e.g. "13MV/s" (needs gbw; absent: no limit)'),
+    "slew_rate": Field(U.SLEW_RATE, lo=1e3, hi=1e11, lo_open=False, doc='op-amp output slew rate, e.g. "13MV/s" or "13V/us" (V/µs, as datasheets give it; needs gbw; absent: no limit)'),
     "noise_voltage": Field(U.VOLTAGE_DENSITY, default=10e-9, lo=1e-11, hi=1e-5, lo_open=False, doc="op-amp input voltage noise density"),
     "noise_current": Field(U.CURRENT_DENSITY, default=1e-14, lo=1e-17, hi=1e-8, lo_open=False, doc="op-amp input current noise density"),
 }

@@ -66,9 +66,14 @@ def through(gain_a, gain_b, emf: HumEmf) -> np.ndarray:
 
     gain_a, gain_b : array_like complex [shape=(H,)], V/V, each coil's EMF to
         that output at ``emf.frequency_hz``
+
+    Where the two coils' parts cancel to rounding the hum is exactly zero
+    (:func:`render.analysis.figures.net_hum`, the same test as a uniform field's).
     """
+    from ..analysis.figures import net_hum
+
     e = emf.total
-    return np.asarray(gain_a, dtype=complex) * e[0] + np.asarray(gain_b, dtype=complex) * e[1]
+    return net_hum(np.asarray(gain_a, dtype=complex) * e[0], np.asarray(gain_b, dtype=complex) * e[1])
 
 
 def amp_output_phasors(design, resp) -> np.ndarray:

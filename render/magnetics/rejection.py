@@ -32,7 +32,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis.figures import rejection_db
+from ..analysis import undefined as U
+from ..analysis.figures import REJECTION_CAP_DB, rejection_db
 from ..errors import InputError
 from .hum import HumEmf
 
@@ -42,8 +43,20 @@ DEFAULT_SHELL_M = (0.3, 2.0)
 POSITION_STREAM = 20  # the position draws' stream: default_rng([seed, POSITION_STREAM])
 
 
+NO_LINKAGE = U.NO_DIPOLE_LINKAGE
+EXACT = U.HUM_CANCELS
+
+
 def _none(x: float):
-    return None if not np.isfinite(x) else float(x)
+    """A rejection as JSON: None where it does not exist (no hum, or at the exact-cancellation cap)."""
+    return None if not np.isfinite(x) or x >= REJECTION_CAP_DB else float(x)
+
+
+def _why(x: float):
+    """Why a rejection is None (:func:`_none`), or None where it is a figure."""
+    if not np.isfinite(x):
+        return NO_LINKAGE
+    return EXACT if x >= REJECTION_CAP_DB else None
 
 
 def engine_gains(design, frequency_hz) -> tuple[np.ndarray, np.ndarray]:
@@ -191,7 +204,13 @@ class RejectionMap:
     rejection_db: np.ndarray
 
     def to_dict(self) -> dict:
-        """JSON-ready: axes and ``rejection_db`` as nested lists [distance][bearing][harmonic]."""
+        """JSON-ready: axes and ``rejection_db`` as nested lists [distance][bearing][harmonic].
+
+        A rejection that does not exist is null, and ``rejection_db_reason``
+        (the same nesting) holds its reason in words there (null elsewhere):
+        no hum at that harmonic, or an exact cancellation (a dipole as far
+        from both coils, e.g. broadside, on a matched pair).
+        """
         return {
             "plane": self.plane,
             "dipole_axis": [0.0, 0.0, 1.0],
@@ -199,6 +218,7 @@ class RejectionMap:
             "bearing_deg": [float(x) for x in self.bearing_deg],
             "frequency_hz": [float(x) for x in self.frequency_hz],
             "rejection_db": [[[_none(v) for v in row] for row in plane] for plane in self.rejection_db],
+            "rejection_db_reason": [[[_why(v) for v in row] for row in plane] for plane in self.rejection_db],
         }
 
 

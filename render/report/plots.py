@@ -484,13 +484,17 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
     """A hum rejection map: one cell per distance and bearing, shaded and labelled in dB at one harmonic.
 
     m : a :class:`render.magnetics.rejection.RejectionMap`; harmonic : 1 for the fundamental
-    Clay where the coils cancel least, ink where they cancel most; an empty cell has no hum.
+    Clay where the coils cancel least, ink where they cancel most; an empty cell has no hum, a cell
+    marked "exact" cancels exactly (no finite rejection).
     """
     from matplotlib.colors import LinearSegmentedColormap
 
+    from ..analysis.figures import REJECTION_CAP_DB
+
     plt = pyplot()
-    r = np.asarray(m.rejection_db[:, :, harmonic - 1], dtype=float)
-    r = np.where(np.isfinite(r), r, np.nan)
+    raw = np.asarray(m.rejection_db[:, :, harmonic - 1], dtype=float)
+    exact = np.isfinite(raw) & (raw >= REJECTION_CAP_DB)
+    r = np.where(np.isfinite(raw) & ~exact, raw, np.nan)
     cmap = LinearSegmentedColormap.from_list("rejection", [CLAY, "#f4ecd8", INK])
     fig, ax = plt.subplots(figsize=(9, 4.8))
     ny, nx = r.shape
@@ -501,6 +505,8 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
             if np.isfinite(r[i, j]):
                 dark = (r[i, j] - lo) / max(hi - lo, 1e-9)
                 ax.text(j, i, f"{r[i, j]:.0f}", ha="center", va="center", fontsize=7, color="white" if dark < 0.2 or dark > 0.8 else "#222222")
+            elif exact[i, j]:
+                ax.text(j, i, "exact", ha="center", va="center", fontsize=6, color="#222222")
     ax.set_xticks(range(nx), [f"{b:g}°" for b in m.bearing_deg], fontsize=8)
     ax.set_yticks(range(ny), [f"{d:g} m" for d in m.distance_m], fontsize=8)
     where = "x–y plane (top faces): 0° neck side, 90° treble side" if m.plane == "xy" else "x–z plane (along the strings): 0° neck side, 90° straight above"

@@ -44,17 +44,56 @@ def test_burst_is_whole_periods_then_rest():
     assert np.abs(v[:n_burst]).max() == pytest.approx(2.0, rel=1e-3) and not v[n_burst:].any()
 
 
+def series_rc_tau(design) -> float:
+    """τ = series_c·(series_r + coil_a's DC resistance), s: the inverting side's series RC.
+
+    Once the loop closes again, the inverting input is a virtual ground and coil_a a low-impedance
+    source (its inductance a short at the few-hertz rates of the decay, load_c open), so series_c
+    discharges through series_r and the coil's resistance: a first-order RC (Horowitz & Hill, *The Art
+    of Electronics*, 3rd ed., 2015, §1.4.1).
+    """
+    a = design.input_a
+    return a.series_c * (a.series_r + design.coil_a.resistance)
+
+
+def one_sided_clip_h2_db(overdrive: float) -> float:
+    """H2 re H1 (dB) of a sine of peak ``overdrive`` clipped hard at −1 on one side only: its Fourier series.
+
+    Evaluated on 2^16 points of one period (exact to rounding for this piecewise-smooth wave's first
+    harmonics at that density).
+    """
+    ph = np.linspace(0, 2 * np.pi, 2**16, endpoint=False)
+    y = np.maximum(overdrive * np.sin(ph), -1.0)
+    h1, h2 = (abs(np.mean(y * np.exp(-1j * n * ph))) for n in (1, 2))
+    return float(20 * np.log10(h2 / h1))
+
+
 def test_an_unbalanced_divider_clips_one_side_and_comes_back_from_it():
     # divider low: the low rail clips, series_c charges, the output comes back from below after the
-    # burst; divider high: from above (the mechanism in this module's text)
+    # burst; divider high: from above (the mechanism in this module's text). The decay's time constant is the
+    # series RC's (series_rc_tau): 22.52 ms here, measured 22.51 ms; within 1 %. A burst 3× past the one-sided
+    # onset clips one side only (the other onset is 4× farther at 0.3): the Fourier series of a sine clipped hard
+    # on one side at a third of its peak gives H2 = −12.0 dB; the knee and the operating point's drift during the
+    # burst move it (measured −12.8 dB): within 2 dB (common practice, no source).
     d = load_design(REF)
     for ratio, sign in ((0.3, -1), (0.7, 1)):
         s = sweep(d, ratios=[ratio])[0].design
         o = onset(s)
         f = burst_figures(s, velocity_peak=3 * min(o["velocity_up_m_per_s"], o["velocity_down_m_per_s"]))
         assert np.sign(f["recovery_offset_v"]) == sign and abs(f["recovery_offset_v"]) > 0.1
-        assert 0.01 < f["recovery_tau_s"] < 0.05
-        assert f["h2_db"] > -30
+        assert f["recovery_tau_s"] == pytest.approx(series_rc_tau(s), rel=0.01)
+        assert f["h2_db"] == pytest.approx(one_sided_clip_h2_db(3.0), abs=2.0)
+
+
+@pytest.mark.parametrize("name", ["ember-dark", "glasswing-bright", "measured-blade", "bench-wound"])
+def test_recovery_time_constant_is_the_series_rc_on_the_demo_designs(name):
+    # the README's per-design figures: series_c·(series_r + coil_a's resistance) is 15.5 ms, 33.5 ms, 26.1 ms and
+    # 22.9 ms on these (measured 15.50, 33.51, 26.02, 22.90 ms; measured-blade's coil is a fitted ladder whose DC
+    # path differs a little from its typed resistance); within 1 %
+    s = sweep(load_design(ROOT / "models" / f"{name}.toml"), ratios=[0.3])[0].design
+    o = onset(s)
+    f = burst_figures(s, velocity_peak=3 * min(o["velocity_up_m_per_s"], o["velocity_down_m_per_s"]))
+    assert f["recovery_tau_s"] == pytest.approx(series_rc_tau(s), rel=0.01)
 
 
 def test_render_bias_reports_the_recovery(tmp_path):
@@ -63,5 +102,5 @@ def test_render_bias_reports_the_recovery(tmp_path):
     assert res.exit_code == 0, res.output
     assert "after a 60 ms burst" in res.output and "τ" in res.output
     rows = json.loads(js.read_text())["settings"]
-    assert rows[0]["recovery_offset_v"] < -0.1 and 0.01 < rows[0]["recovery_tau_s"] < 0.05
+    assert rows[0]["recovery_offset_v"] < -0.1 and rows[0]["recovery_tau_s"] == pytest.approx(series_rc_tau(load_design(REF)), rel=0.01)
     assert abs(rows[1]["recovery_offset_v"]) < abs(rows[0]["recovery_offset_v"])

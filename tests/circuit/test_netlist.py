@@ -175,3 +175,79 @@ def test_render_netlist_command(tmp_path):
     assert res.exit_code == 0 and out.read_text() == netlist(REF)
     res = runner.invoke(main, ["netlist", str(ROOT / "models" / "studio-reference.toml"), "--out", str(out)])
     assert res.exit_code == 1 and "exists" in res.output
+
+
+# The writer's two other op-amp branches, by hand from the module text, on studio-reference:
+# - slew_rate = "13V/us" (13e6 V/s): the transconductance limited to ±SR·C, C = 1/(2π·3 MHz), so
+#   ±13e6/(2π·3e6) = ±13/(6π) = ±0.6896714200648798 A, with the A0 = 1e5 ohms written as the −V(opx)/A0 term;
+# - no gbw: the open-loop state is A0·(V+ − V−) at once, no capacitor and no clamp.
+SLEW_OPAMP = """
+Bopx 0 opx I = max(-0.6896714200648798, min(0.6896714200648798, V(pos)-V(inv)-V(opx)/1e5))
+Copx opx 0 5.305164769729845e-08
+Bclamp opx 0 I = 1000*(max(V(opx)-8.5,0)+min(V(opx)-0.5,0))
+"""
+NO_GBW_OPAMP = """
+Bopx opx 0 V = 1e5*(V(pos)-V(inv))
+"""
+GBW_OPAMP = ("Gopx", "Ropx", "Copx", "Bclamp")
+SLEW_RATE_V_PER_S = 13e6
+
+
+def _hand(opamp: str) -> str:
+    """HAND with its op-amp (gbw, no slew limit) replaced by another branch's lines."""
+    kept = [line for line in HAND.strip().splitlines() if line.split()[0] not in GBW_OPAMP]
+    at = next(i for i, line in enumerate(kept) if line.startswith("Bout"))
+    return "\n".join(kept[:at] + opamp.strip().splitlines() + kept[at:]) + "\n"
+
+
+def _variant(**supply):
+    import dataclasses
+
+    return dataclasses.replace(REF, supply=dataclasses.replace(REF.supply, **supply))
+
+
+@pytest.mark.parametrize("branch", ["slew rate", "no gbw"])
+def test_the_writers_other_op_amp_branches_match_hand_written_netlists(branch):
+    design = _variant(slew_rate=SLEW_RATE_V_PER_S) if branch == "slew rate" else _variant(gbw=None, slew_rate=None)
+    hand = _elements(_hand(SLEW_OPAMP if branch == "slew rate" else NO_GBW_OPAMP))
+    ours = _elements(netlist(design))
+    assert set(ours) == set(hand)
+    rng = np.random.default_rng(1)
+    for name, (nodes, value) in hand.items():
+        assert ours[name][0] == nodes, name
+        if isinstance(value, float):
+            assert ours[name][1] == pytest.approx(value, rel=1e-12), name
+        elif name.startswith("B"):
+            assert ours[name][1].split("=")[0] == value.split("=")[0], name
+            for _ in range(50):  # across the slew limits, the knees and the rails
+                v = {n: float(rng.uniform(-2, 11)) for n in ("vel", "dbdt", "opx", "pos", "inv")}
+                assert _evaluate(ours[name][1], v) == pytest.approx(_evaluate(value, v), rel=1e-12, abs=1e-12), name
+        else:
+            number = re.compile(r"[-+0-9.eE]+")
+            assert [float(t) if number.fullmatch(t) else t for t in ours[name][1].split()] == [float(t) if number.fullmatch(t) else t for t in value.split()], name
+
+
+@pytest.mark.parametrize("branch", ["slew rate", "no gbw"])
+def test_ngspice_runs_the_hand_written_branches(branch):
+    # ngspice runs each hand-written netlist: its operating point is the divider's half battery at pos and
+    # A0/(1 + A0) of it at out (series_c blocks DC). With the slew limit, a 12 V step on the battery lifts pos
+    # by 1 V at once (220k ∥ 22k against 220k, the capacitors shorts at the edge: 1/12 of the step), so the
+    # open-loop state must move by volts: it slews at the 13 V/µs written, to ngspice's step (0.5 %).
+    require_ngspice()
+    text = _hand(SLEW_OPAMP if branch == "slew rate" else NO_GBW_OPAMP)
+    nodeset = ".nodeset v(pos)=4.5 v(inv)=4.499955 v(opx)=4.499955 v(out)=4.499955\n"
+    with tempfile.TemporaryDirectory() as tmp:
+        op = subprocess.run([NGSPICE, "-b", "/dev/stdin"], input="* hand\n" + text + nodeset + ".op\n.end\n", capture_output=True, text=True, timeout=120)
+        assert op.returncode == 0, op.stdout[-2000:] + op.stderr[-2000:]
+        v = {m.group(1): float(m.group(2)) for m in re.finditer(r"^\s*(\w+)\s+([-+]?[0-9.]+(?:[eE][-+]?[0-9]+)?)\s*$", op.stdout, re.M)}
+        assert v["pos"] == pytest.approx(4.5, rel=1e-6)
+        assert v["out"] == pytest.approx(4.5 * 1e5 / (1 + 1e5), rel=1e-6)
+        if branch == "slew rate":
+            stepped = text.replace("Vbat bat 0 DC 9", "Vbat bat 0 DC 9 PULSE(9 21 10u 1n 1n 1 2)")
+            control = ["set wr_singlescale", "option numdgt=12", "tran 10n 30u 0 10n", f"wrdata {tmp}/tr.dat v(opx)"]
+            res = _run("* hand\n" + stepped + nodeset + ".end\n", tmp, control)
+            data = np.loadtxt(Path(tmp) / "tr.dat")
+            assert data.size, res.stdout[-2000:]
+            t, x = data[:, 0], data[:, 1]
+            rate = np.abs(np.diff(x) / np.diff(t))
+            assert rate.max() == pytest.approx(SLEW_RATE_V_PER_S, rel=5e-3)

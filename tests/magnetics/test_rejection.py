@@ -42,13 +42,19 @@ def test_in_line_dipole_is_bounded_by_the_gradient():
     s = d.coil_b.position - d.coil_a.position
     uniform = hum_table(d)["harmonics"][0]["rejection_db"]
     assert uniform > 65  # the one-number room's figure for this design
+    # The first-order estimate drops the next term: with x = s/(2r), 1 − ((1 − x)/(1 + x))³ = 6x·(1 − 3x + …),
+    # so the rejection lies above 20·log10(r/3s) by about −20·log10(1 − 3x) = 0.47 dB at 0.5 m, less farther
+    # out: the README's "within 0.5 dB from 0.5 m out (1.2 dB at 0.2 m)".
     for r in (0.5, 1.0, 2.0):
         emf = hum_emf(coils, [DipoleSource(moment=0.05, at=[r, 0, 0])], mains_hz=d.hum.mains, harmonics=d.hum.harmonics)
         rej = source_hum(emf, from_a=fa, from_b=fb).rejection_db[0]
         point = -20 * np.log10(1 - ((r - s / 2) / (r + s / 2)) ** 3)
         assert rej == pytest.approx(point, abs=0.1)  # the coils' size changes it by far less
-        assert abs(rej - 20 * np.log10(r / (3 * s))) < 1.0  # the first-order gradient estimate
+        assert 0 < rej - 20 * np.log10(r / (3 * s)) < 0.5  # the first-order gradient estimate
         assert rej < uniform - 30
+    emf = hum_emf(coils, [DipoleSource(moment=0.05, at=[0.2, 0, 0])], mains_hz=d.hum.mains, harmonics=d.hum.harmonics)
+    gap = source_hum(emf, from_a=fa, from_b=fb).rejection_db[0] - 20 * np.log10(0.2 / (3 * s))
+    assert round(gap, 1) == 1.2
 
 
 def test_broadside_dipole_cancels_as_a_uniform_field():
@@ -114,9 +120,24 @@ def test_position_monte_carlo_is_seeded_and_far_below_the_uniform_figure():
     np.testing.assert_array_equal(a.rejection_db, b.rejection_db)
     assert not np.array_equal(a.rejection_db, c.rejection_db)
     s = a.summary()[0]
-    # the gradient estimate at the shell's radii: 20·log10(0.3/0.054) = 14.9 dB, 20·log10(2/0.054) = 31.4 dB
-    assert 14.9 - 3 < s["median_db"] < 31.4 + 6
-    assert s["p5_db"] < s["median_db"]
+    # Independently, on the same draws: each coil as a point at its centre (x = ∓s/2, half its height down),
+    # linking B_z of a point dipole there, B = µ0/(4π)·(3(m·r̂)r̂ − m)/r³ (Jackson, Classical Electrodynamics,
+    # 3rd ed., eq. 5.56), and a matched pair's rejection 20·log10(max(|B_a|, |B_b|)/|B_a − B_b|). The windings'
+    # size (at 0.3 m and more) and the networks' own 71 dB balance move the median and the 5th percentile by
+    # under 0.1 dB (measured 0.01 dB: 31.90 and 16.79 dB here): within 0.2 dB.
+    places, axes = random_sources(3000, seed=1)
+    sp = d.coil_b.position - d.coil_a.position
+
+    def bz(centre):
+        r = np.asarray(centre)[None, :] - places
+        n = np.linalg.norm(r, axis=1, keepdims=True)
+        u = r / n
+        return ((3 * np.sum(axes * u, axis=1, keepdims=True) * u - axes) / n**3)[:, 2]
+
+    ba, bb = bz([-sp / 2, 0, -DEMO.height / 2]), bz([sp / 2, 0, -DEMO.height / 2])
+    point = 20 * np.log10(np.maximum(np.abs(ba), np.abs(bb)) / np.abs(ba - bb))
+    assert s["median_db"] == pytest.approx(np.median(point), abs=0.2)
+    assert s["p5_db"] == pytest.approx(np.percentile(point, 5), abs=0.2)
     assert s["median_db"] < hum_table(d)["harmonics"][0]["rejection_db"] - 25
 
 

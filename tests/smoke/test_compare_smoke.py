@@ -17,7 +17,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-from smoke.test_smoke_matrix import EDGES, NUMBER_WORDS, REFERENCE, ROOT, SHIPPED, Runner, check_json
+from smoke.test_smoke_matrix import EDGES, NUMBER_WORDS, PASSIVES, REFERENCE, RIGS, ROOT, SHIPPED, Runner, check_json
 
 from render.cli import main
 
@@ -62,9 +62,25 @@ def test_passive_edges(passive, tmp_path):
     _finish(run, tmp_path)
 
 
-def test_the_passive_demo_named_as_a_design_is_refused_with_the_fix():
-    res = CliRunner().invoke(main, ["check", str(DEMO)])
-    assert res.exit_code == 1 and "Error: " in res.output and f"--compare {DEMO}" in res.output
+@pytest.mark.parametrize("passive", PASSIVES, ids=lambda p: p.stem)
+def test_every_shipped_passive_pickup_with_and_without_each_rig(passive, tmp_path):
+    # every comparison pickup shipped under models/ (subfolders included), beside the reference, in the
+    # default room and in each shipped rig (its sources then reach the pickup's coils too)
+    run = Runner(passive.stem)
+    for rig in [None, *RIGS]:
+        tag, with_rig = ("default", ()) if rig is None else (rig.stem, ("--rig", rig))
+        run("check", REFERENCE, "--compare", passive, *with_rig, "--json", tmp_path / f"check-{tag}.json")
+        run("response", REFERENCE, "--compare", passive, *with_rig, "--csv", tmp_path / f"response-{tag}.csv")
+        run("noise", REFERENCE, "--compare", passive, *with_rig, "--json", tmp_path / f"noise-{tag}.json")
+        run("hum", REFERENCE, "--compare", passive, *with_rig, "--json", tmp_path / f"hum-{tag}.json")
+    run("clips", REFERENCE, "--seconds", 1, "--no-plots", "--compare", passive, *(("--rig", RIGS[0]) if RIGS else ()), "--out", tmp_path / "clips")
+    _finish(run, tmp_path)
+
+
+@pytest.mark.parametrize("passive", PASSIVES, ids=lambda p: p.stem)
+def test_the_passive_demo_named_as_a_design_is_refused_with_the_fix(passive):
+    res = CliRunner().invoke(main, ["check", str(passive)])
+    assert res.exit_code == 1 and "Error: " in res.output and f"--compare {passive}" in res.output
 
 
 def test_compare_output_carries_the_pickup(tmp_path):
