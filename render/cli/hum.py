@@ -7,7 +7,8 @@ import contextlib
 import click
 
 from .compare_print import compare_option
-from .hum_print import print_audio, print_monte_carlo, print_report, read_shell, read_tolerances, room, warnings
+from .hum_options import read_shell, read_tolerances
+from .hum_print import print_audio, print_monte_carlo, print_report, room, warnings
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
 
 
