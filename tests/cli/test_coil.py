@@ -231,3 +231,26 @@ def test_a_fit_far_from_its_sweep_is_warned_about(tmp_path):
     res = CliRunner().invoke(main, ["coil", "fit", str(path)])
     assert res.exit_code == 0
     assert "warning: the fit is off by up to" in res.output and "does not describe this sweep" in res.output, res.output
+
+
+def test_the_plot_names_a_self_resonance_above_the_band(tmp_path, monkeypatch):
+    # studio-reference's typed coils, 350 mH and 40 pF: 1/(2π√(LC)) = 42.5 kHz (R_dc and the core loss
+    # move the phase's zero crossing by under 1 %), above the plotted 20 Hz–20 kHz; the plot says so
+    # with an arrow to the right
+    import render.report.coil as plot
+
+    texts = []
+
+    def keep(fig, path, **_):
+        texts.extend(t.get_text() for ax in fig.axes for t in ax.texts)
+        return path
+
+    monkeypatch.setattr(plot, "save", keep)
+    res = run("coil", REF, "--png", tmp_path / "z.png")
+    assert res.exit_code == 0, res.output
+    f0 = 1 / (2 * np.pi * np.sqrt(0.35 * 40e-12))
+    assert 42.4e3 == pytest.approx(f0, rel=0.01)
+    assert texts == ["coil_a self-resonance 42.4 kHz →", "coil_b self-resonance 42.4 kHz →"]
+    assert plot.resonance_note("coil_a", 12.0, (20.0, 20e3)) == "← coil_a self-resonance 12 Hz"
+    assert plot.resonance_note("coil_b", 8.1e3, (20.0, 20e3)) == "coil_b self-resonance 8.1 kHz"
+    assert plot.resonance_note("coil_b", None, (20.0, 20e3)) == "coil_b: no self-resonance below 10 MHz"
