@@ -22,7 +22,11 @@ def print_fit(result) -> None:
     click.echo(f"  inductance      {_eng(fit.inductance, 'H')} at DC: L0 {_eng(lad.series_inductance, 'H')} + {len(lad.inductances)} R∥L sections")
     for k, (lk, rk) in enumerate(zip(lad.inductances, lad.resistances)):
         click.echo(f"    section {k + 1}     {_eng(lk, 'H')} ∥ {_eng(rk, 'Ω')}  (corner {_eng(rk / lk / (2 * 3.141592653589793), 'Hz', 3)})")
-    click.echo(f"  capacitance     {_eng(fit.capacitance, 'F')}")
+    from ..runs.coil import capacitance_floor
+
+    floor = capacitance_floor()
+    shown = _eng(fit.capacitance, "F") if fit.capacitance >= floor else f"none seen (fitted {fit.capacitance:.3g} F, below {_eng(floor, 'F')})"
+    click.echo(f"  capacitance     {shown}")
     srf = result.self_resonance_hz
     click.echo(f"  self-resonance  {_eng(srf, 'Hz', 3) if srf else 'none below 10 MHz'}")
     click.echo("  residual (model − measurement)   max dB  rms dB   max °   rms °")
@@ -47,17 +51,20 @@ def fit_command(measurement, out_path, coil, json_path, overwrite):
     and per decade; --out writes [coil_x] with resistance, capacitance and
     [coil_x.ladder], to paste into a design file.
     """
-    from ..runs.coil import coil_table, fit_file
+    from ..runs.coil import coil_table, fit_file, fit_warnings
 
     check_new([out_path, json_path], overwrite=overwrite)
     result = fit_file(measurement)
     if json_path != "-":
         print_fit(result)
-    if out_path:
-        from ..io.atomic import write_text
-
-        write_text(out_path, coil_table(result, coil=coil), overwrite=overwrite)
-        if json_path != "-":
-            click.echo(f"coil table written to {out_path}")
+    for w in fit_warnings(result):
+        click.echo(f"warning: {w}", err=True)
+    table = coil_table(result, coil=coil) if out_path else None  # refused here when the fit would not load in a design
     if json_path:
         emit_json(json_path, result.record(), overwrite=overwrite)
+    if out_path and table is not None:
+        from ..io.atomic import write_text
+
+        write_text(out_path, table, overwrite=overwrite)
+        if json_path != "-":
+            click.echo(f"coil table written to {out_path}")

@@ -14,6 +14,12 @@ ladder to what remains after C and R_dc are removed, and then refines all
 parameters together; sections are added while each lowers the rms error by
 at least 10 %.
 
+Each parameter is held within bounds set by the data (:func:`_bounds`): so
+far beyond what the sweep can show that a value on a bound means "not seen"
+(a sweep with no capacitance ends with C on its lower bound, where ωC·|Z|
+stays below 1e-9 at the top frequency), and close enough that the
+exponentials of the log-parameters never overflow.
+
 Pure: arrays in, a frozen result out. :mod:`render.impedance.measurement_csv`
 reads the files.
 """
@@ -118,6 +124,24 @@ def _residual(theta, k, s, log_z):
     return np.concatenate([e.real, np.angle(np.exp(1j * e.imag))])
 
 
+def _bounds(f, z, k):
+    """Lower and upper bounds of θ = ln(R, C, L0, L_1…L_k, τ_1…τ_k), from the sweep's span.
+
+    Each bound lies nine decades beyond the least the data can show (R, ωL or
+    1/(ωC) a 1e-9 part of |Z|) or three beyond the most, and a time constant
+    three decades beyond the measured band's corners.
+    """
+    w_lo, w_hi = 2 * np.pi * f[0], 2 * np.pi * f[-1]
+    z_lo, z_hi = float(np.min(np.abs(z))), float(np.max(np.abs(z)))
+    r = (1e-9 * z_lo, 1e3 * z_hi)
+    c = (1e-9 / (w_hi * z_hi), 1e3 / (w_lo * z_lo))
+    ind = (1e-9 * z_lo / w_hi, 1e3 * z_hi / w_lo)
+    tau = (1e-3 / w_hi, 1e3 / w_lo)
+    lo = np.log([r[0], c[0], ind[0], *[ind[0]] * k, *[tau[0]] * k])
+    hi = np.log([r[1], c[1], ind[1], *[ind[1]] * k, *[tau[1]] * k])
+    return lo, hi
+
+
 def _start(f, z):
     """R_dc, L and C from the lowest frequencies and the |Z| peak."""
     s = 2j * np.pi * f
@@ -177,7 +201,10 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4) -> Measur
             else:
                 lk, tau = np.asarray(lad.inductances), lad.time_constants
             theta0 = np.log(np.concatenate([[r_prev, c_prev, max(lad.series_inductance, 1e-6 * lad.dc_inductance)], lk, tau]))
-        sol = least_squares(_residual, theta0, args=(k, s, log_z), method="trf", x_scale=1.0, xtol=1e-12, ftol=1e-12, max_nfev=4000)
+        lo, hi = _bounds(f, z, k)
+        margin = 1e-6 * (hi - lo)
+        theta0 = np.clip(theta0, lo + margin, hi - margin)
+        sol = least_squares(_residual, theta0, args=(k, s, log_z), bounds=(lo, hi), method="trf", x_scale=1.0, xtol=1e-12, ftol=1e-12, max_nfev=4000)
         r, c, l_series, lk, tau = _unpack(sol.x, k)
         ladder = Ladder(float(l_series), tuple(float(v) for v in lk), tuple(float(v) for v in lk / tau)) if k else Ladder(float(l_series))
         e = np.log(_model(sol.x, k, s)) - log_z

@@ -11,7 +11,8 @@ what LCR meters and impedance analysers export, loosely:
   impedance magnitude (``|z|``, ``z``, ``impedance``, ``magnitude``, ``mag``;
   ohm, Ω, kohm, kΩ) and phase (``phase``, ``theta``, ``angle``, ``θ``; deg or
   rad; degrees when no unit is given). Other columns are ignored;
-- one row per frequency, frequency strictly increasing.
+- one row per frequency, each with exactly the header's columns, frequency
+  strictly increasing.
 
 Anything else is refused with one line naming the file, the row and the fix.
 The file's SHA-256 travels with the data, for a render's record.
@@ -127,11 +128,11 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
     cols = _columns(header, source)
     if len(rows) < MIN_ROWS:
         raise InputError(f"{source}: {len(rows)} data rows, need at least {MIN_ROWS} frequencies; measure across the band (20 Hz to above the resonance)")
-    need = max(i for i, _ in cols.values())
     values = {kind: np.empty(len(rows)) for kind in cols}
     for r, (number, cells) in enumerate(rows):
-        if len(cells) <= need:
-            raise InputError(f"{source}: line {number} has {len(cells)} columns, the header has {len(header)}; give every row all columns")
+        if len(cells) != len(header):
+            extra = "; a decimal comma splits a number in two: write 1.5, not 1,5" if len(cells) > len(header) else ""
+            raise InputError(f"{source}: line {number} has {len(cells)} columns, the header has {len(header)}; give every row exactly the header's columns{extra}")
         for kind, (i, scale) in cols.items():
             try:
                 v = float(cells[i])

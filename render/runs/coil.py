@@ -16,6 +16,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from .. import units as U
+from ..errors import InputError
 from ..impedance.ladder import REPORT_BAND_HZ
 
 if TYPE_CHECKING:
@@ -161,6 +162,7 @@ class FitResult:
             "self_resonance_hz": self.self_resonance_hz,
             **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if self.self_resonance_hz is None else {}),
             "residual": self.residual_bands(),
+            "warnings": list(fit_warnings(self)),
             "frequency_hz": fit.frequency_hz.tolist(),
             "residual_db": fit.residual_db.tolist(),
             "residual_deg": fit.residual_deg.tolist(),
@@ -175,8 +177,93 @@ def fit_file(path) -> FitResult:
     return FitResult(m, fit, self_resonance_hz(fit.impedance))
 
 
-def _q(x: float, unit: str) -> str:
-    return f'"{U.format_si(x, unit, digits=5).replace(" ", "")}"'
+# what a pickup coil's fitted values usually are; outside them `render coil fit` warns (one line each)
+COIL_RESISTANCE_USUAL = (10.0, 100e3)  # Ω: passive coils 2–20 kΩ, low-impedance coils tens of Ω (from memory)
+RESIDUAL_WARN = (1.0, 6.0)  # dB, °: a fit off by more than this somewhere in 20 Hz–20 kHz is not the coil (common practice, no source)
+
+
+def capacitance_floor() -> float:
+    """F: the least winding capacitance a design file accepts (``[coil_x] capacitance``)."""
+    from ..design.schema import COIL
+
+    return COIL["capacitance"].lo
+
+
+def written_capacitance(fit: MeasuredCoil) -> float:
+    """F: the capacitance ``coil_table`` writes: the fitted one, or the design reader's floor when the fit lies below it."""
+    return max(fit.capacitance, capacitance_floor())
+
+
+def floor_effect_db(fit: MeasuredCoil) -> float:
+    """dB: the most the written capacitance moves |Z| from the fitted model's over the measured frequencies."""
+    from ..impedance.measured import terminal_impedance as z_of
+
+    f = fit.frequency_hz
+    z_fit = fit.impedance(f)
+    z_written = z_of(f, resistance=fit.resistance, ladder=fit.ladder, capacitance=written_capacitance(fit))
+    return float(np.max(np.abs(20 * np.log10(np.abs(z_written) / np.abs(z_fit)))))
+
+
+def fit_warnings(result: FitResult) -> tuple[str, ...]:
+    """One line per reason to doubt that the sweep is a pickup coil's, or that the fit is its model.
+
+    Ranges: R_dc :data:`COIL_RESISTANCE_USUAL`; inductance and capacitance
+    :data:`render.usual.USUAL`; the residual :data:`RESIDUAL_WARN`. A
+    capacitance below the design reader's floor (0.1 pF) is not a doubt
+    about the coil but about the sweep (it shows no capacitance): said once.
+    """
+    from ..usual import USUAL
+
+    fit = result.fit
+    out: list[str] = []
+    lo, hi = COIL_RESISTANCE_USUAL
+    if not lo <= fit.resistance <= hi:
+        out.append(f"R_dc {U.format_si(fit.resistance, 'Ω', 4)} is outside {U.format_si(lo, 'Ω')} to {U.format_si(hi, 'Ω')} (pickup coils, from memory): is this a coil's sweep?")
+    rng = USUAL[("coil", "inductance")]
+    if not rng.holds(fit.inductance):
+        out.append(f"inductance {U.format_si(fit.inductance, 'H', 4)} at DC is outside {rng.text('H')} (pickup coils): is this a coil's sweep?")
+    rng = USUAL[("coil", "capacitance")]
+    floor = capacitance_floor()
+    if fit.capacitance < floor:
+        out.append(
+            f"the sweep shows no winding capacitance (fitted {fit.capacitance:.3g} F): the table gives {U.format_si(floor, 'F')},"
+            f" the least a design accepts, which moves |Z| by {floor_effect_db(fit):.2g} dB at most over the sweep; sweep past the self-resonance, or type the winding's capacitance ({rng.text('F')})"
+        )
+    elif not rng.holds(fit.capacitance):
+        out.append(f"capacitance {U.format_si(fit.capacitance, 'F', 4)} is outside {rng.text('F')} (pickup coils): is this a coil's sweep?")
+    bands = result.residual_bands()
+    if bands:
+        b = bands[0]
+        db, deg = RESIDUAL_WARN
+        if b["max_db"] > db or b["max_deg"] > deg:
+            out.append(
+                f"the fit is off by up to {b['max_db']:.2f} dB and {b['max_deg']:.1f}° over 20 Hz–20 kHz (more than {db:g} dB or {deg:g}°, common practice, no source):"
+                " the model (R_dc, a ladder and C) does not describe this sweep; check the file's columns and units"
+            )
+    return tuple(out)
+
+
+def _value(x: float, unit: str) -> str:
+    """``x`` to 5 digits as a design file reads it: with an SI prefix, or a plain exponent beyond the prefixes (never both)."""
+    text = U.format_si(x, unit, digits=5).replace(" ", "")
+    if "e" in text.removesuffix(unit).lower():
+        text = f"{x:.5g}{unit}"
+    return f'"{text}"'
+
+
+def check_table(text: str, *, coil: str) -> None:
+    """Read a written table back as a design file would (resistance, capacitance, the ladder and its DC inductance); InputError if it would not load."""
+    from ..design.coil_impedance import LADDER
+    from ..design.schema import COIL
+    from ..impedance.ladder import Ladder
+    from ..io.toml import loads
+    from ..validate import read_table, read_value
+
+    source = "the written table"
+    data = loads(text)[coil]
+    read_table({k: v for k, v in data.items() if k != "ladder"}, {k: COIL[k] for k in ("resistance", "capacitance")}, source=source, table=coil)
+    t = read_table(data["ladder"], LADDER, source=source, table=f"{coil}.ladder")
+    read_value(Ladder(t["series_inductance"], t["inductances"], t["resistances"]).dc_inductance, COIL["inductance"], source=source, table=coil, key="inductance")
 
 
 def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | None = None) -> str:
@@ -185,6 +272,10 @@ def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | No
     The coil's other keys (sensitivity or a construction, turns_area or a
     geometry, position) are the design's; they are left as comments to fill in.
     ``measured_as``: the path a design would give in ``measured`` instead.
+    Every value is written so that the design reader reads it back; a
+    capacitance below the reader's floor is written as the floor, with a
+    warning line (:func:`fit_warnings`). Raises InputError, naming the value,
+    when the fit lies outside what a design accepts (not a pickup coil).
     """
     m, fit = result.measurement, result.fit
     lad = fit.ladder
@@ -196,16 +287,24 @@ def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | No
     ]
     if band is not None:
         lines.append(f"# residual over 20 Hz–20 kHz: max {band['max_db']:.2f} dB and {band['max_deg']:.2f}°, rms {band['rms_db']:.3f} dB and {band['rms_deg']:.2f}°")
+    lines += [f"# WARNING: {w}" for w in fit_warnings(result)]
     lines += [
         f'# or, to keep the measurement itself: measured = "{measured_as or m.source}" (in place of resistance, capacitance and [{coil}.ladder])',
         f"[{coil}]",
-        f"resistance = {_q(fit.resistance, '')}",
-        f"capacitance = {_q(fit.capacitance, 'F')}",
+        f"resistance = {_value(fit.resistance, '')}",
+        f"capacitance = {_value(written_capacitance(fit), 'F')}",
         "# sensitivity = …, turns_area = …, position = … (or [construction] and a geometry): the design's own",
         "",
         f"[{coil}.ladder]   # the inductance with its core loss: L0 in series with R_k ∥ L_k sections",
-        f"series_inductance = {_q(lad.series_inductance, 'H')}",
-        f"inductances = [{', '.join(_q(v, 'H') for v in lad.inductances)}]",
-        f"resistances = [{', '.join(_q(v, '') for v in lad.resistances)}]",
+        f"series_inductance = {_value(lad.series_inductance, 'H')}",
+        f"inductances = [{', '.join(_value(v, 'H') for v in lad.inductances)}]",
+        f"resistances = [{', '.join(_value(v, '') for v in lad.resistances)}]",
     ]
-    return "\n".join(lines) + "\n"
+    text = "\n".join(lines) + "\n"
+    try:
+        check_table(text, coil=coil)
+    except InputError as exc:
+        raise InputError(
+            f"render coil fit --out: the fitted coil would not load in a design ({exc}); this sweep does not look like a pickup coil's (see the warnings), so no table was written"
+        ) from None
+    return text

@@ -136,3 +136,121 @@ def test_bad_files_are_refused_in_one_line(tmp_path, text, fragment):
     assert res.exit_code == 1
     lines = [x for x in res.output.splitlines() if x.strip()]
     assert len(lines) == 1 and lines[0].startswith("Error: ") and fragment in lines[0].lower(), res.output
+
+
+def _exact(path: Path, *, r, ladder, c, f_hi=20e3, points=61):
+    """A noiseless sweep of eq. (1), written to 6 digits as a meter exports it."""
+    f = np.geomspace(20.0, f_hi, points)
+    z = terminal_impedance(f, resistance=r, ladder=ladder, capacitance=c)
+    rows = ["frequency_hz,z_ohm,phase_deg"] + [f"{a:.6g},{b:.6g},{p:.6g}" for a, b, p in zip(f, np.abs(z), np.degrees(np.angle(z)))]
+    path.write_text("\n".join(rows) + "\n")
+
+
+# invented coils (demo values): (R_dc Ω, ladder, C F, top of the sweep Hz); C = 0 is a sweep that shows no capacitance
+ROUND_TRIP = {
+    "r-l, no capacitance": (6500.0, Ladder(4.2), 0.0, 20e3),
+    "r-l with a core-loss section, no capacitance": (8200.0, Ladder(0.0, (4.4,), (80e3,)), 0.0, 20e3),
+    "low-impedance coil": (250.0, Ladder(0.02, (0.005,), (400.0,)), 300e-12, 100e3),
+    "hot coil": (15e3, Ladder(6.0, (2.0,), (30e3,)), 150e-12, 50e3),
+}
+
+
+@pytest.mark.parametrize("name", [*ROUND_TRIP, "shipped example"])
+def test_every_written_table_loads_in_a_design(tmp_path, name):
+    # render coil fit --out on noiseless sweeps of known coils (eq. (1) of render.impedance.measured):
+    # the table loads in a design and holds the fitted values (5 digits); R_dc and the DC inductance are
+    # the known ones within 0.1 %. A sweep with no capacitance is written with the design reader's
+    # floor, 0.1 pF, and a WARNING line in the table and on standard error.
+    if name == "shipped example":
+        path, known = CSV, None
+    else:
+        r, lad, c, f_hi = ROUND_TRIP[name]
+        path, known = tmp_path / "sweep.csv", (r, lad, c)
+        _exact(path, r=r, ladder=lad, c=c, f_hi=f_hi)
+    res = CliRunner().invoke(main, ["coil", "fit", str(path), "--out", str(tmp_path / "coil.toml"), "--json", str(tmp_path / "fit.json")])
+    assert res.exit_code == 0, res.output
+    fit = json.loads((tmp_path / "fit.json").read_text())
+    table = (tmp_path / "coil.toml").read_text()
+    ladder = "[coil_a.ladder]" + table.split("\n[coil_a.ladder]", 1)[1]
+    doc = MEASURED.read_text().replace('measured = "coils/harbour-blade-coil.synthetic.csv"   # relative to this file\n', _values(table), 1)
+    (tmp_path / "typed.toml").write_text(doc.replace("[coil_b]", ladder + "\n[coil_b]", 1))
+    (tmp_path / "coils").mkdir()
+    (tmp_path / "coils" / CSV.name).write_bytes(CSV.read_bytes())
+    coil = load_design(tmp_path / "typed.toml").coil_a
+    assert coil.resistance == pytest.approx(fit["resistance_ohm"], rel=1e-4)
+    assert coil.inductance == pytest.approx(fit["inductance_h"], rel=1e-4)
+    if fit["capacitance_f"] < 1e-13:
+        assert coil.capacitance == pytest.approx(1e-13, rel=1e-9)
+        assert "# WARNING: the sweep shows no winding capacitance" in table and "warning: the sweep shows no winding capacitance" in res.output
+    else:
+        assert coil.capacitance == pytest.approx(fit["capacitance_f"], rel=1e-4)
+        assert "WARNING" not in table
+    if known is not None:
+        r, lad, c = known
+        assert fit["resistance_ohm"] == pytest.approx(r, rel=1e-3) and fit["inductance_h"] == pytest.approx(lad.dc_inductance, rel=1e-3)
+        assert (fit["capacitance_f"] < 1e-13) == (c == 0)
+    if name == "r-l, no capacitance":
+        # 0.1 pF across 4.2 H at 20 kHz: |Z| rises by 1/(1 − ω²LC) with R_dc ≪ ωL, 0.058 dB (closed form)
+        w = 2 * np.pi * 20e3
+        shift_db = -20 * np.log10(1 - w**2 * 4.2 * 1e-13)
+        assert f"{shift_db:.2g}" == "0.058" and f"moves |Z| by {shift_db:.2g} dB at most" in res.output
+
+
+@pytest.mark.parametrize(
+    "z_of, words",
+    [
+        (lambda f: 1 / (2j * np.pi * f * 100e-9), ["R_dc", "inductance", "capacitance 100 nF is outside 10 pF to 1 nF, from memory"]),
+        (lambda f: 1000.0 + 0j * f, ["inductance", "outside 1 mH to 10 H, from memory"]),
+    ],
+    ids=["capacitor", "resistor"],
+)
+def test_a_sweep_that_is_no_coil_is_fitted_with_warnings_and_no_table(tmp_path, z_of, words):
+    # a 100 nF capacitor and a 1 kΩ resistor: each fitted value outside a pickup coil's range gets a
+    # warning line (the fit is still printed, exit 0), and --out refuses in one line (exit 1)
+    f = np.geomspace(20.0, 20e3, 40)
+    z = z_of(f)
+    path = tmp_path / "part.csv"
+    path.write_text("frequency_hz,z_ohm,phase_deg\n" + "".join(f"{a:.6g},{abs(b):.6g},{np.degrees(np.angle(b)):.6g}\n" for a, b in zip(f, z)))
+    res = CliRunner().invoke(main, ["coil", "fit", str(path)])
+    assert res.exit_code == 0
+    warnings = [x for x in res.output.splitlines() if x.startswith("warning: ")]
+    assert warnings and all(w in res.output for w in words) and all("pickup coils" in w for w in warnings), res.output
+    res = CliRunner().invoke(main, ["coil", "fit", str(path), "--out", str(tmp_path / "coil.toml")])
+    assert res.exit_code == 1 and not (tmp_path / "coil.toml").exists()
+    errors = [x for x in res.output.splitlines() if x.startswith("Error: ")]
+    assert len(errors) == 1 and "would not load in a design" in errors[0] and "no table was written" in errors[0]
+
+
+def test_a_fit_far_from_its_sweep_is_warned_about(tmp_path):
+    # a coil's sweep with its phase column in the wrong sign (a lead swapped in the export): no R, ladder
+    # and C give a negative phase at low frequency, so the residual is large and said in one line
+    f = np.geomspace(20.0, 20e3, 40)
+    z = terminal_impedance(f, resistance=4100.0, ladder=TRUE_LADDER, capacitance=95e-12)
+    path = tmp_path / "swapped.csv"
+    path.write_text("frequency_hz,z_ohm,phase_deg\n" + "".join(f"{a:.6g},{abs(b):.6g},{-np.degrees(np.angle(b)):.6g}\n" for a, b in zip(f, z)))
+    res = CliRunner().invoke(main, ["coil", "fit", str(path)])
+    assert res.exit_code == 0
+    assert "warning: the fit is off by up to" in res.output and "does not describe this sweep" in res.output, res.output
+
+
+def test_the_plot_names_a_self_resonance_above_the_band(tmp_path, monkeypatch):
+    # studio-reference's typed coils, 350 mH and 40 pF: 1/(2π√(LC)) = 42.5 kHz (R_dc and the core loss
+    # move the phase's zero crossing by under 1 %), above the plotted 20 Hz–20 kHz; the plot says so
+    # with an arrow to the right
+    import render.report.coil as plot
+
+    texts = []
+
+    def keep(fig, path, **_):
+        texts.extend(t.get_text() for ax in fig.axes for t in ax.texts)
+        return path
+
+    monkeypatch.setattr(plot, "save", keep)
+    res = run("coil", REF, "--png", tmp_path / "z.png")
+    assert res.exit_code == 0, res.output
+    f0 = 1 / (2 * np.pi * np.sqrt(0.35 * 40e-12))
+    assert 42.4e3 == pytest.approx(f0, rel=0.01)
+    assert texts == ["coil_a self-resonance 42.4 kHz →", "coil_b self-resonance 42.4 kHz →"]
+    assert plot.resonance_note("coil_a", 12.0, (20.0, 20e3)) == "← coil_a self-resonance 12 Hz"
+    assert plot.resonance_note("coil_b", 8.1e3, (20.0, 20e3)) == "coil_b self-resonance 8.1 kHz"
+    assert plot.resonance_note("coil_b", None, (20.0, 20e3)) == "coil_b: no self-resonance below 10 MHz"

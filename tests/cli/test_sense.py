@@ -8,6 +8,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from magnetics.reference import require_material_response
 
 from render.cli import main
 
@@ -22,8 +23,7 @@ def run(*args):
 
 @pytest.fixture(autouse=True)
 def _needs_the_solver():
-    pytest.importorskip("magpylib", reason="magpylib not installed")
-    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    require_material_response()
 
 
 def test_json_has_the_keys_per_coil_and_string(tmp_path):

@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
+from magnetics.reference import require_material_response
 from scipy.constants import mu_0
 
 from render.cli import main
@@ -91,7 +92,7 @@ def test_core_rise_of_a_small_cube_by_reciprocity():
     # demagnetising factor N = 1/3 (by symmetry; Aharoni, J. Appl. Phys. 83, 1998), so
     # ΔL = V·χ/(1 + χ/3)·|B₁|²/μ0 in the coil's nearly uniform field at 1 A. The cube's
     # non-uniform magnetisation and the field's curvature over 2 mm are below 1e-3 here.
-    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    require_material_response()
     from render.impedance.construction_core import cell_linkage
     from render.magnetics.coil import CoilGeometry, placed_coil
     from render.magnetics.steel import Excitation, Part, solve_many

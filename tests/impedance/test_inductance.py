@@ -4,6 +4,7 @@ import math
 
 import numpy as np
 import pytest
+from magnetics.reference import require_magpylib
 from scipy.constants import mu_0
 from scipy.integrate import quad
 from scipy.special import ellipe, ellipk
@@ -130,7 +131,7 @@ def test_rectangular_coil_against_grover_table(c, tol):
 def test_rectangles_mutual_against_magpylib(p1, q1, p2, q2, dz):
     # magpylib (a general-purpose magnetics library): the flux through rectangle 2 of rectangle 1's
     # Biot–Savart field at 1 A, integrated by 80 × 80 Gauss–Legendre points
-    magpy = pytest.importorskip("magpylib")
+    magpy = require_magpylib()
     verts = np.array([[p1, -q1, 0], [p1, q1, 0], [-p1, q1, 0], [-p1, -q1, 0], [p1, -q1, 0]])
     loop = magpy.current.Polyline(current=1.0, vertices=verts)
     x, w = np.polynomial.legendre.leggauss(80)

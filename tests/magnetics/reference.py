@@ -86,8 +86,22 @@ def require_magpylib():
     try:
         import magpylib
     except ImportError:
-        msg = "magpylib not installed (pip install magpylib); the per-coil flux cross-check needs it"
-        if os.environ.get("CI") == "true":
-            pytest.fail(msg + " and CI=true requires it")
-        pytest.skip(msg)
+        _missing("magpylib not installed (pip install magpylib); the per-coil flux cross-check needs it")
     return magpylib
+
+
+def require_material_response():
+    """magpylib-material-response (with magpylib), or skip with the reason on a user's machine; fail under CI=true."""
+    require_magpylib()
+    try:
+        import magpylib_material_response
+    except ImportError:
+        _missing("magpylib-material-response not installed (pip install magpylib-material-response); the construction's steel solve needs it")
+    return magpylib_material_response
+
+
+def _missing(msg: str):
+    """Skip with ``msg``; under CI=true fail instead, so CI cannot pass without the reference."""
+    if os.environ.get("CI") == "true":
+        pytest.fail(msg + " and CI=true requires it")
+    pytest.skip(msg)

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from magnetics.reference import require_magpylib
+from magnetics.reference import require_magpylib, require_material_response
 
 from render.design import load_design, parse_design
 from render.design.construction import sensing
@@ -31,7 +31,7 @@ def _refused(data, match):
 
 def test_demo_derives_sensitivity_polarity_and_aperture():
     require_magpylib()
-    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    require_material_response()
     d = load_design(DEMO)
     r = sensing(d)
     assert d.construction is not None and r is not None

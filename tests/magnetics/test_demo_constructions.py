@@ -7,6 +7,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from magnetics.reference import require_material_response
 
 from render.design import load_design
 from render.design.construction import pickup_for
@@ -20,8 +21,7 @@ FS = 48000
 
 @pytest.fixture(scope="module", autouse=True)
 def _needs_the_solver():
-    pytest.importorskip("magpylib", reason="magpylib not installed")
-    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    require_material_response()
 
 
 def test_same_networks_different_constructions():

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from magnetics.reference import require_magpylib
+from magnetics.reference import require_magpylib, require_material_response
 from scipy.interpolate import CubicSpline
 
 from render.magnetics.coil import CoilGeometry
@@ -26,7 +26,7 @@ def _strings(**kw):
 
 def _blades(**kw):
     require_magpylib()
-    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    require_material_response()
     c = Construction(kind="steel-blades", magnet=(20 * MM, 64 * MM, 3.2 * MM), remanence=0.39, magnet_permeability=1.1, strings=_strings(**kw), steel=(2.5 * MM, 56 * MM, 11 * MM))
     g = _geometry(3.4 * MM)
     return pickup_sensing(c, g, g, position_a=0.038, position_b=0.056, refine=0.6)
@@ -40,7 +40,7 @@ def blades():
 @pytest.fixture(scope="module")
 def poles():
     require_magpylib()
-    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    require_material_response()
     c = Construction(
         kind="steel-poles",
         magnet=(20 * MM, 64 * MM, 3.2 * MM),
@@ -74,7 +74,7 @@ def test_with_a_low_string_permeability_the_balance_is_the_bench_one():
     # The same check at µr = 10 for the strings: their longitudinal demagnetisation then hardly
     # depends on their thickness, and the model keeps the bench's proportionality (JAES 2017)
     # within 3 % (measured 0.975 of it). What separates the two is the string steel's permeability,
-    # which no source here gives (see the construction draft).
+    # which no source here gives (see README.md, "Where the model stands", the strings).
     low = _blades(permeability=10.0)
     thin, thick = low.coil_a[0], low.coil_a[2]
     assert thick.sensitivity_z / thin.sensitivity_z == pytest.approx((CORES[2] / CORES[0]) ** 2, rel=0.03)

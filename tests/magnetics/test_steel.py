@@ -4,16 +4,11 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from magnetics.reference import require_magpylib
+from magnetics.reference import require_magpylib, require_material_response
 
 from render.magnetics.steel import Excitation, Part, solve, solve_many
 
 MM = 1e-3
-
-
-def require_material_response():
-    require_magpylib()
-    return pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed (pip install magpylib-material-response)")
 
 
 def _sphere_parts(radius: float, n: int, chi: float) -> list[Part]:
@@ -35,7 +30,7 @@ def test_permeable_sphere_in_a_uniform_field():
     # µ = 1 + χ). µr = 2 here: the sphere's own demagnetisation lowers J by a quarter from χ·B0,
     # so the check sees it; the staircase of cubes shapes the sphere well enough at this µr.
     # (At µr = 100 the same staircase of 280–4224 cubes reads 4–7 % high: the sharp corners of
-    # its surface, not the solver; see the construction draft's limits.)
+    # its surface, not the solver; see README.md, "The core, from the construction", its limits.)
     require_material_response()
     chi, b0 = 1.0, 0.01
     cells = solve(_sphere_parts(5 * MM, 8, chi), applied=lambda p: np.tile([0.0, 0.0, b0], (len(p), 1)))

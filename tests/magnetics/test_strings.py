@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from magnetics.pickup_reference import _dipole_potential_loop, emf_harmonics_db, single_pole_flux
-from magnetics.reference import require_magpylib
+from magnetics.reference import require_magpylib, require_material_response
 from scipy.constants import mu_0
 
 from render.magnetics import halfspace as hs
@@ -21,7 +21,7 @@ def test_rod_in_an_axial_field_against_cells():
     # magnetisation far below χ·H. Reference: magpylib-material-response's cells (point-matched
     # closed-form cuboid fields), a square section of the same area cut in 0.25 mm lengths.
     magpy = require_magpylib()
-    pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed")
+    require_material_response()
     from magpylib_material_response.demag import apply_demag
 
     d, length, chi, b0 = 0.43 * MM, 40 * MM, 99.0, 1e-3
