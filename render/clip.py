@@ -285,4 +285,5 @@ def render_headroom(design: Design, rendered: dict, *, strongest_pluck_m: float 
         window=design_window(design),
         limited_fraction=rendered["clipped_fraction"],
         strongest_pluck_m=strongest_pluck_m,
+        nonlinear=design.construction is not None,
     )

@@ -80,6 +80,9 @@ class PlayedHeadroom:
     searched_margin_db : float or None, dB
         The smaller margin of the render at ``searched_strength_m`` (near 0).
     searched_renders : int
+    nonlinear : bool
+        The design's sensing is not linear in the pluck (a ``[construction]``): unless ``searched``,
+        the strengths at the limit are a linear guess (``limit_strength_method`` "linear-guess").
     """
 
     onset_up_v: float
@@ -94,6 +97,12 @@ class PlayedHeadroom:
     searched_strength_m: float | None = None
     searched_margin_db: float | None = None
     searched_renders: int = 0
+    nonlinear: bool = False
+
+    @property
+    def guessed(self) -> bool:
+        """Whether the strengths at the limit are only a linear guess (nonlinear sensing, no search)."""
+        return self.nonlinear and not self.searched
 
     @property
     def limit_db_above(self) -> float | None:
@@ -135,7 +144,8 @@ class PlayedHeadroom:
             U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else NOT_FOUND if self.searched and side is None else NO_EXCURSION)
         if self.strongest_pluck_m is not None:
             # "linear": s·10^(margin/20); "rendered": a render at limit_strength_m has the margin limit_strength_check_margin_db
-            out["limit_strength_method"] = "rendered" if self.searched else "linear"
+            # "linear-guess": the same formula where the sensing is not linear (no search was made)
+            out["limit_strength_method"] = "rendered" if self.searched else "linear-guess" if self.nonlinear else "linear"
         if self.searched:
             lin = replace(self, searched=False)
             U.put(out, "limit_strength_linear_estimate_m", lin.strength_at_limit_m(), NO_EXCURSION)
@@ -146,7 +156,7 @@ class PlayedHeadroom:
         return out
 
 
-def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, window, limited_fraction: float, strongest_pluck_m: float | None = None) -> PlayedHeadroom:
+def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, window, limited_fraction: float, strongest_pluck_m: float | None = None, nonlinear: bool = False) -> PlayedHeadroom:
     """Headroom of a render from the extremes of its linear op-amp output.
 
     Parameters
@@ -159,6 +169,8 @@ def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, 
         The output window (its ``linear_low`` and ``linear_high`` are the onsets).
     limited_fraction : float, 0..1
     strongest_pluck_m : float or None, m
+    nonlinear : bool
+        The sensing is not linear in the pluck (see :attr:`PlayedHeadroom.nonlinear`).
 
     Returns
     -------
@@ -175,6 +187,7 @@ def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, 
         margin_down_db=margin_db(down, e_down),
         limited_fraction=float(limited_fraction),
         strongest_pluck_m=None if strongest_pluck_m is None else float(strongest_pluck_m),
+        nonlinear=bool(nonlinear),
     )
 
 
@@ -195,6 +208,7 @@ def from_record(m: dict) -> PlayedHeadroom | None:
         searched_strength_m=m.get("limit_strength_m") if m.get("limit_strength_method") == "rendered" else None,
         searched_margin_db=m.get("limit_strength_check_margin_db"),
         searched_renders=int(m.get("limit_strength_renders", 0)),
+        nonlinear=m.get("limit_strength_method") in ("rendered", "linear-guess"),
     )
 
 
@@ -214,6 +228,9 @@ def format_margin(db: float | None) -> str:
     return "no swing" if db is None else f"{db:+.1f} dB"
 
 
-def format_strength(m: float | None) -> str:
-    """A pluck strength in mm with three significant digits, or a dash."""
-    return "—" if m is None else f"{m * 1e3:#.3g} mm"
+def format_strength(m: float | None, *, guessed: bool = False) -> str:
+    """A pluck strength in mm with three significant digits, or a dash; "≈" before a linear guess."""
+    return "—" if m is None else f"{'≈' if guessed else ''}{m * 1e3:#.3g} mm"
+
+
+GUESS_NOTE = "≈: a linear guess; this design's sensing is not linear in the pluck (render clips finds the strength by rendering)"

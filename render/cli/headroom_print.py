@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from ..analysis.headroom import PlayedHeadroom, format_margin, format_share, format_strength
+from ..analysis.headroom import GUESS_NOTE, PlayedHeadroom, format_margin, format_share, format_strength
 
 
 def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
@@ -16,9 +16,11 @@ def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  "
         if h.searched and strength is None:
             reach = "not found"
         else:
-            reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength)} ({format_margin(h.limit_db_above)})"
+            reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength, guessed=h.guessed)} ({format_margin(h.limit_db_above)})"
         margins = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
         lines.append(f"{indent}{name:{width}s}  {margins:19s}   {reach:^20s}   {format_share(h.limited_fraction):>9s}")
+    if any(h.guessed for _, h in rows):
+        lines.append(f"{indent}{GUESS_NOTE}")
     return lines
 
 
@@ -49,7 +51,9 @@ def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom]) -> list[s
         f"  {'setting':26s} {'as strongest pluck':^19s}   {'as dB above phrase':^19s}   {'limited':>9s}",
     ]
     for label, h in zip(labels, played):
-        mm = f"{format_strength(h.strength_at_limit_m('up')):>8s} / {format_strength(h.strength_at_limit_m('down')):<8s}"
+        mm = f"{format_strength(h.strength_at_limit_m('up'), guessed=h.guessed):>8s} / {format_strength(h.strength_at_limit_m('down'), guessed=h.guessed):<8s}"
         db = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
         lines.append(f"  {label:26s} {mm:>19s}   {db:>19s}   {format_share(h.limited_fraction):>9s}")
+    if any(h.guessed for h in played):
+        lines.append(f"  {GUESS_NOTE}")
     return lines

@@ -137,3 +137,20 @@ def test_a_recording_has_margins_but_no_pluck_strength():
     c = render_clip(d, _faded_sine(0.1), sample_rate=FS, hum=False)
     assert c.stats["played_margin_up_db"] is not None
     assert c.stats["limit_strength_m"] is None and "not a phrase" in c.stats["limit_strength_m_reason"]
+
+
+def test_a_nonlinear_design_without_a_search_shows_a_linear_guess():
+    # the project's own rule (README, "limit reached at"): where the sensing is not linear and no
+    # render searched for the strength, the mm figure is marked as a guess and the JSON says so
+    from render.analysis.headroom import GUESS_NOTE, from_record, played_headroom
+    from render.chain.limit import Window
+    from render.cli.headroom_print import bias_phrase_lines, headroom_lines
+
+    window = Window(low=1.0, high=8.0, knee=0.5)
+    h = played_headroom(linear_min_v=3.0, linear_max_v=6.0, bias_v=4.5, window=window, limited_fraction=0.0, strongest_pluck_m=0.001, nonlinear=True)
+    rec = h.record()
+    assert rec["limit_strength_method"] == "linear-guess" and from_record(rec).guessed
+    assert "≈" in headroom_lines([("d", h)])[1] and headroom_lines([("d", h)])[-1].strip() == GUESS_NOTE
+    assert bias_phrase_lines(["s"], [h])[-1].strip() == GUESS_NOTE
+    linear = played_headroom(linear_min_v=3.0, linear_max_v=6.0, bias_v=4.5, window=window, limited_fraction=0.0, strongest_pluck_m=0.001)
+    assert linear.record()["limit_strength_method"] == "linear" and all("≈" not in x for x in headroom_lines([("d", linear)]))
