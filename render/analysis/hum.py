@@ -57,7 +57,8 @@ def hum_table(design, resp=None) -> dict:
     figure that does not exist is None with a ``…_reason`` beside it.
     """
     from . import undefined as U
-    from .figures import cancels, coil_hum, net_hum, rejection_db, signal_cancels
+    from .figures import coil_hum, rejection_db, signal_cancels
+    from .undefined import cancels, net_hum
 
     resp = resp or responses(from_designs([design]))
     hum = design.hum

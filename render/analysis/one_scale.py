@@ -134,8 +134,8 @@ def passive_hum_peaks(design, resp=None) -> tuple[np.ndarray, np.ndarray]:
     """(frequency_hz (K,), complex peak V (K,)) of the passive reference's hum at the amp input, per mains harmonic."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from .figures import net_hum
     from .hum import field_derivative
+    from .undefined import net_hum
 
     resp = resp or responses(from_designs([design]))
     f, dbdt = field_derivative(design.hum)

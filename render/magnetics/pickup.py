@@ -68,9 +68,9 @@ def through(gain_a, gain_b, emf: HumEmf) -> np.ndarray:
         that output at ``emf.frequency_hz``
 
     Where the two coils' parts cancel to rounding the hum is exactly zero
-    (:func:`render.analysis.figures.net_hum`, the same test as a uniform field's).
+    (:func:`render.analysis.undefined.net_hum`, the same test as a uniform field's).
     """
-    from ..analysis.figures import net_hum
+    from ..analysis.undefined import net_hum
 
     e = emf.total
     return net_hum(np.asarray(gain_a, dtype=complex) * e[0], np.asarray(gain_b, dtype=complex) * e[1])

@@ -50,7 +50,7 @@ def _clip(args: tuple) -> tuple[np.ndarray, dict]:
     """One setting's phrase clip (V at the amp input) and its headroom (:meth:`render.analysis.headroom.PlayedHeadroom.record`)."""
     from ..analysis.headroom import from_record
     from ..clip import render_clip
-    from .clips import dry_for
+    from .dry_input import dry_for
 
     design, dry, st, strength_m = args
     signal = phrase_at_strength(dry, design, st, strength_m) if strength_m is not None else dry_for(design, dry, st)

@@ -20,6 +20,7 @@ import numpy as np
 from ..clip import Clip, RenderSettings
 from ..design import Design, RigFile
 from ..dry import Dry
+from .dry_input import dry_for
 
 BATCH_MOST = 5  # designs per worker task: their plots share figures (see split_runs)
 
@@ -77,29 +78,6 @@ def window_full_scale(designs) -> float:
     # an AC-coupled output can swing up to twice the window's half-width (a long excursion
     # to one rail, then a jump to the other), and the output-rate samples ring a little past it
     return choose_full_scale([2.2 * max(d.headroom_up_v, d.headroom_down_v) for d in designs])
-
-
-def dry_for(design: Design, dry_path: Path, settings: RenderSettings) -> Dry:
-    """The dry signal at this design's two sensing points (a phrase's plucks scaled to ``settings.strength`` when given)."""
-    from ..design.construction import pickup_for
-    from ..dry import load_dry
-
-    if settings.strength is not None:
-        from .strength import phrase_at_strength
-
-        return phrase_at_strength(dry_path, design, settings, settings.strength)
-
-    a, b = design.coil_a, design.coil_b
-    return load_dry(
-        dry_path,
-        sample_rate=settings.sample_rate,
-        positions=(a.position, b.position),
-        apertures=(a.aperture, b.aperture),
-        seed=settings.seed,
-        seconds=settings.seconds,
-        velocity_scale=settings.velocity_scale,
-        pickup=pickup_for(design),
-    )
 
 
 def sensing_key(design: Design) -> tuple:

@@ -25,7 +25,7 @@ def compare_stem(p: PassiveDesign) -> str:
 def render_compare(p: PassiveDesign, dry: Path, settings: RenderSettings) -> tuple[np.ndarray, int, tuple[str, ...]]:
     """(volts at the amp input (n,), sample rate (Hz), the dry signal's warnings) of ``p`` playing ``dry``."""
     from ..clip import render_passive
-    from .clips import dry_for
+    from .dry_input import dry_for
 
     d = carrier(p)
     signal = dry_for(d, dry, settings)

@@ -62,7 +62,7 @@ def margin_at(design, dry_path: Path, settings, strength_m: float) -> float | No
     """The smaller played margin (dB) of ``design`` playing the phrase with its strongest pluck at ``strength_m`` (no noise: it does not move the extremes it is measured on)."""
     from ..chain.stream import render_signal
     from ..clip import render_headroom
-    from .clips import dry_for
+    from .dry_input import dry_for
 
     s = replace(settings, strength=strength_m)
     dry = dry_for(design, Path(dry_path), s)

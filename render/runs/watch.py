@@ -161,7 +161,7 @@ class WatchRun:
         return apply_rig(load_design(slot.path), self._rig)
 
     def _dry_for(self, design):
-        from .clips import dry_for
+        from .dry_input import dry_for
 
         st = self.settings
         a, b = design.coil_a, design.coil_b
