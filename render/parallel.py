@@ -21,6 +21,7 @@ a ``.tmp-*`` file, never a partial file under a final name.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import threading
@@ -73,6 +74,53 @@ def _worker_init(parent_pid: int) -> None:
     signal.signal(signal.SIGHUP, _leave)
     _die_with_parent(parent_pid)
     threadpool_limits(1)
+
+
+STOP_GRACE_S = 3.0  # after a stop signal, how long the clean-up may take before the run is ended outright
+
+
+def _children() -> list[int]:
+    """This process's child processes (workers, side process): from /proc on Linux, else multiprocessing's list."""
+    me = os.getpid()
+    proc = "/proc"
+    if os.path.isdir(proc):
+        found = []
+        for name in os.listdir(proc):
+            if name.isdigit():
+                try:
+                    with open(f"{proc}/{name}/stat", encoding="ascii", errors="replace") as fh:
+                        stat = fh.read()
+                except OSError:
+                    continue
+                if int(stat[stat.rindex(")") + 2 :].split()[1]) == me:
+                    found.append(int(name))
+        return found
+    import multiprocessing
+
+    return [p.pid for p in multiprocessing.active_children() if p.pid is not None]
+
+
+def end_after_grace(seconds: float = STOP_GRACE_S) -> None:
+    """Make sure a stopped run ends: if this process still runs ``seconds`` from now, kill its children and exit.
+
+    Called on the first stop signal (:mod:`render.cli`). The clean-up (the
+    pool's end, removing temporary files) normally takes a fraction of a
+    second; should any part of it hang, the run still ends with "Aborted!"
+    and exit code 1, its workers killed (SIGKILL), leaving at worst
+    ``.tmp-…`` files, never a partial file under a final name.
+    """
+
+    def last_resort() -> None:
+        time.sleep(seconds)
+        for pid in _children():
+            with contextlib.suppress(OSError):
+                os.kill(pid, signal.SIGKILL)
+        try:
+            os.write(2, b"Aborted!\n")
+        finally:
+            os._exit(1)
+
+    threading.Thread(target=last_resort, name="render-stop-grace", daemon=True).start()
 
 
 def _pool(processes: int):

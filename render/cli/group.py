@@ -23,6 +23,9 @@ def _stop(signum: int, frame: object) -> None:
     global _stopping
     if not _stopping:
         _stopping = True
+        from ..parallel import end_after_grace
+
+        end_after_grace()  # should the clean-up hang, the run still ends
         raise Stopped(signal.Signals(signum).name)
 
 

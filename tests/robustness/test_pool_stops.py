@@ -93,3 +93,37 @@ def test_clips_stopped_through_its_group_while_the_workers_render(tmp_path, sig)
         _kill_group(pgid)
     assert not left, f"`render clips --jobs 2` still alive {GRACE_S} s after {sig.name} to its group: {survivors}; stderr {err[-500:]!r}"
     assert code in (0, 1) and "Traceback" not in err, (code, err)
+
+
+def test_a_clean_up_that_hangs_still_ends_the_run():
+    # the last resort (render.parallel.end_after_grace): a stop whose clean-up hangs ends anyway
+    import subprocess
+    import sys
+
+    code = (
+        "import multiprocessing as mp, signal, time\n"
+        "from render.cli.group import _stop\n"
+        "signal.signal(signal.SIGTERM, _stop)\n"
+        "p = mp.get_context('fork').Process(target=time.sleep, args=(600,)); p.start()\n"
+        "print(p.pid, flush=True)\n"
+        "try:\n    time.sleep(600)\n"
+        "except KeyboardInterrupt:\n    time.sleep(600)  # a clean-up that never ends\n"
+    )
+    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+    try:
+        child = int(proc.stdout.readline())
+        began = time.monotonic()
+        proc.send_signal(signal.SIGTERM)
+        proc.wait(timeout=GRACE_S + 5)
+        took = time.monotonic() - began
+        assert proc.returncode == 1 and "Aborted!" in proc.stderr.read() and took < GRACE_S, (proc.returncode, took)
+
+        def gone() -> bool:
+            try:
+                return Path(f"/proc/{child}/stat").read_text().split(") ")[1].startswith("Z")
+            except OSError:
+                return True
+
+        assert _wait_for(gone, seconds=2.0), "the child outlived the run"
+    finally:
+        _kill_group(proc.pid)
