@@ -42,11 +42,11 @@ def test_an_idle_worker_stopped_by_a_signal_does_not_hang_the_pool(sig):
     for w in workers:
         os.kill(w.pid, sig)
     for w in workers:
-        w.join(5)
-    assert all(w.exitcode == 128 + sig for w in workers), [w.exitcode for w in workers]
+        w.join(5)  # a worker that had set up its handler is gone now (exit code 128 + sig); one still starting may not be
 
     # the stop path (the pool's own terminate() alone can hang here: it forks replacements)
     assert _ends_within(lambda: _end_now(pool), 20.0), "ending the pool hung after its workers were signalled"
+    assert all(w.exitcode is not None for w in workers + list(pool._pool)), "a worker outlived the pool's end"
 
 
 def test_a_side_process_stopped_by_a_signal_does_not_hang_its_exit():
