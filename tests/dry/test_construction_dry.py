@@ -173,13 +173,22 @@ def test_emf_is_the_rate_of_the_nonlinear_flux():
 BEFORE_CONSTRUCTION = "af09d821e42a97583f40fae4a912425d1707bbdc17aa290b67e85c49d39eace7"
 
 
+PINNED_NUMPY = "2.4"  # the numpy the pin was recorded with: other versions may round differently
+
+
+@pytest.mark.skipif(".".join(np.__version__.split(".")[:2]) != PINNED_NUMPY, reason=f"the pin was recorded with numpy {PINNED_NUMPY}; this is numpy {np.__version__}, whose rounding may differ")
 def test_without_a_pickup_synthesis_is_unchanged():
     import hashlib
 
     ph = _phrase()
     a = synthesize(ph, positions=(0.038, 0.056), apertures=(0.008, 0.008), sample_rate=FS)
-    b = synthesize(ph, positions=(0.038, 0.056), apertures=(0.008, 0.008), sample_rate=FS, pickup=None)
     assert hashlib.sha256(a.velocity.tobytes()).hexdigest() == BEFORE_CONSTRUCTION
+
+
+def test_no_pickup_is_the_default():
+    ph = _phrase()
+    a = synthesize(ph, positions=(0.038, 0.056), apertures=(0.008, 0.008), sample_rate=FS)
+    b = synthesize(ph, positions=(0.038, 0.056), apertures=(0.008, 0.008), sample_rate=FS, pickup=None)
     assert b.velocity.tobytes() == a.velocity.tobytes()
 
 
