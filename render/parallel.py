@@ -137,9 +137,10 @@ def _end_now(pool: Any) -> None:
     reaches the workers too. The pool's own ``terminate()`` can then wait for
     ever: it replaces workers that died, and a replacement forked at that
     moment may hang before it can take a signal; and a worker killed while
-    waiting for a task takes the task queue's lock with it. So: no more
-    replacements, SIGKILL to every worker, the lock freed if a dead worker
-    holds it, and only then the pool's own clean-up. (This uses
+    waiting for a task takes the task queue's lock with it (one killed while
+    writing its result, the result queue's). So: no more replacements, SIGKILL
+    to every worker, those locks freed if a dead worker holds them, and only
+    then the pool's own clean-up. (This uses
     ``multiprocessing.pool`` internals that are the same from Python 3.8 to
     3.13.)
     """
@@ -155,11 +156,14 @@ def _end_now(pool: Any) -> None:
             worker.kill()
     for worker in list(pool._pool):
         worker.join(5.0)
-    lock = pool._inqueue._rlock
-    if lock.acquire(block=False):
-        lock.release()
-    else:  # held by a worker that is dead now
-        lock.release()
+    # the locks only workers take: reading a task, writing a result (a worker killed mid-put holds it)
+    for lock in (pool._inqueue._rlock, pool._outqueue._wlock):
+        if lock is None:
+            continue
+        if lock.acquire(block=False):
+            lock.release()
+        else:  # held by a worker that is dead now
+            lock.release()
     pool.terminate()
     pool.join()
 

@@ -127,3 +127,27 @@ def test_a_clean_up_that_hangs_still_ends_the_run():
         assert _wait_for(gone, seconds=2.0), "the child outlived the run"
     finally:
         _kill_group(proc.pid)
+
+
+def _hold_and_die(lock) -> None:
+    lock.acquire()
+    os.kill(os.getpid(), signal.SIGKILL)
+
+
+def test_a_result_lock_left_held_by_a_killed_process_does_not_hang_the_pools_end():
+    # a worker killed while it writes its result leaves the result queue's lock held; here a process
+    # forked with the pool's lock takes it and is killed the same way (the task queue's lock, held by
+    # an idle worker, is the SIGTERM case above)
+    import multiprocessing
+
+    pool = _pool(2)
+    time.sleep(0.5)
+    p = multiprocessing.get_context("fork").Process(target=_hold_and_die, args=(pool._outqueue._wlock,))
+    p.start()
+    try:
+        p.join(10)
+        assert p.exitcode == -signal.SIGKILL
+    finally:
+        if p.exitcode is None:
+            p.kill()
+    assert _ends_within(lambda: _end_now(pool), 20.0), "ending the pool hung on a dead process's result-queue lock"
