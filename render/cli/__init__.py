@@ -15,7 +15,7 @@ import click
 
 from .. import __version__
 from .commands import COMMANDS
-from .group import LazyGroup, _interrupted, _stop
+from .group import LazyGroup, _interrupted, _stop, _stop_swallowed
 
 __all__ = ["COMMANDS", "main", "run"]
 
@@ -57,6 +57,7 @@ def run():
 
     signal.signal(signal.SIGTERM, _stop)
     signal.signal(signal.SIGHUP, _stop)
+    sys.unraisablehook = _stop_swallowed
     _show_warnings_as_lines()
     try:
         main()

@@ -16,17 +16,36 @@ class Stopped(KeyboardInterrupt):
 
 
 _stopping = False
+_grace_started = False
 
 
 def _stop(signum: int, frame: object) -> None:
     """The first SIGTERM or SIGHUP stops the run as Ctrl-C does; more of them wait for its clean-up."""
-    global _stopping
+    global _stopping, _grace_started
     if not _stopping:
         _stopping = True
-        from ..parallel import end_after_grace
+        if not _grace_started:
+            _grace_started = True
+            from ..parallel import end_after_grace
 
-        end_after_grace()  # should the clean-up hang, the run still ends
+            end_after_grace()  # should the clean-up hang, the run still ends
         raise Stopped(signal.Signals(signum).name)
+
+
+def _stop_swallowed(unraisable) -> None:
+    """``sys.unraisablehook``: a stop raised where Python ignores exceptions (a fork hook, a finaliser)
+    is sent again, to be raised in ordinary code; anything else is reported as Python does."""
+    global _stopping
+    if isinstance(unraisable.exc_value, Stopped):
+        import os
+        import threading
+
+        _stopping = False
+        signum = signal.Signals[str(unraisable.exc_value)].value
+        # sent a moment later, once the code that ignores exceptions has returned
+        threading.Timer(0.05, os.kill, (os.getpid(), signum)).start()
+        return
+    sys.__unraisablehook__(unraisable)
 
 
 def _interrupted(exc: BaseException | None) -> bool:

@@ -151,3 +151,30 @@ def test_a_result_lock_left_held_by_a_killed_process_does_not_hang_the_pools_end
         if p.exitcode is None:
             p.kill()
     assert _ends_within(lambda: _end_now(pool), 20.0), "ending the pool hung on a dead process's result-queue lock"
+
+
+def test_a_stop_raised_where_python_ignores_exceptions_is_not_lost():
+    # a signal landing in a finaliser or a fork hook: Python would print "Exception ignored" and drop
+    # the stop; render.cli.group._stop_swallowed sends it again, to stop in ordinary code, silently
+    import subprocess
+    import sys
+
+    code = (
+        "import signal, sys, time\n"
+        "from render.cli import group\n"
+        "signal.signal(signal.SIGTERM, group._stop)\n"
+        "sys.unraisablehook = group._stop_swallowed\n"
+        "class Slow:\n    def __del__(self):\n        time.sleep(2)\n"
+        "d = Slow()\nprint('ready', flush=True)\n"
+        "try:\n    del d\n    time.sleep(5)\n    print('not stopped', flush=True)\n"
+        "except KeyboardInterrupt:\n    print('stopped', flush=True)\n"
+    )
+    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+    try:
+        assert proc.stdout.readline().strip() == "ready"
+        time.sleep(0.5)
+        proc.send_signal(signal.SIGTERM)
+        out, err = proc.communicate(timeout=20)
+    finally:
+        _kill_group(proc.pid)
+    assert out.strip() == "stopped" and "Exception ignored" not in err and "Traceback" not in err, (out, err)
