@@ -158,11 +158,9 @@ def _end_now(pool: Any) -> None:
         worker.join(5.0)
     # the locks only workers take: reading a task, writing a result (a worker killed mid-put holds it)
     for lock in (pool._inqueue._rlock, pool._outqueue._wlock):
-        if lock is None:
-            continue
-        if lock.acquire(block=False):
-            lock.release()
-        else:  # held by a worker that is dead now
+        if lock is not None:
+            # free or held by a worker that is dead now: either way it ends free
+            lock.acquire(block=False)
             lock.release()
     pool.terminate()
     pool.join()

@@ -41,6 +41,11 @@ def variant(tmp_path, old, new, name="variant.toml"):
         ("input_a", "load_c", 3.9, "3.9n"),
         ("output", "coupling_c", 10, "10u"),
         ("rig", "cable_capacitance", 100, "100p"),
+        ("input_a", "series_r", 22, "22k"),
+        ("input_b", "load_r", 470, "470k"),
+        ("input_b", "bias_top", 220, "220k"),
+        ("feedback", "r", 110, "110k"),
+        ("output", "shunt_r", 100, "100k"),
     ],
 )
 def test_likely_prefix_puts_a_bare_number_in_its_parts_usual_range(table, key, number, want):

@@ -70,7 +70,8 @@ def comparison_figures(p: PassiveDesign, resp=None) -> dict:
     """The passive pickup's response figures and its hum rejection (:attr:`Comparison.figures`); ``resp``: its carrier's responses, if already computed."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from .figures import REJECTION_CAP_DB, figures, rejection_db
+    from .figures import figures, rejection_db
+    from .undefined import REJECTION_CAP_DB
 
     d = carrier(p)
     if resp is None:

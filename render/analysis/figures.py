@@ -43,10 +43,10 @@ import numpy as np
 
 from . import undefined as U
 from .peaks import NO_PEAK
+from .undefined import REJECTION_CAP_DB  # the one rule for exact cancellation lives there
 
 F_LO, F_HI = 5.0, 40000.0
 GRID_POINTS = 1600  # log-spaced; 0.4 % steps, then refined by interpolation
-from .undefined import REJECTION_CAP_DB  # noqa: E402, F401  (the one rule for exact cancellation lives there)
 
 
 def rejection_db(va, vb) -> np.ndarray:

@@ -30,7 +30,7 @@ from ..errors import InputError
 from ..eseries import SERIES, values_between
 from ..io.toml import read_toml
 from ..validate import Field, read_value, suggest
-from .figures import REJECTION_CAP_DB
+from .undefined import REJECTION_CAP_DB
 
 FIGURES = (
     "level_1k_db",

@@ -273,7 +273,7 @@ class MonteCarlo:
     def summary(self) -> list[dict]:
         """Per harmonic: the median and 5th-percentile rejection (None, with the reason, where infinite)."""
         from . import undefined as U
-        from .figures import REJECTION_CAP_DB
+        from .undefined import REJECTION_CAP_DB
 
         rows = []
         for i, f in enumerate(self.frequency_hz):
@@ -329,7 +329,7 @@ def sensitivities(design, frequency_hz) -> list[tuple[str, float | str]]:
     else after the finite changes.
     """
     from . import undefined as U
-    from .figures import REJECTION_CAP_DB
+    from .undefined import REJECTION_CAP_DB
 
     labels = [label for label, _ in part_labels(design)]
     n = len(labels) + 1

@@ -127,7 +127,7 @@ def positions_record(mc: PositionMonteCarlo) -> dict:
 def _finite(row: dict) -> dict:
     """A quantile that does not exist as None with ``<key>_reason`` beside it (render.analysis.undefined)."""
     from . import undefined as U
-    from .figures import REJECTION_CAP_DB
+    from .undefined import REJECTION_CAP_DB
 
     out: dict[str, str | None] = {}
     for key in ("median_db", "p5_db"):

@@ -29,8 +29,8 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..magnetics.pickup import design_emf, hum_polarities, placed_coils, point_coil_warnings, room_sources, through
-from .figures import REJECTION_CAP_DB, rejection_db
-from .undefined import net_hum
+from .figures import rejection_db
+from .undefined import REJECTION_CAP_DB, net_hum
 
 NO_HUM = "no hum at this harmonic: no source has it, or no coil links it"
 EXACT = f"the two coils' hum cancels exactly (at the {REJECTION_CAP_DB:g} dB cap)"

@@ -33,7 +33,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..analysis import undefined as U
-from ..analysis.figures import REJECTION_CAP_DB, rejection_db
+from ..analysis.figures import rejection_db
+from ..analysis.undefined import REJECTION_CAP_DB
 from ..errors import InputError
 from .hum import HumEmf
 

@@ -489,7 +489,7 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
     """
     from matplotlib.colors import LinearSegmentedColormap
 
-    from ..analysis.figures import REJECTION_CAP_DB
+    from ..analysis.undefined import REJECTION_CAP_DB
 
     plt = pyplot()
     raw = np.asarray(m.rejection_db[:, :, harmonic - 1], dtype=float)

@@ -35,7 +35,7 @@ class HumAudio:
 def _measured_row(frequency_hz, rejection_db, output_v) -> dict:
     """One measured harmonic; an infinite or undefined rejection is None with its reason."""
     from ..analysis import undefined as U
-    from ..analysis.figures import REJECTION_CAP_DB
+    from ..analysis.undefined import REJECTION_CAP_DB
 
     row = {"frequency_hz": float(frequency_hz)}
     if np.isnan(rejection_db):  # 0/0: neither coil hums at this harmonic

@@ -7,11 +7,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 from magnetics.reference import require_magpylib
+from magnetics.shapes import cube_sphere
 from scipy.constants import mu_0
 
 from render.magnetics.coil import CoilGeometry, placed_coil
 from render.magnetics.coil_steel import respond
-from render.magnetics.steel import Part, solve
+from render.magnetics.steel import solve
 
 MM = 1e-3
 ROOT = Path(__file__).resolve().parents[2]
@@ -20,20 +21,6 @@ ROOT = Path(__file__).resolve().parents[2]
 def _require():
     require_magpylib()
     pytest.importorskip("magpylib_material_response", reason="magpylib-material-response not installed (pip install magpylib-material-response)")
-
-
-def _sphere(radius: float, n: int, chi: float, centre) -> tuple[list[Part], float]:
-    """A sphere as the cubes of an n × n × n grid whose centres lie inside it, and their volume (m³)."""
-    h = 2 * radius / n
-    c = (np.arange(n) + 0.5) * h - radius
-    parts = []
-    for x in c:
-        for y in c:
-            for z in c:
-                if x * x + y * y + z * z <= radius * radius:
-                    p = np.array([x, y, z]) + centre
-                    parts.append(Part("cell", tuple(p - h / 2), tuple(p + h / 2), chi))
-    return parts, len(parts) * h**3
 
 
 # A one-turn square coil of 40 mm, 0.2 mm build and height: the sphere sits at its centre plane.
@@ -65,7 +52,7 @@ def test_a_permeable_sphere_in_a_coil_adds_its_moment_times_the_coils_field():
     coil = placed_coil(LOOP, centre=(0.0, 0.0, 0.0))
     b1 = coil.field_per_amp(MID)[2]
     for mur, n, rel in ((2.0, 8, 0.01), (10.0, 8, 0.04), (10.0, 12, 0.03)):
-        parts, volume = _sphere(5 * MM, n, mur - 1.0, MID)
+        parts, volume = cube_sphere(5 * MM, n, mur - 1.0, MID)
         steel = respond(parts, coil)
         ref = volume * 3.0 * (mur - 1.0) / (mur + 2.0) / mu_0 * b1
         assert steel.turns_area[2] == pytest.approx(ref, rel=rel)
@@ -85,7 +72,7 @@ def test_a_dipole_sources_linkage_by_reciprocity_equals_the_direct_solve():
     _require()
     magpy = require_magpylib()
     coil = placed_coil(LOOP, centre=(0.0, 0.0, 0.0))
-    parts, _ = _sphere(5 * MM, 8, 1.0, np.array([5 * MM, 3 * MM, -0.1 * MM]))
+    parts, _ = cube_sphere(5 * MM, 8, 1.0, np.array([5 * MM, 3 * MM, -0.1 * MM]))
     with_steel = placed_coil(LOOP, centre=(0.0, 0.0, 0.0), steel=respond(parts, coil))
     at = np.array([0.03, 0.01, 0.02])
     m = np.array([0.3, 0.2, 0.9]) / np.linalg.norm([0.3, 0.2, 0.9])

@@ -5,23 +5,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from magnetics.reference import require_magpylib, require_material_response
+from magnetics.shapes import cube_sphere
 
 from render.magnetics.steel import Excitation, Part, solve, solve_many
 
 MM = 1e-3
-
-
-def _sphere_parts(radius: float, n: int, chi: float) -> list[Part]:
-    """A sphere as the cubes of an n × n × n grid whose centres lie inside it."""
-    h = 2 * radius / n
-    c = (np.arange(n) + 0.5) * h - radius
-    parts = []
-    for x in c:
-        for y in c:
-            for z in c:
-                if x * x + y * y + z * z <= radius * radius:
-                    parts.append(Part("cell", (x - h / 2, y - h / 2, z - h / 2), (x + h / 2, y + h / 2, z + h / 2), chi))
-    return parts
 
 
 def test_permeable_sphere_in_a_uniform_field():
@@ -33,7 +21,7 @@ def test_permeable_sphere_in_a_uniform_field():
     # its surface, not the solver; see README.md, "The core, from the construction", its limits.)
     require_material_response()
     chi, b0 = 1.0, 0.01
-    cells = solve(_sphere_parts(5 * MM, 8, chi), applied=lambda p: np.tile([0.0, 0.0, b0], (len(p), 1)))
+    cells = solve(cube_sphere(5 * MM, 8, chi)[0], applied=lambda p: np.tile([0.0, 0.0, b0], (len(p), 1)))
     mean = cells.polarization.mean(axis=0)
     assert mean[2] == pytest.approx(3 * chi / (3 + chi) * b0, rel=0.01)  # within 1 %
     assert abs(mean[0]) < 1e-6 * b0 and abs(mean[1]) < 1e-6 * b0

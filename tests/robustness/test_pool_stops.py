@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import os
 import signal
+import subprocess
+import sys
 import threading
 import time
 from pathlib import Path
@@ -95,11 +97,13 @@ def test_clips_stopped_through_its_group_while_the_workers_render(tmp_path, sig)
     assert code in (0, 1) and "Traceback" not in err, (code, err)
 
 
+def _python_in_own_group(code: str) -> subprocess.Popen:
+    """``python -c code`` in a session of its own (so a test can stop its whole group), pipes as text."""
+    return subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+
+
 def test_a_clean_up_that_hangs_still_ends_the_run():
     # the last resort (render.parallel.end_after_grace): a stop whose clean-up hangs ends anyway
-    import subprocess
-    import sys
-
     code = (
         "import multiprocessing as mp, signal, time\n"
         "from render.cli.group import _stop\n"
@@ -109,7 +113,7 @@ def test_a_clean_up_that_hangs_still_ends_the_run():
         "try:\n    time.sleep(600)\n"
         "except KeyboardInterrupt:\n    time.sleep(600)  # a clean-up that never ends\n"
     )
-    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+    proc = _python_in_own_group(code)
     try:
         child = int(proc.stdout.readline())
         began = time.monotonic()
@@ -156,9 +160,6 @@ def test_a_result_lock_left_held_by_a_killed_process_does_not_hang_the_pools_end
 def test_a_stop_raised_where_python_ignores_exceptions_is_not_lost():
     # a signal landing in a finaliser or a fork hook: Python would print "Exception ignored" and drop
     # the stop; render.cli.group._stop_swallowed sends it again, to stop in ordinary code, silently
-    import subprocess
-    import sys
-
     code = (
         "import signal, sys, time\n"
         "from render.cli import group\n"
@@ -169,7 +170,7 @@ def test_a_stop_raised_where_python_ignores_exceptions_is_not_lost():
         "try:\n    del d\n    time.sleep(5)\n    print('not stopped', flush=True)\n"
         "except KeyboardInterrupt:\n    print('stopped', flush=True)\n"
     )
-    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+    proc = _python_in_own_group(code)
     try:
         assert proc.stdout.readline().strip() == "ready"
         time.sleep(0.5)

@@ -17,7 +17,7 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
-from smoke.test_smoke_matrix import EDGES, NUMBER_WORDS, PASSIVES, REFERENCE, RIGS, ROOT, SHIPPED, Runner, check_json
+from smoke.test_smoke_matrix import EDGES, PASSIVES, REFERENCE, RIGS, ROOT, SHIPPED, Runner, check_outputs
 
 from render.cli import main
 
@@ -25,21 +25,12 @@ DEMO = ROOT / "models" / "compare" / "workshop-passive.toml"
 PASSIVE_EDGES = sorted((Path(__file__).parent / "compare").glob("*.toml"))
 
 
-def _finish(run, tmp_path):
-    for path in sorted(tmp_path.rglob("*.json")):
-        run.problems += check_json(path)
-    for path in sorted(tmp_path.rglob("*.csv")):
-        if NUMBER_WORDS.search(path.read_text(encoding="utf-8")):
-            run.problems.append(f"{path.name}: holds nan or inf")
-    assert not run.problems, "\n".join(run.problems)
-
-
 @pytest.mark.parametrize("design", SHIPPED + EDGES, ids=lambda p: p.stem)
 def test_compare_beside_every_design(design, tmp_path):
     run = Runner(design.stem)
     run("response", design, "--compare", DEMO, "--csv", tmp_path / "response.csv")
     run("noise", design, "--compare", DEMO, "--json", tmp_path / "noise.json")
-    _finish(run, tmp_path)
+    check_outputs(run, tmp_path)
 
 
 def test_compare_with_every_design_together(tmp_path):
@@ -48,7 +39,7 @@ def test_compare_with_every_design_together(tmp_path):
     run("check", *every, "--compare", DEMO, "--json", tmp_path / "check.json")
     run("hum", *every, "--compare", DEMO, "--json", tmp_path / "hum.json")
     run("clips", *SHIPPED, "--seconds", 1, "--no-plots", "--noise", "--jobs", 2, "--compare", DEMO, "--out", tmp_path / "clips")
-    _finish(run, tmp_path)
+    check_outputs(run, tmp_path)
 
 
 @pytest.mark.parametrize("passive", PASSIVE_EDGES, ids=lambda p: p.stem)
@@ -59,7 +50,7 @@ def test_passive_edges(passive, tmp_path):
     run("noise", REFERENCE, "--compare", passive, "--json", tmp_path / "noise.json")
     run("hum", REFERENCE, "--compare", passive, "--json", tmp_path / "hum.json")
     run("clips", REFERENCE, "--seconds", 1, "--no-plots", "--compare", passive, "--out", tmp_path / "clips")
-    _finish(run, tmp_path)
+    check_outputs(run, tmp_path)
 
 
 @pytest.mark.parametrize("passive", PASSIVES, ids=lambda p: p.stem)
@@ -74,7 +65,7 @@ def test_every_shipped_passive_pickup_with_and_without_each_rig(passive, tmp_pat
         run("noise", REFERENCE, "--compare", passive, *with_rig, "--json", tmp_path / f"noise-{tag}.json")
         run("hum", REFERENCE, "--compare", passive, *with_rig, "--json", tmp_path / f"hum-{tag}.json")
     run("clips", REFERENCE, "--seconds", 1, "--no-plots", "--compare", passive, *(("--rig", RIGS[0]) if RIGS else ()), "--out", tmp_path / "clips")
-    _finish(run, tmp_path)
+    check_outputs(run, tmp_path)
 
 
 @pytest.mark.parametrize("passive", PASSIVES, ids=lambda p: p.stem)

@@ -228,9 +228,14 @@ def test_every_rig_command_runs_with_each_shipped_rig(design, rig, tmp_path):
         run("fit", FIT, "--from", design, *with_rig, "--top", 1, "--out", tmp_path / "fit")
         run("unvoice", DI, design, *with_rig, "--no-plot", "--out", tmp_path / "velocity.wav")
         run("blind", design, REFERENCE, *with_rig, "--seconds", 2, "--trials", 5, "--out", tmp_path / "blind")
-    for path in sorted(tmp_path.rglob("*.json")):
+    check_outputs(run, tmp_path)
+
+
+def check_outputs(run, folder):
+    """Every JSON under folder passes check_json and no CSV holds nan or inf; then no run reported a problem."""
+    for path in sorted(folder.rglob("*.json")):
         run.problems += check_json(path)
-    for path in sorted(tmp_path.rglob("*.csv")):
+    for path in sorted(folder.rglob("*.csv")):
         if NUMBER_WORDS.search(path.read_text(encoding="utf-8")):
             run.problems.append(f"{path.name}: holds nan or inf")
     assert not run.problems, "\n".join(run.problems)
