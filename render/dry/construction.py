@@ -49,6 +49,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 from scipy.interpolate import RectBivariateSpline
@@ -166,6 +167,99 @@ def pickup_emf(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers, s
     hum_polarity : each coil's wiring (+1 or −1)
     cores, outers : m, the strings' core and outer diameters, lowest first (for bends)
     """
+    plan = _plan(phrase, sensing, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    emf = np.zeros((2, plan.n_total))
+    warnings: list[str] = []
+    for j in plan.strings:  # one string's motion at a time (see Memory above)
+        chans, _ = _string_motion(plan, j, keep_fixed=False)
+        _add_string_emf(emf, warnings, sensing, j, chans, hum_polarity)
+    return emf, tuple(dict.fromkeys(warnings))
+
+
+@dataclass(frozen=True, eq=False)
+class PhraseMotion:
+    """Every moving string's motion at both coils, kept to be sensed again at another pluck strength.
+
+    Attributes
+    ----------
+    sensing : :class:`render.magnetics.sensing.PickupSensing`
+    strings : tuple of int
+        The moving strings (indices into the sensing tables, lowest string first).
+    moving : tuple of np.ndarray [shape=(2, 4, n)], float32, m and m/s
+        Per string, per coil, ū_y, ū_z, dū_y/dt, dū_z/dt of the plucks: linear in the pluck strength.
+    fixed : tuple of (np.ndarray [shape=(2, 4, n)] or None), m and m/s
+        Per string, the part that does not scale with the pluck (a bend's sideways offset).
+    strongest_m : float, m
+        The phrase's strongest pluck as synthesised.
+    """
+
+    sensing: object
+    strings: tuple
+    moving: tuple
+    fixed: tuple
+    strongest_m: float
+
+
+MOTION_BYTES_MOST = 256 * 2**20  # a longer phrase is synthesised again at each strength instead of kept
+
+
+def phrase_motion(phrase: Phrase, sensing, *, cores, outers, sample_rate: int, seed: int = 0, seconds: float | None = None) -> PhraseMotion | None:
+    """The phrase's string motion at both coils (:class:`PhraseMotion`), or None when it would take more than :data:`MOTION_BYTES_MOST`.
+
+    Kept in float32: the EMF sensed from it differs from a new synthesis by about 1e-7 of itself.
+    """
+    from .strength import strongest_pluck
+
+    plan = _plan(phrase, sensing, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    if len(plan.strings) * 2 * 4 * plan.n_total * 4 > MOTION_BYTES_MOST:
+        return None
+    moving, fixed = [], []
+    for j in plan.strings:
+        chans, bent = _string_motion(plan, j, keep_fixed=True)
+        moving.append((chans - bent if bent is not None else chans).astype(np.float32))
+        fixed.append(bent)
+    return PhraseMotion(sensing=sensing, strings=plan.strings, moving=tuple(moving), fixed=tuple(fixed), strongest_m=strongest_pluck(phrase))
+
+
+def motion_emf(motion: PhraseMotion, *, strongest_m: float, hum_polarity=(1, 1)) -> tuple[np.ndarray, tuple[str, ...]]:
+    """Each coil's EMF (V), shape (2, n), and warnings, with every pluck of ``motion`` scaled so that its strongest is ``strongest_m`` (m).
+
+    The plucks' motion is linear in their strength (:mod:`render.dry.strength`); a bend's offset is not scaled.
+    """
+    k = strongest_m / motion.strongest_m
+    emf = np.zeros((2, motion.moving[0].shape[2] if motion.moving else 0))
+    warnings: list[str] = []
+    for j, moving, fixed in zip(motion.strings, motion.moving, motion.fixed):
+        chans = k * moving.astype(float)
+        if fixed is not None:
+            chans += fixed
+        _add_string_emf(emf, warnings, motion.sensing, j, chans, hum_polarity)
+    return emf, tuple(dict.fromkeys(warnings))
+
+
+def motion_velocity(motion: PhraseMotion, pickup: Pickup, *, strongest_m: float) -> tuple[np.ndarray, tuple[str, ...]]:
+    """:func:`pickup_velocity`'s rows (m/s, shape (2, n)) and warnings from a kept :class:`PhraseMotion`, its plucks scaled so that the strongest is ``strongest_m`` (m)."""
+    emf, warnings = motion_emf(motion, strongest_m=strongest_m, hum_polarity=pickup.hum_polarity)
+    return emf / np.asarray(pickup.gain, float)[:, None], warnings
+
+
+@dataclass(frozen=True)
+class _Plan:
+    """What every string's synthesis shares: the phrase, the notes' onsets, ends and jitter."""
+
+    phrase: Phrase
+    sensing: Any  # render.magnetics.sensing.PickupSensing
+    cores: tuple
+    outers: tuple
+    fs: float
+    n_total: int
+    onsets: np.ndarray
+    ends: np.ndarray
+    jitter: np.ndarray
+    strings: tuple  # indices j of the strings with a note that sounds
+
+
+def _plan(phrase: Phrase, sensing, *, cores, outers, sample_rate: int, seed: int, seconds: float | None) -> _Plan:
     fs = _check_rate(sample_rate)
     inst = phrase.instrument
     n_strings = len(sensing.coil_a)
@@ -174,58 +268,71 @@ def pickup_emf(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers, s
     total = phrase.seconds if seconds is None else seconds
     if not (isinstance(total, (int, float)) and math.isfinite(total) and 0 < total <= 3600):
         raise InputError(f"seconds={total!r}: the length must be > 0 s and <= 3600 s")
-    n_total = int(round(total * fs))
     notes = phrase.notes
     rng = np.random.default_rng(int(seed))
     jitter = rng.uniform(-1.0, 1.0, size=(len(notes), 3))
     onsets = np.array([max(0.0, n.time + n.spread * jitter[i, 0]) for i, n in enumerate(notes)])
     ends = _note_ends(notes, onsets)
-    coils = (sensing.coil_a, sensing.coil_b)
-    emf = np.zeros((2, n_total))
-    warnings: list[str] = []
-    for j in range(n_strings):
-        string = n_strings - j
-        mine = [i for i, n in enumerate(notes) if n.string == string and ends[i] > onsets[i]]
-        if not mine:
+    strings = tuple(j for j in range(n_strings) if any(n.string == n_strings - j and ends[i] > onsets[i] for i, n in enumerate(notes)))
+    return _Plan(phrase, sensing, tuple(cores), tuple(outers), fs, int(round(total * fs)), onsets, ends, jitter, strings)
+
+
+def _string_motion(plan: _Plan, j: int, *, keep_fixed: bool) -> tuple[np.ndarray, np.ndarray | None]:
+    """String j's (2, 4, n) motion at both coils (ū_y, ū_z, dū_y/dt, dū_z/dt per coil), and its unscaled part (a bend's offset) when asked and present."""
+    inst = plan.phrase.instrument
+    notes = plan.phrase.notes
+    n_strings = len(plan.sensing.coil_a)
+    string = n_strings - j
+    chans = np.zeros((2, 4, plan.n_total))
+    fixed = np.zeros((2, 4, plan.n_total)) if keep_fixed else None
+    bent = False
+    strain = string_strain(core=plan.cores[j], outer=plan.outers[j], frequency=inst.open_pitches[j], scale_length=inst.scale_length)
+    for i, note in enumerate(notes):
+        if note.string != string or not plan.ends[i] > plan.onsets[i]:
             continue
-        chans = np.zeros((2, 4, n_total))  # per coil: ū_y, ū_z, dū_y/dt, dū_z/dt
-        strain = string_strain(core=cores[j], outer=outers[j], frequency=inst.open_pitches[j], scale_length=inst.scale_length)
-        for i in mine:
-            note = notes[i]
-            _add_note(
-                chans,
-                note,
-                inst,
-                coils=[c[j] for c in coils],
-                x_offset=sensing.x_offset,
-                fs=fs,
-                onset=float(onsets[i]),
-                end=float(ends[i]),
-                strength=note.strength * (1.0 + STRENGTH_JITTER * jitter[i, 1]),
-                pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * jitter[i, 2]), 0.999 * note.length),
-                strain=strain,
-                side=-1.0 if string <= n_strings / 2 else 1.0,
+        bent |= _add_note(
+            chans,
+            note,
+            inst,
+            coils=[plan.sensing.coil_a[j], plan.sensing.coil_b[j]],
+            x_offset=plan.sensing.x_offset,
+            fs=plan.fs,
+            onset=float(plan.onsets[i]),
+            end=float(plan.ends[i]),
+            strength=note.strength * (1.0 + STRENGTH_JITTER * plan.jitter[i, 1]),
+            pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * plan.jitter[i, 2]), 0.999 * note.length),
+            strain=strain,
+            side=-1.0 if string <= n_strings / 2 else 1.0,
+            fixed=fixed,
+        )
+    return chans, (fixed if bent else None)
+
+
+def _add_string_emf(emf: np.ndarray, warnings: list, sensing, j: int, chans: np.ndarray, hum_polarity) -> None:
+    """Add string j's EMF, Φ_y·dū_y/dt + Φ_z·dū_z/dt per coil, from its (2, 4, n) motion."""
+    from ._flux_kernel import slope_tables, slopes  # numba, only once a constructed pickup is sensed
+
+    string = len(sensing.coil_a) - j
+    for c, coil in enumerate((sensing.coil_a, sensing.coil_b)):
+        s = coil[j]
+        spline = RectBivariateSpline(s.dy, s.dz, s.flux, kx=3, ky=3)
+        uy, uz, vy, vz = chans[c]
+        live = np.flatnonzero(np.any(chans[c] != 0.0, axis=0))
+        if live.size == 0:
+            continue
+        y = np.clip(uy[live], s.dy[0], s.dy[-1])
+        z = np.clip(uz[live], s.dz[0], s.dz[-1])
+        if (y != uy[live]).any() or (z != uz[live]).any():
+            warnings.append(
+                f"string {string}: its displacement at the pickup left the computed range "
+                f"({s.dy[0] * 1e3:+.1f}…{s.dy[-1] * 1e3:+.1f} mm sideways, {s.dz[0] * 1e3:+.1f}…{s.dz[-1] * 1e3:+.1f} mm vertically); the flux is held at its edge there"
             )
-        for c in (0, 1):
-            s = coils[c][j]
-            spline = RectBivariateSpline(s.dy, s.dz, s.flux, kx=3, ky=3)
-            uy, uz, vy, vz = chans[c]
-            live = np.flatnonzero(np.any(chans[c] != 0.0, axis=0))
-            if live.size == 0:
-                continue
-            y = np.clip(uy[live], s.dy[0], s.dy[-1])
-            z = np.clip(uz[live], s.dz[0], s.dz[-1])
-            if (y != uy[live]).any() or (z != uz[live]).any():
-                warnings.append(
-                    f"string {string}: its displacement at the pickup left the computed range "
-                    f"({s.dy[0] * 1e3:+.1f}…{s.dy[-1] * 1e3:+.1f} mm sideways, {s.dz[0] * 1e3:+.1f}…{s.dz[-1] * 1e3:+.1f} mm vertically); the flux is held at its edge there"
-                )
-            emf[c, live] += hum_polarity[c] * (spline.ev(y, z, dx=1) * vy[live] + spline.ev(y, z, dy=1) * vz[live])
-    return emf, tuple(dict.fromkeys(warnings))
+        phi_y, phi_z = slopes(slope_tables(spline.tck), y, z)  # spline.ev(y, z, dx=1), (dy=1), compiled
+        emf[c, live] += hum_polarity[c] * (phi_y * vy[live] + phi_z * vz[live])
 
 
-def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, strength, pluck_at, strain, side) -> None:
-    """Add one note's displacement and velocity at the pickup, both directions, to ``chans`` (2, 4, n)."""
+def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, strength, pluck_at, strain, side, fixed=None) -> bool:
+    """Add one note's displacement and velocity at the pickup, both directions, to ``chans`` (2, 4, n); its bend's offset to ``fixed`` too when given. True when it bends sideways."""
     length = note.length
     b = inst.string_inharmonicity(note.string) * (inst.scale_length / length) ** 2
     f0 = note.frequency / math.sqrt(1.0 + b)
@@ -236,7 +343,7 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
     keep = freqs * hi_ratio < limit
     n, freqs = n[keep], freqs[keep]
     if n.size == 0:
-        return
+        return False
     mute = mute_rates(freqs, mute=note.mute, mute_decay=inst.mute_decay)
     sig_v = decay_rates(n, length=length, decay=inst.decay, curvature_loss=inst.curvature_loss) + mute
     lateral = inst.lateral_decay if inst.lateral_decay is not None else inst.decay * LATERAL_DECAY_FACTOR
@@ -270,7 +377,7 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
     n_total = chans.shape[2]
     i0 = int(math.ceil(onset * fs - 1e-9))
     if i0 >= n_total:
-        return
+        return False
     delta = i0 - onset * fs
     span = min(n_total - i0, int(math.ceil(float(life.max()) * fs)) + 1)
     lives = np.minimum(np.ceil(life * fs).astype(int) + 1, span)
@@ -304,9 +411,16 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
             off = side * d_fret * min(x_p / length, 1.0)
             if math.isfinite(hold):  # the finger lets go as the note is damped
                 off = off * np.exp(-sigma_rel * np.maximum(t - hold, 0.0))
+            slope = np.gradient(off, 1.0 / fs)
             buf[4 * c] += off
-            buf[4 * c + 2] += np.gradient(off, 1.0 / fs)
+            buf[4 * c + 2] += slope
+            if fixed is not None:
+                fixed[c, 0, i0 : i0 + span] += off
+                fixed[c, 2, i0 : i0 + span] += slope
+        chans[:, :, i0 : i0 + span] += buf.reshape(2, 4, span)
+        return True
     chans[:, :, i0 : i0 + span] += buf.reshape(2, 4, span)
+    return False
 
 
 @dataclass(frozen=True, eq=False)

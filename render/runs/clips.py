@@ -382,10 +382,14 @@ def run_clips(
         # designs that sense the string at the same points share one synthesised dry signal; with
         # workers, a side process makes those, then draws the plots that need no render (every
         # S-response.png and responses.png), while this one imports the heavy modules the workers share
-        firsts: dict[tuple, Design] = {}
-        for d in designs:
-            firsts.setdefault(sensing_key(d), d)
         parallel = jobs > 1 and len(designs) > 1
+        keys = [sensing_key(d) for d in designs]
+        firsts: dict[tuple, Design] = {}
+        for key, d in zip(keys, designs):
+            # a construction's sensing is slow and its own: with workers, the one design that uses it
+            # synthesises it where it renders, in parallel with the others, not in turn in the side process
+            if not (parallel and d.construction is not None and keys.count(key) == 1):
+                firsts.setdefault(key, d)
         if parallel and plots:
             from ..report.plots import pyplot
 
@@ -400,7 +404,7 @@ def run_clips(
             if parallel:
                 import_for_workers(plots)
             shared = {key: fut.result() for key, fut in pending.items()}
-            clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared[sensing_key(d)]) for stem, d in zip(stems, designs)], plots=plots, progress=progress)
+            clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared.get(key)) for stem, key in zip(stems, keys)], plots=plots, progress=progress)
             if drawing is not None:
                 drawing.result()
             cvolts = compared.result()[0] if compare is not None else np.zeros(0)

@@ -21,6 +21,12 @@ m stops falling (the strings have left the computed flux range) or
 figure is None with its reason, and the linear prediction stays in the record
 as an estimate.
 
+The strings' motion is linear in the pluck (:mod:`render.dry.strength`); only
+the flux sensed from it is not. So the motion is synthesised once and kept
+(:class:`render.dry.construction.PhraseMotion`, in float32: the EMF differs from
+a new synthesis by about 1e-7 of itself), and each render at another strength
+only senses it again; a phrase too long to keep is synthesised again instead.
+
 Numerical method: secant iteration (e.g. Press et al., Numerical Recipes, 3rd
 ed., 2007, §9.2).
 """
@@ -58,16 +64,40 @@ class LimitSearch:
     trail: tuple[tuple[float, float], ...]
 
 
-def margin_at(design, dry_path: Path, settings, strength_m: float) -> float | None:
-    """The smaller played margin (dB) of ``design`` playing the phrase with its strongest pluck at ``strength_m`` (no noise: it does not move the extremes it is measured on)."""
+def margin_at(design, dry_path: Path, settings, strength_m: float, *, motion=None) -> float | None:
+    """The smaller played margin (dB) of ``design`` playing the phrase with its strongest pluck at ``strength_m`` (no noise: it does not move the extremes it is measured on).
+
+    motion : :class:`render.dry.construction.PhraseMotion` or None
+        The phrase's string motion, kept from an earlier call (:func:`phrase_motion`): then
+        only the flux is sensed again, not the strings synthesised.
+    """
     from ..chain.stream import render_signal
     from ..clip import render_headroom
     from .dry_input import dry_for
 
-    s = replace(settings, strength=strength_m)
-    dry = dry_for(design, Path(dry_path), s)
-    r = render_signal(design, dry.velocity, sample_rate=dry.sample_rate, hum=settings.hum)
+    if motion is not None:
+        from ..design.construction import pickup_for
+        from ..dry.construction import motion_velocity
+
+        velocity, _ = motion_velocity(motion, pickup_for(design), strongest_m=strength_m)
+        sample_rate = settings.sample_rate
+    else:
+        dry = dry_for(design, Path(dry_path), replace(settings, strength=strength_m))
+        velocity, sample_rate = dry.velocity, dry.sample_rate
+    r = render_signal(design, velocity, sample_rate=sample_rate, hum=settings.hum)
     return render_headroom(design, r, strongest_pluck_m=strength_m).margin_db
+
+
+def phrase_motion(design, dry_path: Path, settings):
+    """The phrase's string motion at ``design``'s coils, kept for the renders at other strengths (None: not a constructed design, or too long to keep)."""
+    from ..design.construction import pickup_for
+    from ..dry.construction import phrase_motion as motion
+    from ..dry.phrase import load_phrase
+
+    pickup = pickup_for(design)
+    if pickup is None:
+        return None
+    return motion(load_phrase(Path(dry_path)), pickup.sensing, cores=pickup.cores, outers=pickup.outers, sample_rate=settings.sample_rate, seed=settings.seed, seconds=settings.seconds)
 
 
 def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: float, margin_db: float, tolerance_db: float = TOLERANCE_DB, most: int = MOST_RENDERS) -> LimitSearch:
@@ -89,8 +119,10 @@ def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: floa
         return LimitSearch(strongest_m, margin_db, 0, tuple(trail))
     x0, m0 = math.log(strongest_m), margin_db
     x1 = x0 + margin_db / 20.0 * math.log(10.0)  # the linear prediction
+    # the strings' motion is linear in the pluck: synthesised once, then only sensed again at each strength
+    kept = {"motion": motion} if design is not None and (motion := phrase_motion(design, dry_path, settings)) is not None else {}
     for n in range(1, most + 1):
-        m1 = margin_at(design, dry_path, settings, math.exp(x1))
+        m1 = margin_at(design, dry_path, settings, math.exp(x1), **kept)
         if m1 is None:
             break
         trail.append((math.exp(x1), m1))

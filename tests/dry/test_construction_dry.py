@@ -225,3 +225,26 @@ def test_bent_string_leaves_and_returns():
     at_fret = float(bend_offset(2 ** (2 / 12), strain=eps, length=note.length, scale_length=0.648))
     expect = -at_fret * 0.04 / note.length  # x_pickup / L of the triangle
     assert push[int(0.5 * FS)] == pytest.approx(expect, rel=0.02)
+
+
+def test_kept_motion_sensed_at_another_strength_equals_a_new_synthesis():
+    # The limit search keeps the strings' motion and senses it again at each strength. The modal
+    # string's motion is linear in the pluck (each mode's amplitude ∝ the initial displacement;
+    # Fletcher & Rossing, The Physics of Musical Instruments, 2nd ed., 1998, §2.7) while a bend's
+    # offset is set by the pitch alone; so with a nonlinear flux table and a bend, the kept
+    # motion at 2.5× must give the EMF of the phrase synthesised again at 2.5×, to the float32
+    # the motion is kept in (about 1e-7 of the EMF; 1e-6 allowed).
+    from render.dry.construction import motion_emf, phrase_motion
+    from render.dry.strength import scale_plucks
+
+    ph = _phrase(note={"fret": 7, "bend": {"semitones": 2, "over": "0.2s", "start": "0.1s"}, "duration": "0.8s"})
+    sens = _sensing(sz=0.03, sy=0.02, quad=8.0)
+    motion = phrase_motion(ph, sens, cores=CORES, outers=OUTERS, sample_rate=FS)
+    assert motion.fixed[0] is not None  # the bend's offset is kept apart
+    for k in (1.0, 2.5):
+        again, w_again = pickup_emf(scale_plucks(ph, k * 0.8 * MM), sens, hum_polarity=(1, -1), cores=CORES, outers=OUTERS, sample_rate=FS)
+        kept, w_kept = motion_emf(motion, strongest_m=k * 0.8 * MM, hum_polarity=(1, -1))
+        assert np.abs(kept - again).max() <= 1e-6 * np.abs(again).max() and w_kept == w_again
+    # and it is not linear: at 2.5× the EMF is not 2.5 times the EMF at 1× (the quadratic flux term, the unscaled bend)
+    one, _ = motion_emf(motion, strongest_m=0.8 * MM)
+    assert np.abs(kept - 2.5 * one * np.array([[1], [-1]])).max() > 1e-3 * np.abs(kept).max()

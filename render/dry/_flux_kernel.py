@@ -1,0 +1,102 @@
+"""The flux table's slopes at many points, compiled (numba): the kernel of :mod:`render.dry.construction`.
+
+The table is a bicubic interpolating spline, F(y, z) = Σ_ij c_ij·B_i,3(y)·B_j,3(z)
+(scipy's ``RectBivariateSpline``; Dierckx, *Curve and Surface Fitting with
+Splines*, Oxford 1993, ch. 2). Its slopes are splines of one degree less in
+the differentiated variable, with the differenced coefficients
+
+    ∂F/∂y = Σ_ij d_ij·B_i,2(y)·B_j,3(z),  d_ij = 3·(c_i+1,j − c_ij)/(t_i+4 − t_i+1)
+
+on the knots without their first and last (de Boor, *A Practical Guide to
+Splines*, rev. ed., Springer 2001, ch. X, eq. (12)), and likewise in z. The
+B-splines at a point come from the Cox–de Boor recurrence in the triangular
+form of Piegl & Tiller, *The NURBS Book*, 2nd ed., Springer 1997, Algorithm A2.2.
+This is the same spline scipy evaluates (``ev(y, z, dx=1)``), to rounding;
+tests/dry/test_flux_kernel.py checks it against scipy.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numba import njit
+
+
+def slope_tables(tck, *, kx: int = 3, ky: int = 3) -> tuple:
+    """The knots and differenced coefficients of ∂F/∂y and ∂F/∂z from a bicubic spline's ``(tx, ty, c)``."""
+    tx, ty, c = (np.asarray(a, float) for a in tck)
+    c = c.reshape(tx.size - kx - 1, ty.size - ky - 1)
+    dy = kx * (c[1:, :] - c[:-1, :]) / (tx[kx + 1 : -1] - tx[1 : -kx - 1])[:, None]
+    dz = ky * (c[:, 1:] - c[:, :-1]) / (ty[ky + 1 : -1] - ty[1 : -ky - 1])[None, :]
+    return tx, ty, np.ascontiguousarray(dy), np.ascontiguousarray(dz)
+
+
+def slopes(tables, y: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """∂F/∂y and ∂F/∂z at the points (y, z) (each shape (n,), inside the table), from :func:`slope_tables`."""
+    tx, ty, dy, dz = tables
+    y = np.ascontiguousarray(y, float)
+    z = np.ascontiguousarray(z, float)
+    return _slopes(tx, ty, dy, dz, y, z)
+
+
+@njit(cache=True, inline="always")
+def _span(t, p, x):
+    """μ with t[μ] ≤ x < t[μ+1], p ≤ μ ≤ len(t) − p − 2 (the last span holds the right end)."""
+    lo, hi = p, t.size - p - 1  # t[lo] ≤ x < t[hi] is kept
+    if x >= t[hi]:
+        return hi - 1
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        if x < t[mid]:
+            hi = mid
+        else:
+            lo = mid
+    return lo
+
+
+@njit(cache=True, inline="always")
+def _basis(t, p, mu, x, out, left, right):
+    """B_μ−p..μ,p(x) into out[0..p] (Piegl & Tiller, Algorithm A2.2)."""
+    out[0] = 1.0
+    for j in range(1, p + 1):
+        left[j] = x - t[mu + 1 - j]
+        right[j] = t[mu + j] - x
+        saved = 0.0
+        for r in range(j):
+            temp = out[r] / (right[r + 1] + left[j - r])
+            out[r] = saved + right[r + 1] * temp
+            saved = left[j - r] * temp
+        out[j] = saved
+
+
+@njit(cache=True, inline="always")
+def _tensor(coef, i0, j0, bi, bj):
+    """Σ_ab coef[i0 + a, j0 + b]·bi[a]·bj[b]: a tensor spline at one point from its two bases."""
+    total = 0.0
+    for a in range(bi.size):
+        row = 0.0
+        for b in range(bj.size):
+            row += coef[i0 + a, j0 + b] * bj[b]
+        total += bi[a] * row
+    return total
+
+
+@njit(cache=True)
+def _slopes(tx, ty, dy, dz, y, z):
+    n = y.size
+    gy = np.empty(n)
+    gz = np.empty(n)
+    tx2, ty2 = tx[1:-1], ty[1:-1]
+    by3, by2, bz3, bz2 = np.empty(4), np.empty(3), np.empty(4), np.empty(3)
+    left, right = np.empty(4), np.empty(4)
+    for k in range(n):
+        my3, my2 = _span(tx, 3, y[k]), _span(tx2, 2, y[k])
+        mz3, mz2 = _span(ty, 3, z[k]), _span(ty2, 2, z[k])
+        _basis(tx, 3, my3, y[k], by3, left, right)
+        _basis(tx2, 2, my2, y[k], by2, left, right)
+        _basis(ty, 3, mz3, z[k], bz3, left, right)
+        _basis(ty2, 2, mz2, z[k], bz2, left, right)
+        sy = _tensor(dy, my2 - 2, mz3 - 3, by2, bz3)
+        sz = _tensor(dz, my3 - 3, mz2 - 2, by3, bz2)
+        gy[k] = sy
+        gz[k] = sz
+    return gy, gz
