@@ -18,6 +18,20 @@ Richardson, Phil. Trans. R. Soc. A 210, 307–357, 1911. The other sides are
 refined twice once each, to show what they add on top. What is printed is
 the table of the README's "The core, from the construction" (paragraph "Mesh
 error, measured"). Not collected by pytest (no unit test is timed).
+
+Measured on 2026-12-02 (coil_a; wall seconds of one solve on a shared 2-core
+machine, scattering by up to a factor of two):
+
+- slipway-steel-blades: shipped 42.23 mH (816 cells, 4.5 s); top and body
+  across x 2×, 3×, 4×: 44.84, 45.51, 45.78 mH (1376, 1936, 2496 cells; 14, 9,
+  21 s); p 1.65, ≈ 46.22 mH, shipped −8.6 %. Body alone 2×, 3×, 4×: 44.29,
+  44.95, 45.03 mH (928, 1040, 1152 cells; 2–4 s). With the body 2×, y 2× adds
+  0.18 mH, z 2× 0.04 mH.
+- slipway-steel-poles: shipped 32.72 mH (928 cells, 1.9 s); body across x
+  and y 2×, 3×, 4×: 34.42, 35.21, 35.61 mH (1216, 1696, 2368 cells; 4, 8,
+  17 s); p 0.98, ≈ 36.84 mH, shipped −11.2 %. With the body 2×, each top
+  column split in four adds 0.53 mH (2944 cells, 25 s), z 2× 0.75 mH (2176
+  cells, 17 s): the full limit is about 38 mH or more.
 """
 
 from __future__ import annotations
