@@ -10,7 +10,8 @@ the differentiated variable, with the differenced coefficients
 on the knots without their first and last (de Boor, *A Practical Guide to
 Splines*, rev. ed., Springer 2001, ch. X, eq. (12)), and likewise in z. The
 B-splines at a point come from the Cox–de Boor recurrence in the triangular
-form of Piegl & Tiller, *The NURBS Book*, 2nd ed., Springer 1997, Algorithm A2.2.
+form of Piegl & Tiller, *The NURBS Book*, 2nd ed., Springer 1997, Algorithm A2.2,
+whose second stage is the quadratic basis the slopes need.
 This is the same spline scipy evaluates (``ev(y, z, dx=1)``), to rounding;
 tests/dry/test_flux_kernel.py checks it against scipy.
 """
@@ -54,18 +55,24 @@ def _span(t, p, x):
 
 
 @njit(cache=True, inline="always")
-def _basis(t, p, mu, x, out, left, right):
-    """B_μ−p..μ,p(x) into out[0..p] (Piegl & Tiller, Algorithm A2.2)."""
-    out[0] = 1.0
-    for j in range(1, p + 1):
+def _bases(t, mu, x, cubic, quad, left, right):
+    """B_μ−3..μ,3(x) into cubic[0..3] and B_μ−2..μ,2(x) into quad[0..2], on the knots t.
+
+    The Cox–de Boor recurrence in the triangular form of Piegl & Tiller, Algorithm A2.2: its
+    second stage is the quadratic basis, which on the knots t[1:-1] is the one of span μ − 1.
+    """
+    cubic[0] = 1.0
+    for j in range(1, 4):
         left[j] = x - t[mu + 1 - j]
         right[j] = t[mu + j] - x
         saved = 0.0
         for r in range(j):
-            temp = out[r] / (right[r + 1] + left[j - r])
-            out[r] = saved + right[r + 1] * temp
+            temp = cubic[r] / (right[r + 1] + left[j - r])
+            cubic[r] = saved + right[r + 1] * temp
             saved = left[j - r] * temp
-        out[j] = saved
+        cubic[j] = saved
+        if j == 2:
+            quad[0], quad[1], quad[2] = cubic[0], cubic[1], cubic[2]
 
 
 @njit(cache=True, inline="always")
@@ -85,18 +92,15 @@ def _slopes(tx, ty, dy, dz, y, z):
     n = y.size
     gy = np.empty(n)
     gz = np.empty(n)
-    tx2, ty2 = tx[1:-1], ty[1:-1]
     by3, by2, bz3, bz2 = np.empty(4), np.empty(3), np.empty(4), np.empty(3)
     left, right = np.empty(4), np.empty(4)
     for k in range(n):
-        my3, my2 = _span(tx, 3, y[k]), _span(tx2, 2, y[k])
-        mz3, mz2 = _span(ty, 3, z[k]), _span(ty2, 2, z[k])
-        _basis(tx, 3, my3, y[k], by3, left, right)
-        _basis(tx2, 2, my2, y[k], by2, left, right)
-        _basis(ty, 3, mz3, z[k], bz3, left, right)
-        _basis(ty2, 2, mz2, z[k], bz2, left, right)
-        sy = _tensor(dy, my2 - 2, mz3 - 3, by2, bz3)
-        sz = _tensor(dz, my3 - 3, mz2 - 2, by3, bz2)
+        my, mz = _span(tx, 3, y[k]), _span(ty, 3, z[k])
+        _bases(tx, my, y[k], by3, by2, left, right)
+        _bases(ty, mz, z[k], bz3, bz2, left, right)
+        # the slopes' coefficients on t[1:-1] at span μ − 1 start at index μ − 3, as the cubic's do
+        sy = _tensor(dy, my - 3, mz - 3, by2, bz3)
+        sz = _tensor(dz, my - 3, mz - 3, by3, bz2)
         gy[k] = sy
         gz[k] = sz
     return gy, gz
