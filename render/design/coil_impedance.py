@@ -231,7 +231,10 @@ def _rises_cached(build, position_a, position_b):
             }
         except (KeyError, ValueError, TypeError):
             pass
-    result = part_rises(c, build.geometry_a, build.geometry_b, position_a=position_a, position_b=position_b)
+    from .construction import _sensing
+
+    # the construction's sensing solve (made, and cached, when the design loads) holds the cells' answer to each coil's field
+    result = part_rises(c, build.geometry_a, build.geometry_b, position_a=position_a, position_b=position_b, solved=_sensing(build, position_a, position_b).steel)
     arrays = {}
     for n in names:
         items = result[n]

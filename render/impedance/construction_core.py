@@ -100,8 +100,13 @@ def cell_linkage(cells, field_per_amp) -> np.ndarray:
     return np.einsum("ij,ij->i", cells.polarization * (volume / mu_0)[:, None], field_per_amp(centres))
 
 
-def part_rises(construction, geometry_a, geometry_b, *, position_a: float, position_b: float) -> dict[str, tuple[PartRise, ...]]:
+def part_rises(construction, geometry_a, geometry_b, *, position_a: float, position_b: float, solved=None) -> dict[str, tuple[PartRise, ...]]:
     """Eq. (1) per coil and per part: ``{"coil_a": (PartRise, …), "coil_b": (…)}``.
+
+    solved : (cells of coil_a, cells of coil_b) or None
+        The cells' polarisation with each coil at 1 A (``lo``, ``hi``, ``polarization``), when the
+        construction's own solve has them (:attr:`render.magnetics.sensing.PickupSensing.steel`):
+        the same parts and excitations, so the system is not solved again.
 
     Needs magpylib and magpylib-material-response, as the construction does.
     """
@@ -112,8 +117,9 @@ def part_rises(construction, geometry_a, geometry_b, *, position_a: float, posit
     ca, cb = coil_centres(position_a, position_b)
     coils = (placed_coil(geometry_a, centre=ca, nodes=APPLIED_NODES), placed_coil(geometry_b, centre=cb, nodes=APPLIED_NODES))
     parts = construction.parts(ca, cb, geometry_a, geometry_b)
-    solved = solve_many(parts, [Excitation(c.field_per_amp, False) for c in coils])
     counts = [int(np.prod(p.cells)) for p in parts]
+    if solved is None or any(len(c.lo) != sum(counts) for c in solved):
+        solved = solve_many(parts, [Excitation(c.field_per_amp, False) for c in coils])
     owner = np.repeat(np.arange(len(parts)), counts)
     out = {}
     for name, coil, cells in zip(("coil_a", "coil_b"), coils, solved):

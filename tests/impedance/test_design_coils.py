@@ -112,3 +112,22 @@ def test_derived_and_measured_designs_load_with_their_ladders():
     d = load_design(ROOT / "models" / "measured-blade.toml")
     assert d.coil_a.impedance_from.kind == "measured" and len(d.coil_a.ladder.inductances) >= 1
     assert d.coil_a.inductance == pytest.approx(d.coil_a.ladder.dc_inductance, rel=1e-12)
+
+
+def test_core_rise_from_the_sensing_solve_equals_its_own_solve():
+    # The rise reuses the construction's sensing solve (the cells' answer to each coil's field at
+    # 1 A) instead of solving the same system again: the same parts and excitations, so the same
+    # rises to rounding. A check of the reuse, not of the physics (that is the cube above).
+    require_material_response()
+    from render.design.construction import sensing
+    from render.impedance.construction_core import part_rises
+
+    d = load_design(ROOT / "models" / "slipway-steel-poles.toml")
+    b = d.construction
+    kw = dict(position_a=d.coil_a.position, position_b=d.coil_b.position)
+    own = part_rises(b.construction, b.geometry_a, b.geometry_b, **kw)
+    shared = part_rises(b.construction, b.geometry_a, b.geometry_b, **kw, solved=sensing(d).steel)
+    for coil in ("coil_a", "coil_b"):
+        assert [p.name for p in shared[coil]] == [p.name for p in own[coil]]
+        for p, q in zip(shared[coil], own[coil]):
+            assert p.rise == pytest.approx(q.rise, rel=1e-9, abs=1e-15), (coil, p.name)
