@@ -76,6 +76,7 @@ def _worker_init(parent_pid: int) -> None:
     threadpool_limits(1)
 
 
+LOCK_WAIT_S = 0.5  # a pool lock not free after this long is held by a killed worker (a live holder keeps it for a send)
 STOP_GRACE_S = 3.0  # after a stop signal, how long the clean-up may take before the run is ended outright
 
 
@@ -156,11 +157,13 @@ def _end_now(pool: Any) -> None:
             worker.kill()
     for worker in list(pool._pool):
         worker.join(5.0)
-    # the locks only workers take: reading a task, writing a result (a worker killed mid-put holds it)
+    # the locks a worker killed mid-way keeps for ever: reading a task, writing a result. The pool's own
+    # task thread also takes the result lock, for a moment, to send its end marker; so wait a little
+    # for a lock before taking it as a dead worker's (releasing a live holder's lock would make that
+    # holder's own release fail)
     for lock in (pool._inqueue._rlock, pool._outqueue._wlock):
         if lock is not None:
-            # free or held by a worker that is dead now: either way it ends free
-            lock.acquire(block=False)
+            lock.acquire(timeout=LOCK_WAIT_S)  # got it, or its holder is dead: either way it ends free
             lock.release()
     pool.terminate()
     pool.join()
@@ -255,7 +258,10 @@ class SideProcess:
     def submit(self, fn: Callable[..., Any], *args: Any) -> _Done | _Pending:
         if self._pool is not None:
             return _Pending(self._pool.apply_async(fn, args))
-        return _Done(fn(*args))
+        from threadpoolctl import threadpool_limits
+
+        with threadpool_limits(1):  # as in the side process and every worker: the same sums, the same bits
+            return _Done(fn(*args))
 
     def __enter__(self) -> SideProcess:
         return self

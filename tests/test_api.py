@@ -115,3 +115,17 @@ def test_every_public_name_is_in_the_api_reference():
     text = (ROOT / "docs" / "api" / "index.rst").read_text(encoding="utf-8")
     missing = [n for n in render.__all__ if n != "__version__" and f"render.{n}\n" not in text]
     assert not missing, f"not in docs/api/index.rst: {missing}"
+
+
+def test_synthesis_bits_do_not_depend_on_the_blas_threads():
+    # the main job sums with one BLAS thread in every process; the API's synthesis must too, or a
+    # multi-threaded BLAS sums the modes in another order and render_clip no longer equals the WAV
+    from threadpoolctl import threadpool_limits
+
+    d = render.load_design(REF)
+    kw = dict(positions=(d.coil_a.position, d.coil_b.position), apertures=(d.coil_a.aperture, d.coil_b.aperture), sample_rate=48000, seconds=1.0)
+    with threadpool_limits(2):
+        many = render.synthesize(render.load_phrase(PHRASE), **kw).velocity
+    with threadpool_limits(1):
+        one = render.synthesize(render.load_phrase(PHRASE), **kw).velocity
+    assert np.array_equal(many, one)

@@ -124,7 +124,7 @@ def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: 
     if pickup is not None:
         from .construction import pickup_velocity
 
-        v, warnings, info = pickup_velocity(phrase, pickup, sample_rate=sample_rate, seed=seed, seconds=seconds)
+        v, warnings, info, _ = pickup_velocity(phrase, pickup, sample_rate=sample_rate, seed=seed, seconds=seconds)
         return Dry(velocity=v, sample_rate=int(sample_rate), warnings=warnings, description=info)
     velocity = string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
     if velocity.shape[0] == 1:

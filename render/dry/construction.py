@@ -42,7 +42,11 @@ figures of :mod:`render.design.construction`): the rest of the chain
 multiplies them back, so it renders the EMF exactly.
 
 Memory: four samples per coil and string at a time (about 260 MB for a
-10-minute phrase at 48 kHz).
+10-minute phrase at 48 kHz). A limit search keeps every moving string's
+motion instead (:class:`PhraseMotion`, float32: 192 bytes per sample with six
+strings, 78 MB for the 8.5 s demo phrase), up to :data:`MOTION_BYTES_MOST`
+(256 MiB, about 29 s of six moving strings at 48 kHz); a longer phrase is
+synthesised again at each strength.
 """
 
 from __future__ import annotations
@@ -71,6 +75,7 @@ from .modal import (
     decay_rates,
     mode_frequencies,
     mute_rates,
+    one_blas_thread,
     pitch_ratio,
     pluck_amplitudes,
 )
@@ -167,13 +172,36 @@ def pickup_emf(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers, s
     hum_polarity : each coil's wiring (+1 or −1)
     cores, outers : m, the strings' core and outer diameters, lowest first (for bends)
     """
+    emf, warnings, _ = sense_phrase(phrase, sensing, hum_polarity=hum_polarity, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    return emf, warnings
+
+
+@one_blas_thread
+def sense_phrase(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers, sample_rate: int, seed: int = 0, seconds: float | None = None, keep: bool = False):
+    """:func:`pickup_emf`'s EMF and warnings, and with ``keep`` the strings' motion kept for sensing again at another strength.
+
+    Returns
+    -------
+    emf : np.ndarray [shape=(2, n)], V
+    warnings : tuple of str
+    motion : :class:`PhraseMotion` or None
+        None unless ``keep``, or when it would take more than :data:`MOTION_BYTES_MOST`.
+    """
+    from .strength import strongest_pluck
+
     plan = _plan(phrase, sensing, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    keep = keep and len(plan.strings) * 2 * 4 * plan.n_total * 4 <= MOTION_BYTES_MOST
     emf = np.zeros((2, plan.n_total))
     warnings: list[str] = []
-    for j in plan.strings:  # one string's motion at a time (see Memory above)
-        chans, _ = _string_motion(plan, j, keep_fixed=False)
+    moving, fixed = [], []
+    for j in plan.strings:  # one string's motion at a time (see Memory above), unless kept
+        chans, bent = _string_motion(plan, j, keep_fixed=keep)
         _add_string_emf(emf, warnings, sensing, j, chans, hum_polarity)
-    return emf, tuple(dict.fromkeys(warnings))
+        if keep:
+            moving.append((chans - bent if bent is not None else chans).astype(np.float32))
+            fixed.append(bent)
+    motion = PhraseMotion(sensing=sensing, strings=plan.strings, moving=tuple(moving), fixed=tuple(fixed), strongest_m=strongest_pluck(phrase)) if keep else None
+    return emf, tuple(dict.fromkeys(warnings)), motion
 
 
 @dataclass(frozen=True, eq=False)
@@ -208,17 +236,7 @@ def phrase_motion(phrase: Phrase, sensing, *, cores, outers, sample_rate: int, s
 
     Kept in float32: the EMF sensed from it differs from a new synthesis by about 1e-7 of itself.
     """
-    from .strength import strongest_pluck
-
-    plan = _plan(phrase, sensing, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
-    if len(plan.strings) * 2 * 4 * plan.n_total * 4 > MOTION_BYTES_MOST:
-        return None
-    moving, fixed = [], []
-    for j in plan.strings:
-        chans, bent = _string_motion(plan, j, keep_fixed=True)
-        moving.append((chans - bent if bent is not None else chans).astype(np.float32))
-        fixed.append(bent)
-    return PhraseMotion(sensing=sensing, strings=plan.strings, moving=tuple(moving), fixed=tuple(fixed), strongest_m=strongest_pluck(phrase))
+    return sense_phrase(phrase, sensing, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds, keep=True)[2]
 
 
 def motion_emf(motion: PhraseMotion, *, strongest_m: float, hum_polarity=(1, 1)) -> tuple[np.ndarray, tuple[str, ...]]:
@@ -440,14 +458,18 @@ class Pickup:
     outers: tuple
 
 
-def pickup_velocity(phrase: Phrase, pickup: Pickup, *, sample_rate: int, seed: int = 0, seconds: float | None = None) -> tuple[np.ndarray, tuple[str, ...], dict]:
-    """The phrase as the constructed pickup's coils sense it: each coil's EMF over its gain (m/s), shape (2, n); warnings; a description."""
+def pickup_velocity(
+    phrase: Phrase, pickup: Pickup, *, sample_rate: int, seed: int = 0, seconds: float | None = None, keep_motion: bool = False
+) -> tuple[np.ndarray, tuple[str, ...], dict, PhraseMotion | None]:
+    """The phrase as the constructed pickup's coils sense it: each coil's EMF over its gain (m/s), shape (2, n); warnings; a description; the kept motion (:func:`sense_phrase`)."""
     from .phrase import describe
 
-    emf, warnings = pickup_emf(phrase, pickup.sensing, hum_polarity=pickup.hum_polarity, cores=pickup.cores, outers=pickup.outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    emf, warnings, motion = sense_phrase(
+        phrase, pickup.sensing, hum_polarity=pickup.hum_polarity, cores=pickup.cores, outers=pickup.outers, sample_rate=sample_rate, seed=seed, seconds=seconds, keep=keep_motion
+    )
     velocity = emf / np.asarray(pickup.gain, float)[:, None]
     info = describe(phrase) | {
         "seed": int(seed),
         "pickup": "construction: two polarisations, the sensing function and the nonlinear flux of the field solve; rows are each coil's EMF over its signal_polarity·sensitivity",
     }
-    return velocity, warnings, info
+    return velocity, warnings, info, motion

@@ -25,6 +25,7 @@ instantaneous frequency.
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -165,6 +166,21 @@ def _highest_ratio(note: Note) -> float:
 # The whole phrase
 
 
+def one_blas_thread(fn):
+    """Run ``fn`` with one BLAS thread: the synthesis's matrix products then sum in one order, so its bits
+    do not depend on the machine's core count, on ``--jobs``, or on whether it runs from the API or a command."""
+
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        from threadpoolctl import threadpool_limits
+
+        with threadpool_limits(1):
+            return fn(*args, **kwargs)
+
+    return wrapper
+
+
+@one_blas_thread
 def string_velocity(
     phrase: Phrase,
     *,

@@ -213,22 +213,32 @@ def render_design(design: Design, dry_path: Path, settings: RenderSettings, *, d
     return render_clip(design, signal, hum=settings.hum, noise=settings.noise, passive=settings.passive, seed=settings.seed, resampler=resampler)
 
 
-def _render_one(args: tuple, kept: Any = None, resampler: Any = None) -> Clip:
-    """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel)."""
+def _render_one(args: tuple, kept: Any = None, resampler: Any = None) -> tuple[Clip, Any]:
+    """Render one design and, with a plot folder, draw its plots (in the worker, so they run in parallel).
+
+    Returns the clip and, for a design with a ``[construction]`` that synthesises its own phrase here, where
+    its limit is reached (:func:`_search_here`; else None).
+    """
     design, dry_path, settings, (plot_to, signal) = args
+    motion = None
+    if signal is None and design.construction is not None:
+        from .dry_input import dry_with_motion
+
+        signal, motion = dry_with_motion(design, dry_path, settings)
     clip = render_design(design, dry_path, settings, dry=signal, resampler=resampler)
+    found = _search_here(design, dry_path, settings, clip.stats, motion) if motion is not None else None
     if plot_to is not None:
         from ..report.clips import write_clip_plots
 
         folder, stem = plot_to
         write_clip_plots(folder, stem, clip, sample_rate=settings.sample_rate, kept=kept)
     # the op-amp output is not sent back: the run needs only its extremes, already in the stats
-    return replace(clip, amp_out=None)
+    return replace(clip, amp_out=None), found
 
 
-def _render_batch(batch: list[tuple]) -> list[Clip]:
+def _render_batch(batch: list[tuple]) -> list[tuple[Clip, Any]]:
     """Render a few designs in turn: one limiter resampler for them all (it depends only on the
-    sample rate), their plots drawn on figures kept from one design to the next."""
+    sample rate), their plots drawn on figures kept from one design to the next; (clip, limit search) each (:func:`_render_one`)."""
     from ..chain.stream import default_oversample, design_resampler
 
     fs = batch[0][2].sample_rate
@@ -280,7 +290,8 @@ def render_all(
     plots: bool = False,
     progress: Callable[[int], None] | None = None,
 ) -> list:
-    """Render every design (in ``jobs`` processes); results in the designs' order.
+    """Render every design (in ``jobs`` processes); results in the designs' order (without ``work``, a
+    (clip, limit search or None) pair per design: :func:`_render_one`).
 
     plots : whether the work draws plots (then matplotlib is imported once, before the workers fork)
     progress : called with the number of designs each finished task rendered
@@ -386,9 +397,10 @@ def run_clips(
         keys = [sensing_key(d) for d in designs]
         firsts: dict[tuple, Design] = {}
         for key, d in zip(keys, designs):
-            # a construction's sensing is slow and its own: with workers, the one design that uses it
-            # synthesises it where it renders, in parallel with the others, not in turn in the side process
-            if not (parallel and d.construction is not None and keys.count(key) == 1):
+            # a construction's sensing is slow and its own: the one design that uses it synthesises it where
+            # it renders (in parallel with the others, not in turn in the side process), keeping the strings'
+            # motion there for its limit search
+            if not (d.construction is not None and keys.count(key) == 1):
                 firsts.setdefault(key, d)
         if parallel and plots:
             from ..report.plots import pyplot
@@ -404,7 +416,8 @@ def run_clips(
             if parallel:
                 import_for_workers(plots)
             shared = {key: fut.result() for key, fut in pending.items()}
-            clips = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared.get(key)) for stem, key in zip(stems, keys)], plots=plots, progress=progress)
+            rendered = render_all(designs, dry, settings, jobs, extra=[((out, stem) if plots else None, shared.get(key)) for stem, key in zip(stems, keys)], plots=plots, progress=progress)
+            clips = [clip for clip, _ in rendered]
             if drawing is not None:
                 drawing.result()
             cvolts = compared.result()[0] if compare is not None else np.zeros(0)
@@ -412,7 +425,7 @@ def run_clips(
         peaks += [abs(cvolts).max()] if cvolts.size else []
         vfs = volts_full_scale or choose_full_scale(peaks)
         records = [clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry) for clip in clips]
-        search_limits(designs, records, dry, settings, jobs=jobs)
+        search_limits(designs, records, dry, settings, jobs=jobs, found=[f for _, f in rendered])
         add_brightness(records, designs, reference=ref)
         for stem, clip, rec in zip(stems, clips, records):
             write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
@@ -444,20 +457,39 @@ def _search_one(args: tuple):
     return search_limit_strength(design, dry, settings, strongest_m=strongest, margin_db=margin)
 
 
-def search_limits(designs: Sequence[Design], records: Sequence[dict], dry: Path, settings: RenderSettings, *, jobs: int = 1) -> None:
-    """For each design whose sensing is not linear in the pluck (a ``[construction]``), find where its limit is reached by
-    renders at scaled strength (:mod:`render.runs.limit_strength`), in ``jobs`` processes, and put it in its record's measurements."""
+def _to_search(design: Design, measurements: dict, dry: Path):
+    """The played headroom of a render whose limit is to be found by renders (a ``[construction]``, a phrase), else None."""
     from ..analysis.headroom import from_record
+
+    h = from_record(measurements)
+    if design.construction is not None and h is not None and h.strongest_pluck_m and h.margin_db is not None and Path(dry).suffix.lower() == ".toml":
+        return h
+    return None
+
+
+def _search_here(design: Design, dry: Path, settings: RenderSettings, stats: dict, motion):
+    """The limit search of :func:`search_limits` for one design, in this process, from the motion its render kept."""
+    from .limit_strength import search_limit_strength
+
+    h = _to_search(design, stats, dry)
+    return None if h is None else search_limit_strength(design, dry, settings, strongest_m=h.strongest_pluck_m, margin_db=h.margin_db, motion=motion)
+
+
+def search_limits(designs: Sequence[Design], records: Sequence[dict], dry: Path, settings: RenderSettings, *, jobs: int = 1, found: Sequence | None = None) -> None:
+    """For each design whose sensing is not linear in the pluck (a ``[construction]``), find where its limit is reached by
+    renders at scaled strength (:mod:`render.runs.limit_strength`), in ``jobs`` processes, and put it in its record's measurements.
+
+    found : per design, a search already made where it rendered (:func:`_search_here`), or None
+    """
     from ..parallel import pmap
 
-    todo = []
-    for i, (d, rec) in enumerate(zip(designs, records)):
-        h = from_record(rec["measurements"])
-        if d.construction is not None and h is not None and h.strongest_pluck_m and h.margin_db is not None and Path(dry).suffix.lower() == ".toml":
-            todo.append((i, h))
+    todo = [(i, h) for i, (d, rec) in enumerate(zip(designs, records)) if (h := _to_search(d, rec["measurements"], dry)) is not None]
     if not todo:
         return
-    found = pmap(_search_one, [(designs[i], Path(dry), settings, h.strongest_pluck_m, h.margin_db) for i, h in todo], jobs)
-    for (i, h), r in zip(todo, found):
+    made = found or [None] * len(designs)
+    missing = [(i, h) for i, h in todo if made[i] is None]
+    elsewhere = dict(zip((i for i, _ in missing), pmap(_search_one, [(designs[i], Path(dry), settings, h.strongest_pluck_m, h.margin_db) for i, h in missing], jobs))) if missing else {}
+    for i, h in todo:
+        r = made[i] if made[i] is not None else elsewhere[i]
         searched = replace(h, searched=True, searched_strength_m=r.strength_m, searched_margin_db=r.margin_db, searched_renders=r.renders)
         records[i]["measurements"].update(searched.record())

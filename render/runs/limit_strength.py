@@ -100,7 +100,7 @@ def phrase_motion(design, dry_path: Path, settings):
     return motion(load_phrase(Path(dry_path)), pickup.sensing, cores=pickup.cores, outers=pickup.outers, sample_rate=settings.sample_rate, seed=settings.seed, seconds=settings.seconds)
 
 
-def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: float, margin_db: float, tolerance_db: float = TOLERANCE_DB, most: int = MOST_RENDERS) -> LimitSearch:
+def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: float, margin_db: float, tolerance_db: float = TOLERANCE_DB, most: int = MOST_RENDERS, motion=None) -> LimitSearch:
     """The strongest pluck (m) at which ``design``'s op-amp output reaches the limit's onset, by renders at scaled strength.
 
     Parameters
@@ -113,6 +113,8 @@ def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: floa
         The phrase's strongest pluck as rendered.
     margin_db : float, dB
         The smaller margin of that render.
+    motion : :class:`render.dry.construction.PhraseMotion` or None
+        The phrase's string motion kept from that render (else synthesised here once, when needed).
     """
     trail = [(strongest_m, margin_db)]
     if abs(margin_db) <= tolerance_db:
@@ -120,7 +122,9 @@ def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: floa
     x0, m0 = math.log(strongest_m), margin_db
     x1 = x0 + margin_db / 20.0 * math.log(10.0)  # the linear prediction
     # the strings' motion is linear in the pluck: synthesised once, then only sensed again at each strength
-    kept = {"motion": motion} if design is not None and (motion := phrase_motion(design, dry_path, settings)) is not None else {}
+    if motion is None and design is not None:
+        motion = phrase_motion(design, dry_path, settings)
+    kept = {"motion": motion} if motion is not None else {}
     for n in range(1, most + 1):
         m1 = margin_at(design, dry_path, settings, math.exp(x1), **kept)
         if m1 is None:

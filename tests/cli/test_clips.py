@@ -115,3 +115,19 @@ def test_a_design_failing_in_a_worker_is_one_line_and_leaves_no_process(tmp_path
     assert multiprocessing.active_children() == []  # the workers and the side process are stopped and reaped
     folder = tmp_path / "f"  # gone if nothing was written before the failure, else marked incomplete
     assert not folder.exists() or not [p.name for p in folder.iterdir() if p.name.startswith(".tmp-")]
+
+
+def test_parallel_equals_serial_on_the_whole_default_phrase(tmp_path):
+    # at full length the synthesis's matrix products are large enough for a multi-threaded BLAS to
+    # split them (and so to sum in another order): every process sums with one BLAS thread, so
+    # --jobs 1 and --jobs 2 still write the same bytes (README "Speed and memory"). Run as commands
+    # of their own: the test process's BLAS may already be held to one thread.
+    import subprocess
+    import sys
+
+    for folder, jobs in (("a", "1"), ("b", "2")):
+        args = ["clips", str(REF), str(ODD), "--dry", str(DRY), "--no-plots", "--jobs", jobs, "--out", str(tmp_path / folder)]
+        done = subprocess.run([sys.executable, "-c", "from render.cli import run; run()", *args], capture_output=True, text=True, timeout=300)
+        assert done.returncode == 0, done.stderr
+    for name in ("studio-reference.wav", "odd-pair.wav", "studio-reference.json", "odd-pair.json", "summary.md"):
+        assert (tmp_path / "a" / name).read_bytes() == (tmp_path / "b" / name).read_bytes(), name

@@ -179,3 +179,30 @@ def test_a_stop_raised_where_python_ignores_exceptions_is_not_lost():
     finally:
         _kill_group(proc.pid)
     assert out.strip() == "stopped" and "Exception ignored" not in err and "Traceback" not in err, (out, err)
+
+
+def test_ending_the_pool_leaves_a_live_holders_lock_alone():
+    # the pool's own task thread takes the result queue's lock for a moment to send its end marker;
+    # ending the pool just then must wait for it, not free it under the holder (whose own release
+    # would then fail with "semaphore or lock released too many times" and a traceback)
+    pool = _pool(2)
+    time.sleep(0.5)
+    lock, held, failed = pool._outqueue._wlock, threading.Event(), []
+
+    def hold_briefly():
+        with lock:
+            held.set()
+            time.sleep(0.2)
+
+    def holder():
+        try:
+            hold_briefly()
+        except ValueError as exc:
+            failed.append(exc)
+
+    t = threading.Thread(target=holder)
+    t.start()
+    held.wait(5.0)
+    assert _ends_within(lambda: _end_now(pool), 20.0)
+    t.join(5.0)
+    assert not failed, failed
