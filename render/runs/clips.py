@@ -301,13 +301,28 @@ def render_all(
     tasks: list[Any] = [(d, dry, settings, extra[i] if extra else None) for i, d in enumerate(designs)]
     runs = None
     if work is None:  # clips in memory: a few designs per task, their plots drawn on kept figures
-        runs = split_runs(len(tasks), jobs)
+        runs = batches(designs, extra, jobs)
         tasks = [[tasks[i] for i in r] for r in runs]
         work = _render_batch
     if jobs > 1 and len(tasks) > 1:
         import_for_workers(plots)
     done = pmap(work, tasks, jobs, on_done=(lambda result: progress(len(result) if runs else 1)) if progress else None)
-    return [clip for batch in done for clip in batch] if runs else done
+    if runs is None:
+        return done
+    out: list[Any] = [None] * len(designs)
+    for r, batch in zip(runs, done):
+        for i, result in zip(r, batch):
+            out[i] = result
+    return out
+
+
+def batches(designs: Sequence[Design], extra: list | None, jobs: int) -> list[list[int]]:
+    """The designs' indices in tasks: first, alone, each design that synthesises its own phrase (a construction
+    of its own: the slowest by far, so started first and spread over the processes), then the others in runs of
+    consecutive designs (:func:`split_runs`)."""
+    own = [i for i, d in enumerate(designs) if d.construction is not None and extra is not None and extra[i][1] is None]
+    rest = [i for i in range(len(designs)) if i not in own]
+    return [[i] for i in own] + [[rest[k] for k in r] for r in split_runs(len(rest), jobs)]
 
 
 def _rig_record(rig: RigFile | None) -> dict:
