@@ -23,7 +23,7 @@ import numpy as np
 
 from ..errors import InputError
 from . import Dry, describe
-from .modal import PLUCK_JITTER, STRENGTH_JITTER, _add_note, _check_points, _check_rate, _note_ends
+from .modal import PLUCK_JITTER, STRENGTH_JITTER, _add_note, _check_points, _check_rate, _note_ends, one_blas_thread
 from .phrase import Phrase
 
 
@@ -86,6 +86,7 @@ class NoteCache:
             return None
         return int(hit[0]), alone[:, hit[0] : hit[-1] + 1].copy()
 
+    @one_blas_thread  # as render.dry.synthesize: the same bits on any machine
     def synthesize(self, phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None) -> Dry:
         """As :func:`render.dry.synthesize`, through the cache."""
         velocity = self.string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
