@@ -185,12 +185,12 @@ def sense_phrase(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers,
     emf : np.ndarray [shape=(2, n)], V
     warnings : tuple of str
     motion : :class:`PhraseMotion` or None
-        None unless ``keep``, or when it would take more than :data:`MOTION_BYTES_MOST`.
+        None unless ``keep``, when no string sounds, or when it would take more than :data:`MOTION_BYTES_MOST`.
     """
     from .strength import strongest_pluck
 
     plan = _plan(phrase, sensing, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
-    keep = keep and len(plan.strings) * 2 * 4 * plan.n_total * 4 <= MOTION_BYTES_MOST
+    keep = keep and bool(plan.strings) and len(plan.strings) * 2 * 4 * plan.n_total * 4 <= MOTION_BYTES_MOST
     emf = np.zeros((2, plan.n_total))
     warnings: list[str] = []
     moving, fixed = [], []
@@ -200,7 +200,7 @@ def sense_phrase(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers,
         if keep:
             moving.append((chans - bent if bent is not None else chans).astype(np.float32))
             fixed.append(bent)
-    motion = PhraseMotion(sensing=sensing, strings=plan.strings, moving=tuple(moving), fixed=tuple(fixed), strongest_m=strongest_pluck(phrase)) if keep else None
+    motion = PhraseMotion(sensing=sensing, strings=plan.strings, moving=tuple(moving), fixed=tuple(fixed), strongest_m=strongest_pluck(phrase), samples=plan.n_total) if keep else None
     return emf, tuple(dict.fromkeys(warnings)), motion
 
 
@@ -219,6 +219,8 @@ class PhraseMotion:
         Per string, the part that does not scale with the pluck (a bend's sideways offset).
     strongest_m : float, m
         The phrase's strongest pluck as synthesised.
+    samples : int
+        The length n.
     """
 
     sensing: object
@@ -226,6 +228,7 @@ class PhraseMotion:
     moving: tuple
     fixed: tuple
     strongest_m: float
+    samples: int
 
 
 MOTION_BYTES_MOST = 256 * 2**20  # a longer phrase is synthesised again at each strength instead of kept
@@ -245,7 +248,7 @@ def motion_emf(motion: PhraseMotion, *, strongest_m: float, hum_polarity=(1, 1))
     The plucks' motion is linear in their strength (:mod:`render.dry.strength`); a bend's offset is not scaled.
     """
     k = strongest_m / motion.strongest_m
-    emf = np.zeros((2, motion.moving[0].shape[2] if motion.moving else 0))
+    emf = np.zeros((2, motion.samples))
     warnings: list[str] = []
     for j, moving, fixed in zip(motion.strings, motion.moving, motion.fixed):
         chans = k * moving.astype(float)

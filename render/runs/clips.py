@@ -227,6 +227,7 @@ def _render_one(args: tuple, kept: Any = None, resampler: Any = None) -> tuple[C
         signal, motion = dry_with_motion(design, dry_path, settings)
     clip = render_design(design, dry_path, settings, dry=signal, resampler=resampler)
     found = _search_here(design, dry_path, settings, clip.stats, motion) if motion is not None else None
+    del motion  # up to MOTION_BYTES_MOST: not kept while the plots are drawn
     if plot_to is not None:
         from ..report.clips import write_clip_plots
 
