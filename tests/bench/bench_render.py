@@ -87,7 +87,12 @@ def bench_main_job():
     shipped = sorted((ROOT / "models").glob("*.toml"))
     out = {}
     with tempfile.TemporaryDirectory() as tmp:
-        # ten designs: the shipped ones plus copies, as a designer's folder would hold
+        # ten designs: the shipped ones plus copies, as a designer's folder would hold (with the folders
+        # their files name relative to themselves: measured coils, bobbins)
+        import shutil
+
+        for sub in (p for p in (ROOT / "models").iterdir() if p.is_dir()):
+            shutil.copytree(sub, Path(tmp) / sub.name)
         ten = []
         for i in range(10):
             src = shipped[i % len(shipped)]
