@@ -22,8 +22,8 @@ from .conftest import DARK, ODD, PHRASE, REF, ROOT, check_outputs
 
 MODELS = (REF, ODD, DARK)
 STEMS = [m.stem for m in MODELS]
-SECONDS = 0.5
-FRAMES = 24000  # 0.5 s at 48 kHz
+SECONDS = 2.0  # long enough that the stop lands mid-run on a fast machine (at 0.5 s, runs ended before it)
+FRAMES = 96000  # 2 s at 48 kHz
 PER_DESIGN = (".wav", ".json", "-response.png", "-spectrum.png", "-spectrogram.png")
 EVERY_FILE = sorted([f"{s}{x}" for s in STEMS for x in PER_DESIGN] + ["index-clips.js", "index.html", "responses.png", "summary.md"])
 
