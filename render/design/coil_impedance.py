@@ -45,6 +45,7 @@ WIRE_OUTER_RATIO = 1.127  # insulated / bare diameter: heavy-build enamel on AWG
 TYPED = ("inductance", "resistance", "capacitance", "eddy_resistance", "eddy_coupling", "eddy_corner")
 PLACEHOLDER = {"inductance": 1.0, "resistance": 1e3, "capacitance": 1e-10}  # replaced by resolve()
 FIT_VERSION = 2  # bump when the measured fit's numbers change, so cached fits are recomputed
+LADDER_VERSION = 1  # likewise for the derived coil's ladder fit (render.impedance.ladder.fit_ladder)
 CORE_VERSION = 1
 
 
@@ -252,7 +253,33 @@ def _rises_cached(build, position_a, position_b):
 def _derive(winding, bare: float, outer: float, parts):
     from ..impedance.coil_model import derive_coil
 
-    return derive_coil(winding, bare_diameter=bare, outer_diameter=outer, parts=parts)
+    return derive_coil(winding, bare_diameter=bare, outer_diameter=outer, parts=parts, fit=ladder_fit_cached)
+
+
+def ladder_fit_cached(frequency_hz: np.ndarray, impedance: np.ndarray):
+    """:func:`render.impedance.ladder.fit_ladder` of the impedance, kept on disk by the hash of its input
+    (:mod:`render.io.cache`): the fit takes about 60 ms a coil, a design's every load needs it."""
+    import hashlib
+
+    from ..impedance.ladder import Ladder, LadderFit, fit_ladder
+    from ..io import cache
+
+    f = np.ascontiguousarray(frequency_hz, "<f8")
+    z = np.ascontiguousarray(impedance, "<c16")
+    key = hashlib.sha256(f"ladder-v{LADDER_VERSION}-{f.size}".encode() + f.tobytes() + z.tobytes()).hexdigest()
+    stored = cache.load("coil-ladder", key)
+    if stored is not None:
+        try:
+            lad = Ladder(float(stored["l0"]), tuple(float(v) for v in stored["lk"]), tuple(float(v) for v in stored["rk"]))
+            band = stored["band"]
+            return LadderFit(lad, float(stored["error_db"]), float(stored["error_deg"]), (float(band[0]), float(band[1])))
+        except (KeyError, ValueError, TypeError, IndexError, InputError):
+            pass
+    fit = fit_ladder(f, z)
+    lad = fit.ladder
+    arrays = {"l0": np.array(lad.series_inductance), "lk": np.array(lad.inductances, float), "rk": np.array(lad.resistances, float)}
+    cache.store("coil-ladder", key, arrays | {"error_db": np.array(fit.error_db), "error_deg": np.array(fit.error_deg), "band": np.array(fit.band_hz, float)})
+    return fit
 
 
 def _derived(coil, spec: CoilSpec, design, name: str):

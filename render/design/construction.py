@@ -255,9 +255,9 @@ def derive(design, construction: Construction | None):
     try:
         # refused where the solver is missing even when a cached solve exists, so that a design
         # behaves the same on every machine with the same packages
-        from ..magnetics.steel import _require
+        from ..magnetics.steel import require_installed
 
-        _require()
+        require_installed()
         result = sensing(design)
     except InputError as exc:
         raise InputError(f"{design.source or design.name}: {exc}") from None

@@ -17,6 +17,7 @@ values, and the ladder goes to the engine through
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -61,6 +62,7 @@ def derive_coil(
     parts=(),
     temperature_c: float = 20.0,
     permittivity: float = ENAMEL_PERMITTIVITY,
+    fit: Callable[[np.ndarray, np.ndarray], LadderFit] = fit_ladder,
 ) -> DerivedCoil:
     """The coil's R_dc, inductance with core loss (as a ladder) and capacitance.
 
@@ -75,13 +77,16 @@ def derive_coil(
         Of the copper, °C.
     permittivity : float
         Of the wire's insulation (relative).
+    fit : callable
+        ``fit(frequency_hz, impedance) -> LadderFit``: :func:`render.impedance.ladder.fit_ladder`, or a
+        caller's cached copy of it (the same numbers).
     """
     wire = winding.turns * winding.mean_turn
     r = wire_resistance(length=wire, diameter=bare_diameter, temperature_c=temperature_c)
     l_air = winding_inductance(winding)
     f = np.geomspace(FIT_BAND_HZ[0], FIT_BAND_HZ[1], 241)
     z = 2j * np.pi * f * l_air + core_impedance(f, air_inductance=l_air, parts=parts)
-    fit = fit_ladder(f, z)
+    ladder_fit = fit(f, z)
     cap = layered_winding_capacitance(
         turns=winding.turns,
         height=winding.height,
@@ -91,4 +96,4 @@ def derive_coil(
         outer_diameter=outer_diameter,
         permittivity=permittivity,
     )
-    return DerivedCoil(r, l_air, dc_inductance(air_inductance=l_air, parts=parts), fit, cap, wire)
+    return DerivedCoil(r, l_air, dc_inductance(air_inductance=l_air, parts=parts), ladder_fit, cap, wire)

@@ -33,7 +33,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import least_squares, lsq_linear
 
 from ..errors import InputError
 
@@ -111,6 +110,8 @@ def ladder_error(z_fit, z_ref) -> tuple[float, float]:
 
 def _weights(s, lam, tau):
     """Bounded linear least squares for L0, L_k ≥ 0 given τ; returns (weights, residual)."""
+    from scipy.optimize import lsq_linear
+
     basis = np.concatenate([np.ones((1, s.size)), 1.0 / (1.0 + s[None, :] * tau[:, None])], axis=0) / lam[None, :]
     a = np.concatenate([basis.real, basis.imag], axis=1).T
     b = np.concatenate([np.ones(s.size), np.zeros(s.size)])
@@ -147,6 +148,8 @@ def fit_ladder(
     -------
     LadderFit
     """
+    from scipy.optimize import least_squares
+
     f = np.asarray(frequency_hz, float)
     z = np.asarray(impedance, complex)
     if f.ndim != 1 or f.shape != z.shape or f.size < 4 or np.any(f <= 0) or np.any(np.diff(f) <= 0):

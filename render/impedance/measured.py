@@ -29,7 +29,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import least_squares
 
 from ..errors import InputError
 from .ladder import Ladder, fit_ladder
@@ -175,6 +174,8 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4) -> Measur
     -------
     MeasuredCoil
     """
+    from scipy.optimize import least_squares
+
     f = np.asarray(frequency_hz, float)
     z = np.asarray(impedance, complex)
     if f.ndim != 1 or f.shape != z.shape or f.size < 8:

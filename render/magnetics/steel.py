@@ -85,12 +85,24 @@ class Part:
         return Boxes(cl, cl + step, pol)
 
 
+MISSING = "[construction] needs the packages magpylib and magpylib-material-response (Python 3.11 or later): pip install magpylib magpylib-material-response"
+
+
+def require_installed() -> None:
+    """Refuse (:class:`InputError`) where the solver's packages are not installed, without importing them
+    (importing magpylib takes about 0.3 s, which a design whose solve is cached does not need)."""
+    import importlib.util
+
+    if any(importlib.util.find_spec(name) is None for name in ("magpylib", "magpylib_material_response")):
+        raise InputError(MISSING)
+
+
 def _require():
     try:
         import magpylib
         from magpylib_material_response.demag import demag_tensor
     except ImportError:
-        raise InputError("[construction] needs the packages magpylib and magpylib-material-response (Python 3.11 or later): pip install magpylib magpylib-material-response") from None
+        raise InputError(MISSING) from None
     return magpylib, demag_tensor
 
 

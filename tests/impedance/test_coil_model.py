@@ -34,3 +34,21 @@ def test_air_core_has_no_loss():
     c = derive_coil(W, bare_diameter=D, outer_diameter=1.12 * D)
     assert c.ladder_fit.ladder.inductances == ()
     assert c.ladder_fit.ladder.series_inductance == pytest.approx(c.air_inductance, rel=1e-9)
+
+
+def test_the_cached_ladder_fit_is_the_fit_itself(monkeypatch, tmp_path):
+    # a cache must not change a number: the fit read back from disk equals a fresh fit_ladder, to the last bit
+    from render.design.coil_impedance import ladder_fit_cached
+
+    monkeypatch.setenv("RENDER_CACHE_DIR", str(tmp_path))
+    d = prism_demagnetising_factor(0.003, 0.060, 0.009)  # Aharoni 1998
+    part = CorePart("slab", 3e-3, STEEL, fill=0.3, demagnetising_factor=d)
+    fresh = derive_coil(W, bare_diameter=D, outer_diameter=1.12 * D, parts=[part])
+    stored = derive_coil(W, bare_diameter=D, outer_diameter=1.12 * D, parts=[part], fit=ladder_fit_cached)
+    assert len(list((tmp_path / "coil-ladder").glob("*.npz"))) == 1
+    again = derive_coil(W, bare_diameter=D, outer_diameter=1.12 * D, parts=[part], fit=ladder_fit_cached)
+    assert fresh.ladder_fit == stored.ladder_fit == again.ladder_fit
+    assert fresh.ladder_fit.ladder.inductances  # a fit with sections, not a trivial one
+    # another impedance is another entry
+    derive_coil(W, bare_diameter=D, outer_diameter=1.12 * D, fit=ladder_fit_cached)
+    assert len(list((tmp_path / "coil-ladder").glob("*.npz"))) == 2

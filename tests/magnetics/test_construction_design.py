@@ -108,3 +108,32 @@ def test_the_default_set_skips_constructions_where_the_magnetics_packages_are_mi
     assert [str(w.message) for w in caught if w.category is SkippedDesign] == [
         f"{models / 'slipway-steel-poles.toml'}: skipped: [construction] needs magpylib and magpylib-material-response (Python 3.11 or later)"
     ]
+
+
+def test_a_named_construction_is_refused_where_the_packages_are_missing_even_when_its_solve_is_cached(monkeypatch):
+    # the same design behaves the same on every machine with the same packages: a cached solve does not hide a missing solver
+    require_magpylib()
+    require_material_response()
+    import importlib.util
+
+    load_design(DEMO)  # the solve is now cached
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec", lambda name, *a: None if name == "magpylib" else real(name, *a))
+    with pytest.raises(InputError, match=r"needs the packages magpylib and magpylib-material-response") as info:
+        load_design(DEMO)
+    assert "\n" not in str(info.value)
+
+
+def test_a_cached_solve_loads_without_importing_the_solver(tmp_path):
+    # importing magpylib takes about 0.3 s: a design whose field solve is cached does not need it
+    require_magpylib()
+    require_material_response()
+    import os
+    import subprocess
+    import sys
+
+    env = {**os.environ, "RENDER_CACHE_DIR": str(tmp_path)}
+    code = f"import sys; from render.design import load_design; load_design({str(DEMO)!r}); print('magpylib' in sys.modules)"
+    first = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
+    again = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
+    assert (first.stdout.strip(), again.stdout.strip()) == ("True", "False")
