@@ -14,6 +14,11 @@ form of Piegl & Tiller, *The NURBS Book*, 2nd ed., Springer 1997, Algorithm A2.2
 whose second stage is the quadratic basis the slopes need.
 This is the same spline scipy evaluates (``ev(y, z, dx=1)``), to rounding;
 tests/dry/test_flux_kernel.py checks it against scipy.
+
+:func:`add_emf` does a coil's whole sensing step in one pass over the samples:
+the motion scaled (a pluck strength) plus its fixed part, the displacement held
+inside the table, the slopes, and the EMF Φ_y·dū_y/dt + Φ_z·dū_z/dt added, with
+no array of the motion's length made on the way.
 """
 
 from __future__ import annotations
@@ -37,6 +42,31 @@ def slopes(tables, y: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray
     y = np.ascontiguousarray(y, float)
     z = np.ascontiguousarray(z, float)
     return _slopes(tx, ty, dy, dz, y, z)
+
+
+def add_emf(tables, box, motion: np.ndarray, out: np.ndarray, *, scale: float = 1.0, fixed: np.ndarray | None = None, sign: float = 1.0) -> bool:
+    """Add sign·(∂F/∂y·u̇_y + ∂F/∂z·u̇_z) into ``out`` (shape (n,), V) at each sample where the motion is not all zero.
+
+    Parameters
+    ----------
+    tables : from :func:`slope_tables`
+    box : (y_lo, y_hi, z_lo, z_hi), m
+        The table's range: the displacement is held inside it.
+    motion : np.ndarray [shape=(4, n)], float32 or float64, m and m/s
+        ū_y, ū_z, u̇_y, u̇_z, multiplied by ``scale`` and added to ``fixed`` (same shape, float64) when given.
+    sign : ±1, the coil's wiring
+
+    Returns
+    -------
+    bool : whether the displacement left the box somewhere (it was held at its edge there)
+    """
+    tx, ty, dy, dz = tables
+    if fixed is None:
+        fixed = np.zeros((4, 0))
+    if motion.ndim != 2 or motion.shape[0] != 4 or out.shape != (motion.shape[1],) or fixed.shape[1] not in (0, motion.shape[1]):
+        raise ValueError("add_emf: motion (4, n), out (n,), fixed (4, n) or None")
+    y_lo, y_hi, z_lo, z_hi = (float(v) for v in box)
+    return bool(_add_emf(tx, ty, dy, dz, y_lo, y_hi, z_lo, z_hi, float(scale), motion, np.ascontiguousarray(fixed, float), float(sign), out))
 
 
 @njit(cache=True, inline="always")
@@ -104,3 +134,37 @@ def _slopes(tx, ty, dy, dz, y, z):
         gy[k] = sy
         gz[k] = sz
     return gy, gz
+
+
+@njit(cache=True)
+def _add_emf(tx, ty, dy, dz, y_lo, y_hi, z_lo, z_hi, scale, motion, fixed, sign, out):
+    n = out.size
+    has_fixed = fixed.shape[1] > 0
+    by3, by2, bz3, bz2 = np.empty(4), np.empty(3), np.empty(4), np.empty(3)
+    left, right = np.empty(4), np.empty(4)
+    a = np.empty(4)
+    held = False
+    my, mz = _span(tx, 3, tx[3]), _span(ty, 3, ty[3])
+    for k in range(n):
+        live = False
+        for j in range(4):
+            a[j] = scale * np.float64(motion[j, k])
+            if has_fixed:
+                a[j] += fixed[j, k]
+            live |= a[j] != 0.0
+        if not live:
+            continue
+        y = min(max(a[0], y_lo), y_hi)
+        z = min(max(a[1], z_lo), z_hi)
+        held |= (y != a[0]) or (z != a[1])
+        # a string moves little from one sample to the next: its last spans usually hold it still
+        if not (tx[my] <= y < tx[my + 1]):
+            my = _span(tx, 3, y)
+        if not (ty[mz] <= z < ty[mz + 1]):
+            mz = _span(ty, 3, z)
+        _bases(tx, my, y, by3, by2, left, right)
+        _bases(ty, mz, z, bz3, bz2, left, right)
+        sy = _tensor(dy, my - 3, mz - 3, by2, bz3)
+        sz = _tensor(dz, my - 3, mz - 3, by3, bz2)
+        out[k] += sign * (sy * a[2] + sz * a[3])
+    return held

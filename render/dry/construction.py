@@ -251,10 +251,7 @@ def motion_emf(motion: PhraseMotion, *, strongest_m: float, hum_polarity=(1, 1))
     emf = np.zeros((2, motion.samples))
     warnings: list[str] = []
     for j, moving, fixed in zip(motion.strings, motion.moving, motion.fixed):
-        chans = k * moving.astype(float)
-        if fixed is not None:
-            chans += fixed
-        _add_string_emf(emf, warnings, motion.sensing, j, chans, hum_polarity)
+        _add_string_emf(emf, warnings, motion.sensing, j, moving, hum_polarity, scale=k, fixed=fixed)
     return emf, tuple(dict.fromkeys(warnings))
 
 
@@ -329,27 +326,25 @@ def _string_motion(plan: _Plan, j: int, *, keep_fixed: bool) -> tuple[np.ndarray
     return chans, (fixed if bent else None)
 
 
-def _add_string_emf(emf: np.ndarray, warnings: list, sensing, j: int, chans: np.ndarray, hum_polarity) -> None:
-    """Add string j's EMF, Φ_y·dū_y/dt + Φ_z·dū_z/dt per coil, from its (2, 4, n) motion."""
-    from ._flux_kernel import slope_tables, slopes  # numba, only once a constructed pickup is sensed
+def _add_string_emf(emf: np.ndarray, warnings: list, sensing, j: int, chans: np.ndarray, hum_polarity, *, scale: float = 1.0, fixed: np.ndarray | None = None) -> None:
+    """Add string j's EMF, Φ_y·dū_y/dt + Φ_z·dū_z/dt per coil, from its (2, 4, n) motion ``scale``·chans + ``fixed``.
+
+    The slopes Φ = ∂F/∂y, ∂F/∂z are those of the flux table's bicubic spline (scipy's
+    ``RectBivariateSpline(...).ev(y, z, dx=1)``, ``dy=1``), evaluated compiled in one pass
+    (:func:`render.dry._flux_kernel.add_emf`); the displacement is held at the table's edge.
+    """
+    from ._flux_kernel import add_emf, slope_tables  # numba, only once a constructed pickup is sensed
 
     string = len(sensing.coil_a) - j
     for c, coil in enumerate((sensing.coil_a, sensing.coil_b)):
         s = coil[j]
         spline = RectBivariateSpline(s.dy, s.dz, s.flux, kx=3, ky=3)
-        uy, uz, vy, vz = chans[c]
-        live = np.flatnonzero(np.any(chans[c] != 0.0, axis=0))
-        if live.size == 0:
-            continue
-        y = np.clip(uy[live], s.dy[0], s.dy[-1])
-        z = np.clip(uz[live], s.dz[0], s.dz[-1])
-        if (y != uy[live]).any() or (z != uz[live]).any():
+        box = (s.dy[0], s.dy[-1], s.dz[0], s.dz[-1])
+        if add_emf(slope_tables(spline.tck), box, chans[c], emf[c], scale=scale, fixed=None if fixed is None else fixed[c], sign=hum_polarity[c]):
             warnings.append(
                 f"string {string}: its displacement at the pickup left the computed range "
                 f"({s.dy[0] * 1e3:+.1f}…{s.dy[-1] * 1e3:+.1f} mm sideways, {s.dz[0] * 1e3:+.1f}…{s.dz[-1] * 1e3:+.1f} mm vertically); the flux is held at its edge there"
             )
-        phi_y, phi_z = slopes(slope_tables(spline.tck), y, z)  # spline.ev(y, z, dx=1), (dy=1), compiled
-        emf[c, live] += hum_polarity[c] * (phi_y * vy[live] + phi_z * vz[live])
 
 
 def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, strength, pluck_at, strain, side, fixed=None) -> bool:
