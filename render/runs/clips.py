@@ -264,6 +264,20 @@ def split_runs(n: int, jobs: int, *, most: int = BATCH_MOST) -> list[range]:
     return [range(a, b) for a, b in zip(edges, edges[1:]) if b > a]
 
 
+def shrinking_runs(n: int, jobs: int, *, most: int = BATCH_MOST) -> list[range]:
+    """Split ``n`` tasks into runs of consecutive ones that shrink towards the end: each about the remaining
+    tasks over the processes (at most ``most``, at least 1), so that processes that finish uneven earlier work
+    at different times still end close together (guided self-scheduling; Polychronopoulos & Kuck, IEEE
+    Trans. Computers C-36(12), 1987)."""
+    jobs = max(1, jobs)
+    runs, start = [], 0
+    while start < n:
+        size = min(most, max(1, -(-(n - start) // jobs)))
+        runs.append(range(start, start + size))
+        start += size
+    return runs
+
+
 def _render_long_one(args: tuple) -> dict:
     design, dry, settings, kw = args
     return render_long(design, dry, settings, **kw)
@@ -323,7 +337,10 @@ def batches(designs: Sequence[Design], extra: list | None, jobs: int) -> list[li
     consecutive designs (:func:`split_runs`)."""
     own = [i for i, d in enumerate(designs) if d.construction is not None and extra is not None and extra[i][1] is None]
     rest = [i for i in range(len(designs)) if i not in own]
-    return [[i] for i in own] + [[rest[k] for k in r] for r in split_runs(len(rest), jobs)]
+    # after the constructed designs, whose times differ by a second or more, the processes come free at
+    # different times: runs that shrink let them end together; without any, runs of equal length do
+    runs = shrinking_runs(len(rest), jobs) if own else split_runs(len(rest), jobs)
+    return [[i] for i in own] + [[rest[k] for k in r] for r in runs]
 
 
 def _rig_record(rig: RigFile | None) -> dict:

@@ -83,6 +83,24 @@ def test_batches_cover_every_task_once_in_order_and_evenly(n, jobs):
         assert len(runs) % min(jobs, n) == 0  # a whole number of runs per process
 
 
+@pytest.mark.parametrize("n, jobs", [(0, 2), (1, 2), (2, 2), (7, 2), (8, 2), (10, 1), (11, 4), (3, 8), (100, 2)])
+def test_shrinking_runs_cover_every_task_once_in_order_and_shrink(n, jobs):
+    # guided self-scheduling (Polychronopoulos & Kuck 1987): each run about the remaining tasks over the
+    # processes, capped at 5, never empty, never growing
+    from render.runs.clips import shrinking_runs
+
+    runs = shrinking_runs(n, jobs)
+    assert [i for r in runs for i in r] == list(range(n))
+    sizes = [len(r) for r in runs]
+    assert all(1 <= a <= 5 for a in sizes) and sizes == sorted(sizes, reverse=True)
+    left = n
+    for size in sizes:
+        assert size == min(5, -(-left // jobs))
+        left -= size
+    if (n, jobs) == (8, 2):
+        assert sizes == [4, 2, 1, 1]
+
+
 def _square(x):
     return x * x
 
