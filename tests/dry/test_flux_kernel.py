@@ -52,3 +52,20 @@ def test_add_emf_is_the_slopes_times_the_velocity_where_the_string_moves():
         assert held and np.array_equal(out[100:400], np.full(300, 0.25))
     inside = moving * 0.01
     assert not add_emf(slope_tables(spline.tck), (y[0], y[-1], z[0], z[-1]), inside, np.zeros(n))
+
+
+def test_warming_compiles_the_kernel_for_the_arrays_the_sensing_passes():
+    # render clips loads the kernel once before forking its workers (render.runs.clips.import_for_workers): that
+    # only helps if the workers then call it with the same array types, and numba loads nothing more
+    from render.dry._flux_kernel import _add_emf, add_emf, warm
+
+    warm()
+    before = set(_add_emf.signatures)
+    t = np.r_[np.zeros(4), np.ones(4)]
+    tables = slope_tables((t, t, np.zeros(16)))
+    chans = np.zeros((2, 4, 50))  # render.dry.construction: a string's motion at both coils, float64 as synthesised
+    kept = np.zeros((2, 4, 50), np.float32)  # and kept (PhraseMotion.moving), with a bend's fixed part
+    emf = np.zeros((2, 50))
+    add_emf(tables, (0.0, 1.0, 0.0, 1.0), chans[1], emf[1])
+    add_emf(tables, (0.0, 1.0, 0.0, 1.0), kept[1], emf[1], scale=2.0, fixed=chans[0])
+    assert set(_add_emf.signatures) == before and len(before) >= 2
