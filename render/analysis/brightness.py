@@ -27,6 +27,8 @@ a guitar's presence sit, 4–8 kHz the top of a pickup's range.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 BANDS_HZ: tuple[tuple[float, float], ...] = ((2000.0, 4000.0), (4000.0, 8000.0))
@@ -90,7 +92,25 @@ def loudness_matched_difference_db(level_db, reference_level_db, *, gain_db, ref
     return (np.asarray(level_db) + gain_db) - (np.asarray(reference_level_db) + reference_gain_db)
 
 
-def brightness_records(designs, loudness_lufs, *, reference: int = 0, bands=BANDS_HZ) -> list[dict]:
+@dataclass(frozen=True)
+class OutsideReference:
+    """A reference that is not one of the run's designs (the passive comparison pickup of ``--compare``).
+
+    Attributes
+    ----------
+    name : str
+    power_db : dict of str to float, dB re (1 V per m/s)²
+        Its :func:`band_power_db` per :func:`band_key`.
+    loudness_lufs : float or None, LUFS
+        Its clip's loudness, on the designs' full scale (None: silent).
+    """
+
+    name: str
+    power_db: dict
+    loudness_lufs: float | None
+
+
+def brightness_records(designs, loudness_lufs, *, reference: int | OutsideReference = 0, bands=BANDS_HZ) -> list[dict]:
     """For each design: band levels re 1 kHz and the loudness-matched band differences from ``designs[reference]``.
 
     Parameters
@@ -99,8 +119,8 @@ def brightness_records(designs, loudness_lufs, *, reference: int = 0, bands=BAND
         With their rigs applied.
     loudness_lufs : sequence of float or None, LUFS
         Each design's clip loudness (BS.1770-4, at one full scale for all, e.g. re 1 V); None for a silent clip.
-    reference : int
-        Index of the reference design.
+    reference : int or OutsideReference
+        Index of the reference design, or a reference outside the designs (then no design reads ``reference``).
 
     Returns
     -------
@@ -117,10 +137,14 @@ def brightness_records(designs, loudness_lufs, *, reference: int = 0, bands=BAND
     vel = responses(from_designs(designs)).velocity()
     power = {band_key(b): band_power_db(vel, b) for b in bands}
     at_1k = level_db(vel, 1000.0)
-    ref_loud = loudness_lufs[reference]
+    if isinstance(reference, OutsideReference):
+        ref_name, ref_loud, ref_power, ref_i = reference.name, reference.loudness_lufs, reference.power_db, -1
+    else:
+        ref_name, ref_loud, ref_i = designs[reference].name, loudness_lufs[reference], reference
+        ref_power = {k: v[reference] for k, v in power.items()}
     out = []
     for i in range(len(designs)):
-        row: dict = {"reference_design": designs[reference].name, "is_reference": i == reference, "bands_hz": [list(b) for b in bands]}
+        row: dict = {"reference_design": ref_name, "is_reference": i == ref_i, "bands_hz": [list(b) for b in bands]}
         for b in bands:
             k = band_key(b)
             with np.errstate(invalid="ignore"):  # a silent response (−inf − −inf) becomes None with its reason
@@ -131,13 +155,13 @@ def brightness_records(designs, loudness_lufs, *, reference: int = 0, bands=BAND
                 U.mark(row, f"matched_diff_{k}_db", NO_LOUDNESS)
             else:
                 with np.errstate(invalid="ignore"):
-                    d = loudness_matched_difference_db(power[k][i], power[k][reference], gain_db=-loudness_lufs[i], reference_gain_db=-ref_loud)
-                U.put(row, f"matched_diff_{k}_db", 0.0 if i == reference else d, U.NO_SIGNAL)
+                    d = loudness_matched_difference_db(power[k][i], ref_power[k], gain_db=-loudness_lufs[i], reference_gain_db=-ref_loud)
+                U.put(row, f"matched_diff_{k}_db", 0.0 if i == ref_i else d, U.NO_SIGNAL)
         out.append(row)
     return out
 
 
-def other_record(response, loudness_lufs: float | None, *, reference_power_db: dict, reference_loudness_lufs: float | None, reference_name: str, bands=BANDS_HZ) -> dict:
+def other_record(response, loudness_lufs: float | None, *, reference_power_db: dict, reference_loudness_lufs: float | None, reference_name: str, is_reference: bool = False, bands=BANDS_HZ) -> dict:
     """The figures of :func:`brightness_records` for a pickup outside the run's designs (a passive comparison pickup).
 
     Parameters
@@ -150,11 +174,13 @@ def other_record(response, loudness_lufs: float | None, *, reference_power_db: d
         The reference design's :func:`band_power_db` per :func:`band_key`, dB.
     reference_loudness_lufs : float or None, LUFS
     reference_name : str
+    is_reference : bool
+        Whether this pickup is itself the run's reference (its differences are then 0 dB).
     """
     from . import undefined as U
 
     at_1k = level_db(response, 1000.0)[0]
-    row: dict = {"reference_design": reference_name, "is_reference": False, "bands_hz": [list(b) for b in bands]}
+    row: dict = {"reference_design": reference_name, "is_reference": bool(is_reference), "bands_hz": [list(b) for b in bands]}
     for b in bands:
         k = band_key(b)
         power = band_power_db(response, b)[0]
@@ -167,7 +193,7 @@ def other_record(response, loudness_lufs: float | None, *, reference_power_db: d
         else:
             with np.errstate(invalid="ignore"):
                 d = loudness_matched_difference_db(power, reference_power_db[k], gain_db=-loudness_lufs, reference_gain_db=-reference_loudness_lufs)
-            U.put(row, f"matched_diff_{k}_db", d, U.NO_SIGNAL)
+            U.put(row, f"matched_diff_{k}_db", 0.0 if is_reference else d, U.NO_SIGNAL)
     return row
 
 
@@ -180,8 +206,9 @@ def band_powers_db(designs, bands=BANDS_HZ) -> dict[str, np.ndarray]:
     return {band_key(b): band_power_db(vel, b) for b in bands}
 
 
-def reference_index(designs, name: str | None) -> int:
-    """The index of the design called ``name`` (its name or its file's stem); 0 when ``name`` is None."""
+def reference_index(designs, name: str | None, *, compare=None) -> int | None:
+    """The index of the design called ``name`` (its name or its file's stem); 0 when ``name`` is None; None when
+    ``name`` is the passive comparison pickup ``compare`` (``--compare``; its name or file stem)."""
     from pathlib import Path
 
     from ..errors import InputError
@@ -192,5 +219,8 @@ def reference_index(designs, name: str | None) -> int:
     for i, d in enumerate(designs):
         if name in (d.name, Path(d.source).stem):
             return i
-    names = [d.name for d in designs]
-    raise InputError(f"--reference={name!r}: no design of this run has that name or file stem{did_you_mean(name, names).replace('known keys', 'the designs')}")
+    if compare is not None and name in (compare.name, Path(compare.source).stem):
+        return None
+    names = [d.name for d in designs] + ([compare.name] if compare is not None else [])
+    what = "no design of this run nor its comparison pickup" if compare is not None else "no design of this run"
+    raise InputError(f"--reference={name!r}: {what} has that name or file stem{did_you_mean(name, names).replace('known keys', 'the designs')}")

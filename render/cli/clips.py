@@ -45,7 +45,13 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 @jobs_option("Render designs in this many processes (default: one per core; results identical to one).", default=None)
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
 @compare_option
-@click.option("--reference", "reference", default=None, metavar="NAME", help="The design (name or file stem) the loudness-matched brightness differences are taken against (default: the first).")
+@click.option(
+    "--reference",
+    "reference",
+    default=None,
+    metavar="NAME",
+    help="The design, or the --compare pickup (name or file stem), the loudness-matched brightness differences are taken against (default: the first design).",
+)
 @friendly
 def clips_command(
     models, dry_path, rig_path, out_dir, overwrite, seconds, sample_rate, velocity_scale, from_di, hum, passive, noise, seed, strength, volts_full_scale, jobs, plots, reference=None, compare_path=None
@@ -67,12 +73,12 @@ def clips_command(
     dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di)
     strength_m = read_strength(strength, dry)
     designs, rig = load_designs(models, rig=rig_path)
-    reference_index(designs, reference)  # a wrong name is refused before the folder is made
     if len({Path(d.source).stem for d in designs}) != len(designs):
         raise InputError("two design files share a name; their clips would overwrite each other: rename one")
     from .compare_print import load_compare
 
     compared = load_compare(compare_path, rig_path)
+    reference_index(designs, reference, compare=compared)  # a wrong name is refused before the folder is made
     if compared is not None and Path(compared.source).stem in {Path(d.source).stem for d in designs}:
         raise InputError(f"--compare {compare_path}: a design file has the same name; their clips would overwrite each other: rename one")
     out = output_folder(out_dir, overwrite=overwrite)

@@ -63,12 +63,24 @@ def read_head(path: Path, *, volts_full_scale: float, seconds: float = PAGE_SECO
 
 
 def write_clips_page(
-    folder: Path, records: Sequence[dict], designs: Sequence, *, volts_full_scale: float, dry: str, rig: str, settings: dict, jobs: int = 1, compare: tuple | None = None
+    folder: Path,
+    records: Sequence[dict],
+    designs: Sequence,
+    *,
+    volts_full_scale: float,
+    dry: str,
+    rig: str,
+    settings: dict,
+    jobs: int = 1,
+    compare: tuple | None = None,
+    reference: int | None = 0,
 ) -> tuple[Path, Path]:
     """``index.html`` and ``index-clips.js`` for a ``render clips`` folder holding ``S.wav`` per design (``jobs``: processes).
 
     compare : (PassiveDesign, its record) or None
         A passive comparison pickup, whose ``S.wav`` is in the folder too: the page's last clip, labelled as such.
+    reference : int or None
+        The run's brightness reference, which the page opens with: a design's index, or None for the comparison pickup.
     """
     from ..analysis.brightness import BANDS_HZ, band_key, band_powers_db
 
@@ -106,7 +118,8 @@ def write_clips_page(
     n = len(clips)
     title = f"render clips: {len(designs)} design{'s' if len(designs) != 1 else ''}" + (f" and the comparison pickup {compare[0].name}" if compare is not None else "")
     notes = CLIPS_NOTES + ((COMPARE_NOTE,) if compare is not None else ())
-    text = PageText(title=title, lede=lede, columns=CLIPS_COLUMNS, notes=notes, matched_column=len(CLIPS_COLUMNS) - 1)
+    start = len(designs) if reference is None else reference
+    text = PageText(title=title, lede=lede, columns=CLIPS_COLUMNS, notes=notes, matched_column=len(CLIPS_COLUMNS) - 1, reference=start)
     return write_page(folder, text, clips, volts_full_scale=volts_full_scale, jobs=jobs)
 
 

@@ -102,6 +102,8 @@ class PageText:
     matched_column : int or None
         The column (index into ``columns``) the page fills itself with each clip's loudness-matched band
         differences against the reference chosen on the page (from ``band_power_db`` and the loudness).
+    reference : int
+        The clip the page opens with as its reference (the run's ``--reference``); the listener may choose another.
     """
 
     title: str
@@ -109,6 +111,7 @@ class PageText:
     columns: tuple[str, ...] = ()
     notes: tuple[str, ...] = field(default_factory=tuple)
     matched_column: int | None = None
+    reference: int = 0
 
 
 @dataclass(frozen=True)
@@ -206,6 +209,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         "bits": 16,
         "strip_top_db": top,
         "live": bool(live),
+        "reference": text.reference if 0 <= text.reference < len(clips) else 0,
         "designs": designs,
     }
     return data, [m.copy for m in made]

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..analysis.brightness import BANDS_HZ, band_key, band_label, brightness_records
+from ..analysis.brightness import BANDS_HZ, OutsideReference, band_key, band_label, brightness_records
 
 COLUMNS = (*(f"{band_label(b)} re 1 kHz" for b in BANDS_HZ), f"vs reference, loudness-matched ({' / '.join(band_label(b) for b in BANDS_HZ)})")
 NOTE = (
@@ -12,8 +12,9 @@ NOTE = (
 )
 
 
-def add_brightness(records, designs, *, reference: int = 0) -> None:
-    """Put each design's band levels and loudness-matched differences from ``designs[reference]`` into its record's ``measurements``."""
+def add_brightness(records, designs, *, reference: int | OutsideReference = 0) -> None:
+    """Put each design's band levels and loudness-matched differences from ``designs[reference]`` (or a reference
+    outside the designs, the comparison pickup) into its record's ``measurements``."""
     loud = [r["measurements"]["loudness_lufs_1v_full_scale"] for r in records]
     for rec, row in zip(records, brightness_records(designs, loud, reference=reference)):
         rec["measurements"].update(row)

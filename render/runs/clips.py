@@ -390,7 +390,8 @@ def run_clips(
     progress : callable or None
         Called with the number of designs done, as they finish.
     reference : str or None
-        The design (name or file stem) the loudness-matched brightness differences are taken from (default: the first).
+        The design (name or file stem) the loudness-matched brightness differences are taken from (default: the first),
+        or the comparison pickup (its name or file stem).
     compare : PassiveDesign or None
         A passive comparison pickup (``--compare``): its clip plays the same dry signal at the run's full scale,
         with a row in summary.md and on the comparison page, beside the designs (:mod:`render.runs.compare_clip`).
@@ -403,7 +404,7 @@ def run_clips(
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
     from ..report.records import clip_record
 
-    ref = reference_index(designs, reference)  # refused before any work
+    ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup
     stems = [Path(d.source).stem for d in designs]
     rig_record = _rig_record(rig)
     rig_text = rig.source if rig else "each design's own"
@@ -416,19 +417,23 @@ def run_clips(
                 vfs = volts_full_scale or window_full_scale(designs)
                 kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(d.rig)}, plots=plots) for stem, d in zip(stems, designs)]
                 records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots, progress=progress)
-                add_brightness(records, designs, reference=ref)
+                cvolts = None
+                if compare is not None:
+                    from .compare_clip import render_compare
+
+                    cvolts, _, _ = render_compare(compare, dry, settings)
+                add_brightness(records, designs, reference=_reference(ref, compare, cvolts, settings))
                 from ..io.atomic import write_json
 
                 for stem, rec in zip(stems, records):  # each S.json again, with the run's brightness figures
                     write_json(out / f"{stem}.json", rec, overwrite=True)
                 crec = None
-                if compare is not None:
-                    from .compare_clip import render_compare
-
-                    cvolts, _, _ = render_compare(compare, dry, settings)
+                if cvolts is not None:
                     crec = _compare_files(compare, cvolts, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots)
                 write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs, compare=crec)
-                write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None)
+                write_clips_page(
+                    out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None, reference=ref
+                )
                 warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
                 return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings, compare=crec)
         # designs that sense the string at the same points share one synthesised dry signal; with
@@ -467,25 +472,39 @@ def run_clips(
         vfs = volts_full_scale or choose_full_scale(peaks)
         records = [clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry) for clip in clips]
         search_limits(designs, records, dry, settings, jobs=jobs, found=[f for _, f in rendered])
-        add_brightness(records, designs, reference=ref)
+        add_brightness(records, designs, reference=_reference(ref, compare, cvolts, settings))
         for stem, clip, rec in zip(stems, clips, records):
             write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
         crec = _compare_files(compare, cvolts, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots) if compare is not None else None
         write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs, compare=crec)
-        write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None)
+        write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None, reference=ref)
         over = tuple(c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs)
         seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
         warnings = tuple(f"{c.design.name}: {w}" for c in clips for w in c.warnings)
         return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=False, seconds=seconds, warnings=warnings, over_full_scale=over, compare=crec)
 
 
-def _compare_files(compare, volts: np.ndarray, designs, records, ref: int, *, dry: Path, settings: RenderSettings, out: Path, volts_full_scale: float, plots: bool) -> dict:
-    """The comparison pickup's record (its brightness against the run's reference design) and files; returns the record."""
+def _reference(ref: int | None, compare, cvolts: np.ndarray | None, settings: RenderSettings):
+    """The brightness reference: the design at index ``ref``, or (None) the comparison pickup from its clip."""
+    if ref is not None:
+        return ref
+    from .compare_clip import compare_reference
+
+    assert cvolts is not None  # a run whose reference is the comparison pickup renders it first
+
+    return compare_reference(compare, cvolts, sample_rate=settings.sample_rate)
+
+
+def _compare_files(compare, volts: np.ndarray, designs, records, ref: int | None, *, dry: Path, settings: RenderSettings, out: Path, volts_full_scale: float, plots: bool) -> dict:
+    """The comparison pickup's record (its brightness against the run's reference design, or as the reference itself
+    when ``ref`` is None) and files; returns the record."""
     from ..analysis.brightness import band_powers_db
     from .compare_clip import compare_record, write_compare_clip
 
-    power = {k: float(v[0]) for k, v in band_powers_db([designs[ref]]).items()}
-    reference = (designs[ref].name, power, records[ref]["measurements"]["loudness_lufs_1v_full_scale"])
+    reference = None
+    if ref is not None:
+        power = {k: float(v[0]) for k, v in band_powers_db([designs[ref]]).items()}
+        reference = (designs[ref].name, power, records[ref]["measurements"]["loudness_lufs_1v_full_scale"])
     rec = compare_record(compare, volts, sample_rate=settings.sample_rate, dry=dry, settings=settings, volts_full_scale=volts_full_scale, reference=reference)
     write_compare_clip(compare, volts, rec, out, sample_rate=settings.sample_rate, volts_full_scale=volts_full_scale, plots=plots)
     return rec

@@ -38,11 +38,28 @@ def render_compare(p: PassiveDesign, dry: Path, settings: RenderSettings) -> tup
     return volts, fs, tuple(signal.warnings)
 
 
-def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry: Path, settings: RenderSettings, volts_full_scale: float, reference: tuple[str, dict, float | None]) -> dict:
+def compare_power_db(p: PassiveDesign) -> dict:
+    """The pickup's :func:`render.analysis.brightness.band_power_db` per band key, dB re (1 V per m/s)²."""
+    from ..analysis.brightness import BANDS_HZ, band_key, band_power_db
+    from ..analysis.comparison import compare_response
+
+    return {band_key(b): float(band_power_db(lambda f: compare_response(p, f)[None, :], b)[0]) for b in BANDS_HZ}
+
+
+def compare_reference(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int):
+    """The pickup as the run's brightness reference (``--reference`` naming it): its name, band powers and clip loudness
+    (:class:`render.analysis.brightness.OutsideReference`)."""
+    from ..analysis.brightness import OutsideReference
+    from ..analysis.loudness import integrated_loudness
+
+    return OutsideReference(p.name, compare_power_db(p), integrated_loudness(volts, sample_rate=sample_rate))
+
+
+def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry: Path, settings: RenderSettings, volts_full_scale: float, reference: tuple[str, dict, float | None] | None) -> dict:
     """The comparison clip's JSON record: the pickup, its render, and ``measurements`` with the designs' figures where a passive pickup has them.
 
-    reference : (name, band powers per band key (dB), loudness (LUFS re 1 V full scale) or None)
-        The run's reference design, for the loudness-matched brightness differences.
+    reference : (name, band powers per band key (dB), loudness (LUFS re 1 V full scale) or None), or None
+        The run's reference design, for the loudness-matched brightness differences; None when this pickup is the reference.
     """
     from ..analysis import undefined as U
     from ..analysis.brightness import other_record
@@ -68,8 +85,9 @@ def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry
         U.put(m, key, fig.get(src), U.reason(fig, src))
     m.update({"peak_v": peak, "rms_v": rec["rms_v"]})
     U.put(m, "loudness_lufs_1v_full_scale", rec["loudness_lufs_1v_full_scale"], U.SILENT)
-    name, power, loud = reference
-    m.update(other_record(lambda f: compare_response(p, f)[None, :], rec["loudness_lufs_1v_full_scale"], reference_power_db=power, reference_loudness_lufs=loud, reference_name=name))
+    own = reference is None
+    name, power, loud = (p.name, compare_power_db(p), rec["loudness_lufs_1v_full_scale"]) if reference is None else reference
+    m.update(other_record(lambda f: compare_response(p, f)[None, :], rec["loudness_lufs_1v_full_scale"], reference_power_db=power, reference_loudness_lufs=loud, reference_name=name, is_reference=own))
     rec["measurements"] = m
     return rec
 

@@ -115,5 +115,44 @@ def test_clips_records_and_summary_carry_the_figures_against_the_named_reference
     summary = (out / "summary.md").read_text()
     assert "Reference: glasswing-bright." in summary and "| reference |" in summary
     assert f"{a['loudness_lufs_1v_full_scale']:.1f} LUFS" in summary  # the loudness column is re 1 V full scale
+    assert '"reference":1' in (out / "index.html").read_text()  # the page opens with the same reference
     bad = CliRunner().invoke(main, ["clips", str(REF), "--seconds", "1", "--out", str(tmp_path / "x"), "--reference", "nope"])
     assert bad.exit_code == 1 and "--reference='nope'" in bad.output and not (tmp_path / "x").exists()
+
+
+def test_the_comparison_pickup_can_be_the_reference(tmp_path):
+    # "how much brighter than my usual passive pickup": --reference names the --compare pickup. Each design's
+    # difference is ΔP − Δloudness against it, its band power integrated here with scipy.integrate.quad over ln f
+    from render.analysis.comparison import compare_response
+    from render.circuit.engine import responses
+    from render.circuit.params import from_designs
+    from render.cli import main
+    from render.design.passive import load_passive
+
+    passive = ROOT / "models" / "compare" / "workshop-passive.toml"
+    out = tmp_path / "run"
+    args = ["clips", str(REF), str(BRIGHT), "--compare", str(passive), "--seconds", "1", "--out", str(out), "--no-plots", "--reference", "workshop-passive"]
+    res = CliRunner().invoke(main, args, catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    a, b, c = (json.loads((out / f"{s}.json").read_text())["measurements"] for s in ("studio-reference", "glasswing-bright", "workshop-passive"))
+    assert a["reference_design"] == b["reference_design"] == c["reference_design"] == "workshop-passive"
+    assert c["is_reference"] and not a["is_reference"] and not b["is_reference"]
+    assert c["matched_diff_2k_4k_db"] == c["matched_diff_4k_8k_db"] == 0.0
+    p = load_passive(passive)
+    designs = load_designs([REF, BRIGHT])[0]
+    loud_c = json.loads((out / "workshop-passive.json").read_text())["loudness_lufs_1v_full_scale"]
+    for band in ((2000.0, 4000.0), (4000.0, 8000.0)):
+        f1, f2 = band
+        mean = quad(lambda u: abs(compare_response(p, np.array([np.exp(u)]))[0]) ** 2, np.log(f1), np.log(f2), limit=200)[0] / np.log(f2 / f1)
+        p_c = 10 * np.log10(mean)
+        p_d = band_power_db(responses(from_designs(designs)).velocity(), band)
+        key = f"matched_diff_{band[0] / 1000:g}k_{band[1] / 1000:g}k_db"
+        for m, pd in ((a, p_d[0]), (b, p_d[1])):
+            assert m[key] == pytest.approx((pd - p_c) - (m["loudness_lufs_1v_full_scale"] - loud_c), abs=1e-3)
+    summary = (out / "summary.md").read_text()
+    assert "Reference: workshop-passive." in summary
+    assert [line.rsplit("|", 2)[-2].strip() for line in summary.splitlines() if line.startswith("| workshop-passive")] == ["reference"]
+    page = (out / "index.html").read_text()
+    assert '"reference":2' in page  # the page opens with the comparison pickup (the third clip) as its reference
+    bad = CliRunner().invoke(main, [*args[:-1], "workshop-pasive"])
+    assert bad.exit_code == 1 and "no design of this run nor its comparison pickup" in bad.output and "did you mean 'workshop-passive'" in bad.output

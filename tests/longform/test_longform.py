@@ -145,3 +145,30 @@ def test_ten_minutes_render_in_bounded_memory(tmp_path):
     print(f"ten minutes: peak resident memory of the render {peak_mb:.0f} MB")
     assert peak_mb < 500
     assert sf.info(tmp_path / "o" / "studio-reference.wav").frames == 600 * fs
+
+
+def test_a_long_recording_can_take_the_comparison_pickup_as_its_reference(tmp_path):
+    # the streamed path renders the comparison pickup before the brightness figures, as the in-memory one does
+    fs = 48000
+    t = np.arange(int((LONG_SECONDS + 1) * fs)) / fs
+    x = (0.05 * np.sin(2 * np.pi * 196 * t) * np.exp(-(t % 2.0))).astype(np.float32)
+    sf.write(tmp_path / "long.wav", x, fs, subtype="FLOAT")
+    passive = REF.parent / "compare" / "workshop-passive.toml"
+    out = tmp_path / "run"
+    args = ["clips", str(REF), "--dry", str(tmp_path / "long.wav"), "--compare", str(passive), "--reference", "workshop-passive", "--out", str(out), "--no-plots"]
+    res = CliRunner().invoke(main, args)
+    assert res.exit_code == 0, res.output
+    assert "block by block" in res.output
+    design = json.loads((out / "studio-reference.json").read_text())["measurements"]
+    compared = json.loads((out / "workshop-passive.json").read_text())
+    assert design["reference_design"] == "workshop-passive" and not design["is_reference"]
+    assert compared["measurements"]["is_reference"] and compared["measurements"]["matched_diff_4k_8k_db"] == 0.0
+    # the design's difference is its band power less the pickup's, less their loudness difference (as in-memory runs)
+    from render.analysis.brightness import band_powers_db
+    from render.design.passive import load_passive
+    from render.runs.compare_clip import compare_power_db
+
+    p_d = band_powers_db([load_design(REF)])["4k_8k"][0]
+    p_c = compare_power_db(load_passive(passive))["4k_8k"]
+    want = (p_d - p_c) - (design["loudness_lufs_1v_full_scale"] - compared["loudness_lufs_1v_full_scale"])
+    assert design["matched_diff_4k_8k_db"] == pytest.approx(want, abs=1e-9)

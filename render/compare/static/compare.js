@@ -814,6 +814,7 @@
     }
     S.data = data;
     if (!entries().length) { fail("This page has no clips."); return; }
+    if (Number.isInteger(data.reference) && data.reference < entries().length) S.reference = data.reference; // the run's --reference
     S.ctx = makeContext(data.sample_rate);
     S.player = new Player(S.ctx, S.volumeDb);
     const problems = await decodeWanted();
