@@ -168,8 +168,7 @@ def _measure(args: tuple) -> dict:
         "headroom_down_v": d.headroom_down_v,
         "onset": onset(d),
         "sine": sine_distortion(d, velocity_peak=ref_v),
-        "recovery_offset_v": burst["recovery_offset_v"],
-        "recovery_tau_s": burst["recovery_tau_s"],
+        **{k: v for k, v in burst.items() if k.startswith("recovery_")},  # with their reasons where undefined
         "burst": burst,
     }
 

@@ -13,7 +13,11 @@ loop's network. These figures come from the nonlinear solve of the loop
   where it has fallen from 90 % to 10 % of its value 2 ms after the end
   (the first 2 ms are left out: the loop's faster modes settle there);
   ``recovery_offset_v`` is A (V, signed, the offset extrapolated to the
-  burst's end) and ``recovery_tau_s`` is τ (s).
+  burst's end) and ``recovery_tau_s`` is τ (s). Both are undefined, with
+  their reason, where there is no such decay: the deviation keeps its sign
+  while it falls for less than :data:`MIN_FIT_S` (the output rings, or is
+  back within the 2 ms), or the fitted τ is under a quarter of the 2 ms
+  (extrapolating A over them would multiply it by more than e⁴).
 - :func:`burst_figures` renders a sine burst of string velocity and
   returns the harmonics over the burst's last whole periods (H2, H3, THD)
   and the recovery after it.
@@ -26,6 +30,25 @@ from dataclasses import dataclass
 import numpy as np
 
 SKIP_S = 2e-3  # s left out after the burst's end before fitting (common practice, no source)
+MIN_FIT_S = 0.5e-3  # s: a decay fitted over less than this is no recovery (common practice, no source)
+NO_OFFSET = "no offset: the output is back at its DC point when the fit would start"
+NO_DECAY = "no slow recovery to fit: the output rings or settles within a few ms of the burst's end"
+NO_RETURN = "the output does not return towards its DC point in the time rendered after the burst"
+SHORT = {NO_OFFSET: "no offset", NO_DECAY: "settles fast, no fit", NO_RETURN: "does not return"}  # table cells
+
+
+def recovery_cell(row: dict) -> str:
+    """A row's ``recovery_offset_v`` and ``recovery_tau_s`` as one table cell, in words where undefined."""
+    from . import undefined as U
+
+    a, tau = row.get("recovery_offset_v"), row.get("recovery_tau_s")
+    if a is None:
+        return SHORT.get(U.reason(row, "recovery_offset_v"), "undefined")
+    if tau is None:
+        return f"{a:+7.3f} V" if a else SHORT[NO_OFFSET]
+    return f"{a:+7.3f} V, τ {tau * 1e3:5.1f} ms"
+
+
 FIT_FROM, FIT_TO = 0.9, 0.1  # the fitted part of the decay, as fractions of the deviation after SKIP_S
 BURST_S = 0.06  # s: a 60 ms burst, as the reference checks of this model use
 AFTER_S = 0.25  # s rendered after the burst for the recovery
@@ -36,14 +59,17 @@ HARMONICS = 10
 class Recovery:
     """The op-amp output's return to its DC point after a burst.
 
-    offset_v : V, signed: A of A·e^{−t/τ}, the deviation extrapolated to the burst's end (0 when none)
-    tau_s : s, the fitted time constant (nan when there is nothing to fit)
+    offset_v : V, signed: A of A·e^{−t/τ}, the deviation extrapolated to the burst's end (0 when none;
+        None, with ``reason``, where there is no decay to fit)
+    tau_s : s, the fitted time constant (None, with ``reason``, where there is none)
     points : int, samples used in the fit
+    reason : str, why a figure is None ("" when both are numbers)
     """
 
-    offset_v: float
-    tau_s: float
+    offset_v: float | None
+    tau_s: float | None
     points: int
+    reason: str = ""
 
 
 def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6) -> Recovery:
@@ -64,21 +90,26 @@ def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float 
     dev = v[start:] - dc_v
     d0 = dev[0]
     if abs(d0) < floor_v:
-        return Recovery(0.0, float("nan"), 0)
+        return Recovery(0.0, None, 0, NO_OFFSET)
     mag = np.abs(dev)
     same = np.sign(dev) == np.sign(d0)
-    # from the first sample at or below 90 % to the first below 10 % of the starting deviation
+    # from the first sample at or below 90 % to the first below 10 % of the starting deviation, of one sign
     below_hi = np.flatnonzero(mag <= FIT_FROM * abs(d0))
     below_lo = np.flatnonzero((mag < FIT_TO * abs(d0)) | ~same)
     i0 = int(below_hi[0]) if below_hi.size else 0
     i1 = int(below_lo[0]) if below_lo.size else dev.size
-    if i1 - i0 < 3:
-        i0, i1 = 0, max(i1, 3)
+    if not below_hi.size and not below_lo.size:
+        return Recovery(None, None, 0, NO_RETURN)
+    if i1 - i0 < max(3, MIN_FIT_S * sample_rate):
+        return Recovery(None, None, max(0, i1 - i0), NO_DECAY)
     t = (np.arange(i0, i1) + start) / sample_rate - end_s
     slope, icept = np.polyfit(t, np.log(mag[i0:i1]), 1)
     if slope >= 0:
-        return Recovery(float(d0), float("inf"), i1 - i0)
-    return Recovery(float(np.sign(d0) * np.exp(icept)), float(-1.0 / slope), i1 - i0)
+        return Recovery(None, None, i1 - i0, NO_RETURN)
+    tau = float(-1.0 / slope)
+    if tau < skip_s / 4:
+        return Recovery(None, None, i1 - i0, NO_DECAY)
+    return Recovery(float(np.sign(d0) * np.exp(icept)), tau, i1 - i0)
 
 
 def harmonics_of(x, *, sample_rate: float, f0: float, n: int = HARMONICS) -> np.ndarray:
@@ -122,9 +153,11 @@ def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0,
     settle_s : s from the burst's start left out of the harmonics (the operating point moving)
     returns : dict with ``h1_v``, ``h2_db``, ``h3_db``, ``thd_percent`` and ``harmonics_v`` at the
         amp input over the burst's whole periods after ``settle_s``; ``recovery_offset_v`` (V, signed)
-        and ``recovery_tau_s`` (s, None without an offset to fit) at the op-amp output; ``burst_s``, ``dc_v``
+        and ``recovery_tau_s`` (s) at the op-amp output, each None with a ``<key>_reason`` where there is
+        no decay to fit (:func:`recovery`); ``burst_s``, ``dc_v``
     """
     from ..chain.stream import make_plan, render_signal
+    from . import undefined as U
 
     v = burst_velocity(velocity_peak, frequency_hz=frequency_hz, sample_rate=sample_rate, burst_s=burst_s, after_s=after_s)
     periods = max(1, int(round(burst_s * frequency_hz)))
@@ -136,12 +169,7 @@ def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0,
     b = int(round(periods * sample_rate / frequency_hz))
     figs = distortion_figures(r["out"][a:b], sample_rate=sample_rate, frequency_hz=frequency_hz)
     rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=plan.bias_v)
-    return {
-        **figs,
-        "frequency_hz": frequency_hz,
-        "velocity_peak_m_per_s": velocity_peak,
-        "burst_s": end_s,
-        "dc_v": plan.bias_v,
-        "recovery_offset_v": rec.offset_v,
-        "recovery_tau_s": rec.tau_s if np.isfinite(rec.tau_s) else None,
-    }
+    out = {**figs, "frequency_hz": frequency_hz, "velocity_peak_m_per_s": velocity_peak, "burst_s": end_s, "dc_v": plan.bias_v}
+    U.put(out, "recovery_offset_v", rec.offset_v, rec.reason)
+    U.put(out, "recovery_tau_s", rec.tau_s, rec.reason)
+    return out

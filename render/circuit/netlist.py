@@ -66,6 +66,10 @@ if TYPE_CHECKING:
     from ..design import Design
 
 MIN_R = 1e-3  # ohm: a pot section at its end stop (as render.circuit.params)
+SOURCES_LEFT_OUT = (
+    "the rig's {n} [[hum.source]] entries are not in this netlist: node dbdt drives both coils as one uniform field"
+    " along z (each coil's turns_area), so the netlist's hum is the uniform room's, not theirs; render hum computes theirs"
+)
 CLAMP_S = 1e3  # siemens pulling the op-amp state back inside its limits
 NODES = ("vel", "dbdt", "a1", "a2", "b1", "b2", "ta", "tb", "xa", "xb", "inv", "pos", "bat", "opx", "out", "o1", "jack", "tn", "amp")
 
@@ -218,6 +222,8 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         + f"; output window {d.limit_low_v:g} .. {d.limit_high_v:g} V, knee {s.knee:g} V",
         "*",
     ]
+    if d.hum.sources:
+        head += [f"* hum: {SOURCES_LEFT_OUT.format(n=len(d.hum.sources))}", "*"]
     tail = [
         "*",
         "* the operating point (the bias at pos, the op-amp output at out):",

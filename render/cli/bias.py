@@ -57,13 +57,14 @@ def pluck_strength(text) -> float | None:
 
 
 def print_sweep(sw) -> None:
+    from ..analysis.recovery import recovery_cell
+
     d = sw.design
     click.echo(f"{d.name}  ({d.source}); divider {'parallel resistance kept' if sw.keep_load else 'total resistance kept'}; test sine 1 kHz, {sw.sine_velocity_m_per_s:.3g} m/s peak")
     click.echo(f"  {'setting':26s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s} {'after a 60 ms burst':>22s}")
     for r in sw.rows:
         o, q = r["onset"], r["sine"]
-        tau = r["recovery_tau_s"]
-        rec = f"{r['recovery_offset_v']:+7.3f} V, τ {tau * 1e3:5.1f} ms" if tau is not None else f"{r['recovery_offset_v']:+7.3f} V"
+        rec = recovery_cell(r)
         click.echo(
             f"  {r['setting']:26s} {r['bias_v']:6.2f}V {r['headroom_up_v']:7.2f} / {r['headroom_down_v']:5.2f} V"
             f" {o['velocity_up_m_per_s']:13.3f} / {o['velocity_down_m_per_s']:7.3f}      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB {rec:>22s}"

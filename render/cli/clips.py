@@ -46,11 +46,7 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 @click.option("--plots/--no-plots", default=True, show_default=True, help="Write the response, spectrum and spectrogram plots.")
 @compare_option
 @click.option(
-    "--reference",
-    "reference",
-    default=None,
-    metavar="NAME",
-    help="The design, or the --compare pickup (name or file stem), the loudness-matched brightness differences are taken against (default: the first design).",
+    "--reference", default=None, metavar="NAME", help="Take the loudness-matched brightness differences against this design or --compare pickup (name or file stem; default: the first design)."
 )
 @friendly
 def clips_command(

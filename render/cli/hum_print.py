@@ -43,8 +43,8 @@ def print_report(d, r) -> None:
                 click.echo(f"       source {s['source']:<2d}       {srej:>9s}   {s['output_v'] * 1e6:12.3f} µV   {s['coil_a_v'] * 1e6:9.2f} µV   {s['coil_b_v'] * 1e6:9.2f} µV")
     ref = r.reference_signal
     click.echo(
-        f"  total hum {r.total_v_rms * 1e6:.3f} µV rms; signal to hum {spread(r.signal_to_hum_db, str(r.signal_to_hum_reason), '.1f', ' dB')}"
-        f" (reference: {ref['velocity_m_per_s_peak']:g} m/s peak at {ref['frequency_hz']:g} Hz);"
+        f"  total hum {r.total_v_rms * 1e6:.3f} µV rms; {ref['frequency_hz']:g} Hz signal to hum {spread(r.signal_to_hum_db, str(r.signal_to_hum_reason), '.1f', ' dB')}"
+        f" ({ref['velocity_m_per_s_peak']:g} m/s peak string velocity);"
         f" passive reference {r.passive_total_v_rms * 1e6:.3f} µV rms, {spread(r.passive_signal_to_hum_db, str(r.passive_signal_to_hum_reason), '.1f', ' dB')}"
     )
     if n > 1:

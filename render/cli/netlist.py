@@ -28,6 +28,11 @@ def netlist_command(model, rig_path, out_path, overwrite):
     refuse_existing([out_path], overwrite=overwrite)
     (design,), _ = load_designs([model], rig=rig_path)
     text = netlist(design, rig_source=rig_path)
+    if design.hum.sources:
+        from ..circuit.netlist import SOURCES_LEFT_OUT
+        from .options import warn
+
+        warn(SOURCES_LEFT_OUT.format(n=len(design.hum.sources)))
     if out_path and out_path != "-":
         from ..io.atomic import write_text
 

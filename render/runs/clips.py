@@ -324,7 +324,7 @@ def render_all(
     tasks: list[Any] = [(d, dry, settings, extra[i] if extra else None) for i, d in enumerate(designs)]
     runs = None
     if work is None:  # clips in memory: a few designs per task, their plots drawn on kept figures
-        runs = batches(designs, extra, jobs)
+        runs = worker_tasks(designs, extra, jobs)
         tasks = [[tasks[i] for i in r] for r in runs]
         work = _render_batch
     if jobs > 1 and len(tasks) > 1:
@@ -339,7 +339,7 @@ def render_all(
     return out
 
 
-def batches(designs: Sequence[Design], extra: list | None, jobs: int) -> list[list[int]]:
+def worker_tasks(designs: Sequence[Design], extra: list | None, jobs: int) -> list[list[int]]:
     """The designs' indices in tasks: first, alone, each design that synthesises its own phrase (a construction
     of its own: the slowest by far, so started first and spread over the processes), then the others in runs of
     consecutive designs (:func:`split_runs`)."""

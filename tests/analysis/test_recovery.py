@@ -9,7 +9,7 @@ import pytest
 from click.testing import CliRunner
 
 from render.analysis.bias import onset, sweep
-from render.analysis.recovery import burst_figures, burst_velocity, recovery
+from render.analysis.recovery import NO_DECAY, NO_OFFSET, NO_RETURN, burst_figures, burst_velocity, recovery
 from render.cli import main
 from render.design import load_design
 
@@ -32,9 +32,47 @@ def test_fit_recovers_a_known_exponential(offset, tau):
 
 
 def test_no_offset_is_none_and_a_short_signal_is_refused():
-    assert recovery(np.full(FS, 4.5), sample_rate=FS, end_s=0.1, dc_v=4.5).offset_v == 0.0
+    r = recovery(np.full(FS, 4.5), sample_rate=FS, end_s=0.1, dc_v=4.5)
+    assert r.offset_v == 0.0 and r.tau_s is None and r.reason == NO_OFFSET
     with pytest.raises(ValueError, match="render longer"):
         recovery(np.full(100, 4.5), sample_rate=FS, end_s=0.1, dc_v=4.5)
+
+
+@pytest.mark.parametrize(
+    "after",
+    [
+        lambda t: 0.05 * np.exp(-t / 1e-3) * np.cos(2 * np.pi * 2400 * t),  # a ringing, not a one-signed decay
+        lambda t: -0.3 * np.exp(-t / 3.5e-4),  # a decay fitted, but under a quarter of the 2 ms left out
+    ],
+)
+def test_no_recovery_is_claimed_where_there_is_no_slow_decay(after):
+    # A·e^{−t/τ} extrapolated back over the 2 ms skipped from a few samples of a ringing gave offsets of
+    # −8e5 V on a design whose output stays between its rails: such a decay is named, not fitted
+    t = np.arange(int(0.3 * FS)) / FS
+    end = 0.05
+    v = 4.5 + np.where(t >= end, after(np.clip(t - end, 0, None)), 0.0)
+    r = recovery(v, sample_rate=FS, end_s=end, dc_v=4.5)
+    assert r.offset_v is None and r.tau_s is None and r.reason == NO_DECAY
+
+
+def test_a_deviation_that_does_not_fall_is_named():
+    t = np.arange(int(0.3 * FS)) / FS
+    v = 4.5 + np.where(t >= 0.05, -0.2, 0.0)  # stuck: the output never comes back in the time rendered
+    r = recovery(v, sample_rate=FS, end_s=0.05, dc_v=4.5)
+    assert r.offset_v is None and r.reason == NO_RETURN
+
+
+def test_render_bias_names_the_recovery_of_a_design_whose_output_rings(tmp_path):
+    # a coil wired in reverse cancels the string signal, so the test sine is thousands of m/s and the
+    # output network rings after the burst; the JSON carries null with its reason, the table words
+    js = tmp_path / "b.json"
+    design = ROOT / "tests" / "smoke" / "designs" / "edge-reversed-coil.toml"
+    res = CliRunner().invoke(main, ["bias", str(design), "--ratios", "0.5", "--no-clips", "--json", str(js)])
+    assert res.exit_code == 0, res.output
+    row = json.loads(js.read_text())["settings"][0]
+    assert row["recovery_offset_v"] is None and row["recovery_offset_v_reason"] == NO_DECAY
+    assert row["recovery_tau_s"] is None and row["recovery_tau_s_reason"] == NO_DECAY
+    assert "settles fast, no fit" in res.output
 
 
 def test_burst_is_whole_periods_then_rest():

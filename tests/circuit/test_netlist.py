@@ -182,6 +182,20 @@ def test_render_netlist_command(tmp_path):
     assert res.exit_code == 1 and "exists" in res.output
 
 
+def test_a_rig_with_hum_sources_is_named_as_left_out_of_the_netlist():
+    # the netlist's hum is one uniform field along z (node dbdt, each coil's turns_area); a rig's dipole
+    # sources give each coil another field, so the netlist says it does not carry them, and the command warns
+    from render.cli import main
+
+    args = ["netlist", str(ROOT / "models" / "bobbins" / "studio-bobbin.toml"), "--rig", str(ROOT / "rigs" / "near-transformer.toml")]
+    res = CliRunner().invoke(main, args)
+    assert res.exit_code == 0
+    line = "the rig's 1 [[hum.source]] entries are not in this netlist"
+    assert f"warning: {line}" in res.output and f"* hum: {line}" in res.output
+    plain = CliRunner().invoke(main, ["netlist", str(ROOT / "models" / "bobbins" / "studio-bobbin.toml")])
+    assert plain.exit_code == 0 and "[[hum.source]]" not in plain.output
+
+
 # The writer's two other op-amp branches, by hand from the module text, on studio-reference:
 # - slew_rate = "13V/us" (13e6 V/s): the transconductance limited to ±SR·C, C = 1/(2π·3 MHz), so
 #   ±13e6/(2π·3e6) = ±13/(6π) = ±0.6896714200648798 A, with the A0 = 1e5 ohms written as the −V(opx)/A0 term;

@@ -192,7 +192,8 @@ def test_first_partials_sit_on_equal_temperament():
 def test_pitch_measured_by_yin_within_5_cents(note, expected_hz):
     # An independent estimator, YIN (de Cheveigne & Kawahara, JASA 111(4), 2002), as
     # implemented by librosa, against ISO 16 equal temperament from A4 = 440 Hz.
-    librosa = pytest.importorskip("librosa")
+    import librosa  # a core dependency (pyproject.toml): never skipped
+
     phrase = one_note(seconds=1.2, **note)
     v = string_velocity(phrase, sample_rate=FS, positions=[0.15], apertures=[0.0])[0]
     f = librosa.yin(v[int(0.1 * FS) :], fmin=60, fmax=1000, sr=FS, frame_length=4096)
@@ -201,7 +202,8 @@ def test_pitch_measured_by_yin_within_5_cents(note, expected_hz):
 
 def test_bend_reaches_its_target_pitch():
     # YIN (librosa) again: two semitones up from D4 is E4, 329.628 Hz (ISO 16, from memory).
-    librosa = pytest.importorskip("librosa")
+    import librosa  # a core dependency (pyproject.toml): never skipped
+
     phrase = one_note(seconds=1.6, string=3, fret=7, bend={"semitones": 2, "start": 0.4, "over": 0.2})
     v = string_velocity(phrase, sample_rate=FS, positions=[0.15], apertures=[0.0])[0]
     after = librosa.yin(v[int(0.7 * FS) :], fmin=100, fmax=1000, sr=FS, frame_length=4096)

@@ -97,6 +97,19 @@ def test_vertical_plane_has_bearings_that_cancel_worse():
         rejection_map(coils, from_a=fa, from_b=fb, frequency_hz=f, distances_m=[0.005], bearings_deg=[0.0])
 
 
+def test_the_vertical_planes_dip_below_0_db_narrows_with_distance():
+    # the README's figures: the bearings where the rejection is below 0 dB (the coils' hum adds) span about
+    # two degrees at 0.3 m and less than one from 1 m out, around the sign change of B_z (Jackson eq. 5.56)
+    d, coils, f, fa, fb = _setup()
+    step = 0.01
+    b = np.arange(130.0, 160.0, step)
+    widths = []
+    for r in (0.3, 1.0, 3.0):
+        m = rejection_map(coils, from_a=fa, from_b=fb, frequency_hz=f, distances_m=[r], bearings_deg=b, plane="xz")
+        widths.append(np.count_nonzero(m.rejection_db[0, :, 0] < 0) * step)
+    assert 1.5 < widths[0] < 2.5 and widths[1] < 1.0 and widths[2] < widths[1]
+
+
 def test_source_draws_fill_the_shell_uniformly():
     # a uniform draw in a spherical shell puts the share (ρ³ − r1³)/(r2³ − r1³) within radius ρ (volume
     # of a sphere); axes uniform on the sphere have mean 0 and E[a_z²] = 1/3 (geometry). 3σ bounds.

@@ -94,7 +94,7 @@ RIG_RENDERS = {"studio-bobbin", "edge-matched-coils", "edge-reversed-same-point"
 NO_CONSTRUCTION = "no [construction] table; render sense needs one"
 CONSTRUCTED = {p.stem for p in SHIPPED if "[construction]" in p.read_text(encoding="utf-8")}
 # keys whose null is an undefined figure (the rest are absent parts or unset options: "load_r", "rig", …)
-FIGURE_KEY = re.compile(r"(_db|_hz|_v|_v_rms|_lufs|_lufs_1v_full_scale|^q|^pole_q|^db)$")
+FIGURE_KEY = re.compile(r"(_db|_hz|_v|_v_rms|_s|_lufs|_lufs_1v_full_scale|^q|^pole_q|^db)$")
 NUMBER_WORDS = re.compile(r"\b(nan|inf|-inf|infinity)\b", re.IGNORECASE)
 
 
