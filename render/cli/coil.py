@@ -55,7 +55,9 @@ def print_record(rec: dict) -> None:
             how = f"measured: {src['file']} (SHA-256 {src['sha256'][:12]}…), fit residual max {src['max_residual_db']:.2f} dB, {src['max_residual_deg']:.1f}°"
         elif c["source"] == "derived":
             parts = [p for p in src["parts"] if p["rise_h"] > 1e-3 * src["air_inductance_h"]]
-            core = ", ".join(f"{p['name']} +{_eng(p['rise_h'], 'H')}" for p in parts) or "air core"
+            small = [p for p in src["parts"] if p not in parts]  # each under 0.1 % of the air core: summed, so the line adds up
+            shown = [f"{p['name']} +{_eng(p['rise_h'], 'H')}" for p in parts] + ([f"{len(small)} others +{_eng(sum(p['rise_h'] for p in small), 'H')}"] if small else [])
+            core = ", ".join(shown) or "air core"
             how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; ladder within {src['ladder_error_db']:.2f} dB, {src['ladder_error_deg']:.2f}°"
         click.echo(f"  {name}  {how}")
         lad = c["ladder"]

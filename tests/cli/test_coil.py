@@ -254,3 +254,15 @@ def test_the_plot_names_a_self_resonance_above_the_band(tmp_path, monkeypatch):
     assert plot.resonance_note("coil_a", 12.0, (20.0, 20e3)) == "← coil_a self-resonance 12 Hz"
     assert plot.resonance_note("coil_b", 8.1e3, (20.0, 20e3)) == "coil_b self-resonance 8.1 kHz"
     assert plot.resonance_note("coil_b", None, (20.0, 20e3)) == "coil_b: no self-resonance below 10 MHz"
+
+
+def test_the_derived_line_adds_up_with_the_small_parts_summed():
+    # steel-poles: coil_b's six screws add about 0.2 mH to coil_a, each under 0.1 % of its air core; they are
+    # summed into "6 others" so that the printed parts add up to the JSON's (within the ladder's fit)
+    from render.cli import main
+
+    design = Path(__file__).resolve().parents[2] / "models" / "slipway-steel-poles.toml"
+    res = CliRunner().invoke(main, ["coil", str(design)])
+    assert res.exit_code == 0, res.output
+    line = next(x for x in res.output.splitlines() if x.strip().startswith("coil_a  derived"))
+    assert "6 others +" in line and "coil_b pole" not in line
