@@ -77,6 +77,19 @@ def print_record(rec: dict) -> None:
         click.echo("          phase° " + "".join(f"{p:8.1f}" for _, p in vals))
 
 
+def _coils_of(path):
+    """The design at ``path``, or a passive pickup's (its coils' impedances are as typed; only polarities differ in its carrier)."""
+    from ..design import load_design
+    from ..errors import PassiveGiven
+
+    try:
+        return load_design(path)
+    except PassiveGiven:
+        from ..design.passive import carrier, load_passive
+
+        return carrier(load_passive(path))
+
+
 def _hz(f: float) -> str:
     return f"{f / 1e3:g}k" if f >= 1e3 else f"{f:g}"
 
@@ -98,13 +111,12 @@ def show_command(model, csv_path, png_path, json_path, overwrite):
     From whatever MODEL gives: typed values, the winding and core (wire and
     [coil_x.geometry], with [construction]'s steel), a typed [coil_x.ladder],
     or a measurement (measured = "file.csv"). Winding capacitance included,
-    nothing connected.
+    nothing connected. MODEL may be a passive comparison pickup's file.
     """
-    from ..design import load_design
     from ..runs.coil import coil_record, csv_text
 
     check_new([csv_path, png_path, json_path], overwrite=overwrite)
-    rec = coil_record(load_design(model))
+    rec = coil_record(_coils_of(model))
     if json_path != "-":
         print_record(rec)
     if csv_path:

@@ -266,3 +266,19 @@ def test_the_derived_line_adds_up_with_the_small_parts_summed():
     assert res.exit_code == 0, res.output
     line = next(x for x in res.output.splitlines() if x.strip().startswith("coil_a  derived"))
     assert "6 others +" in line and "coil_b pole" not in line
+
+
+def test_a_passive_comparison_pickups_coils_are_shown(tmp_path):
+    # the comparison pickup's typed coils: 2.1 H with 240 pF self-resonates near 1/(2π·√(LC)) = 7.09 kHz
+    # (its 4.2 kΩ and 1 MΩ core loss move it by under 1 %: the parallel RLC, any circuits text)
+    import math
+
+    from render.cli import main
+
+    passive = Path(__file__).resolve().parents[2] / "models" / "compare" / "workshop-passive.toml"
+    js = tmp_path / "c.json"
+    res = CliRunner().invoke(main, ["coil", str(passive), "--json", str(js)])
+    assert res.exit_code == 0, res.output
+    rec = json.loads(js.read_text())
+    f0 = 1 / (2 * math.pi * math.sqrt(2.1 * 240e-12))
+    assert rec["coils"]["coil_a"]["self_resonance_hz"] == pytest.approx(f0, rel=0.01)
