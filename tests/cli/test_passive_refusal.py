@@ -35,7 +35,6 @@ def test_a_command_with_compare_names_it(command):
         (["blind", PASSIVE, DESIGN], "render blind"),
         (["netlist", PASSIVE], "render netlist"),
         (["sense", PASSIVE], "render sense"),
-        (["coil", PASSIVE], "render coil show"),
     ],
 )
 def test_a_command_without_compare_points_elsewhere(args, shown):
@@ -43,3 +42,9 @@ def test_a_command_without_compare_points_elsewhere(args, shown):
     assert f"and {shown} takes designs with one only; give a design with a preamp here" in line, line
     assert line.endswith("(render check, clips, hum, noise and response take a passive pickup with --compare FILE)"), line
     assert f"--compare {PASSIVE}" not in line
+
+
+def test_render_coil_takes_a_passive_file():
+    # its coils' impedances are what a comparison pickup has (tests/cli/test_coil.py checks the figures)
+    res = CliRunner().invoke(main, ["coil", PASSIVE])
+    assert res.exit_code == 0 and "coil_a  typed values" in res.output
