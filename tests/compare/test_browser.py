@@ -257,6 +257,26 @@ def test_the_page_lays_out(chromium, clips_run, width, height):
     assert errors == []
 
 
+def test_the_page_opens_with_the_runs_reference(chromium, tmp_path):
+    # summary.md takes the brightness differences against --reference; the page starts from the same one
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    out = tmp_path / "run"
+    models = [str(ROOT / "models" / f"{m}.toml") for m in MODELS[:2]]
+    passive = str(ROOT / "models" / "compare" / "workshop-passive.toml")
+    res = CliRunner().invoke(main, ["clips", *models, "--compare", passive, "--reference", "workshop-passive", "--dry", str(PHRASE), "--seconds", "1", "--no-plots", "--out", str(out)])
+    assert res.exit_code == 0, res.output
+    page, errors = open_page(chromium, (out / "index.html").as_uri(), begin=False)
+    try:
+        assert page.eval_on_selector("#reference", "e => e.value") == "2"  # the comparison pickup, the third clip
+        assert page.eval_on_selector("#reference", "e => e.options[e.selectedIndex].textContent").startswith("workshop-passive")
+        assert not errors
+    finally:
+        page.close()
+
+
 def test_watch_swaps_a_saved_clip_and_shows_a_broken_file(chromium, tmp_path):
     from render.clip import RenderSettings
     from render.compare.server import LiveServer
