@@ -84,3 +84,22 @@ def test_unvoice_record_names_the_measurements(measured, tmp_path):
     invoke("unvoice", di, design, "--out", tmp_path / "v.wav")
     rec = json.loads((tmp_path / "v.json").read_text())
     assert rec["design_file"] == str(design) and rec["design_sha256"] == sha(design) and rec["coil_measurements"] == expected
+
+
+def test_sense_record_names_the_design():
+    design = ROOT / "models" / "slipway-steel-poles.toml"  # a construction, typed coils: no measurement
+    rec = json.loads(invoke("sense", design, "--json", "-"))
+    assert rec["design_sha256"] == sha(design) and rec["coil_measurements"] == []
+
+
+def test_fit_json_names_the_start_design_and_its_measurements(tmp_path):
+    # the start's coils given by absolute paths: a result design written to the out folder must still find them
+    text = (ROOT / "models" / "measured-blade.toml").read_text(encoding="utf-8").replace(f'"{SHIPPED}"', f'"{CSV.as_posix()}"')
+    start = tmp_path / "m.toml"
+    start.write_text(text, encoding="utf-8")
+    fit = tmp_path / "f.toml"
+    fit.write_text('from = "m.toml"\n[aim]\nlevel_1k_db = { min = -40 }\n[free]\n"feedback.r" = { min = "22k", max = "470k", series = "E24" }\n', encoding="utf-8")
+    invoke("fit", fit, "--out", tmp_path / "o", "--top", 1)
+    rec = json.loads((tmp_path / "o" / "fit.json").read_text())
+    assert rec["start"] == str(start) and rec["design_sha256"] == sha(start)
+    assert rec["coil_measurements"] == [{"coil": c, "file": CSV.as_posix(), "sha256": sha(CSV)} for c in ("coil_a", "coil_b")]
