@@ -333,6 +333,7 @@ def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature
 def noise_record(r: NoiseReport, design, rig_file) -> dict:
     """The --json record of one report (the keys scripts rely on first)."""
     from .. import __version__
+    from ..design.provenance import design_provenance
 
     act = r.active.as_dict()
     pas = r.passive.as_dict()
@@ -341,6 +342,7 @@ def noise_record(r: NoiseReport, design, rig_file) -> dict:
         "design": r.design,
         "file": r.source,
         "sha256": design.sha256,
+        **design_provenance(design),
         "rig": {"file": rig_file.source, "sha256": rig_file.sha256} if rig_file else None,
         "software_version": __version__,
         "temperature_k": r.temperature_k,

@@ -30,6 +30,7 @@ WEIGHT_STEP = 1e-3  # m, the sensing function is reported every millimetre (comp
 def sense_record(design) -> dict:
     """The JSON-ready record of ``design``'s construction: {"design", "file", "coils": {coil: [per string]}}."""
     from ..design.construction import sensing
+    from ..design.provenance import design_provenance
 
     result = sensing(design)
     if result is None:
@@ -54,7 +55,7 @@ def sense_record(design) -> dict:
                 }
             )
         coils[name] = sorted(rows, key=lambda r: -r["string"])  # lowest string first
-    return {"design": design.name, "file": design.source, "coils": coils}
+    return {"design": design.name, "file": design.source, **design_provenance(design), "coils": coils}
 
 
 def balance_db(rows: list[dict]) -> np.ndarray:

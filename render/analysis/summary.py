@@ -43,6 +43,8 @@ def _pole(pole: tuple) -> dict:
 
 def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
     """JSON-ready: the design's derived values, its figures and its most resonant pole pair (f0 Hz, Q)."""
+    from ..design.provenance import design_provenance
+
     ib = d.input_b
     assert ib.bias_top is not None and ib.bias_bottom is not None
 
@@ -81,6 +83,7 @@ def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
     return {
         "file": d.source,
         "design": d.name,
+        **design_provenance(d),
         "bias_v": d.bias_v,
         "bias_divider_parallel_ohm": 1 / (1 / ib.bias_top + 1 / ib.bias_bottom),
         "headroom_up_v": d.headroom_up_v,

@@ -117,7 +117,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     from ..dry import default_dry_path
     from ..errors import InputError
     from ..io.folders import output_folder, refuse_existing
-    from ..runs.bias import check_strength, write_bias_clips
+    from ..runs.bias import check_strength, sweep_record, write_bias_clips
     from ..units import RESISTANCE
 
     refuse_existing([json_path], overwrite=overwrite)
@@ -136,7 +136,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     for w in sw.warnings:
         warn(w)
     print_sweep(sw)
-    payload = {"design": design.name, "file": design.source, "keep_load": keep_load, "sine_velocity_m_per_s": sw.sine_velocity_m_per_s, "settings": [dict(r) for r in sw.rows]}
+    payload = sweep_record(sw)
     if out is not None and dry is not None:
         clips = write_bias_clips(sw, dry, out, strength_m=strength_m, seconds=seconds, seed=seed, target_lufs=target_lufs, jobs=jobs)
         for row, clip in zip(payload["settings"], clips.clips):

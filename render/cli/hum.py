@@ -71,7 +71,7 @@ def hum_command(
     tables in the rig, each coil sees its own flux from each source.
     """
     from ..analysis.hum import hum, monte_carlo
-    from ..design import load_designs
+    from ..design import design_provenance, load_designs
     from ..errors import InputError
     from ..io.folders import output_folder, refuse_existing, run_folder
 
@@ -95,7 +95,7 @@ def hum_command(
         records = []
         for i, d in enumerate(designs):
             r = hum(d)
-            rec = {"file": d.source, "design": d.name, **r.as_dict()}
+            rec = {"file": d.source, "design": d.name, **design_provenance(d), **r.as_dict()}
             warnings(rec, d, dipoles=bool(map_on or positions))
             if show:
                 if i:

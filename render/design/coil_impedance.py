@@ -329,7 +329,7 @@ def measurement_path(file: str, source: str) -> Path:
 
 def fit_file(path: Path):
     """(Measurement, MeasuredCoil) of a measurement file, the fit cached by the file's hash."""
-    from ..impedance.measurement_csv import read_measurement
+    from ..io.measurement import read_measurement
 
     m = read_measurement(path)
     return m, _fit_cached(str(path), m.sha256)
@@ -340,8 +340,8 @@ def _fit_cached(path: str, sha: str):
     """The fit of the file at ``path`` whose bytes hash to ``sha`` (in memory, and on disk by the hash)."""
     from ..impedance.ladder import Ladder
     from ..impedance.measured import MeasuredCoil, fit_measurement
-    from ..impedance.measurement_csv import read_measurement
     from ..io import cache
+    from ..io.measurement import read_measurement
 
     key = f"{sha}-v{FIT_VERSION}"
     stored = cache.load("coil-fit", key)

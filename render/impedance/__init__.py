@@ -12,9 +12,9 @@
 - :mod:`.capacitance`: winding capacitance from the layers and the insulation
   (Massarini & Kazimierczuk 1997).
 - :mod:`.measured`: the coil model fitted to a measured |Z| and phase.
-- :mod:`.measurement_csv`: the one module here that reads files (a measured
-  coil's CSV).
+- :mod:`.measurement_csv`: a measured coil's CSV text parsed (the file is read
+  by :mod:`render.io.measurement`).
 
-Everything except :mod:`.measurement_csv` is pure: arrays and parameters in,
-arrays out, SI units.
+Everything here is pure: arrays, parameters or text in, arrays out, SI units;
+no module reads a file.
 """

@@ -20,8 +20,8 @@ far beyond what the sweep can show that a value on a bound means "not seen"
 stays below 1e-9 at the top frequency), and close enough that the
 exponentials of the log-parameters never overflow.
 
-Pure: arrays in, a frozen result out. :mod:`render.impedance.measurement_csv`
-reads the files.
+Pure: arrays in, a frozen result out. :mod:`render.io.measurement` reads the
+files and :mod:`render.impedance.measurement_csv` parses them.
 """
 
 from __future__ import annotations

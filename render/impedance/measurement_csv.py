@@ -1,7 +1,8 @@
 """Reading a measured coil: a CSV file of frequency, |Z| and phase.
 
-The one module of :mod:`render.impedance` that touches files. The format is
-what LCR meters and impedance analysers export, loosely:
+Pure: text (or the file's bytes) in, a :class:`Measurement` out;
+:func:`render.io.measurement.read_measurement` reads the file and hashes it.
+The format is what LCR meters and impedance analysers export, loosely:
 
 - comma-separated text (UTF-8); lines starting with ``#`` are comments and
   blank lines are skipped;
@@ -20,17 +21,15 @@ The file's SHA-256 travels with the data, for a render's record.
 
 from __future__ import annotations
 
-import hashlib
 import math
 import re
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 
 from ..errors import InputError
 
-MAX_BYTES = 16 * 1024 * 1024
+MAX_BYTES = 16 * 1024 * 1024  # the largest measurement file read (render.io.measurement)
 MIN_ROWS = 8
 _NAMES = {
     "frequency": ("frequency", "freq", "f"),
@@ -159,18 +158,10 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
     return Measurement(f, mag, ph, source, sha256)
 
 
-def read_measurement(path: str | Path) -> Measurement:
-    """Read a measured coil's CSV file (see the module doc)."""
-    p = Path(path)
-    try:
-        size = p.stat().st_size
-    except OSError:
-        raise InputError(f"{p}: measurement file not found; check the path") from None
-    if size > MAX_BYTES:
-        raise InputError(f"{p}: {size} bytes, more than {MAX_BYTES} for a measurement; export fewer points")
-    raw = p.read_bytes()
+def decode_measurement(raw: bytes, *, source: str, sha256: str) -> Measurement:
+    """Parse a measurement file's bytes (UTF-8, an optional BOM); ``sha256`` is their digest, kept with the data."""
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
-        raise InputError(f"{p}: not a UTF-8 text file; export the measurement as CSV text") from None
-    return parse_measurement(text, source=str(p), sha256=hashlib.sha256(raw).hexdigest())
+        raise InputError(f"{source}: not a UTF-8 text file; export the measurement as CSV text") from None
+    return parse_measurement(text, source=source, sha256=sha256)

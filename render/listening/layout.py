@@ -11,7 +11,7 @@
 server only after the last answer)::
 
     {"format": "render-listening-key", "version": 1, "session": ..., "method": ...,
-     "seed": ..., "designs": [{"name", "path", "sha256", "toml"}, x2], "rig": ...,
+     "seed": ..., "designs": [{"name", "path", "sha256", "toml", "design_sha256", "coil_measurements"}, x2], "rig": ...,
      "dry": {...}, "loudness": {...},
      "render_sha256": [two hashes: each matched render as a float32 WAV, before dither],
      "dither": {"kind": "TPDF", "peak": 2**-23, ...}, "clip_sha256": {"<name>.wav": hash, ...},

@@ -8,7 +8,7 @@ import numpy as np
 
 from .. import __version__
 from ..design import design_to_dict
-from ..design.coil_impedance import measured_files
+from ..design.provenance import design_provenance
 
 if TYPE_CHECKING:
     from ..clip import Clip, RenderSettings
@@ -49,8 +49,7 @@ def make_record(d: Design, figures: dict, stats: dict, *, dry: dict, samples: in
     return {
         "design": d.name,
         "design_file": d.source,
-        "design_sha256": d.sha256,
-        "coil_measurements": measured_files(d),
+        **design_provenance(d),
         "design_values": design_info,
         "sample_rate": settings.sample_rate,
         "volts_full_scale": volts_full_scale,

@@ -13,6 +13,7 @@ def _db(x, floor=1e-30):
 
 def unvoice_record(*, di, di_sha256, design, rig, sample_rate, frames, vfs, vscale, peak, inv, stats, vstats, vpeak, vrms, out, png, warnings, version, design_dict) -> dict:
     from ..analysis import unvoice as U
+    from ..design.provenance import design_provenance
 
     band = inv.trusted_band_hz
     centres = U.third_octave_centres(U.LOW_HZ, U.TOP_FRACTION * sample_rate)
@@ -52,7 +53,7 @@ def unvoice_record(*, di, di_sha256, design, rig, sample_rate, frames, vfs, vsca
         },
         "design": design.name,
         "design_file": design.source,
-        "design_sha256": design.sha256,
+        **design_provenance(design),
         "design_values": design_dict,
         "rig": {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "the design's own [rig] or the defaults"},
         "velocity": {

@@ -10,7 +10,7 @@ import numpy as np
 from ..errors import InputError
 from .strength import phrase_at_strength
 
-__all__ = ["BiasClips", "check_strength", "phrase_at_strength", "write_bias_clips"]
+__all__ = ["BiasClips", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
 
@@ -44,6 +44,21 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
     if dry.suffix.lower() != ".toml":
         raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
     return (f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing; rendering it anyway",) if strength_m > REALISTIC_STRENGTH_M else ()
+
+
+def sweep_record(sweep) -> dict:
+    """The JSON record of a sweep (:func:`render.analysis.bias.bias_sweep`): the design, its file and hashes, each setting's row."""
+    from ..design.provenance import design_provenance
+
+    d = sweep.design
+    return {
+        "design": d.name,
+        "file": d.source,
+        **design_provenance(d),
+        "keep_load": sweep.keep_load,
+        "sine_velocity_m_per_s": sweep.sine_velocity_m_per_s,
+        "settings": [dict(r) for r in sweep.rows],
+    }
 
 
 def _clip(args: tuple) -> tuple[np.ndarray, dict]:

@@ -262,6 +262,7 @@ def build_blind_session(
     from ..analysis.headroom import from_record
     from ..clip import render_clip
     from ..design.construction import pickup_for
+    from ..design.provenance import design_provenance
     from ..dry import load_dry
     from ..listening.build import build_session
     from ..listening.loudness import match_loudness
@@ -326,7 +327,7 @@ def build_blind_session(
         method=settings.method,
         trials=settings.trials,
         seed=seed,
-        designs=[{"name": name, **rec} for name, rec in zip(names, design_records)],
+        designs=[{"name": name, **rec, **design_provenance(d)} for name, rec, d in zip(names, design_records, designs)],
         record=record,
         overwrite=overwrite,
     )

@@ -72,6 +72,7 @@ def coil_record(design, *, points: int = POINTS) -> dict:
 
     from ..circuit.ladder import coil_ladder
     from ..circuit.params import from_designs
+    from ..design.provenance import design_provenance
 
     p = from_designs([design])
     f = np.geomspace(*BAND_HZ, points)
@@ -96,7 +97,7 @@ def coil_record(design, *, points: int = POINTS) -> dict:
             "magnitude_ohm": np.abs(z).tolist(),
             "phase_deg": np.degrees(np.angle(z)).tolist(),
         }
-    return {"design": design.name, "file": design.source, "design_sha256": design.sha256, "coils": coils}
+    return {"design": design.name, "file": design.source, **design_provenance(design), "coils": coils}
 
 
 def at(rec_coil: dict, frequency_hz: float) -> tuple[float, float]:

@@ -78,7 +78,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
     """
     from ..analysis.figures import figures
     from ..analysis.fit import conflicts, format_value, load_fit, rewrite, run_fit
-    from ..design import apply_rig, load_design, load_rig, parse_design
+    from ..design import apply_rig, design_provenance, load_design, load_rig, parse_design
     from ..io.atomic import write_json, write_text
     from ..io.folders import run_folder
     from ..io.toml import loads
@@ -123,7 +123,11 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
                     "changes": {fr.name: v for fr, v, _ in changes},
                 }
             )
-        write_json(Path(out) / "fit.json", {"fit_file": str(fitfile), "start": str(start_file), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records}, overwrite=True)
+        write_json(
+            Path(out) / "fit.json",
+            {"fit_file": str(fitfile), "start": str(start_file), **design_provenance(start), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records},
+            overwrite=True,
+        )
         from ..report.plots import fit_plot
 
         fit_plot(Path(out) / "fit-responses.png", [start] + [apply_rig(load_design(p), rig_file) for p in written], title=f"render fit: {fitfile.name}")

@@ -12,7 +12,8 @@ from render.impedance.eddy import CorePart, core_impedance, fill_for, prism_dema
 from render.impedance.ladder import ladder_error
 from render.impedance.materials import STEEL
 from render.impedance.measured import fit_measurement
-from render.impedance.measurement_csv import parse_measurement, read_measurement
+from render.impedance.measurement_csv import parse_measurement
+from render.io.measurement import read_measurement
 
 ROOT = Path(__file__).resolve().parents[2]
 EXAMPLE = ROOT / "models" / "coils" / "harbour-blade-coil.synthetic.csv"
@@ -149,3 +150,32 @@ def test_reader_refuses_a_missing_file(tmp_path):
     with pytest.raises(InputError) as e:
         read_measurement(tmp_path / "absent.csv")
     assert "not found" in str(e.value)
+
+
+def test_reader_refuses_a_file_that_is_not_utf8_and_hashes_the_bytes_it_read(tmp_path):
+    # the digest is of the file's bytes as stored (FIPS 180-4 SHA-256, Python's hashlib), BOM included
+    import hashlib
+
+    good = tmp_path / "bom.csv"
+    good.write_bytes(b"\xef\xbb\xbf" + (GOOD_HEADER + GOOD_ROWS).encode())
+    m = read_measurement(good)
+    assert m.sha256 == hashlib.sha256(good.read_bytes()).hexdigest() and m.source == str(good)
+    bad = tmp_path / "latin1.csv"
+    bad.write_bytes((GOOD_HEADER + GOOD_ROWS).encode() + b"# \xb5H\n")
+    with pytest.raises(InputError) as e:
+        read_measurement(bad)
+    assert str(e.value) == f"{bad}: not a UTF-8 text file; export the measurement as CSV text"
+
+
+def test_impedance_modules_read_no_files():
+    # the physics package stays free of file I/O (DEVELOPERS.md: physics stays pure); a checked
+    # property of the code, no outside source needed
+    import ast
+
+    for path in (ROOT / "render" / "impedance").glob("*.py"):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        names = {a.name for n in ast.walk(tree) if isinstance(n, (ast.Import, ast.ImportFrom)) for a in n.names}
+        names |= {n.module for n in ast.walk(tree) if isinstance(n, ast.ImportFrom) and n.module}
+        calls = {n.func.attr if isinstance(n.func, ast.Attribute) else getattr(n.func, "id", "") for n in ast.walk(tree) if isinstance(n, ast.Call)}
+        assert not names & {"hashlib", "pathlib", "Path", "io"}, path.name
+        assert not calls & {"open", "read_bytes", "read_text", "stat", "write_bytes", "write_text"}, path.name
