@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
+from pathlib import Path
 
 import numpy as np
 
@@ -521,6 +522,22 @@ def format_value(fr: Free, v: float) -> str:
         return U.format_rkm(v, unit_letter="")
     unit = fr.spec.kind.unit if isinstance(fr.spec.kind, U.Kind) else ""
     return U.format_si(v, unit, digits=4).replace(" ", "")
+
+
+def rebase_files(text: str, *, from_dir: Path, to_dir: Path) -> str:
+    """The design text with each relative ``measured = "…"`` path (relative to its file's folder) made relative to
+    ``to_dir`` instead, so that the design written there still finds its measurement."""
+    import os
+    import re
+
+    def moved(m):
+        value = m.group(2)
+        if Path(value).is_absolute():
+            return m.group(0)
+        new = os.path.relpath(Path(from_dir) / value, Path(to_dir)).replace(os.sep, "/")
+        return f'{m.group(1)}"{new}"{m.group(3)}'
+
+    return re.sub(r'^(\s*measured\s*=\s*)"([^"]+)"(.*)$', moved, text, flags=re.M)
 
 
 def rewrite(text: str, changes: list[tuple[Free, float, float | None]], header: str, name: str | None = None) -> str:

@@ -77,7 +77,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
         For a bad fit file, or when no result meets every aim (saying which aims conflict).
     """
     from ..analysis.figures import figures
-    from ..analysis.fit import conflicts, format_value, load_fit, rewrite, run_fit
+    from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit
     from ..design import apply_rig, design_provenance, load_design, load_rig, parse_design
     from ..io.atomic import write_json, write_text
     from ..io.folders import run_folder
@@ -99,7 +99,8 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
     if spec.needs_phrase:
         start_fig["phrase_headroom_db"] = float(ev.phrase_margins([start])[0])
     with run_folder(out):
-        text = start_file.read_text(encoding="utf-8")
+        # the results live in ``out``: a measured coil's file is found from there as from the start file
+        text = rebase_files(start_file.read_text(encoding="utf-8"), from_dir=start_file.parent, to_dir=Path(out))
         records, written = [], []
         for rank, r in enumerate(results, 1):
             changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]

@@ -158,3 +158,30 @@ def test_fit_can_render_and_build_a_blind_session(tmp_path):
     assert (out / "blind" / "public").is_dir() and (out / "blind" / "private").is_dir()
     # a result carries its own name, never the start's
     assert load_design(out / "studio-reference-fit-1.toml").name == "studio-reference-fit-1"
+
+
+def test_a_fit_of_a_measured_design_writes_results_that_find_the_measurement(tmp_path):
+    # a result file lives in the output folder: its measured = "…" path is rewritten relative to it, so the
+    # result loads with the start's measured coil (the same fitted ladder, the same file hash)
+    import shutil
+
+    start_dir = tmp_path / "designs"
+    shutil.copytree(ROOT / "models" / "coils", start_dir / "coils")
+    shutil.copy(ROOT / "models" / "measured-blade.toml", start_dir / "measured-blade.toml")
+    fit = tmp_path / "fits" / "mb.toml"
+    fit.parent.mkdir()
+    fit.write_text('from = "../designs/measured-blade.toml"\n\n[aim]\nlevel_1k_db = { min = -9.5 }\n\n[free]\n"feedback.r" = { min = "22k", max = "220k", series = "E24" }\n')
+    out = tmp_path / "elsewhere" / "out"
+    res = CliRunner().invoke(main, ["fit", str(fit), "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    start = load_design(start_dir / "measured-blade.toml")
+    result = load_design(out / "measured-blade-fit-1.toml")
+    assert result.coil_a.ladder == start.coil_a.ladder and result.coil_a.impedance_from.sha256 == start.coil_a.impedance_from.sha256
+
+
+def test_rebasing_leaves_absolute_paths_alone():
+    from render.analysis.fit import rebase_files
+
+    text = 'measured = "coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n'
+    got = rebase_files(text, from_dir=Path("/d/models"), to_dir=Path("/d/out/run"))
+    assert got == 'measured = "../../models/coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n'
