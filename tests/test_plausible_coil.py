@@ -157,3 +157,16 @@ def test_clips_warns_of_a_nanometre_pluck_and_renders(tmp_path):
     assert res.exit_code == 0, res.output
     lines = [x for x in res.stderr.splitlines() if "--strength" in x]
     assert lines == ["warning: --strength=2.2e-05mm: a pluck of 22 nm is far below playing (at least about 0.05 mm, common practice, no source); rendering it anyway; give it in mm, like 1mm"]
+
+
+def test_the_readme_shows_the_load_capacitor_warning_as_check_prints_it(tmp_path):
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    text = REF.read_text().replace('load_c = "3n9"   # with', 'load_c = "3.9u"   # with', 1)
+    (tmp_path / "studio-reference.toml").write_text(text)
+    res = CliRunner().invoke(main, ["check", str(tmp_path / "studio-reference.toml")])
+    assert res.exit_code == 0
+    (line,) = [x for x in res.stderr.splitlines() if x.startswith("warning:")]
+    assert f"    {line}\n" in (ROOT / "README.md").read_text()
