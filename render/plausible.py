@@ -11,8 +11,11 @@ feedback capacitor of "22n" instead of "22p" puts the feedback corner at
   of a refusal;
 - :func:`design_warnings`: one line per unlikely value of a loaded design
   (a network corner inside the band where it normally lies far outside it; a
-  coil inductance or a resistor outside its usual range; a stage gain far
-  from an active pickup's; a derived coil whose turns fill its winding's
+  coil's resonance with its load capacitor inside the band where pickups put
+  it at 2-12 kHz; an op-amp gain-bandwidth that puts the stage's
+  closed-loop corner inside the band; a coil's inductance, capacitance, DC
+  resistance or core-loss resistance or a resistor outside its usual range;
+  a stage gain far from an active pickup's; a derived coil whose turns fill its winding's
   section far from what wound coils do), each naming the range, its origin,
   and the value with the likely prefix (``series_r = "22"`` is most likely
   ``"22k"``).
@@ -26,7 +29,18 @@ from __future__ import annotations
 import math
 
 from . import units as U
-from .usual import COUPLING_CORNER_MAX_HZ, FEEDBACK_CORNER_MIN_HZ, STAGE_GAIN_RANGE, USUAL, Usual, likely_prefix, prefixed_alternatives, usual
+from .usual import (
+    CLOSED_LOOP_CORNER_MIN_HZ,
+    COUPLING_CORNER_MAX_HZ,
+    FEEDBACK_CORNER_MIN_HZ,
+    LOADED_RESONANCE_MIN_HZ,
+    STAGE_GAIN_RANGE,
+    USUAL,
+    Usual,
+    likely_prefix,
+    prefixed_alternatives,
+    usual,
+)
 
 # Share of a winding's section its insulated wire takes (π·d_o²/4 per turn over height × mean
 # build): scatter-wound pickup coils to careful layer winding (common practice, no source); round
@@ -43,12 +57,21 @@ RESISTORS = (
 )
 
 
-def _fix_for(x: float, ok) -> str:
-    """ " (did you mean "22p"?)" for the first alternative prefix of ``x`` that ``ok(value)`` accepts, else ""."""
+def _fix_for(x: float, ok, *, bare: str = "") -> str:
+    """ "; did you mean "22p"?" for the first alternative prefix of ``x`` that ``ok(value)`` accepts, else "".
+
+    ``bare`` follows an alternative without a prefix ("R" for a resistance, as IEC 60062 writes "520R").
+    """
     for text, v in prefixed_alternatives(x):
         if ok(v):
-            return f'; did you mean "{text}"?'
+            suffix = bare if text[-1:].isdigit() else ""
+            return f'; did you mean "{text}{suffix}"?'
     return ""
+
+
+def loaded_resonance_hz(inductance_h: float, capacitance_f: float) -> float:
+    """The undamped resonance 1/(2π√(LC)) of a coil and the capacitance across it (Hz)."""
+    return 1.0 / (2.0 * math.pi * math.sqrt(inductance_h * capacitance_f))
 
 
 def design_warnings(design) -> tuple[str, ...]:
@@ -70,7 +93,7 @@ def design_warnings(design) -> tuple[str, ...]:
         corner = f"the feedback corner 1/(2π·r·c) is {U.format_si(c['feedback_hz'], 'Hz')}, inside the band; it normally lies above {FEEDBACK_CORNER_MIN_HZ:g} Hz (common practice, no source)"
         if ("feedback", "r") in odd_r:  # the resistor's slipped prefix, not the capacitor
             rng = USUAL[("feedback", "r")]
-            fix = _fix_for(fb.r, lambda v: rng.holds(v) and 1 / (tau * v * fb.c) >= FEEDBACK_CORNER_MIN_HZ)
+            fix = _fix_for(fb.r, lambda v: rng.holds(v) and 1 / (tau * v * fb.c) >= FEEDBACK_CORNER_MIN_HZ, bare="R")
             out.append(f"[feedback] r={U.format_si(fb.r, 'Ω')}: {corner}, and r is outside its usual range ({rng.text('Ω')}){fix}")
             blamed.add(("feedback", "r"))
         else:
@@ -86,7 +109,7 @@ def design_warnings(design) -> tuple[str, ...]:
             )
             if (name, "series_r") in odd_r:  # the resistor's slipped prefix, not the capacitor
                 rng = USUAL[("input", "series_r")]
-                fix = _fix_for(net.series_r, lambda v, cs=net.series_c, rng=rng: rng.holds(v) and 1 / (tau * v * cs) <= COUPLING_CORNER_MAX_HZ)
+                fix = _fix_for(net.series_r, lambda v, cs=net.series_c, rng=rng: rng.holds(v) and 1 / (tau * v * cs) <= COUPLING_CORNER_MAX_HZ, bare="R")
                 out.append(f"[{name}] series_r={U.format_si(net.series_r, 'Ω')}: {corner}, and series_r is outside its usual range ({rng.text('Ω')}){fix}")
                 blamed.add((name, "series_r"))
             else:
@@ -95,7 +118,7 @@ def design_warnings(design) -> tuple[str, ...]:
     for (table, key), v in odd_r.items():
         if (table, key) not in blamed:
             rng = USUAL[(table.removesuffix("_a").removesuffix("_b"), key)]
-            out.append(f"[{table}] {key}={U.format_si(v, 'Ω')}: outside the usual range ({rng.text('Ω')}){_fix_for(v, rng.holds)}")
+            out.append(f"[{table}] {key}={U.format_si(v, 'Ω')}: outside the usual range ({rng.text('Ω')}){_fix_for(v, rng.holds, bare='R')}")
     gain = fb.r / design.input_a.series_r
     lo, hi = STAGE_GAIN_RANGE
     if not lo <= gain <= hi:
@@ -114,13 +137,78 @@ def design_warnings(design) -> tuple[str, ...]:
             f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
         )
     out += fill_warnings(design)
-    rng = USUAL[("coil", "inductance")]
-    for name in ("coil_a", "coil_b"):
-        ind = getattr(design, name).inductance
-        if not rng.holds(ind):
-            fix = _fix_for(ind, rng.holds)
-            out.append(f"[{name}] inductance={U.format_si(ind, 'H')}: outside the usual range for pickup coils ({rng.text('H')}){fix}")
+    out += coil_warnings(design)
+    out += bandwidth_warnings(design)
     return tuple(out)
+
+
+COIL_UNITS = {"inductance": "H", "capacitance": "F", "resistance": "Ω", "eddy_resistance": "Ω"}
+
+
+def coil_warnings(design) -> list[str]:
+    """One line per coil whose resonance with its load lies inside the band, and per coil value outside its usual range.
+
+    The resonance is 1/(2π√(L·(C + load_c))) (:func:`loaded_resonance_hz`);
+    below :data:`LOADED_RESONANCE_MIN_HZ` it blames the coil's inductance or
+    capacitance when one is outside its usual range, else the load capacitor.
+    """
+    out: list[str] = []
+    lo_hz = LOADED_RESONANCE_MIN_HZ
+    for name, net_name in (("coil_a", "input_a"), ("coil_b", "input_b")):
+        coil, net = getattr(design, name), getattr(design, net_name)
+        values = {k: v for k in COIL_UNITS if (v := getattr(coil, k, None)) is not None}
+        odd = [k for k, v in values.items() if not USUAL[("coil", k)].holds(v)]
+        load = net.load_c or 0.0
+        f0 = loaded_resonance_hz(coil.inductance, coil.capacitance + load)
+        blamed = None
+        if f0 < lo_hz:
+            what = f"the coil's resonance with its load 1/(2π·√(L·(C + load_c))) is {U.format_si(f0, 'Hz')}, inside the band; it normally lies above {lo_hz:g} Hz (common practice, no source)"
+            blamed = next((k for k in ("inductance", "capacitance") if k in odd), None)
+            if blamed == "inductance":
+                rng = USUAL[("coil", "inductance")]
+                fix = _fix_for(coil.inductance, lambda v, c=coil.capacitance + load, rng=rng: rng.holds(v) and loaded_resonance_hz(v, c) >= lo_hz)
+                out.append(f"[{name}] inductance={U.format_si(coil.inductance, 'H')}: {what}, and inductance is outside its usual range for pickup coils ({rng.text('H')}){fix}")
+            elif blamed == "capacitance":
+                rng = USUAL[("coil", "capacitance")]
+                fix = _fix_for(coil.capacitance, lambda v, L=coil.inductance, c=load, rng=rng: rng.holds(v) and loaded_resonance_hz(L, v + c) >= lo_hz)
+                out.append(f"[{name}] capacitance={U.format_si(coil.capacitance, 'F')}: {what}, and capacitance is outside its usual range for pickup coils ({rng.text('F')}){fix}")
+            elif net.load_c:
+                rng = USUAL[("input", "load_c")]
+                fix = _fix_for(net.load_c, lambda v, L=coil.inductance, c=coil.capacitance, rng=rng: rng.holds(v) and loaded_resonance_hz(L, c + v) >= lo_hz)
+                out.append(f"[{net_name}] load_c={U.format_si(net.load_c, 'F')}: {what}{fix}")
+            else:
+                out.append(f"[{name}] inductance={U.format_si(coil.inductance, 'H')}, capacitance={U.format_si(coil.capacitance, 'F')}: {what}")
+        for key in odd:
+            if key != blamed:
+                unit, rng = COIL_UNITS[key], USUAL[("coil", key)]
+                fix = _fix_for(values[key], rng.holds, bare="R" if unit == "Ω" else "")
+                out.append(f"[{name}] {key}={U.format_si(values[key], unit)}: outside the usual range for pickup coils ({rng.text(unit)}){fix}")
+    return out
+
+
+def bandwidth_warnings(design) -> list[str]:
+    """One line when the op-amp's gain-bandwidth puts the stage's closed-loop corner inside the band.
+
+    The corner of an inverting stage is gbw / (1 + r/series_r), its noise gain
+    (Sedra & Smith, Microelectronic Circuits, 7th ed., 2015, §2.8.2; section from memory).
+    Not said when the stage gain is outside :data:`STAGE_GAIN_RANGE`: then the gain warns.
+    """
+    gbw = design.supply.gbw
+    if not gbw:
+        return []
+    gain = design.feedback.r / design.input_a.series_r
+    if not STAGE_GAIN_RANGE[0] <= gain <= STAGE_GAIN_RANGE[1]:
+        return []  # the stage gain's own line names the resistors; a gbw that is not the slip would be blamed here
+    noise_gain = 1.0 + gain
+    corner = gbw / noise_gain
+    floor = CLOSED_LOOP_CORNER_MIN_HZ
+    if corner >= floor:
+        return []
+    fix = _fix_for(gbw, lambda v: 1e3 <= v <= 1e10 and v / noise_gain >= floor)
+    return [
+        f"[supply] gbw={U.format_si(gbw, 'Hz')}: the closed-loop corner gbw / (1 + [feedback] r / [input_a] series_r) is {U.format_si(corner, 'Hz')}, inside the band;"
+        f" it normally lies above {U.format_si(floor, 'Hz')} (common practice, no source){fix}"
+    ]
 
 
 def fill_warnings(design) -> list[str]:

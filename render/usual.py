@@ -34,6 +34,10 @@ USUAL: dict[tuple[str, str], Usual] = {
     # passive humbucker coils 1-5 H, hot single coils to about 8 H, low-impedance coils a few mH
     ("coil", "inductance"): Usual(1e-3, 10.0, "from memory"),
     ("coil", "capacitance"): Usual(10e-12, 1e-9, "from memory"),
+    # DC resistance: passive coils 2-20 kΩ, low-impedance coils tens of Ω (the range render coil fit uses)
+    ("coil", "resistance"): Usual(10.0, 100e3, "from memory"),
+    # core loss as a resistance across the inductance: kΩ (solid steel, low-impedance coils) to MΩ
+    ("coil", "eddy_resistance"): Usual(1e3, 100e6, "from memory"),
     ("feedback", "c"): Usual(1e-12, 2.2e-9, "common practice, no source"),
     ("input", "series_c"): Usual(10e-9, 100e-6, "common practice, no source"),
     ("input", "load_c"): Usual(10e-12, 10e-9, "common practice, no source"),
@@ -62,6 +66,12 @@ STAGE_GAIN_RANGE = (1.0, 100.0)
 # well above the middle of a guitar's range; the coupling corners below the low E string (82 Hz)
 FEEDBACK_CORNER_MIN_HZ = 2000.0
 COUPLING_CORNER_MAX_HZ = 40.0
+# a coil's resonance with its winding and load capacitance: pickups put it at about 2-12 kHz, a
+# low-impedance coil with no load capacitor far higher, so only a resonance below this warns (common practice, no source)
+LOADED_RESONANCE_MIN_HZ = 2000.0
+# the stage's closed-loop corner gbw / (1 + feedback.r / input_a.series_r) lies above the audio
+# band, 20 kHz (common practice, no source)
+CLOSED_LOOP_CORNER_MIN_HZ = 20e3
 
 _PREFIX_LETTERS = {-15: "f", -12: "p", -9: "n", -6: "u", -3: "m", 0: "", 3: "k", 6: "M"}
 

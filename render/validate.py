@@ -101,11 +101,60 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field, table: str = "") -
     if isinstance(raw, str):
         t = raw.strip()
         body = next((t[: -len(s)] for s in ("ohms", "ohm", "Ω") if t.endswith(s)), t)
-        if spec.kind is U.RESISTANCE and body.endswith("m") and value < spec.lo:
+        if spec.kind is U.RESISTANCE and body.endswith("m") and value < spec.lo and _in_range(value * 1e9, spec):
             return f' ("m" is milli; for mega write "{body[:-1]}M")'
+        other = _other_prefix(t, spec, table, key)
+        if other:
+            return f'; did you mean "{other}"?'
         if spec.kind is U.CAPACITANCE and value > spec.hi:
             return " (a capacitor that large is unlikely; check the prefix: p, n, u)"
     return ""
+
+
+def _in_range(value: float, spec: Field) -> bool:
+    lo_ok = value > spec.lo if spec.lo_open else value >= spec.lo
+    hi_ok = value < spec.hi if spec.hi_open else value <= spec.hi
+    return lo_ok and hi_ok
+
+
+def _other_prefix(text: str, spec: Field, table: str, key: str) -> str | None:
+    """``text`` ("520M", "9mV", "500H") with the prefix that brings it into ``spec``'s range, or None.
+
+    The unit symbol is taken off first, as :func:`render.units.parse_quantity` reads it
+    ("38m" is 38 metres). Among several prefixes, the one in the part's usual range
+    (:data:`render.usual.USUAL`), nearest the middle of that range (or of the accepted
+    range when there is no usual one).
+    """
+    from .usual import usual
+
+    kind = spec.kind
+    if not isinstance(kind, U.Kind) or kind.power != 1 or kind.scaled:
+        return None
+    body, symbol = text.replace(" ", ""), ""
+    for sym in sorted(kind.symbols, key=len, reverse=True):
+        if body.endswith(sym) and len(body) > len(sym):
+            body, symbol = body[: -len(sym)], sym
+            break
+    prefix = body[-1:] if body[-1:] in U.PREFIXES else ""
+    number = body[: len(body) - len(prefix)]
+    if not U._NUMBER_RE.match(number) or "e" in number.lower() or not (prefix or symbol):
+        return None  # not a number with a prefix or a unit (a bare number, an RKM code, an exponent)
+    rng = usual(table, key)
+    lo, hi = (rng.lo, rng.hi) if rng else (spec.lo, spec.hi)
+    if not (lo > 0 and math.isfinite(hi)):
+        return None
+    best: tuple[float, str] | None = None
+    for letter in ("p", "n", "u", "m", "", "k", "M", "G"):
+        if letter == prefix:
+            continue
+        v = float(number) * 10.0 ** U.PREFIXES.get(letter, 0)
+        if not _in_range(v, spec) or (rng is not None and not rng.holds(v)):
+            continue
+        unit = "" if letter and symbol == "R" else symbol or ("" if letter else "R" if kind is U.RESISTANCE else kind.unit if kind.unit.isascii() else "")
+        distance = abs(math.log(v / math.sqrt(lo * hi)))
+        if best is None or distance < best[0]:
+            best = (distance, f"{number}{letter}{unit}")
+    return None if best is None else best[1]
 
 
 def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> Any:

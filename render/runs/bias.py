@@ -13,6 +13,7 @@ from .strength import phrase_at_strength
 __all__ = ["BiasClips", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
+PLAYED_STRENGTH_MIN_M = 5e-5  # a pluck below 0.05 mm is far below the softest playing (common practice, no source)
 
 
 @dataclass(frozen=True)
@@ -36,13 +37,15 @@ class BiasClips:
 
 
 def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
-    """Refuse a pluck strength outside 0..50 mm or with a recording; warn beyond realistic playing."""
+    """Refuse a pluck strength outside 0..50 mm or with a recording; warn beyond realistic playing and far below it."""
     if strength_m is None:
         return ()
     if not 0 < strength_m <= 0.05:
         raise InputError(f"--strength={strength_m * 1e3:g}mm: must be above 0 and at most 50 mm")
     if dry.suffix.lower() != ".toml":
         raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
+    if strength_m < PLAYED_STRENGTH_MIN_M:
+        return (weak_strength_warning(strength_m),)
     return (f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing; rendering it anyway",) if strength_m > REALISTIC_STRENGTH_M else ()
 
 
@@ -59,6 +62,26 @@ def sweep_record(sweep) -> dict:
         "sine_velocity_m_per_s": sweep.sine_velocity_m_per_s,
         "settings": [dict(r) for r in sweep.rows],
     }
+
+
+def weak_strength_warning(strength_m: float) -> str:
+    """The warning for a pluck below :data:`PLAYED_STRENGTH_MIN_M`, with the same digits under a prefix that gives a played strength when one does.
+
+    "2n" (2 nm) was most likely meant as 2 mm; "22n" has no such reading (22 µm is too weak
+    and 22 mm beyond playing), so the hint is to give the strength in mm.
+    """
+    from ..units import format_si
+    from ..usual import prefixed_alternatives
+
+    played = [v for _, v in prefixed_alternatives(strength_m) if PLAYED_STRENGTH_MIN_M <= v <= REALISTIC_STRENGTH_M]
+    if played:
+        hint = f"; did you mean {played[0] * 1e3:g}mm?"
+    else:  # below a micrometre the unit, not the playing, is the likely slip
+        hint = "; give it in mm, like 1mm" if strength_m < 1e-6 else ""
+    return (
+        f"--strength={strength_m * 1e3:g}mm: a pluck of {format_si(strength_m, 'm')} is far below playing"
+        f" (at least about {PLAYED_STRENGTH_MIN_M * 1e3:g} mm, common practice, no source); rendering it anyway{hint}"
+    )
 
 
 def _clip(args: tuple) -> tuple[np.ndarray, dict]:
