@@ -20,7 +20,7 @@ import pytest
 from render.design import load_designs
 from render.errors import InputError
 from render.plausible import design_warnings
-from render.usual import CLOSED_LOOP_CORNER_MIN_HZ, LOADED_RESONANCE_MIN_HZ, USUAL
+from render.usual import CLOSED_LOOP_CORNER_MIN_HZ, LOADED_RESONANCE_MIN_HZ
 
 ROOT = Path(__file__).resolve().parents[1]
 REF = ROOT / "models" / "studio-reference.toml"
@@ -70,12 +70,9 @@ def test_a_winding_capacitance_in_nanofarads_blames_the_coil_not_the_load(tmp_pa
 
 
 def test_a_coil_resistance_in_kilohms_warns_with_the_range_render_coil_fit_uses(tmp_path):
-    from render.runs.coil import COIL_RESISTANCE_USUAL
-
+    # one range for the design reader and render coil fit (render.runs.coil reads render.usual's)
     d = load_variant(tmp_path, 'resistance = "520R"   # DC', 'resistance = "520k"   # DC')
     assert design_warnings(d) == ('[coil_a] resistance=520 kΩ: outside the usual range for pickup coils (10 Ω to 100 kΩ, from memory); did you mean "520R"?',)
-    rng = USUAL[("coil", "resistance")]
-    assert (rng.lo, rng.hi) == COIL_RESISTANCE_USUAL  # one range for the design reader and render coil fit
 
 
 def test_a_core_loss_resistance_in_ohms_warns(tmp_path):
