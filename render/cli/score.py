@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import click
 
-from .options import emit_json, friendly, json_option, overwrite_option
+from .options import emit_json, friendly, json_option, overwrite_option, warn
 
 
 @click.command("score")
@@ -29,6 +29,8 @@ def score_command(session, json_path, png_path, no_plot, overwrite):
 
     refuse_existing([json_path, png_path], overwrite=overwrite)
     scored = score_blind_session(session, png_path=png_path, plot=not no_plot, overwrite=overwrite)
+    for w in scored.warnings:
+        warn(w)
     if json_path != "-":  # standard output carries the JSON alone
         for line in summary_lines(scored.result):
             click.echo(line)

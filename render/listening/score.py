@@ -141,6 +141,23 @@ def designs_from_key(key: dict):
     return out
 
 
+def changed_measurements(key: dict) -> list[str]:
+    """A line for each measured coil whose file no longer has the SHA-256 the session's key recorded when it
+    was rendered (the answers are about the rendered clips; a response drawn now uses today's file)."""
+    from ..design.provenance import design_provenance
+
+    lines = []
+    for design, rec in zip(designs_from_key(key), key["designs"]):
+        was = {m["coil"]: m["sha256"] for m in rec.get("coil_measurements", [])}
+        for m in design_provenance(design)["coil_measurements"]:
+            if m["coil"] in was and was[m["coil"]] != m["sha256"]:
+                lines.append(
+                    f"{design.name}: {m['coil']}'s measurement {m['file']} changed since the session was rendered (SHA-256 {was[m['coil']][:12]}… then, "
+                    f"{m['sha256'][:12]}… now); the response difference is drawn from today's file, the answers are about the rendered clips"
+                )
+    return lines
+
+
 def difference_plot(path, key: dict, *, overwrite: bool = False):
     """Both designs' responses and their difference in dB, raw and as played after loudness matching."""
     from ..circuit.engine import responses

@@ -41,6 +41,7 @@ class SessionScore:
     result: dict
     plot: Path | None = None
     kept_plot: Path | None = None
+    warnings: tuple[str, ...] = ()
 
 
 def score_blind_session(session: str | Path, *, png_path: str | Path | None = None, plot: bool = True, overwrite: bool = False) -> SessionScore:
@@ -62,9 +63,10 @@ def score_blind_session(session: str | Path, *, png_path: str | Path | None = No
     -------
     SessionScore
     """
-    from ..listening.score import difference_plot, score_session
+    from ..listening.score import changed_measurements, difference_plot, score_session
 
     paths, key, result = score_session(session)
+    warnings = tuple(changed_measurements(key))
     drawn = kept = None
     if plot:
         target = Path(png_path) if png_path else paths.results / PLOT_NAME
@@ -76,4 +78,4 @@ def score_blind_session(session: str | Path, *, png_path: str | Path | None = No
             except OSError as exc:
                 raise InputError(f"--png={target}: cannot create the folder {target.parent} ({exc.strerror or exc}); choose another path") from None
             drawn = difference_plot(target, key, overwrite=overwrite)
-    return SessionScore(paths=paths, session_id=key["session"], result=result, plot=drawn, kept_plot=kept)
+    return SessionScore(paths=paths, session_id=key["session"], result=result, plot=drawn, kept_plot=kept, warnings=warnings)

@@ -118,3 +118,36 @@ def test_preference_score(make_session):
 def test_score_refuses_a_folder_that_is_not_a_session(tmp_path):
     result = CliRunner().invoke(score_command, [str(tmp_path)])
     assert result.exit_code == 1 and "not a listening session" in result.output
+
+
+def test_score_warns_when_a_measured_coils_file_changed_after_the_session(tmp_path):
+    # the key keeps each measured coil's SHA-256 (the bytes its clips were rendered from); a file edited since
+    # is named, with both digests (hashlib over the file's bytes), while the score itself stands
+    import hashlib
+    import shutil
+    from pathlib import Path
+
+    from listening.conftest import design_record, synthetic_pair
+
+    from render.design import load_design
+    from render.design.provenance import design_provenance
+    from render.listening.build import build_session
+    from render.listening.loudness import match_loudness
+
+    root = Path(__file__).resolve().parents[2]
+    shutil.copytree(root / "models" / "coils", tmp_path / "coils")
+    design = tmp_path / "measured-blade.toml"
+    shutil.copy(root / "models" / "measured-blade.toml", design)
+    records = [design_record(design) | design_provenance(load_design(design)), design_record(root / "models" / "studio-reference.toml")]
+    signals, match = match_loudness(synthetic_pair(16000, 1.0), sample_rate=16000, names=["a", "b"])
+    paths = build_session(tmp_path / "s", signals, sample_rate=16000, method="abx", trials=5, seed=3, designs=records, record={"rig": None, "loudness": match.record()})
+    key = json.loads(paths.key.read_text())
+    _answer_all(paths, [(t["x"], "") for t in key["trials"]])
+    csv = tmp_path / "coils" / "harbour-blade-coil.synthetic.csv"
+    before = hashlib.sha256(csv.read_bytes()).hexdigest()
+    csv.write_text(csv.read_text() + "# a note added after the session\n")
+    after = hashlib.sha256(csv.read_bytes()).hexdigest()
+    res = CliRunner().invoke(score_command, [str(paths.root), "--no-plot"])
+    assert res.exit_code == 0, res.output
+    assert f"warning: measured-blade: coil_a's measurement coils/harbour-blade-coil.synthetic.csv changed since the session was rendered (SHA-256 {before[:12]}… then, {after[:12]}… now)" in res.output
+    assert "5 of 5 correct" in res.output
