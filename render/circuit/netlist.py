@@ -12,10 +12,16 @@ Sources (both 0 V at DC, so the operating point is the circuit's own):
 - ``Vvel`` at node ``vel``: string velocity, 1 V standing for 1 m/s at both
   coils' sensing points (AC magnitude 1: responses come out per m/s);
 - ``Vdbdt`` at node ``dbdt``: the hum field's derivative, 1 V standing for
-  1 T/s.
+  1 T/s;
+- with a rig's ``[[hum.source]]`` tables, ``Vhum1``, ``Vhum2``, … at nodes
+  ``hum1``, ``hum2``, … instead: each source's rate of change, 1 V standing
+  for 1 A·m²/s of a dipole's moment or 1 T/s of a uniform source's field.
 
 Each coil's EMF is a behavioural source, signal_polarity · sensitivity ·
-V(vel) + hum_polarity · turns_area · V(dbdt) (Faraday).
+V(vel) + hum_polarity · turns_area · V(dbdt) (Faraday); with sources, the
+hum terms are hum_polarity · k_j · V(hum_j), k_j the coil's flux linkage per
+unit strength of source j (:func:`render.magnetics.hum.coupling`: Wb per
+A·m² or per T; the winding's filaments and, with a construction, its steel).
 
 The op-amp (:mod:`render.chain.loop`, as equations):
 
@@ -66,10 +72,6 @@ if TYPE_CHECKING:
     from ..design import Design
 
 MIN_R = 1e-3  # ohm: a pot section at its end stop (as render.circuit.params)
-SOURCES_LEFT_OUT = (
-    "the rig's {n} [[hum.source]] entries are not in this netlist: node dbdt drives both coils as one uniform field"
-    " along z (each coil's turns_area), so the netlist's hum is the uniform room's, not theirs; render hum computes theirs"
-)
 CLAMP_S = 1e3  # siemens pulling the op-amp state back inside its limits
 NODES = ("vel", "dbdt", "a1", "a2", "b1", "b2", "ta", "tb", "xa", "xb", "inv", "pos", "bat", "opx", "out", "o1", "jack", "tn", "amp")
 
@@ -79,11 +81,27 @@ def _v(x: float) -> str:
     return repr(float(x))
 
 
-def _coil(tag: str, coil, hot: str) -> list[str]:
+def hum_drives(design) -> list[tuple[str, tuple[float, float]]]:
+    """Each hum drive node and its coefficient in each coil's EMF (hum_polarity · flux linkage per unit).
+
+    Without ``[[hum.source]]``: node ``dbdt`` with each coil's turns_area (m²). With them: node
+    ``hum<j>`` per source with the coil's linkage per unit strength (:func:`render.magnetics.hum.coupling`).
+    """
+    a, b = design.coil_a, design.coil_b
+    if not design.hum.sources:
+        return [("dbdt", (a.hum_polarity * a.turns_area, b.hum_polarity * b.turns_area))]
+    from ..magnetics.hum import coupling
+    from ..magnetics.pickup import placed_coils
+
+    k = coupling(placed_coils(design), design.hum.sources)
+    return [(f"hum{j + 1}", (a.hum_polarity * float(k[0, j]), b.hum_polarity * float(k[1, j]))) for j in range(k.shape[1])]
+
+
+def _coil(tag: str, coil, hot: str, hum: list[tuple[str, float]]) -> list[str]:
     sig = coil.signal_polarity * coil.sensitivity
-    hum = coil.hum_polarity * coil.turns_area
+    terms = "".join(f" + {_v(k)}*V({node})" for node, k in hum)
     lines = [
-        f"B{tag}emf {tag}1 0 V = {_v(sig)}*V(vel) + {_v(hum)}*V(dbdt)",
+        f"B{tag}emf {tag}1 0 V = {_v(sig)}*V(vel){terms}",
         f"R{tag}dc {tag}1 {tag}2 {_v(coil.resistance)}",
     ]
     ladder = coil_ladder(coil)
@@ -178,8 +196,9 @@ def _rig(rig) -> list[str]:
 def circuit_lines(design: Design, *, rig: bool = True) -> list[str]:
     """The element lines (no comments, analyses or .end): coils, networks, op-amp, output, rig."""
     d = design
-    lines = ["Vvel vel 0 DC 0 AC 1", "Vdbdt dbdt 0 DC 0"]
-    lines += _coil("a", d.coil_a, "ta") + _coil("b", d.coil_b, "tb")
+    drives = hum_drives(d)
+    lines = ["Vvel vel 0 DC 0 AC 1"] + [f"V{node} {node} 0 DC 0" for node, _ in drives]
+    lines += _coil("a", d.coil_a, "ta", [(n, k[0]) for n, k in drives]) + _coil("b", d.coil_b, "tb", [(n, k[1]) for n, k in drives])
     lines += _input("a", d.input_a, "inv") + _input("b", d.input_b, "pos")
     ib = d.input_b
     assert ib.bias_top is not None and ib.bias_bottom is not None  # input_b always has its divider
@@ -212,7 +231,7 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         f"* design: {d.source or d.name}" + (f"; rig: {rig_source}" if rig_source else ""),
         "*",
         "* drives: Vvel (node vel): string velocity, 1 V = 1 m/s at both sensing points, AC 1;",
-        "*         Vdbdt (node dbdt): hum field derivative, 1 V = 1 T/s",
+        "*         Vdbdt (node dbdt): hum field derivative, 1 V = 1 T/s" if not d.hum.sources else "*         Vhum1.. (nodes hum1..): the rig's hum sources (below)",
         "* nodes:  a1 a2 b1 b2 coil insides; ta tb coil terminals; xa xb series_c to series_r;",
         "*         inv pos op-amp inputs; bat battery +; opx op-amp open-loop state; out op-amp output;",
         "*         o1 coupling_c to series_r; jack output jack; tn tone; amp amplifier input",
@@ -223,7 +242,12 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "*",
     ]
     if d.hum.sources:
-        head += [f"* hum: {SOURCES_LEFT_OUT.format(n=len(d.hum.sources))}", "*"]
+        head += [
+            f"* hum: the rig's {len(d.hum.sources)} [[hum.source]] entries drive Vhum1..Vhum{len(d.hum.sources)}: each source's",
+            "*      rate of change, 1 V = 1 A*m^2/s of a dipole's moment or 1 T/s of a uniform source's field (node dbdt is",
+            "*      not written); for a source's hum at the amp input, give its V source AC 2*pi*f*m (m its peak moment, A*m^2)",
+            "*",
+        ]
     tail = [
         "*",
         "* the operating point (the bias at pos, the op-amp output at out):",

@@ -17,7 +17,8 @@ def netlist_command(model, rig_path, out_path, overwrite):
     """Write MODEL (with its rig, or --rig) as a SPICE netlist.
 
     The coils' EMF sources are driven by the string velocity (node vel,
-    1 V = 1 m/s) and the hum field's derivative (node dbdt, 1 V = 1 T/s);
+    1 V = 1 m/s) and the hum field's derivative (node dbdt, 1 V = 1 T/s;
+    with the rig's [[hum.source]] tables, nodes hum1, hum2, ... instead);
     the node names, the op-amp model and commented .ac, .noise and .tran
     examples are documented in the file.
     """
@@ -28,11 +29,6 @@ def netlist_command(model, rig_path, out_path, overwrite):
     refuse_existing([out_path], overwrite=overwrite)
     (design,), _ = load_designs([model], rig=rig_path)
     text = netlist(design, rig_source=rig_path)
-    if design.hum.sources:
-        from ..circuit.netlist import SOURCES_LEFT_OUT
-        from .options import warn
-
-        warn(SOURCES_LEFT_OUT.format(n=len(design.hum.sources)))
     if out_path and out_path != "-":
         from ..io.atomic import write_text
 
