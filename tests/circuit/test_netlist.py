@@ -206,6 +206,11 @@ def test_a_rigs_hum_sources_drive_their_own_nodes_and_ngspice_gives_render_hums_
         ours = abs(data[0, 1] + 1j * data[0, 2]) * 2 * math.pi * f * src.moment * d.hum.harmonics[h - 1]
         want = report.harmonics[h - 1].output_v
         assert 20 * math.log10(ours / want) == pytest.approx(0.0, abs=0.01)
+    # a design with point coils gets render hum's warning about them
+    from render.cli import main
+
+    res = CliRunner().invoke(main, ["netlist", str(ROOT / "models" / "studio-reference.toml"), "--rig", str(ROOT / "rigs" / "near-transformer.toml")])
+    assert res.exit_code == 0 and "warning:" in res.output and "have no geometry: a dipole source is taken as a uniform field" in res.output
 
 
 # The writer's two other op-amp branches, by hand from the module text, on studio-reference:
