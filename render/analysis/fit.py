@@ -531,13 +531,14 @@ def rebase_files(text: str, *, from_dir: Path, to_dir: Path) -> str:
     import re
 
     def moved(m):
-        value = m.group(2)
+        quote, value = m.group(2), m.group(3)
         if Path(value).is_absolute():
             return m.group(0)
         new = os.path.relpath(Path(from_dir) / value, Path(to_dir)).replace(os.sep, "/")
-        return f'{m.group(1)}"{new}"{m.group(3)}'
+        return f"{m.group(1)}{quote}{new}{quote}{m.group(4)}"
 
-    return re.sub(r'^(\s*measured\s*=\s*)"([^"]+)"(.*)$', moved, text, flags=re.M)
+    # a basic ("…", no escapes in a path) or a literal ('…') TOML string
+    return re.sub(r"""^(\s*measured\s*=\s*)(["'])([^"'\\]+)\2(.*)$""", moved, text, flags=re.M)
 
 
 def rewrite(text: str, changes: list[tuple[Free, float, float | None]], header: str, name: str | None = None) -> str:

@@ -242,10 +242,13 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "*",
     ]
     if d.hum.sources:
+        n = len(d.hum.sources)
+        drives = "Vhum1" if n == 1 else f"Vhum1..Vhum{n}"
         head += [
-            f"* hum: the rig's {len(d.hum.sources)} [[hum.source]] entries drive Vhum1..Vhum{len(d.hum.sources)}: each source's",
-            "*      rate of change, 1 V = 1 A*m^2/s of a dipole's moment or 1 T/s of a uniform source's field (node dbdt is",
-            "*      not written); for a source's hum at the amp input, give its V source AC 2*pi*f*m (m its peak moment, A*m^2)",
+            f"* hum: the rig's {n} [[hum.source]] {'table drives' if n == 1 else 'tables drive'} {drives}: each source's rate of change,",
+            "*      1 V = 1 A*m^2/s of a dipole's moment or 1 T/s of a uniform source's field (node dbdt is not written);",
+            "*      for source j's hum at the amp input at harmonic h, give Vhumj AC 2*pi*f*m*w_h (m its peak moment in A*m^2,",
+            "*      or B its peak field in T for a uniform source; w_h the harmonic's weight from its harmonics or the rig's)",
             "*",
         ]
     tail = [

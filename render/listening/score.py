@@ -141,19 +141,30 @@ def designs_from_key(key: dict):
     return out
 
 
-def changed_measurements(key: dict) -> list[str]:
-    """A line for each measured coil whose file no longer has the SHA-256 the session's key recorded when it
-    was rendered (the answers are about the rendered clips; a response drawn now uses today's file)."""
-    from ..design.provenance import design_provenance
+def changed_measurements(key: dict, *, plotted: bool = True) -> list[str]:
+    """A line for each measured coil whose file is gone, or no longer has the SHA-256 the session's key recorded
+    when it was rendered (the answers are about the rendered clips). Each file is found as its design found it:
+    relative to the design file's path in the key. Nothing is fitted or refused here.
+
+    plotted : whether a response plot is drawn now (from today's file), for the wording
+    """
+    from ..design.coil_impedance import measurement_path
+    from ..io.hashing import sha256_bytes
 
     lines = []
-    for design, rec in zip(designs_from_key(key), key["designs"]):
-        was = {m["coil"]: m["sha256"] for m in rec.get("coil_measurements", [])}
-        for m in design_provenance(design)["coil_measurements"]:
-            if m["coil"] in was and was[m["coil"]] != m["sha256"]:
+    for rec in key["designs"]:
+        for m in rec.get("coil_measurements", []):
+            path = measurement_path(m["file"], rec.get("path", ""))
+            try:
+                now = sha256_bytes(path.read_bytes())
+            except OSError:
+                lines.append(f"{rec['name']}: {m['coil']}'s measurement {m['file']} is no longer at {path}; the answers are about the clips as rendered from it")
+                continue
+            if now != m["sha256"]:
+                plot = "; the response difference is drawn from today's file" if plotted else ""
                 lines.append(
-                    f"{design.name}: {m['coil']}'s measurement {m['file']} changed since the session was rendered (SHA-256 {was[m['coil']][:12]}… then, "
-                    f"{m['sha256'][:12]}… now); the response difference is drawn from today's file, the answers are about the rendered clips"
+                    f"{rec['name']}: {m['coil']}'s measurement {m['file']} changed since the session was rendered (SHA-256 {m['sha256'][:12]}… then, "
+                    f"{now[:12]}… now){plot}; the answers are about the rendered clips"
                 )
     return lines
 

@@ -78,10 +78,7 @@ def weak_strength_warning(strength_m: float) -> str:
         hint = f"; did you mean {played[0] * 1e3:g}mm?"
     else:  # below a micrometre the unit, not the playing, is the likely slip
         hint = "; give it in mm, like 1mm" if strength_m < 1e-6 else ""
-    return (
-        f"--strength={strength_m * 1e3:g}mm: a pluck of {format_si(strength_m, 'm')} is far below playing"
-        f" (at least about {PLAYED_STRENGTH_MIN_M * 1e3:g} mm, common practice, no source); rendering it anyway{hint}"
-    )
+    return f"--strength: a pluck of {format_si(strength_m, 'm')} is far below playing (at least about {PLAYED_STRENGTH_MIN_M * 1e3:g} mm, common practice, no source); rendering it anyway{hint}"
 
 
 def _clip(args: tuple) -> tuple[np.ndarray, dict]:

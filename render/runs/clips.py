@@ -328,7 +328,9 @@ def render_all(
         tasks = [[tasks[i] for i in r] for r in runs]
         work = _render_batch
     if jobs > 1 and len(tasks) > 1:
-        import_for_workers(plots, sensing=any(d.construction is not None for d in designs))
+        # a worker senses a construction only where it synthesises the design's phrase itself (no shared dry signal)
+        own = runs is not None and any(d.construction is not None and (extra is None or extra[i][1] is None) for i, d in enumerate(designs))
+        import_for_workers(plots, sensing=own)
     done = pmap(work, tasks, jobs, on_done=(lambda result: progress(len(result) if runs else 1)) if progress else None)
     if runs is None:
         return done
@@ -342,7 +344,7 @@ def render_all(
 def worker_tasks(designs: Sequence[Design], extra: list | None, jobs: int) -> list[list[int]]:
     """The designs' indices in tasks: first, alone, each design that synthesises its own phrase (a construction
     of its own: the slowest by far, so started first and spread over the processes), then the others in runs of
-    consecutive designs (:func:`split_runs`)."""
+    consecutive designs (:func:`shrinking_runs` after such designs, else :func:`split_runs`)."""
     own = [i for i, d in enumerate(designs) if d.construction is not None and extra is not None and extra[i][1] is None]
     rest = [i for i in range(len(designs)) if i not in own]
     # after the constructed designs, whose times differ by a second or more, the processes come free at

@@ -66,7 +66,7 @@ def score_blind_session(session: str | Path, *, png_path: str | Path | None = No
     from ..listening.score import changed_measurements, difference_plot, score_session
 
     paths, key, result = score_session(session)
-    warnings = tuple(changed_measurements(key))
+    warnings = tuple(changed_measurements(key, plotted=plot))
     drawn = kept = None
     if plot:
         target = Path(png_path) if png_path else paths.results / PLOT_NAME
@@ -77,5 +77,8 @@ def score_blind_session(session: str | Path, *, png_path: str | Path | None = No
                 target.parent.mkdir(exist_ok=True)
             except OSError as exc:
                 raise InputError(f"--png={target}: cannot create the folder {target.parent} ({exc.strerror or exc}); choose another path") from None
-            drawn = difference_plot(target, key, overwrite=overwrite)
+            try:
+                drawn = difference_plot(target, key, overwrite=overwrite)
+            except InputError as exc:  # a design the key keeps no longer loads here (a measurement moved): the score stands
+                warnings += (f"the response difference was not drawn: {exc}",)
     return SessionScore(paths=paths, session_id=key["session"], result=result, plot=drawn, kept_plot=kept, warnings=warnings)

@@ -182,6 +182,6 @@ def test_a_fit_of_a_measured_design_writes_results_that_find_the_measurement(tmp
 def test_rebasing_leaves_absolute_paths_alone():
     from render.analysis.fit import rebase_files
 
-    text = 'measured = "coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n'
+    text = 'measured = "coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n  measured=\'coils/d.csv\'\n'
     got = rebase_files(text, from_dir=Path("/d/models"), to_dir=Path("/d/out/run"))
-    assert got == 'measured = "../../models/coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n'
+    assert got == 'measured = "../../models/coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n  measured=\'../../models/coils/d.csv\'\n'

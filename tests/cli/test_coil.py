@@ -262,10 +262,18 @@ def test_the_derived_line_adds_up_with_the_small_parts_summed():
     from render.cli import main
 
     design = Path(__file__).resolve().parents[2] / "models" / "slipway-steel-poles.toml"
+    import re
+
     res = CliRunner().invoke(main, ["coil", str(design)])
     assert res.exit_code == 0, res.output
     line = next(x for x in res.output.splitlines() if x.strip().startswith("coil_a  derived"))
     assert "6 others +" in line and "coil_b pole" not in line
+    # the printed rises (4 digits) sum to the JSON's, every part counted once
+    scale = {"mH": 1e-3, "µH": 1e-6, "H": 1.0}
+    printed = sum(float(v) * scale[u] for v, u in re.findall(r"\+([0-9.]+) (mH|µH|H)\b", line.split(";")[0]))
+    rec = json.loads(CliRunner().invoke(main, ["coil", str(design), "--json", "-"]).output)
+    parts = rec["coils"]["coil_a"]["from"]["parts"]
+    assert printed == pytest.approx(sum(p["rise_h"] for p in parts), rel=1e-3)
 
 
 def test_a_passive_comparison_pickups_coils_are_shown(tmp_path):

@@ -151,3 +151,9 @@ def test_score_warns_when_a_measured_coils_file_changed_after_the_session(tmp_pa
     assert res.exit_code == 0, res.output
     assert f"warning: measured-blade: coil_a's measurement coils/harbour-blade-coil.synthetic.csv changed since the session was rendered (SHA-256 {before[:12]}… then, {after[:12]}… now)" in res.output
     assert "5 of 5 correct" in res.output
+    # the file gone: the score stands, with a line saying so, and the plot that needs it is not drawn
+    csv.unlink()
+    res = CliRunner().invoke(score_command, [str(paths.root), "--overwrite"])
+    assert res.exit_code == 0, res.output
+    assert "coil_a's measurement coils/harbour-blade-coil.synthetic.csv is no longer at" in res.output
+    assert "warning: the response difference was not drawn:" in res.output and "5 of 5 correct" in res.output

@@ -97,9 +97,12 @@ def test_vertical_plane_has_bearings_that_cancel_worse():
         rejection_map(coils, from_a=fa, from_b=fb, frequency_hz=f, distances_m=[0.005], bearings_deg=[0.0])
 
 
-def test_the_vertical_planes_dip_below_0_db_narrows_with_distance():
-    # the README's figures: the bearings where the rejection is below 0 dB (the coils' hum adds) span about
-    # two degrees at 0.3 m and less than one from 1 m out, around the sign change of B_z (Jackson eq. 5.56)
+def test_the_vertical_planes_dip_below_0_db_narrows_as_one_over_distance():
+    # Near the bearing where a z dipole's B_z changes sign (Jackson eq. 5.56) the common flux grows as
+    # (θ − θ0)/r³ while the coils' difference, the field's gradient times their spacing s, goes as s/r⁴:
+    # the hum adds (rejection below 0 dB) over a band of bearings whose width goes as s/r, so width·r is
+    # the same at every distance (checked within 5 %). The README's widths (about two degrees at 0.3 m,
+    # less than one from 1 m out) are this model's own, held here against change
     d, coils, f, fa, fb = _setup()
     step = 0.01
     b = np.arange(130.0, 160.0, step)
@@ -107,7 +110,9 @@ def test_the_vertical_planes_dip_below_0_db_narrows_with_distance():
     for r in (0.3, 1.0, 3.0):
         m = rejection_map(coils, from_a=fa, from_b=fb, frequency_hz=f, distances_m=[r], bearings_deg=b, plane="xz")
         widths.append(np.count_nonzero(m.rejection_db[0, :, 0] < 0) * step)
-    assert 1.5 < widths[0] < 2.5 and widths[1] < 1.0 and widths[2] < widths[1]
+    products = np.array(widths) * np.array([0.3, 1.0, 3.0])
+    np.testing.assert_allclose(products, products.mean(), rtol=0.05)
+    assert 1.5 < widths[0] < 2.5 and widths[1] < 1.0
 
 
 def test_source_draws_fill_the_shell_uniformly():
