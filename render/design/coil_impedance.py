@@ -256,12 +256,24 @@ def _derive(winding, bare: float, outer: float, parts):
     return derive_coil(winding, bare_diameter=bare, outer_diameter=outer, parts=parts, fit=ladder_fit_cached)
 
 
+def _ladder_arrays(lad) -> dict:
+    """A :class:`render.impedance.ladder.Ladder` as the cache's arrays (``l0``, ``lk``, ``rk``)."""
+    return {"l0": np.array(lad.series_inductance), "lk": np.array(lad.inductances, float), "rk": np.array(lad.resistances, float)}
+
+
+def _ladder_from(stored: dict):
+    """The :class:`render.impedance.ladder.Ladder` kept by :func:`_ladder_arrays`."""
+    from ..impedance.ladder import Ladder
+
+    return Ladder(float(stored["l0"]), tuple(float(v) for v in stored["lk"]), tuple(float(v) for v in stored["rk"]))
+
+
 def ladder_fit_cached(frequency_hz: np.ndarray, impedance: np.ndarray):
     """:func:`render.impedance.ladder.fit_ladder` of the impedance, kept on disk by the hash of its input
     (:mod:`render.io.cache`): the fit takes about 60 ms a coil, a design's every load needs it."""
     import hashlib
 
-    from ..impedance.ladder import Ladder, LadderFit, fit_ladder
+    from ..impedance.ladder import LadderFit, fit_ladder
     from ..io import cache
 
     f = np.ascontiguousarray(frequency_hz, "<f8")
@@ -270,15 +282,12 @@ def ladder_fit_cached(frequency_hz: np.ndarray, impedance: np.ndarray):
     stored = cache.load("coil-ladder", key)
     if stored is not None:
         try:
-            lad = Ladder(float(stored["l0"]), tuple(float(v) for v in stored["lk"]), tuple(float(v) for v in stored["rk"]))
             band = stored["band"]
-            return LadderFit(lad, float(stored["error_db"]), float(stored["error_deg"]), (float(band[0]), float(band[1])))
+            return LadderFit(_ladder_from(stored), float(stored["error_db"]), float(stored["error_deg"]), (float(band[0]), float(band[1])))
         except (KeyError, ValueError, TypeError, IndexError, InputError):
             pass
     fit = fit_ladder(f, z)
-    lad = fit.ladder
-    arrays = {"l0": np.array(lad.series_inductance), "lk": np.array(lad.inductances, float), "rk": np.array(lad.resistances, float)}
-    cache.store("coil-ladder", key, arrays | {"error_db": np.array(fit.error_db), "error_deg": np.array(fit.error_deg), "band": np.array(fit.band_hz, float)})
+    cache.store("coil-ladder", key, _ladder_arrays(fit.ladder) | {"error_db": np.array(fit.error_db), "error_deg": np.array(fit.error_deg), "band": np.array(fit.band_hz, float)})
     return fit
 
 
@@ -338,7 +347,6 @@ def fit_file(path: Path):
 @functools.lru_cache(maxsize=32)
 def _fit_cached(path: str, sha: str):
     """The fit of the file at ``path`` whose bytes hash to ``sha`` (in memory, and on disk by the hash)."""
-    from ..impedance.ladder import Ladder
     from ..impedance.measured import MeasuredCoil, fit_measurement
     from ..io import cache
     from ..io.measurement import read_measurement
@@ -347,20 +355,16 @@ def _fit_cached(path: str, sha: str):
     stored = cache.load("coil-fit", key)
     if stored is not None:
         try:
-            lad = Ladder(float(stored["l0"]), tuple(float(v) for v in stored["lk"]), tuple(float(v) for v in stored["rk"]))
-            return MeasuredCoil(float(stored["r"]), float(stored["c"]), lad, np.asarray(stored["f"], float), np.asarray(stored["db"], float), np.asarray(stored["deg"], float))
+            return MeasuredCoil(float(stored["r"]), float(stored["c"]), _ladder_from(stored), np.asarray(stored["f"], float), np.asarray(stored["db"], float), np.asarray(stored["deg"], float))
         except (KeyError, ValueError, TypeError, InputError):
             pass
     m = read_measurement(path)
     fit = fit_measurement(m.frequency_hz, m.impedance)
-    lad = fit.ladder
     cache.store(
         "coil-fit",
         key,
-        {
-            "l0": np.array(lad.series_inductance),
-            "lk": np.array(lad.inductances, float),
-            "rk": np.array(lad.resistances, float),
+        _ladder_arrays(fit.ladder)
+        | {
             "r": np.array(fit.resistance),
             "c": np.array(fit.capacitance),
             "f": fit.frequency_hz,

@@ -18,6 +18,7 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..impedance.ladder import REPORT_BAND_HZ
+from ..usual import USUAL
 
 if TYPE_CHECKING:
     from ..impedance.measured import MeasuredCoil
@@ -179,14 +180,7 @@ def fit_file(path) -> FitResult:
 
 
 # what a pickup coil's fitted values usually are; outside them `render coil fit` warns (one line each)
-def _usual_resistance() -> tuple[float, float]:
-    from ..usual import USUAL
-
-    u = USUAL[("coil", "resistance")]
-    return (u.lo, u.hi)
-
-
-COIL_RESISTANCE_USUAL = _usual_resistance()  # Ω: passive coils 2–20 kΩ, low-impedance coils tens of Ω (from memory; render.usual's range)
+COIL_RESISTANCE_USUAL = (USUAL[("coil", "resistance")].lo, USUAL[("coil", "resistance")].hi)  # Ω (from memory): render.usual's range
 RESIDUAL_WARN = (1.0, 6.0)  # dB, °: a fit off by more than this somewhere in 20 Hz–20 kHz is not the coil (common practice, no source)
 
 
