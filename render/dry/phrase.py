@@ -164,7 +164,7 @@ class Instrument:
     release: float
     lateral_decay: float | None = None  # s, T60 of the polarisation along the top (None: decay × its default factor)
     polarisation_split: float = POLARISATION_SPLIT  # cents between the two polarisations
-    polarisation_angle: float = POLARISATION_ANGLE  # degrees from the top to the slower polarisation's axis
+    polarisation_angle: float = POLARISATION_ANGLE  # degrees from the top to the slower polarisation's axis, rising towards the treble side (+y)
 
     @property
     def strings(self) -> int:
@@ -211,7 +211,7 @@ class Note:
     vibrato: Vibrato | None
     spread: float
     origin: str
-    angle: float = PLUCK_ANGLE  # degrees from the top's plane to the pluck's direction (90: straight up)
+    angle: float = PLUCK_ANGLE  # degrees from the top's plane to the pluck's direction, rising towards the treble side (+y; 90: straight up)
 
 
 @dataclass(frozen=True)

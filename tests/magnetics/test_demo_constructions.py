@@ -54,12 +54,15 @@ def test_a_steel_blade_coil_has_a_frequency_dependent_loss():
     assert l_eff[1] < 0.9 * c.inductance and l_eff[0] > 0.98 * c.inductance
 
 
-def _bend_level_db(design) -> np.ndarray:
-    """Each coil's EMF level 0.5–0.9 s after a held whole-tone bend at the 14th fret of string 2, dB re the same note unbent."""
+def _bend_level_db(design, *, angle: float = 30.0, tilt: float = 15.0) -> np.ndarray:
+    """Each coil's EMF level 0.5–0.9 s after a held whole-tone bend at the 14th fret of string 2, dB re the same note unbent.
+
+    angle : degrees, the pluck's direction from the top; tilt : degrees, the polarisation axes' tilt (the phrase's defaults)
+    """
     ph = parse_phrase(
         {
-            "instrument": {"scale_length": "648mm"},
-            "playing": {"strength": "0.8mm", "pluck_at": "110mm"},
+            "instrument": {"scale_length": "648mm", "polarisation_angle": tilt},
+            "playing": {"strength": "0.8mm", "pluck_at": "110mm", "angle": angle},
             "note": [{"time": 0.0, "string": 2, "fret": 14, "bend": {"semitones": 2, "over": "0.15s", "start": "0.2s"}}],
             "seconds": 1.0,
         },
@@ -75,11 +78,40 @@ def _bend_level_db(design) -> np.ndarray:
 
 def test_a_bend_dips_over_screws_and_not_over_blades():
     # A fact of the trade (common practice, no source): a bent string pushed off its pole screw
-    # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves about 2 mm
-    # sideways at these coils (render.dry.construction: the bend's geometry), between two screws.
-    # Measured here: −4.4 and −5.2 dB over the screws (coil_a, coil_b), within 0.1 dB over either blade.
-    poles = _bend_level_db(load_design(ROOT / "models" / "slipway-steel-poles.toml"))
+    # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves 1.9 and
+    # 2.9 mm sideways at these coils (render.dry.construction: the bend's geometry), off its screws.
+    # Measured here, with the phrase's defaults: −4.4 and −5.2 dB over the screws (coil_a, coil_b),
+    # within 0.1 dB over either blade; vertical motion alone: −1.1 and −1.8 dB against +0.5 dB.
+    designs = {d: load_design(ROOT / "models" / f"{d}.toml") for d in DEMOS}
+    poles = _bend_level_db(designs["slipway-steel-poles"])
     for d in ("slipway-steel-blades", "slipway-magnet-blades"):
-        blades = _bend_level_db(load_design(ROOT / "models" / f"{d}.toml"))
+        blades = _bend_level_db(designs[d])
         assert np.all(np.abs(blades) < 0.5)
         assert np.all(poles < blades - 2.0)
+    # vertically only, the screw's field weakens off its axis whatever the pluck
+    poles = _bend_level_db(designs["slipway-steel-poles"], angle=90.0, tilt=0.0)
+    blades = _bend_level_db(designs["slipway-steel-blades"], angle=90.0, tilt=0.0)
+    assert np.all(poles < blades - 1.0)
+
+
+def _db_cell(levels: np.ndarray) -> str:
+    """Both coils' levels as the README prints them ("−4.4, −5.2"; 0.0 without a sign)."""
+    return ", ".join("0.0" if f"{v:+.1f}" in ("+0.0", "-0.0") else f"{v:+.1f}".replace("-", "−") for v in levels)
+
+
+def test_the_readmes_bend_table_is_what_the_synthesis_gives():
+    # the table under "How they sound different": each row one pluck, each cell one design's levels
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    table = text[text.index("| how the string moves | steel screws |") :].split("\n\n")[0].splitlines()[2:]
+    motions = {
+        "the phrase's defaults: plucked at 30°, polarisation axes tilted 15°": (30.0, 15.0),
+        "plucked at 30°, axes not tilted": (30.0, 0.0),
+        "plucked at 30°, axes tilted −15°": (30.0, -15.0),
+        "vertically only: plucked at 90°, axes not tilted": (90.0, 0.0),
+    }
+    assert len(table) == len(motions)
+    designs = [load_design(ROOT / "models" / f"{d}.toml") for d in ("slipway-steel-poles", "slipway-steel-blades", "slipway-magnet-blades")]
+    for row in table:
+        cells = [x.strip() for x in row.strip().strip("|").split("|")]
+        angle, tilt = motions[cells[0]]
+        assert cells[1:] == [_db_cell(_bend_level_db(d, angle=angle, tilt=tilt)) for d in designs], cells[0]
