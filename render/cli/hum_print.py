@@ -25,8 +25,12 @@ def print_source(s: dict) -> None:
     click.echo(f"  source {s['source']}: {what}, axis {_vector(s['axis'])}{extra}; flux linkage coil_a {link['coil_a'] * 1e9:.4g} nWb, coil_b {link['coil_b'] * 1e9:.4g} nWb peak")
 
 
+def _total(v_rms: float, reason: str | None) -> str:
+    """A total hum in µV rms, or "none" with its reason when it is exactly zero."""
+    return f"{v_rms * 1e6:.3f} µV rms" if v_rms > 0 or not reason else f"none ({reason})"
+
+
 def print_report(d, r) -> None:
-    from ..analysis.undefined import spread
 
     n = len(r.sources)
     field = f"field {r.field_t * 1e6:g} µT peak" if r.field_t is not None else f"{n} hum source{'s' if n > 1 else ''} (they replace the field)"
@@ -41,12 +45,8 @@ def print_report(d, r) -> None:
             for s in h.sources:
                 srej = _rejection(s["rejection_db"], s.get("rejection_db_reason"))
                 click.echo(f"       source {s['source']:<2d}       {srej:>9s}   {s['output_v'] * 1e6:12.3f} µV   {s['coil_a_v'] * 1e6:9.2f} µV   {s['coil_b_v'] * 1e6:9.2f} µV")
-    ref = r.reference_signal
-    click.echo(
-        f"  total hum {r.total_v_rms * 1e6:.3f} µV rms; {ref['frequency_hz']:g} Hz signal to hum {spread(r.signal_to_hum_db, str(r.signal_to_hum_reason), '.1f', ' dB')}"
-        f" ({ref['velocity_m_per_s_peak']:g} m/s peak string velocity);"
-        f" passive reference {r.passive_total_v_rms * 1e6:.3f} µV rms, {spread(r.passive_signal_to_hum_db, str(r.passive_signal_to_hum_reason), '.1f', ' dB')}"
-    )
+    # signal to hum is printed once, on the scale it shares with noise (the block below)
+    click.echo(f"  total hum {_total(r.total_v_rms, r.signal_to_hum_reason)}; passive reference {_total(r.passive_total_v_rms, r.passive_signal_to_hum_reason)}")
     if n > 1:
         click.echo("  each source's share is its own hum alone; the shares add as phasors, not as magnitudes")
 

@@ -152,7 +152,7 @@ def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
     assert row["rejection_db"] is None and row["rejection_db_reason"].startswith("no hum") and row["output_v"] == 0
     assert data["signal_to_hum_db"] is None and "signal_to_hum_db_reason" in data
     text = run("hum", BOBBIN, "--rig", rig(tmp_path, '[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n', "x.toml")).output
-    assert "no hum" in text.splitlines()[3] and "signal to hum no hum:" in text
+    assert "no hum" in text.splitlines()[3] and "total hum none (no hum:" in text
 
 
 MATCHED = ROOT / "tests" / "smoke" / "designs" / "edge-matched-coils.toml"
@@ -176,7 +176,7 @@ def test_exact_cancellation_prints_words_for_every_source_kind(tmp_path, body):
     passive = [s for s in data["hum_and_noise"] if s["circuit"] == "passive reference"][0]
     assert passive["hum_v_rms"] == 0.0 and passive["signal_to_hum_db"] is None and passive["signal_to_hum_db_reason"].startswith("no hum")
     text = run("hum", BOBBIN, "--rig", path).output
-    assert "passive reference 0.000 µV rms, no hum: the coils cancel exactly" in text
+    assert "passive reference none (no hum: the coils cancel exactly)" in text
     scale = {line.split("  ")[1].strip(): line for line in text.splitlines() if line.startswith("  ") and not line.startswith("   ")}
     assert scale["hum"].rstrip().endswith("none: it cancels exactly") and scale["signal to hum"].rstrip().endswith("no hum")
     matched, _ = hum_json(MATCHED, "--rig", path)
@@ -354,5 +354,5 @@ def test_the_readmes_transformer_table_is_what_render_hum_writes(tmp_path):
             path.write_text("\n".join(f"at = [{at}]" if line.startswith("at = ") else line for line in base.splitlines()))
             data, _ = hum_json(BOBBIN, "--rig", path)
         h = data["harmonics"][0]
-        ours = [f"{h['rejection_db']:.1f}", f"{h['coil_a_v'] * 1e6:.2f}", f"{h['output_v'] * 1e6:.3f}", f"{data['total_v_rms'] * 1e6:.3f}", f"{data['signal_to_hum_db']:.0f}"]
+        ours = [f"{h['rejection_db']:.1f}", f"{h['coil_a_v'] * 1e6:.2f}", f"{h['output_v'] * 1e6:.3f}", f"{data['total_v_rms'] * 1e6:.3f}", f"{data['hum_and_noise'][0]['signal_to_hum_db']:.0f}"]
         assert cells[1:] == ours, cells[0]
