@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 
 import click
@@ -47,11 +48,18 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips,
     comments saying what changed, fit.json, and an overlay plot of the
     start's and the results' responses.
     """
-    from ..io.folders import output_folder
-    from ..runs.fit import fit
+    from ..io.folders import output_folder, run_folder
 
     out = output_folder(out_dir or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
-    run = fit(fitfile, out=out, start_path=start_path, rig=rig_path, top=top, seed=seed)
+    then = render_clips or blind_session  # the folder stays marked incomplete until what follows the fit is written
+    with run_folder(out) if then else contextlib.nullcontext():
+        _fit_and_follow(fitfile, out, start_path, rig_path, top, seed, render_clips, blind_session, overwrite)
+
+
+def _fit_and_follow(fitfile, out, start_path, rig_path, top, seed, render_clips, blind_session, overwrite):
+    from ..runs.fit import fit
+
+    run = fit(fitfile, out=out, start_path=start_path, rig=rig_path, top=top, seed=seed, marked=not (render_clips or blind_session))
     print_table(run)
     click.echo(f"wrote {len(run.files)} designs, fit.json and fit-responses.png to {out}/")
     if render_clips:

@@ -150,12 +150,10 @@ def spectrogram_levels(volts: np.ndarray, *, sample_rate: int, columns: int = ST
     centres = ((np.arange(columns) + 0.5) * n / columns).astype(int)
     padded = np.concatenate([np.zeros(seg // 2), x, np.zeros(seg)])
     idx = centres[:, None] + np.arange(seg)[None, :]  # frame starts at centre - seg/2 in the padded signal
-    from ..analysis.spectrum import log_frequency_rows, periodic_hann
+    from ..analysis.spectrum import density, log_frequency_rows, periodic_hann
 
     w = periodic_hann(seg)
-    spec = np.fft.rfft(padded[idx] * w, axis=1)
-    power = (spec.real**2 + spec.imag**2) * (2.0 / (sample_rate * np.sum(w * w)))
-    level = 10 * np.log10(np.maximum(power, 1e-30)).T  # (bins, columns)
+    level = 10 * np.log10(np.maximum(density(padded[idx], w, sample_rate=sample_rate), 1e-30)).T  # (bins, columns)
     f = np.fft.rfftfreq(seg, 1 / sample_rate)
     rows_hz = np.geomspace(STRIP_LOW_HZ, min(20000.0, sample_rate / 2), rows)
     lo, frac = log_frequency_rows(f, rows_hz)

@@ -280,7 +280,7 @@ def spectrogram_image(samples, *, sample_rate):
         x = np.concatenate([x, np.zeros(seg - x.size)])
     hop = max(seg // 4, -(-x.size // MAX_COLUMNS))
     starts = np.arange(0, max(x.size - seg, 0) + 1, hop)
-    from ..analysis.spectrum import log_frequency_rows, periodic_hann
+    from ..analysis.spectrum import density, log_frequency_rows, periodic_hann
 
     w = periodic_hann(seg)
     f = np.fft.rfftfreq(seg, 1 / sample_rate)
@@ -290,12 +290,10 @@ def spectrogram_image(samples, *, sample_rate):
     lo, frac = log_frequency_rows(f, rows)
     need = np.unique(np.concatenate([lo, lo + 1]))
     at = np.searchsorted(need, lo)
-    scale = 2.0 / (sample_rate * np.sum(w * w))  # one-sided power density
     img = np.empty((rows.size, starts.size))
     for c in range(0, starts.size, 128):  # a few columns at a time
         idx = starts[c : c + 128, None] + np.arange(seg)[None, :]
-        spec = np.fft.rfft(x[idx] * w, axis=1)[:, need].T
-        level = 10 * np.log10(np.maximum((spec.real**2 + spec.imag**2) * scale, 1e-30))
+        level = 10 * np.log10(np.maximum(density(x[idx], w, sample_rate=sample_rate)[:, need].T, 1e-30))
         img[:, c : c + 128] = level[at] * (1 - frac) + level[at + 1] * frac
     t = (starts + seg / 2) / sample_rate
     top = float(img.max()) if img.size else 0.0

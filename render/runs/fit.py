@@ -8,6 +8,7 @@ them all (:func:`render.runs.clips.run_clips`).
 
 from __future__ import annotations
 
+import contextlib
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -53,7 +54,7 @@ def start_file_of(spec, fitfile: Path) -> Path:
     return start
 
 
-def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0) -> FitRun:
+def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0, marked: bool = True) -> FitRun:
     """Search part values (snapped to preferred-number series) that meet ``fitfile``'s aims, and write the results into ``out``.
 
     Parameters
@@ -70,6 +71,9 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
         How many results to write.
     seed : int
         Seed of the global search.
+    marked : bool
+        Mark ``out`` incomplete (``INCOMPLETE.txt``) while writing; False when
+        the caller marks it for a longer run (a fit followed by its clips).
 
     Raises
     ------
@@ -80,7 +84,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
     from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit
     from ..design import apply_rig, design_provenance, load_design, load_rig, parse_design
     from ..io.atomic import write_json, write_text
-    from ..io.folders import run_folder
+    from ..io.folders import make_folder, run_folder
     from ..io.toml import loads
 
     fitfile = Path(fitfile)
@@ -98,7 +102,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0)
     start_fig = figures([start])[0]
     if spec.needs_phrase:
         start_fig["phrase_headroom_db"] = float(ev.phrase_margins([start])[0])
-    with run_folder(out):
+    with run_folder(out) if marked else contextlib.nullcontext(make_folder(out)):
         # the results live in ``out``: a measured coil's file is found from there as from the start file
         text = rebase_files(start_file.read_text(encoding="utf-8"), from_dir=start_file.parent, to_dir=Path(out))
         records, written = [], []
