@@ -20,7 +20,7 @@ screws use, so the check measures the designs' path; a square prism cannot be
 modelled axisymmetrically, and for a rod magnetised along its axis the
 rise depends on its section mainly through its area.
 
-The FE model's mesh convergence (measured 2026-12-02; element size s near the
+The FE model's mesh convergence (measured 2026-12-02 by tests/bench/bench_core_fe.py; element size s near the
 coil and rod, s/4 at the rod's edges, 16·s far away):
 
 | s | nodes | air L vs Brooks | ΔL at µr = 10 | ΔL at µr = 100 |
@@ -31,8 +31,9 @@ coil and rod, s/4 at the rod's edges, 16·s far away):
 | 0.075 mm | 72956 | −0.017 % | 7.1561 mH | 12.3112 mH |
 
 so the air inductance converges as s² to Brooks's (within 0.002 % by
-Richardson), and the rise to about 7.158 and 12.317 mH: the test's mesh reads
-the rise 0.30 % and 0.45 % low.
+Richardson), and the rise to about 7.158 and 12.316 mH: the test's mesh reads
+the rise 0.30 % and 0.44 % low. Against those limits the designs' cut below
+reads −4.4 % and −6.1 %.
 
 render's rise against that mesh's (measured 2026-12-02), with the designs'
 cut (72 cells) and the cut refined (``refine`` 2: 504 cells; 3: 1604 cells,
