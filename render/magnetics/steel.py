@@ -19,9 +19,11 @@ Why this solver and not a finite-element one (GetDP and gmsh): a pickup is a
 few blocks in open space, which the moment method handles without meshing
 the air or placing an outer boundary, and its solver is a Python package
 that runs offline on a CPU in about a second for the few hundred cells a
-pickup needs. GetDP and gmsh are not installed here and would add a mesh
-generator, a solver process and files; nothing in the pickup needs what
-only they give (nonlinear B–H curves, eddy currents in 3-D).
+pickup needs. GetDP and gmsh would add a mesh generator, a solver process
+and files; nothing in the pickup needs what only they give (nonlinear B–H
+curves, eddy currents in 3-D). They check this solver instead: an
+axisymmetric GetDP solve of a round coil around a steel rod gives the rod's
+inductance rise (tests/magnetics/test_core_fe.py).
 
 Limits, stated:
 
