@@ -179,6 +179,19 @@ def signal_stats(volts: np.ndarray, amp_out: np.ndarray, *, clipped_fraction: fl
     }
 
 
+def _velocity_array(velocity) -> np.ndarray:
+    """A bare velocity array as ``render_clip`` takes it: shape (n,) or (2, n), finite, m/s; else one line saying what to give."""
+    try:
+        v = np.asarray(velocity, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError("velocity: not an array of numbers; give string velocity in m/s, shape (n,) or (2, n)") from None
+    if not (v.ndim == 1 or (v.ndim == 2 and v.shape[0] == 2)):
+        raise InputError(f"velocity: shape {v.shape}; give shape (n,) for both sensing points or (2, n) for coil_a's and coil_b's")
+    if not np.all(np.isfinite(v)):
+        raise InputError("velocity: holds NaN or infinite samples; give finite string velocity in m/s")
+    return v
+
+
 def render_clip(
     design: Design,
     velocity: Dry | np.ndarray,
@@ -237,7 +250,7 @@ def render_clip(
         if sample_rate is None:
             raise InputError("sample_rate: required when the velocity is a bare array; give it in Hz (e.g. 48000)")
         fs = check_rate(sample_rate, name="sample_rate")
-        v = np.asarray(velocity, dtype=float)
+        v = _velocity_array(velocity)
         dry_record, dry_warnings = {"kind": "array"}, ()
     plan = make_plan(design, sample_rate=fs, resampler=resampler) if resampler is not None else None
     r = render_signal(design, v, sample_rate=fs, hum=hum, plan=plan)

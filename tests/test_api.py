@@ -13,6 +13,7 @@ import sys
 from pathlib import Path
 
 import numpy as np
+import pytest
 import soundfile as sf
 from click.testing import CliRunner
 
@@ -129,3 +130,30 @@ def test_synthesis_bits_do_not_depend_on_the_blas_threads():
     with threadpool_limits(1):
         one = render.synthesize(render.load_phrase(PHRASE), **kw).velocity
     assert np.array_equal(many, one)
+
+
+@pytest.mark.parametrize(
+    "call, words",
+    [
+        (lambda d: render.render_clip(d, np.full(480, np.nan), sample_rate=48000), "NaN or infinite"),
+        (lambda d: render.render_clip(d, np.zeros((3, 100)), sample_rate=48000), "shape (3, 100)"),
+        (lambda d: render.render_clip(d, np.zeros((100, 2)), sample_rate=48000), "shape (100, 2)"),
+        (lambda d: render.response(d, [-1.0, 100.0]), "each > 0"),
+        (lambda d: render.response(d, 0.0), "each > 0"),
+    ],
+)
+def test_the_api_refuses_bad_arrays_in_one_line(call, words):
+    # bad input is an InputError naming what was wrong (the project's rule for every entry point), not numpy's
+    with pytest.raises(render.InputError) as e:
+        call(render.load_design(ROOT / "models" / "studio-reference.toml"))
+    assert words in str(e.value) and "\n" not in str(e.value)
+
+
+def test_synthesize_reads_lengths_as_the_files_do():
+    # "40mm" is read as in a design file (render.units); a bare number is metres; widths broadcast or match
+    phrase = render.load_phrase(ROOT / "dry_signals" / "default.toml")
+    a = render.synthesize(phrase, positions=("40mm", "58mm"), apertures="20mm", sample_rate=8000, seconds=0.2)
+    b = render.synthesize(phrase, positions=(0.04, 0.058), apertures=(0.02, 0.02), sample_rate=8000, seconds=0.2)
+    assert np.array_equal(a.velocity, b.velocity)
+    with pytest.raises(render.InputError, match="one per point"):
+        render.synthesize(phrase, positions=(0.04,), apertures=(0.02, 0.03), sample_rate=8000, seconds=0.2)

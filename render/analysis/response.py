@@ -7,6 +7,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..errors import InputError
+
 if TYPE_CHECKING:
     from ..design import Design, RigFile
 
@@ -67,7 +69,12 @@ def response(design: Design, frequency_hz, *, rig: RigFile | None = None) -> Res
     from ..design import apply_rig
 
     d = apply_rig(design, rig)
-    f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
+    try:
+        f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
+    except (TypeError, ValueError):
+        raise InputError(f"frequency_hz={frequency_hz!r}: not numbers; give frequencies in Hz, > 0") from None
+    if f.ndim != 1 or not np.all(np.isfinite(f) & (f > 0)):
+        raise InputError(f"frequency_hz: give a number or a 1-D array of finite frequencies in Hz, each > 0 (got shape {f.shape}, lowest {np.nanmin(f):g} Hz)")
     resp = responses(from_designs([d]))
     return Response(
         design=d,

@@ -253,11 +253,25 @@ def _check_rate(sample_rate) -> float:
     return float(checked_rate(sample_rate, name="sample_rate"))
 
 
+def _lengths(name: str, values) -> np.ndarray:
+    """``values`` (m, or strings such as "40mm") as a float array; one line saying what to give otherwise."""
+    from ..units import LENGTH, QuantityError, parse_quantity
+
+    items = np.atleast_1d(np.asarray(values, dtype=object))
+    try:
+        return np.array([parse_quantity(v, LENGTH) for v in items.ravel()], dtype=float).reshape(items.shape)
+    except (QuantityError, TypeError, ValueError) as e:
+        raise InputError(f"{name}={values!r}: {e}") from None
+
+
 def _check_points(positions, apertures, scale_length: float) -> tuple[np.ndarray, np.ndarray]:
-    x = np.atleast_1d(np.asarray(positions, dtype=float))
+    x = _lengths("positions", positions)
     if x.ndim != 1 or x.size == 0:
         raise InputError(f"positions={positions!r}: expected one or more sensing points (m from the bridge saddle)")
-    w = np.broadcast_to(np.asarray(apertures, dtype=float), x.shape).astype(float)
+    a = _lengths("apertures", apertures)
+    if a.size not in (1, x.size) or a.ndim > 1:
+        raise InputError(f"apertures={apertures!r}: give one width for every sensing point, or one per point ({x.size})")
+    w = np.broadcast_to(a.reshape(-1) if a.size > 1 else a.reshape(()), x.shape).astype(float)
     for xi in x:
         if not (math.isfinite(xi) and 0.0 < xi < scale_length):
             raise InputError(f'position={xi:g} m: a sensing point must lie between the bridge saddle and the nut (0 < x < {scale_length:g} m); give it in metres or as "40mm"')
