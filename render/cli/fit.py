@@ -53,7 +53,8 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips,
     out = output_folder(out_dir or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
     run = fit(fitfile, out=out, start_path=start_path, rig=rig_path, top=top, seed=seed)
     print_table(run)
-    click.echo(f"wrote {len(run.files)} designs, fit.json and fit-responses.png to {out}/")
+    n = len(run.files)
+    click.echo(f"wrote {n} design{'' if n == 1 else 's'}, fit.json and fit-responses.png to {out}/")
     if render_clips:
         from ..clip import RenderSettings
         from ..design import load_designs
