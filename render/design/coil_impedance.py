@@ -46,7 +46,7 @@ from ..validate import Field, read_table, where
 WIRE_OUTER_RATIO = 1.127  # insulated / bare diameter: heavy-build enamel on AWG 42 (0.071 / 0.063 mm; from memory)
 TYPED = ("inductance", "resistance", "capacitance", "eddy_resistance", "eddy_coupling", "eddy_corner")
 PLACEHOLDER = {"inductance": 1.0, "resistance": 1e3, "capacitance": 1e-10}  # replaced by resolve()
-FIT_VERSION = 3  # bump when the measured fit's numbers change, so cached fits are recomputed
+FIT_VERSION = 4  # bump when the measured fit's numbers change, so cached fits are recomputed
 LADDER_VERSION = 1  # likewise for the derived coil's ladder fit (render.impedance.ladder.fit_ladder)
 CORE_VERSION = 1
 

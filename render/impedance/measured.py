@@ -302,7 +302,9 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitan
         ladder = Ladder(float(l_series), tuple(float(v) for v in lk), tuple(float(v) for v in lk / tau)) if k else Ladder(float(l_series))
         e = np.log(_model(theta, k, s)) - log_z
         c_sd = 0.0 if capacitance is not None else float(np.sqrt(max(_covariance(sol.jac, sol.fun)[1, 1], 0.0)))
-        res = MeasuredCoil(float(r), float(c), ladder, f.copy(), 20 / np.log(10) * e.real, np.degrees(np.angle(np.exp(1j * e.imag))), c_sd, capacitance is not None)
+        res = MeasuredCoil(
+            float(r), float(c) if capacitance is None else float(capacitance), ladder, f.copy(), 20 / np.log(10) * e.real, np.degrees(np.angle(np.exp(1j * e.imag))), c_sd, capacitance is not None
+        )
         rms = np.sqrt(np.mean(sol.fun**2))
         if best is not None and rms > 0.9 * best_rms:
             break
