@@ -45,8 +45,8 @@ from ..errors import InputError
 from .ladder import Ladder, fit_ladder
 
 # C's share of the reactance at the sweep's top frequency, ω²·L_dc·C, below which the fitted C is not
-# trusted: measured on the shipped synthetic example (1 % noise) cut short, where C came out 13 % or
-# more off for x below 0.3 and within 4 % above 0.38 (tests/impedance/test_measured_reach.py);
+# trusted: measured on the shipped synthetic example (1 % noise) cut short, where C came out more than
+# 20 % off at x = 0.18 (5 kHz) and within 4 % from x = 0.38 (7 kHz) up (tests/impedance/test_measured_reach.py);
 # about 0.55 of the self-resonance
 REACH_SHARE = 0.3
 REACH_SD = 0.1  # the fitted C's relative standard error above which it is not trusted (common practice, no source)
