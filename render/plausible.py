@@ -16,7 +16,8 @@ feedback capacitor of "22n" instead of "22p" puts the feedback corner at
   closed-loop corner inside the band; a coil's inductance, capacitance, DC
   resistance or core-loss resistance or a resistor outside its usual range;
   a stage gain far from an active pickup's; a derived coil whose turns fill its winding's
-  section far from what wound coils do), each naming the range, its origin,
+  section far from what wound coils do; a measured coil whose sweep stops
+  too far below its self-resonance to determine its capacitance), each naming the range, its origin,
   and the value with the likely prefix (``series_r = "22"`` is most likely
   ``"22k"``).
 
@@ -137,6 +138,7 @@ def design_warnings(design) -> tuple[str, ...]:
             f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
         )
     out += fill_warnings(design)
+    out += measured_warnings(design)
     out += coil_warnings(design)
     out += bandwidth_warnings(design)
     return tuple(out)
@@ -208,6 +210,24 @@ def bandwidth_warnings(design) -> list[str]:
     return [
         f"[supply] gbw={U.format_si(gbw, 'Hz')}: the closed-loop corner gbw / (1 + [feedback] r / [input_a] series_r) is {U.format_si(corner, 'Hz')}, inside the band;"
         f" it normally lies above {U.format_si(floor, 'Hz')} (common practice, no source){fix}"
+    ]
+
+
+def measured_warnings(design) -> list[str]:
+    """One line per measurement file whose sweep does not determine its coil's capacitance (both coils in one line when they share it).
+
+    The judgement is :meth:`render.impedance.measured.MeasuredCoil.capacitance_doubt`'s,
+    kept in the coil's record when the design loaded.
+    """
+    found: dict[tuple[str, str], list[str]] = {}
+    for name in ("coil_a", "coil_b"):
+        rec = getattr(getattr(design, name), "impedance_from", None)
+        doubt = getattr(rec, "capacitance_doubt", "")
+        if doubt:
+            found.setdefault((rec.file, doubt), []).append(f"[{name}]")  # type: ignore[union-attr]
+    return [
+        f'{" and ".join(names)} measured={U.shown(file)}: {doubt}; sweep on past the self-resonance, or add capacitance = "…" beside measured to hold C at the coil\'s value'
+        for (file, doubt), names in found.items()
     ]
 
 

@@ -162,14 +162,18 @@ def jack_probe(netlist_lines):
 
 
 def run_ac(netlist_lines, nodes, frequencies_hz):
-    """AC analysis at exactly ``frequencies_hz``; returns {node: complex array}."""
+    """AC analysis over the span of ``frequencies_hz``, 200 points a decade (``ac dec 200``).
+
+    Returns {node: (frequency array in Hz, complex voltage array)}: ngspice's own
+    frequencies from min to max of ``frequencies_hz``, not those frequencies
+    themselves; interpolate (or compare at ngspice's points) to check a response.
+    """
     require_ngspice()
     f = np.asarray(frequencies_hz, float)
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
         out = {}
         lines = list(netlist_lines)
-        # a list sweep: one point per requested frequency via repeated 'ac lin 1'
         ctrl = [".control", "set wr_singlescale", "set wr_vecnames", "option numdgt=12"]
         ctrl.append(f"ac dec 200 {f.min():.6g} {f.max():.6g}")
         for node in nodes:

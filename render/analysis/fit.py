@@ -498,6 +498,15 @@ def conflicts(spec: FitSpec, ev: Evaluator) -> str:
         for a in alone:
             j = spec.aims.index(a)
             col = fig[:, j][~np.isnan(fig[:, j])]
+            sub = UNDEFINED.get(a.figure)
+            none = f"no {a.figure.removesuffix('_hz').removesuffix('_db').replace('_', ' ')}"  # "no peak", "no resonance", "no q"
+            if sub is not None and np.all(col == sub):  # every design tried scored the stand-in of an undefined figure
+                parts.append(f"{a.describe()} (the design has {none} to aim at, and no variant the search tried has one)")
+                continue
+            if sub is not None and np.any(col == sub):
+                col = col[col != sub]
+                parts.append(f"{a.describe()} (the search reached {col.min():.4g} to {col.max():.4g}; some designs it tried have {none})")
+                continue
             parts.append(f"{a.describe()} (the search reached {col.min():.4g} to {col.max():.4g})")
         return "out of reach with these free parts and ranges: " + "; ".join(parts)
     pairs = []

@@ -52,23 +52,28 @@ def print_record(rec: dict) -> None:
         src = c["from"]
         how = {"typed": "typed values", "winding": "estimated from [winding]", "ladder": "typed ladder"}.get(c["source"], c["source"])
         if c["source"] == "measured":
-            how = f"measured: {src['file']} (SHA-256 {src['sha256'][:12]}…), fit residual max {src['max_residual_db']:.2f} dB, {src['max_residual_deg']:.1f}°"
+            held = ", C as given" if src.get("capacitance_given") else ""
+            how = f"measured: {src['file']} (SHA-256 {src['sha256'][:12]}…), fit residual max {src['max_residual_db']:.2f} dB, {src['max_residual_deg']:.1f}°{held}"
         elif c["source"] == "derived":
             parts = [p for p in src["parts"] if p["rise_h"] > 1e-3 * src["air_inductance_h"]]
             small = [p for p in src["parts"] if p not in parts]  # each under 0.1 % of the air core: summed, so the line adds up
-            shown = [f"{p['name']} +{_eng(p['rise_h'], 'H')}" for p in parts] + ([f"{len(small)} others +{_eng(sum(p['rise_h'] for p in small), 'H')}"] if small else [])
+            rest = f"{len(small)} others" if len(small) > 1 else (small[0]["name"] if small else "")
+            shown = [f"{p['name']} +{_eng(p['rise_h'], 'H')}" for p in parts] + ([f"{rest} +{_eng(sum(p['rise_h'] for p in small), 'H')}"] if small else [])
             core = ", ".join(shown) or "air core"
             how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; ladder within {src['ladder_error_db']:.2f} dB, {src['ladder_error_deg']:.2f}°"
         click.echo(f"  {name}  {how}")
         lad = c["ladder"]
+        from .coil_fit import ladder_words
+
         loss = (
-            f"ladder L0 {_eng(lad['series_inductance_h'], 'H')} + {len(lad['inductances_h'])} R∥L sections"
+            f"ladder {ladder_words(lad['series_inductance_h'], len(lad['inductances_h']), _eng)}"
             if lad
             else (f"core loss {_eng(c['eddy_resistance_ohm'], 'Ω')} in parallel" if c["eddy_resistance_ohm"] else "no core loss")
         )
         srf = c["self_resonance_hz"]
+        unsure = " (not determined by the sweep)" if (src or {}).get("capacitance_doubt") else ""
         click.echo(
-            f"          R {_eng(c['resistance_ohm'], 'Ω')}, L {_eng(c['inductance_h'], 'H')} at DC ({loss}), C {_eng(c['capacitance_f'], 'F')},"
+            f"          R {_eng(c['resistance_ohm'], 'Ω')}, L {_eng(c['inductance_h'], 'H')} at DC ({loss}), C {_eng(c['capacitance_f'], 'F')}{unsure},"
             f" self-resonance {_eng(srf, 'Hz') if srf else 'none below 10 MHz'}"
         )
         vals = [at(c, f) for f in SHOWN_HZ]
@@ -116,9 +121,14 @@ def show_command(model, csv_path, png_path, json_path, overwrite):
     from ..runs.coil import coil_record, csv_text
 
     check_new([csv_path, png_path, json_path], overwrite=overwrite)
-    rec = coil_record(_coils_of(model))
+    design = _coils_of(model)
+    rec = coil_record(design)
     if json_path != "-":
         print_record(rec)
+    from ..plausible import measured_warnings
+
+    for w in measured_warnings(design):
+        click.echo(f"warning: {w}", err=True)
     if csv_path:
         from ..io.atomic import write_text
 

@@ -8,6 +8,13 @@ from ..io.folders import refuse_existing as check_new
 from .options import emit_json, friendly, json_option, overwrite_option
 
 
+def ladder_words(series_h: float, sections: int, eng) -> str:
+    """ "L0 1.36 H + 2 R∥L sections", "L0 1.36 H + 1 R∥L section", or "L0 39.96 mH alone, no R∥L sections"."""
+    if sections == 0:
+        return f"L0 {eng(series_h, 'H')} alone, no R∥L sections"
+    return f"L0 {eng(series_h, 'H')} + {sections} R∥L section{'s' if sections != 1 else ''}"
+
+
 def _eng(x: float, unit: str, digits: int = 4) -> str:
     from ..units import format_si
 
@@ -19,42 +26,52 @@ def print_fit(result) -> None:
     lad = fit.ladder
     click.echo(f"{m.source}  ({m.frequency_hz.size} points, {_eng(m.frequency_hz[0], 'Hz')} to {_eng(m.frequency_hz[-1], 'Hz')})")
     click.echo(f"  R_dc            {_eng(fit.resistance, 'Ω')}")
-    click.echo(f"  inductance      {_eng(fit.inductance, 'H')} at DC: L0 {_eng(lad.series_inductance, 'H')} + {len(lad.inductances)} R∥L sections")
+    click.echo(f"  inductance      {_eng(fit.inductance, 'H')} at DC: {ladder_words(lad.series_inductance, len(lad.inductances), _eng)}")
     for k, (lk, rk) in enumerate(zip(lad.inductances, lad.resistances)):
         click.echo(f"    section {k + 1}     {_eng(lk, 'H')} ∥ {_eng(rk, 'Ω')}  (corner {_eng(rk / lk / (2 * 3.141592653589793), 'Hz', 3)})")
-    from ..runs.coil import capacitance_floor
+    from ..runs.coil import band_text, capacitance_floor
 
     floor = capacitance_floor()
-    shown = _eng(fit.capacitance, "F") if fit.capacitance >= floor else f"none seen (fitted {fit.capacitance:.3g} F, below {_eng(floor, 'F')})"
+    if fit.capacitance_given:
+        shown = f"{_eng(fit.capacitance, 'F')} (given, not fitted)"
+    elif fit.capacitance < floor:
+        shown = f"none seen (fitted {fit.capacitance:.3g} F, below {_eng(floor, 'F')})"
+    elif fit.capacitance_doubt() is not None:
+        shown = f"{_eng(fit.capacitance, 'F')} (not determined by this sweep: see the warning)"
+    else:
+        shown = _eng(fit.capacitance, "F")
     click.echo(f"  capacitance     {shown}")
     srf = result.self_resonance_hz
     click.echo(f"  self-resonance  {_eng(srf, 'Hz', 3) if srf else 'none below 10 MHz'}")
     click.echo("  residual (model − measurement)   max dB  rms dB   max °   rms °")
     for b in result.residual_bands():
-        span = f"{_eng(b['from_hz'], 'Hz', 3)} – {_eng(b['to_hz'], 'Hz', 3)}"
+        span = band_text(b)
         click.echo(f"    {span:<20} {b['points']:>4} pts {b['max_db']:7.2f} {b['rms_db']:7.3f} {b['max_deg']:7.2f} {b['rms_deg']:7.2f}")
 
 
 @click.command("fit")
 @click.argument("measurement", type=click.Path(dir_okay=False))
 @click.option("--out", "out_path", type=click.Path(dir_okay=False), help="Write the coil's table for a design file (TOML) to FILE.")
+@click.option("--capacitance", "capacitance", metavar="C", help='Hold the winding capacitance at C (e.g. "95p") instead of fitting it: for a sweep that stops well below the self-resonance.')
 @click.option("--coil", type=click.Choice(["coil_a", "coil_b"]), default="coil_a", show_default=True, help="The table's name in the written TOML.")
 @json_option("Write the fitted values, the ladder and the residual at every frequency as JSON to FILE ('-' for standard output).")
 @overwrite_option
 @friendly
-def fit_command(measurement, out_path, coil, json_path, overwrite):
+def fit_command(measurement, out_path, capacitance, coil, json_path, overwrite):
     """Fit the coil model to MEASUREMENT (CSV of frequency, |Z| and phase).
 
     The model is R_dc in series with the inductance and its core loss as an
     RL ladder (L0 plus R∥L sections), the winding capacitance across both.
-    Prints the values and the residual in dB and degrees over 20 Hz–20 kHz
-    and per decade; --out writes [coil_x] with resistance, capacitance and
+    Prints the values and the residual in dB and degrees over the sweep's
+    part of 20 Hz–20 kHz and per decade, and warns when the sweep stops too
+    far below the self-resonance to determine C; --out writes [coil_x] with resistance, capacitance and
     [coil_x.ladder], to paste into a design file.
     """
-    from ..runs.coil import coil_table, fit_file, fit_warnings
+    from ..runs.coil import coil_table, fit_file, fit_warnings, read_capacitance
 
+    held = read_capacitance(capacitance) if capacitance is not None else None
     check_new([out_path, json_path], overwrite=overwrite)
-    result = fit_file(measurement)
+    result = fit_file(measurement, capacitance=held)
     if json_path != "-":
         print_fit(result)
     for w in fit_warnings(result):

@@ -61,7 +61,8 @@ def _fit_and_follow(fitfile, out, start_path, rig_path, top, seed, render_clips,
 
     run = fit(fitfile, out=out, start_path=start_path, rig=rig_path, top=top, seed=seed, marked=not (render_clips or blind_session))
     print_table(run)
-    click.echo(f"wrote {len(run.files)} designs, fit.json and fit-responses.png to {out}/")
+    n = len(run.files)
+    click.echo(f"wrote {n} design{'' if n == 1 else 's'}, fit.json and fit-responses.png to {out}/")
     if render_clips:
         from ..clip import RenderSettings
         from ..design import load_designs

@@ -19,7 +19,9 @@ A coil table gives its impedance in one of three ways:
 - **measured**: ``measured = "path/to/file.csv"`` (relative to the design
   file): |Z| and phase from an LCR meter or impedance analyser, fitted with
   :func:`render.impedance.measured.fit_measurement`. The file's SHA-256 is
-  kept with the coil and so goes into every render's JSON.
+  kept with the coil and so goes into every render's JSON. ``capacitance``
+  beside ``measured`` holds the winding capacitance at that value instead of
+  fitting it (for a sweep that stops too far below the self-resonance).
 
 The derived and measured coils carry their ladder (``Coil.ladder``); the
 engine, the nonlinear loop, the SPICE netlist and the noise model take it in
@@ -44,7 +46,7 @@ from ..validate import Field, read_table, where
 WIRE_OUTER_RATIO = 1.127  # insulated / bare diameter: heavy-build enamel on AWG 42 (0.071 / 0.063 mm; from memory)
 TYPED = ("inductance", "resistance", "capacitance", "eddy_resistance", "eddy_coupling", "eddy_corner")
 PLACEHOLDER = {"inductance": 1.0, "resistance": 1e3, "capacitance": 1e-10}  # replaced by resolve()
-FIT_VERSION = 2  # bump when the measured fit's numbers change, so cached fits are recomputed
+FIT_VERSION = 4  # bump when the measured fit's numbers change, so cached fits are recomputed
 LADDER_VERSION = 1  # likewise for the derived coil's ladder fit (render.impedance.ladder.fit_ladder)
 CORE_VERSION = 1
 
@@ -76,6 +78,7 @@ class CoilSpec:
     wire: tuple | None = None  # ("awg", n) or ("diameter", m)
     wire_outer: float | None = None
     measured: str | None = None
+    hold_capacitance: bool = False  # measured: the table's capacitance held in the fit
     ladder: Any = None  # a typed ladder (render.impedance.ladder.Ladder)
 
 
@@ -119,6 +122,8 @@ class MeasuredImpedance:
     max_residual_deg: float
     rms_residual_db: float
     rms_residual_deg: float
+    capacitance_given: bool = False  # held at the design's capacitance, not fitted
+    capacitance_doubt: str = ""  # why the sweep does not determine C (render.impedance.measured), or ""
 
 
 def _inductances(raw: Any, loc: str, kind) -> tuple:
@@ -180,7 +185,7 @@ def split_coil(data: Any, *, source: str, table: str) -> tuple[Any, CoilSpec | N
     if "wire_outer" in spec and "wire" not in spec:
         raise InputError(f"{loc}: wire_outer given without wire; add wire (e.g. wire = 42) or remove wire_outer")
     how = "measured" if "measured" in spec else "wire"
-    typed = [k for k in TYPED if k in rest]
+    typed = [k for k in TYPED if k in rest and not (how == "measured" and k == "capacitance")]
     if typed:
         what = "from the measurement" if how == "measured" else f"from [{table}.geometry] and wire"
         raise InputError(f"{loc}: {', '.join(typed)} given as well as {how}; the coil's impedance comes {what}: remove {', '.join(typed)}, or remove {how} to type the values")
@@ -192,8 +197,8 @@ def split_coil(data: Any, *, source: str, table: str) -> tuple[Any, CoilSpec | N
         outer = spec.get("wire_outer")
         out = CoilSpec("derived", wire=spec["wire"], wire_outer=outer)
     else:
-        out = CoilSpec("measured", measured=spec["measured"])
-    return {**rest, **PLACEHOLDER}, out
+        out = CoilSpec("measured", measured=spec["measured"], hold_capacitance="capacitance" in rest)
+    return {**rest, **{k: v for k, v in PLACEHOLDER.items() if k not in rest}}, out
 
 
 # --- resolving ------------------------------------------------------------------------
@@ -336,30 +341,39 @@ def measurement_path(file: str, source: str) -> Path:
     return Path(source).parent / p
 
 
-def fit_file(path: Path):
-    """(Measurement, MeasuredCoil) of a measurement file, the fit cached by the file's hash."""
+def fit_file(path: Path, *, capacitance: float | None = None):
+    """(Measurement, MeasuredCoil) of a measurement file, the fit cached by the file's hash; ``capacitance`` (F) holds C."""
     from ..io.measurement import read_measurement
 
     m = read_measurement(path)
-    return m, _fit_cached(str(path), m.sha256)
+    return m, _fit_cached(str(path), m.sha256, None if capacitance is None else float(capacitance))
 
 
 @functools.lru_cache(maxsize=32)
-def _fit_cached(path: str, sha: str):
-    """The fit of the file at ``path`` whose bytes hash to ``sha`` (in memory, and on disk by the hash)."""
+def _fit_cached(path: str, sha: str, capacitance: float | None = None):
+    """The fit of the file at ``path`` whose bytes hash to ``sha`` (in memory, and on disk by the hash and the held C)."""
     from ..impedance.measured import MeasuredCoil, fit_measurement
     from ..io import cache
     from ..io.measurement import read_measurement
 
-    key = f"{sha}-v{FIT_VERSION}"
+    key = f"{sha}-v{FIT_VERSION}" + ("" if capacitance is None else f"-c{capacitance!r}")
     stored = cache.load("coil-fit", key)
     if stored is not None:
         try:
-            return MeasuredCoil(float(stored["r"]), float(stored["c"]), _ladder_from(stored), np.asarray(stored["f"], float), np.asarray(stored["db"], float), np.asarray(stored["deg"], float))
+            return MeasuredCoil(
+                float(stored["r"]),
+                float(stored["c"]),
+                _ladder_from(stored),
+                np.asarray(stored["f"], float),
+                np.asarray(stored["db"], float),
+                np.asarray(stored["deg"], float),
+                float(stored["c_sd"]),
+                bool(stored["c_given"]),
+            )
         except (KeyError, ValueError, TypeError, InputError):
             pass
     m = read_measurement(path)
-    fit = fit_measurement(m.frequency_hz, m.impedance)
+    fit = fit_measurement(m.frequency_hz, m.impedance, capacitance=capacitance)
     cache.store(
         "coil-fit",
         key,
@@ -370,6 +384,8 @@ def _fit_cached(path: str, sha: str):
             "f": fit.frequency_hz,
             "db": fit.residual_db,
             "deg": fit.residual_deg,
+            "c_sd": np.array(fit.capacitance_rel_sd),
+            "c_given": np.array(fit.capacitance_given),
         },
     )
     return fit
@@ -380,7 +396,7 @@ def _measured(coil, spec: CoilSpec, design, name: str):
     path = measurement_path(spec.measured, design.source)
     if not path.is_file():
         raise InputError(f"{where(design.source, name, 'measured')}={U.shown(spec.measured)}: no such file ({path}); the path is relative to the design file's folder")
-    m, fit = fit_file(path)
+    m, fit = fit_file(path, capacitance=coil.capacitance if spec.hold_capacitance else None)
     record = MeasuredImpedance(
         file=spec.measured,
         path=str(path),
@@ -391,6 +407,8 @@ def _measured(coil, spec: CoilSpec, design, name: str):
         max_residual_deg=fit.max_residual_deg,
         rms_residual_db=fit.rms_residual_db,
         rms_residual_deg=fit.rms_residual_deg,
+        capacitance_given=fit.capacitance_given,
+        capacitance_doubt=fit.capacitance_doubt() or "",
     )
     return replace(coil, inductance=fit.inductance, resistance=float(fit.resistance), capacitance=float(fit.capacitance), ladder=fit.ladder, impedance_from=record)
 

@@ -117,6 +117,8 @@ def _read_hum(data: Any, *, source: str, table: str = "hum") -> Hum:
 
 def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "") -> Design:
     """Build a :class:`Design` from parsed TOML; every error is one line."""
+    if isinstance(data, dict) and "from" in data and ("aim" in data or "free" in data):  # render.analysis.fit's file, given where a design belongs
+        raise InputError(f"{source}: an aim file for render fit (from, [aim], [free]), not a design; run render fit {source}, or give the design it starts from ({U.shown(data['from'])})")
     check_document(data, source, list(DESIGN_TABLES) + list(TOP_KEYS))
     for t in REQUIRED_TABLES:
         if t not in data:

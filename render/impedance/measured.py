@@ -20,6 +20,17 @@ far beyond what the sweep can show that a value on a bound means "not seen"
 stays below 1e-9 at the top frequency), and close enough that the
 exponentials of the log-parameters never overflow.
 
+How well the sweep fixes C (:meth:`MeasuredCoil.capacitance_doubt`). Below
+the self-resonance the capacitance only raises |Z| by 1/|1 − ω²LC|, and the
+ladder's falling inductance can trade against it; a sweep that stops too far
+below the resonance returns a C that fits the noise, not the coil. Two
+measures, both read from the data: C's share of the reactance at the top
+frequency, x = ω_top²·L_dc·C (x = 1 at the self-resonance), and C's
+relative standard error from the fit's covariance. C is reported as not
+determined when x < :data:`REACH_SHARE` or the error exceeds
+:data:`REACH_SD`; it can then be held at a given value instead
+(``fit_measurement(..., capacitance=...)``).
+
 Pure: arrays in, a frozen result out. :mod:`render.io.measurement` reads the
 files and :mod:`render.impedance.measurement_csv` parses them.
 """
@@ -32,6 +43,13 @@ import numpy as np
 
 from ..errors import InputError
 from .ladder import Ladder, fit_ladder
+
+# C's share of the reactance at the sweep's top frequency, ω²·L_dc·C, below which the fitted C is not
+# trusted: measured on the shipped synthetic example (1 % noise) cut short, where C came out more than
+# 20 % off at x = 0.18 (5 kHz) and within 4 % from x = 0.38 (7 kHz) up (tests/impedance/test_measured_reach.py);
+# about 0.55 of the self-resonance
+REACH_SHARE = 0.3
+REACH_SD = 0.1  # the fitted C's relative standard error above which it is not trusted (common practice, no source)
 
 
 def terminal_impedance(frequency_hz, *, resistance: float, ladder: Ladder, capacitance: float) -> np.ndarray:
@@ -59,6 +77,11 @@ class MeasuredCoil:
         20·log10(|Z_model| / |Z_measured|), dB.
     residual_deg : np.ndarray [shape=(F,)]
         ∠Z_model − ∠Z_measured, degrees.
+    capacitance_rel_sd : float, ≥ 0
+        The fitted capacitance's relative standard error, the standard
+        deviation of ln C from the fit's covariance (0 when C was given).
+    capacitance_given : bool
+        C was held at a given value, not fitted.
     """
 
     resistance: float
@@ -67,6 +90,8 @@ class MeasuredCoil:
     frequency_hz: np.ndarray
     residual_db: np.ndarray
     residual_deg: np.ndarray
+    capacitance_rel_sd: float = 0.0
+    capacitance_given: bool = False
 
     @property
     def inductance(self) -> float:
@@ -88,6 +113,31 @@ class MeasuredCoil:
     @property
     def rms_residual_deg(self) -> float:
         return float(np.sqrt(np.mean(self.residual_deg**2)))
+
+    @property
+    def top_share(self) -> float:
+        """ω_top²·L_dc·C at the top measured frequency: C's share of the reactance there (1 at the resonance)."""
+        w = 2 * np.pi * float(self.frequency_hz[-1])
+        return float(w * w * self.inductance * self.capacitance)
+
+    def capacitance_doubt(self) -> str | None:
+        """Why the sweep does not determine C (one clause), or None when it does or C was given.
+
+        Says where the sweep ends, C's share of the reactance there against
+        :data:`REACH_SHARE`, the fit's spread of C against :data:`REACH_SD`,
+        and the fitted resonance; the fix is the caller's to add.
+        """
+        from ..units import format_si
+
+        x, sd = self.top_share, self.capacitance_rel_sd
+        if self.capacitance_given or (x >= REACH_SHARE and sd <= REACH_SD):
+            return None
+        spread = f"±{sd:.0%}" if sd < 10 else "unbounded"
+        srf = self.self_resonance_hz()
+        guess = f"the fitted {format_si(self.capacitance, 'F', 3)} (spread {spread}) and its self-resonance {format_si(srf, 'Hz', 3) if np.isfinite(srf) else 'above 10 MHz'} are guesses"
+        if x < REACH_SHARE:
+            return f"C is not determined: the sweep ends at {format_si(float(self.frequency_hz[-1]), 'Hz', 3)}, where C carries ω²LC = {x:.2g} of the reactance (under {REACH_SHARE:g}); {guess}"
+        return f"C is not determined: the fit's spread of C is over {REACH_SD:.0%}; {guess}"
 
     def self_resonance_hz(self) -> float:
         """Hz: where the fitted model's phase crosses zero from inductive to capacitive (searched 10 Hz–10 MHz)."""
@@ -157,7 +207,22 @@ def _start(f, z):
     return r0, l0, c0
 
 
-def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4) -> MeasuredCoil:
+def _covariance(jac: np.ndarray, residual: np.ndarray) -> np.ndarray:
+    """The parameters' covariance s²·(JᵀJ)⁻¹ at a least-squares optimum, s² = |r|²/(m − n).
+
+    The linearised estimate (Press et al., *Numerical Recipes*, 3rd ed., 2007,
+    §15.4.2 and §15.5, eq. 15.5.15); singular directions, along which the
+    data do not fix the parameters, get a variance 1e24 times that of the
+    best-fixed one instead of an infinity.
+    """
+    m, n = jac.shape
+    s2 = float(residual @ residual) / max(m - n, 1)
+    _, sv, vt = np.linalg.svd(jac, full_matrices=False)
+    sv = np.maximum(sv, sv[0] * 1e-12) if sv.size and sv[0] > 0 else np.full(n, 1e-300)
+    return s2 * (vt.T / sv**2) @ vt
+
+
+def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitance: float | None = None) -> MeasuredCoil:
     """Fit eq. (1), ladder included, to a measured impedance.
 
     Parameters
@@ -169,10 +234,15 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4) -> Measur
         |Z|·e^(j·phase) as measured.
     max_sections : int
         At most this many R ∥ L sections in the ladder.
+    capacitance : float or None, F > 0
+        The winding capacitance, held at this value instead of fitted (for a
+        sweep that stops too far below the self-resonance to show it).
 
     Returns
     -------
     MeasuredCoil
+        With ``capacitance_rel_sd``, the fitted C's relative standard error
+        (:func:`_covariance`), or 0 when C was given.
     """
     from scipy.optimize import least_squares
 
@@ -182,9 +252,19 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4) -> Measur
         raise InputError(f"measured coil: need at least 8 frequencies with one impedance each, got {f.size}")
     if np.any(~np.isfinite(f)) or np.any(~np.isfinite(z)) or np.any(f <= 0) or np.any(np.diff(f) <= 0) or np.any(np.abs(z) <= 0):
         raise InputError("measured coil: frequencies must be finite, > 0 and increasing, and every |Z| finite and > 0")
+    if capacitance is not None and not (np.isfinite(capacitance) and capacitance > 0):
+        raise InputError(f"measured coil: the given capacitance {capacitance!r} F must be finite and > 0")
     s = 2j * np.pi * f
     log_z = np.log(z)
     r0, l0, c0 = _start(f, z)
+    if capacitance is not None:
+        c0 = float(capacitance)
+
+    def full(x):  # θ with C put back when it is held
+        return x if capacitance is None else np.insert(x, 1, np.log(capacitance))
+
+    def free(theta):
+        return theta if capacitance is None else np.delete(theta, 1)
 
     best, best_rms = None, np.inf
     for k in range(0, max_sections + 1):
@@ -203,13 +283,28 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4) -> Measur
                 lk, tau = np.asarray(lad.inductances), lad.time_constants
             theta0 = np.log(np.concatenate([[r_prev, c_prev, max(lad.series_inductance, 1e-6 * lad.dc_inductance)], lk, tau]))
         lo, hi = _bounds(f, z, k)
+        if capacitance is not None:
+            lo[1], hi[1] = min(lo[1], np.log(capacitance)), max(hi[1], np.log(capacitance))
         margin = 1e-6 * (hi - lo)
         theta0 = np.clip(theta0, lo + margin, hi - margin)
-        sol = least_squares(_residual, theta0, args=(k, s, log_z), bounds=(lo, hi), method="trf", x_scale=1.0, xtol=1e-12, ftol=1e-12, max_nfev=4000)
-        r, c, l_series, lk, tau = _unpack(sol.x, k)
+        sol = least_squares(
+            lambda x, k=k: _residual(full(x), k, s, log_z),
+            free(theta0),
+            bounds=(free(lo), free(hi)),
+            method="trf",
+            x_scale=1.0,
+            xtol=1e-12,
+            ftol=1e-12,
+            max_nfev=4000,
+        )
+        theta = full(sol.x)
+        r, c, l_series, lk, tau = _unpack(theta, k)
         ladder = Ladder(float(l_series), tuple(float(v) for v in lk), tuple(float(v) for v in lk / tau)) if k else Ladder(float(l_series))
-        e = np.log(_model(sol.x, k, s)) - log_z
-        res = MeasuredCoil(float(r), float(c), ladder, f.copy(), 20 / np.log(10) * e.real, np.degrees(np.angle(np.exp(1j * e.imag))))
+        e = np.log(_model(theta, k, s)) - log_z
+        c_sd = 0.0 if capacitance is not None else float(np.sqrt(max(_covariance(sol.jac, sol.fun)[1, 1], 0.0)))
+        res = MeasuredCoil(
+            float(r), float(c) if capacitance is None else float(capacitance), ladder, f.copy(), 20 / np.log(10) * e.real, np.degrees(np.angle(np.exp(1j * e.imag))), c_sd, capacitance is not None
+        )
         rms = np.sqrt(np.mean(sol.fun**2))
         if best is not None and rms > 0.9 * best_rms:
             break

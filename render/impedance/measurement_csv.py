@@ -4,8 +4,11 @@ Pure: text (or the file's bytes) in, a :class:`Measurement` out;
 :func:`render.io.measurement.read_measurement` reads the file and hashes it.
 The format is what LCR meters and impedance analysers export, loosely:
 
-- comma-separated text (UTF-8); lines starting with ``#`` are comments and
-  blank lines are skipped;
+- text (UTF-8) separated by commas, semicolons or tabs, whichever the
+  header uses (tab first, then ``;``, then ``,``); with ``;`` or tab a
+  decimal comma is read as a point (``1,5`` is 1.5), as meters set to a
+  European locale export. Lines starting with ``#`` are comments and blank
+  lines are skipped;
 - the first other line is a header naming the columns; the three needed are
   found by name, case-insensitively, with an optional unit after ``_`` or in
   brackets: frequency (``frequency``, ``freq``, ``f``; Hz, kHz or MHz),
@@ -42,6 +45,15 @@ _UNITS = {
     "phase": {"": 1.0, "deg": 1.0, "degree": 1.0, "degrees": 1.0, "°": 1.0, "rad": 180.0 / math.pi, "radian": 180.0 / math.pi, "radians": 180.0 / math.pi},
 }
 _HEADER_EXAMPLE = "frequency_hz,z_ohm,phase_deg"
+SEPARATORS = {"\t": "tab", ";": "';'", ",": "','"}  # in the order they are looked for in the header
+
+
+def separator_of(header_line: str, source: str) -> str:
+    """The header's separator: tab, ';' or ',' (the first found in that order); InputError when it has none of them."""
+    for sep in SEPARATORS:
+        if sep in header_line:
+            return sep
+    raise InputError(f"{source}: the header {header_line.strip()!r} is not split by ',', ';' or tab; export the columns separated by one of those (e.g. {_HEADER_EXAMPLE})")
 
 
 @dataclass(frozen=True)
@@ -89,7 +101,7 @@ def _candidates(cell: str) -> list[tuple[str, str, bool]]:
     return out
 
 
-def _columns(header: list[str], where: str) -> dict[str, tuple[int, float]]:
+def _columns(header: list[str], where: str, sep: str = ",") -> dict[str, tuple[int, float]]:
     found: dict[str, tuple[int, float]] = {}
     for i, cell in enumerate(header):
         for name, unit, explicit in _candidates(cell):
@@ -105,7 +117,7 @@ def _columns(header: list[str], where: str) -> dict[str, tuple[int, float]]:
             break
     for kind in _NAMES:
         if kind not in found:
-            raise InputError(f"{where}: no {kind} column in the header {','.join(c.strip() for c in header)!r} (looked for {', '.join(_NAMES[kind])}); add a header row like {_HEADER_EXAMPLE}")
+            raise InputError(f"{where}: no {kind} column in the header {sep.join(c.strip() for c in header)!r} (looked for {', '.join(_NAMES[kind])}); add a header row like {_HEADER_EXAMPLE}")
     return found
 
 
@@ -113,24 +125,29 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
     """Parse a measurement's text (see the module doc); raises InputError on anything malformed."""
     rows: list[tuple[int, list[str]]] = []
     header = None
+    sep = ","
     for number, line in enumerate(text.splitlines(), start=1):
-        stripped = line.strip()
-        if not stripped or stripped.startswith("#"):
+        stripped = line.strip(" \r\n")  # not tabs: an empty first cell of a tab-separated row stays a cell
+        if not stripped.strip() or stripped.lstrip().startswith("#"):
             continue
-        cells = [c.strip() for c in stripped.split(",")]
+        if header is None:
+            sep = separator_of(stripped, source)
+        cells = [c.strip() for c in stripped.split(sep)]
         if header is None:
             header = cells
             continue
+        if sep != ",":
+            cells = [c.replace(",", ".") for c in cells]  # a decimal comma, where the comma separates nothing
         rows.append((number, cells))
     if header is None:
         raise InputError(f"{source}: no header and no data; the file should start with a header row like {_HEADER_EXAMPLE}")
-    cols = _columns(header, source)
+    cols = _columns(header, source, sep)
     if len(rows) < MIN_ROWS:
         raise InputError(f"{source}: {len(rows)} data rows, need at least {MIN_ROWS} frequencies; measure across the band (20 Hz to above the resonance)")
     values = {kind: np.empty(len(rows)) for kind in cols}
     for r, (number, cells) in enumerate(rows):
         if len(cells) != len(header):
-            extra = "; a decimal comma splits a number in two: write 1.5, not 1,5" if len(cells) > len(header) else ""
+            extra = "; a decimal comma splits a number in two: write 1.5, not 1,5, or separate the columns with ';' or tab" if sep == "," and len(cells) > len(header) else ""
             raise InputError(f"{source}: line {number} has {len(cells)} columns, the header has {len(header)}; give every row exactly the header's columns{extra}")
         for kind, (i, scale) in cols.items():
             try:

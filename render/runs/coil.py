@@ -130,7 +130,11 @@ class FitResult:
     self_resonance_hz: float | None
 
     def residual_bands(self) -> list[dict]:
-        """Max and rms residual (dB, °) over 20 Hz–20 kHz and per decade within it (bands with no point left out)."""
+        """Max and rms residual (dB, °) over 20 Hz–20 kHz and per decade within it (bands with no point left out).
+
+        Each band's ``from_hz`` and ``to_hz`` are where the data cover it: a
+        sweep that ends at 1 kHz reports "20 Hz – 1 kHz", not the whole band.
+        """
         f = self.fit.frequency_hz
         out = []
         for lo, hi in (BAND_HZ, *RESIDUAL_BANDS):
@@ -140,8 +144,8 @@ class FitResult:
             db, deg = self.fit.residual_db[m], self.fit.residual_deg[m]
             out.append(
                 {
-                    "from_hz": lo,
-                    "to_hz": hi,
+                    "from_hz": max(lo, float(f[0])),
+                    "to_hz": min(hi, float(f[-1])),
                     "points": int(m.sum()),
                     "max_db": float(np.max(np.abs(db))),
                     "rms_db": float(np.sqrt(np.mean(db**2))),
@@ -160,6 +164,10 @@ class FitResult:
             "resistance_ohm": fit.resistance,
             "inductance_h": fit.inductance,
             "capacitance_f": fit.capacitance,
+            "capacitance_given": fit.capacitance_given,
+            "capacitance_rel_sd": None if fit.capacitance_given else fit.capacitance_rel_sd,
+            "capacitance_share_at_top": fit.top_share,
+            "capacitance_determined": fit.capacitance_given or fit.capacitance_doubt() is None,
             "ladder": _ladder_dict(fit.ladder),
             "self_resonance_hz": self.self_resonance_hz,
             **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if self.self_resonance_hz is None else {}),
@@ -171,11 +179,19 @@ class FitResult:
         }
 
 
-def fit_file(path) -> FitResult:
-    """Read a measurement CSV and fit the coil model to it (the fit is cached by the file's hash)."""
+def read_capacitance(text: str) -> float:
+    """F: ``render coil fit --capacitance`` read as a design's ``[coil_x] capacitance`` is ("95p", "95pF", "1.2e-10"); InputError otherwise."""
+    from ..design.schema import COIL
+    from ..validate import read_value
+
+    return float(read_value(text, COIL["capacitance"], source="--capacitance", table="", key=""))
+
+
+def fit_file(path, *, capacitance: float | None = None) -> FitResult:
+    """Read a measurement CSV and fit the coil model to it (the fit is cached by the file's hash); ``capacitance`` (F) holds C."""
     from ..design.coil_impedance import fit_file as read_and_fit
 
-    m, fit = read_and_fit(path)
+    m, fit = read_and_fit(path, capacitance=capacitance)
     return FitResult(m, fit, self_resonance_hz(fit.impedance))
 
 
@@ -206,6 +222,11 @@ def floor_effect_db(fit: MeasuredCoil) -> float:
     return float(np.max(np.abs(20 * np.log10(np.abs(z_written) / np.abs(z_fit)))))
 
 
+def band_text(band: dict) -> str:
+    """A residual band's span as printed: "20 Hz – 1 kHz"."""
+    return f"{U.format_si(band['from_hz'], 'Hz', 3)} – {U.format_si(band['to_hz'], 'Hz', 3)}"
+
+
 def fit_warnings(result: FitResult) -> tuple[str, ...]:
     """One line per reason to doubt that the sweep is a pickup coil's, or that the fit is its model.
 
@@ -213,6 +234,9 @@ def fit_warnings(result: FitResult) -> tuple[str, ...]:
     :data:`render.usual.USUAL`; the residual :data:`RESIDUAL_WARN`. A
     capacitance below the design reader's floor (0.1 pF) is not a doubt
     about the coil but about the sweep (it shows no capacitance): said once.
+    A sweep that does not reach far enough towards the self-resonance to fix
+    C (:meth:`render.impedance.measured.MeasuredCoil.capacitance_doubt`) is
+    said once, with the fix.
     """
     from ..usual import USUAL
 
@@ -222,16 +246,19 @@ def fit_warnings(result: FitResult) -> tuple[str, ...]:
     if not lo <= fit.resistance <= hi:
         out.append(f"R_dc {U.format_si(fit.resistance, 'Ω', 4)} is outside {U.format_si(lo, 'Ω')} to {U.format_si(hi, 'Ω')} (pickup coils, from memory): is this a coil's sweep?")
     rng = USUAL[("coil", "inductance")]
-    if not rng.holds(fit.inductance):
+    a_coil = rng.holds(fit.inductance)  # else its capacitance is no winding's: no word on how well the sweep fixes it
+    if not a_coil:
         out.append(f"inductance {U.format_si(fit.inductance, 'H', 4)} at DC is outside {rng.text('H')} (pickup coils): is this a coil's sweep?")
     rng = USUAL[("coil", "capacitance")]
     floor = capacitance_floor()
     if fit.capacitance < floor:
         out.append(
             f"the sweep shows no winding capacitance (fitted {fit.capacitance:.3g} F): the table gives {U.format_si(floor, 'F')},"
-            f" the least a design accepts, which moves |Z| by {floor_effect_db(fit):.2g} dB at most over the sweep; sweep past the self-resonance, or type the winding's capacitance ({rng.text('F')})"
+            f" the least a design accepts, which moves |Z| by {floor_effect_db(fit):.2g} dB at most over the sweep; sweep past the self-resonance, or hold C at the coil's value with --capacitance ({rng.text('F')})"
         )
-    elif not rng.holds(fit.capacitance):
+    elif a_coil and (doubt := fit.capacitance_doubt()) is not None:
+        out.append(f"{doubt}; sweep on past the self-resonance, or hold C at the coil's value with --capacitance (e.g. from the winding's estimate or a bridge reading)")
+    elif not fit.capacitance_given and not rng.holds(fit.capacitance):
         out.append(f"capacitance {U.format_si(fit.capacitance, 'F', 4)} is outside {rng.text('F')} (pickup coils): is this a coil's sweep?")
     bands = result.residual_bands()
     if bands:
@@ -239,7 +266,7 @@ def fit_warnings(result: FitResult) -> tuple[str, ...]:
         db, deg = RESIDUAL_WARN
         if b["max_db"] > db or b["max_deg"] > deg:
             out.append(
-                f"the fit is off by up to {b['max_db']:.2f} dB and {b['max_deg']:.1f}° over 20 Hz–20 kHz (more than {db:g} dB or {deg:g}°, common practice, no source):"
+                f"the fit is off by up to {b['max_db']:.2f} dB and {b['max_deg']:.1f}° over {band_text(b).replace(' – ', '–')} (more than {db:g} dB or {deg:g}°, common practice, no source):"
                 " the model (R_dc, a ladder and C) does not describe this sweep; check the file's columns and units"
             )
     return tuple(out)
@@ -288,10 +315,13 @@ def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | No
         + (f", self-resonance {U.format_si(result.self_resonance_hz, 'Hz', 3)}" if result.self_resonance_hz else ""),
     ]
     if band is not None:
-        lines.append(f"# residual over 20 Hz–20 kHz: max {band['max_db']:.2f} dB and {band['max_deg']:.2f}°, rms {band['rms_db']:.3f} dB and {band['rms_deg']:.2f}°")
+        lines.append(f"# residual over {band_text(band).replace(' – ', '–')}: max {band['max_db']:.2f} dB and {band['max_deg']:.2f}°, rms {band['rms_db']:.3f} dB and {band['rms_deg']:.2f}°")
+    if fit.capacitance_given:
+        lines.append("# capacitance held at the value given (--capacitance), not fitted")
     lines += [f"# WARNING: {w}" for w in fit_warnings(result)]
     lines += [
-        f'# or, to keep the measurement itself: measured = "{measured_as or m.source}" (in place of resistance, capacitance and [{coil}.ladder])',
+        f'# or, to keep the measurement itself: measured = "{measured_as or m.source}"'
+        + (f" (in place of resistance and [{coil}.ladder]; keep capacitance beside it to hold C)" if fit.capacitance_given else f" (in place of resistance, capacitance and [{coil}.ladder])"),
         f"[{coil}]",
         f"resistance = {_value(fit.resistance, '')}",
         f"capacitance = {_value(written_capacitance(fit), 'F')}",

@@ -147,6 +147,16 @@ def test_fit_refuses_unreachable_aims(tmp_path):
     res = run("fit", fit, "--out", tmp_path / "o")
     assert res.exit_code == 1
     assert "out of reach with these free parts" in res.output and "peak_hz = 15000" in res.output
+
+
+def test_an_aim_at_a_peak_the_design_does_not_have_says_so(tmp_path):
+    # measured-blade's response has no peak (render check: peak_hz null) and the feedback resistor
+    # cannot make one: the refusal says so in words instead of the stand-in it scores (1000 to 1000)
+    design = ROOT / "models" / "measured-blade.toml"
+    fit = write_fit(tmp_path, f'from = "{design}"\n[aim]\npeak_hz = {{ value = 4800, within = "4%" }}\n[free]\n"feedback.r" = {{ min = "22k", max = "470k" }}\n')
+    res = run("fit", fit, "--out", tmp_path / "o")
+    assert res.exit_code == 1
+    assert "the design has no peak to aim at, and no variant the search tried has one" in res.output and "reached 1000" not in res.output
     assert not (tmp_path / "o").exists()
 
 
