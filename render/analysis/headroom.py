@@ -230,7 +230,7 @@ def format_margin(db: float | None) -> str:
 
 def format_strength(m: float | None, *, guessed: bool = False) -> str:
     """A pluck strength in mm with three significant digits, or a dash; "≈" before a linear guess."""
-    return "—" if m is None else f"{'≈' if guessed else ''}{m * 1e3:#.3g} mm"
+    return "—" if m is None else f"{'≈' if guessed else ''}{f'{m * 1e3:#.3g}'.rstrip('.')} mm"  # 3 digits kept (2.00 mm), no bare point (175 mm)
 
 
 GUESS_NOTE = "≈: a linear guess; this design's sensing is not linear in the pluck (render clips finds the strength by rendering)"

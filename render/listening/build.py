@@ -53,10 +53,12 @@ def check_session_folder(out: str | Path, *, overwrite: bool) -> None:
         if any(out.iterdir()) and not (SessionPaths(out).key.is_file() and SessionPaths(out).plan.is_file()):
             raise InputError(f"--out={out}: a folder that is neither empty nor a listening session; --overwrite replaces only a session, choose another folder")
     parent = out.parent if str(out.parent) else Path(".")
-    if not parent.is_dir():
-        raise InputError(f"--out={out}: folder {parent} does not exist; create it first")
-    if not os.access(parent, os.W_OK):
-        raise InputError(f"--out={out}: cannot write in {parent}; choose another folder")
+    # missing parents are made, as for every run folder (render clips, bias, fit): the nearest existing one must take them
+    existing = next((p for p in (parent, *parent.parents) if p.exists()), Path("."))
+    if not existing.is_dir():
+        raise InputError(f"--out={out}: {existing} is a file, not a folder; choose another folder")
+    if not os.access(existing, os.W_OK):
+        raise InputError(f"--out={out}: cannot write in {existing}; choose another folder")
 
 
 def draw_trials(method: str, trials: int, seed: int) -> list[dict]:
@@ -172,6 +174,7 @@ def build_session(
     tmp = parent / f".tmp-{out.name}-{secrets.token_hex(4)}"
     old = None
     try:
+        parent.mkdir(parents=True, exist_ok=True)
         tmp.mkdir()
         paths = SessionPaths(tmp)
         paths.public.mkdir()

@@ -154,3 +154,10 @@ def test_a_nonlinear_design_without_a_search_shows_a_linear_guess():
     assert bias_phrase_lines(["s"], [h])[-1].strip() == GUESS_NOTE
     linear = played_headroom(linear_min_v=3.0, linear_max_v=6.0, bias_v=4.5, window=window, limited_fraction=0.0, strongest_pluck_m=0.001)
     assert linear.record()["limit_strength_method"] == "linear" and all("≈" not in x for x in headroom_lines([("d", linear)]))
+
+
+def test_strengths_print_three_digits_without_a_bare_point():
+    from render.analysis.headroom import format_strength
+
+    assert [format_strength(m) for m in (0.002, 0.0125, 0.175, 0.274)] == ["2.00 mm", "12.5 mm", "175 mm", "274 mm"]
+    assert format_strength(None) == "—" and format_strength(0.003, guessed=True) == "≈3.00 mm"

@@ -163,8 +163,9 @@ def test_an_existing_folder_is_refused_unless_it_is_a_session_and_overwrite_is_g
     (other / "mine.txt").write_text("keep me")
     with pytest.raises(InputError, match=r"neither empty nor a listening session"):
         check_session_folder(other, overwrite=True)
-    with pytest.raises(InputError, match=r"folder .* does not exist"):
-        check_session_folder(tmp_path / "no" / "where", overwrite=False)
+    check_session_folder(tmp_path / "no" / "where", overwrite=False)  # missing parents are made, as for render clips
+    with pytest.raises(InputError, match=r"is a file, not a folder"):
+        check_session_folder(tmp_path / "notes" / "mine.txt" / "session", overwrite=False)
     from render.listening.build import build_session
 
     key = json.loads(paths.key.read_text())
