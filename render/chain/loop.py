@@ -39,8 +39,9 @@ with gbw, Z = s without)
     ds/dt = A·s + b·d,          V−_c = c·s + d_o·d,
     τ·dξ/dt = −A0·V−_c − ξ      (with gbw; ξ = −A0·V−_c without)
 
-and x = x_lin + ξ. While nothing clips the correction stays exactly zero,
-so the linear fast path needs no state handed over; once anything clips,
+and x = x_lin + ξ. While nothing clips or slews (x_lin's step within the
+slew limit) the correction stays exactly zero, so the linear fast path
+needs no state handed over; once anything clips or slews,
 the correction carries the loop's memory (series_c charging, the shifted
 operating point and its recovery) until it has decayed below 1e-12 V.
 
