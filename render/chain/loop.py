@@ -39,8 +39,9 @@ with gbw, Z = s without)
     ds/dt = A·s + b·d,          V−_c = c·s + d_o·d,
     τ·dξ/dt = −A0·V−_c − ξ      (with gbw; ξ = −A0·V−_c without)
 
-and x = x_lin + ξ. While nothing clips the correction stays exactly zero,
-so the linear fast path needs no state handed over; once anything clips,
+and x = x_lin + ξ. While nothing clips or slews (x_lin's step within the
+slew limit) the correction stays exactly zero, so the linear fast path
+needs no state handed over; once anything clips or slews,
 the correction carries the loop's memory (series_c charging, the shifted
 operating point and its recovery) until it has decayed below 1e-12 V.
 
@@ -280,7 +281,57 @@ def dc_output(design) -> float:
     return float(design.bias_v) * a0 / (1.0 + a0)
 
 
-# --- the discrete loop ---------------------------------------------------------------
+def static_feedback_fraction(net: Network) -> float:
+    """The fraction β of the output's deviation d that reaches the inverting input at low frequency.
+
+    V−_c per d with the network settled: ``series_c`` a short (its voltage held at 0, as at frequencies
+    well above its corner), every other capacitor open and every inductor a short. For a coil with
+    its DC resistance R_c and no load resistor, β = (series_r + R_c)/(series_r + R_c + feedback r).
+    """
+    keep = [i for i, name in enumerate(net.names) if name != "v_s"]
+    settled = np.linalg.solve(net.a[np.ix_(keep, keep)], -net.b_o[keep])
+    return float(net.c[keep] @ settled + net.d_o)
+
+
+def static_loop_gain(design, *, params=None) -> float:
+    """L = A0·β, the loop's gain at low frequency (:func:`static_feedback_fraction`), of a validated design."""
+    from ..circuit.params import from_designs
+
+    p = params if params is not None else from_designs([design])
+    return float(design.supply.open_loop_gain) * static_feedback_fraction(network(p, 0))
+
+
+def static_transfer(x_lin, *, window: Window, loop_gain: float) -> np.ndarray:
+    """The closed loop's output V_o held at a linear output x_lin, at low frequency (V).
+
+    With the network settled the correction is ξ = −L·d, d = V_o − x_lin (L: :func:`static_loop_gain`),
+    so x = x_lin + ξ solves x + L·f(x) = (1 + L)·x_lin and V_o = f(x), f the output stage's window
+    (:func:`render.chain.limit.soft_limit`). The left side is increasing and piecewise quadratic: its
+    root in closed form, as the loop's steps take it. On f's identity part V_o = x_lin; across a knee
+    x_lin − V_o = (x − f(x))/(1 + L), between 0 and knee/(1 + L); the rail is reached at
+    x_lin = high + knee/(1 + L).
+
+    x_lin : array_like, V, any shape
+    returns : np.ndarray, V, the shape of x_lin
+    """
+    from .limit import soft_limit
+
+    m = np.asarray(x_lin, dtype=float)
+    beta = float(loop_gain)
+    centre = window.centre
+    half = window.linear_high - centre
+    knee = window.knee
+    u = m - centre
+    t = np.abs(u)
+    sign = np.where(u >= 0.0, 1.0, -1.0)
+    top = half + knee  # rail − centre
+    b1 = 1.0 + beta
+    d0 = b1 * (t - half)
+    disc = np.maximum(b1 * b1 - beta * d0 / knee, 0.0)
+    on_knee = centre + sign * (half + 2.0 * d0 / (b1 + np.sqrt(disc)))
+    beyond = centre + sign * (t + beta * (t - top))
+    x = np.where(t <= half, m, np.where(t * b1 >= top * b1 + knee, beyond, on_knee))
+    return soft_limit(x, window=window)
 
 
 # --- the discrete loop ---------------------------------------------------------------

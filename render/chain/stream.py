@@ -49,10 +49,15 @@ loop's output kernel on x_lin's samples · decimator, sampled at the output
 rate: a linear-phase FIR at fs, flat within ±0.001 dB to 20 kHz), so such
 stretches are computed with that FIR directly, and the loop's correction
 is added where it runs. The loop starts where x_lin's samples leave the
-identity part; the bound |interpolated| ≤ G·max|V_lin| over the filters'
-span (G: the largest sum of |taps| of one polyphase branch) decides which
-stretches need interpolating to look. The result never depends on the
-block size.
+identity part, or, with a slew limit, where x_lin steps by more than the
+slew rate allows from one oversampled sample to the next (the loop's own
+test while its correction is zero: the linear path is exact only where
+neither happens); the bounds |interpolated| ≤ G·max|V_lin| and
+|its step| ≤ G'·max|ΔV_lin| + ε·max|V_lin| over the filters' span (G: the
+largest sum of |taps| of one polyphase branch; G', ε: the same of the
+running sums of the interpolator's first difference, by Abel summation)
+decide which stretches need interpolating to look. The result never
+depends on the block size.
 
 Start and end: the string is at rest before the first sample and after
 the last (the chain is flushed with zero velocity to return exactly n
@@ -86,11 +91,13 @@ from . import discretize as dz
 from . import hum as hm
 from . import loop as lp
 from .limit import Window, design_window
+from .loop_shared import NO_SLEW
 
 INTERNAL_RATE_HZ = 192000.0  # the limiter runs at no less than this rate
 IMAGE_REJECTION_DB = 100.0  # interpolator stopband, from fs − band edge
 ALIAS_WEIGHT = 1e3  # stopband weight of the decimator's least-squares design
 LOOP_CHUNK = 4096  # output samples: the loop runs past a loud stretch this far at a time while it decays
+SLEW_SAFETY = 0.9  # the loop is looked for where the bound on x_lin's step reaches this fraction of the slew step (the bound is strict; the margin covers rounding)
 
 
 # --- the limiter's resampling filters -------------------------------------------
@@ -108,6 +115,9 @@ class Resampler:
     delay : int, output samples of group delay of ``linear`` (and of the path)
     gain_bound : float, max over polyphase branches of Σ|up taps|
     span : int, output samples of history any output sample depends on
+    slope_bound, slope_leak : float, the interpolated signal's step-to-step change
+        bounded by the output rate's: |v[i] − v[i−1]| ≤ slope_bound·max|Δx| + slope_leak·max|x|
+        over the last ``span`` output samples (:func:`design_resampler`)
     """
 
     oversample: int
@@ -117,6 +127,8 @@ class Resampler:
     delay: int
     gain_bound: float
     span: int
+    slope_bound: float = math.inf
+    slope_leak: float = math.inf
 
 
 def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
@@ -157,7 +169,13 @@ def design_resampler(*, sample_rate: float, oversample: int) -> Resampler:
     linear = np.ascontiguousarray(g[::R])
     gain_bound = max(float(np.abs(up[p::R]).sum()) for p in range(R))
     span = (linear.size + 2) | 1  # odd, for the trailing running maximum
-    return Resampler(R, up, down, linear, centre // R, gain_bound, span)
+    # the interpolated signal's oversampled differences: with g = up's first difference,
+    # v[R·k + p] − v[R·k + p − 1] = Σ_m g[p + R·m]·x[k − m], by Abel summation
+    # = Σ_m G_p[m]·(x[k − m] − x[k − m − 1]) + G_p[last]·x[k − last − 1], G_p the running sum of branch p
+    branch_sums = [np.cumsum(np.diff(up, prepend=0.0, append=0.0)[p::R]) for p in range(R)]
+    slope_bound = max(float(np.abs(g).sum()) for g in branch_sums)
+    slope_leak = max(abs(float(g[-1])) for g in branch_sums)
+    return Resampler(R, up, down, linear, centre // R, gain_bound, span, slope_bound, slope_leak)
 
 
 def interpolate(x, *, up, oversample: int) -> np.ndarray:
@@ -396,12 +414,21 @@ def _loop_stage(plan: Plan, ext: np.ndarray, history: int, carry: _LoopCarry):
     room = min(win.linear_high - bias, bias - win.linear_low) / res.gain_bound
     mag = np.abs(ext)
     state = carry.loop
-    if not state.active and mag.max() <= room:
+    slew_step = plan.loop.slew_step
+    slews = slew_step < NO_SLEW
+    if slews:
+        # the slew limit acts where x_lin's oversampled step exceeds slew_step; those steps are bounded by
+        # slope_bound·max|ΔV_lin| + slope_leak·max|V_lin| over the span (design_resampler)
+        step = np.abs(np.diff(ext, prepend=0.0))
+        fast = (SLEW_SAFETY * slew_step - res.slope_leak * float(mag.max())) / res.slope_bound
+    if not state.active and mag.max() <= room and (not slews or step.max() <= fast):
         carry.pos = 0
         return y, 0
-    # sample k may leave the identity part if any V_lin in ext[k − span + 1 .. k] is above the room: a
-    # running count of such samples (zeros in front for the span before ext) differenced over the span
-    count = np.concatenate([np.zeros(res.span, dtype=np.int64), np.cumsum(mag > room)])
+    # sample k may leave the identity part (or slew) if any V_lin in ext[k − span + 1 .. k] is above the room
+    # (or its step above ``fast``): a running count of such samples (zeros in front for the span before ext)
+    # differenced over the span
+    near = (mag > room) | (step > fast) if slews else mag > room
+    count = np.concatenate([np.zeros(res.span, dtype=np.int64), np.cumsum(near)])
     loud = count[history + res.span : ext.size + res.span] - count[history : ext.size] > 0
     loud_ext = np.concatenate([[True], loud])  # output sample −1 (a held-back step) counts as loud
     clipped = 0
@@ -419,8 +446,12 @@ def _loop_stage(plan: Plan, ext: np.ndarray, history: int, carry: _LoopCarry):
             e = min(n, k + (int(quiet[0]) if quiet.size else n - k) + LOOP_CHUNK)
             a = max(i, R * k)
             xl = _x_lin(plan, ext, history, a - 2, R * e - 1)
-            # the bound is loose: start where x_lin actually leaves the output stage's identity part
-            out = np.flatnonzero((xl[2:] > win.linear_high) | (xl[2:] < win.linear_low))
+            # the bound is loose: start where x_lin actually leaves the output stage's identity part, or
+            # where its step is steeper than the slew limit (the loop's own test with no correction)
+            outside = (xl[2:] > win.linear_high) | (xl[2:] < win.linear_low)
+            if slews:
+                outside |= np.abs(xl[2:] - xl[1:-1]) > slew_step
+            out = np.flatnonzero(outside)
             if not out.size or a + int(out[0]) >= last:
                 i = max(i, R * e - 1)
                 continue

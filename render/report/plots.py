@@ -371,16 +371,20 @@ def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False, fl
     return save(fig, path, overwrite=overwrite)
 
 
-def transfer_plot(path, curves, *, title="", overwrite=False):
-    """The soft limit's transfer curve(s) with bias points marked.
+def transfer_plot(path, curves, *, title="", overwrite=False, reference_label="output stage alone"):
+    """Transfer curve(s) from the linear op-amp output to the output, with bias points marked.
 
-    ``curves``: list of (label, x (V), y (V), [(bias_v, point_label), …]).
+    ``curves``: list of (label, x (V), y (V), [(bias_v, point_label), …]) or, with a reference curve
+    drawn dashed in the same colour (``reference_label`` in the legend, once),
+    (label, x, y, points, y_reference (V)).
     """
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(7, 5))
-    for i, (label, x, y, points) in enumerate(curves):
+    for i, (label, x, y, points, *reference) in enumerate(curves):
         col = PALETTE[i % len(PALETTE)]
         ax.plot(x, y, color=col, lw=1.8, label=label)
+        if reference:
+            ax.plot(x, reference[0], color=col, lw=1.0, ls="--", label=reference_label if i == 0 else None)
         # curves take turns: labels below right of the point, then above left, so neighbours' labels do not overlap
         below = i % 2 == 0
         for b, plabel in points:
@@ -389,7 +393,7 @@ def transfer_plot(path, curves, *, title="", overwrite=False):
     ax.plot([x[0], x[-1]], [x[0], x[-1]], color="#bbbbbb", lw=0.8, ls=":")
     ax.grid(True, color="#dddddd", linewidth=0.6)
     ax.set_xlabel("op-amp output, linear (V)")
-    ax.set_ylabel("op-amp output, limited (V)")
+    ax.set_ylabel("op-amp output (V)")
     ax.legend(fontsize=8, frameon=False, loc="upper left")
     if title:
         _fix_title(ax, title)
@@ -435,10 +439,12 @@ HARMONICS_FLOOR_DB = -100.0  # harmonic levels below this are shown at the axis'
 
 
 def bias_plots(out, design, settings_list, rows) -> None:
-    """Headroom and harmonics against the divider ratio, and the soft limit's transfer curve with each bias point marked."""
+    """Headroom and harmonics against the divider ratio, and the closed loop's low-frequency transfer
+    (what the render renders; the output stage's own window dashed) with each bias point marked."""
     from pathlib import Path
 
     from ..chain.limit import design_window, soft_limit
+    from ..chain.loop import static_loop_gain, static_transfer
 
     stem = Path(design.source).stem
     batteries = sorted({r["battery_v"] for r in rows})
@@ -462,10 +468,12 @@ def bias_plots(out, design, settings_list, rows) -> None:
     curves = []
     for v in batteries:
         sel = [(s, r) for s, r in zip(settings_list, rows) if r["battery_v"] == v]
-        win = design_window(sel[0][0].design)
+        d = sel[0][0].design
+        win = design_window(d)
         xx = np.linspace(0, v, 800)
-        curves.append((f"{v:g} V battery", xx, soft_limit(xx, window=win), [(r["bias_v"], r["setting"].split(",")[0].removeprefix("ratio ")) for _, r in sel]))
-    transfer_plot(out / f"{stem}-transfer.png", curves, title=f"{design.name}: the soft limit, bias points marked", overwrite=True)
+        marks = [(r["bias_v"], r["setting"].split(",")[0].removeprefix("ratio ")) for _, r in sel]
+        curves.append((f"{v:g} V battery (closed loop)", xx, static_transfer(xx, window=win, loop_gain=static_loop_gain(d)), marks, soft_limit(xx, window=win)))
+    transfer_plot(out / f"{stem}-transfer.png", curves, title=f"{design.name}: the output as rendered (closed loop, low frequency), bias points marked", overwrite=True)
 
 
 def fit_plot(path, designs, *, title: str = ""):
