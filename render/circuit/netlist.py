@@ -277,6 +277,14 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "* tran 1u 0.2 0 1u",
         "* wrdata transient.txt v(out) v(amp)",
         "* .endc",
+        *(
+            []
+            if d.supply.gbw
+            else [
+                "* this design has no gbw: the loop is algebraic, and into clipping ngspice's transient",
+                "* stops at a clip edge (timestep too small); give [supply] gbw for a transient that clips",
+            ]
+        ),
         ".end",
     ]
     return "\n".join(head + circuit_lines(d) + tail) + "\n"

@@ -274,3 +274,12 @@ def test_ngspice_runs_the_hand_written_branches(branch):
             t, x = data[:, 0], data[:, 1]
             rate = np.abs(np.diff(x) / np.diff(t))
             assert rate.max() == pytest.approx(SLEW_RATE_V_PER_S, rel=5e-3)
+
+
+def test_a_design_without_gbw_says_its_transient_into_clipping_needs_one():
+    # without gbw the loop is algebraic: ngspice's transient stops at a clip edge ("timestep too small",
+    # seen with ngspice 39 on tests/smoke/designs/edge-no-gbw.toml at 10 m/s); the file says so where its example is
+    no_gbw = netlist(load_design(ROOT / "tests" / "smoke" / "designs" / "edge-no-gbw.toml"))
+    with_gbw = netlist(load_design(ROOT / "models" / "studio-reference.toml"))
+    assert "give [supply] gbw for a transient that clips" in no_gbw.splitlines()[-2]
+    assert "gbw for a transient" not in with_gbw
