@@ -58,6 +58,23 @@ BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
 # (no peak scores as a peak at the band's lower edge, level with 1 kHz: a response falling from 1 kHz)
 UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB, "peak_hz": 1000.0, "resonance_hz": 1000.0, "peak_db": 0.0, "resonance_db": 0.0}
 FREE_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
+# the figure a peak aim reads: render.analysis.peaks.aimed_peak_hz, continuous as two humps trade places
+AIMED_PEAK = "aimed_peak_hz"
+READS = {"peak_hz": AIMED_PEAK, "resonance_hz": AIMED_PEAK}
+
+
+def with_aimed_peak(fig: dict) -> dict:
+    """``fig`` (one design's figures) with ``aimed_peak_hz``, the frequency a peak aim scores."""
+    from .peaks import aimed_peak_hz
+
+    aimed = aimed_peak_hz(fig.get("peaks") or [])
+    reason = {} if aimed is not None or "peak_hz_reason" not in fig else {AIMED_PEAK + "_reason": fig["peak_hz_reason"]}
+    return {**fig, AIMED_PEAK: aimed, **reason}
+
+
+def figure_of(fig: dict, name: str):
+    """The value aim ``name`` scores from one design's figures (None when undefined)."""
+    return fig.get(READS.get(name, name)) if READS.get(name) in fig else fig.get(name)
 
 
 def _unit_of(name: str) -> str:
@@ -341,7 +358,8 @@ class Evaluator:
                 if aim.figure == PHRASE_AIM:
                     out[rows, j] = self.phrase_margins(valid)
                     continue
-                col = [f[aim.figure] if f[aim.figure] is not None else UNDEFINED.get(aim.figure, np.nan) for f in figs]
+                values = [figure_of(with_aimed_peak(f), aim.figure) for f in figs]
+                col = [v if v is not None else UNDEFINED.get(aim.figure, np.nan) for v in values]
                 out[rows, j] = col
         self.seen_fig.append(out)
         return out
@@ -480,7 +498,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
         v = snap(spec, v)  # exact series values, not their rounded logs
         from .figures import figures
 
-        fig = figures([apply(start, spec.free, v)])[0]
+        fig = with_aimed_peak(figures([apply(start, spec.free, v)])[0])
         if spec.needs_phrase:
             fig[PHRASE_AIM] = float(ev.phrase_margins([apply(start, spec.free, v)])[0])
         n, r = _tiebreak(v, start_vals)

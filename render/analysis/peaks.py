@@ -21,11 +21,19 @@ implements). Each peak is given as
   Horowitz & Hill, *The Art of Electronics*, 3rd ed., 2015, §1.7.14).
 
 Peaks are listed highest first. The resonance (``peak_hz``, ``peak_db`` and
-``q``: the figures ``check``, ``summary.md``, the JSON and ``fit`` use) is the
+``q``: the figures ``check``, ``summary.md`` and the JSON print) is the
 first listed peak, its frequency, height and Q exactly: a hump under the
 prominence cut never moves it. When two humps of near-equal height trade
 places, the resonance moves from one to the other; the list shows both.
 The threshold is our choice (common practice, no source).
+
+``render fit``'s peak aim reads :func:`aimed_peak_hz` instead, which moves
+continuously as humps trade places: the highest peak's frequency alone when
+every other listed peak lies :data:`BLEND_DB` or more below it, otherwise the
+geometric mean of the peaks within :data:`BLEND_DB`, each weighted by
+1 − (top − height)/BLEND_DB. Heights vary continuously with the parts, and
+so do these weights, so a small part change moves the aimed frequency a
+little where the highest peak's would jump.
 """
 
 from __future__ import annotations
@@ -37,6 +45,7 @@ from . import undefined as U
 PROMINENCE_DB = 0.5  # smallest prominence reported as a peak (common practice, no source)
 BAND_HZ = (1000.0, 20000.0)  # where peaks are looked for
 Q_MIN_HEIGHT_DB = 3.0  # a peak under this height re 1 kHz gets no Q
+BLEND_DB = 1.0  # peaks within this of the highest share fit's peak aim (common practice, no source)
 
 NO_PEAK = U.NO_PEAK_IN_BAND  # worded for PROMINENCE_DB and BAND_HZ
 Q_LOW = "less than 3 dB above the 1 kHz level, so no -3 dB width around it"
@@ -134,3 +143,22 @@ def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
             text += f", Q {p['q']:.2f}" if p["q"] is not None else f", no Q ({p['q_reason']})"
         parts.append(text)
     return ("peak " if len(parts) == 1 else "peaks ") + "; ".join(parts)
+
+
+def aimed_peak_hz(peaks: list[dict]) -> float | None:
+    """The frequency ``render fit``'s peak aim sees (Hz), or None without a peak.
+
+    peaks : list of dict, highest first (:func:`response_peaks`)
+
+    The highest peak's frequency when every other lies :data:`BLEND_DB` or more
+    below it; otherwise exp(Σ w·ln f / Σ w) over the peaks, w = max(0, 1 −
+    (top − height)/BLEND_DB): continuous as two humps trade places.
+    """
+    if not peaks:
+        return None
+    top = max(p["height_db"] for p in peaks)
+    w = np.array([max(0.0, 1.0 - (top - p["height_db"]) / BLEND_DB) for p in peaks])
+    f = np.array([p["frequency_hz"] for p in peaks])
+    if np.count_nonzero(w) == 1:  # the highest alone: its frequency exactly
+        return float(f[np.argmax(w)])
+    return float(np.exp(np.sum(w * np.log(f)) / np.sum(w)))

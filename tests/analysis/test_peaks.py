@@ -188,3 +188,28 @@ def test_check_prints_and_writes_the_listed_peak_as_the_resonance():
     fig = json.loads(res.stdout)["designs"][0]["figures"]
     (p,) = fig["peaks"]
     assert (fig["peak_hz"], fig["peak_db"], fig["q"]) == (p["frequency_hz"], p["height_db"], p["q"])
+
+
+def test_the_fit_aim_moves_continuously_as_two_humps_trade_places():
+    """The same two resonances (4.7 and 5.3 kHz, Q 12, second-order band-passes computed with scipy.signal.freqs)
+    with the second's gain swept ±4 dB in 0.1 dB steps: the highest peak jumps from one to the other (about
+    650 Hz), the aimed frequency (render.analysis.peaks.aimed_peak_hz) moves in steps of at most about 33 Hz
+    (measured), and equals the highest peak wherever the other is 1 dB or more below."""
+    from render.analysis.peaks import BLEND_DB, aimed_peak_hz
+
+    tops, aimed, gaps = [], [], []
+    for g_db in np.arange(-4.0, 4.01, 0.1):
+        b1, a1 = bandpass(4700.0, 12.0)
+        b2, a2 = bandpass(5300.0, 12.0, gain=10 ** (g_db / 20))
+        h = db(freqs(b1, a1, worN=W)[1] + freqs(b2, a2, worN=W)[1])
+        peaks, peak_hz, _ = response_peaks(h, F, level_1k_db=float(np.interp(0.0, np.log(F / 1000.0), h)))
+        assert len(peaks) == 2
+        tops.append(peak_hz)
+        aimed.append(aimed_peak_hz(peaks))
+        gaps.append(abs(peaks[0]["height_db"] - peaks[1]["height_db"]))
+    tops, aimed, gaps = np.array(tops), np.array(aimed), np.array(gaps)
+    assert np.max(np.abs(np.diff(tops))) > 400  # the highest peak jumps (about 600 Hz)
+    assert np.max(np.abs(np.diff(aimed))) < 60  # under a tenth of the jump per 0.1 dB
+    alone = gaps >= BLEND_DB
+    assert alone.any() and np.array_equal(aimed[alone], tops[alone])
+    assert aimed_peak_hz([]) is None
