@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import replace
 from pathlib import Path
 
@@ -115,3 +116,25 @@ def test_the_readmes_bend_table_is_what_the_synthesis_gives():
         cells = [x.strip() for x in row.strip().strip("|").split("|")]
         angle, tilt = motions[cells[0]]
         assert cells[1:] == [_db_cell(_bend_level_db(d, angle=angle, tilt=tilt)) for d in designs], cells[0]
+
+
+def test_the_readmes_hum_with_the_steel_table():
+    # README, "Hum with the steel": each coil's turns-area in air (the winding's, render.magnetics.coil) and with
+    # the steel (the solve's J₁ moment per ampere added, by reciprocity: Jackson, Classical Electrodynamics, 3rd
+    # ed., §5.17), the hum of one coil at 1 µT, 50 Hz at the amp input (linear in the turns-area), and the bar's
+    # share along x. The random-source columns come from `render hum --positions 2000` and are not checked here.
+    import render
+    from render.design.construction import steel_responses
+
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    rows = {r.split("|")[1].strip(): [c.strip() for c in r.strip().strip("|").split("|")] for r in text[text.index("| design | air | with the steel |") :].split("\n\n")[0].splitlines()[2:]}
+    shares = {}
+    for name in ("slipway-steel-blades", "slipway-steel-poles", "slipway-magnet-blades"):
+        d = load_design(ROOT / "models" / f"{name}.toml")
+        air, steel = d.coil_a.geometry.turns_area, d.coil_a.turns_area
+        hum = render.hum(d).harmonics[0].coil_a_v
+        ours = [f"{air:.3f} m²", f"{steel:.3f} m² (+{100 * (steel / air - 1):.2g} %)", f"{hum * air / steel * 1e6:.0f} → {hum * 1e6:.0f} µV"]
+        assert rows[name][1:4] == ours, name
+        shares[name] = steel_responses(d)[0].turns_area[0]
+    m = re.search(r"±([\d.]+) m² \(blades\) and ±([\d.]+) m² \(screws\)", " ".join(text.split()))
+    assert m and m.groups() == (f"{abs(shares['slipway-steel-blades']):.2g}", f"{abs(shares['slipway-steel-poles']):.2g}")
