@@ -177,6 +177,46 @@ def test_true_levels_play_every_clip_at_one_gain_and_show_the_difference(chromiu
     assert errors == []
 
 
+def test_clips_above_the_ceiling_are_lowered_together(chromium, clips_run, tmp_path):
+    # A run whose full scale is 20 dB under the four-design run's (--volts-full-scale): their true peaks (ITU-R BS.1770-4
+    # Annex 2) sit near +10 dBTP, so the page must lower every clip by one gain until the highest is at -1 dBTP,
+    # in true levels and matched alike
+    from click.testing import CliRunner
+
+    from render.analysis.loudness import true_peak_dbtp
+    from render.cli import main
+
+    _, records, _ = clips_run
+    hot = [MODELS[0], MODELS[2]]
+    vfs = records[MODELS[0]]["volts_full_scale"] / 10
+    out = tmp_path / "hot"
+    args = ["clips", *(str(ROOT / "models" / f"{m}.toml") for m in hot), "--dry", str(PHRASE), "--seconds", str(SECONDS), "--no-plots", "--volts-full-scale", repr(vfs), "--out", str(out)]
+    res = CliRunner().invoke(main, args, catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    volts = {m: sf.read(out / f"{m}.wav", dtype="float64")[0] * vfs for m in hot}
+    vfs_db = 20 * math.log10(vfs)
+    top = max(true_peak_dbtp(v) for v in volts.values()) - vfs_db
+    assert top > 5.0  # well above the ceiling
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    page.click("#matched")  # true levels: one gain, lowered by the loudest true peak's excess
+    assert float(page.get_attribute("body", "data-lowered")) == pytest.approx(top + 1.0, abs=0.1)
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}, {"at": 0.6, "key": "2"}], 1.1)
+    lag0, g0 = locate(y, volts[hot[0]], int(0.1 * fs), int(0.5 * fs), range(0, int(0.2 * fs)))
+    _, g1 = locate(y, volts[hot[1]], int(0.7 * fs), int(1.05 * fs), range(lag0 - 5, lag0 + 6))
+    for m, g in zip(hot, (g0, g1), strict=True):
+        assert 20 * math.log10(g) == pytest.approx(-vfs_db - (top + 1.0), abs=0.1)
+        assert true_peak_dbtp(volts[m]) + 20 * math.log10(g) <= -1.0 + 0.1
+    # matched (a fresh page: its default): the quieter clip's loudness for both, lowered as far as the ceiling needs
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}, {"at": 0.6, "key": "2"}], 1.1)
+    lag0, g0 = locate(y, volts[hot[0]], int(0.1 * fs), int(0.5 * fs), range(0, int(0.2 * fs)))
+    _, g1 = locate(y, volts[hot[1]], int(0.7 * fs), int(1.05 * fs), range(lag0 - 5, lag0 + 6))
+    played = [true_peak_dbtp(volts[m]) + 20 * math.log10(g) for m, g in zip(hot, (g0, g1), strict=True)]
+    assert max(played) == pytest.approx(-1.0, abs=0.1)  # lowered: the highest matched true peak sits at the ceiling
+    assert float(page.get_attribute("body", "data-lowered")) > 0
+    assert errors == []
+
+
 def test_a_dragged_stretch_repeats_at_the_same_playhead(chromium, clips_run):
     out, records, volts = clips_run
     page, errors = open_page(chromium, (out / "index.html").as_uri())
