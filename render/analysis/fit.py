@@ -317,7 +317,7 @@ def load_fit(path, *, start_override=None) -> FitSpec:
 
 def apply(design, frees, values):
     """``design`` with each free part set to its value (unvalidated)."""
-    tables = {}
+    tables: dict[str, dict[str, float]] = {}
     for fr, v in zip(frees, values):
         tables.setdefault(fr.table, {})[fr.key] = float(v)
     return replace(design, **{t: replace(getattr(design, t), **kv) for t, kv in tables.items()})
@@ -358,9 +358,9 @@ class Evaluator:
                 if aim.figure == PHRASE_AIM:
                     out[rows, j] = self.phrase_margins(valid)
                     continue
-                values = [figure_of(with_aimed_peak(f), aim.figure) for f in figs]
-                col = [v if v is not None else UNDEFINED.get(aim.figure, np.nan) for v in values]
-                out[rows, j] = col
+                scored = [figure_of(with_aimed_peak(f), aim.figure) for f in figs]
+                col = [v if v is not None else UNDEFINED.get(aim.figure, np.nan) for v in scored]
+                out[rows, j] = np.asarray(col, dtype=float)
         self.seen_fig.append(out)
         return out
 

@@ -32,6 +32,7 @@ import re
 import socketserver
 import threading
 from http.server import BaseHTTPRequestHandler, ThreadingHTTPServer
+from typing import cast
 from urllib.parse import urlsplit
 
 from ..errors import InputError
@@ -144,7 +145,7 @@ class _SessionRequestHandler(BaseHTTPRequestHandler):
         path = self._route()
         if path is None:
             return
-        srv: ListeningServer = self.server
+        srv = cast(ListeningServer, self.server)
         if path != "/api/answer":
             return self._error(404 if path not in srv.get_routes else 405, "not found" if path not in srv.get_routes else "method not allowed")
         origin = self.headers.get("Origin")
@@ -152,10 +153,10 @@ class _SessionRequestHandler(BaseHTTPRequestHandler):
             return self._error(403, "Origin: answers are accepted only from this session's own page")
         if self.headers.get("Transfer-Encoding"):
             return self._error(411, "Transfer-Encoding is not accepted; send a Content-Length")
-        length = self.headers.get("Content-Length")
-        if length is None or not (length.isascii() and length.isdigit()):
+        given = self.headers.get("Content-Length")
+        if given is None or not (given.isascii() and given.isdigit()):
             return self._error(411, "Content-Length: required, a whole number of bytes")
-        length = int(length)
+        length = int(given)
         if length > MAX_BODY:
             return self._error(413, f"Content-Length={length}: at most {MAX_BODY} bytes")
         ctype = self.headers.get("Content-Type", "").split(";")[0].strip().lower()

@@ -11,10 +11,15 @@ from __future__ import annotations
 import contextlib
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..errors import InputError
+
+if TYPE_CHECKING:
+    from ..analysis.fit import FitSpec
+    from ..design import Design
 
 
 @dataclass(frozen=True)
@@ -36,8 +41,8 @@ class FitRun:
     folder : Path
     """
 
-    spec: object
-    start: object
+    spec: FitSpec
+    start: Design
     start_file: Path
     start_figures: dict
     start_values: np.ndarray

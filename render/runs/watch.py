@@ -25,10 +25,13 @@ import time
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ..clip import RenderSettings
 from ..errors import InputError
+
+if TYPE_CHECKING:
+    from ..chain.stream import Resampler
 
 WATCH_STEP_MS = 30  # a burst of file events is handed over once quiet this long (ms)
 WATCH_DEBOUNCE_MS = 500  # ... or after this long at most (ms)
@@ -122,7 +125,7 @@ class WatchRun:
         self.board = Board()
         self._notes = NoteCache()
         self._recorded: dict[tuple, object] = {}
-        self._resampler = None
+        self._resampler: Resampler | None = None
         self._rig: Any = None  # the last good RigFile (None: each design's own rig)
         self._phrase: Any = None  # the last good Phrase (None: a recorded dry signal)
         self._input_sha: dict[Path, str] = {}
