@@ -46,6 +46,8 @@ _HOME = {
     "figures": "render.analysis.figures",
     "hum": "render.analysis.hum",
     "HumReport": "render.analysis.hum",
+    "hum_tolerances": "render.analysis.hum",
+    "HumTolerances": "render.analysis.hum",
     "hum_map": "render.analysis.hum_room",
     "hum_positions": "render.analysis.hum_room",
     "RejectionMap": "render.magnetics.rejection",
@@ -73,8 +75,9 @@ _HOME = {
     "BlindSettings": "render.runs.blind",
     "BlindSession": "render.runs.blind",
     "score_blind_session": "render.runs.score",
+    "SessionScore": "render.runs.score",
 }
-_ALIASES = {"render_clips": "run_clips"}
+_ALIASES = {"render_clips": "run_clips", "hum_tolerances": "monte_carlo", "HumTolerances": "MonteCarlo"}
 
 __all__ = sorted(_HOME) + ["__version__"]
 

@@ -23,3 +23,27 @@ def test_the_python_example_prints_what_the_readme_says():
     out = subprocess.run([sys.executable, "-c", code], cwd=ROOT, capture_output=True, text=True, timeout=300, env={**os.environ, "MPLBACKEND": "Agg"})
     assert out.returncode == 0, out.stderr
     assert out.stdout == expected
+
+
+def test_the_hum_block_gives_the_figures_its_comments_state():
+    # the README's "From Python" block under hum sources: run as written, then each figure in its comments
+    # (rounded as printed there) against the objects it made
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    m = re.search(r"<!-- python-hum -->\n```python\n(.*?)```\n<!-- /python-hum -->", text, re.S)
+    assert m, "README.md: the python-hum block"
+    code = m.group(1)
+    scope: dict = {}
+    cwd = os.getcwd()
+    os.chdir(ROOT)
+    try:
+        exec(compile(code, "README.md", "exec"), scope)
+    finally:
+        os.chdir(cwd)
+    said = re.findall(r"# ([\d.]+) \(dB at 50 Hz\)|(\w)\.summary\(\)\[0\]: median ([\d.]+) dB, 5th percentile ([\d.]+) dB", code)
+    assert said[0][0] == f"{scope['h'].harmonics[0].rejection_db:.1f}"
+    summaries = [(name, med, p5) for _, name, med, p5 in said[1:]]
+    assert [n for n, _, _ in summaries] == ["p", "t"]
+    for name, med, p5 in summaries:
+        row = scope[name].summary()[0]
+        assert (med, p5) == (f"{row['median_db']:.1f}", f"{row['p5_db']:.1f}"), name
+    assert scope["placed"].coil_a.geometry == scope["d"].coil_a.geometry
