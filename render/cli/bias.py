@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option, warn
+from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, pluck_strength, rig_option, warn
 
 
 def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
@@ -23,37 +23,6 @@ def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
         except (ValueError, QuantityError):
             raise InputError(f"{name}={text!r}: cannot read {part!r}; give a comma-separated list like {like}") from None
     return out
-
-
-def pluck_strength(text) -> float | None:
-    """``--strength`` in metres: one length with its unit (``2mm``).
-
-    A bare number is refused: the option is written in mm everywhere, so ``2``
-    most likely means 2 mm, while SI would read it as 2 m; the refusal names the
-    likely fix.
-    """
-    from ..errors import InputError
-    from ..units import LENGTH, QuantityError, parse_quantity
-
-    if text is None:
-        return None
-    shown = str(text).strip()
-    try:
-        bare = float(shown)
-    except ValueError:
-        bare = None
-    if bare is not None:
-        if 0 < bare <= 0.05:  # a length in metres, as SI reads it
-            fix = f"did you mean {bare * 1e3:g}mm? ({shown} read as metres)"
-        elif 0 < bare <= 50:  # mm typed without the unit: the likely habit
-            fix = f"did you mean {shown}mm? (bare, it would be {bare:g} m = {bare * 1e3:g} mm)"
-        else:
-            fix = "give it like 2mm (above 0, at most 50 mm)"
-        raise InputError(f"--strength={shown}: a pluck strength needs its unit; {fix}")
-    try:
-        return parse_quantity(shown, LENGTH)
-    except QuantityError:
-        raise InputError(f"--strength={shown!r}: cannot read it as a length; give the strongest pluck's displacement with its unit, like 2mm") from None
 
 
 def print_sweep(sw) -> None:

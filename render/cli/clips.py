@@ -103,7 +103,7 @@ def clips_command(
 def read_strength(text, dry) -> float | None:
     """``--strength`` in metres, checked against the dry file (a phrase only) as ``render bias`` checks it; warnings printed."""
     from ..runs.bias import check_strength
-    from .bias import pluck_strength
+    from .options import pluck_strength
 
     if text is None:
         return None

@@ -110,3 +110,34 @@ def emit_json(path: str | None, payload: object, *, overwrite: bool) -> None:
 def warn(text: str) -> None:
     """One warning line on standard error."""
     click.echo(f"warning: {text}", err=True)
+
+
+def pluck_strength(text) -> float | None:
+    """``--strength`` in metres: one length with its unit (``2mm``).
+
+    A bare number is refused: the option is written in mm everywhere, so ``2``
+    most likely means 2 mm, while SI would read it as 2 m; the refusal names the
+    likely fix.
+    """
+    from ..errors import InputError
+    from ..units import LENGTH, QuantityError, parse_quantity
+
+    if text is None:
+        return None
+    shown = str(text).strip()
+    try:
+        bare = float(shown)
+    except ValueError:
+        bare = None
+    if bare is not None:
+        if 0 < bare <= 0.05:  # a length in metres, as SI reads it
+            fix = f"did you mean {bare * 1e3:g}mm? ({shown} read as metres)"
+        elif 0 < bare <= 50:  # mm typed without the unit: the likely habit
+            fix = f"did you mean {shown}mm? (bare, it would be {bare:g} m = {bare * 1e3:g} mm)"
+        else:
+            fix = "give it like 2mm (above 0, at most 50 mm)"
+        raise InputError(f"--strength={shown}: a pluck strength needs its unit; {fix}")
+    try:
+        return parse_quantity(shown, LENGTH)
+    except QuantityError:
+        raise InputError(f"--strength={shown!r}: cannot read it as a length; give the strongest pluck's displacement with its unit, like 2mm") from None
