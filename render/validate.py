@@ -157,8 +157,12 @@ def _other_prefix(text: str, spec: Field, table: str, key: str) -> str | None:
     return None if best is None else best[1]
 
 
-def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> Any:
-    """Read and range-check one value; raise InputError with a one-line message."""
+def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str, part: tuple[str, str] | None = None) -> Any:
+    """Read and range-check one value; raise InputError with a one-line message.
+
+    ``part`` (table, key) names the design part whose usual range the prefix hint uses, when ``table`` and
+    ``key`` do not (a command-line option).
+    """
     loc = where(source, table, key)
     if spec.kind == "polarity":
         if raw in (1, -1) and not isinstance(raw, bool):
@@ -194,7 +198,7 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str) -> A
         fmt = (lambda x: U.format_si(x, unit)) if unit else (lambda x: f"{x:g}")
         lo = fmt(spec.lo) if spec.lo else "0"
         rng = f"{'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {fmt(spec.hi)}"
-        raise InputError(f"{loc}={U.shown(raw)} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(key, raw, value, spec, table)}")
+        raise InputError(f"{loc}={U.shown(raw)} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(part[1] if part else key, raw, value, spec, part[0] if part else table)}")
     return value
 
 

@@ -184,7 +184,7 @@ def read_capacitance(text: str) -> float:
     from ..design.schema import COIL
     from ..validate import read_value
 
-    return float(read_value(text, COIL["capacitance"], source="--capacitance", table="", key=""))
+    return float(read_value(text, COIL["capacitance"], source="--capacitance", table="", key="", part=("coil_a", "capacitance")))
 
 
 def fit_file(path, *, capacitance: float | None = None) -> FitResult:

@@ -61,6 +61,7 @@ def test_coil_fit_holds_a_given_capacitance(tmp_path):
     assert 'capacitance = "95pF"' in table and "# capacitance held at the value given" in table
     res = invoke("coil", "fit", path, "--capacitance", "95")
     assert res.exit_code == 1 and res.output.count("\n") == 1 and "--capacitance" in res.output
+    assert 'write e.g. "95p"' in res.output  # a coil's usual range (render.usual) sets the hint's prefix
 
 
 def _design(tmp_path, csv_name: str, *, held_a: bool = False) -> Path:
