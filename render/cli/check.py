@@ -59,6 +59,8 @@ def print_winding(name, c):
         f"  {name} winding    {w.turns:.0f} turns of {wire}, {w.wire_length:.1f} m of wire at {w.temperature:g} °C:"
         f" {format_si(w.inductance, 'H')}, {format_si(w.resistance, 'Ω')} (estimates; replace with measured values)"
     )
+    if c.geometry is None:  # Wheeler's round coil of the same mean turn: a flat bobbin reads 2-3 times high
+        click.echo(f"{' ' * 20}L as a round coil of this mean turn; a flat bobbin's can be 2–3 times lower: give [{name}.geometry] for its shape")
 
 
 def print_geometry(name, c):
