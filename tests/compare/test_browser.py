@@ -243,6 +243,28 @@ def test_a_dragged_stretch_repeats_at_the_same_playhead(chromium, clips_run):
     assert errors == []
 
 
+def test_a_rows_spectrogram_takes_a_drag_and_a_click(chromium, clips_run):
+    # each design's spectrogram lane works as the heard clip's timeline: a drag sets the repeated stretch
+    # (the design heard stays), a click picks that design at that moment
+    out, _, _ = clips_run
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    lane = page.locator('.row[data-index="2"] .lane').bounding_box()
+    y_mid = lane["y"] + lane["height"] / 2
+    page.mouse.move(lane["x"] + 0.20 * lane["width"], y_mid)
+    page.mouse.down()
+    page.mouse.move(lane["x"] + 0.60 * lane["width"], y_mid, steps=8)
+    page.mouse.up()
+    span = page.get_attribute("body", "data-span")
+    a_s, b_s = (float(v) for v in span.split("-"))
+    px = SECONDS / lane["width"]
+    assert abs(a_s - 0.20 * SECONDS) < 2 * px and abs(b_s - 0.60 * SECONDS) < 2 * px
+    assert page.get_attribute("body", "data-picked") == "0"  # a drag does not switch the design
+    page.mouse.click(lane["x"] + 0.40 * lane["width"], y_mid)  # inside the stretch: it stays
+    assert page.get_attribute("body", "data-picked") == "2"
+    assert page.get_attribute("body", "data-span") == span
+    assert errors == []
+
+
 def test_a_new_clip_joins_at_the_playhead(chromium, clips_run):
     """What a new version does in render watch: the clip joins as a new voice mid-play and is heard at once, in step."""
     out, records, volts = clips_run
