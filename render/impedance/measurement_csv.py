@@ -49,11 +49,26 @@ SEPARATORS = {"\t": "tab", ";": "';'", ",": "','"}  # in the order they are look
 
 
 def separator_of(header_line: str, source: str) -> str:
-    """The header's separator: tab, ';' or ',' (the first found in that order); InputError when it has none of them."""
+    """The header's separator: tab, ';' or ','; InputError when it has none of them.
+
+    The separator is the one that splits the header into the most cells none
+    of which holds another separator (whitespace around a cell is ignored, so
+    a comma file aligned with tabs, or with a trailing tab, stays a comma
+    file); ties go to tab, then ';'.
+    """
+    best, most = None, 1
     for sep in SEPARATORS:
-        if sep in header_line:
-            return sep
-    raise InputError(f"{source}: the header {header_line.strip()!r} is not split by ',', ';' or tab; export the columns separated by one of those (e.g. {_HEADER_EXAMPLE})")
+        if sep not in header_line:
+            continue
+        cells = [c.strip() for c in header_line.split(sep)]
+        clean = [c for c in cells if c]
+        if any(other in c for c in clean for other in SEPARATORS if other != sep):
+            continue
+        if len(clean) > most:
+            best, most = sep, len(clean)
+    if best is not None:
+        return best
+    raise InputError(f"{source}: the header {header_line.strip()!r} is not split cleanly by one of ',', ';' or tab; export the columns separated by one of those (e.g. {_HEADER_EXAMPLE})")
 
 
 @dataclass(frozen=True)

@@ -116,13 +116,23 @@ def test_meter_exports_with_semicolons_or_tabs_read_the_same(sep, decimal):
     np.testing.assert_array_equal(m.phase_deg, [r[2] for r in ROWS])
 
 
+@pytest.mark.parametrize("line_end, pad", [("\t", ""), ("", "\t"), ("", " ")], ids=["trailing-tab", "tab-aligned", "space-aligned"])
+def test_a_comma_file_with_tabs_for_alignment_stays_a_comma_file(line_end, pad):
+    # whitespace around a cell is layout, not a separator: the same numbers read back
+    text = f",{pad}".join(["frequency_hz", "z_ohm", "phase_deg"]) + line_end + "\n"
+    text += "".join(f",{pad}".join(f"{v:g}" for v in row) + line_end + "\n" for row in ROWS)
+    m = parse_measurement(text, source="meter.csv")
+    np.testing.assert_array_equal(m.frequency_hz, [r[0] for r in ROWS])
+    np.testing.assert_array_equal(m.phase_deg, [r[2] for r in ROWS])
+
+
 @pytest.mark.parametrize("sep", ["|", " "])
 def test_other_separators_are_refused_naming_the_separator(sep):
     text = sep.join(["frequency_hz", "z_ohm", "phase_deg"]) + "\n" + "".join(sep.join(f"{v:g}" for v in row) + "\n" for row in ROWS)
     with pytest.raises(InputError) as e:
         parse_measurement(text, source="meter.csv")
     msg = str(e.value)
-    assert "\n" not in msg and msg.startswith("meter.csv: the header") and "is not split by ',', ';' or tab" in msg
+    assert "\n" not in msg and msg.startswith("meter.csv: the header") and "is not split cleanly by one of ',', ';' or tab" in msg
 
 
 # --- wording --------------------------------------------------------------------------
