@@ -108,9 +108,10 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
     i1k = int(np.argmin(np.abs(np.log(f / 1000.0))))
     lvl = np.array([np.interp(0.0, np.log(f[i1k - 1 : i1k + 2] / 1000.0), r[i1k - 1 : i1k + 2]) for r in h_db])
     # every peak above the stated prominence; the resonance is the highest of them, with its Q
-    from .peaks import response_peaks
+    from .peaks import aimed_peak_hz, response_peaks
 
     found = [response_peaks(h_db[r], f, level_1k_db=lvl[r]) for r in range(n)]
+    aimed = np.array([np.nan if (a := aimed_peak_hz(h_db[r], f, peaks=found[r][0], level_1k_db=lvl[r])) is None else a for r in range(n)])
     peak_hz = np.array([x[1] for x in found])
     peak_db = np.array([x[2] for x in found])
     q = np.array([np.nan if not x[0] or x[0][0]["q"] is None else x[0][0]["q"] for x in found])
@@ -142,6 +143,7 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
         "bass_corner_hz": bass,
         "treble_corner_hz": treble,
         "peaks": [x[0] for x in found],
+        "aimed_peak_hz": aimed,
     }
 
 
@@ -232,6 +234,8 @@ def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resona
         else:
             U.put(row, k, fig[k][i], {"bass_corner_hz": U.NO_BASS_CORNER, "treble_corner_hz": U.NO_TREBLE_CORNER}.get(k, silent_reason))
     row["peaks"] = [] if silent else fig["peaks"][i]
+    if resonance:  # the frequency a peak aim of render fit scores (render.analysis.peaks.aimed_peak_hz)
+        U.put(row, "aimed_peak_hz", np.nan if silent else fig["aimed_peak_hz"][i], silent_reason if silent else NO_PEAK)
     if resonance:
         for new, old in (("resonance_hz", "peak_hz"), ("resonance_db", "peak_db")):
             U.put(row, new, row[old], U.reason(row, old))

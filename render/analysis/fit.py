@@ -63,15 +63,6 @@ AIMED_PEAK = "aimed_peak_hz"
 READS = {"peak_hz": AIMED_PEAK, "resonance_hz": AIMED_PEAK}
 
 
-def with_aimed_peak(fig: dict) -> dict:
-    """``fig`` (one design's figures) with ``aimed_peak_hz``, the frequency a peak aim scores."""
-    from .peaks import aimed_peak_hz
-
-    aimed = aimed_peak_hz(fig.get("peaks") or [])
-    reason = {} if aimed is not None or "peak_hz_reason" not in fig else {AIMED_PEAK + "_reason": fig["peak_hz_reason"]}
-    return {**fig, AIMED_PEAK: aimed, **reason}
-
-
 def figure_of(fig: dict, name: str):
     """The value aim ``name`` scores from one design's figures (None when undefined)."""
     return fig.get(READS.get(name, name)) if READS.get(name) in fig else fig.get(name)
@@ -358,7 +349,7 @@ class Evaluator:
                 if aim.figure == PHRASE_AIM:
                     out[rows, j] = self.phrase_margins(valid)
                     continue
-                scored = [figure_of(with_aimed_peak(f), aim.figure) for f in figs]
+                scored = [figure_of(f, aim.figure) for f in figs]
                 col = [v if v is not None else UNDEFINED.get(aim.figure, np.nan) for v in scored]
                 out[rows, j] = np.asarray(col, dtype=float)
         self.seen_fig.append(out)
@@ -498,7 +489,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
         v = snap(spec, v)  # exact series values, not their rounded logs
         from .figures import figures
 
-        fig = with_aimed_peak(figures([apply(start, spec.free, v)])[0])
+        fig = figures([apply(start, spec.free, v)])[0]
         if spec.needs_phrase:
             fig[PHRASE_AIM] = float(ev.phrase_margins([apply(start, spec.free, v)])[0])
         n, r = _tiebreak(v, start_vals)

@@ -28,12 +28,11 @@ places, the resonance moves from one to the other; the list shows both.
 The threshold is our choice (common practice, no source).
 
 ``render fit``'s peak aim reads :func:`aimed_peak_hz` instead, which moves
-continuously as humps trade places: the highest peak's frequency alone when
-every other listed peak lies :data:`BLEND_DB` or more below it, otherwise the
-geometric mean of the peaks within :data:`BLEND_DB`, each weighted by
-1 − (top − height)/BLEND_DB. Heights vary continuously with the parts, and
-so do these weights, so a small part change moves the aimed frequency a
-little where the highest peak's would jump.
+continuously as humps trade places or rise out of one another: a weighted
+geometric mean of every local maximum's frequency, the weights falling to
+zero 1 dB below the highest listed peak and for maxima with less than 0.5 dB
+of depth (see the function). Where one peak stands 1 dB clear, it is that
+peak's frequency exactly.
 """
 
 from __future__ import annotations
@@ -145,20 +144,52 @@ def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
     return ("peak " if len(parts) == 1 else "peaks ") + "; ".join(parts)
 
 
-def aimed_peak_hz(peaks: list[dict]) -> float | None:
-    """The frequency ``render fit``'s peak aim sees (Hz), or None without a peak.
+def aimed_peak_hz(h_db: np.ndarray, f: np.ndarray, *, peaks: list[dict], level_1k_db: float) -> float | None:
+    """The frequency ``render fit``'s peak aim sees (Hz), or None without a listed peak.
 
-    peaks : list of dict, highest first (:func:`response_peaks`)
+    Parameters
+    ----------
+    h_db : np.ndarray [shape=(F,)], dB, the level on the log-spaced grid ``f``
+    f : np.ndarray [shape=(F,)], Hz
+    peaks : list of dict, the listed peaks (:func:`response_peaks`), highest first
+    level_1k_db : float, dB, the level their heights are given against
 
-    The highest peak's frequency when every other lies :data:`BLEND_DB` or more
-    below it; otherwise exp(Σ w·ln f / Σ w) over the peaks, w = max(0, 1 −
-    (top − height)/BLEND_DB): continuous as two humps trade places.
+    Every local maximum from 1 to 20 kHz takes part, listed or not, with the
+    weight w = max(0, 1 − (top − height)/BLEND_DB)·min(1, depth/PROMINENCE_DB):
+    ``top`` the highest listed peak's level, ``depth`` the maximum's height
+    above the higher of the lowest points between it and its neighbouring
+    maxima (the grid's ends where it has none). The aim is exp(Σ w·ln f / Σ w).
+    Heights and depths vary continuously with the parts, and a maximum that
+    appears or vanishes does so with zero depth, so the aim moves continuously,
+    whichever of two humps is the higher; the depth, unlike the prominence,
+    does not depend on which of them that is. Where only one maximum has
+    weight (every other 1 dB or more below), the aim is its frequency exactly.
     """
     if not peaks:
         return None
-    top = max(p["height_db"] for p in peaks)
-    w = np.array([max(0.0, 1.0 - (top - p["height_db"]) / BLEND_DB) for p in peaks])
-    f = np.array([p["frequency_hz"] for p in peaks])
-    if np.count_nonzero(w) == 1:  # the highest alone: its frequency exactly
-        return float(f[np.argmax(w)])
-    return float(np.exp(np.sum(w * np.log(f)) / np.sum(w)))
+    from scipy.signal import find_peaks
+
+    h_db = np.asarray(h_db, float)
+    idx = find_peaks(h_db)[0]
+    if idx.size == 0:
+        return float(peaks[0]["frequency_hz"])
+    top = peaks[0]["height_db"] + level_1k_db
+    bounds = np.concatenate([[0], idx, [h_db.size - 1]])
+    freqs, weights = [], []
+    for n, k in enumerate(idx):
+        fk, lk = _refine(h_db, f, int(k))
+        if not BAND_HZ[0] <= fk <= BAND_HZ[1]:
+            continue
+        left = h_db[bounds[n] : k + 1].min()
+        right = h_db[k : bounds[n + 2] + 1].min()
+        depth = lk - max(left, right)
+        w = max(0.0, 1.0 - max(top - lk, 0.0) / BLEND_DB) * min(1.0, depth / PROMINENCE_DB)
+        if w > 0:
+            freqs.append(fk)
+            weights.append(w)
+    if not weights:
+        return float(peaks[0]["frequency_hz"])
+    if len(weights) == 1:  # one maximum alone: its frequency exactly
+        return float(freqs[0])
+    w = np.array(weights)
+    return float(np.exp(np.sum(w * np.log(freqs)) / np.sum(w)))

@@ -86,7 +86,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
         For a bad fit file, or when no result meets every aim (saying which aims conflict).
     """
     from ..analysis.figures import figures
-    from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit, with_aimed_peak
+    from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit
     from ..design import apply_rig, design_provenance, load_design, load_rig, parse_design
     from ..io.atomic import write_json, write_text
     from ..io.folders import make_folder, run_folder
@@ -104,7 +104,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     if not results or not results[0].meets:
         best = f" (best score {results[0].score:.3g})" if results else ""
         raise InputError(f"{fitfile}: no design met every aim{best}; {conflicts(spec, ev)}")
-    start_fig = with_aimed_peak(figures([start])[0])
+    start_fig = figures([start])[0]
     if spec.needs_phrase:
         start_fig["phrase_headroom_db"] = float(ev.phrase_margins([start])[0])
     with run_folder(out) if marked else contextlib.nullcontext(make_folder(out)):
