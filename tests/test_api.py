@@ -140,6 +140,9 @@ def test_synthesis_bits_do_not_depend_on_the_blas_threads():
         (lambda d: render.render_clip(d, np.zeros((100, 2)), sample_rate=48000), "shape (100, 2)"),
         (lambda d: render.response(d, [-1.0, 100.0]), "each > 0"),
         (lambda d: render.response(d, 0.0), "each > 0"),
+        (lambda d: render.response(d, [np.nan]), "NaN among the frequencies"),
+        (lambda d: render.response(d, []), "one or more frequencies"),
+        (lambda d: render.response(d, np.zeros((0, 3))), "shape (0, 3)"),
     ],
 )
 def test_the_api_refuses_bad_arrays_in_one_line(call, words):

@@ -73,8 +73,12 @@ def response(design: Design, frequency_hz, *, rig: RigFile | None = None) -> Res
         f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
     except (TypeError, ValueError):
         raise InputError(f"frequency_hz={frequency_hz!r}: not numbers; give frequencies in Hz, > 0") from None
-    if f.ndim != 1 or not np.all(np.isfinite(f) & (f > 0)):
-        raise InputError(f"frequency_hz: give a number or a 1-D array of finite frequencies in Hz, each > 0 (got shape {f.shape}, lowest {np.nanmin(f):g} Hz)")
+    if f.ndim != 1 or f.size == 0:
+        raise InputError(f"frequency_hz: shape {f.shape}; give a number or a 1-D array of one or more frequencies in Hz, each > 0")
+    bad = f[~(np.isfinite(f) & (f > 0))]
+    if bad.size:
+        what = "NaN" if np.isnan(bad[0]) else f"{bad[0]:g} Hz"
+        raise InputError(f"frequency_hz: {what} among the frequencies; give finite frequencies in Hz, each > 0")
     resp = responses(from_designs([d]))
     return Response(
         design=d,

@@ -249,9 +249,8 @@ def test_no_listed_peak_has_no_aim():
 def test_on_a_flat_top_the_aim_lies_within_it():
     """ember-dark's response has its listed peak near 2948 Hz and a ripple 0.015 dB lower near 3243 Hz (under
     the prominence cut): the aim lies between the two, where the level is within 0.05 dB of the peak's."""
-    from render.design import load_designs
-
     import render
+    from render.design import load_designs
 
     (d,), _ = load_designs(["models/ember-dark.toml"])
     fig = figures([d])[0]
