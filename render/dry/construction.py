@@ -88,7 +88,7 @@ from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Ph
 # which the EMF carries, is summed in full (our own bound, no source).
 DISPLACEMENT_MAX_HZ = 4000.0
 
-__all__ = ["Pickup", "bend_offset", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
+__all__ = ["Pickup", "bend_offset", "bend_share", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
 assert _BLOCK > 0  # the block sums of modal.py are shared as they are
 
 
@@ -119,6 +119,18 @@ def bend_offset(ratio, *, strain: float, length: float, scale_length: float) -> 
     if rest <= 1e-6:
         return np.zeros_like(r)
     return np.sqrt(2.0 * (r * r - 1.0) * strain * scale_length / (1.0 / length + 1.0 / rest))
+
+
+def bend_share(sense, *, x_offset: float, length: float) -> float:
+    """The share x/L of a bend's sideways push (at the fret) that reaches a coil: x its sensing's centre.
+
+    sense : StringSensing, the string as the coil senses it; x_offset : m, pickup axes to the saddle;
+    length : m, saddle to the fret. The centre is the mean of x weighted by the vertical sensing
+    function (its positive part, sign taken out); 1 beyond the fret.
+    """
+    w = np.clip(_weight(sense), 0.0, None)
+    x_p = float(((sense.x + x_offset) * w).sum() / w.sum())
+    return min(x_p / length, 1.0)
 
 
 def mode_couplings(n: np.ndarray, *, x_saddle: np.ndarray, weight: np.ndarray, length: float) -> np.ndarray:
@@ -422,9 +434,7 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
         ratio = pitch_ratio(t, note=replace(note, vibrato=None))
         d_fret = bend_offset(ratio, strain=strain, length=length, scale_length=inst.scale_length)
         for c, sense in enumerate(coils):
-            w = np.clip(_weight(sense), 0.0, None)
-            x_p = float(((sense.x + x_offset) * w).sum() / w.sum())
-            off = side * d_fret * min(x_p / length, 1.0)
+            off = side * d_fret * bend_share(sense, x_offset=x_offset, length=length)
             if math.isfinite(hold):  # the finger lets go as the note is damped
                 off = off * np.exp(-sigma_rel * np.maximum(t - hold, 0.0))
             slope = np.gradient(off, 1.0 / fs)

@@ -79,8 +79,8 @@ def _bend_level_db(design, *, angle: float = 30.0, tilt: float = 15.0) -> np.nda
 
 def test_a_bend_dips_over_screws_and_not_over_blades():
     # A fact of the trade (common practice, no source): a bent string pushed off its pole screw
-    # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves 1.9 and
-    # 2.9 mm sideways at these coils (render.dry.construction: the bend's geometry), off its screws.
+    # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves 2.1 and
+    # 2.7 mm sideways at these coils (render.dry.construction: the bend's geometry), off its screws.
     # Measured here, with the phrase's defaults: −4.4 and −5.2 dB over the screws (coil_a, coil_b),
     # within 0.1 dB over either blade; vertical motion alone: −1.1 and −1.8 dB against +0.5 dB.
     designs = {d: load_design(ROOT / "models" / f"{d}.toml") for d in DEMOS}
@@ -138,3 +138,41 @@ def test_the_readmes_hum_with_the_steel_table():
         shares[name] = steel_responses(d)[0].turns_area[0]
     m = re.search(r"±([\d.]+) m² \(blades\) and ±([\d.]+) m² \(screws\)", " ".join(text.split()))
     assert m and m.groups() == (f"{abs(shares['slipway-steel-blades']):.2g}", f"{abs(shares['slipway-steel-poles']):.2g}")
+
+
+def test_the_readmes_bend_figures():
+    # the figures in the prose around the bend table, each from the model: the push at each coil (the bend's
+    # geometry, render.dry.construction.bend_offset and bend_share: Mersenne's and Hooke's laws), the vertical
+    # and sideways sensitivities there (the flux table's derivatives, a scipy bicubic spline), the vertical-only
+    # levels against the steel blades, and the bent note's own rise, 10·log10 of the pitch ratio (the adiabatic
+    # invariant E/ω of a slowly retuned oscillator)
+    from scipy.interpolate import RectBivariateSpline
+
+    from render.dry.construction import bend_offset, bend_share, string_strain
+
+    text = " ".join((ROOT / "README.md").read_text(encoding="utf-8").split())
+    bends = text[text.index("**Bends.** A whole-tone bend at the 14th fret") : text.index("depending on the pluck and the instrument's bridge")]
+    poles = load_design(ROOT / "models" / "slipway-steel-poles.toml")
+    pk = pickup_for(poles)
+    ph = parse_phrase({"instrument": {"scale_length": "648mm"}, "note": [{"time": 0.0, "string": 2, "fret": 14}]}, source="<bend>")
+    inst, note = ph.instrument, ph.notes[0]
+    j = len(pk.sensing.coil_a) - 2  # string 2, lowest string first
+    strain = string_strain(core=pk.cores[j], outer=pk.outers[j], frequency=inst.open_pitches[j], scale_length=inst.scale_length)
+    push = float(bend_offset(2 ** (2 / 12), strain=strain, length=note.length, scale_length=inst.scale_length))
+    senses = (pk.sensing.coil_a[j], pk.sensing.coil_b[j])
+    offsets = [push * bend_share(s, x_offset=pk.sensing.x_offset, length=note.length) for s in senses]
+    assert f"{offsets[0] * 1e3:.1f} mm at coil_a and {offsets[1] * 1e3:.1f} mm at coil_b" in bends
+    vertical, sideways = [], []
+    for s, off in zip(senses, offsets, strict=True):
+        spline = RectBivariateSpline(s.dy, s.dz, s.flux)
+        at_rest = spline.ev(0.0, 0.0, dy=1)
+        vertical.append(20 * np.log10(abs(spline.ev(-off, 0.0, dy=1) / at_rest)))
+        sideways.append(spline.ev(-off, 0.0, dx=1) / at_rest)
+    assert f"{-vertical[0]:.1f} dB (coil_a) and {-vertical[1]:.1f} dB (coil_b) lower" in bends
+    assert all(f"{abs(x) * 100:.0f} % of its vertical one, with the opposite sign" in bends for x in sideways)
+    assert all(x < 0 for x in sideways)
+    screws = _bend_level_db(poles, angle=90.0, tilt=0.0)
+    blades = _bend_level_db(load_design(ROOT / "models" / "slipway-steel-blades.toml"), angle=90.0, tilt=0.0)
+    lower = blades - screws
+    assert f"the screws read {lower[0]:.1f} and {lower[1]:.1f} dB lower too" in bends
+    assert f"The blades' +{10 * np.log10(2 ** (2 / 12)):.1f} dB is the bent note itself" in bends
