@@ -48,6 +48,9 @@ def print_turns(rows, percent):
         )
 
 
+FLAT_BOBBIN_RATIO = "2.3"  # Wheeler's round coil over the Neumann sum: 5000 turns, 68 × 13 mm outline, 58 × 3 mm window, 9 mm high
+
+
 def print_winding(name, c):
     from ..units import format_si
 
@@ -60,7 +63,10 @@ def print_winding(name, c):
         f" {format_si(w.inductance, 'H')}, {format_si(w.resistance, 'Ω')} (estimates; replace with measured values)"
     )
     if c.geometry is None:  # Wheeler's round coil of the same mean turn: a flat bobbin reads 2-3 times high
-        click.echo(f"{' ' * 20}L as a round coil of this mean turn; a flat bobbin's can be 2–3 times lower: give [{name}.geometry] for its shape")
+        # the ratio is the flat bobbin's of the README ("A flat bobbin"), which tests/impedance/test_coil_model.py recomputes
+        click.echo(
+            f"{' ' * 20}L as a round coil of this mean turn; a flat bobbin's is lower ({FLAT_BOBBIN_RATIO} times for 68 × 13 mm around a 58 × 3 mm window): give [{name}.geometry] for its shape"
+        )
 
 
 def print_geometry(name, c):

@@ -52,3 +52,21 @@ def test_the_cached_ladder_fit_is_the_fit_itself(monkeypatch, tmp_path):
     # another impedance is another entry
     derive_coil(W, bare_diameter=D, outer_diameter=1.12 * D, fit=ladder_fit_cached)
     assert len(list((tmp_path / "coil-ladder").glob("*.npz"))) == 2
+
+
+def test_a_flat_bobbin_against_wheelers_round_coil():
+    # Wheeler's multilayer formula (Proc. IRE 16(10), 1928) for a round coil of the same mean turn, as the
+    # [coil_x.winding] estimate uses it, against the Neumann sum over the rectangular winding: the README's
+    # "A flat bobbin" figures and the ratio render check prints for a coil given only by its winding
+    import math
+    from pathlib import Path
+
+    from render.circuit.winding import wheeler_inductance
+    from render.cli.check import FLAT_BOBBIN_RATIO
+
+    flat = winding_inductance(W)
+    depth = (W.width - W.window_width) / 2
+    round_coil = wheeler_inductance(turns=W.turns, mean_radius=W.mean_turn / (2 * math.pi), length=W.height, depth=depth)
+    text = " ".join((Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8").split())
+    assert f"The air-core inductance is {flat:.3f} H" in text and f"gives {round_coil:.2f} H: {round_coil / flat:.1f} times too much" in text
+    assert FLAT_BOBBIN_RATIO == f"{round_coil / flat:.1f}"
