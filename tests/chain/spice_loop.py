@@ -58,3 +58,11 @@ def loop_transient(design, t, velocity, *, stop, max_step=1e-6, nodes=("out", "a
     if abs(data[-1, 0] - stop) > 1e-6 * stop:
         raise RuntimeError(f"ngspice stopped at {data[-1, 0]} s of {stop} s:\n{res.stdout[-2000:]}")
     return data[:, 0], {n: data[:, 1 + i] for i, n in enumerate(nodes)}  # wr_singlescale: time, then one column per vector
+
+
+def sine_burst(velocity_peak: float, rate: float, *, periods: int, frequency_hz: float, after_s: float):
+    """(t, v): ``periods`` periods of a sine of string velocity (m/s peak) at ``frequency_hz``, then ``after_s`` of rest, sampled at ``rate``."""
+    n_burst = int(round(periods * rate / frequency_hz))
+    n = n_burst + int(round(after_s * rate))
+    t = np.arange(n) / rate
+    return t, np.where(np.arange(n) < n_burst, velocity_peak * np.sin(2 * np.pi * frequency_hz * t), 0.0)

@@ -14,7 +14,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from chain.spice_loop import loop_transient
+from chain.spice_loop import loop_transient, sine_burst
 
 from render.analysis.bias import sweep, velocity_to_amp_output
 from render.analysis.recovery import recovery
@@ -30,10 +30,7 @@ SPICE_RATE = 384000.0
 
 
 def _burst(velocity_peak, rate):
-    n_burst = int(round(PERIODS * rate / F0))
-    n = n_burst + int(round(AFTER_S * rate))
-    t = np.arange(n) / rate
-    return t, np.where(np.arange(n) < n_burst, velocity_peak * np.sin(2 * np.pi * F0 * t), 0.0)
+    return sine_burst(velocity_peak, rate, periods=PERIODS, frequency_hz=F0, after_s=AFTER_S)
 
 
 def _both(db):
