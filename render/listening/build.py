@@ -173,6 +173,7 @@ def build_session(
     parent = out.parent if str(out.parent) else Path(".")
     tmp = parent / f".tmp-{out.name}-{secrets.token_hex(4)}"
     old = None
+    made = [a for a in (parent, *parent.parents) if not a.exists()][::-1]  # the parents this build creates, outermost first
     try:
         parent.mkdir(parents=True, exist_ok=True)
         tmp.mkdir()
@@ -210,4 +211,8 @@ def build_session(
             shutil.rmtree(tmp)
         if old is not None:
             shutil.rmtree(old, ignore_errors=True)
+        if not out.exists():  # a build that failed leaves no empty folders it made
+            for folder in reversed(made):
+                with contextlib.suppress(OSError):
+                    folder.rmdir()
     return SessionPaths(out)

@@ -199,3 +199,18 @@ def test_a_damaged_session_is_refused(make_session, tmp_path):
         load_plan(session_paths(paths.root))
     with pytest.raises(InputError, match=r"not a listening session"):
         session_paths(tmp_path)
+
+
+def test_a_session_in_missing_folders_makes_them_and_a_failed_build_removes_them(make_session, tmp_path, monkeypatch):
+    # the project's rule for run folders: missing parents are made; a build that fails leaves nothing behind
+    paths = make_session(trials=2, out=tmp_path / "new" / "deeper" / "session")
+    assert paths.key.is_file()
+    import render.listening.build as build
+
+    def full(*args, **kwargs):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(build, "_write_new_file", full)
+    with pytest.raises(InputError, match="could not write the session"):
+        make_session(trials=2, out=tmp_path / "other" / "deeper" / "session")
+    assert not (tmp_path / "other").exists()
