@@ -558,8 +558,8 @@ def run(
         h_p1 = h_p2 + 0.5 * (m0 + 2.0 * m1 - 2.0 * m2)
         h_p2 = 0.5 * m2
         out_vo[i] = v_a
-        if abs(x_a - centre) > half:
-            clipped += 1
+        if abs(x_a - centre) > half or (slew_step < NO_SLEW and abs(x_a - h_x) >= slew_step * (1.0 - 1e-9)):
+            clipped += 1  # limited: the output past a knee, or the state slewing at its limit
         h_x = x_a
         h_xl2 = h_xl1
         h_xl1 = x_lin

@@ -722,7 +722,8 @@ def render_signal(
         band-limited like ``out`` (hard clipping of high notes rings slightly
         past the window at this rate; the loop itself never leaves it);
         ``clipped_fraction`` float in [0, 1]: share of the oversampled steps with
-        the op-amp's output stage outside its identity part (on a knee or a rail);
+        the op-amp's output stage outside its identity part (on a knee or a rail)
+        or, with a slew rate, its state slewing at that limit;
         ``warnings`` tuple of str;
         ``linear_min_v``, ``linear_max_v`` float V: the extremes of the op-amp's linear
         output x_lin (bias, string and hum; what it would swing without its limit)
