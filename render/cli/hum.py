@@ -7,7 +7,7 @@ import contextlib
 import click
 
 from .compare_print import compare_option
-from .hum_options import read_shell, read_tolerances
+from .hum_options import map_options, read_bearings, read_shell, read_tolerances
 from .hum_print import print_audio, print_monte_carlo, print_report, room, warnings
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
 
@@ -28,11 +28,7 @@ from .options import emit_json, friendly, jobs_option, json_option, overwrite_op
     "--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder."
 )
 @click.option("--histogram", "hist_path", type=click.Path(dir_okay=False), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
-@click.option("--map", "map_on", is_flag=True, help="Rejection against a dipole source's distance (0.2–3 m) and bearing: a table and JSON.")
-@click.option(
-    "--map-plane", type=click.Choice(["xy", "xz"]), default=None, help="xy (the default): the top faces' plane (90° treble side); xz: the vertical plane along the strings (90° above). Implies --map."
-)
-@click.option("--map-png", type=click.Path(dir_okay=False), help="Plot the map at the fundamental (implies --map; the first MODEL).")
+@map_options
 @click.option("--positions", type=click.IntRange(min=10, max=1_000_000), default=None, help="Monte Carlo over N random dipole sources: places uniform in a shell, axes uniform.")
 @click.option("--shell", nargs=2, default=None, metavar="INNER OUTER", help="The random sources' shell, e.g. 0.3m 2m (the default).")
 @click.option("--joint", is_flag=True, help="With --positions: draw the part tolerances (options above, else their defaults) with each place.")
@@ -55,6 +51,7 @@ def hum_command(
     hist_path,
     map_on,
     map_plane,
+    map_bearings,
     map_png,
     positions,
     shell,
@@ -76,7 +73,8 @@ def hum_command(
     from ..io.folders import output_folder, refuse_existing, run_folder
 
     refuse_existing([json_path, png_path, hist_path, map_png], overwrite=overwrite)
-    map_on = map_on or bool(map_png) or map_plane is not None
+    bearings = read_bearings(map_bearings)
+    map_on = map_on or bool(map_png) or map_plane is not None or bearings is not None
     map_plane = map_plane or "xy"
     if (shell or joint) and not positions:
         raise InputError(f"{'--shell' if shell else '--joint'} needs random sources: add --positions N (e.g. --positions 2000)")
@@ -127,6 +125,7 @@ def hum_command(
                 show=show,
                 map_on=map_on,
                 map_plane=map_plane,
+                bearings=bearings,
                 map_png=map_png if i == 0 else None,
                 positions=positions,
                 shell=shell_m,

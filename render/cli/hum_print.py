@@ -96,7 +96,7 @@ def print_positions(rec: dict) -> None:
 
 
 def print_map(m) -> None:
-    where = "the x–y plane (top faces; 0° neck side, 90° treble side)" if m.plane == "xy" else "the x–z plane (along the strings; 0° neck side, 90° straight above)"
+    where = "the x–y plane (top faces; 0° neck side, 90° treble side)" if m.plane == "xy" else "the x–z plane (along the strings; 0° neck side, 90° straight above, -90° below)"
     click.echo(f"  rejection at {m.frequency_hz[0]:g} Hz of a dipole (axis z) in {where}:")
     click.echo("    distance" + "".join(f"{b:>6.0f}°" for b in m.bearing_deg))
     js = m.to_dict()  # a rejection that does not exist is its reason's short word (render.analysis.undefined)
@@ -121,12 +121,12 @@ def warnings(rec, d, *, dipoles: bool) -> None:
         rec["warnings"] = lines
 
 
-def room(rec, d, *, show, map_on, map_plane, map_png, positions, shell, joint, tolerances, seed, jobs, overwrite):
+def room(rec, d, *, show, map_on, map_plane, map_png, positions, shell, joint, tolerances, seed, jobs, overwrite, bearings=None):
     """The map and the random sources of one design into ``rec``, printed unless the JSON goes to standard output."""
     from ..analysis import hum_room as hr
 
     if map_on:
-        m = hr.hum_map(d, plane=map_plane)
+        m = hr.hum_map(d, plane=map_plane, **({"bearings_deg": bearings} if bearings else {}))
         rec["map"] = hr.map_record(m)
         if show:
             print_map(m)

@@ -237,6 +237,24 @@ def test_map_in_the_vertical_plane_dips_where_the_dipoles_bz_changes_sign():
     assert "x–y plane" in run("hum", BOBBIN, "--map-plane", "xy").output
 
 
+def test_map_bearings_reach_below_the_pickup():
+    # --map-bearings takes a list or start:stop:step. Below the top faces the z-dipole's B_z changes sign at
+    # the mirror bearing, -35.26° (Jackson eq. 5.56: B_z ∝ 3cos²θ − 1 is even in z), so the rejection dips
+    # there too. The figures printed are the library's map at those bearings.
+    m = render.hum_map(render.load_design(BOBBIN), plane="xz", distances_m=[1.0], bearings_deg=np.arange(-38.0, -33.0, 0.02))
+    r = m.rejection_db[0, :, 0]
+    assert r.min() < 0 and abs(m.bearing_deg[np.argmin(r)] + math.degrees(math.atan(1 / math.sqrt(2)))) < 1.0
+    data, _ = hum_json(BOBBIN, "--map-plane", "xz", "--map-bearings=-90:90:30")
+    assert data["map"]["bearing_deg"] == [-90.0, -60.0, -30.0, 0.0, 30.0, 60.0, 90.0]
+    lib = render.hum_map(render.load_design(BOBBIN), plane="xz", bearings_deg=[-90.0, -60.0, -30.0, 0.0, 30.0, 60.0, 90.0])
+    assert np.allclose(np.array(data["map"]["rejection_db"], dtype=float)[:, :, 0], lib.rejection_db[:, :, 0], rtol=1e-12)
+    listed, _ = hum_json(BOBBIN, "--map-bearings", "0,45,90")  # the bearings alone ask for the map
+    assert listed["map"]["bearing_deg"] == [0.0, 45.0, 90.0] and listed["map"]["plane"] == "xy"
+    for bad in ("abc", "0:10:-1", "0:400:5"):
+        res = run("hum", BOBBIN, f"--map-bearings={bad}")
+        assert res.exit_code == 1 and res.output.count("\n") == 1 and "--map-bearings" in res.output
+
+
 def test_positions_and_joint_are_reported_apart_from_the_tolerances(tmp_path):
     d = render.load_design(BOBBIN)
     data, _ = hum_json(BOBBIN, "--positions", 400, "--tolerance", "1%", "--trials", 400, "--seed", 3)
