@@ -50,7 +50,7 @@ def hum_map(design, *, rig=None, plane: str = "xy", distances_m=DEFAULT_DISTANCE
     plane : {"xy", "xz"}
         "xy": the plane of the coils' top faces, bearing 0° on the neck side,
         90° on the treble side; "xz": the vertical plane along the strings,
-        0° the neck side, 90° straight above.
+        0° the neck side, 90° straight above, negative bearings below.
     distances_m : sequence of float, m, from the midpoint between the coils
     bearings_deg : sequence of float, degrees
 
