@@ -63,9 +63,15 @@ AIMED_PEAK = "aimed_peak_hz"
 READS = {"peak_hz": AIMED_PEAK, "resonance_hz": AIMED_PEAK}
 
 
+def figure_key(fig: dict, name: str) -> str:
+    """The key of the figure aim ``name`` scores: a peak aim reads ``aimed_peak_hz`` where present."""
+    read = READS.get(name)
+    return read if read is not None and read in fig else name
+
+
 def figure_of(fig: dict, name: str):
     """The value aim ``name`` scores from one design's figures (None when undefined)."""
-    return fig.get(READS.get(name, name)) if READS.get(name) in fig else fig.get(name)
+    return fig.get(figure_key(fig, name))
 
 
 def _unit_of(name: str) -> str:

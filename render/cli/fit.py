@@ -12,11 +12,10 @@ from .options import friendly, overwrite_option, rig_option
 
 def _fig(figures, name):
     """The figure an aim scores, as the table prints it (a peak aim's is aimed_peak_hz)."""
-    from ..analysis.fit import READS
+    from ..analysis.fit import figure_key
     from ..analysis.undefined import cell
 
-    key = READS.get(name, name) if READS.get(name) in figures else name
-    return cell(figures, key, ".0f" if name.endswith("_hz") else ".2f")
+    return cell(figures, figure_key(figures, name), ".0f" if name.endswith("_hz") else ".2f")
 
 
 def print_table(run) -> None:

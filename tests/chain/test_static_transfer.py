@@ -59,8 +59,10 @@ def test_static_transfer_against_closed_forms():
 
 @pytest.mark.parametrize(
     "peak_v, expected_v",
-    # the output's peak from the render's loop for a 100 Hz sine of linear peak peak_v (measured:
-    # 7.699989, 7.899975, 8.000000, 8.000000 V), where the output stage alone gives 7.680, 7.820, 7.916, 8.000
+    # expected_v from the closed form above: the loop holds the output within knee/(1 + L) of the linear
+    # value up to the 8 V rail and at the rail beyond, i.e. min(peak_v, 8 V). For the record, render's own
+    # loop read 7.699989, 7.899975, 8.000000, 8.000000 V (render's figures, not a reference), where the
+    # output stage alone, soft_limit, gives 7.680, 7.820, 7.916, 8.000 V
     [(7.7, 7.7), (7.9, 7.9), (8.09, 8.0), (8.5, 8.0)],
 )
 def test_static_transfer_against_a_rendered_low_frequency_sine(peak_v, expected_v):

@@ -37,9 +37,10 @@ def test_the_bias_page_shows_the_onsets_as_pluck_strength_and_db_above_the_phras
         mm_up, mm_down = cells[i_mm].split(" / ")
         db_up, db_down = cells[i_db].split(" / ")
         words = line.split()
-        # the console's line: "ratio 0.30, 9 V  2.98 mm / 0.771 mm  -0.1 dB / -11.8 dB  3.2 %"
+        # the console's line, its layout only (figures illustrative): "ratio 0.30, 9 V  2.98 mm / 0.771 mm  -0.1 dB / -11.8 dB  3.2 %"
         assert f"{mm_up} / {mm_down}" in " ".join(words) and f"{db_up} / {db_down}" in " ".join(words) and line.rstrip().endswith(cells[i_lim])
-        # from the definition: strength = 3 mm · 10^(margin/20)
+        # from the definition: strength = 3 mm · 10^(margin/20), allowing for the printed rounding
+        # (dB to 0.1, so ±0.05 dB; mm to three figures, so ±0.005 mm at most)
         for mm, db in ((mm_up, db_up), (mm_down, db_down)):
             s = float(mm.split()[0]) * (1e-3 if mm.endswith(" mm") else 1.0)
             g = float(db.split()[0])

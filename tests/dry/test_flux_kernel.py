@@ -11,6 +11,7 @@ from render.dry._flux_kernel import slope_tables, slopes
 def test_slopes_equal_scipys_derivatives_of_the_same_spline():
     # scipy.interpolate.RectBivariateSpline.ev(y, z, dx=1) / (dy=1) is the reference: the same
     # bicubic spline's partial derivatives. Uneven grids, points inside, on the knots and on the edges.
+    # The table is synthetic (any smooth field serves an equivalence check); the tolerance is float64 rounding.
     rng = np.random.default_rng(7)
     y = np.sort(np.r_[-8e-3, rng.uniform(-8e-3, 8e-3, 30), 8e-3])
     z = np.sort(np.r_[-1.5e-3, rng.uniform(-1.5e-3, 2e-3, 12), 2e-3])
