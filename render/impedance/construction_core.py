@@ -15,8 +15,9 @@ summed per part (a blade, a screw, a magnet) over its cells. The parts of
 the other coil count too (they are weakly in this coil's field).
 
 The frequency dependence of each part's share is the 1-D diffusion solution
-of :mod:`render.impedance.eddy` (a blade or bar as a slab across its
-thinnest side, a screw as a cylinder), diluted by its demagnetising factor
+of :mod:`render.impedance.eddy` (a blade or bar as a slab across the
+thinner of its two sides across the coil's axis, since the coil's field runs
+along that axis and the eddy currents loop around it; a screw as a cylinder), diluted by its demagnetising factor
 (Aharoni 1998, the screw as the square prism of its section and height). The part's fill (eq. (2) of :mod:`.eddy`) is the one that makes
 its DC rise equal eq. (1):
 
@@ -47,7 +48,7 @@ from scipy.constants import mu_0
 from .eddy import CorePart, apparent_permeability, prism_demagnetising_factor
 from .materials import ALNICO, FERRITE, NDFEB, STEEL, Material
 
-VERSION = 2  # bump when eq. (1)'s numbers change, so cached results are recomputed
+VERSION = 3  # bump when eq. (1)'s numbers change, so cached results are recomputed
 MIN_SHARE = 1e-6  # a part adding less than this share of the air-core inductance is left out
 
 
@@ -140,8 +141,8 @@ def part_rises(construction, geometry_a, geometry_b, *, position_a: float, posit
                 side = math.sqrt(sum(float(np.prod(h - lo_)) for lo_, h in extent[key]) / dims[2])
                 dims = (side, side, dims[2])
                 shape, size = "cylinder", side * 2.0 / math.sqrt(math.pi)
-            else:
-                shape, size = "slab", min(dims)
+            else:  # the coil's field runs along z, so the eddy currents loop in x-y: a slab across the thinner of x and y
+                shape, size = "slab", min(dims[0], dims[1])
             items.append(PartRise(key, rise, shape, size, dims, magnet))
         out[name] = tuple(items)
     return out

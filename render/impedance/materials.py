@@ -23,7 +23,10 @@ AlNiCo 5 (cast)               2.1              3.5                   TMC Magneti
                                                                      (cast Alnico 5: 470 nΩ·m, recoil
                                                                      permeability 3.6); e-Magnets UK,
                                                                      "Characteristics of Alnico Magnets"
-                                                                     (45–70 µΩ·cm across grades)
+                                                                     (45–70 µΩ·cm across grades); μr 3.5
+                                                                     is the grade table's (from memory,
+                                                                     render.magnetics.magnets), and a
+                                                                     construction's magnets use their own
 hard ferrite (Sr/Ba)          1e-8             1.1                   from memory (resistivity above
                                                                      10⁴ Ω·m: an insulator for eddy
                                                                      currents; recoil permeability 1.05–1.2)
@@ -56,7 +59,7 @@ class Material:
 
 STEEL = Material("low-carbon steel", 6.0e6, 100.0, "σ: AISI 1010 data sheets 0.143 µΩ·m (MatMake), 6 MS/m for 1010–1020 our estimate; μr from memory, scatters 50–several 100")
 NDFEB = Material("sintered NdFeB", 1.0 / 150e-8, 1.05, "Stanford Magnets, Characteristics of NdFeB magnets: 150 µΩ·cm, recoil permeability 1.05")
-ALNICO = Material("cast AlNiCo 5", 1.0 / 47e-8, 3.5, "TMC Magnetics, Alnico property table: cast Alnico 5 470 nΩ·m, recoil permeability 3.6")
+ALNICO = Material("cast AlNiCo 5", 1.0 / 47e-8, 3.5, "TMC Magnetics, Alnico property table: cast Alnico 5 470 nΩ·m (recoil permeability 3.6 there; 3.5 as the grade table, from memory)")
 FERRITE = Material("hard ferrite", 1e-8, 1.1, "from memory: resistivity above 1e4 Ω·m, recoil permeability 1.05–1.2")
 
 MATERIALS = {"steel": STEEL, "ndfeb": NDFEB, "alnico": ALNICO, "ferrite": FERRITE}

@@ -200,7 +200,7 @@ def test_rectangular_multilayer_against_quadrature():
 
 
 def test_default_grid_is_converged():
-    # the default grid against a 4× finer one: numerical error of the sum itself
+    # the default grid against a 3× finer one (3× the layers and the slices): numerical error of the sum itself (measured 1.3e-4)
     coarse = winding_inductance(PICKUP)
     layers, slices = default_grid(PICKUP)
     fine = winding_inductance(PICKUP, layers=3 * layers, slices=3 * slices)

@@ -92,6 +92,13 @@ Physical Surface(3) = {{3}};  // air
 Physical Surface(4) = {{4}};  // shell to infinity
 Physical Curve(10) = {{1, 2, 6, 7, 8}};  // the axis
 Physical Curve(11) = {{9, 10}};  // the shell's outer face
+{skin}"""
+
+# a time-harmonic solve resolves the skin depth: elements of size `surf` within `dmin` of the rod's faces,
+# growing to `sf` at `dmax` (gmsh's Distance and Threshold fields)
+SKIN = """Field[1] = Distance; Field[1].CurvesList = {{3, 4, 5}}; Field[1].NumPointsPerCurve = 400;
+Field[2] = Threshold; Field[2].InField = 1; Field[2].SizeMin = {surf!r}; Field[2].SizeMax = {sf!r}; Field[2].DistMin = {dmin!r}; Field[2].DistMax = {dmax!r};
+Background Field = 2; Mesh.MeshSizeExtendFromBoundary = 0; Mesh.MeshSizeFromPoints = 1;
 """
 
 PRO = """DefineConstant[ Rint = {rint!r}, Rext = {rext!r} ];
@@ -103,6 +110,7 @@ Group {{
 Function {{
   nu[Rod] = 1 / ($mur * {mu0!r});
   nu[Region[{{Winding, Air, Shell}}]] = 1 / {mu0!r};
+  sigma[Rod] = {sigma!r};
   js[] = Vector[0, 0, 1];
 }}
 Jacobian {{
@@ -121,9 +129,10 @@ Formulation {{
     Equation {{
       Integral {{ [ nu[] * Dof{{d a}}, {{d a}} ]; In Domain; Jacobian Vol; Integration Int; }}
       Integral {{ [ - js[], {{a}} ]; In Winding; Jacobian Vol; Integration Int; }}
+      {eddy}
     }} }}
 }}
-Resolution {{ {{ Name MS; System {{ {{ Name A; NameOfFormulation MS; }} }} Operation {{ {solves} }} }} }}
+Resolution {{ {{ Name MS; System {{ {{ Name A; NameOfFormulation MS; {system} }} }} Operation {{ {solves} }} }} }}
 PostProcessing {{
   {{ Name MS; NameOfFormulation MS; Quantity {{
       {{ Name linkage; Value {{ Integral {{ [ 2 * Pi * CompZ[{{a}}] ]; In Winding; Jacobian Plane; Integration Int; }} }} }}
@@ -153,20 +162,16 @@ def solve(coil: RoundCoilWithRod, permeabilities=(1.0,), *, mesh: float = 0.6e-3
     The shell sits at 6–7.5 times the coil's outer size from the centre.
     """
     require_getdp_gmsh()
-    size = max(coil.outer_radius, coil.height / 2, coil.rod_length / 2)
-    rint, rext = 6.0 * size, 7.5 * size
-    geo = GEO.format(r1=coil.inner_radius, r2=coil.outer_radius, h=coil.height, rc=coil.rod_radius, lc=coil.rod_length, rint=rint, rext=rext, s=mesh, sc=mesh * corner, sf=far)
+    geo = _geo(coil, mesh=mesh, corner=corner, far=far)
     prints = " ".join(f'Print[ aphi, OnPoint {{{r!r}, {z!r}, 0}}, Format Table, File > "aphi.txt" ];' for r, z in points)
     # one GetDP run: a solve and its output per permeability (a run starts in about 0.7 s here)
     solves = " ".join(f"Evaluate[$mur = {float(m)!r}]; Generate[A]; Solve[A]; PostOperation[out];" for m in permeabilities)
-    pro = PRO.format(rint=rint, rext=rext, mu0=mu_0, points=prints, solves=solves)
+    pro = PRO.format(rint=geo.rint, rext=geo.rext, mu0=mu_0, sigma=0.0, eddy="", system="", points=prints, solves=solves)
     out = []
     with tempfile.TemporaryDirectory() as tmp:
         d = Path(tmp)
-        (d / "coil.geo").write_text(geo)
+        nodes = _mesh(d, geo.text)
         (d / "coil.pro").write_text(pro)
-        _run([GMSH, "-2", "-format", "msh22", "-v", "1", "coil.geo", "-o", "coil.msh"], d)
-        nodes = _node_count(d / "coil.msh")
         _run([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
         linkages = [float(line.split()[-1]) for line in (d / "linkage.txt").read_text().splitlines()]
         values = [float(line.split()[-1]) for line in (d / "aphi.txt").read_text().splitlines()] if points else []
@@ -176,6 +181,71 @@ def solve(coil: RoundCoilWithRod, permeabilities=(1.0,), *, mesh: float = 0.6e-3
         out.append(FieldSolution(linkage * scale * scale, tuple(v * scale for v in values[i * k : (i + 1) * k]), nodes))
     assert len(out) == len(permeabilities)
     return out
+
+
+@dataclass(frozen=True)
+class _Geo:
+    text: str
+    rint: float
+    rext: float
+
+
+def _geo(coil: RoundCoilWithRod, *, mesh: float, corner: float, far: float, skin: str = "") -> _Geo:
+    """The model's .geo text; the shell sits at 6–7.5 times the coil's outer size from the centre."""
+    size = max(coil.outer_radius, coil.height / 2, coil.rod_length / 2)
+    rint, rext = 6.0 * size, 7.5 * size
+    text = GEO.format(r1=coil.inner_radius, r2=coil.outer_radius, h=coil.height, rc=coil.rod_radius, lc=coil.rod_length, rint=rint, rext=rext, s=mesh, sc=mesh * corner, sf=far, skin=skin)
+    return _Geo(text, rint, rext)
+
+
+def _mesh(d: Path, geo: str) -> int:
+    (d / "coil.geo").write_text(geo)
+    _run([GMSH, "-2", "-format", "msh22", "-v", "1", "coil.geo", "-o", "coil.msh"], d)
+    return _node_count(d / "coil.msh")
+
+
+@dataclass(frozen=True)
+class HarmonicSolution:
+    """Time-harmonic solves: the coil's complex inductance L(f) = Ψ/I (H) at each frequency, and at DC."""
+
+    frequencies: tuple
+    inductance: tuple  # complex, H: Z = jωL
+    dc_inductance: float  # the same mesh, magnetostatic, the rod's permeability
+    air_inductance: float  # the same mesh, the rod as air
+    nodes: int
+
+
+def solve_harmonic(coil: RoundCoilWithRod, *, relative_permeability: float, conductivity: float, frequencies, mesh: float, surface: float, near: float, grow: float, far: float) -> HarmonicSolution:
+    """The coil's complex inductance with a conducting rod (magnetodynamics in a_φ).
+
+    The eddy term σ·∂a/∂t in the rod (GetDP's ``DtDof``, a complex system at each frequency: the
+    a-formulation of Dular & Geuzaine's GetDP manual, "Magnetodynamics") joins the magnetostatic
+    weak form above; the winding's current density is given (a voltage-free source), so
+    Ψ/I is the coil's impedance over jω. Elements of size ``surface`` cover the rod's faces
+    to depth ``near``, growing to ``far`` at ``grow`` (choose ``surface`` a fraction of the skin depth at the top frequency).
+    """
+    require_getdp_gmsh()
+    skin = SKIN.format(surf=surface, sf=far, dmin=near, dmax=grow)
+    geo = _geo(coil, mesh=mesh, corner=1.0, far=far, skin=skin)
+    eddy = "Integral { DtDof [ sigma[] * Dof{a}, {a} ]; In Rod; Jacobian Vol; Integration Int; }"
+    statics = " ".join(f"Evaluate[$mur = {float(m)!r}]; Generate[A]; Solve[A]; PostOperation[out];" for m in (1.0, relative_permeability))
+    scale = coil.turns / coil.section_area
+    values = []
+    with tempfile.TemporaryDirectory() as tmp:
+        d = Path(tmp)
+        nodes = _mesh(d, geo.text)
+        (d / "coil.pro").write_text(PRO.format(rint=geo.rint, rext=geo.rext, mu0=mu_0, sigma=0.0, eddy="", system="", points="", solves=statics))
+        _run([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
+        air, dc = (float(line.split()[-1]) * scale * scale for line in (d / "linkage.txt").read_text().splitlines())
+        for f in frequencies:  # one run per frequency: GetDP's system takes its frequency when it is defined
+            (d / "linkage.txt").unlink()
+            solve_one = f"Evaluate[$mur = {float(relative_permeability)!r}]; Generate[A]; Solve[A]; PostOperation[out];"
+            system = f"Type ComplexValue; Frequency {float(f)!r};"
+            (d / "coil.pro").write_text(PRO.format(rint=geo.rint, rext=geo.rext, mu0=mu_0, sigma=float(conductivity), eddy=eddy, system=system, points="", solves=solve_one))
+            _run([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
+            re, im = (float(v) for v in (d / "linkage.txt").read_text().split()[-2:])  # a complex table ends in its real and imaginary parts
+            values.append(complex(re, im) * scale * scale)
+    return HarmonicSolution(tuple(float(f) for f in frequencies), tuple(values), dc, air, nodes)
 
 
 def _run(cmd, cwd: Path) -> None:
