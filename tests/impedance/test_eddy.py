@@ -146,6 +146,27 @@ def test_prism_demagnetising_factors():
     assert prism_demagnetising_factor(1e-3, 1e-3, 1) < 1e-3
 
 
+def test_the_blades_demagnetising_factor_against_magpylib():
+    # the README's blade (3 × 60 × 9 mm, field along the 9 mm): D = 0.263, so μ_app(0) = 3.7 at μr = 100.
+    # Reference: the volume mean of the demagnetising field inside a uniformly polarised cuboid, from
+    # magpylib's closed-form cuboid field (Ortner & Coliado Bandeira, SoftwareX 11, 2020), by 24³ Gauss
+    # points: D = −μ0·⟨H_z⟩/J. Measured 0.26299 against Aharoni's 0.26298.
+    from magnetics.reference import require_magpylib
+
+    require_magpylib()
+    import magpylib as magpy
+
+    dims = np.array([0.003, 0.060, 0.009])
+    x, w = np.polynomial.legendre.leggauss(24)
+    grid = np.stack(np.meshgrid(*(x[:, None] * dims / 2).T, indexing="ij"), axis=-1).reshape(-1, 3)
+    weight = (w[:, None, None] * w[None, :, None] * w[None, None, :]).ravel() / 8.0
+    h = magpy.magnet.Cuboid(polarization=(0.0, 0.0, 1.0), dimension=dims).getH(grid)
+    d_ref = -mu_0 * float(np.sum(weight * h[:, 2]))
+    d = prism_demagnetising_factor(*dims)
+    assert d == pytest.approx(d_ref, rel=1e-4)
+    assert round(d, 3) == 0.263 and round(float(apparent_permeability(100.0, d)), 1) == 3.7
+
+
 def test_apparent_permeability_of_an_open_core():
     # DC: μ_app = μ/(1 + D(μ − 1)) (Bozorth, Ferromagnetism, 1951): a sphere (D = 1/3) of any
     # large μ reads at most 3

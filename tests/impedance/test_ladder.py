@@ -37,13 +37,31 @@ def test_fitted_ladder_against_the_bessel_solution():
 
 def test_fitted_ladder_for_an_open_blade():
     # a 3 mm blade with the demagnetising factor of a 3 × 60 × 9 mm prism (Aharoni 1998)
-    from render.impedance.eddy import prism_demagnetising_factor
-
-    d = prism_demagnetising_factor(0.003, 0.060, 0.009)
-    part = CorePart("slab", 3e-3, STEEL, fill=0.5, demagnetising_factor=d)
-    z = 2j * np.pi * F_FIT * 0.8 + core_impedance(F_FIT, air_inductance=0.8, parts=[part])
+    _, z = _open_blade()
     fit = fit_ladder(F_FIT, z)
     assert fit.error_db < 0.2 and fit.error_deg < 2.0
+
+
+def _open_blade():
+    from render.impedance.eddy import prism_demagnetising_factor
+
+    part = CorePart("slab", 3e-3, STEEL, fill=0.5, demagnetising_factor=prism_demagnetising_factor(0.003, 0.060, 0.009))
+    return part, 2j * np.pi * F_FIT * 0.8 + core_impedance(F_FIT, air_inductance=0.8, parts=[part])
+
+
+@pytest.mark.parametrize(
+    "core, sections, err_db, err_deg",
+    # README's table ("The RL ladder", measured 2026-12-02): the fit's error against the diffusion
+    # solution it fits (Lammeraner & Štafl 1966) with a given number of sections; held to ±10 %
+    [("rod", 4, 0.060, 0.41), ("rod", 5, 0.012, 0.09), ("blade", 2, 0.16, 1.05), ("blade", 3, 0.044, 0.27)],
+)
+def test_the_readmes_ladder_errors(core, sections, err_db, err_deg):
+    _, z = _rod_in_solenoid() if core == "rod" else _open_blade()
+    fit = fit_ladder(F_FIT, z, max_sections=sections, tol_db=1e-9, tol_deg=1e-9)
+    assert len(fit.ladder.inductances) == sections
+    assert fit.error_db == pytest.approx(err_db, rel=0.1) and fit.error_deg == pytest.approx(err_deg, rel=0.1)
+    default = fit_ladder(F_FIT, z)  # the default tolerance (0.05 dB, 0.5°) stops at the table's second row
+    assert len(default.ladder.inductances) == (5 if core == "rod" else 3)
 
 
 def test_bessel_zero_ladder_is_the_cylinder():
