@@ -11,7 +11,7 @@ Two kinds of source, each periodic at the mains frequency f:
 
 A source's strength s (m or B) follows its harmonic profile a_h and phase φ
 (degrees of the fundamental; harmonic h is shifted by h·φ, i.e. the whole
-waveform is delayed by φ/360 of a mains period):
+waveform is advanced by φ/360 of a mains period: a positive φ leads):
 
     s(t) = s · Σ_h a_h · sin(2π·h·f·t + h·φ).
 

@@ -29,7 +29,9 @@ What the model leaves out: the string's own field acting back on the steel
 and magnets (it changes the string's magnetisation by about the string's
 radius over its height, a few per cent; reciprocity already carries the
 steel's answer to the string's moment into Φ), saturation of the string
-(its field is tens of mT), and the string's bending over the sensed length
+(the applied field is tens of mT, but a long string multiplies it by
+nearly χ along its axis: over strong magnets the linear model's
+polarisation passes the 2 T where string steel saturates, from memory), and the string's bending over the sensed length
 (it is straight here; a vibrating string's displacement varies over metres,
 the pickup senses centimetres).
 

@@ -83,9 +83,10 @@ def test_emf_is_the_time_derivative_of_the_flux():
     np.testing.assert_allclose(e[1], -k[1] * ds, rtol=0, atol=1e-4 * np.abs(e[1]).max())
 
 
-def test_phase_delays_the_whole_waveform():
-    # harmonic h shifted by h·phase: the source's waveform delayed by phase/360 of a mains period;
-    # at 48 kHz and 50 Hz a period is 960 samples, so 90° is 240 samples (arithmetic)
+def test_phase_advances_the_whole_waveform():
+    # harmonic h shifted by h·phase: sin(2π·h·f·t + h·φ) is the source's waveform advanced by φ/360 of a
+    # mains period (it reaches each point earlier: e90[n] = e0[n + 240]); at 48 kHz and 50 Hz a period
+    # is 960 samples, so 90° is 240 samples (arithmetic)
     coils = coil_pair(DEMO, DEMO, position_a=0.038, position_b=0.056)
     kw = dict(sample_rate=48000, mains_hz=50.0, harmonics=(1.0, 0.2, 0.3, 0.0, 0.1))
     at = [0.5, -0.2, 0.3]
