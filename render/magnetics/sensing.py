@@ -19,7 +19,9 @@ What comes out, per coil and per string (:class:`StringSensing`):
 
 - the sensing function along the string: dΦ/dw per metre of string, the
   flux linkage's change when the element there moves by w (vertically, and
-  sideways); a mode's coupling is its shape's projection on it;
+  sideways), the string's tilt by the slope of w included
+  (:meth:`.strings.Rod.sensing`); a mode's coupling is its shape's
+  projection on it;
 - the sensitivity to vertical and lateral motion of the whole string, its
   integral (V·s/m: the EMF per m/s);
 - the vertical sensitivity with the string pushed 0–6 mm towards +y (a
@@ -206,9 +208,9 @@ def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometr
             flux = rod.flux(levels[0], levels[1 + c])  # (lines, levels)
             rest0, rest1, dz0, dz1, dy0, dy1 = rest[0], rest[1 + c], up[0], up[1 + c], side[0], side[1 + c]
             centre = int(np.flatnonzero(LATERAL == 0)[0])
-            lat_z = np.array([rod.sensing(rest0[j], rest1[j], dz0[j], dz1[j]).sum() * rod.step for j in range(len(LATERAL))])
-            along_z = rod.sensing(rest0[centre], rest1[centre], dz0[centre], dz1[centre])
-            along_y = rod.sensing(rest0[centre], rest1[centre], dy0, dy1)
+            lat_z = np.array([rod.sensing(rest0[j], rest1[j], dz0[j], dz1[j], axis=2).sum() * rod.step for j in range(len(LATERAL))])
+            along_z = rod.sensing(rest0[centre], rest1[centre], dz0[centre], dz1[centre], axis=2)
+            along_y = rod.sensing(rest0[centre], rest1[centre], dy0, dy1, axis=1)
             i0 = int(np.flatnonzero(np.abs(dz) < 1e-12)[0])
             table = flux - flux[centre, i0]
             h2, h3 = harmonics(dz, table[centre], amplitude=H_AMPLITUDE)

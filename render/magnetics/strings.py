@@ -31,9 +31,13 @@ radius over its height, a few per cent; reciprocity already carries the
 steel's answer to the string's moment into Φ), saturation of the string
 (the applied field is tens of mT, but a long string multiplies it by
 nearly χ along its axis: over strong magnets the linear model's
-polarisation passes the 2 T where string steel saturates, from memory), and the string's bending over the sensed length
-(it is straight here; a vibrating string's displacement varies over metres,
-the pickup senses centimetres).
+polarisation passes the 2 T where string steel saturates, from memory), and the string's bending beyond first order
+(its flux is that of a straight string; a vibrating string's displacement
+varies over metres, the pickup senses centimetres). To first order a bent
+string is in: :meth:`Rod.sensing` carries its tilt (the slope w' of the
+displacement turns its axis, and with it its large magnetisation along
+the axis), which the tests compare with magpylib-material-response's cells
+of a bent chain.
 
 Horton & Moore, "Modeling the magnetic pickup of an electric guitar",
 Am. J. Phys. 77(2), 144–150, 2009, treat the same physics with magnetic
@@ -124,23 +128,86 @@ class Rod:
         m = self.magnetisation(b0)
         return self.area * self.step * np.einsum("...cn,...cn->...", m, np.asarray(b1, float))
 
-    def sensing(self, b0, b1, db0, db1) -> np.ndarray:
+    def sensing(self, b0, b1, db0, db1, *, axis: int = 2) -> np.ndarray:
         """dΦ/d(displacement of the element at each sample) per metre of string: shape (n,), Wb/m².
 
         b0, b1 : np.ndarray [shape=(3, n)], the fields at rest (T, T/A)
         db0, db1 : np.ndarray [shape=(3, n)], their derivatives along the
-            motion (z or y), T/m and T/(A·m)
+            motion, T/m and T/(A·m)
+        axis : the motion's component, 2 (z, vertical) or 1 (y, sideways)
 
-        Moving one element changes its own moment (through b0) and its
-        coupling (through b1); along the string, moving it also changes
-        what the whole rod's longitudinal response makes of b0x, which is
-        the transpose of the response acting on b1x. Summed over the
-        samples (times the spacing) this is dΦ for the whole string moved.
+        With the displacement w(x) along ê (ê the unit vector of ``axis``),
+        the string's axis turns to t = x̂ + w'·ê and its element sits at
+        x + w·ê. Its magnetisation there (:meth:`magnetisation`, with the
+        axis t in place of x̂) is
+
+            M = χ⊥/µ0·(B0 − (B0·t)·t) + M∥·t,   M∥ = R·(B0·t)/µ0,
+
+        R the rod's longitudinal ``response``, and Φ = A ∫ M·B1 dx. To first
+        order in w, with B0·t → B0x + w·∂B0x + w'·B0e and B1·t likewise
+        (e the motion's component),
+
+            δΦ = A ∫ w·[χ⊥/µ0·(∂B0⊥·B1⊥ + B0⊥·∂B1⊥) + (Rᵀ·B1x)·∂B0x/µ0 + Mx·∂B1x] dx
+               + ∫ w'·G dx,
+            G = A·[(Rᵀ·B1x)·B0e/µ0 + Mx·B1e − χ⊥/µ0·(B0e·B1x + B0x·B1e)],
+
+        the first line being the element's own moment and coupling moved
+        (the transpose of the response carries what the whole rod makes of
+        b0x: Σᵢ B1xᵢ·Σⱼ Rᵢⱼ·δB0xⱼ = Σⱼ (RᵀB1x)ⱼ·δB0xⱼ). G is the tilt's:
+        (a) the longitudinal moment Mx turned by w' couples to B1e, (b) the
+        bias field's component B0e along the tilted axis is answered by the
+        rod's response, seen through B1x, and the part across the axis
+        loses those same components. By parts, ∫ w'·G dx = −∫ w·G' dx (the
+        string's ends lie outside the field, G = 0 there), so the sensing
+        function is
+
+            s = A·[…] − G',
+
+        with w' taken as the central difference (one-sided at the ends)
+        and −G' as its exact transpose, so that the sum of the slope part
+        is zero to rounding: summed over the samples (times the spacing),
+        s is dΦ for the whole string moved (a translation has w' = 0).
         """
         b0, b1, db0, db1 = (np.asarray(a, float) for a in (b0, b1, db0, db1))
+        if axis not in (1, 2):
+            raise ValueError(f"axis must be 1 (y) or 2 (z), not {axis!r}")
         chi_t = transverse_susceptibility(self.chi)
-        trans = chi_t / mu_0 * np.einsum("cn,cn->n", db0[1:] * 1.0, b1[1:]) + chi_t / mu_0 * np.einsum("cn,cn->n", b0[1:], db1[1:])
+        trans = chi_t / mu_0 * (np.einsum("cn,cn->n", db0[1:], b1[1:]) + np.einsum("cn,cn->n", b0[1:], db1[1:]))
         mx = self.response @ (b0[0] / mu_0)
         adj = self.response.T @ b1[0]
         longi = adj * db0[0] / mu_0 + mx * db1[0]
-        return self.area * (trans + longi)
+        return self.area * (trans + longi) + self.slope(b0, b1, axis=axis)
+
+    def slope(self, b0, b1, *, axis: int) -> np.ndarray:
+        """The tilt's part of :meth:`sensing`, −G' (Wb/m²): shape (n,); its sum is zero to rounding.
+
+        G = A·[(Rᵀ·B1x)·B0e/µ0 + Mx·B1e − χ⊥/µ0·(B0e·B1x + B0x·B1e)], e = ``axis``,
+        and −G' is the transpose of the central difference acting on it.
+        """
+        b0, b1 = np.asarray(b0, float), np.asarray(b1, float)
+        chi_t = transverse_susceptibility(self.chi)
+        mx = self.response @ (b0[0] / mu_0)
+        adj = self.response.T @ b1[0]
+        g = self.area * (adj * b0[axis] / mu_0 + mx * b1[axis] - chi_t / mu_0 * (b0[axis] * b1[0] + b0[0] * b1[axis]))
+        return slope_adjoint(g, self.step)
+
+
+def slope_adjoint(g: np.ndarray, step: float) -> np.ndarray:
+    """Dᵀ·g, D the central difference (one-sided at the ends, as ``np.gradient``): ∫ w'·g dx = ∫ w·(Dᵀg) dx.
+
+    D·1 = 0, so Σ Dᵀg = 0: a translation (w' = 0) gets nothing from it.
+    """
+    g = np.asarray(g, float)
+    out = np.zeros_like(g)
+    if g.size < 2:
+        return out
+    h = float(step)
+    # row 0 of D: (w1 − w0)/h; rows 1..n−2: (w_{i+1} − w_{i−1})/2h; row n−1: (w_{n−1} − w_{n−2})/h
+    out[0] -= g[0] / h
+    out[1] += g[0] / h
+    out[-1] += g[-1] / h
+    out[-2] -= g[-1] / h
+    if g.size > 2:
+        out[2:] += g[1:-1] / (2 * h)
+        out[:-2] -= g[1:-1] / (2 * h)
+    return out
