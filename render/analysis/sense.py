@@ -14,7 +14,13 @@ Per coil and per string, with the EMF as it drives the coil's input
 - ``lateral_offset_m`` and ``lateral_db``: the vertical sensitivity with
   the string pushed towards +y (the treble side), dB re rest;
 - ``h2_db`` and ``h3_db``: the 2nd and 3rd harmonics of the EMF for a
-  0.5 mm peak vertical sine, dB re the fundamental.
+  0.5 mm peak vertical sine, dB re the fundamental;
+- ``polarization_t``: the largest polarisation µ0·|M| (T) along the string
+  at rest, as the model's linear string gives it.
+
+The string's steel is linear in the model. Where its polarisation comes near
+the steel's saturation (near 2 T for string steel, from memory), the output
+and distortion are overstated: :func:`saturation_warning` says so.
 """
 
 from __future__ import annotations
@@ -23,7 +29,8 @@ import numpy as np
 
 from ..errors import InputError
 
-KEYS = ("string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db")
+KEYS = ("string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db", "polarization_t")
+SATURATION_WARN_T = 1.8  # T: a string's linear polarisation past this is near or past string steel's saturation, near 2 T (from memory)
 WEIGHT_STEP = 1e-3  # m, the sensing function is reported every millimetre (computed every 0.5 mm)
 
 
@@ -52,6 +59,7 @@ def sense_record(design) -> dict:
                     "lateral_db": [float(v) for v in s.lateral_db],
                     "h2_db": float(s.h2_db),
                     "h3_db": float(s.h3_db),
+                    "polarization_t": float(s.polarization),
                 }
             )
         coils[name] = sorted(rows, key=lambda r: -r["string"])  # lowest string first
@@ -62,3 +70,23 @@ def balance_db(rows: list[dict]) -> np.ndarray:
     """Each string's output in dB re the loudest string of the coil."""
     s = np.abs([r["sensitivity_v_s_per_m"] for r in rows])
     return 20.0 * np.log10(s / s.max())
+
+
+def saturation_warning(rec: dict) -> str | None:
+    """One line when a string's linear polarisation passes :data:`SATURATION_WARN_T`, else None.
+
+    The model's string is linear (µr constant), so past the steel's
+    saturation its magnetisation, and with it the output and the
+    distortion, keep growing where the real string's would not.
+    """
+    rows = rec["coils"]["coil_a"]  # the polarisation is the magnets', the same for both coils
+    over = [r for r in rows if r["polarization_t"] > SATURATION_WARN_T]
+    if not over:
+        return None
+    top = max(over, key=lambda r: r["polarization_t"])
+    strings = ", ".join(str(r["string"]) for r in sorted(over, key=lambda r: r["string"]))
+    return (
+        f"{rec['design']}: the linear string model polarises string{'s' if len(over) > 1 else ''} {strings} up to "
+        f"{top['polarization_t']:.1f} T (string {top['string']}); string steel saturates near 2 T (from memory), "
+        "so this design's output and distortion are overstated"
+    )

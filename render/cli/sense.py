@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from ..io.folders import refuse_existing as check_new
-from .options import emit_json, friendly, json_option, overwrite_option
+from .options import emit_json, friendly, json_option, overwrite_option, warn
 
 
 def print_record(rec: dict) -> None:
@@ -39,11 +39,13 @@ def sense_command(model, json_path, png_path, overwrite):
     2nd and 3rd harmonics of the EMF for a 0.5 mm vertical vibration. The
     field solve takes seconds the first time and is cached.
     """
-    from ..analysis.sense import sense_record
+    from ..analysis.sense import saturation_warning, sense_record
     from ..design import load_design
 
     check_new([json_path, png_path], overwrite=overwrite)
     rec = sense_record(load_design(model))
+    if note := saturation_warning(rec):
+        warn(note)
     if json_path != "-":
         print_record(rec)
     if png_path:

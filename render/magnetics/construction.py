@@ -64,7 +64,7 @@ STEEL_PERMEABILITY = STEEL.relative_permeability
 STRING_PERMEABILITY = 100.0
 WRAP_SHARE = 0.5
 CLEARANCE = 1.0e-3  # m, the least gap between a string at rest and the pole pieces' tops
-MODEL_VERSION = 3  # bump when the model's numbers change, so cached results are recomputed (3: the sensing function's slope terms)
+MODEL_VERSION = 4  # bump when the model's numbers change, so cached results are recomputed (3: the sensing function's slope terms; 4: the strings' polarisation kept)
 
 # Cell sizes of the solve (m): finer near the top faces, where the strings look.
 TOP_SLAB = 3e-3  # height of the finely cut top slab of each pole piece

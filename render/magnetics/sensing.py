@@ -41,6 +41,7 @@ from dataclasses import dataclass, fields
 from typing import Any
 
 import numpy as np
+from scipy.constants import mu_0
 
 from . import halfspace as hs
 from .coil import CoilGeometry, coil_centres, placed_coil
@@ -76,6 +77,8 @@ class StringSensing:
     dy, dz : np.ndarray, m, the table's offsets (sideways, vertical)
     flux : np.ndarray [shape=(len(dy), len(dz))], Wb, Φ at those offsets minus Φ at rest
     h2_db, h3_db : dB, harmonics of the EMF for a 0.5 mm peak vertical sine, re the fundamental
+    polarization : T, the largest |µ0·M| along the string at rest in the
+        magnets' field, as the linear string gives it (it does not saturate)
     """
 
     string: int
@@ -93,6 +96,7 @@ class StringSensing:
     flux: np.ndarray
     h2_db: float
     h3_db: float
+    polarization: float
 
     @property
     def lateral_db(self) -> np.ndarray:
@@ -204,10 +208,11 @@ def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometr
         levels = np.stack([field(y_lines, zs[s] + d) for d in dz], axis=2)  # (3, lines, levels, 3, n)
         rest, up = field(y_lines, zs[s]), field(y_lines, zs[s], d_dz=1)
         side = field(ys[s], zs[s], d_dy=1)[:, 0]
+        centre = int(np.flatnonzero(LATERAL == 0)[0])
+        polarization = float(mu_0 * np.linalg.norm(rod.magnetisation(rest[0][centre]), axis=0).max())
         for c in (0, 1):
             flux = rod.flux(levels[0], levels[1 + c])  # (lines, levels)
             rest0, rest1, dz0, dz1, dy0, dy1 = rest[0], rest[1 + c], up[0], up[1 + c], side[0], side[1 + c]
-            centre = int(np.flatnonzero(LATERAL == 0)[0])
             lat_z = np.array([rod.sensing(rest0[j], rest1[j], dz0[j], dz1[j], axis=2).sum() * rod.step for j in range(len(LATERAL))])
             along_z = rod.sensing(rest0[centre], rest1[centre], dz0[centre], dz1[centre], axis=2)
             along_y = rod.sensing(rest0[centre], rest1[centre], dy0, dy1, axis=1)
@@ -232,6 +237,7 @@ def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometr
                     flux=table,
                     h2_db=h2,
                     h3_db=h3,
+                    polarization=polarization,
                 )
             )
     return PickupSensing(

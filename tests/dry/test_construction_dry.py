@@ -46,6 +46,7 @@ def _sensing(*, sz=0.03, sy=0.0, quad=0.0, x0=0.04, width=0.008, strings=6) -> P
             flux=flux,
             h2_db=-99.0,
             h3_db=-99.0,
+            polarization=0.0,
         )
 
     coil = tuple(one(i) for i in range(strings))
