@@ -191,15 +191,26 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str, part
     unit = spec.kind.unit
     if value < 0 and spec.lo >= 0:
         raise InputError(f"{loc}={U.shown(raw)}: must not be negative")
+    rng = outside(value, spec)
+    if rng:
+        raise InputError(f"{loc}={U.shown(raw)} ({_fmt(value, unit)}): {rng}{_slip_hint(part[1] if part else key, raw, value, spec, part[0] if part else table)}")
+    return value
+
+
+def _fmt(x: float, unit: str) -> str:
+    # a plain number (k², a knob rotation) without SI prefixes: "0.95", not "950 m"
+    return U.format_si(x, unit) if unit else f"{x:g}"
+
+
+def outside(value: float, spec: Field) -> str:
+    """ "expected a plausible value, at least … and at most …" when ``value`` is outside ``spec``'s range, else ""."""
     too_low = value < spec.lo or (spec.lo_open and value <= spec.lo)
     too_high = value > spec.hi or (spec.hi_open and value >= spec.hi)
-    if too_low or too_high:
-        # a plain number (k², a knob rotation) without SI prefixes: "0.95", not "950 m"
-        fmt = (lambda x: U.format_si(x, unit)) if unit else (lambda x: f"{x:g}")
-        lo = fmt(spec.lo) if spec.lo else "0"
-        rng = f"{'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {fmt(spec.hi)}"
-        raise InputError(f"{loc}={U.shown(raw)} ({fmt(value)}): expected a plausible value, {rng}{_slip_hint(part[1] if part else key, raw, value, spec, part[0] if part else table)}")
-    return value
+    if not (too_low or too_high):
+        return ""
+    unit = spec.kind.unit if isinstance(spec.kind, U.Kind) else ""
+    lo = _fmt(spec.lo, unit) if spec.lo else "0"
+    return f"expected a plausible value, {'above' if spec.lo_open else 'at least'} {lo} and {'below' if spec.hi_open else 'at most'} {_fmt(spec.hi, unit)}"
 
 
 def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -> dict[str, Any]:

@@ -66,7 +66,7 @@ def clips_command(
     from ..errors import InputError
     from ..io.folders import output_folder
 
-    dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di)
+    dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di, velocity_scale=velocity_scale)
     strength_m = read_strength(strength, dry)
     designs, rig = load_designs(models, rig=rig_path)
     if len({Path(d.source).stem for d in designs}) != len(designs):

@@ -427,7 +427,27 @@ def resolve(design, specs: dict):
             coils[name] = replace(coil, inductance=spec.ladder.dc_inductance, ladder=spec.ladder)
         else:
             coils[name] = _derived(coil, spec, design, name) if spec.kind == "derived" else _measured(coil, spec, design, name)
+            _check_limits(coils[name], spec, design.source, name)
     return replace(design, **coils)
+
+
+def _check_limits(coil, spec: CoilSpec, source: str, name: str) -> None:
+    """Refuse a fitted or derived coil whose R, L or C lies outside the plausible range a typed value must meet."""
+    from ..validate import outside
+    from .schema import COIL
+
+    for key in ("resistance", "inductance", "capacitance"):
+        value = float(getattr(coil, key))
+        rng = outside(value, COIL[key])
+        if not rng:
+            continue
+        shown = U.format_si(value, COIL[key].kind.unit)  # type: ignore[union-attr]
+        if spec.kind == "measured":
+            raise InputError(
+                f"{where(source, name, 'measured')}={U.shown(spec.measured)}: the fitted {key} {shown}: {rng}, as a typed {key} must be;"
+                " check the file's units (|Z| in kΩ read as Ω, a frequency in kHz read as Hz) and that it is a sweep of this coil"
+            )
+        raise InputError(f"{where(source, name, 'wire')}: the {key} derived from the wire and [{name}.geometry], {shown}: {rng}, as a typed {key} must be; check the wire, turns and sizes")
 
 
 def measured_files(design) -> list[dict]:

@@ -97,8 +97,13 @@ def _read_coil_values(data: Any, *, source: str, table: str, specs: dict) -> dic
 
 def _read_hum(data: Any, *, source: str, table: str = "hum") -> Hum:
     """A [hum] table, with its [[hum.source]] tables when given (they are then the whole field)."""
+    from ..magnetics.schema import all_zero, zero_profile_error
+
     if not isinstance(data, dict) or ("source" not in data and "sources" not in data):
-        return Hum(**read_table(data, HUM, source=source, table=table))
+        values = read_table(data, HUM, source=source, table=table)
+        if all_zero(values["harmonics"]):
+            raise zero_profile_error(where(source, table), values["harmonics"])
+        return Hum(**values)
     if "sources" in data:
         raise InputError(f"{where(source, table)}: unknown key 'sources'; write each source as its own [[hum.source]] table")
     from ..magnetics.schema import read_sources
@@ -111,6 +116,8 @@ def _read_hum(data: Any, *, source: str, table: str = "hum") -> Hum:
             ' remove field, or add it as a source (kind = "uniform", axis = [0, 0, 1])'
         )
     values = read_table(data, HUM, source=source, table=table)
+    if all_zero(values["harmonics"]):
+        raise zero_profile_error(where(source, table), values["harmonics"])
     values["sources"] = read_sources(items, source=source, n_harmonics=len(values["harmonics"]))
     return Hum(**values)
 
@@ -176,7 +183,16 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
             f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
             f"put the bias at {bias:.3g} V, outside the output's linear window {design.limit_low_v + sup['knee']:.3g}..{design.limit_high_v - sup['knee']:.3g} V{fix}"
         )
+    _check_places(design, source)
     return resolve(derive(design, construction), impedance_specs)
+
+
+def _check_places(design: Design, source: str) -> None:
+    """Refuse a hum source of ``source`` placed where its figures would mean nothing (too near a coil)."""
+    if design.hum.sources:
+        from ..magnetics.schema import check_source_places
+
+        check_source_places(design.hum.sources, coil_a=design.coil_a, coil_b=design.coil_b, source=source)
 
 
 def _split_coils(data: dict, *, source: str) -> tuple[dict, dict]:
@@ -251,4 +267,7 @@ def apply_rig(design: Design, rig_file: RigFile | None) -> Design:
     """The design as it plays into ``rig_file`` (unchanged when None)."""
     if rig_file is None:
         return design
-    return design.with_rig(rig_file.rig, rig_file.hum)
+    played = design.with_rig(rig_file.rig, rig_file.hum)
+    if rig_file.hum is not None:
+        _check_places(played, rig_file.source)
+    return played

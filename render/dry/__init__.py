@@ -38,6 +38,11 @@ __all__ = [
 
 PHRASE_SUFFIXES = (".toml",)
 DEFAULT_DRY = Path("dry_signals") / "default.toml"  # the demo phrase, from the project folder
+# A recording shorter than this holds no more than a pluck's first periods: no figure of its clip
+# (headroom, spectrum, loudness) means anything (common practice, no source).
+MIN_RECORDED_SECONDS = 0.05
+# A blind session levels its clips by ITU-R BS.1770-4 loudness, which needs one 400 ms block.
+MIN_BLIND_SECONDS = 0.4
 
 
 @dataclass(frozen=True)
@@ -74,14 +79,14 @@ def default_dry_path() -> Path:
     return shipped(DEFAULT_PHRASE)
 
 
-def check_dry_file(path: str | Path | None, *, seconds: float | None = None, recorded: bool = True) -> Path:
+def check_dry_file(path: str | Path | None, *, seconds: float | None = None, recorded: bool = True, velocity_scale: float = 1.0) -> Path:
     """The dry file a render will play (default: the demo phrase), refused before any work if it cannot be used.
 
     A phrase is read and checked whole, and ``seconds`` over :data:`~render.dry.phrase.MAX_SECONDS`
-    is refused for it; a recording is checked as audio when ``recorded`` (a DI to be un-voiced is not).
+    or a ``velocity_scale`` other than 1 (it scales a recording) is refused for it; a recording is
+    checked as audio when ``recorded`` (a DI to be un-voiced is not).
     """
     from ..errors import InputError
-    from ..io.audio import audio_info
     from .phrase import MAX_SECONDS
 
     dry = Path(path) if path else default_dry_path()
@@ -89,11 +94,23 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
         raise InputError(f"--dry={dry}: no such file; give a phrase (.toml) or an audio file")
     if dry.suffix.lower() in PHRASE_SUFFIXES:
         load_phrase(dry)
+        if velocity_scale != 1.0:
+            raise InputError(f"--velocity-scale={velocity_scale:g} scales a recorded dry file, not the phrase {dry}; pluck a phrase harder or softer with --strength")
         if seconds is not None and seconds > MAX_SECONDS:
             raise InputError(f"--seconds={seconds:g}: a phrase renders in memory, at most {MAX_SECONDS:g} s; for longer takes use a recording")
     elif recorded:
-        audio_info(dry)
+        check_recording(dry)
     return dry
+
+
+def check_recording(path: Path, *, blind: bool = False) -> None:
+    """Refuse an audio file a render cannot play (:func:`render.io.audio.audio_info`), or one too short to measure (for ``blind``, to level)."""
+    from ..io.audio import audio_info, too_short
+
+    least, why = (MIN_BLIND_SECONDS, "to level a blind session's clips (one BS.1770-4 loudness block)") if blind else (MIN_RECORDED_SECONDS, "to measure a clip")
+    short = too_short(str(path), audio_info(path), least, why)
+    if short:
+        raise short
 
 
 def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:

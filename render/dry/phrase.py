@@ -378,17 +378,21 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
     if events > MAX_EVENTS:
         raise InputError(f"{source}: events={events}: at most {MAX_EVENTS} [[note]] and [[chord]] entries; split the phrase")
 
+    given = quantity(top, "seconds", data["seconds"], TIME, low=0.0, high=MAX_SECONDS, low_open=True) if "seconds" in data else None
     notes: list[Note] = []
     for i, entry in enumerate(raw_notes, start=1):
         notes.append(_parse_note(Where(source, f"[[note]] #{i}"), entry, instrument, playing))
+        _check_starts_in(Where(source, f"[[note]] #{i}"), notes[-1].time, given)
     for i, entry in enumerate(raw_chords, start=1):
-        notes.extend(_parse_chord(Where(source, f"[[chord]] #{i}"), entry, instrument, playing))
+        chord = _parse_chord(Where(source, f"[[chord]] #{i}"), entry, instrument, playing)
+        _check_starts_in(Where(source, f"[[chord]] #{i}"), min((n.time for n in chord), default=0.0), given)
+        notes.extend(chord)
     ordered = tuple(sorted(notes, key=lambda n: n.time))  # stable: ties keep the file's order
 
     _check_same_start(source, ordered)
 
-    if "seconds" in data:
-        seconds = quantity(top, "seconds", data["seconds"], TIME, low=0.0, high=MAX_SECONDS, low_open=True)
+    if given is not None:
+        seconds = given
     else:
         seconds = 0.0
         for note in ordered:
@@ -743,6 +747,12 @@ def _parse_chord(where: Where, table: Any, instrument: Instrument, playing: _Pla
             )
         )
     return notes
+
+
+def _check_starts_in(where: Where, time: float, seconds: float | None) -> None:
+    """Refuse an event that starts at or after the phrase's end (it would never be heard)."""
+    if seconds is not None and time >= seconds:
+        raise where.fail("time", round(time, 6), f"starts at or after the phrase's end (seconds = {seconds:g}), so it is never heard", f"raise seconds above {time:g}, or move the event earlier")
 
 
 def _check_same_start(source: str, notes: tuple[Note, ...]) -> None:

@@ -87,6 +87,14 @@ def _reason(e: BaseException) -> str:
     return re.sub(r"^Error opening .*?: ", "", text)
 
 
+def too_short(name: str, info: AudioInfo, min_seconds: float, needed_for: str) -> InputError | None:
+    """The refusal of a file shorter than ``min_seconds`` ("too short: …; at least … s is needed to …"), or None."""
+    if info.frames >= min_seconds * info.sample_rate:
+        return None
+    n = f"{info.frames} sample{'s' if info.frames != 1 else ''}"
+    return InputError(f"{name}: too short: {info.seconds * 1e3:.4g} ms ({n} at {info.sample_rate} Hz); at least {min_seconds:g} s is needed {needed_for}; give a longer recording")
+
+
 def audio_info(path: str | Path, *, max_seconds: float | None = None, max_channels: int = 2) -> AudioInfo:
     """What a usable audio file holds; InputError (one line) if it cannot be used.
 

@@ -33,6 +33,24 @@ def make_folder(path: str | Path) -> Path:
     return p
 
 
+@contextlib.contextmanager
+def folder_kept_on_success(path: str | Path) -> Iterator[Path]:
+    """Create ``path`` (and its missing parents); if the body raises, remove each one made here that is still empty.
+
+    So a refusal after the folder was made leaves nothing behind.
+    """
+    p = Path(path)
+    missing = [q for q in (p, *p.parents) if not q.exists()]
+    folder = make_folder(p)
+    try:
+        yield folder
+    except BaseException:
+        for q in missing:  # deepest first
+            with contextlib.suppress(OSError):
+                q.rmdir()  # only an empty folder goes
+        raise
+
+
 def new_run_folder(root: Path = OUTPUTS, prefix: str = "clips") -> Path:
     """A fresh ``root/<prefix>-<date>-<time>`` name (not created), never one that exists."""
     stamp = time.strftime("%Y%m%d-%H%M%S")
@@ -56,6 +74,7 @@ def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = 
         raise InputError(f"--out={out}: is a file; give a folder")
     if out.exists() and any(out.iterdir()) and not overwrite:
         raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite to replace its files or choose another folder")
+    _CLAIMED[str(out.absolute())] = time.time_ns()
     return out
 
 
@@ -64,6 +83,42 @@ INCOMPLETE_TEXT = (
     "This run has not finished: it is still running, or it was stopped (Ctrl-C, SIGTERM, SIGHUP, a kill).\n"
     "Every file in this folder is whole, but some may be missing. Run the command again with --overwrite.\n"
 )
+
+
+RUN_FILES = ".run-files"  # the files a run wrote in its folder, one relative path a line; its next --overwrite removes those it does not write again
+_CLAIMED: dict[str, int] = {}  # folder -> when output_folder() gave it to a run (ns): a file written there since is that run's (a --from-di velocity, written before the run's folder opens)
+
+
+def _files(folder: Path) -> dict[str, tuple[int, int, int]]:
+    """Every file below ``folder`` (but the run's own list and marker): relative path -> (inode, mtime ns, size)."""
+    out = {}
+    for p in folder.rglob("*"):
+        if p.is_file() and p.name not in (RUN_FILES, INCOMPLETE) and not p.name.startswith(".tmp-"):
+            st = p.stat()
+            out[p.relative_to(folder).as_posix()] = (st.st_ino, st.st_mtime_ns, st.st_size)
+    return out
+
+
+def _listed(folder: Path) -> set[str]:
+    """The files an earlier run in ``folder`` listed as its own (none without a list)."""
+    try:
+        text = (folder / RUN_FILES).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        return set()
+    return {line for line in text.splitlines() if line and not line.startswith("/") and ".." not in Path(line).parts}
+
+
+def _remove_stale(folder: Path, stale: set[str]) -> None:
+    """Remove an earlier run's files this run did not write again, and the sub-folders they leave empty."""
+    for rel in sorted(stale, key=lambda r: -r.count("/")):
+        p = folder / rel
+        with contextlib.suppress(OSError):
+            if p.is_file() and not p.is_symlink():
+                p.unlink()
+            for q in p.parents:
+                if q == folder or folder not in q.parents:
+                    break
+                q.rmdir()  # an OSError (not empty) ends the climb
 
 
 @contextlib.contextmanager
@@ -76,24 +131,41 @@ def run_folder(path: str | Path) -> Iterator[Path]:
     stopped workers left behind are removed; a folder with nothing else in it
     goes too (the marker, and the folder if this run made it), otherwise the
     marker stays.
+
+    The run lists the files it wrote in :data:`RUN_FILES`. Run again into the
+    folder (``--overwrite``), it removes the files an earlier run listed and it
+    did not write again, so the folder holds this run's outputs only; files it
+    never listed (a listener's notes) are left alone. A stopped or refused run
+    writes nothing more, its list included.
     """
     from .atomic import fsync_folder, write_text
 
     made = not Path(path).exists()
     folder = make_folder(path)
+    earlier = _listed(folder)
+    before = _files(folder)
+    since = _CLAIMED.pop(str(folder.absolute()), None)
     marker = folder / INCOMPLETE
     write_text(marker, INCOMPLETE_TEXT, overwrite=True)
+
+    def written() -> set[str]:
+        return {rel for rel, st in _files(folder).items() if before.get(rel) != st or (since is not None and st[1] >= since)}
+
     try:
         yield folder
     except BaseException:
         for leftover in folder.glob(".tmp-*"):
             with contextlib.suppress(OSError):
                 leftover.unlink()
-        if not [p for p in folder.iterdir() if p.name != INCOMPLETE]:
+        if not [p for p in folder.iterdir() if p.name not in (INCOMPLETE, RUN_FILES)]:
             with contextlib.suppress(OSError):
                 marker.unlink()
+                (folder / RUN_FILES).unlink(missing_ok=True)
                 if made:
                     folder.rmdir()
         raise
+    mine = written()
+    _remove_stale(folder, earlier - mine)
+    write_text(folder / RUN_FILES, "".join(f"{r}\n" for r in sorted(mine)), overwrite=True)
     marker.unlink()
     fsync_folder(folder)

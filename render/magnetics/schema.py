@@ -16,10 +16,12 @@ from __future__ import annotations
 
 from typing import Any
 
+import numpy as np
+
 from .. import units as U
 from ..errors import InputError
 from ..validate import Field, read_table, read_value
-from .coil import CoilGeometry, geometry_from_winding
+from .coil import CoilGeometry, coil_pair, geometry_from_winding
 from .hum import DipoleSource, UniformSource
 
 SIZE: dict[str, Any] = dict(lo=1e-4, hi=0.3, lo_open=False)  # 0.1 mm .. 30 cm: any pickup bobbin
@@ -32,6 +34,10 @@ GEOMETRY = {
     "height": Field(U.LENGTH, True, doc="winding height along the coil's axis (z)", **SIZE),
 }
 MAX_SOURCES = 64
+# A point dipole stands for a source seen from a few times its own size; nearer than this to a
+# coil's centre it would sit in the pickup's own field region, where a transformer or an adapter
+# is no point at all, and its figures mean nothing (common practice, no source).
+NEAR_DIPOLE_M = 0.10
 PLACE_M = 100.0  # a source's coordinates, ± this many metres
 COMMON = {
     "harmonics": Field("list", doc="relative amplitudes of harmonics 1, 2, …; default the [hum] profile"),
@@ -46,6 +52,44 @@ UNIFORM = {
     **COMMON,
 }
 VECTORS = ("kind", "at", "axis")  # read here, not by read_table
+
+
+def all_zero(profile) -> bool:
+    """True when a harmonic profile has no non-zero amplitude (no field at any harmonic)."""
+    return profile is not None and not any(profile)
+
+
+def zero_profile_error(loc: str, profile) -> InputError:
+    """The refusal of a harmonic profile that is all zero: there would be no hum to measure."""
+    shown = "[" + ", ".join(f"{x:g}" for x in profile) + "]"
+    return InputError(
+        f"{loc} harmonics={shown}: every amplitude is 0, so there is no hum field; give the fundamental 1.0 (e.g. harmonics = [1.0, 0.05, 0.3]), or leave harmonics out for the default profile"
+    )
+
+
+def check_source_places(sources, *, coil_a, coil_b, source: str) -> None:
+    """Refuse a dipole within :data:`NEAR_DIPOLE_M` of either coil's centre (one line; a dipole inside a winding says so).
+
+    coil_a, coil_b : the design's :class:`render.design.Coil` (position, geometry or turns_area)
+    """
+    if not any(s.kind == "dipole" for s in sources):
+        return
+    specs = [c.geometry if c.geometry is not None else c.turns_area for c in (coil_a, coil_b)]
+    placed = coil_pair(*specs, position_a=coil_a.position, position_b=coil_b.position)
+    for i, s in enumerate(sources):
+        if s.kind != "dipole":
+            continue
+        at = np.asarray(s.at, dtype=float)
+        loc = f"{_loc(source, f'hum.source {i + 1}')} at=[{', '.join(f'{x:g}' for x in s.at)}] m"
+        for name, c in zip(("coil_a", "coil_b"), placed):
+            if c.inside(at):
+                raise InputError(f"{loc}: lies within {name}'s winding; a dipole source must sit outside the pickup, {NEAR_DIPOLE_M * 100:g} cm or more from each coil")
+            r = float(np.linalg.norm(at - np.asarray(c.centre)))
+            if r < NEAR_DIPOLE_M:
+                raise InputError(
+                    f"{loc}: {r * 100:.3g} cm from {name}'s centre, closer than {NEAR_DIPOLE_M * 100:g} cm: a point dipole there stands for no real source"
+                    f" (the pickup's own field region); move it {NEAR_DIPOLE_M * 100:g} cm or more from both coils"
+                )
 
 
 def _loc(source: str, table: str, key: str | None = None) -> str:
@@ -116,6 +160,12 @@ def read_sources(items: Any, *, source: str, n_harmonics: int) -> tuple:
         values = read_table({k: v for k, v in t.items() if k not in VECTORS}, specs, source=source, table=table)
         if "harmonics" in values and len(values["harmonics"]) != n_harmonics:
             raise InputError(f"{where} harmonics: {len(values['harmonics'])} values, but the [hum] profile has {n_harmonics}: give one per harmonic")
+        if all_zero(values.get("harmonics")):
+            raise zero_profile_error(where, values["harmonics"])
+        strength = "moment" if kind == "dipole" else "field"
+        if values[strength] == 0.0:
+            example = "moment = 0.05" if kind == "dipole" else 'field = "0.1uT"'
+            raise InputError(f"{where} {strength}=0: a source of no strength makes no hum; give its {strength} (e.g. {example}), or remove this [[hum.source]] table")
         axis = _vector(t.get("axis", [0, 0, 1]), kind=U.RATIO, where=f"{where} axis", limit=1e6)
         if kind == "dipole":
             if "at" not in t:

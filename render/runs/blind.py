@@ -192,6 +192,10 @@ def session_dry_file(dry_path: str | Path | None) -> Path:
     dry_file = Path(dry_path) if dry_path else default_dry_path()
     if not dry_file.is_file():
         raise InputError(f"--dry={dry_file}: no such file; pass a phrase (.toml) or a recording")
+    if dry_file.suffix.lower() != ".toml":
+        from ..dry import check_recording
+
+        check_recording(dry_file, blind=True)
     return dry_file
 
 

@@ -62,7 +62,7 @@ def _open_di(path: Path):
     """(sample_rate, frames) of a mono audio file, or InputError."""
     import soundfile as sf
 
-    from ..io.audio import MAX_FILE_RATE, audio_info
+    from ..io.audio import MAX_FILE_RATE, AudioInfo, audio_info, too_short
 
     name = str(path)
     try:
@@ -73,8 +73,9 @@ def _open_di(path: Path):
     info = sf.info(name)
     if info.channels != 1:
         raise InputError(f"DI={name}: channels={info.channels}: a DI must be mono (one pickup output); export one channel")
-    if info.frames < MIN_SECONDS * info.samplerate:
-        raise InputError(f"DI={name}: {info.frames / info.samplerate:.3f} s: at least {MIN_SECONDS:g} s is needed to read its noise floor")
+    short = too_short(f"DI={name}", AudioInfo(channels=1, sample_rate=int(info.samplerate), frames=int(info.frames)), MIN_SECONDS, "to read its noise floor")
+    if short:
+        raise short
     if not 8000 <= info.samplerate <= MAX_FILE_RATE:  # the velocity WAV keeps the DI's rate; below 8 kHz no pickup band is left
         raise InputError(f"DI={name}: sample_rate={info.samplerate}: must be from 8000 to {MAX_FILE_RATE} Hz; resample the recording")
     if WAV_HEADER + 4 * info.frames >= 2**32:
@@ -263,7 +264,7 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     its plot), at 1 V DI full scale and 1 m/s velocity full scale. Returns the
     velocity WAV's path and a short JSON-ready record of the un-voicing.
     """
-    from ..io.folders import make_folder
+    from ..io.folders import folder_kept_on_success
     from ..io.hashing import sha256_file
 
     if di_path is None:
@@ -271,8 +272,8 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     di = Path(di_path)
     if di.suffix.lower() == ".toml":
         raise InputError(f"--dry={di}: is a phrase; --from-di un-voices a recording (WAV, FLAC, ...)")
-    folder = make_folder(folder)
-    res = unvoice(di, model_path, out=folder / f"{di.stem}-velocity.wav", rig_path=rig, overwrite=overwrite, plot=plot)
+    with folder_kept_on_success(folder) as made:
+        res = unvoice(di, model_path, out=made / f"{di.stem}-velocity.wav", rig_path=rig, overwrite=overwrite, plot=plot)
     r = res.record
     band = r["trusted_band_hz"]
     summary = {

@@ -48,13 +48,13 @@ def assert_refused(result, fragment: str | None = None):
 def check_outputs(folder: Path, *, frames: int | None = None, sample_rate: int = 48000) -> list[str]:
     """Every file under a final name in ``folder`` reads whole: each .wav with soundfile (with
     ``frames`` frames when given), each .json parses, each .png opens. Returns the final names;
-    temporary ``.tmp-*`` files are left out (they are never final names)."""
+    temporary ``.tmp-*`` files and the run's ``.run-files`` list are left out."""
     import soundfile as sf
     from PIL import Image
 
     names = []
     for p in sorted(folder.iterdir()):
-        if p.name.startswith(".tmp-"):
+        if p.name.startswith(".tmp-") or p.name == ".run-files":  # the run's list of its files is no output to read
             continue
         names.append(p.name)
         if p.suffix == ".wav":

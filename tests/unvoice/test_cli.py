@@ -144,7 +144,7 @@ def _text(folder):
     [
         (lambda f: f / "missing.wav", (), "DI="),
         (_stereo, (), "channels=2"),
-        (_short, (), "0.200 s"),
+        (_short, (), "too short: 200 ms"),
         (_nan, (), "sample 1234"),
         (_silent, (), "every sample is 0"),
         (_text, (), "cannot be read as audio"),
