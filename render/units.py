@@ -258,6 +258,14 @@ def format_si(x: float, unit: str = "", digits: int = 3) -> str:
     return f"{text} {p}{unit}".strip()
 
 
+def microvolts(v: float, width: int, decimals: int) -> str:
+    """A voltage (V) right-aligned in ``width`` + 3 characters: in µV with ``decimals`` places where
+    that shows it (from one unit of the last place up to 100 mV), otherwise with the prefix that
+    does (``"260.3 mV"``, ``"4.2 pV"``)."""
+    text = f"{v * 1e6:.{decimals}f} µV" if v == 0 or 10.0 ** (-6 - decimals) <= abs(v) < 0.1 else format_si(v, "V", 4)
+    return f"{text:>{width + 3}s}"
+
+
 def format_rkm(x: float, unit_letter: str = "R", digits: int = 3) -> str:
     """Write ``x`` as an IEC 60062 RKM code: ``4700 -> "4k7"``, ``0.47 -> "R47"``.
 

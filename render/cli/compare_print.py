@@ -34,7 +34,10 @@ def _hz(f: float) -> str:
 
 
 def _uv(v: float) -> str:
-    return f"{v * 1e6:.3g} µV"
+    """In µV where that shows it (1 nV to 100 mV), otherwise with the prefix that does."""
+    from ..units import format_si
+
+    return f"{v * 1e6:.3g} µV" if v == 0 or 1e-9 <= abs(v) < 0.1 else format_si(v, "V", 3)
 
 
 def _who(hon) -> str:
@@ -63,6 +66,7 @@ def scale_lines(scales) -> list[str]:
         ("signal to hum", [f"{_ratio(s.signal_v, s.hum_v)} (A: {_ratio(s.signal_v, s.hum_a_v)})" if s.hum_v > 0 else "no hum" for s in scales]),
         ("signal to noise", [f"{_ratio(s.signal_v, s.noise_v)} (A: {_ratio(s.signal_v, s.noise_a_v)})" for s in scales]),
     ]
+    w = max(w, 2 + max(len(c) for _, cells in rows for c in cells))  # columns never run together
     out = [
         f"  hum and noise on one scale: rms at the amp input, 20 Hz–20 kHz, against a {_hz(s0.reference_hz)} sine of {s0.reference_velocity:g} m/s rms string velocity",
         f"  {'':20s}" + "".join(f"{s.circuit:{w}s}" for s in scales).rstrip(),

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from ..units import format_si, microvolts
 from .options import warn
 
 
@@ -22,12 +23,14 @@ def print_source(s: dict) -> None:
     what = f"dipole {s['moment_a_m2']:g} A·m² at {_vector(s['at_m'])} m ({s['distance_m']:.3g} m away)" if s["kind"] == "dipole" else f"uniform {s['field_t'] * 1e6:g} µT"
     extra = ("" if s["harmonics"] is None else ", its own harmonics") + ("" if s["phase_deg"] == 0 else f", phase {s['phase_deg']:g}°")
     link = s["linkage_wb"]
-    click.echo(f"  source {s['source']}: {what}, axis {_vector(s['axis'])}{extra}; flux linkage coil_a {link['coil_a'] * 1e9:.4g} nWb, coil_b {link['coil_b'] * 1e9:.4g} nWb peak")
+    click.echo(
+        f"  source {s['source']}: {what}, axis {_vector(s['axis'])}{extra}; flux linkage coil_a {format_si(link['coil_a'] + 0.0, 'Wb', 4)}, coil_b {format_si(link['coil_b'] + 0.0, 'Wb', 4)} peak"
+    )
 
 
 def _total(v_rms: float, reason: str | None) -> str:
-    """A total hum in µV rms, or "none" with its reason when it is exactly zero."""
-    return f"{v_rms * 1e6:.3f} µV rms" if v_rms > 0 or not reason else f"none ({reason})"
+    """A total hum in µV rms (another prefix where µV would hide it), or "none" with its reason when it is exactly zero."""
+    return f"{microvolts(v_rms, 0, 3)} rms" if v_rms > 0 or not reason else f"none ({reason})"
 
 
 def print_report(d, r) -> None:
@@ -40,11 +43,11 @@ def print_report(d, r) -> None:
     click.echo("  harmonic  frequency   rejection   hum at amp input   coil_a alone   coil_b alone   (amplitudes: peak)")
     for h in r.harmonics:
         rej = _rejection(h.rejection_db, h.rejection_db_reason)
-        click.echo(f"  {h.harmonic:>8d}  {h.frequency_hz:7.0f} Hz  {rej:>9s}   {h.output_v * 1e6:12.3f} µV   {h.coil_a_v * 1e6:9.2f} µV   {h.coil_b_v * 1e6:9.2f} µV")
+        click.echo(f"  {h.harmonic:>8d}  {h.frequency_hz:7.0f} Hz  {rej:>9s}   {microvolts(h.output_v, 12, 3)}   {microvolts(h.coil_a_v, 9, 2)}   {microvolts(h.coil_b_v, 9, 2)}")
         if n > 1:  # each source's share (shares add as phasors)
             for s in h.sources:
                 srej = _rejection(s["rejection_db"], s.get("rejection_db_reason"))
-                click.echo(f"       source {s['source']:<2d}       {srej:>9s}   {s['output_v'] * 1e6:12.3f} µV   {s['coil_a_v'] * 1e6:9.2f} µV   {s['coil_b_v'] * 1e6:9.2f} µV")
+                click.echo(f"       source {s['source']:<2d}       {srej:>9s}   {microvolts(s['output_v'], 12, 3)}   {microvolts(s['coil_a_v'], 9, 2)}   {microvolts(s['coil_b_v'], 9, 2)}")
     # signal to hum is printed once, on the scale it shares with noise (the block below)
     click.echo(f"  total hum {_total(r.total_v_rms, r.signal_to_hum_reason)}; passive reference {_total(r.passive_total_v_rms, r.passive_signal_to_hum_reason)}")
     if n > 1:
