@@ -100,7 +100,10 @@ def _hz(f: float) -> str:
 
 
 def _short(x: float) -> str:
-    return f"{x / 1e3:.3g}k" if x >= 1e3 else f"{x:.3g}"
+    """|Z| in a table cell: 3 figures and the SI prefix, no space ("185", "1.01k", "4.11M")."""
+    from ..units import format_si
+
+    return format_si(x, "", 3).replace(" ", "")
 
 
 @click.command("show")

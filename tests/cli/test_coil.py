@@ -290,3 +290,12 @@ def test_a_passive_comparison_pickups_coils_are_shown(tmp_path):
     rec = json.loads(js.read_text())
     f0 = 1 / (2 * math.pi * math.sqrt(2.1 * 240e-12))
     assert rec["coils"]["coil_a"]["self_resonance_hz"] == pytest.approx(f0, rel=0.01)
+
+
+def test_impedance_cells_keep_apart_at_any_size():
+    # A formatting check, no physics: a cell is 3 figures with its SI prefix (IEC 60050 prefixes),
+    # so megohms do not run into the next cell as "4.11e+03k" did.
+    from render.cli.coil import _short
+
+    assert [_short(v) for v in (185.0, 1010.0, 9520.0, 4.11e6)] == ["185", "1.01k", "9.52k", "4.11M"]
+    assert all(len(_short(v)) <= 7 for v in (1e-3, 0.5, 999.4, 1e5, 9.99e8))  # each fits its 8-wide cell with a space
