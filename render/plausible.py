@@ -141,6 +141,10 @@ def design_warnings(design) -> tuple[str, ...]:
     out += measured_warnings(design)
     out += coil_warnings(design)
     out += bandwidth_warnings(design)
+    from .analysis.sense import design_saturation_warning
+
+    if note := design_saturation_warning(design):  # the model's limit, not a slipped value: its strings past saturation
+        out.append(note)
     return tuple(out)
 
 

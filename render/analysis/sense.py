@@ -72,21 +72,31 @@ def balance_db(rows: list[dict]) -> np.ndarray:
     return 20.0 * np.log10(s / s.max())
 
 
-def saturation_warning(rec: dict) -> str | None:
+def saturation_warning(polarizations: dict[int, float]) -> str | None:
     """One line when a string's linear polarisation passes :data:`SATURATION_WARN_T`, else None.
+
+    polarizations : {string number: T}, each string's largest polarisation at rest
 
     The model's string is linear (µr constant), so past the steel's
     saturation its magnetisation, and with it the output and the
     distortion, keep growing where the real string's would not.
     """
-    rows = rec["coils"]["coil_a"]  # the polarisation is the magnets', the same for both coils
-    over = [r for r in rows if r["polarization_t"] > SATURATION_WARN_T]
+    over = sorted(k for k, v in polarizations.items() if v > SATURATION_WARN_T)
     if not over:
         return None
-    top = max(over, key=lambda r: r["polarization_t"])
-    strings = ", ".join(str(r["string"]) for r in sorted(over, key=lambda r: r["string"]))
+    top = max(over, key=lambda k: polarizations[k])
     return (
-        f"{rec['design']}: the linear string model polarises string{'s' if len(over) > 1 else ''} {strings} up to "
-        f"{top['polarization_t']:.1f} T (string {top['string']}); string steel saturates near 2 T (from memory), "
+        f"[construction] the linear string model polarises string{'s' if len(over) > 1 else ''} {', '.join(map(str, over))} up to "
+        f"{polarizations[top]:.1f} T (string {top}); string steel saturates near 2 T (from memory), "
         "so this design's output and distortion are overstated"
     )
+
+
+def design_saturation_warning(design) -> str | None:
+    """:func:`saturation_warning` for a design with a construction (None without one)."""
+    from ..design.construction import sensing
+
+    result = sensing(design)
+    if result is None:
+        return None
+    return saturation_warning({int(s.string): float(s.polarization) for s in result.coil_a})  # the magnets' field: the same for both coils

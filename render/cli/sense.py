@@ -44,8 +44,8 @@ def sense_command(model, json_path, png_path, overwrite):
 
     check_new([json_path, png_path], overwrite=overwrite)
     rec = sense_record(load_design(model))
-    if note := saturation_warning(rec):
-        warn(note)
+    if note := saturation_warning({r["string"]: r["polarization_t"] for r in rec["coils"]["coil_a"]}):
+        warn(f"{rec['design']}: {note}")
     if json_path != "-":
         print_record(rec)
     if png_path:
