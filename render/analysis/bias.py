@@ -148,6 +148,9 @@ def sine_distortion(design, *, velocity_peak: float, frequency_hz: float = SINE_
 # The library form of ``render bias``
 
 REALISTIC_VELOCITY = 20.0  # m/s peak string velocity (common practice, no source)
+# --sine-velocity accepted, m/s peak: a plucked string moves at a few m/s (common practice, no source), so 1 mm/s
+# is far below a soft pluck and 100 m/s far past any playing (render bias --sine-velocity uses the same range)
+SINE_VELOCITY_RANGE = (0.001, 100.0)
 RATIO_RANGE = (0.02, 0.98)
 
 
@@ -233,6 +236,10 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
             raise InputError(f"--top={','.join(f'{x:g}' for x in tops)}, --bottom={','.join(f'{x:g}' for x in bottoms)}: need lists of equal length of resistances from 1 Ω to 1 GΩ")
     elif any(not RATIO_RANGE[0] <= r <= RATIO_RANGE[1] for r in ratios):
         raise InputError(f"--ratios={','.join(f'{r:g}' for r in ratios)}: each ratio bottom/(top+bottom) must be from {RATIO_RANGE[0]:g} to {RATIO_RANGE[1]:g}")
+    if sine_velocity is not None:
+        from ..option_checks import number
+
+        number("--sine-velocity", sine_velocity, lo=SINE_VELOCITY_RANGE[0], hi=SINE_VELOCITY_RANGE[1], unit="m/s")
     if batteries and any(not 1.5 <= v <= 60 for v in batteries):
         raise InputError(f"--battery={','.join(f'{v:g}' for v in batteries)}: each battery voltage must be from 1.5 V to 60 V")
     settings = sweep(design, ratios=None if tops is not None else list(ratios), tops=tops, bottoms=bottoms, batteries=batteries, keep_load=keep_load, include_own=True)

@@ -7,6 +7,7 @@ from pathlib import Path
 import click
 
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, pluck_strength, rig_option, warn
+from .values import Finite, InFile, OutFolder, Seed
 
 
 def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
@@ -58,14 +59,19 @@ def print_bias_phrase(sw, clips) -> None:
 @click.option("--top", "tops", default=None, help="Explicit bias_top values, comma-separated (with --bottom, instead of --ratios).")
 @click.option("--bottom", "bottoms", default=None, help="Explicit bias_bottom values, comma-separated.")
 @click.option("--keep-load/--keep-sum", default=True, show_default=True, help="Keep the divider's parallel resistance (the input loading) or its total resistance while the ratio moves.")
-@click.option("--battery", "batteries", default=None, help="Battery voltages to sweep, e.g. 9,8,7 (default: the design's).")
-@click.option("--dry", "dry_path", type=click.Path(dir_okay=False), default=None, help="Phrase for the clips (default: dry_signals/default.toml).")
+@click.option("--battery", "batteries", default=None, help="Battery voltages to sweep, e.g. 9,8,7 or 9V,8V (default: the design's).")
+@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase for the clips (default: dry_signals/default.toml).")
 @click.option("--strength", default=None, help="Pluck every note of the phrase this hard (initial displacement, e.g. 2mm).")
-@click.option("--sine-velocity", type=float, default=None, help="Peak string velocity (m/s) of the 1 kHz test sine (default: 1.4 × the design's first clip onset, i.e. +3 dB past it).")
-@click.option("--seconds", type=click.FloatRange(min=0.5, max=600), default=None, help="Length of the clips (default: the phrase's).")
-@click.option("--seed", type=int, default=0, show_default=True)
-@click.option("--target-lufs", type=click.FloatRange(min=-70, max=0), default=-23.0, show_default=True, help="Loudness of the matched copies (EBU R 128: -23 LUFS).")
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Folder for clips and plots (default: a new outputs/bias-<time> folder).")
+@click.option(
+    "--sine-velocity",
+    type=Finite(0.001, 100, unit="m/s"),
+    default=None,
+    help="Peak string velocity (m/s, 0.001 to 100) of the 1 kHz test sine (default: 1.4 × the design's first clip onset, i.e. +3 dB past it).",
+)
+@click.option("--seconds", type=Finite(0.5, 600, unit="s"), default=None, help="Length of the clips (default: the phrase's).")
+@click.option("--seed", type=Seed(), default=0, show_default=True, help="Seed for the phrase's small variations.")
+@click.option("--target-lufs", type=Finite(-70, 0, unit="LUFS"), default=-23.0, show_default=True, help="Loudness of the matched copies (EBU R 128: -23 LUFS).")
+@click.option("--out", "out_dir", type=OutFolder(), default=None, help="Folder for clips and plots (default: a new outputs/bias-<time> folder).")
 @click.option("--no-clips", is_flag=True, help="Measure only; write no audio.")
 @jobs_option("Settings in this many processes (results identical to one).")
 @json_option()
@@ -87,7 +93,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     from ..errors import InputError
     from ..io.folders import output_folder, refuse_existing
     from ..runs.bias import check_strength, sweep_record, write_bias_clips
-    from ..units import RESISTANCE
+    from ..units import RESISTANCE, VOLTAGE
 
     refuse_existing([json_path], overwrite=overwrite)
     strength_m = pluck_strength(strength)
@@ -101,7 +107,15 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
         warn(w)
     (design,), _ = load_designs([model], rig=rig_path)
     kinds = {"tops": _floats(tops, "--top", kind=RESISTANCE, like="100k,220k"), "bottoms": _floats(bottoms, "--bottom", kind=RESISTANCE, like="100k,220k")}
-    sw = bias_sweep(design, ratios=_floats(ratios, "--ratios"), **kinds, batteries=_floats(batteries, "--battery", like="9,8,7"), keep_load=keep_load, sine_velocity=sine_velocity, jobs=jobs)
+    sw = bias_sweep(
+        design,
+        ratios=_floats(ratios, "--ratios"),
+        **kinds,
+        batteries=_floats(batteries, "--battery", kind=VOLTAGE, like="9,8,7 or 9V,8V,7V"),
+        keep_load=keep_load,
+        sine_velocity=sine_velocity,
+        jobs=jobs,
+    )
     for w in sw.warnings:
         warn(w)
     print_sweep(sw)

@@ -10,6 +10,7 @@ from __future__ import annotations
 import click
 
 from .options import friendly, overwrite_option, rig_option, sample_rate_option
+from .values import InFile, OutFolder
 
 CAUTION = "(start with the volume low: a clipped clip stays loud even when matched)"
 
@@ -46,24 +47,22 @@ def print_blind_session(session) -> None:
 
 
 @click.command("blind")
-@click.argument("model_a", type=click.Path(dir_okay=False))
-@click.argument("model_b", type=click.Path(dir_okay=False))
-@click.option("--dry", "dry_path", type=click.Path(dir_okay=False), default=None, help="What is played: a phrase (.toml) or a recording (default dry_signals/default.toml).")
+@click.argument("model_a", type=InFile())
+@click.argument("model_b", type=InFile())
+@click.option("--dry", "dry_path", type=InFile(), default=None, help="What is played: a phrase (.toml) or a recording (default dry_signals/default.toml).")
 @rig_option
 @click.option("--trials", default=16, show_default=True, type=int, help="Number of trials.")
 @click.option("--method", default="abx", show_default=True, type=click.Choice(["abx", "preference"]), help="abx: is X the same as A or B; preference: A, B or no preference.")
 @click.option(
     "--seed", default=None, type=int, help="Seed of the trial draws (default: a fresh random one, kept in the key). Anyone who knows the seed can redraw the key: leave it unset for a real session."
 )
-@click.option("--out", "out", type=click.Path(file_okay=False), default=None, help="Session folder to create (default: outputs/blind-<time>).")
+@click.option("--out", "out", type=OutFolder(), default=None, help="Session folder to create (default: outputs/blind-<time>).")
 @click.option("--target-lufs", default=-23.0, show_default=True, type=float, help="Integrated loudness both clips are matched to (EBU R 128: -23).")
 @click.option("--true-peak-dbtp", default=-1.0, show_default=True, type=float, help="True-peak ceiling; both clips are lowered together if either would pass it.")
 @click.option("--seconds", default=None, help='Clip length ("8s", 4.5; default: the dry signal\'s own, at most 120 s).')
 @sample_rate_option
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Render the room's hum with the signal.")
-@click.option(
-    "--from-di", "from_di", type=click.Path(dir_okay=False), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it (render unvoice) and play the estimate."
-)
+@click.option("--from-di", "from_di", type=InFile(), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it (render unvoice) and play the estimate.")
 @overwrite_option
 @friendly
 def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, out, target_lufs, true_peak_dbtp, seconds, sample_rate, hum, from_di, overwrite):

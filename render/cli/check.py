@@ -8,6 +8,7 @@ from ..design import load_designs
 from ..io.folders import refuse_existing as check_new
 from .compare_print import compare_option
 from .options import emit_json, friendly, json_option, overwrite_option, rig_option, warn
+from .values import Finite, InFile
 
 
 def print_design(rec):
@@ -84,12 +85,12 @@ def print_geometry(name, c):
 
 
 @click.command("check")
-@click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
+@click.argument("models", nargs=-1, type=InFile())
 @rig_option
 @click.option(
     "--turns-sweep",
     "turns_percent",
-    type=click.FloatRange(min=0.1, max=50),
+    type=Finite(0.1, 50, unit="%"),
     default=None,
     help="Also print what ±PERCENT turns on coil_b alone, and on both coils, does to L, R, resonance and hum rejection.",
 )

@@ -11,34 +11,35 @@ import click
 
 from .compare_print import compare_option
 from .options import friendly, jobs_option, overwrite_option, rig_option, sample_rate_option, warn
+from .values import Finite, InFile, OutFolder, Seed
 
 CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
 
 
 @click.command("clips")
 @click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
-@click.option("--dry", "dry_path", type=click.Path(dir_okay=False), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
+@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
 @rig_option
-@click.option("--out", "out_dir", type=click.Path(), default=None, help="Output folder (default: a new outputs/clips-<time> folder).")
+@click.option("--out", "out_dir", type=OutFolder(), default=None, help="Output folder (default: a new outputs/clips-<time> folder).")
 @overwrite_option
-@click.option("--seconds", type=click.FloatRange(min=0.01, max=3600), default=None, help="Length of every clip (default: the dry signal's own).")
+@click.option("--seconds", type=Finite(0.01, 3600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
 @sample_rate_option
-@click.option("--velocity-scale", type=click.FloatRange(min=1e-6, max=1e3, min_open=True), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
+@click.option("--velocity-scale", type=Finite(1e-6, 1e3, lo_open=True, unit="m/s"), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
 @click.option(
     "--from-di",
     "from_di",
-    type=click.Path(dir_okay=False),
+    type=InFile(),
     default=None,
     help="--dry is a DI recorded through this design's passive reference: un-voice it into the run folder (render unvoice) and play the estimate.",
 )
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Add the rig's mains hum field.")
 @click.option("--passive/--no-passive", default=False, show_default=True, help="Also render each design's passive reference (S-passive.wav).")
 @click.option("--noise/--no-noise", default=False, show_default=True, help="Add the circuit's noise floor (seeded).")
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed for the phrase's small variations and the noise.")
+@click.option("--seed", type=Seed(), default=0, show_default=True, help="Seed for the phrase's small variations and the noise.")
 @click.option("--strength", default=None, help="Pluck the phrase harder or softer: every pluck scaled alike so that its strongest is this (e.g. 2mm).")
 @click.option(
     "--volts-full-scale",
-    type=click.FloatRange(min=1e-3, max=100, min_open=True),
+    type=Finite(1e-3, 100, lo_open=True, unit="V"),
     default=None,
     help="Volts at WAV full scale, the same for every clip (default: the smallest of 0.1, 0.2, 0.5, 1, 2, 5 … V above the run's largest peak).",
 )

@@ -6,6 +6,7 @@ import click
 
 from ..io.folders import refuse_existing as check_new
 from .options import emit_json, friendly, json_option, overwrite_option
+from .values import InFile, OutFile
 
 SUBCOMMANDS = {"show": ("render.cli.coil", "show_command"), "fit": ("render.cli.coil_fit", "fit_command")}
 
@@ -107,9 +108,9 @@ def _short(x: float) -> str:
 
 
 @click.command("show")
-@click.argument("model", type=click.Path(dir_okay=False))
-@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), help="Write frequency and each coil's |Z| and phase, 20 Hz–20 kHz, as CSV.")
-@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Plot each coil's |Z| and phase with its self-resonance.")
+@click.argument("model", type=InFile())
+@click.option("--csv", "csv_path", type=OutFile("coils.csv"), help="Write frequency and each coil's |Z| and phase, 20 Hz–20 kHz, as CSV.")
+@click.option("--png", "png_path", type=OutFile("coils.png"), help="Plot each coil's |Z| and phase with its self-resonance.")
 @json_option("Write each coil's impedance, self-resonance and where it came from as JSON to FILE ('-' for standard output).")
 @overwrite_option
 @friendly

@@ -6,6 +6,7 @@ import click
 
 from ..io.folders import refuse_existing as check_new
 from .options import emit_json, friendly, json_option, overwrite_option
+from .values import InFile, OutFile
 
 
 def ladder_words(series_h: float, sections: int, eng) -> str:
@@ -50,8 +51,8 @@ def print_fit(result) -> None:
 
 
 @click.command("fit")
-@click.argument("measurement", type=click.Path(dir_okay=False))
-@click.option("--out", "out_path", type=click.Path(dir_okay=False), help="Write the coil's table for a design file (TOML) to FILE.")
+@click.argument("measurement", type=InFile())
+@click.option("--out", "out_path", type=OutFile("coil.toml"), help="Write the coil's table for a design file (TOML) to FILE.")
 @click.option("--capacitance", "capacitance", metavar="C", help='Hold the winding capacitance at C (e.g. "95p") instead of fitting it: for a sweep that stops well below the self-resonance.')
 @click.option("--coil", type=click.Choice(["coil_a", "coil_b"]), default="coil_a", show_default=True, help="The table's name in the written TOML.")
 @json_option("Write the fitted values, the ladder and the residual at every frequency as JSON to FILE ('-' for standard output).")

@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import click
 
+from .values import InFile
+
 compare_option = click.option(
     "--compare",
     "compare_path",
-    type=click.Path(dir_okay=False),
+    type=InFile(),
     default=None,
     help='A passive pickup\'s file (kind = "passive": coils, pots, cable) to show beside every design.',
 )

@@ -7,11 +7,10 @@ unless ``--no-spectrogram``, a spectrogram PNG beside it
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import click
 
 from .options import friendly, overwrite_option, sample_rate_option
+from .values import InFile, OutFile, Seed
 
 
 def _quantity(name: str, value: str, kind) -> float:
@@ -25,12 +24,12 @@ def _quantity(name: str, value: str, kind) -> float:
 
 
 @click.command("dry")
-@click.argument("phrase", type=click.Path(dir_okay=False, path_type=Path))
-@click.option("--out", "out", required=True, type=click.Path(dir_okay=False, path_type=Path), help="WAV file to write (32-bit float, 1.0 = 1 m/s).")
+@click.argument("phrase", type=InFile())
+@click.option("--out", "out", required=True, type=OutFile("phrase.wav"), help="WAV file to write (32-bit float, 1.0 = 1 m/s).")
 @click.option("--position", default="150mm", show_default=True, metavar="LENGTH", help='Sensing point, distance from the bridge saddle ("40mm", 0.15).')
 @click.option("--aperture", default="0mm", show_default=True, metavar="LENGTH", help='Width of the sensing window along the string ("20mm").')
 @sample_rate_option
-@click.option("--seed", default=0, show_default=True, type=int, help="Seed for the small per-note variations.")
+@click.option("--seed", default=0, show_default=True, type=Seed(), help="Seed for the small per-note variations.")
 @click.option("--seconds", default=None, metavar="TIME", help="Length to render (default: the phrase's own).")
 @click.option("--spectrogram/--no-spectrogram", default=True, show_default=True, help="Also write FILE-spectrogram.png.")
 @overwrite_option

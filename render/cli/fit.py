@@ -8,6 +8,7 @@ from pathlib import Path
 import click
 
 from .options import friendly, overwrite_option, rig_option
+from .values import InFile, OutFolder, Seed
 
 
 def _fig(figures, name):
@@ -33,12 +34,12 @@ def print_table(run) -> None:
 
 
 @click.command("fit")
-@click.argument("fitfile", type=click.Path(dir_okay=False))
-@click.option("--from", "start_path", type=click.Path(dir_okay=False), default=None, help="Start design (overrides the fit file's 'from').")
+@click.argument("fitfile", type=InFile())
+@click.option("--from", "start_path", type=InFile(), default=None, help="Start design (overrides the fit file's 'from').")
 @rig_option
 @click.option("--top", type=click.IntRange(min=1, max=20), default=3, show_default=True, help="How many results to write.")
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Folder for the results (default: outputs/fit-<fit file stem>).")
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed of the global search.")
+@click.option("--out", "out_dir", type=OutFolder(), default=None, help="Folder for the results (default: outputs/fit-<fit file stem>).")
+@click.option("--seed", type=Seed(), default=0, show_default=True, help="Seed of the global search.")
 @click.option("--render", "render_clips", is_flag=True, help="Then render clips of the start and every result into <out>/clips (render clips).")
 @click.option("--blind", "blind_session", is_flag=True, help="Then build a blind ABX session of the start against result 1 in <out>/blind (render blind).")
 @overwrite_option

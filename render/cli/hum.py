@@ -10,24 +10,23 @@ from .compare_print import compare_option
 from .hum_options import map_options, read_bearings, read_shell, read_tolerances
 from .hum_print import print_audio, print_monte_carlo, print_report, room, warnings
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
+from .values import InFile, OutFile, OutFolder, Seed
 
 
 @click.command("hum")
-@click.argument("models", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.argument("models", nargs=-1, required=True, type=InFile())
 @rig_option
 @click.option("--tolerance", default=None, help="Monte Carlo over part tolerances: one value for every part class, e.g. 1%.")
 @click.option("--tolerance-resistor", default=None, help="Resistor tolerance (default 1%).")
 @click.option("--tolerance-capacitor", default=None, help="Capacitor tolerance (default 5%).")
 @click.option("--tolerance-turns", default=None, help="Coil turns tolerance (default 2%; L ∝ N², R, sensitivity and turns_area ∝ N).")
 @click.option("--trials", type=click.IntRange(min=10, max=1_000_000), default=2000, show_default=True, help="Monte Carlo trials.")
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed of the Monte Carlo draws.")
+@click.option("--seed", type=Seed(), default=0, show_default=True, help="Seed of the Monte Carlo draws.")
 @jobs_option("Monte Carlo in this many processes (results identical to one).")
 @json_option("Write per-harmonic figures (and the Monte Carlo) as JSON to FILE ('-' for standard output).")
-@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Plot rejection against frequency, mains harmonics marked (all MODELS overlaid).")
-@click.option(
-    "--out", "out_dir", type=click.Path(file_okay=False), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder."
-)
-@click.option("--histogram", "hist_path", type=click.Path(dir_okay=False), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
+@click.option("--png", "png_path", type=OutFile("hum.png"), help="Plot rejection against frequency, mains harmonics marked (all MODELS overlaid).")
+@click.option("--out", "out_dir", type=OutFolder(), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder.")
+@click.option("--histogram", "hist_path", type=OutFile("histogram.png"), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
 @map_options
 @click.option("--positions", type=click.IntRange(min=10, max=1_000_000), default=None, help="Monte Carlo over N random dipole sources: places uniform in a shell, axes uniform.")
 @click.option("--shell", nargs=2, default=None, metavar="INNER OUTER", help="The random sources' shell, e.g. 0.3m 2m (the default).")

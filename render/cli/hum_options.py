@@ -5,12 +5,14 @@ from __future__ import annotations
 import click
 import numpy as np
 
+from .values import OutFile, given
+
 MAX_BEARINGS = 73  # a map's columns at most (every 5° round the circle)
 
 
 def map_options(f):
     """The map's options: --map, --map-plane, --map-bearings and --map-png (each implies --map)."""
-    f = click.option("--map-png", type=click.Path(dir_okay=False), help="Plot the map at the fundamental (implies --map; the first MODEL).")(f)
+    f = click.option("--map-png", type=OutFile("map.png"), help="Plot the map at the fundamental (implies --map; the first MODEL).")(f)
     f = click.option(
         "--map-bearings",
         "map_bearings",
@@ -66,7 +68,12 @@ def _percent(text, name):
 
 
 def read_tolerances(tolerance, *, resistor, capacitor, turns) -> dict:
-    """The Monte Carlo's tolerances per part class from ``--tolerance`` and its per-class options (empty: none)."""
+    """The Monte Carlo's tolerances per part class from ``--tolerance`` and its per-class options (empty: none).
+
+    ``--trials`` typed without any of them is refused: it counts the tolerance Monte Carlo's draws only.
+    """
+    from ..errors import InputError
+
     tol = {}
     if tolerance is not None:
         v = _percent(tolerance, "--tolerance")
@@ -74,6 +81,8 @@ def read_tolerances(tolerance, *, resistor, capacitor, turns) -> dict:
     for cls, text in (("resistor", resistor), ("capacitor", capacitor), ("turns", turns)):
         if text is not None:
             tol[cls] = _percent(text, f"--tolerance-{cls}")
+    if not tol and given("trials"):
+        raise InputError("--trials counts the tolerance Monte Carlo's draws: add --tolerance (e.g. --tolerance 1%), or leave --trials out (--positions N sets the random sources' count)")
     return tol
 
 
@@ -84,6 +93,9 @@ def read_shell(shell):
     if not shell:
         return None
     try:
-        return tuple(U.parse_quantity(x, U.LENGTH) for x in shell)
+        inner, outer = (U.parse_quantity(x, U.LENGTH) for x in shell)
     except U.QuantityError as exc:
         raise InputError(f"--shell {' '.join(shell)}: {exc}; give two radii such as 0.3m 2m") from None
+    if not 0 < inner <= outer:
+        raise InputError(f"--shell {' '.join(shell)}: expected 0 < inner ≤ outer radius; give two radii such as 0.3m 2m")
+    return inner, outer

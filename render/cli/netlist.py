@@ -5,12 +5,13 @@ from __future__ import annotations
 import click
 
 from .options import friendly, overwrite_option, rig_option
+from .values import InFile, OutFile
 
 
 @click.command("netlist")
-@click.argument("model", type=click.Path(dir_okay=False))
+@click.argument("model", type=InFile())
 @rig_option
-@click.option("--out", "out_path", type=click.Path(dir_okay=False), default=None, help="Write the netlist to FILE (default: standard output).")
+@click.option("--out", "out_path", type=OutFile("pickup.cir", stdout=True), default=None, help="Write the netlist to FILE (default: standard output).")
 @overwrite_option
 @friendly
 def netlist_command(model, rig_path, out_path, overwrite):

@@ -7,6 +7,7 @@ import click
 from ..io.folders import refuse_existing as check_new
 from .compare_print import compare_option
 from .options import emit_json, friendly, json_option, overwrite_option, rig_option
+from .values import Finite, InFile, OutFile
 
 
 def _uv(v: float) -> str:
@@ -65,12 +66,12 @@ def summary_lines(r, top: int) -> list[str]:
 
 
 @click.command("noise")
-@click.argument("model", type=click.Path(dir_okay=False))
+@click.argument("model", type=InFile())
 @rig_option
-@click.option("--temperature", type=float, metavar="KELVIN", default=300.0, show_default=True, help="Temperature of every resistance, in kelvin (200..400).")
+@click.option("--temperature", type=Finite(200, 400, unit="K"), metavar="KELVIN", default=300.0, show_default=True, help="Temperature of every resistance, in kelvin (200..400).")
 @click.option(
     "--reference-velocity",
-    type=float,
+    type=Finite(1e-4, 10, unit="m/s rms"),
     metavar="M_PER_S",
     default=0.1,
     show_default=True,
@@ -78,7 +79,7 @@ def summary_lines(r, top: int) -> list[str]:
 )
 @click.option("--top", type=click.IntRange(min=1, max=40), default=5, show_default=True, help="Contributors listed and plotted.")
 @json_option()
-@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Write a density plot with the largest contributors and the passive reference.")
+@click.option("--png", "png_path", type=OutFile("noise.png"), help="Write a density plot with the largest contributors and the passive reference.")
 @compare_option
 @overwrite_option
 @friendly

@@ -10,6 +10,7 @@ from typing import Any, TextIO, cast
 import click
 
 from ..errors import InputError, PassiveGiven
+from .values import InFile, OutFile
 
 
 def friendly(fn: Callable[..., Any]) -> Callable[..., Any]:
@@ -61,7 +62,7 @@ def _sample_rate(ctx: click.Context, param: click.Parameter, value: int) -> int:
 rig_option = click.option(
     "--rig",
     "rig_path",
-    type=click.Path(dir_okay=False),
+    type=InFile(),
     default=None,
     help="Rig file (TOML with [rig] and/or [hum]); replaces each design's own tables.",
 )
@@ -87,7 +88,7 @@ def _json_to_stdout(ctx: click.Context, param: click.Parameter, value: str | Non
 
 
 def json_option(help_text: str = "Write the results as JSON to FILE ('-' for standard output).") -> Callable[[Any], Any]:
-    return click.option("--json", "json_path", type=click.Path(dir_okay=False), default=None, callback=_json_to_stdout, help=help_text)
+    return click.option("--json", "json_path", type=OutFile("out.json", stdout=True), default=None, callback=_json_to_stdout, help=help_text)
 
 
 def jobs_option(help_text: str, default: int | None = 1) -> Callable[[Any], Any]:

@@ -7,6 +7,7 @@ import click
 from ..io.folders import refuse_existing as check_new
 from .compare_print import compare_option
 from .options import friendly, overwrite_option, rig_option
+from .values import Finite, InFile, OutFile
 
 
 def _aligned(text: str) -> str:
@@ -47,12 +48,12 @@ def summary_lines(d, fig) -> list[str]:
 
 
 @click.command("response")
-@click.argument("model", type=click.Path(dir_okay=False))
+@click.argument("model", type=InFile())
 @rig_option
-@click.option("--csv", "csv_path", type=click.Path(dir_okay=False), help="Write frequency_hz,magnitude_db,phase_deg,passive_magnitude_db,passive_phase_deg ('-' for standard output).")
-@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Write a magnitude and phase plot with the passive reference.")
-@click.option("--fmin", type=click.FloatRange(min=1.0, max=1e5), default=20.0, show_default=True, help="Lowest frequency (Hz).")
-@click.option("--fmax", type=click.FloatRange(min=2.0, max=2e5), default=20000.0, show_default=True, help="Highest frequency (Hz).")
+@click.option("--csv", "csv_path", type=OutFile("response.csv", stdout=True), help="Write frequency_hz,magnitude_db,phase_deg,passive_magnitude_db,passive_phase_deg ('-' for standard output).")
+@click.option("--png", "png_path", type=OutFile("response.png"), help="Write a magnitude and phase plot with the passive reference.")
+@click.option("--fmin", type=Finite(1, 1e5, unit="Hz"), default=20.0, show_default=True, help="Lowest frequency (Hz).")
+@click.option("--fmax", type=Finite(2, 2e5, unit="Hz"), default=20000.0, show_default=True, help="Highest frequency (Hz).")
 @click.option("--points", type=click.IntRange(min=2, max=100000), default=600, show_default=True, help="Log-spaced points.")
 @compare_option
 @overwrite_option

@@ -12,12 +12,13 @@ from __future__ import annotations
 import click
 
 from .options import emit_json, friendly, json_option, overwrite_option, warn
+from .values import OutFile
 
 
 @click.command("score")
 @click.argument("session", type=click.Path(file_okay=False))
 @json_option("Write the score (every trial included) as JSON to FILE ('-' for standard output).")
-@click.option("--png", "png_path", type=click.Path(dir_okay=False), default=None, help="Where to draw the response difference (default SESSION/results/response-difference.png).")
+@click.option("--png", "png_path", type=OutFile("difference.png"), default=None, help="Where to draw the response difference (default SESSION/results/response-difference.png).")
 @click.option("--no-plot", is_flag=True, help="Skip the response difference plot.")
 @overwrite_option
 @friendly

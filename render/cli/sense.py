@@ -6,6 +6,7 @@ import click
 
 from ..io.folders import refuse_existing as check_new
 from .options import emit_json, friendly, json_option, overwrite_option, warn
+from .values import InFile, OutFile
 
 
 def print_record(rec: dict) -> None:
@@ -24,9 +25,9 @@ def print_record(rec: dict) -> None:
 
 
 @click.command("sense")
-@click.argument("model", type=click.Path(dir_okay=False))
+@click.argument("model", type=InFile())
 @json_option("Write, per coil and per string, sensitivity, sensing function, lateral dropout and H2/H3 as JSON to FILE ('-' for standard output).")
-@click.option("--png", "png_path", type=click.Path(dir_okay=False), help="Write a plot: string balance, sensing functions, lateral dropout, H2/H3.")
+@click.option("--png", "png_path", type=OutFile("sense.png"), help="Write a plot: string balance, sensing functions, lateral dropout, H2/H3.")
 @overwrite_option
 @friendly
 def sense_command(model, json_path, png_path, overwrite):

@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from .options import friendly, overwrite_option, warn
+from .values import InFile, OutFile
 
 
 def report_from_di(made) -> None:
@@ -16,19 +17,19 @@ def report_from_di(made) -> None:
 
 
 @click.command("unvoice")
-@click.argument("di", type=click.Path(dir_okay=False))
-@click.argument("model", type=click.Path(dir_okay=False))
+@click.argument("di", type=InFile())
+@click.argument("model", type=InFile())
 @click.option(
     "--rig",
     "rig_path",
-    type=click.Path(dir_okay=False),
+    type=InFile(),
     default=None,
     help="Rig the DI was recorded through (cable, recorder input as amp_r and amp_c, passive_pot, passive_tone_cap); replaces MODEL's own [rig].",
 )
 @click.option("--volts-full-scale", type=float, default=1.0, show_default=True, help="Volts at the amp input that a DI sample of 1.0 stands for (the recorder's full scale).")
 @click.option("--velocity-scale", type=float, default=1.0, show_default=True, help="m/s at full scale of the velocity WAV written.")
 @click.option("--max-boost", type=float, default=None, help="Most the inverse may boost above its 1 kHz level, dB (default 20).")
-@click.option("--out", "out", required=True, type=click.Path(dir_okay=False), help="Velocity WAV to write; FILE.json and FILE-spectra.png go beside it.")
+@click.option("--out", "out", required=True, type=OutFile("velocity.wav"), help="Velocity WAV to write; FILE.json and FILE-spectra.png go beside it.")
 @click.option("--plot/--no-plot", default=True, show_default=True, help="Write FILE-spectra.png.")
 @overwrite_option
 @friendly

@@ -11,18 +11,19 @@ from __future__ import annotations
 import click
 
 from .options import friendly, rig_option, sample_rate_option
+from .values import Finite, InFile, Seed
 
 CAUTION = "Start playback at a low volume and raise it slowly: the page starts 20 dB down, but clipped clips stay loud."
 
 
 @click.command("watch")
-@click.argument("models", nargs=-1, required=True, type=click.Path(dir_okay=False))
-@click.option("--dry", "dry_path", type=click.Path(dir_okay=False), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
+@click.argument("models", nargs=-1, required=True, type=InFile())
+@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
 @rig_option
-@click.option("--seconds", type=click.FloatRange(min=0.01, max=600), default=None, help="Length of every clip (default: the dry signal's own).")
+@click.option("--seconds", type=Finite(0.01, 600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
 @sample_rate_option
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Add the rig's mains hum field.")
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed for the phrase's small variations.")
+@click.option("--seed", type=Seed(), default=0, show_default=True, help="Seed for the phrase's small variations.")
 @click.option("--port", default=0, show_default=True, type=int, help="Port on 127.0.0.1 (0 picks a free one).")
 @click.option("--no-browser", is_flag=True, help="Only print the address; do not open a browser.")
 @friendly

@@ -169,13 +169,13 @@ def changed_measurements(key: dict, *, plotted: bool = True) -> list[str]:
     return lines
 
 
-def difference_plot(path, key: dict, *, overwrite: bool = False):
-    """Both designs' responses and their difference in dB, raw and as played after loudness matching."""
+def difference_plot(path, key: dict, *, overwrite: bool = False, designs=None):
+    """Both designs' responses and their difference in dB, raw and as played after loudness matching (``designs``: the key's, loaded)."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
     from ..report.plots import PALETTE, _hz_axis, level_db, pyplot, save
 
-    designs = designs_from_key(key)
+    designs = designs_from_key(key) if designs is None else designs
     f = np.geomspace(20.0, 20000.0, 600)
     h = responses(from_designs(designs)).velocity()(f)
     level = level_db(h)

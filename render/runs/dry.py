@@ -9,8 +9,6 @@ import numpy as np
 
 from ..errors import InputError
 
-MAX_PREVIEW_SECONDS = 3600.0
-
 
 @dataclass(frozen=True)
 class DryPreview:
@@ -59,8 +57,10 @@ def preview_dry(
     from ..validate import sample_rate as check_rate
 
     out = Path(out)
-    if seconds is not None and not 0 < seconds <= MAX_PREVIEW_SECONDS:
-        raise InputError(f"--seconds={seconds:g}s: must be > 0 s and <= {MAX_PREVIEW_SECONDS:g} s")
+    from ..dry.phrase import MAX_SECONDS
+
+    if seconds is not None and not 0 < seconds <= MAX_SECONDS:  # NaN fails too
+        raise InputError(f"--seconds={seconds:g}s: must be above 0 s and at most {MAX_SECONDS:g} s (a phrase renders in memory)")
     if not position > 0:
         raise InputError(f"--position={position * 1e3:g}mm: must be > 0 (distance from the bridge saddle)")
     if not aperture >= 0:

@@ -63,7 +63,7 @@ def score_blind_session(session: str | Path, *, png_path: str | Path | None = No
     -------
     SessionScore
     """
-    from ..listening.score import changed_measurements, difference_plot, score_session
+    from ..listening.score import changed_measurements, designs_from_key, difference_plot, score_session
 
     paths, key, result = score_session(session)
     warnings = tuple(changed_measurements(key, plotted=plot))
@@ -78,7 +78,9 @@ def score_blind_session(session: str | Path, *, png_path: str | Path | None = No
             except OSError as exc:
                 raise InputError(f"--png={target}: cannot create the folder {target.parent} ({exc.strerror or exc}); choose another path") from None
             try:
-                drawn = difference_plot(target, key, overwrite=overwrite)
+                designs = designs_from_key(key)
             except InputError as exc:  # a design the key keeps no longer loads here (a measurement moved): the score stands
                 warnings += (f"the response difference was not drawn: {exc}",)
+            else:  # a plot that cannot be written is refused, as every output is
+                drawn = difference_plot(target, key, overwrite=overwrite, designs=designs)
     return SessionScore(paths=paths, session_id=key["session"], result=result, plot=drawn, kept_plot=kept, warnings=warnings)

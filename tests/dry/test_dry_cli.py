@@ -89,7 +89,7 @@ def test_bad_inputs_exit_1_with_one_line_and_write_nothing(phrase, tmp_path):
         ((phrase, "--position", "4 furlongs"), "--position=4 furlongs: cannot read"),
         ((phrase, "--aperture", "-3mm"), "--aperture=-3mm: must be >= 0"),
         ((phrase, "--sample-rate", 100), "--sample-rate=100: must be from 8000 to 384000 Hz"),
-        ((phrase, "--seconds", "-1s"), "--seconds=-1s: must be > 0 s"),
+        ((phrase, "--seconds", "-1s"), "--seconds=-1s: must be above 0 s and at most 600 s"),
     ]
     for args, text in cases:
         out = tmp_path / "z.wav"
