@@ -83,7 +83,7 @@ def clips_command(
         from ..runs.unvoice import velocity_from_di
         from .unvoice import report_from_di
 
-        made = velocity_from_di(dry_path, from_di, folder=out, rig=rig_path, overwrite=overwrite, plot=plots)
+        made = velocity_from_di(dry_path, from_di, folder=out, rig=rig_path, overwrite=overwrite, plot=plots, claim=True)
         report_from_di(made)
         dry = made.wav
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise, strength=strength_m)

@@ -34,14 +34,19 @@ def make_folder(path: str | Path) -> Path:
 
 
 @contextlib.contextmanager
-def folder_kept_on_success(path: str | Path) -> Iterator[Path]:
+def folder_kept_on_success(path: str | Path, *, claim: bool = False) -> Iterator[Path]:
     """Create ``path`` (and its missing parents); if the body raises, remove each one made here that is still empty.
 
-    So a refusal after the folder was made leaves nothing behind.
+    So a refusal after the folder was made leaves nothing behind. With
+    ``claim``, the files the body wrote are noted in the folder
+    (:data:`RUN_CLAIMED`) for the run that opens it next with
+    :func:`run_folder`, which counts them as its own (a ``--from-di``
+    velocity, written before the run's folder opens).
     """
     p = Path(path)
     missing = [q for q in (p, *p.parents) if not q.exists()]
     folder = make_folder(p)
+    before = _files(folder) if claim else {}
     try:
         yield folder
     except BaseException:
@@ -49,6 +54,11 @@ def folder_kept_on_success(path: str | Path) -> Iterator[Path]:
             with contextlib.suppress(OSError):
                 q.rmdir()  # only an empty folder goes
         raise
+    if claim:
+        from .atomic import write_text
+
+        wrote = sorted(rel for rel, st in _files(folder).items() if before.get(rel) != st)
+        write_text(folder / RUN_CLAIMED, "".join(f"{r}\n" for r in sorted(_listed(folder, RUN_CLAIMED) | set(wrote))), overwrite=True)
 
 
 def new_run_folder(root: Path = OUTPUTS, prefix: str = "clips") -> Path:
@@ -74,7 +84,6 @@ def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = 
         raise InputError(f"--out={out}: is a file; give a folder")
     if out.exists() and any(out.iterdir()) and not overwrite:
         raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite to replace its files or choose another folder")
-    _CLAIMED[str(out.absolute())] = time.time_ns()
     return out
 
 
@@ -86,23 +95,23 @@ INCOMPLETE_TEXT = (
 
 
 RUN_FILES = ".run-files"  # the files a run wrote in its folder, one relative path a line; its next --overwrite removes those it does not write again
-_CLAIMED: dict[str, int] = {}  # folder -> when output_folder() gave it to a run (ns): a file written there since is that run's (a --from-di velocity, written before the run's folder opens)
+RUN_CLAIMED = ".run-claimed"  # files written into a folder before its run opened it, for that run to count as its own
 
 
 def _files(folder: Path) -> dict[str, tuple[int, int, int]]:
     """Every file below ``folder`` (but the run's own list and marker): relative path -> (inode, mtime ns, size)."""
     out = {}
     for p in folder.rglob("*"):
-        if p.is_file() and p.name not in (RUN_FILES, INCOMPLETE) and not p.name.startswith(".tmp-"):
+        if p.is_file() and p.name not in (RUN_FILES, RUN_CLAIMED, INCOMPLETE) and not p.name.startswith(".tmp-"):
             st = p.stat()
             out[p.relative_to(folder).as_posix()] = (st.st_ino, st.st_mtime_ns, st.st_size)
     return out
 
 
-def _listed(folder: Path) -> set[str]:
-    """The files an earlier run in ``folder`` listed as its own (none without a list)."""
+def _listed(folder: Path, name: str = RUN_FILES) -> set[str]:
+    """The files listed in ``folder/name``: an earlier run's own (:data:`RUN_FILES`) or those claimed for this one (none without a list)."""
     try:
-        text = (folder / RUN_FILES).read_text(encoding="utf-8")
+        text = (folder / name).read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError):
         return set()
     return {line for line in text.splitlines() if line and not line.startswith("/") and ".." not in Path(line).parts}
@@ -143,13 +152,15 @@ def run_folder(path: str | Path) -> Iterator[Path]:
     made = not Path(path).exists()
     folder = make_folder(path)
     earlier = _listed(folder)
+    claimed = _listed(folder, RUN_CLAIMED)
+    (folder / RUN_CLAIMED).unlink(missing_ok=True)
     before = _files(folder)
-    since = _CLAIMED.pop(str(folder.absolute()), None)
     marker = folder / INCOMPLETE
     write_text(marker, INCOMPLETE_TEXT, overwrite=True)
 
     def written() -> set[str]:
-        return {rel for rel, st in _files(folder).items() if before.get(rel) != st or (since is not None and st[1] >= since)}
+        now = _files(folder)
+        return {rel for rel, st in now.items() if before.get(rel) != st} | (claimed & set(now))
 
     try:
         yield folder

@@ -257,12 +257,14 @@ class FromDi:
     warnings: tuple[str, ...]
 
 
-def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool = False, plot: bool = True) -> FromDi:
+def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool = False, plot: bool = True, claim: bool = False) -> FromDi:
     """The ``--from-di MODEL`` shortcut of ``clips`` and ``blind``: un-voice a DI into ``folder``.
 
     Writes ``folder/<DI stem>-velocity.wav`` (with its JSON and, if ``plot``,
     its plot), at 1 V DI full scale and 1 m/s velocity full scale. Returns the
     velocity WAV's path and a short JSON-ready record of the un-voicing.
+    ``claim``: the files are the next run's in ``folder`` (:func:`render.io.folders.run_folder`),
+    so its ``--overwrite`` clean-up keeps them.
     """
     from ..io.folders import folder_kept_on_success
     from ..io.hashing import sha256_file
@@ -272,7 +274,7 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     di = Path(di_path)
     if di.suffix.lower() == ".toml":
         raise InputError(f"--dry={di}: is a phrase; --from-di un-voices a recording (WAV, FLAC, ...)")
-    with folder_kept_on_success(folder) as made:
+    with folder_kept_on_success(folder, claim=claim) as made:
         res = unvoice(di, model_path, out=made / f"{di.stem}-velocity.wav", rig_path=rig, overwrite=overwrite, plot=plot)
     r = res.record
     band = r["trusted_band_hz"]

@@ -191,6 +191,13 @@ def test_clips_from_di_unvoices_into_the_run_folder(di, tmp_path):
         rec = json.loads((out / f"{stem}.json").read_text())
         assert "take-velocity.wav" in json.dumps(rec["dry"])
     assert "trusted" in res.output
+    # again into the same folder: the velocity written before the run's folder opens is this run's
+    # own, so --overwrite's clean-up of the earlier run's files keeps it, and lists it
+    res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(di[0]), "--from-di", str(REF), "--seconds", "0.6", "--out", str(out), "--no-plots", "--overwrite"], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    assert vel.is_file() and (out / "take-velocity.json").is_file() and not (out / "glasswing-bright.wav").exists()
+    listed = (out / ".run-files").read_text(encoding="utf-8").splitlines()
+    assert "take-velocity.wav" in listed and "studio-reference.wav" in listed and not (out / ".run-claimed").exists()
 
 
 def test_clips_from_di_needs_a_recording(tmp_path):
