@@ -29,9 +29,14 @@ def warnings_for(tmp_path, old, new):
 
 
 def test_every_shipped_design_is_quiet():
+    # but for the NdFeB demo's one line on the model's own limit (its strings past saturation; test_plausible.py)
     for path in sorted((ROOT / "models").glob("*.toml")):
         (design,), _ = load_designs([path])
-        assert design_warnings(design) == (), path.name
+        got = design_warnings(design)
+        if path.stem == "slipway-magnet-blades":
+            assert len(got) == 1 and got[0].startswith("[construction] the linear string model"), got
+        else:
+            assert got == (), path.name
 
 
 @pytest.mark.parametrize(("table", "key"), [("input_a", "series_r"), ("input_b", "load_r"), ("input_b", "bias_top"), ("feedback", "r"), ("output", "shunt_r")])

@@ -68,7 +68,14 @@ def summary_lines(r, top: int) -> list[str]:
 @click.command("noise")
 @click.argument("model", type=InFile())
 @rig_option
-@click.option("--temperature", type=Finite(200, 400, unit="K"), metavar="KELVIN", default=300.0, show_default=True, help="Temperature of every resistance, in kelvin (200..400).")
+@click.option(
+    "--temperature",
+    type=Finite(200, 400, unit="K", usual="kelvin, not °C: 25 °C is 298.15 K"),
+    metavar="KELVIN",
+    default=300.0,
+    show_default=True,
+    help="Temperature of every resistance, in kelvin (200..400).",
+)
 @click.option(
     "--reference-velocity",
     type=Finite(1e-4, 10, unit="m/s rms"),

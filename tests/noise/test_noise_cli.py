@@ -107,9 +107,9 @@ def test_rig_file_applies(tmp_path):
 @pytest.mark.parametrize(
     "args, fragment",
     [
-        (["--temperature", "25"], "--temperature=25 K: expected an absolute temperature from 200 K to 400 K (kelvin, not °C: 25 °C is 298.15 K)"),
-        (["--temperature", "1000"], "--temperature=1000 K: expected an absolute temperature from 200 K to 400 K"),
-        (["--reference-velocity", "0"], "--reference-velocity=0 m/s: expected a string velocity from 0.0001 to 10 m/s rms"),
+        (["--temperature", "25"], "--temperature=25: out of range; give a number from 200 to 400 K; kelvin, not °C: 25 °C is 298.15 K"),
+        (["--temperature", "1000"], "--temperature=1000: out of range; give a number from 200 to 400 K"),
+        (["--reference-velocity", "0"], "--reference-velocity=0: out of range; give a number from 0.0001 to 10 m/s rms"),
     ],
 )
 def test_bad_options_one_line_exit_1(args, fragment):
