@@ -190,6 +190,12 @@ def test_hum_shell_radii_in_order(here, shell):
     assert line == f"--shell {' '.join(shell)}: expected 0 < inner ≤ outer radius; give two radii such as 0.3m 2m"
 
 
+def test_hum_shell_keeps_its_dipoles_as_far_as_a_design_source(here):
+    # 10 cm, the distance a [[hum.source]] dipole must keep from each coil (common practice, no source)
+    line = refused(["hum", REF, "--positions", "10", "--shell", "0.05m", "2m", "--json", "o.json"], left=[here / "o.json"])
+    assert line.startswith("--shell 0.05m 2m: an inner radius under 10 cm puts point dipoles in the pickup's own field region") and line.endswith("give one of 0.1 m or more")
+
+
 def test_dry_renders_at_most_600_seconds(here):
     line = refused(["dry", PHRASE, "--out", "v.wav", "--seconds", "700"], left=[here / "v.wav", here / "v-spectrogram.png"])
     assert line == "--seconds=700s: must be above 0 s and at most 600 s (a phrase renders in memory)"
