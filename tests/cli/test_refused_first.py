@@ -65,7 +65,7 @@ def here(tmp_path, monkeypatch):
         (["bias", REF, "--sine-velocity", "fast"], "--sine-velocity=fast: not a number; give one from 0.001 to 100 m/s"),
         (["bias", REF, "--target-lufs", "nan"], "--target-lufs=nan: not a finite number; give one from -70 to 0 LUFS"),
         (["bias", REF, "--seconds", "700"], "--seconds=700: out of range; give a number from 0.5 to 600 s"),
-        (["noise", REF, "--temperature", "nan"], "--temperature=nan: not a finite number; give one from 200 to 400 K"),
+        (["noise", REF, "--temperature", "nan"], "--temperature=nan: not a finite number; give one from 200 to 400 K; kelvin, not °C: 25 °C is 298.15 K"),
         (["noise", REF, "--reference-velocity", "inf"], "--reference-velocity=inf: not a finite number; give one from 0.0001 to 10 m/s rms"),
         (["response", REF, "--fmin", "nan"], "--fmin=nan: not a finite number; give one from 1 to 100000 Hz"),
         (["check", REF, "--turns-sweep", "nan"], "--turns-sweep=nan: not a finite number; give one from 0.1 to 50 %"),
