@@ -75,6 +75,8 @@ def preview_dry(
     p = load_phrase(phrase_path)
     if not position < p.instrument.scale_length:
         raise InputError(f"--position={position * 1e3:g}mm: must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm")
+    if not aperture < p.instrument.scale_length / 2:
+        raise InputError(f"--aperture={aperture * 1e3:g}mm: a sensing window must be narrower than half the scale length ({p.instrument.scale_length / 2 * 1e3:g} mm); 0 is a point")
     v = string_velocity(p, sample_rate=rate, positions=[position], apertures=[aperture], seed=seed, seconds=seconds)[0]
     write_bytes(out, float_wav_bytes(v, rate), overwrite=overwrite)
     if spectrogram:

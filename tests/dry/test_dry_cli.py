@@ -88,6 +88,7 @@ def test_bad_inputs_exit_1_with_one_line_and_write_nothing(phrase, tmp_path):
         ((phrase, "--position", "700mm"), "--position=700mm: must be shorter than the scale length 648 mm"),
         ((phrase, "--position", "4 furlongs"), "--position=4 furlongs: cannot read"),
         ((phrase, "--aperture", "-3mm"), "--aperture=-3mm: must be >= 0"),
+        ((phrase, "--aperture", "5m"), "--aperture=5000mm: a sensing window must be narrower than half the scale length (324 mm)"),  # the phrase's 648 mm scale
         ((phrase, "--sample-rate", 100), "--sample-rate=100: must be from 8000 to 384000 Hz"),
         ((phrase, "--seconds", "-1s"), "--seconds=-1s: must be above 0 s and at most 600 s"),
     ]
