@@ -258,11 +258,14 @@ def format_si(x: float, unit: str = "", digits: int = 3) -> str:
     return f"{text} {p}{unit}".strip()
 
 
-def microvolts(v: float, width: int, decimals: int) -> str:
-    """A voltage (V) right-aligned in ``width`` + 3 characters: in µV with ``decimals`` places where
-    that shows it (from one unit of the last place up to 100 mV), otherwise with the prefix that
-    does (``"260.3 mV"``, ``"4.2 pV"``)."""
-    text = f"{v * 1e6:.{decimals}f} µV" if v == 0 or 10.0 ** (-6 - decimals) <= abs(v) < 0.1 else format_si(v, "V", 4)
+def microvolts(v: float, width: int = 0, decimals: int | None = None, *, digits: int = 4) -> str:
+    """A voltage (V) right-aligned in ``width`` + 3 characters: in µV where that shows it (up to
+    100 mV, and down to one unit of the last of ``decimals`` places, or 1 nV with ``digits``
+    significant figures when ``decimals`` is None), otherwise with the prefix that does, to
+    ``digits`` figures (``"260.3 mV"``, ``"4.2 pV"``)."""
+    lowest = 1e-9 if decimals is None else 10.0 ** (-6 - decimals)
+    spec = f".{digits}g" if decimals is None else f".{decimals}f"
+    text = f"{v * 1e6:{spec}} µV" if v == 0 or lowest <= abs(v) < 0.1 else format_si(v, "V", digits)
     return f"{text:>{width + 3}s}"
 
 

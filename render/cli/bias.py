@@ -6,6 +6,7 @@ from pathlib import Path
 
 import click
 
+from ..analysis.bias import SINE_VELOCITY_RANGE
 from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, pluck_strength, rig_option, warn
 from .values import Finite, InFile, OutFolder, Seed
 
@@ -64,9 +65,9 @@ def print_bias_phrase(sw, clips) -> None:
 @click.option("--strength", default=None, help="Pluck every note of the phrase this hard (initial displacement, e.g. 2mm).")
 @click.option(
     "--sine-velocity",
-    type=Finite(0.001, 100, unit="m/s"),
+    type=Finite(*SINE_VELOCITY_RANGE, unit="m/s"),
     default=None,
-    help="Peak string velocity (m/s, 0.001 to 100) of the 1 kHz test sine (default: 1.4 × the design's first clip onset, i.e. +3 dB past it).",
+    help=f"Peak string velocity (m/s, {SINE_VELOCITY_RANGE[0]:g} to {SINE_VELOCITY_RANGE[1]:g}) of the 1 kHz test sine (default: 1.4 × the design's first clip onset, i.e. +3 dB past it).",
 )
 @click.option("--seconds", type=Finite(0.5, 600, unit="s"), default=None, help="Length of the clips (default: the phrase's).")
 @click.option("--seed", type=Seed(), default=0, show_default=True, help="Seed for the phrase's small variations.")

@@ -36,10 +36,9 @@ def _hz(f: float) -> str:
 
 
 def _uv(v: float) -> str:
-    """In µV where that shows it (1 nV to 100 mV), otherwise with the prefix that does."""
-    from ..units import format_si
+    from ..units import microvolts
 
-    return f"{v * 1e6:.3g} µV" if v == 0 or 1e-9 <= abs(v) < 0.1 else format_si(v, "V", 3)
+    return microvolts(v, digits=3).strip()
 
 
 def _who(hon) -> str:
