@@ -1,4 +1,4 @@
-"""Speed of the string synthesis (run by hand: ``python tests/dry/bench_dry_synthesis.py``).
+"""Speed of the string synthesis (run by hand: ``python tests/bench/bench_dry_synthesis.py``).
 
 Prints the time to synthesise a 10 s six-string phrase at 48 kHz at two
 sensing points, and the ratio to real time. Target of our own: well under
