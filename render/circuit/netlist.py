@@ -25,11 +25,16 @@ A·m² or per T; the winding's filaments and, with a construction, its steel).
 
 The op-amp (:mod:`render.chain.loop`, as equations):
 
-- its open-loop state x at node ``opx``: without gbw a behavioural source
-  x = A0·(V+ − V−); with gbw a transconductance of 1 S into A0 ohms in
-  parallel with 1/(2π·gbw) farads, so τ·dx/dt = A0·(V+ − V−) − x with
-  τ = A0/(2π·gbw), and with a slew rate that current limited to
-  ±SR/(2π·gbw) amperes, so |dx/dt| ≤ SR;
+- its open-loop state x at node ``opx``: a transconductance of 1 S into A0
+  ohms in parallel with 1/(2π·gbw) farads, so τ·dx/dt = A0·(V+ − V−) − x
+  with τ = A0/(2π·gbw), and with a slew rate that current limited to
+  ±SR/(2π·gbw) amperes, so |dx/dt| ≤ SR. A design without gbw (the static
+  op-amp x = A0·(V+ − V−), the limit gbw → ∞) is written with gbw =
+  STATIC_GBW_HZ = 1e11 Hz: its loop is then 10⁵ times faster than anything
+  in the audio band (the response moves by less than 1e-4 dB up to 20 kHz),
+  and a transient into clipping runs as written, where the algebraic loop of
+  gain A0 through the window defeats ngspice's Newton iteration at the clip
+  edges ("timestep too small");
 - the state's limits [low − knee, high + knee]: a current source that
   pulls x back with 1000 S beyond them (x then passes a limit by the input
   difference over 1000, a few millivolts at most, where f is flat anyway);
@@ -55,9 +60,7 @@ Node names:
     amp               the amplifier input (the volume pot's wiper, at the cable's end)
 
 One analysis runs as written (``.op``); commented ``.ac``, ``.noise`` and
-``.tran`` examples follow it. ngspice's Newton iteration does not settle
-the op-amp without gbw through a transient into clipping (an algebraic
-loop of gain A0 through the window): give gbw for such a ``.tran``.
+``.tran`` examples follow it.
 """
 
 from __future__ import annotations
@@ -73,6 +76,7 @@ if TYPE_CHECKING:
 
 MIN_R = 1e-3  # ohm: a pot section at its end stop (as render.circuit.params)
 CLAMP_S = 1e3  # siemens pulling the op-amp state back inside its limits
+STATIC_GBW_HZ = 1e11  # the gbw written for an op-amp without one (module text)
 NODES = ("vel", "dbdt", "a1", "a2", "b1", "b2", "ta", "tb", "xa", "xb", "inv", "pos", "bat", "opx", "out", "o1", "jack", "tn", "amp")
 
 
@@ -158,19 +162,16 @@ def op_amp_lines(design: Design) -> list[str]:
     low, high, knee = design.limit_low_v, design.limit_high_v, s.knee
     a0 = s.open_loop_gain
     lines = []
-    if s.gbw:
-        c = 1.0 / (2 * math.pi * s.gbw)
-        if s.slew_rate:
-            lim = s.slew_rate * c
-            lines.append(f"Bopx 0 opx I = max({_v(-lim)}, min({_v(lim)}, V(pos)-V(inv)-V(opx)/{_v(a0)}))")
-        else:
-            lines += ["Gopx 0 opx pos inv 1", f"Ropx opx 0 {_v(a0)}"]
-        lines += [
-            f"Copx opx 0 {_v(c)}",
-            f"Bclamp opx 0 I = {_v(CLAMP_S)}*(max(V(opx)-{_v(high + knee)},0)+min(V(opx)-{_v(low - knee)},0))",
-        ]
+    c = 1.0 / (2 * math.pi * (s.gbw or STATIC_GBW_HZ))
+    if s.slew_rate:
+        lim = s.slew_rate * c
+        lines.append(f"Bopx 0 opx I = max({_v(-lim)}, min({_v(lim)}, V(pos)-V(inv)-V(opx)/{_v(a0)}))")
     else:
-        lines.append(f"Bopx opx 0 V = {_v(a0)}*(V(pos)-V(inv))")
+        lines += ["Gopx 0 opx pos inv 1", f"Ropx opx 0 {_v(a0)}"]
+    lines += [
+        f"Copx opx 0 {_v(c)}",
+        f"Bclamp opx 0 I = {_v(CLAMP_S)}*(max(V(opx)-{_v(high + knee)},0)+min(V(opx)-{_v(low - knee)},0))",
+    ]
     lines.append(f"Bout out 0 V = V(opx) - {_psi(f'V(opx)-{_v(high - knee)}', knee)} + {_psi(f'{_v(low + knee)}-V(opx)', knee)}")
     # where the operating point lies (A0/(1 + A0) times the divider's voltage at opx and out): only a
     # starting guess for ngspice's search, which the slew limit's min/max would otherwise stall
@@ -236,7 +237,7 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "*         inv pos op-amp inputs; bat battery +; opx op-amp open-loop state; out op-amp output;",
         "*         o1 coupling_c to series_r; jack output jack; tn tone; amp amplifier input",
         f"* op-amp: open-loop gain {s.open_loop_gain:g}"
-        + (f", gbw {s.gbw:g} Hz" if s.gbw else ", no bandwidth limit")
+        + (f", gbw {s.gbw:g} Hz" if s.gbw else f", no gbw (written as gbw {STATIC_GBW_HZ:g} Hz, far above the audio band)")
         + (f", slew rate {s.slew_rate:g} V/s" if s.slew_rate else "")
         + f"; output window {d.limit_low_v:g} .. {d.limit_high_v:g} V, knee {s.knee:g} V",
         "*",
@@ -277,14 +278,6 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "* tran 1u 0.2 0 1u",
         "* wrdata transient.txt v(out) v(amp)",
         "* .endc",
-        *(
-            []
-            if d.supply.gbw
-            else [
-                "* this design has no gbw: the loop is algebraic, and into clipping ngspice's transient",
-                "* stops at a clip edge (timestep too small); give [supply] gbw for a transient that clips",
-            ]
-        ),
         ".end",
     ]
     return "\n".join(head + circuit_lines(d) + tail) + "\n"

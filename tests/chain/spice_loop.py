@@ -6,7 +6,6 @@ tests/spice.py). Only the test suite uses this module.
 
 from __future__ import annotations
 
-import dataclasses
 import subprocess
 import tempfile
 from pathlib import Path
@@ -14,23 +13,18 @@ from pathlib import Path
 import numpy as np
 from spice import NGSPICE, require_ngspice
 
-STATIC_GBW_HZ = 1e11  # an op-amp without gbw, in ngspice: see loop_transient
-
 
 def loop_transient(design, t, velocity, *, stop, max_step=1e-6, nodes=("out", "amp")):
     """(times (s), {node: volts}) of an ngspice transient of ``design`` (rig included).
 
     t, velocity : the drive's sample times (s) and string velocity (m/s) at both sensing points.
-    An op-amp without gbw (x = A0·(V+ − V−), an algebraic loop of gain A0 through the window)
-    defeats ngspice's Newton iteration at the clip edges ("timestep too small"); it is simulated
-    as the same model with a dominant pole at STATIC_GBW_HZ / A0, whose loop is 10⁵ times faster
-    than anything in the audio band (the static op-amp is this model's limit as gbw → ∞).
+    An op-amp without gbw is the writer's: the same model with gbw = 1e11 Hz
+    (render.circuit.netlist.STATIC_GBW_HZ), whose loop is 10⁵ times faster than anything in the
+    audio band (the static op-amp x = A0·(V+ − V−) is this model's limit as gbw → ∞).
     """
     from render.circuit.netlist import circuit_lines
 
     require_ngspice()
-    if not design.supply.gbw:
-        design = dataclasses.replace(design, supply=dataclasses.replace(design.supply, gbw=STATIC_GBW_HZ))
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
         np.savetxt(tmp / "vel.txt", np.column_stack([t, velocity]), fmt="%.12e")
