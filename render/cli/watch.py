@@ -40,7 +40,7 @@ def watch_command(models, dry_path, rig_path, seconds, sample_rate, hum, seed, p
     from ..runs.watch import WatchRun, follow_changes
 
     def say(line: str) -> None:
-        click.echo(line, err=line.startswith("Error: "))
+        click.echo(line, err=line.startswith(("Error: ", "warning: ")))
 
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, hum=hum)
     run = WatchRun(models, dry=dry_path, rig=rig_path, settings=settings)

@@ -248,7 +248,8 @@ class WatchRun:
         self.publish()
         names = tuple(s.design.name for s in self.slots)
         took = time.perf_counter() - t0
-        return Refresh(rendered=names, seconds=took, lines=(f"rendered {len(names)} design{'s' if len(names) != 1 else ''} in {took:.2f} s",))
+        warned = tuple(f"warning: {pc.name}: {w}" for _, _, pc, _ in made for w in pc.warnings)
+        return Refresh(rendered=names, seconds=took, lines=(f"rendered {len(names)} design{'s' if len(names) != 1 else ''} in {took:.2f} s", *warned))
 
     def refresh(self, paths: Iterable[str | Path]) -> Refresh | None:
         """Render again what a change of ``paths`` touches; None when none of them is watched or none changed."""
@@ -307,6 +308,7 @@ class WatchRun:
             rendered.append(design.name)
             what = ", ".join(f"{k} {a} → {b}" for k, a, b in slot.changes[:4]) or ("the dry signal changed" if self.dry_path in changed else "no value changed")
             lines.append(f"{slot.path}: version {version.number} rendered in {version.rendered_s:.2f} s ({what})")
+            lines += [f"warning: {page_clip.name}: {w}" for w in page_clip.warnings]  # legal but unlikely values, as render clips says them
         if everything:  # every design played the phrase just now: the terms it did not use are the old phrase's
             self._notes.prune()
         self.publish()

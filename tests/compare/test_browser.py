@@ -284,10 +284,16 @@ def test_keys_pick_up_to_ten_designs_and_long_clips_are_cut(chromium, tmp_path, 
     fs = 16000
     t = np.arange(fs) / fs
     tones = [200.0 * (k + 1) for k in range(11)]
-    clips = [PageClip(key=f"tone-{k}", name=f"tone {f:g} Hz", volts=0.2 * np.sin(2 * np.pi * f * t), sample_rate=fs, loudness_lufs_1v_full_scale=-20.0) for k, f in enumerate(tones)]
+    said = ("the feedback corner is inside the band",)  # a design's warnings stay beside its name
+    clips = [
+        PageClip(key=f"tone-{k}", name=f"tone {f:g} Hz", volts=0.2 * np.sin(2 * np.pi * f * t), sample_rate=fs, loudness_lufs_1v_full_scale=-20.0, warnings=said if k == 3 else ())
+        for k, f in enumerate(tones)
+    ]
     write_page(tmp_path, PageText(title="eleven tones", columns=()), clips, volts_full_scale=0.5)
     page, errors = open_page(chromium, (tmp_path / "index.html").as_uri())
     assert page.get_attribute("body", "data-decoded") == "11" and page.get_attribute("body", "data-capped") == "11"
+    assert [page.get_attribute(f'.row[data-index="{k}"]', "data-warnings") for k in range(11)] == ["1" if k == 3 else "0" for k in range(11)]
+    assert page.inner_text('.row[data-index="3"] .row-warnings').strip() == "warning: " + said[0]
     assert "cut to their first 0.75 s" in page.inner_text("#copies")
 
     def heard(actions):

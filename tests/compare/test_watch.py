@@ -101,6 +101,24 @@ def test_a_save_renders_what_it_touches(run, inputs):
     assert run.refresh([inputs["rig"].parent / "elsewhere.toml"]) is None
 
 
+def test_a_save_with_an_unlikely_value_renders_and_says_its_warning(run, inputs):
+    # "22n" for the feedback capacitor is legal but puts the feedback corner inside the band: the save
+    # renders, and the warning render clips and render check give for that file (render.plausible) is
+    # one terminal line and stays with the design's row on the page
+    from render import load_design
+    from render.design import apply_rig, load_rig
+    from render.plausible import design_warnings
+
+    assert not any(x.startswith("warning: ") for x in run.start().lines)  # the two demo designs have none
+    set_value(inputs["studio-reference"], "c", "22n")
+    done = run.refresh([inputs["studio-reference"]])
+    expected = design_warnings(apply_rig(load_design(inputs["studio-reference"]), load_rig(inputs["rig"])))
+    assert done.rendered == ("studio-reference",) and expected and any('did you mean "22p"' in w for w in expected)
+    assert [x for x in done.lines if x.startswith("warning: ")] == [f"warning: studio-reference: {w}" for w in expected]
+    state = json.loads(run.board.state())
+    assert state["designs"][0]["warnings"] == list(expected) and state["designs"][1]["warnings"] == []
+
+
 def test_a_broken_save_shows_its_line_and_keeps_the_last_good_clip(run, inputs):
     good = run.slots[1].now
     text = inputs["ember-dark"].read_text(encoding="utf-8")

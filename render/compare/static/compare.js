@@ -491,7 +491,10 @@
       row.append(pick, lane, spec);
       if (S.data.live) row.appendChild(versionsOf(d, i));
       const err = document.createElement("p"); err.className = "row-error"; err.textContent = d.error || d.decodeError || "";
-      row.appendChild(err);
+      const warned = document.createElement("ul"); warned.className = "row-warnings";
+      for (const w of d.warnings || []) { const li = document.createElement("li"); li.textContent = "warning: " + w; warned.appendChild(li); }
+      row.dataset.warnings = String(warned.childElementCount);
+      row.append(err, warned);
       lineup.appendChild(row);
     });
   }
