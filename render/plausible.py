@@ -10,7 +10,7 @@ feedback capacitor of "22n" instead of "22p" puts the feedback corner at
   usual range (``inductance = 120`` is most likely ``"120m"``), for the hint
   of a refusal;
 - :func:`design_warnings`: one line per unlikely value of a loaded design
-  (a network corner inside the band where it normally lies far outside it; a
+  (a network corner inside the band, or past it, where it normally lies far outside it; a
   coil's resonance with its load capacitor inside the band where pickups put
   it at 2-12 kHz; an op-amp gain-bandwidth that puts the stage's
   closed-loop corner inside the band; a coil's inductance, capacitance, DC
@@ -37,6 +37,7 @@ from .usual import (
     LOADED_RESONANCE_MIN_HZ,
     STAGE_GAIN_RANGE,
     USUAL,
+    band_place,
     Usual,
     likely_prefix,
     prefixed_alternatives,
@@ -91,7 +92,7 @@ def design_warnings(design) -> tuple[str, ...]:
     odd_r = {(t, k): v for t, keys in RESISTORS for k in keys if (v := getattr(getattr(design, t), k)) is not None and not usual(t, k).holds(v)}  # type: ignore[union-attr]
     blamed: set[tuple[str, str]] = set()
     if fb.c and c["feedback_hz"] is not None and c["feedback_hz"] < FEEDBACK_CORNER_MIN_HZ:
-        corner = f"the feedback corner 1/(2π·r·c) is {U.format_si(c['feedback_hz'], 'Hz')}, inside the band; it normally lies above {FEEDBACK_CORNER_MIN_HZ:g} Hz (common practice, no source)"
+        corner = f"the feedback corner 1/(2π·r·c) is {U.format_si(c['feedback_hz'], 'Hz')}, {band_place(c['feedback_hz'])}; it normally lies above {FEEDBACK_CORNER_MIN_HZ:g} Hz (common practice, no source)"
         if ("feedback", "r") in odd_r:  # the resistor's slipped prefix, not the capacitor
             rng = USUAL[("feedback", "r")]
             fix = _fix_for(fb.r, lambda v: rng.holds(v) and 1 / (tau * v * fb.c) >= FEEDBACK_CORNER_MIN_HZ, bare="R")
@@ -106,7 +107,7 @@ def design_warnings(design) -> tuple[str, ...]:
         fc = c[f"{name}_hz"]
         if fc > COUPLING_CORNER_MAX_HZ:
             corner = (
-                f"the input coupling corner 1/(2π·series_r·series_c) is {U.format_si(fc, 'Hz')}, inside the band; it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source)"
+                f"the input coupling corner 1/(2π·series_r·series_c) is {U.format_si(fc, 'Hz')}, {band_place(fc)}; it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source)"
             )
             if (name, "series_r") in odd_r:  # the resistor's slipped prefix, not the capacitor
                 rng = USUAL[("input", "series_r")]
@@ -134,7 +135,7 @@ def design_warnings(design) -> tuple[str, ...]:
         cc = design.output.coupling_c
         fix = _fix_for(cc, lambda v: c["output_hz"] * cc / v <= COUPLING_CORNER_MAX_HZ and USUAL[("output", "coupling_c")].holds(v))
         out.append(
-            f"[output] coupling_c={U.format_si(cc, 'F')}: the output coupling corner into the controls is {U.format_si(c['output_hz'], 'Hz')}, inside the band;"
+            f"[output] coupling_c={U.format_si(cc, 'F')}: the output coupling corner into the controls is {U.format_si(c['output_hz'], 'Hz')}, {band_place(c['output_hz'])};"
             f" it normally lies below {COUPLING_CORNER_MAX_HZ:g} Hz (common practice, no source){fix}"
         )
     out += fill_warnings(design)
@@ -168,7 +169,7 @@ def coil_warnings(design) -> list[str]:
         f0 = loaded_resonance_hz(coil.inductance, coil.capacitance + load)
         blamed = None
         if f0 < lo_hz:
-            what = f"the coil's resonance with its load 1/(2π·√(L·(C + load_c))) is {U.format_si(f0, 'Hz')}, inside the band; it normally lies above {lo_hz:g} Hz (common practice, no source)"
+            what = f"the coil's resonance with its load 1/(2π·√(L·(C + load_c))) is {U.format_si(f0, 'Hz')}, {band_place(f0)}; it normally lies above {lo_hz:g} Hz (common practice, no source)"
             blamed = next((k for k in ("inductance", "capacitance") if k in odd), None)
             if blamed == "inductance":
                 rng = USUAL[("coil", "inductance")]
@@ -212,7 +213,7 @@ def bandwidth_warnings(design) -> list[str]:
         return []
     fix = _fix_for(gbw, lambda v: 1e3 <= v <= 1e10 and v / noise_gain >= floor)
     return [
-        f"[supply] gbw={U.format_si(gbw, 'Hz')}: the closed-loop corner gbw / (1 + [feedback] r / [input_a] series_r) is {U.format_si(corner, 'Hz')}, inside the band;"
+        f"[supply] gbw={U.format_si(gbw, 'Hz')}: the closed-loop corner gbw / (1 + [feedback] r / [input_a] series_r) is {U.format_si(corner, 'Hz')}, {band_place(corner)};"
         f" it normally lies above {U.format_si(floor, 'Hz')} (common practice, no source){fix}"
     ]
 

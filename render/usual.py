@@ -72,6 +72,14 @@ LOADED_RESONANCE_MIN_HZ = 2000.0
 # the stage's closed-loop corner gbw / (1 + feedback.r / input_a.series_r) lies above the audio
 # band, 20 kHz (common practice, no source)
 CLOSED_LOOP_CORNER_MIN_HZ = 20e3
+# the audio band the warnings place a corner against (the usual 20 Hz to 20 kHz of hearing, common practice, no source)
+AUDIO_BAND_HZ = (20.0, 20e3)
+
+
+def band_place(f_hz: float) -> str:
+    """Where ``f_hz`` lies against :data:`AUDIO_BAND_HZ`, in words: "inside the band", "below the band" or "above the band"."""
+    lo, hi = AUDIO_BAND_HZ
+    return "below the band" if f_hz < lo else "above the band" if f_hz > hi else "inside the band"
 
 _PREFIX_LETTERS = {-15: "f", -12: "p", -9: "n", -6: "u", -3: "m", 0: "", 3: "k", 6: "M"}
 

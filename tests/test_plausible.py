@@ -84,6 +84,25 @@ def test_coupling_corners_inside_the_band_warn(tmp_path):
     assert w.startswith("[output] coupling_c=100 nF") and f"{1 / (2 * math.pi * (220 + 20e3) * 100e-9):.3g} Hz" in w and '"100u"' in w
 
 
+@pytest.mark.parametrize(
+    "c,place",
+    [
+        ("22n", "inside the band"),  # 1/(2π·110k·22n) = 65.8 Hz
+        ("47u", "below the band"),  # 1/(2π·110k·47µ) = 30.8 mHz: the stage integrates across the whole band
+    ],
+)
+def test_a_corner_is_placed_against_the_band_in_words(tmp_path, c, place):
+    # where the corner lies against 20 Hz-20 kHz (the usual band of hearing, common practice, no source)
+    d = load_designs([variant(tmp_path, 'c = "47p"   # rolls off far above the band', f'c = "{c}"')])[0][0]
+    (w,) = design_warnings(d)
+    corner = 1 / (2 * math.pi * 110e3 * U.parse_quantity(c, U.CAPACITANCE))
+    assert f"is {U.format_si(corner, 'Hz')}, {place};" in w
+    # an input coupling corner past the band's top: 1/(2π·22k·100p) = 72.3 kHz
+    p = variant(tmp_path, 'series_c = "1u"   # bass cut: 1/(2π·22k·1µ) = 7 Hz', 'series_c = "100p"', "hi.toml")
+    (w,) = design_warnings(load_designs([p])[0][0])
+    assert f"is {U.format_si(1 / (2 * math.pi * 22e3 * 100e-12), 'Hz')}, above the band;" in w
+
+
 def test_an_unusual_coil_inductance_warns(tmp_path):
     d = load_designs([variant(tmp_path, 'inductance = "350mH"   # winding inductance', 'inductance = "50H"')])[0][0]
     (w,) = design_warnings(d)

@@ -33,8 +33,8 @@ import numpy as np
 
 BANDS_HZ: tuple[tuple[float, float], ...] = ((2000.0, 4000.0), (4000.0, 8000.0))
 POINTS_PER_BAND = 256
-NO_REFERENCE_LOUDNESS = "the reference's clip is silent, so there is no loudness to match"
-NO_LOUDNESS = "this clip is silent, so there is no loudness to match"
+NO_REFERENCE_LOUDNESS = "the reference's clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
+NO_LOUDNESS = "this clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
 
 
 def band_key(band: tuple[float, float]) -> str:
@@ -149,7 +149,9 @@ def brightness_records(designs, loudness_lufs, *, reference: int | OutsideRefere
             k = band_key(b)
             with np.errstate(invalid="ignore"):  # a silent response (−inf − −inf) becomes None with its reason
                 U.put(row, f"band_{k}_re_1k_db", power[k][i] - at_1k[i], U.NO_SIGNAL)
-            if ref_loud is None:
+            if i == ref_i:  # the reference against itself: 0 dB by definition, whatever its loudness
+                U.put(row, f"matched_diff_{k}_db", 0.0 if np.isfinite(power[k][i]) else np.nan, U.NO_SIGNAL)
+            elif ref_loud is None:
                 U.mark(row, f"matched_diff_{k}_db", NO_REFERENCE_LOUDNESS)
             elif loudness_lufs[i] is None:
                 U.mark(row, f"matched_diff_{k}_db", NO_LOUDNESS)
@@ -186,7 +188,9 @@ def other_record(response, loudness_lufs: float | None, *, reference_power_db: d
         power = band_power_db(response, b)[0]
         with np.errstate(invalid="ignore"):
             U.put(row, f"band_{k}_re_1k_db", power - at_1k, U.NO_SIGNAL)
-        if reference_loudness_lufs is None:
+        if is_reference:  # the reference against itself: 0 dB by definition, whatever its loudness
+            U.put(row, f"matched_diff_{k}_db", 0.0 if np.isfinite(power) else np.nan, U.NO_SIGNAL)
+        elif reference_loudness_lufs is None:
             U.mark(row, f"matched_diff_{k}_db", NO_REFERENCE_LOUDNESS)
         elif loudness_lufs is None:
             U.mark(row, f"matched_diff_{k}_db", NO_LOUDNESS)

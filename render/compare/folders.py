@@ -165,7 +165,7 @@ def played_cells(headroom: dict) -> tuple[str, str, str]:
 
     h = from_record(headroom)
     if h is None:
-        return ("—", "—", "—")
+        return ("not computed",) * 3
     return (
         f"{format_strength(h.strength_at_limit_m('up'))} / {format_strength(h.strength_at_limit_m('down'))}",
         f"{format_margin(h.margin_up_db)} / {format_margin(h.margin_down_db)}",

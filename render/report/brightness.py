@@ -21,11 +21,11 @@ def add_brightness(records, designs, *, reference: int | OutsideReference = 0) -
 
 
 def brightness_cells(m: dict) -> tuple[str, ...]:
-    """The :data:`COLUMNS` cells of a record's ``measurements`` (dashes for a record without them)."""
+    """The :data:`COLUMNS` cells of a record's ``measurements`` ("not computed" for a record without them)."""
     from ..analysis.undefined import cell
 
     if "reference_design" not in m:
-        return ("—",) * len(COLUMNS)
+        return ("not computed",) * len(COLUMNS)
     bands = tuple(cell(m, f"band_{band_key(b)}_re_1k_db", "+.1f", " dB") for b in BANDS_HZ)
     keys = [f"matched_diff_{band_key(b)}_db" for b in BANDS_HZ]
     if m.get("is_reference"):

@@ -136,7 +136,7 @@ def compare_cells(m: dict) -> tuple[str, ...]:
         _resonance(m),
         _cell(m, "q", ".2f"),
         _cell(m, "level_1k_db", "+.1f", " dB"),
-        "—",
+        "is passive",
         _cell(m, "hum_rejection_db", ".1f", " dB"),
         NO_PREAMP,
         NO_PREAMP,

@@ -91,6 +91,19 @@ def test_silent_reference_gives_words_not_numbers():
     assert rows[1]["matched_diff_2k_4k_db"] is None and "silent" in rows[1]["matched_diff_2k_4k_db_reason"]
 
 
+def test_a_clip_shorter_than_one_loudness_block_says_so(tmp_path):
+    # BS.1770-4 eq. 3-7 gate 400 ms blocks: a 0.3 s clip has no integrated loudness, silent or not
+    from render.cli import main
+
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", str(REF), str(DARK), "--seconds", "0.3", "--out", str(out), "--no-plots"], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    ref, dark = (json.loads((out / f"{n}.json").read_text())["measurements"] for n in ("studio-reference", "ember-dark"))
+    assert ref["loudness_lufs_1v_full_scale"] is None and dark["loudness_lufs_1v_full_scale"] is None
+    assert ref["matched_diff_2k_4k_db"] == 0.0  # the reference against itself
+    assert dark["matched_diff_2k_4k_db"] is None and "shorter than one 400 ms block" in dark["matched_diff_2k_4k_db_reason"]
+
+
 def test_matched_difference_helper_is_what_a_blind_session_plays():
     # played at gains g: (L_a + g_a) − (L_b + g_b)
     assert loudness_matched_difference_db(np.array([1.0, 2.0]), np.array([0.5, 0.5]), gain_db=-2.0, reference_gain_db=1.0).tolist() == [-2.5, -1.5]

@@ -185,7 +185,7 @@
   function levelText(v, lv) {
     const ref = entries()[S.reference];
     let diff = "";
-    if (v.loudness === null) diff = "too quiet to measure";
+    if (v.loudness === null) diff = "no loudness (silent, or under 0.4 s)";
     else if (v === ref) diff = "the reference";
     else if (ref.loudness !== null) {
       const d = v.loudness - ref.loudness;
