@@ -81,6 +81,7 @@ def band_place(f_hz: float) -> str:
     lo, hi = AUDIO_BAND_HZ
     return "below the band" if f_hz < lo else "above the band" if f_hz > hi else "inside the band"
 
+
 _PREFIX_LETTERS = {-15: "f", -12: "p", -9: "n", -6: "u", -3: "m", 0: "", 3: "k", 6: "M"}
 
 
