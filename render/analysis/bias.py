@@ -114,6 +114,44 @@ def onset(design, *, frequency_hz: float = SINE_HZ) -> dict:
     }
 
 
+def resting_limit(design) -> str | None:
+    """Which limit the op-amp output rests on with no signal: "low" or "high" when the bias lies outside the
+    linear window [limit_low + knee, limit_high − knee] (a divider swept far off centre), else None."""
+    knee = design.supply.knee
+    if design.bias_v <= design.limit_low_v + knee:
+        return "low"
+    if design.bias_v >= design.limit_high_v - knee:
+        return "high"
+    return None
+
+
+def rest_reason(design) -> str:
+    """Why a setting with :func:`resting_limit` has no onset, headroom or recovery, in words."""
+    knee = design.supply.knee
+    return (
+        f"the bias {design.bias_v:.3g} V lies outside the output's linear window {design.limit_low_v + knee:.3g}..{design.limit_high_v - knee:.3g} V:"
+        f" the op-amp rests on its {resting_limit(design)} limit with no signal"
+    )
+
+
+REST_CELL = {"low": "rests on low limit", "high": "rests on high limit"}  # table cells
+
+
+def headroom_cell(row: dict) -> str:
+    """A bias row's headroom up / down as one table cell, in words when the output rests on a limit."""
+    if row.get("rests_on_limit"):
+        return REST_CELL[row["rests_on_limit"]]
+    return f"{row['headroom_up_v']:.2f} / {row['headroom_down_v']:.2f} V"
+
+
+def onset_cell(row: dict, spec: str = ".3f", width: tuple[int, int] = (0, 0)) -> str:
+    """A bias row's onset velocities up / down (m/s) as one table cell, in words when the output rests on a limit."""
+    o = row["onset"]
+    if o["velocity_up_m_per_s"] is None:
+        return "none: at rest on a limit"
+    return f"{o['velocity_up_m_per_s']:{width[0]}{spec}} / {o['velocity_down_m_per_s']:{width[1]}{spec}}"
+
+
 def harmonics_of(x: np.ndarray, *, sample_rate: float, f0: float, n: int = HARMONICS) -> np.ndarray:
     """Peak amplitudes of harmonics 1..n of ``x`` by projection (x spans whole periods of f0)."""
     t = np.arange(x.size) / sample_rate
@@ -155,25 +193,36 @@ RATIO_RANGE = (0.02, 0.98)
 
 
 def _measure(args: tuple) -> dict:
+    from . import undefined as U
     from .recovery import burst_figures
 
     s, ref_v = args
     d = s.design
     burst = burst_figures(d, velocity_peak=ref_v)
-    return {
+    row = {
         "setting": s.label,
         "ratio": s.ratio,
         "bias_top_ohm": s.top,
         "bias_bottom_ohm": s.bottom,
         "battery_v": s.battery,
         "bias_v": d.bias_v,
-        "headroom_up_v": d.headroom_up_v,
+        "headroom_up_v": d.headroom_up_v,  # signed: below zero, the bias lies past that limit
         "headroom_down_v": d.headroom_down_v,
+        "rests_on_limit": resting_limit(d),
         "onset": onset(d),
         "sine": sine_distortion(d, velocity_peak=ref_v),
         **{k: v for k, v in burst.items() if k.startswith("recovery_")},  # with their reasons where undefined
         "burst": burst,
     }
+    if row["rests_on_limit"]:  # no linear range: no onset to reach, no DC point to return to
+        why = rest_reason(d)
+        for key in ("velocity_up_m_per_s", "velocity_down_m_per_s", "emf_up_v", "emf_down_v"):
+            U.mark(row["onset"], key, why)
+        row["onset"]["first_side"] = None
+        for key in ("recovery_offset_v", "recovery_tau_s"):
+            row.pop(f"{key}_reason", None)
+            U.mark(row, key, why)
+    return row
 
 
 @dataclass(frozen=True)
@@ -251,5 +300,6 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     first = onset(design)
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
     warnings = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway",) if ref_v > REALISTIC_VELOCITY else ()
+    warnings += tuple(f"{s.label}: {rest_reason(s.design)}; it has no onset, headroom or recovery, and its THD is that of a stage already clipped" for s in settings if resting_limit(s.design))
     rows = pmap(_measure, [(s, ref_v) for s in settings], jobs)
     return BiasSweep(design=design, settings=tuple(settings), rows=tuple(rows), sine_velocity_m_per_s=ref_v, keep_load=keep_load, warnings=warnings)

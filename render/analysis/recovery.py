@@ -42,6 +42,8 @@ def recovery_cell(row: dict) -> str:
     from . import undefined as U
 
     a, tau = row.get("recovery_offset_v"), row.get("recovery_tau_s")
+    if row.get("rests_on_limit"):  # render.analysis.bias: no DC point inside the window to return to
+        return "none: at rest on a limit"
     if a is None:
         return SHORT.get(U.reason(row, "recovery_offset_v"), "undefined")
     if tau is None:

@@ -28,17 +28,17 @@ def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
 
 
 def print_sweep(sw) -> None:
+    from ..analysis.bias import headroom_cell, onset_cell
     from ..analysis.recovery import recovery_cell
 
     d = sw.design
     click.echo(f"{d.name}  ({d.source}); divider {'parallel resistance kept' if sw.keep_load else 'total resistance kept'}; test sine 1 kHz, {sw.sine_velocity_m_per_s:.3g} m/s peak")
     click.echo(f"  {'setting':26s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s} {'after a 60 ms burst':>22s}")
     for r in sw.rows:
-        o, q = r["onset"], r["sine"]
-        rec = recovery_cell(r)
+        q = r["sine"]
         click.echo(
-            f"  {r['setting']:26s} {r['bias_v']:6.2f}V {r['headroom_up_v']:7.2f} / {r['headroom_down_v']:5.2f} V"
-            f" {o['velocity_up_m_per_s']:13.3f} / {o['velocity_down_m_per_s']:7.3f}      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB {rec:>22s}"
+            f"  {r['setting']:26s} {r['bias_v']:6.2f}V {headroom_cell(r):>17s} {onset_cell(r, width=(13, 7)):>29s}"
+            f"      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB {recovery_cell(r):>22s}"
         )
 
 
@@ -49,7 +49,7 @@ def print_bias_phrase(sw, clips) -> None:
 
     played = [h for c in clips if (h := from_record(c.get("headroom", {}))) is not None]
     if len(played) == len(clips):
-        for line in bias_phrase_lines([r["setting"] for r in sw.rows], played):
+        for line in bias_phrase_lines([r["setting"] for r in sw.rows], played, [r.get("rests_on_limit") for r in sw.rows]):
             click.echo(line)
 
 

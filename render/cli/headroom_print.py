@@ -41,8 +41,9 @@ def print_headroom(rows: list[tuple[str, PlayedHeadroom]]) -> None:
         click.echo(line)
 
 
-def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom]) -> list[str]:
-    """``render bias``'s phrase table: per setting, the limit's onsets as the phrase's strongest pluck and as dB above the phrase, and the share limited."""
+def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom], rests: list | None = None) -> list[str]:
+    """``render bias``'s phrase table: per setting, the limit's onsets as the phrase's strongest pluck and as dB above the phrase, and the share limited
+    (``rests``: per setting, whether its output rests on a limit, :func:`render.analysis.bias.resting_limit`; then in words)."""
     plucks = {h.strongest_pluck_m for h in played}
     pluck = plucks.pop() if len(plucks) == 1 else None
     what = f"strongest pluck {format_strength(pluck)}" if pluck is not None else "a recording"
@@ -50,9 +51,11 @@ def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom]) -> list[s
         f"the phrase at each setting ({what}): where the op-amp output reaches the limit's onset, up / down",
         f"  {'setting':26s} {'as strongest pluck':^19s}   {'as dB above phrase':^19s}   {'limited':>9s}",
     ]
-    for label, h in zip(labels, played):
+    for label, h, rest in zip(labels, played, rests or [None] * len(played)):
         mm = f"{format_strength(h.strength_at_limit_m('up'), guessed=h.guessed):>8s} / {format_strength(h.strength_at_limit_m('down'), guessed=h.guessed):<8s}"
         db = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
+        if rest:
+            mm = db = "at rest on a limit"
         lines.append(f"  {label:26s} {mm:>19s}   {db:>19s}   {format_share(h.limited_fraction):>9s}")
     if any(h.guessed for h in played):
         lines.append(f"  {GUESS_NOTE}")

@@ -175,12 +175,15 @@ def played_cells(headroom: dict) -> tuple[str, str, str]:
 
 def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
     """A bias setting's row and clip as the summary table's cells (:data:`BIAS_COLUMNS`)."""
-    o, q = row["onset"], row["sine"]
+    from ..analysis.bias import headroom_cell, onset_cell
+
+    q = row["sine"]
+    onset = onset_cell(row)
     return (
         f"{row['bias_v']:.2f} V",
-        f"{row['headroom_up_v']:.2f} / {row['headroom_down_v']:.2f} V",
-        f"{o['velocity_up_m_per_s']:.3f} / {o['velocity_down_m_per_s']:.3f} m/s",
-        *played_cells(clip.get("headroom") or {}),
+        headroom_cell(row),
+        onset if row["onset"]["velocity_up_m_per_s"] is None else f"{onset} m/s",
+        *(played_cells(clip.get("headroom") or {}) if not row.get("rests_on_limit") else ("at rest on a limit",) * 2 + played_cells(clip.get("headroom") or {})[2:]),
         f"{q['thd_percent']:.2f} %",
         f"{q['h2_db']:.1f} dB",
         f"{q['h3_db']:.1f} dB",

@@ -170,3 +170,29 @@ def test_h2_at_the_centred_divider_falls_with_the_open_loop_gain():
     h2 = [sine_distortion(replace(d, supply=replace(d.supply, open_loop_gain=g)), velocity_peak=v)["h2_db"] for g in (1e4, 1e5, 1e6, 1e7)]
     assert np.allclose(np.diff(h2), -20.0, atol=1.0), h2
     assert np.allclose(h2, [-79.6, -99.6, -119.7, -140.7], atol=0.05), h2
+
+
+def test_a_divider_that_puts_the_bias_outside_the_window_is_said_in_words(tmp_path):
+    # ratio 0.05 of 9 V: V_bias = 9 · 0.05 = 0.45 V (divider formula), below the linear window
+    # [margin_low + knee, 9 − margin_high − knee] = [1.5, 7.5] V (the schema's defaults 1 V and 0.5 V):
+    # the op-amp output rests on its low limit, so the setting has no onset, headroom or recovery to give
+    from render.analysis.bias import resting_limit
+
+    d = load_design(REF)
+    t, b = divider(d, 0.05)
+    assert resting_limit(with_divider(d, t, b)) == "low" and resting_limit(d) is None
+    t, b = divider(d, 0.97)
+    assert resting_limit(with_divider(d, t, b)) == "high"
+    js = tmp_path / "b.json"
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.05", "--no-clips", "--json", str(js)])
+    assert res.exit_code == 0, res.output
+    low, own = json.loads(js.read_text())["settings"]
+    assert low["bias_v"] == pytest.approx(0.45) and low["rests_on_limit"] == "low" and own["rests_on_limit"] is None
+    why = "the bias 0.45 V lies outside the output's linear window 1.5..7.5 V: the op-amp rests on its low limit with no signal"
+    for key in ("velocity_up_m_per_s", "velocity_down_m_per_s"):
+        assert low["onset"][key] is None and low["onset"][f"{key}_reason"] == why
+    assert low["recovery_offset_v"] is None and low["recovery_offset_v_reason"] == why
+    assert own["onset"]["velocity_up_m_per_s"] > 0 and own["recovery_tau_s"] > 0
+    row = next(line for line in res.output.splitlines() if line.strip().startswith("ratio 0.05"))
+    assert "rests on low limit" in row and "none: at rest on a limit" in row and "-0.55" not in row
+    assert f"warning: ratio 0.05, 9 V: {why}" in res.output
