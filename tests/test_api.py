@@ -79,7 +79,7 @@ def test_hum_equals_the_json(tmp_path):
     data = json.loads(js.read_text())
     h = render.hum(render.load_design(ODD))
     assert [x.rejection_db for x in h.harmonics] == [x["rejection_db"] for x in data["harmonics"]]
-    assert h.total_v_rms == data["total_v_rms"] and h.signal_to_hum_db == data["signal_to_hum_db"]
+    assert h.total_v_rms == data["total_v_rms"] and h.note_to_hum_db == data["note_to_hum_db"]
 
 
 def test_noise_equals_the_json(tmp_path):

@@ -107,25 +107,29 @@ def hum_table(design, resp=None) -> dict:
         "harmonic_profile": list(hum.harmonics),
         "harmonics": rows,
         "total_v_rms": total_rms,
-        "reference_signal": {"velocity_m_per_s_peak": REFERENCE_VELOCITY, "frequency_hz": REFERENCE_NOTE_HZ, "output_v_rms": float(sig)},
+        "reference_note": {"velocity_m_per_s_peak": REFERENCE_VELOCITY, "frequency_hz": REFERENCE_NOTE_HZ, "output_v_rms": float(sig)},
     }
-    _signal_to_hum(table, sig, total_rms, U.NO_SIGNAL)
-    table["passive"] = _signal_to_hum({"total_v_rms": passive_rms}, psig, passive_rms, U.PASSIVE_NO_SIGNAL)
+    # no hum at all: no source (or field harmonic) reaches either coil, or the coils' hum cancels exactly
+    unlinked = bool(np.all((np.abs(va) == 0) & (np.abs(vb) == 0)))
+    no_hum = U.NOTHING_LINKS if unlinked else U.NO_HUM
+    _note_to_hum(table, sig, total_rms, U.NO_SIGNAL, no_hum)
+    table["passive"] = _note_to_hum({"total_v_rms": passive_rms}, psig, passive_rms, U.PASSIVE_NO_SIGNAL, no_hum)
     if sv is not None:
         table["sources"] = [source_record(j, s, sv.linkage_wb) for j, s in enumerate(sv.sources)]
         table["warnings"] = list(sv.warnings)
     return table
 
 
-def _signal_to_hum(record: dict, signal_v: float, hum_v: float, silent_reason: str) -> dict:
-    """``signal_to_hum_db`` = 20·log10(signal/hum), or None with its reason (no hum, or no signal)."""
+def _note_to_hum(record: dict, signal_v: float, hum_v: float, silent_reason: str, no_hum_reason: str) -> dict:
+    """``note_to_hum_db`` = 20·log10(note/hum) (the reference note's rms output over the hum's rms), or None with
+    its reason (no hum, or no signal). Not the one-scale ``signal_to_hum_db`` of :mod:`render.analysis.one_scale`."""
     from . import undefined as U
 
     if hum_v <= 0:
-        return U.mark(record, "signal_to_hum_db", U.NO_HUM)
+        return U.mark(record, "note_to_hum_db", no_hum_reason)
     if signal_v <= 0:
-        return U.mark(record, "signal_to_hum_db", silent_reason)
-    return U.put(record, "signal_to_hum_db", 20 * np.log10(signal_v / hum_v), U.NO_HUM)
+        return U.mark(record, "note_to_hum_db", silent_reason)
+    return U.put(record, "note_to_hum_db", 20 * np.log10(signal_v / hum_v), no_hum_reason)
 
 
 def rejection_curve(designs, frequency_hz) -> np.ndarray:
@@ -476,15 +480,18 @@ class HumReport:
         when hum sources replace the one-number field
     harmonics : tuple of HumHarmonic
     total_v_rms : float, V rms over the harmonics
-    signal_to_hum_db : float or None
-        The reference string signal over the total hum; None when the coils
-        cancel the hum exactly (no hum to compare with) or the string signal
-        (no signal), with the reason in ``signal_to_hum_reason``.
+    note_to_hum_db : float or None, dB
+        The reference note (``reference_note``: 196 Hz, 0.5 m/s peak string
+        velocity) over the total hum, both rms; None when there is no hum
+        (the coils cancel it exactly, or no source links either coil) or no
+        signal (the coils cancel the string), with the reason in
+        ``note_to_hum_reason``. Hum and noise on one scale (a 1 kHz
+        reference) are :func:`render.noise`'s ``hum_and_noise``.
     passive_total_v_rms : float, V
-    passive_signal_to_hum_db : float or None
-    reference_signal : dict
-        What the signal-to-hum ratio is relative to.
-    signal_to_hum_reason, passive_signal_to_hum_reason : str or None
+    passive_note_to_hum_db : float or None, dB
+    reference_note : dict
+        What ``note_to_hum_db`` is relative to.
+    note_to_hum_reason, passive_note_to_hum_reason : str or None
         Why the figure beside it is None, in words.
     sources : tuple of dict
         The hum sources (kind, strength, place, axis, profile, phase, each
@@ -498,13 +505,13 @@ class HumReport:
     field_t: float | None
     harmonics: tuple[HumHarmonic, ...]
     total_v_rms: float
-    signal_to_hum_db: float | None
+    note_to_hum_db: float | None
     passive_total_v_rms: float
-    passive_signal_to_hum_db: float | None
-    reference_signal: dict
+    passive_note_to_hum_db: float | None
+    reference_note: dict
     table: dict  # the same figures in the JSON layout of ``render hum --json``
-    signal_to_hum_reason: str | None = None
-    passive_signal_to_hum_reason: str | None = None
+    note_to_hum_reason: str | None = None
+    passive_note_to_hum_reason: str | None = None
     sources: tuple[dict, ...] = ()
     warnings: tuple[str, ...] = ()
 
@@ -544,13 +551,13 @@ def hum(design, *, rig=None, sources=None) -> HumReport:
         field_t=t["field_t"],
         harmonics=tuple(HumHarmonic(**{**row, "sources": tuple(row.get("sources", ()))}) for row in t["harmonics"]),
         total_v_rms=t["total_v_rms"],
-        signal_to_hum_db=t["signal_to_hum_db"],
+        note_to_hum_db=t["note_to_hum_db"],
         passive_total_v_rms=t["passive"]["total_v_rms"],
-        passive_signal_to_hum_db=t["passive"]["signal_to_hum_db"],
-        reference_signal=t["reference_signal"],
+        passive_note_to_hum_db=t["passive"]["note_to_hum_db"],
+        reference_note=t["reference_note"],
         table=t,
-        signal_to_hum_reason=t.get("signal_to_hum_db_reason"),
-        passive_signal_to_hum_reason=t["passive"].get("signal_to_hum_db_reason"),
+        note_to_hum_reason=t.get("note_to_hum_db_reason"),
+        passive_note_to_hum_reason=t["passive"].get("note_to_hum_db_reason"),
         sources=tuple(t.get("sources", ())),
         warnings=tuple(t.get("warnings", ())),
     )

@@ -15,7 +15,8 @@
   same weighted and unweighted. Our own choice (about a moderate pluck;
   common practice, no source).
 - ``hum_over_noise_db`` = 20·log10(hum/noise): positive when the hum
-  dominates. None (with a reason) when the hum cancels exactly.
+  dominates. None (with a reason) when there is no hum: the coils cancel it
+  exactly, or no source links either coil.
 
 Pure: results in, a frozen result out.
 """
@@ -64,6 +65,9 @@ class OneScale:
         The noise, 20 Hz–20 kHz, unweighted and A-weighted.
     reference_velocity : float, m/s rms
     reference_hz : float, Hz
+    no_hum_reason : str
+        Why there is no hum, in words, when ``hum_v`` is 0 (the coils cancel
+        it exactly, or no source links either coil).
     """
 
     circuit: str
@@ -74,6 +78,7 @@ class OneScale:
     noise_a_v: float
     reference_velocity: float = REFERENCE_VELOCITY
     reference_hz: float = REFERENCE_HZ
+    no_hum_reason: str = NO_HUM_AT_ALL
 
     @staticmethod
     def _db(x: float, y: float) -> float | None:
@@ -100,24 +105,29 @@ class OneScale:
             "noise_a_weighted_v_rms": self.noise_a_v,
         }
         no_signal = "no signal: the coils cancel the string signal exactly"
+        no_hum = self.no_hum_reason
         for key, num, den, why in (
-            ("signal_to_hum_db", self.signal_v, self.hum_v, NO_HUM_AT_ALL if self.hum_v <= 0 else no_signal),
-            ("signal_to_hum_a_db", self.signal_v, self.hum_a_v, NO_HUM_AT_ALL if self.hum_a_v <= 0 else no_signal),
+            ("signal_to_hum_db", self.signal_v, self.hum_v, no_hum if self.hum_v <= 0 else no_signal),
+            ("signal_to_hum_a_db", self.signal_v, self.hum_a_v, no_hum if self.hum_a_v <= 0 else no_signal),
             ("signal_to_noise_db", self.signal_v, self.noise_v, no_signal),
             ("signal_to_noise_a_db", self.signal_v, self.noise_a_v, no_signal),
-            ("hum_over_noise_db", self.hum_v, self.noise_v, NO_HUM_AT_ALL),
-            ("hum_over_noise_a_db", self.hum_a_v, self.noise_a_v, NO_HUM_AT_ALL),
+            ("hum_over_noise_db", self.hum_v, self.noise_v, no_hum),
+            ("hum_over_noise_a_db", self.hum_a_v, self.noise_a_v, no_hum),
         ):
             U.put(rec, key, self._db(num, den), why)
         return rec
 
 
-def one_scale(circuit: str, *, hum_frequency_hz, hum_peak_v, noise_v: float, noise_a_v: float, signal_v: float, reference_velocity: float = REFERENCE_VELOCITY) -> OneScale:
+def one_scale(
+    circuit: str, *, hum_frequency_hz, hum_peak_v, noise_v: float, noise_a_v: float, signal_v: float, reference_velocity: float = REFERENCE_VELOCITY, no_hum_reason: str | None = None
+) -> OneScale:
     """Hum (per-harmonic peaks) and noise (band totals) of one circuit on one scale.
 
     hum_frequency_hz, hum_peak_v : np.ndarray [shape=(K,)], Hz and V peak
     noise_v, noise_a_v : float, V rms (20 Hz–20 kHz)
     signal_v : float, V rms, the reference signal at the amp input
+    no_hum_reason : str or None
+        Why the hum is zero, when it is (:mod:`render.analysis.undefined`'s wording); None: :data:`NO_HUM_AT_ALL`.
     """
     return OneScale(
         circuit=circuit,
@@ -127,6 +137,7 @@ def one_scale(circuit: str, *, hum_frequency_hz, hum_peak_v, noise_v: float, noi
         noise_v=float(noise_v),
         noise_a_v=float(noise_a_v),
         reference_velocity=float(reference_velocity),
+        no_hum_reason=no_hum_reason or NO_HUM_AT_ALL,
     )
 
 
@@ -169,6 +180,7 @@ def design_one_scale(design, *, temperature: float = 300.0, reference_velocity: 
         noise_a_v=nr.active.a_weighted_v,
         signal_v=0.0 if nr.active.silent_reason else nr.active.signal_v,
         reference_velocity=reference_velocity,
+        no_hum_reason=table.get("note_to_hum_db_reason") if table["total_v_rms"] <= 0 else None,
     )
     passive = one_scale(
         "passive reference",
@@ -178,5 +190,6 @@ def design_one_scale(design, *, temperature: float = 300.0, reference_velocity: 
         noise_a_v=nr.passive.a_weighted_v,
         signal_v=0.0 if nr.passive.silent_reason else nr.passive.signal_v,
         reference_velocity=reference_velocity,
+        no_hum_reason=table["passive"].get("note_to_hum_db_reason") if table["passive"]["total_v_rms"] <= 0 else None,
     )
     return active, passive

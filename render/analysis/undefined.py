@@ -30,6 +30,7 @@ HUM_CANCELS = "infinite: the coils' hum cancels exactly"
 NO_HUM = "no hum: the coils cancel exactly"
 NO_FIELD = "the field has no such harmonic"
 NO_LINKAGE = "no hum: no source links either coil at this harmonic"
+NOTHING_LINKS = "no hum: no source links either coil"
 NO_DIPOLE_LINKAGE = "no hum at this harmonic: neither coil links the dipole there"
 NO_SIGNAL = "no signal: the coils cancel the string signal exactly (a coil wired in reverse? check signal_polarity)"
 PASSIVE_NO_SIGNAL = "no passive signal: the passive reference's coils cancel the string signal exactly"
@@ -49,6 +50,7 @@ SHORT = {
     NO_HUM: "no hum",
     NO_FIELD: "no field",
     NO_LINKAGE: "no hum",
+    NOTHING_LINKS: "no hum",
     NO_DIPOLE_LINKAGE: "no hum",
     NO_SIGNAL: "no signal",
     PASSIVE_NO_SIGNAL: "no passive signal",

@@ -57,12 +57,23 @@ def _ratio(signal_v: float, x_v: float) -> str:
     return f"{20 * math.log10(signal_v / x_v):.1f} dB"
 
 
+def _no_hum(s) -> tuple[str, str]:
+    """(table cell, words after "noise") for a circuit with no hum, from its reason."""
+    from ..analysis import undefined as U
+
+    if s.no_hum_reason == U.NOTHING_LINKS:
+        return "none: no source links the coils", "no source links the coils"
+    if s.no_hum_reason == U.NO_HUM:
+        return "none: it cancels exactly", "the hum cancels exactly"
+    return "none", "there is no hum"
+
+
 def scale_lines(scales) -> list[str]:
     """The hum-and-noise table of :class:`~render.analysis.one_scale.OneScale` results, one column each."""
     s0 = scales[0]
     w = 28
     rows = [
-        ("hum", [f"{_uv(s.hum_v)} (A: {_uv(s.hum_a_v)})" if s.hum_v > 0 else "none: it cancels exactly" for s in scales]),
+        ("hum", [f"{_uv(s.hum_v)} (A: {_uv(s.hum_a_v)})" if s.hum_v > 0 else _no_hum(s)[0] for s in scales]),
         ("noise", [f"{_uv(s.noise_v)} (A: {_uv(s.noise_a_v)})" for s in scales]),
         ("signal to hum", [f"{_ratio(s.signal_v, s.hum_v)} (A: {_ratio(s.signal_v, s.hum_a_v)})" if s.hum_v > 0 else "no hum" for s in scales]),
         ("signal to noise", [f"{_ratio(s.signal_v, s.noise_v)} (A: {_ratio(s.signal_v, s.noise_a_v)})" for s in scales]),
@@ -77,7 +88,7 @@ def scale_lines(scales) -> list[str]:
         prefix = "dominant" if s is s0 else ""
         label = "" if len(scales) == 1 else f"{s.circuit}: "
         if s.hum_over_noise_db is None:
-            out.append(f"  {prefix:20s}{label}noise (the hum cancels exactly)")
+            out.append(f"  {prefix:20s}{label}noise ({_no_hum(s)[1]})")
         else:
             out.append(f"  {prefix:20s}{label}{_who(s.hum_over_noise_db)} unweighted, {_who(s.hum_over_noise_a_db)} A-weighted")
     return out

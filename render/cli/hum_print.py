@@ -49,7 +49,7 @@ def print_report(d, r) -> None:
                 srej = _rejection(s["rejection_db"], s.get("rejection_db_reason"))
                 click.echo(f"       source {s['source']:<2d}       {srej:>9s}   {microvolts(s['output_v'], 12, 3)}   {microvolts(s['coil_a_v'], 9, 2)}   {microvolts(s['coil_b_v'], 9, 2)}")
     # signal to hum is printed once, on the scale it shares with noise (the block below)
-    click.echo(f"  total hum {_total(r.total_v_rms, r.signal_to_hum_reason)}; passive reference {_total(r.passive_total_v_rms, r.passive_signal_to_hum_reason)}")
+    click.echo(f"  total hum {_total(r.total_v_rms, r.note_to_hum_reason)}; passive reference {_total(r.passive_total_v_rms, r.passive_note_to_hum_reason)}")
     if n > 1:
         click.echo("  each source's share is its own hum alone; the shares add as phasors, not as magnitudes")
 

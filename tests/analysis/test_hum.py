@@ -50,7 +50,7 @@ def test_identical_sides_cancel_exactly_and_say_so():
         assert row["rejection_db"] is None and row["rejection_db_reason"] == "infinite: the coils' hum cancels exactly"
         assert row["output_v"] == 0.0 and row["coil_a_v"] > 0
     assert t["total_v_rms"] == 0.0
-    assert t["signal_to_hum_db"] is None and t["signal_to_hum_db_reason"] == "no hum: the coils cancel exactly"
+    assert t["note_to_hum_db"] is None and t["note_to_hum_db_reason"] == "no hum: the coils cancel exactly"
 
 
 def test_monte_carlo_is_seeded_and_chunk_invariant():

@@ -150,9 +150,12 @@ def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
     data, _ = hum_json(BOBBIN, "--rig", rig(tmp_path, '[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n'))
     row = data["harmonics"][0]
     assert row["rejection_db"] is None and row["rejection_db_reason"].startswith("no hum") and row["output_v"] == 0
-    assert data["signal_to_hum_db"] is None and "signal_to_hum_db_reason" in data
+    assert data["note_to_hum_db"] is None and data["note_to_hum_db_reason"] == "no hum: no source links either coil"
+    scale = {s["circuit"]: s for s in data["hum_and_noise"]}
+    assert scale["active"]["hum_over_noise_db"] is None and scale["active"]["hum_over_noise_db_reason"] == "no hum: no source links either coil"
     text = run("hum", BOBBIN, "--rig", rig(tmp_path, '[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n', "x.toml")).output
-    assert "no hum" in text.splitlines()[3] and "total hum none (no hum:" in text
+    assert "no hum" in text.splitlines()[3] and "total hum none (no hum: no source links either coil)" in text
+    assert "cancel" not in text and "noise (no source links the coils)" in text
 
 
 MATCHED = ROOT / "tests" / "smoke" / "designs" / "edge-matched-coils.toml"
@@ -172,7 +175,7 @@ def test_exact_cancellation_prints_words_for_every_source_kind(tmp_path, body):
     path = rig(tmp_path, body)
     data, _ = hum_json(BOBBIN, "--rig", path)
     assert data["passive"]["total_v_rms"] == 0.0
-    assert data["passive"]["signal_to_hum_db"] is None and data["passive"]["signal_to_hum_db_reason"].startswith("no hum")
+    assert data["passive"]["note_to_hum_db"] is None and data["passive"]["note_to_hum_db_reason"].startswith("no hum")
     passive = [s for s in data["hum_and_noise"] if s["circuit"] == "passive reference"][0]
     assert passive["hum_v_rms"] == 0.0 and passive["signal_to_hum_db"] is None and passive["signal_to_hum_db_reason"].startswith("no hum")
     text = run("hum", BOBBIN, "--rig", path).output
@@ -182,7 +185,7 @@ def test_exact_cancellation_prints_words_for_every_source_kind(tmp_path, body):
     matched, _ = hum_json(MATCHED, "--rig", path)
     for row in matched["harmonics"]:
         assert row["rejection_db"] is None and row["rejection_db_reason"] == "infinite: the coils' hum cancels exactly" and row["output_v"] == 0.0
-    assert matched["total_v_rms"] == 0.0 and matched["signal_to_hum_db"] is None
+    assert matched["total_v_rms"] == 0.0 and matched["note_to_hum_db"] is None
 
 
 # ----------------------------------------------------------------------------

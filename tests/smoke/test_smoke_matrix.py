@@ -289,7 +289,7 @@ def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
     res = cli.invoke(main, ["hum", str(matched), "--json", str(tmp_path / "m.json")])
     assert res.exit_code == 0 and "no hum: the coils cancel exactly" in res.output
     h = json.loads((tmp_path / "m.json").read_text())
-    assert h["signal_to_hum_db"] is None and h["signal_to_hum_db_reason"] == "no hum: the coils cancel exactly"
+    assert h["note_to_hum_db"] is None and h["note_to_hum_db_reason"] == "no hum: the coils cancel exactly"
     assert h["harmonics"][0]["rejection_db"] is None and h["harmonics"][0]["rejection_db_reason"].startswith("infinite")
     res = cli.invoke(main, ["check", str(silent), "--json", str(tmp_path / "s.json")])
     assert res.exit_code == 0 and "no signal: the coils cancel the string signal exactly" in res.output
