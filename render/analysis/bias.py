@@ -134,22 +134,23 @@ def rest_reason(design) -> str:
     )
 
 
-REST_CELL = {"low": "rests on low limit", "high": "rests on high limit"}  # table cells
+REST_CELL = {"low": "on low limit", "high": "on high limit"}  # table cells
+RESTS = "none: rests on limit"  # a table cell for an onset or a recovery there
 
 
-def headroom_cell(row: dict) -> str:
+def headroom_cell(row: dict, width: tuple[int, int] = (0, 0)) -> str:
     """A bias row's headroom up / down as one table cell, in words when the output rests on a limit."""
     if row.get("rests_on_limit"):
         return REST_CELL[row["rests_on_limit"]]
-    return f"{row['headroom_up_v']:.2f} / {row['headroom_down_v']:.2f} V"
+    return f"{row['headroom_up_v']:{width[0]}.2f} / {row['headroom_down_v']:{width[1]}.2f} V"
 
 
-def onset_cell(row: dict, spec: str = ".3f", width: tuple[int, int] = (0, 0)) -> str:
+def onset_cell(row: dict, width: tuple[int, int] = (0, 0)) -> str:
     """A bias row's onset velocities up / down (m/s) as one table cell, in words when the output rests on a limit."""
     o = row["onset"]
     if o["velocity_up_m_per_s"] is None:
-        return "none: at rest on a limit"
-    return f"{o['velocity_up_m_per_s']:{width[0]}{spec}} / {o['velocity_down_m_per_s']:{width[1]}{spec}}"
+        return RESTS
+    return f"{o['velocity_up_m_per_s']:{width[0]}.3f} / {o['velocity_down_m_per_s']:{width[1]}.3f}"
 
 
 def harmonics_of(x: np.ndarray, *, sample_rate: float, f0: float, n: int = HARMONICS) -> np.ndarray:

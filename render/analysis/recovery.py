@@ -43,7 +43,7 @@ def recovery_cell(row: dict) -> str:
 
     a, tau = row.get("recovery_offset_v"), row.get("recovery_tau_s")
     if row.get("rests_on_limit"):  # render.analysis.bias: no DC point inside the window to return to
-        return "none: at rest on a limit"
+        return "none: rests on limit"
     if a is None:
         return SHORT.get(U.reason(row, "recovery_offset_v"), "undefined")
     if tau is None:

@@ -37,7 +37,7 @@ def print_sweep(sw) -> None:
     for r in sw.rows:
         q = r["sine"]
         click.echo(
-            f"  {r['setting']:26s} {r['bias_v']:6.2f}V {headroom_cell(r):>17s} {onset_cell(r, width=(13, 7)):>29s}"
+            f"  {r['setting']:26s} {r['bias_v']:6.2f}V {headroom_cell(r, width=(7, 5)):>17s} {onset_cell(r, width=(13, 7)):>23s}"
             f"      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB {recovery_cell(r):>22s}"
         )
 

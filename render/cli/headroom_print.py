@@ -55,7 +55,7 @@ def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom], rests: li
         mm = f"{format_strength(h.strength_at_limit_m('up'), guessed=h.guessed):>8s} / {format_strength(h.strength_at_limit_m('down'), guessed=h.guessed):<8s}"
         db = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
         if rest:
-            mm = db = "at rest on a limit"
+            mm = db = "rests on a limit"
         lines.append(f"  {label:26s} {mm:>19s}   {db:>19s}   {format_share(h.limited_fraction):>9s}")
     if any(h.guessed for h in played):
         lines.append(f"  {GUESS_NOTE}")

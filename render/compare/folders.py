@@ -183,7 +183,7 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
         f"{row['bias_v']:.2f} V",
         headroom_cell(row),
         onset if row["onset"]["velocity_up_m_per_s"] is None else f"{onset} m/s",
-        *(played_cells(clip.get("headroom") or {}) if not row.get("rests_on_limit") else ("at rest on a limit",) * 2 + played_cells(clip.get("headroom") or {})[2:]),
+        *(played_cells(clip.get("headroom") or {}) if not row.get("rests_on_limit") else ("rests on a limit",) * 2 + played_cells(clip.get("headroom") or {})[2:]),
         f"{q['thd_percent']:.2f} %",
         f"{q['h2_db']:.1f} dB",
         f"{q['h3_db']:.1f} dB",

@@ -349,6 +349,8 @@ def test_turns_sweep_moves_each_coils_flux_with_its_turns():
 
 
 def test_the_readmes_transformer_table_is_what_render_hum_writes(tmp_path):
+    from render.units import microvolts
+
     # the README's table of studio-bobbin near a small transformer: each row a `render hum --json` with that one
     # dipole (the near-transformer rig with its `at` moved; the first row without a rig), printed as the table does
     text = (ROOT / "README.md").read_text(encoding="utf-8")
@@ -375,5 +377,6 @@ def test_the_readmes_transformer_table_is_what_render_hum_writes(tmp_path):
             path.write_text("\n".join(f"at = [{at}]" if line.startswith("at = ") else line for line in base.splitlines()))
             data, _ = hum_json(BOBBIN, "--rig", path)
         h = data["harmonics"][0]
-        ours = [f"{h['rejection_db']:.1f}", f"{h['coil_a_v'] * 1e6:.2f}", f"{h['output_v'] * 1e6:.3f}", f"{data['total_v_rms'] * 1e6:.3f}", f"{data['hum_and_noise'][0]['signal_to_hum_db']:.0f}"]
+        uv = lambda v: microvolts(v, 0, 3).removesuffix(" µV")  # noqa: E731 - in µV, another prefix where µV would read 0.000
+        ours = [f"{h['rejection_db']:.1f}", f"{h['coil_a_v'] * 1e6:.2f}", uv(h["output_v"]), uv(data["total_v_rms"]), f"{data['hum_and_noise'][0]['signal_to_hum_db']:.0f}"]
         assert cells[1:] == ours, cells[0]
