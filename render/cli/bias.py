@@ -61,7 +61,7 @@ def print_bias_phrase(sw, clips) -> None:
 @click.option("--bottom", "bottoms", default=None, help="Explicit bias_bottom values, comma-separated.")
 @click.option("--keep-load/--keep-sum", default=True, show_default=True, help="Keep the divider's parallel resistance (the input loading) or its total resistance while the ratio moves.")
 @click.option("--battery", "batteries", default=None, help="Battery voltages to sweep, e.g. 9,8,7 or 9V,8V (default: the design's).")
-@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase for the clips (default: dry_signals/default.toml).")
+@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase for the clips (default: dry_signals/default.toml here, else the copy shipped with render).")
 @click.option("--strength", default=None, help="Pluck every note of the phrase this hard (initial displacement, e.g. 2mm).")
 @click.option(
     "--sine-velocity",

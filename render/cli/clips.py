@@ -18,7 +18,7 @@ CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud
 
 @click.command("clips")
 @click.argument("models", nargs=-1, type=click.Path(dir_okay=False))
-@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
+@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml here, else the copy shipped with render).")
 @rig_option
 @click.option("--out", "out_dir", type=OutFolder(), default=None, help="Output folder (default: a new outputs/clips-<time> folder).")
 @overwrite_option

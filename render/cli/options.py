@@ -140,5 +140,6 @@ def pluck_strength(text) -> float | None:
         raise InputError(f"--strength={shown}: a pluck strength needs its unit; {fix}")
     try:
         return parse_quantity(shown, LENGTH)
-    except QuantityError:
-        raise InputError(f"--strength={shown!r}: cannot read it as a length; give the strongest pluck's displacement with its unit, like 2mm") from None
+    except QuantityError as exc:
+        both = "; use an exponent or a prefix, not both" if "not both" in str(exc) else ""
+        raise InputError(f"--strength={shown!r}: cannot read it as a length{both}; give the strongest pluck's displacement with its unit, like 2mm") from None

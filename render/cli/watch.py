@@ -18,7 +18,7 @@ CAUTION = "Start playback at a low volume and raise it slowly: the page starts 2
 
 @click.command("watch")
 @click.argument("models", nargs=-1, required=True, type=InFile())
-@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml).")
+@click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml here, else the copy shipped with render).")
 @rig_option
 @click.option("--seconds", type=Finite(0.01, 600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
 @sample_rate_option

@@ -168,7 +168,7 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         "",
         "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale"
         " (the same for a design in any run);"
-        " \"limited\": share of the op-amp output's samples inside the soft limit's knee or beyond;"
+        " \"limited\": share of the op-amp output's samples inside the soft limit's knee or beyond, or slewing at the slew rate;"
         " words stand for a figure with no finite value (its reason is in the design's JSON, beside the figure).",
         "",
         *([f"{BRIGHTNESS_NOTE} Reference: {records[0]['measurements']['reference_design']}.", ""] if records and "reference_design" in records[0]["measurements"] else []),

@@ -46,7 +46,8 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
         raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
     if strength_m < PLAYED_STRENGTH_MIN_M:
         return (weak_strength_warning(strength_m),)
-    return (f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing; rendering it anyway",) if strength_m > REALISTIC_STRENGTH_M else ()
+    far = f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing (above {REALISTIC_STRENGTH_M * 1e3:g} mm, common practice, no source); rendering it anyway"
+    return (far,) if strength_m > REALISTIC_STRENGTH_M else ()
 
 
 def sweep_record(sweep) -> dict:

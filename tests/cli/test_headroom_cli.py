@@ -58,3 +58,11 @@ def test_blind_prints_headroom(tmp_path):
     res = CliRunner().invoke(main, ["blind", str(REF), str(ROOT / "models" / "ember-dark.toml"), "--seconds", "1", "--trials", "2", "--out", str(tmp_path / "s")])
     assert res.exit_code == 0, res.output
     assert "headroom for what is played" in res.output and "ember-dark" in res.output
+
+
+def test_a_strength_beyond_playing_warns_with_its_limit_and_origin():
+    from render.runs.bias import check_strength
+
+    (w,) = check_strength(6e-3, ROOT / "dry_signals" / "default.toml")
+    assert "--strength=6mm is far beyond realistic playing (above 5 mm, common practice, no source)" in w
+    assert check_strength(4e-3, ROOT / "dry_signals" / "default.toml") == ()

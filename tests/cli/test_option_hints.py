@@ -35,6 +35,7 @@ def _error(args: list[str]) -> str:
         ("0.002", "did you mean 2mm? (0.002 read as metres)"),
         ("80", "give it like 2mm (above 0, at most 50 mm)"),
         ("2mm,3mm", "like 2mm"),
+        ("1e9mm", "cannot read it as a length; use an exponent or a prefix, not both; give"),
     ],
 )
 def test_strength_hints(tmp_path, command, value, fragment):
