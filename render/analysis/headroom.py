@@ -47,6 +47,7 @@ from . import undefined as U
 NO_EXCURSION = "the op-amp output never leaves its bias point on this side"
 NO_PLUCK = "what was played is not a phrase (no pluck strength to scale)"
 NOT_FOUND = "not found by rendering at scaled strength: the margin stops falling as the plucks grow (the strings leave the construction's computed flux range)"
+LEFT_RANGE = "not found by rendering at scaled strength: the strings swing past the construction's computed flux range before the op-amp output reaches the limit, so no strength there is claimed"
 
 
 def margin_db(onset_v: float, excursion_v: float) -> float | None:
@@ -80,6 +81,10 @@ class PlayedHeadroom:
     searched_margin_db : float or None, dB
         The smaller margin of the render at ``searched_strength_m`` (near 0).
     searched_renders : int
+    searched_reason : str or None
+        Why ``searched_strength_m`` is None (:data:`NOT_FOUND` or :data:`LEFT_RANGE`).
+    searched_range_edge_m : float or None, m
+        The strongest pluck whose strings stay inside the construction's computed flux range.
     nonlinear : bool
         The design's sensing is not linear in the pluck (a ``[construction]``): unless ``searched``,
         the strengths at the limit are a linear guess (``limit_strength_method`` "linear-guess").
@@ -98,6 +103,8 @@ class PlayedHeadroom:
     searched_margin_db: float | None = None
     searched_renders: int = 0
     nonlinear: bool = False
+    searched_reason: str | None = None
+    searched_range_edge_m: float | None = None
 
     @property
     def guessed(self) -> bool:
@@ -141,7 +148,7 @@ class PlayedHeadroom:
         U.put(out, "limit_db_above_played", self.limit_db_above, NOT_FOUND if self.searched else NO_EXCURSION)
         U.put(out, "strongest_pluck_m", self.strongest_pluck_m, NO_PLUCK)
         for key, side in (("limit_strength_m", None), ("limit_strength_up_m", "up"), ("limit_strength_down_m", "down")):
-            U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else NOT_FOUND if self.searched and side is None else NO_EXCURSION)
+            U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else (self.searched_reason or NOT_FOUND) if self.searched and side is None else NO_EXCURSION)
         if self.strongest_pluck_m is not None:
             # "linear": s·10^(margin/20); "rendered": a render at limit_strength_m has the margin limit_strength_check_margin_db
             # "linear-guess": the same formula where the sensing is not linear (no search was made)
@@ -149,8 +156,10 @@ class PlayedHeadroom:
         if self.searched:
             lin = replace(self, searched=False)
             U.put(out, "limit_strength_linear_estimate_m", lin.strength_at_limit_m(), NO_EXCURSION)
-            U.put(out, "limit_strength_check_margin_db", self.searched_margin_db, NOT_FOUND)
+            U.put(out, "limit_strength_check_margin_db", self.searched_margin_db, self.searched_reason or NOT_FOUND)
             out["limit_strength_renders"] = self.searched_renders
+            if self.searched_range_edge_m is not None:
+                out["limit_strength_range_edge_m"] = self.searched_range_edge_m
         out["clipped_fraction"] = self.limited_fraction
         out["limited"] = self.limited_fraction > 0
         return out
@@ -209,6 +218,8 @@ def from_record(m: dict) -> PlayedHeadroom | None:
         searched_margin_db=m.get("limit_strength_check_margin_db"),
         searched_renders=int(m.get("limit_strength_renders", 0)),
         nonlinear=m.get("limit_strength_method") in ("rendered", "linear-guess"),
+        searched_reason=m.get("limit_strength_m_reason") if m.get("limit_strength_method") == "rendered" else None,
+        searched_range_edge_m=m.get("limit_strength_range_edge_m"),
     )
 
 

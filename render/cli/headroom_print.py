@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from ..analysis.headroom import GUESS_NOTE, PlayedHeadroom, format_margin, format_share, format_strength
+from ..analysis.headroom import GUESS_NOTE, LEFT_RANGE, PlayedHeadroom, format_margin, format_share, format_strength
 
 
 def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
@@ -14,7 +14,8 @@ def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  "
     for name, h in rows:
         strength = h.strength_at_limit_m()
         if h.searched and strength is None:
-            reach = "not found"
+            edge = h.searched_range_edge_m
+            reach = ("beyond " + format_strength(edge) if edge else "past the flux range") if h.searched_reason == LEFT_RANGE else "not found"
         else:
             reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength, guessed=h.guessed)} ({format_margin(h.limit_db_above)})"
         margins = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"

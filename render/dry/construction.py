@@ -92,6 +92,9 @@ __all__ = ["Pickup", "bend_offset", "bend_share", "mode_couplings", "pickup_emf"
 assert _BLOCK > 0  # the block sums of modal.py are shared as they are
 
 
+LEFT_RANGE_WORDS = "left the computed range"  # in the warning when a string swings past the flux table (render.runs.limit_strength looks for it)
+
+
 def string_strain(*, core: float, outer: float, frequency: float, scale_length: float) -> float:
     """ε0 = T/(E·A_core): the strain of a string tuned to ``frequency`` (Hz) over ``scale_length`` (m).
 
@@ -267,6 +270,32 @@ def motion_emf(motion: PhraseMotion, *, strongest_m: float, hum_polarity=(1, 1))
     return emf, tuple(dict.fromkeys(warnings))
 
 
+def range_strength_m(motion: PhraseMotion) -> float:
+    """The strongest pluck (m) at which every string of ``motion`` stays inside its computed flux table, at both coils.
+
+    The plucks' displacement ū is linear in their strength, a bend's offset f is not: at the strength
+    k·s (s the phrase's strongest) a sample is inside [lo, hi] while k·ū + f is, so
+    k ≤ (hi − f)/ū where ū > 0 and k ≤ (lo − f)/ū where ū < 0; the least such k over every
+    sample, string, coil and direction, times s. 0 when a bend alone leaves the table; inf when
+    no string moves.
+    """
+    k_most = np.inf
+    for j, moving, fixed in zip(motion.strings, motion.moving, motion.fixed):
+        for c, coil in enumerate((motion.sensing.coil_a, motion.sensing.coil_b)):  # type: ignore[attr-defined]
+            table = coil[j]
+            for axis, grid in ((0, table.dy), (1, table.dz)):
+                u = np.asarray(moving[c][axis], float)
+                f = np.zeros_like(u) if fixed is None else np.asarray(fixed[c][axis], float)
+                lo, hi = float(grid[0]), float(grid[-1])
+                if np.any(f < lo) or np.any(f > hi):
+                    return 0.0
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    up = np.where(u > 0, (hi - f) / u, np.inf)
+                    down = np.where(u < 0, (lo - f) / u, np.inf)
+                k_most = min(k_most, float(np.min(up, initial=np.inf)), float(np.min(down, initial=np.inf)))
+    return k_most * motion.strongest_m
+
+
 def motion_velocity(motion: PhraseMotion, pickup: Pickup, *, strongest_m: float) -> tuple[np.ndarray, tuple[str, ...]]:
     """:func:`pickup_velocity`'s rows (m/s, shape (2, n)) and warnings from a kept :class:`PhraseMotion`, its plucks scaled so that the strongest is ``strongest_m`` (m)."""
     emf, warnings = motion_emf(motion, strongest_m=strongest_m, hum_polarity=pickup.hum_polarity)
@@ -354,7 +383,7 @@ def _add_string_emf(emf: np.ndarray, warnings: list, sensing, j: int, chans: np.
         box = (s.dy[0], s.dy[-1], s.dz[0], s.dz[-1])
         if add_emf(slope_tables(spline.tck), box, chans[c], emf[c], scale=scale, fixed=None if fixed is None else fixed[c], sign=hum_polarity[c]):
             warnings.append(
-                f"string {string}: its displacement at the pickup left the computed range "
+                f"string {string}: its displacement at the pickup {LEFT_RANGE_WORDS} "
                 f"({s.dy[0] * 1e3:+.1f}…{s.dy[-1] * 1e3:+.1f} mm sideways, {s.dz[0] * 1e3:+.1f}…{s.dz[-1] * 1e3:+.1f} mm vertically); the flux is held at its edge there"
             )
 

@@ -553,5 +553,7 @@ def search_limits(designs: Sequence[Design], records: Sequence[dict], dry: Path,
     elsewhere = dict(zip((i for i, _ in missing), pmap(_search_one, [(designs[i], Path(dry), settings, h.strongest_pluck_m, h.margin_db) for i, h in missing], jobs))) if missing else {}
     for i, h in todo:
         r = made[i] if made[i] is not None else elsewhere[i]
-        searched = replace(h, searched=True, searched_strength_m=r.strength_m, searched_margin_db=r.margin_db, searched_renders=r.renders)
+        searched = replace(
+            h, searched=True, searched_strength_m=r.strength_m, searched_margin_db=r.margin_db, searched_renders=r.renders, searched_reason=r.reason, searched_range_edge_m=r.range_edge_m
+        )
         records[i]["measurements"].update(searched.record())

@@ -16,10 +16,11 @@ margin, is driven to zero by the secant method on log s (m is close to linear in
 log s, exactly so for linear sensing), starting from the phrase (s, m) and the
 linear prediction. It stops when |m| ≤ :data:`TOLERANCE_DB`; the strength found
 is then one whose own render has a margin within that tolerance of 0 dB. When
-m stops falling (the strings have left the computed flux range) or
-:data:`MOST_RENDERS` renders do not get there, no strength is claimed: the
-figure is None with its reason, and the linear prediction stays in the record
-as an estimate.
+a render's strings swing past the computed flux range (its flux held at the
+table's edge, so its margin is not the design's), when m stops falling, or
+when :data:`MOST_RENDERS` renders do not get there, no strength is claimed:
+the figure is None with its reason, and the linear prediction stays in the
+record as an estimate.
 
 The strings' motion is linear in the pluck (:mod:`render.dry.strength`); only
 the flux sensed from it is not. So the motion is synthesised once and kept
@@ -40,6 +41,8 @@ from pathlib import Path
 TOLERANCE_DB = 0.1  # the margin at the strength found is within this of 0 dB
 MOST_RENDERS = 6
 STEP_MOST = math.log(2.0)  # the strength changes by at most a factor of 2 from one render to the next after the first
+EDGE_INSIDE = 1e-6  # the range's edge is rendered this share inside it (rounding)
+RANGE_STEP = math.log(1.02)  # the flux range is taken to end here when it ends within 2 % of a strength inside it (our own choice)
 
 
 @dataclass(frozen=True)
@@ -56,34 +59,46 @@ class LimitSearch:
         Renders made.
     trail : tuple of (float, float)
         Every (strength m, margin dB) tried, the phrase's own first.
+    reason : str or None
+        Why ``strength_m`` is None (:data:`render.analysis.headroom.NOT_FOUND` or ``LEFT_RANGE``).
+    range_edge_m : float or None, m
+        The strongest pluck whose strings stay inside the computed flux range
+        (:func:`render.dry.construction.range_strength_m`; None when not known).
     """
 
     strength_m: float | None
     margin_db: float | None
     renders: int
     trail: tuple[tuple[float, float], ...]
+    reason: str | None = None
+    range_edge_m: float | None = None
 
 
-def margin_at(design, dry_path: Path, settings, strength_m: float, *, motion=None) -> float | None:
+def margin_at(design, dry_path: Path, settings, strength_m: float, *, motion=None, left: list | None = None) -> float | None:
     """The smaller played margin (dB) of ``design`` playing the phrase with its strongest pluck at ``strength_m`` (no noise: it does not move the extremes it is measured on).
 
     motion : :class:`render.dry.construction.PhraseMotion` or None
         The phrase's string motion, kept from an earlier call (:func:`phrase_motion`): then
         only the flux is sensed again, not the strings synthesised.
+    left : list or None
+        When given, True is appended when a string swung past the computed flux range in this render, else False.
     """
     from ..chain.stream import render_signal
     from ..clip import render_headroom
+    from ..dry.construction import LEFT_RANGE_WORDS
     from .dry_input import dry_for
 
     if motion is not None:
         from ..design.construction import pickup_for
         from ..dry.construction import motion_velocity
 
-        velocity, _ = motion_velocity(motion, pickup_for(design), strongest_m=strength_m)
+        velocity, warnings = motion_velocity(motion, pickup_for(design), strongest_m=strength_m)
         sample_rate = settings.sample_rate
     else:
         dry = dry_for(design, Path(dry_path), replace(settings, strength=strength_m))
-        velocity, sample_rate = dry.velocity, dry.sample_rate
+        velocity, sample_rate, warnings = dry.velocity, dry.sample_rate, dry.warnings
+    if left is not None:
+        left.append(any(LEFT_RANGE_WORDS in w for w in warnings))
     r = render_signal(design, velocity, sample_rate=sample_rate, hum=settings.hum)
     return render_headroom(design, r, strongest_pluck_m=strength_m).margin_db
 
@@ -116,25 +131,47 @@ def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: floa
     motion : :class:`render.dry.construction.PhraseMotion` or None
         The phrase's string motion kept from that render (else synthesised here once, when needed).
     """
+    from ..analysis.headroom import LEFT_RANGE, NOT_FOUND
+
     trail = [(strongest_m, margin_db)]
     if abs(margin_db) <= tolerance_db:
         return LimitSearch(strongest_m, margin_db, 0, tuple(trail))
-    x0, m0 = math.log(strongest_m), margin_db
-    x1 = x0 + margin_db / 20.0 * math.log(10.0)  # the linear prediction
+    xp, mp = math.log(strongest_m), margin_db  # the last strength rendered inside the flux range, and its margin
+    x1 = xp + margin_db / 20.0 * math.log(10.0)  # the linear prediction
+    x_out = None  # the weakest strength found whose strings leave the computed flux range
     # the strings' motion is linear in the pluck: synthesised once, then only sensed again at each strength
     if motion is None and design is not None:
         motion = phrase_motion(design, dry_path, settings)
     kept = {"motion": motion} if motion is not None else {}
+    edge = None  # the range's edge, from the kept motion (no render needed): the search stays inside it
+    if motion is not None:
+        from ..dry.construction import range_strength_m
+
+        edge = range_strength_m(motion) * (1.0 - EDGE_INSIDE)
+        x1 = min(x1, math.log(edge)) if edge > 0 else x1
     for n in range(1, most + 1):
-        m1 = margin_at(design, dry_path, settings, math.exp(x1), **kept)
+        left: list[bool] = []
+        m1 = margin_at(design, dry_path, settings, math.exp(x1), left=left, **kept)
         if m1 is None:
             break
         trail.append((math.exp(x1), m1))
+        if left and left[-1]:  # the flux there is held at the table's edge: this margin is not the design's
+            x_out = x1
+            if x_out - xp < RANGE_STEP:  # the range ends just past a strength that still has margin
+                return LimitSearch(None, None, n, tuple(trail), reason=LEFT_RANGE, range_edge_m=edge)
+            x1 = 0.5 * (xp + x_out)  # back inside: halve the step
+            continue
         if abs(m1) <= tolerance_db:
-            return LimitSearch(math.exp(x1), m1, n, tuple(trail))
-        slope = (m1 - m0) / (x1 - x0)
-        if not slope < -0.5:  # dB per neper; linear sensing gives -8.7: a margin that barely falls has left the flux table
+            return LimitSearch(math.exp(x1), m1, n, tuple(trail), range_edge_m=edge)
+        if edge and m1 > tolerance_db and x1 >= math.log(edge) - 1e-12:  # margin left at the range's edge: the limit lies past it
+            return LimitSearch(None, None, n, tuple(trail), reason=LEFT_RANGE, range_edge_m=edge)
+        slope = (m1 - mp) / (x1 - xp)
+        if not slope < -0.5:  # dB per neper; linear sensing gives -8.7: a margin that barely falls
             break
         step = max(-STEP_MOST, min(STEP_MOST, -m1 / slope))  # no wild jumps where the margin bends
-        x0, m0, x1 = x1, m1, x1 + step
-    return LimitSearch(None, None, len(trail) - 1, tuple(trail))
+        xp, mp, x1 = x1, m1, x1 + step
+        if x_out is not None and x1 >= x_out:
+            x1 = 0.5 * (xp + x_out)
+        if edge:
+            x1 = min(x1, math.log(edge))
+    return LimitSearch(None, None, len(trail) - 1, tuple(trail), reason=LEFT_RANGE if x_out is not None and mp > tolerance_db else NOT_FOUND, range_edge_m=edge)

@@ -28,9 +28,10 @@ ROOT = Path(__file__).resolve().parents[2]
 SECONDS = "2"
 
 
-def _clips(tmp_path, name, *extra):
+def _clips(tmp_path, name, *extra, seconds=SECONDS):
     out = tmp_path / f"{name}-{len(list(tmp_path.iterdir()))}"
-    res = CliRunner().invoke(main, ["clips", str(ROOT / "models" / f"{name}.toml"), "--seconds", SECONDS, "--no-plots", "--out", str(out), *extra], catch_exceptions=False)
+    length = ["--seconds", seconds] if seconds else []  # None: the whole phrase
+    res = CliRunner().invoke(main, ["clips", str(ROOT / "models" / f"{name}.toml"), *length, "--no-plots", "--out", str(out), *extra], catch_exceptions=False)
     assert res.exit_code == 0, res.output
     return json.loads((out / f"{name}.json").read_text())["measurements"], res.output
 
@@ -40,16 +41,34 @@ def _smaller_margin(m):
 
 
 def test_a_constructed_design_reaches_the_limit_where_the_figure_says(tmp_path):
-    m, printed = _clips(tmp_path, "slipway-steel-blades")
+    # the whole demo phrase: its strongest notes reach the limit inside the flux range (its first 2 s do not)
+    m, printed = _clips(tmp_path, "slipway-magnet-blades", seconds=None)
     assert m["limit_strength_method"] == "rendered" and m["limit_strength_m"] is not None
     s = m["limit_strength_m"]
-    assert f"{s * 1e3:.3g} mm" in printed
-    at, _ = _clips(tmp_path, "slipway-steel-blades", "--strength", f"{s * 1e3:.6f}mm")
+    assert f"{s * 1e3:.3g} mm" in printed and s < m["limit_strength_range_edge_m"]
+    at, _ = _clips(tmp_path, "slipway-magnet-blades", "--strength", f"{s * 1e3:.6f}mm", seconds=None)
     assert abs(_smaller_margin(at)) <= TOLERANCE_DB + 1e-6
     # the linear estimate alone would be off: a render there still has margin left (or is past it)
-    est, _ = _clips(tmp_path, "slipway-steel-blades", "--strength", f"{m['limit_strength_linear_estimate_m'] * 1e3:.6f}mm")
+    est, _ = _clips(tmp_path, "slipway-magnet-blades", "--strength", f"{m['limit_strength_linear_estimate_m'] * 1e3:.6f}mm", seconds=None)
     assert abs(_smaller_margin(est)) > 2 * TOLERANCE_DB
     assert abs(m["limit_strength_check_margin_db"]) <= TOLERANCE_DB
+
+
+def test_a_limit_past_the_flux_range_is_not_claimed_and_the_edge_is_where_renders_leave_it(tmp_path):
+    # slipway-steel-blades keeps margin up to the strength at which its strings leave the computed flux table:
+    # no strength is claimed (the flux past the table is held at its edge, not computed), the edge is printed
+    from render.analysis.headroom import LEFT_RANGE, format_strength
+
+    m, printed = _clips(tmp_path, "slipway-steel-blades")
+    edge = m["limit_strength_range_edge_m"]
+    assert m["limit_strength_m"] is None and m["limit_strength_m_reason"] == LEFT_RANGE
+    assert f"beyond {format_strength(edge)}" in printed  # three figures (10.0 mm)
+    # the edge (a closed form over the kept motion, render.dry.construction.range_strength_m) against the flux
+    # kernel's own test of each sample: a render just inside it stays in the table, one just past it does not
+    inside, said_inside = _clips(tmp_path, "slipway-steel-blades", "--strength", f"{edge * 0.999 * 1e3:.6f}mm")
+    _, said_past = _clips(tmp_path, "slipway-steel-blades", "--strength", f"{edge * 1.001 * 1e3:.6f}mm")
+    assert "left the computed range" not in said_inside and "left the computed range" in said_past
+    assert _smaller_margin(inside) > TOLERANCE_DB  # margin left at the edge: the limit lies past it
 
 
 def test_a_linear_design_reaches_the_limit_at_its_linear_prediction(tmp_path):
@@ -74,6 +93,23 @@ def test_the_secant_search_finds_the_root_of_a_log_linear_margin(monkeypatch, sl
     from render.runs import limit_strength as L
 
     root = 7e-3
-    monkeypatch.setattr(L, "margin_at", lambda d, p, s, strength: slope_db_per_neper * math.log(strength / root))
+    monkeypatch.setattr(L, "margin_at", lambda d, p, s, strength, **k: slope_db_per_neper * math.log(strength / root))
     r = L.search_limit_strength(None, Path("x.toml"), None, strongest_m=1e-3, margin_db=slope_db_per_neper * math.log(1e-3 / root))
     assert r.strength_m == pytest.approx(root, rel=0.02) and abs(r.margin_db) <= TOLERANCE_DB
+
+
+def test_a_render_whose_strings_leave_the_flux_range_claims_no_strength(monkeypatch):
+    # the margin still falls, but the render at that strength held a string's flux at the table's edge:
+    # its margin is not the design's, so no strength is claimed, with the reason saying why
+    import math
+
+    from render.analysis.headroom import LEFT_RANGE
+    from render.runs import limit_strength as L
+
+    def margin(d, p, s, strength, left=None, **k):
+        left.append(strength > 3e-3)  # past 3 mm the strings leave the table
+        return -8.686 * math.log(strength / 7e-3)
+
+    monkeypatch.setattr(L, "margin_at", margin)
+    r = L.search_limit_strength(None, Path("x.toml"), None, strongest_m=1e-3, margin_db=-8.686 * math.log(1e-3 / 7e-3))
+    assert r.strength_m is None and r.reason == LEFT_RANGE and all(m > 0 for s, m in r.trail if s <= 3e-3)
