@@ -285,7 +285,7 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     _refuse_silent(design)
     first = onset(design)
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
-    warnings = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway",) if ref_v > REALISTIC_VELOCITY else ()
+    warnings: tuple[str, ...] = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway",) if ref_v > REALISTIC_VELOCITY else ()
     warnings += tuple(f"{s.label}: {rest_reason(s.design)}; it has no onset, headroom or recovery, and its THD is that of a stage already clipped" for s in settings if resting_limit(s.design))
     rows = pmap(_measure, [(s, ref_v) for s in settings], jobs)
     return BiasSweep(design=design, settings=tuple(settings), rows=tuple(rows), sine_velocity_m_per_s=ref_v, keep_load=keep_load, warnings=warnings)
