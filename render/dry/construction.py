@@ -68,6 +68,7 @@ from .modal import (
     T60_FACTOR,
     Plucks,
     _highest_ratio,
+    _retuned_time,
     _sum_blocks,
     decay_rates,
     mode_frequencies,
@@ -160,10 +161,7 @@ def _direct(buf, amp, sigma, omega, lives, delta, fs, *, ratio) -> None:
     """
     span = buf.shape[1]
     t = (np.arange(span) + delta) / fs
-    tau = np.empty(span)
-    tau[0] = ratio[0] * delta / fs
-    if span > 1:
-        tau[1:] = tau[0] + np.cumsum(0.5 * (ratio[1:] + ratio[:-1])) / fs
+    tau = _retuned_time(ratio, delta, fs)
     order = np.argsort(-lives, kind="stable")
     for g in range(0, order.size, _MODE_GROUP):
         idx = order[g : g + _MODE_GROUP]

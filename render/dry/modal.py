@@ -400,6 +400,18 @@ def _sum_blocks(buf, amp, sigma, omega, lives, delta, fs) -> None:
             buf[:, a:b] += blocks[:, : b - a]
 
 
+def _retuned_time(ratio: np.ndarray, delta: float, fs: float) -> np.ndarray:
+    """tau(t) = integral from the pluck to t of the pitch ratio, s, by trapezoids (the ratio is ratio[0] before the first sample).
+
+    ratio : the pitch ratio at the samples t = (k + delta) / fs, k = 0 … span − 1
+    """
+    tau = np.empty(ratio.size)
+    tau[0] = ratio[0] * delta / fs
+    if ratio.size > 1:
+        tau[1:] = tau[0] + np.cumsum(0.5 * (ratio[1:] + ratio[:-1])) / fs
+    return tau
+
+
 def _sum_direct(buf, amp, sigma, omega, lives, delta, fs, *, note: Note) -> None:
     """Modes whose frequency moves: phase = omega_n * integral of the pitch ratio.
 
@@ -409,11 +421,7 @@ def _sum_direct(buf, amp, sigma, omega, lives, delta, fs, *, note: Note) -> None
     span = buf.shape[1]
     t = (np.arange(span) + delta) / fs
     r = pitch_ratio(t, note=note)
-    # tau(t) = integral_0^t r dt', trapezoids from the pluck (r = r[0] before the first sample)
-    tau = np.empty(span)
-    tau[0] = r[0] * delta / fs
-    if span > 1:
-        tau[1:] = tau[0] + np.cumsum(0.5 * (r[1:] + r[:-1])) / fs
+    tau = _retuned_time(r, delta, fs)
     order = np.argsort(-lives, kind="stable")
     for g in range(0, order.size, _MODE_GROUP):
         idx = order[g : g + _MODE_GROUP]
