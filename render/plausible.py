@@ -245,13 +245,13 @@ def fill_warnings(design) -> list[str]:
         g, outer = c.geometry, getattr(getattr(c, "impedance_from", None), "wire_outer_diameter_m", None)
         if g is None or outer is None:
             continue
-        build = (g.build_x + g.build_y) / 2.0
+        depth = g.mean_depth
         per_turn = math.pi * outer**2 / 4.0
-        fill = g.turns * per_turn / (g.height * build)
+        fill = g.turns * per_turn / (g.height * depth)
         if not lo <= fill <= hi:
-            n_lo, n_hi = (f * g.height * build / per_turn for f in WINDING_FILL)
+            n_lo, n_hi = (f * g.height * depth / per_turn for f in WINDING_FILL)
             out.append(
-                f"[{name}.geometry] turns={g.turns:g}: wire of {outer * 1e3:.3g} mm (insulated) fills {fill:.0%} of the winding's {g.height * 1e3:.3g} × {build * 1e3:.3g} mm section;"
+                f"[{name}.geometry] turns={g.turns:g}: wire of {outer * 1e3:.3g} mm (insulated) fills {fill:.0%} of the winding's {g.height * 1e3:.3g} × {depth * 1e3:.3g} mm section;"
                 f" wound coils fill {lo:.0%}–{hi:.0%} (common practice, no source), and the derived L, R and C take the turns as spread over the section;"
                 f" give {n_lo:.0f}–{n_hi:.0f} turns, another outline or another wire"
             )

@@ -5,7 +5,8 @@
   unknown keys refused with the nearest known key suggested;
 - :class:`Where`, :func:`check_keys` and :func:`quantity`: the same checks
   for hand-written parsers (phrases, fit files), with one message form;
-- :func:`suggest`: the "did you mean" of every message;
+- :func:`suggest`, :func:`did_you_mean` and :func:`unknown`: the "did you mean" of every message, and
+  the one refusal of an unknown key (``<file>: [table]: unknown key 'x'; did you mean 'y'?``);
 - :func:`sample_rate`: the one check of an output sample rate.
 
 Every refusal is an :class:`~render.errors.InputError` of one line: the file,
@@ -37,11 +38,21 @@ def suggest(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str | 
     return close[0] if close else None
 
 
-def did_you_mean(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str:
-    """A message's ending for an unknown name: "; did you mean 'x'?" or the known names."""
+def did_you_mean(word: str, choices: Iterable[str], *, cutoff: float = 0.6, known: str = "keys") -> str:
+    """A message's ending for an unknown name: "; did you mean 'x'?" or the ``known`` names."""
     choices = list(choices)
     close = suggest(word, choices, cutoff=cutoff)
-    return f"; did you mean '{close}'?" if close else f"; known keys: {', '.join(choices)}"
+    return f"; did you mean '{close}'?" if close else f"; known {known}: {', '.join(choices)}"
+
+
+def unknown(place: str, key: object, choices: Iterable[str], *, what: str = "key", known: str = "keys") -> InputError:
+    """The one refusal of an unknown name: "<place>: unknown key 'x'; did you mean 'y'?" (or the known names).
+
+    place : the file and table, as :func:`where` or :attr:`Where.place` give them
+    what : the kind of name ("key"; "table or key" at a document's top level; "figure", "part")
+    known : the plural named before the list when nothing is close
+    """
+    return InputError(f"{place}: unknown {what} {U.shown(key)}{did_you_mean(str(key), choices, known=known)}")
 
 
 def sample_rate(value: object, *, name: str = "--sample-rate") -> int:
@@ -219,7 +230,7 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
         raise InputError(f"{where(source, table)}: expected a table of keys, got {U.shown(data)}; write a [{table}] section with its keys")
     for key in data:
         if key not in specs:
-            raise InputError(f"{where(source, table)}: unknown key {U.shown(key)}{did_you_mean(key, specs)}")
+            raise unknown(where(source, table), key, specs)
     out: dict[str, Any] = {}
     for key, spec in specs.items():
         if key in data:
@@ -237,7 +248,7 @@ def check_document(data: Any, source: str, known: list[str]) -> None:
         raise InputError(f"{source}: expected a TOML document of tables")
     for key in data:
         if key not in known:
-            raise InputError(f"{source}: unknown table or key {U.shown(key)}{did_you_mean(key, known)}")
+            raise unknown(source, key, known, what="table or key")
     for key in TOP_KEYS:
         if key in data and not isinstance(data[key], str):
             raise InputError(f"{source}: {key}={U.shown(data[key])}: expected a string")
@@ -294,6 +305,11 @@ class Where:
     source: str
     table: str  # "[instrument]", "[[note]] #3" or "" for the top level
 
+    @property
+    def place(self) -> str:
+        """The file and the table, as a message starts: "p.toml: [instrument]" or "p.toml"."""
+        return f"{self.source}: {self.table}" if self.table else self.source
+
     def fail(self, key: str, value: object, constraint: str, fix: str | None = None) -> InputError:
         where = f"{self.source}: {self.table} " if self.table else f"{self.source}: "
         text = f"{where}{shorten(_key(key))}={show(value)}: {constraint}"
@@ -305,11 +321,10 @@ class Where:
 
 
 def check_keys(where: Where, table: dict, known: tuple[str, ...]) -> None:
-    for key, value in table.items():
+    """Refuse the first key of ``table`` not in ``known``, as :func:`unknown` words it (a table or key at the top level)."""
+    for key in table:
         if key not in known:
-            close = suggest(key, known)
-            fix = f"did you mean {close}?" if close else "known keys: " + ", ".join(known)
-            raise where.fail(key, value, "unknown key", fix)
+            raise unknown(where.place, key, known, what="key" if where.table else "table or key")
 
 
 def as_table(where: Where, key: str, value: object) -> dict:

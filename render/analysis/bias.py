@@ -20,8 +20,9 @@ from typing import Any
 
 import numpy as np
 
+from .harmonics import distortion_figures
+
 SINE_HZ = 1000.0  # reference sine: 48 samples per period at 48 kHz, harmonics to H10 below 20 kHz
-HARMONICS = 10
 
 
 @dataclass(frozen=True)
@@ -153,12 +154,6 @@ def onset_cell(row: dict, width: tuple[int, int] = (0, 0)) -> str:
     return f"{o['velocity_up_m_per_s']:{width[0]}.3f} / {o['velocity_down_m_per_s']:{width[1]}.3f}"
 
 
-def harmonics_of(x: np.ndarray, *, sample_rate: float, f0: float, n: int = HARMONICS) -> np.ndarray:
-    """Peak amplitudes of harmonics 1..n of ``x`` by projection (x spans whole periods of f0)."""
-    t = np.arange(x.size) / sample_rate
-    return np.array([2.0 * abs(np.mean(x * np.exp(-2j * np.pi * k * f0 * t))) for k in range(1, n + 1)])
-
-
 def sine_distortion(design, *, velocity_peak: float, frequency_hz: float = SINE_HZ, sample_rate: int = 48000, seconds: float = 0.6, settle: float = 0.35) -> dict:
     """THD and the H2, H3 levels at the amp input for a steady sine of string velocity."""
     from ..chain.stream import render_signal
@@ -170,17 +165,8 @@ def sine_distortion(design, *, velocity_peak: float, frequency_hz: float = SINE_
     start = int(round(settle * sample_rate))
     period = sample_rate / frequency_hz
     stop = start + int(round(int((n - start) / period) * period))
-    h = harmonics_of(out[start:stop], sample_rate=sample_rate, f0=frequency_hz)
-    db = lambda k: float(20 * np.log10(max(h[k - 1], 1e-300) / h[0]))
-    return {
-        "frequency_hz": frequency_hz,
-        "velocity_peak_m_per_s": velocity_peak,
-        "h1_v": float(h[0]),
-        "h2_db": db(2),
-        "h3_db": db(3),
-        "thd_percent": float(100 * np.sqrt(np.sum(h[1:] ** 2)) / h[0]),
-        "harmonics_v": [float(x) for x in h],
-    }
+    figs = distortion_figures(out[start:stop], sample_rate=sample_rate, frequency_hz=frequency_hz)
+    return {"frequency_hz": frequency_hz, "velocity_peak_m_per_s": velocity_peak, **figs}
 
 
 # ----------------------------------------------------------------------------

@@ -30,7 +30,7 @@ from ..design import DESIGN_TABLES
 from ..errors import InputError
 from ..eseries import SERIES, values_between
 from ..io.toml import read_toml
-from ..validate import Field, read_value, suggest
+from ..validate import Field, Where, check_keys, did_you_mean, quantity, read_value, unknown
 from .undefined import REJECTION_CAP_DB
 
 FIGURES = (
@@ -57,6 +57,10 @@ BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
 # what an undefined figure counts as when scored
 # (no peak scores as a peak at the band's lower edge, level with 1 kHz: a response falling from 1 kHz)
 UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB, "peak_hz": 1000.0, "resonance_hz": 1000.0, "peak_db": 0.0, "resonance_db": 0.0}
+TOP_KEYS = ("from", "aim", "free", "name", "notes", "phrase", "strength")  # a fit file's tables and keys
+AIM_KEYS = ("value", "within", "min", "max")
+FREE_KEYS = ("min", "max", "series", "same_as")  # same_as stands alone
+AIM_KINDS = {"hz": U.FREQUENCY, "v": U.VOLTAGE, "db": U.RATIO, "q": U.RATIO}  # what an aim's numbers are read as, by _unit_of
 FREE_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
 # the figure a peak aim reads: render.analysis.peaks.aimed_peak_hz, continuous as two humps trade places
 AIMED_PEAK = "aimed_peak_hz"
@@ -167,22 +171,9 @@ class FitSpec:
         return out
 
 
-def _suggest(word, choices):
-    close = suggest(word, choices, cutoff=0.5)
-    return f"; did you mean '{close}'?" if close else ""
-
-
-def _number(source, where, raw, what="a number"):
-    if isinstance(raw, bool) or not isinstance(raw, (int, float)) or not math.isfinite(raw):
-        raise InputError(f"{source}: {where}={raw!r}: expected {what}")
-    return float(raw)
-
-
 def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> FitSpec:
     """Validate a fit file's tables; every error is one line."""
-    for key in data:
-        if key not in ("from", "aim", "free", "name", "notes", "phrase", "strength"):
-            raise InputError(f"{source}: unknown table or key '{key}'{_suggest(key, ['from', 'aim', 'free', 'phrase', 'strength'])}")
+    check_keys(Where(source, ""), data, TOP_KEYS)
     start = start_override or data.get("from")
     if not start:
         raise InputError(f'{source}: no start design; add from = "models/<design>.toml" or pass --from')
@@ -197,16 +188,17 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
     for name, a in aims_t.items():
         where = f"[aim] {name}"
         if name not in FIGURES:
-            raise InputError(f"{source}: {where}: unknown figure{_suggest(name, FIGURES)} (known: {', '.join(FIGURES)})")
+            raise unknown(f"{source}: [aim]", name, FIGURES, what="figure", known="figures")
         if not isinstance(a, dict):
             raise InputError(f"{source}: {where}={a!r}: expected {{ value = …, within = … }} or {{ min = …, max = … }}")
-        for k in a:
-            if k not in ("value", "within", "min", "max"):
-                raise InputError(f"{source}: {where}: unknown key '{k}'{_suggest(k, ['value', 'within', 'min', 'max'])}")
+        at = Where(source, where)
+        check_keys(at, a, AIM_KEYS)
+        kind = AIM_KINDS[_unit_of(name)]
+        low = 0.0 if kind is U.FREQUENCY else None  # an aimed frequency is above 0
         if "value" in a:
             if "min" in a or "max" in a:
                 raise InputError(f"{source}: {where}: give value and within, or min and/or max, not both")
-            value = _number(source, f"{where}.value", a["value"])
+            value = quantity(at, "value", a["value"], kind, low=low, low_open=True)
             w = a.get("within")
             if w is None:
                 raise InputError(f'{source}: {where}: a value needs a tolerance, e.g. within = 1.0 or within = "5%"')
@@ -214,22 +206,17 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
                 try:
                     rel = float(w.strip()[:-1]) / 100
                 except ValueError:
-                    raise InputError(f'{source}: {where}.within={w!r}: expected a number or a percentage like "5%"') from None
+                    raise at.fail("within", w, 'expected a number or a percentage like "5%"') from None
                 if not 0 < rel < 1:
-                    raise InputError(f"{source}: {where}.within={w!r}: a percentage must be above 0 and below 100")
+                    raise at.fail("within", w, "a percentage must be above 0 and below 100")
                 aims.append(Aim(name, value=value, within_rel=rel))
             else:
-                wv = _number(source, f"{where}.within", w, 'a positive number or a percentage like "5%"')
-                if wv <= 0:
-                    raise InputError(f"{source}: {where}.within={w!r}: must be above 0")
-                aims.append(Aim(name, value=value, within=wv))
-            if _unit_of(name) == "hz" and value <= 0:
-                raise InputError(f"{source}: {where}.value={value:g}: a frequency must be above 0")
+                aims.append(Aim(name, value=value, within=quantity(at, "within", w, kind, low=0.0, low_open=True)))
         else:
             if "within" in a:
                 raise InputError(f"{source}: {where}: within goes with value")
-            lo = _number(source, f"{where}.min", a["min"]) if "min" in a else None
-            hi = _number(source, f"{where}.max", a["max"]) if "max" in a else None
+            lo = quantity(at, "min", a["min"], kind) if "min" in a else None
+            hi = quantity(at, "max", a["max"], kind) if "max" in a else None
             if lo is None and hi is None:
                 raise InputError(f"{source}: {where}: give value and within, or min and/or max")
             if lo is not None and hi is not None and lo > hi:
@@ -245,7 +232,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
     for name, f in free_t.items():
         where = f'[free] "{name}"'
         if name not in known:
-            raise InputError(f"{source}: {where}: not a part that can change{_suggest(name, known)}")
+            raise unknown(f"{source}: [free]", name, known, what="part", known="parts that can change")
         table, key = name.split(".")
         spec = DESIGN_TABLES[table][key]
         if isinstance(f, dict) and "same_as" in f:
@@ -254,7 +241,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
                 raise InputError(f"{source}: {where}: same_as stands alone (the range and series are the other part's)")
             names = [x.name for x in frees]
             if other not in names:
-                raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{_suggest(str(other), names)}")
+                raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{did_you_mean(str(other), names, known='parts above it')}")
             j = names.index(other)
             if frees[j].tie is not None or frees[j].spec.kind is not spec.kind:
                 raise InputError(f"{source}: {where}: same_as={other!r} must name an untied part of the same kind")
@@ -263,9 +250,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
             continue
         if not isinstance(f, dict) or "min" not in f or "max" not in f:
             raise InputError(f'{source}: {where}={f!r}: expected {{ min = …, max = …, series = "E24" }}')
-        for k in f:
-            if k not in ("min", "max", "series"):
-                raise InputError(f"{source}: {where}: unknown key '{k}'{_suggest(k, ['min', 'max', 'series', 'same_as'])}")
+        check_keys(Where(source, where), f, FREE_KEYS)
         lo = read_value(f["min"], spec, source=source, table="free", key=f"{name}.min")
         hi = read_value(f["max"], spec, source=source, table="free", key=f"{name}.max")
         if not lo < hi:

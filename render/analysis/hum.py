@@ -23,6 +23,7 @@ import numpy as np
 
 from ..circuit.engine import responses
 from ..circuit.params import Params, from_designs
+from .harmonics import harmonic_amplitudes
 
 # Reference string signal for the signal-to-hum ratio: a sine of this peak
 # velocity at this frequency at both sensing points (our own reference: a
@@ -391,16 +392,6 @@ def sensitivity_record(part: str, change) -> dict:
 
 # ----------------------------------------------------------------------------
 # Measured from a time-domain render
-
-
-def harmonic_amplitudes(x: np.ndarray, *, sample_rate: float, frequencies_hz) -> np.ndarray:
-    """Complex amplitudes of ``x`` at each frequency by projection (peak units).
-
-    Exact for steady sines when ``x`` spans a whole number of periods of
-    every frequency (a whole number of mains cycles does).
-    """
-    t = np.arange(x.size) / sample_rate
-    return np.array([2.0 * np.mean(x * np.exp(-2j * np.pi * f * t)) for f in frequencies_hz])
 
 
 def hum_only(design, *, coil: str | None = None, seconds: float = 2.0, sample_rate: int = 48000) -> np.ndarray:

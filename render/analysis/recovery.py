@@ -29,6 +29,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .harmonics import distortion_figures
+
 SKIP_S = 2e-3  # s left out after the burst's end before fitting (common practice, no source)
 MIN_FIT_S = 0.5e-3  # s: a decay fitted over less than this is no recovery (common practice, no source)
 NO_OFFSET = "no offset: the output is back at its DC point when the fit would start"
@@ -54,7 +56,6 @@ def recovery_cell(row: dict) -> str:
 FIT_FROM, FIT_TO = 0.9, 0.1  # the fitted part of the decay, as fractions of the deviation after SKIP_S
 BURST_S = 0.06  # s: a 60 ms burst, as the reference checks of this model use
 AFTER_S = 0.25  # s rendered after the burst for the recovery
-HARMONICS = 10
 
 
 @dataclass(frozen=True)
@@ -114,12 +115,6 @@ def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float 
     return Recovery(float(np.sign(d0) * np.exp(icept)), tau, i1 - i0)
 
 
-def harmonics_of(x, *, sample_rate: float, f0: float, n: int = HARMONICS) -> np.ndarray:
-    """Peak amplitudes of harmonics 1..n of ``x`` by projection (x spans whole periods of f0)."""
-    t = np.arange(np.size(x)) / sample_rate
-    return np.array([2.0 * abs(np.mean(x * np.exp(-2j * np.pi * k * f0 * t))) for k in range(1, n + 1)])
-
-
 def burst_velocity(velocity_peak: float, *, frequency_hz: float, sample_rate: float, burst_s: float = BURST_S, after_s: float = AFTER_S) -> np.ndarray:
     """A sine burst of string velocity, m/s, shape (n,): a whole number of periods from t = 0, then rest."""
     periods = max(1, int(round(burst_s * frequency_hz)))
@@ -127,22 +122,6 @@ def burst_velocity(velocity_peak: float, *, frequency_hz: float, sample_rate: fl
     n = n_burst + int(round(after_s * sample_rate))
     t = np.arange(n) / sample_rate
     return np.where(np.arange(n) < n_burst, velocity_peak * np.sin(2 * np.pi * frequency_hz * t), 0.0)
-
-
-def distortion_figures(x, *, sample_rate: float, frequency_hz: float) -> dict:
-    """H1 (V), H2 and H3 (dB re H1), THD (%) and the harmonics (V) of ``x`` (whole periods of f0)."""
-    h = harmonics_of(x, sample_rate=sample_rate, f0=frequency_hz)
-
-    def db(k):
-        return float(20 * np.log10(max(h[k - 1], 1e-300) / h[0]))
-
-    return {
-        "h1_v": float(h[0]),
-        "h2_db": db(2),
-        "h3_db": db(3),
-        "thd_percent": float(100 * np.sqrt(np.sum(h[1:] ** 2)) / h[0]),
-        "harmonics_v": [float(a) for a in h],
-    }
 
 
 def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0, sample_rate: int = 48000, burst_s: float = BURST_S, after_s: float = AFTER_S, settle_s: float = 0.5 * BURST_S) -> dict:

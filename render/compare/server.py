@@ -20,24 +20,13 @@ import contextlib
 import json
 import re
 import socket
-import socketserver
 import threading
-from http.server import BaseHTTPRequestHandler, ThreadingHTTPServer
-from urllib.parse import parse_qs, urlsplit
+from urllib.parse import parse_qs
 
-from ..errors import InputError
+from ..loopback import COMMON_HEADERS, LoopbackServer, QuietHandler, check_port
 
-HOST = "127.0.0.1"
 WAIT_S = 20.0  # a change request waits at most this long before answering 204
-SOCKET_TIMEOUT_S = 15.0
 CLIP_ROUTE = re.compile(r"^/clip/([0-9]{1,4}-[0-9]{1,9}\.wav)$")
-COMMON_HEADERS = (
-    ("Cache-Control", "no-store"),
-    ("X-Content-Type-Options", "nosniff"),
-    ("Referrer-Policy", "no-referrer"),
-    ("Cross-Origin-Resource-Policy", "same-origin"),
-    ("X-Frame-Options", "DENY"),
-)
 
 
 class Board:
@@ -85,17 +74,9 @@ class Board:
             self._cond.notify_all()
 
 
-class _Handler(BaseHTTPRequestHandler):
+class _Handler(QuietHandler):
     server_version = "render-watch"
-    sys_version = ""
-    timeout = SOCKET_TIMEOUT_S
     protocol_version = "HTTP/1.0"
-
-    def version_string(self):
-        return self.server_version
-
-    def log_message(self, format, *args):  # quiet: the terminal shows the renders
-        pass
 
     def _send(self, status: int, body: bytes, content_type: str, *, head: bool = False):
         self.send_response(status)
@@ -112,11 +93,9 @@ class _Handler(BaseHTTPRequestHandler):
 
     def do_GET(self, head: bool = False):
         srv: LiveServer = self.server  # type: ignore[assignment]  # the server this handler was made for
-        if self.headers.get("Host") not in srv.allowed_hosts:
-            return self._error(421, "Host: this server answers only for its own loopback address", head=head)
-        if not self.path.startswith("/") or self.path.startswith("//"):
-            return self._error(404, "not found", head=head)
-        parts = urlsplit(self.path)
+        parts = self._target(head=head)
+        if parts is None:
+            return
         route = parts.path
         if route == "/":
             return self._send(200, srv.page, "text/html; charset=utf-8", head=head)
@@ -148,39 +127,17 @@ class _Handler(BaseHTTPRequestHandler):
     do_POST = do_PUT = do_DELETE = do_PATCH = do_OPTIONS = do_TRACE = do_CONNECT = _not_allowed
 
 
-class LiveServer(ThreadingHTTPServer):
+class LiveServer(LoopbackServer):
     """Serves the live comparison page of a :class:`Board` on 127.0.0.1 (``port=0``: a free port)."""
 
-    daemon_threads = True
-    allow_reuse_address = True
-    request_queue_size = 64
-
     def __init__(self, board: Board, *, page: bytes, port: int = 0, wait_s: float = WAIT_S):
-        if not 0 <= int(port) <= 65535:
-            raise InputError(f"--port={port}: must be from 0 to 65535; 0 picks a free port")
+        check_port(port)
         self.board, self.page, self.wait_s = board, page, float(wait_s)
         self._open: set[socket.socket] = set()
         self._open_lock = threading.Lock()
         self._workers: set[threading.Thread] = set()
         self._thread: threading.Thread | None = None
-        try:
-            super().__init__((HOST, int(port)), _Handler)
-        except OSError as exc:
-            raise InputError(f"--port={port}: cannot listen on {HOST} ({exc.strerror or exc}); choose another port or 0 for a free one") from None
-        p = self.server_address[1]
-        self.allowed_hosts = frozenset({f"{HOST}:{p}", f"localhost:{p}"})
-
-    def server_bind(self):
-        socketserver.TCPServer.server_bind(self)  # skip HTTPServer's reverse name look-up
-        self.server_name, self.server_port = HOST, self.server_address[1]
-
-    @property
-    def port(self) -> int:
-        return self.server_address[1]
-
-    @property
-    def url(self) -> str:
-        return f"http://{HOST}:{self.port}/"
+        super().__init__(port, _Handler)
 
     def process_request(self, request, client_address):
         with self._open_lock:

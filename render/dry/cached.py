@@ -16,14 +16,12 @@ drops those the calls since the previous prune did not use.
 
 from __future__ import annotations
 
-import math
 from dataclasses import replace
 
 import numpy as np
 
-from ..errors import InputError
 from . import Dry, describe
-from .modal import PLUCK_JITTER, STRENGTH_JITTER, _add_note, _check_points, _check_rate, _note_ends, one_blas_thread
+from .modal import _add_note, _check_points, one_blas_thread, plucks
 from .phrase import Phrase
 
 
@@ -38,31 +36,12 @@ class NoteCache:
 
     def string_velocity(self, phrase: Phrase, *, sample_rate: int, positions, apertures, seed: int = 0, seconds: float | None = None) -> np.ndarray:
         """As :func:`render.dry.modal.string_velocity` (same arguments, same result to the bit)."""
-        fs = _check_rate(sample_rate)
         inst = phrase.instrument
         x, w = _check_points(positions, apertures, inst.scale_length)
-        total = phrase.seconds if seconds is None else seconds
-        if not (isinstance(total, (int, float)) and math.isfinite(total) and 0 < total <= 3600):
-            raise InputError(f"seconds={total!r}: the length must be > 0 s and <= 3600 s")
-        if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
-            raise InputError(f"seed={seed!r}: must be a whole number >= 0")
-        n_total = int(round(total * fs))
+        p = plucks(phrase, sample_rate=sample_rate, seed=seed, seconds=seconds)
+        n_total = p.n_total
         out = np.zeros((x.size, n_total))
-        notes = phrase.notes
-        rng = np.random.default_rng(int(seed))
-        jitter = rng.uniform(-1.0, 1.0, size=(len(notes), 3))
-        onsets = np.array([max(0.0, n.time + n.spread * jitter[i, 0]) for i, n in enumerate(notes)])
-        ends = _note_ends(notes, onsets)
-        for i, note in enumerate(notes):
-            if ends[i] <= onsets[i]:
-                continue
-            args = dict(
-                fs=fs,
-                onset=float(onsets[i]),
-                end=float(ends[i]),
-                strength=note.strength * (1.0 + STRENGTH_JITTER * jitter[i, 1]),
-                pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * jitter[i, 2]), 0.999 * note.length),
-            )
+        for note, args in p.notes:
             key = (replace(note, origin=""), inst, n_total, tuple(x), tuple(w), tuple(sorted(args.items())))
             self._used.add(key)
             if key not in self._terms:

@@ -65,12 +65,10 @@ from .modal import (
     _FLOOR,
     _MODE_GROUP,
     MAX_MODE_HZ,
-    PLUCK_JITTER,
-    STRENGTH_JITTER,
     T60_FACTOR,
-    _check_rate,
+    Plucks,
     _highest_ratio,
-    _note_ends,
+    _retuned_time,
     _sum_blocks,
     decay_rates,
     mode_frequencies,
@@ -78,6 +76,7 @@ from .modal import (
     one_blas_thread,
     pitch_ratio,
     pluck_amplitudes,
+    plucks,
 )
 from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Phrase
 
@@ -165,10 +164,7 @@ def _direct(buf, amp, sigma, omega, lives, delta, fs, *, ratio) -> None:
     """
     span = buf.shape[1]
     t = (np.arange(span) + delta) / fs
-    tau = np.empty(span)
-    tau[0] = ratio[0] * delta / fs
-    if span > 1:
-        tau[1:] = tau[0] + np.cumsum(0.5 * (ratio[1:] + ratio[:-1])) / fs
+    tau = _retuned_time(ratio, delta, fs)
     order = np.argsort(-lives, kind="stable")
     for g in range(0, order.size, _MODE_GROUP):
         idx = order[g : g + _MODE_GROUP]
@@ -304,50 +300,41 @@ def motion_velocity(motion: PhraseMotion, pickup: Pickup, *, strongest_m: float)
 
 @dataclass(frozen=True)
 class _Plan:
-    """What every string's synthesis shares: the phrase, the notes' onsets, ends and jitter."""
+    """What every string's synthesis shares: the phrase and its checked, jittered notes."""
 
     phrase: Phrase
     sensing: Any  # render.magnetics.sensing.PickupSensing
     cores: tuple
     outers: tuple
-    fs: float
-    n_total: int
-    onsets: np.ndarray
-    ends: np.ndarray
-    jitter: np.ndarray
+    plucks: Plucks
     strings: tuple  # indices j of the strings with a note that sounds
+
+    @property
+    def n_total(self) -> int:
+        return self.plucks.n_total
 
 
 def _plan(phrase: Phrase, sensing, *, cores, outers, sample_rate: int, seed: int, seconds: float | None) -> _Plan:
-    fs = _check_rate(sample_rate)
     inst = phrase.instrument
     n_strings = len(sensing.coil_a)
     if inst.strings != n_strings:
         raise InputError(f"{phrase.source}: the phrase's instrument has {inst.strings} strings, the design's [construction] {n_strings}; give the construction one string_core per string")
-    total = phrase.seconds if seconds is None else seconds
-    if not (isinstance(total, (int, float)) and math.isfinite(total) and 0 < total <= 3600):
-        raise InputError(f"seconds={total!r}: the length must be > 0 s and <= 3600 s")
-    notes = phrase.notes
-    rng = np.random.default_rng(int(seed))
-    jitter = rng.uniform(-1.0, 1.0, size=(len(notes), 3))
-    onsets = np.array([max(0.0, n.time + n.spread * jitter[i, 0]) for i, n in enumerate(notes)])
-    ends = _note_ends(notes, onsets)
-    strings = tuple(j for j in range(n_strings) if any(n.string == n_strings - j and ends[i] > onsets[i] for i, n in enumerate(notes)))
-    return _Plan(phrase, sensing, tuple(cores), tuple(outers), fs, int(round(total * fs)), onsets, ends, jitter, strings)
+    p = plucks(phrase, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    strings = tuple(j for j in range(n_strings) if any(note.string == n_strings - j for note, _ in p.notes))
+    return _Plan(phrase, sensing, tuple(cores), tuple(outers), p, strings)
 
 
 def _string_motion(plan: _Plan, j: int, *, keep_fixed: bool) -> tuple[np.ndarray, np.ndarray | None]:
     """String j's (2, 4, n) motion at both coils (ū_y, ū_z, dū_y/dt, dū_z/dt per coil), and its unscaled part (a bend's offset) when asked and present."""
     inst = plan.phrase.instrument
-    notes = plan.phrase.notes
     n_strings = len(plan.sensing.coil_a)
     string = n_strings - j
     chans = np.zeros((2, 4, plan.n_total))
     fixed = np.zeros((2, 4, plan.n_total)) if keep_fixed else None
     bent = False
     strain = string_strain(core=plan.cores[j], outer=plan.outers[j], frequency=inst.open_pitches[j], scale_length=inst.scale_length)
-    for i, note in enumerate(notes):
-        if note.string != string or not plan.ends[i] > plan.onsets[i]:
+    for note, args in plan.plucks.notes:
+        if note.string != string:
             continue
         bent |= _add_note(
             chans,
@@ -355,14 +342,10 @@ def _string_motion(plan: _Plan, j: int, *, keep_fixed: bool) -> tuple[np.ndarray
             inst,
             coils=[plan.sensing.coil_a[j], plan.sensing.coil_b[j]],
             x_offset=plan.sensing.x_offset,
-            fs=plan.fs,
-            onset=float(plan.onsets[i]),
-            end=float(plan.ends[i]),
-            strength=note.strength * (1.0 + STRENGTH_JITTER * plan.jitter[i, 1]),
-            pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * plan.jitter[i, 2]), 0.999 * note.length),
             strain=strain,
             side=-1.0 if string <= n_strings / 2 else 1.0,
             fixed=fixed,
+            **args,
         )
     return chans, (fixed if bent else None)
 

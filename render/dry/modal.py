@@ -27,6 +27,7 @@ from __future__ import annotations
 
 import functools
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -213,38 +214,57 @@ def string_velocity(
     InputError
         For a sample rate, position, aperture or length out of range.
     """
+    x, w = _check_points(positions, apertures, phrase.instrument.scale_length)
+    p = plucks(phrase, sample_rate=sample_rate, seed=seed, seconds=seconds)
+    out = np.zeros((x.size, p.n_total))
+    for note, args in p.notes:
+        _add_note(out, note, phrase.instrument, positions=x, apertures=w, **args)
+    return out
+
+
+@dataclass(frozen=True)
+class Plucks:
+    """What every synthesis of a phrase shares: the checked rate and length, and each sounding note's arguments.
+
+    fs : Hz; n_total : samples in the result
+    notes : ((note, args), ...) in the phrase's order, one for each note that sounds (its end after its
+        onset); args are the keywords ``fs``, ``onset``, ``end``, ``strength`` and ``pluck_at`` of the
+        per-note synthesis, with the seeded jitter applied
+    """
+
+    fs: float
+    n_total: int
+    notes: tuple[tuple[Note, dict], ...]
+
+
+def plucks(phrase: Phrase, *, sample_rate: int, seed: int, seconds: float | None) -> Plucks:
+    """Check the rate, length and seed of a phrase's synthesis and draw each note's jitter (see :class:`Plucks`)."""
     fs = _check_rate(sample_rate)
-    inst = phrase.instrument
-    x, w = _check_points(positions, apertures, inst.scale_length)
     total = phrase.seconds if seconds is None else seconds
     if not (isinstance(total, (int, float)) and math.isfinite(total) and 0 < total <= 3600):
         raise InputError(f"seconds={total!r}: the length must be > 0 s and <= 3600 s")
     if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
         raise InputError(f"seed={seed!r}: must be a whole number >= 0")
-    n_total = int(round(total * fs))
-    out = np.zeros((x.size, n_total))
-
     notes = phrase.notes
     rng = np.random.default_rng(int(seed))
     jitter = rng.uniform(-1.0, 1.0, size=(len(notes), 3))
     onsets = np.array([max(0.0, n.time + n.spread * jitter[i, 0]) for i, n in enumerate(notes)])
     ends = _note_ends(notes, onsets)
-    for i, note in enumerate(notes):
-        if ends[i] <= onsets[i]:
-            continue
-        _add_note(
-            out,
+    sounding = tuple(
+        (
             note,
-            inst,
-            fs=fs,
-            onset=float(onsets[i]),
-            end=float(ends[i]),
-            strength=note.strength * (1.0 + STRENGTH_JITTER * jitter[i, 1]),
-            pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * jitter[i, 2]), 0.999 * note.length),
-            positions=x,
-            apertures=w,
+            dict(
+                fs=fs,
+                onset=float(onsets[i]),
+                end=float(ends[i]),
+                strength=note.strength * (1.0 + STRENGTH_JITTER * jitter[i, 1]),
+                pluck_at=min(note.pluck_at * (1.0 + PLUCK_JITTER * jitter[i, 2]), 0.999 * note.length),
+            ),
         )
-    return out
+        for i, note in enumerate(notes)
+        if ends[i] > onsets[i]
+    )
+    return Plucks(fs, int(round(total * fs)), sounding)
 
 
 def _check_rate(sample_rate) -> float:
@@ -380,6 +400,18 @@ def _sum_blocks(buf, amp, sigma, omega, lives, delta, fs) -> None:
             buf[:, a:b] += blocks[:, : b - a]
 
 
+def _retuned_time(ratio: np.ndarray, delta: float, fs: float) -> np.ndarray:
+    """tau(t) = integral from the pluck to t of the pitch ratio, s, by trapezoids (the ratio is ratio[0] before the first sample).
+
+    ratio : the pitch ratio at the samples t = (k + delta) / fs, k = 0 … span − 1
+    """
+    tau = np.empty(ratio.size)
+    tau[0] = ratio[0] * delta / fs
+    if ratio.size > 1:
+        tau[1:] = tau[0] + np.cumsum(0.5 * (ratio[1:] + ratio[:-1])) / fs
+    return tau
+
+
 def _sum_direct(buf, amp, sigma, omega, lives, delta, fs, *, note: Note) -> None:
     """Modes whose frequency moves: phase = omega_n * integral of the pitch ratio.
 
@@ -389,11 +421,7 @@ def _sum_direct(buf, amp, sigma, omega, lives, delta, fs, *, note: Note) -> None
     span = buf.shape[1]
     t = (np.arange(span) + delta) / fs
     r = pitch_ratio(t, note=note)
-    # tau(t) = integral_0^t r dt', trapezoids from the pluck (r = r[0] before the first sample)
-    tau = np.empty(span)
-    tau[0] = r[0] * delta / fs
-    if span > 1:
-        tau[1:] = tau[0] + np.cumsum(0.5 * (r[1:] + r[:-1])) / fs
+    tau = _retuned_time(r, delta, fs)
     order = np.argsort(-lives, kind="stable")
     for g in range(0, order.size, _MODE_GROUP):
         idx = order[g : g + _MODE_GROUP]

@@ -111,12 +111,12 @@ class RectangularWinding:
 
     @property
     def depth_length(self) -> float:
-        """m: winding depth on the long sides' ends, (length − window_length)/2."""
+        """m: winding depth (build) of the ends, (length − window_length)/2."""
         return (self.length - self.window_length) / 2.0
 
     @property
     def depth_width(self) -> float:
-        """m: winding depth on the long sides, (width − window_width)/2."""
+        """m: winding depth (build) of the long sides, (width − window_width)/2."""
         return (self.width - self.window_width) / 2.0
 
     @property

@@ -29,41 +29,22 @@ from __future__ import annotations
 import json
 import os
 import re
-import socketserver
 import threading
-from http.server import BaseHTTPRequestHandler, ThreadingHTTPServer
 from typing import cast
-from urllib.parse import urlsplit
 
 from ..errors import InputError
+from ..loopback import COMMON_HEADERS, HOST, LoopbackServer, QuietHandler, check_port
 from .answers import MAX_BODY, AnswerLog, AnswerRefused
 from .layout import load_key, load_plan, session_paths
 from .page import read_page
 
-HOST = "127.0.0.1"
 CLIP_ROUTE = re.compile(r"^/clip/([0-9a-f]{32}\.wav)$")
-SOCKET_TIMEOUT_S = 15.0  # an idle or stalled client is dropped after this long
 MAX_CONNECTIONS = 32  # at once; more are closed at once (a page needs about six)
 CSP = "default-src 'none'; script-src 'self'; style-src 'self'; connect-src 'self'; media-src 'self'; img-src 'self'; base-uri 'none'; form-action 'none'; frame-ancestors 'none'"
-COMMON_HEADERS = (
-    ("Cache-Control", "no-store"),
-    ("X-Content-Type-Options", "nosniff"),
-    ("Referrer-Policy", "no-referrer"),
-    ("Cross-Origin-Resource-Policy", "same-origin"),
-    ("X-Frame-Options", "DENY"),
-)
 
 
-class _SessionRequestHandler(BaseHTTPRequestHandler):
+class _SessionRequestHandler(QuietHandler):
     server_version = "render-listen"
-    sys_version = ""
-    timeout = SOCKET_TIMEOUT_S
-
-    def version_string(self):
-        return self.server_version
-
-    def log_message(self, format, *args):  # quiet: the terminal belongs to the listener's helper
-        pass
 
     # -- responses ---------------------------------------------------------
 
@@ -94,16 +75,8 @@ class _SessionRequestHandler(BaseHTTPRequestHandler):
 
     def _route(self) -> str | None:
         """The request's path if the Host is ours and the target is origin-form; else None (answered)."""
-        srv: ListeningServer = self.server  # type: ignore[assignment]  # the server this handler was made for
-        host = self.headers.get("Host", "")
-        if host not in srv.allowed_hosts:
-            self._error(421, "Host: this server answers only for its own loopback address")
-            return None
-        target = self.path
-        if not target.startswith("/") or target.startswith("//"):
-            self._error(404, "not found")
-            return None
-        return urlsplit(target).path
+        parts = self._target()
+        return None if parts is None else parts.path
 
     # -- methods -----------------------------------------------------------
 
@@ -189,7 +162,7 @@ class _SessionRequestHandler(BaseHTTPRequestHandler):
     do_PUT = do_DELETE = do_PATCH = do_OPTIONS = do_TRACE = do_CONNECT = _not_allowed
 
 
-class ListeningServer(ThreadingHTTPServer):
+class ListeningServer(LoopbackServer):
     """Serves one session on 127.0.0.1; holds the session's writer lock while it lives.
 
     ``port=0`` takes a free port; :attr:`url` is where to point the browser.
@@ -197,14 +170,10 @@ class ListeningServer(ThreadingHTTPServer):
     :meth:`start_thread`).
     """
 
-    daemon_threads = True
-    allow_reuse_address = True
-    request_queue_size = 64
     get_routes = ("/", "/page.css", "/page.js", "/favicon.ico", "/api/state", "/api/result")
 
     def __init__(self, session, *, port: int = 0, notify=None):
-        if not 0 <= int(port) <= 65535:
-            raise InputError(f"--port={port}: must be from 0 to 65535; 0 picks a free port")
+        check_port(port)
         self.paths = session_paths(session)
         self.plan = load_plan(self.paths)
         self.trials = len(self.plan["trials"])
@@ -225,12 +194,11 @@ class ListeningServer(ThreadingHTTPServer):
         self._thread: threading.Thread | None = None
         self.log = AnswerLog(self.paths, self.plan)  # refuses a second writer before anything binds
         try:
-            super().__init__((HOST, int(port)), _SessionRequestHandler)
-        except OSError as exc:
+            super().__init__(port, _SessionRequestHandler)
+        except InputError:
             self.log.close()
-            raise InputError(f"--port={port}: cannot listen on {HOST} ({exc.strerror or exc}); choose another port or 0 for a free one") from None
+            raise
         p = self.server_address[1]
-        self.allowed_hosts = frozenset({f"{HOST}:{p}", f"localhost:{p}"})
         self.allowed_origins = frozenset({f"http://{HOST}:{p}", f"http://localhost:{p}"})
 
     def process_request(self, request, client_address):
@@ -248,18 +216,6 @@ class ListeningServer(ThreadingHTTPServer):
             super().process_request_thread(request, client_address)
         finally:
             self._connections.release()
-
-    def server_bind(self):
-        socketserver.TCPServer.server_bind(self)  # skip HTTPServer's reverse name look-up
-        self.server_name, self.server_port = HOST, self.server_address[1]
-
-    @property
-    def port(self) -> int:
-        return self.server_address[1]
-
-    @property
-    def url(self) -> str:
-        return f"http://{HOST}:{self.port}/"
 
     def state(self) -> dict:
         answers = self.log.answers

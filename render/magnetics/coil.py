@@ -114,14 +114,19 @@ class CoilGeometry:
 
     # --- derived figures ------------------------------------------------------
     @property
-    def build_x(self) -> float:
-        """Winding build of the sides facing ±x (along the string), m."""
+    def depth_length(self) -> float:
+        """Winding depth (build) of the ends facing ±y, (length − window_length)/2, m."""
+        return (self.length - self.window_length) / 2.0
+
+    @property
+    def depth_width(self) -> float:
+        """Winding depth (build) of the sides facing ±x, (width − window_width)/2, m."""
         return (self.width - self.window_width) / 2.0
 
     @property
-    def build_y(self) -> float:
-        """Winding build of the ends facing ±y (across the strings), m."""
-        return (self.length - self.window_length) / 2.0
+    def mean_depth(self) -> float:
+        """The mean of :attr:`depth_width` and :attr:`depth_length`, m."""
+        return (self.depth_width + self.depth_length) / 2.0
 
     @property
     def mean_turn(self) -> float:
@@ -146,8 +151,7 @@ class CoilGeometry:
         N·π·d²/4 over height × the mean build; square packing of round wire
         tops out at π/4 ≈ 0.785, hexagonal at about 0.907 (geometry).
         """
-        build = (self.build_x + self.build_y) / 2.0
-        return self.turns * np.pi * wire_diameter**2 / 4.0 / (self.height * build)
+        return self.turns * np.pi * wire_diameter**2 / 4.0 / (self.height * self.mean_depth)
 
     def filaments(self, nodes: tuple[int, int] = DEFAULT_NODES) -> Filaments:
         """The winding as weighted filamentary rectangles (Gauss–Legendre in u and z).
@@ -164,8 +168,8 @@ class CoilGeometry:
         uu, zz = np.meshgrid(u, z, indexing="ij")
         ww = np.outer(wu, wz)
         return Filaments(
-            half_x=(self.window_width / 2.0 + uu * self.build_x).ravel(),
-            half_y=(self.window_length / 2.0 + uu * self.build_y).ravel(),
+            half_x=(self.window_width / 2.0 + uu * self.depth_width).ravel(),
+            half_y=(self.window_length / 2.0 + uu * self.depth_length).ravel(),
             z=zz.ravel(),
             turns=(self.turns * ww).ravel(),
         )

@@ -20,7 +20,7 @@ import numpy as np
 
 from .. import units as U
 from ..errors import InputError
-from ..validate import Field, read_table, read_value
+from ..validate import Field, did_you_mean, read_table, read_value
 from .coil import CoilGeometry, coil_pair, geometry_from_winding
 from .hum import DipoleSource, UniformSource
 
@@ -156,7 +156,7 @@ def read_sources(items: Any, *, source: str, n_harmonics: int) -> tuple:
         allowed = list(specs) + ["kind", "axis"] + (["at"] if kind == "dipole" else [])
         for key in t:
             if key not in allowed:
-                raise InputError(f"{where}: unknown key {U.shown(key)} for a {kind} source; known keys: {', '.join(allowed)}")
+                raise InputError(f"{where}: unknown key {U.shown(key)} for a {kind} source{did_you_mean(str(key), allowed)}")
         values = read_table({k: v for k, v in t.items() if k not in VECTORS}, specs, source=source, table=table)
         if "harmonics" in values and len(values["harmonics"]) != n_harmonics:
             raise InputError(f"{where} harmonics: {len(values['harmonics'])} values, but the [hum] profile has {n_harmonics}: give one per harmonic")

@@ -11,7 +11,8 @@ import pytest
 from click.testing import CliRunner
 from spice import NGSPICE, active_netlist, require_ngspice
 
-from render.analysis.bias import divider, harmonics_of, onset, sine_distortion, velocity_to_amp_output
+from render.analysis.bias import divider, onset, sine_distortion, velocity_to_amp_output
+from render.analysis.harmonics import harmonics_of
 from render.cli import main
 from render.design import load_design
 

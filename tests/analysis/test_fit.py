@@ -131,6 +131,12 @@ peak_hz = {{ value = {f0:.3f}, within = "3%" }}
         ('peak_hz = { value = 3000, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k", series = "E7" }', "expected one of E6, E12"),
         ('peak_hz = { value = 500, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k" }', "outside 1 kHz to 20 kHz"),
         ("level_1k_db = { value = 3 }", '"feedback.r" = { min = "22k", max = "470k" }', "a value needs a tolerance"),
+        # an unknown key is worded as in a design file (render.validate.unknown)
+        ('peak_hz = { valeu = 3000, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k" }', "[aim] peak_hz: unknown key 'valeu'; did you mean 'value'?"),
+        ('peak_hz = { value = 3000, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k", serie = "E12" }', "[free] \"feedback.r\": unknown key 'serie'; did you mean 'series'?"),
+        ('peak_hz = { value = "3kHz", within = "0.1kHz" }', '"feedback.r" = { min = "22k", max = "470k", step = 1 }', "unknown key 'step'; known keys: min, max, series, same_as"),
+        ('peak_hz = { value = "fast", within = "5%" }', '"feedback.r" = { min = "22k", max = "470k" }', '[aim] peak_hz value="fast": cannot read'),
+        ('peak_hz = { value = 0, within = "5%" }', '"feedback.r" = { min = "22k", max = "470k" }', "[aim] peak_hz value=0: must be > 0 Hz"),
     ],
 )
 def test_fit_refuses_bad_files(tmp_path, aim, free, fragment):
@@ -139,6 +145,13 @@ def test_fit_refuses_bad_files(tmp_path, aim, free, fragment):
     assert res.exit_code == 1, res.output
     assert fragment in res.output
     assert not (tmp_path / "o").exists()
+
+
+def test_fit_file_unknown_top_key_is_worded_as_in_a_design(tmp_path):
+    fit = write_fit(tmp_path, f'from = "{REF}"\naimx = 1\n[aim]\npeak_hz = {{ value = 3000, within = "5%" }}\n[free]\n"feedback.r" = {{ min = "22k", max = "470k" }}\n')
+    res = run("fit", fit, "--out", tmp_path / "o")
+    assert res.exit_code == 1 and res.output.strip().endswith(f"{fit}: unknown table or key 'aimx'; did you mean 'aim'?"), res.output
+    assert len(res.output.strip().splitlines()) == 1
 
 
 def test_fit_refuses_unreachable_aims(tmp_path):

@@ -23,7 +23,8 @@ import pytest
 from chain.spice_loop import loop_transient, sine_burst
 
 from render.analysis.bias import onset, sweep
-from render.analysis.recovery import distortion_figures, recovery
+from render.analysis.harmonics import distortion_figures
+from render.analysis.recovery import recovery
 from render.chain.stream import make_plan, render_signal
 from render.design import load_design
 

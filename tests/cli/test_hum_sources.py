@@ -295,7 +295,7 @@ def test_hum_only_render_measures_the_exact_rejection(tmp_path):
 
 def test_clips_hum_uses_the_rigs_sources(tmp_path):
     # the clip's steady hum at each mains harmonic (string at rest) is the table's, through the same networks
-    from render.analysis.hum import harmonic_amplitudes
+    from render.analysis.harmonics import harmonic_amplitudes
 
     d = render.load_design(BOBBIN)
     near = render.load_rig(NEAR)

@@ -83,7 +83,7 @@ def test_bad_inputs_exit_1_with_one_line_and_write_nothing(phrase, tmp_path):
     bad = tmp_path / "bad.toml"
     bad.write_text('[[note]]\ntime = 0\nstring = 6\nfret = 0\nstrenght = "1mm"\n')
     cases = [
-        ((bad,), 'bad.toml: [[note]] #1 strenght="1mm": unknown key; did you mean strength?'),
+        ((bad,), "bad.toml: [[note]] #1: unknown key 'strenght'; did you mean 'strength'?"),
         ((tmp_path / "none.toml",), "none.toml: no such file"),
         ((phrase, "--position", "700mm"), "--position=700mm: must be shorter than the scale length 648 mm"),
         ((phrase, "--position", "4 furlongs"), "--position=4 furlongs: cannot read"),

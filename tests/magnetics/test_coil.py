@@ -32,7 +32,7 @@ def test_turns_area_by_hand():
     g = demo()
     assert g.turns_area == pytest.approx(1200 * 512.3333333333e-6, rel=1e-10)
     assert g.mean_turn == pytest.approx(0.142, rel=1e-12)
-    assert g.build_x == pytest.approx(0.005) and g.build_y == pytest.approx(0.005)
+    assert g.depth_width == pytest.approx(0.005) and g.depth_length == pytest.approx(0.005)
 
 
 def test_turns_area_against_the_turns_one_by_one():
@@ -40,9 +40,9 @@ def test_turns_area_against_the_turns_one_by_one():
     # form is this sum's limit, with a midpoint-rule error of ΔW·ΔL/(12·30²) per turn (Abramowitz & Stegun 25.4.2)
     g = demo()
     u = (np.arange(30) + 0.5) / 30
-    areas = (g.window_width + u * 2 * g.build_x) * (g.window_length + u * 2 * g.build_y)
+    areas = (g.window_width + u * 2 * g.depth_width) * (g.window_length + u * 2 * g.depth_length)
     brute = 40 * areas.sum()
-    midpoint_error = 1200 * (2 * g.build_x) * (2 * g.build_y) / (12 * 30**2)
+    midpoint_error = 1200 * (2 * g.depth_width) * (2 * g.depth_length) / (12 * 30**2)
     assert g.turns_area == pytest.approx(brute + midpoint_error, rel=1e-12)
 
 
@@ -173,8 +173,8 @@ def test_per_coil_flux_against_magpylib():
     for coil in (ca, cb):
         turns = []
         for ui in u:
-            hx = g.window_width / 2 + ui * g.build_x
-            hy = g.window_length / 2 + ui * g.build_y
+            hx = g.window_width / 2 + ui * g.depth_width
+            hy = g.window_length / 2 + ui * g.depth_length
             for zi in z:
                 v = np.array([[hx, -hy, zi], [hx, hy, zi], [-hx, hy, zi], [-hx, -hy, zi], [hx, -hy, zi]]) + np.array(coil.centre)
                 turns.append(magpy.current.Polyline(current=1.0, vertices=v))
