@@ -258,3 +258,10 @@ def test_fit_then_render_from_a_script_is_the_commands_run(tmp_path):
     for name in ("studio-reference.wav", "studio-reference-fit-1.wav"):
         assert (tmp_path / "cli" / "clips" / name).read_bytes() == (made.clips.folder / name).read_bytes()
     assert made.clips.records[0]["rig"]["file"] == str(rig)
+
+
+def test_a_bad_python_argument_is_named_as_in_python_and_the_command_keeps_its_option():
+    with pytest.raises(render.InputError, match=r"^temperature_k=0 K: expected an absolute temperature"):
+        render.noise(REF, temperature_k=0)
+    res = CliRunner().invoke(main, ["noise", str(REF), "--temperature", "0"])
+    assert res.exit_code == 1 and res.output.startswith("Error: --temperature=0: ")  # the option type refuses it first

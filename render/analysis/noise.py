@@ -432,6 +432,6 @@ def noise(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_veloc
     """
     from ..design import apply_rig
 
-    check_temperature(temperature_k)
+    check_temperature(temperature_k, "temperature_k")
     (report,) = noise_reports([apply_rig(design, rig)], temperature=temperature_k, reference_velocity=reference_velocity)
     return report
