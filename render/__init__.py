@@ -15,12 +15,15 @@ here (loaded on first use, so ``import render`` is quick)::
 
 Physics lives in pure functions (arrays in, arrays out); files, plots and the
 command line live at the edges (:mod:`render.io`, :mod:`render.report`,
-:mod:`render.runs`, :mod:`render.cli`).
+:mod:`render.runs`, :mod:`render.cli`). A design is passed as a design file's
+path or a loaded :class:`Design`, a rig as ``rig=``: a rig file's path, a
+loaded :class:`RigFile` or None (:mod:`render.face`).
 """
 
 from __future__ import annotations
 
 import importlib
+import inspect
 from typing import Any
 
 __version__ = "0.1.0"
@@ -58,6 +61,7 @@ _HOME = {
     "UniformSource": "render.magnetics.hum",
     "noise": "render.analysis.noise",
     "NoiseReport": "render.analysis.noise",
+    "NoiseFloor": "render.analysis.noise",
     "bias_sweep": "render.analysis.bias",
     "BiasSweep": "render.analysis.bias",
     # renders in time
@@ -69,6 +73,8 @@ _HOME = {
     "ClipsRun": "render.runs.clips",
     "fit": "render.runs.fit",
     "FitRun": "render.runs.fit",
+    "fit_and_render": "render.runs.fit",
+    "FitAndRender": "render.runs.fit",
     "unvoice": "render.runs.unvoice",
     "UnvoiceResult": "render.runs.unvoice",
     "build_blind_session": "render.runs.blind",
@@ -86,6 +92,10 @@ def __getattr__(name: str) -> Any:
     if name not in _HOME:
         raise AttributeError(f"module 'render' has no attribute {name!r}")
     value = getattr(importlib.import_module(_HOME[name]), _ALIASES.get(name, name))
+    if inspect.isfunction(value):  # a design as a path or a Design, a rig as a path, a RigFile or None
+        from .face import takes_files
+
+        value = takes_files(value)
     globals()[name] = value  # later look-ups skip this function
     return value
 

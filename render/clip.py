@@ -24,7 +24,26 @@ if TYPE_CHECKING:
 
 @dataclass(frozen=True)
 class RenderSettings:
-    """Everything a render depends on besides the design and the dry file."""
+    """Everything a render depends on besides the design and the dry file.
+
+    Attributes
+    ----------
+    sample_rate : int, Hz
+    seconds : float or None, s
+        Length of every clip (None: the dry signal's own).
+    seed : int
+        Seed of the phrase's small variations and the noise.
+    velocity_scale : float, m/s
+        String velocity at full scale of a recorded dry file.
+    hum : bool
+        Add the rig's mains hum field.
+    passive : bool
+        Also render the passive reference.
+    noise : bool
+        Add the circuit's noise floor (seeded).
+    strength : float or None, m
+        The phrase's strongest pluck, every pluck scaled alike (None: as written).
+    """
 
     sample_rate: int = 48000
     seconds: float | None = None

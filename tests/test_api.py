@@ -160,3 +160,108 @@ def test_synthesize_reads_lengths_as_the_files_do():
     assert np.array_equal(a.velocity, b.velocity)
     with pytest.raises(render.InputError, match="one per point"):
         render.synthesize(phrase, positions=(0.04,), apertures=(0.02, 0.03), sample_rate=8000, seconds=0.2)
+
+
+RIG = ROOT / "rigs" / "near-transformer.toml"
+
+
+@pytest.fixture
+def rig(tmp_path):
+    """The near-transformer rig with a turned-down volume and a longer cable, so both of its tables change the figures."""
+    p = tmp_path / "bench.toml"
+    p.write_text(RIG.read_text(encoding="utf-8") + '\n[rig]\nvolume = 0.5\ncable_length = "10m"\n', encoding="utf-8")
+    return p
+
+
+@pytest.mark.parametrize(
+    "call",
+    [
+        lambda d, rig: render.response(d, [100.0, 1000.0], rig=rig).velocity,
+        lambda d, rig: [h.rejection_db for h in render.hum(d, rig=rig).harmonics],
+        lambda d, rig: render.noise(d, rig=rig).active.total_v,
+        lambda d, rig: render.hum_map(d, rig=rig, distances_m=(0.5,), bearings_deg=(0.0,)).rejection_db,
+        lambda d, rig: render.hum_positions(d, rig=rig, trials=20).summary(),
+        lambda d, rig: render.render_clip(d, np.full(480, 0.01), sample_rate=48000, rig=rig).volts,
+        lambda d, rig: render.load_designs([d], rig=rig)[0][0].rig,
+    ],
+)
+def test_a_design_and_a_rig_are_taken_as_paths_or_loaded(call, rig):
+    # one rule for the whole face: a design is a path or a Design, a rig a path, a RigFile or None;
+    # both forms give the same numbers (no outside source: the two forms of one call agree)
+    by_path = call(REF, rig)
+    loaded = call(render.load_design(REF), render.load_rig(rig))
+    mixed = call(str(REF), str(rig))
+    assert np.array_equal(np.asarray(by_path), np.asarray(loaded)) and np.array_equal(np.asarray(by_path), np.asarray(mixed))
+    assert not np.array_equal(np.asarray(call(REF, None)), np.asarray(by_path))  # the rig is played into, not ignored
+
+
+@pytest.mark.parametrize("call", [lambda d: render.bias_sweep(d, ratios=(0.5,)).rows, lambda d: render.hum_tolerances(d, trials=20).summary(), lambda d: render.figures([d])])
+def test_a_design_without_a_rig_is_taken_as_a_path_or_loaded(call):
+    assert repr(call(REF)) == repr(call(render.load_design(REF)))
+
+
+def _public_functions_taking(argument):
+    import inspect
+
+    return [n for n in render.__all__ if inspect.isfunction(getattr(render, n)) and argument in inspect.signature(getattr(render, n)).parameters]
+
+
+@pytest.mark.parametrize("argument, good", [("design", REF), ("designs", [REF, ODD]), ("rig", None)])
+def test_a_wrong_design_or_rig_is_refused_in_one_line_naming_the_argument(argument, good):
+    import inspect
+
+    names = _public_functions_taking(argument)
+    assert len(names) >= {"design": 8, "designs": 3, "rig": 10}[argument], names  # the face's functions, as listed in render/__init__.py
+    for name in names:
+        func = getattr(render, name)
+        params = inspect.signature(func).parameters
+        # every required argument gets a stand-in; the wrong one is refused before any of them is used
+        kwargs = {p.name: good if p.name == argument else (REF if p.name == "design" else [REF, ODD] if p.name == "designs" else None) for p in params.values() if p.default is p.empty}
+        for wrong in (42, render.load_phrase(PHRASE), ["models/odd-pair.toml"] if argument != "designs" else "models/odd-pair.toml"):
+            kwargs[argument] = wrong
+            with pytest.raises(render.InputError) as e:
+                func(**kwargs)
+            msg = str(e.value)
+            assert msg.startswith(f"{argument}: got ") and "pass " in msg and "\n" not in msg, (name, msg)
+    if argument == "designs":
+        with pytest.raises(render.InputError, match=r"^designs\[1\]: got int; pass a design file's path"):
+            render.figures([REF, 1])
+
+
+def test_load_design_and_load_rig_take_what_they_return():
+    d, r = render.load_design(REF), render.load_rig(RIG)
+    assert render.load_design(d) is d and render.load_rig(r) is r
+    with pytest.raises(render.InputError, match=r"^path: got int; pass a design file's path \(str or Path\) or a render.Design"):
+        render.load_design(3)
+    with pytest.raises(render.InputError, match=r"^path: got Design; pass a rig file's path"):
+        render.load_rig(d)
+
+
+def test_unvoice_takes_a_loaded_design_and_rig(tmp_path, rig):
+    di = tmp_path / "di.wav"
+    sf.write(di, 0.01 * np.sin(2 * np.pi * 220 * np.arange(24000) / 48000), 48000, subtype="FLOAT")
+    render.unvoice(di, REF, out=tmp_path / "paths.wav", rig=rig, plot=False)
+    render.unvoice(di, render.load_design(REF), out=tmp_path / "loaded.wav", rig=render.load_rig(rig), plot=False)
+    assert (tmp_path / "paths.wav").read_bytes() == (tmp_path / "loaded.wav").read_bytes()
+
+
+def test_fit_then_render_from_a_script_is_the_commands_run(tmp_path):
+    # render.fit_and_render is what `render fit --render` runs: the same designs and the same clips
+    fitfile = ROOT / "models" / "fits" / "brighter-reference.toml"
+    rig = tmp_path / "desk.toml"  # a short cable (the near-transformer room puts the fit's hum aim out of reach)
+    rig.write_text('[rig]\ncable_length = "3m"\n', encoding="utf-8")
+    run("fit", fitfile, "--top", 1, "--rig", rig, "--out", tmp_path / "cli", "--render")
+    made = render.fit_and_render(fitfile, top=1, rig=render.load_rig(rig), out=tmp_path / "api")
+    assert made.folder == tmp_path / "api" and not (made.folder / "INCOMPLETE.txt").exists() and made.blind is None
+    assert [p.name for p in made.fit.files] == ["studio-reference-fit-1.toml"]
+    assert [r["design"] for r in made.clips.records] == ["studio-reference", "studio-reference-fit-1"]
+    for name in ("studio-reference.wav", "studio-reference-fit-1.wav"):
+        assert (tmp_path / "cli" / "clips" / name).read_bytes() == (made.clips.folder / name).read_bytes()
+    assert made.clips.records[0]["rig"]["file"] == str(rig)
+
+
+def test_a_bad_python_argument_is_named_as_in_python_and_the_command_keeps_its_option():
+    with pytest.raises(render.InputError, match=r"^temperature_k=0 K: expected an absolute temperature"):
+        render.noise(REF, temperature_k=0)
+    res = CliRunner().invoke(main, ["noise", str(REF), "--temperature", "0"])
+    assert res.exit_code == 1 and res.output.startswith("Error: --temperature=0: ")  # the option type refuses it first

@@ -106,7 +106,23 @@ def check_temperature(temperature: float, name: str = "temperature") -> float:
 
 @dataclass(frozen=True)
 class Contributor:
-    """One source's part of the noise at the amp input, 20 Hz–20 kHz."""
+    """One source's part of the noise at the amp input, 20 Hz–20 kHz.
+
+    Attributes
+    ----------
+    key : str
+        The source's key in :attr:`NoiseFloor.contributor_density` and the JSON (e.g. ``"opamp.voltage"``, ``"input_a.series_r"``).
+    label : str
+        The source in words, as the tables print it.
+    total_v : float, V rms
+        Unweighted, 20 Hz–20 kHz.
+    a_weighted_v : float, V rms
+        A-weighted (IEC 61672-1), 20 Hz–20 kHz.
+    share : float, 0..1
+        Its part of the total noise power.
+    density_1k_v_per_rthz : float, V/√Hz
+        Its density at 1 kHz.
+    """
 
     key: str
     label: str
@@ -128,12 +144,30 @@ class Contributor:
 
 @dataclass(frozen=True)
 class NoiseFloor:
-    """The noise floor of one circuit (a design, or its passive reference).
+    """The noise floor of one circuit (a design, or its passive reference) at the amp input.
 
-    frequency_hz, density_v_per_rthz : np.ndarray, shape (F,)
-        The output grid (Hz) and the density there (V/√Hz).
-    contributor_density : dict of key -> np.ndarray (F,)
-        Each source's density on the same grid (V/√Hz).
+    Attributes
+    ----------
+    frequency_hz : np.ndarray [shape=(F,)], Hz
+        The reported grid, log-spaced from 20 Hz to 20 kHz (F = 301).
+    density_v_per_rthz : np.ndarray [shape=(F,)], V/√Hz
+        The total density on that grid.
+    density_1k_v_per_rthz : float, V/√Hz
+        The total density at 1 kHz.
+    total_v : float, V rms
+        Unweighted, 20 Hz–20 kHz.
+    a_weighted_v : float, V rms
+        A-weighted (IEC 61672-1), 20 Hz–20 kHz.
+    signal_v : float, V rms
+        The 1 kHz reference sine (:attr:`NoiseReport.reference_velocity` at both sensing points) at the amp input.
+    contributors : tuple of Contributor
+        Each source's part, largest first; parts the circuit does not have are left out.
+    contributor_density : dict of str -> np.ndarray [shape=(F,)], V/√Hz
+        Each source's density on ``frequency_hz``, by :attr:`Contributor.key`.
+    silent_reason : str or None
+        Why there is no signal (the coils cancel the string signal exactly); then the SNRs are None.
+    snr_db, snr_a_db : float or None, dB
+        The signal over the unweighted and the A-weighted noise (properties).
     """
 
     frequency_hz: np.ndarray
@@ -182,7 +216,27 @@ class NoiseFloor:
 
 @dataclass(frozen=True)
 class NoiseReport:
-    """A design's noise floor and its passive reference's, with what they are relative to."""
+    """A design's noise floor and its passive reference's, with what they are relative to (what :func:`noise` returns).
+
+    Attributes
+    ----------
+    design : str
+        The design's name.
+    source : str
+        The design file it came from, as given.
+    temperature_k : float, K
+        The temperature of every resistance.
+    reference_velocity : float, m/s rms
+        String velocity of the 1 kHz reference sine the SNRs are relative to.
+    noise_voltage : float, V/√Hz
+        The op-amp's input voltage noise density.
+    noise_current : float, A/√Hz
+        The op-amp's input current noise density.
+    active : NoiseFloor
+        The design's floor.
+    passive : NoiseFloor
+        Its passive reference's floor.
+    """
 
     design: str
     source: str
@@ -378,6 +432,6 @@ def noise(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_veloc
     """
     from ..design import apply_rig
 
-    check_temperature(temperature_k)
+    check_temperature(temperature_k, "temperature_k")
     (report,) = noise_reports([apply_rig(design, rig)], temperature=temperature_k, reference_velocity=reference_velocity)
     return report

@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-import contextlib
 import os
-import sys
 from pathlib import Path
 
 import click
@@ -12,8 +10,6 @@ import click
 from .compare_print import compare_option
 from .options import friendly, jobs_option, overwrite_option, rig_option, sample_rate_option, warn
 from .values import Finite, InFile, OutFolder, Seed
-
-CAUTION = "Start playback at a low volume and raise it slowly: clips can be loud, and clipped ones stay loud."
 
 
 @click.command("clips")
@@ -114,37 +110,13 @@ def read_strength(text, dry) -> float | None:
     return strength_m
 
 
-def print_record_headroom(records) -> None:
-    """The headroom table of a run's records (those that carry it)."""
-    from ..analysis.headroom import from_record
-    from .headroom_print import print_headroom
-
-    rows = [(r["design"], h) for r in records if (h := from_record(r["measurements"])) is not None]
-    print_headroom(rows)
-
-
 def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None):
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
+    from .clips_print import progress_bar, report_clips
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
-    bar = click.progressbar(length=len(designs), label="rendering", file=sys.stderr, show_pos=True) if len(designs) > 1 else contextlib.nullcontext()
-    with bar as shown:
-        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=shown.update if shown else None, reference=reference, compare=compare)
-    for w in run.warnings:
-        warn(w)
-    from ..report.clips import pickup_notes
-
-    for note in pickup_notes(run.records):
-        click.echo(f"note: {note}")
-    print_record_headroom(run.records)
-    if run.over_full_scale:
-        warn(f"{', '.join(run.over_full_scale)} peak above the {run.volts_full_scale:g} V full scale; the float WAVs keep those samples, but many players clip them")
-    n = len(run.records)
-    plural = "s" if n != 1 else ""
-    if run.streamed:
-        click.echo(f"{n} clip{plural} of {run.seconds:.0f} s rendered block by block to {out}/ (full scale {run.volts_full_scale:g} V, fixed from the output windows; summary in {out / 'summary.md'})")
-    else:
-        click.echo(f"{n} clip{plural} written to {out}/ (full scale {run.volts_full_scale:g} V; summary in {out / 'summary.md'})")
-    click.echo(CAUTION)
+    with progress_bar(len(designs)) as update:
+        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=update, reference=reference, compare=compare)
+    report_clips(run)
     return run

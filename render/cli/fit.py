@@ -2,9 +2,6 @@
 
 from __future__ import annotations
 
-import contextlib
-from pathlib import Path
-
 import click
 
 from .options import friendly, overwrite_option, rig_option
@@ -51,38 +48,20 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips,
     comments saying what changed, fit.json, and an overlay plot of the
     start's and the results' responses.
     """
-    from ..io.folders import output_folder, run_folder
+    from ..runs.blind import BlindSession
+    from ..runs.clips import ClipsRun
+    from ..runs.fit import FitRun, fit_and_render
+    from .blind import print_blind_session
+    from .clips_print import progress_bar, report_clips
 
-    out = output_folder(out_dir or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
-    then = render_clips or blind_session  # the folder stays marked incomplete until what follows the fit is written
-    with run_folder(out) if then else contextlib.nullcontext():
-        _fit_and_follow(fitfile, out, start_path, rig_path, top, seed, render_clips, blind_session, overwrite)
+    def report(step) -> None:
+        if isinstance(step, FitRun):
+            print_table(step)
+            n = len(step.files)
+            click.echo(f"wrote {n} design{'' if n == 1 else 's'}, fit.json and fit-responses.png to {step.folder}/")
+        elif isinstance(step, ClipsRun):
+            report_clips(step)
+        elif isinstance(step, BlindSession):
+            print_blind_session(step)
 
-
-def _fit_and_follow(fitfile, out, start_path, rig_path, top, seed, render_clips, blind_session, overwrite):
-    from ..runs.fit import fit
-
-    run = fit(fitfile, out=out, start_path=start_path, rig=rig_path, top=top, seed=seed, marked=not (render_clips or blind_session))
-    print_table(run)
-    n = len(run.files)
-    click.echo(f"wrote {n} design{'' if n == 1 else 's'}, fit.json and fit-responses.png to {out}/")
-    if render_clips:
-        from ..clip import RenderSettings
-        from ..design import load_designs
-        from ..dry import check_dry_file
-        from ..io.folders import output_folder
-        from ..runs.fit_phrase import phrase_file_of
-        from .clips import render_and_report
-
-        designs, rig = load_designs([run.start_file, *run.files], rig=rig_path)
-        # a phrase_headroom_db aim's phrase and strength are what the clips play, so their headroom is the aim's
-        phrase = phrase_file_of(run.spec, Path(fitfile)) if run.spec.needs_phrase else None
-        render_and_report(designs, check_dry_file(phrase), RenderSettings(strength=run.spec.strength), output_folder(out / "clips", overwrite=overwrite), rig=rig)
-    if blind_session:
-        from ..design import load_designs
-        from ..runs.blind import BlindSettings, build_blind_session, session_dry_file, session_folder
-        from .blind import print_blind_session
-
-        designs, rig = load_designs([run.start_file, run.files[0]], rig=rig_path)
-        folder = session_folder(out / "blind", overwrite=overwrite)
-        print_blind_session(build_blind_session(designs, session_dry_file(None), out=folder, rig=rig, settings=BlindSettings(), overwrite=overwrite))
+    fit_and_render(fitfile, out=out_dir, start_path=start_path, rig=rig_path, top=top, seed=seed, clips=render_clips, blind=blind_session, overwrite=overwrite, progress=progress_bar, on_step=report)

@@ -41,7 +41,7 @@ def unvoice_command(di, model, rig_path, volts_full_scale, velocity_scale, max_b
     """
     from ..runs.unvoice import unvoice
 
-    res = unvoice(di, model, out=out, rig_path=rig_path, volts_full_scale=volts_full_scale, velocity_scale=velocity_scale, max_boost_db=max_boost, overwrite=overwrite, plot=plot)
+    res = unvoice(di, model, out=out, rig=rig_path, volts_full_scale=volts_full_scale, velocity_scale=velocity_scale, max_boost_db=max_boost, overwrite=overwrite, plot=plot)
     for w in res.warnings:
         warn(w)
     r = res.record

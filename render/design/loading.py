@@ -10,6 +10,7 @@ amplifier) and the room it hums in. Every value is read against
 from __future__ import annotations
 
 import functools
+import os
 from pathlib import Path
 from typing import Any
 
@@ -205,8 +206,26 @@ def _split_coils(data: dict, *, source: str) -> tuple[dict, dict]:
     return out, specs
 
 
-def load_design(path: str | Path) -> Design:
-    """Load and validate one design file."""
+def _file_path(value: Any, argument: str, what: str) -> str:
+    """``value`` if it names a file (str or os.PathLike), else an InputError naming ``argument`` and what to pass."""
+    if isinstance(value, (str, os.PathLike)):
+        return os.fspath(value)
+    raise InputError(f"{argument}: got {type(value).__name__}; pass {what}")
+
+
+DESIGN_FORMS = "a design file's path (str or Path) or a render.Design (render.load_design)"
+RIG_FORM = "a rig file's path (str or Path) or a render.RigFile (render.load_rig)"
+RIG_FORMS = "a rig file's path (str or Path), a render.RigFile (render.load_rig) or None"
+
+
+def load_design(path: str | os.PathLike | Design, *, argument: str = "path") -> Design:
+    """Load and validate one design file; a :class:`Design` already loaded is returned as it is.
+
+    Anything else is refused with an :class:`InputError` naming ``argument``.
+    """
+    if isinstance(path, Design):
+        return path
+    path = _file_path(path, argument, DESIGN_FORMS)
     data, raw = read_toml(path)
     if isinstance(data, dict) and data.get("kind") == "passive":  # render.design.passive
         raise PassiveGiven(path)
@@ -222,28 +241,46 @@ def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile
     return RigFile(rig=rig, hum=hum, source=source, sha256=sha256)
 
 
-def load_rig(path: str | Path) -> RigFile:
-    """Load a rig file; its [rig] replaces a design's own, and so does its [hum] if present."""
+def load_rig(path: str | os.PathLike | RigFile, *, argument: str = "path") -> RigFile:
+    """Load a rig file; its [rig] replaces a design's own, and so does its [hum] if present.
+
+    A :class:`RigFile` already loaded is returned as it is; anything else is
+    refused with an :class:`InputError` naming ``argument``.
+    """
+    if isinstance(path, RigFile):
+        return path
+    path = _file_path(path, argument, RIG_FORM)
     data, raw = read_toml(path)
     return parse_rig(data, source=str(path), sha256=sha256_bytes(raw))
+
+
+def as_rig(rig: str | os.PathLike | RigFile | None, argument: str = "rig") -> RigFile | None:
+    """The rig file ``rig`` names (a path, or a :class:`RigFile` already loaded), or None for none."""
+    if rig is None or isinstance(rig, RigFile):
+        return rig
+    return load_rig(_file_path(rig, argument, RIG_FORMS), argument=argument)
 
 
 MODELS = Path("models")  # where designs are looked for when none are named
 
 
-def load_designs(paths=None, *, rig: str | Path | None = None, models: Path = MODELS) -> tuple[list[Design], RigFile | None]:
+def load_designs(paths=None, *, rig: str | Path | RigFile | None = None, models: Path = MODELS) -> tuple[list[Design], RigFile | None]:
     """Designs from the given files (default: every ``models/*.toml``), each with the rig file applied.
 
+    Each of ``paths`` is a design file's path or a :class:`Design` already
+    loaded; ``rig`` is a rig file's path, a :class:`RigFile` or None.
     Returns the designs and the rig file as read (None without one).
     """
+    if isinstance(paths, (str, Path, Design)):
+        raise InputError(f"paths: got one {type(paths).__name__}; pass a list of them (or load_design for one)")
     paths = list(paths or [])
     if not paths:
         paths = sorted(models.glob("*.toml"))
         if not paths:
             raise InputError(f"{models}/: no *.toml design files here; pass design files or run from the project folder")
         paths = [p for p in paths if _renderable_here(p)]
-    rig_file = load_rig(rig) if rig else None
-    return [apply_rig(load_design(p), rig_file) for p in paths], rig_file
+    rig_file = as_rig(rig)
+    return [apply_rig(load_design(p, argument=f"paths[{i}]"), rig_file) for i, p in enumerate(paths)], rig_file
 
 
 def _renderable_here(path: Path) -> bool:

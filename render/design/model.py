@@ -122,7 +122,41 @@ class Hum:
 
 @dataclass(frozen=True)
 class Design:
-    """One candidate voicing, validated, in SI units."""
+    """One candidate voicing, validated, in SI units (what :func:`render.load_design` returns).
+
+    The tables are those of the design file (README, "The design file"); every
+    value in them is in SI base units (Ω, F, H, V, m, T).
+
+    Attributes
+    ----------
+    name : str
+        The file's stem (or its ``name``).
+    coil_a, coil_b : Coil
+        The two coils: impedance (H, Ω, F), sensitivity (V per m/s), signal
+        polarity, position and aperture along the string (m), turns area (m²),
+        and their ``geometry`` (a :class:`render.CoilGeometry`, m) when placed in space.
+    input_a, input_b : InputNet
+        Each coil's input network (series C in F, series and load R in Ω); ``input_b`` holds the bias divider (Ω).
+    feedback : Feedback
+        The feedback R (Ω) and C (F, or None).
+    output : Output
+        Coupling C (F), series and shunt R (Ω).
+    supply : Supply
+        Battery (V), the output's margins below and above (V) and its knee (V).
+    rig : Rig
+        What the pickup plays into: controls (Ω, 0..1 rotations, F), cable (m, F/m), amp input (Ω, F).
+    hum : Hum
+        Mains frequency (Hz), the room's field (T), harmonics (relative amplitudes) and hum sources in space.
+    notes : str
+    source : str
+        The file it came from, as given.
+    sha256 : str
+        Of the file's bytes, kept in every record.
+    construction : PickupBuild or None
+        What the pickup is built from, when the file has a ``[construction]``.
+    bias_v, limit_low_v, limit_high_v, headroom_up_v, headroom_down_v : float, V
+        The bias point, the output's linear window and the room to its edges (properties).
+    """
 
     name: str
     coil_a: Coil
@@ -180,7 +214,19 @@ class Design:
 
 @dataclass(frozen=True)
 class RigFile:
-    """A rig file as read: its [rig] (with defaults) and its [hum], if it had one."""
+    """A rig file as read (what :func:`render.load_rig` returns): its [rig] (with defaults) and its [hum], if it had one.
+
+    Attributes
+    ----------
+    rig : Rig
+        Controls (pots in Ω, rotations 0..1, tone cap in F), cable (length in m, capacitance in F/m), amp input (Ω, F).
+    hum : Hum or None
+        Mains frequency (Hz), the room's field (T), harmonics and hum sources; None when the file has no [hum].
+    source : str
+        The file it came from, as given.
+    sha256 : str
+        Of the file's bytes, kept in every record.
+    """
 
     rig: Rig
     hum: Hum | None

@@ -218,12 +218,20 @@ class Note:
 class Phrase:
     """A parsed phrase: the instrument and its notes in time order.
 
-    source : str, the file it came from (used in messages)
-    title, about : str, free text
+    Attributes
+    ----------
+    source : str
+        The file it came from (used in messages).
+    title, about : str
+        Free text.
     instrument : Instrument
-    notes : tuple of Note, sorted by time (chords expanded, one note per string)
-    seconds : float, s, length of the phrase
-    events : int, number of [[note]] and [[chord]] entries as written
+        The strings (tuning, scale length in m, …) the notes are played on.
+    notes : tuple of Note
+        Sorted by time (chords expanded, one note per string).
+    seconds : float, s
+        Length of the phrase.
+    events : int
+        Number of [[note]] and [[chord]] entries as written.
     """
 
     source: str

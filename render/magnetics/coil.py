@@ -85,13 +85,22 @@ def _positive(where: str, name: str, value) -> float:
 class CoilGeometry:
     """One coil's winding on a rectangular bobbin, in SI units (m).
 
-    turns : number of turns, ≥ 1
-    length : outer size of the winding across the strings (along y), m
-    width : outer size along the string (along x), m
-    window_length : the bobbin's opening across the strings, m, < length
-    window_width : the bobbin's opening along the string, m, < width
-    height : winding height along the coil's axis (z), m
-    where : (init only) where the values came from, for error messages
+    Attributes
+    ----------
+    turns : float, ≥ 1
+        Number of turns.
+    length : float, m
+        Outer size of the winding across the strings (along y).
+    width : float, m
+        Outer size along the string (along x).
+    window_length : float, m, < length
+        The bobbin's opening across the strings.
+    window_width : float, m, < width
+        The bobbin's opening along the string.
+    height : float, m
+        Winding height along the coil's axis (z).
+    where : str
+        (init only) where the values came from, for error messages.
     """
 
     turns: float

@@ -83,11 +83,22 @@ def _number(where: str, name: str, value, *, lo: float | None = None) -> float:
 
 @dataclass(frozen=True)
 class DipoleSource:
-    """A point dipole: moment A·m² (peak, fundamental), place ``at`` (m), unit ``axis``.
+    """A point dipole hum source (a transformer, a power supply) in the pickup's frame.
 
-    harmonics : relative amplitudes of harmonics 1, 2, …, or None for the room's profile
-    phase : degrees of the fundamental (harmonic h shifted by h·phase)
-    where : (init only) where the values came from, for error messages
+    Attributes
+    ----------
+    moment : float, A·m²
+        Peak, at the mains fundamental.
+    at : tuple of 3 float, m
+        Its place: x along the strings towards the neck, y across, z up.
+    axis : tuple of 3 float
+        The moment's direction (normalised).
+    harmonics : tuple of float or None
+        Relative amplitudes of harmonics 1, 2, …, or None for the room's profile.
+    phase : float, degrees
+        Of the fundamental (harmonic h shifted by h·phase).
+    where : str
+        (init only) where the values came from, for error messages.
     """
 
     moment: float
@@ -112,9 +123,20 @@ class DipoleSource:
 
 @dataclass(frozen=True)
 class UniformSource:
-    """A uniform field: ``field`` T (peak, fundamental) along a unit ``axis``.
+    """A uniform hum field over the pickup.
 
-    harmonics, phase, where : as :class:`DipoleSource`
+    Attributes
+    ----------
+    field : float, T
+        Peak, at the mains fundamental.
+    axis : tuple of 3 float
+        Its direction (normalised).
+    harmonics : tuple of float or None
+        As :class:`DipoleSource`.
+    phase : float, degrees
+        As :class:`DipoleSource`.
+    where : str
+        (init only) as :class:`DipoleSource`.
     """
 
     field: float

@@ -193,9 +193,16 @@ def map_positions(distances_m, bearings_deg, plane: str) -> np.ndarray:
 class RejectionMap:
     """Rejection of a dipole source (axis along z) against distance and bearing.
 
-    plane : "xy" or "xz"
-    distance_m : shape (D,); bearing_deg : shape (B,); frequency_hz : shape (H,)
-    rejection_db : shape (D, B, H)
+    Attributes
+    ----------
+    plane : str
+        ``"xy"`` or ``"xz"``.
+    distance_m : np.ndarray [shape=(D,)], m
+    bearing_deg : np.ndarray [shape=(B,)], degrees
+    frequency_hz : np.ndarray [shape=(H,)], Hz
+        The mains harmonics.
+    rejection_db : np.ndarray [shape=(D, B, H)], dB
+        Not finite where there is no hum at that harmonic, and at the cap (``REJECTION_CAP_DB``) for an exact cancellation (see :meth:`to_dict`).
     """
 
     plane: str
@@ -298,10 +305,20 @@ def random_sources(trials: int, *, seed: int = 0, shell=DEFAULT_SHELL_M) -> tupl
 class PositionMonteCarlo:
     """Rejection over random dipole places and orientations (optionally with part tolerances).
 
-    frequency_hz : shape (H,); rejection_db : shape (trials, H)
-    places_m, axes : shape (trials, 3)
-    shell_m : (inner, outer) radii; trials, seed
-    tolerances : the part tolerances drawn jointly, or None
+    Attributes
+    ----------
+    frequency_hz : np.ndarray [shape=(H,)], Hz
+        The mains harmonics.
+    rejection_db : np.ndarray [shape=(trials, H)], dB
+    places_m : np.ndarray [shape=(trials, 3)], m
+        Each trial's dipole place.
+    axes : np.ndarray [shape=(trials, 3)]
+        Each trial's moment direction (unit vectors).
+    shell_m : tuple of 2 float, m
+        The inner and outer radii the places are drawn between.
+    trials, seed : int
+    tolerances : dict or None
+        The part tolerances drawn jointly (relative, by part kind), or None.
     """
 
     frequency_hz: np.ndarray

@@ -17,7 +17,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..design import Design, RigFile
+from ..design import Design, RigFile, apply_rig
 from ..errors import InputError
 from ..listening.layout import METHODS, SessionPaths
 from ..listening.loudness import LoudnessMatch
@@ -240,14 +240,14 @@ def build_blind_session(
     Parameters
     ----------
     designs : two Design
-        MODEL_A and MODEL_B, loaded from their files (:func:`render.design.load_designs`),
-        each with ``rig`` applied; the key keeps each file's text and hash.
+        MODEL_A and MODEL_B, loaded from their files (:func:`render.design.load_designs`);
+        the key keeps each file's text and hash.
     dry_path : str, Path or None
         A phrase (.toml) or a recording (default: the demo phrase).
     out : str, Path or None
         The session folder (default: a new ``outputs/blind-<date>-<time>``).
     rig : RigFile or None
-        The rig file applied to both designs, for the key.
+        Play both designs into this rig instead of their own (kept in the key).
     settings : BlindSettings or None
         Trials, method, seed, loudness target and ceiling, length, sample rate, hum (default: the defaults).
     from_di : dict or None
@@ -272,6 +272,7 @@ def build_blind_session(
     from ..listening.loudness import match_loudness
 
     settings = settings if settings is not None else BlindSettings()
+    designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     if len(designs) != 2:
         raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
     folder = session_folder(out, overwrite=overwrite)

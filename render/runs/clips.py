@@ -18,7 +18,7 @@ from typing import Any
 import numpy as np
 
 from ..clip import Clip, RenderSettings
-from ..design import Design, RigFile
+from ..design import Design, RigFile, apply_rig
 from ..dry import Dry
 from .dry_input import dry_for
 
@@ -376,14 +376,14 @@ def run_clips(
     Parameters
     ----------
     designs : sequence of Design
-        Validated, each with its rig applied; their file stems name the outputs.
+        Validated; their file stems name the outputs.
     dry : Path
         A phrase (.toml) or a recorded velocity file, already checked.
     settings : RenderSettings
     out : Path
         The folder (created here; refused beforehand by the caller if it holds files).
     rig : RigFile or None
-        The rig file applied to every design, for the records.
+        Play every design into this rig instead of its own (kept in the records).
     jobs : int
         Worker processes (results are byte-identical to one).
     plots : bool
@@ -406,6 +406,7 @@ def run_clips(
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
     from ..report.records import clip_record
 
+    designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup
     stems = [Path(d.source).stem for d in designs]
     rig_record = _rig_record(rig)

@@ -2,8 +2,9 @@
 
 Writes the ``top`` best complete design files (``<stem>-fit-1.toml``, …, the
 start file with the changed values replaced and marked), ``fit.json`` and an
-overlay of the start's and the results' responses; optionally renders clips of
-them all (:func:`render.runs.clips.run_clips`).
+overlay of the start's and the results' responses; :func:`fit_and_render`
+then renders clips of them all (:func:`render.runs.clips.run_clips`) and builds a
+blind session of the start against the best (:func:`render.runs.blind.build_blind_session`).
 """
 
 from __future__ import annotations
@@ -18,8 +19,12 @@ import numpy as np
 from ..errors import InputError
 
 if TYPE_CHECKING:
+    from collections.abc import Callable
+
     from ..analysis.fit import FitSpec
     from ..design import Design
+    from .blind import BlindSession
+    from .clips import ClipsRun
 
 
 @dataclass(frozen=True)
@@ -70,8 +75,8 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
         The folder (refused beforehand by the caller if it holds files).
     start_path : str or Path or None
         The start design, instead of the fit file's ``from``.
-    rig : str or Path or None
-        A rig file for the start and every result.
+    rig : RigFile or str or Path or None
+        The rig (a rig file's path, or one loaded) for the start and every result.
     top : int
         How many results to write.
     seed : int
@@ -87,7 +92,8 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     """
     from ..analysis.figures import figures
     from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit
-    from ..design import apply_rig, design_provenance, load_design, load_rig, parse_design
+    from ..design import apply_rig, design_provenance, load_design, parse_design
+    from ..design.loading import as_rig
     from ..io.atomic import write_json, write_text
     from ..io.folders import make_folder, run_folder
     from ..io.toml import loads
@@ -95,7 +101,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     fitfile = Path(fitfile)
     spec = load_fit(fitfile, start_override=start_path)
     start_file = start_file_of(spec, fitfile)
-    rig_file = load_rig(rig) if rig else None
+    rig_file = as_rig(rig)
     start = apply_rig(load_design(start_file), rig_file)
     from .fit_phrase import phrase_for_fit
 
@@ -142,3 +148,124 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
 
         fit_plot(Path(out) / "fit-responses.png", [start] + [apply_rig(load_design(p), rig_file) for p in written], title=f"render fit: {fitfile.name}")
         return FitRun(spec=spec, start=start, start_file=start_file, start_figures=start_fig, start_values=start_vals, results=tuple(results), files=tuple(written), folder=Path(out))
+
+
+@dataclass(frozen=True)
+class FitAndRender:
+    """What :func:`fit_and_render` found, wrote and rendered.
+
+    Attributes
+    ----------
+    fit : FitRun
+        The fit and the design files it wrote into the folder.
+    clips : ClipsRun or None
+        Clips of the start and every result, in ``<folder>/clips`` (None when not asked for).
+    blind : BlindSession or None
+        A blind session of the start against result 1, in ``<folder>/blind`` (None when not asked for).
+    folder : Path
+    """
+
+    fit: FitRun
+    clips: ClipsRun | None
+    blind: BlindSession | None
+    folder: Path
+
+
+def _no_progress(total: int) -> contextlib.AbstractContextManager:
+    return contextlib.nullcontext(None)
+
+
+def fit_and_render(
+    fitfile,
+    *,
+    out=None,
+    start_path=None,
+    rig=None,
+    top: int = 3,
+    seed: int = 0,
+    clips: bool = True,
+    blind: bool = False,
+    overwrite: bool = False,
+    jobs: int | None = None,
+    progress: Callable[[int], contextlib.AbstractContextManager] = _no_progress,
+    on_step: Callable[[object], None] | None = None,
+) -> FitAndRender:
+    """Fit (:func:`fit`), then render clips of the start and every result, and build a blind session of the start against result 1.
+
+    What ``render fit --render --blind`` does. The folder stays marked
+    incomplete (``INCOMPLETE.txt``) until the last step is written.
+
+    Parameters
+    ----------
+    fitfile : str or Path
+        The fit file (aims, free parts, start design).
+    out : str or Path or None
+        The folder (default: ``outputs/fit-<fit file stem>``); refused if it holds files, unless ``overwrite``.
+    start_path : str or Path or None
+        The start design's file, instead of the fit file's ``from``.
+    rig : RigFile or str or Path or None
+        The rig for the fit, the clips and the session.
+    top : int
+        How many results to write (and render).
+    seed : int
+        Seed of the global search.
+    clips : bool
+        Render clips of the start and every result into ``<out>/clips``. A
+        ``phrase_headroom_db`` aim's phrase and strength are what they play, so
+        their headroom is the aim's; otherwise the demo phrase.
+    blind : bool
+        Build a blind ABX session (default settings) of the start against result 1 in ``<out>/blind``.
+    overwrite : bool
+        Replace the files of an earlier run in ``out``.
+    jobs : int or None
+        Processes rendering the clips (default: one per design, at most one per core; results identical to one).
+    progress : callable
+        Given the number of designs to render, returns a context manager
+        whose value (a callable taking the number done, or None) follows the clips.
+    on_step : callable or None
+        Called with each step's result as it is written (the :class:`FitRun`,
+        then the :class:`~render.runs.clips.ClipsRun`, then the
+        :class:`~render.runs.blind.BlindSession`), so a caller can report before the next begins.
+
+    Returns
+    -------
+    FitAndRender
+
+    Raises
+    ------
+    InputError
+        As :func:`fit`, and for a folder that cannot take the run.
+    """
+    import os
+
+    from ..clip import RenderSettings
+    from ..design import load_designs
+    from ..design.loading import as_rig
+    from ..dry import check_dry_file
+    from ..io.folders import output_folder, run_folder
+    from .blind import BlindSettings, build_blind_session, session_dry_file, session_folder
+    from .clips import run_clips
+    from .fit_phrase import phrase_file_of
+
+    step = on_step or (lambda _: None)
+    folder = output_folder(out or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
+    rig_file = as_rig(rig)
+    then = clips or blind  # the folder stays marked incomplete until what follows the fit is written
+    with run_folder(folder) if then else contextlib.nullcontext():
+        run = fit(fitfile, out=folder, start_path=start_path, rig=rig_file, top=top, seed=seed, marked=not then)
+        step(run)
+        clips_run = session = None
+        if clips:
+            designs, _ = load_designs([run.start_file, *run.files], rig=rig_file)
+            phrase = phrase_file_of(run.spec, Path(fitfile)) if run.spec.needs_phrase else None
+            dry, settings = check_dry_file(phrase), RenderSettings(strength=run.spec.strength)
+            clips_out = output_folder(folder / "clips", overwrite=overwrite)
+            with progress(len(designs)) as update:
+                clips_run = run_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update)
+            step(clips_run)
+        if blind:
+            designs, _ = load_designs([run.start_file, run.files[0]], rig=rig_file)
+            session_out = session_folder(folder / "blind", overwrite=overwrite)
+            session = build_blind_session(designs, session_dry_file(None), out=session_out, rig=rig_file, settings=BlindSettings(), overwrite=overwrite)
+            step(session)
+    return FitAndRender(fit=run, clips=clips_run, blind=session, folder=folder)

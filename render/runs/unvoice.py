@@ -37,7 +37,21 @@ WAV_HEADER = 64  # bytes, at least, of render.io.wav's float WAV header (RIFF, f
 
 @dataclass(frozen=True)
 class UnvoiceResult:
-    """What :func:`unvoice` wrote: paths, the JSON record, the warnings (one line each)."""
+    """What :func:`unvoice` wrote: paths, the JSON record, the warnings (one line each).
+
+    Attributes
+    ----------
+    wav : Path
+        The string-velocity estimate, a float WAV (a sample of 1.0 is ``velocity_scale`` m/s).
+    json : Path
+        Its record, beside it.
+    png : Path or None
+        The spectra plot (None when not asked for).
+    record : dict
+        What the JSON holds: the design, the DI, the inverse's bound and its trusted band (``trusted_band_hz``, Hz), …
+    warnings : tuple of str
+        One line each.
+    """
 
     wav: Path
     json: Path
@@ -106,22 +120,22 @@ def _refuse_silent_passive(design, model_path) -> None:
 
 def unvoice(
     di_path,
-    model_path,
+    design,
     *,
     out,
-    rig_path=None,
+    rig=None,
     volts_full_scale: float = VOLTS_FULL_SCALE,
     velocity_scale: float = 1.0,
     max_boost_db: float | None = None,
     overwrite: bool = False,
     plot: bool = True,
 ) -> UnvoiceResult:
-    """Estimate the string velocity behind ``di_path`` (recorded through MODEL's passive reference) and write it.
+    """Estimate the string velocity behind ``di_path`` (recorded through ``design``'s passive reference) and write it.
 
     di_path : mono audio file; a sample of 1.0 is ``volts_full_scale`` V at the amp input
-    model_path : design file whose passive reference made the recording
+    design : the design (its file's path, or a Design) whose passive reference made the recording
     out : the velocity WAV to write (``.wav``); the JSON and plot go beside it
-    rig_path : rig file replacing the design's own [rig], or None
+    rig : the rig (a rig file's path, a RigFile, or None) replacing the design's own [rig]
     velocity_scale : m/s at the velocity WAV's full scale, > 0
     max_boost_db : dB, 0..40, the inverse's boost bound above its 1 kHz level (default 20)
     Raises InputError (one line) before writing anything for bad input or existing files without ``overwrite``.
@@ -130,7 +144,7 @@ def unvoice(
     from ..analysis import unvoice as U
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from ..design import design_to_dict, load_designs
+    from ..design import Design, design_to_dict, load_designs
     from ..io.atomic import atomic_path, json_text
     from ..io.folders import refuse_existing as check_new
     from ..io.hashing import sha256_file
@@ -152,8 +166,8 @@ def unvoice(
     if di.exists() and out.exists() and out.resolve() == di.resolve():
         raise InputError(f"--out={out}: is the DI itself; choose another name")
     sample_rate, frames = _open_di(di)
-    designs, rig = load_designs([model_path], rig=rig_path)
-    design = designs[0]
+    model_path = design.source if isinstance(design, Design) else design
+    (design,), rig = load_designs([design], rig=rig)
     _refuse_silent_passive(design, model_path)
     warnings: list[str] = []
 
@@ -275,7 +289,7 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     if di.suffix.lower() == ".toml":
         raise InputError(f"--dry={di}: is a phrase; --from-di un-voices a recording (WAV, FLAC, ...)")
     with folder_kept_on_success(folder, claim=claim) as made:
-        res = unvoice(di, model_path, out=made / f"{di.stem}-velocity.wav", rig_path=rig, overwrite=overwrite, plot=plot)
+        res = unvoice(di, model_path, out=made / f"{di.stem}-velocity.wav", rig=rig, overwrite=overwrite, plot=plot)
     r = res.record
     band = r["trusted_band_hz"]
     summary = {
