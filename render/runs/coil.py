@@ -130,17 +130,19 @@ class FitResult:
     self_resonance_hz: float | None
 
     def residual_bands(self) -> list[dict]:
-        """Max and rms residual (dB, °) over 20 Hz–20 kHz and per decade within it (bands with no point left out).
+        """Max and rms residual (dB, °) over 20 Hz–20 kHz and per decade within it (bands with no point, or with the whole band's points, left out).
 
         Each band's ``from_hz`` and ``to_hz`` are where the data cover it: a
         sweep that ends at 1 kHz reports "20 Hz – 1 kHz", not the whole band.
         """
         f = self.fit.frequency_hz
         out = []
+        whole = None
         for lo, hi in (BAND_HZ, *RESIDUAL_BANDS):
             m = (f >= lo * (1 - 1e-9)) & (f <= hi * (1 + 1e-9))
-            if not np.any(m):
-                continue
+            if not np.any(m) or (whole is not None and np.array_equal(m, whole)):
+                continue  # no point here, or the same points as the whole band (a sweep within one decade)
+            whole = m if whole is None else whole
             db, deg = self.fit.residual_db[m], self.fit.residual_deg[m]
             out.append(
                 {
