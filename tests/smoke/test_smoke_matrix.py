@@ -172,6 +172,29 @@ def answer_every_trial(session: Path) -> None:
             log.record({"trial": i, "answer": "A", "comment": ""})
 
 
+def watch_problems(design: Path) -> list[str]:
+    """``render watch``'s render and page state for one design, through the library it calls (the command
+    itself serves until stopped; tests/compare/test_watch.py drives it whole): problems as Runner's."""
+    from render.clip import RenderSettings
+    from render.runs.watch import WatchRun
+
+    shown = f"render watch {design}"
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", RuntimeWarning)
+            run = WatchRun([design], settings=RenderSettings(seconds=1.0, sample_rate=16000))
+            lines = run.start().lines
+            state = json.dumps(run.state()[0], allow_nan=False)  # the page's JSON: no NaN or infinity
+    except Exception as exc:  # noqa: BLE001 - every exception is a problem to report, none is expected
+        return [f"{shown}: raised {type(exc).__name__}: {exc}"]
+    problems = [f"{shown}: {line}" for line in lines if line.startswith("Error: ")]
+    if run.problems():
+        problems.append(f"{shown}: the page shows problems {run.problems()}")
+    if NUMBER_WORDS.search(state):
+        problems.append(f"{shown}: the page state holds nan or inf")
+    return problems
+
+
 def coil_a_point(design: Path) -> tuple[str, str]:
     from render.io.toml import loads
 
@@ -201,6 +224,7 @@ def test_every_command_runs_on_the_design(design, tmp_path):
     run("unvoice", DI, design, "--no-plot", "--out", tmp_path / "velocity.wav")
     run("netlist", design, "--out", tmp_path / "design.cir")
     run("sense", design, "--json", tmp_path / "sense.json", *(["--png", tmp_path / "sense.png"] if edge else []))
+    run.problems += watch_problems(design)
     if run("blind", design, REFERENCE, "--seconds", 2, "--trials", 5, "--out", tmp_path / "blind") == 0:
         answer_every_trial(tmp_path / "blind")
         run("score", tmp_path / "blind", "--json", tmp_path / "score.json")
