@@ -99,17 +99,29 @@ def _stop_and_watch(proc, sig, way, survivors=None):
             proc.communicate(timeout=30)
 
 
-def _serving(proc, seconds=60.0) -> bool:
-    """Whether the server printed its first line (``serving … at …``) within ``seconds``: on a loaded
-    machine the import alone can take longer than any fixed pause, and a stop before the server runs
-    is an ordinary interrupted start (exit 1), not the server's end."""
+def _serving_url(proc, seconds=60.0) -> str | None:
+    """The address the server printed on its first line (``serving … at http://…``) within ``seconds``, or None: on a loaded
+    machine the import alone can take longer than any fixed pause, and a stop before the server runs is an ordinary
+    interrupted start (exit 1), not the server's end."""
+    import re
     import threading
 
     first: list[str] = []
     reader = threading.Thread(target=lambda: first.append(proc.stdout.readline()), daemon=True)
     reader.start()
     reader.join(seconds)
-    return bool(first) and first[0].startswith("serving ") and proc.poll() is None
+    found = re.search(r"http://127\.0\.0\.1:\d+/", first[0]) if first and proc.poll() is None else None
+    return found.group(0) if found else None
+
+
+def _answer(url: str, answer: dict) -> None:
+    """POST one answer as the listening page does (same-origin)."""
+    import json
+    import urllib.request
+
+    req = urllib.request.Request(url + "api/answer", data=json.dumps(answer).encode(), headers={"Content-Type": "application/json", "Origin": url.rstrip("/")}, method="POST")
+    with urllib.request.urlopen(req, timeout=30) as res:
+        assert res.status == 200, res.status
 
 
 def _wait_for(cond, seconds=60.0):
@@ -131,10 +143,11 @@ def _check_folder(out: Path, finished: bool) -> None:
         assert "INCOMPLETE.txt" not in names, names
 
 
-def _expect_code(code, sig):
-    if sig == signal.SIGKILL:
-        return code in (-signal.SIGKILL, 0)
-    return code in (1, 0)  # stopped and reported as Ctrl-C is (exit 1), or finished just before
+def _expect_code(code, sig, finished_early):
+    """A run that finished before the signal exits 0; a killed one by the signal; one stopped by SIGTERM or SIGHUP as Ctrl-C (exit 1)."""
+    if finished_early:
+        return code == 0
+    return code == (-signal.SIGKILL if sig == signal.SIGKILL else 1)
 
 
 RUNS = {
@@ -156,10 +169,10 @@ def test_a_stopped_run_leaves_no_process_and_no_partial_file(tmp_path, command, 
     finished_early = proc.poll() == 0
     left, code, err = _stop_and_watch(proc, sig, way)
     assert not left, f"processes of `render {command}` still alive {GRACE_S} s after {sig.name} to the {way}"
-    assert _expect_code(code, sig), (code, err)
+    assert _expect_code(code, sig, finished_early), (code, err)
     if sig != signal.SIGKILL and code == 1:
         assert "Aborted!" in err and "Traceback" not in err, err
-    _check_folder(out, finished=finished_early or code == 0)
+    _check_folder(out, finished=finished_early)
 
 
 @pytest.mark.parametrize("way", WAYS)
@@ -167,14 +180,21 @@ def test_a_stopped_run_leaves_no_process_and_no_partial_file(tmp_path, command, 
 def test_a_stopped_listening_server_leaves_no_process(make_session, sig, way):
     paths = make_session(method="abx", trials=3)
     proc = _start(["listen", paths.root, "--no-browser", "--port", "0"])
-    assert _serving(proc), "render listen did not start serving within 60 s"
-    time.sleep(0.2)
+    url = _serving_url(proc)
+    assert url, "render listen did not start serving within 60 s"
+    _answer(url, {"trial": 0, "answer": "A", "comment": "before the stop"})  # the answer log holds a line when it stops
     left, code, err = _stop_and_watch(proc, sig, way)
     assert not left, f"`render listen` still alive {GRACE_S} s after {sig.name} to the {way}"
     if sig == signal.SIGKILL:
         assert code == -signal.SIGKILL
     else:
         assert code == 0 and "Traceback" not in err, (code, err)  # the server stops as on Ctrl-C and says so
+    # the log reads whole: every line a whole answer, none torn (render.listening.answers reads it strictly)
+    from render.listening.answers import read_answers
+    from render.listening.layout import load_plan
+
+    assert [a["answer"] for a in read_answers(paths, load_plan(paths))] == ["A"]
+    assert paths.answers.read_bytes().endswith(b"\n")
 
 
 def test_workers_die_with_a_killed_parent(tmp_path):
