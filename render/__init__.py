@@ -82,8 +82,11 @@ _HOME = {
     "BlindSession": "render.runs.blind",
     "score_blind_session": "render.runs.score",
     "SessionScore": "render.runs.score",
+    # a measured coil
+    "fit_coil": "render.runs.coil",
+    "CoilFit": "render.runs.coil",
 }
-_ALIASES = {"render_clips": "run_clips", "hum_tolerances": "monte_carlo", "HumTolerances": "MonteCarlo"}
+_ALIASES = {"render_clips": "run_clips", "hum_tolerances": "monte_carlo", "HumTolerances": "MonteCarlo", "fit_coil": "fit_file", "CoilFit": "FitResult"}
 
 __all__ = sorted(_HOME) + ["__version__"]
 

@@ -47,3 +47,47 @@ def test_the_hum_block_gives_the_figures_its_comments_state():
         row = scope[name].summary()[0]
         assert (med, p5) == (f"{row['median_db']:.1f}", f"{row['p5_db']:.1f}"), name
     assert scope["placed"].coil_a.geometry == scope["d"].coil_a.geometry
+
+
+def _block(name: str) -> str:
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    m = re.search(rf"<!-- python-{name} -->\n```python\n(.*?)```\n<!-- /python-{name} -->", text, re.S)
+    assert m, f"README.md: the python-{name} block"
+    return m.group(1)
+
+
+def test_the_coil_block_prints_what_the_readme_says():
+    # the fit's figures are those `render coil fit` prints for the same file (README, "A measured coil, step by step")
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    expected = re.search(r"<!-- /python-coil -->\n\nprints\n\n```\n(.*?)```", text, re.S).group(1)
+    out = subprocess.run([sys.executable, "-c", _block("coil")], cwd=ROOT, capture_output=True, text=True, timeout=300)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout == expected
+
+
+def test_the_blind_block_builds_a_session_that_scores(tmp_path):
+    # run in a copy of the demo files; the listener's answers are given through the library between the
+    # block's two halves, as the listening page records them
+    import shutil
+
+    from render.listening.answers import AnswerLog
+    from render.listening.layout import SessionPaths, load_plan
+
+    code = _block("blind")
+    before, after = code.split("# ... listen with", 1)
+    shutil.copytree(ROOT / "models", tmp_path / "models")
+    scope: dict = {}
+    cwd = os.getcwd()
+    os.chdir(tmp_path)
+    try:
+        exec(compile(before, "README.md", "exec"), scope)
+        assert len(scope["session"].loudness.gains_db) == 2
+        paths = SessionPaths(tmp_path / "outputs" / "bright-vs-reference")
+        plan = load_plan(paths)
+        with AnswerLog(paths, plan) as log:
+            for i in range(len(plan["trials"])):
+                log.record({"trial": i, "answer": "A", "comment": ""})
+        p = eval(compile(after.split("then:", 1)[1].strip(), "README.md", "eval"), scope)
+    finally:
+        os.chdir(cwd)
+    assert 0.0 <= p <= 1.0

@@ -123,7 +123,18 @@ def csv_text(rec: dict) -> str:
 
 @dataclass(frozen=True)
 class FitResult:
-    """A measurement and the coil model fitted to it (``render coil fit``)."""
+    """A measurement and the coil model fitted to it (``render coil fit``; ``render.CoilFit``).
+
+    Attributes
+    ----------
+    measurement : Measurement
+        The file as read: ``frequency_hz`` (Hz, shape (N,)) and complex ``impedance`` (Ω, shape (N,)).
+    fit : MeasuredCoil
+        The fitted model: ``resistance`` (Ω), ``inductance`` (H, at DC), ``capacitance`` (F), its RL
+        ``ladder``, and the residuals (dB, °) at the measured points.
+    self_resonance_hz : float or None, Hz
+        Where the fitted terminal impedance peaks (None: no peak below 1 MHz).
+    """
 
     measurement: Measurement
     fit: MeasuredCoil
@@ -190,7 +201,19 @@ def read_capacitance(text: str) -> float:
 
 
 def fit_file(path, *, capacitance: float | None = None) -> FitResult:
-    """Read a measurement CSV and fit the coil model to it (the fit is cached by the file's hash); ``capacitance`` (F) holds C."""
+    """Read a measurement CSV and fit the coil model to it (``render.fit_coil``; the fit is cached by the file's hash).
+
+    Parameters
+    ----------
+    path : str or Path
+        A CSV of frequency (Hz), ``|Z|`` (Ω) and phase (°) (README: "Bringing in a measured coil").
+    capacitance : float or None, F
+        Hold C at this value instead of fitting it.
+
+    Returns
+    -------
+    FitResult
+    """
     from ..design.coil_impedance import fit_file as read_and_fit
 
     m, fit = read_and_fit(path, capacitance=capacitance)
