@@ -51,6 +51,8 @@ CASES = [
     ("18 V", "high-rail-18v", dict(ratio=0.4), 10),
     ("without gbw", "studio-reference", dict(ratio=0.3, gbw=None), 10),
     ("slew rate 0.05 V/µs", "studio-reference", dict(ratio=0.45, slew_rate=5e4), 10),
+    # coils from their winding and steel: each an RL ladder (the netlist's L and R elements) inside the loop
+    ("ladder coils", "slipway-steel-blades", dict(ratio=0.3), 10),
 ]
 
 
