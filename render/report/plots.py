@@ -351,10 +351,13 @@ def overlay_png(f, curves, passives) -> bytes:
     return png_bytes(fig)
 
 
-def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False, floor=None):
-    """Simple line plot: ``series`` is a list of (label, y (len(x),), dashed); ``floor``: the y axis stops there when the data go below it."""
+def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False, floor=None, mark=None):
+    """Simple line plot: ``series`` is a list of (label, y (len(x),), dashed); ``floor``: the y axis stops there when the
+    data go below it; ``mark``: (x, label) drawn as a thin vertical line (the design's own setting)."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(7.5, 4.2))
+    if mark is not None:
+        ax.axvline(mark[0], color="#666666", lw=1.2, ls=(0, (1, 2)), label=mark[1], zorder=1)
     for i, (label, y, dashed) in enumerate(series):
         ax.plot(x, y, marker="o", ms=4, color=PALETTE[i % len(PALETTE)], lw=1.6, ls="--" if dashed else STYLES[(i // len(PALETTE)) % len(STYLES)], label=label)
     ax.grid(True, color="#dddddd", linewidth=0.6)
@@ -454,7 +457,13 @@ def bias_plots(out, design, settings_list, rows) -> None:
         xs = [r["ratio"] for r in sel]
         series_h += [(f"up, {v:g} V", [r["headroom_up_v"] for r in sel], False), (f"down, {v:g} V", [r["headroom_down_v"] for r in sel], True)]
         series_d += [(f"H2, {v:g} V", [r["sine"]["h2_db"] for r in sel], False), (f"H3, {v:g} V", [r["sine"]["h3_db"] for r in sel], True)]
-    lines_plot(out / f"{stem}-headroom.png", xs, series_h, xlabel="divider ratio bottom/(top+bottom)", ylabel="headroom (V)", title=f"{design.name}: headroom against the divider", overwrite=True)
+    from ..analysis.bias_labels import own_ratio
+
+    own = own_ratio(design)
+    mark = (own, f"the design's own ratio, {own:.4g}") if min(xs) <= own <= max(xs) else None
+    lines_plot(
+        out / f"{stem}-headroom.png", xs, series_h, xlabel="divider ratio bottom/(top+bottom)", ylabel="headroom (V)", title=f"{design.name}: headroom against the divider", overwrite=True, mark=mark
+    )
     lines_plot(
         out / f"{stem}-harmonics.png",
         xs,
@@ -464,6 +473,7 @@ def bias_plots(out, design, settings_list, rows) -> None:
         title=f"{design.name}: 1 kHz sine harmonics",
         overwrite=True,
         floor=HARMONICS_FLOOR_DB,
+        mark=mark,
     )
     curves = []
     for v in batteries:
