@@ -39,6 +39,7 @@ _HOME = {
     "load_phrase": "render.dry.phrase",
     "Phrase": "render.dry.phrase",
     "InputError": "render.errors",
+    "ArgumentError": "render.errors",
     # what is played
     "Dry": "render.dry",
     "synthesize": "render.dry",

@@ -19,6 +19,36 @@ class InputError(ValueError):
         return text.replace("\r", "\\r").replace("\n", "\\n")
 
 
+class ArgumentError(InputError):
+    """One argument refused: ``argument=value: why`` in Python, ``--option=value: why`` on the command line.
+
+    The library names the Python argument; :func:`render.cli.options.friendly`
+    shows :meth:`for_option` instead, so each user reads the name they typed.
+
+    Parameters
+    ----------
+    argument : str
+        The Python argument (``"ratios"``).
+    value : str
+        The value as shown (already formatted).
+    why : str
+        What is wrong and the fix, as the command line words it.
+    option : str or None
+        The command line's option (default ``--`` and the argument with dashes).
+    python_why : str or None
+        The same for a Python caller, where it differs (an option it names, such as ``--overwrite``).
+    """
+
+    def __init__(self, argument: str, value: object, why: str, *, option: str | None = None, python_why: str | None = None) -> None:
+        self.argument, self.value, self.why = argument, str(value), why
+        self.option = option or "--" + argument.replace("_", "-")
+        super().__init__(f"{argument}={self.value}: {python_why or why}")
+
+    def for_option(self) -> str:
+        """The message as the command line words it."""
+        return str(InputError(f"{self.option}={self.value}: {self.why}"))
+
+
 class PassiveGiven(InputError):
     """A passive pickup's file (``kind = "passive"``) named where a design with a preamp is expected.
 

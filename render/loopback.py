@@ -12,7 +12,7 @@ import socketserver
 from http.server import BaseHTTPRequestHandler, ThreadingHTTPServer
 from urllib.parse import SplitResult, urlsplit
 
-from .errors import InputError
+from .errors import ArgumentError
 
 HOST = "127.0.0.1"
 SOCKET_TIMEOUT_S = 15.0  # an idle or stalled client is dropped after this long
@@ -28,7 +28,7 @@ COMMON_HEADERS = (
 def check_port(port) -> int:
     """``port`` as an int from 0 to 65535 (0: a free one), or the one-line refusal."""
     if not 0 <= int(port) <= 65535:
-        raise InputError(f"--port={port}: must be from 0 to 65535; 0 picks a free port")
+        raise ArgumentError("port", f"{port}", "must be from 0 to 65535; 0 picks a free port")
     return int(port)
 
 
@@ -43,7 +43,7 @@ class LoopbackServer(ThreadingHTTPServer):
         try:
             super().__init__((HOST, check_port(port)), handler)
         except OSError as exc:
-            raise InputError(f"--port={port}: cannot listen on {HOST} ({exc.strerror or exc}); choose another port or 0 for a free one") from None
+            raise ArgumentError("port", f"{port}", f"cannot listen on {HOST} ({exc.strerror or exc}); choose another port or 0 for a free one") from None
         p = self.server_address[1]
         self.allowed_hosts = frozenset({f"{HOST}:{p}", f"localhost:{p}"})
 

@@ -24,7 +24,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from . import units as U
-from .errors import InputError
+from .errors import ArgumentError, InputError
 from .units import SHOWN_CHARS, Kind, QuantityError, parse_quantity, shorten
 
 INF = math.inf
@@ -55,8 +55,9 @@ def unknown(place: str, key: object, choices: Iterable[str], *, what: str = "key
     return InputError(f"{place}: unknown {what} {U.shown(key)}{did_you_mean(str(key), choices, known=known)}")
 
 
-def sample_rate(value: object, *, name: str = "--sample-rate") -> int:
-    """An output sample rate (Hz), a whole number from 8000 to 384000; InputError otherwise."""
+def sample_rate(value: object, *, name: str = "sample_rate") -> int:
+    """An output sample rate (Hz), a whole number from 8000 to 384000; :class:`~render.errors.ArgumentError` naming ``name`` otherwise
+    (``--sample-rate`` on the command line)."""
     import operator
 
     lo, hi = SAMPLE_RATE_RANGE
@@ -65,7 +66,7 @@ def sample_rate(value: object, *, name: str = "--sample-rate") -> int:
     except TypeError:
         rate = None
     if rate is None or not lo <= rate <= hi:
-        raise InputError(f"{name}={value!r}: must be from {lo} to {hi} Hz (a whole number); 48000 is usual")
+        raise ArgumentError(name, repr(value), f"must be from {lo} to {hi} Hz (a whole number); 48000 is usual", option="--sample-rate")
     return rate
 
 

@@ -265,3 +265,18 @@ def test_a_bad_python_argument_is_named_as_in_python_and_the_command_keeps_its_o
         render.noise(REF, temperature_k=0)
     res = CliRunner().invoke(main, ["noise", str(REF), "--temperature", "0"])
     assert res.exit_code == 1 and res.output.startswith("Error: --temperature=0: ")  # the option type refuses it first
+
+
+def test_a_refused_argument_is_named_as_python_names_it_and_the_command_as_it_does(tmp_path):
+    # one refusal, two readers: render.bias_sweep(ratios=…) names its argument, render bias its option
+    from render.errors import ArgumentError
+
+    with pytest.raises(ArgumentError) as caught:
+        render.bias_sweep(render.load_design(REF), ratios=(0.5, 1.2))
+    assert str(caught.value) == "ratios=0.5,1.2: each ratio bottom/(top+bottom) must be from 0.02 to 0.98"
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.5,1.2", "--no-clips"])
+    assert res.exit_code == 1 and res.stderr.strip() == "Error: --ratios=0.5,1.2: each ratio bottom/(top+bottom) must be from 0.02 to 0.98"
+    with pytest.raises(ArgumentError, match=r"^batteries=70: each battery voltage must be from 1.5 V to 60 V$"):
+        render.bias_sweep(render.load_design(REF), batteries=(70,))
+    with pytest.raises(ArgumentError, match=r"^sample_rate=1000: must be from 8000"):
+        render.BlindSettings(sample_rate=1000)

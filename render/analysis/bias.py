@@ -262,7 +262,7 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     -------
     BiasSweep
     """
-    from ..errors import InputError
+    from ..errors import ArgumentError, InputError
     from ..parallel import pmap
 
     if (tops is None) != (bottoms is None):
@@ -271,18 +271,18 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
         if len(tops) != len(bottoms) or any(x < 1 or x > 1e9 for x in [*tops, *bottoms]):
             raise InputError(f"--top={','.join(f'{x:g}' for x in tops)}, --bottom={','.join(f'{x:g}' for x in bottoms)}: need lists of equal length of resistances from 1 Ω to 1 GΩ")
     elif any(not RATIO_RANGE[0] <= r <= RATIO_RANGE[1] for r in ratios):
-        raise InputError(f"--ratios={','.join(f'{r:g}' for r in ratios)}: each ratio bottom/(top+bottom) must be from {RATIO_RANGE[0]:g} to {RATIO_RANGE[1]:g}")
+        raise ArgumentError("ratios", f"{','.join(f'{r:g}' for r in ratios)}", f"each ratio bottom/(top+bottom) must be from {RATIO_RANGE[0]:g} to {RATIO_RANGE[1]:g}")
     if sine_velocity is not None:
         from ..option_checks import number
 
         number("--sine-velocity", sine_velocity, lo=SINE_VELOCITY_RANGE[0], hi=SINE_VELOCITY_RANGE[1], unit="m/s")
     if batteries and any(not 1.5 <= v <= 60 for v in batteries):
-        raise InputError(f"--battery={','.join(f'{v:g}' for v in batteries)}: each battery voltage must be from 1.5 V to 60 V")
+        raise ArgumentError("batteries", f"{','.join(f'{v:g}' for v in batteries)}", "each battery voltage must be from 1.5 V to 60 V", option="--battery")
     settings = sweep(design, ratios=None if tops is not None else list(ratios), tops=tops, bottoms=bottoms, batteries=batteries, keep_load=keep_load, include_own=True)
     for s in settings:
         w = s.design.supply
         if w.battery - w.margin_low - w.margin_high - 2 * w.knee <= 0:
-            raise InputError(f"--battery={s.battery:g}: leaves no room between margin_low + margin_high + 2·knee and the battery; raise it")
+            raise ArgumentError("batteries", f"{s.battery:g}", "leaves no room between margin_low + margin_high + 2·knee and the battery; raise it", option="--battery")
     _refuse_silent(design)
     first = onset(design)
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])

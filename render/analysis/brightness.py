@@ -215,7 +215,7 @@ def reference_index(designs, name: str | None, *, compare=None) -> int | None:
     ``name`` is the passive comparison pickup ``compare`` (``--compare``; its name or file stem)."""
     from pathlib import Path
 
-    from ..errors import InputError
+    from ..errors import ArgumentError
     from ..validate import did_you_mean
 
     if name is None:
@@ -227,4 +227,4 @@ def reference_index(designs, name: str | None, *, compare=None) -> int | None:
         return None
     names = [d.name for d in designs] + ([compare.name] if compare is not None else [])
     what = "no design of this run nor its comparison pickup" if compare is not None else "no design of this run"
-    raise InputError(f"--reference={name!r}: {what} has that name or file stem{did_you_mean(name, names).replace('known keys', 'the designs')}")
+    raise ArgumentError("reference", f"{name!r}", f"{what} has that name or file stem{did_you_mean(name, names).replace('known keys', 'the designs')}")

@@ -9,7 +9,7 @@ from typing import Any, TextIO, cast
 
 import click
 
-from ..errors import InputError, PassiveGiven
+from ..errors import ArgumentError, InputError, PassiveGiven
 from .values import InFile, OutFile
 
 
@@ -22,6 +22,8 @@ def friendly(fn: Callable[..., Any]) -> Callable[..., Any]:
             return fn(*args, **kwargs)
         except PassiveGiven as exc:
             raise click.ClickException(passive_refusal(exc, click.get_current_context())) from None
+        except ArgumentError as exc:  # named as the command line names it
+            raise click.ClickException(exc.for_option()) from None
         except InputError as exc:
             raise click.ClickException(str(exc)) from None
 
@@ -55,8 +57,8 @@ def _sample_rate(ctx: click.Context, param: click.Parameter, value: int) -> int:
 
     try:
         return sample_rate(value)
-    except InputError as exc:
-        raise click.ClickException(str(exc)) from None
+    except ArgumentError as exc:
+        raise click.ClickException(exc.for_option()) from None
 
 
 rig_option = click.option(

@@ -86,18 +86,18 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
     or a ``velocity_scale`` other than 1 (it scales a recording) is refused for it; a recording is
     checked as audio when ``recorded`` (a DI to be un-voiced is not).
     """
-    from ..errors import InputError
+    from ..errors import ArgumentError, InputError
     from .phrase import MAX_SECONDS
 
     dry = Path(path) if path else default_dry_path()
     if not dry.exists():
-        raise InputError(f"--dry={dry}: no such file; give a phrase (.toml) or an audio file")
+        raise ArgumentError("dry_path", f"{dry}", "no such file; give a phrase (.toml) or an audio file", option="--dry")
     if dry.suffix.lower() in PHRASE_SUFFIXES:
         load_phrase(dry)
         if velocity_scale != 1.0:
             raise InputError(f"--velocity-scale={velocity_scale:g} scales a recorded dry file, not the phrase {dry}; pluck a phrase harder or softer with --strength")
         if seconds is not None and seconds > MAX_SECONDS:
-            raise InputError(f"--seconds={seconds:g}: a phrase renders in memory, at most {MAX_SECONDS:g} s; for longer takes use a recording")
+            raise ArgumentError("seconds", f"{seconds:g}", f"a phrase renders in memory, at most {MAX_SECONDS:g} s; for longer takes use a recording")
     elif recorded:
         check_recording(dry)
     return dry

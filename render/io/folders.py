@@ -11,7 +11,7 @@ import time
 from collections.abc import Iterable, Iterator
 from pathlib import Path
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 
 OUTPUTS = Path("outputs")  # where a run's folder goes when none is given
 
@@ -29,7 +29,7 @@ def make_folder(path: str | Path) -> Path:
     try:
         p.mkdir(parents=True, exist_ok=True)
     except OSError as e:
-        raise InputError(f"--out={p}: cannot create it ({e.strerror}); choose another folder") from None
+        raise ArgumentError("out", f"{p}", f"cannot create it ({e.strerror}); choose another folder") from None
     return p
 
 
@@ -81,9 +81,14 @@ def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = 
         return new_run_folder(OUTPUTS, prefix)
     out = Path(out_dir)
     if out.exists() and not out.is_dir():
-        raise InputError(f"--out={out}: is a file; give a folder")
+        raise ArgumentError("out", f"{out}", "is a file; give a folder")
     if out.exists() and any(out.iterdir()) and not overwrite:
-        raise InputError(f"--out={out}: folder exists and is not empty; pass --overwrite to replace its files or choose another folder")
+        raise ArgumentError(
+            "out",
+            f"{out}",
+            "folder exists and is not empty; pass --overwrite to replace its files or choose another folder",
+            python_why="folder exists and is not empty; pass overwrite=True to replace its files or choose another folder",
+        )
     return out
 
 

@@ -32,7 +32,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 from ..io.atomic import fsync_folder
 from ..io.hashing import sha256_bytes
 from .dither import RECIPE as DITHER_RECIPE
@@ -47,26 +47,33 @@ def check_session_folder(out: str | Path, *, overwrite: bool) -> None:
     out = Path(out)
     if out.exists():
         if not overwrite:
-            raise InputError(f"--out={out}: exists; pass --overwrite to replace that session or choose another folder")
+            raise ArgumentError(
+                "out", f"{out}", "exists; pass --overwrite to replace that session or choose another folder", python_why="exists; pass overwrite=True to replace that session or choose another folder"
+            )
         if not out.is_dir():
-            raise InputError(f"--out={out}: exists and is not a folder; choose another folder")
+            raise ArgumentError("out", f"{out}", "exists and is not a folder; choose another folder")
         if any(out.iterdir()) and not (SessionPaths(out).key.is_file() and SessionPaths(out).plan.is_file()):
-            raise InputError(f"--out={out}: a folder that is neither empty nor a listening session; --overwrite replaces only a session, choose another folder")
+            raise ArgumentError(
+                "out",
+                f"{out}",
+                "a folder that is neither empty nor a listening session; --overwrite replaces only a session, choose another folder",
+                python_why="a folder that is neither empty nor a listening session; overwrite=True replaces only a session, choose another folder",
+            )
     parent = out.parent if str(out.parent) else Path(".")
     # missing parents are made, as for every run folder (render clips, bias, fit): the nearest existing one must take them
     existing = next((p for p in (parent, *parent.parents) if p.exists()), Path("."))
     if not existing.is_dir():
-        raise InputError(f"--out={out}: {existing} is a file, not a folder; choose another folder")
+        raise ArgumentError("out", f"{out}", f"{existing} is a file, not a folder; choose another folder")
     if not os.access(existing, os.W_OK):
-        raise InputError(f"--out={out}: cannot write in {existing}; choose another folder")
+        raise ArgumentError("out", f"{out}", f"cannot write in {existing}; choose another folder")
 
 
 def draw_trials(method: str, trials: int, seed: int) -> list[dict]:
     """Per trial: ``a`` (design playing as A: 0 or 1) and ``x`` (ABX: "A" or "B"; else None)."""
     if method not in METHODS:
-        raise InputError(f"--method={method}: expected one of {', '.join(METHODS)}")
+        raise ArgumentError("method", f"{method}", f"expected one of {', '.join(METHODS)}")
     if not 1 <= trials <= MAX_TRIALS:
-        raise InputError(f"--trials={trials}: must be from 1 to {MAX_TRIALS}; 16 is usual")
+        raise ArgumentError("trials", f"{trials}", f"must be from 1 to {MAX_TRIALS}; 16 is usual")
     rng = np.random.default_rng(seed)
     a = rng.integers(0, 2, size=trials)
     x = rng.integers(0, 2, size=trials) if method == "abx" else None
@@ -205,7 +212,7 @@ def build_session(
         if old is not None and not out.exists():
             os.rename(old, out)
             old = None
-        raise InputError(f"--out={out}: could not write the session ({exc.strerror or exc}); check free space and permissions") from None
+        raise ArgumentError("out", f"{out}", f"could not write the session ({exc.strerror or exc}); check free space and permissions") from None
     finally:
         with contextlib.suppress(FileNotFoundError):
             shutil.rmtree(tmp)

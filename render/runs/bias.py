@@ -7,7 +7,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 from .strength import phrase_at_strength
 
 __all__ = ["BiasClips", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
@@ -41,7 +41,7 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
     if strength_m is None:
         return ()
     if not 0 < strength_m <= 0.05:
-        raise InputError(f"--strength={strength_m * 1e3:g}mm: must be above 0 and at most 50 mm")
+        raise ArgumentError("strength", f"{strength_m * 1e3:g}mm", "must be above 0 and at most 50 mm")
     if dry.suffix.lower() != ".toml":
         raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
     if strength_m < PLAYED_STRENGTH_MIN_M:

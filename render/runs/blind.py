@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..design import Design, RigFile, apply_rig
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 from ..listening.layout import METHODS, SessionPaths
 from ..listening.loudness import LoudnessMatch
 
@@ -74,27 +74,27 @@ class BlindSettings:
 
         trials = _whole(self.trials)
         if trials is None or not 1 <= trials <= MAX_TRIALS:
-            raise InputError(f"--trials={self.trials}: must be from 1 to {MAX_TRIALS}; 16 is usual")
+            raise ArgumentError("trials", f"{self.trials}", f"must be from 1 to {MAX_TRIALS}; 16 is usual")
         if self.method not in METHODS:
-            raise InputError(f"--method={self.method}: expected one of {', '.join(METHODS)}")
+            raise ArgumentError("method", f"{self.method}", f"expected one of {', '.join(METHODS)}")
         lo, hi = TARGET_LUFS_RANGE
         if not (_finite(self.target_lufs) and lo <= self.target_lufs <= hi):
-            raise InputError(f"--target-lufs={_shown(self.target_lufs)}: must be from {lo:g} to {hi:g} LUFS; -23 is EBU R 128")
+            raise ArgumentError("target_lufs", f"{_shown(self.target_lufs)}", f"must be from {lo:g} to {hi:g} LUFS; -23 is EBU R 128")
         lo, hi = TRUE_PEAK_RANGE
         if not (_finite(self.true_peak_dbtp) and lo <= self.true_peak_dbtp <= hi):
-            raise InputError(f"--true-peak-dbtp={_shown(self.true_peak_dbtp)}: must be from {lo:g} to {hi:g} dBTP; -1 is usual")
-        rate = sample_rate(self.sample_rate, name="--sample-rate")
+            raise ArgumentError("true_peak_dbtp", f"{_shown(self.true_peak_dbtp)}", f"must be from {lo:g} to {hi:g} dBTP; -1 is usual")
+        rate = sample_rate(self.sample_rate)
         seed = _whole(self.seed) if self.seed is not None else None
         if self.seed is not None and (seed is None or not 0 <= seed < SEED_LIMIT):
-            raise InputError(f"--seed={self.seed}: must be from 0 to 2**63-1")
+            raise ArgumentError("seed", f"{self.seed}", "must be from 0 to 2**63-1")
         length = None
         if self.seconds is not None:
             try:
                 length = parse_quantity(self.seconds, TIME)
             except QuantityError as exc:
-                raise InputError(f"--seconds={self.seconds}: {exc}") from None
+                raise ArgumentError("seconds", f"{self.seconds}", f"{exc}") from None
             if not MIN_SECONDS <= length <= MAX_SECONDS:
-                raise InputError(f"--seconds={self.seconds}: must be from {MIN_SECONDS:g} s to {MAX_SECONDS:g} s")
+                raise ArgumentError("seconds", f"{self.seconds}", f"must be from {MIN_SECONDS:g} s to {MAX_SECONDS:g} s")
         # the checked values, as plain Python numbers
         for name, value in (
             ("trials", trials),
@@ -191,7 +191,7 @@ def session_dry_file(dry_path: str | Path | None) -> Path:
 
     dry_file = Path(dry_path) if dry_path else default_dry_path()
     if not dry_file.is_file():
-        raise InputError(f"--dry={dry_file}: no such file; pass a phrase (.toml) or a recording")
+        raise ArgumentError("dry_path", f"{dry_file}", "no such file; pass a phrase (.toml) or a recording", option="--dry")
     if dry_file.suffix.lower() != ".toml":
         from ..dry import check_recording
 
@@ -302,7 +302,7 @@ def build_blind_session(
             dry_description = dry.description
         n = dry.velocity.shape[1]
         if n > MAX_SECONDS * fs:
-            raise InputError(f"--dry={dry_file}: plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass --seconds")
+            raise ArgumentError("dry_path", f"{dry_file}", f"plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass --seconds", option="--dry")
         # the bare velocity: the clip's warnings are then the render's own (the dry signal's are kept once, above)
         clip = render_clip(design, dry.velocity, sample_rate=fs, hum=settings.hum)
         warnings.extend(f"{name}: {w}" for w in clip.warnings)

@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 from ..listening.layout import SessionPaths
 
 PLOT_NAME = "response-difference.png"  # in SESSION/results/
@@ -76,7 +76,7 @@ def score_blind_session(session: str | Path, *, png_path: str | Path | None = No
             try:
                 target.parent.mkdir(exist_ok=True)
             except OSError as exc:
-                raise InputError(f"--png={target}: cannot create the folder {target.parent} ({exc.strerror or exc}); choose another path") from None
+                raise ArgumentError("png", f"{target}", f"cannot create the folder {target.parent} ({exc.strerror or exc}); choose another path") from None
             try:
                 designs = designs_from_key(key)
             except InputError as exc:  # a design the key keeps no longer loads here (a measurement moved): the score stands

@@ -25,7 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 
 BLOCK = 1 << 16  # samples per read and write
 MIN_SECONDS = 0.5  # shorter recordings give too few frames for a noise floor (common practice, no source)
@@ -156,15 +156,15 @@ def unvoice(
     vscale = _check_number("--velocity-scale", velocity_scale, 1e-6, 1e3, "m/s at the velocity WAV's full scale")
     out = Path(out)
     if out.suffix.lower() != ".wav":
-        raise InputError(f"--out={out}: must end in .wav (the velocity is written as a float WAV)")
+        raise ArgumentError("out", f"{out}", "must end in .wav (the velocity is written as a float WAV)")
     json_path, png_path = sidecars(out)
     check_new([out, json_path] + ([png_path] if plot else []), overwrite=overwrite)
     di = Path(di_path)
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():
-        raise InputError(f"--out={out}: folder {folder} does not exist; create it first")
+        raise ArgumentError("out", f"{out}", f"folder {folder} does not exist; create it first")
     if di.exists() and out.exists() and out.resolve() == di.resolve():
-        raise InputError(f"--out={out}: is the DI itself; choose another name")
+        raise ArgumentError("out", f"{out}", "is the DI itself; choose another name")
     sample_rate, frames = _open_di(di)
     model_path = design.source if isinstance(design, Design) else design
     (design,), rig = load_designs([design], rig=rig)

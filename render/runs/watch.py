@@ -28,7 +28,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from ..clip import RenderSettings
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 
 if TYPE_CHECKING:
     from ..chain.stream import Resampler
@@ -121,7 +121,7 @@ class WatchRun:
         self.dry_path = check_dry_file(dry, seconds=self.settings.seconds)
         self.rig_path = Path(rig) if rig else None
         if self.rig_path is not None and not self.rig_path.is_file():
-            raise InputError(f"--rig={self.rig_path}: no such file")
+            raise ArgumentError("rig", f"{self.rig_path}", "no such file")
         self.board = Board()
         self._notes = NoteCache()
         self._recorded: dict[tuple, object] = {}

@@ -155,7 +155,7 @@ def test_names_do_not_follow_from_the_seed(make_session):
 def test_an_existing_folder_is_refused_unless_it_is_a_session_and_overwrite_is_given(make_session, tmp_path):
     paths = make_session(trials=2)
     before = paths.key.read_bytes()
-    with pytest.raises(InputError, match=r"^--out=.*: exists; pass --overwrite to replace that session or choose another folder$"):
+    with pytest.raises(InputError, match=r"^out=.*: exists; pass overwrite=True to replace that session or choose another folder$"):
         make_session(trials=2, out=paths.root)
     assert paths.key.read_bytes() == before
     other = tmp_path / "notes"
@@ -185,7 +185,7 @@ def test_an_interrupted_build_leaves_nothing(make_session, tmp_path, monkeypatch
 
     monkeypatch.setattr(build_mod, "_write_new_file", failing)
     out = tmp_path / "s"
-    with pytest.raises(InputError, match=r"^--out=.*: could not write the session \(No space left on device\); check free space and permissions$"):
+    with pytest.raises(InputError, match=r"^out=.*: could not write the session \(No space left on device\); check free space and permissions$"):
         make_session(trials=3, out=out)
     assert not out.exists() and os.listdir(tmp_path) == []
 
