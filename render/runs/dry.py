@@ -7,7 +7,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 
 
 @dataclass(frozen=True)
@@ -60,23 +60,23 @@ def preview_dry(
     from ..dry.phrase import MAX_SECONDS
 
     if seconds is not None and not 0 < seconds <= MAX_SECONDS:  # NaN fails too
-        raise InputError(f"--seconds={seconds:g}s: must be above 0 s and at most {MAX_SECONDS:g} s (a phrase renders in memory)")
+        raise ArgumentError("seconds", f"{seconds:g}s", f"must be above 0 s and at most {MAX_SECONDS:g} s (a phrase renders in memory)")
     if not position > 0:
-        raise InputError(f"--position={position * 1e3:g}mm: must be > 0 (distance from the bridge saddle)")
+        raise ArgumentError("position", f"{position * 1e3:g}mm", "must be > 0 (distance from the bridge saddle)")
     if not aperture >= 0:
-        raise InputError(f"--aperture={aperture * 1e3:g}mm: must be >= 0 (0 is a point)")
+        raise ArgumentError("aperture", f"{aperture * 1e3:g}mm", "must be >= 0 (0 is a point)")
     rate = check_rate(sample_rate)
     png_path = out.with_name(f"{out.stem}-spectrogram.png")
     for target in [out] + ([png_path] if spectrogram else []):
         if target.exists() and not overwrite:
             raise InputError(f"{target}: exists; pass --overwrite to replace it or choose another name")
         if not target.parent.is_dir():
-            raise InputError(f"--out={out}: folder {target.parent} does not exist; create it first")
+            raise ArgumentError("out", f"{out}", f"folder {target.parent} does not exist; create it first")
     p = load_phrase(phrase_path)
     if not position < p.instrument.scale_length:
-        raise InputError(f"--position={position * 1e3:g}mm: must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm")
+        raise ArgumentError("position", f"{position * 1e3:g}mm", f"must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm")
     if not aperture < p.instrument.scale_length / 2:
-        raise InputError(f"--aperture={aperture * 1e3:g}mm: a sensing window must be narrower than half the scale length ({p.instrument.scale_length / 2 * 1e3:g} mm); 0 is a point")
+        raise ArgumentError("aperture", f"{aperture * 1e3:g}mm", f"a sensing window must be narrower than half the scale length ({p.instrument.scale_length / 2 * 1e3:g} mm); 0 is a point")
     v = string_velocity(p, sample_rate=rate, positions=[position], apertures=[aperture], seed=seed, seconds=seconds)[0]
     write_bytes(out, float_wav_bytes(v, rate), overwrite=overwrite)
     if spectrogram:
