@@ -5,7 +5,7 @@ if its centre lies inside) in a uniform field B0 along z, solved by the
 lattice solve of tests/magnetics/lattice.py (render's system, the
 package's FFT operator; equal to render's dense solve to 1e-9 of the largest
 J, checked in tests/magnetics/test_steel.py), for every n from 8 to n_max
-(48 by default, about 12 minutes and 0.4 GB here). Prints per n the cells,
+(48 by default, about 6 minutes and 0.4 GB here). Prints per n the cells,
 the mean J over the closed form J = 3χ/(3 + χ)·B0 (Jackson, Classical
 Electrodynamics, 3rd ed., §5.11) minus one, n times that error, and the wall
 time; then least-squares lines in 1/n (Richardson's extrapolation to zero

@@ -53,7 +53,7 @@ def test_permeable_sphere_at_mu_r_100_converges_to_the_closed_form():
     What fails it: the cells' interaction T scaled by 1.05 in the lattice solve puts the limit at
     −4.7 %; χ scaled by 1.05 in render's solve breaks (1) (6e-4 apart at n = 12; the µr = 2 test
     above fails too), while in the lattice solve it moves the limit by only +0.1 %: at µr = 100 the
-    sphere's J is nearly 3·B0 whatever χ, so this check sees the interaction, not χ. About 10 s here.
+    sphere's J is nearly 3·B0 whatever χ, so this check sees the interaction, not χ. 10–15 s and 0.4 GB here.
     """
     require_material_response()
     from magnetics.lattice import lattice_sphere
