@@ -17,7 +17,10 @@ log s, exactly so for linear sensing), starting from the phrase (s, m) and the
 linear prediction. It stops when |m| ≤ :data:`TOLERANCE_DB`; the strength found
 is then one whose own render has a margin within that tolerance of 0 dB. When
 a render's strings swing past the computed flux range (its flux held at the
-table's edge, so its margin is not the design's), when m stops falling, or
+table's edge, so its margin is not the design's; with the motion kept, the
+strength at which they first would is known without a render,
+:func:`render.dry.construction.range_strength_m`, and the search stays below
+it, so a limit past it costs one render at the edge), when m stops falling, or
 when :data:`MOST_RENDERS` renders do not get there, no strength is claimed:
 the figure is None with its reason, and the linear prediction stays in the
 record as an estimate.
