@@ -28,10 +28,7 @@ def test_the_python_example_prints_what_the_readme_says():
 def test_the_hum_block_gives_the_figures_its_comments_state():
     # the README's "From Python" block under hum sources: run as written, then each figure in its comments
     # (rounded as printed there) against the objects it made
-    text = (ROOT / "README.md").read_text(encoding="utf-8")
-    m = re.search(r"<!-- python-hum -->\n```python\n(.*?)```\n<!-- /python-hum -->", text, re.S)
-    assert m, "README.md: the python-hum block"
-    code = m.group(1)
+    code = _block("hum")
     scope: dict = {}
     cwd = os.getcwd()
     os.chdir(ROOT)

@@ -137,6 +137,7 @@ def rest_reason(design) -> str:
 
 REST_CELL = {"low": "on low limit", "high": "on high limit"}  # table cells
 RESTS = "none: rests on limit"  # a table cell for an onset or a recovery there
+RESTS_PLAYED = "rests on a limit"  # a phrase table's cell for where its limit is reached there
 
 
 def headroom_cell(row: dict, width: tuple[int, int] = (0, 0)) -> str:
@@ -146,12 +147,12 @@ def headroom_cell(row: dict, width: tuple[int, int] = (0, 0)) -> str:
     return f"{row['headroom_up_v']:{width[0]}.2f} / {row['headroom_down_v']:{width[1]}.2f} V"
 
 
-def onset_cell(row: dict, width: tuple[int, int] = (0, 0)) -> str:
-    """A bias row's onset velocities up / down (m/s) as one table cell, in words when the output rests on a limit."""
+def onset_cell(row: dict, width: tuple[int, int] = (0, 0), unit: str = "") -> str:
+    """A bias row's onset velocities up / down (m/s, ``unit`` after them) as one table cell, in words when the output rests on a limit."""
     o = row["onset"]
     if o["velocity_up_m_per_s"] is None:
         return RESTS
-    return f"{o['velocity_up_m_per_s']:{width[0]}.3f} / {o['velocity_down_m_per_s']:{width[1]}.3f}"
+    return f"{o['velocity_up_m_per_s']:{width[0]}.3f} / {o['velocity_down_m_per_s']:{width[1]}.3f}{unit}"
 
 
 def sine_distortion(design, *, velocity_peak: float, frequency_hz: float = SINE_HZ, sample_rate: int = 48000, seconds: float = 0.6, settle: float = 0.35) -> dict:
@@ -207,7 +208,6 @@ def _measure(args: tuple) -> dict:
             U.mark(row["onset"], key, why)
         row["onset"]["first_side"] = None
         for key in ("recovery_offset_v", "recovery_tau_s"):
-            row.pop(f"{key}_reason", None)
             U.mark(row, key, why)
     return row
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from ..analysis.bias import RESTS_PLAYED
 from ..analysis.headroom import GUESS_NOTE, LEFT_RANGE, PlayedHeadroom, format_margin, format_share, format_strength
 
 
@@ -56,7 +57,7 @@ def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom], rests: li
         mm = f"{format_strength(h.strength_at_limit_m('up'), guessed=h.guessed):>8s} / {format_strength(h.strength_at_limit_m('down'), guessed=h.guessed):<8s}"
         db = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
         if rest:
-            mm = db = "rests on a limit"
+            mm = db = RESTS_PLAYED
         lines.append(f"  {label:26s} {mm:>19s}   {db:>19s}   {format_share(h.limited_fraction):>9s}")
     if any(h.guessed for h in played):
         lines.append(f"  {GUESS_NOTE}")

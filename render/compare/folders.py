@@ -175,15 +175,17 @@ def played_cells(headroom: dict) -> tuple[str, str, str]:
 
 def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
     """A bias setting's row and clip as the summary table's cells (:data:`BIAS_COLUMNS`)."""
-    from ..analysis.bias import headroom_cell, onset_cell
+    from ..analysis.bias import RESTS_PLAYED, headroom_cell, onset_cell
 
     q = row["sine"]
-    onset = onset_cell(row)
+    played = played_cells(clip.get("headroom") or {})
+    if row.get("rests_on_limit"):
+        played = (RESTS_PLAYED, RESTS_PLAYED, played[2])
     return (
         f"{row['bias_v']:.2f} V",
         headroom_cell(row),
-        onset if row["onset"]["velocity_up_m_per_s"] is None else f"{onset} m/s",
-        *(played_cells(clip.get("headroom") or {}) if not row.get("rests_on_limit") else ("rests on a limit",) * 2 + played_cells(clip.get("headroom") or {})[2:]),
+        onset_cell(row, unit=" m/s"),
+        *played,
         f"{q['thd_percent']:.2f} %",
         f"{q['h2_db']:.1f} dB",
         f"{q['h3_db']:.1f} dB",
