@@ -87,11 +87,15 @@ from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Ph
 # which the EMF carries, is summed in full (our own bound, no source).
 DISPLACEMENT_MAX_HZ = 4000.0
 
-__all__ = ["Pickup", "bend_offset", "bend_share", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
+__all__ = ["LeftRange", "Pickup", "bend_offset", "bend_share", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
 assert _BLOCK > 0  # the block sums of modal.py are shared as they are
 
 
-LEFT_RANGE_WORDS = "left the computed range"  # in the warning when a string swings past the flux table (render.runs.limit_strength looks for it)
+class LeftRange(str):
+    """A warning that a string swung past the construction's flux table (the flux is held at its edge).
+
+    A ``str`` like every other warning; :mod:`render.runs.limit_strength` tells it apart by its type.
+    """
 
 
 def string_strain(*, core: float, outer: float, frequency: float, scale_length: float) -> float:
@@ -366,8 +370,10 @@ def _add_string_emf(emf: np.ndarray, warnings: list, sensing, j: int, chans: np.
         box = (s.dy[0], s.dy[-1], s.dz[0], s.dz[-1])
         if add_emf(slope_tables(spline.tck), box, chans[c], emf[c], scale=scale, fixed=None if fixed is None else fixed[c], sign=hum_polarity[c]):
             warnings.append(
-                f"string {string}: its displacement at the pickup {LEFT_RANGE_WORDS} "
-                f"({s.dy[0] * 1e3:+.1f}…{s.dy[-1] * 1e3:+.1f} mm sideways, {s.dz[0] * 1e3:+.1f}…{s.dz[-1] * 1e3:+.1f} mm vertically); the flux is held at its edge there"
+                LeftRange(
+                    f"string {string}: its displacement at the pickup left the computed range "
+                    f"({s.dy[0] * 1e3:+.1f}…{s.dy[-1] * 1e3:+.1f} mm sideways, {s.dz[0] * 1e3:+.1f}…{s.dz[-1] * 1e3:+.1f} mm vertically); the flux is held at its edge there"
+                )
             )
 
 

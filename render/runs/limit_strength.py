@@ -88,7 +88,7 @@ def margin_at(design, dry_path: Path, settings, strength_m: float, *, motion=Non
     """
     from ..chain.stream import render_signal
     from ..clip import render_headroom
-    from ..dry.construction import LEFT_RANGE_WORDS
+    from ..dry.construction import LeftRange
     from .dry_input import dry_for
 
     if motion is not None:
@@ -101,7 +101,7 @@ def margin_at(design, dry_path: Path, settings, strength_m: float, *, motion=Non
         dry = dry_for(design, Path(dry_path), replace(settings, strength=strength_m))
         velocity, sample_rate, warnings = dry.velocity, dry.sample_rate, dry.warnings
     if left is not None:
-        left.append(any(LEFT_RANGE_WORDS in w for w in warnings))
+        left.append(any(isinstance(w, LeftRange) for w in warnings))
     r = render_signal(design, velocity, sample_rate=sample_rate, hum=settings.hum)
     return render_headroom(design, r, strongest_pluck_m=strength_m).margin_db
 
