@@ -298,10 +298,10 @@ def ladder_fit_cached(frequency_hz: np.ndarray, impedance: np.ndarray):
 
 def _derived(coil, spec: CoilSpec, design, name: str):
     from ..impedance.construction_core import core_parts, magnet_material, steel_material
-    from ..impedance.inductance import RectangularWinding, winding_inductance
+    from ..impedance.inductance import winding_inductance
 
     g = coil.geometry
-    winding = RectangularWinding(g.turns, g.length, g.width, g.window_length, g.window_width, g.height)
+    winding = g
     bare = _bare(spec.wire)
     outer = spec.wire_outer if spec.wire_outer is not None else bare * WIRE_OUTER_RATIO
     if outer <= bare:

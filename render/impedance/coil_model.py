@@ -23,9 +23,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..circuit.winding import wire_resistance
+from ..magnetics.coil import CoilGeometry
 from .capacitance import ENAMEL_PERMITTIVITY, LayerEstimate, layered_winding_capacitance
 from .eddy import core_impedance, dc_inductance
-from .inductance import RectangularWinding, winding_inductance
+from .inductance import winding_inductance
 from .ladder import FIT_BAND_HZ, LadderFit, fit_ladder
 
 
@@ -55,7 +56,7 @@ class DerivedCoil:
 
 
 def derive_coil(
-    winding: RectangularWinding,
+    winding: CoilGeometry,
     *,
     bare_diameter: float,
     outer_diameter: float,
@@ -68,7 +69,7 @@ def derive_coil(
 
     Parameters
     ----------
-    winding : RectangularWinding
+    winding : CoilGeometry
     bare_diameter, outer_diameter : float, m
         The wire's copper and its insulated diameter.
     parts : sequence of :class:`render.impedance.eddy.CorePart`

@@ -61,68 +61,15 @@ here); :mod:`render.impedance.eddy` gives the core's frequency dependence.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 from scipy.constants import mu_0
 from scipy.special import ellipe, ellipk
 
 from ..errors import InputError
+from ..magnetics.coil import CoilGeometry
 
 _MU0_4PI = mu_0 / (4.0 * math.pi)
-
-
-@dataclass(frozen=True)
-class RectangularWinding:
-    """A winding filling the rectangular ring between a window and an outline.
-
-    Attributes
-    ----------
-    turns : float, > 0
-    length : float, m
-        Outer size across the strings (the long side).
-    width : float, m
-        Outer size along the string.
-    window_length, window_width : float, m
-        The bobbin's opening, each smaller than the matching outer size.
-    height : float, m, > 0
-        Winding height along the coil's axis.
-    """
-
-    turns: float
-    length: float
-    width: float
-    window_length: float
-    window_width: float
-    height: float
-
-    def __post_init__(self):
-        for name in ("turns", "length", "width", "height"):
-            if not getattr(self, name) > 0:
-                raise InputError(f"{name}={getattr(self, name)!r}: must be > 0; give the winding's {name}")
-        for name in ("window_length", "window_width"):
-            if not getattr(self, name) >= 0:
-                raise InputError(f"{name}={getattr(self, name)!r}: must be ≥ 0; give the bobbin's opening")
-        if not (self.window_length < self.length and self.window_width < self.width):
-            raise InputError(
-                f"window {self.window_length!r} × {self.window_width!r} m does not fit inside the outline "
-                f"{self.length!r} × {self.width!r} m: the window must be smaller than the outer size in both directions"
-            )
-
-    @property
-    def depth_length(self) -> float:
-        """m: winding depth (build) of the ends, (length − window_length)/2."""
-        return (self.length - self.window_length) / 2.0
-
-    @property
-    def depth_width(self) -> float:
-        """m: winding depth (build) of the long sides, (width − window_width)/2."""
-        return (self.width - self.window_width) / 2.0
-
-    @property
-    def mean_turn(self) -> float:
-        """m: the perimeter of the turn at half depth (sharp corners)."""
-        return (self.length + self.window_length) + (self.width + self.window_width)
 
 
 def _g(u, d):
@@ -242,7 +189,7 @@ def cell_gmd(x, z, a: float, b: float, *, near: int = 2):
     return np.exp(ln_g)
 
 
-def default_grid(winding: RectangularWinding) -> tuple[int, int]:
+def default_grid(winding: CoilGeometry) -> tuple[int, int]:
     """(layers, slices): cells about a twelfth of the smaller of depth and height, at least 8 × 8."""
     depth = min(winding.depth_length, winding.depth_width)
     cell = min(depth, winding.height) / 12.0
@@ -251,12 +198,12 @@ def default_grid(winding: RectangularWinding) -> tuple[int, int]:
     return layers, slices
 
 
-def winding_inductance(winding: RectangularWinding, *, layers: int | None = None, slices: int | None = None) -> float:
+def winding_inductance(winding: CoilGeometry, *, layers: int | None = None, slices: int | None = None) -> float:
     """Air-core inductance (H) of a rectangular multilayer winding, eq. (1).
 
     Parameters
     ----------
-    winding : RectangularWinding
+    winding : CoilGeometry
     layers, slices : int, optional
         Cells across the depth and along the height (default :func:`default_grid`).
     """
@@ -279,13 +226,6 @@ def winding_inductance(winding: RectangularWinding, *, layers: int | None = None
     total = float(np.sum(2.0 * (m_y + m_x) * _toeplitz_counts(slices)[None, None, :]))
     share = winding.turns / (layers * slices)
     return share * share * total
-
-
-def turns_area(winding: RectangularWinding, *, layers: int = 64) -> float:
-    """m²: the sum of the turns' areas (sharp-cornered rectangles), N·mean over the depth."""
-    u = (np.arange(layers) + 0.5) / layers
-    area = (winding.window_width + 2 * u * winding.depth_width) * (winding.window_length + 2 * u * winding.depth_length)
-    return float(winding.turns * area.mean())
 
 
 # ----------------------------------------------------------------------------

@@ -94,6 +94,8 @@ class Rod:
             (the transverse-only model of a single-pole charge model, for comparisons)
         """
         x = np.asarray(x, float)
+        if x.ndim != 1 or x.size < 2:
+            raise ValueError(f"a rod needs at least two samples along x (uniformly spaced), not shape {x.shape}")
         if not longitudinal:
             return cls(x=x, area=area, chi=chi, response=np.zeros((x.size, x.size)))
         h = x[1] - x[0]

@@ -152,10 +152,10 @@ def field_solve_seconds() -> float:
     from render.circuit.winding import awg_diameter
     from render.impedance.coil_model import derive_coil
     from render.impedance.eddy import CorePart, prism_demagnetising_factor
-    from render.impedance.inductance import RectangularWinding
     from render.impedance.materials import STEEL
+    from render.magnetics.coil import CoilGeometry
 
-    winding = RectangularWinding(5000, 0.068, 0.013, 0.058, 0.003, 0.009)  # an invented humbucker coil
+    winding = CoilGeometry(5000, 0.068, 0.013, 0.058, 0.003, 0.009)  # an invented humbucker coil
     dia = awg_diameter(42)
     part = CorePart("slab", 3e-3, STEEL, fill=0.3, demagnetising_factor=prism_demagnetising_factor(0.003, 0.060, 0.009))
     derive_coil(winding, bare_diameter=dia, outer_diameter=1.12 * dia, parts=[part])  # warm

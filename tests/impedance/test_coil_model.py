@@ -6,10 +6,11 @@ import pytest
 from render.circuit.winding import awg_diameter
 from render.impedance.coil_model import derive_coil
 from render.impedance.eddy import CorePart, apparent_permeability, prism_demagnetising_factor
-from render.impedance.inductance import RectangularWinding, winding_inductance
+from render.impedance.inductance import winding_inductance
 from render.impedance.materials import STEEL
+from render.magnetics.coil import CoilGeometry
 
-W = RectangularWinding(5000, 0.068, 0.013, 0.058, 0.003, 0.009)  # invented pickup winding
+W = CoilGeometry(5000, 0.068, 0.013, 0.058, 0.003, 0.009)  # invented pickup winding
 D = awg_diameter(42)  # ASTM B258
 
 

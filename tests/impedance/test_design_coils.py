@@ -40,14 +40,15 @@ def test_air_core_coil_from_wire_and_geometry():
     # winding (render.impedance.inductance, checked against Grover's and Rosa's formulas there), R_dc
     # is IEC 60028's annealed copper (0.017241 Ω·mm²/m at 20 °C) over turns × mean turn, and the
     # bare diameter of AWG 42 is ASTM B258's 0.005 in × 92^(−6/39)
-    from render.impedance.inductance import RectangularWinding, winding_inductance
+    from render.impedance.inductance import winding_inductance
+    from render.magnetics.coil import CoilGeometry
 
     d = parse_design(_doc(wire=42, geometry=GEOMETRY), source="<test>")
     c = d.coil_a
     bare = 0.005 * 0.0254 * 92 ** (-6 / 39)
     length = 5000 * (0.068 + 0.058 + 0.013 + 0.003)
     assert c.resistance == pytest.approx(0.017241e-6 * length / (math.pi * bare**2 / 4), rel=1e-12)
-    assert c.inductance == pytest.approx(winding_inductance(RectangularWinding(5000, 0.068, 0.013, 0.058, 0.003, 0.009)), rel=1e-9)
+    assert c.inductance == pytest.approx(winding_inductance(CoilGeometry(5000, 0.068, 0.013, 0.058, 0.003, 0.009)), rel=1e-9)
     assert c.impedance_from.core == "air" and c.ladder.inductances == ()
     assert 10e-12 < c.capacitance < 1e-9
 

@@ -11,7 +11,6 @@ from scipy.special import ellipe, ellipk
 
 from render.errors import InputError
 from render.impedance.inductance import (
-    RectangularWinding,
     cell_gmd,
     circles_mutual,
     circular_loop_inductance,
@@ -20,11 +19,11 @@ from render.impedance.inductance import (
     rectangle_loop_inductance,
     rectangles_mutual,
     round_winding_inductance,
-    turns_area,
     winding_inductance,
 )
+from render.magnetics.coil import CoilGeometry
 
-PICKUP = RectangularWinding(turns=5000, length=0.068, width=0.013, window_length=0.058, window_width=0.003, height=0.009)  # invented
+PICKUP = CoilGeometry(turns=5000, length=0.068, width=0.013, window_length=0.058, window_width=0.003, height=0.009)  # invented
 
 
 def test_equal_parallel_filaments_closed_form():
@@ -136,7 +135,7 @@ def test_rectangular_coil_against_grover_table(c, tol):
     # order c/a (the corners): the gap is 7.5e-4 at c/a = 1/80 and halves with c, which the
     # second case checks, so the agreement is the table's and not a coincidence of one size
     a, b, n = 0.02, 0.04, 100
-    coil = RectangularWinding(n, a + c, b + c, a - c, b - c, c)
+    coil = CoilGeometry(n, a + c, b + c, a - c, b - c, c)
     expected = _grover_table_rectangle(a, b, 0.44705 * c, turns=n)
     assert winding_inductance(coil) == pytest.approx(expected, rel=tol)
 
@@ -177,7 +176,7 @@ def test_rectangular_current_sheet_against_quadrature():
     # a single-layer coil on a rectangular former: the cell sum against Neumann's integral
     # over the current sheet evaluated by adaptive quadrature (scipy.integrate.quad)
     p, q, length, n = 0.005, 0.012, 0.02, 200
-    sheet = RectangularWinding(n, 2 * q + 1e-9, 2 * p + 1e-9, 2 * q, 2 * p, length)
+    sheet = CoilGeometry(n, 2 * q + 1e-9, 2 * p + 1e-9, 2 * q, 2 * p, length)
     expected = (n / length) ** 2 * _sheet_quadrature(p, q, p, q, length)
     assert winding_inductance(sheet, layers=1, slices=400) == pytest.approx(expected, rel=1e-4)
 
@@ -185,7 +184,7 @@ def test_rectangular_current_sheet_against_quadrature():
 def test_rectangular_multilayer_against_quadrature():
     # the same integral over the winding's depth too, by 32-point Gauss–Legendre in each layer
     # coordinate (its diagonal log singularity limits it to about 0.05 %)
-    w = RectangularWinding(1000, 0.030, 0.012, 0.020, 0.004, 0.008)
+    w = CoilGeometry(1000, 0.030, 0.012, 0.020, 0.004, 0.008)
     x, wt = np.polynomial.legendre.leggauss(32)
     u, wt = (x + 1) / 2, wt / 2
     p = w.window_width / 2 + u * w.depth_width
@@ -210,22 +209,24 @@ def test_default_grid_is_converged():
 def test_inductance_scales_as_turns_squared_and_size():
     # Neumann's integral: L ∝ N² at fixed geometry, and L ∝ size at fixed N (scale invariance of 1/r)
     base = winding_inductance(PICKUP)
-    double_n = RectangularWinding(2 * PICKUP.turns, PICKUP.length, PICKUP.width, PICKUP.window_length, PICKUP.window_width, PICKUP.height)
+    double_n = CoilGeometry(2 * PICKUP.turns, PICKUP.length, PICKUP.width, PICKUP.window_length, PICKUP.window_width, PICKUP.height)
     assert winding_inductance(double_n) == pytest.approx(4 * base, rel=1e-12)
-    big = RectangularWinding(PICKUP.turns, *(2 * v for v in (PICKUP.length, PICKUP.width, PICKUP.window_length, PICKUP.window_width, PICKUP.height)))
+    big = CoilGeometry(PICKUP.turns, *(2 * v for v in (PICKUP.length, PICKUP.width, PICKUP.window_length, PICKUP.window_width, PICKUP.height)))
     assert winding_inductance(big) == pytest.approx(2 * base, rel=1e-9)
 
 
 def test_turns_area_of_the_ring():
-    # mean of (window + 2u·depth) products over the depth: exact for the bilinear area
-    a = turns_area(PICKUP)
+    # the closed form against the mean of (window + 2u·depth) products over the depth by scipy's quad
+    a = PICKUP.turns_area
+    mean, _ = quad(lambda u: (PICKUP.window_width + 2 * u * PICKUP.depth_width) * (PICKUP.window_length + 2 * u * PICKUP.depth_length), 0, 1)
+    assert a == pytest.approx(PICKUP.turns * mean, rel=1e-12)
     dw, dl = PICKUP.depth_width, PICKUP.depth_length
     ww, wl = PICKUP.window_width, PICKUP.window_length
     exact = PICKUP.turns * (ww * wl + (ww * dl + wl * dw) + 4 * dw * dl / 3)
-    assert a == pytest.approx(exact, rel=1e-4)
+    assert a == pytest.approx(exact, rel=1e-12)
 
 
 def test_bad_geometry_is_refused_in_one_line():
     with pytest.raises(InputError) as e:
-        RectangularWinding(1000, 0.05, 0.01, 0.06, 0.003, 0.009)
+        CoilGeometry(1000, 0.05, 0.01, 0.06, 0.003, 0.009)
     assert "\n" not in str(e.value) and "window" in str(e.value)

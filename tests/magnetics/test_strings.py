@@ -152,3 +152,9 @@ def test_distortion_follows_amplitude_more_than_rest_distance():
     by_amp = [h2(a, 3 * MM) for a in (0.25 * MM, 0.5 * MM, 1 * MM)]
     assert all(5.0 < b - a < 7.0 for a, b in zip(by_amp, by_amp[1:]))
     assert abs(h2(0.5 * MM, 2 * MM) - h2(0.5 * MM, 5 * MM)) < 3.0
+
+
+def test_a_rod_of_one_sample_is_refused_in_words():
+    # a rod's step is the spacing of its samples: one sample has none (a clear error, not an IndexError)
+    with pytest.raises(ValueError, match="at least two samples"):
+        Rod.build(np.zeros(1), area=1e-7, chi=99.0)
