@@ -267,8 +267,14 @@ class MonteCarlo:
     trials : int
     seed : int
     sensitivity : list of (str, float or str)
-        dB of rejection at the fundamental per +1 % on each part alone, largest first (a reason in words
-        where the change has no finite size)
+        dB of rejection at harmonic ``sensitivity_at`` per +1 % on each part alone, largest first (a
+        reason in words where the change has no finite size)
+    absent : tuple of (str or None), one per harmonic
+        Why a harmonic has no hum in the design's room (:func:`absent_harmonics`), None where it has some:
+        its rejection has no value in any draw, and :meth:`summary` gives the reason.
+    sensitivity_at : int or None
+        Index of the harmonic ``sensitivity`` (and ``render hum --histogram``) refer to: the lowest with
+        hum, the fundamental unless it has none; None where no harmonic has hum (``sensitivity`` is empty).
     """
 
     frequency_hz: np.ndarray  # (H,)
@@ -276,7 +282,9 @@ class MonteCarlo:
     tolerances: dict
     trials: int
     seed: int
-    sensitivity: list  # [(label, dB per +1 % at the fundamental, or the reason in words)], largest first
+    sensitivity: list  # [(label, dB per +1 % at harmonic sensitivity_at, or the reason in words)], largest first
+    absent: tuple = ()
+    sensitivity_at: int | None = 0
 
     def as_dict(self) -> dict:
         """The JSON layout of ``render hum --json``'s ``monte_carlo``."""
@@ -286,6 +294,7 @@ class MonteCarlo:
             "tolerances": self.tolerances,
             "distribution": "uniform within ± the tolerance",
             "harmonics": self.summary(),
+            "sensitivity_frequency_hz": None if self.sensitivity_at is None else float(self.frequency_hz[self.sensitivity_at]),
             "sensitivity_db_per_percent": [sensitivity_record(k, v) for k, v in self.sensitivity],
         }
 
@@ -295,10 +304,13 @@ class MonteCarlo:
         from .undefined import REJECTION_CAP_DB
 
         rows = []
+        absent = self.absent or (None,) * len(self.frequency_hz)
         for i, f in enumerate(self.frequency_hz):
             row: dict = {"harmonic": i + 1, "frequency_hz": float(f)}
             for key, value in (("median_db", np.median(self.rejection_db[:, i])), ("p5_db", np.percentile(self.rejection_db[:, i], 5))):
-                if value >= REJECTION_CAP_DB:
+                if absent[i] is not None or np.isnan(value):  # no hum in the room at this harmonic: 0/0 in every draw
+                    U.mark(row, key, absent[i] or U.NO_LINKAGE)
+                elif value >= REJECTION_CAP_DB:
                     U.mark(row, key, U.HUM_CANCELS)
                 else:
                     U.put(row, key, value, U.HUM_CANCELS)
@@ -349,11 +361,35 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     from ..parallel import pmap
 
     out = np.concatenate(pmap(_mc_chunk, tasks, jobs), axis=0)
-    return MonteCarlo(f, out, tol, trials, seed, sensitivities(design, f[:1]))
+    absent = absent_harmonics(design)
+    at = next((i for i, why in enumerate(absent) if why is None), None)
+    sens = [] if at is None else sensitivities(design, f, harmonic=at)
+    return MonteCarlo(f, out, tol, trials, seed, sens, absent=absent, sensitivity_at=at)
 
 
-def sensitivities(design, frequency_hz) -> list[tuple[str, float | str]]:
-    """Change of rejection (dB) at ``frequency_hz[0]`` for +1 % on each part alone, largest first.
+def absent_harmonics(design) -> tuple[str | None, ...]:
+    """Per mains harmonic of ``design``'s room, why it has no hum (in words), or None where it has some.
+
+    Without sources: the field's harmonic is zero (:data:`~render.analysis.undefined.NO_FIELD`). With
+    ``[[hum.source]]`` tables: no source's EMF reaches either coil at it (``NO_LINKAGE``), for a source
+    whose profile lacks it or one that links neither coil. A harmonic whose hum the coils cancel exactly
+    is not absent: its hum exists in each coil.
+    """
+    from . import undefined as U
+
+    if not design.hum.sources:
+        _, dbdt = field_derivative(design.hum)
+        return tuple(U.NO_FIELD if d == 0 else None for d in dbdt)
+    from ..magnetics.pickup import design_emf
+
+    e = design_emf(design).total  # (2, H)
+    return tuple(U.NO_LINKAGE if e[0, i] == 0 and e[1, i] == 0 else None for i in range(e.shape[1]))
+
+
+def sensitivities(design, frequency_hz, *, harmonic: int = 0) -> list[tuple[str, float | str]]:
+    """Change of rejection (dB) at ``frequency_hz[harmonic]`` for +1 % on each part alone, largest first.
+
+    ``frequency_hz`` are the room's mains harmonics in order (a source's EMF is taken at the same index).
 
     Where the design or the changed one cancels its hum exactly, the change
     has no finite size: its entry is the reason in words
@@ -367,7 +403,7 @@ def sensitivities(design, frequency_hz) -> list[tuple[str, float | str]]:
     labels = [label for label, _ in part_labels(design)]
     n = len(labels) + 1
     factors = {label: np.where(np.arange(n) == i + 1, 1.01, 1.0) for i, label in enumerate(labels)}
-    r = _design_rejection(design, factors, n, np.asarray(frequency_hz, float))[:, 0]
+    r = _design_rejection(design, factors, n, np.asarray(frequency_hz, float))[:, harmonic]
     exact = r >= REJECTION_CAP_DB
     rows: list[tuple[str, float | str]] = []
     for i, label in enumerate(labels):

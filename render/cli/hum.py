@@ -26,7 +26,7 @@ from .values import InFile, OutFile, OutFolder, Seed
 @json_option("Write per-harmonic figures (and the Monte Carlo) as JSON to FILE ('-' for standard output).")
 @click.option("--png", "png_path", type=OutFile("hum.png"), help="Plot rejection against frequency, mains harmonics marked (all MODELS overlaid).")
 @click.option("--out", "out_dir", type=OutFolder(), default=None, help="Also render hum-only WAVs (the design, and each coil alone) and measure the rejection from them, into this folder.")
-@click.option("--histogram", "hist_path", type=OutFile("histogram.png"), help="With a Monte Carlo: histogram of the rejection at the fundamental.")
+@click.option("--histogram", "hist_path", type=OutFile("histogram.png"), help="With a Monte Carlo: histogram of the rejection at the fundamental (or the lowest harmonic with hum).")
 @map_options
 @click.option("--positions", type=click.IntRange(min=10, max=1_000_000), default=None, help="Monte Carlo over N random dipole sources: places uniform in a shell, axes uniform.")
 @click.option("--shell", nargs=2, default=None, metavar="INNER OUTER", help="The random sources' shell, e.g. 0.3m 2m (the default).")
@@ -115,9 +115,9 @@ def hum_command(
                 if show:
                     print_monte_carlo(mc)
                 if hist_path and i == 0:
-                    from ..report.plots import histogram_plot
+                    from ..runs.hum import write_histogram
 
-                    histogram_plot(hist_path, mc.rejection_db[:, 0], xlabel=f"hum rejection at {mc.frequency_hz[0]:g} Hz (dB)", title=f"{d.name}: {trials} trials", overwrite=overwrite)
+                    write_histogram(hist_path, mc, name=d.name, overwrite=overwrite)
             room(
                 rec,
                 d,

@@ -79,13 +79,17 @@ def print_monte_carlo(mc):
     click.echo(f"  Monte Carlo: {mc.trials} trials (seed {mc.seed}; {pct})")
     _quantiles(mc.summary())
     top = mc.sensitivity[:4]
+    if mc.sensitivity_at is None:
+        click.echo("    most sensitive: not computed: no harmonic has hum in this room")
+        return
+    at = "at the fundamental" if mc.sensitivity_at == 0 else f"at {mc.frequency_hz[mc.sensitivity_at]:g} Hz, the lowest harmonic with hum"
     if top and all(isinstance(v, str) and "with +1 %" in v for _, v in top):  # the design itself cancels exactly
         from ..analysis.undefined import NOMINAL_CANCELS
 
         after = ", ".join(f"{k} {v.rsplit(' it is ', 1)[-1]}" for k, v in top)
-        click.echo(f"    most sensitive (+1 % alone, at the fundamental): {NOMINAL_CANCELS}; the rejection with +1 % alone: {after}")
+        click.echo(f"    most sensitive (+1 % alone, {at}): {NOMINAL_CANCELS}; the rejection with +1 % alone: {after}")
     else:
-        click.echo(f"    most sensitive (+1 % alone, at the fundamental): {', '.join(f'{k} {v:+.1f} dB' if isinstance(v, float) else f'{k} ({v})' for k, v in top)}")
+        click.echo(f"    most sensitive (+1 % alone, {at}): {', '.join(f'{k} {v:+.1f} dB' if isinstance(v, float) else f'{k} ({v})' for k, v in top)}")
 
 
 def print_positions(rec: dict) -> None:

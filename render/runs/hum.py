@@ -64,3 +64,18 @@ def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 480
         files[k] = str(path)
     rows = tuple(_measured_row(f, r, v) for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"]))
     return HumAudio(seconds=seconds, volts_full_scale=vfs, files=files, harmonics=rows)
+
+
+def write_histogram(path, mc, *, name: str, overwrite: bool = False) -> None:
+    """``render hum --histogram``: the Monte Carlo's rejection at the harmonic its sensitivities refer to.
+
+    mc : :class:`render.analysis.hum.MonteCarlo`; that harmonic is the fundamental unless the room has no
+    hum there (``mc.sensitivity_at``). A room with hum at no harmonic has no rejection to plot: refused.
+    """
+    from ..errors import InputError
+    from ..report.plots import histogram_plot
+
+    if mc.sensitivity_at is None:
+        raise InputError(f"--histogram: {name} has no hum at any harmonic in this room, so there is no rejection to plot; give a field or a source that links a coil")
+    h = mc.sensitivity_at
+    histogram_plot(path, mc.rejection_db[:, h], xlabel=f"hum rejection at {mc.frequency_hz[h]:g} Hz (dB)", title=f"{name}: {mc.trials} trials", overwrite=overwrite)

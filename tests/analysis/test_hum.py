@@ -1,6 +1,7 @@
 """Hum: induced EMF, the rejection metric, the Monte Carlo and `render hum`."""
 
 import json
+import re
 from dataclasses import replace
 from pathlib import Path
 
@@ -139,3 +140,38 @@ def test_monte_carlo_in_processes_equals_serial():
     a = monte_carlo(d, trials=400, seed=3, chunk=100)
     b = monte_carlo(d, trials=400, seed=3, chunk=100, jobs=2)
     np.testing.assert_array_equal(a.rejection_db, b.rejection_db)
+
+
+def test_monte_carlo_names_a_harmonic_the_field_lacks_and_measures_at_the_lowest_one_it_has():
+    # a field with no fundamental (harmonics 0, 1, 0.3): its 50 Hz has no rejection in any draw, in words; the
+    # sensitivities move to 100 Hz. The rejection is a ratio of the two coils' hum, so it does not depend on the
+    # field's amplitude (the definition): the draws at 100 Hz and the sensitivities there equal those of the full
+    # field (1, 1, 0.3), draw for draw, and the nominal 100 Hz rejection is 20·log10(1/0.05) = 26.02 dB (arithmetic)
+    from render.analysis import undefined as U
+    from render.analysis.hum import sensitivities
+
+    d = _symmetric()
+    d = replace(d, coil_b=replace(d.coil_b, turns_area=d.coil_b.turns_area * 0.95), hum=replace(d.hum, harmonics=(0.0, 1.0, 0.3)))
+    mc = monte_carlo(d, trials=50, seed=0)
+    first = mc.summary()[0]
+    assert first["median_db"] is None and first["median_db_reason"] == U.NO_FIELD and first["p5_db"] is None
+    assert mc.sensitivity_at == 1 and mc.as_dict()["sensitivity_frequency_hz"] == 100.0
+    full = replace(d, hum=replace(d.hum, harmonics=(1.0, 1.0, 0.3)))
+    np.testing.assert_array_equal(mc.rejection_db[:, 1:], monte_carlo(full, trials=50, seed=0).rejection_db[:, 1:])
+    assert mc.sensitivity == sensitivities(full, mc.frequency_hz, harmonic=1)
+    assert all(isinstance(v, float) and np.isfinite(v) for _, v in mc.sensitivity)
+    assert hum_table(d)["harmonics"][1]["rejection_db"] == pytest.approx(26.02, abs=0.01)
+
+
+def test_a_source_without_a_fundamental_prints_words_not_nan(tmp_path):
+    # a dipole source whose own profile lacks the fundamental: no coil links it at 50 Hz, so no draw has a
+    # rejection there (0/0); the table, the Monte Carlo and the sensitivities say so in words
+    rig = tmp_path / "rig.toml"
+    rig.write_text('[hum]\nmains = "50Hz"\nharmonics = [0.0, 1.0, 0.3]\n\n[[hum.source]]\nkind = "dipole"\nmoment = 0.05\nat = ["0.5m", "0m", "0m"]\naxis = [0, 0, 1]\n')
+    out = tmp_path / "h.json"
+    res = CliRunner().invoke(main, ["hum", str(ROOT / "models" / "slipway-steel-blades.toml"), "--rig", str(rig), "--tolerance", "1%", "--trials", "20", "--json", str(out)])
+    assert res.exit_code == 0, res.output
+    assert not re.search(r"\bnan\b", res.output) and "at 100 Hz, the lowest harmonic with hum" in res.output
+    mc = json.loads(out.read_text())["monte_carlo"]
+    assert mc["harmonics"][0]["median_db"] is None and "no source links either coil" in mc["harmonics"][0]["median_db_reason"]
+    assert all(isinstance(s["db"], float) for s in mc["sensitivity_db_per_percent"])
