@@ -144,6 +144,17 @@ def test_prism_demagnetising_factors():
     # a thin plate magnetised across its thickness tends to 1, a long bar along its length to 0
     assert prism_demagnetising_factor(1, 1, 1e-4) > 0.999
     assert prism_demagnetising_factor(1e-3, 1e-3, 1) < 1e-3
+    # at the slenderest prism accepted (1 × 1 × 1e4) the three factors still sum to 1 (Osborn)
+    total = prism_demagnetising_factor(1, 1, 1e4) + 2 * prism_demagnetising_factor(1, 1e4, 1)
+    assert total == pytest.approx(1.0, rel=1e-6)
+
+
+@pytest.mark.parametrize("sides", [(0.0, 1e-3, 1e-3), (-1e-3, 1e-3, 1e-3), (float("nan"), 1e-3, 1e-3), (1e-9, 1e-3, 1e-3)])
+def test_prism_sides_out_of_range_are_refused_in_one_line(sides):
+    # a side of no length has no factor; past a side ratio of 1e4 the closed form's terms cancel in double precision
+    with pytest.raises(InputError) as e:
+        prism_demagnetising_factor(*sides)
+    assert "\n" not in str(e.value) and "prism sides" in str(e.value)
 
 
 def test_the_blades_demagnetising_factor_against_magpylib():
@@ -196,3 +207,7 @@ def test_bad_part_is_refused():
         CorePart("sphere", 1e-3, STEEL, fill=0.1)
     with pytest.raises(InputError):
         CorePart("slab", 1e-3, STEEL, fill=0.1, demagnetising_factor=1.0)
+    # fill is a share of the coil's flux: above 1, brass (µr = 1, a conductor) would give the coil a
+    # negative inductance at high frequency, L_air·(1 + fill·(µ_app − 1)) with µ_app → 0 (eq. (2))
+    with pytest.raises(InputError, match="from 0 to 1"):
+        CorePart("slab", 1e-3, STEEL, fill=1.2)
