@@ -82,9 +82,12 @@ from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Ph
 
 # The displacement that looks the flux up is summed over the modes below this
 # frequency only: a mode's displacement falls as 1/n² (a triangular pluck), so
-# above it the modes move the string by under 1e-3 of the fundamental's
-# amplitude, and the flux's curvature over that is negligible; their velocity,
-# which the EMF carries, is summed in full (our own bound, no source).
+# the modes above it move the string little: the largest of them is about
+# 7e-4 of the fundamental's amplitude for an open low E, 1e-2 for an open high
+# E and 2e-2 an octave above that (measured by hand; no test holds these).
+# They enter the EMF only through the flux's curvature over that small
+# displacement (a second-order effect); their velocity, which the EMF
+# carries, is summed in full (our own bound, no source).
 DISPLACEMENT_MAX_HZ = 4000.0
 
 __all__ = ["LeftRange", "Pickup", "bend_offset", "bend_share", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
@@ -386,7 +389,9 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
     limit = min(MAX_MODE_HZ, 0.5 * fs)
     n = np.arange(1, max(1, int(limit / (f0 * hi_ratio)) + 1) + 1, dtype=float)
     freqs = mode_frequencies(n, f0=f0, inharmonicity=b)
-    keep = freqs * hi_ratio < limit
+    # the split moves the higher polarisation up by half of it: that one stays below Nyquist too
+    spread = 2.0 ** (inst.polarisation_split / 2400.0)
+    keep = (freqs * hi_ratio < limit) & (freqs * hi_ratio * spread < 0.5 * fs)
     n, freqs = n[keep], freqs[keep]
     if n.size == 0:
         return False

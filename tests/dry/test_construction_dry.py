@@ -249,3 +249,40 @@ def test_kept_motion_sensed_at_another_strength_equals_a_new_synthesis():
     # and it is not linear: at 2.5× the EMF is not 2.5 times the EMF at 1× (the quadratic flux term, the unscaled bend)
     one, _ = motion_emf(motion, strongest_m=0.8 * MM)
     assert np.abs(kept - 2.5 * one * np.array([[1], [-1]])).max() > 1e-3 * np.abs(kept).max()
+
+
+def test_the_upper_polarisation_stays_below_nyquist():
+    # the sampling theorem (Shannon, Proc. IRE 37(1), 1949): a partial above fs/2 folds back to fs − f.
+    # At 8 kHz a mode of an open string at 3990 Hz (B = 0) with a 50-cent split would put its upper
+    # polarisation at 3990·2^(25/1200) = 4048 Hz, folding to 3952 Hz; that mode is left out, so the band
+    # between its lower polarisation (3933 Hz) and Nyquist holds nothing but the window's leakage
+    from types import SimpleNamespace
+
+    import tomllib
+
+    from render.dry import construction as C
+    from render.dry import modal
+
+    fs, f1 = 8000, 3990 / 20
+    p = parse_phrase(tomllib.loads(f'seconds = 1.0\n[instrument]\ntuning = ["{f1}Hz"]\ninharmonicity = 0\npolarisation_split = 50\n[[note]]\ntime = 0\nstring = 1\nfret = 0\npluck_at = 0.03\n'))
+    x = np.linspace(0.02, 0.06, 41)
+    sense = SimpleNamespace(x=x, along_z=np.ones_like(x), along_y=np.zeros_like(x), sensitivity_z=1.0, sensitivity_y=0.0)
+    plucks = modal.plucks(p, sample_rate=fs, seed=0, seconds=None)
+    note, args = plucks.notes[0]
+    chans = np.zeros((2, 4, plucks.n_total))
+    C._add_note(chans, note, p.instrument, coils=[sense, sense], x_offset=0.0, strain=1e-3, side=1.0, **args)
+    v = chans[0, 3]  # coil_a's vertical velocity
+    spec = np.abs(np.fft.rfft(v * np.hanning(v.size), 1 << 18))
+    f = np.fft.rfftfreq(1 << 18, 1 / fs)
+    mode_19 = spec[(f > 3700) & (f < 3850)].max()
+    assert spec[(f > 3945) & (f < 3958)].max() < 1e-3 * mode_19  # a folded partial there would be about as loud as mode 19
+
+
+def test_a_polarisation_angle_past_45_degrees_is_refused():
+    # the angle names the axis nearer the top (the one that decays with lateral_decay): past ±45° it would
+    # name the other one (geometry), so it is refused in one line
+    from render.errors import InputError
+
+    with pytest.raises(InputError) as e:
+        _phrase(extra_instrument={"polarisation_angle": 60})
+    assert "polarisation_angle" in str(e.value) and "\n" not in str(e.value)
