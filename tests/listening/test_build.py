@@ -72,7 +72,7 @@ def test_the_ceiling_lowers_both_by_the_same_amount():
 
 
 def test_silent_short_or_broken_renders_are_refused():
-    with pytest.raises(InputError, match=r"^quiet: loudness=None: the render is silent or shorter than one 400 ms block"):
+    with pytest.raises(InputError, match=r"^quiet: no loudness: the render is silent or shorter than one 400 ms block"):
         match_loudness([np.zeros(SR), tone(440, 0.1)], sample_rate=SR, names=["quiet", "ok"])
     with pytest.raises(InputError, match=r"shorter than one 400 ms block"):
         match_loudness([tone(440, 0.1, 0.2), tone(440, 0.1, 0.2)], sample_rate=SR)
