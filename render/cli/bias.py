@@ -127,6 +127,12 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
             row["clip"] = clip
         payload["clips"] = clips.record
         print_bias_phrase(sw, clips.clips)
-        click.echo(f"clips, loudness-matched copies ({target_lufs:g} LUFS) and plots in {out}/")
+        low = clips.record["matched_lowered_db"]
+        level = (
+            f"{target_lufs:g} LUFS"
+            if low == 0
+            else f"{target_lufs - low:.1f} LUFS: all lowered {low:.1f} dB from {target_lufs:g} LUFS to keep true peaks at or below {clips.record['matched_ceiling_dbtp']:g} dBTP"
+        )
+        click.echo(f"clips, loudness-matched copies ({level}) and plots in {out}/")
         click.echo("Start playback at a low volume: the matched copies are level-matched, but clipped ones still sound loud.")
     emit_json(json_path, payload, overwrite=overwrite)

@@ -115,12 +115,12 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
         renders = [x for x, _ in rendered]
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
         stem = Path(design.source).stem
+        loud = [integrated_loudness(x, sample_rate=st.sample_rate) for x in renders]
+        gains, lowered = matched_gains(renders, loud, sample_rate=st.sample_rate, target_lufs=target_lufs, ceiling_dbtp=MATCHED_CEILING_DBTP)
         clips = []
-        for s, x in zip(sweep.settings, renders):
+        for s, x, lufs, gain_db in zip(sweep.settings, renders, loud, gains):
             tag = f"r{s.ratio:.3f}-{s.battery:g}V".replace(".", "p")
             write_float_wav(out / f"{stem}-{tag}.wav", x / vfs, st.sample_rate, overwrite=True)
-            lufs = integrated_loudness(x, sample_rate=st.sample_rate)
-            gain_db = None if lufs is None else target_lufs - lufs
             if gain_db is not None:
                 write_float_wav(out / f"{stem}-{tag}-matched.wav", x * 10 ** (gain_db / 20), st.sample_rate, overwrite=True)
             clips.append({"file": f"{stem}-{tag}.wav", "volts_full_scale": vfs, "loudness_lufs_1v_full_scale": lufs, "matched_gain_db": gain_db, "peak_v": float(np.abs(x).max())})
@@ -132,4 +132,29 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
         from ..compare.folders import write_bias_page
 
         write_bias_page(out, sweep, clips, renders, sample_rate=st.sample_rate, volts_full_scale=vfs, dry=str(dry), strength_m=strength_m, jobs=jobs)
-        return BiasClips(folder=out, clips=tuple(clips), record={"dry": str(dry), "strength_m": strength_m, "seed": seed, "target_lufs": target_lufs, "volts_full_scale": vfs})
+        record = {
+            "dry": str(dry),
+            "strength_m": strength_m,
+            "seed": seed,
+            "target_lufs": target_lufs,
+            "matched_ceiling_dbtp": MATCHED_CEILING_DBTP,
+            "matched_lowered_db": lowered,
+            "volts_full_scale": vfs,
+        }
+        return BiasClips(folder=out, clips=tuple(clips), record=record)
+
+
+MATCHED_CEILING_DBTP = -1.0  # the matched copies' true-peak ceiling, as the blind session's (render.listening.loudness)
+
+
+def matched_gains(renders, loudness, *, sample_rate: int, target_lufs: float, ceiling_dbtp: float) -> tuple[list, float]:
+    """Each render's gain (dB) to ``target_lufs`` (None where it has no loudness), all lowered together so that no matched copy's true peak passes ``ceiling_dbtp``; and that lowering (dB, ≥ 0).
+
+    True peak by 4× oversampling (ITU-R BS.1770-4 annex 2, :func:`render.analysis.loudness.true_peak_dbtp`).
+    """
+    from ..analysis.loudness import true_peak_dbtp
+
+    gains = [None if lufs is None else target_lufs - lufs for lufs in loudness]
+    over = [true_peak_dbtp(x) + g - ceiling_dbtp for x, g in zip(renders, gains) if g is not None]
+    lowered = max([0.0, *over])
+    return [None if g is None else g - lowered for g in gains], float(lowered)

@@ -131,6 +131,29 @@ def test_bias_cli_table_clips_plots_json(tmp_path):
     assert {"studio-reference-headroom.png", "studio-reference-harmonics.png", "studio-reference-transfer.png"} <= set(names)
 
 
+def test_matched_copies_keep_their_true_peak_under_the_ceiling(tmp_path):
+    # a loud target (-6 LUFS) would push a phrase's peaks past full scale: every matched copy is lowered by one
+    # amount so that its true peak (BS.1770-4 annex 2: the largest magnitude of the signal oversampled 4×,
+    # here by scipy's resample_poly) is at most -1 dBTP, and the copies keep their loudness match (pyloudnorm, its "DeMan" K-weighting: BS.1770-4's analog prototypes)
+    import pyloudnorm
+    import soundfile as sf
+    from scipy.signal import resample_poly
+
+    out, js = tmp_path / "b", tmp_path / "b.json"
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.3,0.5", "--seconds", "1.5", "--target-lufs", "-6", "--out", str(out), "--json", str(js)])
+    assert res.exit_code == 0, res.output
+    rec = json.loads(js.read_text())["clips"]
+    low = rec["matched_lowered_db"]
+    assert low > 0 and f"all lowered {low:.1f} dB from -6 LUFS to keep true peaks at or below -1 dBTP" in res.output
+    peaks, levels = [], []
+    for path in sorted(out.glob("*-matched.wav")):
+        x, fs = sf.read(path)
+        peaks.append(20 * np.log10(np.abs(resample_poly(x, 4, 1)).max()))
+        levels.append(pyloudnorm.Meter(fs, filter_class="DeMan").integrated_loudness(x))
+    assert len(peaks) == 2 and max(peaks) == pytest.approx(-1.0, abs=0.01)
+    assert levels == pytest.approx([-6 - low] * 2, abs=0.01)
+
+
 @pytest.mark.parametrize(
     "args,fragment",
     [
