@@ -549,7 +549,7 @@ def run(
         for j in range(n):
             z[j] = zn[j]
         # the output: V_o averaged with the quadratic B-spline kernel over the last three steps:
-        # [1, 11, 11, 1]/24 on x_lin's samples (the linear path) plus the exact average of d
+        # loop.KERNEL_TAPS, [-1, 3, 88, 88, 3, -1]/180, on x_lin's samples (the linear path) plus the exact average of d
         # (kernel pieces σ²/2, (1 + 2σ − 2σ²)/2 and (1 − σ)²/2 on the three steps, oldest first)
         m0 = mom[0]
         m1 = mom[1]

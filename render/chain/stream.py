@@ -234,6 +234,8 @@ class Plan:
     hum_phasors : complex, shape (H,), V peak at the op-amp output per harmonic
         from the design's [[hum.source]] tables (they replace ``hum_gains``
         and the one-number field); None without sources
+    settle_s : s, how long the string is at rest before the first sample when the op-amp rests on a
+        limit (:func:`settle_seconds`; the renderer uses it only then)
     """
 
     sample_rate: float
@@ -251,6 +253,24 @@ class Plan:
     latency: int
     warnings: tuple[str, ...]
     hum_phasors: np.ndarray | None = None
+    settle_s: float = 0.0
+
+
+SETTLE_TAUS = 15  # time constants of the opened loop's input network run at rest before a render that starts on a limit (e^-15 ≈ 3e-7)
+SETTLE_MIN_S, SETTLE_MOST_S = 0.5, 60.0  # s
+
+
+def settle_seconds(design) -> float:
+    """How long a render whose op-amp rests on a limit runs the string at rest first (s).
+
+    With the output on a rail the loop is open: coil_a's side charges series_c through series_r, the
+    feedback resistor and the coil's DC resistance into the pinned output, τ = series_c·(series_r +
+    feedback r + R_coil) (about 0.13 s in the demo designs: slower than the recovery's closed-loop
+    22 ms). :data:`SETTLE_TAUS` of it, within :data:`SETTLE_MIN_S` … :data:`SETTLE_MOST_S`.
+    """
+    a = design.input_a
+    tau = a.series_c * (a.series_r + design.feedback.r + design.coil_a.resistance)
+    return float(min(SETTLE_MOST_S, max(SETTLE_MIN_S, SETTLE_TAUS * tau)))
 
 
 def default_oversample(sample_rate: float) -> int:
@@ -327,6 +347,7 @@ def make_plan(
         latency=int(latency),
         warnings=tuple(warns),
         hum_phasors=phasors,
+        settle_s=settle_seconds(design),
     )
 
 
@@ -526,6 +547,39 @@ class Renderer:
             self._hum_period = self._hum_direct(0, int(round(period)))
         self._lim_hist = self._hum_at(-plan.path_mean.delay - self._history, self._history)
         self._loop = _LoopCarry(plan)
+        self._settle()
+
+    def _settle(self) -> None:
+        """Start a design whose op-amp rests on a limit at rest, not at its linear operating point.
+
+        With the bias outside the output's linear window (a divider far off centre) the op-amp's
+        output at rest is V_rest = the static transfer of the bias at DC (where series_c is open and the
+        loop is a follower of gain A0): a rail, not the bias. Started from the linear point, the
+        render would open with a step of V_rest − bias into the output network (its coupling
+        capacitor: a thump decaying over about a second) and with series_c not yet charged. So the
+        output network starts in its steady state for a constant V_rest − bias (scipy's
+        ``sosfilt_zi``: the state a constant input leaves), and the chain runs the plan's ``settle_s``
+        of the string at rest (the hum in place, its time running from −settle_s so that t = 0 keeps
+        its phase) before the first sample, whose output is dropped and whose statistics are not
+        kept. Any other design starts as before, at rest at its linear point.
+        """
+        p = self.plan
+        w = p.window
+        if w.linear_low < p.bias_v < w.linear_high:
+            return
+        n = int(round(p.settle_s * p.sample_rate))
+        rest = float(lp.static_transfer(p.bias_v, window=w, loop_gain=p.loop.open_loop_gain)) - p.bias_v
+        fir_gain = float(np.sum(p.out_stage.fir))
+        zi = ss.sosfilt_zi(p.out_stage.sos) * (rest * fir_gain) if p.out_stage.sos.shape[0] else self._so[1]
+        self._so = (np.full(p.out_stage.history, rest), zi)
+        self._amp_delay = np.full(p.out_stage.delay, rest)
+        self._n = -n
+        self._lim_hist = self._hum_at(-n - p.path_mean.delay - self._history, self._history)
+        self._to_drop += n
+        self._step(np.zeros(n), np.zeros(n) if self.explicit else None)
+        assert self._n == 0 and self._to_drop == p.latency
+        self._clipped = 0
+        self._linear = [np.inf, -np.inf]
 
     def _hum_direct(self, start: int, n: int) -> np.ndarray:
         p, h = self.plan, self.plan.hum
