@@ -58,8 +58,16 @@ def read_habit(text: str, kind_name: str, *, parse: Callable[[str], float], pref
     number, prefix, symbol = m.group(1), m.group(2), m.group(3)
     low = symbol.lower()
     if low == "fd":
-        if prefix in ("m", "M", "u", "U", "µ", "μ") and kind_name.startswith("capacitance"):
-            raise error(f'"{prefix}fd" is an old way of writing microfarads, which the SI reads as milli- or megafarads; write "{number}uF" (or "{number}mF" for millifarads)')
+        if not kind_name.startswith("capacitance"):
+            return None
+        if prefix in ("u", "µ", "μ"):  # "µfd": the old abbreviation of the farad after the SI's micro, unambiguous
+            return parse(f"{number}u")
+        if prefix == "U":
+            raise error(f'"Ufd" is an old way of writing microfarads; micro is a lowercase u: write "{number}uF"')
+        if prefix in ("m", "M"):
+            raise error(
+                f'"{prefix}fd" is an old way of writing microfarads, but the SI reads "{prefix}" as {"milli" if prefix == "m" else "mega"}; write "{number}uF" (or "{number}mF" for millifarads)'
+            )
         return None
     unit, kinds = _SYMBOLS[low]
     if kind_name not in kinds:
@@ -72,5 +80,5 @@ def read_habit(text: str, kind_name: str, *, parse: Callable[[str], float], pref
         fixed = prefix.lower() if prefix.lower() in prefixes else None
         if fixed is None:
             return None
-        raise error(f'"{prefix}" is not an SI prefix; write "{number}{fixed}{unit}"')
+        raise error(f'"{prefix}" is not a prefix render reads here (the prefixes are case-sensitive); write "{number}{fixed}{unit}"')
     return parse(f"{number}{prefix}")

@@ -136,6 +136,8 @@ def parse_quantity(value: object, kind: Kind) -> float:
     if not isinstance(value, str):
         raise QuantityError(f"expected {_a(kind)} as a number or a string like {example(kind)}")
     text = value.strip()
+    if _SPLIT_NUMBER_RE.search(text):
+        raise QuantityError(f'{shown(value)} has a space inside its number; write the number without one (a space may only stand before the prefix or unit, as in "4.7 k")')
     for space in _SPACES:
         text = text.replace(space, "")
     text = text.replace("\u2126", "Ω")  # OHM SIGN, as some keyboards give it, is the Greek capital omega
@@ -182,6 +184,7 @@ def parse_quantity(value: object, kind: Kind) -> float:
 # Spaces a value may carry between number, prefix and unit: the plain space,
 # the thin space and the (narrow) no-break space typesetting puts there.
 _SPACES = (" ", "\u2009", "\u00a0", "\u202f")
+_SPLIT_NUMBER_RE = re.compile("[0-9.][" + "".join(_SPACES) + "]+[0-9.]")  # "1 10k": digits on both sides of a space
 # The only characters beyond ASCII a quantity may hold: micro (sign or Greek
 # mu), ohm, superscript two, the middle dot and the root sign of the units.
 _UNIT_CHARACTERS = frozenset("µμΩ²·√")
@@ -238,6 +241,7 @@ def example(kind: Kind) -> str:
         "sensitivity": '0.045 or "45mV·s/m"',
         "voltage noise density": '"10n" or "10nV/rtHz"',
         "current noise density": '"10f" or "10fA/rtHz"',
+        "slew rate": '"13V/us" or "13MV/s"',
     }.get(kind.name, "a number")
 
 
@@ -247,15 +251,30 @@ _FORMAT_PREFIXES = [(1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), 
 
 
 def format_si(x: float, unit: str = "", digits: int = 3) -> str:
-    """Format ``x`` with an SI prefix: ``format_si(4700, "Ω") == "4.7 kΩ"``."""
+    """Format ``x`` with an SI prefix: ``format_si(4700, "Ω") == "4.7 kΩ"``.
+
+    For an area (``unit`` "m²") the prefix is the metre's, squared (1 mm² = 1e-6 m²): from 1 cm² up the
+    area is written in m² (``format_si(0.36, "m²") == "0.36 m²"``), below it in mm² (from 0.001 mm²), then µm².
+    """
     if x == 0 or not math.isfinite(x):
         return f"{x:g} {unit}".strip()
     ax = abs(x)
+    if unit.endswith("²"):
+        scale, p = next(((s, q) for s, lowest, q in ((1.0, 1e-4, ""), (1e-3, 1e-9, "m")) if ax >= lowest * 0.9995), (1e-6, "µ"))
+        return f"{_positional(x / (scale * scale), digits)} {p}{unit}"
     for scale, p in _FORMAT_PREFIXES:  # noqa: B007 (the prefix found is used below)
         if ax >= scale * 0.9995:
             break
     text = f"{x / scale:.{digits}g}"
     return f"{text} {p}{unit}".strip()
+
+
+def _positional(v: float, digits: int) -> str:
+    """``v`` to ``digits`` significant figures without an exponent: 1000 → "1000", 0.36 → "0.36"."""
+    e = math.floor(math.log10(abs(v)))
+    places = digits - 1 - e
+    text = f"{round(v, places):.{max(0, places)}f}"
+    return text.rstrip("0").rstrip(".") if "." in text else text
 
 
 def microvolts(v: float, width: int = 0, decimals: int | None = None, *, digits: int = 4) -> str:

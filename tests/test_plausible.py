@@ -134,6 +134,8 @@ def test_the_shipped_designs_are_plausible():
         ("22K", U.RESISTANCE, 22e3),
         ("4k7", U.RESISTANCE, 4.7e3),
         ("4K7", U.RESISTANCE, 4.7e3),
+        ("1µfd", U.CAPACITANCE, 1e-6),  # "fd" for farad after the SI's micro: unambiguous
+        ("10ufd", U.CAPACITANCE, 10e-6),
     ],
 )
 def test_common_habits_are_read(text, kind, value):
@@ -148,12 +150,15 @@ def test_common_habits_are_read(text, kind, value):
         ("2.2UF", U.CAPACITANCE, '"2.2uF"'),
         ("4.7NF", U.CAPACITANCE, '"4.7nF"'),
         ("3mhz", U.FREQUENCY, '"3MHz"'),
+        ("2.2Ufd", U.CAPACITANCE, '"2.2uF"'),
+        ("47PF", U.CAPACITANCE, '"47pF"'),
     ],
 )
 def test_ambiguous_habits_are_refused_with_the_fix(text, kind, fix):
     with pytest.raises(U.QuantityError) as e:
         U.parse_quantity(text, kind)
     assert fix in str(e.value)
+    assert "not an SI prefix" not in str(e.value)  # P is peta in the SI (SI Brochure, 9th ed., table 7); it is refused as a slip of case
 
 
 def test_warnings_reach_stderr_and_the_json_of_check_and_clips(tmp_path):

@@ -190,6 +190,19 @@ def test_format_si():
     assert format_si(0.18, "H") == "180 mH"
     assert format_si(3e6, "Hz") == "3 MHz"
     assert format_si(9.0, "V") == "9 V"
+    # an area's prefix is the metre's, squared (SI Brochure, 9th ed., 5.2: "cm²" is (cm)², 1e-4 m²)
+    assert format_si(0.36, "m²") == "0.36 m²"
+    assert format_si(1e-6, "m²") == "1 mm²"
+    assert format_si(3.2e-5, "m²") == "32 mm²"
+    assert format_si(1000.0, "m²") == "1000 m²"
+
+
+@pytest.mark.parametrize("text", ["1 10k", "1 0u", "10 000", "4.7\u20090k"])
+def test_a_space_inside_a_number_is_refused(text):
+    # a space may stand between a number and its unit (SI Brochure, 9th ed., 5.4.3), never inside the number
+    with pytest.raises(QuantityError, match="space inside its number"):
+        parse_quantity(text, RESISTANCE)
+    assert parse_quantity("4.7 k", RESISTANCE) == 4700.0 and parse_quantity("22 kΩ", RESISTANCE) == 22e3
 
 
 KINDS = [v for v in vars(U).values() if isinstance(v, U.Kind)]
