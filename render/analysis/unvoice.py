@@ -498,19 +498,20 @@ def band_levels_from_psd(psd: np.ndarray, *, frequency_hz: np.ndarray, centres_h
     """Third-octave band levels of a one-sided density.
 
     psd : (K,), u²/Hz (u the signal's unit), on the evenly spaced ``frequency_hz`` (K,), Hz
-    centres_hz : (B,), Hz; each band spans centre·10^(±1/20) (IEC 61260-1) and sums the bins
-        inside its edges times the bin width (at least the nearest bin)
+    centres_hz : (B,), Hz; each band spans centre·10^(±1/20) (IEC 61260-1): the density taken
+        as constant over each bin (f ± df/2) is integrated over the band's edges, each bin
+        weighted by the width it shares with the band, so a band narrower than a bin (the
+        lowest third octaves) gets its own width's share, not a whole bin
     Returns (B,), dB re 1 u² (−inf for zero power).
     """
     f = np.asarray(frequency_hz, float)
     df = f[1] - f[0]
+    psd = np.asarray(psd, float)
     out = np.empty(len(centres_hz))
     for i, c in enumerate(centres_hz):
-        m = (f >= c * 10**-0.05) & (f < c * 10**0.05)
-        if not m.any():
-            m = np.zeros(f.size, bool)
-            m[int(np.argmin(np.abs(f - c)))] = True
-        p = float(np.sum(psd[m]) * df)
+        lo, hi = c * 10**-0.05, c * 10**0.05
+        shared = np.clip(np.minimum(f + df / 2, hi) - np.maximum(f - df / 2, lo), 0.0, None)
+        p = float(np.sum(psd * shared))
         out[i] = 10.0 * math.log10(p) if p > 0 else -math.inf
     return out
 
