@@ -51,6 +51,14 @@ class LoopbackServer(ThreadingHTTPServer):
         socketserver.TCPServer.server_bind(self)  # skip HTTPServer's reverse name look-up
         self.server_name, self.server_port = HOST, self.server_address[1]
 
+    def handle_error(self, request, client_address):
+        """A connection the browser dropped (a reload, a closed tab) or a stopping server is not an error: say nothing."""
+        import sys
+
+        if isinstance(sys.exc_info()[1], OSError):
+            return
+        super().handle_error(request, client_address)
+
     @property
     def port(self) -> int:
         return self.server_address[1]

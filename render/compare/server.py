@@ -155,13 +155,6 @@ class LiveServer(LoopbackServer):
                 self._open.discard(request)
                 self._workers.discard(threading.current_thread())
 
-    def handle_error(self, request, client_address):
-        import sys
-
-        if isinstance(sys.exc_info()[1], OSError):  # the page went away (a reload, a closed tab) or the server is stopping
-            return
-        super().handle_error(request, client_address)
-
     def start_thread(self) -> LiveServer:
         """Serve from a background thread; returns self."""
         self._thread = threading.Thread(target=self.serve_forever, kwargs={"poll_interval": 0.05}, name="render-watch-server", daemon=True)

@@ -13,8 +13,10 @@ gets its own file; all are float32 WAVs of one length, written by
 tags), so files differ only in their audio. Each file carries its own
 dither below the 24-bit step (:mod:`render.listening.dither`, drawn from the
 seed), so no two files are byte-identical, not even two of one design, and
-comparing files does not tell which clip X repeats. All get the same
-modification time.
+comparing whole files (hashes, sizes) does not tell which clip X repeats; a
+count of differing bytes still does (the dither moves only each sample's low
+bytes), as does decoding and subtracting (README, "What a listener could
+still use to cheat"). All get the same modification time.
 
 The folder is built under a temporary name beside ``out`` and renamed into
 place at the end, so an interrupted run leaves no half-made session.

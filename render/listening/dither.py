@@ -2,7 +2,8 @@
 
 Every clip slot of every trial is written as its own file. Without dither the
 files of one design would be byte-identical, and anyone comparing files (by
-size, hash or a byte diff) could tell which clip X repeats without listening.
+size or hash) could tell which clip X repeats without listening. (A count of
+differing bytes still can: the dither moves only each sample's low bytes.)
 So each file gets its own triangular-PDF (TPDF) dither: the difference of two
 independent uniform draws, spanning ±1 step of a 24-bit quantiser at full
 scale ±1 (one step is ``2**-23``). That is the dither that makes a 24-bit

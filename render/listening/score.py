@@ -28,18 +28,23 @@ ALPHA = 0.05  # the conventional threshold (common practice, no source)
 
 
 def abx_p_value(correct: int, total: int) -> float:
-    """P(at least ``correct`` of ``total`` by guessing), one-sided exact binomial, p = 1/2."""
+    """P(at least ``correct`` of ``total`` by guessing), one-sided exact binomial, p = 1/2 (a session has at least one trial)."""
     from scipy.stats import binomtest
 
+    if int(total) < 1:
+        raise ValueError("an ABX score needs at least one trial")
     return float(binomtest(int(correct), int(total), 0.5, alternative="greater").pvalue)
 
 
-def preference_p_value(first: int, second: int) -> float:
-    """Two-sided exact binomial test of ``first`` against ``second`` (p = 1/2); 1.0 when both are zero."""
+NO_DECIDED = "no test: no trial was decided (every answer was 'no preference')"
+
+
+def preference_p_value(first: int, second: int) -> float | None:
+    """Two-sided exact binomial test of ``first`` against ``second`` (p = 1/2); None when both are zero (:data:`NO_DECIDED`)."""
     from scipy.stats import binomtest
 
     n = int(first) + int(second)
-    return 1.0 if n == 0 else float(binomtest(int(first), n, 0.5, alternative="two-sided").pvalue)
+    return None if n == 0 else float(binomtest(int(first), n, 0.5, alternative="two-sided").pvalue)
 
 
 def fewest_trials_for(alpha: float = ALPHA) -> int:
@@ -83,6 +88,8 @@ def score(plan: dict, key: dict, answers: list[dict]) -> dict:
             "test": "two-sided exact binomial of the decided answers, even split",
             "alpha": ALPHA,
         }
+        if p is None:
+            out["preference"]["p_value_reason"] = NO_DECIDED
     return out
 
 
@@ -105,8 +112,11 @@ def summary_lines(result: dict) -> list[str]:
         s = result["preference"]
         c = s["counts"]
         lines.append(f"  prefer   {names[0]}: {c[names[0]]}, {names[1]}: {c[names[1]]}, no preference: {c['no preference']}")
-        lean = "an even split is unlikely" if s["p_value"] < ALPHA else "could be an even split"
-        lines.append(f"           p = {s['p_value']:.4f} ({s['test']}): {lean}")
+        if s["p_value"] is None:
+            lines.append(f"           {s['p_value_reason']}")
+        else:
+            lean = "an even split is unlikely" if s["p_value"] < ALPHA else "could be an even split"
+            lines.append(f"           p = {s['p_value']:.4f} ({s['test']}): {lean}")
     slots = [k for k in ("A", "B", "X") if k in result["table"][0]]
     width = max(len(n) for n in names)
     abx = "abx" in result

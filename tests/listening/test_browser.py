@@ -18,6 +18,7 @@ skips with the reason printed; under CI=true it fails instead.
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import shutil
@@ -167,58 +168,64 @@ def _open(browser, server, errors):
     return page
 
 
-def test_the_keys_follow_the_cards_and_a_trial_is_answered_from_the_keyboard(make_session, serve):
-    executable = _browser_or_skip()
+@contextlib.contextmanager
+def _session_page(server, errors):
+    """The session's page past its caution, in a headless Chromium that is closed afterwards."""
     from playwright.sync_api import sync_playwright
 
+    with sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=_browser_or_skip(), args=ARGS, headless=True)
+        try:
+            yield _open(browser, server, errors)
+        finally:
+            browser.close()
+
+
+def test_the_keys_follow_the_cards_and_a_trial_is_answered_from_the_keyboard(make_session, serve):
+    _browser_or_skip()
     paths = make_session(method="abx", trials=2, seed=5, seconds=1.0)
     key = json.loads(paths.key.read_text())
     server = serve(paths.root)
     errors = []
-    with sync_playwright() as pw:
-        browser = pw.chromium.launch(executable_path=executable, args=ARGS, headless=True)
-        try:
-            page = _open(browser, server, errors)
-            _wait_phase(page, "ready", trial=0)
-            # the layout: A on the left, the hidden X between, B on the right, in one row
-            boxes = {s: page.locator(f'.listen[data-slot="{s}"]').bounding_box() for s in "AXB"}
-            assert boxes["A"]["x"] + boxes["A"]["width"] <= boxes["X"]["x"] and boxes["X"]["x"] + boxes["X"]["width"] <= boxes["B"]["x"]
-            assert page.locator('.pick[data-answer="A"]').count() == 1 and page.locator('.pick[data-answer="B"]').count() == 1
-            assert page.locator('.pick[data-answer="none"]').count() == 0  # ABX has no "neither"
-            # arrows follow the cards: left A, up X, right B
-            for press, slot in (("ArrowRight", "B"), ("ArrowUp", "X"), ("ArrowLeft", "A")):
-                page.keyboard.press(press)
-                assert page.get_attribute("body", "data-active") == slot
-            for press in ("2", "3", "b", "x", " "):  # no other keys switch or play
-                page.keyboard.press(press)
-            assert page.get_attribute("body", "data-active") == "A" and page.get_attribute("body", "data-playing") == "false"
-            # Home goes back to the start
-            box = page.locator("#track").bounding_box()
-            page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)
-            assert page.inner_text("#clock") == "0.5 s of 1.0 s"
-            page.keyboard.press("Home")
-            assert page.inner_text("#clock") == "0.0 s of 1.0 s"
-            page.keyboard.press("p")
-            page.wait_for_selector('body[data-playing="true"]', state="attached", timeout=TIMEOUT_MS)
-            page.keyboard.press("P")
-            page.wait_for_selector('body[data-playing="false"]', state="attached", timeout=TIMEOUT_MS)
-            # Shift with an arrow marks that side and hands Enter to the save button
-            page.keyboard.press("Shift+ArrowRight")
-            assert page.get_attribute("body", "data-picked") == "B"
-            assert page.get_attribute('.pick[data-answer="B"]', "aria-pressed") == "true"
-            assert page.evaluate("document.activeElement.id") == "save"
-            page.keyboard.press("Shift+ArrowDown")  # no "neither" in ABX: the mark stays
-            assert page.get_attribute("body", "data-picked") == "B"
-            page.keyboard.press("Enter")
-            _wait_phase(page, "ready", trial=1)
-            assert page.get_attribute("body", "data-answered") == "1"
-            page.keyboard.press("Shift+ArrowLeft")
-            page.keyboard.press("Enter")
-            _wait_phase(page, "done")
-            page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
-            result = page.inner_text("#result")
-        finally:
-            browser.close()
+    with _session_page(server, errors) as page:
+        _wait_phase(page, "ready", trial=0)
+        # the layout: A on the left, the hidden X between, B on the right, in one row
+        boxes = {s: page.locator(f'.listen[data-slot="{s}"]').bounding_box() for s in "AXB"}
+        assert boxes["A"]["x"] + boxes["A"]["width"] <= boxes["X"]["x"] and boxes["X"]["x"] + boxes["X"]["width"] <= boxes["B"]["x"]
+        assert page.locator('.pick[data-answer="A"]').count() == 1 and page.locator('.pick[data-answer="B"]').count() == 1
+        assert page.locator('.pick[data-answer="none"]').count() == 0  # ABX has no "neither"
+        # arrows follow the cards: left A, up X, right B
+        for press, slot in (("ArrowRight", "B"), ("ArrowUp", "X"), ("ArrowLeft", "A")):
+            page.keyboard.press(press)
+            assert page.get_attribute("body", "data-active") == slot
+        for press in ("2", "3", "b", "x", " "):  # no other keys switch or play
+            page.keyboard.press(press)
+        assert page.get_attribute("body", "data-active") == "A" and page.get_attribute("body", "data-playing") == "false"
+        # Home goes back to the start
+        box = page.locator("#track").bounding_box()
+        page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)
+        assert page.inner_text("#clock") == "0.5 s of 1.0 s"
+        page.keyboard.press("Home")
+        assert page.inner_text("#clock") == "0.0 s of 1.0 s"
+        page.keyboard.press("p")
+        page.wait_for_selector('body[data-playing="true"]', state="attached", timeout=TIMEOUT_MS)
+        page.keyboard.press("P")
+        page.wait_for_selector('body[data-playing="false"]', state="attached", timeout=TIMEOUT_MS)
+        # Shift with an arrow marks that side and hands Enter to the save button
+        page.keyboard.press("Shift+ArrowRight")
+        assert page.get_attribute("body", "data-picked") == "B"
+        assert page.get_attribute('.pick[data-answer="B"]', "aria-pressed") == "true"
+        assert page.evaluate("document.activeElement.id") == "save"
+        page.keyboard.press("Shift+ArrowDown")  # no "neither" in ABX: the mark stays
+        assert page.get_attribute("body", "data-picked") == "B"
+        page.keyboard.press("Enter")
+        _wait_phase(page, "ready", trial=1)
+        assert page.get_attribute("body", "data-answered") == "1"
+        page.keyboard.press("Shift+ArrowLeft")
+        page.keyboard.press("Enter")
+        _wait_phase(page, "done")
+        page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
+        result = page.inner_text("#result")
     assert errors == []
     assert [json.loads(line)["answer"] for line in paths.answers.read_text().splitlines()] == ["B", "A"]
     right = sum(a == t["x"] for a, t in zip("BA", key["trials"]))
@@ -226,8 +233,7 @@ def test_the_keys_follow_the_cards_and_a_trial_is_answered_from_the_keyboard(mak
 
 
 def test_a_preference_session_runs_to_its_outcome(make_session, serve):
-    executable = _browser_or_skip()
-    from playwright.sync_api import sync_playwright
+    _browser_or_skip()
 
     paths = make_session(method="preference", trials=4, seed=12, seconds=1.0)
     key = json.loads(paths.key.read_text())
@@ -236,32 +242,49 @@ def test_a_preference_session_runs_to_its_outcome(make_session, serve):
     given = [("A" if t["a"] == 0 else "B") for t in key["trials"][:3]] + ["none"]
     server = serve(paths.root)
     errors = []
-    with sync_playwright() as pw:
-        browser = pw.chromium.launch(executable_path=executable, args=ARGS, headless=True)
-        try:
-            page = _open(browser, server, errors)
-            for i, g in enumerate(given):
-                _wait_phase(page, "ready", trial=i)
-                assert page.get_attribute("body", "data-decoded") == "2"  # A and B only
-                assert page.inner_text("#heading") == "Which do you prefer?"
-                assert page.locator(".listen").count() == 2
-                page.keyboard.press("ArrowUp")  # no X in a preference session: nothing changes
-                assert page.get_attribute("body", "data-active") == "A"
-                if g == "none":
-                    page.keyboard.press("Shift+ArrowDown")
-                    assert page.inner_text("#picked") == "Marked: no preference."
-                else:
-                    page.click(f'.pick[data-answer="{g}"]')
-                page.click("#save")
-            _wait_phase(page, "done")
-            page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
-            text = page.inner_text("#result")
-            assert f"You preferred {names[0]} 3 times (blue) and {names[1]} 0 times (copper); no preference: once" in text
-            # two-sided exact binomial of 3 against 0: 2 · (1/2)^3 = 0.25 (binomial distribution)
-            assert "25 % of the time (p = 0.2500" in text
-            cells = page.locator("#outcome li")
-            assert [cells.nth(k).get_attribute("class") for k in range(4)] == ["first", "first", "first", ""]
-        finally:
-            browser.close()
+    with _session_page(server, errors) as page:
+        for i, g in enumerate(given):
+            _wait_phase(page, "ready", trial=i)
+            assert page.get_attribute("body", "data-decoded") == "2"  # A and B only
+            assert page.inner_text("#heading") == "Which do you prefer?"
+            assert page.locator(".listen").count() == 2
+            page.keyboard.press("ArrowUp")  # no X in a preference session: nothing changes
+            assert page.get_attribute("body", "data-active") == "A"
+            if g == "none":
+                page.keyboard.press("Shift+ArrowDown")
+                assert page.inner_text("#picked") == "Marked: no preference."
+            else:
+                page.click(f'.pick[data-answer="{g}"]')
+            page.click("#save")
+        _wait_phase(page, "done")
+        page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
+        text = page.inner_text("#result")
+        assert f"You preferred {names[0]} 3 times (blue) and {names[1]} 0 times (copper); no preference: once" in text
+        # two-sided exact binomial of 3 against 0: 2 · (1/2)^3 = 0.25 (binomial distribution)
+        assert "25 % of the time (p = 0.2500" in text
+        cells = page.locator("#outcome li")
+        assert [cells.nth(k).get_attribute("class") for k in range(4)] == ["first", "first", "first", ""]
     assert errors == []
     assert [json.loads(line)["answer"] for line in paths.answers.read_text().splitlines()] == given
+
+
+def test_a_preference_session_with_no_decided_trial_says_there_is_no_test(make_session, serve):
+    # every answer "no preference": the binomial test of the decided answers has no trials, so the page
+    # says so in words (and the score's JSON has p_value null with its reason)
+    from render.listening.score import NO_DECIDED
+
+    _browser_or_skip()
+
+    paths = make_session(method="preference", trials=2, seed=12, seconds=1.0)
+    server = serve(paths.root)
+    errors = []
+    with _session_page(server, errors) as page:
+        for i in range(2):
+            _wait_phase(page, "ready", trial=i)
+            page.keyboard.press("Shift+ArrowDown")
+            page.click("#save")
+        _wait_phase(page, "done")
+        page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
+        text = page.inner_text("#result")
+        assert "no preference: 2 times" in text and NO_DECIDED[0].upper() + NO_DECIDED[1:] in text and "p = " not in text
+    assert errors == []

@@ -50,7 +50,7 @@ def test_preference_two_sided():
     assert preference_p_value(9, 1) == pytest.approx(22 / 1024, rel=1e-12)
     assert preference_p_value(1, 9) == pytest.approx(22 / 1024, rel=1e-12)
     assert preference_p_value(5, 5) == pytest.approx(1.0)  # an even split (binomial distribution)
-    assert preference_p_value(0, 0) == 1.0
+    assert preference_p_value(0, 0) is None  # no decided answer: no test (said in words by the score)
 
 
 def _answer_all(paths, answers):
@@ -157,3 +157,15 @@ def test_score_warns_when_a_measured_coils_file_changed_after_the_session(tmp_pa
     assert res.exit_code == 0, res.output
     assert "coil_a's measurement coils/harbour-blade-coil.synthetic.csv is no longer at" in res.output
     assert "warning: the response difference was not drawn:" in res.output and "5 of 5 correct" in res.output
+
+
+def test_a_preference_score_with_no_decided_answer_is_words_not_a_p_value():
+    # every trial "no preference": the exact binomial of the decided answers has n = 0, so there is no test
+    from render.listening.score import NO_DECIDED, score, summary_lines
+
+    plan = {"trials": [{}, {}]}
+    key = {"method": "preference", "designs": [{"name": "one"}, {"name": "two"}], "trials": [{"index": i, "clips": {"A": 0, "B": 1}, "a": 0} for i in range(2)]}
+    result = score(plan, key, [{"answer": "none"}, {"answer": "none"}])
+    assert result["preference"]["p_value"] is None and result["preference"]["p_value_reason"] == NO_DECIDED
+    text = "\n".join(summary_lines(result))
+    assert NO_DECIDED in text and "p = " not in text

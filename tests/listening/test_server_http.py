@@ -443,3 +443,23 @@ def test_listen_refuses_bad_input_with_one_line(tmp_path, make_session):
         result = CliRunner().invoke(listen_command, [str(paths.root), "--no-browser", "--port", str(port)])
     assert result.exit_code == 1 and result.output.startswith(f"Error: --port={port}: cannot listen on 127.0.0.1")
     assert not paths.answers.exists() or paths.answers.read_text() == ""
+
+
+def test_a_dropped_connection_prints_no_traceback(running, capsys):
+    # a browser that goes away mid-request (a closed tab: the socket reset, RFC 9293 §3.5.2) is not an error
+    # of the server's: nothing is printed, and it goes on serving
+    import struct
+
+    _, server = running
+    for head in (
+        b'POST /api/answer HTTP/1.1\r\nHost: 127.0.0.1:%d\r\nContent-Type: application/json\r\nContent-Length: 900\r\n\r\n{"tri' % server.port,
+        b"GET /api/state HTTP/1.1\r\nHost: 127.0.0.1:%d\r\n" % server.port,
+    ):
+        s = socket.create_connection(("127.0.0.1", server.port), timeout=5)
+        s.setsockopt(socket.SOL_SOCKET, socket.SO_LINGER, struct.pack("ii", 1, 0))  # close with a reset, not a FIN
+        s.sendall(head)
+        time.sleep(0.2)
+        s.close()
+    time.sleep(0.3)
+    assert request(server.port, path="/api/state")[0] == 200
+    assert "Traceback" not in capsys.readouterr().err

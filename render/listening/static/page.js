@@ -340,8 +340,10 @@
         }
         const times = (n) => (n === 1 ? "once" : n + " times");
         text = "You preferred " + names[0] + " " + times(c[names[0]]) + " (blue) and " + names[1] + " " + times(c[names[1]]) +
-          " (copper); no preference: " + times(c["no preference"]) + ". An even split of the decided answers gives a lean at least this strong " +
-          percent(s.p_value) + " of the time (p = " + s.p_value.toFixed(4) + ", two-sided exact binomial).";
+          " (copper); no preference: " + times(c["no preference"]) + ". " +
+          (s.p_value === null ? s.p_value_reason.charAt(0).toUpperCase() + s.p_value_reason.slice(1) + "." :
+            "An even split of the decided answers gives a lean at least this strong " +
+            percent(s.p_value) + " of the time (p = " + s.p_value.toFixed(4) + ", two-sided exact binomial).");
       }
       figure.appendChild(small);
       el("result").textContent = text;
