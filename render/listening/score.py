@@ -81,14 +81,14 @@ def score(plan: dict, key: dict, answers: list[dict]) -> dict:
         p = abx_p_value(correct, total)
         out["abx"] = {"correct": correct, "total": total, "p_value": p, "test": "one-sided exact binomial, chance 1/2", "alpha": ALPHA, "distinguished": p < ALPHA}
     else:
-        p = preference_p_value(*counts)
+        pp = preference_p_value(*counts)
         out["preference"] = {
             "counts": {names[0]: counts[0], names[1]: counts[1], "no preference": none},
-            "p_value": p,
+            "p_value": pp,
             "test": "two-sided exact binomial of the decided answers, even split",
             "alpha": ALPHA,
         }
-        if p is None:
+        if pp is None:
             out["preference"]["p_value_reason"] = NO_DECIDED
     return out
 
