@@ -1,6 +1,8 @@
 """The answer log: one JSON line per answer, appended and fsynced before it is acknowledged.
 
-A line is ``{"trial": i, "answer": "A"|"B"|"none", "comment": "...", "utc": "..."}``.
+A line is ``{"trial": i, "answer": "A"|"B"|"none", "comment": "...", "utc": "...", "session": "..."}``,
+the session's id from its plan: a line from another session's log is refused when read (a line
+without one, written before the id was kept, is read as this session's).
 Trials are answered in order; an answer for a trial already answered is
 accepted again only if it is the same (idempotent: a page that resends after
 a lost reply changes nothing) and refused otherwise, so the log never holds
@@ -55,7 +57,7 @@ def validate_answer(data, *, method: str, trials: int) -> dict:
     return {"trial": trial, "answer": answer, "comment": comment}
 
 
-def _parse_lines(raw: bytes, *, method: str, trials: int, source: str, strict: bool):
+def _parse_lines(raw: bytes, *, method: str, trials: int, source: str, strict: bool, session: str | None = None):
     """(answers in trial order, byte length of the good part); a torn last line is left out."""
     answers: list[dict] = []
     good = 0
@@ -70,9 +72,14 @@ def _parse_lines(raw: bytes, *, method: str, trials: int, source: str, strict: b
         try:
             data = json.loads(line.decode("utf-8"))
             utc = data.pop("utc", None) if isinstance(data, dict) else None
+            owner = data.pop("session", None) if isinstance(data, dict) else None
             clean = validate_answer(data, method=method, trials=trials)
         except (UnicodeDecodeError, json.JSONDecodeError, ValueError) as exc:
             raise InputError(f"{source}: line {number}: {exc}; the log was edited or damaged, fix or remove that line") from None
+        if owner is not None and session is not None and owner != session:
+            raise InputError(
+                f"{source}: line {number}: an answer of another session ({str(owner)[:12]}…, this one is {session[:12]}…); the log was copied from elsewhere: remove it and answer with `render listen`"
+            )
         clean["utc"] = utc
         if clean["trial"] < len(answers):
             if answers[clean["trial"]]["answer"] != clean["answer"]:
@@ -95,7 +102,7 @@ def read_answers(paths: SessionPaths, plan: dict) -> list[dict]:
         return []
     except OSError as exc:
         raise InputError(f"{paths.answers}: cannot read ({exc.strerror}); check permissions") from None
-    answers, _ = _parse_lines(raw, method=plan["method"], trials=len(plan["trials"]), source=str(paths.answers), strict=False)
+    answers, _ = _parse_lines(raw, method=plan["method"], trials=len(plan["trials"]), source=str(paths.answers), strict=False, session=plan.get("session"))
     return answers
 
 
@@ -106,6 +113,7 @@ class AnswerLog:
         self.paths = paths
         self.method = plan["method"]
         self.trials = len(plan["trials"])
+        self.session = plan.get("session")
         self._mutex = threading.Lock()
         try:
             self._lock_fd = os.open(paths.lock, os.O_RDWR | os.O_CREAT, 0o600)
@@ -123,7 +131,7 @@ class AnswerLog:
             raw = b""
             while chunk := os.read(self._fd, 1 << 20):
                 raw += chunk
-            self._answers, good = _parse_lines(raw, method=self.method, trials=self.trials, source=str(paths.answers), strict=False)
+            self._answers, good = _parse_lines(raw, method=self.method, trials=self.trials, source=str(paths.answers), strict=False, session=self.session)
             if good < len(raw):  # a torn, never-acknowledged line from a crash: cut it off
                 os.ftruncate(self._fd, good)
             os.fsync(self._fd)
@@ -178,7 +186,8 @@ class AnswerLog:
             if i > len(self._answers):
                 raise AnswerRefused(f"trial={i}: answer trial {len(self._answers)} first")
             clean["utc"] = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
-            line = (json.dumps(clean, ensure_ascii=True, separators=(",", ":")) + "\n").encode("ascii")
+            owned = clean if self.session is None else {**clean, "session": self.session}
+            line = (json.dumps(owned, ensure_ascii=True, separators=(",", ":")) + "\n").encode("ascii")
             size = os.fstat(self._fd).st_size
             try:
                 view = memoryview(line)

@@ -111,3 +111,17 @@ def test_a_failed_write_leaves_no_torn_line(make_session, monkeypatch):
         assert len(paths.answers.read_text().splitlines()) == 1 and paths.answers.read_text().endswith("\n")
         log.record({"trial": 1, "answer": "B"})
     assert [a["trial"] for a in read_answers(paths, plan)] == [0, 1]
+
+
+def test_a_log_copied_from_another_session_is_refused(make_session):
+    # every line carries its session's id (the plan's "session"): another session's answers do not score this one
+    one, other = make_session(trials=2, seed=1), make_session(trials=2, seed=2)
+    with AnswerLog(one, load_plan(one)) as log:
+        log.record({"trial": 0, "answer": "A"})
+        log.record({"trial": 1, "answer": "B"})
+    assert all(json.loads(x)["session"] == load_plan(one)["session"] for x in one.answers.read_text().splitlines())
+    other.answers.write_bytes(one.answers.read_bytes())
+    with pytest.raises(InputError, match=r"line 1: an answer of another session"):
+        read_answers(other, load_plan(other))
+    with pytest.raises(InputError, match=r"an answer of another session"):
+        AnswerLog(other, load_plan(other))
