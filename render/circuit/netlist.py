@@ -248,7 +248,7 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         head += [
             f"* hum: the rig's {n} [[hum.source]] {'table drives' if n == 1 else 'tables drive'} {drives}: each source's rate of change,",
             "*      1 V = 1 A*m^2/s of a dipole's moment or 1 T/s of a uniform source's field (node dbdt is not written);",
-            "*      for source j's hum at the amp input at harmonic h, give Vhumj AC 2*pi*f*m*w_h (m its peak moment in A*m^2,",
+            "*      for source j's hum at the amp input at harmonic h, give Vhumj AC 2*pi*f_h*m*w_h (f_h = h times the mains, m its peak moment in A*m^2,",
             "*      or B its peak field in T for a uniform source; w_h the harmonic's weight from its harmonics or the rig's)",
             "*",
         ]
@@ -257,7 +257,8 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "* the operating point (the bias at pos, the op-amp output at out):",
         ".op",
         "*",
-        "* response from string velocity to the amp input (V per m/s), uncomment:",
+        "* response from string velocity to the amp input (V per m/s; vp in radians), uncomment",
+        "* (for a design whose coils cancel the string signal, vdb of zero fails: write vm(amp) instead):",
         "* .control",
         "* ac dec 50 10 100k",
         "* wrdata response.txt vdb(amp) vp(amp)",
