@@ -253,7 +253,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
                 raise InputError(f"{source}: {where}: same_as stands alone (the range and series are the other part's)")
             names = [x.name for x in frees]
             if other not in names:
-                raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{did_you_mean(str(other), names, known='parts above it')}")
+                raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{_same_as_hint(str(other), name, names, free_t)}")
             j = names.index(other)
             if frees[j].tie is not None or frees[j].spec.kind is not spec.kind:
                 raise InputError(f"{source}: {where}: same_as={other!r} must name an untied part of the same kind")
@@ -279,6 +279,15 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
         frees.append(Free(name, table, key, spec, lo, hi, series, choices))
     phrase, strength = _phrase_keys(data, source, aims, frees)
     return FitSpec(source=source, start_path=start, aims=tuple(aims), free=tuple(frees), phrase=phrase, strength=strength)
+
+
+def _same_as_hint(other: str, name: str, names: list[str], free_t: dict) -> str:
+    """The end of a refused ``same_as``: where the named part is, or what it might have meant."""
+    if other in free_t:
+        return f'; move the line "{other}" = {{ … }} above "{name}" in [free]'
+    if not names:
+        return f'; no free part is listed above it: give "{name}" its own {{ min = …, max = … }}, or list the part it copies first'
+    return did_you_mean(other, names, known="parts above it")
 
 
 def _phrase_keys(data: dict, source: str, aims, frees) -> tuple[str | None, float | None]:

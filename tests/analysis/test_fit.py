@@ -311,6 +311,14 @@ def test_each_result_says_which_aims_it_misses(tmp_path):
             assert line == f"#{i} meets every aim" and r["meets"], line
 
 
+def test_same_as_naming_a_part_listed_below_says_to_move_it(tmp_path):
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\nlevel_1k_db = {{ min = -8 }}\n[free]\n"input_b.load_c" = {{ same_as = "input_a.load_c" }}\n"input_a.load_c" = {{ min = "1n", max = "10n" }}\n')
+    res = run("fit", fit, "--out", tmp_path / "o")
+    assert res.exit_code == 1
+    assert res.output.strip().endswith('move the line "input_a.load_c" = { … } above "input_b.load_c" in [free]'), res.output
+    assert "known parts above it: \n" not in res.output
+
+
 def test_every_free_part_is_written_as_the_design_parser_reads_it():
     # a written value read back by the design files' reader gives the value to half a unit in the sixth figure;
     # an area's prefix squares with its unit (SI brochure, 9th ed., 3.1: mm² = (10⁻³ m)²), so an area is written in m²
