@@ -298,10 +298,11 @@ def format_rkm(x: float, unit_letter: str = "R", digits: int = 3) -> str:
     if x <= 0 or not math.isfinite(x):
         raise ValueError(f"x={x!r}: an RKM code needs a positive finite value")
     letters = [(1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, unit_letter or ""), (1e-3, "m"), (1e-6, "u"), (1e-9, "n"), (1e-12, "p"), (1e-15, "f")]
+    carry = 1 - 0.5 * 10.0**-digits  # at or above scale·carry, x rounds to the scale itself (0.9995 at 3 figures)
     for scale, letter in letters:
         if not letter:
             continue
-        if x >= scale * 0.9995 or (scale == 1.0 and x >= 0.0995):
+        if x >= scale * carry or (scale == 1.0 and x >= 0.0995):
             break  # R47 rather than 470m: the trade writes sub-ohm values with R
     text = f"{x / scale:.{digits}g}"
     if "e" in text:  # rounding carried past the prefix (e.g. 999.9 -> 1e+03)

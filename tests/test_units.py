@@ -259,3 +259,16 @@ def test_slew_rate_refusals_name_both_units(text):
     if text == "13us":
         with pytest.raises(QuantityError, match=r"expected V/s or V/µs"):
             parse_quantity(text, U.SLEW_RATE)
+
+
+@pytest.mark.parametrize(
+    "value, letter, code",
+    [(999.9, "R", "999R9"), (999.9999996, "R", "1k0"), (108679.4365, "R", "108k679"), (2.533871e-9, "", "2n53387")],
+)
+def test_rkm_codes_to_six_figures_read_back(value, letter, code):
+    # IEC 60062: the letter stands for the decimal point; at 6 significant figures 999.9 Ω stays in ohms
+    # ("999R9", not "k9999", which no RKM reader takes) and takes the next letter only from 999.9995 up
+    kind = RESISTANCE if letter else CAPACITANCE
+    written = format_rkm(value, letter, digits=6)
+    assert written == code
+    assert parse_quantity(written, kind) == pytest.approx(value, rel=5e-6)  # half a unit in the sixth figure

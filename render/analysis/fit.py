@@ -11,6 +11,12 @@ to snap to. The search:
 3. a discrete local search around the snapped points (one or two series
    steps per part at a time), so every written value is one a person can buy.
 
+Every candidate of steps 2 and 3 is scored as its design file will hold it
+(:func:`as_written`: on its series, or a continuous part to the figures it is
+written with), so what a result claims is what its file gives; a candidate
+whose design cannot be built (a bias outside the output's linear window) or
+whose aimed figures are not finite is never a result.
+
 The score says how far the aims are missed, zero when all hold: the sum over
 aims of the miss divided by the aim's tolerance (a frequency aim given as a
 percentage is judged on a log scale). Ties go to fewer changed parts, then
@@ -141,6 +147,12 @@ class Free:
     choices: np.ndarray | None  # the series values in range
     tie: int | None = None  # index of the free part whose value this one copies
 
+    @property
+    def kind(self) -> U.Kind:
+        """The physical kind of the part's value (a free part is always a quantity: see :func:`parse_fit`)."""
+        assert isinstance(self.spec.kind, U.Kind), self.name
+        return self.spec.kind
+
 
 @dataclass(frozen=True)
 class FitSpec:
@@ -241,7 +253,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
                 raise InputError(f"{source}: {where}: same_as stands alone (the range and series are the other part's)")
             names = [x.name for x in frees]
             if other not in names:
-                raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{did_you_mean(str(other), names, known='parts above it')}")
+                raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{_same_as_hint(str(other), name, names, free_t)}")
             j = names.index(other)
             if frees[j].tie is not None or frees[j].spec.kind is not spec.kind:
                 raise InputError(f"{source}: {where}: same_as={other!r} must name an untied part of the same kind")
@@ -267,6 +279,15 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
         frees.append(Free(name, table, key, spec, lo, hi, series, choices))
     phrase, strength = _phrase_keys(data, source, aims, frees)
     return FitSpec(source=source, start_path=start, aims=tuple(aims), free=tuple(frees), phrase=phrase, strength=strength)
+
+
+def _same_as_hint(other: str, name: str, names: list[str], free_t: dict) -> str:
+    """The end of a refused ``same_as``: where the named part is, or what it might have meant."""
+    if other in free_t:
+        return f'; move the line "{other}" = {{ … }} above "{name}" in [free]'
+    if not names:
+        return f'; no free part is listed above it: give "{name}" its own {{ min = …, max = … }}, or list the part it copies first'
+    return did_you_mean(other, names, known="parts above it")
 
 
 def _phrase_keys(data: dict, source: str, aims, frees) -> tuple[str | None, float | None]:
@@ -317,6 +338,7 @@ class Evaluator:
     def __init__(self, spec: FitSpec, start, *, phrase=None):
         self.spec, self.start = spec, start
         self.seen_fig: list[np.ndarray] = []  # figure matrices of every evaluation (for conflict analysis)
+        self.written_fig: list[np.ndarray] = []  # those of the candidates as they would be written (on their series)
         self.phrase = phrase  # a render.analysis.phrase_headroom.PhraseHeadroom for a phrase_headroom_db aim
 
     def phrase_margins(self, designs) -> np.ndarray:
@@ -325,25 +347,30 @@ class Evaluator:
             raise InputError(f'{self.spec.source}: a {PHRASE_AIM} aim needs its phrase; give phrase = "…toml" in the fit file')
         return np.nan_to_num(self.phrase.margins(designs), nan=NO_SWING_DB)
 
-    def figures(self, values: np.ndarray) -> np.ndarray:
-        """Figure matrix (S, n_aims) for part values (S, n_free); NaN rows for invalid designs."""
+    def design_figures(self, designs) -> list[dict]:
+        """Each design's figures (render.analysis.figures), with phrase_headroom_db where an aim asks for it."""
         from .figures import figures
 
+        figs = figures(designs)
+        if self.spec.needs_phrase:
+            for f, m in zip(figs, self.phrase_margins(designs)):
+                f[PHRASE_AIM] = float(m)
+        return figs
+
+    def figures(self, values: np.ndarray, *, written: bool = False) -> np.ndarray:
+        """Figure matrix (S, n_aims) for part values (S, n_free); NaN rows for invalid designs.
+
+        written : the values are as their files would hold them (:func:`as_written`)
+        """
         designs = [apply(self.start, self.spec.free, row) for row in values]
         ok = np.array([_valid(d) for d in designs])
         out = np.full((len(designs), len(self.spec.aims)), np.nan)
         if ok.any():
             valid = [d for d, k in zip(designs, ok) if k]
-            figs = figures(valid)
-            rows = np.flatnonzero(ok)
-            for j, aim in enumerate(self.spec.aims):
-                if aim.figure == PHRASE_AIM:
-                    out[rows, j] = self.phrase_margins(valid)
-                    continue
-                scored = [figure_of(f, aim.figure) for f in figs]
-                col = [v if v is not None else UNDEFINED.get(aim.figure, np.nan) for v in scored]
-                out[rows, j] = np.asarray(col, dtype=float)
+            out[np.flatnonzero(ok)] = [aim_values(self.spec, f) for f in self.design_figures(valid)]
         self.seen_fig.append(out)
+        if written:
+            self.written_fig.append(out)
         return out
 
     def misses(self, fig: np.ndarray) -> np.ndarray:
@@ -352,6 +379,15 @@ class Evaluator:
 
     def score(self, values: np.ndarray) -> np.ndarray:
         return self.misses(self.figures(values)).sum(axis=1)
+
+
+def aim_values(spec: FitSpec, fig: dict) -> np.ndarray:
+    """The value each aim scores from one design's figures (an undefined figure as its stand-in, else NaN)."""
+    out = []
+    for aim in spec.aims:
+        v = figure_of(fig, aim.figure)
+        out.append(v if v is not None else UNDEFINED.get(aim.figure, np.nan))
+    return np.asarray(out, dtype=float)
 
 
 def _start_values(spec: FitSpec, start) -> np.ndarray:
@@ -382,14 +418,39 @@ def snap(spec: FitSpec, x: np.ndarray) -> np.ndarray:
     return out
 
 
+def as_written(spec: FitSpec, x: np.ndarray) -> np.ndarray:
+    """Each value as a result's design file holds it: snapped (:func:`snap`), then written
+    (:func:`format_value`) and read back as the design parser reads it, so that a candidate is scored
+    on exactly the value its file gives."""
+    out = snap(spec, x)
+    flat = out.reshape(-1, len(spec.free))
+    for row in flat:
+        for j, fr in enumerate(spec.free):
+            row[j] = U.parse_quantity(format_value(fr, row[j]), fr.kind)
+    return flat.reshape(out.shape)
+
+
 @dataclass
 class FitResult:
-    values: np.ndarray  # (n_free,)
-    score: float
+    values: np.ndarray  # (n_free,), as the result's file holds them
+    score: float  # from ``figures``, the figures of those values
     figures: dict
     meets: bool
     changed: int
     change: float
+    missed: tuple[Aim, ...] = ()  # the aims it misses (empty when it meets every aim)
+
+
+def verdict(spec: FitSpec, r: FitResult) -> str:
+    """Whether a result meets every aim, or which it misses and what it measures there, in words."""
+    if not r.missed:
+        return "meets every aim"
+    parts = []
+    for a in r.missed:
+        v = figure_of(r.figures, a.figure)
+        has = "has none" if v is None else f"measures {v:.4g}"
+        parts.append(f"{a.describe()} (it {has})")
+    return "misses " + "; ".join(parts)
 
 
 def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int = 60, popsize: int = 12, phrase=None):
@@ -423,27 +484,27 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
     pop_scores = de.population_energies
     order = np.argsort(pop_scores)
     seeds = [spec.expand(10.0**de.x)] + [spec.expand(pop[i]) for i in order[: max(4, top)]]
-    seen: dict[tuple, float] = {}
+    # every candidate as written, by its values' logs: (values, score, buildable with finite aimed figures)
+    seen: dict[tuple, tuple[np.ndarray, float, bool]] = {}
 
     def key_of(v):
         return tuple(np.round(np.log10(v), 9))
 
     def evaluate(cands):
-        cands = np.unique(np.asarray(cands), axis=0)
+        cands = np.unique(as_written(spec, np.asarray(cands)), axis=0)
         new = [c for c in cands if key_of(c) not in seen]
         if new:
-            s = ev.score(np.array(new))
-            for c, sc in zip(new, s):
-                seen[key_of(c)] = float(sc)
-        return [(c, seen[key_of(c)]) for c in cands]
+            fig = ev.figures(np.array(new), written=True)
+            for c, sc, ok in zip(new, ev.misses(fig).sum(axis=1), np.isfinite(fig).all(axis=1)):
+                seen[key_of(c)] = (c, float(sc), bool(ok))
+        return [seen[key_of(c)][:2] for c in cands]
 
     def rank(c, sc):
         n, r = _tiebreak(c, start_vals)
         return (round(sc, 12), n, r)
 
     for s0 in seeds:
-        cur = snap(spec, s0)
-        cur_sc = evaluate([cur])[0][1]
+        cur, cur_sc = evaluate([s0])[0]
         for _ in range(60):
             moves: list[np.ndarray] = []
 
@@ -462,7 +523,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
                 for step in (-2, -1, 1, 2):
                     if 0 <= i + step < fr.choices.size:
                         move(j, fr.choices[i + step])
-                # a step back to the start's own value keeps changes few
+                # a step back to the start's own value (or the series value nearest it) keeps changes few
                 if not np.isnan(start_vals[j]) and fr.lo <= start_vals[j] <= fr.hi:
                     move(j, start_vals[j])
             if not moves:
@@ -473,25 +534,46 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
                 cur, cur_sc = best_c, best_s
             else:
                 break
-    ranked = sorted(((np.array(k), v) for k, v in seen.items()), key=lambda kv: rank(10.0 ** kv[0], kv[1]))
+    # only designs that can be built and whose aimed figures are finite; each once (the keys are of written values)
+    ranked = sorted(((c, sc) for c, sc, ok in seen.values() if ok), key=lambda cs: rank(*cs))
     results = []
-    for logv, sc in ranked[:top]:
-        v = 10.0**logv
-        v = snap(spec, v)  # exact series values, not their rounded logs
-        from .figures import figures
-
-        fig = figures([apply(start, spec.free, v)])[0]
-        if spec.needs_phrase:
-            fig[PHRASE_AIM] = float(ev.phrase_margins([apply(start, spec.free, v)])[0])
+    for v, _ in ranked[:top]:
+        # the figures of the values as written, and the score and verdict from those figures
+        fig = ev.design_figures([apply(start, spec.free, v)])[0]
+        miss = ev.misses(aim_values(spec, fig)[None, :])[0]
+        missed = tuple(a for a, m in zip(spec.aims, miss) if m > 1e-12)
         n, r = _tiebreak(v, start_vals)
-        results.append(FitResult(values=v, score=sc, figures=fig, meets=sc <= 1e-12, changed=int(n), change=float(r)))
+        results.append(FitResult(values=v, score=float(miss.sum()), figures=fig, meets=not missed, changed=int(n), change=float(r), missed=missed))
     return results, ev, start_vals
 
 
+def _held(spec: FitSpec, fig: np.ndarray) -> np.ndarray:
+    """Whether each aim holds (columns) at each design tried (rows)."""
+    return np.column_stack([a.miss(fig[:, j]) <= 1e-12 for j, a in enumerate(spec.aims)]) & ~np.isnan(fig)
+
+
 def conflicts(spec: FitSpec, ev: Evaluator) -> str:
-    """Which aims the search could not meet, alone or together, as one sentence."""
-    fig = np.vstack([f for f in ev.seen_fig if f.size])
-    ok = np.column_stack([a.miss(fig[:, j]) <= 1e-12 for j, a in enumerate(spec.aims)]) & ~np.isnan(fig)
+    """Which aims the search could not meet, alone or together, as one sentence.
+
+    Judged on every design the search tried, between the series' values too; where
+    those met every aim together but none on the series did, it says so, with
+    how near the series' values came to each aim they missed."""
+    tried = np.vstack([f for f in ev.seen_fig if f.size])
+    if not _held(spec, tried).all(axis=1).any():
+        return _conflicts(spec, tried)
+    written = np.vstack([f for f in ev.written_fig if f.size])
+    held = _held(spec, written)
+    parts = []
+    for j, a in enumerate(spec.aims):
+        col = written[:, j][~np.isnan(written[:, j])]
+        if not held[:, j].any() and col.size:
+            parts.append(f"{a.describe()} (on the series the search reached {col.min():.4g} to {col.max():.4g})")
+    missed = f": {'; '.join(parts)}" if parts else ""
+    return f'every aim held together only between the series\' values, at none the search tried on them{missed}; try a finer series (E24, E48, E96) or series = "none"'
+
+
+def _conflicts(spec: FitSpec, fig: np.ndarray) -> str:
+    ok = _held(spec, fig)
     alone = [spec.aims[j] for j in range(len(spec.aims)) if not ok[:, j].any()]
     if alone:
         parts = []
@@ -523,14 +605,19 @@ def conflicts(spec: FitSpec, ev: Evaluator) -> str:
 # Writing design files
 
 
+WRITTEN_DIGITS = 6  # significant figures of a written value: a series value's own (E96 has 3), a continuous one's within 5 ppm
+
+
 def format_value(fr: Free, v: float) -> str:
-    """A buyable value as it would be written: RKM for resistors, prefixes otherwise."""
-    if fr.spec.kind is U.RESISTANCE:
-        return U.format_rkm(v)
-    if fr.spec.kind is U.CAPACITANCE:
-        return U.format_rkm(v, unit_letter="")
-    unit = fr.spec.kind.unit if isinstance(fr.spec.kind, U.Kind) else ""
-    return U.format_si(v, unit, digits=4).replace(" ", "")
+    """A value as it is written: RKM for resistors and capacitors, prefixes otherwise (to WRITTEN_DIGITS figures)."""
+    kind = fr.kind
+    if kind is U.RESISTANCE:
+        return U.format_rkm(v, digits=WRITTEN_DIGITS)
+    if kind is U.CAPACITANCE:
+        return U.format_rkm(v, unit_letter="", digits=WRITTEN_DIGITS)
+    if kind.power != 1:  # a prefix on a squared unit squares too (mm² = 1e-6 m²): the number in the SI unit
+        return f"{v:.{WRITTEN_DIGITS}g}{kind.unit}"
+    return U.format_si(v, kind.unit, digits=WRITTEN_DIGITS).replace(" ", "")
 
 
 def rebase_files(text: str, *, from_dir: Path, to_dir: Path) -> str:

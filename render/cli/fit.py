@@ -57,7 +57,11 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips,
     def report(step) -> None:
         if isinstance(step, FitRun):
             print_table(step)
+            for line in step.verdicts():
+                click.echo(line)
             n = len(step.files)
+            if note := step.shortfall():
+                click.echo(note)
             click.echo(f"wrote {n} design{'' if n == 1 else 's'}, fit.json and fit-responses.png to {step.folder}/")
         elif isinstance(step, ClipsRun):
             report_clips(step)

@@ -40,10 +40,13 @@ class FitRun:
     start_figures : dict
     start_values : np.ndarray [shape=(parts,)], SI units (NaN: absent in the start)
     results : tuple of FitResult
-        Best first; each with its snapped part values, figures, score and whether it meets every aim.
+        Best first; each with its part values as written, their figures, score and the aims it misses (none when it meets every aim).
+        Only designs that can be built, each once: fewer than ``top`` where the search found fewer.
     files : tuple of Path
         The design files written, in the results' order.
     folder : Path
+    top : int
+        How many results were asked for.
     """
 
     spec: FitSpec
@@ -54,6 +57,20 @@ class FitRun:
     results: tuple
     files: tuple[Path, ...]
     folder: Path
+    top: int = 3
+
+    def verdicts(self) -> list[str]:
+        """One line per result: whether it meets every aim, or which it misses and what it measures there."""
+        from ..analysis.fit import verdict
+
+        return [f"#{i} {verdict(self.spec, r)}" for i, r in enumerate(self.results, 1)]
+
+    def shortfall(self) -> str | None:
+        """Why fewer results than asked for were written, in words (None when there are as many)."""
+        n = len(self.results)
+        if n >= self.top:
+            return None
+        return f"asked for {self.top} results, found {n}: the search tried no other distinct design that can be built within these ranges and series"
 
 
 def start_file_of(spec, fitfile: Path) -> Path:
@@ -91,7 +108,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
         For a bad fit file, or when no result meets every aim (saying which aims conflict).
     """
     from ..analysis.figures import figures
-    from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit
+    from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit, verdict
     from ..design import apply_rig, design_provenance, load_design, parse_design
     from ..design.loading import as_rig
     from ..io.atomic import write_json, write_text
@@ -116,38 +133,38 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     with run_folder(out) if marked else contextlib.nullcontext(make_folder(out)):
         # the results live in ``out``: a measured coil's file is found from there as from the start file
         text = rebase_files(start_file.read_text(encoding="utf-8"), from_dir=start_file.parent, to_dir=Path(out))
-        records, written = [], []
+        bodies, records = [], []
         for rank, r in enumerate(results, 1):
             changes = [(fr, v, None if np.isnan(s) else s) for fr, v, s in zip(spec.free, r.values, start_vals) if np.isnan(s) or not np.isclose(v, s, rtol=1e-9, atol=0.0)]
             summary = ", ".join(f"{fr.name} {format_value(fr, s) if s is not None else 'absent'} → {format_value(fr, v)}" for fr, v, s in changes) or "nothing"
-            header = (
-                f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n"
-                f"# changed: {summary}\n# score {r.score:.3g} ({'meets every aim' if r.meets else 'misses an aim'})\n"
-            )
+            header = f"# render fit result {rank} of {len(results)} for {fitfile} (seed {seed}), from {start_file}\n# changed: {summary}\n# score {r.score:.3g} ({verdict(spec, r)})\n"
             path = Path(out) / f"{start_file.stem}-fit-{rank}.toml"
             body = rewrite(text, changes, header, name=path.stem)
-            parse_design(loads(body), source=str(path), name=path.stem)  # the written file must be a valid design
-            write_text(path, body, overwrite=True)
-            written.append(path)
+            parse_design(loads(body), source=str(path), name=path.stem)  # each file must be a valid design, checked before any is written
+            bodies.append((path, body))
             records.append(
                 {
                     "file": str(path),
                     "score": r.score,
                     "meets": r.meets,
+                    "misses": [a.describe() for a in r.missed],
                     "changed_parts": r.changed,
                     "figures": {k: v for k, v in r.figures.items() if k != "passive"},
                     "changes": {fr.name: v for fr, v, _ in changes},
                 }
             )
+        for path, body in bodies:
+            write_text(path, body, overwrite=True)
+        written = [path for path, _ in bodies]
         write_json(
             Path(out) / "fit.json",
-            {"fit_file": str(fitfile), "start": str(start_file), **design_provenance(start), "seed": seed, "aims": [a.describe() for a in spec.aims], "results": records},
+            {"fit_file": str(fitfile), "start": str(start_file), **design_provenance(start), "seed": seed, "aims": [a.describe() for a in spec.aims], "top": top, "results": records},
             overwrite=True,
         )
         from ..report.plots import fit_plot
 
         fit_plot(Path(out) / "fit-responses.png", [start] + [apply_rig(load_design(p), rig_file) for p in written], title=f"render fit: {fitfile.name}")
-        return FitRun(spec=spec, start=start, start_file=start_file, start_figures=start_fig, start_values=start_vals, results=tuple(results), files=tuple(written), folder=Path(out))
+        return FitRun(spec=spec, start=start, start_file=start_file, start_figures=start_fig, start_values=start_vals, results=tuple(results), files=tuple(written), folder=Path(out), top=top)
 
 
 @dataclass(frozen=True)

@@ -208,3 +208,131 @@ def test_rebasing_leaves_absolute_paths_alone():
     text = 'measured = "coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n  measured=\'coils/d.csv\'\n'
     got = rebase_files(text, from_dir=Path("/d/models"), to_dir=Path("/d/out/run"))
     assert got == 'measured = "../../models/coils/a.csv"   # note\nmeasured = "/abs/b.csv"\nother = "coils/c.csv"\n  measured=\'../../models/coils/d.csv\'\n'
+
+
+def checked(tmp_path, files):
+    """`render check --json` of written design files: their figures as the project's own check gives them, by file."""
+    out = tmp_path / "check.json"
+    res = run("check", *files, "--json", out)
+    assert res.exit_code == 0, res.output
+    return {d["file"]: d["figures"] for d in json.loads(out.read_text())["designs"]}
+
+
+def test_a_start_value_off_the_series_is_scored_as_written(tmp_path):
+    # the start's feedback.r (110k) is not an E6 value; on E6 from 100k to 150k the level is -7.66 dB (100k)
+    # or -4.41 dB (150k) (render check of those files), so an aim of -6.9 ± 0.05 dB is met by neither and
+    # the run says so, writing nothing, instead of writing 100k with the 110k start's score
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\nlevel_1k_db = {{ value = -6.9, within = 0.05 }}\n[free]\n"feedback.r" = {{ min = "100k", max = "150k", series = "E6" }}\n')
+    res = run("fit", fit, "--out", tmp_path / "o")
+    assert res.exit_code == 1, res.output
+    assert "no design met every aim" in res.output and "only between the series' values" in res.output
+    assert not (tmp_path / "o").exists()
+
+
+def test_results_are_distinct_and_claim_what_their_files_give(tmp_path):
+    # two E6 values lie in the range: two distinct results (never the 110k start snapped onto 100k twice), and each
+    # one's level and verdict are those of `render check` on its written file
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\nlevel_1k_db = {{ min = -8 }}\n[free]\n"feedback.r" = {{ min = "100k", max = "150k", series = "E6" }}\n')
+    out = tmp_path / "o"
+    res = run("fit", fit, "--out", out)
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "fit.json").read_text())["results"]
+    assert sorted(r["changes"].get("feedback.r", 110e3) for r in results) == [100e3, 150e3]
+    check = checked(tmp_path, [r["file"] for r in results])
+    for r in results:
+        level = check[r["file"]]["level_1k_db"]
+        assert r["figures"]["level_1k_db"] == pytest.approx(level, rel=1e-9)
+        assert r["meets"] is (level >= -8) and r["misses"] == ([] if level >= -8 else ["level_1k_db ≥ -8"])
+    assert "asked for 3 results, found 2" in res.output
+
+
+def test_a_continuous_part_is_written_as_it_was_scored(tmp_path):
+    # series = "none": the written value reproduces the scored one, so `render check` of the file meets the
+    # narrow aim as fit.json says (a value rounded to 3 figures, 109k, gives -6.98 dB and misses it)
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\nlevel_1k_db = {{ value = -7.0, within = 0.002 }}\n[free]\n"feedback.r" = {{ min = "22k", max = "470k", series = "none" }}\n')
+    out = tmp_path / "o"
+    res = run("fit", fit, "--out", out, "--top", 2)
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "fit.json").read_text())["results"]
+    check = checked(tmp_path, [r["file"] for r in results])
+    for r in results:
+        level = check[r["file"]]["level_1k_db"]
+        assert r["figures"]["level_1k_db"] == pytest.approx(level, rel=1e-9)
+        assert r["meets"] and abs(level + 7.0) <= 0.002
+        assert load_design(r["file"]).feedback.r == pytest.approx(r["changes"]["feedback.r"], rel=1e-12)
+
+
+def test_more_results_asked_for_than_can_be_built(tmp_path):
+    # E6 bias_top from 10k to 10M against bias_bottom 220k: most values put the bias outside the output's
+    # linear window (a design the parser refuses), so fewer than 20 results can be built; those are written
+    # with finite figures (render check), the run finishes (fit.json, no INCOMPLETE.txt) and says so
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\nheadroom_v = {{ min = 1 }}\n[free]\n"input_b.bias_top" = {{ min = "10k", max = "10M", series = "E6" }}\n')
+    out = tmp_path / "o"
+    res = run("fit", fit, "--out", out, "--top", 20)
+    assert res.exit_code == 0, res.output
+    names = {p.name for p in out.iterdir()}
+    assert "fit.json" in names and "INCOMPLETE.txt" not in names
+    results = json.loads((out / "fit.json").read_text())["results"]
+    assert 0 < len(results) < 20 and len(names & {f"studio-reference-fit-{i}.toml" for i in range(1, 21)}) == len(results)
+    assert f"asked for 20 results, found {len(results)}" in res.output
+    check = checked(tmp_path, [r["file"] for r in results])
+    for r in results:
+        headroom = check[r["file"]]["headroom_v"]
+        assert math.isfinite(headroom) and r["figures"]["headroom_v"] == pytest.approx(headroom, rel=1e-9)
+        assert r["meets"] is (headroom >= 1)
+
+
+def test_each_result_says_which_aims_it_misses(tmp_path):
+    # the printed verdicts agree with `render check` of the written files, judged here against the demo fit
+    # file's aims: peak_hz 4800 ± 4 % (as a log ratio), peak_db ≥ 3, level ≥ -7.5, hum rejection ≥ 50, headroom ≥ 3
+    out = tmp_path / "o"
+    res = run("fit", ROOT / "models" / "fits" / "brighter-reference.toml", "--out", out)
+    assert res.exit_code == 0, res.output
+    results = json.loads((out / "fit.json").read_text())["results"]
+    check = checked(tmp_path, [r["file"] for r in results])
+    lines = res.output.splitlines()
+    for i, r in enumerate(results, 1):
+        f = check[r["file"]]
+        missed = [
+            name
+            for name, holds in (
+                ("peak_hz = 4800 ± 4 %", abs(math.log(f["aimed_peak_hz"] / 4800)) <= math.log(1.04)),
+                ("peak_db ≥ 3", f["peak_db"] >= 3),
+                ("level_1k_db ≥ -7.5", f["level_1k_db"] >= -7.5),
+                ("hum_rejection_db ≥ 50", f["hum_rejection_db"] >= 50),
+                ("headroom_v ≥ 3", f["headroom_v"] >= 3),
+            )
+            if not holds
+        ]
+        (line,) = [ln for ln in lines if ln.startswith(f"#{i} ")]
+        if missed:
+            assert line.startswith(f"#{i} misses ") and all(m in line for m in missed) and r["misses"] == missed, line
+        else:
+            assert line == f"#{i} meets every aim" and r["meets"], line
+
+
+def test_same_as_naming_a_part_listed_below_says_to_move_it(tmp_path):
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\nlevel_1k_db = {{ min = -8 }}\n[free]\n"input_b.load_c" = {{ same_as = "input_a.load_c" }}\n"input_a.load_c" = {{ min = "1n", max = "10n" }}\n')
+    res = run("fit", fit, "--out", tmp_path / "o")
+    assert res.exit_code == 1
+    assert res.output.strip().endswith('move the line "input_a.load_c" = { … } above "input_b.load_c" in [free]'), res.output
+    assert "known parts above it: \n" not in res.output
+
+
+def test_every_free_part_is_written_as_the_design_parser_reads_it():
+    # a written value read back by the design files' reader gives the value to half a unit in the sixth figure;
+    # an area's prefix squares with its unit (SI brochure, 9th ed., 3.1: mm² = (10⁻³ m)²), so an area is written in m²
+    from render import units as U
+    from render.analysis.fit import FREE_TABLES, Free, format_value
+    from render.design import DESIGN_TABLES
+
+    kinds = {}
+    for t in FREE_TABLES:
+        for k, s in DESIGN_TABLES[t].items():
+            if isinstance(s.kind, U.Kind):
+                kinds.setdefault(s.kind.name, Free(f"{t}.{k}", t, k, s, s.lo or 1e-3, s.hi or 1e3, None, None))
+    assert "area" in kinds and "resistance" in kinds and "capacitance" in kinds
+    for fr in kinds.values():
+        for x in (1.23456789e-9, 9.9999e-4, 0.8019036, 999.9, 108679.4365, 4.7e3):
+            text = format_value(fr, x)
+            assert U.parse_quantity(text, fr.spec.kind) == pytest.approx(x, rel=5e-6), (fr.spec.kind.name, x, text)
