@@ -91,6 +91,9 @@ def _file_ancestor(path: Path) -> Path | None:
     return None
 
 
+FIXED_FORMATS = {".wav": "a WAV", ".png": "a PNG image"}  # files whose bytes are that format whatever they are called: the name must say so
+
+
 def out_file(name: str, value: object, *, stdout: bool = False, example: str = "out.json") -> str:
     """A file to write: not empty, a folder, inside a missing folder or inside a file; ``-`` only where ``stdout``.
 
@@ -106,6 +109,9 @@ def out_file(name: str, value: object, *, stdout: bool = False, example: str = "
     p = Path(text)
     if p.is_dir():
         raise InputError(f"{name}={_path(text)}: is a folder; give a file name inside it, such as {p / example}")
+    fixed = Path(example).suffix.lower()
+    if fixed in FIXED_FORMATS and p.suffix.lower() != fixed:
+        raise InputError(f"{name}={_path(text)}: this file is written as {FIXED_FORMATS[fixed]}; give a name ending in {fixed}, such as {p.with_suffix(fixed).name}")
     blocked = _file_ancestor(p)
     if blocked is not None:
         raise InputError(f"{name}={_path(text)}: {blocked} is a file, not a folder; choose another path")

@@ -110,6 +110,8 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field, table: str = "") -
         part = key.split(".")[:2] if table == "free" and key.count(".") >= 2 else [table, key]  # a fit file's [free] "feedback.c".min
         guess = likely_prefix(part[0], part[1], value) or f"{value:g}n"
         return f' (plain numbers are in SI units: {shorten(str(raw).strip())} means {value:g} {spec.kind.unit}; write e.g. "{guess}")'
+    if bare and spec.kind is U.LENGTH and value > spec.hi and _in_range(value * 1e-3, spec):
+        return f' (plain numbers are in metres: {shorten(str(raw).strip())} means {value:g} m; write e.g. "{value:g}mm")'
     if isinstance(raw, str):
         t = raw.strip()
         body = next((t[: -len(s)] for s in ("ohms", "ohm", "Ω") if t.endswith(s)), t)
@@ -347,11 +349,19 @@ def quantity(
     shown: str = "",
     fix: str | None = None,
 ) -> float:
-    """Parse ``value`` as ``kind`` and check low <= x <= high (x > low when low_open)."""
+    """Parse ``value`` as ``kind`` and check low <= x <= high (x > low when low_open).
+
+    Out of range with no ``fix`` given, the fix is the likely slip's, as for a design file's values
+    (a prefix that brings it into range: "648m" → "648mm"; a plain number of millimetres).
+    """
     try:
         x = parse_quantity(value, kind)
     except QuantityError as e:
         raise where.fail(key, value, str(e)) from None
+    if fix is None and ((low is not None and (x <= low if low_open else x < low)) or (high is not None and x > high)):
+        spec = Field(kind, lo=low if low is not None else 0.0, hi=high if high is not None else INF, lo_open=low_open)
+        hint = _slip_hint(key, value, x, spec)
+        fix = hint.lstrip(" ;").removeprefix("(").removesuffix(")") or None
     unit = f" {shown}" if shown else (f" {kind.unit}" if kind.unit else "")
     if low is not None and (x <= low if low_open else x < low):
         bound = f"> {low:g}{unit}" if low_open else f">= {low:g}{unit}"

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import click
 
-from .options import friendly, overwrite_option, sample_rate_option
+from .options import friendly, overwrite_option, sample_rate_option, warn
 from .values import InFile, OutFile, Seed
 
 
@@ -42,6 +42,8 @@ def dry_command(phrase, out, position, aperture, sample_rate, seed, seconds, spe
     x, w = _quantity("--position", position, LENGTH), _quantity("--aperture", aperture, LENGTH)
     length = None if seconds is None else _quantity("--seconds", seconds, TIME)
     r = preview_dry(phrase, out, position=x, aperture=w, sample_rate=sample_rate, seed=seed, seconds=length, spectrogram=spectrogram, overwrite=overwrite)
+    for text in r.warnings:
+        warn(text)
     note = "; above full scale (float samples keep it, but turn playback down)" if r.peak_m_per_s > 1.0 else ""
     extra = f" and {r.spectrogram}" if r.spectrogram else ""
     click.echo(f"wrote {r.wav}{extra}: {r.seconds:.2f} s at {r.sample_rate} Hz, peak {r.peak_m_per_s:.3g} m/s (full scale 1 m/s){note}")

@@ -144,9 +144,18 @@ def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: 
         v, warnings, info, _ = pickup_velocity(phrase, pickup, sample_rate=sample_rate, seed=seed, seconds=seconds)
         return Dry(velocity=v, sample_rate=int(sample_rate), warnings=warnings, description=info)
     velocity = string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
+    return phrase_dry(phrase, velocity, positions=positions, sample_rate=sample_rate, seed=seed)
+
+
+def phrase_dry(phrase: Phrase, velocity: np.ndarray, *, positions, sample_rate: int, seed: int) -> Dry:
+    """The :class:`Dry` of a phrase synthesised at two sensing points (one row: the same at both), with
+    a warning for each note a point does not hear (:func:`render.dry.modal.unheard_notes`)."""
+    from .modal import unheard_notes
+
     if velocity.shape[0] == 1:
         velocity = np.vstack([velocity, velocity])
-    return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=(), description=describe(phrase) | {"seed": int(seed)})
+    unheard = unheard_notes(phrase, positions, ("coil_a's sensing point", "coil_b's sensing point"))
+    return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=unheard, description=describe(phrase) | {"seed": int(seed)})
 
 
 def load_dry(

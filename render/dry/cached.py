@@ -20,7 +20,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from . import Dry, describe
+from . import Dry
 from .modal import _add_note, _check_points, one_blas_thread, plucks
 from .phrase import Phrase
 
@@ -68,10 +68,10 @@ class NoteCache:
     @one_blas_thread  # as render.dry.synthesize: the same bits on any machine
     def synthesize(self, phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None) -> Dry:
         """As :func:`render.dry.synthesize`, through the cache."""
+        from . import phrase_dry
+
         velocity = self.string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
-        if velocity.shape[0] == 1:
-            velocity = np.vstack([velocity, velocity])
-        return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=(), description=describe(phrase) | {"seed": int(seed)})
+        return phrase_dry(phrase, velocity, positions=positions, sample_rate=sample_rate, seed=seed)
 
     def prune(self) -> None:
         """Forget the terms the calls since the last prune did not use."""

@@ -94,6 +94,23 @@ def position_weights(n: np.ndarray, *, position: float | np.ndarray, length: flo
     return np.where(x < length, w, 0.0)
 
 
+def unheard_notes(phrase, positions, names=("the sensing point",)) -> tuple[str, ...]:
+    """Warnings for the notes whose vibrating length ends at or before a sensing point (the string
+    does not move there, :func:`position_weights`), one per note and point, as a user reads them.
+
+    positions : m from the bridge saddle; names : what each point is called in the warning.
+    """
+    out = []
+    for note in phrase.notes:
+        for x, name in zip(positions, names):
+            if note.length <= x:
+                out.append(
+                    f"string {note.string}, fret {note.fret:g} at {note.time:g} s: its vibrating length {note.length * 1e3:.0f} mm ends before"
+                    f" {name} at {x * 1e3:g} mm from the saddle, so it is not heard there"
+                )
+    return tuple(out)
+
+
 def aperture_weights(n: np.ndarray, *, aperture: float | np.ndarray, length: float) -> np.ndarray:
     """Window factor sin(u) / u, u = n pi W / (2 L), of a sensing window of width W.
 

@@ -410,7 +410,11 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
             if note.duration is not None:
                 seconds = max(seconds, note.time + note.duration + 3.0 * instrument.release)
         if seconds > MAX_SECONDS:
-            raise top.fail("seconds", round(seconds, 3), f"the phrase would last longer than {MAX_SECONDS:g} s", "shorten it")
+            last = max(ordered, key=lambda n: n.time)
+            raise InputError(
+                f"{source}: with no seconds given the phrase would last {seconds:g} s (its last note starts at {last.time:g} s; the tail after it is {DEFAULT_TAIL:g} s),"
+                f" longer than {MAX_SECONDS:g} s; give seconds = {MAX_SECONDS:g} or less at the top to cut it, or move the notes earlier"
+            )
     return Phrase(
         source=source,
         title=title,
@@ -705,6 +709,11 @@ def _parse_vibrato(where: Where, value: object) -> Vibrato:
 
 
 def _parse_chord(where: Where, table: Any, instrument: Instrument, playing: _Playing) -> list[Note]:
+    if isinstance(table, dict) and ("string" in table or "fret" in table or "pitch" in table):
+        key = next(k for k in ("string", "fret", "pitch") if k in table)
+        raise InputError(
+            f'{where.place}: {key} is a [[note]]\'s key; a [[chord]] gives its frets as a list, one per string, lowest string first, "x" for a string not played, e.g. frets = [3, 2, 0, 0, 0, 3]'
+        )
     check_keys(where, table, CHORD_KEYS)
     time = _time(where, table)
     strings = instrument.strings

@@ -76,6 +76,8 @@ def decode_toml_text(raw: bytes, path: str | Path) -> str:
     try:
         return raw.decode("utf-8")
     except UnicodeDecodeError as exc:
+        if raw.startswith((b"RIFF", b"RIFX", b"RF64", b"fLaC", b"OggS", b"FORM")):
+            raise InputError(f"{path}: is audio, not a TOML text file; this takes a phrase or design file (.toml); a recording plays through render clips --dry") from None
         raise InputError(f"{path}: not a UTF-8 text file (byte {exc.start} is 0x{raw[exc.start]:02x}); save it as UTF-8 TOML") from None
 
 

@@ -22,6 +22,8 @@ class DryPreview:
     seconds : float, s
     sample_rate : int, Hz
     peak_m_per_s : float, m/s
+    warnings : tuple of str
+        Notes the sensing point does not hear (their vibrating length ends before it).
     """
 
     wav: Path
@@ -29,6 +31,7 @@ class DryPreview:
     seconds: float
     sample_rate: int
     peak_m_per_s: float
+    warnings: tuple[str, ...] = ()
 
 
 def preview_dry(
@@ -74,7 +77,8 @@ def preview_dry(
             raise ArgumentError("out", f"{out}", f"folder {target.parent} does not exist; create it first")
     p = load_phrase(phrase_path)
     if not position < p.instrument.scale_length:
-        raise ArgumentError("position", f"{position * 1e3:g}mm", f"must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm")
+        metres = f'; a plain number is in metres: for {position:g} mm write "{position:g}mm"' if position * 1e-3 < p.instrument.scale_length else ""
+        raise ArgumentError("position", f"{position * 1e3:g}mm", f"must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm{metres}")
     if not aperture < p.instrument.scale_length / 2:
         raise ArgumentError("aperture", f"{aperture * 1e3:g}mm", f"a sensing window must be narrower than half the scale length ({p.instrument.scale_length / 2 * 1e3:g} mm); 0 is a point")
     v = string_velocity(p, sample_rate=rate, positions=[position], apertures=[aperture], seed=seed, seconds=seconds)[0]
@@ -87,4 +91,7 @@ def preview_dry(
         except BaseException:
             out.unlink(missing_ok=True)  # both or neither
             raise
-    return DryPreview(wav=out, spectrogram=png_path if spectrogram else None, seconds=v.size / rate, sample_rate=rate, peak_m_per_s=float(np.abs(v).max()) if v.size else 0.0)
+    from ..dry.modal import unheard_notes
+
+    peak = float(np.abs(v).max()) if v.size else 0.0
+    return DryPreview(wav=out, spectrogram=png_path if spectrogram else None, seconds=v.size / rate, sample_rate=rate, peak_m_per_s=peak, warnings=unheard_notes(p, [position]))

@@ -118,3 +118,46 @@ def test_seconds_option_sets_the_length(phrase, tmp_path):
     assert run(phrase, "--out", out, "--seconds", "250ms", "--no-spectrogram").exit_code == 0
     assert sf.info(out).frames == 12000
     assert not (tmp_path / "short-spectrogram.png").exists()
+
+
+@pytest.mark.parametrize("name", ["velocity.flac", "velocity"])
+def test_a_wav_goes_under_a_wav_name(phrase, tmp_path, name):
+    # the file is WAV whatever it is called: a name that says otherwise is refused before any work
+    result = run(phrase, "--out", tmp_path / name)
+    assert result.exit_code == 1 and "this file is written as a WAV; give a name ending in .wav" in result.output
+    assert list(tmp_path.iterdir()) == [phrase]
+
+
+def test_a_note_that_ends_before_the_sensing_point_is_named(tmp_path):
+    # string 1 at fret 26 vibrates over 648 mm · 2^(-26/12) = 144 mm (equal temperament): a point at 150 mm
+    # sees no motion (sin(nπx/L) taken as 0 past the fret), so the preview is silent and says why
+    path = tmp_path / "high.toml"
+    path.write_text("seconds = 1.0\n[[note]]\ntime = 0\nstring = 1\nfret = 26\n")
+    result = CliRunner().invoke(dry_command, [str(path), "--out", str(tmp_path / "high.wav")])
+    assert result.exit_code == 0, result.output
+    assert "peak 0 m/s" in result.stdout
+    assert f"vibrating length {648 * 2 ** (-26 / 12):.0f} mm ends before the sensing point at 150 mm" in result.stderr
+
+
+def test_phrase_lengths_get_the_design_files_slip_hints(tmp_path):
+    # a plain number is in metres (SI): 648 is 648 m, "648m" 648 metres; both are refused with the likely fix
+    for value, fix in (("648", 'write e.g. "648mm"'), ('"648m"', 'did you mean "648mm"?')):
+        path = tmp_path / "long.toml"
+        path.write_text(f"seconds = 1.0\n[instrument]\nscale_length = {value}\n[[note]]\ntime = 0\nstring = 1\nfret = 0\n")
+        result = run(path, "--out", tmp_path / "long.wav", "--overwrite")
+        assert result.exit_code == 1 and fix in result.output, result.output
+
+
+def test_a_phrase_too_long_names_its_last_note_not_a_missing_key(tmp_path):
+    path = tmp_path / "late.toml"
+    path.write_text("[[note]]\ntime = 599\nstring = 1\nfret = 0\n")
+    result = run(path, "--out", tmp_path / "late.wav")
+    assert result.exit_code == 1
+    assert "with no seconds given the phrase would last 601 s (its last note starts at 599 s" in result.output and "give seconds = 600 or less" in result.output
+
+
+def test_a_recording_given_as_the_phrase_is_named_as_audio(tmp_path):
+    wav = tmp_path / "take.wav"
+    sf.write(wav, np.zeros(4800, np.float32), 48000, subtype="FLOAT")
+    result = run(wav, "--out", tmp_path / "out.wav")
+    assert result.exit_code == 1 and "is audio, not a TOML text file" in result.output and "render clips --dry" in result.output

@@ -225,3 +225,10 @@ def test_phrase_is_frozen():
     with pytest.raises(AttributeError):
         p.seconds = 3.0  # type: ignore[misc]
     assert math.isfinite(p.notes[0].frequency)
+
+
+def test_a_chord_with_a_notes_key_is_told_to_list_its_frets(tmp_path):
+    from render.dry.phrase import parse_phrase
+
+    with pytest.raises(InputError, match=r"string is a \[\[note\]\]'s key; a \[\[chord\]\] gives its frets as a list"):
+        parse_phrase({"seconds": 1.0, "chord": [{"time": 0, "string": 3}]}, source="<chord>")
