@@ -121,18 +121,17 @@ def check_command(models, rig_path, turns_percent, compare_path, json_path, over
         rec["warnings"] = list(design_warnings(d))  # legal but unlikely values
         for w in rec["warnings"]:
             warn(f"{rec['design']}: {w}")
-    if json_path != "-":
-        for i, (d, rec) in enumerate(zip(designs, records)):
-            if i:
-                click.echo()
-            print_design(rec)
-            for name in ("coil_a", "coil_b"):
-                print_winding(name, getattr(d, name))
-                print_geometry(name, getattr(d, name))
-            if turns_percent:
-                print_turns(rec["turns_sweep"], turns_percent)
-        if compared is not None:
+    for i, (d, rec) in enumerate(zip(designs, records)):
+        if i:
             click.echo()
-            echo(figure_lines(compared, [(r["design"], r["figures"]["level_1k_db"]) for r in records]))
+        print_design(rec)
+        for name in ("coil_a", "coil_b"):
+            print_winding(name, getattr(d, name))
+            print_geometry(name, getattr(d, name))
+        if turns_percent:
+            print_turns(rec["turns_sweep"], turns_percent)
+    if compared is not None:
+        click.echo()
+        echo(figure_lines(compared, [(r["design"], r["figures"]["level_1k_db"]) for r in records]))
     if json_path:
         emit_json(json_path, {"designs": records, **({"compare": compared.as_dict()} if compared is not None else {})}, overwrite=overwrite)

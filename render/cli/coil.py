@@ -127,8 +127,7 @@ def show_command(model, csv_path, png_path, json_path, overwrite):
     check_new([csv_path, png_path, json_path], overwrite=overwrite)
     design = _coils_of(model)
     rec = coil_record(design)
-    if json_path != "-":
-        print_record(rec)
+    print_record(rec)
     from ..plausible import measured_warnings
 
     for w in measured_warnings(design):

@@ -73,8 +73,7 @@ def fit_command(measurement, out_path, capacitance, coil, json_path, overwrite):
     held = read_capacitance(capacitance) if capacitance is not None else None
     check_new([out_path, json_path], overwrite=overwrite)
     result = fit_file(measurement, capacitance=held)
-    if json_path != "-":
-        print_fit(result)
+    print_fit(result)
     for w in fit_warnings(result):
         click.echo(f"warning: {w}", err=True)
     table = coil_table(result, coil=coil) if out_path else None  # refused here when the fit would not load in a design
@@ -84,5 +83,4 @@ def fit_command(measurement, out_path, capacitance, coil, json_path, overwrite):
         from ..io.atomic import write_text
 
         write_text(out_path, table, overwrite=overwrite)
-        if json_path != "-":
-            click.echo(f"coil table written to {out_path}")
+        click.echo(f"coil table written to {out_path}")

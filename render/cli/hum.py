@@ -88,32 +88,27 @@ def hum_command(
     compared = comparison_of(load_compare(compare_path, rig_path))
     folder = output_folder(out_dir, overwrite=overwrite) if out_dir else None
     with run_folder(folder) if folder is not None else contextlib.nullcontext(None) as out:
-        show = json_path != "-"
         records = []
         for i, d in enumerate(designs):
             r = hum(d)
             rec = {"file": d.source, "design": d.name, **design_provenance(d), **r.as_dict()}
             warnings(rec, d, dipoles=bool(map_on or positions))
-            if show:
-                if i:
-                    click.echo()
-                print_report(d, r)
+            if i:
+                click.echo()
+            print_report(d, r)
             scales = [*design_one_scale(d), *([compared.scale] if compared else [])]
             rec["hum_and_noise"] = [s.as_dict() for s in scales]
-            if show:
-                echo(scale_lines(scales))
+            echo(scale_lines(scales))
             if out is not None:
                 from ..runs.hum import write_hum_audio
 
                 audio = write_hum_audio(out, d)
                 rec["measured"] = audio.as_dict()
-                if show:
-                    print_audio(audio, r.harmonics)
+                print_audio(audio, r.harmonics)
             if tol:
                 mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
                 rec["monte_carlo"] = mc.as_dict()
-                if show:
-                    print_monte_carlo(mc)
+                print_monte_carlo(mc)
                 if hist_path and i == 0:
                     from ..runs.hum import write_histogram
 
@@ -121,7 +116,6 @@ def hum_command(
             room(
                 rec,
                 d,
-                show=show,
                 map_on=map_on,
                 map_plane=map_plane,
                 bearings=bearings,
@@ -135,7 +129,7 @@ def hum_command(
                 overwrite=overwrite,
             )
             records.append(rec)
-        if compared is not None and show:
+        if compared is not None:
             click.echo()
             echo(hum_lines(compared))
     payload = records[0] if len(records) == 1 else {"designs": records}

@@ -129,15 +129,14 @@ def warnings(rec, d, *, dipoles: bool) -> None:
         rec["warnings"] = lines
 
 
-def room(rec, d, *, show, map_on, map_plane, map_png, positions, shell, joint, tolerances, seed, jobs, overwrite, bearings=None):
-    """The map and the random sources of one design into ``rec``, printed unless the JSON goes to standard output."""
+def room(rec, d, *, map_on, map_plane, map_png, positions, shell, joint, tolerances, seed, jobs, overwrite, bearings=None):
+    """The map and the random sources of one design into ``rec``, printed (to standard error when the JSON goes to standard output)."""
     from ..analysis import hum_room as hr
 
     if map_on:
         m = hr.hum_map(d, plane=map_plane, **({"bearings_deg": bearings} if bearings else {}))
         rec["map"] = hr.map_record(m)
-        if show:
-            print_map(m)
+        print_map(m)
         if map_png:
             from ..report.plots import rejection_map_plot
 
@@ -146,5 +145,4 @@ def room(rec, d, *, show, map_on, map_plane, map_png, positions, shell, joint, t
         kw = {"shell": shell} if shell else {}
         mc = hr.hum_positions(d, trials=positions, seed=seed, joint=joint, tolerances=tolerances or None, jobs=jobs, **kw)
         rec["joint" if joint else "positions"] = hr.positions_record(mc)
-        if show:
-            print_positions(rec["joint" if joint else "positions"])
+        print_positions(rec["joint" if joint else "positions"])

@@ -117,13 +117,12 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
 
     compared = comparison_of(load_compare(compare_path, rig_path), temperature=temperature, reference_velocity=reference_velocity)
     scales = [*design_one_scale(d, temperature=temperature, reference_velocity=reference_velocity), *([compared.scale] if compared else [])]
-    if json_path != "-":
-        for line in summary_lines(r, top):
-            click.echo(line)
-        echo(scale_lines(scales))
-        if compared is not None:
-            click.echo()
-            echo(noise_lines(compared))
+    for line in summary_lines(r, top):
+        click.echo(line)
+    echo(scale_lines(scales))
+    if compared is not None:
+        click.echo()
+        echo(noise_lines(compared))
     if json_path:
         extra = {"hum_and_noise": [s.as_dict() for s in scales], **({"compare": compared.as_dict()} if compared else {})}
         emit_json(json_path, {**noise_record(r, d, rig_file), **extra}, overwrite=overwrite)

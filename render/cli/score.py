@@ -32,12 +32,11 @@ def score_command(session, json_path, png_path, no_plot, overwrite):
     scored = score_blind_session(session, png_path=png_path, plot=not no_plot, overwrite=overwrite)
     for w in scored.warnings:
         warn(w)
-    if json_path != "-":  # standard output carries the JSON alone
-        for line in summary_lines(scored.result):
-            click.echo(line)
-        if scored.kept_plot is not None:
-            click.echo(f"kept {scored.kept_plot} (pass --overwrite to draw it again)")
-        if scored.plot is not None:
-            click.echo(f"wrote {scored.plot}")
+    for line in summary_lines(scored.result):
+        click.echo(line)
+    if scored.kept_plot is not None:
+        click.echo(f"kept {scored.kept_plot} (pass --overwrite to draw it again)")
+    if scored.plot is not None:
+        click.echo(f"wrote {scored.plot}")
     if json_path:
         emit_json(json_path, {"session": scored.session_id, **scored.result}, overwrite=overwrite)

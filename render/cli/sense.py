@@ -48,8 +48,7 @@ def sense_command(model, json_path, png_path, overwrite):
     rec = sense_record(design)
     if note := design_saturation_warning(design):  # the sensing is solved once (cached)
         warn(f"{design.name}: {note}")
-    if json_path != "-":
-        print_record(rec)
+    print_record(rec)
     if png_path:
         from ..report.plots import sense_plot
 

@@ -68,6 +68,7 @@ def test_stdout_is_json_alone(tmp_path, name):
     res = CliRunner().invoke(main, [*CASES[name](tmp_path), "--json", "-"])
     assert res.exit_code == 0, res.output
     json.loads(res.stdout)  # the whole of stdout is one JSON document
+    assert res.stderr.strip()  # and the printed table went to standard error, not away
 
 
 def test_bias_table_goes_to_stderr():
