@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import os
+
 import click
 
 from ..io.folders import refuse_existing as check_new
@@ -76,7 +78,8 @@ def fit_command(measurement, out_path, capacitance, coil, json_path, overwrite):
     print_fit(result)
     for w in fit_warnings(result):
         click.echo(f"warning: {w}", err=True)
-    table = coil_table(result, coil=coil) if out_path else None  # refused here when the fit would not load in a design
+    # refused here when the fit would not load in a design; its measured = "…" hint is relative to the file written, as a design there reads it
+    table = coil_table(result, coil=coil, measured_as=os.path.relpath(measurement, os.path.dirname(os.path.abspath(out_path)))) if out_path else None
     if json_path:
         emit_json(json_path, result.record(), overwrite=overwrite)
     if out_path and table is not None:

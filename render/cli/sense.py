@@ -15,7 +15,7 @@ def print_record(rec: dict) -> None:
     click.echo(f"{rec['design']}  ({rec['file']})")
     for name, rows in rec["coils"].items():
         bal = balance_db(rows)
-        click.echo(f"  {name}   string  V·s/m     sideways  balance  pushed 3 mm  6 mm     H2 dB   H3 dB   (0.5 mm vertical sine)")
+        click.echo(f"  {name}   string  vertical  sideways  balance  pushed 3 mm  6 mm     H2 dB   H3 dB   (vertical, sideways: V·s/m; pushed: dB re rest; H2, H3: 0.5 mm vertical sine)")
         for r, b in zip(rows, bal):
             lat = dict(zip((round(x * 1e4) for x in r["lateral_offset_m"]), r["lateral_db"]))
             click.echo(

@@ -48,7 +48,7 @@ TYPED = ("inductance", "resistance", "capacitance", "eddy_resistance", "eddy_cou
 PLACEHOLDER = {"inductance": 1.0, "resistance": 1e3, "capacitance": 1e-10}  # replaced by resolve()
 FIT_VERSION = 4  # bump when the measured fit's numbers change, so cached fits are recomputed
 LADDER_VERSION = 1  # likewise for the derived coil's ladder fit (render.impedance.ladder.fit_ladder)
-CORE_VERSION = 1
+CORE_VERSION = 2  # bump when the cached core parts change (their rises, or their names: poles numbered from the treble side since 2)
 
 
 def _wire(raw: Any, loc: str):

@@ -193,7 +193,8 @@ class Construction:
                 _fits(name, geom, d, span)
                 for i in range(self.poles):
                     y = (i - (self.poles - 1) / 2.0) * self.pole_spacing
-                    out += round_pole(f"{name} pole {i + 1}", x0, y, d, self.top, h, chi_s, (0.0, 0.0, 0.0), refine)
+                    # numbered from the treble side (+y), as guitarists number the strings: pole 1 under string 1
+                    out += round_pole(f"{name} pole {self.poles - i}", x0, y, d, self.top, h, chi_s, (0.0, 0.0, 0.0), refine)
         if self.kind != "magnet-blades":
             assert self.steel is not None
             w, length, h = self.magnet

@@ -87,6 +87,17 @@ def test_the_written_table_is_the_fitted_coil_in_a_design(tmp_path):
     assert typed.coil_a.resistance == pytest.approx(measured.coil_a.resistance, rel=1e-4)
 
 
+def test_the_tables_measured_hint_is_relative_to_the_file_written(tmp_path):
+    # a design reads measured = "…" relative to its own folder: the hint in a table written to another folder
+    # names the sweep from there, so a design beside the table can use it as it stands
+    (tmp_path / "deep").mkdir()
+    res = run("coil", "fit", CSV, "--out", tmp_path / "deep" / "coil.toml")
+    assert res.exit_code == 0, res.output
+    hint = next(line for line in (tmp_path / "deep" / "coil.toml").read_text().splitlines() if 'measured = "' in line)
+    rel = hint.split('measured = "', 1)[1].split('"', 1)[0]
+    assert (tmp_path / "deep" / rel).resolve() == CSV.resolve()
+
+
 def _values(table: str) -> str:
     lines = table.split("\n[coil_a]\n", 1)[1].split("\n[coil_a.ladder]")[0].splitlines()
     return "".join(line + "\n" for line in lines if line.startswith(("resistance", "capacitance")))
@@ -271,7 +282,7 @@ def test_the_derived_line_adds_up_with_the_small_parts_summed():
     # the printed rises (4 digits) sum to the JSON's, every part counted once
     scale = {"mH": 1e-3, "µH": 1e-6, "H": 1.0}
     printed = sum(float(v) * scale[u] for v, u in re.findall(r"\+([0-9.]+) (mH|µH|H)\b", line.split(";")[0]))
-    rec = json.loads(CliRunner().invoke(main, ["coil", str(design), "--json", "-"]).output)
+    rec = json.loads(CliRunner().invoke(main, ["coil", str(design), "--json", "-"]).stdout)
     parts = rec["coils"]["coil_a"]["from"]["parts"]
     assert printed == pytest.approx(sum(p["rise_h"] for p in parts), rel=1e-3)
 

@@ -47,7 +47,7 @@ def measured(tmp_path):
 def invoke(*args) -> str:
     res = CliRunner().invoke(main, [str(a) for a in args])
     assert res.exit_code == 0, res.output
-    return res.output
+    return res.stdout  # with --json -, the JSON alone (the table goes to standard error)
 
 
 def test_bias_json_names_the_design_and_its_measurements(measured, tmp_path):

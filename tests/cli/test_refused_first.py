@@ -92,7 +92,7 @@ SEED_REFUSAL = "a seed must be a whole number from 0 to 4294967295 (2**32-1); 0 
         ["bias", REF, "--out", "o"],
         ["hum", REF, "--tolerance", "1%", "--json", "o"],  # numpy's SeedSequence raised ValueError here
         ["fit", FIT, "--out", "o"],  # scipy's optimiser raised ValueError here
-        ["dry", PHRASE, "--out", "o"],
+        ["dry", PHRASE, "--out", "o.wav"],
         ["watch", REF, "--no-browser"],
     ],
     ids=lambda a: a[0],
@@ -138,8 +138,9 @@ def test_standard_output_only_where_a_file_can_go_there(here, args, example):
     ids=lambda a: f"{a[0]} {a[-1]}",
 )
 def test_an_output_in_a_missing_folder_is_refused_before_the_work(here, args):
-    line = refused([*args, "missing/x.out"], left=[here / "missing"])
-    assert line == f"{args[-1]}=missing/x.out: folder missing does not exist; create it first or choose another path"
+    name = "missing/x.png" if args[-1] == "--png" else "missing/x.out"  # a PNG goes under its own ending
+    line = refused([*args, name], left=[here / "missing"])
+    assert line == f"{args[-1]}={name}: folder missing does not exist; create it first or choose another path"
 
 
 def test_an_output_file_that_is_a_folder_or_inside_a_file(here):

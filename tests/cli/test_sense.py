@@ -71,7 +71,7 @@ def test_the_strings_polarisation_and_the_saturation_warning(tmp_path):
 def test_json_to_stdout_prints_nothing_else():
     res = run("sense", POLES, "--json", "-")
     assert res.exit_code == 0
-    assert json.loads(res.output)["design"] == "slipway-steel-poles"
+    assert json.loads(res.stdout)["design"] == "slipway-steel-poles"
 
 
 def test_a_design_without_construction_is_refused():
@@ -107,6 +107,6 @@ def test_the_sideways_sensitivity_matches_the_flux_table():
             ip, im = int(np.flatnonzero(np.abs(s.dy - 1e-3) < 1e-12)[0]), int(np.flatnonzero(np.abs(s.dy + 1e-3) < 1e-12)[0])
             diff = (s.flux[ip, i0] - s.flux[im, i0]) / 2e-3
             assert abs(diff - s.sensitivity_y) < 0.05 * largest
-    rec = json.loads(run("sense", POLES, "--json", "-").output)
+    rec = json.loads(run("sense", POLES, "--json", "-").stdout)
     pol = d.coil_a.hum_polarity
     assert [row["sensitivity_lateral_v_s_per_m"] for row in rec["coils"]["coil_a"]] == [pol * s.sensitivity_y for s in sorted(r.coil_a, key=lambda s: -s.string)]

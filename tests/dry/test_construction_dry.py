@@ -258,13 +258,11 @@ def test_the_upper_polarisation_stays_below_nyquist():
     # between its lower polarisation (3933 Hz) and Nyquist holds nothing but the window's leakage
     from types import SimpleNamespace
 
-    import tomllib
-
     from render.dry import construction as C
     from render.dry import modal
 
     fs, f1 = 8000, 3990 / 20
-    p = parse_phrase(tomllib.loads(f'seconds = 1.0\n[instrument]\ntuning = ["{f1}Hz"]\ninharmonicity = 0\npolarisation_split = 50\n[[note]]\ntime = 0\nstring = 1\nfret = 0\npluck_at = 0.03\n'))
+    p = parse_phrase({"seconds": 1.0, "instrument": {"tuning": [f"{f1}Hz"], "inharmonicity": 0, "polarisation_split": 50}, "note": [{"time": 0, "string": 1, "fret": 0, "pluck_at": 0.03}]})
     x = np.linspace(0.02, 0.06, 41)
     sense = SimpleNamespace(x=x, along_z=np.ones_like(x), along_y=np.zeros_like(x), sensitivity_z=1.0, sensitivity_y=0.0)
     plucks = modal.plucks(p, sample_rate=fs, seed=0, seconds=None)

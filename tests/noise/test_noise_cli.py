@@ -51,7 +51,7 @@ def test_json_has_the_documented_keys(tmp_path):
 def test_json_to_stdout_is_only_json():
     res = run(REF, "--json", "-")
     assert res.exit_code == 0
-    assert json.loads(res.output)["design"] == "studio-reference"
+    assert json.loads(res.stdout)["design"] == "studio-reference"
 
 
 def test_png(tmp_path):
@@ -100,7 +100,7 @@ def test_rig_file_applies(tmp_path):
     assert run(REF, "--rig", rig, "--json", out).exit_code == 0
     rec = json.loads(out.read_text())
     assert rec["rig"]["file"] == str(rig)
-    base = json.loads(run(REF, "--json", "-").output)
+    base = json.loads(run(REF, "--json", "-").stdout)
     assert rec["passive"]["total_v"] != base["passive"]["total_v"]
 
 

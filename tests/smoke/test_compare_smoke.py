@@ -77,7 +77,7 @@ def test_the_passive_demo_named_as_a_design_is_refused_with_the_fix(passive):
 def test_compare_output_carries_the_pickup(tmp_path):
     cli = CliRunner()
     res = cli.invoke(main, ["check", str(REFERENCE), "--compare", str(DEMO), "--json", "-"])
-    rec = json.loads(res.output)
+    rec = json.loads(res.stdout)
     assert rec["compare"]["design"] == "workshop-passive" and rec["compare"]["kind"] == "passive"
     res = cli.invoke(main, ["response", str(REFERENCE), "--compare", str(DEMO), "--csv", "-"])
     assert res.output.splitlines()[0].endswith(",compare_magnitude_db,compare_phase_deg")

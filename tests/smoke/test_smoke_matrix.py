@@ -321,5 +321,5 @@ def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
     for key in ("level_1k_db", "peak_hz", "q", "gain_vs_passive_db"):
         assert fig[key] is None and fig[f"{key}_reason"].startswith("no signal"), key
     res = cli.invoke(main, ["noise", str(silent), "--json", "-"])
-    n = json.loads(res.output)
+    n = json.loads(res.stdout)
     assert n["snr_db"] is None and n["snr_db_reason"].startswith("no signal")
