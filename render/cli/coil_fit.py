@@ -46,6 +46,9 @@ def print_fit(result) -> None:
     click.echo(f"  capacitance     {shown}")
     srf = result.self_resonance_hz
     click.echo(f"  self-resonance  {_eng(srf, 'Hz', 3) if srf else 'none below 10 MHz'}")
+    if not result.residual_bands():
+        click.echo("  residual: not computed: the sweep has no points in 20 Hz–20 kHz")
+        return
     click.echo("  residual (model − measurement)   max dB  rms dB   max °   rms °")
     for b in result.residual_bands():
         span = band_text(b)

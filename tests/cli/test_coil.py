@@ -325,3 +325,16 @@ def test_a_sweep_within_one_decade_reports_its_residual_once(tmp_path):
     bands = fit_file(path).residual_bands()
     assert len(bands) == 1 and bands[0]["points"] == 40
     assert bands[0]["from_hz"] == pytest.approx(20.0) and bands[0]["to_hz"] == pytest.approx(150.0)
+
+
+def test_a_sweep_above_the_band_says_its_residual_is_not_computed(tmp_path):
+    # a sweep from 25 kHz to 1 MHz of R + jωL in parallel with C (circuit theory: the coil model with no core
+    # loss): it fits, but it has no point in 20 Hz–20 kHz for the residual table, and says so in words
+    f = np.geomspace(25e3, 1e6, 40)
+    w = 2 * np.pi * f
+    z = 1 / (1 / (4100 + 1j * w * 2.2) + 1j * w * 95e-12)
+    path = tmp_path / "high.csv"
+    path.write_text("frequency_hz,z_ohm,phase_deg\n" + "".join(f"{a:.9g},{abs(b):.9g},{np.degrees(np.angle(b)):.9g}\n" for a, b in zip(f, z)))
+    res = run("coil", "fit", path)
+    assert res.exit_code == 0, res.output
+    assert "residual: not computed: the sweep has no points in 20 Hz–20 kHz" in res.stdout
