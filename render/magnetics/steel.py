@@ -122,6 +122,10 @@ class Excitation:
     remanence: bool = True
 
 
+MAX_CELLS = 4000  # cells of one solve: the demo constructions take 500 to 930, and 4000 about 4.6 GB (below)
+MEMORY_BYTES_PER_CELL_SQUARED = 288  # the interaction matrix (3n × 3n float64, 72·n² bytes) held about four times at the peak: our estimate from the arrays the solve holds, no source
+
+
 def solve_many(parts, excitations) -> list[Boxes]:
     """Every cell's polarisation for each excitation, from one interaction matrix.
 
@@ -136,10 +140,17 @@ def solve_many(parts, excitations) -> list[Boxes]:
     """
     import scipy.linalg
 
-    magpy, demag_tensor = _require()
     all_boxes = [p.boxes() for p in parts]
     cells = Boxes.join(*all_boxes)
     n = len(cells.lo)
+    if n > MAX_CELLS:
+        big = max(parts, key=lambda p: int(np.prod(p.cells)))
+        raise InputError(
+            f"[construction]: its magnets and steel need {n} cells to solve, more than {MAX_CELLS} (the solve's memory grows as their square:"
+            f" about {MEMORY_BYTES_PER_CELL_SQUARED * n * n / 1e9:.0f} GB); the largest part is the {big.name},"
+            f" {' × '.join(f'{(h - lo) * 1e3:g}' for lo, h in zip(big.lo, big.hi))} mm: check its sizes (a height in cm where mm was meant?)"
+        )
+    magpy, demag_tensor = _require()
     chi = np.concatenate([np.full(len(b.lo), p.susceptibility, float) for p, b in zip(parts, all_boxes)])
     sources = [magpy.magnet.Cuboid(dimension=hi - lo, polarization=(0.0, 0.0, 1.0), position=(hi + lo) / 2) for lo, hi in zip(cells.lo, cells.hi)]
     T = demag_tensor(sources) * magpy.mu_0  # (3, n, n, 3), T[k, i, j, m]: field k at i from unit J_m at j

@@ -137,3 +137,19 @@ def test_a_cached_solve_loads_without_importing_the_solver(tmp_path):
     first = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
     again = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True)
     assert (first.stdout.strip(), again.stdout.strip()) == ("True", "False")
+
+
+def test_a_construction_too_large_to_solve_is_refused_before_the_solve(tmp_path):
+    # a bar magnet of 10 × 10 × 3 cm (centimetres where millimetres were meant) needs 12 560 cells: the dense
+    # interaction matrix (3n)² of float64 alone is 11 GB, so it is refused in one line before anything is built
+    require_material_response()
+    root = Path(__file__).resolve().parents[2]
+    text = (root / "models" / "slipway-steel-blades.toml").read_text()
+    for key, value in (("magnet_width", "10cm"), ("magnet_length", "10cm"), ("magnet_height", "3cm")):
+        text = "\n".join(f'{key} = "{value}"' if line.startswith(f"{key} =") else line for line in text.splitlines())
+    path = tmp_path / "huge.toml"
+    path.write_text(text)
+    with pytest.raises(InputError) as e:
+        load_design(path)
+    msg = str(e.value)
+    assert "\n" not in msg and "need 12560 cells to solve, more than 4000" in msg and "bar magnet, 100 × 100 × 30 mm" in msg
