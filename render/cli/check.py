@@ -66,7 +66,7 @@ def print_winding(name, c):
     if c.geometry is None:  # Wheeler's round coil of the same mean turn: a flat bobbin reads 2-3 times high
         # the ratio is the flat bobbin's of the README ("A flat bobbin"), which tests/impedance/test_coil_model.py recomputes
         click.echo(
-            f"{' ' * 20}L as a round coil of this mean turn; a flat bobbin's is lower ({FLAT_BOBBIN_RATIO} times for 68 × 13 mm around a 58 × 3 mm window): give [{name}.geometry] for its shape"
+            f"{' ' * 20}L as a round coil of this mean turn; a flat bobbin's is lower ({FLAT_BOBBIN_RATIO} times for 68 × 13 mm around a 58 × 3 mm window): for its own, give wire and a full [{name}.geometry] in place of [{name}.winding]"
         )
 
 
