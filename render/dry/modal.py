@@ -98,8 +98,10 @@ def unheard_notes(phrase, positions, names=("the sensing point",)) -> tuple[str,
     """Warnings for the notes whose vibrating length ends at or before a sensing point (the string
     does not move there, :func:`position_weights`), one per note and point, as a user reads them.
 
-    positions : m from the bridge saddle; names : what each point is called in the warning.
+    positions : m from the bridge saddle, or lengths as a design file writes them ("40mm");
+    names : what each point is called in the warning.
     """
+    positions = _lengths("positions", positions).reshape(-1)
     out = []
     for note in phrase.notes:
         for x, name in zip(positions, names):
