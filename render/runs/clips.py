@@ -370,6 +370,7 @@ def run_clips(
     progress: Callable[[int], None] | None = None,
     reference: str | None = None,
     compare: Any = None,
+    overwrite: bool = False,
 ) -> ClipsRun:
     """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png), and the comparison page (index.html).
 
@@ -381,7 +382,7 @@ def run_clips(
         A phrase (.toml) or a recorded velocity file, already checked.
     settings : RenderSettings
     out : Path
-        The folder (created here; refused beforehand by the caller if it holds files).
+        The folder (created here); refused before any work if it holds files, unless ``overwrite``.
     rig : RigFile or None
         Play every design into this rig instead of its own (kept in the records).
     jobs : int
@@ -397,15 +398,19 @@ def run_clips(
     compare : PassiveDesign or None
         A passive comparison pickup (``--compare``): its clip plays the same dry signal at the run's full scale,
         with a row in summary.md and on the comparison page, beside the designs (:mod:`render.runs.compare_clip`).
+    overwrite : bool
+        Run into a folder that holds files: an earlier run's files that this one does not write again are removed
+        (files no run listed, such as a listener's notes, stay).
     """
     from ..analysis.brightness import reference_index
     from ..compare.folders import write_clips_page
-    from ..io.folders import run_folder
+    from ..io.folders import output_folder, run_folder
     from ..parallel import SideProcess
     from ..report.brightness import add_brightness
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
     from ..report.records import clip_record
 
+    out = output_folder(out, overwrite=overwrite, claimed=True)  # an earlier run's files are replaced only when asked
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup
     stems = [Path(d.source).stem for d in designs]

@@ -81,15 +81,15 @@ def start_file_of(spec, fitfile: Path) -> Path:
     return start
 
 
-def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0, marked: bool = True) -> FitRun:
+def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0, marked: bool = True, overwrite: bool = False) -> FitRun:
     """Search part values (snapped to preferred-number series) that meet ``fitfile``'s aims, and write the results into ``out``.
 
     Parameters
     ----------
     fitfile : str or Path
         The fit file (aims, free parts, start design).
-    out : Path
-        The folder (refused beforehand by the caller if it holds files).
+    out : str or Path
+        The folder; refused before any work if it holds files, unless ``overwrite``.
     start_path : str or Path or None
         The start design, instead of the fit file's ``from``.
     rig : RigFile or str or Path or None
@@ -101,6 +101,8 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     marked : bool
         Mark ``out`` incomplete (``INCOMPLETE.txt``) while writing; False when
         the caller marks it for a longer run (a fit followed by its clips).
+    overwrite : bool
+        Write into a folder that holds files: an earlier run's files that this one does not write again are removed.
 
     Raises
     ------
@@ -112,9 +114,10 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     from ..design import apply_rig, design_provenance, load_design, parse_design
     from ..design.loading import as_rig
     from ..io.atomic import write_json, write_text
-    from ..io.folders import make_folder, run_folder
+    from ..io.folders import make_folder, output_folder, run_folder
     from ..io.toml import loads
 
+    out = output_folder(out, overwrite=overwrite, prefix="fit")  # an earlier run's files are replaced only when asked
     fitfile = Path(fitfile)
     spec = load_fit(fitfile, start_override=start_path)
     start_file = start_file_of(spec, fitfile)
@@ -269,7 +272,7 @@ def fit_and_render(
     rig_file = as_rig(rig)
     then = clips or blind  # the folder stays marked incomplete until what follows the fit is written
     with run_folder(folder) if then else contextlib.nullcontext():
-        run = fit(fitfile, out=folder, start_path=start_path, rig=rig_file, top=top, seed=seed, marked=not then)
+        run = fit(fitfile, out=folder, start_path=start_path, rig=rig_file, top=top, seed=seed, marked=not then, overwrite=True)  # the folder was checked above
         step(run)
         clips_run = session = None
         if clips:
@@ -278,7 +281,7 @@ def fit_and_render(
             dry, settings = check_dry_file(phrase), RenderSettings(strength=run.spec.strength)
             clips_out = output_folder(folder / "clips", overwrite=overwrite)
             with progress(len(designs)) as update:
-                clips_run = run_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update)
+                clips_run = run_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update, overwrite=overwrite)
             step(clips_run)
         if blind:
             designs, _ = load_designs([run.start_file, run.files[0]], rig=rig_file)
