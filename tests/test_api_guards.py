@@ -51,3 +51,41 @@ def test_every_public_writer_takes_overwrite():
     for name in ("render_clips", "fit", "fit_and_render", "unvoice", "build_blind_session", "score_blind_session"):
         p = inspect.signature(getattr(render, name)).parameters["overwrite"]
         assert p.kind is inspect.Parameter.KEYWORD_ONLY and p.default is False, name
+
+
+def _refused(call, argument):
+    """The one-line ArgumentError ``call`` raises, checked to name ``argument``."""
+    with pytest.raises(render.ArgumentError) as e:
+        call()
+    assert e.value.argument == argument and str(e.value).startswith(f"{argument}=") and "\n" not in str(e.value)
+    return str(e.value)
+
+
+def test_bad_arguments_are_named(tmp_path):
+    d = render.load_design(REF)
+    s = render.RenderSettings(seconds=0.5)
+    geometry = dict(positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.1)
+    _refused(lambda: render.render_clips([REF], PHRASE, None, tmp_path / "a"), "settings")
+    _refused(lambda: render.render_clips([REF], None, s, tmp_path / "b"), "dry")
+    _refused(lambda: render.render_clips([REF], tmp_path / "nope.toml", s, tmp_path / "c"), "dry")
+    _refused(lambda: render.render_clips([REF], PHRASE, s, 5), "out")
+    _refused(lambda: render.load_phrase(5), "path")
+    _refused(lambda: render.synthesize(5, **geometry), "phrase")
+    _refused(lambda: render.hum(d, sources=3), "sources")
+    _refused(lambda: render.hum(d, sources=[1]), "sources[0]")
+    _refused(lambda: render.hum_tolerances(d, trials=0), "trials")
+    _refused(lambda: render.hum_tolerances(d, trials=10, chunk=0), "chunk")
+    _refused(lambda: render.bias_sweep(d, ratios=0.5), "ratios")
+    _refused(lambda: render.noise(d, reference_velocity="0.1"), "reference_velocity")
+    _refused(lambda: render.fit_coil(ROOT / "models" / "coils" / "harbour-blade-coil.synthetic.csv", capacitance="95p"), "capacitance")
+    _refused(lambda: d.with_geometry(coil_a=3), "coil_a")
+    _refused(lambda: render.build_blind_session([d, d], None, out=tmp_path / "s", settings={"trials": 4}), "settings")
+    assert not any(tmp_path.iterdir())  # nothing was written
+
+
+def test_paths_as_str_or_path(tmp_path):
+    kw = dict(positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.1)
+    a, b = render.synthesize(str(PHRASE), **kw), render.synthesize(render.load_phrase(PHRASE), **kw)
+    assert (a.velocity == b.velocity).all()
+    run = render.render_clips([REF], str(PHRASE), render.RenderSettings(seconds=0.5), str(tmp_path / "r"), plots=False)
+    assert run.folder == tmp_path / "r" and (tmp_path / "r" / "studio-reference.wav").is_file()

@@ -262,9 +262,16 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     -------
     BiasSweep
     """
+    from .. import arguments as A
     from ..errors import ArgumentError, InputError
     from ..parallel import pmap
 
+    tops, bottoms, batteries = (None if v is None else A.numbers(n, v, option=o) for n, v, o in (("tops", tops, "--top"), ("bottoms", bottoms, "--bottom"), ("batteries", batteries, "--battery")))
+    if tops is None:
+        ratios = A.numbers("ratios", ratios)
+    if sine_velocity is not None:
+        A.number("sine_velocity", sine_velocity, unit="m/s")
+    jobs = A.whole("jobs", jobs)
     if (tops is None) != (bottoms is None):
         raise InputError("--top and --bottom go together: give both lists, of the same length")
     if tops is not None:

@@ -354,6 +354,9 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     any is evaluated, so results are identical for a seed whatever ``chunk``
     or ``jobs`` is.
     """
+    from ..arguments import whole
+
+    trials, chunk, jobs = whole("trials", trials), whole("chunk", chunk), whole("jobs", jobs)
     tol, draws = part_draws(design, tolerances=tolerances, trials=trials, seed=seed)
     f, _ = field_derivative(design.hum)
     spans = [(s, min(trials, s + chunk)) for s in range(0, trials, chunk)]
@@ -566,11 +569,15 @@ def hum(design, *, rig=None, sources=None) -> HumReport:
         See also :func:`render.hum_map` (rejection against a dipole's place)
         and :func:`render.hum_positions` (over random places).
     """
+    from ..arguments import items
     from ..design import apply_rig
+    from ..magnetics.hum import DipoleSource, UniformSource
 
+    if sources is not None:
+        sources = items("sources", sources, (DipoleSource, UniformSource), "render.DipoleSource(...) or render.UniformSource(...)")
     d = apply_rig(design, rig)
     if sources is not None:
-        d = replace(d, hum=replace(d.hum, sources=tuple(sources)))
+        d = replace(d, hum=replace(d.hum, sources=sources))
     t = hum_table(d)
     return HumReport(
         design=d.name,

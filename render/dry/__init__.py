@@ -13,6 +13,7 @@ for coil_a and row 1 for coil_b):
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -113,13 +114,13 @@ def check_recording(path: Path, *, blind: bool = False) -> None:
         raise short
 
 
-def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:
+def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:
     """The string velocity a phrase gives at two sensing points.
 
     Parameters
     ----------
-    phrase : Phrase
-        From :func:`load_phrase` or :func:`parse_phrase`.
+    phrase : Phrase or str or Path
+        From :func:`load_phrase` or :func:`parse_phrase`, or a phrase file's path (read with :func:`load_phrase`).
     positions : (float, float), m
         coil_a's and coil_b's sensing points, from the bridge saddle.
     apertures : (float, float) or float, m
@@ -138,6 +139,11 @@ def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: 
     -------
     Dry
     """
+    from ..arguments import instance
+
+    if isinstance(phrase, (str, os.PathLike)):
+        phrase = load_phrase(os.fspath(phrase))
+    instance("phrase", phrase, Phrase, "a render.Phrase (render.load_phrase(path)) or a phrase file's path")
     if pickup is not None:
         from .construction import pickup_velocity
 

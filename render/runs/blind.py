@@ -264,6 +264,7 @@ def build_blind_session(
     from dataclasses import replace
 
     from ..analysis.headroom import from_record
+    from ..arguments import instance
     from ..clip import render_clip
     from ..design.construction import pickup_for
     from ..design.provenance import design_provenance
@@ -271,7 +272,7 @@ def build_blind_session(
     from ..listening.build import build_session
     from ..listening.loudness import match_loudness
 
-    settings = settings if settings is not None else BlindSettings()
+    settings = instance("settings", settings, BlindSettings, "a render.BlindSettings(...) or None for the defaults") if settings is not None else BlindSettings()
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     if len(designs) != 2:
         raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
