@@ -156,11 +156,11 @@ def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, samp
 def phrase_dry(phrase: Phrase, velocity: np.ndarray, *, positions, sample_rate: int, seed: int) -> Dry:
     """The :class:`Dry` of a phrase synthesised at two sensing points (one row: the same at both), with
     a warning for each note a point does not hear (:func:`render.dry.modal.unheard_notes`)."""
-    from .modal import unheard_notes
+    from .modal import _lengths, unheard_notes
 
     if velocity.shape[0] == 1:
         velocity = np.vstack([velocity, velocity])
-    unheard = unheard_notes(phrase, positions, ("coil_a's sensing point", "coil_b's sensing point"))
+    unheard = unheard_notes(phrase, _lengths("positions", positions), ("coil_a's sensing point", "coil_b's sensing point"))  # "40mm" as metres
     return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=unheard, description=describe(phrase) | {"seed": int(seed)})
 
 
