@@ -89,3 +89,24 @@ def test_paths_as_str_or_path(tmp_path):
     assert (a.velocity == b.velocity).all()
     run = render.render_clips([REF], str(PHRASE), render.RenderSettings(seconds=0.5), str(tmp_path / "r"), plots=False)
     assert run.folder == tmp_path / "r" and (tmp_path / "r" / "studio-reference.wav").is_file()
+
+
+@pytest.mark.parametrize(
+    "tolerances, argument",
+    [
+        ({"resistor": 5}, "tolerances['resistor']"),  # a percentage given where a fraction goes: ±500 %
+        ({"resistor": -0.01}, "tolerances['resistor']"),
+        ({"resistr": 0.01}, "tolerances"),  # a misspelt class is refused, not left out
+        ([0.01], "tolerances"),
+    ],
+)
+def test_tolerances_are_refused_as_the_command_refuses_them(tolerances, argument):
+    from render.analysis.hum import TOLERANCE_RANGE
+
+    d = render.load_design(REF)
+    for call in (lambda: render.hum_tolerances(d, tolerances=tolerances, trials=10), lambda: render.hum_positions(d, joint=True, tolerances=tolerances, trials=10)):
+        message = _refused(call, argument)
+        if argument != "tolerances":
+            assert TOLERANCE_RANGE in message  # the words `render hum --tolerance-resistor 80%` prints
+    assert "did you mean 'resistor'" in _refused(lambda: render.hum_tolerances(d, tolerances={"resistr": 0.01}, trials=10), "tolerances")
+    assert render.hum_tolerances(d, tolerances={"resistor": 0.5}, trials=10).trials == 10  # 50 % is the edge, accepted

@@ -32,6 +32,30 @@ REFERENCE_VELOCITY = 0.5  # m/s, peak
 REFERENCE_NOTE_HZ = 196.0  # G3 (ISO 16 pitch from A4 = 440 Hz: 195.998 Hz)
 
 DEFAULT_TOLERANCES = {"resistor": 0.01, "capacitor": 0.05, "turns": 0.02}
+TOLERANCE_MAX = 0.5  # a relative half-width above ±50 % is no part's tolerance (common practice, no source)
+TOLERANCE_RANGE = "a tolerance must be from 0 % to 50 %"  # the refusal's words, the command line's and the library's
+
+
+def check_tolerances(tolerances) -> dict:
+    """``tolerances`` (None, or part class -> relative half-width) checked: known classes only, each from 0 to
+    :data:`TOLERANCE_MAX`; an :class:`~render.errors.ArgumentError` naming the class otherwise (the command line's
+    ``--tolerance-CLASS`` reads its percentage into the same range)."""
+    from ..arguments import instance, number, shown
+    from ..errors import ArgumentError
+    from ..validate import did_you_mean
+
+    if tolerances is None:
+        return {}
+    instance("tolerances", tolerances, dict, 'a dict of part class to relative half-width, e.g. {"resistor": 0.01} for ±1 %')
+    for cls, v in tolerances.items():
+        if cls not in DEFAULT_TOLERANCES:
+            raise ArgumentError("tolerances", shown(cls), f"unknown part class{did_you_mean(str(cls), DEFAULT_TOLERANCES, known='classes')}", option="--tolerance")
+        name = f"tolerances[{cls!r}]"
+        hint = f"; give a fraction: 0.01 is ±1 %{f' ({v:g} would be ±{v * 100:g} %)' if isinstance(v, (int, float)) and v > TOLERANCE_MAX else ''}"
+        x = number(name, v, hint=hint, option=f"--tolerance-{cls}")
+        if not 0 <= x <= TOLERANCE_MAX:
+            raise ArgumentError(name, shown(v), f"{TOLERANCE_RANGE}{hint}", option=f"--tolerance-{cls}")
+    return {cls: float(v) for cls, v in tolerances.items()}
 
 
 def field_derivative(hum):
@@ -326,7 +350,7 @@ def _mc_chunk(args):
 
 def part_draws(design, *, tolerances=None, trials=2000, seed=0) -> tuple[dict, dict]:
     """(tolerances in force, {part label: factor array of shape (trials,)}), drawn in a fixed part order."""
-    tol = {**DEFAULT_TOLERANCES, **(tolerances or {})}
+    tol = {**DEFAULT_TOLERANCES, **check_tolerances(tolerances)}
     rng = np.random.default_rng(seed)
     return tol, {label: 1.0 + tol[cls] * rng.uniform(-1.0, 1.0, trials) for label, cls in part_labels(design)}
 
@@ -339,7 +363,7 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     design : Design
     tolerances : dict or None
         Part class ("resistor", "capacitor", "turns") to a relative
-        half-width (0.01 = ±1 %); a class left out keeps its default (resistor 1 %, capacitor 5 %, turns 2 %).
+        half-width from 0 to 0.5 (0.01 = ±1 %); a class left out keeps its default (resistor 1 %, capacitor 5 %, turns 2 %).
     trials : int, > 0
     seed : int
     chunk : int, draws evaluated at a time
