@@ -110,3 +110,30 @@ def test_tolerances_are_refused_as_the_command_refuses_them(tolerances, argument
             assert TOLERANCE_RANGE in message  # the words `render hum --tolerance-resistor 80%` prints
     assert "did you mean 'resistor'" in _refused(lambda: render.hum_tolerances(d, tolerances={"resistr": 0.01}, trials=10), "tolerances")
     assert render.hum_tolerances(d, tolerances={"resistor": 0.5}, trials=10).trials == 10  # 50 % is the edge, accepted
+
+
+def _python_words(call, argument):
+    """The refusal names the Python argument and no command-line option; returns the error."""
+    with pytest.raises(render.ArgumentError) as e:
+        call()
+    assert e.value.argument == argument and str(e.value).startswith(f"{argument}=") and " --" not in str(e.value), str(e.value)
+    return e.value
+
+
+def test_python_errors_name_python_arguments(tmp_path):
+    d = render.load_design(REF)
+    e = _python_words(lambda: render.bias_sweep(d, tops=(1e5,)), "tops")
+    assert e.for_option() == "--top and --bottom go together: give both lists, of the same length"  # the command's words, as before
+    e = _python_words(lambda: render.bias_sweep(d, tops=(1e5, 2e5), bottoms=(1e5,)), "bottoms")
+    assert e.for_option() == "--top=100000,200000, --bottom=100000: need lists of equal length of resistances from 1 Ω to 1 GΩ"
+    assert _python_words(lambda: render.bias_sweep(d, sine_velocity=1e9), "sine_velocity").for_option().startswith("--sine-velocity=")
+    taken = tmp_path / "v.wav"
+    taken.write_bytes(b"an earlier velocity")
+    e = _python_words(lambda: render.unvoice(tmp_path / "di.wav", d, out=taken), "out")
+    assert "overwrite=True" in str(e) and e.for_option() == f"{taken}: exists; pass --overwrite to replace it or choose another name"
+    for argument, option, value in (("max_boost_db", "--max-boost", 100.0), ("volts_full_scale", "--volts-full-scale", 0.0), ("velocity_scale", "--velocity-scale", -1.0)):
+        e = _python_words(lambda: render.unvoice(tmp_path / "di.wav", d, out=tmp_path / "w.wav", **{argument: value}), argument)
+        assert e.for_option().startswith(f"{option}={value}: ")
+    e = _python_words(lambda: render.score_blind_session(tmp_path / "nowhere"), "session")
+    assert e.for_option() == f"SESSION={tmp_path / 'nowhere'}: no such folder; make a session with `render blind MODEL_A MODEL_B`"
+    assert taken.read_bytes() == b"an earlier velocity" and sorted(p.name for p in tmp_path.iterdir()) == ["v.wav"]

@@ -16,11 +16,20 @@ from ..errors import ArgumentError, InputError
 OUTPUTS = Path("outputs")  # where a run's folder goes when none is given
 
 
-def refuse_existing(paths: Iterable[str | Path | None], *, overwrite: bool) -> None:
-    """InputError for the first of ``paths`` that exists, unless ``overwrite`` ('-' and None are skipped)."""
+def refuse_existing(paths: Iterable[str | Path | None], *, overwrite: bool, argument: str | None = None) -> None:
+    """InputError for the first of ``paths`` that exists, unless ``overwrite`` ('-' and None are skipped).
+
+    With ``argument`` (a library function's, whose outputs are ``paths``), an :class:`ArgumentError` naming it
+    and ``overwrite=True`` for a Python caller; the command line's words stay ``PATH: exists; pass --overwrite ...``.
+    """
     for p in paths:
         if p and p != "-" and Path(p).exists() and not overwrite:
-            raise InputError(f"{p}: exists; pass --overwrite to replace it or choose another name")
+            cli = f"{p}: exists; pass --overwrite to replace it or choose another name"
+            if argument is None:
+                raise InputError(cli)
+            raise ArgumentError(
+                argument, f"{p}", "exists; pass --overwrite to replace it or choose another name", python_why="exists; pass overwrite=True to replace it or choose another name", cli=cli
+            )
 
 
 def make_folder(path: str | Path) -> Path:

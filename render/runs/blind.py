@@ -303,7 +303,13 @@ def build_blind_session(
             dry_description = dry.description
         n = dry.velocity.shape[1]
         if n > MAX_SECONDS * fs:
-            raise ArgumentError("dry_path", f"{dry_file}", f"plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass --seconds", option="--dry")
+            raise ArgumentError(
+                "dry_path",
+                f"{dry_file}",
+                f"plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass --seconds",
+                option="--dry",
+                python_why=f"plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass settings=BlindSettings(seconds=...)",
+            )
         # the bare velocity: the clip's warnings are then the render's own (the dry signal's are kept once, above)
         clip = render_clip(design, dry.velocity, sample_rate=fs, hum=settings.hum)
         warnings.extend(f"{name}: {w}" for w in clip.warnings)

@@ -66,9 +66,9 @@ def sidecars(out: str | Path) -> tuple[Path, Path]:
     return out.with_suffix(".json"), out.with_name(out.stem + "-spectra.png")
 
 
-def _check_number(name: str, value, low: float, high: float, what: str) -> float:
+def _check_number(name: str, value, low: float, high: float, what: str, *, option: str) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) or not low <= value <= high:
-        raise InputError(f"{name}={value}: must be a number from {low:g} to {high:g} ({what})")
+        raise ArgumentError(name, value, f"must be a number from {low:g} to {high:g} ({what})", option=option)
     return float(value)
 
 
@@ -151,14 +151,14 @@ def unvoice(
     from ..io.wav import FloatWavWriter
     from ..report.unvoice import spectra_plot, unvoice_record
 
-    boost = U.MAX_BOOST_DB if max_boost_db is None else _check_number("--max-boost", max_boost_db, *BOOST_RANGE, "dB above the inverse's 1 kHz level")
-    vfs = _check_number("--volts-full-scale", volts_full_scale, *VOLTS_RANGE, "volts at the DI's full scale")
-    vscale = _check_number("--velocity-scale", velocity_scale, 1e-6, 1e3, "m/s at the velocity WAV's full scale")
+    boost = U.MAX_BOOST_DB if max_boost_db is None else _check_number("max_boost_db", max_boost_db, *BOOST_RANGE, "dB above the inverse's 1 kHz level", option="--max-boost")
+    vfs = _check_number("volts_full_scale", volts_full_scale, *VOLTS_RANGE, "volts at the DI's full scale", option="--volts-full-scale")
+    vscale = _check_number("velocity_scale", velocity_scale, 1e-6, 1e3, "m/s at the velocity WAV's full scale", option="--velocity-scale")
     out = Path(out)
     if out.suffix.lower() != ".wav":
         raise ArgumentError("out", f"{out}", "must end in .wav (the velocity is written as a float WAV)")
     json_path, png_path = sidecars(out)
-    check_new([out, json_path] + ([png_path] if plot else []), overwrite=overwrite)
+    check_new([out, json_path] + ([png_path] if plot else []), overwrite=overwrite, argument="out")
     di = Path(di_path)
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():
