@@ -137,3 +137,9 @@ def test_python_errors_name_python_arguments(tmp_path):
     e = _python_words(lambda: render.score_blind_session(tmp_path / "nowhere"), "session")
     assert e.for_option() == f"SESSION={tmp_path / 'nowhere'}: no such folder; make a session with `render blind MODEL_A MODEL_B`"
     assert taken.read_bytes() == b"an earlier velocity" and sorted(p.name for p in tmp_path.iterdir()) == ["v.wav"]
+
+
+def test_fit_names_top(tmp_path):
+    for call in (lambda: render.fit(FIT, out=tmp_path / "f", top=0), lambda: render.fit_and_render(FIT, out=tmp_path / "g", top=0)):
+        assert "at least 1" in _refused(call, "top")
+    assert not any(tmp_path.iterdir())  # refused before the folder was made

@@ -94,7 +94,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
         The start design, instead of the fit file's ``from``.
     rig : RigFile or str or Path or None
         The rig (a rig file's path, or one loaded) for the start and every result.
-    top : int
+    top : int, ≥ 1
         How many results to write.
     seed : int
         Seed of the global search.
@@ -111,12 +111,14 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     """
     from ..analysis.figures import figures
     from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit, verdict
+    from ..arguments import whole
     from ..design import apply_rig, design_provenance, load_design, parse_design
     from ..design.loading import as_rig
     from ..io.atomic import write_json, write_text
     from ..io.folders import make_folder, output_folder, run_folder
     from ..io.toml import loads
 
+    top = whole("top", top, hint=" (how many results to write)")
     out = output_folder(out, overwrite=overwrite, prefix="fit")  # an earlier run's files are replaced only when asked
     fitfile = Path(fitfile)
     spec = load_fit(fitfile, start_override=start_path)
@@ -225,7 +227,7 @@ def fit_and_render(
         The start design's file, instead of the fit file's ``from``.
     rig : RigFile or str or Path or None
         The rig for the fit, the clips and the session.
-    top : int
+    top : int, ≥ 1
         How many results to write (and render).
     seed : int
         Seed of the global search.
@@ -258,6 +260,7 @@ def fit_and_render(
     """
     import os
 
+    from ..arguments import whole
     from ..clip import RenderSettings
     from ..design import load_designs
     from ..design.loading import as_rig
@@ -267,6 +270,7 @@ def fit_and_render(
     from .clips import run_clips
     from .fit_phrase import phrase_file_of
 
+    top = whole("top", top, hint=" (how many results to write)")
     step = on_step or (lambda _: None)
     folder = output_folder(out or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
     rig_file = as_rig(rig)
