@@ -281,7 +281,7 @@ def _design_rejection(design, factors: dict, n: int, f) -> np.ndarray:
 
 @dataclass(frozen=True)
 class MonteCarlo:
-    """Hum rejection over random draws of the part tolerances (:func:`monte_carlo`; ``render hum --tolerance``).
+    """Hum rejection over random draws of the part tolerances (:func:`render.hum_tolerances`; ``render hum --tolerance``).
 
     Attributes
     ----------
@@ -371,7 +371,8 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
 
     Returns
     -------
-    MonteCarlo
+    HumTolerances
+        The rejection of every draw (:class:`render.HumTolerances`); ``summary()`` gives the median and 5th percentile per harmonic.
 
     Draws are uniform within ± each tolerance, from
     ``numpy.random.default_rng(seed)`` in a fixed part order, all made before
@@ -540,13 +541,15 @@ class HumReport:
         (the coils cancel it exactly, or no source links either coil) or no
         signal (the coils cancel the string), with the reason in
         ``note_to_hum_reason``. Hum and noise on one scale (a 1 kHz
-        reference) are :func:`render.noise`'s ``hum_and_noise``.
+        reference) are in ``render hum --json``'s ``hum_and_noise``.
     passive_total_v_rms : float, V
     passive_note_to_hum_db : float or None, dB
     reference_note : dict
         What ``note_to_hum_db`` is relative to.
     note_to_hum_reason, passive_note_to_hum_reason : str or None
         Why the figure beside it is None, in words.
+    table : dict
+        The same figures in the JSON layout of ``render hum --json`` (also :meth:`as_dict`).
     sources : tuple of dict
         The hum sources (kind, strength, place, axis, profile, phase, each
         coil's flux linkage); empty for the one-number field.
@@ -563,7 +566,7 @@ class HumReport:
     passive_total_v_rms: float
     passive_note_to_hum_db: float | None
     reference_note: dict
-    table: dict  # the same figures in the JSON layout of ``render hum --json``
+    table: dict
     note_to_hum_reason: str | None = None
     passive_note_to_hum_reason: str | None = None
     sources: tuple[dict, ...] = ()

@@ -35,8 +35,8 @@ RENDER_FUNCTION = "render.clip.render_clip"  # recorded in the key
 class BlindSettings:
     """Everything a blind session depends on besides the designs, the rig and the dry file.
 
-    Checked when made: a bad value raises :class:`~render.errors.InputError`
-    (one line, named as the command-line option).
+    Checked when made: a bad value raises :class:`~render.errors.ArgumentError`
+    (one line naming the field, such as ``trials=0``; the command line names its option instead).
 
     Attributes
     ----------
@@ -152,6 +152,9 @@ class BlindSession:
         Share of each render's oversampled limiter input outside the identity region.
     warnings : tuple of str
         One line each: the dry signal's, then each design's prefixed with its name.
+    headroom : tuple of PlayedHeadroom
+        Each render's headroom (:class:`render.analysis.headroom.PlayedHeadroom`: the margin to the
+        soft limit each side in dB, the share of the render limited), MODEL_A's then MODEL_B's.
     """
 
     paths: SessionPaths
@@ -164,7 +167,7 @@ class BlindSession:
     loudness: LoudnessMatch
     clipped_fraction: tuple[float, float]
     warnings: tuple[str, ...] = ()
-    headroom: tuple = ()  # each render's PlayedHeadroom (render.analysis.headroom), in the designs' order
+    headroom: tuple = ()
 
 
 def session_folder(out: str | Path | None, *, overwrite: bool) -> Path:

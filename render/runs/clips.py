@@ -27,7 +27,7 @@ BATCH_MOST = 5  # designs per worker task: their plots share figures (see split_
 
 @dataclass(frozen=True)
 class ClipsRun:
-    """What :func:`run_clips` wrote and measured.
+    """What :func:`render.render_clips` wrote and measured.
 
     Attributes
     ----------

@@ -212,7 +212,8 @@ def fit_file(path, *, capacitance: float | None = None) -> FitResult:
 
     Returns
     -------
-    FitResult
+    CoilFit
+        The measurement and the fitted model (:class:`render.CoilFit`).
     """
     from .. import arguments as A
     from ..design.coil_impedance import fit_file as read_and_fit

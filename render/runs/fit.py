@@ -39,7 +39,7 @@ class FitRun:
     start_file : Path
     start_figures : dict
     start_values : np.ndarray [shape=(parts,)], SI units (NaN: absent in the start)
-    results : tuple of FitResult
+    results : tuple of render.analysis.fit.FitResult
         Best first; each with its part values as written, their figures, score and the aims it misses (none when it meets every aim).
         Only designs that can be built, each once: fewer than ``top`` where the search found fewer.
     files : tuple of Path

@@ -132,13 +132,37 @@ def unvoice(
 ) -> UnvoiceResult:
     """Estimate the string velocity behind ``di_path`` (recorded through ``design``'s passive reference) and write it.
 
-    di_path : mono audio file; a sample of 1.0 is ``volts_full_scale`` V at the amp input
-    design : the design (its file's path, or a Design) whose passive reference made the recording
-    out : the velocity WAV to write (``.wav``); the JSON and plot go beside it
-    rig : the rig (a rig file's path, a RigFile, or None) replacing the design's own [rig]
-    velocity_scale : m/s at the velocity WAV's full scale, > 0
-    max_boost_db : dB, 0..40, the inverse's boost bound above its 1 kHz level (default 20)
-    Raises InputError (one line) before writing anything for bad input or existing files without ``overwrite``.
+    Parameters
+    ----------
+    di_path : str or Path
+        A mono audio file (WAV, FLAC, ...): the DI, recorded through the design's passive reference.
+    design : Design
+        The design whose passive reference made the recording.
+    out : str or Path
+        The velocity WAV to write (``.wav``, in an existing folder); its JSON record
+        (``FILE.json``) and spectra plot (``FILE-spectra.png``) go beside it.
+    rig : RigFile or None
+        Replaces the design's own [rig] (the controls and cable the DI was recorded through).
+    volts_full_scale : float, V
+        The amp-input voltage of a DI sample of 1.0, 1e-4 to 100 V.
+    velocity_scale : float, m/s
+        The string velocity at the velocity WAV's full scale, 1e-6 to 1000 m/s.
+    max_boost_db : float or None, dB
+        The inverse's boost bound above its 1 kHz level, 0 to 40 dB (default 20 dB).
+    overwrite : bool
+        Replace ``out``, its JSON and its plot if they exist (otherwise an existing one is refused).
+    plot : bool
+        Write the spectra plot.
+
+    Returns
+    -------
+    UnvoiceResult
+        The paths written, the JSON record and the warnings.
+
+    Raises
+    ------
+    InputError
+        One line, before anything is written: bad input, or an existing output without ``overwrite``.
     """
     from .. import __version__
     from ..analysis import unvoice as U
