@@ -143,3 +143,37 @@ def test_fit_names_top(tmp_path):
     for call in (lambda: render.fit(FIT, out=tmp_path / "f", top=0), lambda: render.fit_and_render(FIT, out=tmp_path / "g", top=0)):
         assert "at least 1" in _refused(call, "top")
     assert not any(tmp_path.iterdir())  # refused before the folder was made
+
+
+def test_result_arrays_are_read_only():
+    # a result's arrays cannot be changed under the figures derived from them (or a grid later results share)
+    import numpy as np
+
+    d = render.load_design(REF)
+    r = render.response(d, [1000.0, 2000.0])
+    before = r.magnitude_db.copy()
+    with pytest.raises(ValueError, match="read-only"):
+        r.velocity[0] = 0
+    assert np.array_equal(r.magnitude_db, before)
+    n = render.noise(d)
+    dry = render.synthesize(PHRASE, positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.2)
+    clip = render.render_clip(d, dry)
+    m = render.hum_map(d, distances_m=(0.5,), bearings_deg=(0,))
+    t = render.hum_tolerances(d, trials=10)
+    p = render.hum_positions(d, trials=10)
+    for a in (
+        r.frequency_hz,
+        r.passive,
+        r.output_impedance,
+        n.active.frequency_hz,
+        n.active.density_v_per_rthz,
+        dry.velocity,
+        clip.volts,
+        m.rejection_db,
+        m.frequency_hz,
+        t.rejection_db,
+        p.rejection_db,
+    ):
+        assert not a.flags.writeable
+    assert all(not a.flags.writeable for a in n.active.contributor_density.values())
+    assert render.noise(d).active.total_v == n.active.total_v

@@ -310,6 +310,11 @@ class MonteCarlo:
     absent: tuple = ()
     sensitivity_at: int | None = 0
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     def as_dict(self) -> dict:
         """The JSON layout of ``render hum --json``'s ``monte_carlo``."""
         return {

@@ -180,6 +180,11 @@ class NoiseFloor:
     contributor_density: dict = field(repr=False)
     silent_reason: str | None = None  # set when the coils cancel the string signal exactly: no signal, no SNR
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def snr_db(self) -> float | None:
         """20·log10(signal_v / total_v); None when there is no signal (see ``silent_reason``)."""

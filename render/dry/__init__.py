@@ -66,6 +66,11 @@ class Dry:
     warnings: tuple[str, ...] = ()
     description: dict = field(default_factory=dict)
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def seconds(self) -> float:
         return self.velocity.shape[1] / self.sample_rate

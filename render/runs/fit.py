@@ -59,6 +59,11 @@ class FitRun:
     folder: Path
     top: int = 3
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     def verdicts(self) -> list[str]:
         """One line per result: whether it meets every aim, or which it misses and what it measures there."""
         from ..analysis.fit import verdict
