@@ -65,3 +65,36 @@ def test_docstring_describes_the_public_api(name):
 def test_figures_takes_its_responses_by_keyword_only():
     params = inspect.signature(render.figures).parameters
     assert [p.name for p in params.values() if p.kind is not inspect.Parameter.KEYWORD_ONLY] == ["designs"]
+
+
+# each command the README says has a public function, and the function(s) doing its work
+FUNCTIONS = {
+    "response": ["response", "figures"],
+    "hum": ["hum", "hum_map", "hum_positions", "hum_tolerances"],
+    "noise": ["noise"],
+    "bias": ["bias_sweep"],
+    "clips": ["render_clips"],
+    "fit": ["fit", "fit_and_render"],
+    "unvoice": ["unvoice"],
+    "blind": ["build_blind_session"],
+    "score": ["score_blind_session"],
+    "coil fit": ["fit_coil"],
+}
+
+
+def test_readme_says_which_commands_have_a_public_function():
+    from pathlib import Path
+
+    from render.cli import main
+
+    text = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    flat = " ".join(text.split())
+    m = re.search(r"The commands (.*?) are thin layers over public functions .*? The commands (.*?) have no public function", flat)
+    assert m, "README.md: the two lists of commands under 'Using render from Python'"
+    having, without = (re.findall(r"`([^`]+)`", g) for g in m.groups())
+    assert sorted(having) == sorted(FUNCTIONS)
+    for command in having:
+        assert all(f in render.__all__ for f in FUNCTIONS[command]), command
+    tops = {c.split()[0] for c in having + without}
+    assert tops == set(main.list_commands(None))  # every command is in one list or the other
+    assert {"coil fit", "coil MODEL"} <= set(having + without)
