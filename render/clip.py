@@ -105,6 +105,11 @@ class Clip:
     figures: dict = field(default_factory=dict)
     stats: dict = field(default_factory=dict)
 
+    def __post_init__(self) -> None:
+        from .readonly import lock_arrays
+
+        lock_arrays(self)
+
 
 class PassiveStream:
     """The passive reference playing the same string, block by block (linear, V at the amp input).

@@ -37,16 +37,19 @@ class ArgumentError(InputError):
         The command line's option (default ``--`` and the argument with dashes).
     python_why : str or None
         The same for a Python caller, where it differs (an option it names, such as ``--overwrite``).
+    cli : str or None
+        The command line's whole message, where it does not take the form ``--option=value: why``
+        (an output file named by its path, a pair of options that go together).
     """
 
-    def __init__(self, argument: str, value: object, why: str, *, option: str | None = None, python_why: str | None = None) -> None:
-        self.argument, self.value, self.why = argument, str(value), why
+    def __init__(self, argument: str, value: object, why: str, *, option: str | None = None, python_why: str | None = None, cli: str | None = None) -> None:
+        self.argument, self.value, self.why, self.cli = argument, str(value), why, cli
         self.option = option or "--" + argument.replace("_", "-")
         super().__init__(f"{argument}={self.value}: {python_why or why}")
 
     def for_option(self) -> str:
         """The message as the command line words it."""
-        return str(InputError(f"{self.option}={self.value}: {self.why}"))
+        return str(InputError(self.cli or f"{self.option}={self.value}: {self.why}"))
 
 
 class PassiveGiven(InputError):

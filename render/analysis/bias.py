@@ -262,20 +262,29 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     -------
     BiasSweep
     """
-    from ..errors import ArgumentError, InputError
+    from .. import arguments as A
+    from ..errors import ArgumentError
     from ..parallel import pmap
 
-    if (tops is None) != (bottoms is None):
-        raise InputError("--top and --bottom go together: give both lists, of the same length")
-    if tops is not None:
-        if len(tops) != len(bottoms) or any(x < 1 or x > 1e9 for x in [*tops, *bottoms]):
-            raise InputError(f"--top={','.join(f'{x:g}' for x in tops)}, --bottom={','.join(f'{x:g}' for x in bottoms)}: need lists of equal length of resistances from 1 Ω to 1 GΩ")
+    tops, bottoms, batteries = (None if v is None else A.numbers(n, v, option=o) for n, v, o in (("tops", tops, "--top"), ("bottoms", bottoms, "--bottom"), ("batteries", batteries, "--battery")))
+    if tops is None:
+        ratios = A.numbers("ratios", ratios)
+    if sine_velocity is not None:
+        A.number("sine_velocity", sine_velocity, lo=SINE_VELOCITY_RANGE[0], hi=SINE_VELOCITY_RANGE[1], unit="m/s", option="--sine-velocity")
+    jobs = A.whole("jobs", jobs)
+    listed = {name: ",".join(f"{x:g}" for x in v) for name, v in (("tops", tops), ("bottoms", bottoms)) if v is not None}
+    if len(listed) == 1:
+        ((name, text),) = listed.items()
+        raise ArgumentError(name, text, "tops and bottoms go together: give both lists, of the same length", cli="--top and --bottom go together: give both lists, of the same length")
+    if tops is not None and bottoms is not None:
+        cli = f"--top={listed['tops']}, --bottom={listed['bottoms']}: need lists of equal length of resistances from 1 Ω to 1 GΩ"
+        if len(tops) != len(bottoms):
+            raise ArgumentError("bottoms", listed["bottoms"], f"{len(bottoms)} values against {len(tops)} tops; give lists of equal length", cli=cli)
+        for name, v in (("tops", tops), ("bottoms", bottoms)):
+            if any(x < 1 or x > 1e9 for x in v):
+                raise ArgumentError(name, listed[name], "each must be a resistance from 1 Ω to 1 GΩ", cli=cli)
     elif any(not RATIO_RANGE[0] <= r <= RATIO_RANGE[1] for r in ratios):
         raise ArgumentError("ratios", f"{','.join(f'{r:g}' for r in ratios)}", f"each ratio bottom/(top+bottom) must be from {RATIO_RANGE[0]:g} to {RATIO_RANGE[1]:g}")
-    if sine_velocity is not None:
-        from ..option_checks import number
-
-        number("--sine-velocity", sine_velocity, lo=SINE_VELOCITY_RANGE[0], hi=SINE_VELOCITY_RANGE[1], unit="m/s")
     if batteries and any(not 1.5 <= v <= 60 for v in batteries):
         raise ArgumentError("batteries", f"{','.join(f'{v:g}' for v in batteries)}", "each battery voltage must be from 1.5 V to 60 V", option="--battery")
     settings = sweep(design, ratios=None if tops is not None else list(ratios), tops=tops, bottoms=bottoms, batteries=batteries, keep_load=keep_load, include_own=True)

@@ -76,7 +76,7 @@ def comparison_figures(p: PassiveDesign, resp=None) -> dict:
     d = carrier(p)
     if resp is None:
         resp = responses(from_designs([d]))
-    fig = dict(figures([d], resp)[0]["passive"])
+    fig = dict(figures([d], resp=resp)[0]["passive"])
     zero = np.zeros(1)
     if d.hum.sources:
         from ..magnetics.pickup import design_emf

@@ -161,8 +161,27 @@ def hum_rejection_db(resp, frequency_hz) -> np.ndarray:
     return out
 
 
-def figures(designs, resp=None, resp_no_cable=None) -> list[dict]:
-    """All figures for each design (rig applied), as plain dicts (None for undefined)."""
+def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
+    """The one-number figures of each design (its rig applied), as plain dicts.
+
+    Parameters
+    ----------
+    designs : sequence of Design
+    resp, resp_no_cable : keyword-only, internal
+        The designs' responses already computed (with and without the cable), reused by render's own
+        callers; leave them out.
+
+    Returns
+    -------
+    list of dict
+        One per design, in order; among its keys (levels in dB re 1 V per m/s): ``level_1k_db``; the resonance
+        ``peak_hz`` (Hz), ``peak_db`` and ``q``; ``bass_corner_hz`` and ``treble_corner_hz`` (Hz);
+        ``gain_vs_passive_db``; ``hum_rejection_db`` (dB, at the mains fundamental); ``bias_v``,
+        ``headroom_up_v``, ``headroom_down_v`` and ``headroom_v`` (V); ``cable_loss_db``, the cable's loss at 5 kHz (dB);
+        ``output_impedance_1k_ohm`` and ``output_impedance_10k_ohm`` (Ω); and ``passive``, the same
+        response figures of the design's passive reference. An undefined figure is None, with the
+        reason in words under its key plus ``_reason`` (``peak_hz_reason``).
+    """
     from ..circuit.engine import responses
     from ..circuit.params import from_designs, without_cable
 

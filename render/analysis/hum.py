@@ -32,6 +32,30 @@ REFERENCE_VELOCITY = 0.5  # m/s, peak
 REFERENCE_NOTE_HZ = 196.0  # G3 (ISO 16 pitch from A4 = 440 Hz: 195.998 Hz)
 
 DEFAULT_TOLERANCES = {"resistor": 0.01, "capacitor": 0.05, "turns": 0.02}
+TOLERANCE_MAX = 0.5  # a relative half-width above ±50 % is no part's tolerance (common practice, no source)
+TOLERANCE_RANGE = "a tolerance must be from 0 % to 50 %"  # the refusal's words, the command line's and the library's
+
+
+def check_tolerances(tolerances) -> dict:
+    """``tolerances`` (None, or part class -> relative half-width) checked: known classes only, each from 0 to
+    :data:`TOLERANCE_MAX`; an :class:`~render.errors.ArgumentError` naming the class otherwise (the command line's
+    ``--tolerance-CLASS`` reads its percentage into the same range)."""
+    from ..arguments import instance, number, shown
+    from ..errors import ArgumentError
+    from ..validate import did_you_mean
+
+    if tolerances is None:
+        return {}
+    instance("tolerances", tolerances, dict, 'a dict of part class to relative half-width, e.g. {"resistor": 0.01} for ±1 %')
+    for cls, v in tolerances.items():
+        if cls not in DEFAULT_TOLERANCES:
+            raise ArgumentError("tolerances", shown(cls), f"unknown part class{did_you_mean(str(cls), DEFAULT_TOLERANCES, known='classes')}", option="--tolerance")
+        name = f"tolerances[{cls!r}]"
+        hint = f"; give a fraction: 0.01 is ±1 %{f' ({v:g} would be ±{v * 100:g} %)' if isinstance(v, (int, float)) and v > TOLERANCE_MAX else ''}"
+        x = number(name, v, hint=hint, option=f"--tolerance-{cls}")
+        if not 0 <= x <= TOLERANCE_MAX:
+            raise ArgumentError(name, shown(v), f"{TOLERANCE_RANGE}{hint}", option=f"--tolerance-{cls}")
+    return {cls: float(v) for cls, v in tolerances.items()}
 
 
 def field_derivative(hum):
@@ -257,7 +281,7 @@ def _design_rejection(design, factors: dict, n: int, f) -> np.ndarray:
 
 @dataclass(frozen=True)
 class MonteCarlo:
-    """Hum rejection over random draws of the part tolerances (:func:`monte_carlo`; ``render hum --tolerance``).
+    """Hum rejection over random draws of the part tolerances (:func:`render.hum_tolerances`; ``render hum --tolerance``).
 
     Attributes
     ----------
@@ -285,6 +309,11 @@ class MonteCarlo:
     sensitivity: list  # [(label, dB per +1 % at harmonic sensitivity_at, or the reason in words)], largest first
     absent: tuple = ()
     sensitivity_at: int | None = 0
+
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
 
     def as_dict(self) -> dict:
         """The JSON layout of ``render hum --json``'s ``monte_carlo``."""
@@ -326,7 +355,7 @@ def _mc_chunk(args):
 
 def part_draws(design, *, tolerances=None, trials=2000, seed=0) -> tuple[dict, dict]:
     """(tolerances in force, {part label: factor array of shape (trials,)}), drawn in a fixed part order."""
-    tol = {**DEFAULT_TOLERANCES, **(tolerances or {})}
+    tol = {**DEFAULT_TOLERANCES, **check_tolerances(tolerances)}
     rng = np.random.default_rng(seed)
     return tol, {label: 1.0 + tol[cls] * rng.uniform(-1.0, 1.0, trials) for label, cls in part_labels(design)}
 
@@ -339,7 +368,7 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     design : Design
     tolerances : dict or None
         Part class ("resistor", "capacitor", "turns") to a relative
-        half-width (0.01 = ±1 %); a class left out keeps its default (resistor 1 %, capacitor 5 %, turns 2 %).
+        half-width from 0 to 0.5 (0.01 = ±1 %); a class left out keeps its default (resistor 1 %, capacitor 5 %, turns 2 %).
     trials : int, > 0
     seed : int
     chunk : int, draws evaluated at a time
@@ -347,13 +376,17 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
 
     Returns
     -------
-    MonteCarlo
+    HumTolerances
+        The rejection of every draw (:class:`render.HumTolerances`); ``summary()`` gives the median and 5th percentile per harmonic.
 
     Draws are uniform within ± each tolerance, from
     ``numpy.random.default_rng(seed)`` in a fixed part order, all made before
     any is evaluated, so results are identical for a seed whatever ``chunk``
     or ``jobs`` is.
     """
+    from ..arguments import whole
+
+    trials, chunk, jobs = whole("trials", trials), whole("chunk", chunk), whole("jobs", jobs)
     tol, draws = part_draws(design, tolerances=tolerances, trials=trials, seed=seed)
     f, _ = field_derivative(design.hum)
     spans = [(s, min(trials, s + chunk)) for s in range(0, trials, chunk)]
@@ -513,13 +546,15 @@ class HumReport:
         (the coils cancel it exactly, or no source links either coil) or no
         signal (the coils cancel the string), with the reason in
         ``note_to_hum_reason``. Hum and noise on one scale (a 1 kHz
-        reference) are :func:`render.noise`'s ``hum_and_noise``.
+        reference) are in ``render hum --json``'s ``hum_and_noise``.
     passive_total_v_rms : float, V
     passive_note_to_hum_db : float or None, dB
     reference_note : dict
         What ``note_to_hum_db`` is relative to.
     note_to_hum_reason, passive_note_to_hum_reason : str or None
         Why the figure beside it is None, in words.
+    table : dict
+        The same figures in the JSON layout of ``render hum --json`` (also :meth:`as_dict`).
     sources : tuple of dict
         The hum sources (kind, strength, place, axis, profile, phase, each
         coil's flux linkage); empty for the one-number field.
@@ -536,7 +571,7 @@ class HumReport:
     passive_total_v_rms: float
     passive_note_to_hum_db: float | None
     reference_note: dict
-    table: dict  # the same figures in the JSON layout of ``render hum --json``
+    table: dict
     note_to_hum_reason: str | None = None
     passive_note_to_hum_reason: str | None = None
     sources: tuple[dict, ...] = ()
@@ -566,11 +601,15 @@ def hum(design, *, rig=None, sources=None) -> HumReport:
         See also :func:`render.hum_map` (rejection against a dipole's place)
         and :func:`render.hum_positions` (over random places).
     """
+    from ..arguments import items
     from ..design import apply_rig
+    from ..magnetics.hum import DipoleSource, UniformSource
 
+    if sources is not None:
+        sources = items("sources", sources, (DipoleSource, UniformSource), "render.DipoleSource(...) or render.UniformSource(...)")
     d = apply_rig(design, rig)
     if sources is not None:
-        d = replace(d, hum=replace(d.hum, sources=tuple(sources)))
+        d = replace(d, hum=replace(d.hum, sources=sources))
     t = hum_table(d)
     return HumReport(
         design=d.name,

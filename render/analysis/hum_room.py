@@ -82,7 +82,7 @@ def hum_positions(design, *, rig=None, trials: int = 2000, seed: int = 0, shell=
         ``trials`` (:func:`render.analysis.hum.monte_carlo`).
     tolerances : dict or None
         With ``joint``: part class ("resistor", "capacitor", "turns") to a
-        relative half-width; the defaults (1 %, 5 %, 2 %) for classes not given.
+        relative half-width from 0 to 0.5 (0.01 is ±1 %); the defaults (1 %, 5 %, 2 %) for classes not given.
     jobs : int, worker processes for ``joint`` (results identical to one)
 
     Returns
@@ -90,6 +90,9 @@ def hum_positions(design, *, rig=None, trials: int = 2000, seed: int = 0, shell=
     PositionMonteCarlo
         ``summary()`` gives the median and 5th percentile per harmonic.
     """
+    from .hum import check_tolerances
+
+    check_tolerances(tolerances)  # refused before any work, with or without joint
     d, coils, f = _setup(design, rig)
     if joint:
         return joint_monte_carlo(d, coils, frequency_hz=f, tolerances=tolerances, trials=trials, seed=seed, shell=shell, jobs=jobs)

@@ -180,6 +180,11 @@ class NoiseFloor:
     contributor_density: dict = field(repr=False)
     silent_reason: str | None = None  # set when the coils cancel the string signal exactly: no signal, no SNR
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def snr_db(self) -> float | None:
         """20·log10(signal_v / total_v); None when there is no signal (see ``silent_reason``)."""
@@ -433,5 +438,9 @@ def noise(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_veloc
     from ..design import apply_rig
 
     check_temperature(temperature_k, "temperature_k")
+    from ..arguments import number
+
+    number("temperature_k", temperature_k, unit="K")
+    number("reference_velocity", reference_velocity, lo=0, lo_open=True, unit="m/s rms")
     (report,) = noise_reports([apply_rig(design, rig)], temperature=temperature_k, reference_velocity=reference_velocity)
     return report

@@ -39,6 +39,11 @@ class Response:
     output_impedance: np.ndarray
     passive_output_impedance: np.ndarray
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def magnitude_db(self) -> np.ndarray:
         """20·log10|velocity|: dB re 1 V per m/s, shape (F,)."""

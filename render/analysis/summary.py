@@ -105,7 +105,7 @@ def check_designs(designs, *, turns_percent: float | None = None) -> list[dict]:
     from .figures import figures, pole_resonance
 
     resp = responses(from_designs(list(designs)))
-    figs = figures(designs, resp)
+    figs = figures(designs, resp=resp)
     vel = resp.velocity()
     records = [design_summary(d, fig, pole_resonance(vel, i)) for i, (d, fig) in enumerate(zip(designs, figs))]
     if turns_percent:

@@ -83,7 +83,7 @@ def clips_command(
         report_from_di(made)
         dry = made.wav
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise, strength=strength_m)
-    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference, compare=compared)
+    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference, compare=compared, overwrite=overwrite)
     if run.compare is not None:
         from ..runs.compare_clip import compare_stem
 
@@ -110,13 +110,13 @@ def read_strength(text, dry) -> float | None:
     return strength_m
 
 
-def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None):
+def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None, overwrite=False):
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
     from .clips_print import progress_bar, report_clips
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     with progress_bar(len(designs)) as update:
-        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=update, reference=reference, compare=compare)
+        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=update, reference=reference, compare=compare, overwrite=overwrite)
     report_clips(run)
     return run

@@ -62,8 +62,10 @@ def _percent(text, name):
         v = float(t) / 100.0
     except ValueError:
         raise InputError(f"{name}={text!r}: expected a percentage such as 1% or 0.5") from None
-    if not 0 <= v <= 0.5:
-        raise InputError(f"{name}={text!r}: a tolerance must be from 0 % to 50 %")
+    from ..analysis.hum import TOLERANCE_MAX, TOLERANCE_RANGE
+
+    if not 0 <= v <= TOLERANCE_MAX:
+        raise InputError(f"{name}={text!r}: {TOLERANCE_RANGE}")
     return v
 
 

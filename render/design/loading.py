@@ -221,7 +221,22 @@ RIG_FORMS = "a rig file's path (str or Path), a render.RigFile (render.load_rig)
 def load_design(path: str | os.PathLike | Design, *, argument: str = "path") -> Design:
     """Load and validate one design file; a :class:`Design` already loaded is returned as it is.
 
-    Anything else is refused with an :class:`InputError` naming ``argument``.
+    Parameters
+    ----------
+    path : str or Path or Design
+        The design file (TOML), or a design already loaded.
+    argument : str
+        The name a refusal gives the value (a caller's own argument's name).
+
+    Returns
+    -------
+    Design
+
+    Raises
+    ------
+    InputError
+        One line for a file that cannot be read or is not a valid design; anything else
+        than a path or a Design is refused naming ``argument``.
     """
     if isinstance(path, Design):
         return path
@@ -244,8 +259,22 @@ def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile
 def load_rig(path: str | os.PathLike | RigFile, *, argument: str = "path") -> RigFile:
     """Load a rig file; its [rig] replaces a design's own, and so does its [hum] if present.
 
-    A :class:`RigFile` already loaded is returned as it is; anything else is
-    refused with an :class:`InputError` naming ``argument``.
+    Parameters
+    ----------
+    path : str or Path or RigFile
+        The rig file (TOML), or one already loaded (returned as it is).
+    argument : str
+        The name a refusal gives the value (a caller's own argument's name).
+
+    Returns
+    -------
+    RigFile
+
+    Raises
+    ------
+    InputError
+        One line for a file that cannot be read or is not a valid rig; anything else is
+        refused naming ``argument``.
     """
     if isinstance(path, RigFile):
         return path
@@ -267,9 +296,20 @@ MODELS = Path("models")  # where designs are looked for when none are named
 def load_designs(paths=None, *, rig: str | Path | RigFile | None = None, models: Path = MODELS) -> tuple[list[Design], RigFile | None]:
     """Designs from the given files (default: every ``models/*.toml``), each with the rig file applied.
 
-    Each of ``paths`` is a design file's path or a :class:`Design` already
-    loaded; ``rig`` is a rig file's path, a :class:`RigFile` or None.
-    Returns the designs and the rig file as read (None without one).
+    Parameters
+    ----------
+    paths : sequence of (str or Path or Design), or None
+        Design files' paths or designs already loaded (None or empty: every ``*.toml`` in ``models``;
+        there, a design this installation cannot render is left out with a warning).
+    rig : str or Path or RigFile or None
+        A rig file (or one loaded) applied to every design.
+    models : Path
+        The folder searched when ``paths`` is empty.
+
+    Returns
+    -------
+    (list of Design, RigFile or None)
+        The designs in order and the rig file as read (None without one).
     """
     if isinstance(paths, (str, Path, Design)):
         raise InputError(f"paths: got one {type(paths).__name__}; pass a list of them (or load_design for one)")

@@ -203,9 +203,13 @@ class Design:
 
     def with_geometry(self, coil_a: CoilGeometry | None = None, coil_b: CoilGeometry | None = None) -> Design:
         """The design with these coils' turns placed in space (``turns_area`` becomes the geometry's; the entered one is kept beside it)."""
+        from ..arguments import instance
+        from ..magnetics.coil import CoilGeometry
+
         coils = {}
         for name, g in (("coil_a", coil_a), ("coil_b", coil_b)):
             if g is not None:
+                instance(name, g, CoilGeometry, "a render.CoilGeometry(...) or None")
                 c = getattr(self, name)
                 entered = c.entered_turns_area if c.geometry is not None else c.turns_area
                 coils[name] = replace(c, geometry=g, turns_area=g.turns_area, entered_turns_area=entered)

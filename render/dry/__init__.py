@@ -13,6 +13,7 @@ for coil_a and row 1 for coil_b):
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -65,6 +66,11 @@ class Dry:
     warnings: tuple[str, ...] = ()
     description: dict = field(default_factory=dict)
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def seconds(self) -> float:
         return self.velocity.shape[1] / self.sample_rate
@@ -113,13 +119,13 @@ def check_recording(path: Path, *, blind: bool = False) -> None:
         raise short
 
 
-def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:
+def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:
     """The string velocity a phrase gives at two sensing points.
 
     Parameters
     ----------
-    phrase : Phrase
-        From :func:`load_phrase` or :func:`parse_phrase`.
+    phrase : Phrase or str or Path
+        From :func:`load_phrase` or :func:`parse_phrase`, or a phrase file's path (read with :func:`load_phrase`).
     positions : (float, float), m
         coil_a's and coil_b's sensing points, from the bridge saddle.
     apertures : (float, float) or float, m
@@ -138,6 +144,11 @@ def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: 
     -------
     Dry
     """
+    from ..arguments import instance
+
+    if isinstance(phrase, (str, os.PathLike)):
+        phrase = load_phrase(os.fspath(phrase))
+    instance("phrase", phrase, Phrase, "a render.Phrase (render.load_phrase(path)) or a phrase file's path")
     if pickup is not None:
         from .construction import pickup_velocity
 
@@ -150,11 +161,11 @@ def synthesize(phrase: Phrase, *, positions, apertures, sample_rate: int, seed: 
 def phrase_dry(phrase: Phrase, velocity: np.ndarray, *, positions, sample_rate: int, seed: int) -> Dry:
     """The :class:`Dry` of a phrase synthesised at two sensing points (one row: the same at both), with
     a warning for each note a point does not hear (:func:`render.dry.modal.unheard_notes`)."""
-    from .modal import unheard_notes
+    from .modal import _lengths, unheard_notes
 
     if velocity.shape[0] == 1:
         velocity = np.vstack([velocity, velocity])
-    unheard = unheard_notes(phrase, positions, ("coil_a's sensing point", "coil_b's sensing point"))
+    unheard = unheard_notes(phrase, _lengths("positions", positions), ("coil_a's sensing point", "coil_b's sensing point"))  # "40mm" as metres
     return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=unheard, description=describe(phrase) | {"seed": int(seed)})
 
 

@@ -345,8 +345,10 @@ def load_phrase(path: str | Path) -> Phrase:
     InputError
         One line naming the file, table, ``key=value`` and the constraint.
     """
+    from ..arguments import path as path_arg
     from ..io.toml import read_toml
 
+    path = path_arg("path", path, what="a phrase file's path (.toml)")
     name = str(path)
     data, _ = read_toml(path, limit=MAX_PHRASE_BYTES, what="a phrase file", missing="give the path of a phrase file (.toml)")
     return parse_phrase(data, source=name)

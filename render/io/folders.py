@@ -16,11 +16,20 @@ from ..errors import ArgumentError, InputError
 OUTPUTS = Path("outputs")  # where a run's folder goes when none is given
 
 
-def refuse_existing(paths: Iterable[str | Path | None], *, overwrite: bool) -> None:
-    """InputError for the first of ``paths`` that exists, unless ``overwrite`` ('-' and None are skipped)."""
+def refuse_existing(paths: Iterable[str | Path | None], *, overwrite: bool, argument: str | None = None) -> None:
+    """InputError for the first of ``paths`` that exists, unless ``overwrite`` ('-' and None are skipped).
+
+    With ``argument`` (a library function's, whose outputs are ``paths``), an :class:`ArgumentError` naming it
+    and ``overwrite=True`` for a Python caller; the command line's words stay ``PATH: exists; pass --overwrite ...``.
+    """
     for p in paths:
         if p and p != "-" and Path(p).exists() and not overwrite:
-            raise InputError(f"{p}: exists; pass --overwrite to replace it or choose another name")
+            cli = f"{p}: exists; pass --overwrite to replace it or choose another name"
+            if argument is None:
+                raise InputError(cli)
+            raise ArgumentError(
+                argument, f"{p}", "exists; pass --overwrite to replace it or choose another name", python_why="exists; pass overwrite=True to replace it or choose another name", cli=cli
+            )
 
 
 def make_folder(path: str | Path) -> Path:
@@ -72,17 +81,20 @@ def new_run_folder(root: Path = OUTPUTS, prefix: str = "clips") -> Path:
     return out
 
 
-def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = "clips") -> Path:
+def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = "clips", claimed: bool = False) -> Path:
     """The folder a run writes to (not yet created): ``out_dir``, or a new one under ``outputs/``.
 
     Refused if ``out_dir`` is a file, or a folder that holds files and ``overwrite`` is false.
+    With ``claimed``, the files written into it for this run beforehand (:data:`RUN_CLAIMED`,
+    a ``--from-di`` velocity) do not count.
     """
     if out_dir is None:
         return new_run_folder(OUTPUTS, prefix)
     out = Path(out_dir)
     if out.exists() and not out.is_dir():
         raise ArgumentError("out", f"{out}", "is a file; give a folder")
-    if out.exists() and any(out.iterdir()) and not overwrite:
+    ours = {RUN_CLAIMED, *(rel.split("/")[0] for rel in _listed(out, RUN_CLAIMED))} if claimed and out.exists() else set()
+    if out.exists() and any(p.name not in ours for p in out.iterdir()) and not overwrite:
         raise ArgumentError(
             "out",
             f"{out}",

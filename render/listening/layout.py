@@ -28,7 +28,7 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 
 PLAN_FORMAT = "render-listening-plan"
 KEY_FORMAT = "render-listening-key"
@@ -76,10 +76,22 @@ def session_paths(path: str | Path) -> SessionPaths:
     """The paths of the session at ``path``; refuses a folder that is not one."""
     root = Path(path)
     if not root.is_dir():
-        raise InputError(f"SESSION={path}: no such folder; make a session with `render blind MODEL_A MODEL_B`")
+        raise ArgumentError(
+            "session",
+            f"{path}",
+            "no such folder; make a session with `render blind MODEL_A MODEL_B`",
+            option="SESSION",
+            python_why="no such folder; make a session with render.build_blind_session(...) or `render blind MODEL_A MODEL_B`",
+        )
     paths = SessionPaths(root)
     if not paths.plan.is_file() or not paths.key.is_file():
-        raise InputError(f"SESSION={path}: not a listening session (no public/plan.json and private/key.json); make one with `render blind MODEL_A MODEL_B`")
+        raise ArgumentError(
+            "session",
+            f"{path}",
+            "not a listening session (no public/plan.json and private/key.json); make one with `render blind MODEL_A MODEL_B`",
+            option="SESSION",
+            python_why="not a listening session (no public/plan.json and private/key.json); make one with render.build_blind_session(...) or `render blind MODEL_A MODEL_B`",
+        )
     return paths
 
 

@@ -19,7 +19,7 @@ import math
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 from .answers import read_answers
 from .build import slot_design
 from .layout import SessionPaths, load_key, load_plan, session_paths
@@ -219,6 +219,8 @@ def score_session(path) -> tuple[SessionPaths, dict, dict]:
     plan = load_plan(paths)
     answers = read_answers(paths, plan)
     if len(answers) < len(plan["trials"]):
-        raise InputError(f"SESSION={path}: {len(answers)} of {len(plan['trials'])} trials answered; the key stays closed until the last one; finish with `render listen {path}`")
+        raise ArgumentError(
+            "session", f"{path}", f"{len(answers)} of {len(plan['trials'])} trials answered; the key stays closed until the last one; finish with `render listen {path}`", option="SESSION"
+        )
     key = load_key(paths, plan)
     return paths, key, score(plan, key, answers)

@@ -211,6 +211,11 @@ class RejectionMap:
     frequency_hz: np.ndarray
     rejection_db: np.ndarray
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     def to_dict(self) -> dict:
         """JSON-ready: axes and ``rejection_db`` as nested lists [distance][bearing][harmonic].
 
@@ -329,6 +334,11 @@ class PositionMonteCarlo:
     trials: int
     seed: int
     tolerances: dict | None = None
+
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
 
     def summary(self) -> list[dict]:
         """Per harmonic: median and 5th percentile of the rejection (dB)."""

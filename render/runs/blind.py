@@ -35,8 +35,8 @@ RENDER_FUNCTION = "render.clip.render_clip"  # recorded in the key
 class BlindSettings:
     """Everything a blind session depends on besides the designs, the rig and the dry file.
 
-    Checked when made: a bad value raises :class:`~render.errors.InputError`
-    (one line, named as the command-line option).
+    Checked when made: a bad value raises :class:`~render.errors.ArgumentError`
+    (one line naming the field, such as ``trials=0``; the command line names its option instead).
 
     Attributes
     ----------
@@ -152,6 +152,9 @@ class BlindSession:
         Share of each render's oversampled limiter input outside the identity region.
     warnings : tuple of str
         One line each: the dry signal's, then each design's prefixed with its name.
+    headroom : tuple of PlayedHeadroom
+        Each render's headroom (:class:`render.analysis.headroom.PlayedHeadroom`: the margin to the
+        soft limit each side in dB, the share of the render limited), MODEL_A's then MODEL_B's.
     """
 
     paths: SessionPaths
@@ -164,7 +167,7 @@ class BlindSession:
     loudness: LoudnessMatch
     clipped_fraction: tuple[float, float]
     warnings: tuple[str, ...] = ()
-    headroom: tuple = ()  # each render's PlayedHeadroom (render.analysis.headroom), in the designs' order
+    headroom: tuple = ()
 
 
 def session_folder(out: str | Path | None, *, overwrite: bool) -> Path:
@@ -264,6 +267,7 @@ def build_blind_session(
     from dataclasses import replace
 
     from ..analysis.headroom import from_record
+    from ..arguments import instance
     from ..clip import render_clip
     from ..design.construction import pickup_for
     from ..design.provenance import design_provenance
@@ -271,7 +275,7 @@ def build_blind_session(
     from ..listening.build import build_session
     from ..listening.loudness import match_loudness
 
-    settings = settings if settings is not None else BlindSettings()
+    settings = instance("settings", settings, BlindSettings, "a render.BlindSettings(...) or None for the defaults") if settings is not None else BlindSettings()
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     if len(designs) != 2:
         raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
@@ -302,7 +306,13 @@ def build_blind_session(
             dry_description = dry.description
         n = dry.velocity.shape[1]
         if n > MAX_SECONDS * fs:
-            raise ArgumentError("dry_path", f"{dry_file}", f"plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass --seconds", option="--dry")
+            raise ArgumentError(
+                "dry_path",
+                f"{dry_file}",
+                f"plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass --seconds",
+                option="--dry",
+                python_why=f"plays {n / fs:.1f} s; a session clip is at most {MAX_SECONDS:g} s, pass settings=BlindSettings(seconds=...)",
+            )
         # the bare velocity: the clip's warnings are then the render's own (the dry signal's are kept once, above)
         clip = render_clip(design, dry.velocity, sample_rate=fs, hum=settings.hum)
         warnings.extend(f"{name}: {w}" for w in clip.warnings)

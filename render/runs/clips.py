@@ -27,7 +27,7 @@ BATCH_MOST = 5  # designs per worker task: their plots share figures (see split_
 
 @dataclass(frozen=True)
 class ClipsRun:
-    """What :func:`run_clips` wrote and measured.
+    """What :func:`render.render_clips` wrote and measured.
 
     Attributes
     ----------
@@ -370,6 +370,7 @@ def run_clips(
     progress: Callable[[int], None] | None = None,
     reference: str | None = None,
     compare: Any = None,
+    overwrite: bool = False,
 ) -> ClipsRun:
     """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png), and the comparison page (index.html).
 
@@ -377,11 +378,11 @@ def run_clips(
     ----------
     designs : sequence of Design
         Validated; their file stems name the outputs.
-    dry : Path
-        A phrase (.toml) or a recorded velocity file, already checked.
+    dry : str or Path
+        A phrase (.toml) or a recorded velocity file.
     settings : RenderSettings
-    out : Path
-        The folder (created here; refused beforehand by the caller if it holds files).
+    out : str or Path
+        The folder (created here); refused before any work if it holds files, unless ``overwrite``.
     rig : RigFile or None
         Play every design into this rig instead of its own (kept in the records).
     jobs : int
@@ -397,15 +398,25 @@ def run_clips(
     compare : PassiveDesign or None
         A passive comparison pickup (``--compare``): its clip plays the same dry signal at the run's full scale,
         with a row in summary.md and on the comparison page, beside the designs (:mod:`render.runs.compare_clip`).
+    overwrite : bool
+        Run into a folder that holds files: an earlier run's files that this one does not write again are removed
+        (files no run listed, such as a listener's notes, stay).
     """
+    from .. import arguments as A
     from ..analysis.brightness import reference_index
     from ..compare.folders import write_clips_page
-    from ..io.folders import run_folder
+    from ..errors import ArgumentError
+    from ..io.folders import output_folder, run_folder
     from ..parallel import SideProcess
     from ..report.brightness import add_brightness
     from ..report.clips import write_design_audio, write_design_only_plots, write_run_files
     from ..report.records import clip_record
 
+    dry = A.path("dry", dry, what="a phrase (.toml) or a recorded velocity file's path")
+    if not dry.is_file():
+        raise ArgumentError("dry", f"{dry}", "no such file; give a phrase (.toml) or a recorded velocity file", option="--dry")
+    A.instance("settings", settings, RenderSettings, "a render.RenderSettings(...) (RenderSettings() for the defaults)")
+    out = output_folder(A.path("out", out, what="a folder's path"), overwrite=overwrite, claimed=True)  # an earlier run's files are replaced only when asked
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup
     stems = [Path(d.source).stem for d in designs]

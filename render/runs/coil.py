@@ -212,10 +212,15 @@ def fit_file(path, *, capacitance: float | None = None) -> FitResult:
 
     Returns
     -------
-    FitResult
+    CoilFit
+        The measurement and the fitted model (:class:`render.CoilFit`).
     """
+    from .. import arguments as A
     from ..design.coil_impedance import fit_file as read_and_fit
 
+    path = A.path("path", path, what="a measurement CSV's path")
+    if capacitance is not None:
+        A.number("capacitance", capacitance, lo=0, lo_open=True, unit="F", hint=" (farads: 95e-12 for 95 pF)")
     m, fit = read_and_fit(path, capacitance=capacitance)
     return FitResult(m, fit, self_resonance_hz(fit.impedance))
 

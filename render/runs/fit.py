@@ -39,7 +39,7 @@ class FitRun:
     start_file : Path
     start_figures : dict
     start_values : np.ndarray [shape=(parts,)], SI units (NaN: absent in the start)
-    results : tuple of FitResult
+    results : tuple of render.analysis.fit.FitResult
         Best first; each with its part values as written, their figures, score and the aims it misses (none when it meets every aim).
         Only designs that can be built, each once: fewer than ``top`` where the search found fewer.
     files : tuple of Path
@@ -58,6 +58,11 @@ class FitRun:
     files: tuple[Path, ...]
     folder: Path
     top: int = 3
+
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
 
     def verdicts(self) -> list[str]:
         """One line per result: whether it meets every aim, or which it misses and what it measures there."""
@@ -81,26 +86,28 @@ def start_file_of(spec, fitfile: Path) -> Path:
     return start
 
 
-def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0, marked: bool = True) -> FitRun:
+def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0, marked: bool = True, overwrite: bool = False) -> FitRun:
     """Search part values (snapped to preferred-number series) that meet ``fitfile``'s aims, and write the results into ``out``.
 
     Parameters
     ----------
     fitfile : str or Path
         The fit file (aims, free parts, start design).
-    out : Path
-        The folder (refused beforehand by the caller if it holds files).
+    out : str or Path
+        The folder; refused before any work if it holds files, unless ``overwrite``.
     start_path : str or Path or None
         The start design, instead of the fit file's ``from``.
     rig : RigFile or str or Path or None
         The rig (a rig file's path, or one loaded) for the start and every result.
-    top : int
+    top : int, ≥ 1
         How many results to write.
     seed : int
         Seed of the global search.
     marked : bool
         Mark ``out`` incomplete (``INCOMPLETE.txt``) while writing; False when
         the caller marks it for a longer run (a fit followed by its clips).
+    overwrite : bool
+        Write into a folder that holds files: an earlier run's files that this one does not write again are removed.
 
     Raises
     ------
@@ -109,12 +116,15 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     """
     from ..analysis.figures import figures
     from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit, verdict
+    from ..arguments import whole
     from ..design import apply_rig, design_provenance, load_design, parse_design
     from ..design.loading import as_rig
     from ..io.atomic import write_json, write_text
-    from ..io.folders import make_folder, run_folder
+    from ..io.folders import make_folder, output_folder, run_folder
     from ..io.toml import loads
 
+    top = whole("top", top, hint=" (how many results to write)")
+    out = output_folder(out, overwrite=overwrite, prefix="fit")  # an earlier run's files are replaced only when asked
     fitfile = Path(fitfile)
     spec = load_fit(fitfile, start_override=start_path)
     start_file = start_file_of(spec, fitfile)
@@ -222,7 +232,7 @@ def fit_and_render(
         The start design's file, instead of the fit file's ``from``.
     rig : RigFile or str or Path or None
         The rig for the fit, the clips and the session.
-    top : int
+    top : int, ≥ 1
         How many results to write (and render).
     seed : int
         Seed of the global search.
@@ -255,6 +265,7 @@ def fit_and_render(
     """
     import os
 
+    from ..arguments import whole
     from ..clip import RenderSettings
     from ..design import load_designs
     from ..design.loading import as_rig
@@ -264,12 +275,13 @@ def fit_and_render(
     from .clips import run_clips
     from .fit_phrase import phrase_file_of
 
+    top = whole("top", top, hint=" (how many results to write)")
     step = on_step or (lambda _: None)
     folder = output_folder(out or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
     rig_file = as_rig(rig)
     then = clips or blind  # the folder stays marked incomplete until what follows the fit is written
     with run_folder(folder) if then else contextlib.nullcontext():
-        run = fit(fitfile, out=folder, start_path=start_path, rig=rig_file, top=top, seed=seed, marked=not then)
+        run = fit(fitfile, out=folder, start_path=start_path, rig=rig_file, top=top, seed=seed, marked=not then, overwrite=True)  # the folder was checked above
         step(run)
         clips_run = session = None
         if clips:
@@ -278,7 +290,7 @@ def fit_and_render(
             dry, settings = check_dry_file(phrase), RenderSettings(strength=run.spec.strength)
             clips_out = output_folder(folder / "clips", overwrite=overwrite)
             with progress(len(designs)) as update:
-                clips_run = run_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update)
+                clips_run = run_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update, overwrite=overwrite)
             step(clips_run)
         if blind:
             designs, _ = load_designs([run.start_file, run.files[0]], rig=rig_file)

@@ -34,6 +34,9 @@ class SessionScore:
         The response-difference plot drawn by this run.
     kept_plot : Path or None
         The session's earlier plot, left as it was (no ``overwrite``).
+    warnings : tuple of str
+        One line each: a measured coil's file gone or changed since the session was rendered (its
+        SHA-256 differs from the key's), or a plot that could not be drawn.
     """
 
     paths: SessionPaths

@@ -66,9 +66,9 @@ def sidecars(out: str | Path) -> tuple[Path, Path]:
     return out.with_suffix(".json"), out.with_name(out.stem + "-spectra.png")
 
 
-def _check_number(name: str, value, low: float, high: float, what: str) -> float:
+def _check_number(name: str, value, low: float, high: float, what: str, *, option: str) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) or not low <= value <= high:
-        raise InputError(f"{name}={value}: must be a number from {low:g} to {high:g} ({what})")
+        raise ArgumentError(name, value, f"must be a number from {low:g} to {high:g} ({what})", option=option)
     return float(value)
 
 
@@ -132,13 +132,37 @@ def unvoice(
 ) -> UnvoiceResult:
     """Estimate the string velocity behind ``di_path`` (recorded through ``design``'s passive reference) and write it.
 
-    di_path : mono audio file; a sample of 1.0 is ``volts_full_scale`` V at the amp input
-    design : the design (its file's path, or a Design) whose passive reference made the recording
-    out : the velocity WAV to write (``.wav``); the JSON and plot go beside it
-    rig : the rig (a rig file's path, a RigFile, or None) replacing the design's own [rig]
-    velocity_scale : m/s at the velocity WAV's full scale, > 0
-    max_boost_db : dB, 0..40, the inverse's boost bound above its 1 kHz level (default 20)
-    Raises InputError (one line) before writing anything for bad input or existing files without ``overwrite``.
+    Parameters
+    ----------
+    di_path : str or Path
+        A mono audio file (WAV, FLAC, ...): the DI, recorded through the design's passive reference.
+    design : Design
+        The design whose passive reference made the recording.
+    out : str or Path
+        The velocity WAV to write (``.wav``, in an existing folder); its JSON record
+        (``FILE.json``) and spectra plot (``FILE-spectra.png``) go beside it.
+    rig : RigFile or None
+        Replaces the design's own [rig] (the controls and cable the DI was recorded through).
+    volts_full_scale : float, V
+        The amp-input voltage of a DI sample of 1.0, 1e-4 to 100 V.
+    velocity_scale : float, m/s
+        The string velocity at the velocity WAV's full scale, 1e-6 to 1000 m/s.
+    max_boost_db : float or None, dB
+        The inverse's boost bound above its 1 kHz level, 0 to 40 dB (default 20 dB).
+    overwrite : bool
+        Replace ``out``, its JSON and its plot if they exist (otherwise an existing one is refused).
+    plot : bool
+        Write the spectra plot.
+
+    Returns
+    -------
+    UnvoiceResult
+        The paths written, the JSON record and the warnings.
+
+    Raises
+    ------
+    InputError
+        One line, before anything is written: bad input, or an existing output without ``overwrite``.
     """
     from .. import __version__
     from ..analysis import unvoice as U
@@ -151,14 +175,14 @@ def unvoice(
     from ..io.wav import FloatWavWriter
     from ..report.unvoice import spectra_plot, unvoice_record
 
-    boost = U.MAX_BOOST_DB if max_boost_db is None else _check_number("--max-boost", max_boost_db, *BOOST_RANGE, "dB above the inverse's 1 kHz level")
-    vfs = _check_number("--volts-full-scale", volts_full_scale, *VOLTS_RANGE, "volts at the DI's full scale")
-    vscale = _check_number("--velocity-scale", velocity_scale, 1e-6, 1e3, "m/s at the velocity WAV's full scale")
+    boost = U.MAX_BOOST_DB if max_boost_db is None else _check_number("max_boost_db", max_boost_db, *BOOST_RANGE, "dB above the inverse's 1 kHz level", option="--max-boost")
+    vfs = _check_number("volts_full_scale", volts_full_scale, *VOLTS_RANGE, "volts at the DI's full scale", option="--volts-full-scale")
+    vscale = _check_number("velocity_scale", velocity_scale, 1e-6, 1e3, "m/s at the velocity WAV's full scale", option="--velocity-scale")
     out = Path(out)
     if out.suffix.lower() != ".wav":
         raise ArgumentError("out", f"{out}", "must end in .wav (the velocity is written as a float WAV)")
     json_path, png_path = sidecars(out)
-    check_new([out, json_path] + ([png_path] if plot else []), overwrite=overwrite)
+    check_new([out, json_path] + ([png_path] if plot else []), overwrite=overwrite, argument="out")
     di = Path(di_path)
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():

@@ -1,0 +1,87 @@
+"""Checks of a public function's arguments, at its entry, before any work.
+
+Each returns the value it accepts (a path as a :class:`~pathlib.Path`, a number
+as a float) or raises one :class:`~render.errors.ArgumentError` line naming the
+Python argument, what is wrong and what to pass, so a script never meets a
+bare TypeError from deep inside.
+"""
+
+from __future__ import annotations
+
+import math
+import numbers as _numbers
+import operator
+import os
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Any
+
+from .errors import ArgumentError
+from .units import shorten
+
+
+def shown(value: object) -> str:
+    """A refused value as a message shows it: a short repr."""
+    return shorten(repr(value))
+
+
+def path(name: str, value: object, *, what: str = "a file's path") -> Path:
+    """A path given as str or Path (any os.PathLike), as a Path."""
+    if isinstance(value, (str, os.PathLike)) and str(value) != "":
+        return Path(value)
+    raise ArgumentError(name, shown(value), f"pass {what} (a str or pathlib.Path)")
+
+
+def instance(name: str, value: Any, kind: type | tuple[type, ...], hint: str) -> Any:
+    """``value`` if it is a ``kind``; otherwise refused, ``hint`` saying what to pass."""
+    if isinstance(value, kind):
+        return value
+    raise ArgumentError(name, shown(value), f"got {type(value).__name__}; pass {hint}")
+
+
+def number(name: str, value: object, *, lo: float | None = None, hi: float | None = None, lo_open: bool = False, unit: str = "", hint: str = "", option: str | None = None) -> float:
+    """A real, finite number (int, float or a numpy scalar, never a str or bool) within ``lo`` .. ``hi``."""
+    from .option_checks import number_range
+
+    x = float(value) if isinstance(value, _numbers.Real) and not isinstance(value, bool) else math.nan  # numpy's scalars are Real too
+    u = f" in {unit}" if unit else ""
+    if not math.isfinite(x):
+        raise ArgumentError(name, shown(value), f"must be a finite number{u}{hint}", option=option)
+    if (lo is not None and (x < lo or (lo_open and x == lo))) or (hi is not None and x > hi):
+        raise ArgumentError(name, shown(value), f"must be {number_range(lo, hi, lo_open=lo_open, unit=unit)}{hint}", option=option)
+    return x
+
+
+def whole(name: str, value: object, *, lo: int = 1, hint: str = "", option: str | None = None) -> int:
+    """A whole number (int or a numpy integer, never a float or bool) of at least ``lo``."""
+    try:
+        n = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]
+    except TypeError:
+        n = None
+    if n is None:
+        raise ArgumentError(name, shown(value), f"must be a whole number of at least {lo}{hint}", option=option)
+    if n < lo:
+        raise ArgumentError(name, shown(value), f"must be at least {lo}{hint}", option=option)
+    return n
+
+
+def numbers(name: str, value: object, *, hint: str = "", option: str | None = None) -> tuple[float, ...]:
+    """A non-empty sequence of real numbers (a single number or a str is refused), as a tuple of floats."""
+    if isinstance(value, (str, bytes)) or not isinstance(value, Iterable):
+        raise ArgumentError(name, shown(value), f"pass a sequence of numbers, e.g. (0.5,) for one{hint}", option=option)
+    items = list(value)
+    if not items:
+        raise ArgumentError(name, shown(value), f"is empty; pass at least one number{hint}", option=option)
+    for i, v in enumerate(items):
+        number(f"{name}[{i}]", v, option=option)
+    return tuple(float(v) for v in items)
+
+
+def items(name: str, value: object, kind: type | tuple[type, ...], hint: str) -> tuple:
+    """A sequence whose every item is a ``kind`` (a single item, or a str, is refused), as a tuple."""
+    if isinstance(value, (str, bytes)) or not isinstance(value, Iterable):
+        raise ArgumentError(name, shown(value), f"got {type(value).__name__}; pass a sequence of {hint}")
+    out = tuple(value)
+    for i, v in enumerate(out):
+        instance(f"{name}[{i}]", v, kind, hint)
+    return out

@@ -1,0 +1,179 @@
+"""The public API refuses what the command line refuses, naming the Python argument.
+
+No outside source: these tests hold the library to the project's own rule
+(DEVELOPERS.md, "Files" and "Errors"): nothing is overwritten unless asked, and a
+refused argument is one line naming it, before any work or any file is written.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+import render
+
+ROOT = Path(__file__).resolve().parents[1]
+REF = ROOT / "models" / "studio-reference.toml"
+PHRASE = ROOT / "dry_signals" / "default.toml"
+FIT = ROOT / "models" / "fits" / "brighter-reference.toml"
+
+
+def _earlier_run(folder: Path) -> Path:
+    folder.mkdir()
+    kept = folder / "studio-reference.wav"
+    kept.write_bytes(b"an earlier run's clip")
+    return kept
+
+
+def test_render_clips_keeps_an_earlier_run_unless_told(tmp_path):
+    out = tmp_path / "run"
+    kept = _earlier_run(out)
+    with pytest.raises(render.ArgumentError, match=r"^out=.*overwrite=True"):
+        render.render_clips([REF], PHRASE, render.RenderSettings(seconds=0.5), out, plots=False)
+    assert kept.read_bytes() == b"an earlier run's clip" and sorted(p.name for p in out.iterdir()) == ["studio-reference.wav"]
+    run = render.render_clips([REF], PHRASE, render.RenderSettings(seconds=0.5), out, plots=False, overwrite=True)
+    assert run.folder == out and kept.read_bytes() != b"an earlier run's clip"
+
+
+def test_fit_keeps_an_earlier_run_unless_told(tmp_path):
+    out = tmp_path / "fit"
+    kept = _earlier_run(out)
+    with pytest.raises(render.ArgumentError, match=r"^out=.*overwrite=True"):
+        render.fit(FIT, out=out)
+    assert kept.read_bytes() == b"an earlier run's clip" and sorted(p.name for p in out.iterdir()) == ["studio-reference.wav"]
+
+
+def test_every_public_writer_takes_overwrite():
+    # the public functions that write files: each refuses an existing output unless overwrite=True
+    import inspect
+
+    for name in ("render_clips", "fit", "fit_and_render", "unvoice", "build_blind_session", "score_blind_session"):
+        p = inspect.signature(getattr(render, name)).parameters["overwrite"]
+        assert p.kind is inspect.Parameter.KEYWORD_ONLY and p.default is False, name
+
+
+def _refused(call, argument):
+    """The one-line ArgumentError ``call`` raises, checked to name ``argument``."""
+    with pytest.raises(render.ArgumentError) as e:
+        call()
+    assert e.value.argument == argument and str(e.value).startswith(f"{argument}=") and "\n" not in str(e.value)
+    return str(e.value)
+
+
+def test_bad_arguments_are_named(tmp_path):
+    d = render.load_design(REF)
+    s = render.RenderSettings(seconds=0.5)
+    geometry = dict(positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.1)
+    _refused(lambda: render.render_clips([REF], PHRASE, None, tmp_path / "a"), "settings")
+    _refused(lambda: render.render_clips([REF], None, s, tmp_path / "b"), "dry")
+    _refused(lambda: render.render_clips([REF], tmp_path / "nope.toml", s, tmp_path / "c"), "dry")
+    _refused(lambda: render.render_clips([REF], PHRASE, s, 5), "out")
+    _refused(lambda: render.load_phrase(5), "path")
+    _refused(lambda: render.synthesize(5, **geometry), "phrase")
+    _refused(lambda: render.hum(d, sources=3), "sources")
+    _refused(lambda: render.hum(d, sources=[1]), "sources[0]")
+    _refused(lambda: render.hum_tolerances(d, trials=0), "trials")
+    _refused(lambda: render.hum_tolerances(d, trials=10, chunk=0), "chunk")
+    _refused(lambda: render.bias_sweep(d, ratios=0.5), "ratios")
+    _refused(lambda: render.noise(d, reference_velocity="0.1"), "reference_velocity")
+    _refused(lambda: render.fit_coil(ROOT / "models" / "coils" / "harbour-blade-coil.synthetic.csv", capacitance="95p"), "capacitance")
+    _refused(lambda: d.with_geometry(coil_a=3), "coil_a")
+    _refused(lambda: render.build_blind_session([d, d], None, out=tmp_path / "s", settings={"trials": 4}), "settings")
+    assert not any(tmp_path.iterdir())  # nothing was written
+
+
+def test_paths_as_str_or_path(tmp_path):
+    kw = dict(positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.1)
+    a, b = render.synthesize(str(PHRASE), **kw), render.synthesize(render.load_phrase(PHRASE), **kw)
+    assert (a.velocity == b.velocity).all()
+    run = render.render_clips([REF], str(PHRASE), render.RenderSettings(seconds=0.5), str(tmp_path / "r"), plots=False)
+    assert run.folder == tmp_path / "r" and (tmp_path / "r" / "studio-reference.wav").is_file()
+
+
+@pytest.mark.parametrize(
+    "tolerances, argument",
+    [
+        ({"resistor": 5}, "tolerances['resistor']"),  # a percentage given where a fraction goes: ±500 %
+        ({"resistor": -0.01}, "tolerances['resistor']"),
+        ({"resistr": 0.01}, "tolerances"),  # a misspelt class is refused, not left out
+        ([0.01], "tolerances"),
+    ],
+)
+def test_tolerances_are_refused_as_the_command_refuses_them(tolerances, argument):
+    from render.analysis.hum import TOLERANCE_RANGE
+
+    d = render.load_design(REF)
+    for call in (lambda: render.hum_tolerances(d, tolerances=tolerances, trials=10), lambda: render.hum_positions(d, joint=True, tolerances=tolerances, trials=10)):
+        message = _refused(call, argument)
+        if argument != "tolerances":
+            assert TOLERANCE_RANGE in message  # the words `render hum --tolerance-resistor 80%` prints
+    assert "did you mean 'resistor'" in _refused(lambda: render.hum_tolerances(d, tolerances={"resistr": 0.01}, trials=10), "tolerances")
+    assert render.hum_tolerances(d, tolerances={"resistor": 0.5}, trials=10).trials == 10  # 50 % is the edge, accepted
+
+
+def _python_words(call, argument):
+    """The refusal names the Python argument and no command-line option; returns the error."""
+    with pytest.raises(render.ArgumentError) as e:
+        call()
+    assert e.value.argument == argument and str(e.value).startswith(f"{argument}=") and " --" not in str(e.value), str(e.value)
+    return e.value
+
+
+def test_python_errors_name_python_arguments(tmp_path):
+    d = render.load_design(REF)
+    e = _python_words(lambda: render.bias_sweep(d, tops=(1e5,)), "tops")
+    assert e.for_option() == "--top and --bottom go together: give both lists, of the same length"  # the command's words, as before
+    e = _python_words(lambda: render.bias_sweep(d, tops=(1e5, 2e5), bottoms=(1e5,)), "bottoms")
+    assert e.for_option() == "--top=100000,200000, --bottom=100000: need lists of equal length of resistances from 1 Ω to 1 GΩ"
+    assert _python_words(lambda: render.bias_sweep(d, sine_velocity=1e9), "sine_velocity").for_option().startswith("--sine-velocity=")
+    taken = tmp_path / "v.wav"
+    taken.write_bytes(b"an earlier velocity")
+    e = _python_words(lambda: render.unvoice(tmp_path / "di.wav", d, out=taken), "out")
+    assert "overwrite=True" in str(e) and e.for_option() == f"{taken}: exists; pass --overwrite to replace it or choose another name"
+    for argument, option, value in (("max_boost_db", "--max-boost", 100.0), ("volts_full_scale", "--volts-full-scale", 0.0), ("velocity_scale", "--velocity-scale", -1.0)):
+        e = _python_words(lambda: render.unvoice(tmp_path / "di.wav", d, out=tmp_path / "w.wav", **{argument: value}), argument)
+        assert e.for_option().startswith(f"{option}={value}: ")
+    e = _python_words(lambda: render.score_blind_session(tmp_path / "nowhere"), "session")
+    assert e.for_option() == f"SESSION={tmp_path / 'nowhere'}: no such folder; make a session with `render blind MODEL_A MODEL_B`"
+    assert taken.read_bytes() == b"an earlier velocity" and sorted(p.name for p in tmp_path.iterdir()) == ["v.wav"]
+
+
+def test_fit_names_top(tmp_path):
+    for call in (lambda: render.fit(FIT, out=tmp_path / "f", top=0), lambda: render.fit_and_render(FIT, out=tmp_path / "g", top=0)):
+        assert "at least 1" in _refused(call, "top")
+    assert not any(tmp_path.iterdir())  # refused before the folder was made
+
+
+def test_result_arrays_are_read_only():
+    # a result's arrays cannot be changed under the figures derived from them (or a grid later results share)
+    import numpy as np
+
+    d = render.load_design(REF)
+    r = render.response(d, [1000.0, 2000.0])
+    before = r.magnitude_db.copy()
+    with pytest.raises(ValueError, match="read-only"):
+        r.velocity[0] = 0
+    assert np.array_equal(r.magnitude_db, before)
+    n = render.noise(d)
+    dry = render.synthesize(PHRASE, positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.2)
+    clip = render.render_clip(d, dry)
+    m = render.hum_map(d, distances_m=(0.5,), bearings_deg=(0,))
+    t = render.hum_tolerances(d, trials=10)
+    p = render.hum_positions(d, trials=10)
+    for a in (
+        r.frequency_hz,
+        r.passive,
+        r.output_impedance,
+        n.active.frequency_hz,
+        n.active.density_v_per_rthz,
+        dry.velocity,
+        clip.volts,
+        m.rejection_db,
+        m.frequency_hz,
+        t.rejection_db,
+        p.rejection_db,
+    ):
+        assert not a.flags.writeable
+    assert all(not a.flags.writeable for a in n.active.contributor_density.values())
+    assert render.noise(d).active.total_v == n.active.total_v
