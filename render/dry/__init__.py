@@ -165,7 +165,7 @@ def phrase_dry(phrase: Phrase, velocity: np.ndarray, *, positions, sample_rate: 
 
     if velocity.shape[0] == 1:
         velocity = np.vstack([velocity, velocity])
-    unheard = unheard_notes(phrase, _lengths("positions", positions), ("coil_a's sensing point", "coil_b's sensing point"))  # "40mm" as metres
+    unheard = unheard_notes(phrase, positions, ("coil_a's sensing point", "coil_b's sensing point"))
     return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=unheard, description=describe(phrase) | {"seed": int(seed)})
 
 
