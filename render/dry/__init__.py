@@ -161,7 +161,7 @@ def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, samp
 def phrase_dry(phrase: Phrase, velocity: np.ndarray, *, positions, sample_rate: int, seed: int) -> Dry:
     """The :class:`Dry` of a phrase synthesised at two sensing points (one row: the same at both), with
     a warning for each note a point does not hear (:func:`render.dry.modal.unheard_notes`)."""
-    from .modal import _lengths, unheard_notes
+    from .modal import unheard_notes
 
     if velocity.shape[0] == 1:
         velocity = np.vstack([velocity, velocity])
