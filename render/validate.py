@@ -114,6 +114,8 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field, table: str = "") -
         return f' (plain numbers are in metres: {shorten(str(raw).strip())} means {value:g} m; write e.g. "{value:g}mm")'
     if isinstance(raw, str):
         t = raw.strip()
+        if spec.kind is U.FLUX_DENSITY and t.endswith("G") and U._NUMBER_RE.match(t[:-1]) and _in_range(float(t[:-1]) * 1e-4, spec):
+            return f' ("G" is giga in the SI; for gauss write "{float(t[:-1]) * 1e-4:g}T": 1 G = 0.1 mT)'
         body = next((t[: -len(s)] for s in ("ohms", "ohm", "Ω") if t.endswith(s)), t)
         if spec.kind is U.RESISTANCE and body.endswith("m") and value < spec.lo and _in_range(value * 1e9, spec):
             return f' ("m" is milli; for mega write "{body[:-1]}M")'

@@ -57,7 +57,9 @@ def _length(raw: Any, loc: str, lo: float, hi: float) -> float:
     except U.QuantityError as exc:
         raise InputError(f"{loc}={U.shown(raw)}: {exc}") from None
     if not lo <= v <= hi:
-        raise InputError(f"{loc}={U.shown(raw)}: expected a length from {U.format_si(lo, 'm')} to {U.format_si(hi, 'm')}")
+        mm = isinstance(raw, (int, float)) and not isinstance(raw, bool) and lo <= v * 1e-3 <= hi
+        hint = f'; plain numbers are in metres: for {v:g} mm write "{v:g}mm"' if mm else ""
+        raise InputError(f"{loc}={U.shown(raw)}: expected a length from {U.format_si(lo, 'm')} to {U.format_si(hi, 'm')}{hint}")
     return v
 
 
@@ -258,6 +260,9 @@ def derive(design, construction: Construction | None):
         from ..magnetics.steel import require_installed
 
         require_installed()
+        from ..magnetics.coil import coil_centres
+
+        construction.parts(*coil_centres(design.coil_a.position, design.coil_b.position), build.geometry_a, build.geometry_b)  # the fit checks, cached solve or not
         result = sensing(design)
     except InputError as exc:
         raise InputError(f"{design.source or design.name}: {exc}") from None

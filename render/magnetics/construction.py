@@ -172,6 +172,11 @@ class Construction:
         refine : multiplies the number of cells along each side (convergence checks)
         """
         xa, xb = float(centre_a[0]), float(centre_b[0])
+        if abs(xb - xa) < (geometry_a.width + geometry_b.width) / 2 - 1e-9:
+            raise InputError(
+                f"[coil_a] and [coil_b] position put the coils' centres {abs(xb - xa) * 1e3:.3g} mm apart, less than half their widths together"
+                f" ({(geometry_a.width + geometry_b.width) / 2 * 1e3:.3g} mm): the bobbins would overlap; move them apart or make them narrower"
+            )
         north = 1.0 if xb > xa else -1.0  # the bar magnet's north pole under coil_b
         out: list[Part] = []
         chi_m = self.magnet_permeability - 1.0
@@ -179,18 +184,18 @@ class Construction:
         for name, x0, geom, up in (("coil_a", xa, geometry_a, -1.0), ("coil_b", xb, geometry_b, 1.0)):
             if self.kind == "magnet-blades":
                 w, length, h = self.magnet
-                _fits(name, geom, w, length)
+                _fits(name, geom, w, length, "magnet_width and magnet_length")
                 out += _stack(f"{name} magnet", x0, 0.0, w, length, self.top, h, chi_m, (0.0, 0.0, up * self.remanence), refine)
             elif self.kind == "steel-blades":
                 assert self.steel is not None
                 w, length, h = self.steel
-                _fits(name, geom, w, length)
+                _fits(name, geom, w, length, "steel_width and steel_length")
                 out += _stack(f"{name} blade", x0, 0.0, w, length, self.top, h, chi_s, (0.0, 0.0, 0.0), refine)
             else:
                 assert self.steel is not None
                 d, _, h = self.steel
                 span = (self.poles - 1) * self.pole_spacing + d
-                _fits(name, geom, d, span)
+                _fits(name, geom, d, span, "steel_width (the screws' diameter), poles and pole_spacing")
                 for i in range(self.poles):
                     y = (i - (self.poles - 1) / 2.0) * self.pole_spacing
                     # numbered from the treble side (+y), as guitarists number the strings: pole 1 under string 1
@@ -199,9 +204,28 @@ class Construction:
             assert self.steel is not None
             w, length, h = self.magnet
             z_top = self.top - self.steel[2]
+            lo, hi = (-w / 2, -length / 2, z_top - h), (w / 2, length / 2, z_top)
+            for name, x0, geom in (("coil_a", xa, geometry_a), ("coil_b", xb, geometry_b)):
+                if _reaches_winding(lo, hi, x0, geom):
+                    raise InputError(
+                        f"[construction]: the bar magnet's top (z = {z_top * 1e3:.3g} mm, from top and steel_height) reaches into {name}'s winding,"
+                        f" which runs down to z = {-geom.height * 1e3:.3g} mm; make steel_height at least {(geom.height + self.top) * 1e3:.3g} mm or [{name}.geometry] height smaller"
+                    )
             cells = _count((w, length, h), CELL_BODY, refine)
             out.append(Part("bar magnet", (-w / 2, -length / 2, z_top - h), (w / 2, length / 2, z_top), chi_m, (north * self.remanence, 0.0, 0.0), cells))
         return tuple(out)
+
+
+def _reaches_winding(lo, hi, x0: float, geom: CoilGeometry) -> bool:
+    """Whether the box [lo, hi] (m) reaches into a coil's winding: the ring between its window and its
+    outline (centred on x0, y = 0), from z = −height to 0."""
+    eps = 1e-9
+    if hi[2] <= -geom.height + eps or lo[2] >= -eps:
+        return False
+    if hi[0] <= x0 - geom.width / 2 + eps or lo[0] >= x0 + geom.width / 2 - eps or hi[1] <= -geom.length / 2 + eps or lo[1] >= geom.length / 2 - eps:
+        return False  # beside the outline
+    in_window = lo[0] >= x0 - geom.window_width / 2 - eps and hi[0] <= x0 + geom.window_width / 2 + eps and abs(lo[1]) <= geom.window_length / 2 + eps and abs(hi[1]) <= geom.window_length / 2 + eps
+    return not in_window
 
 
 def _coil_record(c) -> object:
@@ -210,12 +234,12 @@ def _coil_record(c) -> object:
     return c
 
 
-def _fits(name: str, geom: CoilGeometry, width: float, length: float) -> None:
-    """Refuse a pole piece that does not fit in the coil's window."""
+def _fits(name: str, geom: CoilGeometry, width: float, length: float, keys: str) -> None:
+    """Refuse a pole piece that does not fit in the coil's window, naming the keys that size it."""
     if width > geom.window_width * (1 + 1e-9) or length > geom.window_length * (1 + 1e-9):
         raise InputError(
-            f"[construction]: the pole pieces ({width * 1e3:.3g} mm along the string × {length * 1e3:.3g} mm across) do not fit in "
-            f"{name}'s window ({geom.window_width * 1e3:.3g} × {geom.window_length * 1e3:.3g} mm); make them smaller or the window larger"
+            f"[construction]: the pole pieces ({width * 1e3:.3g} mm along the string × {length * 1e3:.3g} mm across, from {keys}) do not fit in "
+            f"{name}'s window ({geom.window_width * 1e3:.3g} × {geom.window_length * 1e3:.3g} mm); make them smaller or [{name}.geometry]'s window_width and window_length larger"
         )
 
 

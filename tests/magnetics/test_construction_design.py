@@ -153,3 +153,54 @@ def test_a_construction_too_large_to_solve_is_refused_before_the_solve(tmp_path)
         load_design(path)
     msg = str(e.value)
     assert "\n" not in msg and "need 12560 cells to solve, more than 4000" in msg and "bar magnet, 100 × 100 × 30 mm" in msg
+
+
+def test_pole_pieces_that_do_not_fit_name_the_keys_that_size_them(tmp_path):
+    # six screws 12 mm apart span 5 × 12 mm + their diameter, more than the 58 mm window (arithmetic)
+    require_material_response()
+    root = Path(__file__).resolve().parents[2]
+    text = (root / "models" / "slipway-steel-poles.toml").read_text().replace('pole_spacing = "10.4mm"', 'pole_spacing = "12mm"', 1)
+    path = tmp_path / "wide.toml"
+    path.write_text(text)
+    with pytest.raises(InputError, match=r"from steel_width \(the screws' diameter\), poles and pole_spacing\) do not fit in coil_a's window"):
+        load_design(path)
+
+
+@pytest.mark.parametrize(
+    "line, fix",
+    [
+        ("string_height = 3", 'plain numbers are in metres: for 3 mm write "3mm"'),  # SI: a bare length is metres
+        ('remanence = "3900G"', 'for gauss write "0.39T": 1 G = 0.1 mT'),  # 1 G = 1e-4 T (SI Brochure, 9th ed., table 9)
+    ],
+)
+def test_construction_slips_get_their_fix(tmp_path, line, fix):
+    root = Path(__file__).resolve().parents[2]
+    key = line.split(" =")[0]
+    text = (root / "models" / "slipway-steel-poles.toml").read_text()
+    text = "\n".join(line if raw.startswith(f"{key} =") or (key == "remanence" and raw.startswith("magnet_grade =")) else raw for raw in text.splitlines())
+    path = tmp_path / "slip.toml"
+    path.write_text(text)
+    with pytest.raises(InputError) as e:
+        load_design(path)
+    assert fix in str(e.value) and "\n" not in str(e.value)
+
+
+@pytest.mark.parametrize(
+    "old, new, fragment",
+    [
+        # the bar magnet's top at z = 0 − 5 mm lies above the 9 mm coils' bottoms (z = −9 mm): inside the windings
+        ('steel_height = "11mm"', 'steel_height = "5mm"', "the bar magnet's top (z = -5 mm, from top and steel_height) reaches into coil_a's winding"),
+        # centres 7 mm apart, 13.4 mm wide bobbins: they would overlap (arithmetic)
+        ('position = "56mm"', 'position = "45mm"', "put the coils' centres 7 mm apart, less than half their widths together (13.4 mm)"),
+    ],
+)
+def test_parts_that_would_overlap_are_refused(tmp_path, old, new, fragment):
+    require_material_response()
+    root = Path(__file__).resolve().parents[2]
+    text = (root / "models" / "slipway-steel-blades.toml").read_text()
+    assert old in text
+    path = tmp_path / "overlap.toml"
+    path.write_text(text.replace(old, new, 1))
+    with pytest.raises(InputError) as e:
+        load_design(path)
+    assert fragment in str(e.value) and "\n" not in str(e.value)
