@@ -325,7 +325,10 @@ def _plan(phrase: Phrase, sensing, *, cores, outers, sample_rate: int, seed: int
     inst = phrase.instrument
     n_strings = len(sensing.coil_a)
     if inst.strings != n_strings:
-        raise InputError(f"{phrase.source}: the phrase's instrument has {inst.strings} strings, the design's [construction] {n_strings}; give the construction one string_core per string")
+        raise InputError(
+            f"{phrase.source}: the phrase's instrument has {inst.strings} strings, the design's [construction] {n_strings};"
+            f" play it a phrase for {n_strings} strings (--dry, with [instrument] tuning of {n_strings} pitches) or give the construction one string_core per string of the phrase"
+        )
     p = plucks(phrase, sample_rate=sample_rate, seed=seed, seconds=seconds)
     strings = tuple(j for j in range(n_strings) if any(note.string == n_strings - j for note, _ in p.notes))
     return _Plan(phrase, sensing, tuple(cores), tuple(outers), p, strings)
