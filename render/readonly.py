@@ -14,10 +14,21 @@ import dataclasses
 import numpy as np
 
 
+def _view(v: np.ndarray) -> np.ndarray:
+    w = v.view()
+    w.flags.writeable = False
+    return w
+
+
 def lock_arrays(obj: object) -> None:
-    """Make each numpy array among ``obj``'s dataclass fields (and the values of a dict field) read-only."""
+    """Hold each numpy array among ``obj``'s dataclass fields (and the values of a dict field) as a read-only view.
+
+    A view, not the array itself: the array a caller passed in (a frequency grid, a velocity) stays
+    writable for the caller, while the result's own handle on it cannot write.
+    """
     for f in dataclasses.fields(obj):  # type: ignore[arg-type]
         value = getattr(obj, f.name)
-        for v in value.values() if isinstance(value, dict) else (value,):
-            if isinstance(v, np.ndarray):
-                v.flags.writeable = False
+        if isinstance(value, np.ndarray):
+            object.__setattr__(obj, f.name, _view(value))
+        elif isinstance(value, dict):
+            object.__setattr__(obj, f.name, {k: _view(v) if isinstance(v, np.ndarray) else v for k, v in value.items()})

@@ -225,6 +225,11 @@ def _foreign_unit(text: str, kind: Kind) -> str | None:
     return None
 
 
+def metres_hint(value: float) -> str:
+    """The fix for a plain number of millimetres read as metres: ``plain numbers are in metres: for 3 mm write "3mm"``."""
+    return f'plain numbers are in metres: for {value:g} mm write "{value:g}mm"'
+
+
 def example(kind: Kind) -> str:
     """A short example string for error messages."""
     return {

@@ -111,7 +111,7 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field, table: str = "") -
         guess = likely_prefix(part[0], part[1], value) or f"{value:g}n"
         return f' (plain numbers are in SI units: {shorten(str(raw).strip())} means {value:g} {spec.kind.unit}; write e.g. "{guess}")'
     if bare and spec.kind is U.LENGTH and value > spec.hi and _in_range(value * 1e-3, spec):
-        return f' (plain numbers are in metres: {shorten(str(raw).strip())} means {value:g} m; write e.g. "{value:g}mm")'
+        return f" ({U.metres_hint(value)})"
     if isinstance(raw, str):
         t = raw.strip()
         if spec.kind is U.FLUX_DENSITY and t.endswith("G") and U._NUMBER_RE.match(t[:-1]) and _in_range(float(t[:-1]) * 1e-4, spec):

@@ -177,3 +177,18 @@ def test_result_arrays_are_read_only():
         assert not a.flags.writeable
     assert all(not a.flags.writeable for a in n.active.contributor_density.values())
     assert render.noise(d).active.total_v == n.active.total_v
+
+
+def test_the_arrays_a_caller_passes_in_stay_theirs():
+    # a result holds a read-only view: the caller's own grid and velocity stay writable
+    import numpy as np
+
+    d = render.load_design(REF)
+    f = np.array([1000.0, 2000.0])
+    r = render.response(d, f)
+    assert f.flags.writeable and not r.frequency_hz.flags.writeable
+    f[0] = 500.0  # the caller's array: allowed
+    v = np.zeros((2, 4800))
+    dry = render.Dry(velocity=v, sample_rate=48000)
+    v[0, 0] = 1.0
+    assert not dry.velocity.flags.writeable

@@ -115,22 +115,28 @@ def onset(design, *, frequency_hz: float = SINE_HZ) -> dict:
     }
 
 
+REST_TOLERANCE_V = 1e-9  # a bias this close to a limit counts as on it (rounding of battery·ratio)
+
+
 def resting_limit(design) -> str | None:
-    """Which limit the op-amp output rests on with no signal: "low" or "high" when the bias lies outside the
-    linear window [limit_low + knee, limit_high − knee] (a divider swept far off centre), else None."""
-    knee = design.supply.knee
-    if design.bias_v <= design.limit_low_v + knee:
+    """Which limit the op-amp output rests on with no signal: "low" or "high" when the bias lies at or past a
+    limit (``limit_low_v``, ``limit_high_v``: a divider swept far off centre), else None.
+
+    Inside the window's knees it does not rest there: the loop holds the output on its linear course to
+    within knee/(1 + loop gain) of a limit (:func:`render.chain.loop.static_transfer`), so a small signal
+    passes unchanged and the headroom to that limit is small, not gone.
+    """
+    if design.bias_v <= design.limit_low_v + REST_TOLERANCE_V:
         return "low"
-    if design.bias_v >= design.limit_high_v - knee:
+    if design.bias_v >= design.limit_high_v - REST_TOLERANCE_V:
         return "high"
     return None
 
 
 def rest_reason(design) -> str:
     """Why a setting with :func:`resting_limit` has no onset, headroom or recovery, in words."""
-    knee = design.supply.knee
     return (
-        f"the bias {design.bias_v:.3g} V lies outside the output's linear window {design.limit_low_v + knee:.3g}..{design.limit_high_v - knee:.3g} V:"
+        f"the bias {design.bias_v:.3g} V lies at or past the output's limits {design.limit_low_v:.3g}..{design.limit_high_v:.3g} V:"
         f" the op-amp rests on its {resting_limit(design)} limit with no signal"
     )
 

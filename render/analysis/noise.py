@@ -435,12 +435,11 @@ def noise(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_veloc
     -------
     NoiseReport
     """
+    from ..arguments import number
     from ..design import apply_rig
 
+    number("temperature_k", temperature_k, unit="K")  # a number at all first, then its range
     check_temperature(temperature_k, "temperature_k")
-    from ..arguments import number
-
-    number("temperature_k", temperature_k, unit="K")
     number("reference_velocity", reference_velocity, lo=0, lo_open=True, unit="m/s rms")
     (report,) = noise_reports([apply_rig(design, rig)], temperature=temperature_k, reference_velocity=reference_velocity)
     return report

@@ -576,7 +576,10 @@ class Renderer:
         self._n = -n
         self._lim_hist = self._hum_at(-n - p.path_mean.delay - self._history, self._history)
         self._to_drop += n
-        self._step(np.zeros(n), np.zeros(n) if self.explicit else None)
+        chunk = int(p.sample_rate)  # a second at a time: the memory of a block, not of the whole settling
+        for start in range(0, n, chunk):
+            k = min(chunk, n - start)
+            self._step(np.zeros(k), np.zeros(k) if self.explicit else None)
         assert self._n == 0 and self._to_drop == p.latency
         self._clipped = 0
         self._linear = [np.inf, -np.inf]

@@ -205,7 +205,7 @@ def write_bias_page(
         entries.append(
             PageClip(
                 key=Path(clip["file"]).stem,
-                name=f"{s.label}, {s.battery:g} V",
+                name=s.label,  # "ratio 0.30, 9 V": the battery is in it
                 volts=np.asarray(x, dtype=float),
                 sample_rate=sample_rate,
                 loudness_lufs_1v_full_scale=clip["loudness_lufs_1v_full_scale"],

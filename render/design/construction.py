@@ -58,7 +58,7 @@ def _length(raw: Any, loc: str, lo: float, hi: float) -> float:
         raise InputError(f"{loc}={U.shown(raw)}: {exc}") from None
     if not lo <= v <= hi:
         mm = isinstance(raw, (int, float)) and not isinstance(raw, bool) and lo <= v * 1e-3 <= hi
-        hint = f'; plain numbers are in metres: for {v:g} mm write "{v:g}mm"' if mm else ""
+        hint = f"; {U.metres_hint(v)}" if mm else ""
         raise InputError(f"{loc}={U.shown(raw)}: expected a length from {U.format_si(lo, 'm')} to {U.format_si(hi, 'm')}{hint}")
     return v
 

@@ -327,7 +327,7 @@ def _plan(phrase: Phrase, sensing, *, cores, outers, sample_rate: int, seed: int
     if inst.strings != n_strings:
         raise InputError(
             f"{phrase.source}: the phrase's instrument has {inst.strings} strings, the design's [construction] {n_strings};"
-            f" play it a phrase for {n_strings} strings (--dry, with [instrument] tuning of {n_strings} pitches) or give the construction one string_core per string of the phrase"
+            f" play it a phrase for {n_strings} strings (--dry, with [instrument] tuning of {n_strings} pitches) or give the construction's string_cores (and string_diameters and string_height, where they are lists) one entry per string of the phrase"
         )
     p = plucks(phrase, sample_rate=sample_rate, seed=seed, seconds=seconds)
     strings = tuple(j for j in range(n_strings) if any(note.string == n_strings - j for note, _ in p.notes))

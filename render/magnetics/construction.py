@@ -169,7 +169,8 @@ class Construction:
     def parts(self, centre_a, centre_b, geometry_a: CoilGeometry, geometry_b: CoilGeometry, *, refine: float = 1.0) -> tuple[Part, ...]:
         """The magnets and steel as blocks to solve, for coils centred at ``centre_a`` and ``centre_b`` (m).
 
-        refine : multiplies the number of cells along each side (convergence checks)
+        refine : multiplies the number of cells along each side (convergence checks; at most
+            :data:`render.magnetics.steel.MAX_CELLS` cells are solved)
         """
         xa, xb = float(centre_a[0]), float(centre_b[0])
         if abs(xb - xa) < (geometry_a.width + geometry_b.width) / 2 - 1e-9:

@@ -148,7 +148,8 @@ def solve_many(parts, excitations) -> list[Boxes]:
         raise InputError(
             f"[construction]: its magnets and steel need {n} cells to solve, more than {MAX_CELLS} (the solve's memory grows as their square:"
             f" about {MEMORY_BYTES_PER_CELL_SQUARED * n * n / 1e9:.0f} GB); the largest part is the {big.name},"
-            f" {' × '.join(f'{(h - lo) * 1e3:g}' for lo, h in zip(big.lo, big.hi))} mm: check its sizes (a height in cm where mm was meant?)"
+            f" {' × '.join(f'{(h - lo) * 1e3:g}' for lo, h in zip(big.lo, big.hi))} mm: check its sizes (a height in cm where mm was meant?),"
+            " or, for a convergence check, a smaller refine"
         )
     magpy, demag_tensor = _require()
     chi = np.concatenate([np.full(len(b.lo), p.susceptibility, float) for p, b in zip(parts, all_boxes)])

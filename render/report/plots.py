@@ -391,8 +391,9 @@ def transfer_plot(path, curves, *, title="", overwrite=False, reference_label="o
         # curves take turns: labels below right of the point, then above left, so neighbours' labels do not overlap
         below = i % 2 == 0
         for b, plabel in points:
-            ax.plot([b], [b], "o", color=col, ms=5)
-            ax.annotate(plabel, (b, b), textcoords="offset points", xytext=(7, -11) if below else (-7, 5), ha="left" if below else "right", fontsize=7, color=col)
+            at = float(np.interp(b, x, y))  # the output the bias gives: on the curve, a rail where the bias lies past it
+            ax.plot([b], [at], "o", color=col, ms=5)
+            ax.annotate(plabel, (b, at), textcoords="offset points", xytext=(7, -11) if below else (-7, 5), ha="left" if below else "right", fontsize=7, color=col)
     ax.plot([x[0], x[-1]], [x[0], x[-1]], color="#bbbbbb", lw=0.8, ls=":")
     ax.grid(True, color="#dddddd", linewidth=0.6)
     ax.set_xlabel("op-amp output, linear (V)")

@@ -77,7 +77,9 @@ def preview_dry(
             raise ArgumentError("out", f"{out}", f"folder {target.parent} does not exist; create it first")
     p = load_phrase(phrase_path)
     if not position < p.instrument.scale_length:
-        metres = f'; a plain number is in metres: for {position:g} mm write "{position:g}mm"' if position * 1e-3 < p.instrument.scale_length else ""
+        from ..units import metres_hint
+
+        metres = f"; {metres_hint(position)}" if position * 1e-3 < p.instrument.scale_length else ""
         raise ArgumentError("position", f"{position * 1e3:g}mm", f"must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm{metres}")
     if not aperture < p.instrument.scale_length / 2:
         raise ArgumentError("aperture", f"{aperture * 1e3:g}mm", f"a sensing window must be narrower than half the scale length ({p.instrument.scale_length / 2 * 1e3:g} mm); 0 is a point")

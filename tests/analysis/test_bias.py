@@ -197,14 +197,17 @@ def test_h2_at_the_centred_divider_falls_with_the_open_loop_gain():
 
 
 def test_a_divider_that_puts_the_bias_outside_the_window_is_said_in_words(tmp_path):
-    # ratio 0.05 of 9 V: V_bias = 9 · 0.05 = 0.45 V (divider formula), below the linear window
-    # [margin_low + knee, 9 − margin_high − knee] = [1.5, 7.5] V (the schema's defaults 1 V and 0.5 V):
-    # the op-amp output rests on its low limit, so the setting has no onset, headroom or recovery to give
+    # ratio 0.05 of 9 V: V_bias = 9 · 0.05 = 0.45 V (divider formula), below the output's limits
+    # [margin_low, 9 − margin_high] = [1, 8] V (the schema's defaults): the op-amp output rests on its low
+    # limit, so the setting has no onset, headroom or recovery to give. Ratio 0.15 (1.35 V) lies inside the
+    # knee [1, 1.5] V: the loop still holds it there (static_transfer), so it does not rest
     from render.analysis.bias import resting_limit
 
     d = load_design(REF)
     t, b = divider(d, 0.05)
     assert resting_limit(with_divider(d, t, b)) == "low" and resting_limit(d) is None
+    t, b = divider(d, 0.15)
+    assert resting_limit(with_divider(d, t, b)) is None
     t, b = divider(d, 0.97)
     assert resting_limit(with_divider(d, t, b)) == "high"
     js = tmp_path / "b.json"
@@ -212,7 +215,7 @@ def test_a_divider_that_puts_the_bias_outside_the_window_is_said_in_words(tmp_pa
     assert res.exit_code == 0, res.output
     low, own = json.loads(js.read_text())["settings"]
     assert low["bias_v"] == pytest.approx(0.45) and low["rests_on_limit"] == "low" and own["rests_on_limit"] is None
-    why = "the bias 0.45 V lies outside the output's linear window 1.5..7.5 V: the op-amp rests on its low limit with no signal"
+    why = "the bias 0.45 V lies at or past the output's limits 1..8 V: the op-amp rests on its low limit with no signal"
     for key in ("velocity_up_m_per_s", "velocity_down_m_per_s"):
         assert low["onset"][key] is None and low["onset"][f"{key}_reason"] == why
     assert low["recovery_offset_v"] is None and low["recovery_offset_v_reason"] == why

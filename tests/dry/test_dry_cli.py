@@ -141,7 +141,7 @@ def test_a_note_that_ends_before_the_sensing_point_is_named(tmp_path):
 
 def test_phrase_lengths_get_the_design_files_slip_hints(tmp_path):
     # a plain number is in metres (SI): 648 is 648 m, "648m" 648 metres; both are refused with the likely fix
-    for value, fix in (("648", 'write e.g. "648mm"'), ('"648m"', 'did you mean "648mm"?')):
+    for value, fix in (("648", 'plain numbers are in metres: for 648 mm write "648mm"'), ('"648m"', 'did you mean "648mm"?')):
         path = tmp_path / "long.toml"
         path.write_text(f"seconds = 1.0\n[instrument]\nscale_length = {value}\n[[note]]\ntime = 0\nstring = 1\nfret = 0\n")
         result = run(path, "--out", tmp_path / "long.wav", "--overwrite")

@@ -140,7 +140,9 @@ def test_a_cached_solve_loads_without_importing_the_solver(tmp_path):
 
 
 def test_a_construction_too_large_to_solve_is_refused_before_the_solve(tmp_path):
-    # a bar magnet of 10 × 10 × 3 cm (centimetres where millimetres were meant) needs 12 560 cells: the dense
+    # a bar magnet of 10 × 10 × 3 cm (centimetres where millimetres were meant) needs 12 560 cells (the magnet
+    # cut in 2.5 × 4 × 2.5 mm cells, render.magnetics.construction.CELL_BODY: 40 × 25 × 12 = 12 000, and the
+    # demo's two blades 560, as the solver counts them): the dense
     # interaction matrix (3n)² of float64 alone is 11 GB, so it is refused in one line before anything is built
     require_material_response()
     root = Path(__file__).resolve().parents[2]
