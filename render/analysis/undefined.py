@@ -43,6 +43,7 @@ SILENT = "silent, or shorter than one 400 ms block of ITU-R BS.1770-4"
 NOMINAL_CANCELS = "the design itself cancels its hum exactly, so a change has no finite size"
 PART_CANCELS = "with +1 % on this part the hum cancels exactly"
 ALL_CANCEL = "every trial cancels the hum exactly"
+NO_OUTPUT = "no output: the test sine does not move the op-amp's output off its limit"
 
 # what a table cell shows instead of the number
 SHORT = {
@@ -61,6 +62,7 @@ SHORT = {
     NO_TREBLE_CORNER: "beyond 20 kHz",
     SILENT: "silent",
     ALL_CANCEL: "exact",
+    NO_OUTPUT: "no output",
 }
 
 

@@ -30,6 +30,7 @@ def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
 def print_sweep(sw) -> None:
     from ..analysis.bias import headroom_cell, onset_cell
     from ..analysis.recovery import recovery_cell
+    from ..analysis.undefined import cell
 
     d = sw.design
     click.echo(f"{d.name}  ({d.source}); divider {'parallel resistance kept' if sw.keep_load else 'total resistance kept'}; test sine 1 kHz, {sw.sine_velocity_m_per_s:.3g} m/s peak")
@@ -38,7 +39,7 @@ def print_sweep(sw) -> None:
         q = r["sine"]
         click.echo(
             f"  {r['setting']:26s} {r['bias_v']:6.2f}V {headroom_cell(r, width=(7, 5)):>17s} {onset_cell(r, width=(13, 7)):>23s}"
-            f"      {q['thd_percent']:6.2f} % {q['h2_db']:6.1f}dB {q['h3_db']:6.1f}dB {recovery_cell(r):>22s}"
+            f"      {cell(q, 'thd_percent', '6.2f', ' %'):>8s} {cell(q, 'h2_db', '6.1f', 'dB'):>8s} {cell(q, 'h3_db', '6.1f', 'dB'):>8s} {recovery_cell(r):>22s}"
         )
 
 

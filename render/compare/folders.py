@@ -175,6 +175,7 @@ def played_cells(headroom: dict) -> tuple[str, str, str]:
 
 def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
     """A bias setting's row and clip as the summary table's cells (:data:`BIAS_COLUMNS`)."""
+    from ..analysis import undefined as U
     from ..analysis.bias import RESTS_PLAYED, headroom_cell, onset_cell
 
     q = row["sine"]
@@ -186,9 +187,9 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
         headroom_cell(row),
         onset_cell(row, unit=" m/s"),
         *played,
-        f"{q['thd_percent']:.2f} %",
-        f"{q['h2_db']:.1f} dB",
-        f"{q['h3_db']:.1f} dB",
+        U.cell(q, "thd_percent", ".2f", " %"),
+        U.cell(q, "h2_db", ".1f", " dB"),
+        U.cell(q, "h3_db", ".1f", " dB"),
         f"{clip['peak_v']:.3f} V",
         "silent" if clip["loudness_lufs_1v_full_scale"] is None else f"{clip['loudness_lufs_1v_full_scale']:.1f} LUFS",
     )

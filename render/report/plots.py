@@ -457,7 +457,11 @@ def bias_plots(out, design, settings_list, rows) -> None:
         sel = [r for r in rows if r["battery_v"] == v]
         xs = [r["ratio"] for r in sel]
         series_h += [(f"up, {v:g} V", [r["headroom_up_v"] for r in sel], False), (f"down, {v:g} V", [r["headroom_down_v"] for r in sel], True)]
-        series_d += [(f"H2, {v:g} V", [r["sine"]["h2_db"] for r in sel], False), (f"H3, {v:g} V", [r["sine"]["h3_db"] for r in sel], True)]
+        nan = float("nan")  # no output there: a gap in the line
+        series_d += [
+            (f"H2, {v:g} V", [nan if r["sine"]["h2_db"] is None else r["sine"]["h2_db"] for r in sel], False),
+            (f"H3, {v:g} V", [nan if r["sine"]["h3_db"] is None else r["sine"]["h3_db"] for r in sel], True),
+        ]
     from ..analysis.bias_labels import own_ratio
 
     own = own_ratio(design)

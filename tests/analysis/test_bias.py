@@ -223,3 +223,18 @@ def test_a_divider_that_puts_the_bias_outside_the_window_is_said_in_words(tmp_pa
     row = next(line for line in res.output.splitlines() if line.strip().startswith("ratio 0.05"))
     assert "on low limit" in row and row.count("none: rests on limit") == 2 and "-0.55" not in row
     assert f"warning: ratio 0.05, 9 V: {why}" in res.output
+
+
+def test_a_sine_that_never_leaves_the_limit_has_no_distortion_figures(tmp_path):
+    # at 5 V and ratio 0.05 the bias (0.25 V) lies below the 1 V limit: the test sine leaves the output on it,
+    # so its fundamental is rounding (about 1e-11 V) and THD, H2, H3 are words, not ratios of rounding
+    from render.analysis.undefined import NO_OUTPUT
+
+    js = tmp_path / "b.json"
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.05", "--battery", "5", "--no-clips", "--json", str(js)])
+    assert res.exit_code == 0, res.output
+    row = next(r for r in json.loads(js.read_text())["settings"] if r["ratio"] == 0.05)
+    sine = row["sine"]
+    assert sine["h1_v"] < 1e-6 and sine["thd_percent"] is None and sine["thd_percent_reason"] == NO_OUTPUT and sine["h2_db"] is None
+    line = next(x for x in res.output.splitlines() if x.strip().startswith("ratio 0.05"))
+    assert line.count("no output") == 3 and "nan" not in line
