@@ -48,9 +48,11 @@ def recovery_cell(row: dict) -> str:
         return "none: rests on limit"
     if a is None:
         return SHORT.get(U.reason(row, "recovery_offset_v"), "undefined")
+    held = row.get("recovery_held_s") or 0.0
+    lead = f"on limit {held * 1e3:.0f} ms, then " if held >= 1e-3 else ""
     if tau is None:
-        return f"{a:+7.3f} V" if a else SHORT[NO_OFFSET]
-    return f"{a:+7.3f} V, τ {tau * 1e3:5.1f} ms"
+        return lead + (f"{a:+7.3f} V" if a else SHORT[NO_OFFSET])
+    return f"{lead}{a:+7.3f} V, τ {tau * 1e3:5.1f} ms"
 
 
 FIT_FROM, FIT_TO = 0.9, 0.1  # the fitted part of the decay, as fractions of the deviation after SKIP_S
@@ -67,33 +69,60 @@ class Recovery:
     tau_s : s, the fitted time constant (None, with ``reason``, where there is none)
     points : int, samples used in the fit
     reason : str, why a figure is None ("" when both are numbers)
+    held_s : s the output stayed on a limit after the burst before its free decay began (0 when it did
+        not reach one); the offset is then extrapolated to the end of that hold, not to the burst's end
     """
 
     offset_v: float | None
     tau_s: float | None
     points: int
     reason: str = ""
+    held_s: float = 0.0
 
 
-def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6) -> Recovery:
+HOLD_TOL_V = 1e-3  # V: the output within this of a limit is held on it
+
+
+def held_on_limit(v, *, sample_rate: float, end_s: float, limits: tuple[float, float], within_s: float = SKIP_S) -> float:
+    """How long (s) the op-amp output ``v`` stays on a limit after ``end_s``: 0 unless it is on one (within
+    :data:`HOLD_TOL_V`) within ``within_s`` of the end; then until its last sample there (the free decay
+    leaves the limit for good; the samples' ripple as the output settles onto it is not a leaving)."""
+    v = np.asarray(v, dtype=float)
+    i_end = int(round(end_s * sample_rate))
+    tail = v[i_end:]
+    for rail in limits:
+        on = np.flatnonzero(np.abs(tail - rail) <= HOLD_TOL_V)
+        if on.size and on[0] <= within_s * sample_rate:
+            return float((on[-1] + 1) / sample_rate)
+    return 0.0
+
+
+def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6, limits: tuple[float, float] | None = None) -> Recovery:
     """Fit the decay of ``v`` − ``dc_v`` after ``end_s`` (module text).
 
     v : array_like, V, shape (n,): the op-amp output, starting at t = 0
     sample_rate : Hz
     end_s : s, when the burst ended
     dc_v : V, the op-amp output's DC operating point
-    skip_s : s left out after the end
+    skip_s : s left out after the end (of the hold, where there is one)
     floor_v : V: a deviation below this after ``skip_s`` counts as no offset
+    limits : (low, high), V, the output's limits, or None: where the output is held on one after the
+        burst (:func:`held_on_limit`), the free decay starts when it leaves it, and the offset is
+        extrapolated to then (it cannot exceed the headroom on that side)
     returns : :class:`Recovery`
     """
     v = np.asarray(v, dtype=float)
+    held = held_on_limit(v, sample_rate=sample_rate, end_s=end_s, limits=limits) if limits is not None else 0.0
+    end_s = end_s + held  # the free decay's own start
     start = int(round((end_s + skip_s) * sample_rate))
+    if start >= v.size - 2 and held:
+        return Recovery(None, None, 0, NO_RETURN, held)
     if start >= v.size - 2:
         raise ValueError(f"recovery: the signal ends {v.size / sample_rate:.3g} s, before {end_s + skip_s:.3g} s; render longer after the burst")
     dev = v[start:] - dc_v
     d0 = dev[0]
     if abs(d0) < floor_v:
-        return Recovery(0.0, None, 0, NO_OFFSET)
+        return Recovery(0.0, None, 0, NO_OFFSET, held)
     mag = np.abs(dev)
     same = np.sign(dev) == np.sign(d0)
     # from the first sample at or below 90 % to the first below 10 % of the starting deviation, of one sign
@@ -102,17 +131,17 @@ def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float 
     i0 = int(below_hi[0]) if below_hi.size else 0
     i1 = int(below_lo[0]) if below_lo.size else dev.size
     if not below_hi.size and not below_lo.size:
-        return Recovery(None, None, 0, NO_RETURN)
+        return Recovery(None, None, 0, NO_RETURN, held)
     if i1 - i0 < max(3, MIN_FIT_S * sample_rate):
-        return Recovery(None, None, max(0, i1 - i0), NO_DECAY)
+        return Recovery(None, None, max(0, i1 - i0), NO_DECAY, held)
     t = (np.arange(i0, i1) + start) / sample_rate - end_s
     slope, icept = np.polyfit(t, np.log(mag[i0:i1]), 1)
     if slope >= 0:
-        return Recovery(None, None, i1 - i0, NO_RETURN)
+        return Recovery(None, None, i1 - i0, NO_RETURN, held)
     tau = float(-1.0 / slope)
     if tau < skip_s / 4:
-        return Recovery(None, None, i1 - i0, NO_DECAY)
-    return Recovery(float(np.sign(d0) * np.exp(icept)), tau, i1 - i0)
+        return Recovery(None, None, i1 - i0, NO_DECAY, held)
+    return Recovery(float(np.sign(d0) * np.exp(icept)), tau, i1 - i0, "", held)
 
 
 def burst_velocity(velocity_peak: float, *, frequency_hz: float, sample_rate: float, burst_s: float = BURST_S, after_s: float = AFTER_S) -> np.ndarray:
@@ -149,8 +178,8 @@ def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0,
     a = int(round(skip * sample_rate / frequency_hz))
     b = int(round(periods * sample_rate / frequency_hz))
     figs = distortion_figures(r["out"][a:b], sample_rate=sample_rate, frequency_hz=frequency_hz)
-    rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=plan.bias_v)
-    out = {**figs, "frequency_hz": frequency_hz, "velocity_peak_m_per_s": velocity_peak, "burst_s": end_s, "dc_v": plan.bias_v}
+    rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=plan.bias_v, limits=(plan.window.low, plan.window.high))
+    out = {**figs, "frequency_hz": frequency_hz, "velocity_peak_m_per_s": velocity_peak, "burst_s": end_s, "dc_v": plan.bias_v, "recovery_held_s": rec.held_s}
     U.put(out, "recovery_offset_v", rec.offset_v, rec.reason)
     U.put(out, "recovery_tau_s", rec.tau_s, rec.reason)
     return out
