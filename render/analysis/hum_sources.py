@@ -30,10 +30,10 @@ import numpy as np
 
 from ..magnetics.pickup import design_emf, hum_polarities, placed_coils, point_coil_warnings, room_sources, through
 from .figures import rejection_db
-from .undefined import REJECTION_CAP_DB, net_hum
+from .undefined import REJECTION_CAP_DB, SOURCE_EXACT, SOURCE_NO_HUM, net_hum
 
-NO_HUM = "no hum at this harmonic: no source has it, or no coil links it"
-EXACT = f"the two coils' hum cancels exactly (at the {REJECTION_CAP_DB:g} dB cap)"
+NO_HUM = SOURCE_NO_HUM
+EXACT = SOURCE_EXACT
 
 
 def rejection_words(value: float) -> tuple[float | None, str | None]:

@@ -44,6 +44,8 @@ NOMINAL_CANCELS = "the design itself cancels its hum exactly, so a change has no
 PART_CANCELS = "with +1 % on this part the hum cancels exactly"
 ALL_CANCEL = "every trial cancels the hum exactly"
 NO_OUTPUT = "no output: the test sine does not move the op-amp's output off its limit"
+SOURCE_NO_HUM = "no hum at this harmonic: no source has it, or no coil links it"  # one source's share (render.analysis.hum_sources)
+SOURCE_EXACT = f"the two coils' hum cancels exactly (at the {REJECTION_CAP_DB:g} dB cap)"
 
 # what a table cell shows instead of the number
 SHORT = {
@@ -63,6 +65,8 @@ SHORT = {
     SILENT: "silent",
     ALL_CANCEL: "exact",
     NO_OUTPUT: "no output",
+    SOURCE_NO_HUM: "no hum",
+    SOURCE_EXACT: "exact",
 }
 
 

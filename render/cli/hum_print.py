@@ -104,7 +104,7 @@ def print_positions(rec: dict) -> None:
 
 def print_map(m) -> None:
     where = "the x–y plane (top faces; 0° neck side, 90° treble side)" if m.plane == "xy" else "the x–z plane (along the strings; 0° neck side, 90° straight above, -90° below)"
-    click.echo(f"  rejection at {m.frequency_hz[0]:g} Hz of a dipole (axis z) in {where}:")
+    click.echo(f"  rejection (dB) at {m.frequency_hz[0]:g} Hz of a dipole (axis z) in {where}:")
     digits = next((k for k in range(4) if len({round(b, k) for b in m.bearing_deg}) == len(m.bearing_deg)), 3)  # enough to tell bearings apart
     click.echo("    distance" + "".join(f"{b:>6.{digits}f}°" for b in m.bearing_deg))
     js = m.to_dict()  # a rejection that does not exist is its reason's short word (render.analysis.undefined)

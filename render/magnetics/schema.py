@@ -84,12 +84,12 @@ def check_source_places(sources, *, coil_a, coil_b, source: str) -> None:
         for name, c in zip(("coil_a", "coil_b"), placed):
             if c.inside(at):
                 raise InputError(f"{loc}: lies within {name}'s winding; a dipole source must sit outside the pickup, {NEAR_DIPOLE_M * 100:g} cm or more from each coil")
-            r = float(np.linalg.norm(at - np.asarray(c.centre)))
-            if r < NEAR_DIPOLE_M:
-                raise InputError(
-                    f"{loc}: {r * 100:.3g} cm from {name}'s centre, closer than {NEAR_DIPOLE_M * 100:g} cm: a point dipole there stands for no real source"
-                    f" (the pickup's own field region); move it {NEAR_DIPOLE_M * 100:g} cm or more from both coils"
-                )
+        r, name = min((float(np.linalg.norm(at - np.asarray(c.centre))), name) for name, c in zip(("coil_a", "coil_b"), placed))  # the nearer coil
+        if r < NEAR_DIPOLE_M:
+            raise InputError(
+                f"{loc}: {r * 100:.3g} cm from {name}'s centre, closer than {NEAR_DIPOLE_M * 100:g} cm: a point dipole there stands for no real source"
+                f" (the pickup's own field region); move it {NEAR_DIPOLE_M * 100:g} cm or more from both coils"
+            )
 
 
 def _loc(source: str, table: str, key: str | None = None) -> str:

@@ -525,7 +525,7 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
         for j in range(nx):
             if np.isfinite(r[i, j]):
                 dark = (r[i, j] - lo) / max(hi - lo, 1e-9)
-                ax.text(j, i, f"{r[i, j]:.0f}", ha="center", va="center", fontsize=7, color="white" if dark < 0.2 or dark > 0.8 else "#222222")
+                ax.text(j, i, f"{round(float(r[i, j]))}", ha="center", va="center", fontsize=7, color="white" if dark < 0.2 or dark > 0.8 else "#222222")  # an int: never "-0"
             elif exact[i, j]:
                 ax.text(j, i, "exact", ha="center", va="center", fontsize=6, color="#222222")
     ax.set_xticks(range(nx), [f"{b:g}°" for b in m.bearing_deg], fontsize=8)

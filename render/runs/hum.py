@@ -32,13 +32,19 @@ class HumAudio:
         return {"seconds": self.seconds, "volts_full_scale": self.volts_full_scale, "files": dict(self.files), "harmonics": list(self.harmonics)}
 
 
-def _measured_row(frequency_hz, rejection_db, output_v) -> dict:
-    """One measured harmonic; an infinite or undefined rejection is None with its reason."""
+def _measured_row(frequency_hz, rejection_db, output_v, absent: str | None = None) -> dict:
+    """One measured harmonic; an infinite or undefined rejection is None with its reason.
+
+    absent : why the room has no hum at this harmonic (:func:`render.analysis.hum.absent_harmonics`):
+        then what the WAV holds there is rounding, and its ratio no figure.
+    """
     from ..analysis import undefined as U
     from ..analysis.undefined import REJECTION_CAP_DB
 
     row = {"frequency_hz": float(frequency_hz)}
-    if np.isnan(rejection_db):  # 0/0: neither coil hums at this harmonic
+    if absent is not None:
+        U.mark(row, "rejection_db", absent)
+    elif np.isnan(rejection_db):  # 0/0: neither coil hums at this harmonic
         U.mark(row, "rejection_db", U.NO_FIELD)
     elif rejection_db >= REJECTION_CAP_DB:  # the pair's sum is rounding noise
         U.mark(row, "rejection_db", U.HUM_CANCELS)
@@ -62,7 +68,9 @@ def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 480
         path = Path(out) / f"{stem}-{suffix}.wav"
         write_float_wav(path, m[k] / vfs, sample_rate, overwrite=True)
         files[k] = str(path)
-    rows = tuple(_measured_row(f, r, v) for f, r, v in zip(m["frequency_hz"], m["rejection_db"], m["output_v"]))
+    from ..analysis.hum import absent_harmonics
+
+    rows = tuple(_measured_row(f, r, v, a) for f, r, v, a in zip(m["frequency_hz"], m["rejection_db"], m["output_v"], absent_harmonics(design)))
     return HumAudio(seconds=seconds, volts_full_scale=vfs, files=files, harmonics=rows)
 
 

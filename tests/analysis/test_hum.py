@@ -175,3 +175,28 @@ def test_a_source_without_a_fundamental_prints_words_not_nan(tmp_path):
     mc = json.loads(out.read_text())["monte_carlo"]
     assert mc["harmonics"][0]["median_db"] is None and "no source links either coil" in mc["harmonics"][0]["median_db_reason"]
     assert all(isinstance(s["db"], float) for s in mc["sensitivity_db_per_percent"])
+
+
+def test_the_wav_check_names_a_harmonic_the_room_lacks(tmp_path):
+    # a field with no 2nd harmonic: the hum-only WAV holds only rounding there, so its measured rejection is the
+    # room's reason in words, not a ratio of rounding (the exact table says the same)
+    from render.analysis import undefined as U
+    from render.runs.hum import write_hum_audio
+
+    d = load_design(ROOT / "models" / "odd-pair.toml")
+    d = replace(d, hum=replace(d.hum, harmonics=(1.0, 0.0, 0.3)))
+    audio = write_hum_audio(tmp_path, d, seconds=2.0)
+    second = audio.harmonics[1]
+    assert second["rejection_db"] is None and second["rejection_db_reason"] == U.NO_FIELD
+    assert audio.harmonics[0]["rejection_db"] is not None
+
+
+def test_each_sources_share_says_no_hum_in_words(tmp_path):
+    # a uniform source along x links neither coil (their axes are along z): its own rows read "no hum", not a dash
+    rig = tmp_path / "rig.toml"
+    rig.write_text(
+        '[hum]\nmains = "50Hz"\n\n[[hum.source]]\nkind = "dipole"\nmoment = 0.05\nat = ["0.5m", "0m", "0m"]\naxis = [0, 0, 1]\n\n[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n'
+    )
+    res = CliRunner().invoke(main, ["hum", str(ROOT / "models" / "bobbins" / "studio-bobbin.toml"), "--rig", str(rig)])
+    assert res.exit_code == 0, res.output
+    assert "—" not in res.output and "no hum" in res.output

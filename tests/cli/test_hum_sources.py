@@ -209,7 +209,7 @@ def test_map_table_json_and_plot(tmp_path):
     np.testing.assert_allclose(lib.rejection_db, rej, rtol=1e-12)
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     printed = run("hum", BOBBIN, "--map").output
-    assert "0.50 m   19.8" in printed and "rejection at 50 Hz of a dipole (axis z) in the x–y plane" in printed
+    assert "0.50 m   19.8" in printed and "rejection (dB) at 50 Hz of a dipole (axis z) in the x–y plane" in printed
 
 
 def test_map_of_a_matched_pair_has_words_where_it_cancels_exactly():

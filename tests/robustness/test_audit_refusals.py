@@ -164,3 +164,10 @@ def test_overwrite_leaves_only_this_runs_files(tmp_path):
     assert (out / "studio-reference-response.png").exists()
     assert run("clips", REF, "--seconds", 0.5, "--out", out, "--no-plots", "--overwrite").exit_code == 0
     assert not list(out.glob("*.png")) and (out / "notes.txt").exists()
+
+
+def test_a_near_dipole_names_the_nearer_coil(tmp_path):
+    # coil_b's centre sits at x = +9 mm (positions 38 and 56 mm, the origin midway): a dipole 3 cm beyond it is
+    # 3 cm from coil_b and 4.8 cm from coil_a (arithmetic): the refusal names coil_b
+    msg = assert_refused(run("check", design_with(tmp_path, dipole('["0.039m", "0m", "0m"]'))), "closer than 10 cm")
+    assert "3 cm from coil_b's centre" in msg
