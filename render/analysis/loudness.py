@@ -175,3 +175,21 @@ def true_peak_dbtp(x: np.ndarray) -> float:
     up = resample_poly(x, TRUE_PEAK_OVERSAMPLE, 1)
     peak = max(float(np.max(np.abs(up))), float(np.max(np.abs(x))))
     return 20.0 * math.log10(peak) if peak > 0 else -math.inf
+
+
+TRUE_PEAK_CEILING_DBTP = -1.0  # the ceiling a loudness-matched copy keeps its true peak under (EBU R 128's maximum true peak)
+
+
+def ceiling_gains(loudness, peaks, *, target_lufs: float, ceiling_dbtp: float = TRUE_PEAK_CEILING_DBTP) -> tuple[list, float]:
+    """Gains (dB) bringing each signal to ``target_lufs``, all lowered together so that none's true peak passes ``ceiling_dbtp``.
+
+    loudness : LUFS per signal, or None for one with no loudness (its gain is then None and it sets no limit)
+    peaks : dBTP per signal (:func:`true_peak_dbtp`)
+    returns : (gains, the common lowering in dB, ≥ 0)
+
+    A gain of g dB moves both the integrated loudness and the true peak by g (BS.1770-4 is a mean square,
+    the true peak a maximum).
+    """
+    gains = [None if lufs is None else target_lufs - lufs for lufs in loudness]
+    lowered = max([0.0, *(p + g - ceiling_dbtp for p, g in zip(peaks, gains) if g is not None)])
+    return [None if g is None else g - lowered for g in gains], float(lowered)

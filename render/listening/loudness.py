@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis.loudness import integrated_loudness, true_peak_dbtp
+from ..analysis.loudness import TRUE_PEAK_CEILING_DBTP, ceiling_gains, integrated_loudness, true_peak_dbtp
 from ..errors import InputError
 
 
@@ -46,7 +46,7 @@ class LoudnessMatch:
         }
 
 
-def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, ceiling_dbtp: float = -1.0, names=None):
+def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, ceiling_dbtp: float = TRUE_PEAK_CEILING_DBTP, names=None):
     """Scale each signal to ``target_lufs``, all lowered together below ``ceiling_dbtp`` if needed.
 
     Parameters
@@ -74,10 +74,8 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
             raise InputError(f"{name}: no loudness: the render is silent or shorter than one 400 ms block; use a longer --seconds or a dry signal that plays in that span")
         measured.append(lufs)
         peaks.append(true_peak_dbtp(x))
-    gains = [target_lufs - m for m in measured]
-    over = max(p + g for p, g in zip(peaks, gains)) - ceiling_dbtp
-    lowered = max(0.0, over)
-    gains = [g - lowered for g in gains]
+    some, lowered = ceiling_gains(measured, peaks, target_lufs=target_lufs, ceiling_dbtp=ceiling_dbtp)
+    gains = [float(g) for g in some]  # every signal here has a loudness
     out = [x * 10.0 ** (g / 20.0) for x, g in zip(xs, gains)]
     final = [integrated_loudness(y, sample_rate=sample_rate) for y in out]
     match = LoudnessMatch(

@@ -101,7 +101,7 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
     Writes ``S-r<ratio>-<battery>V.wav`` and ``…-matched.wav`` at one full scale,
     ``S-headroom.png``, ``S-harmonics.png`` and ``S-transfer.png``, and the comparison page (``index.html``).
     """
-    from ..analysis.loudness import integrated_loudness
+    from ..analysis.loudness import TRUE_PEAK_CEILING_DBTP, ceiling_gains, integrated_loudness, true_peak_dbtp
     from ..clip import RenderSettings
     from ..io.folders import run_folder
     from ..io.wav import write_float_wav
@@ -116,7 +116,8 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
         stem = Path(design.source).stem
         loud = [integrated_loudness(x, sample_rate=st.sample_rate) for x in renders]
-        gains, lowered = matched_gains(renders, loud, sample_rate=st.sample_rate, target_lufs=target_lufs, ceiling_dbtp=MATCHED_CEILING_DBTP)
+        peaks = [true_peak_dbtp(x) if lufs is not None else None for x, lufs in zip(renders, loud)]  # a silent clip has no matched copy
+        gains, lowered = ceiling_gains(loud, peaks, target_lufs=target_lufs)
         clips = []
         for s, x, lufs, gain_db in zip(sweep.settings, renders, loud, gains):
             tag = f"r{s.ratio:.3f}-{s.battery:g}V".replace(".", "p")
@@ -137,24 +138,8 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
             "strength_m": strength_m,
             "seed": seed,
             "target_lufs": target_lufs,
-            "matched_ceiling_dbtp": MATCHED_CEILING_DBTP,
+            "matched_ceiling_dbtp": TRUE_PEAK_CEILING_DBTP,
             "matched_lowered_db": lowered,
             "volts_full_scale": vfs,
         }
         return BiasClips(folder=out, clips=tuple(clips), record=record)
-
-
-MATCHED_CEILING_DBTP = -1.0  # the matched copies' true-peak ceiling, as the blind session's (render.listening.loudness)
-
-
-def matched_gains(renders, loudness, *, sample_rate: int, target_lufs: float, ceiling_dbtp: float) -> tuple[list, float]:
-    """Each render's gain (dB) to ``target_lufs`` (None where it has no loudness), all lowered together so that no matched copy's true peak passes ``ceiling_dbtp``; and that lowering (dB, ≥ 0).
-
-    True peak by 4× oversampling (ITU-R BS.1770-4 annex 2, :func:`render.analysis.loudness.true_peak_dbtp`).
-    """
-    from ..analysis.loudness import true_peak_dbtp
-
-    gains = [None if lufs is None else target_lufs - lufs for lufs in loudness]
-    over = [true_peak_dbtp(x) + g - ceiling_dbtp for x, g in zip(renders, gains) if g is not None]
-    lowered = max([0.0, *over])
-    return [None if g is None else g - lowered for g in gains], float(lowered)
