@@ -100,13 +100,13 @@ def hum_table(design, resp=None) -> dict:
     rej = rejection_db(va, vb)
     exact = cancels(va, vb)  # the sum is rounding noise: the coils' hum cancels exactly
     total = net_hum(va, vb)
+    absent = absent_harmonics(design)
     rows = []
     for i in range(len(h)):
         row: dict = {"harmonic": int(h[i]), "frequency_hz": float(f[i])}
-        if sv is None and dbdt[i] == 0:
-            U.mark(row, "rejection_db", U.NO_FIELD)
-        elif sv is not None and va[i] == 0 and vb[i] == 0:
-            U.mark(row, "rejection_db", U.NO_LINKAGE)
+        why = absent[i]
+        if why is not None:
+            U.mark(row, "rejection_db", why)
         elif exact[i]:
             U.mark(row, "rejection_db", U.HUM_CANCELS)
         else:
