@@ -17,12 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import ArgumentError
-from .units import shorten
-
-
-def shown(value: object) -> str:
-    """A refused value as a message shows it: a short repr."""
-    return shorten(repr(value))
+from .units import shown  # a refused value as a message shows it: a short repr
 
 
 def path(name: str, value: object, *, what: str = "a file's path") -> Path:
