@@ -54,6 +54,21 @@ class RenderSettings:
     noise: bool = False
     strength: float | None = None  # m: the phrase's strongest pluck, every pluck scaled alike (None: as written)
 
+    def __post_init__(self) -> None:
+        """Refuse a setting no render can use, naming the field, before any work."""
+        from . import arguments as A
+        from .validate import sample_rate
+
+        sample_rate(self.sample_rate)
+        if self.seconds is not None:
+            A.number("seconds", self.seconds, lo=0.0, lo_open=True, unit="s", hint="; None plays the dry signal's own length")
+        A.whole("seed", self.seed, lo=0)
+        A.number("velocity_scale", self.velocity_scale, lo=0.0, lo_open=True, hi=1e3, unit="m/s", hint=" (the string velocity at a recording's full scale)")
+        for flag in ("hum", "passive", "noise"):
+            A.instance(flag, getattr(self, flag), bool, "True or False")
+        if self.strength is not None:
+            A.number("strength", self.strength, lo=0.0, lo_open=True, hi=0.05, unit="m", hint=" (the strongest pluck's displacement; 0.002 is 2 mm)")
+
     def record(self) -> dict:
         return {
             "sample_rate": self.sample_rate,

@@ -139,6 +139,36 @@ def test_python_errors_name_python_arguments(tmp_path):
     assert taken.read_bytes() == b"an earlier velocity" and sorted(p.name for p in tmp_path.iterdir()) == ["v.wav"]
 
 
+@pytest.mark.parametrize(
+    "field, value",
+    [
+        ("sample_rate", 7),
+        ("seconds", -1.0),
+        ("seed", -3),
+        ("velocity_scale", 0.0),
+        ("hum", "yes"),
+        ("strength", 1.0),  # 1 m: metres given where the command line's millimetres were meant
+    ],
+)
+def test_render_settings_refuse_what_no_render_can_use(field, value):
+    _python_words(lambda: render.RenderSettings(**{field: value}), field)
+
+
+def test_settings_that_do_not_fit_the_dry_file_are_refused_before_any_file(tmp_path):
+    import numpy as np
+    import soundfile as sf
+
+    recording = tmp_path / "take.wav"
+    sf.write(recording, np.zeros(4800), 48000, subtype="FLOAT")
+    out = tmp_path / "run"
+    e = _python_words(lambda: render.render_clips([REF], recording, render.RenderSettings(strength=0.002), out), "strength")
+    assert "scale a recording with RenderSettings.velocity_scale" in str(e)
+    e = _python_words(lambda: render.render_clips([REF], PHRASE, render.RenderSettings(velocity_scale=2.0), out), "velocity_scale")
+    assert "RenderSettings.strength" in str(e) and "--strength" in e.for_option()
+    _python_words(lambda: render.render_clips([REF], PHRASE, render.RenderSettings(seconds=1e6), out), "seconds")
+    assert not out.exists()
+
+
 def test_fit_names_top(tmp_path):
     for call in (lambda: render.fit(FIT, out=tmp_path / "f", top=0), lambda: render.fit_and_render(FIT, out=tmp_path / "g", top=0)):
         assert "at least 1" in _refused(call, "top")

@@ -188,7 +188,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
     check_keys(Where(source, ""), data, TOP_KEYS)
     start = start_override or data.get("from")
     if not start:
-        raise InputError(f'{source}: no start design; add from = "models/<design>.toml" or pass --from')
+        raise InputError(f'{source}: no start design; add from = "models/<design>.toml" to the file, or name one with --from (start_path= in Python)')
     if not isinstance(start, str):
         raise InputError(f"{source}: from={start!r}: expected a path string")
     aims_t, free_t = data.get("aim"), data.get("free")

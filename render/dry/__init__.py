@@ -92,7 +92,7 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
     or a ``velocity_scale`` other than 1 (it scales a recording) is refused for it; a recording is
     checked as audio when ``recorded`` (a DI to be un-voiced is not).
     """
-    from ..errors import ArgumentError, InputError
+    from ..errors import ArgumentError
     from .phrase import MAX_SECONDS
 
     dry = Path(path) if path else default_dry_path()
@@ -101,7 +101,12 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
     if dry.suffix.lower() in PHRASE_SUFFIXES:
         load_phrase(dry)
         if velocity_scale != 1.0:
-            raise InputError(f"--velocity-scale={velocity_scale:g} scales a recorded dry file, not the phrase {dry}; pluck a phrase harder or softer with --strength")
+            raise ArgumentError(
+                "velocity_scale",
+                f"{velocity_scale:g}",
+                f"scales a recorded dry file, not the phrase {dry}; pluck a phrase harder or softer with --strength",
+                python_why=f"scales a recorded dry file, not the phrase {dry}; leave it at 1 and pluck a phrase harder or softer with RenderSettings.strength",
+            )
         if seconds is not None and seconds > MAX_SECONDS:
             raise ArgumentError("seconds", f"{seconds:g}", f"a phrase renders in memory, at most {MAX_SECONDS:g} s; for longer takes use a recording")
     elif recorded:

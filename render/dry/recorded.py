@@ -72,7 +72,7 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
     peak = float(np.max(np.abs(data))) * float(velocity_scale)
     if peak > PLAUSIBLE_VELOCITY:
         warnings.append(
-            f"{name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={velocity_scale:g}) is far beyond a plucked string's few m/s; check --velocity-scale and the file's level"
+            f"{name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={velocity_scale:g}) is far beyond a plucked string's few m/s; check the velocity scale (--velocity-scale, velocity_scale= in Python) and the file's level"
         )
     flats = FlatRuns()
     flats.add(data)

@@ -133,7 +133,7 @@ class FloatWavWriter:
         """Patch the header's sizes, flush, and give the file its final name."""
         if self.frames * 4 * self.channels >= 2**32 - 64:
             self.abort()
-            raise InputError(f"{self.path}: {self.frames} frames is too long for one WAV file (4 GiB at most); render a shorter --seconds")
+            raise InputError(f"{self.path}: {self.frames} frames is too long for one WAV file (4 GiB at most); render a shorter span")
 
         def finish():
             self._f.seek(0)

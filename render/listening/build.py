@@ -198,7 +198,9 @@ def build_session(
             clip_sha256[name] = sha256_bytes(data)
             _write_new_file(paths.public / name, data)
         if len(set(clip_sha256.values())) != len(clip_sha256):  # the dither vanished in float32 rounding
-            raise InputError("two clip files came out byte-identical: the renders must stay within full scale ±1 for the dither to show; lower --true-peak-dbtp")
+            raise InputError(
+                "two clip files came out byte-identical: the renders must stay within full scale ±1 for the dither to show; lower the true-peak ceiling (--true-peak-dbtp, or BlindSettings.true_peak_dbtp)"
+            )
         _write_new_file(paths.plan, _json_bytes(plan))
         _write_new_file(paths.key, _json_bytes(key))
         for p in list(paths.public.iterdir()):

@@ -71,7 +71,7 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
             raise InputError(f"{name}: the render holds NaN or infinite samples; check the design with `render check`")
         lufs = integrated_loudness(x, sample_rate=sample_rate)
         if lufs is None:
-            raise InputError(f"{name}: no loudness: the render is silent or shorter than one 400 ms block; use a longer --seconds or a dry signal that plays in that span")
+            raise InputError(f"{name}: no loudness: the render is silent or shorter than one 400 ms block; render a longer clip or a dry signal that plays in that span")
         measured.append(lufs)
         peaks.append(true_peak_dbtp(x))
     some, lowered = ceiling_gains(measured, peaks, target_lufs=target_lufs, ceiling_dbtp=ceiling_dbtp)

@@ -357,6 +357,22 @@ def _rig_record(rig: RigFile | None) -> dict:
     return {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
 
 
+def check_dry_settings(dry: Path, settings: RenderSettings) -> None:
+    """Refuse settings that do not fit the dry file, as the command line does: a phrase whole (its length,
+    no ``velocity_scale``), a recording as audio (no ``strength``, which scales a phrase's plucks)."""
+    from ..dry import check_dry_file
+    from ..errors import ArgumentError
+
+    if settings.strength is not None and dry.suffix.lower() != ".toml":
+        raise ArgumentError(
+            "strength",
+            f"{settings.strength:g}",
+            f"scales a phrase's plucks, not the recording {dry}; scale a recording with --velocity-scale",
+            python_why=f"scales a phrase's plucks, not the recording {dry}; leave it None and scale a recording with RenderSettings.velocity_scale",
+        )
+    check_dry_file(dry, seconds=settings.seconds, velocity_scale=settings.velocity_scale)
+
+
 def run_clips(
     designs: Sequence[Design],
     dry: Path,
@@ -416,6 +432,7 @@ def run_clips(
     if not dry.is_file():
         raise ArgumentError("dry", f"{dry}", "no such file; give a phrase (.toml) or a recorded velocity file", option="--dry")
     A.instance("settings", settings, RenderSettings, "a render.RenderSettings(...) (RenderSettings() for the defaults)")
+    check_dry_settings(dry, settings)
     out = output_folder(A.path("out", out, what="a folder's path"), overwrite=overwrite, claimed=True)  # an earlier run's files are replaced only when asked
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup

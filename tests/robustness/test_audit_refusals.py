@@ -145,7 +145,7 @@ def test_a_note_after_the_phrases_end_is_refused(tmp_path):
 
 def test_velocity_scale_with_a_phrase_is_refused(tmp_path):
     out = tmp_path / "out"
-    assert_refused(run("clips", REF, "--velocity-scale", 2, "--out", out), "--velocity-scale=2 scales a recorded dry file, not the phrase")
+    assert_refused(run("clips", REF, "--velocity-scale", 2, "--out", out), "--velocity-scale=2: scales a recorded dry file, not the phrase")
     assert not out.exists()
 
 
