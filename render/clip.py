@@ -22,6 +22,9 @@ if TYPE_CHECKING:
     from .dry import Dry
 
 
+LOUDNESS_BLOCKS = "loudness_block_powers_1v"  # a stats key kept out of the JSON record
+
+
 @dataclass(frozen=True)
 class RenderSettings:
     """Everything a render depends on besides the design and the dry file.
@@ -205,17 +208,25 @@ def noise_warning(design, floor: np.ndarray) -> tuple[str, ...]:
 
 
 def signal_stats(volts: np.ndarray, amp_out: np.ndarray, *, clipped_fraction: float, sample_rate: int, bias_v: float) -> dict:
-    """Peak, rms, op-amp output range, limiting and loudness (re 1 V full scale) of a render."""
-    from .analysis.loudness import integrated_loudness
+    """Peak, rms, op-amp output range, limiting and loudness (re 1 V full scale, with its gating blocks) of a render."""
+    from .analysis.loudness import LoudnessMeter
 
+    meter = LoudnessMeter(sample_rate=sample_rate)
+    meter.add(volts)
     return {
         "peak_v": float(np.max(np.abs(volts))) if volts.size else 0.0,
         "rms_v": float(np.sqrt(np.mean(volts**2))) if volts.size else 0.0,
         "amp_out_min_v": float(np.min(amp_out)) if amp_out.size else bias_v,
         "amp_out_max_v": float(np.max(amp_out)) if amp_out.size else bias_v,
         "clipped_fraction": float(clipped_fraction),
-        "loudness_lufs_1v_full_scale": integrated_loudness(volts, sample_rate=sample_rate),
+        **loudness_stats(meter),
     }
+
+
+def loudness_stats(meter) -> dict:
+    """A render's loudness re 1 V full scale, and its gating blocks' powers, from which
+    :func:`render.report.records.measurements` finds the loudness at the WAV's own full scale exactly."""
+    return {"loudness_lufs_1v_full_scale": meter.integrated(), LOUDNESS_BLOCKS: tuple(meter.block_powers().tolist())}
 
 
 def _velocity_array(velocity) -> np.ndarray:

@@ -119,26 +119,54 @@ class LoudnessMeter:
         """How much signal has been fed (s)."""
         return self._n / self.rate
 
-    def integrated(self) -> float | None:
-        """Integrated loudness (LUFS): None below one gating block, or when every block is under the absolute gate."""
+    def block_powers(self) -> np.ndarray:
+        """Mean square of each gating block, summed over the channels (Gᵢ = 1), of what has been fed: eq. 1 and the sum in eq. 4.
+
+        Empty below one 400 ms block; a last block may run past the end of the signal (the end of eq. 3).
+        """
         if self._n < BLOCK_S * self.rate:
-            return None
+            return np.zeros(0)
         t = self._n / self.rate
         count = int(np.round((t - BLOCK_S) / (BLOCK_S * STEP))) + 1  # the end of eq. 3
-        z = list(self._z[:count]) + [self._block(j) for j in range(len(self._z), count)]  # a last block may run past the end
-        zz = np.array(z).T  # (channels, blocks)
-        with np.errstate(divide="ignore"):
-            lj = [OFFSET_DB + 10.0 * np.log10(np.sum([zz[i, j] for i in range(self.channels)])) for j in range(count)]  # eq. 4
-        above = [j for j, v in enumerate(lj) if v >= ABSOLUTE_GATE_LKFS]  # eq. 5
-        if not above:
-            return None
-        mean = [np.mean([zz[i, j] for j in above]) for i in range(self.channels)]
-        gate = OFFSET_DB + 10.0 * np.log10(np.sum(mean)) + RELATIVE_GATE_LU  # eq. 6
-        both = [j for j, v in enumerate(lj) if v > gate and v > ABSOLUTE_GATE_LKFS]
-        final = np.nan_to_num(np.array([np.mean([zz[i, j] for j in both]) for i in range(self.channels)]))
-        with np.errstate(divide="ignore"):
-            value = float(OFFSET_DB + 10.0 * np.log10(np.sum(final)))  # eq. 7
-        return value if math.isfinite(value) else None
+        z = list(self._z[:count]) + [self._block(j) for j in range(len(self._z), count)]
+        return np.array([float(np.sum(b)) for b in z])
+
+    def integrated(self, *, gain_db: float = 0.0) -> float | None:
+        """Integrated loudness (LUFS) of what has been fed, scaled by ``gain_db``: None below one gating block,
+        or when every block is under the absolute gate (:func:`gated_loudness`)."""
+        return gated_loudness(self.block_powers(), gain_db=gain_db)
+
+
+def gated_loudness(block_powers, *, gain_db: float = 0.0) -> float | None:
+    """Integrated loudness (LUFS) from the gating blocks' channel-summed mean squares, of the signal scaled by ``gain_db``.
+
+    The K-weighting is linear, so a gain scales every block's power by 10^(gain_db/10); the absolute gate
+    then applies to the scaled blocks (a quiet signal's blocks can fall under it at one scale and not at another).
+
+    Parameters
+    ----------
+    block_powers : array_like [shape=(blocks,)], full scale ±1 squared
+        :meth:`LoudnessMeter.block_powers`.
+    gain_db : float, dB
+
+    Returns
+    -------
+    float or None
+        LUFS; None for no blocks or every block under the absolute gate.
+    """
+    z = np.asarray(block_powers, float) * 10.0 ** (gain_db / 10.0)
+    if z.size == 0:
+        return None
+    with np.errstate(divide="ignore"):
+        lj = OFFSET_DB + 10.0 * np.log10(z)  # eq. 4
+    above = lj >= ABSOLUTE_GATE_LKFS  # eq. 5
+    if not above.any():
+        return None
+    gate = OFFSET_DB + 10.0 * np.log10(np.mean(z[above])) + RELATIVE_GATE_LU  # eq. 6
+    both = (lj > gate) & (lj > ABSOLUTE_GATE_LKFS)
+    with np.errstate(divide="ignore"):
+        value = float(OFFSET_DB + 10.0 * np.log10(np.mean(z[both]))) if both.any() else -math.inf  # eq. 7
+    return value if math.isfinite(value) else None
 
 
 def integrated_loudness(samples: np.ndarray, *, sample_rate: int) -> float | None:

@@ -21,6 +21,8 @@ def measurements(design: Design, figures: dict, stats: dict, *, volts_full_scale
     A figure with no finite value is None with a sibling ``<key>_reason`` (:mod:`render.analysis.undefined`).
     """
     from ..analysis import undefined as U
+    from ..analysis.loudness import gated_loudness
+    from ..clip import LOUDNESS_BLOCKS
 
     f, d = figures, design
     lufs_1v = stats["loudness_lufs_1v_full_scale"]
@@ -28,9 +30,10 @@ def measurements(design: Design, figures: dict, stats: dict, *, volts_full_scale
     for key in ("resonance_hz", "resonance_db", "q", "level_1k_db", "gain_vs_passive_db", "hum_rejection_db"):
         U.put(out, key, f[key], U.reason(f, key))
     out.update({"bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v})
-    out.update({k: v for k, v in stats.items() if k != "loudness_lufs_1v_full_scale"})
-    # ITU-R BS.1770-4 integrated loudness of the WAV as written, and re a 1 V full scale
-    U.put(out, "loudness_lufs", None if lufs_1v is None else lufs_1v - 20 * np.log10(volts_full_scale), U.SILENT)
+    out.update({k: v for k, v in stats.items() if k not in ("loudness_lufs_1v_full_scale", LOUDNESS_BLOCKS)})
+    # ITU-R BS.1770-4 integrated loudness of the WAV as written (its blocks gated at that scale: eq. 5's
+    # absolute gate does not move with the scale), and re a 1 V full scale
+    U.put(out, "loudness_lufs", gated_loudness(stats[LOUDNESS_BLOCKS], gain_db=-20 * np.log10(volts_full_scale)), U.SILENT)
     U.put(out, "loudness_lufs_1v_full_scale", lufs_1v, U.SILENT)
     return out
 

@@ -17,7 +17,7 @@ from typing import Any
 
 import numpy as np
 
-from ..clip import Clip, RenderSettings
+from ..clip import Clip, RenderSettings, loudness_stats
 from ..design import Design, RigFile, apply_rig
 from ..dry import Dry
 from .dry_input import dry_for
@@ -173,7 +173,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
         "amp_out_min_v": stats["amp_min"] if n else design.bias_v,
         "amp_out_max_v": stats["amp_max"] if n else design.bias_v,
         "clipped_fraction": renderer.clipped_fraction,
-        "loudness_lufs_1v_full_scale": loud.integrated(),
+        **loudness_stats(loud),
     }
     from ..analysis.headroom import played_headroom
 

@@ -82,3 +82,17 @@ def test_true_peak_between_samples(fraction, phase_deg):
     x[-480:] *= fade[::-1]
     assert 20 * np.log10(np.max(np.abs(x))) < -6.5  # the samples alone miss the peak
     assert -6.4 <= true_peak_dbtp(x) <= -5.8
+
+
+def test_a_gain_moves_blocks_across_the_absolute_gate():
+    # BS.1770-4 eq. 5: the −70 LKFS gate is absolute, so the loudness of a scaled signal is not the
+    # loudness shifted by the gain once blocks cross it. Stereo 1 kHz tones read their peak level
+    # (EBU Tech 3341 Table 1's signals): −62 and −69 dBFS for 10 s each read about −64.2 LUFS (the mean of their powers);
+    # 2 dB lower, the second half falls under the gate and the whole reads the first half's −64.
+    x = _stereo_tone([(-62.0, 10.0), (-69.0, 10.0)])
+    meter = LoudnessMeter(sample_rate=RATE, channels=2)
+    meter.add(x)
+    lowered = x * 10.0 ** (-2.0 / 20.0)
+    assert meter.integrated(gain_db=-2.0) == pytest.approx(integrated_loudness(lowered, sample_rate=RATE), abs=1e-9)
+    assert meter.integrated(gain_db=-2.0) == pytest.approx(-64.0, abs=0.1)
+    assert meter.integrated() - 2.0 == pytest.approx(-66.2, abs=0.1)  # the shifted figure a plain offset would give

@@ -113,6 +113,9 @@ def test_long_recording_renders_block_by_block(tmp_path):
     ref = render_signal(load_design(REF), np.stack([x, x]).astype(float), sample_rate=fs)["out"] / rec["volts_full_scale"]
     assert np.max(np.abs(y - ref)) < 1e-6  # float32 rounding of the WAV
     assert rec["measurements"]["loudness_lufs_1v_full_scale"] == pytest.approx(integrated_loudness(ref * rec["volts_full_scale"], sample_rate=fs), abs=1e-3)
+    import pyloudnorm  # the WAV as written, read back: pyloudnorm's BS.1770-4 meter ("DeMan": the standard's analog prototypes)
+
+    assert rec["measurements"]["loudness_lufs"] == pytest.approx(pyloudnorm.Meter(fs, filter_class="DeMan").integrated_loudness(y), abs=1e-3)
 
 
 def test_ten_minutes_render_in_bounded_memory(tmp_path):
