@@ -31,10 +31,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .undefined import NO_LOUDNESS, NO_REFERENCE_LOUDNESS  # worded with the other reasons
+
 BANDS_HZ: tuple[tuple[float, float], ...] = ((2000.0, 4000.0), (4000.0, 8000.0))
 POINTS_PER_BAND = 256
-NO_REFERENCE_LOUDNESS = "the reference's clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
-NO_LOUDNESS = "this clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
 
 
 def band_key(band: tuple[float, float]) -> str:

@@ -226,12 +226,21 @@ def from_record(m: dict) -> PlayedHeadroom | None:
 def format_share(fraction: float) -> str:
     """A share of time as a percentage that never rounds a non-zero share to zero.
 
-    "none" only when exactly 0; two significant digits below 10 % ("0.35 %", "2.0 %", "8.0e-06 %"); whole percents above.
+    "none" only when exactly 0, "100 %" only when every sample; two significant digits below 10 % ("0.35 %", "2.0 %",
+    "8.0e-06 %", "9.9 %"), whole percents above ("10 %", "42 %"), with as many decimals as keep a share short of all
+    from reading 100 ("99.99 %").
     """
     if fraction <= 0:
         return "none"
+    if fraction >= 1:
+        return "100 %"
     pct = 100.0 * fraction
-    return f"{pct:.0f} %" if pct >= 10 else f"{pct:#.2g} %"
+    if pct < 9.95:  # two digits would not round up to "10." here
+        return f"{pct:#.2g} %"
+    decimals = 0
+    while decimals < 12 and float(f"{pct:.{decimals}f}") >= 100:
+        decimals += 1
+    return f"{pct:.{decimals}f} %"
 
 
 def format_margin(db: float | None) -> str:

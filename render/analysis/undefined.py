@@ -19,6 +19,7 @@ it does no I/O.
 from __future__ import annotations
 
 import math
+import re
 from typing import Any
 
 import numpy as np
@@ -46,6 +47,8 @@ ALL_CANCEL = "every trial cancels the hum exactly"
 NO_OUTPUT = "no output: the test sine does not move the op-amp's output off its limit"
 SOURCE_NO_HUM = "no hum at this harmonic: no source has it, or no coil links it"  # one source's share (render.analysis.hum_sources)
 SOURCE_EXACT = f"the two coils' hum cancels exactly (at the {REJECTION_CAP_DB:g} dB cap)"
+NO_REFERENCE_LOUDNESS = "the reference's clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
+NO_LOUDNESS = "this clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
 
 # what a table cell shows instead of the number
 SHORT = {
@@ -67,6 +70,8 @@ SHORT = {
     NO_OUTPUT: "no output",
     SOURCE_NO_HUM: "no hum",
     SOURCE_EXACT: "exact",
+    NO_REFERENCE_LOUDNESS: "reference silent",
+    NO_LOUDNESS: "silent",
 }
 
 
@@ -114,11 +119,12 @@ def shown(record: dict, key: str, spec: str, unit: str = "") -> str:
 
 
 def cell(record: dict, key: str, spec: str, unit: str = "") -> str:
-    """As :func:`shown`, with the reason's short form (for a table cell)."""
+    """As :func:`shown`, with the reason's short form (for a table cell): :data:`SHORT`'s, else the reason's
+    first clause ("no feedback.c, so ..." -> "no feedback.c"), else "undefined" (words, never a bare dash)."""
     v = record.get(key)
     if v is None:
         text = reason(record, key, "")
-        return SHORT.get(text, "—")
+        return SHORT.get(text) or re.split(r"[:;,(]", text, maxsplit=1)[0].strip() or "undefined"
     return format(v, spec) + unit
 
 

@@ -15,12 +15,13 @@ import numpy as np
 
 from ..report.brightness import COLUMNS as BRIGHTNESS_COLUMNS
 from ..report.brightness import NOTE as BRIGHTNESS_NOTE
+from ..report.clips import LEVELS_NOTE
 from .assets import PAGE_SECONDS
 from .page import PageClip, PageText, design_values, response_curves, write_page
 
 CLIPS_COLUMNS = ("resonance", "Q", "level at 1 kHz", "vs passive", "hum rejection", "bias", "headroom up / down", "peak at amp input", "loudness (1 V full scale)", "limited", *BRIGHTNESS_COLUMNS)
 CLIPS_NOTES = (
-    "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale.",
+    LEVELS_NOTE + ".",
     "Limited: share of the op-amp output's samples inside the soft limit's knee or beyond, or slewing at the slew rate.",
     BRIGHTNESS_NOTE,
 )

@@ -30,4 +30,7 @@ def brightness_cells(m: dict) -> tuple[str, ...]:
     keys = [f"matched_diff_{band_key(b)}_db" for b in BANDS_HZ]
     if m.get("is_reference"):
         return (*bands, "reference")
-    return (*bands, " / ".join(cell(m, k, "+.1f") for k in keys) + " dB")
+    diffs = [cell(m, k, "+.1f", " dB") for k in keys]
+    if all(m.get(k) is not None for k in keys):
+        return (*bands, " / ".join(cell(m, k, "+.1f") for k in keys) + " dB")  # one unit for the pair: "+1.3 / -3.1 dB"
+    return (*bands, diffs[0] if len(set(diffs)) == 1 else " / ".join(diffs))  # words, once when both bands share them

@@ -117,11 +117,23 @@ def measurement_cells(m: dict) -> tuple[str, ...]:
         _cell(m, "hum_rejection_db", ".1f", " dB"),
         f"{m['bias_v']:.2f} V",
         f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
-        f"{m['peak_v']:.3f} V",
+        peak_cell(m["peak_v"]),
         _cell(m, "loudness_lufs_1v_full_scale", ".1f", " LUFS"),
         format_share(m["clipped_fraction"]),
     ) + brightness_cells(m)
 
+
+def peak_cell(volts: float) -> str:
+    """A clip's peak to four significant figures with its SI prefix ("1.576 V", "460 µV"): a quiet clip's peak never reads 0."""
+    from ..units import format_si
+
+    return format_si(volts, "V", 4)
+
+
+LEVELS_NOTE = (
+    "Level at 1 kHz: dB re 1 V per m/s of string velocity; resonance: the response's highest peak, its frequency and its height in dB above"
+    " the level at 1 kHz; Q from the response; loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale"
+)
 
 COMPARE_LABEL = "comparison pickup, passive"
 NO_PREAMP = "no preamp"
@@ -140,7 +152,7 @@ def compare_cells(m: dict) -> tuple[str, ...]:
         _cell(m, "hum_rejection_db", ".1f", " dB"),
         NO_PREAMP,
         NO_PREAMP,
-        f"{m['peak_v']:.3f} V",
+        peak_cell(m["peak_v"]),
         _cell(m, "loudness_lufs_1v_full_scale", ".1f", " LUFS"),
         NO_PREAMP,
     ) + brightness_cells(m)
@@ -166,8 +178,7 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         lines.append(f"| {compare['design']} ({COMPARE_LABEL}) | " + " | ".join(compare_cells(compare["measurements"])) + " |")
     lines += [
         "",
-        "Levels: dB re 1 V per m/s of string velocity; resonance and Q from the response; loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale"
-        " (the same for a design in any run);"
+        f"{LEVELS_NOTE} (the same for a design in any run);"
         " \"limited\": share of the op-amp output's samples inside the soft limit's knee or beyond, or slewing at the slew rate;"
         " words stand for a figure with no finite value (its reason is in the design's JSON, beside the figure).",
         "",

@@ -97,9 +97,19 @@ def test_margin_definition():
 
 @pytest.mark.parametrize(
     "fraction,text",
-    [(0.0, "none"), (8e-8, "8.0e-06 %"), (3.5e-3, "0.35 %"), (0.02, "2.0 %"), (0.5, "50 %"), (1.0, "100 %")],
+    [
+        (0.0, "none"),
+        (8e-8, "8.0e-06 %"),
+        (3.5e-3, "0.35 %"),
+        (0.02, "2.0 %"),
+        (0.0994, "9.9 %"),
+        (0.0996, "10 %"),  # not "10. %"
+        (0.5, "50 %"),
+        (0.9999, "99.99 %"),  # short of every sample: never "100 %"
+        (1.0, "100 %"),
+    ],
 )
-def test_the_share_limited_never_rounds_to_zero(fraction, text):
+def test_the_share_limited_never_rounds_to_zero_or_to_all(fraction, text):
     assert format_share(fraction) == text
 
 
