@@ -345,6 +345,35 @@ def test_the_page_opens_with_the_runs_reference(chromium, tmp_path):
         page.close()
 
 
+def test_values_only_the_reference_has_are_marked_either_way_round(chromium, tmp_path):
+    # project rule, no outside source: studio-reference has no [coil_a.winding], bench-wound does; heard against
+    # bench-wound, studio-reference's table shows the winding's values as "absent" beside bench-wound's, marked, and
+    # as many values differ as with the two the other way round (the count the library gives, on one key set)
+    from click.testing import CliRunner
+
+    from render.cli import main
+    from render.compare.page import aligned_values, design_values
+    from render.design import load_designs
+
+    files = [ROOT / "models" / f"{m}.toml" for m in ("studio-reference", "bench-wound")]
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", *map(str, files), "--seconds", "1", "--no-plots", "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    a, b = aligned_values([design_values(d) for d in load_designs(files)[0]])
+    want = sum(u != v for (_, u), (_, v) in zip(a, b))
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    page.select_option("#reference", "1")
+    page.keyboard.press("1")
+    rows = page.eval_on_selector_all("#values tbody tr", "rows => rows.map(r => [r.children[0].textContent, r.children[1].textContent, r.children[2].textContent, r.classList.contains('differs')])")
+    by_key = {r[0]: r[1:] for r in rows}
+    assert by_key["coil_a.winding.turns"] == ["absent", "1400", True] and "coil_a.winding" not in by_key
+    assert page.get_attribute("#values", "data-differ") == str(want) and want > 20
+    page.select_option("#reference", "0")
+    page.keyboard.press("2")
+    assert page.get_attribute("#values", "data-differ") == str(want)
+    assert errors == []
+
+
 def test_watch_swaps_a_saved_clip_and_shows_a_broken_file(chromium, tmp_path):
     from render.clip import RenderSettings
     from render.compare.server import LiveServer

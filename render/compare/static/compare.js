@@ -448,7 +448,11 @@
     for (const t of ["value", entries()[S.picked].name, ref.name + " (reference)"]) { const th = document.createElement("th"); th.textContent = t; head.appendChild(th); }
     const tb = table.createTBody();
     let differ = 0;
-    for (const [k, v] of h.values) {
+    // every key either design has (the run gives both one key set; a key only one has is "absent" in the other)
+    const heardValues = new Map(h.values);
+    const keys = h.values.map((kv) => kv[0]).concat(ref.values.map((kv) => kv[0]).filter((k) => !heardValues.has(k)));
+    for (const k of keys) {
+      const v = heardValues.has(k) ? heardValues.get(k) : "absent";
       const r = refValues.has(k) ? refValues.get(k) : "absent";
       const diff = r !== v;
       if (diff) differ++;
