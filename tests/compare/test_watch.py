@@ -252,3 +252,37 @@ def test_a_stopped_watch_leaves_no_process(inputs, sig, way):
             _kill_group(proc.pid)
     assert not left, f"`render watch` still alive {GRACE_S} s after {sig.name} to the {way}"
     assert code == 0 and "Traceback" not in err, (code, err)
+
+
+def test_the_watch_page_carries_the_figures_render_clips_gives_the_same_designs(run, inputs, tmp_path):
+    # project rule, no outside source (README: watch serves the same page as render clips): every column of the
+    # summary, the brightness columns among them, and the band levels the page matches loudness from, equal those
+    # of a clips run of the same designs, phrase, rig and settings
+    from render.compare.folders import CLIPS_COLUMNS
+    from render.design import apply_rig, load_designs, load_rig
+    from render.runs.clips import run_clips
+
+    from .test_page_build import page_of
+
+    designs = [apply_rig(d, load_rig(inputs["rig"])) for d in load_designs([inputs["studio-reference"], inputs["ember-dark"]])[0]]
+    run_clips(designs, inputs["phrase"], SETTINGS, tmp_path / "clips", rig=load_rig(inputs["rig"]), plots=False)
+    clips_page, _ = page_of(tmp_path / "clips")
+    state = json.loads(run.board.state())
+    assert state["matched_column"] == clips_page["matched_column"] == len(CLIPS_COLUMNS) - 1
+    for got, want in zip(state["designs"], clips_page["designs"], strict=True):
+        assert got["cells"] == want["cells"], (got["name"], got["cells"], want["cells"])
+        assert got["matched_level_db"] == want["matched_level_db"] and None not in got["matched_level_db"]
+        assert got["values"] == want["values"]
+    assert "not computed" not in state["designs"][1]["cells"] and state["designs"][0]["cells"][-1] == "reference"
+
+
+def test_a_change_below_four_figures_is_named(run, inputs):
+    # project rule, no outside source: the values are compared exactly; the page and the terminal show them to
+    # four figures, or as many as tell the two apart
+    set_value(inputs["studio-reference"], "r", "110.04k")
+    done = run.refresh([inputs["studio-reference"]])
+    assert done.rendered == ("studio-reference",)
+    assert run.slots[0].changes == [("feedback.r", "110 kΩ", "110.04 kΩ")]
+    assert "feedback.r 110 kΩ → 110.04 kΩ" in done.lines[0] and "no value changed" not in done.lines[0]
+    state = json.loads(run.board.state())
+    assert state["designs"][0]["changes"] == [["feedback.r", "110 kΩ", "110.04 kΩ"]]
