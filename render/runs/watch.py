@@ -90,6 +90,13 @@ def _sha(path: Path) -> str:
         return ""
 
 
+def _read_files(design) -> dict[Path, str]:
+    """The files ``design`` read besides its own, with the SHA-256 of what it read (none for no design)."""
+    from ..design.coil_impedance import read_files
+
+    return read_files(design) if design is not None else {}
+
+
 class WatchRun:
     """The designs of ``render watch`` and their latest renders (see the module docstring).
 
@@ -138,9 +145,13 @@ class WatchRun:
 
     @property
     def files(self) -> list[Path]:
-        """Every file whose saving re-renders something."""
-        out = [s.path for s in self.slots] + [self.dry_path]
-        return out + ([self.rig_path] if self.rig_path is not None else [])
+        """Every file whose saving re-renders something: the designs, the dry signal, the rig, and every file a design reads (a measured coil)."""
+        out = [s.path for s in self.slots] + [self.dry_path] + ([self.rig_path] if self.rig_path is not None else [])
+        return out + [p for p in self.read_files() if p not in out]
+
+    def read_files(self) -> list[Path]:
+        """The files the designs read besides their own (measured coils), each once."""
+        return list(dict.fromkeys(p for s in self.slots for p in _read_files(s.design)))
 
     @property
     def is_phrase(self) -> bool:
@@ -238,6 +249,7 @@ class WatchRun:
         for slot in self.slots:
             slot.sha256 = self._input_sha[slot.path]
             slot.design = self._load_design(slot)
+            self._input_sha.update(_read_files(slot.design))  # the bytes the design read, not those on disk now
             t = time.perf_counter()
             volts, page_clip, m = self._render(slot.design)
             made.append((slot, volts, page_clip, m, time.perf_counter() - t))
@@ -289,7 +301,7 @@ class WatchRun:
                 everything = True
         rendered = []  # a rig or phrase that did not load: its last good version plays on, with every design
         for slot in self.slots:
-            if not (everything or slot.path in changed):
+            if not (everything or slot.path in changed or changed.intersection(_read_files(slot.design))):
                 continue
             try:
                 design = self._load_design(slot)
@@ -306,6 +318,7 @@ class WatchRun:
                 continue
             slot.changes = value_changes(slot.design, design) if slot.design is not None else []  # the exact values, not the four figures shown
             slot.design, slot.error = design, None
+            self._input_sha.update(_read_files(design))
             slot.before, slot.now = slot.now, version
             rendered.append(design.name)
             what = ", ".join(f"{k} {a} → {b}" for k, a, b in slot.changes[:4]) or ("the dry signal changed" if self.dry_path in changed else "no value changed")
@@ -354,12 +367,14 @@ class WatchRun:
             designs.append(entry)
         st = self.settings
         rig = str(self.rig_path) if self.rig_path else "each design's own"
+        extra = self.read_files()
+        read = f", and the files the designs read ({', '.join(map(str, extra))})" if extra else ""
         n = len(self.slots)
         state = {
             "format": 1,
             "live": True,
             "title": f"render watch: {n} design{'s' if n != 1 else ''}",
-            "lede": f"Watching {', '.join(str(s.path) for s in self.slots)}, the dry signal {self.dry_path} and the rig ({rig}); save a file to hear its new version here. "
+            "lede": f"Watching {', '.join(str(s.path) for s in self.slots)}, the dry signal {self.dry_path} and the rig ({rig}){read}; save a file to hear its new version here. "
             f"{st.sample_rate} Hz; seed {st.seed}; hum {'on' if st.hum else 'off'}.",
             "columns": list(CLIPS_COLUMNS),
             "notes": list(CLIPS_NOTES),
@@ -396,14 +411,24 @@ def follow_changes(run: WatchRun, *, notify: Callable[[str], None], stop=None, s
     """
     from watchfiles import watch
 
-    folders = sorted({str(p.resolve().parent) for p in run.files})
-    targets = {str(p.resolve()) for p in run.files}
+    def folders() -> list[str]:
+        return sorted({str(p.resolve().parent) for p in run.files})
 
     def wanted(change, path: str) -> bool:
-        return str(Path(path).resolve()) in targets
+        return str(Path(path).resolve()) in {str(p.resolve()) for p in run.files}  # the files of now: a design may read another since
 
-    for changes in watch(*folders, watch_filter=wanted, step=step_ms, debounce=debounce_ms, stop_event=stop, recursive=False, raise_interrupt=True, rust_timeout=1000):
-        result = run.refresh(path for _, path in changes)
-        if result is not None:
-            for line in result.lines:
-                notify(line)
+    while True:
+        watching = folders()
+        changes_seen = watch(*watching, watch_filter=wanted, step=step_ms, debounce=debounce_ms, stop_event=stop, recursive=False, raise_interrupt=True, rust_timeout=1000)
+        try:
+            for changes in changes_seen:
+                result = run.refresh(path for _, path in changes)
+                if result is not None:
+                    for line in result.lines:
+                        notify(line)
+                if folders() != watching:  # a design now reads a file in another folder: watch that folder too
+                    break
+            else:
+                return  # stopped
+        finally:
+            changes_seen.close()

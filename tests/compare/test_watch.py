@@ -286,3 +286,36 @@ def test_a_change_below_four_figures_is_named(run, inputs):
     assert "feedback.r 110 kΩ → 110.04 kΩ" in done.lines[0] and "no value changed" not in done.lines[0]
     state = json.loads(run.board.state())
     assert state["designs"][0]["changes"] == [["feedback.r", "110 kΩ", "110.04 kΩ"]]
+
+
+def test_a_save_of_a_file_a_design_reads_renders_it_again(tmp_path):
+    # project rule, no outside source: a measured coil's CSV (measured = "coils/...csv", in a folder of its own) is
+    # watched as the design file is; saving it renders the design again, saving the same bytes does not
+    (tmp_path / "coils").mkdir()
+    csv = tmp_path / "coils" / "harbour-blade-coil.synthetic.csv"
+    csv.write_bytes((ROOT / "models" / "coils" / csv.name).read_bytes())
+    design = tmp_path / "measured-blade.toml"
+    design.write_text((ROOT / "models" / "measured-blade.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    phrase = tmp_path / "phrase.toml"
+    phrase.write_text((ROOT / "dry_signals" / "chug_riff.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    run = WatchRun([design], dry=phrase, settings=SETTINGS)
+    run.start()
+    assert csv in run.files
+    assert run.refresh([csv]) is None  # the bytes the design read
+    stop = threading.Event()
+    lines: list[str] = []
+    follower = threading.Thread(target=follow_changes, args=(run,), kwargs={"notify": lines.append, "stop": stop}, daemon=True)
+    follower.start()
+    text = csv.read_text(encoding="utf-8")
+    assert "\n20,4077.24,3.64979\n" in text
+    try:
+        deadline = time.monotonic() + 60  # repeated until the watcher, starting, sees it (as above)
+        while run.board.version < 2 and time.monotonic() < deadline:
+            csv.write_text(text.replace("\n20,4077.24,3.64979\n", "\n20,4177.24,3.64979\n"), encoding="utf-8")
+            _wait(lambda: run.board.version >= 2, 2.0)
+    finally:
+        stop.set()
+        follower.join(timeout=10)
+    assert versions(run) == [2], lines
+    changed = {k for k, _, _ in run.slots[0].changes}
+    assert {"coil_a.impedance_from.sha256", "coil_b.impedance_from.sha256"} <= changed
