@@ -310,6 +310,37 @@ def test_keys_pick_up_to_ten_designs_and_long_clips_are_cut(chromium, tmp_path, 
     assert errors == []
 
 
+def test_the_comparison_pickup_has_its_own_key_beside_ten_designs(chromium, tmp_path):
+    # project rule, no outside source (README: the comparison pickup has its own key, C): with ten designs, 1-9 and 0
+    # pick them and C the comparison pickup, the eleventh clip; its row and summary line show that key
+    from render.compare.page import PageClip, PageText, write_page
+
+    fs = 16000
+    t = np.arange(fs) / fs
+    tones = [200.0 * (k + 1) for k in range(11)]
+    clips = [
+        PageClip(key=f"tone-{k}", name=f"tone {f:g} Hz", volts=0.2 * np.sin(2 * np.pi * f * t), sample_rate=fs, loudness_lufs_1v_full_scale=-20.0, role="compare" if k == 10 else "design")
+        for k, f in enumerate(tones)
+    ]
+    write_page(tmp_path, PageText(title="ten tones and a comparison", columns=()), clips, volts_full_scale=0.5)
+    page, errors = open_page(chromium, (tmp_path / "index.html").as_uri())
+    assert page.inner_text('.row[data-index="10"] .key') == "c" and page.inner_text('.row[data-index="9"] .key') == "0"
+    assert page.eval_on_selector_all("#summary tbody tr", "rows => rows.map(r => r.children[0].textContent)") == [*"1234567890", "c"]
+    assert page.is_visible("#compare-key") and "C picks the comparison pickup" in page.inner_text(".hint")
+
+    def heard(actions):
+        y, rate = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}] + actions, 0.6)
+        seg = y[int(0.2 * rate) : int(0.6 * rate)]
+        spectrum = np.abs(np.fft.rfft(seg * np.hanning(seg.size)))
+        return np.fft.rfftfreq(seg.size, 1 / rate)[int(np.argmax(spectrum))]
+
+    assert abs(heard([{"at": 0.05, "key": "c"}]) - tones[10]) < 5
+    assert abs(heard([{"at": 0.05, "key": "0"}]) - tones[9]) < 5
+    page.keyboard.press("C")
+    assert page.get_attribute("body", "data-picked") == "10" and page.inner_text("#heard-key") == "c"
+    assert errors == []
+
+
 @pytest.mark.parametrize(("width", "height"), [(1280, 800), (390, 844)])
 def test_the_page_lays_out(chromium, clips_run, width, height):
     out, _, _ = clips_run
