@@ -210,6 +210,13 @@ def band_powers_db(designs, bands=BANDS_HZ) -> dict[str, np.ndarray]:
     return {band_key(b): band_power_db(vel, b) for b in bands}
 
 
+def band_power_rows(designs, bands=BANDS_HZ) -> list[tuple[float, ...]]:
+    """Each design's :func:`band_power_db` in the order of ``bands``, one tuple per design, dB re (1 V per m/s)²."""
+    designs = list(designs)
+    power = band_powers_db(designs, bands)
+    return [tuple(float(power[band_key(b)][i]) for b in bands) for i in range(len(designs))]
+
+
 def reference_index(designs, name: str | None, *, compare=None) -> int | None:
     """The index of the design called ``name`` (its name or its file's stem); 0 when ``name`` is None; None when
     ``name`` is the passive comparison pickup ``compare`` (``--compare``; its name or file stem)."""

@@ -20,6 +20,7 @@ from .assets import PAGE_SECONDS
 from .page import PageClip, PageText, design_values, response_curves, write_page
 
 CLIPS_COLUMNS = ("resonance", "Q", "level at 1 kHz", "vs passive", "hum rejection", "bias", "headroom up / down", "peak at amp input", "loudness (1 V full scale)", "limited", *BRIGHTNESS_COLUMNS)
+CLIPS_MATCHED_COLUMN = len(CLIPS_COLUMNS) - 1  # the loudness-matched brightness column, which the page fills against its reference
 CLIPS_NOTES = (
     LEVELS_NOTE + ".",
     "Limited: share of the op-amp output's samples inside the soft limit's knee or beyond, or slewing at the slew rate.",
@@ -83,13 +84,12 @@ def write_clips_page(
     reference : int or None
         The run's brightness reference, which the page opens with: a design's index, or None for the comparison pickup.
     """
-    from ..analysis.brightness import BANDS_HZ, band_key, band_powers_db
+    from ..analysis.brightness import band_power_rows
 
     folder = Path(folder)
     curves = response_curves(designs)
-    power = band_powers_db(designs)
     clips = []
-    for i, (rec, design, (resp, passive)) in enumerate(zip(records, designs, curves)):
+    for rec, design, (resp, passive), power in zip(records, designs, curves, band_power_rows(designs)):
         stem = Path(design.source).stem
         volts, fs, n = read_head(folder / f"{stem}.wav", volts_full_scale=volts_full_scale)
         m = rec["measurements"]
@@ -107,7 +107,7 @@ def write_clips_page(
                 warnings=tuple(rec.get("warnings", ())),
                 response=resp,
                 passive=passive,
-                band_power_db=tuple(float(power[band_key(b)][i]) for b in BANDS_HZ),
+                band_power_db=power,
             )
         )
     if compare is not None:
@@ -120,7 +120,7 @@ def write_clips_page(
     title = f"render clips: {len(designs)} design{'s' if len(designs) != 1 else ''}" + (f" and the comparison pickup {compare[0].name}" if compare is not None else "")
     notes = CLIPS_NOTES + ((COMPARE_NOTE,) if compare is not None else ())
     start = len(designs) if reference is None else reference
-    text = PageText(title=title, lede=lede, columns=CLIPS_COLUMNS, notes=notes, matched_column=len(CLIPS_COLUMNS) - 1, reference=start)
+    text = PageText(title=title, lede=lede, columns=CLIPS_COLUMNS, notes=notes, matched_column=CLIPS_MATCHED_COLUMN, reference=start)
     return write_page(folder, text, clips, volts_full_scale=volts_full_scale, jobs=jobs)
 
 

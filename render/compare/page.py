@@ -18,9 +18,10 @@ from __future__ import annotations
 import base64
 import json
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from importlib import resources
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -192,6 +193,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         raise InputError(f"the clips on one page must share a sample rate, not {sorted(rates)} Hz")
     from ..parallel import pmap
 
+    clips = [replace(c, values=v) for c, v in zip(clips, aligned_values([c.values for c in clips]))]  # one key set: each pair compares key by key
     made = pmap(design_assets, clips, jobs)
     top = strip_top_db([m.levels for m in made])
     designs = [finish_entry(m, top_db=top) for m in made]
@@ -290,43 +292,94 @@ def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tup
 
 
 SKIPPED_VALUES = ("name", "notes", "source", "sha256")
+ABSENT = "absent"  # how the page shows a value a design does not have
 
 
-def design_values(design) -> tuple[tuple[str, str], ...]:
-    """A design's values as ("table.key", shown with its unit), every table in the file's order."""
+def _value_rows(design):
+    """(``"table.key"``, its spec or None, its value) of a design, every table in the file's order."""
     from .. import units as U
     from ..design import DESIGN_TABLES, design_to_dict
     from ..design.schema import COIL, WINDING
-    from ..units import Kind, format_si
     from ..validate import Field
 
     derived = {"wire_diameter": U.LENGTH, "wire_length": U.LENGTH, "wire_awg": U.RATIO}  # a winding's values that its file does not give
-
-    def show(spec, value) -> str:
-        if value is None:
-            return "absent"
-        if isinstance(value, dict):  # a nested table (a coil's geometry, a hum source)
-            return "; ".join(f"{k} {show(None, v)}" for k, v in value.items() if v is not None)
-        if isinstance(value, list):
-            return ", ".join(f"{v:g}" if isinstance(v, (int, float)) and not isinstance(v, bool) else show(None, v) for v in value)
-        if isinstance(value, (int, float)) and not isinstance(value, bool):
-            kind = getattr(spec, "kind", None)
-            if isinstance(kind, Kind) and kind.unit:
-                return format_si(float(value), kind.unit, digits=4)
-            return f"{value:.6g}"
-        return str(value)
-
-    out: list[tuple[str, str]] = []
-    values = design_to_dict(design)
-    for table, content in values.items():
+    for table, content in design_to_dict(design).items():
         if table in SKIPPED_VALUES or not isinstance(content, dict):
             continue
         specs = DESIGN_TABLES.get(table, {})
         for key, value in content.items():
             if isinstance(value, dict):  # a coil's winding
                 for k, v in value.items():
-                    spec = WINDING.get(k) or COIL.get(k) or (Field(derived[k]) if k in derived else None)
-                    out.append((f"{table}.{key}.{k}", show(spec, v)))
+                    yield f"{table}.{key}.{k}", WINDING.get(k) or COIL.get(k) or (Field(derived[k]) if k in derived else None), v
             else:
-                out.append((f"{table}.{key}", show(specs.get(key), value)))
-    return tuple(out)
+                yield f"{table}.{key}", specs.get(key), value
+
+
+def design_values(design, *, digits: int = 4) -> tuple[tuple[str, str], ...]:
+    """A design's values as ("table.key", shown with its unit to ``digits`` significant figures), every table in the file's order."""
+    from ..units import Kind, format_si
+
+    def show(spec, value) -> str:
+        if value is None:
+            return ABSENT
+        if isinstance(value, dict):  # a nested table (a coil's geometry, a hum source)
+            return "; ".join(f"{k} {show(None, v)}" for k, v in value.items() if v is not None)
+        if isinstance(value, list):
+            return ", ".join(f"{v:.{max(digits, 6)}g}" if isinstance(v, (int, float)) and not isinstance(v, bool) else show(None, v) for v in value)
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            kind = getattr(spec, "kind", None)
+            if isinstance(kind, Kind) and kind.unit:
+                return format_si(float(value), kind.unit, digits=digits)
+            return f"{value:.{max(digits, 6)}g}"
+        return str(value)
+
+    return tuple((k, show(spec, v)) for k, spec, v in _value_rows(design))
+
+
+def exact_values(design) -> tuple[tuple[str, Any], ...]:
+    """A design's values on the keys of :func:`design_values`, as the design holds them (nothing rounded), for telling what changed."""
+
+    def frozen(v):
+        if isinstance(v, dict):
+            return tuple((k, frozen(x)) for k, x in v.items())
+        if isinstance(v, list):
+            return tuple(frozen(x) for x in v)
+        return v
+
+    return tuple((k, frozen(v)) for k, _, v in _value_rows(design))
+
+
+def aligned_values(lists: Sequence[Sequence[tuple[str, Any]]], *, absent: Any = ABSENT) -> list[tuple[tuple[str, Any], ...]]:
+    """Several designs' values (:func:`design_values` or :func:`exact_values`) on one key set, so each pair compares key by key.
+
+    A key one design lacks is ``absent`` in it; a nested table a design lacks (one ``absent`` key, such as
+    ``coil_a.winding``) becomes the keys the others give it (``coil_a.winding.turns``, ...), each ``absent``.
+    The keys keep each design's order (a key only one design has sits after the key it follows there).
+    """
+    order: list[str] = []
+    for values in lists:
+        at = 0
+        for k, _ in values:
+            if k in order:
+                at = order.index(k) + 1
+            else:
+                order.insert(at, k)
+                at += 1
+    parents = {k.rsplit(".", n)[0] for k in order for n in range(1, k.count(".") + 1)}
+    rows = [dict(v) for v in lists]
+    keep = [k for k in order if k not in parents or any(r.get(k, absent) != absent for r in rows)]
+    return [tuple((k, r.get(k, absent)) for k in keep) for r in rows]
+
+
+def value_changes(before, after) -> list[tuple[str, str, str]]:
+    """(``"table.key"``, shown before, shown after) of every value that differs between two designs, compared exactly;
+    a change too small for the usual four figures is shown to as many as tell the two apart."""
+    exact = [dict(v) for v in aligned_values([exact_values(before), exact_values(after)], absent=None)]
+    changed = [k for k in exact[0] if exact[0][k] != exact[1][k]]
+    out = []
+    for digits in (4, 8, 12, 17):
+        shown = [dict(v) for v in aligned_values([design_values(before, digits=digits), design_values(after, digits=digits)])]
+        out = [(k, shown[0][k], shown[1][k]) for k in changed]
+        if all(a != b for _, a, b in out):
+            break
+    return out

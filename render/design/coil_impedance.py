@@ -450,6 +450,16 @@ def _check_limits(coil, spec: CoilSpec, source: str, name: str) -> None:
         raise InputError(f"{where(source, name, 'wire')}: the {key} derived from the wire and [{name}.geometry], {shown}: {rng}, as a typed {key} must be; check the wire, turns and sizes")
 
 
+def read_files(design) -> dict[Path, str]:
+    """The files a loaded design read besides its own (each measured coil's, as read) and the SHA-256 of the bytes read."""
+    out = {}
+    for name in ("coil_a", "coil_b"):
+        rec = getattr(getattr(design, name), "impedance_from", None)
+        if isinstance(rec, MeasuredImpedance):
+            out[Path(rec.path)] = rec.sha256
+    return out
+
+
 def measured_files(design) -> list[dict]:
     """``[{"coil", "file", "sha256"}]`` of the design's measured coils, for a render's record."""
     out = []

@@ -64,7 +64,8 @@ class _Version:
     entry: dict  # the page entry (compare.page.finish_entry) of this render
     wav: bytes  # the page's copy
     number: int
-    values: tuple[tuple[str, str], ...]
+    design: Any  # the Design rendered (rig applied)
+    measurements: dict  # its record's measurements (report.records.measurements), without the brightness figures
     rendered_s: float
 
 
@@ -87,6 +88,13 @@ def _sha(path: Path) -> str:
         return sha256_file(path)
     except OSError:
         return ""
+
+
+def _read_files(design) -> dict[Path, str]:
+    """The files ``design`` read besides its own, with the SHA-256 of what it read (none for no design)."""
+    from ..design.coil_impedance import read_files
+
+    return read_files(design) if design is not None else {}
 
 
 class WatchRun:
@@ -137,9 +145,13 @@ class WatchRun:
 
     @property
     def files(self) -> list[Path]:
-        """Every file whose saving re-renders something."""
-        out = [s.path for s in self.slots] + [self.dry_path]
-        return out + ([self.rig_path] if self.rig_path is not None else [])
+        """Every file whose saving re-renders something: the designs, the dry signal, the rig, and every file a design reads (a measured coil)."""
+        out = [s.path for s in self.slots] + [self.dry_path] + ([self.rig_path] if self.rig_path is not None else [])
+        return out + [p for p in self.read_files() if p not in out]
+
+    def read_files(self) -> list[Path]:
+        """The files the designs read besides their own (measured coils), each once."""
+        return list(dict.fromkeys(p for s in self.slots for p in _read_files(s.design)))
 
     @property
     def is_phrase(self) -> bool:
@@ -180,7 +192,8 @@ class WatchRun:
     # -- rendering -----------------------------------------------------------------
 
     def _render(self, design):
-        """(volts, PageClip) of ``design`` playing the dry signal."""
+        """(volts, PageClip, measurements) of ``design`` playing the dry signal; its cells are completed by :meth:`state`."""
+        from ..analysis.brightness import band_power_rows
         from ..chain.stream import default_oversample, design_resampler
         from ..compare.folders import clips_cells
         from ..compare.page import PageClip, design_values, response_curves
@@ -206,14 +219,15 @@ class WatchRun:
             warnings=tuple(clip.warnings),
             response=resp,
             passive=passive,
+            band_power_db=band_power_rows([design])[0],  # as render clips gives its page
         )
-        return clip.volts, page_clip
+        return clip.volts, page_clip, m
 
-    def _version(self, slot: _Slot, page_clip, assets, seconds: float) -> _Version:
+    def _version(self, slot: _Slot, design, m: dict, assets, seconds: float) -> _Version:
         from ..compare.page import finish_entry
 
         slot.versions += 1
-        return _Version(entry=finish_entry(assets, top_db=self._top_db), wav=assets.copy.wav, number=slot.versions, values=page_clip.values, rendered_s=seconds)
+        return _Version(entry=finish_entry(assets, top_db=self._top_db), wav=assets.copy.wav, number=slot.versions, design=design, measurements=m, rendered_s=seconds)
 
     def start(self) -> Refresh:
         """Load and render every design (a file that does not load is refused: InputError), then publish."""
@@ -235,20 +249,21 @@ class WatchRun:
         for slot in self.slots:
             slot.sha256 = self._input_sha[slot.path]
             slot.design = self._load_design(slot)
+            self._input_sha.update(_read_files(slot.design))  # the bytes the design read, not those on disk now
             t = time.perf_counter()
-            volts, page_clip = self._render(slot.design)
-            made.append((slot, volts, page_clip, time.perf_counter() - t))
+            volts, page_clip, m = self._render(slot.design)
+            made.append((slot, volts, page_clip, m, time.perf_counter() - t))
         self._notes.prune()
-        peaks = [float(abs(v).max()) if v.size else 0.0 for _, v, _, _ in made]
+        peaks = [float(abs(v).max()) if v.size else 0.0 for _, v, _, _, _ in made]
         self.volts_full_scale = choose_full_scale(peaks)
-        assets = [design_assets(pc) for _, _, pc, _ in made]
+        assets = [design_assets(pc) for _, _, pc, _, _ in made]
         self._top_db = strip_top_db([a.levels for a in assets])
-        for (slot, _, page_clip, seconds), a in zip(made, assets):
-            slot.now = self._version(slot, page_clip, a, seconds)
+        for (slot, _, _, m, seconds), a in zip(made, assets):
+            slot.now = self._version(slot, slot.design, m, a, seconds)
         self.publish()
         names = tuple(s.design.name for s in self.slots)
         took = time.perf_counter() - t0
-        warned = tuple(f"warning: {pc.name}: {w}" for _, _, pc, _ in made for w in pc.warnings)
+        warned = tuple(f"warning: {pc.name}: {w}" for _, _, pc, _, _ in made for w in pc.warnings)
         return Refresh(rendered=names, seconds=took, lines=(f"rendered {len(names)} design{'s' if len(names) != 1 else ''} in {took:.2f} s", *warned))
 
     def refresh(self, paths: Iterable[str | Path]) -> Refresh | None:
@@ -259,7 +274,7 @@ class WatchRun:
             return self._refresh(paths)
 
     def _refresh(self, paths: Iterable[str | Path]) -> Refresh | None:
-        from ..compare.page import design_assets
+        from ..compare.page import design_assets, value_changes
 
         t0 = time.perf_counter()
         watched = {p.resolve(): p for p in self.files}
@@ -286,7 +301,7 @@ class WatchRun:
                 everything = True
         rendered = []  # a rig or phrase that did not load: its last good version plays on, with every design
         for slot in self.slots:
-            if not (everything or slot.path in changed):
+            if not (everything or slot.path in changed or changed.intersection(_read_files(slot.design))):
                 continue
             try:
                 design = self._load_design(slot)
@@ -294,16 +309,16 @@ class WatchRun:
                     lines.append(f"{slot.path}: saved; no value changed, version {slot.now.number if slot.now else 0} plays on")
                     continue
                 t = time.perf_counter()
-                volts, page_clip = self._render(design)
+                volts, page_clip, m = self._render(design)
                 assets = design_assets(page_clip)
-                version = self._version(slot, page_clip, assets, time.perf_counter() - t)
+                version = self._version(slot, design, m, assets, time.perf_counter() - t)
             except InputError as exc:
                 slot.error = str(exc)
                 lines.append(f"Error: {exc}; keeping version {slot.now.number if slot.now else 0}")
                 continue
+            slot.changes = value_changes(slot.design, design) if slot.design is not None else []  # the exact values, not the four figures shown
             slot.design, slot.error = design, None
-            old = dict(slot.now.values) if slot.now else {}
-            slot.changes = [(k, old[k], v) for k, v in version.values if k in old and old[k] != v]
+            self._input_sha.update(_read_files(design))
             slot.before, slot.now = slot.now, version
             rendered.append(design.name)
             what = ", ".join(f"{k} {a} → {b}" for k, a, b in slot.changes[:4]) or ("the dry signal changed" if self.dry_path in changed else "no value changed")
@@ -324,34 +339,46 @@ class WatchRun:
     def state(self) -> tuple[dict, dict[str, bytes]]:
         """The page's state (JSON-ready, without its version) and the clips it names (name -> WAV bytes)."""
         from ..compare.assets import PAGE_SECONDS
-        from ..compare.folders import CLIPS_COLUMNS, CLIPS_NOTES
+        from ..compare.folders import CLIPS_COLUMNS, CLIPS_MATCHED_COLUMN, CLIPS_NOTES, clips_cells
+        from ..compare.page import aligned_values
+        from ..report.brightness import add_brightness
 
+        slots = [(i, s, s.now) for i, s in enumerate(self.slots) if s.now is not None]
+        # every version shown: the latest ones first (the first design's the reference, as render clips takes its first), then those before
+        shown_versions = [now for _, _, now in slots] + [s.before for _, s, _ in slots if s.before is not None]
+        records = [{"measurements": dict(v.measurements)} for v in shown_versions]
+        if records:
+            add_brightness(records, [v.design for v in shown_versions], reference=0)  # the figures render clips gives the same designs
+        cells = {id(v): clips_cells(r["measurements"]) for v, r in zip(shown_versions, records)}
+        values = {id(v): vals for v, vals in zip(shown_versions, aligned_values([v.entry["values"] for v in shown_versions]))}  # one key set
         designs, clips = [], {}
-        for i, slot in enumerate(self.slots):
-            if slot.now is None:
-                continue
+        for i, slot, now in slots:
 
             def shown(v: _Version, i=i) -> dict:
                 name = f"{i}-{v.number}.wav"
                 clips[name] = v.wav
-                return {**v.entry, "clip": f"/clip/{name}", "version": v.number, "rendered_s": round(v.rendered_s, 3)}
+                extra = {"cells": list(cells[id(v)]), "values": [list(x) for x in values[id(v)]]}
+                return {**v.entry, **extra, "clip": f"/clip/{name}", "version": v.number, "rendered_s": round(v.rendered_s, 3)}
 
-            entry = shown(slot.now)
+            entry = shown(now)
             entry["before"] = shown(slot.before) if slot.before is not None else None
             entry["error"] = slot.error
             entry["changes"] = [list(c) for c in slot.changes]
             designs.append(entry)
         st = self.settings
         rig = str(self.rig_path) if self.rig_path else "each design's own"
+        extra = self.read_files()
+        read = f", and the files the designs read ({', '.join(map(str, extra))})" if extra else ""
         n = len(self.slots)
         state = {
             "format": 1,
             "live": True,
             "title": f"render watch: {n} design{'s' if n != 1 else ''}",
-            "lede": f"Watching {', '.join(str(s.path) for s in self.slots)}, the dry signal {self.dry_path} and the rig ({rig}); save a file to hear its new version here. "
+            "lede": f"Watching {', '.join(str(s.path) for s in self.slots)}, the dry signal {self.dry_path} and the rig ({rig}){read}; save a file to hear its new version here. "
             f"{st.sample_rate} Hz; seed {st.seed}; hum {'on' if st.hum else 'off'}.",
             "columns": list(CLIPS_COLUMNS),
             "notes": list(CLIPS_NOTES),
+            "matched_column": CLIPS_MATCHED_COLUMN,
             "sample_rate": st.sample_rate,
             "volts_full_scale": self.volts_full_scale,
             "ceiling_dbtp": -1.0,
@@ -384,14 +411,24 @@ def follow_changes(run: WatchRun, *, notify: Callable[[str], None], stop=None, s
     """
     from watchfiles import watch
 
-    folders = sorted({str(p.resolve().parent) for p in run.files})
-    targets = {str(p.resolve()) for p in run.files}
+    def folders() -> list[str]:
+        return sorted({str(p.resolve().parent) for p in run.files})
 
     def wanted(change, path: str) -> bool:
-        return str(Path(path).resolve()) in targets
+        return str(Path(path).resolve()) in {str(p.resolve()) for p in run.files}  # the files of now: a design may read another since
 
-    for changes in watch(*folders, watch_filter=wanted, step=step_ms, debounce=debounce_ms, stop_event=stop, recursive=False, raise_interrupt=True, rust_timeout=1000):
-        result = run.refresh(path for _, path in changes)
-        if result is not None:
-            for line in result.lines:
-                notify(line)
+    while True:
+        watching = folders()
+        changes_seen = watch(*watching, watch_filter=wanted, step=step_ms, debounce=debounce_ms, stop_event=stop, recursive=False, raise_interrupt=True, rust_timeout=1000)
+        try:
+            for changes in changes_seen:
+                result = run.refresh(path for _, path in changes)
+                if result is not None:
+                    for line in result.lines:
+                        notify(line)
+                if folders() != watching:  # a design now reads a file in another folder: watch that folder too
+                    break
+            else:
+                return  # stopped
+        finally:
+            changes_seen.close()

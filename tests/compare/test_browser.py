@@ -310,6 +310,37 @@ def test_keys_pick_up_to_ten_designs_and_long_clips_are_cut(chromium, tmp_path, 
     assert errors == []
 
 
+def test_the_comparison_pickup_has_its_own_key_beside_ten_designs(chromium, tmp_path):
+    # project rule, no outside source (README: the comparison pickup has its own key, C): with ten designs, 1-9 and 0
+    # pick them and C the comparison pickup, the eleventh clip; its row and summary line show that key
+    from render.compare.page import PageClip, PageText, write_page
+
+    fs = 16000
+    t = np.arange(fs) / fs
+    tones = [200.0 * (k + 1) for k in range(11)]
+    clips = [
+        PageClip(key=f"tone-{k}", name=f"tone {f:g} Hz", volts=0.2 * np.sin(2 * np.pi * f * t), sample_rate=fs, loudness_lufs_1v_full_scale=-20.0, role="compare" if k == 10 else "design")
+        for k, f in enumerate(tones)
+    ]
+    write_page(tmp_path, PageText(title="ten tones and a comparison", columns=()), clips, volts_full_scale=0.5)
+    page, errors = open_page(chromium, (tmp_path / "index.html").as_uri())
+    assert page.inner_text('.row[data-index="10"] .key') == "c" and page.inner_text('.row[data-index="9"] .key') == "0"
+    assert page.eval_on_selector_all("#summary tbody tr", "rows => rows.map(r => r.children[0].textContent)") == [*"1234567890", "c"]
+    assert page.is_visible("#compare-key") and "C picks the comparison pickup" in page.inner_text(".hint")
+
+    def heard(actions):
+        y, rate = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}] + actions, 0.6)
+        seg = y[int(0.2 * rate) : int(0.6 * rate)]
+        spectrum = np.abs(np.fft.rfft(seg * np.hanning(seg.size)))
+        return np.fft.rfftfreq(seg.size, 1 / rate)[int(np.argmax(spectrum))]
+
+    assert abs(heard([{"at": 0.05, "key": "c"}]) - tones[10]) < 5
+    assert abs(heard([{"at": 0.05, "key": "0"}]) - tones[9]) < 5
+    page.keyboard.press("C")
+    assert page.get_attribute("body", "data-picked") == "10" and page.inner_text("#heard-key") == "c"
+    assert errors == []
+
+
 @pytest.mark.parametrize(("width", "height"), [(1280, 800), (390, 844)])
 def test_the_page_lays_out(chromium, clips_run, width, height):
     out, _, _ = clips_run
@@ -343,6 +374,35 @@ def test_the_page_opens_with_the_runs_reference(chromium, tmp_path):
         assert not errors
     finally:
         page.close()
+
+
+def test_values_only_the_reference_has_are_marked_either_way_round(chromium, tmp_path):
+    # project rule, no outside source: studio-reference has no [coil_a.winding], bench-wound does; heard against
+    # bench-wound, studio-reference's table shows the winding's values as "absent" beside bench-wound's, marked, and
+    # as many values differ as with the two the other way round (the count the library gives, on one key set)
+    from click.testing import CliRunner
+
+    from render.cli import main
+    from render.compare.page import aligned_values, design_values
+    from render.design import load_designs
+
+    files = [ROOT / "models" / f"{m}.toml" for m in ("studio-reference", "bench-wound")]
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", *map(str, files), "--seconds", "1", "--no-plots", "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    a, b = aligned_values([design_values(d) for d in load_designs(files)[0]])
+    want = sum(u != v for (_, u), (_, v) in zip(a, b))
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    page.select_option("#reference", "1")
+    page.keyboard.press("1")
+    rows = page.eval_on_selector_all("#values tbody tr", "rows => rows.map(r => [r.children[0].textContent, r.children[1].textContent, r.children[2].textContent, r.classList.contains('differs')])")
+    by_key = {r[0]: r[1:] for r in rows}
+    assert by_key["coil_a.winding.turns"] == ["absent", "1400", True] and "coil_a.winding" not in by_key
+    assert page.get_attribute("#values", "data-differ") == str(want) and want > 20
+    page.select_option("#reference", "0")
+    page.keyboard.press("2")
+    assert page.get_attribute("#values", "data-differ") == str(want)
+    assert errors == []
 
 
 def test_watch_swaps_a_saved_clip_and_shows_a_broken_file(chromium, tmp_path):

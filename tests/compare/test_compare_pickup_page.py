@@ -108,7 +108,7 @@ def test_in_the_browser_the_comparison_pickup_plays_beside_every_design(chromium
     assert "workshop-passive (comparison pickup, passive)" in _summary_column(page, 1)[3]
     assert page.locator("#responses path.compare-curve").count() == 1  # in the overlay while a design is heard
     volts = {k: sf.read(out / f"{k}.wav", dtype="float64")[0] * recs[k]["volts_full_scale"] for k in ("studio-reference", "workshop-passive")}
-    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}, {"at": 0.7, "key": "4"}], 1.5)
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}, {"at": 0.7, "key": "c"}], 1.5)  # C: the comparison pickup's own key
     lag0, g0 = locate(y, volts["studio-reference"], int(0.1 * fs), int(0.6 * fs), range(0, int(0.2 * fs)))
     lag1, g1 = locate(y, volts["workshop-passive"], int(0.8 * fs), int(1.45 * fs), range(lag0 - 5, lag0 + 6))
     assert lag1 == lag0  # the same playhead

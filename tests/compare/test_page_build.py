@@ -125,3 +125,36 @@ def test_the_page_files_ship_as_package_data(tmp_path):
     assert build.returncode == 0, build.stderr
     for name in STATIC_NAMES:
         assert (lib / "render" / "compare" / "static" / name).read_bytes() == (ROOT / "render" / "compare" / "static" / name).read_bytes()
+
+
+def test_values_of_two_designs_share_one_key_set():
+    # project rule, no outside source: the page compares a design's values with the reference's key by key, so a
+    # table one design lacks (studio-reference has no [coil_a.winding]; bench-wound gives one) must carry the other's
+    # keys, each "absent", and the count of differing values must not depend on which design is the reference
+    from render.compare.page import aligned_values, design_values
+    from render.design import load_designs
+
+    ref, wound = (design_values(d) for d in load_designs([REF, ROOT / "models" / "bench-wound.toml"])[0])
+    assert ("coil_a.winding", "absent") in ref and ("coil_a.winding.turns", "1400") in wound  # as each design alone gives them
+    a, b = aligned_values([ref, wound])
+    assert [k for k, _ in a] == [k for k, _ in b]
+    assert dict(a)["coil_a.winding.turns"] == "absent" and "coil_a.winding" not in dict(a)
+    assert [k for k, _ in b] == [k for k, _ in wound]  # the design with the table keeps its keys and their order
+    differ = {k for (k, u), (_, v) in zip(a, b) if u != v}
+    b2, a2 = aligned_values([wound, ref])
+    assert differ == {k for (k, u), (_, v) in zip(a2, b2) if u != v}
+    assert {f"coil_{c}.winding.{k}" for c in "ab" for k in ("turns", "wire_awg", "wire_length")} <= differ
+
+
+def test_a_change_is_told_from_the_exact_values():
+    # project rule, no outside source: 110 kΩ → 110.04 kΩ is a change even where four figures show both as 110 kΩ
+    from dataclasses import replace
+
+    from render.compare.page import design_values, value_changes
+    from render.design import load_designs
+
+    d = load_designs([REF])[0][0]
+    e = replace(d, feedback=replace(d.feedback, r=110.04e3))
+    assert dict(design_values(d))["feedback.r"] == dict(design_values(e))["feedback.r"] == "110 kΩ"
+    assert value_changes(d, e) == [("feedback.r", "110 kΩ", "110.04 kΩ")]
+    assert value_changes(d, d) == []

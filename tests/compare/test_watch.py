@@ -252,3 +252,70 @@ def test_a_stopped_watch_leaves_no_process(inputs, sig, way):
             _kill_group(proc.pid)
     assert not left, f"`render watch` still alive {GRACE_S} s after {sig.name} to the {way}"
     assert code == 0 and "Traceback" not in err, (code, err)
+
+
+def test_the_watch_page_carries_the_figures_render_clips_gives_the_same_designs(run, inputs, tmp_path):
+    # project rule, no outside source (README: watch serves the same page as render clips): every column of the
+    # summary, the brightness columns among them, and the band levels the page matches loudness from, equal those
+    # of a clips run of the same designs, phrase, rig and settings
+    from render.compare.folders import CLIPS_COLUMNS
+    from render.design import apply_rig, load_designs, load_rig
+    from render.runs.clips import run_clips
+
+    from .test_page_build import page_of
+
+    designs = [apply_rig(d, load_rig(inputs["rig"])) for d in load_designs([inputs["studio-reference"], inputs["ember-dark"]])[0]]
+    run_clips(designs, inputs["phrase"], SETTINGS, tmp_path / "clips", rig=load_rig(inputs["rig"]), plots=False)
+    clips_page, _ = page_of(tmp_path / "clips")
+    state = json.loads(run.board.state())
+    assert state["matched_column"] == clips_page["matched_column"] == len(CLIPS_COLUMNS) - 1
+    for got, want in zip(state["designs"], clips_page["designs"], strict=True):
+        assert got["cells"] == want["cells"], (got["name"], got["cells"], want["cells"])
+        assert got["matched_level_db"] == want["matched_level_db"] and None not in got["matched_level_db"]
+        assert got["values"] == want["values"]
+    assert "not computed" not in state["designs"][1]["cells"] and state["designs"][0]["cells"][-1] == "reference"
+
+
+def test_a_change_below_four_figures_is_named(run, inputs):
+    # project rule, no outside source: the values are compared exactly; the page and the terminal show them to
+    # four figures, or as many as tell the two apart
+    set_value(inputs["studio-reference"], "r", "110.04k")
+    done = run.refresh([inputs["studio-reference"]])
+    assert done.rendered == ("studio-reference",)
+    assert run.slots[0].changes == [("feedback.r", "110 kΩ", "110.04 kΩ")]
+    assert "feedback.r 110 kΩ → 110.04 kΩ" in done.lines[0] and "no value changed" not in done.lines[0]
+    state = json.loads(run.board.state())
+    assert state["designs"][0]["changes"] == [["feedback.r", "110 kΩ", "110.04 kΩ"]]
+
+
+def test_a_save_of_a_file_a_design_reads_renders_it_again(tmp_path):
+    # project rule, no outside source: a measured coil's CSV (measured = "coils/...csv", in a folder of its own) is
+    # watched as the design file is; saving it renders the design again, saving the same bytes does not
+    (tmp_path / "coils").mkdir()
+    csv = tmp_path / "coils" / "harbour-blade-coil.synthetic.csv"
+    csv.write_bytes((ROOT / "models" / "coils" / csv.name).read_bytes())
+    design = tmp_path / "measured-blade.toml"
+    design.write_text((ROOT / "models" / "measured-blade.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    phrase = tmp_path / "phrase.toml"
+    phrase.write_text((ROOT / "dry_signals" / "chug_riff.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    run = WatchRun([design], dry=phrase, settings=SETTINGS)
+    run.start()
+    assert csv in run.files
+    assert run.refresh([csv]) is None  # the bytes the design read
+    stop = threading.Event()
+    lines: list[str] = []
+    follower = threading.Thread(target=follow_changes, args=(run,), kwargs={"notify": lines.append, "stop": stop}, daemon=True)
+    follower.start()
+    text = csv.read_text(encoding="utf-8")
+    assert "\n20,4077.24,3.64979\n" in text
+    try:
+        deadline = time.monotonic() + 60  # repeated until the watcher, starting, sees it (as above)
+        while run.board.version < 2 and time.monotonic() < deadline:
+            csv.write_text(text.replace("\n20,4077.24,3.64979\n", "\n20,4177.24,3.64979\n"), encoding="utf-8")
+            _wait(lambda: run.board.version >= 2, 2.0)
+    finally:
+        stop.set()
+        follower.join(timeout=10)
+    assert versions(run) == [2], lines
+    changed = {k for k, _, _ in run.slots[0].changes}
+    assert {"coil_a.impedance_from.sha256", "coil_b.impedance_from.sha256"} <= changed

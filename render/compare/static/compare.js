@@ -154,6 +154,10 @@
   // ---- which clip is heard, and at what gain ----------------------------------
 
   const entries = () => S.data.designs;
+  const COMPARE_KEY = "c"; // picks the comparison pickup (--compare), whatever its place: 1-9 and 0 are the designs'
+  const compareIndex = () => entries().findIndex((d) => d.role === "compare");
+  // the key that picks entry i: a digit for the first ten designs, COMPARE_KEY for the comparison pickup
+  function keyOf(i) { return entries()[i].role === "compare" ? COMPARE_KEY : i < 10 ? String((i + 1) % 10) : ""; }
   function heardEntry() { const d = entries()[S.picked]; return S.useBefore && d.before ? d.before : d; }
   const heardId = () => heardEntry().clip;
   function voiceEntries() {
@@ -414,7 +418,7 @@
 
   function drawHeard() {
     const d = entries()[S.picked], h = heardEntry();
-    el("heard-key").textContent = S.picked < 10 ? String((S.picked + 1) % 10) : "";
+    el("heard-key").textContent = keyOf(S.picked);
     el("heard-name").textContent = d.name;
     const tag = el("heard-version");
     tag.hidden = !S.data.live || !d.version;
@@ -448,7 +452,11 @@
     for (const t of ["value", entries()[S.picked].name, ref.name + " (reference)"]) { const th = document.createElement("th"); th.textContent = t; head.appendChild(th); }
     const tb = table.createTBody();
     let differ = 0;
-    for (const [k, v] of h.values) {
+    // every key either design has (the run gives both one key set; a key only one has is "absent" in the other)
+    const heardValues = new Map(h.values);
+    const keys = h.values.map((kv) => kv[0]).concat(ref.values.map((kv) => kv[0]).filter((k) => !heardValues.has(k)));
+    for (const k of keys) {
+      const v = heardValues.has(k) ? heardValues.get(k) : "absent";
       const r = refValues.has(k) ? refValues.get(k) : "absent";
       const diff = r !== v;
       if (diff) differ++;
@@ -471,7 +479,7 @@
       row.dataset.state = S.buffers.has(d.clip) ? "ready" : "waiting";
       const pick = document.createElement("button");
       pick.type = "button"; pick.className = "pick";
-      const key = document.createElement("span"); key.className = "key"; key.textContent = i < 10 ? String((i + 1) % 10) : "";
+      const key = document.createElement("span"); key.className = "key"; key.textContent = keyOf(i);
       const words = document.createElement("span");
       const name = document.createElement("span"); name.className = "name"; name.textContent = d.name;
       const level = document.createElement("span"); level.className = "level";
@@ -529,7 +537,7 @@
       const tr = tb.insertRow();
       tr.dataset.index = String(i);
       if (d.role === "compare") tr.className = "compare";
-      for (const t of [i < 10 ? String((i + 1) % 10) : "", d.name].concat(d.cells, ["", ""])) tr.insertCell().textContent = t;
+      for (const t of [keyOf(i), d.name].concat(d.cells, ["", ""])) tr.insertCell().textContent = t;
       tr.addEventListener("click", () => pickDesign(i));
     });
   }
@@ -687,8 +695,9 @@
       if (ev.ctrlKey || ev.metaKey || ev.altKey || body.dataset.phase !== "ready") return;
       if (/^[0-9]$/.test(ev.key)) {
         const i = ev.key === "0" ? 9 : Number(ev.key) - 1;
-        if (i < entries().length) { pickDesign(i); handled = true; }
-      } else if (ev.key === " ") { togglePlay(); handled = true; }
+        if (i < entries().length && entries()[i].role !== "compare") { pickDesign(i); handled = true; }
+      } else if (ev.key.toLowerCase() === COMPARE_KEY && compareIndex() >= 0) { pickDesign(compareIndex()); handled = true; }
+      else if (ev.key === " ") { togglePlay(); handled = true; }
       else if ((ev.key === "b" || ev.key === "B") && S.data.live) { flipBefore(); handled = true; }
       if (handled) ev.preventDefault();
     });
@@ -829,6 +838,7 @@
     body.dataset.decoded = String(entries().filter((d) => S.buffers.has(d.clip)).length);
     body.dataset.version = String(data.version === undefined ? 0 : data.version);
     el("before-key").hidden = !data.live;
+    el("compare-key").hidden = compareIndex() < 0;
     if (!S.buffers.size) { fail("No clip could be decoded: " + problems.map((p) => p[0].name + ": " + p[1]).join("; ")); return; }
     el("caution").hidden = false;
     el("begin").disabled = false;
