@@ -9,7 +9,7 @@ text), more than two channels, a damaged header, NaN or infinite samples.
 from __future__ import annotations
 
 import re
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -170,11 +170,12 @@ def read_audio(path: str | Path, *, frames: int | None = None) -> np.ndarray:
     return data
 
 
-def iter_audio(path: str | Path, *, block: int, sample_rate: int | None = None) -> Iterator[np.ndarray]:
+def iter_audio(path: str | Path, *, block: int, sample_rate: int | None = None, raw: Callable[[np.ndarray], None] | None = None) -> Iterator[np.ndarray]:
     """Blocks of a checked file, float64, shape (k, channels), each checked for NaN and infinity.
 
     With ``sample_rate`` the blocks are resampled on the way (soxr's streaming
     resampler, very high quality), so the whole file is never in memory.
+    ``raw`` is called with each block as read, before it is resampled.
     """
     import soundfile as sf
 
@@ -191,6 +192,8 @@ def iter_audio(path: str | Path, *, block: int, sample_rate: int | None = None) 
             last = data.shape[0] < block
             check_finite(str(path), data, info.sample_rate, start=read)
             read += data.shape[0]
+            if raw is not None:
+                raw(data)
             if resampler is not None:
                 data = resampler.resample_chunk(data, last=last)
             yield data

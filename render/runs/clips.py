@@ -102,7 +102,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     from ..analysis.spectrum import WelchSpectrum
     from ..chain.stream import Renderer, make_plan
     from ..clip import PassiveStream, noise_warning
-    from ..dry.recorded import iter_recorded
+    from ..dry.recorded import RecordingChecks, iter_recorded
     from ..io.atomic import write_json
     from ..io.wav import FloatWavWriter
     from ..report.records import make_record
@@ -151,8 +151,11 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
             written[1] += py.size
             pwav.write(py / volts_full_scale)
 
+    from ..io.audio import audio_info
+
+    checks = RecordingChecks(str(dry_path), rate=audio_info(dry_path).sample_rate, velocity_scale=settings.velocity_scale, seconds=settings.seconds)
     try:
-        for v in iter_recorded(dry_path, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block):
+        for v in iter_recorded(dry_path, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block, checks=checks):
             r = renderer.process(v)
             emit(r["out"], r["amp_out"], passive.process(v) if passive else None)
         last = renderer.finish()
@@ -180,7 +183,18 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     lo, hi = renderer.linear_range
     s.update(played_headroom(linear_min_v=lo, linear_max_v=hi, bias_v=plan.bias_v, window=plan.window, limited_fraction=renderer.clipped_fraction).record())
     dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}
-    rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings + extra_warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
+    rec = make_record(
+        design,
+        fig,
+        s,
+        dry=dry,
+        samples=n,
+        warnings=(*checks.warnings(), *plan.warnings, *extra_warnings),
+        settings=settings,
+        volts_full_scale=volts_full_scale,
+        rig_record=rig_record,
+        dry_path=dry_path,
+    )
     write_json(out / f"{stem}.json", rec, overwrite=True)
     if plots:
         from ..report.clips import write_design_plots
