@@ -8,6 +8,7 @@ text), more than two channels, a damaged header, NaN or infinite samples.
 
 from __future__ import annotations
 
+import contextlib
 import re
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
@@ -87,6 +88,18 @@ def _reason(e: BaseException) -> str:
     return re.sub(r"^Error opening .*?: ", "", text)
 
 
+@contextlib.contextmanager
+def decoding(name: str) -> Iterator[None]:
+    """Around the reads of a file whose header :func:`audio_info` passed: libsndfile failing further in
+    (a damaged FLAC that loses sync, a seek that fails) becomes one InputError line naming the file and the fix."""
+    import soundfile as sf
+
+    try:
+        yield
+    except sf.LibsndfileError as e:
+        raise InputError(f"{name}: damaged: its header reads but its audio does not decode ({_reason(e)}); copy or export the file again from the original") from None
+
+
 def too_short(name: str, info: AudioInfo, min_seconds: float, needed_for: str) -> InputError | None:
     """The refusal of a file shorter than ``min_seconds`` ("too short: …; at least … s is needed to …"), or None."""
     if info.frames >= min_seconds * info.sample_rate:
@@ -161,7 +174,10 @@ def read_audio(path: str | Path, *, frames: int | None = None) -> np.ndarray:
     try:
         with sf.SoundFile(name) as f:
             rate = f.samplerate
-            data = f.read(-1 if frames is None else frames, dtype="float64", always_2d=True)
+            with decoding(name):
+                data = f.read(-1 if frames is None else frames, dtype="float64", always_2d=True)
+    except InputError:
+        raise
     except (sf.LibsndfileError, *_READ_ERRORS) as e:
         raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC") from None
     if data.shape[0] == 0:
@@ -186,9 +202,12 @@ def iter_audio(path: str | Path, *, block: int, sample_rate: int | None = None, 
 
         resampler = soxr.ResampleStream(info.sample_rate, sample_rate, info.channels, dtype="float64", quality="VHQ")
     read = 0
-    with sf.SoundFile(str(path)) as f:
+    with decoding(str(path)):
+        f = sf.SoundFile(str(path))
+    with f:
         while True:
-            data = f.read(block, dtype="float64", always_2d=True)
+            with decoding(str(path)):
+                data = f.read(block, dtype="float64", always_2d=True)
             last = data.shape[0] < block
             check_finite(str(path), data, info.sample_rate, start=read)
             read += data.shape[0]

@@ -100,7 +100,10 @@ def _open_di(path: Path):
 def _blocks(path: Path):
     import soundfile as sf
 
-    yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
+    from ..io.audio import decoding
+
+    with decoding(f"DI={path}"):
+        yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
 
 
 def _refuse_silent_passive(design, model_path) -> None:
