@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
-from ..io.audio import CLIP_LEVEL, CLIP_RUN, FlatRuns, audio_info, iter_audio, read_audio
+from ..io.audio import CLIP_RUN, AudioInfo, FlatRuns, audio_info, iter_audio, read_audio
 
 BLOCK = 65536  # frames per block when a recording is streamed
 # The longest recording read, as for a phrase; anything longer is refused
@@ -68,7 +68,7 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
     wanted = frames if seconds is None else min(frames, int(math.ceil(seconds * rate)) + rate // 10 + 64)  # 0.1 s more for the resampler
     data = read_audio(path, frames=wanted)
 
-    checks = RecordingChecks(name, rate=rate, velocity_scale=velocity_scale, seconds=seconds)
+    checks = RecordingChecks(name, info=info, velocity_scale=velocity_scale, seconds=seconds)
     checks.add(data)
     warnings = checks.warnings()
 
@@ -86,18 +86,18 @@ class RecordingChecks:
     ----------
     name : str
         The file, as the warnings name it.
-    rate : int, Hz
-        The file's own sample rate (the flat tops' times).
+    info : AudioInfo
+        The file's own (its rate times the flat tops; its encoding sets their level).
     velocity_scale : float, m/s per unit sample
     seconds : float or None, s
         Look only at this much of the file (what is played); None: all of it.
     """
 
-    def __init__(self, name: str, *, rate: int, velocity_scale: float, seconds: float | None = None) -> None:
-        self.name, self.rate, self.velocity_scale = name, int(rate), float(velocity_scale)
-        self._left = None if seconds is None else int(math.ceil(seconds * rate))
+    def __init__(self, name: str, *, info: AudioInfo, velocity_scale: float, seconds: float | None = None) -> None:
+        self.name, self.rate, self.velocity_scale = name, info.sample_rate, float(velocity_scale)
+        self._left = None if seconds is None else int(math.ceil(seconds * self.rate))
         self.peak = 0.0  # of the samples, before velocity_scale
-        self.flats = FlatRuns()
+        self.flats = FlatRuns(info.clip_level)
 
     def add(self, data: np.ndarray) -> None:
         """The next frames as read: shape (frames, channels)."""
@@ -118,7 +118,7 @@ class RecordingChecks:
             )
         if self.flats.runs:
             out.append(
-                f"{self.name}: {self.flats.runs} flat run(s) of {CLIP_RUN}+ equal samples at full scale (|x| >= {CLIP_LEVEL}), the first at {self.flats.first / self.rate:.3f} s; "
+                f"{self.name}: {self.flats.runs} flat run(s) of {CLIP_RUN}+ equal samples at full scale (|x| >= {self.flats.level:.4g}), the first at {self.flats.first / self.rate:.3f} s; "
                 "the recording probably clipped, so its peaks are flattened"
             )
         return out
@@ -143,7 +143,7 @@ def iter_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
     Mono feeds both coils; two channels feed coil_a and coil_b. Every block
     is checked for NaN or infinite samples (InputError naming the time).
     With ``seconds`` the stream is cut, or padded with silence, to that length.
-    ``checks`` (made with the file's own rate) is given every block as read, for the recording's own warnings.
+    ``checks`` (made with the file's own :class:`AudioInfo`) is given every block as read, for the recording's own warnings.
     """
     channels = audio_info(path).channels
     total_out = None if seconds is None else int(round(seconds * sample_rate))

@@ -171,7 +171,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
 
     from ..io.audio import audio_info
 
-    checks = RecordingChecks(str(dry_path), rate=audio_info(dry_path).sample_rate, velocity_scale=settings.velocity_scale, seconds=settings.seconds)
+    checks = RecordingChecks(str(dry_path), info=audio_info(dry_path), velocity_scale=settings.velocity_scale, seconds=settings.seconds)
     try:
         for v in iter_recorded(dry_path, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block, checks=checks):
             r = renderer.process(v)
