@@ -321,6 +321,8 @@ def render_clip(
     clipped = float(r.get("clipped_fraction", 0.0))
     stats = signal_stats(volts, r["amp_out"], clipped_fraction=clipped, sample_rate=fs, bias_v=design.bias_v)
     stats.update(render_headroom(design, r, strongest_pluck_m=dry_record.get("strongest_pluck_m")).record())
+    if passive_volts is not None:
+        stats["passive_peak_v"] = float(np.max(np.abs(passive_volts))) if passive_volts.size else 0.0
     return Clip(
         design=design,
         volts=volts,

@@ -46,7 +46,8 @@ def report_clips(run) -> None:
     n = len(run.records)
     plural = "s" if n != 1 else ""
     if run.streamed:
-        click.echo(f"{n} clip{plural} of {run.seconds:.0f} s rendered block by block to {out}/ (full scale {run.volts_full_scale:g} V, fixed from the output windows; summary in {out / 'summary.md'})")
+        how = "" if run.full_scale_given else ", fixed from the output windows"
+        click.echo(f"{n} clip{plural} of {run.seconds:.0f} s rendered block by block to {out}/ (full scale {run.volts_full_scale:g} V{how}; summary in {out / 'summary.md'})")
     else:
         click.echo(f"{n} clip{plural} written to {out}/ (full scale {run.volts_full_scale:g} V; summary in {out / 'summary.md'})")
     click.echo(CAUTION)

@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
-from ..io.audio import CLIP_LEVEL, CLIP_RUN, FlatRuns, audio_info, iter_audio, read_audio
+from ..io.audio import CLIP_RUN, AudioInfo, FlatRuns, audio_info, iter_audio, read_audio
 
 BLOCK = 65536  # frames per block when a recording is streamed
 # The longest recording read, as for a phrase; anything longer is refused
@@ -68,24 +68,60 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
     wanted = frames if seconds is None else min(frames, int(math.ceil(seconds * rate)) + rate // 10 + 64)  # 0.1 s more for the resampler
     data = read_audio(path, frames=wanted)
 
-    warnings = []
-    peak = float(np.max(np.abs(data))) * float(velocity_scale)
-    if peak > PLAUSIBLE_VELOCITY:
-        warnings.append(
-            f"{name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={velocity_scale:g}) is far beyond a plucked string's few m/s; check the velocity scale (--velocity-scale, velocity_scale= in Python) and the file's level"
-        )
-    flats = FlatRuns()
-    flats.add(data)
-    runs, first = flats.runs, flats.first
-    if runs:
-        warnings.append(
-            f"{name}: {runs} flat run(s) of {CLIP_RUN}+ equal samples at full scale (|x| >= {CLIP_LEVEL}), the first at {first / rate:.3f} s; "
-            "the recording probably clipped, so its peaks are flattened"
-        )
+    checks = RecordingChecks(name, info=info, velocity_scale=velocity_scale, seconds=seconds)
+    checks.add(data)
+    warnings = checks.warnings()
 
     if rate != sample_rate:
         data = soxr.resample(data, rate, int(sample_rate), quality="VHQ")
     return to_velocity(data, channels, velocity_scale), warnings
+
+
+class RecordingChecks:
+    """A recording's own warnings, from its samples as read (whole, or block by block before resampling):
+    a peak string velocity far beyond a plucked string's (:data:`PLAUSIBLE_VELOCITY`), and flat tops at
+    full scale (:class:`render.io.audio.FlatRuns`: the recording clipped).
+
+    Parameters
+    ----------
+    name : str
+        The file, as the warnings name it.
+    info : AudioInfo
+        The file's own (its rate times the flat tops; its encoding sets their level).
+    velocity_scale : float, m/s per unit sample
+    seconds : float or None, s
+        Look only at this much of the file (what is played); None: all of it.
+    """
+
+    def __init__(self, name: str, *, info: AudioInfo, velocity_scale: float, seconds: float | None = None) -> None:
+        self.name, self.rate, self.velocity_scale = name, info.sample_rate, float(velocity_scale)
+        self._left = None if seconds is None else int(math.ceil(seconds * self.rate))
+        self.peak = 0.0  # of the samples, before velocity_scale
+        self.flats = FlatRuns(info.clip_level)
+
+    def add(self, data: np.ndarray) -> None:
+        """The next frames as read: shape (frames, channels)."""
+        if self._left is not None:
+            data = data[: self._left]
+            self._left -= data.shape[0]
+        if data.size:
+            self.peak = max(self.peak, float(np.max(np.abs(data))))
+            self.flats.add(data)
+
+    def warnings(self) -> list[str]:
+        """One line each, for what has been added."""
+        out = []
+        peak = self.peak * self.velocity_scale
+        if peak > PLAUSIBLE_VELOCITY:
+            out.append(
+                f"{self.name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={self.velocity_scale:g}) is far beyond a plucked string's few m/s; check the velocity scale (--velocity-scale, velocity_scale= in Python) and the file's level"
+            )
+        if self.flats.runs:
+            out.append(
+                f"{self.name}: {self.flats.runs} flat run(s) of {CLIP_RUN}+ equal samples at full scale (|x| >= {self.flats.level:.4g}), the first at {self.flats.first / self.rate:.3f} s; "
+                "the recording probably clipped, so its peaks are flattened"
+            )
+        return out
 
 
 def to_velocity(data: np.ndarray, channels: int, velocity_scale: float) -> np.ndarray:
@@ -101,17 +137,18 @@ def recorded_seconds(path: str | Path) -> float:
     return audio_info(path).seconds
 
 
-def iter_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None, block: int = BLOCK) -> Iterator[np.ndarray]:
+def iter_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None, block: int = BLOCK, checks: RecordingChecks | None = None) -> Iterator[np.ndarray]:
     """Blocks of string velocity, m/s, shape (2, k), at ``sample_rate``, for a recording of any length.
 
     Mono feeds both coils; two channels feed coil_a and coil_b. Every block
     is checked for NaN or infinite samples (InputError naming the time).
     With ``seconds`` the stream is cut, or padded with silence, to that length.
+    ``checks`` (made with the file's own :class:`AudioInfo`) is given every block as read, for the recording's own warnings.
     """
     channels = audio_info(path).channels
     total_out = None if seconds is None else int(round(seconds * sample_rate))
     produced = 0
-    for data in iter_audio(path, block=block, sample_rate=sample_rate):
+    for data in iter_audio(path, block=block, sample_rate=sample_rate, raw=None if checks is None else checks.add):
         out = to_velocity(data, channels, velocity_scale)
         if total_out is not None:
             out = out[:, : max(0, total_out - produced)]

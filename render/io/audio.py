@@ -8,8 +8,9 @@ text), more than two channels, a damaged header, NaN or infinite samples.
 
 from __future__ import annotations
 
+import contextlib
 import re
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -23,6 +24,10 @@ MIN_FILE_RATE, MAX_FILE_RATE = 1000, 768000
 # equal ones in a row as a clipped (flat) top (common practice, no source).
 CLIP_LEVEL = 0.999
 CLIP_RUN = 4
+# The largest sample some encodings hold, as libsndfile reads them (a code over 2**15), below CLIP_LEVEL:
+# 8-bit PCM tops out at +127/128; G.711's largest decoded magnitudes are 8031/8192 (mu-law) and 4032/4096
+# (A-law) (from memory; tests check all four against libsndfile). At those tops a file is at full scale.
+_TOPS = {"PCM_S8": 127 / 128, "PCM_U8": 127 / 128, "ULAW": 32124 / 32768, "ALAW": 32256 / 32768}
 # Declared sizes that mean "unknown" in a WAV written while recording.
 _UNKNOWN_SIZES = (0, 0xFFFFFFFF)
 _READ_ERRORS: tuple[type[BaseException], ...] = (RuntimeError, TypeError, ValueError, OSError)
@@ -35,11 +40,19 @@ class AudioInfo:
     channels : int, 1 or 2
     sample_rate : int, Hz
     frames : int, > 0
+    top : float
+        The largest sample its encoding holds, as read: 1.0, or less for 8-bit PCM and G.711 (mu-law, A-law).
     """
 
     channels: int
     sample_rate: int
     frames: int
+    top: float = 1.0
+
+    @property
+    def clip_level(self) -> float:
+        """The magnitude from which a sample of this file is at full scale (:class:`FlatRuns`)."""
+        return min(CLIP_LEVEL, self.top)
 
     @property
     def seconds(self) -> float:
@@ -85,6 +98,18 @@ def _reason(e: BaseException) -> str:
     """libsndfile's own reason, without the file name it repeats."""
     text = str(e).strip().splitlines()[-1] if str(e).strip() else type(e).__name__
     return re.sub(r"^Error opening .*?: ", "", text)
+
+
+@contextlib.contextmanager
+def decoding(name: str) -> Iterator[None]:
+    """Around the reads of a file whose header :func:`audio_info` passed: libsndfile failing further in
+    (a damaged FLAC that loses sync, a seek that fails) becomes one InputError line naming the file and the fix."""
+    import soundfile as sf
+
+    try:
+        yield
+    except sf.LibsndfileError as e:
+        raise InputError(f"{name}: damaged: its header reads but its audio does not decode ({_reason(e)}); copy or export the file again from the original") from None
 
 
 def too_short(name: str, info: AudioInfo, min_seconds: float, needed_for: str) -> InputError | None:
@@ -140,7 +165,7 @@ def audio_info(path: str | Path, *, max_seconds: float | None = None, max_channe
         raise InputError(f"{name}: frames=0: the file holds no audio; record or export it again")
     if max_seconds is not None and frames > max_seconds * rate:
         raise InputError(f"{name}: {frames / rate:.1f} s long: at most {max_seconds:g} s of a recording is read at once; cut out the part you want to hear")
-    return AudioInfo(channels=channels, sample_rate=rate, frames=frames)
+    return AudioInfo(channels=channels, sample_rate=rate, frames=frames, top=_TOPS.get(str(info.subtype), 1.0))
 
 
 def check_finite(name: str, data: np.ndarray, rate: int, *, start: int = 0) -> None:
@@ -161,7 +186,10 @@ def read_audio(path: str | Path, *, frames: int | None = None) -> np.ndarray:
     try:
         with sf.SoundFile(name) as f:
             rate = f.samplerate
-            data = f.read(-1 if frames is None else frames, dtype="float64", always_2d=True)
+            with decoding(name):
+                data = f.read(-1 if frames is None else frames, dtype="float64", always_2d=True)
+    except InputError:
+        raise
     except (sf.LibsndfileError, *_READ_ERRORS) as e:
         raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC") from None
     if data.shape[0] == 0:
@@ -170,11 +198,12 @@ def read_audio(path: str | Path, *, frames: int | None = None) -> np.ndarray:
     return data
 
 
-def iter_audio(path: str | Path, *, block: int, sample_rate: int | None = None) -> Iterator[np.ndarray]:
+def iter_audio(path: str | Path, *, block: int, sample_rate: int | None = None, raw: Callable[[np.ndarray], None] | None = None) -> Iterator[np.ndarray]:
     """Blocks of a checked file, float64, shape (k, channels), each checked for NaN and infinity.
 
     With ``sample_rate`` the blocks are resampled on the way (soxr's streaming
     resampler, very high quality), so the whole file is never in memory.
+    ``raw`` is called with each block as read, before it is resampled.
     """
     import soundfile as sf
 
@@ -185,12 +214,17 @@ def iter_audio(path: str | Path, *, block: int, sample_rate: int | None = None) 
 
         resampler = soxr.ResampleStream(info.sample_rate, sample_rate, info.channels, dtype="float64", quality="VHQ")
     read = 0
-    with sf.SoundFile(str(path)) as f:
+    with decoding(str(path)):
+        f = sf.SoundFile(str(path))
+    with f:
         while True:
-            data = f.read(block, dtype="float64", always_2d=True)
+            with decoding(str(path)):
+                data = f.read(block, dtype="float64", always_2d=True)
             last = data.shape[0] < block
             check_finite(str(path), data, info.sample_rate, start=read)
             read += data.shape[0]
+            if raw is not None:
+                raw(data)
             if resampler is not None:
                 data = resampler.resample_chunk(data, last=last)
             yield data
@@ -202,8 +236,9 @@ class FlatRuns:
     """Flat tops at full scale (a clipped recording), counted across blocks.
 
     A flat top is :data:`CLIP_RUN` or more equal samples in a row with
-    ``|x| >= CLIP_LEVEL`` in one channel. A float file whose peaks pass 1.0
-    without flattening is not clipped and is not counted.
+    ``|x| >= level`` in one channel (:attr:`AudioInfo.clip_level`: :data:`CLIP_LEVEL`, or the top of an
+    encoding that holds less). A float file whose peaks pass 1.0 without flattening is not clipped and is
+    not counted.
 
     Attributes
     ----------
@@ -213,7 +248,8 @@ class FlatRuns:
         The first one's start frame (-1 if none).
     """
 
-    def __init__(self) -> None:
+    def __init__(self, level: float = CLIP_LEVEL) -> None:
+        self.level = float(level)
         self.runs, self.first, self._at = 0, -1, 0
         self._prev: np.ndarray | None = None  # last frame of the previous block, per channel
         self._carry: np.ndarray | None = None  # equal full-scale pairs running at its end, per channel
@@ -231,7 +267,7 @@ class FlatRuns:
         ext = np.vstack([self._prev[None, :], x])
         need = CLIP_RUN - 1  # equal pairs in a run of CLIP_RUN samples
         for c in range(x.shape[1]):
-            flat = (np.abs(ext[1:, c]) >= CLIP_LEVEL) & (ext[1:, c] == ext[:-1, c])  # frame i repeats frame i - 1
+            flat = (np.abs(ext[1:, c]) >= self.level) & (ext[1:, c] == ext[:-1, c])  # frame i repeats frame i - 1
             edges = np.diff(np.concatenate([[0], flat.astype(np.int8), [0]]))
             starts, stops = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
             for a, b in zip(starts, stops):

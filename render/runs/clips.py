@@ -43,9 +43,11 @@ class ClipsRun:
     warnings : tuple of str
         One line each, prefixed with the design's name.
     over_full_scale : tuple of str
-        Designs whose peak passes the full scale (float WAVs keep those samples).
+        The clips whose peak passes the full scale (float WAVs keep those samples), as :func:`over_full_scale` names them.
     compare : dict or None
         The comparison pickup's JSON record (as written to its ``S.json``), when there is one.
+    full_scale_given : bool
+        ``volts_full_scale`` was asked for, not chosen by the run.
     """
 
     folder: Path
@@ -56,6 +58,20 @@ class ClipsRun:
     warnings: tuple[str, ...] = ()
     over_full_scale: tuple[str, ...] = ()
     compare: dict | None = None
+    full_scale_given: bool = False
+
+
+def over_full_scale(records, volts_full_scale: float) -> tuple[str, ...]:
+    """The design WAVs of a run whose peak passes its full scale: each design's name for its ``S.wav``, and
+    "NAME (passive reference)" for its ``S-passive.wav`` (from the records' ``peak_v`` and ``passive_peak_v``)."""
+    over = []
+    for r in records:
+        m = r["measurements"]
+        if m["peak_v"] > volts_full_scale:
+            over.append(r["design"])
+        if m.get("passive_peak_v") is not None and m["passive_peak_v"] > volts_full_scale:
+            over.append(f"{r['design']} (passive reference)")
+    return tuple(over)
 
 
 def choose_full_scale(peaks, *, floor: float = 0.1) -> float:
@@ -102,7 +118,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     from ..analysis.spectrum import WelchSpectrum
     from ..chain.stream import Renderer, make_plan
     from ..clip import PassiveStream, noise_warning
-    from ..dry.recorded import iter_recorded
+    from ..dry.recorded import RecordingChecks, iter_recorded
     from ..io.atomic import write_json
     from ..io.wav import FloatWavWriter
     from ..report.records import make_record
@@ -124,7 +140,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     pwav = FloatWavWriter(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
     loud, spec = LoudnessMeter(sample_rate=fs), WelchSpectrum(sample_rate=fs)
     head: list[np.ndarray] = []  # the first minute, for the spectrogram
-    stats: dict[str, Any] = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf}
+    stats: dict[str, Any] = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf, "passive_peak": 0.0}
     written = [0, 0]
 
     def emit(y, amp, py):
@@ -149,10 +165,15 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
                 idx = np.arange(written[1], written[1] + py.size) % NOISE_PERIOD
                 py = py + pnoise[idx]
             written[1] += py.size
+            if py.size:
+                stats["passive_peak"] = max(stats["passive_peak"], float(np.abs(py).max()))
             pwav.write(py / volts_full_scale)
 
+    from ..io.audio import audio_info
+
+    checks = RecordingChecks(str(dry_path), info=audio_info(dry_path), velocity_scale=settings.velocity_scale, seconds=settings.seconds)
     try:
-        for v in iter_recorded(dry_path, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block):
+        for v in iter_recorded(dry_path, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block, checks=checks):
             r = renderer.process(v)
             emit(r["out"], r["amp_out"], passive.process(v) if passive else None)
         last = renderer.finish()
@@ -179,8 +200,21 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
 
     lo, hi = renderer.linear_range
     s.update(played_headroom(linear_min_v=lo, linear_max_v=hi, bias_v=plan.bias_v, window=plan.window, limited_fraction=renderer.clipped_fraction).record())
+    if passive is not None:
+        s["passive_peak_v"] = stats["passive_peak"]
     dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}
-    rec = make_record(design, fig, s, dry=dry, samples=n, warnings=plan.warnings + extra_warnings, settings=settings, volts_full_scale=volts_full_scale, rig_record=rig_record, dry_path=dry_path)
+    rec = make_record(
+        design,
+        fig,
+        s,
+        dry=dry,
+        samples=n,
+        warnings=(*checks.warnings(), *plan.warnings, *extra_warnings),
+        settings=settings,
+        volts_full_scale=volts_full_scale,
+        rig_record=rig_record,
+        dry_path=dry_path,
+    )
     write_json(out / f"{stem}.json", rec, overwrite=True)
     if plots:
         from ..report.clips import write_design_plots
@@ -465,8 +499,7 @@ def run_clips(
                 write_clips_page(
                     out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None, reference=ref
                 )
-                warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
-                return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=True, seconds=length, warnings=warnings, compare=crec)
+                return _finished(out, records, vfs, streamed=True, seconds=length, compare=crec, given=volts_full_scale is not None)
         # designs that sense the string at the same points share one synthesised dry signal; with
         # workers, a side process makes those, then draws the plots that need no render (every
         # S-response.png and responses.png), while this one imports the heavy modules the workers share
@@ -509,10 +542,24 @@ def run_clips(
         crec = _compare_files(compare, cvolts, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots) if compare is not None else None
         write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs, compare=crec)
         write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None, reference=ref)
-        over = tuple(c.design.name for c in clips if c.volts.size and abs(c.volts).max() > vfs)
         seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
-        warnings = tuple(f"{c.design.name}: {w}" for c in clips for w in c.warnings)
-        return ClipsRun(folder=out, records=tuple(records), volts_full_scale=vfs, streamed=False, seconds=seconds, warnings=warnings, over_full_scale=over, compare=crec)
+        return _finished(out, records, vfs, streamed=False, seconds=seconds, compare=crec, given=volts_full_scale is not None)
+
+
+def _finished(out: Path, records, vfs: float, *, streamed: bool, seconds: float, compare: dict | None, given: bool) -> ClipsRun:
+    """The run as returned: its records' warnings, each prefixed with the design's name, and the clips over the full scale."""
+    warnings = tuple(f"{r['design']}: {w}" for r in records for w in r["warnings"])
+    return ClipsRun(
+        folder=out,
+        records=tuple(records),
+        volts_full_scale=vfs,
+        streamed=streamed,
+        seconds=seconds,
+        warnings=warnings,
+        over_full_scale=over_full_scale(records, vfs),
+        compare=compare,
+        full_scale_given=given,
+    )
 
 
 def _reference(ref: int | None, compare, cvolts: np.ndarray | None, settings: RenderSettings):

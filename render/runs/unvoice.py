@@ -73,7 +73,7 @@ def _check_number(name: str, value, low: float, high: float, what: str, *, optio
 
 
 def _open_di(path: Path):
-    """(sample_rate, frames) of a mono audio file, or InputError."""
+    """(sample_rate, frames, the level of its full-scale samples) of a mono audio file, or InputError."""
     import soundfile as sf
 
     from ..io.audio import MAX_FILE_RATE, AudioInfo, audio_info, too_short
@@ -81,7 +81,7 @@ def _open_di(path: Path):
     name = str(path)
     try:
         # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header
-        audio_info(path)
+        checked = audio_info(path)
     except InputError as e:
         raise InputError(f"DI={e}") from None
     info = sf.info(name)
@@ -94,13 +94,16 @@ def _open_di(path: Path):
         raise InputError(f"DI={name}: sample_rate={info.samplerate}: must be from 8000 to {MAX_FILE_RATE} Hz; resample the recording")
     if WAV_HEADER + 4 * info.frames >= 2**32:
         raise InputError(f"DI={name}: frames={info.frames}: the velocity WAV would pass 4 GiB; split the recording")
-    return int(info.samplerate), int(info.frames)
+    return int(info.samplerate), int(info.frames), checked.clip_level
 
 
 def _blocks(path: Path):
     import soundfile as sf
 
-    yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
+    from ..io.audio import decoding
+
+    with decoding(f"DI={path}"):
+        yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
 
 
 def _refuse_silent_passive(design, model_path) -> None:
@@ -189,7 +192,7 @@ def unvoice(
         raise ArgumentError("out", f"{out}", f"folder {folder} does not exist; create it first")
     if di.exists() and out.exists() and out.resolve() == di.resolve():
         raise ArgumentError("out", f"{out}", "is the DI itself; choose another name")
-    sample_rate, frames = _open_di(di)
+    sample_rate, frames, clip_level = _open_di(di)
     model_path = design.source if isinstance(design, Design) else design
     (design,), rig = load_designs([design], rig=rig)
     _refuse_silent_passive(design, model_path)
@@ -199,7 +202,7 @@ def unvoice(
     stats_acc = U.SpectrumAccumulator(sample_rate=sample_rate)
     from ..io.audio import FlatRuns
 
-    flats = FlatRuns()
+    flats = FlatRuns(clip_level)
     peak, at = 0.0, 0
     for block in _blocks(di):
         bad = ~np.isfinite(block)

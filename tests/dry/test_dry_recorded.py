@@ -61,6 +61,24 @@ def test_clipping_is_warned_not_refused(tmp_path):
     assert v.shape == (2, x.size)
 
 
+@pytest.mark.parametrize("fmt, subtype", [("WAV", "PCM_U8"), ("AIFF", "PCM_S8"), ("WAV", "ULAW"), ("WAV", "ALAW"), ("WAV", "PCM_16")])
+def test_clipping_is_found_at_the_top_an_encoding_holds(tmp_path, fmt, subtype):
+    # an 8-bit file tops out at +127/128 and G.711 at 8031/8192 (mu-law) or 4032/4096 (A-law) of full scale,
+    # below CLIP_LEVEL: the largest code of the file's encoding counts as full scale. The top is what
+    # libsndfile (the reference reader) gives back for a written 1.0; 0.1 s of 1.5 × a 100 Hz sine clipped
+    # at ±1 has 20 half periods, each with one flat top (closed form)
+    from render.io.audio import audio_info
+
+    path = tmp_path / f"hot.{fmt.lower()}"
+    sf.write(path, np.array([1.0, -1.0]), FS, format=fmt, subtype=subtype)
+    top = float(sf.read(path)[0][0])
+    assert audio_info(path).top == (top if top < 0.999 else 1.0)
+    sf.write(path, np.clip(sine(100, 0.1, FS, 1.5), -1, 1), FS, format=fmt, subtype=subtype)
+    _, warnings = load_recorded(path, sample_rate=FS)
+    assert len(warnings) == 1 and "20 flat run(s) of 4+ equal samples at full scale" in warnings[0], warnings
+    assert f"(|x| >= {min(0.999, top):.4g})" in warnings[0]
+
+
 def test_loud_float_file_without_flat_tops_is_not_clipped(tmp_path):
     # A float file may pass 1.0 (1 m/s) without clipping; so may an unclipped full-scale sine.
     path = tmp_path / "loud.wav"

@@ -175,3 +175,70 @@ def test_a_long_recording_can_take_the_comparison_pickup_as_its_reference(tmp_pa
     p_c = compare_power_db(load_passive(passive))["4k_8k"]
     want = (p_d - p_c) - (design["loudness_lufs_1v_full_scale"] - compared["loudness_lufs_1v_full_scale"])
     assert design["matched_diff_4k_8k_db"] == pytest.approx(want, abs=1e-9)
+
+
+def _clipped_sine(path, seconds: float = 2.0, fs: int = 48000, subtype: str = "PCM_16") -> None:
+    """1.5 × a 5 Hz sine, hard-clipped at ±1: one flat top per half period."""
+    t = np.arange(int(seconds * fs)) / fs
+    sf.write(path, np.clip(1.5 * np.sin(2 * np.pi * 5 * t), -1, 1), fs, subtype=subtype)
+
+
+def test_a_streamed_recording_keeps_the_recordings_own_warnings(tmp_path, monkeypatch):
+    # project rule, no outside source (README: "A file with flat tops at full scale (clipping) is used, with a
+    # warning"): the streamed path gives the warnings the in-memory path gives, worded by the same code. A short
+    # file takes the streamed path here by lowering the switch.
+    import render.runs.clips as clips
+    from render.dry.recorded import load_recorded
+
+    fs = 48000
+    _clipped_sine(tmp_path / "clipped.wav")
+    monkeypatch.setattr(clips, "LONG_SECONDS", 1.0)
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(tmp_path / "clipped.wav"), "--velocity-scale", "500", "--out", str(out), "--no-plots"])
+    assert res.exit_code == 0, res.output
+    assert "block by block" in res.output
+    rec = json.loads((out / "studio-reference.json").read_text())
+    _, in_memory = load_recorded(tmp_path / "clipped.wav", sample_rate=fs, velocity_scale=500)
+    assert rec["warnings"][:2] == in_memory
+    # closed form: 2 s of a 5 Hz sine has 20 half periods, each with one flat top; the first starts where
+    # 1.5 sin(2π 5 t) reaches 0.999 (CLIP_LEVEL), t = asin(0.999 / 1.5) / (2π 5) = 0.0232 s; the peak is
+    # one full-scale sample × 500 m/s
+    first = np.arcsin(0.999 / 1.5) / (2 * np.pi * 5)
+    assert "peak string velocity 500 m/s" in in_memory[0] and "far beyond" in in_memory[0]
+    assert f"20 flat run(s) of 4+ equal samples at full scale (|x| >= 0.999), the first at {first:.3f} s" in in_memory[1]
+    for w in in_memory:
+        assert f"warning: studio-reference: {w}" in res.output
+
+
+@pytest.mark.parametrize("streamed", [False, True])
+def test_a_clip_over_the_full_scale_is_named_whichever_wav_it_is(tmp_path, monkeypatch, streamed):
+    # project rule, no outside source (README: the run's one full scale, "or --volts-full-scale"): one rule names
+    # every design WAV whose peak passes the full scale, S.wav and S-passive.wav, in memory and streamed (a short
+    # file takes the streamed path here by lowering the switch); the peaks are read back from the WAVs written
+    import render.runs.clips as clips
+
+    fs = 48000
+    t = np.arange(2 * fs) / fs
+    sf.write(tmp_path / "v.wav", 4.0 * np.sin(2 * np.pi * 196 * t) * np.exp(-(t % 1.0)), fs, subtype="FLOAT")
+    # the reference with a tenth of its gain: the amp input peaks below the passive reference's output
+    quiet = tmp_path / "quiet-gain.toml"
+    text = REF.read_text().replace('name = "studio-reference"', 'name = "quiet-gain"').replace('r = "110k"', 'r = "11k"')
+    quiet.write_text(text.replace('bias_top = "220k"', 'bias_top = "22k"').replace('bias_bottom = "220k"', 'bias_bottom = "22k"'))
+    if streamed:
+        monkeypatch.setattr(clips, "LONG_SECONDS", 1.0)
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", str(quiet), str(REF), "--passive", "--volts-full-scale", "0.2", "--dry", str(tmp_path / "v.wav"), "--out", str(out), "--no-plots", "--jobs", "1"])
+    assert res.exit_code == 0, res.output
+    assert ("block by block" in res.output) == streamed
+    assert "fixed from the output windows" not in res.output and "(full scale 0.2 V;" in res.output
+
+    def peak(name):
+        y, _ = sf.read(out / name)
+        return float(np.max(np.abs(y)))
+
+    over = {n: peak(f"{n}.wav") > 1 for n in ("quiet-gain", "studio-reference")}
+    over |= {f"{n} (passive reference)": peak(f"{n}-passive.wav") > 1 for n in ("quiet-gain", "studio-reference")}
+    assert over == {"quiet-gain": False, "studio-reference": True, "quiet-gain (passive reference)": True, "studio-reference (passive reference)": True}
+    rec = json.loads((out / "quiet-gain.json").read_text())["measurements"]
+    assert rec["passive_peak_v"] / 0.2 == pytest.approx(peak("quiet-gain-passive.wav"), rel=1e-6)  # float32 WAV
+    assert "warning: quiet-gain (passive reference), studio-reference, studio-reference (passive reference) peak above the 0.2 V full scale" in res.output, res.output

@@ -15,7 +15,7 @@ from render.errors import InputError
 from render.io.audio import AudioInfo, audio_info
 from render.io.wav import float_wav_bytes
 
-from .conftest import REF, assert_refused, check_outputs, run
+from .conftest import DARK, REF, assert_refused, check_outputs, run
 
 FS = 48000
 
@@ -76,6 +76,37 @@ def test_damaged_files_are_refused(tmp_path, name):
     out = tmp_path / "out"
     line = assert_refused(clips(path, out, "--seconds", 0.2), fragment)
     assert line.startswith(f"Error: {path}: ")
+    nothing_written(out)
+
+
+def damaged_flac(path, how: str, seconds: float = 1.0):
+    """A FLAC whose header reads but whose audio stops decoding: cut to half its bytes, or 2000 bytes zeroed in the middle."""
+    x = 0.3 * np.random.default_rng(0).standard_normal(int(seconds * FS))
+    sf.write(path, x, FS, format="FLAC", subtype="PCM_16")
+    b = bytearray(path.read_bytes())
+    m = len(b) // 2
+    b = b[:m] if how == "cut" else b[:m] + bytes(2000) + b[m + 2000 :]
+    path.write_bytes(bytes(b))
+    return path
+
+
+@pytest.mark.parametrize("how", ["cut", "zeroed"])
+@pytest.mark.parametrize("streamed", [False, True])
+def test_a_damaged_flac_is_refused_in_one_line(tmp_path, monkeypatch, how, streamed):
+    # project rule, no outside source (one-line errors): libsndfile's failure past the header, read whole or
+    # block by block (a short file takes the streamed path here by lowering the switch), and through the
+    # worker processes of a two-design run
+    import render.runs.clips as run_clips
+
+    path = damaged_flac(tmp_path / "take.flac", how)
+    assert sf.info(path).frames == FS  # the header still reads
+    if streamed:
+        monkeypatch.setattr(run_clips, "LONG_SECONDS", 0.5)
+    out = tmp_path / "out"
+    extra = ("--jobs", 2) if streamed else ()
+    res = run("clips", REF, DARK, "--dry", path, "--out", out, "--no-plots", *extra)
+    line = assert_refused(res, "damaged: its header reads but its audio does not decode (")
+    assert line.startswith(f"Error: {path}: ") and line.endswith("; copy or export the file again from the original")
     nothing_written(out)
 
 

@@ -139,6 +139,17 @@ def _text(folder):
     return p
 
 
+def _damaged(folder):
+    # a FLAC whose header reads but whose audio stops decoding: 2000 bytes zeroed in the middle
+    p = folder / "damaged.flac"
+    sf.write(p, 0.01 * np.random.default_rng(0).standard_normal(2 * SAMPLE_RATE), SAMPLE_RATE, format="FLAC", subtype="PCM_16")
+    b = p.read_bytes()
+    m = len(b) // 2
+    p.write_bytes(b[:m] + bytes(2000) + b[m + 2000 :])
+    return p
+
+
+# project rule, no outside source (one-line errors)
 @pytest.mark.parametrize(
     "make, extra, expect",
     [
@@ -148,6 +159,7 @@ def _text(folder):
         (_nan, (), "sample 1234"),
         (_silent, (), "every sample is 0"),
         (_text, (), "cannot be read as audio"),
+        (_damaged, (), "damaged.flac: damaged: its header reads but its audio does not decode ("),
         (None, ("--volts-full-scale", "0"), "--volts-full-scale=0.0"),
         (None, ("--volts-full-scale", "nan"), "--volts-full-scale=nan"),
         (None, ("--max-boost", "55"), "--max-boost=55.0"),
