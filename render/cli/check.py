@@ -11,6 +11,13 @@ from .options import emit_json, friendly, json_option, overwrite_option, rig_opt
 from .values import Finite, InFile
 
 
+def hz(x: float, digits: int = 3) -> str:
+    """A frequency in Hz below 1 kHz ("0.787 Hz", "7.23 Hz"), with its SI prefix above ("30.78 kHz"), never in exponent form."""
+    from ..units import format_si
+
+    return f"{x:.{digits}g} Hz" if abs(x) < 999.5 else format_si(x, "Hz", digits)
+
+
 def print_design(rec):
     from ..analysis.undefined import shown
     from ..units import format_si
@@ -22,9 +29,9 @@ def print_design(rec):
     click.echo(f"  bias point        {rec['bias_v']:.3f} V  (divider parallel {format_si(rec['bias_divider_parallel_ohm'], 'Ω')})")
     click.echo(f"  headroom          up {rec['headroom_up_v']:.3f} V, down {rec['headroom_down_v']:.3f} V  (output limits {lo:g}..{hi:g} V)")
     click.echo(
-        f"  corners           input_a {c['input_a_hz']:.3g} Hz, input_b {c['input_b_hz']:.3g} Hz, output {c['output_hz']:.3g} Hz"
-        + (f", feedback {c['feedback_hz']:.4g} Hz" if c["feedback_hz"] else "")
-        + (f", bias node {c['bias_node_hz']:.4g} Hz" if c["bias_node_hz"] else "")
+        f"  corners           input_a {hz(c['input_a_hz'])}, input_b {hz(c['input_b_hz'])}, output {hz(c['output_hz'])}"
+        + (f", feedback {hz(c['feedback_hz'], 4)}" if c["feedback_hz"] else "")
+        + (f", bias node {hz(c['bias_node_hz'], 4)}" if c["bias_node_hz"] else "")
     )
     pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else ""
     from ..analysis.peaks import describe_peaks

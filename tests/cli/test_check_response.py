@@ -186,3 +186,13 @@ def test_help_lists_commands():
     assert res.exit_code == 0
     for cmd in ("check", "response"):
         assert cmd in res.output
+
+
+def test_corners_read_with_an_si_prefix_not_an_exponent():
+    # the feedback corner 1/(2π·r·c) with r = 110 kΩ, c = 47 pF (closed form): 30.785 kHz
+    import math
+
+    res = run("check", REF)
+    assert res.exit_code == 0, res.output
+    expected = 1 / (2 * math.pi * 110e3 * 47e-12)
+    assert f"feedback {expected / 1e3:.4g} kHz" in res.output and "e+0" not in res.output
