@@ -103,7 +103,14 @@ CONSTRUCTION = {
     "string_spacing": Field(U.LENGTH, True, lo=3e-3, hi=0.03, lo_open=False, doc="centre to centre at the pickup"),
     "string_height": Field(_lengths(2e-4, 0.02, single=True), True, doc="gap from the coils' top faces to each string's underside at rest: one value or a list"),
     "wrap_share": Field(U.RATIO, default=WRAP_SHARE, lo=0.0, hi=1.0, lo_open=False, doc="share of a wound string's wrap counted as magnetic"),
-    "string_permeability": Field(U.RATIO, default=STRING_PERMEABILITY, lo=1.0, hi=1e5, lo_open=False, doc="relative permeability of the strings' steel"),
+    "string_permeability": Field(
+        U.RATIO,
+        default=STRING_PERMEABILITY,
+        lo=1.0,
+        hi=1e5,
+        lo_open=True,
+        doc="relative permeability of the strings' steel (above 1: a string of μr = 1 is not magnetised, and a magnetic pickup does not sense it)",
+    ),
 }
 
 

@@ -206,6 +206,12 @@ class Construction:
             w, length, h = self.magnet
             z_top = self.top - self.steel[2]
             lo, hi = (-w / 2, -length / 2, z_top - h), (w / 2, length / 2, z_top)
+            inner = min(abs(xa), abs(xb)) - self.steel[0] / 2  # the steel's edge nearest the middle, along x
+            if w / 2 <= inner + 1e-9:
+                raise InputError(
+                    f"[construction]: the bar magnet ({w * 1e3:.3g} mm along the string, from magnet_width) does not reach under the pole pieces,"
+                    f" whose nearest edges lie {inner * 1e3:.3g} mm each side of the middle; make magnet_width more than {2 * inner * 1e3:.3g} mm so its poles lie against the steel"
+                )
             for name, x0, geom in (("coil_a", xa, geometry_a), ("coil_b", xb, geometry_b)):
                 if _reaches_winding(lo, hi, x0, geom):
                     raise InputError(

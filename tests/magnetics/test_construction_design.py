@@ -194,6 +194,10 @@ def test_construction_slips_get_their_fix(tmp_path, line, fix):
         ('steel_height = "11mm"', 'steel_height = "5mm"', "the bar magnet's top (z = -5 mm, from top and steel_height) reaches into coil_a's winding"),
         # centres 7 mm apart, 13.4 mm wide bobbins: they would overlap (arithmetic)
         ('position = "56mm"', 'position = "45mm"', "put the coils' centres 7 mm apart, less than half their widths together (13.4 mm)"),
+        # a 10 mm bar centred between coils 18 mm apart ends 5 mm each side, short of the 2.5 mm blades' inner faces at 9 − 1.25 = 7.75 mm (arithmetic)
+        ('magnet_width = "20mm"', 'magnet_width = "10mm"', "the bar magnet (10 mm along the string, from magnet_width) does not reach under the pole pieces, whose nearest edges lie 7.75 mm"),
+        # a string of μr = 1 carries no magnetisation: every flux and sensitivity would be zero (0/0 in the harmonics)
+        ("\n[construction]\n", "\n[construction]\nstring_permeability = 1.0\n", "string_permeability=1.0 (1): expected a plausible value, above 1"),
     ],
 )
 def test_parts_that_would_overlap_are_refused(tmp_path, old, new, fragment):
