@@ -6,7 +6,7 @@ import click
 
 from ..io.folders import refuse_existing as check_new
 from .compare_print import compare_option
-from .options import emit_json, friendly, json_option, overwrite_option, rig_option
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option, warn
 from .values import Finite, InFile, OutFile
 
 
@@ -119,6 +119,8 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
     scales = [*design_one_scale(d, temperature=temperature, reference_velocity=reference_velocity), *([compared.scale] if compared else [])]
     for line in summary_lines(r, top):
         click.echo(line)
+    for w in r.warnings():
+        warn(w)
     echo(scale_lines(scales))
     if compared is not None:
         click.echo()

@@ -6,6 +6,7 @@ import json
 import math
 from pathlib import Path
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -135,3 +136,35 @@ def test_missing_and_bad_design(tmp_path):
     res = run(bad)
     assert res.exit_code == 1 and '"m" is milli; for mega write "22M"' in res.output
     assert "Traceback" not in res.output
+
+
+def test_a_reference_that_would_clip_is_warned(tmp_path):
+    # The reference sine's peak at the op-amp output against the distance from the bias to the soft limit's
+    # onset on the nearer side. The peak: √2·v·|V(out)| of ngspice's AC analysis at 1 kHz of the same circuit
+    # (EMFs sensitivity·1 V per m/s). The onset: studio-reference's window, 9 V − 1 V margin − 0.5 V knee,
+    # less its 4.5 V bias = 3.0 V (the design file's values; render.chain.limit's linear end).
+    from spice import active_netlist, run_ac
+
+    from render.analysis.noise import noise
+    from render.design import load_design
+
+    d = load_design(REF)
+    wa, wb = (c.signal_polarity * c.sensitivity for c in (d.coil_a, d.coil_b))
+    f, v = run_ac(active_netlist(d, wa=wa, wb=wb), ["out"], [900, 1100])["out"]
+    gain = float(np.interp(1000.0, f, np.abs(v)))  # V per m/s at the op-amp output
+    out = tmp_path / "n.json"
+    res = run(REF, "--reference-velocity", 10, "--json", out)
+    assert res.exit_code == 0, res.output
+    rec = json.loads(out.read_text())
+    ref = rec["reference_signal"]
+    assert ref["onset_v"] == pytest.approx(3.0, abs=1e-12)
+    assert ref["opamp_output_peak_v"] == pytest.approx(math.sqrt(2) * 10 * gain, rel=1e-4)
+    assert ref["clips"] is True and len(rec["warnings"]) == 1
+    assert "warning: the reference signal would clip" in res.output and "the SNRs are for the signal unclipped" in res.output
+    assert rec["snr_db"] == pytest.approx(20 * math.log10(ref["output_v_rms"] / rec["total_v"]))  # the figure is kept
+    # the threshold velocity 3.0 V / (√2·gain): just below it no warning, just above one
+    edge = 3.0 / (math.sqrt(2) * gain)
+    assert noise(d, reference_velocity=edge * 0.999).warnings() == []
+    assert noise(d, reference_velocity=edge * 1.001).reference_clips
+    default = run(REF, "--json", "-")
+    assert json.loads(default.stdout)["warnings"] == [] and "warning:" not in default.output
