@@ -13,7 +13,9 @@ from .values import Finite, InFile, OutFile
 def _uv(v: float) -> str:
     import math
 
-    return f"{v * 1e6:.3g} µV ({20 * math.log10(v):+.1f} dBV)"
+    from ..units import microvolts
+
+    return f"{microvolts(v, digits=3).strip()} ({20 * math.log10(v):+.1f} dBV)"
 
 
 def _snr(floor) -> str:
@@ -27,8 +29,9 @@ def _snr(floor) -> str:
 
 def _signal(floor) -> str:
     from ..analysis.undefined import SHORT
+    from ..units import format_si
 
-    return SHORT.get(str(floor.silent_reason), "none") if floor.silent_reason else f"{floor.signal_v * 1e3:.3g} mV rms"
+    return SHORT.get(str(floor.silent_reason), "none") if floor.silent_reason else f"{format_si(floor.signal_v, 'V')} rms"
 
 
 def _short(key: str) -> str:
@@ -42,7 +45,7 @@ def summary_lines(r, top: int) -> list[str]:
     a, p = r.active, r.passive
     w = 28
     rows = [
-        ("density at 1 kHz", f"{a.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz", f"{p.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz"),
+        ("density at 1 kHz", format_si(a.density_1k_v_per_rthz, "V/√Hz"), format_si(p.density_1k_v_per_rthz, "V/√Hz")),
         ("total, 20 Hz–20 kHz", _uv(a.total_v), _uv(p.total_v)),
         ("A-weighted", _uv(a.a_weighted_v), _uv(p.a_weighted_v)),
         ("reference signal", _signal(a), _signal(p)),

@@ -168,3 +168,44 @@ def test_a_reference_that_would_clip_is_warned(tmp_path):
     assert noise(d, reference_velocity=edge * 1.001).reference_clips
     default = run(REF, "--json", "-")
     assert json.loads(default.stdout)["warnings"] == [] and "warning:" not in default.output
+
+
+def _si(text: str) -> float:
+    """A printed figure with its SI prefix ("2.29 µV/√Hz", "7.45 V rms", "1.58 mV") in base units."""
+    import re
+
+    num, prefix = re.match(r"\s*([-0-9.]+) ?([pnµmk]?)", text).groups()
+    return float(num) * {"p": 1e-12, "n": 1e-9, "µ": 1e-6, "m": 1e-3, "k": 1e3, "": 1.0}[prefix]
+
+
+def test_large_figures_take_a_larger_prefix_not_an_exponent(tmp_path):
+    # A high-gain variant (feedback.r 2.2 MΩ, bias 4M4/4M4) at 1 m/s rms: its density at 1 kHz is some µV/√Hz
+    # and its reference some V rms; each is printed with the SI prefix that holds it (SI brochure, 9th ed.,
+    # table 7), to 3 figures of the JSON's value (project rule, no outside source)
+    text = REF.read_text().replace('r = "110k"', 'r = "2.2M"', 1).replace('bias_top = "220k"', 'bias_top = "4M4"').replace('bias_bottom = "220k"', 'bias_bottom = "4M4"')
+    path = tmp_path / "high-gain.toml"
+    path.write_text(text)
+    res = run(path, "--reference-velocity", 1, "--json", tmp_path / "n.json")
+    assert res.exit_code == 0, res.output
+    rec = json.loads((tmp_path / "n.json").read_text())
+    rows = {line[2:22].strip(): line[22:50] for line in res.output.splitlines() if line.startswith("  ") and not line.startswith("   ")}
+    assert "e+" not in res.output.split("largest contributors")[0]
+    assert rows["density at 1 kHz"].strip().endswith("µV/√Hz")
+    assert _si(rows["density at 1 kHz"]) == pytest.approx(rec["density_1k_v_per_rthz"], rel=5e-3)
+    assert rows["reference signal"].strip().endswith(" V rms")
+    assert _si(rows["reference signal"]) == pytest.approx(rec["reference_signal"]["output_v_rms"], rel=5e-3)
+    assert _si(rows["total, 20 Hz–20 kHz"]) == pytest.approx(rec["total_v"], rel=5e-3)
+
+
+def test_millivolts_of_hum_read_in_millivolts(tmp_path):
+    # odd-pair in a 50 µT room: about 1.6 mV of hum at the amp input, printed "1.… mV", not "1.58e+03 µV"
+    # (SI brochure, 9th ed., table 7; project rule, no outside source), to 3 figures of the JSON's value
+    rig = tmp_path / "room.toml"
+    rig.write_text('[hum]\nfield = "50uT"\n')
+    res = run(ROOT / "models" / "odd-pair.toml", "--rig", rig, "--json", tmp_path / "n.json")
+    assert res.exit_code == 0, res.output
+    hum = next(line for line in res.output.splitlines() if line.split()[:1] == ["hum"] and line.split()[1][0].isdigit())
+    assert "e+" not in hum and hum.split()[2] == "mV"
+    scale = json.loads((tmp_path / "n.json").read_text())["hum_and_noise"][0]
+    assert scale["circuit"] == "active"
+    assert _si(" ".join(hum.split()[1:3])) == pytest.approx(scale["hum_v_rms"], rel=5e-3)
