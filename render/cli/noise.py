@@ -34,10 +34,6 @@ def _signal(floor) -> str:
     return SHORT.get(str(floor.silent_reason), "none") if floor.silent_reason else f"{format_si(floor.signal_v, 'V')} rms"
 
 
-def _short(key: str) -> str:
-    return key.removeprefix("passive_")
-
-
 def summary_lines(r, top: int) -> list[str]:
     """The printed table for one :class:`~render.analysis.noise.NoiseReport`."""
     from ..units import format_si
@@ -63,7 +59,7 @@ def summary_lines(r, top: int) -> list[str]:
     ca, cp = a.contributors[:top], p.contributors[:top]
     for i in range(max(len(ca), len(cp))):
         x = f"{ca[i].key} {100 * ca[i].share:.1f} %" if i < len(ca) else ""
-        y = f"{_short(cp[i].key)} {100 * cp[i].share:.1f} %" if i < len(cp) else ""
+        y = f"{cp[i].key} {100 * cp[i].share:.1f} %" if i < len(cp) else ""
         out.append(f"  {i + 1:>4d}{'':16s}{x:{w}s}{y}")
     return out
 

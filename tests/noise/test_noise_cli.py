@@ -209,3 +209,16 @@ def test_millivolts_of_hum_read_in_millivolts(tmp_path):
     scale = json.loads((tmp_path / "n.json").read_text())["hum_and_noise"][0]
     assert scale["circuit"] == "active"
     assert _si(" ".join(hum.split()[1:3])) == pytest.approx(scale["hum_v_rms"], rel=5e-3)
+
+
+def test_passive_contributors_have_one_name_in_print_and_json(tmp_path):
+    # project rule, no outside source: a contributor is named the same on the page and in --json; the passive
+    # reference's own controls are "rig.…" under "passive", as the active rig's are under the top level
+    out = tmp_path / "n.json"
+    res = run(REF, "--json", out, "--top", 8)
+    assert res.exit_code == 0, res.output
+    rec = json.loads(out.read_text())
+    lines = res.output.split("largest contributors")[1].split("hum and noise")[0].splitlines()[1:]
+    printed = [line[50:].rsplit(" ", 2)[0] for line in lines if line[50:].strip()]
+    assert printed == [c["source"] for c in rec["passive"]["contributors"][:8]]
+    assert "rig.volume_lower" in printed and not any(c["source"].startswith("passive_") for c in rec["passive"]["contributors"])
