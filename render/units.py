@@ -283,13 +283,15 @@ def _positional(v: float, digits: int) -> str:
 
 
 def microvolts(v: float, width: int = 0, decimals: int | None = None, *, digits: int = 4) -> str:
-    """A voltage (V) right-aligned in ``width`` + 3 characters: in µV where that shows it (up to
-    100 mV, and down to one unit of the last of ``decimals`` places, or 1 nV with ``digits``
-    significant figures when ``decimals`` is None), otherwise with the prefix that does, to
-    ``digits`` figures (``"260.3 mV"``, ``"4.2 pV"``)."""
+    """A voltage (V) right-aligned in ``width`` + 3 characters: in µV where that shows it (with
+    ``decimals`` places up to 100 mV and down to one unit of the last place; with ``digits``
+    significant figures when ``decimals`` is None, from 1 nV up to where µV would need an exponent,
+    10^digits µV), otherwise with the prefix that does, to ``digits`` figures (``"260.3 mV"``,
+    ``"1.58 mV"``, ``"4.2 pV"``)."""
     lowest = 1e-9 if decimals is None else 10.0 ** (-6 - decimals)
+    highest = 0.1 if decimals is not None else min(0.1, 10.0 ** (digits - 6) * (1 - 0.5 * 10.0**-digits))  # 999.5 µV rounds to "1e+03" at 3 figures
     spec = f".{digits}g" if decimals is None else f".{decimals}f"
-    text = f"{v * 1e6:{spec}} µV" if v == 0 or lowest <= abs(v) < 0.1 else format_si(v, "V", digits)
+    text = f"{v * 1e6:{spec}} µV" if v == 0 or lowest <= abs(v) < highest else format_si(v, "V", digits)
     return f"{text:>{width + 3}s}"
 
 

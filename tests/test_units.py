@@ -272,3 +272,28 @@ def test_rkm_codes_to_six_figures_read_back(value, letter, code):
     written = format_rkm(value, letter, digits=6)
     assert written == code
     assert parse_quantity(written, kind) == pytest.approx(value, rel=5e-6)  # half a unit in the sixth figure
+
+
+@pytest.mark.parametrize(
+    ("v", "digits", "text"),
+    [
+        (1.58e-3, 3, "1.58 mV"),  # was "1.58e+03 µV"
+        (0.05, 4, "50 mV"),  # was "5e+04 µV"
+        (999.4e-6, 3, "999 µV"),
+        (999.6e-6, 3, "1 mV"),  # rounds up to the next prefix, not to "1e+03 µV"
+        (5.08e-7, 3, "0.508 µV"),  # µV kept down to 1 nV
+        (4.2e-12, 2, "4.2 pV"),
+        (7.45, 3, "7.45 V"),
+    ],
+)
+def test_microvolts_takes_the_next_prefix_before_an_exponent(v, digits, text):
+    # SI prefixes (the SI brochure, 9th ed., table 7): a figure is read with a prefix, never as 1.58e+03 µV;
+    # where µV holds (1 nV up to 10^digits µV) it is kept (project rule, no outside source)
+    assert U.microvolts(v, digits=digits).strip() == text
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.floats(1e-13, 1e3), st.integers(3, 5))
+def test_microvolts_never_writes_an_exponent(v, digits):
+    # project rule, no outside source: any voltage from 0.1 pV to 1 kV reads without "e+"/"e-" at 3 to 5 figures (the figures used)
+    assert "e" not in U.microvolts(v, digits=digits).lower().replace("µv", "").replace(" v", "")

@@ -241,6 +241,11 @@ class NoiseReport:
         The design's floor.
     passive : NoiseFloor
         Its passive reference's floor.
+    opamp_peak_v : float, V
+        The reference sine's peak at the op-amp output (0 when the coils cancel it).
+    onset_v : float, V
+        From the op-amp output's bias to the soft limit's onset, the nearer side; above it
+        ``reference_clips`` is True and ``warnings()`` says the SNRs are for the signal unclipped.
     """
 
     design: str
@@ -251,6 +256,23 @@ class NoiseReport:
     noise_current: float  # A/√Hz
     active: NoiseFloor
     passive: NoiseFloor
+    opamp_peak_v: float = 0.0  # V: the reference sine's peak at the op-amp output
+    onset_v: float = math.inf  # V: from the bias to the soft limit's onset, the nearer side
+
+    @property
+    def reference_clips(self) -> bool:
+        """The reference sine's peak at the op-amp output passes the soft limit's onset: the SNRs are for a signal the design would not pass unclipped."""
+        return self.opamp_peak_v > self.onset_v
+
+    def warnings(self) -> list[str]:
+        """One line per reason to doubt the SNR (a reference signal that would clip)."""
+        if not self.reference_clips:
+            return []
+        return [
+            f"the reference signal would clip: {self.reference_velocity:g} m/s rms swings the op-amp output {self.opamp_peak_v:.3g} V peak from its bias,"
+            f" past the limit's onset {self.onset_v:.3g} V away; the SNRs are for the signal unclipped (lower --reference-velocity to below"
+            f" {self.reference_velocity * self.onset_v / self.opamp_peak_v:.3g} m/s rms)"
+        ]
 
     def reference_signal(self) -> dict:
         return {
@@ -260,6 +282,9 @@ class NoiseReport:
             "at": "both sensing points",
             "output_v_rms": self.active.signal_v,
             "passive_output_v_rms": self.passive.signal_v,
+            "opamp_output_peak_v": self.opamp_peak_v,
+            "onset_v": self.onset_v,
+            "clips": self.reference_clips,
         }
 
 
@@ -317,6 +342,7 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
     silent, passive_silent = signal_cancels(resp, [REFERENCE_HZ])
     sig = np.where(silent, 0.0, np.abs(resp.velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
     sig_p = np.where(passive_silent, 0.0, np.abs(resp.passive_velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
+    peak = np.where(silent, 0.0, np.abs(resp.velocity_to_amp_output()([REFERENCE_HZ])[:, 0]) * reference_velocity * math.sqrt(2.0))
     f_int = integration_grid()
     f_out = output_grid() if frequency_hz is None else np.asarray(frequency_hz, float)
     out = []
@@ -333,9 +359,19 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
                 noise_current=d.supply.noise_current,
                 active=_floor(act, f_int, f_out, sig[i], U.NO_SIGNAL if silent[i] else None),
                 passive=_floor(pas, f_int, f_out, sig_p[i], U.PASSIVE_NO_SIGNAL if passive_silent[i] else None),
+                opamp_peak_v=float(peak[i]),
+                onset_v=onset_distance(d),
             )
         )
     return out
+
+
+def onset_distance(design) -> float:
+    """V: from the op-amp output's bias to the soft limit's onset on the nearer side (:func:`render.chain.limit.design_window`'s linear ends)."""
+    from ..chain.limit import design_window
+
+    w = design_window(design)
+    return float(min(w.linear_high - design.bias_v, design.bias_v - w.linear_low))
 
 
 def _row(s, i):
@@ -412,6 +448,7 @@ def noise_record(r: NoiseReport, design, rig_file) -> dict:
         "a_weighted_v": act.pop("a_weighted_v"),
         **{k: act.pop(k) for k in ("snr_db", "snr_db_reason", "snr_a_db", "snr_a_db_reason") if k in act},
         "reference_signal": r.reference_signal(),
+        "warnings": r.warnings(),
         "opamp": {"noise_voltage_v_per_rthz": r.noise_voltage, "noise_current_a_per_rthz": r.noise_current},
         **act,
         "passive": pas,

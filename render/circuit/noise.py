@@ -261,7 +261,7 @@ def noise_model(
     passive = _coil_sources("coil_a", p.coil_a, resp.passive_from_a, four_kt, w)
     passive += _coil_sources("coil_b", p.coil_b, resp.passive_from_b, four_kt, w)
     zs = resp.z_out_passive
-    passive += _rig_sources(series(zs.num, zs.den), p.passive_rig, four_kt, w, "passive_rig")
+    passive += _rig_sources(series(zs.num, zs.den), p.passive_rig, four_kt, w, "rig")  # its own controls, keyed as the active rig's: the list says whose
     return NoiseModel(tuple(active), tuple(passive), temp)
 
 

@@ -46,7 +46,7 @@ def _eng(x: float, unit: str) -> str:
 
 
 def print_record(rec: dict) -> None:
-    from ..runs.coil import SHOWN_HZ, at
+    from ..runs.coil import SHOWN_HZ, at, lumped_loss_words
 
     click.echo(f"{rec['design']}  ({rec['file']})")
     for name, c in rec["coils"].items():
@@ -66,11 +66,7 @@ def print_record(rec: dict) -> None:
         lad = c["ladder"]
         from .coil_fit import ladder_words
 
-        loss = (
-            f"ladder {ladder_words(lad['series_inductance_h'], len(lad['inductances_h']), _eng)}"
-            if lad
-            else (f"core loss {_eng(c['eddy_resistance_ohm'], 'Ω')} in parallel" if c["eddy_resistance_ohm"] else "no core loss")
-        )
+        loss = f"ladder {ladder_words(lad['series_inductance_h'], len(lad['inductances_h']), _eng)}" if lad else lumped_loss_words(c)
         srf = c["self_resonance_hz"]
         unsure = " (not determined by the sweep)" if (src or {}).get("capacitance_doubt") else ""
         click.echo(

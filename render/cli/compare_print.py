@@ -138,7 +138,7 @@ def noise_lines(c) -> list[str]:
         f"  density at 1 kHz  {n.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz",
         f"  total             {_uv(n.total_v)} unweighted, {_uv(n.a_weighted_v)} A-weighted, 20 Hz–20 kHz",
         f"  reference signal  {n.signal_v * 1e3:.3g} mV rms" if not n.silent_reason else f"  reference signal  {n.silent_reason}",
-        "  largest contributors: " + ", ".join(f"{x.key.removeprefix('passive_')} {100 * x.share:.1f} %" for x in n.contributors[:3]),
+        "  largest contributors: " + ", ".join(f"{x.key} {100 * x.share:.1f} %" for x in n.contributors[:3]),
     ]
 
 

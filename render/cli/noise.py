@@ -6,14 +6,16 @@ import click
 
 from ..io.folders import refuse_existing as check_new
 from .compare_print import compare_option
-from .options import emit_json, friendly, json_option, overwrite_option, rig_option
+from .options import emit_json, friendly, json_option, overwrite_option, rig_option, warn
 from .values import Finite, InFile, OutFile
 
 
 def _uv(v: float) -> str:
     import math
 
-    return f"{v * 1e6:.3g} µV ({20 * math.log10(v):+.1f} dBV)"
+    from ..units import microvolts
+
+    return f"{microvolts(v, digits=3).strip()} ({20 * math.log10(v):+.1f} dBV)"
 
 
 def _snr(floor) -> str:
@@ -27,12 +29,9 @@ def _snr(floor) -> str:
 
 def _signal(floor) -> str:
     from ..analysis.undefined import SHORT
+    from ..units import format_si
 
-    return SHORT.get(str(floor.silent_reason), "none") if floor.silent_reason else f"{floor.signal_v * 1e3:.3g} mV rms"
-
-
-def _short(key: str) -> str:
-    return key.removeprefix("passive_")
+    return SHORT.get(str(floor.silent_reason), "none") if floor.silent_reason else f"{format_si(floor.signal_v, 'V')} rms"
 
 
 def summary_lines(r, top: int) -> list[str]:
@@ -42,7 +41,7 @@ def summary_lines(r, top: int) -> list[str]:
     a, p = r.active, r.passive
     w = 28
     rows = [
-        ("density at 1 kHz", f"{a.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz", f"{p.density_1k_v_per_rthz * 1e9:.3g} nV/√Hz"),
+        ("density at 1 kHz", format_si(a.density_1k_v_per_rthz, "V/√Hz"), format_si(p.density_1k_v_per_rthz, "V/√Hz")),
         ("total, 20 Hz–20 kHz", _uv(a.total_v), _uv(p.total_v)),
         ("A-weighted", _uv(a.a_weighted_v), _uv(p.a_weighted_v)),
         ("reference signal", _signal(a), _signal(p)),
@@ -60,7 +59,7 @@ def summary_lines(r, top: int) -> list[str]:
     ca, cp = a.contributors[:top], p.contributors[:top]
     for i in range(max(len(ca), len(cp))):
         x = f"{ca[i].key} {100 * ca[i].share:.1f} %" if i < len(ca) else ""
-        y = f"{_short(cp[i].key)} {100 * cp[i].share:.1f} %" if i < len(cp) else ""
+        y = f"{cp[i].key} {100 * cp[i].share:.1f} %" if i < len(cp) else ""
         out.append(f"  {i + 1:>4d}{'':16s}{x:{w}s}{y}")
     return out
 
@@ -119,6 +118,8 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
     scales = [*design_one_scale(d, temperature=temperature, reference_velocity=reference_velocity), *([compared.scale] if compared else [])]
     for line in summary_lines(r, top):
         click.echo(line)
+    for w in r.warnings():
+        warn(w)
     echo(scale_lines(scales))
     if compared is not None:
         click.echo()

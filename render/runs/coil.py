@@ -67,6 +67,29 @@ def coil_source(coil) -> str:
     return "winding" if coil.winding is not None else "typed"
 
 
+def core_loss_models(coil) -> list[str]:
+    """The coil's core-loss models, by name: "ladder" (its R∥L sections), "parallel_resistance", "shorted_secondary"; [] for none.
+
+    A ladder (typed, derived from a construction, or fitted to a measurement)
+    replaces the lumped models (:mod:`render.circuit.coil`); a ladder with no
+    R∥L section (an air core) has no loss. Otherwise the two lumped models may
+    be combined.
+    """
+    if coil.ladder is not None:
+        return ["ladder"] if coil.ladder.inductances else []
+    return [name for name, given in (("parallel_resistance", coil.eddy_resistance), ("shorted_secondary", coil.eddy_coupling)) if given]
+
+
+def lumped_loss_words(rec_coil: dict) -> str:
+    """A coil record's lumped core loss in words: "core loss: 220 kΩ in parallel; shorted secondary, k² 0.3, corner 3 kHz", or "no core loss"."""
+    parts = []
+    if rec_coil["eddy_resistance_ohm"]:
+        parts.append(f"{U.format_si(rec_coil['eddy_resistance_ohm'], 'Ω', 4)} in parallel")
+    if rec_coil["eddy_coupling_k2"]:
+        parts.append(f"shorted secondary, k² {rec_coil['eddy_coupling_k2']:.4g}, corner {U.format_si(rec_coil['eddy_corner_hz'], 'Hz', 4)}")
+    return f"core loss: {'; '.join(parts)}" if parts else "no core loss"
+
+
 def coil_record(design, *, points: int = POINTS) -> dict:
     """Each coil's impedance over 20 Hz–20 kHz, its self-resonance and where it came from (JSON-ready)."""
     from dataclasses import asdict
@@ -90,6 +113,9 @@ def coil_record(design, *, points: int = POINTS) -> dict:
             "inductance_h": c.inductance,
             "capacitance_f": c.capacitance,
             "eddy_resistance_ohm": c.eddy_resistance,
+            "eddy_coupling_k2": c.eddy_coupling,
+            "eddy_corner_hz": c.eddy_corner,
+            "core_loss": core_loss_models(c),
             "ladder": _ladder_dict(coil_ladder(c)),
             "self_resonance_hz": srf,
             **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if srf is None else {}),

@@ -338,3 +338,57 @@ def test_a_sweep_above_the_band_says_its_residual_is_not_computed(tmp_path):
     res = run("coil", "fit", path)
     assert res.exit_code == 0, res.output
     assert "residual: not computed: the sweep has no points in 20 Hz–20 kHz" in res.stdout
+
+
+def _core_loss_variant(tmp_path, name, keys):
+    """studio-reference with coil_a's parallel core loss replaced by ``keys`` (TOML lines)."""
+    text = REF.read_text()
+    old = 'eddy_resistance = "220k"   # core loss, in parallel with the inductance\n'
+    assert old in text
+    path = tmp_path / f"{name}.toml"
+    path.write_text(text.replace(old, keys, 1))
+    return path
+
+
+@pytest.mark.parametrize(
+    ("keys", "words", "models"),
+    [
+        ('eddy_coupling = 0.3\neddy_corner = "3kHz"\n', "(core loss: shorted secondary, k² 0.3, corner 3 kHz)", ["shorted_secondary"]),
+        (
+            'eddy_resistance = "220k"\neddy_coupling = 0.3\neddy_corner = "3kHz"\n',
+            "(core loss: 220 kΩ in parallel; shorted secondary, k² 0.3, corner 3 kHz)",
+            ["parallel_resistance", "shorted_secondary"],
+        ),
+        ("", "(no core loss)", []),
+    ],
+)
+def test_every_lumped_core_loss_is_named(tmp_path, keys, words, models):
+    # A shorted secondary is core loss: render.circuit.coil's closed form Z_L = sL(ωe + s(1 − k²))/(s + ωe)
+    # (ωe = 2π·corner), with R_dc in series and C_w across, gives coil_a's |Z| at 5 kHz; the line and the
+    # JSON name the model(s) the |Z| came from (the wording and keys: project rule, no outside source)
+    path = _core_loss_variant(tmp_path, "loss", keys)
+    res = run("coil", path, "--json", tmp_path / "c.json")
+    assert res.exit_code == 0, res.output
+    line = next(x for x in res.output.splitlines() if "L 350 mH at DC" in x)  # coil_a's line comes first
+    assert words in line, line
+    c = json.loads((tmp_path / "c.json").read_text())["coils"]["coil_a"]
+    assert c["core_loss"] == models
+    k2, fe = (0.3, 3e3) if "shorted_secondary" in models else (None, None)
+    assert (c["eddy_coupling_k2"], c["eddy_corner_hz"]) == (k2, fe)
+    assert c["eddy_resistance_ohm"] == (220e3 if "parallel_resistance" in models else None)
+    s, L = 2j * np.pi * 5e3, 0.35
+    zl = s * L * (2 * np.pi * fe + s * (1 - k2)) / (s + 2 * np.pi * fe) if k2 else s * L
+    if c["eddy_resistance_ohm"]:
+        zl = 1 / (1 / zl + 1 / 220e3)
+    z = 1 / (1 / (520 + zl) + s * 40e-12)
+    got = np.interp(np.log(5e3), np.log(c["frequency_hz"]), c["magnitude_ohm"])
+    assert got == pytest.approx(abs(z), rel=2e-3)
+
+
+def test_a_ladders_loss_is_named_as_the_ladder():
+    # A derived coil with a construction: its steel's eddy-current loss is a fitted ladder (render.design.coil_impedance),
+    # named as such in the JSON's core_loss (project rule, no outside source); the lumped keys are empty
+    rec = json.loads(run("coil", ROOT / "models" / "slipway-steel-blades.toml", "--json", "-").stdout)
+    c = rec["coils"]["coil_a"]
+    assert c["core_loss"] == ["ladder"] and len(c["ladder"]["inductances_h"]) >= 1
+    assert (c["eddy_resistance_ohm"], c["eddy_coupling_k2"], c["eddy_corner_hz"]) == (None, None, None)

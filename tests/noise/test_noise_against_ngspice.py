@@ -78,10 +78,10 @@ PASSIVE_DEVICES = {
     "coil_a.core_loss": ("rap", "rasec", *LADDER_A),
     "coil_b.resistance": ("rbdc",),
     "coil_b.core_loss": ("rbp", "rbsec", *LADDER_B),
-    "passive_rig.tone_pot": ("rtone",),
-    "passive_rig.volume_upper": ("rvu",),
-    "passive_rig.volume_lower": ("rvd",),
-    "passive_rig.amp_r": ("ramp",),
+    "rig.tone_pot": ("rtone",),
+    "rig.volume_upper": ("rvu",),
+    "rig.volume_lower": ("rvd",),
+    "rig.amp_r": ("ramp",),
 }
 
 

@@ -6,6 +6,7 @@ import json
 import math
 from pathlib import Path
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -135,3 +136,89 @@ def test_missing_and_bad_design(tmp_path):
     res = run(bad)
     assert res.exit_code == 1 and '"m" is milli; for mega write "22M"' in res.output
     assert "Traceback" not in res.output
+
+
+def test_a_reference_that_would_clip_is_warned(tmp_path):
+    # The reference sine's peak at the op-amp output against the distance from the bias to the soft limit's
+    # onset on the nearer side. The peak: √2·v·|V(out)| of ngspice's AC analysis at 1 kHz of the same circuit
+    # (EMFs sensitivity·1 V per m/s). The onset: studio-reference's window, 9 V − 1 V margin − 0.5 V knee,
+    # less its 4.5 V bias = 3.0 V (the design file's values; render.chain.limit's linear end).
+    from spice import active_netlist, run_ac
+
+    from render.analysis.noise import noise
+    from render.design import load_design
+
+    d = load_design(REF)
+    wa, wb = (c.signal_polarity * c.sensitivity for c in (d.coil_a, d.coil_b))
+    f, v = run_ac(active_netlist(d, wa=wa, wb=wb), ["out"], [900, 1100])["out"]
+    gain = float(np.interp(1000.0, f, np.abs(v)))  # V per m/s at the op-amp output
+    out = tmp_path / "n.json"
+    res = run(REF, "--reference-velocity", 10, "--json", out)
+    assert res.exit_code == 0, res.output
+    rec = json.loads(out.read_text())
+    ref = rec["reference_signal"]
+    assert ref["onset_v"] == pytest.approx(3.0, abs=1e-12)
+    assert ref["opamp_output_peak_v"] == pytest.approx(math.sqrt(2) * 10 * gain, rel=1e-4)
+    assert ref["clips"] is True and len(rec["warnings"]) == 1
+    assert "warning: the reference signal would clip" in res.output and "the SNRs are for the signal unclipped" in res.output
+    assert rec["snr_db"] == pytest.approx(20 * math.log10(ref["output_v_rms"] / rec["total_v"]))  # the figure is kept
+    # the threshold velocity 3.0 V / (√2·gain): just below it no warning, just above one
+    edge = 3.0 / (math.sqrt(2) * gain)
+    assert noise(d, reference_velocity=edge * 0.999).warnings() == []
+    assert noise(d, reference_velocity=edge * 1.001).reference_clips
+    default = run(REF, "--json", "-")
+    assert json.loads(default.stdout)["warnings"] == [] and "warning:" not in default.output
+
+
+def _si(text: str) -> float:
+    """A printed figure with its SI prefix ("2.29 µV/√Hz", "7.45 V rms", "1.58 mV") in base units."""
+    import re
+
+    num, prefix = re.match(r"\s*([-0-9.]+) ?([pnµmk]?)", text).groups()
+    return float(num) * {"p": 1e-12, "n": 1e-9, "µ": 1e-6, "m": 1e-3, "k": 1e3, "": 1.0}[prefix]
+
+
+def test_large_figures_take_a_larger_prefix_not_an_exponent(tmp_path):
+    # A high-gain variant (feedback.r 2.2 MΩ, bias 4M4/4M4) at 1 m/s rms: its density at 1 kHz is some µV/√Hz
+    # and its reference some V rms; each is printed with the SI prefix that holds it (SI brochure, 9th ed.,
+    # table 7), to 3 figures of the JSON's value (project rule, no outside source)
+    text = REF.read_text().replace('r = "110k"', 'r = "2.2M"', 1).replace('bias_top = "220k"', 'bias_top = "4M4"').replace('bias_bottom = "220k"', 'bias_bottom = "4M4"')
+    path = tmp_path / "high-gain.toml"
+    path.write_text(text)
+    res = run(path, "--reference-velocity", 1, "--json", tmp_path / "n.json")
+    assert res.exit_code == 0, res.output
+    rec = json.loads((tmp_path / "n.json").read_text())
+    rows = {line[2:22].strip(): line[22:50] for line in res.output.splitlines() if line.startswith("  ") and not line.startswith("   ")}
+    assert "e+" not in res.output.split("largest contributors")[0]
+    assert rows["density at 1 kHz"].strip().endswith("µV/√Hz")
+    assert _si(rows["density at 1 kHz"]) == pytest.approx(rec["density_1k_v_per_rthz"], rel=5e-3)
+    assert rows["reference signal"].strip().endswith(" V rms")
+    assert _si(rows["reference signal"]) == pytest.approx(rec["reference_signal"]["output_v_rms"], rel=5e-3)
+    assert _si(rows["total, 20 Hz–20 kHz"]) == pytest.approx(rec["total_v"], rel=5e-3)
+
+
+def test_millivolts_of_hum_read_in_millivolts(tmp_path):
+    # odd-pair in a 50 µT room: about 1.6 mV of hum at the amp input, printed "1.… mV", not "1.58e+03 µV"
+    # (SI brochure, 9th ed., table 7; project rule, no outside source), to 3 figures of the JSON's value
+    rig = tmp_path / "room.toml"
+    rig.write_text('[hum]\nfield = "50uT"\n')
+    res = run(ROOT / "models" / "odd-pair.toml", "--rig", rig, "--json", tmp_path / "n.json")
+    assert res.exit_code == 0, res.output
+    hum = next(line for line in res.output.splitlines() if line.split()[:1] == ["hum"] and line.split()[1][0].isdigit())
+    assert "e+" not in hum and hum.split()[2] == "mV"
+    scale = json.loads((tmp_path / "n.json").read_text())["hum_and_noise"][0]
+    assert scale["circuit"] == "active"
+    assert _si(" ".join(hum.split()[1:3])) == pytest.approx(scale["hum_v_rms"], rel=5e-3)
+
+
+def test_passive_contributors_have_one_name_in_print_and_json(tmp_path):
+    # project rule, no outside source: a contributor is named the same on the page and in --json; the passive
+    # reference's own controls are "rig.…" under "passive", as the active rig's are under the top level
+    out = tmp_path / "n.json"
+    res = run(REF, "--json", out, "--top", 8)
+    assert res.exit_code == 0, res.output
+    rec = json.loads(out.read_text())
+    lines = res.output.split("largest contributors")[1].split("hum and noise")[0].splitlines()[1:]
+    printed = [line[50:].rsplit(" ", 2)[0] for line in lines if line[50:].strip()]
+    assert printed == [c["source"] for c in rec["passive"]["contributors"][:8]]
+    assert "rig.volume_lower" in printed and not any(c["source"].startswith("passive_") for c in rec["passive"]["contributors"])
