@@ -270,8 +270,8 @@ class NoiseReport:
             return []
         return [
             f"the reference signal would clip: {self.reference_velocity:g} m/s rms swings the op-amp output {self.opamp_peak_v:.3g} V peak from its bias,"
-            f" past the limit's onset {self.onset_v:.3g} V away; the SNRs are for the signal unclipped (lower --reference-velocity to below"
-            f" {self.reference_velocity * self.onset_v / self.opamp_peak_v:.3g} m/s rms)"
+            f" past the limit's onset {self.onset_v:.3g} V away; the SNRs are for the signal unclipped; it stays unclipped"
+            f" below {self.reference_velocity * self.onset_v / self.opamp_peak_v:.3g} m/s rms"
         ]
 
     def reference_signal(self) -> dict:
