@@ -90,6 +90,21 @@ def lumped_loss_words(rec_coil: dict) -> str:
     return f"core loss: {'; '.join(parts)}" if parts else "no core loss"
 
 
+NO_PARALLEL_LOSS = "no parallel core-loss resistor (eddy_resistance not given)"
+NO_SECONDARY = "no shorted secondary (eddy_coupling not given)"
+
+
+def _lumped_loss_record(c) -> dict:
+    """The lumped core-loss values, each None with its reason where the coil has no such model."""
+    from ..analysis import undefined as UD
+
+    out: dict = {}
+    UD.put(out, "eddy_resistance_ohm", c.eddy_resistance, NO_PARALLEL_LOSS)
+    UD.put(out, "eddy_coupling_k2", c.eddy_coupling, NO_SECONDARY)
+    UD.put(out, "eddy_corner_hz", c.eddy_corner if c.eddy_coupling else None, NO_SECONDARY)
+    return out
+
+
 def coil_record(design, *, points: int = POINTS) -> dict:
     """Each coil's impedance over 20 Hz–20 kHz, its self-resonance and where it came from (JSON-ready)."""
     from dataclasses import asdict
@@ -112,9 +127,7 @@ def coil_record(design, *, points: int = POINTS) -> dict:
             "resistance_ohm": c.resistance,
             "inductance_h": c.inductance,
             "capacitance_f": c.capacitance,
-            "eddy_resistance_ohm": c.eddy_resistance,
-            "eddy_coupling_k2": c.eddy_coupling,
-            "eddy_corner_hz": c.eddy_corner,
+            **_lumped_loss_record(c),
             "core_loss": core_loss_models(c),
             "ladder": _ladder_dict(coil_ladder(c)),
             "self_resonance_hz": srf,
