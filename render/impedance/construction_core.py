@@ -18,7 +18,10 @@ The frequency dependence of each part's share is the 1-D diffusion solution
 of :mod:`render.impedance.eddy` (a blade or bar as a slab across the
 thinner of its two sides across the coil's axis, since the coil's field runs
 along that axis and the eddy currents loop around it; a screw as a cylinder), diluted by its demagnetising factor
-(Aharoni 1998, the screw as the square prism of its section and height). The part's fill (eq. (2) of :mod:`.eddy`) is the one that makes
+along that axis (Aharoni 1998, the screw as the square prism of its section and height). The shared bar
+magnet of steel blades and steel poles is the exception: it lies flat under the steel and carries the coil's
+flux along x, from one coil's steel to the other's, so its factor is taken along x and its slab is its height
+(along z the flat bar's factor is near 1, and would ask a fill above 1 of it). The part's fill (eq. (2) of :mod:`.eddy`) is the one that makes
 its DC rise equal eq. (1):
 
     fill = ΔL / (L_air · (μ_app(0) − 1)),
@@ -48,7 +51,8 @@ from scipy.constants import mu_0
 from .eddy import CorePart, apparent_permeability, prism_demagnetising_factor
 from .materials import ALNICO, FERRITE, NDFEB, STEEL, Material
 
-VERSION = 3  # bump when eq. (1)'s numbers change, so cached results are recomputed
+BAR = "bar magnet"  # the shared bar under both coils' steel (render.magnetics.construction)
+VERSION = 4  # bump when eq. (1)'s numbers change, so cached results are recomputed
 MIN_SHARE = 1e-6  # a part adding less than this share of the air-core inductance is left out
 
 
@@ -141,6 +145,8 @@ def part_rises(construction, geometry_a, geometry_b, *, position_a: float, posit
                 side = math.sqrt(sum(float(np.prod(h - lo_)) for lo_, h in extent[key]) / dims[2])
                 dims = (side, side, dims[2])
                 shape, size = "cylinder", side * 2.0 / math.sqrt(math.pi)
+            elif key == BAR:  # the shared bar carries the coil's flux along x, between the coils' steel: a slab across its height
+                shape, size = "slab", dims[2]
             else:  # the coil's field runs along z, so the eddy currents loop in x-y: a slab across the thinner of x and y
                 shape, size = "slab", min(dims[0], dims[1])
             items.append(PartRise(key, rise, shape, size, dims, magnet))
@@ -155,7 +161,8 @@ def core_parts(rises, *, air_inductance: float, steel: Material, magnet: Materia
         if not r.rise > MIN_SHARE * air_inductance:
             continue
         material = magnet if r.magnet else steel
-        d = prism_demagnetising_factor(*r.dims)
+        x, y, z = r.dims
+        d = prism_demagnetising_factor(y, z, x) if r.name == BAR else prism_demagnetising_factor(x, y, z)  # along the part's flux
         rise = float(np.real(apparent_permeability(material.relative_permeability, d))) - 1.0
         if rise <= 1e-9:
             continue

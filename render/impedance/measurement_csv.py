@@ -13,7 +13,8 @@ The format is what LCR meters and impedance analysers export, loosely:
   found by name, case-insensitively, with an optional unit after ``_`` or in
   brackets: frequency (``frequency``, ``freq``, ``f``; Hz, kHz or MHz),
   impedance magnitude (``|z|``, ``z``, ``impedance``, ``magnitude``, ``mag``;
-  ohm, Ω, kohm, kΩ) and phase (``phase``, ``theta``, ``angle``, ``θ``; deg or
+  ohm, Ω, kohm, kΩ, MΩ; case-blind, except that an m or M prefix is read by its
+  case as SI writes it: mΩ and mHz are milli, MΩ and MHz mega) and phase (``phase``, ``theta``, ``angle``, ``θ``; deg or
   rad; degrees when no unit is given). Other columns are ignored;
 - one row per frequency, each with exactly the header's columns, frequency
   strictly increasing.
@@ -40,10 +41,11 @@ _NAMES = {
     "phase": ("phase", "theta", "angle", "θ", "phase_angle", "phase angle"),
 }
 _UNITS = {
-    "frequency": {"": 1.0, "hz": 1.0, "khz": 1e3, "mhz": 1e6},
-    "magnitude": {"": 1.0, "ohm": 1.0, "ohms": 1.0, "ω": 1.0, "kohm": 1e3, "kω": 1e3, "mohm": 1e6, "mω": 1e6},
+    "frequency": {"": 1.0, "hz": 1.0, "khz": 1e3},
+    "magnitude": {"": 1.0, "ohm": 1.0, "ohms": 1.0, "ω": 1.0, "kohm": 1e3, "kω": 1e3},
     "phase": {"": 1.0, "deg": 1.0, "degree": 1.0, "degrees": 1.0, "°": 1.0, "rad": 180.0 / math.pi, "radian": 180.0 / math.pi, "radians": 180.0 / math.pi},
 }
+_M_PREFIXED = {"frequency": ("hz",), "magnitude": ("ohm", "ohms", "ω")}  # units whose m/M prefix is read by its case (SI: milli, mega)
 _HEADER_EXAMPLE = "frequency_hz,z_ohm,phase_deg"
 SEPARATORS = {"\t": "tab", ";": "';'", ",": "','"}  # in the order they are looked for in the header
 
@@ -101,19 +103,30 @@ class Measurement:
 def _candidates(cell: str) -> list[tuple[str, str, bool]]:
     """Readings of a header cell as (name, unit, unit given in brackets).
 
-    '|Z| (kOhm)' -> [('|z|', 'kohm', True)]; 'frequency_hz' -> [('frequency_hz', '', False),
-    ('frequency', 'hz', False)].
+    '|Z| (kOhm)' -> [('|z|', 'kOhm', True)]; 'frequency_hz' -> [('frequency_hz', '', False),
+    ('frequency', 'hz', False)]. The name is lower-cased, the unit keeps its case (an SI prefix's: mΩ is not MΩ).
     """
-    text = cell.strip().strip('"').strip().lower()
+    text = cell.strip().strip('"').strip()
     m = re.fullmatch(r"(.+?)\s*[\(\[]\s*([^\)\]]*)\s*[\)\]]", text)
     if m:
-        return [(m.group(1).strip(), m.group(2).strip(), True)]
-    out = [(text, "", False)]
+        return [(m.group(1).strip().lower(), m.group(2).strip(), True)]
+    out = [(text.lower(), "", False)]
     for sep in ("_", " "):
         head, _, tail = text.rpartition(sep)
         if head:
-            out.append((head.strip(), tail.strip(), False))
+            out.append((head.strip().lower(), tail.strip(), False))
     return out
+
+
+def _unit_scale(kind: str, unit: str) -> float | None:
+    """The factor to SI of a column's unit: case-blind, except an m/M prefix, which SI reads by its case."""
+    low = unit.lower()
+    if len(unit) > 1 and unit[0] in "mM" and low[1:] in _M_PREFIXED.get(kind, ()):
+        return (1e6 if unit[0] == "M" else 1e-3) * _UNITS[kind][low[1:]]
+    return _UNITS[kind].get(low)
+
+
+_SHOWN_UNITS = {"frequency": "Hz, kHz or MHz (mHz is millihertz)", "magnitude": "ohm, Ω, kΩ or MΩ (mΩ is milliohm)", "phase": "deg or rad"}
 
 
 def _columns(header: list[str], where: str, sep: str = ",") -> dict[str, tuple[int, float]]:
@@ -123,10 +136,10 @@ def _columns(header: list[str], where: str, sep: str = ",") -> dict[str, tuple[i
             kind = next((k for k, names in _NAMES.items() if name in names), None)
             if kind is None or kind in found:
                 continue
-            scale = _UNITS[kind].get(unit)
+            scale = _unit_scale(kind, unit)
             if scale is None:
                 if explicit:
-                    raise InputError(f"{where}: column {cell.strip()!r} has unit {unit!r}, which is not one of {sorted(u for u in _UNITS[kind] if u)}; give the column in one of those")
+                    raise InputError(f"{where}: column {cell.strip()!r} has unit {unit!r}, which is not one of {_SHOWN_UNITS[kind]}; give the column in one of those")
                 continue  # 'z_real' and the like: not this column
             found[kind] = (i, scale)
             break

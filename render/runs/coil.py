@@ -172,7 +172,7 @@ class FitResult:
         The fitted model: ``resistance`` (Ω), ``inductance`` (H, at DC), ``capacitance`` (F), its RL
         ``ladder``, and the residuals (dB, °) at the measured points.
     self_resonance_hz : float or None, Hz
-        Where the fitted terminal impedance peaks (None: no peak below 1 MHz).
+        Where the fitted terminal impedance's phase first crosses zero, inductive to capacitive (None: not within 10 Hz–10 MHz).
     """
 
     measurement: Measurement

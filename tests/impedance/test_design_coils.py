@@ -132,3 +132,22 @@ def test_core_rise_from_the_sensing_solve_equals_its_own_solve():
         assert [p.name for p in shared[coil]] == [p.name for p in own[coil]]
         for p, q in zip(shared[coil], own[coil]):
             assert p.rise == pytest.approx(q.rise, rel=1e-9, abs=1e-15), (coil, p.name)
+
+
+def test_a_thin_conducting_bar_magnet_loads_with_its_loss_along_its_flux(tmp_path):
+    # The shared bar lies flat under both coils' steel and carries a coil's flux along x. Along z a
+    # 0.6 × 30 × 64 mm bar's demagnetising factor is near 1 (Aharoni, J. Appl. Phys. 83, 1998), which
+    # asked a fill above 1 of it and made the design unloadable; along x it is small. Its DC share is
+    # eq. (1)'s rise whatever the axis (fill·(μ_app(0) − 1)·L_air = ΔL), so only the loss's shape moves.
+    require_material_response()
+    from render.impedance.eddy import prism_demagnetising_factor
+
+    text = (ROOT / "models" / "slipway-steel-blades.toml").read_text()
+    for old, new in (('magnet_grade = "ceramic8"', 'magnet_grade = "alnico2"'), ('magnet_height = "3.2mm"', 'magnet_height = "0.6mm"'), ('magnet_width = "20mm"', 'magnet_width = "30mm"')):
+        assert old in text
+        text = text.replace(old, new, 1)
+    (tmp_path / "thin-alnico.toml").write_text(text)
+    design = load_design(tmp_path / "thin-alnico.toml")
+    bar = [p for p in design.coil_a.impedance_from.parts if p.name == "bar magnet"]
+    assert bar and 0 < bar[0].fill <= 1
+    assert prism_demagnetising_factor(30e-3, 64e-3, 0.6e-3) > 0.9 > 0.1 > prism_demagnetising_factor(64e-3, 0.6e-3, 30e-3)

@@ -117,7 +117,7 @@ def test_reader_accepts_common_headers_and_units():
         (GOOD_HEADER + "20,1000,45\n", ["1 data rows", "at least 8"]),
         (GOOD_HEADER + GOOD_ROWS.replace("200,1200,45.0", "200,1200,45,0"), ["line 5 has 4 columns, the header has 3", "decimal comma"]),
         (GOOD_HEADER + GOOD_ROWS.replace("200,1200,45.0", "200,1200"), ["line 5 has 2 columns, the header has 3"]),
-        ("Freq (GHz),Z,phase\n" + GOOD_ROWS, ["unit 'ghz'"]),
+        ("Freq (GHz),Z,phase\n" + GOOD_ROWS, ["unit 'GHz'"]),
         ("", ["no header"]),
     ],
 )
@@ -179,3 +179,20 @@ def test_impedance_modules_read_no_files():
         calls = {n.func.attr if isinstance(n.func, ast.Attribute) else getattr(n.func, "id", "") for n in ast.walk(tree) if isinstance(n, ast.Call)}
         assert not names & {"hashlib", "pathlib", "Path", "io"}, path.name
         assert not calls & {"open", "read_bytes", "read_text", "stat", "write_bytes", "write_text"}, path.name
+
+
+@pytest.mark.parametrize(
+    "header, frequency_scale, magnitude_scale",
+    [
+        ("f,Z(mOhm),phase", 1.0, 1e-3),  # SI prefixes (SI Brochure, 9th ed., 2019, table 7): m milli, M mega, by their case
+        ("f,Z(MOhm),phase", 1.0, 1e6),
+        ("f (kHz),|Z| (kOhm),phase", 1e3, 1e3),
+        ("freq_MHz,z_ohm,phase_deg", 1e6, 1.0),
+    ],
+)
+def test_a_columns_prefix_keeps_its_case(header, frequency_scale, magnitude_scale):
+    rows = "\n".join(f"{f},{1000 + f / 10},30" for f in range(100, 1000, 100))
+    m = parse_measurement(header + "\n" + rows)
+    assert m.frequency_hz[0] == pytest.approx(100 * frequency_scale) and m.magnitude_ohm[0] == pytest.approx(1010 * magnitude_scale)
+    with pytest.raises(InputError, match=r"has unit 'GOhm', which is not one of ohm, Ω, kΩ or MΩ \(mΩ is milliohm\)"):
+        parse_measurement("f,Z(GOhm),phase\n" + rows)
