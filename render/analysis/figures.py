@@ -196,12 +196,15 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
         pfig = response_figures(db(pvel(f)), f)
     mains = np.array([d.hum.mains for d in designs])
     rej = hum_rejection_db(resp, mains)
+    no_hum: list[str | None] = [None] * len(designs)
     for i, d in enumerate(designs):
         if d.hum.sources:  # sources in space: each coil's own EMF at the fundamental
             from ..magnetics.pickup import design_emf
+            from .hum import absent_harmonics
 
             e = design_emf(d).total[:, 0]
             rej[i] = rejection_db(resp.from_a()(d.hum.mains)[i, 0] * e[0], resp.from_b()(d.hum.mains)[i, 0] * e[1])
+            no_hum[i] = absent_harmonics(d)[0]  # no source's hum at the fundamental: nothing to reject, not an exact cancellation
     h5 = np.abs(vel(5000.0)[:, 0])
     h5nc = np.abs(resp_nc.velocity()(5000.0)[:, 0])
     hp5 = np.abs(pvel(5000.0)[:, 0])
@@ -218,7 +221,9 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
             U.mark(row, "gain_vs_passive_db", U.PASSIVE_NO_SIGNAL)
         else:
             U.put(row, "gain_vs_passive_db", fig["level_1k_db"][i] - pfig["level_1k_db"][i], U.NO_SIGNAL)
-        if rej[i] >= REJECTION_CAP_DB:
+        if no_hum[i] is not None:
+            U.mark(row, "hum_rejection_db", str(no_hum[i]))
+        elif rej[i] >= REJECTION_CAP_DB:
             U.mark(row, "hum_rejection_db", U.HUM_CANCELS)
         else:
             U.put(row, "hum_rejection_db", rej[i], U.HUM_CANCELS)

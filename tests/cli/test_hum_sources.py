@@ -156,6 +156,13 @@ def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
     text = run("hum", BOBBIN, "--rig", rig(tmp_path, '[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n', "x.toml")).output
     assert "no hum" in text.splitlines()[3] and "total hum none (no hum: no source links either coil)" in text
     assert "cancel" not in text and "noise (no source links the coils)" in text
+    # render check's one figure says the same, not "cancels exactly"; so does a profile with no fundamental
+    # (its hum at the third harmonic is rejected, but at the fundamental there is none to reject)
+    for body in ('[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n', "harmonics = [0, 0, 1]\n" + dipole(["0.5m", "0m", "0m"], axis="[1, 0, 0]")):
+        res = run("check", BOBBIN, "--rig", rig(tmp_path, body, "c.toml"), "--json", "-")
+        assert res.exit_code == 0, res.output
+        fig = json.loads(res.stdout)["designs"][0]["figures"]
+        assert fig["hum_rejection_db"] is None and fig["hum_rejection_db_reason"].startswith("no hum: no source has this harmonic")
 
 
 MATCHED = ROOT / "tests" / "smoke" / "designs" / "edge-matched-coils.toml"
