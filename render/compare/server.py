@@ -38,6 +38,7 @@ class Board:
         self._state = b'{"version": 0, "designs": []}'
         self._clips: dict[str, bytes] = {}
         self._closed = False
+        self._waiting = 0
 
     def publish(self, state: dict, clips: dict[str, bytes]) -> int:
         """Make ``state`` (JSON-ready; its ``version`` is set here) and ``clips`` (name -> WAV bytes) the latest; returns the version."""
@@ -64,8 +65,18 @@ class Board:
     def wait(self, after: int, timeout: float = WAIT_S) -> bytes | None:
         """The state once its version passes ``after`` (at once if it has); None after ``timeout`` s or when closed."""
         with self._cond:
-            self._cond.wait_for(lambda: self._version > after or self._closed, timeout=timeout)
+            self._waiting += 1
+            try:
+                self._cond.wait_for(lambda: self._version > after or self._closed, timeout=timeout)
+            finally:
+                self._waiting -= 1
             return self._state if self._version > after and not self._closed else None
+
+    @property
+    def waiting(self) -> int:
+        """How many requests wait for a change now."""
+        with self._cond:
+            return self._waiting
 
     def close(self) -> None:
         """Wake every waiting request; they answer at once from now on."""

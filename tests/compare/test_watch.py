@@ -183,7 +183,7 @@ def test_the_server_serves_the_state_its_clips_and_waits_for_changes(run, inputs
         # and a stop wakes one that is still waiting
         late = threading.Thread(target=lambda: got.update(late=_get(server, "/api/changes?after=2")))
         late.start()
-        time.sleep(0.2)
+        _wait(lambda: run.board.waiting == 1, 10.0)  # it waits on the board (a fixed sleep lost this race on a loaded machine)
     finally:
         server.stop()
     late.join(timeout=5)
