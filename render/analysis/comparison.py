@@ -80,7 +80,6 @@ def comparison_figures(p: PassiveDesign, resp=None) -> dict:
     zero = np.zeros(1)
     if d.hum.sources:
         from ..magnetics.pickup import design_emf
-        from .hum import absent_harmonics
 
         e = design_emf(d).total[:, 0]
         va = resp.passive_mix(np.ones(1), zero)(d.hum.mains)[0, 0] * e[0]
@@ -89,7 +88,7 @@ def comparison_figures(p: PassiveDesign, resp=None) -> dict:
         va = resp.passive_mix(resp.hum_a, zero)(d.hum.mains)[0, 0]
         vb = resp.passive_mix(zero, resp.hum_b)(d.hum.mains)[0, 0]
     rej = float(rejection_db(va, vb))
-    absent = absent_harmonics(d)[0] if d.hum.sources else None  # no source's hum at the fundamental: nothing to reject
+    absent = U.unlinked(e[0], e[1]) if d.hum.sources else None  # no source's hum at the fundamental: nothing to reject
     if absent is not None:
         U.mark(fig, "hum_rejection_db", absent)
     elif rej >= REJECTION_CAP_DB:

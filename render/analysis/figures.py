@@ -200,11 +200,10 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
     for i, d in enumerate(designs):
         if d.hum.sources:  # sources in space: each coil's own EMF at the fundamental
             from ..magnetics.pickup import design_emf
-            from .hum import absent_harmonics
 
             e = design_emf(d).total[:, 0]
             rej[i] = rejection_db(resp.from_a()(d.hum.mains)[i, 0] * e[0], resp.from_b()(d.hum.mains)[i, 0] * e[1])
-            no_hum[i] = absent_harmonics(d)[0]  # no source's hum at the fundamental: nothing to reject, not an exact cancellation
+            no_hum[i] = U.unlinked(e[0], e[1])  # no source's hum at the fundamental: nothing to reject, not an exact cancellation
     h5 = np.abs(vel(5000.0)[:, 0])
     h5nc = np.abs(resp_nc.velocity()(5000.0)[:, 0])
     hp5 = np.abs(pvel(5000.0)[:, 0])

@@ -416,7 +416,7 @@ def absent_harmonics(design) -> tuple[str | None, ...]:
     from ..magnetics.pickup import design_emf
 
     e = design_emf(design).total  # (2, H)
-    return tuple(U.NO_LINKAGE if e[0, i] == 0 and e[1, i] == 0 else None for i in range(e.shape[1]))
+    return tuple(U.unlinked(e[0, i], e[1, i]) for i in range(e.shape[1]))
 
 
 def sensitivities(design, frequency_hz, *, harmonic: int = 0) -> list[tuple[str, float | str]]:

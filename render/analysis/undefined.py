@@ -118,6 +118,15 @@ def shown(record: dict, key: str, spec: str, unit: str = "") -> str:
     return format(v, spec) + unit
 
 
+def unlinked(emf_a: complex, emf_b: complex) -> str | None:
+    """Why there is no hum at a harmonic when sources in space bring none to either coil (:data:`NO_LINKAGE`), else None.
+
+    Each coil's EMF at that harmonic; the one rule :func:`render.analysis.hum.absent_harmonics` and the
+    figures' rejection share.
+    """
+    return NO_LINKAGE if emf_a == 0 and emf_b == 0 else None
+
+
 def cell(record: dict, key: str, spec: str, unit: str = "") -> str:
     """As :func:`shown`, with the reason's short form (for a table cell): :data:`SHORT`'s, else the reason's
     first clause ("no feedback.c, so ..." -> "no feedback.c"), else "undefined" (words, never a bare dash)."""
