@@ -24,7 +24,7 @@ def print_source(s: dict) -> None:
     extra = ("" if s["harmonics"] is None else ", its own harmonics") + ("" if s["phase_deg"] == 0 else f", phase {s['phase_deg']:g}°")
     link = s["linkage_wb"]
     click.echo(
-        f"  source {s['source']}: {what}, axis {_vector(s['axis'])}{extra}; flux linkage coil_a {format_si(link['coil_a'] + 0.0, 'Wb', 4)}, coil_b {format_si(link['coil_b'] + 0.0, 'Wb', 4)} peak"
+        f"  source {s['source']}: {what}, axis {_vector(s['axis'])}{extra}; flux linkage coil_a {format_si(link['coil_a'] + 0.0, 'Wb', 4)}, coil_b {format_si(link['coil_b'] + 0.0, 'Wb', 4)} peak at the source's strength (each harmonic takes its share)"
     )
 
 
