@@ -114,6 +114,19 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
     return dry
 
 
+def refuse_strength_with_recording(dry: Path, shown: str) -> None:
+    """Refuse a pluck strength (``shown`` as its caller gave it) for a dry file that is not a phrase: it scales a phrase's plucks."""
+    from ..errors import ArgumentError
+
+    if dry.suffix.lower() not in PHRASE_SUFFIXES:
+        raise ArgumentError(
+            "strength",
+            shown,
+            f"goes with a phrase file, not the recording {dry}; scale a recording with render clips --velocity-scale",
+            python_why=f"goes with a phrase file, not the recording {dry}; leave it None and scale a recording with RenderSettings.velocity_scale",
+        )
+
+
 def check_recording(path: Path, *, blind: bool = False) -> None:
     """Refuse an audio file a render cannot play (:func:`render.io.audio.audio_info`), or one too short to measure (for ``blind``, to level)."""
     from ..io.audio import audio_info, too_short

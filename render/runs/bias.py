@@ -7,7 +7,8 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import ArgumentError, InputError
+from ..dry import refuse_strength_with_recording
+from ..errors import ArgumentError
 from .strength import phrase_at_strength
 
 __all__ = ["BiasClips", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
@@ -42,8 +43,7 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
         return ()
     if not 0 < strength_m <= 0.05:
         raise ArgumentError("strength", f"{strength_m * 1e3:g}mm", "must be above 0 and at most 50 mm")
-    if dry.suffix.lower() != ".toml":
-        raise InputError(f"--strength goes with a phrase file, not {dry}; scale a recording with render clips --velocity-scale")
+    refuse_strength_with_recording(dry, f"{strength_m * 1e3:g}mm")
     if strength_m < PLAYED_STRENGTH_MIN_M:
         return (weak_strength_warning(strength_m),)
     far = f"--strength={strength_m * 1e3:g}mm is far beyond realistic playing (above {REALISTIC_STRENGTH_M * 1e3:g} mm, common practice, no source); rendering it anyway"

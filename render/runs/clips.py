@@ -394,16 +394,10 @@ def _rig_record(rig: RigFile | None) -> dict:
 def check_dry_settings(dry: Path, settings: RenderSettings) -> None:
     """Refuse settings that do not fit the dry file, as the command line does: a phrase whole (its length,
     no ``velocity_scale``), a recording as audio (no ``strength``, which scales a phrase's plucks)."""
-    from ..dry import check_dry_file
-    from ..errors import ArgumentError
+    from ..dry import check_dry_file, refuse_strength_with_recording
 
-    if settings.strength is not None and dry.suffix.lower() != ".toml":
-        raise ArgumentError(
-            "strength",
-            f"{settings.strength:g}",
-            f"scales a phrase's plucks, not the recording {dry}; scale a recording with --velocity-scale",
-            python_why=f"scales a phrase's plucks, not the recording {dry}; leave it None and scale a recording with RenderSettings.velocity_scale",
-        )
+    if settings.strength is not None:
+        refuse_strength_with_recording(dry, f"{settings.strength:g}")
     check_dry_file(dry, seconds=settings.seconds, velocity_scale=settings.velocity_scale)
 
 
