@@ -36,6 +36,7 @@ _HOME = {
     "load_rig": "render.design",
     "Design": "render.design",
     "RigFile": "render.design",
+    "with_values": "render.design.vary",
     "load_phrase": "render.dry.phrase",
     "Phrase": "render.dry.phrase",
     "InputError": "render.errors",
@@ -87,6 +88,8 @@ _HOME = {
     "fit_coil": "render.runs.coil",
     "CoilFit": "render.runs.coil",
 }
+# the jobs that record the designs they render: a design changed after loading (not with with_values) is refused there
+_RECORDING = {"render_clips", "unvoice", "build_blind_session"}
 _ALIASES = {"render_clips": "run_clips", "hum_tolerances": "monte_carlo", "HumTolerances": "MonteCarlo", "fit_coil": "fit_file", "CoilFit": "FitResult"}
 
 __all__ = sorted(_HOME) + ["__version__"]
@@ -99,7 +102,7 @@ def __getattr__(name: str) -> Any:
     if inspect.isfunction(value):  # a design as a path or a Design, a rig as a path, a RigFile or None
         from .face import takes_files
 
-        value = takes_files(value)
+        value = takes_files(value, recording=name in _RECORDING)
     globals()[name] = value  # later look-ups skip this function
     return value
 

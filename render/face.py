@@ -34,18 +34,29 @@ def _designs(value: Any) -> list:
     return [load_design(d, argument=f"designs[{i}]") for i, d in enumerate(value)]
 
 
-def _coerce(name: str, value: Any) -> Any:
+def _coerce(name: str, value: Any, *, recording: bool = False) -> Any:
     from .design.loading import as_rig, load_design
+    from .design.vary import check_matches_text
 
     if name == "design":
-        return load_design(value, argument="design")
+        design = load_design(value, argument="design")
+        if recording:
+            check_matches_text([design], "design")
+        return design
     if name == "designs":
-        return _designs(value)
+        designs = _designs(value)
+        if recording:
+            check_matches_text(designs)
+        return designs
     return as_rig(value, argument="rig")
 
 
-def takes_files(func: Callable) -> Callable:
-    """``func`` with its ``design``, ``designs`` and ``rig`` arguments read as the face takes them."""
+def takes_files(func: Callable, *, recording: bool = False) -> Callable:
+    """``func`` with its ``design``, ``designs`` and ``rig`` arguments read as the face takes them.
+
+    recording : the function records the designs it renders (their files and changes): a design
+    whose values were changed after loading other than with :func:`render.with_values` is refused.
+    """
     sig = inspect.signature(func)
     names = [n for n in ("design", "designs", "rig") if n in sig.parameters]
     if not names:
@@ -59,7 +70,7 @@ def takes_files(func: Callable) -> Callable:
             return func(*args, **kwargs)  # Python's own message for a wrong call
         for n in names:
             if n in bound.arguments:
-                bound.arguments[n] = _coerce(n, bound.arguments[n])
+                bound.arguments[n] = _coerce(n, bound.arguments[n], recording=recording)
         return func(*bound.args, **bound.kwargs)
 
     doc = func.__doc__ or ""

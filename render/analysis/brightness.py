@@ -228,7 +228,7 @@ def reference_index(designs, name: str | None, *, compare=None) -> int | None:
     if name is None:
         return 0
     for i, d in enumerate(designs):
-        if name in (d.name, Path(d.source).stem):
+        if name in (d.name, d.stem):
             return i
     if compare is not None and name in (compare.name, Path(compare.source).stem):
         return None

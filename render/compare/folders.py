@@ -90,7 +90,7 @@ def write_clips_page(
     curves = response_curves(designs)
     clips = []
     for rec, design, (resp, passive), power in zip(records, designs, curves, band_power_rows(designs)):
-        stem = Path(design.source).stem
+        stem = design.stem
         volts, fs, n = read_head(folder / f"{stem}.wav", volts_full_scale=volts_full_scale)
         m = rec["measurements"]
         clips.append(

@@ -123,8 +123,12 @@ def _read_hum(data: Any, *, source: str, table: str = "hum") -> Hum:
     return Hum(**values)
 
 
-def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "") -> Design:
-    """Build a :class:`Design` from parsed TOML; every error is one line."""
+def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "", text: str = "", changes: tuple = ()) -> Design:
+    """Build a :class:`Design` from parsed TOML; every error is one line.
+
+    ``text`` is the TOML text ``data`` was parsed from and ``changes`` the :func:`render.with_values`
+    changes made to the file at ``source`` (both kept on the design for its records).
+    """
     if isinstance(data, dict) and "from" in data and ("aim" in data or "free" in data):  # render.analysis.fit's file, given where a design belongs
         raise InputError(f"{source}: an aim file for render fit (from, [aim], [free]), not a design; run render fit {source}, or give the design it starts from ({U.shown(data['from'])})")
     check_document(data, source, list(DESIGN_TABLES) + list(TOP_KEYS))
@@ -172,6 +176,8 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
         hum=hum,
         source=source,
         sha256=sha256,
+        text=text,
+        changes=changes,
     )
     bias = design.bias_v
     if not (design.limit_low_v + sup["knee"] < bias < design.limit_high_v - sup["knee"]):
@@ -244,7 +250,7 @@ def load_design(path: str | os.PathLike | Design, *, argument: str = "path") -> 
     data, raw = read_toml(path)
     if isinstance(data, dict) and data.get("kind") == "passive":  # render.design.passive
         raise PassiveGiven(path)
-    return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw))
+    return parse_design(data, source=str(path), name=Path(path).stem, sha256=sha256_bytes(raw), text=raw.decode("utf-8"))
 
 
 def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile:

@@ -154,6 +154,14 @@ class Design:
         Of the file's bytes, kept in every record.
     construction : PickupBuild or None
         What the pickup is built from, when the file has a ``[construction]``.
+    text : str
+        The design file's text as read ("" for a design built in memory); for a changed
+        design (:func:`render.with_values`), the file's text with the changes made.
+    changes : tuple of (str, value)
+        The ``("table.key", value)`` changes :func:`render.with_values` made to the file
+        (empty for a design as its file says); kept in every record.
+    stem : str
+        The file stem its outputs are named by (property): its file's, or a changed design's name.
     bias_v, limit_low_v, limit_high_v, headroom_up_v, headroom_down_v : float, V
         The bias point, the output's linear window and the room to its edges (properties).
     """
@@ -172,6 +180,18 @@ class Design:
     source: str = ""  # the file it came from, as given
     sha256: str = ""  # of the file's bytes, recorded in every render
     construction: Any = None  # render.design.construction.PickupBuild, when [construction] is given
+    text: str = field(default="", repr=False, compare=False)  # the design file's text (with changes made, for a changed design)
+    changes: tuple[tuple[str, Any], ...] = field(default=(), compare=False)  # render.with_values' ("table.key", value) pairs
+
+    @property
+    def stem(self) -> str:
+        """The file stem its outputs are named by: its file's, or a changed design's name (made safe for a file name)."""
+        import re
+        from pathlib import Path
+
+        if not self.changes:
+            return Path(self.source).stem
+        return re.sub(r"[^A-Za-z0-9._=+-]+", "-", self.name).strip("-.") or "design"
 
     @property
     def bias_v(self) -> float:

@@ -12,10 +12,11 @@ from .coil_impedance import measured_files
 
 
 def design_provenance(design) -> dict:
-    """``{"design_sha256", "coil_measurements": [{"coil", "file", "sha256"}]}`` of a loaded design.
+    """``{"design_sha256", "design_changes", "coil_measurements": [{"coil", "file", "sha256"}]}`` of a loaded design.
 
     ``design_sha256`` is the hex SHA-256 of the design file's bytes as loaded ("" for a design
-    built in memory); ``coil_measurements`` lists each measured coil (``file`` as the design gives
-    it, relative to the design file's folder), empty without one.
+    built in memory); ``design_changes`` maps each ``"table.key"`` that :func:`render.with_values`
+    changed to its value as given (empty for the file as it is); ``coil_measurements`` lists each
+    measured coil (``file`` as the design gives it, relative to the design file's folder), empty without one.
     """
-    return {"design_sha256": design.sha256, "coil_measurements": measured_files(design)}
+    return {"design_sha256": design.sha256, "design_changes": dict(getattr(design, "changes", ())), "coil_measurements": measured_files(design)}

@@ -147,7 +147,8 @@ def designs_from_key(key: dict):
         rig = parse_rig(loads(r["toml"]), source=r["path"], sha256=r["sha256"])
     out = []
     for d in key["designs"]:
-        out.append(apply_rig(parse_design(loads(d["toml"]), source=d["path"], name=d["name"], sha256=d["sha256"]), rig))
+        changes = tuple(d.get("design_changes", {}).items())  # render.with_values' changes, already in the text
+        out.append(apply_rig(parse_design(loads(d["toml"]), source=d["path"], name=d["name"], sha256=d["sha256"], text=d["toml"], changes=changes), rig))
     return out
 
 

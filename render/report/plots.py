@@ -445,12 +445,11 @@ HARMONICS_FLOOR_DB = -100.0  # harmonic levels below this are shown at the axis'
 def bias_plots(out, design, settings_list, rows) -> None:
     """Headroom and harmonics against the divider ratio, and the closed loop's low-frequency transfer
     (what the render renders; the output stage's own window dashed) with each bias point marked."""
-    from pathlib import Path
 
     from ..chain.limit import design_window, soft_limit
     from ..chain.loop import static_loop_gain, static_transfer
 
-    stem = Path(design.source).stem
+    stem = design.stem
     batteries = sorted({r["battery_v"] for r in rows})
     series_h, series_d = [], []
     for v in batteries:

@@ -114,7 +114,7 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
         rendered = pmap(_clip, [(s.design, dry, st, strength_m) for s in sweep.settings], jobs)
         renders = [x for x, _ in rendered]
         vfs = choose_full_scale([np.abs(x).max() for x in renders])
-        stem = Path(design.source).stem
+        stem = design.stem
         loud = [integrated_loudness(x, sample_rate=st.sample_rate) for x in renders]
         peaks = [true_peak_dbtp(x) if lufs is not None else None for x, lufs in zip(renders, loud)]  # a silent clip has no matched copy
         gains, lowered = ceiling_gains(loud, peaks, target_lufs=target_lufs)

@@ -281,7 +281,8 @@ def build_blind_session(
         raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
     folder = session_folder(out, overwrite=overwrite)
     dry_file = session_dry_file(dry_path)
-    design_records = [file_record(d.source, expected_sha256=d.sha256, text=True) for d in designs]
+    # the file as read now (unchanged since loading), and the text that was rendered: a changed design's (render.with_values)
+    design_records = [{**file_record(d.source, expected_sha256=d.sha256, text=not d.text), **({"toml": d.text} if d.text else {})} for d in designs]
     rig_record = file_record(rig.source, expected_sha256=rig.sha256, text=True) if rig else None
     names = session_names(designs)
     fs = settings.sample_rate

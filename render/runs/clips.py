@@ -464,7 +464,7 @@ def run_clips(
     out = output_folder(A.path("out", out, what="a folder's path"), overwrite=overwrite, claimed=True)  # an earlier run's files are replaced only when asked
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup
-    stems = [Path(d.source).stem for d in designs]
+    stems = [d.stem for d in designs]
     rig_record = _rig_record(rig)
     rig_text = rig.source if rig else "each design's own"
     with run_folder(out):

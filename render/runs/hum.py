@@ -62,7 +62,7 @@ def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 480
 
     m = measured_rejection(design, seconds=seconds, settle=1.0, sample_rate=sample_rate)
     vfs = choose_full_scale([np.abs(m[k]).max() for k in ("both", "coil_a", "coil_b")], floor=1e-6)
-    stem = Path(design.source).stem
+    stem = design.stem
     files = {}
     for k, suffix in (("both", "hum"), ("coil_a", "hum-coil_a"), ("coil_b", "hum-coil_b")):
         path = Path(out) / f"{stem}-{suffix}.wav"

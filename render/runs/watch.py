@@ -208,7 +208,7 @@ class WatchRun:
         vfs = self.volts_full_scale or 1.0
         m = measurements(design, clip.figures, clip.stats, volts_full_scale=vfs)
         page_clip = PageClip(
-            key=Path(design.source).stem,
+            key=design.stem,
             name=design.name,
             volts=clip.volts,
             sample_rate=st.sample_rate,
