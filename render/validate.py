@@ -2,7 +2,7 @@
 
 - :class:`Field` and :func:`read_table`: a table of keys read against their
   specifications (kind of quantity, required or default, plausible range),
-  unknown keys refused with the nearest known key suggested;
+  unknown keys refused with the nearest known key (or the one it begins) suggested;
 - :class:`Where`, :func:`check_keys` and :func:`quantity`: the same checks
   for hand-written parsers (phrases, fit files), with one message form;
 - :func:`suggest`, :func:`did_you_mean` and :func:`unknown`: the "did you mean" of every message, and
@@ -33,9 +33,15 @@ TOP_KEYS = ("name", "notes")
 
 
 def suggest(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str | None:
-    """The known name closest to ``word`` (a likely typo), or None."""
-    close = difflib.get_close_matches(str(word), list(choices), n=1, cutoff=cutoff)
-    return close[0] if close else None
+    """The known name closest to ``word`` (a likely typo), or None; failing that, the one name that
+    ``word`` (three letters or more) begins, as a shortened name does ("scale" for "scale_length")."""
+    choices = list(choices)
+    close = difflib.get_close_matches(str(word), choices, n=1, cutoff=cutoff)
+    if close:
+        return close[0]
+    low = str(word).strip().lower()
+    starts = [c for c in choices if len(low) >= 3 and str(c).lower().startswith(low)]
+    return starts[0] if len(starts) == 1 else None
 
 
 def did_you_mean(word: str, choices: Iterable[str], *, cutoff: float = 0.6, known: str = "keys") -> str:

@@ -37,13 +37,13 @@ def _quantity(name: str, value: str, kind) -> float:
 def dry_command(phrase, out, position, aperture, sample_rate, seed, seconds, spectrogram, overwrite):
     """Preview a phrase's string velocity at one sensing point as a WAV."""
     from ..runs.dry import preview_dry
-    from ..units import LENGTH, TIME
+    from ..units import TIME
 
-    x, w = _quantity("--position", position, LENGTH), _quantity("--aperture", aperture, LENGTH)
     length = None if seconds is None else _quantity("--seconds", seconds, TIME)
-    r = preview_dry(phrase, out, position=x, aperture=w, sample_rate=sample_rate, seed=seed, seconds=length, spectrogram=spectrogram, overwrite=overwrite)
+    r = preview_dry(phrase, out, position=position, aperture=aperture, sample_rate=sample_rate, seed=seed, seconds=length, spectrogram=spectrogram, overwrite=overwrite)
     for text in r.warnings:
         warn(text)
     note = "; above full scale (float samples keep it, but turn playback down)" if r.peak_m_per_s > 1.0 else ""
+    note += "; silent: no note sounds at this sensing point" if r.silent else ""
     extra = f" and {r.spectrogram}" if r.spectrogram else ""
     click.echo(f"wrote {r.wav}{extra}: {r.seconds:.2f} s at {r.sample_rate} Hz, peak {r.peak_m_per_s:.3g} m/s (full scale 1 m/s){note}")

@@ -20,7 +20,7 @@ from pathlib import Path
 import numpy as np
 
 from render.dry.modal import string_velocity
-from render.dry.phrase import Note, Phrase, describe, load_phrase, parse_phrase
+from render.dry.phrase import MIN_SECONDS, Note, Phrase, describe, load_phrase, parse_phrase
 from render.dry.recorded import load_recorded
 
 __all__ = [
@@ -39,9 +39,8 @@ __all__ = [
 
 PHRASE_SUFFIXES = (".toml",)
 DEFAULT_DRY = Path("dry_signals") / "default.toml"  # the demo phrase, from the project folder
-# A recording shorter than this holds no more than a pluck's first periods: no figure of its clip
-# (headroom, spectrum, loudness) means anything (common practice, no source).
-MIN_RECORDED_SECONDS = 0.05
+# A recording shorter than this is refused as a phrase is (render.dry.phrase.MIN_SECONDS).
+MIN_RECORDED_SECONDS = MIN_SECONDS
 # A blind session levels its clips by ITU-R BS.1770-4 loudness, which needs one 400 ms block.
 MIN_BLIND_SECONDS = 0.4
 
@@ -177,14 +176,16 @@ def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, samp
 
 
 def phrase_dry(phrase: Phrase, velocity: np.ndarray, *, positions, sample_rate: int, seed: int) -> Dry:
-    """The :class:`Dry` of a phrase synthesised at two sensing points (one row: the same at both), with
-    a warning for each note a point does not hear (:func:`render.dry.modal.unheard_notes`)."""
-    from .modal import unheard_notes
+    """The :class:`Dry` of a phrase synthesised at two sensing points (one row: the same at both), with the
+    phrase's own warnings and one for each note a point does not hear or the sample rate cannot carry
+    (:func:`render.dry.modal.unheard_notes`, :func:`render.dry.modal.unsynthesised_notes`)."""
+    from .modal import unheard_notes, unsynthesised_notes
 
     if velocity.shape[0] == 1:
         velocity = np.vstack([velocity, velocity])
     unheard = unheard_notes(phrase, positions, ("coil_a's sensing point", "coil_b's sensing point"))
-    return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=unheard, description=describe(phrase) | {"seed": int(seed)})
+    warnings = (*phrase.warnings, *unsynthesised_notes(phrase, sample_rate), *unheard)
+    return Dry(velocity=velocity, sample_rate=int(sample_rate), warnings=warnings, description=describe(phrase) | {"seed": int(seed)})
 
 
 def load_dry(

@@ -77,6 +77,7 @@ from .modal import (
     pitch_ratio,
     pluck_amplitudes,
     plucks,
+    unsynthesised_notes,
 )
 from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Phrase
 
@@ -502,6 +503,8 @@ def pickup_velocity(
         phrase, pickup.sensing, hum_polarity=pickup.hum_polarity, cores=pickup.cores, outers=pickup.outers, sample_rate=sample_rate, seed=seed, seconds=seconds, keep=keep_motion
     )
     velocity = emf / np.asarray(pickup.gain, float)[:, None]
+    spread = 2.0 ** (phrase.instrument.polarisation_split / 2400.0)  # the upper polarisation, as _add_note keeps it
+    warnings = (*phrase.warnings, *unsynthesised_notes(phrase, sample_rate, spread=spread), *warnings)
     info = describe(phrase) | {
         "seed": int(seed),
         "pickup": "construction: two polarisations, the sensing function and the nonlinear flux of the field solve; rows are each coil's EMF over its signal_polarity·sensitivity",

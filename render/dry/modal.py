@@ -32,6 +32,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from render.dry.phrase import Instrument, Note, Phrase
+from render.dry.phrase import highest_ratio as _highest_ratio
 from render.errors import InputError
 
 # ln(1000): a 60 dB fall in amplitude, T60 = T60_FACTOR / sigma.
@@ -113,6 +114,24 @@ def unheard_notes(phrase, positions, names=("the sensing point",)) -> tuple[str,
     return tuple(out)
 
 
+def unsynthesised_notes(phrase, sample_rate: int, *, spread: float = 1.0) -> tuple[str, ...]:
+    """Warnings for the notes not synthesised at ``sample_rate``: their first partial (at its highest, with bend
+    and vibrato, times ``spread`` for a construction's upper polarisation) reaches the Nyquist frequency or
+    :data:`MAX_MODE_HZ`, above which no mode is synthesised (:func:`_add_note`), one per note, as a user reads them."""
+    nyquist = 0.5 * float(sample_rate)
+    limit = min(MAX_MODE_HZ, nyquist)
+    out = []
+    for note in phrase.notes:
+        top = note.frequency * _highest_ratio(note)
+        if top * spread >= nyquist or top >= MAX_MODE_HZ:
+            bent = f" (bent or swung up to {top:.0f} Hz)" if top > note.frequency * (1 + 1e-9) else ""
+            why = f"the Nyquist limit of the {sample_rate} Hz sample rate, {nyquist:g} Hz" if limit == nyquist else f"{MAX_MODE_HZ:g} Hz, above which no mode is synthesised"
+            out.append(
+                f"string {note.string}, fret {note.fret:g} at {note.time:g} s: its pitch {note.frequency:.0f} Hz{bent} reaches {why}, so it is not heard; raise the sample rate or play it lower"
+            )
+    return tuple(out)
+
+
 def aperture_weights(n: np.ndarray, *, aperture: float | np.ndarray, length: float) -> np.ndarray:
     """Window factor sin(u) / u, u = n pi W / (2 L), of a sensing window of width W.
 
@@ -169,16 +188,6 @@ def pitch_ratio(t: np.ndarray, *, note: Note) -> np.ndarray:
         since = np.maximum(t - v.start, 0.0)
         ramp = np.clip(since * v.rate_hz, 0.0, 1.0)
         cents += v.depth_cents * ramp * np.sin(2.0 * np.pi * v.rate_hz * since)
-    return 2.0 ** (cents / 1200.0)
-
-
-def _highest_ratio(note: Note) -> float:
-    """The largest value :func:`pitch_ratio` reaches for ``note``."""
-    cents = 0.0
-    if note.bend is not None:
-        cents = max(cents, 100.0 * note.bend.semitones)
-    if note.vibrato is not None:
-        cents += note.vibrato.depth_cents
     return 2.0 ** (cents / 1200.0)
 
 

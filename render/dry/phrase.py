@@ -45,14 +45,24 @@ FALLBACK_INHARMONICITY = 6.0e-5
 # Plain steel for strings given by core diameter alone (from memory).
 STEEL_MODULUS = 200e9  # Pa
 STEEL_DENSITY = 7850.0  # kg/m^3
+# The strongest plain steel string: music wire (ASTM A228) of the thinnest common guitar gauge, 0.008 in
+# (common practice, no source). Its minimum tensile strength Sut = A / d^m with A = 2211 MPa·mm^m and
+# m = 0.145 (Shigley's Mechanical Engineering Design, the spring-wire table; from memory) is 2.79 GPa.
+# A plain string breaks when T / mu = Sut / density, i.e. when its wave speed 2 f L passes
+# sqrt(Sut / density), 596 m/s; a wound string, heavier for its core, breaks sooner.
+THINNEST_STRING = 0.2032e-3  # m
+MUSIC_WIRE_A, MUSIC_WIRE_M = 2211e6, 0.145  # Pa·mm^m, dimensionless
 
 MAX_FRET = 36
 MAX_EVENTS = 20_000
 MAX_SECONDS = 600.0
+# A phrase (or a recording) shorter than this holds no more than a pluck's first periods: no figure of
+# its clip (headroom, spectrum, loudness) means anything (common practice, no source).
+MIN_SECONDS = 0.05
 # A phrase file of MAX_EVENTS events is about 2 MB of TOML; refuse anything much larger
 # before reading it (common practice, no source).
 MAX_PHRASE_BYTES = 4_000_000
-# How long the phrase goes on after its last event starts, when ``seconds``
+# How long the phrase goes on after its last note starts (a chord's last strummed string), when ``seconds``
 # is not given (common practice, no source).
 DEFAULT_TAIL = 2.0
 # Timing spread of strummed strings as a fraction of the gap between strings
@@ -234,6 +244,9 @@ class Phrase:
         Length of the phrase.
     events : int
         Number of [[note]] and [[chord]] entries as written.
+    warnings : tuple of str
+        Legal but unlikely values, one line each: a tuning or bend no steel string reaches, a
+        core_diameter without its tension.
     """
 
     source: str
@@ -243,6 +256,7 @@ class Phrase:
     notes: tuple[Note, ...]
     seconds: float
     events: int
+    warnings: tuple[str, ...] = ()
 
 
 # ---------------------------------------------------------------------------
@@ -302,6 +316,16 @@ def pitch_frequency(value: object, *, concert_a: float = 440.0) -> float:
     return f
 
 
+def highest_ratio(note: Note) -> float:
+    """The largest ratio of ``note``'s instantaneous frequency to its pitch without bends (its bend and vibrato at their peak)."""
+    cents = 0.0
+    if note.bend is not None:
+        cents = max(cents, 100.0 * note.bend.semitones)
+    if note.vibrato is not None:
+        cents += note.vibrato.depth_cents
+    return 2.0 ** (cents / 1200.0)
+
+
 # ---------------------------------------------------------------------------
 # Stiffness
 
@@ -322,6 +346,26 @@ def stiffness_inharmonicity(*, diameter: float, tension: float, length: float, m
     ``length`` in m, ``modulus`` (Young's modulus E) in Pa.
     """
     return math.pi**3 * modulus * diameter**4 / (64.0 * tension * length**2)
+
+
+def breaking_wave_speed(diameter: float = THINNEST_STRING, *, density: float = STEEL_DENSITY) -> float:
+    """Wave speed in m/s at which a plain music-wire string of ``diameter`` m breaks: sqrt(Sut / density),
+    Sut = A / d^m (see :data:`MUSIC_WIRE_A`); an estimate."""
+    strength = MUSIC_WIRE_A / (diameter * 1e3) ** MUSIC_WIRE_M
+    return math.sqrt(strength / density)
+
+
+def _beyond_steel(what: str, frequency: float, length: float) -> str | None:
+    """A warning when a string sounding ``frequency`` Hz over ``length`` m needs a wave speed no steel string survives, else None."""
+    need, most = 2.0 * frequency * length, breaking_wave_speed()
+    if need <= most:
+        return None
+    strength = MUSIC_WIRE_A / (THINNEST_STRING * 1e3) ** MUSIC_WIRE_M
+    return (
+        f"{what} at {frequency:.4g} Hz over {length * 1e3:.0f} mm needs a wave speed 2·f·L = {need:.0f} m/s, {need / most:.2g}× the {most:.0f} m/s"
+        f" at which even the strongest plain steel string breaks (an estimate: 0.2 mm music wire, ASTM A228, tensile strength about {strength / 1e9:.1f} GPa"
+        " by Shigley's Sut = A/d^m); no steel string reaches this pitch"
+    )
 
 
 # ---------------------------------------------------------------------------
@@ -379,7 +423,7 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
         if not isinstance(value, str):
             raise top.fail(key, value, "expected a string", f'write it in quotes: {key} = "..."')
 
-    instrument = _parse_instrument(source, data.get("instrument", {}))
+    instrument, warnings = _parse_instrument(source, data.get("instrument", {}))
     playing = _parse_playing(source, data.get("playing", {}), instrument)
 
     raw_notes = _event_list(top, data, "note")
@@ -390,7 +434,10 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
     if events > MAX_EVENTS:
         raise InputError(f"{source}: events={events}: at most {MAX_EVENTS} [[note]] and [[chord]] entries; split the phrase")
 
-    given = quantity(top, "seconds", data["seconds"], TIME, low=0.0, high=MAX_SECONDS, low_open=True) if "seconds" in data else None
+    given = None
+    if "seconds" in data:
+        fix = f"a phrase shorter than {MIN_SECONDS:g} s holds no more than a pluck's first periods: give seconds = {MIN_SECONDS:g} or more"
+        given = quantity(top, "seconds", data["seconds"], TIME, low=MIN_SECONDS, high=MAX_SECONDS, fix=fix if _below(data["seconds"], MIN_SECONDS) else None)
     notes: list[Note] = []
     for i, entry in enumerate(raw_notes, start=1):
         notes.append(_parse_note(Where(source, f"[[note]] #{i}"), entry, instrument, playing))
@@ -417,6 +464,12 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
                 f"{source}: with no seconds given the phrase would last {seconds:g} s (its last note starts at {last.time:g} s; the tail after it is {DEFAULT_TAIL:g} s),"
                 f" longer than {MAX_SECONDS:g} s; give seconds = {MAX_SECONDS:g} or less at the top to cut it, or move the notes earlier"
             )
+    for note in ordered:  # a bend tightens the string: f·L grows with it (fretting alone keeps f·L)
+        ratio = highest_ratio(note)
+        if ratio > 1.0 and 2.0 * instrument.open_pitch(note.string) * instrument.scale_length <= breaking_wave_speed():
+            beyond = _beyond_steel(f"{note.origin}: string {note.string} bent", note.frequency * ratio, note.length)
+            if beyond:
+                warnings.append(f"{source}: {beyond}")
     return Phrase(
         source=source,
         title=title,
@@ -425,7 +478,16 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
         notes=ordered,
         seconds=seconds,
         events=events,
+        warnings=tuple(dict.fromkeys(warnings)),
     )
+
+
+def _below(value: object, low: float) -> bool:
+    """``value`` reads as a time below ``low`` s (unreadable values fall to :func:`quantity`'s own refusal)."""
+    try:
+        return parse_quantity(value, TIME) < low
+    except QuantityError:
+        return False
 
 
 def _event_list(top: Where, data: dict, key: str) -> list[dict]:
@@ -456,7 +518,8 @@ def _range_text(kind: Kind, low: float, high: float, low_open: bool) -> str:
     return f"each must be a {kind.name} {'>' if low_open else '>='} {low:g}{unit} and <= {high:g}{unit}"
 
 
-def _parse_instrument(source: str, table: Any) -> Instrument:
+def _parse_instrument(source: str, table: Any) -> tuple[Instrument, list[str]]:
+    """The instrument, and warnings for legal but unlikely values (a tuning no steel string reaches, a core without its tension)."""
     top = Where(source, "")
     table = as_table(top, "instrument", table)
     where = Where(source, "[instrument]")
@@ -478,6 +541,11 @@ def _parse_instrument(source: str, table: Any) -> Instrument:
             raise where.fail("tuning", tuning, f"entry {show(item)} is {f:.4g} Hz; open strings must lie between 20 Hz and 2 kHz")
         pitches.append(f)
     strings = len(pitches)
+    warnings = []
+    for j, f in enumerate(pitches):
+        beyond = _beyond_steel(f"[instrument] tuning: string {strings - j}", f, scale)
+        if beyond:
+            warnings.append(f"{source}: {beyond}; check the tuning and scale_length")
 
     if "inharmonicity" in table and "core_diameter" in table:
         raise where.fail("core_diameter", table["core_diameter"], "give inharmonicity or core_diameter, not both", "remove one of them")
@@ -491,6 +559,12 @@ def _parse_instrument(source: str, table: Any) -> Instrument:
             tensions = _per_string(where, "tension", table["tension"], strings, RATIO, low=5.0, high=500.0, low_open=False)
         else:
             tensions = tuple(plain_string_tension(diameter=d, frequency=f, length=scale) for d, f in zip(diameters, pitches))
+            shown_t = ", ".join(f"{t:.3g}" for t in tensions)
+            warnings.append(
+                f"{source}: [instrument] core_diameter without tension: each string is taken as plain steel of that diameter tuned to pitch ({shown_t} N, lowest first);"
+                " a wound string is heavier, so at its pitch it is tauter and its inharmonicity lower (a light set's low E is about 78 N, from memory, where plain steel"
+                " of its 0.48 mm core gives 16 N and B several times too high); give tension = [...] in N beside core_diameter for wound strings"
+            )
         inharm = tuple(stiffness_inharmonicity(diameter=d, tension=t, length=scale) for d, t in zip(diameters, tensions))
         if max(inharm) > 0.01:
             raise where.fail("core_diameter", table["core_diameter"], f"gives inharmonicity B up to {max(inharm):.3g}, beyond 0.01", 'check the diameters (metres, or strings like "0.43mm")')
@@ -508,7 +582,7 @@ def _parse_instrument(source: str, table: Any) -> Instrument:
     tilt = quantity(
         where, "polarisation_angle", get("polarisation_angle", DEFAULTS["polarisation_angle"]), RATIO, low=-45.0, high=45.0, shown="degrees"
     )  # the axis nearer the top: within ±45° by definition
-    return Instrument(
+    instrument = Instrument(
         scale_length=scale,
         concert_a=concert_a,
         open_pitches=tuple(pitches),
@@ -521,6 +595,7 @@ def _parse_instrument(source: str, table: Any) -> Instrument:
         polarisation_split=split,
         polarisation_angle=tilt,
     )
+    return instrument, warnings
 
 
 @dataclass(frozen=True)

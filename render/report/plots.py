@@ -17,6 +17,10 @@ from ..io.atomic import write_bytes
 INK = "#1d3557"
 CLAY = "#b5651d"
 MAX_COLUMNS = 1200  # spectrogram time columns at most
+# A signal whose peak is below this (in its own unit, V or m/s) is silent: a spectrogram draws no image for it
+# (its levels would be float round-off, shown on a scale of their own as if loud). Far below any signal here:
+# a 1 kΩ resistor's thermal noise over 20 kHz is 0.57 µV rms (4kTRB, Johnson-Nyquist) (common practice, no source).
+SILENT_PEAK = 1e-12
 PALETTE = ["#1d3557", "#2a9d8f", "#e76f51", "#6a4c93", "#8ab17d", "#e9c46a", "#c9184a", "#9c6644"]  # eight colours far enough apart to tell on a line
 
 
@@ -301,6 +305,17 @@ def spectrogram_image(samples, *, sample_rate):
     return img, span, fmax, top
 
 
+def silent(samples) -> bool:
+    """Whether ``samples`` never reach :data:`SILENT_PEAK` (an empty signal is silent)."""
+    x = np.asarray(samples, float)
+    return not (x.size and float(np.max(np.abs(x))) >= SILENT_PEAK)
+
+
+def squared(unit: str) -> str:
+    """``unit`` squared as a label writes it: "V²", "(m/s)²" (a compound unit in brackets)."""
+    return f"({unit})²" if any(c in unit for c in "/·* ") else f"{unit}²"
+
+
 def _spectrogram_build(fmax, unit, title):
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(8, 4.2))
@@ -310,28 +325,33 @@ def _spectrogram_build(fmax, unit, title):
     ax.set_yticklabels([f"{v / 1000:g}k" if v >= 1000 else f"{v:g}" for v in ticks])
     ax.set_xlabel("time (s)")
     ax.set_ylabel("frequency (Hz)")
-    fig.colorbar(mesh, ax=ax, label=f"dB re 1 {unit}²/Hz")
+    fig.colorbar(mesh, ax=ax, label=f"dB re 1 {squared(unit)}/Hz")
     fig.subplots_adjust(left=0.1, right=1.0, bottom=0.12, top=0.92)
-    return {"fig": fig, "axes": (ax,), "mesh": mesh, "title": _fix_title(ax, " ") if title else None}
+    note = ax.text(0.5, 0.5, "", transform=ax.transAxes, ha="center", va="center", fontsize=11, color=INK)
+    return {"fig": fig, "axes": (ax,), "mesh": mesh, "title": _fix_title(ax, " ") if title else None, "note": note}
 
 
-def _spectrogram_fill(p, image, title):
+def _spectrogram_fill(p, image, title, quiet=""):
+    """Fill a spectrogram figure; ``quiet`` (the words for a silent signal) blanks the image and says so."""
     img, (t0, t1), fmax, top = image
-    p["mesh"].set_data(img)
+    p["mesh"].set_data(np.full_like(img, np.nan) if quiet else img)
     p["mesh"].set_extent([t0, t1, np.log10(40.0), np.log10(fmax)])
-    p["mesh"].set_clim(top - 90, top)
+    p["mesh"].set_clim(*((-90, 0) if quiet else (top - 90, top)))
+    p["note"].set_text(quiet)
     if p["title"] is not None:
-        p["title"].set_text(title)
+        p["title"].set_text(f"{title} (silent)" if quiet else title)
 
 
 def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrite=False, kept=None):
     """Spectrogram (dB) on a log-frequency axis, 40 Hz to 20 kHz (see :func:`spectrogram_image`).
 
-    ``kept`` (a :class:`KeptFigures`) reuses a figure drawn before with the same layout.
+    A :func:`silent` signal is drawn as an empty plot that says so. ``kept`` (a :class:`KeptFigures`)
+    reuses a figure drawn before with the same layout.
     """
     image = spectrogram_image(samples, sample_rate=sample_rate)
     fmax = image[2]
-    return _draw(kept, ("spectrogram", fmax, unit, bool(title)), lambda: _spectrogram_build(fmax, unit, title), lambda p: _spectrogram_fill(p, image, title), path, overwrite)
+    quiet = f"silent: the peak is below {SILENT_PEAK:g} {unit}" if silent(samples) else ""
+    return _draw(kept, ("spectrogram", fmax, unit, bool(title)), lambda: _spectrogram_build(fmax, unit, title), lambda p: _spectrogram_fill(p, image, title, quiet), path, overwrite)
 
 
 def overlay_png(f, curves, passives) -> bytes:

@@ -23,7 +23,10 @@ class DryPreview:
     sample_rate : int, Hz
     peak_m_per_s : float, m/s
     warnings : tuple of str
-        Notes the sensing point does not hear (their vibrating length ends before it).
+        The phrase's own (a tuning no steel string reaches), and notes not heard: their vibrating length
+        ends before the sensing point, or their pitch reaches the sample rate's Nyquist limit.
+    silent : bool
+        No sample reaches :data:`render.report.plots.SILENT_PEAK` (the spectrogram says so instead of drawing).
     """
 
     wav: Path
@@ -32,6 +35,23 @@ class DryPreview:
     sample_rate: int
     peak_m_per_s: float
     warnings: tuple[str, ...] = ()
+    silent: bool = False
+
+
+def _length(name: str, value) -> tuple[float, str, bool]:
+    """A length in m from a number (m) or a string as typed ("40mm", "0.04"): (metres, as shown, typed as a plain number)."""
+    from ..units import LENGTH, QuantityError, parse_quantity
+
+    shown = str(value).strip()
+    try:
+        x = parse_quantity(value, LENGTH)
+    except QuantityError as e:
+        raise ArgumentError(name, shown, str(e)) from None
+    try:
+        float(shown)
+    except ValueError:
+        return x, shown, False
+    return x, shown, True
 
 
 def preview_dry(
@@ -44,17 +64,17 @@ def preview_dry(
     phrase_path : str or Path
     out : str or Path
         The WAV to write.
-    position : float, m
+    position : float (m) or str ("150mm")
         Sensing point, from the bridge saddle; > 0 and shorter than the scale length.
-    aperture : float, m, >= 0
+    aperture : float (m) or str ("20mm"), >= 0
         Width of the sensing window along the string (0: a point).
     sample_rate : int, Hz
     seed : int
     seconds : float or None, s
         Length (default: the phrase's own).
     """
-    from ..dry.modal import string_velocity
-    from ..dry.phrase import load_phrase
+    from ..dry.modal import string_velocity, unheard_notes, unsynthesised_notes
+    from ..dry.phrase import MIN_SECONDS, load_phrase
     from ..io.atomic import write_bytes
     from ..io.wav import float_wav_bytes
     from ..validate import sample_rate as check_rate
@@ -62,12 +82,14 @@ def preview_dry(
     out = Path(out)
     from ..dry.phrase import MAX_SECONDS
 
-    if seconds is not None and not 0 < seconds <= MAX_SECONDS:  # NaN fails too
-        raise ArgumentError("seconds", f"{seconds:g}s", f"must be above 0 s and at most {MAX_SECONDS:g} s (a phrase renders in memory)")
+    if seconds is not None and not MIN_SECONDS <= seconds <= MAX_SECONDS:  # NaN fails too
+        raise ArgumentError("seconds", f"{seconds:g}s", f"must be at least {MIN_SECONDS:g} s (a pluck's first periods) and at most {MAX_SECONDS:g} s (a phrase renders in memory)")
+    position, at, bare = _length("position", position)
+    aperture, width, _ = _length("aperture", aperture)
     if not position > 0:
-        raise ArgumentError("position", f"{position * 1e3:g}mm", "must be > 0 (distance from the bridge saddle)")
+        raise ArgumentError("position", at, "must be > 0 (distance from the bridge saddle)")
     if not aperture >= 0:
-        raise ArgumentError("aperture", f"{aperture * 1e3:g}mm", "must be >= 0 (0 is a point)")
+        raise ArgumentError("aperture", width, "must be >= 0 (0 is a point)")
     rate = check_rate(sample_rate)
     png_path = out.with_name(f"{out.stem}-spectrogram.png")
     for target in [out] + ([png_path] if spectrogram else []):
@@ -79,12 +101,17 @@ def preview_dry(
     if not position < p.instrument.scale_length:
         from ..units import metres_hint
 
-        metres = f"; {metres_hint(position)}" if position * 1e-3 < p.instrument.scale_length else ""
-        raise ArgumentError("position", f"{position * 1e3:g}mm", f"must be shorter than the scale length {p.instrument.scale_length * 1e3:g} mm{metres}")
+        scale = f"the scale length {p.instrument.scale_length * 1e3:g} mm"
+        if bare and position * 1e-3 < p.instrument.scale_length:  # a plain number of millimetres, read as metres
+            raise ArgumentError("position", at, f"must be shorter than {scale}; {metres_hint(position)}")
+        metres = " (a plain number is in metres)" if bare else ""
+        raise ArgumentError("position", at, f"must be shorter than {scale}: {position * 1e3:g} mm{metres} from the bridge saddle lies beyond the nut")
     if not aperture < p.instrument.scale_length / 2:
-        raise ArgumentError("aperture", f"{aperture * 1e3:g}mm", f"a sensing window must be narrower than half the scale length ({p.instrument.scale_length / 2 * 1e3:g} mm); 0 is a point")
+        raise ArgumentError("aperture", width, f"a sensing window must be narrower than half the scale length ({p.instrument.scale_length / 2 * 1e3:g} mm); 0 is a point")
     v = string_velocity(p, sample_rate=rate, positions=[position], apertures=[aperture], seed=seed, seconds=seconds)[0]
     write_bytes(out, float_wav_bytes(v, rate), overwrite=overwrite)
+    from ..report.plots import silent
+
     if spectrogram:
         from ..report.plots import spectrogram_plot
 
@@ -93,7 +120,6 @@ def preview_dry(
         except BaseException:
             out.unlink(missing_ok=True)  # both or neither
             raise
-    from ..dry.modal import unheard_notes
-
     peak = float(np.abs(v).max()) if v.size else 0.0
-    return DryPreview(wav=out, spectrogram=png_path if spectrogram else None, seconds=v.size / rate, sample_rate=rate, peak_m_per_s=peak, warnings=unheard_notes(p, [position]))
+    warnings = (*p.warnings, *unsynthesised_notes(p, rate), *unheard_notes(p, [position]))
+    return DryPreview(wav=out, spectrogram=png_path if spectrogram else None, seconds=v.size / rate, sample_rate=rate, peak_m_per_s=peak, warnings=warnings, silent=silent(v))

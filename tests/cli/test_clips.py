@@ -108,6 +108,13 @@ def test_refusals_touch_nothing(tmp_path):
     bad.write_text(REF.read_text().replace('battery = "9V"', 'battery = "9F"'))
     res = run("clips", bad, "--dry", DRY, "--out", tmp_path / "y")
     assert res.exit_code == 1 and "unit 'F' does not fit a voltage" in res.output and not (tmp_path / "y").exists()
+    tiny = tmp_path / "tiny.toml"  # a phrase shorter than one sample: refused as it is read, before any folder
+    tiny.write_text("seconds = 1e-6\n[[note]]\ntime = 0\nstring = 1\nfret = 0\n")
+    res = run("clips", REF, "--dry", tiny, "--out", tmp_path / "z")
+    assert res.exit_code == 1 and res.output.strip().splitlines() == [
+        f"Error: {tiny}: seconds=1e-06: must be >= 0.05 s and <= 600 s; a phrase shorter than 0.05 s holds no more than a pluck's first periods: give seconds = 0.05 or more"
+    ]
+    assert not (tmp_path / "z").exists()
 
 
 def test_a_design_failing_in_a_worker_is_one_line_and_leaves_no_process(tmp_path, monkeypatch):

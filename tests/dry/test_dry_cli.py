@@ -85,12 +85,13 @@ def test_bad_inputs_exit_1_with_one_line_and_write_nothing(phrase, tmp_path):
     cases = [
         ((bad,), "bad.toml: [[note]] #1: unknown key 'strenght'; did you mean 'strength'?"),
         ((tmp_path / "none.toml",), "none.toml: no such file"),
-        ((phrase, "--position", "700mm"), "--position=700mm: must be shorter than the scale length 648 mm"),
+        ((phrase, "--position", "700mm"), "--position=700mm: must be shorter than the scale length 648 mm: 700 mm from the bridge saddle lies beyond the nut"),
         ((phrase, "--position", "4 furlongs"), "--position=4 furlongs: cannot read"),
         ((phrase, "--aperture", "-3mm"), "--aperture=-3mm: must be >= 0"),
-        ((phrase, "--aperture", "5m"), "--aperture=5000mm: a sensing window must be narrower than half the scale length (324 mm)"),  # the phrase's 648 mm scale
+        ((phrase, "--aperture", "5m"), "--aperture=5m: a sensing window must be narrower than half the scale length (324 mm)"),  # the phrase's 648 mm scale
         ((phrase, "--sample-rate", 100), "--sample-rate=100: must be from 8000 to 384000 Hz"),
-        ((phrase, "--seconds", "-1s"), "--seconds=-1s: must be above 0 s and at most 600 s"),
+        ((phrase, "--seconds", "-1s"), "--seconds=-1s: must be at least 0.05 s (a pluck's first periods) and at most 600 s"),
+        ((phrase, "--seconds", "1us"), "--seconds=1e-06s: must be at least 0.05 s"),
     ]
     for args, text in cases:
         out = tmp_path / "z.wav"
@@ -161,3 +162,38 @@ def test_a_recording_given_as_the_phrase_is_named_as_audio(tmp_path):
     sf.write(wav, np.zeros(4800, np.float32), 48000, subtype="FLOAT")
     result = run(wav, "--out", tmp_path / "out.wav")
     assert result.exit_code == 1 and "is audio, not a TOML text file" in result.output and "render clips --dry" in result.output
+
+
+def test_a_silent_preview_says_so(tmp_path):
+    # string 1 at fret 24 vibrates over 648 mm / 4 = 162 mm (equal temperament): a point at 170 mm sees no motion,
+    # so every sample is 0; the printout and the spectrogram's title say "silent" instead of drawing round-off
+    path = tmp_path / "high.toml"
+    path.write_text('[[note]]\ntime = 0\nstring = 1\nfret = 24\npluck_at = "60mm"\n')
+    result = CliRunner().invoke(dry_command, [str(path), "--position", "170mm", "--out", str(tmp_path / "high.wav")])
+    assert result.exit_code == 0, result.output
+    assert result.stdout.rstrip().endswith("peak 0 m/s (full scale 1 m/s); silent: no note sounds at this sensing point")
+    loud = CliRunner().invoke(dry_command, [str(path), "--position", "40mm", "--out", str(tmp_path / "loud.wav")])
+    assert loud.exit_code == 0 and "; silent:" not in loud.stdout
+
+
+def test_a_note_above_nyquist_is_warned_like_an_unheard_one(tmp_path):
+    # C5 + 36 frets = C8, 4186 Hz (ISO 16, equal temperament): past 8 kHz's Nyquist limit of 4000 Hz
+    path = tmp_path / "ny.toml"
+    path.write_text('[instrument]\ntuning = ["E2", "A2", "D3", "G3", "B3", "C5"]\n[[note]]\ntime = 0\nstring = 1\nfret = 36\npluck_at = "30mm"\n')
+    result = CliRunner().invoke(dry_command, [str(path), "--position", "30mm", "--sample-rate", "8000", "--out", str(tmp_path / "ny.wav")])
+    assert result.exit_code == 0, result.output
+    assert "warning: string 1, fret 36 at 0 s: its pitch 4186 Hz reaches the Nyquist limit of the 8000 Hz sample rate, 4000 Hz, so it is not heard" in result.stderr
+    assert "no steel string reaches this pitch" in result.stderr  # C5 on 648 mm: 2 · 523.25 · 0.648 = 678 m/s, past 596 m/s
+
+
+@pytest.mark.parametrize(
+    "typed, said",
+    [
+        ("700mm", "--position=700mm: must be shorter than the scale length 648 mm: 700 mm from the bridge saddle lies beyond the nut"),
+        ("40", '--position=40: must be shorter than the scale length 648 mm; plain numbers are in metres: for 40 mm write "40mm"'),
+        ("700", "--position=700: must be shorter than the scale length 648 mm: 700000 mm (a plain number is in metres) from the bridge saddle lies beyond the nut"),
+    ],
+)
+def test_a_position_past_the_nut_gets_the_hint_for_what_was_typed(phrase, tmp_path, typed, said):
+    result = run(phrase, "--position", typed, "--out", tmp_path / "p.wav")
+    assert result.exit_code == 1 and result.output.strip().splitlines() == [f"Error: {said}"]

@@ -371,3 +371,25 @@ def test_any_valid_note_gives_finite_bounded_velocity(string, fret, mute, x, w, 
     beta = 0.06 / note.length
     bound = 2 * note.length * note.frequency * note.strength / (note.length * beta * (1 - beta))
     assert np.abs(v).max() < 1.5 * bound
+
+
+def test_a_note_wholly_above_nyquist_is_named_and_silent():
+    # C5 (MIDI 72) + 36 frets is C8, 440 · 2^((108 − 69)/12) = 4186.0 Hz (ISO 16, equal temperament, recomputed):
+    # at 8 kHz its first partial already reaches the 4000 Hz Nyquist limit, so no mode of it is synthesised
+    from render.dry import synthesize
+    from render.dry.modal import unsynthesised_notes
+
+    phrase = one_note(seconds=0.5, instrument={"tuning": ["E2", "A2", "D3", "G3", "B3", "C5"]}, string=1, fret=36, pluck_at="30mm")
+    v = string_velocity(phrase, sample_rate=8000, positions=[0.03], apertures=[0.0])[0]
+    assert not np.any(v)
+    (line,) = unsynthesised_notes(phrase, 8000)
+    assert line.startswith("string 1, fret 36 at 0 s: its pitch 4186 Hz reaches the Nyquist limit of the 8000 Hz sample rate, 4000 Hz")
+    dry = synthesize(phrase, positions=(0.03, 0.05), apertures=0.0, sample_rate=8000)
+    assert line in dry.warnings
+    # at 16 kHz (Nyquist 8 kHz) it sounds, and nothing is said
+    assert unsynthesised_notes(phrase, 16000) == ()
+    assert np.abs(string_velocity(phrase, sample_rate=16000, positions=[0.03], apertures=[0.0])).max() > 0.01
+    # a bend counts at its top: A4 (440 Hz) bent up 12 semitones to 880 Hz, heard at 8 kHz only below the bend's top
+    bent = one_note(seconds=0.5, pitch="A4", bend={"semitones": 12}, pluck_at="30mm")
+    assert unsynthesised_notes(bent, 8000) == ()
+    assert "(bent or swung up to 880 Hz)" in unsynthesised_notes(bent, 1700)[0]  # below the accepted rates: the rule alone

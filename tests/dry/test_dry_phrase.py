@@ -157,6 +157,57 @@ def test_unknown_key_suggests_the_nearest():
     assert msg == "p.toml: [[note]] #1: unknown key 'strenght'; did you mean 'strength'?"
     refused({"titel": "x", "note": [{"time": 0, "pitch": "E2"}]}, r"p.toml: unknown table or key 'titel'; did you mean 'title'\?")
     refused({"note": [{"time": 0, "pitch": "E2", "bend": {"semitone": 1}}]}, r"\[\[note\]\] #1 bend: unknown key 'semitone'; did you mean 'semitones'\?")
+    # a shortened name gets the one key it begins (difflib alone finds none: "scale" is 0.59 alike)
+    refused({"instrument": {"scale": 0.6}, "note": [{"time": 0, "pitch": "E2"}]}, r"^p.toml: \[instrument\]: unknown key 'scale'; did you mean 'scale_length'\?$")
+    # and a beginning two keys share names neither
+    refused({"instrument": {"pol": 1}, "note": [{"time": 0, "pitch": "E2"}]}, r"unknown key 'pol'; known keys: scale_length, ")
+
+
+def test_a_phrase_shorter_than_a_clip_measures_is_refused():
+    # 0.05 s: the least a recording may last (render.dry.MIN_RECORDED_SECONDS, common practice, no source)
+    msg = refused({"seconds": 1e-6, "note": [{"time": 0, "string": 1, "fret": 0}]}, r"seconds=1e-06: must be >= 0.05 s")
+    assert msg.endswith("give seconds = 0.05 or more")
+    assert phrase(seconds="50ms").seconds == 0.05
+
+
+def test_a_tuning_no_steel_string_reaches_is_warned():
+    # A plain string breaks when its wave speed 2·f·L = sqrt(T/mu) passes sqrt(Sut/rho) (Mersenne's law); music
+    # wire (ASTM A228) has Sut = A/d^m, A = 2211 MPa·mm^0.145 (Shigley's spring-wire table, from memory; 2211 MPa
+    # at 1 mm), so 0.2032 mm wire of 7850 kg/m3 breaks at sqrt(2211e6 · 0.2032^-0.145 / 7850) = 596 m/s.
+    from render.dry.phrase import breaking_wave_speed
+
+    most = math.sqrt(2211e6 * 0.2032**-0.145 / 7850)
+    assert breaking_wave_speed() == pytest.approx(most) and round(most) == 596
+    assert breaking_wave_speed(1e-3) == pytest.approx(math.sqrt(2211e6 / 7850))
+    p = phrase(instrument={"tuning": ["2000Hz"]}, note=[{"time": 0, "string": 1, "fret": 0}])
+    (line,) = p.warnings
+    assert line.startswith("p.toml: [instrument] tuning: string 1 at 2000 Hz over 648 mm needs a wave speed 2·f·L = 2592 m/s, 4.4× the 596 m/s")  # 2592 / 595.7 = 4.35
+    assert "an estimate" in line and "ASTM A228" in line
+    # standard tuning: the high E4 needs 2 · 329.63 · 0.648 = 427 m/s, 72 % of the limit: nothing said
+    assert phrase().warnings == ()
+    assert all(load_phrase(demo).warnings == () for demo in DEMOS)
+
+
+def test_a_bend_no_steel_string_reaches_is_warned():
+    # fretting keeps f·L (the string is shortened as the pitch rises); a bend tightens it: A4 at fret 5 of the E4
+    # string (648 · 329.63/440 = 485 mm) bent up an octave needs 2 · 880 · 0.4854 = 854 m/s, past 596 m/s; the open
+    # string bent a whole tone, 2 · 369.99 · 0.648 = 479 m/s, is fine
+    far = phrase(note=[{"time": 0, "string": 1, "fret": 5, "bend": {"semitones": 12}}])
+    (line,) = far.warnings
+    assert line.startswith("p.toml: [[note]] #1: string 1 bent at 880 Hz over 485 mm needs a wave speed 2·f·L = 854 m/s")
+    assert phrase(note=[{"time": 0, "string": 1, "fret": 24}, {"time": 1, "string": 1, "fret": 0, "bend": {"semitones": 2}}]).warnings == ()
+
+
+def test_core_diameter_without_tension_is_warned():
+    # B = pi^3 E d^4 / (64 T L^2) (Fletcher 1964): a 0.48 mm core at E2 taken as plain steel has 16.2 N
+    # (Mersenne's law) and B = 7.56e-4; wound, at about 78 N (from memory), B = 1.57e-4
+    cores = ["0.48mm", "0.41mm", "0.36mm", "0.43mm", "0.33mm", "0.254mm"]
+    p = phrase(instrument={"core_diameter": cores})
+    (line,) = p.warnings
+    assert line.startswith("p.toml: [instrument] core_diameter without tension: each string is taken as plain steel of that diameter tuned to pitch (16.2, ")
+    assert p.instrument.string_inharmonicity(6) == pytest.approx(7.56e-4, rel=1e-3)
+    given = phrase(instrument={"core_diameter": cores, "tension": [78, 87, 82, 74, 68, 72]})
+    assert given.warnings == () and given.instrument.string_inharmonicity(6) == pytest.approx(1.57e-4, rel=2e-3)
 
 
 def test_negative_and_out_of_range_values():

@@ -120,3 +120,28 @@ def test_every_curve_of_a_crowded_plot_has_a_look_of_its_own():
     assert len(set(looks)) == len(looks)
     passives = [str(plots.passive_style(j)["ls"]) for j in range(len(plots.PASSIVE_STYLES))]
     assert len(set(passives)) == len(passives)
+
+
+def test_compound_units_are_bracketed_before_squaring():
+    # the SI Brochure (BIPM, 9th ed., 5.4.6; from memory) reads a solidus algebraically: "m/s²" is m·s⁻², an
+    # acceleration, so a velocity's power density is written (m/s)²/Hz
+    assert plots.squared("V") == "V²" and plots.squared("m/s") == "(m/s)²" and plots.squared("V·s/m") == "(V·s/m)²"
+
+
+def test_a_silent_signal_is_drawn_as_silent(tmp_path):
+    # all zeros: spectrogram_image's floor (1e-30, -300 dB) everywhere; drawn on a scale of its own it would look loud
+    x = np.zeros(48000)
+    p = plots._spectrogram_build(20000.0, "m/s", "quiet")
+    plots._spectrogram_fill(p, plots.spectrogram_image(x, sample_rate=48000), "quiet", "silent: the peak is below 1e-12 m/s")
+    assert p["title"].get_text() == "quiet (silent)" and p["note"].get_text().startswith("silent")
+    assert np.all(np.isnan(np.ma.getdata(p["mesh"].get_array())))
+    assert plots.silent(x) and plots.silent(np.full(10, 9e-13)) and not plots.silent(np.full(10, 1e-12)) and plots.silent([])
+    # and the file says it: a kept figure drawn silent, then loud, is the same file as a new one each time
+    loud = np.random.default_rng(0).standard_normal(48000)
+    with plots.KeptFigures() as kept:
+        plots.spectrogram_plot(tmp_path / "a.png", x, sample_rate=48000, title="t", unit="m/s", kept=kept)
+        plots.spectrogram_plot(tmp_path / "b.png", loud, sample_rate=48000, title="t", unit="m/s", kept=kept)
+    plots.spectrogram_plot(tmp_path / "c.png", x, sample_rate=48000, title="t", unit="m/s")
+    plots.spectrogram_plot(tmp_path / "d.png", loud, sample_rate=48000, title="t", unit="m/s")
+    assert (tmp_path / "a.png").read_bytes() == (tmp_path / "c.png").read_bytes()
+    assert (tmp_path / "b.png").read_bytes() == (tmp_path / "d.png").read_bytes() != (tmp_path / "a.png").read_bytes()
