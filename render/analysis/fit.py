@@ -18,9 +18,20 @@ whose design cannot be built (a bias outside the output's linear window) or
 whose aimed figures are not finite is never a result.
 
 The score says how far the aims are missed, zero when all hold: the sum over
-aims of the miss divided by the aim's tolerance (a frequency aim given as a
-percentage is judged on a log scale). Ties go to fewer changed parts, then
-to smaller changes (sum of |log| ratios) from the start design.
+aims of the miss divided by the aim's tolerance (``value ± p %`` is the band
+from value·(1 − p) to value·(1 + p), as it is printed). A peak aim reads the
+peak ``render check`` prints (the highest listed one) and holds where that lies
+in its band; where it misses, its miss is the mean of that figure's and of
+:func:`render.analysis.peaks.aimed_peak_hz`'s, a frequency that moves smoothly
+as two humps trade places, so the search is led across the jump. Ties go to fewer
+changed parts, then to smaller changes (sum of |log| ratios) from the start
+design.
+
+The free parts are checked against the start design before the search
+(:func:`check_free`): a part the start derives from another table
+(:func:`render.design.derived.derived_parts`) or that cannot change alone is
+refused, and each candidate is judged buildable as the design loader would
+judge its file (:func:`_valid`).
 """
 
 from __future__ import annotations
@@ -62,26 +73,27 @@ NO_SWING_DB = 200.0  # what a phrase that never moves the op-amp output counts a
 BOUND_SCALE = {"db": 1.0, "hz": None, "v": 0.1, "q": 0.1}
 # what an undefined figure counts as when scored
 # (no peak scores as a peak at the band's lower edge, level with 1 kHz: a response falling from 1 kHz)
-UNDEFINED = {"q": 0.0, "treble_corner_hz": 40000.0, "bass_corner_hz": 1.0, "hum_rejection_db": REJECTION_CAP_DB, "peak_hz": 1000.0, "resonance_hz": 1000.0, "peak_db": 0.0, "resonance_db": 0.0}
+UNDEFINED = {
+    "aimed_peak_hz": 1000.0,
+    "q": 0.0,
+    "treble_corner_hz": 40000.0,
+    "bass_corner_hz": 1.0,
+    "hum_rejection_db": REJECTION_CAP_DB,
+    "peak_hz": 1000.0,
+    "resonance_hz": 1000.0,
+    "peak_db": 0.0,
+    "resonance_db": 0.0,
+}
 TOP_KEYS = ("from", "aim", "free", "name", "notes", "phrase", "strength")  # a fit file's tables and keys
 AIM_KEYS = ("value", "within", "min", "max")
 FREE_KEYS = ("min", "max", "series", "same_as")  # same_as stands alone
+ZERO_WITHIN = {"db": "1", "v": "0.1", "q": "0.1", "hz": "100"}  # a tolerance to suggest around a value of 0, by unit
 AIM_KINDS = {"hz": U.FREQUENCY, "v": U.VOLTAGE, "db": U.RATIO, "q": U.RATIO}  # what an aim's numbers are read as, by _unit_of
 FREE_TABLES = ("coil_a", "coil_b", "input_a", "input_b", "feedback", "output", "supply")
-# the figure a peak aim reads: render.analysis.peaks.aimed_peak_hz, continuous as two humps trade places
+# an aim's second figure, scored beside the one it names: render.analysis.peaks.aimed_peak_hz, continuous as
+# two humps trade places, guides a peak aim across the jump of the highest peak (the figure render check prints)
 AIMED_PEAK = "aimed_peak_hz"
-READS = {"peak_hz": AIMED_PEAK, "resonance_hz": AIMED_PEAK}
-
-
-def figure_key(fig: dict, name: str) -> str:
-    """The key of the figure aim ``name`` scores: a peak aim reads ``aimed_peak_hz`` where present."""
-    read = READS.get(name)
-    return read if read is not None and read in fig else name
-
-
-def figure_of(fig: dict, name: str):
-    """The value aim ``name`` scores from one design's figures (None when undefined)."""
-    return fig.get(figure_key(fig, name))
+GUIDES = {"peak_hz": AIMED_PEAK, "resonance_hz": AIMED_PEAK}
 
 
 def _unit_of(name: str) -> str:
@@ -118,12 +130,8 @@ class Aim:
         """Normalised miss (0 when the aim holds) for figure values ``x``."""
         x = np.asarray(x, float)
         if self.value is not None:
-            if self.within_rel is not None:
-                if _unit_of(self.figure) == "hz":
-                    return np.maximum(0.0, np.abs(np.log(np.maximum(x, 1e-9) / self.value)) - math.log1p(self.within_rel)) / math.log1p(self.within_rel)
-                tol = abs(self.value) * self.within_rel
-            else:
-                tol = self.within if self.within is not None else 0.0
+            # value ± p %: the band value·(1 ± p), as describe() prints it (parse_fit refuses a percentage of 0)
+            tol = abs(self.value) * self.within_rel if self.within_rel is not None else self.within if self.within is not None else 0.0
             tol = max(tol, 1e-12)
             return np.maximum(0.0, np.abs(x - self.value) - tol) / tol
         out = np.zeros_like(x)
@@ -162,10 +170,16 @@ class FitSpec:
     free: tuple[Free, ...]  # every part that changes, tied ones included
     phrase: str | None = None  # the phrase of a phrase_headroom_db aim, as written (None: the demo phrase)
     strength: float | None = None  # m: its strongest pluck, every pluck scaled alike (None: as written)
+    start_in_file: bool = True  # start_path is the file's ``from`` (relative to the fit file), not an override
 
     @property
     def needs_phrase(self) -> bool:
         return any(a.figure == PHRASE_AIM for a in self.aims)
+
+    @property
+    def guided(self) -> list[int]:
+        """Indices of the aims scored with a second figure beside their own (:data:`GUIDES`), whose columns follow the aims'."""
+        return [j for j, a in enumerate(self.aims) if a.figure in GUIDES]
 
     @property
     def dims(self) -> list[int]:
@@ -221,6 +235,8 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
                     raise at.fail("within", w, 'expected a number or a percentage like "5%"') from None
                 if not 0 < rel < 1:
                     raise at.fail("within", w, "a percentage must be above 0 and below 100")
+                if value == 0:
+                    raise at.fail("within", w, "a percentage of a value of 0 is no tolerance", f"give it in the figure's own unit, e.g. within = {ZERO_WITHIN[_unit_of(name)]}")
                 aims.append(Aim(name, value=value, within_rel=rel))
             else:
                 aims.append(Aim(name, value=value, within=quantity(at, "within", w, kind, low=0.0, low_open=True)))
@@ -244,6 +260,12 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
     for name, f in free_t.items():
         where = f'[free] "{name}"'
         if name not in known:
+            table, _, key = str(name).partition(".")
+            if table in ("coil_a", "coil_b") and key == "turns":  # not the nearest name, turns_area: a different part
+                raise InputError(
+                    f"{source}: {where}: a coil's number of turns is not a part render fit changes (it sets L, R, sensitivity and turns_area together);"
+                    f" see what ±N % turns do with render check DESIGN --turns-sweep N, or free {table}.inductance where it is typed"
+                )
             raise unknown(f"{source}: [free]", name, known, what="part", known="parts that can change")
         table, key = name.split(".")
         spec = DESIGN_TABLES[table][key]
@@ -252,6 +274,8 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
             if set(f) != {"same_as"}:
                 raise InputError(f"{source}: {where}: same_as stands alone (the range and series are the other part's)")
             names = [x.name for x in frees]
+            if other == name:
+                raise InputError(f"{source}: {where}: same_as={other!r} names the part itself; give it its own {{ min = …, max = … }}, or name another free part it copies")
             if other not in names:
                 raise InputError(f"{source}: {where}: same_as={other!r} must name a free part listed above it{_same_as_hint(str(other), name, names, free_t)}")
             j = names.index(other)
@@ -267,6 +291,8 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
         hi = read_value(f["max"], spec, source=source, table="free", key=f"{name}.max")
         if not lo < hi:
             raise InputError(f"{source}: {where}: min={f['min']!r} must be below max={f['max']!r}")
+        if not lo > 0:
+            raise InputError(f"{source}: {where}: min={f['min']!r}: the search runs over log-scaled ranges; give a min above 0")
         series = f.get("series", "E24")
         if series in ("none", None):
             series, choices = None, None
@@ -278,7 +304,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
                 raise InputError(f"{source}: {where}: no {series} value lies between {f['min']} and {f['max']}; widen the range")
         frees.append(Free(name, table, key, spec, lo, hi, series, choices))
     phrase, strength = _phrase_keys(data, source, aims, frees)
-    return FitSpec(source=source, start_path=start, aims=tuple(aims), free=tuple(frees), phrase=phrase, strength=strength)
+    return FitSpec(source=source, start_path=start, aims=tuple(aims), free=tuple(frees), phrase=phrase, strength=strength, start_in_file=start_override is None)
 
 
 def _same_as_hint(other: str, name: str, names: list[str], free_t: dict) -> str:
@@ -326,10 +352,49 @@ def apply(design, frees, values):
     return replace(design, **{t: replace(getattr(design, t), **kv) for t, kv in tables.items()})
 
 
+# a part that the design loader refuses without its partner (render.design.loading.parse_design): key -> partner
+PARTNERS = {"eddy_coupling": "eddy_corner", "eddy_corner": "eddy_coupling", "slew_rate": "gbw"}
+
+
+def check_free(spec: FitSpec, start) -> None:
+    """Refuse, before any search, a free part that ``start`` derives from another table or that cannot change alone.
+
+    One line, naming the fit file and the part, why, and what to vary instead: a
+    value set on a derived part (:func:`render.design.derived.derived_parts`)
+    is not the one its file would give, as the loader computes it again; a
+    part whose partner the loader requires with it (:data:`PARTNERS`) needs
+    that partner in the start design or free beside it.
+    """
+    from ..design.derived import derived_parts
+
+    derived = derived_parts(start)
+    names = {fr.name for fr in spec.free}
+    design = start.source or start.name
+    for fr in spec.free:
+        d = derived.get(fr.name)
+        if d is not None:
+            raise InputError(f'{spec.source}: [free] "{fr.name}": in {design} it {d.why}, so a value the search sets alone is not what a result\'s file would give; {d.instead}')
+        partner = PARTNERS.get(fr.key)
+        if partner is not None and getattr(getattr(start, fr.table), partner) is None and f"{fr.table}.{partner}" not in names:
+            raise InputError(
+                f'{spec.source}: [free] "{fr.name}": {design} has no {fr.table}.{partner}, which {fr.key} needs beside it; give {partner} a value in the design, or free "{fr.table}.{partner}" too'
+            )
+
+
 def _valid(design) -> bool:
+    """Whether the design loader would accept the design's values (the checks that depend on free parts' values)."""
     s = design.supply
     lo, hi = design.limit_low_v + s.knee, design.limit_high_v - s.knee
-    return lo < design.bias_v < hi and s.battery - s.margin_low - s.margin_high - 2 * s.knee > 0
+    if not (lo < design.bias_v < hi and s.battery - s.margin_low - s.margin_high - 2 * s.knee > 0):
+        return False
+    if design.hum.sources:  # a coil moved (or its turns_area changed) next to a hum source: render.design.loading._check_places
+        from ..magnetics.schema import check_source_places
+
+        try:
+            check_source_places(design.hum.sources, coil_a=design.coil_a, coil_b=design.coil_b, source="")
+        except InputError:
+            return False
+    return True
 
 
 class Evaluator:
@@ -358,13 +423,13 @@ class Evaluator:
         return figs
 
     def figures(self, values: np.ndarray, *, written: bool = False) -> np.ndarray:
-        """Figure matrix (S, n_aims) for part values (S, n_free); NaN rows for invalid designs.
+        """Figure matrix (S, n_aims + n_guided) for part values (S, n_free): :func:`aim_values`; NaN rows for invalid designs.
 
         written : the values are as their files would hold them (:func:`as_written`)
         """
         designs = [apply(self.start, self.spec.free, row) for row in values]
         ok = np.array([_valid(d) for d in designs])
-        out = np.full((len(designs), len(self.spec.aims)), np.nan)
+        out = np.full((len(designs), len(self.spec.aims) + len(self.spec.guided)), np.nan)
         if ok.any():
             valid = [d for d, k in zip(designs, ok) if k]
             out[np.flatnonzero(ok)] = [aim_values(self.spec, f) for f in self.design_figures(valid)]
@@ -374,7 +439,8 @@ class Evaluator:
         return out
 
     def misses(self, fig: np.ndarray) -> np.ndarray:
-        m = np.column_stack([a.miss(fig[:, j]) for j, a in enumerate(self.spec.aims)])
+        """Each aim's normalised miss (S, n_aims); an invalid design's or undefined figure's is 1e3."""
+        m = aim_misses(self.spec, fig)
         return np.where(np.isnan(m), 1e3, m)
 
     def score(self, values: np.ndarray) -> np.ndarray:
@@ -382,12 +448,26 @@ class Evaluator:
 
 
 def aim_values(spec: FitSpec, fig: dict) -> np.ndarray:
-    """The value each aim scores from one design's figures (an undefined figure as its stand-in, else NaN)."""
+    """The figures one design's aims score: each aim's own, then each guided aim's second (:data:`GUIDES`);
+    an undefined figure as its stand-in, else NaN."""
     out = []
-    for aim in spec.aims:
-        v = figure_of(fig, aim.figure)
-        out.append(v if v is not None else UNDEFINED.get(aim.figure, np.nan))
+    for key in [a.figure for a in spec.aims] + [GUIDES[spec.aims[j].figure] for j in spec.guided]:
+        v = fig.get(key)
+        out.append(v if v is not None else UNDEFINED.get(key, np.nan))
     return np.asarray(out, dtype=float)
+
+
+def aim_misses(spec: FitSpec, fig: np.ndarray) -> np.ndarray:
+    """Each aim's normalised miss (S, n_aims) from a figure matrix of :func:`aim_values` rows (NaN where a figure is).
+
+    A guided aim holds where its own figure holds (zero miss); where it misses, its miss is the mean of its own
+    figure's and its guide's, so the score moves smoothly in part where its own figure jumps."""
+    n = len(spec.aims)
+    m = np.column_stack([a.miss(fig[:, j]) for j, a in enumerate(spec.aims)])
+    for k, j in enumerate(spec.guided):
+        own = m[:, j]
+        m[:, j] = np.where(own > 0, 0.5 * (own + spec.aims[j].miss(fig[:, n + k])), own)
+    return m
 
 
 def _start_values(spec: FitSpec, start) -> np.ndarray:
@@ -447,7 +527,7 @@ def verdict(spec: FitSpec, r: FitResult) -> str:
         return "meets every aim"
     parts = []
     for a in r.missed:
-        v = figure_of(r.figures, a.figure)
+        v = r.figures.get(a.figure)
         has = "has none" if v is None else f"measures {v:.4g}"
         parts.append(f"{a.describe()} (it {has})")
     return "misses " + "; ".join(parts)
@@ -460,6 +540,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
     """
     from scipy.optimize import differential_evolution
 
+    check_free(spec, start)
     ev = Evaluator(spec, start, phrase=phrase)
     start_vals = _start_values(spec, start)
     dims = spec.dims
@@ -549,7 +630,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
 
 def _held(spec: FitSpec, fig: np.ndarray) -> np.ndarray:
     """Whether each aim holds (columns) at each design tried (rows)."""
-    return np.column_stack([a.miss(fig[:, j]) <= 1e-12 for j, a in enumerate(spec.aims)]) & ~np.isnan(fig)
+    return aim_misses(spec, fig) <= 1e-12  # False where a figure is NaN
 
 
 def conflicts(spec: FitSpec, ev: Evaluator) -> str:

@@ -9,11 +9,10 @@ from .values import InFile, OutFolder, Seed
 
 
 def _fig(figures, name):
-    """The figure an aim scores, as the table prints it (a peak aim's is aimed_peak_hz)."""
-    from ..analysis.fit import figure_key
+    """The figure an aim names, as render check gives it."""
     from ..analysis.undefined import cell
 
-    return cell(figures, figure_key(figures, name), ".0f" if name.endswith("_hz") else ".2f")
+    return cell(figures, name, ".0f" if name.endswith("_hz") else ".2f")
 
 
 def print_table(run) -> None:

@@ -79,11 +79,9 @@ class FitRun:
 
 
 def start_file_of(spec, fitfile: Path) -> Path:
-    """The start design's path: as written, or relative to the fit file."""
+    """The start design's path: the fit file's ``from`` relative to the fit file (absolute as written); an override as given."""
     start = Path(spec.start_path)
-    if not start.is_absolute() and not start.exists() and (fitfile.parent / start).exists():
-        start = fitfile.parent / start
-    return start
+    return fitfile.parent / start if spec.start_in_file and not start.is_absolute() else start
 
 
 def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0, marked: bool = True, overwrite: bool = False) -> FitRun:
@@ -115,7 +113,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
         For a bad fit file, or when no result meets every aim (saying which aims conflict).
     """
     from ..analysis.figures import figures
-    from ..analysis.fit import conflicts, format_value, load_fit, rebase_files, rewrite, run_fit, verdict
+    from ..analysis.fit import check_free, conflicts, format_value, load_fit, rebase_files, rewrite, run_fit, verdict
     from ..arguments import whole
     from ..design import apply_rig, design_provenance, load_design, parse_design
     from ..design.loading import as_rig
@@ -130,6 +128,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     start_file = start_file_of(spec, fitfile)
     rig_file = as_rig(rig)
     start = apply_rig(load_design(start_file), rig_file)
+    check_free(spec, start)  # before the phrase is synthesised: a part the start derives is refused at once
     from .fit_phrase import phrase_for_fit
 
     phrase = phrase_for_fit(spec, fitfile, start)

@@ -8,16 +8,16 @@ from ..errors import InputError
 
 
 def phrase_file_of(spec, fitfile: Path) -> Path:
-    """The fit file's ``phrase`` as written or relative to the fit file; the demo phrase when it names none."""
+    """The fit file's ``phrase`` relative to the fit file (absolute as written); the demo phrase when it names none."""
     from ..dry import default_dry_path
 
     if spec.phrase is None:
         return default_dry_path()
     p = Path(spec.phrase)
-    if not p.is_absolute() and not p.exists() and (fitfile.parent / p).exists():
-        p = fitfile.parent / p
+    if not p.is_absolute():
+        p = Path(fitfile).parent / p
     if not p.is_file():
-        raise InputError(f"{fitfile}: phrase={spec.phrase!r}: no such file (looked beside the fit file too)")
+        raise InputError(f"{fitfile}: phrase={spec.phrase!r}: no such file ({p}); the path is relative to the fit file's folder")
     return p
 
 
