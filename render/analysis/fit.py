@@ -147,6 +147,11 @@ class Free:
     choices: np.ndarray | None  # the series values in range
     tie: int | None = None  # index of the free part whose value this one copies
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def kind(self) -> U.Kind:
         """The physical kind of the part's value (a free part is always a quantity: see :func:`parse_fit`)."""
@@ -430,7 +435,7 @@ def as_written(spec: FitSpec, x: np.ndarray) -> np.ndarray:
     return flat.reshape(out.shape)
 
 
-@dataclass
+@dataclass(frozen=True)
 class FitResult:
     values: np.ndarray  # (n_free,), as the result's file holds them
     score: float  # from ``figures``, the figures of those values
@@ -439,6 +444,11 @@ class FitResult:
     changed: int
     change: float
     missed: tuple[Aim, ...] = ()  # the aims it misses (empty when it meets every aim)
+
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
 
 
 def verdict(spec: FitSpec, r: FitResult) -> str:
