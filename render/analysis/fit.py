@@ -195,7 +195,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
     if not start:
         raise InputError(f'{source}: no start design; add from = "models/<design>.toml" to the file, or name one with --from (start_path= in Python)')
     if not isinstance(start, str):
-        raise InputError(f"{source}: from={start!r}: expected a path string")
+        raise InputError(f"{source}: from={U.shown(start)}: expected a path string")
     aims_t, free_t = data.get("aim"), data.get("free")
     if not isinstance(aims_t, dict) or not aims_t:
         raise InputError(f'{source}: missing or empty [aim] table; add e.g. peak_hz = {{ value = 3200, within = "5%" }}')
