@@ -80,3 +80,22 @@ def items(name: str, value: object, kind: type | tuple[type, ...], hint: str) ->
     for i, v in enumerate(out):
         instance(f"{name}[{i}]", v, kind, hint)
     return out
+
+
+def flag(name: str, value: object) -> bool:
+    """A switch: True or False (a numpy bool too), never a str such as "no" that would read as on."""
+    import numpy as np
+
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    raise ArgumentError(name, shown(value), f"got {type(value).__name__}; pass True or False")
+
+
+def pair(name: str, value: object, hint: str) -> tuple:
+    """A sequence of exactly two items (a single item, or a str, is refused), as a tuple; ``hint`` says what to pass."""
+    if isinstance(value, (str, bytes)) or not isinstance(value, Iterable):
+        raise ArgumentError(name, shown(value), f"got one {type(value).__name__}; pass {hint}")
+    out = tuple(value)
+    if len(out) != 2:
+        raise ArgumentError(name, shown(value), f"got {len(out)} item{'' if len(out) == 1 else 's'}; pass {hint}")
+    return out

@@ -10,12 +10,13 @@ worker process. :class:`PassiveStream` renders the design's passive reference
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from .errors import InputError
+from .errors import ArgumentError, InputError
 
 if TYPE_CHECKING:
     from .design import Design, RigFile
@@ -67,8 +68,10 @@ class RenderSettings:
             A.number("seconds", self.seconds, lo=0.0, lo_open=True, unit="s", hint="; None plays the dry signal's own length")
         A.whole("seed", self.seed, lo=0)
         A.number("velocity_scale", self.velocity_scale, lo=0.0, lo_open=True, hi=1e3, unit="m/s", hint=" (the string velocity at a recording's full scale)")
+        if self.seconds is not None and round(self.seconds * self.sample_rate) < 1:
+            raise ArgumentError("seconds", f"{self.seconds:g}", f"shorter than one sample at {self.sample_rate} Hz: a clip needs samples; None plays the dry signal's own length")
         for flag in ("hum", "passive", "noise"):
-            A.instance(flag, getattr(self, flag), bool, "True or False")
+            A.flag(flag, getattr(self, flag))
         if self.strength is not None:
             A.number("strength", self.strength, lo=0.0, lo_open=True, hi=0.05, unit="m", hint=" (the strongest pluck's displacement; 0.002 is 2 mm)")
 
@@ -242,6 +245,11 @@ def _velocity_array(velocity) -> np.ndarray:
     return v
 
 
+def _no_samples(v: np.ndarray) -> None:
+    if v.shape[-1] == 0:
+        raise ArgumentError("velocity", f"array of shape {v.shape}", "no samples: a clip needs at least one; give string velocity in m/s, shape (n,) or (2, n)")
+
+
 def render_clip(
     design: Design,
     velocity: Dry | np.ndarray,
@@ -283,13 +291,22 @@ def render_clip(
     -------
     Clip
     """
+    from . import arguments as A
     from .analysis.figures import figures
     from .chain.stream import make_plan, render_signal
     from .design import apply_rig
     from .dry import Dry
+    from .units import shown
     from .validate import sample_rate as check_rate
 
     design = apply_rig(design, rig)
+    hum, noise, passive = A.flag("hum", hum), A.flag("noise", noise), A.flag("passive", passive)
+    if isinstance(velocity, (str, os.PathLike)):
+        raise ArgumentError(
+            "velocity",
+            shown(os.fspath(velocity)),
+            "a file's path is not a velocity: load a phrase or a recording with render.load_dry(path, …), or synthesize a phrase with render.synthesize(…), and pass the Dry it gives",
+        )
     if isinstance(velocity, Dry):
         dry_record, dry_warnings = dict(velocity.description), tuple(velocity.warnings)
         if sample_rate is not None and int(sample_rate) != velocity.sample_rate:
@@ -297,11 +314,12 @@ def render_clip(
         fs = velocity.sample_rate
         v = velocity.velocity
     else:
+        v = _velocity_array(velocity)
         if sample_rate is None:
             raise InputError("sample_rate: required when the velocity is a bare array; give it in Hz (e.g. 48000)")
         fs = check_rate(sample_rate, name="sample_rate")
-        v = _velocity_array(velocity)
         dry_record, dry_warnings = {"kind": "array"}, ()
+    _no_samples(v)
     plan = make_plan(design, sample_rate=fs, resampler=resampler) if resampler is not None else None
     r = render_signal(design, v, sample_rate=fs, hum=hum, plan=plan)
     volts = r["out"]

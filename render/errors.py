@@ -19,6 +19,9 @@ class InputError(ValueError):
         return text.replace("\r", "\\r").replace("\n", "\\n")
 
 
+VALUE_CHARS = 200  # the most of a refused argument's value a message repeats (room for a long path)
+
+
 class ArgumentError(InputError):
     """One argument refused: ``argument=value: why`` in Python, ``--option=value: why`` on the command line.
 
@@ -30,7 +33,7 @@ class ArgumentError(InputError):
     argument : str
         The Python argument (``"ratios"``).
     value : str
-        The value as shown (already formatted).
+        The value as shown (already formatted); cut to :data:`VALUE_CHARS` characters.
     why : str
         What is wrong and the fix, as the command line words it.
     option : str or None
@@ -43,7 +46,8 @@ class ArgumentError(InputError):
     """
 
     def __init__(self, argument: str, value: object, why: str, *, option: str | None = None, python_why: str | None = None, cli: str | None = None) -> None:
-        self.argument, self.value, self.why, self.cli = argument, str(value), why, cli
+        text = str(value)  # whatever a caller formatted, never a whole object's repr: cut as render.units.shorten cuts
+        self.argument, self.value, self.why, self.cli = argument, text if len(text) <= VALUE_CHARS else text[: VALUE_CHARS - 1] + "…", why, cli
         self.option = option or "--" + argument.replace("_", "-")
         super().__init__(f"{argument}={self.value}: {python_why or why}")
 

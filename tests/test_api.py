@@ -159,7 +159,7 @@ def test_synthesize_reads_lengths_as_the_files_do():
     b = render.synthesize(phrase, positions=(0.04, 0.058), apertures=(0.02, 0.02), sample_rate=8000, seconds=0.2)
     assert np.array_equal(a.velocity, b.velocity)
     with pytest.raises(render.InputError, match="one per point"):
-        render.synthesize(phrase, positions=(0.04,), apertures=(0.02, 0.03), sample_rate=8000, seconds=0.2)
+        render.synthesize(phrase, positions=(0.04, 0.058), apertures=(0.02, 0.03, 0.01), sample_rate=8000, seconds=0.2)
 
 
 RIG = ROOT / "rigs" / "near-transformer.toml"

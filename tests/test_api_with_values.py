@@ -129,3 +129,11 @@ def test_a_relative_measured_coil_is_found_from_the_design_files_folder(tmp_path
     d = render.load_design(measured)
     d2 = render.with_values(d, {"feedback.r": "100k"})
     assert d2.coil_a.inductance == d.coil_a.inductance and d2.feedback.r == pytest.approx(100e3)
+
+
+def test_a_changed_design_cannot_start_a_fit_but_its_text_can(tmp_path):
+    d2 = render.with_values(render.load_design(REF), {"feedback.c": "68p"}, name="ref 68p")
+    fitfile = ROOT / "models" / "fits" / "brighter-reference.toml"
+    with pytest.raises(render.ArgumentError, match=r"start_path=.*with changes \(feedback.c\): no file holds it.*write design.text"):
+        render.fit(fitfile, out=tmp_path / "f", start_path=d2)
+    assert not (tmp_path / "f").exists()

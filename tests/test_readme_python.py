@@ -25,6 +25,22 @@ def test_the_python_example_prints_what_the_readme_says():
     assert out.stdout == expected
 
 
+def test_the_python_example_prints_the_peak_render_check_prints():
+    # the example's first line is the resonance `render check` prints for the same design, to its digits
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    printed = re.search(r"<!-- /python-example -->\n\nprints\n\n```\n(.*?)\n", text).group(1)
+    res = CliRunner().invoke(main, ["check", str(ROOT / "models" / "studio-reference.toml")])
+    assert res.exit_code == 0, res.output
+    check = re.search(r"loaded resonance\s+peak (\d+ Hz), ([+-][\d.]+) dB", res.output)
+    assert printed == f"studio-reference: peak at {check.group(1)}, {check.group(2)} dB above its 1 kHz level"
+    level = re.search(r"gain at 1 kHz\s+([+-][\d.]+ dB re 1 V per m/s)", res.output).group(1)
+    assert f"\n{level} at 1 kHz\n" in text
+
+
 def test_the_hum_block_gives_the_figures_its_comments_state():
     # the README's "From Python" block under hum sources: run as written, then each figure in its comments
     # (rounded as printed there) against the objects it made

@@ -31,6 +31,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..units import shown
 from .undefined import NO_LOUDNESS, NO_REFERENCE_LOUDNESS  # worded with the other reasons
 
 BANDS_HZ: tuple[tuple[float, float], ...] = ((2000.0, 4000.0), (4000.0, 8000.0))
@@ -234,4 +235,4 @@ def reference_index(designs, name: str | None, *, compare=None) -> int | None:
         return None
     names = [d.name for d in designs] + ([compare.name] if compare is not None else [])
     what = "no design of this run nor its comparison pickup" if compare is not None else "no design of this run"
-    raise ArgumentError("reference", f"{name!r}", f"{what} has that name or file stem{did_you_mean(name, names).replace('known keys', 'the designs')}")
+    raise ArgumentError("reference", shown(name), f"{what} has that name or file stem{did_you_mean(name, names).replace('known keys', 'the designs')}")

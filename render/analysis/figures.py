@@ -174,9 +174,10 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
     Returns
     -------
     list of dict
-        One per design, in order; among its keys (levels in dB re 1 V per m/s): ``level_1k_db``; the resonance
-        ``peak_hz`` (Hz), ``peak_db`` and ``q``; ``bass_corner_hz`` and ``treble_corner_hz`` (Hz);
-        ``gain_vs_passive_db``; ``hum_rejection_db`` (dB, at the mains fundamental); ``bias_v``,
+        One per design, in order; among its keys: ``level_1k_db`` (dB re 1 V per m/s); the resonance
+        ``peak_hz`` (Hz), ``peak_db`` (dB above ``level_1k_db``, as ``render check`` prints it) and ``q``;
+        ``bass_corner_hz`` and ``treble_corner_hz`` (Hz); ``gain_vs_passive_db`` (dB, ``level_1k_db`` minus the
+        passive reference's); ``hum_rejection_db`` (dB, at the mains fundamental); ``bias_v``,
         ``headroom_up_v``, ``headroom_down_v`` and ``headroom_v`` (V); ``cable_loss_db``, the cable's loss at 5 kHz (dB);
         ``output_impedance_1k_ohm`` and ``output_impedance_10k_ohm`` (Ω); and ``passive``, the same
         response figures of the design's passive reference. An undefined figure is None, with the

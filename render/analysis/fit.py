@@ -155,6 +155,11 @@ class Free:
     choices: np.ndarray | None  # the series values in range
     tie: int | None = None  # index of the free part whose value this one copies
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def kind(self) -> U.Kind:
         """The physical kind of the part's value (a free part is always a quantity: see :func:`parse_fit`)."""
@@ -204,7 +209,7 @@ def parse_fit(data: dict, *, source: str, start_override: str | None = None) -> 
     if not start:
         raise InputError(f'{source}: no start design; add from = "models/<design>.toml" to the file, or name one with --from (start_path= in Python)')
     if not isinstance(start, str):
-        raise InputError(f"{source}: from={start!r}: expected a path string")
+        raise InputError(f"{source}: from={U.shown(start)}: expected a path string")
     aims_t, free_t = data.get("aim"), data.get("free")
     if not isinstance(aims_t, dict) or not aims_t:
         raise InputError(f'{source}: missing or empty [aim] table; add e.g. peak_hz = {{ value = 3200, within = "5%" }}')
@@ -510,7 +515,7 @@ def as_written(spec: FitSpec, x: np.ndarray) -> np.ndarray:
     return flat.reshape(out.shape)
 
 
-@dataclass
+@dataclass(frozen=True)
 class FitResult:
     values: np.ndarray  # (n_free,), as the result's file holds them
     score: float  # from ``figures``, the figures of those values
@@ -519,6 +524,11 @@ class FitResult:
     changed: int
     change: float
     missed: tuple[Aim, ...] = ()  # the aims it misses (empty when it meets every aim)
+
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
 
 
 def verdict(spec: FitSpec, r: FitResult) -> str:

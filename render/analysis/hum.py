@@ -609,6 +609,9 @@ def hum(design, *, rig=None, sources=None) -> HumReport:
         sources = items("sources", sources, (DipoleSource, UniformSource), "render.DipoleSource(...) or render.UniformSource(...)")
     d = apply_rig(design, rig)
     if sources is not None:
+        from ..magnetics.schema import check_source_places
+
+        check_source_places(sources, coil_a=d.coil_a, coil_b=d.coil_b, argument="sources")  # as a rig file's [[hum.source]] are checked
         d = replace(d, hum=replace(d.hum, sources=sources))
     t = hum_table(d)
     return HumReport(

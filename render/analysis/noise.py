@@ -31,6 +31,7 @@ import numpy as np
 
 from ..circuit.noise import K_BOLTZMANN, NoiseModel, design_noise_model, noise_model
 from ..errors import InputError
+from ..units import shown
 
 BAND_HZ = (20.0, 20000.0)
 T_DEFAULT = 300.0  # K
@@ -407,11 +408,11 @@ def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature
     np.ndarray, shape (n,), float64, volts.
     """
     if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1:
-        raise InputError(f"n={n!r}: expected a whole number of samples, at least 1")
+        raise InputError(f"n={shown(n)}: expected a whole number of samples, at least 1")
     if not (isinstance(sample_rate, (int, float, np.number)) and math.isfinite(sample_rate) and sample_rate > 0):
-        raise InputError(f"sample_rate={sample_rate!r}: expected a positive sampling rate in Hz")
+        raise InputError(f"sample_rate={shown(sample_rate)}: expected a positive sampling rate in Hz")
     if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
-        raise InputError(f"seed={seed!r}: expected a whole number, 0 or more")
+        raise InputError(f"seed={shown(seed)}: expected a whole number, 0 or more")
     t = check_temperature(temperature)
     model = design_noise_model([design], temperature=t)
     n = int(n)

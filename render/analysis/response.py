@@ -8,6 +8,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from ..errors import InputError
+from ..units import shown
 
 if TYPE_CHECKING:
     from ..design import Design, RigFile
@@ -77,7 +78,7 @@ def response(design: Design, frequency_hz, *, rig: RigFile | None = None) -> Res
     try:
         f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
     except (TypeError, ValueError):
-        raise InputError(f"frequency_hz={frequency_hz!r}: not numbers; give frequencies in Hz, > 0") from None
+        raise InputError(f"frequency_hz={shown(frequency_hz)}: not numbers; give frequencies in Hz, > 0") from None
     if f.ndim != 1 or f.size == 0:
         raise InputError(f"frequency_hz: shape {f.shape}; give a number or a 1-D array of one or more frequencies in Hz, each > 0")
     bad = f[~(np.isfinite(f) & (f > 0))]

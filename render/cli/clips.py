@@ -60,20 +60,17 @@ def clips_command(
     from ..clip import RenderSettings
     from ..design import load_designs
     from ..dry import check_dry_file
-    from ..errors import InputError
     from ..io.folders import output_folder
 
     dry = check_dry_file(dry_path, seconds=seconds, recorded=not from_di, velocity_scale=velocity_scale)
     strength_m = read_strength(strength, dry)
     designs, rig = load_designs(models, rig=rig_path)
-    if len({d.stem for d in designs}) != len(designs):
-        raise InputError("two design files share a name; their clips would overwrite each other: rename one")
+    from ..runs.clips import check_stems
     from .compare_print import load_compare
 
     compared = load_compare(compare_path, rig_path)
+    check_stems(designs, compared)  # refused, as run_clips refuses it, before the folder is made
     reference_index(designs, reference, compare=compared)  # a wrong name is refused before the folder is made
-    if compared is not None and Path(compared.source).stem in {d.stem for d in designs}:
-        raise InputError(f"--compare {compare_path}: a design file has the same name; their clips would overwrite each other: rename one")
     out = output_folder(out_dir, overwrite=overwrite)
     if from_di:
         from ..runs.unvoice import velocity_from_di

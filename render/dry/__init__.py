@@ -161,7 +161,7 @@ def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, samp
     -------
     Dry
     """
-    from ..arguments import instance
+    from ..arguments import instance, pair
 
     if isinstance(phrase, (str, os.PathLike)):
         phrase = load_phrase(os.fspath(phrase))
@@ -171,6 +171,7 @@ def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, samp
 
         v, warnings, info, _ = pickup_velocity(phrase, pickup, sample_rate=sample_rate, seed=seed, seconds=seconds)
         return Dry(velocity=v, sample_rate=int(sample_rate), warnings=warnings, description=info)
+    positions = pair("positions", positions, "coil_a's and coil_b's sensing points from the bridge saddle, in m or as \"40mm\", e.g. (0.1, 0.05)")
     velocity = string_velocity(phrase, sample_rate=sample_rate, positions=positions, apertures=apertures, seed=seed, seconds=seconds)
     return phrase_dry(phrase, velocity, positions=positions, sample_rate=sample_rate, seed=seed)
 

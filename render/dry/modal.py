@@ -34,6 +34,7 @@ import numpy as np
 from render.dry.phrase import Instrument, Note, Phrase
 from render.dry.phrase import highest_ratio as _highest_ratio
 from render.errors import InputError
+from render.units import shown
 
 # ln(1000): a 60 dB fall in amplitude, T60 = T60_FACTOR / sigma.
 T60_FACTOR = 3.0 * math.log(10.0)
@@ -270,9 +271,9 @@ def plucks(phrase: Phrase, *, sample_rate: int, seed: int, seconds: float | None
     fs = _check_rate(sample_rate)
     total = phrase.seconds if seconds is None else seconds
     if not (isinstance(total, (int, float)) and math.isfinite(total) and 0 < total <= 3600):
-        raise InputError(f"seconds={total!r}: the length must be > 0 s and <= 3600 s")
+        raise InputError(f"seconds={shown(total)}: the length must be > 0 s and <= 3600 s")
     if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
-        raise InputError(f"seed={seed!r}: must be a whole number >= 0")
+        raise InputError(f"seed={shown(seed)}: must be a whole number >= 0")
     notes = phrase.notes
     rng = np.random.default_rng(int(seed))
     jitter = rng.uniform(-1.0, 1.0, size=(len(notes), 3))
@@ -309,16 +310,16 @@ def _lengths(name: str, values) -> np.ndarray:
     try:
         return np.array([parse_quantity(v, LENGTH) for v in items.ravel()], dtype=float).reshape(items.shape)
     except (QuantityError, TypeError, ValueError) as e:
-        raise InputError(f"{name}={values!r}: {e}") from None
+        raise InputError(f"{name}={shown(values)}: {e}") from None
 
 
 def _check_points(positions, apertures, scale_length: float) -> tuple[np.ndarray, np.ndarray]:
     x = _lengths("positions", positions)
     if x.ndim != 1 or x.size == 0:
-        raise InputError(f"positions={positions!r}: expected one or more sensing points (m from the bridge saddle)")
+        raise InputError(f"positions={shown(positions)}: expected one or more sensing points (m from the bridge saddle)")
     a = _lengths("apertures", apertures)
     if a.size not in (1, x.size) or a.ndim > 1:
-        raise InputError(f"apertures={apertures!r}: give one width for every sensing point, or one per point ({x.size})")
+        raise InputError(f"apertures={shown(apertures)}: give one width for every sensing point, or one per point ({x.size})")
     w = np.broadcast_to(a.reshape(-1) if a.size > 1 else a.reshape(()), x.shape).astype(float)
     for xi in x:
         if not (math.isfinite(xi) and 0.0 < xi < scale_length):

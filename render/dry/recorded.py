@@ -16,6 +16,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..io.audio import CLIP_RUN, AudioInfo, FlatRuns, audio_info, iter_audio, read_audio
+from ..units import shown
 
 BLOCK = 65536  # frames per block when a recording is streamed
 # The longest recording read, as for a phrase; anything longer is refused
@@ -60,9 +61,9 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
 
     checked_rate(sample_rate, name="sample_rate")  # the render's rate: the one check of an output rate
     if isinstance(velocity_scale, bool) or not isinstance(velocity_scale, (int, float)) or not (math.isfinite(velocity_scale) and velocity_scale > 0):
-        raise InputError(f"velocity_scale={velocity_scale!r}: must be a number > 0 (m/s at full scale)")
+        raise InputError(f"velocity_scale={shown(velocity_scale)}: must be a number > 0 (m/s at full scale)")
     if seconds is not None and not (isinstance(seconds, (int, float)) and 0 < seconds <= MAX_SECONDS):
-        raise InputError(f"seconds={seconds!r}: the length must be > 0 s and <= {MAX_SECONDS:g} s")
+        raise InputError(f"seconds={shown(seconds)}: the length must be > 0 s and <= {MAX_SECONDS:g} s")
     info = audio_info(path, max_seconds=None if seconds is not None else MAX_SECONDS)
     channels, rate, frames = info.channels, info.sample_rate, info.frames
     wanted = frames if seconds is None else min(frames, int(math.ceil(seconds * rate)) + rate // 10 + 64)  # 0.1 s more for the resampler

@@ -93,6 +93,11 @@ class MeasuredCoil:
     capacitance_rel_sd: float = 0.0
     capacitance_given: bool = False
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)  # a fit is cached and shared (render.design.coil_impedance): nobody may write into it
+
     @property
     def inductance(self) -> float:
         """H: the inductance at DC, L0 + Σ L_k."""

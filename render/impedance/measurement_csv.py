@@ -94,6 +94,11 @@ class Measurement:
     source: str
     sha256: str
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     @property
     def impedance(self) -> np.ndarray:
         """|Z|·e^(j·phase), complex Ω, shape (F,)."""

@@ -65,6 +65,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import InputError
+from ..units import shown
 from .field import dipole_field, loops_field
 
 DEFAULT_NODES = (4, 4)  # Gauss–Legendre nodes across the build and along the height
@@ -75,9 +76,9 @@ def _positive(where: str, name: str, value) -> float:
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise InputError(f"{where} {name}={value!r}: expected a number") from None
+        raise InputError(f"{where} {name}={shown(value)}: expected a number") from None
     if not np.isfinite(v) or v <= 0.0:
-        raise InputError(f"{where} {name}={value!r}: must be a positive, finite number")
+        raise InputError(f"{where} {name}={shown(value)}: must be a positive, finite number")
     return v
 
 
@@ -169,7 +170,7 @@ class CoilGeometry:
         """
         nu, nz = (int(n) for n in nodes)
         if not (1 <= nu <= MAX_NODES and 1 <= nz <= MAX_NODES):
-            raise InputError(f"nodes={nodes!r}: each count must be from 1 to {MAX_NODES}")
+            raise InputError(f"nodes={shown(nodes)}: each count must be from 1 to {MAX_NODES}")
         xu, wu = np.polynomial.legendre.leggauss(nu)
         xz, wz = np.polynomial.legendre.leggauss(nz)
         u, wu = (xu + 1.0) / 2.0, wu / 2.0  # on [0, 1], weights summing to 1

@@ -40,6 +40,7 @@ from typing import ClassVar
 import numpy as np
 
 from ..errors import InputError
+from ..units import shown
 
 COIL_NAMES = ("coil_a", "coil_b")
 
@@ -48,13 +49,13 @@ def _vector(where: str, name: str, value, *, unit: bool) -> tuple:
     try:
         v = np.asarray(value, dtype=float)
     except (TypeError, ValueError):
-        raise InputError(f"{where} {name}={value!r}: expected three numbers [x, y, z]") from None
+        raise InputError(f"{where} {name}={shown(value)}: expected three numbers [x, y, z]") from None
     if v.shape != (3,) or not np.all(np.isfinite(v)):
-        raise InputError(f"{where} {name}={value!r}: expected three finite numbers [x, y, z]")
+        raise InputError(f"{where} {name}={shown(value)}: expected three finite numbers [x, y, z]")
     if unit:
         n = float(np.sqrt(v @ v))
         if n == 0.0:
-            raise InputError(f"{where} {name}={value!r}: an axis needs a direction (not all zero)")
+            raise InputError(f"{where} {name}={shown(value)}: an axis needs a direction (not all zero)")
         v = v / n
     return tuple(float(x) for x in v)
 
@@ -65,9 +66,9 @@ def _profile(where: str, harmonics):
     try:
         a = np.asarray(harmonics, dtype=float)
     except (TypeError, ValueError):
-        raise InputError(f"{where} harmonics={harmonics!r}: expected a list of numbers") from None
+        raise InputError(f"{where} harmonics={shown(harmonics)}: expected a list of numbers") from None
     if a.ndim != 1 or a.size == 0 or not np.all(np.isfinite(a)) or np.any(a < 0):
-        raise InputError(f"{where} harmonics={harmonics!r}: expected a list of non-negative numbers, one per harmonic")
+        raise InputError(f"{where} harmonics={shown(harmonics)}: expected a list of non-negative numbers, one per harmonic")
     return tuple(float(x) for x in a)
 
 
@@ -75,9 +76,9 @@ def _number(where: str, name: str, value, *, lo: float | None = None) -> float:
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise InputError(f"{where} {name}={value!r}: expected a number") from None
+        raise InputError(f"{where} {name}={shown(value)}: expected a number") from None
     if not np.isfinite(v) or (lo is not None and v < lo):
-        raise InputError(f"{where} {name}={value!r}: must be a finite number" + ("" if lo is None else f" ≥ {lo:g}"))
+        raise InputError(f"{where} {name}={shown(value)}: must be a finite number" + ("" if lo is None else f" ≥ {lo:g}"))
     return v
 
 

@@ -36,6 +36,7 @@ from ..analysis import undefined as U
 from ..analysis.figures import rejection_db
 from ..analysis.undefined import REJECTION_CAP_DB
 from ..errors import InputError
+from ..units import shown
 from .hum import HumEmf
 
 DEFAULT_DISTANCES_M = (0.2, 0.3, 0.5, 0.7, 1.0, 1.5, 2.0, 3.0)
@@ -185,7 +186,7 @@ def map_positions(distances_m, bearings_deg, plane: str) -> np.ndarray:
     elif plane == "xz":
         p[..., 2] = d[:, None] * np.sin(t)[None, :]
     else:
-        raise InputError(f"plane={plane!r}: expected 'xy' (the top faces' plane) or 'xz' (the vertical plane along the strings)")
+        raise InputError(f"plane={shown(plane)}: expected 'xy' (the top faces' plane) or 'xz' (the vertical plane along the strings)")
     return p
 
 
@@ -281,9 +282,9 @@ def _check_shell(shell) -> tuple[float, float]:
     try:
         r1, r2 = (float(x) for x in shell)
     except (TypeError, ValueError):
-        raise InputError(f"shell={shell!r}: expected two radii in metres, inner and outer") from None
+        raise InputError(f"shell={shown(shell)}: expected two radii in metres, inner and outer") from None
     if not (np.isfinite(r1) and np.isfinite(r2) and 0 < r1 <= r2):
-        raise InputError(f"shell={shell!r}: expected 0 < inner ≤ outer radius (m)")
+        raise InputError(f"shell={shown(shell)}: expected 0 < inner ≤ outer radius (m)")
     return r1, r2
 
 
@@ -356,7 +357,7 @@ class PositionMonteCarlo:
 def _check_trials(trials) -> int:
     n = int(trials)
     if n < 1:
-        raise InputError(f"trials={trials!r}: expected at least one trial")
+        raise InputError(f"trials={shown(trials)}: expected at least one trial")
     return n
 
 

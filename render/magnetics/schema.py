@@ -19,7 +19,7 @@ from typing import Any
 import numpy as np
 
 from .. import units as U
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 from ..validate import Field, did_you_mean, read_table, read_value
 from .coil import CoilGeometry, coil_pair, geometry_from_winding
 from .hum import DipoleSource, UniformSource
@@ -67,10 +67,13 @@ def zero_profile_error(loc: str, profile) -> InputError:
     )
 
 
-def check_source_places(sources, *, coil_a, coil_b, source: str) -> None:
+def check_source_places(sources, *, coil_a, coil_b, source: str = "", argument: str | None = None) -> None:
     """Refuse a dipole within :data:`NEAR_DIPOLE_M` of either coil's centre (one line; a dipole inside a winding says so).
 
     coil_a, coil_b : the design's :class:`render.design.Coil` (position, geometry or turns_area)
+    source : the file the sources were read from, named with each source's table
+    argument : instead, the Python argument that gave them (``"sources"``): the refusal is an
+        :class:`~render.errors.ArgumentError` naming ``sources[i]``
     """
     if not any(s.kind == "dipole" for s in sources):
         return
@@ -80,16 +83,23 @@ def check_source_places(sources, *, coil_a, coil_b, source: str) -> None:
         if s.kind != "dipole":
             continue
         at = np.asarray(s.at, dtype=float)
-        loc = f"{_loc(source, f'hum.source {i + 1}')} at=[{', '.join(f'{x:g}' for x in s.at)}] m"
+        shown_at = f"[{', '.join(f'{x:g}' for x in s.at)}]"
+        why = None
         for name, c in zip(("coil_a", "coil_b"), placed):
             if c.inside(at):
-                raise InputError(f"{loc}: lies within {name}'s winding; a dipole source must sit outside the pickup, {NEAR_DIPOLE_M * 100:g} cm or more from each coil")
+                why = f"lies within {name}'s winding; a dipole source must sit outside the pickup, {NEAR_DIPOLE_M * 100:g} cm or more from each coil"
+                break
         r, name = min((float(np.linalg.norm(at - np.asarray(c.centre))), name) for name, c in zip(("coil_a", "coil_b"), placed))  # the nearer coil
-        if r < NEAR_DIPOLE_M:
-            raise InputError(
-                f"{loc}: {r * 100:.3g} cm from {name}'s centre, closer than {NEAR_DIPOLE_M * 100:g} cm: a point dipole there stands for no real source"
+        if why is None and r < NEAR_DIPOLE_M:
+            why = (
+                f"{r * 100:.3g} cm from {name}'s centre, closer than {NEAR_DIPOLE_M * 100:g} cm: a point dipole there stands for no real source"
                 f" (the pickup's own field region); move it {NEAR_DIPOLE_M * 100:g} cm or more from both coils"
             )
+        if why is None:
+            continue
+        if argument is not None:
+            raise ArgumentError(f"{argument}[{i}]", f"DipoleSource(at={shown_at} m)", why)
+        raise InputError(f"{_loc(source, f'hum.source {i + 1}')} at={shown_at} m: {why}")
 
 
 def _loc(source: str, table: str, key: str | None = None) -> str:

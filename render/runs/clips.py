@@ -391,6 +391,24 @@ def _rig_record(rig: RigFile | None) -> dict:
     return {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
 
 
+SHARED_STEM = "two design files share a name; their clips would overwrite each other: rename one"
+
+
+def check_stems(designs: Sequence[Design], compare: Any = None) -> None:
+    """Refuse designs whose files share a stem, or a comparison pickup whose file shares a design's: each clip's
+    files are named by its file's stem, so one would overwrite the other. Before any file is written."""
+    from ..errors import ArgumentError
+
+    seen: dict[str, str] = {}
+    for d in designs:
+        stem, shown = d.stem, (d.source if not d.changes else d.name) or d.name  # a changed design (render.with_values) is named by its name
+        if stem in seen:
+            raise ArgumentError("designs", f"{seen[stem]}, {shown}", SHARED_STEM, cli=f"{seen[stem]}, {shown}: {SHARED_STEM}")
+        seen[stem] = shown
+    if compare is not None and Path(compare.source).stem in seen:
+        raise ArgumentError("compare", compare.source, f"the design {seen[Path(compare.source).stem]} has the same file name; their clips would overwrite each other: rename one")
+
+
 def check_dry_settings(dry: Path, settings: RenderSettings) -> None:
     """Refuse settings that do not fit the dry file, as the command line does: a phrase whole (its length,
     no ``velocity_scale``), a recording as audio (no ``strength``, which scales a phrase's plucks)."""
@@ -461,6 +479,7 @@ def run_clips(
         raise ArgumentError("dry", f"{dry}", "no such file; give a phrase (.toml) or a recorded velocity file", option="--dry")
     A.instance("settings", settings, RenderSettings, "a render.RenderSettings(...) (RenderSettings() for the defaults)")
     check_dry_settings(dry, settings)
+    check_stems(designs, compare)
     out = output_folder(A.path("out", out, what="a folder's path"), overwrite=overwrite, claimed=True)  # an earlier run's files are replaced only when asked
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup

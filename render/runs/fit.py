@@ -16,7 +16,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 
 if TYPE_CHECKING:
     from collections.abc import Callable
@@ -84,6 +84,33 @@ def start_file_of(spec, fitfile: Path) -> Path:
     return fitfile.parent / start if spec.start_in_file and not start.is_absolute() else start
 
 
+def start_file_given(start_path) -> str | None:
+    """The start design's file as ``start_path`` gives it: a path as it is, a loaded :class:`~render.design.Design` as
+    the file it came from, which must still hold it (the fit rewrites that file's text into each result); None stays None."""
+    from ..arguments import path
+    from ..design import Design, load_design
+    from ..io.hashing import sha256_file
+
+    if start_path is None:
+        return None
+    if not isinstance(start_path, Design):
+        return str(path("start_path", start_path, what="the start design's file, or a render.Design loaded from one"))
+    shown = f"Design({start_path.name!r})"
+    fix = "pass the design's file (a path) as start_path"
+    source = start_path.source
+    if not source:
+        raise ArgumentError("start_path", shown, f"was built in memory: no design file for the fit to rewrite; {fix}")
+    if start_path.changes:  # render.with_values: the changed text is the design's, not its file's
+        raise ArgumentError(
+            "start_path",
+            shown,
+            f"is {source} with changes ({', '.join(k for k, _ in start_path.changes)}): no file holds it for the fit to rewrite; write design.text to a .toml file beside {source} and pass that",
+        )
+    if not Path(source).is_file() or sha256_file(source) != start_path.sha256 or load_design(source) != start_path:
+        raise ArgumentError("start_path", shown, f"is not {source} as it stands (one of them changed since loading, or a rig was applied); {fix}")
+    return source
+
+
 def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0, marked: bool = True, overwrite: bool = False) -> FitRun:
     """Search part values (snapped to preferred-number series) that meet ``fitfile``'s aims, and write the results into ``out``.
 
@@ -93,8 +120,9 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
         The fit file (aims, free parts, start design).
     out : str or Path
         The folder; refused before any work if it holds files, unless ``overwrite``.
-    start_path : str or Path or None
-        The start design, instead of the fit file's ``from``.
+    start_path : str or Path or Design or None
+        The start design, instead of the fit file's ``from``: its file, or a Design loaded from one and
+        unchanged since (the results are that file's text with the fitted values written in).
     rig : RigFile or str or Path or None
         The rig (a rig file's path, or one loaded) for the start and every result.
     top : int, ≥ 1
@@ -122,6 +150,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     from ..io.toml import loads
 
     top = whole("top", top, hint=" (how many results to write)")
+    start_path = start_file_given(start_path)
     out = output_folder(out, overwrite=overwrite, prefix="fit")  # an earlier run's files are replaced only when asked
     fitfile = Path(fitfile)
     spec = load_fit(fitfile, start_override=start_path)
@@ -227,8 +256,8 @@ def fit_and_render(
         The fit file (aims, free parts, start design).
     out : str or Path or None
         The folder (default: ``outputs/fit-<fit file stem>``); refused if it holds files, unless ``overwrite``.
-    start_path : str or Path or None
-        The start design's file, instead of the fit file's ``from``.
+    start_path : str or Path or Design or None
+        The start design's file, instead of the fit file's ``from`` (a Design as :func:`fit` takes it).
     rig : RigFile or str or Path or None
         The rig for the fit, the clips and the session.
     top : int, ≥ 1
@@ -275,6 +304,7 @@ def fit_and_render(
     from .fit_phrase import phrase_file_of
 
     top = whole("top", top, hint=" (how many results to write)")
+    start_path = start_file_given(start_path)  # refused before the folder is made
     step = on_step or (lambda _: None)
     folder = output_folder(out or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
     rig_file = as_rig(rig)
