@@ -97,13 +97,34 @@ def _refuse_silent(design) -> None:
         )
 
 
+def knee_at_rest(design) -> str | None:
+    """The side ("low" or "high") whose soft-limit knee the bias lies inside, or None.
+
+    There the output stage is on its knee with no signal (the loop still holds the output within
+    knee/(1 + loop gain) of the bias): the limit's onset on that side is reached at rest. A bias at or
+    past a limit (:func:`resting_limit`) is not counted here.
+    """
+    if resting_limit(design):
+        return None
+    knee = design.supply.knee
+    if design.bias_v <= design.limit_low_v + knee:
+        return "low"
+    if design.bias_v >= design.limit_high_v - knee:
+        return "high"
+    return None
+
+
 def onset(design, *, frequency_hz: float = SINE_HZ) -> dict:
     """String velocity (peak, m/s) and coil_a EMF (peak, V) of a sine at which
-    the op-amp output first enters the soft limit's knee, on each side."""
+    the op-amp output first enters the soft limit's knee, on each side.
+
+    Where the bias already lies inside a knee (:func:`knee_at_rest`) that side's onset is 0, reached at
+    rest (``at_rest``: "up" or "down", else None), never a negative velocity.
+    """
     g = velocity_to_amp_output(design, frequency_hz)
     knee = design.supply.knee
-    up = (design.limit_high_v - knee - design.bias_v) / g
-    down = (design.bias_v - design.limit_low_v - knee) / g
+    up = max(0.0, design.limit_high_v - knee - design.bias_v) / g
+    down = max(0.0, design.bias_v - design.limit_low_v - knee) / g
     sens = design.coil_a.sensitivity
     return {
         "frequency_hz": frequency_hz,
@@ -112,6 +133,7 @@ def onset(design, *, frequency_hz: float = SINE_HZ) -> dict:
         "emf_up_v": up * sens,
         "emf_down_v": down * sens,
         "first_side": "up" if up < down else ("down" if down < up else "both"),
+        "at_rest": {"low": "down", "high": "up", None: None}[knee_at_rest(design)],
     }
 
 
@@ -141,7 +163,18 @@ def rest_reason(design) -> str:
     )
 
 
+def knee_reason(design) -> str:
+    """What a setting with :func:`knee_at_rest` means, in words (its warning)."""
+    side = knee_at_rest(design)
+    lo, hi = (design.limit_low_v, design.limit_low_v + design.supply.knee) if side == "low" else (design.limit_high_v - design.supply.knee, design.limit_high_v)
+    return (
+        f"the bias {design.bias_v:.4g} V lies inside the soft limit's {side} knee ({lo:.3g}..{hi:.3g} V): the output stage is on it with no signal,"
+        f" so the onset on that side is reached at rest (0 m/s) and the phrase is limited there from the start"
+    )
+
+
 REST_CELL = {"low": "on low limit", "high": "on high limit"}  # table cells
+AT_REST = "at rest"  # an onset cell's side where the bias lies inside the knee
 RESTS = "none: rests on limit"  # a table cell for an onset or a recovery there
 RESTS_PLAYED = "rests on a limit"  # a phrase table's cell for where its limit is reached there
 
@@ -158,7 +191,9 @@ def onset_cell(row: dict, width: tuple[int, int] = (0, 0), unit: str = "") -> st
     o = row["onset"]
     if o["velocity_up_m_per_s"] is None:
         return RESTS
-    return f"{o['velocity_up_m_per_s']:{width[0]}.3f} / {o['velocity_down_m_per_s']:{width[1]}.3f}{unit}"
+    rest = o.get("at_rest")
+    up, down = (AT_REST if rest == side else f"{o[f'velocity_{side}_m_per_s']:.3f}{unit if rest else ''}" for side in ("up", "down"))
+    return f"{up:>{width[0]}s} / {down:>{width[1]}s}{'' if rest else unit}"
 
 
 def sine_distortion(design, *, velocity_peak: float, frequency_hz: float = SINE_HZ, sample_rate: int = 48000, seconds: float = 0.6, settle: float = 0.35) -> dict:
@@ -212,7 +247,7 @@ def _measure(args: tuple) -> dict:
         why = rest_reason(d)
         for key in ("velocity_up_m_per_s", "velocity_down_m_per_s", "emf_up_v", "emf_down_v"):
             U.mark(row["onset"], key, why)
-        row["onset"]["first_side"] = None
+        row["onset"]["first_side"] = row["onset"]["at_rest"] = None
         for key in ("recovery_offset_v", "recovery_tau_s"):
             U.mark(row, key, why)
     return row
@@ -303,5 +338,6 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
     warnings: tuple[str, ...] = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway",) if ref_v > REALISTIC_VELOCITY else ()
     warnings += tuple(f"{s.label}: {rest_reason(s.design)}; it has no onset, headroom or recovery, and its THD is that of a stage already clipped" for s in settings if resting_limit(s.design))
+    warnings += tuple(f"{s.label}: {knee_reason(s.design)}" for s in settings if knee_at_rest(s.design))
     rows = pmap(_measure, [(s, ref_v) for s in settings], jobs)
     return BiasSweep(design=design, settings=tuple(settings), rows=tuple(rows), sine_velocity_m_per_s=ref_v, keep_load=keep_load, warnings=warnings)

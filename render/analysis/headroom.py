@@ -15,7 +15,12 @@ and the margin on each side is
     margin = 20·log10(onset / e)   dB,
 
 positive while the phrase stays inside the identity part, negative by as
-much as it went past the onset. Everything before the limit is linear, so
+much as it went past the onset. Where the bias itself lies inside a knee
+(onset ≤ 0 on that side: only a divider swept off centre does this, the
+loader refuses such a design) the output stage is on that knee with no
+signal at all: that side is *limited at rest*, its margin has no value (the
+log of zero room), the limit is reached at a pluck of 0, and any render
+counts as limited while it rests there. Everything before the limit is linear, so
 playing the phrase g dB louder moves every excursion up by g dB: the limit is
 reached g = min(margin_up, margin_down) dB above the phrase. A phrase's
 plucks set the string's initial displacement, and the string's velocity (so
@@ -45,13 +50,15 @@ from dataclasses import dataclass, replace
 from . import undefined as U
 
 NO_EXCURSION = "the op-amp output never leaves its bias point on this side"
+AT_REST = "limited at rest: the bias lies inside the soft limit's knee on this side, so the output stage is on its knee with no signal"
+AT_REST_CELL, AT_REST_MARGIN_CELL = "at rest", "limited at rest"  # table cells: a strength, a margin
 NO_PLUCK = "what was played is not a phrase (no pluck strength to scale)"
 NOT_FOUND = "not found by rendering at scaled strength: the margin stops falling as the plucks grow (the strings leave the construction's computed flux range)"
 LEFT_RANGE = "not found by rendering at scaled strength: the strings swing past the construction's computed flux range before the op-amp output reaches the limit, so no strength there is claimed"
 
 
 def margin_db(onset_v: float, excursion_v: float) -> float | None:
-    """20·log10(onset / excursion), dB; None when the excursion is zero (or the onset is not positive)."""
+    """20·log10(onset / excursion), dB; None when the excursion is zero or the onset is not positive (limited at rest)."""
     if excursion_v <= 0 or onset_v <= 0:
         return None
     return 20.0 * math.log10(onset_v / excursion_v)
@@ -106,6 +113,10 @@ class PlayedHeadroom:
     searched_reason: str | None = None
     searched_range_edge_m: float | None = None
 
+    def at_rest(self, side: str | None = None) -> bool:
+        """Whether the bias lies inside the knee on ``side`` ("up", "down"; None: either), so that side is limited at rest."""
+        return (side != "down" and self.onset_up_v <= 0) or (side != "up" and self.onset_down_v <= 0)
+
     @property
     def guessed(self) -> bool:
         """Whether the strengths at the limit are only a linear guess (nonlinear sensing, no search)."""
@@ -114,7 +125,7 @@ class PlayedHeadroom:
     @property
     def limit_db_above(self) -> float | None:
         """How many dB above the phrase (its plucks scaled alike) the limit is reached: the smaller margin, or for a searched design 20·log10(s*/s)."""
-        if not self.searched:
+        if not self.searched or self.at_rest():
             return self.margin_db
         if self.searched_strength_m is None or not self.strongest_pluck_m:
             return None
@@ -122,12 +133,16 @@ class PlayedHeadroom:
 
     @property
     def margin_db(self) -> float | None:
-        """The smaller margin, dB: how far above the phrase the limit is reached (None: no excursion at all)."""
+        """The smaller margin, dB: how far above the phrase the limit is reached (None: no excursion at all, or limited at rest)."""
+        if self.at_rest():
+            return None
         m = [x for x in (self.margin_up_db, self.margin_down_db) if x is not None]
         return min(m) if m else None
 
     def strength_at_limit_m(self, side: str | None = None) -> float | None:
-        """The strongest pluck (m) at which the limit is reached, every pluck scaled alike (``side``: "up", "down" or None for the first)."""
+        """The strongest pluck (m) at which the limit is reached, every pluck scaled alike (``side``: "up", "down" or None for the first); 0 where limited at rest."""
+        if self.at_rest(side) and self.strongest_pluck_m is not None:
+            return 0.0
         if side is None and self.searched:
             return self.searched_strength_m
         g = {"up": self.margin_up_db, "down": self.margin_down_db, None: self.margin_db}[side]
@@ -143,9 +158,9 @@ class PlayedHeadroom:
             "linear_excursion_up_v": self.excursion_up_v,
             "linear_excursion_down_v": self.excursion_down_v,
         }
-        U.put(out, "played_margin_up_db", self.margin_up_db, NO_EXCURSION)
-        U.put(out, "played_margin_down_db", self.margin_down_db, NO_EXCURSION)
-        U.put(out, "limit_db_above_played", self.limit_db_above, NOT_FOUND if self.searched else NO_EXCURSION)
+        U.put(out, "played_margin_up_db", self.margin_up_db, AT_REST if self.at_rest("up") else NO_EXCURSION)
+        U.put(out, "played_margin_down_db", self.margin_down_db, AT_REST if self.at_rest("down") else NO_EXCURSION)
+        U.put(out, "limit_db_above_played", self.limit_db_above, AT_REST if self.at_rest() else NOT_FOUND if self.searched else NO_EXCURSION)
         U.put(out, "strongest_pluck_m", self.strongest_pluck_m, NO_PLUCK)
         for key, side in (("limit_strength_m", None), ("limit_strength_up_m", "up"), ("limit_strength_down_m", "down")):
             U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else (self.searched_reason or NOT_FOUND) if self.searched and side is None else NO_EXCURSION)
@@ -246,6 +261,17 @@ def format_share(fraction: float) -> str:
 def format_margin(db: float | None) -> str:
     """A margin in dB with its sign ("+6.1 dB"), or "no swing"."""
     return "no swing" if db is None else f"{db:+.1f} dB"
+
+
+def margin_cell(h: PlayedHeadroom, side: str) -> str:
+    """``side``'s margin ("up" or "down") as a table cell: :func:`format_margin`, or "limited at rest"."""
+    return AT_REST_MARGIN_CELL if h.at_rest(side) else format_margin(h.margin_up_db if side == "up" else h.margin_down_db)
+
+
+def strength_cell(h: PlayedHeadroom, side: str | None = None, *, mark_guess: bool = True) -> str:
+    """The strongest pluck at which ``side`` reaches the limit as a table cell: :func:`format_strength` (with "≈" before a
+    linear guess, unless not ``mark_guess``), or "at rest"."""
+    return AT_REST_CELL if h.at_rest(side) else format_strength(h.strength_at_limit_m(side), guessed=mark_guess and h.guessed)
 
 
 def format_strength(m: float | None, *, guessed: bool = False) -> str:

@@ -8,7 +8,9 @@ loop's network. These figures come from the nonlinear solve of the loop
 (:mod:`render.chain.loop`) through the whole chain.
 
 - :func:`recovery` fits the return of the op-amp output to its DC point
-  after the burst's end, v(t) − V_dc ≈ A·e^{−(t − t_end)/τ}, by a straight
+  (its own resting point: the closed loop's static transfer of the linear
+  operating point, :func:`rest_point`, which is a rail when that point lies
+  past one) after the burst's end, v(t) − V_dc ≈ A·e^{−(t − t_end)/τ}, by a straight
   line through log|v − V_dc| (least squares) over the part of the decay
   where it has fallen from 90 % to 10 % of its value 2 ms after the end
   (the first 2 ms are left out: the loop's faster modes settle there);
@@ -35,7 +37,7 @@ SKIP_S = 2e-3  # s left out after the burst's end before fitting (common practic
 MIN_FIT_S = 0.5e-3  # s: a decay fitted over less than this is no recovery (common practice, no source)
 NO_OFFSET = "no offset: the output is back at its DC point when the fit would start"
 NO_DECAY = "no slow recovery to fit: the output rings or settles within a few ms of the burst's end"
-NO_RETURN = "the output does not return towards its DC point in the time rendered after the burst"
+NO_RETURN = "the output does not return towards its own resting point in the time rendered after the burst"
 SHORT = {NO_OFFSET: "no offset", NO_DECAY: "settles fast, no fit", NO_RETURN: "does not return"}  # table cells
 
 
@@ -83,7 +85,7 @@ class Recovery:
 HOLD_TOL_V = 1e-3  # V: the output within this of a limit is held on it
 
 
-def held_on_limit(v, *, sample_rate: float, end_s: float, limits: tuple[float, float], within_s: float = SKIP_S) -> float:
+def held_on_limit(v, *, sample_rate: float, end_s: float, limits: tuple[float, ...], within_s: float = SKIP_S) -> float:
     """How long (s) the op-amp output ``v`` stays on a limit after ``end_s``: 0 unless it is on one (within
     :data:`HOLD_TOL_V`) within ``within_s`` of the end; then until its last sample there (the free decay
     leaves the limit for good; the samples' ripple as the output settles onto it is not a leaving)."""
@@ -97,13 +99,13 @@ def held_on_limit(v, *, sample_rate: float, end_s: float, limits: tuple[float, f
     return 0.0
 
 
-def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6, limits: tuple[float, float] | None = None) -> Recovery:
+def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6, limits: tuple[float, ...] | None = None) -> Recovery:
     """Fit the decay of ``v`` − ``dc_v`` after ``end_s`` (module text).
 
     v : array_like, V, shape (n,): the op-amp output, starting at t = 0
     sample_rate : Hz
     end_s : s, when the burst ended
-    dc_v : V, the op-amp output's DC operating point
+    dc_v : V, the op-amp output's DC operating point, where it rests (:func:`rest_point`)
     skip_s : s left out after the end (of the hold, where there is one)
     floor_v : V: a deviation below this after ``skip_s`` counts as no offset
     limits : (low, high), V, the output's limits, or None: where the output is held on one after the
@@ -112,6 +114,8 @@ def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float 
     returns : :class:`Recovery`
     """
     v = np.asarray(v, dtype=float)
+    if limits is not None:  # a limit the output rests on is its DC point: being there is being back, not held
+        limits = tuple(r for r in limits if abs(r - dc_v) > HOLD_TOL_V)
     held = held_on_limit(v, sample_rate=sample_rate, end_s=end_s, limits=limits) if limits is not None else 0.0
     end_s = end_s + held  # the free decay's own start
     start = int(round((end_s + skip_s) * sample_rate))
@@ -142,6 +146,15 @@ def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float 
     if tau < skip_s / 4:
         return Recovery(None, None, i1 - i0, NO_DECAY, held)
     return Recovery(float(np.sign(d0) * np.exp(icept)), tau, i1 - i0, "", held)
+
+
+def rest_point(plan) -> float:
+    """The op-amp output's resting point (V) for a render plan: its linear DC point where that lies inside the
+    window, else where the closed loop holds it at DC (:func:`render.chain.loop.static_transfer`, the
+    renderer's own start): on a knee within knee/(1 + A0) of it, or on the rail."""
+    from ..chain.loop import static_transfer
+
+    return float(static_transfer(plan.bias_v, window=plan.window, loop_gain=plan.loop.open_loop_gain))
 
 
 def burst_velocity(velocity_peak: float, *, frequency_hz: float, sample_rate: float, burst_s: float = BURST_S, after_s: float = AFTER_S) -> np.ndarray:
@@ -178,8 +191,9 @@ def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0,
     a = int(round(skip * sample_rate / frequency_hz))
     b = int(round(periods * sample_rate / frequency_hz))
     figs = distortion_figures(r["out"][a:b], sample_rate=sample_rate, frequency_hz=frequency_hz)
-    rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=plan.bias_v, limits=(plan.window.low, plan.window.high))
-    out = {**figs, "frequency_hz": frequency_hz, "velocity_peak_m_per_s": velocity_peak, "burst_s": end_s, "dc_v": plan.bias_v, "recovery_held_s": rec.held_s}
+    dc = rest_point(plan)
+    rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=dc, limits=(plan.window.low, plan.window.high))
+    out = {**figs, "frequency_hz": frequency_hz, "velocity_peak_m_per_s": velocity_peak, "burst_s": end_s, "dc_v": dc, "recovery_held_s": rec.held_s}
     U.put(out, "recovery_offset_v", rec.offset_v, rec.reason)
     U.put(out, "recovery_tau_s", rec.tau_s, rec.reason)
     return out

@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from ..analysis.bias import RESTS_PLAYED
-from ..analysis.headroom import GUESS_NOTE, LEFT_RANGE, PlayedHeadroom, format_margin, format_share, format_strength
+from ..analysis.headroom import AT_REST_CELL, GUESS_NOTE, LEFT_RANGE, PlayedHeadroom, format_margin, format_share, format_strength, margin_cell, strength_cell
 
 
 def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
@@ -14,12 +14,14 @@ def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  "
     lines = [f"{indent}{'':{width}s}  {'margin up / down':^19s}   {'limit reached at':^20s}   {'limited':>9s}"]
     for name, h in rows:
         strength = h.strength_at_limit_m()
-        if h.searched and strength is None:
+        if h.at_rest():
+            reach = AT_REST_CELL
+        elif h.searched and strength is None:
             edge = h.searched_range_edge_m
             reach = ("beyond " + format_strength(edge) if edge else "past the flux range") if h.searched_reason == LEFT_RANGE else "not found"
         else:
             reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength, guessed=h.guessed)} ({format_margin(h.limit_db_above)})"
-        margins = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
+        margins = f"{margin_cell(h, 'up'):>8s} / {margin_cell(h, 'down'):<8s}"
         lines.append(f"{indent}{name:{width}s}  {margins:19s}   {reach:^20s}   {format_share(h.limited_fraction):>9s}")
     if any(h.guessed for _, h in rows):
         lines.append(f"{indent}{GUESS_NOTE}")
@@ -49,16 +51,17 @@ def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom], rests: li
     plucks = {h.strongest_pluck_m for h in played}
     pluck = plucks.pop() if len(plucks) == 1 else None
     what = f"strongest pluck {format_strength(pluck)}" if pluck is not None else "a recording"
+    wide = 15 if any(h.at_rest() for h in played) else 8  # room for "limited at rest" in the dB column
     lines = [
         f"the phrase at each setting ({what}): where the op-amp output reaches the limit's onset, up / down",
-        f"  {'setting':26s} {'as strongest pluck':^19s}   {'as dB above phrase':^19s}   {'limited':>9s}",
+        f"  {'setting':26s} {'as strongest pluck':^19s}   {'as dB above phrase':^{wide + 11}s}   {'limited':>9s}",
     ]
     for label, h, rest in zip(labels, played, rests or [None] * len(played)):
-        mm = f"{format_strength(h.strength_at_limit_m('up'), guessed=h.guessed):>8s} / {format_strength(h.strength_at_limit_m('down'), guessed=h.guessed):<8s}"
-        db = f"{format_margin(h.margin_up_db):>8s} / {format_margin(h.margin_down_db):<8s}"
+        mm = f"{strength_cell(h, 'up'):>8s} / {strength_cell(h, 'down'):<8s}"
+        db = f"{margin_cell(h, 'up'):>{wide}s} / {margin_cell(h, 'down'):<{wide}s}"
         if rest:
             mm = db = RESTS_PLAYED
-        lines.append(f"  {label:26s} {mm:>19s}   {db:>19s}   {format_share(h.limited_fraction):>9s}")
+        lines.append(f"  {label:26s} {mm:>19s}   {db:>{2 * wide + 3}s}   {format_share(h.limited_fraction):>9s}")
     if any(h.guessed for h in played):
         lines.append(f"  {GUESS_NOTE}")
     return lines

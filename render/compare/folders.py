@@ -40,7 +40,8 @@ BIAS_COLUMNS = (
     "loudness",
 )
 BIAS_NOTES = (
-    "Onset: the string velocity (m/s peak, 1 kHz) at which the output first enters the soft limit on each side; THD, H2 and H3 of the test sine.",
+    "Onset: the string velocity (m/s peak, 1 kHz) at which the output first enters the soft limit on each side; THD, H2 and H3 of the test sine."
+    ' "At rest": the bias lies inside that side\'s knee, so the output stage is on it with no signal (limited at rest).',
     "The phrase reaches the limit: where the op-amp output of the phrase played at this setting reaches the limit's onset on each side, as its strongest pluck"
     " (mm, every pluck scaled alike) and as dB above the phrase as played; phrase limited: the share of its time the output stage was limited.",
     "Loudness per ITU-R BS.1770-4, in LUFS re 1 V full scale.",
@@ -162,14 +163,14 @@ def compare_clip(folder: Path, p, rec: dict, *, volts_full_scale: float) -> Page
 
 def played_cells(headroom: dict) -> tuple[str, str, str]:
     """A phrase clip's headroom record (:meth:`render.analysis.headroom.PlayedHeadroom.record`) as the playing-units cells, as ``render bias`` prints them."""
-    from ..analysis.headroom import format_margin, format_share, format_strength, from_record
+    from ..analysis.headroom import format_share, from_record, margin_cell, strength_cell
 
     h = from_record(headroom)
     if h is None:
         return ("not computed",) * 3
     return (
-        f"{format_strength(h.strength_at_limit_m('up'))} / {format_strength(h.strength_at_limit_m('down'))}",
-        f"{format_margin(h.margin_up_db)} / {format_margin(h.margin_down_db)}",
+        f"{strength_cell(h, 'up', mark_guess=False)} / {strength_cell(h, 'down', mark_guess=False)}",
+        f"{margin_cell(h, 'up')} / {margin_cell(h, 'down')}",
         format_share(h.limited_fraction),
     )
 
