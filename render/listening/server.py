@@ -98,7 +98,10 @@ class _SessionRequestHandler(QuietHandler):
         if path == "/api/result":
             try:
                 result = srv.result()
-            except InputError as exc:
+            except InputError as exc:  # a damaged key: the page and the terminal say what is wrong
+                if srv.notify is not None and not srv.told_damage:
+                    srv.told_damage = True
+                    srv.notify(f"cannot open the result: {exc}")
                 return self._error(500, str(exc), head=head)
             if result is None:
                 return self._error(409, "the result opens once every trial is answered", head=head)
@@ -187,6 +190,7 @@ class ListeningServer(LoopbackServer):
         if len(sizes) != 1:
             raise InputError(f"SESSION={session}: the clips differ in size; the session folder is damaged, make a new one with `render blind`")
         self.notify = notify
+        self.told_damage = False  # a damaged key is reported on the terminal once
         self.page = read_page()
         self._connections = threading.BoundedSemaphore(MAX_CONNECTIONS)
         self._result_lock = threading.Lock()
