@@ -1,7 +1,10 @@
 """What the loopback HTTP servers of ``render watch`` and ``render listen`` share (standard library only).
 
 Each binds 127.0.0.1 only, on a port the user chose or a free one, and
-answers only a Host header naming that address and port (DNS rebinding);
+answers only a Host header naming that address and port (DNS rebinding),
+or the address alone on port 80, which clients leave out of Host and
+Origin as the scheme's default (RFC 9110 §4.2.1, §4.2.3 and §7.2; WHATWG URL
+Standard, "default port"), :func:`own_authorities`;
 its handler logs nothing and names no Python version. The routes, bodies and
 life cycle stay with each server.
 """
@@ -25,6 +28,19 @@ COMMON_HEADERS = (
 )
 
 
+HTTP_DEFAULT_PORT = 80  # http's default port: a client omits it from Host and Origin (RFC 9110 §4.2.1)
+LOCAL_NAMES = (HOST, "localhost")
+
+
+def own_authorities(port: int) -> frozenset[str]:
+    """The ``host[:port]`` a client sends for this server: 127.0.0.1 or localhost with ``port``, and without it on port 80.
+
+    Both the Host header and an Origin's authority are compared with these (lower-case; host names are case-insensitive).
+    """
+    names = {f"{name}:{int(port)}" for name in LOCAL_NAMES}
+    return frozenset(names | set(LOCAL_NAMES) if int(port) == HTTP_DEFAULT_PORT else names)
+
+
 def check_port(port) -> int:
     """``port`` as an int from 0 to 65535 (0: a free one), or the one-line refusal."""
     if not 0 <= int(port) <= 65535:
@@ -45,7 +61,7 @@ class LoopbackServer(ThreadingHTTPServer):
         except OSError as exc:
             raise ArgumentError("port", f"{port}", f"cannot listen on {HOST} ({exc.strerror or exc}); choose another port or 0 for a free one") from None
         p = self.server_address[1]
-        self.allowed_hosts = frozenset({f"{HOST}:{p}", f"localhost:{p}"})
+        self.allowed_hosts = own_authorities(p)
 
     def server_bind(self):
         socketserver.TCPServer.server_bind(self)  # skip HTTPServer's reverse name look-up
@@ -86,7 +102,7 @@ class QuietHandler(BaseHTTPRequestHandler):
     def _target(self, *, head: bool = False) -> SplitResult | None:
         """The request target, split, if the Host is the server's own and the target is origin-form; else None (answered)."""
         allowed: frozenset[str] = getattr(self.server, "allowed_hosts", frozenset())
-        if self.headers.get("Host") not in allowed:
+        if (self.headers.get("Host") or "").lower() not in allowed:
             self._error(421, "Host: this server answers only for its own loopback address", head=head)
             return None
         if not self.path.startswith("/") or self.path.startswith("//"):

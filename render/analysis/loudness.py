@@ -207,6 +207,26 @@ def true_peak_dbtp(x: np.ndarray) -> float:
 
 TRUE_PEAK_CEILING_DBTP = -1.0  # the ceiling a loudness-matched copy keeps its true peak under (EBU R 128's maximum true peak)
 
+# What a true peak read by :func:`true_peak_dbtp` can miss, so that gains aim this far under a ceiling:
+# - over-sampling: the meter sees the signal only at 4x the sample rate, and a sine at frequency f can peak
+#   midway between two over-sampled points, π·f/(4·fs) off in phase, where the meter reads cos(π·f/(4·fs)) of
+#   it; at f = fs/2 that is cos(π/8), 0.688 dB low (the over-sampling error that BS.1770-4 Annex 2 notes;
+#   the closed form is checked in tests/analysis/test_loudness.py);
+# - the written file: a blind session's TPDF dither (at most 2**-23 of full scale) and float32 rounding (a
+#   relative 2**-24) add under 0.00001 dB at -1 dBTP.
+# 0.7 dB covers both; gains aim at ceiling - margin (true_peak_aim).
+TRUE_PEAK_MARGIN_DB = 0.7
+
+
+def true_peak_aim(ceiling_dbtp: float = TRUE_PEAK_CEILING_DBTP) -> float:
+    """The true peak (dBTP, as :func:`true_peak_dbtp` reads it) that gains aim at under ``ceiling_dbtp``: :data:`TRUE_PEAK_MARGIN_DB` below it."""
+    return float(ceiling_dbtp) - TRUE_PEAK_MARGIN_DB
+
+
+def ceiling_record(ceiling_dbtp: float = TRUE_PEAK_CEILING_DBTP) -> dict:
+    """The ceiling as the pages and records state it: the ceiling, the margin and the aim (dBTP, dB, dBTP)."""
+    return {"ceiling_dbtp": float(ceiling_dbtp), "true_peak_margin_db": TRUE_PEAK_MARGIN_DB, "true_peak_aim_dbtp": true_peak_aim(ceiling_dbtp)}
+
 
 def ceiling_gains(loudness, peaks, *, target_lufs: float, ceiling_dbtp: float = TRUE_PEAK_CEILING_DBTP) -> tuple[list, float]:
     """Gains (dB) bringing each signal to ``target_lufs``, all lowered together so that none's true peak passes ``ceiling_dbtp``.
@@ -216,8 +236,10 @@ def ceiling_gains(loudness, peaks, *, target_lufs: float, ceiling_dbtp: float = 
     returns : (gains, the common lowering in dB, ≥ 0)
 
     A gain of g dB moves both the integrated loudness and the true peak by g (BS.1770-4 is a mean square,
-    the true peak a maximum).
+    the true peak a maximum). The measured true peaks are held at :func:`true_peak_aim`, :data:`TRUE_PEAK_MARGIN_DB`
+    under the ceiling, so that what the 4x meter misses between samples, and dither and rounding, stay under it too.
     """
+    aim = true_peak_aim(ceiling_dbtp)
     gains = [None if lufs is None else target_lufs - lufs for lufs in loudness]
-    lowered = max([0.0, *(p + g - ceiling_dbtp for p, g in zip(peaks, gains) if g is not None)])
+    lowered = max([0.0, *(p + g - aim for p, g in zip(peaks, gains) if g is not None)])
     return [None if g is None else g - lowered for g in gains], float(lowered)

@@ -25,6 +25,7 @@ from typing import Any
 
 import numpy as np
 
+from ..analysis.loudness import ceiling_record
 from ..errors import InputError
 from .assets import PAGE_SECONDS, PageCopy, page_copy, png_rgb, shade, spectrogram_levels, spectrum_curve
 
@@ -180,7 +181,8 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
     volts_full_scale : V
         The run's WAV full scale: the page plays at this scale (the true
         levels), matching loudness by attenuation only, and lowers every
-        clip together when a true peak would pass −1 dBTP.
+        clip together when a true peak would pass −1 dBTP less its margin
+        (:func:`render.analysis.loudness.ceiling_record`).
     jobs : int
         Clips prepared in this many processes (the same bytes as one).
     """
@@ -206,7 +208,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         "matched_column": text.matched_column,
         "sample_rate": rates.pop(),
         "volts_full_scale": float(volts_full_scale),
-        "ceiling_dbtp": -1.0,
+        **ceiling_record(),  # the true-peak ceiling, and the margin under it the page aims at (one rule with render blind and bias)
         "page_seconds": float(PAGE_SECONDS),
         "bits": 16,
         "strip_top_db": top,

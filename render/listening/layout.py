@@ -119,15 +119,76 @@ def load_plan(paths: SessionPaths) -> dict:
     return plan
 
 
+DAMAGED_KEY = "the session's key is damaged: build the session again with `render blind`"
+
+
+def _text(value) -> bool:
+    return isinstance(value, str)
+
+
+def _file_fields(rec, fields=("path", "sha256", "toml")) -> str | None:
+    """The first of ``fields`` that ``rec`` lacks as text, or None."""
+    return next((f for f in fields if not _text(rec.get(f))), None)
+
+
+def key_damage(key: dict) -> str | None:
+    """What is wrong with the shape of a key (beyond its trials), as ``field: problem``; None for a sound key.
+
+    Checks everything scoring reads: two designs, each with its name, path, SHA-256 and TOML text (text that
+    parses as TOML), their changes and measured coils; the rig's file, if any; two loudness gains.
+    """
+    import math
+
+    from ..io.toml import TOMLDecodeError, loads
+
+    designs = key.get("designs")
+    if not isinstance(designs, list) or len(designs) != 2:
+        got = (f"{len(designs)} entr{'y' if len(designs) == 1 else 'ies'}") if isinstance(designs, list) else "missing" if designs is None else f"a {type(designs).__name__}"
+        return f"designs: {got}, expected two (MODEL_A and MODEL_B)"
+    records = [("designs[0]", designs[0]), ("designs[1]", designs[1])]
+    rig = key.get("rig")
+    if rig is not None:
+        records.append(("rig", rig))
+    for where, rec in records:
+        if not isinstance(rec, dict):
+            return f"{where}: a {type(rec).__name__}, expected an object"
+        lacking = _file_fields(rec, ("name", "path", "sha256", "toml") if where != "rig" else ("path", "sha256", "toml"))
+        if lacking:
+            return f"{where}.{lacking}: missing or not text"
+        try:
+            loads(rec["toml"])
+        except TOMLDecodeError as exc:
+            return f"{where}.toml: not valid TOML ({exc})".replace("\n", " ")
+        if where == "rig":
+            continue
+        changes = rec.get("design_changes", {})
+        if not isinstance(changes, dict):
+            return f"{where}.design_changes: a {type(changes).__name__}, expected an object"
+        measured = rec.get("coil_measurements", [])
+        if not isinstance(measured, list) or not all(isinstance(m, dict) and not _file_fields(m, ("coil", "file", "sha256")) for m in measured):
+            return f"{where}.coil_measurements: expected a list of objects with coil, file and sha256 as text"
+    if designs[0]["name"] == designs[1]["name"]:
+        return f"designs: both named {designs[0]['name']!r}; the score could not tell them apart"
+    loudness = key.get("loudness")
+    gains = loudness.get("gains_db") if isinstance(loudness, dict) else None
+    if not isinstance(gains, list) or len(gains) != 2 or not all(isinstance(g, (int, float)) and not isinstance(g, bool) and math.isfinite(g) for g in gains):
+        return "loudness.gains_db: expected two finite numbers (MODEL_A's and MODEL_B's gain in dB)"
+    return None
+
+
 def load_key(paths: SessionPaths, plan: dict) -> dict:
-    """The private key, checked against the plan (same session, same trials and clips)."""
+    """The private key, checked against the plan (same session, same trials and clips) and in its whole shape
+    (:func:`key_damage`): a damaged key is one line, never a traceback later."""
     key = _read_json(paths.key, "key", KEY_FORMAT)
     trials = key.get("trials")
     if key.get("session") != plan.get("session") or key.get("method") != plan["method"] or not isinstance(trials, list) or len(trials) != len(plan["trials"]):
         raise InputError(f"{paths.key}: session={key.get('session')!r} does not match {paths.plan}; the two files come from different sessions")
     for t, p in zip(trials, plan["trials"]):
-        if not isinstance(t, dict) or t.get("clips") != p["clips"] or t.get("a") not in (0, 1):
-            raise InputError(f"{paths.key}: trials[{p['index']}] does not match the plan; the session folder is damaged")
+        if not isinstance(t, dict) or t.get("clips") != p["clips"] or t.get("a") not in (0, 1) or t.get("index") != p["index"]:
+            raise InputError(f"{paths.key}: trials[{p['index']}] does not match the plan; {DAMAGED_KEY}")
         if plan["method"] == "abx" and t.get("x") not in ("A", "B"):
-            raise InputError(f"{paths.key}: trials[{p['index']}] x={t.get('x')!r}: expected 'A' or 'B'")
+            raise InputError(f"{paths.key}: trials[{p['index']}] x={t.get('x')!r}: expected 'A' or 'B'; {DAMAGED_KEY}")
+    damage = key_damage(key)
+    if damage:
+        raise InputError(f"{paths.key}: {damage}; {DAMAGED_KEY}")
     return key

@@ -6,7 +6,11 @@ Integrated loudness and true peak are ITU-R BS.1770-4
 
 Every signal gets the gain that brings it to the target. If any would then
 pass the ceiling, every signal is lowered by the same amount, so they stay
-matched to each other; the amount is recorded.
+matched to each other; the amount is recorded. The measured true peaks are
+held :data:`~render.analysis.loudness.TRUE_PEAK_MARGIN_DB` under the ceiling
+(:func:`~render.analysis.loudness.ceiling_gains`), the rule every
+loudness-matched copy follows: the 4x meter can miss up to 0.688 dB between
+its points, and the clips' dither and float32 rounding add a little.
 """
 
 from __future__ import annotations
@@ -15,7 +19,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis.loudness import TRUE_PEAK_CEILING_DBTP, ceiling_gains, integrated_loudness, true_peak_dbtp
+from ..analysis.loudness import TRUE_PEAK_CEILING_DBTP, ceiling_gains, ceiling_record, integrated_loudness, true_peak_dbtp
 from ..errors import InputError
 
 
@@ -30,13 +34,20 @@ class LoudnessMatch:
     final_true_peak_dbtp: tuple[float, ...]
     target_lufs: float
     ceiling_dbtp: float
-    lowered_db: float  # how far all were lowered below the target to respect the ceiling
+    lowered_db: float  # how far all were lowered below the target to keep the true peaks at the aim, the margin under the ceiling
+
+    @property
+    def aim_dbtp(self) -> float:
+        """The highest true peak (dBTP, as the 4x meter reads it) the gains allow: the ceiling less the margin."""
+        from ..analysis.loudness import true_peak_aim
+
+        return true_peak_aim(self.ceiling_dbtp)
 
     def record(self) -> dict:
         return {
             "method": "ITU-R BS.1770-4 integrated loudness; true peak by 4x oversampling",
             "target_lufs": self.target_lufs,
-            "ceiling_dbtp": self.ceiling_dbtp,
+            **ceiling_record(self.ceiling_dbtp),
             "lowered_db": self.lowered_db,
             "measured_lufs": list(self.measured_lufs),
             "true_peak_dbtp": list(self.true_peak_dbtp),

@@ -18,7 +18,8 @@ is sent the moment "Save and go on" is pressed and is kept in the tab
 (sessionStorage) until the server confirms it, so a server restart or a
 reload loses nothing. At the end the page shows the score (correct of
 total, or the preference counts), one cell per trial and the exact binomial
-p-value, also as a percentage.
+p-value, also as a percentage, in the words ``render score`` prints (the
+score's ``p_shown`` and ``percent_shown``, :func:`render.listening.score.p_shown`).
 
 The three files live in ``render/listening/static/`` (declared as package
 data in ``pyproject.toml``) and are read with :mod:`importlib.resources`, so

@@ -37,6 +37,40 @@ def abx_p_value(correct: int, total: int) -> float:
 
 
 NO_DECIDED = "no test: no trial was decided (every answer was 'no preference')"
+P_FLOOR = 1e-6  # a p value below this is shown as "p < 0.000001" (20 of 20 ABX trials right gives 9.5e-7)
+
+
+def _decimal_text(x: float, *, places: int | None = None, figures: int = 2) -> str:
+    """``x`` ≥ 0 in plain decimals (never exponent notation), rounded half up: to ``places`` decimal places,
+    or else to ``figures`` significant figures with trailing zeros dropped (0.000015, 3.8, 66, 100)."""
+    from decimal import ROUND_HALF_UP, Decimal
+
+    d = Decimal(float(x))  # exact: the float's own binary value
+    if places is not None:
+        return format(d.quantize(Decimal(1).scaleb(-places), rounding=ROUND_HALF_UP), "f")
+    if d == 0:
+        return "0"
+    q = d.quantize(Decimal(1).scaleb(d.adjusted() - figures + 1), rounding=ROUND_HALF_UP)
+    if q.adjusted() > d.adjusted():  # rounded up into the next decade (0.0000996 -> 0.00010): one figure fewer
+        q = d.quantize(Decimal(1).scaleb(q.adjusted() - figures + 1), rounding=ROUND_HALF_UP)
+    text = format(q, "f")
+    return text.rstrip("0").rstrip(".") if "." in text else text
+
+
+def p_shown(p: float) -> str:
+    """A p value as the CLI and the listening page show it: ``p = 0.0384`` (four decimal places from 0.001 up),
+    ``p = 0.000015`` (two significant figures below 0.001), ``p < 0.000001`` (below :data:`P_FLOOR`)."""
+    if p < P_FLOOR:
+        return f"p < {_decimal_text(P_FLOOR, places=6)}"
+    return f"p = {_decimal_text(p, places=4) if p >= 0.001 else _decimal_text(p)}"
+
+
+def percent_shown(p: float) -> str:
+    """A probability in per cent, two significant figures, trailing zeros dropped: ``66 %``, ``3.8 %``,
+    ``0.0015 %``; ``under 0.0001 %`` below :data:`P_FLOOR`."""
+    if p < P_FLOOR:
+        return f"under {_decimal_text(100 * P_FLOOR, places=4)} %"
+    return f"{_decimal_text(100 * p)} %"
 
 
 def preference_p_value(first: int, second: int) -> float | None:
@@ -79,7 +113,15 @@ def score(plan: dict, key: dict, answers: list[dict]) -> dict:
     out = {"method": key["method"], "trials": total, "designs": names, "table": rows}
     if key["method"] == "abx":
         p = abx_p_value(correct, total)
-        out["abx"] = {"correct": correct, "total": total, "p_value": p, "test": "one-sided exact binomial, chance 1/2", "alpha": ALPHA, "distinguished": p < ALPHA}
+        out["abx"] = {
+            "correct": correct,
+            "total": total,
+            "p_value": p,
+            "test": "one-sided exact binomial, chance 1/2",
+            "alpha": ALPHA,
+            "distinguished": p < ALPHA,
+            **shown(p),
+        }
     else:
         pp = preference_p_value(*counts)
         out["preference"] = {
@@ -87,10 +129,16 @@ def score(plan: dict, key: dict, answers: list[dict]) -> dict:
             "p_value": pp,
             "test": "two-sided exact binomial of the decided answers, even split",
             "alpha": ALPHA,
+            **shown(pp),
         }
         if pp is None:
             out["preference"]["p_value_reason"] = NO_DECIDED
     return out
+
+
+def shown(p: float | None) -> dict:
+    """The texts the CLI and the page print for ``p`` and for the threshold (:func:`p_shown`, :func:`percent_shown`)."""
+    return {"p_shown": None if p is None else p_shown(p), "percent_shown": None if p is None else percent_shown(p), "alpha_shown": percent_shown(ALPHA)}
 
 
 def summary_lines(result: dict) -> list[str]:
@@ -104,7 +152,7 @@ def summary_lines(result: dict) -> list[str]:
             if s["distinguished"]
             else "not below 0.05: these answers could be guesses; no audible difference is shown (which does not prove there is none)"
         )
-        lines.append(f"  ABX      {s['correct']} of {s['total']} correct, p = {s['p_value']:.4f} ({s['test']})")
+        lines.append(f"  ABX      {s['correct']} of {s['total']} correct, {s['p_shown']}: guessing alone does as well or better {s['percent_shown']} of the time ({s['test']})")
         lines.append(f"           {verdict}")
         if s["total"] < fewest_trials_for():
             lines.append(f"           with {s['total']} trials even a perfect score cannot reach p < 0.05; use at least {fewest_trials_for()}")
@@ -116,7 +164,7 @@ def summary_lines(result: dict) -> list[str]:
             lines.append(f"           {s['p_value_reason']}")
         else:
             lean = "an even split is unlikely" if s["p_value"] < ALPHA else "could be an even split"
-            lines.append(f"           p = {s['p_value']:.4f} ({s['test']}): {lean}")
+            lines.append(f"           {s['p_shown']}: an even split gives a lean at least this strong {s['percent_shown']} of the time ({s['test']}); {lean}")
     slots = [k for k in ("A", "B", "X") if k in result["table"][0]]
     width = max(len(n) for n in names)
     abx = "abx" in result

@@ -11,7 +11,8 @@ Routes (anything else is 404; a method other than those listed is 405)::
 Rules that keep the key closed and the session safe:
 
 - binds 127.0.0.1 only; refuses a Host header that is not this address and
-  port (DNS rebinding) and a POST whose Origin is another site;
+  port (DNS rebinding; on port 80 the address alone, as clients send it,
+  :func:`render.loopback.own_authorities`) and a POST whose Origin is another site;
 - the path is matched whole against the routes above before any decoding,
   so ``..``, ``%2e%2e``, absolute paths and folder names never reach the
   file system; a clip is opened by a name taken from the plan, never from
@@ -33,7 +34,7 @@ import threading
 from typing import cast
 
 from ..errors import InputError
-from ..loopback import COMMON_HEADERS, HOST, LoopbackServer, QuietHandler, check_port
+from ..loopback import COMMON_HEADERS, LoopbackServer, QuietHandler, check_port, own_authorities
 from .answers import MAX_BODY, AnswerLog, AnswerRefused
 from .layout import load_key, load_plan, session_paths
 from .page import read_page
@@ -98,7 +99,10 @@ class _SessionRequestHandler(QuietHandler):
         if path == "/api/result":
             try:
                 result = srv.result()
-            except InputError as exc:
+            except InputError as exc:  # a damaged key: the page and the terminal say what is wrong
+                if srv.notify is not None and not srv.told_damage:
+                    srv.told_damage = True
+                    srv.notify(f"cannot open the result: {exc}")
                 return self._error(500, str(exc), head=head)
             if result is None:
                 return self._error(409, "the result opens once every trial is answered", head=head)
@@ -122,7 +126,7 @@ class _SessionRequestHandler(QuietHandler):
         if path != "/api/answer":
             return self._error(404 if path not in srv.get_routes else 405, "not found" if path not in srv.get_routes else "method not allowed")
         origin = self.headers.get("Origin")
-        if origin is not None and origin not in srv.allowed_origins:
+        if origin is not None and origin.lower() not in srv.allowed_origins:
             return self._error(403, "Origin: answers are accepted only from this session's own page")
         if self.headers.get("Transfer-Encoding"):
             return self._error(411, "Transfer-Encoding is not accepted; send a Content-Length")
@@ -187,6 +191,7 @@ class ListeningServer(LoopbackServer):
         if len(sizes) != 1:
             raise InputError(f"SESSION={session}: the clips differ in size; the session folder is damaged, make a new one with `render blind`")
         self.notify = notify
+        self.told_damage = False  # a damaged key is reported on the terminal once
         self.page = read_page()
         self._connections = threading.BoundedSemaphore(MAX_CONNECTIONS)
         self._result_lock = threading.Lock()
@@ -199,7 +204,7 @@ class ListeningServer(LoopbackServer):
             self.log.close()
             raise
         p = self.server_address[1]
-        self.allowed_origins = frozenset({f"http://{HOST}:{p}", f"http://localhost:{p}"})
+        self.allowed_origins = frozenset(f"http://{a}" for a in own_authorities(p))
 
     def process_request(self, request, client_address):
         if not self._connections.acquire(blocking=False):

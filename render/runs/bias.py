@@ -101,7 +101,7 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
     Writes ``S-r<ratio>-<battery>V.wav`` and ``…-matched.wav`` at one full scale,
     ``S-headroom.png``, ``S-harmonics.png`` and ``S-transfer.png``, and the comparison page (``index.html``).
     """
-    from ..analysis.loudness import TRUE_PEAK_CEILING_DBTP, ceiling_gains, integrated_loudness, true_peak_dbtp
+    from ..analysis.loudness import TRUE_PEAK_CEILING_DBTP, ceiling_gains, integrated_loudness, true_peak_aim, true_peak_dbtp
     from ..clip import RenderSettings
     from ..io.folders import run_folder
     from ..io.wav import write_float_wav
@@ -139,6 +139,7 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
             "seed": seed,
             "target_lufs": target_lufs,
             "matched_ceiling_dbtp": TRUE_PEAK_CEILING_DBTP,
+            "matched_true_peak_aim_dbtp": true_peak_aim(TRUE_PEAK_CEILING_DBTP),  # the ceiling less the margin for what a 4x meter misses
             "matched_lowered_db": lowered,
             "volts_full_scale": vfs,
         }

@@ -49,7 +49,8 @@ class BlindSettings:
     target_lufs : float, LUFS
         Integrated loudness both clips are matched to, -60 to -5.
     true_peak_dbtp : float, dBTP
-        True-peak ceiling, -30 to 0; both clips are lowered together if either would pass it.
+        True-peak ceiling, -30 to 0; both clips are lowered together if either would pass it, held
+        :data:`render.analysis.loudness.TRUE_PEAK_MARGIN_DB` under it as the 4x meter reads them.
     seconds : float or None, s
         Clip length, 0.5 to 120 s (a number, or text such as "8s"); None plays the dry signal's own.
     sample_rate : int, Hz

@@ -27,6 +27,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from ..analysis.loudness import ceiling_record
 from ..clip import RenderSettings
 from ..errors import ArgumentError, InputError
 
@@ -381,7 +382,7 @@ class WatchRun:
             "matched_column": CLIPS_MATCHED_COLUMN,
             "sample_rate": st.sample_rate,
             "volts_full_scale": self.volts_full_scale,
-            "ceiling_dbtp": -1.0,
+            **ceiling_record(),
             "page_seconds": PAGE_SECONDS,
             "bits": 16,
             "strip_top_db": self._top_db,

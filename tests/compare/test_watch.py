@@ -153,6 +153,23 @@ def _get(server: LiveServer, path: str, host: str | None = None, method: str = "
         conn.close()
 
 
+def test_on_port_80_the_server_answers_the_host_without_its_port(run):
+    # render watch shares render listen's Host rule (render.loopback.own_authorities): a client leaves http's
+    # default port out of Host (RFC 9110 §4.2.1, §4.2.3 and §7.2), so on port 80 "127.0.0.1" is this server
+    from render.errors import InputError
+
+    try:
+        server = LiveServer(run.board, page=run.page(), port=80, wait_s=0.3).start_thread()
+    except InputError as exc:  # port 80 taken or privileged here
+        pytest.skip(f"cannot listen on 127.0.0.1:80 here ({exc})")
+    try:
+        assert _get(server, "/", host="127.0.0.1")[0] == 200
+        assert _get(server, "/api/state", host="localhost")[0] == 200
+        assert _get(server, "/", host="evil.example")[0] == 421
+    finally:
+        server.stop()
+
+
 def test_the_server_serves_the_state_its_clips_and_waits_for_changes(run, inputs):
     server = LiveServer(run.board, page=run.page(), port=0, wait_s=0.3).start_thread()
     try:
@@ -166,6 +183,7 @@ def test_the_server_serves_the_state_its_clips_and_waits_for_changes(run, inputs
         assert _get(server, "/clip/0-9.wav")[0] == 404
         assert _get(server, "/clip/../../etc/passwd")[0] == 404
         assert _get(server, "/", host="evil.example:80")[0] == 421
+        assert _get(server, "/", host="127.0.0.1")[0] == 421  # the bare address only on port 80
         assert _get(server, "/api/state", method="POST")[0] == 405
         assert _get(server, "/api/changes?after=1")[0] == 204  # nothing new within wait_s
         assert _get(server, "/api/changes?after=x")[0] == 400

@@ -63,6 +63,21 @@ def test_a_two_trial_session_from_a_short_recording(tmp_path):
     assert len(levels) == 1
 
 
+def test_a_session_lowered_under_the_ceiling_keeps_every_clip_under_it_by_an_independent_meter(tmp_path):
+    # Brought to -12 LUFS the demo designs pass -1 dBTP (EBU R 128's ceiling) and are both lowered; every clip as
+    # written, re-measured with interpolators independent of render's own 4x meter, peaks at or under -1 dBTP
+    from .test_build import independent_true_peak_dbtp
+
+    out = tmp_path / "s"
+    result = run(A, B, "--dry", DRY, "--trials", 2, "--seed", 4, "--target-lufs", -12, "--out", out)
+    assert result.exit_code == 0, result.output
+    key = json.loads((out / "private" / "key.json").read_text())
+    assert key["loudness"]["lowered_db"] > 0 and key["loudness"]["true_peak_aim_dbtp"] == -1.7
+    assert "to keep the true peak under -1 dBTP (at most -1.7 as measured, a margin for what the meter misses between samples)" in result.output
+    peaks = [independent_true_peak_dbtp(sf.read(c, dtype="float64")[0], 48000) for c in (out / "public").glob("*.wav")]
+    assert len(peaks) == 6 and max(peaks) <= -1.0, max(peaks)
+
+
 def test_a_preference_session_from_a_phrase(tmp_path):
     phrase = tmp_path / "one.toml"
     phrase.write_text(PHRASE)

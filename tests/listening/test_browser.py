@@ -131,8 +131,8 @@ def test_a_listener_answers_every_trial_across_a_server_restart(make_session, se
             _wait_phase(page, "done")
             page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
             assert "X placed right in 3 of 6 trials" in page.inner_text("#result")
-            # one-sided binomial P(X >= 3 | n = 6, p = 1/2) = 42/64 = 0.65625 (binomial distribution); JavaScript's
-            # toFixed rounds that exact tie up (ECMA-262, Number.prototype.toFixed), Python's format to even
+            # one-sided binomial P(X >= 3 | n = 6, p = 1/2) = 42/64 = 0.65625 (binomial distribution), an exact tie
+            # at four places rounded half up, in the words render score prints (the page shows the score's own texts)
             assert "66 % of the time (p = 0.6563" in page.inner_text("#result")
             assert page.inner_text("#figure").startswith("3 / 6")
             cells = page.locator("#outcome li")
@@ -151,7 +151,7 @@ def test_a_listener_answers_every_trial_across_a_server_restart(make_session, se
     assert result.exit_code == 0, result.output
     assert "3 of 6 correct" in result.output
     # one-sided binomial P(X >= 3 | n = 6, p = 1/2) = 42/64 (binomial distribution, as scipy.stats.binomtest)
-    assert "p = 0.6562" in result.output
+    assert "p = 0.6563: guessing alone does as well or better 66 % of the time" in result.output
     # the table names the design in each slot as the key has it
     first = key["trials"][0]
     names = [d["name"] for d in key["designs"]]
@@ -159,26 +159,29 @@ def test_a_listener_answers_every_trial_across_a_server_restart(make_session, se
     assert names[slot_design(first, "X")] in row
 
 
-def _open(browser, server, errors):
-    page = browser.new_page(viewport={"width": 900, "height": 900})
-    page.on("pageerror", lambda exc: errors.append(str(exc)))
-    page.goto(server.url)
-    _wait_phase(page, "caution")
-    page.click("#begin")
-    return page
-
-
 @contextlib.contextmanager
-def _session_page(server, errors):
-    """The session's page past its caution, in a headless Chromium that is closed afterwards."""
+def _loaded_page(server, errors):
+    """The session's page as loaded, in a headless Chromium that is closed afterwards; page errors go to ``errors``."""
     from playwright.sync_api import sync_playwright
 
     with sync_playwright() as pw:
         browser = pw.chromium.launch(executable_path=_browser_or_skip(), args=ARGS, headless=True)
         try:
-            yield _open(browser, server, errors)
+            page = browser.new_page(viewport={"width": 900, "height": 900})
+            page.on("pageerror", lambda exc: errors.append(str(exc)))
+            page.goto(server.url)
+            yield page
         finally:
             browser.close()
+
+
+@contextlib.contextmanager
+def _session_page(server, errors):
+    """The session's page past its caution, in a headless Chromium that is closed afterwards."""
+    with _loaded_page(server, errors) as page:
+        _wait_phase(page, "caution")
+        page.click("#begin")
+        yield page
 
 
 def test_the_keys_follow_the_cards_and_a_trial_is_answered_from_the_keyboard(make_session, serve):
@@ -287,4 +290,60 @@ def test_a_preference_session_with_no_decided_trial_says_there_is_no_test(make_s
         page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
         text = page.inner_text("#result")
         assert "no preference: 2 times" in text and NO_DECIDED[0].upper() + NO_DECIDED[1:] in text and "p = " not in text
+    assert errors == []
+
+
+def test_a_perfect_score_shows_its_tiny_p_value_as_render_score_does(make_session, serve):
+    # 16 of 16 right: P = (1/2)^16 = 1.52587890625e-5 (binomial distribution); the page and render score both
+    # show it to two significant figures without exponent notation, never as 0.0000
+    from render.cli.score import score_command
+    from render.listening.answers import AnswerLog
+    from render.listening.layout import load_plan
+
+    _browser_or_skip()
+    paths = make_session(method="abx", trials=16, seed=4, seconds=1.0)
+    key = json.loads(paths.key.read_text())
+    with AnswerLog(paths, load_plan(paths)) as log:  # the first 15 answered before the page opens
+        for t in key["trials"][:15]:
+            log.record({"trial": t["index"], "answer": t["x"], "comment": ""})
+    server = serve(paths.root)
+    errors = []
+    with _session_page(server, errors) as page:
+        _wait_phase(page, "ready", trial=15)
+        last = key["trials"][15]["x"]
+        page.click(f'.pick[data-answer="{last}"]')
+        page.click("#save")
+        _wait_phase(page, "done")
+        page.wait_for_selector('body[data-result="shown"]', state="attached", timeout=TIMEOUT_MS)
+        text = page.inner_text("#result")
+        assert "X placed right in 16 of 16 trials" in text and "0.0015 % of the time (p = 0.000015," in text, text
+        assert "That is under 5 %" in text
+    server.stop()
+    assert errors == []
+    result = CliRunner().invoke(score_command, [str(paths.root), "--no-plot"])
+    assert result.exit_code == 0, result.output
+    assert "16 of 16 correct, p = 0.000015: guessing alone does as well or better 0.0015 % of the time" in result.output
+
+
+def test_a_damaged_key_is_named_on_the_page(make_session, serve):
+    # every trial answered, then the key loses its designs: the page asks for the result and shows the server's
+    # one line (render.listening.layout.DAMAGED_KEY), not a bare failure
+    from render.listening.answers import AnswerLog
+    from render.listening.layout import DAMAGED_KEY, load_plan
+
+    _browser_or_skip()
+    paths = make_session(method="abx", trials=2, seed=3, seconds=1.0)
+    key = json.loads(paths.key.read_text())
+    with AnswerLog(paths, load_plan(paths)) as log:
+        for t in key["trials"]:
+            log.record({"trial": t["index"], "answer": t["x"], "comment": ""})
+    del key["designs"]
+    paths.key.write_text(json.dumps(key))
+    server = serve(paths.root)
+    errors = []
+    with _loaded_page(server, errors) as page:
+        _wait_phase(page, "done")
+        page.wait_for_function("document.getElementById('result').textContent.length > 0", timeout=TIMEOUT_MS)
+        text = page.inner_text("#result")
+        assert "could not be read from the server" in text and "designs: missing" in text and DAMAGED_KEY in text, text
     assert errors == []

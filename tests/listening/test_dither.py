@@ -132,3 +132,21 @@ def test_renders_too_loud_for_the_dither_are_refused(tmp_path):
     with pytest.raises(InputError, match=r"^two clip files came out byte-identical: .*full scale ±1"):
         _build(tmp_path / "s", loud, trials=2)
     assert list(tmp_path.iterdir()) == []
+
+
+def test_a_count_of_differing_bytes_still_names_x_in_every_trial(make_session):
+    # What README says the dither does not hide: it moves only each float32 sample's low bytes (it is under the
+    # 24-bit step, and float32 keeps 24 significant bits), so X differs from its own design's copy in fewer bytes
+    # than from the other design's, in every trial. A listener who compares files this way finds X without listening.
+    import json
+
+    paths = make_session(method="abx", trials=16, seed=5)
+    key = json.loads(paths.key.read_text())
+    named = 0
+    for t in key["trials"]:
+        raw = {s: (paths.public / name).read_bytes() for s, name in t["clips"].items()}
+        clip = {s: np.frombuffer(b[b.index(b"data") + 8 :], np.uint8) for s, b in raw.items()}  # the audio, after the data chunk's header
+        differ = {s: float(np.mean(clip["X"] != clip[s])) for s in ("A", "B")}
+        named += min(differ, key=differ.get) == t["x"]
+        assert differ[t["x"]] < 0.5 < differ["B" if t["x"] == "A" else "A"]  # under half against its copy, over half against the other
+    assert named == 16

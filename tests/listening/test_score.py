@@ -44,6 +44,22 @@ def test_abx_edges_and_the_shortest_useful_session():
     assert fewest_trials_for(0.05) == 5
 
 
+@pytest.mark.parametrize(
+    "p, text, percent",
+    [
+        (2.0**-16, "p = 0.000015", "0.0015 %"),  # 16 of 16 ABX right: (1/2)^16 = 1.52587890625e-5 (binomial distribution)
+        (2517 / 65536, "p = 0.0384", "3.8 %"),  # 12 of 16, as above
+        (42 / 64, "p = 0.6563", "66 %"),  # 3 of 6: an exact tie at four places, rounded half up
+        (2.0**-20, "p < 0.000001", "under 0.0001 %"),  # 20 of 20: 9.5e-7, under the floor: words, not 0.0000
+        (1.0, "p = 1.0000", "100 %"),  # 0 of 16: P(X >= 0) = 1
+    ],
+)
+def test_p_values_are_shown_without_rounding_to_zero(p, text, percent):
+    from render.listening.score import p_shown, percent_shown
+
+    assert p_shown(p) == text and percent_shown(p) == percent
+
+
 def test_preference_two_sided():
     # two-sided exact binomial, p = 1/2, symmetric: 2 · P(X <= 1 | n = 10) = 2 · 11/1024 = 0.021484375
     # (binomial distribution; scipy.stats.binomtest(9, 10, 0.5).pvalue)
@@ -111,7 +127,7 @@ def test_preference_score(make_session):
     names = [d["name"] for d in key["designs"]]
     assert f"{names[0]}: 9, {names[1]}: 0, no preference: 1" in result.output
     # two-sided exact binomial of 9 against 0: 2 · (1/2)^9 = 0.00390625 (binomial distribution)
-    assert "p = 0.0039" in result.output and "an even split is unlikely" in result.output
+    assert "p = 0.0039: an even split gives a lean at least this strong 0.39 % of the time" in result.output and "an even split is unlikely" in result.output
     assert not (paths.root / "results").exists()
 
 

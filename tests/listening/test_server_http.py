@@ -187,6 +187,35 @@ def test_wrong_host_and_foreign_origin_are_refused(running):
     assert status == 200 and reply["recorded"]
 
 
+def test_port_80_is_answered_without_the_port_in_host_and_origin(make_session, serve):
+    # a client leaves http's default port 80 out of Host and Origin (RFC 9110 §4.2.1, §4.2.3 and §7.2; the
+    # WHATWG URL Standard serialises a default port as nothing), so "127.0.0.1" must be accepted there, and
+    # only there; "localhost" likewise; other names still are refused
+    from render.loopback import own_authorities
+
+    assert own_authorities(80) == {"127.0.0.1", "localhost", "127.0.0.1:80", "localhost:80"}
+    assert own_authorities(8080) == {"127.0.0.1:8080", "localhost:8080"}
+    paths = make_session(method="abx", trials=2)
+    try:
+        server = serve(paths.root, port=80)
+    except InputError as exc:  # port 80 taken, or binding it needs privileges here: the rule above still ran
+        pytest.skip(f"cannot listen on 127.0.0.1:80 here ({exc})")
+    assert request(80, path="/", host="127.0.0.1")[0] == 200
+    assert request(80, path="/api/state", host="localhost")[0] == 200
+    assert request(80, path="/api/state", host="LOCALHOST:80")[0] == 200  # host names are case-insensitive (RFC 9110 §4.2.3)
+    assert request(80, path="/api/state", host="attacker.example")[0] == 421
+    status, _ = answer(80, 0, "A", host="127.0.0.1", headers={"Origin": "http://127.0.0.1"})
+    assert status == 200 and len(lines_of(paths)) == 1
+    assert answer(80, 1, "A", host="127.0.0.1", headers={"Origin": "http://attacker.example"})[0] == 403
+    server.stop()
+
+
+def test_on_another_port_the_bare_address_is_refused(running):
+    paths, server = running
+    assert request(server.port, path="/api/state", host="127.0.0.1")[0] == 421  # the port is part of its Host there
+    assert answer(server.port, 0, "A", headers={"Origin": "http://127.0.0.1"})[0] == 403 and lines_of(paths) == []
+
+
 def test_other_methods_are_refused(running):
     paths, server = running
     for method in ("PUT", "DELETE", "PATCH", "OPTIONS"):

@@ -7,7 +7,8 @@
 // very same sample. A new clip (render watch) joins the others at the frame
 // they have reached. Loudness is matched by attenuation only, from each clip's
 // BS.1770 integrated loudness as its run measured it, and every clip is lowered
-// together when one's true peak would pass the ceiling (-1 dBTP).
+// together when one's true peak would pass the ceiling (-1 dBTP) less its margin (0.7 dB: what a 4x
+// true-peak meter can miss between its points), true_peak_aim_dbtp in the page's data.
 (function () {
   const el = (id) => document.getElementById(id);
   const body = document.body;
@@ -177,7 +178,7 @@
     for (const v of vs) match.set(v.clip, S.matched && v.loudness !== null ? quietest - v.loudness : 0);
     let over = -Infinity;
     for (const v of vs) if (v.true_peak !== null) over = Math.max(over, v.true_peak - fsDb + match.get(v.clip));
-    const lowered = Math.max(0, over - S.data.ceiling_dbtp);
+    const lowered = Math.max(0, over - S.data.true_peak_aim_dbtp);  // the ceiling less the margin for what a 4x meter misses
     const out = new Map();
     for (const v of vs) {
       const change = match.get(v.clip) - lowered;

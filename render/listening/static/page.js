@@ -17,7 +17,11 @@
 
   async function getJSON(url) {
     const r = await fetch(url, { cache: "no-store" });
-    if (!r.ok) throw new Error(url + " answered " + r.status);
+    if (!r.ok) {
+      let why = "";
+      try { why = (await r.json()).error || ""; } catch (e) { why = ""; }
+      throw new Error(why || url + " answered " + r.status);
+    }
     return r.json();
   }
 
@@ -288,11 +292,6 @@
     await showTrial();
   }
 
-  function percent(p) {
-    const x = 100 * p;  // two significant figures, no trailing zeros: 66 %, 5 %, 3.5 %, 0.0015 %
-    return String(Number(x.toPrecision(2))) + " %";
-  }
-
   function outcomeCell(text, cls, label) {
     const li = document.createElement("li");
     li.textContent = text; li.className = cls; li.title = label; li.setAttribute("aria-label", label);
@@ -325,10 +324,10 @@
           strip.appendChild(outcomeCell(String(row.trial), row.correct ? "right" : "wrong", "trial " + row.trial + ": " + (row.correct ? "right" : "wrong")));
         }
         text = "X placed right in " + s.correct + " of " + s.total + " trials. Guessing alone does this well or better " +
-          percent(s.p_value) + " of the time (p = " + s.p_value.toFixed(4) + ", one-sided exact binomial, chance \u00bd in each trial). " +
+          s.percent_shown + " of the time (" + s.p_shown + ", one-sided exact binomial, chance \u00bd in each trial). " +
           (s.distinguished
-            ? "That is under " + percent(s.alpha) + ": the two designs were told apart."
-            : "That is not under " + percent(s.alpha) + ": these answers could be guesses, so no audible difference was shown (which does not prove there is none).") +
+            ? "That is under " + s.alpha_shown + ": the two designs were told apart."
+            : "That is not under " + s.alpha_shown + ": these answers could be guesses, so no audible difference was shown (which does not prove there is none).") +
           " The designs were " + names[0] + " and " + names[1] + ".";
       } else {
         const s = r.preference, c = s.counts;
@@ -343,13 +342,13 @@
           " (copper); no preference: " + times(c["no preference"]) + ". " +
           (s.p_value === null ? s.p_value_reason.charAt(0).toUpperCase() + s.p_value_reason.slice(1) + "." :
             "An even split of the decided answers gives a lean at least this strong " +
-            percent(s.p_value) + " of the time (p = " + s.p_value.toFixed(4) + ", two-sided exact binomial).");
+            s.percent_shown + " of the time (" + s.p_shown + ", two-sided exact binomial).");
       }
       figure.appendChild(small);
       el("result").textContent = text;
       body.dataset.result = "shown";
     } catch (e) {
-      el("result").textContent = "The outcome could not be read from the server; run render score on the session folder.";
+      el("result").textContent = "The outcome could not be read from the server (" + e.message + "); run render score on the session folder.";
     }
   }
 
