@@ -21,6 +21,7 @@ import json
 import re
 import socket
 import threading
+import time
 from urllib.parse import parse_qs
 
 from ..loopback import COMMON_HEADERS, LoopbackServer, QuietHandler, check_port
@@ -138,6 +139,9 @@ class _Handler(QuietHandler):
     do_POST = do_PUT = do_DELETE = do_PATCH = do_OPTIONS = do_TRACE = do_CONNECT = _not_allowed
 
 
+STOP_GRACE_S = 1.0  # s: how long a stop lets woken requests finish their replies
+
+
 class LiveServer(LoopbackServer):
     """Serves the live comparison page of a :class:`Board` on 127.0.0.1 (``port=0``: a free port)."""
 
@@ -180,6 +184,13 @@ class LiveServer(LoopbackServer):
             self._thread.join(timeout=timeout)
             self._thread = None
         self.server_close()
+        # a request the board just woke is still writing its reply: let it finish (briefly) before the
+        # connections are cut; one idle between requests (keep-alive) is cut when the grace is over
+        grace_end = time.monotonic() + min(timeout, STOP_GRACE_S)
+        with self._open_lock:
+            workers = list(self._workers)
+        for t in workers:
+            t.join(timeout=max(0.0, grace_end - time.monotonic()))
         with self._open_lock:
             sockets, workers = list(self._open), list(self._workers)
         for s in sockets:
