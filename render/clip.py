@@ -18,6 +18,8 @@ import numpy as np
 
 from .errors import ArgumentError, InputError
 
+MIN_CLIP_SECONDS = 0.05  # s: as render.dry.phrase.MIN_SECONDS (a phrase or recording shorter holds only a pluck's first periods)
+
 if TYPE_CHECKING:
     from .design import Design, RigFile
     from .dry import Dry
@@ -64,8 +66,8 @@ class RenderSettings:
         from .validate import sample_rate
 
         sample_rate(self.sample_rate)
-        if self.seconds is not None:
-            A.number("seconds", self.seconds, lo=0.0, lo_open=True, unit="s", hint="; None plays the dry signal's own length")
+        if self.seconds is not None:  # the shortest phrase or recording a render takes (a pluck's first periods)
+            A.number("seconds", self.seconds, lo=MIN_CLIP_SECONDS, unit="s", hint="; None plays the dry signal's own length")
         A.whole("seed", self.seed, lo=0)
         A.number("velocity_scale", self.velocity_scale, lo=0.0, lo_open=True, hi=1e3, unit="m/s", hint=" (the string velocity at a recording's full scale)")
         if self.seconds is not None and round(self.seconds * self.sample_rate) < 1:

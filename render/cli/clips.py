@@ -18,7 +18,7 @@ from .values import Finite, InFile, OutFolder, Seed
 @rig_option
 @click.option("--out", "out_dir", type=OutFolder(), default=None, help="Output folder (default: a new outputs/clips-<time> folder).")
 @overwrite_option
-@click.option("--seconds", type=Finite(0.01, 3600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
+@click.option("--seconds", type=Finite(0.05, 3600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
 @sample_rate_option
 @click.option("--velocity-scale", type=Finite(1e-6, 1e3, lo_open=True, unit="m/s"), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
 @click.option(
