@@ -233,3 +233,16 @@ def test_a_clip_is_as_long_as_the_shortest_phrase_or_recording_at_least():
     with pytest.raises(render.ArgumentError, match=r"seconds=0.01"):
         render.RenderSettings(seconds=0.01)
     render.RenderSettings(seconds=MIN_SECONDS)
+
+
+@pytest.mark.parametrize(
+    "call, argument",
+    [
+        (lambda d: render.hum_map(d, distances_m=(0.001, 0.5), bearings_deg=(0.0,)), "distances_m=0.001"),
+        (lambda d: render.hum_positions(d, trials=10, shell=(0.05, 1.0)), "shell=0.05"),
+    ],
+)
+def test_a_dipole_nearer_than_a_hum_source_may_sit_is_refused_from_python_too(call, argument):
+    """The map and the random places keep the rig file's rule: no point dipole within 10 cm (common practice, no source)."""
+    with pytest.raises(render.ArgumentError, match=argument + r": .* 0.1 m or more"):
+        call(render.load_design(ROOT / "models" / "studio-reference.toml"))

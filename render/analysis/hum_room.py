@@ -59,6 +59,7 @@ def hum_map(design, *, rig=None, plane: str = "xy", distances_m=DEFAULT_DISTANCE
     RejectionMap
         ``rejection_db`` of shape (distances, bearings, harmonics).
     """
+    _near_refused(distances_m, "distances_m", "each distance")
     d, coils, f = _setup(design, rig)
     fa, fb = engine_gains(d, f)
     return rejection_map(coils, from_a=fa, from_b=fb, frequency_hz=f, hum_polarity=hum_polarities(d), distances_m=distances_m, bearings_deg=bearings_deg, plane=plane)
@@ -93,11 +94,30 @@ def hum_positions(design, *, rig=None, trials: int = 2000, seed: int = 0, shell=
     from .hum import check_tolerances
 
     check_tolerances(tolerances)  # refused before any work, with or without joint
+    if isinstance(shell, (tuple, list)) and len(shell) == 2:
+        _near_refused(shell[:1], "shell", "the inner radius")
     d, coils, f = _setup(design, rig)
     if joint:
         return joint_monte_carlo(d, coils, frequency_hz=f, tolerances=tolerances, trials=trials, seed=seed, shell=shell, jobs=jobs)
     fa, fb = engine_gains(d, f)
     return position_monte_carlo(coils, from_a=fa, from_b=fb, frequency_hz=f, hum_polarity=hum_polarities(d), trials=trials, seed=seed, shell=shell)
+
+
+def _near_refused(distances_m, argument: str, what: str) -> None:
+    """Refuse a dipole nearer the pickup than a ``[[hum.source]]`` may sit (:data:`render.magnetics.schema.NEAR_DIPOLE_M`), as a rig file's is."""
+    from ..errors import ArgumentError
+    from ..magnetics.schema import NEAR_DIPOLE_M
+
+    try:
+        near = [float(r) for r in np.ravel(np.asarray(distances_m, dtype=float)) if float(r) < NEAR_DIPOLE_M]
+    except (TypeError, ValueError):
+        return  # the physics' own checks name a value that is no number
+    if near:
+        raise ArgumentError(
+            argument,
+            f"{near[0]:g}",
+            f"{what} must be {NEAR_DIPOLE_M:g} m or more: a point dipole nearer sits in the pickup's own field region, where it stands for no real source (as a [[hum.source]] is refused there)",
+        )
 
 
 def room_warnings(design, *, rig=None) -> tuple[str, ...]:
