@@ -48,6 +48,15 @@ def test_designs_sharing_a_file_name_are_refused_before_any_file(tmp_path):
     assert not (tmp_path / "run").exists() and not (tmp_path / "cli").exists()
 
 
+def test_a_design_named_as_anothers_passive_clip_is_refused_before_any_file(tmp_path):
+    """``S-passive.wav`` is the passive reference of design S: a design file named ``S-passive`` would overwrite it."""
+    pair = [tmp_path / REF.name, tmp_path / f"{REF.stem}-passive.toml"]
+    for p in pair:
+        shutil.copy(REF, p)
+    text = _refused(lambda: render.render_clips(pair, PHRASE, render.RenderSettings(seconds=0.5, passive=True), tmp_path / "run", plots=False), "designs")
+    assert "passive reference clip" in text and not (tmp_path / "run").exists()
+
+
 def test_a_comparison_pickup_sharing_a_design_file_name_is_refused_before_any_file(tmp_path):
     from render.design.passive import load_passive
 
@@ -134,6 +143,6 @@ def test_render_clip_checks_its_arguments(tmp_path):
     for path in (str(PHRASE), PHRASE):
         text = _refused(lambda: render.render_clip(d, path), "velocity")
         assert "not a velocity" in text and "render.load_dry" in text and "render.synthesize" in text
-    assert "one sample" in _refused(lambda: render.RenderSettings(seconds=1e-6), "seconds")
+    assert "at least 0.05 s" in _refused(lambda: render.RenderSettings(seconds=1e-6), "seconds")  # the shortest phrase or recording
     assert "coil_a's and coil_b's" in _refused(lambda: render.synthesize(PHRASE, positions=0.1, apertures=(0.01, 0.01), sample_rate=48000), "positions")
     _refused(lambda: render.synthesize(PHRASE, positions=(0.1,), apertures=0.01, sample_rate=48000), "positions")

@@ -392,6 +392,7 @@ def _rig_record(rig: RigFile | None) -> dict:
 
 
 SHARED_STEM = "two design files share a name; their clips would overwrite each other: rename one"
+PASSIVE_STEM = "one design's file is named as the other's passive reference clip (<name>-passive); they would overwrite each other: rename one"
 
 
 def check_stems(designs: Sequence[Design], compare: Any = None) -> None:
@@ -405,6 +406,9 @@ def check_stems(designs: Sequence[Design], compare: Any = None) -> None:
         if stem in seen:
             raise ArgumentError("designs", f"{seen[stem]}, {shown}", SHARED_STEM, cli=f"{seen[stem]}, {shown}: {SHARED_STEM}")
         seen[stem] = shown
+    for stem, shown in seen.items():  # a passive reference's clip is <stem>-passive.wav
+        if f"{stem}-passive" in seen:
+            raise ArgumentError("designs", f"{shown}, {seen[stem + '-passive']}", PASSIVE_STEM, cli=f"{shown}, {seen[stem + '-passive']}: {PASSIVE_STEM}")
     if compare is not None and Path(compare.source).stem in seen:
         raise ArgumentError("compare", compare.source, f"the design {seen[Path(compare.source).stem]} has the same file name; their clips would overwrite each other: rename one")
 
