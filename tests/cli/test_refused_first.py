@@ -56,7 +56,7 @@ def here(tmp_path, monkeypatch):
     ("args", "message"),
     [
         (["clips", REF, "--volts-full-scale", "nan"], "--volts-full-scale=nan: not a finite number; give one above 0.001 and at most 100 V"),
-        (["clips", REF, "--seconds", "inf"], "--seconds=inf: not a finite number; give one from 0.01 to 3600 s"),
+        (["clips", REF, "--seconds", "inf"], "--seconds=inf: not a finite number; give one from 0.05 to 3600 s"),
         (["clips", REF, "--velocity-scale", "-inf"], "--velocity-scale=-inf: not a finite number; give one above 1e-06 and at most 1000 m/s"),
         (["bias", REF, "--sine-velocity", "nan"], "--sine-velocity=nan: not a finite number; give one from 0.001 to 100 m/s"),
         (["bias", REF, "--sine-velocity", "0"], "--sine-velocity=0: out of range; give a number from 0.001 to 100 m/s"),
@@ -69,7 +69,7 @@ def here(tmp_path, monkeypatch):
         (["noise", REF, "--reference-velocity", "inf"], "--reference-velocity=inf: not a finite number; give one from 0.0001 to 10 m/s rms"),
         (["response", REF, "--fmin", "nan"], "--fmin=nan: not a finite number; give one from 1 to 100000 Hz"),
         (["check", REF, "--turns-sweep", "nan"], "--turns-sweep=nan: not a finite number; give one from 0.1 to 50 %"),
-        (["watch", REF, "--seconds", "nan", "--no-browser"], "--seconds=nan: not a finite number; give one from 0.01 to 600 s"),
+        (["watch", REF, "--seconds", "nan", "--no-browser"], "--seconds=nan: not a finite number; give one from 0.05 to 600 s"),
     ],
     ids=lambda x: " ".join(map(str, x[2:])) if isinstance(x, list) else None,
 )
@@ -199,7 +199,7 @@ def test_hum_shell_keeps_its_dipoles_as_far_as_a_design_source(here):
 
 def test_dry_renders_at_most_600_seconds(here):
     line = refused(["dry", PHRASE, "--out", "v.wav", "--seconds", "700"], left=[here / "v.wav", here / "v-spectrogram.png"])
-    assert line == "--seconds=700s: must be above 0 s and at most 600 s (a phrase renders in memory)"
+    assert line == "--seconds=700s: must be at least 0.05 s (a pluck's first periods) and at most 600 s (a phrase renders in memory)"
 
 
 def test_battery_takes_volts_with_or_without_the_unit(here):
