@@ -137,3 +137,16 @@ def test_a_changed_design_cannot_start_a_fit_but_its_text_can(tmp_path):
     with pytest.raises(render.ArgumentError, match=r"start_path=.*with changes \(feedback.c\): no file holds it.*write design.text"):
         render.fit(fitfile, out=tmp_path / "f", start_path=d2)
     assert not (tmp_path / "f").exists()
+
+
+def test_a_hum_source_is_named_by_its_index_and_its_hum_scales_with_its_moment(tmp_path):
+    """A dipole's field is linear in its moment (B = μ0/4π · (3(m·r̂)r̂ − m)/r³), so twice the moment gives twice each coil's hum."""
+    path = tmp_path / "with-source.toml"
+    path.write_text(REF.read_text(encoding="utf-8") + '\n[[hum.source]]\nkind = "dipole"\nmoment = 0.05\nat = ["0.5m", 0, 0]\n', encoding="utf-8")
+    d = render.load_design(path)
+    d2 = render.with_values(d, {"hum.source.0.moment": 0.1})
+    assert d2.hum.sources[0].moment == pytest.approx(0.1)
+    h, h2 = render.hum(d).harmonics[0], render.hum(d2).harmonics[0]
+    assert h2.coil_a_v == pytest.approx(2 * h.coil_a_v, rel=1e-9) and h2.coil_b_v == pytest.approx(2 * h.coil_b_v, rel=1e-9)
+    with pytest.raises(render.ArgumentError, match="hum.source holds 1 table; index them from 0"):
+        render.with_values(d, {"hum.source.3.moment": 0.1})

@@ -56,7 +56,7 @@ def _set(doc: Any, key: str, value: Any) -> None:
     for i, part in enumerate(parts[:-1]):
         if isinstance(node, list):
             if not part.isdigit() or int(part) >= len(node):
-                raise ArgumentError("values", repr(key), f"{'.'.join(parts[:i])} holds {len(node)} tables; index them from 0")
+                raise ArgumentError("values", repr(key), f"{'.'.join(parts[:i])} holds {len(node)} table{'s' if len(node) != 1 else ''}; index them from 0")
             node = node[int(part)]
             continue
         if part not in node:
