@@ -18,8 +18,6 @@ import numpy as np
 
 from .errors import ArgumentError, InputError
 
-MIN_CLIP_SECONDS = 0.05  # s: as render.dry.phrase.MIN_SECONDS (a phrase or recording shorter holds only a pluck's first periods)
-
 if TYPE_CHECKING:
     from .design import Design, RigFile
     from .dry import Dry
@@ -63,11 +61,12 @@ class RenderSettings:
     def __post_init__(self) -> None:
         """Refuse a setting no render can use, naming the field, before any work."""
         from . import arguments as A
+        from .dry.phrase import MIN_SECONDS
         from .validate import sample_rate
 
         sample_rate(self.sample_rate)
         if self.seconds is not None:  # the shortest phrase or recording a render takes (a pluck's first periods)
-            A.number("seconds", self.seconds, lo=MIN_CLIP_SECONDS, unit="s", hint="; None plays the dry signal's own length")
+            A.number("seconds", self.seconds, lo=MIN_SECONDS, unit="s", hint="; None plays the dry signal's own length")
         A.whole("seed", self.seed, lo=0)
         A.number("velocity_scale", self.velocity_scale, lo=0.0, lo_open=True, hi=1e3, unit="m/s", hint=" (the string velocity at a recording's full scale)")
         if self.seconds is not None and round(self.seconds * self.sample_rate) < 1:

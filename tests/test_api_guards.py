@@ -226,10 +226,8 @@ def test_the_arrays_a_caller_passes_in_stay_theirs():
 
 def test_a_clip_is_as_long_as_the_shortest_phrase_or_recording_at_least():
     """One minimum length for a phrase, a recording and a clip's ``seconds`` (a pluck's first periods; common practice, no source)."""
-    from render.clip import MIN_CLIP_SECONDS
     from render.dry.phrase import MIN_SECONDS
 
-    assert MIN_CLIP_SECONDS == MIN_SECONDS
     with pytest.raises(render.ArgumentError, match=r"seconds=0.01"):
         render.RenderSettings(seconds=0.01)
     render.RenderSettings(seconds=MIN_SECONDS)
