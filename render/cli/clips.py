@@ -7,6 +7,7 @@ from pathlib import Path
 
 import click
 
+from ..dry.phrase import MIN_SECONDS
 from .compare_print import compare_option
 from .options import friendly, jobs_option, overwrite_option, rig_option, sample_rate_option, warn
 from .values import Finite, InFile, OutFolder, Seed
@@ -18,7 +19,7 @@ from .values import Finite, InFile, OutFolder, Seed
 @rig_option
 @click.option("--out", "out_dir", type=OutFolder(), default=None, help="Output folder (default: a new outputs/clips-<time> folder).")
 @overwrite_option
-@click.option("--seconds", type=Finite(0.05, 3600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
+@click.option("--seconds", type=Finite(MIN_SECONDS, 3600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
 @sample_rate_option
 @click.option("--velocity-scale", type=Finite(1e-6, 1e3, lo_open=True, unit="m/s"), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
 @click.option(

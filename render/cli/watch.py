@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import click
 
+from ..dry.phrase import MIN_SECONDS
 from .options import friendly, rig_option, sample_rate_option
 from .values import Finite, InFile, Seed
 
@@ -20,7 +21,7 @@ CAUTION = "Start playback at a low volume and raise it slowly: the page starts 2
 @click.argument("models", nargs=-1, required=True, type=InFile())
 @click.option("--dry", "dry_path", type=InFile(), default=None, help="Phrase (.toml) or recorded velocity file (default: dry_signals/default.toml here, else the copy shipped with render).")
 @rig_option
-@click.option("--seconds", type=Finite(0.05, 600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
+@click.option("--seconds", type=Finite(MIN_SECONDS, 600, unit="s"), default=None, help="Length of every clip (default: the dry signal's own).")
 @sample_rate_option
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Add the rig's mains hum field.")
 @click.option("--seed", type=Seed(), default=0, show_default=True, help="Seed for the phrase's small variations.")
