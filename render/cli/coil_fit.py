@@ -7,6 +7,7 @@ import os
 import click
 
 from ..io.folders import refuse_existing as check_new
+from ..io.folders import refuse_inputs
 from .options import emit_json, friendly, json_option, overwrite_option
 from .values import InFile, OutFile
 
@@ -76,6 +77,7 @@ def fit_command(measurement, out_path, capacitance, coil, json_path, overwrite):
     from ..runs.coil import coil_table, fit_file, fit_warnings, read_capacitance
 
     held = read_capacitance(capacitance) if capacitance is not None else None
+    refuse_inputs([("--out", out_path), ("--json", json_path)], [("MEASUREMENT", measurement)])
     check_new([out_path, json_path], overwrite=overwrite)
     result = fit_file(measurement, capacitance=held)
     print_fit(result)

@@ -25,8 +25,9 @@ def netlist_command(model, rig_path, out_path, overwrite):
     """
     from ..circuit.netlist import netlist
     from ..design import load_designs
-    from ..io.folders import refuse_existing
+    from ..io.folders import refuse_existing, refuse_inputs
 
+    refuse_inputs([("--out", out_path)], [("MODEL", model), ("--rig", rig_path)])
     refuse_existing([out_path], overwrite=overwrite)
     (design,), _ = load_designs([model], rig=rig_path)
     text = netlist(design, rig_source=rig_path)

@@ -32,6 +32,32 @@ def refuse_existing(paths: Iterable[str | Path | None], *, overwrite: bool, argu
             )
 
 
+def same_file(a: str | Path, b: str | Path) -> bool:
+    """Whether paths ``a`` and ``b`` name one file: the same inode when both exist (links, ``./`` and case-blind file systems included), else the same resolved path."""
+    pa, pb = Path(a), Path(b)
+    try:
+        if pa.exists() and pb.exists():
+            return pa.samefile(pb)
+        return pa.resolve() == pb.resolve()
+    except OSError:
+        return False
+
+
+def refuse_inputs(outputs: Iterable[tuple[str, str | Path | None]], inputs: Iterable[tuple[str, str | Path | None]]) -> None:
+    """InputError, before any work, for the first output that is one of the inputs: writing it would destroy what is read.
+
+    ``outputs`` and ``inputs`` are (how the command line names it, path) pairs, such as ``("--out", "m.csv")``
+    and ``("MEASUREMENT", "m.csv")``; '-' and None are skipped. One line naming both, with the fix.
+    """
+    ins = [(name, p) for name, p in inputs if p and p != "-"]
+    for out_name, out in outputs:
+        if not out or out == "-":
+            continue
+        for in_name, src in ins:
+            if same_file(out, src):
+                raise InputError(f"{out_name} {out} is the same file as {in_name} {src}: writing it would destroy the input (--overwrite does not allow that); choose another name")
+
+
 def make_folder(path: str | Path) -> Path:
     """Create an output folder (and its parents); an OSError becomes one line."""
     p = Path(path)

@@ -174,6 +174,7 @@ def unvoice(
     from ..design import Design, design_to_dict, load_designs
     from ..io.atomic import atomic_path, json_text
     from ..io.folders import refuse_existing as check_new
+    from ..io.folders import same_file
     from ..io.hashing import sha256_file
     from ..io.wav import FloatWavWriter
     from ..report.unvoice import spectra_plot, unvoice_record
@@ -190,7 +191,7 @@ def unvoice(
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():
         raise ArgumentError("out", f"{out}", f"folder {folder} does not exist; create it first")
-    if di.exists() and out.exists() and out.resolve() == di.resolve():
+    if same_file(out, di):
         raise ArgumentError("out", f"{out}", "is the DI itself; choose another name")
     sample_rate, frames, clip_level = _open_di(di)
     model_path = design.source if isinstance(design, Design) else design
