@@ -46,7 +46,7 @@ from ..validate import Field, read_table, where
 WIRE_OUTER_RATIO = 1.127  # insulated / bare diameter: heavy-build enamel on AWG 42 (0.071 / 0.063 mm; from memory)
 TYPED = ("inductance", "resistance", "capacitance", "eddy_resistance", "eddy_coupling", "eddy_corner")
 PLACEHOLDER = {"inductance": 1.0, "resistance": 1e3, "capacitance": 1e-10}  # replaced by resolve()
-FIT_VERSION = 4  # bump when the measured fit's numbers change, so cached fits are recomputed
+FIT_VERSION = 5  # bump when the measured fit's numbers change, so cached fits are recomputed
 LADDER_VERSION = 1  # likewise for the derived coil's ladder fit (render.impedance.ladder.fit_ladder)
 CORE_VERSION = 2  # bump when the cached core parts change (their rises, or their names: poles numbered from the treble side since 2)
 
@@ -341,22 +341,22 @@ def measurement_path(file: str, source: str) -> Path:
     return Path(source).parent / p
 
 
-def fit_file(path: Path, *, capacitance: float | None = None):
-    """(Measurement, MeasuredCoil) of a measurement file, the fit cached by the file's hash; ``capacitance`` (F) holds C."""
+def fit_file(path: Path, *, capacitance: float | None = None, resistance: float | None = None):
+    """(Measurement, MeasuredCoil) of a measurement file, the fit cached by the file's hash; ``capacitance`` (F) holds C, ``resistance`` (Ω) R_dc."""
     from ..io.measurement import read_measurement
 
     m = read_measurement(path)
-    return m, _fit_cached(str(path), m.sha256, None if capacitance is None else float(capacitance))
+    return m, _fit_cached(str(path), m.sha256, None if capacitance is None else float(capacitance), None if resistance is None else float(resistance))
 
 
 @functools.lru_cache(maxsize=32)
-def _fit_cached(path: str, sha: str, capacitance: float | None = None):
-    """The fit of the file at ``path`` whose bytes hash to ``sha`` (in memory, and on disk by the hash and the held C)."""
+def _fit_cached(path: str, sha: str, capacitance: float | None = None, resistance: float | None = None):
+    """The fit of the file at ``path`` whose bytes hash to ``sha`` (in memory, and on disk by the hash and the held C and R_dc)."""
     from ..impedance.measured import MeasuredCoil, fit_measurement
     from ..io import cache
     from ..io.measurement import read_measurement
 
-    key = f"{sha}-v{FIT_VERSION}" + ("" if capacitance is None else f"-c{capacitance!r}")
+    key = f"{sha}-v{FIT_VERSION}" + ("" if capacitance is None else f"-c{capacitance!r}") + ("" if resistance is None else f"-r{resistance!r}")
     stored = cache.load("coil-fit", key)
     if stored is not None:
         try:
@@ -369,11 +369,15 @@ def _fit_cached(path: str, sha: str, capacitance: float | None = None):
                 np.asarray(stored["deg"], float),
                 float(stored["c_sd"]),
                 bool(stored["c_given"]),
+                float(stored["r_sd"]),
+                float(stored["l_sd"]),
+                bool(stored["r_given"]),
+                float(stored["low_deg"]),
             )
         except (KeyError, ValueError, TypeError, InputError):
             pass
     m = read_measurement(path)
-    fit = fit_measurement(m.frequency_hz, m.impedance, capacitance=capacitance)
+    fit = fit_measurement(m.frequency_hz, m.impedance, capacitance=capacitance, resistance=resistance)
     cache.store(
         "coil-fit",
         key,
@@ -386,6 +390,10 @@ def _fit_cached(path: str, sha: str, capacitance: float | None = None):
             "deg": fit.residual_deg,
             "c_sd": np.array(fit.capacitance_rel_sd),
             "c_given": np.array(fit.capacitance_given),
+            "r_sd": np.array(fit.resistance_rel_sd),
+            "l_sd": np.array(fit.inductance_rel_sd),
+            "r_given": np.array(fit.resistance_given),
+            "low_deg": np.array(fit.lowest_phase_deg),
         },
     )
     return fit

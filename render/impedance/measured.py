@@ -31,6 +31,22 @@ determined when x < :data:`REACH_SHARE` or the error exceeds
 :data:`REACH_SD`; it can then be held at a given value instead
 (``fit_measurement(..., capacitance=...)``).
 
+How well the sweep fixes R_dc and the inductance at DC
+(:meth:`MeasuredCoil.resistance_doubt`, :meth:`MeasuredCoil.inductance_doubt`).
+Both are what the coil shows at the low end, below its corner R_dc/(2πL),
+where the resistance carries at least as much of |Z| as the reactance, so
+the phase is under 45°. A sweep that starts above the corner sees a real part
+carried more and more by the core loss, which the ladder's sections can trade
+against R_dc; the fit then extrapolates both, and the covariance does not see
+it (a trade of model terms, not noise: on the closed-form coil of
+tests/impedance/test_measured_determined.py, started at 2 kHz, R_dc came out
+36 % off with a standard error of 2.4 %). So each is reported as not
+determined when the phase at the lowest measured frequency exceeds
+:data:`LOW_END_DEG`, or when its relative standard error from the covariance
+exceeds :data:`REACH_SD` (a sweep too short or too noisy to show ωL: 8 points
+from 20 to 34 Hz). R_dc can be held at an ohmmeter's reading instead
+(``fit_measurement(..., resistance=...)``).
+
 Pure: arrays in, a frozen result out. :mod:`render.io.measurement` reads the
 files and :mod:`render.impedance.measurement_csv` parses them.
 """
@@ -49,7 +65,12 @@ from .ladder import Ladder, fit_ladder
 # 20 % off at x = 0.18 (5 kHz) and within 4 % from x = 0.38 (7 kHz) up (tests/impedance/test_measured_reach.py);
 # about 0.55 of the self-resonance
 REACH_SHARE = 0.3
-REACH_SD = 0.1  # the fitted C's relative standard error above which it is not trusted (common practice, no source)
+REACH_SD = 0.1  # the fitted C's (and R_dc's, L's) relative standard error above which it is not trusted (common practice, no source)
+# the phase at the sweep's lowest frequency above which R_dc and the inductance at DC are extrapolated: 45° is
+# the coil's corner R_dc/(2πL), where R_dc carries as much of |Z| as ωL (circuit theory). On the closed-form coil
+# of tests/impedance/test_measured_determined.py (1 % noise) R_dc came out within 1 % from every start below
+# 500 Hz (phase 58° there), 1.7 % off from 1 kHz (69°) and 36 % off from 2 kHz: 45° keeps a margin
+LOW_END_DEG = 45.0
 
 
 def terminal_impedance(frequency_hz, *, resistance: float, ladder: Ladder, capacitance: float) -> np.ndarray:
@@ -82,6 +103,12 @@ class MeasuredCoil:
         deviation of ln C from the fit's covariance (0 when C was given).
     capacitance_given : bool
         C was held at a given value, not fitted.
+    resistance_rel_sd, inductance_rel_sd : float, ≥ 0
+        The relative standard errors of R_dc (0 when given) and of the inductance at DC, from the fit's covariance.
+    resistance_given : bool
+        R_dc was held at a given value (an ohmmeter's reading), not fitted.
+    lowest_phase_deg : float, degrees
+        The measured phase at the lowest frequency (:data:`LOW_END_DEG`).
     """
 
     resistance: float
@@ -92,6 +119,10 @@ class MeasuredCoil:
     residual_deg: np.ndarray
     capacitance_rel_sd: float = 0.0
     capacitance_given: bool = False
+    resistance_rel_sd: float = 0.0
+    inductance_rel_sd: float = 0.0
+    resistance_given: bool = False
+    lowest_phase_deg: float = 0.0
 
     def __post_init__(self) -> None:
         from ..readonly import lock_arrays
@@ -143,6 +174,45 @@ class MeasuredCoil:
         if x < REACH_SHARE:
             return f"C is not determined: the sweep ends at {format_si(float(self.frequency_hz[-1]), 'Hz', 3)}, where C carries ω²LC = {x:.2g} of the reactance (under {REACH_SHARE:g}); {guess}"
         return f"C is not determined: the fit's spread of C is over {REACH_SD:.0%}; {guess}"
+
+    def _low_end(self) -> str | None:
+        """Why the sweep's low end does not show R_dc and L at DC (one clause), or None."""
+        from ..units import format_si
+
+        ph = self.lowest_phase_deg
+        if abs(ph) <= LOW_END_DEG:
+            return None
+        corner = self.resistance / (2 * np.pi * self.inductance) if self.inductance > 0 else float("nan")
+        below = f" (below the corner R/(2πL), about {format_si(corner, 'Hz', 3)} with the fitted values)" if np.isfinite(corner) else ""
+        return f"the sweep starts at {format_si(float(self.frequency_hz[0]), 'Hz', 3)}, where the phase is {ph:.0f}° (over {LOW_END_DEG:g}°): start it where the phase is under {LOW_END_DEG:g}°{below}"
+
+    def resistance_doubt(self) -> str | None:
+        """Why the sweep does not determine R_dc (one line, its fix included), or None when it does or R_dc was given."""
+        from ..units import format_si
+
+        if self.resistance_given:
+            return None
+        guess = f"the fitted {format_si(self.resistance, 'Ω', 4)} is a guess"
+        if (low := self._low_end()) is not None:
+            return f"R_dc not determined: {low}, or hold R_dc at an ohmmeter's reading with --resistance; {guess}"
+        if self.resistance_rel_sd > REACH_SD:
+            return f"R_dc not determined: the fit's spread of R_dc is over {REACH_SD:.0%} (±{self.resistance_rel_sd:.0%}); hold it at an ohmmeter's reading with --resistance; {guess}"
+        return None
+
+    def inductance_doubt(self) -> str | None:
+        """Why the sweep does not determine the inductance at DC (one line, its fix included), or None when it does."""
+        from ..units import format_si
+
+        guess = f"the fitted {format_si(self.inductance, 'H', 4)} is a guess"
+        if (low := self._low_end()) is not None:
+            return f"L not determined: {low}; {guess}"
+        if self.inductance_rel_sd > REACH_SD:
+            spread = f"±{self.inductance_rel_sd:.0%}" if self.inductance_rel_sd < 10 else "unbounded"
+            return (
+                f"L not determined: the fit's spread of the inductance at DC is over {REACH_SD:.0%} ({spread}): the sweep {format_si(float(self.frequency_hz[0]), 'Hz', 3)}"
+                f" to {format_si(float(self.frequency_hz[-1]), 'Hz', 3)} shows too little of ωL; sweep on to well above the corner R/(2πL), where the phase passes {LOW_END_DEG:g}°; {guess}"
+            )
+        return None
 
     def self_resonance_hz(self) -> float:
         """Hz: where the fitted model's phase crosses zero from inductive to capacitive (searched 10 Hz–10 MHz)."""
@@ -227,7 +297,7 @@ def _covariance(jac: np.ndarray, residual: np.ndarray) -> np.ndarray:
     return s2 * (vt.T / sv**2) @ vt
 
 
-def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitance: float | None = None) -> MeasuredCoil:
+def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitance: float | None = None, resistance: float | None = None) -> MeasuredCoil:
     """Fit eq. (1), ladder included, to a measured impedance.
 
     Parameters
@@ -242,12 +312,16 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitan
     capacitance : float or None, F > 0
         The winding capacitance, held at this value instead of fitted (for a
         sweep that stops too far below the self-resonance to show it).
+    resistance : float or None, Ω > 0
+        R_dc, held at this value (an ohmmeter's reading) instead of fitted
+        (for a sweep that starts above the coil's corner R_dc/(2πL)).
 
     Returns
     -------
     MeasuredCoil
         With ``capacitance_rel_sd``, the fitted C's relative standard error
-        (:func:`_covariance`), or 0 when C was given.
+        (:func:`_covariance`), or 0 when C was given; likewise R_dc's and
+        the inductance at DC's.
     """
     from scipy.optimize import least_squares
 
@@ -257,19 +331,28 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitan
         raise InputError(f"measured coil: need at least 8 frequencies with one impedance each, got {f.size}")
     if np.any(~np.isfinite(f)) or np.any(~np.isfinite(z)) or np.any(f <= 0) or np.any(np.diff(f) <= 0) or np.any(np.abs(z) <= 0):
         raise InputError("measured coil: frequencies must be finite, > 0 and increasing, and every |Z| finite and > 0")
-    if capacitance is not None and not (np.isfinite(capacitance) and capacitance > 0):
-        raise InputError(f"measured coil: the given capacitance {capacitance!r} F must be finite and > 0")
+    for name, v, unit in (("capacitance", capacitance, "F"), ("resistance", resistance, "Ω")):
+        if v is not None and not (np.isfinite(v) and v > 0):
+            raise InputError(f"measured coil: the given {name} {v!r} {unit} must be finite and > 0")
     s = 2j * np.pi * f
     log_z = np.log(z)
     r0, l0, c0 = _start(f, z)
     if capacitance is not None:
         c0 = float(capacitance)
+    if resistance is not None:
+        r0 = float(resistance)
+    held = {i: float(np.log(v)) for i, v in ((0, resistance), (1, capacitance)) if v is not None}  # θ's index -> its held value
 
-    def full(x):  # θ with C put back when it is held
-        return x if capacitance is None else np.insert(x, 1, np.log(capacitance))
+    def full(x):  # θ with R and C put back where held
+        for i in sorted(held):
+            x = np.insert(x, i, held[i])
+        return x
 
     def free(theta):
-        return theta if capacitance is None else np.delete(theta, 1)
+        return np.delete(theta, sorted(held))
+
+    def index(i):  # θ's index i among the free parameters
+        return i - sum(1 for j in held if j < i)
 
     best, best_rms = None, np.inf
     for k in range(0, max_sections + 1):
@@ -288,8 +371,8 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitan
                 lk, tau = np.asarray(lad.inductances), lad.time_constants
             theta0 = np.log(np.concatenate([[r_prev, c_prev, max(lad.series_inductance, 1e-6 * lad.dc_inductance)], lk, tau]))
         lo, hi = _bounds(f, z, k)
-        if capacitance is not None:
-            lo[1], hi[1] = min(lo[1], np.log(capacitance)), max(hi[1], np.log(capacitance))
+        for i, v in held.items():
+            lo[i], hi[i] = min(lo[i], v), max(hi[i], v)
         margin = 1e-6 * (hi - lo)
         theta0 = np.clip(theta0, lo + margin, hi - margin)
         sol = least_squares(
@@ -306,9 +389,27 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitan
         r, c, l_series, lk, tau = _unpack(theta, k)
         ladder = Ladder(float(l_series), tuple(float(v) for v in lk), tuple(float(v) for v in lk / tau)) if k else Ladder(float(l_series))
         e = np.log(_model(theta, k, s)) - log_z
-        c_sd = 0.0 if capacitance is not None else float(np.sqrt(max(_covariance(sol.jac, sol.fun)[1, 1], 0.0)))
+        cov = _covariance(sol.jac, sol.fun)
+        c_sd = 0.0 if capacitance is not None else float(np.sqrt(max(cov[index(1), index(1)], 0.0)))
+        r_sd = 0.0 if resistance is not None else float(np.sqrt(max(cov[0, 0], 0.0)))
+        grad = np.zeros(sol.x.size)  # d ln(L0 + Σ L_k) / dθ over the free parameters
+        grad[index(2)] = l_series
+        grad[index(3) : index(3) + k] = lk
+        grad /= l_series + np.sum(lk)
+        l_sd = float(np.sqrt(max(float(grad @ cov @ grad), 0.0)))
         res = MeasuredCoil(
-            float(r), float(c) if capacitance is None else float(capacitance), ladder, f.copy(), 20 / np.log(10) * e.real, np.degrees(np.angle(np.exp(1j * e.imag))), c_sd, capacitance is not None
+            float(r) if resistance is None else float(resistance),
+            float(c) if capacitance is None else float(capacitance),
+            ladder,
+            f.copy(),
+            20 / np.log(10) * e.real,
+            np.degrees(np.angle(np.exp(1j * e.imag))),
+            c_sd,
+            capacitance is not None,
+            r_sd,
+            l_sd,
+            resistance is not None,
+            float(np.degrees(np.angle(z[0]))),
         )
         rms = np.sqrt(np.mean(sol.fun**2))
         if best is not None and rms > 0.9 * best_rms:

@@ -179,6 +179,17 @@ class FitResult:
     fit: MeasuredCoil
     self_resonance_hz: float | None
 
+    def self_resonance_words(self) -> str | None:
+        """Why no self-resonance is given, in words, when the sweep does not determine C (the model's phase crossing is then a guess or noise); None otherwise."""
+        fit = self.fit
+        if fit.capacitance_given:
+            return None
+        if fit.capacitance < capacitance_floor():
+            return "none within the sweep (no winding capacitance seen)"
+        if fit.capacitance_doubt() is not None:
+            return "not determined (C is not: see the warning)"
+        return None
+
     def residual_bands(self) -> list[dict]:
         """Max and rms residual (dB, °) over 20 Hz–20 kHz and per decade within it (bands with no point, or with the whole band's points, left out).
 
@@ -220,9 +231,16 @@ class FitResult:
             "capacitance_rel_sd": None if fit.capacitance_given else fit.capacitance_rel_sd,
             "capacitance_share_at_top": fit.top_share,
             "capacitance_determined": fit.capacitance_given or fit.capacitance_doubt() is None,
+            "resistance_given": fit.resistance_given,
+            "resistance_rel_sd": None if fit.resistance_given else fit.resistance_rel_sd,
+            "resistance_determined": fit.resistance_doubt() is None,
+            "inductance_rel_sd": fit.inductance_rel_sd,
+            "inductance_determined": fit.inductance_doubt() is None,
+            "lowest_phase_deg": fit.lowest_phase_deg,
             "ladder": _ladder_dict(fit.ladder),
-            "self_resonance_hz": self.self_resonance_hz,
+            "self_resonance_hz": None if self.self_resonance_words() else self.self_resonance_hz,
             **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if self.self_resonance_hz is None else {}),
+            **({"self_resonance_hz_reason": words} if (words := self.self_resonance_words()) else {}),
             "residual": self.residual_bands(),
             "warnings": list(fit_warnings(self)),
             "frequency_hz": fit.frequency_hz.tolist(),
@@ -239,7 +257,15 @@ def read_capacitance(text: str) -> float:
     return float(read_value(text, COIL["capacitance"], source="--capacitance", table="", key="", part=("coil_a", "capacitance")))
 
 
-def fit_file(path, *, capacitance: float | None = None) -> FitResult:
+def read_resistance(text: str) -> float:
+    """Ω: ``render coil fit --resistance`` read as a design's ``[coil_x] resistance`` is ("4.1k", "4100", "4.1kohm"); InputError otherwise."""
+    from ..design.schema import COIL
+    from ..validate import read_value
+
+    return float(read_value(text, COIL["resistance"], source="--resistance", table="", key="", part=("coil_a", "resistance")))
+
+
+def fit_file(path, *, capacitance: float | None = None, resistance: float | None = None) -> FitResult:
     """Read a measurement CSV and fit the coil model to it (``render.fit_coil``; the fit is cached by the file's hash).
 
     Parameters
@@ -248,6 +274,8 @@ def fit_file(path, *, capacitance: float | None = None) -> FitResult:
         A CSV of frequency (Hz), ``|Z|`` (Ω) and phase (°) (README: "Bringing in a measured coil").
     capacitance : float or None, F
         Hold C at this value instead of fitting it.
+    resistance : float or None, Ω
+        Hold R_dc at this value (an ohmmeter's reading) instead of fitting it.
 
     Returns
     -------
@@ -260,7 +288,9 @@ def fit_file(path, *, capacitance: float | None = None) -> FitResult:
     path = A.path("path", path, what="a measurement CSV's path")
     if capacitance is not None:
         A.number("capacitance", capacitance, lo=0, lo_open=True, unit="F", hint=" (farads: 95e-12 for 95 pF)")
-    m, fit = read_and_fit(path, capacitance=capacitance)
+    if resistance is not None:
+        A.number("resistance", resistance, lo=0, lo_open=True, unit="Ω", hint=" (ohms: 4100 for 4.1 kΩ)")
+    m, fit = read_and_fit(path, capacitance=capacitance, resistance=resistance)
     return FitResult(m, fit, self_resonance_hz(fit.impedance))
 
 
@@ -310,7 +340,7 @@ def fit_warnings(result: FitResult) -> tuple[str, ...]:
     from ..usual import USUAL
 
     fit = result.fit
-    out: list[str] = []
+    out: list[str] = [d for d in (fit.resistance_doubt(), fit.inductance_doubt()) if d is not None]
     lo, hi = COIL_RESISTANCE_USUAL
     if not lo <= fit.resistance <= hi:
         out.append(f"R_dc {U.format_si(fit.resistance, 'Ω', 4)} is outside {U.format_si(lo, 'Ω')} to {U.format_si(hi, 'Ω')} (pickup coils, from memory): is this a coil's sweep?")
@@ -322,7 +352,7 @@ def fit_warnings(result: FitResult) -> tuple[str, ...]:
     floor = capacitance_floor()
     if fit.capacitance < floor:
         out.append(
-            f"the sweep shows no winding capacitance (fitted {fit.capacitance:.3g} F): the table gives {U.format_si(floor, 'F')},"
+            f"the sweep shows no winding capacitance (fitted {U.format_si(fit.capacitance, 'F', 3)}): the table gives {U.format_si(floor, 'F')},"
             f" the least a design accepts, which moves |Z| by {floor_effect_db(fit):.2g} dB at most over the sweep; sweep past the self-resonance, or hold C at the coil's value with --capacitance ({rng.text('F')})"
         )
     elif a_coil and (doubt := fit.capacitance_doubt()) is not None:
@@ -387,6 +417,8 @@ def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | No
         lines.append(f"# residual over {band_text(band).replace(' – ', '–')}: max {band['max_db']:.2f} dB and {band['max_deg']:.2f}°, rms {band['rms_db']:.3f} dB and {band['rms_deg']:.2f}°")
     if fit.capacitance_given:
         lines.append("# capacitance held at the value given (--capacitance), not fitted")
+    if fit.resistance_given:
+        lines.append("# resistance held at the value given (--resistance), not fitted")
     lines += [f"# WARNING: {w}" for w in fit_warnings(result)]
     lines += [
         f'# or, to keep the measurement itself: measured = "{measured_as or m.source}"'
