@@ -25,6 +25,7 @@ The file's SHA-256 travels with the data, for a render's record.
 
 from __future__ import annotations
 
+import csv
 import math
 import re
 from dataclasses import dataclass
@@ -37,15 +38,24 @@ MAX_BYTES = 16 * 1024 * 1024  # the largest measurement file read (render.io.mea
 MIN_ROWS = 8
 _NAMES = {
     "frequency": ("frequency", "freq", "f"),
-    "magnitude": ("|z|", "z", "impedance", "magnitude", "mag", "zmag", "|impedance|"),
-    "phase": ("phase", "theta", "angle", "θ", "phase_angle", "phase angle"),
+    "magnitude": ("|z|", "z", "impedance", "magnitude", "mag", "zmag", "z_mag", "z mag", "|impedance|"),
+    "phase": ("phase", "theta", "angle", "θ", "phase_angle", "phase angle", "z_phase", "zphase", "z phase"),
 }
+# the other way meters export Z: its real and imaginary parts (R and X, in ohms); read when no magnitude and phase are found
+_PARTS = {
+    "real": ("real", "re", "r", "rs", "z_real", "zreal", "z real", "re(z)", "z'"),
+    "imaginary": ("imag", "imaginary", "im", "x", "xs", "z_imag", "zimag", "z imag", "im(z)", "z''"),
+}
+_OHMS = {"": 1.0, "ohm": 1.0, "ohms": 1.0, "ω": 1.0, "kohm": 1e3, "kω": 1e3}
 _UNITS = {
     "frequency": {"": 1.0, "hz": 1.0, "khz": 1e3},
-    "magnitude": {"": 1.0, "ohm": 1.0, "ohms": 1.0, "ω": 1.0, "kohm": 1e3, "kω": 1e3},
+    "magnitude": _OHMS,
     "phase": {"": 1.0, "deg": 1.0, "degree": 1.0, "degrees": 1.0, "°": 1.0, "rad": 180.0 / math.pi, "radian": 180.0 / math.pi, "radians": 180.0 / math.pi},
+    "real": _OHMS,
+    "imaginary": _OHMS,
 }
-_M_PREFIXED = {"frequency": ("hz",), "magnitude": ("ohm", "ohms", "ω")}  # units whose m/M prefix is read by its case (SI: milli, mega)
+_M_PREFIXED = {"frequency": ("hz",), "magnitude": ("ohm", "ohms", "ω"), "real": ("ohm", "ohms", "ω"), "imaginary": ("ohm", "ohms", "ω")}  # units whose m/M prefix is read by its case (SI: milli, mega)
+MIN_TOP_HZ = 1.0  # a sweep whose top frequency is below this is refused: no coil is swept wholly below 1 Hz; a mHz header read for MHz puts it there (common practice, no source)
 _HEADER_EXAMPLE = "frequency_hz,z_ohm,phase_deg"
 SEPARATORS = {"\t": "tab", ";": "';'", ",": "','"}  # in the order they are looked for in the header
 
@@ -109,14 +119,15 @@ def _candidates(cell: str) -> list[tuple[str, str, bool]]:
     """Readings of a header cell as (name, unit, unit given in brackets).
 
     '|Z| (kOhm)' -> [('|z|', 'kOhm', True)]; 'frequency_hz' -> [('frequency_hz', '', False),
-    ('frequency', 'hz', False)]. The name is lower-cased, the unit keeps its case (an SI prefix's: mΩ is not MΩ).
+    ('frequency', 'hz', False)]; 'Frequency/Hz' -> [..., ('frequency', 'Hz', False)]. The name is lower-cased,
+    the unit keeps its case (an SI prefix's: mΩ is not MΩ).
     """
     text = cell.strip().strip('"').strip()
     m = re.fullmatch(r"(.+?)\s*[\(\[]\s*([^\)\]]*)\s*[\)\]]", text)
-    if m:
+    if m and not m.group(1).strip().lower().endswith(("re", "im")):  # Re(Z), Im(Z) are names, not a unit in brackets
         return [(m.group(1).strip().lower(), m.group(2).strip(), True)]
     out = [(text.lower(), "", False)]
-    for sep in ("_", " "):
+    for sep in ("_", " ", "/"):
         head, _, tail = text.rpartition(sep)
         if head:
             out.append((head.strip().lower(), tail.strip(), False))
@@ -132,13 +143,31 @@ def _unit_scale(kind: str, unit: str) -> float | None:
 
 
 _SHOWN_UNITS = {"frequency": "Hz, kHz or MHz (mHz is millihertz)", "magnitude": "ohm, Ω, kΩ or MΩ (mΩ is milliohm)", "phase": "deg or rad"}
+_SHOWN_UNITS |= {"real": _SHOWN_UNITS["magnitude"], "imaginary": _SHOWN_UNITS["magnitude"]}
 
 
 def _columns(header: list[str], where: str, sep: str = ",") -> dict[str, tuple[int, float]]:
+    """Column index and scale to SI of frequency, magnitude and phase, or else of frequency, real and imaginary."""
+    found = _find(header, where, _NAMES)
+    if "magnitude" not in found and "phase" not in found:
+        parts = _find(header, where, _PARTS)
+        if "real" in parts and "imaginary" in parts and "frequency" in found:
+            return parts
+    for kind in _NAMES:
+        if kind not in found:
+            raise InputError(
+                f"{where}: no {kind} column in the header {sep.join(c.strip() for c in header)!r} (looked for {', '.join(_NAMES[kind])}; or real and imaginary parts, such as R and X);"
+                f" add a header row like {_HEADER_EXAMPLE}"
+            )
+    return found
+
+
+def _find(header: list[str], where: str, names: dict[str, tuple[str, ...]]) -> dict[str, tuple[int, float]]:
     found: dict[str, tuple[int, float]] = {}
+    names = {"frequency": _NAMES["frequency"], **names}
     for i, cell in enumerate(header):
         for name, unit, explicit in _candidates(cell):
-            kind = next((k for k, names in _NAMES.items() if name in names), None)
+            kind = next((k for k, ns in names.items() if name in ns), None)
             if kind is None or kind in found:
                 continue
             scale = _unit_scale(kind, unit)
@@ -148,9 +177,6 @@ def _columns(header: list[str], where: str, sep: str = ",") -> dict[str, tuple[i
                 continue  # 'z_real' and the like: not this column
             found[kind] = (i, scale)
             break
-    for kind in _NAMES:
-        if kind not in found:
-            raise InputError(f"{where}: no {kind} column in the header {sep.join(c.strip() for c in header)!r} (looked for {', '.join(_NAMES[kind])}); add a header row like {_HEADER_EXAMPLE}")
     return found
 
 
@@ -165,7 +191,7 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
             continue
         if header is None:
             sep = separator_of(stripped, source)
-        cells = [c.strip() for c in stripped.split(sep)]
+        cells = [c.strip() for c in next(csv.reader([stripped], delimiter=sep))]  # a quoted cell ("20") read as its text
         if header is None:
             header = cells
             continue
@@ -190,7 +216,11 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
             if not math.isfinite(v):
                 raise InputError(f"{source}: line {number}: {kind} is {cells[i]!r}; remove the row or re-measure that point")
             values[kind][r] = v * scale
-    f, mag, ph = values["frequency"], values["magnitude"], values["phase"]
+    if "magnitude" in values:
+        f, mag, ph = values["frequency"], values["magnitude"], values["phase"]
+    else:  # R + jX: exactly |Z| and its angle
+        f, zc = values["frequency"], values["real"] + 1j * values["imaginary"]
+        mag, ph = np.abs(zc), np.degrees(np.angle(zc))
     lines = [n for n, _ in rows]
     bad = np.flatnonzero(f <= 0)
     if bad.size:
@@ -202,6 +232,12 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
     if bad.size:
         i = bad[0] + 1
         raise InputError(f"{source}: line {lines[i]}: frequency {float(f[i]):g} Hz does not increase on line {lines[i - 1]} ({float(f[i - 1]):g} Hz); sort the rows by frequency and drop repeats")
+    if f.size and float(np.max(f)) < MIN_TOP_HZ:
+        unit = header[cols["frequency"][0]].strip()
+        raise InputError(
+            f"{source}: the sweep lies wholly below {MIN_TOP_HZ:g} Hz ({float(f[0]):.3g} to {float(f[-1]):.3g} Hz as the header {unit!r} reads it); no coil is swept there: SI prefixes are case-sensitive,"
+            " mHz is millihertz and MHz megahertz, so write the unit in the header as the meter means it (Hz, kHz or MHz)"
+        )
     bad = np.flatnonzero(np.abs(ph) > 180.0)
     if bad.size:
         raise InputError(f"{source}: line {lines[bad[0]]}: phase {float(ph[bad[0]]):g}° outside ±180°; check the phase column's unit (deg or rad) in the header")
