@@ -18,9 +18,14 @@ Per coil and per string, with the EMF as it drives the coil's input
 - ``polarization_t``: the largest polarisation µ0·|M| (T) along the string
   at rest, as the model's linear string gives it.
 
+and, for the design, ``warnings``: the model's limits it passes (:func:`construction_warnings`).
+
 The string's steel is linear in the model. Where its polarisation comes near
 the steel's saturation (near 2 T for string steel, from memory), the output
-and distortion are overstated: :func:`saturation_warning` says so.
+and distortion are overstated: :func:`saturation_warning` says so. So are
+an AlNiCo magnet's field and every figure here where the magnet works past
+its knee (:meth:`render.magnetics.construction.Construction.knee_warning`).
+:func:`construction_warnings` gives both, as the record's ``warnings``.
 """
 
 from __future__ import annotations
@@ -63,7 +68,7 @@ def sense_record(design) -> dict:
                 }
             )
         coils[name] = sorted(rows, key=lambda r: -r["string"])  # lowest string first
-    return {"design": design.name, "file": design.source, **design_provenance(design), "coils": coils}
+    return {"design": design.name, "file": design.source, **design_provenance(design), "coils": coils, "warnings": construction_warnings(design)}
 
 
 def balance_db(rows: list[dict]) -> np.ndarray:
@@ -100,3 +105,15 @@ def design_saturation_warning(design) -> str | None:
     if result is None:
         return None
     return saturation_warning({int(s.string): float(s.polarization) for s in result.coil_a})  # the magnets' field: the same for both coils
+
+
+def construction_warnings(design) -> list[str]:
+    """One line per limit of the model that this design's construction passes (empty without one):
+    an AlNiCo magnet past its knee, strings polarised near saturation."""
+    build = getattr(design, "construction", None)
+    if build is None:
+        return []
+    out = [note] if (note := build.construction.knee_warning()) else []
+    if note := design_saturation_warning(design):
+        out.append(note)
+    return out

@@ -40,13 +40,13 @@ def sense_command(model, json_path, png_path, overwrite):
     2nd and 3rd harmonics of the EMF for a 0.5 mm vertical vibration. The
     field solve takes seconds the first time and is cached.
     """
-    from ..analysis.sense import design_saturation_warning, sense_record
+    from ..analysis.sense import sense_record
     from ..design import load_design
 
     check_new([json_path, png_path], overwrite=overwrite)
     design = load_design(model)
     rec = sense_record(design)
-    if note := design_saturation_warning(design):  # the sensing is solved once (cached)
+    for note in rec["warnings"]:
         warn(f"{design.name}: {note}")
     print_record(rec)
     if png_path:

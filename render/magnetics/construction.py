@@ -56,7 +56,7 @@ import numpy as np
 from ..errors import InputError
 from ..impedance.materials import STEEL
 from .coil import CoilGeometry
-from .magnets import GRADES
+from .magnets import GRADES, knee_warning
 from .steel import Part
 
 KINDS = ("magnet-blades", "steel-blades", "steel-poles")
@@ -164,6 +164,13 @@ class Construction:
         """A hash of everything the field solve depends on: the construction, the coils given and the model version."""
         record = {"construction": asdict(self), "coils": [_coil_record(c) for c in coils], "model": MODEL_VERSION}
         return hashlib.sha256(json.dumps(record, sort_keys=True, default=float).encode()).hexdigest()
+
+    def knee_warning(self) -> str | None:
+        """One line when an AlNiCo grade's magnets work past their knee, where the model's straight line overstates them
+        (:func:`render.magnetics.magnets.knee_warning`), else None."""
+        if self.kind == "magnet-blades":
+            return knee_warning(self.grade, self.remanence, self.magnet_permeability, self.magnet, 2, "each magnet blade")
+        return knee_warning(self.grade, self.remanence, self.magnet_permeability, self.magnet, 0, "the bar magnet")
 
     # --- the parts --------------------------------------------------------------
     def parts(self, centre_a, centre_b, geometry_a: CoilGeometry, geometry_b: CoilGeometry, *, refine: float = 1.0) -> tuple[Part, ...]:
