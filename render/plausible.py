@@ -142,10 +142,9 @@ def design_warnings(design) -> tuple[str, ...]:
     out += measured_warnings(design)
     out += coil_warnings(design)
     out += bandwidth_warnings(design)
-    from .analysis.sense import design_saturation_warning
+    from .analysis.sense import construction_warnings
 
-    if note := design_saturation_warning(design):  # the model's limit, not a slipped value: its strings past saturation
-        out.append(note)
+    out += construction_warnings(design)  # the model's limits, not slipped values: AlNiCo past its knee, strings past saturation
     return tuple(out)
 
 

@@ -247,10 +247,75 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
         if key in data:
             out[key] = read_value(data[key], spec, source=source, table=table, key=key)
         elif spec.required:
-            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {U.example(spec.kind) if isinstance(spec.kind, U.Kind) else '1'}")
+            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {example(spec)}")
         elif spec.default is not None:
             out[key] = spec.default
     return out
+
+
+def with_example(read: Callable, text: str) -> Callable:
+    """``read`` (a field's reader) carrying ``text``, a value it accepts as TOML writes it, for :func:`example`."""
+    read.example = text  # type: ignore[attr-defined]
+    return read
+
+
+def example(spec: Field) -> str:
+    """One value ``spec`` accepts, as TOML writes it: what a missing key's message suggests.
+
+    A reader (a callable kind) gives its own in its ``example`` attribute (a choice its first
+    choice, quoted; a list of lengths a short list); a quantity the first of
+    :func:`render.units.example`'s that lies well inside the range (a factor 4 from a bound), else a round value near the
+    middle of the range (geometric, for a range that spans decades) with its unit.
+    """
+    kind = spec.kind
+    if kind == "polarity":
+        return "1"
+    if kind == "taper":
+        return '"audio"'
+    if kind == "list":
+        return "[1.0, 0.1, 0.3]"
+    if not isinstance(kind, U.Kind):
+        return str(getattr(kind, "example", "1"))
+    for text in re.findall(r'"[^"]*"|[-+0-9.][^ ,]*', U.example(kind)):
+        if _well_inside(_read_example(text, kind), spec):
+            return text
+    return _quantity_example(spec, kind)
+
+
+def _read_example(text: str, kind: Kind) -> float | None:
+    try:
+        return parse_quantity(text.strip('"') if text.startswith('"') else float(text), kind)
+    except (QuantityError, ValueError):
+        return None
+
+
+def _well_inside(value: float | None, spec: Field) -> bool:
+    """``value`` in range and, at a finite bound, a factor 4 from it (an example near an edge invites the next refusal)."""
+    if value is None or not _in_range(value, spec):
+        return False
+    lo_ok = spec.lo <= 0 or value >= 4 * spec.lo
+    hi_ok = not math.isfinite(spec.hi) or spec.hi <= 0 or value <= spec.hi / 4
+    return lo_ok and hi_ok
+
+
+def _quantity_example(spec: Field, kind: Kind) -> str:
+    lo, hi = spec.lo, spec.hi
+    if lo > 0 and math.isfinite(hi):
+        v = math.sqrt(lo * hi)
+    elif math.isfinite(hi):
+        v = hi / 2 if lo <= 0 else (lo + hi) / 2
+    else:
+        v = max(2 * lo, 1.0)
+    v = float(f"{v:.2g}")
+    if not _in_range(v, spec):
+        v = (lo + hi) / 2 if math.isfinite(hi) else v
+    if not kind.unit or kind.power != 1:
+        return f"{v:g}"
+    exp = 3 * math.floor(math.log10(abs(v)) / 3) if v else 0
+    letter = {-12: "p", -9: "n", -6: "u", -3: "m", 0: "", 3: "k", 6: "M", 9: "G"}.get(exp)
+    symbol = next((s for s in kind.symbols if s.isascii()), "")
+    text = f'"{v / 10.0**exp:.3g}{letter}{symbol}"' if letter is not None and symbol else f"{v:g}"
+    return text if _in_range(_read_example(text, kind) or math.nan, spec) else f"{v:g}"
 
 
 def check_document(data: Any, source: str, known: list[str]) -> None:

@@ -18,9 +18,26 @@ Per coil and per string, with the EMF as it drives the coil's input
 - ``polarization_t``: the largest polarisation µ0·|M| (T) along the string
   at rest, as the model's linear string gives it.
 
+- ``balance_db``: the vertical sensitivity in dB re the coil's loudest string.
+
+A figure that means nothing is ``null`` with a ``<key>_reason`` beside it
+(:mod:`render.analysis.undefined`), as :func:`mark_unsensed` decides:
+
+- below the flux table's resolution (:data:`TABLE_AGREEMENT`): the two
+  sensitivities, the balance, the dropout and H2/H3;
+- not sensed, more than :data:`NOT_SENSED_DB` below the coil's loudest
+  (resolved) string: the balance, the dropout and H2/H3 (a string the coil
+  does not hear has no balance to speak of, and its dropout and harmonics
+  are ratios of a negligible signal).
+
+And, for the design, ``warnings``: the model's limits it passes (:func:`construction_warnings`).
+
 The string's steel is linear in the model. Where its polarisation comes near
 the steel's saturation (near 2 T for string steel, from memory), the output
-and distortion are overstated: :func:`saturation_warning` says so.
+and distortion are overstated: :func:`saturation_warning` says so. So are
+an AlNiCo magnet's field and every figure here where the magnet works past
+its knee (:meth:`render.magnetics.construction.Construction.knee_warning`).
+:func:`construction_warnings` gives both, as the record's ``warnings``.
 """
 
 from __future__ import annotations
@@ -29,7 +46,14 @@ import numpy as np
 
 from ..errors import InputError
 
-KEYS = ("string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db", "polarization_t")
+KEYS = ("string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "balance_db", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db", "polarization_t")
+NOT_SENSED_DB = -60.0  # dB re the coil's loudest string: a string this far down is not sensed (our choice, no source: 1/1000 of the output)
+# The flux table's central difference over ±0.5 mm against the sensing function's integral: on the shipped demos they
+# agree within 1.9 % (the difference's own error, h²/6 times the third derivative, Press et al., Numerical Recipes, 3rd ed.,
+# 2007, §5.7). More than this and the table's numerical noise (about 1e-12 Wb) is as large as the string's own flux
+# (our bound, five times the demos').
+TABLE_AGREEMENT = 0.10
+TABLE_STEP = 0.5e-3  # m, the central difference's half step: a level of every table (render.magnetics.sensing.VERTICAL)
 SATURATION_WARN_T = 1.8  # T: a string's linear polarisation past this is near or past string steel's saturation, near 2 T (from memory)
 WEIGHT_STEP = 1e-3  # m, the sensing function is reported every millimetre (computed every 0.5 mm)
 
@@ -62,14 +86,45 @@ def sense_record(design) -> dict:
                     "polarization_t": float(s.polarization),
                 }
             )
-        coils[name] = sorted(rows, key=lambda r: -r["string"])  # lowest string first
-    return {"design": design.name, "file": design.source, **design_provenance(design), "coils": coils}
+        rows = sorted(rows, key=lambda r: -r["string"])  # lowest string first
+        coils[name] = mark_unsensed(rows, {int(s.string): table_disagreement(s) for s in result.coil(name)})
+    return {"design": design.name, "file": design.source, **design_provenance(design), "coils": coils, "warnings": construction_warnings(design)}
 
 
 def balance_db(rows: list[dict]) -> np.ndarray:
-    """Each string's output in dB re the loudest string of the coil."""
-    s = np.abs([r["sensitivity_v_s_per_m"] for r in rows])
-    return 20.0 * np.log10(s / s.max())
+    """Each string's output in dB re the loudest string of the coil (NaN where the record has no balance)."""
+    return np.array([np.nan if r.get("balance_db") is None else r["balance_db"] for r in rows], float)
+
+
+def table_disagreement(s) -> float:
+    """|the flux table's central difference over ±:data:`TABLE_STEP` − the sensitivity| / |the sensitivity| of one
+    :class:`~render.magnetics.sensing.StringSensing` (inf for a sensitivity of zero): two computations of one figure."""
+    c = int(np.flatnonzero(np.abs(s.dy) < 1e-12)[0])
+    ip, im = (int(np.flatnonzero(np.abs(s.dz - d) < 1e-12)[0]) for d in (TABLE_STEP, -TABLE_STEP))
+    slope = (s.flux[c, ip] - s.flux[c, im]) / (2 * TABLE_STEP)
+    return float(abs(slope - s.sensitivity_z) / abs(s.sensitivity_z)) if s.sensitivity_z else float("inf")
+
+
+def mark_unsensed(rows: list[dict], disagreement: dict[int, float]) -> list[dict]:
+    """Each row with its ``balance_db``, and the figures that mean nothing made null with their reason.
+
+    rows : one coil's records, with ``sensitivity_v_s_per_m``
+    disagreement : {string: :func:`table_disagreement`}
+    """
+    from .undefined import BELOW_RESOLUTION, NOT_SENSED, mark
+
+    resolved = [r for r in rows if disagreement[r["string"]] <= TABLE_AGREEMENT]
+    loudest = max((abs(r["sensitivity_v_s_per_m"]) for r in resolved), default=0.0)
+    for r in rows:
+        if disagreement[r["string"]] > TABLE_AGREEMENT:
+            for key in ("sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "balance_db", "lateral_db", "h2_db", "h3_db"):
+                mark(r, key, BELOW_RESOLUTION)
+            continue
+        r["balance_db"] = float(20.0 * np.log10(abs(r["sensitivity_v_s_per_m"]) / loudest))
+        if r["balance_db"] < NOT_SENSED_DB:
+            for key in ("balance_db", "lateral_db", "h2_db", "h3_db"):
+                mark(r, key, NOT_SENSED)
+    return [{k: r[k] for k in (*KEYS, *sorted(k for k in r if k.endswith("_reason")))} for r in rows]
 
 
 def saturation_warning(polarizations: dict[int, float]) -> str | None:
@@ -100,3 +155,15 @@ def design_saturation_warning(design) -> str | None:
     if result is None:
         return None
     return saturation_warning({int(s.string): float(s.polarization) for s in result.coil_a})  # the magnets' field: the same for both coils
+
+
+def construction_warnings(design) -> list[str]:
+    """One line per limit of the model that this design's construction passes (empty without one):
+    an AlNiCo magnet past its knee, strings polarised near saturation."""
+    build = getattr(design, "construction", None)
+    if build is None:
+        return []
+    out = [note] if (note := build.construction.knee_warning()) else []
+    if note := design_saturation_warning(design):
+        out.append(note)
+    return out

@@ -49,6 +49,8 @@ SOURCE_NO_HUM = "no hum at this harmonic: no source has it, or no coil links it"
 SOURCE_EXACT = f"the two coils' hum cancels exactly (at the {REJECTION_CAP_DB:g} dB cap)"
 NO_REFERENCE_LOUDNESS = "the reference's clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
 NO_LOUDNESS = "this clip has no integrated loudness (silent, or shorter than one 400 ms block), so there is no loudness to match"
+NOT_SENSED = "not sensed: more than 60 dB below the coil's loudest string"  # render.analysis.sense
+BELOW_RESOLUTION = "below the flux table's resolution: the table's vertical slope and the sensing function disagree by more than 10 %"
 
 # what a table cell shows instead of the number
 SHORT = {
@@ -72,6 +74,8 @@ SHORT = {
     SOURCE_EXACT: "exact",
     NO_REFERENCE_LOUDNESS: "reference silent",
     NO_LOUDNESS: "silent",
+    NOT_SENSED: "not sensed",
+    BELOW_RESOLUTION: "below resolution",
 }
 
 

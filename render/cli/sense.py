@@ -9,19 +9,28 @@ from .options import emit_json, friendly, json_option, overwrite_option, warn
 from .values import InFile, OutFile
 
 
+def _milli(v: float) -> str:
+    """V·s/m as mV·s/m to four significant figures, signed (0.03799 -> "+37.99", 2.547e-7 -> "+0.0002547")."""
+    return f"{v * 1e3:+#.4g}"
+
+
 def print_record(rec: dict) -> None:
-    from ..analysis.sense import balance_db
+    from ..analysis.undefined import reason
 
     click.echo(f"{rec['design']}  ({rec['file']})")
     for name, rows in rec["coils"].items():
-        bal = balance_db(rows)
-        click.echo(f"  {name}   string  vertical  sideways  balance  pushed 3 mm  6 mm     H2 dB   H3 dB   (vertical, sideways: V·s/m; pushed: dB re rest; H2, H3: 0.5 mm vertical sine)")
-        for r, b in zip(rows, bal):
+        click.echo(f"  {name}   string    vertical    sideways  balance  pushed 3 mm  6 mm     H2 dB   H3 dB   (vertical, sideways: mV·s/m; pushed: dB re rest; H2, H3: 0.5 mm vertical sine)")
+        for r in rows:
+            head = f"           {r['string']:>6d}  "
+            if r["sensitivity_v_s_per_m"] is None:
+                click.echo(head + reason(r, "sensitivity_v_s_per_m"))
+                continue
+            head += f"{_milli(r['sensitivity_v_s_per_m']):>10s}  {_milli(r['sensitivity_lateral_v_s_per_m']):>10s}  "
+            if r["balance_db"] is None:
+                click.echo(head + reason(r, "balance_db"))
+                continue
             lat = dict(zip((round(x * 1e4) for x in r["lateral_offset_m"]), r["lateral_db"]))
-            click.echo(
-                f"           {r['string']:>6d}  {r['sensitivity_v_s_per_m']:+.4f}  {r['sensitivity_lateral_v_s_per_m']:+.4f}  {b:+6.1f} dB  {lat.get(30, float('nan')):+6.2f} dB"
-                f"  {lat.get(60, float('nan')):+6.2f} dB  {r['h2_db']:6.1f}  {r['h3_db']:6.1f}"
-            )
+            click.echo(f"{head}{r['balance_db']:+6.1f} dB   {lat.get(30, float('nan')):+6.2f} dB  {lat.get(60, float('nan')):+6.2f} dB  {r['h2_db']:6.1f}  {r['h3_db']:6.1f}")
 
 
 @click.command("sense")
@@ -40,13 +49,13 @@ def sense_command(model, json_path, png_path, overwrite):
     2nd and 3rd harmonics of the EMF for a 0.5 mm vertical vibration. The
     field solve takes seconds the first time and is cached.
     """
-    from ..analysis.sense import design_saturation_warning, sense_record
+    from ..analysis.sense import sense_record
     from ..design import load_design
 
     check_new([json_path, png_path], overwrite=overwrite)
     design = load_design(model)
     rec = sense_record(design)
-    if note := design_saturation_warning(design):  # the sensing is solved once (cached)
+    for note in rec["warnings"]:
         warn(f"{design.name}: {note}")
     print_record(rec)
     if png_path:

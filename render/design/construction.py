@@ -36,7 +36,7 @@ from ..errors import InputError
 from ..magnetics.coil import CoilGeometry
 from ..magnetics.construction import KINDS, STEEL_PERMEABILITY, STRING_PERMEABILITY, WRAP_SHARE, Construction, Strings, magnet_figures
 from ..magnetics.magnets import GRADES
-from ..validate import Field, read_table, where
+from ..validate import Field, read_table, where, with_example
 
 MAX_STRINGS = 12
 DERIVED = ("sensitivity", "aperture", "signal_polarity")
@@ -48,7 +48,11 @@ def _choice(choices):
             raise InputError(f"{loc}={U.shown(raw)}: expected one of {', '.join(repr(c) for c in choices)}")
         return raw
 
-    return read
+    return with_example(read, f'"{choices[0]}"')
+
+
+def _mm(v: float) -> str:
+    return f'"{float(f"{v * 1e3:.2g}"):g}mm"'
 
 
 def _length(raw: Any, loc: str, lo: float, hi: float) -> float:
@@ -73,13 +77,17 @@ def _lengths(lo: float, hi: float, *, single: bool = False):
             raise InputError(f'{loc}={U.shown(raw)}: expected a list of 1 to {MAX_STRINGS} lengths, lowest string first, e.g. ["0.46mm", "0.43mm"]')
         return tuple(_length(x, f"{loc} (entry {i + 1})", lo, hi) for i, x in enumerate(raw))
 
-    return read
+    mid = math.sqrt(lo * hi)  # a round length near the middle of the range; a list: two strings, the lower one thicker
+    return with_example(read, _mm(mid) if single else f"[{_mm(mid * 1.3)}, {_mm(mid / 1.3)}]")
 
 
 def _count(raw: Any, loc: str) -> int:
     if isinstance(raw, bool) or not isinstance(raw, int) or not 1 <= raw <= MAX_STRINGS:
         raise InputError(f"{loc}={U.shown(raw)}: expected a whole number of poles from 1 to {MAX_STRINGS}")
     return raw
+
+
+with_example(_count, "6")
 
 
 PART: dict[str, Any] = dict(lo=1e-4, hi=0.1, lo_open=False)  # 0.1 mm .. 10 cm

@@ -14,7 +14,7 @@ from typing import Any
 from .. import units as U
 from ..circuit.winding import CORE_FACTORS
 from ..errors import InputError
-from ..validate import C_RANGE, R_RANGE, TOP_KEYS, Field
+from ..validate import C_RANGE, R_RANGE, TOP_KEYS, Field, with_example
 from .construction import CONSTRUCTION
 from .model import DEFAULT_HARMONICS
 
@@ -36,6 +36,9 @@ def read_wire(raw: Any, loc: str) -> tuple[str, float]:
     return ("diameter", dia)
 
 
+with_example(read_wire, "42")
+
+
 def read_core(raw: Any, loc: str) -> float:
     """A winding's core factor: a number from 1 to 20 or a named core."""
     if isinstance(raw, str) and raw in CORE_FACTORS:
@@ -43,6 +46,9 @@ def read_core(raw: Any, loc: str) -> float:
     if isinstance(raw, (int, float)) and not isinstance(raw, bool) and 1.0 <= raw <= 20.0:
         return float(raw)
     raise InputError(f"{loc}={U.shown(raw)}: expected a number from 1 to 20 or one of {', '.join(repr(k) for k in CORE_FACTORS)} (rough estimates)")
+
+
+with_example(read_core, f'"{next(iter(CORE_FACTORS))}"')
 
 
 COIL = {

@@ -56,7 +56,7 @@ import numpy as np
 from ..errors import InputError
 from ..impedance.materials import STEEL
 from .coil import CoilGeometry
-from .magnets import GRADES
+from .magnets import GRADES, knee_warning
 from .steel import Part
 
 KINDS = ("magnet-blades", "steel-blades", "steel-poles")
@@ -165,6 +165,26 @@ class Construction:
         record = {"construction": asdict(self), "coils": [_coil_record(c) for c in coils], "model": MODEL_VERSION}
         return hashlib.sha256(json.dumps(record, sort_keys=True, default=float).encode()).hexdigest()
 
+    def knee_warning(self) -> str | None:
+        """One line when an AlNiCo grade's magnets work past their knee, where the model's straight line overstates them
+        (:func:`render.magnetics.magnets.knee_warning`), else None."""
+        if self.kind == "magnet-blades":
+            return knee_warning(self.grade, self.remanence, self.magnet_permeability, self.magnet, 2, "each magnet blade")
+        return knee_warning(self.grade, self.remanence, self.magnet_permeability, self.magnet, 0, "the bar magnet")
+
+    def _overlaps_winding(self, name: str, geom: CoilGeometry) -> None:
+        """Refuse pole pieces (z from top − their height to top) that stand wholly above or below the coil's winding (z from −its height to 0)."""
+        h = self.magnet[2] if self.kind == "magnet-blades" else self.steel[2]  # type: ignore[index]
+        if self.top - h < 0.0 < self.top + geom.height:
+            return
+        piece = {"magnet-blades": "magnet blade", "steel-blades": "steel blade", "steel-poles": "screws"}[self.kind]
+        where = "above" if self.top - h >= 0.0 else "below"
+        height = "magnet_height" if self.kind == "magnet-blades" else "steel_height"
+        raise InputError(
+            f"[construction] top={self.top * 1e3:.3g} mm: {name}'s {piece} ({height} {h * 1e3:.3g} mm) stands wholly {where} its winding"
+            f" (z = {-geom.height * 1e3:.3g} mm to 0); give top above {-geom.height * 1e3:.3g} mm and below {h * 1e3:.3g} mm so that it passes through the coil"
+        )
+
     # --- the parts --------------------------------------------------------------
     def parts(self, centre_a, centre_b, geometry_a: CoilGeometry, geometry_b: CoilGeometry, *, refine: float = 1.0) -> tuple[Part, ...]:
         """The magnets and steel as blocks to solve, for coils centred at ``centre_a`` and ``centre_b`` (m).
@@ -183,6 +203,7 @@ class Construction:
         chi_m = self.magnet_permeability - 1.0
         chi_s = self.steel_permeability - 1.0
         for name, x0, geom, up in (("coil_a", xa, geometry_a, -1.0), ("coil_b", xb, geometry_b, 1.0)):
+            self._overlaps_winding(name, geom)
             if self.kind == "magnet-blades":
                 w, length, h = self.magnet
                 _fits(name, geom, w, length, "magnet_width and magnet_length")

@@ -32,11 +32,23 @@ straight line through their working points in a pickup. For AlNiCo bars,
 give ``remanence`` as measured (a gaussmeter on the pole face, matched with
 :func:`render.magnetics.sensing.pickup_sensing`), or treat the grade's
 figures as an upper bound.
+
+:func:`knee_warning` says so for a design: it places the magnet's working
+point on the model's straight line, from its shape alone (the demagnetising
+factor of a rectangular prism, Aharoni, J. Appl. Phys. 83, 3432 (1998); the
+tests check it against magpylib's field of a uniformly magnetised cuboid,
+averaged over its volume), and warns when the field inside reaches
+:data:`KNEE_SHARE` of the grade's coercivity. The steel on a bar raises its
+permeance, so the shape alone overstates the field inside: the warning may
+come where the bar, with its steel, stays just above the knee.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
+
+from scipy.constants import mu_0
 
 
 @dataclass(frozen=True)
@@ -59,3 +71,66 @@ GRADES = {
         Grade("ndfeb", 1.2, 1.05, "sintered NdFeB N35–N38, makers' typical 1.17–1.26 T; from memory"),
     )
 }
+# A/m, the coercivity H_c of the grades whose curve bends at a knee (MMPA Standard No. 0100-00, 2000: cast
+# Alnico 2 about 560 Oe, cast Alnico 5 about 640 Oe; from memory). Ferrite and NdFeB: straight through a pickup's working points.
+COERCIVITY = {"alnico2": 45e3, "alnico5": 50e3}
+# The straight recoil line from B_r is trusted while the field inside stays below this share of H_c
+# (our estimate, no source: the knee lies below H_c, and an AlNiCo curve bends before its knee).
+KNEE_SHARE = 0.5
+
+
+def demagnetising_factor(a: float, b: float, c: float) -> float:
+    """The magnetometric demagnetising factor along c of a rectangular prism of half sides a, b, c (any unit).
+
+    Aharoni, "Demagnetizing factors for rectangular ferromagnetic prisms", J. Appl. Phys. 83, 3432 (1998), eq. (1):
+    the volume average of the field of a uniform magnetisation along c, over −M; a cube gives 1/3.
+    """
+    r = math.sqrt(a * a + b * b + c * c)
+    ab, bc, ac = math.hypot(a, b), math.hypot(b, c), math.hypot(a, c)
+    abc = a * b * c
+    t = (
+        (b * b - c * c) / (2 * b * c) * math.log((r - a) / (r + a))
+        + (a * a - c * c) / (2 * a * c) * math.log((r - b) / (r + b))
+        + b / (2 * c) * math.log((ab + a) / (ab - a))
+        + a / (2 * c) * math.log((ab + b) / (ab - b))
+        + c / (2 * a) * math.log((bc - b) / (bc + b))
+        + c / (2 * b) * math.log((ac - a) / (ac + a))
+        + 2 * math.atan(a * b / (c * r))
+        + (a**3 + b**3 - 2 * c**3) / (3 * abc)
+        + (a * a + b * b - 2 * c * c) / (3 * abc) * r
+        + c / (a * b) * (ac + bc)
+        - (ab**3 + bc**3 + ac**3) / (3 * abc)
+    )
+    return t / math.pi
+
+
+def working_field(size: tuple, axis: int, remanence: float, recoil_permeability: float) -> float:
+    """|H| (A/m) inside a free magnet block on its straight recoil line, magnetised along ``axis`` (0 x, 1 y, 2 z).
+
+    size : (x, y, z), m. On the line J = B_r + (µ_rec − 1)·µ0·H with H = −N·J/µ0 (N from
+    :func:`demagnetising_factor`): |H| = N·B_r / (µ0·(1 + N·(µ_rec − 1))).
+    """
+    half = [s / 2.0 for s in size]
+    along = half.pop(axis)
+    n = demagnetising_factor(half[0], half[1], along)
+    return n * remanence / (mu_0 * (1.0 + n * (recoil_permeability - 1.0)))
+
+
+def knee_warning(grade: str | None, remanence: float, recoil_permeability: float, size: tuple, axis: int, what: str) -> str | None:
+    """One line when an AlNiCo grade's magnet works near or past its knee on the model's straight line, else None.
+
+    Only for a grade's own remanence: a ``remanence`` given in the design (a measured magnet) is taken as it is.
+    what : the magnet as the message names it ("the bar magnet", "each magnet blade")
+    """
+    g = GRADES.get(grade or "")
+    if g is None or grade not in COERCIVITY or remanence != g.remanence:
+        return None
+    h = working_field(size, axis, remanence, recoil_permeability)
+    hc = COERCIVITY[grade]
+    if h < KNEE_SHARE * hc:
+        return None
+    return (
+        f"[construction] magnet_grade={grade}: on the model's straight line {what} works at about {h / 1e3:.0f} kA/m (from its shape alone),"
+        f" beyond {KNEE_SHARE:g} of the grade's coercivity ({KNEE_SHARE * hc / 1e3:.0f} of {hc / 1e3:.0f} kA/m), where AlNiCo bends at its knee;"
+        " its field and every sensitivity are overstated (by a factor of two or more for a short bar): give the measured remanence instead"
+    )

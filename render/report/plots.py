@@ -558,6 +558,14 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
     return save(fig, path, overwrite=overwrite)
 
 
+def _beyond_palette(i: int) -> str | None:
+    """The marker that tells the i-th string from the one whose colour it shares (none for the palette's first eight; up to 16 strings)."""
+    return None if i < len(PALETTE) else ("x", "d", "+", "^", "*", "v", "P", "h")[(i - len(PALETTE)) % 8]
+
+
+SIDE_FLOOR_DB = -60.0  # the balance panel's floor: sideways sensitivities below it are drawn as triangles at it
+
+
 def sense_plot(path, record, *, overwrite=False):
     """``render sense``: string balance, sensing functions, lateral dropout and H2/H3, per coil."""
     from ..analysis.sense import balance_db
@@ -570,21 +578,37 @@ def sense_plot(path, record, *, overwrite=False):
         strings = [r["string"] for r in rows]
         pos = np.arange(len(rows))
         ax_bal.bar(pos + (k - 0.5) * width, balance_db(rows), width, color=PALETTE[k], label=name)
-        loudest = max(abs(r["sensitivity_v_s_per_m"]) for r in rows)
-        side = np.array([abs(r["sensitivity_lateral_v_s_per_m"]) for r in rows]) / loudest
-        ax_bal.plot(pos + (k - 0.5) * width, 20 * np.log10(np.maximum(side, 1e-3)), ls="none", marker="o", mfc="none", color="black" if k == 0 else "0.5", label=f"{name} sideways")
-        ax_h.plot(pos, [r["h2_db"] for r in rows], marker="o", color=PALETTE[k], label=f"{name} H2")
-        ax_h.plot(pos, [r["h3_db"] for r in rows], marker="s", ls="--", color=PALETTE[k], label=f"{name} H3")
+        loudest = max((abs(r["sensitivity_v_s_per_m"]) for r in rows if r["sensitivity_v_s_per_m"] is not None), default=1.0)
+        side_db = 20 * np.log10(np.array([np.nan if r["sensitivity_lateral_v_s_per_m"] is None else abs(r["sensitivity_lateral_v_s_per_m"]) or 1e-300 for r in rows]) / loudest)
+        floor = side_db < SIDE_FLOOR_DB  # below the plot's floor: a triangle pointing down at the floor, not a measured ring
+        ring = "black" if k == 0 else "0.5"
+        x_bal = pos + (k - 0.5) * width
+        ax_bal.plot(x_bal[~floor], side_db[~floor], ls="none", marker="o", mfc="none", color=ring, label=f"{name} sideways")
+        if floor.any():
+            ax_bal.plot(x_bal[floor], np.full(floor.sum(), SIDE_FLOOR_DB), ls="none", marker="v", mfc="none", color=ring, label=f"{name} sideways below {SIDE_FLOOR_DB:g} dB")
+        nan = float("nan")
+        ax_h.plot(pos, [nan if r["h2_db"] is None else r["h2_db"] for r in rows], marker="o", color=PALETTE[k], label=f"{name} H2")
+        ax_h.plot(pos, [nan if r["h3_db"] is None else r["h3_db"] for r in rows], marker="s", ls="--", color=PALETTE[k], label=f"{name} H3")
         for i, r in enumerate(rows):
+            if r["lateral_db"] is None:  # not sensed, or below the flux table's resolution: nothing to draw
+                continue
             ax_along.plot(
-                np.asarray(r["along_x_m"]) * 1e3, r["along_weight"], color=PALETTE[i % len(PALETTE)], ls=STYLES[k], lw=1.2, label=f"{name} string {r['string']}" if k == 0 or i == 0 else None
+                np.asarray(r["along_x_m"]) * 1e3,
+                r["along_weight"],
+                color=PALETTE[i % len(PALETTE)],
+                ls=STYLES[k],
+                lw=1.2,
+                marker=_beyond_palette(i),
+                markevery=12,
+                ms=4,
+                label=f"{name} string {r['string']}" if k == 0 or i == 0 else None,
             )
             ax_lat.plot(
                 np.asarray(r["lateral_offset_m"]) * 1e3,
                 r["lateral_db"],
                 color=PALETTE[i % len(PALETTE)],
                 ls=STYLES[k],
-                marker="o" if k == 0 else "s",
+                marker=_beyond_palette(i) or ("o" if k == 0 else "s"),
                 ms=3,
                 label=f"string {r['string']}" if k == 0 else None,
             )
@@ -603,10 +627,10 @@ def sense_plot(path, record, *, overwrite=False):
     ax_h.set_ylabel("dB re fundamental")
     for ax in axes.ravel():
         ax.grid(True, color="#dddddd", linewidth=0.6)
-    ax_bal.legend(fontsize=8, frameon=False)
+    ax_bal.legend(fontsize=8, frameon=False, loc="upper left", bbox_to_anchor=(0.0, -0.14), ncol=2)  # below the bars, never over them
     ax_along.legend(fontsize=7, frameon=False, ncol=2)
     ax_lat.legend(fontsize=7, frameon=False, ncol=2)
     ax_h.legend(fontsize=7, frameon=False, ncol=2)
     fig.suptitle(f"{record['design']}: what the construction senses", fontsize=11)
-    fig.subplots_adjust(left=0.08, right=0.98, bottom=0.08, top=0.91, hspace=0.38, wspace=0.22)
+    fig.subplots_adjust(left=0.08, right=0.98, bottom=0.08, top=0.91, hspace=0.62, wspace=0.22)
     return save(fig, path, overwrite=overwrite)

@@ -14,7 +14,7 @@ from render.cli import main
 
 ROOT = Path(__file__).resolve().parents[2]
 POLES = ROOT / "models" / "slipway-steel-poles.toml"
-KEYS = {"string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db", "polarization_t"}
+KEYS = {"string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "balance_db", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db", "polarization_t"}
 
 
 def run(*args):
@@ -110,3 +110,59 @@ def test_the_sideways_sensitivity_matches_the_flux_table():
     rec = json.loads(run("sense", POLES, "--json", "-").stdout)
     pol = d.coil_a.hum_polarity
     assert [row["sensitivity_lateral_v_s_per_m"] for row in rec["coils"]["coil_a"]] == [pol * s.sensitivity_y for s in sorted(r.coil_a, key=lambda s: -s.string)]
+
+
+def test_figures_of_strings_not_sensed_or_below_resolution_are_words():
+    """Pure: the −60 dB rule and the table-agreement rule (render.analysis.sense.mark_unsensed), on made-up rows."""
+    from render.analysis.sense import mark_unsensed
+    from render.analysis.undefined import BELOW_RESOLUTION, NOT_SENSED
+
+    def row(n, s):
+        return {"string": n, "sensitivity_v_s_per_m": s, "sensitivity_lateral_v_s_per_m": s / 10, "along_x_m": [0.0], "along_weight": [0.0],
+                "lateral_offset_m": [0.0], "lateral_db": [0.0], "h2_db": -20.0, "h3_db": -40.0, "polarization_t": 1.0}  # fmt: skip
+
+    # string 3 is 1e-4 of the loudest resolved one (−80 dB); string 1 is the largest but its table disagrees by 30 %
+    rows = mark_unsensed([row(3, 1e-6), row(2, 0.01), row(1, 0.05)], {3: 0.01, 2: 0.01, 1: 0.3})
+    assert rows[1]["balance_db"] == 0.0  # the loudest resolved string, not the unresolved larger one
+    assert rows[0]["balance_db"] is None and rows[0]["balance_db_reason"] == NOT_SENSED and rows[0]["h2_db"] is None and rows[0]["lateral_db"] is None
+    assert rows[0]["sensitivity_v_s_per_m"] == 1e-6  # resolved: its sensitivity stands
+    assert rows[2]["sensitivity_v_s_per_m"] is None and rows[2]["sensitivity_v_s_per_m_reason"] == BELOW_RESOLUTION
+    json.dumps(rows, allow_nan=False)
+
+
+def test_the_demos_tables_agree_with_their_sensing_functions():
+    # the README's "within 1.9 %" on the demos: two computations of one figure (the table's central difference over
+    # ±0.5 mm, its error h²/6 times the third derivative, Press et al., Numerical Recipes, 3rd ed., 2007, §5.7)
+    from render.analysis.sense import TABLE_AGREEMENT, table_disagreement
+    from render.design import load_design
+    from render.design.construction import sensing
+
+    worst = max(table_disagreement(s) for name in ("slipway-steel-poles", "slipway-steel-blades", "slipway-magnet-blades") for s in sensing(load_design(ROOT / "models" / f"{name}.toml")).coil_a)
+    assert worst < 0.019 and worst * 5 < TABLE_AGREEMENT + 1e-12
+
+
+def test_strings_beside_the_coils_print_words_and_small_sensitivities_keep_four_figures(tmp_path):
+    text = POLES.read_text()
+    # twelve strings 10.4 mm apart over coils 58 mm long: the outer ones lie far beyond the winding's ends
+    far = text.replace('string_cores = ["0.44mm", "0.41mm", "0.36mm", "0.43mm", "0.33mm", "0.25mm"]', "string_cores = [" + ", ".join(['"0.3mm"'] * 12) + "]")
+    far = far.replace('string_diameters = ["1.17mm", "0.91mm", "0.66mm", "0.43mm", "0.33mm", "0.25mm"]', "")
+    far = far.replace('string_height = ["3.0mm", "2.9mm", "2.8mm", "2.7mm", "2.6mm", "2.5mm"]', 'string_height = "2.6mm"')
+    far = far.replace('pole_spacing = "10.4mm"', 'poles = 2\npole_spacing = "10.4mm"')
+    path = tmp_path / "far.toml"
+    path.write_text(far)
+    res = run("sense", path, "--json", tmp_path / "far.json")
+    assert res.exit_code == 0, res.output
+    assert "not sensed" in res.output and " dB " in res.output
+    data = [line.split() for line in res.output.splitlines() if line.split()[:1] and line.split()[0].isdigit()]
+    assert all(float(cells[3]) >= -60 for cells in data if cells[4] == "dB")  # every balance printed as a number is within 60 dB
+    rows = json.loads((tmp_path / "far.json").read_text())["coils"]["coil_a"]
+    assert sum(r["balance_db"] is None for r in rows) >= 4
+    # a string of µr barely above 1: output a few parts in 1e4 of the demo's, printed to four significant figures
+    weak = text.replace("\n[construction]\n", "\n[construction]\nstring_permeability = 1.0001\n")
+    path.write_text(weak)
+    out = run("sense", path).output
+    data = [line.split() for line in out.splitlines() if line.split()[:1] and line.split()[0].isdigit()]
+    assert len(data) == 12
+    for cells in data:  # four significant figures of a value a few parts in 1e4 of the demo's, never +0.0000
+        digits = cells[1].lstrip("+-").split("e")[0].replace(".", "").lstrip("0")
+        assert len(digits) == 4 and float(cells[1]) != 0.0

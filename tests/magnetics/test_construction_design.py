@@ -210,3 +210,25 @@ def test_parts_that_would_overlap_are_refused(tmp_path, old, new, fragment):
     with pytest.raises(InputError) as e:
         load_design(path)
     assert fragment in str(e.value) and "\n" not in str(e.value)
+
+
+@pytest.mark.parametrize(
+    "demo, top, fragment",
+    [
+        # an 8 mm blade with its top at +10 mm spans z = 2 … 10 mm; the 9 mm winding spans −9 … 0 mm (arithmetic)
+        ("slipway-magnet-blades", "10mm", "coil_a's magnet blade (magnet_height 8 mm) stands wholly above its winding (z = -9 mm to 0); give top above -9 mm and below 8 mm"),
+        ("slipway-magnet-blades", "-10mm", "coil_a's magnet blade (magnet_height 8 mm) stands wholly below its winding"),
+        # 11 mm blades from −21 to −10 mm (arithmetic)
+        ("slipway-steel-blades", "-10mm", "coil_a's steel blade (steel_height 11 mm) stands wholly below its winding (z = -9 mm to 0); give top above -9 mm and below 11 mm"),
+    ],
+)
+def test_pole_pieces_outside_their_coils_height_are_refused(tmp_path, demo, top, fragment):
+    root = Path(__file__).resolve().parents[2]
+    lines = (root / "models" / f"{demo}.toml").read_text().splitlines()
+    # strings raised clear of the highest pole piece, so that the placement is what is refused
+    text = "\n".join('string_height = "12mm"' if line.startswith("string_height =") else line for line in lines) + f'\ntop = "{top}"\n'
+    path = tmp_path / "placed.toml"
+    path.write_text(text)
+    with pytest.raises(InputError) as e:
+        load_design(path)
+    assert fragment in str(e.value) and "\n" not in str(e.value)
