@@ -79,6 +79,19 @@ def signal_cancels(resp, frequency_hz) -> tuple[np.ndarray, np.ndarray]:
     return cancel(a, b), cancel(pa, pb)
 
 
+def silence(designs, resp, frequency_hz) -> tuple[list[str | None], list[str | None]]:
+    """Why each design gives no signal at the amp input, (active, passive), None where it gives one.
+
+    The volume at 0 (``rig.volume = 0``, decided by the setting: the circuit keeps the pot's end-stop
+    resistor, :data:`render.circuit.rig.MIN_R`, so a level computed through it would be a number without
+    meaning), or the two coils cancelling the string signal exactly (:func:`signal_cancels`)."""
+    silent, passive_silent = signal_cancels(resp, frequency_hz)
+    off = [d.rig.volume == 0 for d in designs]
+    active = [U.VOLUME_ZERO if o else U.NO_SIGNAL if s else None for o, s in zip(off, silent)]
+    passive = [U.VOLUME_ZERO if o else U.PASSIVE_NO_SIGNAL if s else None for o, s in zip(off, passive_silent)]
+    return active, passive
+
+
 def grid(points: int = GRID_POINTS) -> np.ndarray:
     return np.geomspace(F_LO, F_HI, points)
 
@@ -211,14 +224,17 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
     hp5nc = np.abs(resp_nc.passive_velocity()(5000.0)[:, 0])
     zo = resp.z_out([1000.0, 10000.0])
     zp = resp.z_out_passive([1000.0, 10000.0])
-    silent, passive_silent = signal_cancels(resp, f)
+    why_silent, why_passive_silent = silence(designs, resp, f)
+    silent = [w is not None for w in why_silent]
+    passive_silent = [w is not None for w in why_passive_silent]
     out = []
     for i, d in enumerate(designs):
-        row = _response_row(fig, i, silent[i], U.NO_SIGNAL)
+        no_signal, no_passive_signal = why_silent[i] or U.NO_SIGNAL, why_passive_silent[i] or U.PASSIVE_NO_SIGNAL
+        row = _response_row(fig, i, silent[i], no_signal)
         if silent[i]:
-            U.mark(row, "gain_vs_passive_db", U.NO_SIGNAL)
+            U.mark(row, "gain_vs_passive_db", no_signal)
         elif passive_silent[i]:
-            U.mark(row, "gain_vs_passive_db", U.PASSIVE_NO_SIGNAL)
+            U.mark(row, "gain_vs_passive_db", no_passive_signal)
         else:
             U.put(row, "gain_vs_passive_db", fig["level_1k_db"][i] - pfig["level_1k_db"][i], U.NO_SIGNAL)
         if no_hum[i] is not None:
@@ -231,11 +247,11 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
         row["headroom_up_v"] = d.headroom_up_v
         row["headroom_down_v"] = d.headroom_down_v
         row["headroom_v"] = min(d.headroom_up_v, d.headroom_down_v)
-        _cable_loss(row, h5nc[i], h5[i], silent[i], U.NO_SIGNAL)
+        _cable_loss(row, h5nc[i], h5[i], silent[i], no_signal)
         row["output_impedance_1k_ohm"] = float(abs(zo[i, 0]))
         row["output_impedance_10k_ohm"] = float(abs(zo[i, 1]))
-        row["passive"] = _response_row(pfig, i, passive_silent[i], U.PASSIVE_NO_SIGNAL, resonance=False)
-        _cable_loss(row["passive"], hp5nc[i], hp5[i], passive_silent[i], U.PASSIVE_NO_SIGNAL)
+        row["passive"] = _response_row(pfig, i, passive_silent[i], no_passive_signal, resonance=False)
+        _cable_loss(row["passive"], hp5nc[i], hp5[i], passive_silent[i], no_passive_signal)
         row["passive"]["output_impedance_1k_ohm"] = float(abs(zp[i, 0]))
         row["passive"]["output_impedance_10k_ohm"] = float(abs(zp[i, 1]))
         out.append(row)

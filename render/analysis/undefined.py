@@ -34,6 +34,7 @@ NO_LINKAGE = "no hum: no source has this harmonic, or none links either coil at 
 NOTHING_LINKS = "no hum: no source links either coil"
 NO_DIPOLE_LINKAGE = "no hum at this harmonic: neither coil links the dipole there"
 NO_SIGNAL = "no signal: the coils cancel the string signal exactly (a coil wired in reverse? check signal_polarity)"
+VOLUME_ZERO = "no signal: the volume is at 0 (rig.volume = 0)"  # decided by the setting, not by a level
 PASSIVE_NO_SIGNAL = "no passive signal: the passive reference's coils cancel the string signal exactly"
 NO_PEAK = "no peak of 3 dB or more above the 1 kHz level"
 NO_PEAK_IN_BAND = "no peak from 1 kHz to 20 kHz (none with a prominence of 0.5 dB or more)"
@@ -60,6 +61,7 @@ SHORT = {
     NO_DIPOLE_LINKAGE: "no hum",
     NO_SIGNAL: "no signal",
     PASSIVE_NO_SIGNAL: "no passive signal",
+    VOLUME_ZERO: "volume 0",
     NO_PEAK: "none",
     PEAK_EDGES: "none",
     NO_PEAK_IN_BAND: "no peak",

@@ -196,3 +196,27 @@ def test_corners_read_with_an_si_prefix_not_an_exponent():
     assert res.exit_code == 0, res.output
     expected = 1 / (2 * math.pi * 110e3 * 47e-12)
     assert f"feedback {expected / 1e3:.4g} kHz" in res.output and "e+0" not in res.output
+
+
+def test_volume_at_zero_prints_no_signal_not_the_end_stop(tmp_path):
+    # rig.volume = 0 is legal; the circuit keeps a 1 mΩ end stop, whose level (about -155 dB) means nothing.
+    # "No signal" is decided by the setting, so every level and ratio against the signal is words / null.
+    rig = tmp_path / "rig.toml"
+    rig.write_text("[rig]\nvolume = 0\n")
+    out = tmp_path / "c.json"
+    res = run("check", REF, "--rig", rig, "--json", out)
+    assert res.exit_code == 0, res.output
+    assert "gain at 1 kHz     no signal: the volume is at 0" in res.output
+    assert "against the passive reference" not in res.output and " dB re 1 V per m/s" not in res.output
+    fig = json.loads(out.read_text())["designs"][0]["figures"]
+    for key in ("level_1k_db", "gain_vs_passive_db", "peak_hz", "treble_corner_hz", "cable_loss_db"):
+        assert fig[key] is None and "volume is at 0" in fig[f"{key}_reason"], key
+    res = run("response", REF, "--rig", rig)
+    assert res.exit_code == 0 and "level at 1 kHz" not in res.output and "no signal: the volume is at 0" in res.output, res.output
+    for command in ("noise", "hum"):
+        js = tmp_path / f"{command}.json"
+        assert run(command, REF, "--rig", rig, "--json", js).exit_code == 0
+        scales = json.loads(js.read_text())["hum_and_noise"]
+        for scale in scales:
+            assert scale["signal_to_noise_db"] is None and "volume is at 0" in scale["signal_to_noise_db_reason"]
+    assert json.loads((tmp_path / "noise.json").read_text())["snr_db"] is None
