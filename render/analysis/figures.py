@@ -15,8 +15,13 @@ string velocity (the same at both sensing points) to the amp input:
 - ``q``: the highest peak's frequency over the width between the −3 dB
   points (re the peak) around it; None when ``peak_db`` < 3 dB.
 - ``bass_corner_hz``: the highest frequency below 1 kHz where |H| is 3 dB
-  under ``level_1k_db``; ``treble_corner_hz``: the lowest above ``peak_hz``
-  (above 1 kHz when there is no peak) where it is, None beyond 20 kHz.
+  under ``level_1k_db``; ``treble_corner_hz``: the highest frequency up to
+  20 kHz, above ``peak_hz`` (above 1 kHz when there is no peak), where |H|
+  falls through 3 dB under ``level_1k_db`` (its last downward crossing), None
+  when it does not or climbs back within 3 dB by 20 kHz ("beyond 20 kHz").
+  ``treble_dip_hz``: where the response first fell 3 dB under, when that is
+  below the treble corner (it dips and recovers, e.g. between two humps);
+  None otherwise.
 - ``gain_vs_passive_db``: ``level_1k_db`` minus the passive reference's.
 - ``hum_rejection_db``: 20·log10(max(|V_A|, |V_B|)/|V_A + V_B|) at the
   mains fundamental, V_A and V_B the hum at the amp input from each coil's
@@ -138,16 +143,23 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
     jj = i1k - 1 - jr  # grid index of the first point under the level, going down
     bass[ok] = _crossing(f, h_db[ok], jj[ok], jj[ok] + 1, lvl[ok] - 3.0)
 
-    # treble corner: lowest f above peak_hz with |H| 3 dB under level_1k, None beyond 20 kHz
-    treble = np.full(n, np.nan)
+    # treble corner: the last downward crossing of level_1k - 3 dB above peak_hz, up to 20 kHz, with the response
+    # still under at 20 kHz; a first crossing below it is a dip the response recovers from
+    treble, dip = np.full(n, np.nan), np.full(n, np.nan)
+    top = int(np.searchsorted(f, 20000.0))
     for r in range(n):
         first = int(np.searchsorted(f, peak_hz[r] if np.isfinite(peak_hz[r]) else 1000.0))
-        idx = np.flatnonzero(h_db[r, first:] < lvl[r] - 3.0)
-        if idx.size:
-            j = first + idx[0]
-            fc = _crossing(f, h_db[r : r + 1], np.array([j - 1]), np.array([j]), np.array([lvl[r] - 3.0]))[0]
-            if fc <= 20000.0:
-                treble[r] = fc
+        under = h_db[r, first - 1 :] < lvl[r] - 3.0
+        down = first + np.flatnonzero(under[1:] & ~under[:-1])  # grid index just past each downward crossing
+        cross = [_crossing(f, h_db[r : r + 1], np.array([j - 1]), np.array([j]), np.array([lvl[r] - 3.0]))[0] for j in down]
+        in_band = [fc for fc in cross if fc <= 20000.0]
+        if not in_band:
+            continue
+        still_under = bool(np.all(h_db[r, int(np.searchsorted(f, in_band[-1])) : top + 1] < lvl[r] - 3.0))
+        if still_under:
+            treble[r] = in_band[-1]
+        if in_band[0] < in_band[-1] or not still_under:
+            dip[r] = in_band[0]
     return {
         "level_1k_db": lvl,
         "peak_hz": peak_hz,
@@ -155,6 +167,7 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
         "q": q,
         "bass_corner_hz": bass,
         "treble_corner_hz": treble,
+        "treble_dip_hz": dip,
         "peaks": [x[0] for x in found],
         "aimed_peak_hz": aimed,
     }
@@ -258,7 +271,7 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
     return out
 
 
-RESPONSE_KEYS = ("level_1k_db", "peak_hz", "peak_db", "q", "bass_corner_hz", "treble_corner_hz")
+RESPONSE_KEYS = ("level_1k_db", "peak_hz", "peak_db", "q", "bass_corner_hz", "treble_corner_hz", "treble_dip_hz")
 
 
 def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resonance: bool = True) -> dict:
@@ -272,7 +285,7 @@ def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resona
         elif k in ("peak_hz", "peak_db"):
             U.put(row, k, fig[k][i], NO_PEAK)
         else:
-            U.put(row, k, fig[k][i], {"bass_corner_hz": U.NO_BASS_CORNER, "treble_corner_hz": U.NO_TREBLE_CORNER}.get(k, silent_reason))
+            U.put(row, k, fig[k][i], {"bass_corner_hz": U.NO_BASS_CORNER, "treble_corner_hz": U.NO_TREBLE_CORNER, "treble_dip_hz": U.NO_TREBLE_DIP}.get(k, silent_reason))
     row["peaks"] = [] if silent else fig["peaks"][i]
     if resonance:  # the frequency a peak aim of render fit scores (render.analysis.peaks.aimed_peak_hz)
         U.put(row, "aimed_peak_hz", np.nan if silent else fig["aimed_peak_hz"][i], silent_reason if silent else NO_PEAK)

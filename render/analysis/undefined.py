@@ -41,6 +41,7 @@ NO_PEAK_IN_BAND = "no peak from 1 kHz to 20 kHz (none with a prominence of 0.5 d
 PEAK_EDGES = "the peak's -3 dB points lie outside 5 Hz to 40 kHz"
 NO_BASS_CORNER = "within 3 dB of the 1 kHz level down to 5 Hz"
 NO_TREBLE_CORNER = "beyond 20 kHz"
+NO_TREBLE_DIP = "no dip: the response falls 3 dB under the 1 kHz level once, at its treble corner, or not at all"
 SILENT = "silent, or shorter than one 400 ms block of ITU-R BS.1770-4"
 NOMINAL_CANCELS = "the design itself cancels its hum exactly, so a change has no finite size"
 PART_CANCELS = "with +1 % on this part the hum cancels exactly"
@@ -67,6 +68,7 @@ SHORT = {
     NO_PEAK_IN_BAND: "no peak",
     NO_BASS_CORNER: "below 5 Hz",
     NO_TREBLE_CORNER: "beyond 20 kHz",
+    NO_TREBLE_DIP: "no dip",
     SILENT: "silent",
     ALL_CANCEL: "exact",
     NO_OUTPUT: "no output",

@@ -12,10 +12,11 @@ from .values import Finite, InFile
 
 
 def hz(x: float, digits: int = 3) -> str:
-    """A frequency in Hz below 1 kHz ("0.787 Hz", "7.23 Hz"), with its SI prefix above ("30.78 kHz"), never in exponent form."""
+    """A frequency in Hz from 0.01 Hz to 1 kHz ("0.787 Hz", "7.23 Hz"), with its SI prefix outside that ("30.78 kHz",
+    "14.47 µHz"), never in exponent form."""
     from ..units import format_si
 
-    return f"{x:.{digits}g} Hz" if abs(x) < 999.5 else format_si(x, "Hz", digits)
+    return f"{x:.{digits}g} Hz" if 0.01 <= abs(x) < 999.5 else format_si(x, "Hz", digits)
 
 
 def print_design(rec):
@@ -33,7 +34,7 @@ def print_design(rec):
         + (f", feedback {hz(c['feedback_hz'], 4)}" if c["feedback_hz"] else "")
         + (f", bias node {hz(c['bias_node_hz'], 4)}" if c["bias_node_hz"] else "")
     )
-    pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else ""
+    pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else f"  ({rec['pole_resonance_hz_reason']})"
     from ..analysis.peaks import describe_peaks
 
     click.echo(f"  loaded resonance  {describe_peaks(f)}{pole}")

@@ -220,3 +220,20 @@ def test_volume_at_zero_prints_no_signal_not_the_end_stop(tmp_path):
         for scale in scales:
             assert scale["signal_to_noise_db"] is None and "volume is at 0" in scale["signal_to_noise_db_reason"]
     assert json.loads((tmp_path / "noise.json").read_text())["snr_db"] is None
+
+
+def test_check_says_when_there_is_no_pole_pair_and_writes_tiny_corners_with_a_prefix(tmp_path):
+    # a 1 mH coil with 40 pF + 100 pF resonates at 1/(2π·√(L·C)) = 425 kHz (closed form): no pole pair below 20 kHz
+    import math
+
+    text = REF.read_text().replace('inductance = "350mH"', 'inductance = "1mH"').replace('load_c = "3n9"', 'load_c = "100p"')
+    small = tmp_path / "small.toml"
+    small.write_text(text)
+    assert 1 / (2 * math.pi * math.sqrt(1e-3 * 140e-12)) > 20e3
+    res = run("check", small)
+    assert res.exit_code == 0 and "(no complex pole pair below 20 kHz)" in res.output, res.output
+    # bias node 1/(2π·(220 kΩ ∥ 220 kΩ)·0.1 F) = 14.47 µHz (closed form), printed with its SI prefix, not 1.447e-05
+    path = variant(tmp_path, 'bias_bottom = "220k"', 'bias_bottom = "220k"\nshunt_c = 0.1', name="slow.toml")
+    res = run("check", path)
+    expected = 1 / (2 * math.pi * 110e3 * 0.1)
+    assert f"bias node {expected * 1e6:.4g} µHz" in res.output and "e-0" not in res.output, res.output
