@@ -176,6 +176,14 @@ def parse_quantity(value: object, kind: Kind) -> float:
         if letter in "RE" and kind.name != "resistance":
             raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not {_a(kind)}")
         return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
+    if kind is FLUX_DENSITY and text.endswith("G") and len(text) > 1:  # gauss: "10mG" (a lone "10G" is read as giga and refused by range)
+        try:
+            gauss = parse_quantity(text[:-1], RATIO)
+        except QuantityError:
+            gauss = None
+        if gauss is not None:
+            tesla = format_si(gauss * 1e-4, "T").replace(" ", "").replace("µ", "u")
+            raise QuantityError(f'the gauss is not an SI unit (1 G = 100 µT); for {shown(value)} write "{tesla}"')
     from .unit_habits import read_habit  # "2.2uf", "120mh": read, or refused with the fix
 
     habit = read_habit(text, kind.name, parse=lambda t: parse_quantity(t, kind), prefixes=PREFIXES, error=QuantityError)

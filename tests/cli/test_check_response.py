@@ -72,6 +72,15 @@ BAD = [
     ('bias_top = "220k"', 'bias_top = "4M7"', "outside the output's linear window"),
     ('eddy_resistance = "220k"', "eddy_coupling = 0.3", "eddy_coupling and eddy_corner go together"),
     ('eddy_resistance = "220k"', "signal_polarity = 2", "a polarity must be +1 or -1"),
+    # the hint keeps the digits written: "1k" is "1M" (bias 9 V · 220k / 1.22M = 1.62 V, inside 1.5..7.5 V), not "1000k"
+    ('bias_top = "220k"', 'bias_top = "1k"', 'did you mean bias_top="1M"?'),
+    ('eddy_resistance = "220k"', 'eddy_coupling = 0\neddy_corner = "2k"', "0 is no secondary: leave both eddy_coupling and eddy_corner out"),
+    ('load_c = "3n9"', "load_c = 0", "0 F is no capacitor: leave load_c out"),
+    ('c = "47p"', "c = 0", "0 F is no capacitor: leave c out"),
+    # datasheets give slew rates in V/µs; a bare number is V/s (SI)
+    ('battery = "9V"', 'battery = "9V"\nslew_rate = 13', 'if the datasheet gives 13 V/µs, write "13V/us"'),
+    # 1 G = 1e-4 T (SI Brochure, 9th ed., Table 9, non-SI units): 10 mG = 1 µT
+    ("[supply]", '[hum]\nfield = "10mG"\n[supply]', "for '10mG' write \"1uT\""),
     ('aperture = "8mm"', 'aperture = "8mm"\n[coil_a.winding]\nturns = 4000', "missing required key 'wire'"),
     (
         'aperture = "8mm"',
@@ -141,6 +150,11 @@ def test_rig_file_overrides_design_rig(tmp_path):
     bad.write_text('[rig]\ncable_lenght = "12m"\n')
     res = run("check", REF, "--rig", bad)
     assert res.exit_code == 1 and "did you mean 'cable_length'?" in res.output
+
+
+def test_a_design_file_given_as_the_rig_is_named_as_such():
+    res = run("check", REF, "--rig", ROOT / "models" / "odd-pair.toml")
+    assert res.exit_code == 1 and "looks like a design file (it has a [coil_a] table)" in res.output and "[rig]" in res.output, res.output
 
 
 def test_response_summary_csv_png(tmp_path):
