@@ -117,7 +117,7 @@ def check_command(models, rig_path, turns_percent, compare_path, json_path, over
     from ..analysis.summary import check_designs
 
     check_new([json_path], overwrite=overwrite)
-    designs, _ = load_designs(models, rig=rig_path)
+    designs, rig = load_designs(models, rig=rig_path)
     records = check_designs(designs, turns_percent=turns_percent)
     from .compare_print import comparison_of, echo, figure_lines, load_compare
 
@@ -142,4 +142,6 @@ def check_command(models, rig_path, turns_percent, compare_path, json_path, over
         click.echo()
         echo(figure_lines(compared, [(r["design"], r["figures"]["level_1k_db"]) for r in records]))
     if json_path:
-        emit_json(json_path, {"designs": records, **({"compare": compared.as_dict()} if compared is not None else {})}, overwrite=overwrite)
+        from ..design.provenance import rig_provenance
+
+        emit_json(json_path, {"rig": rig_provenance(rig), "designs": records, **({"compare": compared.as_dict()} if compared is not None else {})}, overwrite=overwrite)

@@ -142,10 +142,37 @@ def test_missing_file_and_folder(tmp_path):
 
 
 def test_rig_file_overrides_design_rig(tmp_path):
+    # Thevenin's theorem (closed form): the level at the amp input is V_th · Z_L / (Z_out + Z_L), Z_out the pickup's
+    # output impedance at the jack and Z_L the rig's load there (tone pot + tone cap ∥ volume pot ∥ amp_r ∥ cable + amp C,
+    # volume and tone at 1); a rig with amp_r = 10 kΩ moves the 1 kHz level by the ratio of the two dividers
+    import hashlib
+    import math
+
+    from render.circuit.engine import responses
+    from render.circuit.params import from_designs
+    from render.design import load_designs
+
     rig = tmp_path / "rig.toml"
-    rig.write_text('[rig]\ncable_length = "12m"\n[hum]\nmains = "60Hz"\n')
-    out = tmp_path / "c.json"
+    rig.write_text('[rig]\ncable_length = "12m"\namp_r = "10k"\n[hum]\nmains = "60Hz"\n')
+    out, own = tmp_path / "c.json", tmp_path / "own.json"
     assert run("check", REF, "--rig", rig, "--json", out).exit_code == 0
+    assert run("check", REF, "--json", own).exit_code == 0
+    record, before = json.loads(out.read_text()), json.loads(own.read_text())
+    assert record["rig"] == {"file": str(rig), "sha256": hashlib.sha256(rig.read_bytes()).hexdigest()}
+    assert record["designs"][0]["mains_hz"] == 60.0 and before["designs"][0]["mains_hz"] == 50.0
+    assert before["rig"]["file"] is None
+    (design,), _ = load_designs([REF])
+    z_out = complex(responses(from_designs([design])).z_out([1000.0])[0, 0])
+    w = 2 * math.pi * 1000.0
+
+    def divider(amp_r, cable_m):
+        r = design.rig
+        y = 1 / r.volume_pot + 1 / amp_r + 1j * w * (cable_m * r.cable_capacitance + r.amp_c) + 1 / (r.tone_pot + 1 / (1j * w * r.tone_cap))
+        return abs((1 / y) / (z_out + 1 / y))
+
+    expected = 20 * math.log10(divider(10e3, 12.0) / divider(design.rig.amp_r, design.rig.cable_length))
+    change = record["designs"][0]["figures"]["level_1k_db"] - before["designs"][0]["figures"]["level_1k_db"]
+    assert expected < -0.1 and change == pytest.approx(expected, abs=1e-6)
     bad = tmp_path / "badrig.toml"
     bad.write_text('[rig]\ncable_lenght = "12m"\n')
     res = run("check", REF, "--rig", bad)
