@@ -17,7 +17,8 @@ feedback capacitor of "22n" instead of "22p" puts the feedback corner at
   resistance or core-loss resistance or a resistor outside its usual range;
   a stage gain far from an active pickup's; a derived coil whose turns fill its winding's
   section far from what wound coils do; a measured coil whose sweep stops
-  too far below its self-resonance to determine its capacitance), each naming the range, its origin,
+  too far below its self-resonance to determine its capacitance; two coils whose string signals
+  largely cancel, :func:`polarity_warnings`), each naming the range, its origin,
   and the value with the likely prefix (``series_r = "22"`` is most likely
   ``"22k"``).
 
@@ -142,6 +143,7 @@ def design_warnings(design) -> tuple[str, ...]:
     out += measured_warnings(design)
     out += coil_warnings(design)
     out += bandwidth_warnings(design)
+    out += polarity_warnings(design)
     from .analysis.sense import construction_warnings
 
     out += construction_warnings(design)  # the model's limits, not slipped values: AlNiCo past its knee, strings past saturation
@@ -190,6 +192,39 @@ def coil_warnings(design) -> list[str]:
                 fix = _fix_for(values[key], rng.holds, bare="R" if unit == "Ω" else "")
                 out.append(f"[{name}] {key}={U.format_si(values[key], unit)}: outside the usual range for pickup coils ({rng.text(unit)}){fix}")
     return out
+
+
+# How far (dB) the 1 kHz level may lie below the same design's with coil_b's signal_polarity flipped
+# before the coils' string signals are said to oppose: 20 dB is |a + b| < |a - b| / 10, the two coils'
+# contributions nearly equal and of opposite sign (common practice, no source).
+OPPOSED_DB = 20.0
+
+
+def polarity_warnings(design) -> list[str]:
+    """One line when the two coils' string signals largely cancel (a coil wired in reverse).
+
+    Criterion: |H(1 kHz)|, string velocity to amp input, is more than :data:`OPPOSED_DB` below that of the
+    same design with coil_b's ``signal_polarity`` flipped (circuit and rig unchanged). Exact cancellation
+    is also reported by the figures themselves (``no signal``); this line names the cause.
+    """
+    from dataclasses import replace
+
+    import numpy as np
+
+    from .circuit.engine import responses
+    from .circuit.params import from_designs
+
+    polarity = design.coil_b.signal_polarity
+    flipped = replace(design, coil_b=replace(design.coil_b, signal_polarity=-polarity))
+    own, other = np.abs(responses(from_designs([design, flipped])).velocity()([1000.0])[:, 0])
+    if not other > own * 10 ** (OPPOSED_DB / 20):
+        return []
+    below = f"{20 * math.log10(other / own):.1f} dB" if own > 0 else "infinitely far"
+    return [
+        f"[coil_b] signal_polarity={polarity:+d}: the design's level at 1 kHz is {below} below the same design with signal_polarity={-polarity:+d}"
+        f" (more than {OPPOSED_DB:g} dB): the two coils' string signals oppose, so the humbucker cancels its strings as it cancels hum"
+        " and its peak, Q and corners describe what is left of the difference; check signal_polarity of both coils"
+    ]
 
 
 def bandwidth_warnings(design) -> list[str]:

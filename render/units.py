@@ -39,8 +39,10 @@ PREFIXES: dict[str, int] = {
     "G": 9,
 }
 
-# In an RKM code (IEC 60062) the letter marks the decimal point; R and E
-# stand for the unit itself (multiplier 1).
+# In an RKM code (IEC 60062:2016, clause 4) the letter marks the decimal point; R stands for the
+# unit itself (multiplier 1). Some makers write E for R ("E47" for 0.47 ohm; common practice, no
+# source); "E" between digits ("4E7") could equally be an exponent, so a resistance written that way
+# is refused (see _ambiguous_e).
 RKM_LETTERS: dict[str, int] = {**PREFIXES, "R": 0, "E": 0}
 
 
@@ -158,6 +160,7 @@ def parse_quantity(value: object, kind: Kind) -> float:
         if other:
             also = "".join(f" or {sym}" for sym, _ in kind.scaled[:1])
             raise QuantityError(f"unit '{other}' does not fit {_a(kind)} (expected {kind.unit or 'a plain number'}{also})")
+    _ambiguous_e(body, value, kind)
     if _NUMBER_RE.match(body):
         return _finite(float(body), kind)
     # number followed by one prefix letter
@@ -173,12 +176,43 @@ def parse_quantity(value: object, kind: Kind) -> float:
         if letter in "RE" and kind.name != "resistance":
             raise QuantityError(f"'{letter}' in an RKM code stands for ohms, not {_a(kind)}")
         return _finite(float(f"{whole or '0'}.{frac}e{RKM_LETTERS[letter]}"), kind)
+    if kind is FLUX_DENSITY and text.endswith("G") and len(text) > 1:  # gauss: "10mG" (a lone "10G" is read as giga and refused by range)
+        try:
+            gauss = parse_quantity(text[:-1], RATIO)
+        except QuantityError:
+            gauss = None
+        if gauss is not None:
+            tesla = format_si(gauss * 1e-4, "T").replace(" ", "").replace("µ", "u")
+            raise QuantityError(f'the gauss is not an SI unit (1 G = 100 µT); for {shown(value)} write "{tesla}"')
     from .unit_habits import read_habit  # "2.2uf", "120mh": read, or refused with the fix
 
     habit = read_habit(text, kind.name, parse=lambda t: parse_quantity(t, kind), prefixes=PREFIXES, error=QuantityError)
     if habit is not None:
         return habit
     raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}; write it like {example(kind)}")
+
+
+_DIGITS_E_DIGITS_RE = re.compile(r"^(\d+)E(\d+)$")
+
+
+def _ambiguous_e(body: str, value: object, kind: Kind) -> None:
+    """Refuse a resistance such as "4E7": an RKM code with E for R (4.7 ohm) or an exponent (40 Mohm).
+
+    A lowercase "e" ("4e7"), a signed exponent ("4E+7"), a decimal point ("4.7E3") or a leading E
+    ("E47", 0.47 ohm) reads one way only and is left alone."""
+    m = _DIGITS_E_DIGITS_RE.match(body)
+    if not (m and kind.name == "resistance"):
+        return
+    whole, frac = m.groups()
+    rkm, power = float(f"{whole}.{frac}"), float(f"{whole}e{frac}")
+    if rkm == power:  # "1E0": both readings are 1 ohm
+        return
+    prefixed = format_si(power).replace(" ", "")
+    alternative = f' or "{prefixed}"' if "e" not in prefixed else ""
+    raise QuantityError(
+        f'{shown(value)} reads two ways: "{whole}R{frac}" for {format_si(rkm, "Ω")} (IEC 60062 letter code, E for R) '
+        f'or "{whole}e{frac}"{alternative} for {format_si(power, "Ω")} (exponent); write the one you mean'
+    )
 
 
 # Spaces a value may carry between number, prefix and unit: the plain space,

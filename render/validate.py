@@ -92,6 +92,7 @@ class Field:
     lo_open: bool = True  # zero (or lo) itself not allowed
     hi_open: bool = False
     doc: str = ""
+    zero: str = ""  # the fix a value of exactly 0 gets instead of the range ("leave it out for no capacitor")
 
 
 R_RANGE: dict[str, Any] = dict(lo=1.0, hi=1e9, lo_open=False)  # a resistor below 1 Ω or above 1 GΩ is implausible
@@ -116,6 +117,8 @@ def _slip_hint(key: str, raw: Any, value: float, spec: Field, table: str = "") -
         part = key.split(".")[:2] if table == "free" and key.count(".") >= 2 else [table, key]  # a fit file's [free] "feedback.c".min
         guess = likely_prefix(part[0], part[1], value) or f"{value:g}n"
         return f' (plain numbers are in SI units: {shorten(str(raw).strip())} means {value:g} {spec.kind.unit}; write e.g. "{guess}")'
+    if bare and spec.kind is U.SLEW_RATE and value < spec.lo and _in_range(value * 1e6, spec):
+        return f' (plain numbers are in V/s; if the datasheet gives {value:g} V/µs, write "{value:g}V/us")'
     if bare and spec.kind is U.LENGTH and value > spec.hi and _in_range(value * 1e-3, spec):
         return f" ({U.metres_hint(value)})"
     if isinstance(raw, str):
@@ -213,6 +216,8 @@ def read_value(raw: Any, spec: Field, *, source: str, table: str, key: str, part
     unit = spec.kind.unit
     if value < 0 and spec.lo >= 0:
         raise InputError(f"{loc}={U.shown(raw)}: must not be negative")
+    if value == 0 and spec.zero:
+        raise InputError(f"{loc}={U.shown(raw)}: {spec.zero}")
     rng = outside(value, spec)
     if rng:
         raise InputError(f"{loc}={U.shown(raw)} ({_fmt(value, unit)}): {rng}{_slip_hint(part[1] if part else key, raw, value, spec, part[0] if part else table)}")

@@ -198,3 +198,32 @@ def test_a_derived_coil_far_from_a_wound_fill_warns_once_per_coil():
     expected = 1200 * math.pi * outer**2 / 4 / (9e-3 * 5e-3)
     assert f"fills {expected:.0%}" in warns[0] and "40%–85%" in warns[0] and "common practice, no source" in warns[0]
     assert any(w in design_warnings(d) for w in warns)
+
+
+def test_reversed_coil_warns_that_the_coils_signals_oppose(tmp_path):
+    # coil_b at +1 into the difference stage adds its EMF with coil_a's sign flipped: the strings cancel
+    # (superposition: the output is the sum of each coil's contribution, render.circuit.engine)
+    (d,), _ = load_designs([variant(tmp_path, "[coil_b]", "[coil_b]\nsignal_polarity = 1")])
+    found = [w for w in design_warnings(d) if "oppose" in w]
+    assert len(found) == 1 and found[0].startswith("[coil_b] signal_polarity=+1") and "more than 20 dB" in found[0]
+    assert not [w for w in design_warnings(load_designs([REF])[0][0]) if "oppose" in w]
+
+
+def test_half_strength_reversed_coil_stays_under_the_opposition_criterion(tmp_path):
+    # superposition with the two matched paths of the reference: |s - s/2| / |s + s/2| = 1/3, 9.54 dB (closed form),
+    # under the 20 dB criterion
+    import numpy as np
+
+    from render.circuit.engine import responses
+    from render.circuit.params import from_designs
+
+    text = REF.read_text()
+    half = text.replace("[coil_b]", "[coil_b]\nsignal_polarity = 1", 1)
+    (d,), _ = load_designs([variant(tmp_path, text, half)])
+    from dataclasses import replace
+
+    d = replace(d, coil_b=replace(d.coil_b, sensitivity=d.coil_b.sensitivity / 2))
+    flipped = replace(d, coil_b=replace(d.coil_b, signal_polarity=-1))
+    own, other = np.abs(responses(from_designs([d, flipped])).velocity()([1000.0])[:, 0])
+    assert 20 * math.log10(other / own) == pytest.approx(20 * math.log10(3), abs=0.1)
+    assert not [w for w in design_warnings(d) if "oppose" in w]

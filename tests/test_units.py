@@ -80,6 +80,35 @@ def test_rkm_r_is_ohms_only():
         parse_quantity("4R7", CAPACITANCE)
 
 
+def test_e_for_r_before_the_digits_reads_as_ohms():
+    # IEC 60062 letter code with E in R's place (some makers write it; common practice, no source): E47 = R47
+    assert parse_quantity("E47", RESISTANCE) == pytest.approx(0.47, rel=1e-15)
+
+
+@pytest.mark.parametrize("text, letter_code, exponent", [("4E7", "4R7", "4e7"), ("2E2", "2R2", "2e2")])
+def test_e_between_digits_of_a_resistance_is_refused_with_both_readings(text, letter_code, exponent):
+    # "4E7" is 4.7 ohm as an IEC 60062 letter code with E for R, 4e7 ohm as an exponent: neither is guessed
+    with pytest.raises(QuantityError) as caught:
+        parse_quantity(text, RESISTANCE)
+    message = str(caught.value)
+    assert f'"{letter_code}"' in message and f'"{exponent}"' in message
+    # each offered spelling reads back as the reading it names (IEC 60062; Python's float for the exponent)
+    assert parse_quantity(letter_code, RESISTANCE) == pytest.approx(float(letter_code.replace("R", ".")), rel=1e-15)
+    assert parse_quantity(exponent, RESISTANCE) == float(exponent)
+
+
+@pytest.mark.parametrize("text", ["4e7", "4E+7", "4.7E3", "1E0"])
+def test_exponents_that_read_one_way_stay_legal(text):
+    # lowercase, signed or with a decimal point, "E" can only be an exponent; "1E0" is 1 ohm either way
+    assert parse_quantity(text, RESISTANCE) == float(text)
+
+
+def test_e_between_digits_of_a_capacitance_is_an_exponent():
+    # E stands for ohms only (IEC 60062), so for a capacitance it can only be an exponent
+    assert parse_quantity("4E-9", CAPACITANCE) == 4e-9
+    assert parse_quantity("4E7", CAPACITANCE) == 4e7
+
+
 # E12 series, IEC 60063:2015
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
 

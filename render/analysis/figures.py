@@ -15,8 +15,13 @@ string velocity (the same at both sensing points) to the amp input:
 - ``q``: the highest peak's frequency over the width between the −3 dB
   points (re the peak) around it; None when ``peak_db`` < 3 dB.
 - ``bass_corner_hz``: the highest frequency below 1 kHz where |H| is 3 dB
-  under ``level_1k_db``; ``treble_corner_hz``: the lowest above ``peak_hz``
-  (above 1 kHz when there is no peak) where it is, None beyond 20 kHz.
+  under ``level_1k_db``; ``treble_corner_hz``: the highest frequency up to
+  20 kHz, above ``peak_hz`` (above 1 kHz when there is no peak), where |H|
+  falls through 3 dB under ``level_1k_db`` (its last downward crossing), None
+  when it does not or climbs back within 3 dB by 20 kHz ("beyond 20 kHz").
+  ``treble_dip_hz``: where the response first fell 3 dB under, when that is
+  below the treble corner (it dips and recovers, e.g. between two humps);
+  None otherwise.
 - ``gain_vs_passive_db``: ``level_1k_db`` minus the passive reference's.
 - ``hum_rejection_db``: 20·log10(max(|V_A|, |V_B|)/|V_A + V_B|) at the
   mains fundamental, V_A and V_B the hum at the amp input from each coil's
@@ -79,6 +84,19 @@ def signal_cancels(resp, frequency_hz) -> tuple[np.ndarray, np.ndarray]:
     return cancel(a, b), cancel(pa, pb)
 
 
+def silence(designs, resp, frequency_hz) -> tuple[list[str | None], list[str | None]]:
+    """Why each design gives no signal at the amp input, (active, passive), None where it gives one.
+
+    The volume at 0 (``rig.volume = 0``, decided by the setting: the circuit keeps the pot's end-stop
+    resistor, :data:`render.circuit.rig.MIN_R`, so a level computed through it would be a number without
+    meaning), or the two coils cancelling the string signal exactly (:func:`signal_cancels`)."""
+    silent, passive_silent = signal_cancels(resp, frequency_hz)
+    off = [d.rig.volume == 0 for d in designs]
+    active = [U.VOLUME_ZERO if o else U.NO_SIGNAL if s else None for o, s in zip(off, silent)]
+    passive = [U.VOLUME_ZERO if o else U.PASSIVE_NO_SIGNAL if s else None for o, s in zip(off, passive_silent)]
+    return active, passive
+
+
 def grid(points: int = GRID_POINTS) -> np.ndarray:
     return np.geomspace(F_LO, F_HI, points)
 
@@ -125,16 +143,23 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
     jj = i1k - 1 - jr  # grid index of the first point under the level, going down
     bass[ok] = _crossing(f, h_db[ok], jj[ok], jj[ok] + 1, lvl[ok] - 3.0)
 
-    # treble corner: lowest f above peak_hz with |H| 3 dB under level_1k, None beyond 20 kHz
-    treble = np.full(n, np.nan)
+    # treble corner: the last downward crossing of level_1k - 3 dB above peak_hz, up to 20 kHz, with the response
+    # still under at 20 kHz; a first crossing below it is a dip the response recovers from
+    treble, dip = np.full(n, np.nan), np.full(n, np.nan)
+    top = int(np.searchsorted(f, 20000.0))
     for r in range(n):
         first = int(np.searchsorted(f, peak_hz[r] if np.isfinite(peak_hz[r]) else 1000.0))
-        idx = np.flatnonzero(h_db[r, first:] < lvl[r] - 3.0)
-        if idx.size:
-            j = first + idx[0]
-            fc = _crossing(f, h_db[r : r + 1], np.array([j - 1]), np.array([j]), np.array([lvl[r] - 3.0]))[0]
-            if fc <= 20000.0:
-                treble[r] = fc
+        under = h_db[r, first - 1 :] < lvl[r] - 3.0
+        down = first + np.flatnonzero(under[1:] & ~under[:-1])  # grid index just past each downward crossing
+        cross = [_crossing(f, h_db[r : r + 1], np.array([j - 1]), np.array([j]), np.array([lvl[r] - 3.0]))[0] for j in down]
+        in_band = [fc for fc in cross if fc <= 20000.0]
+        if not in_band:
+            continue
+        still_under = bool(np.all(h_db[r, int(np.searchsorted(f, in_band[-1])) : top + 1] < lvl[r] - 3.0))
+        if still_under:
+            treble[r] = in_band[-1]
+        if in_band[0] < in_band[-1] or not still_under:
+            dip[r] = in_band[0]
     return {
         "level_1k_db": lvl,
         "peak_hz": peak_hz,
@@ -142,6 +167,7 @@ def response_figures(h_db: np.ndarray, f: np.ndarray) -> dict[str, Any]:
         "q": q,
         "bass_corner_hz": bass,
         "treble_corner_hz": treble,
+        "treble_dip_hz": dip,
         "peaks": [x[0] for x in found],
         "aimed_peak_hz": aimed,
     }
@@ -211,14 +237,17 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
     hp5nc = np.abs(resp_nc.passive_velocity()(5000.0)[:, 0])
     zo = resp.z_out([1000.0, 10000.0])
     zp = resp.z_out_passive([1000.0, 10000.0])
-    silent, passive_silent = signal_cancels(resp, f)
+    why_silent, why_passive_silent = silence(designs, resp, f)
+    silent = [w is not None for w in why_silent]
+    passive_silent = [w is not None for w in why_passive_silent]
     out = []
     for i, d in enumerate(designs):
-        row = _response_row(fig, i, silent[i], U.NO_SIGNAL)
+        no_signal, no_passive_signal = why_silent[i] or U.NO_SIGNAL, why_passive_silent[i] or U.PASSIVE_NO_SIGNAL
+        row = _response_row(fig, i, silent[i], no_signal)
         if silent[i]:
-            U.mark(row, "gain_vs_passive_db", U.NO_SIGNAL)
+            U.mark(row, "gain_vs_passive_db", no_signal)
         elif passive_silent[i]:
-            U.mark(row, "gain_vs_passive_db", U.PASSIVE_NO_SIGNAL)
+            U.mark(row, "gain_vs_passive_db", no_passive_signal)
         else:
             U.put(row, "gain_vs_passive_db", fig["level_1k_db"][i] - pfig["level_1k_db"][i], U.NO_SIGNAL)
         if no_hum[i] is not None:
@@ -231,18 +260,18 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
         row["headroom_up_v"] = d.headroom_up_v
         row["headroom_down_v"] = d.headroom_down_v
         row["headroom_v"] = min(d.headroom_up_v, d.headroom_down_v)
-        _cable_loss(row, h5nc[i], h5[i], silent[i], U.NO_SIGNAL)
+        _cable_loss(row, h5nc[i], h5[i], silent[i], no_signal)
         row["output_impedance_1k_ohm"] = float(abs(zo[i, 0]))
         row["output_impedance_10k_ohm"] = float(abs(zo[i, 1]))
-        row["passive"] = _response_row(pfig, i, passive_silent[i], U.PASSIVE_NO_SIGNAL, resonance=False)
-        _cable_loss(row["passive"], hp5nc[i], hp5[i], passive_silent[i], U.PASSIVE_NO_SIGNAL)
+        row["passive"] = _response_row(pfig, i, passive_silent[i], no_passive_signal, resonance=False)
+        _cable_loss(row["passive"], hp5nc[i], hp5[i], passive_silent[i], no_passive_signal)
         row["passive"]["output_impedance_1k_ohm"] = float(abs(zp[i, 0]))
         row["passive"]["output_impedance_10k_ohm"] = float(abs(zp[i, 1]))
         out.append(row)
     return out
 
 
-RESPONSE_KEYS = ("level_1k_db", "peak_hz", "peak_db", "q", "bass_corner_hz", "treble_corner_hz")
+RESPONSE_KEYS = ("level_1k_db", "peak_hz", "peak_db", "q", "bass_corner_hz", "treble_corner_hz", "treble_dip_hz")
 
 
 def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resonance: bool = True) -> dict:
@@ -256,7 +285,7 @@ def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resona
         elif k in ("peak_hz", "peak_db"):
             U.put(row, k, fig[k][i], NO_PEAK)
         else:
-            U.put(row, k, fig[k][i], {"bass_corner_hz": U.NO_BASS_CORNER, "treble_corner_hz": U.NO_TREBLE_CORNER}.get(k, silent_reason))
+            U.put(row, k, fig[k][i], {"bass_corner_hz": U.NO_BASS_CORNER, "treble_corner_hz": U.NO_TREBLE_CORNER, "treble_dip_hz": U.NO_TREBLE_DIP}.get(k, silent_reason))
     row["peaks"] = [] if silent else fig["peaks"][i]
     if resonance:  # the frequency a peak aim of render fit scores (render.analysis.peaks.aimed_peak_hz)
         U.put(row, "aimed_peak_hz", np.nan if silent else fig["aimed_peak_hz"][i], silent_reason if silent else NO_PEAK)

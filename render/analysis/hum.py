@@ -82,7 +82,7 @@ def hum_table(design, resp=None) -> dict:
     figure that does not exist is None with a ``…_reason`` beside it.
     """
     from . import undefined as U
-    from .figures import coil_hum, rejection_db, signal_cancels
+    from .figures import coil_hum, rejection_db, silence
     from .undefined import cancels, net_hum
 
     resp = resp or responses(from_designs([design]))
@@ -116,7 +116,8 @@ def hum_table(design, resp=None) -> dict:
             row["sources"] = share_rows(sv, i)
         rows.append(row)
     total_rms = float(np.sqrt(np.sum(np.abs(total) ** 2) / 2))
-    silent, passive_silent = (bool(x[0]) for x in signal_cancels(resp, [REFERENCE_NOTE_HZ]))
+    (why_silent,), (why_passive_silent,) = silence([design], resp, [REFERENCE_NOTE_HZ])
+    silent, passive_silent = why_silent is not None, why_passive_silent is not None
     sig = 0.0 if silent else abs(resp.velocity()(REFERENCE_NOTE_HZ)[0, 0]) * REFERENCE_VELOCITY / np.sqrt(2)
     if sv is None:
         zero = np.zeros(1)
@@ -137,8 +138,8 @@ def hum_table(design, resp=None) -> dict:
     # no hum at all: no source (or field harmonic) reaches either coil, or the coils' hum cancels exactly
     unlinked = bool(np.all((np.abs(va) == 0) & (np.abs(vb) == 0)))
     no_hum = U.NOTHING_LINKS if unlinked else U.NO_HUM
-    _note_to_hum(table, sig, total_rms, U.NO_SIGNAL, no_hum)
-    table["passive"] = _note_to_hum({"total_v_rms": passive_rms}, psig, passive_rms, U.PASSIVE_NO_SIGNAL, no_hum)
+    _note_to_hum(table, sig, total_rms, why_silent or U.NO_SIGNAL, no_hum)
+    table["passive"] = _note_to_hum({"total_v_rms": passive_rms}, psig, passive_rms, why_passive_silent or U.PASSIVE_NO_SIGNAL, no_hum)
     if sv is not None:
         table["sources"] = [source_record(j, s, sv.linkage_wb) for j, s in enumerate(sv.sources)]
         table["warnings"] = list(sv.warnings)

@@ -337,10 +337,10 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
         temperature=t,
         resp=resp,
     )
-    from . import undefined as U
-    from .figures import signal_cancels
+    from .figures import silence
 
-    silent, passive_silent = signal_cancels(resp, [REFERENCE_HZ])
+    why_silent, why_passive_silent = silence(ds, resp, [REFERENCE_HZ])
+    silent, passive_silent = np.array([w is not None for w in why_silent]), np.array([w is not None for w in why_passive_silent])
     sig = np.where(silent, 0.0, np.abs(resp.velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
     sig_p = np.where(passive_silent, 0.0, np.abs(resp.passive_velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
     peak = np.where(silent, 0.0, np.abs(resp.velocity_to_amp_output()([REFERENCE_HZ])[:, 0]) * reference_velocity * math.sqrt(2.0))
@@ -358,8 +358,8 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
                 reference_velocity=float(reference_velocity),
                 noise_voltage=d.supply.noise_voltage,
                 noise_current=d.supply.noise_current,
-                active=_floor(act, f_int, f_out, sig[i], U.NO_SIGNAL if silent[i] else None),
-                passive=_floor(pas, f_int, f_out, sig_p[i], U.PASSIVE_NO_SIGNAL if passive_silent[i] else None),
+                active=_floor(act, f_int, f_out, sig[i], why_silent[i]),
+                passive=_floor(pas, f_int, f_out, sig_p[i], why_passive_silent[i]),
                 opamp_peak_v=float(peak[i]),
                 onset_v=onset_distance(d),
             )

@@ -92,6 +92,7 @@ def design_summary(d: Design, fig: dict, pole: tuple) -> dict:
         "coil_a": coil(d.coil_a),
         "coil_b": coil(d.coil_b),
         "corners_hz": corners(d),
+        "mains_hz": d.hum.mains,
         **_pole(pole),
         "figures": {k: v for k, v in fig.items() if k != "passive"},
         "passive": fig["passive"],

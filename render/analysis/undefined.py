@@ -34,12 +34,14 @@ NO_LINKAGE = "no hum: no source has this harmonic, or none links either coil at 
 NOTHING_LINKS = "no hum: no source links either coil"
 NO_DIPOLE_LINKAGE = "no hum at this harmonic: neither coil links the dipole there"
 NO_SIGNAL = "no signal: the coils cancel the string signal exactly (a coil wired in reverse? check signal_polarity)"
+VOLUME_ZERO = "no signal: the volume is at 0 (rig.volume = 0)"  # decided by the setting, not by a level
 PASSIVE_NO_SIGNAL = "no passive signal: the passive reference's coils cancel the string signal exactly"
 NO_PEAK = "no peak of 3 dB or more above the 1 kHz level"
 NO_PEAK_IN_BAND = "no peak from 1 kHz to 20 kHz (none with a prominence of 0.5 dB or more)"
 PEAK_EDGES = "the peak's -3 dB points lie outside 5 Hz to 40 kHz"
 NO_BASS_CORNER = "within 3 dB of the 1 kHz level down to 5 Hz"
 NO_TREBLE_CORNER = "beyond 20 kHz"
+NO_TREBLE_DIP = "no dip: the response falls 3 dB under the 1 kHz level once, at its treble corner, or not at all"
 SILENT = "silent, or shorter than one 400 ms block of ITU-R BS.1770-4"
 NOMINAL_CANCELS = "the design itself cancels its hum exactly, so a change has no finite size"
 PART_CANCELS = "with +1 % on this part the hum cancels exactly"
@@ -62,11 +64,13 @@ SHORT = {
     NO_DIPOLE_LINKAGE: "no hum",
     NO_SIGNAL: "no signal",
     PASSIVE_NO_SIGNAL: "no passive signal",
+    VOLUME_ZERO: "volume 0",
     NO_PEAK: "none",
     PEAK_EDGES: "none",
     NO_PEAK_IN_BAND: "no peak",
     NO_BASS_CORNER: "below 5 Hz",
     NO_TREBLE_CORNER: "beyond 20 kHz",
+    NO_TREBLE_DIP: "no dip",
     SILENT: "silent",
     ALL_CANCEL: "exact",
     NO_OUTPUT: "no output",

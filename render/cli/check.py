@@ -12,10 +12,11 @@ from .values import Finite, InFile
 
 
 def hz(x: float, digits: int = 3) -> str:
-    """A frequency in Hz below 1 kHz ("0.787 Hz", "7.23 Hz"), with its SI prefix above ("30.78 kHz"), never in exponent form."""
+    """A frequency in Hz from 0.01 Hz to 1 kHz ("0.787 Hz", "7.23 Hz"), with its SI prefix outside that ("30.78 kHz",
+    "14.47 µHz"), never in exponent form."""
     from ..units import format_si
 
-    return f"{x:.{digits}g} Hz" if abs(x) < 999.5 else format_si(x, "Hz", digits)
+    return f"{x:.{digits}g} Hz" if 0.01 <= abs(x) < 999.5 else format_si(x, "Hz", digits)
 
 
 def print_design(rec):
@@ -33,7 +34,7 @@ def print_design(rec):
         + (f", feedback {hz(c['feedback_hz'], 4)}" if c["feedback_hz"] else "")
         + (f", bias node {hz(c['bias_node_hz'], 4)}" if c["bias_node_hz"] else "")
     )
-    pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else ""
+    pole = f"  (pole pair {rec['pole_resonance_hz']:.0f} Hz, Q {rec['pole_q']:.2f})" if rec["pole_resonance_hz"] else f"  ({rec['pole_resonance_hz_reason']})"
     from ..analysis.peaks import describe_peaks
 
     click.echo(f"  loaded resonance  {describe_peaks(f)}{pole}")
@@ -116,7 +117,7 @@ def check_command(models, rig_path, turns_percent, compare_path, json_path, over
     from ..analysis.summary import check_designs
 
     check_new([json_path], overwrite=overwrite)
-    designs, _ = load_designs(models, rig=rig_path)
+    designs, rig = load_designs(models, rig=rig_path)
     records = check_designs(designs, turns_percent=turns_percent)
     from .compare_print import comparison_of, echo, figure_lines, load_compare
 
@@ -141,4 +142,6 @@ def check_command(models, rig_path, turns_percent, compare_path, json_path, over
         click.echo()
         echo(figure_lines(compared, [(r["design"], r["figures"]["level_1k_db"]) for r in records]))
     if json_path:
-        emit_json(json_path, {"designs": records, **({"compare": compared.as_dict()} if compared is not None else {})}, overwrite=overwrite)
+        from ..design.provenance import rig_provenance
+
+        emit_json(json_path, {"rig": rig_provenance(rig), "designs": records, **({"compare": compared.as_dict()} if compared is not None else {})}, overwrite=overwrite)

@@ -30,7 +30,8 @@ def summary_lines(d, fig) -> list[str]:
     else:
         resonance = [
             "  resonance " + _aligned(describe_peaks(fig, unit=" dB re 1 kHz")),
-            f"  -3 dB corners     bass {shown(fig, 'bass_corner_hz', '.3g', ' Hz')}, treble {shown(fig, 'treble_corner_hz', '.0f', ' Hz')}",
+            f"  -3 dB corners     bass {shown(fig, 'bass_corner_hz', '.3g', ' Hz')}, treble {shown(fig, 'treble_corner_hz', '.0f', ' Hz')}"
+            + (f" (the response dips under -3 dB at {fig['treble_dip_hz']:.0f} Hz and recovers)" if fig.get("treble_dip_hz") is not None else ""),
             f"  level at 1 kHz    {fig['level_1k_db']:+.2f} dB re 1 V per m/s ({shown(fig, 'gain_vs_passive_db', '+.2f', ' dB against passive')})",
         ]
     if p["level_1k_db"] is None:

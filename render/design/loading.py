@@ -151,8 +151,6 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
         c = tables[t]
         if ("eddy_coupling" in c) != ("eddy_corner" in c):
             raise InputError(f"{where(source, t)}: eddy_coupling and eddy_corner go together; give both or neither")
-        if c.get("eddy_coupling") == 0.0:
-            raise InputError(f"{where(source, t, 'eddy_coupling')}=0: must be above 0 (leave both eddy_coupling and eddy_corner out for no secondary)")
     sup = tables["supply"]
     window = sup["battery"] - sup["margin_low"] - sup["margin_high"] - 2 * sup["knee"]
     if window <= 0:
@@ -181,10 +179,18 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     )
     bias = design.bias_v
     if not (design.limit_low_v + sup["knee"] < bias < design.limit_high_v - sup["knee"]):
-        from ..usual import likely_prefix, usual
+        from ..usual import usual
 
-        odd = [(k, v) for k in ("bias_top", "bias_bottom") if not usual("input_b", k).holds(v := tables["input_b"][k])]  # type: ignore[union-attr]
-        fixes = [f'{k}="{p}"' for k, v in odd if (p := likely_prefix("input_b", k, v))]
+        lo_v, hi_v = design.limit_low_v + sup["knee"], design.limit_high_v - sup["knee"]
+        values = {k: tables["input_b"][k] for k in ("bias_top", "bias_bottom")}
+        odd = [k for k, v in values.items() if not usual("input_b", k).holds(v)]  # type: ignore[union-attr]
+
+        def centred(k: str, v: float) -> bool:  # the bias with this one resistor changed lies in the window
+            top, bottom = (v, values["bias_bottom"]) if k == "bias_top" else (values["bias_top"], v)
+            return lo_v < sup["battery"] * bottom / (top + bottom) < hi_v
+
+        written = data["input_b"]
+        fixes = [f'{k}="{p}"' for k in odd if (p := _same_digits(written[k], "input_b", k, lambda v, k=k: centred(k, v)))]
         fix = f"; did you mean {' and '.join(fixes)}?" if fixes else "; bring the two resistors closer to equal"
         raise InputError(
             f"{where(source, 'input_b')}: bias_top={U.format_si(tables['input_b']['bias_top'], 'Ω')}, bias_bottom={U.format_si(tables['input_b']['bias_bottom'], 'Ω')} "
@@ -192,6 +198,37 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
         )
     _check_places(design, source)
     return resolve(derive(design, construction), impedance_specs)
+
+
+def _same_digits(raw: Any, table: str, key: str, ok) -> str | None:
+    """A resistance as written (``"1k"``, ``"4k7"``, ``1000``) with the digits kept and the prefix changed so that the value
+    is in the part's usual range and ``ok(value)`` holds, nearest the range's middle; None if no prefix does."""
+    import math
+    import re
+
+    from ..usual import usual
+
+    text = f"{raw:g}" if isinstance(raw, (int, float)) else str(raw).strip()
+    for sym in ("ohms", "ohm", "Ω"):
+        text = text.removesuffix(sym)
+    m = re.match(r"^(\d*)(?:\.(\d+))?([pnumkKMGR]?)$", text) or re.match(r"^(\d*)()([pnumkKMGRE])(\d+)$", text)
+    if not m:
+        return None
+    whole, frac, letter = m.group(1), m.group(2) or (m.group(4) if m.re.groups == 4 else ""), m.group(3)
+    rkm = m.re.groups == 4
+    mantissa = float(f"{whole or '0'}.{frac or '0'}")
+    rng = usual(table, key)
+    if rng is None or mantissa <= 0:
+        return None
+    middle, best = math.sqrt(rng.lo * rng.hi), None
+    for new in ("R", "k", "M"):
+        if new == letter.replace("K", "k").replace("E", "R") or (new == "R" and not letter):
+            continue
+        v = mantissa * 10.0 ** U.PREFIXES.get(new, 0)
+        if rng.holds(v) and ok(v) and (best is None or abs(math.log(v / middle)) < abs(math.log(best[1] / middle))):
+            shown = f"{whole}{new}{frac}" if rkm or (frac and new == "R") else f"{whole}{'.' + frac if frac else ''}{'' if new == 'R' else new}"
+            best = (shown, v)
+    return None if best is None else best[0]
 
 
 def _check_places(design: Design, source: str) -> None:
@@ -254,6 +291,11 @@ def load_design(path: str | os.PathLike | Design, *, argument: str = "path") -> 
 
 
 def parse_rig(data: dict, *, source: str = "<rig>", sha256: str = "") -> RigFile:
+    design_table = next((t for t in REQUIRED_TABLES if isinstance(data, dict) and t in data), None)
+    if design_table is not None:
+        raise InputError(
+            f"{source}: this looks like a design file (it has a [{design_table}] table); give it as a design, and as the rig a rig file, the one with a [rig] table, a [hum] table, or both"
+        )
     check_document(data, source, ["rig", "hum", *TOP_KEYS])
     if "rig" not in data and "hum" not in data:
         raise InputError(f"{source}: a rig file needs a [rig] table, a [hum] table, or both")

@@ -20,3 +20,9 @@ def design_provenance(design) -> dict:
     measured coil (``file`` as the design gives it, relative to the design file's folder), empty without one.
     """
     return {"design_sha256": design.sha256, "design_changes": dict(getattr(design, "changes", ())), "coil_measurements": measured_files(design)}
+
+
+def rig_provenance(rig) -> dict:
+    """``{"file", "sha256"}`` of the rig file a run used (a :class:`render.design.model.RigFile`), or, without one,
+    ``{"file": None, "from": …}``: each design's own [rig] or the defaults."""
+    return {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}

@@ -56,7 +56,9 @@ COIL = {
     "resistance": Field(U.RESISTANCE, True, lo=1.0, hi=1e6, lo_open=False, doc="DC resistance of the winding"),
     "capacitance": Field(U.CAPACITANCE, True, lo=1e-13, hi=1e-7, lo_open=False, doc="winding self-capacitance across the coil's terminals"),
     "eddy_resistance": Field(U.RESISTANCE, doc="core loss as a resistance in parallel with the inductance", **R_RANGE),
-    "eddy_coupling": Field(U.RATIO, lo=0.0, hi=0.95, hi_open=True, doc="core loss as a shorted secondary: coupling k², 0 < k² < 0.95"),
+    "eddy_coupling": Field(
+        U.RATIO, lo=0.0, hi=0.95, hi_open=True, doc="core loss as a shorted secondary: coupling k², 0 < k² < 0.95", zero="0 is no secondary: leave both eddy_coupling and eddy_corner out"
+    ),
     "eddy_corner": Field(U.FREQUENCY, lo=1.0, hi=1e7, lo_open=False, doc="the shorted secondary's corner R2/(2π L2)"),
     "sensitivity": Field(U.SENSITIVITY, True, lo=1e-5, hi=1e3, lo_open=False, doc="EMF per m/s of string velocity at the sensing point"),
     "turns_area": Field(U.AREA, True, lo=1e-6, hi=1e3, lo_open=False, doc="turns × effective loop area; hum EMF = turns_area · dB/dt"),
@@ -81,7 +83,7 @@ WINDING = {
 
 INPUT_A = {
     "load_r": Field(U.RESISTANCE, doc="loading resistor across the coil", **R_RANGE),
-    "load_c": Field(U.CAPACITANCE, doc="loading capacitor across the coil", **C_RANGE),
+    "load_c": Field(U.CAPACITANCE, doc="loading capacitor across the coil", zero="0 F is no capacitor: leave load_c out", **C_RANGE),
     "series_c": Field(U.CAPACITANCE, True, doc="from the coil towards the amplifier input (bass cut)", **C_RANGE),
     "series_r": Field(U.RESISTANCE, True, doc="in series with series_c, into the amplifier input", **R_RANGE),
 }
@@ -89,11 +91,11 @@ INPUT_B = {
     **INPUT_A,
     "bias_top": Field(U.RESISTANCE, True, doc="battery + to the non-inverting input node", **R_RANGE),
     "bias_bottom": Field(U.RESISTANCE, True, doc="non-inverting input node to ground", **R_RANGE),
-    "shunt_c": Field(U.CAPACITANCE, doc="non-inverting input node to ground", **C_RANGE),
+    "shunt_c": Field(U.CAPACITANCE, doc="non-inverting input node to ground", zero="0 F is no capacitor: leave shunt_c out", **C_RANGE),
 }
 FEEDBACK = {
     "r": Field(U.RESISTANCE, True, doc="amplifier output to the inverting input", **R_RANGE),
-    "c": Field(U.CAPACITANCE, doc="in parallel with r", **C_RANGE),
+    "c": Field(U.CAPACITANCE, doc="in parallel with r", zero="0 F is no capacitor: leave c out", **C_RANGE),
 }
 OUTPUT = {
     "coupling_c": Field(U.CAPACITANCE, True, doc="amplifier output to series_r (blocks the DC bias)", **C_RANGE),

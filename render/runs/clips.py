@@ -387,10 +387,6 @@ def worker_tasks(designs: Sequence[Design], extra: list | None, jobs: int) -> li
     return [[i] for i in own] + [[rest[k] for k in r] for r in runs]
 
 
-def _rig_record(rig: RigFile | None) -> dict:
-    return {"file": rig.source, "sha256": rig.sha256} if rig else {"file": None, "from": "each design's own [rig] or the defaults"}
-
-
 SHARED_STEM = "two design files share a name; their clips would overwrite each other: rename one"
 PASSIVE_STEM = "one design's file is named as the other's passive reference clip (<name>-passive); they would overwrite each other: rename one"
 
@@ -488,7 +484,9 @@ def run_clips(
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup
     stems = [d.stem for d in designs]
-    rig_record = _rig_record(rig)
+    from ..design.provenance import rig_provenance
+
+    rig_record = rig_provenance(rig)
     rig_text = rig.source if rig else "each design's own"
     with run_folder(out):
         if dry.suffix.lower() != ".toml":

@@ -258,3 +258,38 @@ def test_on_a_flat_top_the_aim_lies_within_it():
     assert fig["peak_hz"] < fig["aimed_peak_hz"] < 3250
     level = 20 * np.log10(np.abs(render.response(d, [fig["peak_hz"], fig["aimed_peak_hz"]]).velocity))
     assert level[0] - level[1] < 0.05
+
+
+def _piecewise_db(points):
+    """A level (dB) linear in log f between (f, dB) corners, on the figures' grid (a closed form to read crossings from)."""
+    f = grid()
+    fs, ys = zip(*points)
+    return f, np.interp(np.log(f), np.log(fs), ys)[None, :]
+
+
+def _where(fa, ya, fb, yb, y):
+    """Frequency where the line from (fa, ya) to (fb, yb), linear in log f, reaches y."""
+    return float(np.exp(np.log(fa) + (y - ya) / (yb - ya) * (np.log(fb) - np.log(fa))))
+
+
+def test_treble_corner_is_the_last_fall_under_3_db_and_a_dip_before_it_is_named():
+    # two humps (+6 dB at 2 kHz, -1 dB at 6 kHz) with a -6 dB dip between: the response falls 3 dB under the
+    # 1 kHz level at 3.36 kHz, recovers, and falls for good at 6.97 kHz (straight lines in log f, closed form)
+    f, y = _piecewise_db([(5, 0), (1200, 0), (2000, 6), (4000, -6), (6000, -1), (20000, -20), (40000, -30)])
+    fig = response_figures(y, f)
+    assert fig["treble_corner_hz"][0] == pytest.approx(_where(6000, -1, 20000, -20, -3), rel=1e-9)
+    assert fig["treble_dip_hz"][0] == pytest.approx(_where(2000, 6, 4000, -6, -3), rel=1e-9)
+
+
+def test_a_response_back_within_3_db_at_20_khz_has_no_treble_corner_but_its_dip():
+    f, y = _piecewise_db([(5, 0), (1200, 0), (2000, 6), (4000, -6), (12000, -1), (20000, -2), (40000, -30)])
+    fig = response_figures(y, f)
+    assert np.isnan(fig["treble_corner_hz"][0])
+    assert fig["treble_dip_hz"][0] == pytest.approx(_where(2000, 6, 4000, -6, -3), rel=1e-9)
+
+
+def test_one_fall_is_the_treble_corner_and_no_dip():
+    f, y = _piecewise_db([(5, 0), (1200, 0), (3000, 8), (10000, -12), (40000, -30)])
+    fig = response_figures(y, f)
+    assert fig["treble_corner_hz"][0] == pytest.approx(_where(3000, 8, 10000, -12, -3), rel=1e-9)
+    assert np.isnan(fig["treble_dip_hz"][0])
