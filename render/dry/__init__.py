@@ -41,8 +41,9 @@ PHRASE_SUFFIXES = (".toml",)
 DEFAULT_DRY = Path("dry_signals") / "default.toml"  # the demo phrase, from the project folder
 # A recording shorter than this is refused as a phrase is (render.dry.phrase.MIN_SECONDS).
 MIN_RECORDED_SECONDS = MIN_SECONDS
-# A blind session levels its clips by ITU-R BS.1770-4 loudness, which needs one 400 ms block.
-MIN_BLIND_SECONDS = 0.4
+# A blind session's shortest clip (render.runs.blind.MIN_SECONDS, its --seconds): it levels its clips by
+# ITU-R BS.1770-4 loudness, which needs at least one 400 ms gating block; 0.5 s holds one with room to spare.
+MIN_BLIND_SECONDS = 0.5
 
 
 @dataclass(frozen=True)

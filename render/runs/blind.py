@@ -18,12 +18,13 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..design import Design, RigFile, apply_rig
+from ..dry import MIN_BLIND_SECONDS
 from ..errors import ArgumentError, InputError
 from ..listening.layout import METHODS, SessionPaths
 from ..listening.loudness import LoudnessMatch
 
 MAX_SECONDS = 120.0  # per clip: longer clips make ABX slow and sessions large (common practice, no source)
-MIN_SECONDS = 0.5  # per clip: holds at least one 400 ms gating block of ITU-R BS.1770-4, so its loudness can be measured
+MIN_SECONDS = MIN_BLIND_SECONDS  # per clip: holds at least one 400 ms gating block of ITU-R BS.1770-4, so its loudness can be measured
 DRY_SEED = 0  # the phrase's small per-note variations: the same for both designs
 TARGET_LUFS_RANGE = (-60.0, -5.0)  # LUFS accepted; EBU R 128's -23 is the default
 TRUE_PEAK_RANGE = (-30.0, 0.0)  # dBTP accepted; -1 (EBU R 128) is the default

@@ -83,14 +83,14 @@ def _open_di(path: Path):
     from ..io.audio import MAX_FILE_RATE, AudioInfo, audio_info, too_short
 
     name = str(path)
+    if path.suffix.lower() == ".toml" and path.is_file():
+        raise InputError(f"DI={name}: is a TOML file, not a recording: the order is DI then MODEL (render unvoice DI.wav MODEL.toml --out FILE.wav)")
     try:
-        # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header
-        checked = audio_info(path)
+        # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header, more than one channel
+        checked = audio_info(path, max_channels=1)
     except InputError as e:
         raise InputError(f"DI={e}") from None
     info = sf.info(name)
-    if info.channels != 1:
-        raise InputError(f"DI={name}: channels={info.channels}: a DI must be mono (one pickup output); export one channel")
     short = too_short(f"DI={name}", AudioInfo(channels=1, sample_rate=int(info.samplerate), frames=int(info.frames)), MIN_SECONDS, "to read its noise floor")
     if short:
         raise short

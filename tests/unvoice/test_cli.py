@@ -119,6 +119,10 @@ def _stereo(folder):
     return write_wav(folder / "stereo.wav", np.zeros((SAMPLE_RATE, 2)) + 0.01)
 
 
+def _three(folder):
+    return write_wav(folder / "three.wav", np.zeros((SAMPLE_RATE, 3)) + 0.01)
+
+
 def _short(folder):
     return write_wav(folder / "short.wav", 0.01 * np.ones(SAMPLE_RATE // 5))
 
@@ -154,7 +158,8 @@ def _damaged(folder):
     "make, extra, expect",
     [
         (lambda f: f / "missing.wav", (), "DI="),
-        (_stereo, (), "channels=2"),
+        (_stereo, (), "channels=2: at most 1 (mono)"),
+        (_three, (), "channels=3: at most 1 (mono)"),
         (_short, (), "too short: 200 ms"),
         (_nan, (), "sample 1234"),
         (_silent, (), "every sample is 0"),
@@ -323,3 +328,17 @@ def test_the_least_max_boost_is_what_the_trust_rule_needs(di, tmp_path, monkeypa
     res = run(di[0], REF, "--out", tmp_path / "v.wav", "--no-plot", "--max-boost", "0")
     assert res.exit_code == 0 and "--max-boost 0 dB bounds the inverse too close to its passband level; the default 20 dB trusts" in res.output, res.output
     assert "mostly noise" not in res.output
+
+
+def test_swapped_arguments_and_audio_for_a_design_say_so(di, tmp_path):
+    """MODEL then DI: the order is named; a recording over the design files' size limit given as MODEL: called audio, not too big."""
+    from render.io.toml import MAX_FILE_BYTES
+
+    res = run(REF, di[0], "--out", tmp_path / "v.wav")
+    assert res.exit_code == 1 and len(res.output.strip().splitlines()) == 1
+    assert "is a TOML file, not a recording: the order is DI then MODEL" in res.output and "must end in .toml" not in res.output
+    big = write_wav(tmp_path / "big.wav", 0.01 * np.ones(MAX_FILE_BYTES // 4 + SAMPLE_RATE))
+    assert big.stat().st_size > MAX_FILE_BYTES
+    res = run(di[0], big, "--out", tmp_path / "v.wav")
+    assert res.exit_code == 1 and "big.wav: is audio, not a TOML text file" in res.output and "bytes" not in res.output, res.output
+    assert not (tmp_path / "v.wav").exists()
