@@ -39,6 +39,11 @@ The trusted band is the contiguous band around 1 kHz where the realised
 filter stays within ``TRUST_DB`` of the exact inverse 1/H; outside it the
 estimate is shaped by the regularisation, not by the string.
 
+Before filtering, the recording's mean is taken off (a DC offset is not
+string velocity, and the taper cannot remove the step a constant offset makes
+at the file's ends), and both ends are faded over ``FADE_SECONDS`` with a
+raised cosine (:func:`prepared`), so a take cut mid-note does not click.
+
 Filtering is overlap-add with fixed segments (:class:`StreamingFIR`), so a
 long file is processed in bounded memory and the output does not depend on
 how the input is cut into chunks.
@@ -70,6 +75,8 @@ FIR_SECONDS = 0.25  # FIR length: next power of two above this many seconds
 DESIGN_OVERSAMPLE = 4  # design grid: this many times the FIR length
 FIR_TAPER = 0.2  # Tukey window fraction on the FIR's ends
 RATIO_CAP = 1e12  # noise-to-signal ratio used where S <= N (the inverse is then ~0)
+FADE_SECONDS = 0.005  # raised-cosine fade at both ends of the recording, so a take cut mid-note does not click (common practice, no source)
+MEAN_CHUNK = 1 << 16  # samples per partial sum of the mean: fixed, so the mean does not depend on how the input is cut
 
 
 def next_pow2(n: float) -> int:
@@ -466,6 +473,50 @@ class StreamingFIR:
         return np.concatenate(out) if out else np.zeros(0)
 
 
+class RunningMean:
+    """The mean of a signal fed in chunks of any size; sums over fixed spans from the first sample, so the result does not depend on the chunking."""
+
+    def __init__(self) -> None:
+        self._total, self._count, self._pending = 0.0, 0, np.zeros(0)
+
+    def add(self, chunk: np.ndarray) -> None:
+        x = np.concatenate([self._pending, np.asarray(chunk, float).ravel()])
+        whole = (x.size // MEAN_CHUNK) * MEAN_CHUNK
+        for s in range(0, whole, MEAN_CHUNK):
+            self._total += float(np.sum(x[s : s + MEAN_CHUNK]))
+        self._count += whole
+        self._pending = x[whole:]
+
+    def result(self) -> float:
+        """The mean so far (0 for no samples)."""
+        n = self._count + self._pending.size
+        return (self._total + float(np.sum(self._pending))) / n if n else 0.0
+
+
+def fade_length(sample_rate: int) -> int:
+    """Samples of the raised-cosine fade at each end (:data:`FADE_SECONDS`): 240 at 48 kHz."""
+    return max(1, int(round(FADE_SECONDS * sample_rate)))
+
+
+def edge_gain(start: int, n: int, total: int, fade: int) -> np.ndarray:
+    """The fade's gain for samples ``start`` … ``start + n − 1`` of a signal of ``total`` samples, shape (n,), 0..1.
+
+    A raised cosine sin²(π/2 · (k + ½)/fade) over the first ``fade`` samples (k from the start) and
+    the last ``fade`` (k from the end); 1 between.
+    """
+    i = np.arange(start, start + n)
+    k = np.minimum(i, total - 1 - i).astype(float)
+    return np.where(k < fade, np.sin(0.5 * np.pi * (k + 0.5) / fade) ** 2, 1.0)
+
+
+def prepared(x: np.ndarray, *, mean: float, start: int, total: int, sample_rate: int) -> np.ndarray:
+    """What the inverse filters: samples ``start`` … of a recording (V) less its mean (a DC offset is not
+    string velocity) and faded in and out at its ends (:func:`edge_gain`), so neither the offset nor a
+    take cut mid-note steps from or to the silence around the file."""
+    x = np.asarray(x, float)
+    return (x - mean) * edge_gain(start, x.size, total, fade_length(sample_rate))
+
+
 def unvoice(di: np.ndarray, *, passive: np.ndarray, sample_rate: int, max_boost_db: float = MAX_BOOST_DB, taps: int | None = None) -> tuple[np.ndarray, Inverse]:
     """One-shot un-voicing of a whole recording in memory (the CLI streams the same steps).
 
@@ -475,12 +526,14 @@ def unvoice(di: np.ndarray, *, passive: np.ndarray, sample_rate: int, max_boost_
     max_boost_db : float, dB, 0..60
     Returns (velocity (n,), m/s; the Inverse used).
     """
-    acc = SpectrumAccumulator(sample_rate=sample_rate)
+    acc, mean = SpectrumAccumulator(sample_rate=sample_rate), RunningMean()
     acc.add(di)
+    mean.add(di)
     stats = acc.result()
     inv = design_inverse(passive, sample_rate=sample_rate, band_hz=stats.band_hz, noise_ratio=noise_to_signal(stats), max_boost_db=max_boost_db, taps=taps)
     fir = StreamingFIR(inv.taps, delay=inv.delay)
-    v = np.concatenate([fir.process(di), fir.finish()])
+    x = prepared(di, mean=mean.result(), start=0, total=np.asarray(di).size, sample_rate=sample_rate)
+    v = np.concatenate([fir.process(x), fir.finish()])
     return v, inv
 
 

@@ -41,8 +41,9 @@ PHRASE_SUFFIXES = (".toml",)
 DEFAULT_DRY = Path("dry_signals") / "default.toml"  # the demo phrase, from the project folder
 # A recording shorter than this is refused as a phrase is (render.dry.phrase.MIN_SECONDS).
 MIN_RECORDED_SECONDS = MIN_SECONDS
-# A blind session levels its clips by ITU-R BS.1770-4 loudness, which needs one 400 ms block.
-MIN_BLIND_SECONDS = 0.4
+# A blind session's shortest clip (render.runs.blind.MIN_SECONDS, its --seconds): it levels its clips by
+# ITU-R BS.1770-4 loudness, which needs at least one 400 ms gating block; 0.5 s holds one with room to spare.
+MIN_BLIND_SECONDS = 0.5
 
 
 @dataclass(frozen=True)
@@ -99,18 +100,30 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
         raise ArgumentError("dry_path", f"{dry}", "no such file; give a phrase (.toml) or an audio file", option="--dry")
     if dry.suffix.lower() in PHRASE_SUFFIXES:
         load_phrase(dry)
-        if velocity_scale != 1.0:
-            raise ArgumentError(
-                "velocity_scale",
-                f"{velocity_scale:g}",
-                f"scales a recorded dry file, not the phrase {dry}; pluck a phrase harder or softer with --strength",
-                python_why=f"scales a recorded dry file, not the phrase {dry}; leave it at 1 and pluck a phrase harder or softer with RenderSettings.strength",
-            )
+        refuse_velocity_scale_with_phrase(dry, velocity_scale)
         if seconds is not None and seconds > MAX_SECONDS:
             raise ArgumentError("seconds", f"{seconds:g}", f"a phrase renders in memory, at most {MAX_SECONDS:g} s; for longer takes use a recording")
     elif recorded:
         check_recording(dry)
     return dry
+
+
+def refuse_velocity_scale_with_phrase(dry: Path, velocity_scale: float, *, strength: bool = True) -> None:
+    """Refuse a ``velocity_scale`` other than 1 for a phrase: it scales a recording's samples.
+
+    ``strength``: the command has ``--strength`` (``RenderSettings.strength``) to pluck a phrase harder or softer;
+    otherwise the plucks are the phrase file's own.
+    """
+    from ..errors import ArgumentError
+
+    if dry.suffix.lower() in PHRASE_SUFFIXES and velocity_scale != 1.0:
+        cli, python = ("with --strength", "with RenderSettings.strength") if strength else ("in the phrase file", "in the phrase file")
+        raise ArgumentError(
+            "velocity_scale",
+            f"{velocity_scale:g}",
+            f"scales a recorded dry file, not the phrase {dry}; pluck a phrase harder or softer {cli}",
+            python_why=f"scales a recorded dry file, not the phrase {dry}; leave it at 1 and pluck a phrase harder or softer {python}",
+        )
 
 
 def refuse_strength_with_recording(dry: Path, shown: str) -> None:

@@ -27,6 +27,16 @@ MAX_SECONDS = 600.0
 PLAUSIBLE_VELOCITY = 100.0
 
 
+def implausible_velocity(name: str, peak: float, *, how: str = "", check: str) -> str | None:
+    """One warning line when a peak string velocity (m/s) is beyond :data:`PLAUSIBLE_VELOCITY`, else None.
+
+    ``how`` says how the peak was reached (shown after it); ``check`` names what to check.
+    """
+    if not peak > PLAUSIBLE_VELOCITY:
+        return None
+    return f"{name}: peak string velocity {peak:.3g} m/s{how} is far beyond a plucked string's few m/s; check {check}"
+
+
 def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float = 1.0, seconds: float | None = None) -> tuple[np.ndarray, list[str]]:
     """Read a recorded string-velocity signal for both coils.
 
@@ -99,6 +109,7 @@ class RecordingChecks:
         self._left = None if seconds is None else int(math.ceil(seconds * self.rate))
         self.peak = 0.0  # of the samples, before velocity_scale
         self.flats = FlatRuns(info.clip_level)
+        self.recorded_scale = recorded_velocity_scale(name)
 
     def add(self, data: np.ndarray) -> None:
         """The next frames as read: shape (frames, channels)."""
@@ -112,10 +123,19 @@ class RecordingChecks:
     def warnings(self) -> list[str]:
         """One line each, for what has been added."""
         out = []
-        peak = self.peak * self.velocity_scale
-        if peak > PLAUSIBLE_VELOCITY:
+        far = implausible_velocity(
+            self.name,
+            self.peak * self.velocity_scale,
+            how=f" (sample × velocity_scale={self.velocity_scale:g})",
+            check="the velocity scale (--velocity-scale, velocity_scale= in Python) and the file's level",
+        )
+        if far:
+            out.append(far)
+        said = self.recorded_scale
+        if said is not None and not math.isclose(said[1], self.velocity_scale, rel_tol=1e-9):
             out.append(
-                f"{self.name}: peak string velocity {peak:.3g} m/s (sample × velocity_scale={self.velocity_scale:g}) is far beyond a plucked string's few m/s; check the velocity scale (--velocity-scale, velocity_scale= in Python) and the file's level"
+                f"{self.name}: its record {said[0]} (render unvoice) says a sample of 1.0 is {said[1]:g} m/s, but it is read at velocity_scale={self.velocity_scale:g}"
+                f" (every level {20 * math.log10(self.velocity_scale / said[1]):+.1f} dB off); pass --velocity-scale {said[1]:g} (velocity_scale= in Python)"
             )
         if self.flats.runs:
             out.append(
@@ -123,6 +143,26 @@ class RecordingChecks:
                 "the recording probably clipped, so its peaks are flattened"
             )
         return out
+
+
+def recorded_velocity_scale(path: str | Path) -> tuple[Path, float] | None:
+    """(the record, its velocity_scale in m/s) when ``path`` has the JSON record ``render unvoice`` writes beside it
+    (``FILE.json``, kind "unvoice", naming this file), else None: a velocity WAV's full scale is kept there, not in the WAV."""
+    import json
+
+    record = Path(path).with_suffix(".json")
+    if Path(path).suffix.lower() == ".json" or not record.is_file():
+        return None
+    try:
+        data = json.loads(record.read_text(encoding="utf-8"))
+        if data.get("kind") != "unvoice" or Path(data["velocity"]["file"]).name != Path(path).name:
+            return None
+        scale = data["velocity"]["velocity_scale"]
+    except (OSError, ValueError, TypeError, KeyError, AttributeError):
+        return None  # not such a record: nothing to say
+    if isinstance(scale, bool) or not isinstance(scale, (int, float)) or not (math.isfinite(scale) and scale > 0):
+        return None
+    return record, float(scale)
 
 
 def to_velocity(data: np.ndarray, channels: int, velocity_scale: float) -> np.ndarray:

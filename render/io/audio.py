@@ -153,11 +153,14 @@ def audio_info(path: str | Path, *, max_seconds: float | None = None, max_channe
     try:
         info = sf.info(name)
     except (sf.LibsndfileError, *_READ_ERRORS) as e:
-        hint = "; it holds text, and a phrase file must end in .toml" if text else ""
+        if text and p.suffix.lower() == ".toml":
+            hint = "; it is a TOML file (a design or phrase), not a recording: check the order of the arguments"
+        else:
+            hint = "; it holds text, and a phrase file must end in .toml" if text else ""
         raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC{hint}") from None
     channels, rate, frames = int(info.channels), int(info.samplerate), int(info.frames)
     if channels > max_channels:
-        what = "mono feeds both coils, two channels feed coil_a and coil_b" if max_channels == 2 else "one channel"
+        what = "mono feeds both coils, two channels feed coil_a and coil_b" if max_channels == 2 else "mono"
         raise InputError(f"{name}: channels={channels}: at most {max_channels} ({what}); mix down or split the file")
     if not MIN_FILE_RATE <= rate <= MAX_FILE_RATE:
         raise InputError(f"{name}: samplerate={rate} in its header: expected {MIN_FILE_RATE} to {MAX_FILE_RATE} Hz; the header is probably damaged, export the file again")

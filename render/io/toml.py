@@ -23,6 +23,13 @@ TOMLDecodeError = tomllib.TOMLDecodeError
 MAX_FILE_BYTES = 1_000_000  # a design, rig or fit file is a few kB; refuse anything huge
 
 
+AUDIO_MAGIC = (b"RIFF", b"RIFX", b"RF64", b"fLaC", b"OggS", b"FORM")  # how WAV, FLAC, OGG and AIFF files begin
+
+
+def _is_audio(path: str | Path) -> str:
+    return f"{path}: is audio, not a TOML text file; this takes a phrase or design file (.toml); a recording plays through render clips --dry"
+
+
 def loads(text: str) -> dict[str, Any]:
     """Parse TOML text (the standard library's parser, or tomli on Python 3.10)."""
     return tomllib.loads(text)
@@ -52,6 +59,13 @@ def read_file_bytes(path: str | Path, *, limit: int, what: str, missing: str = "
     if not p.is_file():
         raise InputError(f"{path}: is not a regular file (a device or a pipe?); give {what} saved on disk")
     if st.st_size > limit:
+        try:
+            with open(p, "rb") as fh:
+                head = fh.read(len(max(AUDIO_MAGIC, key=len)))
+        except OSError:
+            head = b""
+        if head.startswith(AUDIO_MAGIC):  # a long recording given for a text file: say what it is, not how big
+            raise InputError(_is_audio(path))
         raise InputError(f"{path}: file is {st.st_size} bytes; {what} must be under {limit} bytes")
     try:
         with open(p, "rb") as fh:
@@ -76,8 +90,8 @@ def decode_toml_text(raw: bytes, path: str | Path) -> str:
     try:
         return raw.decode("utf-8")
     except UnicodeDecodeError as exc:
-        if raw.startswith((b"RIFF", b"RIFX", b"RF64", b"fLaC", b"OggS", b"FORM")):
-            raise InputError(f"{path}: is audio, not a TOML text file; this takes a phrase or design file (.toml); a recording plays through render clips --dry") from None
+        if raw.startswith(AUDIO_MAGIC):
+            raise InputError(_is_audio(path)) from None
         raise InputError(f"{path}: not a UTF-8 text file (byte {exc.start} is 0x{raw[exc.start]:02x}); save it as UTF-8 TOML") from None
 
 

@@ -18,12 +18,13 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..design import Design, RigFile, apply_rig
+from ..dry import MIN_BLIND_SECONDS
 from ..errors import ArgumentError, InputError
 from ..listening.layout import METHODS, SessionPaths
 from ..listening.loudness import LoudnessMatch
 
 MAX_SECONDS = 120.0  # per clip: longer clips make ABX slow and sessions large (common practice, no source)
-MIN_SECONDS = 0.5  # per clip: holds at least one 400 ms gating block of ITU-R BS.1770-4, so its loudness can be measured
+MIN_SECONDS = MIN_BLIND_SECONDS  # per clip: holds at least one 400 ms gating block of ITU-R BS.1770-4, so its loudness can be measured
 DRY_SEED = 0  # the phrase's small per-note variations: the same for both designs
 TARGET_LUFS_RANGE = (-60.0, -5.0)  # LUFS accepted; EBU R 128's -23 is the default
 TRUE_PEAK_RANGE = (-30.0, 0.0)  # dBTP accepted; -1 (EBU R 128) is the default
@@ -57,6 +58,8 @@ class BlindSettings:
         8000 to 384000 (:func:`render.validate.sample_rate`).
     hum : bool
         Render the room's hum with the signal.
+    velocity_scale : float, m/s
+        The string velocity at a recorded dry file's full scale (a sample of 1.0), above 0 to 1000; 1 for a phrase.
     """
 
     trials: int = 16
@@ -67,8 +70,10 @@ class BlindSettings:
     seconds: float | str | None = None
     sample_rate: int = 48000
     hum: bool = True
+    velocity_scale: float = 1.0
 
     def __post_init__(self) -> None:
+        from ..arguments import number
         from ..listening.build import MAX_TRIALS
         from ..units import TIME, QuantityError, parse_quantity
         from ..validate import sample_rate
@@ -85,6 +90,7 @@ class BlindSettings:
         if not (_finite(self.true_peak_dbtp) and lo <= self.true_peak_dbtp <= hi):
             raise ArgumentError("true_peak_dbtp", f"{_shown(self.true_peak_dbtp)}", f"must be from {lo:g} to {hi:g} dBTP; -1 is usual")
         rate = sample_rate(self.sample_rate)
+        scale = number("velocity_scale", self.velocity_scale, lo=0.0, lo_open=True, hi=1e3, unit="m/s", hint=" (the string velocity at a recording's full scale)")
         seed = _whole(self.seed) if self.seed is not None else None
         if self.seed is not None and (seed is None or not 0 <= seed < SEED_LIMIT):
             raise ArgumentError("seed", f"{self.seed}", "must be from 0 to 2**63-1")
@@ -105,6 +111,7 @@ class BlindSettings:
             ("target_lufs", float(self.target_lufs)),
             ("true_peak_dbtp", float(self.true_peak_dbtp)),
             ("hum", bool(self.hum)),
+            ("velocity_scale", scale),
         ):
             object.__setattr__(self, name, value)
 
@@ -122,11 +129,15 @@ def _whole(value: object) -> int | None:
 
 
 def _finite(value: object) -> bool:
-    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+    import numbers
+
+    return isinstance(value, numbers.Real) and not isinstance(value, bool) and math.isfinite(value)  # numpy's scalars are Real too
 
 
 def _shown(value: object) -> str:
-    return f"{value:g}" if isinstance(value, (int, float)) and not isinstance(value, bool) else repr(value)
+    import numbers
+
+    return f"{value:g}" if isinstance(value, numbers.Real) and not isinstance(value, bool) else repr(value)
 
 
 @dataclass(frozen=True)
@@ -189,13 +200,15 @@ def session_folder(out: str | Path | None, *, overwrite: bool) -> Path:
     return out
 
 
-def session_dry_file(dry_path: str | Path | None) -> Path:
-    """The dry file a session plays (default: the demo phrase), refused if it does not exist."""
-    from ..dry import default_dry_path
+def session_dry_file(dry_path: str | Path | None, *, velocity_scale: float = 1.0) -> Path:
+    """The dry file a session plays (default: the demo phrase), refused if it does not exist, if a recording
+    is too short to level, or if a phrase is given a ``velocity_scale`` (it scales a recording)."""
+    from ..dry import default_dry_path, refuse_velocity_scale_with_phrase
 
     dry_file = Path(dry_path) if dry_path else default_dry_path()
     if not dry_file.is_file():
         raise ArgumentError("dry_path", f"{dry_file}", "no such file; pass a phrase (.toml) or a recording", option="--dry")
+    refuse_velocity_scale_with_phrase(dry_file, velocity_scale, strength=False)
     if dry_file.suffix.lower() != ".toml":
         from ..dry import check_recording
 
@@ -281,7 +294,7 @@ def build_blind_session(
     if len(designs) != 2:
         raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
     folder = session_folder(out, overwrite=overwrite)
-    dry_file = session_dry_file(dry_path)
+    dry_file = session_dry_file(dry_path, velocity_scale=settings.velocity_scale)
     # the file as read now (unchanged since loading), and the text that was rendered: a changed design's (render.with_values)
     design_records = [{**file_record(d.source, expected_sha256=d.sha256, text=not d.text), **({"toml": d.text} if d.text else {})} for d in designs]
     rig_record = file_record(rig.source, expected_sha256=rig.sha256, text=True) if rig else None
@@ -301,6 +314,7 @@ def build_blind_session(
             apertures=(design.coil_a.aperture, design.coil_b.aperture),
             seed=DRY_SEED,
             seconds=length,
+            velocity_scale=settings.velocity_scale,
             pickup=pickup_for(design),
         )
         if dry_description is None:
@@ -327,7 +341,7 @@ def build_blind_session(
     seed = settings.seed if settings.seed is not None else secrets.randbits(63)
     record = {
         "rig": rig_record,
-        "dry": {**file_record(dry_file), "seed": DRY_SEED, "seconds": length, "description": dry_description, "from_di": from_di},
+        "dry": {**file_record(dry_file), "seed": DRY_SEED, "seconds": length, "velocity_scale": settings.velocity_scale, "description": dry_description, "from_di": from_di},
         "render": {
             "function": RENDER_FUNCTION,
             "hum": settings.hum,

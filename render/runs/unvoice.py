@@ -31,7 +31,10 @@ BLOCK = 1 << 16  # samples per read and write
 MIN_SECONDS = 0.5  # shorter recordings give too few frames for a noise floor (common practice, no source)
 VOLTS_FULL_SCALE = 1.0  # default: a DI sample of 1.0 is 1 V at the amp input
 VOLTS_RANGE = (1e-4, 100.0)  # V at full scale accepted
-BOOST_RANGE = (0.0, 40.0)  # dB accepted for --max-boost
+# dB accepted for --max-boost. Below the lowest, the bound alone costs more than the trust rule (TRUST_DB) where
+# |H| is its 1 kHz level: the passband cost 20·log10(1 + 10^(−B/10)/4) reaches 1 dB at B = 3.12 dB (closed form,
+# render.analysis.unvoice), so no band could be trusted.
+BOOST_RANGE = (3.2, 40.0)
 WAV_HEADER = 64  # bytes, at least, of render.io.wav's float WAV header (RIFF, fmt, fact, data)
 
 
@@ -67,9 +70,10 @@ def sidecars(out: str | Path) -> tuple[Path, Path]:
 
 
 def _check_number(name: str, value, low: float, high: float, what: str, *, option: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) or not low <= value <= high:
-        raise ArgumentError(name, value, f"must be a number from {low:g} to {high:g} ({what})", option=option)
-    return float(value)
+    """``value`` as a float from ``low`` to ``high`` (any real number: int, float, a numpy scalar; never a bool or str)."""
+    from ..arguments import number
+
+    return number(name, value, lo=low, hi=high, hint=f" ({what})", option=option)
 
 
 def _open_di(path: Path):
@@ -79,14 +83,14 @@ def _open_di(path: Path):
     from ..io.audio import MAX_FILE_RATE, AudioInfo, audio_info, too_short
 
     name = str(path)
+    if path.suffix.lower() == ".toml" and path.is_file():
+        raise InputError(f"DI={name}: is a TOML file, not a recording: the order is DI then MODEL (render unvoice DI.wav MODEL.toml --out FILE.wav)")
     try:
-        # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header
-        checked = audio_info(path)
+        # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header, more than one channel
+        checked = audio_info(path, max_channels=1)
     except InputError as e:
         raise InputError(f"DI={e}") from None
     info = sf.info(name)
-    if info.channels != 1:
-        raise InputError(f"DI={name}: channels={info.channels}: a DI must be mono (one pickup output); export one channel")
     short = too_short(f"DI={name}", AudioInfo(channels=1, sample_rate=int(info.samplerate), frames=int(info.frames)), MIN_SECONDS, "to read its noise floor")
     if short:
         raise short
@@ -104,6 +108,13 @@ def _blocks(path: Path):
 
     with decoding(f"DI={path}"):
         yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
+
+
+def _refuse_volume_zero(design, model_path, rig) -> None:
+    """Refuse a rig whose volume is at 0: the passive wiring then passes (next to) nothing, and its inverse would be absurd."""
+    if design.rig.volume <= 0.0:
+        where = f"RIG={rig.source}" if rig is not None else f"MODEL={model_path}"
+        raise InputError(f"{where}: volume=0: the passive wiring passes no signal at volume 0; set the rig's volume to what the recording was made with")
 
 
 def _refuse_silent_passive(design, model_path) -> None:
@@ -151,7 +162,8 @@ def unvoice(
     velocity_scale : float, m/s
         The string velocity at the velocity WAV's full scale, 1e-6 to 1000 m/s.
     max_boost_db : float or None, dB
-        The inverse's boost bound above its 1 kHz level, 0 to 40 dB (default 20 dB).
+        The inverse's boost bound above its 1 kHz level, 3.2 to 40 dB (default 20 dB; below 3.2 dB the bound alone
+        costs the passband more than the 1 dB trust rule).
     overwrite : bool
         Replace ``out``, its JSON and its plot if they exist (otherwise an existing one is refused).
     plot : bool
@@ -172,6 +184,7 @@ def unvoice(
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
     from ..design import Design, design_to_dict, load_designs
+    from ..dry.recorded import implausible_velocity
     from ..io.atomic import atomic_path, json_text
     from ..io.folders import refuse_existing as check_new
     from ..io.folders import same_file
@@ -196,11 +209,12 @@ def unvoice(
     sample_rate, frames, clip_level = _open_di(di)
     model_path = design.source if isinstance(design, Design) else design
     (design,), rig = load_designs([design], rig=rig)
+    _refuse_volume_zero(design, model_path, rig)
     _refuse_silent_passive(design, model_path)
     warnings: list[str] = []
 
     # pass 1: statistics (and every sample checked before anything is written)
-    stats_acc = U.SpectrumAccumulator(sample_rate=sample_rate)
+    stats_acc, mean_acc = U.SpectrumAccumulator(sample_rate=sample_rate), U.RunningMean()
     from ..io.audio import FlatRuns
 
     flats = FlatRuns(clip_level)
@@ -213,6 +227,7 @@ def unvoice(
         flats.add(block)
         peak = max(peak, float(np.max(np.abs(block))) if block.size else 0.0)
         stats_acc.add(block * vfs)
+        mean_acc.add(block * vfs)
         at += block.size
     if peak == 0.0:
         raise InputError(f"DI={di}: every sample is 0: the recording is silent; record or export it again")
@@ -227,7 +242,7 @@ def unvoice(
     passive = responses(from_designs([design])).passive_velocity()(grid)[0]
     inv = U.design_inverse(passive, sample_rate=sample_rate, band_hz=stats.band_hz, noise_ratio=U.noise_to_signal(stats), max_boost_db=boost)
     if inv.trusted_band_hz is None:
-        warnings.append(f"no band around {U.REFERENCE_HZ:g} Hz is within {U.TRUST_DB:g} dB of the exact inverse: the recording is mostly noise there, or the model does not fit it")
+        warnings.append(_untrusted(passive, sample_rate, stats, boost))
 
     # pass 2: filter and write, every output under a temporary name until all are done
     fir = U.StreamingFIR(inv.taps, delay=inv.delay)
@@ -251,8 +266,10 @@ def unvoice(
                     written += v.size
                     wav.write(v / vscale)
 
+            mean, at = mean_acc.result(), 0
             for block in _blocks(di):
-                put(fir.process(block * vfs))
+                put(fir.process(U.prepared(block * vfs, mean=mean, start=at, total=frames, sample_rate=sample_rate)))
+                at += block.size
             put(fir.finish())
             wav.close()
         except BaseException:
@@ -261,6 +278,14 @@ def unvoice(
         if written != frames:
             raise InputError(f"DI={di}: wrote {written} of {frames} samples; the file changed while it was read")
         vstats = vel_acc.result()
+        far = implausible_velocity(
+            f"DI={di}",
+            vpeak,
+            how=f" (the estimate, at --volts-full-scale {vfs:g})",
+            check="--volts-full-scale, the rig's volume (--rig) and that MODEL is what the recording was made through",
+        )
+        if far:
+            warnings.append(far)
 
         record = unvoice_record(
             di=di,
@@ -287,6 +312,19 @@ def unvoice(
         if plot:
             spectra_plot(tmp_png, stats=stats, vstats=vstats, inv=inv, title=f"{design.name}: un-voicing {di.name}")
     return UnvoiceResult(wav=out, json=json_path, png=png_path if plot else None, record=record, warnings=tuple(warnings))
+
+
+def _untrusted(passive, sample_rate: int, stats, boost: float) -> str:
+    """Why no band is trusted: a --max-boost below the default when the default would trust one, else the recording or the model."""
+    from ..analysis import unvoice as U
+
+    plain = f"no band around {U.REFERENCE_HZ:g} Hz is within {U.TRUST_DB:g} dB of the exact inverse"
+    if boost < U.MAX_BOOST_DB:
+        usual = U.design_inverse(passive, sample_rate=sample_rate, band_hz=stats.band_hz, noise_ratio=U.noise_to_signal(stats), max_boost_db=U.MAX_BOOST_DB)
+        if usual.trusted_band_hz is not None:
+            lo, hi = usual.trusted_band_hz
+            return f"{plain}: --max-boost {boost:g} dB bounds the inverse too close to its passband level; the default {U.MAX_BOOST_DB:g} dB trusts {lo:.0f} Hz to {hi:.0f} Hz"
+    return f"{plain}: the recording is mostly noise there, or the model does not fit it"
 
 
 @dataclass(frozen=True)

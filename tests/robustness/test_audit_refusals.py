@@ -4,7 +4,7 @@ no traceback, nothing left behind; and ``--overwrite`` leaving only the new run'
 No check values that need a source here: exit codes, message text, file names and lengths
 (the 10 cm near-dipole threshold is a rule of thumb, "common practice, no source", in
 ``render.magnetics.schema.NEAR_DIPOLE_M``, as is a clip's 0.05 s minimum in ``render.dry``;
-a blind session's 0.4 s is one ITU-R BS.1770-4 loudness block).
+a blind session's 0.5 s holds one 400 ms ITU-R BS.1770-4 loudness block, and is its --seconds' minimum too).
 """
 
 from __future__ import annotations
@@ -111,10 +111,12 @@ def test_a_recording_too_short_for_a_clip_is_refused(tmp_path, seconds):
 
 
 def test_a_recording_too_short_for_a_blind_session_is_refused(tmp_path):
-    short = wav(tmp_path / "short.wav", 0.39)
+    short = wav(tmp_path / "short.wav", 0.45)
     out = tmp_path / "out"
-    msg = assert_refused(run("blind", REF, DARK, "--dry", short, "--out", out), "too short: 390 ms (18720 samples at 48000 Hz)")
-    assert "at least 0.4 s is needed to level a blind session's clips" in msg and not out.exists()
+    msg = assert_refused(run("blind", REF, DARK, "--dry", short, "--out", out), "too short: 450 ms (21600 samples at 48000 Hz)")
+    assert "at least 0.5 s is needed to level a blind session's clips" in msg and not out.exists()
+    # the same least length as --seconds takes
+    assert_refused(run("blind", REF, DARK, "--seconds", "0.45", "--out", out), "--seconds=0.45: must be from 0.5 s")
 
 
 def test_a_di_too_short_to_unvoice_is_refused_and_leaves_no_folder(tmp_path):

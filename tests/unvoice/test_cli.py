@@ -119,6 +119,10 @@ def _stereo(folder):
     return write_wav(folder / "stereo.wav", np.zeros((SAMPLE_RATE, 2)) + 0.01)
 
 
+def _three(folder):
+    return write_wav(folder / "three.wav", np.zeros((SAMPLE_RATE, 3)) + 0.01)
+
+
 def _short(folder):
     return write_wav(folder / "short.wav", 0.01 * np.ones(SAMPLE_RATE // 5))
 
@@ -154,7 +158,8 @@ def _damaged(folder):
     "make, extra, expect",
     [
         (lambda f: f / "missing.wav", (), "DI="),
-        (_stereo, (), "channels=2"),
+        (_stereo, (), "channels=2: at most 1 (mono)"),
+        (_three, (), "channels=3: at most 1 (mono)"),
         (_short, (), "too short: 200 ms"),
         (_nan, (), "sample 1234"),
         (_silent, (), "every sample is 0"),
@@ -163,6 +168,7 @@ def _damaged(folder):
         (None, ("--volts-full-scale", "0"), "--volts-full-scale=0.0"),
         (None, ("--volts-full-scale", "nan"), "--volts-full-scale=nan"),
         (None, ("--max-boost", "55"), "--max-boost=55.0"),
+        (None, ("--max-boost", "3"), "--max-boost=3.0: must be from 3.2 to 40"),
         (None, ("--velocity-scale", "-1"), "--velocity-scale=-1.0"),
     ],
 )
@@ -241,3 +247,98 @@ def test_blind_from_di_records_the_recording(di, tmp_path):
     assert rec["rebuild"].startswith("render unvoice ")
     # no velocity file inside the session: only the clips, the plan and the key
     assert not list(out.rglob("*velocity*"))
+
+
+def test_a_rig_at_volume_0_is_refused_and_an_implausible_estimate_is_flagged(di, tmp_path):
+    """volume = 0: the passive wiring passes (next to) nothing, so the inverse would be absurd (it once gave 8.7e8 m/s).
+    volume = 0.05 on a take made at full volume: an estimate far above a plucked string's few m/s is flagged
+    with the same rule as a recorded dry file's (render.dry.recorded.PLAUSIBLE_VELOCITY, common practice, no source)."""
+    from render.dry.recorded import PLAUSIBLE_VELOCITY
+
+    zero = tmp_path / "v0.toml"
+    zero.write_text("[rig]\nvolume = 0.0\n")
+    before = set(tmp_path.iterdir())
+    res = run(di[0], REF, "--rig", zero, "--out", tmp_path / "v.wav")
+    assert res.exit_code == 1 and len(res.output.strip().splitlines()) == 1, res.output
+    assert "volume=0: the passive wiring passes no signal at volume 0" in res.output and f"RIG={zero}" in res.output
+    assert set(tmp_path.iterdir()) == before
+    low = tmp_path / "v005.toml"
+    low.write_text("[rig]\nvolume = 0.05\n")
+    res = run(di[0], REF, "--rig", low, "--out", tmp_path / "low.wav", "--no-plot")
+    assert res.exit_code == 0, res.output
+    rec = json.loads((tmp_path / "low.json").read_text())
+    assert rec["velocity"]["peak_m_per_s"] > PLAUSIBLE_VELOCITY
+    assert "is far beyond a plucked string's few m/s" in res.output and any("far beyond" in w for w in rec["warnings"])
+    res = run(di[0], REF, "--out", tmp_path / "full.wav", "--no-plot")
+    assert res.exit_code == 0 and "far beyond" not in res.output
+
+
+def test_a_velocity_scale_is_read_back_by_blind_and_clips(di, tmp_path):
+    """unvoice --velocity-scale 4, then blind and clips: with --velocity-scale 4 the render is the one of the
+    scale-1 WAV (a float32 sample over 4 times 4 is the same float: a power of two); without it, a warning names the scale."""
+    one, four = tmp_path / "one.wav", tmp_path / "four.wav"
+    assert run(di[0], REF, "--out", one, "--no-plot").exit_code == 0
+    assert run(di[0], REF, "--out", four, "--no-plot", "--velocity-scale", "4").exit_code == 0
+    assert np.array_equal(sf.read(one, dtype="float64")[0], 4 * sf.read(four, dtype="float64")[0])
+
+    def blind(dry, name, *extra):
+        out = tmp_path / name
+        res = CliRunner().invoke(main, ["blind", str(REF), str(GLASS), "--dry", str(dry), "--trials", "2", "--seed", "3", "--seconds", "0.6", "--out", str(out), *extra], catch_exceptions=False)
+        assert res.exit_code == 0, res.output
+        return res.output, json.loads((out / "private" / "key.json").read_text())
+
+    said = "(render unvoice) says a sample of 1.0 is 4 m/s, but it is read at velocity_scale=1 (every level -12.0 dB off); pass --velocity-scale 4"
+    text_1, key_1 = blind(one, "s1")
+    text_4, key_4 = blind(four, "s4", "--velocity-scale", "4")
+    text_bare, key_bare = blind(four, "bare")
+    assert "says a sample of 1.0" not in text_1 + text_4 and said in text_bare
+    assert key_4["loudness"]["measured_lufs"] == key_1["loudness"]["measured_lufs"] and key_4["render"]["headroom"] == key_1["render"]["headroom"]
+    assert key_4["dry"]["velocity_scale"] == 4.0
+    # read at 1 instead of 4, the render is 20·log10(4) = 12.04 dB quieter (BS.1770-4 loudness is linear in level, the render near linear here)
+    drop = np.subtract(key_1["loudness"]["measured_lufs"], key_bare["loudness"]["measured_lufs"])
+    assert np.allclose(drop, 20 * math.log10(4), atol=0.05), drop
+    res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(four), "--seconds", "0.6", "--out", str(tmp_path / "c"), "--no-plots"], catch_exceptions=False)
+    assert res.exit_code == 0 and said in res.output, res.output
+    # a phrase has no full scale to set
+    res = CliRunner().invoke(main, ["blind", str(REF), str(GLASS), "--dry", str(PHRASE), "--velocity-scale", "2", "--out", str(tmp_path / "p")], catch_exceptions=False)
+    assert res.exit_code == 1 and "--velocity-scale=2: scales a recorded dry file, not the phrase" in res.output and "in the phrase file" in res.output
+    assert not (tmp_path / "p").exists()
+
+
+def test_numpy_numbers_are_numbers(di, tmp_path):
+    import render
+
+    res = render.unvoice(di[0], REF, out=tmp_path / "v.wav", volts_full_scale=np.int64(2), velocity_scale=np.float32(0.5), max_boost_db=np.int32(20), plot=False)
+    assert res.record["di"]["volts_full_scale"] == 2.0 and res.record["velocity"]["velocity_scale"] == 0.5
+    with pytest.raises(render.ArgumentError, match="must be from 0.0001 to 100"):
+        render.unvoice(di[0], REF, out=tmp_path / "w.wav", volts_full_scale=np.float64(1e3))
+
+
+def test_the_least_max_boost_is_what_the_trust_rule_needs(di, tmp_path, monkeypatch):
+    """The bound alone costs 20·log10(1 + 10^(−B/10)/4) dB where |H| is its 1 kHz level (closed form, x/(x² + λ)
+    with λ = |H(1 kHz)|²·10^(−B/10)/4): over the 1 dB trust rule below 3.12 dB, so 3.2 dB is the least accepted;
+    and when a smaller bound is what leaves no band trusted, the warning names --max-boost, not the recording."""
+
+    def cost(b):
+        return 20 * math.log10(1 + 10 ** (-b / 10) / 4)
+
+    assert cost(run_unvoice.BOOST_RANGE[0]) <= U.TRUST_DB < cost(run_unvoice.BOOST_RANGE[0] - 0.1)
+    assert cost(0.0) == pytest.approx(1.938, abs=1e-3)  # the 1.94 dB a 0 dB bound cost
+    monkeypatch.setattr(run_unvoice, "BOOST_RANGE", (0.0, 40.0))
+    res = run(di[0], REF, "--out", tmp_path / "v.wav", "--no-plot", "--max-boost", "0")
+    assert res.exit_code == 0 and "--max-boost 0 dB bounds the inverse too close to its passband level; the default 20 dB trusts" in res.output, res.output
+    assert "mostly noise" not in res.output
+
+
+def test_swapped_arguments_and_audio_for_a_design_say_so(di, tmp_path):
+    """MODEL then DI: the order is named; a recording over the design files' size limit given as MODEL: called audio, not too big."""
+    from render.io.toml import MAX_FILE_BYTES
+
+    res = run(REF, di[0], "--out", tmp_path / "v.wav")
+    assert res.exit_code == 1 and len(res.output.strip().splitlines()) == 1
+    assert "is a TOML file, not a recording: the order is DI then MODEL" in res.output and "must end in .toml" not in res.output
+    big = write_wav(tmp_path / "big.wav", 0.01 * np.ones(MAX_FILE_BYTES // 4 + SAMPLE_RATE))
+    assert big.stat().st_size > MAX_FILE_BYTES
+    res = run(di[0], big, "--out", tmp_path / "v.wav")
+    assert res.exit_code == 1 and "big.wav: is audio, not a TOML text file" in res.output and "bytes" not in res.output, res.output
+    assert not (tmp_path / "v.wav").exists()
