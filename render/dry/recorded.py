@@ -70,8 +70,9 @@ def load_recorded(path: str | Path, *, sample_rate: int, velocity_scale: float =
     from ..validate import sample_rate as checked_rate
 
     checked_rate(sample_rate, name="sample_rate")  # the render's rate: the one check of an output rate
-    if isinstance(velocity_scale, bool) or not isinstance(velocity_scale, (int, float)) or not (math.isfinite(velocity_scale) and velocity_scale > 0):
-        raise InputError(f"velocity_scale={shown(velocity_scale)}: must be a number > 0 (m/s at full scale)")
+    from ..arguments import number
+
+    velocity_scale = number("velocity_scale", velocity_scale, lo=0.0, lo_open=True, hint=" (m/s at full scale)")  # numpy scalars too
     if seconds is not None and not (isinstance(seconds, (int, float)) and 0 < seconds <= MAX_SECONDS):
         raise InputError(f"seconds={shown(seconds)}: the length must be > 0 s and <= {MAX_SECONDS:g} s")
     info = audio_info(path, max_seconds=None if seconds is not None else MAX_SECONDS)

@@ -141,7 +141,9 @@ def test_missing_file_and_bad_scale(tmp_path):
     refused(tmp_path / "nope.wav", r"nope.wav: no such file")
     path = tmp_path / "ok.wav"
     sf.write(path, sine(100, 0.1, FS), FS)
-    refused(path, r"velocity_scale=0: must be a number > 0", velocity_scale=0)
+    refused(path, r"velocity_scale=0: must be above 0", velocity_scale=0)
+    v, _ = load_recorded(path, sample_rate=FS, velocity_scale=np.float32(2.0))  # a numpy scalar is a number
+    assert np.max(np.abs(v)) == pytest.approx(2 * np.max(np.abs(sine(100, 0.1, FS))), rel=1e-6)
 
 
 def test_dry_velocity_dispatches_on_the_file(tmp_path):
