@@ -109,6 +109,21 @@ def test_e_between_digits_of_a_capacitance_is_an_exponent():
     assert parse_quantity("4E7", CAPACITANCE) == 4e7
 
 
+@pytest.mark.parametrize("text, kind, fixed, value", [("3N9", CAPACITANCE, "3n9", 3.9e-9), ("4P7", CAPACITANCE, "4p7", 4.7e-12), ("4U7", INDUCTANCE, "4u7", 4.7e-6)])
+def test_letter_code_in_upper_case_is_refused_with_its_lower_case(text, kind, fixed, value):
+    # IEC 60062's letter codes use the SI prefixes p, n, u, which are case-sensitive (SI Brochure, 9th ed., 3): "N" is no prefix
+    with pytest.raises(QuantityError, match=f'write "{fixed}"'):
+        parse_quantity(text, kind)
+    assert parse_quantity(fixed, kind) == pytest.approx(value, rel=1e-15)
+
+
+def test_trailing_e_on_a_resistance_is_refused_with_r():
+    # some makers print "470E" for 470 ohm; IEC 60062 writes R for the ohm's decimal point ("470R")
+    with pytest.raises(QuantityError, match='write "470R"'):
+        parse_quantity("470E", RESISTANCE)
+    assert parse_quantity("470R", RESISTANCE) == 470.0
+
+
 # E12 series, IEC 60063:2015
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
 
