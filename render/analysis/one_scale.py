@@ -32,6 +32,7 @@ from . import undefined as U
 from .noise import BAND_HZ, REFERENCE_HZ, REFERENCE_VELOCITY, a_weighting
 
 NO_HUM_AT_ALL = "no hum: it cancels exactly, or the field is zero"
+NO_SIGNAL_AT_ALL = "no signal: the coils cancel the string signal exactly"
 
 
 def harmonics_rms(frequency_hz, peak_v, *, weighted: bool = False, band=BAND_HZ) -> float:
@@ -68,6 +69,9 @@ class OneScale:
     no_hum_reason : str
         Why there is no hum, in words, when ``hum_v`` is 0 (the coils cancel
         it exactly, or no source links either coil).
+    no_signal_reason : str
+        Why there is no signal, in words, when ``signal_v`` is 0: this circuit's own
+        (the passive reference's coils, not the active circuit's).
     """
 
     circuit: str
@@ -79,6 +83,7 @@ class OneScale:
     reference_velocity: float = REFERENCE_VELOCITY
     reference_hz: float = REFERENCE_HZ
     no_hum_reason: str = NO_HUM_AT_ALL
+    no_signal_reason: str = NO_SIGNAL_AT_ALL
 
     @staticmethod
     def _db(x: float, y: float) -> float | None:
@@ -104,7 +109,7 @@ class OneScale:
             "noise_v_rms": self.noise_v,
             "noise_a_weighted_v_rms": self.noise_a_v,
         }
-        no_signal = "no signal: the coils cancel the string signal exactly"
+        no_signal = self.no_signal_reason
         no_hum = self.no_hum_reason
         for key, num, den, why in (
             ("signal_to_hum_db", self.signal_v, self.hum_v, no_hum if self.hum_v <= 0 else no_signal),
@@ -119,7 +124,16 @@ class OneScale:
 
 
 def one_scale(
-    circuit: str, *, hum_frequency_hz, hum_peak_v, noise_v: float, noise_a_v: float, signal_v: float, reference_velocity: float = REFERENCE_VELOCITY, no_hum_reason: str | None = None
+    circuit: str,
+    *,
+    hum_frequency_hz,
+    hum_peak_v,
+    noise_v: float,
+    noise_a_v: float,
+    signal_v: float,
+    reference_velocity: float = REFERENCE_VELOCITY,
+    no_hum_reason: str | None = None,
+    no_signal_reason: str | None = None,
 ) -> OneScale:
     """Hum (per-harmonic peaks) and noise (band totals) of one circuit on one scale.
 
@@ -128,6 +142,8 @@ def one_scale(
     signal_v : float, V rms, the reference signal at the amp input
     no_hum_reason : str or None
         Why the hum is zero, when it is (:mod:`render.analysis.undefined`'s wording); None: :data:`NO_HUM_AT_ALL`.
+    no_signal_reason : str or None
+        Why the signal is zero, when it is (the circuit's noise floor's ``silent_reason``); None: :data:`NO_SIGNAL_AT_ALL`.
     """
     return OneScale(
         circuit=circuit,
@@ -138,6 +154,7 @@ def one_scale(
         noise_a_v=float(noise_a_v),
         reference_velocity=float(reference_velocity),
         no_hum_reason=no_hum_reason or NO_HUM_AT_ALL,
+        no_signal_reason=no_signal_reason or NO_SIGNAL_AT_ALL,
     )
 
 
@@ -181,6 +198,7 @@ def design_one_scale(design, *, temperature: float = 300.0, reference_velocity: 
         signal_v=0.0 if nr.active.silent_reason else nr.active.signal_v,
         reference_velocity=reference_velocity,
         no_hum_reason=table.get("note_to_hum_db_reason") if table["total_v_rms"] <= 0 else None,
+        no_signal_reason=nr.active.silent_reason,
     )
     passive = one_scale(
         "passive reference",
@@ -191,5 +209,6 @@ def design_one_scale(design, *, temperature: float = 300.0, reference_velocity: 
         signal_v=0.0 if nr.passive.silent_reason else nr.passive.signal_v,
         reference_velocity=reference_velocity,
         no_hum_reason=table["passive"].get("note_to_hum_db_reason") if table["passive"]["total_v_rms"] <= 0 else None,
+        no_signal_reason=nr.passive.silent_reason,
     )
     return active, passive
