@@ -85,6 +85,11 @@ class OneScale:
     no_hum_reason: str = NO_HUM_AT_ALL
     no_signal_reason: str = NO_SIGNAL_AT_ALL
 
+    @property
+    def no_signal_cell(self) -> str:
+        """Where the coils cancel the signal, its reason's short form for a table cell ("no passive signal"); else ""."""
+        return U.cell({"why": None, "why_reason": self.no_signal_reason}, "why", "") if self.signal_v <= 0 else ""
+
     @staticmethod
     def _db(x: float, y: float) -> float | None:
         return 20.0 * math.log10(x / y) if x > 0 and y > 0 else None

@@ -68,13 +68,6 @@ def _no_hum(s) -> tuple[str, str]:
     return "none", "there is no hum"
 
 
-def _no_signal(s) -> str:
-    """The table cell of a circuit whose coils cancel the signal: its own reason, short ("no passive signal"); "" with a signal."""
-    from ..analysis.undefined import cell
-
-    return cell({"snr_db_reason": s.no_signal_reason}, "snr_db", "") if s.signal_v <= 0 else ""
-
-
 def scale_lines(scales) -> list[str]:
     """The hum-and-noise table of :class:`~render.analysis.one_scale.OneScale` results, one column each."""
     s0 = scales[0]
@@ -82,8 +75,8 @@ def scale_lines(scales) -> list[str]:
     rows = [
         ("hum", [f"{_uv(s.hum_v)} (A: {_uv(s.hum_a_v)})" if s.hum_v > 0 else _no_hum(s)[0] for s in scales]),
         ("noise", [f"{_uv(s.noise_v)} (A: {_uv(s.noise_a_v)})" for s in scales]),
-        ("signal to hum", [_no_signal(s) or f"{_ratio(s.signal_v, s.hum_v)} (A: {_ratio(s.signal_v, s.hum_a_v)})" if s.hum_v > 0 else "no hum" for s in scales]),
-        ("signal to noise", [_no_signal(s) or f"{_ratio(s.signal_v, s.noise_v)} (A: {_ratio(s.signal_v, s.noise_a_v)})" for s in scales]),
+        ("signal to hum", [s.no_signal_cell or f"{_ratio(s.signal_v, s.hum_v)} (A: {_ratio(s.signal_v, s.hum_a_v)})" if s.hum_v > 0 else "no hum" for s in scales]),
+        ("signal to noise", [s.no_signal_cell or f"{_ratio(s.signal_v, s.noise_v)} (A: {_ratio(s.signal_v, s.noise_a_v)})" for s in scales]),
     ]
     w = max(w, 2 + max(len(c) for _, cells in rows for c in cells))  # columns never run together
     out = [
