@@ -87,7 +87,7 @@ def test_noise_equals_the_json(tmp_path):
     run("noise", REF, "--json", js)
     data = json.loads(js.read_text())
     n = render.noise(render.load_design(REF))
-    assert n.active.total_v == data["total_v"] and n.active.snr_db == data["snr_db"]
+    assert n.active.total_v == data["noise_v_rms"] and n.active.snr_db == data["snr_db"]
 
 
 def test_bias_sweep_equals_the_json(tmp_path):

@@ -118,6 +118,7 @@ def comparison(p: PassiveDesign, *, temperature: float = T_DEFAULT, reference_ve
         noise_a_v=floor.a_weighted_v,
         signal_v=0.0 if floor.silent_reason else floor.signal_v,
         reference_velocity=reference_velocity,
+        no_signal_reason=floor.silent_reason,
     )
     return Comparison(design=p, figures=fig, hum_frequency_hz=f, hum_peak_v=np.abs(peaks), noise=floor, scale=scale)
 

@@ -136,8 +136,8 @@ class Contributor:
         return {
             "source": self.key,
             "label": self.label,
-            "total_v": self.total_v,
-            "a_weighted_v": self.a_weighted_v,
+            "noise_v_rms": self.total_v,
+            "noise_a_weighted_v_rms": self.a_weighted_v,
             "share": self.share,
             "density_1k_v_per_rthz": self.density_1k_v_per_rthz,
         }
@@ -201,11 +201,11 @@ class NoiseFloor:
             "frequency_hz": self.frequency_hz.tolist(),
             "density_v_per_rthz": self.density_v_per_rthz.tolist(),
             "density_1k_v_per_rthz": self.density_1k_v_per_rthz,
-            "total_v": self.total_v,
-            "total_dbv": 20.0 * math.log10(self.total_v),
-            "a_weighted_v": self.a_weighted_v,
-            "a_weighted_dbv": 20.0 * math.log10(self.a_weighted_v),
-            "signal_v": self.signal_v,
+            "noise_v_rms": self.total_v,  # the name hum_and_noise gives the same figure
+            "noise_dbv": 20.0 * math.log10(self.total_v),
+            "noise_a_weighted_v_rms": self.a_weighted_v,
+            "noise_a_weighted_dbv": 20.0 * math.log10(self.a_weighted_v),
+            "signal_v_rms": self.signal_v,
             **self._snr_record(),
             "contributors": [c.as_dict() for c in self.contributors],
         }
@@ -445,8 +445,8 @@ def noise_record(r: NoiseReport, design, rig_file) -> dict:
         "band_hz": list(BAND_HZ),
         "frequency_hz": act.pop("frequency_hz"),
         "density_v_per_rthz": act.pop("density_v_per_rthz"),
-        "total_v": act.pop("total_v"),
-        "a_weighted_v": act.pop("a_weighted_v"),
+        "noise_v_rms": act.pop("noise_v_rms"),
+        "noise_a_weighted_v_rms": act.pop("noise_a_weighted_v_rms"),
         **{k: act.pop(k) for k in ("snr_db", "snr_db_reason", "snr_a_db", "snr_a_db_reason") if k in act},
         "reference_signal": r.reference_signal(),
         "warnings": r.warnings(),

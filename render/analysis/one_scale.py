@@ -70,7 +70,8 @@ class OneScale:
         Why there is no hum, in words, when ``hum_v`` is 0 (the coils cancel
         it exactly, or no source links either coil).
     no_signal_reason : str
-        Why there is no signal, in words, when ``signal_v`` is 0 (the coils cancel it, or the volume is at 0).
+        Why there is no signal, in words, when ``signal_v`` is 0: this circuit's own (the coils cancel it,
+        or the volume is at 0; for the passive reference, its own coils).
     """
 
     circuit: str
@@ -83,6 +84,11 @@ class OneScale:
     reference_hz: float = REFERENCE_HZ
     no_hum_reason: str = NO_HUM_AT_ALL
     no_signal_reason: str = NO_SIGNAL_COILS_CANCEL
+
+    @property
+    def no_signal_cell(self) -> str:
+        """Where there is no signal, its reason's short form for a table cell ("no passive signal"); else ""."""
+        return U.cell({"why": None, "why_reason": self.no_signal_reason}, "why", "") if self.signal_v <= 0 else ""
 
     @staticmethod
     def _db(x: float, y: float) -> float | None:
@@ -142,7 +148,7 @@ def one_scale(
     no_hum_reason : str or None
         Why the hum is zero, when it is (:mod:`render.analysis.undefined`'s wording); None: :data:`NO_HUM_AT_ALL`.
     no_signal_reason : str or None
-        Why the signal is zero, when it is; None: the coils cancel it.
+        Why the signal is zero, when it is (the volume at 0, or the circuit's noise floor's ``silent_reason``); None: :data:`NO_SIGNAL_COILS_CANCEL`.
     """
     return OneScale(
         circuit=circuit,

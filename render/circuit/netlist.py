@@ -218,6 +218,36 @@ def circuit_lines(design: Design, *, rig: bool = True) -> list[str]:
     return lines
 
 
+OPAMP_NOISE_T = 300.0  # K, render noise's default temperature: the stand-ins below are sized for it
+
+
+def _opamp_noise_stanza(d: Design) -> list[str]:
+    """Commented lines that add the op-amp's noise (absent above: its sources are noiseless) as thermal stand-ins.
+
+    Each resistor R sits alone from a spare node to ground, so that node carries its open-circuit
+    thermal voltage √(4kTR) (Johnson–Nyquist); a noiseless transconductance g turns it into a current
+    g·√(4kTR). Into ``opx`` with g = 1 S (the op-amp's own transconductance) it is the voltage noise e_n
+    at the + input; into ``pos`` and ``inv`` with g = 1 µS it is the current noise i_n at each input.
+    R = (density/g)²/(4kT), at :data:`OPAMP_NOISE_T`. None of them loads a node of the circuit.
+    """
+    from .noise import K_BOLTZMANN
+
+    four_kt = 4 * K_BOLTZMANN * OPAMP_NOISE_T
+    en, i_n = d.supply.noise_voltage, d.supply.noise_current
+    return [
+        "* (this .noise example leaves out the op-amp's own noise: its controlled sources are noiseless, so it",
+        "*  gives the resistors' noise only, less than render noise's total; to add the op-amp's voltage noise",
+        f"*  {en:g} V/sqrt(Hz) and current noise {i_n:g} A/sqrt(Hz) at each input, as render noise does at {OPAMP_NOISE_T:g} K",
+        "*  (ngspice's default temperature is 300.15 K, 0.0002 dB away), uncomment these thermal stand-ins too:)",
+        f"* Ren nen 0 {_v(en**2 / four_kt)}",
+        "* Gen 0 opx nen 0 1",
+        f"* Rinp ninp 0 {_v((i_n / 1e-6) ** 2 / four_kt)}",
+        "* Ginp 0 pos ninp 0 1e-06",
+        f"* Rinn ninn 0 {_v((i_n / 1e-6) ** 2 / four_kt)}",
+        "* Ginn 0 inv ninn 0 1e-06",
+    ]
+
+
 def netlist(design: Design, *, rig_source: str | None = None) -> str:
     """The whole netlist as text (module text): title, documentation, elements, analyses.
 
@@ -270,6 +300,7 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "* setplot noise1",
         "* wrdata noise.txt onoise_spectrum inoise_spectrum",
         "* .endc",
+        *_opamp_noise_stanza(d),
         "*",
         "* a transient: replace Vvel above with a string velocity, e.g. 1 kHz at 0.2 m/s peak,",
         "* Vvel vel 0 DC 0 AC 1 SIN(0 0.2 1k)",

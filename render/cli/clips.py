@@ -73,15 +73,14 @@ def clips_command(
     check_stems(designs, compared)  # refused, as run_clips refuses it, before the folder is made
     reference_index(designs, reference, compare=compared)  # a wrong name is refused before the folder is made
     out = output_folder(out_dir, overwrite=overwrite)
-    if from_di:
-        from ..runs.unvoice import velocity_from_di
-        from .unvoice import report_from_di
+    if from_di and dry_path is None:
+        from ..errors import InputError
 
-        made = velocity_from_di(dry_path, from_di, folder=out, rig=rig_path, overwrite=overwrite, plot=plots, claim=True)
-        report_from_di(made)
-        dry = made.wav
+        raise InputError("--from-di needs --dry DI: the recording made through that design's passive reference")
     settings = RenderSettings(sample_rate=sample_rate, seconds=seconds, seed=seed, velocity_scale=velocity_scale, hum=hum, passive=passive, noise=noise, strength=strength_m)
-    run = render_and_report(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference, compare=compared, overwrite=overwrite)
+    run = render_and_report(
+        designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, reference=reference, compare=compared, overwrite=overwrite, from_di=from_di
+    )
     if run.compare is not None:
         from ..runs.compare_clip import compare_stem
 
@@ -108,13 +107,29 @@ def read_strength(text, dry) -> float | None:
     return strength_m
 
 
-def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None, overwrite=False):
+def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None, overwrite=False, from_di=None):
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
     from .clips_print import progress_bar, report_clips
+    from .unvoice import report_from_di
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     with progress_bar(len(designs)) as update:
-        run = run_clips(designs, dry, settings, out, rig=rig, jobs=jobs, plots=plots, volts_full_scale=volts_full_scale, progress=update, reference=reference, compare=compare, overwrite=overwrite)
+        run = run_clips(
+            designs,
+            dry,
+            settings,
+            out,
+            rig=rig,
+            jobs=jobs,
+            plots=plots,
+            volts_full_scale=volts_full_scale,
+            progress=update,
+            reference=reference,
+            compare=compare,
+            overwrite=overwrite,
+            from_di=from_di,
+            on_unvoiced=report_from_di,
+        )
     report_clips(run)
     return run

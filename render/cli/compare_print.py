@@ -75,8 +75,8 @@ def scale_lines(scales) -> list[str]:
     rows = [
         ("hum", [f"{_uv(s.hum_v)} (A: {_uv(s.hum_a_v)})" if s.hum_v > 0 else _no_hum(s)[0] for s in scales]),
         ("noise", [f"{_uv(s.noise_v)} (A: {_uv(s.noise_a_v)})" for s in scales]),
-        ("signal to hum", [f"{_ratio(s.signal_v, s.hum_v)} (A: {_ratio(s.signal_v, s.hum_a_v)})" if s.hum_v > 0 else "no hum" for s in scales]),
-        ("signal to noise", [f"{_ratio(s.signal_v, s.noise_v)} (A: {_ratio(s.signal_v, s.noise_a_v)})" for s in scales]),
+        ("signal to hum", [s.no_signal_cell or f"{_ratio(s.signal_v, s.hum_v)} (A: {_ratio(s.signal_v, s.hum_a_v)})" if s.hum_v > 0 else "no hum" for s in scales]),
+        ("signal to noise", [s.no_signal_cell or f"{_ratio(s.signal_v, s.noise_v)} (A: {_ratio(s.signal_v, s.noise_a_v)})" for s in scales]),
     ]
     w = max(w, 2 + max(len(c) for _, cells in rows for c in cells))  # columns never run together
     out = [

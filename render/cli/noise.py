@@ -15,7 +15,7 @@ def _uv(v: float) -> str:
 
     from ..units import microvolts
 
-    return f"{microvolts(v, digits=3).strip()} ({20 * math.log10(v):+.1f} dBV)"
+    return f"{microvolts(v, digits=3).strip()} rms ({20 * math.log10(v):+.1f} dBV)"
 
 
 def _snr(floor) -> str:

@@ -69,31 +69,26 @@ def make_folder(path: str | Path) -> Path:
 
 
 @contextlib.contextmanager
-def folder_kept_on_success(path: str | Path, *, claim: bool = False) -> Iterator[Path]:
+def folder_kept_on_success(path: str | Path) -> Iterator[Path]:
     """Create ``path`` (and its missing parents); if the body raises, remove each one made here that is still empty.
 
-    So a refusal after the folder was made leaves nothing behind. With
-    ``claim``, the files the body wrote are noted in the folder
-    (:data:`RUN_CLAIMED`) for the run that opens it next with
-    :func:`run_folder`, which counts them as its own (a ``--from-di``
-    velocity, written before the run's folder opens).
+    So a refusal after the folder was made leaves nothing behind.
     """
     p = Path(path)
     missing = [q for q in (p, *p.parents) if not q.exists()]
     folder = make_folder(p)
-    before = _files(folder) if claim else {}
     try:
         yield folder
     except BaseException:
-        for q in missing:  # deepest first
-            with contextlib.suppress(OSError):
-                q.rmdir()  # only an empty folder goes
+        _remove_empty(missing)
         raise
-    if claim:
-        from .atomic import write_text
 
-        wrote = sorted(rel for rel, st in _files(folder).items() if before.get(rel) != st)
-        write_text(folder / RUN_CLAIMED, "".join(f"{r}\n" for r in sorted(_listed(folder, RUN_CLAIMED) | set(wrote))), overwrite=True)
+
+def _remove_empty(made: list[Path]) -> None:
+    """Remove each of the folders ``made`` (deepest first) that is empty."""
+    for q in made:
+        with contextlib.suppress(OSError):
+            q.rmdir()  # only an empty folder goes
 
 
 def new_run_folder(root: Path = OUTPUTS, prefix: str = "clips") -> Path:
@@ -107,20 +102,17 @@ def new_run_folder(root: Path = OUTPUTS, prefix: str = "clips") -> Path:
     return out
 
 
-def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = "clips", claimed: bool = False) -> Path:
+def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = "clips") -> Path:
     """The folder a run writes to (not yet created): ``out_dir``, or a new one under ``outputs/``.
 
     Refused if ``out_dir`` is a file, or a folder that holds files and ``overwrite`` is false.
-    With ``claimed``, the files written into it for this run beforehand (:data:`RUN_CLAIMED`,
-    a ``--from-di`` velocity) do not count.
     """
     if out_dir is None:
         return new_run_folder(OUTPUTS, prefix)
     out = Path(out_dir)
     if out.exists() and not out.is_dir():
         raise ArgumentError("out", f"{out}", "is a file; give a folder")
-    ours = {RUN_CLAIMED, *(rel.split("/")[0] for rel in _listed(out, RUN_CLAIMED))} if claimed and out.exists() else set()
-    if out.exists() and any(p.name not in ours for p in out.iterdir()) and not overwrite:
+    if out.exists() and any(out.iterdir()) and not overwrite:
         raise ArgumentError(
             "out",
             f"{out}",
@@ -138,23 +130,22 @@ INCOMPLETE_TEXT = (
 
 
 RUN_FILES = ".run-files"  # the files a run wrote in its folder, one relative path a line; its next --overwrite removes those it does not write again
-RUN_CLAIMED = ".run-claimed"  # files written into a folder before its run opened it, for that run to count as its own
 
 
 def _files(folder: Path) -> dict[str, tuple[int, int, int]]:
     """Every file below ``folder`` (but the run's own list and marker): relative path -> (inode, mtime ns, size)."""
     out = {}
     for p in folder.rglob("*"):
-        if p.is_file() and p.name not in (RUN_FILES, RUN_CLAIMED, INCOMPLETE) and not p.name.startswith(".tmp-"):
+        if p.is_file() and p.name not in (RUN_FILES, INCOMPLETE) and not p.name.startswith(".tmp-"):
             st = p.stat()
             out[p.relative_to(folder).as_posix()] = (st.st_ino, st.st_mtime_ns, st.st_size)
     return out
 
 
-def _listed(folder: Path, name: str = RUN_FILES) -> set[str]:
-    """The files listed in ``folder/name``: an earlier run's own (:data:`RUN_FILES`) or those claimed for this one (none without a list)."""
+def _listed(folder: Path) -> set[str]:
+    """The files an earlier run listed in ``folder`` (:data:`RUN_FILES`; none without a list)."""
     try:
-        text = (folder / name).read_text(encoding="utf-8")
+        text = (folder / RUN_FILES).read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError):
         return set()
     return {line for line in text.splitlines() if line and not line.startswith("/") and ".." not in Path(line).parts}
@@ -181,8 +172,8 @@ def run_folder(path: str | Path) -> Iterator[Path]:
     a finished run, whatever stopped the process (even SIGKILL). When the body
     is left by an exception (a refusal, a stop), the ``.tmp-*`` files that
     stopped workers left behind are removed; a folder with nothing else in it
-    goes too (the marker, and the folder if this run made it), otherwise the
-    marker stays.
+    goes too (the marker, and the folder and its parents if this run made them),
+    otherwise the marker stays.
 
     The run lists the files it wrote in :data:`RUN_FILES`. Run again into the
     folder (``--overwrite``), it removes the files an earlier run listed and it
@@ -192,18 +183,16 @@ def run_folder(path: str | Path) -> Iterator[Path]:
     """
     from .atomic import fsync_folder, write_text
 
-    made = not Path(path).exists()
+    made = [q for q in (Path(path), *Path(path).parents) if not q.exists()]
     folder = make_folder(path)
     earlier = _listed(folder)
-    claimed = _listed(folder, RUN_CLAIMED)
-    (folder / RUN_CLAIMED).unlink(missing_ok=True)
     before = _files(folder)
     marker = folder / INCOMPLETE
     write_text(marker, INCOMPLETE_TEXT, overwrite=True)
 
     def written() -> set[str]:
         now = _files(folder)
-        return {rel for rel, st in now.items() if before.get(rel) != st} | (claimed & set(now))
+        return {rel for rel, st in now.items() if before.get(rel) != st}
 
     try:
         yield folder
@@ -215,8 +204,7 @@ def run_folder(path: str | Path) -> Iterator[Path]:
             with contextlib.suppress(OSError):
                 marker.unlink()
                 (folder / RUN_FILES).unlink(missing_ok=True)
-                if made:
-                    folder.rmdir()
+            _remove_empty(made)  # the folder and the parents this run made, if nothing is left in them
         raise
     mine = written()
     _remove_stale(folder, earlier - mine)

@@ -425,8 +425,15 @@ def transfer_plot(path, curves, *, title="", overwrite=False, reference_label="o
     return save(fig, path, overwrite=overwrite)
 
 
-def _snr_text(floor) -> str:
-    return "none (no signal)" if floor.snr_db is None else f"{floor.snr_db:.1f} dB"
+def noise_title(r) -> str:
+    """The noise plot's title, a sentence: the SNRs, or, where the coils cancel the signal, that there is none and why."""
+    a, p = r.active, r.passive
+    active = f"SNR {a.snr_db:.1f} dB" if a.snr_db is not None else "no SNR: the coils cancel the string signal"
+    if p.snr_db is not None:
+        passive = f"passive reference {p.snr_db:.1f} dB"
+    else:
+        passive = "passive reference: no SNR either, its coils cancel the signal too" if a.snr_db is None else "passive reference: no SNR, its coils cancel the signal"
+    return f"{r.design}: noise floor at {r.temperature_k:g} K, {active}\n({passive})"
 
 
 def noise_plot(path, r, *, top: int, overwrite: bool = False):
@@ -435,15 +442,15 @@ def noise_plot(path, r, *, top: int, overwrite: bool = False):
     a, p = r.active, r.passive
     f = a.frequency_hz
     fig, ax = plt.subplots(figsize=(8, 5.2))
-    ax.plot(f, a.density_v_per_rthz * 1e9, color=INK, lw=2.0, label=f"{r.design}: total {a.total_v * 1e6:.3g} µV")
+    ax.plot(f, a.density_v_per_rthz * 1e9, color=INK, lw=2.0, label=f"{r.design}: total {a.total_v * 1e6:.3g} µV rms, 20 Hz–20 kHz")
     for i, c in enumerate(a.contributors[:top]):
         ax.plot(f, a.contributor_density[c.key] * 1e9, color=PALETTE[(i + 1) % len(PALETTE)], lw=1.1, label=f"  {c.key} ({100 * c.share:.0f} %)")
-    ax.plot(f, p.density_v_per_rthz * 1e9, color=CLAY, lw=1.5, ls="--", label=f"passive reference: total {p.total_v * 1e6:.3g} µV")
+    ax.plot(f, p.density_v_per_rthz * 1e9, color=CLAY, lw=1.5, ls="--", label=f"passive reference: total {p.total_v * 1e6:.3g} µV rms, 20 Hz–20 kHz")
     _hz_axis(ax, f[0], f[-1])
     ax.set_yscale("log")
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("noise density at the amp input (nV/√Hz)")
-    ax.set_title(f"{r.design}: noise floor at {r.temperature_k:g} K, SNR {_snr_text(a)} (passive {_snr_text(p)})", fontsize=10, loc="left")
+    ax.set_title(noise_title(r), fontsize=10, loc="left")
     ax.legend(loc="lower left", fontsize=8, frameon=False)
     fig.tight_layout()
     return save(fig, path, overwrite=overwrite)

@@ -409,14 +409,15 @@ def check_stems(designs: Sequence[Design], compare: Any = None) -> None:
         raise ArgumentError("compare", compare.source, f"the design {seen[Path(compare.source).stem]} has the same file name; their clips would overwrite each other: rename one")
 
 
-def check_dry_settings(dry: Path, settings: RenderSettings) -> None:
+def check_dry_settings(dry: Path, settings: RenderSettings, *, recorded: bool = True) -> None:
     """Refuse settings that do not fit the dry file, as the command line does: a phrase whole (its length,
-    no ``velocity_scale``), a recording as audio (no ``strength``, which scales a phrase's plucks)."""
+    no ``velocity_scale``), a recording as audio (no ``strength``, which scales a phrase's plucks).
+    ``recorded=False``: ``dry`` is a DI to be un-voiced, not read as a velocity recording."""
     from ..dry import check_dry_file, refuse_strength_with_recording
 
     if settings.strength is not None:
         refuse_strength_with_recording(dry, f"{settings.strength:g}")
-    check_dry_file(dry, seconds=settings.seconds, velocity_scale=settings.velocity_scale)
+    check_dry_file(dry, seconds=settings.seconds, recorded=recorded, velocity_scale=settings.velocity_scale)
 
 
 def run_clips(
@@ -433,6 +434,8 @@ def run_clips(
     reference: str | None = None,
     compare: Any = None,
     overwrite: bool = False,
+    from_di: str | Path | None = None,
+    on_unvoiced: Callable[[Any], None] | None = None,
 ) -> ClipsRun:
     """Render one clip per design into ``out``: S.wav, S.json, plots, summary.md (and responses.png), and the comparison page (index.html).
 
@@ -463,6 +466,12 @@ def run_clips(
     overwrite : bool
         Run into a folder that holds files: an earlier run's files that this one does not write again are removed
         (files no run listed, such as a listener's notes, stay).
+    from_di : str, Path or None
+        ``dry`` is a DI recorded through this design file's passive reference: it is un-voiced
+        (:func:`render.runs.unvoice.velocity_from_di`) into ``out`` as the run's first step, inside the
+        run's folder (marked incomplete until the run finishes), and the clips play the estimate.
+    on_unvoiced : callable or None
+        Called with the :class:`render.runs.unvoice.FromDi` once the DI is un-voiced (the command line prints it).
     """
     from .. import arguments as A
     from ..analysis.brightness import reference_index
@@ -478,9 +487,9 @@ def run_clips(
     if not dry.is_file():
         raise ArgumentError("dry", f"{dry}", "no such file; give a phrase (.toml) or a recorded velocity file", option="--dry")
     A.instance("settings", settings, RenderSettings, "a render.RenderSettings(...) (RenderSettings() for the defaults)")
-    check_dry_settings(dry, settings)
+    check_dry_settings(dry, settings, recorded=from_di is None)
     check_stems(designs, compare)
-    out = output_folder(A.path("out", out, what="a folder's path"), overwrite=overwrite, claimed=True)  # an earlier run's files are replaced only when asked
+    out = output_folder(A.path("out", out, what="a folder's path"), overwrite=overwrite)  # an earlier run's files are replaced only when asked
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     ref = reference_index(designs, reference, compare=compare)  # refused before any work; None: the comparison pickup
     stems = [d.stem for d in designs]
@@ -489,6 +498,14 @@ def run_clips(
     rig_record = rig_provenance(rig)
     rig_text = rig.source if rig else "each design's own"
     with run_folder(out):
+        if from_di is not None:  # the run's first files: the marker is already there, so a stop while un-voicing leaves it
+            from .unvoice import velocity_from_di
+
+            made = velocity_from_di(dry, from_di, folder=out, rig=rig.source if rig is not None else None, overwrite=overwrite, plot=plots)
+            if on_unvoiced is not None:
+                on_unvoiced(made)
+            dry = made.wav
+            check_dry_settings(dry, settings)
         if dry.suffix.lower() != ".toml":
             from ..dry.recorded import recorded_seconds
 

@@ -337,14 +337,14 @@ class FromDi:
     warnings: tuple[str, ...]
 
 
-def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool = False, plot: bool = True, claim: bool = False) -> FromDi:
+def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool = False, plot: bool = True) -> FromDi:
     """The ``--from-di MODEL`` shortcut of ``clips`` and ``blind``: un-voice a DI into ``folder``.
 
     Writes ``folder/<DI stem>-velocity.wav`` (with its JSON and, if ``plot``,
     its plot), at 1 V DI full scale and 1 m/s velocity full scale. Returns the
     velocity WAV's path and a short JSON-ready record of the un-voicing.
-    ``claim``: the files are the next run's in ``folder`` (:func:`render.io.folders.run_folder`),
-    so its ``--overwrite`` clean-up keeps them.
+    ``clips`` calls it inside its run's folder (:func:`render.runs.clips.run_clips`, ``from_di``),
+    so a stop while un-voicing leaves that folder marked incomplete.
     """
     from ..io.folders import folder_kept_on_success
     from ..io.hashing import sha256_file
@@ -354,7 +354,7 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     di = Path(di_path)
     if di.suffix.lower() == ".toml":
         raise InputError(f"--dry={di}: is a phrase; --from-di un-voices a recording (WAV, FLAC, ...)")
-    with folder_kept_on_success(folder, claim=claim) as made:
+    with folder_kept_on_success(folder) as made:
         res = unvoice(di, model_path, out=made / f"{di.stem}-velocity.wav", rig=rig, overwrite=overwrite, plot=plot)
     r = res.record
     band = r["trusted_band_hz"]

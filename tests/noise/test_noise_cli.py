@@ -34,7 +34,7 @@ def test_json_has_the_documented_keys(tmp_path):
     res = run(REF, "--json", out)
     assert res.exit_code == 0, res.output
     rec = json.loads(out.read_text())
-    for key in ("frequency_hz", "density_v_per_rthz", "total_v", "a_weighted_v", "snr_db", "reference_signal", "temperature_k", "passive", "contributors"):
+    for key in ("frequency_hz", "density_v_per_rthz", "noise_v_rms", "noise_a_weighted_v_rms", "snr_db", "reference_signal", "temperature_k", "passive", "contributors"):
         assert key in rec, key
     f, s = rec["frequency_hz"], rec["density_v_per_rthz"]
     assert len(f) == len(s) == len(rec["passive"]["density_v_per_rthz"]) > 100
@@ -42,8 +42,8 @@ def test_json_has_the_documented_keys(tmp_path):
     assert f[0] == pytest.approx(20.0) and f[-1] == pytest.approx(20000.0) and rec["temperature_k"] == 300.0
     ref = rec["reference_signal"]
     assert ref["frequency_hz"] == 1000.0 and ref["string_velocity_m_per_s_rms"] == 0.1
-    assert rec["snr_db"] == pytest.approx(20 * math.log10(ref["output_v_rms"] / rec["total_v"]))
-    assert rec["passive"]["snr_db"] == pytest.approx(20 * math.log10(ref["passive_output_v_rms"] / rec["passive"]["total_v"]))
+    assert rec["snr_db"] == pytest.approx(20 * math.log10(ref["output_v_rms"] / rec["noise_v_rms"]))
+    assert rec["passive"]["snr_db"] == pytest.approx(20 * math.log10(ref["passive_output_v_rms"] / rec["passive"]["noise_v_rms"]))
     assert rec["opamp"] == {"noise_voltage_v_per_rthz": 10e-9, "noise_current_a_per_rthz": 1e-14}
     shares = [c["share"] for c in rec["contributors"]]
     assert shares == sorted(shares, reverse=True) and sum(shares) == pytest.approx(1.0)
@@ -70,7 +70,7 @@ def test_refuses_to_overwrite_and_touches_nothing(tmp_path):
     assert "exists; pass --overwrite" in res.output
     assert out.read_text() == "keep me" and not png.exists()
     assert run(REF, "--json", out, "--png", png, "--overwrite").exit_code == 0
-    assert json.loads(out.read_text())["total_v"] > 0 and png.exists()
+    assert json.loads(out.read_text())["noise_v_rms"] > 0 and png.exists()
 
 
 def test_warmer_is_noisier(tmp_path):
@@ -80,8 +80,8 @@ def test_warmer_is_noisier(tmp_path):
     ra, rb = json.loads(a.read_text()), json.loads(b.read_text())
     assert rb["temperature_k"] == 350.0
     # 4kT·R ∝ T (Johnson–Nyquist); the passive reference has only thermal sources
-    assert rb["passive"]["total_v"] == pytest.approx(ra["passive"]["total_v"] * math.sqrt(350 / 300), rel=1e-9)
-    assert rb["total_v"] > ra["total_v"]
+    assert rb["passive"]["noise_v_rms"] == pytest.approx(ra["passive"]["noise_v_rms"] * math.sqrt(350 / 300), rel=1e-9)
+    assert rb["noise_v_rms"] > ra["noise_v_rms"]
 
 
 def test_reference_velocity_moves_only_the_snr(tmp_path):
@@ -91,7 +91,7 @@ def test_reference_velocity_moves_only_the_snr(tmp_path):
     ra, rb = json.loads(a.read_text()), json.loads(b.read_text())
     # ten times the signal is +20 dB (definition of the dB)
     assert rb["snr_db"] - ra["snr_db"] == pytest.approx(20.0, abs=1e-9)
-    assert rb["total_v"] == ra["total_v"]
+    assert rb["noise_v_rms"] == ra["noise_v_rms"]
 
 
 def test_rig_file_applies(tmp_path):
@@ -102,7 +102,7 @@ def test_rig_file_applies(tmp_path):
     rec = json.loads(out.read_text())
     assert rec["rig"]["file"] == str(rig)
     base = json.loads(run(REF, "--json", "-").stdout)
-    assert rec["passive"]["total_v"] != base["passive"]["total_v"]
+    assert rec["passive"]["noise_v_rms"] != base["passive"]["noise_v_rms"]
 
 
 @pytest.mark.parametrize(
@@ -161,7 +161,7 @@ def test_a_reference_that_would_clip_is_warned(tmp_path):
     assert ref["opamp_output_peak_v"] == pytest.approx(math.sqrt(2) * 10 * gain, rel=1e-4)
     assert ref["clips"] is True and len(rec["warnings"]) == 1
     assert "warning: the reference signal would clip" in res.output and "the SNRs are for the signal unclipped" in res.output
-    assert rec["snr_db"] == pytest.approx(20 * math.log10(ref["output_v_rms"] / rec["total_v"]))  # the figure is kept
+    assert rec["snr_db"] == pytest.approx(20 * math.log10(ref["output_v_rms"] / rec["noise_v_rms"]))  # the figure is kept
     # the threshold velocity 3.0 V / (√2·gain): just below it no warning, just above one
     edge = 3.0 / (math.sqrt(2) * gain)
     assert noise(d, reference_velocity=edge * 0.999).warnings() == []
@@ -194,7 +194,7 @@ def test_large_figures_take_a_larger_prefix_not_an_exponent(tmp_path):
     assert _si(rows["density at 1 kHz"]) == pytest.approx(rec["density_1k_v_per_rthz"], rel=5e-3)
     assert rows["reference signal"].strip().endswith(" V rms")
     assert _si(rows["reference signal"]) == pytest.approx(rec["reference_signal"]["output_v_rms"], rel=5e-3)
-    assert _si(rows["total, 20 Hz–20 kHz"]) == pytest.approx(rec["total_v"], rel=5e-3)
+    assert _si(rows["total, 20 Hz–20 kHz"]) == pytest.approx(rec["noise_v_rms"], rel=5e-3)
 
 
 def test_millivolts_of_hum_read_in_millivolts(tmp_path):
@@ -222,3 +222,50 @@ def test_passive_contributors_have_one_name_in_print_and_json(tmp_path):
     printed = [line[50:].rsplit(" ", 2)[0] for line in lines if line[50:].strip()]
     assert printed == [c["source"] for c in rec["passive"]["contributors"][:8]]
     assert "rig.volume_lower" in printed and not any(c["source"].startswith("passive_") for c in rec["passive"]["contributors"])
+
+
+def _passive_cancels(tmp_path) -> Path:
+    """The reference with its second coil's signal polarity flipped: the passive reference's coils cancel the string
+    signal exactly (equal coils, equal and opposite EMFs: arithmetic), the active circuit still has one."""
+    path = tmp_path / "passive-cancels.toml"
+    text = REF.read_text()
+    assert 'position = "56mm"   # the neck-side coil of the pair' in text
+    path.write_text(text.replace('position = "56mm"   # the neck-side coil of the pair', 'position = "56mm"\nsignal_polarity = 1', 1))
+    return path
+
+
+def test_the_totals_say_rms_as_the_signal_does():
+    # the noise totals and the signal are rms voltages; each printed figure says so (project rule: units on every figure)
+    res = run(REF)
+    rows = {line[2:22].strip(): line[22:] for line in res.output.splitlines() if line.startswith("  ") and not line.startswith("   ")}
+    for row in ("total, 20 Hz–20 kHz", "A-weighted"):
+        assert rows[row].count("µV rms (") == 2, rows[row]  # active and passive columns
+    assert rows["reference signal"].count("mV rms") == 2
+
+
+def test_a_passive_reference_without_signal_gives_its_own_reason(tmp_path):
+    from render.analysis import undefined as U
+
+    path = _passive_cancels(tmp_path)
+    res = run(path, "--json", "-")
+    assert res.exit_code == 0, res.output
+    rec = json.loads(res.stdout[res.stdout.index("{") :])
+    active, passive = rec["hum_and_noise"]
+    assert active["signal_to_noise_db"] is not None and passive["signal_to_noise_db"] is None
+    assert passive["signal_to_noise_db_reason"] == rec["passive"]["snr_db_reason"] == U.PASSIVE_NO_SIGNAL
+    printed = [line for line in run(path).output.splitlines() if line.startswith("  signal to noise")]
+    assert printed and printed[0].rstrip().endswith("no passive signal"), printed
+
+
+def test_the_plot_title_reads_as_a_sentence(tmp_path):
+    from render.analysis.noise import noise_reports
+    from render.design import load_designs
+    from render.report.plots import noise_title
+
+    (d,), _ = load_designs([_passive_cancels(tmp_path)])
+    (r,) = noise_reports([d])
+    title = noise_title(r)
+    assert "none (no signal)" not in title and "passive reference: no SNR, its coils cancel the signal" in title, title
+    (d,), _ = load_designs([REF])
+    (r,) = noise_reports([d])
+    assert noise_title(r).endswith(f"(passive reference {r.passive.snr_db:.1f} dB)")

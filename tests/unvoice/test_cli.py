@@ -209,13 +209,43 @@ def test_clips_from_di_unvoices_into_the_run_folder(di, tmp_path):
         rec = json.loads((out / f"{stem}.json").read_text())
         assert "take-velocity.wav" in json.dumps(rec["dry"])
     assert "trusted" in res.output
-    # again into the same folder: the velocity written before the run's folder opens is this run's
-    # own, so --overwrite's clean-up of the earlier run's files keeps it, and lists it
+    # again into the same folder: the velocity is the run's own first file (un-voiced inside the run's
+    # folder), so --overwrite's clean-up of the earlier run's files keeps it, and lists it
     res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(di[0]), "--from-di", str(REF), "--seconds", "0.6", "--out", str(out), "--no-plots", "--overwrite"], catch_exceptions=False)
     assert res.exit_code == 0, res.output
     assert vel.is_file() and (out / "take-velocity.json").is_file() and not (out / "glasswing-bright.wav").exists()
     listed = (out / ".run-files").read_text(encoding="utf-8").splitlines()
     assert "take-velocity.wav" in listed and "studio-reference.wav" in listed and not (out / ".run-claimed").exists()
+
+
+def test_clips_from_di_unvoices_inside_the_marked_run_folder(di, tmp_path, monkeypatch):
+    # the project's own contract (README, "Stopping a run"): a folder without INCOMPLETE.txt holds a finished
+    # run, whatever stopped it, SIGKILL included; so the marker is there before the un-voicing writes anything
+    real = run_unvoice.unvoice
+    seen = []
+
+    def marked_then_stopped(di_path, design, *, out, **kw):
+        seen.append(sorted(p.name for p in out.parent.iterdir()))  # what a SIGKILL now would leave
+        real(di_path, design, out=out, **kw)
+        raise KeyboardInterrupt  # what Ctrl-C, SIGTERM and SIGHUP become in the command, after the velocity is written
+
+    monkeypatch.setattr(run_unvoice, "unvoice", marked_then_stopped)
+    out = tmp_path / "new" / "run"
+    res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(di[0]), "--from-di", str(REF), "--seconds", "0.6", "--out", str(out), "--no-plots"])
+    assert res.exit_code == 1
+    assert seen == [["INCOMPLETE.txt"]]
+    names = sorted(p.name for p in out.iterdir())
+    assert names == ["INCOMPLETE.txt", "take-velocity.json", "take-velocity.wav"], names
+
+
+def test_clips_from_di_stopped_before_any_file_leaves_no_folder(di, tmp_path, monkeypatch):
+    def stopped(*args, **kwargs):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(run_unvoice, "unvoice", stopped)
+    out = tmp_path / "new" / "run"
+    res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(di[0]), "--from-di", str(REF), "--seconds", "0.6", "--out", str(out), "--no-plots"])
+    assert res.exit_code == 1 and not (tmp_path / "new").exists()  # neither the folder nor the parent the run made
 
 
 def test_clips_from_di_needs_a_recording(tmp_path):
