@@ -37,6 +37,18 @@ class BiasClips:
     record: dict
 
 
+def setting_tags(settings) -> list[str]:
+    """One file-name tag per setting ("r0p500-9V"), with as many decimals as it takes to tell them apart.
+
+    Three decimals unless two settings agree to three (0.5 and 0.5004): then more, up to nine,
+    and past that the setting's place in the sweep.
+    """
+    for digits in range(3, 10):
+        tags = [f"r{s.ratio:.{digits}f}-{s.battery:.{digits + 3}g}V".replace(".", "p") for s in settings]  # at 3: the battery as :g
+        if len(set(tags)) == len(tags):
+            return tags
+    return [f"{t}-{k + 1}" for k, t in enumerate(tags)]
+
 def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
     """Refuse a pluck strength outside 0..50 mm or with a recording; warn beyond realistic playing and far below it."""
     if strength_m is None:
@@ -119,8 +131,7 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
         peaks = [true_peak_dbtp(x) if lufs is not None else None for x, lufs in zip(renders, loud)]  # a silent clip has no matched copy
         gains, lowered = ceiling_gains(loud, peaks, target_lufs=target_lufs)
         clips = []
-        for s, x, lufs, gain_db in zip(sweep.settings, renders, loud, gains):
-            tag = f"r{s.ratio:.3f}-{s.battery:g}V".replace(".", "p")
+        for x, lufs, gain_db, tag in zip(renders, loud, gains, setting_tags(sweep.settings)):
             write_float_wav(out / f"{stem}-{tag}.wav", x / vfs, st.sample_rate, overwrite=True)
             if gain_db is not None:
                 write_float_wav(out / f"{stem}-{tag}-matched.wav", x * 10 ** (gain_db / 20), st.sample_rate, overwrite=True)
