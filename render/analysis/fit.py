@@ -658,9 +658,27 @@ def conflicts(spec: FitSpec, ev: Evaluator) -> str:
     for j, a in enumerate(spec.aims):
         col = written[:, j][~np.isnan(written[:, j])]
         if not held[:, j].any() and col.size:
-            parts.append(f"{a.describe()} (on the series the search reached {col.min():.4g} to {col.max():.4g})")
+            parts.append(f"{a.describe()} (on the series the search reached {_reached(a.figure, col)})")
     missed = f": {'; '.join(parts)}" if parts else ""
-    return f'every aim held together only between the series\' values, at none the search tried on them{missed}; try a finer series (E24, E48, E96) or series = "none"'
+    return f"every aim held together only between the series' values, at none the search tried on them{missed}; {_finer(spec)}"
+
+
+def _reached(figure: str, col: np.ndarray) -> str:
+    """The figures tried as "a to b", an exact hum balance (scored as REJECTION_CAP_DB) in words."""
+
+    def show(v: float) -> str:
+        return "infinite (an exact balance)" if figure == "hum_rejection_db" and v >= REJECTION_CAP_DB else f"{v:.4g}"
+
+    return f"{show(col.min())} to {show(col.max())}"
+
+
+def _finer(spec: FitSpec) -> str:
+    """The advice after a miss between a series' values: the series finer than the coarsest in use, or none."""
+    order = list(SERIES)
+    used = [order.index(f.series) for f in spec.free if f.series in order]
+    finer = order[min(used) + 1 :] if used else order
+    offer = f"try a finer series ({', '.join(finer)}) or " if finer else "try "
+    return offer + 'series = "none" (a continuous value)'
 
 
 def _conflicts(spec: FitSpec, fig: np.ndarray) -> str:
@@ -678,9 +696,9 @@ def _conflicts(spec: FitSpec, fig: np.ndarray) -> str:
                 continue
             if sub is not None and np.any(col == sub):
                 col = col[col != sub]
-                parts.append(f"{a.describe()} (the search reached {col.min():.4g} to {col.max():.4g}; some designs it tried have {none})")
+                parts.append(f"{a.describe()} (the search reached {_reached(a.figure, col)}; some designs it tried have {none})")
                 continue
-            parts.append(f"{a.describe()} (the search reached {col.min():.4g} to {col.max():.4g})")
+            parts.append(f"{a.describe()} (the search reached {_reached(a.figure, col)})")
         return "out of reach with these free parts and ranges: " + "; ".join(parts)
     pairs = []
     for i in range(len(spec.aims)):

@@ -49,6 +49,7 @@ def setting_tags(settings) -> list[str]:
             return tags
     return [f"{t}-{k + 1}" for k, t in enumerate(tags)]
 
+
 def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
     """Refuse a pluck strength outside 0..50 mm or with a recording; warn beyond realistic playing and far below it."""
     if strength_m is None:
