@@ -83,12 +83,14 @@ def velocity_to_amp_output(design, frequency_hz: float) -> float:
 
 
 def _refuse_silent(design) -> None:
-    """Refuse a design whose coils cancel the string signal exactly: no string velocity reaches a limit."""
+    """Refuse a design with no signal at the amp input: the volume at 0, or coils that cancel the string signal exactly."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
     from ..errors import InputError
     from .figures import signal_cancels
 
+    if design.rig.volume <= 0.0:  # decided by the setting (the circuit keeps the pot's end-stop resistor), as everywhere
+        raise InputError(f"{design.source}: the rig's volume is 0, so no signal reaches the amp input where the clipping is measured; set [rig] volume above 0 (1 is full up)")
     silent, _ = signal_cancels(responses(from_designs([design])), [SINE_HZ])
     if silent[0]:
         raise InputError(

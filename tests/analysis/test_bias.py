@@ -241,3 +241,14 @@ def test_a_sine_that_never_leaves_the_limit_has_no_distortion_figures(tmp_path):
     assert sine["h1_v"] < 1e-6 and sine["thd_percent"] is None and sine["thd_percent_reason"] == NO_OUTPUT and sine["h2_db"] is None
     line = next(x for x in res.output.splitlines() if x.strip().startswith("ratio 0.05"))
     assert line.count("no output") == 3 and "nan" not in line
+
+
+def test_volume_at_zero_is_refused_before_any_work(tmp_path):
+    # at volume 0 the pot's wiper sits on its ground end (a 1 mΩ stand-in in the circuit): the amp input, where
+    # render bias measures, gets no signal, so its THD would describe the end stop; refused by the setting
+    rig = tmp_path / "v0.toml"
+    rig.write_text("[rig]\nvolume = 0\n")
+    out = tmp_path / "b"
+    res = CliRunner().invoke(main, ["bias", str(REF), "--ratios", "0.5", "--rig", str(rig), "--seconds", "1", "--out", str(out)])
+    assert res.exit_code == 1 and "volume is 0" in res.output and "set [rig] volume above 0" in res.output
+    assert len(res.output.strip().splitlines()) == 1 and not out.exists()
