@@ -19,5 +19,6 @@ def test_close_ratios_get_more_decimals():
 
 
 def test_settings_equal_to_nine_decimals_are_numbered():
+    # 0.5 and 0.5 + 1e-12 agree to nine decimals (arithmetic), so only their place in the sweep tells them apart
     tags = setting_tags([S(ratio=0.5, battery=9.0), S(ratio=0.5 + 1e-12, battery=9.0)])
     assert len(set(tags)) == 2 and tags[0].endswith("-1") and tags[1].endswith("-2")

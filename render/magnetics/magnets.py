@@ -45,7 +45,6 @@ come where the bar, with its steel, stays just above the knee.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 from scipy.constants import mu_0
@@ -79,40 +78,17 @@ COERCIVITY = {"alnico2": 45e3, "alnico5": 50e3}
 KNEE_SHARE = 0.5
 
 
-def demagnetising_factor(a: float, b: float, c: float) -> float:
-    """The magnetometric demagnetising factor along c of a rectangular prism of half sides a, b, c (any unit).
-
-    Aharoni, "Demagnetizing factors for rectangular ferromagnetic prisms", J. Appl. Phys. 83, 3432 (1998), eq. (1):
-    the volume average of the field of a uniform magnetisation along c, over −M; a cube gives 1/3.
-    """
-    r = math.sqrt(a * a + b * b + c * c)
-    ab, bc, ac = math.hypot(a, b), math.hypot(b, c), math.hypot(a, c)
-    abc = a * b * c
-    t = (
-        (b * b - c * c) / (2 * b * c) * math.log((r - a) / (r + a))
-        + (a * a - c * c) / (2 * a * c) * math.log((r - b) / (r + b))
-        + b / (2 * c) * math.log((ab + a) / (ab - a))
-        + a / (2 * c) * math.log((ab + b) / (ab - b))
-        + c / (2 * a) * math.log((bc - b) / (bc + b))
-        + c / (2 * b) * math.log((ac - a) / (ac + a))
-        + 2 * math.atan(a * b / (c * r))
-        + (a**3 + b**3 - 2 * c**3) / (3 * abc)
-        + (a * a + b * b - 2 * c * c) / (3 * abc) * r
-        + c / (a * b) * (ac + bc)
-        - (ab**3 + bc**3 + ac**3) / (3 * abc)
-    )
-    return t / math.pi
-
-
 def working_field(size: tuple, axis: int, remanence: float, recoil_permeability: float) -> float:
     """|H| (A/m) inside a free magnet block on its straight recoil line, magnetised along ``axis`` (0 x, 1 y, 2 z).
 
     size : (x, y, z), m. On the line J = B_r + (µ_rec − 1)·µ0·H with H = −N·J/µ0 (N from
-    :func:`demagnetising_factor`): |H| = N·B_r / (µ0·(1 + N·(µ_rec − 1))).
+    :func:`render.impedance.eddy.prism_demagnetising_factor`, Aharoni 1998): |H| = N·B_r / (µ0·(1 + N·(µ_rec − 1))).
     """
-    half = [s / 2.0 for s in size]
-    along = half.pop(axis)
-    n = demagnetising_factor(half[0], half[1], along)
+    from ..impedance.eddy import prism_demagnetising_factor
+
+    sides = list(size)
+    along = sides.pop(axis)
+    n = prism_demagnetising_factor(sides[0], sides[1], along)
     return n * remanence / (mu_0 * (1.0 + n * (recoil_permeability - 1.0)))
 
 
