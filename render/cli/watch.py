@@ -47,20 +47,21 @@ def watch_command(models, dry_path, rig_path, seconds, sample_rate, hum, seed, p
     run = WatchRun(models, dry=dry_path, rig=rig_path, settings=settings)
     server = LiveServer(run.board, page=run.page(), port=port)  # the port is refused before any render
     try:
-        for line in run.start().lines:
+        for line in run.start().lines:  # a stop before the page is served is a stopped run: "Aborted!", exit 1
             say(line)
         server.start_thread()
         click.echo(f"serving the comparison page at {server.url}")
-        click.echo(f"  watching {len(run.files)} files; Ctrl-C stops")
-        click.echo(f"  {CAUTION}")
-        if not no_browser:
-            import webbrowser
+        try:
+            click.echo(f"  watching {len(run.files)} files; Ctrl-C stops")
+            click.echo(f"  {CAUTION}")
+            if not no_browser:
+                import webbrowser
 
-            if not webbrowser.open(server.url):
-                click.echo("  (no browser could be opened: open the address yourself)")
-        follow_changes(run, notify=say)
-    except KeyboardInterrupt:
-        pass
+                if not webbrowser.open(server.url):
+                    click.echo("  (no browser could be opened: open the address yourself)")
+            follow_changes(run, notify=say)
+        except KeyboardInterrupt:
+            pass  # the page was served: stopping is how watch ends (exit 0, as render listen)
     finally:
         server.stop()
     click.echo("stopped")

@@ -306,8 +306,14 @@ class WatchRun:
                 continue
             try:
                 design = self._load_design(slot)
-                if not everything and slot.error is None and replace(design, sha256="") == replace(slot.design, sha256=""):
-                    lines.append(f"{slot.path}: saved; no value changed, version {slot.now.number if slot.now else 0} plays on")
+                if not everything and replace(design, sha256="") == replace(slot.design, sha256=""):
+                    # the last good design again (a broken save put back, or a comment): its render plays on and
+                    # the one before it stays "before"; a new version here would push that out of the pair
+                    mended = slot.error is not None
+                    slot.error = None
+                    self._input_sha.update(_read_files(design))
+                    said = "loads again, as version" if mended else "saved; no value changed, version"
+                    lines.append(f"{slot.path}: {said} {slot.now.number if slot.now else 0} plays on")
                     continue
                 t = time.perf_counter()
                 volts, page_clip, m = self._render(design)

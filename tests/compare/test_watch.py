@@ -13,6 +13,7 @@ import contextlib
 import http.client
 import io
 import json
+import os
 import re
 import signal
 import threading
@@ -143,6 +144,30 @@ def test_a_broken_save_shows_its_line_and_keeps_the_last_good_clip(run, inputs):
     assert json.loads(run.board.state())["problems"] == []
 
 
+def test_a_broken_save_put_back_keeps_the_pair_before_and_after(run, inputs):
+    # project rule, no outside source (README: B flips between the latest version and the one before): a save that
+    # does not load, then the file put back as it was, is no new version; the render before the last good one
+    # stays "before", and a real change after it makes the last good one "before"
+    set_value(inputs["studio-reference"], "load_c", "2.2nF")
+    run.refresh([inputs["studio-reference"]])
+    slot = run.slots[0]
+    first, good = slot.before, slot.now
+    assert (first.number, good.number) == (1, 2)
+    text = inputs["studio-reference"].read_text(encoding="utf-8")
+    inputs["studio-reference"].write_text(text.replace("[feedback]", "[feedbak]"), encoding="utf-8")
+    assert run.refresh([inputs["studio-reference"]]).problems
+    inputs["studio-reference"].write_text(text, encoding="utf-8")
+    done = run.refresh([inputs["studio-reference"]])
+    assert done.rendered == () and done.problems == () and slot.error is None
+    assert slot.before is first and slot.now is good and "loads again, as version 2 plays on" in done.lines[0]
+    state = json.loads(run.board.state())
+    assert state["problems"] == [] and state["designs"][0]["clip"] == "/clip/0-2.wav" and state["designs"][0]["before"]["clip"] == "/clip/0-1.wav"
+    set_value(inputs["studio-reference"], "load_c", "1.5nF")
+    done = run.refresh([inputs["studio-reference"]])
+    assert done.rendered == ("studio-reference",) and slot.before is good and slot.now.number == 3
+    assert slot.changes == [("input_a.load_c", "2.2 nF", "1.5 nF")]
+
+
 def _get(server: LiveServer, path: str, host: str | None = None, method: str = "GET"):
     conn = http.client.HTTPConnection("127.0.0.1", server.port, timeout=30)
     try:
@@ -270,6 +295,58 @@ def test_a_stopped_watch_leaves_no_process(inputs, sig, way):
             _kill_group(proc.pid)
     assert not left, f"`render watch` still alive {GRACE_S} s after {sig.name} to the {way}"
     assert code == 0 and "Traceback" not in err, (code, err)
+
+
+def test_a_watch_stopped_in_its_first_render_exits_as_a_stopped_run(inputs):
+    # project rule, no outside source (README: "Stopping a run"): a run stopped before it is done says "Aborted!"
+    # and exits 1, as render clips does (tests/robustness/test_stops.py); watch has served nothing yet, so it has
+    # not begun its watching, which only a stop ends (exit 0). A phrase long enough that its first render is
+    # still going a moment after the start; stopped by SIGTERM to the parent as a supervisor does
+    from tests.robustness.test_stops import GRACE_S, _kill_group, _start, _stop_and_watch
+
+    proc = _start(["watch", inputs["studio-reference"], inputs["ember-dark"], "--dry", inputs["phrase"], "--seconds", "60", "--no-browser", "--port", "0"])
+    try:
+        _wait(lambda: _rendering(proc.pid), 60.0)
+        assert _rendering(proc.pid), "render watch did not reach its first render within 60 s"
+        left, code, err = _stop_and_watch(proc, signal.SIGTERM, "parent")
+    finally:
+        with contextlib.suppress(Exception):
+            _kill_group(proc.pid)
+    assert not left, f"`render watch` still alive {GRACE_S} s after SIGTERM"
+    assert code == 1 and "Aborted!" in err and "Traceback" not in err, (code, err)
+    assert sorted(p.name for p in inputs["phrase"].parent.iterdir()) == sorted(p.name for p in inputs.values())  # nothing written beside the inputs
+
+
+def _rendering(pid: int) -> bool:
+    """Whether the watch process has bound its port (a socket among its open files): the command binds it just
+    before the first render, so that render is then under way (it takes seconds for a 60 s phrase)."""
+    fds = Path(f"/proc/{pid}/fd")
+    try:
+        return any(os.readlink(fd).startswith("socket:") for fd in fds.iterdir())
+    except OSError:
+        return False
+
+
+def test_a_stop_in_the_first_render_is_a_stopped_run_in_process(inputs, monkeypatch):
+    # the same contract as above, without timing: the first render raises KeyboardInterrupt (what Ctrl-C, or the
+    # SIGTERM and SIGHUP the command turns into one, does), and the command reports a stopped run and frees its port
+    from render.cli import main
+
+    bound = []
+    original = LiveServer.__init__
+
+    def spy(self, *args, **kwargs):
+        original(self, *args, **kwargs)
+        bound.append(self)
+
+    def stopped(self):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(LiveServer, "__init__", spy)
+    monkeypatch.setattr(WatchRun, "start", stopped)
+    res = CliRunner().invoke(main, ["watch", str(inputs["studio-reference"]), "--dry", str(inputs["phrase"]), "--no-browser"])
+    assert res.exit_code == 1 and "Aborted!" in res.output and "serving" not in res.output, res.output
+    assert len(bound) == 1 and bound[0].socket.fileno() == -1  # its socket closed
 
 
 def test_the_watch_page_carries_the_figures_render_clips_gives_the_same_designs(run, inputs, tmp_path):
