@@ -17,7 +17,7 @@ from ..report.brightness import COLUMNS as BRIGHTNESS_COLUMNS
 from ..report.brightness import NOTE as BRIGHTNESS_NOTE
 from ..report.clips import LEVELS_NOTE
 from .assets import PAGE_SECONDS
-from .page import PageClip, PageText, design_values, response_curves, write_page
+from .page import PageClip, PageText, design_numbers, design_values, response_curves, write_page
 
 CLIPS_COLUMNS = ("resonance", "Q", "level at 1 kHz", "vs passive", "hum rejection", "bias", "headroom up / down", "peak at amp input", "loudness (1 V full scale)", "limited", *BRIGHTNESS_COLUMNS)
 CLIPS_MATCHED_COLUMN = len(CLIPS_COLUMNS) - 1  # the loudness-matched brightness column, which the page fills against its reference
@@ -103,6 +103,7 @@ def write_clips_page(
                 loudness_lufs_1v_full_scale=m["loudness_lufs_1v_full_scale"],
                 cells=clips_cells(m),
                 values=design_values(design),
+                numbers=design_numbers(design),
                 file=str(rec["design_file"]),
                 full_samples=n,
                 warnings=tuple(rec.get("warnings", ())),
@@ -153,6 +154,7 @@ def compare_clip(folder: Path, p, rec: dict, *, volts_full_scale: float) -> Page
         loudness_lufs_1v_full_scale=rec["loudness_lufs_1v_full_scale"],
         cells=compare_cells(rec["measurements"]),
         values=tuple(v for v in design_values(carrier(p)) if v[0].startswith(own)),
+        numbers=tuple(v for v in design_numbers(carrier(p)) if v[0].startswith(own)),
         file=str(p.source),
         full_samples=n,
         response=(f, 20 * np.log10(np.maximum(np.abs(h), 1e-30))),
@@ -214,6 +216,7 @@ def write_bias_page(
                 loudness_lufs_1v_full_scale=clip["loudness_lufs_1v_full_scale"],
                 cells=bias_cells(row, clip),
                 values=design_values(s.design),
+                numbers=design_numbers(s.design),
                 file=str(sweep.design.source),
                 response=resp,
                 passive=passive,

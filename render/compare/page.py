@@ -70,6 +70,9 @@ class PageClip:
     band_power_db : tuple of (float or None), dB re (1 V per m/s)²
         The response's level in each of the page's bands (:func:`render.analysis.brightness.band_power_db`),
         from which the page takes loudness-matched differences against whichever clip is its reference.
+    numbers : tuple of (str, number, list, dict or None)
+        The same keys as ``values``, each as its number (:func:`design_numbers`): the page tells the values
+        that differ from the reference's by these, within :data:`VALUE_RTOL`, not by the figures shown.
     """
 
     key: str
@@ -86,6 +89,7 @@ class PageClip:
     passive: tuple[np.ndarray, np.ndarray] | None = None
     role: str = "design"
     band_power_db: tuple[float | None, ...] = ()
+    numbers: tuple[tuple[str, Any], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -153,6 +157,7 @@ def design_assets(clip: PageClip) -> DesignAssets:
         "full_seconds": _r(copy.full_seconds, 4),
         "cells": list(clip.cells),
         "values": [list(v) for v in clip.values],
+        "numbers": [[k, n] for k, n in clip.numbers],
         "warnings": list(clip.warnings),
         "spectrum": _curve(f, db),
         "response": _curve(*clip.response) if clip.response is not None else None,
@@ -195,7 +200,8 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         raise InputError(f"the clips on one page must share a sample rate, not {sorted(rates)} Hz")
     from ..parallel import pmap
 
-    clips = [replace(c, values=v) for c, v in zip(clips, aligned_values([c.values for c in clips]))]  # one key set: each pair compares key by key
+    values, numbers = aligned_values([c.values for c in clips]), aligned_values([c.numbers for c in clips], absent=None)
+    clips = [replace(c, values=v, numbers=n) for c, v, n in zip(clips, values, numbers)]  # one key set: each pair compares key by key
     made = pmap(design_assets, clips, jobs)
     top = strip_top_db([m.levels for m in made])
     designs = [finish_entry(m, top_db=top) for m in made]
@@ -212,6 +218,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         "page_seconds": float(PAGE_SECONDS),
         "bits": 16,
         "strip_top_db": top,
+        "values_rtol": VALUE_RTOL,
         "live": bool(live),
         "reference": text.reference if 0 <= text.reference < len(clips) else 0,
         "designs": designs,
@@ -295,6 +302,10 @@ def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tup
 
 SKIPPED_VALUES = ("name", "notes", "source", "sha256")
 ABSENT = "absent"  # how the page shows a value a design does not have
+# Two numbers of the values table are the same when they differ by at most this fraction of the larger: the same
+# text in two design files gives the same double, and a rig's arithmetic may move the last bits (1e-16); a part's
+# tolerance is 1e-3 or more (common practice, no source). The page shows four figures, but compares these.
+VALUE_RTOL = 1e-9
 
 
 def _value_rows(design):
@@ -336,6 +347,22 @@ def design_values(design, *, digits: int = 4) -> tuple[tuple[str, str], ...]:
         return str(value)
 
     return tuple((k, show(spec, v)) for k, spec, v in _value_rows(design))
+
+
+def design_numbers(design) -> tuple[tuple[str, Any], ...]:
+    """A design's values on the keys of :func:`design_values` as JSON numbers, SI units (lists and tables of them
+    likewise); None for a value that is no number (a name, a switch), which the page compares as shown."""
+
+    def number(v):
+        if isinstance(v, dict):
+            return {k: number(x) for k, x in v.items() if x is not None}
+        if isinstance(v, list):
+            return [number(x) for x in v]
+        if isinstance(v, (int, float)) and not isinstance(v, bool) and np.isfinite(v):
+            return float(v)
+        return None
+
+    return tuple((k, number(v)) for k, _, v in _value_rows(design))
 
 
 def exact_values(design) -> tuple[tuple[str, Any], ...]:

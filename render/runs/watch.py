@@ -197,7 +197,7 @@ class WatchRun:
         from ..analysis.brightness import band_power_rows
         from ..chain.stream import default_oversample, design_resampler
         from ..compare.folders import clips_cells
-        from ..compare.page import PageClip, design_values, response_curves
+        from ..compare.page import PageClip, design_numbers, design_values, response_curves
         from ..report.records import measurements
         from .clips import render_design
 
@@ -216,6 +216,7 @@ class WatchRun:
             loudness_lufs_1v_full_scale=clip.stats["loudness_lufs_1v_full_scale"],
             cells=clips_cells(m),
             values=design_values(design),
+            numbers=design_numbers(design),
             file=design.source,
             warnings=tuple(clip.warnings),
             response=resp,
@@ -347,7 +348,7 @@ class WatchRun:
         """The page's state (JSON-ready, without its version) and the clips it names (name -> WAV bytes)."""
         from ..compare.assets import PAGE_SECONDS
         from ..compare.folders import CLIPS_COLUMNS, CLIPS_MATCHED_COLUMN, CLIPS_NOTES, clips_cells
-        from ..compare.page import aligned_values
+        from ..compare.page import VALUE_RTOL, aligned_values
         from ..report.brightness import add_brightness
 
         slots = [(i, s, s.now) for i, s in enumerate(self.slots) if s.now is not None]
@@ -358,13 +359,14 @@ class WatchRun:
             add_brightness(records, [v.design for v in shown_versions], reference=0)  # the figures render clips gives the same designs
         cells = {id(v): clips_cells(r["measurements"]) for v, r in zip(shown_versions, records)}
         values = {id(v): vals for v, vals in zip(shown_versions, aligned_values([v.entry["values"] for v in shown_versions]))}  # one key set
+        numbers = {id(v): ns for v, ns in zip(shown_versions, aligned_values([v.entry["numbers"] for v in shown_versions], absent=None))}
         designs, clips = [], {}
         for i, slot, now in slots:
 
             def shown(v: _Version, i=i) -> dict:
                 name = f"{i}-{v.number}.wav"
                 clips[name] = v.wav
-                extra = {"cells": list(cells[id(v)]), "values": [list(x) for x in values[id(v)]]}
+                extra = {"cells": list(cells[id(v)]), "values": [list(x) for x in values[id(v)]], "numbers": [list(x) for x in numbers[id(v)]]}
                 return {**v.entry, **extra, "clip": f"/clip/{name}", "version": v.number, "rendered_s": round(v.rendered_s, 3)}
 
             entry = shown(now)
@@ -392,6 +394,7 @@ class WatchRun:
             "page_seconds": PAGE_SECONDS,
             "bits": 16,
             "strip_top_db": self._top_db,
+            "values_rtol": VALUE_RTOL,
             "problems": self.problems(),
             "designs": designs,
         }

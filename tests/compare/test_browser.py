@@ -409,6 +409,38 @@ def test_values_only_the_reference_has_are_marked_either_way_round(chromium, tmp
     assert errors == []
 
 
+def test_values_are_told_apart_by_their_numbers_not_their_four_figures(chromium, tmp_path):
+    # project rule, no outside source: the table shows four figures but compares the numbers, within
+    # render.compare.page.VALUE_RTOL (1e-9 of the larger): 110.04k differs from 110k though both read "110 kΩ";
+    # 110.0000000001k (1e-12 apart, below the tolerance) does not
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    text = (ROOT / "models" / "studio-reference.toml").read_text(encoding="utf-8")
+    assert 'r = "110k"' in text
+    files = []
+    for stem, r in (("as-built", "110k"), ("four-figures", "110.04k"), ("last-bits", "110.0000000001k")):
+        files.append(tmp_path / f"{stem}.toml")
+        files[-1].write_text(text.replace('r = "110k"', f'r = "{r}"', 1), encoding="utf-8")
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", *map(str, files), "--seconds", "1", "--no-plots", "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+
+    def row(key):
+        rows = page.eval_on_selector_all(
+            "#values tbody tr", "rows => rows.map(r => [r.children[0].textContent, r.children[1].textContent, r.children[2].textContent, r.classList.contains('differs')])"
+        )
+        return {r[0]: r[1:] for r in rows}[key]
+
+    page.keyboard.press("2")
+    assert row("feedback.r") == ["110 k\u03a9", "110 k\u03a9", True] and page.get_attribute("#values", "data-differ") == "1"
+    page.keyboard.press("3")
+    assert row("feedback.r") == ["110 k\u03a9", "110 k\u03a9", False] and page.get_attribute("#values", "data-differ") == "0"
+    assert errors == []
+
+
 def test_watch_swaps_a_saved_clip_and_shows_a_broken_file(chromium, tmp_path):
     from render.clip import RenderSettings
     from render.compare.server import LiveServer

@@ -158,3 +158,25 @@ def test_a_change_is_told_from_the_exact_values():
     assert dict(design_values(d))["feedback.r"] == dict(design_values(e))["feedback.r"] == "110 kΩ"
     assert value_changes(d, e) == [("feedback.r", "110 kΩ", "110.04 kΩ")]
     assert value_changes(d, d) == []
+
+
+def test_the_page_carries_each_value_as_its_number(tmp_path):
+    # project rule, no outside source: beside the four figures shown, each value's number (SI units, as the design
+    # holds it) and the tolerance the page compares them within; 110.04k and 110k read alike but are different numbers
+    from render.compare.page import VALUE_RTOL, design_numbers, design_values
+    from render.design import load_design
+
+    text = REF.read_text(encoding="utf-8")
+    near = tmp_path / "near.toml"
+    near.write_text(text.replace('r = "110k"', 'r = "110.04k"', 1), encoding="utf-8")
+    a, b = load_design(REF), load_design(near)
+    assert dict(design_values(a))["feedback.r"] == dict(design_values(b))["feedback.r"]
+    assert dict(design_numbers(a))["feedback.r"] == 110e3 and dict(design_numbers(b))["feedback.r"] == 110.04e3
+    assert [k for k, _ in design_numbers(a)] == [k for k, _ in design_values(a)]
+    out = tmp_path / "run"
+    assert run("clips", REF, near, "--dry", DRY, "--seconds", 0.5, "--no-plots", "--out", out).exit_code == 0
+    data, _ = page_of(out)
+    assert data["values_rtol"] == VALUE_RTOL == 1e-9
+    for d in data["designs"]:
+        assert [k for k, _ in d["numbers"]] == [k for k, _ in d["values"]]
+    assert [dict(d["numbers"])["feedback.r"] for d in data["designs"]] == [110e3, 110.04e3]

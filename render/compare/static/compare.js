@@ -456,10 +456,13 @@
     // every key either design has (the run gives both one key set; a key only one has is "absent" in the other)
     const heardValues = new Map(h.values);
     const keys = h.values.map((kv) => kv[0]).concat(ref.values.map((kv) => kv[0]).filter((k) => !heardValues.has(k)));
+    const heardNumbers = new Map(h.numbers || []), refNumbers = new Map(ref.numbers || []);
     for (const k of keys) {
       const v = heardValues.has(k) ? heardValues.get(k) : "absent";
       const r = refValues.has(k) ? refValues.get(k) : "absent";
-      const diff = r !== v;
+      const a = heardNumbers.get(k), b = refNumbers.get(k);
+      // by the numbers where both are numbers (the figures shown are rounded to four), else as shown
+      const diff = numeric(a) && numeric(b) ? !sameNumbers(a, b, S.data.values_rtol || 0) : r !== v;
       if (diff) differ++;
       if (only && !diff) continue;
       const tr = tb.insertRow();
@@ -467,6 +470,22 @@
       for (const t of [k, v, r]) tr.insertCell().textContent = t;
     }
     table.dataset.differ = String(differ);
+  }
+
+  // a value's number (page.design_numbers): a number, or a list or table of them; null where it is no number
+  function numeric(x) {
+    if (typeof x === "number") return true;
+    if (Array.isArray(x)) return x.every(numeric);
+    return x !== null && typeof x === "object" && Object.values(x).every(numeric);
+  }
+
+  // equal within rtol of the larger (VALUE_RTOL in page.py), element by element for lists and tables
+  function sameNumbers(a, b, rtol) {
+    if (typeof a === "number" && typeof b === "number") return a === b || Math.abs(a - b) <= rtol * Math.max(Math.abs(a), Math.abs(b));
+    if (Array.isArray(a) || Array.isArray(b)) return Array.isArray(a) && Array.isArray(b) && a.length === b.length && a.every((x, i) => sameNumbers(x, b[i], rtol));
+    if (typeof a !== "object" || typeof b !== "object") return false;
+    const ka = Object.keys(a), kb = Object.keys(b);
+    return ka.length === kb.length && ka.every((k) => k in b && sameNumbers(a[k], b[k], rtol));
   }
 
   function buildRows() {
