@@ -31,6 +31,7 @@ from __future__ import annotations
 import base64
 import json
 import math
+import re
 import sys
 import threading
 import time
@@ -438,6 +439,88 @@ def test_values_are_told_apart_by_their_numbers_not_their_four_figures(chromium,
     assert row("feedback.r") == ["110 k\u03a9", "110 k\u03a9", True] and page.get_attribute("#values", "data-differ") == "1"
     page.keyboard.press("3")
     assert row("feedback.r") == ["110 k\u03a9", "110 k\u03a9", False] and page.get_attribute("#values", "data-differ") == "0"
+    assert errors == []
+
+
+RESTORE_WHILE_PARSING = """
+new MutationObserver((_, obs) => {
+  const v = document.getElementById("volume"), m = document.getElementById("matched");
+  if (v && m) { v.value = "0"; m.checked = false; obs.disconnect(); }  // as a browser's form restore does: no events
+}).observe(document, { childList: true, subtree: true });
+"""
+
+
+def heard_gain_db(page, actions, fs_clip, x):
+    """The gain (dB) at which the page plays ``x`` (the first design's volts) from the play key, in its own offline render."""
+    y, fs = render_offline(page, [*actions, {"at": 0.02, "key": " "}], 0.6)
+    assert fs == fs_clip
+    _, g = locate(y, x, int(0.15 * fs), int(0.55 * fs), range(-int(1.5 * fs), int(0.2 * fs)))  # it plays on from where the last render stopped
+    return 20 * math.log10(g)
+
+
+def test_the_controls_and_the_gain_agree_after_a_restore(chromium, clips_run):
+    # project rule (safety), no outside source: the page starts 20 dB down even when the browser puts an old slider
+    # position back while the page loads (simulated here as a form restore does it, without events), and when it is
+    # shown again from the back/forward cache (a pageshow event, persisted) what plays follows the controls as shown
+    out, _, volts = clips_run
+    html = (out / "index.html").read_text(encoding="utf-8")
+    for control in ("matched", "volume", "reference", "only-differ"):
+        assert re.search(rf'id="{control}"[^>]*autocomplete="off"', html), control
+    x = volts[MODELS[0]]
+    fs = 48000
+    page = chromium.new_page(viewport={"width": 1280, "height": 800})
+    errors: list[str] = []
+    page.on("pageerror", lambda exc: errors.append(str(exc)))
+    page.add_init_script(RESTORE_WHILE_PARSING)
+    page.goto((out / "index.html").as_uri())
+    page.wait_for_selector('body[data-phase="caution"]', state="attached", timeout=TIMEOUT_MS)
+    page.click("#begin")
+    page.wait_for_selector('body[data-phase="ready"]', state="attached", timeout=TIMEOUT_MS)
+    assert page.eval_on_selector("#volume", "e => e.value") == "-20" and page.eval_on_selector("#matched", "e => e.checked") is True
+    assert page.get_attribute("body", "data-volume") == "-20" and page.get_attribute("body", "data-matched") == "true"
+    start = heard_gain_db(page, [], fs, x)
+    full = heard_gain_db(page, [{"at": 0.01, "volume": 0}], fs, x)
+    assert start - full == pytest.approx(-20.0, abs=0.1)  # heard 20 dB down, as the slider shows
+    # back from the cache with the slider at -6 dB and the loudness match off: the sound follows them
+    page.evaluate("""() => {
+        document.getElementById("volume").value = "-6"; document.getElementById("matched").checked = false;
+        window.dispatchEvent(new PageTransitionEvent("pageshow", { persisted: true }));
+    }""")
+    assert page.get_attribute("body", "data-volume") == "-6" and page.get_attribute("body", "data-matched") == "false"
+    assert page.inner_text("#volume-db") == "\u22126 dB"
+    shown = heard_gain_db(page, [], fs, x)
+    full = heard_gain_db(page, [{"at": 0.01, "volume": 0}], fs, x)
+    assert shown - full == pytest.approx(-6.0, abs=0.1)
+    assert errors == []
+
+
+def test_space_on_a_focused_control_is_the_controls_and_a_held_key_acts_once(chromium, clips_run):
+    # project rule, no outside source: space plays and stops, but on a focused switch or button it only works that
+    # control; a key held down (auto-repeat, KeyboardEvent.repeat) acts once
+    out, _, _ = clips_run
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    playing = lambda: page.get_attribute("body", "data-playing")  # noqa: E731
+    page.focus("#matched")
+    page.keyboard.press(" ")
+    assert page.get_attribute("body", "data-matched") == "false" and playing() == "false"
+    page.focus('.row[data-index="2"] .pick')
+    page.keyboard.press(" ")
+    assert page.get_attribute("body", "data-picked") == "2" and playing() == "false"
+    page.evaluate("document.activeElement.blur()")
+    page.keyboard.down(" ")
+    assert playing() == "true"
+    for _ in range(3):  # held: the browser repeats the key
+        page.evaluate("document.dispatchEvent(new KeyboardEvent('keydown', { key: ' ', repeat: true, bubbles: true }))")
+        page.keyboard.down(" ")  # Playwright sends a second press of a held key as a repeat
+    assert playing() == "true"
+    page.keyboard.up(" ")
+    page.keyboard.press(" ")
+    assert playing() == "false"
+    page.focus("#volume")  # the slider does nothing with space: there it still plays
+    page.keyboard.press(" ")
+    assert playing() == "true"
+    page.keyboard.press(" ")
+    assert playing() == "false" and page.get_attribute("body", "data-volume") == "-20"
     assert errors == []
 
 

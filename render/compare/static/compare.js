@@ -15,9 +15,10 @@
   const FADE_S = 0.012; // the crossfade of a switch, s
   const LEAD_S = 0.025; // changes are scheduled this far ahead of the audio clock, s
   const SVG = "http://www.w3.org/2000/svg";
+  const START_VOLUME_DB = -20; // the page starts this far down, whatever a browser put back in the slider (the caution says so)
   const S = {
     data: null, ctx: null, player: null, buffers: new Map(), duration: 0,
-    picked: 0, useBefore: false, matched: true, reference: 0, volumeDb: -20,
+    picked: 0, useBefore: false, matched: true, reference: 0, volumeDb: START_VOLUME_DB,
     swaps: 0, drag: null, started: false,
   };
 
@@ -698,6 +699,33 @@
     body.dataset.volume = String(S.volumeDb);
   }
 
+  // The controls and what is heard agree at all times. At the start the page sets its controls (20 dB down, loudness
+  // matched) over anything a browser restored into them; whenever it is shown again (Back and Forward: the page from
+  // the back/forward cache, or a form filled in again) it takes its state from the controls as they stand. The
+  // controls also say autocomplete="off", so that browsers do not restore them at all.
+  function resetControls() {
+    el("volume").value = String(START_VOLUME_DB);
+    el("matched").checked = true;
+    el("only-differ").checked = false;
+  }
+
+  function readControls() {
+    S.matched = el("matched").checked;
+    setVolume();
+    body.dataset.matched = String(S.matched);
+    if (!S.data || !S.player || !entries().length) return;
+    const r = Number(el("reference").value);
+    if (Number.isInteger(r) && r >= 0 && r < entries().length) S.reference = r; else el("reference").value = String(S.reference);
+    buildRows(); refreshLevels(); drawHeard();
+  }
+
+  // space is the play key, but a focused control that acts on space itself (a button, a switch, a list) keeps it
+  function keepsSpace(t) {
+    const tag = t.tagName;
+    if (tag === "BUTTON" || tag === "SELECT" || tag === "SUMMARY" || (tag === "A" && t.hasAttribute("href"))) return true;
+    return tag === "INPUT" && t.type !== "range";
+  }
+
   function wire() {
     el("begin").addEventListener("click", begin);
     el("play").addEventListener("click", () => { togglePlay(); el("play").blur(); });
@@ -707,21 +735,28 @@
     el("reference").addEventListener("change", () => { S.reference = Number(el("reference").value); buildRows(); refreshLevels(); drawHeard(); });
     el("only-differ").addEventListener("change", drawValues);
     wireDrag(el("timeline"), null);
+    // each key does one thing: the page's action (once: a key held down and repeating does nothing more), its
+    // default prevented; or, on a focused control that keeps it, the control's own
     let handled = false;
     document.addEventListener("keydown", (ev) => {
       handled = false;
       const t = ev.target || {};
-      if (t.tagName === "SELECT" || t.tagName === "TEXTAREA" || (t.tagName === "INPUT" && t.type !== "checkbox" && t.type !== "range")) return;
+      if (t.tagName === "SELECT" || t.tagName === "TEXTAREA" || t.isContentEditable || (t.tagName === "INPUT" && t.type !== "checkbox" && t.type !== "range")) return;
       if (ev.ctrlKey || ev.metaKey || ev.altKey || body.dataset.phase !== "ready") return;
+      let action = null;
       if (/^[0-9]$/.test(ev.key)) {
         const i = ev.key === "0" ? 9 : Number(ev.key) - 1;
-        if (i < entries().length && entries()[i].role !== "compare") { pickDesign(i); handled = true; }
-      } else if (ev.key.toLowerCase() === COMPARE_KEY && compareIndex() >= 0) { pickDesign(compareIndex()); handled = true; }
-      else if (ev.key === " ") { togglePlay(); handled = true; }
-      else if ((ev.key === "b" || ev.key === "B") && S.data.live) { flipBefore(); handled = true; }
-      if (handled) ev.preventDefault();
+        if (i < entries().length && entries()[i].role !== "compare") action = () => pickDesign(i);
+      } else if (ev.key.toLowerCase() === COMPARE_KEY && compareIndex() >= 0) action = () => pickDesign(compareIndex());
+      else if (ev.key === " " && !keepsSpace(t)) action = togglePlay;
+      else if ((ev.key === "b" || ev.key === "B") && S.data.live) action = flipBefore;
+      if (!action) return;
+      handled = true;
+      ev.preventDefault();
+      if (!ev.repeat) action();
     });
     document.addEventListener("keyup", (ev) => { if (handled && ev.key === " ") ev.preventDefault(); });
+    window.addEventListener("pageshow", readControls);
     window.addEventListener("resize", () => { if (S.data && S.buffers.size) drawWave(); });
   }
 
@@ -836,7 +871,8 @@
     let data;
     try { data = JSON.parse(el("page-data").textContent); } catch (e) { fail("The page's data could not be read (" + e.message + ")."); return; }
     wire();
-    setVolume();
+    resetControls();
+    readControls();
     if (data.live) {
       try {
         const r = await fetch("/api/state", { cache: "no-store" });
