@@ -132,7 +132,8 @@ def test_switching_keeps_the_playhead_and_matches_loudness_from_the_json(chromiu
     # play from the start, then keys 2, 3, 4 and 1, at full volume; the clip repeats after 2 s
     switches = [(0.55, "2"), (1.05, "3"), (1.55, "4"), (2.30, "1")]
     y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}] + [{"at": t, "key": k} for t, k in switches], 2.8)
-    windows = [(0.10, 0.50, 0), (0.65, 1.00, 1), (1.15, 1.50, 2), (1.65, 2.25, 3), (2.40, 2.78, 0)]
+    # (the fourth window ends before the wrap: there the whole clip's ends fade, 12 ms each, which x here does not)
+    windows = [(0.10, 0.50, 0), (0.65, 1.00, 1), (1.15, 1.50, 2), (1.65, 2.02, 3), (2.40, 2.78, 0)]
     first = None
     gains = {}
     for a, b, d in windows:
@@ -245,6 +246,70 @@ def test_a_dragged_stretch_repeats_at_the_same_playhead(chromium, clips_run):
     assert abs((lag2 - lag1) - round((b_s - a_s) * fs)) <= 1  # the stretch's length, to the sample
     start = int(np.ceil(0.02 * fs / 128) * 128)  # the play key's render quantum
     assert abs((start - lag1) / fs - a_s) < 0.04  # it starts at the stretch (within the scheduling lead)
+    assert errors == []
+
+
+CROSSFADE_S = 0.012  # the page's switch and wrap crossfade (README: "with a 12 ms crossfade"); project rule, no outside source
+
+
+def looped(x, a, b, n):
+    """The stretch x[a:b] as the page loops it: its last n samples fade out (linearly) as the n before a fade in."""
+    w = (np.arange(n) + 0.5) / n
+    y = x[a:b].copy()
+    y[-n:] = y[-n:] * (1 - w) + (x[a - n : a] * w if a >= n else 0.0)
+    if a < n:
+        y[:n] *= w
+    return y
+
+
+def test_a_repeat_wraps_with_the_switchs_12_ms_crossfade(chromium, clips_run):
+    # project rule, no outside source: a repeated stretch runs from its end into its start as a switch does, with a
+    # 12 ms linear crossfade (into the 12 ms of clip before the start, so that it runs into the start as the clip
+    # does), its period still the stretch's; without it, the wrap jumps between two unrelated samples: a click
+    out, _, volts = clips_run
+    x = volts[MODELS[0]]
+    fs = 48000
+    n = round(CROSSFADE_S * fs)
+    a = int(0.5 * fs)
+    ends = np.arange(int(0.95 * fs), int(1.05 * fs))
+    b = int(ends[np.argmax(np.abs(x[ends - 1] - x[a]))])  # the end whose jump back to a would be the largest
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    y, rate = render_offline(page, [{"at": 0.005, "volume": 0}, {"at": 0.01, "span": [a / fs, b / fs]}, {"at": 0.02, "key": " "}], 1.3)
+    assert rate == fs
+    lag, g = locate(y, x, int(0.1 * fs), int(0.4 * fs), range(int(0.02 * fs) - a, int(0.1 * fs) - a))
+    s0, period = lag + a, b - a  # the output sample that plays x[a]; the stretch's length
+    assert period > 2 * n and s0 + 2 * period + n < y.size
+    m = np.arange(s0 + int(0.1 * fs), s0 + 2 * period + n // 2)  # through two wraps
+    want = {k: g * looped(x, a, b, k)[(m - s0) % period] for k in (n, n // 2, 2 * n)}
+    jump = g * np.concatenate([x[a:b]] * 3)[m - s0]  # no crossfade: the plain loop
+    err = {k: np.max(np.abs(y[m] - w)) for k, w in want.items()}
+    err_jump = np.max(np.abs(y[m] - jump))
+    scale = np.max(np.abs(y[m]))
+    assert err[n] < 2e-3 * scale, (err, scale)  # the 12 ms crossfade, within the 16-bit copy's dither
+    assert min(err[n // 2], err[2 * n], err_jump) > 10 * err[n], (err, err_jump)  # not 6 ms, not 24 ms, not none
+    # and no click: the steps across each wrap are no larger than the clip's own steps
+    wraps = [s0 + period, s0 + 2 * period]
+    steps = np.abs(np.diff(y[m[0] : m[-1]]))
+    assert max(abs(y[w] - y[w - 1]) for w in wraps) <= np.max(steps[: period // 2])
+    assert g * abs(x[a] - x[b - 1]) > 2 * np.max(steps[: period // 2])  # which the plain loop's jump is not
+    assert errors == []
+
+
+def test_the_whole_clip_wraps_through_a_12_ms_fade(chromium, clips_run):
+    # project rule, no outside source: the whole clip has no clip before its start to fade into: its last 12 ms
+    # fade out and its first 12 ms fade in, so its wrap too is no jump
+    out, _, volts = clips_run
+    x = volts[MODELS[1]]
+    fs = 48000
+    n = round(CROSSFADE_S * fs)
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    y, _ = render_offline(page, [{"at": 0.005, "volume": 0}, {"at": 0.01, "key": "2"}, {"at": 0.02, "key": " "}], SECONDS + 0.5)
+    lag, g = locate(y, x, int(0.2 * fs), int(0.6 * fs), range(0, int(0.2 * fs)))
+    m = np.arange(lag + x.size - int(0.1 * fs), lag + x.size + int(0.1 * fs))
+    want = g * looped(x, 0, x.size, n)[(m - lag) % x.size]
+    err = np.max(np.abs(y[m] - want))
+    assert err < 2e-3 * np.max(np.abs(y[m])), err
+    assert np.max(np.abs(y[m] - g * x[(m - lag) % x.size])) > 10 * err or abs(x[0] - x[-1]) == 0
     assert errors == []
 
 
@@ -451,10 +516,13 @@ new MutationObserver((_, obs) => {
 
 
 def heard_gain_db(page, actions, fs_clip, x):
-    """The gain (dB) at which the page plays ``x`` (the first design's volts) from the play key, in its own offline render."""
+    """The gain (dB) at which the page plays ``x`` (the first design's volts) from the play key, in its own offline render
+    from the clip's start (a click at the timeline's left edge: no wrap of the clip in the window)."""
+    box = page.locator("#timeline").bounding_box()
+    page.mouse.click(box["x"] + 1, box["y"] + box["height"] / 2)
     y, fs = render_offline(page, [*actions, {"at": 0.02, "key": " "}], 0.6)
     assert fs == fs_clip
-    _, g = locate(y, x, int(0.15 * fs), int(0.55 * fs), range(-int(1.5 * fs), int(0.2 * fs)))  # it plays on from where the last render stopped
+    _, g = locate(y, x, int(0.15 * fs), int(0.55 * fs), range(0, int(0.2 * fs)))
     return 20 * math.log10(g)
 
 

@@ -12,7 +12,8 @@
 (function () {
   const el = (id) => document.getElementById(id);
   const body = document.body;
-  const FADE_S = 0.012; // the crossfade of a switch, s
+  const FADE_S = 0.012; // the crossfade of a switch, and of a repeat's wrap from its end to its start, s
+  const FADED = new WeakSet(); // clips whose ends fade (Player.loopOf): once each
   const LEAD_S = 0.025; // changes are scheduled this far ahead of the audio clock, s
   const SVG = "http://www.w3.org/2000/svg";
   const START_VOLUME_DB = -20; // the page starts this far down, whatever a browser put back in the slider (the caution says so)
@@ -77,7 +78,7 @@
     }
     add(id, buffer, db) {
       const g = this.ctx.createGain();
-      const v = { id, buffer, db, gain: g, ramp: new Ramp(g.gain, 0), src: null, srcRamp: null };
+      const v = { id, buffer, db, gain: g, ramp: new Ramp(g.gain, 0), src: null, srcRamp: null, loop: null };
       g.connect(this.master);
       this.voices.set(id, v);
       let t = null;
@@ -91,18 +92,51 @@
       if (v.src) this.stopSource(v, this.when());
     }
     clear() { for (const id of Array.from(this.voices.keys())) this.remove(id); }
+    // What a voice loops over the repeated stretch [a, b), made so that the wrap from b back to a is a crossfade
+    // like a switch's (linear, FADE_S), not a jump (a click):
+    // - a stretch with FADE_S of clip before it: a copy of the stretch whose last FADE_S fade out while the FADE_S
+    //   of the clip just before a fade in, so that it runs into a as the clip itself does; the period stays b - a;
+    // - one from (nearly) the clip's start, the whole clip among them, has nothing before it to fade to: its last
+    //   FADE_S fade out and its first FADE_S fade in (the whole clip's in place: no second copy of every clip).
+    // Returns {buffer, start}: the buffer looped whole, and the clip time (s) of its first sample.
+    loopOf(v) {
+      const x = v.buffer, sr = x.sampleRate;
+      const a = Math.round(this.span[0] * sr), b = Math.min(x.length, Math.round(this.span[1] * sr));
+      const n = Math.min(Math.round(FADE_S * sr), Math.floor((b - a) / 2));
+      const w = (i) => (i + 0.5) / n; // the fade-in's weight at its sample i; the fade-out's is 1 - w(i)
+      if (a === 0 && b === x.length) {
+        if (!FADED.has(x)) {
+          const y = x.getChannelData(0);
+          for (let i = 0; i < n; i++) { y[i] *= w(i); y[b - n + i] *= 1 - w(i); }
+          FADED.add(x);
+        }
+        return { buffer: x, start: 0 };
+      }
+      const key = a + "-" + b;
+      if (v.loop && v.loop.key === key && v.loop.of === x) return v.loop;
+      const src = x.getChannelData(0);
+      const out = this.ctx.createBuffer(1, b - a, sr);
+      const y = out.getChannelData(0);
+      y.set(src.subarray(a, b));
+      for (let i = 0; i < n; i++) {
+        const before = a >= n ? src[a - n + i] : 0; // the clip just before a, or silence
+        y[b - a - n + i] = y[b - a - n + i] * (1 - w(i)) + before * w(i);
+        if (a < n) y[i] *= w(i);
+      }
+      v.loop = { key, of: x, buffer: out, start: a / sr };
+      return v.loop;
+    }
     startVoice(v, t, offset, fadeIn) {
       const src = this.ctx.createBufferSource();
-      src.buffer = v.buffer;
-      src.loop = true;
-      src.loopStart = this.span[0];
-      src.loopEnd = this.span[1];
+      const looped = this.loopOf(v);
+      src.buffer = looped.buffer;
+      src.loop = true; // the whole buffer
       const g = this.ctx.createGain();
       v.srcRamp = new Ramp(g.gain, fadeIn ? 0 : 1);
       if (fadeIn) v.srcRamp.go(t, 1, FADE_S);
       src.connect(g);
       g.connect(v.gain);
-      src.start(t, offset);
+      src.start(t, Math.max(0, offset - looped.start));
       v.src = src;
     }
     stopSource(v, t) {
@@ -713,8 +747,8 @@
     S.matched = el("matched").checked;
     setVolume();
     body.dataset.matched = String(S.matched);
-    if (!S.data || !S.player || !entries().length) return;
-    const r = Number(el("reference").value);
+    if (body.dataset.phase !== "caution" && body.dataset.phase !== "ready") return; // still starting: it builds from S
+    const r = el("reference").value === "" ? NaN : Number(el("reference").value);
     if (Number.isInteger(r) && r >= 0 && r < entries().length) S.reference = r; else el("reference").value = String(S.reference);
     buildRows(); refreshLevels(); drawHeard();
   }
@@ -815,8 +849,9 @@
 
   // ---- for checks: the page's own playback, rendered offline ---------------------------
 
-  // plan: {seconds, actions: [{at, key} | {at, click: selector} | {at, volume: dB} | {at, rejoin: index}]}; every
-  // action but the last goes through the page's own controls while an OfflineAudioContext stands in for the speakers.
+  // plan: {seconds, actions: [{at, key} | {at, click: selector} | {at, volume: dB} | {at, rejoin: index} | {at, span: [a, b]}]};
+  // key, click and volume go through the page's own controls, rejoin and span through what a new version and a drag
+  // do, while an OfflineAudioContext stands in for the speakers.
   async function renderOffline(plan) {
     const live = S.player;
     if (live.playing) { live.stop(); drawTransport(); }
@@ -839,6 +874,7 @@
         S.player.add(id, S.buffers.get(d.clip), levels().gains.get(d.clip).db);
         S.player.pick(id);
       }
+      if (a.span !== undefined) { S.player.setSpan(a.span[0], a.span[1]); drawTransport(); } // what a drag across a picture does, to the sample
     };
     try {
       for (const a of plan.actions) octx.suspend(a.at).then(() => { act(a); octx.resume(); });
