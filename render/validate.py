@@ -93,6 +93,7 @@ class Field:
     hi_open: bool = False
     doc: str = ""
     zero: str = ""  # the fix a value of exactly 0 gets instead of the range ("leave it out for no capacitor")
+    missing: str = ""  # another way to give a required key, appended when it is missing ("{table}" is the table's name)
 
 
 R_RANGE: dict[str, Any] = dict(lo=1.0, hi=1e9, lo_open=False)  # a resistor below 1 Ω or above 1 GΩ is implausible
@@ -252,7 +253,8 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
         if key in data:
             out[key] = read_value(data[key], spec, source=source, table=table, key=key)
         elif spec.required:
-            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {example(spec)}")
+            other = f", {spec.missing.format(table=table)}" if spec.missing else ""
+            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {example(spec)}{other}")
         elif spec.default is not None:
             out[key] = spec.default
     return out

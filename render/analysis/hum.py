@@ -69,6 +69,39 @@ def field_derivative(hum):
     return f, np.asarray(hum.harmonics) * hum.field * 2 * np.pi * f
 
 
+# What each number in the hum JSON is (``units``): amplitudes are peak unless the key says rms.
+HUM_UNITS = {
+    "mains_hz": "Hz",
+    "field_t": "T, the reference peak: harmonic h peaks at field_t × harmonic_profile[h−1]",
+    "frequency_hz": "Hz",
+    "rejection_db": "dB",
+    "output_v": "V peak (per harmonic, and each source's share)",
+    "coil_a_v": "V peak (per harmonic, and each source's share)",
+    "coil_b_v": "V peak (per harmonic, and each source's share)",
+    "total_v_rms": "V rms over the harmonics",
+    "note_to_hum_db": "dB, rms over rms",
+    "moment_a_m2": "A·m², the source's reference peak (harmonic h: × its harmonics[h−1])",
+    "linkage_wb": "Wb peak at the source's stated strength (harmonic h: × its harmonics[h−1])",
+}
+
+
+def field_words(field_t: float, profile) -> str:
+    """The room's one-number field as the hum report heads it, honest about the fundamental.
+
+    ``field`` is a reference amplitude: harmonic h peaks at field × harmonics[h−1]
+    (:func:`field_derivative`), so it is the fundamental's peak only when the
+    profile starts with 1; otherwise the words say so and give the fundamental's.
+    """
+    first = float(profile[0])
+    ref = f"field {field_t * 1e6:g} µT"
+    if first == 1.0:
+        return f"{ref} peak"
+    share = "harmonic h peaks at the field × harmonics[h−1]"
+    if first == 0.0:
+        return f"{ref} reference (no fundamental; {share})"
+    return f"{ref} reference, fundamental {field_t * first * 1e6:.4g} µT peak ({share})"
+
+
 def hum_table(design, resp=None) -> dict:
     """Per-harmonic hum at the amp input and its rejection, for one design.
 
@@ -134,6 +167,7 @@ def hum_table(design, resp=None) -> dict:
         "harmonics": rows,
         "total_v_rms": total_rms,
         "reference_note": {"velocity_m_per_s_peak": REFERENCE_VELOCITY, "frequency_hz": REFERENCE_NOTE_HZ, "output_v_rms": float(sig)},
+        "units": dict(HUM_UNITS),
     }
     # no hum at all: no source (or field harmonic) reaches either coil, or the coils' hum cancels exactly
     unlinked = bool(np.all((np.abs(va) == 0) & (np.abs(vb) == 0)))
@@ -537,7 +571,8 @@ class HumReport:
     ----------
     design : str
     mains_hz : float, Hz
-    field_t : float or None, T, peak flux density of the fundamental; None
+    field_t : float or None, T, the room's reference peak flux density
+        (harmonic h peaks at field_t × its harmonics[h−1]); None
         when hum sources replace the one-number field
     harmonics : tuple of HumHarmonic
     total_v_rms : float, V rms over the harmonics
@@ -608,6 +643,12 @@ def hum(design, *, rig=None, sources=None) -> HumReport:
 
     if sources is not None:
         sources = items("sources", sources, (DipoleSource, UniformSource), "render.DipoleSource(...) or render.UniformSource(...)")
+        from ..magnetics.schema import MAX_SOURCES, too_many_sources
+
+        if len(sources) > MAX_SOURCES:  # as a rig file's [[hum.source]] tables are held
+            from ..errors import ArgumentError
+
+            raise ArgumentError("sources", f"{len(sources)} sources", too_many_sources())
     d = apply_rig(design, rig)
     if sources is not None:
         from ..magnetics.schema import check_source_places

@@ -81,7 +81,7 @@ def field(n: int, *, sample_rate: float, mains_hz: float, field_t: float, harmon
     n : int ≥ 0, number of samples
     sample_rate : Hz
     mains_hz : Hz, the fundamental (50 or 60)
-    field_t : T, peak flux density of the fundamental
+    field_t : T, the reference peak flux density: harmonic h peaks at field_t × harmonics[h−1]
     harmonics : sequence of H relative amplitudes for harmonics 1 … H
     phases : None (all 0) or H phases in radians, one per harmonic
     returns : np.ndarray, T, shape (n,)

@@ -82,6 +82,10 @@ def hum_command(
     if hist_path and not tol:
         raise InputError("--histogram needs a Monte Carlo: add --tolerance (e.g. --tolerance 1%)")
     designs, _ = load_designs(models, rig=rig_path)
+    from ..analysis.hum_room import check_room
+
+    for d in designs:  # a map's or a shell's dipole within 10 cm of a coil: refused before any work
+        check_room(d, map_on=map_on, plane=map_plane, bearings_deg=bearings, positions=bool(positions), shell=shell_m)
     from ..analysis.one_scale import design_one_scale
     from .compare_print import comparison_of, echo, hum_lines, load_compare, scale_lines
 

@@ -34,9 +34,10 @@ def _total(v_rms: float, reason: str | None) -> str:
 
 
 def print_report(d, r) -> None:
+    from ..analysis.hum import field_words
 
     n = len(r.sources)
-    field = f"field {r.field_t * 1e6:g} µT peak" if r.field_t is not None else f"{n} hum source{'s' if n > 1 else ''} (they replace the field)"
+    field = field_words(r.field_t, r.table["harmonic_profile"]) if r.field_t is not None else f"{n} hum source{'s' if n > 1 else ''} (they replace the field)"
     click.echo(f"{d.name}  ({d.source})  mains {r.mains_hz:g} Hz, {field}")
     for s in r.sources:
         print_source(s)
@@ -68,10 +69,10 @@ def print_audio(a, exact):
 
 
 def _quantiles(rows, count=3):
-    from ..analysis.undefined import shown
+    from ..analysis.hum_room import quantile_line
 
     for r in rows[:count]:
-        click.echo(f"    H{r['harmonic']} {r['frequency_hz']:5.0f} Hz: median {shown(r, 'median_db', '.1f', ' dB')}, 5th percentile {shown(r, 'p5_db', '.1f', ' dB')}")
+        click.echo(quantile_line(r))
 
 
 def print_monte_carlo(mc):
@@ -103,17 +104,10 @@ def print_positions(rec: dict) -> None:
 
 
 def print_map(m) -> None:
-    where = "the x–y plane (top faces; 0° neck side, 90° treble side)" if m.plane == "xy" else "the x–z plane (along the strings; 0° neck side, 90° straight above, -90° below)"
-    click.echo(f"  rejection (dB) at {m.frequency_hz[0]:g} Hz of a dipole (axis z) in {where}:")
-    digits = next((k for k in range(4) if len({round(b, k) for b in m.bearing_deg}) == len(m.bearing_deg)), 3)  # enough to tell bearings apart
-    click.echo("    distance" + "".join(f"{b:>6.{digits}f}°" for b in m.bearing_deg))
-    js = m.to_dict()  # a rejection that does not exist is its reason's short word (render.analysis.undefined)
-    for i, dist in enumerate(m.distance_m):
-        cells = "".join(f"{_rejection(js['rejection_db'][i][j][0], js['rejection_db_reason'][i][j][0]).replace(' dB', ''):>7s}" for j in range(len(m.bearing_deg)))
-        click.echo(f"    {dist:6.2f} m" + cells)
-    words = {r for row in js["rejection_db_reason"] for cell in row for r in cell[:1] if r}
-    for r in sorted(words):
-        click.echo(f"    {_rejection(None, r).strip()}: {r}")
+    from ..analysis.hum_room import map_lines
+
+    for line in map_lines(m):
+        click.echo(line)
 
 
 def warnings(rec, d, *, dipoles: bool) -> None:

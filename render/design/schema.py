@@ -61,7 +61,15 @@ COIL = {
     ),
     "eddy_corner": Field(U.FREQUENCY, lo=1.0, hi=1e7, lo_open=False, doc="the shorted secondary's corner R2/(2π L2)"),
     "sensitivity": Field(U.SENSITIVITY, True, lo=1e-5, hi=1e3, lo_open=False, doc="EMF per m/s of string velocity at the sensing point"),
-    "turns_area": Field(U.AREA, True, lo=1e-6, hi=1e3, lo_open=False, doc="turns × effective loop area; hum EMF = turns_area · dB/dt"),
+    "turns_area": Field(
+        U.AREA,
+        True,
+        lo=1e-6,
+        hi=1e3,
+        lo_open=False,
+        doc="turns × effective loop area; hum EMF = turns_area · dB/dt",
+        missing="or describe the coil's turns in a [{table}.geometry] table instead (turns_area is then derived from it)",
+    ),
     "position": Field(U.LENGTH, True, lo=1e-3, hi=1.5, lo_open=False, doc="sensing point: distance from the bridge saddle"),
     "aperture": Field(U.LENGTH, default=0.0, lo=0.0, hi=0.2, lo_open=False, doc="width of the sensing window along the string"),
     "signal_polarity": Field("polarity", doc="+1 or -1 (default +1 for coil_a, -1 for coil_b)"),
@@ -130,7 +138,14 @@ RIG = {
 }
 HUM = {
     "mains": Field(U.FREQUENCY, default=50.0, lo=40.0, hi=70.0, lo_open=False, doc="mains frequency (50 or 60)"),
-    "field": Field(U.FLUX_DENSITY, default=1e-6, lo=1e-10, hi=1e-2, lo_open=False, doc="peak flux density of the fundamental"),
+    "field": Field(
+        U.FLUX_DENSITY,
+        default=1e-6,
+        lo=1e-10,
+        hi=1e-2,
+        lo_open=False,
+        doc="reference peak flux density: harmonic h peaks at field × harmonics[h−1] (the fundamental at field when harmonics starts with 1)",
+    ),
     "harmonics": Field("list", default=DEFAULT_HARMONICS, doc="relative field amplitudes of harmonics 1, 2, 3, …"),
 }
 

@@ -2,11 +2,11 @@
 
 Two kinds of source, each periodic at the mains frequency f:
 
-- a point **dipole** of moment m (A·m², peak of the fundamental) at a place,
+- a point **dipole** of moment m (A·m², the reference peak) at a place,
   along a unit axis: a small transformer, a wall adapter, a motor seen from
   a distance of a few times its size; its field (Jackson, *Classical
   Electrodynamics*, 3rd ed., eq. 5.56) falls as 1/r³;
-- a **uniform** field B (T, peak of the fundamental) along a unit axis: a
+- a **uniform** field B (T, the reference peak) along a unit axis: a
   distant source, or today's one-number room.
 
 A source's strength s (m or B) follows its harmonic profile a_h and phase φ
@@ -72,6 +72,14 @@ def _profile(where: str, harmonics):
     return tuple(float(x) for x in a)
 
 
+def _strength(where: str, name: str, value, example: str) -> float:
+    """A source's strength: a finite number above 0 (a source of none makes no hum, and its rejection has no meaning)."""
+    v = _number(where, name, value, lo=0.0)
+    if v == 0.0:
+        raise InputError(f"{where} {name}=0: a source of no strength makes no hum; give its {name} (e.g. {name}={example}), or leave the source out")
+    return v
+
+
 def _number(where: str, name: str, value, *, lo: float | None = None) -> float:
     try:
         v = float(value)
@@ -89,7 +97,8 @@ class DipoleSource:
     Attributes
     ----------
     moment : float, A·m²
-        Peak, at the mains fundamental.
+        The reference peak: harmonic h peaks at moment × harmonics[h−1]
+        (the fundamental's peak when the profile starts with 1).
     at : tuple of 3 float, m
         Its place: x along the strings towards the neck, y across, z up.
     axis : tuple of 3 float
@@ -99,7 +108,7 @@ class DipoleSource:
     phase : float, degrees
         Of the fundamental (harmonic h shifted by h·phase).
     where : str
-        (init only) where the values came from, for error messages.
+        (init only) where the values came from, for error messages (a rig file's table; the class's name from Python).
     """
 
     moment: float
@@ -107,11 +116,11 @@ class DipoleSource:
     axis: tuple = (0.0, 0.0, 1.0)
     harmonics: tuple | None = None
     phase: float = 0.0
-    where: InitVar[str] = "[[hum.source]]"
+    where: InitVar[str] = "DipoleSource"
     kind: ClassVar[str] = "dipole"
 
     def __post_init__(self, where):
-        object.__setattr__(self, "moment", _number(where, "moment", self.moment, lo=0.0))
+        object.__setattr__(self, "moment", _strength(where, "moment", self.moment, "0.05, in A·m²"))
         object.__setattr__(self, "at", _vector(where, "at", self.at, unit=False))
         object.__setattr__(self, "axis", _vector(where, "axis", self.axis, unit=True))
         object.__setattr__(self, "harmonics", _profile(where, self.harmonics))
@@ -129,7 +138,8 @@ class UniformSource:
     Attributes
     ----------
     field : float, T
-        Peak, at the mains fundamental.
+        The reference peak: harmonic h peaks at field × harmonics[h−1]
+        (the fundamental's peak when the profile starts with 1).
     axis : tuple of 3 float
         Its direction (normalised).
     harmonics : tuple of float or None
@@ -144,11 +154,11 @@ class UniformSource:
     axis: tuple = (0.0, 0.0, 1.0)
     harmonics: tuple | None = None
     phase: float = 0.0
-    where: InitVar[str] = "[[hum.source]]"
+    where: InitVar[str] = "UniformSource"
     kind: ClassVar[str] = "uniform"
 
     def __post_init__(self, where):
-        object.__setattr__(self, "field", _number(where, "field", self.field, lo=0.0))
+        object.__setattr__(self, "field", _strength(where, "field", self.field, "1e-7, in T"))
         object.__setattr__(self, "axis", _vector(where, "axis", self.axis, unit=True))
         object.__setattr__(self, "harmonics", _profile(where, self.harmonics))
         object.__setattr__(self, "phase", _number(where, "phase", self.phase))
@@ -222,7 +232,8 @@ class HumEmf:
     frequency_hz : np.ndarray [shape=(H,)], Hz
     per_source : np.ndarray complex [shape=(2, S, H)], V peak (cosine reference)
     linkage_wb : np.ndarray [shape=(2, S)], Wb, each coil's flux linkage
-        from each source at its peak fundamental strength
+        from each source at its stated (reference) strength; harmonic h's
+        peak linkage is this times the source's harmonics[h−1]
     sources : the sources, in order
     """
 

@@ -13,9 +13,11 @@ rejection no longer depends on the source's strength or profile: it is
 set by the ratio k_b/k_a of the two coils' couplings and by the networks.
 A uniform field along z gives k_a/k_b = turns_area_a/turns_area_b, as in
 the one-number room; a dipole at distance r gives the two coils different
-flux: for r along the strings, k_b/k_a − 1 ≈ ±3s/r (s the coils' spacing,
-from the dipole field's 1/r³ law), which bounds a matched design's
-rejection near 20·log10(r/(3s)).
+flux: for r along the strings and a moment along z, k_b/k_a − 1 ≈ ±3s/r
+(s the coils' spacing, from B_z's 1/r³ law there), which bounds a matched
+design's rejection near 20·log10(r/(3s)); a moment along the strings links
+the windings only through their height (B_z ∝ z/r⁴), ±4s/r; one across
+them links neither (tests/test_readme_hum.py holds these against magpylib).
 
 The map puts a dipole of axis z at distance d and bearing θ in a plane:
 ``"xy"`` (the plane of the top faces; θ from +x, the neck side, towards +y,
@@ -52,6 +54,20 @@ EXACT = U.HUM_CANCELS
 def _none(x: float):
     """A rejection as JSON: None where it does not exist (no hum, or at the exact-cancellation cap)."""
     return None if not np.isfinite(x) or x >= REJECTION_CAP_DB else float(x)
+
+
+def _absent(absent, k: int):
+    """The reason harmonic ``k`` has no hum in the room (its profile gives it 0), or None."""
+    return absent[k] if k < len(absent) else None
+
+
+def without_absent(rejection, absent) -> np.ndarray:
+    """``rejection`` (shape (..., H)) with NaN at each harmonic ``absent`` names: there is no hum there to reject."""
+    out = np.array(rejection, dtype=float)
+    for k, why in enumerate(absent):
+        if why is not None:
+            out[..., k] = np.nan
+    return out
 
 
 def _why(x: float):
@@ -204,6 +220,8 @@ class RejectionMap:
         The mains harmonics.
     rejection_db : np.ndarray [shape=(D, B, H)], dB
         Not finite where there is no hum at that harmonic, and at the cap (``REJECTION_CAP_DB``) for an exact cancellation (see :meth:`to_dict`).
+    absent : tuple of (str or None)
+        Per harmonic, why the room has no hum there at all (its profile gives it 0), in words; () or None where it has.
     """
 
     plane: str
@@ -211,6 +229,7 @@ class RejectionMap:
     bearing_deg: np.ndarray
     frequency_hz: np.ndarray
     rejection_db: np.ndarray
+    absent: tuple = ()
 
     def __post_init__(self) -> None:
         from ..readonly import lock_arrays
@@ -225,6 +244,7 @@ class RejectionMap:
         no hum at that harmonic, or an exact cancellation (a dipole as far
         from both coils, e.g. broadside, on a matched pair).
         """
+        why = [[[_absent(self.absent, k) or _why(v) for k, v in enumerate(row)] for row in plane] for plane in self.rejection_db]
         return {
             "plane": self.plane,
             "dipole_axis": [0.0, 0.0, 1.0],
@@ -232,7 +252,7 @@ class RejectionMap:
             "bearing_deg": [float(x) for x in self.bearing_deg],
             "frequency_hz": [float(x) for x in self.frequency_hz],
             "rejection_db": [[[_none(v) for v in row] for row in plane] for plane in self.rejection_db],
-            "rejection_db_reason": [[[_why(v) for v in row] for row in plane] for plane in self.rejection_db],
+            "rejection_db_reason": why,
         }
 
 
@@ -246,13 +266,15 @@ def rejection_map(
     distances_m=DEFAULT_DISTANCES_M,
     bearings_deg=DEFAULT_BEARINGS_DEG,
     plane: str = "xy",
+    absent=(),
 ) -> RejectionMap:
     """Rejection of a z-axis dipole at each distance and bearing in ``plane``.
 
     coils : the two placed coils; from_a, from_b : shape (H,) V/V at ``frequency_hz``
+    absent : per harmonic, why the room has no hum there (None where it has): NaN there, the reason in :meth:`RejectionMap.to_dict`
     """
     p = map_positions(distances_m, bearings_deg, plane)
-    _refuse_inside(coils, p.reshape(-1, 3))
+    _refuse_inside(coils, p.reshape(-1, 3), MAP_FIX)
     axis = np.array([0.0, 0.0, 1.0])
     ka = coils[0].dipole_linkage(p, axis)
     kb = coils[1].dipole_linkage(p, axis)
@@ -262,16 +284,24 @@ def rejection_map(
         distance_m=np.asarray(distances_m, dtype=float),
         bearing_deg=np.asarray(bearings_deg, dtype=float),
         frequency_hz=np.asarray(frequency_hz, dtype=float),
-        rejection_db=rej,
+        rejection_db=without_absent(rej, absent),
+        absent=tuple(absent),
     )
 
 
-def _refuse_inside(coils, points):
+COIL_NAMES = ("coil_a", "coil_b")
+MAP_FIX = (
+    f"larger distances keep it outside; from Python give render.hum_map(design, distances_m=[...]) larger ones (the command line's --map uses {DEFAULT_DISTANCES_M[0]:g}–{DEFAULT_DISTANCES_M[-1]:g} m)"
+)
+SHELL_FIX = "give the random sources' shell a larger inner radius (--shell INNER OUTER on the command line, shell=(inner, outer) from Python)"
+
+
+def _refuse_inside(coils, points, fix: str):
     for i, c in enumerate(coils):
         bad = c.inside(points)
         if np.any(bad):
             q = points[np.argmax(bad)]
-            raise InputError(f"a dipole at {[round(float(v), 4) for v in q]} m lies within coil {'ab'[i]}'s winding: choose larger distances")
+            raise InputError(f"a dipole at {[round(float(v), 4) for v in q]} m lies within {COIL_NAMES[i]}'s winding: {fix}")
 
 
 # ----------------------------------------------------------------------------
@@ -325,6 +355,8 @@ class PositionMonteCarlo:
     trials, seed : int
     tolerances : dict or None
         The part tolerances drawn jointly (relative, by part kind), or None.
+    absent : tuple of (str or None)
+        As :class:`RejectionMap`'s: per harmonic, why the room has no hum there.
     """
 
     frequency_hz: np.ndarray
@@ -335,6 +367,7 @@ class PositionMonteCarlo:
     trials: int
     seed: int
     tolerances: dict | None = None
+    absent: tuple = ()
 
     def __post_init__(self) -> None:
         from ..readonly import lock_arrays
@@ -342,16 +375,14 @@ class PositionMonteCarlo:
         lock_arrays(self)
 
     def summary(self) -> list[dict]:
-        """Per harmonic: median and 5th percentile of the rejection (dB)."""
-        return [
-            {
-                "harmonic": i + 1,
-                "frequency_hz": float(f),
-                "median_db": float(np.median(self.rejection_db[:, i])),
-                "p5_db": float(np.percentile(self.rejection_db[:, i], 5)),
-            }
-            for i, f in enumerate(self.frequency_hz)
-        ]
+        """Per harmonic: median and 5th percentile of the rejection (dB); NaN with ``absent`` (the reason) where the room has no hum."""
+        rows = []
+        for i, f in enumerate(self.frequency_hz):
+            row = {"harmonic": i + 1, "frequency_hz": float(f), "median_db": float(np.median(self.rejection_db[:, i])), "p5_db": float(np.percentile(self.rejection_db[:, i], 5))}
+            if _absent(self.absent, i) is not None:
+                row.update(median_db=float("nan"), p5_db=float("nan"), absent=self.absent[i])
+            rows.append(row)
+        return rows
 
 
 def _check_trials(trials) -> int:
@@ -365,7 +396,7 @@ def position_monte_carlo(coils, *, from_a, from_b, frequency_hz, hum_polarity=(1
     """Rejection for ``trials`` random dipoles (:func:`random_sources`), the circuit as designed."""
     n = _check_trials(trials)
     places, axes = random_sources(n, seed=seed, shell=shell)
-    _refuse_inside(coils, places)
+    _refuse_inside(coils, places, SHELL_FIX)
     ka = coils[0].dipole_linkage(places, axes)
     kb = coils[1].dipole_linkage(places, axes)
     rej = coupling_rejection(ka, kb, from_a=from_a, from_b=from_b, hum_polarity=hum_polarity)
@@ -397,7 +428,7 @@ def joint_monte_carlo(design, coils, *, frequency_hz, tolerances=None, trials: i
     n = _check_trials(trials)
     tol, draws = part_draws(design, tolerances=tolerances, trials=n, seed=seed)
     places, axes = random_sources(n, seed=seed, shell=shell)
-    _refuse_inside(coils, places)
+    _refuse_inside(coils, places, SHELL_FIX)
     ka = coils[0].dipole_linkage(places, axes) * draws.get("coil_a.turns", 1.0)
     kb = coils[1].dipole_linkage(places, axes) * draws.get("coil_b.turns", 1.0)
     hp = (design.coil_a.hum_polarity, design.coil_b.hum_polarity)

@@ -44,11 +44,20 @@ COMMON = {
     "phase": Field(U.RATIO, default=0.0, lo=-360.0, hi=360.0, lo_open=False, doc="degrees of the fundamental; harmonic h is shifted by h·phase"),
 }
 DIPOLE = {
-    "moment": Field(U.RATIO, True, lo=0.0, hi=1e3, lo_open=False, doc="dipole moment, A·m², peak at the mains fundamental"),
+    "moment": Field(
+        U.RATIO,
+        True,
+        lo=0.0,
+        hi=1e3,
+        lo_open=False,
+        doc="dipole moment, A·m², the reference peak: harmonic h peaks at moment × harmonics[h−1] (the fundamental at moment when harmonics starts with 1)",
+    ),
     **COMMON,
 }
 UNIFORM = {
-    "field": Field(U.FLUX_DENSITY, True, lo=0.0, hi=1e-2, lo_open=False, doc="peak flux density of the fundamental"),
+    "field": Field(
+        U.FLUX_DENSITY, True, lo=0.0, hi=1e-2, lo_open=False, doc="reference peak flux density: harmonic h peaks at field × harmonics[h−1] (the fundamental at field when harmonics starts with 1)"
+    ),
     **COMMON,
 }
 VECTORS = ("kind", "at", "axis")  # read here, not by read_table
@@ -65,6 +74,18 @@ def zero_profile_error(loc: str, profile) -> InputError:
     return InputError(
         f"{loc} harmonics={shown}: every amplitude is 0, so there is no hum field; give the fundamental 1.0 (e.g. harmonics = [1.0, 0.05, 0.3]), or leave harmonics out for the default profile"
     )
+
+
+def too_many_sources() -> str:
+    """The limit on a room's sources (:data:`MAX_SOURCES`) and what to do over it, for a rig file and for Python alike."""
+    return (
+        f"at most {MAX_SOURCES} sources are allowed; merge sources that sit close together into one (seen from afar, dipoles side by side act as one of their summed moment) or leave out the weakest"
+    )
+
+
+def near_dipole(r: float, coil: str) -> str:
+    """The one wording of a dipole nearer a coil's centre than :data:`NEAR_DIPOLE_M` (a source, a map's place, a shell's), r in m."""
+    return f"{r * 100:.3g} cm from {coil}'s centre, closer than {NEAR_DIPOLE_M * 100:g} cm: a point dipole there stands for no real source (the pickup's own field region)"
 
 
 def check_source_places(sources, *, coil_a, coil_b, source: str = "", argument: str | None = None) -> None:
@@ -91,10 +112,7 @@ def check_source_places(sources, *, coil_a, coil_b, source: str = "", argument: 
                 break
         r, name = min((float(np.linalg.norm(at - np.asarray(c.centre))), name) for name, c in zip(("coil_a", "coil_b"), placed))  # the nearer coil
         if why is None and r < NEAR_DIPOLE_M:
-            why = (
-                f"{r * 100:.3g} cm from {name}'s centre, closer than {NEAR_DIPOLE_M * 100:g} cm: a point dipole there stands for no real source"
-                f" (the pickup's own field region); move it {NEAR_DIPOLE_M * 100:g} cm or more from both coils"
-            )
+            why = f"{near_dipole(r, name)}; move it {NEAR_DIPOLE_M * 100:g} cm or more from both coils"
         if why is None:
             continue
         if argument is not None:
@@ -154,7 +172,7 @@ def read_sources(items: Any, *, source: str, n_harmonics: int) -> tuple:
     if not isinstance(items, list) or not items or not all(isinstance(t, dict) for t in items):
         raise InputError(f"{_loc(source, 'hum')} source: expected one or more [[hum.source]] tables")
     if len(items) > MAX_SOURCES:
-        raise InputError(f"{_loc(source, 'hum')} source: {len(items)} sources; at most {MAX_SOURCES}")
+        raise InputError(f"{_loc(source, 'hum')} source: {len(items)} [[hum.source]] tables; {too_many_sources()}")
     out: list[DipoleSource | UniformSource] = []
     for i, t in enumerate(items):
         table = f"hum.source {i + 1}"
