@@ -200,9 +200,8 @@ def render_passive(design: Design, velocity: np.ndarray, *, sample_rate: float, 
     return np.concatenate([ps.process(velocity), ps.finish()])
 
 
-def noise_warning(design, floor: np.ndarray) -> tuple[str, ...]:
-    """A warning when the noise floor alone (V, added after the limit) would reach a tenth of the headroom."""
-    rms = float(np.sqrt(np.mean(floor**2))) if floor.size else 0.0
+def noise_warning(design, *, rms: float) -> tuple[str, ...]:
+    """A warning when the noise floor alone (its ``rms``, V, added after the limit) would reach a tenth of the headroom."""
     if rms > 0.1 * min(design.headroom_up_v, design.headroom_down_v):
         return (
             f"the noise floor alone is {rms:.3g} V rms at the amp input, beyond a tenth of the headroom; "
@@ -331,7 +330,7 @@ def render_clip(
 
         n = volts.size
         floor = noise_waveform(design, n=n, sample_rate=fs, seed=seed)
-        warnings_noise = noise_warning(design, floor)
+        warnings_noise = noise_warning(design, rms=float(np.sqrt(np.mean(floor**2))))
         volts = volts + floor
         if passive_volts is not None:
             passive_volts = passive_volts + noise_waveform(design, n=n, sample_rate=fs, seed=seed, passive=True)

@@ -658,7 +658,7 @@ def conflicts(spec: FitSpec, ev: Evaluator) -> str:
     for j, a in enumerate(spec.aims):
         col = written[:, j][~np.isnan(written[:, j])]
         if not held[:, j].any() and col.size:
-            parts.append(f"{a.describe()} (on the series the search reached {_reached(a.figure, col)})")
+            parts.append(f"{a.describe()} (the series values the search tried measured {_reached(a.figure, col)})")
     missed = f": {'; '.join(parts)}" if parts else ""
     return f"every aim held together only between the series' values, at none the search tried on them{missed}; {_finer(spec)}"
 
@@ -696,9 +696,9 @@ def _conflicts(spec: FitSpec, fig: np.ndarray) -> str:
                 continue
             if sub is not None and np.any(col == sub):
                 col = col[col != sub]
-                parts.append(f"{a.describe()} (the search reached {_reached(a.figure, col)}; some designs it tried have {none})")
+                parts.append(f"{a.describe()} (the designs the search tried measured {_reached(a.figure, col)}; some of them have {none})")
                 continue
-            parts.append(f"{a.describe()} (the search reached {_reached(a.figure, col)})")
+            parts.append(f"{a.describe()} (the designs the search tried measured {_reached(a.figure, col)})")
         return "out of reach with these free parts and ranges: " + "; ".join(parts)
     pairs = []
     for i in range(len(spec.aims)):

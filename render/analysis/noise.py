@@ -40,7 +40,7 @@ REFERENCE_HZ = 1000.0
 REFERENCE_VELOCITY = 0.1  # m/s rms string velocity of the reference signal
 INTEGRATION_POINTS = 4001
 OUTPUT_PER_DECADE = 100  # points of the reported density (301 from 20 Hz to 20 kHz)
-WAVEFORM_CHUNK = 1 << 16  # frequencies evaluated at a time by noise_waveform
+WAVEFORM_CHUNK = 1 << 16  # frequencies evaluated at a time by NoiseStream
 
 # A-weighting, IEC 61672-1:2013 (its analytic form): pole frequencies in Hz
 # and the normalisation constant that makes A(1 kHz) = 0 dB.
@@ -385,18 +385,66 @@ def _row(s, i):
 # ----------------------------------------------------------------------------
 
 
-def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature: float = T_DEFAULT, passive: bool = False) -> np.ndarray:
-    """Seeded noise at the amp input of ``design`` (rig applied), in volts.
+NOISE_TAPS = 1 << 16  # taps of the noise floor's shaping filter (1.37 s at 48 kHz; 0.73 Hz bins)
+
+
+class NoiseStream:
+    """The seeded noise floor at the amp input of ``design`` (rig applied), in volts, drawn block by block.
 
     One Gaussian process with the circuit's total output density
     S_out(f) = Σ_k |H_k|²·S_k (every source is Gaussian and independent, so
     their sum is one Gaussian process with the summed density): white
-    Gaussian noise (``numpy.random.default_rng(seed)``) is shaped in the
-    frequency domain by √(S_out(f)·sample_rate/2), S_out evaluated exactly at
-    every FFT bin k·sample_rate/n up to sample_rate/2. The result is
-    circular (it loops seamlessly with period n), has zero mean (the DC bin
-    is zero), and its one-sided density is S_out. It is the small-signal
+    Gaussian noise (``numpy.random.default_rng(seed)``, drawn in sequence)
+    through a linear-phase FIR filter of :data:`NOISE_TAPS` taps whose
+    response is √(S_out(f)·sample_rate/2) at every bin k·sample_rate/taps
+    (zero at DC). The filter is primed with taps−1 draws before the first
+    sample, and the draws run on from block to block, so :meth:`take` of n1
+    then n2 samples gives the same samples as one :meth:`take` of n1 + n2
+    (to float rounding of the convolution), and the floor never repeats.
+    Its one-sided density is S_out, its mean zero. It is the small-signal
     floor: add it to a render at the amp input.
+
+    Parameters
+    ----------
+    design : Design
+    sample_rate : Hz > 0; seed : int ≥ 0; temperature : K (200..400);
+    passive : the passive reference's noise instead.
+    """
+
+    def __init__(self, design, *, sample_rate: float, seed: int, temperature: float = T_DEFAULT, passive: bool = False):
+        if not (isinstance(sample_rate, (int, float, np.number)) and math.isfinite(sample_rate) and sample_rate > 0):
+            raise InputError(f"sample_rate={shown(sample_rate)}: expected a positive sampling rate in Hz")
+        if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+            raise InputError(f"seed={shown(seed)}: expected a whole number, 0 or more")
+        t = check_temperature(temperature)
+        model = design_noise_model([design], temperature=t)
+        fs, taps = float(sample_rate), NOISE_TAPS
+        bins = taps // 2 + 1
+        gain = np.zeros(bins)
+        for start in range(1, bins, WAVEFORM_CHUNK):
+            k = np.arange(start, min(bins, start + WAVEFORM_CHUNK))
+            psd = model.output_psd(k * (fs / taps), passive=passive)[0]
+            gain[k] = np.sqrt(np.maximum(psd, 0.0) * (fs / 2.0))
+        # zero phase, made causal by half its length: Σ h² = Σ_k S_out(f_k)·fs/taps (Parseval)
+        self.taps = np.roll(np.fft.irfft(gain, taps), taps // 2)
+        self._rng = np.random.default_rng(int(seed))
+        self._history = self._rng.standard_normal(taps - 1)
+
+    def take(self, n: int) -> np.ndarray:
+        """The next ``n`` samples (V), shape (n,)."""
+        n = int(n)
+        if n <= 0:
+            return np.zeros(0)
+        from scipy.signal import oaconvolve
+
+        x = np.concatenate([self._history, self._rng.standard_normal(n)])
+        self._history = x[-(self.taps.size - 1) :]
+        return oaconvolve(x, self.taps, mode="valid")
+
+
+def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature: float = T_DEFAULT, passive: bool = False) -> np.ndarray:
+    """The first ``n`` samples of :class:`NoiseStream` (V at the amp input of ``design``, rig applied): the same samples a
+    streamed render draws block by block.
 
     Parameters
     ----------
@@ -409,21 +457,7 @@ def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature
     """
     if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1:
         raise InputError(f"n={shown(n)}: expected a whole number of samples, at least 1")
-    if not (isinstance(sample_rate, (int, float, np.number)) and math.isfinite(sample_rate) and sample_rate > 0):
-        raise InputError(f"sample_rate={shown(sample_rate)}: expected a positive sampling rate in Hz")
-    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
-        raise InputError(f"seed={shown(seed)}: expected a whole number, 0 or more")
-    t = check_temperature(temperature)
-    model = design_noise_model([design], temperature=t)
-    n = int(n)
-    bins = n // 2 + 1
-    gain = np.zeros(bins)
-    for start in range(1, bins, WAVEFORM_CHUNK):
-        k = np.arange(start, min(bins, start + WAVEFORM_CHUNK))
-        psd = model.output_psd(k * (float(sample_rate) / n), passive=passive)[0]
-        gain[k] = np.sqrt(np.maximum(psd, 0.0) * (float(sample_rate) / 2.0))
-    white = np.random.default_rng(int(seed)).standard_normal(n)
-    return np.fft.irfft(np.fft.rfft(white) * gain, n)
+    return NoiseStream(design, sample_rate=sample_rate, seed=seed, temperature=temperature, passive=passive).take(int(n))
 
 
 def noise_record(r: NoiseReport, design, rig_file) -> dict:

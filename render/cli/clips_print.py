@@ -46,7 +46,14 @@ def report_clips(run) -> None:
     n = len(run.records)
     plural = "s" if n != 1 else ""
     if run.streamed:
-        how = "" if run.full_scale_given else ", fixed from the output windows"
+        from ..runs.clips import LONG_SECONDS
+
+        how = (
+            ""
+            if run.full_scale_given
+            else f", fixed in advance from the designs' output windows because a recording over {LONG_SECONDS:g} s is streamed "
+            "(a shorter one's full scale follows its peak, so these clips may play much quieter); --volts-full-scale sets one"
+        )
         click.echo(f"{n} clip{plural} of {run.seconds:.0f} s rendered block by block to {out}/ (full scale {run.volts_full_scale:g} V{how}; summary in {out / 'summary.md'})")
     else:
         click.echo(f"{n} clip{plural} written to {out}/ (full scale {run.volts_full_scale:g} V; summary in {out / 'summary.md'})")

@@ -43,7 +43,8 @@ def print_table(run) -> None:
 def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips, blind_session, overwrite):
     """Search part values, snapped to preferred-number series, that meet FITFILE's aims.
 
-    Writes the TOP best complete design files (<stem>-fit-1.toml, …) with
+    A [free] part without series = "…" is snapped to E24; series = "none"
+    keeps it continuous. Writes the TOP best complete design files (<stem>-fit-1.toml, …) with
     comments saying what changed, fit.json, and an overlay plot of the
     start's and the results' responses.
     """

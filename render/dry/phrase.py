@@ -606,6 +606,7 @@ class _Playing:
     strum: float
     direction: str
     angle: float = PLUCK_ANGLE
+    pluck_at_written: object = None  # [playing] pluck_at as written; None: not given (the default)
 
 
 def _strength(where: Where, value: object) -> float:
@@ -648,6 +649,7 @@ def _parse_playing(source: str, table: Any, instrument: Instrument) -> _Playing:
         strum=_strum(where, table.get("strum", DEFAULTS["strum"])),
         direction=_direction(where, table.get("direction", DEFAULTS["direction"])),
         angle=_angle(where, table.get("angle", DEFAULTS["angle"])),
+        pluck_at_written=table.get("pluck_at"),
     )
 
 
@@ -675,14 +677,22 @@ def _fret(where: Where, key: str, value: object) -> int:
     return value
 
 
-def _check_pluck(where: Where, key_value: object, pluck: float, length: float, what: str) -> None:
-    if pluck >= length:
-        raise where.fail(
-            "pluck_at",
-            key_value,
-            f"must be shorter than the vibrating length {length * 1e3:.1f} mm ({what})",
-            "pluck nearer the bridge",
-        )
+def _check_pluck(where: Where, table: dict, playing: _Playing, pluck: float, length: float, what: str) -> None:
+    """Refuse a pluck point at or beyond the note's vibrating length, naming where it was written: the event's own
+    ``pluck_at``, or ``[playing]``'s (or its default) that the event uses."""
+    if pluck < length:
+        return
+    constraint = f"must be shorter than the vibrating length {length * 1e3:.1f} mm ({what})"
+    if "pluck_at" in table:
+        raise where.fail("pluck_at", table["pluck_at"], constraint, "pluck nearer the bridge")
+    event = where.table.split()[0]  # [[note]] or [[chord]]
+    if playing.pluck_at_written is not None:
+        given = f"[playing] pluck_at={show(playing.pluck_at_written)} (used by {where.table})"
+        fix = f"give this {event} a pluck_at of its own, or change [playing]'s"
+    else:
+        given = f"{where.table} pluck_at (not given: the default {pluck * 1e3:g} mm)"
+        fix = f"give this {event} or [playing] a pluck_at"
+    raise InputError(f"{where.source}: {given}: {constraint}; pluck nearer the bridge: {fix}")
 
 
 def _parse_note(where: Where, table: Any, instrument: Instrument, playing: _Playing) -> Note:
@@ -721,7 +731,7 @@ def _parse_note(where: Where, table: Any, instrument: Instrument, playing: _Play
         fret = max(fret, 0.0)
     length = instrument.scale_length * open_f / frequency
     pluck = _pluck_at(where, table["pluck_at"]) if "pluck_at" in table else playing.pluck_at
-    _check_pluck(where, table.get("pluck_at", playing.pluck_at), pluck, length, f"string {string}, fret {fret:g}")
+    _check_pluck(where, table, playing, pluck, length, f"string {string}, fret {fret:g}")
     bend = _parse_bend(where, table["bend"]) if "bend" in table else None
     vibrato = _parse_vibrato(where, table["vibrato"]) if "vibrato" in table else None
     return Note(
@@ -825,7 +835,7 @@ def _parse_chord(where: Where, table: Any, instrument: Instrument, playing: _Pla
         open_f = instrument.open_pitch(string)
         frequency = open_f * 2.0 ** (fret / 12.0)
         length = instrument.scale_length * open_f / frequency
-        _check_pluck(where, table.get("pluck_at", playing.pluck_at), pluck, length, f"string {string}, fret {fret}")
+        _check_pluck(where, table, playing, pluck, length, f"string {string}, fret {fret}")
         notes.append(
             Note(
                 time=time + k * gap,

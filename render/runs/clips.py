@@ -103,7 +103,6 @@ def sensing_key(design: Design) -> tuple:
 
 
 LONG_SECONDS = 120.0  # a recorded dry file longer than this is rendered in bounded memory
-NOISE_PERIOD = 2**20  # samples: the noise floor loops with this period on long renders (21.8 s at 48 kHz)
 SPECTROGRAM_SECONDS = 60.0  # the spectrogram of a long render shows its first minute
 
 
@@ -129,25 +128,22 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     renderer = Renderer(plan, hum=settings.hum)
     passive = PassiveStream(design, sample_rate=fs, hum=settings.hum) if settings.passive else None
     noise = pnoise = None
-    extra_warnings: tuple[str, ...] = ()
-    if settings.noise:
-        from ..analysis.noise import noise_waveform
+    if settings.noise:  # drawn on block by block from the seed: the same floor as a render in memory
+        from ..analysis.noise import NoiseStream
 
-        noise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed)
-        extra_warnings = noise_warning(design, noise)
-        pnoise = noise_waveform(design, n=NOISE_PERIOD, sample_rate=fs, seed=settings.seed, passive=True) if passive else None
+        noise = NoiseStream(design, sample_rate=fs, seed=settings.seed)
+        pnoise = NoiseStream(design, sample_rate=fs, seed=settings.seed, passive=True) if passive else None
     wav = FloatWavWriter(out / f"{stem}.wav", sample_rate=fs, overwrite=True)
     pwav = FloatWavWriter(out / f"{stem}-passive.wav", sample_rate=fs, overwrite=True) if passive else None
     loud, spec = LoudnessMeter(sample_rate=fs), WelchSpectrum(sample_rate=fs)
     head: list[np.ndarray] = []  # the first minute, for the spectrogram
-    stats: dict[str, Any] = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf, "passive_peak": 0.0}
-    written = [0, 0]
+    stats: dict[str, Any] = {"peak": 0.0, "sq": 0.0, "n": 0, "amp_min": np.inf, "amp_max": -np.inf, "passive_peak": 0.0, "noise_sq": 0.0}
 
     def emit(y, amp, py):
         if noise is not None and y.size:
-            idx = np.arange(written[0], written[0] + y.size) % NOISE_PERIOD
-            y = y + noise[idx]
-        written[0] += y.size
+            floor = noise.take(y.size)
+            stats["noise_sq"] += float(np.sum(floor * floor))
+            y = y + floor
         if y.size:
             stats["peak"] = max(stats["peak"], float(np.abs(y).max()))
             stats["sq"] += float(np.sum(y * y))
@@ -162,9 +158,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
         spec.add(y)
         if pwav is not None and py is not None:
             if pnoise is not None and py.size:
-                idx = np.arange(written[1], written[1] + py.size) % NOISE_PERIOD
-                py = py + pnoise[idx]
-            written[1] += py.size
+                py = py + pnoise.take(py.size)
             if py.size:
                 stats["passive_peak"] = max(stats["passive_peak"], float(np.abs(py).max()))
             pwav.write(py / volts_full_scale)
@@ -188,6 +182,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
         raise
     fig = figures([design])[0]
     n = stats["n"]
+    extra_warnings = noise_warning(design, rms=float(np.sqrt(stats["noise_sq"] / max(n, 1)))) if noise is not None else ()
     s = {
         "peak_v": stats["peak"],
         "rms_v": float(np.sqrt(stats["sq"] / max(n, 1))),

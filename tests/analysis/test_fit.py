@@ -154,12 +154,26 @@ def test_fit_file_unknown_top_key_is_worded_as_in_a_design(tmp_path):
     assert len(res.output.strip().splitlines()) == 1
 
 
+def test_a_free_part_without_a_series_is_snapped_to_e24(tmp_path):
+    # project rule, no outside source (README, render fit: "a [free] entry without series is snapped to E24"); the
+    # E24 values from 22k to 47k are IEC 60063's 2.2 ... 4.7 (table above)
+    from render.analysis.fit import load_fit
+
+    fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\npeak_hz = {{ value = 4000, within = "5%" }}\n[free]\n"feedback.r" = {{ min = "22k", max = "47k" }}\n')
+    (free,) = load_fit(fit).free
+    assert free.series == "E24"
+    assert list(free.choices) == pytest.approx([22e3, 24e3, 27e3, 30e3, 33e3, 36e3, 39e3, 43e3, 47e3])
+    assert 'series = "…" is snapped to E24' in run("fit", "--help").output
+
+
 def test_fit_refuses_unreachable_aims(tmp_path):
     # the feedback resistor alone cannot move the resonance to 15 kHz
     fit = write_fit(tmp_path, f'from = "{REF}"\n[aim]\npeak_hz = {{ value = 15000, within = "1%" }}\n[free]\n"feedback.r" = {{ min = "22k", max = "470k" }}\n')
     res = run("fit", fit, "--out", tmp_path / "o")
     assert res.exit_code == 1
     assert "out of reach with these free parts" in res.output and "peak_hz = 15000" in res.output
+    # project rule, no outside source: the range given is what the designs tried measured, not a claim of what is reachable
+    assert "(the designs the search tried measured " in res.output and "search reached" not in res.output
 
 
 def test_an_aim_at_a_peak_the_design_does_not_have_says_so(tmp_path):

@@ -245,7 +245,29 @@ def test_missing_tables_and_keys():
 def test_impossible_notes():
     refused({"note": [{"time": 0, "pitch": "C2"}]}, r'pitch="C2": 65.41 Hz is outside the instrument\'s range')
     refused({"note": [{"time": 0, "pitch": "E2", "string": 1}]}, r"cannot be played on string 1")
-    refused({"note": [{"time": 0, "string": 1, "fret": 24, "pluck_at": "200mm"}]}, r'pluck_at="200mm": must be shorter than the vibrating length 162.0 mm')
+    refused({"note": [{"time": 0, "string": 1, "fret": 24, "pluck_at": "200mm"}]}, r'#1 pluck_at="200mm": must be shorter than the vibrating length 162.0 mm')
+
+
+def test_a_pluck_point_too_far_names_the_table_it_was_written_in():
+    # project rule, no outside source (bad input names what was wrong): the vibrating length of fret f is
+    # scale · 2^(-f/12) (equal temperament), 648 mm · 2^(-22/12) = 181.8 mm on string 1, fret 22; a pluck point
+    # the event takes from [playing] is named there, as written, with the event that uses it
+    assert 648 * 2 ** (-22 / 12) == pytest.approx(181.8, abs=0.05)
+    msg = refused(
+        {"playing": {"pluck_at": "300mm"}, "note": [{"time": 0, "string": 1, "fret": 22}]},
+        r'^p\.toml: \[playing\] pluck_at="300mm" \(used by \[\[note\]\] #1\): must be shorter than the vibrating length 181\.8 mm \(string 1, fret 22\)',
+    )
+    assert "[[note]] #1 pluck_at" not in msg and "0.3" not in msg
+    msg = refused(
+        {"playing": {"pluck_at": "300mm"}, "chord": [{"time": 0, "frets": ["x", "x", "x", "x", "x", 22]}]},
+        r'\[playing\] pluck_at="300mm" \(used by \[\[chord\]\] #1\): must be shorter than the vibrating length 181\.8 mm',
+    )
+    assert msg.endswith("give this [[chord]] a pluck_at of its own, or change [playing]'s")
+    # not written anywhere: the default (120 mm) is named as such; 250 mm · 2^(-15/12) = 105.1 mm
+    refused(
+        {"instrument": {"scale_length": "250mm"}, "note": [{"time": 0, "string": 1, "fret": 15}]},
+        r"\[\[note\]\] #1 pluck_at \(not given: the default 120 mm\): must be shorter than the vibrating length 105\.1 mm .*give this \[\[note\]\] or \[playing\] a pluck_at$",
+    )
     refused(
         {"note": [{"time": 1, "string": 2, "fret": 0}], "chord": [{"time": 1, "frets": [0, 2, 2, 1, 0, 0], "strum": 0}]},
         r"string 2 already starts a note at that moment",

@@ -104,6 +104,9 @@ def test_long_recording_renders_block_by_block(tmp_path):
     res = CliRunner().invoke(main, ["clips", str(REF), "--dry", str(tmp_path / "long.wav"), "--out", str(out), "--no-plots"])
     assert res.exit_code == 0, res.output
     assert "block by block" in res.output
+    # project rule, no outside source (README): the line names the full scale and why, and the option that sets it
+    assert "(full scale 10 V, fixed in advance from the designs' output windows because a recording over 120 s is streamed" in res.output
+    assert "so these clips may play much quieter); --volts-full-scale sets one;" in res.output
     info = sf.info(out / "studio-reference.wav")
     assert info.frames == x.size and info.subtype == "FLOAT"
     rec = json.loads((out / "studio-reference.json").read_text())
@@ -242,3 +245,43 @@ def test_a_clip_over_the_full_scale_is_named_whichever_wav_it_is(tmp_path, monke
     rec = json.loads((out / "quiet-gain.json").read_text())["measurements"]
     assert rec["passive_peak_v"] / 0.2 == pytest.approx(peak("quiet-gain-passive.wav"), rel=1e-6)  # float32 WAV
     assert "warning: quiet-gain (passive reference), studio-reference, studio-reference (passive reference) peak above the 0.2 V full scale" in res.output, res.output
+
+
+def test_a_streamed_render_with_noise_equals_the_one_in_memory(tmp_path, monkeypatch):
+    # project rule, no outside source (README: the streamed render "equals a single-block render to float
+    # rounding", --noise included): the floor is drawn on block by block from the seed, so the streamed WAVs
+    # (design and passive reference) equal the in-memory ones to the float32 rounding of the WAV, as without
+    # noise above; a short file takes the streamed path by lowering the switch
+    import render.runs.clips as clips
+
+    fs = 48000
+    t = np.arange(3 * fs) / fs
+    sf.write(tmp_path / "v.wav", (0.05 * np.sin(2 * np.pi * 196 * t) * np.exp(-(t % 1.0))).astype(np.float32), fs, subtype="FLOAT")
+    args = ["clips", str(REF), "--dry", str(tmp_path / "v.wav"), "--noise", "--passive", "--seed", "9", "--volts-full-scale", "1", "--no-plots"]
+    mem = CliRunner().invoke(main, [*args, "--out", str(tmp_path / "mem")])
+    monkeypatch.setattr(clips, "LONG_SECONDS", 1.0)
+    streamed = CliRunner().invoke(main, [*args, "--out", str(tmp_path / "streamed")])
+    assert mem.exit_code == 0 and streamed.exit_code == 0, mem.output + streamed.output
+    assert "block by block" in streamed.output and "block by block" not in mem.output
+    for name in ("studio-reference.wav", "studio-reference-passive.wav"):
+        a, _ = sf.read(tmp_path / "mem" / name)
+        b, _ = sf.read(tmp_path / "streamed" / name)
+        assert a.shape == b.shape
+        assert np.max(np.abs(a - b)) < 1e-6 * np.max(np.abs(a))  # float32 rounding of the WAV (2^-24 of a sample)
+    # the floor is there: the same render without --noise differs by far more than that
+    quiet = CliRunner().invoke(main, [a for a in args if a != "--noise"] + ["--out", str(tmp_path / "quiet")])
+    assert quiet.exit_code == 0, quiet.output
+    c, _ = sf.read(tmp_path / "quiet" / "studio-reference.wav")
+    b, _ = sf.read(tmp_path / "streamed" / "studio-reference.wav")
+    assert np.max(np.abs(b - c)) > 1e-5
+
+
+def test_the_streamed_full_scale_of_the_demo_designs():
+    # project rule, no outside source (README: "10 V for the 9 V demo designs, 20 V for high-rail-18v"): the
+    # 1-2-5 step at or above 2.2 × the largest headroom: 2.2 × 3.5 V = 7.7 V -> 10 V, 2.2 × 8 V = 17.6 V -> 20 V
+    from render.runs.clips import window_full_scale
+
+    for path in sorted((ROOT / "models").glob("*.toml")):
+        d = load_design(path)
+        want = 20.0 if path.stem == "high-rail-18v" else 10.0
+        assert window_full_scale([d]) == want, path.stem
