@@ -532,7 +532,7 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
 
     m : a :class:`render.magnetics.rejection.RejectionMap`; harmonic : 1 for the fundamental
     Clay where the coils cancel least, ink where they cancel most; an empty cell has no hum, a cell
-    marked "exact" cancels exactly (no finite rejection).
+    marked "exact" cancels exactly (no finite rejection); a harmonic the room lacks is said in words over the empty cells.
     """
     from matplotlib.colors import LinearSegmentedColormap
 
@@ -554,6 +554,9 @@ def rejection_map_plot(path, m, *, harmonic: int = 1, title: str = "", overwrite
                 ax.text(j, i, f"{round(float(r[i, j]))}", ha="center", va="center", fontsize=7, color="white" if dark < 0.2 or dark > 0.8 else "#222222")  # an int: never "-0"
             elif exact[i, j]:
                 ax.text(j, i, "exact", ha="center", va="center", fontsize=6, color="#222222")
+    absent = m.absent[harmonic - 1] if harmonic - 1 < len(m.absent) else None
+    if absent is not None:  # the room has no field at this harmonic: say so over the empty cells
+        ax.text(0.5, 0.5, f"no field at this harmonic ({absent}),\nso no hum to reject", transform=ax.transAxes, ha="center", va="center", fontsize=11, color="#222222")
     ax.set_xticks(range(nx), [f"{b:g}°" for b in m.bearing_deg], fontsize=8)
     ax.set_yticks(range(ny), [f"{d:g} m" for d in m.distance_m], fontsize=8)
     where = "x–y plane (top faces): 0° neck side, 90° treble side" if m.plane == "xy" else "x–z plane (along the strings): 0° neck side, 90° straight above"

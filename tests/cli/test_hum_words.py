@@ -74,6 +74,27 @@ def test_map_and_random_places_at_a_harmonic_the_room_lacks_are_words(tmp_path):
     assert np.all(np.isnan(p.rejection_db[:, 0])) and p.summary()[0]["absent"] == "the field has no such harmonic"
 
 
+def test_the_map_plot_at_a_harmonic_the_room_lacks_says_so(tmp_path, monkeypatch):
+    # the plot's cells are all empty there; the words the printed map uses go over them
+    import matplotlib.figure
+
+    texts = []
+    real = matplotlib.figure.Figure.savefig
+
+    def keep(fig, *a, **k):
+        texts.extend(t.get_text() for ax in fig.axes for t in ax.texts)
+        return real(fig, *a, **k)
+
+    monkeypatch.setattr(matplotlib.figure.Figure, "savefig", keep)
+    res = run("hum", BOBBIN, "--rig", rig(tmp_path, "[0, 0.5, 0.3]"), "--map-png", tmp_path / "m.png")
+    assert res.exit_code == 0, res.output
+    assert (tmp_path / "m.png").stat().st_size > 0
+    assert "no field at this harmonic (the field has no such harmonic),\nso no hum to reject" in texts
+    texts.clear()
+    assert run("hum", BOBBIN, "--map-png", tmp_path / "m2.png").exit_code == 0  # a room with a fundamental: figures, no words
+    assert texts and not any("no field" in t for t in texts)
+
+
 def test_the_json_says_its_amplitudes_are_peak(tmp_path):
     res = run("hum", BOBBIN, "--json", tmp_path / "h.json")
     assert res.exit_code == 0
