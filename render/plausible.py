@@ -253,10 +253,11 @@ def bandwidth_warnings(design) -> list[str]:
 
 
 def measured_warnings(design) -> list[str]:
-    """One line per measurement file whose sweep does not determine its coil's capacitance (both coils in one line when they share it).
+    """One line per measurement file whose sweep does not determine its coil's capacitance, and one where it does not
+    determine R_dc or the inductance at DC (both coils in one line when they share the file).
 
-    The judgement is :meth:`render.impedance.measured.MeasuredCoil.capacitance_doubt`'s,
-    kept in the coil's record when the design loaded.
+    The judgements are :meth:`render.impedance.measured.MeasuredCoil.capacitance_doubt`'s and
+    :meth:`~render.impedance.measured.MeasuredCoil.dc_doubt`'s, kept in the coil's record when the design loaded.
     """
     found: dict[tuple[str, str], list[str]] = {}
     for name in ("coil_a", "coil_b"):
@@ -264,10 +265,15 @@ def measured_warnings(design) -> list[str]:
         doubt = getattr(rec, "capacitance_doubt", "")
         if doubt:
             found.setdefault((rec.file, doubt), []).append(f"[{name}]")  # type: ignore[union-attr]
+    dc: dict[tuple[str, str], list[str]] = {}
+    for name in ("coil_a", "coil_b"):
+        rec = getattr(getattr(design, name), "impedance_from", None)
+        if doubt := getattr(rec, "dc_doubt", ""):
+            dc.setdefault((rec.file, doubt), []).append(f"[{name}]")  # type: ignore[union-attr]
     return [
         f'{" and ".join(names)} measured={U.shown(file)}: {doubt}; sweep on past the self-resonance, or add capacitance = "…" beside measured to hold C at the coil\'s value'
         for (file, doubt), names in found.items()
-    ]
+    ] + [f"{' and '.join(names)} measured={U.shown(file)}: {doubt}" for (file, doubt), names in dc.items()]
 
 
 def fill_warnings(design) -> list[str]:

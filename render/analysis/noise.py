@@ -205,7 +205,7 @@ class NoiseFloor:
             "noise_dbv": 20.0 * math.log10(self.total_v),
             "noise_a_weighted_v_rms": self.a_weighted_v,
             "noise_a_weighted_dbv": 20.0 * math.log10(self.a_weighted_v),
-            "signal_v_rms": self.signal_v,
+            **signal_record("signal_v_rms", self.signal_v, self.silent_reason),
             **self._snr_record(),
             "contributors": [c.as_dict() for c in self.contributors],
         }
@@ -243,7 +243,8 @@ class NoiseReport:
     passive : NoiseFloor
         Its passive reference's floor.
     opamp_peak_v : float, V
-        The reference sine's peak at the op-amp output (0 when the coils cancel it).
+        The reference sine's peak at the op-amp output (0 when the coils cancel it; at volume 0 it still swings, the
+        volume pot following the op-amp).
     onset_v : float, V
         From the op-amp output's bias to the soft limit's onset, the nearer side; above it
         ``reference_clips`` is True and ``warnings()`` says the SNRs are for the signal unclipped.
@@ -275,18 +276,35 @@ class NoiseReport:
             f" below {self.reference_velocity * self.onset_v / self.opamp_peak_v:.3g} m/s rms"
         ]
 
+    @property
+    def opamp_silent_reason(self) -> str | None:
+        """Why the op-amp output has no reference signal (its coils cancel it), or None: the volume pot follows the op-amp,
+        so at volume 0 the op-amp output still swings."""
+        from . import undefined as U
+
+        why = self.active.silent_reason
+        return None if why == U.VOLUME_ZERO else why
+
     def reference_signal(self) -> dict:
         return {
             "kind": "sine",
             "frequency_hz": REFERENCE_HZ,
             "string_velocity_m_per_s_rms": self.reference_velocity,
             "at": "both sensing points",
-            "output_v_rms": self.active.signal_v,
-            "passive_output_v_rms": self.passive.signal_v,
-            "opamp_output_peak_v": self.opamp_peak_v,
+            **signal_record("output_v_rms", self.active.signal_v, self.active.silent_reason),
+            **signal_record("passive_output_v_rms", self.passive.signal_v, self.passive.silent_reason),
+            **signal_record("opamp_output_peak_v", self.opamp_peak_v, self.opamp_silent_reason),
             "onset_v": self.onset_v,
             "clips": self.reference_clips,
         }
+
+
+def signal_record(key: str, value: float, reason: str | None) -> dict:
+    """``{key: value}``, or where there is no signal (``reason``: the volume at 0, coils that cancel it) ``None`` with the
+    reason beside it (:mod:`render.analysis.undefined`): an absent signal is words, not a 0 the setting decided."""
+    from . import undefined as U
+
+    return U.mark({}, key, reason) if reason else {key: value}
 
 
 def _floor(sources, f_int, f_out, signal_v, silent_reason=None) -> NoiseFloor:
@@ -343,7 +361,11 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
     silent, passive_silent = np.array([w is not None for w in why_silent]), np.array([w is not None for w in why_passive_silent])
     sig = np.where(silent, 0.0, np.abs(resp.velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
     sig_p = np.where(passive_silent, 0.0, np.abs(resp.passive_velocity()([REFERENCE_HZ])[:, 0]) * reference_velocity)
-    peak = np.where(silent, 0.0, np.abs(resp.velocity_to_amp_output()([REFERENCE_HZ])[:, 0]) * reference_velocity * math.sqrt(2.0))
+    from . import undefined as U
+
+    # the volume pot follows the op-amp: at volume 0 its output still swings (and may clip); coils that cancel leave it still
+    still = np.array([w is not None and w != U.VOLUME_ZERO for w in why_silent])
+    peak = np.where(still, 0.0, np.abs(resp.velocity_to_amp_output()([REFERENCE_HZ])[:, 0]) * reference_velocity * math.sqrt(2.0))
     f_int = integration_grid()
     f_out = output_grid() if frequency_hz is None else np.asarray(frequency_hz, float)
     out = []

@@ -108,7 +108,7 @@ class OneScale:
         rec: dict = {
             "circuit": self.circuit,
             "reference_signal": {"frequency_hz": self.reference_hz, "velocity_m_per_s_rms": self.reference_velocity},
-            "signal_v_rms": self.signal_v,
+            **({"signal_v_rms": self.signal_v} if self.signal_v > 0 else U.mark({}, "signal_v_rms", self.no_signal_reason)),
             "hum_v_rms": self.hum_v,
             "hum_a_weighted_v_rms": self.hum_a_v,
             "noise_v_rms": self.noise_v,

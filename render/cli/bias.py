@@ -28,19 +28,10 @@ def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
 
 
 def print_sweep(sw) -> None:
-    from ..analysis.bias import headroom_cell, onset_cell
-    from ..analysis.recovery import recovery_cell
-    from ..analysis.undefined import cell
+    from ..report.bias import sweep_lines
 
-    d = sw.design
-    click.echo(f"{d.name}  ({d.source}); divider {'parallel resistance kept' if sw.keep_load else 'total resistance kept'}; test sine 1 kHz, {sw.sine_velocity_m_per_s:.3g} m/s peak")
-    click.echo(f"  {'setting':26s} {'bias':>7s} {'headroom up/down':>17s} {'onset velocity up/down (m/s)':>29s} {'THD':>8s} {'H2':>8s} {'H3':>8s} {'after a 60 ms burst':>22s}")
-    for r in sw.rows:
-        q = r["sine"]
-        click.echo(
-            f"  {r['setting']:26s} {r['bias_v']:6.2f}V {headroom_cell(r, width=(7, 5)):>17s} {onset_cell(r, width=(13, 7)):>23s}"
-            f"      {cell(q, 'thd_percent', '6.2f', ' %'):>8s} {cell(q, 'h2_db', '6.1f', 'dB'):>8s} {cell(q, 'h3_db', '6.1f', 'dB'):>8s} {recovery_cell(r):>22s}"
-        )
+    for line in sweep_lines(sw):
+        click.echo(line)
 
 
 def print_bias_phrase(sw, clips) -> None:

@@ -48,20 +48,19 @@ def print_headroom(rows: list[tuple[str, PlayedHeadroom]]) -> None:
 def bias_phrase_lines(labels: list[str], played: list[PlayedHeadroom], rests: list | None = None) -> list[str]:
     """``render bias``'s phrase table: per setting, the limit's onsets as the phrase's strongest pluck and as dB above the phrase, and the share limited
     (``rests``: per setting, whether its output rests on a limit, :func:`render.analysis.bias.resting_limit`; then in words)."""
+    from ..report.table import aligned_pairs, table_lines
+
     plucks = {h.strongest_pluck_m for h in played}
     pluck = plucks.pop() if len(plucks) == 1 else None
     what = f"strongest pluck {format_strength(pluck)}" if pluck is not None else "a recording"
-    wide = 15 if any(h.at_rest() for h in played) else 8  # room for "limited at rest" in the dB column
+    rests = rests or [None] * len(played)
+    mm = aligned_pairs([RESTS_PLAYED if rest else f"{strength_cell(h, 'up')} / {strength_cell(h, 'down')}" for h, rest in zip(played, rests)])
+    db = aligned_pairs([RESTS_PLAYED if rest else f"{margin_cell(h, 'up')} / {margin_cell(h, 'down')}" for h, rest in zip(played, rests)])
+    rows = [(label, a, b, format_share(h.limited_fraction)) for label, a, b, h in zip(labels, mm, db, played)]
     lines = [
         f"the phrase at each setting ({what}): where the op-amp output reaches the limit's onset, up / down",
-        f"  {'setting':26s} {'as strongest pluck':^19s}   {'as dB above phrase':^{wide + 11}s}   {'limited':>9s}",
+        *table_lines(("setting", "as strongest pluck", "as dB above phrase", "limited"), rows, "lrrr"),
     ]
-    for label, h, rest in zip(labels, played, rests or [None] * len(played)):
-        mm = f"{strength_cell(h, 'up'):>8s} / {strength_cell(h, 'down'):<8s}"
-        db = f"{margin_cell(h, 'up'):>{wide}s} / {margin_cell(h, 'down'):<{wide}s}"
-        if rest:
-            mm = db = RESTS_PLAYED
-        lines.append(f"  {label:26s} {mm:>19s}   {db:>{2 * wide + 3}s}   {format_share(h.limited_fraction):>9s}")
     if any(h.guessed for h in played):
         lines.append(f"  {GUESS_NOTE}")
     return lines

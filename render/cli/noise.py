@@ -54,7 +54,7 @@ def summary_lines(r, top: int) -> list[str]:
         f"  {'':20s}{'active':{w}s}passive reference",
     ]
     out += [f"  {name:20s}{x:{w}s}{y}" for name, x, y in rows]
-    out += [f"  {floor.silent_reason}" for floor in (a, p) if floor.silent_reason]
+    out += [f"  {why}" for why in dict.fromkeys(floor.silent_reason for floor in (a, p) if floor.silent_reason)]  # one line per reason
     out.append("  largest contributors (share of the noise power, 20 Hz–20 kHz)")
     ca, cp = a.contributors[:top], p.contributors[:top]
     for i in range(max(len(ca), len(cp))):

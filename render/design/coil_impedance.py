@@ -79,6 +79,7 @@ class CoilSpec:
     wire_outer: float | None = None
     measured: str | None = None
     hold_capacitance: bool = False  # measured: the table's capacitance held in the fit
+    hold_resistance: bool = False  # measured: the table's resistance (an ohmmeter's R_dc) held in the fit
     ladder: Any = None  # a typed ladder (render.impedance.ladder.Ladder)
 
 
@@ -124,6 +125,8 @@ class MeasuredImpedance:
     rms_residual_deg: float
     capacitance_given: bool = False  # held at the design's capacitance, not fitted
     capacitance_doubt: str = ""  # why the sweep does not determine C (render.impedance.measured), or ""
+    resistance_given: bool = False  # R_dc held at the design's resistance, not fitted
+    dc_doubt: str = ""  # why the sweep does not determine R_dc or L at DC, its fix included (MeasuredCoil.dc_doubt), or ""
 
 
 def _inductances(raw: Any, loc: str, kind) -> tuple:
@@ -185,7 +188,7 @@ def split_coil(data: Any, *, source: str, table: str) -> tuple[Any, CoilSpec | N
     if "wire_outer" in spec and "wire" not in spec:
         raise InputError(f"{loc}: wire_outer given without wire; add wire (e.g. wire = 42) or remove wire_outer")
     how = "measured" if "measured" in spec else "wire"
-    typed = [k for k in TYPED if k in rest and not (how == "measured" and k == "capacitance")]
+    typed = [k for k in TYPED if k in rest and not (how == "measured" and k in ("capacitance", "resistance"))]
     if typed:
         what = "from the measurement" if how == "measured" else f"from [{table}.geometry] and wire"
         raise InputError(f"{loc}: {', '.join(typed)} given as well as {how}; the coil's impedance comes {what}: remove {', '.join(typed)}, or remove {how} to type the values")
@@ -197,7 +200,7 @@ def split_coil(data: Any, *, source: str, table: str) -> tuple[Any, CoilSpec | N
         outer = spec.get("wire_outer")
         out = CoilSpec("derived", wire=spec["wire"], wire_outer=outer)
     else:
-        out = CoilSpec("measured", measured=spec["measured"], hold_capacitance="capacitance" in rest)
+        out = CoilSpec("measured", measured=spec["measured"], hold_capacitance="capacitance" in rest, hold_resistance="resistance" in rest)
     return {**rest, **{k: v for k, v in PLACEHOLDER.items() if k not in rest}}, out
 
 
@@ -404,7 +407,7 @@ def _measured(coil, spec: CoilSpec, design, name: str):
     path = measurement_path(spec.measured, design.source)
     if not path.is_file():
         raise InputError(f"{where(design.source, name, 'measured')}={U.shown(spec.measured)}: no such file ({path}); the path is relative to the design file's folder")
-    m, fit = fit_file(path, capacitance=coil.capacitance if spec.hold_capacitance else None)
+    m, fit = fit_file(path, capacitance=coil.capacitance if spec.hold_capacitance else None, resistance=coil.resistance if spec.hold_resistance else None)
     record = MeasuredImpedance(
         file=spec.measured,
         path=str(path),
@@ -417,6 +420,8 @@ def _measured(coil, spec: CoilSpec, design, name: str):
         rms_residual_deg=fit.rms_residual_deg,
         capacitance_given=fit.capacitance_given,
         capacitance_doubt=fit.capacitance_doubt() or "",
+        resistance_given=fit.resistance_given,
+        dc_doubt=fit.dc_doubt() or "",
     )
     return replace(coil, inductance=fit.inductance, resistance=float(fit.resistance), capacitance=float(fit.capacitance), ladder=fit.ladder, impedance_from=record)
 

@@ -214,6 +214,31 @@ class MeasuredCoil:
             )
         return None
 
+    def dc_doubt(self) -> str | None:
+        """Why the sweep does not determine R_dc or the inductance at DC, as one line for a design whose coil is
+        ``measured`` (its fix in the design file's terms), or None when both are determined (or R_dc given).
+
+        The judgement is :meth:`resistance_doubt`'s and :meth:`inductance_doubt`'s; this is their wording for
+        ``render check`` and ``render clips``, where ``--resistance`` is ``resistance = "…"`` beside ``measured``.
+        """
+        from ..units import format_si
+
+        r_doubt, l_doubt = self.resistance_doubt(), self.inductance_doubt()
+        if r_doubt is None and l_doubt is None:
+            return None
+        hold = 'add resistance = "…" beside measured to hold R_dc at an ohmmeter\'s reading'
+        what = " and ".join(n for n, d in (("R_dc", r_doubt), ("L", l_doubt)) if d is not None)
+        values = " and ".join(format_si(v, u, 4) for v, u, d in ((self.resistance, "Ω", r_doubt), (self.inductance, "H", l_doubt)) if d is not None)
+        guess = f"the fitted {values} {'are guesses' if ' and ' in values else 'is a guess'}"
+        if (low := self._low_end()) is not None:  # the low end shows neither: measure lower, or hold R_dc
+            return f"{what} not determined: {low}{'' if self.resistance_given else ', or ' + hold}; {guess}"
+        why = []
+        if r_doubt is not None:
+            why.append(f"the fit's spread of R_dc is over {REACH_SD:.0%} (±{self.resistance_rel_sd:.0%}): {hold}")
+        if l_doubt is not None:
+            why.append(f"the fit's spread of the inductance at DC is over {REACH_SD:.0%}: sweep on to well above the corner R/(2πL), where the phase passes {LOW_END_DEG:g}°")
+        return f"{what} not determined: {'; '.join(why)}; {guess}"
+
     def self_resonance_hz(self) -> float:
         """Hz: where the fitted model's phase crosses zero from inductive to capacitive (searched 10 Hz–10 MHz)."""
         f = np.geomspace(10.0, 1e7, 4000)

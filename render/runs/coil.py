@@ -321,6 +321,14 @@ def floor_effect_db(fit: MeasuredCoil) -> float:
     return float(np.max(np.abs(20 * np.log10(np.abs(z_written) / np.abs(z_fit)))))
 
 
+def measured_note(coil: str, *, resistance_given: bool, capacitance_given: bool) -> str:
+    """What ``measured = …`` replaces in a written coil table, and which held values to keep beside it."""
+    held = [k for k, given in (("resistance", resistance_given), ("capacitance", capacitance_given)) if given]
+    replaced = [k for k in ("resistance", "capacitance") if k not in held] + [f"[{coil}.ladder]"]
+    keep = f"; keep {' and '.join(held)} beside it to hold {' and '.join('R_dc' if k == 'resistance' else 'C' for k in held)}" if held else ""
+    return f" (in place of {', '.join(replaced[:-1])} and {replaced[-1]}{keep})" if len(replaced) > 1 else f" (in place of {replaced[0]}{keep})"
+
+
 def band_text(band: dict) -> str:
     """A residual band's span as printed: "20 Hz – 1 kHz"."""
     return f"{U.format_si(band['from_hz'], 'Hz', 3)} – {U.format_si(band['to_hz'], 'Hz', 3)}"
@@ -448,8 +456,7 @@ def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | No
         lines.append("# resistance held at the value given (--resistance), not fitted")
     lines += [f"# WARNING: {w}" for w in fit_warnings(result)]
     lines += [
-        f'# or, to keep the measurement itself: measured = "{measured_as or m.source}"'
-        + (f" (in place of resistance and [{coil}.ladder]; keep capacitance beside it to hold C)" if fit.capacitance_given else f" (in place of resistance, capacitance and [{coil}.ladder])"),
+        f'# or, to keep the measurement itself: measured = "{measured_as or m.source}"' + measured_note(coil, resistance_given=fit.resistance_given, capacitance_given=fit.capacitance_given),
         f"[{coil}]",
         f"resistance = {_value(fit.resistance, '')}",
         f"capacitance = {_value(written_capacitance(fit), 'F')}",

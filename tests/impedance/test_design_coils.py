@@ -59,7 +59,7 @@ def test_air_core_coil_from_wire_and_geometry():
         ({"wire": 42, "geometry": GEOMETRY, "inductance": "1H"}, "inductance given as well as wire"),
         ({"wire": 42}, "wire needs [coil_a.geometry]"),
         ({"wire": 42, "geometry": GEOMETRY, "measured": "x.csv"}, "measured and wire both given"),
-        ({"measured": "x.csv", "resistance": "4k"}, "resistance given as well as measured"),
+        ({"measured": "x.csv", "inductance": "2H"}, "inductance given as well as measured"),  # resistance and capacitance beside it are held in the fit
         ({"measured": "no-such.csv"}, "no such file"),
         ({"wire": 42, "wire_outer": "0.05mm", "geometry": GEOMETRY}, "not above the bare wire"),
         ({"resistance": "4k", "capacitance": "90p", "inductance": "1H", "ladder": {"series_inductance": "1H"}}, "inductance given as well as [coil_a.ladder]"),
