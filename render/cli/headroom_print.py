@@ -9,9 +9,12 @@ from ..analysis.headroom import AT_REST_CELL, GUESS_NOTE, LEFT_RANGE, PlayedHead
 
 
 def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
-    """The table's lines: per render the margin above and below, where the limit is reached, and the share limited."""
+    """The table's lines: per render the margin above and below, where the limit is reached, and the share limited.
+
+    Columns keep their usual widths and widen to the widest cell, so words ("limited at rest") never push a row out of line.
+    """
     width = max([len(name) for name, _ in rows] + [20])
-    lines = [f"{indent}{'':{width}s}  {'margin up / down':^19s}   {'limit reached at':^20s}   {'limited':>9s}"]
+    cells = []
     for name, h in rows:
         strength = h.strength_at_limit_m()
         if h.at_rest():
@@ -21,8 +24,16 @@ def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  "
             reach = ("beyond " + format_strength(edge) if edge else "past the flux range") if h.searched_reason == LEFT_RANGE else "not found"
         else:
             reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength, guessed=h.guessed)} ({format_margin(h.limit_db_above)})"
-        margins = f"{margin_cell(h, 'up'):>8s} / {margin_cell(h, 'down'):<8s}"
-        lines.append(f"{indent}{name:{width}s}  {margins:19s}   {reach:^20s}   {format_share(h.limited_fraction):>9s}")
+        up, down = margin_cell(h, "up"), margin_cell(h, "down")
+        cells.append((name, up, down, reach, format_share(h.limited_fraction)))
+    wu = max([8] + [len(c[1]) for c in cells])
+    wd = max([8] + [len(c[2]) for c in cells])
+    wm = max(19, wu + wd + 3)
+    wr = max([20] + [len(c[3]) for c in cells])
+    lines = [f"{indent}{'':{width}s}  {'margin up / down':^{wm}s}   {'limit reached at':^{wr}s}   {'limited':>9s}"]
+    for name, up, down, reach, share in cells:
+        margins = f"{up:>{wu}s} / {down:<{wd}s}"
+        lines.append(f"{indent}{name:{width}s}  {margins:{wm}s}   {reach:^{wr}s}   {share:>9s}")
     if any(h.guessed for _, h in rows):
         lines.append(f"{indent}{GUESS_NOTE}")
     return lines

@@ -171,3 +171,24 @@ def test_strengths_print_three_digits_without_a_bare_point():
 
     assert [format_strength(m) for m in (0.002, 0.0125, 0.175, 0.274)] == ["2.00 mm", "12.5 mm", "175 mm", "274 mm"]
     assert format_strength(None) == "—" and format_strength(0.003, guessed=True) == "≈3.00 mm"
+
+
+def test_the_headroom_table_keeps_its_columns_when_a_side_is_limited_at_rest():
+    # a bias inside the knee (1.2 V, with the knee from 1.0 to 1.5 V) is limited at rest on its low side
+    # (README, "limited at rest"); its cell's words widen the column for every row instead of pushing
+    # that row's later cells out of line
+    from render.analysis.headroom import AT_REST_MARGIN_CELL, played_headroom
+    from render.chain.limit import Window
+    from render.cli.headroom_print import headroom_lines
+
+    window = Window(low=1.0, high=8.0, knee=0.5)
+    rest = played_headroom(linear_min_v=1.1, linear_max_v=1.3, bias_v=1.2, window=window, limited_fraction=0.5, strongest_pluck_m=0.001)
+    fine = played_headroom(linear_min_v=3.0, linear_max_v=6.0, bias_v=4.5, window=window, limited_fraction=0.0, strongest_pluck_m=0.001)
+    assert rest.at_rest("down")
+    lines = headroom_lines([("resting", rest), ("centred", fine)])
+    assert AT_REST_MARGIN_CELL in lines[1]
+    # the last column (share limited) ends at the same place on every line, the heading's included
+    assert len({len(line) for line in lines}) == 1, lines
+    # and a table of ordinary rows keeps its usual widths (the README's printed tables)
+    plain = headroom_lines([("centred", fine)])
+    assert len(plain[0]) == 2 + 20 + 2 + 19 + 3 + 20 + 3 + 9
