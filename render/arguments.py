@@ -47,17 +47,25 @@ def number(name: str, value: object, *, lo: float | None = None, hi: float | Non
     return x
 
 
-def whole(name: str, value: object, *, lo: int = 1, hint: str = "", option: str | None = None) -> int:
-    """A whole number (int or a numpy integer, never a float or bool) of at least ``lo``."""
+def whole(name: str, value: object, *, lo: int = 1, hi: int | None = None, hint: str = "", option: str | None = None) -> int:
+    """A whole number (int or a numpy integer, never a float or bool) of at least ``lo`` (and at most ``hi``)."""
     try:
         n = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]
     except TypeError:
         n = None
+    span = f"from {lo} to {hi}" if hi is not None else f"of at least {lo}"
     if n is None:
-        raise ArgumentError(name, shown(value), f"must be a whole number of at least {lo}{hint}", option=option)
-    if n < lo:
-        raise ArgumentError(name, shown(value), f"must be at least {lo}{hint}", option=option)
+        raise ArgumentError(name, shown(value), f"must be a whole number {span}{hint}", option=option)
+    if n < lo or (hi is not None and n > hi):
+        raise ArgumentError(name, shown(value), f"must be {span.removeprefix('of ')}{hint}", option=option)
     return n
+
+
+def seed(name: str, value: object) -> int:
+    """A seed: a whole number from 0 to 2**32 - 1, the range every ``--seed`` takes (:data:`render.option_checks.SEED_MAX`)."""
+    from .option_checks import SEED_MAX
+
+    return whole(name, value, lo=0, hi=SEED_MAX, hint=" (2**32-1); 0 is the default")
 
 
 def numbers(name: str, value: object, *, hint: str = "", option: str | None = None) -> tuple[float, ...]:

@@ -67,7 +67,7 @@ class RenderSettings:
         sample_rate(self.sample_rate)
         if self.seconds is not None:  # the shortest phrase or recording a render takes (a pluck's first periods)
             A.number("seconds", self.seconds, lo=MIN_SECONDS, unit="s", hint="; None plays the dry signal's own length")
-        A.whole("seed", self.seed, lo=0)
+        A.seed("seed", self.seed)
         A.number("velocity_scale", self.velocity_scale, lo=0.0, lo_open=True, hi=1e3, unit="m/s", hint=" (the string velocity at a recording's full scale)")
         if self.seconds is not None and round(self.seconds * self.sample_rate) < 1:
             raise ArgumentError("seconds", f"{self.seconds:g}", f"shorter than one sample at {self.sample_rate} Hz: a clip needs samples; None plays the dry signal's own length")
@@ -232,19 +232,6 @@ def loudness_stats(meter) -> dict:
     return {"loudness_lufs_1v_full_scale": meter.integrated(), LOUDNESS_BLOCKS: tuple(meter.block_powers().tolist())}
 
 
-def _velocity_array(velocity) -> np.ndarray:
-    """A bare velocity array as ``render_clip`` takes it: shape (n,) or (2, n), finite, m/s; else one line saying what to give."""
-    try:
-        v = np.asarray(velocity, dtype=float)
-    except (TypeError, ValueError):
-        raise InputError("velocity: not an array of numbers; give string velocity in m/s, shape (n,) or (2, n)") from None
-    if not (v.ndim == 1 or (v.ndim == 2 and v.shape[0] == 2)):
-        raise InputError(f"velocity: shape {v.shape}; give shape (n,) for both sensing points or (2, n) for coil_a's and coil_b's")
-    if not np.all(np.isfinite(v)):
-        raise InputError("velocity: holds NaN or infinite samples; give finite string velocity in m/s")
-    return v
-
-
 def _no_samples(v: np.ndarray) -> None:
     if v.shape[-1] == 0:
         raise ArgumentError("velocity", f"array of shape {v.shape}", "no samples: a clip needs at least one; give string velocity in m/s, shape (n,) or (2, n)")
@@ -295,7 +282,7 @@ def render_clip(
     from .analysis.figures import figures
     from .chain.stream import make_plan, render_signal
     from .design import apply_rig
-    from .dry import Dry
+    from .dry import Dry, velocity_array
     from .units import shown
     from .validate import sample_rate as check_rate
 
@@ -307,17 +294,18 @@ def render_clip(
             shown(os.fspath(velocity)),
             "a file's path is not a velocity: load a phrase or a recording with render.load_dry(path, …), or synthesize a phrase with render.synthesize(…), and pass the Dry it gives",
         )
-    if isinstance(velocity, Dry):
+    seed = A.seed("seed", seed)  # checked with or without noise: a bad seed is refused whatever else is asked
+    if isinstance(velocity, Dry):  # its velocity and sample rate were checked when it was made
         dry_record, dry_warnings = dict(velocity.description), tuple(velocity.warnings)
-        if sample_rate is not None and int(sample_rate) != velocity.sample_rate:
-            raise InputError(f"sample_rate={sample_rate}: the dry signal is at {velocity.sample_rate} Hz; leave sample_rate out or resample it")
+        if sample_rate is not None and check_rate(sample_rate) != velocity.sample_rate:
+            raise ArgumentError("sample_rate", shown(sample_rate), f"the dry signal is at {velocity.sample_rate} Hz; leave sample_rate out or resample it")
         fs = velocity.sample_rate
         v = velocity.velocity
     else:
-        v = _velocity_array(velocity)
+        v = velocity_array(velocity)
         if sample_rate is None:
-            raise InputError("sample_rate: required when the velocity is a bare array; give it in Hz (e.g. 48000)")
-        fs = check_rate(sample_rate, name="sample_rate")
+            raise ArgumentError("sample_rate", "None", "required when the velocity is a bare array; give it in Hz, e.g. 48000")
+        fs = check_rate(sample_rate)
         dry_record, dry_warnings = {"kind": "array"}, ()
     _no_samples(v)
     plan = make_plan(design, sample_rate=fs, resampler=resampler) if resampler is not None else None

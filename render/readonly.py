@@ -14,21 +14,32 @@ import dataclasses
 import numpy as np
 
 
-def _view(v: np.ndarray) -> np.ndarray:
-    w = v.view()
+def _frozen(v: np.ndarray) -> bool:
+    """True when nobody can write into ``v``'s samples: ``v`` and the array that owns its memory are both read-only."""
+    root = v
+    while isinstance(root.base, np.ndarray):
+        root = root.base
+    return not v.flags.writeable and root.base is None and root.flags.owndata and not root.flags.writeable
+
+
+def _locked(v: np.ndarray) -> np.ndarray:
+    if _frozen(v):
+        return v  # already nobody's to change (another result's array): shared, not copied
+    w = np.array(v, copy=True)
     w.flags.writeable = False
     return w
 
 
 def lock_arrays(obj: object) -> None:
-    """Hold each numpy array among ``obj``'s dataclass fields (and the values of a dict field) as a read-only view.
+    """Hold each numpy array among ``obj``'s dataclass fields (and the values of a dict field) read-only.
 
-    A view, not the array itself: the array a caller passed in (a frequency grid, a velocity) stays
-    writable for the caller, while the result's own handle on it cannot write.
+    An array that anyone could still write into (the frequency grid or velocity a caller passed in,
+    or a view of one) is copied first, so the caller's array stays theirs to change and the result
+    does not change with it; an array already frozen (another result's) is shared as it is.
     """
     for f in dataclasses.fields(obj):  # type: ignore[arg-type]
         value = getattr(obj, f.name)
         if isinstance(value, np.ndarray):
-            object.__setattr__(obj, f.name, _view(value))
+            object.__setattr__(obj, f.name, _locked(value))
         elif isinstance(value, dict):
-            object.__setattr__(obj, f.name, {k: _view(v) if isinstance(v, np.ndarray) else v for k, v in value.items()})
+            object.__setattr__(obj, f.name, {k: _locked(v) if isinstance(v, np.ndarray) else v for k, v in value.items()})

@@ -257,3 +257,91 @@ def test_a_map_and_a_shell_clear_of_both_coils_are_accepted():
     d = render.load_design(ROOT / "models" / "studio-reference.toml")
     assert render.hum_map(d, distances_m=(0.109, 0.5)).rejection_db.shape[0] == 2
     assert render.hum_positions(d, trials=10, shell=np.array([0.11, 1.0])).trials == 10
+
+
+def test_a_result_keeps_its_figures_when_the_caller_changes_the_array_passed_in():
+    # the result holds its own read-only copy: the caller's grid stays theirs to change, and changing it changes nothing in the result
+    d = render.load_design(REF)
+    f = np.array([100.0, 1000.0])
+    r = render.response(d, f)
+    before = r.magnitude_db.copy()
+    f[0] = 5000.0
+    assert list(r.frequency_hz) == [100.0, 1000.0] and np.array_equal(r.magnitude_db, before)
+    distances = np.array([0.5, 1.0])
+    m = render.hum_map(d, distances_m=distances, bearings_deg=(0.0,))
+    distances[0] = 7.0
+    assert list(m.distance_m) == [0.5, 1.0]
+    v = np.zeros((2, 4800))
+    dry = render.Dry(velocity=v, sample_rate=48000)
+    v[0, 0] = 1.0
+    assert dry.velocity[0, 0] == 0.0
+    shared = render.Dry(velocity=dry.velocity, sample_rate=48000)  # an array nobody can write into is shared, not copied
+    assert shared.velocity is dry.velocity
+
+
+@pytest.mark.parametrize(
+    "velocity, sample_rate, argument, words",
+    [
+        (np.zeros((2, 5)), -1, "sample_rate", "must be from 8000 to 384000 Hz"),  # rendered, it ran for more than a minute
+        (np.zeros((2, 5)), 48000.7, "sample_rate", "a whole number"),
+        (np.zeros((2, 5)), "abc", "sample_rate", "a whole number"),
+        (np.full((2, 5), np.nan), 48000, "velocity", "NaN or infinite samples (the first at sample 0)"),
+        (np.zeros((3, 5)), 48000, "velocity", "give shape (2, n)"),
+        (np.zeros(5), 48000, "velocity", "np.vstack([v, v])"),
+        (np.zeros((2, 5), dtype=complex), 48000, "velocity", "complex samples"),
+        ("abc", 48000, "velocity", "not an array of real numbers"),
+    ],
+)
+def test_a_dry_signal_is_checked_when_made(velocity, sample_rate, argument, words):
+    assert words in _refused(lambda: render.Dry(velocity=velocity, sample_rate=sample_rate), argument)
+
+
+def test_render_clip_checks_a_sample_rate_and_velocity_alike_with_a_dry_or_an_array():
+    # one check of a sample rate (render.validate.sample_rate) for both: a whole number from 8000 to 384000 Hz
+    d = render.load_design(REF)
+    dry = render.Dry(velocity=np.zeros((2, 480)), sample_rate=48000)
+    for rate in (48000.7, 48000.0, "abc"):
+        a = _refused(lambda: render.render_clip(d, dry, sample_rate=rate), "sample_rate")
+        b = _refused(lambda: render.render_clip(d, np.zeros(480), sample_rate=rate), "sample_rate")
+        assert a == b
+    assert "the dry signal is at 48000 Hz" in _refused(lambda: render.render_clip(d, dry, sample_rate=44100), "sample_rate")
+    assert render.render_clip(d, dry, sample_rate=48000).sample_rate == 48000
+    _refused(lambda: render.render_clip(d, np.zeros(480), sample_rate=None), "sample_rate")
+    assert "complex samples" in _refused(lambda: render.render_clip(d, np.zeros(480) + 1j, sample_rate=48000), "velocity")
+    assert "NaN" in _refused(lambda: render.render_clip(d, np.full(480, np.inf), sample_rate=48000), "velocity")
+
+
+@pytest.mark.parametrize("seed", [-1, 1.5, "3", True, 2**32])
+def test_seeds_are_whole_numbers_everywhere(seed, tmp_path):
+    # the range of every --seed (render.option_checks.SEED_MAX: 0 .. 2**32-1, what scipy's optimisers take)
+    d = render.load_design(REF)
+    for call in (
+        lambda: render.hum_tolerances(d, trials=10, seed=seed),
+        lambda: render.hum_positions(d, trials=10, seed=seed),
+        lambda: render.hum_positions(d, trials=10, seed=seed, joint=True),
+        lambda: render.render_clip(d, np.zeros(480), sample_rate=48000, seed=seed),  # noise=False: refused all the same
+        lambda: render.synthesize(PHRASE, positions=(0.1, 0.05), apertures=0.01, sample_rate=48000, seed=seed),
+        lambda: render.RenderSettings(seed=seed),
+        lambda: render.fit(FIT, out=tmp_path / "f", seed=seed),
+        lambda: render.fit_and_render(FIT, out=tmp_path / "g", seed=seed),
+    ):
+        assert "from 0 to 4294967295" in _refused(call, "seed")
+    assert not any(tmp_path.iterdir())  # refused before any folder was made
+
+
+def test_trials_are_whole_numbers_for_both_monte_carlos():
+    d = render.load_design(REF)
+    for trials in (1.5, 0, "10"):
+        a = _refused(lambda: render.hum_tolerances(d, trials=trials), "trials")
+        assert a == _refused(lambda: render.hum_positions(d, trials=trials), "trials")
+    _refused(lambda: render.hum_positions(d, trials=10, joint="yes"), "joint")
+
+
+def test_switches_and_map_axes_are_named_as_python_names_them():
+    d = render.load_design(REF)
+    assert "pass True or False" in _refused(lambda: render.bias_sweep(d, keep_load="no"), "keep_load")
+    for distances in (0.5, (), (0.5, -1.0), np.array([0.5, np.nan])):
+        assert _refused(lambda: render.hum_map(d, distances_m=distances), "distances_m").endswith("must be a sequence of positive distances in m, e.g. (0.5, 1.0)")
+    assert _refused(lambda: render.hum_map(d, distances_m=0.5), "distances_m").startswith("distances_m=0.5: ")
+    assert "sequence of finite bearings" in _refused(lambda: render.hum_map(d, bearings_deg=90), "bearings_deg")
+    _refused(lambda: render.hum_map(d, plane="yz"), "plane")

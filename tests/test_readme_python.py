@@ -104,3 +104,66 @@ def test_the_blind_block_builds_a_session_that_scores(tmp_path):
     finally:
         os.chdir(cwd)
     assert 0.0 <= p <= 1.0
+
+
+# What a complete signature in the README's table of public names leaves out, and why.
+LEFT_OUT = {
+    ("synthesize", "pickup"): "a design's construction for its field solve; render.load_dry and render_clips pass it",
+    ("render_clip", "resampler"): "a batch's shared resampler: speed only, the samples do not depend on it",
+}
+
+
+def _split_arguments(text: str) -> list[str]:
+    """The arguments of a call as written, split at the commas outside brackets."""
+    out, depth, word = [], 0, ""
+    for c in text:
+        depth += c in "([{"
+        depth -= c in ")]}"
+        if c == "," and depth == 0:
+            out.append(word.strip())
+            word = ""
+        else:
+            word += c
+    return out + [word.strip()] if word.strip() else out
+
+
+def test_the_readme_table_of_public_names_gives_their_signatures_as_the_code_has_them():
+    # each `name(...)` in the table names only real parameters, with their real defaults; one written whole
+    # (with a `*,` and no `…`) names every parameter but those LEFT_OUT, so a new keyword (passive=) cannot go unsaid
+    import inspect
+
+    import render
+
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    section = text[text.index("## Using render from Python") :]
+    rows = [line.split(" | ")[0] for line in section.splitlines() if line.startswith("| `")]
+    calls = [c for row in rows for c in re.findall(r"`(\w+)\(([^`]*)\)`", row)]
+    assert {"render_clip", "synthesize", "response"} <= {name for name, _ in calls}
+    for name, written in calls:
+        params = inspect.signature(getattr(render, name)).parameters
+        words = _split_arguments(written)
+        whole = "*" in words and "…" not in written
+        keyword = False
+        named = set()
+        positional = [p for p in params.values() if p.kind is not inspect.Parameter.KEYWORD_ONLY]
+        for i, word in enumerate(words):
+            if word == "*":
+                keyword = True
+                continue
+            if word == "…":
+                continue
+            key, _, default = word.partition("=")
+            if not key.isidentifier():  # an example value ({"table.key": value}) in a positional place
+                assert not keyword and i < len(positional), (name, word)
+                named.add(positional[i].name)
+                continue
+            assert key in params or not whole, f"README: {name}({written}): no parameter {key}"
+            if key not in params:
+                continue  # a shortened row's own word for a positional argument (di for di_path)
+            named.add(key)
+            assert (params[key].kind is inspect.Parameter.KEYWORD_ONLY) == keyword or not whole, (name, key)
+            if default and default != "…":
+                assert default == repr(params[key].default), f"README: {name}: {key}={default}, the code's default is {params[key].default!r}"
+        if whole:
+            unsaid = {p for p in params if p not in named and (name, p) not in LEFT_OUT}
+            assert not unsaid, f"README: {name}({written}) leaves out {sorted(unsaid)}"

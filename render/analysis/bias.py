@@ -314,7 +314,7 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
         ratios = A.numbers("ratios", ratios)
     if sine_velocity is not None:
         A.number("sine_velocity", sine_velocity, lo=SINE_VELOCITY_RANGE[0], hi=SINE_VELOCITY_RANGE[1], unit="m/s", option="--sine-velocity")
-    jobs = A.whole("jobs", jobs)
+    jobs, keep_load = A.whole("jobs", jobs), A.flag("keep_load", keep_load)
     listed = {name: ",".join(f"{x:g}" for x in v) for name, v in (("tops", tops), ("bottoms", bottoms)) if v is not None}
     if len(listed) == 1:
         ((name, text),) = listed.items()

@@ -419,9 +419,10 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     any is evaluated, so results are identical for a seed whatever ``chunk``
     or ``jobs`` is.
     """
+    from ..arguments import seed as check_seed
     from ..arguments import whole
 
-    trials, chunk, jobs = whole("trials", trials), whole("chunk", chunk), whole("jobs", jobs)
+    trials, chunk, jobs, seed = whole("trials", trials), whole("chunk", chunk), whole("jobs", jobs), check_seed("seed", seed)
     tol, draws = part_draws(design, tolerances=tolerances, trials=trials, seed=seed)
     f, _ = field_derivative(design.hum)
     spans = [(s, min(trials, s + chunk)) for s in range(0, trials, chunk)]

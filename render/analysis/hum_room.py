@@ -109,10 +109,12 @@ def hum_positions(design, *, rig=None, trials: int = 2000, seed: int = 0, shell=
     """
     from dataclasses import replace
 
+    from .. import arguments as A
     from ..design import apply_rig
     from ..magnetics.rejection import without_absent
     from .hum import check_tolerances
 
+    trials, seed, jobs, joint = A.whole("trials", trials), A.seed("seed", seed), A.whole("jobs", jobs), A.flag("joint", joint)
     check_tolerances(tolerances)  # refused before any work, with or without joint
     check_places(apply_rig(design, rig), shell=shell)
     d, coils, f = _setup(design, rig)

@@ -67,13 +67,44 @@ class Dry:
     description: dict = field(default_factory=dict)
 
     def __post_init__(self) -> None:
+        """Refuse a velocity or a sample rate no render can play, naming the argument, before any work."""
         from ..readonly import lock_arrays
+        from ..validate import sample_rate
 
+        object.__setattr__(self, "velocity", velocity_array(self.velocity, rows=2))
+        object.__setattr__(self, "sample_rate", sample_rate(self.sample_rate))
         lock_arrays(self)
 
     @property
     def seconds(self) -> float:
         return self.velocity.shape[1] / self.sample_rate
+
+
+def velocity_array(value: object, *, rows: int | None = None, name: str = "velocity") -> np.ndarray:
+    """String velocity in m/s as a float array: real, finite, shape (2, n) (coil_a's row, then coil_b's) or,
+    unless ``rows`` is 2, (n,) for both sensing points; else one :class:`~render.errors.ArgumentError` line
+    naming ``name``, what is wrong and what to give. The one check of a velocity a :class:`Dry` holds and
+    :func:`render.clip.render_clip` takes as a bare array."""
+    from ..errors import ArgumentError
+    from ..units import shown
+
+    shapes = "shape (2, n), coil_a's row then coil_b's" + ("" if rows == 2 else ", or (n,) for both sensing points")
+    try:
+        raw = np.asarray(value)
+    except (TypeError, ValueError):  # a ragged list
+        raw = np.asarray(None)
+    if raw.dtype.kind == "c":
+        raise ArgumentError(name, f"array of {raw.dtype} of shape {raw.shape}", "complex samples; give the real string velocity in m/s (np.real(v) if its imaginary part is zero)")
+    if raw.dtype.kind not in "iuf" or raw.ndim == 0:
+        raise ArgumentError(name, shown(value), f"not an array of real numbers; give string velocity in m/s, {shapes}")
+    if not (raw.ndim == 2 and raw.shape[0] == 2) and not (raw.ndim == 1 and rows != 2):
+        one = "; for one velocity at both points stack it: np.vstack([v, v])" if rows == 2 and raw.ndim == 1 else ""
+        raise ArgumentError(name, f"array of shape {raw.shape}", f"give {shapes}{one}")
+    v = raw.astype(float, copy=False)
+    bad = np.flatnonzero(~np.isfinite(v).all(axis=0) if v.ndim == 2 else ~np.isfinite(v))
+    if bad.size:
+        raise ArgumentError(name, f"array of shape {v.shape}", f"holds NaN or infinite samples (the first at sample {bad[0]}); give finite string velocity in m/s")
+    return v
 
 
 def default_dry_path() -> Path:

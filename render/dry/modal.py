@@ -268,12 +268,13 @@ class Plucks:
 
 def plucks(phrase: Phrase, *, sample_rate: int, seed: int, seconds: float | None) -> Plucks:
     """Check the rate, length and seed of a phrase's synthesis and draw each note's jitter (see :class:`Plucks`)."""
+    from render.arguments import seed as check_seed
+
     fs = _check_rate(sample_rate)
     total = phrase.seconds if seconds is None else seconds
     if not (isinstance(total, (int, float)) and math.isfinite(total) and 0 < total <= 3600):
         raise InputError(f"seconds={shown(total)}: the length must be > 0 s and <= 3600 s")
-    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
-        raise InputError(f"seed={shown(seed)}: must be a whole number >= 0")
+    seed = check_seed("seed", seed)
     notes = phrase.notes
     rng = np.random.default_rng(int(seed))
     jitter = rng.uniform(-1.0, 1.0, size=(len(notes), 3))

@@ -37,7 +37,7 @@ import numpy as np
 from ..analysis import undefined as U
 from ..analysis.figures import rejection_db
 from ..analysis.undefined import REJECTION_CAP_DB
-from ..errors import InputError
+from ..errors import ArgumentError, InputError
 from ..units import shown
 from .hum import HumEmf
 
@@ -188,13 +188,13 @@ def coupling_rejection(k_a, k_b, *, from_a, from_b, hum_polarity=(1, 1)) -> np.n
 
 
 def map_positions(distances_m, bearings_deg, plane: str) -> np.ndarray:
-    """Dipole places for a map: shape (D, B, 3), m (see the module docstring for the planes)."""
-    d = np.asarray(distances_m, dtype=float)
-    t = np.deg2rad(np.asarray(bearings_deg, dtype=float))
-    if d.ndim != 1 or d.size == 0 or not np.all(np.isfinite(d)) or np.any(d <= 0):
-        raise InputError(f"distances={list(np.atleast_1d(d))}: expected positive distances in metres")
-    if t.ndim != 1 or t.size == 0 or not np.all(np.isfinite(t)):
-        raise InputError(f"bearings={list(np.atleast_1d(bearings_deg))}: expected finite bearings in degrees")
+    """Dipole places for a map: shape (D, B, 3), m (see the module docstring for the planes).
+
+    ``distances_m`` and ``bearings_deg`` are sequences (a single number is refused, with the form to give);
+    a bad one is an :class:`~render.errors.ArgumentError` naming it as :func:`render.hum_map` does.
+    """
+    d = _axis("distances_m", distances_m, "a sequence of positive distances in m, e.g. (0.5, 1.0)", positive=True)
+    t = np.deg2rad(_axis("bearings_deg", bearings_deg, "a sequence of finite bearings in degrees, e.g. (0, 90, 180)"))
     p = np.zeros((d.size, t.size, 3))
     p[..., 0] = d[:, None] * np.cos(t)[None, :]
     if plane == "xy":
@@ -202,8 +202,20 @@ def map_positions(distances_m, bearings_deg, plane: str) -> np.ndarray:
     elif plane == "xz":
         p[..., 2] = d[:, None] * np.sin(t)[None, :]
     else:
-        raise InputError(f"plane={shown(plane)}: expected 'xy' (the top faces' plane) or 'xz' (the vertical plane along the strings)")
+        raise ArgumentError("plane", shown(plane), "expected 'xy' (the top faces' plane) or 'xz' (the vertical plane along the strings)")
     return p
+
+
+def _axis(name: str, value, what: str, *, positive: bool = False) -> np.ndarray:
+    """One axis of the map as a 1-D float array, or an ArgumentError: ``name`` must be ``what``."""
+    raw = value.tolist() if isinstance(value, (np.ndarray, np.generic)) else value
+    try:
+        a = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        a = np.asarray(np.nan)
+    if a.ndim != 1 or a.size == 0 or not np.all(np.isfinite(a)) or (positive and np.any(a <= 0)):
+        raise ArgumentError(name, shown(raw), f"must be {what}")
+    return a
 
 
 @dataclass(frozen=True, eq=False)
@@ -386,10 +398,9 @@ class PositionMonteCarlo:
 
 
 def _check_trials(trials) -> int:
-    n = int(trials)
-    if n < 1:
-        raise InputError(f"trials={shown(trials)}: expected at least one trial")
-    return n
+    from ..arguments import whole
+
+    return whole("trials", trials)
 
 
 def position_monte_carlo(coils, *, from_a, from_b, frequency_hz, hum_polarity=(1, 1), trials: int = 2000, seed: int = 0, shell=DEFAULT_SHELL_M) -> PositionMonteCarlo:

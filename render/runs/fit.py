@@ -142,6 +142,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     """
     from ..analysis.figures import figures
     from ..analysis.fit import check_free, conflicts, format_value, load_fit, rebase_files, rewrite, run_fit, verdict
+    from ..arguments import seed as check_seed
     from ..arguments import whole
     from ..design import apply_rig, design_provenance, load_design, parse_design
     from ..design.loading import as_rig
@@ -149,7 +150,7 @@ def fit(fitfile, *, out, start_path=None, rig=None, top: int = 3, seed: int = 0,
     from ..io.folders import make_folder, output_folder, run_folder
     from ..io.toml import loads
 
-    top = whole("top", top, hint=" (how many results to write)")
+    top, seed = whole("top", top, hint=" (how many results to write)"), check_seed("seed", seed)
     start_path = start_file_given(start_path)
     out = output_folder(out, overwrite=overwrite, prefix="fit")  # an earlier run's files are replaced only when asked
     fitfile = Path(fitfile)
@@ -293,6 +294,7 @@ def fit_and_render(
     """
     import os
 
+    from ..arguments import seed as check_seed
     from ..arguments import whole
     from ..clip import RenderSettings
     from ..design import load_designs
@@ -303,7 +305,7 @@ def fit_and_render(
     from .clips import run_clips
     from .fit_phrase import phrase_file_of
 
-    top = whole("top", top, hint=" (how many results to write)")
+    top, seed = whole("top", top, hint=" (how many results to write)"), check_seed("seed", seed)
     start_path = start_file_given(start_path)  # refused before the folder is made
     step = on_step or (lambda _: None)
     folder = output_folder(out or Path("outputs") / f"fit-{Path(fitfile).stem}", overwrite=overwrite)
