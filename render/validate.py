@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import numbers
 import re
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
@@ -62,7 +63,8 @@ def unknown(place: str, key: object, choices: Iterable[str], *, what: str = "key
 
 
 def sample_rate(value: object, *, name: str = "sample_rate") -> int:
-    """An output sample rate (Hz), a whole number from 8000 to 384000; :class:`~render.errors.ArgumentError` naming ``name`` otherwise
+    """An output sample rate (Hz), a whole number from 8000 to 384000 (an int, or a float with no fraction such as 48000.0),
+    returned as an int; :class:`~render.errors.ArgumentError` naming ``name`` otherwise
     (``--sample-rate`` on the command line)."""
     import operator
 
@@ -70,7 +72,8 @@ def sample_rate(value: object, *, name: str = "sample_rate") -> int:
     try:
         rate = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]  # int and numpy integers, never 48000.5
     except TypeError:
-        rate = None
+        whole_float = isinstance(value, numbers.Real) and math.isfinite(value) and float(value).is_integer()  # numpy floats too
+        rate = int(value) if whole_float else None  # type: ignore[arg-type]  # 48000.0 is 48000; 48000.7 is refused
     if rate is None or not lo <= rate <= hi:
         raise ArgumentError(name, repr(value), f"must be from {lo} to {hi} Hz (a whole number); 48000 is usual", option="--sample-rate")
     return rate

@@ -300,10 +300,13 @@ def test_render_clip_checks_a_sample_rate_and_velocity_alike_with_a_dry_or_an_ar
     # one check of a sample rate (render.validate.sample_rate) for both: a whole number from 8000 to 384000 Hz
     d = render.load_design(REF)
     dry = render.Dry(velocity=np.zeros((2, 480)), sample_rate=48000)
-    for rate in (48000.7, 48000.0, "abc"):
+    for rate in (48000.7, "abc", float("nan"), 7999.0):
         a = _refused(lambda: render.render_clip(d, dry, sample_rate=rate), "sample_rate")
         b = _refused(lambda: render.render_clip(d, np.zeros(480), sample_rate=rate), "sample_rate")
         assert a == b
+    for rate in (48000.0, np.float32(48000)):  # a float with no fraction is that whole number (numpy's too)
+        assert render.render_clip(d, dry, sample_rate=rate).sample_rate == 48000
+        assert render.render_clip(d, np.zeros(480), sample_rate=rate).sample_rate == 48000
     assert "the dry signal is at 48000 Hz" in _refused(lambda: render.render_clip(d, dry, sample_rate=44100), "sample_rate")
     assert render.render_clip(d, dry, sample_rate=48000).sample_rate == 48000
     _refused(lambda: render.render_clip(d, np.zeros(480), sample_rate=None), "sample_rate")
@@ -345,3 +348,19 @@ def test_switches_and_map_axes_are_named_as_python_names_them():
     assert _refused(lambda: render.hum_map(d, distances_m=0.5), "distances_m").startswith("distances_m=0.5: ")
     assert "sequence of finite bearings" in _refused(lambda: render.hum_map(d, bearings_deg=90), "bearings_deg")
     _refused(lambda: render.hum_map(d, plane="yz"), "plane")
+
+
+@pytest.mark.parametrize(
+    "frequency_hz, words",
+    [([1000 + 1j], "not numbers"), ([[100.0, 200.0]], "shape (1, 2)"), ([100.0, float("nan")], "NaN among"), ([0.0], "0 Hz among"), ("abc", "not numbers")],
+)
+def test_response_refuses_frequencies_that_are_not_positive_real_numbers(frequency_hz, words):
+    # a complex frequency used to pass with only numpy's ComplexWarning, its imaginary part dropped
+    import warnings
+
+    d = render.load_design(REF)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # a warning instead of the refusal fails here
+        with pytest.raises(render.InputError) as e:
+            render.response(d, frequency_hz)
+    assert str(e.value).startswith("frequency_hz") and words in str(e.value) and "\n" not in str(e.value)

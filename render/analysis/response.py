@@ -76,6 +76,8 @@ def response(design: Design, frequency_hz, *, rig: RigFile | None = None) -> Res
 
     d = apply_rig(design, rig)
     try:
+        if np.iscomplexobj(frequency_hz):  # a float cast would only warn and drop the imaginary part
+            raise TypeError
         f = np.atleast_1d(np.asarray(frequency_hz, dtype=float))
     except (TypeError, ValueError):
         raise InputError(f"frequency_hz={shown(frequency_hz)}: not numbers; give frequencies in Hz, > 0") from None

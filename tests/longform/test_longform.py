@@ -135,14 +135,16 @@ def test_ten_minutes_render_in_bounded_memory(tmp_path):
         for _ in range(60):
             f.write(tile)
     # the child reports its own peak from /proc (VmHWM starts afresh at exec; ru_maxrss would
-    # carry the forking parent's size across exec, and RUSAGE_CHILDREN counts earlier children)
+    # carry the forking parent's size across exec, and RUSAGE_CHILDREN counts earlier children); it reports from an
+    # atexit function, since the command ends in os._exit once those have run (render.cli.ending): a `finally` never runs
     probe = (
-        "import runpy, sys\n"
-        "sys.argv = ['render'] + sys.argv[1:]\n"
-        "try:\n    runpy.run_module('render', run_name='__main__')\n"
-        "finally:\n"
+        "import atexit, runpy, sys\n"
+        "def peak():\n"
         "    hwm = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0].split()[1]\n"
         "    print('PEAK_KB', hwm, file=sys.stderr)\n"
+        "atexit.register(peak)\n"
+        "sys.argv = ['render'] + sys.argv[1:]\n"
+        "runpy.run_module('render', run_name='__main__')\n"
     )
     args = ["clips", str(REF), "--dry", str(flac), "--velocity-scale", "4", "--no-plots", "--out", str(tmp_path / "o")]
     res = subprocess.run([sys.executable, "-c", probe, *args], capture_output=True, text=True, cwd=ROOT)
