@@ -72,8 +72,8 @@ def sample_rate(value: object, *, name: str = "sample_rate") -> int:
     try:
         rate = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]  # int and numpy integers, never 48000.5
     except TypeError:
-        whole_float = isinstance(value, numbers.Real) and math.isfinite(value) and float(value).is_integer()  # numpy floats too
-        rate = int(value) if whole_float else None  # type: ignore[arg-type]  # 48000.0 is 48000; 48000.7 is refused
+        # a float with no fraction (numpy's too) is its whole number: 48000.0 is 48000, 48000.7 is refused
+        rate = int(value) if isinstance(value, numbers.Real) and math.isfinite(value) and float(value).is_integer() else None
     if rate is None or not lo <= rate <= hi:
         raise ArgumentError(name, repr(value), f"must be from {lo} to {hi} Hz (a whole number); 48000 is usual", option="--sample-rate")
     return rate
