@@ -73,7 +73,7 @@ def sample_rate(value: object, *, name: str = "sample_rate") -> int:
         rate = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]  # int and numpy integers, never 48000.5
     except TypeError:
         # a float with no fraction (numpy's too) is its whole number: 48000.0 is 48000, 48000.7 is refused
-        rate = int(value) if isinstance(value, numbers.Real) and math.isfinite(value) and float(value).is_integer() else None
+        rate = int(float(value)) if isinstance(value, numbers.Real) and math.isfinite(value) and float(value).is_integer() else None
     if rate is None or not lo <= rate <= hi:
         raise ArgumentError(name, repr(value), f"must be from {lo} to {hi} Hz (a whole number); 48000 is usual", option="--sample-rate")
     return rate
