@@ -185,15 +185,14 @@ class BlindSession:
 def session_folder(out: str | Path | None, *, overwrite: bool) -> Path:
     """The folder a session is written to, refused before any work if it cannot take one.
 
-    Default: a new ``outputs/blind-<date>-<time>`` (``outputs/`` is created).
-    An existing folder is replaced only with ``overwrite`` and only if it
+    Default: a new ``outputs/blind-<date>-<time>`` (``outputs/`` is created by the build, not here,
+    so a refusal before the build leaves no empty folder). An existing folder is replaced only with ``overwrite`` and only if it
     is empty or a session (:func:`render.listening.build.check_session_folder`).
     """
-    from ..io.folders import OUTPUTS, make_folder, new_run_folder
+    from ..io.folders import OUTPUTS, new_run_folder
     from ..listening.build import check_session_folder
 
     if out is None:
-        make_folder(OUTPUTS)
         out = new_run_folder(OUTPUTS, "blind")
     out = Path(out)
     check_session_folder(out, overwrite=overwrite)

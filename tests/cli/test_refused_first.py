@@ -235,3 +235,16 @@ def test_score_refuses_a_plot_it_cannot_write(here):
             log.record({"trial": t["index"], "answer": t["x"]})
     line = refused(["score", paths.root, "--png", "/proc/difference.png"], left=[paths.results])
     assert line.startswith("/proc: cannot write here (") and line.endswith("); choose another folder"), line
+
+
+@pytest.mark.parametrize(
+    "command",
+    [["clips", "{bad}"], ["bias", "{bad}"], ["blind", "{bad}", REF], ["blind", REF, "{bad}"], ["fit", "{bad}"], ["fit", FIT, "--from", "{bad}"]],
+    ids=lambda a: " ".join(Path(str(x)).name for x in a),
+)
+def test_a_refused_design_leaves_no_default_outputs_folder(here, command):
+    # no --out: the run's folder would go under outputs/, which must not appear for a run refused before its work
+    # (render blind made outputs/ before it read its designs: found by a sweep of the real command line)
+    (here / "bad.toml").write_text("x = = 1\n", encoding="utf-8")
+    message = refused([str(a).format(bad="bad.toml") for a in command], left=[here / "outputs"])
+    assert message.startswith("bad.toml: not valid TOML"), message
