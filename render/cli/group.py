@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import errno
 import importlib
 import signal
 import sys
 
 import click
+from click.utils import PacifyFlushWrapper
 
 from .commands import COMMANDS
 
@@ -98,6 +100,13 @@ class LazyGroup(click.Group):
             return super().invoke(ctx)
         except click.UsageError as exc:
             raise _one_line(exc) from None
+        except OSError as exc:
+            if exc.errno != errno.EPIPE:
+                raise
+            # standard output closed under the command (`render ... | head -1`): a stop, as a closed terminal's
+            # SIGHUP is (README: "Stopping a run"), said on stderr; the run's files were handled on the way here
+            sys.stdout = PacifyFlushWrapper(sys.stdout)
+            raise click.Abort() from None
 
     def main(self, *args, **kwargs):
         try:
