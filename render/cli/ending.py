@@ -49,7 +49,7 @@ def end(code: object) -> NoReturn:
         stopped.append(signal.SIGINT)
         status = 1
     for stream in (sys.stdout, sys.stderr):
-        with contextlib.suppress(OSError, ValueError):  # a closed pipe or stream: nothing more can be said on it
+        with contextlib.suppress(OSError, ValueError, AttributeError):  # a closed pipe or stream, or none (`>&-`): nothing more can be said on it
             stream.flush()
     if stopped:
         with contextlib.suppress(OSError):

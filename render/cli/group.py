@@ -101,12 +101,14 @@ class LazyGroup(click.Group):
         except click.UsageError as exc:
             raise _one_line(exc) from None
         except OSError as exc:
-            if exc.errno != errno.EPIPE:
-                raise
-            # standard output closed under the command (`render ... | head -1`): a stop, as a closed terminal's
-            # SIGHUP is (README: "Stopping a run"), said on stderr; the run's files were handled on the way here
-            sys.stdout = PacifyFlushWrapper(sys.stdout)
-            raise click.Abort() from None
+            if exc.errno == errno.EPIPE:
+                # standard output closed under the command (`render ... | head -1`): a stop, as a closed terminal's
+                # SIGHUP is (README: "Stopping a run"), said on stderr; the run's files were handled on the way here
+                sys.stdout = PacifyFlushWrapper(sys.stdout)
+                raise click.Abort() from None
+            if exc.errno in (errno.ENOSPC, errno.EDQUOT):  # standard output to a full disk (`> out.txt`): files' own writes say so in render.io.atomic
+                raise click.ClickException(f"cannot write to standard output ({exc.strerror}); free some disk space or send it elsewhere") from None
+            raise
 
     def main(self, *args, **kwargs):
         try:

@@ -104,6 +104,8 @@ def emit_json(path: str | None, payload: object, *, overwrite: bool) -> None:
     if path == "-":
         ctx = click.get_current_context(silent=True)
         stdout = cast(TextIO, ctx.meta.get(_JSON_STDOUT, sys.stdout) if ctx is not None else sys.stdout)
+        if stdout is None:  # no standard output at all (`>&-`): nothing to write to, as click.echo does
+            return
         stdout.write(json_text(payload))
         stdout.flush()
     elif path:

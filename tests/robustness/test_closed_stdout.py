@@ -59,3 +59,27 @@ def test_a_run_whose_reader_left_leaves_whole_files_and_no_temporary(tmp_path):
     assert [p.name for p in tmp_path.rglob(".tmp-*")] == []
     if out.exists():
         check_outputs(out, frames=24000)  # 0.5 s at 48 kHz
+
+
+def _render(args, cwd, **how) -> subprocess.CompletedProcess:
+    env = {**os.environ, "MPLBACKEND": "Agg", "PYTHONPATH": os.pathsep.join(filter(None, [str(ROOT), os.environ.get("PYTHONPATH")]))}
+    return subprocess.run([sys.executable, "-m", "render", *map(str, args)], stderr=subprocess.PIPE, text=True, cwd=cwd, env=env, timeout=300, **how)
+
+
+@pytest.mark.skipif(not os.path.exists("/dev/full"), reason="/dev/full (a device that is always full) is Linux's")
+@pytest.mark.parametrize("args", [["check", REF], ["hum", REF, "--json", "-"]], ids=["check", "hum --json -"])
+def test_standard_output_to_a_full_disk_is_one_line(tmp_path, args):
+    # before: an OSError traceback (Errno 28), as `render check DESIGN > out.txt` on a full disk would end
+    with open("/dev/full", "w") as full:
+        res = _render(args, tmp_path, stdout=full)
+    assert res.returncode == 1 and "Traceback" not in res.stderr, res.stderr
+    assert res.stderr.splitlines()[-1] == "Error: cannot write to standard output (No space left on device); free some disk space or send it elsewhere", res.stderr
+
+
+@pytest.mark.parametrize("args", [["check", REF], ["check", REF, "--json", "-"]], ids=["check", "check --json -"])
+def test_no_standard_output_at_all_is_no_crash(tmp_path, args):
+    # `render check DESIGN >&-`: Python's sys.stdout is None; before, the exit's flush (and --json -) raised AttributeError
+    res = _render(args, tmp_path, preexec_fn=lambda: os.close(1))
+    assert res.returncode == 0 and "Traceback" not in res.stderr, res.stderr
+    if "--json" not in args:  # (with --json - the printed table goes to stderr)
+        assert res.stderr == "", res.stderr
