@@ -347,3 +347,43 @@ def test_a_damaged_key_is_named_on_the_page(make_session, serve):
         text = page.inner_text("#result")
         assert "could not be read from the server" in text and "designs: missing" in text and DAMAGED_KEY in text, text
     assert errors == []
+
+
+def test_the_level_starts_20_db_down_and_follows_its_control_after_back_and_forward(make_session, serve):
+    # the page's own rule (README, "A blind listening session"): the start is 20 dB down whatever a browser
+    # restored into the level control, and the gain heard follows the control as it stands after Back or Forward
+    from playwright.sync_api import sync_playwright
+
+    executable = _browser_or_skip()
+    paths = make_session(method="abx", trials=1, seed=3, seconds=1.0)
+    server = serve(paths.root)
+    html = Path(__file__).resolve().parents[2] / "render" / "listening" / "static" / "page.html"
+    assert html.read_text().count('autocomplete="off"') >= 2  # the level and repeat controls
+    errors = []
+
+    def restored(route):
+        # a browser that filled the form in again: the control at full level, repeat off
+        response = route.fetch()
+        text = response.text().replace('value="-20" autocomplete="off"', 'value="0"').replace('autocomplete="off" checked', "")
+        route.fulfill(response=response, body=text)
+
+    with sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=executable, args=ARGS, headless=True)
+        try:
+            page = browser.new_page()
+            page.on("pageerror", lambda exc: errors.append(str(exc)))
+            page.route(lambda url: url.rstrip("/") == server.url.rstrip("/"), restored)
+            page.goto(server.url)
+            _wait_phase(page, "caution")
+            page.click("#begin")
+            _wait_phase(page, "ready", trial=0)
+            assert page.get_attribute("body", "data-gain-db") == "-20"
+            assert page.eval_on_selector("#level", "e => e.value") == "-20" and page.eval_on_selector("#loop", "e => e.checked")
+            # Back and Forward: the control shows -6 dB and the page is shown again; the gain follows it
+            page.eval_on_selector("#level", "e => { e.value = '-6'; }")
+            assert page.get_attribute("body", "data-gain-db") == "-20"
+            page.evaluate("window.dispatchEvent(new PageTransitionEvent('pageshow', {persisted: true}))")
+            assert page.get_attribute("body", "data-gain-db") == "-6" and page.inner_text("#level-db") == "\u22126 dB"
+        finally:
+            browser.close()
+    assert errors == []

@@ -374,10 +374,19 @@
     if (S.playing) start(at); else { S.offset = at; drawTransport(); }
   }
 
+  // The level control and what is heard agree at all times. At the start the page sets the control to 20 dB down
+  // over anything a browser restored into it; whenever the page is shown again (Back and Forward: the page from the
+  // back/forward cache, or a form filled in again) the gain follows the control as it stands. The controls also say
+  // autocomplete="off", so that browsers do not restore them at all.
+  const START_LEVEL_DB = -20;
+
   function setLevel() {
     const db = Number(el("level").value);
     el("level-db").textContent = (db < 0 ? "\u2212" : "") + Math.abs(db) + " dB";
-    if (S.master) S.master.gain.setTargetAtTime(Math.pow(10, db / 20), S.ctx.currentTime, 0.01);
+    if (S.master) {
+      S.master.gain.setTargetAtTime(Math.pow(10, db / 20), S.ctx.currentTime, 0.01);
+      body.dataset.gainDb = String(db);  // the gain what is heard goes through, for the browser tests
+    }
   }
 
   function wire() {
@@ -386,6 +395,7 @@
     el("save").addEventListener("click", record);
     el("level").addEventListener("input", setLevel);
     el("loop").addEventListener("change", () => { if (S.playing) start(position()); });
+    window.addEventListener("pageshow", () => { setLevel(); if (S.playing) start(position()); });
     el("track").addEventListener("click", (ev) => {
       if (!S.buffers) return;
       const box = el("track").getBoundingClientRect();
@@ -410,6 +420,9 @@
   }
 
   async function boot() {
+    el("level").value = String(START_LEVEL_DB);
+    el("loop").checked = true;
+    setLevel();
     wire();
     try { S.plan = await getJSON("/api/state"); } catch (e) { fail("Could not reach the session server. Is `render listen` still running?"); return; }
     S.answered = S.plan.answered.length;
