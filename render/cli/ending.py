@@ -13,6 +13,7 @@ already whole or gone by then (written under a temporary name, renamed when comp
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import signal
 import sys
@@ -20,6 +21,24 @@ import threading
 from typing import NoReturn
 
 STOPS = (signal.SIGTERM, signal.SIGHUP)
+
+
+class QuietFlush:
+    """Standard output whose reader has gone: its later flushes (click's, the exit's) say nothing more.
+    (click's own wrapper for this is deprecated from click 8.2.)"""
+
+    def __init__(self, wrapped):
+        self.wrapped = wrapped
+
+    def flush(self) -> None:
+        try:
+            self.wrapped.flush()
+        except OSError as exc:
+            if exc.errno != errno.EPIPE:
+                raise
+
+    def __getattr__(self, name):
+        return getattr(self.wrapped, name)
 
 
 def exit_code(code: object) -> int:

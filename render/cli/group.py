@@ -8,9 +8,9 @@ import signal
 import sys
 
 import click
-from click.utils import PacifyFlushWrapper
 
 from .commands import COMMANDS
+from .ending import QuietFlush
 
 
 class Stopped(KeyboardInterrupt):
@@ -104,7 +104,7 @@ class LazyGroup(click.Group):
             if exc.errno == errno.EPIPE:
                 # standard output closed under the command (`render ... | head -1`): a stop, as a closed terminal's
                 # SIGHUP is (README: "Stopping a run"), said on stderr; the run's files were handled on the way here
-                sys.stdout = PacifyFlushWrapper(sys.stdout)
+                sys.stdout = QuietFlush(sys.stdout)
                 raise click.Abort() from None
             if exc.errno in (errno.ENOSPC, errno.EDQUOT):  # standard output to a full disk (`> out.txt`): files' own writes say so in render.io.atomic
                 raise click.ClickException(f"cannot write to standard output ({exc.strerror}); free some disk space or send it elsewhere") from None
