@@ -47,12 +47,19 @@ def number(name: str, value: object, *, lo: float | None = None, hi: float | Non
     return x
 
 
+def as_whole(value: object) -> int | None:
+    """``value`` as an int if it is a whole number (an int or a numpy integer, never a bool or a float), else None."""
+    if isinstance(value, bool):
+        return None
+    try:
+        return operator.index(value)  # type: ignore[arg-type]
+    except TypeError:
+        return None
+
+
 def whole(name: str, value: object, *, lo: int = 1, hi: int | None = None, hint: str = "", option: str | None = None) -> int:
     """A whole number (int or a numpy integer, never a float or bool) of at least ``lo`` (and at most ``hi``)."""
-    try:
-        n = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]
-    except TypeError:
-        n = None
+    n = as_whole(value)
     span = f"from {lo} to {hi}" if hi is not None else f"of at least {lo}"
     if n is None:
         raise ArgumentError(name, shown(value), f"must be a whole number {span}{hint}", option=option)

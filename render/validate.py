@@ -66,14 +66,12 @@ def sample_rate(value: object, *, name: str = "sample_rate") -> int:
     """An output sample rate (Hz), a whole number from 8000 to 384000 (an int, or a float with no fraction such as 48000.0),
     returned as an int; :class:`~render.errors.ArgumentError` naming ``name`` otherwise
     (``--sample-rate`` on the command line)."""
-    import operator
+    from .arguments import as_whole
 
     lo, hi = SAMPLE_RATE_RANGE
-    try:
-        rate = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]  # int and numpy integers, never 48000.5
-    except TypeError:
-        # a float with no fraction (numpy's too) is its whole number: 48000.0 is 48000, 48000.7 is refused
-        rate = int(float(value)) if isinstance(value, numbers.Real) and math.isfinite(value) and float(value).is_integer() else None
+    rate = as_whole(value)  # int and numpy integers
+    if rate is None and not isinstance(value, bool) and isinstance(value, numbers.Real) and math.isfinite(value) and float(value).is_integer():
+        rate = int(float(value))  # a float with no fraction (numpy's too) is its whole number: 48000.0 is 48000, 48000.7 is refused
     if rate is None or not lo <= rate <= hi:
         raise ArgumentError(name, repr(value), f"must be from {lo} to {hi} Hz (a whole number); 48000 is usual", option="--sample-rate")
     return rate

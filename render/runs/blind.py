@@ -17,6 +17,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
+from ..arguments import as_whole
 from ..design import Design, RigFile, apply_rig
 from ..dry import MIN_BLIND_SECONDS
 from ..errors import ArgumentError, InputError
@@ -78,7 +79,7 @@ class BlindSettings:
         from ..units import TIME, QuantityError, parse_quantity
         from ..validate import sample_rate
 
-        trials = _whole(self.trials)
+        trials = as_whole(self.trials)
         if trials is None or not 1 <= trials <= MAX_TRIALS:
             raise ArgumentError("trials", f"{self.trials}", f"must be from 1 to {MAX_TRIALS}; 16 is usual")
         if self.method not in METHODS:
@@ -91,7 +92,7 @@ class BlindSettings:
             raise ArgumentError("true_peak_dbtp", f"{_shown(self.true_peak_dbtp)}", f"must be from {lo:g} to {hi:g} dBTP; -1 is usual")
         rate = sample_rate(self.sample_rate)
         scale = number("velocity_scale", self.velocity_scale, lo=0.0, lo_open=True, hi=1e3, unit="m/s", hint=" (the string velocity at a recording's full scale)")
-        seed = _whole(self.seed) if self.seed is not None else None
+        seed = as_whole(self.seed) if self.seed is not None else None
         if self.seed is not None and (seed is None or not 0 <= seed < SEED_LIMIT):
             raise ArgumentError("seed", f"{self.seed}", "must be from 0 to 2**63-1")
         length = None
@@ -114,18 +115,6 @@ class BlindSettings:
             ("velocity_scale", scale),
         ):
             object.__setattr__(self, name, value)
-
-
-def _whole(value: object) -> int | None:
-    """``value`` as an int if it is a whole number (int or numpy integer, not bool), else None."""
-    import operator
-
-    if isinstance(value, bool):
-        return None
-    try:
-        return operator.index(value)  # type: ignore[arg-type]
-    except TypeError:
-        return None
 
 
 def _finite(value: object) -> bool:
