@@ -416,7 +416,8 @@ class NoiseStream:
     One Gaussian process with the circuit's total output density
     S_out(f) = Σ_k |H_k|²·S_k (every source is Gaussian and independent, so
     their sum is one Gaussian process with the summed density): white
-    Gaussian noise (``numpy.random.default_rng(seed)``, drawn in sequence)
+    Gaussian noise (``numpy.random.default_rng(seed)``, drawn in sequence;
+    the passive reference's from the seed's spawn key 1, so the two are independent)
     through a linear-phase FIR filter of :data:`NOISE_TAPS` taps whose
     response is √(S_out(f)·sample_rate/2) at every bin k·sample_rate/taps
     (zero at DC). The filter is primed with taps−1 draws before the first
@@ -449,7 +450,9 @@ class NoiseStream:
             gain[k] = np.sqrt(np.maximum(psd, 0.0) * (fs / 2.0))
         # zero phase, made causal by half its length: Σ h² = Σ_k S_out(f_k)·fs/taps (Parseval)
         self.taps = np.roll(np.fft.irfft(gain, taps), taps // 2)
-        self._rng = np.random.default_rng(int(seed))
+        # the passive reference draws its own sequence (spawn key 1 of the same seed): the two floors are
+        # independent, as two circuits' noise is; the active floor's draws are default_rng(seed)'s
+        self._rng = np.random.default_rng(np.random.SeedSequence(int(seed), spawn_key=(1,) if passive else ()))
         self._history = self._rng.standard_normal(taps - 1)
 
     def take(self, n: int) -> np.ndarray:

@@ -170,3 +170,21 @@ def test_filter_between_its_bins_and_its_power(name, fs, passive):
     g = np.linspace(0.0, fs / 2, 1 << 16 | 1)
     power = simpson(model.output_psd(g[1:], passive=passive)[0], x=g[1:]) + g[1] * model.output_psd(g[1:2], passive=passive)[0][0]
     assert np.sum(taps**2) == pytest.approx(power, rel=1e-3)
+
+
+def test_active_and_passive_floors_are_independent():
+    """Two circuits' noise is independent: the active floor and the passive reference's, drawn with one seed,
+    share no source. Magnitude-squared coherence (Bendat & Piersol, Random Data, 4th ed. 2010, §9.2.3): 1 at
+    every frequency for one source through two linear filters, and for independent ones only its estimator's
+    bias, about 1/K for K averaged segments (K ≈ 127 here, so ≈ 0.008)."""
+    from scipy.signal import coherence
+
+    a = noise_waveform(REF, n=N, sample_rate=FS, seed=3)
+    p = noise_waveform(REF, n=N, sample_rate=FS, seed=3, passive=True)
+    f, c = coherence(a, p, fs=FS, nperseg=2048)
+    band = (f >= 100) & (f <= 15000)
+    assert float(np.mean(c[band])) < 0.03
+    # the active floor keeps its draws, default_rng(seed) as documented (to float rounding of the convolution)
+    drawn = np.random.default_rng(3).standard_normal(NOISE_TAPS - 1 + 16)
+    stream = NoiseStream(REF, sample_rate=FS, seed=3)
+    assert np.allclose(np.convolve(drawn, stream.taps, mode="valid"), a[:16], rtol=0, atol=1e-9 * a.std())
