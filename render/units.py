@@ -179,6 +179,9 @@ def parse_quantity(value: object, kind: Kind) -> float:
     if m and kind.rkm and m.group(1) and m.group(2) in "NPU" and kind.name != "resistance":  # "3N9", "4U7": a case SI does not read
         fixed = f"{m.group(1)}{m.group(2).lower()}{m.group(3)}"
         raise QuantityError(f'cannot read {shown(value)} as {_a(kind)}: IEC 60062 letter codes are case-sensitive ("{m.group(2)}" is no prefix); write "{fixed}"')
+    if len(body) >= 2 and body[-1] in "NPU" and _NUMBER_RE.match(body[:-1]) and "e" not in body[:-1].lower():  # "22N", "4.7U": a prefix in the wrong case
+        fixed = f"{body[:-1]}{body[-1].lower()}{text[len(body) :]}"  # the unit symbol, if one was written, kept
+        raise QuantityError(f'cannot read {shown(value)} as {_a(kind)}: prefixes are case-sensitive ("{body[-1]}" is no prefix); did you mean "{fixed}"?')
     if kind.name == "resistance" and re.fullmatch(r"\d+(?:\.\d+)?E", text):  # "470E": E marking ohms, as some makers print it
         raise QuantityError(f'cannot read {shown(value)} as a resistance: a trailing "E" is read neither as ohms nor as an exponent; write "{text[:-1]}R" (ohms)')
     if kind is FLUX_DENSITY and text.endswith("G") and len(text) > 1:  # gauss: "10mG" (a lone "10G" is read as giga and refused by range)

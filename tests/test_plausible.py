@@ -152,6 +152,11 @@ def test_common_habits_are_read(text, kind, value):
         ("3mhz", U.FREQUENCY, '"3MHz"'),
         ("2.2Ufd", U.CAPACITANCE, '"2.2uF"'),
         ("47PF", U.CAPACITANCE, '"47pF"'),
+        # a prefix in the wrong case with no unit: the SI's prefixes are case-sensitive (SI Brochure, 9th ed., §3)
+        ("22N", U.CAPACITANCE, 'did you mean "22n"?'),
+        ("4.7U", U.CAPACITANCE, 'did you mean "4.7u"?'),
+        ("100P", U.CAPACITANCE, 'did you mean "100p"?'),
+        ("120N", U.INDUCTANCE, 'did you mean "120n"?'),
     ],
 )
 def test_ambiguous_habits_are_refused_with_the_fix(text, kind, fix):
