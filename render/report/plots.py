@@ -373,25 +373,41 @@ def overlay_png(f, curves, passives) -> bytes:
 
 def lines_plot(path, x, series, *, xlabel, ylabel, title="", overwrite=False, floor=None, mark=None):
     """Simple line plot: ``series`` is a list of (label, y (len(x),), dashed); ``floor``: the y axis stops there when the
-    data go below it; ``mark``: (x, label) drawn as a thin vertical line (the design's own setting)."""
+    data go below it, and a point below it is drawn at the floor as a downward triangle (its value is in the table);
+    ``mark``: (x, label) drawn as a thin vertical line (the design's own setting)."""
+    return save(lines_figure(x, series, xlabel=xlabel, ylabel=ylabel, title=title, floor=floor, mark=mark), path, overwrite=overwrite)
+
+
+def lines_figure(x, series, *, xlabel, ylabel, title="", floor=None, mark=None):
+    """The figure of :func:`lines_plot`, not yet written."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(7.5, 4.2))
     if mark is not None:
         ax.axvline(mark[0], color="#666666", lw=1.2, ls=(0, (1, 2)), label=mark[1], zorder=1)
+    low = min((float(np.nanmin(np.asarray(y, dtype=float))) for _, y, _ in series if np.any(np.isfinite(np.asarray(y, dtype=float)))), default=None)
+    clip = floor is not None and low is not None and low < floor
+    xs = np.asarray(x, dtype=float)
+    below_labelled = False
     for i, (label, y, dashed) in enumerate(series):
-        ax.plot(x, y, marker="o", ms=4, color=PALETTE[i % len(PALETTE)], lw=1.6, ls="--" if dashed else STYLES[(i // len(PALETTE)) % len(STYLES)], label=label)
+        colour = PALETTE[i % len(PALETTE)]
+        y = np.asarray(y, dtype=float)
+        under = clip & (y < floor) if clip else np.zeros(y.shape, bool)
+        shown_y = np.where(under, floor, y)
+        ax.plot(xs, shown_y, marker="o", ms=4, color=colour, lw=1.6, ls="--" if dashed else STYLES[(i // len(PALETTE)) % len(STYLES)], label=label, markevery=np.flatnonzero(~under).tolist())
+        if np.any(under):
+            ax.plot(xs[under], shown_y[under], ls="none", marker="v", ms=7, color=colour, clip_on=False, zorder=3, label=None if below_labelled else f"below {floor:g}: drawn at the floor")
+            below_labelled = True
     ax.grid(True, color="#dddddd", linewidth=0.6)
     ax.set_xlabel(xlabel)
     ax.set_ylabel(ylabel)
     ax.legend(fontsize=8, frameon=False)
-    low = min((float(np.nanmin(np.asarray(y, dtype=float))) for _, y, _ in series), default=None)
-    if floor is not None and low is not None and low < floor:
+    if clip:
         top = ax.get_ylim()[1]
         ax.set_ylim(floor, max(top, floor + 10))
     if title:
         _fix_title(ax, title)
     fig.subplots_adjust(left=0.11, right=0.98, bottom=0.12, top=0.92)
-    return save(fig, path, overwrite=overwrite)
+    return fig
 
 
 def transfer_plot(path, curves, *, title="", overwrite=False, reference_label="output stage alone"):

@@ -145,3 +145,21 @@ def test_a_silent_signal_is_drawn_as_silent(tmp_path):
     plots.spectrogram_plot(tmp_path / "d.png", loud, sample_rate=48000, title="t", unit="m/s")
     assert (tmp_path / "a.png").read_bytes() == (tmp_path / "c.png").read_bytes()
     assert (tmp_path / "b.png").read_bytes() == (tmp_path / "d.png").read_bytes() != (tmp_path / "a.png").read_bytes()
+
+
+def test_a_point_below_the_floor_is_drawn_at_the_floor_not_hidden():
+    # made-up harmonic levels (test data only): one point far below the -100 dB floor, one series with a gap
+    x = [0.3, 0.4, 0.5, 0.6]
+    fig = plots.lines_figure(x, [("H2", [-20.0, -40.0, -108.5, -45.0], False), ("H3", [-30.0, float("nan"), -35.0, -31.0], True)], xlabel="x", ylabel="dB", floor=-100.0)
+    ax = fig.axes[0]
+    assert ax.get_ylim()[0] == -100.0
+    triangles = [ln for ln in ax.get_lines() if ln.get_marker() == "v"]
+    assert len(triangles) == 1
+    assert list(triangles[0].get_xdata()) == [0.5] and list(triangles[0].get_ydata()) == [-100.0]
+    assert any("below -100" in t.get_text() for t in ax.get_legend().get_texts())
+    # nothing drawn below the axis, and the points above the floor keep their values
+    h2 = next(ln for ln in ax.get_lines() if ln.get_label() == "H2")
+    assert list(h2.get_ydata()) == [-20.0, -40.0, -100.0, -45.0]
+    # without a point below the floor, nothing is marked and the axis is left to autoscale
+    fig = plots.lines_figure(x, [("H2", [-20.0, -40.0, -60.0, -45.0], False)], xlabel="x", ylabel="dB", floor=-100.0)
+    assert not [ln for ln in fig.axes[0].get_lines() if ln.get_marker() == "v"] and fig.axes[0].get_ylim()[0] > -100.0
