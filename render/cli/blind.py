@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import click
 
-from .options import friendly, overwrite_option, rig_option, sample_rate_option
+from .options import friendly, overwrite_option, pluck_strength, rig_option, sample_rate_option
 from .values import Finite, InFile, OutFolder
 
 CAUTION = "(start with the volume low: a clipped clip stays loud even when matched)"
@@ -68,11 +68,12 @@ def print_blind_session(session) -> None:
 @click.option("--seconds", default=None, help='Clip length ("8s", 4.5; default: the dry signal\'s own, at most 120 s).')
 @sample_rate_option
 @click.option("--hum/--no-hum", default=True, show_default=True, help="Render the room's hum with the signal.")
+@click.option("--strength", default=None, help="Pluck the phrase harder or softer: every pluck scaled alike so that its strongest is this (e.g. 2mm).")
 @click.option("--velocity-scale", type=Finite(1e-6, 1e3, lo_open=True, unit="m/s"), default=1.0, show_default=True, help="m/s at full scale of a recorded dry file.")
 @click.option("--from-di", "from_di", type=InFile(), default=None, help="--dry is a DI recorded through this design's passive reference: un-voice it (render unvoice) and play the estimate.")
 @overwrite_option
 @friendly
-def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, out, target_lufs, true_peak_dbtp, seconds, sample_rate, hum, velocity_scale, from_di, overwrite):
+def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, out, target_lufs, true_peak_dbtp, seconds, sample_rate, hum, strength, velocity_scale, from_di, overwrite):
     """Build a blind listening session comparing MODEL_A and MODEL_B.
 
     Writes SESSION/public (the clips under random names and the trial plan),
@@ -86,10 +87,19 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
     from ..runs.blind import BlindSettings, build_blind_session, session_dry_file, session_folder
 
     settings = BlindSettings(
-        trials=trials, method=method, seed=seed, target_lufs=target_lufs, true_peak_dbtp=true_peak_dbtp, seconds=seconds, sample_rate=sample_rate, hum=hum, velocity_scale=velocity_scale
+        trials=trials,
+        method=method,
+        seed=seed,
+        target_lufs=target_lufs,
+        true_peak_dbtp=true_peak_dbtp,
+        seconds=seconds,
+        sample_rate=sample_rate,
+        hum=hum,
+        velocity_scale=velocity_scale,
+        strength=pluck_strength(strength),
     )
     out = session_folder(out, overwrite=overwrite)
-    dry = session_dry_file(dry_path, velocity_scale=velocity_scale)
+    dry = session_dry_file(dry_path, velocity_scale=velocity_scale, strength=settings.strength)
     designs, rig = load_designs([model_a, model_b], rig=rig_path)
     with contextlib.ExitStack() as scratch:
         made = None

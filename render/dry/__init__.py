@@ -139,16 +139,13 @@ def check_dry_file(path: str | Path | None, *, seconds: float | None = None, rec
     return dry
 
 
-def refuse_velocity_scale_with_phrase(dry: Path, velocity_scale: float, *, strength: bool = True) -> None:
-    """Refuse a ``velocity_scale`` other than 1 for a phrase: it scales a recording's samples.
-
-    ``strength``: the command has ``--strength`` (``RenderSettings.strength``) to pluck a phrase harder or softer;
-    otherwise the plucks are the phrase file's own.
-    """
+def refuse_velocity_scale_with_phrase(dry: Path, velocity_scale: float, *, settings: str = "RenderSettings") -> None:
+    """Refuse a ``velocity_scale`` other than 1 for a phrase: it scales a recording's samples; the fix names
+    ``--strength`` and, from Python, the ``strength`` of ``settings`` (the settings class that holds it)."""
     from ..errors import ArgumentError
 
     if dry.suffix.lower() in PHRASE_SUFFIXES and velocity_scale != 1.0:
-        cli, python = ("with --strength", "with RenderSettings.strength") if strength else ("in the phrase file", "in the phrase file")
+        cli, python = "with --strength", f"with {settings}.strength"
         raise ArgumentError(
             "velocity_scale",
             f"{velocity_scale:g}",
@@ -243,6 +240,7 @@ def load_dry(
     seconds: float | None = None,
     velocity_scale: float = 1.0,
     pickup=None,
+    strength: float | None = None,
 ) -> Dry:
     """String velocity at two sensing points from a phrase or a recorded file.
 
@@ -257,6 +255,9 @@ def load_dry(
     velocity_scale : float, m/s at full scale (used for recorded files)
     pickup : a design's construction for phrases (see :func:`synthesize`); a
         recording stays linear: its velocity meets the derived sensitivity
+    strength : float or None, m; a phrase played harder or softer, every pluck
+        scaled alike so that its strongest is this (:mod:`render.dry.strength`);
+        refused for a recording
 
     Returns
     -------
@@ -268,8 +269,15 @@ def load_dry(
         For any bad file or value, as one line.
     """
     p = Path(path)
+    if strength is not None:
+        refuse_strength_with_recording(p, f"{strength * 1e3:g}mm")
     if p.suffix.lower() in PHRASE_SUFFIXES:
-        return synthesize(load_phrase(p), positions=positions, apertures=apertures, sample_rate=sample_rate, seed=seed, seconds=seconds, pickup=pickup)
+        phrase = load_phrase(p)
+        if strength is not None:
+            from .strength import scale_plucks
+
+            phrase = scale_plucks(phrase, strength)
+        return synthesize(phrase, positions=positions, apertures=apertures, sample_rate=sample_rate, seed=seed, seconds=seconds, pickup=pickup)
     velocity, warnings = load_recorded(p, sample_rate=sample_rate, velocity_scale=velocity_scale, seconds=seconds)
     if seconds is not None:  # load_recorded has checked it
         n = int(round(seconds * sample_rate))

@@ -61,6 +61,10 @@ class BlindSettings:
         Render the room's hum with the signal.
     velocity_scale : float, m/s
         The string velocity at a recorded dry file's full scale (a sample of 1.0), above 0 to 1000; 1 for a phrase.
+    strength : float or None, m
+        Pluck a phrase harder or softer: every pluck scaled alike so that its strongest is this initial
+        displacement (above 0 to 20 mm, as ``render clips --strength``); None plays the phrase as written.
+        A recording is refused with it.
     """
 
     trials: int = 16
@@ -72,6 +76,7 @@ class BlindSettings:
     sample_rate: int = 48000
     hum: bool = True
     velocity_scale: float = 1.0
+    strength: float | None = None
 
     def __post_init__(self) -> None:
         from ..arguments import number
@@ -103,6 +108,11 @@ class BlindSettings:
                 raise ArgumentError("seconds", f"{self.seconds}", f"{exc}") from None
             if not MIN_SECONDS <= length <= MAX_SECONDS:
                 raise ArgumentError("seconds", f"{self.seconds}", f"must be from {MIN_SECONDS:g} s to {MAX_SECONDS:g} s")
+        strength = None
+        if self.strength is not None:  # in metres, shown in mm as render clips and render bias show it
+            if not (_finite(self.strength) and 0 < float(self.strength) <= 0.05):
+                raise ArgumentError("strength", f"{float(self.strength) * 1e3:g}mm" if _finite(self.strength) else _shown(self.strength), "must be above 0 and at most 50 mm")
+            strength = float(self.strength)
         # the checked values, as plain Python numbers
         for name, value in (
             ("trials", trials),
@@ -113,6 +123,7 @@ class BlindSettings:
             ("true_peak_dbtp", float(self.true_peak_dbtp)),
             ("hum", bool(self.hum)),
             ("velocity_scale", scale),
+            ("strength", strength),
         ):
             object.__setattr__(self, name, value)
 
@@ -188,15 +199,18 @@ def session_folder(out: str | Path | None, *, overwrite: bool) -> Path:
     return out
 
 
-def session_dry_file(dry_path: str | Path | None, *, velocity_scale: float = 1.0) -> Path:
+def session_dry_file(dry_path: str | Path | None, *, velocity_scale: float = 1.0, strength: float | None = None) -> Path:
     """The dry file a session plays (default: the demo phrase), refused if it does not exist, if a recording
-    is too short to level, or if a phrase is given a ``velocity_scale`` (it scales a recording)."""
-    from ..dry import default_dry_path, refuse_velocity_scale_with_phrase
+    is too short to level, if a phrase is given a ``velocity_scale`` (it scales a recording) or a recording a
+    pluck ``strength`` (m; it scales a phrase's plucks)."""
+    from ..dry import default_dry_path, refuse_strength_with_recording, refuse_velocity_scale_with_phrase
 
     dry_file = Path(dry_path) if dry_path else default_dry_path()
     if not dry_file.is_file():
         raise ArgumentError("dry_path", f"{dry_file}", "no such file; pass a phrase (.toml) or a recording", option="--dry")
-    refuse_velocity_scale_with_phrase(dry_file, velocity_scale, strength=False)
+    refuse_velocity_scale_with_phrase(dry_file, velocity_scale, settings="BlindSettings")
+    if strength is not None:
+        refuse_strength_with_recording(dry_file, f"{strength * 1e3:g}mm")
     if dry_file.suffix.lower() != ".toml":
         from ..dry import check_recording
 
@@ -276,13 +290,15 @@ def build_blind_session(
     from ..dry import load_dry
     from ..listening.build import build_session
     from ..listening.loudness import match_loudness
+    from .bias import check_strength
 
     settings = instance("settings", settings, BlindSettings, "a render.BlindSettings(...) or None for the defaults") if settings is not None else BlindSettings()
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     if len(designs) != 2:
         raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
+    dry_file = session_dry_file(dry_path, velocity_scale=settings.velocity_scale, strength=settings.strength)
+    strength_notes = check_strength(settings.strength, dry_file)  # a recording refused before the folder is made
     folder = session_folder(out, overwrite=overwrite)
-    dry_file = session_dry_file(dry_path, velocity_scale=settings.velocity_scale)
     # the file as read now (unchanged since loading), and the text that was rendered: a changed design's (render.with_values)
     design_records = [{**file_record(d.source, expected_sha256=d.sha256, text=not d.text), **({"toml": d.text} if d.text else {})} for d in designs]
     rig_record = file_record(rig.source, expected_sha256=rig.sha256, text=True) if rig else None
@@ -292,7 +308,7 @@ def build_blind_session(
     volts: list = []
     clipped: list[float] = []
     played: list = []
-    warnings: list[str] = []
+    warnings: list[str] = list(strength_notes)
     dry_description = None
     for design, name in zip(designs, names):
         dry = load_dry(
@@ -304,6 +320,7 @@ def build_blind_session(
             seconds=length,
             velocity_scale=settings.velocity_scale,
             pickup=pickup_for(design),
+            strength=settings.strength,
         )
         if dry_description is None:
             warnings.extend(dry.warnings)
@@ -329,7 +346,15 @@ def build_blind_session(
     seed = settings.seed if settings.seed is not None else secrets.randbits(63)
     record = {
         "rig": rig_record,
-        "dry": {**file_record(dry_file), "seed": DRY_SEED, "seconds": length, "velocity_scale": settings.velocity_scale, "description": dry_description, "from_di": from_di},
+        "dry": {
+            **file_record(dry_file),
+            "seed": DRY_SEED,
+            "seconds": length,
+            "velocity_scale": settings.velocity_scale,
+            "strength_m": settings.strength,
+            "description": dry_description,
+            "from_di": from_di,
+        },
         "render": {
             "function": RENDER_FUNCTION,
             "hum": settings.hum,

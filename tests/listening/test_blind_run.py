@@ -75,6 +75,7 @@ def test_a_session_from_loaded_designs(tmp_path):
         ({"seed": 2**63}, f"--seed={2**63}: must be from 0 to 2**63-1"),
         ({"seconds": "2 min"}, '--seconds=2 min: cannot read \'2 min\' as a time; write it like "0.2s" or "20ms"'),
         ({"seconds": 0.25}, "--seconds=0.25: must be from 0.5 s to 120 s"),
+        ({"strength": 0.06}, "--strength=60mm: must be above 0 and at most 50 mm"),
     ],
 )
 def test_bad_settings_are_refused_with_one_line(fields, message):
@@ -124,3 +125,49 @@ def test_score_run_draws_once_then_keeps_the_plot(make_session):
     again = score_blind_session(paths.root)
     assert again.plot is None and again.kept_plot == first.plot and again.result == first.result
     assert score_blind_session(paths.root, plot=False).kept_plot is None
+
+
+PHRASE = ROOT / "dry_signals" / "default.toml"
+
+
+def test_a_phrase_plucked_harder_is_louder_by_the_scale_exactly(tmp_path):
+    """--strength scales every pluck of the phrase by one factor; the string's motion is linear in the initial
+    displacement (Fletcher & Rossing, The Physics of Musical Instruments, 2nd ed. 1998, §2.7) and these designs
+    are linear below their clip onset (no construction), so with no hum doubling the strength raises the BS.1770-4
+    integrated loudness by 20·log10 2 = 6.02 dB (its gates are relative or far below: ITU-R BS.1770-4 eq. 2)."""
+    designs, rig = load_designs([A, B])
+    measured = []
+    for k, strength in enumerate((0.2e-3, 0.4e-3)):
+        settings = BlindSettings(trials=1, seed=1, seconds=2, sample_rate=FS, hum=False, strength=strength)
+        session = build_blind_session(designs, PHRASE, out=tmp_path / f"s{k}", rig=rig, settings=settings)
+        assert max(session.clipped_fraction) == 0.0
+        key = json.loads(session.paths.key.read_text())
+        assert key["dry"]["strength_m"] == strength and key["dry"]["description"]["strongest_pluck_m"] == pytest.approx(strength, rel=1e-12)
+        measured.append(session.loudness.measured_lufs)
+    for low, high in zip(*measured):
+        assert high - low == pytest.approx(20 * np.log10(2), abs=0.01)
+
+
+def test_strength_with_a_recording_is_refused_before_a_folder_is_made(tmp_path):
+    designs, rig = load_designs([A, B])
+    settings = BlindSettings(trials=1, seed=1, sample_rate=FS, strength=2e-3)
+    with pytest.raises(InputError, match="goes with a phrase file, not the recording"):
+        build_blind_session(designs, DRY, out=tmp_path / "s", rig=rig, settings=settings)
+    assert not (tmp_path / "s").exists()
+
+
+def test_blind_strength_on_the_command_line(tmp_path):
+    """`render blind --strength`: read in mm as render clips reads it; a bare number or a recording refused in one line."""
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    out = tmp_path / "s"
+    res = CliRunner().invoke(main, ["blind", str(A), str(B), "--strength", "0.3mm", "--seconds", "1", "--trials", "1", "--seed", "2", "--no-hum", "--out", str(out)])
+    assert res.exit_code == 0, res.output
+    assert json.loads((out / "private" / "key.json").read_text())["dry"]["strength_m"] == pytest.approx(0.3e-3, rel=1e-12)
+    res = CliRunner().invoke(main, ["blind", str(A), str(B), "--strength", "3", "--out", str(tmp_path / "t")])
+    assert res.exit_code == 1 and res.output.strip().splitlines() == ["Error: --strength=3: a pluck strength needs its unit; did you mean 3mm? (bare, it would be 3 m = 3000 mm)"]
+    res = CliRunner().invoke(main, ["blind", str(A), str(B), "--dry", str(DRY), "--strength", "2mm", "--out", str(tmp_path / "u")])
+    assert res.exit_code == 1 and "--strength=2mm: goes with a phrase file, not the recording" in res.output
+    assert not (tmp_path / "t").exists() and not (tmp_path / "u").exists()
