@@ -509,19 +509,19 @@ def run_clips(
                 vfs = volts_full_scale or window_full_scale(designs)
                 kws = [dict(out=out, stem=stem, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(d.rig)}, plots=plots) for stem, d in zip(stems, designs)]
                 records = render_all(designs, dry, settings, jobs, work=_render_long_one, extra=kws, plots=plots, progress=progress)
-                cvolts = None
-                if compare is not None:
-                    from .compare_clip import render_compare
+                clevels = None
+                if compare is not None:  # streamed to its WAV as the designs are: memory stays bounded
+                    from .compare_clip import render_compare_long
 
-                    cvolts, _, _ = render_compare(compare, dry, settings)
-                add_brightness(records, designs, reference=_reference(ref, compare, cvolts, settings))
+                    clevels = render_compare_long(compare, dry, settings, out=out, volts_full_scale=vfs)
+                add_brightness(records, designs, reference=_reference(ref, compare, clevels))
                 from ..io.atomic import write_json
 
                 for stem, rec in zip(stems, records):  # each S.json again, with the run's brightness figures
                     write_json(out / f"{stem}.json", rec, overwrite=True)
                 crec = None
-                if cvolts is not None:
-                    crec = _compare_files(compare, cvolts, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots)
+                if clevels is not None:
+                    crec = _compare_files(compare, None, clevels, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots)
                 write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs, compare=crec)
                 write_clips_page(
                     out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None, reference=ref
@@ -560,13 +560,18 @@ def run_clips(
             cvolts = compared.result()[0] if compare is not None else np.zeros(0)
         peaks = [abs(c.volts).max() if c.volts.size else 0 for c in clips] + [abs(c.passive_volts).max() for c in clips if c.passive_volts is not None and c.passive_volts.size]
         peaks += [abs(cvolts).max()] if cvolts.size else []
+        clevels = None
+        if compare is not None:
+            from .compare_clip import Levels
+
+            clevels = Levels.of(cvolts, sample_rate=settings.sample_rate)
         vfs = volts_full_scale or choose_full_scale(peaks)
         records = [clip_record(clip, settings=settings, volts_full_scale=vfs, rig_record={**rig_record, "values": asdict(clip.design.rig)}, dry_path=dry) for clip in clips]
         search_limits(designs, records, dry, settings, jobs=jobs, found=[f for _, f in rendered])
-        add_brightness(records, designs, reference=_reference(ref, compare, cvolts, settings))
+        add_brightness(records, designs, reference=_reference(ref, compare, clevels))
         for stem, clip, rec in zip(stems, clips, records):
             write_design_audio(out, stem, clip, rec, volts_full_scale=vfs, sample_rate=settings.sample_rate)
-        crec = _compare_files(compare, cvolts, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots) if compare is not None else None
+        crec = _compare_files(compare, cvolts, clevels, designs, records, ref, dry=dry, settings=settings, out=out, volts_full_scale=vfs, plots=plots) if clevels is not None else None
         write_run_files(out, records, dry=str(dry), rig=rig_text, settings=settings.record(), volts_full_scale=vfs, compare=crec)
         write_clips_page(out, records, designs, volts_full_scale=vfs, dry=str(dry), rig=rig_text, settings=settings.record(), jobs=jobs, compare=(compare, crec) if crec else None, reference=ref)
         seconds = clips[0].volts.size / settings.sample_rate if clips else 0.0
@@ -589,20 +594,20 @@ def _finished(out: Path, records, vfs: float, *, streamed: bool, seconds: float,
     )
 
 
-def _reference(ref: int | None, compare, cvolts: np.ndarray | None, settings: RenderSettings):
-    """The brightness reference: the design at index ``ref``, or (None) the comparison pickup from its clip."""
+def _reference(ref: int | None, compare, levels):
+    """The brightness reference: the design at index ``ref``, or (None) the comparison pickup from its clip's levels."""
     if ref is not None:
         return ref
     from .compare_clip import compare_reference
 
-    assert cvolts is not None  # a run whose reference is the comparison pickup renders it first
+    assert levels is not None  # a run whose reference is the comparison pickup renders it first
 
-    return compare_reference(compare, cvolts, sample_rate=settings.sample_rate)
+    return compare_reference(compare, levels)
 
 
-def _compare_files(compare, volts: np.ndarray, designs, records, ref: int | None, *, dry: Path, settings: RenderSettings, out: Path, volts_full_scale: float, plots: bool) -> dict:
+def _compare_files(compare, volts: np.ndarray | None, levels, designs, records, ref: int | None, *, dry: Path, settings: RenderSettings, out: Path, volts_full_scale: float, plots: bool) -> dict:
     """The comparison pickup's record (its brightness against the run's reference design, or as the reference itself
-    when ``ref`` is None) and files; returns the record."""
+    when ``ref`` is None; ``levels`` its clip's) and files (``volts`` None: its WAV already streamed); returns the record."""
     from ..analysis.brightness import band_powers_db
     from .compare_clip import compare_record, write_compare_clip
 
@@ -610,7 +615,7 @@ def _compare_files(compare, volts: np.ndarray, designs, records, ref: int | None
     if ref is not None:
         power = {k: float(v[0]) for k, v in band_powers_db([designs[ref]]).items()}
         reference = (designs[ref].name, power, records[ref]["measurements"]["loudness_lufs_1v_full_scale"])
-    rec = compare_record(compare, volts, sample_rate=settings.sample_rate, dry=dry, settings=settings, volts_full_scale=volts_full_scale, reference=reference)
+    rec = compare_record(compare, levels, dry=dry, settings=settings, volts_full_scale=volts_full_scale, reference=reference)
     write_compare_clip(compare, volts, rec, out, sample_rate=settings.sample_rate, volts_full_scale=volts_full_scale, plots=plots)
     return rec
 

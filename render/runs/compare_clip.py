@@ -9,6 +9,7 @@ full scale so its level compares honestly with the designs'.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -38,6 +39,53 @@ def render_compare(p: PassiveDesign, dry: Path, settings: RenderSettings) -> tup
     return volts, fs, tuple(signal.warnings)
 
 
+def render_compare_long(p: PassiveDesign, dry: Path, settings: RenderSettings, *, out: Path, volts_full_scale: float, block: int = 65536) -> Levels:
+    """``p`` playing a long recording, streamed block by block straight to ``out``/<stem>.wav (at
+    ``volts_full_scale``), as :func:`render.runs.clips.render_long` streams a design: memory stays bounded.
+    The samples equal :func:`render_compare`'s to float rounding (the passive path and the noise floor are
+    the same streams). Returns the clip's :class:`Levels`."""
+    from ..analysis.loudness import LoudnessMeter
+    from ..clip import PassiveStream
+    from ..dry.recorded import RecordingChecks, iter_recorded
+    from ..io.audio import audio_info
+    from ..io.wav import FloatWavWriter
+
+    d = carrier(p)
+    fs = settings.sample_rate
+    passive = PassiveStream(d, sample_rate=fs, hum=settings.hum)
+    noise = None
+    if settings.noise:
+        from ..analysis.noise import NoiseStream
+
+        noise = NoiseStream(d, sample_rate=fs, seed=settings.seed, passive=True)
+    meter = LoudnessMeter(sample_rate=fs)
+    peak, sq, n = 0.0, 0.0, 0
+    wav = FloatWavWriter(Path(out) / f"{compare_stem(p)}.wav", sample_rate=fs, overwrite=True)
+    checks = RecordingChecks(str(dry), info=audio_info(dry), velocity_scale=settings.velocity_scale, seconds=settings.seconds)
+    try:
+        blocks = (passive.process(v) for v in iter_recorded(dry, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block, checks=checks))
+        for y in _then(blocks, passive.finish):
+            if noise is not None and y.size:
+                y = y + noise.take(y.size)
+            if y.size:
+                peak = max(peak, float(np.max(np.abs(y))))
+                sq += float(np.sum(y * y))
+                n += y.size
+            meter.add(y)
+            wav.write(y / volts_full_scale)
+        wav.close()
+    except BaseException:
+        wav.abort()
+        raise
+    return Levels(peak, float(np.sqrt(sq / n)) if n else 0.0, meter.integrated())
+
+
+def _then(blocks, last):
+    """Every block of ``blocks``, then ``last()`` (called once they are drawn)."""
+    yield from blocks
+    yield last()
+
+
 def compare_power_db(p: PassiveDesign) -> dict:
     """The pickup's :func:`render.analysis.brightness.band_power_db` per band key, dB re (1 V per m/s)²."""
     from ..analysis.brightness import BANDS_HZ, band_key, band_power_db
@@ -46,17 +94,35 @@ def compare_power_db(p: PassiveDesign) -> dict:
     return {band_key(b): float(band_power_db(lambda f: compare_response(p, f)[None, :], b)[0]) for b in BANDS_HZ}
 
 
-def compare_reference(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int):
+def compare_reference(p: PassiveDesign, levels: Levels):
     """The pickup as the run's brightness reference (``--reference`` naming it): its name, band powers and clip loudness
     (:class:`render.analysis.brightness.OutsideReference`)."""
     from ..analysis.brightness import OutsideReference
-    from ..analysis.loudness import integrated_loudness
 
-    return OutsideReference(p.name, compare_power_db(p), integrated_loudness(volts, sample_rate=sample_rate))
+    return OutsideReference(p.name, compare_power_db(p), levels.loudness_lufs)
 
 
-def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry: Path, settings: RenderSettings, volts_full_scale: float, reference: tuple[str, dict, float | None] | None) -> dict:
-    """The comparison clip's JSON record: the pickup, its render, and ``measurements`` with the designs' figures where a passive pickup has them.
+@dataclass(frozen=True)
+class Levels:
+    """What the comparison record measures of its clip: peak (V), rms (V) and BS.1770-4 integrated loudness
+    (LUFS re 1 V full scale; None when silent or shorter than one gating block)."""
+
+    peak_v: float
+    rms_v: float
+    loudness_lufs: float | None
+
+    @classmethod
+    def of(cls, volts: np.ndarray, *, sample_rate: int) -> Levels:
+        """The levels of a whole clip in memory."""
+        from ..analysis.loudness import integrated_loudness
+
+        if not volts.size:
+            return cls(0.0, 0.0, integrated_loudness(volts, sample_rate=sample_rate))
+        return cls(float(np.max(np.abs(volts))), float(np.sqrt(np.mean(volts**2))), integrated_loudness(volts, sample_rate=sample_rate))
+
+
+def compare_record(p: PassiveDesign, levels: Levels, *, dry: Path, settings: RenderSettings, volts_full_scale: float, reference: tuple[str, dict, float | None] | None) -> dict:
+    """The comparison clip's JSON record: the pickup, its render's ``levels``, and ``measurements`` with the designs' figures where a passive pickup has them.
 
     reference : (name, band powers per band key (dB), loudness (LUFS re 1 V full scale) or None), or None
         The run's reference design, for the loudness-matched brightness differences; None when this pickup is the reference.
@@ -64,9 +130,8 @@ def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry
     from ..analysis import undefined as U
     from ..analysis.brightness import other_record
     from ..analysis.comparison import compare_response, comparison_figures
-    from ..analysis.loudness import integrated_loudness
 
-    peak = float(np.max(np.abs(volts))) if volts.size else 0.0
+    peak = levels.peak_v
     rec: dict = {
         "file": p.source,
         "sha256": p.sha256,
@@ -76,9 +141,9 @@ def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry
         "settings": settings.record(),
         "volts_full_scale": volts_full_scale,
         "peak_v": peak,
-        "rms_v": float(np.sqrt(np.mean(volts**2))) if volts.size else 0.0,
+        "rms_v": levels.rms_v,
     }
-    U.put(rec, "loudness_lufs_1v_full_scale", integrated_loudness(volts, sample_rate=sample_rate), U.SILENT)
+    U.put(rec, "loudness_lufs_1v_full_scale", levels.loudness_lufs, U.SILENT)
     fig = comparison_figures(p)
     m: dict = {}
     for key, src in (("resonance_hz", "peak_hz"), ("resonance_db", "peak_db"), ("q", "q"), ("level_1k_db", "level_1k_db"), ("hum_rejection_db", "hum_rejection_db")):
@@ -92,13 +157,15 @@ def compare_record(p: PassiveDesign, volts: np.ndarray, *, sample_rate: int, dry
     return rec
 
 
-def write_compare_clip(p: PassiveDesign, volts: np.ndarray, rec: dict, out: Path, *, sample_rate: int, volts_full_scale: float, plots: bool = True) -> None:
-    """``out``/<stem>.wav (at ``volts_full_scale``) and <stem>.json (``rec``, from :func:`compare_record`), with <stem>-response.png when ``plots``."""
+def write_compare_clip(p: PassiveDesign, volts: np.ndarray | None, rec: dict, out: Path, *, sample_rate: int, volts_full_scale: float, plots: bool = True) -> None:
+    """``out``/<stem>.wav (at ``volts_full_scale``; None: already written, streamed by :func:`render_compare_long`)
+    and <stem>.json (``rec``, from :func:`compare_record`), with <stem>-response.png when ``plots``."""
     from ..io.atomic import write_json
     from ..io.wav import write_float_wav
 
     stem = compare_stem(p)
-    write_float_wav(out / f"{stem}.wav", volts / volts_full_scale, sample_rate, overwrite=True)
+    if volts is not None:
+        write_float_wav(out / f"{stem}.wav", volts / volts_full_scale, sample_rate, overwrite=True)
     write_json(out / f"{stem}.json", rec, overwrite=True)
     if plots:
         from ..analysis.comparison import compare_response

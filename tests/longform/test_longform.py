@@ -146,13 +146,16 @@ def test_ten_minutes_render_in_bounded_memory(tmp_path):
         "sys.argv = ['render'] + sys.argv[1:]\n"
         "runpy.run_module('render', run_name='__main__')\n"
     )
-    args = ["clips", str(REF), "--dry", str(flac), "--velocity-scale", "4", "--no-plots", "--out", str(tmp_path / "o")]
+    # with a passive comparison pickup, which streams to its WAV as the design does
+    passive = REF.parent / "compare" / "workshop-passive.toml"
+    args = ["clips", str(REF), "--dry", str(flac), "--velocity-scale", "4", "--compare", str(passive), "--no-plots", "--out", str(tmp_path / "o")]
     res = subprocess.run([sys.executable, "-c", probe, *args], capture_output=True, text=True, cwd=ROOT)
     assert res.returncode == 0, res.stderr
     peak_mb = int(res.stderr.split("PEAK_KB")[-1].split()[0]) / 1024
     print(f"ten minutes: peak resident memory of the render {peak_mb:.0f} MB")
     assert peak_mb < 500
     assert sf.info(tmp_path / "o" / "studio-reference.wav").frames == 600 * fs
+    assert sf.info(tmp_path / "o" / "workshop-passive.wav").frames == 600 * fs
 
 
 def test_a_long_recording_can_take_the_comparison_pickup_as_its_reference(tmp_path):
@@ -276,6 +279,37 @@ def test_a_streamed_render_with_noise_equals_the_one_in_memory(tmp_path, monkeyp
     c, _ = sf.read(tmp_path / "quiet" / "studio-reference.wav")
     b, _ = sf.read(tmp_path / "streamed" / "studio-reference.wav")
     assert np.max(np.abs(b - c)) > 1e-5
+
+
+def test_a_streamed_comparison_pickup_equals_the_one_in_memory(tmp_path, monkeypatch):
+    # project rule, no outside source (README: the streamed render equals a single-block render to float rounding):
+    # the comparison pickup streams through the same passive path and noise floor as in memory, so its WAV equals
+    # the in-memory one to the WAV's float32 rounding and its record's levels to float rounding; its loudness is
+    # BS.1770-4's (pyloudnorm's meter, as tests above check the streamed meter)
+    import render.runs.clips as clips
+
+    fs = 48000
+    t = np.arange(3 * fs) / fs
+    sf.write(tmp_path / "v.wav", (0.05 * np.sin(2 * np.pi * 196 * t) * np.exp(-(t % 1.0))).astype(np.float32), fs, subtype="FLOAT")
+    passive = REF.parent / "compare" / "workshop-passive.toml"
+    args = ["clips", str(REF), "--dry", str(tmp_path / "v.wav"), "--compare", str(passive), "--noise", "--seed", "4", "--volts-full-scale", "1", "--no-plots"]
+    mem = CliRunner().invoke(main, [*args, "--out", str(tmp_path / "mem")])
+    monkeypatch.setattr(clips, "LONG_SECONDS", 1.0)
+    streamed = CliRunner().invoke(main, [*args, "--out", str(tmp_path / "streamed")])
+    assert mem.exit_code == 0 and streamed.exit_code == 0, mem.output + streamed.output
+    assert "block by block" in streamed.output and "block by block" not in mem.output
+    a, _ = sf.read(tmp_path / "mem" / "workshop-passive.wav")
+    b, _ = sf.read(tmp_path / "streamed" / "workshop-passive.wav")
+    assert a.shape == b.shape == (3 * fs,)
+    assert np.max(np.abs(a - b)) < 1e-6 * np.max(np.abs(a))  # float32 rounding of the WAV (2^-24 of a sample)
+    ra = json.loads((tmp_path / "mem" / "workshop-passive.json").read_text())
+    rb = json.loads((tmp_path / "streamed" / "workshop-passive.json").read_text())
+    for key in ("peak_v", "rms_v", "loudness_lufs_1v_full_scale"):
+        assert rb[key] == pytest.approx(ra[key], rel=1e-9), key
+    assert rb["measurements"]["matched_diff_4k_8k_db"] == pytest.approx(ra["measurements"]["matched_diff_4k_8k_db"], abs=1e-9)
+    import pyloudnorm
+
+    assert rb["loudness_lufs_1v_full_scale"] == pytest.approx(pyloudnorm.Meter(fs, filter_class="DeMan").integrated_loudness(b), abs=1e-3)
 
 
 def test_the_streamed_full_scale_of_the_demo_designs():
