@@ -123,12 +123,14 @@ class LadderFit:
     loss_angle_deg: float = 0.0
 
     def loss_reason(self, tol_deg: float | None = None) -> str | None:
-        """Why ``error_loss`` is None, in words ("loss below the fit tolerance (…)"); None when it is given.
+        """Why ``error_loss`` is None, in words ("loss below the fit tolerance (…)", or "no core loss …" when the target has none); None when it is given.
 
         ``tol_deg``: the fit's phase tolerance (default :data:`TOL_DEG`, :func:`fit_ladder`'s).
         """
         if self.error_loss is not None:
             return None
+        if not self.loss_angle_deg > 0:
+            return "no core loss (an air core, or parts that do not conduct)"
         tol = TOL_DEG if tol_deg is None else tol_deg
         return f"loss below the fit tolerance (it turns the phase by {self.loss_angle_deg:.2f}° at most, under {tol:g}°)"
 

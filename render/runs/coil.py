@@ -138,6 +138,7 @@ def coil_record(design, *, points: int = POINTS) -> dict:
             "capacitance_f": c.capacitance,
             **_lumped_loss_record(c),
             "core_loss": core_loss_models(c),
+            **({"core_loss_reason": why} if not core_loss_models(c) and (why := getattr(rec, "ladder_error_loss_reason", "")) else {}),
             "ladder": _ladder_dict(coil_ladder(c)),
             "self_resonance_hz": srf,
             **({"self_resonance_hz_reason": unsure or "no phase crossing from 10 Hz to 10 MHz"} if srf is None else {}),

@@ -63,15 +63,11 @@ def test_the_ladders_loss_against_the_closed_form(which):
     assert fit.error_loss == pytest.approx(np.max(np.abs(ratio - 1)), rel=1e-6)
 
 
-@pytest.mark.parametrize("model", ["slipway-steel-blades", "slipway-steel-poles"])
-def test_the_steel_demos_ladder_loss_against_the_closed_form(model, monkeypatch):
-    # each coil's ladder as the design loads it, against the closed forms summed over the core
-    # parts the design derives (the same parts, fills and demagnetising factors), 20 Hz–20 kHz;
-    # before the loss was weighted the ladders ran 0.91× (blades) and 0.85× (poles) at 20 Hz
+def derivations(monkeypatch) -> list:
+    """Each coil's (core parts, DerivedCoil) as the designs loaded after this call derive them, in order."""
     from render.design import coil_impedance as ci
-    from render.design import load_design
 
-    seen = []
+    seen: list = []
     derive = ci._derive
 
     def keep(winding, bare, outer, parts):
@@ -80,6 +76,17 @@ def test_the_steel_demos_ladder_loss_against_the_closed_form(model, monkeypatch)
         return out
 
     monkeypatch.setattr(ci, "_derive", keep)
+    return seen
+
+
+@pytest.mark.parametrize("model", ["slipway-steel-blades", "slipway-steel-poles"])
+def test_the_steel_demos_ladder_loss_against_the_closed_form(model, monkeypatch):
+    # each coil's ladder as the design loads it, against the closed forms summed over the core
+    # parts the design derives (the same parts, fills and demagnetising factors), 20 Hz–20 kHz;
+    # before the loss was weighted the ladders ran 0.91× (blades) and 0.85× (poles) at 20 Hz
+    from render.design import load_design
+
+    seen = derivations(monkeypatch)
     design = load_design(ROOT / "models" / f"{model}.toml")
     assert len(seen) == 2
     f = np.geomspace(20.0, 20e3, 61)
