@@ -46,7 +46,7 @@ def _eng(x: float, unit: str) -> str:
 
 
 def print_record(rec: dict) -> None:
-    from ..runs.coil import SHOWN_HZ, at, lumped_loss_words
+    from ..runs.coil import SHOWN_HZ, at, ladder_fit_words, lumped_loss_words
 
     click.echo(f"{rec['design']}  ({rec['file']})")
     for name, c in rec["coils"].items():
@@ -61,7 +61,7 @@ def print_record(rec: dict) -> None:
             rest = f"{len(small)} others" if len(small) > 1 else (small[0]["name"] if small else "")
             shown = [f"{p['name']} +{_eng(p['rise_h'], 'H')}" for p in parts] + ([f"{rest} +{_eng(sum(p['rise_h'] for p in small), 'H')}"] if small else [])
             core = ", ".join(shown) or "air core"
-            how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; ladder within {src['ladder_error_db']:.2f} dB, {src['ladder_error_deg']:.2f}°"
+            how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; {ladder_fit_words(src)}"
         click.echo(f"  {name}  {how}")
         lad = c["ladder"]
         from .coil_fit import ladder_words
@@ -71,7 +71,7 @@ def print_record(rec: dict) -> None:
         unsure = " (not determined by the sweep)" if (src or {}).get("capacitance_doubt") else ""
         click.echo(
             f"          R {_eng(c['resistance_ohm'], 'Ω')}, L {_eng(c['inductance_h'], 'H')} at DC ({loss}), C {_eng(c['capacitance_f'], 'F')}{unsure},"
-            f" self-resonance {_eng(srf, 'Hz') if srf else 'none below 10 MHz'}"
+            f" self-resonance {_eng(srf, 'Hz') if srf else (src or {}).get('self_resonance_doubt') or 'none below 10 MHz'}"
         )
         vals = [at(c, f) for f in SHOWN_HZ]
         click.echo("          Hz     " + "".join(f"{_hz(f):>8}" for f in SHOWN_HZ))

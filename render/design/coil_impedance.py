@@ -47,7 +47,7 @@ WIRE_OUTER_RATIO = 1.127  # insulated / bare diameter: heavy-build enamel on AWG
 TYPED = ("inductance", "resistance", "capacitance", "eddy_resistance", "eddy_coupling", "eddy_corner")
 PLACEHOLDER = {"inductance": 1.0, "resistance": 1e3, "capacitance": 1e-10}  # replaced by resolve()
 FIT_VERSION = 5  # bump when the measured fit's numbers change, so cached fits are recomputed
-LADDER_VERSION = 1  # likewise for the derived coil's ladder fit (render.impedance.ladder.fit_ladder)
+LADDER_VERSION = 2  # likewise for the derived coil's ladder fit (render.impedance.ladder.fit_ladder)
 CORE_VERSION = 2  # bump when the cached core parts change (their rises, or their names: poles numbered from the treble side since 2)
 
 
@@ -107,6 +107,8 @@ class DerivedImpedance:
     ladder_error_db: float
     ladder_error_deg: float
     layers: int
+    ladder_error_loss: float | None = None  # largest |ΔRe/Re| of the ladder's loss over 20 Hz–20 kHz; None: below the fit tolerance
+    ladder_error_loss_reason: str = ""  # why ladder_error_loss is None ("loss below the fit tolerance (…)"), or ""
 
 
 @dataclass(frozen=True)
@@ -127,6 +129,7 @@ class MeasuredImpedance:
     capacitance_doubt: str = ""  # why the sweep does not determine C (render.impedance.measured), or ""
     resistance_given: bool = False  # R_dc held at the design's resistance, not fitted
     dc_doubt: str = ""  # why the sweep does not determine R_dc or L at DC, its fix included (MeasuredCoil.dc_doubt), or ""
+    self_resonance_doubt: str = ""  # why no self-resonance is given (MeasuredCoil.self_resonance_doubt), or ""
 
 
 def _inductances(raw: Any, loc: str, kind) -> tuple:
@@ -291,11 +294,15 @@ def ladder_fit_cached(frequency_hz: np.ndarray, impedance: np.ndarray):
     if stored is not None:
         try:
             band = stored["band"]
-            return LadderFit(_ladder_from(stored), float(stored["error_db"]), float(stored["error_deg"]), (float(band[0]), float(band[1])))
+            loss = float(stored["error_loss"])
+            return LadderFit(
+                _ladder_from(stored), float(stored["error_db"]), float(stored["error_deg"]), (float(band[0]), float(band[1])), None if np.isnan(loss) else loss, float(stored["loss_angle"])
+            )
         except (KeyError, ValueError, TypeError, IndexError, InputError):
             pass
     fit = fit_ladder(f, z)
-    cache.store("coil-ladder", key, _ladder_arrays(fit.ladder) | {"error_db": np.array(fit.error_db), "error_deg": np.array(fit.error_deg), "band": np.array(fit.band_hz, float)})
+    errors = {"error_db": np.array(fit.error_db), "error_deg": np.array(fit.error_deg), "error_loss": np.array(np.nan if fit.error_loss is None else fit.error_loss)}
+    cache.store("coil-ladder", key, _ladder_arrays(fit.ladder) | errors | {"loss_angle": np.array(fit.loss_angle_deg), "band": np.array(fit.band_hz, float)})
     return fit
 
 
@@ -331,6 +338,8 @@ def _derived(coil, spec: CoilSpec, design, name: str):
         ladder_error_db=float(derived.ladder_fit.error_db),
         ladder_error_deg=float(derived.ladder_fit.error_deg),
         layers=int(derived.capacitance.layers),
+        ladder_error_loss=derived.ladder_fit.error_loss,
+        ladder_error_loss_reason=derived.ladder_fit.loss_reason() or "",
     )
     lad = derived.ladder_fit.ladder
     return replace(coil, inductance=lad.dc_inductance, resistance=float(derived.resistance), capacitance=float(derived.capacitance.capacitance), ladder=lad, impedance_from=record)
@@ -403,6 +412,8 @@ def _fit_cached(path: str, sha: str, capacitance: float | None = None, resistanc
 
 
 def _measured(coil, spec: CoilSpec, design, name: str):
+    from .schema import COIL
+
     assert spec.measured is not None  # a "measured" spec always has its file
     path = measurement_path(spec.measured, design.source)
     if not path.is_file():
@@ -422,6 +433,7 @@ def _measured(coil, spec: CoilSpec, design, name: str):
         capacitance_doubt=fit.capacitance_doubt() or "",
         resistance_given=fit.resistance_given,
         dc_doubt=fit.dc_doubt() or "",
+        self_resonance_doubt=fit.self_resonance_doubt(COIL["capacitance"].lo) or "",
     )
     return replace(coil, inductance=fit.inductance, resistance=float(fit.resistance), capacitance=float(fit.capacitance), ladder=fit.ladder, impedance_from=record)
 

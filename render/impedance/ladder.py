@@ -21,11 +21,24 @@ fitted τ_k reproduce it over the audio band.
 The fit
 -------
 For fixed τ_k the weights L0, L_k ≥ 0 follow from a bounded linear least-
-squares problem on the relative complex error of Z/s (which is the error of
-|Z| in nepers and of its phase in radians together); the τ_k themselves are
-moved by a nonlinear least-squares search (variable projection). Sections are
-added one at a time until the error over the report band is within the
-asked tolerance.
+squares problem on the relative complex error of Z/s, λ_fit/λ − 1 (its real
+part is the error of |Z| in nepers, its imaginary part that of the phase in
+radians); the τ_k themselves are moved by a nonlinear least-squares search
+(variable projection).
+
+The phase error alone does not hold the core loss Re{Z} = −ω·Im λ: at low
+frequency the loss is a small angle of λ (Re{Z}/Im{Z} → ω·Στ_kL_k/L_dc, the
+x²/3 term of tanh x/x = 1 − x²/3 + …; Lammeraner & Štafl, *Eddy Currents*,
+1966), so a loss 10 % off moves the phase by a few hundredths of a degree.
+Each imaginary row is therefore weighted by |λ|/|Im λ|, which makes it the
+relative error of the loss itself. Where the target's loss never turns the
+phase by more than the phase tolerance over the report band, a lossless
+ladder is within that tolerance: the loss is then left unweighted and not
+counted ("below the fit tolerance").
+
+Sections are added one at a time until the error over the report band is
+within the asked tolerances: of |Z| (dB), of the phase (°), and of the loss
+(a fraction of Re{Z}).
 """
 
 from __future__ import annotations
@@ -38,6 +51,7 @@ from ..errors import InputError
 
 REPORT_BAND_HZ = (20.0, 20e3)
 FIT_BAND_HZ = (10.0, 100e3)
+TOL_DB, TOL_DEG, TOL_LOSS = 0.05, 0.5, 0.05  # fit_ladder's default tolerances: dB, degrees, a fraction of the loss
 
 
 @dataclass(frozen=True)
@@ -94,12 +108,31 @@ class LadderFit:
         Largest |∠Z_fit − ∠Z| over the report band, degrees.
     band_hz : tuple of float
         The report band.
+    error_loss : float or None
+        Largest |Re{Z_fit}/Re{Z} − 1| over the report band (a fraction); None when
+        the loss is below the fit tolerance (not fitted: see ``loss_angle_deg``).
+    loss_angle_deg : float, degrees
+        The target's largest loss angle atan(Re{Z}/Im{Z}) over the report band.
     """
 
     ladder: Ladder
     error_db: float
     error_deg: float
     band_hz: tuple[float, float]
+    error_loss: float | None = None
+    loss_angle_deg: float = 0.0
+
+    def loss_reason(self, tol_deg: float | None = None) -> str | None:
+        """Why ``error_loss`` is None, in words ("loss below the fit tolerance (…)", or "no core loss …" when the target has none); None when it is given.
+
+        ``tol_deg``: the fit's phase tolerance (default :data:`TOL_DEG`, :func:`fit_ladder`'s).
+        """
+        if self.error_loss is not None:
+            return None
+        if not self.loss_angle_deg > 0:
+            return "no core loss (an air core, or parts that do not conduct)"
+        tol = TOL_DEG if tol_deg is None else tol_deg
+        return f"loss below the fit tolerance (it turns the phase by {self.loss_angle_deg:.2f}° at most, under {tol:g}°)"
 
 
 def ladder_error(z_fit, z_ref) -> tuple[float, float]:
@@ -108,12 +141,26 @@ def ladder_error(z_fit, z_ref) -> tuple[float, float]:
     return float(np.max(np.abs(20 * np.log10(np.abs(ratio))))), float(np.max(np.abs(np.degrees(np.angle(ratio)))))
 
 
-def _weights(s, lam, tau):
-    """Bounded linear least squares for L0, L_k ≥ 0 given τ; returns (weights, residual)."""
+def loss_error(z_fit, z_ref) -> float:
+    """Largest |Re{z_fit}/Re{z_ref} − 1| where Re{z_ref} > 0: the relative error of the resistive part (the core loss); 0 where none has loss."""
+    ref, fit = np.real(np.asarray(z_ref)), np.real(np.asarray(z_fit))
+    has = ref > 0
+    return float(np.max(np.abs(fit[has] / ref[has] - 1))) if np.any(has) else 0.0
+
+
+LOSS_WEIGHT_MAX = 1e6  # the imaginary rows' weight |λ|/|Im λ| is capped here (a loss angle under 1 µrad)
+
+
+def _weights(s, lam, tau, im_weight=1.0):
+    """Bounded linear least squares for L0, L_k ≥ 0 given τ; returns (weights, residual).
+
+    ``im_weight`` (scalar or shape (F,)) scales the imaginary rows: 1 for the
+    relative error of λ, |λ|/|Im λ| for the relative error of the loss.
+    """
     from scipy.optimize import lsq_linear
 
     basis = np.concatenate([np.ones((1, s.size)), 1.0 / (1.0 + s[None, :] * tau[:, None])], axis=0) / lam[None, :]
-    a = np.concatenate([basis.real, basis.imag], axis=1).T
+    a = np.concatenate([basis.real, basis.imag * im_weight], axis=1).T
     b = np.concatenate([np.ones(s.size), np.zeros(s.size)])
     res = lsq_linear(a, b, bounds=(0.0, np.inf), method="bvls", tol=1e-12)
     return res.x, a @ res.x - b
@@ -124,8 +171,9 @@ def fit_ladder(
     impedance,
     *,
     max_sections: int = 8,
-    tol_db: float = 0.05,
-    tol_deg: float = 0.5,
+    tol_db: float = TOL_DB,
+    tol_deg: float = TOL_DEG,
+    tol_loss: float | None = TOL_LOSS,
     band_hz: tuple[float, float] = REPORT_BAND_HZ,
 ) -> LadderFit:
     """Fit eq. (1) to an inductive impedance (no DC resistance, no capacitance).
@@ -140,7 +188,13 @@ def fit_ladder(
     max_sections : int
         At most this many R ∥ L sections.
     tol_db, tol_deg : float
-        Stop adding sections once the error over ``band_hz`` is within both.
+        Stop adding sections once the error over ``band_hz`` is within both
+        (and within ``tol_loss``).
+    tol_loss : float or None
+        The loss's tolerance, a fraction of Re{Z} over ``band_hz``; the loss is
+        weighted (module docstring) only where the target's loss angle exceeds
+        ``tol_deg`` somewhere in the band. None: the loss is neither weighted
+        nor counted (the relative error of Z/s alone).
     band_hz : (float, float)
         The band the error is reported over.
 
@@ -159,23 +213,30 @@ def fit_ladder(
     in_band = (f >= band_hz[0] * (1 - 1e-9)) & (f <= band_hz[1] * (1 + 1e-9))
     if not np.any(in_band):
         raise InputError(f"fit_ladder: no frequency inside the report band {band_hz} Hz")
+    angle = float(np.degrees(np.max(np.arctan2(np.abs(z[in_band].real), np.abs(z[in_band].imag)))))
+    hold_loss = tol_loss is not None and angle > tol_deg
+    im_weight = np.minimum(np.abs(lam) / np.maximum(np.abs(lam.imag), 1e-300), LOSS_WEIGHT_MAX) if hold_loss else 1.0
+    tols = (tol_db, tol_deg, tol_loss if hold_loss and tol_loss is not None else np.inf)
     lo, hi = 1.0 / (2 * np.pi * f[-1]), 1.0 / (2 * np.pi * f[0])
-    best = None
+    band = (float(band_hz[0]), float(band_hz[1]))
+    best, best_score = None, np.inf
     for k in range(0, max_sections + 1):
         if k == 0:
             tau = np.zeros(0)
         else:
             # start from log-spaced time constants over the data's range, then move them
             start = np.log(np.geomspace(lo, hi, k + 2)[1:-1])
-            fit = least_squares(lambda lt: _weights(s, lam, np.exp(lt))[1], start, bounds=(np.log(lo / 100), np.log(hi * 100)), x_scale=1.0, xtol=1e-12, ftol=1e-12)
+            fit = least_squares(lambda lt: _weights(s, lam, np.exp(lt), im_weight)[1], start, bounds=(np.log(lo / 100), np.log(hi * 100)), x_scale=1.0, xtol=1e-12, ftol=1e-12)
             tau = np.exp(fit.x)
-        w, _ = _weights(s, lam, tau)
+        w, _ = _weights(s, lam, tau, im_weight)
         keep = w[1:] > 1e-12 * max(w.sum(), 1e-300)
         ladder = Ladder(float(w[0]), tuple(float(v) for v in w[1:][keep]), tuple(float(v) for v in (w[1:] / tau)[keep]))
-        err = ladder_error(ladder.impedance(f[in_band]), z[in_band])
-        if best is None or max(err[0] / tol_db, err[1] / tol_deg) < max(best.error_db / tol_db, best.error_deg / tol_deg):
-            best = LadderFit(ladder, err[0], err[1], (float(band_hz[0]), float(band_hz[1])))
-        if err[0] <= tol_db and err[1] <= tol_deg:
+        z_fit = ladder.impedance(f[in_band])
+        err = (*ladder_error(z_fit, z[in_band]), loss_error(z_fit, z[in_band]) if hold_loss else 0.0)
+        score = max(e / t for e, t in zip(err, tols))
+        if score < best_score:
+            best, best_score = LadderFit(ladder, err[0], err[1], band, err[2] if hold_loss else None, angle), score
+        if score <= 1.0:
             break
     assert best is not None  # the loop runs at least once
     return best

@@ -175,6 +175,18 @@ class MeasuredCoil:
             return f"C is not determined: the sweep ends at {format_si(float(self.frequency_hz[-1]), 'Hz', 3)}, where C carries ω²LC = {x:.2g} of the reactance (under {REACH_SHARE:g}); {guess}"
         return f"C is not determined: the fit's spread of C is over {REACH_SD:.0%}; {guess}"
 
+    def self_resonance_doubt(self, floor: float) -> str | None:
+        """Why no self-resonance is given, in words, when the sweep does not determine C (the model's phase
+        crossing is then a guess or noise); None when it does or C was given. ``floor`` (F): the least
+        capacitance taken as seen (below it the sweep shows none)."""
+        if self.capacitance_given:
+            return None
+        if self.capacitance < floor:
+            return "none within the sweep (no winding capacitance seen)"
+        if self.capacitance_doubt() is not None:
+            return "not determined (C is not: see the warning)"
+        return None
+
     def _low_end(self) -> str | None:
         """Why the sweep's low end does not show R_dc and L at DC (one clause), or None."""
         from ..units import format_si
@@ -387,7 +399,7 @@ def fit_measurement(frequency_hz, impedance, *, max_sections: int = 4, capacitan
             # the ladder fitted to what is left once C and R_dc are taken away, then everything together
             r_prev, c_prev = (best.resistance, best.capacitance) if best is not None else (r0, c0)
             zl = 1.0 / (1.0 / z - s * c_prev) - r_prev
-            lad = fit_ladder(f, np.where(np.imag(zl) > 0, zl, 1j * np.abs(zl)), max_sections=k, tol_db=1e-9, tol_deg=1e-9, band_hz=(f[0], f[-1])).ladder
+            lad = fit_ladder(f, np.where(np.imag(zl) > 0, zl, 1j * np.abs(zl)), max_sections=k, tol_db=1e-9, tol_deg=1e-9, tol_loss=None, band_hz=(f[0], f[-1])).ladder  # a start: the loss unweighted
             m = len(lad.inductances)
             if m < k:
                 lk = np.concatenate([lad.inductances, np.full(k - m, 1e-3 * lad.dc_inductance)])

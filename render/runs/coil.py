@@ -90,6 +90,14 @@ def lumped_loss_words(rec_coil: dict) -> str:
     return f"core loss: {'; '.join(parts)}" if parts else "no core loss"
 
 
+def ladder_fit_words(derived: dict) -> str:
+    """A derived coil's ladder fit error (its record's ``from``) as printed: "ladder within 0.03 dB, 0.18°, loss within 2.5 %"
+    (the loss's largest relative error), or "…, loss below the fit tolerance (…)" where the loss was too small to fit."""
+    loss = derived.get("ladder_error_loss")
+    said = f"loss within {100 * loss:.1f} %" if loss is not None else derived.get("ladder_error_loss_reason", "")
+    return f"ladder within {derived['ladder_error_db']:.2f} dB, {derived['ladder_error_deg']:.2f}°, {said}"
+
+
 NO_PARALLEL_LOSS = "no parallel core-loss resistor (eddy_resistance not given)"
 NO_SECONDARY = "no shorted secondary (eddy_coupling not given)"
 
@@ -120,8 +128,9 @@ def coil_record(design, *, points: int = POINTS) -> dict:
         c = getattr(design, name)
         cp = getattr(p, name)
         z = terminal_impedance(cp, f)[0]
-        srf = self_resonance_hz(lambda x, cp=cp: terminal_impedance(cp, x)[0])
         rec = c.impedance_from
+        unsure = getattr(rec, "self_resonance_doubt", "")  # a measured coil whose sweep does not determine C
+        srf = None if unsure else self_resonance_hz(lambda x, cp=cp: terminal_impedance(cp, x)[0])
         coils[name] = {
             "source": coil_source(c),
             "resistance_ohm": c.resistance,
@@ -129,10 +138,11 @@ def coil_record(design, *, points: int = POINTS) -> dict:
             "capacitance_f": c.capacitance,
             **_lumped_loss_record(c),
             "core_loss": core_loss_models(c),
+            **({"core_loss_reason": why} if not core_loss_models(c) and (why := getattr(rec, "ladder_error_loss_reason", "")) else {}),
             "ladder": _ladder_dict(coil_ladder(c)),
             "self_resonance_hz": srf,
-            **({"self_resonance_hz_reason": "no phase crossing from 10 Hz to 10 MHz"} if srf is None else {}),
-            "from": None if rec is None else {"kind": rec.kind, **asdict(rec)},
+            **({"self_resonance_hz_reason": unsure or "no phase crossing from 10 Hz to 10 MHz"} if srf is None else {}),
+            "from": None if rec is None else {"kind": rec.kind, **{k: v for k, v in asdict(rec).items() if k != "ladder_error_loss_reason" or v}},
             "frequency_hz": f.tolist(),
             "magnitude_ohm": np.abs(z).tolist(),
             "phase_deg": np.degrees(np.angle(z)).tolist(),
@@ -181,14 +191,7 @@ class FitResult:
 
     def self_resonance_words(self) -> str | None:
         """Why no self-resonance is given, in words, when the sweep does not determine C (the model's phase crossing is then a guess or noise); None otherwise."""
-        fit = self.fit
-        if fit.capacitance_given:
-            return None
-        if fit.capacitance < capacitance_floor():
-            return "none within the sweep (no winding capacitance seen)"
-        if fit.capacitance_doubt() is not None:
-            return "not determined (C is not: see the warning)"
-        return None
+        return self.fit.self_resonance_doubt(capacitance_floor())
 
     def residual_bands(self) -> list[dict]:
         """Max and rms residual (dB, °) over 20 Hz–20 kHz and per decade within it (bands with no point, or with the whole band's points, left out).
@@ -446,7 +449,7 @@ def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | No
     lines = [
         f"# {coil} fitted by render coil fit to {m.source} (SHA-256 {m.sha256})",
         f"# {m.frequency_hz.size} points, {U.format_si(m.frequency_hz[0], 'Hz')} to {U.format_si(m.frequency_hz[-1], 'Hz')}; inductance at DC {U.format_si(fit.inductance, 'H', 4)}"
-        + (f", self-resonance {U.format_si(result.self_resonance_hz, 'Hz', 3)}" if result.self_resonance_hz else ""),
+        + (f", self-resonance {words}" if (words := result.self_resonance_words()) else f", self-resonance {U.format_si(result.self_resonance_hz, 'Hz', 3)}" if result.self_resonance_hz else ""),
     ]
     if band is not None:
         lines.append(f"# residual over {band_text(band).replace(' – ', '–')}: max {band['max_db']:.2f} dB and {band['max_deg']:.2f}°, rms {band['rms_db']:.3f} dB and {band['rms_deg']:.2f}°")

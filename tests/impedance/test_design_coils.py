@@ -50,6 +50,7 @@ def test_air_core_coil_from_wire_and_geometry():
     assert c.resistance == pytest.approx(0.017241e-6 * length / (math.pi * bare**2 / 4), rel=1e-12)
     assert c.inductance == pytest.approx(winding_inductance(CoilGeometry(5000, 0.068, 0.013, 0.058, 0.003, 0.009)), rel=1e-9)
     assert c.impedance_from.core == "air" and c.ladder.inductances == ()
+    assert c.impedance_from.ladder_error_loss is None and c.impedance_from.ladder_error_loss_reason.startswith("no core loss")  # air has none
     assert 10e-12 < c.capacitance < 1e-9
 
 
