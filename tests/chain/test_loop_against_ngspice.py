@@ -11,7 +11,7 @@ Bursts of 40 periods of 1 kHz at +0, +4, +10 and +20 dB past the clip onset (the
 the linear op-amp output reaches a knee, render.analysis.bias.onset), then 110 ms of rest. Agreement
 required (the acceptance criteria of this model): the amp-input waveform's rms difference within
 1 % of the output window after aligning a fixed delay of at most 4 samples; H2 and H3 at the amp
-input within 0.5 dB wherever above −60 dB; the op-amp output's offset after the burst within 2 %
+input within 0.5 dB wherever either has them above −60 dB; the op-amp output's offset after the burst within 2 %
 of the window, and its decay time within 10 % where that offset exceeds 1 % of the window.
 """
 
@@ -89,9 +89,10 @@ def test_burst_against_ngspice(label, model, options, db):
 
     assert min(rms(s) for s in range(-4, 5)) <= 0.01 * window
 
-    # H2 and H3 at the amp input where ngspice has them above −60 dB
+    # H2 and H3 at the amp input wherever either side has them above −60 dB (a harmonic only the
+    # render makes counts as much as one only ngspice makes)
     h_ours, h_spice = _harmonics_db(ours["out"]), _harmonics_db(amp_in)
-    big = h_spice > -60
+    big = (h_spice > -60) | (h_ours > -60)
     assert np.all(np.abs(h_ours - h_spice)[big] <= 0.5)
 
     # the offset after the burst and its decay, at the op-amp output
