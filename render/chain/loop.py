@@ -57,7 +57,9 @@ through four samples. Exact integration rings at no frequency, so the clip
 edges excite no Nyquist ringing.
 
 A step in which the op-amp changes piece (or lies on a knee, or slews) is
-found by checking the end of the exact step; within it, the exact
+found by checking the end of the exact step (with a slew limit, each point
+of the grid below: the closed loop's fast pole can carry x across a slew
+reversal inside the step while its end looks in reach); within it, the exact
 trajectory is followed up to the last point of a grid of ``SUBSTEPS`` where
 it still holds (found by bisection); along a knee, where f is smooth,
 TR-BDF2 steps (L-stable, second order: Bank, Coughran, Fichtner, Grosse,
