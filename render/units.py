@@ -97,10 +97,22 @@ def shorten(text: str, limit: int = SHOWN_CHARS) -> str:
     return text if len(text) <= limit else text[: limit - 1] + "…"
 
 
+def _written(value: object) -> str:
+    """``repr(value)``, with true/false written as TOML writes them (also inside lists and tables)."""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, list):
+        return "[" + ", ".join(_written(v) for v in value) + "]"
+    if isinstance(value, dict):
+        return "{" + ", ".join(f"{k!r}: {_written(v)}" for k, v in value.items()) + "}"
+    return repr(value)
+
+
 def shown(value: object, limit: int = SHOWN_CHARS) -> str:
     """``repr(value)`` for a one-line message: escapes line breaks and control
-    characters, and is cut to about ``limit`` characters (ending in "…")."""
-    return shorten(repr(value), limit)
+    characters, writes true/false as a TOML file has them (not Python's True and
+    False), and is cut to about ``limit`` characters (ending in "…")."""
+    return shorten(_written(value), limit)
 
 
 def parse_quantity(value: object, kind: Kind) -> float:

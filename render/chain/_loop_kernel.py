@@ -195,6 +195,22 @@ def _cubic(t, x4):
 
 
 @njit(cache=True, inline="always", error_model="numpy")
+def _paced(basis, lin_rows, x4, z, k, x_k, sub_slew, centre, half, knee):
+    """Whether the exact step on f's identity part from grid point k (correction z, state x_k there) to
+    the step's end keeps x there and within the slew limit at every grid point, not only at the end:
+    the closed loop's own fast pole moves x far faster than x_lin while the correction decays, and a
+    check of the end alone lets it jump across a slew reversal that falls inside the step."""
+    N = basis.shape[0] - 1
+    xp = x_k
+    for m in range(1, N - k + 1):
+        xn = _xs(basis, k + m, x4) + _dot(lin_rows, m, z, z.size)
+        if _region(xn, centre, half, knee) != 0 or abs(xn - xp) > sub_slew:
+            return False
+        xp = xn
+    return True
+
+
+@njit(cache=True, inline="always", error_model="numpy")
 def _piece(mom, ta, tb, da, db):
     """Add ∫σ^j·d dσ (j = 0, 1, 2) over [ta, tb] for d linear from da to db."""
     w = tb - ta
@@ -363,7 +379,7 @@ def run(
         if side == 0:
             # on f's identity part: the closed loop's exact step (no input: x_lin is in the linear solution)
             x_end = x_lin + _dot(lin_rows, N, z, n)
-            if _region(x_end, centre, half, knee) == 0 and abs(x_end - x_prev) <= slew_step:
+            if _region(x_end, centre, half, knee) == 0 and abs(x_end - x_prev) <= slew_step and (slew_step >= NO_SLEW or _paced(basis, lin_rows, x4, z, 0, x_prev, sub_slew, centre, half, knee)):
                 _matvec(lin_at, N, z, zn)
                 for j in range(3):
                     mom[j] = _dot3(lin_head, N, j, z)
@@ -516,7 +532,11 @@ def run(
                 tried = reg
                 if reg == 0:
                     x_end = x_lin + _dot(lin_rows, N - k, za, n)
-                    if _region(x_end, centre, half, knee) == 0 and abs(x_end - x_a) <= slew_step * (N - k) * dl:
+                    if (
+                        _region(x_end, centre, half, knee) == 0
+                        and abs(x_end - x_a) <= slew_step * (N - k) * dl
+                        and (slew_step >= NO_SLEW or _paced(basis, lin_rows, x4, za, k, x_a, sub_slew, centre, half, knee))
+                    ):
                         for j in range(3):
                             mom[j] += _dot3(lin_tail, k, j, za)
                         _matvec(lin_rest, k, za, zc)

@@ -57,7 +57,9 @@ through four samples. Exact integration rings at no frequency, so the clip
 edges excite no Nyquist ringing.
 
 A step in which the op-amp changes piece (or lies on a knee, or slews) is
-found by checking the end of the exact step; within it, the exact
+found by checking the end of the exact step (with a slew limit, each point
+of the grid below: the closed loop's fast pole can carry x across a slew
+reversal inside the step while its end looks in reach); within it, the exact
 trajectory is followed up to the last point of a grid of ``SUBSTEPS`` where
 it still holds (found by bisection); along a knee, where f is smooth,
 TR-BDF2 steps (L-stable, second order: Bank, Coughran, Fichtner, Grosse,
@@ -84,10 +86,12 @@ converge to is taken in closed form. Then x is clamped to the state limits
 (the root of the clamped equation is the clamp of the root, the map being
 monotonic) and to the slew step.
 
-Around the loop the gain is A0 times the feedback fraction, of order 10⁴:
-it holds V_o on its linear course until within about knee/10⁴ of a rail,
-where V_o stops. The feedback straightens the knee, so closed-loop clipping
-is nearly hard, and ``knee`` is the output stage's softness at the rails
+Around the loop the gain is A(f)·β(f), A(f) = A0/(1 + j·2π·f·τ) and β the
+feedback fraction: A0·β (of order 10⁴) only below the op-amp's pole
+1/(2π·τ) = gbw/A0, about gbw·β/f above it (some 10² at 5 kHz). It holds V_o
+close to its linear course until the rail, where V_o stops. The feedback
+straightens the knee, so closed-loop clipping is nearly hard (less so as the
+frequency rises), and ``knee`` is the output stage's softness at the rails
 only.
 
 The output and its anti-aliasing
