@@ -81,7 +81,7 @@ def test_a_bend_dips_over_screws_and_not_over_blades():
     # A fact of the trade (common practice, no source): a bent string pushed off its pole screw
     # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves 2.1 and
     # 2.7 mm sideways at these coils (render.dry.construction: the bend's geometry), off its screws.
-    # Measured here, with the phrase's defaults: −4.3 and −5.2 dB over the screws (coil_a, coil_b),
+    # Measured here, with the phrase's defaults: −4.4 and −5.2 dB over the screws (coil_a, coil_b),
     # within 0.1 dB over either blade; vertical motion alone: −1.0 and −1.9 dB against +0.5 dB.
     designs = {d: load_design(ROOT / "models" / f"{d}.toml") for d in DEMOS}
     poles = _bend_level_db(designs["slipway-steel-poles"])
@@ -96,7 +96,7 @@ def test_a_bend_dips_over_screws_and_not_over_blades():
 
 
 def _db_cell(levels: np.ndarray) -> str:
-    """Both coils' levels as the README prints them ("−4.3, −5.2"; 0.0 without a sign)."""
+    """Both coils' levels as the README prints them ("−4.4, −5.2"; 0.0 without a sign)."""
     return ", ".join("0.0" if f"{v:+.1f}" in ("+0.0", "-0.0") else f"{v:+.1f}".replace("-", "−") for v in levels)
 
 
