@@ -12,7 +12,8 @@ Per coil and per string, with the EMF as it drives the coil's input
   bridge saddle (x_saddle = x + the mean of the two coils' positions), in
   V·s/m per metre of string;
 - ``lateral_offset_m`` and ``lateral_db``: the vertical sensitivity with
-  the string pushed towards +y (the treble side), dB re rest;
+  the string pushed sideways, −6 … +6 mm (+y the treble side, −y the bass
+  side), dB re rest;
 - ``h2_db`` and ``h3_db``: the 2nd and 3rd harmonics of the EMF for a
   0.5 mm peak vertical sine, dB re the fundamental;
 - ``polarization_t``: the largest polarisation µ0·|M| (T) along the string

@@ -17,9 +17,13 @@ frequencies, a triangular pluck, losses b1 + b3·(nπ/L)², mutes):
   united with Acustica 90(5), 928–944, 2004; and "Plucked guitar
   transients: comparison of measurements and synthesis", same volume,
   945–965).
-- **What each coil sees.** A mode's coupling to a coil is its shape's
-  projection on the coil's vertical sensing function w(x) (normalised to a
-  unit integral), so the string's displacement "at the pickup" is
+- **What each coil sees.** By reciprocity, an element dx of string moved by
+  u_y, u_z changes the coil's flux linkage by (g_y(x)·u_y + g_z(x)·u_z)·dx,
+  g_y, g_z its sideways and vertical sensing functions (``along_y``,
+  ``along_z``; their integrals S_y, S_z are the sensitivities). The flux
+  table Φ(y, z) is that of the whole string displaced rigidly, so it is
+  looked up at one displacement "at the pickup": each mode's shape
+  projected on the vertical function w(x) = g_z/S_z (a unit integral),
   ū = Σ_n a_n(t)·∫ w(x)·sin(nπx/L) dx, in both directions.
 - **Bends.** A bend pushes the string sideways at the fret until its
   tension gives the pitch: (f'/f)² − 1 = ΔL/(ε0·L_s), with ε0 the string's
@@ -34,19 +38,29 @@ frequencies, a triangular pluck, losses b1 + b3·(nπ/L)², mutes):
 - **The EMF**, per coil, as it drives its input: hum_polarity·dΦ/dt with
   Φ(ū_y, ū_z) the flux linkage of the string displaced rigidly by ū (the
   construction's table, a bicubic spline), so dΦ/dt = Φ_y·dū_y/dt + Φ_z·dū_z/dt,
-  summed over the strings.
+  plus, per direction d, the part of the motion the rigid table misses at
+  first order: r = Σ_d ∫ (g_d(x) − S_d·w(x))·∂u_d/∂t dx. So each direction's
+  motion is projected on its own sensing function, the sideways motion on
+  g_y (its shape differs from the vertical one: on the demos' open strings
+  a mode's two couplings differ by a median of up to 2.2 dB over modes 1–5
+  and 7.5 dB over modes 11–20; and S_y can be near zero over a pole), while the slopes' change with the
+  displacement (the nonlinearity and a bend's dropout) is taken at ū. To
+  first order the EMF is Σ_d ∫ g_d·∂u_d/∂t dx, but for the spline's slope at
+  rest against S_d (within 3e-4 of S_z on the demos). The vertical part of r
+  is zero (w is g_z/S_z) unless a coil senses no vertical motion, when w is
+  the sideways function. Summed over the strings.
 
 The result is a :class:`~render.dry.Dry` whose rows are each coil's EMF
 divided by that coil's ``signal_polarity``·``sensitivity`` (the derived
 figures of :mod:`render.design.construction`): the rest of the chain
 multiplies them back, so it renders the EMF exactly.
 
-Memory: four samples per coil and string at a time (about 260 MB for a
-10-minute phrase at 48 kHz). A limit search keeps every moving string's
-motion instead (:class:`PhraseMotion`, float32: 192 bytes per sample with six
-strings, 78 MB for the 8.5 s demo phrase), up to :data:`MOTION_BYTES_MOST`
-(256 MiB, about 29 s of six moving strings at 48 kHz); a longer phrase is
-synthesised again at each strength.
+Memory: five rows per coil (ū_y, ū_z, their rates and r) of one string at a
+time, float64: 80 bytes per sample. A limit search keeps every moving
+string's motion instead (:class:`PhraseMotion`, float32: 240 bytes per sample
+with six strings, 98 MB for the 8.5 s demo phrase), up to
+:data:`MOTION_BYTES_MOST` (256 MiB, about 23 s of six moving strings at 48
+kHz); a longer phrase is synthesised again at each strength.
 """
 
 from __future__ import annotations
@@ -91,7 +105,9 @@ from .phrase import LATERAL_DECAY_FACTOR, STEEL_DENSITY, STEEL_MODULUS, Note, Ph
 # carries, is summed in full (our own bound, no source).
 DISPLACEMENT_MAX_HZ = 4000.0
 
-__all__ = ["LeftRange", "Pickup", "bend_offset", "bend_share", "mode_couplings", "pickup_emf", "pickup_velocity", "string_strain"]
+ROWS = 5  # per coil: ū_y, ū_z, dū_y/dt, dū_z/dt (m, m/s) and r, the linear remainder of the EMF (V; see the EMF above)
+
+__all__ = ["ROWS", "LeftRange", "Pickup", "bend_offset", "bend_share", "mode_couplings", "mode_projections", "pickup_emf", "pickup_velocity", "string_strain"]
 assert _BLOCK > 0  # the block sums of modal.py are shared as they are
 
 
@@ -155,6 +171,32 @@ def mode_couplings(n: np.ndarray, *, x_saddle: np.ndarray, weight: np.ndarray, l
     return shapes @ w / total
 
 
+def mode_projections(n: np.ndarray, *, x_saddle: np.ndarray, along: np.ndarray, length: float) -> np.ndarray:
+    """∫ g(x)·sin(nπx/L) dx over the samples (uniform spacing, rectangle rule), g a sensing function as it is (V·s/m per metre): shape (len(n),), V·s/m.
+
+    x_saddle : np.ndarray [shape=(m,)], m from the bridge saddle; along : np.ndarray [shape=(m,)]
+    Samples at or beyond the stopping fret see no motion.
+    """
+    step = float(x_saddle[1] - x_saddle[0]) if x_saddle.size > 1 else 0.0
+    g = np.where(x_saddle < length, along, 0.0)
+    return np.sin(np.outer(n, np.pi * x_saddle / length)) @ g * step
+
+
+def _remainders(n: np.ndarray, sense, *, x_saddle: np.ndarray, length: float, k: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Per direction (y, z), ∫ (g_d − S_d·w)·sin(nπx/L) dx: what the rigid table, looked up at the projection k on w, misses of each mode's linear EMF (V·s/m)."""
+    return tuple(mode_projections(n, x_saddle=x_saddle, along=g, length=length) - s_d * k for g, s_d in ((sense.along_y, sense.sensitivity_y), (sense.along_z, sense.sensitivity_z)))
+
+
+def _bend_remainder(sense, *, x_offset: float, length: float, scale_length: float, share: float) -> float:
+    """∫ g_y(x)·b(x)/share dx − S_y (V·s/m): r per m/s of a bend's sideways push at the pickup, b(x) the bent string's shape
+    (x/L from the saddle to the fret, back to 0 at the nut) and ``share`` its value at the coil's centre (:func:`bend_share`)."""
+    xs = sense.x + x_offset
+    rest = max(scale_length - length, 1e-9)
+    shape = np.clip(np.where(xs < length, xs / length, (scale_length - xs) / rest), 0.0, 1.0)
+    step = float(xs[1] - xs[0]) if xs.size > 1 else 0.0
+    return float((sense.along_y * shape).sum() * step / share - sense.sensitivity_y) if share > 0 else 0.0
+
+
 def _weight(sense) -> np.ndarray:
     """Where a coil sees the string: its vertical sensing function with its sign taken out (the lateral one where it senses no vertical motion)."""
     if sense.sensitivity_z != 0.0:
@@ -209,7 +251,7 @@ def sense_phrase(phrase: Phrase, sensing, *, hum_polarity=(1, 1), cores, outers,
     from .strength import strongest_pluck
 
     plan = _plan(phrase, sensing, cores=cores, outers=outers, sample_rate=sample_rate, seed=seed, seconds=seconds)
-    keep = keep and bool(plan.strings) and len(plan.strings) * 2 * 4 * plan.n_total * 4 <= MOTION_BYTES_MOST
+    keep = keep and bool(plan.strings) and len(plan.strings) * 2 * ROWS * plan.n_total * 4 <= MOTION_BYTES_MOST
     emf = np.zeros((2, plan.n_total))
     warnings: list[str] = []
     moving, fixed = [], []
@@ -232,9 +274,9 @@ class PhraseMotion:
     sensing : :class:`render.magnetics.sensing.PickupSensing`
     strings : tuple of int
         The moving strings (indices into the sensing tables, lowest string first).
-    moving : tuple of np.ndarray [shape=(2, 4, n)], float32, m and m/s
-        Per string, per coil, ū_y, ū_z, dū_y/dt, dū_z/dt of the plucks: linear in the pluck strength.
-    fixed : tuple of (np.ndarray [shape=(2, 4, n)] or None), m and m/s
+    moving : tuple of np.ndarray [shape=(2, ROWS, n)], float32, m, m/s and V
+        Per string, per coil, ū_y, ū_z, dū_y/dt, dū_z/dt and r of the plucks: linear in the pluck strength.
+    fixed : tuple of (np.ndarray [shape=(2, ROWS, n)] or None), m, m/s and V
         Per string, the part that does not scale with the pluck (a bend's sideways offset).
     strongest_m : float, m
         The phrase's strongest pluck as synthesised.
@@ -336,12 +378,12 @@ def _plan(phrase: Phrase, sensing, *, cores, outers, sample_rate: int, seed: int
 
 
 def _string_motion(plan: _Plan, j: int, *, keep_fixed: bool) -> tuple[np.ndarray, np.ndarray | None]:
-    """String j's (2, 4, n) motion at both coils (ū_y, ū_z, dū_y/dt, dū_z/dt per coil), and its unscaled part (a bend's offset) when asked and present."""
+    """String j's (2, ROWS, n) motion at both coils (ū_y, ū_z, dū_y/dt, dū_z/dt, r per coil), and its unscaled part (a bend's offset) when asked and present."""
     inst = plan.phrase.instrument
     n_strings = len(plan.sensing.coil_a)
     string = n_strings - j
-    chans = np.zeros((2, 4, plan.n_total))
-    fixed = np.zeros((2, 4, plan.n_total)) if keep_fixed else None
+    chans = np.zeros((2, ROWS, plan.n_total))
+    fixed = np.zeros((2, ROWS, plan.n_total)) if keep_fixed else None
     bent = False
     strain = string_strain(core=plan.cores[j], outer=plan.outers[j], frequency=inst.open_pitches[j], scale_length=inst.scale_length)
     for note, args in plan.plucks.notes:
@@ -362,7 +404,7 @@ def _string_motion(plan: _Plan, j: int, *, keep_fixed: bool) -> tuple[np.ndarray
 
 
 def _add_string_emf(emf: np.ndarray, warnings: list, sensing, j: int, chans: np.ndarray, hum_polarity, *, scale: float = 1.0, fixed: np.ndarray | None = None) -> None:
-    """Add string j's EMF, Φ_y·dū_y/dt + Φ_z·dū_z/dt per coil, from its (2, 4, n) motion ``scale``·chans + ``fixed``.
+    """Add string j's EMF, Φ_y·dū_y/dt + Φ_z·dū_z/dt + r per coil, from its (2, ROWS, n) motion ``scale``·chans + ``fixed``.
 
     The slopes Φ = ∂F/∂y, ∂F/∂z are those of the flux table's bicubic spline (scipy's
     ``RectBivariateSpline(...).ev(y, z, dx=1)``, ``dy=1``), evaluated compiled in one pass
@@ -375,7 +417,10 @@ def _add_string_emf(emf: np.ndarray, warnings: list, sensing, j: int, chans: np.
         s = coil[j]
         spline = RectBivariateSpline(s.dy, s.dz, s.flux, kx=3, ky=3)
         box = (s.dy[0], s.dy[-1], s.dz[0], s.dz[-1])
-        if add_emf(slope_tables(spline.tck), box, chans[c], emf[c], scale=scale, fixed=None if fixed is None else fixed[c], sign=hum_polarity[c]):
+        emf[c] += hum_polarity[c] * scale * chans[c, 4]
+        if fixed is not None:
+            emf[c] += hum_polarity[c] * fixed[c, 4]
+        if add_emf(slope_tables(spline.tck), box, chans[c, :4], emf[c], scale=scale, fixed=None if fixed is None else fixed[c, :4], sign=hum_polarity[c]):
             warnings.append(
                 LeftRange(
                     f"string {string}: its displacement at the pickup left the computed range "
@@ -416,14 +461,16 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
     # released from rest: displacement Im((σ/ω + i)·e^{st}), velocity Im(−(ω² + σ²)/ω·e^{st})
     disp = np.r_[a, a] * (sigma / omega + 1j)
     vel = -np.r_[a, a] * (omega**2 + sigma**2) / omega + 0j
-    amp = np.zeros((8, 2 * n.size), complex)
+    amp = np.zeros((2 * ROWS, 2 * n.size), complex)
     for c, sense in enumerate(coils):
-        k = mode_couplings(n, x_saddle=sense.x + x_offset, weight=_weight(sense), length=length)
+        xs = sense.x + x_offset
+        k = mode_couplings(n, x_saddle=xs, weight=_weight(sense), length=length)
         kk = np.r_[k, k]
-        for d in (0, 1):  # y, z
+        for d, rest in enumerate(_remainders(n, sense, x_saddle=xs, length=length, k=k)):  # y, z
             share = np.r_[np.full(n.size, (p @ e_l) * e_l[d]), np.full(n.size, (p @ e_v) * e_v[d])]
-            amp[4 * c + d] = disp * kk * share
-            amp[4 * c + 2 + d] = vel * kk * share
+            amp[ROWS * c + d] = disp * kk * share
+            amp[ROWS * c + 2 + d] = vel * kk * share
+            amp[ROWS * c + 4] += vel * np.r_[rest, rest] * share
     sigma_rel = T60_FACTOR / inst.release
     hold = end - onset
     life = _FLOOR / sigma
@@ -436,12 +483,13 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
     delta = i0 - onset * fs
     span = min(n_total - i0, int(math.ceil(float(life.max()) * fs)) + 1)
     lives = np.minimum(np.ceil(life * fs).astype(int) + 1, span)
-    buf = np.zeros((8, span))
+    buf = np.zeros((2 * ROWS, span))
     t = (np.arange(span) + delta) / fs
-    disp, vel = np.array([0, 1, 4, 5]), np.array([2, 3, 6, 7])
+    disp = np.array([0, 1, ROWS, ROWS + 1])
+    vel = np.array([2, 3, 4, ROWS + 2, ROWS + 3, ROWS + 4])  # the rates and r
     low = np.flatnonzero(omega < 2 * np.pi * DISPLACEMENT_MAX_HZ)  # the displacement's modes (see DISPLACEMENT_MAX_HZ)
     if note.bend is None and note.vibrato is None:
-        part = np.zeros((4, span))
+        part = np.zeros((vel.size, span))
         _sum_blocks(part, amp[vel], sigma, omega, lives, delta, fs)
         buf[vel] = part
         part = np.zeros((4, span))
@@ -449,7 +497,7 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
         buf[disp] = part
     else:
         ratio = pitch_ratio(t, note=note)
-        part = np.zeros((4, span))
+        part = np.zeros((vel.size, span))
         _direct(part, amp[vel], sigma, omega, lives, delta, fs, ratio=ratio)
         buf[vel] = part
         part = np.zeros((4, span))
@@ -461,18 +509,22 @@ def _add_note(chans, note: Note, inst, *, coils, x_offset, fs, onset, end, stren
         ratio = pitch_ratio(t, note=replace(note, vibrato=None))
         d_fret = bend_offset(ratio, strain=strain, length=length, scale_length=inst.scale_length)
         for c, sense in enumerate(coils):
-            off = side * d_fret * bend_share(sense, x_offset=x_offset, length=length)
+            share = bend_share(sense, x_offset=x_offset, length=length)
+            off = side * d_fret * share
             if math.isfinite(hold):  # the finger lets go as the note is damped
                 off = off * np.exp(-sigma_rel * np.maximum(t - hold, 0.0))
             slope = np.gradient(off, 1.0 / fs)
-            buf[4 * c] += off
-            buf[4 * c + 2] += slope
+            per_push = _bend_remainder(sense, x_offset=x_offset, length=length, scale_length=inst.scale_length, share=share)
+            buf[ROWS * c] += off
+            buf[ROWS * c + 2] += slope
+            buf[ROWS * c + 4] += per_push * slope
             if fixed is not None:
                 fixed[c, 0, i0 : i0 + span] += off
                 fixed[c, 2, i0 : i0 + span] += slope
-        chans[:, :, i0 : i0 + span] += buf.reshape(2, 4, span)
+                fixed[c, 4, i0 : i0 + span] += per_push * slope
+        chans[:, :, i0 : i0 + span] += buf.reshape(2, ROWS, span)
         return True
-    chans[:, :, i0 : i0 + span] += buf.reshape(2, 4, span)
+    chans[:, :, i0 : i0 + span] += buf.reshape(2, ROWS, span)
     return False
 
 

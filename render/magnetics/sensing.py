@@ -24,8 +24,8 @@ What comes out, per coil and per string (:class:`StringSensing`):
   projection on it;
 - the sensitivity to vertical and lateral motion of the whole string, its
   integral (V·s/m: the EMF per m/s);
-- the vertical sensitivity with the string pushed 0–6 mm towards +y (a
-  bend's dropout);
+- the vertical sensitivity with the string pushed up to 6 mm sideways,
+  towards −y (the bass side) and +y (the treble side): a bend's dropout;
 - the flux linkage as a table over the string's displacement (sideways and
   vertically), and the 2nd and 3rd harmonics of the EMF for a 0.5 mm peak
   vertical sine.
@@ -52,7 +52,7 @@ from .strings import Rod
 
 STEP_X = 0.5e-3  # m, sample spacing along the string
 REACH_X = 30e-3  # m, how far beyond the coils' outer sides the string is followed (farther changes the sensitivity by < 3e-4)
-DROPOUT = np.round(np.arange(0, 13) * 0.5e-3, 12)  # m, the offsets the dropout is reported at (0 … 6 mm)
+DROPOUT = np.round(np.arange(-12, 13) * 0.5e-3, 12)  # m, the offsets the dropout is reported at (−6 … +6 mm)
 LATERAL = np.union1d(np.round(np.arange(-8, 9) * 1e-3, 12), DROPOUT)  # m, sideways offsets of the table (−8 … +8 mm)
 VERTICAL = (-1.5e-3, 2.0e-3, 0.5e-3)  # m, the table's vertical offsets: lowest, highest, step
 CLEARANCE = 0.5e-3  # m, the lowest a string's underside comes to the top faces in the table
@@ -72,7 +72,7 @@ class StringSensing:
     along_z, along_y : np.ndarray [shape=(n,)], Wb/m² (V·s/m per metre of
         string): dΦ per metre of displacement of the element at each sample
     sensitivity_z, sensitivity_y : Wb/m (V·s/m): dΦ per metre of the whole string's displacement
-    lateral : np.ndarray [shape=(m,)], m, offsets towards +y (0 … 6 mm)
+    lateral : np.ndarray [shape=(m,)], m, sideways offsets (−6 … +6 mm, +y the treble side)
     lateral_sensitivity : np.ndarray [shape=(m,)], Wb/m, the vertical sensitivity there
     dy, dz : np.ndarray, m, the table's offsets (sideways, vertical)
     flux : np.ndarray [shape=(len(dy), len(dz))], Wb, Φ at those offsets minus Φ at rest
@@ -258,6 +258,7 @@ def settings() -> dict:
         "step_x": STEP_X,
         "reach_x": REACH_X,
         "lateral": LATERAL.tolist(),
+        "dropout": DROPOUT.tolist(),
         "vertical": VERTICAL,
         "clearance": CLEARANCE,
         "h_amplitude": H_AMPLITUDE,

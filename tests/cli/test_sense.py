@@ -37,8 +37,9 @@ def test_json_has_the_keys_per_coil_and_string(tmp_path):
         for r in rows:
             assert set(r) == KEYS
             assert len(r["along_x_m"]) == len(r["along_weight"]) and len(r["lateral_offset_m"]) == len(r["lateral_db"])
-            # the documented push range, 0–6 mm towards the treble side, relative to rest
-            assert r["lateral_offset_m"][0] == 0.0 and r["lateral_db"][0] == 0.0 and abs(r["lateral_offset_m"][-1] - 0.006) < 1e-12
+            # the documented push range, −6 to +6 mm every 0.5 mm (towards the bass and the treble side), relative to rest
+            assert np.allclose(r["lateral_offset_m"], np.arange(-12, 13) * 0.5e-3, rtol=0, atol=1e-12)
+            assert r["lateral_db"][r["lateral_offset_m"].index(0.0)] == 0.0
     # x from the bridge saddle: the demo file's coils sit at 38 and 56 mm (its own positions), so the sensing runs around them
     xs = rec["coils"]["coil_a"][0]["along_x_m"]
     assert xs[0] < 0.038 < xs[-1]

@@ -267,7 +267,7 @@ def test_the_upper_polarisation_stays_below_nyquist():
     sense = SimpleNamespace(x=x, along_z=np.ones_like(x), along_y=np.zeros_like(x), sensitivity_z=1.0, sensitivity_y=0.0)
     plucks = modal.plucks(p, sample_rate=fs, seed=0, seconds=None)
     note, args = plucks.notes[0]
-    chans = np.zeros((2, 4, plucks.n_total))
+    chans = np.zeros((2, C.ROWS, plucks.n_total))
     C._add_note(chans, note, p.instrument, coils=[sense, sense], x_offset=0.0, strain=1e-3, side=1.0, **args)
     v = chans[0, 3]  # coil_a's vertical velocity
     spec = np.abs(np.fft.rfft(v * np.hanning(v.size), 1 << 18))
@@ -284,3 +284,96 @@ def test_a_polarisation_angle_past_45_degrees_is_refused():
     with pytest.raises(InputError) as e:
         _phrase(extra_instrument={"polarisation_angle": 60})
     assert "polarisation_angle" in str(e.value) and "\n" not in str(e.value)
+
+
+# A made-up sensing whose sideways function has another shape than its vertical one, as a string
+# beside a pole piece sees: a lobe of each sign, its integral S_y small against its area.
+STEP_X = 0.5 * MM
+X_SENSE = np.arange(-30, 31) * STEP_X
+
+
+def _bump(x, centre, width):
+    return np.exp(-0.5 * ((x - centre) / width) ** 2) / (width * math.sqrt(2 * math.pi))
+
+
+def _sideways_sensing(*, sz=0.03, with_y=True, x0=0.04) -> PickupSensing:
+    along_z = sz * _bump(X_SENSE, 0.0, 2.5 * MM)
+    along_y = 0.02 * _bump(X_SENSE, -4 * MM, 2.0 * MM) - 0.016 * _bump(X_SENSE, 5 * MM, 2.5 * MM) if with_y else np.zeros_like(X_SENSE)
+    sy = float(along_y.sum() * STEP_X)
+    dy = np.linspace(-8 * MM, 8 * MM, 33)
+    dz = np.linspace(-1.5 * MM, 2.0 * MM, 15)
+    s = StringSensing(
+        string=1, y=0.0, z=3 * MM, x=X_SENSE, along_z=along_z, along_y=along_y, sensitivity_z=float(along_z.sum() * STEP_X), sensitivity_y=sy,
+        lateral=np.zeros(1), lateral_sensitivity=np.full(1, sz), dy=dy, dz=dz, flux=sz * dz[None, :] + sy * dy[:, None], h2_db=-99.0, h3_db=-99.0, polarization=0.0,
+    )  # fmt: skip
+    coil = tuple(replace(s, string=6 - i) for i in range(6))
+    return PickupSensing(coil_a=coil, coil_b=coil, positions=(x0, x0), digest="test")
+
+
+def test_mode_projection_is_the_integral_of_the_mode_shape_times_the_sensing_function():
+    # ∫ A·exp(−(x − c)²/2σ²)·sin(kx) dx = A·σ·√(2π)·exp(−k²σ²/2)·sin(kc) over the real line (the
+    # Gaussian's Fourier transform; Gradshteyn & Ryzhik, Table of Integrals, Series, and Products, 7th ed.,
+    # 2007, 3.896, the entry from memory), and scipy's adaptive quadrature (QUADPACK) of the two-lobed
+    # function above, against the samples' sum at the construction's spacing, modes 1–40 of 0.486 m
+    from scipy.integrate import quad
+
+    from render.dry.construction import mode_projections
+
+    length, centre, sigma = 0.486, 0.043, 2.5 * MM
+    n = np.array([1.0, 2, 5, 13, 20, 40])
+    xs = 0.04 + X_SENSE
+    got = mode_projections(n, x_saddle=xs, along=0.03 * _bump(xs, centre, sigma), length=length)
+    k = n * np.pi / length
+    closed = 0.03 * np.exp(-0.5 * (k * sigma) ** 2) * np.sin(k * centre)
+    np.testing.assert_allclose(got, closed, rtol=1e-5, atol=1e-9 * 0.03)  # the samples stop 4.8σ from the centre
+    g = _sideways_sensing().coil_a[0].along_y
+    got = mode_projections(n, x_saddle=xs, along=g, length=length)
+
+    def lobes(x):
+        return 0.02 * _bump(x - 0.04, -4 * MM, 2.0 * MM) - 0.016 * _bump(x - 0.04, 5 * MM, 2.5 * MM)
+
+    span = (xs[0] - STEP_X / 2, xs[-1] + STEP_X / 2)  # the samples' cells: the function as far as it is sampled
+    ref = [quad(lambda x, kk=kk: lobes(x) * math.sin(kk * x), *span, points=[0.036, 0.045], limit=200, epsabs=1e-12)[0] for kk in k]
+    np.testing.assert_allclose(got, ref, rtol=1e-3, atol=1e-6 * 0.02)
+
+
+def test_sideways_motion_is_sensed_through_the_sideways_function():
+    # Reciprocity: a string element dx moved sideways by u_y changes the coil's flux linkage by
+    # g_y(x)·u_y·dx, so with a linear flux table the EMF of a purely sideways pluck (angle 0, axes
+    # untilted) is ∫ g_y(x)·v_y(x, t) dx: here summed over the string's velocity at each sample
+    # of g_y (render.dry.modal's point velocity, its own synthesis). g_y is two lobes of opposite sign
+    # beside the vertical function's single one: its shape, not just its integral, sets each mode's share.
+    inst = {"polarisation_split": 0, "polarisation_angle": 0, "decay": 3.0, "lateral_decay": 3.0}
+    ph = _phrase(extra_instrument=inst, playing={"angle": 0})
+    sens = _sideways_sensing()
+    emf, warnings = pickup_emf(ph, sens, cores=CORES, outers=OUTERS, sample_rate=FS)
+    v = string_velocity(ph, sample_rate=FS, positions=list(0.04 + X_SENSE), apertures=[0.0] * X_SENSE.size, seed=0)
+    g = sens.coil_a[0].along_y
+    ref = (g[:, None] * v).sum(axis=0) * STEP_X
+    assert not warnings
+    np.testing.assert_allclose(emf[0], ref, atol=2e-3 * np.abs(ref).max())
+    # projected on the vertical function instead (times S_y), the EMF would be off by far more
+    w = sens.coil_a[0].along_z / sens.coil_a[0].sensitivity_z
+    wrong = sens.coil_a[0].sensitivity_y * (w[:, None] * v).sum(axis=0) * STEP_X
+    assert np.abs(wrong - ref).max() > 0.3 * np.abs(ref).max()
+
+
+def test_a_string_pushed_sideways_is_sensed_through_the_sideways_function():
+    # A bend pushes the string sideways by D(t)·b(x), b = x/L from the saddle to the fret: by reciprocity
+    # the flux linkage changes by D·∫ g_y(x)·b(x) dx. The EMF with the sideways function less the EMF
+    # without it (a vertical pluck, axes untilted: the pluck moves nothing sideways), integrated over
+    # time, is that change (for a push of the same size along the whole string, ∫ g_y dx = S_y, the sideways sensitivity).
+    inst = {"polarisation_split": 0, "polarisation_angle": 0}
+    ph = _phrase(extra_instrument=inst, playing={"angle": 90}, note={"fret": 7, "bend": {"semitones": 2, "over": "0.2s", "start": "0.1s"}, "duration": "0.8s"})
+    with_y, _ = pickup_emf(ph, _sideways_sensing(), cores=CORES, outers=OUTERS, sample_rate=FS)
+    without, _ = pickup_emf(ph, _sideways_sensing(with_y=False), cores=CORES, outers=OUTERS, sample_rate=FS)
+    flux = np.cumsum(with_y[0] - without[0]) / FS
+    note = ph.notes[0]
+    eps = string_strain(core=CORES[3], outer=OUTERS[3], frequency=ph.instrument.open_pitches[3], scale_length=0.648)
+    at_fret = -float(bend_offset(2 ** (2 / 12), strain=eps, length=note.length, scale_length=0.648))  # string 3: towards −y
+    xs = 0.04 + X_SENSE
+    g = _sideways_sensing().coil_a[0].along_y
+    expect = at_fret * float((g * xs / note.length).sum() * STEP_X)
+    assert flux[int(0.5 * FS)] == pytest.approx(expect, rel=0.01)
+    # the rigid table alone, looked up at the push's share at the vertical function's centre, gives S_y·D·x_c/L instead
+    assert abs(_sideways_sensing().coil_a[0].sensitivity_y * at_fret * 0.04 / note.length - expect) > 0.05 * abs(expect)

@@ -59,14 +59,15 @@ def test_warming_compiles_the_kernel_for_the_arrays_the_sensing_passes():
     # render clips loads the kernel once before forking its workers (render.runs.clips.import_for_workers): that
     # only helps if the workers then call it with the same array types, and numba loads nothing more
     from render.dry._flux_kernel import _add_emf, add_emf, warm
+    from render.dry.construction import ROWS
 
     warm()
     before = set(_add_emf.signatures)
     t = np.r_[np.zeros(4), np.ones(4)]
     tables = slope_tables((t, t, np.zeros(16)))
-    chans = np.zeros((2, 4, 50))  # render.dry.construction: a string's motion at both coils, float64 as synthesised
-    kept = np.zeros((2, 4, 50), np.float32)  # and kept (PhraseMotion.moving), with a bend's fixed part
+    chans = np.zeros((2, ROWS, 50))  # render.dry.construction: a string's motion at both coils, float64 as synthesised
+    kept = np.zeros((2, ROWS, 50), np.float32)  # and kept (PhraseMotion.moving), with a bend's fixed part
     emf = np.zeros((2, 50))
-    add_emf(tables, (0.0, 1.0, 0.0, 1.0), chans[1], emf[1])
-    add_emf(tables, (0.0, 1.0, 0.0, 1.0), kept[1], emf[1], scale=2.0, fixed=chans[0])
+    add_emf(tables, (0.0, 1.0, 0.0, 1.0), chans[1, :4], emf[1])  # its first four rows, as _add_string_emf passes them
+    add_emf(tables, (0.0, 1.0, 0.0, 1.0), kept[1, :4], emf[1], scale=2.0, fixed=chans[0, :4])
     assert set(_add_emf.signatures) == before and len(before) >= 2
