@@ -348,6 +348,7 @@ def render_headroom(design: Design, rendered: dict, *, strongest_pluck_m: float 
     from .analysis.headroom import played_headroom
     from .chain.limit import design_window
     from .chain.loop import dc_output
+    from .chain.stream import PARTS
 
     return played_headroom(
         linear_min_v=rendered["linear_min_v"],
@@ -357,4 +358,5 @@ def render_headroom(design: Design, rendered: dict, *, strongest_pluck_m: float 
         limited_fraction=rendered["clipped_fraction"],
         strongest_pluck_m=strongest_pluck_m,
         nonlinear=design.construction is not None,
+        parts={k: rendered[k] for k in PARTS} if all(k in rendered for k in PARTS) else None,
     )

@@ -13,7 +13,9 @@ string velocity (the same at both sensing points) to the amp input:
   (:mod:`render.analysis.peaks`); None with a reason when there is no peak.
   ``resonance_hz`` and ``resonance_db`` are the same two figures.
 - ``q``: the highest peak's frequency over the width between the −3 dB
-  points (re the peak) around it; None when ``peak_db`` < 3 dB.
+  points (re the peak) around it; None when ``peak_db`` < 3 dB, or when the
+  response rises above the peak between those points (a higher hump below
+  1 kHz or above 20 kHz).
 - ``bass_corner_hz``: the highest frequency below 1 kHz where |H| is 3 dB
   under ``level_1k_db``; ``treble_corner_hz``: the highest frequency up to
   20 kHz, above ``peak_hz`` (above 1 kHz when there is no peak), where |H|
@@ -47,7 +49,7 @@ from typing import Any
 import numpy as np
 
 from . import undefined as U
-from .peaks import NO_PEAK
+from .peaks import NO_PEAK, Q_HIGHER
 from .undefined import REJECTION_CAP_DB  # the one rule for exact cancellation lives there
 
 F_LO, F_HI = 5.0, 40000.0
@@ -281,7 +283,9 @@ def _response_row(fig: dict, i: int, silent: bool, silent_reason: str, *, resona
         if silent:
             U.mark(row, k, silent_reason)
         elif k == "q":
-            U.put(row, k, fig[k][i], NO_PEAK if not np.isfinite(fig["peak_db"][i]) else U.PEAK_EDGES if fig["peak_db"][i] >= 3.0 else U.NO_PEAK)
+            first = fig["peaks"][i][0] if fig["peaks"][i] else {}
+            spans = first.get("q_reason") == Q_HIGHER  # the highest listed peak's width takes in a higher part outside the band
+            U.put(row, k, fig[k][i], NO_PEAK if not np.isfinite(fig["peak_db"][i]) else Q_HIGHER if spans else U.PEAK_EDGES if fig["peak_db"][i] >= 3.0 else U.NO_PEAK)
         elif k in ("peak_hz", "peak_db"):
             U.put(row, k, fig[k][i], NO_PEAK)
         else:

@@ -690,7 +690,11 @@ def _conflicts(spec: FitSpec, fig: np.ndarray) -> str:
             j = spec.aims.index(a)
             col = fig[:, j][~np.isnan(fig[:, j])]
             sub = UNDEFINED.get(a.figure)
-            none = "no Q (no peak 3 dB above the 1 kHz level)" if a.figure == "q" else f"no {a.figure.removesuffix('_hz').removesuffix('_db').replace('_', ' ')}"  # "no peak", "no resonance"
+            none = (
+                "no Q (no peak 3 dB above the 1 kHz level, or one whose -3 dB width takes in a higher peak)"
+                if a.figure == "q"
+                else f"no {a.figure.removesuffix('_hz').removesuffix('_db').replace('_', ' ')}"
+            )  # "no peak", "no resonance"
             if sub is not None and np.all(col == sub):  # every design tried scored the stand-in of an undefined figure
                 parts.append(f"{a.describe()} (the design has {none} to aim at, and no variant the search tried has one)")
                 continue

@@ -24,11 +24,20 @@ counts as limited while it rests there. Everything before the limit is linear, s
 playing the phrase g dB louder moves every excursion up by g dB: the limit is
 reached g = min(margin_up, margin_down) dB above the phrase. A phrase's
 plucks set the string's initial displacement, and the string's velocity (so
-every coil EMF) is linear in it (modal synthesis, :mod:`render.dry.modal`):
-the phrase with every pluck scaled by 10^(g/20) reaches the limit, so its
-strongest pluck s would then be s·10^(g/20) (mm). The hum does not grow with
-the plucks; counting it as if it did errs by at most its own share of the
-excursion (a few millivolts against volts of headroom on the demo designs).
+every coil EMF) is linear in it (modal synthesis, :mod:`render.dry.modal`).
+The hum does not grow with the plucks, so the render also keeps the largest
+excursions of x_lin's two parts apart, the string's S and the hum's H (each
+side). Played with every pluck scaled by k, the swing is at most k·S + H (the
+hum's peak falling on the string's), so the limit can be reached once
+
+    k·S + H = onset,    k = (onset − H) / S,
+
+and the phrase's strongest pluck s is then k·s (mm), k the smaller of the two
+sides'. That k does not depend on how hard the phrase was played, even where
+the hum is most of the swing (a phrase played at a few nanometres). Where
+H ≥ onset the hum alone reaches the limit (:data:`HUM_ALONE`): k = 0. The dB
+above the phrase is 20·log10(k); with a hum of millivolts against volts of
+room it is the smaller margin to within a few thousandths of a dB.
 
 A design with a ``[construction]`` senses the string through a field that is
 not linear in its displacement, so there the prediction above is only a
@@ -54,6 +63,8 @@ AT_REST = "limited at rest: the bias lies inside the soft limit's knee on this s
 AT_REST_CELL, AT_REST_MARGIN_CELL = "at rest", "limited at rest"  # table cells: a strength, a margin
 NO_PLUCK = "what was played is not a phrase (no pluck strength to scale)"
 NOT_FOUND = "not found by rendering at scaled strength: the margin stops falling as the plucks grow (the strings leave the construction's computed flux range)"
+HUM_ALONE = "the hum alone reaches the limit's onset, with no string signal at all"
+HUM_ALONE_CELL = "hum alone"  # a table cell
 LEFT_RANGE = "not found by rendering at scaled strength: the strings swing past the construction's computed flux range before the op-amp output reaches the limit, so no strength there is claimed"
 
 
@@ -92,6 +103,11 @@ class PlayedHeadroom:
         Why ``searched_strength_m`` is None (:data:`NOT_FOUND` or :data:`LEFT_RANGE`).
     searched_range_edge_m : float or None, m
         The strongest pluck whose strings stay inside the construction's computed flux range.
+    string_up_v, string_down_v : float or None, V, ≥ 0
+        The largest excursion each side of x_lin's string part alone (what scales with the pluck);
+        None: not known (then the whole excursion is taken to scale, as in a record from before they were kept).
+    hum_up_v, hum_down_v : float, V, ≥ 0
+        The largest excursion each side of x_lin's hum part alone (what does not).
     nonlinear : bool
         The design's sensing is not linear in the pluck (a ``[construction]``): unless ``searched``,
         the strengths at the limit are a linear guess (``limit_strength_method`` "linear-guess").
@@ -112,6 +128,10 @@ class PlayedHeadroom:
     nonlinear: bool = False
     searched_reason: str | None = None
     searched_range_edge_m: float | None = None
+    string_up_v: float | None = None
+    string_down_v: float | None = None
+    hum_up_v: float = 0.0
+    hum_down_v: float = 0.0
 
     def at_rest(self, side: str | None = None) -> bool:
         """Whether the bias lies inside the knee on ``side`` ("up", "down"; None: either), so that side is limited at rest."""
@@ -122,14 +142,41 @@ class PlayedHeadroom:
         """Whether the strengths at the limit are only a linear guess (nonlinear sensing, no search)."""
         return self.nonlinear and not self.searched
 
+    def scale_to_limit(self, side: str | None = None) -> float | None:
+        """k = (onset − H) / S: by how much the string's part can be scaled before its peak and the hum's reach the
+        onset on ``side`` ("up", "down"; None: the smaller); 0 where the hum alone reaches it; None with no string swing."""
+        if side is None:
+            ks = [k for k in (self.scale_to_limit("up"), self.scale_to_limit("down")) if k is not None]
+            return min(ks) if ks else None
+        onset, e, string, hum = (
+            (self.onset_up_v, self.excursion_up_v, self.string_up_v, self.hum_up_v) if side == "up" else (self.onset_down_v, self.excursion_down_v, self.string_down_v, self.hum_down_v)
+        )
+        if string is None:  # not known apart: the whole swing taken to scale
+            string, hum = e, 0.0
+        if string <= 0 or onset <= 0:
+            return None
+        return max(0.0, (onset - hum) / string)
+
+    def hum_alone(self, side: str | None = None) -> bool:
+        """Whether the hum alone reaches the onset on ``side`` (None: either), so that no pluck at all is needed there."""
+        if side is None:
+            return self.hum_alone("up") or self.hum_alone("down")
+        onset, hum = (self.onset_up_v, self.hum_up_v) if side == "up" else (self.onset_down_v, self.hum_down_v)
+        return not self.at_rest(side) and hum >= onset
+
     @property
     def limit_db_above(self) -> float | None:
-        """How many dB above the phrase (its plucks scaled alike) the limit is reached: the smaller margin, or for a searched design 20·log10(s*/s)."""
-        if not self.searched or self.at_rest():
-            return self.margin_db
-        if self.searched_strength_m is None or not self.strongest_pluck_m:
+        """How many dB above the phrase (its plucks scaled alike, the hum not) the limit is reached: 20·log10(k)
+        (:meth:`scale_to_limit`), or for a searched design 20·log10(s*/s); None at rest, with the hum alone at the limit,
+        or with no swing."""
+        if self.at_rest():
             return None
-        return 20.0 * math.log10(self.searched_strength_m / self.strongest_pluck_m)
+        if self.searched:
+            if self.searched_strength_m is None or not self.strongest_pluck_m:
+                return None
+            return 20.0 * math.log10(self.searched_strength_m / self.strongest_pluck_m)
+        k = self.scale_to_limit()
+        return None if not k else 20.0 * math.log10(k)
 
     @property
     def margin_db(self) -> float | None:
@@ -145,10 +192,10 @@ class PlayedHeadroom:
             return 0.0
         if side is None and self.searched:
             return self.searched_strength_m
-        g = {"up": self.margin_up_db, "down": self.margin_down_db, None: self.margin_db}[side]
-        if g is None or self.strongest_pluck_m is None:
+        k = self.scale_to_limit(side)
+        if k is None or self.strongest_pluck_m is None:
             return None
-        return self.strongest_pluck_m * 10.0 ** (g / 20.0)
+        return self.strongest_pluck_m * k
 
     def record(self) -> dict:
         """JSON-ready: every figure, None with a ``_reason`` sibling where it has no value."""
@@ -160,7 +207,9 @@ class PlayedHeadroom:
         }
         U.put(out, "played_margin_up_db", self.margin_up_db, AT_REST if self.at_rest("up") else NO_EXCURSION)
         U.put(out, "played_margin_down_db", self.margin_down_db, AT_REST if self.at_rest("down") else NO_EXCURSION)
-        U.put(out, "limit_db_above_played", self.limit_db_above, AT_REST if self.at_rest() else NOT_FOUND if self.searched else NO_EXCURSION)
+        if self.string_up_v is not None:  # the excursions of x_lin's parts apart, when the render kept them
+            out.update({f"{part}_excursion_{side}_v": getattr(self, f"{part}_{side}_v") for part in ("string", "hum") for side in ("up", "down")})
+        U.put(out, "limit_db_above_played", self.limit_db_above, AT_REST if self.at_rest() else NOT_FOUND if self.searched else HUM_ALONE if self.hum_alone() else NO_EXCURSION)
         U.put(out, "strongest_pluck_m", self.strongest_pluck_m, NO_PLUCK)
         for key, side in (("limit_strength_m", None), ("limit_strength_up_m", "up"), ("limit_strength_down_m", "down")):
             U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else (self.searched_reason or NOT_FOUND) if self.searched and side is None else NO_EXCURSION)
@@ -180,7 +229,17 @@ class PlayedHeadroom:
         return out
 
 
-def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, window, limited_fraction: float, strongest_pluck_m: float | None = None, nonlinear: bool = False) -> PlayedHeadroom:
+def played_headroom(
+    *,
+    linear_min_v: float,
+    linear_max_v: float,
+    bias_v: float,
+    window,
+    limited_fraction: float,
+    strongest_pluck_m: float | None = None,
+    nonlinear: bool = False,
+    parts: dict | None = None,
+) -> PlayedHeadroom:
     """Headroom of a render from the extremes of its linear op-amp output.
 
     Parameters
@@ -195,6 +254,10 @@ def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, 
     strongest_pluck_m : float or None, m
     nonlinear : bool
         The sensing is not linear in the pluck (see :attr:`PlayedHeadroom.nonlinear`).
+    parts : dict or None
+        The excursions of x_lin's string and hum parts apart, V (``string_up_v``, ``string_down_v``, ``hum_up_v``,
+        ``hum_down_v``: ``render_signal``'s, :attr:`render.chain.stream.Renderer.part_excursions`); None: not known,
+        the whole swing then taken to scale with the pluck.
 
     Returns
     -------
@@ -202,6 +265,7 @@ def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, 
     """
     up, down = window.linear_high - bias_v, bias_v - window.linear_low
     e_up, e_down = max(0.0, linear_max_v - bias_v), max(0.0, bias_v - linear_min_v)
+    p = {k: float(max(0.0, v)) for k, v in (parts or {}).items()}
     return PlayedHeadroom(
         onset_up_v=float(up),
         onset_down_v=float(down),
@@ -212,6 +276,10 @@ def played_headroom(*, linear_min_v: float, linear_max_v: float, bias_v: float, 
         limited_fraction=float(limited_fraction),
         strongest_pluck_m=None if strongest_pluck_m is None else float(strongest_pluck_m),
         nonlinear=bool(nonlinear),
+        string_up_v=p.get("string_up_v"),
+        string_down_v=p.get("string_down_v"),
+        hum_up_v=p.get("hum_up_v", 0.0),
+        hum_down_v=p.get("hum_down_v", 0.0),
     )
 
 
@@ -235,6 +303,10 @@ def from_record(m: dict) -> PlayedHeadroom | None:
         nonlinear=m.get("limit_strength_method") in ("rendered", "linear-guess"),
         searched_reason=m.get("limit_strength_m_reason") if m.get("limit_strength_method") == "rendered" else None,
         searched_range_edge_m=m.get("limit_strength_range_edge_m"),
+        string_up_v=m.get("string_excursion_up_v"),
+        string_down_v=m.get("string_excursion_down_v"),
+        hum_up_v=m.get("hum_excursion_up_v", 0.0),
+        hum_down_v=m.get("hum_excursion_down_v", 0.0),
     )
 
 
@@ -270,8 +342,27 @@ def margin_cell(h: PlayedHeadroom, side: str) -> str:
 
 def strength_cell(h: PlayedHeadroom, side: str | None = None, *, mark_guess: bool = True) -> str:
     """The strongest pluck at which ``side`` reaches the limit as a table cell: :func:`format_strength` (with "≈" before a
-    linear guess, unless not ``mark_guess``), or "at rest"."""
-    return AT_REST_CELL if h.at_rest(side) else format_strength(h.strength_at_limit_m(side), guessed=mark_guess and h.guessed)
+    linear guess, unless not ``mark_guess``), "at rest", or "hum alone"."""
+    if h.at_rest(side):
+        return AT_REST_CELL
+    if h.hum_alone(side) and not (side is None and h.searched):
+        return HUM_ALONE_CELL
+    return format_strength(h.strength_at_limit_m(side), guessed=mark_guess and h.guessed)
+
+
+def reach_cell(h: PlayedHeadroom) -> str:
+    """Where the limit is reached, as the "limit reached at" cell: the strongest pluck and the dB above the phrase
+    ("1.86 mm (+5.4 dB)"), only the dB for a recording ("+5.4 dB above"), or words (at rest, the hum alone, beyond the
+    construction's flux range, not found)."""
+    strength = h.strength_at_limit_m()
+    if h.at_rest():
+        return AT_REST_CELL
+    if h.searched and strength is None:
+        edge = h.searched_range_edge_m
+        return ("beyond " + format_strength(edge) if edge else "past the flux range") if h.searched_reason == LEFT_RANGE else "not found"
+    if h.hum_alone() and not h.searched:
+        return HUM_ALONE_CELL
+    return f"{format_margin(h.limit_db_above)} above" if strength is None else f"{format_strength(strength, guessed=h.guessed)} ({format_margin(h.limit_db_above)})"
 
 
 def format_strength(m: float | None, *, guessed: bool = False) -> str:

@@ -15,10 +15,14 @@ implements). Each peak is given as
 - ``q``: its frequency over the width between the two nearest points on
   either side where the level is 3 dB under the peak's (log-frequency
   interpolation). None, with a reason, when the peak is less than 3 dB
-  above the 1 kHz level (the response need not fall 3 dB around it) or when
-  a -3 dB point lies outside the grid. For a second-order band-pass
-  resonance this is exactly its Q (the half-power bandwidth is f0/Q:
-  Horowitz & Hill, *The Art of Electronics*, 3rd ed., 2015, §1.7.14).
+  above the 1 kHz level (the response need not fall 3 dB around it), when
+  a -3 dB point lies outside the grid, or when the response rises above the
+  peak's own level anywhere between its two -3 dB points (:data:`Q_HIGHER`):
+  a hump on the flank of a higher one, whose "width" would be mostly the
+  other's, so that its Q would jump as the two merge or part. For a
+  second-order band-pass resonance this is exactly its Q (the half-power
+  bandwidth is f0/Q: Horowitz & Hill, *The Art of Electronics*, 3rd ed.,
+  2015, §1.7.14).
 
 Peaks are listed highest first. The resonance (``peak_hz``, ``peak_db`` and
 ``q``: the figures ``check``, ``summary.md`` and the JSON print) is the
@@ -49,6 +53,7 @@ BLEND_DB = 1.0  # peaks within this of the highest share fit's peak aim (common 
 NO_PEAK = U.NO_PEAK_IN_BAND  # worded for PROMINENCE_DB and BAND_HZ
 Q_LOW = "less than 3 dB above the 1 kHz level, so no -3 dB width around it"
 Q_EDGES = "a -3 dB point lies outside 5 Hz to 40 kHz"
+Q_HIGHER = U.Q_SPANS_HIGHER
 
 
 def _refine(h_db: np.ndarray, f: np.ndarray, k: int) -> tuple[float, float]:
@@ -69,15 +74,19 @@ def _crossing(f, y, i, j) -> float:
     return float(np.exp(np.log(f[i]) + t * (np.log(f[j]) - np.log(f[i]))))
 
 
-def peak_q(h_db: np.ndarray, f: np.ndarray, k: int, level_db: float, frequency_hz: float) -> float | None:
-    """Q of the peak at grid index ``k`` (refined ``level_db``, ``frequency_hz``): f over its -3 dB width; None at the grid's edges."""
+def peak_q(h_db: np.ndarray, f: np.ndarray, k: int, level_db: float, frequency_hz: float) -> tuple[float | None, str | None]:
+    """(Q, None) of the peak at grid index ``k`` (refined ``level_db``, ``frequency_hz``): f over its -3 dB width;
+    (None, the reason) when a -3 dB point is off the grid (:data:`Q_EDGES`) or the response rises above the peak's
+    level between them (:data:`Q_HIGHER`)."""
     y = h_db - (level_db - 3.0)
     left = np.flatnonzero(y[:k] < 0)
     right = np.flatnonzero(y[k:] < 0)
     if not (left.size and right.size):
-        return None
+        return None, Q_EDGES
     il, ir = int(left[-1]), k + int(right[0])
-    return frequency_hz / (_crossing(f, y, ir - 1, ir) - _crossing(f, y, il, il + 1))
+    if np.max(h_db[il : ir + 1]) > h_db[k]:  # a higher part of the response inside the width: not this peak's own
+        return None, Q_HIGHER
+    return frequency_hz / (_crossing(f, y, ir - 1, ir) - _crossing(f, y, il, il + 1)), None
 
 
 def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tuple[list[dict], float, float]:
@@ -117,10 +126,10 @@ def response_peaks(h_db: np.ndarray, f: np.ndarray, *, level_1k_db: float) -> tu
     for k, fk, lk, prom in sorted(shown, key=lambda c: -c[2]):
         height = lk - level_1k_db
         p: dict = {"frequency_hz": fk, "height_db": float(height), "prominence_db": float(prom)}
-        q = peak_q(h_db, f, k, lk, fk) if height >= Q_MIN_HEIGHT_DB else None
+        q, why = peak_q(h_db, f, k, lk, fk) if height >= Q_MIN_HEIGHT_DB else (None, Q_LOW)
         p["q"] = q
         if q is None:
-            p["q_reason"] = Q_LOW if height < Q_MIN_HEIGHT_DB else Q_EDGES
+            p["q_reason"] = why
         peaks.append(p)
     return peaks, peaks[0]["frequency_hz"], peaks[0]["height_db"]
 

@@ -39,6 +39,7 @@ PASSIVE_NO_SIGNAL = "no passive signal: the passive reference's coils cancel the
 NO_PEAK = "no peak of 3 dB or more above the 1 kHz level"
 NO_PEAK_IN_BAND = "no peak from 1 kHz to 20 kHz (none with a prominence of 0.5 dB or more)"
 PEAK_EDGES = "the peak's -3 dB points lie outside 5 Hz to 40 kHz"
+Q_SPANS_HIGHER = "not defined: the response rises above this peak before falling 3 dB under it, so its -3 dB width would take in a higher peak"
 NO_BASS_CORNER = "within 3 dB of the 1 kHz level down to 5 Hz"
 NO_TREBLE_CORNER = "beyond 20 kHz"
 NO_TREBLE_DIP = "no dip: the response falls 3 dB under the 1 kHz level once, at its treble corner, or not at all"
@@ -67,6 +68,7 @@ SHORT = {
     VOLUME_ZERO: "volume 0",
     NO_PEAK: "none",
     PEAK_EDGES: "none",
+    Q_SPANS_HIGHER: "not defined",
     NO_PEAK_IN_BAND: "no peak",
     NO_BASS_CORNER: "below 5 Hz",
     NO_TREBLE_CORNER: "beyond 20 kHz",

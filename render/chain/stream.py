@@ -93,6 +93,8 @@ from . import loop as lp
 from .limit import Window, design_window
 from .loop_shared import NO_SLEW
 
+PARTS = ("string_up_v", "string_down_v", "hum_up_v", "hum_down_v")  # x_lin's parts' excursions a render reports
+
 INTERNAL_RATE_HZ = 192000.0  # the limiter runs at no less than this rate
 IMAGE_REJECTION_DB = 100.0  # interpolator stopband, from fs − band edge
 ALIAS_WEIGHT = 1e3  # stopband weight of the decimator's least-squares design
@@ -540,12 +542,15 @@ class Renderer:
         self._clipped = 0
         self._finished = False
         self._linear = [np.inf, -np.inf]  # extremes of x_lin (bias included) so far, V
+        # the same for its two parts apart, the string's (which scales with the pluck) and the hum's (which does not)
+        self._parts = {"string": [np.inf, -np.inf], "hum": [np.inf, -np.inf]}
         # one mains period as a table when it is a whole number of samples (48 kHz / 50 Hz = 960)
         self._hum_period = None
         period = plan.sample_rate / plan.hum.mains
         if self.hum and abs(period - round(period)) < 1e-9 * period and round(period) <= 10**6:
             self._hum_period = self._hum_direct(0, int(round(period)))
         self._lim_hist = self._hum_at(-plan.path_mean.delay - self._history, self._history)
+        self._string_hist = np.zeros(self._history)  # the string's part of _lim_hist (the rest is hum)
         self._loop = _LoopCarry(plan)
         self._settle()
 
@@ -575,6 +580,7 @@ class Renderer:
         self._amp_delay = np.full(p.out_stage.delay, rest)
         self._n = -n
         self._lim_hist = self._hum_at(-n - p.path_mean.delay - self._history, self._history)
+        self._string_hist = np.zeros(self._history)
         self._to_drop += n
         chunk = int(p.sample_rate)  # a second at a time: the memory of a block, not of the whole settling
         for start in range(0, n, chunk):
@@ -583,6 +589,7 @@ class Renderer:
         assert self._n == 0 and self._to_drop == p.latency
         self._clipped = 0
         self._linear = [np.inf, -np.inf]
+        self._parts = {"string": [np.inf, -np.inf], "hum": [np.inf, -np.inf]}
 
     def _hum_direct(self, start: int, n: int) -> np.ndarray:
         p, h = self.plan, self.plan.hum
@@ -614,6 +621,7 @@ class Renderer:
         if (not mono and half_diff.any()) or self._sn[0].any() or self._sn[1].any():
             ln, self._sn = dz.apply(p.path_half_difference, half_diff, state=self._sn)
             v_lin += ln
+        string = v_lin.copy()
         if self.explicit:
             assert p.path_hum is not None  # built with hum_filter=True for an explicit field
             lh, self._sh = dz.apply(p.path_hum, db_dt, state=self._sh)
@@ -621,7 +629,12 @@ class Renderer:
         elif self.hum:
             v_lin += self._hum_at(self._n - p.path_mean.delay, n)
         ext = np.concatenate([self._lim_hist, v_lin])
-        self._track_linear(ext, self._lim_hist.size)
+        self._track_linear(ext, self._lim_hist.size, self._linear)
+        if self.explicit or self.hum:  # with no hum the string's part is all of x_lin
+            ext_s = np.concatenate([self._string_hist, string])
+            self._track_linear(ext_s, self._lim_hist.size, self._parts["string"])
+            self._track_linear(ext - ext_s, self._lim_hist.size, self._parts["hum"])
+            self._string_hist = ext_s[ext_s.size - self._history :]
         y, clipped = _loop_stage(p, ext, self._lim_hist.size, self._loop)
         self._lim_hist = ext[ext.size - self._history :]
         self._clipped += clipped
@@ -635,10 +648,10 @@ class Renderer:
         self._to_drop -= drop
         return {"out": out[drop:], "amp_out": amp[drop:] + p.bias_v}
 
-    def _track_linear(self, ext: np.ndarray, history: int) -> None:
-        """Carry the extremes of x_lin, the op-amp's linear output (bias included), as the loop sees it:
-        the block's largest and smallest samples, and x_lin at R·fs around them (the interpolator's
-        delay included), so a peak between output samples is not missed."""
+    def _track_linear(self, ext: np.ndarray, history: int, extremes: list) -> None:
+        """Carry in ``extremes`` the lowest and highest of x_lin, the op-amp's linear output (bias included), or of one
+        of its parts, as the loop sees it: the block's largest and smallest samples, and the signal at R·fs around them
+        (the interpolator's delay included), so a peak between output samples is not missed."""
         p = self.plan
         v = ext[history:]
         if not v.size:
@@ -647,16 +660,31 @@ class Renderer:
         reach = p.resampler.up.size // R + 4
         for k in (int(np.argmax(v)), int(np.argmin(v))):
             xl = _x_lin(p, ext, history, R * (k - 4), min(R * (k + reach), R * v.size - 1))
-            self._linear[0] = min(self._linear[0], float(xl.min()), float(v[k]) + p.bias_v)
-            self._linear[1] = max(self._linear[1], float(xl.max()), float(v[k]) + p.bias_v)
+            extremes[0] = min(extremes[0], float(xl.min()), float(v[k]) + p.bias_v)
+            extremes[1] = max(extremes[1], float(xl.max()), float(v[k]) + p.bias_v)
 
     @property
     def linear_range(self) -> tuple[float, float]:
         """(lowest, highest) x_lin so far, V, bias included: the op-amp output the render would have
         without its limit (string and hum); (bias, bias) before any sample."""
+        return self._range(self._linear)
+
+    def _range(self, extremes: list) -> tuple[float, float]:
         b = self.plan.bias_v
-        lo, hi = self._linear
+        lo, hi = extremes
         return (min(lo, b), max(hi, b)) if math.isfinite(lo) else (b, b)
+
+    @property
+    def part_excursions(self) -> dict:
+        """The largest excursions from the bias (V, ≥ 0) of x_lin's two parts apart: ``string_up_v``, ``string_down_v``
+        (what scales with the pluck) and ``hum_up_v``, ``hum_down_v`` (the field's, which does not); with no hum the
+        string's are x_lin's own and the hum's 0."""
+        b = self.plan.bias_v
+        out = {}
+        for part, extremes in (("string", self._parts["string"] if self.explicit or self.hum else self._linear), ("hum", self._parts["hum"])):
+            lo, hi = self._range(extremes)
+            out[f"{part}_up_v"], out[f"{part}_down_v"] = hi - b, b - lo
+        return out
 
     def process(self, velocity, *, db_dt=None) -> dict:
         """Render one block.
@@ -751,6 +779,7 @@ def render_blocks(
     last["clipped_fraction"] = min(1.0, r.clipped_count / max(n * plan.resampler.oversample, 1))
     last["warnings"] = plan.warnings
     last["linear_min_v"], last["linear_max_v"] = r.linear_range
+    last.update(r.part_excursions)
     yield last
 
 
@@ -783,7 +812,9 @@ def render_signal(
         or, with a slew rate, its state slewing at that limit;
         ``warnings`` tuple of str;
         ``linear_min_v``, ``linear_max_v`` float V: the extremes of the op-amp's linear
-        output x_lin (bias, string and hum; what it would swing without its limit)
+        output x_lin (bias, string and hum; what it would swing without its limit);
+        ``string_up_v``, ``string_down_v``, ``hum_up_v``, ``hum_down_v`` float V ≥ 0: the largest
+        excursions from the bias of its string part and its hum part apart (:attr:`Renderer.part_excursions`)
     """
     v = np.asarray(velocity, dtype=float)  # (n,) stays one row: the renderer takes it as both coils' velocity
     if not (v.ndim == 1 or (v.ndim == 2 and v.shape[0] == 2)):
@@ -816,4 +847,5 @@ def render_signal(
         "warnings": tuple(last["warnings"]),
         "linear_min_v": float(last["linear_min_v"]),
         "linear_max_v": float(last["linear_max_v"]),
+        **{k: float(last[k]) for k in PARTS},
     }

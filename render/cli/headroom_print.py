@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from ..analysis.bias import RESTS_PLAYED
-from ..analysis.headroom import AT_REST_CELL, GUESS_NOTE, LEFT_RANGE, PlayedHeadroom, format_margin, format_share, format_strength, margin_cell, strength_cell
+from ..analysis.headroom import GUESS_NOTE, PlayedHeadroom, format_share, format_strength, margin_cell, reach_cell, strength_cell
 
 
 def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  ") -> list[str]:
@@ -16,14 +16,7 @@ def headroom_lines(rows: list[tuple[str, PlayedHeadroom]], *, indent: str = "  "
     width = max([len(name) for name, _ in rows] + [20])
     cells = []
     for name, h in rows:
-        strength = h.strength_at_limit_m()
-        if h.at_rest():
-            reach = AT_REST_CELL
-        elif h.searched and strength is None:
-            edge = h.searched_range_edge_m
-            reach = ("beyond " + format_strength(edge) if edge else "past the flux range") if h.searched_reason == LEFT_RANGE else "not found"
-        else:
-            reach = f"{format_margin(h.margin_db)} above" if strength is None else f"{format_strength(strength, guessed=h.guessed)} ({format_margin(h.limit_db_above)})"
+        reach = reach_cell(h)
         up, down = margin_cell(h, "up"), margin_cell(h, "down")
         cells.append((name, up, down, reach, format_share(h.limited_fraction)))
     wu = max([8] + [len(c[1]) for c in cells])

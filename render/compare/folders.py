@@ -13,13 +13,11 @@ from pathlib import Path
 
 import numpy as np
 
-from ..report.brightness import COLUMNS as BRIGHTNESS_COLUMNS
 from ..report.brightness import NOTE as BRIGHTNESS_NOTE
-from ..report.clips import LEVELS_NOTE
+from ..report.clips import CLIPS_COLUMNS, LEVELS_NOTE
 from .assets import PAGE_SECONDS
 from .page import PageClip, PageText, design_numbers, design_values, response_curves, write_page
 
-CLIPS_COLUMNS = ("resonance", "Q", "level at 1 kHz", "vs passive", "hum rejection", "bias", "headroom up / down", "peak at amp input", "loudness (1 V full scale)", "limited", *BRIGHTNESS_COLUMNS)
 CLIPS_MATCHED_COLUMN = len(CLIPS_COLUMNS) - 1  # the loudness-matched brightness column, which the page fills against its reference
 CLIPS_NOTES = (
     LEVELS_NOTE + ".",

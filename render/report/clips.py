@@ -102,21 +102,59 @@ def _resonance(m) -> str:
     return f"{m['resonance_hz']:.0f} Hz, {m['resonance_db']:+.1f} dB"
 
 
+def _peaks(m) -> str:
+    """Every listed peak, highest first ("4800 Hz, +5.9 dB; 3730 Hz, +4.0 dB"); the resonance alone for a record without the list."""
+    peaks = m.get("peaks")
+    if not peaks:
+        return _resonance(m)
+    return "; ".join(f"{p['frequency_hz']:.0f} Hz, {p['height_db']:+.1f} dB" for p in peaks)
+
+
+def played_cells(m: dict) -> tuple[str, str]:
+    """The played margin up / down and where the limit is reached, as the terminal's headroom table prints them
+    (:func:`render.analysis.headroom.margin_cell`, :func:`~render.analysis.headroom.reach_cell`); "not computed" without them."""
+    from ..analysis.headroom import from_record, margin_cell, reach_cell
+
+    h = from_record(m)
+    if h is None:
+        return ("not computed",) * 2
+    return f"{margin_cell(h, 'up')} / {margin_cell(h, 'down')}", reach_cell(h)
+
+
+CLIPS_COLUMNS = (
+    "peaks",
+    "Q",
+    "level at 1 kHz",
+    "vs passive",
+    "hum rejection",
+    "bias",
+    "headroom up / down",
+    "margin (played) up / down",
+    "limit reached at",
+    "peak at amp input",
+    "loudness (1 V full scale)",
+    "limited",
+    *BRIGHTNESS_COLUMNS,
+)
+
+
 def measurement_cells(m: dict) -> tuple[str, ...]:
-    """A clip record's ``measurements`` as one row of the run's table (``summary.md`` and ``index.html``):
-    resonance, Q, level at 1 kHz, vs passive, hum rejection, bias, headroom, peak, loudness (re 1 V full scale), limited,
-    and the brightness columns (:mod:`render.report.brightness`)."""
+    """A clip record's ``measurements`` as one row of the run's table (``summary.md`` and ``index.html``, :data:`CLIPS_COLUMNS`):
+    peaks, Q, level at 1 kHz, vs passive, hum rejection, bias, headroom to the rails, the played margin and where the limit
+    is reached (as the terminal prints them), peak, loudness (re 1 V full scale), limited, and the brightness columns
+    (:mod:`render.report.brightness`)."""
     from ..analysis.headroom import format_share
     from .brightness import brightness_cells
 
     return (
-        _resonance(m),
+        _peaks(m),
         _cell(m, "q", ".2f"),
         _cell(m, "level_1k_db", "+.1f", " dB"),
         _cell(m, "gain_vs_passive_db", "+.1f", " dB"),
         _cell(m, "hum_rejection_db", ".1f", " dB"),
         f"{m['bias_v']:.2f} V",
         f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
+        *played_cells(m),
         peak_cell(m["peak_v"]),
         _cell(m, "loudness_lufs_1v_full_scale", ".1f", " LUFS"),
         format_share(m["clipped_fraction"]),
@@ -131,8 +169,11 @@ def peak_cell(volts: float) -> str:
 
 
 LEVELS_NOTE = (
-    "Level at 1 kHz: dB re 1 V per m/s of string velocity; resonance: the response's highest peak, its frequency and its height in dB above"
-    " the level at 1 kHz; Q from the response; loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale"
+    "Level at 1 kHz: dB re 1 V per m/s of string velocity; peaks: every peak from 1 to 20 kHz with 0.5 dB of prominence or more,"
+    " highest first (the first is the resonance), its frequency and its height in dB above the level at 1 kHz; Q: the resonance's, from the response;"
+    " headroom: from the bias to the rails; margin (played): how far the phrase's largest op-amp swing stays from the soft limit's onset;"
+    " limit reached at: the phrase's strongest pluck (every pluck scaled alike, the hum not) at which it reaches that onset, and the dB above the phrase;"
+    " loudness per ITU-R BS.1770-4 of the clip in volts, re a 1 V full scale"
 )
 
 COMPARE_LABEL = "comparison pickup, passive"
@@ -145,11 +186,13 @@ def compare_cells(m: dict) -> tuple[str, ...]:
     from .brightness import brightness_cells
 
     return (
-        _resonance(m),
+        _peaks(m),
         _cell(m, "q", ".2f"),
         _cell(m, "level_1k_db", "+.1f", " dB"),
         "is passive",
         _cell(m, "hum_rejection_db", ".1f", " dB"),
+        NO_PREAMP,
+        NO_PREAMP,
         NO_PREAMP,
         NO_PREAMP,
         peak_cell(m["peak_v"]),
@@ -167,10 +210,8 @@ def summary_markdown(records: list[dict], *, dry: str, rig: str, settings: dict,
         "",
         "Start listening at a low volume; clips that clip stay loud.",
         "",
-        "| design | resonance | Q | level at 1 kHz | vs passive | hum rejection | bias | headroom up / down | peak at amp input | loudness (1 V full scale) | limited | "
-        + " | ".join(BRIGHTNESS_COLUMNS)
-        + " |",
-        "|---|---|---|---|---|---|---|---|---|---|---|" + "---|" * len(BRIGHTNESS_COLUMNS),
+        "| design | " + " | ".join(CLIPS_COLUMNS) + " |",
+        "|---|" + "---|" * len(CLIPS_COLUMNS),
     ]
     for r in records:
         lines.append(f"| {r['design']} | " + " | ".join(measurement_cells(r["measurements"])) + " |")

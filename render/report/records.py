@@ -29,6 +29,7 @@ def measurements(design: Design, figures: dict, stats: dict, *, volts_full_scale
     out: dict = {}
     for key in ("resonance_hz", "resonance_db", "q", "level_1k_db", "gain_vs_passive_db", "hum_rejection_db"):
         U.put(out, key, f[key], U.reason(f, key))
+    out["peaks"] = list(f.get("peaks") or [])  # every listed peak, highest first (the table's "peaks" column)
     out.update({"bias_v": d.bias_v, "headroom_up_v": d.headroom_up_v, "headroom_down_v": d.headroom_down_v})
     out.update({k: v for k, v in stats.items() if k not in ("loudness_lufs_1v_full_scale", LOUDNESS_BLOCKS)})
     # ITU-R BS.1770-4 integrated loudness of the WAV as written (its blocks gated at that scale: eq. 5's

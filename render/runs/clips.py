@@ -194,7 +194,7 @@ def render_long(design: Design, dry_path: Path, settings: RenderSettings, *, out
     from ..analysis.headroom import played_headroom
 
     lo, hi = renderer.linear_range
-    s.update(played_headroom(linear_min_v=lo, linear_max_v=hi, bias_v=plan.bias_v, window=plan.window, limited_fraction=renderer.clipped_fraction).record())
+    s.update(played_headroom(linear_min_v=lo, linear_max_v=hi, bias_v=plan.bias_v, window=plan.window, limited_fraction=renderer.clipped_fraction, parts=renderer.part_excursions).record())
     if passive is not None:
         s["passive_peak_v"] = stats["passive_peak"]
     dry = {"kind": "recorded", "file": str(dry_path), "seconds": n / fs, "velocity_scale": settings.velocity_scale, "streamed": True}

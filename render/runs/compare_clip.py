@@ -148,6 +148,7 @@ def compare_record(p: PassiveDesign, levels: Levels, *, dry: Path, settings: Ren
     m: dict = {}
     for key, src in (("resonance_hz", "peak_hz"), ("resonance_db", "peak_db"), ("q", "q"), ("level_1k_db", "level_1k_db"), ("hum_rejection_db", "hum_rejection_db")):
         U.put(m, key, fig.get(src), U.reason(fig, src))
+    m["peaks"] = list(fig.get("peaks") or [])  # every listed peak, highest first
     m.update({"peak_v": peak, "rms_v": rec["rms_v"]})
     U.put(m, "loudness_lufs_1v_full_scale", rec["loudness_lufs_1v_full_scale"], U.SILENT)
     own = reference is None

@@ -82,7 +82,10 @@ def test_the_comparison_pickup_gets_the_designs_figures_in_its_json_and_the_summ
     cells = [c.strip() for c in row.strip("|").split("|")]
     assert cells[-1] == f"{m['matched_diff_2k_4k_db']:+.1f} / {m['matched_diff_4k_8k_db']:+.1f} dB"
     assert cells[-3] == f"{m['band_2k_4k_re_1k_db']:+.1f} dB" and cells[-4] == "no preamp"
-    assert cells[9] == f"{m['loudness_lufs_1v_full_scale']:.1f} LUFS"
+    from render.report.clips import CLIPS_COLUMNS
+
+    assert cells[1 + CLIPS_COLUMNS.index("loudness (1 V full scale)")] == f"{m['loudness_lufs_1v_full_scale']:.1f} LUFS"
+    assert cells[1 + CLIPS_COLUMNS.index("margin (played) up / down")] == cells[1 + CLIPS_COLUMNS.index("limit reached at")] == "no preamp"
 
 
 def test_the_page_carries_the_comparison_pickup(run):
