@@ -36,6 +36,15 @@ class AnswerRefused(ValueError):
     """An answer that is well formed but cannot be recorded (out of order, or conflicting)."""
 
 
+def _json(value) -> str:
+    """A value from the answer's JSON as JSON writes it (true, null, "A"), cut for a one-line message."""
+    import json
+
+    from ..units import shorten
+
+    return shorten(json.dumps(value, ensure_ascii=False))
+
+
 def validate_answer(data, *, method: str, trials: int) -> dict:
     """The answer in ``data`` (parsed JSON) as a clean dict, or ValueError naming what is wrong."""
     if not isinstance(data, dict):
@@ -45,10 +54,10 @@ def validate_answer(data, *, method: str, trials: int) -> dict:
         raise ValueError(f"body: unknown key {sorted(extra)[0]!r}; expected trial, answer, comment")
     trial = data.get("trial")
     if type(trial) is not int or not 0 <= trial < trials:
-        raise ValueError(f"trial={trial!r}: expected a whole number from 0 to {trials - 1}")
+        raise ValueError(f"trial={_json(trial)}: expected a whole number from 0 to {trials - 1}")
     answer = data.get("answer")
     if answer not in ANSWERS[method]:
-        raise ValueError(f"answer={answer!r}: expected one of {', '.join(ANSWERS[method])}")
+        raise ValueError(f"answer={_json(answer)}: expected one of {', '.join(ANSWERS[method])}")
     comment = data.get("comment", "")
     if not isinstance(comment, str) or len(comment) > MAX_COMMENT:
         raise ValueError(f"comment: expected text of at most {MAX_COMMENT} characters")

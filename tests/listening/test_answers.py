@@ -62,7 +62,7 @@ def test_a_torn_last_line_is_cut_off_by_the_next_writer(make_session):
         (b'{"trial":0,"answer":"A"}\nnot json\n', r"line 2: .*the log was edited or damaged"),
         (b'{"trial":0,"answer":"A"}\n{"trial":0,"answer":"B"}\n', r"line 2: trial=0 answered twice with different answers"),
         (b'{"trial":1,"answer":"A"}\n', r"line 1: trial=1 comes before trial 0 is answered"),
-        (b'{"trial":0,"answer":"Q"}\n', r"line 1: answer='Q': expected one of A, B"),
+        (b'{"trial":0,"answer":"Q"}\n', r'line 1: answer="Q": expected one of A, B'),
     ],
 )
 def test_an_edited_log_is_refused_with_its_line(make_session, content, message):
@@ -79,9 +79,12 @@ def test_a_repeated_identical_line_counts_once(make_session):
 
 
 def test_validation_names_the_field():
-    with pytest.raises(ValueError, match=r"^trial=True: expected a whole number from 0 to 3$"):
+    # the values as the answer's JSON has them (RFC 8259: true, null, strings in double quotes), not Python's
+    with pytest.raises(ValueError, match=r"^trial=true: expected a whole number from 0 to 3$"):
         validate_answer({"trial": True, "answer": "A"}, method="abx", trials=4)
-    with pytest.raises(ValueError, match=r"^answer='none': expected one of A, B$"):
+    with pytest.raises(ValueError, match=r"^trial=null: expected a whole number from 0 to 3$"):
+        validate_answer({"answer": "A"}, method="abx", trials=4)
+    with pytest.raises(ValueError, match=r'^answer="none": expected one of A, B$'):
         validate_answer({"trial": 0, "answer": "none"}, method="abx", trials=4)
     assert validate_answer({"trial": 3, "answer": "none"}, method="preference", trials=4) == {"trial": 3, "answer": "none", "comment": ""}
     assert validate_answer({"trial": 0, "answer": "A", "comment": "two\nlines\tand ünïcode"}, method="abx", trials=1)["comment"].startswith("two")
