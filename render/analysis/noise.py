@@ -417,7 +417,8 @@ class NoiseStream:
     S_out(f) = Σ_k |H_k|²·S_k (every source is Gaussian and independent, so
     their sum is one Gaussian process with the summed density): white
     Gaussian noise (``numpy.random.default_rng(seed)``, drawn in sequence;
-    the passive reference's from the seed's spawn key 1, so the two are independent)
+    the passive reference's from the seed's sequence 1, so the two are
+    independent; ``sequence`` names another, as the comparison pickup's 2)
     through a linear-phase FIR filter of :data:`NOISE_TAPS` taps whose
     response is √(S_out(f)·sample_rate/2) at every bin k·sample_rate/taps
     (zero at DC). The filter is primed with taps−1 draws before the first
@@ -431,10 +432,14 @@ class NoiseStream:
     ----------
     design : Design
     sample_rate : Hz > 0; seed : int ≥ 0; temperature : K (200..400);
-    passive : the passive reference's noise instead.
+    passive : the passive reference's noise instead;
+    sequence : int ≥ 0 or None, which of the seed's independent sequences is
+    drawn: 0 is ``default_rng(seed)`` itself, k ≥ 1 is
+    ``SeedSequence(seed, spawn_key=(k,))``; None: 0 for the design's floor,
+    1 for its passive reference's.
     """
 
-    def __init__(self, design, *, sample_rate: float, seed: int, temperature: float = T_DEFAULT, passive: bool = False):
+    def __init__(self, design, *, sample_rate: float, seed: int, temperature: float = T_DEFAULT, passive: bool = False, sequence: int | None = None):
         if not (isinstance(sample_rate, (int, float, np.number)) and math.isfinite(sample_rate) and sample_rate > 0):
             raise InputError(f"sample_rate={shown(sample_rate)}: expected a positive sampling rate in Hz")
         if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
@@ -452,7 +457,11 @@ class NoiseStream:
         self.taps = np.roll(np.fft.irfft(gain, taps), taps // 2)
         # the passive reference draws its own sequence (spawn key 1 of the same seed): the two floors are
         # independent, as two circuits' noise is; the active floor's draws are default_rng(seed)'s
-        self._rng = np.random.default_rng(np.random.SeedSequence(int(seed), spawn_key=(1,) if passive else ()))
+        if sequence is not None and (isinstance(sequence, bool) or not isinstance(sequence, (int, np.integer)) or sequence < 0):
+            raise InputError(f"sequence={shown(sequence)}: expected a whole number, 0 or more")
+        which = (1 if passive else 0) if sequence is None else int(sequence)
+        key = (which,) if which else ()  # sequence 0 is default_rng(seed)'s own draws
+        self._rng = np.random.default_rng(np.random.SeedSequence(int(seed), spawn_key=key))
         self._history = self._rng.standard_normal(taps - 1)
 
     def take(self, n: int) -> np.ndarray:
@@ -467,14 +476,15 @@ class NoiseStream:
         return oaconvolve(x, self.taps, mode="valid")
 
 
-def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature: float = T_DEFAULT, passive: bool = False) -> np.ndarray:
+def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature: float = T_DEFAULT, passive: bool = False, sequence: int | None = None) -> np.ndarray:
     """The first ``n`` samples of :class:`NoiseStream` (V at the amp input of ``design``, rig applied): the same samples a
     streamed render draws block by block.
 
     Parameters
     ----------
     n : int ≥ 1, samples; sample_rate : Hz > 0; seed : int ≥ 0;
-    temperature : K (200..400); passive : the passive reference's noise instead.
+    temperature : K (200..400); passive : the passive reference's noise instead;
+    sequence : which of the seed's independent sequences (:class:`NoiseStream`).
 
     Returns
     -------
@@ -482,7 +492,7 @@ def noise_waveform(design, *, n: int, sample_rate: float, seed: int, temperature
     """
     if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1:
         raise InputError(f"n={shown(n)}: expected a whole number of samples, at least 1")
-    return NoiseStream(design, sample_rate=sample_rate, seed=seed, temperature=temperature, passive=passive).take(int(n))
+    return NoiseStream(design, sample_rate=sample_rate, seed=seed, temperature=temperature, passive=passive, sequence=sequence).take(int(n))
 
 
 def noise_record(r: NoiseReport, design, rig_file) -> dict:

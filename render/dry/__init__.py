@@ -13,6 +13,7 @@ for coil_a and row 1 for coil_b):
 
 from __future__ import annotations
 
+import math
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -270,6 +271,11 @@ def load_dry(
     """
     p = Path(path)
     if strength is not None:
+        from ..errors import ArgumentError
+        from ..units import shown
+
+        if isinstance(strength, bool) or not isinstance(strength, (int, float, np.floating, np.integer)) or not (math.isfinite(strength) and 0 < strength <= 0.05):
+            raise ArgumentError("strength", shown(strength), "must be above 0 and at most 0.05 m (50 mm): the strongest pluck's initial displacement, in metres")
         refuse_strength_with_recording(p, f"{strength * 1e3:g}mm")
     if p.suffix.lower() in PHRASE_SUFFIXES:
         phrase = load_phrase(p)

@@ -46,7 +46,7 @@ frequencies, a triangular pluck, losses b1 + b3·(nπ/L)², mutes):
   and 7.5 dB over modes 11–20; and S_y can be near zero over a pole), while the slopes' change with the
   displacement (the nonlinearity and a bend's dropout) is taken at ū. To
   first order the EMF is Σ_d ∫ g_d·∂u_d/∂t dx, but for the spline's slope at
-  rest against S_d (within 3e-4 of S_z on the demos). The vertical part of r
+  rest against S_d (within 4e-4 of each string's S_z on the demos, measured by hand). The vertical part of r
   is zero (w is g_z/S_z) unless a coil senses no vertical motion, when w is
   the sideways function. Summed over the strings.
 

@@ -63,7 +63,7 @@ class BlindSettings:
         The string velocity at a recorded dry file's full scale (a sample of 1.0), above 0 to 1000; 1 for a phrase.
     strength : float or None, m
         Pluck a phrase harder or softer: every pluck scaled alike so that its strongest is this initial
-        displacement (above 0 to 20 mm, as ``render clips --strength``); None plays the phrase as written.
+        displacement (above 0 to 50 mm, as ``render clips --strength``); None plays the phrase as written.
         A recording is refused with it.
     """
 

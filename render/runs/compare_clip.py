@@ -17,6 +17,10 @@ import numpy as np
 from ..clip import RenderSettings
 from ..design.passive import PassiveDesign, carrier
 
+# The comparison pickup's noise floor draws the seed's sequence 2 (render.analysis.noise.NoiseStream): another
+# pickup's noise, independent of every design's floor (sequence 0) and of their passive references' (sequence 1)
+COMPARE_NOISE_SEQUENCE = 2
+
 
 def compare_stem(p: PassiveDesign) -> str:
     """The file stem of the comparison clip: the passive file's own stem."""
@@ -35,7 +39,7 @@ def render_compare(p: PassiveDesign, dry: Path, settings: RenderSettings) -> tup
     if settings.noise:
         from ..analysis.noise import noise_waveform
 
-        volts = volts + noise_waveform(d, n=volts.size, sample_rate=fs, seed=settings.seed, passive=True)
+        volts = volts + noise_waveform(d, n=volts.size, sample_rate=fs, seed=settings.seed, passive=True, sequence=COMPARE_NOISE_SEQUENCE)
     return volts, fs, tuple(signal.warnings)
 
 
@@ -57,11 +61,11 @@ def render_compare_long(p: PassiveDesign, dry: Path, settings: RenderSettings, *
     if settings.noise:
         from ..analysis.noise import NoiseStream
 
-        noise = NoiseStream(d, sample_rate=fs, seed=settings.seed, passive=True)
+        noise = NoiseStream(d, sample_rate=fs, seed=settings.seed, passive=True, sequence=COMPARE_NOISE_SEQUENCE)
     meter = LoudnessMeter(sample_rate=fs)
     peak, sq, n = 0.0, 0.0, 0
+    checks = RecordingChecks(str(dry), info=audio_info(dry), velocity_scale=settings.velocity_scale, seconds=settings.seconds)  # before the writer: a refusal leaves no file
     wav = FloatWavWriter(Path(out) / f"{compare_stem(p)}.wav", sample_rate=fs, overwrite=True)
-    checks = RecordingChecks(str(dry), info=audio_info(dry), velocity_scale=settings.velocity_scale, seconds=settings.seconds)
     try:
         blocks = (passive.process(v) for v in iter_recorded(dry, sample_rate=fs, velocity_scale=settings.velocity_scale, seconds=settings.seconds, block=block, checks=checks))
         for y in _then(blocks, passive.finish):

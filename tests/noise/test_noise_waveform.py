@@ -188,3 +188,21 @@ def test_active_and_passive_floors_are_independent():
     drawn = np.random.default_rng(3).standard_normal(NOISE_TAPS - 1 + 16)
     stream = NoiseStream(REF, sample_rate=FS, seed=3)
     assert np.allclose(np.convolve(drawn, stream.taps, mode="valid"), a[:16], rtol=0, atol=1e-9 * a.std())
+
+
+def test_the_comparison_pickups_floor_is_its_own():
+    """A comparison pickup is another pickup: its floor (sequence 2) is independent of a design's passive reference
+    (sequence 1), which shares its kind of circuit; coherence as above (Bendat & Piersol 2010, §9.2.3)."""
+    from scipy.signal import coherence
+
+    from render.runs.compare_clip import COMPARE_NOISE_SEQUENCE
+
+    p = noise_waveform(REF, n=N, sample_rate=FS, seed=3, passive=True)
+    c = noise_waveform(REF, n=N, sample_rate=FS, seed=3, passive=True, sequence=COMPARE_NOISE_SEQUENCE)
+    f, coh = coherence(p, c, fs=FS, nperseg=2048)
+    assert float(np.mean(coh[(f >= 100) & (f <= 15000)])) < 0.03
+    # sequence None is 1 for the passive reference and 0 (default_rng(seed) itself) for the design
+    assert np.array_equal(p, noise_waveform(REF, n=N, sample_rate=FS, seed=3, passive=True, sequence=1))
+    assert np.array_equal(noise_waveform(REF, n=64, sample_rate=FS, seed=3), noise_waveform(REF, n=64, sample_rate=FS, seed=3, sequence=0))
+    with pytest.raises(InputError, match=r"^sequence=-1: expected a whole number, 0 or more$"):
+        NoiseStream(REF, sample_rate=FS, seed=3, sequence=-1)
