@@ -171,3 +171,12 @@ def test_blind_strength_on_the_command_line(tmp_path):
     res = CliRunner().invoke(main, ["blind", str(A), str(B), "--dry", str(DRY), "--strength", "2mm", "--out", str(tmp_path / "u")])
     assert res.exit_code == 1 and "--strength=2mm: goes with a phrase file, not the recording" in res.output
     assert not (tmp_path / "t").exists() and not (tmp_path / "u").exists()
+
+
+@pytest.mark.parametrize("bad", [-1e-3, 0.0, float("nan"), True, 0.06])
+def test_load_dry_refuses_a_strength_that_is_no_pluck(bad):
+    # a negative strength would flip every pluck, zero would be silence: refused in one line naming it
+    from render.errors import ArgumentError
+
+    with pytest.raises(ArgumentError, match=r"^strength=.*: must be above 0 and at most 0\.05 m \(50 mm\)"):
+        load_dry(PHRASE, sample_rate=FS, positions=(0.1, 0.15), apertures=0.01, strength=bad)
