@@ -94,3 +94,29 @@ def test_a_record_without_the_parts_scales_the_whole_swing():
     rec = played_headroom(linear_min_v=4.5, linear_max_v=5.0, bias_v=4.5, window=window, limited_fraction=0.0, strongest_pluck_m=1e-3).record()
     assert "hum_excursion_up_v" not in rec
     assert from_record(rec).strength_at_limit_m() == pytest.approx(1e-3 * 3.0 / 0.5)
+
+
+def test_where_the_limit_is_reached_does_not_depend_on_how_hard_the_phrase_was_played(tmp_path):
+    """The README's ember-dark example: the pluck at the limit reads 1.30 mm at --strength 2n, 22n, 1mm and 6mm alike,
+    though at the first two the hum is most of the swing (the rule above, k·S + H = onset, on the demo phrase: the
+    string part is linear in the pluck, the modal string of Fletcher & Rossing 1998 §2.7)."""
+    import json
+
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    found = {}
+    for strength in ("2n", "22n", "1mm", "6mm"):
+        out = tmp_path / strength
+        args = ["clips", str(ROOT / "models" / "ember-dark.toml"), "--strength", strength, "--seconds", "4", "--no-plots", "--out", str(out)]
+        res = CliRunner().invoke(main, args)
+        assert res.exit_code == 0, res.output
+        m = json.loads((out / "ember-dark.json").read_text())["measurements"]
+        found[strength] = (m["limit_strength_m"], m["hum_excursion_up_v"] / m["linear_excursion_up_v"])
+    strengths = [s for s, _ in found.values()]
+    assert max(strengths) / min(strengths) - 1 < 1e-6
+    assert f"{strengths[0] * 1e3:.2f}" == "1.30"  # as the README prints it
+    # the hum's share of the swing, as the README gives it: 82 % at 2n, 26 % at 22n, next to nothing at 6 mm
+    assert (round(100 * found["2n"][1]), round(100 * found["22n"][1])) == (82, 26)
+    assert found["6mm"][1] < 0.01
