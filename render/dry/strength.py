@@ -17,6 +17,21 @@ from ..errors import InputError
 from .phrase import Phrase
 
 
+def pluck_in_range(value: object) -> float:
+    """``value`` (m) as a float when it is a finite pluck strength above 0 and at most 50 mm (the range every
+    command's ``--strength`` takes); otherwise :class:`~render.errors.ArgumentError` naming it in mm."""
+    import math
+    import numbers
+
+    from ..errors import ArgumentError
+
+    finite = isinstance(value, numbers.Real) and not isinstance(value, bool) and math.isfinite(value)
+    if not (finite and 0 < float(value) <= 0.05):  # type: ignore[arg-type]
+        shown = f"{float(value) * 1e3:g}mm" if finite else (f"{value:g}" if isinstance(value, numbers.Real) and not isinstance(value, bool) else repr(value))  # type: ignore[arg-type]
+        raise ArgumentError("strength", shown, "must be above 0 and at most 50 mm")
+    return float(value)  # type: ignore[arg-type]
+
+
 def strongest_pluck(phrase: Phrase) -> float:
     """The phrase's strongest pluck, m (the initial displacement of its hardest-plucked note)."""
     if not phrase.notes:

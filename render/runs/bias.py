@@ -8,7 +8,6 @@ from pathlib import Path
 import numpy as np
 
 from ..dry import refuse_strength_with_recording
-from ..errors import ArgumentError
 from .strength import phrase_at_strength
 
 __all__ = ["BiasClips", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
@@ -54,8 +53,9 @@ def check_strength(strength_m: float | None, dry: Path) -> tuple[str, ...]:
     """Refuse a pluck strength outside 0..50 mm or with a recording; warn beyond realistic playing and far below it."""
     if strength_m is None:
         return ()
-    if not 0 < strength_m <= 0.05:
-        raise ArgumentError("strength", f"{strength_m * 1e3:g}mm", "must be above 0 and at most 50 mm")
+    from ..dry.strength import pluck_in_range
+
+    pluck_in_range(strength_m)
     refuse_strength_with_recording(dry, f"{strength_m * 1e3:g}mm")
     if strength_m < PLAYED_STRENGTH_MIN_M:
         return (weak_strength_warning(strength_m),)

@@ -80,6 +80,7 @@ class BlindSettings:
 
     def __post_init__(self) -> None:
         from ..arguments import number
+        from ..dry.strength import pluck_in_range
         from ..listening.build import MAX_TRIALS
         from ..units import TIME, QuantityError, parse_quantity
         from ..validate import sample_rate
@@ -108,11 +109,7 @@ class BlindSettings:
                 raise ArgumentError("seconds", f"{self.seconds}", f"{exc}") from None
             if not MIN_SECONDS <= length <= MAX_SECONDS:
                 raise ArgumentError("seconds", f"{self.seconds}", f"must be from {MIN_SECONDS:g} s to {MAX_SECONDS:g} s")
-        strength = None
-        if self.strength is not None:  # in metres, shown in mm as render clips and render bias show it
-            if not (_finite(self.strength) and 0 < float(self.strength) <= 0.05):
-                raise ArgumentError("strength", f"{float(self.strength) * 1e3:g}mm" if _finite(self.strength) else _shown(self.strength), "must be above 0 and at most 50 mm")
-            strength = float(self.strength)
+        strength = None if self.strength is None else pluck_in_range(self.strength)  # in metres, shown in mm as render clips shows it
         # the checked values, as plain Python numbers
         for name, value in (
             ("trials", trials),
@@ -296,7 +293,7 @@ def build_blind_session(
     designs = [apply_rig(d, rig) for d in designs]  # as the designs were loaded with it (applying a rig twice changes nothing)
     if len(designs) != 2:
         raise InputError(f"{len(designs)} designs: a blind session compares exactly two (MODEL_A and MODEL_B)")
-    dry_file = session_dry_file(dry_path, velocity_scale=settings.velocity_scale, strength=settings.strength)
+    dry_file = session_dry_file(dry_path, velocity_scale=settings.velocity_scale)
     strength_notes = check_strength(settings.strength, dry_file)  # a recording refused before the folder is made
     folder = session_folder(out, overwrite=overwrite)
     # the file as read now (unchanged since loading), and the text that was rendered: a changed design's (render.with_values)
