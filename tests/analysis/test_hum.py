@@ -19,7 +19,7 @@ REF = ROOT / "models" / "studio-reference.toml"
 
 def test_induced_emf_faraday():
     # Faraday's law: peak EMF = N·A·2πf·B; 5000 turns × 5 cm² = 2.5 m², 1 µT:
-    # 0.785 mV at 50 Hz, 0.942 mV at 60 Hz (reference sheet, recomputed)
+    # 0.785 mV at 50 Hz, 0.942 mV at 60 Hz (computed by hand)
     for mains, expected in ((50.0, 0.785e-3), (60.0, 0.942e-3)):
         f, dbdt = field_derivative(Hum(mains=mains, field=1e-6, harmonics=(1.0,)))
         assert 2.5 * dbdt[0] == pytest.approx(expected, abs=0.0005e-3)

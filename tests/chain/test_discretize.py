@@ -28,7 +28,7 @@ def test_bilinear_first_order_lowpass_check_values():
     # fs = 48 kHz, first-order low-pass at 10 kHz: unwarped |H(10 kHz)| = -3.756 dB and the -3 dB
     # point at 8.855 kHz; prewarped at 10 kHz, -3.010 dB (Oppenheim & Schafer, Discrete-Time Signal
     # Processing, 3rd ed., 2010, bilinear warping ω_a = (2/T)·tan(ω_d·T/2) (from memory); MathWorks
-    # `bilinear` documentation; values recomputed in the reference sheet §4)
+    # `bilinear` documentation; the values follow from those closed forms, computed by hand)
     wc = 2 * np.pi * 10e3
     sos, warn = bilinear_sections([], [-wc], wc, sample_rate=48000)
     assert warn == ()

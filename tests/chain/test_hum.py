@@ -11,7 +11,7 @@ FS = 48000.0
 @pytest.mark.parametrize("mains, expect_mv", [(50.0, 0.785), (60.0, 0.942)])
 def test_faraday_emf_amplitude(mains, expect_mv):
     # e = N·A·dB/dt, peak N·A·2πf·B: 5000 turns × 5 cm² = 2.5 m², 1 µT -> 0.785 mV at 50 Hz,
-    # 0.942 mV at 60 Hz (Faraday's law of induction; reference sheet §5)
+    # 0.942 mV at 60 Hz (Faraday's law of induction, computed by hand)
     n = int(FS / mains) * 4
     e = 2.5 * field_rate(n, sample_rate=FS * 10, mains_hz=mains, field_t=1e-6, harmonics=(1.0,))
     assert np.max(np.abs(e)) * 1e3 == pytest.approx(expect_mv, abs=5e-4)

@@ -17,7 +17,7 @@ ROOT = __import__("pathlib").Path(__file__).resolve().parents[2]
     "gauge,diameter_mm,ohm_per_m",
     [
         # ASTM B258-02 diameters (d = 0.005 in × 92^((36 − n)/39)); Ω/m at 20 °C from
-        # IEC 60028 copper, as tabulated in the project's reference sheet
+        # IEC 60028 copper (0.017241 Ω·mm²/m at 20 °C) over π·d²/4
         (42, 0.0634, 5.47),
         (43, 0.0564, 6.90),
         (44, 0.0502, 8.70),
@@ -47,8 +47,8 @@ def test_wheeler_worked_case():
 
 
 def test_wheeler_8000_turns_and_wire():
-    # reference sheet, recomputed: N = 8000 on Wheeler's former -> 1.28 H air core,
-    # 638.4 m of wire, 3.49 kΩ in AWG 42 and 4.40 kΩ in AWG 43
+    # Wheeler, Proc. IRE 16(10), 1928, computed by hand: N = 8000 on his former -> 1.28 H air core,
+    # 638.4 m of wire (N × 2π·0.5 in), 3.49 kΩ in AWG 42 and 4.40 kΩ in AWG 43 (ASTM B258 diameters, IEC 60028 copper)
     mean_turn = 2 * math.pi * 0.5 * INCH
     for gauge, r_expected in ((42, 3.49e3), (43, 4.40e3)):
         L, R, length = from_winding(turns=8000, diameter=awg_diameter(gauge), mean_turn=mean_turn, height=0.5 * INCH, depth=0.25 * INCH, core_factor=1.0)
@@ -64,7 +64,7 @@ def test_inductance_goes_as_turns_squared_and_resistance_as_turns():
     L2, R2, _ = from_winding(turns=1100, **args)
     assert L2 / L1 == pytest.approx(1.1**2, rel=1e-12)
     assert R2 / R1 == pytest.approx(1.1, rel=1e-12)
-    # low-impedance coil: N/10 gives L/100 and R/10 (reference sheet, Wheeler)
+    # low-impedance coil: N/10 gives L/100 and R/10 (Wheeler's N², the wire's length N × mean turn)
     L3, R3, _ = from_winding(turns=100, **args)
     assert L1 / L3 == pytest.approx(100.0, rel=1e-12) and R1 / R3 == pytest.approx(10.0, rel=1e-12)
 

@@ -59,8 +59,8 @@ def test_pitch_spellings():
 
 
 def test_plain_steel_string_stiffness():
-    # Reference sheet check (H. Fletcher, JASA 36(1), 1964, B = pi^3 E d^4 / (64 T L^2); from
-    # memory): steel d = 0.254 mm, E = 200 GPa, rho = 7850 kg/m3, L = 0.648 m, f0 = 329.63 Hz
+    # H. Fletcher, JASA 36(1), 1964 (from memory): B = pi^3 E d^4 / (64 T L^2); computed by hand
+    # for steel d = 0.254 mm, E = 200 GPa, rho = 7850 kg/m3, L = 0.648 m, f0 = 329.63 Hz
     # gives T = 72.6 N and B = 1.32e-5.
     t = plain_string_tension(diameter=0.254e-3, frequency=329.63, length=0.648, density=7850.0)
     assert t == pytest.approx(72.6, abs=0.05)
