@@ -408,10 +408,12 @@ class Operating:
         if rod.linear:
             return rod.response.T @ b
         w = min(rod.BAND, rod.x.size - 1)
-        if self._lu is None:  # LAPACK's band LU (dgbtrf) wants w more rows above the band
+        factors = self._lu
+        if factors is None:  # LAPACK's band LU (dgbtrf) wants w more rows above the band
             ab = np.vstack([np.zeros((w, rod.x.size)), rod.banded(self.chi_d[None, :], transpose=True)])
-            object.__setattr__(self, "_lu", scipy.linalg.lapack.dgbtrf(ab, w, w)[:2])
-        lu, piv = self._lu
+            factors = tuple(scipy.linalg.lapack.dgbtrf(ab, w, w)[:2])
+            object.__setattr__(self, "_lu", factors)
+        lu, piv = factors
         y = np.zeros_like(b)
         for _ in range(self.ITERATIONS):
             r = b - (y - rod.demag @ (self.chi_d * y))
