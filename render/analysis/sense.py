@@ -71,7 +71,7 @@ KEYS = (
 )
 NOT_SENSED_DB = -60.0  # dB re the coil's loudest string: a string this far down is not sensed (our choice, no source: 1/1000 of the output)
 # The flux table's central difference over ±0.5 mm against the sensing function's integral: on the shipped demos they
-# agree within 1.9 % (the difference's own error, h²/6 times the third derivative, Press et al., Numerical Recipes, 3rd ed.,
+# agree within 1.7 % (the difference's own error, h²/6 times the third derivative, Press et al., Numerical Recipes, 3rd ed.,
 # 2007, §5.7). More than this and the table's numerical noise (about 1e-12 Wb) is as large as the string's own flux
 # (our bound, five times the demos').
 TABLE_AGREEMENT = 0.10
