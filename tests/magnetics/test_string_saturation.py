@@ -77,6 +77,17 @@ def test_a_long_rods_middle_sits_on_the_curve():
         assert m[rod.x.size // 2] < fk(b0 / mu_0) < MS  # the ends' charges lower it
 
 
+def test_the_banded_steps_and_the_full_newton_agree():
+    # two solves of one equation: Rod.axial's banded-Jacobian steps and Rod.newton (the full Jacobian, its fallback),
+    # from the linear answer scaled to Ms, for rods from weakly to deeply saturated, 0.43 and 1 mm thick
+    for dia in (DIA, 1 * MM):
+        rod = _rod(dia=dia)
+        b0x = np.exp(-((rod.x / (6 * MM)) ** 2))[None, :] * np.array([0.005, 0.05, 0.3])[:, None]
+        start = (b0x / mu_0) @ rod.response.T
+        start /= np.maximum(1.0, np.abs(start).max(axis=-1, keepdims=True) / MS)
+        np.testing.assert_allclose(rod.axial(b0x), rod.newton(b0x / mu_0, start), rtol=0, atol=1e-10 * MS)
+
+
 def test_the_differential_response_is_the_derivative_of_the_solve():
     # R_d·δB0x/µ0 against (M_x(B0x + ε·δ) − M_x(B0x − ε·δ))/2ε, the rod well into saturation at its middle
     rod = _rod()
