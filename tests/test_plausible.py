@@ -110,13 +110,13 @@ def test_an_unusual_coil_inductance_warns(tmp_path):
 
 
 def test_the_shipped_designs_are_plausible():
-    # Every shipped design's values are usual; the one line left is the model's own limit on the NdFeB
-    # demo: its linear strings pass string steel's saturation (near 2 T, from memory; README, "Where the
-    # model stands"), which the warning says rather than hides.
+    # Every shipped design's values are usual; the one line left is a fact of the NdFeB demo: its strings
+    # at rest are polarised past half their steel's saturation (README, "The strings' saturation"), where a
+    # stronger magnet adds little output, which the warning says rather than hides.
     designs, _ = load_designs(sorted((ROOT / "models").glob("*.toml")))
     got = {d.name: design_warnings(d) for d in designs}
     (note,) = got.pop("slipway-magnet-blades")
-    assert note.startswith("[construction] the linear string model polarises strings 1, 2, 3, 4, 5 up to 3.7 T")
+    assert note.startswith("[construction] strings 1, 2, 3, 4, 5 at rest are polarised past half the steel's saturation: up to 1.39 T of 2 T")
     assert got == {d.name: () for d in designs if d.name != "slipway-magnet-blades"}
 
 

@@ -17,7 +17,11 @@ Per coil and per string, with the EMF as it drives the coil's input
 - ``h2_db`` and ``h3_db``: the 2nd and 3rd harmonics of the EMF for a
   0.5 mm peak vertical sine, dB re the fundamental;
 - ``polarization_t``: the largest polarisation µ0·|M| (T) along the string
-  at rest, as the model's linear string gives it.
+  at rest;
+- ``differential_permeability``: the string steel's differential relative
+  permeability 1 + dM/dH along the string where it is most polarised at
+  rest (``string_permeability`` in a weak field, lower towards saturation:
+  what a small change of the field, the vibration's, meets there).
 
 - ``balance_db``: the vertical sensitivity in dB re the coil's loudest string.
 
@@ -33,11 +37,15 @@ A figure that means nothing is ``null`` with a ``<key>_reason`` beside it
 
 And, for the design, ``warnings``: the model's limits it passes (:func:`construction_warnings`).
 
-The string's steel is linear in the model. Where its polarisation comes near
-the steel's saturation (near 2 T for string steel, from memory), the output
-and distortion are overstated: :func:`saturation_warning` says so. So are
-an AlNiCo magnet's field and every figure here where the magnet works past
-its knee (:meth:`render.magnetics.construction.Construction.knee_warning`).
+The string's steel saturates along the string (its Fröhlich–Kennelly curve,
+:mod:`render.magnetics.strings`). Where a string at rest is polarised past
+:data:`NEAR_SATURATION` of the steel's saturation, :func:`saturation_warning`
+says so, with the differential permeability left there: a stronger magnet
+adds little output to that string, and its figures lean on the shape of the
+steel's curve near its knee, which ``string_permeability`` and
+``string_saturation`` set. An AlNiCo magnet's field and every figure here are
+overstated where the magnet works past its knee
+(:meth:`render.magnetics.construction.Construction.knee_warning`).
 :func:`construction_warnings` gives both, as the record's ``warnings``.
 """
 
@@ -47,15 +55,30 @@ import numpy as np
 
 from ..errors import InputError
 
-KEYS = ("string", "sensitivity_v_s_per_m", "sensitivity_lateral_v_s_per_m", "balance_db", "along_x_m", "along_weight", "lateral_offset_m", "lateral_db", "h2_db", "h3_db", "polarization_t")
+KEYS = (
+    "string",
+    "sensitivity_v_s_per_m",
+    "sensitivity_lateral_v_s_per_m",
+    "balance_db",
+    "along_x_m",
+    "along_weight",
+    "lateral_offset_m",
+    "lateral_db",
+    "h2_db",
+    "h3_db",
+    "polarization_t",
+    "differential_permeability",
+)
 NOT_SENSED_DB = -60.0  # dB re the coil's loudest string: a string this far down is not sensed (our choice, no source: 1/1000 of the output)
 # The flux table's central difference over ±0.5 mm against the sensing function's integral: on the shipped demos they
-# agree within 1.9 % (the difference's own error, h²/6 times the third derivative, Press et al., Numerical Recipes, 3rd ed.,
+# agree within 1.7 % (the difference's own error, h²/6 times the third derivative, Press et al., Numerical Recipes, 3rd ed.,
 # 2007, §5.7). More than this and the table's numerical noise (about 1e-12 Wb) is as large as the string's own flux
 # (our bound, five times the demos').
 TABLE_AGREEMENT = 0.10
 TABLE_STEP = 0.5e-3  # m, the central difference's half step: a level of every table (render.magnetics.sensing.VERTICAL)
-SATURATION_WARN_T = 1.8  # T: a string's linear polarisation past this is near or past string steel's saturation, near 2 T (from memory)
+NEAR_SATURATION = (
+    0.5  # of µ0·Ms: past this a string at rest is near saturation (our choice, no source: there the Fröhlich–Kennelly curve's differential permeability is a quarter of its initial one or less)
+)
 WEIGHT_STEP = 1e-3  # m, the sensing function is reported every millimetre (computed every 0.5 mm)
 
 
@@ -85,6 +108,7 @@ def sense_record(design) -> dict:
                     "h2_db": float(s.h2_db),
                     "h3_db": float(s.h3_db),
                     "polarization_t": float(s.polarization),
+                    "differential_permeability": float(s.differential),
                 }
             )
         rows = sorted(rows, key=lambda r: -r["string"])  # lowest string first
@@ -128,23 +152,24 @@ def mark_unsensed(rows: list[dict], disagreement: dict[int, float]) -> list[dict
     return [{k: r[k] for k in (*KEYS, *sorted(k for k in r if k.endswith("_reason")))} for r in rows]
 
 
-def saturation_warning(polarizations: dict[int, float]) -> str | None:
-    """One line when a string's linear polarisation passes :data:`SATURATION_WARN_T`, else None.
+def saturation_warning(polarizations: dict[int, float], differentials: dict[int, float], *, saturation: float, permeability: float) -> str | None:
+    """One line when a string at rest is polarised past :data:`NEAR_SATURATION` of the steel's saturation, else None.
 
     polarizations : {string number: T}, each string's largest polarisation at rest
-
-    The model's string is linear (µr constant), so past the steel's
-    saturation its magnetisation, and with it the output and the
-    distortion, keep growing where the real string's would not.
+    differentials : {string number: its steel's differential relative permeability there}
+    saturation : T, the strings' steel's saturation polarisation µ0·Ms
+    permeability : the strings' steel's initial relative permeability
     """
-    over = sorted(k for k, v in polarizations.items() if v > SATURATION_WARN_T)
-    if not over:
+    near = sorted(k for k, v in polarizations.items() if v > NEAR_SATURATION * saturation)
+    if not near:
         return None
-    top = max(over, key=lambda k: polarizations[k])
+    top = max(near, key=lambda k: polarizations[k])
+    low = min(differentials[k] for k in near)
     return (
-        f"[construction] the linear string model polarises string{'s' if len(over) > 1 else ''} {', '.join(map(str, over))} up to "
-        f"{polarizations[top]:.1f} T (string {top}); string steel saturates near 2 T (from memory), "
-        "so this design's output and distortion are overstated"
+        f"[construction] string{'s' if len(near) > 1 else ''} {', '.join(map(str, near))} at rest "
+        f"{'are' if len(near) > 1 else 'is'} polarised past half the steel's saturation: up to {polarizations[top]:.2f} T of {saturation:g} T "
+        f"(string {top}), where the steel's differential permeability has fallen to {low:.0f} (from {permeability:g}); a stronger magnet adds "
+        "little output there, and these figures rest on the steel's curve near its knee (string_permeability, string_saturation)"
     )
 
 
@@ -155,12 +180,19 @@ def design_saturation_warning(design) -> str | None:
     result = sensing(design)
     if result is None:
         return None
-    return saturation_warning({int(s.string): float(s.polarization) for s in result.coil_a})  # the magnets' field: the same for both coils
+    strings = design.construction.construction.strings
+    rows = result.coil_a  # the magnets' field: the same for both coils
+    return saturation_warning(
+        {int(s.string): float(s.polarization) for s in rows},
+        {int(s.string): float(s.differential) for s in rows},
+        saturation=strings.saturation,
+        permeability=strings.permeability,
+    )
 
 
 def construction_warnings(design) -> list[str]:
     """One line per limit of the model that this design's construction passes (empty without one):
-    an AlNiCo magnet past its knee, strings polarised near saturation."""
+    an AlNiCo magnet past its knee, strings at rest near saturation."""
     build = getattr(design, "construction", None)
     if build is None:
         return []

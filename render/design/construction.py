@@ -34,7 +34,7 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..magnetics.coil import CoilGeometry
-from ..magnetics.construction import KINDS, STEEL_PERMEABILITY, STRING_PERMEABILITY, WRAP_SHARE, Construction, Strings, magnet_figures
+from ..magnetics.construction import KINDS, STEEL_PERMEABILITY, STRING_PERMEABILITY, STRING_SATURATION, WRAP_SHARE, Construction, Strings, magnet_figures
 from ..magnetics.magnets import GRADES
 from ..validate import Field, read_table, where, with_example
 
@@ -119,6 +119,14 @@ CONSTRUCTION = {
         lo_open=True,
         doc="relative permeability of the strings' steel (above 1: a string of μr = 1 is not magnetised, and a magnetic pickup does not sense it)",
     ),
+    "string_saturation": Field(
+        U.FLUX_DENSITY,
+        default=STRING_SATURATION,
+        lo=0.1,
+        hi=2.5,
+        lo_open=False,
+        doc="saturation polarisation µ0·Ms of the strings' steel, where its magnetisation along the string levels off",
+    ),
 }
 
 
@@ -169,7 +177,9 @@ def read_construction(data: Any, *, source: str) -> Construction:
         steel = (w, t.get("steel_length", w), t["steel_height"])
     if kind != "steel-poles" and ("poles" in t or "pole_spacing" in t):
         raise InputError(f'{loc}: poles and pole_spacing go with kind="steel-poles"')
-    strings = Strings(cores=cores, outers=tuple(outers), spacing=t["string_spacing"], heights=tuple(heights), wrap_share=t["wrap_share"], permeability=t["string_permeability"])
+    strings = Strings(
+        cores=cores, outers=tuple(outers), spacing=t["string_spacing"], heights=tuple(heights), wrap_share=t["wrap_share"], permeability=t["string_permeability"], saturation=t["string_saturation"]
+    )
     try:
         return Construction(
             kind=kind,

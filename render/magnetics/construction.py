@@ -38,6 +38,10 @@ Documented defaults:
 - :data:`STRING_PERMEABILITY` µr = 100 for the strings' steel (from memory:
   cold-drawn high-carbon music wire; the transverse magnetisation barely
   depends on it, see :mod:`.strings`);
+- :data:`STRING_SATURATION` µ0·Ms = 2.0 T for the strings' steel, the
+  saturation of the Fröhlich–Kennelly curve it follows along its axis
+  (:mod:`.strings`; from memory: iron saturates at about 2.15 T, and the
+  cementite of a high-carbon steel, magnetically weaker, lowers it);
 - :data:`WRAP_SHARE` 0.5 of a wound string's wrap annulus counts as
   magnetic (our estimate, no source: round wrap wire fills π/4 of its
   annulus, and the gaps between its turns break the magnetic path along
@@ -62,9 +66,10 @@ from .steel import Part
 KINDS = ("magnet-blades", "steel-blades", "steel-poles")
 STEEL_PERMEABILITY = STEEL.relative_permeability
 STRING_PERMEABILITY = 100.0
+STRING_SATURATION = 2.0  # T, µ0·Ms of the strings' steel (from memory)
 WRAP_SHARE = 0.5
 CLEARANCE = 1.0e-3  # m, the least gap between a string at rest and the pole pieces' tops
-MODEL_VERSION = 4  # bump when the model's numbers change, so cached results are recomputed (3: the sensing function's slope terms; 4: the strings' polarisation kept)
+MODEL_VERSION = 5  # bump when the model's numbers change, so cached results are recomputed (3: the sensing function's slope terms; 4: the strings' polarisation kept; 5: the strings' steel saturates)
 
 # Cell sizes of the solve (m): finer near the top faces, where the strings look.
 TOP_SLAB = 3e-3  # height of the finely cut top slab of each pole piece
@@ -81,7 +86,8 @@ class Strings:
     spacing : m, centre to centre at the pickup
     heights : m, gap between the coils' top faces (z = 0) and each string's underside at rest
     wrap_share : 0..1, share of a wound string's wrap counted as magnetic
-    permeability : µr of the strings' steel
+    permeability : µr of the strings' steel (its initial permeability)
+    saturation : T, the strings' steel's saturation polarisation µ0·Ms
     """
 
     cores: tuple
@@ -90,6 +96,7 @@ class Strings:
     heights: tuple
     wrap_share: float = WRAP_SHARE
     permeability: float = STRING_PERMEABILITY
+    saturation: float = STRING_SATURATION
 
     @property
     def count(self) -> int:

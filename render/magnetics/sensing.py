@@ -78,7 +78,10 @@ class StringSensing:
     flux : np.ndarray [shape=(len(dy), len(dz))], Wb, Φ at those offsets minus Φ at rest
     h2_db, h3_db : dB, harmonics of the EMF for a 0.5 mm peak vertical sine, re the fundamental
     polarization : T, the largest |µ0·M| along the string at rest in the
-        magnets' field, as the linear string gives it (it does not saturate)
+        magnets' field
+    differential : the string steel's differential relative permeability
+        1 + dM/dH along its axis where it is most polarised at rest (µr of
+        the steel for a weak field; lower as it nears saturation)
     """
 
     string: int
@@ -97,6 +100,7 @@ class StringSensing:
     h2_db: float
     h3_db: float
     polarization: float
+    differential: float
 
     @property
     def lateral_db(self) -> np.ndarray:
@@ -202,7 +206,7 @@ def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometr
     per_coil: list[list[StringSensing]] = [[], []]
     areas = st.areas()
     for s in range(st.count):
-        rod = Rod.build(x, area=float(areas[s]), chi=st.permeability - 1.0)
+        rod = Rod.build(x, area=float(areas[s]), chi=st.permeability - 1.0, saturation=st.saturation / mu_0)
         y_lines = ys[s] + LATERAL
         floor = CLEARANCE + st.outers[s] / 2 + max(construction.top, 0.0) - zs[s]
         dz = dz_all[dz_all >= floor - 1e-12]
@@ -210,13 +214,20 @@ def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometr
         rest, up = field(y_lines, zs[s]), field(y_lines, zs[s], d_dz=1)
         side = field(ys[s], zs[s], d_dy=1)[:, 0]
         centre = int(np.flatnonzero(LATERAL == 0)[0])
-        polarization = float(mu_0 * np.linalg.norm(rod.magnetisation(rest[0][centre]), axis=0).max())
+        # the magnets' field: each line's rest, then the table's levels from it (one solve for both coils)
+        m_lines = rod.magnetisation(rest[0], start=rod.axial(rest[0][centre][0]))  # (lines, 3, n)
+        at = [rod.operating(rest[0][j][0], mx=m_lines[j, 0]) for j in range(len(LATERAL))]
+        m_levels = rod.magnetisation(levels[0], start=m_lines[:, None, 0])
+        m_rest = m_lines[centre]
+        peak = int(np.argmax(np.linalg.norm(m_rest, axis=0)))
+        polarization = float(mu_0 * np.linalg.norm(m_rest[:, peak]))
+        differential = 1.0 + float(at[centre].chi_d[peak])
         for c in (0, 1):
-            flux = rod.flux(levels[0], levels[1 + c])  # (lines, levels)
+            flux = rod.flux_of(m_levels, levels[1 + c])  # (lines, levels)
             rest0, rest1, dz0, dz1, dy0, dy1 = rest[0], rest[1 + c], up[0], up[1 + c], side[0], side[1 + c]
-            lat_z = np.array([rod.sensing(rest0[j], rest1[j], dz0[j], dz1[j], axis=2).sum() * rod.step for j in range(len(LATERAL))])
-            along_z = rod.sensing(rest0[centre], rest1[centre], dz0[centre], dz1[centre], axis=2)
-            along_y = rod.sensing(rest0[centre], rest1[centre], dy0, dy1, axis=1)
+            lat_z = np.array([rod.sensing(rest0[j], rest1[j], dz0[j], dz1[j], axis=2, at=at[j]).sum() * rod.step for j in range(len(LATERAL))])
+            along_z = rod.sensing(rest0[centre], rest1[centre], dz0[centre], dz1[centre], axis=2, at=at[centre])
+            along_y = rod.sensing(rest0[centre], rest1[centre], dy0, dy1, axis=1, at=at[centre])
             i0 = int(np.flatnonzero(np.abs(dz) < 1e-12)[0])
             table = flux - flux[centre, i0]
             h2, h3 = harmonics(dz, table[centre], amplitude=H_AMPLITUDE)
@@ -239,6 +250,7 @@ def pickup_sensing(construction: Construction, geometry_a: CoilGeometry, geometr
                     h2_db=h2,
                     h3_db=h3,
                     polarization=polarization,
+                    differential=differential,
                 )
             )
     return PickupSensing(

@@ -156,9 +156,9 @@ def test_parallel_equals_serial_on_the_whole_default_phrase(tmp_path):
 
 
 def test_the_default_designs_warn_once_for_the_ndfeb_demo(tmp_path):
-    # The README's main-job example: one warning line on standard error, the NdFeB demo's strings past
-    # string steel's saturation (near 2 T, from memory); every other shipped design is quiet.
+    # The README's main-job example: one warning line on standard error, the NdFeB demo's strings at rest
+    # past half their steel's saturation (render.analysis.sense.NEAR_SATURATION); every other shipped design is quiet.
     res = run("clips", *sorted((ROOT / "models").glob("*.toml")), "--dry", DRY, "--seconds", 0.5, "--no-plots", "--out", tmp_path / "all")
     assert res.exit_code == 0, res.output
     warned = [line for line in res.stderr.splitlines() if line.startswith("warning:")]
-    assert len(warned) == 1 and warned[0].startswith("warning: slipway-magnet-blades: [construction] the linear string model"), warned
+    assert len(warned) == 1 and warned[0].startswith("warning: slipway-magnet-blades: [construction] strings 1, 2, 3, 4, 5 at rest are polarised past half"), warned

@@ -47,6 +47,7 @@ def _sensing(*, sz=0.03, sy=0.0, quad=0.0, x0=0.04, width=0.008, strings=6) -> P
             h2_db=-99.0,
             h3_db=-99.0,
             polarization=0.0,
+            differential=100.0,
         )
 
     coil = tuple(one(i) for i in range(strings))
@@ -304,7 +305,7 @@ def _sideways_sensing(*, sz=0.03, with_y=True, x0=0.04) -> PickupSensing:
     dz = np.linspace(-1.5 * MM, 2.0 * MM, 15)
     s = StringSensing(
         string=1, y=0.0, z=3 * MM, x=X_SENSE, along_z=along_z, along_y=along_y, sensitivity_z=float(along_z.sum() * STEP_X), sensitivity_y=sy,
-        lateral=np.zeros(1), lateral_sensitivity=np.full(1, sz), dy=dy, dz=dz, flux=sz * dz[None, :] + sy * dy[:, None], h2_db=-99.0, h3_db=-99.0, polarization=0.0,
+        lateral=np.zeros(1), lateral_sensitivity=np.full(1, sz), dy=dy, dz=dz, flux=sz * dz[None, :] + sy * dy[:, None], h2_db=-99.0, h3_db=-99.0, polarization=0.0, differential=100.0,
     )  # fmt: skip
     coil = tuple(replace(s, string=6 - i) for i in range(6))
     return PickupSensing(coil_a=coil, coil_b=coil, positions=(x0, x0), digest="test")

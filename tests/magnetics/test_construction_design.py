@@ -76,6 +76,8 @@ def test_designs_without_a_construction_are_unchanged():
         (lambda t: t["construction"].update(kind="magnet-blades"), "magnet-blades has no steel"),
         (lambda t: (t["construction"].pop("magnet_grade"), None), "give magnet_grade"),
         (lambda t: t["construction"].update(colour="blue"), "unknown key"),
+        # the strings' saturation polarisation: 0.1 to 2.5 T (iron–cobalt alloys, the highest, saturate near 2.45 T: from memory)
+        (lambda t: t["construction"].update(string_saturation="3T"), r"string_saturation=.*3T.*expected"),
     ],
 )
 def test_refusals_are_one_line(change, match):
@@ -232,3 +234,21 @@ def test_pole_pieces_outside_their_coils_height_are_refused(tmp_path, demo, top,
     with pytest.raises(InputError) as e:
         load_design(path)
     assert fragment in str(e.value) and "\n" not in str(e.value)
+
+
+def test_the_strings_saturation_is_read_and_keys_the_cache():
+    # string_saturation sets the strings' µ0·Ms (default 2.0 T, render.magnetics.construction.STRING_SATURATION);
+    # it is part of the construction's digest, so a cached solve made with another value (or before the
+    # steel saturated: render.magnetics.construction.MODEL_VERSION) is not reused
+    from render.design.construction import read_construction
+    from render.magnetics.construction import MODEL_VERSION, STRING_SATURATION
+
+    data = copy.deepcopy(_doc())
+    default = read_construction(data["construction"], source="<test>")
+    data["construction"]["string_saturation"] = "1.6T"
+    lower = read_construction(data["construction"], source="<test>")
+    assert default.strings.saturation == STRING_SATURATION == 2.0 and lower.strings.saturation == pytest.approx(1.6)
+    d = load_design(ROOT / "models" / "slipway-steel-poles.toml")
+    g = (d.coil_a.geometry, d.coil_b.geometry, 0.038, 0.056)
+    assert default.digest(*g) != lower.digest(*g)
+    assert MODEL_VERSION >= 5

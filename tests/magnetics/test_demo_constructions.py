@@ -179,22 +179,28 @@ def test_the_readmes_bend_figures():
 
 
 def test_the_readmes_distortion_and_output_figures():
-    # README, "The three demo designs": H2 of a 0.5 mm vertical vibration 17–21 dB and H3 37–46 dB below the
-    # fundamental (rounded to whole dB), over the six strings and both coils of the three designs, and the
-    # magnet-blades design about 1.7 times the output of the steel blades (the mean vertical sensitivity).
-    # The model's own figures (measured 2026-12-02: H2 16.8–21.2 dB, H3 37.2–46.5 dB, ratio 1.69), held so the
-    # README cannot drift; the outside checks of the chain are in tests/magnetics/test_strings.py.
+    # README, "The three demo designs": H2 of a 0.5 mm vertical vibration 17–23 dB and H3 38–53 dB below the
+    # fundamental (rounded to whole dB), over the six strings and both coils of the three designs, the NdFeB
+    # blades' 20–23 and 44–53 dB, and the magnet-blades design 1.15 times the output of the steel blades (the
+    # mean vertical sensitivity). The model's own figures (measured 2026-12-04, the strings' steel saturating:
+    # H2 17.2–22.9 dB, H3 38.1–53.0 dB, NdFeB 19.8–22.9 and 44.0–53.0, ratio 1.154; with the linear steel before
+    # it, 16.8–21.2, 37.2–46.5 and 1.69), held so the README cannot drift; the outside checks of the chain are in
+    # tests/magnetics/test_strings.py and test_string_saturation.py.
     from render.design.construction import sensing
 
     h2, h3, mean = [], [], {}
     for name in DEMOS:
         r = sensing(load_design(ROOT / "models" / f"{name}.toml"))
+        ours2, ours3 = [], []
         for coil in ("coil_a", "coil_b"):
-            h2 += [-s.h2_db for s in r.coil(coil)]
-            h3 += [-s.h3_db for s in r.coil(coil)]
+            ours2 += [-s.h2_db for s in r.coil(coil)]
+            ours3 += [-s.h3_db for s in r.coil(coil)]
+        if name == "slipway-magnet-blades":
+            assert (round(min(ours2)), round(max(ours2)), round(min(ours3)), round(max(ours3))) == (20, 23, 44, 53)
+        h2, h3 = h2 + ours2, h3 + ours3
         mean[name] = np.mean([abs(s.sensitivity_z) for s in r.coil("coil_a")])
-    assert (round(min(h2)), round(max(h2)), round(min(h3)), round(max(h3))) == (17, 21, 37, 46)
-    assert round(mean["slipway-magnet-blades"] / mean["slipway-steel-blades"], 1) == 1.7
+    assert (round(min(h2)), round(max(h2)), round(min(h3)), round(max(h3))) == (17, 23, 38, 53)
+    assert round(mean["slipway-magnet-blades"] / mean["slipway-steel-blades"], 2) == 1.15
 
 
 def test_the_readmes_rest_distance_figure_on_the_steel_poles_demo():
@@ -202,8 +208,8 @@ def test_the_readmes_rest_distance_figure_on_the_steel_poles_demo():
     # JAES 65(9):711–721, 2017: on the bench the distortion depends mostly on the vibration's amplitude and
     # only weakly on the string's rest distance. On the shipped steel-poles construction (every string set to
     # one height, all else as shipped; two field solves, cached after the first run) the README states: H2 of a
-    # 0.5 mm sine moves 3.3–4.1 dB between 2 and 5 mm (measured 3.33–4.10, every string, both coils), and rises
-    # 6.0–6.1 dB per doubling of the amplitude (0.25 → 0.5 → 1 mm at the shipped heights; measured 6.03–6.08).
+    # 0.5 mm sine moves 3.6–4.6 dB between 2 and 5 mm (measured 3.58–4.57, every string, both coils; 3.33–4.10 with the linear steel), and rises
+    # 6.0–6.1 dB per doubling of the amplitude (0.25 → 0.5 → 1 mm at the shipped heights; measured 6.02–6.08).
     # Mostly the amplitude: the rest distance's 2.5 times move less than the amplitude's 2.5 times (8 dB at 6 dB
     # per doubling).
     from render.design.construction import _sensing, sensing
@@ -218,7 +224,7 @@ def test_the_readmes_rest_distance_figure_on_the_steel_poles_demo():
         r = _sensing(at, *where)
         h2[h] = np.array([s.h2_db for coil in ("coil_a", "coil_b") for s in r.coil(coil)])
     moves = h2[2e-3] - h2[5e-3]
-    assert (round(float(moves.min()), 1), round(float(moves.max()), 1)) == (3.3, 4.1)
+    assert (round(float(moves.min()), 1), round(float(moves.max()), 1)) == (3.6, 4.6)
     per_doubling = []
     for s in sensing(design).coil_a:
         c = int(np.flatnonzero(np.abs(s.dy) < 1e-12)[0])
@@ -230,19 +236,21 @@ def test_the_readmes_rest_distance_figure_on_the_steel_poles_demo():
 
 def test_the_readmes_sensing_shape():
     # README, "Reading the figures": each coil's sensing function one hump centred over its pole pieces (38 and
-    # 56 mm from the saddle), 3–6 mm wide at half its height, a second of the same sign over the other coil's
-    # pole pieces, 8–17 % of the first (measured 7.8–17.1 %); lobes of the other sign 5–11 mm beyond the pole on
-    # the coil's outer side, 3–5 % of the peak with steel, up to 3 % with the NdFeB blades (none under string 6),
-    # under 2 % anywhere else. The model's own figures (measured: widths 3.0–6.0 mm; outer lobes 2.8–4.8 % with
-    # steel, 0–3.2 % with NdFeB; elsewhere 1.8 % at most), held so the README cannot drift; the shape's outside
-    # check is tests/magnetics/test_string_slope.py (magpylib-material-response's cells of a bent string).
+    # 56 mm from the saddle; the peak within one 0.5 mm sample of it), 2–6 mm wide at half its height, a second
+    # of the same sign over the other coil's pole pieces, 6–11 % of the first (measured 6.4–11.2 %); lobes of the
+    # other sign 5–11 mm beyond the pole on the coil's outer side, 4–6 % of the peak with steel, up to 1 % with
+    # the NdFeB blades, under 2 % anywhere else. The model's own figures (measured 2026-12-04, the strings' steel
+    # saturating: widths 2.0–5.5 mm; outer lobes 3.6–6.3 % with steel, 0.001–0.94 % with NdFeB; elsewhere 1.8 %
+    # at most; the peak 0.5 mm outward of the pole for the thinner strings over steel), held so the README
+    # cannot drift; the shape's outside check is tests/magnetics/test_string_slope.py (magpylib-material-response's
+    # cells of a bent string) and, saturated, tests/magnetics/test_string_saturation.py.
     from render.design.construction import sensing
 
     text = " ".join((ROOT / "README.md").read_text(encoding="utf-8").split())
-    assert "one hump centred over its pole pieces (38 mm from the saddle for coil_a, 56 mm for coil_b), 3–6 mm wide at half its height" in text
-    assert "other sign lie 5–11 mm beyond the pole on the coil's outer side: 3–5 % of the peak with steel, up to 3 % with the NdFeB blades (none under string 6)" in text
+    assert "one hump centred over its pole pieces (38 mm from the saddle for coil_a, 56 mm for coil_b; the peak within one 0.5 mm sample of it), 2–6 mm wide at half its height" in text
+    assert "other sign lie 5–11 mm beyond the pole on the coil's outer side: 4–6 % of the peak with steel, up to 1 % with the NdFeB blades;" in text
     assert "dips below zero by under 2 % of its peak" in text
-    assert "A second hump of the same sign, 8–17 % of the first, lies over the other coil's pole pieces" in text
+    assert "A second hump of the same sign, 6–11 % of the first, lies over the other coil's pole pieces" in text
     widths, outer, where, inner, second = [], {}, [], [], []
     for name in DEMOS:
         r = sensing(load_design(ROOT / "models" / f"{name}.toml"))
@@ -250,7 +258,7 @@ def test_the_readmes_sensing_shape():
             for s in r.coil(coil):
                 g = s.along_z * np.sign(s.sensitivity_z) / np.abs(s.along_z).max()
                 x = (s.x + r.x_offset) * 1e3  # mm from the saddle
-                assert x[np.argmax(g)] == pytest.approx(pole, abs=0.25)
+                assert x[np.argmax(g)] == pytest.approx(pole, abs=0.5 + 1e-9)
                 other = (pole == 38.0) * 56.0 + (pole == 56.0) * 38.0
                 near = np.abs(x - other) < 8.0
                 k = int(np.argmax(np.where(near, g, -np.inf)))
@@ -264,10 +272,10 @@ def test_the_readmes_sensing_shape():
                 if -g[k] > 0.005:
                     where.append(outward * (x[k] - pole))
                 inner.append(-g[~out].min())
-    assert 3.0 <= min(widths) and max(widths) <= 6.0
+    assert 2.0 <= min(widths) and max(widths) <= 6.0
     steel = outer["slipway-steel-blades"] + outer["slipway-steel-poles"]
-    assert (round(100 * min(steel)), round(100 * max(steel))) == (3, 5)
-    assert round(100 * max(outer["slipway-magnet-blades"])) == 3 and min(outer["slipway-magnet-blades"]) == 0.0
+    assert (round(100 * min(steel)), round(100 * max(steel))) == (4, 6)
+    assert round(100 * max(outer["slipway-magnet-blades"])) == 1
     assert 5.0 <= min(where) and max(where) <= 11.0
     assert max(inner) < 0.02
-    assert (round(100 * min(second)), round(100 * max(second))) == (8, 17)
+    assert (round(100 * min(second)), round(100 * max(second))) == (6, 11)

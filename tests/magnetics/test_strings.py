@@ -144,7 +144,7 @@ def test_distortion_follows_amplitude_more_than_rest_distance():
     # the vibration's amplitude and only weakly on the string's rest distance. The full model over
     # one pole agrees: H2 rises about 6 dB per doubling of amplitude (a 2nd harmonic grows with
     # the amplitude), and moves less than 3 dB between 2 and 5 mm of rest distance (measured 1.7 dB).
-    # That is one pole: on the shipped steel-poles demo H2 moves 3.3–4.1 dB over the same heights
+    # That is one pole: on the shipped steel-poles demo H2 moves 3.6–4.6 dB over the same heights
     # (tests/magnetics/test_demo_constructions.py, the README's figure).
 
     def h2(amplitude, height):
