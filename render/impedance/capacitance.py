@@ -25,11 +25,28 @@ Trans. Power Electron. 22(5), 2007; for two layers it is C_ll/3). Turns
 within a layer differ by V/N and add a negligible C_tt/N.
 
 Expected error: M&K compared (1) with measured, orderly wound inductors and
-report agreement of about 10 % (from memory; not re-checked here). Pickup
-coils are scatter-wound: turns of distant layers touch, which raises the
-capacitance, and the winding is looser than orthocyclic, which lowers it.
-Expect a factor of up to 2 either way for such coils (common practice, no
-source): measure the coil when it exists (:mod:`render.impedance.measured`).
+report agreement of about 10 % (from memory; the measurements not
+re-checked here). Against a 2-D electrostatic finite-element solve of the
+cross-section (GetDP and gmsh; tests/impedance/test_capacitance_fe.py),
+ε_r = 3.7, r_o/r_c = 1.06, 1.12 and 1.26:
+
+* two touching wires alone: (1) reads +6 %, −3 % and −17 %. Its split
+  overstates the paths near the contact and its cut at π/6 drops the far
+  ones, and the two nearly cancel for a heavy build;
+* a wire in the groove of two: 2·C_tt reads +17 %, +11 % and 0 %;
+* a row against a row (the periodic orthocyclic cell, the case of (2)):
+  2·C_tt per turn reads +30 %, +29 % and +25 %. The neighbouring turns
+  take the far paths away, and the overestimate near the contact stays.
+
+So (2) with (1) reads about 30 % above the field solution of the same
+orderly winding for thin and heavy builds (the README's worked winding:
+118 pF, and 91 pF with the solve's layer capacitance). The formula is kept
+as published, not scaled to the solve.
+
+Pickup coils are scatter-wound: turns of distant layers touch, which raises
+the capacitance, and the winding is looser than orthocyclic, which lowers
+it. Expect a factor of up to 2 either way for such coils (common practice,
+no source): measure the coil when it exists (:mod:`render.impedance.measured`).
 
 Typical insulation permittivity: polyurethane and polyvinyl-formal enamels
 ε_r ≈ 3.5–4 (from memory).

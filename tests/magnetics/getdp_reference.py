@@ -48,7 +48,7 @@ def require_getdp_gmsh():
     missing = [name for name, path in (("gmsh", GMSH), ("getdp", GETDP)) if not path]
     if not missing:
         return
-    msg = f"{' and '.join(missing)} not found (Debian packages 'getdp' and 'gmsh'); the finite-element core check needs them"
+    msg = f"{' and '.join(missing)} not found (Debian packages 'getdp' and 'gmsh'); the finite-element checks need them"
     if os.environ.get("CI") == "true":
         pytest.fail(msg + " and CI=true requires it")
     pytest.skip(msg)
@@ -172,7 +172,7 @@ def solve(coil: RoundCoilWithRod, permeabilities=(1.0,), *, mesh: float = 0.6e-3
         d = Path(tmp)
         nodes = _mesh(d, geo.text)
         (d / "coil.pro").write_text(pro)
-        _run([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
+        run_tool([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
         linkages = [float(line.split()[-1]) for line in (d / "linkage.txt").read_text().splitlines()]
         values = [float(line.split()[-1]) for line in (d / "aphi.txt").read_text().splitlines()] if points else []
     scale = coil.turns / coil.section_area  # N/A_w: per ampere in the coil, not per A/m²
@@ -200,8 +200,8 @@ def _geo(coil: RoundCoilWithRod, *, mesh: float, corner: float, far: float, skin
 
 def _mesh(d: Path, geo: str) -> int:
     (d / "coil.geo").write_text(geo)
-    _run([GMSH, "-2", "-format", "msh22", "-v", "1", "coil.geo", "-o", "coil.msh"], d)
-    return _node_count(d / "coil.msh")
+    run_tool([GMSH, "-2", "-format", "msh22", "-v", "1", "coil.geo", "-o", "coil.msh"], d)
+    return node_count(d / "coil.msh")
 
 
 @dataclass(frozen=True)
@@ -235,25 +235,25 @@ def solve_harmonic(coil: RoundCoilWithRod, *, relative_permeability: float, cond
         d = Path(tmp)
         nodes = _mesh(d, geo.text)
         (d / "coil.pro").write_text(PRO.format(rint=geo.rint, rext=geo.rext, mu0=mu_0, sigma=0.0, eddy="", system="", points="", solves=statics))
-        _run([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
+        run_tool([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
         air, dc = (float(line.split()[-1]) * scale * scale for line in (d / "linkage.txt").read_text().splitlines())
         for f in frequencies:  # one run per frequency: GetDP's system takes its frequency when it is defined
             (d / "linkage.txt").unlink()
             solve_one = f"Evaluate[$mur = {float(relative_permeability)!r}]; Generate[A]; Solve[A]; PostOperation[out];"
             system = f"Type ComplexValue; Frequency {float(f)!r};"
             (d / "coil.pro").write_text(PRO.format(rint=geo.rint, rext=geo.rext, mu0=mu_0, sigma=float(conductivity), eddy=eddy, system=system, points="", solves=solve_one))
-            _run([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
+            run_tool([GETDP, "coil.pro", "-msh", "coil.msh", "-solve", "MS", "-v", "1"], d)
             re, im = (float(v) for v in (d / "linkage.txt").read_text().split()[-2:])  # a complex table ends in its real and imaginary parts
             values.append(complex(re, im) * scale * scale)
     return HarmonicSolution(tuple(float(f) for f in frequencies), tuple(values), dc, air, nodes)
 
 
-def _run(cmd, cwd: Path) -> None:
+def run_tool(cmd, cwd: Path) -> None:
     res = subprocess.run(cmd, cwd=cwd, capture_output=True, text=True, timeout=120)
     if res.returncode != 0:
         raise RuntimeError(f"{Path(cmd[0]).name} failed ({res.returncode}):\n{res.stdout[-2000:]}\n{res.stderr[-2000:]}")
 
 
-def _node_count(msh: Path) -> int:
+def node_count(msh: Path) -> int:
     lines = msh.read_text().splitlines()
     return int(lines[lines.index("$Nodes") + 1])
