@@ -39,7 +39,7 @@ import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
-from magnetics.getdp_reference import GETDP, _node_count, _run, require_getdp_gmsh
+from magnetics.getdp_reference import GETDP, node_count, require_getdp_gmsh, run_tool
 from scipy.constants import mu_0
 
 ROD_GEO = """// a rod [0, rc] x [-lc/2, lc/2] in air; (x, y) = (r, z)
@@ -167,10 +167,10 @@ def solve_body(
         (d / "body.geo").write_text(geo)
         from magnetics.getdp_reference import GMSH
 
-        _run([GMSH, "-2", "-format", "msh22", "-v", "1", "body.geo", "-o", "body.msh"], d)
-        nodes = _node_count(d / "body.msh")
+        run_tool([GMSH, "-2", "-format", "msh22", "-v", "1", "body.geo", "-o", "body.msh"], d)
+        nodes = node_count(d / "body.msh")
         (d / "body.pro").write_text(pro)
-        _run([GETDP, "body.pro", "-msh", "body.msh", "-solve", "MS", "-v", "1"], d)
+        run_tool([GETDP, "body.pro", "-msh", "body.msh", "-solve", "MS", "-v", "1"], d)
         moment = float((d / "moment.txt").read_text().split()[-1])
         volume = float((d / "volume.txt").read_text().split()[-1])
         bz = tuple(float(line.split()[-1]) for line in (d / "bz.txt").read_text().splitlines() if line.strip()) if points else ()
