@@ -13,6 +13,7 @@ import operator
 from pathlib import Path
 
 from .errors import InputError
+from .io.atomic import refuse_unwritable
 from .units import shorten
 
 # numpy's SeedSequence takes any whole number >= 0, but scipy's optimisers (render fit) and numpy's
@@ -117,6 +118,10 @@ def out_file(name: str, value: object, *, stdout: bool = False, example: str = "
         raise InputError(f"{name}={_path(text)}: {blocked} is a file, not a folder; choose another path")
     if not p.parent.is_dir():
         raise InputError(f"{name}={_path(text)}: folder {p.parent} does not exist; create it first or choose another path")
+    try:
+        refuse_unwritable(p.parent)
+    except InputError as exc:
+        raise InputError(f"{name}={_path(text)}: {exc}") from None
     return text
 
 

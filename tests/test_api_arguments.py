@@ -48,6 +48,14 @@ def test_designs_sharing_a_file_name_are_refused_before_any_file(tmp_path):
     assert not (tmp_path / "run").exists() and not (tmp_path / "cli").exists()
 
 
+def test_a_design_file_given_twice_is_refused_as_such(tmp_path, monkeypatch):
+    # the same file by two spellings is one file given twice, not two files sharing a name
+    monkeypatch.chdir(REF.parent)
+    res = CliRunner().invoke(main, ["clips", REF.name, f"./{REF.name}", "--out", str(tmp_path / "cli"), "--no-plots", "--seconds", "0.5"])
+    assert res.exit_code == 1 and res.stderr.strip() == f"Error: ./{REF.name}: this design file is given twice; give each design once"
+    assert not (tmp_path / "cli").exists()
+
+
 def test_a_design_named_as_anothers_passive_clip_is_refused_before_any_file(tmp_path):
     """``S-passive.wav`` is the passive reference of design S: a design file named ``S-passive`` would overwrite it."""
     pair = [tmp_path / REF.name, tmp_path / f"{REF.stem}-passive.toml"]

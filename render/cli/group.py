@@ -100,6 +100,12 @@ class LazyGroup(click.Group):
             return super().invoke(ctx)
         except click.UsageError as exc:
             raise _one_line(exc) from None
+        except KeyboardInterrupt:
+            # click ends the line the terminal's ^C was echoed on before its "Aborted!"; on standard error that is
+            # not a terminal (a pipe, a supervisor's log) that would only add an empty line, so stop without it
+            if sys.stderr.isatty():
+                raise
+            raise click.Abort() from None
         except OSError as exc:
             if exc.errno == errno.EPIPE:
                 # standard output closed under the command (`render ... | head -1`): a stop, as a closed terminal's

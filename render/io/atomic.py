@@ -70,6 +70,24 @@ def _publish(tmp: Path, path: Path, *, overwrite: bool) -> None:
         os.replace(tmp, path)
 
 
+def _temporary_in(folder: Path, name: str) -> Path:
+    """A new empty temporary file in ``folder`` (``.tmp-<name>.…``), or the one-line refusal of a folder that cannot be written."""
+    try:
+        fd, tmp_name = tempfile.mkstemp(prefix=f".tmp-{name}.", dir=folder)
+    except OSError as exc:
+        raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno or 0, 'choose another folder')}") from None
+    os.close(fd)
+    return Path(tmp_name)
+
+
+def refuse_unwritable(folder: str | Path) -> None:
+    """Refuse, before any work, an existing folder that no file can be written into (no permission, read-only, /sys).
+
+    Tried, not guessed from permission bits (root passes those everywhere): a temporary file is made and removed.
+    """
+    _temporary_in(Path(folder), "probe").unlink()
+
+
 @contextlib.contextmanager
 def atomic_path(path: str | Path, *, overwrite: bool = False):
     """Yield a temporary path beside ``path``; on success rename it to ``path``.
@@ -87,12 +105,7 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise InputError(f"{folder}: folder does not exist; create it first or choose another path")
-    try:
-        fd, tmp_name = tempfile.mkstemp(prefix=f".tmp-{path.name}.", dir=folder)
-    except OSError as exc:
-        raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno or 0, 'choose another folder')}") from None
-    os.close(fd)
-    tmp = Path(tmp_name)
+    tmp = _temporary_in(folder, path.name)
     try:
         yield tmp
         with open(tmp, "rb+") as fh:

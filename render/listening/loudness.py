@@ -81,8 +81,13 @@ def match_loudness(signals, *, sample_rate: int, target_lufs: float = -23.0, cei
         if not np.all(np.isfinite(x)):
             raise InputError(f"{name}: the render holds NaN or infinite samples; check the design with `render check`")
         lufs = integrated_loudness(x, sample_rate=sample_rate)
+        if lufs is None and x.size < round(0.4 * sample_rate):
+            raise InputError(f"{name}: no loudness: the render is shorter than one 400 ms block; render a longer clip")
         if lufs is None:
-            raise InputError(f"{name}: no loudness: the render is silent or shorter than one 400 ms block; render a longer clip or a dry signal that plays in that span")
+            raise InputError(
+                f"{name}: no loudness: the render is silent (under BS.1770-4's -70 LUFS gate): no string signal reaches the output;"
+                " `render check` the design (coils that cancel each other: check signal_polarity; the rig's volume at 0) or use a dry signal that plays"
+            )
         measured.append(lufs)
         peaks.append(true_peak_dbtp(x))
     some, lowered = ceiling_gains(measured, peaks, target_lufs=target_lufs, ceiling_dbtp=ceiling_dbtp)

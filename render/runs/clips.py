@@ -382,6 +382,7 @@ def worker_tasks(designs: Sequence[Design], extra: list | None, jobs: int) -> li
     return [[i] for i in own] + [[rest[k] for k in r] for r in runs]
 
 
+GIVEN_TWICE = "this design file is given twice; give each design once"
 SHARED_STEM = "two design files share a name; their clips would overwrite each other: rename one"
 PASSIVE_STEM = "one design's file is named as the other's passive reference clip (<name>-passive); they would overwrite each other: rename one"
 
@@ -394,6 +395,8 @@ def check_stems(designs: Sequence[Design], compare: Any = None) -> None:
     seen: dict[str, str] = {}
     for d in designs:
         stem, shown = d.stem, (d.source if not d.changes else d.name) or d.name  # a changed design (render.with_values) is named by its name
+        if stem in seen and (seen[stem] == shown or (d.source and not d.changes and Path(seen[stem]).resolve() == Path(d.source).resolve())):
+            raise ArgumentError("designs", f"{shown}", GIVEN_TWICE, cli=f"{shown}: {GIVEN_TWICE}")
         if stem in seen:
             raise ArgumentError("designs", f"{seen[stem]}, {shown}", SHARED_STEM, cli=f"{seen[stem]}, {shown}: {SHARED_STEM}")
         seen[stem] = shown

@@ -124,6 +124,9 @@ class WatchRun:
             if not s.path.is_file():
                 raise InputError(f"{s.path}: no such design file")
         stems = [s.path.stem for s in self.slots]
+        paths = [s.path.resolve() for s in self.slots]
+        if len(set(paths)) != len(paths):
+            raise InputError(f"{next(p for p in paths if paths.count(p) > 1)}: this design file is given twice; give each design once")
         if len(set(stems)) != len(stems):
             raise InputError("two design files share a name; rename one so the page can tell them apart")
         self.settings = settings or RenderSettings()

@@ -150,6 +150,19 @@ def test_an_output_file_that_is_a_folder_or_inside_a_file(here):
     assert refused(["clips", REF, "--out", "afile/run"]) == "--out=afile/run: afile is a file, not a folder; choose another path"
 
 
+def test_an_output_folder_with_no_clips_is_refused(here):
+    assert refused(["bias", REF, "--no-clips", "--out", "run"], left=[here / "run"]) == "--out=run: --no-clips writes no folder; drop --out, or --no-clips to write the clips there"
+
+
+def test_an_output_file_in_a_folder_that_cannot_be_written_is_refused_before_the_work(here):
+    # tried with a file made and removed (permission bits would pass root everywhere); Linux's sysfs takes no new files
+    if not Path("/sys/kernel").is_dir():
+        pytest.skip("needs Linux's /sys, a folder no file can be made in")
+    line = refused(["noise", REF, "--json", "/sys/x.json"])
+    assert line.startswith("--json=/sys/x.json: /sys: cannot write here (") and line.endswith("choose another folder"), line
+    assert not any(p.name.startswith(".tmp-") for p in Path("/sys").iterdir())
+
+
 @pytest.mark.parametrize("command", [["clips", REF], ["bias", REF], ["blind", REF, REF], ["hum", REF], ["fit", FIT]], ids=lambda a: a[0])
 def test_an_output_folder_that_is_a_file(here, command):
     assert refused([*command, "--out", "afile"], left=[here / "outputs"]) == "--out=afile: is a file; give a folder"
@@ -234,7 +247,7 @@ def test_score_refuses_a_plot_it_cannot_write(here):
         for t in key["trials"]:
             log.record({"trial": t["index"], "answer": t["x"]})
     line = refused(["score", paths.root, "--png", "/proc/difference.png"], left=[paths.results])
-    assert line.startswith("/proc: cannot write here (") and line.endswith("); choose another folder"), line
+    assert line.startswith("--png=/proc/difference.png: /proc: cannot write here (") and line.endswith("); choose another folder"), line
 
 
 @pytest.mark.parametrize(

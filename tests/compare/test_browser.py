@@ -674,3 +674,33 @@ if __name__ == "__main__" and "--screenshot" in sys.argv:
     target = Path(sys.argv[sys.argv.index("--screenshot") + 1])
     save_screenshot(target)
     print(f"wrote {target} ({target.stat().st_size} bytes)")
+
+
+def test_every_design_past_the_tenth_is_reached_by_key(chromium, tmp_path):
+    """Digits reach the first ten designs; "." and "," step through all of them, wrapping (eleven designs here)."""
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    source = (ROOT / "models" / "studio-reference.toml").read_text()
+    designs = []
+    for k in range(11):
+        path = tmp_path / f"take-{k + 1:02d}.toml"
+        path.write_text(source)
+        designs.append(str(path))
+    out = tmp_path / "run"
+    args = ["clips", *designs, "--dry", str(PHRASE), "--seconds", "0.5", "--no-plots", "--no-hum", "--out", str(out)]
+    res = CliRunner().invoke(main, args, catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    picked = lambda: int(page.get_attribute("body", "data-picked"))  # noqa: E731
+    page.keyboard.press("0")
+    assert picked() == 9
+    page.keyboard.press(".")
+    assert picked() == 10  # the eleventh, which has no digit
+    page.keyboard.press(".")
+    assert picked() == 0  # wraps to the first
+    page.keyboard.press(",")
+    assert picked() == 10  # and back
+    assert ". and ," in page.inner_text(".hint")
+    assert errors == []

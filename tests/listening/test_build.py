@@ -113,7 +113,9 @@ def test_every_written_clip_keeps_its_true_peak_under_the_ceiling_by_an_independ
 
 
 def test_silent_short_or_broken_renders_are_refused():
-    with pytest.raises(InputError, match=r"^quiet: no loudness: the render is silent or shorter than one 400 ms block"):
+    with pytest.raises(
+        InputError, match=r"^quiet: no loudness: the render is silent \(under BS\.1770-4's -70 LUFS gate\): no string signal reaches the output; `render check` the design \(coils that cancel"
+    ):
         match_loudness([np.zeros(SR), tone(440, 0.1)], sample_rate=SR, names=["quiet", "ok"])
     with pytest.raises(InputError, match=r"shorter than one 400 ms block"):
         match_loudness([tone(440, 0.1, 0.2), tone(440, 0.1, 0.2)], sample_rate=SR)

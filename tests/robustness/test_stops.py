@@ -172,6 +172,7 @@ def test_a_stopped_run_leaves_no_process_and_no_partial_file(tmp_path, command, 
     assert _expect_code(code, sig, finished_early), (code, err)
     if sig != signal.SIGKILL and code == 1:
         assert "Aborted!" in err and "Traceback" not in err, err
+        assert err.splitlines()[-1] == "Aborted!" and "" not in err.splitlines(), err  # README: "one line `Aborted!`", no empty line before it
         # README: "A stopped run removes its temporary files" (only SIGKILL leaves them), in its folder and beside it
         assert [p.name for p in tmp_path.rglob(".tmp-*")] == []
     _check_folder(out, finished=finished_early)

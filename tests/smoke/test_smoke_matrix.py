@@ -85,7 +85,7 @@ RIG_REFUSALS = {
     **{(p.stem, "fit"): "no design met every aim" for p in [*MODEL_FILES, *EDGES]},
     # the string signal cancels and the hum left (38 µV peak at the amp input) lies under BS.1770-4's absolute
     # gate of -70 LUFS on blind's 1 V full scale: nothing to match loudness on (without the rig, 958 µV is above it)
-    ("edge-reversed-same-point", "blind"): "the render is silent or shorter than one 400 ms block",
+    ("edge-reversed-same-point", "blind"): "the render is silent (under BS.1770-4's -70 LUFS gate): no string signal reaches the output",
 }
 # the designs that also render bias, fit, unvoice and blind with each rig: coils with a geometry, a matched
 # pair (exact cancellation) and a pair that cancels the string signal

@@ -192,6 +192,10 @@
   const entries = () => S.data.designs;
   const COMPARE_KEY = "c"; // picks the comparison pickup (--compare), whatever its place: 1-9 and 0 are the designs'
   const compareIndex = () => entries().findIndex((d) => d.role === "compare");
+  // step through every entry in page order, wrapping at the ends: how designs past the tenth are reached by key
+  const NEXT_KEY = ".";
+  const PREVIOUS_KEY = ",";
+  function stepDesign(by) { const n = entries().length; pickDesign((((S.picked + by) % n) + n) % n); }
   // the key that picks entry i: a digit for the first ten designs, COMPARE_KEY for the comparison pickup
   function keyOf(i) { return entries()[i].role === "compare" ? COMPARE_KEY : i < 10 ? String((i + 1) % 10) : ""; }
   function heardEntry() { const d = entries()[S.picked]; return S.useBefore && d.before ? d.before : d; }
@@ -782,6 +786,7 @@
         const i = ev.key === "0" ? 9 : Number(ev.key) - 1;
         if (i < entries().length && entries()[i].role !== "compare") action = () => pickDesign(i);
       } else if (ev.key.toLowerCase() === COMPARE_KEY && compareIndex() >= 0) action = () => pickDesign(compareIndex());
+      else if (ev.key === NEXT_KEY || ev.key === PREVIOUS_KEY) action = () => stepDesign(ev.key === NEXT_KEY ? 1 : -1);
       else if (ev.key === " " && !keepsSpace(t)) action = togglePlay;
       else if ((ev.key === "b" || ev.key === "B") && S.data.live) action = flipBefore;
       if (!action) return;
