@@ -389,13 +389,24 @@ def load_phrase(path: str | Path) -> Phrase:
     InputError
         One line naming the file, table, ``key=value`` and the constraint.
     """
+    return read_phrase(path)[0]
+
+
+def read_phrase(path: str | Path) -> tuple[Phrase, str]:
+    """:func:`load_phrase`, and the SHA-256 (hex) of the very bytes the phrase was parsed from.
+
+    Raises
+    ------
+    InputError
+        As :func:`load_phrase`.
+    """
     from ..arguments import path as path_arg
+    from ..io.hashing import sha256_bytes
     from ..io.toml import read_toml
 
     path = path_arg("path", path, what="a phrase file's path (.toml)")
-    name = str(path)
-    data, _ = read_toml(path, limit=MAX_PHRASE_BYTES, what="a phrase file", missing="give the path of a phrase file (.toml)")
-    return parse_phrase(data, source=name)
+    data, raw = read_toml(path, limit=MAX_PHRASE_BYTES, what="a phrase file", missing="give the path of a phrase file (.toml)")
+    return parse_phrase(data, source=str(path)), sha256_bytes(raw)
 
 
 def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:

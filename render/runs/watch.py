@@ -36,6 +36,7 @@ if TYPE_CHECKING:
 
 WATCH_STEP_MS = 30  # a burst of file events is handed over once quiet this long (ms)
 WATCH_DEBOUNCE_MS = 500  # ... or after this long at most (ms)
+WATCH_QUIET_MS = 250  # with no event this long the watcher hands over an empty burst (ms): the first is when a save made before it was armed is looked for
 
 
 @dataclass(frozen=True)
@@ -163,21 +164,32 @@ class WatchRun:
 
     # -- loading -------------------------------------------------------------------
 
+    # Each loader records the SHA-256 of the bytes it parsed, not of the file as it is a moment
+    # before or after: a save in between then differs from what was rendered, and is rendered.
+
     def _load_rig(self) -> None:
         from ..design import load_rig
 
         self._rig = load_rig(self.rig_path) if self.rig_path is not None else None
+        if self._rig is not None and self.rig_path is not None:
+            self._input_sha[self.rig_path] = self._rig.sha256
 
     def _load_dry(self) -> None:
-        from ..dry import load_phrase
+        from ..dry.phrase import read_phrase
 
-        self._phrase = load_phrase(self.dry_path) if self.is_phrase else None
+        if self.is_phrase:
+            self._phrase, self._input_sha[self.dry_path] = read_phrase(self.dry_path)
+        else:
+            self._phrase = None
+            self._input_sha[self.dry_path] = _sha(self.dry_path)  # a recording, hashed before it is read
         self._recorded.clear()
 
     def _load_design(self, slot: _Slot):
         from ..design import apply_rig, load_design
 
-        return apply_rig(load_design(slot.path), self._rig)
+        design = load_design(slot.path)
+        self._input_sha[slot.path] = design.sha256
+        return apply_rig(design, self._rig)
 
     def _dry_for(self, design):
         from .dry_input import dry_for
@@ -246,14 +258,12 @@ class WatchRun:
         from .clips import choose_full_scale
 
         t0 = time.perf_counter()
-        for p in self.files:
-            self._input_sha[p] = _sha(p)
         self._load_rig()
         self._load_dry()
         made = []
         for slot in self.slots:
-            slot.sha256 = self._input_sha[slot.path]
             slot.design = self._load_design(slot)
+            slot.sha256 = self._input_sha[slot.path]
             self._input_sha.update(_read_files(slot.design))  # the bytes the design read, not those on disk now
             t = time.perf_counter()
             volts, page_clip, m = self._render(slot.design)
@@ -411,11 +421,17 @@ class WatchRun:
         """The live page's HTML (its data comes from the server's /api/state)."""
         from ..compare.page import page_html
 
-        return page_html({"format": 1, "live": True, "title": f"render watch: {len(self.slots)} designs"}, clips_file=None)
+        n = len(self.slots)
+        return page_html({"format": 1, "live": True, "title": f"render watch: {n} design{'s' if n != 1 else ''}"}, clips_file=None)
 
 
 def follow_changes(run: WatchRun, *, notify: Callable[[str], None], stop=None, step_ms: int = WATCH_STEP_MS, debounce_ms: int = WATCH_DEBOUNCE_MS) -> None:
     """Watch ``run``'s files and refresh it on every burst of changes, until ``stop`` is set or Ctrl-C.
+
+    A save made before the watcher is armed (while the first render runs, or
+    while the watcher starts again on a new folder) raises no event: once
+    armed, every file is compared with the bytes last rendered (their SHA-256),
+    and a difference renders again as a save would.
 
     ``stop``: anything with ``is_set()`` (a :class:`threading.Event`); the
     watcher checks it every ``step_ms``. Ctrl-C (and SIGTERM or SIGHUP, which
@@ -432,10 +448,17 @@ def follow_changes(run: WatchRun, *, notify: Callable[[str], None], stop=None, s
 
     while True:
         watching = folders()
-        changes_seen = watch(*watching, watch_filter=wanted, step=step_ms, debounce=debounce_ms, stop_event=stop, recursive=False, raise_interrupt=True, rust_timeout=1000)
+        changes_seen = watch(
+            *watching, watch_filter=wanted, step=step_ms, debounce=debounce_ms, stop_event=stop, recursive=False, raise_interrupt=True, rust_timeout=WATCH_QUIET_MS, yield_on_timeout=True
+        )
+        armed = False
         try:
-            for changes in changes_seen:
-                result = run.refresh(path for _, path in changes)
+            for changes in changes_seen:  # the first burst, or the empty one after WATCH_QUIET_MS: armed by now
+                paths = [path for _, path in changes]
+                if not armed:  # what was saved before: the SHA-256 comparison finds it (nothing to do when none changed)
+                    paths += [str(p) for p in run.files]
+                    armed = True
+                result = run.refresh(paths) if paths else None
                 if result is not None:
                     for line in result.lines:
                         notify(line)

@@ -246,12 +246,9 @@ def test_the_watcher_follows_saves_on_disk(run, inputs):
     follower = threading.Thread(target=follow_changes, args=(run,), kwargs={"notify": lines.append, "stop": stop}, daemon=True)
     follower.start()
     try:
-        # the watcher needs a moment to start; on a loaded machine a save made before it watches
-        # is not seen, so the save is repeated (same bytes) until it is
-        deadline = time.monotonic() + 60
-        while run.board.version < 2 and time.monotonic() < deadline:
-            set_value(inputs["ember-dark"], "load_c", "5.6nF")
-            _wait(lambda: run.board.version >= 2, 2.0)
+        # one save, whether the watcher is armed yet or not (test_a_save_during_the_first_render_is_rendered_once_watching)
+        set_value(inputs["ember-dark"], "load_c", "5.6nF")
+        _wait(lambda: run.board.version >= 2, 30.0)
         # the lines are printed just after the version is published
         _wait(lambda: any("ember-dark.toml: version 2" in x for x in lines), 10.0)
         assert versions(run) == [1, 2], lines
@@ -266,6 +263,76 @@ def test_the_watcher_follows_saves_on_disk(run, inputs):
         stop.set()
         follower.join(timeout=10)
     assert not follower.is_alive()
+
+
+def _save_while_rendering(monkeypatch, path: Path, key: str, value: str) -> list[str]:
+    """Make the first render of ``path``'s design save ``key = value`` into that file, mid-render (after its file was
+    read, before the watcher exists); the list returned gets the design's name when the save is made."""
+    original = WatchRun._render
+    saved: list[str] = []
+
+    def render_and_save(self, design):
+        if not saved and design.source == str(path):
+            set_value(path, key, value)
+            saved.append(design.name)
+        return original(self, design)
+
+    monkeypatch.setattr(WatchRun, "_render", render_and_save)
+    return saved
+
+
+def test_a_save_during_the_first_render_is_rendered_once_watching(inputs, monkeypatch):
+    # the command renders everything, then arms the watcher: a save in between raises no event the watcher sees,
+    # so once armed it compares every file with the bytes rendered, and renders the one that differs (one save)
+    saved = _save_while_rendering(monkeypatch, inputs["studio-reference"], "load_c", "1n5")
+    run = WatchRun([inputs["studio-reference"], inputs["ember-dark"]], dry=inputs["phrase"], settings=SETTINGS)
+    run.start()
+    assert saved == ["studio-reference"] and versions(run) == [1, 1]
+    assert ["input_a.load_c", "3.9 nF"] in run.state()[0]["designs"][0]["values"]  # what was read before the save
+    stop = threading.Event()
+    lines: list[str] = []
+    follower = threading.Thread(target=follow_changes, args=(run,), kwargs={"notify": lines.append, "stop": stop}, daemon=True)
+    follower.start()
+    try:
+        _wait(lambda: any("studio-reference.toml: version 2" in x for x in lines), 20.0)
+    finally:
+        stop.set()
+        follower.join(timeout=10)
+    assert not follower.is_alive()
+    assert versions(run) == [2, 1] and run.board.version == 2, lines
+    state = run.state()[0]
+    assert ["input_a.load_c", "1.5 nF"] in state["designs"][0]["values"] and state["designs"][0]["before"]["version"] == 1
+    assert [x for x in lines if "version" in x] == [x for x in lines if "studio-reference.toml: version 2 rendered" in x] and len(lines) == 1, lines
+
+
+def test_the_hash_recorded_is_of_the_bytes_rendered(inputs, monkeypatch):
+    # a save between hashing a file and reading it, then put back: had the hash been taken before the read,
+    # the file would match it again while the page plays the save's render
+    original_text = inputs["studio-reference"].read_text(encoding="utf-8")
+    import render.design
+
+    loads = render.design.load_design
+
+    def save_then_load(path, **kwargs):  # the save lands just before the design's file is read
+        if Path(path) == inputs["studio-reference"] and "1n5" not in inputs["studio-reference"].read_text(encoding="utf-8"):
+            set_value(inputs["studio-reference"], "load_c", "1n5")
+        return loads(path, **kwargs)
+
+    monkeypatch.setattr(render.design, "load_design", save_then_load)
+    run = WatchRun([inputs["studio-reference"]], dry=inputs["phrase"], settings=SETTINGS)
+    run.start()
+    assert ["input_a.load_c", "1.5 nF"] in run.state()[0]["designs"][0]["values"]
+    monkeypatch.setattr(render.design, "load_design", loads)
+    inputs["studio-reference"].write_text(original_text, encoding="utf-8")  # put back
+    done = run.refresh([inputs["studio-reference"]])
+    assert done is not None and done.rendered == ("studio-reference",) and versions(run) == [2]
+    assert ["input_a.load_c", "3.9 nF"] in run.state()[0]["designs"][0]["values"]
+
+
+def test_the_page_title_counts_designs_in_words(inputs):
+    one = WatchRun([inputs["studio-reference"]], dry=inputs["phrase"], settings=SETTINGS).page()
+    two = WatchRun([inputs["studio-reference"], inputs["ember-dark"]], dry=inputs["phrase"], settings=SETTINGS).page()
+    assert b"<title>render watch: 1 design</title>" in one and b"<title>render watch: 2 designs</title>" in two
 
 
 def test_watch_refuses_a_missing_file_in_one_line(tmp_path):
