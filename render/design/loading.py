@@ -123,6 +123,10 @@ def _read_hum(data: Any, *, source: str, table: str = "hum") -> Hum:
     return Hum(**values)
 
 
+# a phrase's own tables (render.dry.phrase), shown as written there, to name a phrase given where a design belongs
+PHRASE_TABLES = {"note": "[[note]]", "chord": "[[chord]]", "instrument": "[instrument]", "playing": "[playing]"}
+
+
 def parse_design(data: dict, *, source: str = "<design>", name: str | None = None, sha256: str = "", text: str = "", changes: tuple = ()) -> Design:
     """Build a :class:`Design` from parsed TOML; every error is one line.
 
@@ -131,6 +135,11 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     """
     if isinstance(data, dict) and "from" in data and ("aim" in data or "free" in data):  # render.analysis.fit's file, given where a design belongs
         raise InputError(f"{source}: an aim file for render fit (from, [aim], [free]), not a design; run render fit {source}, or give the design it starts from ({U.shown(data['from'])})")
+    phrase_table = next((t for t in PHRASE_TABLES if isinstance(data, dict) and t in data), None)
+    if phrase_table is not None and not any(t in data for t in REQUIRED_TABLES):
+        raise InputError(
+            f"{source}: this looks like a phrase file (it has a {PHRASE_TABLES[phrase_table]} table), not a design; give it with --dry, and as the design a file with [coil_a] and [coil_b] tables"
+        )
     check_document(data, source, list(DESIGN_TABLES) + list(TOP_KEYS))
     for t in REQUIRED_TABLES:
         if t not in data:

@@ -69,6 +69,8 @@ DEFAULT_TAIL = 2.0
 # (common practice, no source).
 STRUM_SPREAD = 0.25
 
+# tables every design has (render.design.schema.REQUIRED_TABLES): they name a design given where a phrase belongs
+DESIGN_MARKS = ("coil_a", "coil_b")
 TOP_KEYS = ("title", "about", "seconds", "instrument", "playing", "note", "chord")
 INSTRUMENT_KEYS = (
     "scale_length",
@@ -427,6 +429,11 @@ def parse_phrase(data: dict, *, source: str = "<phrase>") -> Phrase:
     top = Where(source, "")
     if not isinstance(data, dict):
         raise InputError(f"{source}: expected a TOML document with [instrument], [[note]] and [[chord]] tables")
+    design_table = next((t for t in DESIGN_MARKS if t in data), None)
+    if design_table is not None:
+        raise InputError(
+            f"{source}: this looks like a design file (it has a [{design_table}] table), not a phrase; give it as a design, and as the phrase a file with [instrument], [[note]] or [[chord]] tables"
+        )
     check_keys(top, data, TOP_KEYS)
     title = data.get("title", Path(source).stem if source != "<phrase>" else "phrase")
     about = data.get("about", "")

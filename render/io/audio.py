@@ -120,6 +120,16 @@ def too_short(name: str, info: AudioInfo, min_seconds: float, needed_for: str) -
     return InputError(f"{name}: too short: {info.seconds * 1e3:.4g} ms ({n} at {info.sample_rate} Hz); at least {min_seconds:g} s is needed {needed_for}; give a longer recording")
 
 
+def _reads_like_phrase(p: Path) -> bool:
+    """Whether a text file holds a phrase's tables (render.dry.phrase): a phrase saved under an audio name."""
+    try:
+        with open(p, "rb") as fh:
+            head = fh.read(65536)
+    except OSError:
+        return False
+    return any(t in head for t in (b"[[note]]", b"[[chord]]", b"[instrument]"))
+
+
 def audio_info(path: str | Path, *, max_seconds: float | None = None, max_channels: int = 2) -> AudioInfo:
     """What a usable audio file holds; InputError (one line) if it cannot be used.
 
@@ -156,7 +166,7 @@ def audio_info(path: str | Path, *, max_seconds: float | None = None, max_channe
         if text and p.suffix.lower() == ".toml":
             hint = "; it is a TOML file (a design or phrase), not a recording: check the order of the arguments"
         else:
-            hint = "; it holds text, and a phrase file must end in .toml" if text else ""
+            hint = ("; it holds text, not audio, and reads like a phrase: a phrase file's name ends in .toml" if _reads_like_phrase(p) else "; it holds text, not audio") if text else ""
         raise InputError(f"{name}: cannot be read as audio ({_reason(e)}); convert it to WAV or FLAC{hint}") from None
     channels, rate, frames = int(info.channels), int(info.samplerate), int(info.frames)
     if channels > max_channels:

@@ -15,7 +15,7 @@ from render.errors import InputError
 from render.io.audio import AudioInfo, audio_info
 from render.io.wav import float_wav_bytes
 
-from .conftest import DARK, REF, assert_refused, check_outputs, run
+from .conftest import DARK, PHRASE, REF, assert_refused, check_outputs, run
 
 FS = 48000
 
@@ -113,8 +113,21 @@ def test_a_damaged_flac_is_refused_in_one_line(tmp_path, monkeypatch, how, strea
 def test_text_named_wav_is_refused_with_a_hint(tmp_path):
     path = tmp_path / "take1.wav"
     path.write_text('title = "my riff"\n[[note]]\ntime = 0\nstring = 6\nfret = 0\n', encoding="utf-8")
-    assert_refused(clips(path, tmp_path / "out", "--seconds", 0.2), "convert it to WAV or FLAC; it holds text, and a phrase file must end in .toml")
+    assert_refused(clips(path, tmp_path / "out", "--seconds", 0.2), "convert it to WAV or FLAC; it holds text, not audio, and reads like a phrase: a phrase file's name ends in .toml")
     nothing_written(tmp_path / "out")
+    notes = tmp_path / "notes.wav"  # text that is no phrase: no word of phrases
+    notes.write_text("a take from Tuesday\n", encoding="utf-8")
+    assert_refused(run("unvoice", notes, REF, "--out", tmp_path / "v.wav"), f"Error: DI={notes}: cannot be read as audio (")
+    res = run("unvoice", notes, REF, "--out", tmp_path / "v.wav")
+    assert res.stderr.strip().endswith("convert it to WAV or FLAC; it holds text, not audio"), res.stderr
+
+
+def test_a_design_and_a_phrase_given_in_each_others_place_are_named(tmp_path):
+    phrase = PHRASE
+    line = assert_refused(run("check", phrase), "this looks like a phrase file (it has a [[note]] table), not a design")
+    assert line.endswith("give it with --dry, and as the design a file with [coil_a] and [coil_b] tables")
+    line = assert_refused(run("dry", REF, "--out", tmp_path / "d.wav"), "this looks like a design file (it has a [coil_a] table), not a phrase")
+    assert not (tmp_path / "d.wav").exists()
 
 
 @pytest.mark.parametrize("value, shown", [(np.nan, "nan"), (np.inf, "inf"), (-np.inf, "-inf")])
@@ -187,3 +200,10 @@ def test_implausible_velocities_are_rendered_with_a_warning(tmp_path):
     assert res.exit_code == 0, res.output
     assert "peak string velocity 1e+30 m/s (sample × velocity_scale=1) is far beyond a plucked string's few m/s" in res.stderr
     check_outputs(tmp_path / "out", frames=int(0.2 * FS))
+
+
+def test_the_design_marks_a_phrase_looks_for_are_tables_every_design_has():
+    from render.design.schema import REQUIRED_TABLES
+    from render.dry.phrase import DESIGN_MARKS
+
+    assert set(DESIGN_MARKS) <= set(REQUIRED_TABLES)
