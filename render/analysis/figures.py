@@ -28,7 +28,10 @@ string velocity (the same at both sensing points) to the amp input:
 - ``hum_rejection_db``: 20·log10(max(|V_A|, |V_B|)/|V_A + V_B|) at the
   mains fundamental, V_A and V_B the hum at the amp input from each coil's
   hum EMF alone (from the rig's hum sources in space when it has them,
-  :mod:`render.magnetics.pickup`).
+  :mod:`render.magnetics.pickup`). A room without hum at the fundamental
+  (a field profile or sources that lack it) is quoted at its lowest harmonic
+  with hum, the rule of ``render hum`` (:func:`render.analysis.hum_harmonics.quoted_harmonic`);
+  ``hum_rejection_harmonic`` names it (1 for the fundamental).
 - ``headroom_v``: the smaller of ``headroom_up_v`` and ``headroom_down_v``.
 - ``cable_loss_db``: |H(5 kHz)| without the cable minus with it, in dB.
 
@@ -189,6 +192,29 @@ def hum_rejection_db(resp, frequency_hz) -> np.ndarray:
     return out
 
 
+def _quoted_rejection(designs, resp) -> tuple[np.ndarray, list[int | None], list[str | None]]:
+    """Each design's rejection (dB) at the harmonic it quotes, that harmonic (1-based), and why there is none.
+
+    The harmonic is the lowest with hum in the design's room (:func:`render.analysis.hum_harmonics.quoted_harmonic`,
+    the rule of ``render hum``): the fundamental unless its field or every source lacks it. Where no
+    harmonic has hum the harmonic is None and the reason is given.
+    """
+    from ..magnetics.pickup import design_emf
+    from .hum_harmonics import absent_harmonics, quoted_harmonic
+
+    emf = [design_emf(d).total if d.hum.sources else None for d in designs]  # (2, H) each, with sources in space
+    absent = [absent_harmonics(d, emf=e) for d, e in zip(designs, emf)]
+    at = [quoted_harmonic(a) for a in absent]
+    freq = np.array([d.hum.mains * (1 + (k or 0)) for d, k in zip(designs, at)])
+    rej = hum_rejection_db(resp, freq)
+    no_hum: list[str | None] = [None if k is not None else U.NOTHING_LINKS for k in at]
+    for i, e in enumerate(emf):
+        if e is not None and at[i] is not None:  # sources in space: each coil's own EMF at the quoted harmonic
+            ek = e[:, at[i]]
+            rej[i] = rejection_db(resp.from_a()(freq[i])[i, 0] * ek[0], resp.from_b()(freq[i])[i, 0] * ek[1])
+    return rej, [None if k is None else k + 1 for k in at], no_hum
+
+
 def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
     """The one-number figures of each design (its rig applied), as plain dicts.
 
@@ -205,7 +231,9 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
         One per design, in order; among its keys: ``level_1k_db`` (dB re 1 V per m/s); the resonance
         ``peak_hz`` (Hz), ``peak_db`` (dB above ``level_1k_db``, as ``render check`` prints it) and ``q``;
         ``bass_corner_hz`` and ``treble_corner_hz`` (Hz); ``gain_vs_passive_db`` (dB, ``level_1k_db`` minus the
-        passive reference's); ``hum_rejection_db`` (dB, at the mains fundamental); ``bias_v``,
+        passive reference's); ``hum_rejection_db`` (dB, at the mains fundamental, or at the lowest harmonic
+        with hum when the room has none there) and ``hum_rejection_harmonic`` (that harmonic, 1 for the
+        fundamental; None where no harmonic has hum); ``bias_v``,
         ``headroom_up_v``, ``headroom_down_v`` and ``headroom_v`` (V); ``cable_loss_db``, the cable's loss at 5 kHz (dB);
         ``output_impedance_1k_ohm`` and ``output_impedance_10k_ohm`` (Ω); and ``passive``, the same
         response figures of the design's passive reference. An undefined figure is None, with the
@@ -223,16 +251,7 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
     with np.errstate(divide="ignore", invalid="ignore"):  # a silent response's figures are replaced by reasons below
         fig = response_figures(db(vel(f)), f)
         pfig = response_figures(db(pvel(f)), f)
-    mains = np.array([d.hum.mains for d in designs])
-    rej = hum_rejection_db(resp, mains)
-    no_hum: list[str | None] = [None] * len(designs)
-    for i, d in enumerate(designs):
-        if d.hum.sources:  # sources in space: each coil's own EMF at the fundamental
-            from ..magnetics.pickup import design_emf
-
-            e = design_emf(d).total[:, 0]
-            rej[i] = rejection_db(resp.from_a()(d.hum.mains)[i, 0] * e[0], resp.from_b()(d.hum.mains)[i, 0] * e[1])
-            no_hum[i] = U.unlinked(e[0], e[1])  # no source's hum at the fundamental: nothing to reject, not an exact cancellation
+    rej, quoted, no_hum = _quoted_rejection(designs, resp)
     h5 = np.abs(vel(5000.0)[:, 0])
     h5nc = np.abs(resp_nc.velocity()(5000.0)[:, 0])
     hp5 = np.abs(pvel(5000.0)[:, 0])
@@ -258,6 +277,7 @@ def figures(designs, *, resp=None, resp_no_cable=None) -> list[dict]:
             U.mark(row, "hum_rejection_db", U.HUM_CANCELS)
         else:
             U.put(row, "hum_rejection_db", rej[i], U.HUM_CANCELS)
+        row["hum_rejection_harmonic"] = quoted[i]
         row["bias_v"] = d.bias_v
         row["headroom_up_v"] = d.headroom_up_v
         row["headroom_down_v"] = d.headroom_down_v

@@ -24,6 +24,7 @@ import numpy as np
 from ..circuit.engine import responses
 from ..circuit.params import Params, from_designs
 from .harmonics import harmonic_amplitudes
+from .hum_harmonics import absent_harmonics, field_derivative, quoted_harmonic  # noqa: F401  (their home; imported from here too)
 
 # Reference string signal for the signal-to-hum ratio: a sine of this peak
 # velocity at this frequency at both sensing points (our own reference: a
@@ -56,17 +57,6 @@ def check_tolerances(tolerances) -> dict:
         if not 0 <= x <= TOLERANCE_MAX:
             raise ArgumentError(name, shown(v), f"{TOLERANCE_RANGE}{hint}", option=f"--tolerance-{cls}")
     return {cls: float(v) for cls, v in tolerances.items()}
-
-
-def field_derivative(hum):
-    """Frequencies (Hz) and peak dB/dt (T/s) of each harmonic of the field.
-
-    B_h(t) = field · a_h · sin(2π h f t) gives dB_h/dt of peak
-    field · a_h · 2π h f (Faraday's law then multiplies by turns × area).
-    """
-    h = np.arange(1, len(hum.harmonics) + 1)
-    f = h * hum.mains
-    return f, np.asarray(hum.harmonics) * hum.field * 2 * np.pi * f
 
 
 # What each number in the hum JSON is (``units``): amplitudes are peak unless the key says rms.
@@ -177,6 +167,11 @@ def hum_table(design, resp=None) -> dict:
     if sv is not None:
         table["sources"] = [source_record(j, s, sv.linkage_wb) for j, s in enumerate(sv.sources)]
         table["warnings"] = list(sv.warnings)
+    else:  # a uniform field: only the coils' areas can be unbacked (sources in space add the point-coil line)
+        from ..magnetics.pickup import area_mismatch_warnings
+
+        if mismatch := area_mismatch_warnings(design):
+            table["warnings"] = list(mismatch)
     return table
 
 
@@ -329,7 +324,7 @@ class MonteCarlo:
         dB of rejection at harmonic ``sensitivity_at`` per +1 % on each part alone, largest first (a
         reason in words where the change has no finite size)
     absent : tuple of (str or None), one per harmonic
-        Why a harmonic has no hum in the design's room (:func:`absent_harmonics`), None where it has some:
+        Why a harmonic has no hum in the design's room (:func:`.hum_harmonics.absent_harmonics`), None where it has some:
         its rejection has no value in any draw, and :meth:`summary` gives the reason.
     sensitivity_at : int or None
         Index of the harmonic ``sensitivity`` (and ``render hum --histogram``) refer to: the lowest with
@@ -431,28 +426,9 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
 
     out = np.concatenate(pmap(_mc_chunk, tasks, jobs), axis=0)
     absent = absent_harmonics(design)
-    at = next((i for i, why in enumerate(absent) if why is None), None)
+    at = quoted_harmonic(absent)
     sens = [] if at is None else sensitivities(design, f, harmonic=at)
     return MonteCarlo(f, out, tol, trials, seed, sens, absent=absent, sensitivity_at=at)
-
-
-def absent_harmonics(design) -> tuple[str | None, ...]:
-    """Per mains harmonic of ``design``'s room, why it has no hum (in words), or None where it has some.
-
-    Without sources: the field's harmonic is zero (:data:`~render.analysis.undefined.NO_FIELD`). With
-    ``[[hum.source]]`` tables: no source's EMF reaches either coil at it (``NO_LINKAGE``), for a source
-    whose profile lacks it or one that links neither coil. A harmonic whose hum the coils cancel exactly
-    is not absent: its hum exists in each coil.
-    """
-    from . import undefined as U
-
-    if not design.hum.sources:
-        _, dbdt = field_derivative(design.hum)
-        return tuple(U.NO_FIELD if d == 0 else None for d in dbdt)
-    from ..magnetics.pickup import design_emf
-
-    e = design_emf(design).total  # (2, H)
-    return tuple(U.unlinked(e[0, i], e[1, i]) for i in range(e.shape[1]))
 
 
 def sensitivities(design, frequency_hz, *, harmonic: int = 0) -> list[tuple[str, float | str]]:

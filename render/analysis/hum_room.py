@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..magnetics.pickup import hum_polarities, placed_coils, point_coil_warnings
+from ..magnetics.pickup import area_mismatch_warnings, hum_polarities, placed_coils, point_coil_warnings
 from ..magnetics.rejection import (
     DEFAULT_BEARINGS_DEG,
     DEFAULT_DISTANCES_M,
@@ -182,10 +182,11 @@ def check_room(design, *, map_on: bool, plane: str = "xy", bearings_deg=None, po
 
 
 def room_warnings(design, *, rig=None) -> tuple[str, ...]:
-    """The point-coil warning for a map or random places (both put dipoles near the pickup)."""
+    """The point-coil warning for a map or random places (both put dipoles near the pickup), and the coils' area mismatch."""
     from ..design import apply_rig
 
-    return point_coil_warnings(apply_rig(design, rig), dipoles=True)
+    d = apply_rig(design, rig)
+    return point_coil_warnings(d, dipoles=True) + area_mismatch_warnings(d)
 
 
 def map_record(m: RejectionMap) -> dict:

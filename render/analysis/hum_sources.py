@@ -28,7 +28,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..magnetics.pickup import design_emf, hum_polarities, placed_coils, point_coil_warnings, room_sources, through
+from ..magnetics.pickup import area_mismatch_warnings, design_emf, hum_polarities, placed_coils, point_coil_warnings, room_sources, through
 from .figures import rejection_db
 from .undefined import REJECTION_CAP_DB, SOURCE_EXACT, SOURCE_NO_HUM, net_hum
 
@@ -92,7 +92,7 @@ def source_voltages(design, resp) -> SourceVoltages:
         passive=through(resp.passive_from_a(f)[0], resp.passive_from_b(f)[0], emf),
         linkage_wb=emf.linkage_wb,
         sources=emf.sources,
-        warnings=point_coil_warnings(design),
+        warnings=point_coil_warnings(design) + area_mismatch_warnings(design),
     )
 
 

@@ -115,3 +115,29 @@ def check_designs(designs, *, turns_percent: float | None = None) -> list[dict]:
         for d, rec in zip(designs, records):
             rec["turns_sweep"] = turns_table(d, turns_percent)
     return records
+
+
+def hum_warnings(design) -> tuple[str, ...]:
+    """What the hum figures of ``design`` (its rig applied) rest on that the design does not back, one line each, naming its file.
+
+    A dipole met by a coil without geometry (:func:`render.magnetics.pickup.point_coil_warnings`), one
+    coil's ``turns_area`` from its geometry and the other's entered and different
+    (:func:`~render.magnetics.pickup.area_mismatch_warnings`), and a winding whose area is far from the
+    entered one (:func:`~render.magnetics.pickup.winding_area_warnings`).
+    """
+    from ..magnetics.pickup import area_mismatch_warnings, point_coil_warnings, winding_area_warnings
+
+    return point_coil_warnings(design) + area_mismatch_warnings(design) + winding_area_warnings(design)
+
+
+def rejection_words(fig: dict, mains_hz: float) -> str:
+    """The figures' hum rejection as ``render check`` prints it, naming the harmonic it is quoted at.
+
+    fig : one design's :func:`render.analysis.figures.figures`
+    mains_hz : float, Hz, the design's mains fundamental
+    """
+    from .undefined import shown
+
+    k = fig.get("hum_rejection_harmonic")
+    at = " dB at the mains fundamental" if k in (1, None) else f" dB at H{k}, {k * mains_hz:g} Hz, the lowest harmonic with hum"
+    return shown(fig, "hum_rejection_db", ".1f", at)

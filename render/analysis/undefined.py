@@ -131,7 +131,7 @@ def shown(record: dict, key: str, spec: str, unit: str = "") -> str:
 def unlinked(emf_a: complex, emf_b: complex) -> str | None:
     """Why there is no hum at a harmonic when sources in space bring none to either coil (:data:`NO_LINKAGE`), else None.
 
-    Each coil's EMF at that harmonic; the one rule :func:`render.analysis.hum.absent_harmonics` and the
+    Each coil's EMF at that harmonic; the one rule :func:`render.analysis.hum_harmonics.absent_harmonics` and the
     figures' rejection share.
     """
     return NO_LINKAGE if emf_a == 0 and emf_b == 0 else None

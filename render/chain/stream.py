@@ -324,9 +324,10 @@ def make_plan(
         raise ValueError(f"resampler built for oversample={res.oversample}, not {R}")
     latency = path_m.delay + res.delay + out_stage.delay
     assert path_n.delay == path_m.delay and (path_hum is None or path_hum.delay == path_m.delay)
+    from ..magnetics.pickup import area_mismatch_warnings
     from ..plausible import design_warnings
 
-    warns = path_m.warnings + path_n.warnings + out_stage.warnings + (path_hum.warnings if path_hum else ()) + design_warnings(design)
+    warns = path_m.warnings + path_n.warnings + out_stage.warnings + (path_hum.warnings if path_hum else ()) + design_warnings(design) + area_mismatch_warnings(design)
     phasors = None
     if h.sources:  # sources in space: each coil's own EMF through its own path (render.magnetics.pickup)
         from ..magnetics.pickup import amp_output_phasors, point_coil_warnings

@@ -20,6 +20,7 @@ def hz(x: float, digits: int = 3) -> str:
 
 
 def print_design(rec):
+    from ..analysis.summary import rejection_words
     from ..analysis.undefined import shown
     from ..units import format_si
 
@@ -42,8 +43,7 @@ def print_design(rec):
         click.echo(f"  gain at 1 kHz     {shown(f, 'level_1k_db', '')}")
     else:
         click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {shown(f, 'gain_vs_passive_db', '+.2f', ' dB against the passive reference')}")
-    rejection = shown(f, "hum_rejection_db", ".1f", " dB at the mains fundamental")
-    click.echo(f"  hum rejection     {rejection}")
+    click.echo(f"  hum rejection     {rejection_words(f, rec['mains_hz'])}")
 
 
 def print_turns(rows, percent):
@@ -123,12 +123,14 @@ def check_command(models, rig_path, turns_percent, compare_path, json_path, over
 
     compared = comparison_of(load_compare(compare_path, rig_path))
 
+    from ..analysis.summary import hum_warnings
     from ..plausible import design_warnings
 
     for d, rec in zip(designs, records):
-        rec["warnings"] = list(design_warnings(d))  # legal but unlikely values
-        for w in rec["warnings"]:
-            warn(f"{rec['design']}: {w}")
+        own = design_warnings(d)  # legal but unlikely values; the hum lines name the file themselves
+        rec["warnings"] = [*own, *hum_warnings(d)]
+        for i, w in enumerate(rec["warnings"]):
+            warn(f"{rec['design']}: {w}" if i < len(own) else w)
     for i, (d, rec) in enumerate(zip(designs, records)):
         if i:
             click.echo()

@@ -31,10 +31,10 @@ def netlist_command(model, rig_path, out_path, overwrite):
     refuse_existing([out_path], overwrite=overwrite)
     (design,), _ = load_designs([model], rig=rig_path)
     text = netlist(design, rig_source=rig_path)
-    from ..magnetics.pickup import point_coil_warnings
+    from ..magnetics.pickup import area_mismatch_warnings, point_coil_warnings
     from .options import warn
 
-    for w in point_coil_warnings(design):  # the same approximation render hum names
+    for w in point_coil_warnings(design) + area_mismatch_warnings(design):  # the same lines render hum prints
         warn(w)
     if out_path and out_path != "-":
         from ..io.atomic import write_text

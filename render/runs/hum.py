@@ -35,7 +35,7 @@ class HumAudio:
 def _measured_row(frequency_hz, rejection_db, output_v, absent: str | None = None) -> dict:
     """One measured harmonic; an infinite or undefined rejection is None with its reason.
 
-    absent : why the room has no hum at this harmonic (:func:`render.analysis.hum.absent_harmonics`):
+    absent : why the room has no hum at this harmonic (:func:`render.analysis.hum_harmonics.absent_harmonics`):
         then what the WAV holds there is rounding, and its ratio no figure.
     """
     from ..analysis import undefined as U

@@ -156,13 +156,26 @@ def test_undefined_figures_are_words_and_null_with_a_reason(tmp_path):
     text = run("hum", BOBBIN, "--rig", rig(tmp_path, '[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n', "x.toml")).output
     assert "no hum" in text.splitlines()[3] and "total hum none (no hum: no source links either coil)" in text
     assert "cancel" not in text and "noise (no source links the coils)" in text
-    # render check's one figure says the same, not "cancels exactly"; so does a profile with no fundamental
-    # (its hum at the third harmonic is rejected, but at the fundamental there is none to reject)
-    for body in ('[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n', "harmonics = [0, 0, 1]\n" + dipole(["0.5m", "0m", "0m"], axis="[1, 0, 0]")):
-        res = run("check", BOBBIN, "--rig", rig(tmp_path, body, "c.toml"), "--json", "-")
-        assert res.exit_code == 0, res.output
-        fig = json.loads(res.stdout)["designs"][0]["figures"]
-        assert fig["hum_rejection_db"] is None and fig["hum_rejection_db_reason"].startswith("no hum: no source has this harmonic")
+    # render check's one figure says the same, not "cancels exactly"
+    res = run("check", BOBBIN, "--rig", rig(tmp_path, '[[hum.source]]\nkind = "uniform"\nfield = "1uT"\naxis = [1, 0, 0]\n', "c.toml"), "--json", "-")
+    assert res.exit_code == 0, res.output
+    fig = json.loads(res.stdout)["designs"][0]["figures"]
+    assert fig["hum_rejection_db"] is None and fig["hum_rejection_db_reason"] == "no hum: no source links either coil"
+    assert fig["hum_rejection_harmonic"] is None
+
+
+def test_check_quotes_a_source_profile_without_fundamental_at_its_lowest_harmonic_as_hum_does(tmp_path):
+    # a dipole with only a third harmonic: none to reject at the fundamental, so check quotes H3, the
+    # harmonic render hum's Monte Carlo quotes (render.analysis.hum.quoted_harmonic), with hum's own figure there
+    path = rig(tmp_path, "harmonics = [0, 0, 1]\n" + dipole(["0.5m", "0m", "0m"], axis="[1, 0, 0]"), "c.toml")
+    res = run("check", BOBBIN, "--rig", path, "--json", "-")
+    assert res.exit_code == 0, res.output
+    fig = json.loads(res.stdout)["designs"][0]["figures"]
+    hum, _ = hum_json(BOBBIN, "--rig", path)
+    assert fig["hum_rejection_harmonic"] == 3 and hum["harmonics"][0]["rejection_db"] is None
+    assert fig["hum_rejection_db"] == pytest.approx(hum["harmonics"][2]["rejection_db"], abs=1e-9)
+    text = run("check", BOBBIN, "--rig", path).output
+    assert f"hum rejection     {fig['hum_rejection_db']:.1f} dB at H3, 150 Hz, the lowest harmonic with hum" in text
 
 
 MATCHED = ROOT / "tests" / "smoke" / "designs" / "edge-matched-coils.toml"
