@@ -22,7 +22,12 @@ loop's network. These figures come from the nonlinear solve of the loop
   (extrapolating A over them would multiply it by more than e⁴).
 - :func:`burst_figures` renders a sine burst of string velocity and
   returns the harmonics over the burst's last whole periods (H2, H3, THD)
-  and the recovery after it.
+  and the recovery after it: the fit is made on the rendered output less
+  the linear circuit's output for the same burst (plus V_dc), so the offset
+  is what the limit left. An input network answers a sine that stops
+  abruptly with its own decaying tail (about A/(ωτ) of the sine's amplitude
+  A at the op-amp output): that tail is the test signal's, not clipping's,
+  and a burst that never reaches a limit reads "no offset".
 """
 
 from __future__ import annotations
@@ -60,6 +65,9 @@ def recovery_cell(row: dict) -> str:
 FIT_FROM, FIT_TO = 0.9, 0.1  # the fitted part of the decay, as fractions of the deviation after SKIP_S
 BURST_S = 0.06  # s: a 60 ms burst, as the reference checks of this model use
 AFTER_S = 0.25  # s rendered after the burst for the recovery
+# the burst's scale for its linear render (burst_figures): 1e-4 of a burst past the onset stays well inside the
+# output stage's identity part, and its output still lies ~1e8 above float64's rounding of a volt
+LINEAR_SCALE = 1e-4
 
 
 @dataclass(frozen=True)
@@ -99,7 +107,7 @@ def held_on_limit(v, *, sample_rate: float, end_s: float, limits: tuple[float, .
     return 0.0
 
 
-def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6, limits: tuple[float, ...] | None = None) -> Recovery:
+def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float = SKIP_S, floor_v: float = 1e-6, limits: tuple[float, ...] | None = None, linear=None) -> Recovery:
     """Fit the decay of ``v`` − ``dc_v`` after ``end_s`` (module text).
 
     v : array_like, V, shape (n,): the op-amp output, starting at t = 0
@@ -111,9 +119,14 @@ def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float 
     limits : (low, high), V, the output's limits, or None: where the output is held on one after the
         burst (:func:`held_on_limit`), the free decay starts when it leaves it, and the offset is
         extrapolated to then (it cannot exceed the headroom on that side)
+    linear : array_like, V, shape (n,), or None: the op-amp output the same input gives through the linear
+        circuit (no limit). The decay fitted is then ``v`` − ``linear`` + ``dc_v``, what the limit left, without
+        the linear network's own response to the burst's end; whether the output is held on a limit is read
+        from ``v`` itself
     returns : :class:`Recovery`
     """
     v = np.asarray(v, dtype=float)
+    left = v if linear is None else v - np.asarray(linear, dtype=float) + dc_v
     if limits is not None:  # a limit the output rests on is its DC point: being there is being back, not held
         limits = tuple(r for r in limits if abs(r - dc_v) > HOLD_TOL_V)
     held = held_on_limit(v, sample_rate=sample_rate, end_s=end_s, limits=limits) if limits is not None else 0.0
@@ -123,7 +136,7 @@ def recovery(v, *, sample_rate: float, end_s: float, dc_v: float, skip_s: float 
         return Recovery(None, None, 0, NO_RETURN, held)
     if start >= v.size - 2:
         raise ValueError(f"recovery: the signal ends {v.size / sample_rate:.3g} s, before {end_s + skip_s:.3g} s; render longer after the burst")
-    dev = v[start:] - dc_v
+    dev = left[start:] - dc_v
     d0 = dev[0]
     if abs(d0) < floor_v:
         return Recovery(0.0, None, 0, NO_OFFSET, held)
@@ -192,7 +205,15 @@ def burst_figures(design, *, velocity_peak: float, frequency_hz: float = 1000.0,
     b = int(round(periods * sample_rate / frequency_hz))
     figs = distortion_figures(r["out"][a:b], sample_rate=sample_rate, frequency_hz=frequency_hz)
     dc = rest_point(plan)
-    rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=dc, limits=(plan.window.low, plan.window.high))
+    # the linear circuit's output for the same burst: the burst scaled down into the output stage's identity part,
+    # where the loop is linear, and scaled back (exact for a linear system), so the recovery is what the limit left
+    # (only where the output rests in that part: resting on a knee or a limit, a small signal is not linear there)
+    linear = None
+    w = plan.window
+    if w.low + w.knee < dc < w.high - w.knee:
+        small = render_signal(design, np.stack([v, v]) * LINEAR_SCALE, sample_rate=sample_rate, hum=False, plan=plan)
+        linear = dc + (small["amp_out"] - dc) / LINEAR_SCALE
+    rec = recovery(r["amp_out"], sample_rate=sample_rate, end_s=end_s, dc_v=dc, limits=(plan.window.low, plan.window.high), linear=linear)
     out = {**figs, "frequency_hz": frequency_hz, "velocity_peak_m_per_s": velocity_peak, "burst_s": end_s, "dc_v": dc, "recovery_held_s": rec.held_s}
     U.put(out, "recovery_offset_v", rec.offset_v, rec.reason)
     U.put(out, "recovery_tau_s", rec.tau_s, rec.reason)
