@@ -204,12 +204,33 @@ def parse_quantity(value: object, kind: Kind) -> float:
         if gauss is not None:
             tesla = format_si(gauss * 1e-4, "T").replace(" ", "").replace("µ", "u")
             raise QuantityError(f'the gauss is not an SI unit (1 G = 100 µT); for {shown(value)} write "{tesla}"')
+    if kind is RATIO:  # a datasheet's open-loop gain: "100dB" or "200V/mV", refused with the plain ratio it means
+        _refuse_datasheet_gain(text)
     from .unit_habits import read_habit  # "2.2uf", "120mh": read, or refused with the fix
 
     habit = read_habit(text, kind.name, parse=lambda t: parse_quantity(t, kind), prefixes=PREFIXES, error=QuantityError)
     if habit is not None:
         return habit
     raise QuantityError(f"cannot read {shown(value)} as {_a(kind)}; write it like {example(kind)}")
+
+
+_GAIN_RE = re.compile(r"^([+-]?(?:\d+\.?\d*|\.\d+))(dB|V/mV|V/uV|V/µV|V/V)$", re.IGNORECASE)
+_GAIN_PER = {"v/mv": 1e3, "v/uv": 1e6, "v/µv": 1e6, "v/v": 1.0}
+
+
+def _refuse_datasheet_gain(text: str) -> None:
+    """Refuse a gain written as a datasheet gives it, naming the plain ratio: 20·log10 for dB, V/mV = 1000."""
+    m = _GAIN_RE.match(text)
+    if m is None:
+        return
+    x, unit = float(m.group(1)), m.group(2).lower()
+    ratio = 10 ** (x / 20) if unit == "db" else x * _GAIN_PER[unit]
+    def plain_text(x: float) -> str:
+        return f"{x:.4g}".replace("e+0", "e").replace("e+", "e")
+
+    how = f"{m.group(1)} dB is 10^({m.group(1)}/20)" if unit == "db" else f"{m.group(1)} {m.group(2)} is {m.group(1)} × {plain_text(_GAIN_PER[unit])}"
+    plain = plain_text(ratio)
+    raise QuantityError(f"a ratio is written here as a plain number, not in {m.group(2)}; {how} = {plain}, so write {plain}")
 
 
 _DIGITS_E_DIGITS_RE = re.compile(r"^(\d+)E(\d+)$")

@@ -16,6 +16,7 @@ from render.units import (
     FREQUENCY,
     INDUCTANCE,
     LENGTH,
+    RATIO,
     RESISTANCE,
     TIME,
     VOLTAGE,
@@ -341,3 +342,20 @@ def test_microvolts_takes_the_next_prefix_before_an_exponent(v, digits, text):
 def test_microvolts_never_writes_an_exponent(v, digits):
     # project rule, no outside source: any voltage from 0.1 pV to 1 kV reads without "e+"/"e-" at 3 to 5 figures (the figures used)
     assert "e" not in U.microvolts(v, digits=digits).lower().replace("µv", "").replace(" v", "")
+
+
+@pytest.mark.parametrize(
+    ("text", "fix"),
+    [
+        # a voltage gain in dB is 20·log10 of the ratio (IEC 60027-3 level of a root-power quantity): 100 dB = 1e5
+        ("100dB", "100 dB is 10^(100/20) = 1e5, so write 1e5"),
+        ("106 dB", "106 dB is 10^(106/20) = 1.995e5, so write 1.995e5"),
+        # V/mV is 1000 V/V and V/µV 1e6 V/V (SI prefixes)
+        ("200V/mV", "200 V/mV is 200 × 1000 = 2e5, so write 2e5"),
+        ("1.5V/uV", "1.5 V/uV is 1.5 × 1e6 = 1.5e6, so write 1.5e6"),
+    ],
+)
+def test_a_datasheet_gain_is_refused_with_the_plain_ratio(text, fix):
+    with pytest.raises(QuantityError) as e:
+        parse_quantity(text, RATIO)
+    assert str(e.value).endswith(fix), str(e.value)
