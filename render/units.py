@@ -225,6 +225,7 @@ def _refuse_datasheet_gain(text: str) -> None:
         return
     x, unit = float(m.group(1)), m.group(2).lower()
     ratio = 10 ** (x / 20) if unit == "db" else x * _GAIN_PER[unit]
+
     def plain_text(x: float) -> str:
         return f"{x:.4g}".replace("e+0", "e").replace("e+", "e")
 
