@@ -60,6 +60,11 @@ RESISTORS = (
 )
 
 
+# a slipped prefix is offered for an input's series_c only where it puts the coupling corner at or above this
+# (a thousandfold slip that puts it at 0.07 Hz is a part nobody fits there; common practice, no source)
+SLIP_CORNER_MIN_HZ = 0.1
+
+
 def _fix_for(x: float, ok, *, bare: str = "") -> str:
     """ "; did you mean "22p"?" for the first alternative prefix of ``x`` that ``ok(value)`` accepts, else "".
 
@@ -116,7 +121,10 @@ def design_warnings(design) -> tuple[str, ...]:
                 out.append(f"[{name}] series_r={U.format_si(net.series_r, 'Ω')}: {corner}, and series_r is outside its usual range ({rng.text('Ω')}){fix}")
                 blamed.add((name, "series_r"))
             else:
-                fix = _fix_for(net.series_c, lambda v, r=net.series_r: 1 / (tau * r * v) <= COUPLING_CORNER_MAX_HZ and USUAL[("input", "series_c")].holds(v))
+                # a slipped prefix only where the slip puts the corner where coupling corners sit, not far below the band
+                slip = _fix_for(net.series_c, lambda v, r=net.series_r: SLIP_CORNER_MIN_HZ <= 1 / (tau * r * v) <= COUPLING_CORNER_MAX_HZ and USUAL[("input", "series_c")].holds(v))
+                least = 1 / (tau * net.series_r * COUPLING_CORNER_MAX_HZ)
+                fix = slip or f"; a series_c of {U.format_si(least, 'F')} or more puts it at {COUPLING_CORNER_MAX_HZ:g} Hz or below"
                 out.append(f"[{name}] series_c={U.format_si(net.series_c, 'F')}: {corner}{fix}")
     for (table, key), v in odd_r.items():
         if (table, key) not in blamed:

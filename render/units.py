@@ -204,6 +204,9 @@ def parse_quantity(value: object, kind: Kind) -> float:
         if gauss is not None:
             tesla = format_si(gauss * 1e-4, "T").replace(" ", "").replace("µ", "u")
             raise QuantityError(f'the gauss is not an SI unit (1 G = 100 µT); for {shown(value)} write "{tesla}"')
+    comma = re.fullmatch(r"(\d+),(\d+)(\D*)", text)
+    if comma:  # "4,7u": a decimal comma, as many countries write it
+        raise QuantityError(f'cannot read {shown(value)} as {_a(kind)}: a comma is no decimal point here; write "{comma.group(1)}.{comma.group(2)}{comma.group(3)}"')
     if kind is RATIO:  # a datasheet's open-loop gain: "100dB" or "200V/mV", refused with the plain ratio it means
         _refuse_datasheet_gain(text)
     from .unit_habits import read_habit  # "2.2uf", "120mh": read, or refused with the fix

@@ -78,6 +78,12 @@ def test_coupling_corners_inside_the_band_warn(tmp_path):
     p = variant(tmp_path, 'series_c = "1u"   # bass cut: 1/(2π·22k·1µ) = 7 Hz', 'series_c = "10n"')
     (w,) = design_warnings(load_designs([p])[0][0])
     assert w.startswith("[input_a] series_c=10 nF") and f"{1 / (2 * math.pi * 22e3 * 10e-9):.3g} Hz" in w and '"10u"' in w
+    # 100n: 72.3 Hz; its thousandfold slip 100u would put the corner at 0.072 Hz, so the part that reaches 40 Hz
+    # is named instead: 1/(2π·22k·40 Hz) = 181 nF
+    p = variant(tmp_path, 'series_c = "1u"   # bass cut: 1/(2π·22k·1µ) = 7 Hz', 'series_c = "100n"', "c100n.toml")
+    (w,) = design_warnings(load_designs([p])[0][0])
+    assert f"{1 / (2 * math.pi * 22e3 * 100e-9):.3g} Hz" in w and "did you mean" not in w
+    assert w.endswith(f"a series_c of {1e9 / (2 * math.pi * 22e3 * 40):.3g} nF or more puts it at 40 Hz or below"), w
     p = variant(tmp_path, 'coupling_c = "10u"   # blocks the DC bias', 'coupling_c = "100n"', "out.toml")
     (w,) = design_warnings(load_designs([p])[0][0])
     # into series_r + (shunt_r ‖ volume pot): 220 Ω + (100k ‖ 25k) = 20.22 kΩ

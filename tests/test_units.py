@@ -359,3 +359,11 @@ def test_a_datasheet_gain_is_refused_with_the_plain_ratio(text, fix):
     with pytest.raises(QuantityError) as e:
         parse_quantity(text, RATIO)
     assert str(e.value).endswith(fix), str(e.value)
+
+
+def test_a_decimal_comma_is_refused_with_the_point():
+    # a decimal comma (ISO 80000-1 allows either sign; a TOML string here is read with the point)
+    with pytest.raises(QuantityError, match=r'a comma is no decimal point here; write "4\.7u"$'):
+        parse_quantity("4,7u", CAPACITANCE)
+    with pytest.raises(QuantityError, match=r'write "2\.2k"$'):
+        parse_quantity("2,2k", RESISTANCE)

@@ -11,7 +11,7 @@ from .options import emit_json, friendly, jobs_option, json_option, overwrite_op
 from .values import Finite, InFile, OutFolder, Seed
 
 
-def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
+def _floats(text, name, *, kind=None, like="0.3,0.5,0.7", once=True):
     from ..errors import InputError
     from ..units import QuantityError, parse_quantity
 
@@ -24,6 +24,8 @@ def _floats(text, name, *, kind=None, like="0.3,0.5,0.7"):
             out.append(parse_quantity(part, kind) if kind is not None else float(part))
         except (ValueError, QuantityError):
             raise InputError(f"{name}={text!r}: cannot read {part!r}; give a comma-separated list like {like}") from None
+        if once and out[-1] in out[:-1]:  # the same setting twice: the same row solved and printed twice
+            raise InputError(f"{name}={text!r}: {part!r} is given twice; give each setting once")
     return out
 
 
@@ -101,7 +103,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     for w in check_strength(strength_m, dry if dry is not None else Path("phrase.toml")):
         warn(w)
     (design,), _ = load_designs([model], rig=rig_path)
-    kinds = {"tops": _floats(tops, "--top", kind=RESISTANCE, like="100k,220k"), "bottoms": _floats(bottoms, "--bottom", kind=RESISTANCE, like="100k,220k")}
+    kinds = {"tops": _floats(tops, "--top", kind=RESISTANCE, like="100k,220k", once=False), "bottoms": _floats(bottoms, "--bottom", kind=RESISTANCE, like="100k,220k", once=False)}
     sw = bias_sweep(
         design,
         ratios=_floats(ratios, "--ratios"),

@@ -150,6 +150,11 @@ def test_an_output_file_that_is_a_folder_or_inside_a_file(here):
     assert refused(["clips", REF, "--out", "afile/run"]) == "--out=afile/run: afile is a file, not a folder; choose another path"
 
 
+@pytest.mark.parametrize(("option", "value", "twice"), [("--ratios", "0.3,0.5,0.3", "0.3"), ("--battery", "9,9V", "9V"), ("--ratios", "0.5,0.50", "0.50")])
+def test_a_bias_setting_given_twice_is_refused(here, option, value, twice):
+    assert refused(["bias", REF, "--no-clips", option, value]) == f"{option}={value!r}: {twice!r} is given twice; give each setting once"
+
+
 def test_an_output_folder_with_no_clips_is_refused(here):
     assert refused(["bias", REF, "--no-clips", "--out", "run"], left=[here / "run"]) == "--out=run: --no-clips writes no folder; drop --out, or --no-clips to write the clips there"
 
