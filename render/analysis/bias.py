@@ -338,7 +338,14 @@ def bias_sweep(design, *, ratios=(0.3, 0.4, 0.5, 0.6, 0.7), tops=None, bottoms=N
     _refuse_silent(design)
     first = onset(design)
     ref_v = sine_velocity or 1.4 * min(first["velocity_up_m_per_s"], first["velocity_down_m_per_s"])
-    warnings: tuple[str, ...] = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing; measuring it anyway",) if ref_v > REALISTIC_VELOCITY else ()
+    warnings: tuple[str, ...] = ()
+    if ref_v > REALISTIC_VELOCITY and sine_velocity:
+        warnings = (f"a {ref_v:.3g} m/s sine is far beyond realistic playing (above {REALISTIC_VELOCITY:g} m/s); measuring it anyway",)
+    elif ref_v > REALISTIC_VELOCITY:  # the default sine, 1.4 times the first onset: the design itself is the news
+        warnings = (
+            f"the test sine, 1.4 times the first onset, is {ref_v:.3g} m/s, beyond realistic playing (above {REALISTIC_VELOCITY:g} m/s):"
+            " this design reaches its limit only with a string moving faster than playing gives it",
+        )
     warnings += tuple(f"{s.label}: {rest_reason(s.design)}; it has no onset, headroom or recovery, and its THD is that of a stage already clipped" for s in settings if resting_limit(s.design))
     warnings += tuple(f"{s.label}: {knee_reason(s.design)}" for s in settings if knee_at_rest(s.design))
     rows = pmap(_measure, [(s, ref_v) for s in settings], jobs)

@@ -177,6 +177,15 @@ def test_far_drive_is_a_warning_not_a_refusal(tmp_path):
     assert res.exit_code == 0 and "far beyond realistic playing" in res.output
 
 
+def test_a_default_sine_past_realistic_playing_says_the_design_needs_it():
+    # the default test sine is 1.4 times the first onset (README); on slipway-steel-blades that onset is 16.3 m/s
+    # at the centred divider, so the sine is 22.8 m/s, over the 20 m/s of playing (common practice, no source)
+    res = CliRunner().invoke(main, ["bias", str(ROOT / "models" / "slipway-steel-blades.toml"), "--ratios", "0.5", "--no-clips"])
+    assert res.exit_code == 0, res.output
+    assert "warning: the test sine, 1.4 times the first onset, is 22.8 m/s, beyond realistic playing (above 20 m/s)" in res.output
+    assert "far beyond" not in res.output
+
+
 def test_bias_jobs_equal_serial(tmp_path):
     args = ["bias", str(REF), "--ratios", "0.4,0.6", "--seconds", "1"]
     a = CliRunner().invoke(main, args + ["--out", str(tmp_path / "a"), "--json", str(tmp_path / "a.json")])
