@@ -45,6 +45,7 @@ _HOME = {
     "Dry": "render.dry",
     "synthesize": "render.dry",
     "load_dry": "render.dry",
+    "pickup_for": "render.design.construction",
     # the small-signal engine's figures
     "response": "render.analysis.response",
     "Response": "render.analysis.response",

@@ -297,6 +297,14 @@ def render_clip(
     seed = A.seed("seed", seed)  # checked with or without noise: a bad seed is refused whatever else is asked
     if isinstance(velocity, Dry):  # its velocity and sample rate were checked when it was made
         dry_record, dry_warnings = dict(velocity.description), tuple(velocity.warnings)
+        if design.construction is not None and dry_record.get("kind") == "phrase" and "pickup" not in dry_record:
+            # a phrase synthesised at two points plays through the derived window and mean sensitivity only: no
+            # per-string balance, one polarisation, nothing nonlinear (8 dB louder on slipway-steel-poles)
+            raise ArgumentError(
+                "velocity",
+                "a Dry synthesised without pickup",
+                f"{design.name} has a [construction], which senses each string itself: synthesize the phrase with pickup=render.pickup_for(design)",
+            )
         if sample_rate is not None and check_rate(sample_rate) != velocity.sample_rate:
             raise ArgumentError("sample_rate", shown(sample_rate), f"the dry signal is at {velocity.sample_rate} Hz; leave sample_rate out or resample it")
         fs = velocity.sample_rate

@@ -280,3 +280,20 @@ def test_a_refused_argument_is_named_as_python_names_it_and_the_command_as_it_do
         render.bias_sweep(render.load_design(REF), batteries=(70,))
     with pytest.raises(ArgumentError, match=r"^sample_rate=1000: must be from 8000"):
         render.BlindSettings(sample_rate=1000)
+
+
+def test_a_construction_design_renders_from_the_library_as_from_the_command_line(tmp_path):
+    """The same phrase, design and seed give the same clip from ``render clips`` and from
+    ``synthesize(pickup=pickup_for(design))`` + ``render_clip``; a phrase synthesised at two points without the
+    pickup is refused for such a design (it would skip the construction's per-string sensing)."""
+    design_path = ROOT / "models" / "slipway-steel-poles.toml"
+    phrase = ROOT / "dry_signals" / "default.toml"
+    run("clips", design_path, "--dry", phrase, "--seconds", "2", "--no-plots", "--no-hum", "--out", tmp_path / "cli")
+    cli = json.loads((tmp_path / "cli" / "slipway-steel-poles.json").read_text())
+    d = render.load_design(design_path)
+    dry = render.synthesize(phrase, pickup=render.pickup_for(d), sample_rate=48000, seconds=2.0)
+    clip = render.render_clip(d, dry, hum=False)
+    assert float(np.abs(clip.volts).max()) == pytest.approx(cli["measurements"]["peak_v"], rel=1e-9)
+    plain = render.synthesize(phrase, positions=(d.coil_a.position, d.coil_b.position), apertures=(d.coil_a.aperture, d.coil_b.aperture), sample_rate=48000, seconds=2.0)
+    with pytest.raises(render.ArgumentError, match=r"has a \[construction\], which senses each string itself: synthesize the phrase with pickup=render.pickup_for\(design\)"):
+        render.render_clip(d, plain)

@@ -60,7 +60,7 @@ def print_record(rec: dict) -> None:
             small = [p for p in src["parts"] if p not in parts]  # each under 0.1 % of the air core: summed, so the line adds up
             rest = f"{len(small)} others" if len(small) > 1 else (small[0]["name"] if small else "")
             shown = [f"{p['name']} +{_eng(p['rise_h'], 'H')}" for p in parts] + ([f"{rest} +{_eng(sum(p['rise_h'] for p in small), 'H')}"] if small else [])
-            core = ", ".join(shown) or "air core"
+            core = ", ".join(shown) or "no steel"
             how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; {ladder_fit_words(src)}"
         click.echo(f"  {name}  {how}")
         lad = c["ladder"]
@@ -69,6 +69,8 @@ def print_record(rec: dict) -> None:
         loss = f"ladder {ladder_words(lad['series_inductance_h'], len(lad['inductances_h']), _eng)}" if lad else lumped_loss_words(c)
         srf = c["self_resonance_hz"]
         unsure = " (not determined by the sweep)" if (src or {}).get("capacitance_doubt") else ""
+        if c["source"] == "derived":  # render.impedance.capacitance: the published estimate, above a 2-D field solve
+            unsure = " (the layers' estimate, about 30 % above a field solve of orderly layers)"
         click.echo(
             f"          R {_eng(c['resistance_ohm'], 'Ω')}, L {_eng(c['inductance_h'], 'H')} at DC ({loss}), C {_eng(c['capacitance_f'], 'F')}{unsure},"
             f" self-resonance {_eng(srf, 'Hz') if srf else (src or {}).get('self_resonance_doubt') or 'none below 10 MHz'}"

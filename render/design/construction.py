@@ -45,7 +45,11 @@ DERIVED = ("sensitivity", "aperture", "signal_polarity")
 def _choice(choices):
     def read(raw: Any, loc: str) -> str:
         if raw not in choices:
-            raise InputError(f"{loc}={U.shown(raw)}: expected one of {', '.join(repr(c) for c in choices)}")
+            from ..validate import suggest
+
+            close = suggest(str(raw), choices)
+            hint = f"; did you mean '{close}'?" if close else ""
+            raise InputError(f"{loc}={U.shown(raw)}: expected one of {', '.join(repr(c) for c in choices)}{hint}")
         return raw
 
     return with_example(read, f'"{choices[0]}"')
@@ -115,9 +119,9 @@ CONSTRUCTION = {
         U.RATIO,
         default=STRING_PERMEABILITY,
         lo=1.0,
-        hi=1e5,
+        hi=1e4,  # soft irons reach some thousands (from memory); the strings' nonlinear solve is checked to 1e4 (tests)
         lo_open=True,
-        doc="relative permeability of the strings' steel (above 1: a string of μr = 1 is not magnetised, and a magnetic pickup does not sense it)",
+        doc="initial relative permeability of the strings' steel (above 1: a string of μr = 1 is not magnetised, and a magnetic pickup does not sense it)",
     ),
     "string_saturation": Field(
         U.FLUX_DENSITY,
@@ -291,6 +295,8 @@ def derive(design, construction: Construction | None):
         result = sensing(design)
     except InputError as exc:
         raise InputError(f"{design.source or design.name}: {exc}") from None
+    except ArithmeticError as exc:  # the strings' nonlinear solve (render.magnetics.strings) found no answer
+        raise InputError(f"{design.source or design.name}: [construction] {exc}; check string_permeability and string_saturation (steel strings: a few hundred and about 2 T)") from None
     coils = {}
     for name, steel in zip(("coil_a", "coil_b"), result.steel):
         c = getattr(design, name)
@@ -300,7 +306,21 @@ def derive(design, construction: Construction | None):
 
 
 def pickup_for(design):
-    """What the dry synthesis needs of the design's construction (:class:`render.dry.construction.Pickup`), or None without one."""
+    """What a phrase's synthesis needs of a design's construction, for :func:`render.synthesize`'s ``pickup``.
+
+    Parameters
+    ----------
+    design : Design
+        A design (:func:`render.load_design`); with a ``[construction]`` its field is solved (or read from the
+        cache) here.
+
+    Returns
+    -------
+    render.dry.construction.Pickup or None
+        The strings' sensing (two polarisations, per-string balance, the flux's nonlinearity) and each coil's
+        gain; None for a design without a ``[construction]``, whose phrases are synthesised at its two
+        sensing points instead.
+    """
     result = sensing(design)
     if result is None:
         return None

@@ -178,7 +178,7 @@ def check_recording(path: Path, *, blind: bool = False) -> None:
         raise short
 
 
-def synthesize(phrase: Phrase | str | os.PathLike, *, positions, apertures, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:
+def synthesize(phrase: Phrase | str | os.PathLike, *, positions=None, apertures=None, sample_rate: int, seed: int = 0, seconds: float | None = None, pickup=None) -> Dry:
     """The string velocity a phrase gives at two sensing points.
 
     Parameters

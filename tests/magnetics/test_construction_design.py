@@ -65,6 +65,7 @@ def test_designs_without_a_construction_are_unchanged():
         (lambda t: t["coil_a"].update(aperture="8mm"), "derived"),
         (lambda t: t["coil_a"].pop("geometry"), r"needs \[coil_a.geometry\]"),
         (lambda t: t["construction"].update(kind="steel-rods"), "expected one of"),
+        (lambda t: t["construction"].update(kind="steel-pole"), "expected one of .*; did you mean 'steel-poles'\\?$"),
         (lambda t: t["construction"].update(magnet_grade="unobtanium"), "expected one of"),
         (lambda t: t["construction"].pop("steel_width"), "needs steel_width"),
         (lambda t: t["construction"].update(steel_length="50mm"), "steel_length given for steel-poles"),
@@ -252,3 +253,17 @@ def test_the_strings_saturation_is_read_and_keys_the_cache():
     g = (d.coil_a.geometry, d.coil_b.geometry, 0.038, 0.056)
     assert default.digest(*g) != lower.digest(*g)
     assert MODEL_VERSION >= 5
+
+
+def test_the_highest_string_permeability_accepted_is_solved(monkeypatch, tmp_path):
+    # string_permeability is accepted up to 1e4 (soft irons reach some thousands, from memory): the strings'
+    # nonlinear solve must find its answer there, uncached, and one above it is refused in one line
+    require_magpylib()
+    require_material_response()
+    monkeypatch.setenv("RENDER_CACHE_DIR", str(tmp_path / "cache"))
+    data = copy.deepcopy(_doc())
+    data["construction"]["string_permeability"] = 1e4
+    d = parse_design(data, source="x.toml")
+    assert d.coil_a.sensitivity > 0 and np.isfinite(d.coil_a.sensitivity)
+    data["construction"]["string_permeability"] = 3e4
+    _refused(data, r"string_permeability=30000.* \(30000\): expected a plausible value, above 1 and at most 10000")
