@@ -30,7 +30,7 @@ class Comparison:
     figures : dict
         level_1k_db (dB re 1 V per m/s), peak_hz, peak_db (re 1 kHz), q,
         bass_corner_hz, treble_corner_hz, cable_loss_db, output_impedance_1k_ohm,
-        output_impedance_10k_ohm, hum_rejection_db (at the mains fundamental);
+        output_impedance_10k_ohm, hum_rejection_db (at the mains fundamental, or the lowest harmonic with hum) and hum_rejection_harmonic;
         None with a ``_reason`` beside it where undefined.
     hum_frequency_hz : np.ndarray [shape=(K,)], Hz
     hum_peak_v : np.ndarray [shape=(K,)], V peak at the amp input, per mains harmonic
@@ -77,20 +77,27 @@ def comparison_figures(p: PassiveDesign, resp=None) -> dict:
     if resp is None:
         resp = responses(from_designs([d]))
     fig = dict(figures([d], resp=resp)[0]["passive"])
+    from .hum_harmonics import absent_harmonics, quoted_harmonic
+
     zero = np.zeros(1)
+    emf = None
     if d.hum.sources:
         from ..magnetics.pickup import design_emf
 
-        e = design_emf(d).total[:, 0]
-        va = resp.passive_mix(np.ones(1), zero)(d.hum.mains)[0, 0] * e[0]
-        vb = resp.passive_mix(zero, np.ones(1))(d.hum.mains)[0, 0] * e[1]
+        emf = design_emf(d).total  # (2, H)
+    k = quoted_harmonic(absent_harmonics(d, emf=emf))  # the lowest harmonic with hum, as render check quotes a design's
+    fig["hum_rejection_harmonic"] = None if k is None else k + 1
+    f_k = d.hum.mains * (1 + (k or 0))
+    if emf is not None:
+        e = emf[:, k or 0]
+        va = resp.passive_mix(np.ones(1), zero)(f_k)[0, 0] * e[0]
+        vb = resp.passive_mix(zero, np.ones(1))(f_k)[0, 0] * e[1]
     else:
-        va = resp.passive_mix(resp.hum_a, zero)(d.hum.mains)[0, 0]
-        vb = resp.passive_mix(zero, resp.hum_b)(d.hum.mains)[0, 0]
+        va = resp.passive_mix(resp.hum_a, zero)(f_k)[0, 0]
+        vb = resp.passive_mix(zero, resp.hum_b)(f_k)[0, 0]
     rej = float(rejection_db(va, vb))
-    absent = U.unlinked(e[0], e[1]) if d.hum.sources else None  # no source's hum at the fundamental: nothing to reject
-    if absent is not None:
-        U.mark(fig, "hum_rejection_db", absent)
+    if k is None:  # no harmonic of the room has hum here: nothing to reject
+        U.mark(fig, "hum_rejection_db", U.NOTHING_LINKS if d.hum.sources else U.NO_FIELD)
     elif rej >= REJECTION_CAP_DB:
         U.mark(fig, "hum_rejection_db", U.HUM_CANCELS)
     else:

@@ -80,3 +80,18 @@ def test_a_passive_file_named_as_a_design_is_refused_with_the_fix():
 def test_a_design_named_with_compare_is_refused():
     with pytest.raises(InputError, match='kind = "passive"'):
         load_passive(ROOT / "models" / "studio-reference.toml")
+
+
+def test_the_comparison_pickups_rejection_is_quoted_where_the_designs_is(tmp_path):
+    # a room without hum at the fundamental (harmonics [0, 0.05, 0.3]): render check quotes every rejection at the
+    # lowest harmonic with hum, H2 at 120 Hz, the design's and the comparison pickup's alike (the rule of render hum)
+    from click.testing import CliRunner
+
+    from render.cli import main
+
+    rig = tmp_path / "rig.toml"
+    rig.write_text('[hum]\nmains = "60Hz"\nfield = "1uT"\nharmonics = [0, 0.05, 0.3]\n', encoding="utf-8")
+    res = CliRunner().invoke(main, ["check", str(ROOT / "models" / "studio-reference.toml"), "--rig", str(rig), "--compare", str(DEMO)])
+    assert res.exit_code == 0, res.output
+    lines = [ln for ln in res.output.splitlines() if ln.strip().startswith("hum rejection")]
+    assert len(lines) == 2 and all(ln.endswith("dB at H2, 120 Hz, the lowest harmonic with hum") for ln in lines), lines
