@@ -81,11 +81,28 @@ def _temporary_in(folder: Path, name: str) -> Path:
 
 
 def refuse_unwritable(folder: str | Path) -> None:
-    """Refuse, before any work, an existing folder that no file can be written into (no permission, read-only, /sys).
+    """Refuse, before any work, an existing folder that no file can be written into (no permission, read-only).
 
-    Tried, not guessed from permission bits (root passes those everywhere): a temporary file is made and removed.
+    Tried where the system can without touching the folder: an unnamed temporary file (Linux's ``O_TMPFILE``) is
+    opened there and closed, which adds no entry and leaves the folder's modification time alone. Where that is not
+    supported (other systems; file systems without it, such as /sys) the permission bits decide, and a folder that
+    passes them but refuses the file is still refused, in one line, when the file is written (:func:`atomic_path`).
     """
-    _temporary_in(Path(folder), "probe").unlink()
+    folder = Path(folder)
+    flag = getattr(os, "O_TMPFILE", None)
+    if flag is not None:
+        try:
+            os.close(os.open(folder, flag | os.O_WRONLY, 0o600))
+            return
+        except OSError as exc:
+            if exc.errno not in _NO_TMPFILE:
+                raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno or 0, 'choose another folder')}") from None
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise InputError(f"{folder}: cannot write here (Permission denied); {_FIXES[errno.EACCES]}")
+
+
+# what an open with O_TMPFILE fails with where the file system (or an old kernel) does not support it
+_NO_TMPFILE = {errno.EOPNOTSUPP, errno.ENOTSUP, errno.EINVAL, errno.EISDIR}
 
 
 @contextlib.contextmanager
