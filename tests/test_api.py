@@ -286,6 +286,8 @@ def test_a_construction_design_renders_from_the_library_as_from_the_command_line
     """The same phrase, design and seed give the same clip from ``render clips`` and from
     ``synthesize(pickup=pickup_for(design))`` + ``render_clip``; a phrase synthesised at two points without the
     pickup is refused for such a design (it would skip the construction's per-string sensing)."""
+    if sys.version_info < (3, 11):  # the lowest-version run: no magpylib-material-response there (pyproject.toml)
+        pytest.skip("a [construction] needs magpylib-material-response, which needs Python 3.11 or later")
     design_path = ROOT / "models" / "slipway-steel-poles.toml"
     phrase = ROOT / "dry_signals" / "default.toml"
     run("clips", design_path, "--dry", phrase, "--seconds", "2", "--no-plots", "--no-hum", "--out", tmp_path / "cli")
