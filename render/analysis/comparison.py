@@ -77,15 +77,10 @@ def comparison_figures(p: PassiveDesign, resp=None) -> dict:
     if resp is None:
         resp = responses(from_designs([d]))
     fig = dict(figures([d], resp=resp)[0]["passive"])
-    from .hum_harmonics import absent_harmonics, quoted_harmonic
+    from .hum_harmonics import quoted_for
 
     zero = np.zeros(1)
-    emf = None
-    if d.hum.sources:
-        from ..magnetics.pickup import design_emf
-
-        emf = design_emf(d).total  # (2, H)
-    k = quoted_harmonic(absent_harmonics(d, emf=emf))  # the lowest harmonic with hum, as render check quotes a design's
+    k, emf = quoted_for(d)  # the lowest harmonic with hum, as render check quotes a design's
     fig["hum_rejection_harmonic"] = None if k is None else k + 1
     f_k = d.hum.mains * (1 + (k or 0))
     if emf is not None:

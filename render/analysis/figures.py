@@ -199,12 +199,9 @@ def _quoted_rejection(designs, resp) -> tuple[np.ndarray, list[int | None], list
     the rule of ``render hum``): the fundamental unless its field or every source lacks it. Where no
     harmonic has hum the harmonic is None and the reason is given.
     """
-    from ..magnetics.pickup import design_emf
-    from .hum_harmonics import absent_harmonics, quoted_harmonic
+    from .hum_harmonics import quoted_for
 
-    emf = [design_emf(d).total if d.hum.sources else None for d in designs]  # (2, H) each, with sources in space
-    absent = [absent_harmonics(d, emf=e) for d, e in zip(designs, emf)]
-    at = [quoted_harmonic(a) for a in absent]
+    at, emf = zip(*(quoted_for(d) for d in designs)) if designs else ((), ())  # emf: (2, H) each, with sources in space
     freq = np.array([d.hum.mains * (1 + (k or 0)) for d, k in zip(designs, at)])
     rej = hum_rejection_db(resp, freq)
     no_hum: list[str | None] = [None if k is not None else U.NOTHING_LINKS for k in at]

@@ -55,3 +55,18 @@ def quoted_harmonic(absent) -> int | None:
     figures' ``hum_rejection_db`` (``render check``) all quote this one.
     """
     return next((i for i, why in enumerate(absent) if why is None), None)
+
+
+def quoted_for(design):
+    """(harmonic index or None, each coil's EMF per harmonic or None) for ``design``'s room.
+
+    The index is :func:`quoted_harmonic` of :func:`absent_harmonics`; the EMF, shape (2, H), complex, V, is
+    :func:`render.magnetics.pickup.design_emf`'s ``total`` where the room has ``[[hum.source]]`` tables
+    (None for a one-number field), computed once for both.
+    """
+    emf = None
+    if design.hum.sources:
+        from ..magnetics.pickup import design_emf
+
+        emf = design_emf(design).total
+    return quoted_harmonic(absent_harmonics(design, emf=emf)), emf

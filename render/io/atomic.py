@@ -75,7 +75,7 @@ def _temporary_in(folder: Path, name: str) -> Path:
     try:
         fd, tmp_name = tempfile.mkstemp(prefix=f".tmp-{name}.", dir=folder)
     except OSError as exc:
-        raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno or 0, 'choose another folder')}") from None
+        raise _unwritable(folder, exc.errno, exc.strerror) from None
     os.close(fd)
     return Path(tmp_name)
 
@@ -96,9 +96,14 @@ def refuse_unwritable(folder: str | Path) -> None:
             return
         except OSError as exc:
             if exc.errno not in _NO_TMPFILE:
-                raise InputError(f"{folder}: cannot write here ({exc.strerror}); {_FIXES.get(exc.errno or 0, 'choose another folder')}") from None
+                raise _unwritable(folder, exc.errno, exc.strerror) from None
     if not os.access(folder, os.W_OK | os.X_OK):
-        raise InputError(f"{folder}: cannot write here (Permission denied); {_FIXES[errno.EACCES]}")
+        raise _unwritable(folder, errno.EACCES, os.strerror(errno.EACCES))
+
+
+def _unwritable(folder: Path, code: int | None, reason: str | None) -> InputError:
+    """The one-line refusal of a folder no file can be made in, with the fix for its error."""
+    return InputError(f"{folder}: cannot write here ({reason}); {_FIXES.get(code or 0, 'choose another folder')}")
 
 
 # what an open with O_TMPFILE fails with where the file system (or an old kernel) does not support it
