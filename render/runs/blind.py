@@ -338,7 +338,8 @@ def build_blind_session(
         clipped.append(float(clip.clipped_fraction))
         h = from_record(clip.stats)
         if h is not None:
-            played.append(replace(h, strongest_pluck_m=dry.description.get("strongest_pluck_m")))
+            # the bare velocity loses the Dry's record; a [construction]'s sensing is still not linear in the pluck
+            played.append(replace(h, strongest_pluck_m=dry.description.get("strongest_pluck_m"), nonlinear=design.construction is not None))
     signals, match = match_loudness(volts, sample_rate=fs, target_lufs=settings.target_lufs, ceiling_dbtp=settings.true_peak_dbtp, names=names)
     seed = settings.seed if settings.seed is not None else secrets.randbits(63)
     record = {

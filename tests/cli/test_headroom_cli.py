@@ -63,6 +63,19 @@ def test_blind_prints_headroom(tmp_path):
     assert "headroom for what is played" in res.output and "ember-dark" in res.output
 
 
+def test_blind_marks_a_construction_designs_limit_as_a_linear_guess(tmp_path):
+    # blind renders the bare velocity; the [construction]'s sensing is still not linear in the pluck, so its
+    # strength at the limit is the linear guess, printed with ≈ and recorded as such (README: Headroom)
+    poles, blades = (ROOT / "models" / f"slipway-steel-{k}.toml" for k in ("poles", "blades"))
+    res = CliRunner().invoke(main, ["blind", str(poles), str(blades), "--seconds", "1", "--trials", "2", "--seed", "1", "--out", str(tmp_path / "s")])
+    assert res.exit_code == 0, res.output
+    rows = [x for x in res.output.splitlines() if x.strip().startswith("slipway-steel-") and " mm " in x]
+    assert len(rows) == 2 and all("≈" in x for x in rows), res.output
+    assert "≈: a linear guess" in res.output
+    key = (tmp_path / "s" / "private" / "key.json").read_text()
+    assert key.count('"limit_strength_method": "linear-guess"') == 2 and '"limit_strength_method": "linear"' not in key
+
+
 def test_a_strength_beyond_playing_warns_with_its_limit_and_origin():
     from render.runs.bias import check_strength
 
