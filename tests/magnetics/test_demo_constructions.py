@@ -79,10 +79,10 @@ def _bend_level_db(design, *, angle: float = 30.0, tilt: float = 15.0) -> np.nda
 
 def test_a_bend_dips_over_screws_and_not_over_blades():
     # A fact of the trade (common practice, no source): a bent string pushed off its pole screw
-    # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves 2.1 and
-    # 2.7 mm sideways at these coils (render.dry.construction: the bend's geometry), off its screws.
-    # Measured here, with the phrase's defaults: −4.4 and −5.2 dB over the screws (coil_a, coil_b),
-    # within 0.1 dB over either blade; vertical motion alone: −1.0 and −1.9 dB against +0.5 dB.
+    # loses output; a blade keeps it. String 2 bent a whole tone at the 14th fret moves sideways at
+    # these coils (render.dry.construction: the bend's geometry; the README's "Bends" paragraph gives
+    # the push at each coil, held by test_the_readmes_bend_figures), off its screws. The levels over
+    # screws and blades are the README's bend table (test_the_readmes_bend_table_is_what_the_synthesis_gives).
     designs = {d: load_design(ROOT / "models" / f"{d}.toml") for d in DEMOS}
     poles = _bend_level_db(designs["slipway-steel-poles"])
     for d in ("slipway-steel-blades", "slipway-magnet-blades"):
@@ -162,6 +162,8 @@ def test_the_readmes_bend_figures():
     senses = (pk.sensing.coil_a[j], pk.sensing.coil_b[j])
     offsets = [push * bend_share(s, x_offset=pk.sensing.x_offset, length=note.length) for s in senses]
     assert f"{offsets[0] * 1e3:.1f} mm at coil_a and {offsets[1] * 1e3:.1f} mm at coil_b" in bends
+    # the README's table of checks quotes the same push
+    assert f"a whole-tone bend of string 2 ({offsets[0] * 1e3:.1f} and {offsets[1] * 1e3:.1f} mm sideways)" in text
     vertical, sideways = [], []
     for s, off in zip(senses, offsets, strict=True):
         spline = RectBivariateSpline(s.dy, s.dz, s.flux)
