@@ -321,6 +321,8 @@ def _value_rows(design):
             continue
         specs = DESIGN_TABLES.get(table, {})
         for key, value in content.items():
+            if key.endswith("_reason"):  # why a value is None (the uniform field beside hum sources): words, not a value
+                continue
             if isinstance(value, dict):  # a coil's winding
                 for k, v in value.items():
                     yield f"{table}.{key}.{k}", WINDING.get(k) or COIL.get(k) or (Field(derived[k]) if k in derived else None), v

@@ -269,4 +269,10 @@ def design_to_dict(design: Design) -> dict[str, Any]:
             return [conv(x) for x in obj]
         return obj
 
-    return conv(design)
+    out = conv(design)
+    hum = out.get("hum")
+    if isinstance(hum, dict) and hum.get("sources"):
+        # [[hum.source]] tables are the whole field: the uniform default is not in the room (as render hum's field_t)
+        hum["field"] = None
+        hum["field_reason"] = "the [[hum.source]] tables are the whole field; [hum] field is not used"
+    return out

@@ -329,6 +329,11 @@ def test_clips_hum_uses_the_rigs_sources(tmp_path):
     assert np.sqrt(np.sum(passive**2) / 2) == pytest.approx(table.passive_total_v_rms, rel=1e-3)
     res = run("clips", REF, "--rig", NEAR, "--seconds", 1, "--no-plots", "--out", tmp_path / "c")
     assert res.exit_code == 0 and "no geometry" in res.stderr
+    # the clip's record says, as render hum does (field_t null), that no uniform field is in the room beside the sources
+    rec = json.loads((tmp_path / "c" / "studio-reference.json").read_text())
+    hum, _ = hum_json(REF, "--rig", NEAR)
+    assert hum["field_t"] is None and rec["hum"]["field"] is None and rec["design_values"]["hum"]["field"] is None
+    assert "whole field" in rec["hum"]["field_reason"] and rec["hum"]["sources"][0]["kind"] == "dipole"
 
 
 def test_check_and_figures_read_the_sources(tmp_path):
