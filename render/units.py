@@ -207,6 +207,9 @@ def parse_quantity(value: object, kind: Kind) -> float:
     comma = re.fullmatch(r"(\d+),(\d+)(\D*)", text)
     if comma:  # "4,7u": a decimal comma, as many countries write it
         raise QuantityError(f'cannot read {shown(value)} as {_a(kind)}: a comma is no decimal point here; write "{comma.group(1)}.{comma.group(2)}{comma.group(3)}"')
+    meg = re.fullmatch(r"(\d+(?:\.\d*)?|\.\d+)meg(\D*)", text, re.IGNORECASE)
+    if meg:  # "1Meg": SPICE's way of writing mega (SPICE reads a bare "M" as milli)
+        raise QuantityError(f'cannot read {shown(value)} as {_a(kind)}: "meg" is how SPICE writes mega; here write "{meg.group(1)}M{meg.group(2)}" (SI, capital M)')
     if kind is RATIO:  # a datasheet's open-loop gain: "100dB" or "200V/mV", refused with the plain ratio it means
         _refuse_datasheet_gain(text)
     from .unit_habits import read_habit  # "2.2uf", "120mh": read, or refused with the fix

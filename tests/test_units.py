@@ -367,3 +367,12 @@ def test_a_decimal_comma_is_refused_with_the_point():
         parse_quantity("4,7u", CAPACITANCE)
     with pytest.raises(QuantityError, match=r'write "2\.2k"$'):
         parse_quantity("2,2k", RESISTANCE)
+
+
+@pytest.mark.parametrize("text, fix", [("1Meg", "1M"), ("1MEG", "1M"), ("4.7meg", "4.7M"), ("2.2megohm", "2.2Mohm")])
+def test_spices_mega_is_refused_with_the_si_prefix(text, fix):
+    # SPICE writes mega as MEG, in any case, and reads a bare M as milli (ngspice user manual, "scale
+    # factors", from memory); SI's mega is capital M (SI Brochure, 9th ed., 2019, Table 7)
+    with pytest.raises(QuantityError, match=f'"meg" is how SPICE writes mega; here write "{fix}"'):
+        parse_quantity(text, RESISTANCE)
+    assert parse_quantity(fix, RESISTANCE) == pytest.approx(float(text[: text.lower().index("meg")]) * 1e6)

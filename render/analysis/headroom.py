@@ -59,6 +59,8 @@ from dataclasses import dataclass, replace
 from . import undefined as U
 
 NO_EXCURSION = "the op-amp output never leaves its bias point on this side"
+NO_STRING = "the strings move the op-amp output not at all (the two coils cancel them), so no pluck reaches the limit; only the hum swings it"
+NO_STRING_CELL = "no string signal"  # a table cell
 AT_REST = "limited at rest: the bias lies inside the soft limit's knee on this side, so the output stage is on its knee with no signal"
 AT_REST_CELL, AT_REST_MARGIN_CELL = "at rest", "limited at rest"  # table cells: a strength, a margin
 NO_PLUCK = "what was played is not a phrase (no pluck strength to scale)"
@@ -157,6 +159,17 @@ class PlayedHeadroom:
             return None
         return max(0.0, (onset - hum) / string)
 
+    def strings_silent(self, side: str | None = None) -> bool:
+        """Whether the strings' own part of the swing is known to be zero on ``side`` (None: both) while the output moves (the hum)."""
+        if self.string_up_v is None:
+            return False
+        sides = ("up", "down") if side is None else (side,)
+        return all(getattr(self, f"string_{x}_v") == 0 and getattr(self, f"excursion_{x}_v") > 0 for x in sides)
+
+    def _no_swing(self, side: str | None = None) -> str:
+        """Why a strength or a dB above the phrase has no value: no string swing (:data:`NO_STRING`), or none at all."""
+        return NO_STRING if self.strings_silent(side) else NO_EXCURSION
+
     def hum_alone(self, side: str | None = None) -> bool:
         """Whether the hum alone reaches the onset on ``side`` (None: either), so that no pluck at all is needed there."""
         if side is None:
@@ -209,10 +222,15 @@ class PlayedHeadroom:
         U.put(out, "played_margin_down_db", self.margin_down_db, AT_REST if self.at_rest("down") else NO_EXCURSION)
         if self.string_up_v is not None:  # the excursions of x_lin's parts apart, when the render kept them
             out.update({f"{part}_excursion_{side}_v": getattr(self, f"{part}_{side}_v") for part in ("string", "hum") for side in ("up", "down")})
-        U.put(out, "limit_db_above_played", self.limit_db_above, AT_REST if self.at_rest() else NOT_FOUND if self.searched else HUM_ALONE if self.hum_alone() else NO_EXCURSION)
+        U.put(out, "limit_db_above_played", self.limit_db_above, AT_REST if self.at_rest() else NOT_FOUND if self.searched else HUM_ALONE if self.hum_alone() else self._no_swing())
         U.put(out, "strongest_pluck_m", self.strongest_pluck_m, NO_PLUCK)
         for key, side in (("limit_strength_m", None), ("limit_strength_up_m", "up"), ("limit_strength_down_m", "down")):
-            U.put(out, key, self.strength_at_limit_m(side), NO_PLUCK if self.strongest_pluck_m is None else (self.searched_reason or NOT_FOUND) if self.searched and side is None else NO_EXCURSION)
+            U.put(
+                out,
+                key,
+                self.strength_at_limit_m(side),
+                NO_PLUCK if self.strongest_pluck_m is None else (self.searched_reason or NOT_FOUND) if self.searched and side is None else self._no_swing(side),
+            )
         if self.strongest_pluck_m is not None:
             # "linear": s·10^(margin/20); "rendered": a render at limit_strength_m has the margin limit_strength_check_margin_db
             # "linear-guess": the same formula where the sensing is not linear (no search was made)
@@ -362,6 +380,8 @@ def reach_cell(h: PlayedHeadroom) -> str:
         return ("beyond " + format_strength(edge) if edge else "past the flux range") if h.searched_reason == LEFT_RANGE else "not found"
     if h.hum_alone() and not h.searched:
         return HUM_ALONE_CELL
+    if strength is None and h.limit_db_above is None and h.strings_silent():
+        return NO_STRING_CELL
     return f"{format_margin(h.limit_db_above)} above" if strength is None else f"{format_strength(strength, guessed=h.guessed)} ({format_margin(h.limit_db_above)})"
 
 

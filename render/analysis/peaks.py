@@ -139,7 +139,8 @@ def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
 
     One peak: ``"peak 4066 Hz, +4.94 dB, Q 1.47"``; several: ``"peaks 4702 Hz,
     +5.10 dB, Q 2.10; 5301 Hz, …"`` (highest first: the first is the
-    resonance). A peak with no Q says why in words after its height.
+    resonance). A peak under 3 dB re 1 kHz also gives its prominence (a peak
+    near 1 kHz reads about +0.00 dB); a peak with no Q says why in words after its height.
     """
     peaks = fig.get("peaks")
     if not peaks:
@@ -147,6 +148,9 @@ def describe_peaks(fig: dict, *, q: bool = True, unit: str = " dB") -> str:
     parts = []
     for p in peaks:
         text = f"{p['frequency_hz']:.0f} Hz, {p['height_db']:+.2f}{unit}"
+        if p["height_db"] < Q_MIN_HEIGHT_DB and "prominence_db" in p:
+            # a peak near the 1 kHz level reads about +0.00 dB: its prominence says it is a real hump
+            text += f" (prominence {p['prominence_db']:.2f} dB)"
         if q:
             text += f", Q {p['q']:.2f}" if p["q"] is not None else f", no Q ({p['q_reason']})"
         parts.append(text)

@@ -192,3 +192,38 @@ def test_the_headroom_table_keeps_its_columns_when_a_side_is_limited_at_rest():
     # and a table of ordinary rows keeps its usual widths (the README's printed tables)
     plain = headroom_lines([("centred", fine)])
     assert len(plain[0]) == 2 + 20 + 2 + 19 + 3 + 20 + 3 + 9
+
+
+def test_coils_that_cancel_the_strings_say_so_instead_of_a_margin_above(tmp_path):
+    # Two equal coils at one point, the second's signal reversed, through matched networks: by superposition
+    # the strings' EMFs cancel exactly and only the hum moves the op-amp output. No pluck then reaches the
+    # limit: the cell says "no string signal" and the record gives that reason (README, "limit reached at").
+    from click.testing import CliRunner
+
+    from render.analysis.headroom import NO_STRING, NO_STRING_CELL, from_record, reach_cell
+    from render.cli import main
+
+    edge = ROOT / "tests" / "smoke" / "designs" / "edge-reversed-same-point.toml"
+    d = load_design(edge)
+    c = render_clip(d, _second_of_phrase(d), hum=True)
+    m = c.stats
+    assert m["string_excursion_up_v"] == 0 and m["string_excursion_down_v"] == 0 and m["hum_excursion_up_v"] > 0
+    assert m["limit_db_above_played"] is None and m["limit_db_above_played_reason"] == NO_STRING
+    assert m["limit_strength_m"] is None and m["limit_strength_m_reason"] == NO_STRING
+    assert reach_cell(from_record(m)) == NO_STRING_CELL
+    res = CliRunner().invoke(main, ["clips", str(edge), "--seconds", "1", "--no-plots", "--out", str(tmp_path / "c")])
+    assert res.exit_code == 0, res.output
+    row = next(x for x in res.output.splitlines() if x.strip().startswith("edge-reversed-same-point") and "dB" in x)
+    assert NO_STRING_CELL in row and "above" not in row
+
+
+def _second_of_phrase(design):
+    import render
+
+    return render.synthesize(
+        render.load_phrase(PHRASE),
+        positions=(design.coil_a.position, design.coil_b.position),
+        apertures=(design.coil_a.aperture, design.coil_b.aperture),
+        sample_rate=FS,
+        seconds=1.0,
+    )

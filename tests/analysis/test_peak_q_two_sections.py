@@ -74,3 +74,34 @@ def test_a_hump_on_the_flank_of_a_higher_one_has_no_q():
 def test_a_single_section_gives_its_q():
     (p,) = _peaks([(1.0, 5000.0, 2.5)])
     assert p["q"] == pytest.approx(2.5, rel=0.005)  # the grid's 0.4 % steps
+
+
+def test_a_low_peak_prints_its_prominence_as_scipy_measures_it(tmp_path):
+    # A peak near 1 kHz reads about +0.00 dB re 1 kHz, which looks like a placeholder; its prominence
+    # (scipy.signal.peak_prominences, the topographic definition) says it is a real hump. The README's
+    # example: measured-blade with load_c = "5n6" (both inputs), a loaded resonance near 1 kHz.
+    import re
+    import shutil
+    from pathlib import Path
+
+    from click.testing import CliRunner
+    from scipy.signal import find_peaks, peak_prominences
+
+    import render
+    from render.cli import main
+
+    root = Path(__file__).resolve().parents[2]
+    shutil.copytree(root / "models" / "coils", tmp_path / "coils")
+    text = re.sub(r'load_c = "[^"]*"', 'load_c = "5n6"', (root / "models" / "measured-blade.toml").read_text(encoding="utf-8"))
+    path = tmp_path / "measured-blade.toml"
+    path.write_text(text, encoding="utf-8")
+    res = CliRunner().invoke(main, ["check", str(path)])
+    assert res.exit_code == 0, res.output
+    line = next(x for x in res.output.splitlines() if "loaded resonance" in x)
+    m = re.search(r"peak (\d+) Hz, \+0\.00 dB \(prominence ([\d.]+) dB\), no Q", line)
+    assert m, line
+    assert "peak 1006 Hz, +0.00 dB (prominence 4.80 dB), no Q" in " ".join((root / "README.md").read_text(encoding="utf-8").split())
+    db = 20 * np.log10(np.abs(render.response(render.load_design(path), F).velocity))
+    k = find_peaks(db)[0]
+    k = k[np.argmin(np.abs(F[k] - float(m.group(1))))]
+    assert float(m.group(2)) == pytest.approx(float(peak_prominences(db, [k])[0][0]), abs=0.006)

@@ -293,3 +293,34 @@ def test_one_fall_is_the_treble_corner_and_no_dip():
     fig = response_figures(y, f)
     assert fig["treble_corner_hz"][0] == pytest.approx(_where(3000, 8, 10000, -12, -3), rel=1e-9)
     assert np.isnan(fig["treble_dip_hz"][0])
+
+
+def test_the_readmes_flat_top_figures_for_ember_dark():
+    # README ("fit"'s peak aim): ember-dark's listed peak, its second maximum and the dip between them, read
+    # with scipy.signal.find_peaks from render.response on the figures' grid, and the aim as the README's
+    # formula gives it from those maxima (weights 1 − distance/1 dB times depth/0.5 dB, capped at 1; a
+    # geometric mean), each to the README's printed digits
+    import re
+
+    from scipy.signal import find_peaks
+
+    import render
+
+    text = " ".join((Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8").split())
+    m = re.search(r"`ember-dark` lists one peak, (\d+) Hz, but has a second maximum ([\d.]+) dB lower at (\d+) Hz with a dip of ([\d.]+) dB between them, and its `aimed_peak_hz` reads (\d+) Hz", text)
+    assert m, "the README's ember-dark sentence moved"
+    d = render.load_design(Path(__file__).resolve().parents[2] / "models" / "ember-dark.toml")
+    h = 20 * np.log10(np.abs(render.response(d, F).velocity))
+    k = [i for i in find_peaks(h)[0] if 1e3 <= F[i] <= 20e3]
+    assert len(k) == 2
+    top, second = sorted(k, key=lambda i: -h[i])
+    dip = float(np.min(h[min(k) : max(k) + 1]))
+    assert abs(F[top] / float(m.group(1)) - 1) < 0.004  # one grid step (0.4 %)
+    # on the grid, without the parabola's refinement: within 0.002 dB of the printed thousandths
+    assert abs(h[top] - h[second] - float(m.group(2))) < 0.002 and abs(F[second] / float(m.group(3)) - 1) < 0.004
+    assert abs(h[second] - dip - float(m.group(4))) < 0.002
+    depth = {top: h[top] - dip, second: h[second] - dip}
+    w = {i: (1 - (h[top] - h[i]) / 1.0) * min(depth[i] / 0.5, 1.0) for i in k}
+    aim = float(np.exp(sum(w[i] * np.log(F[i]) for i in k) / sum(w.values())))
+    fig = figures([d])[0]
+    assert abs(aim / float(m.group(5)) - 1) < 0.004 and f"{fig['aimed_peak_hz']:.0f}" == m.group(5)
