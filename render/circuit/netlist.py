@@ -263,6 +263,15 @@ def netlist(design: Design, *, rig_source: str | None = None) -> str:
         "*",
         "* drives: Vvel (node vel): string velocity, 1 V = 1 m/s at both sensing points, AC 1;",
         "*         Vdbdt (node dbdt): hum field derivative, 1 V = 1 T/s" if not d.hum.sources else "*         Vhum1.. (nodes hum1..): the rig's hum sources (below)",
+        *(
+            [
+                "*         with a [construction], each coil's EMF per m/s is the strings' mean vertical sensitivity at rest, the",
+                "*         linear small-signal stand-in; render sense gives each string's, and render clips senses each string",
+                "*         in two polarisations, not linearly",
+            ]
+            if d.construction is not None
+            else []
+        ),
         "* nodes:  a1 a2 b1 b2 coil insides; ta tb coil terminals; xa xb series_c to series_r;",
         "*         inv pos op-amp inputs; bat battery +; opx op-amp open-loop state; out op-amp output;",
         "*         o1 coupling_c to series_r; jack output jack; tn tone; amp amplifier input",

@@ -182,6 +182,28 @@ def test_render_netlist_command(tmp_path):
     assert res.exit_code == 1 and "exists" in res.output
 
 
+def test_a_construction_designs_netlist_says_its_emf_is_the_strings_mean_sensitivity(tmp_path):
+    # the netlist is linear: with a [construction] each coil's EMF per m/s is the mean of the strings'
+    # vertical sensitivities that render sense prints (their arithmetic mean), and the header says so
+    import json
+
+    from render.cli import main
+
+    path = ROOT / "models" / "slipway-steel-poles.toml"
+    res = CliRunner().invoke(main, ["netlist", str(path)])
+    assert res.exit_code == 0, res.output
+    assert "the strings' mean vertical sensitivity at rest" in res.output and "render sense gives each string's" in res.output
+    coef = {k: float(re.search(rf"^B{k}emf \S+ 0 V = (\S+)\*V\(vel\)", res.output, re.M).group(1)) for k in "ab"}
+    res = CliRunner().invoke(main, ["sense", str(path), "--json", str(tmp_path / "s.json")])
+    assert res.exit_code == 0, res.output
+    coils = json.loads((tmp_path / "s.json").read_text())["coils"]
+    for k in "ab":
+        mean = float(np.mean([s["sensitivity_v_s_per_m"] for s in coils[f"coil_{k}"]]))
+        assert abs(coef[k]) == pytest.approx(abs(mean), rel=1e-9)
+    plain = CliRunner().invoke(main, ["netlist", str(ROOT / "models" / "studio-reference.toml")]).output
+    assert "mean vertical sensitivity" not in plain
+
+
 def test_a_rigs_hum_sources_drive_their_own_nodes_and_ngspice_gives_render_hums_figures():
     # near a transformer (a 0.05 A·m² dipole along z, 0.5 m along the strings) each coil sees its own flux:
     # the netlist drives node hum1 with the source's dm/dt, each coil's EMF hum_polarity·k·V(hum1). ngspice's
