@@ -228,10 +228,14 @@ def parse_measurement(text: str, *, source: str = "<measurement>", sha256: str =
     bad = np.flatnonzero(mag <= 0)
     if bad.size:
         raise InputError(f"{source}: line {lines[bad[0]]}: |Z| {float(mag[bad[0]]):g} Ω must be > 0")
+    if f.size > 1 and np.all(np.diff(f) < 0):  # a sweep from high to low, as many analysers run it: the same points
+        f, mag, ph, lines = f[::-1], mag[::-1], ph[::-1], lines[::-1]
     bad = np.flatnonzero(np.diff(f) <= 0)
     if bad.size:
         i = bad[0] + 1
-        raise InputError(f"{source}: line {lines[i]}: frequency {float(f[i]):g} Hz does not increase on line {lines[i - 1]} ({float(f[i - 1]):g} Hz); sort the rows by frequency and drop repeats")
+        raise InputError(
+            f"{source}: line {lines[i]}: frequency {float(f[i]):g} Hz does not increase on line {lines[i - 1]} ({float(f[i - 1]):g} Hz); sort the rows by frequency (rising or falling throughout) and drop repeats"
+        )
     if f.size and float(np.max(f)) < MIN_TOP_HZ:
         unit = header[cols["frequency"][0]].strip()
         raise InputError(

@@ -94,6 +94,24 @@ def test_shipped_example_is_the_documented_synthetic_coil():
     assert len(m.sha256) == 64
 
 
+def test_a_falling_sweep_reads_as_the_same_points(tmp_path):
+    # many analysers sweep from high to low: the shipped example's rows in reverse order are the same
+    # points, so they read and fit to exactly the same figures; a sweep that turns back is still refused
+    head, rows = [], []
+    for line in example_text().splitlines():
+        (rows if line[:1].isdigit() else head).append(line)
+    path = tmp_path / "falling.csv"
+    path.write_text("\n".join(head + rows[::-1]) + "\n", encoding="utf-8")
+    up, down = read_measurement(EXAMPLE), read_measurement(path)
+    np.testing.assert_array_equal(down.frequency_hz, up.frequency_hz)
+    np.testing.assert_array_equal(down.impedance, up.impedance)
+    a, b = fit_measurement(up.frequency_hz, up.impedance), fit_measurement(down.frequency_hz, down.impedance)
+    assert (b.resistance, b.inductance, b.capacitance) == (a.resistance, a.inductance, a.capacitance)
+    path.write_text("\n".join(head + rows[:10] + rows[3:4]) + "\n", encoding="utf-8")
+    with pytest.raises(InputError, match="does not increase"):
+        read_measurement(path)
+
+
 GOOD_HEADER = "frequency_hz,z_ohm,phase_deg\n"
 GOOD_ROWS = "".join(f"{f},{1000 + f},{45.0}\n" for f in (20, 50, 100, 200, 500, 1000, 2000, 5000))
 
