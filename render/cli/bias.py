@@ -94,7 +94,7 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     strength_m = pluck_strength(strength)
     out = dry = None
     if no_clips and out_dir is not None:
-        raise InputError(f"--out={out_dir}: --no-clips writes no folder; drop --out, or --no-clips to write the clips there")
+        raise InputError(f"--out={out_dir}: --no-clips writes no folder; drop --out, or drop --no-clips to write the clips there")
     if not no_clips:  # refuse before any work, so a refused run touches nothing
         out = output_folder(out_dir, overwrite=overwrite, prefix="bias")
         dry = Path(dry_path) if dry_path else default_dry_path()

@@ -156,7 +156,7 @@ def test_a_bias_setting_given_twice_is_refused(here, option, value, twice):
 
 
 def test_an_output_folder_with_no_clips_is_refused(here):
-    assert refused(["bias", REF, "--no-clips", "--out", "run"], left=[here / "run"]) == "--out=run: --no-clips writes no folder; drop --out, or --no-clips to write the clips there"
+    assert refused(["bias", REF, "--no-clips", "--out", "run"], left=[here / "run"]) == "--out=run: --no-clips writes no folder; drop --out, or drop --no-clips to write the clips there"
 
 
 def test_an_output_file_in_a_folder_that_cannot_be_written_is_refused_before_the_work(here, monkeypatch):

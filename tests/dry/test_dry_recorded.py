@@ -156,6 +156,11 @@ def test_dry_velocity_dispatches_on_the_file(tmp_path):
     syn = load_dry(toml, sample_rate=FS, positions=(0.04, 0.06), apertures=0.0)
     assert syn.velocity.shape == (2, FS // 2) and syn.description["kind"] == "phrase"
     assert not np.array_equal(syn.velocity[0], syn.velocity[1])
+    # a recording needs no sensing points (it is the string's velocity already); a phrase does, and says so
+    bare = load_dry(wav, sample_rate=FS, seconds=0.3)
+    np.testing.assert_array_equal(bare.velocity, rec.velocity)
+    with pytest.raises(InputError, match=r"positions=None: a phrase is synthesised at each coil's sensing point"):
+        load_dry(toml, sample_rate=FS)
 
 
 # --- writing ----------------------------------------------------------------
