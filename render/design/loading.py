@@ -138,7 +138,7 @@ def parse_design(data: dict, *, source: str = "<design>", name: str | None = Non
     phrase_table = next((t for t in PHRASE_TABLES if isinstance(data, dict) and t in data), None)
     if phrase_table is not None and not any(t in data for t in REQUIRED_TABLES):
         raise InputError(
-            f"{source}: this looks like a phrase file (it has a {PHRASE_TABLES[phrase_table]} table), not a design; give it with --dry, and as the design a file with [coil_a] and [coil_b] tables"
+            f"{source}: this looks like a phrase file (it has a {PHRASE_TABLES[phrase_table]} table), not a design; give it as the dry signal (--dry; render.load_phrase from Python), and as the design a file with [coil_a] and [coil_b] tables"
         )
     check_document(data, source, list(DESIGN_TABLES) + list(TOP_KEYS))
     for t in REQUIRED_TABLES:

@@ -346,14 +346,21 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     ``clips`` calls it inside its run's folder (:func:`render.runs.clips.run_clips`, ``from_di``),
     so a stop while un-voicing leaves that folder marked incomplete.
     """
+    from ..errors import ArgumentError
     from ..io.folders import folder_kept_on_success
     from ..io.hashing import sha256_file
 
     if di_path is None:
-        raise InputError("--from-di needs --dry DI: the recording made through that design's passive reference")
+        raise ArgumentError(
+            "dry",
+            "None",
+            "the recording made through that design's passive reference",
+            cli="--from-di needs --dry DI: the recording made through that design's passive reference",
+            python_why="from_di needs the DI as the dry signal: the recording made through that design's passive reference",
+        )
     di = Path(di_path)
     if di.suffix.lower() == ".toml":
-        raise InputError(f"--dry={di}: is a phrase; --from-di un-voices a recording (WAV, FLAC, ...)")
+        raise ArgumentError("dry", f"{di}", "is a phrase; --from-di un-voices a recording (WAV, FLAC, ...)", option="--dry", python_why="is a phrase; from_di un-voices a recording (WAV, FLAC, ...)")
     with folder_kept_on_success(folder) as made:
         res = unvoice(di, model_path, out=made / f"{di.stem}-velocity.wav", rig=rig, overwrite=overwrite, plot=plot)
     r = res.record

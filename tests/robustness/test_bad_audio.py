@@ -125,7 +125,7 @@ def test_text_named_wav_is_refused_with_a_hint(tmp_path):
 def test_a_design_and_a_phrase_given_in_each_others_place_are_named(tmp_path):
     phrase = PHRASE
     line = assert_refused(run("check", phrase), "this looks like a phrase file (it has a [[note]] table), not a design")
-    assert line.endswith("give it with --dry, and as the design a file with [coil_a] and [coil_b] tables")
+    assert line.endswith("give it as the dry signal (--dry; render.load_phrase from Python), and as the design a file with [coil_a] and [coil_b] tables")
     line = assert_refused(run("dry", REF, "--out", tmp_path / "d.wav"), "this looks like a design file (it has a [coil_a] table), not a phrase")
     assert not (tmp_path / "d.wav").exists()
 
