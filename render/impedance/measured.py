@@ -36,7 +36,7 @@ render's figures run to 20 kHz (:data:`render.impedance.ladder.REPORT_BAND_HZ`).
 A sweep that ends below it fits the ladder's sections to the losses it shows;
 above its end the core loss, and so |Z| and the phase, are the fitted model's
 extrapolation (the shipped example cut at 2 kHz, with C held at its true value,
-is off its own rows by up to 11 dB and 42° between 2 and 20 kHz, near the
+is off its own rows by up to 11 dB and 43° between 2 and 20 kHz, near the
 self-resonance: tests/cli/test_coil_band_end.py).
 
 How well the sweep fixes R_dc and the inductance at DC

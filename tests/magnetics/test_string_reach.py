@@ -15,7 +15,7 @@ import pytest
 from click.testing import CliRunner
 from magnetics.reference import require_material_response
 
-from render.analysis.sense import construction_warnings
+from render.analysis.sense import construction_warnings, sense_record
 from render.cli import main
 from render.design import load_design
 from render.design.construction import read_construction
@@ -56,6 +56,11 @@ def test_blades_with_the_strings_spread_to_14_mm_warn(tmp_path):
     for command in ("check", "sense"):
         res = CliRunner().invoke(main, [command, str(path)])
         assert res.exit_code == 0 and res.output.count(BEYOND) == 1, res.output
+    # what the line is about (the README's figures, from the model, measured): the outer strings' balance falls
+    # from −14.9 dB (string 1) and 0.0 dB (string 6) at 10.4 mm to −42.9 and −23.1 dB
+    for design, expected in ((path, {1: -42.9, 6: -23.1}), (ROOT / "models" / "slipway-steel-blades.toml", {1: -14.9, 6: 0.0})):
+        rows = {r["string"]: r["balance_db"] for r in sense_record(load_design(design))["coils"]["coil_a"]}
+        assert {k: round(rows[k], 1) for k in expected} == expected
 
 
 def test_the_demos_do_not_warn():
