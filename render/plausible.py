@@ -260,28 +260,30 @@ def bandwidth_warnings(design) -> list[str]:
     ]
 
 
-def measured_warnings(design) -> list[str]:
-    """One line per measurement file whose sweep does not determine its coil's capacitance, and one where it does not
-    determine R_dc or the inductance at DC (both coils in one line when they share the file).
+BAND_FIX = "sweep on to 20 kHz"  # what a measured coil's band_doubt asks for
 
-    The judgements are :meth:`render.impedance.measured.MeasuredCoil.capacitance_doubt`'s and
-    :meth:`~render.impedance.measured.MeasuredCoil.dc_doubt`'s, kept in the coil's record when the design loaded.
+
+def measured_warnings(design) -> list[str]:
+    """One line per measurement file whose sweep does not determine its coil's capacitance, one where it does not
+    determine R_dc or the inductance at DC, and one where it ends below 20 kHz (both coils in one line when they share
+    the file).
+
+    The judgements are :meth:`render.impedance.measured.MeasuredCoil.capacitance_doubt`'s,
+    :meth:`~render.impedance.measured.MeasuredCoil.dc_doubt`'s and :meth:`~render.impedance.measured.MeasuredCoil.band_doubt`'s,
+    kept in the coil's record when the design loaded.
     """
-    found: dict[tuple[str, str], list[str]] = {}
-    for name in ("coil_a", "coil_b"):
-        rec = getattr(getattr(design, name), "impedance_from", None)
-        doubt = getattr(rec, "capacitance_doubt", "")
-        if doubt:
-            found.setdefault((rec.file, doubt), []).append(f"[{name}]")  # type: ignore[union-attr]
-    dc: dict[tuple[str, str], list[str]] = {}
-    for name in ("coil_a", "coil_b"):
-        rec = getattr(getattr(design, name), "impedance_from", None)
-        if doubt := getattr(rec, "dc_doubt", ""):
-            dc.setdefault((rec.file, doubt), []).append(f"[{name}]")  # type: ignore[union-attr]
-    return [
-        f'{" and ".join(names)} measured={U.shown(file)}: {doubt}; sweep on past the self-resonance, or add capacitance = "…" beside measured to hold C at the coil\'s value'
-        for (file, doubt), names in found.items()
-    ] + [f"{' and '.join(names)} measured={U.shown(file)}: {doubt}" for (file, doubt), names in dc.items()]
+
+    def by_file(key: str) -> dict[tuple[str, str], list[str]]:
+        found: dict[tuple[str, str], list[str]] = {}
+        for name in ("coil_a", "coil_b"):
+            rec = getattr(getattr(design, name), "impedance_from", None)
+            if doubt := getattr(rec, key, ""):
+                found.setdefault((rec.file, doubt), []).append(f"[{name}]")  # type: ignore[union-attr]
+        return found
+
+    c_fix = 'sweep on past the self-resonance, or add capacitance = "…" beside measured to hold C at the coil\'s value'
+    fixes = (("capacitance_doubt", f"; {c_fix}"), ("dc_doubt", ""), ("band_doubt", f"; {BAND_FIX}"))
+    return [f"{' and '.join(names)} measured={U.shown(file)}: {doubt}{fix}" for key, fix in fixes for (file, doubt), names in by_file(key).items()]
 
 
 def fill_warnings(design) -> list[str]:

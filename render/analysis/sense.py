@@ -192,11 +192,13 @@ def design_saturation_warning(design) -> str | None:
 
 def construction_warnings(design) -> list[str]:
     """One line per limit of the model that this design's construction passes (empty without one):
-    an AlNiCo magnet past its knee, strings at rest near saturation."""
+    an AlNiCo magnet past its knee, outer strings beyond the pole pieces' ends, strings at rest near saturation."""
     build = getattr(design, "construction", None)
     if build is None:
         return []
     out = [note] if (note := build.construction.knee_warning()) else []
+    if note := build.construction.reach_warning(min(build.geometry_a.window_length, build.geometry_b.window_length)):
+        out.append(note)
     if note := design_saturation_warning(design):
         out.append(note)
     return out

@@ -46,7 +46,7 @@ def _eng(x: float, unit: str) -> str:
 
 
 def print_record(rec: dict) -> None:
-    from ..runs.coil import SHOWN_HZ, at, ladder_fit_words, lumped_loss_words
+    from ..runs.coil import SHOWN_HZ, at, extrapolated_note, ladder_fit_words, lumped_loss_words, shown_marks
 
     click.echo(f"{rec['design']}  ({rec['file']})")
     for name, c in rec["coils"].items():
@@ -75,10 +75,12 @@ def print_record(rec: dict) -> None:
             f"          R {_eng(c['resistance_ohm'], 'Ω')}, L {_eng(c['inductance_h'], 'H')} at DC ({loss}), C {_eng(c['capacitance_f'], 'F')}{unsure},"
             f" self-resonance {_eng(srf, 'Hz') if srf else (src or {}).get('self_resonance_doubt') or 'none below 10 MHz'}"
         )
-        vals = [at(c, f) for f in SHOWN_HZ]
+        vals, marks = [at(c, f) for f in SHOWN_HZ], shown_marks(c)
         click.echo("          Hz     " + "".join(f"{_hz(f):>8}" for f in SHOWN_HZ))
-        click.echo("          |Z| Ω  " + "".join(f"{_short(m):>8}" for m, _ in vals))
-        click.echo("          phase° " + "".join(f"{p:8.1f}" for _, p in vals))
+        click.echo("          |Z| Ω  " + "".join(f"{_short(m) + k:>8}" for (m, _), k in zip(vals, marks)))
+        click.echo("          phase° " + "".join(f"{f'{p:.1f}' + k:>8}" for (_, p), k in zip(vals, marks)))
+        if note := extrapolated_note(c):
+            click.echo(f"          {note}")
 
 
 def _coils_of(path):

@@ -130,6 +130,7 @@ class MeasuredImpedance:
     resistance_given: bool = False  # R_dc held at the design's resistance, not fitted
     dc_doubt: str = ""  # why the sweep does not determine R_dc or L at DC, its fix included (MeasuredCoil.dc_doubt), or ""
     self_resonance_doubt: str = ""  # why no self-resonance is given (MeasuredCoil.self_resonance_doubt), or ""
+    band_doubt: str = ""  # why the top of the band is extrapolated: the sweep ends below 20 kHz (MeasuredCoil.band_doubt), or ""
 
 
 def _inductances(raw: Any, loc: str, kind) -> tuple:
@@ -434,6 +435,7 @@ def _measured(coil, spec: CoilSpec, design, name: str):
         resistance_given=fit.resistance_given,
         dc_doubt=fit.dc_doubt() or "",
         self_resonance_doubt=fit.self_resonance_doubt(COIL["capacitance"].lo) or "",
+        band_doubt=fit.band_doubt() or "",
     )
     return replace(coil, inductance=fit.inductance, resistance=float(fit.resistance), capacitance=float(fit.capacitance), ladder=fit.ladder, impedance_from=record)
 

@@ -31,6 +31,14 @@ determined when x < :data:`REACH_SHARE` or the error exceeds
 :data:`REACH_SD`; it can then be held at a given value instead
 (``fit_measurement(..., capacitance=...)``).
 
+How far the sweep reaches into the band (:meth:`MeasuredCoil.band_doubt`).
+render's figures run to 20 kHz (:data:`render.impedance.ladder.REPORT_BAND_HZ`).
+A sweep that ends below it fits the ladder's sections to the losses it shows;
+above its end the core loss, and so |Z| and the phase, are the fitted model's
+extrapolation (the shipped example cut at 2 kHz, with C held at its true value,
+is off its own rows by up to 11 dB and 43° between 2 and 20 kHz, near the
+self-resonance: tests/cli/test_coil_band_end.py).
+
 How well the sweep fixes R_dc and the inductance at DC
 (:meth:`MeasuredCoil.resistance_doubt`, :meth:`MeasuredCoil.inductance_doubt`).
 Both are what the coil shows at the low end, below its corner R_dc/(2πL),
@@ -58,7 +66,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from .ladder import Ladder, fit_ladder
+from .ladder import REPORT_BAND_HZ, Ladder, fit_ladder
 
 # C's share of the reactance at the sweep's top frequency, ω²·L_dc·C, below which the fitted C is not
 # trusted: measured on the shipped synthetic example (1 % noise) cut short, where C came out more than
@@ -71,6 +79,18 @@ REACH_SD = 0.1  # the fitted C's (and R_dc's, L's) relative standard error above
 # of tests/impedance/test_measured_determined.py (1 % noise) R_dc came out within 1 % from every start below
 # 500 Hz (phase 58° there), 1.7 % off from 1 kHz (69°) and 36 % off from 2 kHz: 45° keeps a margin
 LOW_END_DEG = 45.0
+BAND_TOP_HZ = REPORT_BAND_HZ[1]  # a sweep ending below this leaves the top of the band extrapolated
+ROUNDING = 1e-3  # a frequency within this share of the sweep's end is inside it (a log-spaced sweep's rounding)
+
+
+def outside_sweep(frequency_hz, band_hz: tuple[float, float] | None) -> np.ndarray:
+    """Whether each frequency (Hz, shape (F,)) lies outside a measured sweep ``band_hz`` (Hz, its first and last
+    frequency), where the fitted model is extrapolated; all False for ``band_hz`` None (a coil not measured)."""
+    f = np.atleast_1d(np.asarray(frequency_hz, float))
+    if band_hz is None:
+        return np.zeros(f.shape, bool)
+    lo, hi = band_hz
+    return (f < lo * (1 - ROUNDING)) | (f > hi * (1 + ROUNDING))
 
 
 def terminal_impedance(frequency_hz, *, resistance: float, ladder: Ladder, capacitance: float) -> np.ndarray:
@@ -174,6 +194,19 @@ class MeasuredCoil:
         if x < REACH_SHARE:
             return f"C is not determined: the sweep ends at {format_si(float(self.frequency_hz[-1]), 'Hz', 3)}, where C carries ω²LC = {x:.2g} of the reactance (under {REACH_SHARE:g}); {guess}"
         return f"C is not determined: the fit's spread of C is over {REACH_SD:.0%}; {guess}"
+
+    def band_doubt(self) -> str | None:
+        """Why the top of the band is extrapolated (one clause, the fix the caller's to add), or None when the sweep reaches
+        :data:`BAND_TOP_HZ` (within :data:`ROUNDING`)."""
+        from ..units import format_si
+
+        top = float(self.frequency_hz[-1])
+        if top >= BAND_TOP_HZ * (1 - ROUNDING):
+            return None
+        return (
+            f"the sweep ends at {format_si(top, 'Hz', 3)}, below {format_si(BAND_TOP_HZ, 'Hz')}: the core loss (the ladder's R∥L sections) and |Z| above"
+            f" {format_si(top, 'Hz', 3)} are the fit's extrapolation, not the coil's"
+        )
 
     def self_resonance_doubt(self, floor: float) -> str | None:
         """Why no self-resonance is given, in words, when the sweep does not determine C (the model's phase

@@ -179,6 +179,49 @@ class Construction:
             return knee_warning(self.grade, self.remanence, self.magnet_permeability, self.magnet, 2, "each magnet blade")
         return knee_warning(self.grade, self.remanence, self.magnet_permeability, self.magnet, 0, "the bar magnet")
 
+    def pole_reach(self) -> float:
+        """m: how far the pole pieces reach each side of the middle across the strings (along y): a blade's
+        half-length, or the outer screw's outer edge."""
+        if self.kind == "magnet-blades":
+            return self.magnet[1] / 2.0
+        assert self.steel is not None
+        if self.kind == "steel-blades":
+            return self.steel[1] / 2.0
+        return (self.poles - 1) / 2.0 * self.pole_spacing + self.steel[0] / 2.0
+
+    def reach_warning(self, window_length: float | None = None) -> str | None:
+        """One line when the outer strings lie beyond the pole pieces' ends across the strings (:meth:`pole_reach`),
+        where only the pole pieces' fringe field reaches them, else None (a plausibility warning, not a refusal).
+
+        window_length : m, the shorter coil window's length across the strings, or None: a blade longer than it
+            cannot be the fix, and the hint says so
+        """
+        reach, y = self.pole_reach(), self.strings.y
+        n = self.strings.count
+        beyond = {n - i: float(abs(v) - reach) for i, v in enumerate(y) if abs(v) > reach + 1e-9}  # numbered from the treble side
+        if not beyond:
+            return None
+        named = sorted(beyond)
+        far = max(beyond.values())
+        how = f"{far * 1e3:.3g} mm" if far - min(beyond.values()) < 1e-6 else f"up to {far * 1e3:.3g} mm"
+        piece = {"magnet-blades": "the magnet blades reach", "steel-blades": "the steel blades reach", "steel-poles": "the outer screws' edges lie"}[self.kind]
+        source = {"magnet-blades": "magnet_length", "steel-blades": "steel_length", "steel-poles": "poles, pole_spacing and steel_width"}[self.kind]
+        y_out = float(np.max(np.abs(y)))
+        spacing = 2.0 * reach / (n - 1)
+        need = 2.0 * y_out  # a blade as long as the strings' spread
+        if self.kind == "steel-poles":
+            longer = f"pole_spacing at least {2.0 * (y_out - self.steel[0] / 2.0) / (self.poles - 1) * 1e3:.3g} mm" if self.poles > 1 else None  # type: ignore[index]
+        else:
+            key = "magnet_length" if self.kind == "magnet-blades" else "steel_length"
+            room = f", in a window at least that long (window_length {window_length * 1e3:.3g} mm)" if window_length is not None and need > window_length else ""
+            longer = f"{key} at least {need * 1e3:.3g} mm{room}"
+        strings = f"strings {', '.join(map(str, named[:-1]))} and {named[-1]}" if len(named) > 1 else f"string {named[0]}"
+        return (
+            f"[construction] {strings} {'lie' if len(named) > 1 else 'lies'} {how} beyond the pole pieces' ends across the strings ({piece} {reach * 1e3:.3g} mm"
+            f" each side of the middle, from {source}; string_spacing {self.strings.spacing * 1e3:.3g} mm puts the outer strings at {y_out * 1e3:.3g} mm):"
+            f" {'they are' if len(named) > 1 else 'it is'} sensed only by the pole pieces' fringe field; give string_spacing at most {spacing * 1e3:.3g} mm" + (f", or {longer}" if longer else "")
+        )
+
     def _overlaps_winding(self, name: str, geom: CoilGeometry) -> None:
         """Refuse pole pieces (z from top − their height to top) that stand wholly above or below the coil's winding (z from −its height to 0)."""
         h = self.magnet[2] if self.kind == "magnet-blades" else self.steel[2]  # type: ignore[index]

@@ -18,6 +18,7 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..impedance.ladder import REPORT_BAND_HZ
+from ..impedance.measured import outside_sweep
 from ..usual import USUAL
 
 if TYPE_CHECKING:
@@ -146,8 +147,34 @@ def coil_record(design, *, points: int = POINTS) -> dict:
             "frequency_hz": f.tolist(),
             "magnitude_ohm": np.abs(z).tolist(),
             "phase_deg": np.degrees(np.angle(z)).tolist(),
+            "extrapolated": outside_sweep(f, _sweep(rec)).tolist(),
         }
     return {"design": design.name, "file": design.source, **design_provenance(design), "coils": coils}
+
+
+def _sweep(rec) -> tuple[float, float] | None:
+    """A measured coil's swept band (Hz), from its record (an object or its JSON dict); None for a coil not measured."""
+    if isinstance(rec, dict):
+        kind, band = rec.get("kind"), rec.get("band_hz")
+    else:
+        kind, band = getattr(rec, "kind", ""), getattr(rec, "band_hz", None)
+    return (float(band[0]), float(band[1])) if kind == "measured" and band is not None else None
+
+
+EXTRAPOLATED_MARK = "*"  # after a printed figure the fit extrapolates beyond a measured sweep
+
+
+def shown_marks(rec_coil: dict) -> list[str]:
+    """The mark after each printed column (:data:`SHOWN_HZ`) of a coil record: :data:`EXTRAPOLATED_MARK` outside a measured sweep, else ""."""
+    return [EXTRAPOLATED_MARK if x else "" for x in outside_sweep(SHOWN_HZ, _sweep(rec_coil["from"] or {}))]
+
+
+def extrapolated_note(rec_coil: dict) -> str | None:
+    """The footnote to :func:`shown_marks`, or None when no printed column is marked."""
+    if not any(shown_marks(rec_coil)):
+        return None
+    lo, hi = _sweep(rec_coil["from"])  # type: ignore[misc]
+    return f"{EXTRAPOLATED_MARK} outside the sweep ({U.format_si(lo, 'Hz', 3)} – {U.format_si(hi, 'Hz', 3)}): the fitted model's extrapolation, not measured"
 
 
 def at(rec_coil: dict, frequency_hz: float) -> tuple[float, float]:
@@ -370,6 +397,10 @@ def fit_warnings(result: FitResult) -> tuple[str, ...]:
         out.append(f"{doubt}; sweep on past the self-resonance, or hold C at the coil's value with --capacitance (e.g. from the winding's estimate or a bridge reading)")
     elif not fit.capacitance_given and not rng.holds(fit.capacitance):
         out.append(f"capacitance {U.format_si(fit.capacitance, 'F', 4)} is outside {rng.text('F')} (pickup coils): is this a coil's sweep?")
+    if (doubt := fit.band_doubt()) is not None:
+        from ..plausible import BAND_FIX
+
+        out.append(f"{doubt}; {BAND_FIX}")
     bands = result.residual_bands()
     if bands:
         b = bands[0]

@@ -36,12 +36,14 @@ def invoke(*args):
     return CliRunner().invoke(main, [str(a) for a in args])
 
 
-def test_coil_fit_of_a_1_khz_sweep_warns_once_and_labels_the_residual_with_the_data(tmp_path):
+def test_coil_fit_of_a_1_khz_sweep_warns_once_about_c_and_labels_the_residual_with_the_data(tmp_path):
     path = cut_file(tmp_path / "to1k.csv", 1e3)
     res = invoke("coil", "fit", path, "--json", tmp_path / "fit.json")
     assert res.exit_code == 0, res.output
     warns = [x for x in res.output.splitlines() if x.startswith("warning: ")]
-    assert len(warns) == 1 and warns[0].startswith("warning: C is not determined: the sweep ends at 1 kHz") and "--capacitance" in warns[0]
+    # C's line, and the band's top extrapolated (tests/cli/test_coil_band_end.py)
+    assert len(warns) == 2 and warns[0].startswith("warning: C is not determined: the sweep ends at 1 kHz") and "--capacitance" in warns[0]
+    assert warns[1].startswith("warning: the sweep ends at 1 kHz, below 20 kHz")
     rows = [x.strip() for x in res.output.splitlines() if " pts " in x]
     assert [r.split("  ")[0] for r in rows] == ["20 Hz – 1 kHz", "20 Hz – 200 Hz", "200 Hz – 1 kHz"]
     assert "not determined by this sweep" in res.output
@@ -56,7 +58,11 @@ def test_coil_fit_holds_a_given_capacitance(tmp_path):
     path = cut_file(tmp_path / "to1k.csv", 1e3)
     res = invoke("coil", "fit", path, "--capacitance", "95p", "--out", tmp_path / "coil.toml")
     assert res.exit_code == 0, res.output
-    assert "capacitance     95 pF (given, not fitted)" in res.output and "warning" not in res.output
+    assert "capacitance     95 pF (given, not fitted)" in res.output and "C is not determined" not in res.output
+    # C held: only the band's top is still extrapolated, and said
+    assert [x for x in res.output.splitlines() if x.startswith("warning: ")] == [
+        "warning: the sweep ends at 1 kHz, below 20 kHz: the core loss (the ladder's R∥L sections) and |Z| above 1 kHz are the fit's extrapolation, not the coil's; sweep on to 20 kHz"
+    ]
     table = (tmp_path / "coil.toml").read_text()
     assert 'capacitance = "95pF"' in table and "# capacitance held at the value given" in table
     res = invoke("coil", "fit", path, "--capacitance", "95")
