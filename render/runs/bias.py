@@ -214,9 +214,12 @@ def bias_run(
     design : Design
     rig : RigFile or None
         Play into this rig instead of the design's own.
-    ratios, tops, bottoms, batteries, keep_load, sine_velocity
-        The sweep's settings, as :func:`render.bias_sweep` takes them (ratios 0.02..0.98; tops and bottoms in Ω;
-        batteries in V; sine_velocity in m/s peak).
+    ratios : sequence of float, 0.02..0.98
+    tops, bottoms : sequences of float, Ω, or None
+    batteries : sequence of float, V, or None
+    keep_load : bool
+    sine_velocity : float or None, m/s peak
+        The sweep's settings, each as :func:`render.bias_sweep` takes it (the design's own divider is added to the ratios).
     out : str or Path or None
         The folder for the clips (``S-r<ratio>-<battery>V.wav`` and a ``-matched.wav`` copy at ``target_lufs``
         each), the plots and the comparison page; refused before any work if it holds files, unless ``overwrite``.

@@ -114,8 +114,9 @@ class HumDesignRun:
     positions : PositionMonteCarlo or None
         The rejection over random dipole sources (with ``positions``).
     record : dict
-        The design's JSON record: the report's figures, ``hum_and_noise``, and ``measured``, ``monte_carlo``,
-        ``map`` and ``positions`` (``joint`` when drawn with the tolerances) where they were asked for.
+        The design's JSON record: the report's figures, ``hum_and_noise``, and where they were asked for the
+        measured rejection (``measured``), the tolerance Monte Carlo, the map (``map``) and the random
+        sources (``positions``, or ``joint`` when drawn with the tolerances).
     """
 
     design: Any
