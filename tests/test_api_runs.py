@@ -104,3 +104,30 @@ def test_noise_run_is_render_noises_record(tmp_path, model, rig, compare):
     r = render.noise_run(model, rig=rig, temperature_k=350.0, compare=load_passive(PASSIVE) if compare else None)
     same_text(tmp_path / "cli.json", r.record)
     assert ("compare" in r.record) == compare and len(r.scales) == 2 + compare
+
+
+@pytest.mark.parametrize(
+    ("call", "words"),
+    [
+        (lambda tmp: render.hum_run([ODD], rejection_map="yes"), r"rejection_map='yes': got str; pass True or False"),
+        (lambda tmp: render.hum_run([ODD], positions=5), r"positions=5: must be at least 10"),
+        (lambda tmp: render.hum_run([ODD], histogram=tmp / "h.png"), r"histogram=.*h\.png: needs a Monte Carlo: give tolerances"),
+        (lambda tmp: render.hum_run([ODD], shell=(0.5, 1.0)), r"shell=\(0\.5, 1\.0\): needs random sources: give positions"),
+        (lambda tmp: render.bias_run(ODD, out=tmp / "b", dry=tmp / "none.toml"), r"dry=.*none\.toml: no such file"),
+        (lambda tmp: render.noise_run(ODD, top=0), r"top=0: must be from 1 to 40"),
+    ],
+)
+def test_the_runs_name_a_refused_argument_as_python_names_it(tmp_path, call, words):
+    with pytest.raises(render.ArgumentError, match=words):
+        call(tmp_path)
+    assert not (tmp_path / "b").exists() and not (tmp_path / "h.png").exists()  # refused before any file
+
+
+def test_a_design_changed_after_reading_is_refused_where_its_file_is_recorded():
+    import dataclasses
+
+    d = render.load_design(REF)
+    changed = dataclasses.replace(d, feedback=dataclasses.replace(d.feedback, c=220e-12))
+    for call in (lambda: render.hum_run([changed]), lambda: render.noise_run(changed), lambda: render.bias_run(changed, ratios=(0.5,))):
+        with pytest.raises(render.ArgumentError, match=r"its values were changed after it was read .*render.with_values"):
+            call()

@@ -4,12 +4,16 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..dry import refuse_strength_with_recording
 from .strength import phrase_at_strength
+
+if TYPE_CHECKING:
+    from ..analysis.bias import BiasSweep
+    from ..design import Design
 
 __all__ = ["BiasClips", "BiasRun", "bias_run", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
 
@@ -180,8 +184,8 @@ class BiasRun:
         Where the clips, plots and comparison page went.
     """
 
-    design: Any
-    sweep: Any
+    design: Design
+    sweep: BiasSweep
     clips: BiasClips | None
     record: dict
     warnings: tuple[str, ...]
@@ -243,12 +247,14 @@ def bias_run(
     -------
     BiasRun
     """
+    from .. import arguments as A
     from ..analysis.bias import bias_sweep
     from ..design import apply_rig
     from ..dry import default_dry_path
     from ..errors import ArgumentError
     from ..io.folders import output_folder
 
+    overwrite = A.flag("overwrite", overwrite)
     folder = None if out is None else output_folder(out, overwrite=overwrite)
     phrase = None
     if folder is not None:  # refused before any work, so a refused run touches nothing

@@ -5,9 +5,16 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from ..analysis.comparison import Comparison
+    from ..analysis.hum import HumReport, MonteCarlo
+    from ..analysis.one_scale import OneScale
+    from ..design import Design
+    from ..magnetics.rejection import PositionMonteCarlo, RejectionMap
 
 
 @dataclass(frozen=True)
@@ -119,13 +126,13 @@ class HumDesignRun:
         sources (``positions``, or ``joint`` when drawn with the tolerances).
     """
 
-    design: Any
-    report: Any
-    scales: tuple
+    design: Design
+    report: HumReport
+    scales: tuple[OneScale, ...]
     audio: HumAudio | None
-    tolerances: Any
-    rejection_map: Any
-    positions: Any
+    tolerances: MonteCarlo | None
+    rejection_map: RejectionMap | None
+    positions: PositionMonteCarlo | None
     record: dict
 
 
@@ -147,7 +154,7 @@ class HumRun:
     """
 
     designs: tuple[HumDesignRun, ...]
-    compare: Any
+    compare: Comparison | None
     record: dict
     folder: Path | None
 
@@ -228,6 +235,7 @@ def hum_run(
     """
     import contextlib
 
+    from .. import arguments as A
     from ..analysis import hum_room as hr
     from ..analysis.comparison import comparison
     from ..analysis.hum import hum, monte_carlo
@@ -235,6 +243,9 @@ def hum_run(
     from ..design import apply_rig, design_provenance
     from ..io.folders import output_folder, refuse_existing, run_folder
 
+    rejection_map, joint, overwrite = (A.flag(n, v) for n, v in (("rejection_map", rejection_map), ("joint", joint), ("overwrite", overwrite)))
+    if positions is not None:
+        positions = A.whole("positions", positions, lo=10)
     for name, path in (("png", png), ("histogram", histogram), ("map_png", map_png)):
         refuse_existing([path], overwrite=overwrite, argument=name)
     tol = dict(tolerances or {})

@@ -3,9 +3,15 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING
 
 from ..analysis.noise import REFERENCE_VELOCITY, T_DEFAULT
+
+if TYPE_CHECKING:
+    from ..analysis.comparison import Comparison
+    from ..analysis.noise import NoiseReport
+    from ..analysis.one_scale import OneScale
+    from ..design import Design
 
 
 @dataclass(frozen=True)
@@ -28,10 +34,10 @@ class NoiseRun:
         and ``compare`` (with a comparison pickup).
     """
 
-    design: Any
-    report: Any
-    scales: tuple
-    compare: Any
+    design: Design
+    report: NoiseReport
+    scales: tuple[OneScale, ...]
+    compare: Comparison | None
     record: dict
 
 
@@ -60,12 +66,14 @@ def noise_run(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_v
     -------
     NoiseRun
     """
+    from .. import arguments as A
     from ..analysis.comparison import comparison
     from ..analysis.noise import noise, noise_record
     from ..analysis.one_scale import design_one_scale
     from ..design import apply_rig
     from ..io.folders import refuse_existing
 
+    top, overwrite = A.whole("top", top, lo=1, hi=40), A.flag("overwrite", overwrite)
     refuse_existing([png], overwrite=overwrite, argument="png")
     report = noise(design, rig=rig, temperature_k=temperature_k, reference_velocity=reference_velocity)
     d = apply_rig(design, rig)
