@@ -11,7 +11,8 @@ import numpy as np
 
 if TYPE_CHECKING:
     from ..analysis.comparison import Comparison
-    from ..analysis.hum import HumReport, MonteCarlo
+    from ..analysis.hum import HumReport
+    from ..analysis.hum import MonteCarlo as HumTolerances  # its public name (render.HumTolerances)
     from ..analysis.one_scale import OneScale
     from ..design import Design
     from ..magnetics.rejection import PositionMonteCarlo, RejectionMap
@@ -130,7 +131,7 @@ class HumDesignRun:
     report: HumReport
     scales: tuple[OneScale, ...]
     audio: HumAudio | None
-    tolerances: MonteCarlo | None
+    tolerances: HumTolerances | None
     rejection_map: RejectionMap | None
     positions: PositionMonteCarlo | None
     record: dict
