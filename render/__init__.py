@@ -85,12 +85,19 @@ _HOME = {
     "BlindSession": "render.runs.blind",
     "score_blind_session": "render.runs.score",
     "SessionScore": "render.runs.score",
+    "hum_run": "render.runs.hum",
+    "HumRun": "render.runs.hum",
+    "HumDesignRun": "render.runs.hum",
+    "noise_run": "render.runs.noise",
+    "NoiseRun": "render.runs.noise",
+    "bias_run": "render.runs.bias",
+    "BiasRun": "render.runs.bias",
     # a measured coil
     "fit_coil": "render.runs.coil",
     "CoilFit": "render.runs.coil",
 }
 # the jobs that record the designs they render: a design changed after loading (not with with_values) is refused there
-_RECORDING = {"render_clips", "unvoice", "build_blind_session"}
+_RECORDING = {"render_clips", "unvoice", "build_blind_session", "hum_run", "noise_run", "bias_run"}
 _ALIASES = {"render_clips": "run_clips", "hum_tolerances": "monte_carlo", "HumTolerances": "MonteCarlo", "fit_coil": "fit_file", "CoilFit": "FitResult"}
 
 __all__ = sorted(_HOME) + ["__version__"]

@@ -70,9 +70,9 @@ def test_figures_takes_its_responses_by_keyword_only():
 # each command the README says has a public function, and the function(s) doing its work
 FUNCTIONS = {
     "response": ["response", "figures"],
-    "hum": ["hum", "hum_map", "hum_positions", "hum_tolerances"],
-    "noise": ["noise"],
-    "bias": ["bias_sweep"],
+    "hum": ["hum", "hum_map", "hum_positions", "hum_tolerances", "hum_run"],
+    "noise": ["noise", "noise_run"],
+    "bias": ["bias_sweep", "bias_run"],
     "clips": ["render_clips"],
     "fit": ["fit", "fit_and_render"],
     "unvoice": ["unvoice"],

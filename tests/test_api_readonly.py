@@ -73,6 +73,10 @@ def results(tmp_path_factory) -> dict:
         for i in range(len(plan["trials"])):
             log.record({"trial": i, "answer": "A", "comment": ""})
     noise = render.noise(d)
+    from render.design.passive import load_passive
+
+    passive = load_passive(ROOT / "models" / "compare" / "workshop-passive.toml")
+    hum_run = render.hum_run([d], out=tmp / "hum", tolerances={"resistor": 0.01}, trials=10, rejection_map=True, bearings_deg=(0,), positions=10, compare=passive)
     return {
         "Design": render.load_design(ROOT / "models" / "measured-blade.toml"),  # a measured coil's fit inside
         "RigFile": render.load_rig(ROOT / "rigs" / "near-transformer.toml"),
@@ -99,6 +103,10 @@ def results(tmp_path_factory) -> dict:
         "BlindSession": session,
         "SessionScore": render.score_blind_session(tmp / "blind"),
         "CoilFit": render.fit_coil(COIL),
+        "HumRun": hum_run,
+        "HumDesignRun": hum_run.designs[0],
+        "NoiseRun": render.noise_run(d, compare=passive),
+        "BiasRun": render.bias_run(d, ratios=(0.5,), seconds=0.5, out=tmp / "bias"),
     }
 
 

@@ -46,6 +46,11 @@ class Comparison:
     noise: NoiseFloor
     scale: OneScale
 
+    def __post_init__(self) -> None:
+        from ..readonly import lock_arrays
+
+        lock_arrays(self)
+
     def as_dict(self) -> dict:
         return {
             "file": self.design.source,

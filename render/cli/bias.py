@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import click
 
 from ..analysis.bias import SINE_VELOCITY_RANGE
@@ -82,46 +80,27 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
     clip of the phrase with a loudness-matched copy, so the comparison is by
     ear and not by level.
     """
-    from ..analysis.bias import bias_sweep
     from ..design import load_designs
-    from ..dry import default_dry_path
     from ..errors import InputError
     from ..io.folders import output_folder, refuse_existing
-    from ..runs.bias import check_strength, sweep_record, write_bias_clips
+    from ..runs.bias import bias_run
     from ..units import RESISTANCE, VOLTAGE
 
     refuse_existing([json_path], overwrite=overwrite)
     strength_m = pluck_strength(strength)
-    out = dry = None
     if no_clips and out_dir is not None:
         raise InputError(f"--out={out_dir}: --no-clips writes no folder; drop --out, or drop --no-clips to write the clips there")
-    if not no_clips:  # refuse before any work, so a refused run touches nothing
-        out = output_folder(out_dir, overwrite=overwrite, prefix="bias")
-        dry = Path(dry_path) if dry_path else default_dry_path()
-        if not dry.exists():
-            raise InputError(f"--dry={dry}: no such file")
-    for w in check_strength(strength_m, dry if dry is not None else Path("phrase.toml")):
-        warn(w)
+    out = None if no_clips else output_folder(out_dir, overwrite=overwrite, prefix="bias")  # the default: a new outputs/bias-<time>
     (design,), _ = load_designs([model], rig=rig_path)
     kinds = {"tops": _floats(tops, "--top", kind=RESISTANCE, like="100k,220k", once=False), "bottoms": _floats(bottoms, "--bottom", kind=RESISTANCE, like="100k,220k", once=False)}
-    sw = bias_sweep(
-        design,
-        ratios=_floats(ratios, "--ratios"),
-        **kinds,
-        batteries=_floats(batteries, "--battery", kind=VOLTAGE, like="9,8,7 or 9V,8V,7V"),
-        keep_load=keep_load,
-        sine_velocity=sine_velocity,
-        jobs=jobs,
-    )
-    for w in sw.warnings:
+    batteries = _floats(batteries, "--battery", kind=VOLTAGE, like="9,8,7 or 9V,8V,7V")
+    settings = {"keep_load": keep_load, "sine_velocity": sine_velocity, "dry": dry_path, "strength_m": strength_m, "seconds": seconds, "seed": seed, "target_lufs": target_lufs}
+    run = bias_run(design, ratios=_floats(ratios, "--ratios"), **kinds, batteries=batteries, **settings, out=out, jobs=jobs, overwrite=overwrite)
+    for w in run.warnings:
         warn(w)
+    sw, clips = run.sweep, run.clips
     print_sweep(sw)
-    payload = sweep_record(sw)
-    if out is not None and dry is not None:
-        clips = write_bias_clips(sw, dry, out, strength_m=strength_m, seconds=seconds, seed=seed, target_lufs=target_lufs, jobs=jobs)
-        for row, clip in zip(payload["settings"], clips.clips):
-            row["clip"] = clip
-        payload["clips"] = clips.record
+    if clips is not None:
         print_bias_phrase(sw, clips.clips)
         low = clips.record["matched_lowered_db"]
         level = (
@@ -129,6 +108,6 @@ def bias_command(model, rig_path, ratios, tops, bottoms, keep_load, batteries, d
             if low == 0
             else f"{target_lufs - low:.1f} LUFS: all lowered {low:.1f} dB from {target_lufs:g} LUFS to keep true peaks at or below {clips.record['matched_ceiling_dbtp']:g} dBTP"
         )
-        click.echo(f"clips, loudness-matched copies ({level}) and plots in {out}/")
+        click.echo(f"clips, loudness-matched copies ({level}) and plots in {run.folder}/")
         click.echo("Start playback at a low volume: the matched copies are level-matched, but clipped ones still sound loud.")
-    emit_json(json_path, payload, overwrite=overwrite)
+    emit_json(json_path, run.record, overwrite=overwrite)

@@ -10,40 +10,8 @@ from __future__ import annotations
 import click
 
 from .options import friendly, overwrite_option, pluck_strength, rig_option, sample_rate_option
+from .shared_print import print_blind_session
 from .values import Finite, InFile, OutFolder
-
-CAUTION = "(start with the volume low: a clipped clip stays loud even when matched)"
-
-
-def print_blind_session(session) -> None:
-    """What a built session holds, on standard output (warnings go to standard error first)."""
-    from ..listening.score import fewest_trials_for
-
-    for w in session.warnings:
-        click.echo(f"note: {w}", err=True)
-    match = session.loudness
-    root = session.paths.root
-    click.echo(f"wrote {root}: {session.method}, {session.trials} trials, clips of {session.seconds:.2f} s at {session.sample_rate} Hz")
-    for name, lufs, peak, gain in zip(session.names, match.measured_lufs, match.true_peak_dbtp, match.gains_db):
-        click.echo(f"  {name:<24} {lufs:6.1f} LUFS, true peak {peak:+6.1f} dBTP before matching; gain {gain:+.1f} dB")
-    if match.lowered_db > 0:
-        click.echo(
-            f"  both lowered {match.lowered_db:.1f} dB below {match.target_lufs:g} LUFS to keep the true peak under {match.ceiling_dbtp:g} dBTP"
-            f" (at most {match.aim_dbtp:g} as measured, a margin for what the meter misses between samples); they play at {match.target_lufs - match.lowered_db:.1f} LUFS"
-        )
-    else:
-        click.echo(f"  both play at {match.target_lufs:g} LUFS, true peak at most {max(match.final_true_peak_dbtp):+.1f} dBTP")
-    if session.headroom:
-        from .headroom_print import headroom_lines, headroom_title
-
-        click.echo("  " + headroom_title(list(zip(session.names, session.headroom))))
-        for line in headroom_lines(list(zip(session.names, session.headroom)), indent="    "):
-            click.echo(line)
-    if max(session.clipped_fraction) > 0:
-        click.echo("  note: at least one design clips in this render; a clipped clip stays loud and harsh even when matched")
-    if session.method == "abx" and session.trials < fewest_trials_for():
-        click.echo(f"  note: with {session.trials} trials even a perfect ABX score cannot reach p < 0.05; use at least {fewest_trials_for()}")
-    click.echo(f"next: render listen {root}   {CAUTION}")
 
 
 @click.command("blind")
@@ -105,7 +73,7 @@ def blind_command(model_a, model_b, dry_path, rig_path, trials, method, seed, ou
         made = None
         if from_di:
             from ..runs.unvoice import velocity_from_di
-            from .unvoice import report_from_di
+            from .shared_print import report_from_di
 
             folder = scratch.enter_context(tempfile.TemporaryDirectory(prefix="render-unvoice-"))  # the velocity lives only while the session is built
             made = velocity_from_di(dry_path, from_di, folder=folder, rig=rig_path, plot=False)

@@ -111,7 +111,7 @@ def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots
     """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
     from ..runs.clips import run_clips
     from .clips_print import progress_bar, report_clips
-    from .unvoice import report_from_di
+    from .shared_print import report_from_di
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     with progress_bar(len(designs)) as update:

@@ -64,7 +64,7 @@ def print_record(rec: dict) -> None:
             how = f"derived: air core {_eng(src['air_inductance_h'], 'H')}, {core}; {ladder_fit_words(src)}"
         click.echo(f"  {name}  {how}")
         lad = c["ladder"]
-        from .coil_fit import ladder_words
+        from .shared_print import ladder_words
 
         loss = f"ladder {ladder_words(lad['series_inductance_h'], len(lad['inductances_h']), _eng)}" if lad else lumped_loss_words(c)
         srf = c["self_resonance_hz"]

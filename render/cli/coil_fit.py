@@ -9,14 +9,8 @@ import click
 from ..io.folders import refuse_existing as check_new
 from ..io.folders import refuse_inputs
 from .options import emit_json, friendly, json_option, overwrite_option
+from .shared_print import ladder_words
 from .values import InFile, OutFile
-
-
-def ladder_words(series_h: float, sections: int, eng) -> str:
-    """ "L0 1.36 H + 2 R∥L sections", "L0 1.36 H + 1 R∥L section", or "L0 39.96 mH alone, no R∥L sections"."""
-    if sections == 0:
-        return f"L0 {eng(series_h, 'H')} alone, no R∥L sections"
-    return f"L0 {eng(series_h, 'H')} + {sections} R∥L section{'s' if sections != 1 else ''}"
 
 
 def _eng(x: float, unit: str, digits: int = 4) -> str:

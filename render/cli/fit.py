@@ -51,8 +51,8 @@ def fit_command(fitfile, start_path, rig_path, top, out_dir, seed, render_clips,
     from ..runs.blind import BlindSession
     from ..runs.clips import ClipsRun
     from ..runs.fit import FitRun, fit_and_render
-    from .blind import print_blind_session
     from .clips_print import progress_bar, report_clips
+    from .shared_print import print_blind_session
 
     def report(step) -> None:
         if isinstance(step, FitRun):

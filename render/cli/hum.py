@@ -2,14 +2,12 @@
 
 from __future__ import annotations
 
-import contextlib
-
 import click
 
 from .compare_print import compare_option
 from .hum_options import map_options, read_bearings, read_shell, read_tolerances
-from .hum_print import print_audio, print_monte_carlo, print_report, room, warnings
-from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option
+from .hum_print import print_audio, print_map, print_monte_carlo, print_positions, print_report
+from .options import emit_json, friendly, jobs_option, json_option, overwrite_option, rig_option, warn
 from .values import InFile, OutFile, OutFolder, Seed
 
 
@@ -66,81 +64,41 @@ def hum_command(
     the parts the rejection is most sensitive to). With [[hum.source]]
     tables in the rig, each coil sees its own flux from each source.
     """
-    from ..analysis.hum import hum, monte_carlo
-    from ..design import design_provenance, load_designs
+    from ..design import load_designs
     from ..errors import InputError
-    from ..io.folders import output_folder, refuse_existing, run_folder
+    from ..io.folders import refuse_existing
+    from ..runs.hum import hum_run
+    from .compare_print import echo, hum_lines, load_compare, scale_lines
 
     refuse_existing([json_path, png_path, hist_path, map_png], overwrite=overwrite)
     bearings = read_bearings(map_bearings)
     map_on = map_on or bool(map_png) or map_plane is not None or bearings is not None
-    map_plane = map_plane or "xy"
     if (shell or joint) and not positions:
         raise InputError(f"{'--shell' if shell else '--joint'} needs random sources: add --positions N (e.g. --positions 2000)")
     shell_m = read_shell(shell)
     tol = read_tolerances(tolerance, resistor=tolerance_resistor, capacitor=tolerance_capacitor, turns=tolerance_turns)
     if hist_path and not tol:
         raise InputError("--histogram needs a Monte Carlo: add --tolerance (e.g. --tolerance 1%)")
-    designs, _ = load_designs(models, rig=rig_path)
-    from ..analysis.hum_room import check_room
-
-    for d in designs:  # a map's or a shell's dipole within 10 cm of a coil: refused before any work
-        check_room(d, map_on=map_on, plane=map_plane, bearings_deg=bearings, positions=bool(positions), shell=shell_m)
-    from ..analysis.one_scale import design_one_scale
-    from .compare_print import comparison_of, echo, hum_lines, load_compare, scale_lines
-
-    compared = comparison_of(load_compare(compare_path, rig_path))
-    folder = output_folder(out_dir, overwrite=overwrite) if out_dir else None
-    with run_folder(folder) if folder is not None else contextlib.nullcontext(None) as out:
-        records = []
-        for i, d in enumerate(designs):
-            r = hum(d)
-            rec = {"file": d.source, "design": d.name, **design_provenance(d), **r.as_dict()}
-            warnings(rec, d, dipoles=bool(map_on or positions))
-            if i:
-                click.echo()
-            print_report(d, r)
-            scales = [*design_one_scale(d), *([compared.scale] if compared else [])]
-            rec["hum_and_noise"] = [s.as_dict() for s in scales]
-            echo(scale_lines(scales))
-            if out is not None:
-                from ..runs.hum import write_hum_audio
-
-                audio = write_hum_audio(out, d)
-                rec["measured"] = audio.as_dict()
-                print_audio(audio, r.harmonics)
-            if tol:
-                mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
-                rec["monte_carlo"] = mc.as_dict()
-                print_monte_carlo(mc)
-                if hist_path and i == 0:
-                    from ..runs.hum import write_histogram
-
-                    write_histogram(hist_path, mc, name=d.name, overwrite=overwrite)
-            room(
-                rec,
-                d,
-                map_on=map_on,
-                map_plane=map_plane,
-                bearings=bearings,
-                map_png=map_png if i == 0 else None,
-                positions=positions,
-                shell=shell_m,
-                joint=joint,
-                tolerances=tol,
-                seed=seed,
-                jobs=jobs,
-                overwrite=overwrite,
-            )
-            records.append(rec)
-        if compared is not None:
+    designs, rig = load_designs(models, rig=rig_path)
+    room = {"rejection_map": map_on, "plane": map_plane or "xy", "bearings_deg": bearings, "positions": positions, "shell": shell_m, "joint": joint}
+    files = {"out": out_dir, "png": png_path, "histogram": hist_path, "map_png": map_png, "overwrite": overwrite}
+    run = hum_run(designs, rig=rig, tolerances=tol, trials=trials, seed=seed, jobs=jobs, **room, compare=load_compare(compare_path, rig_path), **files)
+    for i, r in enumerate(run.designs):
+        for w in r.record.get("warnings", []):
+            warn(w)
+        if i:
             click.echo()
-            echo(hum_lines(compared))
-    payload = records[0] if len(records) == 1 else {"designs": records}
-    if compared is not None:
-        payload = {**payload, "compare": compared.as_dict()}
-    emit_json(json_path, payload, overwrite=overwrite)
-    if png_path:
-        from ..report.plots import hum_rejection_plot
-
-        hum_rejection_plot(png_path, designs, overwrite=overwrite)
+        print_report(r.design, r.report)
+        echo(scale_lines(r.scales))
+        if r.audio is not None:
+            print_audio(r.audio, r.report.harmonics)
+        if r.tolerances is not None:
+            print_monte_carlo(r.tolerances)
+        if r.rejection_map is not None:
+            print_map(r.rejection_map)
+        if r.positions is not None:
+            print_positions(r.record["joint" if joint else "positions"])
+    if run.compare is not None:
+        click.echo()
+        echo(hum_lines(run.compare))
+    emit_json(json_path, run.record, overwrite=overwrite)

@@ -1,11 +1,10 @@
-"""What ``render hum`` prints (the per-harmonic table, each source's share, the Monte Carlos), and the room's map and random sources it adds per design."""
+"""What ``render hum`` prints: the per-harmonic table, each source's share, the measured rejection, the Monte Carlos and the map."""
 
 from __future__ import annotations
 
 import click
 
 from ..units import format_si, microvolts
-from .options import warn
 
 
 def _rejection(value, reason) -> str:
@@ -108,35 +107,3 @@ def print_map(m) -> None:
 
     for line in map_lines(m):
         click.echo(line)
-
-
-def warnings(rec, d, *, dipoles: bool) -> None:
-    """The report's warnings, and the point-coil one when a map or random sources put dipoles near the pickup, into ``rec`` and on standard error."""
-    from ..analysis.hum_room import room_warnings
-
-    lines = list(rec.get("warnings", []))
-    if dipoles:
-        lines += [w for w in room_warnings(d) if w not in lines]
-    for w in lines:
-        warn(w)
-    if lines:
-        rec["warnings"] = lines
-
-
-def room(rec, d, *, map_on, map_plane, map_png, positions, shell, joint, tolerances, seed, jobs, overwrite, bearings=None):
-    """The map and the random sources of one design into ``rec``, printed (to standard error when the JSON goes to standard output)."""
-    from ..analysis import hum_room as hr
-
-    if map_on:
-        m = hr.hum_map(d, plane=map_plane, **({"bearings_deg": bearings} if bearings else {}))
-        rec["map"] = hr.map_record(m)
-        print_map(m)
-        if map_png:
-            from ..report.plots import rejection_map_plot
-
-            rejection_map_plot(map_png, m, title=f"{d.name}: rejection of a dipole source (axis z) at {m.frequency_hz[0]:g} Hz", overwrite=overwrite)
-    if positions:
-        kw = {"shell": shell} if shell else {}
-        mc = hr.hum_positions(d, trials=positions, seed=seed, joint=joint, tolerances=tolerances or None, jobs=jobs, **kw)
-        rec["joint" if joint else "positions"] = hr.positions_record(mc)
-        print_positions(rec["joint" if joint else "positions"])

@@ -101,33 +101,24 @@ def noise_command(model, rig_path, temperature, reference_velocity, top, json_pa
     """
     import math
 
-    from ..analysis.noise import check_temperature, noise_record, noise_reports
+    from ..analysis.noise import check_temperature
     from ..design import load_designs
     from ..errors import InputError
+    from ..runs.noise import noise_run
+    from .compare_print import echo, load_compare, noise_lines, scale_lines
 
     check_temperature(temperature, "--temperature")
     if not (math.isfinite(reference_velocity) and 1e-4 <= reference_velocity <= 10.0):
         raise InputError(f"--reference-velocity={reference_velocity:g} m/s: expected a string velocity from 0.0001 to 10 m/s rms")
     check_new([json_path, png_path], overwrite=overwrite)
-    (d,), rig_file = load_designs([model], rig=rig_path)
-    (r,) = noise_reports([d], temperature=temperature, reference_velocity=reference_velocity)
-    from ..analysis.one_scale import design_one_scale
-    from .compare_print import comparison_of, echo, load_compare, noise_lines, scale_lines
-
-    compared = comparison_of(load_compare(compare_path, rig_path), temperature=temperature, reference_velocity=reference_velocity)
-    scales = [*design_one_scale(d, temperature=temperature, reference_velocity=reference_velocity), *([compared.scale] if compared else [])]
-    for line in summary_lines(r, top):
+    (d,), rig = load_designs([model], rig=rig_path)
+    run = noise_run(d, rig=rig, temperature_k=temperature, reference_velocity=reference_velocity, compare=load_compare(compare_path, rig_path), png=png_path, top=top, overwrite=overwrite)
+    for line in summary_lines(run.report, top):
         click.echo(line)
-    for w in r.warnings():
+    for w in run.report.warnings():
         warn(w)
-    echo(scale_lines(scales))
-    if compared is not None:
+    echo(scale_lines(run.scales))
+    if run.compare is not None:
         click.echo()
-        echo(noise_lines(compared))
-    if json_path:
-        extra = {"hum_and_noise": [s.as_dict() for s in scales], **({"compare": compared.as_dict()} if compared else {})}
-        emit_json(json_path, {**noise_record(r, d, rig_file), **extra}, overwrite=overwrite)
-    if png_path:
-        from ..report.plots import noise_plot
-
-        noise_plot(png_path, r, top=top, overwrite=overwrite)
+        echo(noise_lines(run.compare))
+    emit_json(json_path, run.record, overwrite=overwrite)

@@ -8,14 +8,6 @@ from .options import friendly, overwrite_option, warn
 from .values import InFile, OutFile
 
 
-def report_from_di(made) -> None:
-    """What ``--from-di`` did, on standard error: warnings and the trusted band."""
-    for w in made.warnings:
-        warn(w)
-    band, r = made.trusted_band_hz, made.record
-    click.echo(f"un-voiced {r['di']} through {r['model']}'s passive reference: trusted {band[0]:.0f} Hz to {band[1]:.0f} Hz" if band else f"un-voiced {r['di']}: no trusted band", err=True)
-
-
 @click.command("unvoice")
 @click.argument("di", type=InFile())
 @click.argument("model", type=InFile())

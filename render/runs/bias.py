@@ -4,13 +4,18 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..dry import refuse_strength_with_recording
 from .strength import phrase_at_strength
 
-__all__ = ["BiasClips", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
+if TYPE_CHECKING:
+    from ..analysis.bias import BiasSweep
+    from ..design import Design
+
+__all__ = ["BiasClips", "BiasRun", "bias_run", "check_strength", "phrase_at_strength", "sweep_record", "write_bias_clips"]
 
 REALISTIC_STRENGTH_M = 5e-3  # a pluck beyond 5 mm is far past normal playing (common practice, no source)
 PLAYED_STRENGTH_MIN_M = 5e-5  # a pluck below 0.05 mm is far below the softest playing (common practice, no source)
@@ -156,3 +161,114 @@ def write_bias_clips(sweep, dry: Path, out: Path, *, strength_m: float | None = 
             "volts_full_scale": vfs,
         }
         return BiasClips(folder=out, clips=tuple(clips), record=record)
+
+
+@dataclass(frozen=True)
+class BiasRun:
+    """What :func:`bias_run` measured and wrote.
+
+    Attributes
+    ----------
+    design : Design
+        The design swept (its rig applied).
+    sweep : BiasSweep
+        Each setting's figures (:func:`render.bias_sweep`).
+    clips : BiasClips or None
+        The clips written, one per setting in the sweep's order (None when no folder was given): each one's file,
+        full scale, loudness, matched gain, peak and the phrase's headroom (:class:`render.runs.bias.BiasClips`).
+    record : dict
+        What ``render bias --json`` writes: the sweep's record, each setting's ``clip`` and the run's ``clips``.
+    warnings : tuple of str
+        One line each: the pluck strength's, then the sweep's.
+    folder : Path or None
+        Where the clips, plots and comparison page went.
+    """
+
+    design: Design
+    sweep: BiasSweep
+    clips: BiasClips | None
+    record: dict
+    warnings: tuple[str, ...]
+    folder: Path | None
+
+
+def bias_run(
+    design,
+    *,
+    rig=None,
+    ratios=(0.3, 0.4, 0.5, 0.6, 0.7),
+    tops=None,
+    bottoms=None,
+    batteries=None,
+    keep_load: bool = True,
+    sine_velocity: float | None = None,
+    out=None,
+    dry=None,
+    strength_m: float | None = None,
+    seconds: float | None = None,
+    seed: int = 0,
+    target_lufs: float = -23.0,
+    jobs: int = 1,
+    overwrite: bool = False,
+) -> BiasRun:
+    """The whole of ``render bias``: the sweep of ``design``'s bias divider and, into ``out``, a clip of the phrase per setting.
+
+    Parameters
+    ----------
+    design : Design
+    rig : RigFile or None
+        Play into this rig instead of the design's own.
+    ratios : sequence of float, 0.02..0.98
+    tops, bottoms : sequences of float, Ω, or None
+    batteries : sequence of float, V, or None
+    keep_load : bool
+    sine_velocity : float or None, m/s peak
+        The sweep's settings, each as :func:`render.bias_sweep` takes it (the design's own divider is added to the ratios).
+    out : str or Path or None
+        The folder for the clips (``S-r<ratio>-<battery>V.wav`` and a ``-matched.wav`` copy at ``target_lufs``
+        each), the plots and the comparison page; refused before any work if it holds files, unless ``overwrite``.
+        None: measure only, write nothing.
+    dry : str or Path or None
+        The phrase (or recording) the clips play (default: ``dry_signals/default.toml`` here, else the shipped copy).
+    strength_m : float or None, m, 0..0.05
+        Pluck every note of the phrase this hard (initial displacement); not with a recording.
+    seconds : float or None, s
+        Length of the clips (default: the phrase's).
+    seed : int
+        Seed of the phrase's small variations.
+    target_lufs : float, LUFS
+        Loudness of the matched copies (lowered together when a true peak would pass the ceiling).
+    jobs : int
+        Settings in this many processes (results identical to one).
+    overwrite : bool
+        Write into a folder that holds files.
+
+    Returns
+    -------
+    BiasRun
+    """
+    from .. import arguments as A
+    from ..analysis.bias import bias_sweep
+    from ..design import apply_rig
+    from ..dry import default_dry_path
+    from ..errors import ArgumentError
+    from ..io.folders import output_folder
+
+    overwrite = A.flag("overwrite", overwrite)
+    folder = None if out is None else output_folder(out, overwrite=overwrite)
+    phrase = None
+    if folder is not None:  # refused before any work, so a refused run touches nothing
+        phrase = Path(dry) if dry is not None else default_dry_path()
+        if not phrase.exists():
+            raise ArgumentError("dry", f"{phrase}", "no such file")
+    notes = check_strength(strength_m, phrase if phrase is not None else Path("phrase.toml"))
+    d = apply_rig(design, rig)
+    sw = bias_sweep(d, ratios=ratios, tops=tops, bottoms=bottoms, batteries=batteries, keep_load=keep_load, sine_velocity=sine_velocity, jobs=jobs)
+    record = sweep_record(sw)
+    clips = None
+    if folder is not None and phrase is not None:
+        clips = write_bias_clips(sw, phrase, folder, strength_m=strength_m, seconds=seconds, seed=seed, target_lufs=target_lufs, jobs=jobs)
+        for row, clip in zip(record["settings"], clips.clips):
+            row["clip"] = clip
+        record["clips"] = clips.record
+    return BiasRun(design=d, sweep=sw, clips=clips, record=record, warnings=(*notes, *sw.warnings), folder=folder)
