@@ -133,8 +133,9 @@ def _r(x: float, digits: int) -> float:
     return float(round(float(x), digits))
 
 
-def _curve(f: np.ndarray, db: np.ndarray) -> list[list[float]]:
-    return [[_r(v, 2) for v in f], [_r(v, 2) for v in db]]
+def _curve(f: np.ndarray, db: np.ndarray) -> list[list[float | None]]:
+    """A curve's two rows, to 0.01; a level that is no number (a response exactly zero: NaN) is null, a gap in the curve."""
+    return [[_r(v, 2) for v in f], [_r(v, 2) if np.isfinite(v) else None for v in db]]
 
 
 def design_assets(clip: PageClip) -> DesignAssets:
@@ -283,9 +284,14 @@ def write_page(folder: str | Path, text: PageText, clips: Sequence[PageClip], *,
 
 
 def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tuple[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]]:
-    """Per design: ((f, dB), (f, passive dB)), string velocity to the amp input (dB re 1 V per m/s), 20 Hz to 20 kHz."""
+    """Per design: ((f, dB), (f, passive dB)), string velocity to the amp input (dB re 1 V per m/s), 20 Hz to 20 kHz.
+
+    Where a response is exactly zero (coils that cancel the string at one sensing point) its level is NaN, which the
+    page's data hold as null: a gap in the curve, not a made-up floor.
+    """
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
+    from ..report.plots import level_db
 
     designs = list(designs)
     if not designs:
@@ -293,11 +299,7 @@ def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tup
     f = np.geomspace(20.0, 20000.0, points)
     resp = responses(from_designs(designs))
     h, hp = resp.velocity()(f), resp.passive_velocity()(f)
-
-    def db(x):
-        return 20 * np.log10(np.maximum(np.abs(x), 1e-30))
-
-    return [((f, db(h[i])), (f, db(hp[i]))) for i in range(len(designs))]
+    return [((f, level_db(h[i])), (f, level_db(hp[i]))) for i in range(len(designs))]
 
 
 SKIPPED_VALUES = ("name", "notes", "source", "sha256")

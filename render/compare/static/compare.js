@@ -371,11 +371,17 @@
     return n;
   }
 
-  function path(xs, ys, x, y) {
-    let d = "";
-    for (let i = 0; i < xs.length; i++) d += (i ? "L" : "M") + x(xs[i]).toFixed(1) + " " + y(ys[i]).toFixed(1);
+  // a curve's path; a null level (a response exactly zero) is a gap, a level under the axis is drawn on its floor
+  function path(xs, ys, x, y, floor = -Infinity) {
+    let d = "", pen = "M";
+    for (let i = 0; i < xs.length; i++) {
+      if (ys[i] === null) { pen = "M"; continue; }
+      d += pen + x(xs[i]).toFixed(1) + " " + y(Math.max(ys[i], floor)).toFixed(1);
+      pen = "L";
+    }
     return d;
   }
+  const RESPONSE_RANGE_DB = 100; // the overlay's axis reaches this far under its top, as the run's spectrum plots do
 
   function drawResponses() {
     const box = el("responses");
@@ -384,8 +390,10 @@
     if (!curves.length) { box.parentElement.hidden = true; return; }
     const W = 640, H = 300, L = 44, R = 10, T = 10, B = 26;
     let lo = Infinity, hi = -Infinity;
-    for (const d of curves) for (const c of [d.response, d.passive]) if (c) for (const v of c[1]) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
-    lo = Math.floor(lo / 10) * 10; hi = Math.ceil(hi / 10) * 10;
+    for (const d of curves) for (const c of [d.response, d.passive]) if (c) for (const v of c[1]) if (v !== null) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+    if (hi === -Infinity) { lo = -100; hi = 0; } // every curve exactly zero: an axis of its own, nothing drawn on it
+    hi = Math.ceil(hi / 10) * 10;
+    lo = Math.max(Math.floor(lo / 10) * 10, hi - RESPONSE_RANGE_DB);
     if (hi - lo < 20) hi = lo + 20;
     const x = (f) => L + ((Math.log10(f) - Math.log10(20)) / 3) * (W - L - R);
     const y = (v) => T + ((hi - v) / (hi - lo)) * (H - T - B);
@@ -401,14 +409,14 @@
     const heard = heardEntry();
     for (const d of curves) {
       if (d === entries()[S.picked] || d.role === "compare") continue;
-      svg("path", { d: path(d.response[0], d.response[1], x, y), fill: "none", stroke: "#b8bcc6", "stroke-width": 1.2 }, box);
+      svg("path", { d: path(d.response[0], d.response[1], x, y, lo), fill: "none", stroke: "#b8bcc6", "stroke-width": 1.2 }, box);
     }
     for (const d of curves) {  // the comparison pickup: always drawn, in its own colour and dash
       if (d.role !== "compare" || d === entries()[S.picked]) continue;
-      svg("path", { d: path(d.response[0], d.response[1], x, y), fill: "none", stroke: "#2f7a5a", "stroke-width": 1.8, "stroke-dasharray": "2 3", class: "compare-curve" }, box);
+      svg("path", { d: path(d.response[0], d.response[1], x, y, lo), fill: "none", stroke: "#2f7a5a", "stroke-width": 1.8, "stroke-dasharray": "2 3", class: "compare-curve" }, box);
     }
-    if (heard.passive) svg("path", { d: path(heard.passive[0], heard.passive[1], x, y), fill: "none", stroke: "#a85a2f", "stroke-width": 1.6, "stroke-dasharray": "6 4" }, box);
-    if (heard.response) svg("path", { d: path(heard.response[0], heard.response[1], x, y), fill: "none", stroke: "#1f2433", "stroke-width": 2.6 }, box);
+    if (heard.passive) svg("path", { d: path(heard.passive[0], heard.passive[1], x, y, lo), fill: "none", stroke: "#a85a2f", "stroke-width": 1.6, "stroke-dasharray": "6 4" }, box);
+    if (heard.response) svg("path", { d: path(heard.response[0], heard.response[1], x, y, lo), fill: "none", stroke: "#1f2433", "stroke-width": 2.6 }, box);
   }
 
   function spectrumRange() {
