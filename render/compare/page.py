@@ -34,6 +34,13 @@ STATIC_NAMES = ("compare.html", "compare.css", "compare.js")
 PAGE_FILE = "index.html"
 CLIPS_FILE = "index-clips.js"
 RESPONSE_POINTS = 200
+# The loudness match's window, LU under the loudest clip: only clips within it are matched (turned down to the
+# quietest of them). A clip further down plays at its true level, the page saying so, rather than set every clip's
+# level: a design whose strings cancel (tests/smoke's edge-reversed-same-point, only its hum, -59.0 LUFS) would pull
+# every other clip 45 to 52 dB down on the default phrase. Project rule, no outside source: it bounds how far matching
+# pulls the loudest clip down. Measured across dry_signals/*.toml, the lowest-output designs in models/ (the slipway
+# ones, about -30.5 to -34.6 LUFS) sit 18.7 to 26.2 LU under high-rail-18v, so beside it they are often outside too.
+MATCH_WINDOW_LU = 20.0
 MARKERS = ("<!--page:title-->", "/*page:style*/", "/*page:data*/", "<!--page:clips-->", "/*page:script*/")
 
 
@@ -216,6 +223,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         "sample_rate": rates.pop(),
         "volts_full_scale": float(volts_full_scale),
         **ceiling_record(),  # the true-peak ceiling, and the margin under it the page aims at (one rule with render blind and bias)
+        "match_window_lu": MATCH_WINDOW_LU,
         "page_seconds": float(PAGE_SECONDS),
         "bits": 16,
         "strip_top_db": top,

@@ -207,14 +207,23 @@
   }
 
   // dB applied to each clip's decoded samples: the run's full scale, less the match, less the
-  // common lowering that keeps every true peak at or below the ceiling
+  // common lowering that keeps every true peak at or below the ceiling. Only clips within
+  // match_window_lu of the loudest are matched (turned down to the quietest of them): a clip
+  // further down plays at its true level rather than pull every other clip down to it
   function levels() {
     const vs = voiceEntries();
     const fsDb = 20 * Math.log10(S.data.volts_full_scale);
     const measured = vs.filter((v) => v.loudness !== null).map((v) => v.loudness);
-    const quietest = measured.length ? Math.min.apply(null, measured) : 0;
+    const loudest = measured.length ? Math.max.apply(null, measured) : 0;
+    const inWindow = (v) => v.loudness !== null && v.loudness >= loudest - S.data.match_window_lu;
+    const matchable = measured.filter((l) => l >= loudest - S.data.match_window_lu);
+    const quietest = matchable.length ? Math.min.apply(null, matchable) : 0;
     const match = new Map();
-    for (const v of vs) match.set(v.clip, S.matched && v.loudness !== null ? quietest - v.loudness : 0);
+    const tooQuiet = new Set();
+    for (const v of vs) {
+      match.set(v.clip, S.matched && inWindow(v) ? quietest - v.loudness : 0);
+      if (v.loudness !== null && !inWindow(v)) tooQuiet.add(v.clip);
+    }
     let over = -Infinity;
     for (const v of vs) if (v.true_peak !== null) over = Math.max(over, v.true_peak - fsDb + match.get(v.clip));
     const lowered = Math.max(0, over - S.data.true_peak_aim_dbtp);  // the ceiling less the margin for what a 4x meter misses
@@ -223,7 +232,7 @@
       const change = match.get(v.clip) - lowered;
       out.set(v.clip, { db: 20 * Math.log10(v.unit_v) - fsDb + change, change });
     }
-    return { gains: out, lowered };
+    return { gains: out, lowered, tooQuiet };
   }
 
   function levelText(v, lv) {
@@ -237,6 +246,7 @@
     }
     const g = lv.gains.get(v.clip);
     const played = !g ? "" : S.matched ? "played " + signed(g.change) : "true level" + (lv.lowered > 0.05 ? ", all " + signed(-lv.lowered) : "");
+    if (g && S.matched && lv.tooQuiet.has(v.clip)) return [diff, played, "too quiet to match (over " + S.data.match_window_lu + " dB under the loudest): plays at its true level"].filter(Boolean).join(" \u00b7 ");
     return [diff, played].filter(Boolean).join(" \u00b7 ");
   }
 
@@ -269,7 +279,7 @@
     for (const tr of el("summary").querySelectorAll("tbody tr")) {
       const d = entries()[Number(tr.dataset.index)];
       const g = lv.gains.get(d.clip);
-      tr.lastChild.textContent = g ? (S.matched ? signed(g.change) : "true level") : "\u2014";
+      tr.lastChild.textContent = g ? (S.matched && !lv.tooQuiet.has(d.clip) ? signed(g.change) : "true level") : "\u2014";
       tr.children[tr.children.length - 2].textContent = d.loudness === null || entries()[S.reference].loudness === null ? "\u2014" : signed(d.loudness - entries()[S.reference].loudness);
       if (S.data.matched_column !== null && S.data.matched_column !== undefined) {
         const cell = tr.children[2 + S.data.matched_column];
