@@ -225,9 +225,10 @@ def test_clips_above_the_ceiling_are_lowered_together(chromium, clips_run, tmp_p
 
 def test_a_clip_far_under_the_others_plays_at_its_true_level_and_sets_no_ones_level(chromium, tmp_path):
     # Project rule, no outside source (README, "Same loudness by default"): only clips within the page's window
-    # (render.compare.page.MATCH_WINDOW_LU, 20 LU) of the loudest are matched. A design whose coils cancel the string
-    # (only its hum is left, some 60 LU under the others) plays at its true level, never raised, and the two working
-    # designs are matched to each other as the JSON's BS.1770-4 loudness differences say, not pulled down to it.
+    # (render.compare.page.MATCH_WINDOW_LU) of the loudest are matched, and never a design whose coils cancel the
+    # strings (its response is zero: only its hum is left, some 45 LU under the others). It plays at its true level,
+    # never raised, and the two working designs are matched to each other as the JSON's BS.1770-4 loudness
+    # differences say, not pulled down to it.
     # Its response, exactly zero, leaves the overlay's axis within 100 dB of the top (as the run's spectrum plots).
     from click.testing import CliRunner
 
@@ -243,8 +244,9 @@ def test_a_clip_far_under_the_others_plays_at_its_true_level_and_sets_no_ones_le
     records = {m: json.loads((out / f"{m}.json").read_text()) for m in stems}
     volts = {m: sf.read(out / f"{m}.wav", dtype="float64")[0] * records[m]["volts_full_scale"] for m in stems}
     loud = {m: records[m]["measurements"]["loudness_lufs_1v_full_scale"] for m in stems}
-    assert loud[stems[2]] < max(loud.values()) - MATCH_WINDOW_LU  # the edge design is outside the window
-    assert abs(loud[stems[0]] - loud[stems[1]]) < MATCH_WINDOW_LU  # the working two inside it
+    assert abs(loud[stems[0]] - loud[stems[1]]) < MATCH_WINDOW_LU  # the working two inside the window
+    data = (out / "index.html").read_text(encoding="utf-8")
+    assert data.count('"strings_cancel": true') + data.count('"strings_cancel":true') == 1  # the edge design only
     vfs_db = 20 * math.log10(records[stems[0]]["volts_full_scale"])
     page, errors = open_page(chromium, (out / "index.html").as_uri())
     lowered = float(page.get_attribute("body", "data-lowered"))
@@ -261,13 +263,37 @@ def test_a_clip_far_under_the_others_plays_at_its_true_level_and_sets_no_ones_le
     for m, g in zip(stems, db, strict=True):
         assert true_peak_dbtp(volts[m]) + g <= AIM + 0.1
     text = page.inner_text('.row[data-index="2"] .level')
-    assert "too quiet to match" in text and "plays at its true level" in text, text
-    assert "too quiet" not in page.inner_text('.row[data-index="0"] .level') + page.inner_text('.row[data-index="1"] .level')
+    assert "its coils cancel the strings" in text and "plays at its true level" in text, text
+    assert "plays at its true level" not in page.inner_text('.row[data-index="0"] .level') + page.inner_text('.row[data-index="1"] .level')
     assert page.eval_on_selector_all("#summary tbody tr", "rows => rows.map(r => r.lastChild.textContent)")[2] == "true level"
     ticks = [float(t) for t in page.eval_on_selector_all('#responses text[text-anchor="end"]', "ts => ts.map(t => t.textContent)")]
     assert max(ticks) - min(ticks) <= 100 and min(ticks) >= -120, ticks  # not stretched to the zero response
     paths = page.eval_on_selector_all("#responses path", "ps => ps.map(p => p.getAttribute('d'))")
     assert all("NaN" not in d for d in paths) and sum(bool(d) for d in paths) >= 2
+    assert errors == []
+
+
+def test_a_clip_beyond_the_window_is_too_quiet_to_match(chromium, tmp_path):
+    # The same rule's window (render.compare.page.MATCH_WINDOW_LU): a working design whose coils are 150 times less
+    # sensitive (43.5 dB: the response scales with the EMF; about 46 LU under ember-dark here, above BS.1770-4's -70 LUFS gate) sits beyond it. It is not matched and says so; the others
+    # are matched among themselves (project rule, no outside source; README, "Same loudness by default").
+    from click.testing import CliRunner
+
+    from render.cli import main
+    from render.compare.page import MATCH_WINDOW_LU
+
+    quiet = tmp_path / "whisper.toml"
+    quiet.write_text((ROOT / "models" / "studio-reference.toml").read_text(encoding="utf-8").replace("sensitivity = 0.045", "sensitivity = 0.0003"), encoding="utf-8")
+    files = [ROOT / "models" / "studio-reference.toml", ROOT / "models" / "ember-dark.toml", quiet]
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", *map(str, files), "--dry", str(PHRASE), "--seconds", "1.0", "--no-plots", "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    loud = [json.loads((out / f"{f.stem}.json").read_text())["measurements"]["loudness_lufs_1v_full_scale"] for f in files]
+    assert loud[2] < max(loud) - MATCH_WINDOW_LU and abs(loud[0] - loud[1]) < MATCH_WINDOW_LU
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    text = page.inner_text('.row[data-index="2"] .level')
+    assert f"too quiet to match (over {MATCH_WINDOW_LU:g} dB under the loudest)" in text, text
+    assert "plays at its true level" not in page.inner_text('.row[data-index="0"] .level') + page.inner_text('.row[data-index="1"] .level')
     assert errors == []
 
 

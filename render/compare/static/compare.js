@@ -209,14 +209,15 @@
   // dB applied to each clip's decoded samples: the run's full scale, less the match, less the
   // common lowering that keeps every true peak at or below the ceiling. Only clips within
   // match_window_lu of the loudest are matched (turned down to the quietest of them): a clip
-  // further down plays at its true level rather than pull every other clip down to it
+  // further down plays at its true level rather than pull every other clip down to it, and so
+  // does a clip whose coils cancel the strings (strings_cancel: its response is zero; only hum)
   function levels() {
     const vs = voiceEntries();
     const fsDb = 20 * Math.log10(S.data.volts_full_scale);
-    const measured = vs.filter((v) => v.loudness !== null).map((v) => v.loudness);
+    const measured = vs.filter((v) => v.loudness !== null && !v.strings_cancel).map((v) => v.loudness);
     const loudest = measured.length ? Math.max.apply(null, measured) : 0;
-    const inWindow = (v) => v.loudness !== null && v.loudness >= loudest - S.data.match_window_lu;
-    const matchable = measured.filter((l) => l >= loudest - S.data.match_window_lu);
+    const inWindow = (v) => v.loudness !== null && !v.strings_cancel && v.loudness >= loudest - S.data.match_window_lu;
+    const matchable = vs.filter(inWindow).map((v) => v.loudness);
     const quietest = matchable.length ? Math.min.apply(null, matchable) : 0;
     const match = new Map();
     const tooQuiet = new Set();
@@ -246,7 +247,8 @@
     }
     const g = lv.gains.get(v.clip);
     const played = !g ? "" : S.matched ? "played " + signed(g.change) : "true level" + (lv.lowered > 0.05 ? ", all " + signed(-lv.lowered) : "");
-    if (g && S.matched && lv.tooQuiet.has(v.clip)) return [diff, played, "too quiet to match (over " + S.data.match_window_lu + " dB under the loudest): plays at its true level"].filter(Boolean).join(" \u00b7 ");
+    const why = v.strings_cancel ? "its coils cancel the strings (only hum): not matched, plays at its true level" : "too quiet to match (over " + S.data.match_window_lu + " dB under the loudest): plays at its true level";
+    if (g && S.matched && lv.tooQuiet.has(v.clip)) return [diff, played, why].filter(Boolean).join(" \u00b7 ");
     return [diff, played].filter(Boolean).join(" \u00b7 ");
   }
 
