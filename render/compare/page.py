@@ -34,6 +34,15 @@ STATIC_NAMES = ("compare.html", "compare.css", "compare.js")
 PAGE_FILE = "index.html"
 CLIPS_FILE = "index-clips.js"
 RESPONSE_POINTS = 200
+# The loudness match's window, LU under the loudest clip: only clips within it are matched (turned down to the
+# quietest of them). A clip further down plays at its true level, the page saying so, rather than set every clip's
+# level. Project rule, no outside source: it bounds how far matching pulls the loudest clip down. Measured across
+# dry_signals/*.toml, the lowest-output designs in models/ (the slipway ones, about -30.5 to -34.6 LUFS) sit 18.7 to
+# 26.2 LU under high-rail-18v, so the window leaves them matched on every shipped phrase with 13 LU to spare. A design
+# whose coils cancel the strings (tests/smoke's edge-reversed-same-point: only its hum, -59.0 LUFS, 45 to 52 LU under
+# the others on the default phrase) is left out of the match by its response instead (``strings_cancel``), however
+# loud its hum.
+MATCH_WINDOW_LU = 40.0
 MARKERS = ("<!--page:title-->", "/*page:style*/", "/*page:data*/", "<!--page:clips-->", "/*page:script*/")
 
 
@@ -133,8 +142,9 @@ def _r(x: float, digits: int) -> float:
     return float(round(float(x), digits))
 
 
-def _curve(f: np.ndarray, db: np.ndarray) -> list[list[float]]:
-    return [[_r(v, 2) for v in f], [_r(v, 2) for v in db]]
+def _curve(f: np.ndarray, db: np.ndarray) -> list[list[float | None]]:
+    """A curve's two rows, to 0.01; a level that is no number (a response exactly zero: NaN) is null, a gap in the curve."""
+    return [[_r(v, 2) for v in f], [_r(v, 2) if np.isfinite(v) else None for v in db]]
 
 
 def design_assets(clip: PageClip) -> DesignAssets:
@@ -163,6 +173,8 @@ def design_assets(clip: PageClip) -> DesignAssets:
         "response": _curve(*clip.response) if clip.response is not None else None,
         "passive": _curve(*clip.passive) if clip.passive is not None else None,
         "role": clip.role,
+        # the strings' response is exactly zero at every frequency (the coils cancel them): the clip is its hum only
+        "strings_cancel": clip.response is not None and not np.any(np.isfinite(clip.response[1])),
         # band level less loudness, unrounded: the page's matched differences are then the run's to the last bit
         "matched_level_db": [None if v is None or loud is None or not np.isfinite(v - loud) else float(v - loud) for v in clip.band_power_db],
     }
@@ -215,6 +227,7 @@ def page_data(text: PageText, clips: Sequence[PageClip], *, volts_full_scale: fl
         "sample_rate": rates.pop(),
         "volts_full_scale": float(volts_full_scale),
         **ceiling_record(),  # the true-peak ceiling, and the margin under it the page aims at (one rule with render blind and bias)
+        "match_window_lu": MATCH_WINDOW_LU,
         "page_seconds": float(PAGE_SECONDS),
         "bits": 16,
         "strip_top_db": top,
@@ -283,9 +296,14 @@ def write_page(folder: str | Path, text: PageText, clips: Sequence[PageClip], *,
 
 
 def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tuple[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]]]:
-    """Per design: ((f, dB), (f, passive dB)), string velocity to the amp input (dB re 1 V per m/s), 20 Hz to 20 kHz."""
+    """Per design: ((f, dB), (f, passive dB)), string velocity to the amp input (dB re 1 V per m/s), 20 Hz to 20 kHz.
+
+    Where a response is exactly zero (coils that cancel the string at one sensing point) its level is NaN, which the
+    page's data hold as null: a gap in the curve, not a made-up floor.
+    """
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
+    from ..report.plots import level_db
 
     designs = list(designs)
     if not designs:
@@ -293,11 +311,7 @@ def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tup
     f = np.geomspace(20.0, 20000.0, points)
     resp = responses(from_designs(designs))
     h, hp = resp.velocity()(f), resp.passive_velocity()(f)
-
-    def db(x):
-        return 20 * np.log10(np.maximum(np.abs(x), 1e-30))
-
-    return [((f, db(h[i])), (f, db(hp[i]))) for i in range(len(designs))]
+    return [((f, level_db(h[i])), (f, level_db(hp[i]))) for i in range(len(designs))]
 
 
 SKIPPED_VALUES = ("name", "notes", "source", "sha256")

@@ -21,6 +21,7 @@ import tempfile
 from pathlib import Path
 
 from ..errors import InputError
+from .runlist import note_output
 
 # What to do about a failed write, by errno.
 _FIXES = {
@@ -127,6 +128,7 @@ def atomic_path(path: str | Path, *, overwrite: bool = False):
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise InputError(f"{folder}: folder does not exist; create it first or choose another path")
+    note_output(path)  # listed in its run's folder before it exists: a killed run's next --overwrite removes it
     tmp = _temporary_in(folder, path.name)
     try:
         yield tmp

@@ -7,11 +7,13 @@ refused run touches nothing.
 from __future__ import annotations
 
 import contextlib
+import os
 import time
 from collections.abc import Iterable, Iterator
 from pathlib import Path
 
 from ..errors import ArgumentError, InputError
+from .runlist import BY, INCOMPLETE, INCOMPLETE_TEXT, RUN_FILES, TEMPORARY
 
 OUTPUTS = Path("outputs")  # where a run's folder goes when none is given
 
@@ -122,21 +124,11 @@ def output_folder(out_dir: str | Path | None, *, overwrite: bool, prefix: str = 
     return out
 
 
-INCOMPLETE = "INCOMPLETE.txt"  # marks a run folder whose run has not finished (or was stopped)
-INCOMPLETE_TEXT = (
-    "This run has not finished: it is still running, or it was stopped (Ctrl-C, SIGTERM, SIGHUP, a kill).\n"
-    "Every file in this folder is whole, but some may be missing. Run the command again with --overwrite.\n"
-)
-
-
-RUN_FILES = ".run-files"  # the files a run wrote in its folder, one relative path a line; its next --overwrite removes those it does not write again
-
-
 def _files(folder: Path) -> dict[str, tuple[int, int, int]]:
     """Every file below ``folder`` (but the run's own list and marker): relative path -> (inode, mtime ns, size)."""
     out = {}
     for p in folder.rglob("*"):
-        if p.is_file() and p.name not in (RUN_FILES, INCOMPLETE) and not p.name.startswith(".tmp-"):
+        if p.is_file() and p.name not in (RUN_FILES, INCOMPLETE) and not p.name.startswith(TEMPORARY):
             st = p.stat()
             out[p.relative_to(folder).as_posix()] = (st.st_ino, st.st_mtime_ns, st.st_size)
     return out
@@ -149,6 +141,14 @@ def _listed(folder: Path) -> set[str]:
     except (OSError, UnicodeDecodeError):
         return set()
     return {line for line in text.splitlines() if line and not line.startswith("/") and ".." not in Path(line).parts}
+
+
+def _remove_temporary(folder: Path) -> None:
+    """Remove the ``.tmp-*`` files (:mod:`render.io.atomic`'s temporary names) in ``folder`` and below."""
+    for leftover in folder.rglob(f"{TEMPORARY}*"):
+        with contextlib.suppress(OSError):
+            if leftover.is_file() and not leftover.is_symlink():
+                leftover.unlink()
 
 
 def _remove_stale(folder: Path, stale: set[str]) -> None:
@@ -175,20 +175,23 @@ def run_folder(path: str | Path) -> Iterator[Path]:
     goes too (the marker, and the folder and its parents if this run made them),
     otherwise the marker stays.
 
-    The run lists the files it wrote in :data:`RUN_FILES`. Run again into the
-    folder (``--overwrite``), it removes the files an earlier run listed and it
-    did not write again, so the folder holds this run's outputs only; files it
-    never listed (a listener's notes) are left alone. A stopped or refused run
-    writes nothing more, its list included.
+    The run lists the files it writes in :data:`RUN_FILES`: each name as the
+    file is begun (:func:`render.io.runlist.note_output`), and the whole list again when it
+    finishes. Run again into the folder (``--overwrite``), it removes the
+    ``.tmp-*`` files left there and the files an earlier run listed and it did
+    not write again, so the folder holds this run's outputs only, also after a
+    run stopped or killed part-way; files no run listed (a listener's notes)
+    are left alone.
     """
     from .atomic import fsync_folder, write_text
 
     made = [q for q in (Path(path), *Path(path).parents) if not q.exists()]
     folder = make_folder(path)
+    _remove_temporary(folder)  # a killed run's: never under a final name, never a user's
     earlier = _listed(folder)
     before = _files(folder)
     marker = folder / INCOMPLETE
-    write_text(marker, INCOMPLETE_TEXT, overwrite=True)
+    write_text(marker, INCOMPLETE_TEXT + BY.format(pid=os.getpid()), overwrite=True)
 
     def written() -> set[str]:
         now = _files(folder)
@@ -197,9 +200,7 @@ def run_folder(path: str | Path) -> Iterator[Path]:
     try:
         yield folder
     except BaseException:
-        for leftover in folder.glob(".tmp-*"):
-            with contextlib.suppress(OSError):
-                leftover.unlink()
+        _remove_temporary(folder)
         if not [p for p in folder.iterdir() if p.name not in (INCOMPLETE, RUN_FILES)]:
             with contextlib.suppress(OSError):
                 marker.unlink()

@@ -24,6 +24,7 @@ import numpy as np
 
 from ..errors import InputError
 from .atomic import atomic_path, fsync_folder
+from .runlist import note_output
 
 WAVE_FORMAT_IEEE_FLOAT = 3
 
@@ -103,6 +104,7 @@ class FloatWavWriter:
         self.path = Path(path)
         if self.path.exists() and not overwrite:
             raise InputError(f"{self.path}: exists; pass --overwrite to replace it or choose another name")
+        note_output(self.path)  # listed in its run's folder before it exists (render.io.folders.run_folder)
         try:
             fd, tmp = tempfile.mkstemp(prefix=f".tmp-{self.path.name}.", dir=self.path.parent)
         except OSError as e:

@@ -223,6 +223,80 @@ def test_clips_above_the_ceiling_are_lowered_together(chromium, clips_run, tmp_p
     assert errors == []
 
 
+def test_a_clip_far_under_the_others_plays_at_its_true_level_and_sets_no_ones_level(chromium, tmp_path):
+    # Project rule, no outside source (README, "Same loudness by default"): only clips within the page's window
+    # (render.compare.page.MATCH_WINDOW_LU) of the loudest are matched, and never a design whose coils cancel the
+    # strings (its response is zero: only its hum is left, some 45 LU under the others). It plays at its true level,
+    # never raised, and the two working designs are matched to each other as the JSON's BS.1770-4 loudness
+    # differences say, not pulled down to it.
+    # Its response, exactly zero, leaves the overlay's axis within 100 dB of the top (as the run's spectrum plots).
+    from click.testing import CliRunner
+
+    from render.analysis.loudness import true_peak_dbtp
+    from render.cli import main
+    from render.compare.page import MATCH_WINDOW_LU
+
+    stems = ["studio-reference", "ember-dark", "edge-reversed-same-point"]
+    files = [ROOT / "models" / f"{stems[0]}.toml", ROOT / "models" / f"{stems[1]}.toml", ROOT / "tests" / "smoke" / "designs" / f"{stems[2]}.toml"]
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", *map(str, files), "--dry", str(PHRASE), "--seconds", "1.0", "--no-plots", "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    records = {m: json.loads((out / f"{m}.json").read_text()) for m in stems}
+    volts = {m: sf.read(out / f"{m}.wav", dtype="float64")[0] * records[m]["volts_full_scale"] for m in stems}
+    loud = {m: records[m]["measurements"]["loudness_lufs_1v_full_scale"] for m in stems}
+    assert abs(loud[stems[0]] - loud[stems[1]]) < MATCH_WINDOW_LU  # the working two inside the window
+    data = (out / "index.html").read_text(encoding="utf-8")
+    assert data.count('"strings_cancel": true') + data.count('"strings_cancel":true') == 1  # the edge design only
+    vfs_db = 20 * math.log10(records[stems[0]]["volts_full_scale"])
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    lowered = float(page.get_attribute("body", "data-lowered"))
+    # three stretches before the 1 s clip wraps (its ends fade over 12 ms there)
+    y, fs = render_offline(page, [{"at": 0.01, "volume": 0}, {"at": 0.02, "key": " "}, {"at": 0.36, "key": "2"}, {"at": 0.66, "key": "3"}], 0.98)
+    lag0, g0 = locate(y, volts[stems[0]], int(0.10 * fs), int(0.34 * fs), range(0, int(0.08 * fs)))
+    _, g1 = locate(y, volts[stems[1]], int(0.40 * fs), int(0.64 * fs), range(lag0 - 5, lag0 + 6))
+    _, g2 = locate(y, volts[stems[2]], int(0.70 * fs), int(0.95 * fs), range(lag0 - 5, lag0 + 6))
+    db = [20 * math.log10(g) for g in (g0, g1, g2)]
+    assert abs((db[1] - db[0]) - (loud[stems[0]] - loud[stems[1]])) < 0.1, db  # the two are matched to each other
+    quieter = 0 if loud[stems[0]] < loud[stems[1]] else 1
+    assert db[quieter] == pytest.approx(-vfs_db - lowered, abs=0.1)  # the quieter of them plays at its true level
+    assert db[2] == pytest.approx(-vfs_db - lowered, abs=0.1)  # and so does the edge design: never raised
+    for m, g in zip(stems, db, strict=True):
+        assert true_peak_dbtp(volts[m]) + g <= AIM + 0.1
+    text = page.inner_text('.row[data-index="2"] .level')
+    assert "its coils cancel the strings" in text and "plays at its true level" in text, text
+    assert "plays at its true level" not in page.inner_text('.row[data-index="0"] .level') + page.inner_text('.row[data-index="1"] .level')
+    assert page.eval_on_selector_all("#summary tbody tr", "rows => rows.map(r => r.lastChild.textContent)")[2] == "true level"
+    ticks = [float(t) for t in page.eval_on_selector_all('#responses text[text-anchor="end"]', "ts => ts.map(t => t.textContent)")]
+    assert max(ticks) - min(ticks) <= 100 and min(ticks) >= -120, ticks  # not stretched to the zero response
+    paths = page.eval_on_selector_all("#responses path", "ps => ps.map(p => p.getAttribute('d'))")
+    assert all("NaN" not in d for d in paths) and sum(bool(d) for d in paths) >= 2
+    assert errors == []
+
+
+def test_a_clip_beyond_the_window_is_too_quiet_to_match(chromium, tmp_path):
+    # The same rule's window (render.compare.page.MATCH_WINDOW_LU): a working design whose coils are 150 times less
+    # sensitive (43.5 dB: the response scales with the EMF; about 46 LU under ember-dark here, above BS.1770-4's -70 LUFS gate) sits beyond it. It is not matched and says so; the others
+    # are matched among themselves (project rule, no outside source; README, "Same loudness by default").
+    from click.testing import CliRunner
+
+    from render.cli import main
+    from render.compare.page import MATCH_WINDOW_LU
+
+    quiet = tmp_path / "whisper.toml"
+    quiet.write_text((ROOT / "models" / "studio-reference.toml").read_text(encoding="utf-8").replace("sensitivity = 0.045", "sensitivity = 0.0003"), encoding="utf-8")
+    files = [ROOT / "models" / "studio-reference.toml", ROOT / "models" / "ember-dark.toml", quiet]
+    out = tmp_path / "run"
+    res = CliRunner().invoke(main, ["clips", *map(str, files), "--dry", str(PHRASE), "--seconds", "1.0", "--no-plots", "--out", str(out)], catch_exceptions=False)
+    assert res.exit_code == 0, res.output
+    loud = [json.loads((out / f"{f.stem}.json").read_text())["measurements"]["loudness_lufs_1v_full_scale"] for f in files]
+    assert loud[2] < max(loud) - MATCH_WINDOW_LU and abs(loud[0] - loud[1]) < MATCH_WINDOW_LU
+    page, errors = open_page(chromium, (out / "index.html").as_uri())
+    text = page.inner_text('.row[data-index="2"] .level')
+    assert f"too quiet to match (over {MATCH_WINDOW_LU:g} dB under the loudest)" in text, text
+    assert "plays at its true level" not in page.inner_text('.row[data-index="0"] .level') + page.inner_text('.row[data-index="1"] .level')
+    assert errors == []
+
+
 def test_a_dragged_stretch_repeats_at_the_same_playhead(chromium, clips_run):
     out, records, volts = clips_run
     page, errors = open_page(chromium, (out / "index.html").as_uri())

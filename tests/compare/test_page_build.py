@@ -31,6 +31,7 @@ REF = ROOT / "models" / "studio-reference.toml"
 DARK = ROOT / "models" / "ember-dark.toml"
 BRIGHT = ROOT / "models" / "glasswing-bright.toml"
 DRY = ROOT / "dry_signals" / "chug_riff.toml"
+EDGE = ROOT / "tests" / "smoke" / "designs" / "edge-reversed-same-point.toml"  # coils wired against each other at one sensing point
 
 
 def run(*args):
@@ -99,6 +100,21 @@ def test_a_fit_with_render_writes_a_page_in_its_clips_folder(tmp_path):
     assert res.exit_code == 0, res.output
     data, clips = page_of(out / "clips")
     assert len(data["designs"]) == 2 and len(clips) == 2
+
+
+def test_a_response_that_is_exactly_zero_is_a_gap_on_the_page(tmp_path):
+    # two like coils sensing the string at one point, wired against each other, give V_A + V_B = 0 at every frequency
+    # (arithmetic): the level is no number, so the page holds null (a gap), never a made-up floor such as -600 dB that
+    # would stretch the overlay's axis; a design that does respond keeps every point. Project rule, no outside source.
+    out = tmp_path / "run"
+    res = run("clips", REF, EDGE, "--dry", DRY, "--seconds", 1.0, "--no-plots", "--out", out)
+    assert res.exit_code == 0, res.output
+    data, _ = page_of(out)
+    ref, edge = data["designs"]
+    for curve in (edge["response"], edge["passive"]):
+        assert len(curve[0]) == 200 and curve[1] == [None] * 200
+    for curve in (ref["response"], ref["passive"]):
+        assert all(v is not None and -300.0 < v < 100.0 for v in curve[1])
 
 
 def test_a_name_cannot_break_out_of_the_page():

@@ -9,6 +9,8 @@ a blind session's 0.5 s holds one 400 ms ITU-R BS.1770-4 loudness block, and is 
 
 from __future__ import annotations
 
+import os
+
 import numpy as np
 import pytest
 
@@ -166,6 +168,32 @@ def test_overwrite_leaves_only_this_runs_files(tmp_path):
     assert (out / "studio-reference-response.png").exists()
     assert run("clips", REF, "--seconds", 0.5, "--out", out, "--no-plots", "--overwrite").exit_code == 0
     assert not list(out.glob("*.png")) and (out / "notes.txt").exists()
+
+
+def test_a_stopped_runs_files_are_listed_as_they_are_begun_and_go_with_the_next_overwrite(tmp_path):
+    # the list is the project's own record (render.io.folders.run_folder): a stopped run never writes its whole list,
+    # so each name is appended before its file exists; a file written while no run of this process marks the folder
+    # (another command, after the stop) is not the run's, and stays
+    from render.io.atomic import write_text
+    from render.io.folders import INCOMPLETE, run_folder
+
+    out = tmp_path / "run"
+    with pytest.raises(KeyboardInterrupt), run_folder(out):
+        write_text(out / "a.wav", "x")
+        (out / "sub").mkdir()
+        write_text(out / "sub" / "b.json", "{}")
+        raise KeyboardInterrupt  # what a stop becomes in the command
+    assert (out / INCOMPLETE).exists()
+    assert (out / ".run-files").read_text(encoding="utf-8").splitlines() == ["a.wav", "sub/b.json"]
+    marker = out / INCOMPLETE
+    marker.write_text(marker.read_text(encoding="utf-8").replace(f"process {os.getpid()}.", "process 1."), encoding="utf-8")  # a run long gone
+    write_text(out / "c.md", "by another command\n")
+    (out / ".tmp-d.wav.abcdefgh").write_bytes(b"RIFF")
+    assert (out / ".run-files").read_text(encoding="utf-8").splitlines() == ["a.wav", "sub/b.json"]
+    with run_folder(out):
+        write_text(out / "d.wav", "y")
+    assert sorted(p.name for p in out.iterdir()) == [".run-files", "c.md", "d.wav"]
+    assert (out / ".run-files").read_text(encoding="utf-8") == "d.wav\n"
 
 
 def test_a_near_dipole_names_the_nearer_coil(tmp_path):

@@ -235,7 +235,9 @@ def test_clips_from_di_unvoices_inside_the_marked_run_folder(di, tmp_path, monke
     assert res.exit_code == 1
     assert seen == [["INCOMPLETE.txt"]]
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["INCOMPLETE.txt", "take-velocity.json", "take-velocity.wav"], names
+    assert names == [".run-files", "INCOMPLETE.txt", "take-velocity.json", "take-velocity.wav"], names
+    # each file the stopped run began is listed, so the folder's next --overwrite removes it
+    assert sorted((out / ".run-files").read_text(encoding="utf-8").splitlines()) == ["take-velocity.json", "take-velocity.wav"]
 
 
 def test_clips_from_di_stopped_before_any_file_leaves_no_folder(di, tmp_path, monkeypatch):

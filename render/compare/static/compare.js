@@ -207,14 +207,24 @@
   }
 
   // dB applied to each clip's decoded samples: the run's full scale, less the match, less the
-  // common lowering that keeps every true peak at or below the ceiling
+  // common lowering that keeps every true peak at or below the ceiling. Only clips within
+  // match_window_lu of the loudest are matched (turned down to the quietest of them): a clip
+  // further down plays at its true level rather than pull every other clip down to it, and so
+  // does a clip whose coils cancel the strings (strings_cancel: its response is zero; only hum)
   function levels() {
     const vs = voiceEntries();
     const fsDb = 20 * Math.log10(S.data.volts_full_scale);
-    const measured = vs.filter((v) => v.loudness !== null).map((v) => v.loudness);
-    const quietest = measured.length ? Math.min.apply(null, measured) : 0;
+    const measured = vs.filter((v) => v.loudness !== null && !v.strings_cancel).map((v) => v.loudness);
+    const loudest = measured.length ? Math.max.apply(null, measured) : 0;
+    const inWindow = (v) => v.loudness !== null && !v.strings_cancel && v.loudness >= loudest - S.data.match_window_lu;
+    const matchable = vs.filter(inWindow).map((v) => v.loudness);
+    const quietest = matchable.length ? Math.min.apply(null, matchable) : 0;
     const match = new Map();
-    for (const v of vs) match.set(v.clip, S.matched && v.loudness !== null ? quietest - v.loudness : 0);
+    const tooQuiet = new Set();
+    for (const v of vs) {
+      match.set(v.clip, S.matched && inWindow(v) ? quietest - v.loudness : 0);
+      if (v.loudness !== null && !inWindow(v)) tooQuiet.add(v.clip);
+    }
     let over = -Infinity;
     for (const v of vs) if (v.true_peak !== null) over = Math.max(over, v.true_peak - fsDb + match.get(v.clip));
     const lowered = Math.max(0, over - S.data.true_peak_aim_dbtp);  // the ceiling less the margin for what a 4x meter misses
@@ -223,7 +233,7 @@
       const change = match.get(v.clip) - lowered;
       out.set(v.clip, { db: 20 * Math.log10(v.unit_v) - fsDb + change, change });
     }
-    return { gains: out, lowered };
+    return { gains: out, lowered, tooQuiet };
   }
 
   function levelText(v, lv) {
@@ -237,6 +247,8 @@
     }
     const g = lv.gains.get(v.clip);
     const played = !g ? "" : S.matched ? "played " + signed(g.change) : "true level" + (lv.lowered > 0.05 ? ", all " + signed(-lv.lowered) : "");
+    const why = v.strings_cancel ? "its coils cancel the strings (only hum): not matched, plays at its true level" : "too quiet to match (over " + S.data.match_window_lu + " dB under the loudest): plays at its true level";
+    if (g && S.matched && lv.tooQuiet.has(v.clip)) return [diff, played, why].filter(Boolean).join(" \u00b7 ");
     return [diff, played].filter(Boolean).join(" \u00b7 ");
   }
 
@@ -269,7 +281,7 @@
     for (const tr of el("summary").querySelectorAll("tbody tr")) {
       const d = entries()[Number(tr.dataset.index)];
       const g = lv.gains.get(d.clip);
-      tr.lastChild.textContent = g ? (S.matched ? signed(g.change) : "true level") : "\u2014";
+      tr.lastChild.textContent = g ? (S.matched && !lv.tooQuiet.has(d.clip) ? signed(g.change) : "true level") : "\u2014";
       tr.children[tr.children.length - 2].textContent = d.loudness === null || entries()[S.reference].loudness === null ? "\u2014" : signed(d.loudness - entries()[S.reference].loudness);
       if (S.data.matched_column !== null && S.data.matched_column !== undefined) {
         const cell = tr.children[2 + S.data.matched_column];
@@ -371,11 +383,17 @@
     return n;
   }
 
-  function path(xs, ys, x, y) {
-    let d = "";
-    for (let i = 0; i < xs.length; i++) d += (i ? "L" : "M") + x(xs[i]).toFixed(1) + " " + y(ys[i]).toFixed(1);
+  // a curve's path; a null level (a response exactly zero) is a gap, a level under the axis is drawn on its floor
+  function path(xs, ys, x, y, floor = -Infinity) {
+    let d = "", pen = "M";
+    for (let i = 0; i < xs.length; i++) {
+      if (ys[i] === null) { pen = "M"; continue; }
+      d += pen + x(xs[i]).toFixed(1) + " " + y(Math.max(ys[i], floor)).toFixed(1);
+      pen = "L";
+    }
     return d;
   }
+  const RESPONSE_RANGE_DB = 100; // the overlay's axis reaches this far under its top, as the run's spectrum plots do
 
   function drawResponses() {
     const box = el("responses");
@@ -384,8 +402,10 @@
     if (!curves.length) { box.parentElement.hidden = true; return; }
     const W = 640, H = 300, L = 44, R = 10, T = 10, B = 26;
     let lo = Infinity, hi = -Infinity;
-    for (const d of curves) for (const c of [d.response, d.passive]) if (c) for (const v of c[1]) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
-    lo = Math.floor(lo / 10) * 10; hi = Math.ceil(hi / 10) * 10;
+    for (const d of curves) for (const c of [d.response, d.passive]) if (c) for (const v of c[1]) if (v !== null) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+    if (hi === -Infinity) { lo = -100; hi = 0; } // every curve exactly zero: an axis of its own, nothing drawn on it
+    hi = Math.ceil(hi / 10) * 10;
+    lo = Math.max(Math.floor(lo / 10) * 10, hi - RESPONSE_RANGE_DB);
     if (hi - lo < 20) hi = lo + 20;
     const x = (f) => L + ((Math.log10(f) - Math.log10(20)) / 3) * (W - L - R);
     const y = (v) => T + ((hi - v) / (hi - lo)) * (H - T - B);
@@ -401,14 +421,14 @@
     const heard = heardEntry();
     for (const d of curves) {
       if (d === entries()[S.picked] || d.role === "compare") continue;
-      svg("path", { d: path(d.response[0], d.response[1], x, y), fill: "none", stroke: "#b8bcc6", "stroke-width": 1.2 }, box);
+      svg("path", { d: path(d.response[0], d.response[1], x, y, lo), fill: "none", stroke: "#b8bcc6", "stroke-width": 1.2 }, box);
     }
     for (const d of curves) {  // the comparison pickup: always drawn, in its own colour and dash
       if (d.role !== "compare" || d === entries()[S.picked]) continue;
-      svg("path", { d: path(d.response[0], d.response[1], x, y), fill: "none", stroke: "#2f7a5a", "stroke-width": 1.8, "stroke-dasharray": "2 3", class: "compare-curve" }, box);
+      svg("path", { d: path(d.response[0], d.response[1], x, y, lo), fill: "none", stroke: "#2f7a5a", "stroke-width": 1.8, "stroke-dasharray": "2 3", class: "compare-curve" }, box);
     }
-    if (heard.passive) svg("path", { d: path(heard.passive[0], heard.passive[1], x, y), fill: "none", stroke: "#a85a2f", "stroke-width": 1.6, "stroke-dasharray": "6 4" }, box);
-    if (heard.response) svg("path", { d: path(heard.response[0], heard.response[1], x, y), fill: "none", stroke: "#1f2433", "stroke-width": 2.6 }, box);
+    if (heard.passive) svg("path", { d: path(heard.passive[0], heard.passive[1], x, y, lo), fill: "none", stroke: "#a85a2f", "stroke-width": 1.6, "stroke-dasharray": "6 4" }, box);
+    if (heard.response) svg("path", { d: path(heard.response[0], heard.response[1], x, y, lo), fill: "none", stroke: "#1f2433", "stroke-width": 2.6 }, box);
   }
 
   function spectrumRange() {
