@@ -516,7 +516,9 @@ def as_written(spec: FitSpec, x: np.ndarray) -> np.ndarray:
 
 
 @dataclass(frozen=True)
-class FitResult:
+class FitCandidate:
+    """One candidate of a design fit: its free values, its score and figures, and whether it meets every aim."""
+
     values: np.ndarray  # (n_free,), as the result's file holds them
     score: float  # from ``figures``, the figures of those values
     figures: dict
@@ -531,7 +533,7 @@ class FitResult:
         lock_arrays(self)
 
 
-def verdict(spec: FitSpec, r: FitResult) -> str:
+def verdict(spec: FitSpec, r: FitCandidate) -> str:
     """Whether a result meets every aim, or which it misses and what it measures there, in words."""
     if not r.missed:
         return "meets every aim"
@@ -634,7 +636,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
         miss = ev.misses(aim_values(spec, fig)[None, :])[0]
         missed = tuple(a for a, m in zip(spec.aims, miss) if m > 1e-12)
         n, r = _tiebreak(v, start_vals)
-        results.append(FitResult(values=v, score=float(miss.sum()), figures=fig, meets=not missed, changed=int(n), change=float(r), missed=missed))
+        results.append(FitCandidate(values=v, score=float(miss.sum()), figures=fig, meets=not missed, changed=int(n), change=float(r), missed=missed))
     return results, ev, start_vals
 
 

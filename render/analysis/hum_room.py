@@ -96,7 +96,7 @@ def hum_positions(design, *, rig=None, trials: int = 2000, seed: int = 0, shell=
     joint : bool
         Also draw the part tolerances, trial by trial with the places: the
         same part draws as the tolerance Monte Carlo of the same ``seed`` and
-        ``trials`` (:func:`render.analysis.hum.monte_carlo`).
+        ``trials`` (:func:`render.analysis.hum.hum_tolerances`).
     tolerances : dict or None
         With ``joint``: part class ("resistor", "capacitor", "turns") to a
         relative half-width from 0 to 0.5 (0.01 is ±1 %); the defaults (1 %, 5 %, 2 %) for classes not given.

@@ -70,7 +70,7 @@ def clips_command(
     from .compare_print import load_compare
 
     compared = load_compare(compare_path, rig_path)
-    check_stems(designs, compared)  # refused, as run_clips refuses it, before the folder is made
+    check_stems(designs, compared)  # refused, as render_clips refuses it, before the folder is made
     reference_index(designs, reference, compare=compared)  # a wrong name is refused before the folder is made
     out = output_folder(out_dir, overwrite=overwrite)
     if from_di and dry_path is None:
@@ -108,14 +108,14 @@ def read_strength(text, dry) -> float | None:
 
 
 def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None, overwrite=False, from_di=None):
-    """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
-    from ..runs.clips import run_clips
+    """Run :func:`render.runs.clips.render_clips` with a progress bar, then print its warnings and where the clips went."""
+    from ..runs.clips import render_clips
     from .clips_print import progress_bar, report_clips
     from .unvoice import report_from_di
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     with progress_bar(len(designs)) as update:
-        run = run_clips(
+        run = render_clips(
             designs,
             dry,
             settings,

@@ -353,7 +353,7 @@ def measurement_path(file: str, source: str) -> Path:
     return Path(source).parent / p
 
 
-def fit_file(path: Path, *, capacitance: float | None = None, resistance: float | None = None):
+def read_and_fit(path: Path, *, capacitance: float | None = None, resistance: float | None = None):
     """(Measurement, MeasuredCoil) of a measurement file, the fit cached by the file's hash; ``capacitance`` (F) holds C, ``resistance`` (Ω) R_dc."""
     from ..io.measurement import read_measurement
 
@@ -418,7 +418,7 @@ def _measured(coil, spec: CoilSpec, design, name: str):
     path = measurement_path(spec.measured, design.source)
     if not path.is_file():
         raise InputError(f"{where(design.source, name, 'measured')}={U.shown(spec.measured)}: no such file ({path}); the path is relative to the design file's folder")
-    m, fit = fit_file(path, capacitance=coil.capacitance if spec.hold_capacitance else None, resistance=coil.resistance if spec.hold_resistance else None)
+    m, fit = read_and_fit(path, capacitance=coil.capacitance if spec.hold_capacitance else None, resistance=coil.resistance if spec.hold_resistance else None)
     record = MeasuredImpedance(
         file=spec.measured,
         path=str(path),

@@ -171,7 +171,7 @@ def csv_text(rec: dict) -> str:
 
 
 @dataclass(frozen=True)
-class FitResult:
+class CoilFit:
     """A measurement and the coil model fitted to it (``render coil fit``; ``render.CoilFit``).
 
     Attributes
@@ -268,7 +268,7 @@ def read_resistance(text: str) -> float:
     return float(read_value(text, COIL["resistance"], source="--resistance", table="", key="", part=("coil_a", "resistance")))
 
 
-def fit_file(path, *, capacitance: float | None = None, resistance: float | None = None) -> FitResult:
+def fit_coil(path, *, capacitance: float | None = None, resistance: float | None = None) -> CoilFit:
     """Read a measurement CSV and fit the coil model to it (``render.fit_coil``; the fit is cached by the file's hash).
 
     Parameters
@@ -286,7 +286,7 @@ def fit_file(path, *, capacitance: float | None = None, resistance: float | None
         The measurement and the fitted model (:class:`render.CoilFit`).
     """
     from .. import arguments as A
-    from ..design.coil_impedance import fit_file as read_and_fit
+    from ..design.coil_impedance import read_and_fit
 
     path = A.path("path", path, what="a measurement CSV's path")
     if capacitance is not None:
@@ -294,7 +294,7 @@ def fit_file(path, *, capacitance: float | None = None, resistance: float | None
     if resistance is not None:
         A.number("resistance", resistance, lo=0, lo_open=True, unit="Ω", hint=" (ohms: 4100 for 4.1 kΩ)")
     m, fit = read_and_fit(path, capacitance=capacitance, resistance=resistance)
-    return FitResult(m, fit, self_resonance_hz(fit.impedance))
+    return CoilFit(m, fit, self_resonance_hz(fit.impedance))
 
 
 # what a pickup coil's fitted values usually are; outside them `render coil fit` warns (one line each)
@@ -337,7 +337,7 @@ def band_text(band: dict) -> str:
     return f"{U.format_si(band['from_hz'], 'Hz', 3)} – {U.format_si(band['to_hz'], 'Hz', 3)}"
 
 
-def fit_warnings(result: FitResult) -> tuple[str, ...]:
+def fit_warnings(result: CoilFit) -> tuple[str, ...]:
     """One line per reason to doubt that the sweep is a pickup coil's, or that the fit is its model.
 
     Ranges: R_dc :data:`COIL_RESISTANCE_USUAL`; inductance and capacitance
@@ -432,7 +432,7 @@ def check_table(text: str, *, coil: str) -> None:
     read_value(Ladder(t["series_inductance"], t["inductances"], t["resistances"]).dc_inductance, COIL["inductance"], source=source, table=coil, key="inductance")
 
 
-def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | None = None) -> str:
+def coil_table(result: CoilFit, *, coil: str = "coil_a", measured_as: str | None = None) -> str:
     """The fitted coil as a design file's table (TOML): ``resistance``, ``capacitance`` and ``[coil_x.ladder]``.
 
     The coil's other keys (sensitivity or a construction, turns_area or a

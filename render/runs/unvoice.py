@@ -343,7 +343,7 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     Writes ``folder/<DI stem>-velocity.wav`` (with its JSON and, if ``plot``,
     its plot), at 1 V DI full scale and 1 m/s velocity full scale. Returns the
     velocity WAV's path and a short JSON-ready record of the un-voicing.
-    ``clips`` calls it inside its run's folder (:func:`render.runs.clips.run_clips`, ``from_di``),
+    ``clips`` calls it inside its run's folder (:func:`render.runs.clips.render_clips`, ``from_di``),
     so a stop while un-voicing leaves that folder marked incomplete.
     """
     from ..io.folders import folder_kept_on_success
