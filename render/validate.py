@@ -5,7 +5,7 @@
   unknown keys refused with the nearest known key (or the one it begins) suggested;
 - :class:`Where`, :func:`check_keys` and :func:`quantity`: the same checks
   for hand-written parsers (phrases, fit files), with one message form;
-- :func:`suggest`, :func:`did_you_mean` and :func:`unknown`: the "did you mean" of every message, and
+- :func:`suggest`, :func:`close_name`, :func:`did_you_mean` and :func:`unknown`: the "did you mean" of every message, and
   the one refusal of an unknown key (``<file>: [table]: unknown key 'x'; did you mean 'y'?``);
 - :func:`sample_rate`: the one check of an output sample rate.
 
@@ -45,11 +45,16 @@ def suggest(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str | 
     return starts[0] if len(starts) == 1 else None
 
 
+def close_name(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str:
+    """A message's ending naming the known name closest to ``word`` ("; did you mean 'x'?"), or "" when none is close."""
+    close = suggest(word, choices, cutoff=cutoff)
+    return f"; did you mean '{close}'?" if close else ""
+
+
 def did_you_mean(word: str, choices: Iterable[str], *, cutoff: float = 0.6, known: str = "keys") -> str:
     """A message's ending for an unknown name: "; did you mean 'x'?" or the ``known`` names."""
     choices = list(choices)
-    close = suggest(word, choices, cutoff=cutoff)
-    return f"; did you mean '{close}'?" if close else f"; known {known}: {', '.join(choices)}"
+    return close_name(word, choices, cutoff=cutoff) or f"; known {known}: {', '.join(choices)}"
 
 
 def unknown(place: str, key: object, choices: Iterable[str], *, what: str = "key", known: str = "keys") -> InputError:

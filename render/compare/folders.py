@@ -55,12 +55,11 @@ def clips_cells(m: dict) -> tuple[str, ...]:
 
 def read_head(path: Path, *, volts_full_scale: float, seconds: float = PAGE_SECONDS) -> tuple[np.ndarray, int, int]:
     """(the first ``seconds`` of a run's WAV in volts, its sample rate, its whole length in samples)."""
-    import soundfile as sf
+    from ..io.audio import audio_info, read_audio
 
-    info = sf.info(str(path))
-    frames = min(info.frames, int(round(seconds * info.samplerate)))
-    x, fs = sf.read(str(path), frames=frames, dtype="float64", always_2d=False)
-    return np.asarray(x, dtype=float) * volts_full_scale, int(fs), int(info.frames)
+    info = audio_info(path)
+    x = read_audio(path, frames=min(info.frames, int(round(seconds * info.sample_rate))))
+    return (x[:, 0] if x.shape[1] == 1 else x) * volts_full_scale, info.sample_rate, info.frames
 
 
 def write_clips_page(

@@ -282,14 +282,13 @@ def _ladder_from(stored: dict):
 def ladder_fit_cached(frequency_hz: np.ndarray, impedance: np.ndarray):
     """:func:`render.impedance.ladder.fit_ladder` of the impedance, kept on disk by the hash of its input
     (:mod:`render.io.cache`): the fit takes about 60 ms a coil, a design's every load needs it."""
-    import hashlib
-
     from ..impedance.ladder import LadderFit, fit_ladder
     from ..io import cache
+    from ..io.hashing import sha256_bytes
 
     f = np.ascontiguousarray(frequency_hz, "<f8")
     z = np.ascontiguousarray(impedance, "<c16")
-    key = hashlib.sha256(f"ladder-v{LADDER_VERSION}-{f.size}".encode() + f.tobytes() + z.tobytes()).hexdigest()
+    key = sha256_bytes(f"ladder-v{LADDER_VERSION}-{f.size}".encode() + f.tobytes() + z.tobytes())
     stored = cache.load("coil-ladder", key)
     if stored is not None:
         try:

@@ -284,21 +284,14 @@ def spectrogram_image(samples, *, sample_rate):
         x = np.concatenate([x, np.zeros(seg - x.size)])
     hop = max(seg // 4, -(-x.size // MAX_COLUMNS))
     starts = np.arange(0, max(x.size - seg, 0) + 1, hop)
-    from ..analysis.spectrum import density, log_frequency_rows, periodic_hann
+    from ..analysis.spectrum import spectrogram_columns
 
-    w = periodic_hann(seg)
-    f = np.fft.rfftfreq(seg, 1 / sample_rate)
     fmax = min(20000.0, sample_rate / 2)
     rows = np.geomspace(40.0, fmax, 320)
-    # each row is a linear interpolation (in dB) between two neighbouring FFT bins
-    lo, frac = log_frequency_rows(f, rows)
-    need = np.unique(np.concatenate([lo, lo + 1]))
-    at = np.searchsorted(need, lo)
     img = np.empty((rows.size, starts.size))
     for c in range(0, starts.size, 128):  # a few columns at a time
         idx = starts[c : c + 128, None] + np.arange(seg)[None, :]
-        level = 10 * np.log10(np.maximum(density(x[idx], w, sample_rate=sample_rate)[:, need].T, 1e-30))
-        img[:, c : c + 128] = level[at] * (1 - frac) + level[at + 1] * frac
+        img[:, c : c + 128] = spectrogram_columns(x[idx], sample_rate=sample_rate, rows_hz=rows)
     t = (starts + seg / 2) / sample_rate
     top = float(img.max()) if img.size else 0.0
     span = (float(t[0]), float(t[-1])) if t.size > 1 else (0.0, x.size / sample_rate)

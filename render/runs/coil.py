@@ -18,6 +18,7 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..impedance.ladder import REPORT_BAND_HZ
+from ..impedance.measured import self_resonance_hz
 from ..usual import USUAL
 
 if TYPE_CHECKING:
@@ -27,28 +28,16 @@ if TYPE_CHECKING:
 BAND_HZ = REPORT_BAND_HZ  # 20 Hz – 20 kHz
 POINTS = 301  # log-spaced over the band for --csv, --json and the plot
 SHOWN_HZ = (20.0, 50.0, 100.0, 200.0, 500.0, 1e3, 2e3, 5e3, 10e3, 20e3)  # the printed table
-SEARCH_HZ = (10.0, 1e7, 4000)  # where the self-resonance is looked for
 RESIDUAL_BANDS = ((20.0, 200.0), (200.0, 2e3), (2e3, 20e3))  # the fit's residual, reported per decade
 
 
-def terminal_impedance(coil_params, frequency_hz) -> np.ndarray:
-    """Z at the coil's terminals, shape (N, F): (R_dc + Z_L) ∥ 1/(jωC_w)."""
+def params_terminal_impedance(coil_params, frequency_hz) -> np.ndarray:
+    """Z at the terminals of a design's coils as the engine holds them (``CoilParams``), shape (N, F): (R_dc + Z_L) ∥ 1/(jωC_w)."""
     from ..circuit.coil import impedance_at
+    from ..impedance.measured import with_winding_capacitance
 
     f = np.atleast_1d(np.asarray(frequency_hz, float))
-    z = impedance_at(coil_params, f)
-    return 1.0 / (1.0 / z + 2j * np.pi * f[None, :] * coil_params.Cw[:, None])
-
-
-def self_resonance_hz(impedance_fn) -> float | None:
-    """Where ∠Z first crosses zero from inductive to capacitive (None: not within 10 Hz–10 MHz)."""
-    f = np.geomspace(*SEARCH_HZ)
-    ph = np.angle(impedance_fn(f))
-    idx = np.flatnonzero((ph[:-1] > 0) & (ph[1:] <= 0))
-    if idx.size == 0:
-        return None
-    i = int(idx[0])
-    return float(np.exp(np.interp(0.0, [ph[i + 1], ph[i]], [np.log(f[i + 1]), np.log(f[i])])))
+    return with_winding_capacitance(impedance_at(coil_params, f), 2j * np.pi * f[None, :], coil_params.Cw[:, None])
 
 
 def _ladder_dict(lad) -> dict | None:
@@ -127,10 +116,10 @@ def coil_record(design, *, points: int = POINTS) -> dict:
     for name in ("coil_a", "coil_b"):
         c = getattr(design, name)
         cp = getattr(p, name)
-        z = terminal_impedance(cp, f)[0]
+        z = params_terminal_impedance(cp, f)[0]
         rec = c.impedance_from
         unsure = getattr(rec, "self_resonance_doubt", "")  # a measured coil whose sweep does not determine C
-        srf = None if unsure else self_resonance_hz(lambda x, cp=cp: terminal_impedance(cp, x)[0])
+        srf = None if unsure else self_resonance_hz(lambda x, cp=cp: params_terminal_impedance(cp, x)[0])
         coils[name] = {
             "source": coil_source(c),
             "resistance_ohm": c.resistance,
@@ -316,11 +305,11 @@ def written_capacitance(fit: MeasuredCoil) -> float:
 
 def floor_effect_db(fit: MeasuredCoil) -> float:
     """dB: the most the written capacitance moves |Z| from the fitted model's over the measured frequencies."""
-    from ..impedance.measured import terminal_impedance as z_of
+    from ..impedance.measured import terminal_impedance
 
     f = fit.frequency_hz
     z_fit = fit.impedance(f)
-    z_written = z_of(f, resistance=fit.resistance, ladder=fit.ladder, capacitance=written_capacitance(fit))
+    z_written = terminal_impedance(f, resistance=fit.resistance, ladder=fit.ladder, capacitance=written_capacitance(fit))
     return float(np.max(np.abs(20 * np.log10(np.abs(z_written) / np.abs(z_fit)))))
 
 
