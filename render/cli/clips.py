@@ -87,10 +87,10 @@ def clips_command(
         rec = run.compare
         if rec["peak_v"] > run.volts_full_scale:
             warn(f"{compared.name}: peak above the {run.volts_full_scale:g} V full scale; the float WAV keeps those samples, but many players clip them")
-        from ..analysis.undefined import shown
+        from ..analysis.undefined import figure_or_reason
 
         click.echo(
-            f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {shown(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale"
+            f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {figure_or_reason(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale"
         )
 
 

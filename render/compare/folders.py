@@ -160,7 +160,7 @@ def compare_clip(folder: Path, p, rec: dict, *, volts_full_scale: float) -> Page
     )
 
 
-def played_cells(headroom: dict) -> tuple[str, str, str]:
+def played_limit_cells(headroom: dict) -> tuple[str, str, str]:
     """A phrase clip's headroom record (:meth:`render.analysis.headroom.PlayedHeadroom.record`) as the playing-units cells, as ``render bias`` prints them."""
     from ..analysis.headroom import format_share, from_record, margin_cell, strength_cell
 
@@ -180,7 +180,7 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
     from ..analysis.bias import RESTS_PLAYED, headroom_cell, onset_cell
 
     q = row["sine"]
-    played = played_cells(clip.get("headroom") or {})
+    played = played_limit_cells(clip.get("headroom") or {})
     if row.get("rests_on_limit"):
         played = (RESTS_PLAYED, RESTS_PLAYED, played[2])
     return (

@@ -73,7 +73,7 @@ def test_streamed_file_equals_the_one_shot_writer_and_the_pure_function(di, tmp_
     assert out.read_bytes() == float_wav_bytes(x, SAMPLE_RATE)
     (d,), _ = load_designs([REF])
     passive = design_responses([d]).passive_velocity()(U.design_grid(sample_rate=SAMPLE_RATE))[0]
-    v, _ = U.unvoice(y.astype(np.float32).astype(float), passive=passive, sample_rate=SAMPLE_RATE)
+    v, _ = U.unvoice_array(y.astype(np.float32).astype(float), passive=passive, sample_rate=SAMPLE_RATE)
     assert np.array_equal(x, v.astype(np.float32).astype(float))
     # the read block size does not change a byte
     monkeypatch.setattr(run_unvoice, "BLOCK", 1000)
