@@ -260,19 +260,19 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
             out[key] = read_value(data[key], spec, source=source, table=table, key=key)
         elif spec.required:
             other = f", {spec.missing.format(table=table)}" if spec.missing else ""
-            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {example(spec)}{other}")
+            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {field_example(spec)}{other}")
         elif spec.default is not None:
             out[key] = spec.default
     return out
 
 
 def with_example(read: Callable, text: str) -> Callable:
-    """``read`` (a field's reader) carrying ``text``, a value it accepts as TOML writes it, for :func:`example`."""
+    """``read`` (a field's reader) carrying ``text``, a value it accepts as TOML writes it, for :func:`field_example`."""
     read.example = text  # type: ignore[attr-defined]
     return read
 
 
-def example(spec: Field) -> str:
+def field_example(spec: Field) -> str:
     """One value ``spec`` accepts, as TOML writes it: what a missing key's message suggests.
 
     A reader (a callable kind) gives its own in its ``example`` attribute (a choice its first

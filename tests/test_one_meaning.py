@@ -22,9 +22,6 @@ KEPT = {
     "print_record": {"cli/coil.py", "cli/sense.py"},
     "summary_lines": {"cli/noise.py", "cli/response.py", "listening/score.py"},
     # not yet renamed: each pair does a different job under one name
-    "apply": {"analysis/fit.py", "chain/discretize.py"},
-    "csv_text": {"report/response.py", "runs/coil.py"},
-    "example": {"units.py", "validate.py"},
     "phrase_motion": {"dry/construction.py", "runs/limit_strength.py"},
     "run": {"chain/_loop_kernel.py", "cli/__init__.py"},
 }

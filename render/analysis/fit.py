@@ -349,7 +349,7 @@ def load_fit(path, *, start_override=None) -> FitSpec:
 # ----------------------------------------------------------------------------
 
 
-def apply(design, frees, values):
+def with_free_values(design, frees, values):
     """``design`` with each free part set to its value (unvalidated)."""
     tables: dict[str, dict[str, float]] = {}
     for fr, v in zip(frees, values):
@@ -432,7 +432,7 @@ class Evaluator:
 
         written : the values are as their files would hold them (:func:`as_written`)
         """
-        designs = [apply(self.start, self.spec.free, row) for row in values]
+        designs = [with_free_values(self.start, self.spec.free, row) for row in values]
         ok = np.array([_valid(d) for d in designs])
         out = np.full((len(designs), len(self.spec.aims) + len(self.spec.guided)), np.nan)
         if ok.any():
@@ -632,7 +632,7 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
     results = []
     for v, _ in ranked[:top]:
         # the figures of the values as written, and the score and verdict from those figures
-        fig = ev.design_figures([apply(start, spec.free, v)])[0]
+        fig = ev.design_figures([with_free_values(start, spec.free, v)])[0]
         miss = ev.misses(aim_values(spec, fig)[None, :])[0]
         missed = tuple(a for a, m in zip(spec.aims, miss) if m > 1e-12)
         n, r = _tiebreak(v, start_vals)

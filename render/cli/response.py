@@ -72,7 +72,7 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, co
     from ..analysis.response import response
     from ..design import load_designs
     from ..errors import InputError
-    from ..report.response import csv_text
+    from ..report.response import response_csv_text
 
     if fmax <= fmin:
         raise InputError(f"--fmax={fmax:g} must be above --fmin={fmin:g}")
@@ -91,7 +91,7 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, co
             click.echo()
             echo(figure_lines(compared, [(d.name, fig["level_1k_db"])]))
     if csv_path:
-        text = csv_text(f, h, hp)
+        text = response_csv_text(f, h, hp)
         if compared is not None:
             from ..report.compare import with_compare_columns
 

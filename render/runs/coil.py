@@ -147,7 +147,7 @@ def at(rec_coil: dict, frequency_hz: float) -> tuple[float, float]:
     return mag, float(np.interp(x, lf, rec_coil["phase_deg"]))
 
 
-def csv_text(rec: dict) -> str:
+def coil_csv_text(rec: dict) -> str:
     """frequency_hz and each coil's |Z| (Ω) and phase (°), one row per frequency."""
     a, b = rec["coils"]["coil_a"], rec["coils"]["coil_b"]
     rows = ["frequency_hz,coil_a_z_ohm,coil_a_phase_deg,coil_b_z_ohm,coil_b_phase_deg"]
