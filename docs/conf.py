@@ -18,4 +18,3 @@ autodoc_default_options = {"members": True, "undoc-members": False}
 nitpicky = False
 exclude_patterns = ["_build", "drafts"]
 html_theme = "alabaster"
-suppress_warnings = ["autodoc.import_object"]

@@ -28,7 +28,7 @@ from typing import Any
 
 __version__ = "0.1.0"
 
-# public name -> the module that defines it
+# public name -> the module that defines it under that same name
 _HOME = {
     # reading
     "load_design": "render.design",
@@ -98,7 +98,6 @@ _HOME = {
 }
 # the jobs that record the designs they render: a design changed after loading (not with with_values) is refused there
 _RECORDING = {"render_clips", "unvoice", "build_blind_session", "hum_run", "noise_run", "bias_run"}
-_ALIASES = {"render_clips": "run_clips", "hum_tolerances": "monte_carlo", "HumTolerances": "MonteCarlo", "fit_coil": "fit_file", "CoilFit": "FitResult"}
 
 __all__ = sorted(_HOME) + ["__version__"]
 
@@ -106,7 +105,7 @@ __all__ = sorted(_HOME) + ["__version__"]
 def __getattr__(name: str) -> Any:
     if name not in _HOME:
         raise AttributeError(f"module 'render' has no attribute {name!r}")
-    value = getattr(importlib.import_module(_HOME[name]), _ALIASES.get(name, name))
+    value = getattr(importlib.import_module(_HOME[name]), name)
     if inspect.isfunction(value):  # a design as a path or a Design, a rig as a path, a RigFile or None
         from .face import takes_files
 

@@ -45,7 +45,7 @@ def number_range(lo: float | None, hi: float | None, *, lo_open: bool = False, u
     return f"of at most {_g(hi)}{u}" if hi is not None else "finite"
 
 
-def number(name: str, value: object, *, lo: float | None = None, hi: float | None = None, lo_open: bool = False, unit: str = "", usual: str = "") -> float:
+def typed_number(name: str, value: object, *, lo: float | None = None, hi: float | None = None, lo_open: bool = False, unit: str = "", usual: str = "") -> float:
     """``value`` as a finite float within the range; NaN, infinities and text refused with the range."""
     rng = number_range(lo, hi, lo_open=lo_open, unit=unit)
     tail = f"; {usual}" if usual else ""
@@ -61,7 +61,7 @@ def number(name: str, value: object, *, lo: float | None = None, hi: float | Non
     return x
 
 
-def seed(name: str, value: object, *, hi: int = SEED_MAX) -> int:
+def typed_seed(name: str, value: object, *, hi: int = SEED_MAX) -> int:
     """A seed: a whole number from 0 to ``hi`` (2**32 - 1 unless given)."""
     try:
         s = None if isinstance(value, bool) else operator.index(value)  # type: ignore[arg-type]

@@ -5,7 +5,7 @@
   unknown keys refused with the nearest known key (or the one it begins) suggested;
 - :class:`Where`, :func:`check_keys` and :func:`quantity`: the same checks
   for hand-written parsers (phrases, fit files), with one message form;
-- :func:`suggest`, :func:`did_you_mean` and :func:`unknown`: the "did you mean" of every message, and
+- :func:`suggest`, :func:`close_name`, :func:`did_you_mean` and :func:`unknown`: the "did you mean" of every message, and
   the one refusal of an unknown key (``<file>: [table]: unknown key 'x'; did you mean 'y'?``);
 - :func:`sample_rate`: the one check of an output sample rate.
 
@@ -45,11 +45,16 @@ def suggest(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str | 
     return starts[0] if len(starts) == 1 else None
 
 
+def close_name(word: str, choices: Iterable[str], *, cutoff: float = 0.6) -> str:
+    """A message's ending naming the known name closest to ``word`` ("; did you mean 'x'?"), or "" when none is close."""
+    close = suggest(word, choices, cutoff=cutoff)
+    return f"; did you mean '{close}'?" if close else ""
+
+
 def did_you_mean(word: str, choices: Iterable[str], *, cutoff: float = 0.6, known: str = "keys") -> str:
     """A message's ending for an unknown name: "; did you mean 'x'?" or the ``known`` names."""
     choices = list(choices)
-    close = suggest(word, choices, cutoff=cutoff)
-    return f"; did you mean '{close}'?" if close else f"; known {known}: {', '.join(choices)}"
+    return close_name(word, choices, cutoff=cutoff) or f"; known {known}: {', '.join(choices)}"
 
 
 def unknown(place: str, key: object, choices: Iterable[str], *, what: str = "key", known: str = "keys") -> InputError:
@@ -255,19 +260,19 @@ def read_table(data: Any, specs: dict[str, Field], *, source: str, table: str) -
             out[key] = read_value(data[key], spec, source=source, table=table, key=key)
         elif spec.required:
             other = f", {spec.missing.format(table=table)}" if spec.missing else ""
-            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {example(spec)}{other}")
+            raise InputError(f"{where(source, table)}: missing required key '{key}' ({spec.doc}); add e.g. {key} = {field_example(spec)}{other}")
         elif spec.default is not None:
             out[key] = spec.default
     return out
 
 
 def with_example(read: Callable, text: str) -> Callable:
-    """``read`` (a field's reader) carrying ``text``, a value it accepts as TOML writes it, for :func:`example`."""
+    """``read`` (a field's reader) carrying ``text``, a value it accepts as TOML writes it, for :func:`field_example`."""
     read.example = text  # type: ignore[attr-defined]
     return read
 
 
-def example(spec: Field) -> str:
+def field_example(spec: Field) -> str:
     """One value ``spec`` accepts, as TOML writes it: what a missing key's message suggests.
 
     A reader (a callable kind) gives its own in its ``example`` attribute (a choice its first

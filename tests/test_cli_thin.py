@@ -71,3 +71,23 @@ def test_the_command_import_check_finds_one(tmp_path):
     (tmp_path / "b.py").write_text("import click\n\ndef helper():\n    pass\n\n@click.command('b')\ndef b():\n    pass\n", encoding="utf-8")
     (tmp_path / "b_print.py").write_text("def shown():\n    pass\n", encoding="utf-8")
     assert command_imports(tmp_path) == ["a -> b"]
+
+
+def test_audio_files_are_read_only_in_render_io():
+    """One home for reading audio (render/io: its checks, refusals and streamed reads): no soundfile import elsewhere."""
+    found = [
+        str(p.relative_to(PACKAGE))
+        for p in sorted(PACKAGE.rglob("*.py"))
+        if p.relative_to(PACKAGE).parts[0] != "io" and re.search(r"^\s*(import soundfile|from soundfile)", p.read_text(encoding="utf-8"), re.M)
+    ]
+    assert not found, f"soundfile imported outside render/io: {found}"
+
+
+def test_hashes_are_taken_only_in_render_io_hashing():
+    """One home for SHA-256 (render/io/hashing.py), whether of a file or of a cache key's bytes."""
+    found = [
+        str(p.relative_to(PACKAGE))
+        for p in sorted(PACKAGE.rglob("*.py"))
+        if p.relative_to(PACKAGE).as_posix() != "io/hashing.py" and re.search(r"^\s*(import hashlib|from hashlib)", p.read_text(encoding="utf-8"), re.M)
+    ]
+    assert not found, f"hashlib imported outside render/io/hashing.py: {found}"

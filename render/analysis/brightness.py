@@ -71,7 +71,7 @@ def band_power_db(response, band: tuple[float, float], *, points: int = POINTS_P
         return 10 * np.log10(mean)
 
 
-def level_db(response, frequency_hz: float) -> np.ndarray:
+def level_at_db(response, frequency_hz: float) -> np.ndarray:
     """20·log10|H(f)| at one frequency, shape (N,)."""
     with np.errstate(divide="ignore"):
         return 20 * np.log10(np.abs(response(frequency_hz))[:, 0])
@@ -79,7 +79,7 @@ def level_db(response, frequency_hz: float) -> np.ndarray:
 
 def band_levels_re_1k(response, bands=BANDS_HZ) -> dict[str, np.ndarray]:
     """Each band's level re the level at 1 kHz (dB), keyed by :func:`band_key`; arrays of shape (N,)."""
-    at_1k = level_db(response, 1000.0)
+    at_1k = level_at_db(response, 1000.0)
     with np.errstate(invalid="ignore"):  # NaN for a silent response
         return {band_key(b): band_power_db(response, b) - at_1k for b in bands}
 
@@ -137,7 +137,7 @@ def brightness_records(designs, loudness_lufs, *, reference: int | OutsideRefere
     designs = list(designs)
     vel = responses(from_designs(designs)).velocity()
     power = {band_key(b): band_power_db(vel, b) for b in bands}
-    at_1k = level_db(vel, 1000.0)
+    at_1k = level_at_db(vel, 1000.0)
     if isinstance(reference, OutsideReference):
         ref_name, ref_loud, ref_power, ref_i = reference.name, reference.loudness_lufs, reference.power_db, -1
     else:
@@ -182,7 +182,7 @@ def other_record(response, loudness_lufs: float | None, *, reference_power_db: d
     """
     from . import undefined as U
 
-    at_1k = level_db(response, 1000.0)[0]
+    at_1k = level_at_db(response, 1000.0)[0]
     row: dict = {"reference_design": reference_name, "is_reference": bool(is_reference), "bands_hz": [list(b) for b in bands]}
     for b in bands:
         k = band_key(b)

@@ -349,7 +349,7 @@ def load_fit(path, *, start_override=None) -> FitSpec:
 # ----------------------------------------------------------------------------
 
 
-def apply(design, frees, values):
+def with_free_values(design, frees, values):
     """``design`` with each free part set to its value (unvalidated)."""
     tables: dict[str, dict[str, float]] = {}
     for fr, v in zip(frees, values):
@@ -432,7 +432,7 @@ class Evaluator:
 
         written : the values are as their files would hold them (:func:`as_written`)
         """
-        designs = [apply(self.start, self.spec.free, row) for row in values]
+        designs = [with_free_values(self.start, self.spec.free, row) for row in values]
         ok = np.array([_valid(d) for d in designs])
         out = np.full((len(designs), len(self.spec.aims) + len(self.spec.guided)), np.nan)
         if ok.any():
@@ -516,7 +516,9 @@ def as_written(spec: FitSpec, x: np.ndarray) -> np.ndarray:
 
 
 @dataclass(frozen=True)
-class FitResult:
+class FitCandidate:
+    """One candidate of a design fit: its free values, its score and figures, and whether it meets every aim."""
+
     values: np.ndarray  # (n_free,), as the result's file holds them
     score: float  # from ``figures``, the figures of those values
     figures: dict
@@ -531,7 +533,7 @@ class FitResult:
         lock_arrays(self)
 
 
-def verdict(spec: FitSpec, r: FitResult) -> str:
+def verdict(spec: FitSpec, r: FitCandidate) -> str:
     """Whether a result meets every aim, or which it misses and what it measures there, in words."""
     if not r.missed:
         return "meets every aim"
@@ -630,11 +632,11 @@ def run_fit(spec: FitSpec, start, *, top: int = 3, seed: int = 0, maxiter: int =
     results = []
     for v, _ in ranked[:top]:
         # the figures of the values as written, and the score and verdict from those figures
-        fig = ev.design_figures([apply(start, spec.free, v)])[0]
+        fig = ev.design_figures([with_free_values(start, spec.free, v)])[0]
         miss = ev.misses(aim_values(spec, fig)[None, :])[0]
         missed = tuple(a for a, m in zip(spec.aims, miss) if m > 1e-12)
         n, r = _tiebreak(v, start_vals)
-        results.append(FitResult(values=v, score=float(miss.sum()), figures=fig, meets=not missed, changed=int(n), change=float(r), missed=missed))
+        results.append(FitCandidate(values=v, score=float(miss.sum()), figures=fig, meets=not missed, changed=int(n), change=float(r), missed=missed))
     return results, ev, start_vals
 
 

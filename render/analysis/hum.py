@@ -310,7 +310,7 @@ def _design_rejection(design, factors: dict, n: int, f) -> np.ndarray:
 
 
 @dataclass(frozen=True)
-class MonteCarlo:
+class HumTolerances:
     """Hum rejection over random draws of the part tolerances (:func:`render.hum_tolerances`; ``render hum --tolerance``).
 
     Attributes
@@ -390,7 +390,7 @@ def part_draws(design, *, tolerances=None, trials=2000, seed=0) -> tuple[dict, d
     return tol, {label: 1.0 + tol[cls] * rng.uniform(-1.0, 1.0, trials) for label, cls in part_labels(design)}
 
 
-def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs=1) -> MonteCarlo:
+def hum_tolerances(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs=1) -> HumTolerances:
     """Hum rejection over ``trials`` random draws of the part tolerances.
 
     Parameters
@@ -428,7 +428,7 @@ def monte_carlo(design, *, tolerances=None, trials=2000, seed=0, chunk=500, jobs
     absent = absent_harmonics(design)
     at = quoted_harmonic(absent)
     sens = [] if at is None else sensitivities(design, f, harmonic=at)
-    return MonteCarlo(f, out, tol, trials, seed, sens, absent=absent, sensitivity_at=at)
+    return HumTolerances(f, out, tol, trials, seed, sens, absent=absent, sensitivity_at=at)
 
 
 def sensitivities(design, frequency_hz, *, harmonic: int = 0) -> list[tuple[str, float | str]]:

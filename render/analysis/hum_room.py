@@ -96,7 +96,7 @@ def hum_positions(design, *, rig=None, trials: int = 2000, seed: int = 0, shell=
     joint : bool
         Also draw the part tolerances, trial by trial with the places: the
         same part draws as the tolerance Monte Carlo of the same ``seed`` and
-        ``trials`` (:func:`render.analysis.hum.monte_carlo`).
+        ``trials`` (:func:`render.analysis.hum.hum_tolerances`).
     tolerances : dict or None
         With ``joint``: part class ("resistor", "capacitor", "turns") to a
         relative half-width from 0 to 0.5 (0.01 is ±1 %); the defaults (1 %, 5 %, 2 %) for classes not given.
@@ -211,12 +211,12 @@ def positions_record(mc: PositionMonteCarlo) -> dict:
 
 def quantile_line(row: dict) -> str:
     """One harmonic of a Monte Carlo's summary as ``render hum`` prints it; words where the room has no hum there."""
-    from .undefined import NO_FIELD, shown
+    from .undefined import NO_FIELD, figure_or_reason
 
     head = f"    H{row['harmonic']} {row['frequency_hz']:5.0f} Hz: "
     if row.get("median_db") is None and row.get("median_db_reason") == NO_FIELD:
         return head + f"no field at this harmonic ({NO_FIELD}), so no hum to reject"
-    return head + f"median {shown(row, 'median_db', '.1f', ' dB')}, 5th percentile {shown(row, 'p5_db', '.1f', ' dB')}"
+    return head + f"median {figure_or_reason(row, 'median_db', '.1f', ' dB')}, 5th percentile {figure_or_reason(row, 'p5_db', '.1f', ' dB')}"
 
 
 def map_lines(m: RejectionMap) -> list[str]:
@@ -235,14 +235,14 @@ def map_lines(m: RejectionMap) -> list[str]:
     lines = [f"{head}:", "    distance" + "".join(f"{b:>6.{digits}f}°" for b in m.bearing_deg)]
     js = m.to_dict()
 
-    def shown(i, j, reason=None):
+    def map_cell(i, j, reason=None):
         rec = {"r": js["rejection_db"][i][j][0], "r_reason": js["rejection_db_reason"][i][j][0]} if reason is None else {"r": None, "r_reason": reason}
         return cell(rec, "r", "6.1f", "")
 
     for i, dist in enumerate(m.distance_m):
-        lines.append(f"    {dist:6.2f} m" + "".join(f"{shown(i, j):>7s}" for j in range(len(m.bearing_deg))))
+        lines.append(f"    {dist:6.2f} m" + "".join(f"{map_cell(i, j):>7s}" for j in range(len(m.bearing_deg))))
     words = {r for row in js["rejection_db_reason"] for c in row for r in c[:1] if r}
-    lines += [f"    {shown(0, 0, r).strip()}: {r}" for r in sorted(words)]
+    lines += [f"    {map_cell(0, 0, r).strip()}: {r}" for r in sorted(words)]
     return lines
 
 

@@ -36,7 +36,7 @@ NO_HUM = SOURCE_NO_HUM
 EXACT = SOURCE_EXACT
 
 
-def rejection_words(value: float) -> tuple[float | None, str | None]:
+def rejection_or_reason(value: float) -> tuple[float | None, str | None]:
     """(figure, None) for a rejection in dB, or (None, reason) where it is undefined or at its cap."""
     v = float(value)
     if not np.isfinite(v):
@@ -118,7 +118,7 @@ def share_rows(sv: SourceVoltages, h: int) -> list[dict]:
     rej = rejection_db(a, b)
     rows = []
     for j, s in enumerate(sv.sources):
-        value, reason = rejection_words(rej[j])
+        value, reason = rejection_or_reason(rej[j])
         row = {"source": j + 1, "kind": s.kind, "rejection_db": value}
         if reason:
             row["rejection_db_reason"] = reason

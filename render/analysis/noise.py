@@ -38,6 +38,7 @@ T_DEFAULT = 300.0  # K
 T_RANGE = (200.0, 400.0)  # K: plausible for an instrument (−73 °C .. 127 °C)
 REFERENCE_HZ = 1000.0
 REFERENCE_VELOCITY = 0.1  # m/s rms string velocity of the reference signal
+REFERENCE_VELOCITY_RANGE = (1e-4, 10.0)  # m/s rms accepted as the reference (render noise --reference-velocity too)
 INTEGRATION_POINTS = 4001
 OUTPUT_PER_DECADE = 100  # points of the reported density (301 from 20 Hz to 20 kHz)
 WAVEFORM_CHUNK = 1 << 16  # frequencies evaluated at a time by NoiseStream
@@ -331,10 +332,32 @@ def _floor(sources, f_int, f_out, signal_v, silent_reason=None) -> NoiseFloor:
     )
 
 
+def check_reference_velocity(value: object) -> float:
+    """The reference sine's string velocity, m/s rms, within :data:`REFERENCE_VELOCITY_RANGE`, as a float;
+    :class:`~render.errors.ArgumentError` otherwise, worded as ``--reference-velocity`` refuses it."""
+    import numbers
+
+    from ..errors import ArgumentError
+    from ..option_checks import number_range
+
+    lo, hi = REFERENCE_VELOCITY_RANGE
+    span = number_range(lo, hi, unit="m/s rms")
+    x = float(value) if isinstance(value, numbers.Real) and not isinstance(value, bool) else None
+    if x is None:
+        why = f"not a number; give one {span}"
+    elif not math.isfinite(x):
+        why = f"not a finite number; give one {span}"
+    elif not lo <= x <= hi:
+        why = f"out of range; give a number {span}"
+    else:
+        return x
+    raise ArgumentError("reference_velocity", shown(value), why, option="--reference-velocity")
+
+
 def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENCE_VELOCITY, frequency_hz=None) -> list[NoiseReport]:
     """Noise floors of validated designs (rigs applied), active and passive.
 
-    temperature : K (200..400); reference_velocity : m/s rms (> 0) of the
+    temperature : K (200..400); reference_velocity : m/s rms (:data:`REFERENCE_VELOCITY_RANGE`) of the
     1 kHz reference signal; frequency_hz : (F,) grid of the reported
     density (default :func:`output_grid`). Totals always integrate
     20 Hz–20 kHz on :func:`integration_grid`.
@@ -344,8 +367,7 @@ def noise_reports(designs, *, temperature=T_DEFAULT, reference_velocity=REFERENC
 
     ds = list(designs)
     t = check_temperature(temperature)
-    if not (math.isfinite(reference_velocity) and reference_velocity > 0):
-        raise InputError(f"reference_velocity={reference_velocity:g} m/s: expected a positive string velocity (m/s rms)")
+    reference_velocity = check_reference_velocity(reference_velocity)
     p = from_designs(ds)
     resp = responses(p)
     model: NoiseModel = noise_model(
@@ -535,7 +557,7 @@ def noise(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_veloc
         Play into this rig instead of the design's own.
     temperature_k : float, K, 200..400
         Temperature of every resistance.
-    reference_velocity : float, m/s rms
+    reference_velocity : float, m/s rms, 0.0001..10
         String velocity of the 1 kHz reference sine the SNR is relative to.
 
     Returns
@@ -547,6 +569,5 @@ def noise(design, *, rig=None, temperature_k: float = T_DEFAULT, reference_veloc
 
     number("temperature_k", temperature_k, unit="K")  # a number at all first, then its range
     check_temperature(temperature_k, "temperature_k")
-    number("reference_velocity", reference_velocity, lo=0, lo_open=True, unit="m/s rms")
     (report,) = noise_reports([apply_rig(design, rig)], temperature=temperature_k, reference_velocity=reference_velocity)
     return report

@@ -57,6 +57,27 @@ def log_frequency_rows(frequency_hz: np.ndarray, rows_hz: np.ndarray) -> tuple[n
     return lo, frac
 
 
+def spectrogram_columns(frames: np.ndarray, *, sample_rate: float, rows_hz: np.ndarray) -> np.ndarray:
+    """A spectrogram's columns: each frame's Hann-windowed density, read at log-spaced rows (:func:`log_frequency_rows`).
+
+    Parameters
+    ----------
+    frames : np.ndarray [shape=(k, n)], the signal's units, one frame per column
+    sample_rate : float, Hz
+    rows_hz : np.ndarray [shape=(R,)], the rows' frequencies, ascending
+
+    Returns
+    -------
+    np.ndarray [shape=(R, k)], dB re 1 unit²/Hz, interpolated in dB between the two bins around each row
+    """
+    n = frames.shape[-1]
+    lo, frac = log_frequency_rows(np.fft.rfftfreq(n, 1 / sample_rate), rows_hz)
+    need = np.unique(np.concatenate([lo, lo + 1]))  # only the bins the rows read
+    at = np.searchsorted(need, lo)
+    level = 10 * np.log10(np.maximum(density(frames, periodic_hann(n), sample_rate=sample_rate)[:, need].T, 1e-30))
+    return level[at] * (1 - frac) + level[at + 1] * frac
+
+
 class WelchSpectrum:
     """Welch's average of Hann periodograms with 50 % overlap, fed block by block.
 

@@ -130,14 +130,14 @@ def hum_warnings(design) -> tuple[str, ...]:
     return point_coil_warnings(design) + area_mismatch_warnings(design) + winding_area_warnings(design)
 
 
-def rejection_words(fig: dict, mains_hz: float) -> str:
+def rejection_text(fig: dict, mains_hz: float) -> str:
     """The figures' hum rejection as ``render check`` prints it, naming the harmonic it is quoted at.
 
     fig : one design's :func:`render.analysis.figures.figures`
     mains_hz : float, Hz, the design's mains fundamental
     """
-    from .undefined import shown
+    from .undefined import figure_or_reason
 
     k = fig.get("hum_rejection_harmonic")
     at = " dB at the mains fundamental" if k in (1, None) else f" dB at H{k}, {k * mains_hz:g} Hz, the lowest harmonic with hum"
-    return shown(fig, "hum_rejection_db", ".1f", at)
+    return figure_or_reason(fig, "hum_rejection_db", ".1f", at)

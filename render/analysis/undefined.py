@@ -120,7 +120,7 @@ def reason(record: dict, key: str, default: str = "undefined") -> str:
     return str(record.get(f"{key}_reason") or default)
 
 
-def shown(record: dict, key: str, spec: str, unit: str = "") -> str:
+def figure_or_reason(record: dict, key: str, spec: str, unit: str = "") -> str:
     """``record[key]`` formatted with ``spec`` and ``unit``, or its reason in words when it is None."""
     v = record.get(key)
     if v is None:
@@ -138,7 +138,7 @@ def unlinked(emf_a: complex, emf_b: complex) -> str | None:
 
 
 def cell(record: dict, key: str, spec: str, unit: str = "") -> str:
-    """As :func:`shown`, with the reason's short form (for a table cell): :data:`SHORT`'s, else the reason's
+    """As :func:`figure_or_reason`, with the reason's short form (for a table cell): :data:`SHORT`'s, else the reason's
     first clause ("no feedback.c, so ..." -> "no feedback.c"), else "undefined" (words, never a bare dash)."""
     v = record.get(key)
     if v is None:

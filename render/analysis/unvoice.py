@@ -517,7 +517,7 @@ def prepared(x: np.ndarray, *, mean: float, start: int, total: int, sample_rate:
     return (x - mean) * edge_gain(start, x.size, total, fade_length(sample_rate))
 
 
-def unvoice(di: np.ndarray, *, passive: np.ndarray, sample_rate: int, max_boost_db: float = MAX_BOOST_DB, taps: int | None = None) -> tuple[np.ndarray, Inverse]:
+def unvoice_array(di: np.ndarray, *, passive: np.ndarray, sample_rate: int, max_boost_db: float = MAX_BOOST_DB, taps: int | None = None) -> tuple[np.ndarray, Inverse]:
     """One-shot un-voicing of a whole recording in memory (the CLI streams the same steps).
 
     di : (n,), V at the amp input

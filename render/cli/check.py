@@ -20,8 +20,8 @@ def hz(x: float, digits: int = 3) -> str:
 
 
 def print_design(rec):
-    from ..analysis.summary import rejection_words
-    from ..analysis.undefined import shown
+    from ..analysis.summary import rejection_text
+    from ..analysis.undefined import figure_or_reason
     from ..units import format_si
 
     f = rec["figures"]
@@ -40,10 +40,10 @@ def print_design(rec):
 
     click.echo(f"  loaded resonance  {describe_peaks(f)}{pole}")
     if f["level_1k_db"] is None:
-        click.echo(f"  gain at 1 kHz     {shown(f, 'level_1k_db', '')}")
+        click.echo(f"  gain at 1 kHz     {figure_or_reason(f, 'level_1k_db', '')}")
     else:
-        click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {shown(f, 'gain_vs_passive_db', '+.2f', ' dB against the passive reference')}")
-    click.echo(f"  hum rejection     {rejection_words(f, rec['mains_hz'])}")
+        click.echo(f"  gain at 1 kHz     {f['level_1k_db']:+.2f} dB re 1 V per m/s; {figure_or_reason(f, 'gain_vs_passive_db', '+.2f', ' dB against the passive reference')}")
+    click.echo(f"  hum rejection     {rejection_text(f, rec['mains_hz'])}")
 
 
 def print_turns(rows, percent):

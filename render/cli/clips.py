@@ -70,7 +70,7 @@ def clips_command(
     from .compare_print import load_compare
 
     compared = load_compare(compare_path, rig_path)
-    check_stems(designs, compared)  # refused, as run_clips refuses it, before the folder is made
+    check_stems(designs, compared)  # refused, as render_clips refuses it, before the folder is made
     reference_index(designs, reference, compare=compared)  # a wrong name is refused before the folder is made
     out = output_folder(out_dir, overwrite=overwrite)
     if from_di and dry_path is None:
@@ -87,10 +87,10 @@ def clips_command(
         rec = run.compare
         if rec["peak_v"] > run.volts_full_scale:
             warn(f"{compared.name}: peak above the {run.volts_full_scale:g} V full scale; the float WAV keeps those samples, but many players clip them")
-        from ..analysis.undefined import shown
+        from ..analysis.undefined import figure_or_reason
 
         click.echo(
-            f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {shown(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale"
+            f"comparison pickup {compared.name} (passive): {out / (compare_stem(compared) + '.wav')}, peak {rec['peak_v']:.3g} V, loudness {figure_or_reason(rec, 'loudness_lufs_1v_full_scale', '.1f', ' LUFS')} at 1 V full scale"
         )
 
 
@@ -108,14 +108,14 @@ def read_strength(text, dry) -> float | None:
 
 
 def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots=True, volts_full_scale=None, reference=None, compare=None, overwrite=False, from_di=None):
-    """Run :func:`render.runs.clips.run_clips` with a progress bar, then print its warnings and where the clips went."""
-    from ..runs.clips import run_clips
+    """Run :func:`render.runs.clips.render_clips` with a progress bar, then print its warnings and where the clips went."""
+    from ..runs.clips import render_clips
     from .clips_print import progress_bar, report_clips
     from .shared_print import report_from_di
 
     jobs = jobs or min(len(designs), os.cpu_count() or 1)
     with progress_bar(len(designs)) as update:
-        run = run_clips(
+        run = render_clips(
             designs,
             dry,
             settings,

@@ -122,7 +122,7 @@ def show_command(model, csv_path, png_path, json_path, overwrite):
     or a measurement (measured = "file.csv"). Winding capacitance included,
     nothing connected. MODEL may be a passive comparison pickup's file.
     """
-    from ..runs.coil import coil_record, csv_text
+    from ..runs.coil import coil_csv_text, coil_record
 
     check_new([csv_path, png_path, json_path], overwrite=overwrite)
     design = _coils_of(model)
@@ -135,7 +135,7 @@ def show_command(model, csv_path, png_path, json_path, overwrite):
     if csv_path:
         from ..io.atomic import write_text
 
-        write_text(csv_path, csv_text(rec), overwrite=overwrite)
+        write_text(csv_path, coil_csv_text(rec), overwrite=overwrite)
     if png_path:
         from ..report.coil import coil_plot
 

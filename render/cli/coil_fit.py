@@ -72,13 +72,13 @@ def fit_command(measurement, out_path, capacitance, resistance, coil, json_path,
     R/(2πL) corner to determine R_dc and L; --out writes [coil_x] with resistance, capacitance and
     [coil_x.ladder], to paste into a design file.
     """
-    from ..runs.coil import coil_table, fit_file, fit_warnings, read_capacitance, read_resistance
+    from ..runs.coil import coil_table, fit_coil, fit_warnings, read_capacitance, read_resistance
 
     held = read_capacitance(capacitance) if capacitance is not None else None
     held_r = read_resistance(resistance) if resistance is not None else None
     refuse_inputs([("--out", out_path), ("--json", json_path)], [("MEASUREMENT", measurement)])
     check_new([out_path, json_path], overwrite=overwrite)
-    result = fit_file(measurement, capacitance=held, resistance=held_r)
+    result = fit_coil(measurement, capacitance=held, resistance=held_r)
     print_fit(result)
     for w in fit_warnings(result):
         click.echo(f"warning: {w}", err=True)

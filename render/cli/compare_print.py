@@ -97,21 +97,21 @@ def scale_lines(scales) -> list[str]:
 def figure_lines(c, designs_levels=()) -> list[str]:
     """A comparison pickup's response figures, and each design's level at 1 kHz against it."""
     from ..analysis.comparison import level_against
-    from ..analysis.summary import rejection_words
-    from ..analysis.undefined import cell, shown
+    from ..analysis.summary import rejection_text
+    from ..analysis.undefined import cell, figure_or_reason
     from ..units import format_si
 
     f = c.figures
     p = c.design
     out = [f"{p.name}  ({p.source}; passive comparison pickup)"]
     if f["peak_hz"] is None:
-        out.append(f"  response          {shown(f, 'peak_hz', '')}")
+        out.append(f"  response          {figure_or_reason(f, 'peak_hz', '')}")
     else:
-        out.append(f"  resonance peak    {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB re 1 kHz, Q {shown(f, 'q', '.2f')}")
+        out.append(f"  resonance peak    {f['peak_hz']:.0f} Hz, {f['peak_db']:+.2f} dB re 1 kHz, Q {figure_or_reason(f, 'q', '.2f')}")
         out.append(f"  level at 1 kHz    {f['level_1k_db']:+.2f} dB re 1 V per m/s")
     out.append(f"  output impedance  {format_si(f['output_impedance_1k_ohm'], 'Ω')} at 1 kHz, {format_si(f['output_impedance_10k_ohm'], 'Ω')} at 10 kHz")
     out.append(f"  cable treble loss {cell(f, 'cable_loss_db', '+.2f', ' dB at 5 kHz')} ({p.rig.cable_length:g} m)")
-    out.append(f"  hum rejection     {rejection_words(f, p.hum.mains)}")
+    out.append(f"  hum rejection     {rejection_text(f, p.hum.mains)}")
     for name, level in designs_levels:
         diff = level_against(level, c)
         out.append(f"  {name} at 1 kHz: " + ("undefined" if diff is None else f"{diff:+.2f} dB against {p.name}"))

@@ -19,23 +19,23 @@ def _aligned(text: str) -> str:
 
 
 def summary_lines(d, fig) -> list[str]:
-    from ..analysis.undefined import cell, shown
+    from ..analysis.undefined import cell, figure_or_reason
     from ..units import format_si
 
     p = fig["passive"]
     from ..analysis.peaks import describe_peaks
 
     if fig["level_1k_db"] is None:  # the coils cancel the string signal: one line says so
-        resonance = [f"  response          {shown(fig, 'peak_hz', '')}"]
+        resonance = [f"  response          {figure_or_reason(fig, 'peak_hz', '')}"]
     else:
         resonance = [
             "  resonance " + _aligned(describe_peaks(fig, unit=" dB re 1 kHz")),
-            f"  -3 dB corners     bass {shown(fig, 'bass_corner_hz', '.3g', ' Hz')}, treble {shown(fig, 'treble_corner_hz', '.0f', ' Hz')}"
+            f"  -3 dB corners     bass {figure_or_reason(fig, 'bass_corner_hz', '.3g', ' Hz')}, treble {figure_or_reason(fig, 'treble_corner_hz', '.0f', ' Hz')}"
             + (f" (the response dips under -3 dB at {fig['treble_dip_hz']:.0f} Hz and recovers)" if fig.get("treble_dip_hz") is not None else ""),
-            f"  level at 1 kHz    {fig['level_1k_db']:+.2f} dB re 1 V per m/s ({shown(fig, 'gain_vs_passive_db', '+.2f', ' dB against passive')})",
+            f"  level at 1 kHz    {fig['level_1k_db']:+.2f} dB re 1 V per m/s ({figure_or_reason(fig, 'gain_vs_passive_db', '+.2f', ' dB against passive')})",
         ]
     if p["level_1k_db"] is None:
-        passive = f"  passive reference {shown(p, 'peak_hz', '')}"
+        passive = f"  passive reference {figure_or_reason(p, 'peak_hz', '')}"
     else:
         passive = f"  passive reference {describe_peaks(p, q=False)}, level at 1 kHz {p['level_1k_db']:+.2f} dB"
     return [
@@ -72,7 +72,7 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, co
     from ..analysis.response import response
     from ..design import load_designs
     from ..errors import InputError
-    from ..report.response import csv_text
+    from ..report.response import response_csv_text
 
     if fmax <= fmin:
         raise InputError(f"--fmax={fmax:g} must be above --fmin={fmin:g}")
@@ -91,7 +91,7 @@ def response_command(model, rig_path, csv_path, png_path, fmin, fmax, points, co
             click.echo()
             echo(figure_lines(compared, [(d.name, fig["level_1k_db"])]))
     if csv_path:
-        text = csv_text(f, h, hp)
+        text = response_csv_text(f, h, hp)
         if compared is not None:
             from ..report.compare import with_compare_columns
 

@@ -42,7 +42,7 @@ class Finite(_Checked):
         self.limits = dict(lo=lo, hi=hi, lo_open=lo_open, unit=unit, usual=usual)
 
     def check(self, name: str, value: Any) -> float:
-        return checks.number(name, value, **self.limits)  # type: ignore[arg-type]
+        return checks.typed_number(name, value, **self.limits)  # type: ignore[arg-type]
 
 
 class Seed(_Checked):
@@ -51,7 +51,7 @@ class Seed(_Checked):
     name = "integer"
 
     def check(self, name: str, value: Any) -> int:
-        return checks.seed(name, value)
+        return checks.typed_seed(name, value)
 
 
 class InFile(_Checked):

@@ -150,14 +150,9 @@ def spectrogram_levels(volts: np.ndarray, *, sample_rate: int, columns: int = ST
     centres = ((np.arange(columns) + 0.5) * n / columns).astype(int)
     padded = np.concatenate([np.zeros(seg // 2), x, np.zeros(seg)])
     idx = centres[:, None] + np.arange(seg)[None, :]  # frame starts at centre - seg/2 in the padded signal
-    from ..analysis.spectrum import density, log_frequency_rows, periodic_hann
+    from ..analysis.spectrum import spectrogram_columns
 
-    w = periodic_hann(seg)
-    level = 10 * np.log10(np.maximum(density(padded[idx], w, sample_rate=sample_rate), 1e-30)).T  # (bins, columns)
-    f = np.fft.rfftfreq(seg, 1 / sample_rate)
-    rows_hz = np.geomspace(STRIP_LOW_HZ, min(20000.0, sample_rate / 2), rows)
-    lo, frac = log_frequency_rows(f, rows_hz)
-    return level[lo] * (1 - frac) + level[lo + 1] * frac
+    return spectrogram_columns(padded[idx], sample_rate=sample_rate, rows_hz=np.geomspace(STRIP_LOW_HZ, min(20000.0, sample_rate / 2), rows))
 
 
 def shade(levels: np.ndarray, *, top_db: float, range_db: float = STRIP_RANGE_DB) -> np.ndarray:

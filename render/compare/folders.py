@@ -55,12 +55,11 @@ def clips_cells(m: dict) -> tuple[str, ...]:
 
 def read_head(path: Path, *, volts_full_scale: float, seconds: float = PAGE_SECONDS) -> tuple[np.ndarray, int, int]:
     """(the first ``seconds`` of a run's WAV in volts, its sample rate, its whole length in samples)."""
-    import soundfile as sf
+    from ..io.audio import audio_info, read_audio
 
-    info = sf.info(str(path))
-    frames = min(info.frames, int(round(seconds * info.samplerate)))
-    x, fs = sf.read(str(path), frames=frames, dtype="float64", always_2d=False)
-    return np.asarray(x, dtype=float) * volts_full_scale, int(fs), int(info.frames)
+    info = audio_info(path)
+    x = read_audio(path, frames=min(info.frames, int(round(seconds * info.sample_rate))))
+    return (x[:, 0] if x.shape[1] == 1 else x) * volts_full_scale, info.sample_rate, info.frames
 
 
 def write_clips_page(
@@ -161,7 +160,7 @@ def compare_clip(folder: Path, p, rec: dict, *, volts_full_scale: float) -> Page
     )
 
 
-def played_cells(headroom: dict) -> tuple[str, str, str]:
+def played_limit_cells(headroom: dict) -> tuple[str, str, str]:
     """A phrase clip's headroom record (:meth:`render.analysis.headroom.PlayedHeadroom.record`) as the playing-units cells, as ``render bias`` prints them."""
     from ..analysis.headroom import format_share, from_record, margin_cell, strength_cell
 
@@ -181,7 +180,7 @@ def bias_cells(row: dict, clip: dict) -> tuple[str, ...]:
     from ..analysis.bias import RESTS_PLAYED, headroom_cell, onset_cell
 
     q = row["sine"]
-    played = played_cells(clip.get("headroom") or {})
+    played = played_limit_cells(clip.get("headroom") or {})
     if row.get("rests_on_limit"):
         played = (RESTS_PLAYED, RESTS_PLAYED, played[2])
     return (

@@ -369,16 +369,16 @@ def design_numbers(design) -> tuple[tuple[str, Any], ...]:
     """A design's values on the keys of :func:`design_values` as JSON numbers, SI units (lists and tables of them
     likewise); None for a value that is no number (a name, a switch), which the page compares as shown."""
 
-    def number(v):
+    def as_number(v):
         if isinstance(v, dict):
-            return {k: number(x) for k, x in v.items() if x is not None}
+            return {k: as_number(x) for k, x in v.items() if x is not None}
         if isinstance(v, list):
-            return [number(x) for x in v]
+            return [as_number(x) for x in v]
         if isinstance(v, (int, float)) and not isinstance(v, bool) and np.isfinite(v):
             return float(v)
         return None
 
-    return tuple((k, number(v)) for k, _, v in _value_rows(design))
+    return tuple((k, as_number(v)) for k, _, v in _value_rows(design))
 
 
 def exact_values(design) -> tuple[tuple[str, Any], ...]:

@@ -283,14 +283,13 @@ def _ladder_from(stored: dict):
 def ladder_fit_cached(frequency_hz: np.ndarray, impedance: np.ndarray):
     """:func:`render.impedance.ladder.fit_ladder` of the impedance, kept on disk by the hash of its input
     (:mod:`render.io.cache`): the fit takes about 60 ms a coil, a design's every load needs it."""
-    import hashlib
-
     from ..impedance.ladder import LadderFit, fit_ladder
     from ..io import cache
+    from ..io.hashing import sha256_bytes
 
     f = np.ascontiguousarray(frequency_hz, "<f8")
     z = np.ascontiguousarray(impedance, "<c16")
-    key = hashlib.sha256(f"ladder-v{LADDER_VERSION}-{f.size}".encode() + f.tobytes() + z.tobytes()).hexdigest()
+    key = sha256_bytes(f"ladder-v{LADDER_VERSION}-{f.size}".encode() + f.tobytes() + z.tobytes())
     stored = cache.load("coil-ladder", key)
     if stored is not None:
         try:
@@ -354,7 +353,7 @@ def measurement_path(file: str, source: str) -> Path:
     return Path(source).parent / p
 
 
-def fit_file(path: Path, *, capacitance: float | None = None, resistance: float | None = None):
+def read_and_fit(path: Path, *, capacitance: float | None = None, resistance: float | None = None):
     """(Measurement, MeasuredCoil) of a measurement file, the fit cached by the file's hash; ``capacitance`` (F) holds C, ``resistance`` (Ω) R_dc."""
     from ..io.measurement import read_measurement
 
@@ -419,7 +418,7 @@ def _measured(coil, spec: CoilSpec, design, name: str):
     path = measurement_path(spec.measured, design.source)
     if not path.is_file():
         raise InputError(f"{where(design.source, name, 'measured')}={U.shown(spec.measured)}: no such file ({path}); the path is relative to the design file's folder")
-    m, fit = fit_file(path, capacitance=coil.capacitance if spec.hold_capacitance else None, resistance=coil.resistance if spec.hold_resistance else None)
+    m, fit = read_and_fit(path, capacitance=coil.capacitance if spec.hold_capacitance else None, resistance=coil.resistance if spec.hold_resistance else None)
     record = MeasuredImpedance(
         file=spec.measured,
         path=str(path),

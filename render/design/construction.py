@@ -45,11 +45,9 @@ DERIVED = ("sensitivity", "aperture", "signal_polarity")
 def _choice(choices):
     def read(raw: Any, loc: str) -> str:
         if raw not in choices:
-            from ..validate import suggest
+            from ..validate import close_name
 
-            close = suggest(str(raw), choices)
-            hint = f"; did you mean '{close}'?" if close else ""
-            raise InputError(f"{loc}={U.shown(raw)}: expected one of {', '.join(repr(c) for c in choices)}{hint}")
+            raise InputError(f"{loc}={U.shown(raw)}: expected one of {', '.join(repr(c) for c in choices)}{close_name(str(raw), choices)}")
         return raw
 
     return with_example(read, f'"{choices[0]}"')

@@ -93,11 +93,31 @@ def outside_sweep(frequency_hz, band_hz: tuple[float, float] | None) -> np.ndarr
     return (f < lo * (1 - ROUNDING)) | (f > hi * (1 + ROUNDING))
 
 
+def with_winding_capacitance(z_series, s, capacitance):
+    """Eq. (1)'s shunt: the winding's series impedance ``z_series`` (R_dc + Z_L, Ω) with its capacitance
+    across the terminals, 1 / (1/z_series + s·C), at ``s`` = j2πf (rad/s); arrays broadcast."""
+    return 1.0 / (1.0 / z_series + s * capacitance)
+
+
+SEARCH_HZ = (10.0, 1e7, 4000)  # where a self-resonance is looked for: from, to, log-spaced points
+
+
+def self_resonance_hz(impedance_fn) -> float | None:
+    """Hz: where ∠Z of ``impedance_fn`` (Hz -> Ω) first crosses zero from inductive to capacitive, log-interpolated
+    between the :data:`SEARCH_HZ` points (None: not within 10 Hz–10 MHz)."""
+    f = np.geomspace(*SEARCH_HZ)
+    ph = np.angle(impedance_fn(f))
+    idx = np.flatnonzero((ph[:-1] > 0) & (ph[1:] <= 0))
+    if idx.size == 0:
+        return None
+    i = int(idx[0])
+    return float(np.exp(np.interp(0.0, [ph[i + 1], ph[i]], [np.log(f[i + 1]), np.log(f[i])])))
+
+
 def terminal_impedance(frequency_hz, *, resistance: float, ladder: Ladder, capacitance: float) -> np.ndarray:
     """Eq. (1): the coil's impedance at its terminals in Ω, shape (F,)."""
     f = np.atleast_1d(np.asarray(frequency_hz, float))
-    z_series = resistance + ladder.impedance(f)
-    return 1.0 / (1.0 / z_series + 2j * np.pi * f * capacitance)
+    return with_winding_capacitance(resistance + ladder.impedance(f), 2j * np.pi * f, capacitance)
 
 
 @dataclass(frozen=True)
@@ -285,14 +305,9 @@ class MeasuredCoil:
         return f"{what} not determined: {'; '.join(why)}; {guess}"
 
     def self_resonance_hz(self) -> float:
-        """Hz: where the fitted model's phase crosses zero from inductive to capacitive (searched 10 Hz–10 MHz)."""
-        f = np.geomspace(10.0, 1e7, 4000)
-        ph = np.angle(self.impedance(f))
-        idx = np.flatnonzero((ph[:-1] > 0) & (ph[1:] <= 0))
-        if idx.size == 0:
-            return float("nan")
-        i = idx[0]
-        return float(np.exp(np.interp(0.0, [ph[i + 1], ph[i]], [np.log(f[i + 1]), np.log(f[i])])))
+        """Hz: where the fitted model's phase crosses zero from inductive to capacitive (:func:`self_resonance_hz`; NaN: none)."""
+        srf = self_resonance_hz(self.impedance)
+        return float("nan") if srf is None else srf
 
     def impedance(self, frequency_hz) -> np.ndarray:
         """The fitted model's terminal impedance, eq. (1)."""
@@ -309,7 +324,7 @@ def _unpack(theta, k):
 def _model(theta, k, s):
     r, c, l0, lk, tau = _unpack(theta, k)
     zl = s * (l0 + np.sum(lk[:, None] / (1 + s[None, :] * tau[:, None]), axis=0)) if k else s * l0
-    return 1.0 / (1.0 / (r + zl) + s * c)
+    return with_winding_capacitance(r + zl, s, c)
 
 
 def _residual(theta, k, s, log_z):

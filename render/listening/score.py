@@ -120,7 +120,7 @@ def score(plan: dict, key: dict, answers: list[dict]) -> dict:
             "test": "one-sided exact binomial, chance 1/2",
             "alpha": ALPHA,
             "distinguished": p < ALPHA,
-            **shown(p),
+            **p_texts(p),
         }
     else:
         pp = preference_p_value(*counts)
@@ -129,14 +129,14 @@ def score(plan: dict, key: dict, answers: list[dict]) -> dict:
             "p_value": pp,
             "test": "two-sided exact binomial of the decided answers, even split",
             "alpha": ALPHA,
-            **shown(pp),
+            **p_texts(pp),
         }
         if pp is None:
             out["preference"]["p_value_reason"] = NO_DECIDED
     return out
 
 
-def shown(p: float | None) -> dict:
+def p_texts(p: float | None) -> dict:
     """The texts the CLI and the page print for ``p`` and for the threshold (:func:`p_shown`, :func:`percent_shown`)."""
     return {"p_shown": None if p is None else p_shown(p), "percent_shown": None if p is None else percent_shown(p), "alpha_shown": percent_shown(ALPHA)}
 
@@ -232,12 +232,12 @@ def difference_plot(path, key: dict, *, overwrite: bool = False, designs=None):
     """Both designs' responses and their difference in dB, raw and as played after loudness matching (``designs``: the key's, loaded)."""
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from ..report.plots import PALETTE, _hz_axis, level_db, pyplot, save
+    from ..report.plots import PALETTE, _hz_axis, plot_level_db, pyplot, save
 
     designs = designs_from_key(key) if designs is None else designs
     f = np.geomspace(20.0, 20000.0, 600)
     h = responses(from_designs(designs)).velocity()(f)
-    level = level_db(h)
+    level = plot_level_db(h)
     gains = key.get("loudness", {}).get("gains_db", [0.0, 0.0])
     from ..analysis.brightness import loudness_matched_difference_db
 

@@ -50,7 +50,6 @@ Documented defaults:
 
 from __future__ import annotations
 
-import hashlib
 import json
 import math
 from dataclasses import asdict, dataclass
@@ -170,7 +169,9 @@ class Construction:
     def digest(self, *coils) -> str:
         """A hash of everything the field solve depends on: the construction, the coils given and the model version."""
         record = {"construction": asdict(self), "coils": [_coil_record(c) for c in coils], "model": MODEL_VERSION}
-        return hashlib.sha256(json.dumps(record, sort_keys=True, default=float).encode()).hexdigest()
+        from ..io.hashing import sha256_bytes
+
+        return sha256_bytes(json.dumps(record, sort_keys=True, default=float).encode())
 
     def knee_warning(self) -> str | None:
         """One line when an AlNiCo grade's magnets work past their knee, where the model's straight line overstates them

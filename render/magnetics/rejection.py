@@ -427,7 +427,7 @@ def _joint_chunk(args):
 def joint_monte_carlo(design, coils, *, frequency_hz, tolerances=None, trials: int = 2000, seed: int = 0, shell=DEFAULT_SHELL_M, chunk: int = 500, jobs: int = 1) -> PositionMonteCarlo:
     """Random dipoles and part tolerances drawn together, trial by trial.
 
-    The parts are drawn exactly as :func:`render.analysis.hum.monte_carlo`
+    The parts are drawn exactly as :func:`render.analysis.hum.hum_tolerances`
     draws them for the same seed, and the sources as :func:`position_monte_carlo`
     does, so each joint trial pairs the two separate runs' trials. A drawn
     turns factor scales that coil's flux linkage with its turns. Results do

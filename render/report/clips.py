@@ -110,7 +110,7 @@ def _peaks(m) -> str:
     return "; ".join(f"{p['frequency_hz']:.0f} Hz, {p['height_db']:+.1f} dB" for p in peaks)
 
 
-def played_cells(m: dict) -> tuple[str, str]:
+def played_margin_cells(m: dict) -> tuple[str, str]:
     """The played margin up / down and where the limit is reached, as the terminal's headroom table prints them
     (:func:`render.analysis.headroom.margin_cell`, :func:`~render.analysis.headroom.reach_cell`); "not computed" without them."""
     from ..analysis.headroom import from_record, margin_cell, reach_cell
@@ -154,7 +154,7 @@ def measurement_cells(m: dict) -> tuple[str, ...]:
         _cell(m, "hum_rejection_db", ".1f", " dB"),
         f"{m['bias_v']:.2f} V",
         f"{m['headroom_up_v']:.2f} / {m['headroom_down_v']:.2f} V",
-        *played_cells(m),
+        *played_margin_cells(m),
         peak_cell(m["peak_v"]),
         _cell(m, "loudness_lufs_1v_full_scale", ".1f", " LUFS"),
         format_share(m["clipped_fraction"]),
@@ -253,7 +253,7 @@ def overlay_png(designs, *, curves=None) -> bytes:
 
     ``curves``: :func:`velocity_curves` of ``designs``, if already computed.
     """
-    from .plots import overlay_png as draw
+    from .plots import curves_overlay_png
 
     f, h, hp = curves if curves is not None else velocity_curves(designs)
     passives: list[tuple[int, str]] = []
@@ -261,4 +261,4 @@ def overlay_png(designs, *, curves=None) -> bytes:
         for i, d in enumerate(designs):
             if not any(np.max(np.abs(20 * np.log10(np.abs(hp[i] / hp[j])))) < 0.01 for j, _ in passives):
                 passives.append((i, d.name))
-    return draw(f, [(d.name, h[i]) for i, d in enumerate(designs)], [(f"passive ({name})" if len(passives) > 1 else "passive reference", hp[i]) for i, name in passives])
+    return curves_overlay_png(f, [(d.name, h[i]) for i, d in enumerate(designs)], [(f"passive ({name})" if len(passives) > 1 else "passive reference", hp[i]) for i, name in passives])

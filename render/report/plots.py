@@ -126,7 +126,7 @@ def _response_build(f, n, passive, title):
     return {"fig": fig, "axes": (ax1, ax2), "mags": mags, "phases": phases, "legend": legend, "title": _fix_title(ax1, " ") if title else None}
 
 
-def level_db(h) -> np.ndarray:
+def plot_level_db(h) -> np.ndarray:
     """20·log10|h| for plotting; NaN (a gap in the curve) where h is exactly zero (coils that cancel the signal)."""
     a = np.abs(np.asarray(h))
     with np.errstate(divide="ignore"):
@@ -136,7 +136,7 @@ def level_db(h) -> np.ndarray:
 def _response_fill(p, f, curves, passive, title):
     """Everything that differs from one response plot to the next: data, limits, labels, title."""
     every = list(curves) + ([passive] if passive is not None else [])
-    mags = [level_db(h) for _, h in every]
+    mags = [plot_level_db(h) for _, h in every]
     phases = [phase_deg(f, h) for _, h in every]
     for line, y in zip(p["mags"], mags):
         line.set_ydata(y)
@@ -284,21 +284,14 @@ def spectrogram_image(samples, *, sample_rate):
         x = np.concatenate([x, np.zeros(seg - x.size)])
     hop = max(seg // 4, -(-x.size // MAX_COLUMNS))
     starts = np.arange(0, max(x.size - seg, 0) + 1, hop)
-    from ..analysis.spectrum import density, log_frequency_rows, periodic_hann
+    from ..analysis.spectrum import spectrogram_columns
 
-    w = periodic_hann(seg)
-    f = np.fft.rfftfreq(seg, 1 / sample_rate)
     fmax = min(20000.0, sample_rate / 2)
     rows = np.geomspace(40.0, fmax, 320)
-    # each row is a linear interpolation (in dB) between two neighbouring FFT bins
-    lo, frac = log_frequency_rows(f, rows)
-    need = np.unique(np.concatenate([lo, lo + 1]))
-    at = np.searchsorted(need, lo)
     img = np.empty((rows.size, starts.size))
     for c in range(0, starts.size, 128):  # a few columns at a time
         idx = starts[c : c + 128, None] + np.arange(seg)[None, :]
-        level = 10 * np.log10(np.maximum(density(x[idx], w, sample_rate=sample_rate)[:, need].T, 1e-30))
-        img[:, c : c + 128] = level[at] * (1 - frac) + level[at + 1] * frac
+        img[:, c : c + 128] = spectrogram_columns(x[idx], sample_rate=sample_rate, rows_hz=rows)
     t = (starts + seg / 2) / sample_rate
     top = float(img.max()) if img.size else 0.0
     span = (float(t[0]), float(t[-1])) if t.size > 1 else (0.0, x.size / sample_rate)
@@ -354,14 +347,14 @@ def spectrogram_plot(path, samples, *, sample_rate, title="", unit="V", overwrit
     return _draw(kept, ("spectrogram", fmax, unit, bool(title)), lambda: _spectrogram_build(fmax, unit, title), lambda p: _spectrogram_fill(p, image, title, quiet), path, overwrite)
 
 
-def overlay_png(f, curves, passives) -> bytes:
+def curves_overlay_png(f, curves, passives) -> bytes:
     """PNG of every design's magnitude response, ``curves`` and ``passives`` lists of (label, complex response (F,)), the passives dashed."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(9, 5))
     for i, (label, h) in enumerate(curves):
-        ax.plot(f, level_db(h), lw=1.6, label=label, **curve_style(i))
+        ax.plot(f, plot_level_db(h), lw=1.6, label=label, **curve_style(i))
     for j, (label, h) in enumerate(passives):
-        ax.plot(f, level_db(h), lw=1.1, label=label, **passive_style(j))
+        ax.plot(f, plot_level_db(h), lw=1.1, label=label, **passive_style(j))
     _hz_axis(ax, f[0], f[-1])
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("level (dB re 1 V per m/s)")

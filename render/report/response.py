@@ -12,7 +12,7 @@ def _level_phase(h) -> str:
     return f"{20 * np.log10(abs(h)):.6f},{np.degrees(np.angle(h)):.4f}"
 
 
-def csv_text(f, h, hp) -> str:
+def response_csv_text(f, h, hp) -> str:
     """frequency_hz,magnitude_db,phase_deg,passive_magnitude_db,passive_phase_deg: dB re 1 V per m/s, degrees.
 
     Where a response is exactly zero (its coils cancel the string signal) its

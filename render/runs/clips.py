@@ -418,7 +418,7 @@ def check_dry_settings(dry: Path, settings: RenderSettings, *, recorded: bool = 
     check_dry_file(dry, seconds=settings.seconds, recorded=recorded, velocity_scale=settings.velocity_scale)
 
 
-def run_clips(
+def render_clips(
     designs: Sequence[Design],
     dry: Path,
     settings: RenderSettings,

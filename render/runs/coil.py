@@ -18,7 +18,7 @@ import numpy as np
 from .. import units as U
 from ..errors import InputError
 from ..impedance.ladder import REPORT_BAND_HZ
-from ..impedance.measured import outside_sweep
+from ..impedance.measured import outside_sweep, self_resonance_hz
 from ..usual import USUAL
 
 if TYPE_CHECKING:
@@ -28,28 +28,16 @@ if TYPE_CHECKING:
 BAND_HZ = REPORT_BAND_HZ  # 20 Hz – 20 kHz
 POINTS = 301  # log-spaced over the band for --csv, --json and the plot
 SHOWN_HZ = (20.0, 50.0, 100.0, 200.0, 500.0, 1e3, 2e3, 5e3, 10e3, 20e3)  # the printed table
-SEARCH_HZ = (10.0, 1e7, 4000)  # where the self-resonance is looked for
 RESIDUAL_BANDS = ((20.0, 200.0), (200.0, 2e3), (2e3, 20e3))  # the fit's residual, reported per decade
 
 
-def terminal_impedance(coil_params, frequency_hz) -> np.ndarray:
-    """Z at the coil's terminals, shape (N, F): (R_dc + Z_L) ∥ 1/(jωC_w)."""
+def params_terminal_impedance(coil_params, frequency_hz) -> np.ndarray:
+    """Z at the terminals of a design's coils as the engine holds them (``CoilParams``), shape (N, F): (R_dc + Z_L) ∥ 1/(jωC_w)."""
     from ..circuit.coil import impedance_at
+    from ..impedance.measured import with_winding_capacitance
 
     f = np.atleast_1d(np.asarray(frequency_hz, float))
-    z = impedance_at(coil_params, f)
-    return 1.0 / (1.0 / z + 2j * np.pi * f[None, :] * coil_params.Cw[:, None])
-
-
-def self_resonance_hz(impedance_fn) -> float | None:
-    """Where ∠Z first crosses zero from inductive to capacitive (None: not within 10 Hz–10 MHz)."""
-    f = np.geomspace(*SEARCH_HZ)
-    ph = np.angle(impedance_fn(f))
-    idx = np.flatnonzero((ph[:-1] > 0) & (ph[1:] <= 0))
-    if idx.size == 0:
-        return None
-    i = int(idx[0])
-    return float(np.exp(np.interp(0.0, [ph[i + 1], ph[i]], [np.log(f[i + 1]), np.log(f[i])])))
+    return with_winding_capacitance(impedance_at(coil_params, f), 2j * np.pi * f[None, :], coil_params.Cw[:, None])
 
 
 def _ladder_dict(lad) -> dict | None:
@@ -128,10 +116,10 @@ def coil_record(design, *, points: int = POINTS) -> dict:
     for name in ("coil_a", "coil_b"):
         c = getattr(design, name)
         cp = getattr(p, name)
-        z = terminal_impedance(cp, f)[0]
+        z = params_terminal_impedance(cp, f)[0]
         rec = c.impedance_from
         unsure = getattr(rec, "self_resonance_doubt", "")  # a measured coil whose sweep does not determine C
-        srf = None if unsure else self_resonance_hz(lambda x, cp=cp: terminal_impedance(cp, x)[0])
+        srf = None if unsure else self_resonance_hz(lambda x, cp=cp: params_terminal_impedance(cp, x)[0])
         coils[name] = {
             "source": coil_source(c),
             "resistance_ohm": c.resistance,
@@ -185,7 +173,7 @@ def at(rec_coil: dict, frequency_hz: float) -> tuple[float, float]:
     return mag, float(np.interp(x, lf, rec_coil["phase_deg"]))
 
 
-def csv_text(rec: dict) -> str:
+def coil_csv_text(rec: dict) -> str:
     """frequency_hz and each coil's |Z| (Ω) and phase (°), one row per frequency."""
     a, b = rec["coils"]["coil_a"], rec["coils"]["coil_b"]
     rows = ["frequency_hz,coil_a_z_ohm,coil_a_phase_deg,coil_b_z_ohm,coil_b_phase_deg"]
@@ -198,7 +186,7 @@ def csv_text(rec: dict) -> str:
 
 
 @dataclass(frozen=True)
-class FitResult:
+class CoilFit:
     """A measurement and the coil model fitted to it (``render coil fit``; ``render.CoilFit``).
 
     Attributes
@@ -295,7 +283,7 @@ def read_resistance(text: str) -> float:
     return float(read_value(text, COIL["resistance"], source="--resistance", table="", key="", part=("coil_a", "resistance")))
 
 
-def fit_file(path, *, capacitance: float | None = None, resistance: float | None = None) -> FitResult:
+def fit_coil(path, *, capacitance: float | None = None, resistance: float | None = None) -> CoilFit:
     """Read a measurement CSV and fit the coil model to it (``render.fit_coil``; the fit is cached by the file's hash).
 
     Parameters
@@ -313,7 +301,7 @@ def fit_file(path, *, capacitance: float | None = None, resistance: float | None
         The measurement and the fitted model (:class:`render.CoilFit`).
     """
     from .. import arguments as A
-    from ..design.coil_impedance import fit_file as read_and_fit
+    from ..design.coil_impedance import read_and_fit
 
     path = A.path("path", path, what="a measurement CSV's path")
     if capacitance is not None:
@@ -321,7 +309,7 @@ def fit_file(path, *, capacitance: float | None = None, resistance: float | None
     if resistance is not None:
         A.number("resistance", resistance, lo=0, lo_open=True, unit="Ω", hint=" (ohms: 4100 for 4.1 kΩ)")
     m, fit = read_and_fit(path, capacitance=capacitance, resistance=resistance)
-    return FitResult(m, fit, self_resonance_hz(fit.impedance))
+    return CoilFit(m, fit, self_resonance_hz(fit.impedance))
 
 
 # what a pickup coil's fitted values usually are; outside them `render coil fit` warns (one line each)
@@ -343,11 +331,11 @@ def written_capacitance(fit: MeasuredCoil) -> float:
 
 def floor_effect_db(fit: MeasuredCoil) -> float:
     """dB: the most the written capacitance moves |Z| from the fitted model's over the measured frequencies."""
-    from ..impedance.measured import terminal_impedance as z_of
+    from ..impedance.measured import terminal_impedance
 
     f = fit.frequency_hz
     z_fit = fit.impedance(f)
-    z_written = z_of(f, resistance=fit.resistance, ladder=fit.ladder, capacitance=written_capacitance(fit))
+    z_written = terminal_impedance(f, resistance=fit.resistance, ladder=fit.ladder, capacitance=written_capacitance(fit))
     return float(np.max(np.abs(20 * np.log10(np.abs(z_written) / np.abs(z_fit)))))
 
 
@@ -364,7 +352,7 @@ def band_text(band: dict) -> str:
     return f"{U.format_si(band['from_hz'], 'Hz', 3)} – {U.format_si(band['to_hz'], 'Hz', 3)}"
 
 
-def fit_warnings(result: FitResult) -> tuple[str, ...]:
+def fit_warnings(result: CoilFit) -> tuple[str, ...]:
     """One line per reason to doubt that the sweep is a pickup coil's, or that the fit is its model.
 
     Ranges: R_dc :data:`COIL_RESISTANCE_USUAL`; inductance and capacitance
@@ -463,7 +451,7 @@ def check_table(text: str, *, coil: str) -> None:
     read_value(Ladder(t["series_inductance"], t["inductances"], t["resistances"]).dc_inductance, COIL["inductance"], source=source, table=coil, key="inductance")
 
 
-def coil_table(result: FitResult, *, coil: str = "coil_a", measured_as: str | None = None) -> str:
+def coil_table(result: CoilFit, *, coil: str = "coil_a", measured_as: str | None = None) -> str:
     """The fitted coil as a design file's table (TOML): ``resistance``, ``capacitance`` and ``[coil_x.ladder]``.
 
     The coil's other keys (sensitivity or a construction, turns_area or a

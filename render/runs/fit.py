@@ -3,7 +3,7 @@
 Writes the ``top`` best complete design files (``<stem>-fit-1.toml``, …, the
 start file with the changed values replaced and marked), ``fit.json`` and an
 overlay of the start's and the results' responses; :func:`fit_and_render`
-then renders clips of them all (:func:`render.runs.clips.run_clips`) and builds a
+then renders clips of them all (:func:`render.runs.clips.render_clips`) and builds a
 blind session of the start against the best (:func:`render.runs.blind.build_blind_session`).
 """
 
@@ -39,7 +39,7 @@ class FitRun:
     start_file : Path
     start_figures : dict
     start_values : np.ndarray [shape=(parts,)], SI units (NaN: absent in the start)
-    results : tuple of render.analysis.fit.FitResult
+    results : tuple of render.analysis.fit.FitCandidate
         Best first; each with its part values as written, their figures, score and the aims it misses (none when it meets every aim).
         Only designs that can be built, each once: fewer than ``top`` where the search found fewer.
     files : tuple of Path
@@ -302,7 +302,7 @@ def fit_and_render(
     from ..dry import check_dry_file
     from ..io.folders import output_folder, run_folder
     from .blind import BlindSettings, build_blind_session, session_dry_file, session_folder
-    from .clips import run_clips
+    from .clips import render_clips
     from .fit_phrase import phrase_file_of
 
     top, seed = whole("top", top, hint=" (how many results to write)"), check_seed("seed", seed)
@@ -321,7 +321,7 @@ def fit_and_render(
             dry, settings = check_dry_file(phrase), RenderSettings(strength=run.spec.strength)
             clips_out = output_folder(folder / "clips", overwrite=overwrite)
             with progress(len(designs)) as update:
-                clips_run = run_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update, overwrite=overwrite)
+                clips_run = render_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update, overwrite=overwrite)
             step(clips_run)
         if blind:
             designs, _ = load_designs([run.start_file, run.files[0]], rig=rig_file)

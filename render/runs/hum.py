@@ -11,8 +11,7 @@ import numpy as np
 
 if TYPE_CHECKING:
     from ..analysis.comparison import Comparison
-    from ..analysis.hum import HumReport
-    from ..analysis.hum import MonteCarlo as HumTolerances  # its public name (render.HumTolerances)
+    from ..analysis.hum import HumReport, HumTolerances
     from ..analysis.one_scale import OneScale
     from ..design import Design
     from ..magnetics.rejection import PositionMonteCarlo, RejectionMap
@@ -87,7 +86,7 @@ def write_hum_audio(out, design, *, seconds: float = 4.0, sample_rate: int = 480
 def write_histogram(path, mc, *, name: str, overwrite: bool = False) -> None:
     """``render hum --histogram``: the Monte Carlo's rejection at the harmonic its sensitivities refer to.
 
-    mc : :class:`render.analysis.hum.MonteCarlo`; that harmonic is the fundamental unless the room has no
+    mc : :class:`render.HumTolerances`; that harmonic is the fundamental unless the room has no
     hum there (``mc.sensitivity_at``). A room with hum at no harmonic has no rejection to plot: refused.
     """
     from ..errors import InputError
@@ -239,7 +238,7 @@ def hum_run(
     from .. import arguments as A
     from ..analysis import hum_room as hr
     from ..analysis.comparison import comparison
-    from ..analysis.hum import hum, monte_carlo
+    from ..analysis.hum import hum, hum_tolerances
     from ..analysis.one_scale import design_one_scale
     from ..design import apply_rig, design_provenance
     from ..io.folders import output_folder, refuse_existing, run_folder
@@ -277,7 +276,7 @@ def hum_run(
                 audio = write_hum_audio(into, d)
                 rec["measured"] = audio.as_dict()
             if tol:
-                mc = monte_carlo(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
+                mc = hum_tolerances(d, tolerances=tol, trials=trials, seed=seed, jobs=jobs)
                 rec["monte_carlo"] = mc.as_dict()
                 if histogram and i == 0:
                     write_histogram(histogram, mc, name=d.name, overwrite=overwrite)

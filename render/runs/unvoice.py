@@ -78,36 +78,38 @@ def _check_number(name: str, value, low: float, high: float, what: str, *, optio
 
 def _open_di(path: Path):
     """(sample_rate, frames, the level of its full-scale samples) of a mono audio file, or InputError."""
-    import soundfile as sf
-
-    from ..io.audio import MAX_FILE_RATE, AudioInfo, audio_info, too_short
+    from ..io.audio import audio_info, too_short
+    from ..validate import SAMPLE_RATE_RANGE
 
     name = str(path)
     if path.suffix.lower() == ".toml" and path.is_file():
         raise InputError(f"DI={name}: is a TOML file, not a recording: the order is DI then MODEL (render unvoice DI.wav MODEL.toml --out FILE.wav)")
     try:
         # the shared checks: missing, folder, pipe, empty, cut-short WAV, unreadable, damaged header, more than one channel
-        checked = audio_info(path, max_channels=1)
+        info = audio_info(path, max_channels=1)
     except InputError as e:
         raise InputError(f"DI={e}") from None
-    info = sf.info(name)
-    short = too_short(f"DI={name}", AudioInfo(channels=1, sample_rate=int(info.samplerate), frames=int(info.frames)), MIN_SECONDS, "to read its noise floor")
+    short = too_short(f"DI={name}", info, MIN_SECONDS, "to read its noise floor")
     if short:
         raise short
-    if not 8000 <= info.samplerate <= MAX_FILE_RATE:  # the velocity WAV keeps the DI's rate; below 8 kHz no pickup band is left
-        raise InputError(f"DI={name}: sample_rate={info.samplerate}: must be from 8000 to {MAX_FILE_RATE} Hz; resample the recording")
+    lo, hi = SAMPLE_RATE_RANGE  # the velocity WAV keeps the DI's rate, so it must be a rate render writes; below 8 kHz no pickup band is left
+    if not lo <= info.sample_rate <= hi:
+        raise InputError(f"DI={name}: sample_rate={info.sample_rate}: must be from {lo} to {hi} Hz; resample the recording")
     if WAV_HEADER + 4 * info.frames >= 2**32:
         raise InputError(f"DI={name}: frames={info.frames}: the velocity WAV would pass 4 GiB; split the recording")
-    return int(info.samplerate), int(info.frames), checked.clip_level
+    return info.sample_rate, info.frames, info.clip_level
 
 
 def _blocks(path: Path):
-    import soundfile as sf
+    """The DI's samples, 1-D blocks of :data:`BLOCK` (the last shorter), each checked for NaN and infinity."""
+    from ..io.audio import iter_audio
 
-    from ..io.audio import decoding
-
-    with decoding(f"DI={path}"):
-        yield from sf.blocks(str(path), blocksize=BLOCK, dtype="float64", always_2d=False)
+    try:
+        for block in iter_audio(path, block=BLOCK):
+            if block.shape[0]:
+                yield block[:, 0]
+    except InputError as e:
+        raise InputError(f"DI={e}") from None
 
 
 def _refuse_volume_zero(design, model_path, rig) -> None:
@@ -218,17 +220,12 @@ def unvoice(
     from ..io.audio import FlatRuns
 
     flats = FlatRuns(clip_level)
-    peak, at = 0.0, 0
+    peak = 0.0
     for block in _blocks(di):
-        bad = ~np.isfinite(block)
-        if bad.any():
-            i = int(np.flatnonzero(bad)[0])
-            raise InputError(f"DI={di}: sample {at + i} ({(at + i) / sample_rate:.4f} s) = {float(block[i])}: every sample must be finite; repair or export the file again")
         flats.add(block)
-        peak = max(peak, float(np.max(np.abs(block))) if block.size else 0.0)
+        peak = max(peak, float(np.max(np.abs(block))))
         stats_acc.add(block * vfs)
         mean_acc.add(block * vfs)
-        at += block.size
     if peak == 0.0:
         raise InputError(f"DI={di}: every sample is 0: the recording is silent; record or export it again")
     if flats.runs:
@@ -343,7 +340,7 @@ def velocity_from_di(di_path, model_path, *, folder, rig=None, overwrite: bool =
     Writes ``folder/<DI stem>-velocity.wav`` (with its JSON and, if ``plot``,
     its plot), at 1 V DI full scale and 1 m/s velocity full scale. Returns the
     velocity WAV's path and a short JSON-ready record of the un-voicing.
-    ``clips`` calls it inside its run's folder (:func:`render.runs.clips.run_clips`, ``from_di``),
+    ``clips`` calls it inside its run's folder (:func:`render.runs.clips.render_clips`, ``from_di``),
     so a stop while un-voicing leaves that folder marked incomplete.
     """
     from ..errors import ArgumentError

@@ -376,14 +376,14 @@ class WatchRun:
         designs, clips = [], {}
         for i, slot, now in slots:
 
-            def shown(v: _Version, i=i) -> dict:
+            def page_entry(v: _Version, i=i) -> dict:
                 name = f"{i}-{v.number}.wav"
                 clips[name] = v.wav
                 extra = {"cells": list(cells[id(v)]), "values": [list(x) for x in values[id(v)]], "numbers": [list(x) for x in numbers[id(v)]]}
                 return {**v.entry, **extra, "clip": f"/clip/{name}", "version": v.number, "rendered_s": round(v.rendered_s, 3)}
 
-            entry = shown(now)
-            entry["before"] = shown(slot.before) if slot.before is not None else None
+            entry = page_entry(now)
+            entry["before"] = page_entry(slot.before) if slot.before is not None else None
             entry["error"] = slot.error
             entry["changes"] = [list(c) for c in slot.changes]
             designs.append(entry)

@@ -73,7 +73,7 @@ def test_a_sine_about_a_bias_in_the_knee_is_limited_as_long_as_it_stays_in_it(am
     # other side: A = 0.1 V, all the time; A = 0.3 V, 1/2 + asin(0.5)/π = 2/3 of it
     from render.analysis.headroom import from_record
     from render.cli.headroom_print import bias_phrase_lines
-    from render.compare.folders import played_cells
+    from render.compare.folders import played_limit_cells
 
     d = _design(0.15)
     plan = make_plan(d, sample_rate=FS)
@@ -97,7 +97,7 @@ def test_a_sine_about_a_bias_in_the_knee_is_limited_as_long_as_it_stays_in_it(am
     assert back is not None and back.margin_db is None
     row = bias_phrase_lines(["ratio 0.15, 9 V"], [back])[2]
     assert "/ at rest" in row and "/ limited at rest" in row and "no swing" not in row and " none" not in row
-    mm, db, limited = played_cells(rec)
+    mm, db, limited = played_limit_cells(rec)
     assert mm.endswith("/ at rest") and db.endswith("/ limited at rest") and limited != "none"
 
 

@@ -14,7 +14,7 @@ import pytest
 from click.testing import CliRunner
 
 from render import units as U
-from render.analysis.fit import FREE_TABLES, Aim, Free, apply, format_value, rewrite
+from render.analysis.fit import FREE_TABLES, Aim, Free, format_value, rewrite, with_free_values
 from render.cli import main
 from render.design import DESIGN_TABLES, load_design, load_rig, parse_design
 from render.design.derived import derived_parts
@@ -61,7 +61,7 @@ SHIPPED = sorted(p for p in MODELS.glob("*.toml") if "aim" not in loads(p.read_t
 @pytest.mark.parametrize("path", SHIPPED, ids=lambda p: p.stem)
 def test_a_part_not_derived_is_set_as_the_loader_reads_it(path):
     # every part render fit may free and the start does not derive (render.design.derived.derived_parts): the search's
-    # design (analysis.fit.apply) equals what the loader makes of the start's file with that value written in; a derived
+    # design (analysis.fit.with_free_values) equals what the loader makes of the start's file with that value written in; a derived
     # part's written value is not what the loader gives (that is why it is refused)
     text = path.read_text(encoding="utf-8")
     start = load_design(path)
@@ -82,7 +82,7 @@ def test_a_part_not_derived_is_set_as_the_loader_reads_it(path):
         except Exception as exc:  # the loader refuses the value: only a derived part may be refused so
             assert name in derived, (name, exc)
             continue
-        searched = apply(start, [fr], [v])
+        searched = with_free_values(start, [fr], [v])
         same = all(getattr(loaded, t) == getattr(searched, t) for t in TABLES)
         assert same is (name not in derived), (path.stem, name, v, derived.get(name))
         checked_parts += 1

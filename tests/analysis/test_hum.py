@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from render.analysis.hum import field_derivative, hum_table, monte_carlo
+from render.analysis.hum import field_derivative, hum_table, hum_tolerances
 from render.cli import main
 from render.design import Hum, load_design
 
@@ -56,10 +56,10 @@ def test_identical_sides_cancel_exactly_and_say_so():
 
 def test_monte_carlo_is_seeded_and_chunk_invariant():
     d = load_design(REF)
-    a = monte_carlo(d, trials=300, seed=7, chunk=300)
-    b = monte_carlo(d, trials=300, seed=7, chunk=64)
+    a = hum_tolerances(d, trials=300, seed=7, chunk=300)
+    b = hum_tolerances(d, trials=300, seed=7, chunk=64)
     np.testing.assert_array_equal(a.rejection_db, b.rejection_db)
-    c = monte_carlo(d, trials=300, seed=8)
+    c = hum_tolerances(d, trials=300, seed=8)
     assert not np.array_equal(a.rejection_db, c.rejection_db)
     # tolerances only ever cost rejection from a near-balanced start (common practice, no source)
     assert np.median(a.rejection_db[:, 0]) < hum_table(d)["harmonics"][0]["rejection_db"]
@@ -70,8 +70,8 @@ def test_tighter_tolerances_give_more_rejection():
     # (Pallás-Areny & Webster, IEEE Trans. Instrum. Meas. 40(4), 1991): a tenth of
     # the tolerance is worth about 20 dB
     d = load_design(REF)
-    loose = monte_carlo(d, tolerances={"resistor": 0.01, "capacitor": 0.01, "turns": 0.01}, trials=400, seed=1)
-    tight = monte_carlo(d, tolerances={"resistor": 0.001, "capacitor": 0.001, "turns": 0.001}, trials=400, seed=1)
+    loose = hum_tolerances(d, tolerances={"resistor": 0.01, "capacitor": 0.01, "turns": 0.01}, trials=400, seed=1)
+    tight = hum_tolerances(d, tolerances={"resistor": 0.001, "capacitor": 0.001, "turns": 0.001}, trials=400, seed=1)
     gain = np.median(tight.rejection_db[:, 0]) - np.median(loose.rejection_db[:, 0])
     assert 12 < gain < 28, gain
 
@@ -137,8 +137,8 @@ def test_hum_cli_writes_hum_only_wavs(tmp_path):
 
 def test_monte_carlo_in_processes_equals_serial():
     d = load_design(ROOT / "models" / "odd-pair.toml")
-    a = monte_carlo(d, trials=400, seed=3, chunk=100)
-    b = monte_carlo(d, trials=400, seed=3, chunk=100, jobs=2)
+    a = hum_tolerances(d, trials=400, seed=3, chunk=100)
+    b = hum_tolerances(d, trials=400, seed=3, chunk=100, jobs=2)
     np.testing.assert_array_equal(a.rejection_db, b.rejection_db)
 
 
@@ -152,12 +152,12 @@ def test_monte_carlo_names_a_harmonic_the_field_lacks_and_measures_at_the_lowest
 
     d = _symmetric()
     d = replace(d, coil_b=replace(d.coil_b, turns_area=d.coil_b.turns_area * 0.95), hum=replace(d.hum, harmonics=(0.0, 1.0, 0.3)))
-    mc = monte_carlo(d, trials=50, seed=0)
+    mc = hum_tolerances(d, trials=50, seed=0)
     first = mc.summary()[0]
     assert first["median_db"] is None and first["median_db_reason"] == U.NO_FIELD and first["p5_db"] is None
     assert mc.sensitivity_at == 1 and mc.as_dict()["sensitivity_frequency_hz"] == 100.0
     full = replace(d, hum=replace(d.hum, harmonics=(1.0, 1.0, 0.3)))
-    np.testing.assert_array_equal(mc.rejection_db[:, 1:], monte_carlo(full, trials=50, seed=0).rejection_db[:, 1:])
+    np.testing.assert_array_equal(mc.rejection_db[:, 1:], hum_tolerances(full, trials=50, seed=0).rejection_db[:, 1:])
     assert mc.sensitivity == sensitivities(full, mc.frequency_hz, harmonic=1)
     assert all(isinstance(v, float) and np.isfinite(v) for _, v in mc.sensitivity)
     assert hum_table(d)["harmonics"][1]["rejection_db"] == pytest.approx(26.02, abs=0.01)

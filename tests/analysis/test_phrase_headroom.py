@@ -71,8 +71,8 @@ def test_a_fit_meets_a_phrase_headroom_aim_and_the_render_agrees():
     results, _, _ = run_fit(spec, start, top=1, maxiter=8, popsize=5, phrase=PhraseHeadroom(dry))
     best = results[0]
     assert best.meets and best.figures["phrase_headroom_db"] >= 6.0
-    from render.analysis.fit import apply
+    from render.analysis.fit import with_free_values
 
-    rendered = render_clip(apply(start, spec.free, best.values), dry, hum=True).stats
+    rendered = render_clip(with_free_values(start, spec.free, best.values), dry, hum=True).stats
     assert rendered["limit_db_above_played"] == pytest.approx(best.figures["phrase_headroom_db"], abs=0.05)
     assert np.isfinite(best.score)

@@ -145,12 +145,12 @@ def bench_ngspice(design, seconds=1.0):
 
 
 def bench_mc(design):
-    from render.analysis.hum import monte_carlo
+    from render.analysis.hum import hum_tolerances
 
     print("Monte Carlo of hum rejection (resistors 1 %, capacitors 5 %, turns 2 %):")
-    monte_carlo(design, trials=100, seed=0)
+    hum_tolerances(design, trials=100, seed=0)
     t0 = time.perf_counter()
-    monte_carlo(design, trials=2000, seed=0)
+    hum_tolerances(design, trials=2000, seed=0)
     dt = time.perf_counter() - t0
     line("2000 trials", f"{dt:.3f} s ({2000 / dt:,.0f} trials/s)", "≤ 2 s")
     return dt

@@ -8,9 +8,9 @@ past the clip onset, 40 periods, then rest. The amp-input waveform (ngspice node
 compared with what each path writes, over the burst and the first 110 ms after it (one ngspice
 run, shared by the three paths):
 
-(a) ``render clips`` in memory (render.runs.clips.run_clips) with the burst as a recorded dry file
+(a) ``render clips`` in memory (render.runs.clips.render_clips) with the burst as a recorded dry file
     (a mono float WAV at 48 kHz, full scale 1 m/s × velocity_scale: render.dry.recorded);
-(b) the streamed long-file path (render.runs.clips.render_long, which run_clips uses for
+(b) the streamed long-file path (render.runs.clips.render_long, which render_clips uses for
     recordings longer than LONG_SECONDS) with its ``block`` argument at 1000 samples, so the burst
     spans many blocks and the loop's state crosses block boundaries;
 (c) ``render blind`` (render.runs.blind.build_blind_session) with the same file for both designs.
@@ -119,11 +119,11 @@ def _settings():
 
 
 def test_render_clips_against_ngspice(case):
-    """(a) run_clips in memory: S.wav × volts_full_scale (from S.json) is the amp input."""
-    from render.runs.clips import run_clips
+    """(a) render_clips in memory: S.wav × volts_full_scale (from S.json) is the amp input."""
+    from render.runs.clips import render_clips
 
     out = case["tmp"] / "clips"
-    run = run_clips([case["design"]], case["wav"], _settings(), out, plots=False)
+    run = render_clips([case["design"]], case["wav"], _settings(), out, plots=False)
     assert not run.streamed
     stem = case["model"].stem
     rec = json.loads((out / f"{stem}.json").read_text())

@@ -316,14 +316,14 @@ def test_impedance_cells_keep_apart_at_any_size():
 def test_a_sweep_within_one_decade_reports_its_residual_once(tmp_path):
     # 20-150 Hz lies inside the first decade: the whole band's row and that decade's hold the same points,
     # so one row is printed, labelled with what the data cover (20 Hz – 150 Hz)
-    from render.runs.coil import fit_file
+    from render.runs.coil import fit_coil
 
     rng = np.random.default_rng(4)
     f = np.geomspace(20.0, 150.0, 40)
     z = terminal_impedance(f, resistance=4100.0, ladder=TRUE_LADDER, capacitance=95e-12) * (1 + 0.01 * rng.standard_normal(f.size))
     path = tmp_path / "narrow.csv"
     path.write_text("frequency_hz,z_ohm,phase_deg\n" + "\n".join(f"{a:.6g},{abs(b):.6g},{np.degrees(np.angle(b)):.6g}" for a, b in zip(f, z)) + "\n")
-    bands = fit_file(path).residual_bands()
+    bands = fit_coil(path).residual_bands()
     assert len(bands) == 1 and bands[0]["points"] == 40
     assert bands[0]["from_hz"] == pytest.approx(20.0) and bands[0]["to_hz"] == pytest.approx(150.0)
 

@@ -21,7 +21,7 @@ def test_a_stop_while_the_clips_render_leaves_the_fit_folder_marked(tmp_path, mo
     def stopped(*args, **kwargs):
         raise KeyboardInterrupt  # what Ctrl-C, SIGTERM and SIGHUP become in the command
 
-    monkeypatch.setattr(clips_run, "run_clips", stopped)
+    monkeypatch.setattr(clips_run, "render_clips", stopped)
     out = tmp_path / "fit"
     res = CliRunner().invoke(main, ["fit", str(FIT), "--top", "1", "--render", "--out", str(out)])
     assert res.exit_code == 1

@@ -422,12 +422,12 @@ def test_the_watch_page_carries_the_figures_render_clips_gives_the_same_designs(
     # of a clips run of the same designs, phrase, rig and settings
     from render.compare.folders import CLIPS_COLUMNS
     from render.design import apply_rig, load_designs, load_rig
-    from render.runs.clips import run_clips
+    from render.runs.clips import render_clips
 
     from .test_page_build import page_of
 
     designs = [apply_rig(d, load_rig(inputs["rig"])) for d in load_designs([inputs["studio-reference"], inputs["ember-dark"]])[0]]
-    run_clips(designs, inputs["phrase"], SETTINGS, tmp_path / "clips", rig=load_rig(inputs["rig"]), plots=False)
+    render_clips(designs, inputs["phrase"], SETTINGS, tmp_path / "clips", rig=load_rig(inputs["rig"]), plots=False)
     clips_page, _ = page_of(tmp_path / "clips")
     state = json.loads(run.board.state())
     assert state["matched_column"] == clips_page["matched_column"] == len(CLIPS_COLUMNS) - 1

@@ -16,7 +16,7 @@ import pytest
 from render.design.construction import CONSTRUCTION, read_construction
 from render.errors import InputError
 from render.io.toml import loads, read_toml
-from render.validate import example, read_value
+from render.validate import field_example, read_value
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "models" / "slipway-magnet-blades.toml"  # the first kind, the one kind's example names
@@ -25,7 +25,7 @@ DEMO = ROOT / "models" / "slipway-magnet-blades.toml"  # the first kind, the one
 @pytest.mark.parametrize("key", list(CONSTRUCTION))
 def test_every_fields_example_reads(key):
     spec = CONSTRUCTION[key]
-    text = f"{key} = {example(spec)}"
+    text = f"{key} = {field_example(spec)}"
     raw = loads(text)[key]  # valid TOML as written
     read_value(raw, spec, source="x.toml", table="construction", key=key)  # refused would raise
 
@@ -47,5 +47,5 @@ def test_a_missing_keys_suggestion_pasted_back_reads(key):
 
 def test_no_suggestion_is_refused_by_its_own_key():
     """The old message suggested kind = 1 and string_spacing = "30mm" or "6m" (6 m is outside 3 mm..30 mm)."""
-    assert example(CONSTRUCTION["kind"]) == '"magnet-blades"'
-    assert example(CONSTRUCTION["string_spacing"]) == '"9.5mm"'  # √(3 mm · 30 mm) to two figures
+    assert field_example(CONSTRUCTION["kind"]) == '"magnet-blades"'
+    assert field_example(CONSTRUCTION["string_spacing"]) == '"9.5mm"'  # √(3 mm · 30 mm) to two figures

@@ -120,6 +120,26 @@ def test_bad_options_one_line_exit_1(args, fragment):
     assert len(lines) == 1 and fragment in lines[0], res.output
 
 
+@pytest.mark.parametrize("value", ["1e6", "0", "0.00009", "10.5", "nan"])
+def test_the_reference_velocity_is_refused_alike_by_the_library_and_the_command(value):
+    """One range and one wording: render.noise(reference_velocity=…) refuses what --reference-velocity refuses, in the same words."""
+    import render
+
+    res = run(REF, "--reference-velocity", value)
+    assert res.exit_code == 1
+    with pytest.raises(render.ArgumentError) as e:
+        render.noise(REF, reference_velocity=float(value))
+    assert str(e.value).startswith("reference_velocity=")
+    assert res.output.strip().removeprefix("Error: ").split(": ", 1)[1] == str(e.value).split(": ", 1)[1]  # same words after the name=value
+
+
+def test_the_reference_velocity_range_ends_are_accepted():
+    import render
+
+    for v in (1e-4, 10.0):
+        assert render.noise(REF, reference_velocity=v).reference_velocity == v
+
+
 def test_usage_errors_one_line_exit_1():
     from render.cli import main
 
@@ -269,3 +289,12 @@ def test_the_plot_title_reads_as_a_sentence(tmp_path):
     (d,), _ = load_designs([REF])
     (r,) = noise_reports([d])
     assert noise_title(r).endswith(f"(passive reference {r.passive.snr_db:.1f} dB)")
+
+
+def test_the_commands_reference_velocity_range_is_the_librarys():
+    # one range for the reference velocity: the option's limits are render.analysis.noise's (project rule)
+    from render.analysis.noise import REFERENCE_VELOCITY_RANGE
+    from render.cli.noise import noise_command
+
+    (opt,) = [p for p in noise_command.params if p.name == "reference_velocity"]
+    assert (opt.type.limits["lo"], opt.type.limits["hi"]) == REFERENCE_VELOCITY_RANGE

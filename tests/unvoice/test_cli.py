@@ -73,7 +73,7 @@ def test_streamed_file_equals_the_one_shot_writer_and_the_pure_function(di, tmp_
     assert out.read_bytes() == float_wav_bytes(x, SAMPLE_RATE)
     (d,), _ = load_designs([REF])
     passive = design_responses([d]).passive_velocity()(U.design_grid(sample_rate=SAMPLE_RATE))[0]
-    v, _ = U.unvoice(y.astype(np.float32).astype(float), passive=passive, sample_rate=SAMPLE_RATE)
+    v, _ = U.unvoice_array(y.astype(np.float32).astype(float), passive=passive, sample_rate=SAMPLE_RATE)
     assert np.array_equal(x, v.astype(np.float32).astype(float))
     # the read block size does not change a byte
     monkeypatch.setattr(run_unvoice, "BLOCK", 1000)
@@ -133,6 +133,11 @@ def _nan(folder):
     return write_wav(folder / "nan.wav", x)
 
 
+def _rate(rate):
+    # one second of noise at ``rate``: the velocity WAV keeps the DI's rate, so it must be one render writes (8000 to 384000 Hz)
+    return lambda folder: write_wav(folder / f"r{rate}.wav", 0.01 * np.random.default_rng(0).standard_normal(rate), sample_rate=rate)
+
+
 def _silent(folder):
     return write_wav(folder / "silent.wav", np.zeros(SAMPLE_RATE))
 
@@ -163,6 +168,8 @@ def _damaged(folder):
         (_short, (), "too short: 200 ms"),
         (_nan, (), "sample 1234"),
         (_silent, (), "every sample is 0"),
+        (_rate(7999), (), "sample_rate=7999: must be from 8000 to 384000 Hz; resample the recording"),
+        (_rate(400000), (), "sample_rate=400000: must be from 8000 to 384000 Hz; resample the recording"),
         (_text, (), "cannot be read as audio"),
         (_damaged, (), "damaged.flac: damaged: its header reads but its audio does not decode ("),
         (None, ("--volts-full-scale", "0"), "--volts-full-scale=0.0"),

@@ -41,15 +41,15 @@ def _plucked(f0, n=FS, decay_s=0.3):
 
 def test_a_constant_offset_unvoices_to_nothing():
     """A 1 s DI of a constant 0.3 V: the estimate is zero (it once had 4.4 m/s spikes at the ends)."""
-    v, _ = U.unvoice(np.full(FS, 0.3), passive=_passive(), sample_rate=FS)
+    v, _ = U.unvoice_array(np.full(FS, 0.3), passive=_passive(), sample_rate=FS)
     assert np.max(np.abs(v)) < 1e-9
 
 
 def test_an_offset_does_not_change_the_estimate():
     """A plucked 440 Hz DI with and without 0.3 V of DC: the same estimate within its 1 dB trust rule (measured: far closer)."""
     _, di = _plucked(440.0)
-    plain, inv = U.unvoice(di, passive=_passive(), sample_rate=FS)
-    offset, _ = U.unvoice(di + 0.3, passive=_passive(), sample_rate=FS)
+    plain, inv = U.unvoice_array(di, passive=_passive(), sample_rate=FS)
+    offset, _ = U.unvoice_array(di + 0.3, passive=_passive(), sample_rate=FS)
     print(f"\noffset: largest difference {np.max(np.abs(offset - plain)):.3g} m/s of a {np.max(np.abs(plain)):.3g} m/s peak")
     assert np.max(np.abs(offset - plain)) < (10 ** (U.TRUST_DB / 20) - 1) * np.max(np.abs(plain))
 
@@ -58,7 +58,7 @@ def test_an_offset_does_not_change_the_estimate():
 def test_a_take_cut_at_a_peak_fades_in_without_a_click(f0):
     """A plucked note, the take cut at its peak: the closed-form velocity after the fade, no overshoot at the cut."""
     velocity, di = _plucked(f0)
-    v, inv = U.unvoice(di, passive=_passive(), sample_rate=FS)
+    v, inv = U.unvoice_array(di, passive=_passive(), sample_rate=FS)
     lo, hi = inv.trusted_band_hz
     assert lo < f0 < hi
     fade = U.fade_length(FS)
