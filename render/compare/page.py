@@ -303,7 +303,7 @@ def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tup
     """
     from ..circuit.engine import responses
     from ..circuit.params import from_designs
-    from ..report.plots import level_db
+    from ..report.plots import plot_level_db
 
     designs = list(designs)
     if not designs:
@@ -311,7 +311,7 @@ def response_curves(designs, *, points: int = RESPONSE_POINTS) -> list[tuple[tup
     f = np.geomspace(20.0, 20000.0, points)
     resp = responses(from_designs(designs))
     h, hp = resp.velocity()(f), resp.passive_velocity()(f)
-    return [((f, level_db(h[i])), (f, level_db(hp[i]))) for i in range(len(designs))]
+    return [((f, plot_level_db(h[i])), (f, plot_level_db(hp[i]))) for i in range(len(designs))]
 
 
 SKIPPED_VALUES = ("name", "notes", "source", "sha256")
