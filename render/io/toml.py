@@ -27,7 +27,7 @@ AUDIO_MAGIC = (b"RIFF", b"RIFX", b"RF64", b"fLaC", b"OggS", b"FORM")  # how WAV,
 
 
 def _is_audio(path: str | Path) -> str:
-    return f"{path}: is audio, not a TOML text file; this takes a phrase or design file (.toml); a recording is a dry signal (--dry; render.load_dry from Python)"
+    return f"{path}: is audio, not a TOML text file; this takes a phrase or design file (.toml); a recording plays through render clips --dry (render.load_dry from Python)"
 
 
 def loads(text: str) -> dict[str, Any]:
