@@ -21,9 +21,6 @@ KEPT = {
     "fit_command": {"cli/coil_fit.py", "cli/fit.py"},
     "print_record": {"cli/coil.py", "cli/sense.py"},
     "summary_lines": {"cli/noise.py", "cli/response.py", "listening/score.py"},
-    # not yet renamed: each pair does a different job under one name
-    "phrase_motion": {"dry/construction.py", "runs/limit_strength.py"},
-    "run": {"chain/_loop_kernel.py", "cli/__init__.py"},
 }
 
 

@@ -252,7 +252,7 @@ def _store(hist, h_x, h_xl1, h_xl2, h_vo1, h_p1, h_p2):
 
 
 @njit(cache=True, error_model="numpy")
-def run(
+def run_steps(
     xl,
     start,
     loud,

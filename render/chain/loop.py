@@ -650,7 +650,7 @@ class LoopState:
 
     def run(self, xl, *, start: int, loud, loud_base: int, oversample: int):
         """Run the steps over ``xl`` (V, at the loop's rate, samples ``start`` … ``start`` + m); see
-        :func:`render.chain._loop_kernel.run`.
+        :func:`render.chain._loop_kernel.run_steps`.
 
         returns : (out_c, out_vo, steps run, clipped steps); ``self.active`` tells whether it is still running
         """
@@ -661,9 +661,9 @@ class LoopState:
         out_vo = np.empty(m)
         if m == 0:
             return out_c, out_vo, 0, 0
-        from ._loop_kernel import run  # numba and the compiled loop, only once a loop runs
+        from ._loop_kernel import run_steps  # numba and the compiled loop, only once a loop runs
 
-        done, clipped, short, active = run(  # type: ignore[call-arg]  # numba's dispatcher takes the kernel's own arguments
+        done, clipped, short, active = run_steps(  # type: ignore[call-arg]  # numba's dispatcher takes the kernel's own arguments
             np.ascontiguousarray(xl, dtype=float),
             int(start),
             np.ascontiguousarray(loud, dtype=np.bool_),

@@ -81,7 +81,7 @@ def margin_at(design, dry_path: Path, settings, strength_m: float, *, motion=Non
     """The smaller played margin (dB) of ``design`` playing the phrase with its strongest pluck at ``strength_m`` (no noise: it does not move the extremes it is measured on).
 
     motion : :class:`render.dry.construction.PhraseMotion` or None
-        The phrase's string motion, kept from an earlier call (:func:`phrase_motion`): then
+        The phrase's string motion, kept from an earlier call (:func:`design_phrase_motion`): then
         only the flux is sensed again, not the strings synthesised.
     left : list or None
         When given, True is appended when a string swung past the computed flux range in this render, else False.
@@ -106,7 +106,7 @@ def margin_at(design, dry_path: Path, settings, strength_m: float, *, motion=Non
     return render_headroom(design, r, strongest_pluck_m=strength_m).margin_db
 
 
-def phrase_motion(design, dry_path: Path, settings):
+def design_phrase_motion(design, dry_path: Path, settings):
     """The phrase's string motion at ``design``'s coils, kept for the renders at other strengths (None: not a constructed design, or too long to keep)."""
     from ..design.construction import pickup_for
     from ..dry.construction import phrase_motion as motion
@@ -144,7 +144,7 @@ def search_limit_strength(design, dry_path: Path, settings, *, strongest_m: floa
     x_out = None  # the weakest strength found whose strings leave the computed flux range
     # the strings' motion is linear in the pluck: synthesised once, then only sensed again at each strength
     if motion is None and design is not None:
-        motion = phrase_motion(design, dry_path, settings)
+        motion = design_phrase_motion(design, dry_path, settings)
     kept = {"motion": motion} if motion is not None else {}
     edge = None  # the range's edge, from the kept motion (no render needed): the search stays inside it
     if motion is not None:
