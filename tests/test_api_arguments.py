@@ -41,7 +41,7 @@ def test_designs_sharing_a_file_name_are_refused_before_any_file(tmp_path):
         shutil.copy(REF, tmp_path / folder / REF.name)
     pair = [tmp_path / "models" / REF.name, tmp_path / "alt" / REF.name]
     why = "two design files share a name; their clips would overwrite each other: rename one"
-    text = _refused(lambda: render.render_clips(pair, PHRASE, render.RenderSettings(seconds=0.5), tmp_path / "run", plots=False), "designs")
+    text = _refused(lambda: render.render_clips(pair, PHRASE, settings=render.RenderSettings(seconds=0.5), out=tmp_path / "run", plots=False), "designs")
     assert text.endswith(why) and str(pair[1]) in text
     res = CliRunner().invoke(main, ["clips", *map(str, pair), "--out", str(tmp_path / "cli"), "--no-plots", "--seconds", "0.5"])
     assert res.exit_code == 1 and res.stderr.strip() == f"Error: {pair[0]}, {pair[1]}: {why}"  # the same rule, one wording
@@ -61,7 +61,7 @@ def test_a_design_named_as_anothers_passive_clip_is_refused_before_any_file(tmp_
     pair = [tmp_path / REF.name, tmp_path / f"{REF.stem}-passive.toml"]
     for p in pair:
         shutil.copy(REF, p)
-    text = _refused(lambda: render.render_clips(pair, PHRASE, render.RenderSettings(seconds=0.5, passive=True), tmp_path / "run", plots=False), "designs")
+    text = _refused(lambda: render.render_clips(pair, PHRASE, settings=render.RenderSettings(seconds=0.5, passive=True), out=tmp_path / "run", plots=False), "designs")
     assert "passive reference clip" in text and not (tmp_path / "run").exists()
 
 
@@ -72,7 +72,7 @@ def test_a_comparison_pickup_sharing_a_design_file_name_is_refused_before_any_fi
     (tmp_path / "m").mkdir()
     same = tmp_path / "m" / passive.name  # a design file named as the comparison pickup's
     shutil.copy(REF, same)
-    text = _refused(lambda: render.render_clips([same], PHRASE, render.RenderSettings(seconds=0.5), tmp_path / "run", compare=load_passive(passive)), "compare")
+    text = _refused(lambda: render.render_clips([same], PHRASE, settings=render.RenderSettings(seconds=0.5), out=tmp_path / "run", compare=load_passive(passive)), "compare")
     assert str(same) in text and "overwrite each other" in text
     res = CliRunner().invoke(main, ["clips", str(same), "--compare", str(passive), "--out", str(tmp_path / "cli"), "--no-plots"])
     assert res.exit_code == 1 and res.stderr.startswith(f"Error: --compare={passive}: the design {same} has the same file name")

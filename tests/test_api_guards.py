@@ -31,9 +31,9 @@ def test_render_clips_keeps_an_earlier_run_unless_told(tmp_path):
     out = tmp_path / "run"
     kept = _earlier_run(out)
     with pytest.raises(render.ArgumentError, match=r"^out=.*overwrite=True"):
-        render.render_clips([REF], PHRASE, render.RenderSettings(seconds=0.5), out, plots=False)
+        render.render_clips([REF], PHRASE, settings=render.RenderSettings(seconds=0.5), out=out, plots=False)
     assert kept.read_bytes() == b"an earlier run's clip" and sorted(p.name for p in out.iterdir()) == ["studio-reference.wav"]
-    run = render.render_clips([REF], PHRASE, render.RenderSettings(seconds=0.5), out, plots=False, overwrite=True)
+    run = render.render_clips([REF], PHRASE, settings=render.RenderSettings(seconds=0.5), out=out, plots=False, overwrite=True)
     assert run.folder == out and kept.read_bytes() != b"an earlier run's clip"
 
 
@@ -66,10 +66,10 @@ def test_bad_arguments_are_named(tmp_path):
     d = render.load_design(REF)
     s = render.RenderSettings(seconds=0.5)
     geometry = dict(positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.1)
-    _refused(lambda: render.render_clips([REF], PHRASE, None, tmp_path / "a"), "settings")
-    _refused(lambda: render.render_clips([REF], None, s, tmp_path / "b"), "dry")
-    _refused(lambda: render.render_clips([REF], tmp_path / "nope.toml", s, tmp_path / "c"), "dry")
-    _refused(lambda: render.render_clips([REF], PHRASE, s, 5), "out")
+    _refused(lambda: render.render_clips([REF], PHRASE, settings=None, out=tmp_path / "a"), "settings")
+    _refused(lambda: render.render_clips([REF], None, settings=s, out=tmp_path / "b"), "dry")
+    _refused(lambda: render.render_clips([REF], tmp_path / "nope.toml", settings=s, out=tmp_path / "c"), "dry")
+    _refused(lambda: render.render_clips([REF], PHRASE, settings=s, out=5), "out")
     _refused(lambda: render.load_phrase(5), "path")
     _refused(lambda: render.synthesize(5, **geometry), "phrase")
     _refused(lambda: render.hum(d, sources=3), "sources")
@@ -88,7 +88,7 @@ def test_paths_as_str_or_path(tmp_path):
     kw = dict(positions=(0.1, 0.05), apertures=(0.01, 0.01), sample_rate=48000, seconds=0.1)
     a, b = render.synthesize(str(PHRASE), **kw), render.synthesize(render.load_phrase(PHRASE), **kw)
     assert (a.velocity == b.velocity).all()
-    run = render.render_clips([REF], str(PHRASE), render.RenderSettings(seconds=0.5), str(tmp_path / "r"), plots=False)
+    run = render.render_clips([REF], str(PHRASE), settings=render.RenderSettings(seconds=0.5), out=str(tmp_path / "r"), plots=False)
     assert run.folder == tmp_path / "r" and (tmp_path / "r" / "studio-reference.wav").is_file()
 
 
@@ -162,11 +162,11 @@ def test_settings_that_do_not_fit_the_dry_file_are_refused_before_any_file(tmp_p
     recording = tmp_path / "take.wav"
     sf.write(recording, np.zeros(4800), 48000, subtype="FLOAT")
     out = tmp_path / "run"
-    e = _python_words(lambda: render.render_clips([REF], recording, render.RenderSettings(strength=0.002), out), "strength")
+    e = _python_words(lambda: render.render_clips([REF], recording, settings=render.RenderSettings(strength=0.002), out=out), "strength")
     assert "scale a recording with RenderSettings.velocity_scale" in str(e)
-    e = _python_words(lambda: render.render_clips([REF], PHRASE, render.RenderSettings(velocity_scale=2.0), out), "velocity_scale")
+    e = _python_words(lambda: render.render_clips([REF], PHRASE, settings=render.RenderSettings(velocity_scale=2.0), out=out), "velocity_scale")
     assert "RenderSettings.strength" in str(e) and "--strength" in e.for_option()
-    _python_words(lambda: render.render_clips([REF], PHRASE, render.RenderSettings(seconds=1e6), out), "seconds")
+    _python_words(lambda: render.render_clips([REF], PHRASE, settings=render.RenderSettings(seconds=1e6), out=out), "seconds")
     assert not out.exists()
 
 

@@ -95,7 +95,7 @@ def results(tmp_path_factory) -> dict:
         "NoiseReport": noise,
         "NoiseFloor": noise.active,
         "BiasSweep": render.bias_sweep(d, ratios=(0.4, 0.6)),
-        "ClipsRun": render.render_clips([REF], PHRASE, render.RenderSettings(seconds=0.5), tmp / "clips", plots=False),
+        "ClipsRun": render.render_clips([REF], PHRASE, settings=render.RenderSettings(seconds=0.5), out=tmp / "clips", plots=False),
         "FitRun": made.fit,
         "FitAndRender": made,
         "UnvoiceResult": render.unvoice(di, d, out=tmp / "v.wav", plot=False),

@@ -99,7 +99,7 @@ def test_a_design_changed_with_replace_is_refused_where_it_would_be_recorded(tmp
     d = render.load_design(REF)
     d3 = dataclasses.replace(d, feedback=dataclasses.replace(d.feedback, c=220e-12))
     with pytest.raises(render.ArgumentError, match=r"designs\[1\]=studio-reference: its values were changed after it was read .*render.with_values"):
-        render.render_clips([d, d3], ROOT / "dry_signals" / "default.toml", render.RenderSettings(seconds=0.5), tmp_path / "o")
+        render.render_clips([d, d3], ROOT / "dry_signals" / "default.toml", settings=render.RenderSettings(seconds=0.5), out=tmp_path / "o")
     assert not (tmp_path / "o").exists()
     render.response(d3, [1000.0])  # a figure in memory records nothing: taken as it is
 
@@ -107,7 +107,7 @@ def test_a_design_changed_with_replace_is_refused_where_it_would_be_recorded(tmp
 def test_clips_and_a_blind_session_record_what_was_heard(tmp_path):
     d = render.load_design(REF)
     d2 = render.with_values(d, {"feedback.c": "220p"}, name="ref 220p")
-    render.render_clips([d, d2], ROOT / "dry_signals" / "default.toml", render.RenderSettings(seconds=0.5), tmp_path / "clips")
+    render.render_clips([d, d2], ROOT / "dry_signals" / "default.toml", settings=render.RenderSettings(seconds=0.5), out=tmp_path / "clips")
     rec = json.loads((tmp_path / "clips" / "ref-220p.json").read_text())
     assert rec["design_file"] == str(REF) and rec["design_changes"] == {"feedback.c": "220p"} and rec["design_values"]["feedback"]["c"] == pytest.approx(220e-12)
     assert json.loads((tmp_path / "clips" / "studio-reference.json").read_text())["design_changes"] == {}

@@ -118,8 +118,8 @@ def render_and_report(designs, dry, settings, out, *, rig=None, jobs=None, plots
         run = render_clips(
             designs,
             dry,
-            settings,
-            out,
+            settings=settings,
+            out=out,
             rig=rig,
             jobs=jobs,
             plots=plots,

@@ -421,9 +421,9 @@ def check_dry_settings(dry: Path, settings: RenderSettings, *, recorded: bool = 
 def render_clips(
     designs: Sequence[Design],
     dry: Path,
-    settings: RenderSettings,
-    out: Path,
     *,
+    out: Path,
+    settings: RenderSettings = RenderSettings(),  # noqa: B008  # frozen: one shared default is safe
     rig: RigFile | None = None,
     jobs: int = 1,
     plots: bool = True,
@@ -443,9 +443,10 @@ def render_clips(
         Validated; their file stems name the outputs.
     dry : str or Path
         A phrase (.toml) or a recorded velocity file.
-    settings : RenderSettings
     out : str or Path
         The folder (created here); refused before any work if it holds files, unless ``overwrite``.
+    settings : RenderSettings
+        How to render (default: ``RenderSettings()``, the command's defaults).
     rig : RigFile or None
         Play every design into this rig instead of its own (kept in the records).
     jobs : int

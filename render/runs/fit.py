@@ -321,7 +321,7 @@ def fit_and_render(
             dry, settings = check_dry_file(phrase), RenderSettings(strength=run.spec.strength)
             clips_out = output_folder(folder / "clips", overwrite=overwrite)
             with progress(len(designs)) as update:
-                clips_run = render_clips(designs, dry, settings, clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update, overwrite=overwrite)
+                clips_run = render_clips(designs, dry, settings=settings, out=clips_out, rig=rig_file, jobs=jobs or min(len(designs), os.cpu_count() or 1), progress=update, overwrite=overwrite)
             step(clips_run)
         if blind:
             designs, _ = load_designs([run.start_file, run.files[0]], rig=rig_file)

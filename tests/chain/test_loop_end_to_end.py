@@ -123,7 +123,7 @@ def test_render_clips_against_ngspice(case):
     from render.runs.clips import render_clips
 
     out = case["tmp"] / "clips"
-    run = render_clips([case["design"]], case["wav"], _settings(), out, plots=False)
+    run = render_clips([case["design"]], case["wav"], settings=_settings(), out=out, plots=False)
     assert not run.streamed
     stem = case["model"].stem
     rec = json.loads((out / f"{stem}.json").read_text())

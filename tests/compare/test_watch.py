@@ -427,7 +427,7 @@ def test_the_watch_page_carries_the_figures_render_clips_gives_the_same_designs(
     from .test_page_build import page_of
 
     designs = [apply_rig(d, load_rig(inputs["rig"])) for d in load_designs([inputs["studio-reference"], inputs["ember-dark"]])[0]]
-    render_clips(designs, inputs["phrase"], SETTINGS, tmp_path / "clips", rig=load_rig(inputs["rig"]), plots=False)
+    render_clips(designs, inputs["phrase"], settings=SETTINGS, out=tmp_path / "clips", rig=load_rig(inputs["rig"]), plots=False)
     clips_page, _ = page_of(tmp_path / "clips")
     state = json.loads(run.board.state())
     assert state["matched_column"] == clips_page["matched_column"] == len(CLIPS_COLUMNS) - 1
