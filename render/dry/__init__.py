@@ -249,8 +249,8 @@ def load_dry(
     ----------
     path : a ``.toml`` phrase file, or any audio file libsndfile reads
     sample_rate : int, Hz
-    positions : (x_a, x_b), m from the bridge saddle; needed for a phrase, unused for a recording
-    apertures : (w_a, w_b) or one value, m; needed for a phrase, unused for a recording
+    positions : (x_a, x_b), m from the bridge saddle; for a phrase without ``pickup`` (:func:`synthesize` refuses it missing), unused for a recording
+    apertures : (w_a, w_b) or one value, m; likewise
     seed : int, for the phrase's small per-note variations
     seconds : float or None, s; cut or pad with silence to this length (default: the file's own)
     velocity_scale : float, m/s at full scale (used for recorded files)
@@ -278,13 +278,6 @@ def load_dry(
             raise ArgumentError("strength", shown(strength), "must be above 0 and at most 0.05 m (50 mm): the strongest pluck's initial displacement, in metres")
         refuse_strength_with_recording(p, f"{strength * 1e3:g}mm")
     if p.suffix.lower() in PHRASE_SUFFIXES:
-        if positions is None or apertures is None:
-            from ..errors import ArgumentError
-
-            missing = "positions" if positions is None else "apertures"
-            raise ArgumentError(
-                missing, "None", "a phrase is synthesised at each coil's sensing point: give positions=(x_a, x_b) and apertures=(w_a, w_b) in m, e.g. the design's coil_a.position and coil_a.aperture"
-            )
         phrase = load_phrase(p)
         if strength is not None:
             from .strength import scale_plucks

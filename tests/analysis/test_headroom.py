@@ -205,7 +205,7 @@ def test_coils_that_cancel_the_strings_say_so_instead_of_a_margin_above(tmp_path
 
     edge = ROOT / "tests" / "smoke" / "designs" / "edge-reversed-same-point.toml"
     d = load_design(edge)
-    c = render_clip(d, _second_of_phrase(d), hum=True)
+    c = render_clip(d, _phrase_dry(d, seconds=1.0), hum=True)
     m = c.stats
     assert m["string_excursion_up_v"] == 0 and m["string_excursion_down_v"] == 0 and m["hum_excursion_up_v"] > 0
     assert m["limit_db_above_played"] is None and m["limit_db_above_played_reason"] == NO_STRING
@@ -215,15 +215,3 @@ def test_coils_that_cancel_the_strings_say_so_instead_of_a_margin_above(tmp_path
     assert res.exit_code == 0, res.output
     row = next(x for x in res.output.splitlines() if x.strip().startswith("edge-reversed-same-point") and "dB" in x)
     assert NO_STRING_CELL in row and "above" not in row
-
-
-def _second_of_phrase(design):
-    import render
-
-    return render.synthesize(
-        render.load_phrase(PHRASE),
-        positions=(design.coil_a.position, design.coil_b.position),
-        apertures=(design.coil_a.aperture, design.coil_b.aperture),
-        sample_rate=FS,
-        seconds=1.0,
-    )
